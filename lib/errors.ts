@@ -1,0 +1,53 @@
+/**
+ * Errors that cross the boundary between lib/ and the routes. Query functions return `null` for
+ * "not found" and throw these for everything a route must map to a status code.
+ */
+export class HttpError extends Error {
+  constructor(
+    readonly status: number,
+    message: string,
+    readonly details?: unknown,
+  ) {
+    super(message);
+    this.name = new.target.name;
+  }
+}
+/** 401: no valid session. */
+export class UnauthenticatedError extends HttpError {
+  constructor(message = "Sign in to continue.") {
+    super(401, message);
+  }
+}
+/** 403: signed in, but the role does not allow this. */
+export class ForbiddenError extends HttpError {
+  constructor(message = "Your role does not allow this action.") {
+    super(403, message);
+  }
+}
+/** 404: does not exist, or belongs to another tenant (never tell the two apart). */
+export class NotFoundError extends HttpError {
+  constructor(what = "Resource") {
+    super(404, `${what} not found.`);
+  }
+}
+/** 422: the input failed validation; `details` lists the fields. */
+export class ValidationError extends HttpError {
+  constructor(message: string, details?: unknown) {
+    super(422, message, details);
+  }
+}
+/** 409: a legal request that conflicts with the current state (e.g. an illegal alarm transition). */
+export class ConflictError extends HttpError {
+  constructor(message: string, details?: unknown) {
+    super(409, message, details);
+  }
+}
+/** 429: too many attempts. */
+export class TooManyRequestsError extends HttpError {
+  constructor(
+    message: string,
+    readonly retryAfterSeconds: number,
+  ) {
+    super(429, message);
+  }
+}

@@ -1,0 +1,48 @@
+import { NextResponse } from "next/server";
+import { z } from "zod";
+import { HttpError, TooManyRequestsError, ValidationError } from "./errors";
+
+/** Map a thrown error to a JSON response: HttpError keeps its status, zod errors are 422. */
+export function errorResponse(err: unknown): NextResponse {
+  if (err instanceof z.ZodError) {
+    return NextResponse.json(
+      { error: "Invalid input: " + err.issues.map((i) => `${i.path.join(".") || "body"}: ${i.message}`).join("; "), issues: err.issues },
+      { status: 422 },
+    );
+  }
+  if (err instanceof HttpError) {
+    const headers: Record<string, string> = {};
+    if (err instanceof TooManyRequestsError) headers["Retry-After"] = String(err.retryAfterSeconds);
+    return NextResponse.json({ error: err.message, details: err.details }, { status: err.status, headers });
+  }
+  console.error("[api] unexpected error", err);
+  return NextResponse.json({ error: "Internal error." }, { status: 500 });
+}
+
+/** Wrap a route handler so every thrown error becomes the right status code. */
+export function handle<A extends unknown[]>(fn: (...args: A) => Promise<Response>) {
+  return async (...args: A): Promise<Response> => {
+    try {
+      return await fn(...args);
+    } catch (err) {
+      return errorResponse(err);
+    }
+  };
+}
+
+/** Parse a JSON body with a zod schema; bad JSON or a bad shape is a 422 with a message. */
+export async function parseBody<T extends z.ZodType>(req: Request, schema: T): Promise<z.infer<T>> {
+  let raw: unknown;
+  try {
+    raw = await req.json();
+  } catch {
+    throw new ValidationError("The request body must be JSON.");
+  }
+  return schema.parse(raw);
+}
+
+/** Parse URL search parameters with a zod schema (422 on failure). */
+export function parseQuery<T extends z.ZodType>(req: Request, schema: T): z.infer<T> {
+  const url = new URL(req.url);
+  return schema.parse(Object.fromEntries(url.searchParams.entries()));
+}

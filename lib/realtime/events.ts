@@ -1,0 +1,38 @@
+/**
+ * The Socket.IO event map (ARCHITECTURE.md §8, a contract). Server and browser both import
+ * these types; a payload change is made here and nowhere else.
+ */
+import type { AlarmDto, LoopStateDto, SampleDto } from "../types";
+
+export type WatchReply = { ok: true; loopId: number } | { ok: false; error: string };
+
+export interface ServerToClientEvents {
+  /** A batch of loop summaries of the client's tenant, at most every 500 ms per tenant. */
+  "loop:state": (batch: LoopStateDto[]) => void;
+  /** Batched full-rate samples of one watched loop. */
+  "loop:samples": (batch: { loopId: number; samples: SampleDto[] }) => void;
+  /** An alarm of the client's tenant changed state. */
+  "alarm:changed": (alarm: AlarmDto) => void;
+  /** The session was signed out, demoted or its membership revoked; the socket closes next. */
+  "session:ended": (reason: string) => void;
+}
+
+export interface ClientToServerEvents {
+  /** Subscribe to full-rate samples of one loop; refused (ok: false) for another tenant's loop. */
+  "loop:watch": (loopId: number, reply: (r: WatchReply) => void) => void;
+  "loop:unwatch": (loopId: number) => void;
+}
+
+export interface InterServerEvents {
+  ping: () => void;
+}
+
+export interface SocketData {
+  userId: number;
+  tenantId: number;
+  role: import("../types").Role;
+}
+
+/** Room names: one per tenant, one per watched loop. */
+export const tenantRoom = (tenantId: number) => `tenant:${tenantId}`;
+export const loopRoom = (loopId: number) => `loop:${loopId}`;

@@ -1,0 +1,146 @@
+/**
+ * Shared types of the product (plain objects that cross lib/ -> routes -> browser).
+ * IDs are database integers. Times are epoch milliseconds inside the server and Socket.IO
+ * payloads, ISO 8601 strings in the REST API.
+ */
+import type { Complex } from "./control/types";
+
+export const ROLES = ["viewer", "operator", "engineer", "admin"] as const;
+export type Role = (typeof ROLES)[number];
+
+/** True when `role` includes every right of `min` (viewer < operator < engineer < admin). */
+export function roleAtLeast(role: Role, min: Role): boolean {
+  return ROLES.indexOf(role) >= ROLES.indexOf(min);
+}
+
+export const LOOP_KINDS = ["flow", "level", "temperature", "pressure", "composition", "other"] as const;
+export type LoopKind = (typeof LOOP_KINDS)[number];
+
+export const TRACKER_STATES = [
+  "learning",
+  "tracking",
+  "low-excitation",
+  "stale",
+  "manual",
+  "saturated",
+] as const;
+export type TrackerState = (typeof TRACKER_STATES)[number];
+
+export type LoopMode = "auto" | "manual" | "cascade";
+
+export const ALARM_PRIORITIES = ["urgent", "high", "low"] as const;
+export type AlarmPriority = (typeof ALARM_PRIORITIES)[number];
+
+export const ALARM_CONDITIONS = ["unstable", "margin", "sluggish", "rim-forecast"] as const;
+export type AlarmCondition = (typeof ALARM_CONDITIONS)[number];
+
+/** ANSI/ISA-18.2 / IEC 62682 alarm states. */
+export const ALARM_STATES = [
+  "normal",
+  "unacknowledged",
+  "acknowledged",
+  "rtn-unacknowledged",
+  "shelved",
+  "suppressed-by-design",
+  "out-of-service",
+] as const;
+export type AlarmState = (typeof ALARM_STATES)[number];
+
+/** One telemetry sample as it reaches the browser (after validation). */
+export interface SampleDto {
+  t: number;
+  sp: number;
+  pv: number;
+  mv: number;
+  mode: LoopMode;
+}
+
+/** A pole with its uncertainty: radius standard deviation and (Re, Im) covariance [xx, xy, yy]. */
+export interface PoleDto extends Complex {
+  radius: number;
+  sdRadius: number | null;
+  cov: [number, number, number] | null;
+}
+
+/** What a loop tracker knows about its loop at one moment (the live summary of a loop). */
+export interface LoopStateDto {
+  loopId: number;
+  tenantId: number;
+  /** Epoch ms of the estimate. */
+  at: number;
+  /** Epoch ms when the last sample was received (data age = now - receivedAt). */
+  receivedAt: number | null;
+  trackerState: TrackerState;
+  /** Why the tracker is in its state, in words ("no sample for 15 s", "MV at 100 % limit"). */
+  stateReason: string | null;
+  estimationPeriodS: number;
+  samples: number;
+  excitation: number | null;
+  fitPercent: number | null;
+  spectralRadius: number | null;
+  rimDistance: number | null;
+  decayRatio: number | null;
+  juryStable: boolean | null;
+  dominant: { zeta: number | null; wn: number | null; timeConstant: number | null } | null;
+  gainHeadroom: number | null;
+  radiusSd: number | null;
+  forecast: { at: number; low: number; high: number } | null;
+  /** Closed-loop poles from the estimated plant + the configured controller. */
+  modelPoles: PoleDto[];
+  /** Closed-loop poles from data alone (SP -> PV), or disturbance-response poles. */
+  dataPoles: PoleDto[];
+  dataPolesKind: "closed-loop" | "disturbance-response";
+  /** Closed-loop zeros (model-based), for the z-plane map. */
+  zeros: Complex[];
+  characteristic: number[] | null;
+  delaySamples: number | null;
+  last: SampleDto | null;
+}
+
+export interface AlarmDto {
+  id: number;
+  tenantId: number;
+  loopId: number;
+  loopTag: string;
+  condition: AlarmCondition;
+  priority: AlarmPriority;
+  state: AlarmState;
+  /** Is the condition active right now (independent of acknowledgement)? */
+  active: boolean;
+  shelvedUntil: string | null;
+  suppressedReason: string | null;
+  message: string;
+  value: number | null;
+  level: number | null;
+  activatedAt: string | null;
+  changedAt: string;
+}
+
+export interface LoopSummary {
+  id: number;
+  tenantId: number;
+  siteId: number;
+  siteName: string;
+  area: string | null;
+  tag: string;
+  slug: string;
+  description: string;
+  kind: LoopKind;
+  units: string;
+  pvLo: number;
+  pvHi: number;
+  estimationPeriodS: number;
+  state: LoopStateDto | null;
+  alarms: Pick<AlarmDto, "id" | "condition" | "priority" | "state">[];
+}
+
+/** The signed-in user in the context of the tenant they are working in. */
+export interface TenantContext {
+  userId: number;
+  email: string;
+  name: string;
+  tenantId: number;
+  tenantSlug: string;
+  tenantName: string;
+  role: Role;
+}
