@@ -1,0 +1,268 @@
+/**
+ * Recursive least squares with forgetting and a covariance wind-up guard.
+ *
+ * Model: y(k) = phi(k)' theta + e(k). Update with exponential forgetting lambda
+ * (Ljung & Söderström, *Theory and Practice of Recursive Identification*, 1983, ch. 2):
+ *   eps = y - phi' theta          (a-priori error, returned by `update`)
+ *   K   = P phi / (lambda + phi' P phi)
+ *   theta <- theta + K eps
+ *   P   <- (P - K phi' P) / lambda
+ *
+ * Wind-up guards (`windup`):
+ * - "directional" (default): directional forgetting (Kulhavý, *Restricted exponential forgetting
+ *   in real-time identification*, Automatica 23(5), 1987). The data update is the plain
+ *   lambda = 1 update (K = P phi / (1 + r), r = phi' P phi); afterwards only the information along
+ *   the current regressor is forgotten, by the fraction (1 - lambda):
+ *     P <- P - P phi phi' P / (1/beta + r),  beta = lambda - (1 - lambda) / r.
+ *   Directions the data do not excite keep their information, so P cannot grow without bound
+ *   while the loop sits at steady state. The result stays positive definite for any r > 0
+ *   (1 + beta r = lambda (1 + r) > 0).
+ * - "bounded-trace": exponential forgetting, then P is scaled down whenever trace(P) exceeds
+ *   `maxTrace` (a bounded-covariance guard, common practice).
+ * - "none": plain exponential forgetting.
+ *
+ * Numerical care: P is updated on its upper triangle and mirrored (exactly symmetric); if a
+ * diagonal element turns non-positive or non-finite (loss of definiteness) P is re-initialised to
+ * the initial covariance and `covarianceResets` counts it. The per-sample path allocates nothing.
+ */
+import { ControlArgumentError, NonFiniteInputError } from "./errors";
+import { toNested, trace } from "./linalg";
+
+export type WindupGuard = "directional" | "bounded-trace" | "none";
+
+export interface RlsOptions {
+  /** Number of parameters n (>= 1). */
+  parameters: number;
+  /** Forgetting factor lambda in (0, 1]; default 0.995 (memory about 1/(1 - lambda) samples). */
+  forgetting?: number;
+  /** Initial covariance: a scalar p0 (P0 = p0 I) or an n x n matrix; default 1000. */
+  initialCovariance?: number | readonly (readonly number[])[];
+  /** Wind-up guard; default "directional". */
+  windup?: WindupGuard;
+  /** Trace bound for "bounded-trace"; default trace(P0). */
+  maxTrace?: number;
+  /** Initial parameter vector; default zeros. */
+  initialTheta?: readonly number[];
+}
+
+/** Smallest phi'P phi for which directional forgetting is applied (below it: data update only). */
+const DIRECTIONAL_MIN_R = 1e-10;
+
+export class RecursiveLeastSquares {
+  readonly n: number;
+  readonly forgetting: number;
+  readonly windup: WindupGuard;
+  readonly maxTrace: number;
+  /** Parameter estimate (live view; copy before keeping). */
+  readonly theta: Float64Array;
+  /** Covariance P, row-major n x n (live view; copy before keeping). */
+  readonly covariance: Float64Array;
+  /** Number of accepted updates since construction or `reset()`. */
+  updates = 0;
+  /** Times P lost definiteness and was re-initialised. */
+  covarianceResets = 0;
+  /** r = phi' P phi of the last update (the regressor's uncertainty, dimensionless gain). */
+  lastR = 0;
+
+  private readonly p0: Float64Array;
+  private readonly theta0: Float64Array;
+  private readonly pphi: Float64Array;
+
+  constructor(options: RlsOptions) {
+    const n = options.parameters;
+    if (!Number.isInteger(n) || n < 1) throw new ControlArgumentError(`parameters must be an integer >= 1, got ${n}`);
+    const lambda = options.forgetting ?? 0.995;
+    if (!(lambda > 0 && lambda <= 1)) throw new ControlArgumentError(`forgetting must be in (0, 1], got ${lambda}`);
+    const windup = options.windup ?? "directional";
+    if (windup !== "directional" && windup !== "bounded-trace" && windup !== "none") {
+      throw new ControlArgumentError(`windup must be "directional", "bounded-trace" or "none", got ${String(windup)}`);
+    }
+    this.n = n;
+    this.forgetting = lambda;
+    this.windup = windup;
+    this.p0 = new Float64Array(n * n);
+    const ic = options.initialCovariance ?? 1000;
+    if (typeof ic === "number") {
+      if (!(ic > 0 && Number.isFinite(ic))) throw new ControlArgumentError(`initialCovariance must be a finite number > 0, got ${ic}`);
+      for (let i = 0; i < n; i++) this.p0[i * n + i] = ic;
+    } else {
+      if (ic.length !== n) throw new ControlArgumentError(`initialCovariance must be ${n} x ${n}`);
+      for (let i = 0; i < n; i++) {
+        const row = ic[i]!;
+        if (row.length !== n) throw new ControlArgumentError(`initialCovariance must be ${n} x ${n}`);
+        for (let j = 0; j < n; j++) {
+          const v = row[j]!;
+          if (!Number.isFinite(v)) throw new NonFiniteInputError(`initialCovariance[${i}][${j}]`);
+          this.p0[i * n + j] = v;
+        }
+      }
+      for (let i = 0; i < n; i++) {
+        if (!(this.p0[i * n + i]! > 0)) throw new ControlArgumentError("initialCovariance must be positive definite (diagonal > 0)");
+        for (let j = 0; j < i; j++) {
+          if (Math.abs(this.p0[i * n + j]! - this.p0[j * n + i]!) > 1e-12 * (Math.abs(this.p0[i * n + j]!) + 1e-300)) {
+            throw new ControlArgumentError("initialCovariance must be symmetric");
+          }
+        }
+      }
+    }
+    this.maxTrace = options.maxTrace ?? trace(this.p0, n);
+    if (!(this.maxTrace > 0)) throw new ControlArgumentError(`maxTrace must be > 0, got ${this.maxTrace}`);
+    this.theta0 = new Float64Array(n);
+    if (options.initialTheta) {
+      if (options.initialTheta.length !== n) throw new ControlArgumentError(`initialTheta must have ${n} entries`);
+      options.initialTheta.forEach((v, i) => {
+        if (!Number.isFinite(v)) throw new NonFiniteInputError(`initialTheta[${i}]`);
+        this.theta0[i] = v;
+      });
+    }
+    this.theta = Float64Array.from(this.theta0);
+    this.covariance = Float64Array.from(this.p0);
+    this.pphi = new Float64Array(n);
+  }
+
+  /** Back to theta0 and P0; counters cleared. */
+  reset(): void {
+    this.theta.set(this.theta0);
+    this.covariance.set(this.p0);
+    this.updates = 0;
+    this.covarianceResets = 0;
+    this.lastR = 0;
+  }
+
+  /**
+   * One RLS step with regressor phi (length n) and measurement y. Returns the a-priori error
+   * y - phi' theta (before the update). Throws `NonFiniteInputError` (state untouched) when
+   * phi or y is not finite, `ControlArgumentError` when phi has the wrong length.
+   */
+  update(regressor: ArrayLike<number>, y: number): number {
+    const n = this.n;
+    if (regressor.length !== n) throw new ControlArgumentError(`regressor must have ${n} entries, got ${regressor.length}`);
+    if (!Number.isFinite(y)) throw new NonFiniteInputError("y");
+    for (let i = 0; i < n; i++) {
+      if (!Number.isFinite(regressor[i]!)) throw new NonFiniteInputError(`regressor[${i}]`);
+    }
+    const P = this.covariance;
+    const th = this.theta;
+    const pphi = this.pphi;
+    let r = 0;
+    let yhat = 0;
+    for (let i = 0; i < n; i++) {
+      let s = 0;
+      const row = i * n;
+      for (let j = 0; j < n; j++) s += P[row + j]! * regressor[j]!;
+      pphi[i] = s;
+      r += regressor[i]! * s;
+      yhat += regressor[i]! * th[i]!;
+    }
+    if (r < 0) r = 0;
+    const err = y - yhat;
+    const lambda = this.forgetting;
+    if (this.windup === "directional") {
+      const g = err / (1 + r);
+      for (let i = 0; i < n; i++) th[i] = th[i]! + pphi[i]! * g;
+      let c: number;
+      if (r > DIRECTIONAL_MIN_R && lambda < 1) {
+        const beta = lambda - (1 - lambda) / r;
+        c = 1 / (1 / beta + r);
+      } else {
+        c = 1 / (1 + r);
+      }
+      for (let i = 0; i < n; i++) {
+        const pi = pphi[i]! * c;
+        for (let j = i; j < n; j++) {
+          const v = P[i * n + j]! - pi * pphi[j]!;
+          P[i * n + j] = v;
+          P[j * n + i] = v;
+        }
+      }
+    } else {
+      const denom = lambda + r;
+      const g = err / denom;
+      for (let i = 0; i < n; i++) th[i] = th[i]! + pphi[i]! * g;
+      const inv = 1 / lambda;
+      for (let i = 0; i < n; i++) {
+        const pi = pphi[i]! / denom;
+        for (let j = i; j < n; j++) {
+          const v = (P[i * n + j]! - pi * pphi[j]!) * inv;
+          P[i * n + j] = v;
+          P[j * n + i] = v;
+        }
+      }
+      if (this.windup === "bounded-trace") {
+        const tr = trace(P, n);
+        if (tr > this.maxTrace) {
+          const f = this.maxTrace / tr;
+          for (let i = 0; i < n * n; i++) P[i] = P[i]! * f;
+        }
+      }
+    }
+    let ok = true;
+    for (let i = 0; i < n; i++) {
+      const d = P[i * n + i]!;
+      if (!(d > 0) || !Number.isFinite(d)) ok = false;
+    }
+    if (!ok) {
+      P.set(this.p0);
+      this.covarianceResets++;
+    }
+    this.lastR = r;
+    this.updates++;
+    return err;
+  }
+
+  /** a-priori prediction phi' theta (no state change). */
+  predict(regressor: ArrayLike<number>): number {
+    let s = 0;
+    for (let i = 0; i < this.n; i++) s += regressor[i]! * this.theta[i]!;
+    return s;
+  }
+
+  /** Plain-object snapshot (theta, P, counters) for checkpointing. */
+  toJSON(): RlsState {
+    return {
+      theta: Array.from(this.theta),
+      covariance: toNested(this.covariance, this.n),
+      updates: this.updates,
+      covarianceResets: this.covarianceResets,
+    };
+  }
+
+  /** Restore theta, P and counters from `toJSON()` output (checked; state untouched on error). */
+  restore(state: RlsState): void {
+    const n = this.n;
+    if (!state || !Array.isArray(state.theta) || state.theta.length !== n) {
+      throw new ControlArgumentError(`RLS state: theta must have ${n} entries`);
+    }
+    if (!Array.isArray(state.covariance) || state.covariance.length !== n) {
+      throw new ControlArgumentError(`RLS state: covariance must be ${n} x ${n}`);
+    }
+    const p = new Float64Array(n * n);
+    for (let i = 0; i < n; i++) {
+      const row = state.covariance[i];
+      if (!Array.isArray(row) || row.length !== n) throw new ControlArgumentError(`RLS state: covariance must be ${n} x ${n}`);
+      for (let j = 0; j < n; j++) {
+        const v = row[j];
+        if (typeof v !== "number" || !Number.isFinite(v)) throw new NonFiniteInputError(`RLS state covariance[${i}][${j}]`);
+        p[i * n + j] = v;
+      }
+      if (!(p[i * n + i]! > 0)) throw new ControlArgumentError("RLS state: covariance diagonal must be > 0");
+    }
+    state.theta.forEach((v, i) => {
+      if (typeof v !== "number" || !Number.isFinite(v)) throw new NonFiniteInputError(`RLS state theta[${i}]`);
+    });
+    const updates = state.updates;
+    if (!Number.isInteger(updates) || updates < 0) throw new ControlArgumentError("RLS state: updates must be an integer >= 0");
+    this.theta.set(state.theta);
+    this.covariance.set(p);
+    this.updates = updates;
+    this.covarianceResets = Number.isInteger(state.covarianceResets) ? state.covarianceResets : 0;
+  }
+}
+
+/** Serialisable RLS state. */
+export interface RlsState {
+  theta: number[];
+  covariance: number[][];
+  updates: number;
+  covarianceResets: number;
+}
