@@ -18,7 +18,9 @@
  *   while the loop sits at steady state. The result stays positive definite for any r > 0
  *   (1 + beta r = lambda (1 + r) > 0).
  * - "bounded-trace": exponential forgetting, then P is scaled down whenever trace(P) exceeds
- *   `maxTrace` (a bounded-covariance guard, common practice).
+ *   `maxTrace` (a bounded-covariance guard, common practice). It protects only as much as the
+ *   bound is tight: the default trace(P0) merely stops growth beyond the initial uncertainty; a
+ *   bound a few times the trace reached under good excitation is what curbs wind-up.
  * - "none": plain exponential forgetting.
  *
  * Numerical care: P is updated on its upper triangle and mirrored (exactly symmetric); if a
