@@ -1,0 +1,168 @@
+"use client";
+/**
+ * The wall on a desk: area summaries, the band of alarms that need a person (with acknowledge),
+ * and every loop as a tile, worst first. Tiles off screen are not rendered (window
+ * virtualisation); live updates are coalesced to one render per animation frame by the store.
+ */
+import { useWindowVirtualizer } from "@tanstack/react-virtual";
+import Link from "next/link";
+import { useDeferredValue, useLayoutEffect, useMemo, useRef, useState } from "react";
+import type { AlarmDto, Role } from "@/lib/types";
+import { roleAtLeast } from "@/lib/types";
+import { useAlarms, useLoops, useNow } from "@/lib/client/hooks";
+import { ATTENTION_STATES, sortWorstFirst } from "@/lib/client/order";
+import { DEFAULT_POLICY } from "@/lib/alarms/policy";
+import { CONDITION_WORDS, fmtClock } from "@/lib/client/format";
+import { AlarmActions } from "./alarm-actions";
+import { AreaSummaries, summariseAreas } from "./area-summary";
+import { LoopTile, TILE_HEIGHT } from "./loop-tile";
+import { PriorityMark } from "./priority-mark";
+
+const TILE_MIN_WIDTH = 300;
+const GAP = 8;
+
+export function ControlRoom({ role }: { role: Role }) {
+  const { loops: raw, store, error, isLoading, connected } = useLoops();
+  const loops = useMemo(() => sortWorstFirst(raw, DEFAULT_POLICY.decayRatio.high), [raw]);
+  const now = useNow(1000);
+  const areas = useMemo(() => summariseAreas(loops, now), [loops, now]);
+  const [filter, setFilter] = useState("");
+  const deferred = useDeferredValue(filter);
+  const shown = useMemo(() => {
+    const f = deferred.trim().toLowerCase();
+    if (!f) return loops;
+    return loops.filter((l) => l.tag.toLowerCase().includes(f) || l.description.toLowerCase().includes(f) || (l.area ?? "").toLowerCase().includes(f));
+  }, [loops, deferred]);
+
+  return (
+    <div className="flex flex-col gap-3">
+      <div className="flex flex-wrap items-center justify-between gap-2">
+        <h1 className="text-xl font-semibold">Control room</h1>
+        <div className="flex items-center gap-3 text-sm">
+          <span className={connected ? "text-muted" : "text-high"} data-testid="live-status">
+            {connected ? "● live" : "○ reconnecting…"}
+          </span>
+          <label className="flex items-center gap-1">
+            <span className="sr-only">Filter loops</span>
+            <input
+              value={filter}
+              onChange={(e) => setFilter(e.target.value)}
+              placeholder="Filter by tag, text, area"
+              className="w-56 rounded border border-line bg-surface px-2 py-1"
+            />
+          </label>
+          <Link href="/wall" className="rounded border border-line px-2 py-1 hover:border-accent">
+            Wall mode
+          </Link>
+        </div>
+      </div>
+      {error && (
+        <p role="alert" className="text-urgent">
+          Could not load loops: {error.message}
+        </p>
+      )}
+      <AreaSummaries areas={areas} />
+      <AlarmBand role={role} />
+      {isLoading && loops.length === 0 ? (
+        <p className="text-muted">Loading loops…</p>
+      ) : loops.length === 0 ? (
+        <p className="text-muted">No loops are configured for this tenant yet. An engineer can add one under Loops.</p>
+      ) : (
+        <>
+          <p className="text-xs text-muted">
+            {shown.length} of {loops.length} loops, worst first (alarm priority, then margin to the alarm level).
+          </p>
+          <TileGrid loops={shown} store={store} now={now} />
+        </>
+      )}
+    </div>
+  );
+}
+
+function TileGrid({ loops, store, now }: { loops: ReturnType<typeof useLoops>["loops"]; store: ReturnType<typeof useLoops>["store"]; now: number }) {
+  const parent = useRef<HTMLDivElement>(null);
+  const [width, setWidth] = useState(1200);
+  const [offset, setOffset] = useState(0);
+  useLayoutEffect(() => {
+    const el = parent.current;
+    if (!el) return;
+    const ro = new ResizeObserver(() => {
+      setWidth(el.clientWidth);
+      setOffset(el.getBoundingClientRect().top + window.scrollY);
+    });
+    ro.observe(el);
+    return () => ro.disconnect();
+  }, []);
+  const cols = Math.max(1, Math.floor((width + GAP) / (TILE_MIN_WIDTH + GAP)));
+  const rows = Math.ceil(loops.length / cols);
+  const v = useWindowVirtualizer({ count: rows, estimateSize: () => TILE_HEIGHT + GAP, overscan: 2, scrollMargin: offset });
+  const nowS = Math.floor(now / 1000) * 1000;
+  return (
+    <div ref={parent} style={{ height: v.getTotalSize(), position: "relative" }} data-testid="tile-grid">
+      {v.getVirtualItems().map((row) => (
+        <div
+          key={row.key}
+          className="grid"
+          style={{
+            position: "absolute",
+            top: 0,
+            left: 0,
+            width: "100%",
+            height: TILE_HEIGHT,
+            transform: `translateY(${row.start - v.options.scrollMargin}px)`,
+            gridTemplateColumns: `repeat(${cols}, minmax(0, 1fr))`,
+            gap: GAP,
+          }}
+        >
+          {loops.slice(row.index * cols, row.index * cols + cols).map((l) => (
+            <LoopTile key={l.id} loop={l} spark={store.spark(l.id)} now={nowS} />
+          ))}
+        </div>
+      ))}
+    </div>
+  );
+}
+
+/** Alarms that need a person, highest priority first, with the operator's actions. */
+export function AlarmBand({ role, big = false }: { role: Role; big?: boolean }) {
+  const { alarms, mutate, error } = useAlarms("");
+  const active = useMemo(
+    () =>
+      alarms
+        .filter((a: AlarmDto) => ATTENTION_STATES.has(a.state))
+        .sort(
+          (a, b) =>
+            ["urgent", "high", "low"].indexOf(a.priority) - ["urgent", "high", "low"].indexOf(b.priority) ||
+            (a.state === "acknowledged" ? 1 : 0) - (b.state === "acknowledged" ? 1 : 0) ||
+            (b.activatedAt ?? "").localeCompare(a.activatedAt ?? ""),
+        ),
+    [alarms],
+  );
+  const mayAct = roleAtLeast(role, "operator");
+  return (
+    <section aria-label="Alarms needing attention" className="rounded-md border border-line bg-surface" data-testid="alarm-band">
+      <h2 className={`border-b border-line px-3 py-1 font-semibold ${big ? "text-xl" : "text-sm"}`}>
+        Alarms needing attention <span className="num text-muted">({active.length})</span>
+      </h2>
+      {error && <p className="px-3 py-2 text-sm text-urgent">Could not load alarms: {error.message}</p>}
+      {active.length === 0 ? (
+        <p className="px-3 py-2 text-sm text-muted">None. Every loop is inside its alarm levels.</p>
+      ) : (
+        <ul className={`divide-y divide-line overflow-y-auto ${big ? "max-h-[30vh]" : "max-h-56"}`}>
+          {active.map((a) => (
+            <li key={a.id} className={`flex flex-wrap items-center gap-x-3 gap-y-1 px-3 py-1.5 ${big ? "text-lg" : "text-sm"}`} data-testid="alarm-row">
+              <PriorityMark priority={a.priority} state={a.state} shelvedUntil={a.shelvedUntil} size={big ? 24 : 18} />
+              <Link href={`/loops/${a.loopId}`} className="font-mono font-semibold underline-offset-2 hover:underline">
+                {a.loopTag}
+              </Link>
+              <span>{CONDITION_WORDS[a.condition] ?? a.condition}</span>
+              <span className="min-w-0 flex-1 truncate text-muted">{a.message}</span>
+              <span className="num text-muted">since {fmtClock(a.activatedAt)} UTC</span>
+              {mayAct && !big && <AlarmActions alarm={a} onDone={mutate} compact />}
+            </li>
+          ))}
+        </ul>
+      )}
+    </section>
+  );
+}

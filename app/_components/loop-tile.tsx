@@ -1,0 +1,113 @@
+"use client";
+/**
+ * One loop on the wall: tag, description, tracker state, alarm marks, rim gauge, decay ratio
+ * with a short trend, a small z-plane, and the data age (greyed and marked "stale" when old).
+ * Fixed height so the wall can virtualise; memoised on the summary object (the store replaces
+ * it only when the loop changes).
+ */
+import Link from "next/link";
+import { memo } from "react";
+import type { LoopSummary, PoleDto } from "@/lib/types";
+import { DEFAULT_POLICY } from "@/lib/alarms/policy";
+import { dataAge, radiusForDecayRatio } from "@/lib/client/order";
+import { fmt, fmtAge } from "@/lib/client/format";
+import { sparkValues, type Spark } from "@/lib/client/loop-store";
+import { PriorityMark } from "./priority-mark";
+import { RimGauge } from "./rim-gauge";
+import { Sparkline } from "./sparkline";
+import { TrackerStateBadge } from "./tracker-state-badge";
+import { ZPlaneMap } from "./z-plane-map";
+
+export const TILE_HEIGHT = 176;
+
+export function dominantPole(poles: PoleDto[]): PoleDto | null {
+  let best: PoleDto | null = null;
+  for (const p of poles) if (!best || p.radius > best.radius) best = p;
+  return best;
+}
+
+/** Warning and alarm radii of the dominant mode from the period-invariant decay-ratio levels. */
+export function gaugeLevels(poles: PoleDto[], levels = DEFAULT_POLICY.decayRatio): { warn: number | null; alarm: number | null } {
+  const d = dominantPole(poles);
+  if (!d) return { warn: null, alarm: null };
+  const theta = Math.atan2(d.im, d.re);
+  return { warn: radiusForDecayRatio(levels.low, theta), alarm: radiusForDecayRatio(levels.high, theta) };
+}
+
+function LoopTileInner({ loop, spark, now, big = false }: { loop: LoopSummary; spark?: Spark; now: number; big?: boolean }) {
+  const st = loop.state;
+  const { ageS, stale } = dataAge(st, now);
+  const levels = st ? gaugeLevels(st.modelPoles.length ? st.modelPoles : st.dataPoles) : { warn: null, alarm: null };
+  const radii = spark ? sparkValues(spark, "radius") : [];
+  const decays = spark ? sparkValues(spark, "decay") : [];
+  const finiteR = radii.filter(Number.isFinite);
+  const active = loop.alarms.filter((a) => a.state !== "normal");
+  const worst = active.find((a) => a.priority === "urgent") ?? active.find((a) => a.priority === "high") ?? active[0];
+  const border =
+    worst && (worst.state === "unacknowledged" || worst.state === "acknowledged" || worst.state === "rtn-unacknowledged")
+      ? worst.priority === "urgent"
+        ? "border-urgent"
+        : worst.priority === "high"
+          ? "border-high"
+          : "border-low"
+      : "border-line";
+  const suppressed = active.length > 0 && active.every((a) => a.state === "out-of-service" || a.state === "suppressed-by-design" || a.state === "shelved");
+  return (
+    <Link
+      href={`/loops/${loop.id}`}
+      className={`flex h-full flex-col gap-1 rounded-md border-2 ${border} bg-surface p-2 no-underline hover:bg-raised focus-visible:bg-raised ${suppressed ? "hatch-suppressed" : ""} ${stale ? "opacity-75" : ""}`}
+      data-testid="loop-tile"
+      data-loop-id={loop.id}
+      aria-label={`${loop.tag}: ${loop.description}. ${st ? `radius ${fmt(st.spectralRadius)}, ${st.trackerState}` : "no estimate"}${stale ? ", stale data" : ""}${active.length ? `, ${active.length} alarm(s)` : ""}`}
+    >
+      <div className="flex items-baseline justify-between gap-2">
+        <span className={`truncate font-mono font-semibold ${big ? "text-2xl" : "text-base"}`}>{loop.tag}</span>
+        <TrackerStateBadge state={st?.trackerState ?? null} reason={st?.stateReason} />
+      </div>
+      <div className={`truncate text-muted ${big ? "text-base" : "text-xs"}`}>{loop.description}</div>
+      <div className="flex min-h-0 flex-1 gap-2">
+        <div className="flex min-w-0 flex-1 flex-col gap-1">
+          <RimGauge
+            radius={st?.spectralRadius ?? null}
+            warn={levels.warn}
+            alarm={levels.alarm}
+            recentMin={finiteR.length ? Math.min(...finiteR) : null}
+            recentMax={finiteR.length ? Math.max(...finiteR) : null}
+            stale={stale}
+            width={big ? 150 : 110}
+            compact
+          />
+          <div className={`num font-mono ${big ? "text-xl" : "text-sm"} ${stale ? "text-suppressed" : ""}`} data-testid="tile-radius">
+            ρ {fmt(st?.spectralRadius ?? null)} <span className="text-muted">DR {fmt(st?.decayRatio ?? null, 2)}</span>
+          </div>
+          <Sparkline values={decays.some(Number.isFinite) ? decays : radii} lo={0} hi={1} width={big ? 150 : 110} height={22} level={DEFAULT_POLICY.decayRatio.high} label={`${loop.tag} recent decay ratio`} />
+          <div className="mt-auto flex flex-wrap items-center gap-x-2 gap-y-0.5 text-xs">
+            {active.slice(0, 2).map((a) => (
+              <PriorityMark key={a.id} priority={a.priority} state={a.state} size={big ? 20 : 14} showWord={false} />
+            ))}
+          </div>
+          <div className={`num text-xs ${stale ? "text-suppressed" : "text-muted"}`} data-testid="tile-age">
+            {stale ? <strong>stale · </strong> : null}
+            {fmtAge(ageS)}
+          </div>
+        </div>
+        {st && (
+          <ZPlaneMap
+            modelPoles={st.modelPoles}
+            dataPoles={st.dataPoles}
+            dataPolesKind={st.dataPolesKind}
+            zeros={[]}
+            warnRadius={levels.warn}
+            alarmRadius={levels.alarm}
+            size={big ? 130 : 96}
+            compact
+            stale={stale}
+          />
+        )}
+      </div>
+    </Link>
+  );
+}
+
+/** Re-renders when the loop object is replaced (the store does so on every update) or the second ticks. */
+export const LoopTile = memo(LoopTileInner);

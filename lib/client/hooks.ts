@@ -1,0 +1,147 @@
+"use client";
+/**
+ * Data hooks of the console: SWR for what the REST API answers, merged with Socket.IO updates.
+ * Every socket listener is removed in its effect's cleanup.
+ */
+import { useEffect, useMemo, useRef, useState, useSyncExternalStore } from "react";
+import useSWR from "swr";
+import type { AlarmDto, LoopSummary, SampleDto } from "@/lib/types";
+import { fetchJson } from "./fetcher";
+import { LoopStore } from "./loop-store";
+import { getSocket } from "./socket";
+
+/** Accept either a bare array or `{ <key>: [...] }` from the API. */
+export function listOf<T>(body: unknown, key: string): T[] {
+  if (Array.isArray(body)) return body as T[];
+  if (body && typeof body === "object" && Array.isArray((body as Record<string, unknown>)[key])) {
+    return (body as Record<string, T[]>)[key] as T[];
+  }
+  return [];
+}
+
+let sharedStore: LoopStore | null = null;
+/** The tab's loop store (one per tab, like the socket). */
+export function getLoopStore(): LoopStore {
+  if (!sharedStore) sharedStore = new LoopStore();
+  return sharedStore;
+}
+
+/** All loops of the tenant, live: the API's list merged with `loop:state` batches once per frame. */
+export function useLoops(): { loops: LoopSummary[]; store: LoopStore; error: Error | undefined; isLoading: boolean; connected: boolean } {
+  const store = getLoopStore();
+  const { data, error, isLoading } = useSWR("/api/loops", (u: string) => fetchJson<unknown>(u), { revalidateOnFocus: true, refreshInterval: 60_000 });
+  useEffect(() => {
+    if (data !== undefined) store.seed(listOf<LoopSummary>(data, "loops"));
+  }, [data, store]);
+  const connected = useSocketConnected();
+  useEffect(() => {
+    const s = getSocket();
+    const onState = (batch: Parameters<LoopStore["enqueue"]>[0]) => store.enqueue(batch);
+    const onAlarm = (a: AlarmDto) => {
+      const l = store.get(a.loopId);
+      if (!l) return;
+      const rest = l.alarms.filter((x) => x.id !== a.id);
+      const keep = a.state !== "normal";
+      store.setAlarms(a.loopId, keep ? [...rest, { id: a.id, condition: a.condition, priority: a.priority, state: a.state }] : rest);
+    };
+    s.on("loop:state", onState);
+    s.on("alarm:changed", onAlarm);
+    return () => {
+      s.off("loop:state", onState);
+      s.off("alarm:changed", onAlarm);
+    };
+  }, [store]);
+  const loops = useSyncExternalStore(store.subscribe, store.getSnapshot, store.getSnapshot);
+  return { loops, store, error: error as Error | undefined, isLoading, connected };
+}
+
+export function useSocketConnected(): boolean {
+  const [connected, setConnected] = useState(false);
+  useEffect(() => {
+    const s = getSocket();
+    const on = () => setConnected(true);
+    const off = () => setConnected(false);
+    setConnected(s.connected);
+    s.on("connect", on);
+    s.on("disconnect", off);
+    return () => {
+      s.off("connect", on);
+      s.off("disconnect", off);
+    };
+  }, []);
+  return connected;
+}
+
+/**
+ * Full-rate samples of one loop while the component is mounted (`loop:watch` on mount,
+ * `loop:unwatch` in cleanup). Keeps the last `keep` samples; `error` holds a refused watch.
+ */
+export function useLoopSamples(loopId: number, keep = 3600): { samples: SampleDto[]; error: string | null; version: number } {
+  const buf = useRef<SampleDto[]>([]);
+  const [version, setVersion] = useState(0);
+  const [error, setError] = useState<string | null>(null);
+  useEffect(() => {
+    const s = getSocket();
+    buf.current = [];
+    let raf = 0;
+    const watch = () =>
+      s.emit("loop:watch", loopId, (r) => {
+        if (!r.ok) setError(r.error);
+        else setError(null);
+      });
+    const onSamples = (b: { loopId: number; samples: SampleDto[] }) => {
+      if (b.loopId !== loopId) return;
+      const arr = buf.current;
+      for (const x of b.samples) arr.push(x);
+      if (arr.length > keep) arr.splice(0, arr.length - keep);
+      if (!raf) raf = requestAnimationFrame(() => {
+        raf = 0;
+        setVersion((v) => v + 1);
+      });
+    };
+    s.on("loop:samples", onSamples);
+    s.on("connect", watch);
+    if (s.connected) watch();
+    return () => {
+      s.off("loop:samples", onSamples);
+      s.off("connect", watch);
+      if (raf) cancelAnimationFrame(raf);
+      s.emit("loop:unwatch", loopId);
+    };
+  }, [loopId, keep]);
+  return { samples: buf.current, error, version };
+}
+
+/** Alarms matching a filter, refreshed on every `alarm:changed` of the tenant. */
+export function useAlarms(qs: string): { alarms: AlarmDto[]; error: Error | undefined; isLoading: boolean; mutate: () => void } {
+  const key = `/api/alarms${qs}`;
+  const { data, error, isLoading, mutate } = useSWR(key, (u: string) => fetchJson<unknown>(u));
+  useEffect(() => {
+    const s = getSocket();
+    let t: ReturnType<typeof setTimeout> | null = null;
+    const on = () => {
+      if (t) return;
+      t = setTimeout(() => {
+        t = null;
+        void mutate();
+      }, 250);
+    };
+    s.on("alarm:changed", on);
+    return () => {
+      s.off("alarm:changed", on);
+      if (t) clearTimeout(t);
+    };
+  }, [mutate]);
+  const alarms = useMemo(() => listOf<AlarmDto>(data, "alarms"), [data]);
+  return { alarms, error: error as Error | undefined, isLoading, mutate: () => void mutate() };
+}
+
+/** A clock that ticks every `ms` (for data ages). */
+export function useNow(ms = 1000): number {
+  const [now, setNow] = useState(() => Date.now());
+  useEffect(() => {
+    const id = setInterval(() => setNow(Date.now()), ms);
+    return () => clearInterval(id);
+  }, [ms]);
+  return now;
+}

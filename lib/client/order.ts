@@ -1,0 +1,77 @@
+/**
+ * Worst-first ordering of loops (UI.md "Worst first"): by the highest priority of the loop's
+ * alarms that need attention, then by the margin to the loop's own alarm level, smallest first.
+ * A raw radius is not comparable across sample periods, so the margin is measured on the
+ * period-invariant decay ratio where the dominant mode oscillates, and on the rim distance
+ * only where it does not. Pure functions: used by the wall, the inventory and the benchmark.
+ */
+import type { AlarmPriority, AlarmState, LoopStateDto, LoopSummary } from "@/lib/types";
+
+const PRIORITY_RANK: Record<AlarmPriority, number> = { urgent: 0, high: 1, low: 2 };
+/** Alarm states that ask something of a person (normal, suppressed and out of service do not). */
+export const ATTENTION_STATES: ReadonlySet<AlarmState> = new Set(["unacknowledged", "acknowledged", "rtn-unacknowledged"]);
+
+/** Decay-ratio alarm level used when the loop's own policy is not known to the page. */
+export const DEFAULT_DECAY_ALARM = 0.5;
+
+export function worstPriority(loop: Pick<LoopSummary, "alarms">): AlarmPriority | null {
+  let best: AlarmPriority | null = null;
+  for (const a of loop.alarms) {
+    if (!ATTENTION_STATES.has(a.state)) continue;
+    if (best === null || PRIORITY_RANK[a.priority] < PRIORITY_RANK[best]) best = a.priority;
+  }
+  return best;
+}
+
+/**
+ * Margin to the alarm level: negative when past it. Unstable loops come first (below -1),
+ * oscillating loops by (level - decay ratio) in [-1, 1], non-oscillating ones after them by
+ * rim distance (offset by 1), loops without an estimate last.
+ */
+export function marginToAlarm(state: LoopStateDto | null, decayAlarm = DEFAULT_DECAY_ALARM): number {
+  if (!state || state.spectralRadius === null) return Number.POSITIVE_INFINITY;
+  if (state.spectralRadius >= 1 || state.juryStable === false) return -1 - (state.spectralRadius - 1);
+  if (state.decayRatio !== null) return decayAlarm - state.decayRatio;
+  return 1 + (state.rimDistance ?? 1 - state.spectralRadius);
+}
+
+export function compareWorstFirst(a: LoopSummary, b: LoopSummary, decayAlarm = DEFAULT_DECAY_ALARM): number {
+  const pa = worstPriority(a);
+  const pb = worstPriority(b);
+  const ra = pa === null ? 3 : PRIORITY_RANK[pa];
+  const rb = pb === null ? 3 : PRIORITY_RANK[pb];
+  if (ra !== rb) return ra - rb;
+  const ma = marginToAlarm(a.state, decayAlarm);
+  const mb = marginToAlarm(b.state, decayAlarm);
+  if (ma !== mb) return ma < mb ? -1 : 1;
+  return a.tag.localeCompare(b.tag);
+}
+
+export function sortWorstFirst(loops: LoopSummary[], decayAlarm = DEFAULT_DECAY_ALARM): LoopSummary[] {
+  return [...loops].sort((a, b) => compareWorstFirst(a, b, decayAlarm));
+}
+
+/**
+ * Radius that corresponds to a decay-ratio level for a mode at angle theta (rad/sample):
+ * DR = r^(2π/|θ|)  =>  r = DR^(|θ|/2π). For a real mode (θ = 0) there is no decay ratio and
+ * the function returns null.
+ */
+export function radiusForDecayRatio(decayRatio: number, theta: number): number | null {
+  const t = Math.abs(theta);
+  if (!(t > 1e-9) || !(decayRatio > 0)) return null;
+  return Math.pow(decayRatio, t / (2 * Math.PI));
+}
+
+/** Equivalent time constant of a real pole at radius r and period T: τ = -T / ln r (seconds). */
+export function timeConstantOfRadius(r: number, T: number): number | null {
+  if (!(r > 0 && r < 1) || !(T > 0)) return null;
+  return -T / Math.log(r);
+}
+
+/** Age of the data in seconds; stale when older than `staleAfterS` (or 5 estimation periods, at least 15 s). */
+export function dataAge(state: LoopStateDto | null, now: number): { ageS: number | null; stale: boolean } {
+  if (!state || state.receivedAt === null) return { ageS: null, stale: true };
+  const ageS = Math.max(0, (now - state.receivedAt) / 1000);
+  const staleAfterS = Math.max(15, 5 * state.estimationPeriodS);
+  return { ageS, stale: ageS > staleAfterS || state.trackerState === "stale" };
+}
