@@ -1,0 +1,356 @@
+/**
+ * The MQTT boundary (ARCHITECTURE.md §1, §5, §9). By default an embedded aedes broker on
+ * MQTT_HOST:MQTT_PORT (loopback); with MQTT_URL set, a client of that external broker instead.
+ * Either way the rest of the server sees the same thing: `subscribeInternal(pattern, handler)`
+ * delivers each telemetry message in-process with the identity of the device that sent it.
+ * Browsers never talk MQTT; devices may publish telemetry and nothing else.
+ */
+import net from "node:net";
+import { Aedes, type AedesPublishPacket, type Client } from "aedes";
+import mqtt from "mqtt";
+import { RateLimiterMemory } from "rate-limiter-flexible";
+import type { Service, ServerContext } from "@/server/context";
+import { MAX_PAYLOAD_BYTES, parseTelemetryTopic, type RejectReason } from "@/lib/telemetry";
+import { IngestCounters, UNAUTHENTICATED, type DeviceIdentity } from "@/server/ingest/counters";
+import { CachedCredentials, clientIdAllowed, secretMatches, type CredentialLookup, type DeviceCredential } from "./credentials";
+import { FrameGuard } from "./frame-guard";
+import { topicMatches } from "./topic-match";
+
+export { hashDeviceSecret, StaticCredentials, CachedCredentials, clientIdAllowed, type DeviceCredential, type CredentialLookup } from "./credentials";
+
+export interface BrokerMessage {
+  topic: string;
+  payload: Buffer;
+  device: DeviceIdentity;
+  dup: boolean;
+  retain: boolean;
+}
+export type BrokerMessageHandler = (msg: BrokerMessage) => void;
+
+export const EXTERNAL_BROKER: DeviceIdentity = { key: "(external broker)", tenantId: null, tenantSlug: null, siteSlug: null };
+export const INTERNAL_PUBLISHER: DeviceIdentity = { key: "(internal)", tenantId: null, tenantSlug: null, siteSlug: null };
+
+export interface BrokerOptions {
+  /** Where credentials come from (the pipeline passes the database lookup). */
+  credentials: CredentialLookup;
+  /** Counters shared with ingest, so refusals at the broker are counted per device too. */
+  counters?: IngestCounters;
+  host?: string;
+  /** 0 = any free port (tests). */
+  port?: number;
+  /** External broker URL; overrides the embedded broker (default: config MQTT_URL). */
+  mqttUrl?: string | null;
+  credentialTtlMs?: number;
+  /** CONNECT attempts allowed per source address per window. */
+  perIp?: { points: number; durationS: number };
+  /** CONNECT attempts allowed per credential key id per window. */
+  perKey?: { points: number; durationS: number };
+  /** How often connected devices are re-checked for revocation (ms). */
+  revocationSweepMs?: number;
+}
+
+export interface BrokerService extends Service {
+  /** The embedded broker, or null when an external broker is used. */
+  readonly broker: Aedes | null;
+  address(): { host: string; port: number } | null;
+  publishInternal(topic: string, payload: Buffer | string): Promise<void>;
+  subscribeInternal(pattern: string, handler: BrokerMessageHandler): () => void;
+}
+
+/** CONNACK return codes (MQTT 3.1.1 §3.2.2.3). */
+const IDENTIFIER_REJECTED = 2;
+const SERVER_UNAVAILABLE = 3;
+const BAD_USERNAME_OR_PASSWORD = 4;
+
+function authError(message: string, returnCode: number) {
+  return Object.assign(new Error(message), { returnCode });
+}
+
+/** A packet may exceed the 64 KiB payload only by its topic and header fields. */
+const MAX_REMAINING_LENGTH = MAX_PAYLOAD_BYTES + 1024;
+
+export async function startBroker(ctx: ServerContext, opts: BrokerOptions): Promise<BrokerService> {
+  const url = opts.mqttUrl === undefined ? ctx.config.MQTT_URL : opts.mqttUrl;
+  if (url) return startExternal(url);
+  return startEmbedded(ctx, opts);
+}
+
+async function startEmbedded(ctx: ServerContext, opts: BrokerOptions): Promise<BrokerService> {
+  const cfg = ctx.config;
+  const counters = opts.counters ?? new IngestCounters();
+  const credentials = new CachedCredentials(opts.credentials, ctx.clock, opts.credentialTtlMs ?? 5_000);
+  const pepper = cfg.DEVICE_SECRET_PEPPER;
+  const perIp = new RateLimiterMemory({ points: opts.perIp?.points ?? 30, duration: opts.perIp?.durationS ?? 10 });
+  const perKey = new RateLimiterMemory({ points: opts.perKey?.points ?? 20, duration: opts.perKey?.durationS ?? 60 });
+  const identities = new WeakMap<Client, { device: DeviceIdentity; cred: DeviceCredential }>();
+  const handlers = new Set<{ pattern: string; fn: BrokerMessageHandler }>();
+  const refusals = { connect: 0, rateLimited: 0, tooLarge: 0, publish: 0, subscribe: 0 };
+  const now = () => ctx.clock.now();
+  const identityOf = (client: Client | null) => (client ? identities.get(client)?.device : undefined) ?? UNAUTHENTICATED;
+  const countReject = (device: DeviceIdentity, reason: RejectReason) => counters.reject(device, reason, now());
+
+  const broker = await Aedes.createBroker({
+    // A device that has not completed CONNECT within 10 s is dropped (common practice: short).
+    connectTimeout: 10_000,
+    maxClientsIdLength: 128,
+    maxTopicLevels: 8,
+
+    preConnect(client, _packet, done) {
+      const ip = remoteAddressOf(client);
+      perIp.consume(ip).then(
+        () => done(null, true),
+        () => {
+          refusals.rateLimited++;
+          done(authError(`too many connection attempts from ${ip}`, SERVER_UNAVAILABLE), false);
+        },
+      );
+    },
+
+    authenticate(client, username, password, done) {
+      const refuse = (why: string, code: number) => {
+        refusals.connect++;
+        done(authError(why, code), null);
+      };
+      if (!username || !password) return refuse("credentials required", BAD_USERNAME_OR_PASSWORD);
+      perKey.consume(username).then(
+        async () => {
+          let cred: DeviceCredential | null;
+          try {
+            cred = await credentials.find(username);
+          } catch (err) {
+            console.error("[broker] credential lookup failed:", err);
+            return refuse("credential store unavailable", SERVER_UNAVAILABLE);
+          }
+          if (!cred || cred.revoked || !secretMatches(pepper, password, cred.secretHash)) {
+            if (cred) countReject(deviceOf(cred), "unauthorised");
+            return refuse("bad username or password", BAD_USERNAME_OR_PASSWORD);
+          }
+          if (!clientIdAllowed(client.id, cred)) {
+            countReject(deviceOf(cred), "unauthorised");
+            return refuse(`client id not bound to credential ${cred.keyId}`, IDENTIFIER_REJECTED);
+          }
+          identities.set(client, { device: deviceOf(cred), cred });
+          done(null, true);
+        },
+        () => {
+          refusals.rateLimited++;
+          refuse(`too many connection attempts for key ${username}`, SERVER_UNAVAILABLE);
+        },
+      );
+    },
+
+    authorizePublish(client, packet, done) {
+      if (client === null) return done(null); // the server's own publishes
+      const id = identities.get(client);
+      const device = id?.device ?? UNAUTHENTICATED;
+      const refuse = (reason: RejectReason, why: string) => {
+        refusals.publish++;
+        countReject(device, reason);
+        done(new Error(why));
+      };
+      if (!id) return refuse("unauthorised", "not authenticated");
+      if (packet.topic.startsWith("$")) return refuse("bad-topic", "$ topics are reserved for the broker");
+      // Telemetry is a stream, not a state: a retained sample would be replayed as new data.
+      if (packet.retain) return refuse("retained", "retained messages are not accepted");
+      const topic = parseTelemetryTopic(packet.topic);
+      if (!topic) return refuse("bad-topic", "topic must be rg/<tenant>/<site>/<loop>/samples");
+      if (topic.tenantSlug !== id.cred.tenantSlug || (id.cred.siteSlug !== null && topic.siteSlug !== id.cred.siteSlug)) {
+        return refuse("wrong-tenant", "topic outside the credential's tenant or site");
+      }
+      done(null);
+    },
+
+    authorizeSubscribe(client, sub, done) {
+      // Devices only publish telemetry; the server consumes in-process. SUBACK 0x80 (§3.9.3).
+      refusals.subscribe++;
+      countReject(identityOf(client), "unauthorised");
+      void sub;
+      done(null, null);
+    },
+  });
+
+  broker.on("publish", (packet: AedesPublishPacket, client: Client | null) => {
+    if (handlers.size === 0 || packet.topic.startsWith("$")) return;
+    const msg: BrokerMessage = {
+      topic: packet.topic,
+      payload: packet.payload as Buffer,
+      device: client ? identityOf(client) : INTERNAL_PUBLISHER,
+      dup: packet.dup === true,
+      retain: packet.retain === true,
+    };
+    for (const h of handlers) {
+      if (!topicMatches(h.pattern, msg.topic)) continue;
+      try {
+        h.fn(msg);
+      } catch (err) {
+        console.error("[broker] message handler failed:", err);
+      }
+    }
+  });
+  broker.on("clientError", () => {
+    /* a device's protocol error closes its connection; nothing else to do */
+  });
+
+  const sockets = new Set<net.Socket>();
+  const server = net.createServer((socket) => {
+    socket.setNoDelay(true); // Nagle adds 15-50 ms tails at high per-connection rates (§11)
+    sockets.add(socket);
+    socket.on("close", () => sockets.delete(socket));
+    socket.on("error", () => socket.destroy());
+    const client = broker.handle(socket);
+    const guard = new FrameGuard(MAX_REMAINING_LENGTH, (why) => {
+      refusals.tooLarge++;
+      countReject(identityOf(client), why === "too-large" ? "too-large" : "bad-json");
+      socket.destroy();
+    });
+    // With a 'readable' listener (aedes) in charge, 'data' fires for each chunk as it is read,
+    // before the MQTT parser appends it.
+    socket.on("data", (chunk: Buffer) => {
+      guard.push(chunk);
+    });
+  });
+  await new Promise<void>((resolve, reject) => {
+    server.once("error", reject);
+    server.listen(opts.port ?? cfg.MQTT_PORT, opts.host ?? cfg.MQTT_HOST, () => {
+      server.off("error", reject);
+      resolve();
+    });
+  });
+
+  // Connected devices whose credential was revoked (or changed) are dropped within one sweep.
+  const sweep = ctx.clock.setInterval(() => {
+    void sweepRevoked();
+  }, opts.revocationSweepMs ?? 5_000);
+  const clients = new Set<Client>();
+  broker.on("clientReady", (c) => clients.add(c));
+  broker.on("clientDisconnect", (c) => clients.delete(c));
+  async function sweepRevoked(): Promise<void> {
+    for (const c of [...clients]) {
+      const id = identities.get(c);
+      if (!id) continue;
+      try {
+        const cur = await credentials.find(id.cred.keyId);
+        if (!cur || cur.revoked || !cur.secretHash.equals(id.cred.secretHash) || cur.tenantId !== id.cred.tenantId || cur.siteSlug !== id.cred.siteSlug) {
+          c.close();
+        }
+      } catch {
+        /* store unavailable: keep the connection, try again next sweep */
+      }
+    }
+  }
+
+  let stopped = false;
+  const address = () => {
+    const a = server.address();
+    return a && typeof a === "object" ? { host: a.address, port: a.port } : null;
+  };
+  return {
+    name: "broker",
+    broker,
+    address,
+    async publishInternal(topic, payload) {
+      await new Promise<void>((resolve, reject) =>
+        broker.publish(
+          { cmd: "publish", topic, payload: typeof payload === "string" ? Buffer.from(payload) : payload, qos: 0, retain: false, dup: false },
+          (err) => (err ? reject(err) : resolve()),
+        ),
+      );
+    },
+    subscribeInternal(pattern, fn) {
+      const h = { pattern, fn };
+      handlers.add(h);
+      return () => handlers.delete(h);
+    },
+    health() {
+      return {
+        status: stopped ? "down" : "ok",
+        detail: { mode: "embedded", address: address(), connectedClients: broker.connectedClients, refusals: { ...refusals } },
+      };
+    },
+    async stop() {
+      if (stopped) return;
+      stopped = true;
+      sweep.cancel();
+      await new Promise<void>((resolve) => {
+        server.close(() => resolve());
+        for (const s of sockets) s.destroy();
+      });
+      await new Promise<void>((resolve) => broker.close(() => resolve()));
+    },
+  };
+}
+
+async function startExternal(url: string): Promise<BrokerService> {
+  const handlers = new Set<{ pattern: string; fn: BrokerMessageHandler }>();
+  const client = mqtt.connect(url, {
+    clientId: `rimguard-ingest-${process.pid}`,
+    clean: true,
+    reconnectPeriod: 2_000,
+    connectTimeout: 10_000,
+  });
+  let lastError: string | null = null;
+  client.on("error", (err) => {
+    lastError = err.message;
+  });
+  client.on("message", (topic, payload, packet) => {
+    const msg: BrokerMessage = { topic, payload, device: EXTERNAL_BROKER, dup: packet.dup === true, retain: packet.retain === true };
+    for (const h of handlers) {
+      if (!topicMatches(h.pattern, topic)) continue;
+      try {
+        h.fn(msg);
+      } catch (err) {
+        console.error("[broker] message handler failed:", err);
+      }
+    }
+  });
+  const subscribed = new Map<string, number>();
+  return {
+    name: "broker",
+    broker: null,
+    address: () => null,
+    async publishInternal(topic, payload) {
+      await client.publishAsync(topic, payload, { qos: 0, retain: false });
+    },
+    subscribeInternal(pattern, fn) {
+      const h = { pattern, fn };
+      handlers.add(h);
+      const n = subscribed.get(pattern) ?? 0;
+      subscribed.set(pattern, n + 1);
+      if (n === 0) client.subscribe(pattern, { qos: 1 });
+      return () => {
+        handlers.delete(h);
+        const left = (subscribed.get(pattern) ?? 1) - 1;
+        subscribed.set(pattern, left);
+        if (left === 0) client.unsubscribe(pattern);
+      };
+    },
+    health() {
+      return {
+        status: client.connected ? "ok" : "critical",
+        detail: { mode: "external", url: redactUrl(url), connected: client.connected, lastError },
+      };
+    },
+    async stop() {
+      await client.endAsync(true);
+    },
+  };
+}
+
+function deviceOf(cred: DeviceCredential): DeviceIdentity {
+  return { key: cred.keyId, tenantId: cred.tenantId, tenantSlug: cred.tenantSlug, siteSlug: cred.siteSlug };
+}
+
+function remoteAddressOf(client: Client): string {
+  const conn = client.conn as Partial<net.Socket>;
+  return conn.remoteAddress ?? "unknown";
+}
+
+function redactUrl(url: string): string {
+  try {
+    const u = new URL(url);
+    if (u.password) u.password = "***";
+    return u.toString();
+  } catch {
+    return "(invalid url)";
+  }
+}

@@ -1,0 +1,179 @@
+/**
+ * Ingest: one MQTT message in, validated samples out (ARCHITECTURE.md §5). Each sample is judged
+ * alone; every rejection is counted per device and reason; nothing here throws, and nothing
+ * rejected reaches the sink (the tracker registry, history and realtime).
+ */
+import type { SampleDto } from "@/lib/types";
+import {
+  FUTURE_SKEW_MS,
+  MAX_PAYLOAD_BYTES,
+  decodePayload,
+  parseTelemetryTopic,
+  validateSample,
+  type RejectReason,
+} from "@/lib/telemetry";
+import { IngestCounters, type DeviceIdentity } from "./counters";
+import type { LoopDirectory, LoopRoute } from "./directory";
+
+export { IngestCounters, UNAUTHENTICATED, type DeviceIdentity, type DeviceCounters } from "./counters";
+export { LoopDirectory, type LoopRoute } from "./directory";
+
+export interface IngestMessage {
+  topic: string;
+  payload: Uint8Array | string;
+  device: DeviceIdentity;
+  /** MQTT DUP flag: the sender says this is a re-send of a QoS 1 message. */
+  dup?: boolean;
+  retain?: boolean;
+}
+
+export type IngestSink = (route: LoopRoute, samples: SampleDto[], receivedAt: number) => void;
+
+export interface IngestOutcome {
+  accepted: number;
+  redelivered: number;
+  rejected: Partial<Record<RejectReason, number>>;
+}
+
+/** What identifies the last accepted message of a loop (for QoS 1 re-sends without the DUP flag). */
+interface LastMessage {
+  firstT: number;
+  lastT: number;
+  count: number;
+  bytes: number;
+}
+
+export interface IngestOptions {
+  directory: LoopDirectory;
+  now: () => number;
+  sink: IngestSink;
+  counters?: IngestCounters;
+  futureSkewMs?: number;
+}
+
+export class Ingest {
+  readonly counters: IngestCounters;
+  private readonly lastT = new Map<number, number>();
+  private readonly lastMessage = new Map<number, LastMessage>();
+  private readonly skew: number;
+
+  constructor(private readonly opts: IngestOptions) {
+    this.counters = opts.counters ?? new IngestCounters();
+    this.skew = opts.futureSkewMs ?? FUTURE_SKEW_MS;
+  }
+
+  /** After a restart: the last sample time each loop already took, so replays count as duplicates. */
+  seedLastTimes(entries: Iterable<[loopId: number, t: number]>): void {
+    for (const [loopId, t] of entries) {
+      if (Number.isFinite(t) && t > (this.lastT.get(loopId) ?? -Infinity)) this.lastT.set(loopId, t);
+    }
+  }
+
+  lastTime(loopId: number): number | null {
+    return this.lastT.get(loopId) ?? null;
+  }
+
+  /** Take one message. Never throws: a failure in the sink is logged and the message counted. */
+  handle(msg: IngestMessage): IngestOutcome {
+    const receivedAt = this.opts.now();
+    const out: IngestOutcome = { accepted: 0, redelivered: 0, rejected: {} };
+    const device = msg.device;
+    const counters = this.counters;
+    counters.message(device, receivedAt);
+    const reject = (reason: RejectReason, n = 1) => {
+      counters.reject(device, reason, receivedAt, n);
+      out.rejected[reason] = (out.rejected[reason] ?? 0) + n;
+    };
+
+    if (msg.retain) {
+      reject("retained");
+      return out;
+    }
+    const bytes = typeof msg.payload === "string" ? Buffer.byteLength(msg.payload, "utf8") : msg.payload.byteLength;
+    if (bytes > MAX_PAYLOAD_BYTES) {
+      reject("too-large");
+      return out;
+    }
+    const topic = parseTelemetryTopic(msg.topic);
+    if (!topic) {
+      reject("bad-topic");
+      return out;
+    }
+    // A credential publishes only under its own tenant (and site, when bound to one). The embedded
+    // broker refuses such publishes before they get here; an external broker may not.
+    if (device.tenantSlug !== null && (topic.tenantSlug !== device.tenantSlug || (device.siteSlug !== null && topic.siteSlug !== device.siteSlug))) {
+      reject("wrong-tenant");
+      return out;
+    }
+    const route = this.opts.directory.resolve(topic);
+    if (!route) {
+      reject("unknown-loop");
+      return out;
+    }
+    if (device.tenantId !== null && route.tenantId !== device.tenantId) {
+      reject("wrong-tenant");
+      return out;
+    }
+
+    // Size before parse: an oversized body costs one comparison.
+    const decoded = decodePayload(msg.payload);
+    if (!decoded.ok) {
+      reject(decoded.reason);
+      return out;
+    }
+
+    const items = decoded.items;
+    const prev = this.lastMessage.get(route.loopId);
+    let last = this.lastT.get(route.loopId) ?? -Infinity;
+    const maxT = receivedAt + this.skew;
+    const accepted: SampleDto[] = [];
+    let redelivered = 0;
+    // A QoS 1 re-send: the DUP flag, or the very message taken last (same span, count and size).
+    const resend = msg.dup === true || (prev !== undefined && prev.bytes === bytes && prev.count === items.length && firstT(items) === prev.firstT);
+
+    for (const item of items) {
+      const v = validateSample(item);
+      if (!v.ok) {
+        reject(v.reason);
+        continue;
+      }
+      const s = v.sample;
+      if (s.t > maxT) {
+        reject("future");
+        continue;
+      }
+      if (s.t <= last) {
+        if (resend) redelivered++;
+        else reject(s.t === last ? "duplicate" : "out-of-order");
+        continue;
+      }
+      last = s.t;
+      accepted.push(s);
+    }
+
+    if (redelivered > 0) {
+      counters.redelivery(device, redelivered);
+      out.redelivered = redelivered;
+    }
+    if (accepted.length === 0) return out;
+    this.lastT.set(route.loopId, last);
+    this.lastMessage.set(route.loopId, { firstT: accepted[0]!.t, lastT: last, count: items.length, bytes });
+    counters.accept(device, accepted.length);
+    out.accepted = accepted.length;
+    try {
+      this.opts.sink(route, accepted, receivedAt);
+    } catch (err) {
+      console.error(`[ingest] sink failed for loop ${route.loopId}:`, err);
+    }
+    return out;
+  }
+}
+
+function firstT(items: unknown[]): number | undefined {
+  const first = items[0];
+  if (first && typeof first === "object" && "t" in first) {
+    const t = (first as { t: unknown }).t;
+    return typeof t === "number" ? t : undefined;
+  }
+  return undefined;
+}
