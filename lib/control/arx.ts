@@ -8,7 +8,8 @@
  *
  * Operating point (`operatingPoint`):
  * - "mean" (default): u and y are detrended by a slowly tracked mean m(k) = mu m(k-1) + (1 - mu) x(k)
- *   (`meanMemory` mu, default 0.999), i.e. both signals pass the same high-pass filter 1 - EWMA.
+ *   (`meanMemory` mu, default 0.999; the plain running mean over the first 1/(1 - mu) samples),
+ *   i.e. both signals pass the same high-pass filter 1 - EWMA.
  *   A linear filter applied to input and output alike leaves the ARX relation intact (data
  *   prefiltering, Ljung 1999 sec. 14.1); at steady state the regressor shrinks to zero, so a
  *   quiet loop contributes no (misleading) information.
@@ -177,14 +178,10 @@ export class ArxEstimator {
     let du = u;
     let dy = y;
     if (op === "mean") {
-      if (this.count === 0) {
-        this.meanU = u;
-        this.meanY = y;
-      } else {
-        const mu = this.options.meanMemory;
-        this.meanU = mu * this.meanU + (1 - mu) * u;
-        this.meanY = mu * this.meanY + (1 - mu) * y;
-      }
+      // Expanding-window mean until the window reaches 1/(1 - mu) samples, then the EWMA.
+      const w = Math.max(1 - this.options.meanMemory, 1 / (this.count + 1));
+      this.meanU += w * (u - this.meanU);
+      this.meanY += w * (y - this.meanY);
       du = u - this.meanU;
       dy = y - this.meanY;
     }
