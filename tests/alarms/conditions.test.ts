@@ -1,0 +1,228 @@
+/**
+ * Condition evaluation: deadband and delays, period invariance of the margin levels, slow real
+ * poles, root-cause suppression and tracker-state suppression.
+ */
+import { complex, exp, type Complex as MComplex } from "mathjs";
+import { describe, expect, it } from "vitest";
+import {
+  dominantOscillatingMode,
+  evaluateConditions,
+  newConditionMemory,
+  slowestRealTimeConstant,
+  stepLevel,
+  idleFilter,
+  type ConditionMemory,
+} from "@/lib/alarms/conditions";
+import { DEFAULT_POLICY, resolvePolicy, type EffectivePolicy } from "@/lib/alarms/policy";
+import type { LoopStateDto, PoleDto, TrackerState } from "@/lib/types";
+
+const T0 = Date.UTC(2026, 0, 5, 8, 0, 0);
+
+function pole(re: number, im: number): PoleDto {
+  return { re, im, radius: Math.hypot(re, im), sdRadius: null, cov: null };
+}
+/** A conjugate pair with a given per-cycle decay ratio d at angle θ: r = d^(θ/2π). */
+function pairWithDecay(d: number, theta = Math.PI / 4): PoleDto[] {
+  const r = Math.pow(d, theta / (2 * Math.PI));
+  return [pole(r * Math.cos(theta), r * Math.sin(theta)), pole(r * Math.cos(theta), -r * Math.sin(theta))];
+}
+
+function state(poles: PoleDto[], over: Partial<LoopStateDto> = {}): LoopStateDto {
+  const sr = poles.length ? Math.max(...poles.map((p) => p.radius)) : null;
+  return {
+    loopId: 7,
+    tenantId: 1,
+    at: T0,
+    receivedAt: T0,
+    trackerState: "tracking",
+    stateReason: null,
+    estimationPeriodS: 1,
+    samples: 1000,
+    excitation: 1,
+    fitPercent: 90,
+    spectralRadius: sr,
+    rimDistance: sr == null ? null : 1 - sr,
+    decayRatio: null,
+    juryStable: sr == null ? null : sr < 1,
+    dominant: null,
+    gainHeadroom: null,
+    radiusSd: null,
+    forecast: null,
+    modelPoles: poles,
+    dataPoles: [],
+    dataPolesKind: "disturbance-response",
+    zeros: [],
+    characteristic: null,
+    delaySamples: null,
+    last: null,
+    ...over,
+  };
+}
+
+function policy(p: Partial<EffectivePolicy> = {}): EffectivePolicy {
+  return { ...structuredClone(DEFAULT_POLICY), ...p };
+}
+
+describe("deadband and on/off delays", () => {
+  it("a decay ratio jittering ±0.01 around the level with deadband 0.02 and a 60 s on-delay activates exactly once", () => {
+    const pol = policy({
+      decayRatio: { low: 0.5, high: 0.9 },
+      deadband: { ...DEFAULT_POLICY.deadband, decayRatio: 0.02 },
+      onDelayS: 60,
+      offDelayS: 30,
+    });
+    let mem: ConditionMemory = newConditionMemory();
+    let wasActive = false;
+    let activations = 0;
+    let firstAt: number | null = null;
+    for (let k = 0; k <= 1200; k++) {
+      const now = T0 + k * 1000;
+      const d = 0.5 + (k % 2 === 0 ? 0.01 : -0.01);
+      const r = evaluateConditions(mem, state(pairWithDecay(d)), pol, { baselineTimeConstantS: null }, now);
+      mem = r.memory;
+      const active = r.verdicts.margin.active;
+      if (active && !wasActive) {
+        activations++;
+        firstAt ??= now;
+      }
+      wasActive = active;
+    }
+    expect(activations).toBe(1);
+    expect(firstAt).toBe(T0 + 60_000);
+  });
+
+  it("without deadband and delays the same jitter chatters (the filter is what prevents it)", () => {
+    const pol = policy({ decayRatio: { low: 0.5, high: 0.9 }, deadband: { ...DEFAULT_POLICY.deadband, decayRatio: 0 }, onDelayS: 0, offDelayS: 0 });
+    let mem = newConditionMemory();
+    let was = false;
+    let n = 0;
+    for (let k = 0; k < 100; k++) {
+      const d = 0.5 + (k % 2 === 0 ? 0.01 : -0.01);
+      const r = evaluateConditions(mem, state(pairWithDecay(d)), pol, { baselineTimeConstantS: null }, T0 + k * 1000);
+      mem = r.memory;
+      if (r.verdicts.margin.active && !was) n++;
+      was = r.verdicts.margin.active;
+    }
+    expect(n).toBe(50);
+  });
+
+  it("the on-delay restarts when the value leaves the deadband, and the off-delay holds the alarm", () => {
+    const spec = { level: 1, deadband: 0.1, direction: "above" as const, onDelayMs: 10_000, offDelayMs: 5_000 };
+    let f = stepLevel(idleFilter(), 1.05, spec, 0);
+    expect(f.pendingSince).toBe(0);
+    f = stepLevel(f, 0.85, spec, 5_000); // left the band: restart
+    expect(f.pendingSince).toBeNull();
+    f = stepLevel(f, 1.0, spec, 6_000);
+    f = stepLevel(f, 1.0, spec, 15_999);
+    expect(f.on).toBe(false);
+    f = stepLevel(f, 1.0, spec, 16_000);
+    expect(f.on).toBe(true);
+    f = stepLevel(f, 0.5, spec, 17_000);
+    expect(f.on).toBe(true); // off-delay running
+    f = stepLevel(f, 0.5, spec, 22_000);
+    expect(f.on).toBe(false);
+  });
+});
+
+describe("margin levels are period-invariant", () => {
+  // Continuous mode ζ = 0.15, ωn = 0.1 rad/s; decay ratio exp(-2πζ/√(1-ζ²)) = 0.3854
+  // (DOMAIN.md §1; Franklin, Powell & Workman, ch. 4). z = exp(sT) computed with mathjs.
+  const zeta = 0.15;
+  const wn = 0.1;
+  const expectedDecay = Math.exp((-2 * Math.PI * zeta) / Math.sqrt(1 - zeta * zeta));
+  for (const T of [0.1, 1, 5]) {
+    it(`at T = ${T} s the same mode has decay ratio ${expectedDecay.toFixed(4)} and raises a low margin alarm`, () => {
+      const z = exp(complex(-zeta * wn * T, wn * Math.sqrt(1 - zeta * zeta) * T)) as MComplex;
+      const poles = [pole(z.re, z.im), pole(z.re, -z.im), pole(0.2, 0)];
+      const mode = dominantOscillatingMode(poles, T)!;
+      expect(mode.decayRatio).toBeCloseTo(expectedDecay, 10);
+      expect(mode.zeta).toBeCloseTo(zeta, 10);
+      expect(mode.periodS).toBeCloseTo((2 * Math.PI) / (wn * Math.sqrt(1 - zeta * zeta)), 8);
+      const r = evaluateConditions(newConditionMemory(), state(poles, { estimationPeriodS: T }), policy({ onDelayS: 0 }), { baselineTimeConstantS: null }, T0);
+      expect(r.verdicts.margin.active).toBe(true);
+      expect(r.verdicts.margin.priority).toBe("low");
+    });
+  }
+
+  it("escalates to high at the second level", () => {
+    const r = evaluateConditions(newConditionMemory(), state(pairWithDecay(0.6)), policy({ onDelayS: 0 }), { baselineTimeConstantS: null }, T0);
+    expect(r.verdicts.margin.active).toBe(true);
+    expect(r.verdicts.margin.priority).toBe("high");
+  });
+
+  it("a minimum damping level raises margin for a lightly damped mode", () => {
+    // ζ = 0.2 gives decay ratio 0.2765 (below the 0.35 decay level) but below a ζ level of 0.25.
+    const T = 1;
+    const z = exp(complex(-0.2 * 0.5 * T, 0.5 * Math.sqrt(1 - 0.04) * T)) as MComplex;
+    const pol = policy({ onDelayS: 0, minDamping: { low: 0.25, high: 0.1 } });
+    const r = evaluateConditions(newConditionMemory(), state([pole(z.re, z.im), pole(z.re, -z.im)]), pol, { baselineTimeConstantS: null }, T0);
+    expect(r.verdicts.margin.active).toBe(true);
+    expect(r.verdicts.margin.message).toMatch(/damping ratio/);
+  });
+});
+
+describe("slow real poles", () => {
+  const slow = [pole(0.998, 0), pole(0.3, 0.2), pole(0.3, -0.2)];
+
+  it("a healthy slow real pole near z = 1 (a level loop) raises no margin alarm", () => {
+    let mem = newConditionMemory();
+    for (let k = 0; k < 600; k++) {
+      const r = evaluateConditions(mem, state(slow), policy(), { baselineTimeConstantS: 600 }, T0 + k * 1000);
+      mem = r.memory;
+      expect(r.verdicts.margin.active).toBe(false);
+      expect(r.verdicts.unstable.active).toBe(false);
+      expect(r.verdicts.sluggish.active).toBe(false);
+    }
+  });
+
+  it("τ = -T/ln z of the slowest real pole (0.998 at 1 s is 499.5 s)", () => {
+    expect(slowestRealTimeConstant(slow, 1)).toBeCloseTo(-1 / Math.log(0.998), 9);
+    expect(slowestRealTimeConstant(slow, 1)).toBeCloseTo(499.5, 0);
+  });
+
+  it("the same pole is `sluggish` against a 100 s baseline, still not `margin`", () => {
+    const r = evaluateConditions(newConditionMemory(), state(slow), policy({ onDelayS: 0 }), { baselineTimeConstantS: 100 }, T0);
+    expect(r.verdicts.sluggish.active).toBe(true);
+    expect(r.verdicts.sluggish.priority).toBe("low");
+    expect(r.verdicts.margin.active).toBe(false);
+  });
+});
+
+describe("unstable and suppression by design", () => {
+  it("a pole outside the unit circle raises `unstable` (urgent) and suppresses the others on the loop", () => {
+    const poles = [...pairWithDecay(1.2), pole(0.999, 0)];
+    const r = evaluateConditions(newConditionMemory(), state(poles), policy({ onDelayS: 0 }), { baselineTimeConstantS: 10 }, T0);
+    expect(r.verdicts.unstable.active).toBe(true);
+    expect(r.verdicts.unstable.priority).toBe("urgent");
+    for (const c of ["margin", "sluggish", "rim-forecast"] as const) {
+      expect(r.verdicts[c].active).toBe(false);
+      expect(r.verdicts[c].suppressedReason).toMatch(/unstable alarm active/);
+    }
+  });
+
+  it("a failed Jury test alone raises `unstable`", () => {
+    const r = evaluateConditions(newConditionMemory(), state(pairWithDecay(0.3), { juryStable: false }), policy({ onDelayS: 0 }), { baselineTimeConstantS: null }, T0);
+    expect(r.verdicts.unstable.active).toBe(true);
+  });
+
+  it.each<TrackerState>(["manual", "stale", "saturated", "learning", "low-excitation"])(
+    "no stability alarm while the tracker is %s: every condition is suppressed with that reason",
+    (ts) => {
+      const r = evaluateConditions(newConditionMemory(), state(pairWithDecay(1.3), { trackerState: ts, stateReason: "why" }), policy({ onDelayS: 0 }), { baselineTimeConstantS: 1 }, T0);
+      for (const c of ["unstable", "margin", "sluggish", "rim-forecast"] as const) {
+        expect(r.verdicts[c].active).toBe(false);
+        expect(r.verdicts[c].suppressedReason).toContain(ts.replace(/-/g, " "));
+      }
+    },
+  );
+
+  it("rim-forecast is active when the tracker's trend reaches the level within the horizon", () => {
+    const pol = resolvePolicy({ tenant: { onDelayS: 0, forecastHorizonMinutes: 60 } });
+    const s = state(pairWithDecay(0.3), { forecast: { at: T0 + 20 * 60_000, low: T0 + 10 * 60_000, high: T0 + 40 * 60_000 } });
+    const r = evaluateConditions(newConditionMemory(), s, pol, { baselineTimeConstantS: null }, T0);
+    expect(r.verdicts["rim-forecast"].active).toBe(true);
+    expect(r.verdicts["rim-forecast"].value).toBeCloseTo(20, 9);
+    const far = state(pairWithDecay(0.3), { forecast: { at: T0 + 200 * 60_000, low: T0, high: T0 } });
+    expect(evaluateConditions(newConditionMemory(), far, pol, { baselineTimeConstantS: null }, T0).verdicts["rim-forecast"].active).toBe(false);
+  });
+});
