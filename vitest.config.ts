@@ -9,5 +9,6 @@ export default defineConfig({
     testTimeout: 60_000,
     hookTimeout: 180_000,
     pool: "forks",
+    globalSetup: ["tests/setup/global-db.ts"],
   },
 });

@@ -1,0 +1,115 @@
+/**
+ * History tiers (see migrations/0004-history.ts): `t` is BIGINT epoch milliseconds (UTC);
+ * primary key (loopId, t); tables partitioned by day (lib/db/partitions.ts). For bulk writes use
+ * one multi-row INSERT through `sequelize.query` (bulkCreate costs ~5x the CPU per row).
+ * No tenantId column: rows are reached only through their loop, which the tenancy guard checks.
+ */
+import {
+  DataTypes,
+  Model,
+  type CreationOptional,
+  type InferAttributes,
+  type InferCreationAttributes,
+  type Sequelize,
+} from "sequelize";
+import { TRACKER_STATES, type LoopMode, type TrackerState } from "@/lib/types";
+
+/** Per-second min/mean/max of SP, PV, MV. */
+export class Sample1s extends Model<InferAttributes<Sample1s>, InferCreationAttributes<Sample1s>> {
+  declare loopId: number;
+  /** Epoch ms (UTC), start of the second. */
+  declare t: number;
+  declare spMin: number | null;
+  declare spMean: number | null;
+  declare spMax: number | null;
+  declare pvMin: number | null;
+  declare pvMean: number | null;
+  declare pvMax: number | null;
+  declare mvMin: number | null;
+  declare mvMean: number | null;
+  declare mvMax: number | null;
+  declare mode: LoopMode | null;
+  /** Raw samples aggregated. */
+  declare n: CreationOptional<number>;
+}
+
+/** 1-minute aggregates of SP, PV, MV and the spectral radius. */
+export class Sample1m extends Model<InferAttributes<Sample1m>, InferCreationAttributes<Sample1m>> {
+  declare loopId: number;
+  /** Epoch ms (UTC), start of the minute. */
+  declare t: number;
+  declare spMin: number | null;
+  declare spMean: number | null;
+  declare spMax: number | null;
+  declare pvMin: number | null;
+  declare pvMean: number | null;
+  declare pvMax: number | null;
+  declare mvMin: number | null;
+  declare mvMean: number | null;
+  declare mvMax: number | null;
+  declare radiusMin: number | null;
+  declare radiusMean: number | null;
+  declare radiusMax: number | null;
+  /** Share of the minute in manual, 0..1. */
+  declare manualFraction: number | null;
+  declare n: CreationOptional<number>;
+}
+
+export class PoleSnapshot extends Model<InferAttributes<PoleSnapshot>, InferCreationAttributes<PoleSnapshot>> {
+  declare loopId: number;
+  declare t: number;
+  declare radius: number | null;
+  declare decayRatio: number | null;
+  /** JSON text: { model: PoleDto[], data: PoleDto[] } as written by server/history. */
+  declare poles: string | null;
+  declare trackerState: TrackerState;
+}
+
+const key = {
+  loopId: { type: DataTypes.INTEGER, allowNull: false, primaryKey: true },
+  t: { type: DataTypes.BIGINT, allowNull: false, primaryKey: true },
+};
+const col = () => ({ type: DataTypes.DOUBLE, allowNull: true });
+const mmm = <P extends string>(p: P) =>
+  ({ [`${p}Min`]: col(), [`${p}Mean`]: col(), [`${p}Max`]: col() }) as Record<
+    `${P}Min` | `${P}Mean` | `${P}Max`,
+    ReturnType<typeof col>
+  >;
+
+export function initHistoryModels(sequelize: Sequelize) {
+  const common = { sequelize, underscored: true, timestamps: false } as const;
+  Sample1s.init(
+    {
+      ...key,
+      ...mmm("sp"),
+      ...mmm("pv"),
+      ...mmm("mv"),
+      mode: { type: DataTypes.ENUM("auto", "manual", "cascade"), allowNull: true },
+      n: { type: DataTypes.SMALLINT.UNSIGNED, allowNull: false, defaultValue: 1 },
+    },
+    { ...common, tableName: "samples_1s", modelName: "Sample1s" },
+  );
+  Sample1m.init(
+    {
+      ...key,
+      ...mmm("sp"),
+      ...mmm("pv"),
+      ...mmm("mv"),
+      ...mmm("radius"),
+      manualFraction: { type: DataTypes.DOUBLE, allowNull: true },
+      n: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false, defaultValue: 0 },
+    },
+    { ...common, tableName: "samples_1m", modelName: "Sample1m" },
+  );
+  PoleSnapshot.init(
+    {
+      ...key,
+      radius: { type: DataTypes.DOUBLE, allowNull: true },
+      decayRatio: { type: DataTypes.DOUBLE, allowNull: true },
+      poles: { type: DataTypes.TEXT("long"), allowNull: true },
+      trackerState: { type: DataTypes.ENUM(...TRACKER_STATES), allowNull: false },
+    },
+    { ...common, tableName: "pole_snapshots", modelName: "PoleSnapshot" },
+  );
+  return { Sample1s, Sample1m, PoleSnapshot };
+}

@@ -1,0 +1,260 @@
+/**
+ * A loop is one PID controller and its process, identified by its tag within a site.
+ * Tuning is stored as the site writes it (gain or proportional band; Ti in s, min or
+ * repeats/min; Td in s or min) and converted by the tracker. Controller and estimation
+ * periods are configuration: the estimation period is proposed by the product
+ * (`estimationProposedS`) and changed only by an engineer (logged in config_changes).
+ *
+ * Also here: uploaded step tests, the configuration change log, estimator checkpoints (so a
+ * restart resumes) and the latest tracker state of each loop.
+ */
+import {
+  DataTypes,
+  Model,
+  type CreationOptional,
+  type ForeignKey,
+  type InferAttributes,
+  type InferCreationAttributes,
+  type Sequelize,
+} from "sequelize";
+import { LOOP_KINDS, TRACKER_STATES, type LoopKind, type LoopStateDto, type TrackerState } from "@/lib/types";
+import type { Area, Site, Tenant } from "./tenant";
+
+export type ControllerAction = "direct" | "reverse";
+export type ControllerForm = "ideal" | "parallel" | "series";
+export type GainKind = "gain" | "pb";
+export type TiUnits = "s" | "min" | "repeats-per-min";
+export type TdUnits = "s" | "min";
+
+export class Loop extends Model<InferAttributes<Loop>, InferCreationAttributes<Loop>> {
+  declare id: CreationOptional<number>;
+  declare tenantId: ForeignKey<Tenant["id"]>;
+  declare siteId: ForeignKey<Site["id"]>;
+  declare areaId: ForeignKey<Area["id"]> | null;
+  /** Tag as the plant writes it, e.g. "FIC-101". */
+  declare tag: string;
+  /** MQTT topic segment: tag lower-cased, [a-z0-9-]. Unique per tenant + site. */
+  declare slug: string;
+  declare description: CreationOptional<string>;
+  declare kind: LoopKind;
+  /** PV engineering units and range. */
+  declare units: string;
+  declare pvLo: number;
+  declare pvHi: number;
+  /** MV range and units (usually 0-100 %). */
+  declare mvLo: CreationOptional<number>;
+  declare mvHi: CreationOptional<number>;
+  declare mvUnits: CreationOptional<string>;
+  /** Output clamps inside the MV range (saturation detection); null = the range ends. */
+  declare mvLimitLo: number | null;
+  declare mvLimitHi: number | null;
+  /** Seconds between telemetry samples. */
+  declare telemetryPeriodS: number;
+  /** The controller's execution period, seconds. */
+  declare controllerPeriodS: number;
+  /** reverse: MV falls when PV rises (u = Kc (SP - PV)); direct: the opposite. */
+  declare action: CreationOptional<ControllerAction>;
+  declare form: CreationOptional<ControllerForm>;
+  declare gainKind: CreationOptional<GainKind>;
+  /** Controller gain (%/% of span), or proportional band in % when gainKind = "pb". */
+  declare gainValue: number;
+  /** Integral time (or rate in repeats/min); null = no integral action. */
+  declare tiValue: number | null;
+  declare tiUnits: CreationOptional<TiUnits>;
+  declare tdValue: CreationOptional<number>;
+  declare tdUnits: CreationOptional<TdUnits>;
+  /** Derivative filter: time constant in seconds, or alpha (Tf = alpha * Td); at most one is set. */
+  declare tfS: number | null;
+  declare derivativeAlpha: number | null;
+  declare cascadeMasterLoopId: number | null;
+  /** ARX structure: A order, number of B coefficients, delay in estimation periods (>= 1). */
+  declare na: CreationOptional<number>;
+  declare nb: CreationOptional<number>;
+  declare nk: CreationOptional<number>;
+  declare estimationPeriodS: number;
+  declare estimationProposedS: number | null;
+  /** Dominant closed-loop time constant when commissioned (for the sluggish-loop check). */
+  declare baselineTimeConstantS: number | null;
+  declare enabled: CreationOptional<boolean>;
+  declare createdAt: CreationOptional<Date>;
+  declare updatedAt: CreationOptional<Date>;
+}
+
+export class StepTest extends Model<InferAttributes<StepTest>, InferCreationAttributes<StepTest>> {
+  declare id: CreationOptional<number>;
+  declare tenantId: ForeignKey<Tenant["id"]>;
+  declare loopId: ForeignKey<Loop["id"]>;
+  declare uploadedBy: number | null;
+  /** Key of the uploaded CSV in the object store. */
+  declare objectKey: string;
+  declare filename: string;
+  /** Sample period T of the uploaded data, seconds. */
+  declare periodS: number;
+  declare rowCount: number;
+  /** Identification result (fitArx output, poles, fit %), null while pending. */
+  declare result: unknown;
+  declare createdAt: CreationOptional<Date>;
+}
+
+export class ConfigChange extends Model<InferAttributes<ConfigChange>, InferCreationAttributes<ConfigChange>> {
+  declare id: CreationOptional<number>;
+  declare tenantId: ForeignKey<Tenant["id"]>;
+  declare userId: number | null;
+  /** "loop", "alarm_policy", "notification_rule", "device_credential", "membership", ... */
+  declare entity: string;
+  declare entityId: number;
+  /** { field: { from, to } } */
+  declare diff: Record<string, { from: unknown; to: unknown }>;
+  declare reason: string | null;
+  /** The site's management-of-change reference, when the change concerns a live loop. */
+  declare mocReference: string | null;
+  declare at: CreationOptional<Date>;
+}
+
+export class EstimatorCheckpoint extends Model<
+  InferAttributes<EstimatorCheckpoint>,
+  InferCreationAttributes<EstimatorCheckpoint>
+> {
+  declare loopId: number;
+  declare tenantId: ForeignKey<Tenant["id"]>;
+  /** Serialised estimator state (JSON text, owned by server/tracking). */
+  declare state: string;
+  declare version: CreationOptional<number>;
+  declare updatedAt: CreationOptional<Date>;
+}
+
+export class LoopState extends Model<InferAttributes<LoopState>, InferCreationAttributes<LoopState>> {
+  declare loopId: number;
+  declare tenantId: ForeignKey<Tenant["id"]>;
+  declare trackerState: TrackerState;
+  declare latest: LoopStateDto;
+  /** Epoch ms of `latest`. */
+  declare at: number;
+}
+
+const num = (allowNull = false, defaultValue?: number) => ({
+  type: DataTypes.DOUBLE,
+  allowNull,
+  ...(defaultValue === undefined ? {} : { defaultValue }),
+});
+const positive = { ...num(), validate: { min: 1e-6 } };
+
+export function initLoopModels(sequelize: Sequelize) {
+  Loop.init(
+    {
+      id: { type: DataTypes.INTEGER, autoIncrement: true, primaryKey: true },
+      tenantId: { type: DataTypes.INTEGER, allowNull: false },
+      siteId: { type: DataTypes.INTEGER, allowNull: false },
+      areaId: { type: DataTypes.INTEGER, allowNull: true },
+      tag: { type: DataTypes.STRING(64), allowNull: false },
+      slug: { type: DataTypes.STRING(64), allowNull: false, validate: { is: /^[a-z0-9-]+$/ } },
+      description: { type: DataTypes.STRING(500), allowNull: false, defaultValue: "" },
+      kind: { type: DataTypes.ENUM(...LOOP_KINDS), allowNull: false },
+      units: { type: DataTypes.STRING(32), allowNull: false },
+      pvLo: num(),
+      pvHi: num(),
+      mvLo: num(false, 0),
+      mvHi: num(false, 100),
+      mvUnits: { type: DataTypes.STRING(32), allowNull: false, defaultValue: "%" },
+      mvLimitLo: num(true),
+      mvLimitHi: num(true),
+      telemetryPeriodS: positive,
+      controllerPeriodS: positive,
+      action: { type: DataTypes.ENUM("direct", "reverse"), allowNull: false, defaultValue: "reverse" },
+      form: { type: DataTypes.ENUM("ideal", "parallel", "series"), allowNull: false, defaultValue: "ideal" },
+      gainKind: { type: DataTypes.ENUM("gain", "pb"), allowNull: false, defaultValue: "gain" },
+      gainValue: num(),
+      tiValue: num(true),
+      tiUnits: { type: DataTypes.ENUM("s", "min", "repeats-per-min"), allowNull: false, defaultValue: "s" },
+      tdValue: num(false, 0),
+      tdUnits: { type: DataTypes.ENUM("s", "min"), allowNull: false, defaultValue: "s" },
+      tfS: num(true),
+      derivativeAlpha: num(true),
+      cascadeMasterLoopId: { type: DataTypes.INTEGER, allowNull: true },
+      na: { type: DataTypes.TINYINT.UNSIGNED, allowNull: false, defaultValue: 2, validate: { min: 1, max: 10 } },
+      nb: { type: DataTypes.TINYINT.UNSIGNED, allowNull: false, defaultValue: 2, validate: { min: 1, max: 10 } },
+      nk: { type: DataTypes.SMALLINT.UNSIGNED, allowNull: false, defaultValue: 1, validate: { min: 1, max: 500 } },
+      estimationPeriodS: positive,
+      estimationProposedS: num(true),
+      baselineTimeConstantS: num(true),
+      enabled: { type: DataTypes.BOOLEAN, allowNull: false, defaultValue: true },
+      createdAt: DataTypes.DATE(3),
+      updatedAt: DataTypes.DATE(3),
+    },
+    {
+      sequelize,
+      tableName: "loops",
+      modelName: "Loop",
+      underscored: true,
+      validate: {
+        rangeOrdered(this: Loop) {
+          if (!(this.pvHi > this.pvLo)) throw new Error("pvHi must be greater than pvLo.");
+          if (this.mvHi !== undefined && this.mvLo !== undefined && !(this.mvHi > this.mvLo)) {
+            throw new Error("mvHi must be greater than mvLo.");
+          }
+        },
+        oneDerivativeFilter(this: Loop) {
+          if (this.tfS != null && this.derivativeAlpha != null) {
+            throw new Error("Set either tfS or derivativeAlpha, not both.");
+          }
+        },
+      },
+    },
+  );
+  StepTest.init(
+    {
+      id: { type: DataTypes.INTEGER, autoIncrement: true, primaryKey: true },
+      tenantId: { type: DataTypes.INTEGER, allowNull: false },
+      loopId: { type: DataTypes.INTEGER, allowNull: false },
+      uploadedBy: { type: DataTypes.INTEGER, allowNull: true },
+      objectKey: { type: DataTypes.STRING(512), allowNull: false },
+      filename: { type: DataTypes.STRING(255), allowNull: false },
+      periodS: positive,
+      rowCount: { type: DataTypes.INTEGER, allowNull: false },
+      result: { type: DataTypes.JSON, allowNull: true },
+      createdAt: DataTypes.DATE(3),
+    },
+    { sequelize, tableName: "step_tests", modelName: "StepTest", underscored: true, updatedAt: false },
+  );
+  ConfigChange.init(
+    {
+      id: { type: DataTypes.BIGINT, autoIncrement: true, primaryKey: true },
+      tenantId: { type: DataTypes.INTEGER, allowNull: false },
+      userId: { type: DataTypes.INTEGER, allowNull: true },
+      entity: { type: DataTypes.STRING(40), allowNull: false },
+      entityId: { type: DataTypes.INTEGER, allowNull: false },
+      diff: { type: DataTypes.JSON, allowNull: false },
+      reason: { type: DataTypes.TEXT, allowNull: true },
+      mocReference: { type: DataTypes.STRING(100), allowNull: true },
+      at: { type: DataTypes.DATE(3), allowNull: false, defaultValue: DataTypes.NOW },
+    },
+    { sequelize, tableName: "config_changes", modelName: "ConfigChange", underscored: true, timestamps: false },
+  );
+  EstimatorCheckpoint.init(
+    {
+      loopId: { type: DataTypes.INTEGER, primaryKey: true },
+      tenantId: { type: DataTypes.INTEGER, allowNull: false },
+      state: { type: DataTypes.TEXT("long"), allowNull: false },
+      version: { type: DataTypes.INTEGER, allowNull: false, defaultValue: 1 },
+      updatedAt: DataTypes.DATE(3),
+    },
+    {
+      sequelize,
+      tableName: "estimator_checkpoints",
+      modelName: "EstimatorCheckpoint",
+      underscored: true,
+      createdAt: false,
+    },
+  );
+  LoopState.init(
+    {
+      loopId: { type: DataTypes.INTEGER, primaryKey: true },
+      tenantId: { type: DataTypes.INTEGER, allowNull: false },
+      trackerState: { type: DataTypes.ENUM(...TRACKER_STATES), allowNull: false, defaultValue: "learning" },
+      latest: { type: DataTypes.JSON, allowNull: false },
+      at: { type: DataTypes.BIGINT, allowNull: false },
+    },
+    { sequelize, tableName: "loop_states", modelName: "LoopState", underscored: true, timestamps: false },
+  );
+  return { Loop, StepTest, ConfigChange, EstimatorCheckpoint, LoopState };
+}
