@@ -145,3 +145,48 @@ export function useNow(ms = 1000): number {
   }, [ms]);
   return now;
 }
+
+/**
+ * One loop, live: `GET /api/loops/[loopId]` merged with the tenant's `loop:state` batches.
+ * Keeps the last `trailLength` model-pole sets for the z-plane trail.
+ */
+export function useLoop(loopId: number, trailLength = 24) {
+  const { data, error, isLoading, mutate } = useSWR(`/api/loops/${loopId}`, (u: string) => fetchJson<unknown>(u));
+  const base = useMemo(() => {
+    if (!data || typeof data !== "object") return null;
+    const d = data as Record<string, unknown>;
+    return ((d.loop && typeof d.loop === "object" ? d.loop : d) as LoopSummary & Record<string, unknown>) ?? null;
+  }, [data]);
+  const [live, setLive] = useState<LoopSummary["state"]>(null);
+  const trail = useRef<{ re: number; im: number }[][]>([]);
+  const [, bump] = useState(0);
+  useEffect(() => {
+    setLive(null);
+    trail.current = [];
+  }, [loopId]);
+  useEffect(() => {
+    const s = getSocket();
+    let pending: LoopSummary["state"] = null;
+    let raf = 0;
+    const on = (batch: NonNullable<LoopSummary["state"]>[]) => {
+      for (const st of batch) if (st.loopId === loopId) pending = st;
+      if (pending && !raf)
+        raf = requestAnimationFrame(() => {
+          raf = 0;
+          const st = pending;
+          pending = null;
+          if (!st) return;
+          trail.current = [...trail.current, st.modelPoles.map((p) => ({ re: p.re, im: p.im }))].slice(-trailLength);
+          setLive(st);
+          bump((x) => x + 1);
+        });
+    };
+    s.on("loop:state", on);
+    return () => {
+      s.off("loop:state", on);
+      if (raf) cancelAnimationFrame(raf);
+    };
+  }, [loopId, trailLength]);
+  const state = live && (!base?.state || live.at >= base.state.at) ? live : (base?.state ?? null);
+  return { loop: base, state, trail: trail.current, error: error as Error | undefined, isLoading, mutate: () => void mutate() };
+}
