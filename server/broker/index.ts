@@ -83,6 +83,8 @@ async function startEmbedded(ctx: ServerContext, opts: BrokerOptions): Promise<B
   const perIp = new RateLimiterMemory({ points: opts.perIp?.points ?? 30, duration: opts.perIp?.durationS ?? 10 });
   const perKey = new RateLimiterMemory({ points: opts.perKey?.points ?? 20, duration: opts.perKey?.durationS ?? 60 });
   const identities = new WeakMap<Client, { device: DeviceIdentity; cred: DeviceCredential }>();
+  /** Authenticated clients, for the revocation sweep. */
+  const clients = new Set<Client>();
   const handlers = new Set<{ pattern: string; fn: BrokerMessageHandler }>();
   const refusals = { connect: 0, rateLimited: 0, tooLarge: 0, publish: 0, subscribe: 0 };
   const now = () => ctx.clock.now();
@@ -130,6 +132,7 @@ async function startEmbedded(ctx: ServerContext, opts: BrokerOptions): Promise<B
             return refuse(`client id not bound to credential ${cred.keyId}`, IDENTIFIER_REJECTED);
           }
           identities.set(client, { device: deviceOf(cred), cred });
+          clients.add(client);
           done(null, true);
         },
         () => {
@@ -221,11 +224,13 @@ async function startEmbedded(ctx: ServerContext, opts: BrokerOptions): Promise<B
   const sweep = ctx.clock.setInterval(() => {
     void sweepRevoked();
   }, opts.revocationSweepMs ?? 5_000);
-  const clients = new Set<Client>();
-  broker.on("clientReady", (c) => clients.add(c));
   broker.on("clientDisconnect", (c) => clients.delete(c));
   async function sweepRevoked(): Promise<void> {
     for (const c of [...clients]) {
+      if (c.closed) {
+        clients.delete(c);
+        continue;
+      }
       const id = identities.get(c);
       if (!id) continue;
       try {

@@ -1,0 +1,46 @@
+/** Device credentials from MariaDB (device_credentials joined to its tenant and site). */
+import { QueryTypes, type Sequelize } from "sequelize";
+import type { CredentialLookup, DeviceCredential } from "./credentials";
+
+interface Row {
+  keyId: string;
+  clientId: string;
+  secretHash: string;
+  revokedAt: Date | string | null;
+  tenantId: number;
+  tenantSlug: string;
+  siteId: number | null;
+  siteSlug: string | null;
+}
+
+export function dbCredentials(sequelize: Sequelize): CredentialLookup {
+  return {
+    async find(keyId: string): Promise<DeviceCredential | null> {
+      if (keyId.length === 0 || keyId.length > 64) return null;
+      const rows = await sequelize.query<Row>(
+        `SELECT d.key_id AS keyId, d.client_id AS clientId, d.secret_hash AS secretHash, d.revoked_at AS revokedAt,
+                d.tenant_id AS tenantId, t.slug AS tenantSlug, d.site_id AS siteId, s.slug AS siteSlug
+           FROM device_credentials d
+           JOIN tenants t ON t.id = d.tenant_id
+           LEFT JOIN sites s ON s.id = d.site_id AND s.tenant_id = d.tenant_id
+          WHERE d.key_id = ?
+          LIMIT 1`,
+        { replacements: [keyId], type: QueryTypes.SELECT },
+      );
+      const r = rows[0];
+      if (!r) return null;
+      // A site id that does not resolve to a site of the same tenant must not widen the credential.
+      const siteBroken = r.siteId !== null && r.siteSlug === null;
+      return {
+        keyId: r.keyId,
+        clientId: r.clientId,
+        secretHash: /^[0-9a-f]{64}$/i.test(r.secretHash) ? Buffer.from(r.secretHash, "hex") : Buffer.alloc(0),
+        revoked: r.revokedAt !== null || siteBroken,
+        tenantId: Number(r.tenantId),
+        tenantSlug: r.tenantSlug,
+        siteId: r.siteId === null ? null : Number(r.siteId),
+        siteSlug: r.siteSlug,
+      };
+    },
+  };
+}
