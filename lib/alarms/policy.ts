@@ -205,3 +205,32 @@ export function policyEquivalents(policy: EffectivePolicy, T: number, oscPeriodS
   }
   return out;
 }
+
+/**
+ * Read stored settings written in the flat form (`decayRatioWarn`, `decayRatioAlarm`,
+ * `minDamping` as one number, `radiusWarn`/`radiusAlarm`, `deadband` as one number on the decay
+ * ratio, `forecastHorizonH`) as well as the nested form this module writes. A single damping
+ * level is taken as the low level, with the high level at half of it (our convention).
+ */
+export function normalizeStoredSettings(raw: unknown): Record<string, unknown> {
+  if (typeof raw === "string") raw = JSON.parse(raw) as unknown;
+  if (!raw || typeof raw !== "object" || Array.isArray(raw)) return {};
+  const src = { ...(raw as Record<string, unknown>) };
+  const out: Record<string, unknown> = {};
+  const num = (v: unknown) => (typeof v === "number" && Number.isFinite(v) ? v : undefined);
+  const warn = num(src.decayRatioWarn);
+  const alarm = num(src.decayRatioAlarm);
+  if (warn !== undefined || alarm !== undefined)
+    out.decayRatio = { low: warn ?? DEFAULT_POLICY.decayRatio.low, high: alarm ?? DEFAULT_POLICY.decayRatio.high };
+  if (typeof src.minDamping === "number") out.minDamping = { low: src.minDamping, high: src.minDamping / 2 };
+  const rw = num(src.radiusWarn);
+  const ra = num(src.radiusAlarm);
+  if (rw !== undefined && ra !== undefined) out.radius = { low: rw, high: ra };
+  if (typeof src.deadband === "number") out.deadband = { decayRatio: src.deadband };
+  const fh = num(src.forecastHorizonH);
+  if (fh !== undefined) out.forecastHorizonMinutes = fh * 60;
+  for (const k of ["decayRatioWarn", "decayRatioAlarm", "radiusWarn", "radiusAlarm", "forecastHorizonH", "priorities"]) delete src[k];
+  if (typeof src.minDamping === "number") delete src.minDamping;
+  if (typeof src.deadband === "number") delete src.deadband;
+  return { ...src, ...out };
+}

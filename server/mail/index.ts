@@ -1,0 +1,153 @@
+/**
+ * E-mail: nodemailer over SMTP. With no SMTP_URL configured, an SMTP sink (npm `smtp-server`)
+ * runs in-process on loopback and keeps every message it receives in memory, for the admin outbox
+ * page of the demo and for assertions in tests. With SMTP_URL set, messages go to that server and
+ * the outbox only lists what this process sent.
+ */
+import type { AddressInfo } from "node:net";
+import nodemailer from "nodemailer";
+import { SMTPServer } from "smtp-server";
+import type { ServerContext, Service } from "@/server/context";
+import { parseRawMessage } from "./parse";
+
+export interface OutboxMessage {
+  id: number;
+  messageId: string | null;
+  from: string;
+  to: string[];
+  subject: string;
+  text: string;
+  headers: Record<string, string>;
+  /** Epoch ms. */
+  receivedAt: number;
+}
+
+export interface MailMessage {
+  to: string[];
+  subject: string;
+  text: string;
+  headers?: Record<string, string>;
+}
+
+export interface MailService extends Service {
+  send(msg: MailMessage): Promise<{ messageId: string }>;
+  /** Messages received by the sink (newest last); empty when a real SMTP server is used. */
+  outbox(): OutboxMessage[];
+  clearOutbox(): void;
+  /** Resolves when the sink holds at least `n` messages (tests); rejects after `timeoutMs`. */
+  waitForMessages(n: number, timeoutMs?: number): Promise<OutboxMessage[]>;
+  readonly sinkPort: number | null;
+}
+
+const OUTBOX_LIMIT = 1000;
+
+export interface StartMailOptions {
+  /** Override config SMTP_SINK_PORT (0 = any free port, tests). */
+  sinkPort?: number;
+  smtpUrl?: string;
+}
+
+export async function startMail(ctx: ServerContext, opts: StartMailOptions = {}): Promise<MailService> {
+  const smtpUrl = opts.smtpUrl ?? ctx.config.SMTP_URL;
+  const from = ctx.config.MAIL_FROM;
+  const box: OutboxMessage[] = [];
+  const waiters: { n: number; resolve: (m: OutboxMessage[]) => void }[] = [];
+  let nextId = 1;
+  let sent = 0;
+  let failed = 0;
+  let lastError: string | null = null;
+  let sink: SMTPServer | null = null;
+  let sinkPort: number | null = null;
+
+  if (!smtpUrl) {
+    sink = new SMTPServer({
+      authOptional: true,
+      disabledCommands: ["STARTTLS", "AUTH"],
+      logger: false,
+      size: 1024 * 1024,
+      onData(stream, session, callback) {
+        const chunks: Buffer[] = [];
+        stream.on("data", (c: Buffer) => chunks.push(c));
+        stream.on("end", () => {
+          const parsed = parseRawMessage(Buffer.concat(chunks).toString("utf8"));
+          box.push({
+            id: nextId++,
+            messageId: parsed.headers["message-id"] ?? null,
+            from: session.envelope.mailFrom ? session.envelope.mailFrom.address : "",
+            to: session.envelope.rcptTo.map((r) => r.address),
+            subject: parsed.headers["subject"] ?? "",
+            text: parsed.text,
+            headers: parsed.headers,
+            receivedAt: ctx.clock.now(),
+          });
+          if (box.length > OUTBOX_LIMIT) box.splice(0, box.length - OUTBOX_LIMIT);
+          for (const w of [...waiters]) {
+            if (box.length >= w.n) {
+              waiters.splice(waiters.indexOf(w), 1);
+              w.resolve([...box]);
+            }
+          }
+          callback();
+        });
+      },
+    });
+    const port = opts.sinkPort ?? ctx.config.SMTP_SINK_PORT;
+    await new Promise<void>((resolve, reject) => {
+      sink!.once("error", reject);
+      sink!.listen(port, "127.0.0.1", () => resolve());
+    });
+    sink.on("error", (err) => console.error("[mail] SMTP sink error", err));
+    sinkPort = ((sink as unknown as { server: { address(): AddressInfo } }).server.address() as AddressInfo).port;
+  }
+
+  const transport = nodemailer.createTransport(
+    smtpUrl ?? { host: "127.0.0.1", port: sinkPort ?? 0, secure: false, ignoreTLS: true, tls: { rejectUnauthorized: false } },
+  );
+
+  const service: MailService = {
+    name: "mail",
+    sinkPort,
+    async send(msg) {
+      try {
+        const info = await transport.sendMail({ from, to: msg.to, subject: msg.subject, text: msg.text, headers: msg.headers });
+        sent++;
+        lastError = null;
+        return { messageId: info.messageId };
+      } catch (err) {
+        failed++;
+        lastError = err instanceof Error ? err.message : String(err);
+        throw err;
+      }
+    },
+    outbox: () => [...box],
+    clearOutbox: () => void box.splice(0, box.length),
+    waitForMessages(n, timeoutMs = 10_000) {
+      if (box.length >= n) return Promise.resolve([...box]);
+      return new Promise((resolve, reject) => {
+        const w = { n, resolve };
+        waiters.push(w);
+        setTimeout(() => {
+          const i = waiters.indexOf(w);
+          if (i >= 0) {
+            waiters.splice(i, 1);
+            reject(new Error(`mail sink: expected ${n} message(s), have ${box.length} after ${timeoutMs} ms`));
+          }
+        }, timeoutMs).unref?.();
+      });
+    },
+    health: () => ({
+      status: lastError ? "degraded" : "ok",
+      detail: { mode: smtpUrl ? "smtp" : "sink", sinkPort, sent, failed, held: box.length, lastError },
+    }),
+    async stop() {
+      transport.close();
+      if (sink) await new Promise<void>((resolve) => sink!.close(() => resolve()));
+    },
+  };
+  return service;
+}
+
+/** The running mail service of a server context, if any. */
+export function mailOf(ctx: ServerContext): MailService | null {
+  return (ctx.services.get("mail") as MailService | undefined) ?? null;
+}
