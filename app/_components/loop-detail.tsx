@@ -186,7 +186,7 @@ export function LoopDetail({ loopId, role }: { loopId: number; role: Role }) {
           <TrendChart
             data={radiusData}
             series={[
-              { label: "spectral radius", stroke: "var(--rg-ink)", width: 1.4, scale: "r", points: radiusData[1].length > 0 && radiusData[1].length < 3 },
+              { label: "spectral radius", stroke: "var(--rg-ink)", width: 1.4, scale: "r", points: (radiusData[1]?.length ?? 0) > 0 && (radiusData[1]?.length ?? 0) < 3 },
               { label: "rim forecast", stroke: "var(--rg-high)", width: 1.4, dash: [2, 4], scale: "r" },
             ]}
             scales={{ r: [rMin, 1.02] }}

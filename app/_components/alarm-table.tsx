@@ -1,0 +1,217 @@
+"use client";
+/**
+ * Alarms as a table (TanStack Table): sorting, filters, paging; active or historical view;
+ * operator actions per row for roles that may use them.
+ */
+import {
+  createColumnHelper,
+  flexRender,
+  getCoreRowModel,
+  getFilteredRowModel,
+  getPaginationRowModel,
+  getSortedRowModel,
+  useReactTable,
+  type SortingState,
+} from "@tanstack/react-table";
+import Link from "next/link";
+import { Fragment, useMemo, useState } from "react";
+import type { AlarmDto, Role } from "@/lib/types";
+import { ALARM_PRIORITIES, ALARM_STATES, roleAtLeast } from "@/lib/types";
+import { query } from "@/lib/client/fetcher";
+import { ALARM_STATE_WORDS, CONDITION_WORDS, fmt, fmtTime } from "@/lib/client/format";
+import { useAlarms } from "@/lib/client/hooks";
+import { ATTENTION_STATES } from "@/lib/client/order";
+import { AlarmActions } from "./alarm-actions";
+import { AlarmEvents } from "./loop-alarms";
+import { PriorityMark } from "./priority-mark";
+
+const col = createColumnHelper<AlarmDto>();
+const PRIORITY_ORDER = { urgent: 0, high: 1, low: 2 } as const;
+
+export function AlarmTable({ role }: { role: Role }) {
+  const [view, setView] = useState<"active" | "history">("active");
+  const [priority, setPriority] = useState("");
+  const [state, setState] = useState("");
+  const [tag, setTag] = useState("");
+  const [from, setFrom] = useState("");
+  const [to, setTo] = useState("");
+  const [open, setOpen] = useState<number | null>(null);
+  const qs = query({
+    priority,
+    state,
+    from: view === "history" && from ? new Date(from).toISOString() : undefined,
+    to: view === "history" && to ? new Date(to).toISOString() : undefined,
+  });
+  const { alarms, error, isLoading, mutate } = useAlarms(qs);
+  const rows = useMemo(() => {
+    const f = tag.trim().toLowerCase();
+    return alarms.filter((a) => (view === "active" ? a.state !== "normal" : true) && (!f || a.loopTag.toLowerCase().includes(f) || a.message.toLowerCase().includes(f)));
+  }, [alarms, view, tag]);
+  const mayAct = roleAtLeast(role, "operator");
+  const [sorting, setSorting] = useState<SortingState>([{ id: "priority", desc: false }]);
+  const columns = useMemo(
+    () => [
+      col.accessor("priority", {
+        header: "Priority",
+        sortingFn: (a, b) => PRIORITY_ORDER[a.original.priority] - PRIORITY_ORDER[b.original.priority],
+        cell: (c) => <PriorityMark priority={c.row.original.priority} size={18} />,
+      }),
+      col.accessor("state", {
+        header: "State",
+        cell: (c) =>
+          c.row.original.state === "shelved" && c.row.original.shelvedUntil
+            ? `shelved until ${fmtTime(c.row.original.shelvedUntil)}`
+            : (ALARM_STATE_WORDS[c.getValue()] ?? c.getValue()),
+      }),
+      col.accessor("loopTag", {
+        header: "Loop",
+        cell: (c) => (
+          <Link href={`/loops/${c.row.original.loopId}`} className="font-mono font-semibold hover:underline">
+            {c.getValue()}
+          </Link>
+        ),
+      }),
+      col.accessor("condition", { header: "Condition", cell: (c) => CONDITION_WORDS[c.getValue()] ?? c.getValue() }),
+      col.accessor("message", { header: "Message", enableSorting: false }),
+      col.accessor("value", { header: "Value / level", cell: (c) => <span className="num font-mono">{fmt(c.getValue())} / {fmt(c.row.original.level)}</span> }),
+      col.accessor("activatedAt", { header: "Activated", cell: (c) => <span className="num">{fmtTime(c.getValue())}</span> }),
+      col.accessor("changedAt", { header: "Changed", cell: (c) => <span className="num">{fmtTime(c.getValue())}</span> }),
+      col.display({
+        id: "actions",
+        header: "Actions",
+        cell: (c) => (
+          <span className="flex flex-wrap items-center gap-1">
+            {mayAct && <AlarmActions alarm={c.row.original} onDone={mutate} compact />}
+            <button type="button" className="text-xs text-accent hover:underline" aria-expanded={open === c.row.original.id} onClick={() => setOpen(open === c.row.original.id ? null : c.row.original.id)}>
+              events
+            </button>
+          </span>
+        ),
+      }),
+    ],
+    [mayAct, mutate, open],
+  );
+  const table = useReactTable({
+    data: rows,
+    columns,
+    state: { sorting },
+    onSortingChange: setSorting,
+    getCoreRowModel: getCoreRowModel(),
+    getSortedRowModel: getSortedRowModel(),
+    getFilteredRowModel: getFilteredRowModel(),
+    getPaginationRowModel: getPaginationRowModel(),
+    initialState: { pagination: { pageSize: 25 } },
+  });
+  const needing = alarms.filter((a) => ATTENTION_STATES.has(a.state)).length;
+  const sel = "rounded border border-line bg-surface px-2 py-1 text-sm";
+  return (
+    <div className="flex flex-col gap-3">
+      <div className="flex flex-wrap items-end gap-3">
+        <div role="tablist" aria-label="Alarm view" className="flex gap-1">
+          {(["active", "history"] as const).map((v) => (
+            <button key={v} role="tab" aria-selected={view === v} type="button" onClick={() => setView(v)} className={`rounded border px-3 py-1 text-sm ${view === v ? "border-accent bg-raised" : "border-line"}`}>
+              {v === "active" ? `Active (${needing} need attention)` : "History"}
+            </button>
+          ))}
+        </div>
+        <label className="flex flex-col text-xs text-muted">
+          Priority
+          <select value={priority} onChange={(e) => setPriority(e.target.value)} className={sel}>
+            <option value="">all</option>
+            {ALARM_PRIORITIES.map((p) => (
+              <option key={p}>{p}</option>
+            ))}
+          </select>
+        </label>
+        <label className="flex flex-col text-xs text-muted">
+          State
+          <select value={state} onChange={(e) => setState(e.target.value)} className={sel}>
+            <option value="">all</option>
+            {ALARM_STATES.map((s) => (
+              <option key={s} value={s}>
+                {ALARM_STATE_WORDS[s]}
+              </option>
+            ))}
+          </select>
+        </label>
+        <label className="flex flex-col text-xs text-muted">
+          Loop or text
+          <input value={tag} onChange={(e) => setTag(e.target.value)} className={sel} placeholder="e.g. FIC" />
+        </label>
+        {view === "history" && (
+          <>
+            <label className="flex flex-col text-xs text-muted">
+              From
+              <input type="datetime-local" value={from} onChange={(e) => setFrom(e.target.value)} className={sel} />
+            </label>
+            <label className="flex flex-col text-xs text-muted">
+              To
+              <input type="datetime-local" value={to} onChange={(e) => setTo(e.target.value)} className={sel} />
+            </label>
+          </>
+        )}
+      </div>
+      {error && <p role="alert" className="text-urgent">Could not load alarms: {error.message}</p>}
+      <div className="overflow-x-auto rounded-md border border-line bg-surface">
+        <table className="w-full text-sm" data-testid="alarm-table">
+          <thead>
+            {table.getHeaderGroups().map((hg) => (
+              <tr key={hg.id} className="border-b border-line text-left">
+                {hg.headers.map((h) => (
+                  <th key={h.id} className="px-2 py-1.5 font-semibold" aria-sort={h.column.getIsSorted() === "asc" ? "ascending" : h.column.getIsSorted() === "desc" ? "descending" : undefined}>
+                    {h.column.getCanSort() ? (
+                      <button type="button" onClick={h.column.getToggleSortingHandler()} className="hover:underline">
+                        {flexRender(h.column.columnDef.header, h.getContext())}
+                        {h.column.getIsSorted() === "asc" ? " ▲" : h.column.getIsSorted() === "desc" ? " ▼" : ""}
+                      </button>
+                    ) : (
+                      flexRender(h.column.columnDef.header, h.getContext())
+                    )}
+                  </th>
+                ))}
+              </tr>
+            ))}
+          </thead>
+          <tbody>
+            {table.getRowModel().rows.map((r) => (
+              <Fragment key={r.id}>
+                <tr className={`border-b border-line/60 ${r.original.state === "out-of-service" || r.original.state === "suppressed-by-design" ? "hatch-suppressed" : ""}`} data-testid="alarm-table-row">
+                  {r.getVisibleCells().map((c) => (
+                    <td key={c.id} className="px-2 py-1 align-middle">
+                      {flexRender(c.column.columnDef.cell, c.getContext())}
+                    </td>
+                  ))}
+                </tr>
+                {open === r.original.id && (
+                  <tr>
+                    <td colSpan={columns.length} className="px-4 pb-2">
+                      <AlarmEvents alarmId={r.original.id} />
+                    </td>
+                  </tr>
+                )}
+              </Fragment>
+            ))}
+            {rows.length === 0 && (
+              <tr>
+                <td colSpan={columns.length} className="px-2 py-3 text-muted">
+                  {isLoading ? "Loading…" : view === "active" ? "No active alarms." : "No alarms in this period."}
+                </td>
+              </tr>
+            )}
+          </tbody>
+        </table>
+      </div>
+      <div className="flex items-center gap-2 text-sm">
+        <button type="button" className="rounded border border-line px-2 py-0.5 disabled:opacity-50" onClick={() => table.previousPage()} disabled={!table.getCanPreviousPage()}>
+          Previous
+        </button>
+        <span className="num">
+          page {table.getState().pagination.pageIndex + 1} of {Math.max(1, table.getPageCount())} · {rows.length} alarms
+        </span>
+        <button type="button" className="rounded border border-line px-2 py-0.5 disabled:opacity-50" onClick={() => table.nextPage()} disabled={!table.getCanNextPage()}>
+          Next
+        </button>
+      </div>
+    </div>
+  );
+}
