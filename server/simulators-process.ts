@@ -1,0 +1,93 @@
+/**
+ * The simulators as a child process of the server (`npm start` unless SIMULATORS=false): one
+ * `node --import tsx simulators/index.ts`, given the server's broker address and simulator
+ * settings through its environment, its output prefixed into the server's log, and stopped
+ * (SIGTERM, then SIGKILL after a grace period) when the server stops.
+ */
+import { spawn, type ChildProcess } from "node:child_process";
+import path from "node:path";
+import type { ServerContext, Service, ServiceHealth } from "./context";
+
+export interface SimulatorsService extends Service {
+  readonly pid: number | null;
+}
+
+export interface StartSimulatorsOptions {
+  /** Extra command-line flags for simulators/index.ts (e.g. ["--duration", "60"]). */
+  args?: string[];
+  /** Extra environment for the child. */
+  env?: NodeJS.ProcessEnv;
+  /** Repository root (default: the parent of this file's folder). */
+  root?: string;
+  /** Grace period before SIGKILL on stop, ms. */
+  killAfterMs?: number;
+}
+
+export async function startSimulators(ctx: ServerContext, options: StartSimulatorsOptions = {}): Promise<SimulatorsService> {
+  const root = options.root ?? path.resolve(import.meta.dirname, "..");
+  const cfg = ctx.config;
+  const env: NodeJS.ProcessEnv = {
+    ...process.env,
+    SIM_SPEEDUP: String(cfg.SIM_SPEEDUP),
+    SIM_SEED: String(cfg.SIM_SEED),
+    MQTT_HOST: cfg.MQTT_HOST,
+    MQTT_PORT: String(cfg.MQTT_PORT),
+    ...(cfg.MQTT_URL ? { MQTT_URL: cfg.MQTT_URL } : {}),
+    ...options.env,
+  };
+  const child: ChildProcess = spawn(process.execPath, ["--import", "tsx", path.join(root, "simulators", "index.ts"), ...(options.args ?? [])], {
+    cwd: root,
+    env,
+    stdio: ["ignore", "pipe", "pipe"],
+  });
+  let exited: { code: number | null; signal: NodeJS.Signals | null } | null = null;
+  let lastLine = "";
+  const exitPromise = new Promise<void>((resolve) => {
+    child.once("exit", (code, signal) => {
+      exited = { code, signal };
+      resolve();
+    });
+  });
+  const pipe = (stream: NodeJS.ReadableStream | null, out: NodeJS.WriteStream) => {
+    stream?.setEncoding("utf8");
+    let buf = "";
+    stream?.on("data", (chunk: string) => {
+      buf += chunk;
+      let i: number;
+      while ((i = buf.indexOf("\n")) >= 0) {
+        const line = buf.slice(0, i);
+        buf = buf.slice(i + 1);
+        lastLine = line;
+        out.write(line.startsWith("[simulators]") ? `${line}\n` : `[simulators] ${line}\n`);
+      }
+    });
+  };
+  pipe(child.stdout, process.stdout);
+  pipe(child.stderr, process.stderr);
+  await new Promise<void>((resolve, reject) => {
+    child.once("spawn", () => resolve());
+    child.once("error", (e) => reject(new Error(`could not start the simulators: ${e.message}`)));
+  });
+
+  return {
+    name: "simulators",
+    get pid() {
+      return child.pid ?? null;
+    },
+    health(): ServiceHealth {
+      if (!exited) return { status: "ok", detail: { pid: child.pid } };
+      const ex = exited as { code: number | null; signal: NodeJS.Signals | null };
+      return { status: "degraded", detail: { exitCode: ex.code, signal: ex.signal, lastLine } };
+    },
+    async stop() {
+      if (exited) return;
+      child.kill("SIGTERM");
+      const grace = options.killAfterMs ?? 5_000;
+      const timer = setTimeout(() => {
+        if (!exited) child.kill("SIGKILL");
+      }, grace);
+      await exitPromise;
+      clearTimeout(timer);
+    },
+  };
+}

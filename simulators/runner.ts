@@ -1,0 +1,131 @@
+/**
+ * Runs a fleet of simulated loops against a clock: on every tick each loop is stepped up to the
+ * simulated time that corresponds to the wall time (times the speed-up factor), its samples are
+ * stamped with wall-clock epoch ms (strictly increasing per loop, never ahead of the clock), and
+ * batches of up to `batchSize` samples per message go to `publish` (ARCHITECTURE.md §5: one object
+ * or an array of at most 500).
+ */
+import type { SampleDto } from "@/lib/types";
+import { MAX_SAMPLES_PER_MESSAGE, telemetryTopic } from "@/lib/telemetry";
+import type { LoopSim } from "./loop-sim";
+
+export interface RunnerClock {
+  now(): number;
+}
+
+export interface RunnerOptions {
+  sims: LoopSim[];
+  /** Send one message; may return a promise (its rejection is counted, not thrown). */
+  publish: (topic: string, payload: string) => void | Promise<void>;
+  clock?: RunnerClock;
+  /** Simulated seconds per wall second (>= 1 runs faster than real time). */
+  speedup?: number;
+  /** Samples per message, 1..500; 1 sends a bare object. */
+  batchSize?: number;
+  /** Longest a sample waits in a partial batch, wall ms. */
+  maxBatchDelayMs?: number;
+}
+
+interface Lane {
+  sim: LoopSim;
+  topic: string;
+  pending: SampleDto[];
+  firstPendingAt: number;
+  lastT: number;
+}
+
+export class SimulatorRunner {
+  readonly speedup: number;
+  readonly batchSize: number;
+  readonly maxBatchDelayMs: number;
+  private readonly lanes: Lane[];
+  private readonly publishFn: RunnerOptions["publish"];
+  private readonly clock: RunnerClock;
+  private startWall: number | null = null;
+  private simOffsetS = 0;
+  messages = 0;
+  samples = 0;
+  publishErrors = 0;
+  /** Samples not sent because their timestamp would run too far ahead of the clock. */
+  dropped = 0;
+  lastError: string | null = null;
+
+  constructor(options: RunnerOptions) {
+    const batchSize = options.batchSize ?? 1;
+    if (!Number.isInteger(batchSize) || batchSize < 1 || batchSize > MAX_SAMPLES_PER_MESSAGE) {
+      throw new RangeError(`batchSize must be an integer in 1..${MAX_SAMPLES_PER_MESSAGE}, got ${batchSize}`);
+    }
+    const speedup = options.speedup ?? 1;
+    if (!(speedup > 0) || !Number.isFinite(speedup)) throw new RangeError(`speedup must be a finite number > 0, got ${speedup}`);
+    this.speedup = speedup;
+    this.batchSize = batchSize;
+    this.maxBatchDelayMs = options.maxBatchDelayMs ?? 250;
+    this.publishFn = options.publish;
+    this.clock = options.clock ?? { now: () => Date.now() };
+    this.lanes = options.sims.map((sim) => ({
+      sim,
+      topic: telemetryTopic({ tenantSlug: sim.config.tenantSlug, siteSlug: sim.config.siteSlug, loopSlug: sim.slug }),
+      pending: [],
+      firstPendingAt: 0,
+      lastT: 0,
+    }));
+  }
+
+  get loops(): number {
+    return this.lanes.length;
+  }
+
+  /** Step every loop up to the current wall time and publish the batches that are due. */
+  tick(): void {
+    const now = this.clock.now();
+    if (this.startWall === null) {
+      this.startWall = now;
+      this.simOffsetS = Math.max(0, ...this.lanes.map((l) => l.sim.simTimeS));
+    }
+    const targetS = this.simOffsetS + ((now - this.startWall) / 1000) * this.speedup;
+    const buf: ReturnType<LoopSim["samples"]> = [];
+    for (const lane of this.lanes) {
+      buf.length = 0;
+      lane.sim.advanceTo(targetS, buf);
+      for (const s of buf) {
+        let t = Math.floor(this.startWall + ((s.simTimeS - this.simOffsetS) * 1000) / this.speedup);
+        if (t <= lane.lastT) t = lane.lastT + 1;
+        if (t > now + 4_000) {
+          // more than 1000 samples/s of one loop outran the ms clock by the skew allowance (§5): drop, counted
+          this.dropped++;
+          continue;
+        }
+        lane.lastT = t;
+        if (lane.pending.length === 0) lane.firstPendingAt = now;
+        lane.pending.push({ t, sp: s.sp, pv: s.pv, mv: s.mv, mode: s.mode });
+        if (lane.pending.length >= this.batchSize) this.flushLane(lane);
+      }
+      if (lane.pending.length > 0 && now - lane.firstPendingAt >= this.maxBatchDelayMs) this.flushLane(lane);
+    }
+  }
+
+  /** Publish every partial batch now. */
+  flush(): void {
+    for (const lane of this.lanes) if (lane.pending.length > 0) this.flushLane(lane);
+  }
+
+  private flushLane(lane: Lane): void {
+    const batch = lane.pending;
+    lane.pending = [];
+    const payload = this.batchSize === 1 && batch.length === 1 ? JSON.stringify(batch[0]) : JSON.stringify(batch);
+    this.messages++;
+    this.samples += batch.length;
+    try {
+      const r = this.publishFn(lane.topic, payload);
+      if (r && typeof (r as Promise<void>).catch === "function") {
+        (r as Promise<void>).catch((e: unknown) => {
+          this.publishErrors++;
+          this.lastError = (e as Error).message;
+        });
+      }
+    } catch (e) {
+      this.publishErrors++;
+      this.lastError = (e as Error).message;
+    }
+  }
+}
