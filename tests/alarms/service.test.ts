@@ -1,0 +1,268 @@
+/**
+ * The alarm service against a real MariaDB (the run's throw-away server) with a fake clock:
+ * journal before announce, evaluation of tracker updates, person actions and the role matrix,
+ * shelve expiry, restart recovery, and e-mail through the in-process SMTP sink.
+ */
+import fs from "node:fs";
+import { QueryTypes } from "sequelize";
+import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { ForbiddenError, NotFoundError, ValidationError } from "@/lib/errors";
+import { IllegalTransitionError } from "@/lib/alarms/state-machine";
+import type { AlarmDto } from "@/lib/types";
+import { AlarmService } from "@/server/alarms/service";
+import { startMail, type MailService } from "@/server/mail";
+import { createTestDatabase, type TestDatabase } from "../setup/db";
+import { createFixture, FakeClock, loopState, polesWithDecay, setTenantPolicy, settle, tempJournal, testContext, type Fixture } from "./helpers";
+
+const T0 = Date.UTC(2026, 2, 9, 6, 0, 0);
+
+let db: TestDatabase;
+let fx: Fixture;
+
+beforeAll(async () => {
+  db = await createTestDatabase("alarms");
+  fx = await createFixture(db.models);
+  await setTenantPolicy(db.sequelize, fx.tenantId, { onDelayS: 0, offDelayS: 0, shelveMaxMinutes: 120 });
+});
+afterAll(async () => {
+  await db?.drop();
+});
+
+async function start(clock: FakeClock, journalPath: string, ctx = testContext(clock)) {
+  const svc = await AlarmService.start(ctx, { sequelize: db.sequelize, journalPath, journalMaxBytes: 1 << 20, retryMs: 50, quiet: true });
+  ctx.services.set("alarms", svc);
+  return { svc, ctx };
+}
+
+function marginPoint(svc: AlarmService): AlarmDto {
+  return svc.list(fx.tenantId, { loopId: fx.loopId }).find((a) => a.condition === "margin")!;
+}
+
+async function dbRow(alarmId: number) {
+  const [row] = (await db.sequelize.query("SELECT state, active, priority, shelved_until, journal_seq FROM alarms WHERE id = ?", {
+    replacements: [alarmId],
+    type: QueryTypes.SELECT,
+  })) as { state: string; active: number; priority: string; shelved_until: Date | null; journal_seq: number }[];
+  return row!;
+}
+
+describe("alarm service", () => {
+  it("creates one alarm point per loop and condition, all normal", async () => {
+    const clock = new FakeClock(T0);
+    const { svc } = await start(clock, tempJournal());
+    const mine = svc.list(fx.tenantId);
+    expect(mine.map((a) => a.condition).sort()).toEqual(["margin", "rim-forecast", "sluggish", "unstable"]);
+    expect(mine.every((a) => a.state === "normal")).toBe(true);
+    expect(svc.list(fx.otherTenantId).every((a) => a.loopId === fx.otherLoopId)).toBe(true);
+    await svc.stop();
+  });
+
+  it("journals (fsync'd line on disk) before announcing, then writes MariaDB in order", async () => {
+    const clock = new FakeClock(T0);
+    const journal = tempJournal();
+    const { svc, ctx } = await start(clock, journal);
+    const seenOnDisk: boolean[] = [];
+    ctx.bus.on("alarm:changed", (a) => {
+      const lines = fs.readFileSync(journal, "utf8").trim().split("\n").map((l) => JSON.parse(l) as { alarmId: number; to: string });
+      seenOnDisk.push(lines.some((l) => l.alarmId === a.id && l.to === a.state));
+    });
+    svc.onTrackerUpdate(loopState(fx.loopId, fx.tenantId, clock.now(), polesWithDecay(0.42)));
+    const m = marginPoint(svc);
+    expect(m.state).toBe("unacknowledged");
+    expect(m.priority).toBe("low");
+    expect(seenOnDisk).toEqual([true]);
+    await svc.flush();
+    const row = await dbRow(m.id);
+    expect(row.state).toBe("unacknowledged");
+    const events = (await db.sequelize.query("SELECT kind, from_state, to_state FROM alarm_events WHERE alarm_id = ? ORDER BY journal_id", {
+      replacements: [m.id],
+      type: QueryTypes.SELECT,
+    })) as { kind: string; from_state: string; to_state: string }[];
+    expect(events.at(-1)).toEqual({ kind: "activate", from_state: "normal", to_state: "unacknowledged" });
+    const occ = (await db.sequelize.query("SELECT ended_at, area_id FROM alarm_occurrences WHERE alarm_id = ?", { replacements: [m.id], type: QueryTypes.SELECT })) as { ended_at: Date | null; area_id: number }[];
+    expect(occ).toHaveLength(1);
+    expect(occ[0]!.area_id).toBe(fx.areaId);
+    // Everything durable: the journal is emptied.
+    expect(fs.statSync(journal).size).toBe(0);
+
+    // Clean up for the next tests: clear and acknowledge.
+    svc.onTrackerUpdate(loopState(fx.loopId, fx.tenantId, clock.now(), polesWithDecay(0.1)));
+    svc.acknowledge(fx.users.operator, m.id, null);
+    expect(marginPoint(svc).state).toBe("normal");
+    await svc.stop();
+  });
+
+  it("role matrix and tenancy: viewer cannot acknowledge, operator cannot take out of service, other tenant gets 404", async () => {
+    const clock = new FakeClock(T0 + 3600_000);
+    const { svc } = await start(clock, tempJournal());
+    svc.onTrackerUpdate(loopState(fx.loopId, fx.tenantId, clock.now(), polesWithDecay(0.45)));
+    const m = marginPoint(svc);
+    expect(() => svc.acknowledge(fx.users.viewer, m.id, "x")).toThrow(ForbiddenError);
+    expect(() => svc.removeFromService(fx.users.operator, m.id, "work")).toThrow(ForbiddenError);
+    expect(() => svc.acknowledge(fx.outsider, m.id, "x")).toThrow(NotFoundError);
+    expect(svc.acknowledge(fx.users.operator, m.id, null).state).toBe("acknowledged");
+    expect(() => svc.acknowledge(fx.users.operator, m.id, null)).toThrow(IllegalTransitionError);
+    expect(svc.removeFromService(fx.users.engineer, m.id, "transmitter swap").state).toBe("out-of-service");
+    expect(svc.returnToService(fx.users.engineer, m.id).state).toBe("unacknowledged");
+    expect(() => svc.shelve(fx.users.operator, m.id, 121, "too long")).toThrow(ValidationError);
+    svc.onTrackerUpdate(loopState(fx.loopId, fx.tenantId, clock.now(), polesWithDecay(0.1)));
+    svc.acknowledge(fx.users.operator, m.id, "back to normal");
+    await svc.flush();
+    await svc.stop();
+  });
+
+  it("an urgent `unstable` alarm suppresses the others and needs a comment to acknowledge", async () => {
+    const clock = new FakeClock(T0 + 2 * 3600_000);
+    const { svc } = await start(clock, tempJournal());
+    svc.onTrackerUpdate(loopState(fx.loopId, fx.tenantId, clock.now(), polesWithDecay(1.3)));
+    const all = svc.list(fx.tenantId, { loopId: fx.loopId });
+    const unstable = all.find((a) => a.condition === "unstable")!;
+    expect(unstable.state).toBe("unacknowledged");
+    expect(unstable.priority).toBe("urgent");
+    const margin = all.find((a) => a.condition === "margin")!;
+    expect(margin.state).toBe("suppressed-by-design");
+    expect(margin.suppressedReason).toMatch(/unstable/);
+    expect(() => svc.acknowledge(fx.users.operator, unstable.id, "")).toThrow(/comment/);
+    svc.acknowledge(fx.users.operator, unstable.id, "board operator reduced gain per MOC-221");
+    svc.onTrackerUpdate(loopState(fx.loopId, fx.tenantId, clock.now(), polesWithDecay(0.1)));
+    const after = svc.list(fx.tenantId, { loopId: fx.loopId });
+    expect(after.find((a) => a.condition === "unstable")!.state).toBe("normal");
+    expect(after.find((a) => a.condition === "margin")!.state).toBe("normal");
+    await svc.flush();
+    await svc.stop();
+  });
+
+  it("shelve expiry re-announces a still-active alarm; a restart keeps states and the shelve's expiry", async () => {
+    const clock = new FakeClock(T0 + 3 * 3600_000);
+    const journal = tempJournal();
+    const first = await start(clock, journal);
+    first.svc.onTrackerUpdate(loopState(fx.loopId, fx.tenantId, clock.now(), polesWithDecay(0.45)));
+    const m = marginPoint(first.svc);
+    const shelved = first.svc.shelve(fx.users.operator, m.id, 30, "valve stroking under permit 77");
+    expect(shelved.state).toBe("shelved");
+    const until = shelved.shelvedUntil;
+    // The sluggish alarm of the same loop stays unacknowledged across the restart.
+    first.svc.onTrackerUpdate(loopState(fx.loopId, fx.tenantId, clock.now(), [...polesWithDecay(0.45), { re: 0.995, im: 0, radius: 0.995, sdRadius: null, cov: null }]));
+    const sluggish = first.svc.list(fx.tenantId, { loopId: fx.loopId }).find((a) => a.condition === "sluggish")!;
+    expect(sluggish.state).toBe("unacknowledged");
+    await first.svc.stop();
+
+    await clock.advance(10 * 60_000);
+    const second = await start(clock, journal);
+    const again = second.svc.list(fx.tenantId, { loopId: fx.loopId });
+    expect(again.find((a) => a.condition === "margin")).toMatchObject({ state: "shelved", shelvedUntil: until, active: true });
+    expect(again.find((a) => a.condition === "sluggish")!.state).toBe("unacknowledged");
+    const announced: AlarmDto[] = [];
+    second.ctx.bus.on("alarm:changed", (a) => announced.push(a));
+    await clock.advance(19 * 60_000);
+    expect(marginPoint(second.svc).state).toBe("shelved");
+    await clock.advance(60_000);
+    expect(marginPoint(second.svc).state).toBe("unacknowledged");
+    expect(announced.map((a) => a.state)).toContain("unacknowledged");
+    await second.svc.flush();
+    const ev = (await db.sequelize.query("SELECT kind, user_id, comment FROM alarm_events WHERE alarm_id = ? ORDER BY journal_id DESC LIMIT 2", {
+      replacements: [m.id],
+      type: QueryTypes.SELECT,
+    })) as { kind: string; user_id: number | null; comment: string | null }[];
+    expect(ev[0]).toMatchObject({ kind: "shelve-expired", user_id: null });
+    expect(ev[1]).toMatchObject({ kind: "shelve", user_id: fx.users.operator.userId, comment: "valve stroking under permit 77" });
+    // leave things normal
+    second.svc.onTrackerUpdate(loopState(fx.loopId, fx.tenantId, clock.now(), polesWithDecay(0.1)));
+    for (const a of second.svc.list(fx.tenantId, { loopId: fx.loopId })) if (a.state === "rtn-unacknowledged") second.svc.acknowledge(fx.users.operator, a.id, null);
+    await second.svc.flush();
+    await second.svc.stop();
+  });
+
+  it("a journal entry not yet in MariaDB at a crash is replayed at the next start (idempotently)", async () => {
+    const clock = new FakeClock(T0 + 5 * 3600_000);
+    const journal = tempJournal();
+    const first = await start(clock, journal);
+    first.svc.writer.stop(); // simulate a crash before the database write
+    first.svc.onTrackerUpdate(loopState(fx.loopId, fx.tenantId, clock.now(), polesWithDecay(0.6)));
+    const m = marginPoint(first.svc);
+    expect(m.priority).toBe("high");
+    const lines = fs.readFileSync(journal, "utf8").trim().split("\n");
+    expect(lines.length).toBeGreaterThan(0);
+    expect((await dbRow(m.id)).state).toBe("normal");
+    // A duplicate line (a second crash mid-replay) must not write twice.
+    fs.appendFileSync(journal, lines[0] + "\n");
+    const second = await start(clock, journal);
+    expect(marginPoint(second.svc).state).toBe("unacknowledged");
+    await second.svc.flush();
+    expect(await dbRow(m.id)).toMatchObject({ state: "unacknowledged", priority: "high" });
+    const [{ n }] = (await db.sequelize.query("SELECT COUNT(*) AS n FROM alarm_events WHERE alarm_id = ? AND kind = 'activate'", {
+      replacements: [m.id],
+      type: QueryTypes.SELECT,
+    })) as { n: number }[] as [{ n: number }];
+    expect(Number(n)).toBe(4); // one per activation across this file: 0.42, 0.45, 0.45 (after sluggish test) and this one
+    second.svc.onTrackerUpdate(loopState(fx.loopId, fx.tenantId, clock.now(), polesWithDecay(0.1)));
+    second.svc.acknowledge(fx.users.operator, m.id, null);
+    await second.svc.flush();
+    await second.svc.stop();
+    first.svc.notifier.stop();
+  });
+});
+
+describe("notifications by e-mail", () => {
+  let mail: MailService;
+
+  it("sends to the SMTP sink, rate-limits repeats, always sends a higher priority and escalates after the delay", async () => {
+    const clock = new FakeClock(T0 + 10 * 3600_000);
+    const ctx = testContext(clock);
+    mail = await startMail(ctx, { sinkPort: 0 });
+    ctx.services.set("mail", mail);
+    await db.sequelize.query(
+      "INSERT INTO notification_rules (tenant_id, area_id, name, recipients, min_priority, escalation_minutes, repeat_minutes, enabled, created_at, updated_at) VALUES (?,?,?,?,?,?,?,1,UTC_TIMESTAMP(3),UTC_TIMESTAMP(3))",
+      { replacements: [fx.tenantId, fx.areaId, "Reactor board", JSON.stringify(["board@harrowgate.example", "shift.lead@harrowgate.example"]), "low", 5, 60] },
+    );
+    const { svc } = await start(clock, tempJournal(), ctx);
+    const upd = (d: number) => svc.onTrackerUpdate(loopState(fx.loopId, fx.tenantId, clock.now(), polesWithDecay(d)));
+
+    upd(0.4); // low margin alarm: first message
+    await svc.notifier.idle();
+    const [first] = await mail.waitForMessages(1);
+    const m = marginPoint(svc);
+    expect(first!.to.sort()).toEqual(["board@harrowgate.example", "shift.lead@harrowgate.example"]);
+    expect(first!.subject).toBe("[Rimguard] LOW (3) margin on FIC-101");
+    expect(first!.text).toContain(`/alarms/${m.id}`);
+    expect(first!.text).toContain("not a safety system");
+    expect(first!.headers["x-rimguard-kind"]).toBe("initial");
+
+    await clock.advance(60_000);
+    upd(0.1);
+    svc.acknowledge(fx.users.operator, m.id, null); // settles: no escalation for the first activation
+    await clock.advance(60_000);
+    upd(0.4); // same loop again within the 60 min repeat interval: rate-limited
+    await svc.notifier.idle();
+    await settle();
+    expect(mail.outbox()).toHaveLength(1);
+
+    await clock.advance(60_000);
+    upd(0.6); // higher priority: always sends
+    await svc.notifier.idle();
+    await mail.waitForMessages(2);
+    expect(mail.outbox()[1]!.subject).toBe("[Rimguard] HIGH (2) margin on FIC-101");
+
+    await clock.advance(4 * 60_000 + 59_000);
+    await svc.notifier.idle();
+    await settle();
+    expect(mail.outbox()).toHaveLength(2);
+    await clock.advance(1000); // 5 min after the last announcement, still unacknowledged
+    await svc.notifier.idle();
+    const all = await mail.waitForMessages(3);
+    expect(all[2]!.subject).toMatch(/^\[Rimguard\] ESCALATION - still unacknowledged - HIGH \(2\) margin on FIC-101$/);
+    expect(all[2]!.text).toContain("still unacknowledged after 5 minutes");
+    expect(all[2]!.headers["x-rimguard-kind"]).toBe("escalation");
+
+    const sent = (await db.sequelize.query("SELECT kind, status FROM notifications_sent WHERE alarm_id = ? ORDER BY id", { replacements: [m.id], type: QueryTypes.SELECT })) as { kind: string; status: string }[];
+    expect(sent.map((s) => `${s.kind}:${s.status}`)).toEqual([
+      "initial:sent", "initial:sent",
+      "initial:rate-limited", "initial:rate-limited",
+      "initial:sent", "initial:sent",
+      "escalation:sent", "escalation:sent",
+    ]);
+    await svc.flush();
+    await svc.stop();
+    await mail.stop();
+  });
+});
