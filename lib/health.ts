@@ -1,0 +1,47 @@
+/** Health of the running server, gathered from its registered services (for GET /api/health). */
+import type { HealthLevel, ServerContext, ServiceHealth } from "@/server/context";
+
+const ORDER: HealthLevel[] = ["ok", "degraded", "critical", "down"];
+
+export function worst(levels: HealthLevel[]): HealthLevel {
+  return levels.reduce<HealthLevel>((w, l) => (ORDER.indexOf(l) > ORDER.indexOf(w) ? l : w), "ok");
+}
+
+export interface HealthReport {
+  status: HealthLevel;
+  time: string;
+  uptimeS: number;
+  /** One entry per registered service, by name (database, broker, realtime, pipeline, alarms, ...). */
+  [service: string]: unknown;
+}
+
+const TIMEOUT_MS = 2_000;
+
+async function probe(fn: () => ServiceHealth | Promise<ServiceHealth>): Promise<ServiceHealth> {
+  let timer: NodeJS.Timeout | undefined;
+  try {
+    return await Promise.race([
+      Promise.resolve().then(fn),
+      new Promise<ServiceHealth>((resolve) => {
+        timer = setTimeout(() => resolve({ status: "down", detail: { error: `no answer within ${TIMEOUT_MS} ms` } }), TIMEOUT_MS);
+      }),
+    ]);
+  } catch (err) {
+    return { status: "down", detail: { error: err instanceof Error ? err.message : String(err) } };
+  } finally {
+    if (timer) clearTimeout(timer);
+  }
+}
+
+export async function collectHealth(ctx: ServerContext | null): Promise<HealthReport> {
+  const base = { time: new Date().toISOString(), uptimeS: Math.round(process.uptime()) };
+  if (!ctx) {
+    return { status: "down", ...base, error: "The Rimguard server is not running in this process." };
+  }
+  const entries = await Promise.all(
+    [...ctx.services.values()].map(async (s) => [s.name, await probe(() => s.health())] as const),
+  );
+  const report: HealthReport = { status: worst(entries.map(([, h]) => h.status)), ...base };
+  for (const [name, h] of entries) report[name] = { status: h.status, ...(h.detail ?? {}) };
+  return report;
+}
