@@ -259,8 +259,8 @@ export function closedLoopArxInto(
  */
 export function gainHeadroom(plant: ArxModel | DiscreteTf, controller: QTf): number {
   const { open, loop } = closedLoopParts(plant, controller);
-  if (loop.every((c) => c === 0)) return Infinity;
   const L = open.length - 1;
+  if (L === 0 || loop.every((c) => c === 0)) return Infinity; // no poles, or no loop path
   const rev = (p: number[]): number[] => p.slice().reverse();
   const H = polyAdd(polyMul(open, rev(loop)), polyMul(loop, rev(open)).map((x) => -x));
   const candidates: number[] = [];

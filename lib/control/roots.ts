@@ -55,6 +55,11 @@ function ensureCapacity(n: number): void {
  * `outRe`/`outIm`; returns the number of roots (the degree after stripping leading zeros).
  * Allocation-free once the internal scratch buffers have grown to the degree in use (hot path).
  * `length` (default `coeffs.length`) lets a caller pass a longer reusable buffer.
+ * `warmStart`: when true and `outRe`/`outIm` still hold the roots of a previous call with the same
+ * degree and the same number of zero roots (a tracker re-solving a slowly changing polynomial),
+ * those roots, slightly rotated to break the conjugate symmetry, seed the iteration instead of the
+ * Newton-polygon circles; typically 2–4 iterations instead of 5–15. The result is the same
+ * to rounding either way.
  *
  * @throws NonFiniteInputError on NaN/infinite coefficients; ControlArgumentError for the zero
  *   polynomial or output buffers that are too short.
@@ -64,6 +69,7 @@ export function polyRootsInto(
   outRe: Float64Array,
   outIm: Float64Array,
   length: number = coeffs.length,
+  warmStart = false,
 ): number {
   let first = -1;
   for (let i = 0; i < length; i++) {
@@ -89,7 +95,7 @@ export function polyRootsInto(
     quadratic(coeffs[first]!, coeffs[first + 1]!, coeffs[first + 2]!, outRe, outIm);
     count = 2;
   } else if (m >= 3) {
-    aberth(coeffs, first, m, outRe, outIm);
+    aberth(coeffs, first, m, outRe, outIm, warmStart);
     count = m;
   }
   for (let k = 0; k < zeros; k++) {
@@ -146,7 +152,14 @@ function quadratic(a: number, b: number, c: number, outRe: Float64Array, outIm: 
   }
 }
 
-function aberth(coeffs: ArrayLike<number>, first: number, m: number, outRe: Float64Array, outIm: Float64Array): void {
+function aberth(
+  coeffs: ArrayLike<number>,
+  first: number,
+  m: number,
+  outRe: Float64Array,
+  outIm: Float64Array,
+  warmStart: boolean,
+): void {
   ensureCapacity(m);
   const lead = coeffs[first]!;
   // Scale z = rho w with rho a power of two near |a_m / a_0|^(1/m) (exact scaling).
@@ -157,7 +170,24 @@ function aberth(coeffs: ArrayLike<number>, first: number, m: number, outRe: Floa
     work[k] = coeffs[first + k]! / lead / f;
     f *= rho;
   }
-  initialGuesses(m);
+  let warm = warmStart;
+  if (warm) {
+    for (let i = 0; i < m; i++) {
+      const x = outRe[i]!;
+      const y = outIm[i]!;
+      if (!Number.isFinite(x) || !Number.isFinite(y) || (x === 0 && y === 0)) {
+        warm = false;
+        break;
+      }
+      // Rotate by a small, root-specific angle: breaks conjugate symmetry and separates equal seeds.
+      const ang = (1e-3 * (i + 1)) / m;
+      const c = Math.cos(ang);
+      const sn = Math.sin(ang);
+      zr[i] = (x * c - y * sn) / rho;
+      zi[i] = (x * sn + y * c) / rho;
+    }
+  }
+  if (!warm) initialGuesses(m);
   for (let i = 0; i < m; i++) done[i] = 0;
   let remaining = m;
   for (let iter = 0; iter < MAX_ITERATIONS && remaining > 0; iter++) {
@@ -310,7 +340,9 @@ function symmetrise(m: number): void {
     let dist = Infinity;
     for (let j = 0; j < m; j++) {
       if (done[j] || zi[j]! >= 0) continue;
-      const d = Math.hypot(zr[j]! - zr[best]!, zi[j]! + zi[best]!);
+      const dx = zr[j]! - zr[best]!;
+      const dy = zi[j]! + zi[best]!;
+      const d = Math.sqrt(dx * dx + dy * dy);
       if (d < dist) {
         dist = d;
         partner = j;

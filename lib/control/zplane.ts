@@ -65,7 +65,7 @@ function assertPeriod(T: number): void {
 export function zToS(z: Complex, T: number): Complex {
   assertFiniteComplex(z, "z");
   assertPeriod(T);
-  const r = Math.hypot(z.re, z.im);
+  const r = Math.sqrt(z.re * z.re + z.im * z.im);
   return { re: Math.log(r) / T, im: Math.atan2(z.im, z.re) / T };
 }
 
@@ -85,7 +85,7 @@ export function sToZ(s: Complex, T: number): Complex {
  */
 export function decayRatio(z: Complex): number | null {
   assertFiniteComplex(z, "z");
-  const r = Math.hypot(z.re, z.im);
+  const r = Math.sqrt(z.re * z.re + z.im * z.im);
   if (r === 0) return null;
   if (Math.abs(z.im) <= REAL_AXIS_TOLERANCE * Math.max(1, r) && z.re > 0) return null;
   const theta = Math.abs(Math.atan2(z.im, z.re));
@@ -95,9 +95,9 @@ export function decayRatio(z: Complex): number | null {
 
 /** Location class of a pole (tolerances: INTEGRATOR_TOLERANCE, ORIGIN_TOLERANCE, REAL_AXIS_TOLERANCE). */
 export function poleKind(z: Complex): PoleKind {
-  const r = Math.hypot(z.re, z.im);
+  const r = Math.sqrt(z.re * z.re + z.im * z.im);
   if (r <= ORIGIN_TOLERANCE) return "origin";
-  if (Math.hypot(z.re - 1, z.im) <= INTEGRATOR_TOLERANCE) return "integrator";
+  if ((z.re - 1) * (z.re - 1) + z.im * z.im <= INTEGRATOR_TOLERANCE * INTEGRATOR_TOLERANCE) return "integrator";
   if (Math.abs(z.im) > REAL_AXIS_TOLERANCE * Math.max(1, r)) return "complex";
   return z.re > 0 ? "positive-real" : "negative-real";
 }
@@ -110,7 +110,7 @@ export function poleKind(z: Complex): PoleKind {
 export function poleCharacteristics(z: Complex, T: number): PoleCharacteristics {
   assertFiniteComplex(z, "pole");
   assertPeriod(T);
-  const radius = Math.hypot(z.re, z.im);
+  const radius = Math.sqrt(z.re * z.re + z.im * z.im);
   const angle = Math.atan2(z.im, z.re);
   const kind = poleKind(z);
   const stable = radius < 1;
@@ -122,7 +122,7 @@ export function poleCharacteristics(z: Complex, T: number): PoleCharacteristics 
   }
   const lnr = Math.log(radius);
   const theta = kind === "positive-real" ? 0 : kind === "negative-real" ? Math.PI : angle;
-  const mag = Math.hypot(lnr, theta);
+  const mag = Math.sqrt(lnr * lnr + theta * theta);
   const wn = mag / T;
   const zeta = mag === 0 ? 0 : -lnr / mag;
   let timeConstant: number | null = null;
