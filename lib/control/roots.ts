@@ -10,7 +10,7 @@
  *   D. A. Bini, *Numerical computation of polynomial zeros by means of Aberth's method*, Numer.
  *   Algorithms 13, 1996: starting points on circles from the Newton polygon, evaluation through the
  *   reversed polynomial when |z| > 1, and a per-root stop once |p(z)| is at the rounding level of
- *   sum |a_k| |z|^k (backward error of order machine epsilon).
+ *   Horner's rule, 2(m + 1) eps sum |a_k| |z|^k (backward error of order machine epsilon).
  * The variable is first scaled by a power of two near the geometric mean of the root moduli
  * (exact in binary floating point). Exact zero roots (trailing zero coefficients) are returned
  * exactly; leading zero coefficients are stripped. For real input the returned set is exactly
@@ -27,8 +27,11 @@ import type { Complex } from "./types";
 
 const EPS = 2.220446049250313e-16;
 const MAX_ITERATIONS = 200;
-/** Backward-error stop: |p(z)| <= STOP_FACTOR * eps * sum |a_k| |z|^k. */
-const STOP_FACTOR = 4;
+/**
+ * Backward-error stop: |p(z)| <= (2 m + 2) eps sum |a_k| |z|^k, the rounding-error bound of Horner's
+ * rule for degree m (Higham, *Accuracy and Stability of Numerical Algorithms*, 2nd ed., 2002, sec. 5.1).
+ */
+const STOP_FACTOR_PER_DEGREE = 2;
 
 // Scratch buffers, grown on demand; the per-call path allocates nothing once they are large enough.
 let cap = 0;
@@ -190,6 +193,7 @@ function aberth(
   if (!warm) initialGuesses(m);
   for (let i = 0; i < m; i++) done[i] = 0;
   let remaining = m;
+  const stop = STOP_FACTOR_PER_DEGREE * (m + 1) * EPS;
   for (let iter = 0; iter < MAX_ITERATIONS && remaining > 0; iter++) {
     for (let i = 0; i < m; i++) {
       if (done[i]) continue;
@@ -212,7 +216,7 @@ function aberth(
           bound = bound * az + Math.abs(work[k]!);
         }
         const pp = pr * pr + pi * pi;
-        if (Math.sqrt(pp) <= STOP_FACTOR * EPS * bound) {
+        if (Math.sqrt(pp) <= stop * bound) {
           done[i] = 1;
           remaining--;
           if (pp === 0) continue;
@@ -237,7 +241,7 @@ function aberth(
           bound = bound * aw + Math.abs(work[k]!);
         }
         const pp = pr * pr + pi * pi;
-        if (Math.sqrt(pp) <= STOP_FACTOR * EPS * bound) {
+        if (Math.sqrt(pp) <= stop * bound) {
           done[i] = 1;
           remaining--;
           if (pp === 0) continue;
