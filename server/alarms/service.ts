@@ -40,6 +40,9 @@ import { AlarmDbWriter, journalId } from "./db-writer";
 import { AlarmJournal, type JournalEntry, type PointSnapshot } from "./journal";
 import { AlarmNotifier, type NotificationRuleRow, type SentRow } from "./notifier";
 import type { MailService } from "@/server/mail";
+import { alarmDetail, alarmKpis, readPolicy, writePolicy, type PolicyLoopInfo, type PolicyView } from "./queries";
+import type { AlarmKpis } from "@/lib/alarms/kpis";
+import type { PolicyScope } from "@/lib/alarms/policy";
 
 interface LoopFacts {
   id: number;
@@ -518,6 +521,37 @@ export class AlarmService implements Service {
 
   latestState(loopId: number): LoopStateDto | null {
     return this.lastState.get(loopId) ?? null;
+  }
+
+  /** One alarm with its occurrences and events (journalled ones not yet in MariaDB included). */
+  async detail(tenantId: number, alarmId: number) {
+    const a = this.get(tenantId, alarmId);
+    if (!a) throw new NotFoundError("Alarm");
+    return alarmDetail(this.sequelize, a, this.pendingEvents(tenantId, alarmId));
+  }
+
+  kpis(tenantId: number, from: number, to: number, areaId: number | null): Promise<AlarmKpis> {
+    return alarmKpis(this.sequelize, tenantId, from, to, areaId);
+  }
+
+  private policyLoops(): PolicyLoopInfo[] {
+    return [...this.loops.values()].map((l) => ({ id: l.id, tenantId: l.tenantId, siteId: l.siteId, tag: l.tag, estimationPeriodS: l.estimationPeriodS }));
+  }
+
+  getPolicy(user: TenantContext, scope: PolicyScope, id: number): Promise<PolicyView> {
+    return readPolicy(this.sequelize, user, scope, id, this.policyLayers, this.policyLoops(), (loopId) => {
+      const s = this.lastState.get(loopId);
+      if (!s) return null;
+      return s.modelPoles.length ? s.modelPoles : s.dataPoles;
+    });
+  }
+
+  /** Set one scope's levels; effective at once (no restart), logged with reason and MOC reference. */
+  async putPolicy(user: TenantContext, scope: PolicyScope, id: number, settings: unknown, reason: string, mocReference: string | null): Promise<PolicyView> {
+    await writePolicy(this.sequelize, user, scope, id, settings, reason, mocReference, this.policyLoops());
+    await this.loadPolicies();
+    this.ctx.bus.emit("policy:changed", user.tenantId);
+    return this.getPolicy(user, scope, id);
   }
 
   /** Wait until every transition so far is in MariaDB (tests; shutdown). */

@@ -1,0 +1,27 @@
+/**
+ * GET /api/alarms/kpis?from=&to=&area= — alarm-system figures of a period (EEMUA 191 and
+ * ANSI/ISA-18.2; see lib/alarms/kpis.ts). Default period: the last 24 hours; at most 31 days.
+ */
+import { NextResponse } from "next/server";
+import { z } from "zod";
+import { alarmApi, isoTime } from "@/lib/alarms/access";
+import { requireContext } from "@/lib/auth/guard";
+import { handle, parseQuery } from "@/lib/http";
+
+export const dynamic = "force-dynamic";
+
+const DAY = 24 * 3600_000;
+const query = z
+  .object({ from: isoTime.optional(), to: isoTime.optional(), area: z.coerce.number().int().positive().optional() })
+  .strict();
+
+export const GET = handle(async (req: Request) => {
+  const ctx = await requireContext("viewer");
+  const q = parseQuery(req, query);
+  const to = q.to ?? Date.now();
+  const from = q.from ?? to - DAY;
+  if (!(from < to)) throw new z.ZodError([{ code: "custom", path: ["from"], message: "`from` must be before `to`", input: q.from }]);
+  if (to - from > 31 * DAY) throw new z.ZodError([{ code: "custom", path: ["from"], message: "the period may be at most 31 days", input: q.from }]);
+  const k = await alarmApi().kpis(ctx.tenantId, from, to, q.area ?? null);
+  return NextResponse.json({ ...k, from: new Date(from).toISOString(), to: new Date(to).toISOString() });
+});
