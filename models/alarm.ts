@@ -27,31 +27,10 @@ import type { Tenant } from "./tenant";
 export type PolicyScope = "tenant" | "site" | "loop";
 
 /**
- * Stored alarm levels. Period-invariant by design (decay ratio, damping), so changing a loop's
- * estimation period does not move them; radius levels only make sense per loop. Every field is
- * optional in a site or loop override: a missing field falls back to the wider scope.
+ * Stored alarm levels of one scope: a partial override whose shape and meaning belong to
+ * lib/alarms/policy.ts (`policyOverrideSchema` validates it before it is written).
  */
-export interface AlarmPolicySettings {
-  /** Decay ratio of the dominant oscillating mode (0..1, 1 = on the unit circle). */
-  decayRatioWarn?: number;
-  decayRatioAlarm?: number;
-  /** Minimum damping ratio zeta of the dominant mode. */
-  minDamping?: number;
-  /** Spectral radius levels (loop scope only). */
-  radiusWarn?: number | null;
-  radiusAlarm?: number | null;
-  /** Hysteresis on the alarm variable (same units as the level). */
-  deadband?: number;
-  onDelayS?: number;
-  offDelayS?: number;
-  shelveMaxMinutes?: number;
-  /** Sluggish when the dominant time constant exceeds this multiple of the baseline. */
-  sluggishMultiple?: number;
-  /** Raise a rim-forecast alarm when the crossing is forecast within this many hours. */
-  forecastHorizonH?: number;
-  /** Priority per condition. */
-  priorities?: Partial<Record<AlarmCondition, AlarmPriority>>;
-}
+export type AlarmPolicySettings = Record<string, unknown>;
 
 export class AlarmPolicy extends Model<InferAttributes<AlarmPolicy>, InferCreationAttributes<AlarmPolicy>> {
   declare id: CreationOptional<number>;

@@ -65,10 +65,10 @@ export class PoleSnapshot extends Model<InferAttributes<PoleSnapshot>, InferCrea
   declare trackerState: TrackerState;
 }
 
-const key = {
+const key = () => ({
   loopId: { type: DataTypes.INTEGER, allowNull: false, primaryKey: true },
   t: { type: DataTypes.BIGINT, allowNull: false, primaryKey: true },
-};
+});
 const col = () => ({ type: DataTypes.DOUBLE, allowNull: true });
 const mmm = <P extends string>(p: P) =>
   ({ [`${p}Min`]: col(), [`${p}Mean`]: col(), [`${p}Max`]: col() }) as Record<
@@ -80,7 +80,7 @@ export function initHistoryModels(sequelize: Sequelize) {
   const common = { sequelize, underscored: true, timestamps: false } as const;
   Sample1s.init(
     {
-      ...key,
+      ...key(),
       ...mmm("sp"),
       ...mmm("pv"),
       ...mmm("mv"),
@@ -91,7 +91,7 @@ export function initHistoryModels(sequelize: Sequelize) {
   );
   Sample1m.init(
     {
-      ...key,
+      ...key(),
       ...mmm("sp"),
       ...mmm("pv"),
       ...mmm("mv"),
@@ -103,7 +103,7 @@ export function initHistoryModels(sequelize: Sequelize) {
   );
   PoleSnapshot.init(
     {
-      ...key,
+      ...key(),
       radius: { type: DataTypes.DOUBLE, allowNull: true },
       decayRatio: { type: DataTypes.DOUBLE, allowNull: true },
       poles: { type: DataTypes.TEXT("long"), allowNull: true },

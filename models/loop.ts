@@ -132,12 +132,49 @@ export class LoopState extends Model<InferAttributes<LoopState>, InferCreationAt
   declare at: number;
 }
 
+/** A loop's tuning in seconds and gain (%/% of span), as lib/control and the simulators use it. */
+export interface TuningSeconds {
+  /** Controller gain (%/% of span, > 0; `action` gives the sign). */
+  kp: number;
+  /** Integral time in seconds; null = no integral action. */
+  ti: number | null;
+  /** Derivative time in seconds (0 = none). */
+  td: number;
+  /** Derivative filter time constant in seconds (0 when there is no derivative action). */
+  tf: number;
+  action: ControllerAction;
+  form: ControllerForm;
+}
+
+type TuningFields = Pick<
+  InferAttributes<Loop>,
+  "gainKind" | "gainValue" | "tiValue" | "tiUnits" | "tdValue" | "tdUnits" | "tfS" | "derivativeAlpha" | "action" | "form"
+>;
+
+/**
+ * Convert the stored tuning (as the site writes it) to seconds: proportional band PB % ->
+ * Kc = 100 / PB; Ti in minutes x 60; integral rate in repeats/min -> Ti = 60 / rate s; Td in
+ * minutes x 60; derivative filter Tf = alpha * Td when given as alpha (common practice).
+ */
+export function tuningSeconds(l: Partial<TuningFields> & Pick<TuningFields, "gainValue">): TuningSeconds {
+  const kp = (l.gainKind ?? "gain") === "pb" ? 100 / l.gainValue : l.gainValue;
+  if (!(kp > 0) || !Number.isFinite(kp)) throw new RangeError(`Controller gain must be > 0 (got ${l.gainValue}).`);
+  let ti: number | null = null;
+  if (l.tiValue != null && l.tiValue > 0) {
+    const units = l.tiUnits ?? "s";
+    ti = units === "s" ? l.tiValue : units === "min" ? l.tiValue * 60 : 60 / l.tiValue;
+  }
+  const td = (l.tdValue ?? 0) * ((l.tdUnits ?? "s") === "min" ? 60 : 1);
+  const tf = td > 0 ? (l.tfS ?? (l.derivativeAlpha != null ? l.derivativeAlpha * td : td / 10)) : 0;
+  return { kp, ti, td, tf, action: l.action ?? "reverse", form: l.form ?? "ideal" };
+}
+
 const num = (allowNull = false, defaultValue?: number) => ({
   type: DataTypes.DOUBLE,
   allowNull,
   ...(defaultValue === undefined ? {} : { defaultValue }),
 });
-const positive = { ...num(), validate: { min: 1e-6 } };
+const positive = () => ({ ...num(), validate: { min: 1e-6 } });
 
 export function initLoopModels(sequelize: Sequelize) {
   Loop.init(
@@ -158,8 +195,8 @@ export function initLoopModels(sequelize: Sequelize) {
       mvUnits: { type: DataTypes.STRING(32), allowNull: false, defaultValue: "%" },
       mvLimitLo: num(true),
       mvLimitHi: num(true),
-      telemetryPeriodS: positive,
-      controllerPeriodS: positive,
+      telemetryPeriodS: positive(),
+      controllerPeriodS: positive(),
       action: { type: DataTypes.ENUM("direct", "reverse"), allowNull: false, defaultValue: "reverse" },
       form: { type: DataTypes.ENUM("ideal", "parallel", "series"), allowNull: false, defaultValue: "ideal" },
       gainKind: { type: DataTypes.ENUM("gain", "pb"), allowNull: false, defaultValue: "gain" },
@@ -174,7 +211,7 @@ export function initLoopModels(sequelize: Sequelize) {
       na: { type: DataTypes.TINYINT.UNSIGNED, allowNull: false, defaultValue: 2, validate: { min: 1, max: 10 } },
       nb: { type: DataTypes.TINYINT.UNSIGNED, allowNull: false, defaultValue: 2, validate: { min: 1, max: 10 } },
       nk: { type: DataTypes.SMALLINT.UNSIGNED, allowNull: false, defaultValue: 1, validate: { min: 1, max: 500 } },
-      estimationPeriodS: positive,
+      estimationPeriodS: positive(),
       estimationProposedS: num(true),
       baselineTimeConstantS: num(true),
       enabled: { type: DataTypes.BOOLEAN, allowNull: false, defaultValue: true },
@@ -209,7 +246,7 @@ export function initLoopModels(sequelize: Sequelize) {
       uploadedBy: { type: DataTypes.INTEGER, allowNull: true },
       objectKey: { type: DataTypes.STRING(512), allowNull: false },
       filename: { type: DataTypes.STRING(255), allowNull: false },
-      periodS: positive,
+      periodS: positive(),
       rowCount: { type: DataTypes.INTEGER, allowNull: false },
       result: { type: DataTypes.JSON, allowNull: true },
       createdAt: DataTypes.DATE(3),

@@ -41,13 +41,14 @@ export class Area extends Model<InferAttributes<Area>, InferCreationAttributes<A
   declare updatedAt: CreationOptional<Date>;
 }
 
-const slug = { type: DataTypes.STRING(64), allowNull: false, validate: { is: /^[a-z0-9-]+$/ } };
+// A fresh object per attribute: Sequelize annotates attribute definitions in place.
+const slug = () => ({ type: DataTypes.STRING(64), allowNull: false, validate: { is: /^[a-z0-9-]+$/ } });
 
 export function initTenantModels(sequelize: Sequelize) {
   Tenant.init(
     {
       id: { type: DataTypes.INTEGER, autoIncrement: true, primaryKey: true },
-      slug,
+      slug: slug(),
       name: { type: DataTypes.STRING(200), allowNull: false },
       createdAt: DataTypes.DATE(3),
       updatedAt: DataTypes.DATE(3),
@@ -58,7 +59,7 @@ export function initTenantModels(sequelize: Sequelize) {
     {
       id: { type: DataTypes.INTEGER, autoIncrement: true, primaryKey: true },
       tenantId: { type: DataTypes.INTEGER, allowNull: false },
-      slug,
+      slug: slug(),
       name: { type: DataTypes.STRING(200), allowNull: false },
       timeZone: { type: DataTypes.STRING(64), allowNull: false, defaultValue: "UTC" },
       createdAt: DataTypes.DATE(3),
@@ -71,7 +72,7 @@ export function initTenantModels(sequelize: Sequelize) {
       id: { type: DataTypes.INTEGER, autoIncrement: true, primaryKey: true },
       tenantId: { type: DataTypes.INTEGER, allowNull: false },
       siteId: { type: DataTypes.INTEGER, allowNull: false },
-      slug,
+      slug: slug(),
       name: { type: DataTypes.STRING(200), allowNull: false },
       createdAt: DataTypes.DATE(3),
       updatedAt: DataTypes.DATE(3),

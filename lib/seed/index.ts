@@ -1,0 +1,180 @@
+/**
+ * `seedDemo(sequelize)`: writes the invented demo scenario of ./demo.ts. Idempotent: every row is
+ * found by its natural key first and created only when missing, so running it again (or after a
+ * partial run) changes nothing that exists; an engineer's later edits to demo loops are kept.
+ */
+import bcrypt from "bcryptjs";
+import type { Sequelize, Transaction } from "sequelize";
+import { policyOverrideSchema } from "@/lib/alarms/policy";
+import { hashDeviceSecret } from "@/lib/devices";
+import { initModels, type Models } from "@/models";
+import {
+  DEMO_ACCOUNTS,
+  DEMO_DEVICES,
+  DEMO_LOOPS,
+  DEMO_PASSWORD,
+  DEMO_POLICY_OVERRIDES,
+  DEMO_TENANT_POLICY,
+  DEMO_TENANTS,
+} from "./demo";
+
+export * from "./demo";
+
+export interface SeedSummary {
+  /** Rows created by this call, per table (0 everywhere on a second run). */
+  created: Record<string, number>;
+}
+
+export interface SeedOptions {
+  /** Models already bound to `sequelize` (default: initModels(sequelize)). */
+  models?: Models;
+  /** HMAC key for device secrets (default: config DEVICE_SECRET_PEPPER). */
+  devicePepper?: string;
+  /** bcrypt cost (default 10). */
+  bcryptCost?: number;
+}
+
+export async function seedDemo(sequelize: Sequelize, opts: SeedOptions = {}): Promise<SeedSummary> {
+  const m = opts.models ?? initModels(sequelize);
+  const created: Record<string, number> = {};
+  const count = (table: string, wasCreated: boolean) => {
+    created[table] = (created[table] ?? 0) + (wasCreated ? 1 : 0);
+  };
+  let passwordHash: string | null = null;
+  const demoHash = async () => (passwordHash ??= await bcrypt.hash(DEMO_PASSWORD, opts.bcryptCost ?? 10));
+
+  await sequelize.transaction(async (transaction: Transaction) => {
+    const t = { transaction };
+    const tenantIds = new Map<string, number>();
+    const siteIds = new Map<string, number>();
+    const areaIds = new Map<string, number>();
+    const userIds = new Map<string, number>();
+
+    for (const tenant of DEMO_TENANTS) {
+      const [row, c] = await m.Tenant.findOrCreate({ where: { slug: tenant.slug }, defaults: { slug: tenant.slug, name: tenant.name }, ...t });
+      count("tenants", c);
+      tenantIds.set(tenant.slug, row.id);
+      for (const site of tenant.sites) {
+        const [s, cs] = await m.Site.findOrCreate({
+          where: { tenantId: row.id, slug: site.slug },
+          defaults: { tenantId: row.id, slug: site.slug, name: site.name, timeZone: site.timeZone },
+          ...t,
+        });
+        count("sites", cs);
+        siteIds.set(`${tenant.slug}/${site.slug}`, s.id);
+        for (const area of site.areas) {
+          const [a, ca] = await m.Area.findOrCreate({
+            where: { siteId: s.id, slug: area.slug },
+            defaults: { tenantId: row.id, siteId: s.id, slug: area.slug, name: area.name },
+            ...t,
+          });
+          count("areas", ca);
+          areaIds.set(`${tenant.slug}/${site.slug}/${area.slug}`, a.id);
+        }
+      }
+    }
+
+    for (const acc of DEMO_ACCOUNTS) {
+      let userId = userIds.get(acc.email);
+      if (userId === undefined) {
+        const existing = await m.User.findOne({ where: { email: acc.email }, ...t });
+        if (existing) {
+          userId = existing.id;
+        } else {
+          const u = await m.User.create({ email: acc.email, name: acc.name, passwordHash: await demoHash() }, t);
+          userId = u.id;
+        }
+        count("users", !existing);
+        userIds.set(acc.email, userId);
+      }
+      const tenantId = must(tenantIds.get(acc.tenant), `tenant ${acc.tenant}`);
+      const [, c] = await m.Membership.findOrCreate({
+        where: { userId, tenantId },
+        defaults: { userId, tenantId, role: acc.role },
+        ...t,
+      });
+      count("memberships", c);
+    }
+
+    const loopIds = new Map<string, number>();
+    for (const l of DEMO_LOOPS) {
+      const tenantId = must(tenantIds.get(l.tenant), `tenant ${l.tenant}`);
+      const siteId = must(siteIds.get(`${l.tenant}/${l.site}`), `site ${l.site}`);
+      const areaId = must(areaIds.get(`${l.tenant}/${l.site}/${l.area}`), `area ${l.area}`);
+      const { tenant: _t, site: _s, area: _a, ...fields } = l;
+      const [row, c] = await m.Loop.findOrCreate({
+        where: { tenantId, siteId, slug: l.slug },
+        defaults: { ...fields, tenantId, siteId, areaId, mvLimitLo: null, mvLimitHi: null, tfS: null, cascadeMasterLoopId: null },
+        ...t,
+      });
+      count("loops", c);
+      loopIds.set(l.tag, row.id);
+    }
+
+    for (const tenant of DEMO_TENANTS) {
+      const tenantId = must(tenantIds.get(tenant.slug), tenant.slug);
+      const [, c] = await m.AlarmPolicy.findOrCreate({
+        where: { tenantId, scope: "tenant", scopeId: tenantId },
+        defaults: { tenantId, scope: "tenant", scopeId: tenantId, settings: policyOverrideSchema.parse(DEMO_TENANT_POLICY), updatedBy: null },
+        ...t,
+      });
+      count("alarm_policies", c);
+    }
+    for (const o of DEMO_POLICY_OVERRIDES) {
+      const tenantId = must(tenantIds.get(o.tenant), o.tenant);
+      const scope = o.tag ? "loop" : "site";
+      const scopeId = o.tag ? must(loopIds.get(o.tag), o.tag) : must(siteIds.get(`${o.tenant}/${o.site}`), o.site);
+      const [, c] = await m.AlarmPolicy.findOrCreate({
+        where: { tenantId, scope, scopeId },
+        defaults: { tenantId, scope, scopeId, settings: policyOverrideSchema.parse(o.settings), updatedBy: null },
+        ...t,
+      });
+      count("alarm_policies", c);
+    }
+
+    for (const d of DEMO_DEVICES) {
+      const tenantId = must(tenantIds.get(d.tenantSlug), d.tenantSlug);
+      const siteId = must(siteIds.get(`${d.tenantSlug}/${d.siteSlug}`), d.siteSlug);
+      const [, c] = await m.DeviceCredential.findOrCreate({
+        where: { keyId: d.keyId },
+        defaults: {
+          tenantId,
+          siteId,
+          name: d.name,
+          clientId: d.clientId,
+          keyId: d.keyId,
+          secretHash: hashDeviceSecret(d.secret, opts.devicePepper),
+          createdBy: null,
+        },
+        ...t,
+      });
+      count("device_credentials", c);
+    }
+
+    for (const tenant of DEMO_TENANTS) {
+      const tenantId = must(tenantIds.get(tenant.slug), tenant.slug);
+      const people = DEMO_ACCOUNTS.filter((a) => a.tenant === tenant.slug && (a.role === "operator" || a.role === "engineer"));
+      const name = "Shift team: urgent and high alarms";
+      const [, c] = await m.NotificationRule.findOrCreate({
+        where: { tenantId, name },
+        defaults: {
+          tenantId,
+          areaId: null,
+          name,
+          recipients: people.map((p) => p.email),
+          minPriority: "high",
+          escalationMinutes: 15,
+          repeatMinutes: 60,
+        },
+        ...t,
+      });
+      count("notification_rules", c);
+    }
+  });
+  return { created };
+}
+
+function must<T>(v: T | undefined, what: string): T {
+  if (v === undefined) throw new Error(`Demo seed: ${what} missing (inconsistent demo data).`);
+  return v;
+}
