@@ -1,0 +1,1 @@
+export { getLoopConfigHandler as GET } from "@/lib/admin/loop-routes";

@@ -1,0 +1,12 @@
+/** Small helpers shared by the admin route handlers. */
+import { z } from "zod";
+import { ValidationError } from "@/lib/errors";
+
+/** A positive integer id from a dynamic route segment (422 otherwise). */
+export function idParam(raw: string | undefined, what: string): number {
+  const n = Number(raw);
+  if (!Number.isInteger(n) || n <= 0) throw new ValidationError(`${what} must be a positive integer.`);
+  return n;
+}
+
+export const reasonSchema = z.object({ reason: z.string().trim().min(3, "Give a reason (at least 3 characters).").max(500) }).strict();

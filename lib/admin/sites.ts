@@ -1,0 +1,79 @@
+/** Sites and their operator areas (admin creates; every role reads them for forms and filters). */
+import { UniqueConstraintError } from "sequelize";
+import { z } from "zod";
+import { getDb } from "@/lib/db/sequelize";
+import { ConflictError, NotFoundError, ValidationError } from "@/lib/errors";
+import { slugify } from "@/lib/slug";
+import { findOwned } from "@/lib/tenancy";
+import type { TenantContext } from "@/lib/types";
+import { logConfigChange } from "./config-log";
+
+export const siteSchema = z
+  .object({
+    name: z.string().trim().min(2, "Name the site.").max(120),
+    timeZone: z
+      .string()
+      .trim()
+      .refine((tz) => {
+        try {
+          new Intl.DateTimeFormat("en", { timeZone: tz });
+          return true;
+        } catch {
+          return false;
+        }
+      }, "Use an IANA time zone such as Europe/Berlin."),
+    reason: z.string().trim().max(500).optional(),
+  })
+  .strict();
+export const areaSchema = z.object({ name: z.string().trim().min(2, "Name the area.").max(120), reason: z.string().trim().max(500).optional() }).strict();
+
+export interface SiteDto {
+  id: number;
+  slug: string;
+  name: string;
+  timeZone: string;
+  areas: { id: number; slug: string; name: string }[];
+}
+
+export async function listSites(ctx: TenantContext): Promise<SiteDto[]> {
+  const { Site, Area } = getDb().models;
+  const sites = await Site.findAll({ where: { tenantId: ctx.tenantId }, order: [["name", "ASC"]] });
+  const areas = await Area.findAll({ where: { tenantId: ctx.tenantId }, order: [["name", "ASC"]] });
+  return sites.map((s) => ({
+    id: s.id,
+    slug: s.slug,
+    name: s.name,
+    timeZone: s.timeZone,
+    areas: areas.filter((a) => a.siteId === s.id).map((a) => ({ id: a.id, slug: a.slug, name: a.name })),
+  }));
+}
+
+export async function createSite(ctx: TenantContext, input: z.infer<typeof siteSchema>): Promise<SiteDto> {
+  const { Site } = getDb().models;
+  const slug = slugify(input.name);
+  if (!slug) throw new ValidationError("name: the name must contain a letter or a digit.");
+  try {
+    const s = await Site.create({ tenantId: ctx.tenantId, slug, name: input.name, timeZone: input.timeZone });
+    await logConfigChange(ctx, { entity: "site", entityId: s.id, diff: { name: { from: null, to: input.name } }, reason: input.reason ?? null });
+    return { id: s.id, slug, name: s.name, timeZone: s.timeZone, areas: [] };
+  } catch (e) {
+    if (e instanceof UniqueConstraintError) throw new ConflictError(`A site named like "${input.name}" already exists.`);
+    throw e;
+  }
+}
+
+export async function createArea(ctx: TenantContext, siteId: number, input: z.infer<typeof areaSchema>): Promise<{ id: number; slug: string; name: string }> {
+  const { Site, Area } = getDb().models;
+  const site = await findOwned(Site, ctx, siteId);
+  if (!site) throw new NotFoundError("Site");
+  const slug = slugify(input.name);
+  if (!slug) throw new ValidationError("name: the name must contain a letter or a digit.");
+  try {
+    const a = await Area.create({ tenantId: ctx.tenantId, siteId, slug, name: input.name });
+    await logConfigChange(ctx, { entity: "area", entityId: a.id, diff: { name: { from: null, to: input.name } }, reason: input.reason ?? null });
+    return { id: a.id, slug, name: a.name };
+  } catch (e) {
+    if (e instanceof UniqueConstraintError) throw new ConflictError(`An area named like "${input.name}" already exists at this site.`);
+    throw e;
+  }
+}

@@ -1,0 +1,168 @@
+/**
+ * Users and roles of a tenant (admin): list members and pending invitations, invite by e-mail
+ * (a one-time link to set a password; only the token's SHA-256 is stored), change a role,
+ * remove a membership, and accept an invitation. A role change or removal takes effect at once:
+ * the auth layer re-reads memberships and is told through notifyUserChanged.
+ */
+import { createHash, randomBytes } from "node:crypto";
+import bcrypt from "bcryptjs";
+import { z } from "zod";
+import { publicOrigin } from "@/lib/config";
+import { getDb } from "@/lib/db/sequelize";
+import { ConflictError, NotFoundError, ValidationError } from "@/lib/errors";
+import { getServerContext, notifyUserChanged } from "@/lib/server-context";
+import { ROLES, type Role, type TenantContext } from "@/lib/types";
+import type { MailService } from "@/server/mail";
+import { logConfigChange } from "./config-log";
+
+export const INVITATION_TTL_MS = 72 * 3600_000;
+
+export const inviteSchema = z
+  .object({
+    email: z.string().trim().toLowerCase().email("Enter a valid e-mail address."),
+    role: z.enum(ROLES),
+    reason: z.string().trim().max(500).optional(),
+  })
+  .strict();
+export const roleChangeSchema = z.object({ role: z.enum(ROLES), reason: z.string().trim().min(3, "Give a reason.").max(500) }).strict();
+export const acceptSchema = z
+  .object({
+    name: z.string().trim().min(1, "Your name is required.").max(120),
+    password: z.string().min(12, "At least 12 characters.").max(200),
+  })
+  .strict();
+
+export interface MemberDto {
+  membershipId: number;
+  userId: number;
+  email: string;
+  name: string;
+  role: Role;
+  disabled: boolean;
+  lastSignInAt: string | null;
+}
+export interface InvitationDto {
+  id: number;
+  email: string;
+  role: Role;
+  expiresAt: string;
+  usedAt: string | null;
+}
+
+const hashToken = (t: string) => createHash("sha256").update(t, "utf8").digest("hex");
+
+export async function listMembers(ctx: TenantContext): Promise<{ members: MemberDto[]; invitations: InvitationDto[] }> {
+  const { Membership, User, Invitation } = getDb().models;
+  const rows = await Membership.findAll({ where: { tenantId: ctx.tenantId }, include: [{ model: User, as: "user" }], order: [["id", "ASC"]] });
+  const members = rows.map((m) => {
+    const u = (m as unknown as { user: InstanceType<typeof User> }).user;
+    return {
+      membershipId: m.id,
+      userId: u.id,
+      email: u.email,
+      name: u.name,
+      role: m.role,
+      disabled: Boolean(u.disabled),
+      lastSignInAt: u.lastSignInAt ? new Date(u.lastSignInAt).toISOString() : null,
+    };
+  });
+  const inv = await Invitation.findAll({ where: { tenantId: ctx.tenantId }, order: [["id", "DESC"]], limit: 100 });
+  return {
+    members,
+    invitations: inv.map((i) => ({ id: i.id, email: i.email, role: i.role, expiresAt: new Date(i.expiresAt).toISOString(), usedAt: i.usedAt ? new Date(i.usedAt).toISOString() : null })),
+  };
+}
+
+/** Create an invitation and send the one-time link. Returns the invitation (never the token). */
+export async function inviteUser(ctx: TenantContext, input: z.infer<typeof inviteSchema>, now = Date.now()): Promise<InvitationDto & { mailed: boolean }> {
+  const { Invitation, Membership, User } = getDb().models;
+  const existing = await User.findOne({ where: { email: input.email } });
+  if (existing) {
+    const m = await Membership.findOne({ where: { tenantId: ctx.tenantId, userId: existing.id } });
+    if (m) throw new ConflictError(`${input.email} is already a member of this tenant.`);
+  }
+  const token = randomBytes(32).toString("base64url");
+  const inv = await Invitation.create({
+    tenantId: ctx.tenantId,
+    email: input.email,
+    role: input.role,
+    tokenHash: hashToken(token),
+    invitedBy: ctx.userId,
+    expiresAt: new Date(now + INVITATION_TTL_MS),
+  });
+  await logConfigChange(ctx, { entity: "invitation", entityId: inv.id, diff: { email: { from: null, to: input.email }, role: { from: null, to: input.role } }, reason: input.reason ?? null });
+  const link = `${publicOrigin()}/invite/${token}`;
+  const srv = getServerContext();
+  const mail = (srv?.services.get("mail") as MailService | undefined) ?? null;
+  let mailed = false;
+  if (mail) {
+    await mail.send({
+      to: [input.email],
+      subject: `Rimguard: you are invited to ${ctx.tenantName}`,
+      text: [
+        `${ctx.name} invited you to ${ctx.tenantName} on Rimguard as ${input.role}.`,
+        ``,
+        `Set your password with this one-time link (valid for ${INVITATION_TTL_MS / 3600_000} hours):`,
+        link,
+        ``,
+        `If you did not expect this, ignore this message.`,
+      ].join("\n"),
+    });
+    mailed = true;
+  }
+  return { id: inv.id, email: inv.email, role: inv.role, expiresAt: inv.expiresAt.toISOString(), usedAt: null, mailed };
+}
+
+export async function changeRole(ctx: TenantContext, membershipId: number, input: z.infer<typeof roleChangeSchema>): Promise<MemberDto> {
+  const { Membership, User } = getDb().models;
+  const m = await Membership.findOne({ where: { id: membershipId, tenantId: ctx.tenantId }, include: [{ model: User, as: "user" }] });
+  if (!m) throw new NotFoundError("Membership");
+  if (m.userId === ctx.userId && input.role !== "admin") throw new ValidationError("You cannot lower your own role; ask another admin.");
+  const from = m.role;
+  if (from !== input.role) {
+    await m.update({ role: input.role });
+    await logConfigChange(ctx, { entity: "membership", entityId: m.id, diff: { role: { from, to: input.role } }, reason: input.reason });
+    notifyUserChanged(m.userId);
+  }
+  const u = (m as unknown as { user: InstanceType<typeof User> }).user;
+  return { membershipId: m.id, userId: u.id, email: u.email, name: u.name, role: m.role, disabled: Boolean(u.disabled), lastSignInAt: u.lastSignInAt ? new Date(u.lastSignInAt).toISOString() : null };
+}
+
+export async function removeMember(ctx: TenantContext, membershipId: number, reason: string): Promise<void> {
+  const { Membership } = getDb().models;
+  const m = await Membership.findOne({ where: { id: membershipId, tenantId: ctx.tenantId } });
+  if (!m) throw new NotFoundError("Membership");
+  if (m.userId === ctx.userId) throw new ValidationError("You cannot remove yourself.");
+  await m.destroy();
+  await logConfigChange(ctx, { entity: "membership", entityId: membershipId, diff: { role: { from: m.role, to: null } }, reason });
+  notifyUserChanged(m.userId);
+}
+
+/** What the set-password page shows for a token (null when unknown, used or expired). */
+export async function describeInvitation(token: string, now = Date.now()): Promise<{ email: string; tenantName: string; role: Role } | null> {
+  const { Invitation, Tenant } = getDb().models;
+  if (!/^[A-Za-z0-9_-]{20,100}$/.test(token)) return null;
+  const inv = await Invitation.findOne({ where: { tokenHash: hashToken(token) } });
+  if (!inv || inv.usedAt || inv.expiresAt.getTime() < now) return null;
+  const t = await Tenant.findByPk(inv.tenantId);
+  return { email: inv.email, tenantName: t?.name ?? "", role: inv.role };
+}
+
+/** Use a one-time token: create or update the user, add the membership, mark the token used. */
+export async function acceptInvitation(token: string, input: z.infer<typeof acceptSchema>, now = Date.now()): Promise<{ email: string }> {
+  const { Invitation, User, Membership } = getDb().models;
+  const { sequelize } = getDb();
+  if (!/^[A-Za-z0-9_-]{20,100}$/.test(token)) throw new NotFoundError("Invitation");
+  const passwordHash = await bcrypt.hash(input.password, 12);
+  return sequelize.transaction(async (transaction) => {
+    const inv = await Invitation.findOne({ where: { tokenHash: hashToken(token) }, transaction, lock: transaction.LOCK.UPDATE });
+    if (!inv || inv.usedAt || inv.expiresAt.getTime() < now) throw new NotFoundError("Invitation (unknown, used or expired)");
+    let user = await User.findOne({ where: { email: inv.email }, transaction });
+    if (!user) user = await User.create({ email: inv.email, name: input.name, passwordHash }, { transaction });
+    else await user.update({ name: input.name, passwordHash, sessionVersion: (user.sessionVersion ?? 0) + 1 }, { transaction });
+    const m = await Membership.findOne({ where: { tenantId: inv.tenantId, userId: user.id }, transaction });
+    if (!m) await Membership.create({ tenantId: inv.tenantId, userId: user.id, role: inv.role }, { transaction });
+    await inv.update({ usedAt: new Date(now) }, { transaction });
+    return { email: inv.email };
+  });
+}
