@@ -1,0 +1,605 @@
+/**
+ * One loop's tracker (ARCHITECTURE.md §4): telemetry in, a `LoopStateDto` out.
+ *
+ * Per telemetry sample: PV, SP and MV are scaled to % of their spans (the units of the
+ * controller's %/% gains), clipped to ±10,000 % so hostile-but-valid numbers cannot overflow the
+ * estimators, and averaged over `decimation` samples (estimation period Te = decimation x the
+ * telemetry period: block averaging is the anti-alias filter). Per estimation sample:
+ * 1. plant model MV -> PV: `ArxEstimator` (na, nb, nk from the loop's configuration), operating
+ *    point removed by the estimator's tracked mean, updated only while its excitation gate is
+ *    open; it keeps learning in manual (operator moves are the best excitation) and pauses while
+ *    the MV is pinned at a limit or the PV is flat-lined (no information, and a frozen PV is false);
+ * 2. closed-loop poles two ways:
+ *    - model-based: `closedLoopPolynomial(plant model, controller)`. The controller is the loop's
+ *      configured PI/PID through `discretePid` AT THE ESTIMATION PERIOD Te. When Te equals the
+ *      controller's execution period Tc this is exactly the loop as it runs. When the telemetry
+ *      is decimated (Te > Tc) the plant model exists only at Te, so the controller is
+ *      re-discretised at Te with the same continuous tuning (backward differences) instead of
+ *      mapping a model we do not have down to Tc. The dominant poles then approximate the true
+ *      ones as long as Te keeps wn Te in the 0.1-0.6 range the period proposal aims at; decay
+ *      ratio, damping and wn are period-invariant, radii are those at Te (the DTO says which
+ *      period: `estimationPeriodS`).
+ *    - data-only: an ARX model SP -> PV of the closed loop (order = the closed-loop degree, at
+ *      most 8) by RLS without gating. While the set point has not moved within the estimator's
+ *      memory its regressors in SP are empty and it is an AR model of the PV: the
+ *      disturbance-response poles, biased by the disturbance's own dynamics, labelled so.
+ * 3. radius, rim distance, the decay ratio of the dominant oscillating mode, Jury verdict,
+ *    dominant pole's zeta / wn / tau, gain headroom, radius confidence (delta method), crossing
+ *    forecast of the radius over a window far longer than the estimator's memory.
+ * A full state is computed at most once per second of telemetry time (and on state changes).
+ */
+import { ArxEstimator, type ArxEstimatorState } from "@/lib/control/arx";
+import { closedLoopPolynomial, discretePid, gainHeadroom } from "@/lib/control/closed-loop";
+import { closedLoopCoefficientCovariance, poleConfidence } from "@/lib/control/confidence";
+import { forecastCrossing } from "@/lib/control/forecast";
+import { juryTest } from "@/lib/control/jury";
+import { polyMul, qToZ, stripLeadingZeros } from "@/lib/control/poly";
+import { polyRoots } from "@/lib/control/roots";
+import type { Complex, QTf } from "@/lib/control/types";
+import { decayRatio, poleCharacteristics } from "@/lib/control/zplane";
+import type { LoopMode, LoopStateDto, PoleDto, SampleDto, TrackerState } from "@/lib/types";
+import type { Clock } from "../context";
+import type { LoopConfig } from "./types";
+
+/** Normalised signals are clipped to this many % of span (100 x the span either way). */
+const CLIP_PCT = 10_000;
+/** An MV within this fraction of its span of a limit counts as at the limit. */
+const LIMIT_TOLERANCE = 5e-4;
+/** Consecutive samples at a limit before the loop counts as saturated. */
+const LIMIT_RUN = 3;
+/** Largest order of the data-only closed-loop model. */
+const MAX_DATA_ORDER = 8;
+
+export interface LoopTrackerOptions {
+  clock: Clock;
+  /** Length of the (t, radius) history for the crossing forecast, seconds; default the larger
+   * of 3600 and 20 estimator memories. The history keeps at most one point per window/720. */
+  forecastWindowS?: number;
+  /** Telemetry seconds between full state computations; default 1. */
+  stateEveryS?: number;
+  /** A PV repeated exactly for this many seconds of samples counts as flat-lined; default 30 (at least 20 samples). */
+  flatSeconds?: number;
+}
+
+/** Serialisable tracker state (estimators and the radius history), for checkpoints. */
+export interface TrackerCheckpoint {
+  version: 1;
+  loopId: number;
+  /** The structure the estimators were built for; a restore into a different one is refused. */
+  structure: { na: number; nb: number; nk: number; estimationPeriodS: number; dataOrder: number };
+  plant: ArxEstimatorState;
+  data: ArxEstimatorState;
+  estimationSamples: number;
+  lastPlantUpdate: number;
+  lastSpMove: number;
+  samplesSeen: number;
+  radiusHistory: { t: number; value: number }[];
+  yVariance: number;
+  yMean: number;
+}
+
+function finite(x: number | null | undefined): number | null {
+  return x !== null && x !== undefined && Number.isFinite(x) ? x : null;
+}
+
+function clipPct(x: number): number {
+  return x > CLIP_PCT ? CLIP_PCT : x < -CLIP_PCT ? -CLIP_PCT : x;
+}
+
+function modulus(z: Complex): number {
+  return Math.hypot(z.re, z.im);
+}
+
+export class LoopTracker {
+  config: LoopConfig;
+  readonly decimation: number;
+  readonly estimationPeriodS: number;
+  readonly dataOrder: number;
+  private readonly clock: Clock;
+  private readonly forecastWindowS: number;
+  private readonly forecastPointEveryS: number;
+  private cachedForecast: LoopStateDto["forecast"] = null;
+  private cachedHeadroom: { value: number | null; at: number } = { value: null, at: -Infinity };
+  private readonly stateEvery: number;
+  private readonly flatLimit: number;
+  private controller: QTf;
+  private plant: ArxEstimator;
+  private data: ArxEstimator;
+  private readonly minUpdates: number;
+  private readonly memory: number;
+  // decimation accumulators
+  private accY = 0;
+  private accU = 0;
+  private accR = 0;
+  private accN = 0;
+  private accManual = false;
+  private accSaturated = false;
+  private accFlat = false;
+  // per-sample detectors
+  private lastPv: number | null = null;
+  private flatRun = 0;
+  private limitRun = 0;
+  private limitSide: "high" | "low" | null = null;
+  private lastMode: LoopMode | null = null;
+  private lastR: number | null = null;
+  // counters (in estimation samples unless said otherwise)
+  private estimationSamples = 0;
+  private lastPlantUpdate = -Infinity;
+  private lastSpMove = -Infinity;
+  private lastStateAt = -Infinity;
+  private samplesSeen = 0;
+  private yMean = 0;
+  private yVariance = 0;
+  private radiusHistory: { t: number; value: number }[] = [];
+  private lastSample: SampleDto | null = null;
+  private receivedAt: number | null = null;
+  private state: LoopStateDto;
+  private stateReasonOverride: string | null = null;
+  /** Samples skipped because their timestamp was not after the previous one. */
+  outOfOrder = 0;
+
+  constructor(config: LoopConfig, options: LoopTrackerOptions) {
+    validateConfig(config);
+    this.config = config;
+    this.clock = options.clock;
+    this.decimation = Math.max(1, Math.round(config.estimationPeriodS / config.telemetryPeriodS));
+    this.estimationPeriodS = this.decimation * config.telemetryPeriodS;
+    this.stateEvery = Math.max(1, Math.round((options.stateEveryS ?? 1) / this.estimationPeriodS));
+    this.flatLimit = Math.max(20, Math.ceil((options.flatSeconds ?? 30) / config.telemetryPeriodS));
+    this.controller = this.makeController();
+    const lambda = config.forgetting ?? 0.995;
+    this.memory = 1 / (1 - lambda);
+    this.forecastWindowS = options.forecastWindowS ?? Math.max(3600, 20 * this.memory * this.estimationPeriodS);
+    this.forecastPointEveryS = Math.max(this.estimationPeriodS, this.forecastWindowS / 720);
+    this.minUpdates = Math.max(50, 10 * (config.na + config.nb));
+    this.plant = this.makePlantEstimator();
+    const degree = Math.max(config.na + this.controller.den.length - 1, config.nk + config.nb - 1 + this.controller.num.length - 1);
+    this.dataOrder = Math.min(MAX_DATA_ORDER, Math.max(2, degree));
+    this.data = this.makeDataEstimator();
+    this.state = this.emptyState("learning", "waiting for telemetry");
+  }
+
+  private makeController(): QTf {
+    const c = this.config.controller;
+    return discretePid({
+      kp: c.kp,
+      ti: c.ti ?? undefined,
+      td: c.td,
+      tf: c.tf > 0 ? c.tf : undefined,
+      T: this.estimationPeriodS,
+      action: c.action,
+      form: c.form,
+    });
+  }
+
+  private makePlantEstimator(): ArxEstimator {
+    const c = this.config;
+    return new ArxEstimator({ na: c.na, nb: c.nb, nk: c.nk, forgetting: c.forgetting ?? 0.995, T: this.estimationPeriodS });
+  }
+
+  private makeDataEstimator(): ArxEstimator {
+    return new ArxEstimator({
+      na: this.dataOrder,
+      nb: this.dataOrder,
+      nk: 1,
+      forgetting: this.config.forgetting ?? 0.995,
+      T: this.estimationPeriodS,
+      gating: "none",
+    });
+  }
+
+  /** Replace the configuration. Same estimation structure: the estimators are kept (a new
+   * tuning only changes the model-based poles, the plant model does not depend on it). */
+  reconfigure(config: LoopConfig): "kept" | "relearn" {
+    validateConfig(config);
+    const old = this.config;
+    const sameStructure =
+      old.na === config.na &&
+      old.nb === config.nb &&
+      old.nk === config.nk &&
+      old.telemetryPeriodS === config.telemetryPeriodS &&
+      Math.max(1, Math.round(config.estimationPeriodS / config.telemetryPeriodS)) === this.decimation &&
+      (old.forgetting ?? 0.995) === (config.forgetting ?? 0.995) &&
+      old.pvLo === config.pvLo &&
+      old.pvHi === config.pvHi &&
+      old.mvLo === config.mvLo &&
+      old.mvHi === config.mvHi;
+    if (!sameStructure) return "relearn";
+    this.config = config;
+    this.controller = this.makeController();
+    this.cachedHeadroom = { value: null, at: -Infinity };
+    return "kept";
+  }
+
+  /** The latest state (no computation). */
+  get current(): LoopStateDto {
+    return this.state;
+  }
+
+  /**
+   * Take a batch of validated samples (oldest first) received at `receivedAt` (epoch ms).
+   * Returns the new state when one was computed, else null. Never throws on finite input;
+   * non-finite or out-of-order samples are skipped and counted.
+   */
+  push(samples: readonly SampleDto[], receivedAt: number): LoopStateDto | null {
+    let computed = false;
+    const prevKind = this.state.trackerState;
+    if (Number.isFinite(receivedAt) && samples.length > 0) this.receivedAt = receivedAt;
+    for (const s of samples) {
+      if (!Number.isFinite(s.t) || !Number.isFinite(s.pv) || !Number.isFinite(s.sp) || !Number.isFinite(s.mv)) {
+        this.outOfOrder++;
+        continue;
+      }
+      if (this.lastSample && s.t <= this.lastSample.t) {
+        this.outOfOrder++;
+        continue;
+      }
+      if (this.ingest(s)) computed = true;
+    }
+    const kind = this.currentKind(this.clock.now());
+    if (!computed && kind.state !== prevKind && this.samplesSeen > 0) {
+      this.refreshStateOnly(kind);
+      return this.state;
+    }
+    return computed ? this.state : null;
+  }
+
+  private ingest(s: SampleDto): boolean {
+    const c = this.config;
+    this.samplesSeen++;
+    this.lastSample = { t: s.t, sp: s.sp, pv: s.pv, mv: s.mv, mode: s.mode };
+    const y = clipPct((100 * (s.pv - c.pvLo)) / (c.pvHi - c.pvLo));
+    const u = clipPct((100 * (s.mv - c.mvLo)) / (c.mvHi - c.mvLo));
+    const r = clipPct((100 * (s.sp - c.pvLo)) / (c.pvHi - c.pvLo));
+    // flat-lined PV: a live measurement never repeats exactly for long (noise, quantisation aside)
+    if (this.lastPv !== null && s.pv === this.lastPv) this.flatRun++;
+    else this.flatRun = 0;
+    this.lastPv = s.pv;
+    const tol = LIMIT_TOLERANCE * (c.mvHi - c.mvLo);
+    const side = s.mv >= c.mvLimitHi - tol ? "high" : s.mv <= c.mvLimitLo + tol ? "low" : null;
+    if (side && side === this.limitSide) this.limitRun++;
+    else this.limitRun = side ? 1 : 0;
+    this.limitSide = side;
+    this.lastMode = s.mode;
+    this.accY += y;
+    this.accU += u;
+    this.accR += r;
+    this.accN++;
+    if (s.mode === "manual") this.accManual = true;
+    if (this.limitRun >= LIMIT_RUN) this.accSaturated = true;
+    if (this.flatRun >= this.flatLimit) this.accFlat = true;
+    if (this.accN < this.decimation) return false;
+    const yy = this.accY / this.accN;
+    const uu = this.accU / this.accN;
+    const rr = this.accR / this.accN;
+    const manual = this.accManual;
+    const saturated = this.accSaturated;
+    const flat = this.accFlat;
+    this.accY = this.accU = this.accR = 0;
+    this.accN = 0;
+    this.accManual = this.accSaturated = this.accFlat = false;
+    return this.estimate(uu, yy, rr, manual, saturated, flat, s.t);
+  }
+
+  private estimate(u: number, y: number, r: number, manual: boolean, saturated: boolean, flat: boolean, t: number): boolean {
+    const k = this.estimationSamples++;
+    if (this.lastR !== null && Math.abs(r - this.lastR) > 0.05) this.lastSpMove = k;
+    this.lastR = r;
+    // running PV variance (for the fit figure), same memory as the estimator
+    const w = 1 / Math.min(k + 1, this.memory);
+    const d = y - this.yMean;
+    this.yMean += w * d;
+    this.yVariance = (1 - w) * (this.yVariance + w * d * d);
+    const learn = !saturated && !flat;
+    try {
+      if (this.plant.push(u, y, learn)) this.lastPlantUpdate = k;
+      this.data.push(r, y, learn && !manual);
+    } catch {
+      this.resetEstimators("estimators restarted after a numerical failure");
+    }
+    if (!this.parametersFinite()) this.resetEstimators("estimators restarted after a numerical overflow");
+    if (k - this.lastStateAt < this.stateEvery) return false;
+    this.lastStateAt = k;
+    this.computeState(t);
+    return true;
+  }
+
+  private parametersFinite(): boolean {
+    const a = this.plant.rls.theta;
+    const b = this.data.rls.theta;
+    for (let i = 0; i < a.length; i++) if (!Number.isFinite(a[i]!)) return false;
+    for (let i = 0; i < b.length; i++) if (!Number.isFinite(b[i]!)) return false;
+    return true;
+  }
+
+  private resetEstimators(reason: string): void {
+    this.plant = this.makePlantEstimator();
+    this.data = this.makeDataEstimator();
+    this.lastPlantUpdate = -Infinity;
+    this.cachedHeadroom = { value: null, at: -Infinity };
+    this.stateReasonOverride = reason;
+  }
+
+  /** The tracker state and its reason at time `now` (epoch ms), from the detectors and counters. */
+  private currentKind(now: number): { state: TrackerState; reason: string | null } {
+    const c = this.config;
+    if (this.receivedAt === null) return { state: "learning", reason: "waiting for telemetry" };
+    const silence = now - this.receivedAt;
+    if (silence > 3 * c.telemetryPeriodS * 1000) return { state: "stale", reason: `no sample for ${(silence / 1000).toFixed(silence < 10_000 ? 1 : 0)} s` };
+    if (this.flatRun >= this.flatLimit) {
+      return { state: "stale", reason: `PV flat at ${fmt(this.lastPv)} for ${this.flatRun + 1} samples: frozen transmitter?` };
+    }
+    if (this.lastMode === "manual") return { state: "manual", reason: "loop in manual: the controller is not acting" };
+    if (this.limitRun >= LIMIT_RUN) {
+      const lim = this.limitSide === "high" ? c.mvLimitHi : c.mvLimitLo;
+      return { state: "saturated", reason: `MV at its ${this.limitSide} limit (${fmt(lim)}): the loop is open` };
+    }
+    if (this.stateReasonOverride && this.plant.updates < this.minUpdates) return { state: "learning", reason: this.stateReasonOverride };
+    if (this.plant.updates < this.minUpdates) {
+      return { state: "learning", reason: `plant model learning: ${this.plant.updates} of ${this.minUpdates} updates` };
+    }
+    const idle = this.estimationSamples - this.lastPlantUpdate;
+    if (idle > this.memory) {
+      return {
+        state: "low-excitation",
+        reason: `no set-point or manual move for ${Math.round(idle * this.estimationPeriodS)} s: plant model held`,
+      };
+    }
+    return { state: "tracking", reason: null };
+  }
+
+  /**
+   * Staleness check for the registry's timer: returns the new state when the tracker state
+   * changed at `now` (e.g. to `stale` after 3 silent periods), else null.
+   */
+  checkStale(now: number): LoopStateDto | null {
+    if (this.receivedAt === null) return null;
+    const kind = this.currentKind(now);
+    if (kind.state === this.state.trackerState && kind.reason === this.state.stateReason) return null;
+    if (kind.state !== "stale" && this.state.trackerState !== "stale") return null;
+    this.refreshStateOnly(kind);
+    return this.state;
+  }
+
+  private refreshStateOnly(kind: { state: TrackerState; reason: string | null }): void {
+    this.state = { ...this.state, at: this.clock.now(), receivedAt: this.receivedAt, trackerState: kind.state, stateReason: kind.reason, samples: this.samplesSeen, last: this.lastSample };
+  }
+
+  private emptyState(state: TrackerState, reason: string | null): LoopStateDto {
+    return {
+      loopId: this.config.id,
+      tenantId: this.config.tenantId,
+      at: this.clock.now(),
+      receivedAt: this.receivedAt,
+      trackerState: state,
+      stateReason: reason,
+      estimationPeriodS: this.estimationPeriodS,
+      samples: this.samplesSeen,
+      excitation: null,
+      fitPercent: null,
+      spectralRadius: null,
+      rimDistance: null,
+      decayRatio: null,
+      juryStable: null,
+      dominant: null,
+      gainHeadroom: null,
+      radiusSd: null,
+      forecast: null,
+      modelPoles: [],
+      dataPoles: [],
+      dataPolesKind: "disturbance-response",
+      zeros: [],
+      characteristic: null,
+      delaySamples: this.config.nk,
+      last: this.lastSample,
+    };
+  }
+
+  private computeState(sampleT: number): void {
+    const now = this.clock.now();
+    const kind = this.currentKind(now);
+    const st = this.emptyState(kind.state, kind.reason);
+    st.at = now;
+    const ex = this.plant.excitation();
+    st.excitation = finite(ex.ratio);
+    const s2 = this.plant.residualVariance();
+    if (Number.isFinite(s2) && this.yVariance > 0) st.fitPercent = finite(Math.max(-100, Math.min(100, 100 * (1 - Math.sqrt(s2 / this.yVariance)))));
+    // data-only poles
+    const memorySamples = this.memory;
+    st.dataPolesKind = this.estimationSamples - this.lastSpMove <= memorySamples ? "closed-loop" : "disturbance-response";
+    if (this.data.updates >= Math.max(50, 10 * this.dataOrder)) st.dataPoles = this.dataPoles();
+    if (this.plant.updates >= this.minUpdates) this.modelBased(st);
+    if (st.spectralRadius !== null && (kind.state === "tracking" || kind.state === "low-excitation")) {
+      const t = sampleT / 1000;
+      const last = this.radiusHistory[this.radiusHistory.length - 1];
+      if (!last || t >= last.t + this.forecastPointEveryS) {
+        this.radiusHistory.push({ t, value: st.spectralRadius });
+        const cutoff = t - this.forecastWindowS;
+        let drop = 0;
+        while (drop < this.radiusHistory.length && this.radiusHistory[drop]!.t < cutoff) drop++;
+        if (drop > 0) this.radiusHistory.splice(0, drop);
+        this.cachedForecast = this.forecast();
+      }
+      st.forecast = this.cachedForecast;
+    } else {
+      this.cachedForecast = null;
+    }
+    this.state = st;
+  }
+
+  private dataPoles(): PoleDto[] {
+    try {
+      const m = this.data.model();
+      const coeffs = [1, ...m.a];
+      const roots = polyRoots(coeffs);
+      const cov = this.data.parameterCovariance().slice(0, m.a.length).map((row) => row.slice(0, m.a.length));
+      let conf: ReturnType<typeof poleConfidence> | null = null;
+      try {
+        conf = poleConfidence(coeffs, cov, { roots });
+      } catch {
+        conf = null;
+      }
+      return roots.map((z, i) => toPoleDto(z, conf?.[i]));
+    } catch {
+      return [];
+    }
+  }
+
+  private modelBased(st: LoopStateDto): void {
+    try {
+      const model = this.plant.model();
+      const char = closedLoopPolynomial(model, this.controller);
+      const roots = polyRoots(char);
+      if (roots.some((z) => !Number.isFinite(z.re) || !Number.isFinite(z.im))) return;
+      let conf: ReturnType<typeof poleConfidence> | null = null;
+      try {
+        const cc = closedLoopCoefficientCovariance(model, this.controller, this.plant.parameterCovariance());
+        conf = cc.coeffs.length === char.length ? poleConfidence(char, cc.covariance, { roots }) : null;
+      } catch {
+        conf = null;
+      }
+      st.characteristic = char.every(Number.isFinite) ? char : null;
+      st.modelPoles = roots.map((z, i) => toPoleDto(z, conf?.[i]));
+      let rho = 0;
+      let dom = 0;
+      roots.forEach((z, i) => {
+        const r = modulus(z);
+        if (r > rho) {
+          rho = r;
+          dom = i;
+        }
+      });
+      st.spectralRadius = finite(rho);
+      st.rimDistance = finite(1 - rho);
+      st.radiusSd = finite(conf?.[dom]?.radiusStd);
+      let worstDecay: number | null = null;
+      for (const z of roots) {
+        if (z.im === 0) continue;
+        const dr = decayRatio(z);
+        if (dr !== null && Number.isFinite(dr) && (worstDecay === null || dr > worstDecay)) worstDecay = dr;
+      }
+      st.decayRatio = worstDecay;
+      st.juryStable = juryTest(char).stable;
+      const pc = poleCharacteristics(roots[dom]!, this.estimationPeriodS);
+      st.dominant = { zeta: finite(pc.zeta), wn: finite(pc.wn), timeConstant: finite(pc.timeConstant) };
+      // the headroom search costs as much as the rest together: refreshed every 5 states
+      if (this.estimationSamples - this.cachedHeadroom.at >= 5 * this.stateEvery) {
+        this.cachedHeadroom = { value: finite(gainHeadroom(model, this.controller)), at: this.estimationSamples };
+      }
+      st.gainHeadroom = this.cachedHeadroom.value;
+      const num = stripLeadingZeros(polyMul(qToZ(model.b), qToZ(this.controller.num)));
+      st.zeros = num.length > 1 && num.every(Number.isFinite) ? polyRoots(num).filter((z) => Number.isFinite(z.re) && Number.isFinite(z.im)) : [];
+    } catch {
+      // a degenerate model (e.g. all-zero b): keep the state without model-based figures
+      st.modelPoles = [];
+      st.spectralRadius = st.rimDistance = st.decayRatio = st.radiusSd = st.gainHeadroom = null;
+      st.juryStable = null;
+      st.dominant = null;
+      st.characteristic = null;
+      st.zeros = [];
+    }
+  }
+
+  private forecast(): LoopStateDto["forecast"] {
+    try {
+      const f = forecastCrossing(this.radiusHistory, 1, { memory: this.memory * this.estimationPeriodS });
+      if (!f || !Number.isFinite(f.at) || !Number.isFinite(f.low) || !Number.isFinite(f.high)) return null;
+      return { at: Math.round(f.at * 1000), low: Math.round(f.low * 1000), high: Math.round(f.high * 1000) };
+    } catch {
+      return null;
+    }
+  }
+
+  /** Plant model (for diagnostics and tests). */
+  plantModel(): ReturnType<ArxEstimator["model"]> {
+    return this.plant.model();
+  }
+
+  /** Plant-estimator updates so far. */
+  get plantUpdates(): number {
+    return this.plant.updates;
+  }
+
+  /** Serialisable estimator state for checkpoints (JSON-safe). */
+  checkpoint(): TrackerCheckpoint {
+    return {
+      version: 1,
+      loopId: this.config.id,
+      structure: { na: this.config.na, nb: this.config.nb, nk: this.config.nk, estimationPeriodS: this.estimationPeriodS, dataOrder: this.dataOrder },
+      plant: this.plant.toJSON(),
+      data: this.data.toJSON(),
+      estimationSamples: this.estimationSamples,
+      lastPlantUpdate: Number.isFinite(this.lastPlantUpdate) ? this.lastPlantUpdate : -1e15,
+      lastSpMove: Number.isFinite(this.lastSpMove) ? this.lastSpMove : -1e15,
+      samplesSeen: this.samplesSeen,
+      radiusHistory: this.radiusHistory.map((p) => ({ ...p })),
+      yVariance: this.yVariance,
+      yMean: this.yMean,
+    };
+  }
+
+  /**
+   * Resume from a checkpoint. Refused (returns a reason, state untouched) when it belongs to
+   * another loop or another estimation structure, or is malformed.
+   */
+  restore(cp: TrackerCheckpoint): { ok: true } | { ok: false; reason: string } {
+    try {
+      if (!cp || cp.version !== 1) return { ok: false, reason: "unknown checkpoint version" };
+      if (cp.loopId !== this.config.id) return { ok: false, reason: `checkpoint of loop ${cp.loopId}, not ${this.config.id}` };
+      const s = cp.structure;
+      if (s.na !== this.config.na || s.nb !== this.config.nb || s.nk !== this.config.nk || s.estimationPeriodS !== this.estimationPeriodS || s.dataOrder !== this.dataOrder) {
+        return { ok: false, reason: "checkpoint was made for another model structure or estimation period" };
+      }
+      const plant = ArxEstimator.fromJSON(cp.plant);
+      const data = ArxEstimator.fromJSON(cp.data);
+      const nums = [cp.estimationSamples, cp.lastPlantUpdate, cp.lastSpMove, cp.samplesSeen, cp.yVariance, cp.yMean];
+      if (!nums.every((v) => typeof v === "number" && Number.isFinite(v))) return { ok: false, reason: "checkpoint counters are not finite numbers" };
+      if (!Array.isArray(cp.radiusHistory) || !cp.radiusHistory.every((p) => Number.isFinite(p?.t) && Number.isFinite(p?.value))) {
+        return { ok: false, reason: "checkpoint radius history is malformed" };
+      }
+      this.plant = plant;
+      this.data = data;
+      this.estimationSamples = cp.estimationSamples;
+      this.lastPlantUpdate = cp.lastPlantUpdate;
+      this.lastSpMove = cp.lastSpMove;
+      this.samplesSeen = cp.samplesSeen;
+      this.radiusHistory = cp.radiusHistory.map((p) => ({ t: p.t, value: p.value }));
+      this.yVariance = cp.yVariance;
+      this.yMean = cp.yMean;
+      this.lastStateAt = -Infinity;
+      this.cachedHeadroom = { value: null, at: -Infinity };
+      this.cachedForecast = null;
+      return { ok: true };
+    } catch (e) {
+      return { ok: false, reason: `checkpoint rejected: ${(e as Error).message}` };
+    }
+  }
+}
+
+function toPoleDto(z: Complex, c: { radiusStd: number; covariance: [[number, number], [number, number]] } | undefined): PoleDto {
+  const sd = c ? finite(c.radiusStd) : null;
+  const cov = c ? ([c.covariance[0][0], c.covariance[0][1], c.covariance[1][1]] as [number, number, number]) : null;
+  return { re: z.re, im: z.im, radius: modulus(z), sdRadius: sd, cov: cov && cov.every(Number.isFinite) ? cov : null };
+}
+
+function fmt(v: number | null): string {
+  if (v === null) return "?";
+  return Math.abs(v) >= 1000 || Number.isInteger(v) ? String(Math.round(v * 100) / 100) : v.toPrecision(4);
+}
+
+/** Throws RangeError naming the first field that cannot configure a tracker. */
+export function validateConfig(c: LoopConfig): void {
+  const pos = (name: string, v: number) => {
+    if (!(Number.isFinite(v) && v > 0)) throw new RangeError(`loop ${c.id}: ${name} must be a finite number > 0, got ${v}`);
+  };
+  pos("telemetryPeriodS", c.telemetryPeriodS);
+  pos("controllerPeriodS", c.controllerPeriodS);
+  pos("estimationPeriodS", c.estimationPeriodS);
+  if (!(c.pvHi > c.pvLo)) throw new RangeError(`loop ${c.id}: pvHi must exceed pvLo`);
+  if (!(c.mvHi > c.mvLo)) throw new RangeError(`loop ${c.id}: mvHi must exceed mvLo`);
+  if (!(c.mvLimitHi > c.mvLimitLo)) throw new RangeError(`loop ${c.id}: mvLimitHi must exceed mvLimitLo`);
+  for (const [n, v, min] of [["na", c.na, 1], ["nb", c.nb, 1], ["nk", c.nk, 1]] as const) {
+    if (!Number.isInteger(v) || v < min) throw new RangeError(`loop ${c.id}: ${n} must be an integer >= ${min}, got ${v}`);
+  }
+  pos("controller.kp", c.controller.kp);
+}

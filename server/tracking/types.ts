@@ -1,0 +1,74 @@
+/**
+ * What a loop tracker needs to know about its loop: the fields of the `loops` table (data layer)
+ * in the units the tracker works in. The pipeline maps database rows to this shape (see
+ * `controllerTuningFromRow` for the tuning units).
+ */
+export interface ControllerTuning {
+  /** Proportional gain, % MV per % PV (> 0; `action` gives the sign). */
+  kp: number;
+  /** Integral time, seconds; null = no integral action. */
+  ti: number | null;
+  /** Derivative time, seconds (0 = none). */
+  td: number;
+  /** Derivative filter time constant, seconds (0 = td / 10). */
+  tf: number;
+  action: "reverse" | "direct";
+  form: "ideal" | "parallel" | "series";
+}
+
+export interface LoopConfig {
+  id: number;
+  tenantId: number;
+  siteId: number;
+  tag: string;
+  /** PV range (engineering units): the span the controller's %/% gains refer to. */
+  pvLo: number;
+  pvHi: number;
+  /** MV range (engineering units, often 0..100 %). */
+  mvLo: number;
+  mvHi: number;
+  /** MV limits of the controller output (engineering units of the MV). */
+  mvLimitLo: number;
+  mvLimitHi: number;
+  /** Nominal telemetry sample period, seconds. */
+  telemetryPeriodS: number;
+  /** Controller execution period, seconds. */
+  controllerPeriodS: number;
+  /** Estimation period, seconds (a whole multiple of the telemetry period; rounded to one). */
+  estimationPeriodS: number;
+  controller: ControllerTuning;
+  /** ARX structure of the plant model MV -> PV at the estimation period. */
+  na: number;
+  nb: number;
+  nk: number;
+  /** RLS forgetting factor (default 0.995). */
+  forgetting?: number;
+  enabled?: boolean;
+}
+
+/**
+ * Tuning in the product's units from the loops table's columns: gain as gain (%/%) or
+ * proportional band (PB % = 100 / gain), integral time in s, min or repeats per minute,
+ * derivative time in s or min. Throws RangeError on a value that cannot be a tuning.
+ */
+export function controllerTuningFromRow(row: {
+  gainKind: "gain" | "pb";
+  gainValue: number;
+  tiValue: number | null;
+  tiUnits: "s" | "min" | "repeats-per-min";
+  tdValue: number | null;
+  tdUnits: "s" | "min";
+  tfS?: number | null;
+  action: "reverse" | "direct";
+  form: "ideal" | "parallel" | "series";
+}): ControllerTuning {
+  if (!(row.gainValue > 0) || !Number.isFinite(row.gainValue)) throw new RangeError(`controller gain must be > 0, got ${row.gainValue}`);
+  const kp = row.gainKind === "pb" ? 100 / row.gainValue : row.gainValue;
+  let ti: number | null = null;
+  if (row.tiValue !== null && row.tiValue > 0 && Number.isFinite(row.tiValue)) {
+    ti = row.tiUnits === "s" ? row.tiValue : row.tiUnits === "min" ? row.tiValue * 60 : 60 / row.tiValue;
+  }
+  const td = row.tdValue !== null && row.tdValue > 0 && Number.isFinite(row.tdValue) ? (row.tdUnits === "min" ? row.tdValue * 60 : row.tdValue) : 0;
+  const tf = row.tfS !== null && row.tfS !== undefined && row.tfS > 0 ? row.tfS : 0;
+  return { kp, ti, td, tf, action: row.action, form: row.form };
+}
