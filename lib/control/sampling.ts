@@ -170,6 +170,7 @@ export function mapPolesToPeriod(poles: Complex[], T1: number, T2: number): Comp
     if (!Number.isFinite(z.re) || !Number.isFinite(z.im)) throw new NonFiniteInputError("pole");
     const r = Math.hypot(z.re, z.im);
     if (r === 0) return { re: 0, im: 0 };
+    if (ratio === 1) return { re: z.re, im: z.im };
     const theta = Math.atan2(z.im, z.re);
     if (z.im === 0 && z.re < 0 && ratio !== 1) {
       throw new AliasingError(`pole ${z.re} on the negative real axis rings at the Nyquist frequency; its position at T2 = ${T2} s is not determined`);
