@@ -104,11 +104,14 @@ export class AlarmJournal {
     return this.size + bytes <= this.maxBytes;
   }
 
-  /** Append one entry and fsync; throws JournalFullError when it would exceed the limit. */
-  append(entry: JournalEntry): void {
+  /**
+   * Append one entry and fsync; throws JournalFullError when it would exceed the limit, unless
+   * `force` (used once at shutdown, so that transitions held in memory survive a restart).
+   */
+  append(entry: JournalEntry, force = false): void {
     const line = JSON.stringify(entry) + "\n";
     const bytes = Buffer.byteLength(line, "utf8");
-    if (this.size + bytes > this.maxBytes) throw new JournalFullError(this.size, this.maxBytes);
+    if (!force && this.size + bytes > this.maxBytes) throw new JournalFullError(this.size, this.maxBytes);
     fs.writeSync(this.fd, line);
     fs.fsyncSync(this.fd);
     this.size += bytes;

@@ -107,6 +107,8 @@ export class AlarmService implements Service {
   private rulesCache = new Map<number, { at: number; rules: NotificationRuleRow[] }>();
   private seq = 0;
   private overflow = 0;
+  /** Seqs of transitions held in memory only (journal full), spilled to the journal at shutdown. */
+  private unjournalled = new Set<number>();
   private journal: AlarmJournal;
   readonly writer: AlarmDbWriter;
   readonly notifier: AlarmNotifier;
@@ -130,6 +132,7 @@ export class AlarmService implements Service {
         if (this.writer.pending.length === 0) {
           this.journal.truncate();
           this.overflow = 0;
+          this.unjournalled.clear();
         }
       },
     });
@@ -390,6 +393,7 @@ export class AlarmService implements Service {
     } else {
       // Journal full: keep the transition in memory, in order, for the database (health: critical).
       this.overflow++;
+      this.unjournalled.add(entry.seq);
     }
     this.seq = entry.seq;
     rec.point = point;
@@ -590,6 +594,8 @@ export class AlarmService implements Service {
     // Try once to write the backlog; what is not written stays in the journal for the next start.
     await Promise.race([this.writer.flush().catch(() => {}), new Promise((r) => setTimeout(r, 3000).unref?.())]);
     this.writer.stop();
+    // Transitions held only in memory go to the journal past its limit rather than being lost.
+    for (const e of this.writer.pending) if (this.unjournalled.has(e.seq)) this.journal.append(e, true);
     this.journal.close();
   }
 
