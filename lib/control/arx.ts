@@ -194,7 +194,7 @@ export class ArxEstimator {
     let updated = false;
     if (full) {
       this.excitationMonitor.add(phi);
-      const gateOpen = this.options.gating === "none" || this.excitationMonitor.verdict().excited;
+      const gateOpen = this.options.gating === "none" || this.excitationMonitor.isExcited();
       if (update && gateOpen) {
         const err = this.rls.update(phi, dy);
         const r = this.rls.lastR;

@@ -133,6 +133,11 @@ export class ExcitationMonitor {
     return warm ? this.last : { ...this.last, excited: false };
   }
 
+  /** `verdict().excited` without allocating (per-sample path). */
+  isExcited(): boolean {
+    return this.last !== null && this.last.excited && this.count >= Math.min(1 / (1 - this.memory), 10 * this.n);
+  }
+
   /** Evaluate now (outside the every-N schedule). */
   evaluate(): ExcitationVerdict {
     this.last = excitationLevel(this.info, this.n, this.opts);

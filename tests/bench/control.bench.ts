@@ -1,0 +1,202 @@
+/**
+ * Benchmark of the numerical core's per-sample cost (`npm run bench`). A plain script: it prints
+ * rates and ratios measured in one run and asserts nothing about time.
+ *
+ * Every rate is also given as a ratio to BASELINE: a bare typed-array RLS update (n = 4,
+ * exponential forgetting) written here and never to be changed, so ratios stay comparable between
+ * machines and runs. Target (ARCHITECTURE.md §11 costs): the full tracker step per estimation
+ * update <= 4x the bare RLS update.
+ */
+import { RecursiveLeastSquares } from "@/lib/control/rls";
+import { ArxEstimator } from "@/lib/control/arx";
+import { closedLoopArxInto, closedLoopPolynomial, discretePid } from "@/lib/control/closed-loop";
+import { polyRoots, polyRootsInto } from "@/lib/control/roots";
+import { juryStable, juryTest } from "@/lib/control/jury";
+import { poleCharacteristics } from "@/lib/control/zplane";
+import type { ArxModel } from "@/lib/control/types";
+
+// ---- data: seeded regressors and outputs (mulberry32), shared by every case -------------------
+function mulberry32(seed: number): () => number {
+  let a = seed >>> 0;
+  return () => {
+    a = (a + 0x6d2b79f5) >>> 0;
+    let t = a;
+    t = Math.imul(t ^ (t >>> 15), t | 1);
+    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
+    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
+  };
+}
+const rand = mulberry32(12345);
+const ROWS = 4096; // power of two: index with & (ROWS - 1)
+const PHI8 = new Float64Array(ROWS * 8).map(() => rand() - 0.5);
+const Y = new Float64Array(ROWS).map(() => rand() - 0.5);
+
+// ---- BASELINE (do not change): bare RLS update, n = 4, lambda = 0.99, symmetric P update -------
+function baselineLoop(iterations: number): number {
+  const n = 4;
+  const lambda = 0.99;
+  const theta = new Float64Array(n);
+  const P = new Float64Array(n * n);
+  for (let i = 0; i < n; i++) P[i * n + i] = 1000;
+  const pphi = new Float64Array(n);
+  const phi = new Float64Array(n);
+  let sink = 0;
+  for (let it = 0; it < iterations; it++) {
+    const row = (it & (ROWS - 1)) * 8;
+    for (let i = 0; i < n; i++) phi[i] = PHI8[row + i]!;
+    const y = Y[it & (ROWS - 1)]!;
+    let r = 0;
+    let yhat = 0;
+    for (let i = 0; i < n; i++) {
+      let s = 0;
+      for (let j = 0; j < n; j++) s += P[i * n + j]! * phi[j]!;
+      pphi[i] = s;
+      r += phi[i]! * s;
+      yhat += phi[i]! * theta[i]!;
+    }
+    const e = y - yhat;
+    const d = lambda + r;
+    for (let i = 0; i < n; i++) theta[i] = theta[i]! + (pphi[i]! / d) * e;
+    for (let i = 0; i < n; i++) {
+      const ki = pphi[i]! / d;
+      for (let j = i; j < n; j++) {
+        const v = (P[i * n + j]! - ki * pphi[j]!) / lambda;
+        P[i * n + j] = v;
+        P[j * n + i] = v;
+      }
+    }
+    sink += e;
+  }
+  return sink;
+}
+// ---- end of BASELINE -------------------------------------------------------------------------
+
+/** Nanoseconds per iteration of fn(iterations), best of `repeats` after one warm-up. */
+function measure(fn: (iterations: number) => number, iterations: number, repeats = 5): number {
+  fn(Math.min(iterations, 20_000));
+  let best = Infinity;
+  let sink = 0;
+  for (let r = 0; r < repeats; r++) {
+    const t0 = process.hrtime.bigint();
+    sink += fn(iterations);
+    const t1 = process.hrtime.bigint();
+    best = Math.min(best, Number(t1 - t0) / iterations);
+  }
+  if (Number.isNaN(sink)) console.log(`(sink NaN in ${fn.name})`);
+  return best;
+}
+
+function rlsLoop(n: number) {
+  return (iterations: number): number => {
+    const rls = new RecursiveLeastSquares({ parameters: n, forgetting: 0.99 });
+    const phi = new Float64Array(n);
+    let sink = 0;
+    for (let it = 0; it < iterations; it++) {
+      const row = (it & (ROWS - 1)) * 8;
+      for (let i = 0; i < n; i++) phi[i] = PHI8[row + i]!;
+      sink += rls.update(phi, Y[it & (ROWS - 1)]!);
+    }
+    return sink;
+  };
+}
+
+// Loop: second-order plant under a PI at T = 1 s (invented example).
+const T = 1;
+const pi = discretePid({ kp: 0.8, ti: 20, T });
+const plantTrue: ArxModel = { a: [-1.6, 0.65], b: [0.05, 0.03], nk: 1, T };
+
+/** Tracker step, hot-path functions: RLS update + closedLoopArxInto + polyRootsInto + juryStable + poleCharacteristics per root. */
+function trackerHotLoop(iterations: number): number {
+  const rls = new RecursiveLeastSquares({ parameters: 4, forgetting: 0.99, initialTheta: [...plantTrue.a, ...plantTrue.b] });
+  const phi = new Float64Array(4);
+  const coeffs = new Float64Array(8);
+  const re = new Float64Array(8);
+  const im = new Float64Array(8);
+  const z = { re: 0, im: 0 };
+  let sink = 0;
+  for (let it = 0; it < iterations; it++) {
+    const row = (it & (ROWS - 1)) * 8;
+    for (let i = 0; i < 4; i++) phi[i] = 0.01 * PHI8[row + i]!;
+    const y = phi[0]! * 1.6 - phi[1]! * 0.65 + 0.05 * phi[2]! + 0.03 * phi[3]! + 1e-4 * Y[it & (ROWS - 1)]!;
+    sink += rls.update(phi, y);
+    const len = closedLoopArxInto(rls.theta, 2, 2, 1, pi.num, pi.den, coeffs);
+    const count = polyRootsInto(coeffs, re, im, len);
+    sink += juryStable(coeffs, len) ? 1 : 0;
+    for (let k = 0; k < count; k++) {
+      z.re = re[k]!;
+      z.im = im[k]!;
+      sink += poleCharacteristics(z, T).radius;
+    }
+  }
+  return sink;
+}
+
+/** Tracker step through the contract API: ArxEstimator.push + closedLoopPolynomial + polyRoots + juryTest + poleCharacteristics. */
+function trackerApiLoop(iterations: number): number {
+  const est = new ArxEstimator({ na: 2, nb: 2, nk: 1, T, forgetting: 0.99, gating: "none" });
+  let sink = 0;
+  let y1 = 0, y2 = 0, u1 = 0, u2 = 0;
+  for (let it = 0; it < iterations; it++) {
+    const u = PHI8[(it & (ROWS - 1)) * 8]!;
+    const y = 1.6 * y1 - 0.65 * y2 + 0.05 * u1 + 0.03 * u2 + 1e-3 * Y[it & (ROWS - 1)]!;
+    est.push(u, y);
+    y2 = y1; y1 = y; u2 = u1; u1 = u;
+    const model = est.model();
+    const cl = closedLoopPolynomial(model, pi);
+    const roots = polyRoots(cl);
+    sink += juryTest(cl).stable ? 1 : 0;
+    for (const z of roots) sink += poleCharacteristics(z, T).radius;
+  }
+  return sink;
+}
+
+/** Parts of the hot step alone, to see which dominates. */
+function partLoop(part: "closed-loop" | "roots" | "jury" | "characteristics") {
+  return (iterations: number): number => {
+    const theta = Float64Array.from([...plantTrue.a, ...plantTrue.b]);
+    const coeffs = new Float64Array(8);
+    const re = new Float64Array(8);
+    const im = new Float64Array(8);
+    const len = closedLoopArxInto(theta, 2, 2, 1, pi.num, pi.den, coeffs);
+    const count = polyRootsInto(coeffs, re, im, len);
+    const z = { re: re[0]!, im: im[0]! };
+    const c1 = coeffs[1]!;
+    let sink = 0;
+    for (let it = 0; it < iterations; it++) {
+      theta[0] = -1.6 + 1e-6 * Y[it & (ROWS - 1)]!;
+      if (part === "closed-loop") sink += closedLoopArxInto(theta, 2, 2, 1, pi.num, pi.den, coeffs) + coeffs[1]!;
+      else if (part === "roots") {
+        coeffs[1] = c1 + 1e-6 * Y[it & (ROWS - 1)]!;
+        sink += polyRootsInto(coeffs, re, im, len) + re[0]!;
+      } else if (part === "jury") {
+        coeffs[1] = c1 + 1e-6 * Y[it & (ROWS - 1)]!;
+        sink += juryStable(coeffs, len) ? 1 : 0;
+      } else {
+        z.re = re[it % count]! + 1e-9 * Y[it & (ROWS - 1)]!;
+        z.im = im[it % count]!;
+        sink += poleCharacteristics(z, T).radius;
+      }
+    }
+    return sink;
+  };
+}
+
+const base = measure(baselineLoop, 2_000_000);
+const rows: [string, number][] = [
+  ["BASELINE bare RLS update (n = 4)", base],
+  ["RecursiveLeastSquares ARX(2,2) (n = 4, directional)", measure(rlsLoop(4), 2_000_000)],
+  ["RecursiveLeastSquares ARX(4,4) (n = 8, directional)", measure(rlsLoop(8), 1_000_000)],
+  ["tracker step, hot path (RLS + closedLoopArxInto + polyRootsInto + juryStable + poleCharacteristics x3)", measure(trackerHotLoop, 300_000)],
+  ["  part: closedLoopArxInto", measure(partLoop("closed-loop"), 1_000_000)],
+  ["  part: polyRootsInto (cubic)", measure(partLoop("roots"), 300_000)],
+  ["  part: juryStable (cubic)", measure(partLoop("jury"), 1_000_000)],
+  ["  part: poleCharacteristics (one root)", measure(partLoop("characteristics"), 1_000_000)],
+  ["tracker step, contract API (ArxEstimator.push + closedLoopPolynomial + polyRoots + juryTest + poleCharacteristics x3)", measure(trackerApiLoop, 100_000)],
+];
+console.log(`control bench (Node ${process.version}), one run; ns per call and ratio to BASELINE`);
+for (const [name, ns] of rows) {
+  const perSecond = 1e9 / ns;
+  console.log(`${name.padEnd(112)} ${ns.toFixed(1).padStart(8)} ns  ${(perSecond / 1e6).toFixed(2).padStart(7)} M/s  x${(ns / base).toFixed(2)}`);
+}
+const hot = rows[3]![1];
+console.log(`target: hot tracker step <= 4x BASELINE -> measured x${(hot / base).toFixed(2)} (${hot / base <= 4 ? "within" : "over"} target)`);
