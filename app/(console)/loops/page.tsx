@@ -1,12 +1,12 @@
-import type { Metadata } from "next";
-import { EmptyState } from "../_shell/empty-state";
+import { redirect } from "next/navigation";
+import { LoopInventory } from "@/app/_components/loop-inventory";
+import { getContextOrNull } from "@/lib/auth/guard";
 
-export const metadata: Metadata = { title: "Loops" };
+export const dynamic = "force-dynamic";
+export const metadata = { title: "Loops · Rimguard" };
 
-export default function LoopsPage() {
-  return (
-    <EmptyState title="Loops">
-      <p>The loop inventory, with each loop&apos;s trends, z-plane map and analysis, arrives with the live pipeline.</p>
-    </EmptyState>
-  );
+export default async function LoopsPage() {
+  const ctx = await getContextOrNull();
+  if (!ctx) redirect("/signin");
+  return <LoopInventory role={ctx.role} />;
 }

@@ -1,0 +1,19 @@
+import { redirect } from "next/navigation";
+import { LoopForm } from "@/app/_components/loop-form";
+import { getContextOrNull } from "@/lib/auth/guard";
+import { roleAtLeast } from "@/lib/types";
+
+export const dynamic = "force-dynamic";
+export const metadata = { title: "New loop · Rimguard" };
+
+export default async function NewLoopPage() {
+  const ctx = await getContextOrNull();
+  if (!ctx) redirect("/signin");
+  if (!roleAtLeast(ctx.role, "engineer")) redirect("/loops");
+  return (
+    <div className="flex flex-col gap-3">
+      <h1 className="text-xl font-semibold">Add a loop</h1>
+      <LoopForm />
+    </div>
+  );
+}

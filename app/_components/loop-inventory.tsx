@@ -1,0 +1,182 @@
+"use client";
+/** The loop inventory: search, filters, sortable health columns; worst first by default. */
+import {
+  createColumnHelper,
+  flexRender,
+  getCoreRowModel,
+  getPaginationRowModel,
+  getSortedRowModel,
+  useReactTable,
+  type SortingState,
+} from "@tanstack/react-table";
+import Link from "next/link";
+import { useMemo, useState } from "react";
+import type { LoopSummary, Role } from "@/lib/types";
+import { TRACKER_STATES, roleAtLeast } from "@/lib/types";
+import { DEFAULT_POLICY } from "@/lib/alarms/policy";
+import { fmt, fmtAge, fmtSeconds } from "@/lib/client/format";
+import { useLoops, useNow } from "@/lib/client/hooks";
+import { compareWorstFirst, dataAge, worstPriority } from "@/lib/client/order";
+import { PriorityMark } from "./priority-mark";
+import { TrackerStateBadge } from "./tracker-state-badge";
+
+const col = createColumnHelper<LoopSummary>();
+
+export function LoopInventory({ role }: { role: Role }) {
+  const { loops, error, isLoading } = useLoops();
+  const now = useNow(5000);
+  const [q, setQ] = useState("");
+  const [site, setSite] = useState("");
+  const [tracker, setTracker] = useState("");
+  const [alarmOnly, setAlarmOnly] = useState(false);
+  const [sorting, setSorting] = useState<SortingState>([{ id: "worst", desc: false }]);
+  const sites = useMemo(() => [...new Set(loops.map((l) => l.siteName))].sort(), [loops]);
+  const rows = useMemo(() => {
+    const f = q.trim().toLowerCase();
+    return loops.filter(
+      (l) =>
+        (!f || l.tag.toLowerCase().includes(f) || l.description.toLowerCase().includes(f) || (l.area ?? "").toLowerCase().includes(f)) &&
+        (!site || l.siteName === site) &&
+        (!tracker || l.state?.trackerState === tracker) &&
+        (!alarmOnly || worstPriority(l) !== null),
+    );
+  }, [loops, q, site, tracker, alarmOnly]);
+  const num = (v: number | null | undefined) => (v == null || !Number.isFinite(v) ? null : v);
+  const columns = useMemo(
+    () => [
+      col.display({
+        id: "worst",
+        header: "Alarm",
+        enableSorting: true,
+        sortingFn: (a, b) => compareWorstFirst(a.original, b.original, DEFAULT_POLICY.decayRatio.high),
+        cell: (c) => {
+          const p = worstPriority(c.row.original);
+          const a = c.row.original.alarms.find((x) => x.priority === p);
+          return p && a ? <PriorityMark priority={p} state={a.state} size={16} showWord={false} /> : <span className="text-muted">—</span>;
+        },
+      }),
+      col.accessor("tag", { header: "Tag", cell: (c) => <Link className="font-mono font-semibold hover:underline" href={`/loops/${c.row.original.id}`}>{c.getValue()}</Link> }),
+      col.accessor("description", { header: "Description", enableSorting: false }),
+      col.accessor((l) => `${l.siteName}${l.area ? ` · ${l.area}` : ""}`, { id: "where", header: "Site · area" }),
+      col.accessor("kind", { header: "Kind" }),
+      col.accessor((l) => l.state?.trackerState ?? "", { id: "tracker", header: "Tracker", cell: (c) => <TrackerStateBadge state={c.row.original.state?.trackerState ?? null} reason={c.row.original.state?.stateReason} /> }),
+      col.accessor((l) => num(l.state?.spectralRadius), { id: "radius", header: "ρ", sortUndefined: "last", cell: (c) => <span className="num font-mono">{fmt(c.getValue())}</span> }),
+      col.accessor((l) => num(l.state?.decayRatio), { id: "decay", header: "Decay ratio", sortUndefined: "last", cell: (c) => <span className="num font-mono">{fmt(c.getValue(), 2)}</span> }),
+      col.accessor((l) => num(l.state?.dominant?.zeta), { id: "zeta", header: "ζ", sortUndefined: "last", cell: (c) => <span className="num font-mono">{fmt(c.getValue(), 2)}</span> }),
+      col.accessor((l) => num(l.state?.gainHeadroom), { id: "headroom", header: "Gain headroom", sortUndefined: "last", cell: (c) => <span className="num font-mono">{c.getValue() == null ? "—" : `× ${fmt(c.getValue(), 2)}`}</span> }),
+      col.accessor("estimationPeriodS", { header: "Est. period", cell: (c) => <span className="num">{fmtSeconds(c.getValue())}</span> }),
+      col.accessor((l) => dataAge(l.state, now).ageS, {
+        id: "age",
+        header: "Data age",
+        sortUndefined: "last",
+        cell: (c) => {
+          const { ageS, stale } = dataAge(c.row.original.state, now);
+          return <span className={`num ${stale ? "text-suppressed" : ""}`}>{stale ? "stale · " : ""}{fmtAge(ageS)}</span>;
+        },
+      }),
+    ],
+    [now],
+  );
+  const table = useReactTable({
+    data: rows,
+    columns,
+    state: { sorting },
+    onSortingChange: setSorting,
+    getCoreRowModel: getCoreRowModel(),
+    getSortedRowModel: getSortedRowModel(),
+    getPaginationRowModel: getPaginationRowModel(),
+    initialState: { pagination: { pageSize: 50 } },
+  });
+  const sel = "rounded border border-line bg-surface px-2 py-1 text-sm";
+  return (
+    <div className="flex flex-col gap-3">
+      <div className="flex flex-wrap items-end justify-between gap-3">
+        <h1 className="text-xl font-semibold">Loops</h1>
+        {roleAtLeast(role, "engineer") && (
+          <Link href="/loops/new" className="rounded bg-accent px-3 py-1 font-semibold text-accent-ink">
+            Add a loop
+          </Link>
+        )}
+      </div>
+      <div className="flex flex-wrap items-end gap-3">
+        <label className="flex flex-col text-xs text-muted">
+          Search
+          <input value={q} onChange={(e) => setQ(e.target.value)} className={sel} placeholder="tag, text, area" />
+        </label>
+        <label className="flex flex-col text-xs text-muted">
+          Site
+          <select value={site} onChange={(e) => setSite(e.target.value)} className={sel}>
+            <option value="">all</option>
+            {sites.map((s) => (
+              <option key={s}>{s}</option>
+            ))}
+          </select>
+        </label>
+        <label className="flex flex-col text-xs text-muted">
+          Tracker state
+          <select value={tracker} onChange={(e) => setTracker(e.target.value)} className={sel}>
+            <option value="">all</option>
+            {TRACKER_STATES.map((s) => (
+              <option key={s}>{s}</option>
+            ))}
+          </select>
+        </label>
+        <label className="flex items-center gap-1 text-sm">
+          <input type="checkbox" checked={alarmOnly} onChange={(e) => setAlarmOnly(e.target.checked)} /> with alarms only
+        </label>
+      </div>
+      {error && <p role="alert" className="text-urgent">Could not load loops: {error.message}</p>}
+      <div className="overflow-x-auto rounded-md border border-line bg-surface">
+        <table className="w-full text-sm" data-testid="loop-table">
+          <thead>
+            {table.getHeaderGroups().map((hg) => (
+              <tr key={hg.id} className="border-b border-line text-left">
+                {hg.headers.map((h) => (
+                  <th key={h.id} className="whitespace-nowrap px-2 py-1.5 font-semibold" aria-sort={h.column.getIsSorted() === "asc" ? "ascending" : h.column.getIsSorted() === "desc" ? "descending" : undefined}>
+                    {h.column.getCanSort() ? (
+                      <button type="button" onClick={h.column.getToggleSortingHandler()} className="hover:underline">
+                        {flexRender(h.column.columnDef.header, h.getContext())}
+                        {h.column.getIsSorted() === "asc" ? " ▲" : h.column.getIsSorted() === "desc" ? " ▼" : ""}
+                      </button>
+                    ) : (
+                      flexRender(h.column.columnDef.header, h.getContext())
+                    )}
+                  </th>
+                ))}
+              </tr>
+            ))}
+          </thead>
+          <tbody>
+            {table.getRowModel().rows.map((r) => (
+              <tr key={r.id} className="border-b border-line/60 hover:bg-raised">
+                {r.getVisibleCells().map((c) => (
+                  <td key={c.id} className="px-2 py-1">
+                    {flexRender(c.column.columnDef.cell, c.getContext())}
+                  </td>
+                ))}
+              </tr>
+            ))}
+            {rows.length === 0 && (
+              <tr>
+                <td colSpan={columns.length} className="px-2 py-3 text-muted">
+                  {isLoading ? "Loading…" : loops.length === 0 ? "No loops yet." : "No loop matches the filters."}
+                </td>
+              </tr>
+            )}
+          </tbody>
+        </table>
+      </div>
+      <div className="flex items-center gap-2 text-sm">
+        <button type="button" className="rounded border border-line px-2 py-0.5 disabled:opacity-50" onClick={() => table.previousPage()} disabled={!table.getCanPreviousPage()}>
+          Previous
+        </button>
+        <span className="num">
+          page {table.getState().pagination.pageIndex + 1} of {Math.max(1, table.getPageCount())} · {rows.length} of {loops.length} loops
+        </span>
+        <button type="button" className="rounded border border-line px-2 py-0.5 disabled:opacity-50" onClick={() => table.nextPage()} disabled={!table.getCanNextPage()}>
+          Next
+        </button>
+      </div>
+    </div>
+  );
+}
