@@ -200,8 +200,7 @@ export class ArxEstimator {
         const r = this.rls.lastR;
         const lam = this.rls.forgetting;
         const w = this.rls.windup === "directional" ? 1 / (1 + r) : lam / (lam + r);
-        const lf = this.rls.windup === "directional" ? 1 : lam;
-        this.loss = lf * this.loss + err * err * w;
+        this.loss = lam * this.loss + err * err * w;
         this.neff = lam * this.neff + 1;
         this.lastError = err;
         updated = true;

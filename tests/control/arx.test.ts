@@ -138,6 +138,21 @@ describe("ArxEstimator", () => {
     expect(est.samples).toBe(400);
   });
 
+  it.each(["directional", "bounded-trace", "none"] as const)("residualVariance converges to the equation-error variance (guard %s)", (windup) => {
+    // y = 1.5 y1 - 0.7 y2 + 0.5 u1 + 0.3 u2 + e, e ~ N(0, 0.1^2): sigma^2 = 0.01 (the simulation's own setting).
+    const randn = normal(mulberry32(77));
+    const est = new ArxEstimator({ na: 2, nb: 2, nk: 1, forgetting: 0.995, windup });
+    let y1 = 0, y2 = 0, u1 = 0, u2 = 0;
+    for (let k = 0; k < 6000; k++) {
+      const u = randn();
+      const y = 1.5 * y1 - 0.7 * y2 + 0.5 * u1 + 0.3 * u2 + 0.1 * randn();
+      est.push(u, y);
+      y2 = y1; y1 = y; u2 = u1; u1 = u;
+    }
+    // Effective window ~ 200 samples: the estimate of a variance has ~10 % standard error; allow 30 %.
+    expect(Math.abs(est.residualVariance() / 0.01 - 1)).toBeLessThan(0.3);
+  });
+
   it("estimates an offset term in offset mode", () => {
     const est = new ArxEstimator({ na: 2, nb: 2, nk: 3, forgetting: 1, operatingPoint: "offset", gating: "none", windup: "none", initialCovariance: 1e6 });
     grid.u.forEach((u, k) => est.push(u, grid.y[k]!));
