@@ -257,7 +257,8 @@ export class ArxEstimator {
    * covariance is sigma^2 (sum w)^-1 (sum w^2) (sum w)^-1 R^-1; with P ~ (sum w R)^-1 this is
    * sigma^2 P (sum w^2)/(sum w) = sigma^2 P (1 + lambda^k)/(1 + lambda): sigma^2 P at lambda = 1, and
    * sigma^2 P / (1 + lambda) in steady state (checked by Monte Carlo in the tests). With
-   * directional forgetting the same factor is used as an approximation.
+   * directional forgetting the same factor is used; under persistent excitation it matches Monte
+   * Carlo (tests), while the data are not exciting it is only an approximation.
    */
   parameterCovariance(): number[][] {
     const n = this.na + this.nb;

@@ -201,12 +201,12 @@ describe("ArxEstimator", () => {
     const aTrue = [-1.5, 0.7];
     const bTrue = [0.5, 0.3];
     const runs = 300;
-    const check = (forgetting: number, samples: number, seed: number) => {
+    const check = (forgetting: number, samples: number, seed: number, windup: "none" | "directional" = "none") => {
       const randn = normal(mulberry32(seed));
       const est: number[][] = [];
       const covs: number[][][] = [];
       for (let r = 0; r < runs; r++) {
-        const arx = new ArxEstimator({ na: 2, nb: 2, nk: 1, forgetting, windup: "none", operatingPoint: "none", gating: "none", initialCovariance: 1e4 });
+        const arx = new ArxEstimator({ na: 2, nb: 2, nk: 1, forgetting, windup, operatingPoint: "none", gating: "none", initialCovariance: 1e4 });
         let y1 = 0, y2 = 0, u1 = 0, u2 = 0;
         for (let k = 0; k < samples; k++) {
           const u = randn();
@@ -231,6 +231,12 @@ describe("ArxEstimator", () => {
     });
     // Without the 1/(1 + lambda) factor the prediction would be about twice too large.
     forgetting.forEach((ratio) => expect(ratio * (1 + 0.98)).toBeGreaterThan(1.5));
+    // Under persistent excitation directional forgetting behaves like exponential forgetting, and
+    // the same factor holds (measured; the derivation covers exponential forgetting only).
+    check(0.98, 1500, 303, "directional").forEach((ratio) => {
+      expect(ratio).toBeGreaterThan(0.75);
+      expect(ratio).toBeLessThan(1.33);
+    });
     const plain = check(1, 400, 202);
     plain.forEach((ratio) => {
       expect(ratio).toBeGreaterThan(0.75);
