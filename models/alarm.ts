@@ -13,6 +13,7 @@ import {
   type InferCreationAttributes,
   type Sequelize,
 } from "sequelize";
+import { enumColumn } from "./enum";
 import {
   ALARM_CONDITIONS,
   ALARM_PRIORITIES,
@@ -66,6 +67,11 @@ export class Alarm extends Model<InferAttributes<Alarm>, InferCreationAttributes
   declare changedAt: CreationOptional<Date>;
   /** Bumped on every state change (optimistic concurrency). */
   declare version: CreationOptional<number>;
+  /** Columns of migrations/0100-alarms-point-state.ts (owned by server/alarms). */
+  declare shelveReason: CreationOptional<string | null>;
+  declare occurrenceOpen: CreationOptional<boolean>;
+  /** Journal sequence of the last transition written (replay never moves a point backwards). */
+  declare journalSeq: CreationOptional<number>;
   declare createdAt: CreationOptional<Date>;
   declare updatedAt: CreationOptional<Date>;
 }
@@ -101,7 +107,7 @@ export class AlarmEvent extends Model<InferAttributes<AlarmEvent>, InferCreation
   declare data: Record<string, unknown> | null;
 }
 
-const enumOf = (values: readonly string[], allowNull = false) => ({ type: DataTypes.ENUM(...values), allowNull });
+const enumOf = (values: readonly string[], allowNull = false) => enumColumn(values, allowNull);
 
 export function initAlarmModels(sequelize: Sequelize) {
   AlarmPolicy.init(
@@ -124,7 +130,7 @@ export function initAlarmModels(sequelize: Sequelize) {
       loopId: { type: DataTypes.INTEGER, allowNull: false },
       condition: enumOf(ALARM_CONDITIONS),
       priority: enumOf(ALARM_PRIORITIES),
-      state: { ...enumOf(ALARM_STATES), defaultValue: "normal" },
+      state: enumColumn(ALARM_STATES, false, "normal"),
       active: { type: DataTypes.BOOLEAN, allowNull: false, defaultValue: false },
       shelvedUntil: { type: DataTypes.DATE(3), allowNull: true },
       shelvedBy: { type: DataTypes.INTEGER, allowNull: true },
@@ -138,6 +144,9 @@ export function initAlarmModels(sequelize: Sequelize) {
       acknowledgedBy: { type: DataTypes.INTEGER, allowNull: true },
       changedAt: { type: DataTypes.DATE(3), allowNull: false, defaultValue: DataTypes.NOW },
       version: { type: DataTypes.INTEGER, allowNull: false, defaultValue: 0 },
+      shelveReason: { type: DataTypes.STRING(1000), allowNull: true },
+      occurrenceOpen: { type: DataTypes.BOOLEAN, allowNull: false, defaultValue: false },
+      journalSeq: { type: DataTypes.BIGINT, allowNull: false, defaultValue: 0 },
       createdAt: DataTypes.DATE(3),
       updatedAt: DataTypes.DATE(3),
     },

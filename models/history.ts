@@ -12,6 +12,7 @@ import {
   type InferCreationAttributes,
   type Sequelize,
 } from "sequelize";
+import { enumColumn } from "./enum";
 import { TRACKER_STATES, type LoopMode, type TrackerState } from "@/lib/types";
 
 /** Per-second min/mean/max of SP, PV, MV. */
@@ -84,7 +85,7 @@ export function initHistoryModels(sequelize: Sequelize) {
       ...mmm("sp"),
       ...mmm("pv"),
       ...mmm("mv"),
-      mode: { type: DataTypes.ENUM("auto", "manual", "cascade"), allowNull: true },
+      mode: enumColumn(["auto", "manual", "cascade"], true),
       n: { type: DataTypes.SMALLINT.UNSIGNED, allowNull: false, defaultValue: 1 },
     },
     { ...common, tableName: "samples_1s", modelName: "Sample1s" },
@@ -107,7 +108,7 @@ export function initHistoryModels(sequelize: Sequelize) {
       radius: { type: DataTypes.DOUBLE, allowNull: true },
       decayRatio: { type: DataTypes.DOUBLE, allowNull: true },
       poles: { type: DataTypes.TEXT("long"), allowNull: true },
-      trackerState: { type: DataTypes.ENUM(...TRACKER_STATES), allowNull: false },
+      trackerState: enumColumn(TRACKER_STATES, false),
     },
     { ...common, tableName: "pole_snapshots", modelName: "PoleSnapshot" },
   );

@@ -17,6 +17,7 @@ import {
   type InferCreationAttributes,
   type Sequelize,
 } from "sequelize";
+import { enumColumn } from "./enum";
 import { LOOP_KINDS, TRACKER_STATES, type LoopKind, type LoopStateDto, type TrackerState } from "@/lib/types";
 import type { Area, Site, Tenant } from "./tenant";
 
@@ -186,7 +187,7 @@ export function initLoopModels(sequelize: Sequelize) {
       tag: { type: DataTypes.STRING(64), allowNull: false },
       slug: { type: DataTypes.STRING(64), allowNull: false, validate: { is: /^[a-z0-9-]+$/ } },
       description: { type: DataTypes.STRING(500), allowNull: false, defaultValue: "" },
-      kind: { type: DataTypes.ENUM(...LOOP_KINDS), allowNull: false },
+      kind: enumColumn(LOOP_KINDS, false),
       units: { type: DataTypes.STRING(32), allowNull: false },
       pvLo: num(),
       pvHi: num(),
@@ -197,14 +198,14 @@ export function initLoopModels(sequelize: Sequelize) {
       mvLimitHi: num(true),
       telemetryPeriodS: positive(),
       controllerPeriodS: positive(),
-      action: { type: DataTypes.ENUM("direct", "reverse"), allowNull: false, defaultValue: "reverse" },
-      form: { type: DataTypes.ENUM("ideal", "parallel", "series"), allowNull: false, defaultValue: "ideal" },
-      gainKind: { type: DataTypes.ENUM("gain", "pb"), allowNull: false, defaultValue: "gain" },
+      action: enumColumn(["direct", "reverse"], false, "reverse"),
+      form: enumColumn(["ideal", "parallel", "series"], false, "ideal"),
+      gainKind: enumColumn(["gain", "pb"], false, "gain"),
       gainValue: num(),
       tiValue: num(true),
-      tiUnits: { type: DataTypes.ENUM("s", "min", "repeats-per-min"), allowNull: false, defaultValue: "s" },
+      tiUnits: enumColumn(["s", "min", "repeats-per-min"], false, "s"),
       tdValue: num(false, 0),
-      tdUnits: { type: DataTypes.ENUM("s", "min"), allowNull: false, defaultValue: "s" },
+      tdUnits: enumColumn(["s", "min"], false, "s"),
       tfS: num(true),
       derivativeAlpha: num(true),
       cascadeMasterLoopId: { type: DataTypes.INTEGER, allowNull: true },
@@ -287,7 +288,7 @@ export function initLoopModels(sequelize: Sequelize) {
     {
       loopId: { type: DataTypes.INTEGER, primaryKey: true },
       tenantId: { type: DataTypes.INTEGER, allowNull: false },
-      trackerState: { type: DataTypes.ENUM(...TRACKER_STATES), allowNull: false, defaultValue: "learning" },
+      trackerState: enumColumn(TRACKER_STATES, false, "learning"),
       latest: { type: DataTypes.JSON, allowNull: false },
       at: { type: DataTypes.BIGINT, allowNull: false },
     },

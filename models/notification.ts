@@ -11,6 +11,7 @@ import {
   type InferCreationAttributes,
   type Sequelize,
 } from "sequelize";
+import { enumColumn } from "./enum";
 import { ALARM_PRIORITIES, type AlarmPriority } from "@/lib/types";
 import type { Tenant } from "./tenant";
 
@@ -58,7 +59,7 @@ export function initNotificationModels(sequelize: Sequelize) {
       areaId: { type: DataTypes.INTEGER, allowNull: true },
       name: { type: DataTypes.STRING(200), allowNull: false },
       recipients: { type: DataTypes.JSON, allowNull: false },
-      minPriority: { type: DataTypes.ENUM(...ALARM_PRIORITIES), allowNull: false, defaultValue: "high" },
+      minPriority: enumColumn(ALARM_PRIORITIES, false, "high"),
       escalationMinutes: { type: DataTypes.INTEGER, allowNull: true, validate: { min: 1 } },
       repeatMinutes: { type: DataTypes.INTEGER, allowNull: true, validate: { min: 1 } },
       enabled: { type: DataTypes.BOOLEAN, allowNull: false, defaultValue: true },
@@ -76,7 +77,7 @@ export function initNotificationModels(sequelize: Sequelize) {
       recipient: { type: DataTypes.STRING(254), allowNull: false },
       kind: { type: DataTypes.STRING(32), allowNull: false },
       subject: { type: DataTypes.STRING(300), allowNull: false },
-      status: { type: DataTypes.ENUM("sent", "failed", "rate-limited"), allowNull: false },
+      status: enumColumn(["sent", "failed", "rate-limited"], false),
       messageId: { type: DataTypes.STRING(255), allowNull: true },
       error: { type: DataTypes.TEXT, allowNull: true },
       sentAt: { type: DataTypes.DATE(3), allowNull: false },

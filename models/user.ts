@@ -12,6 +12,7 @@ import {
   type InferCreationAttributes,
   type Sequelize,
 } from "sequelize";
+import { enumColumn } from "./enum";
 import { ROLES, type Role } from "@/lib/types";
 import type { Tenant } from "./tenant";
 
@@ -87,7 +88,7 @@ export function initUserModels(sequelize: Sequelize) {
       id: { type: DataTypes.INTEGER, autoIncrement: true, primaryKey: true },
       userId: { type: DataTypes.INTEGER, allowNull: false },
       tenantId: { type: DataTypes.INTEGER, allowNull: false },
-      role: { type: DataTypes.ENUM(...ROLES), allowNull: false },
+      role: enumColumn(ROLES, false),
       createdAt: DataTypes.DATE(3),
       updatedAt: DataTypes.DATE(3),
     },
@@ -98,7 +99,7 @@ export function initUserModels(sequelize: Sequelize) {
       id: { type: DataTypes.INTEGER, autoIncrement: true, primaryKey: true },
       tenantId: { type: DataTypes.INTEGER, allowNull: false },
       email: { type: DataTypes.STRING(254), allowNull: false },
-      role: { type: DataTypes.ENUM(...ROLES), allowNull: false },
+      role: enumColumn(ROLES, false),
       tokenHash: { type: DataTypes.CHAR(64), allowNull: false, unique: true },
       invitedBy: { type: DataTypes.INTEGER, allowNull: true },
       expiresAt: { type: DataTypes.DATE(3), allowNull: false },
