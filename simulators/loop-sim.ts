@@ -159,9 +159,43 @@ export class LoopSim {
     for (const d of this.config.drift) {
       if (d.kind !== "gain-creep" || t < d.startS) continue;
       const f = d.durationS <= 0 ? 1 : Math.min(1, (t - d.startS) / d.durationS);
-      g *= 1 + (d.toFactor - 1) * f;
+      g *= 1 + (this.creepTarget(d) - 1) * f;
     }
     return g;
+  }
+
+  private readonly creepTargets = new Map<DriftSpec, number>();
+
+  /** End gain multiplier of a gain-creep drift (`toHeadroom` resolved against this loop's own critical gain). */
+  private creepTarget(d: Extract<DriftSpec, { kind: "gain-creep" }>): number {
+    let v = this.creepTargets.get(d);
+    if (v === undefined) {
+      v = d.toFactor ?? (d.toHeadroom ?? 1) * this.criticalGainFactor();
+      this.creepTargets.set(d, v);
+    }
+    return v;
+  }
+
+  /**
+   * The process-gain multiplier at which the loop (as configured, no drift) reaches the unit
+   * circle: bisection on the spectral radius of the closed-loop state matrix. Infinity if none below 1e4.
+   */
+  criticalGainFactor(): number {
+    const rho = (g: number) => Math.max(...eigenvalues(this.closedLoopStateMatrix(g, 0)).map((z) => Math.hypot(z.re, z.im)));
+    if (rho(1) >= 1) return 1;
+    let lo = 1;
+    let hi = 2;
+    while (rho(hi) < 1) {
+      lo = hi;
+      hi *= 2;
+      if (hi > 1e4) return Infinity;
+    }
+    for (let i = 0; i < 50; i++) {
+      const mid = 0.5 * (lo + hi);
+      if (rho(mid) < 1) lo = mid;
+      else hi = mid;
+    }
+    return 0.5 * (lo + hi);
   }
 
   /** Extra dead time in controller samples at simulated time t (dead-time-growth drifts). */
@@ -339,11 +373,9 @@ export class LoopSim {
    * (dead time included), the extra dead-time shift register, the controller's states
    * (observable canonical realisation of N(q)/D(q)).
    */
-  closedLoopStateMatrix(): number[][] {
+  closedLoopStateMatrix(g = this.gainFactor(), M = this.extraDelaySamples()): number[][] {
     const p = this.plant;
     const n = p.n;
-    const g = this.gainFactor();
-    const M = this.extraDelaySamples();
     // controller C(q) = (b0 + b1 q^-1 + ...)/(1 + a1 q^-1 + ...)
     const d0 = this.controller.den[0]!;
     const m = Math.max(this.controller.num.length, this.controller.den.length) - 1;

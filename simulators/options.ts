@@ -13,7 +13,7 @@
  *   --broker <url>      MQTT_URL              broker URL (default mqtt://MQTT_HOST:MQTT_PORT)
  *   --qos <0|1>         SIM_QOS               MQTT QoS of telemetry (default 0)
  *   --no-seed           SIM_NO_SEED=true      use only the scenario's inline loops
- *   (credentials)       SIM_DEVICE_CREDENTIALS JSON { tenantSlug: { username, password, clientId } }
+ *   (credentials)       SIM_DEVICE_CREDENTIALS JSON { "tenant/site" or tenant: { username, password, clientId } }
  */
 import { z } from "zod";
 import { getConfig } from "@/lib/config";
@@ -50,7 +50,7 @@ const schema = z.object({
       try {
         return z.record(z.string(), credentialSchema).parse(JSON.parse(s));
       } catch (e) {
-        ctx.addIssue({ code: "custom", message: `must be JSON { tenantSlug: { username, password, clientId } }: ${(e as Error).message}` });
+        ctx.addIssue({ code: "custom", message: `must be JSON { "tenant/site" or tenant: { username, password, clientId } }: ${(e as Error).message}` });
         return z.NEVER;
       }
     }),

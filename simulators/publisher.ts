@@ -19,13 +19,15 @@ export interface TelemetryPublisher {
   readonly errors: number;
 }
 
-/** The tenant segment of a telemetry topic rg/<tenant>/<site>/<loop>/samples. */
-function tenantOf(topic: string): string {
-  return topic.split("/")[1] ?? "";
+/** Credential keys a topic rg/<tenant>/<site>/<loop>/samples may use: "tenant/site", then "tenant". */
+function keysOf(topic: string): [string, string] {
+  const parts = topic.split("/");
+  return [`${parts[1] ?? ""}/${parts[2] ?? ""}`, parts[1] ?? ""];
 }
 
 /**
- * Connect one client per tenant in `credentials` and route each publish by the topic's tenant.
+ * Connect one client per credential (keyed "tenantSlug/siteSlug" for a site credential or
+ * "tenantSlug" for a tenant-wide one) and route each publish by the topic's tenant and site.
  * QoS 0 by default (telemetry is superseded by the next sample); QoS 1 on request.
  */
 export async function connectPublisher(
@@ -36,7 +38,7 @@ export async function connectPublisher(
   const clients = new Map<string, MqttClient>();
   let errors = 0;
   try {
-    for (const [tenant, cred] of Object.entries(credentials)) {
+    for (const [key, cred] of Object.entries(credentials)) {
       const client = await mqtt.connectAsync(url, {
         username: cred.username,
         password: cred.password,
@@ -49,7 +51,7 @@ export async function connectPublisher(
       client.on("error", () => {
         errors++;
       });
-      clients.set(tenant, client);
+      clients.set(key, client);
     }
   } catch (e) {
     await Promise.all([...clients.values()].map((c) => c.endAsync(true).catch(() => undefined)));
@@ -61,10 +63,11 @@ export async function connectPublisher(
       return errors;
     },
     async publish(topic, payload) {
-      const client = clients.get(tenantOf(topic));
+      const [siteKey, tenantKey] = keysOf(topic);
+      const client = clients.get(siteKey) ?? clients.get(tenantKey);
       if (!client) {
         errors++;
-        throw new Error(`no device credential for the tenant of ${topic}`);
+        throw new Error(`no device credential for the site or tenant of ${topic}`);
       }
       if (qos === 0) {
         client.publish(topic, payload, { qos: 0, retain: false });

@@ -57,14 +57,21 @@ export const controllerSpecSchema = z.object({
 export type ControllerSpec = z.infer<typeof controllerSpecSchema>;
 
 export const driftSchema = z.discriminatedUnion("kind", [
-  z.object({
-    kind: z.literal("gain-creep"),
-    startS: seconds,
-    /** Time to reach `toFactor`, linearly; 0 = a step. */
-    durationS: seconds,
-    /** Process gain multiplier at the end (e.g. 2.5). */
-    toFactor: z.number().finite().positive(),
-  }),
+  z
+    .object({
+      kind: z.literal("gain-creep"),
+      startS: seconds,
+      /** Time to reach the final gain, linearly; 0 = a step. */
+      durationS: seconds,
+      /** Process gain multiplier at the end (e.g. 2.5). */
+      toFactor: z.number().finite().positive().optional(),
+      /** Or: the end multiplier as a fraction of the loop's own gain headroom (1 = on the rim). */
+      toHeadroom: z.number().finite().positive().max(1.5).optional(),
+    })
+    .refine((d) => (d.toFactor === undefined) !== (d.toHeadroom === undefined), {
+      message: "give exactly one of toFactor and toHeadroom",
+      path: ["toFactor"],
+    }),
   z.object({
     kind: z.literal("dead-time-growth"),
     startS: seconds,

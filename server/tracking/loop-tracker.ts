@@ -23,7 +23,8 @@
  *      most 8) by RLS without gating. While the set point has not moved within the estimator's
  *      memory its regressors in SP are empty and it is an AR model of the PV: the
  *      disturbance-response poles, biased by the disturbance's own dynamics, labelled so.
- * 3. radius, rim distance, the decay ratio of the dominant oscillating mode, Jury verdict,
+ * 3. radius, rim distance, the decay ratio of the dominant oscillating mode (the complex pair
+ *    of largest radius), Jury verdict,
  *    dominant pole's zeta / wn / tau, gain headroom, radius confidence (delta method), crossing
  *    forecast of the radius over a window far longer than the estimator's memory.
  * A full state is computed at most once per second of telemetry time (and on state changes).
@@ -472,13 +473,12 @@ export class LoopTracker {
       st.spectralRadius = finite(rho);
       st.rimDistance = finite(1 - rho);
       st.radiusSd = finite(conf?.[dom]?.radiusStd);
-      let worstDecay: number | null = null;
-      for (const z of roots) {
-        if (z.im === 0) continue;
-        const dr = decayRatio(z);
-        if (dr !== null && Number.isFinite(dr) && (worstDecay === null || dr > worstDecay)) worstDecay = dr;
-      }
-      st.decayRatio = worstDecay;
+      // the dominant oscillating mode is the complex pair of largest radius (slowest to die out);
+      // a fast, well-decaying high-frequency pair (e.g. from dead-time poles) can show a larger
+      // per-cycle ratio while it is gone within a few samples, so it does not set the figure
+      let osc: Complex | null = null;
+      for (const z of roots) if (z.im > 0 && (osc === null || modulus(z) > modulus(osc))) osc = z;
+      st.decayRatio = osc ? finite(decayRatio(osc)) : null;
       st.juryStable = juryTest(char).stable;
       const pc = poleCharacteristics(roots[dom]!, this.estimationPeriodS);
       st.dominant = { zeta: finite(pc.zeta), wn: finite(pc.wn), timeConstant: finite(pc.timeConstant) };

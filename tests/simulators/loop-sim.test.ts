@@ -191,6 +191,22 @@ describe("true closed-loop poles from the state matrix", () => {
   });
 });
 
+describe("critical gain", () => {
+  it("puts a pole on the unit circle at the critical gain, and a creep to 95 % of it stays just inside", () => {
+    const sim = new LoopSim(loopConfig({ drift: [{ kind: "gain-creep", startS: 0, durationS: 100, toHeadroom: 0.95 }] }));
+    const kc = sim.criticalGainFactor();
+    // independent check: the roots of the closed-loop polynomial with the plant gain times kc
+    const tf = c2dZoh(plantTransferFunction({ type: "first-order", gain: 1.5 * kc, timeConstantS: 20, deadTimeS: 2.5 }), 1, 2.5);
+    const rho = Math.max(...polyRoots(closedLoopPolynomial(tf, sim.controller)).map(radius));
+    expect(Math.abs(rho - 1)).toBeLessThan(1e-7);
+    sim.samples(150);
+    expect(sim.gainFactor()).toBeCloseTo(0.95 * kc, 10);
+    const r = Math.max(...trueClosedLoopPoles(sim).map(radius));
+    expect(r).toBeLessThan(1);
+    expect(r).toBeGreaterThan(0.98);
+  });
+});
+
 describe("controller and drifts", () => {
   it("keeps the MV inside its limits and pins it at the limit under a large load (saturation)", () => {
     const sim = new LoopSim(loopConfig({ mvLimitsPct: [5, 95], drift: [{ kind: "saturation", startS: 100, loadPct: -70, durationS: null }] }));

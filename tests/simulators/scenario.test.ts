@@ -49,6 +49,13 @@ describe("scenario files", () => {
     expect(p).toContain("loops.1.tag: tag FV-1 is listed twice");
   });
 
+  it("needs exactly one of toFactor and toHeadroom in a gain creep", () => {
+    const both = problems({ name: "x", loops: [{ tag: "A", drift: [{ kind: "gain-creep", startS: 0, durationS: 10, toFactor: 2, toHeadroom: 0.9 }] }] });
+    const none = problems({ name: "x", loops: [{ tag: "A", drift: [{ kind: "gain-creep", startS: 0, durationS: 10 }] }] });
+    expect(both).toContain("loops.0.drift.0.toFactor: give exactly one of toFactor and toHeadroom");
+    expect(none).toContain("loops.0.drift.0.toFactor: give exactly one of toFactor and toHeadroom");
+  });
+
   it("refuses unknown top-level keys, so a typo does not pass silently", () => {
     const p = problems({ name: "x", lops: [] });
     expect(p.join("\n")).toMatch(/lops/);
