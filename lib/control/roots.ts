@@ -58,6 +58,11 @@ function ensureCapacity(n: number): void {
  * `outRe`/`outIm`; returns the number of roots (the degree after stripping leading zeros).
  * Allocation-free once the internal scratch buffers have grown to the degree in use (hot path).
  * `length` (default `coeffs.length`) lets a caller pass a longer reusable buffer.
+ * Degree 3 (after removing zero roots) is solved here in closed form (trigonometric / Cardano
+ * form, Press et al. 2007 sec. 5.6) and each root polished by Newton steps on the original
+ * cubic, kept only while they reduce |p(z)|; this is several times faster than the iteration and
+ * agrees with `polyRoots` to the conditioning of the roots (tested). Other degrees use the same
+ * method as `polyRoots`.
  * `warmStart`: when true and `outRe`/`outIm` still hold the roots of a previous call with the same
  * degree and the same number of zero roots (a tracker re-solving a slowly changing polynomial),
  * those roots, slightly rotated to break the conjugate symmetry, seed the iteration instead of the
@@ -73,6 +78,17 @@ export function polyRootsInto(
   outIm: Float64Array,
   length: number = coeffs.length,
   warmStart = false,
+): number {
+  return rootsCore(coeffs, outRe, outIm, length, warmStart, true);
+}
+
+function rootsCore(
+  coeffs: ArrayLike<number>,
+  outRe: Float64Array,
+  outIm: Float64Array,
+  length: number,
+  warmStart: boolean,
+  fastCubic: boolean,
 ): number {
   let first = -1;
   for (let i = 0; i < length; i++) {
@@ -97,6 +113,8 @@ export function polyRootsInto(
   } else if (m === 2) {
     quadratic(coeffs[first]!, coeffs[first + 1]!, coeffs[first + 2]!, outRe, outIm);
     count = 2;
+  } else if (m === 3 && fastCubic && cubic(coeffs, first, outRe, outIm)) {
+    count = 3;
   } else if (m >= 3) {
     aberth(coeffs, first, m, outRe, outIm, warmStart);
     count = m;
@@ -115,7 +133,7 @@ export function polyRoots(coeffs: ArrayLike<number>): Complex[] {
   const n = Math.max(coeffs.length - 1, 0);
   const re = new Float64Array(n);
   const im = new Float64Array(n);
-  const count = polyRootsInto(coeffs, re, im);
+  const count = rootsCore(coeffs, re, im, coeffs.length, false, false);
   const out: Complex[] = new Array<Complex>(count);
   for (let i = 0; i < count; i++) out[i] = { re: re[i]!, im: im[i]! };
   return out;
@@ -387,4 +405,102 @@ function sortRoots(re: Float64Array, im: Float64Array, n: number): void {
     re[j + 1] = r;
     im[j + 1] = q;
   }
+}
+
+/**
+ * Closed-form cubic (Press et al., *Numerical Recipes*, 3rd ed., 2007, sec. 5.6) with Newton
+ * polishing on the original polynomial. Returns false (caller falls back to the iteration) if
+ * anything is non-finite.
+ */
+function cubic(coeffs: ArrayLike<number>, first: number, outRe: Float64Array, outIm: Float64Array): boolean {
+  const lead = coeffs[first]!;
+  const a = coeffs[first + 1]! / lead;
+  const b = coeffs[first + 2]! / lead;
+  const c = coeffs[first + 3]! / lead;
+  const a3 = a / 3;
+  const Q = (a * a - 3 * b) / 9;
+  const R = (2 * a * a * a - 9 * a * b + 27 * c) / 54;
+  const Q3 = Q * Q * Q;
+  if (R * R < Q3) {
+    let x = R / Math.sqrt(Q3);
+    if (x > 1) x = 1;
+    else if (x < -1) x = -1;
+    const th = Math.acos(x);
+    const m2 = -2 * Math.sqrt(Q);
+    outRe[0] = polishReal(a, b, c, m2 * Math.cos(th / 3) - a3);
+    outRe[1] = polishReal(a, b, c, m2 * Math.cos((th + 2 * Math.PI) / 3) - a3);
+    outRe[2] = polishReal(a, b, c, m2 * Math.cos((th - 2 * Math.PI) / 3) - a3);
+    outIm[0] = 0;
+    outIm[1] = 0;
+    outIm[2] = 0;
+  } else {
+    const A = -Math.sign(R) * Math.cbrt(Math.abs(R) + Math.sqrt(R * R - Q3));
+    const B = A === 0 ? 0 : Q / A;
+    outRe[0] = polishReal(a, b, c, A + B - a3);
+    outIm[0] = 0;
+    let re = -0.5 * (A + B) - a3;
+    let im = 0.8660254037844386 * Math.abs(A - B); // sqrt(3)/2
+    if (im === 0) {
+      outRe[1] = polishReal(a, b, c, re);
+      outRe[2] = polishReal(a, b, c, re);
+      outIm[1] = 0;
+      outIm[2] = 0;
+    } else {
+      // Newton on the complex root while |p| decreases (at most 3 steps).
+      for (let step = 0; step < 3; step++) {
+        // p = ((z + a) z + b) z + c, p' = (3z + 2a) z + b
+        let pr = re + a;
+        let pi = im;
+        let t = pr * re - pi * im + b;
+        pi = pr * im + pi * re;
+        pr = t;
+        t = pr * re - pi * im + c;
+        pi = pr * im + pi * re;
+        pr = t;
+        let dr = 3 * re + 2 * a;
+        let di = 3 * im;
+        t = dr * re - di * im + b;
+        di = dr * im + di * re;
+        dr = t;
+        const d2 = dr * dr + di * di;
+        const p2 = pr * pr + pi * pi;
+        if (d2 === 0 || p2 === 0) break;
+        const nre = re - (pr * dr + pi * di) / d2;
+        const nim = im - (pi * dr - pr * di) / d2;
+        // accept only if |p| decreases
+        let qr = nre + a;
+        let qi = nim;
+        t = qr * nre - qi * nim + b;
+        qi = qr * nim + qi * nre;
+        qr = t;
+        t = qr * nre - qi * nim + c;
+        qi = qr * nim + qi * nre;
+        qr = t;
+        if (!(qr * qr + qi * qi < p2)) break;
+        re = nre;
+        im = nim;
+      }
+      outRe[1] = re;
+      outIm[1] = Math.abs(im);
+      outRe[2] = re;
+      outIm[2] = -Math.abs(im);
+    }
+  }
+  for (let i = 0; i < 3; i++) if (!Number.isFinite(outRe[i]!) || !Number.isFinite(outIm[i]!)) return false;
+  return true;
+}
+
+/** Newton steps on a real root of z^3 + a z^2 + b z + c while |p| decreases (at most 3). */
+function polishReal(a: number, b: number, c: number, x: number): number {
+  let p = ((x + a) * x + b) * x + c;
+  for (let step = 0; step < 3 && p !== 0; step++) {
+    const d = (3 * x + 2 * a) * x + b;
+    if (d === 0) break;
+    const nx = x - p / d;
+    const np = ((nx + a) * nx + b) * nx + c;
+    if (!(Math.abs(np) < Math.abs(p))) break;
+    x = nx;
+    p = np;
+  }
+  return x;
 }

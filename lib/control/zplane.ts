@@ -95,7 +95,10 @@ export function decayRatio(z: Complex): number | null {
 
 /** Location class of a pole (tolerances: INTEGRATOR_TOLERANCE, ORIGIN_TOLERANCE, REAL_AXIS_TOLERANCE). */
 export function poleKind(z: Complex): PoleKind {
-  const r = Math.sqrt(z.re * z.re + z.im * z.im);
+  return kindOf(z, Math.sqrt(z.re * z.re + z.im * z.im));
+}
+
+function kindOf(z: Complex, r: number): PoleKind {
   if (r <= ORIGIN_TOLERANCE) return "origin";
   if ((z.re - 1) * (z.re - 1) + z.im * z.im <= INTEGRATOR_TOLERANCE * INTEGRATOR_TOLERANCE) return "integrator";
   if (Math.abs(z.im) > REAL_AXIS_TOLERANCE * Math.max(1, r)) return "complex";
@@ -112,7 +115,7 @@ export function poleCharacteristics(z: Complex, T: number): PoleCharacteristics 
   assertPeriod(T);
   const radius = Math.sqrt(z.re * z.re + z.im * z.im);
   const angle = Math.atan2(z.im, z.re);
-  const kind = poleKind(z);
+  const kind = kindOf(z, radius);
   const stable = radius < 1;
   if (kind === "origin") {
     return { radius, angle, zeta: 1, wn: Infinity, timeConstant: 0, decayRatio: null, kind, stable, continuousEquivalent: false };
@@ -127,7 +130,8 @@ export function poleCharacteristics(z: Complex, T: number): PoleCharacteristics 
   const zeta = mag === 0 ? 0 : -lnr / mag;
   let timeConstant: number | null = null;
   if (kind === "positive-real" && z.re < 1) timeConstant = -T / Math.log(z.re);
-  const dr = kind === "complex" || kind === "negative-real" ? Math.pow(radius, (2 * Math.PI) / Math.abs(theta)) : null;
+  // r^(2 pi/|theta|) = exp(2 pi ln r / |theta|), reusing ln r
+  const dr = kind === "complex" || kind === "negative-real" ? Math.exp((2 * Math.PI * lnr) / Math.abs(theta)) : null;
   return { radius, angle, zeta, wn, timeConstant, decayRatio: dr, kind, stable, continuousEquivalent: kind !== "negative-real" };
 }
 

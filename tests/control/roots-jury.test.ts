@@ -137,6 +137,44 @@ describe("polyRoots", () => {
     }
   });
 
+  it("solves cubics on the hot path (closed form + Newton polish) like the iteration, to the roots' conditioning", () => {
+    const rand = mulberry32(99);
+    const re = new Float64Array(3);
+    const im = new Float64Array(3);
+    for (let trial = 0; trial < 2000; trial++) {
+      // chosen roots: a pair or three reals, sometimes clustered near z = 1 (fast sampling)
+      const cluster = rand() < 0.3;
+      const pick = (): number => (cluster ? 1 - 0.05 * rand() : 1.8 * rand() - 0.9);
+      const roots: Complex[] =
+        rand() < 0.5
+          ? [{ re: pick(), im: 0 }, { re: pick(), im: 0 }, { re: pick(), im: 0 }]
+          : (() => {
+              const x = pick();
+              const y = (cluster ? 0.02 : 0.8) * rand();
+              return [{ re: x, im: y }, { re: x, im: -y }, { re: pick(), im: 0 }];
+            })();
+      const c = polyFromRoots(roots);
+      expect(polyRootsInto(c, re, im)).toBe(3);
+      const fast: Complex[] = [0, 1, 2].map((i) => ({ re: re[i]!, im: im[i]! }));
+      const slow = polyRoots(c);
+      // allowed difference per root: the perturbation bound of 100 eps sum|c_k||z|^k coefficient
+      // noise for a root alone (/|p'(z)|), in a close pair (sqrt(./|z - z_far|)) or a triple (cube root),
+      // whichever is smallest (Wilkinson-type bounds); at least 1e-12
+      let tol = 1e-12;
+      for (const z of roots) {
+        const r = Math.hypot(z.re, z.im);
+        const noise = 100 * 2.22e-16 * c.reduce((s, x) => s * r + Math.abs(x), 0);
+        const d = roots.filter((w) => w !== z).map((w) => Math.hypot(z.re - w.re, z.im - w.im)).sort((x, y) => x - y);
+        const single = noise / (d[0]! * d[1]!);
+        const pair = Math.sqrt(noise / d[1]!);
+        const triple = Math.cbrt(noise);
+        tol = Math.max(tol, Math.min(single, pair, triple));
+      }
+      expect(maxMatchError(slow, fast)).toBeLessThan(tol);
+      expect(maxMatchError(roots, fast)).toBeLessThan(tol);
+    }
+  });
+
   it("orders roots by descending modulus with conjugate pairs adjacent", () => {
     const r = polyRoots([1, 0, 0, 0, -1]); // z^4 = 1
     for (let i = 1; i < r.length; i++) expect(abs(r[i - 1]!)).toBeGreaterThanOrEqual(abs(r[i]!) - 1e-15);
