@@ -99,6 +99,8 @@ export async function inviteUser(ctx: TenantContext, input: z.infer<typeof invit
     await mail.send({
       to: [input.email],
       subject: `Rimguard: you are invited to ${ctx.tenantName}`,
+      // The demo outbox lists a tenant's messages by this header.
+      headers: { "x-rimguard-tenant": String(ctx.tenantId) },
       text: [
         `${ctx.name} invited you to ${ctx.tenantName} on Rimguard as ${input.role}.`,
         ``,

@@ -1,24 +1,60 @@
-import type { Metadata } from "next";
 import { redirect } from "next/navigation";
+import { AdminDevices } from "@/app/_components/admin-devices";
+import { AdminOutbox, AdminRules, AdminSites } from "@/app/_components/admin-misc";
+import { AdminPolicies } from "@/app/_components/admin-policies";
+import { AdminUsers } from "@/app/_components/admin-users";
+import { ConfigChangeLog } from "@/app/_components/config-change-log";
 import { getContextOrNull } from "@/lib/auth/guard";
+import { POLICY_SCOPES, type PolicyScope } from "@/lib/alarms/policy";
 import { roleAtLeast } from "@/lib/types";
-import { EmptyState } from "../_shell/empty-state";
 
-export const metadata: Metadata = { title: "Admin" };
+export const dynamic = "force-dynamic";
+export const metadata = { title: "Administration · Rimguard" };
 
-export default async function AdminPage() {
+const SECTIONS = [
+  { id: "levels", label: "Alarm levels", min: "engineer" },
+  { id: "users", label: "Users and roles", min: "admin" },
+  { id: "devices", label: "Device credentials", min: "admin" },
+  { id: "notifications", label: "Notification rules", min: "admin" },
+  { id: "sites", label: "Sites and areas", min: "admin" },
+  { id: "outbox", label: "Outbox", min: "admin" },
+  { id: "log", label: "Change log", min: "engineer" },
+] as const;
+
+export default async function AdminPage({ searchParams }: { searchParams: Promise<Record<string, string | string[] | undefined>> }) {
   const ctx = await getContextOrNull();
   if (!ctx) redirect("/signin");
-  if (!roleAtLeast(ctx.role, "admin")) {
-    return (
-      <EmptyState title="Admin">
-        <p>This page needs the admin role; you are signed in as {ctx.role}.</p>
-      </EmptyState>
-    );
-  }
+  if (!roleAtLeast(ctx.role, "engineer")) redirect("/");
+  const sp = await searchParams;
+  const visible = SECTIONS.filter((s) => roleAtLeast(ctx.role, s.min));
+  const section = visible.find((s) => s.id === sp.section)?.id ?? "levels";
+  const scope = POLICY_SCOPES.includes(sp.scope as PolicyScope) ? (sp.scope as PolicyScope) : roleAtLeast(ctx.role, "admin") ? "tenant" : "loop";
+  const id = Number(sp.id) > 0 ? Number(sp.id) : undefined;
   return (
-    <EmptyState title="Admin">
-      <p>Users and roles, device credentials, sites, alarm thresholds and notification rules arrive with the administration pages.</p>
-    </EmptyState>
+    <div className="flex flex-col gap-4">
+      <h1 className="text-xl font-semibold">Administration · {ctx.tenantName}</h1>
+      <nav aria-label="Administration sections">
+        <ul className="flex flex-wrap gap-1 border-b border-line">
+          {visible.map((s) => (
+            <li key={s.id}>
+              <a
+                href={`/admin?section=${s.id}`}
+                aria-current={s.id === section ? "page" : undefined}
+                className={`inline-block rounded-t border border-b-0 px-3 py-1 text-sm ${s.id === section ? "border-line bg-surface font-semibold" : "border-transparent text-muted hover:text-ink"}`}
+              >
+                {s.label}
+              </a>
+            </li>
+          ))}
+        </ul>
+      </nav>
+      {section === "levels" && <AdminPolicies role={ctx.role} initialScope={scope} initialId={id} />}
+      {section === "users" && <AdminUsers selfUserId={ctx.userId} />}
+      {section === "devices" && <AdminDevices />}
+      {section === "notifications" && <AdminRules />}
+      {section === "sites" && <AdminSites />}
+      {section === "outbox" && <AdminOutbox />}
+      {section === "log" && <ConfigChangeLog title="Configuration change log" />}
+    </div>
   );
 }

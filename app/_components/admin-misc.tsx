@@ -1,0 +1,245 @@
+"use client";
+/** Administration sections: notification rules, sites and operator areas, the demo's outbox. */
+import { zodResolver } from "@hookform/resolvers/zod";
+import { useState } from "react";
+import { useForm } from "react-hook-form";
+import useSWR from "swr";
+import { z } from "zod";
+import type { RuleDto } from "@/lib/admin/notifications";
+import type { SiteDto } from "@/lib/admin/sites";
+import { ALARM_PRIORITIES } from "@/lib/types";
+import { fetchJson, sendJson } from "@/lib/client/fetcher";
+import { fmtTime } from "@/lib/client/format";
+
+const nullableInt = (v: unknown) => (v === "" || v === null || v === undefined ? null : Number(v));
+const ruleForm = z.object({
+  name: z.string().trim().min(2, "Name the rule."),
+  areaId: z.number().int().positive().nullable(),
+  recipients: z.string().trim().min(3, "At least one e-mail address."),
+  minPriority: z.enum(ALARM_PRIORITIES),
+  escalationMinutes: z.number().int().min(1).max(1440).nullable(),
+  repeatMinutes: z.number().int().min(5, "At least 5 minutes.").max(1440).nullable(),
+  enabled: z.boolean(),
+  reason: z.string().trim().min(3, "Give a change reason."),
+});
+
+export function AdminRules() {
+  const { data, error, mutate } = useSWR("/api/admin/notification-rules", (u: string) => fetchJson<{ rules: RuleDto[] }>(u));
+  const sites = useSWR("/api/admin/sites", (u: string) => fetchJson<{ sites: SiteDto[] }>(u));
+  const areas = sites.data?.sites.flatMap((s) => s.areas.map((a) => ({ ...a, site: s.name }))) ?? [];
+  const [err, setErr] = useState<string | null>(null);
+  const {
+    register,
+    handleSubmit,
+    reset,
+    formState: { errors, isSubmitting },
+  } = useForm<z.infer<typeof ruleForm>>({
+    resolver: zodResolver(ruleForm),
+    defaultValues: { name: "", areaId: null, recipients: "", minPriority: "high", escalationMinutes: 15, repeatMinutes: 60, enabled: true, reason: "" },
+  });
+  const create = handleSubmit(async (v) => {
+    setErr(null);
+    try {
+      await sendJson("/api/admin/notification-rules", "POST", { ...v, recipients: v.recipients.split(/[\s,;]+/).filter(Boolean) });
+      reset();
+      void mutate();
+    } catch (x) {
+      setErr(x instanceof Error ? x.message : String(x));
+    }
+  });
+  const del = async (r: RuleDto) => {
+    const reason = window.prompt(`Reason for deleting the rule "${r.name}":`);
+    if (!reason) return;
+    try {
+      await sendJson(`/api/admin/notification-rules/${r.id}`, "DELETE", { reason });
+      void mutate();
+    } catch (x) {
+      setErr(x instanceof Error ? x.message : String(x));
+    }
+  };
+  const inp = "rounded border border-line bg-ground px-2 py-1 text-sm";
+  const E = ({ k }: { k: keyof z.infer<typeof ruleForm> }) => (errors[k] ? <span className="text-xs text-urgent">{String(errors[k]?.message)}</span> : null);
+  return (
+    <section className="flex flex-col gap-3" aria-label="Notification rules" data-testid="admin-rules">
+      <form onSubmit={create} noValidate className="grid gap-3 rounded-md border border-line bg-surface p-3 md:grid-cols-4">
+        <label className="flex flex-col text-sm">
+          Rule name
+          <input {...register("name")} className={inp} />
+          <E k="name" />
+        </label>
+        <label className="flex flex-col text-sm">
+          Operator area
+          <select {...register("areaId", { setValueAs: nullableInt })} className={inp}>
+            <option value="">every area</option>
+            {areas.map((a) => (
+              <option key={a.id} value={a.id}>
+                {a.site} · {a.name}
+              </option>
+            ))}
+          </select>
+        </label>
+        <label className="flex flex-col text-sm md:col-span-2">
+          Recipients (e-mail addresses, comma separated)
+          <input {...register("recipients")} className={inp} />
+          <E k="recipients" />
+        </label>
+        <label className="flex flex-col text-sm">
+          From priority
+          <select {...register("minPriority")} className={inp}>
+            {ALARM_PRIORITIES.map((p) => (
+              <option key={p} value={p}>
+                {p} and above
+              </option>
+            ))}
+          </select>
+        </label>
+        <label className="flex flex-col text-sm">
+          Escalate when unacknowledged after, min
+          <input type="number" {...register("escalationMinutes", { setValueAs: nullableInt })} className={inp} />
+          <E k="escalationMinutes" />
+        </label>
+        <label className="flex flex-col text-sm">
+          Repeat every, min
+          <input type="number" {...register("repeatMinutes", { setValueAs: nullableInt })} className={inp} />
+          <E k="repeatMinutes" />
+        </label>
+        <label className="flex items-center gap-2 text-sm">
+          <input type="checkbox" {...register("enabled")} /> enabled
+        </label>
+        <label className="flex flex-col text-sm md:col-span-3">
+          Change reason
+          <input {...register("reason")} className={inp} />
+          <E k="reason" />
+        </label>
+        <button type="submit" disabled={isSubmitting} className="self-end rounded bg-accent px-3 py-1 font-semibold text-accent-ink disabled:opacity-60">
+          Add rule
+        </button>
+        {err && <p role="alert" className="text-sm text-urgent md:col-span-4">{err}</p>}
+      </form>
+      {error && <p className="text-sm text-urgent">{(error as Error).message}</p>}
+      <ul className="flex flex-col gap-1 text-sm">
+        {data?.rules.length === 0 && <li className="text-muted">No rules: nobody is e-mailed about alarms.</li>}
+        {data?.rules.map((r) => (
+          <li key={r.id} className="flex flex-wrap items-center gap-3 rounded border border-line bg-surface px-3 py-1.5">
+            <strong>{r.name}</strong>
+            <span>{r.areaId ? (areas.find((a) => a.id === r.areaId)?.name ?? `area ${r.areaId}`) : "every area"}</span>
+            <span>{r.minPriority} and above</span>
+            <span className="text-muted">{r.recipients.join(", ")}</span>
+            <span className="text-muted">
+              escalate {r.escalationMinutes ? `after ${r.escalationMinutes} min` : "never"}, repeat {r.repeatMinutes ? `every ${r.repeatMinutes} min` : "never"}
+            </span>
+            {!r.enabled && <span className="text-suppressed">disabled</span>}
+            <button type="button" onClick={() => void del(r)} className="ml-auto rounded border border-line px-2 py-0.5 text-xs">
+              Delete
+            </button>
+          </li>
+        ))}
+      </ul>
+    </section>
+  );
+}
+
+const siteForm = z.object({ name: z.string().trim().min(2, "Name the site."), timeZone: z.string().trim().min(3, "An IANA time zone, e.g. Europe/Berlin.") });
+
+export function AdminSites() {
+  const { data, error, mutate } = useSWR("/api/admin/sites", (u: string) => fetchJson<{ sites: SiteDto[] }>(u));
+  const [err, setErr] = useState<string | null>(null);
+  const {
+    register,
+    handleSubmit,
+    reset,
+    formState: { errors, isSubmitting },
+  } = useForm<z.infer<typeof siteForm>>({ resolver: zodResolver(siteForm), defaultValues: { name: "", timeZone: "UTC" } });
+  const create = handleSubmit(async (v) => {
+    setErr(null);
+    try {
+      await sendJson("/api/admin/sites", "POST", v);
+      reset();
+      void mutate();
+    } catch (x) {
+      setErr(x instanceof Error ? x.message : String(x));
+    }
+  });
+  const addArea = async (s: SiteDto) => {
+    const name = window.prompt(`New operator area at ${s.name}:`);
+    if (!name) return;
+    try {
+      await sendJson(`/api/admin/sites/${s.id}/areas`, "POST", { name });
+      void mutate();
+    } catch (x) {
+      setErr(x instanceof Error ? x.message : String(x));
+    }
+  };
+  const inp = "rounded border border-line bg-ground px-2 py-1 text-sm";
+  return (
+    <section className="flex flex-col gap-3" aria-label="Sites and areas" data-testid="admin-sites">
+      <form onSubmit={create} noValidate className="flex flex-wrap items-end gap-3 rounded-md border border-line bg-surface p-3">
+        <label className="flex flex-col text-sm">
+          Site name
+          <input {...register("name")} className={inp} />
+          {errors.name && <span className="text-xs text-urgent">{errors.name.message}</span>}
+        </label>
+        <label className="flex flex-col text-sm">
+          Time zone
+          <input {...register("timeZone")} className={inp} />
+          {errors.timeZone && <span className="text-xs text-urgent">{errors.timeZone.message}</span>}
+        </label>
+        <button type="submit" disabled={isSubmitting} className="rounded bg-accent px-3 py-1 font-semibold text-accent-ink disabled:opacity-60">
+          Add site
+        </button>
+        {err && <p role="alert" className="w-full text-sm text-urgent">{err}</p>}
+      </form>
+      {error && <p className="text-sm text-urgent">{(error as Error).message}</p>}
+      <ul className="flex flex-col gap-2">
+        {data?.sites.map((s) => (
+          <li key={s.id} className="rounded border border-line bg-surface px-3 py-2 text-sm">
+            <div className="flex items-center gap-3">
+              <strong>{s.name}</strong>
+              <span className="font-mono text-muted">{s.slug}</span>
+              <span className="text-muted">{s.timeZone}</span>
+              <button type="button" onClick={() => void addArea(s)} className="ml-auto rounded border border-line px-2 py-0.5 text-xs">
+                Add area
+              </button>
+            </div>
+            <p className="text-muted">Operator areas: {s.areas.length ? s.areas.map((a) => a.name).join(", ") : "none"}</p>
+          </li>
+        ))}
+      </ul>
+    </section>
+  );
+}
+
+interface OutboxMsg {
+  id: number;
+  from: string;
+  to: string[];
+  subject: string;
+  text: string;
+  receivedAt: string;
+}
+
+export function AdminOutbox() {
+  const { data, error } = useSWR("/api/outbox", (u: string) => fetchJson<{ sink: boolean; messages: OutboxMsg[] }>(u), { refreshInterval: 10_000 });
+  const [open, setOpen] = useState<number | null>(null);
+  return (
+    <section className="flex flex-col gap-2" aria-label="Outbox" data-testid="admin-outbox">
+      <p className="text-xs text-muted">
+        {data?.sink === false ? "A real SMTP server is configured: this list stays empty." : "The local mail sink keeps every message this demo sent (nothing leaves the machine)."}
+      </p>
+      {error && <p className="text-sm text-urgent">{(error as Error).message}</p>}
+      {data?.messages.length === 0 && <p className="text-sm text-muted">No messages yet.</p>}
+      <ul className="flex flex-col gap-1 text-sm">
+        {data?.messages.map((m) => (
+          <li key={m.id} className="rounded border border-line bg-surface px-3 py-1.5">
+            <button type="button" className="flex w-full flex-wrap gap-3 text-left" aria-expanded={open === m.id} onClick={() => setOpen(open === m.id ? null : m.id)}>
+              <span className="num text-muted">{fmtTime(m.receivedAt)}</span>
+              <span>{m.to.join(", ")}</span>
+              <strong>{m.subject}</strong>
+            </button>
+            {open === m.id && <pre className="mt-2 whitespace-pre-wrap font-mono text-xs">{m.text}</pre>}
+          </li>
+        ))}
+      </ul>
+    </section>
+  );
+}
