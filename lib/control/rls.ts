@@ -24,8 +24,8 @@
  * - "none": plain exponential forgetting.
  *
  * Numerical care: P is updated on its upper triangle and mirrored (exactly symmetric); if a
- * diagonal element turns non-positive or non-finite (loss of definiteness) P is re-initialised to
- * the initial covariance and `covarianceResets` counts it. The per-sample path allocates nothing.
+ * diagonal element turns non-positive or non-finite, or phi' P phi comes out negative (loss of
+ * definiteness), P is re-initialised to the initial covariance and `covarianceResets` counts it. The per-sample path allocates nothing.
  */
 import { ControlArgumentError, NonFiniteInputError } from "./errors";
 import { toNested, trace } from "./linalg";
@@ -156,6 +156,8 @@ export class RecursiveLeastSquares {
       r += regressor[i]! * s;
       yhat += regressor[i]! * th[i]!;
     }
+    // phi'P phi < 0 means P has lost definiteness along phi (rounding): reset after this step.
+    let ok = r >= 0;
     if (r < 0) r = 0;
     const err = y - yhat;
     const lambda = this.forgetting;
@@ -198,7 +200,6 @@ export class RecursiveLeastSquares {
         }
       }
     }
-    let ok = true;
     for (let i = 0; i < n; i++) {
       const d = P[i * n + i]!;
       if (!(d > 0) || !Number.isFinite(d)) ok = false;
@@ -249,6 +250,7 @@ export class RecursiveLeastSquares {
       }
       if (!(p[i * n + i]! > 0)) throw new ControlArgumentError("RLS state: covariance diagonal must be > 0");
     }
+    if (!isPositiveDefinite(p, n)) throw new ControlArgumentError("RLS state: covariance must be symmetric positive definite");
     state.theta.forEach((v, i) => {
       if (typeof v !== "number" || !Number.isFinite(v)) throw new NonFiniteInputError(`RLS state theta[${i}]`);
     });
@@ -259,6 +261,25 @@ export class RecursiveLeastSquares {
     this.updates = updates;
     this.covarianceResets = Number.isInteger(state.covarianceResets) ? state.covarianceResets : 0;
   }
+}
+
+/** Cholesky test (Golub & Van Loan 2013, sec. 4.2) of a symmetric row-major n x n matrix. */
+function isPositiveDefinite(m: Float64Array, n: number): boolean {
+  const l = new Float64Array(n * n);
+  for (let i = 0; i < n; i++) {
+    for (let j = 0; j <= i; j++) {
+      if (Math.abs(m[i * n + j]! - m[j * n + i]!) > 1e-9 * Math.sqrt(Math.abs(m[i * n + i]! * m[j * n + j]!))) return false;
+      let s = m[i * n + j]!;
+      for (let k = 0; k < j; k++) s -= l[i * n + k]! * l[j * n + k]!;
+      if (i === j) {
+        if (!(s > 0)) return false;
+        l[i * n + i] = Math.sqrt(s);
+      } else {
+        l[i * n + j] = s / l[j * n + j]!;
+      }
+    }
+  }
+  return true;
 }
 
 /** Serialisable RLS state. */

@@ -125,6 +125,8 @@ describe("RecursiveLeastSquares", () => {
     expect(loose.trace).toBeLessThanOrEqual(400 * (1 + 1e-12));
     // Plain forgetting's covariance exploded (lambda^-10000 ~ 1e43) and lost definiteness on the way.
     expect(plain.trace).toBeGreaterThan(1e6);
+    expect(plain.resets).toBeGreaterThan(0);
+    expect(directional.resets).toBe(0);
   });
 
   it("keeps the covariance exactly symmetric and positive definite under every guard", () => {
@@ -179,6 +181,10 @@ describe("RecursiveLeastSquares", () => {
     expect(Array.from(b.theta)).toEqual(Array.from(a.theta));
     expect(b.updates).toBe(200);
     expect(() => b.restore({ ...a.toJSON(), theta: [1, 2] })).toThrow(ControlArgumentError);
+    // Positive diagonal but indefinite (eigenvalues 3, -1, 1): refused.
+    const indefinite = { ...a.toJSON(), covariance: [[1, 2, 0], [2, 1, 0], [0, 0, 1]] };
+    expect(() => b.restore(indefinite)).toThrow("positive definite");
+    expect(b.updates).toBe(200);
     a.reset();
     expect(Array.from(a.theta)).toEqual([0, 0, 0]);
     expect(a.covariance[0]).toBe(1000);
