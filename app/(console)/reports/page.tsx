@@ -1,12 +1,12 @@
-import type { Metadata } from "next";
-import { EmptyState } from "../_shell/empty-state";
+import { redirect } from "next/navigation";
+import { ReportsView } from "@/app/_components/reports-view";
+import { getContextOrNull } from "@/lib/auth/guard";
 
-export const metadata: Metadata = { title: "Reports" };
+export const dynamic = "force-dynamic";
+export const metadata = { title: "Reports · Rimguard" };
 
-export default function ReportsPage() {
-  return (
-    <EmptyState title="Reports">
-      <p>Alarm-rate figures per operator area and loop-health summaries arrive once alarms and history are recorded.</p>
-    </EmptyState>
-  );
+export default async function ReportsPage() {
+  const ctx = await getContextOrNull();
+  if (!ctx) redirect("/signin");
+  return <ReportsView />;
 }

@@ -1,0 +1,46 @@
+"use client";
+import Link from "next/link";
+import { useActionState } from "react";
+import { acceptInvitationAction, type AcceptState } from "./actions";
+
+export function InviteForm({ token, email }: { token: string; email: string }) {
+  const [state, action, pending] = useActionState<AcceptState, FormData>(acceptInvitationAction.bind(null, token), { ok: false, error: null });
+  if (state.ok)
+    return (
+      <p role="status">
+        Password set for {state.email}.{" "}
+        <Link href="/signin" className="text-accent underline">
+          Sign in
+        </Link>
+        .
+      </p>
+    );
+  const inp = "rounded border border-line bg-ground px-2 py-1.5";
+  return (
+    <form action={action} className="flex flex-col gap-3">
+      <p className="text-sm text-muted">
+        Account: <span className="text-ink">{email}</span>
+      </p>
+      <label className="flex flex-col gap-1 text-sm">
+        Your name
+        <input name="name" required autoComplete="name" className={inp} />
+      </label>
+      <label className="flex flex-col gap-1 text-sm">
+        New password (at least 12 characters)
+        <input name="password" type="password" required minLength={12} autoComplete="new-password" className={inp} />
+      </label>
+      <label className="flex flex-col gap-1 text-sm">
+        Repeat the password
+        <input name="confirm" type="password" required minLength={12} autoComplete="new-password" className={inp} />
+      </label>
+      {state.error && (
+        <p role="alert" className="text-sm text-urgent">
+          {state.error}
+        </p>
+      )}
+      <button type="submit" disabled={pending} className="rounded bg-accent px-3 py-1.5 font-semibold text-accent-ink disabled:opacity-60">
+        {pending ? "Saving…" : "Set password"}
+      </button>
+    </form>
+  );
+}
