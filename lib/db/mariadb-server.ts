@@ -31,8 +31,10 @@ export interface MariaDbOptions {
   allowApt?: boolean;
   /** Small-footprint settings for throw-away test servers (no durability flushes). */
   ephemeral?: boolean;
-  /** Stop the server (and delete `dataDir` when ephemeral) when this process id exits. */
+  /** Stop the server when this process id exits (a watchdog shell polls it once a second). */
   watchPid?: number;
+  /** With watchPid: the directory the watchdog deletes after stopping the server (throw-away servers). */
+  removeOnExit?: string;
   /** Progress messages (default: silent). */
   log?: (message: string) => void;
   /** Milliseconds to wait for the server to accept connections. */
@@ -120,6 +122,12 @@ export function defaultSocketPath(dataDir: string, port: number): string {
 const infoPath = (dataDir: string) => path.join(dataDir, "rimguard-server.json");
 const pidPath = (dataDir: string) => path.join(dataDir, "mariadbd.pid");
 const errorLogPath = (dataDir: string) => path.join(dataDir, "mariadbd.err");
+/** A private temporary directory beside the data dir: the shared /tmp is a source of name clashes. */
+function tmpDirFor(dataDir: string): string {
+  const d = `${path.resolve(dataDir)}.tmp`;
+  fs.mkdirSync(d, { recursive: true });
+  return d;
+}
 
 function isAlive(pid: number): boolean {
   try {
@@ -206,6 +214,7 @@ function initialiseDataDir(installDb: string, dataDir: string, log: (m: string) 
     "--no-defaults",
     "--auth-root-authentication-method=normal",
     `--datadir=${path.resolve(dataDir)}`,
+    `--tmpdir=${tmpDirFor(dataDir)}`,
     "--skip-test-db",
     "--skip-name-resolve",
   ];
@@ -221,6 +230,7 @@ function serverArgs(dataDir: string, port: number, socket: string, ephemeral: bo
   const args = [
     "--no-defaults",
     `--datadir=${abs}`,
+    `--tmpdir=${tmpDirFor(abs)}`,
     `--port=${port}`,
     "--bind-address=127.0.0.1",
     `--socket=${socket}`,
@@ -368,7 +378,7 @@ export async function ensureMariaDb(opts: MariaDbOptions): Promise<MariaDbHandle
   fs.writeFileSync(infoPath(dataDir), JSON.stringify({ port: opts.port, socket } satisfies Omit<ServerInfo, "pid">));
   log(`Starting mariadbd (pid ${pid}) on 127.0.0.1:${opts.port}...`);
 
-  if (opts.watchPid) startWatchdog(opts.watchPid, pid, opts.ephemeral ? dataDir : null);
+  if (opts.watchPid) startWatchdog(opts.watchPid, pid, opts.removeOnExit ?? null);
 
   try {
     await waitReady(socket, pid, dataDir, timeout);
@@ -400,15 +410,17 @@ export async function ensureMariaDb(opts: MariaDbOptions): Promise<MariaDbHandle
 
 /**
  * A detached shell that waits for `ownerPid` to exit, then stops `serverPid` and optionally
- * deletes the throw-away data dir: a test run killed mid-way leaves no server behind.
+ * deletes a throw-away directory: a test run killed mid-way leaves no server behind.
  */
 function startWatchdog(ownerPid: number, serverPid: number, removeDir: string | null): void {
+  // Only when the owner died first: a server stopped normally is the owner's business.
   const rm = removeDir ? `; sleep 1; rm -rf '${removeDir.replace(/'/g, "")}'` : "";
   const script =
     `while kill -0 ${ownerPid} 2>/dev/null && kill -0 ${serverPid} 2>/dev/null; do sleep 1; done; ` +
+    `if ! kill -0 ${ownerPid} 2>/dev/null; then ` +
     `if kill -0 ${serverPid} 2>/dev/null; then kill -TERM ${serverPid}; ` +
     `i=0; while kill -0 ${serverPid} 2>/dev/null && [ $i -lt 30 ]; do sleep 1; i=$((i+1)); done; ` +
-    `kill -KILL ${serverPid} 2>/dev/null; fi${rm}`;
+    `kill -KILL ${serverPid} 2>/dev/null; fi${rm}; fi`;
   const w = spawn("sh", ["-c", script], { detached: true, stdio: "ignore" });
   w.unref();
 }

@@ -32,6 +32,7 @@ export default async function setup(project: TestProject): Promise<() => Promise
     socket: path.join(dir, "s.sock"),
     ephemeral: true,
     watchPid: process.pid,
+    removeOnExit: dir,
     allowApt: false,
   });
   const info: TestDbInfo = { host: "127.0.0.1", port: handle.port, socket: handle.socket };
