@@ -13,14 +13,17 @@
  * The matrix exponential is mathjs `expm` (Padé with scaling and squaring); this is never on the
  * per-sample path.
  *
- * The pulse transfer function is formed without a characteristic-polynomial computation: its
- * poles are exactly e^{lambda_i T} for the roots lambda_i of den(s), and the numerator follows from
- * the Markov parameters h_k = C Phi^(k-1) Gamma (Cayley–Hamilton).
+ * The pulse transfer function: its denominator is det(zI - Phi), with exact integrators kept
+ * exact: den(s) = s^k d(s) gives (z - 1)^k det(zI - e^{A_d T}), A_d the companion matrix of d(s).
+ * The determinant is the characteristic polynomial of the upper Hessenberg form of the matrix
+ * (Householder reduction, then La Budde's recursion; Wilkinson, *The Algebraic Eigenvalue
+ * Problem*, 1965, ch. 6) — well conditioned in the matrix entries, unlike products of computed
+ * poles when den(s) has repeated roots (a chain of equal lags). The numerator follows from the
+ * Markov parameters h_k = C Phi^(k-1) Gamma (Cayley–Hamilton).
  */
 import { expm, matrix } from "mathjs";
 import { ControlArgumentError, NonFiniteInputError } from "./errors";
-import { polyAdd, polyFromRoots, polyScale } from "./poly";
-import { polyRoots } from "./roots";
+import { polyAdd, polyMul, polyScale } from "./poly";
 import type { ContinuousTf, DiscreteTf } from "./types";
 
 /** A dead time within this fraction of a whole number of periods is taken as whole. */
@@ -218,13 +221,7 @@ export function c2dZoh(tf: ContinuousTf, T: number, delaySeconds = 0): DiscreteT
   const { phi, gamma0, gamma1, c: C, d: D } = ss.plant;
   const n = phi.length;
   const { samples, fraction } = ss.delay;
-  const { den: denS } = validate(tf, T, delaySeconds);
-  const sPoles = polyRoots(denS);
-  const zPoles = sPoles.map((p) => {
-    const m = Math.exp(p.re * T);
-    return { re: m * Math.cos(p.im * T), im: m * Math.sin(p.im * T) };
-  });
-  const denZ = polyFromRoots(zPoles);
+  const denZ = discreteDenominator(tf, T);
   // Markov parameters h_k = C Phi^(k-1) Gamma, k = 1..n, for both input terms.
   const markov = (gamma: number[]): number[] => {
     const h: number[] = [];
@@ -260,4 +257,78 @@ export function c2dZoh(tf: ContinuousTf, T: number, delaySeconds = 0): DiscreteT
   let k = 0;
   while (k < num.length - 1 && num[k] === 0) k++;
   return { num: num.slice(k), den, T };
+}
+
+/**
+ * det(zI - Phi) for ZOH: exact factors (z - 1) for the exact integrators of den(s) (trailing zero
+ * coefficients), times the characteristic polynomial of e^{A_d T} for the rest d(s).
+ */
+function discreteDenominator(tf: ContinuousTf, T: number): number[] {
+  let i = 0;
+  while (i < tf.den.length && tf.den[i] === 0) i++;
+  let den = tf.den.slice(i);
+  let integrators = 0;
+  while (den.length > 1 && den[den.length - 1] === 0) {
+    den = den.slice(0, -1);
+    integrators++;
+  }
+  let out = [1];
+  for (let k = 0; k < integrators; k++) out = polyMul(out, [1, -1]);
+  if (den.length > 1) {
+    const { A, B } = canonical([0], den);
+    const { E } = expAugmented(A, B, T);
+    out = polyMul(out, charPoly(E));
+  }
+  return out;
+}
+
+/**
+ * Characteristic polynomial det(zI - M) (descending powers, monic) of a small dense matrix:
+ * Householder reduction to upper Hessenberg form H, then La Budde's recursion
+ * p_k(z) = (z - h_kk) p_(k-1)(z) - sum_(i<k) h_ik (prod_(j=i+1..k) h_(j,j-1)) p_(i-1)(z).
+ */
+export function charPoly(M: number[][]): number[] {
+  const n = M.length;
+  const H = M.map((row) => row.slice());
+  // Householder reduction to Hessenberg form (similarity transform).
+  for (let k = 0; k < n - 2; k++) {
+    let alpha = 0;
+    for (let r = k + 1; r < n; r++) alpha += H[r]![k]! * H[r]![k]!;
+    alpha = Math.sqrt(alpha);
+    if (alpha === 0) continue;
+    const x0 = H[k + 1]![k]!;
+    if (x0 > 0) alpha = -alpha;
+    const v = new Array<number>(n).fill(0);
+    v[k + 1] = x0 - alpha;
+    for (let r = k + 2; r < n; r++) v[r] = H[r]![k]!;
+    let vv = 0;
+    for (let r = k + 1; r < n; r++) vv += v[r]! * v[r]!;
+    if (vv === 0) continue;
+    // H <- (I - 2 v v'/vv) H (I - 2 v v'/vv)
+    for (let c = 0; c < n; c++) {
+      let s = 0;
+      for (let r = k + 1; r < n; r++) s += v[r]! * H[r]![c]!;
+      s = (2 * s) / vv;
+      for (let r = k + 1; r < n; r++) H[r]![c]! -= s * v[r]!;
+    }
+    for (let r = 0; r < n; r++) {
+      let s = 0;
+      for (let c = k + 1; c < n; c++) s += H[r]![c]! * v[c]!;
+      s = (2 * s) / vv;
+      for (let c = k + 1; c < n; c++) H[r]![c]! -= s * v[c]!;
+    }
+  }
+  // La Budde: p[k] is the characteristic polynomial of the leading k x k block.
+  const p: number[][] = [[1]];
+  for (let k = 1; k <= n; k++) {
+    let pk = polyMul([1, -H[k - 1]![k - 1]!], p[k - 1]!);
+    let prod = 1;
+    for (let i = k - 1; i >= 1; i--) {
+      prod *= H[i]![i - 1]!;
+      const coef = H[i - 1]![k - 1]! * prod;
+      if (coef !== 0) pk = polyAdd(pk, p[i - 1]!.map((x) => -coef * x));
+    }
+    p.push(pk);
+  }
+  return p[n]!;
 }

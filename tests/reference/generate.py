@@ -73,12 +73,15 @@ ZOH_PLANTS = [
     ("third-order", [6.0], [1.0, 6.0, 11.0, 6.0], 0.1, 0.0),
     ("third-order-with-zero", [1.0, 0.5], [1.0, 2.0, 5.0, 4.0], 0.25, 0.0),
     ("biproper-lead", [2.0, 1.0], [1.0, 3.0], 0.1, 0.0),
+    ("three-equal-lags", [1.0], [1.0, 3.0, 3.0, 1.0], 0.5, 0.0),
+    ("four-equal-lags-fast-sampling", [1.0], [1.0, 4.0, 6.0, 4.0, 1.0], 0.01, 0.0),
     ("first-order-fractional-delay", [1.0], [1.0, 1.0], 1.0, 1.5),
     ("first-order-whole-delay", [1.0], [1.0, 1.0], 1.0, 2.0),
     ("second-order-fractional-delay", [1.0], [1.0, 0.6, 1.0], 0.1, 0.35),
     ("third-order-fractional-delay", [1.0, 0.5], [1.0, 2.0, 5.0, 4.0], 0.25, 0.6),
     ("integrator-plus-lag-delay", [1.0], [1.0, 1.0, 0.0], 0.5, 0.2),
     ("biproper-fractional-delay", [2.0, 1.0], [1.0, 3.0], 0.1, 0.25),
+    ("two-equal-lags-fractional-delay", [1.0], [100.0, 20.0, 1.0], 1.0, 2.5),
 ]
 
 
