@@ -126,3 +126,32 @@ export async function maintainHistoryPartitions(
   }
   return { created, dropped };
 }
+
+/**
+ * Run `maintainHistoryPartitions` now and then every `everyMs` (default one hour), for the
+ * history service of the long-running server. Failures go to `onError` and are retried at the
+ * next tick (pmax keeps inserts working meanwhile). Returns a stop function.
+ */
+export function schedulePartitionMaintenance(
+  sequelize: Sequelize,
+  opts: {
+    secondRetentionH: number;
+    minuteRetentionD: number;
+    aheadDays?: number;
+    everyMs?: number;
+    now?: () => number;
+    onError?: (e: unknown) => void;
+  },
+): { stop(): void; runNow(): Promise<void> } {
+  const runNow = async () => {
+    try {
+      await maintainHistoryPartitions(sequelize, { ...opts, now: (opts.now ?? Date.now)() });
+    } catch (e) {
+      opts.onError?.(e);
+    }
+  };
+  void runNow();
+  const timer = setInterval(() => void runNow(), opts.everyMs ?? 3_600_000);
+  timer.unref();
+  return { stop: () => clearInterval(timer), runNow };
+}

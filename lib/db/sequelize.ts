@@ -63,6 +63,14 @@ export function getDb(cfg: Config = getConfig()): { sequelize: Sequelize; models
   return shared;
 }
 
+/**
+ * Make an existing connection the process-wide one (tests: a throw-away database; the models must
+ * be bound to it). `closeSequelize()` will close it.
+ */
+export function setSharedDb(db: { sequelize: Sequelize; models: Models } | null): void {
+  shared = db;
+}
+
 /** Close the process-wide connection (at shutdown, or between tests). */
 export async function closeSequelize(): Promise<void> {
   const s = shared;

@@ -103,3 +103,18 @@ describe("assertOwned", () => {
     expect(() => assertOwned(null, ctx(ids.a), "Loop")).toThrow(NotFoundError);
   });
 });
+
+describe("a test database as the process-wide connection", () => {
+  it("is what getDb() returns while it is the default", async () => {
+    const { getDb } = await import("@/lib/db/sequelize");
+    const { createTestDatabase: create } = await import("@/tests/setup/db");
+    const other = await create("dflt", { asDefault: true });
+    try {
+      expect(getDb().sequelize).toBe(other.sequelize);
+      const [rows] = await getDb().sequelize.query("SELECT DATABASE() AS d");
+      expect((rows as { d: string }[])[0]?.d).toBe(other.name);
+    } finally {
+      await other.drop();
+    }
+  });
+});

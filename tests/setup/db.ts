@@ -6,13 +6,16 @@
  *   let db: TestDatabase;
  *   beforeAll(async () => { db = await createTestDatabase(); });
  *   afterAll(async () => { await db.drop(); });
+ *
+ * Code under test that calls `getDb()` / `getSequelize()` (lib/ query functions, route handlers)
+ * reaches the same database with `createTestDatabase("x", { asDefault: true })`.
  */
 import { randomBytes } from "node:crypto";
 import type { Sequelize } from "sequelize";
 import { inject } from "vitest";
 import { rootConnection } from "@/lib/db/mariadb-server";
 import { migrateUp } from "@/lib/db/migrate";
-import { createSequelize } from "@/lib/db/sequelize";
+import { createSequelize, setSharedDb } from "@/lib/db/sequelize";
 import { initModels, type Models } from "@/models";
 import type { TestDbInfo } from "./global-db";
 
@@ -71,8 +74,11 @@ export async function createEmptyDatabase(prefix = "t"): Promise<Omit<TestDataba
   };
 }
 
-/** A fresh database with every migration applied and the models bound to it. */
-export async function createTestDatabase(prefix = "t"): Promise<TestDatabase> {
+/**
+ * A fresh database with every migration applied and the models bound to it. With `asDefault`,
+ * it also becomes the process-wide connection of lib/db/sequelize.ts until `drop()`.
+ */
+export async function createTestDatabase(prefix = "t", opts: { asDefault?: boolean } = {}): Promise<TestDatabase> {
   const db = await createEmptyDatabase(prefix);
   try {
     await migrateUp(db.sequelize);
@@ -80,5 +86,14 @@ export async function createTestDatabase(prefix = "t"): Promise<TestDatabase> {
     await db.drop();
     throw e;
   }
-  return { ...db, models: initModels(db.sequelize) };
+  const models = initModels(db.sequelize);
+  if (opts.asDefault) setSharedDb({ sequelize: db.sequelize, models });
+  return {
+    ...db,
+    models,
+    async drop() {
+      if (opts.asDefault) setSharedDb(null);
+      await db.drop();
+    },
+  };
 }
