@@ -32,17 +32,23 @@ export function trace(m: Float64Array, n: number): number {
 export function symmetricEigenvalues(m: Float64Array, n: number, maxSweeps = 60): Float64Array {
   const a = Float64Array.from(m.subarray(0, n * n));
   symmetrize(a, n);
-  let scale = 0;
-  for (let i = 0; i < n * n; i++) scale = Math.max(scale, Math.abs(a[i]!));
-  if (scale === 0) return new Float64Array(n);
+  let frob = 0;
+  for (let i = 0; i < n * n; i++) frob += a[i]! * a[i]!;
+  if (frob === 0) return new Float64Array(n);
   for (let sweep = 0; sweep < maxSweeps; sweep++) {
     let off = 0;
     for (let i = 0; i < n; i++) for (let j = i + 1; j < n; j++) off += a[i * n + j]! ** 2;
-    if (Math.sqrt(off) <= 1e-15 * scale) break;
+    // Converged when the off-diagonal mass is at rounding level of the whole matrix.
+    if (off <= 1e-30 * frob) break;
     for (let p = 0; p < n; p++) {
       for (let q = p + 1; q < n; q++) {
         const apq = a[p * n + q]!;
-        if (Math.abs(apq) <= 1e-300) continue;
+        // An element below rounding of both diagonal entries is set to zero (no rotation needed).
+        if (Math.abs(apq) <= 1e-17 * Math.sqrt(Math.abs(a[p * n + p]! * a[q * n + q]!)) || apq === 0) {
+          a[p * n + q] = 0;
+          a[q * n + p] = 0;
+          continue;
+        }
         const app = a[p * n + p]!;
         const aqq = a[q * n + q]!;
         const theta = (aqq - app) / (2 * apq);

@@ -71,19 +71,27 @@ function baselineLoop(iterations: number): number {
 }
 // ---- end of BASELINE -------------------------------------------------------------------------
 
-/** Nanoseconds per iteration of fn(iterations), best of `repeats` after one warm-up. */
-function measure(fn: (iterations: number) => number, iterations: number, repeats = 5): number {
-  fn(Math.min(iterations, 20_000));
-  let best = Infinity;
-  let sink = 0;
-  for (let r = 0; r < repeats; r++) {
-    const t0 = process.hrtime.bigint();
-    sink += fn(iterations);
-    const t1 = process.hrtime.bigint();
-    best = Math.min(best, Number(t1 - t0) / iterations);
-  }
+function timeOnce(fn: (iterations: number) => number, iterations: number): number {
+  const t0 = process.hrtime.bigint();
+  const sink = fn(iterations);
+  const t1 = process.hrtime.bigint();
   if (Number.isNaN(sink)) console.log(`(sink NaN in ${fn.name})`);
-  return best;
+  return Number(t1 - t0) / iterations;
+}
+
+/**
+ * ns per iteration of fn and of BASELINE, each the best of `rounds` runs taken alternately
+ * (the machine is shared: interleaving keeps the ratio meaningful when the load changes).
+ */
+function measure(fn: (iterations: number) => number, iterations: number, rounds = 7): { ns: number; base: number } {
+  timeOnce(fn, Math.min(iterations, 20_000));
+  let best = Infinity;
+  let base = Infinity;
+  for (let r = 0; r < rounds; r++) {
+    base = Math.min(base, timeOnce(baselineLoop, 200_000));
+    best = Math.min(best, timeOnce(fn, iterations));
+  }
+  return { ns: best, base };
 }
 
 function rlsLoop(n: number) {
@@ -181,22 +189,38 @@ function partLoop(part: "closed-loop" | "roots" | "jury" | "characteristics") {
   };
 }
 
-const base = measure(baselineLoop, 2_000_000);
-const rows: [string, number][] = [
-  ["BASELINE bare RLS update (n = 4)", base],
-  ["RecursiveLeastSquares ARX(2,2) (n = 4, directional)", measure(rlsLoop(4), 2_000_000)],
-  ["RecursiveLeastSquares ARX(4,4) (n = 8, directional)", measure(rlsLoop(8), 1_000_000)],
-  ["tracker step, hot path (RLS + closedLoopArxInto + polyRootsInto + juryStable + poleCharacteristics x3)", measure(trackerHotLoop, 300_000)],
-  ["  part: closedLoopArxInto", measure(partLoop("closed-loop"), 1_000_000)],
-  ["  part: polyRootsInto (cubic)", measure(partLoop("roots"), 300_000)],
-  ["  part: juryStable (cubic)", measure(partLoop("jury"), 1_000_000)],
-  ["  part: poleCharacteristics (one root)", measure(partLoop("characteristics"), 1_000_000)],
-  ["tracker step, contract API (ArxEstimator.push + closedLoopPolynomial + polyRoots + juryTest + poleCharacteristics x3)", measure(trackerApiLoop, 100_000)],
-];
-console.log(`control bench (Node ${process.version}), one run; ns per call and ratio to BASELINE`);
-for (const [name, ns] of rows) {
-  const perSecond = 1e9 / ns;
-  console.log(`${name.padEnd(112)} ${ns.toFixed(1).padStart(8)} ns  ${(perSecond / 1e6).toFixed(2).padStart(7)} M/s  x${(ns / base).toFixed(2)}`);
+/** ArxEstimator.push alone (RLS + regressor bookkeeping + excitation accumulation, Jacobi every 25). */
+function arxPushLoop(iterations: number): number {
+  const est = new ArxEstimator({ na: 2, nb: 2, nk: 1, T, forgetting: 0.99, gating: "none" });
+  let y1 = 0, y2 = 0, u1 = 0, u2 = 0;
+  for (let it = 0; it < iterations; it++) {
+    const u = PHI8[(it & (ROWS - 1)) * 8]!;
+    const y = 1.6 * y1 - 0.65 * y2 + 0.05 * u1 + 0.03 * u2 + 1e-3 * Y[it & (ROWS - 1)]!;
+    est.push(u, y);
+    y2 = y1; y1 = y; u2 = u1; u1 = u;
+  }
+  return est.rls.theta[0]!;
 }
-const hot = rows[3]![1];
-console.log(`target: hot tracker step <= 4x BASELINE -> measured x${(hot / base).toFixed(2)} (${hot / base <= 4 ? "within" : "over"} target)`);
+
+timeOnce(baselineLoop, 200_000);
+const cases: [string, (iterations: number) => number, number][] = [
+  ["BASELINE bare RLS update (n = 4)", baselineLoop, 200_000],
+  ["RecursiveLeastSquares ARX(2,2) (n = 4, directional)", rlsLoop(4), 200_000],
+  ["RecursiveLeastSquares ARX(4,4) (n = 8, directional)", rlsLoop(8), 100_000],
+  ["ArxEstimator.push ARX(2,2,1) (RLS + history + excitation accumulation)", arxPushLoop, 100_000],
+  ["tracker step, hot path (RLS + closedLoopArxInto + polyRootsInto + juryStable + poleCharacteristics x3)", trackerHotLoop, 50_000],
+  ["  part: closedLoopArxInto", partLoop("closed-loop"), 200_000],
+  ["  part: polyRootsInto (cubic)", partLoop("roots"), 50_000],
+  ["  part: juryStable (cubic)", partLoop("jury"), 200_000],
+  ["  part: poleCharacteristics (one root)", partLoop("characteristics"), 200_000],
+  ["tracker step, contract API (ArxEstimator.push + closedLoopPolynomial + polyRoots + juryTest + poleCharacteristics x3)", trackerApiLoop, 20_000],
+];
+console.log(`control bench (Node ${process.version}), one run; ns per call (best of 7) and ratio to BASELINE measured alternately`);
+let hotRatio = NaN;
+for (const [name, fn, iterations] of cases) {
+  const { ns, base } = measure(fn, iterations);
+  const ratio = ns / base;
+  if (fn === trackerHotLoop) hotRatio = ratio;
+  console.log(`${name.padEnd(112)} ${ns.toFixed(1).padStart(8)} ns  ${(1e3 / ns).toFixed(2).padStart(7)} M/s  x${ratio.toFixed(2)}  (baseline ${base.toFixed(1)} ns)`);
+}
+console.log(`target: hot tracker step <= 4x BASELINE -> measured x${hotRatio.toFixed(2)} (${hotRatio <= 4 ? "within" : "over"} target)`);
