@@ -190,7 +190,8 @@ async function startEmbedded(ctx: ServerContext, opts: BrokerOptions): Promise<B
       }
     }
   });
-  broker.on("clientError", () => {
+  broker.on("clientError", (c: Client, e: Error) => {
+    if (process.env.RG_DEBUG_BROKER) console.info("[broker] client error", c.id, e.message);
     /* a device's protocol error closes its connection; nothing else to do */
   });
 
@@ -201,7 +202,8 @@ async function startEmbedded(ctx: ServerContext, opts: BrokerOptions): Promise<B
     socket.on("close", () => sockets.delete(socket));
     socket.on("error", () => socket.destroy());
     const client = broker.handle(socket);
-    const guard = new FrameGuard(MAX_REMAINING_LENGTH, (why) => {
+    const guard = new FrameGuard(MAX_REMAINING_LENGTH, (why, len) => {
+      if (process.env.RG_DEBUG_BROKER) console.info("[broker] frame guard", client.id, why, len);
       refusals.tooLarge++;
       countReject(identityOf(client), why === "too-large" ? "too-large" : "bad-json");
       socket.destroy();

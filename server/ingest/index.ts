@@ -38,9 +38,9 @@ export interface IngestOutcome {
 /** What identifies the last accepted message of a loop (for QoS 1 re-sends without the DUP flag). */
 interface LastMessage {
   firstT: number;
-  lastT: number;
   count: number;
-  bytes: number;
+  /** The body itself (held only until the loop's next message; typically a few hundred bytes). */
+  payload: Uint8Array | string;
 }
 
 export interface IngestOptions {
@@ -128,8 +128,8 @@ export class Ingest {
     const maxT = receivedAt + this.skew;
     const accepted: SampleDto[] = [];
     let redelivered = 0;
-    // A QoS 1 re-send: the DUP flag, or the very message taken last (same span, count and size).
-    const resend = msg.dup === true || (prev !== undefined && prev.bytes === bytes && prev.count === items.length && firstT(items) === prev.firstT);
+    // A QoS 1 re-send: the DUP flag, or byte for byte the message taken last.
+    const resend = msg.dup === true || (prev !== undefined && prev.count === items.length && firstT(items) === prev.firstT && samePayload(prev.payload, msg.payload));
 
     for (const item of items) {
       const v = validateSample(item);
@@ -157,7 +157,7 @@ export class Ingest {
     }
     if (accepted.length === 0) return out;
     this.lastT.set(route.loopId, last);
-    this.lastMessage.set(route.loopId, { firstT: accepted[0]!.t, lastT: last, count: items.length, bytes });
+    this.lastMessage.set(route.loopId, { firstT: firstT(items) ?? NaN, count: items.length, payload: msg.payload });
     counters.accept(device, accepted.length);
     out.accepted = accepted.length;
     try {
@@ -167,6 +167,11 @@ export class Ingest {
     }
     return out;
   }
+}
+
+function samePayload(a: Uint8Array | string, b: Uint8Array | string): boolean {
+  if (typeof a === "string" || typeof b === "string") return typeof a === typeof b && a === b;
+  return a.byteLength === b.byteLength && Buffer.from(a.buffer, a.byteOffset, a.byteLength).equals(b);
 }
 
 function firstT(items: unknown[]): number | undefined {
