@@ -2,7 +2,14 @@
  * Errors that cross the boundary between lib/ and the routes. Query functions return `null` for
  * "not found" and throw these for everything a route must map to a status code.
  */
+const HTTP_ERROR = Symbol.for("rimguard.http-error");
+
 export class HttpError extends Error {
+  /**
+   * A brand that survives module duplication: Next bundles route handlers apart from the custom
+   * server, so an error thrown by a server service is not `instanceof` the route's HttpError.
+   */
+  readonly [HTTP_ERROR] = true;
   constructor(
     readonly status: number,
     message: string,
@@ -50,4 +57,9 @@ export class TooManyRequestsError extends HttpError {
   ) {
     super(429, message);
   }
+}
+
+/** True for an HttpError from any copy of this module (see the brand above). */
+export function isHttpError(err: unknown): err is HttpError {
+  return err instanceof HttpError || (typeof err === "object" && err !== null && (err as Record<symbol, unknown>)[HTTP_ERROR] === true);
 }

@@ -1,18 +1,21 @@
 import { NextResponse } from "next/server";
 import { z } from "zod";
-import { HttpError, TooManyRequestsError, ValidationError } from "./errors";
+import { isHttpError, ValidationError } from "./errors";
 
 /** Map a thrown error to a JSON response: HttpError keeps its status, zod errors are 422. */
 export function errorResponse(err: unknown): NextResponse {
-  if (err instanceof z.ZodError) {
+  // Duck-typed as well: a service outside the route bundle throws with its own copy of zod.
+  if (err instanceof z.ZodError || (err instanceof Error && err.name === "ZodError" && Array.isArray((err as z.ZodError).issues))) {
+    const zerr = err as z.ZodError;
     return NextResponse.json(
-      { error: "Invalid input: " + err.issues.map((i) => `${i.path.join(".") || "body"}: ${i.message}`).join("; "), issues: err.issues },
+      { error: "Invalid input: " + zerr.issues.map((i) => `${i.path.join(".") || "body"}: ${i.message}`).join("; "), issues: zerr.issues },
       { status: 422 },
     );
   }
-  if (err instanceof HttpError) {
+  if (isHttpError(err)) {
     const headers: Record<string, string> = {};
-    if (err instanceof TooManyRequestsError) headers["Retry-After"] = String(err.retryAfterSeconds);
+    const retry = (err as { retryAfterSeconds?: unknown }).retryAfterSeconds;
+    if (typeof retry === "number") headers["Retry-After"] = String(retry);
     return NextResponse.json({ error: err.message, details: err.details }, { status: err.status, headers });
   }
   console.error("[api] unexpected error", err);

@@ -12,7 +12,7 @@ import { z } from "zod";
 import { getConfig } from "@/lib/config";
 import { TooManyRequestsError } from "@/lib/errors";
 import { revokeSession } from "@/lib/server-context";
-import { findUserByEmail, listMemberships } from "./store";
+import { findUserByEmail, listMemberships, touchSignIn } from "./store";
 import { assertSignInAllowed, recordSignInFailure, recordSignInSuccess } from "./throttle";
 
 /** Header set by server/index.ts from the TCP peer address (any client-sent value is dropped). */
@@ -61,6 +61,7 @@ export async function authorizeCredentials(
   const first = memberships[0];
   if (!first) throw new Error(NO_MEMBERSHIP);
   await recordSignInSuccess(email, clientIp);
+  await touchSignIn(user.id).catch(() => undefined);
   return {
     id: String(user.id),
     name: user.name,

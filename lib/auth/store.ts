@@ -137,3 +137,10 @@ export async function bumpSessionVersion(userId: number): Promise<void> {
     replacements: [userId],
   });
 }
+
+/** Remember when the user last signed in (shown to administrators). */
+export async function touchSignIn(userId: number): Promise<void> {
+  await getSequelize().query("UPDATE users SET last_sign_in_at = UTC_TIMESTAMP(3) WHERE id = ?", {
+    replacements: [userId],
+  });
+}

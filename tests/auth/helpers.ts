@@ -1,0 +1,64 @@
+/** HTTP helpers for signing in through the real next-auth route handlers. */
+import { DEMO_PASSWORD } from "@/lib/seed";
+
+export { DEMO_PASSWORD };
+
+/** A minimal cookie jar: name -> value, from Set-Cookie headers. */
+export class CookieJar {
+  private readonly map = new Map<string, string>();
+  absorb(res: Response): void {
+    for (const line of res.headers.getSetCookie()) {
+      const [pair] = line.split(";");
+      const eq = pair?.indexOf("=") ?? -1;
+      if (!pair || eq < 0) continue;
+      const name = pair.slice(0, eq).trim();
+      const value = pair.slice(eq + 1).trim();
+      if (/max-age=0/i.test(line) || value === "") this.map.delete(name);
+      else this.map.set(name, value);
+    }
+  }
+  get(name: string): string | undefined {
+    return this.map.get(name);
+  }
+  header(): string {
+    return [...this.map].map(([k, v]) => `${k}=${v}`).join("; ");
+  }
+}
+
+export const SESSION_COOKIE = "next-auth.session-token";
+
+export interface SignInResult {
+  jar: CookieJar;
+  /** The session cookie value, or null when sign-in failed. */
+  session: string | null;
+  /** The error next-auth put in the redirect URL, decoded, or null. */
+  error: string | null;
+  status: number;
+}
+
+/** POST the credentials callback with the CSRF token, as the sign-in form does. */
+export async function signIn(baseUrl: string, email: string, password: string): Promise<SignInResult> {
+  const jar = new CookieJar();
+  const csrfRes = await fetch(`${baseUrl}/api/auth/csrf`);
+  jar.absorb(csrfRes);
+  const { csrfToken } = (await csrfRes.json()) as { csrfToken: string };
+  const res = await fetch(`${baseUrl}/api/auth/callback/credentials`, {
+    method: "POST",
+    redirect: "manual",
+    headers: { "content-type": "application/x-www-form-urlencoded", cookie: jar.header() },
+    body: new URLSearchParams({ csrfToken, email, password, callbackUrl: `${baseUrl}/`, json: "true" }),
+  });
+  jar.absorb(res);
+  let error: string | null = null;
+  const body = (await res.json().catch(() => null)) as { url?: string } | null;
+  const target = body?.url ?? res.headers.get("location");
+  if (target) error = new URL(target, baseUrl).searchParams.get("error");
+  return { jar, session: jar.get(SESSION_COOKIE) ?? null, error, status: res.status };
+}
+
+/** fetch with the jar's cookies. */
+export function authedFetch(baseUrl: string, jar: CookieJar | null, path: string, init: RequestInit = {}): Promise<Response> {
+  const headers = new Headers(init.headers);
+  if (jar) headers.set("cookie", jar.header());
+  return fetch(`${baseUrl}${path}`, { ...init, headers, redirect: "manual" });
+}

@@ -1,0 +1,86 @@
+/**
+ * THE table of protected routes and the lowest role each one admits (ARCHITECTURE.md §7).
+ * Helpers who add a route add a row here; tests/auth/guard.test.ts checks every row for every
+ * role, signed out, and (for rows with an id of the caller's tenant) against another tenant's id.
+ *
+ * Path placeholders are filled from the auth fixture: `:loopId`, `:siteId` (the caller's own
+ * tenant, or the other tenant's for the isolation check), and `:none` — an id that exists
+ * nowhere (999999), for routes that act on one row: the guard must answer before the lookup,
+ * so a refused role still gets 403 and an admitted one gets 404/422, never a change.
+ *
+ * For an admitted role the route must answer anything but 401, 403 or a 5xx (a 404 or 422 for a
+ * fixture that lacks data or a body that does not fit is fine: the guard let the call through).
+ * Set `admitted` to pin exact statuses when they are known.
+ */
+import type { Role } from "@/lib/types";
+
+export type Method = "GET" | "POST" | "PUT" | "PATCH" | "DELETE";
+
+export interface RouteCase {
+  method: Method;
+  path: string;
+  minRole: Role;
+  /** The route file under app/api that must exist; rows whose file is missing are skipped. */
+  file: string;
+  body?: unknown;
+  /** Exact statuses for an admitted role, when known. */
+  admitted?: number[];
+  /** Whether a call of another tenant's `:loopId`/`:siteId` must be 404 (default: when the path has one). */
+  tenantScoped?: boolean;
+}
+
+export const ROUTES: RouteCase[] = [
+  // web: session and sites
+  { method: "GET", path: "/api/session", minRole: "viewer", file: "session/route.ts", admitted: [200] },
+  { method: "GET", path: "/api/sites/:siteId", minRole: "viewer", file: "sites/[siteId]/route.ts", admitted: [200] },
+
+  // pipeline: loops
+  { method: "GET", path: "/api/loops", minRole: "viewer", file: "loops/route.ts", admitted: [200] },
+  { method: "GET", path: "/api/loops/:loopId", minRole: "viewer", file: "loops/[loopId]/route.ts", admitted: [200] },
+  {
+    method: "GET",
+    path: "/api/loops/:loopId/history?from=2026-01-01T00:00:00Z&to=2026-01-01T01:00:00Z&maxPoints=100",
+    minRole: "viewer",
+    file: "loops/[loopId]/history/route.ts",
+    admitted: [200],
+  },
+  { method: "GET", path: "/api/diagnostics/ingest", minRole: "admin", file: "diagnostics/ingest/route.ts" },
+
+  // alarms
+  { method: "GET", path: "/api/alarms", minRole: "viewer", file: "alarms/route.ts", admitted: [200] },
+  { method: "GET", path: "/api/alarms/kpis", minRole: "viewer", file: "alarms/kpis/route.ts" },
+  { method: "GET", path: "/api/alarm-policies?scope=tenant", minRole: "viewer", file: "alarm-policies/route.ts" },
+  { method: "PUT", path: "/api/alarm-policies?scope=tenant", minRole: "admin", file: "alarm-policies/route.ts", body: {} },
+  {
+    method: "PUT",
+    path: "/api/alarm-policies?scope=loop&id=:loopId",
+    minRole: "engineer",
+    file: "alarm-policies/route.ts",
+    body: {},
+    tenantScoped: false,
+  },
+  { method: "GET", path: "/api/alarms/:none", minRole: "viewer", file: "alarms/[alarmId]/route.ts", admitted: [404] },
+  { method: "POST", path: "/api/alarms/:none/acknowledge", minRole: "operator", file: "alarms/[alarmId]/acknowledge/route.ts", body: { comment: "seen" }, admitted: [404] },
+  { method: "POST", path: "/api/alarms/:none/shelve", minRole: "operator", file: "alarms/[alarmId]/shelve/route.ts", body: { minutes: 30, reason: "test" }, admitted: [404] },
+  { method: "POST", path: "/api/alarms/:none/unshelve", minRole: "operator", file: "alarms/[alarmId]/unshelve/route.ts", body: {} },
+  { method: "POST", path: "/api/alarms/:none/out-of-service", minRole: "engineer", file: "alarms/[alarmId]/out-of-service/route.ts", body: { reason: "test" } },
+  { method: "POST", path: "/api/alarms/:none/return-to-service", minRole: "engineer", file: "alarms/[alarmId]/return-to-service/route.ts", body: {} },
+  { method: "GET", path: "/api/outbox", minRole: "admin", file: "outbox/route.ts" },
+
+  // console: administration
+  { method: "GET", path: "/api/admin/users", minRole: "admin", file: "admin/users/route.ts", admitted: [200] },
+  { method: "POST", path: "/api/admin/users", minRole: "admin", file: "admin/users/route.ts", body: {} },
+  { method: "PATCH", path: "/api/admin/users/:none", minRole: "admin", file: "admin/users/[membershipId]/route.ts", body: { role: "viewer" } },
+  { method: "DELETE", path: "/api/admin/users/:none", minRole: "admin", file: "admin/users/[membershipId]/route.ts" },
+  { method: "GET", path: "/api/admin/devices", minRole: "admin", file: "admin/devices/route.ts", admitted: [200] },
+  { method: "POST", path: "/api/admin/devices", minRole: "admin", file: "admin/devices/route.ts", body: {} },
+  { method: "DELETE", path: "/api/admin/devices/:none", minRole: "admin", file: "admin/devices/[deviceId]/route.ts" },
+  { method: "GET", path: "/api/admin/sites", minRole: "viewer", file: "admin/sites/route.ts", admitted: [200] },
+  { method: "POST", path: "/api/admin/sites", minRole: "admin", file: "admin/sites/route.ts", body: {} },
+  { method: "POST", path: "/api/admin/sites/:siteId/areas", minRole: "admin", file: "admin/sites/[siteId]/areas/route.ts", body: {} },
+  { method: "GET", path: "/api/admin/notification-rules", minRole: "admin", file: "admin/notification-rules/route.ts", admitted: [200] },
+  { method: "POST", path: "/api/admin/notification-rules", minRole: "admin", file: "admin/notification-rules/route.ts", body: {} },
+  { method: "PUT", path: "/api/admin/notification-rules/:none", minRole: "admin", file: "admin/notification-rules/[ruleId]/route.ts", body: {} },
+  { method: "DELETE", path: "/api/admin/notification-rules/:none", minRole: "admin", file: "admin/notification-rules/[ruleId]/route.ts" },
+  { method: "GET", path: "/api/admin/config-changes", minRole: "engineer", file: "admin/config-changes/route.ts", admitted: [200] },
+];
