@@ -1,5 +1,6 @@
 import { describe, expect, it } from "vitest";
-import { c2dZoh, c2dZohStateSpace } from "@/lib/control/discretize";
+import { det } from "mathjs";
+import { c2dZoh, c2dZohStateSpace, charPoly } from "@/lib/control/discretize";
 import { polyEval } from "@/lib/control/poly";
 import { ControlArgumentError, NonFiniteInputError } from "@/lib/control/errors";
 import type { DiscreteTf, ZohStateSpace } from "@/lib/control";
@@ -70,6 +71,38 @@ describe("c2dZoh with repeated poles (a chain of equal lags)", () => {
     expectPoly(d.den, [1, -3 * a, 3 * a * a, -a * a * a], 1e-14);
     // ZOH keeps the DC gain 1
     expect(d.num.reduce((s, x) => s + x, 0) / d.den.reduce((s, x) => s + x, 0)).toBeCloseTo(1, 12);
+  });
+});
+
+describe("c2dZoh accuracy at fast sampling", () => {
+  it("matches 40-digit values for 1/(s+1)^4 at T = 0.01 s to 1e-12 relative (mpmath expm at 40 digits, computed once for this test)", () => {
+    const d = c2dZoh({ num: [1], den: [1, 4, 6, 4, 1] }, 0.01);
+    const num = [4.1334718262633401e-10, 4.5105994112813659e-9, 4.474658559878801e-9, 4.0354494695185715e-10];
+    expect(d.num).toHaveLength(4);
+    d.num.forEach((x, i) => expect(Math.abs(x - num[i]!) / num[i]!).toBeLessThan(1e-12));
+    const a = Math.exp(-0.01);
+    expectPoly(d.den, [1, -4 * a, 6 * a * a, -4 * a ** 3, a ** 4], 1e-14); // (z - e^{-T})^4
+  });
+});
+
+describe("charPoly (Hessenberg + La Budde)", () => {
+  it("equals det(zI - M) (mathjs det, LU) at 7 points for seeded random 6 x 6 matrices, to 1e-12 relative", () => {
+    let seed = 17;
+    const rand = (): number => {
+      seed = (seed * 16807) % 2147483647; // Park–Miller minimal standard generator
+      return seed / 2147483647;
+    };
+    for (let trial = 0; trial < 20; trial++) {
+      const M = Array.from({ length: 6 }, () => Array.from({ length: 6 }, () => 2 * rand() - 1));
+      const p = charPoly(M);
+      expect(p).toHaveLength(7);
+      expect(p[0]).toBe(1);
+      for (const z of [-1.5, -0.7, 0, 0.3, 0.9, 1.4, 2.2]) {
+        const ref = det(M.map((row, i) => row.map((m, j) => (i === j ? z : 0) - m)));
+        const scale = p.reduce((s, c) => s * Math.abs(z) + Math.abs(c), 0);
+        expect(Math.abs(polyEval(p, z) - ref) / scale).toBeLessThan(1e-12);
+      }
+    }
   });
 });
 
