@@ -23,6 +23,10 @@ const ruleForm = z.object({
   reason: z.string().trim().min(3, "Give a change reason."),
 });
 
+function FieldError({ error }: { error?: { message?: string } }) {
+  return error ? <span className="text-xs text-urgent">{String(error.message)}</span> : null;
+}
+
 export function AdminRules() {
   const { data, error, mutate } = useSWR("/api/admin/notification-rules", (u: string) => fetchJson<{ rules: RuleDto[] }>(u));
   const sites = useSWR("/api/admin/sites", (u: string) => fetchJson<{ sites: SiteDto[] }>(u));
@@ -58,14 +62,13 @@ export function AdminRules() {
     }
   };
   const inp = "rounded border border-line bg-ground px-2 py-1 text-sm";
-  const E = ({ k }: { k: keyof z.infer<typeof ruleForm> }) => (errors[k] ? <span className="text-xs text-urgent">{String(errors[k]?.message)}</span> : null);
   return (
     <section className="flex flex-col gap-3" aria-label="Notification rules" data-testid="admin-rules">
       <form onSubmit={create} noValidate className="grid gap-3 rounded-md border border-line bg-surface p-3 md:grid-cols-4">
         <label className="flex flex-col text-sm">
           Rule name
           <input {...register("name")} className={inp} />
-          <E k="name" />
+          <FieldError error={errors.name} />
         </label>
         <label className="flex flex-col text-sm">
           Operator area
@@ -81,7 +84,7 @@ export function AdminRules() {
         <label className="flex flex-col text-sm md:col-span-2">
           Recipients (e-mail addresses, comma separated)
           <input {...register("recipients")} className={inp} />
-          <E k="recipients" />
+          <FieldError error={errors.recipients} />
         </label>
         <label className="flex flex-col text-sm">
           From priority
@@ -96,12 +99,12 @@ export function AdminRules() {
         <label className="flex flex-col text-sm">
           Escalate when unacknowledged after, min
           <input type="number" {...register("escalationMinutes", { setValueAs: nullableInt })} className={inp} />
-          <E k="escalationMinutes" />
+          <FieldError error={errors.escalationMinutes} />
         </label>
         <label className="flex flex-col text-sm">
           Repeat every, min
           <input type="number" {...register("repeatMinutes", { setValueAs: nullableInt })} className={inp} />
-          <E k="repeatMinutes" />
+          <FieldError error={errors.repeatMinutes} />
         </label>
         <label className="flex items-center gap-2 text-sm">
           <input type="checkbox" {...register("enabled")} /> enabled
@@ -109,7 +112,7 @@ export function AdminRules() {
         <label className="flex flex-col text-sm md:col-span-3">
           Change reason
           <input {...register("reason")} className={inp} />
-          <E k="reason" />
+          <FieldError error={errors.reason} />
         </label>
         <button type="submit" disabled={isSubmitting} className="self-end rounded bg-accent px-3 py-1 font-semibold text-accent-ink disabled:opacity-60">
           Add rule

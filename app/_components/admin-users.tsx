@@ -8,12 +8,14 @@ import { z } from "zod";
 import type { InvitationDto, MemberDto } from "@/lib/admin/users";
 import { ROLES, type Role } from "@/lib/types";
 import { fetchJson, sendJson } from "@/lib/client/fetcher";
+import { useNow } from "@/lib/client/hooks";
 import { fmtTime } from "@/lib/client/format";
 
 const inviteForm = z.object({ email: z.string().trim().email("Enter a valid e-mail address."), role: z.enum(ROLES) });
 
 export function AdminUsers({ selfUserId }: { selfUserId: number }) {
   const { data, error, mutate } = useSWR("/api/admin/users", (u: string) => fetchJson<{ members: MemberDto[]; invitations: InvitationDto[] }>(u));
+  const now = useNow(60_000);
   const [msg, setMsg] = useState<string | null>(null);
   const [err, setErr] = useState<string | null>(null);
   const {
@@ -120,7 +122,7 @@ export function AdminUsers({ selfUserId }: { selfUserId: number }) {
           <ul className="text-sm">
             {data.invitations.map((i) => (
               <li key={i.id} className="num">
-                {i.email} as {i.role} — {i.usedAt ? `accepted ${fmtTime(i.usedAt)}` : new Date(i.expiresAt).getTime() < Date.now() ? "expired" : `open until ${fmtTime(i.expiresAt)}`}
+                {i.email} as {i.role} — {i.usedAt ? `accepted ${fmtTime(i.usedAt)}` : new Date(i.expiresAt).getTime() < now ? "expired" : `open until ${fmtTime(i.expiresAt)}`}
               </li>
             ))}
           </ul>

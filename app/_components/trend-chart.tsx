@@ -5,7 +5,7 @@
  * with setData, so a live update costs one redraw. Axis strokes are set for the dark theme.
  * Horizontal levels (thresholds) are drawn by a draw hook, not as data series.
  */
-import { useEffect, useRef } from "react";
+import { useEffect, useLayoutEffect, useRef } from "react";
 import type uPlot from "uplot";
 import "uplot/dist/uPlot.min.css";
 
@@ -72,7 +72,9 @@ export function TrendChart(props: TrendChartProps) {
   const host = useRef<HTMLDivElement>(null);
   const plot = useRef<uPlot | null>(null);
   const latest = useRef(props);
-  latest.current = props;
+  useLayoutEffect(() => {
+    latest.current = props;
+  });
   const layoutKey = JSON.stringify([props.series, props.axes, props.scales, props.height, props.syncKey]);
 
   useEffect(() => {

@@ -55,21 +55,18 @@ export function useLoops(): { loops: LoopSummary[]; store: LoopStore; error: Err
   return { loops, store, error: error as Error | undefined, isLoading, connected };
 }
 
+function subscribeConnection(cb: () => void): () => void {
+  const s = getSocket();
+  s.on("connect", cb);
+  s.on("disconnect", cb);
+  return () => {
+    s.off("connect", cb);
+    s.off("disconnect", cb);
+  };
+}
+
 export function useSocketConnected(): boolean {
-  const [connected, setConnected] = useState(false);
-  useEffect(() => {
-    const s = getSocket();
-    const on = () => setConnected(true);
-    const off = () => setConnected(false);
-    setConnected(s.connected);
-    s.on("connect", on);
-    s.on("disconnect", off);
-    return () => {
-      s.off("connect", on);
-      s.off("disconnect", off);
-    };
-  }, []);
-  return connected;
+  return useSyncExternalStore(subscribeConnection, () => getSocket().connected, () => false);
 }
 
 /**
@@ -78,7 +75,7 @@ export function useSocketConnected(): boolean {
  */
 export function useLoopSamples(loopId: number, keep = 3600): { samples: SampleDto[]; error: string | null; version: number } {
   const buf = useRef<SampleDto[]>([]);
-  const [version, setVersion] = useState(0);
+  const [view, setView] = useState<{ loopId: number; samples: SampleDto[]; version: number }>({ loopId, samples: [], version: 0 });
   const [error, setError] = useState<string | null>(null);
   useEffect(() => {
     const s = getSocket();
@@ -94,10 +91,12 @@ export function useLoopSamples(loopId: number, keep = 3600): { samples: SampleDt
       const arr = buf.current;
       for (const x of b.samples) arr.push(x);
       if (arr.length > keep) arr.splice(0, arr.length - keep);
-      if (!raf) raf = requestAnimationFrame(() => {
-        raf = 0;
-        setVersion((v) => v + 1);
-      });
+      if (!raf)
+        raf = requestAnimationFrame(() => {
+          raf = 0;
+          const copy = buf.current.slice();
+          setView((v) => ({ loopId, samples: copy, version: v.version + 1 }));
+        });
     };
     s.on("loop:samples", onSamples);
     s.on("connect", watch);
@@ -109,7 +108,8 @@ export function useLoopSamples(loopId: number, keep = 3600): { samples: SampleDt
       s.emit("loop:unwatch", loopId);
     };
   }, [loopId, keep]);
-  return { samples: buf.current, error, version };
+  const current = view.loopId === loopId ? view : { samples: [] as SampleDto[], version: 0 };
+  return { samples: current.samples, error, version: current.version };
 }
 
 /** Alarms matching a filter, refreshed on every `alarm:changed` of the tenant. */
@@ -157,13 +157,8 @@ export function useLoop(loopId: number, trailLength = 24) {
     const d = data as Record<string, unknown>;
     return ((d.loop && typeof d.loop === "object" ? d.loop : d) as LoopSummary & Record<string, unknown>) ?? null;
   }, [data]);
-  const [live, setLive] = useState<LoopSummary["state"]>(null);
-  const trail = useRef<{ re: number; im: number }[][]>([]);
-  const [, bump] = useState(0);
-  useEffect(() => {
-    setLive(null);
-    trail.current = [];
-  }, [loopId]);
+  type Live = { loopId: number; state: NonNullable<LoopSummary["state"]>; trail: { re: number; im: number }[][] } | null;
+  const [liveRaw, setLive] = useState<Live>(null);
   useEffect(() => {
     const s = getSocket();
     let pending: LoopSummary["state"] = null;
@@ -176,9 +171,8 @@ export function useLoop(loopId: number, trailLength = 24) {
           const st = pending;
           pending = null;
           if (!st) return;
-          trail.current = [...trail.current, st.modelPoles.map((p) => ({ re: p.re, im: p.im }))].slice(-trailLength);
-          setLive(st);
-          bump((x) => x + 1);
+          const poles = st.modelPoles.map((p) => ({ re: p.re, im: p.im }));
+          setLive((prev) => ({ loopId, state: st, trail: [...(prev && prev.loopId === loopId ? prev.trail : []), poles].slice(-trailLength) }));
         });
     };
     s.on("loop:state", on);
@@ -187,6 +181,7 @@ export function useLoop(loopId: number, trailLength = 24) {
       if (raf) cancelAnimationFrame(raf);
     };
   }, [loopId, trailLength]);
-  const state = live && (!base?.state || live.at >= base.state.at) ? live : (base?.state ?? null);
-  return { loop: base, state, trail: trail.current, error: error as Error | undefined, isLoading, mutate: () => void mutate() };
+  const live = liveRaw && liveRaw.loopId === loopId ? liveRaw : null;
+  const state = live && (!base?.state || live.state.at >= base.state.at) ? live.state : (base?.state ?? null);
+  return { loop: base, state, trail: live?.trail ?? [], error: error as Error | undefined, isLoading, mutate: () => void mutate() };
 }
