@@ -40,7 +40,9 @@ export function testDbInfo(): TestDbInfo {
     const port = Number(process.env.RG_TEST_DB_PORT);
     const socket = process.env.RG_TEST_DB_SOCKET;
     if (!port || !socket) {
-      throw new Error("No test MariaDB: run through vitest with globalSetup tests/setup/global-db.ts.");
+      throw new Error(
+        "No test MariaDB: run through vitest with globalSetup tests/setup/global-db.ts (and without RG_TEST_DB=off).",
+      );
     }
     info = { host: "127.0.0.1", port, socket };
   }

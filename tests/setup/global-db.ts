@@ -3,7 +3,8 @@
  * os.tmpdir(), a free port, never .data/), stopped and deleted at the end. A watchdog stops it
  * too if the vitest process dies without tearing down. Test files reach it through
  * `inject("testDb")` (tests/setup/db.ts does that) or the RG_TEST_DB_* environment variables.
- * The server starts once per run (~2 s); pure unit tests never connect to it.
+ * The server starts once per run (~2 s); pure unit tests never connect to it. RG_TEST_DB=off
+ * skips it (for a run of pure unit tests only); a test that needs it then fails with a message.
  */
 import fs from "node:fs";
 import os from "node:os";
@@ -24,6 +25,7 @@ declare module "vitest" {
 }
 
 export default async function setup(project: TestProject): Promise<() => Promise<void>> {
+  if (process.env.RG_TEST_DB === "off") return async () => {};
   const dir = fs.mkdtempSync(path.join(os.tmpdir(), "rg-tdb-"));
   const port = await freePort();
   const handle = await ensureMariaDb({
