@@ -13,6 +13,8 @@ import {
   stopMariaDb,
   type MariaDbHandle,
 } from "@/lib/db/mariadb-server";
+import { migrateUp } from "@/lib/db/migrate";
+import { createSequelize } from "@/lib/db/sequelize";
 
 // A second private server of its own (the run's shared test server is not touched).
 let dir: string;
@@ -63,6 +65,26 @@ describe("private MariaDB lifecycle", () => {
     await expect(
       mariadb.createConnection({ host: "127.0.0.1", port, user: "rg_app", password: "wrong", connectTimeout: 2000 }),
     ).rejects.toThrow(/denied/i);
+  });
+
+  it("lets the application user run the migrations (triggers included) but not edit the alarm event log", async () => {
+    const sequelize = createSequelize({ host: "127.0.0.1", port, database: "rg_life", user: "rg_app", password: "app-secret", poolMax: 2 });
+    try {
+      expect((await migrateUp(sequelize)).length).toBeGreaterThanOrEqual(4);
+      const q = (sql: string) => sequelize.query(sql);
+      await q("INSERT INTO tenants (slug, name) VALUES ('t', 'T')");
+      await q("INSERT INTO sites (tenant_id, slug, name) SELECT id, 's', 'S' FROM tenants");
+      await q(
+        "INSERT INTO loops (tenant_id, site_id, tag, slug, kind, units, pv_lo, pv_hi, telemetry_period_s, controller_period_s, gain_value, estimation_period_s) " +
+          "SELECT tenant_id, id, 'F-1', 'f-1', 'flow', 'm3/h', 0, 10, 1, 1, 1, 1 FROM sites",
+      );
+      await q("INSERT INTO alarms (tenant_id, loop_id, `condition`, priority) SELECT tenant_id, id, 'margin', 'low' FROM loops");
+      await q("INSERT INTO alarm_events (tenant_id, alarm_id, loop_id, journal_id, at, kind) SELECT tenant_id, id, loop_id, 'j1', NOW(3), 'activate' FROM alarms");
+      await expect(q("UPDATE alarm_events SET kind = 'x'")).rejects.toThrow(/append-only/);
+      await expect(q("DELETE FROM alarm_events")).rejects.toThrow(/append-only/);
+    } finally {
+      await sequelize.close();
+    }
   });
 
   it("reuses the running server when asked again (idempotent start)", async () => {
