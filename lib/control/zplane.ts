@@ -114,7 +114,8 @@ export function poleCharacteristics(z: Complex, T: number): PoleCharacteristics 
   assertFiniteComplex(z, "pole");
   assertPeriod(T);
   const radius = Math.sqrt(z.re * z.re + z.im * z.im);
-  const angle = Math.atan2(z.im, z.re);
+  // atan2 only off the real axis (the hot path mostly sees real poles too); pi for the negative axis
+  const angle = z.im === 0 ? (z.re < 0 ? Math.PI : 0) : Math.atan2(z.im, z.re);
   const kind = kindOf(z, radius);
   const stable = radius < 1;
   if (kind === "origin") {
@@ -129,7 +130,7 @@ export function poleCharacteristics(z: Complex, T: number): PoleCharacteristics 
   const wn = mag / T;
   const zeta = mag === 0 ? 0 : -lnr / mag;
   let timeConstant: number | null = null;
-  if (kind === "positive-real" && z.re < 1) timeConstant = -T / Math.log(z.re);
+  if (kind === "positive-real" && radius < 1) timeConstant = -T / lnr; // -T / ln z (z real: ln z = ln r)
   // r^(2 pi/|theta|) = exp(2 pi ln r / |theta|), reusing ln r
   const dr = kind === "complex" || kind === "negative-real" ? Math.exp((2 * Math.PI * lnr) / Math.abs(theta)) : null;
   return { radius, angle, zeta, wn, timeConstant, decayRatio: dr, kind, stable, continuousEquivalent: kind !== "negative-real" };
