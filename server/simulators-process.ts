@@ -10,13 +10,14 @@ import type { ServerContext, Service, ServiceHealth } from "./context";
 
 export interface SimulatorsService extends Service {
   readonly pid: number | null;
+  health(): ServiceHealth;
 }
 
 export interface StartSimulatorsOptions {
   /** Extra command-line flags for simulators/index.ts (e.g. ["--duration", "60"]). */
   args?: string[];
   /** Extra environment for the child. */
-  env?: NodeJS.ProcessEnv;
+  env?: Record<string, string | undefined>;
   /** Repository root (default: the parent of this file's folder). */
   root?: string;
   /** Grace period before SIGKILL on stop, ms. */

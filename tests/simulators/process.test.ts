@@ -79,7 +79,7 @@ describe("simulators process", () => {
     stops.push(() => svc.stop());
     const deadline = Date.now() + 60_000;
     while (svc.health().status === "ok" && Date.now() < deadline) await new Promise((r) => setTimeout(r, 200));
-    const h = svc.health() as { detail: { exitCode: number; lastLine: string } };
+    const h = svc.health() as unknown as { detail: { exitCode: number; lastLine: string } };
     expect(h.detail.exitCode).toBe(1);
     expect(h.detail.lastLine).toMatch(/could not connect to the MQTT broker/);
   }, 90_000);
