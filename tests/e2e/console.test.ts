@@ -41,11 +41,12 @@ beforeAll(async () => {
   sims = await startSimulators(ctx, {
     args: ["--duration", "900"],
     env: {
+      ...process.env,
       MQTT_HOST: "127.0.0.1",
       MQTT_PORT: String(brokerPort(ctx)),
       SIM_SPEEDUP: "5",
       SIM_DEVICE_CREDENTIALS: JSON.stringify(demoDeviceCredentials()),
-    } as NodeJS.ProcessEnv,
+    },
   });
   browser = await launchBrowser({ viewport: { width: 1600, height: 1000 } });
 }, 300_000);
