@@ -24,6 +24,8 @@ export interface LevelSpec {
   direction: "above" | "below";
   onDelayMs: number;
   offDelayMs: number;
+  /** The on-delay needs the level reached at every step (not only within the deadband). */
+  strict?: boolean;
 }
 
 /**
@@ -43,7 +45,7 @@ export function stepLevel(f: LevelFilter, value: number | null, spec: LevelSpec,
     let pendingSince = f.pendingSince;
     if (pendingSince == null) {
       if (reached) pendingSince = now;
-    } else if (!withinBand) pendingSince = null;
+    } else if (!(spec.strict ? reached : withinBand)) pendingSince = null;
     if (pendingSince != null && now - pendingSince >= spec.onDelayMs) return { on: true, pendingSince: null, clearingSince: null };
     return { on: false, pendingSince, clearingSince: null };
   }
@@ -74,26 +76,35 @@ function closedLoopPoles(s: LoopStateDto): PoleDto[] {
 }
 
 /**
- * The dominant oscillating pair (largest radius among complex or negative real poles), with its
- * per-cycle decay ratio |z|^(2π/|arg z|) and damping ratio ζ = -ln r / √(ln² r + θ²)
- * (DOMAIN.md §1; Franklin, Powell & Workman, ch. 4). Null when no pole oscillates.
+ * The dominant oscillating mode for the margin: among oscillating poles resolved by the sampling
+ * (|arg z| ≤ `maxAngle`, default π/2: at least four samples per cycle), the one with the largest
+ * per-cycle decay ratio |z|^(2π/|arg z|), i.e. the one closest to the rim in period-invariant
+ * terms, with its damping ratio ζ = -ln r / √(ln² r + θ²) (DOMAIN.md §1; Franklin, Powell &
+ * Workman, ch. 4). Poles nearer the Nyquist frequency (negative real poles ring at it) are left
+ * out by default: their per-cycle decay depends on the sample period, so a period-invariant
+ * level does not apply to them (they stay on the z-plane map, and `unstable` covers them).
+ * With `sigmas` > 0 each radius is first moved that many standard deviations inward (r - k·sd),
+ * so a poorly determined pole does not count as close to the rim. Null when none qualifies.
  */
-export function dominantOscillatingMode(poles: readonly { re: number; im: number }[], T: number): OscillatingMode | null {
+export function dominantOscillatingMode(
+  poles: readonly { re: number; im: number; sdRadius?: number | null }[],
+  T: number,
+  sigmas = 0,
+  maxAngle = Math.PI / 2,
+): OscillatingMode | null {
   let best: OscillatingMode | null = null;
   for (const p of poles) {
-    const radius = Math.hypot(p.re, p.im);
-    const oscillating = Math.abs(p.im) > REAL_EPS * Math.max(1, radius) || p.re < -REAL_EPS;
-    if (!oscillating || radius === 0) continue;
+    const r0 = Math.hypot(p.re, p.im);
+    const oscillating = Math.abs(p.im) > REAL_EPS * Math.max(1, r0) || p.re < -REAL_EPS;
+    if (!oscillating || r0 === 0) continue;
     const angle = Math.abs(Math.atan2(p.im, p.re));
-    if (best && radius <= best.radius) continue;
+    if (angle > maxAngle + 1e-12) continue;
+    const radius = Math.max(0, r0 - sigmas * (p.sdRadius ?? 0));
+    if (radius === 0) continue;
+    const decayRatio = Math.pow(radius, (2 * Math.PI) / angle);
+    if (best && decayRatio <= best.decayRatio) continue;
     const lr = Math.log(radius);
-    best = {
-      radius,
-      angle,
-      decayRatio: Math.pow(radius, (2 * Math.PI) / angle),
-      zeta: -lr / Math.sqrt(lr * lr + angle * angle),
-      periodS: (2 * Math.PI * T) / angle,
-    };
+    best = { radius, angle, decayRatio, zeta: -lr / Math.sqrt(lr * lr + angle * angle), periodS: (2 * Math.PI * T) / angle };
   }
   return best;
 }
@@ -106,6 +117,40 @@ export function slowestRealTimeConstant(poles: readonly { re: number; im: number
     if (slowest == null || p.re > slowest) slowest = p.re;
   }
   return slowest == null ? null : -T / Math.log(slowest);
+}
+
+/**
+ * Average residence time of the closed-loop set-point response with unit static gain:
+ * Tar = T Σ_k (1 - y_k) = -T G'(1)/G(1) = T [Σ_i 1/(1 - p_i) - Σ_j 1/(1 - z_j)] for
+ * G(z) = K Π(z - z_j) / Π(z - p_i) (derived here from the step response; the continuous
+ * counterpart Tar = Σ τ_poles - Σ τ_zeros + dead time is used by Åström & Hägglund, *PID
+ * Controllers: Theory, Design, and Tuning*, 2nd ed., 1995 — from memory). A slow pole that a zero
+ * nearly cancels (a PI controller's zero) adds almost nothing, as in the response itself.
+ * With `sigmas` > 0 each pole is first moved k·sd of its radius toward the origin. Null when a
+ * pole is on or outside the circle (then `unstable` decides) or the result is not finite.
+ */
+export function averageResidenceTime(
+  poles: readonly { re: number; im: number; sdRadius?: number | null }[],
+  zeros: readonly { re: number; im: number }[],
+  T: number,
+  sigmas = 0,
+): number | null {
+  let sum = 0;
+  const inv = (re: number, im: number) => {
+    // Re 1/(1 - z) for z = re + j im
+    const a = 1 - re;
+    const d = a * a + im * im;
+    return d === 0 ? Infinity : a / d;
+  };
+  for (const p of poles) {
+    const r = Math.hypot(p.re, p.im);
+    if (r >= 1) return null;
+    const shrink = r > 0 ? Math.max(0, r - sigmas * (p.sdRadius ?? 0)) / r : 1;
+    sum += inv(p.re * shrink, p.im * shrink);
+  }
+  for (const z of zeros) sum -= inv(z.re, z.im);
+  const tar = T * sum;
+  return Number.isFinite(tar) ? Math.max(0, tar) : null;
 }
 
 // ---------------------------------------------------------------- the four conditions
@@ -132,6 +177,11 @@ export interface ConditionVerdict {
 export interface LoopFacts {
   /** The loop's baseline closed-loop time constant in seconds (for `sluggish`), null if unknown. */
   baselineTimeConstantS: number | null;
+  /**
+   * Minutes until the margin measure's trend reaches the margin level (MarginTrend), null when
+   * no significant trend toward it; absent = not evaluated.
+   */
+  forecastMinutes?: number | null;
 }
 
 export const CONDITION_PRIORITY: Record<AlarmCondition, AlarmPriority> = {
@@ -157,8 +207,9 @@ export function evaluateConditions(
   const filters: Record<string, LevelFilter> = {};
   const onDelayMs = policy.onDelayS * 1000;
   const offDelayMs = policy.offDelayS * 1000;
-  const step = (key: string, value: number | null, level: number, deadband: number, direction: "above" | "below") => {
-    const f = stepLevel(mem.filters[key] ?? idleFilter(), value, { level, deadband, direction, onDelayMs, offDelayMs }, now);
+  const advisoryOnDelayMs = policy.advisoryOnDelayS * 1000;
+  const step = (key: string, value: number | null, level: number, deadband: number, direction: "above" | "below", advisory = false) => {
+    const f = stepLevel(mem.filters[key] ?? idleFilter(), value, { level, deadband, direction, onDelayMs: advisory ? advisoryOnDelayMs : onDelayMs, offDelayMs }, now);
     filters[key] = f;
     return f.on;
   };
@@ -191,25 +242,40 @@ export function evaluateConditions(
   const poles = closedLoopPoles(s);
   const maxRadius = poles.length > 0 ? Math.max(...poles.map((p) => Math.hypot(p.re, p.im))) : s.spectralRadius;
 
-  // 2. unstable: a pole on/outside the unit circle, or the Jury test fails (Jury 1964).
-  const outside = maxRadius != null && maxRadius >= 1;
-  const unstableNow = s.juryStable === false || outside;
-  const unstableValue = unstableNow ? Math.max(maxRadius ?? 1, 1) : maxRadius;
-  const unstableOn = policy.enabled.unstable && step("unstable", unstableNow ? 1 : (maxRadius ?? 0) < 1 - policy.deadband.radius ? 0 : 0.5, 1, 0.5, "above");
+  // 2. unstable: a pole on/outside the unit circle, or the Jury test fails (Jury 1964). The Jury
+  //    verdict and the roots come from the same estimated polynomial, so they agree; a pole
+  //    counts as outside when it is outside by more than `confidenceSigmas` standard deviations
+  //    of its radius (a slow real pole near z = 1 sits within estimation noise of the circle).
+  //    The on-delay is strict here: the verdict must hold at every update for the whole delay.
+  const k = policy.confidenceSigmas;
+  const outsideRadius = poles.length > 0 ? Math.max(...poles.map((p) => Math.hypot(p.re, p.im) - k * (p.sdRadius ?? 0))) : s.spectralRadius;
+  const unstableNow = poles.length > 0 ? (outsideRadius ?? 0) >= 1 : s.juryStable === false || (s.spectralRadius ?? 0) >= 1;
+  const clearlyInside = poles.length > 0 ? (maxRadius ?? 0) < 1 - policy.deadband.radius : s.juryStable !== false && (s.spectralRadius ?? 0) < 1;
+  // Filter input: 1 = unstable now, 0.5 = not proven either way (within the deadband), 0 = stable.
+  const unstableSignal = unstableNow ? 1 : clearlyInside ? 0 : 0.5;
+  const unstableOn =
+    policy.enabled.unstable &&
+    (() => {
+      const f = stepLevel(mem.filters.unstable ?? idleFilter(), unstableSignal, { level: 1, deadband: 0.5, direction: "above", onDelayMs, offDelayMs, strict: true }, now);
+      filters.unstable = f;
+      return f.on;
+    })();
   const unstable = verdict("unstable", {
     active: unstableOn,
-    value: unstableValue,
+    value: maxRadius,
     level: 1,
     message: unstableNow
-      ? `Closed-loop pole at radius ${fmt(unstableValue ?? 1, 4)}${s.juryStable === false ? "; the Jury test fails" : ""}: the loop is unstable.`
-      : `All closed-loop poles inside the unit circle (spectral radius ${maxRadius != null ? fmt(maxRadius, 4) : "unknown"}).`,
+      ? `Closed-loop pole at radius ${fmt(maxRadius ?? 1, 4)}${s.juryStable === false ? "; the Jury test fails" : ""}: the loop is unstable.`
+      : s.juryStable === false || (maxRadius ?? 0) >= 1
+        ? `Estimated pole at radius ${fmt(maxRadius ?? 1, 4)}, within ${k} standard deviation(s) of the unit circle: not yet proven unstable.`
+        : `All closed-loop poles inside the unit circle (spectral radius ${maxRadius != null ? fmt(maxRadius, 4) : "unknown"}).`,
     suppressedReason: policy.enabled.unstable ? null : "disabled by policy",
   });
 
   const rootCause = unstableOn ? "unstable alarm active on this loop (one cause, one alarm)" : null;
 
   // 3. margin: the dominant oscillating mode drifts toward the circle.
-  const mode = poles.length > 0 ? dominantOscillatingMode(poles, T) : null;
+  const mode = poles.length > 0 ? dominantOscillatingMode(poles, T, k) : null;
   const decay = mode ? mode.decayRatio : poles.length === 0 ? s.decayRatio : null;
   const zeta = mode ? mode.zeta : null;
   const pd = policy.deadband;
@@ -234,7 +300,8 @@ export function evaluateConditions(
     }
   }
   if (policy.radius) {
-    const r = mode ? mode.radius : null;
+    const rMode = dominantOscillatingMode(poles, T, k, Math.PI);
+    const r = rMode ? rMode.radius : null;
     if (step("margin.radius.low", r, policy.radius.low, pd.radius, "above") && severity < 1) {
       severity = 1;
       trigger = `oscillating pole radius ${fmt(r ?? 0, 4)} ≥ ${policy.radius.low} at T = ${T} s`;
@@ -258,38 +325,39 @@ export function evaluateConditions(
     suppressedReason: rootCause ?? (policy.enabled.margin ? null : "disabled by policy"),
   });
 
-  // 4. sluggish: the slowest real mode is much slower than the loop's baseline. A slow real pole
-  //    near z = 1 is not an instability and never raises `margin` (only oscillating modes do).
-  const tau = poles.length > 0 ? slowestRealTimeConstant(poles, T) : null;
+  // 4. sluggish: the set-point response's average residence time exceeds a multiple of the
+  //    loop's baseline (its design value, e.g. τc + θ). A slow real pole near z = 1 is not an
+  //    instability and never raises `margin` (only oscillating modes do).
+  const tar = poles.length > 0 ? averageResidenceTime(poles, s.zeros, T, k) : null;
   const base = facts.baselineTimeConstantS;
-  const ratio = tau != null && base != null && base > 0 ? tau / base : null;
-  const sluggishOn = policy.enabled.sluggish && step("sluggish", ratio, policy.sluggishMultiple, policy.sluggishMultiple * pd.sluggish, "above");
+  const ratio = tar != null && base != null && base > 0 ? tar / base : null;
+  const sluggishOn = policy.enabled.sluggish && step("sluggish", ratio, policy.sluggishMultiple, policy.sluggishMultiple * pd.sluggish, "above", true);
   const sluggish = verdict("sluggish", {
     active: sluggishOn && !rootCause,
-    value: tau,
+    value: tar,
     level: base != null ? base * policy.sluggishMultiple : null,
     message:
-      ratio != null && tau != null && base != null
-        ? `Slowest real mode τ ${fmt(tau)} s is ${fmt(ratio, 2)}× the baseline ${fmt(base)} s (level ${policy.sluggishMultiple}×).`
+      ratio != null && tar != null && base != null
+        ? `Average residence time ${fmt(tar)} s is ${fmt(ratio, 2)}× the baseline ${fmt(base)} s (level ${policy.sluggishMultiple}×).`
         : base == null
           ? "No baseline time constant configured for this loop."
-          : "No slow real mode.",
+          : "No estimate of the response time.",
     suppressedReason: rootCause ?? (policy.enabled.sluggish ? null : "disabled by policy"),
   });
 
-  // 5. rim-forecast: the tracker's trend reaches the alarm level within the horizon.
+  // 5. rim-forecast: the margin measure's trend reaches the margin level within the horizon.
   const horizonMin = policy.forecastHorizonMinutes;
-  const minutesTo = s.forecast ? Math.max(0, (s.forecast.at - now) / 60_000) : null;
+  const minutesTo = facts.forecastMinutes ?? null;
   const forecastOn =
-    policy.enabled["rim-forecast"] && step("forecast", marginOn ? null : minutesTo, horizonMin, horizonMin * 0.1, "below");
+    policy.enabled["rim-forecast"] && step("forecast", marginOn ? null : minutesTo, horizonMin, horizonMin * 0.1, "below", true);
   const rimForecast = verdict("rim-forecast", {
     active: forecastOn && !rootCause && !marginOn,
     value: minutesTo,
     level: horizonMin,
     message:
       minutesTo != null
-        ? `The trend reaches the alarm level in about ${fmt(minutesTo, 2)} min (horizon ${horizonMin} min).`
-        : "No significant trend toward the alarm level.",
+        ? `The decay-ratio trend reaches the margin level ${policy.decayRatio.low} in about ${fmt(minutesTo, 2)} min (horizon ${horizonMin} min).`
+        : "No significant trend toward the margin level.",
     suppressedReason: rootCause ?? (policy.enabled["rim-forecast"] ? null : "disabled by policy"),
   });
 

@@ -52,12 +52,23 @@ export const policyOverrideSchema = z
     onDelayS: z.number().min(0).max(3600),
     /** The condition must stay clear (beyond the deadband) this long before the alarm clears. */
     offDelayS: z.number().min(0).max(3600),
+    /**
+     * On-delay of the two low-priority advisories (`sluggish`, `rim-forecast`): they describe
+     * slow, persistent conditions, so they must hold longer before they are announced.
+     */
+    advisoryOnDelayS: z.number().min(0).max(24 * 3600),
     /** The longest an operator may shelve an alarm. */
     shelveMaxMinutes: z.number().int().min(1).max(7 * 24 * 60),
     /** `sluggish` when the slowest real mode's time constant exceeds this multiple of the loop's baseline. */
     sluggishMultiple: z.number().gt(1).max(100),
     /** `rim-forecast` when the trend reaches the margin level within this horizon. */
     forecastHorizonMinutes: z.number().min(1).max(7 * 24 * 60),
+    /**
+     * Levels apply to the estimate moved this many standard deviations (of each pole's radius,
+     * delta method) toward safety, so estimation noise alone does not raise an alarm; 0 = point
+     * estimates.
+     */
+    confidenceSigmas: z.number().min(0).max(3),
     enabled: z
       .object({ unstable: z.boolean(), margin: z.boolean(), sluggish: z.boolean(), "rim-forecast": z.boolean() })
       .strict()
@@ -75,9 +86,11 @@ export interface EffectivePolicy {
   deadband: { decayRatio: number; damping: number; radius: number; sluggish: number };
   onDelayS: number;
   offDelayS: number;
+  advisoryOnDelayS: number;
   shelveMaxMinutes: number;
   sluggishMultiple: number;
   forecastHorizonMinutes: number;
+  confidenceSigmas: number;
   enabled: { unstable: boolean; margin: boolean; sluggish: boolean; "rim-forecast": boolean };
 }
 
@@ -94,9 +107,11 @@ export const DEFAULT_POLICY: EffectivePolicy = {
   deadband: { decayRatio: 0.02, damping: 0.01, radius: 0.002, sluggish: 0.1 },
   onDelayS: 30,
   offDelayS: 30,
+  advisoryOnDelayS: 600,
   shelveMaxMinutes: 8 * 60,
   sluggishMultiple: 3,
   forecastHorizonMinutes: 60,
+  confidenceSigmas: 1,
   enabled: { unstable: true, margin: true, sluggish: true, "rim-forecast": true },
 };
 
@@ -124,7 +139,7 @@ export function resolvePolicy(layers: { tenant?: PolicyOverride | null; site?: P
     if (layer.radius !== undefined) eff.radius = layer.radius ? { ...layer.radius } : null;
     if (layer.deadband) eff.deadband = { ...eff.deadband, ...stripUndefined(layer.deadband) };
     if (layer.enabled) eff.enabled = { ...eff.enabled, ...stripUndefined(layer.enabled) };
-    for (const k of ["onDelayS", "offDelayS", "shelveMaxMinutes", "sluggishMultiple", "forecastHorizonMinutes"] as const) {
+    for (const k of ["onDelayS", "offDelayS", "advisoryOnDelayS", "shelveMaxMinutes", "sluggishMultiple", "forecastHorizonMinutes", "confidenceSigmas"] as const) {
       const v = layer[k];
       if (v !== undefined) eff[k] = v;
     }

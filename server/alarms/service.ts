@@ -12,7 +12,15 @@
  */
 import type { Sequelize } from "sequelize";
 import { QueryTypes } from "sequelize";
-import { evaluateConditions, newConditionMemory, type ConditionMemory, CONDITION_PRIORITY } from "@/lib/alarms/conditions";
+import {
+  CONDITION_PRIORITY,
+  dominantOscillatingMode,
+  evaluateConditions,
+  newConditionMemory,
+  NON_TRACKING,
+  type ConditionMemory,
+} from "@/lib/alarms/conditions";
+import { MarginTrend } from "@/lib/alarms/trend";
 import {
   normalizeStoredSettings,
   parsePolicyOverride,
@@ -100,6 +108,7 @@ export class AlarmService implements Service {
   private byLoop = new Map<number, Map<AlarmCondition, number>>();
   private loops = new Map<number, LoopFacts>();
   private memory = new Map<number, ConditionMemory>();
+  private trends = new Map<number, MarginTrend>();
   private lastState = new Map<number, LoopStateDto>();
   private policyLayers = { tenant: new Map<number, PolicyOverride>(), site: new Map<number, PolicyOverride>(), loop: new Map<number, PolicyOverride>() };
   private effective = new Map<number, EffectivePolicy>();
@@ -334,11 +343,13 @@ export class AlarmService implements Service {
     }
     this.lastState.set(s.loopId, s);
     const now = this.ctx.clock.now();
+    const policy = this.policyFor(s.loopId);
+    const forecastMinutes = this.forecast(s, policy, now);
     const { memory, verdicts } = evaluateConditions(
       this.memory.get(s.loopId) ?? newConditionMemory(),
       s,
-      this.policyFor(s.loopId),
-      { baselineTimeConstantS: loop.baselineTimeConstantS },
+      policy,
+      { baselineTimeConstantS: loop.baselineTimeConstantS, forecastMinutes },
       now,
     );
     this.memory.set(s.loopId, memory);
@@ -363,6 +374,24 @@ export class AlarmService implements Service {
         if (r) this.commit(rec, a, r, null, null);
       }
     }
+  }
+
+  /** Feed the loop's margin trend and forecast when it reaches the margin level (minutes). */
+  private forecast(s: LoopStateDto, policy: EffectivePolicy, now: number): number | null {
+    if (NON_TRACKING.has(s.trackerState)) {
+      this.trends.get(s.loopId)?.reset();
+      return null;
+    }
+    let trend = this.trends.get(s.loopId);
+    const memoryS = 200 * s.estimationPeriodS; // RLS memory 1/(1 - λ) at λ = 0.995, in seconds
+    if (!trend || trend.memoryS !== memoryS) {
+      trend = new MarginTrend({ memoryS, windowS: Math.max(7200, 20 * memoryS) });
+      this.trends.set(s.loopId, trend);
+    }
+    const poles = s.modelPoles.length ? s.modelPoles : s.dataPoles;
+    const mode = dominantOscillatingMode(poles, s.estimationPeriodS, policy.confidenceSigmas);
+    trend.push(now / 1000, mode ? mode.decayRatio : null);
+    return trend.minutesTo(policy.decayRatio.low, now / 1000);
   }
 
   // ------------------------------------------------------------------ transitions

@@ -51,7 +51,7 @@ const as = (role: Role | "outsider") => {
 beforeAll(async () => {
   db = await createTestDatabase("alarmapi");
   fx = await createFixture(db.models);
-  await setTenantPolicy(db.sequelize, fx.tenantId, { onDelayS: 0, offDelayS: 0 });
+  await setTenantPolicy(db.sequelize, fx.tenantId, { onDelayS: 0, offDelayS: 0, advisoryOnDelayS: 0 });
   clock = new FakeClock(T0);
   const ctx = testContext(clock);
   svc = await AlarmService.start(ctx, { sequelize: db.sequelize, journalPath: tempJournal(), quiet: true });

@@ -9,6 +9,7 @@ import {
   evaluateConditions,
   newConditionMemory,
   slowestRealTimeConstant,
+  averageResidenceTime,
   stepLevel,
   idleFilter,
   type ConditionMemory,
@@ -180,8 +181,33 @@ describe("slow real poles", () => {
     expect(slowestRealTimeConstant(slow, 1)).toBeCloseTo(499.5, 0);
   });
 
+  it("average residence time: a pure delay of N samples is N·T; a first-order lag is T/(1 - a); a PI zero near the slow pole cancels it", () => {
+    // Σ_k (1 - y_k) of the unit step response, summed by hand: delay z^-3 -> 3; (1-a)/(z-a) -> Σ a^k = 1/(1-a).
+    expect(averageResidenceTime([pole(0, 0), pole(0, 0), pole(0, 0)], [], 2)).toBeCloseTo(6, 12);
+    expect(averageResidenceTime([pole(0.9, 0)], [], 0.5)).toBeCloseTo(0.5 / 0.1, 9);
+    const piZero = [{ re: 0.9975, im: 0 }];
+    // 1/(1-0.998) - 1/(1-0.9975) = 500 - 400 = 100 samples, plus the fast pair.
+    const withZero = averageResidenceTime(slow, piZero, 1)!;
+    const pair = 2 * ((1 - 0.3) / ((1 - 0.3) ** 2 + 0.2 ** 2));
+    expect(withZero).toBeCloseTo(100 + pair, 6);
+    expect(averageResidenceTime([pole(1.0, 0)], [], 1)).toBeNull();
+  });
+
+  it("a complex pair's residence time equals its step response summed term by term (Σ (1 - y_k))", () => {
+    // G(z) = K (z - 0.5) / ((z - 0.8 - 0.3j)(z - 0.8 + 0.3j)), K so that G(1) = 1; y_k by the difference equation.
+    const a1 = -1.6, a2 = 0.73; // (z^2 - 1.6 z + 0.73)
+    const K = (1 + a1 + a2) / (1 - 0.5);
+    let y1 = 0, y2 = 0, u1 = 0, u2 = 0, sum = 0;
+    for (let k = 0; k < 5000; k++) {
+      const y = -a1 * y1 - a2 * y2 + K * (u1 - 0.5 * u2);
+      sum += 1 - y;
+      y2 = y1; y1 = y; u2 = u1; u1 = 1;
+    }
+    expect(averageResidenceTime([pole(0.8, 0.3), pole(0.8, -0.3)], [{ re: 0.5, im: 0 }], 1)).toBeCloseTo(sum, 6);
+  });
+
   it("the same pole is `sluggish` against a 100 s baseline, still not `margin`", () => {
-    const r = evaluateConditions(newConditionMemory(), state(slow), policy({ onDelayS: 0 }), { baselineTimeConstantS: 100 }, T0);
+    const r = evaluateConditions(newConditionMemory(), state(slow), policy({ onDelayS: 0, advisoryOnDelayS: 0 }), { baselineTimeConstantS: 100 }, T0);
     expect(r.verdicts.sluggish.active).toBe(true);
     expect(r.verdicts.sluggish.priority).toBe("low");
     expect(r.verdicts.margin.active).toBe(false);
@@ -200,9 +226,30 @@ describe("unstable and suppression by design", () => {
     }
   });
 
-  it("a failed Jury test alone raises `unstable`", () => {
-    const r = evaluateConditions(newConditionMemory(), state(pairWithDecay(0.3), { juryStable: false }), policy({ onDelayS: 0 }), { baselineTimeConstantS: null }, T0);
+  it("with no poles reported, a failed Jury test alone raises `unstable`", () => {
+    const r = evaluateConditions(newConditionMemory(), state([], { juryStable: false, spectralRadius: 0.9 }), policy({ onDelayS: 0 }), { baselineTimeConstantS: null }, T0);
     expect(r.verdicts.unstable.active).toBe(true);
+  });
+
+  it("a pole outside the circle by less than its standard deviation is not yet `unstable`; by more, it is", () => {
+    const noisy = [{ ...pole(1.002, 0), sdRadius: 0.004 }, pole(0.3, 0)];
+    const r = evaluateConditions(newConditionMemory(), state(noisy), policy({ onDelayS: 0 }), { baselineTimeConstantS: null }, T0);
+    expect(r.verdicts.unstable.active).toBe(false);
+    expect(r.verdicts.unstable.message).toMatch(/not yet proven unstable/);
+    const clear = [{ ...pole(1.01, 0), sdRadius: 0.004 }, pole(0.3, 0)];
+    expect(evaluateConditions(newConditionMemory(), state(clear), policy({ onDelayS: 0 }), { baselineTimeConstantS: null }, T0).verdicts.unstable.active).toBe(true);
+    // confidenceSigmas 0: point estimates
+    expect(evaluateConditions(newConditionMemory(), state(noisy), policy({ onDelayS: 0, confidenceSigmas: 0 }), { baselineTimeConstantS: null }, T0).verdicts.unstable.active).toBe(true);
+  });
+
+  it("the on-delay of `unstable` is strict: a verdict that flickers never activates", () => {
+    let mem = newConditionMemory();
+    for (let k = 0; k < 120; k++) {
+      const rr = k % 2 === 0 ? 1.01 : 0.999;
+      const r = evaluateConditions(mem, state([pole(rr, 0)]), policy({ onDelayS: 30 }), { baselineTimeConstantS: null }, T0 + k * 1000);
+      mem = r.memory;
+      expect(r.verdicts.unstable.active).toBe(false);
+    }
   });
 
   it.each<TrackerState>(["manual", "stale", "saturated", "learning", "low-excitation"])(
@@ -216,13 +263,13 @@ describe("unstable and suppression by design", () => {
     },
   );
 
-  it("rim-forecast is active when the tracker's trend reaches the level within the horizon", () => {
-    const pol = resolvePolicy({ tenant: { onDelayS: 0, forecastHorizonMinutes: 60 } });
-    const s = state(pairWithDecay(0.3), { forecast: { at: T0 + 20 * 60_000, low: T0 + 10 * 60_000, high: T0 + 40 * 60_000 } });
-    const r = evaluateConditions(newConditionMemory(), s, pol, { baselineTimeConstantS: null }, T0);
+  it("rim-forecast is active when the margin trend reaches the level within the horizon", () => {
+    const pol = resolvePolicy({ tenant: { onDelayS: 0, advisoryOnDelayS: 0, forecastHorizonMinutes: 60 } });
+    const s = state(pairWithDecay(0.3));
+    const r = evaluateConditions(newConditionMemory(), s, pol, { baselineTimeConstantS: null, forecastMinutes: 20 }, T0);
     expect(r.verdicts["rim-forecast"].active).toBe(true);
-    expect(r.verdicts["rim-forecast"].value).toBeCloseTo(20, 9);
-    const far = state(pairWithDecay(0.3), { forecast: { at: T0 + 200 * 60_000, low: T0, high: T0 } });
-    expect(evaluateConditions(newConditionMemory(), far, pol, { baselineTimeConstantS: null }, T0).verdicts["rim-forecast"].active).toBe(false);
+    expect(r.verdicts["rim-forecast"].value).toBe(20);
+    expect(evaluateConditions(newConditionMemory(), s, pol, { baselineTimeConstantS: null, forecastMinutes: 200 }, T0).verdicts["rim-forecast"].active).toBe(false);
+    expect(evaluateConditions(newConditionMemory(), s, pol, { baselineTimeConstantS: null, forecastMinutes: null }, T0).verdicts["rim-forecast"].active).toBe(false);
   });
 });

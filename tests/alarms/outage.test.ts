@@ -36,7 +36,7 @@ beforeAll(async () => {
   sequelize = createSequelize({ socket: handle.socket, database: "rg_outage", user: "root", poolMax: 3 });
   await migrateUp(sequelize);
   fx = await createFixture(initModels(sequelize));
-  await setTenantPolicy(sequelize, fx.tenantId, { onDelayS: 0, offDelayS: 0 });
+  await setTenantPolicy(sequelize, fx.tenantId, { onDelayS: 0, offDelayS: 0, advisoryOnDelayS: 0 });
 });
 
 afterAll(async () => {

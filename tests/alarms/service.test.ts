@@ -22,7 +22,7 @@ let fx: Fixture;
 beforeAll(async () => {
   db = await createTestDatabase("alarms");
   fx = await createFixture(db.models);
-  await setTenantPolicy(db.sequelize, fx.tenantId, { onDelayS: 0, offDelayS: 0, shelveMaxMinutes: 120 });
+  await setTenantPolicy(db.sequelize, fx.tenantId, { onDelayS: 0, offDelayS: 0, advisoryOnDelayS: 0, shelveMaxMinutes: 120 });
 });
 afterAll(async () => {
   await db?.drop();
