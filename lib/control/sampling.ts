@@ -133,15 +133,13 @@ function fmt(x: number): string {
   return Number(x.toPrecision(3)).toString();
 }
 
+/**
+ * Continuous equivalents of discrete poles. Poles at the origin (dead time) and on the negative
+ * real axis (no continuous equivalent; ringing at the Nyquist frequency, never the slow mode the
+ * period is chosen for) are left out.
+ */
 function discreteToS(poles: Complex[], T: number): Complex[] {
-  return poles
-    .filter((z) => Math.hypot(z.re, z.im) > 0)
-    .map((z) => {
-      if (z.im === 0 && z.re < 0) {
-        throw new ControlArgumentError("a negative-real pole has no continuous equivalent at this period; cannot judge the period from it");
-      }
-      return zToS(z, T);
-    });
+  return poles.filter((z) => Math.hypot(z.re, z.im) > 0 && !(z.im === 0 && z.re < 0)).map((z) => zToS(z, T));
 }
 
 function dominantWn(poles: Complex[]): number {

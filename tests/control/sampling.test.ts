@@ -51,6 +51,12 @@ describe("proposeEstimationPeriod (rule of thumb wn T ~ 0.1-0.6, Åström & Witt
     );
   });
 
+  it("leaves out poles at the origin and on the negative real axis (no continuous equivalent)", () => {
+    const p = proposeEstimationPeriod({ from: "discrete-poles", poles: [{ re: Math.exp(-0.01), im: 0 }, { re: -0.3, im: 0 }, { re: 0, im: 0 }], T: 1 });
+    expect(p.wnT / p.period).toBeCloseTo(0.01, 12);
+    expect(() => proposeEstimationPeriod({ from: "discrete-poles", poles: [{ re: -0.3, im: 0 }], T: 1 })).toThrow(ControlArgumentError);
+  });
+
   it("respects maxFactor", () => {
     const p = proposeEstimationPeriod({ from: "step-test", timeConstant: 10_000, telemetryPeriod: 0.1 }, { maxFactor: 50 });
     expect(p.factor).toBe(50);
