@@ -33,7 +33,7 @@ export default async function ConsoleLayout({ children }: { children: React.Reac
           <span className="flex items-center gap-2 font-semibold tracking-tight">
             <svg width="22" height="22" viewBox="0 0 40 40" aria-hidden="true">
               <circle cx="20" cy="20" r="16" fill="none" stroke="currentColor" strokeWidth="3" />
-              <circle cx="31" cy="12" r="3.2" className="fill-accent" />
+              <circle cx="31" cy="12" r="3.6" fill="var(--rg-accent)" />
             </svg>
             Rimguard
           </span>

@@ -5,9 +5,11 @@ export const CAUTION_TEXT =
 export function CautionLine({ className = "" }: { className?: string }) {
   return (
     <p role="note" aria-label="Caution" className={`text-xs leading-snug text-muted ${className}`}>
-      <span aria-hidden="true" className="mr-1.5 inline-block font-semibold text-ink">
-        ⓘ
-      </span>
+      <svg aria-hidden="true" width="12" height="12" viewBox="0 0 12 12" className="mr-1.5 inline-block align-[-1px]">
+        <circle cx="6" cy="6" r="5.25" fill="none" stroke="currentColor" strokeWidth="1.2" />
+        <rect x="5.4" y="5" width="1.2" height="4" fill="currentColor" />
+        <rect x="5.4" y="2.8" width="1.2" height="1.2" fill="currentColor" />
+      </svg>
       {CAUTION_TEXT} Rimguard reads telemetry and never writes to a controller.
     </p>
   );

@@ -25,9 +25,9 @@ export function TenantSwitcher({
 
   if (memberships.length < 2) {
     return (
-      <span className="text-sm" data-testid="tenant-name">
-        <span className="sr-only">Tenant: </span>
-        {current.tenantName}
+      <span className="text-sm">
+        <span className="mr-1.5 text-muted">Tenant</span>
+        <span data-testid="tenant-name">{current.tenantName}</span>
       </span>
     );
   }

@@ -1,0 +1,111 @@
+/**
+ * End to end in Debian's Chromium (playwright-core): sign in through the form, see the console
+ * shell with the tenant's name, the navigation for the role and the standing caution; switch
+ * theme and tenant; sign out. Screenshots go to tests/artifacts/ (git-ignored).
+ */
+import type { Page } from "playwright-core";
+import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { CAUTION_TEXT } from "@/app/(console)/_shell/caution";
+import { createAuthFixture, FIXTURE_PASSWORD, type AuthFixture } from "../auth/fixture";
+import { artifactPath, launchBrowser, type TestBrowser } from "../setup/browser";
+import { startTestServer, type TestServer } from "../setup/server";
+
+let srv: TestServer;
+let fx: AuthFixture;
+let browser: TestBrowser;
+
+beforeAll(async () => {
+  srv = await startTestServer({ seed: false });
+  fx = await createAuthFixture(srv.db.models);
+  browser = await launchBrowser();
+});
+afterAll(async () => {
+  await browser?.close();
+  await srv?.stop();
+});
+
+async function signInThroughForm(page: Page, email: string): Promise<void> {
+  await page.goto(`${srv.url}/`);
+  await page.waitForURL(/\/signin/);
+  await page.getByLabel("E-mail").fill(email);
+  await page.getByLabel("Password").fill(FIXTURE_PASSWORD);
+  await page.getByRole("button", { name: "Sign in" }).click();
+  await page.waitForURL((u) => !u.pathname.startsWith("/signin"), { timeout: 30_000 });
+}
+
+describe("console shell in Chromium", () => {
+  it("a wrong password shows our message and stays on the sign-in page", async () => {
+    const page = await browser.context.newPage();
+    await page.goto(`${srv.url}/signin`);
+    await page.getByLabel("E-mail").fill(fx.a.users.viewer.email);
+    await page.getByLabel("Password").fill("wrong-password");
+    await page.getByRole("button", { name: "Sign in" }).click();
+    await expect.poll(() => page.locator("#signin-error").textContent()).toContain("The e-mail or password is not right.");
+    expect(new URL(page.url()).pathname).toBe("/signin");
+    await page.screenshot({ path: artifactPath("signin-error.png") });
+    await page.close();
+  });
+
+  it("an admin signs in and sees the shell: tenant, name, role, full navigation, the caution", async () => {
+    const page = await browser.context.newPage();
+    await signInThroughForm(page, fx.a.users.admin.email);
+    const header = page.locator("header");
+    await expect.poll(() => header.getByTestId("tenant-name").textContent()).toContain(fx.a.name);
+    expect(await header.getByTestId("user-role").textContent()).toBe("admin");
+    const nav = page.getByRole("navigation", { name: "Console" });
+    for (const label of ["Control room", "Loops", "Alarms", "Reports", "Admin"]) {
+      expect(await nav.getByRole("link", { name: label }).count(), label).toBe(1);
+    }
+    const caution = page.getByRole("note", { name: "Caution" });
+    expect(await caution.textContent()).toContain(CAUTION_TEXT);
+    expect(await caution.isVisible()).toBe(true);
+    await page.screenshot({ path: artifactPath("shell-dark.png") });
+
+    // Theme toggle: light for desks, remembered in a cookie across a reload.
+    await page.getByRole("button", { name: "Light theme" }).click();
+    expect(await page.locator("html").getAttribute("data-theme")).toBe("light");
+    await page.reload();
+    expect(await page.locator("html").getAttribute("data-theme")).toBe("light");
+    await page.screenshot({ path: artifactPath("shell-light.png") });
+    await page.getByRole("button", { name: "Dark theme" }).click();
+
+    // Reports placeholder says honestly that nothing is there yet.
+    await nav.getByRole("link", { name: "Reports" }).click();
+    await page.waitForURL(/\/reports$/);
+    expect(await page.getByRole("heading", { level: 1 }).textContent()).toBe("Reports");
+
+    // Sign out returns to the sign-in page; the console is closed again.
+    await page.getByRole("button", { name: "Sign out" }).click();
+    await page.waitForURL(/\/signin/);
+    await page.goto(`${srv.url}/reports`);
+    await page.waitForURL(/\/signin/);
+    await page.close();
+  });
+
+  it("a viewer has no Admin link, and the keyboard reaches the skip link first", async () => {
+    const page = await browser.context.newPage();
+    await signInThroughForm(page, fx.b.users.viewer.email);
+    const nav = page.getByRole("navigation", { name: "Console" });
+    await nav.getByRole("link", { name: "Loops" }).waitFor();
+    expect(await nav.getByRole("link", { name: "Admin" }).count()).toBe(0);
+    await page.keyboard.press("Tab");
+    expect(await page.evaluate(() => document.activeElement?.textContent)).toBe("Skip to content");
+    await page.getByRole("button", { name: "Sign out" }).click();
+    await page.waitForURL(/\/signin/);
+    await page.close();
+  });
+
+  it("a member of two tenants switches tenant from the header", async () => {
+    const page = await browser.context.newPage();
+    await signInThroughForm(page, fx.both.email);
+    const select = page.locator("header select");
+    await select.waitFor();
+    const before = await select.inputValue();
+    const target = Number(before) === fx.a.id ? fx.b : fx.a;
+    await select.selectOption(String(target.id));
+    await expect.poll(async () => page.locator("header select").inputValue(), { timeout: 15_000 }).toBe(String(target.id));
+    await page.waitForLoadState("networkidle").catch(() => undefined);
+    await page.screenshot({ path: artifactPath("shell-tenant-switched.png") });
+    await page.close();
+  });
+});
