@@ -240,6 +240,9 @@ export class AlarmService implements Service {
   private async loadPoints(): Promise<void> {
     const rows = (await this.sequelize.query("SELECT * FROM alarms", { type: QueryTypes.SELECT })) as Record<string, unknown>[];
     for (const r of rows) {
+      // Memory may be ahead of the database (writes pending): never move a known point back.
+      const known = this.points.get(Number(r.id));
+      if (known && known.seq >= Number(r.journal_seq ?? 0)) continue;
       const rec: PointRecord = {
         id: Number(r.id),
         tenantId: Number(r.tenant_id),
@@ -308,6 +311,7 @@ export class AlarmService implements Service {
       try {
         await this.loadLoops();
         await this.loadPoints();
+        this.effective.clear(); // a loop may have moved site, or changed its period
       } catch (err) {
         this.log(`[alarms] loop refresh failed: ${err instanceof Error ? err.message : String(err)}`);
       } finally {

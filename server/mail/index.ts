@@ -91,7 +91,8 @@ export async function startMail(ctx: ServerContext, opts: StartMailOptions = {})
         });
       },
     });
-    const port = opts.sinkPort ?? ctx.config.SMTP_SINK_PORT;
+    // Under test several servers may run at once: any free port unless one is asked for.
+    const port = opts.sinkPort ?? (ctx.config.NODE_ENV === "test" && !process.env.SMTP_SINK_PORT ? 0 : ctx.config.SMTP_SINK_PORT);
     await new Promise<void>((resolve, reject) => {
       sink!.once("error", reject);
       sink!.listen(port, "127.0.0.1", () => resolve());

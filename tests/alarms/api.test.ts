@@ -10,6 +10,7 @@ import { ForbiddenError } from "@/lib/errors";
 import { setServerContext } from "@/lib/server-context";
 import { roleAtLeast, type Role, type TenantContext } from "@/lib/types";
 import { AlarmService } from "@/server/alarms/service";
+import { startMail, type MailService } from "@/server/mail";
 import { createTestDatabase, type TestDatabase } from "../setup/db";
 import { createFixture, FakeClock, loopState, polesWithDecay, setTenantPolicy, tempJournal, testContext, type Fixture } from "./helpers";
 
@@ -31,12 +32,14 @@ const oos = await import("@/app/api/alarms/[alarmId]/out-of-service/route");
 const rts = await import("@/app/api/alarms/[alarmId]/return-to-service/route");
 const kpis = await import("@/app/api/alarms/kpis/route");
 const policies = await import("@/app/api/alarm-policies/route");
+const outbox = await import("@/app/api/outbox/route");
 
 const T0 = Date.UTC(2026, 3, 14, 9, 0, 0);
 let db: TestDatabase;
 let fx: Fixture;
 let svc: AlarmService;
 let clock: FakeClock;
+let mail: MailService;
 
 const url = (p: string) => `http://127.0.0.1${p}`;
 const get = (path: string) => new Request(url(path));
@@ -56,11 +59,14 @@ beforeAll(async () => {
   const ctx = testContext(clock);
   svc = await AlarmService.start(ctx, { sequelize: db.sequelize, journalPath: tempJournal(), quiet: true });
   ctx.services.set("alarms", svc);
+  mail = await startMail(ctx, { sinkPort: 0 });
+  ctx.services.set("mail", mail);
   setServerContext(ctx);
 });
 afterAll(async () => {
   setServerContext(null);
   await svc?.stop();
+  await mail?.stop();
   await db?.drop();
 });
 
@@ -167,6 +173,20 @@ describe("alarm API", () => {
     expect(g.settings.shelveMaxMinutes).toBe(240);
     expect(g.loops.map((l) => l.tag)).toEqual(["FIC-101"]);
     expect((await policies.GET(get("/api/alarm-policies?scope=site"))).status).toBe(422);
+  });
+
+  it("outbox: admin only, and only the tenant's own messages", async () => {
+    await mail.send({ to: ["board@harrowgate.example"], subject: "mine", text: "x", headers: { "X-Rimguard-Tenant": String(fx.tenantId) } });
+    await mail.send({ to: ["ops@quillon.example"], subject: "theirs", text: "y", headers: { "X-Rimguard-Tenant": String(fx.otherTenantId) } });
+    await mail.waitForMessages(2);
+    as("engineer");
+    expect((await outbox.GET()).status).toBe(403);
+    as("admin");
+    const body = (await (await outbox.GET()).json()) as { sink: boolean; messages: { subject: string; to: string[]; receivedAt: string }[] };
+    expect(body.sink).toBe(true);
+    expect(body.messages.map((m) => m.subject)).toEqual(["mine"]);
+    expect(body.messages[0]!.to).toEqual(["board@harrowgate.example"]);
+    expect(body.messages[0]!.receivedAt).toBe(new Date(clock.now()).toISOString());
   });
 
   it("KPIs of a period, with ISO times; 422 on a reversed period", async () => {

@@ -203,6 +203,28 @@ describe("alarm service", () => {
   });
 });
 
+describe("configuration changes without a restart", () => {
+  it("a loop added later gets its alarm points when the loop configuration changes", async () => {
+    const clock = new FakeClock(T0 + 8 * 3600_000);
+    const { svc, ctx } = await start(clock, tempJournal());
+    const [id] = (await db.sequelize.query(
+      `INSERT INTO loops (tenant_id, site_id, area_id, tag, slug, kind, units, pv_lo, pv_hi, telemetry_period_s, controller_period_s,
+        gain_value, ti_value, estimation_period_s, baseline_time_constant_s, created_at, updated_at)
+       VALUES (?,?,?,'TIC-140','tic-140','temperature','degC',0,200,2,2,1,60,2,120,UTC_TIMESTAMP(3),UTC_TIMESTAMP(3))`,
+      { replacements: [fx.tenantId, fx.siteId, fx.areaId] },
+    )) as unknown as [number];
+    expect(svc.list(fx.tenantId, { loopId: Number(id) })).toHaveLength(0);
+    ctx.bus.emit("loop:config-changed", Number(id));
+    for (let i = 0; i < 100 && svc.list(fx.tenantId, { loopId: Number(id) }).length === 0; i++) await new Promise((r) => setTimeout(r, 20));
+    const pts = svc.list(fx.tenantId, { loopId: Number(id) });
+    expect(pts.map((a) => a.loopTag)).toEqual(["TIC-140", "TIC-140", "TIC-140", "TIC-140"]);
+    svc.onTrackerUpdate(loopState(Number(id), fx.tenantId, clock.now(), polesWithDecay(0.45), { estimationPeriodS: 2 }));
+    expect(svc.list(fx.tenantId, { loopId: Number(id) }).find((a) => a.condition === "margin")!.state).toBe("unacknowledged");
+    await svc.flush();
+    await svc.stop();
+  });
+});
+
 describe("notifications by e-mail", () => {
   let mail: MailService;
 
@@ -226,6 +248,7 @@ describe("notifications by e-mail", () => {
     expect(first!.subject).toBe("[Rimguard] LOW (3) margin on FIC-101");
     expect(first!.text).toContain(`/alarms/${m.id}`);
     expect(first!.text).toContain("not a safety system");
+    expect(first!.text).toMatch(/decay ratio 0\.4\d* ≥ 0\.35/); // non-ASCII survives the SMTP round trip
     expect(first!.headers["x-rimguard-kind"]).toBe("initial");
 
     await clock.advance(60_000);
