@@ -1,0 +1,203 @@
+/**
+ * The live pipeline (ARCHITECTURE.md §1): broker -> ingest -> tracker registry -> history and
+ * realtime. Loop configurations come from MariaDB at start and on `loop:config-changed`;
+ * estimator state is checkpointed every minute and at shutdown and restored at start, so a
+ * restart resumes tracking instead of learning again. Started by server/services.ts.
+ */
+import type { Sequelize } from "sequelize";
+import { getSequelize } from "@/lib/db/sequelize";
+import { loadLoopConfigs, type LoadedLoop } from "@/lib/loops/configs";
+import { TELEMETRY_WILDCARD } from "@/lib/telemetry";
+import type { LoopStateDto } from "@/lib/types";
+import { startBroker, type BrokerOptions, type BrokerService } from "./broker";
+import { dbCredentials } from "./broker/db-credentials";
+import type { ServerContext, Service, ServiceHealth } from "./context";
+import { loadCheckpoints, loadLoopStates, saveCheckpoints } from "./history/checkpoints";
+import { startHistory, type HistoryOptions, type HistoryService } from "./history";
+import { Ingest, IngestCounters, LoopDirectory, type DeviceCounters } from "./ingest";
+import { startRealtimeEmitter, type RealtimeEmitter, type RealtimeEmitterOptions } from "./realtime/emitter";
+import { installWatch } from "./realtime/watch";
+import { TrackerRegistry } from "./tracking/registry";
+
+export interface PipelineOptions {
+  sequelize?: Sequelize;
+  broker?: Partial<BrokerOptions>;
+  history?: Partial<Omit<HistoryOptions, "sequelize">>;
+  realtime?: RealtimeEmitterOptions;
+  /** Estimator checkpoint period (ms). */
+  checkpointEveryMs?: number;
+  /** Staleness check period (ms). */
+  tickEveryMs?: number;
+}
+
+export interface IngestDiagnostics {
+  devices: DeviceCounters[];
+  totals: ReturnType<IngestCounters["totals"]>;
+}
+
+export interface PipelineService extends Service {
+  readonly broker: BrokerService;
+  readonly ingest: Ingest;
+  readonly registry: TrackerRegistry;
+  readonly history: HistoryService;
+  readonly emitter: RealtimeEmitter;
+  readonly directory: LoopDirectory;
+  /** Per-device counters of one tenant (the admin diagnostics route). */
+  ingestDiagnostics(tenantId: number): IngestDiagnostics;
+  /** The live state of a loop, if tracked. */
+  loopState(loopId: number): LoopStateDto | null;
+  reloadLoop(loopId: number): Promise<void>;
+  checkpointNow(): Promise<number>;
+}
+
+/** Find the running pipeline from a route handler (duck-typed: bundles may hold separate module copies). */
+export function isPipelineService(s: Service | undefined): s is PipelineService {
+  return !!s && s.name === "pipeline" && typeof (s as Partial<PipelineService>).ingestDiagnostics === "function";
+}
+
+export async function startPipeline(ctx: ServerContext, opts: PipelineOptions = {}): Promise<PipelineService> {
+  const sequelize = opts.sequelize ?? getSequelize(ctx.config);
+  const loaded = await loadLoopConfigs(sequelize);
+  const directory = new LoopDirectory(loaded.map((l) => l.route));
+  const configErrors = new Map<number, string>();
+  for (const l of loaded) if (l.error) configErrors.set(l.route.loopId, l.error);
+  const registry = new TrackerRegistry(
+    { bus: ctx.bus, clock: ctx.clock },
+    loaded.flatMap((l) => (l.config && l.enabled ? [l.config] : [])),
+  );
+
+  // Resume: estimators from their checkpoints, sample order from the last stored states.
+  const { entries, corrupt } = await loadCheckpoints(sequelize);
+  const restore = registry.restore(entries.filter((e) => registry.get(e.loopId)));
+  const lastStates = await loadLoopStates(sequelize);
+  const lastStateByLoop = new Map(lastStates.map((s) => [s.loopId, s]));
+
+  const history = await startHistory(ctx, { sequelize, ...opts.history });
+  const emitter = startRealtimeEmitter(ctx, opts.realtime);
+  const unwatch = ctx.io ? installWatch(ctx.io, { loopTenant: (id) => directory.get(id)?.tenantId ?? null }) : () => undefined;
+
+  const onUpdate = (state: LoopStateDto) => {
+    history.addState(state);
+    emitter.state(state);
+  };
+  ctx.bus.on("tracker:update", onUpdate);
+
+  const counters = new IngestCounters();
+  const ingest = new Ingest({
+    directory,
+    counters,
+    now: () => ctx.clock.now(),
+    sink: (route, samples, receivedAt) => {
+      registry.push(route.loopId, samples, receivedAt);
+      history.addSamples(route.loopId, samples);
+      emitter.samples(route.loopId, samples);
+    },
+  });
+  ingest.seedLastTimes(lastStates.flatMap((s) => (s.last ? [[s.loopId, s.last.t] as [number, number]] : [])));
+
+  const reloadLoop = async (loopId: number) => {
+    const [l]: (LoadedLoop | undefined)[] = await loadLoopConfigs(sequelize, loopId);
+    if (!l) {
+      directory.remove(loopId);
+      registry.removeLoop(loopId);
+      configErrors.delete(loopId);
+      return;
+    }
+    directory.upsert(l.route);
+    if (l.error) configErrors.set(loopId, l.error);
+    else configErrors.delete(loopId);
+    if (l.config && l.enabled) registry.upsertLoop(l.config);
+    else registry.removeLoop(loopId);
+  };
+  const onConfigChanged = (loopId: number) => {
+    reloadLoop(loopId).catch((err: unknown) => console.error(`[pipeline] reloading loop ${loopId} failed:`, err));
+  };
+  ctx.bus.on("loop:config-changed", onConfigChanged);
+
+  let checkpointError: string | null = null;
+  let lastCheckpoint: { at: number; loops: number } | null = null;
+  const checkpointNow = async () => {
+    try {
+      const n = await saveCheckpoints(sequelize, registry.checkpoint(), ctx.clock.now());
+      lastCheckpoint = { at: ctx.clock.now(), loops: n };
+      checkpointError = null;
+      return n;
+    } catch (err) {
+      checkpointError = err instanceof Error ? err.message : String(err);
+      console.error("[pipeline] checkpoint failed:", checkpointError);
+      return 0;
+    }
+  };
+
+  let broker: BrokerService;
+  try {
+    broker = await startBroker(ctx, { credentials: dbCredentials(sequelize), counters, ...opts.broker });
+  } catch (err) {
+    ctx.bus.off("tracker:update", onUpdate);
+    ctx.bus.off("loop:config-changed", onConfigChanged);
+    unwatch();
+    emitter.stop();
+    await history.stop();
+    throw err;
+  }
+  broker.subscribeInternal(TELEMETRY_WILDCARD, (m) => {
+    ingest.handle({ topic: m.topic, payload: m.payload, device: m.device, dup: m.dup, retain: m.retain });
+  });
+
+  const tickTimer = registry.startTimer(opts.tickEveryMs ?? 1_000);
+  const checkpointTimer = ctx.clock.setInterval(() => void checkpointNow(), opts.checkpointEveryMs ?? 60_000);
+
+  let stopped = false;
+  return {
+    name: "pipeline",
+    broker,
+    ingest,
+    registry,
+    history,
+    emitter,
+    directory,
+    ingestDiagnostics: (tenantId) => ({ devices: counters.snapshot(tenantId), totals: counters.totals(tenantId) }),
+    loopState: (loopId) => registry.get(loopId)?.current ?? lastStateByLoop.get(loopId) ?? null,
+    reloadLoop,
+    checkpointNow,
+    async health(): Promise<ServiceHealth> {
+      const [b, h] = await Promise.all([broker.health(), history.health()]);
+      const levels = ["ok", "degraded", "critical", "down"] as const;
+      let status = levels[Math.max(levels.indexOf(b.status), levels.indexOf(h.status))] ?? "ok";
+      if (status === "ok" && (checkpointError || configErrors.size > 0 || registry.rejected.size > 0)) status = "degraded";
+      if (stopped) status = "down";
+      return {
+        status,
+        detail: {
+          broker: b,
+          history: h,
+          ingest: counters.totals(),
+          realtime: emitter.stats(),
+          trackers: {
+            loops: registry.size,
+            routes: directory.size,
+            configErrors: Object.fromEntries(configErrors),
+            rejected: Object.fromEntries(registry.rejected),
+            restoredAtStart: restore.restored.length,
+            refusedAtStart: restore.refused,
+            corruptCheckpoints: corrupt,
+          },
+          checkpoint: { last: lastCheckpoint, error: checkpointError },
+        },
+      };
+    },
+    async stop() {
+      if (stopped) return;
+      stopped = true;
+      await broker.stop();
+      tickTimer.cancel();
+      checkpointTimer.cancel();
+      ctx.bus.off("loop:config-changed", onConfigChanged);
+      await checkpointNow();
+      ctx.bus.off("tracker:update", onUpdate);
+      unwatch();
+      emitter.stop();
+      await history.stop();
+    },
+  };
+}
