@@ -14,6 +14,7 @@ import { DEFAULT_POLICY } from "@/lib/alarms/policy";
 import { fetchJson, query } from "@/lib/client/fetcher";
 import { fmt, fmtAge, fmtTime } from "@/lib/client/format";
 import { parseHistory, snapshotAt } from "@/lib/client/history";
+import { RANGES, type RangeKey } from "@/lib/client/ranges";
 import { useLoop, useLoopSamples, useNow } from "@/lib/client/hooks";
 import { dataAge } from "@/lib/client/order";
 import { AnalysisPanel } from "./analysis-panel";
@@ -24,21 +25,13 @@ import { TrackerStateBadge } from "./tracker-state-badge";
 import { TrendChart } from "./trend-chart";
 import { ZPlaneLegend, ZPlaneMap } from "./z-plane-map";
 
-const RANGES = [
-  { key: "15m", label: "15 min", ms: 15 * 60e3 },
-  { key: "1h", label: "1 h", ms: 3600e3 },
-  { key: "6h", label: "6 h", ms: 6 * 3600e3 },
-  { key: "24h", label: "24 h", ms: 24 * 3600e3 },
-  { key: "7d", label: "7 d", ms: 7 * 86400e3 },
-  { key: "30d", label: "30 d", ms: 30 * 86400e3 },
-] as const;
 
 type LoopDetailData = LoopSummary & { mvLo?: number; mvHi?: number; mvUnits?: string };
 
-export function LoopDetail({ loopId, role }: { loopId: number; role: Role }) {
+export function LoopDetail({ loopId, role, initialRange = "1h" }: { loopId: number; role: Role; initialRange?: RangeKey }) {
   const { loop, state, trail, error } = useLoop(loopId);
   const now = useNow(1000);
-  const [range, setRange] = useState<(typeof RANGES)[number]["key"]>("1h");
+  const [range, setRange] = useState<RangeKey>(initialRange);
   const [anchor, setAnchor] = useState(() => Date.now());
   const rangeMs = RANGES.find((r) => r.key === range)!.ms;
   const width = useWidth();

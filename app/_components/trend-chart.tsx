@@ -68,6 +68,18 @@ function resolveColor(c: string): string {
   return m ? cssVar(m[1]!, "#888888") : c;
 }
 
+/**
+ * Record on the host element how many points were drawn and when the frame that shows them
+ * starts (performance.now()), for the UI benchmark and tests; costs one attribute write.
+ */
+function markDrawn(el: HTMLElement, data: uPlot.AlignedData): void {
+  const n = data[0]?.length ?? 0;
+  requestAnimationFrame(() => {
+    el.dataset.points = String(n);
+    el.dataset.drawnAt = performance.now().toFixed(1);
+  });
+}
+
 export function TrendChart(props: TrendChartProps) {
   const host = useRef<HTMLDivElement>(null);
   const plot = useRef<uPlot | null>(null);
@@ -162,6 +174,7 @@ export function TrendChart(props: TrendChartProps) {
         },
       };
       plot.current = new UPlot(opts, p.data, el);
+      markDrawn(el, p.data);
       p.onFirstDraw?.(performance.now() - t0);
       ro = new ResizeObserver(() => {
         if (plot.current && el.clientWidth > 0) plot.current.setSize({ width: el.clientWidth, height: latest.current.height ?? 220 });
@@ -180,6 +193,7 @@ export function TrendChart(props: TrendChartProps) {
     const u = plot.current;
     if (!u) return;
     u.setData(props.data, true);
+    if (host.current) markDrawn(host.current, props.data);
   }, [props.data, props.levels, props.bands, props.xRange]);
 
   return <div ref={host} role="img" aria-label={props.ariaLabel} className="w-full" data-testid="trend-chart" />;
