@@ -6,7 +6,7 @@
  */
 import type { Sequelize } from "sequelize";
 import { getSequelize } from "@/lib/db/sequelize";
-import { loadLoopConfigs, type LoadedLoop } from "@/lib/loops/configs";
+import { loadLoopConfigs, type LoadedLoop } from "@/server/ingest/loop-source";
 import { TELEMETRY_WILDCARD } from "@/lib/telemetry";
 import type { LoopStateDto } from "@/lib/types";
 import { startBroker, type BrokerOptions, type BrokerService } from "./broker";

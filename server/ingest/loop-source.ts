@@ -5,7 +5,7 @@
  * telemetry is counted, not refused as unknown).
  */
 import { QueryTypes, type Sequelize } from "sequelize";
-import { controllerTuningFromRow, type LoopConfig } from "@/server/tracking/types";
+import { controllerTuningFromRow, type LoopConfig } from "../tracking/types";
 
 export interface LoopRouteRow {
   loopId: number;
