@@ -107,7 +107,7 @@ export function parseSimulatorOptions(argv: string[], env: NodeJS.ProcessEnv, de
     batchSize: o.SIM_BATCH,
     durationS: o.SIM_DURATION_S,
     tickMs: o.SIM_TICK_MS,
-    brokerUrl: cfg.MQTT_URL ?? `mqtt://${cfg.MQTT_HOST}:${cfg.MQTT_PORT}`,
+    brokerUrl: cfg.MQTT_URL || `mqtt://${cfg.MQTT_HOST}:${cfg.MQTT_PORT}`,
     qos: o.SIM_QOS,
     useSeed: !o.SIM_NO_SEED,
     credentials: o.SIM_DEVICE_CREDENTIALS,

@@ -41,7 +41,19 @@ export function plantStaticGain(spec: PlantSpec): number {
  * ZOH discretisation of the plant (dead time included, fractional part too) at period T s.
  * The state holds the plant's own states and the delayed inputs the dead time needs.
  */
+const cache = new Map<string, DiscreteStateSpace>();
+
 export function discretisePlant(spec: PlantSpec, T: number): DiscreteStateSpace {
+  // load runs clone one plant thousands of times: discretise each (plant, T) once; the result is never mutated
+  const key = `${JSON.stringify(spec)}@${T}`;
+  const hit = cache.get(key);
+  if (hit) return hit;
+  const out = discretiseUncached(spec, T);
+  if (cache.size < 1000) cache.set(key, out);
+  return out;
+}
+
+function discretiseUncached(spec: PlantSpec, T: number): DiscreteStateSpace {
   const ss = c2dZohStateSpace(plantTransferFunction(spec), T, spec.deadTimeS);
   const n = ss.a.length;
   // the simulated plants are strictly proper: the PV at k does not depend on the MV at k

@@ -1,0 +1,442 @@
+/**
+ * `npm run bench:pipeline`: N loops x R Hz of simulated telemetry through the real broker into the
+ * trackers and out to a Socket.IO client in another process. A plain script (no assertions, no
+ * timing inside the test suite); loopback only; every process it starts stops by itself.
+ *
+ *   phase 1 "bare broker": the same simulator process and payloads into an embedded aedes whose
+ *           in-process subscriber only parses the JSON (the ceiling of this machine's intake);
+ *   phase 2 "pipeline":    embedded broker with device authentication (server/broker), ingest
+ *           (server/ingest), tracker registry (server/tracking), realtime emitter and watch
+ *           (server/realtime) on a Socket.IO server; a client process watches W loops.
+ *
+ * Reported: offered and delivered samples/s, loss, p50/p99 latency on `loop:samples` from the
+ * sample's timestamp (taken when the simulator produces it) to the client's receipt (this
+ * includes the publisher's batching wait, at most batch/R s), CPU and RSS per process, and the
+ * pipeline-to-bare ratio. The Socket.IO handshake here sets the tenant directly (the session
+ * cookie check of the real server is not what is measured).
+ *
+ * Flags: --loops N (default 5000) --hz R (10) --batch B (10) --seconds D (20) --watch W (50)
+ *        --state-every S (tracker state period in telemetry seconds, default 1) --with-states (the
+ *        client also joins its tenant room and receives the `loop:state` batches)
+ */
+import { spawn, type ChildProcess } from "node:child_process";
+import { readFileSync, writeFileSync, mkdtempSync, rmSync } from "node:fs";
+import { createServer } from "node:http";
+import net from "node:net";
+import os from "node:os";
+import path from "node:path";
+
+const here = import.meta.dirname;
+const root = path.resolve(here, "../..");
+
+function flag(name: string, def: number): number {
+  const i = process.argv.indexOf(`--${name}`);
+  if (i < 0) return def;
+  const v = Number(process.argv[i + 1]);
+  if (!Number.isFinite(v) || v <= 0) throw new Error(`--${name} needs a positive number`);
+  return v;
+}
+
+function quantile(sorted: number[], q: number): number | null {
+  if (sorted.length === 0) return null;
+  return sorted[Math.min(sorted.length - 1, Math.floor(q * sorted.length))]!;
+}
+
+/** CPU seconds (user + system) and RSS bytes of a process, from /proc (Linux). */
+function procStats(pid: number): { cpuS: number; rss: number } | null {
+  try {
+    const stat = readFileSync(`/proc/${pid}/stat`, "utf8");
+    const fields = stat.slice(stat.lastIndexOf(")") + 2).split(" ");
+    const ticks = Number(fields[11]) + Number(fields[12]);
+    const status = readFileSync(`/proc/${pid}/status`, "utf8");
+    const rssKb = Number(/VmRSS:\s+(\d+)/.exec(status)?.[1] ?? 0);
+    return { cpuS: ticks / 100, rss: rssKb * 1024 };
+  } catch {
+    return null;
+  }
+}
+
+/** Track a child's last known CPU and RSS (it stops by itself; /proc vanishes with it). */
+function watchChild(child: ChildProcess): { last: () => { cpuS: number; peakRss: number } } {
+  let cpuS = 0;
+  let peakRss = 0;
+  const timer = setInterval(() => {
+    const s = child.pid ? procStats(child.pid) : null;
+    if (s) {
+      cpuS = s.cpuS;
+      peakRss = Math.max(peakRss, s.rss);
+    }
+  }, 250);
+  child.once("exit", () => clearInterval(timer));
+  return { last: () => ({ cpuS, peakRss }) };
+}
+
+// ---------------------------------------------------------------- client process
+async function clientMain(): Promise<void> {
+  const { io } = await import("socket.io-client");
+  const [url, watchArg, loopsArg, withStates] = process.argv.slice(process.argv.indexOf("--client") + 1);
+  const watch = Number(watchArg);
+  const loops = Number(loopsArg);
+  const socket = io(url!, { transports: ["websocket"], reconnection: false });
+  const lat: number[] = [];
+  const perLoop = new Map<number, number>();
+  let states = 0;
+  socket.on("loop:samples", (batch: { loopId: number; samples: { t: number }[] }) => {
+    const now = Date.now();
+    for (const s of batch.samples) lat.push(now - s.t);
+    perLoop.set(batch.loopId, (perLoop.get(batch.loopId) ?? 0) + batch.samples.length);
+  });
+  socket.on("loop:state", (batch: unknown[]) => {
+    states += batch.length;
+  });
+  await new Promise<void>((resolve, reject) => {
+    socket.once("connect", () => resolve());
+    socket.once("connect_error", reject);
+  });
+  const step = Math.max(1, Math.floor(loops / watch));
+  const ids: number[] = [];
+  for (let i = 0; i < watch; i++) ids.push(1 + i * step);
+  await Promise.all(ids.map((id) => new Promise<void>((resolve) => socket.emit("loop:watch", id, () => resolve()))));
+  if (withStates === "1") socket.emit("bench:states" as never);
+  process.stdout.write(`READY\n`);
+  const finish = () => {
+    lat.sort((a, b) => a - b);
+    const mem = process.memoryUsage().rss;
+    const cpu = process.cpuUsage();
+    process.stdout.write(
+      `RESULT ${JSON.stringify({ received: lat.length, perLoop: Object.fromEntries(perLoop), p50: quantile(lat, 0.5), p99: quantile(lat, 0.99), max: lat.at(-1) ?? null, states, cpuS: (cpu.user + cpu.system) / 1e6, rss: mem })}\n`,
+    );
+    socket.close();
+    process.exit(0);
+  };
+  process.on("SIGTERM", finish);
+  setTimeout(finish, 10 * 60_000).unref(); // never outlive a stuck parent
+}
+
+// ---------------------------------------------------------------- server side
+interface SimRun {
+  sent: number;
+  cpuS: number;
+  peakRss: number;
+  lastLine: string;
+}
+
+function runSimulator(port: number, scenarioFile: string, opts: { loops: number; hz: number; batch: number; seconds: number }): Promise<SimRun> {
+  const child = spawn(
+    process.execPath,
+    [
+      "--import",
+      "tsx",
+      path.join(root, "simulators/index.ts"),
+      "--scenario",
+      scenarioFile,
+      "--no-seed",
+      "--loops",
+      String(opts.loops),
+      "--rate",
+      String(opts.hz),
+      "--batch",
+      String(opts.batch),
+      "--duration",
+      String(opts.seconds),
+      "--tick-ms",
+      "20",
+    ],
+    {
+      cwd: root,
+      env: {
+        ...withoutMqttUrl(process.env),
+        MQTT_HOST: "127.0.0.1",
+        MQTT_PORT: String(port),
+        SIM_SPEEDUP: "1",
+        SIM_DEVICE_CREDENTIALS: JSON.stringify({ "sim-lab": { username: "bench-key", password: "bench-secret-0123456789", clientId: "rg-sim-bench" } }),
+      },
+      stdio: ["ignore", "pipe", "pipe"],
+    },
+  );
+  const stats = watchChild(child);
+  let out = "";
+  child.stdout!.on("data", (d: Buffer) => (out += d.toString()));
+  child.stderr!.on("data", (d: Buffer) => (out += d.toString()));
+  return new Promise((resolve) => {
+    child.once("exit", () => {
+      const m = /stopped \([^)]*\): (\d+) samples/.exec(out);
+      const lines = out.trim().split("\n");
+      resolve({ sent: m ? Number(m[1]) : 0, ...stats.last(), lastLine: lines.at(-1) ?? "" });
+    });
+  });
+}
+
+function withoutMqttUrl(env: NodeJS.ProcessEnv): NodeJS.ProcessEnv {
+  const { MQTT_URL: _ignored, ...rest } = env;
+  return rest;
+}
+
+function writeScenario(dir: string): string {
+  // One 1 Hz loop, cloned --loops times and sped to --hz by the simulator (rate multiplier).
+  const file = path.join(dir, "bench.json");
+  writeFileSync(
+    file,
+    JSON.stringify({
+      name: "bench",
+      description: "Load run: clones of one first-order loop.",
+      activity: { setpointEveryS: 120 },
+      inlineLoops: [
+        {
+          tenantSlug: "sim-lab",
+          siteSlug: "bench-1",
+          tag: "FIC-900",
+          telemetryPeriodS: 1,
+          controllerPeriodS: 1,
+          plant: { type: "first-order", gain: 1.2, timeConstantS: 15, deadTimeS: 2 },
+          controller: { kp: 1.5, ti: 15 },
+          pvRange: [0, 100],
+        },
+      ],
+    }),
+  );
+  return file;
+}
+
+async function bare(scenarioFile: string, opts: { loops: number; hz: number; batch: number; seconds: number }) {
+  const { Aedes } = await import("aedes");
+  const broker = await Aedes.createBroker();
+  let received = 0;
+  let first = 0;
+  let last = 0;
+  await new Promise<void>((resolve) =>
+    broker.subscribe(
+      "rg/+/+/+/samples",
+      (packet, cb) => {
+        const v = JSON.parse((packet.payload as Buffer).toString("utf8")) as unknown;
+        const n = Array.isArray(v) ? v.length : 1;
+        const now = Date.now();
+        if (received === 0) first = now;
+        last = now;
+        received += n;
+        cb();
+      },
+      resolve,
+    ),
+  );
+  const server = net.createServer((socket) => {
+    socket.setNoDelay(true);
+    broker.handle(socket);
+  });
+  await new Promise<void>((r) => server.listen(0, "127.0.0.1", r));
+  const port = (server.address() as net.AddressInfo).port;
+  const cpu0 = process.cpuUsage();
+  const sim = await runSimulator(port, scenarioFile, opts);
+  await new Promise((r) => setTimeout(r, 1500));
+  const cpu = process.cpuUsage(cpu0);
+  await new Promise<void>((r) => broker.close(() => r()));
+  await new Promise<void>((r) => server.close(() => r()));
+  return { sim, received, spanS: (last - first) / 1000, brokerCpuS: (cpu.user + cpu.system) / 1e6, rss: process.memoryUsage().rss };
+}
+
+async function pipeline(scenarioFile: string, opts: { loops: number; hz: number; batch: number; seconds: number; watch: number; stateEvery: number; withStates: boolean }) {
+  const { Server } = await import("socket.io");
+  const { getConfig } = await import("@/lib/config");
+  const { Bus, systemClock } = await import("@/server/context");
+  const { startBroker, StaticCredentials, hashDeviceSecret } = await import("@/server/broker");
+  const { Ingest, LoopDirectory } = await import("@/server/ingest");
+  const { TrackerRegistry } = await import("@/server/tracking/registry");
+  const { startRealtimeEmitter } = await import("@/server/realtime/emitter");
+  const { installWatch } = await import("@/server/realtime/watch");
+  const { tenantRoom } = await import("@/lib/realtime/events");
+  const { slugify } = await import("@/lib/slug");
+  const { cloneTag } = await import("@/simulators/fleet");
+  type Ctx = import("@/server/context").ServerContext;
+
+  const config = getConfig(withoutMqttUrl(process.env));
+  const http = createServer();
+  const io = new Server(http, { transports: ["websocket"], destroyUpgrade: false }) as unknown as NonNullable<Ctx["io"]>;
+  io.use((socket, next) => {
+    socket.data = { userId: 1, tenantId: 1, role: "viewer" };
+    next();
+  });
+  io.on("connection", (socket) => {
+    socket.on("bench:states" as never, () => void socket.join(tenantRoom(1)));
+  });
+  await new Promise<void>((r) => http.listen(0, "127.0.0.1", r));
+  const httpPort = (http.address() as net.AddressInfo).port;
+  const ctx: Ctx = { config, io, bus: new Bus(), clock: systemClock, services: new Map() };
+
+  const cred = {
+    keyId: "bench-key",
+    tenantId: 1,
+    tenantSlug: "sim-lab",
+    siteId: null,
+    siteSlug: null,
+    clientId: "rg-sim-bench",
+    secretHash: hashDeviceSecret(config.DEVICE_SECRET_PEPPER, "bench-secret-0123456789"),
+    revoked: false,
+  };
+  const broker = await startBroker(ctx, { credentials: new StaticCredentials([cred]), host: "127.0.0.1", port: 0, mqttUrl: null });
+  const routes = [];
+  const configs = [];
+  for (let i = 0; i < opts.loops; i++) {
+    const tag = cloneTag("FIC-900", i);
+    routes.push({ loopId: i + 1, tenantId: 1, siteId: 1, tenantSlug: "sim-lab", siteSlug: "bench-1", loopSlug: slugify(tag) });
+    const T = 1 / opts.hz;
+    configs.push({
+      id: i + 1,
+      tenantId: 1,
+      siteId: 1,
+      tag,
+      pvLo: 0,
+      pvHi: 100,
+      mvLo: 0,
+      mvHi: 100,
+      mvLimitLo: 0,
+      mvLimitHi: 100,
+      telemetryPeriodS: T,
+      controllerPeriodS: T,
+      // decimated to about 0.5 s, as the product's period proposal would for this plant
+      estimationPeriodS: Math.max(T, Math.round(0.5 / T) * T),
+      controller: { kp: 1.5, ti: 15, td: 0, tf: 0, action: "reverse" as const, form: "ideal" as const },
+      na: 1,
+      nb: 2,
+      nk: 5,
+    });
+  }
+  const registry = new TrackerRegistry(ctx, configs, { stateEveryS: opts.stateEvery });
+  const emitter = startRealtimeEmitter(ctx);
+  let updates = 0;
+  ctx.bus.on("tracker:update", (s) => {
+    updates++;
+    emitter.state(s);
+  });
+  const perLoopAccepted = new Map<number, number>();
+  const ingest = new Ingest({
+    directory: new LoopDirectory(routes),
+    now: () => Date.now(),
+    sink: (route, samples, at) => {
+      registry.push(route.loopId, samples, at);
+      emitter.samples(route.loopId, samples);
+      perLoopAccepted.set(route.loopId, (perLoopAccepted.get(route.loopId) ?? 0) + samples.length);
+    },
+  });
+  let accepted = 0;
+  let rejected = 0;
+  let first = 0;
+  let last = 0;
+  const unsubscribe = broker.subscribeInternal("rg/+/+/+/samples", (msg) => {
+    const o = ingest.handle(msg);
+    const now = Date.now();
+    if (accepted === 0) first = now;
+    last = now;
+    accepted += o.accepted;
+    for (const n of Object.values(o.rejected)) rejected += n ?? 0;
+  });
+  const unwatch = installWatch(io, { loopTenant: (id) => (id >= 1 && id <= opts.loops ? 1 : null) });
+  const tick = registry.startTimer(1000);
+
+  const client = spawn(process.execPath, ["--import", "tsx", path.join(here, "pipeline.bench.ts"), "--client", `http://127.0.0.1:${httpPort}`, String(opts.watch), String(opts.loops), opts.withStates ? "1" : "0"], {
+    cwd: root,
+    stdio: ["ignore", "pipe", "inherit"],
+  });
+  const clientStats = watchChild(client);
+  let clientOut = "";
+  client.stdout!.on("data", (d: Buffer) => (clientOut += d.toString()));
+  const deadline = Date.now() + 60_000;
+  while (!clientOut.includes("READY") && Date.now() < deadline) await new Promise((r) => setTimeout(r, 100));
+  if (!clientOut.includes("READY")) throw new Error("bench client did not connect");
+
+  const addr = broker.address();
+  if (!addr) throw new Error("embedded broker has no address");
+  const cpu0 = process.cpuUsage();
+  const sim = await runSimulator(addr.port, scenarioFile, opts);
+  await new Promise((r) => setTimeout(r, 2000)); // drain: emitter flushes every 200/500 ms
+  emitter.flush();
+  await new Promise((r) => setTimeout(r, 500));
+  const cpu = process.cpuUsage(cpu0);
+  const serverRss = process.memoryUsage().rss;
+  const clientCpuBefore = clientStats.last();
+  client.kill("SIGTERM");
+  await new Promise<void>((r) => client.once("exit", () => r()));
+  const m = /RESULT (.*)/.exec(clientOut);
+  const clientResult = m ? (JSON.parse(m[1]!) as { received: number; perLoop: Record<string, number>; p50: number | null; p99: number | null; max: number | null; states: number; cpuS: number; rss: number }) : null;
+  let watchedAccepted = 0;
+  for (const id of Object.keys(clientResult?.perLoop ?? {})) watchedAccepted += perLoopAccepted.get(Number(id)) ?? 0;
+
+  tick.cancel();
+  unwatch();
+  unsubscribe();
+  emitter.stop();
+  await broker.stop();
+  await new Promise<void>((r) => io.close(() => r()));
+  return {
+    sim,
+    accepted,
+    rejected,
+    spanS: (last - first) / 1000,
+    updates,
+    serverCpuS: (cpu.user + cpu.system) / 1e6,
+    serverRss,
+    client: clientResult,
+    clientPeakRss: clientCpuBefore.peakRss,
+    watchedAccepted,
+  };
+}
+
+async function main(): Promise<void> {
+  const opts = {
+    loops: Math.round(flag("loops", 5000)),
+    hz: flag("hz", 10),
+    batch: Math.round(flag("batch", 10)),
+    seconds: flag("seconds", 20),
+    watch: Math.round(flag("watch", 50)),
+    stateEvery: flag("state-every", 1),
+    withStates: process.argv.includes("--with-states"),
+  };
+  const dir = mkdtempSync(path.join(os.tmpdir(), "rg-bench-"));
+  try {
+    const scenario = writeScenario(dir);
+    const offered = opts.loops * opts.hz;
+    console.log(`pipeline bench: ${opts.loops} loops x ${opts.hz} Hz = ${offered} samples/s offered for ${opts.seconds} s; batch ${opts.batch} samples per MQTT message; ${os.cpus().length} CPUs, load average ${os.loadavg()[0]!.toFixed(1)}`);
+
+    console.log("phase 1: bare broker (aedes + in-process JSON.parse)");
+    const b = await bare(scenario, opts);
+    // delivered rate over the simulator's run time (its --duration)
+    const bareRate = b.received / opts.seconds;
+    if (b.sim.sent === 0) console.log(`  simulator: ${b.sim.lastLine}`);
+    console.log(`  simulator sent ${b.sim.sent} samples (cpu ${b.sim.cpuS.toFixed(1)} s, rss ${(b.sim.peakRss / 2 ** 20).toFixed(0)} MiB); broker received ${b.received} (${b.sim.sent - b.received} lost) = ${bareRate.toFixed(0)} samples/s; broker process cpu ${b.brokerCpuS.toFixed(1)} s`);
+
+    console.log("phase 2: pipeline (authenticated broker -> ingest -> trackers -> Socket.IO client process)");
+    const p = await pipeline(scenario, opts);
+    const rate = p.accepted / opts.seconds;
+    const loss = p.sim.sent - p.accepted;
+    console.log(`  simulator sent ${p.sim.sent} samples (cpu ${p.sim.cpuS.toFixed(1)} s, rss ${(p.sim.peakRss / 2 ** 20).toFixed(0)} MiB)`);
+    console.log(`  ingest accepted ${p.accepted}, rejected ${p.rejected}, lost ${loss} = ${rate.toFixed(0)} samples/s sustained; tracker updates ${p.updates}`);
+    console.log(`  server process cpu ${p.serverCpuS.toFixed(1)} s over ~${(opts.seconds + 2.5).toFixed(0)} s (${((100 * p.serverCpuS) / (opts.seconds + 2.5)).toFixed(0)} % of one core), rss ${(p.serverRss / 2 ** 20).toFixed(0)} MiB`);
+    if (p.client) {
+      console.log(
+        `  client (${opts.watch} watched loops): received ${p.client.received} of ${p.watchedAccepted} accepted for them (${p.watchedAccepted - p.client.received} missing); latency p50 ${p.client.p50} ms, p99 ${p.client.p99} ms, max ${p.client.max} ms; loop:state summaries ${p.client.states}; cpu ${p.client.cpuS.toFixed(1)} s, rss ${(p.client.rss / 2 ** 20).toFixed(0)} MiB`,
+      );
+    } else {
+      console.log("  client produced no result");
+    }
+    console.log(`ratio pipeline / bare broker, delivered samples/s: ${bareRate > 0 ? (rate / bareRate).toFixed(3) : "n/a"}`);
+    const bareCost = b.received > 0 ? (1e6 * b.brokerCpuS) / b.received : NaN;
+    const pipeCost = p.accepted > 0 ? (1e6 * p.serverCpuS) / p.accepted : NaN;
+    console.log(`server CPU per sample: bare broker ${bareCost.toFixed(1)} us, pipeline ${pipeCost.toFixed(1)} us, ratio ${(pipeCost / bareCost).toFixed(2)}`);
+  } finally {
+    rmSync(dir, { recursive: true, force: true });
+  }
+}
+
+if (process.argv.includes("--client")) {
+  clientMain().catch((e: unknown) => {
+    console.error(e);
+    process.exit(1);
+  });
+} else {
+  main().then(
+    () => process.exit(0),
+    (e: unknown) => {
+      console.error(e);
+      process.exit(1);
+    },
+  );
+}
