@@ -205,8 +205,34 @@ export function closedLoopParts(plant: ArxModel | DiscreteTf, controller: QTf): 
  * @throws PeriodMismatchError when plant.T and controller.T differ (relative 1e-9).
  */
 export function closedLoopPolynomial(plant: ArxModel | DiscreteTf, controller: QTf): number[] {
-  const { open, loop } = closedLoopParts(plant, controller);
-  return polyAdd(open, loop);
+  if (!isArx(plant)) {
+    const { open, loop } = closedLoopParts(plant, controller);
+    return polyAdd(open, loop);
+  }
+  // ARX plant: one pass with plain loops (this runs at every tracker update).
+  if (!samePeriod(plant.T, controller.T)) throw new PeriodMismatchError(plant.T, controller.T, "plant and controller");
+  const { a, b, nk } = plant;
+  const cn = controller.num;
+  const cd = controller.den;
+  if (!Number.isInteger(nk) || nk < 1) throw new ControlArgumentError(`plant.nk must be an integer >= 1 (got ${nk})`);
+  if (b.length === 0) throw new ControlArgumentError("plant.b is empty");
+  if (cd.length === 0 || cd[0] === 0) throw new ControlArgumentError("controller.den[0] must be nonzero (a causal controller)");
+  if (cn.length === 0) throw new ControlArgumentError("controller.num is empty");
+  const len = Math.max(a.length + cd.length, nk + b.length + cn.length - 1);
+  const out = new Array<number>(len).fill(0);
+  for (let j = 0; j < cd.length; j++) out[j]! += cd[j]!;
+  for (let i = 0; i < a.length; i++) for (let j = 0; j < cd.length; j++) out[i + 1 + j]! += a[i]! * cd[j]!;
+  for (let i = 0; i < b.length; i++) for (let j = 0; j < cn.length; j++) out[nk + i + j]! += b[i]! * cn[j]!;
+  for (let i = 0; i < len; i++) {
+    if (!Number.isFinite(out[i]!)) {
+      checkFinite(a, "plant.a");
+      checkFinite(b, "plant.b");
+      checkFinite(cn, "controller.num");
+      checkFinite(cd, "controller.den");
+      throw new NonFiniteInputError(`closed-loop coefficient ${i}`);
+    }
+  }
+  return out;
 }
 
 /**

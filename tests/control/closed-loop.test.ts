@@ -8,7 +8,7 @@ import {
 } from "@/lib/control/closed-loop";
 import { c2dZoh, c2dZohStateSpace } from "@/lib/control/discretize";
 import { polyRoots } from "@/lib/control/roots";
-import { ControlArgumentError, PeriodMismatchError } from "@/lib/control/errors";
+import { ControlArgumentError, NonFiniteInputError, PeriodMismatchError } from "@/lib/control/errors";
 import type { Complex, QTf } from "@/lib/control/types";
 
 const radius = (p: number[]): number => Math.max(...polyRoots(p).map((z) => Math.hypot(z.re, z.im)));
@@ -169,6 +169,14 @@ describe("closedLoopPolynomial", () => {
     expect(() => closedLoopPolynomial({ a: [-0.8], b: [0.2], nk: 1, T: 1 }, discretePid({ kp: 1, ti: 5, T: 2 }))).toThrow(
       PeriodMismatchError,
     );
+  });
+
+  it("names non-finite coefficients and a non-causal controller", () => {
+    const pi = discretePid({ kp: 1, ti: 5, T: 1 });
+    expect(() => closedLoopPolynomial({ a: [Number.NaN], b: [0.2], nk: 1, T: 1 }, pi)).toThrow(NonFiniteInputError);
+    expect(() => closedLoopPolynomial({ num: [0.2], den: [1, Number.POSITIVE_INFINITY], T: 1 }, pi)).toThrow(NonFiniteInputError);
+    expect(() => closedLoopPolynomial({ a: [-0.8], b: [0.2], nk: 1, T: 1 }, { num: [1], den: [0, 1], T: 1 })).toThrow(ControlArgumentError);
+    expect(() => closedLoopPolynomial({ a: [-0.8], b: [0.2], nk: 0, T: 1 }, pi)).toThrow(ControlArgumentError);
   });
 
   it("has an allocation-free ARX form that agrees with closedLoopPolynomial", () => {
