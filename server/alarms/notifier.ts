@@ -62,6 +62,22 @@ export class AlarmNotifier {
     this.track(this.handleAnnounce(alarm, areaId));
   }
 
+  /**
+   * After a restart: re-arm the escalations of an alarm that is still unacknowledged, counted
+   * from `announcedAt` (epoch ms); `alreadyEscalated(ruleId)` says whether that rule's
+   * escalation was sent before the restart.
+   */
+  async resume(alarm: AlarmDto, areaId: number | null, announcedAt: number, alreadyEscalated: (ruleId: number) => Promise<boolean>): Promise<void> {
+    const rules = (await this.deps.rules(alarm.tenantId)).filter(
+      (r) => r.escalationMinutes != null && (r.areaId == null || r.areaId === areaId) && PRIORITY_RANK[alarm.priority] >= PRIORITY_RANK[r.minPriority],
+    );
+    for (const rule of rules) {
+      if (await alreadyEscalated(rule.id)) continue;
+      const wait = Math.max(0, announcedAt + (rule.escalationMinutes as number) * 60_000 - this.deps.clock.now());
+      this.scheduleEscalation(rule, alarm, wait);
+    }
+  }
+
   /** The alarm no longer needs anyone (acknowledged, cleared and acknowledged, shelved, ...). */
   settle(alarmId: number): void {
     for (const [key, t] of this.escalations) {
@@ -109,7 +125,7 @@ export class AlarmNotifier {
     }
   }
 
-  private scheduleEscalation(rule: NotificationRuleRow, alarm: AlarmDto): void {
+  private scheduleEscalation(rule: NotificationRuleRow, alarm: AlarmDto, waitMs = (rule.escalationMinutes as number) * 60_000): void {
     const key = `${alarm.id}:${rule.id}`;
     this.escalations.get(key)?.cancel();
     const activation = alarm.activatedAt;
@@ -119,7 +135,7 @@ export class AlarmNotifier {
       // Escalate only the same activation, still unacknowledged.
       if (!now || now.state !== "unacknowledged" || now.activatedAt !== activation) return;
       this.track(this.deliver(rule, now, "escalation"));
-    }, (rule.escalationMinutes as number) * 60_000);
+    }, waitMs);
     this.escalations.set(key, handle);
   }
 

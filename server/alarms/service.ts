@@ -176,6 +176,7 @@ export class AlarmService implements Service {
       svc.replay(entries);
       svc.armShelveTimers();
       svc.subscribe();
+      await svc.resumeEscalations();
     } catch (err) {
       journal.close();
       throw err;
@@ -286,6 +287,25 @@ export class AlarmService implements Service {
       this.writer.enqueue(e);
     }
     if (entries.length) this.log(`[alarms] replaying ${entries.length} journal entr${entries.length === 1 ? "y" : "ies"} into the database`);
+  }
+
+  /** Unacknowledged alarms escalate after a restart as they would have without it. */
+  private async resumeEscalations(): Promise<void> {
+    for (const rec of this.points.values()) {
+      if (rec.point.state !== "unacknowledged") continue;
+      const since = rec.point.changedAt;
+      try {
+        await this.notifier.resume(this.toDto(rec), this.loops.get(rec.loopId)?.areaId ?? null, since, async (ruleId) => {
+          const rows = (await this.sequelize.query(
+            "SELECT id FROM notifications_sent WHERE alarm_id = ? AND rule_id = ? AND kind = 'escalation' AND sent_at >= ? LIMIT 1",
+            { replacements: [rec.id, ruleId, new Date(since)], type: QueryTypes.SELECT },
+          )) as unknown[];
+          return rows.length > 0;
+        });
+      } catch (err) {
+        this.log(`[alarms] could not re-arm escalations of alarm ${rec.id}: ${err instanceof Error ? err.message : String(err)}`);
+      }
+    }
   }
 
   private armShelveTimers(): void {

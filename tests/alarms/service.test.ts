@@ -219,7 +219,11 @@ describe("configuration changes without a restart", () => {
     const pts = svc.list(fx.tenantId, { loopId: Number(id) });
     expect(pts.map((a) => a.loopTag)).toEqual(["TIC-140", "TIC-140", "TIC-140", "TIC-140"]);
     svc.onTrackerUpdate(loopState(Number(id), fx.tenantId, clock.now(), polesWithDecay(0.45), { estimationPeriodS: 2 }));
-    expect(svc.list(fx.tenantId, { loopId: Number(id) }).find((a) => a.condition === "margin")!.state).toBe("unacknowledged");
+    const tic = svc.list(fx.tenantId, { loopId: Number(id) }).find((a) => a.condition === "margin")!;
+    expect(tic.state).toBe("unacknowledged");
+    // leave it normal (an unacknowledged alarm would escalate when a later test starts the service)
+    svc.onTrackerUpdate(loopState(Number(id), fx.tenantId, clock.now(), polesWithDecay(0.1), { estimationPeriodS: 2 }));
+    svc.acknowledge(fx.users.operator, tic.id, null);
     await svc.flush();
     await svc.stop();
   });
@@ -287,5 +291,56 @@ describe("notifications by e-mail", () => {
     await svc.flush();
     await svc.stop();
     await mail.stop();
+  });
+
+  it("after a restart, a still-unacknowledged alarm escalates on time, and only once", async () => {
+    const clock = new FakeClock(T0 + 12 * 3600_000);
+    const journal = tempJournal();
+    const ctx1 = testContext(clock);
+    const mail1 = await startMail(ctx1, { sinkPort: 0 });
+    ctx1.services.set("mail", mail1);
+    const a = await start(clock, journal, ctx1);
+    const upd = (svc: AlarmService, d: number) => svc.onTrackerUpdate(loopState(fx.loopId, fx.tenantId, clock.now(), polesWithDecay(d)));
+    const m = marginPoint(a.svc);
+    // Bring the margin alarm back to normal, then announce it afresh (12 h after the last message).
+    upd(a.svc, 0.1);
+    if (marginPoint(a.svc).state === "rtn-unacknowledged") a.svc.acknowledge(fx.users.operator, m.id, null);
+    upd(a.svc, 0.4);
+    await a.svc.notifier.idle();
+    await mail1.waitForMessages(1);
+    expect(mail1.outbox()[0]!.headers["x-rimguard-kind"]).toBe("initial");
+    await clock.advance(2 * 60_000);
+    await a.svc.stop();
+    await mail1.stop();
+
+    const ctx2 = testContext(clock);
+    const mail2 = await startMail(ctx2, { sinkPort: 0 });
+    ctx2.services.set("mail", mail2);
+    const b = await start(clock, journal, ctx2);
+    expect(marginPoint(b.svc).state).toBe("unacknowledged");
+    await clock.advance(2 * 60_000 + 59_000);
+    await b.svc.notifier.idle();
+    expect(mail2.outbox()).toHaveLength(0);
+    await clock.advance(1000); // 5 min after the announcement
+    await b.svc.notifier.idle();
+    const [esc] = await mail2.waitForMessages(1);
+    expect(esc!.headers["x-rimguard-kind"]).toBe("escalation");
+    await clock.advance(30 * 60_000);
+    await b.svc.notifier.idle();
+    expect(mail2.outbox()).toHaveLength(1);
+    await b.svc.flush();
+    await b.svc.stop();
+
+    // A third start finds the escalation in notifications_sent and does not repeat it.
+    const ctx3 = testContext(clock);
+    const mail3 = await startMail(ctx3, { sinkPort: 0 });
+    ctx3.services.set("mail", mail3);
+    const c = await start(clock, journal, ctx3);
+    await clock.advance(10 * 60_000);
+    await c.svc.notifier.idle();
+    expect(mail3.outbox()).toHaveLength(0);
+    await c.svc.stop();
+    await mail2.stop();
+    await mail3.stop();
   });
 });
