@@ -1,0 +1,17 @@
+/** GET /api/loops/[loopId]/history?from&to&maxPoints — down-sampled history and pole snapshots (viewer). */
+import { NextResponse } from "next/server";
+import { requireContext } from "@/lib/auth/guard";
+import { NotFoundError } from "@/lib/errors";
+import { handle, parseQuery } from "@/lib/http";
+import { getLoopHistory, historySchema, loopIdSchema } from "@/lib/loops";
+
+export const dynamic = "force-dynamic";
+
+export const GET = handle(async (req: Request, { params }: { params: Promise<{ loopId: string }> }) => {
+  const ctx = await requireContext("viewer");
+  const id = loopIdSchema.parse((await params).loopId);
+  const q = parseQuery(req, historySchema);
+  const history = await getLoopHistory(ctx, id, q.from, q.to, q.maxPoints, { tier: q.tier });
+  if (!history) throw new NotFoundError("Loop");
+  return NextResponse.json(history);
+});

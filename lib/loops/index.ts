@@ -1,0 +1,202 @@
+/**
+ * Read-side query functions for loops (the REST API and server components). Every query is
+ * scoped to the caller's tenant; another tenant's loop is "not found" (null), never "forbidden".
+ * Returns plain typed objects. The live tracker state comes from the running pipeline when there
+ * is one, else from the last state stored in loop_states.
+ */
+import { QueryTypes, type Sequelize } from "sequelize";
+import { z } from "zod";
+import { getSequelize } from "@/lib/db/sequelize";
+import { getServerContext } from "@/lib/server-context";
+import type { AlarmDto, LoopKind, LoopStateDto, LoopSummary, TenantContext } from "@/lib/types";
+
+export { getLoopHistory, historySchema, type LoopHistory, type HistoryPoint, type HistorySnapshot } from "./history";
+
+export interface LoopDeps {
+  sequelize?: Sequelize;
+  /** Live state lookup (default: the running pipeline's trackers). */
+  liveState?: (loopId: number) => LoopStateDto | null;
+}
+
+type Ctx = Pick<TenantContext, "tenantId">;
+
+export interface LoopDetail extends LoopSummary {
+  mvLo: number;
+  mvHi: number;
+  mvUnits: string;
+  mvLimitLo: number | null;
+  mvLimitHi: number | null;
+  telemetryPeriodS: number;
+  controllerPeriodS: number;
+  estimationProposedS: number | null;
+  baselineTimeConstantS: number | null;
+  tuning: {
+    action: "reverse" | "direct";
+    form: "ideal" | "parallel" | "series";
+    gainKind: "gain" | "pb";
+    gainValue: number;
+    tiValue: number | null;
+    tiUnits: "s" | "min" | "repeats-per-min";
+    tdValue: number;
+    tdUnits: "s" | "min";
+  };
+  model: { na: number; nb: number; nk: number };
+  enabled: boolean;
+}
+
+interface Row {
+  id: number;
+  tenant_id: number;
+  site_id: number;
+  site_name: string;
+  area_name: string | null;
+  tag: string;
+  slug: string;
+  description: string;
+  kind: LoopKind;
+  units: string;
+  pv_lo: number;
+  pv_hi: number;
+  estimation_period_s: number;
+  stored_state: string | LoopStateDto | null;
+}
+
+interface DetailRow extends Row {
+  mv_lo: number;
+  mv_hi: number;
+  mv_units: string;
+  mv_limit_lo: number | null;
+  mv_limit_hi: number | null;
+  telemetry_period_s: number;
+  controller_period_s: number;
+  estimation_proposed_s: number | null;
+  baseline_time_constant_s: number | null;
+  action: "reverse" | "direct";
+  form: "ideal" | "parallel" | "series";
+  gain_kind: "gain" | "pb";
+  gain_value: number;
+  ti_value: number | null;
+  ti_units: "s" | "min" | "repeats-per-min";
+  td_value: number;
+  td_units: "s" | "min";
+  na: number;
+  nb: number;
+  nk: number;
+  enabled: number | boolean;
+}
+
+const BASE_SELECT = `SELECT l.*, s.name AS site_name, a.name AS area_name, ls.latest AS stored_state
+  FROM loops l
+  JOIN sites s ON s.id = l.site_id AND s.tenant_id = l.tenant_id
+  LEFT JOIN areas a ON a.id = l.area_id AND a.tenant_id = l.tenant_id
+  LEFT JOIN loop_states ls ON ls.loop_id = l.id AND ls.tenant_id = l.tenant_id`;
+
+function tenantIdOf(ctx: Ctx): number {
+  if (!ctx || !Number.isInteger(ctx.tenantId) || ctx.tenantId <= 0) throw new Error("Loop queries need a tenant context with a valid tenantId.");
+  return ctx.tenantId;
+}
+
+function defaultLiveState(loopId: number): LoopStateDto | null {
+  const svc = getServerContext()?.services.get("pipeline") as { loopState?: (id: number) => LoopStateDto | null } | undefined;
+  return typeof svc?.loopState === "function" ? svc.loopState(loopId) : null;
+}
+
+function parseState(v: string | LoopStateDto | null): LoopStateDto | null {
+  if (v === null) return null;
+  if (typeof v !== "string") return v;
+  try {
+    return JSON.parse(v) as LoopStateDto;
+  } catch {
+    return null;
+  }
+}
+
+async function activeAlarms(sequelize: Sequelize, tenantId: number, loopIds: number[]): Promise<Map<number, LoopSummary["alarms"]>> {
+  const out = new Map<number, LoopSummary["alarms"]>();
+  if (loopIds.length === 0) return out;
+  const rows = await sequelize.query<{ id: number; loop_id: number; condition: AlarmDto["condition"]; priority: AlarmDto["priority"]; state: AlarmDto["state"] }>(
+    "SELECT id, loop_id, `condition`, priority, state FROM alarms WHERE tenant_id = ? AND loop_id IN (?) AND state <> 'normal' ORDER BY id",
+    { replacements: [tenantId, loopIds], type: QueryTypes.SELECT },
+  );
+  for (const r of rows) {
+    const list = out.get(Number(r.loop_id)) ?? [];
+    list.push({ id: Number(r.id), condition: r.condition, priority: r.priority, state: r.state });
+    out.set(Number(r.loop_id), list);
+  }
+  return out;
+}
+
+function summary(r: Row, live: (id: number) => LoopStateDto | null, alarms: Map<number, LoopSummary["alarms"]>): LoopSummary {
+  const id = Number(r.id);
+  return {
+    id,
+    tenantId: Number(r.tenant_id),
+    siteId: Number(r.site_id),
+    siteName: r.site_name,
+    area: r.area_name,
+    tag: r.tag,
+    slug: r.slug,
+    description: r.description,
+    kind: r.kind,
+    units: r.units,
+    pvLo: Number(r.pv_lo),
+    pvHi: Number(r.pv_hi),
+    estimationPeriodS: Number(r.estimation_period_s),
+    state: live(id) ?? parseState(r.stored_state),
+    alarms: alarms.get(id) ?? [],
+  };
+}
+
+/** Every loop of the caller's tenant, ordered by site and tag. */
+export async function listLoops(ctx: Ctx, deps: LoopDeps = {}): Promise<LoopSummary[]> {
+  const tenantId = tenantIdOf(ctx);
+  const sequelize = deps.sequelize ?? getSequelize();
+  const rows = await sequelize.query<Row>(`${BASE_SELECT} WHERE l.tenant_id = ? ORDER BY s.name, l.tag`, { replacements: [tenantId], type: QueryTypes.SELECT });
+  const alarms = await activeAlarms(sequelize, tenantId, rows.map((r) => Number(r.id)));
+  return rows.map((r) => summary(r, deps.liveState ?? defaultLiveState, alarms));
+}
+
+/** One loop of the caller's tenant with its configuration, or null. */
+export async function getLoop(ctx: Ctx, loopId: number, deps: LoopDeps = {}): Promise<LoopDetail | null> {
+  const tenantId = tenantIdOf(ctx);
+  if (!Number.isSafeInteger(loopId) || loopId <= 0) return null;
+  const sequelize = deps.sequelize ?? getSequelize();
+  const rows = await sequelize.query<DetailRow>(`${BASE_SELECT} WHERE l.tenant_id = ? AND l.id = ?`, { replacements: [tenantId, loopId], type: QueryTypes.SELECT });
+  const r = rows[0];
+  if (!r) return null;
+  const alarms = await activeAlarms(sequelize, tenantId, [loopId]);
+  return {
+    ...summary(r, deps.liveState ?? defaultLiveState, alarms),
+    mvLo: Number(r.mv_lo),
+    mvHi: Number(r.mv_hi),
+    mvUnits: r.mv_units,
+    mvLimitLo: r.mv_limit_lo === null ? null : Number(r.mv_limit_lo),
+    mvLimitHi: r.mv_limit_hi === null ? null : Number(r.mv_limit_hi),
+    telemetryPeriodS: Number(r.telemetry_period_s),
+    controllerPeriodS: Number(r.controller_period_s),
+    estimationProposedS: r.estimation_proposed_s === null ? null : Number(r.estimation_proposed_s),
+    baselineTimeConstantS: r.baseline_time_constant_s === null ? null : Number(r.baseline_time_constant_s),
+    tuning: {
+      action: r.action,
+      form: r.form,
+      gainKind: r.gain_kind,
+      gainValue: Number(r.gain_value),
+      tiValue: r.ti_value === null ? null : Number(r.ti_value),
+      tiUnits: r.ti_units,
+      tdValue: Number(r.td_value),
+      tdUnits: r.td_units,
+    },
+    model: { na: Number(r.na), nb: Number(r.nb), nk: Number(r.nk) },
+    enabled: r.enabled === true || Number(r.enabled) === 1,
+  };
+}
+
+/** The tenant owning a loop id, or null (used by the realtime watch check outside a request). */
+export async function loopTenantId(loopId: number, deps: Pick<LoopDeps, "sequelize"> = {}): Promise<number | null> {
+  const sequelize = deps.sequelize ?? getSequelize();
+  const rows = await sequelize.query<{ tenant_id: number }>("SELECT tenant_id FROM loops WHERE id = ?", { replacements: [loopId], type: QueryTypes.SELECT });
+  return rows[0] ? Number(rows[0].tenant_id) : null;
+}
+
+/** A loop id in a URL: a positive integer (422 otherwise). */
+export const loopIdSchema = z.coerce.number().int().positive().max(Number.MAX_SAFE_INTEGER);
