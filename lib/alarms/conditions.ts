@@ -226,7 +226,7 @@ export function evaluateConditions(
   // 1. Tracker not trustworthy: every condition suppressed, filters reset.
   if (NON_TRACKING.has(s.trackerState)) {
     const reason = `tracker ${s.trackerState.replace(/-/g, " ")}${s.stateReason ? `: ${s.stateReason}` : ""}`;
-    const msg = `No stability alarm while the ${reason}.`;
+    const msg = `No stability alarm while the tracker state is ${s.trackerState.replace(/-/g, " ")}${s.stateReason ? ` (${s.stateReason})` : ""}.`;
     return {
       memory: { filters: {} },
       verdicts: {
