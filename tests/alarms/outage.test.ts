@@ -45,6 +45,19 @@ afterAll(async () => {
   if (dir) fs.rmSync(dir, { recursive: true, force: true });
 });
 
+/** After a database restart the first query on a stale pooled connection may fail: retry. */
+async function flushEventually(svc: AlarmService): Promise<void> {
+  for (let i = 0; ; i++) {
+    try {
+      await svc.flush();
+      return;
+    } catch (e) {
+      if (i >= 30) throw e;
+      await new Promise((r) => setTimeout(r, 200));
+    }
+  }
+}
+
 async function events(alarmIds: number[]) {
   return (await sequelize.query(
     `SELECT journal_id, alarm_id, kind, to_state, user_id FROM alarm_events WHERE alarm_id IN (${alarmIds.map(() => "?").join(",")}) ORDER BY journal_id`,
@@ -92,7 +105,7 @@ describe("MariaDB outage", () => {
     expect(lines).toBe(expected.length);
 
     handle = await startDb(); // back
-    await svc.flush();
+    await flushEventually(svc);
     const after = await events(all);
     expect(after.length - before).toBe(expected.length);
     expect(after.slice(before).map((e) => `${e.alarm_id}:${e.kind}:${e.to_state}`)).toEqual(expected);
@@ -141,8 +154,16 @@ describe("MariaDB outage", () => {
     expect(fs.readFileSync(journal, "utf8").trim().split("\n")).toHaveLength(kinds.length);
     handle = await startDb();
     ctx = testContext(clock);
-    svc = await AlarmService.start(ctx, { sequelize, journalPath: journal, journalMaxBytes: 6000, retryMs: 100, quiet: true });
-    await svc.flush();
+    for (let i = 0; ; i++) {
+      try {
+        svc = await AlarmService.start(ctx, { sequelize, journalPath: journal, journalMaxBytes: 6000, retryMs: 100, quiet: true });
+        break;
+      } catch (e) {
+        if (i >= 30) throw e; // a stale pooled connection right after the restart
+        await new Promise((r) => setTimeout(r, 200));
+      }
+    }
+    await flushEventually(svc);
     const after = await events([margin]);
     expect(after.slice(before).map((e) => `${e.kind}:${e.to_state}`)).toEqual(kinds);
     expect(svc.health().status).toBe("ok");
