@@ -44,7 +44,7 @@ async function main(): Promise<void> {
   }
   if (missing.size > 0) throw new Error(`no device credential for ${[...missing].join(", ")} (set SIM_DEVICE_CREDENTIALS)`);
   const publisher = await connectPublisher(opts.brokerUrl, Object.fromEntries(needed), { qos: opts.qos });
-  const runner = new SimulatorRunner({ sims, publish: (t, p) => publisher.publish(t, p), speedup: opts.speedup, batchSize: opts.batchSize });
+  const runner = new SimulatorRunner({ sims, publish: (t, p) => publisher.publish(t, p), speedup: opts.speedup, batchSize: opts.batchSize, stamp: opts.stamp });
   const rate = sims.reduce((s, l) => s + 1 / l.config.telemetryPeriodS, 0) * opts.speedup;
   console.log(
     `[simulators] scenario "${scenario.name}": ${sims.length} loops, ${rate.toFixed(1)} samples/s, speed-up ${opts.speedup}, batch ${opts.batchSize}, broker ${opts.brokerUrl}`,
@@ -62,7 +62,7 @@ async function main(): Promise<void> {
     clearInterval(report);
     runner.flush();
     await publisher.close();
-    console.log(`[simulators] stopped (${why}): ${runner.samples} samples in ${runner.messages} messages`);
+    console.log(`[simulators] stopped (${why}): ${runner.samples} samples in ${runner.messages} messages; largest lag behind the clock ${runner.maxLagMs} ms`);
     process.exit(0);
   };
   process.on("SIGINT", () => void stop("SIGINT"));

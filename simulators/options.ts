@@ -12,6 +12,7 @@
  *   --tick-ms <ms>      SIM_TICK_MS           wall interval between simulation ticks (default 50)
  *   --broker <url>      MQTT_URL              broker URL (default mqtt://MQTT_HOST:MQTT_PORT)
  *   --qos <0|1>         SIM_QOS               MQTT QoS of telemetry (default 0)
+ *   --stamp <mode>      SIM_STAMP             "simulated" (default) or "publish" (load runs; see runner.ts)
  *   --no-seed           SIM_NO_SEED=true      use only the scenario's inline loops
  *   (credentials)       SIM_DEVICE_CREDENTIALS JSON { "tenant/site" or tenant: { username, password, clientId } }
  */
@@ -29,6 +30,7 @@ const FLAGS: Record<string, string> = {
   "--tick-ms": "SIM_TICK_MS",
   "--broker": "MQTT_URL",
   "--qos": "SIM_QOS",
+  "--stamp": "SIM_STAMP",
 };
 
 const credentialSchema = z.object({ username: z.string().min(1), password: z.string().min(1), clientId: z.string().min(1) });
@@ -41,6 +43,7 @@ const schema = z.object({
   SIM_DURATION_S: z.coerce.number().nonnegative().default(0),
   SIM_TICK_MS: z.coerce.number().int().min(5).max(5000).default(50),
   SIM_QOS: z.enum(["0", "1"]).default("0").transform((v) => (v === "1" ? 1 : 0) as 0 | 1),
+  SIM_STAMP: z.enum(["simulated", "publish"]).default("simulated"),
   SIM_NO_SEED: z.enum(["true", "false", "1", "0"]).default("false").transform((v) => v === "true" || v === "1"),
   SIM_DEVICE_CREDENTIALS: z
     .string()
@@ -67,6 +70,7 @@ export interface SimulatorOptions {
   tickMs: number;
   brokerUrl: string;
   qos: 0 | 1;
+  stamp: "simulated" | "publish";
   useSeed: boolean;
   credentials: Record<string, z.infer<typeof credentialSchema>> | undefined;
 }
@@ -109,6 +113,7 @@ export function parseSimulatorOptions(argv: string[], env: NodeJS.ProcessEnv, de
     tickMs: o.SIM_TICK_MS,
     brokerUrl: cfg.MQTT_URL || `mqtt://${cfg.MQTT_HOST}:${cfg.MQTT_PORT}`,
     qos: o.SIM_QOS,
+    stamp: o.SIM_STAMP,
     useSeed: !o.SIM_NO_SEED,
     credentials: o.SIM_DEVICE_CREDENTIALS,
   };

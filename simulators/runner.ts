@@ -24,6 +24,12 @@ export interface RunnerOptions {
   batchSize?: number;
   /** Longest a sample waits in a partial batch, wall ms. */
   maxBatchDelayMs?: number;
+  /**
+   * "simulated" (default): each sample carries the wall time its simulated instant maps to.
+   * "publish": samples carry the wall time they are handed to MQTT (load runs: the latency
+   * measured downstream then starts at the publish, not at a simulator that fell behind).
+   */
+  stamp?: "simulated" | "publish";
 }
 
 interface Lane {
@@ -32,12 +38,16 @@ interface Lane {
   pending: SampleDto[];
   firstPendingAt: number;
   lastT: number;
+  lastPublishedT: number;
 }
 
 export class SimulatorRunner {
   readonly speedup: number;
   readonly batchSize: number;
   readonly maxBatchDelayMs: number;
+  readonly stamp: "simulated" | "publish";
+  /** Largest delay between a sample's simulated wall time and its production (simulator falling behind), ms. */
+  maxLagMs = 0;
   private readonly lanes: Lane[];
   private readonly publishFn: RunnerOptions["publish"];
   private readonly clock: RunnerClock;
@@ -60,6 +70,7 @@ export class SimulatorRunner {
     this.speedup = speedup;
     this.batchSize = batchSize;
     this.maxBatchDelayMs = options.maxBatchDelayMs ?? 250;
+    this.stamp = options.stamp ?? "simulated";
     this.publishFn = options.publish;
     this.clock = options.clock ?? { now: () => Date.now() };
     this.lanes = options.sims.map((sim) => ({
@@ -68,6 +79,7 @@ export class SimulatorRunner {
       pending: [],
       firstPendingAt: 0,
       lastT: 0,
+      lastPublishedT: 0,
     }));
   }
 
@@ -89,6 +101,8 @@ export class SimulatorRunner {
       lane.sim.advanceTo(targetS, buf);
       for (const s of buf) {
         let t = Math.floor(this.startWall + ((s.simTimeS - this.simOffsetS) * 1000) / this.speedup);
+        if (now - t > this.maxLagMs) this.maxLagMs = now - t;
+        if (this.stamp === "publish") t = now;
         if (t <= lane.lastT) t = lane.lastT + 1;
         if (t > now + 4_000) {
           // more than 1000 samples/s of one loop outran the ms clock by the skew allowance (§5): drop, counted
@@ -112,6 +126,17 @@ export class SimulatorRunner {
   private flushLane(lane: Lane): void {
     const batch = lane.pending;
     lane.pending = [];
+    if (this.stamp === "publish") {
+      // restamp at the hand-over to MQTT, keeping the loop's timestamps strictly increasing
+      const now = this.clock.now();
+      let prev = lane.lastPublishedT;
+      for (const s of batch) {
+        s.t = Math.max(prev + 1, now);
+        prev = s.t;
+      }
+      lane.lastT = Math.max(lane.lastT, prev);
+      lane.lastPublishedT = prev;
+    }
     const payload = this.batchSize === 1 && batch.length === 1 ? JSON.stringify(batch[0]) : JSON.stringify(batch);
     this.messages++;
     this.samples += batch.length;

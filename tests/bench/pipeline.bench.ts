@@ -10,9 +10,9 @@
  *           (server/realtime) on a Socket.IO server; a client process watches W loops.
  *
  * Reported: offered and delivered samples/s, loss, p50/p99 latency on `loop:samples` from the
- * sample's timestamp (taken when the simulator produces it) to the client's receipt (this
- * includes the publisher's batching wait, at most batch/R s), CPU and RSS per process, and the
- * pipeline-to-bare ratio. The Socket.IO handshake here sets the tenant directly (the session
+ * publish (the simulator runs with --stamp publish: a sample's t is the moment its MQTT message
+ * is handed to the client library) to the client's receipt, CPU and RSS per process, and the
+ * pipeline-to-bare ratios (delivered rate, server CPU per sample). The Socket.IO handshake here sets the tenant directly (the session
  * cookie check of the real server is not what is measured).
  *
  * Flags: --loops N (default 5000) --hz R (10) --batch B (10) --seconds D (20) --watch W (50)
@@ -116,6 +116,8 @@ async function clientMain(): Promise<void> {
 // ---------------------------------------------------------------- server side
 interface SimRun {
   sent: number;
+  /** Largest lag of the simulator behind its own schedule (CPU-starved), ms. */
+  lagMs: number | null;
   cpuS: number;
   peakRss: number;
   lastLine: string;
@@ -141,6 +143,8 @@ function runSimulator(port: number, scenarioFile: string, opts: { loops: number;
       String(opts.seconds),
       "--tick-ms",
       "20",
+      "--stamp",
+      "publish",
     ],
     {
       cwd: root,
@@ -161,8 +165,9 @@ function runSimulator(port: number, scenarioFile: string, opts: { loops: number;
   return new Promise((resolve) => {
     child.once("exit", () => {
       const m = /stopped \([^)]*\): (\d+) samples/.exec(out);
+      const lag = /largest lag behind the clock (\d+) ms/.exec(out);
       const lines = out.trim().split("\n");
-      resolve({ sent: m ? Number(m[1]) : 0, ...stats.last(), lastLine: lines.at(-1) ?? "" });
+      resolve({ sent: m ? Number(m[1]) : 0, lagMs: lag ? Number(lag[1]) : null, ...stats.last(), lastLine: lines.at(-1) ?? "" });
     });
   });
 }
@@ -204,6 +209,7 @@ async function bare(scenarioFile: string, opts: { loops: number; hz: number; bat
   let received = 0;
   let first = 0;
   let last = 0;
+  const lat: number[] = [];
   await new Promise<void>((resolve) =>
     broker.subscribe(
       "rg/+/+/+/samples",
@@ -211,6 +217,8 @@ async function bare(scenarioFile: string, opts: { loops: number; hz: number; bat
         const v = JSON.parse((packet.payload as Buffer).toString("utf8")) as unknown;
         const n = Array.isArray(v) ? v.length : 1;
         const now = Date.now();
+        const lastSample = (Array.isArray(v) ? v[v.length - 1] : v) as { t?: number } | undefined;
+        if (typeof lastSample?.t === "number") lat.push(now - lastSample.t);
         if (received === 0) first = now;
         last = now;
         received += n;
@@ -231,7 +239,8 @@ async function bare(scenarioFile: string, opts: { loops: number; hz: number; bat
   const cpu = process.cpuUsage(cpu0);
   await new Promise<void>((r) => broker.close(() => r()));
   await new Promise<void>((r) => server.close(() => r()));
-  return { sim, received, spanS: (last - first) / 1000, brokerCpuS: (cpu.user + cpu.system) / 1e6, rss: process.memoryUsage().rss };
+  lat.sort((a, b) => a - b);
+  return { sim, received, p50: quantile(lat, 0.5), p99: quantile(lat, 0.99), spanS: (last - first) / 1000, brokerCpuS: (cpu.user + cpu.system) / 1e6, rss: process.memoryUsage().rss };
 }
 
 async function pipeline(scenarioFile: string, opts: { loops: number; hz: number; batch: number; seconds: number; watch: number; stateEvery: number; withStates: boolean }) {
@@ -401,13 +410,13 @@ async function main(): Promise<void> {
     // delivered rate over the simulator's run time (its --duration)
     const bareRate = b.received / opts.seconds;
     if (b.sim.sent === 0) console.log(`  simulator: ${b.sim.lastLine}`);
-    console.log(`  simulator sent ${b.sim.sent} samples (cpu ${b.sim.cpuS.toFixed(1)} s, rss ${(b.sim.peakRss / 2 ** 20).toFixed(0)} MiB); broker received ${b.received} (${b.sim.sent - b.received} lost) = ${bareRate.toFixed(0)} samples/s; broker process cpu ${b.brokerCpuS.toFixed(1)} s`);
+    console.log(`  simulator sent ${b.sim.sent} samples (cpu ${b.sim.cpuS.toFixed(1)} s, rss ${(b.sim.peakRss / 2 ** 20).toFixed(0)} MiB); largest lag behind schedule ${b.sim.lagMs} ms; broker received ${b.received} (${b.sim.sent - b.received} lost) = ${bareRate.toFixed(0)} samples/s; publish-to-subscriber latency p50 ${b.p50} ms, p99 ${b.p99} ms; broker process cpu ${b.brokerCpuS.toFixed(1)} s`);
 
     console.log("phase 2: pipeline (authenticated broker -> ingest -> trackers -> Socket.IO client process)");
     const p = await pipeline(scenario, opts);
     const rate = p.accepted / opts.seconds;
     const loss = p.sim.sent - p.accepted;
-    console.log(`  simulator sent ${p.sim.sent} samples (cpu ${p.sim.cpuS.toFixed(1)} s, rss ${(p.sim.peakRss / 2 ** 20).toFixed(0)} MiB)`);
+    console.log(`  simulator sent ${p.sim.sent} samples (cpu ${p.sim.cpuS.toFixed(1)} s, rss ${(p.sim.peakRss / 2 ** 20).toFixed(0)} MiB, largest lag behind schedule ${p.sim.lagMs} ms)`);
     console.log(`  ingest accepted ${p.accepted}, rejected ${p.rejected}, lost ${loss} = ${rate.toFixed(0)} samples/s sustained; tracker updates ${p.updates}`);
     console.log(`  server process cpu ${p.serverCpuS.toFixed(1)} s over ~${(opts.seconds + 2.5).toFixed(0)} s (${((100 * p.serverCpuS) / (opts.seconds + 2.5)).toFixed(0)} % of one core), rss ${(p.serverRss / 2 ** 20).toFixed(0)} MiB`);
     if (p.client) {
