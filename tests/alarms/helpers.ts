@@ -3,6 +3,7 @@ import fs from "node:fs";
 import os from "node:os";
 import path from "node:path";
 import type { Sequelize } from "sequelize";
+import { afterAll } from "vitest";
 import { getConfig } from "@/lib/config";
 import type { LoopStateDto, PoleDto, Role, TenantContext } from "@/lib/types";
 import { Bus, type Clock, type ServerContext } from "@/server/context";
@@ -53,8 +54,17 @@ export function testContext(clock: Clock): ServerContext {
   return { config: getConfig({ NODE_ENV: "test" }), io: null, bus: new Bus(), clock, services: new Map() };
 }
 
+const journalDirs: string[] = [];
+// Registered by every test file that imports these helpers: its journals go when it ends.
+afterAll(() => {
+  for (const d of journalDirs.splice(0)) fs.rmSync(d, { recursive: true, force: true });
+});
+
+/** A fresh journal path in its own temporary folder (removed when the test process exits). */
 export function tempJournal(): string {
-  return path.join(fs.mkdtempSync(path.join(os.tmpdir(), "rg-aj-")), "alarm-journal.ndjson");
+  const dir = fs.mkdtempSync(path.join(os.tmpdir(), "rg-aj-"));
+  journalDirs.push(dir);
+  return path.join(dir, "alarm-journal.ndjson");
 }
 
 export interface Fixture {
