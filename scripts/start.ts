@@ -108,15 +108,18 @@ async function main(): Promise<void> {
     }
   };
 
-  let signalled = false;
+  let signalled = 0;
   const onSignal = (sig: NodeJS.Signals) => {
+    // npm forwards the terminal's Ctrl-C to us as well, so one keypress can arrive twice within
+    // a few milliseconds: only a signal a second or more after the first forces the exit.
+    if (signalled && Date.now() - signalled < 1_000) return;
     if (signalled) {
       log(`${sig} again: exiting now`);
       if (startedDb) void stopMariaDb(startedDb);
       setTimeout(() => process.exit(1), 200).unref();
       return;
     }
-    signalled = true;
+    signalled = Date.now();
     log(`${sig}: shutting down (press again to force)`);
     (async () => {
       if (stopServer) await stopServer();

@@ -66,9 +66,17 @@ function realtimeService(io: RimguardIo, stopAuth: () => void): Service {
   };
 }
 
-/** Next's custom server attaches its own 'upgrade' listener on first request unless told it did. */
+type UpgradeFn = (req: http.IncomingMessage, socket: import("node:stream").Duplex, head: Buffer) => Promise<void> | void;
+
+/**
+ * Next's custom server attaches its own 'upgrade' listener on the first request unless told it
+ * did; we route upgrades ourselves so Socket.IO keeps /socket.io. Its `upgradeHandler` getter is
+ * the router-level handler that serves HMR (`getUpgradeHandler()` returns the render server's,
+ * which does not).
+ */
 interface NextUpgradeInternals {
   didWebSocketSetup?: boolean;
+  upgradeHandler?: UpgradeFn;
 }
 
 export async function startServer(opts: StartServerOptions = {}): Promise<RunningServer> {
@@ -76,6 +84,7 @@ export async function startServer(opts: StartServerOptions = {}): Promise<Runnin
   const dev = opts.dev ?? cfg.NODE_ENV === "development";
   const host = opts.host ?? cfg.HOST;
   const dir = opts.dir ?? REPO_ROOT;
+  const log = opts.quiet ? () => {} : (m: string) => console.info(m);
 
   let handler: ((req: http.IncomingMessage, res: http.ServerResponse) => Promise<void>) | null = null;
   const server = http.createServer((req, res) => {
@@ -137,7 +146,7 @@ export async function startServer(opts: StartServerOptions = {}): Promise<Runnin
   try {
     await app.prepare();
     if (dev) {
-      const upgrade = app.getUpgradeHandler();
+      const upgrade: UpgradeFn = (app as unknown as NextUpgradeInternals).upgradeHandler ?? app.getUpgradeHandler();
       server.on("upgrade", (req, socket, head) => {
         if (req.url?.startsWith("/socket.io")) return;
         void upgrade(req, socket, head);
@@ -161,9 +170,14 @@ export async function startServer(opts: StartServerOptions = {}): Promise<Runnin
         resolve();
       }, 3_000).unref();
     });
-    await stopServices(ctx, services);
-    await stopServices(ctx, own);
-    await (app as unknown as { close?: () => Promise<void> }).close?.();
+    log("[server] HTTP closed");
+    await stopServices(ctx, services, log);
+    await stopServices(ctx, own, log);
+    const closeNext = (app as unknown as { close?: () => Promise<void> }).close?.bind(app);
+    if (closeNext) {
+      await Promise.race([closeNext(), new Promise((r) => setTimeout(r, 5_000).unref())]);
+      log("[server] Next closed");
+    }
     setServerContext(null);
     for (const [k, v] of Object.entries(envBefore)) {
       if (v === undefined) delete process.env[k];
@@ -187,13 +201,15 @@ function isMain(): boolean {
 
 /** Stop on SIGINT/SIGTERM; a second signal forces the exit. */
 export function exitOnSignals(stop: () => Promise<void>, log = console): void {
-  let signalled = false;
+  let signalled = 0;
   const onSignal = (sig: NodeJS.Signals) => {
+    // One Ctrl-C may arrive twice (the terminal's process group and npm forwarding it).
+    if (signalled && Date.now() - signalled < 1_000) return;
     if (signalled) {
       log.warn(`[server] ${sig} again: exiting now`);
       process.exit(1);
     }
-    signalled = true;
+    signalled = Date.now();
     log.info(`[server] ${sig}: shutting down (send again to force)`);
     stop().then(
       () => process.exit(0),

@@ -81,13 +81,31 @@ export async function startServices(
   return started;
 }
 
-/** Stop services in reverse start order; one failing stop does not keep the others running. */
-export async function stopServices(ctx: ServerContext, services: Service[]): Promise<void> {
+/** How long one service may take to stop before shutdown moves on without it. */
+export const STOP_TIMEOUT_MS = 10_000;
+
+/**
+ * Stop services in reverse start order; one failing or hanging stop does not keep the others
+ * running (each gets STOP_TIMEOUT_MS).
+ */
+export async function stopServices(ctx: ServerContext, services: Service[], log: (m: string) => void = () => {}): Promise<void> {
   for (const s of [...services].reverse()) {
+    const t0 = Date.now();
+    let timer: NodeJS.Timeout | undefined;
     try {
-      await s.stop();
+      const outcome = await Promise.race([
+        s.stop().then(() => "stopped" as const),
+        new Promise<"timeout">((resolve) => {
+          timer = setTimeout(() => resolve("timeout"), STOP_TIMEOUT_MS);
+          timer.unref();
+        }),
+      ]);
+      if (outcome === "timeout") console.error(`[server] ${s.name} did not stop within ${STOP_TIMEOUT_MS} ms; moving on`);
+      else log(`[server] ${s.name} stopped (${Date.now() - t0} ms)`);
     } catch (err) {
       console.error(`[server] ${s.name} did not stop cleanly`, err);
+    } finally {
+      if (timer) clearTimeout(timer);
     }
     ctx.services.delete(s.name);
   }

@@ -6,6 +6,7 @@ import { parseTheme, THEME_COOKIE } from "@/lib/theme";
 import { roleAtLeast } from "@/lib/types";
 import { CautionLine } from "./_shell/caution";
 import { ConsoleNav } from "./_shell/console-nav";
+import { SessionKeeper } from "./_shell/session-keeper";
 import { TenantSwitcher } from "./_shell/tenant-switcher";
 import { ThemeToggle } from "./_shell/theme-toggle";
 import { UserMenu } from "./_shell/user-menu";
@@ -25,6 +26,7 @@ export default async function ConsoleLayout({ children }: { children: React.Reac
   ];
   return (
     <div className="flex min-h-screen flex-col">
+      <SessionKeeper />
       <a href="#main" className="skip-link">
         Skip to content
       </a>

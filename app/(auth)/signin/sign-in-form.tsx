@@ -10,7 +10,7 @@ function describe(error: string | null): string | null {
     case "CredentialsSignin":
       return "The e-mail or password is not right.";
     case "SessionRequired":
-      return "Sign in to continue.";
+      return "Your session has ended. Sign in to continue.";
     case "Configuration":
     case "Callback":
       return "Sign-in is not available right now. Try again, or ask an administrator.";
