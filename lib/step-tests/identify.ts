@@ -1,0 +1,344 @@
+/**
+ * Offline identification of a step test: the plant MV -> PV as an ARX model with order and
+ * delay chosen from the data, its continuous equivalents, and the proposed estimation period
+ * and model structure for the loop's live tracker.
+ *
+ * Method:
+ * 1. Resample the log to its own period (resample.ts) and remove the operating point.
+ * 2. A first ARX fit (na, nb in 1..2, delay searched over 1..K samples; Ljung, *System
+ *    Identification*, 2nd ed., 1999, sec. 16.4) at the logged period (averaged down if the log is
+ *    long) gives the dominant dynamics, from which `proposeEstimationPeriod` (lib/control) picks
+ *    the estimation period for the loop's telemetry period (rule of thumb wn T 0.1-0.6).
+ * 3. The model is fitted again at that period (na, nb in 1..3, the delay searched again) so the
+ *    proposed structure (na, nb, nk) is in the units the tracker uses; repeated once more if the
+ *    proposal moves. Among candidates whose FPE is within 2 % of the best, the one with the fewest
+ *    parameters is kept (the parsimony principle, Ljung 1999 sec. 16.8).
+ * 4. Continuous equivalents: a first-order-plus-dead-time model (gain, time constant, dead
+ *    time) fitted to the logged MV and PV by output error (fopdt.ts), the gain also in %/% of
+ *    span with the loop's PV and MV spans; the ARX static gain B(1)/A(1); each ARX pole's time
+ *    constant or (zeta, wn) through `poleCharacteristics`.
+ */
+import {
+  ControlArgumentError,
+  fitArx,
+  poleCharacteristics,
+  polyRoots,
+  proposeEstimationPeriod,
+  simulateArx,
+  type ArxCandidate,
+  type ArxFit,
+  type ArxModel,
+  type PeriodProposal,
+} from "@/lib/control";
+import { ValidationError } from "@/lib/errors";
+import type { ParsedStepTest } from "./csv";
+import { fitFopdt, type FopdtFit } from "./fopdt";
+import { detrend, loggedPeriod, resample, type DetrendMethod, type UniformSeries } from "./resample";
+
+export const RESULT_VERSION = 1;
+/** Most points kept for the chart of measured vs simulated PV. */
+export const CHART_POINTS = 2000;
+/** FPE within this fraction of the best counts as "as good" for the parsimony rule. */
+const PARSIMONY = 0.02;
+/** Fewest samples at the identification period. */
+const MIN_ID_SAMPLES = 40;
+
+export interface LoopForIdentification {
+  telemetryPeriodS: number;
+  pvLo: number;
+  pvHi: number;
+  mvLo: number;
+  mvHi: number;
+}
+
+export interface IdentifyOptions {
+  detrend?: DetrendMethod;
+  /** Longest dead time searched, seconds (default: a third of the record). */
+  maxDeadTimeS?: number;
+}
+
+export interface PoleSummary {
+  re: number;
+  im: number;
+  radius: number;
+  kind: string;
+  timeConstantS: number | null;
+  wn: number | null;
+  zeta: number | null;
+}
+
+export interface StepTestResult {
+  version: number;
+  data: {
+    rows: number;
+    /** Logged period (median step), seconds. */
+    periodS: number;
+    durationS: number;
+    startTime: string | null;
+    irregular: boolean;
+    hasSp: boolean;
+    /** Samples per mode at the logged period (null when the file has no mode column). */
+    modes: Record<"auto" | "manual" | "cascade", number> | null;
+    closedLoop: boolean;
+    detrend: DetrendMethod;
+    baseline: { mv: number; pv: number };
+    leadInS: number;
+  };
+  identification: {
+    /** Period the final model is sampled at, seconds. */
+    periodS: number;
+    samples: number;
+    criterion: "fpe";
+    model: ArxModel;
+    fitPercent: number;
+    loss: number;
+    candidates: ArxCandidate[];
+    passes: { periodS: number; na: number; nb: number; nk: number; fitPercent: number }[];
+  };
+  continuous: {
+    /** FOPDT gain in PV units per MV unit (the ARX static gain when no FOPDT fits). */
+    gain: number | null;
+    /** %/% of span, using the loop's PV and MV spans. */
+    gainPercent: number | null;
+    /** Static gain B(1)/A(1) of the ARX model; null when it has a pole on or outside the circle. */
+    arxGain: number | null;
+    /** FOPDT time constant and dead time, seconds (null when no FOPDT fits). */
+    timeConstantS: number | null;
+    deadTimeS: number | null;
+    fopdtFitPercent: number | null;
+    method: string;
+    poles: PoleSummary[];
+  };
+  proposal: {
+    estimationPeriodS: number;
+    factor: number;
+    telemetryPeriodS: number;
+    wnT: number;
+    reason: string;
+    modelStructure: { na: number; nb: number; nk: number };
+  } | null;
+  chart: { t: number[]; pvMeasured: number[]; pvSimulated: number[]; mv: number[]; sp: number[] | null };
+  warnings: string[];
+}
+
+interface Pass {
+  T: number;
+  fit: ArxFit;
+  series: UniformSeries;
+  u: Float64Array;
+  y: Float64Array;
+  yTrend: Float64Array;
+  leadIn: number;
+  baseline: { mv: number; pv: number };
+}
+
+/**
+ * Identify the plant from a parsed step test. Units: seconds; gains in PV units per MV unit
+ * unless named "percent".
+ * @throws ValidationError (422) when the data cannot support identification (no MV move, too
+ *   short a record for the dynamics), with a message that says why.
+ */
+export function identifyStepTest(parsed: ParsedStepTest, loop: LoopForIdentification, options: IdentifyOptions = {}): StepTestResult {
+  const rows = parsed.rows;
+  const warnings = [...parsed.warnings];
+  const method = options.detrend ?? "initial";
+  const spans = { mv: loop.mvHi - loop.mvLo, pv: loop.pvHi - loop.pvLo };
+  const { T: T0, irregular } = loggedPeriod(rows);
+  if (irregular) warnings.push(`Irregular time stamps: more than 5 % of the steps differ from the median ${fmt(T0)} s by over a quarter; the log was resampled.`);
+  const duration = rows[rows.length - 1]!.t;
+  const base = resample(rows, T0);
+  let mvMin = Infinity;
+  let mvMax = -Infinity;
+  for (const v of base.mv) {
+    mvMin = Math.min(mvMin, v);
+    mvMax = Math.max(mvMax, v);
+  }
+  if (!(mvMax - mvMin > 0.001 * spans.mv)) {
+    throw new ValidationError(`The MV does not move in this log (range ${fmt(mvMax - mvMin)} ${"of a span of " + fmt(spans.mv)}); a step test needs at least one MV step.`);
+  }
+  const modes = parsed.hasMode ? { auto: 0, manual: 0, cascade: 0 } : null;
+  if (modes) for (const m of base.mode) if (m) modes[m]++;
+  const closedLoop = modes ? modes.auto + modes.cascade > modes.manual : parsed.hasSp;
+  if (closedLoop) {
+    warnings.push("Most of the log is in auto or cascade: the plant was identified from closed-loop data, which ARX fits without bias only when the equation error is white (Ljung 1999, sec. 13.4). An open-loop test in manual gives the cleaner model.");
+  }
+  const maxDead = options.maxDeadTimeS ?? duration / 3;
+
+  const runPass = (T: number, orders: number[]): Pass => {
+    const series = T === T0 ? base : resample(rows, T);
+    const n = series.mv.length;
+    if (n < MIN_ID_SAMPLES / 2) throw new ValidationError(`The record is too short: ${n} samples at ${fmt(T)} s.`);
+    const d = detrend(series, method, spans);
+    const kMax = Math.max(1, Math.min(Math.floor(maxDead / T) + 2, Math.floor(n / 4), 150));
+    const nks = Array.from({ length: kMax }, (_, i) => i + 1);
+    let all: ArxFit;
+    try {
+      all = fitArx(d.u, d.y, { T, na: orders, nb: orders, nk: nks, criterion: "fpe", removeMeans: false });
+    } catch (e) {
+      if (e instanceof ControlArgumentError) throw new ValidationError(`The data do not support identification: ${e.message}.`);
+      throw e;
+    }
+    const chosen = parsimonious(all.candidates);
+    const fit = chosen.na === all.model.a.length && chosen.nb === all.model.b.length && chosen.nk === all.model.nk
+      ? all
+      : fitArx(d.u, d.y, { T, na: chosen.na, nb: chosen.nb, nk: chosen.nk, criterion: "fpe", removeMeans: false });
+    return { T, fit: { ...fit, candidates: all.candidates }, series, u: d.u, y: d.y, yTrend: d.yTrend, leadIn: d.leadIn, baseline: d.baseline };
+  };
+  const propose = (m: ArxModel): PeriodProposal | null => {
+    try {
+      return proposeEstimationPeriod({ from: "model", model: m, telemetryPeriod: loop.telemetryPeriodS });
+    } catch (e) {
+      if (e instanceof ControlArgumentError) return null;
+      throw e;
+    }
+  };
+  /** The identification period for a proposed one: never finer than the log, never so coarse that too few samples remain. */
+  const periodFor = (p: number): number => {
+    let T = Math.max(p, T0);
+    if (duration / T < MIN_ID_SAMPLES) T = Math.max(T0, T0 * Math.floor(duration / (MIN_ID_SAMPLES * T0)));
+    return T;
+  };
+
+  const passes: Pass[] = [];
+  const d1 = Math.max(1, Math.ceil(duration / T0 / 3000));
+  passes.push(runPass(T0 * d1, [1, 2]));
+  // Iterate: identify at the proposed period until the model there proposes (nearly) the same.
+  let target = propose(passes[0]!.fit.model);
+  let finalOwn: PeriodProposal | null = target;
+  if (target) {
+    for (let i = 0; i < 3; i++) {
+      const T = periodFor(target.period);
+      passes.push(runPass(T, [1, 2, 3]));
+      finalOwn = propose(passes[passes.length - 1]!.fit.model);
+      if (!finalOwn || T !== target.period) break;
+      if (Math.abs(finalOwn.factor - target.factor) <= 0.2 * target.factor) break;
+      if (i === 2) {
+        warnings.push(`The proposed period did not settle (${fmt(target.period)} s, then ${fmt(finalOwn.period)} s); treat it as approximate.`);
+        break;
+      }
+      target = finalOwn;
+    }
+  } else {
+    warnings.push("No settling mode was found (an integrating or unstable plant?): no estimation period is proposed.");
+  }
+  const final = passes[passes.length - 1]!;
+  const model = final.fit.model;
+  if (target && Math.abs(final.T - target.period) > 1e-9 * target.period) {
+    warnings.push(`The model was identified at ${fmt(final.T)} s, not at the proposed ${fmt(target.period)} s (the log is sampled too slowly or is too short); the proposed delay is converted.`);
+  }
+  if (final.fit.fit < 60) warnings.push(`The model explains the PV poorly (fit ${fmt(final.fit.fit)} %): the step may be too small against the noise, or disturbances moved the PV during the test.`);
+
+  // FOPDT summary by output error on the finest pass (pass 1).
+  const p1 = passes[0]!;
+  const fo = fitFopdt(p1.u, p1.y, p1.T, maxDead);
+  const continuous = continuousEquivalents(model, fo, spans);
+  let proposal: StepTestResult["proposal"] = null;
+  if (target) {
+    const nk = Math.abs(final.T - target.period) <= 1e-9 * target.period
+      ? model.nk
+      : Math.max(1, Math.floor(((model.nk - 1) * final.T) / target.period + 1e-9) + 1);
+    // wn of the final model's dominant mode at the proposed period.
+    const wn = finalOwn ? finalOwn.wnT / finalOwn.period : target.wnT / target.period;
+    const wnT = wn * target.period;
+    proposal = {
+      estimationPeriodS: target.period,
+      factor: target.factor,
+      telemetryPeriodS: loop.telemetryPeriodS,
+      wnT,
+      reason:
+        `Averaging ${target.factor} telemetry sample${target.factor === 1 ? "" : "s"} of ${fmt(loop.telemetryPeriodS)} s gives ${fmt(target.period)} s, ` +
+        `where the identified dominant mode (wn = ${fmt(wn)} rad/s) has wn T = ${fmt(wnT)}, inside the band 0.1-0.6 ` +
+        `(rule of thumb, Åström & Wittenmark 1997).` + (wnT < 0.1 || wnT > 0.6 ? " (Outside the band: see the warnings.)" : ""),
+      modelStructure: { na: model.a.length, nb: model.b.length, nk },
+    };
+  }
+
+  // Chart: measured vs simulated PV at the identification period, thinned to CHART_POINTS.
+  const sim = simulateArx(model, final.u);
+  const n = final.series.pv.length;
+  const stride = Math.max(1, Math.ceil(n / CHART_POINTS));
+  const chart: StepTestResult["chart"] = { t: [], pvMeasured: [], pvSimulated: [], mv: [], sp: final.series.sp ? [] : null };
+  for (let k = 0; k < n; k += stride) {
+    chart.t.push(round(k * final.T, 6));
+    chart.pvMeasured.push(round(final.series.pv[k]!, 6));
+    chart.pvSimulated.push(round(sim[k]! + final.yTrend[k]!, 6));
+    chart.mv.push(round(final.series.mv[k]!, 6));
+    chart.sp?.push(round(final.series.sp![k]!, 6));
+  }
+
+  return {
+    version: RESULT_VERSION,
+    data: {
+      rows: rows.length,
+      periodS: T0,
+      durationS: duration,
+      startTime: parsed.startTime,
+      irregular,
+      hasSp: parsed.hasSp,
+      modes,
+      closedLoop,
+      detrend: method,
+      baseline: final.baseline,
+      leadInS: final.leadIn * final.T,
+    },
+    identification: {
+      periodS: final.T,
+      samples: final.fit.samplesUsed,
+      criterion: "fpe",
+      model,
+      fitPercent: final.fit.fit,
+      loss: final.fit.loss,
+      candidates: final.fit.candidates,
+      passes: passes.map((p) => ({ periodS: p.T, na: p.fit.model.a.length, nb: p.fit.model.b.length, nk: p.fit.model.nk, fitPercent: p.fit.fit })),
+    },
+    continuous,
+    proposal,
+    chart,
+    warnings,
+  };
+}
+
+/** The candidate with the fewest parameters among those within PARSIMONY of the best FPE. */
+function parsimonious(cands: ArxCandidate[]): ArxCandidate {
+  const ok = cands.filter((c) => Number.isFinite(c.criterionValue) && !c.error);
+  if (ok.length === 0) throw new ValidationError("The data do not support identification: no model structure could be fitted.");
+  const best = Math.min(...ok.map((c) => c.criterionValue));
+  const near = ok.filter((c) => c.criterionValue <= best * (1 + PARSIMONY));
+  near.sort((a, b) => a.na + a.nb - (b.na + b.nb) || a.criterionValue - b.criterionValue);
+  return near[0]!;
+}
+
+/** Continuous equivalents: the FOPDT summary, the ARX static gain and each ARX pole (see the module doc). */
+export function continuousEquivalents(model: ArxModel, fo: FopdtFit | null, spans: { mv: number; pv: number }): StepTestResult["continuous"] {
+  const T = model.T;
+  const den = [1, ...model.a];
+  const poles = polyRoots(den).map((z): PoleSummary => {
+    const c = poleCharacteristics(z, T);
+    const cont = c.continuousEquivalent && c.kind !== "integrator";
+    return { re: z.re, im: z.im, radius: c.radius, kind: c.kind, timeConstantS: c.timeConstant, wn: cont ? c.wn : null, zeta: cont ? c.zeta : null };
+  });
+  const a1 = den.reduce((s, v) => s + v, 0);
+  const b1 = model.b.reduce((s, v) => s + v, 0);
+  const stable = poles.every((p) => p.radius < 1 - 1e-6);
+  const arxGain = stable && Math.abs(a1) > 1e-9 ? b1 / a1 : null;
+  const gain = fo ? fo.gain : arxGain;
+  return {
+    gain,
+    gainPercent: gain === null ? null : (gain * spans.mv) / spans.pv,
+    arxGain,
+    timeConstantS: fo ? fo.timeConstantS : null,
+    deadTimeS: fo ? fo.deadTimeS : null,
+    fopdtFitPercent: fo ? fo.fitPercent : null,
+    method:
+      "first order plus dead time fitted to the logged MV and PV by output error (exact ZOH simulation, Åström & Wittenmark 1997 sec. 2.3); poles from the ARX model",
+    poles,
+  };
+}
+
+function fmt(x: number): string {
+  return Number(x.toPrecision(3)).toString();
+}
+
+function round(x: number, digits: number): number {
+  return Number(x.toPrecision(digits + 2));
+}
