@@ -62,6 +62,13 @@ export class AlarmNotifier {
     this.track(this.handleAnnounce(alarm, areaId));
   }
 
+  /** After a restart: remember the last message per rule and loop (for the repeat interval). */
+  rememberSent(ruleId: number, loopId: number, at: number, priority: AlarmPriority): void {
+    const key = `${ruleId}:${loopId}`;
+    const prev = this.last.get(key);
+    if (!prev || prev.at < at) this.last.set(key, { at, rank: PRIORITY_RANK[priority] });
+  }
+
   /**
    * After a restart: re-arm the escalations of an alarm that is still unacknowledged, counted
    * from `announcedAt` (epoch ms); `alreadyEscalated(ruleId)` says whether that rule's
@@ -166,6 +173,12 @@ export class AlarmNotifier {
 }
 
 const PRIORITY_WORD: Record<AlarmPriority, string> = { urgent: "URGENT (1)", high: "HIGH (2)", low: "LOW (3)" };
+
+/** The priority a subject written by `subjectOf` names (for restoring the repeat limits). */
+export function priorityOfSubject(subject: string): AlarmPriority | null {
+  for (const [p, w] of Object.entries(PRIORITY_WORD) as [AlarmPriority, string][]) if (subject.includes(w)) return p;
+  return null;
+}
 
 export function subjectOf(alarm: AlarmDto, kind: "initial" | "escalation"): string {
   return `[Rimguard] ${kind === "escalation" ? "ESCALATION - still unacknowledged - " : ""}${PRIORITY_WORD[alarm.priority]} ${alarm.condition} on ${alarm.loopTag}`;

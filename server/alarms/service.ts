@@ -46,7 +46,7 @@ import {
 import type { ServerContext, Service, ServiceHealth } from "@/server/context";
 import { AlarmDbWriter, journalId } from "./db-writer";
 import { AlarmJournal, type JournalEntry, type PointSnapshot } from "./journal";
-import { AlarmNotifier, type NotificationRuleRow, type SentRow } from "./notifier";
+import { AlarmNotifier, priorityOfSubject, type NotificationRuleRow, type SentRow } from "./notifier";
 import type { MailService } from "@/server/mail";
 import { alarmDetail, alarmKpis, readPolicy, writePolicy, type PolicyLoopInfo, type PolicyView } from "./queries";
 import type { AlarmKpis } from "@/lib/alarms/kpis";
@@ -291,6 +291,20 @@ export class AlarmService implements Service {
 
   /** Unacknowledged alarms escalate after a restart as they would have without it. */
   private async resumeEscalations(): Promise<void> {
+    // Repeat limits: the last message per rule and loop over the last day.
+    try {
+      const sent = (await this.sequelize.query(
+        `SELECT ns.rule_id, a.loop_id, ns.subject, ns.sent_at FROM notifications_sent ns JOIN alarms a ON a.id = ns.alarm_id
+          WHERE ns.status = 'sent' AND ns.kind = 'initial' AND ns.rule_id IS NOT NULL AND ns.sent_at >= ?`,
+        { replacements: [new Date(this.ctx.clock.now() - 24 * 3600_000)], type: QueryTypes.SELECT },
+      )) as { rule_id: number; loop_id: number; subject: string; sent_at: Date }[];
+      for (const r of sent) {
+        const p = priorityOfSubject(r.subject);
+        if (p) this.notifier.rememberSent(Number(r.rule_id), Number(r.loop_id), new Date(r.sent_at).getTime(), p);
+      }
+    } catch (err) {
+      this.log(`[alarms] could not restore notification repeat limits: ${err instanceof Error ? err.message : String(err)}`);
+    }
     for (const rec of this.points.values()) {
       if (rec.point.state !== "unacknowledged") continue;
       const since = rec.point.changedAt;

@@ -331,7 +331,8 @@ describe("notifications by e-mail", () => {
     await b.svc.flush();
     await b.svc.stop();
 
-    // A third start finds the escalation in notifications_sent and does not repeat it.
+    // A third start finds the escalation in notifications_sent and does not repeat it, and keeps
+    // the repeat limit of the loop: a new activation within the interval is not mailed again.
     const ctx3 = testContext(clock);
     const mail3 = await startMail(ctx3, { sinkPort: 0 });
     ctx3.services.set("mail", mail3);
@@ -339,6 +340,13 @@ describe("notifications by e-mail", () => {
     await clock.advance(10 * 60_000);
     await c.svc.notifier.idle();
     expect(mail3.outbox()).toHaveLength(0);
+    upd(c.svc, 0.1);
+    c.svc.acknowledge(fx.users.operator, m.id, null);
+    upd(c.svc, 0.4); // 44 min after the last initial message, repeat interval 60 min
+    await c.svc.notifier.idle();
+    await settle();
+    expect(mail3.outbox()).toHaveLength(0);
+    await c.svc.flush();
     await c.svc.stop();
     await mail2.stop();
     await mail3.stop();
