@@ -88,66 +88,81 @@ function ZPlaneMapInner({
     title ??
     `z-plane: ${modelPoles.length} model-based pole(s) ${modelPoles.map((p) => `${p.re.toFixed(3)}${p.im >= 0 ? "+" : "-"}${Math.abs(p.im).toFixed(3)}j`).join(", ")}; ${dataPoles.length} data-only pole(s); ${zeros.length} zero(s)`;
 
-  return (
-    <svg width={size} height={size} viewBox={`0 0 ${size} ${size}`} role="img" aria-label={described} data-testid="z-plane">
-      <title>{described}</title>
+  // The grid, loci, labels, band and circle change only with size and levels: memoised so a
+  // live update re-renders the poles alone (React skips an identical element).
+  // Levels rounded to 1/500 (under a pixel on a tile): small moves of the dominant angle do not redraw the grid.
+  const wr = warnRadius == null ? null : Math.round(warnRadius * 500) / 500;
+  const ar = alarmRadius == null ? null : Math.round(alarmRadius * 500) / 500;
+  const background = useMemo(
+    () => (
+      <>
       {/* warning -> alarm band, just inside the circle */}
-      {warnRadius != null && alarmRadius != null && alarmRadius > warnRadius && (
-        <path
-          d={`M${half - alarmRadius * k} ${half} a${alarmRadius * k} ${alarmRadius * k} 0 1 0 ${2 * alarmRadius * k} 0 a${alarmRadius * k} ${alarmRadius * k} 0 1 0 ${-2 * alarmRadius * k} 0 Z M${half - warnRadius * k} ${half} a${warnRadius * k} ${warnRadius * k} 0 1 1 ${2 * warnRadius * k} 0 a${warnRadius * k} ${warnRadius * k} 0 1 1 ${-2 * warnRadius * k} 0 Z`}
-          fill="var(--rg-high)"
-          fillRule="evenodd"
-          opacity="0.08"
-        />
-      )}
-      {/* axes */}
-      <line x1={s({ re: -R, im: 0 })[0]} y1={half} x2={s({ re: R, im: 0 })[0]} y2={half} stroke="var(--rg-line)" strokeWidth="1" />
-      <line x1={half} y1={s({ re: 0, im: R })[1]} x2={half} y2={s({ re: 0, im: -R })[1]} stroke="var(--rg-line)" strokeWidth="1" />
-      {/* constant damping spirals and constant natural-frequency arcs */}
-      <g stroke="var(--rg-line)" strokeWidth="0.8" fill="none" opacity="0.9">
-        {loci.zeta.map((l) => (
-          <g key={`z${l.zeta}`}>
-            <path d={polyline(l.pts, s)} />
-            <path d={polyline(l.pts, s, true)} />
-          </g>
-        ))}
-        {loci.wn.map((l) => (
-          <g key={`w${l.wnT}`}>
-            <path d={polyline(l.pts, s)} strokeDasharray="2 2" />
-            <path d={polyline(l.pts, s, true)} strokeDasharray="2 2" />
-          </g>
-        ))}
-      </g>
-      {!compact && (
-        <g fontSize="9" fill="var(--rg-muted)" fontFamily="var(--font-mono)">
-          {loci.wn.map((l) => {
-            const p = l.pts[0];
-            if (!p) return null;
-            const [x, y] = s({ re: p.re * 1.07, im: p.im * 1.07 });
-            return (
-              <text key={`tw${l.wnT}`} x={x} y={y} textAnchor="middle" dominantBaseline="middle">
-                {l.wnT === 1 ? "π/T" : `${l.wnT.toFixed(1)}π/T`}
-              </text>
-            );
-          })}
-          {loci.zeta
-            .filter((l) => l.zeta <= 0.8)
-            .map((l) => {
-              // label each spiral where it leaves the rim region: the point of largest imaginary part
-              let top = l.pts[0];
-              for (const p of l.pts) if (top && p.im > top.im) top = p;
-              if (!top) return null;
-              const [x, y] = s(top);
+        {wr != null && ar != null && ar > wr && (
+          <path
+            d={`M${half - ar * k} ${half} a${ar * k} ${ar * k} 0 1 0 ${2 * ar * k} 0 a${ar * k} ${ar * k} 0 1 0 ${-2 * ar * k} 0 Z M${half - wr * k} ${half} a${wr * k} ${wr * k} 0 1 1 ${2 * wr * k} 0 a${wr * k} ${wr * k} 0 1 1 ${-2 * wr * k} 0 Z`}
+            fill="var(--rg-high)"
+            fillRule="evenodd"
+            opacity="0.08"
+          />
+        )}
+        {/* axes */}
+        <line x1={s({ re: -R, im: 0 })[0]} y1={half} x2={s({ re: R, im: 0 })[0]} y2={half} stroke="var(--rg-line)" strokeWidth="1" />
+        <line x1={half} y1={s({ re: 0, im: R })[1]} x2={half} y2={s({ re: 0, im: -R })[1]} stroke="var(--rg-line)" strokeWidth="1" />
+        {/* constant damping spirals and constant natural-frequency arcs */}
+        <g stroke="var(--rg-line)" strokeWidth="0.8" fill="none" opacity="0.9">
+          {loci.zeta.map((l) => (
+            <g key={`z${l.zeta}`}>
+              <path d={polyline(l.pts, s)} />
+              <path d={polyline(l.pts, s, true)} />
+            </g>
+          ))}
+          {loci.wn.map((l) => (
+            <g key={`w${l.wnT}`}>
+              <path d={polyline(l.pts, s)} strokeDasharray="2 2" />
+              <path d={polyline(l.pts, s, true)} strokeDasharray="2 2" />
+            </g>
+          ))}
+        </g>
+        {!compact && (
+          <g fontSize="9" fill="var(--rg-muted)" fontFamily="var(--font-mono)">
+            {loci.wn.map((l) => {
+              const p = l.pts[0];
+              if (!p) return null;
+              const [x, y] = s({ re: p.re * 1.07, im: p.im * 1.07 });
               return (
-                <text key={`tz${l.zeta}`} x={x} y={y - 3} textAnchor="middle">
-                  ζ{l.zeta.toFixed(1)}
+                <text key={`tw${l.wnT}`} x={x} y={y} textAnchor="middle" dominantBaseline="middle">
+                  {l.wnT === 1 ? "π/T" : `${l.wnT.toFixed(1)}π/T`}
                 </text>
               );
             })}
-        </g>
-      )}
-      {/* the unit circle: the strongest line */}
-      <circle cx={half} cy={half} r={k} fill="none" stroke="var(--rg-ink)" strokeWidth={compact ? 1.4 : 2} />
+            {loci.zeta
+              .filter((l) => l.zeta <= 0.8)
+              .map((l) => {
+                // label each spiral where it leaves the rim region: the point of largest imaginary part
+                let top = l.pts[0];
+                for (const p of l.pts) if (top && p.im > top.im) top = p;
+                if (!top) return null;
+                const [x, y] = s(top);
+                return (
+                  <text key={`tz${l.zeta}`} x={x} y={y - 3} textAnchor="middle">
+                    ζ{l.zeta.toFixed(1)}
+                  </text>
+                );
+              })}
+          </g>
+        )}
+        {/* the unit circle: the strongest line */}
+        <circle cx={half} cy={half} r={k} fill="none" stroke="var(--rg-ink)" strokeWidth={compact ? 1.4 : 2} />
+      </>
+    ),
+    // half, k and s are functions of size alone
+    // eslint-disable-next-line react-hooks/exhaustive-deps
+    [loci, size, compact, wr, ar],
+  );
+  return (
+    <svg width={size} height={size} viewBox={`0 0 ${size} ${size}`} role="img" aria-label={described} data-testid="z-plane">
+      <title>{described}</title>
+      {background}
       {/* trail: older positions fainter */}
       {trail.map((set, i) => {
         const opacity = ((i + 1) / (trail.length + 1)) * 0.5;

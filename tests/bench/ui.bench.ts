@@ -15,8 +15,12 @@
  * The loops list and the history are synthetic load generated here (page.route), so the numbers
  * do not depend on the pipeline's state; the socket batches go through the real server.
  */
+import fs from "node:fs";
+import os from "node:os";
+import path from "node:path";
 import { performance } from "node:perf_hooks";
 import type { Page, Route } from "playwright-core";
+import { ensureMariaDb, freePort } from "@/lib/db/mariadb-server";
 import { DEMO_PASSWORD } from "@/lib/seed";
 import { tenantRoom } from "@/lib/realtime/events";
 import type { LoopStateDto, LoopSummary, PoleDto } from "@/lib/types";
@@ -81,40 +85,30 @@ function percentile(xs: number[], p: number): number {
   return s[Math.min(s.length - 1, Math.floor((p / 100) * s.length))]!;
 }
 
+/** In-page recorder, passed as source text (tsx would wrap named functions with a helper the page lacks). */
+const RECORDER = `(async ({ ms, scroll }) => new Promise((resolve) => {
+  const frames = [];
+  const longTasks = [];
+  const obs = new PerformanceObserver((l) => { for (const e of l.getEntries()) longTasks.push(e.duration); });
+  try { obs.observe({ type: "longtask", buffered: false }); } catch { /* frames only */ }
+  let last = performance.now();
+  const end = last + ms;
+  let dir = 1;
+  function step(t) {
+    frames.push(t - last);
+    last = t;
+    if (scroll) {
+      window.scrollBy(0, 40 * dir);
+      if (window.scrollY + window.innerHeight >= document.body.scrollHeight - 5 || window.scrollY <= 0) dir = -dir;
+    }
+    if (t < end) requestAnimationFrame(step);
+    else { obs.disconnect(); resolve({ frames: frames.slice(1), longTasks }); }
+  }
+  requestAnimationFrame(step);
+}))`;
+
 async function recordFrames(page: Page, ms: number, scroll: boolean): Promise<{ frames: number[]; longTasks: number[] }> {
-  return page.evaluate(
-    ({ ms, scroll }) =>
-      new Promise<{ frames: number[]; longTasks: number[] }>((resolve) => {
-        const frames: number[] = [];
-        const longTasks: number[] = [];
-        const obs = new PerformanceObserver((l) => {
-          for (const e of l.getEntries()) longTasks.push(e.duration);
-        });
-        try {
-          obs.observe({ type: "longtask", buffered: false });
-        } catch {
-          /* long tasks not supported: frames only */
-        }
-        let last = performance.now();
-        const end = last + ms;
-        let dir = 1;
-        const step = (t: number) => {
-          frames.push(t - last);
-          last = t;
-          if (scroll) {
-            window.scrollBy(0, 40 * dir);
-            if (window.scrollY + window.innerHeight >= document.body.scrollHeight - 5 || window.scrollY <= 0) dir = -dir;
-          }
-          if (t < end) requestAnimationFrame(step);
-          else {
-            obs.disconnect();
-            resolve({ frames: frames.slice(1), longTasks });
-          }
-        };
-        requestAnimationFrame(step);
-      }),
-    { ms, scroll },
-  );
+  return page.evaluate(`${RECORDER}(${JSON.stringify({ ms, scroll })})`) as Promise<{ frames: number[]; longTasks: number[] }>;
 }
 
 function report(label: string, r: { frames: number[]; longTasks: number[] }): { p95: number } {
@@ -127,7 +121,23 @@ function report(label: string, r: { frames: number[]; longTasks: number[] }): { 
 
 async function main(): Promise<void> {
   const t0 = performance.now();
-  const srv = await startTestServer({ seed: true });
+  // A throw-away MariaDB like the test suite's global setup (never .data/), removed at the end.
+  const dir = fs.mkdtempSync(path.join(os.tmpdir(), "rg-uib-"));
+  const db = await ensureMariaDb({
+    dataDir: path.join(dir, "data"),
+    port: await freePort(),
+    socket: path.join(dir, "s.sock"),
+    ephemeral: true,
+    watchPid: process.pid,
+    removeOnExit: dir,
+    allowApt: false,
+  });
+  process.env.RG_TEST_DB_PORT = String(db.port);
+  process.env.RG_TEST_DB_SOCKET = db.socket;
+  const srv = await startTestServer({ seed: true }).catch(async (e: unknown) => {
+    await db.stop();
+    throw e;
+  });
   const browser = await launchBrowser({ viewport: { width: 1600, height: 1000 } });
   let timer: ReturnType<typeof setInterval> | null = null;
   try {
@@ -268,6 +278,8 @@ async function main(): Promise<void> {
     if (timer) clearInterval(timer);
     await browser.close();
     await srv.stop();
+    await db.stop();
+    fs.rmSync(dir, { recursive: true, force: true });
   }
   console.log(`done in ${((performance.now() - t0) / 1000).toFixed(0)} s`);
 }
