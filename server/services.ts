@@ -30,6 +30,8 @@ export interface StartServicesOptions {
 export const SERVICES: readonly ServiceEntry[] = [
   // Mail first: alarms send through it.
   { name: "mail", module: "mail/index.ts", exportName: "startMail" },
+  // Object storage for uploaded step-test files (embedded S3 stand-in unless S3_ENDPOINT is set).
+  { name: "objectstore", module: "objectstore/index.ts", exportName: "startObjectStore" },
   // Alarms before the pipeline so no tracker update is missed.
   { name: "alarms", module: "alarms/index.ts", exportName: "startAlarms" },
   // The pipeline wires broker -> ingest -> trackers -> history + realtime emitting.

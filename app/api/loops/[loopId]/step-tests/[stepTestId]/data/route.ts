@@ -1,0 +1,24 @@
+/** GET /api/loops/:loopId/step-tests/:stepTestId/data — viewer: the uploaded CSV, byte for byte. */
+import { parseId } from "@/lib/alarms/access";
+import { requireContext } from "@/lib/auth/guard";
+import { handle } from "@/lib/http";
+import { getStepTestData } from "@/lib/step-tests/service";
+
+export const dynamic = "force-dynamic";
+
+type Params = { params: Promise<{ loopId: string; stepTestId: string }> };
+
+export const GET = handle(async (_req: Request, { params }: Params) => {
+  const ctx = await requireContext("viewer");
+  const p = await params;
+  const { filename, bytes } = await getStepTestData(ctx, parseId(p.loopId, "loop id"), parseId(p.stepTestId, "step test id"));
+  return new Response(new Uint8Array(bytes), {
+    status: 200,
+    headers: {
+      "content-type": "text/csv; charset=utf-8",
+      "content-length": String(bytes.byteLength),
+      "content-disposition": `attachment; filename="${filename.replace(/"/g, "")}"`,
+      "cache-control": "private, no-store",
+    },
+  });
+});

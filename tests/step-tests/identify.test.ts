@@ -1,0 +1,169 @@
+/**
+ * Step-test identification against plants whose continuous parameters are the truth.
+ *
+ * Truth: a first-order-plus-dead-time plant (gain K, time constant tau, dead time L) simulated in
+ * closed form (simulate.ts). That simulation is itself checked against scipy.signal (ZOH
+ * discretisation by `cont2discrete` and `dlsim`, a reference library) below, and the fitter's own
+ * discretisation against lib/control's c2dZoh, which tests/control checks against scipy.
+ */
+import { spawnSync } from "node:child_process";
+import { describe, expect, it } from "vitest";
+import { c2dZoh, proposeEstimationPeriod } from "@/lib/control";
+import { parseStepTestCsv } from "@/lib/step-tests/csv";
+import { simulateFopdt } from "@/lib/step-tests/fopdt";
+import { identifyStepTest } from "@/lib/step-tests/identify";
+import { ValidationError } from "@/lib/errors";
+import { fopdtAt, stepTestCsv, type Fopdt, type MvStep } from "./simulate";
+
+// Invented plant: a steam-heated dryer temperature, PV 80-180 degC, MV 0-100 %, logged every 2 s.
+const PLANT: Fopdt = { K: 0.8, tau: 150, L: 20 };
+const STEPS: MvStep[] = [
+  { t: 100, du: 5 },
+  { t: 700, du: -8 },
+  { t: 1300, du: 5 },
+];
+const LOOP = { telemetryPeriodS: 2, pvLo: 80, pvHi: 180, mvLo: 0, mvHi: 100 };
+const UNITS = { pvUnits: "degC", mvUnits: "%", pvLo: 80, pvHi: 180, mvLo: 0, mvHi: 100 };
+const csv = (noiseStd: number, seed = 7) =>
+  stepTestCsv({ plant: PLANT, steps: STEPS, mv0: 40, pv0: 130, T: 2, duration: 1900, noiseStd, seed, mode: "manual" });
+
+function scipyAvailable(): boolean {
+  const r = spawnSync("python3", ["-c", "import scipy.signal, numpy"], { encoding: "utf8" });
+  return r.status === 0;
+}
+
+describe("the test plant's simulation (checked against scipy.signal)", () => {
+  it.skipIf(!scipyAvailable())("matches scipy's ZOH discretisation and dlsim of K e^{-Ls}/(tau s+1) at every sample", () => {
+    // scipy.signal.cont2discrete(method="zoh") + dlsim; the 20 s dead time is 10 whole samples at 2 s.
+    const script = `
+import json, numpy as np
+from scipy import signal
+K, tau, L, T = 0.8, 150.0, 20.0, 2.0
+d = signal.cont2discrete(([K], [tau, 1.0]), T, method="zoh")
+num, den = np.ravel(d[0]), np.ravel(d[1])
+n = 951
+u = np.zeros(n)
+for t0, du in [(100, 5.0), (700, -8.0), (1300, 5.0)]:
+    u[int(round(t0 / T)):] += du
+N = int(round(L / T))
+ud = np.concatenate([np.zeros(N), u[:n - N]])
+_, y = signal.dlsim((num, den, T), ud)
+print(json.dumps(np.ravel(y).tolist()))
+`;
+    const r = spawnSync("python3", ["-c", script], { encoding: "utf8" });
+    expect(r.status, r.stderr).toBe(0);
+    const ref = JSON.parse(r.stdout) as number[];
+    expect(ref).toHaveLength(951);
+    let worst = 0;
+    for (let k = 0; k < ref.length; k++) worst = Math.max(worst, Math.abs(fopdtAt(PLANT, STEPS, 2 * k) - ref[k]!));
+    expect(worst).toBeLessThan(1e-9);
+  });
+
+  it("the fitter's closed-form first-order ZOH with a fractional dead time equals c2dZoh (itself checked against scipy)", () => {
+    // Åström & Wittenmark 1997 sec. 2.3: a = e^{-T/tau}, b0 = 1 - e^{-(T-f)/tau}, b1 = e^{-(T-f)/tau} - a.
+    const T = 2;
+    const u = Array.from({ length: 80 }, (_, k) => (k >= 5 ? 1 : 0) + (k >= 40 ? -2 : 0));
+    for (const L of [0, 0.7, 2, 5.3]) {
+      const mine = simulateFopdt(u, T, 9, L);
+      const d = c2dZoh({ num: [1], den: [9, 1] }, T, L);
+      // Difference equation of num/den (descending z; den monic after scaling).
+      const den = d.den.map((c) => c / d.den[0]!);
+      const num = d.num.map((c) => c / d.den[0]!);
+      const rel = den.length - num.length;
+      const y: number[] = [];
+      for (let k = 0; k < u.length; k++) {
+        let s = 0;
+        for (let i = 1; i < den.length; i++) s -= den[i]! * (y[k - i] ?? 0);
+        for (let j = 0; j < num.length; j++) s += num[j]! * (u[k - rel - j] ?? 0);
+        y.push(s);
+      }
+      for (let k = 0; k < u.length; k++) expect(mine[k]).toBeCloseTo(y[k]!, 10);
+    }
+  });
+});
+
+describe("identification of a simulated FOPDT step test", () => {
+  it("recovers gain, time constant and dead time at low noise, with fit above 90 %", () => {
+    // Noise 0.05 degC against PV moves of 4-6 degC (about 1 %).
+    const r = identifyStepTest(parseStepTestCsv(csv(0.05), UNITS), LOOP);
+    const c = r.continuous;
+    // Truth: the simulated K = 0.8 degC/% (0.8 %/% of span: spans 100 degC and 100 %), tau = 150 s, L = 20 s.
+    expect(Math.abs(c.gain! - 0.8) / 0.8).toBeLessThan(0.03); // within 3 %
+    expect(Math.abs(c.gainPercent! - 0.8) / 0.8).toBeLessThan(0.03);
+    expect(Math.abs(c.timeConstantS! - 150) / 150).toBeLessThan(0.05); // within 5 %
+    expect(Math.abs(c.deadTimeS! - 20)).toBeLessThan(2); // within one logged period
+    expect(Math.abs(c.arxGain! - 0.8) / 0.8).toBeLessThan(0.05); // ARX static gain B(1)/A(1)
+    expect(r.identification.fitPercent).toBeGreaterThan(90);
+    expect(c.fopdtFitPercent!).toBeGreaterThan(90);
+    // The slowest ARX pole is the plant's lag: tau = -T/ln z within 5 %.
+    const slow = c.poles.filter((p) => p.timeConstantS !== null).sort((a, b) => b.timeConstantS! - a.timeConstantS!)[0]!;
+    expect(Math.abs(slow.timeConstantS! - 150) / 150).toBeLessThan(0.05);
+    expect(r.warnings).toEqual([]);
+  });
+
+  it("recovers the parameters almost exactly without noise", () => {
+    const c = identifyStepTest(parseStepTestCsv(csv(0), UNITS), LOOP).continuous;
+    expect(c.gain!).toBeCloseTo(0.8, 3);
+    expect(c.timeConstantS!).toBeCloseTo(150, 0);
+    expect(c.deadTimeS!).toBeCloseTo(20, 1);
+  });
+
+  it("proposes the estimation period the true plant gives, and the ZOH delay structure for it", () => {
+    const r = identifyStepTest(parseStepTestCsv(csv(0.05), UNITS), LOOP);
+    // Truth-based proposal: the rule of thumb wn T ~ 0.1-0.6 (Åström & Wittenmark 1997, from memory)
+    // applied to the simulated tau = 150 s at the 2 s telemetry period.
+    const truth = proposeEstimationPeriod({ from: "step-test", timeConstant: 150, telemetryPeriod: 2 });
+    const p = r.proposal!;
+    expect(p.telemetryPeriodS).toBe(2);
+    expect(Math.abs(p.factor - truth.factor)).toBeLessThanOrEqual(1);
+    expect(p.estimationPeriodS).toBe(p.factor * 2);
+    expect(p.wnT).toBeGreaterThan(0.1);
+    expect(p.wnT).toBeLessThan(0.6);
+    // Identified at the proposed period, so the structure is in its units.
+    expect(r.identification.periodS).toBe(p.estimationPeriodS);
+    // 20 s dead time at a period above 20 s: N = 0 whole periods, so nk = 1 (ZOH with a fractional
+    // delay, Åström & Wittenmark 1997 sec. 2.3).
+    expect(p.modelStructure.nk).toBe(1);
+    expect(p.modelStructure.na).toBeGreaterThanOrEqual(1);
+    expect(p.reason).toMatch(/wn T/);
+  });
+
+  it("plots measured against simulated PV in engineering units, thinned", () => {
+    const r = identifyStepTest(parseStepTestCsv(csv(0.05), UNITS), LOOP);
+    const ch = r.chart;
+    expect(ch.t.length).toBe(ch.pvMeasured.length);
+    expect(ch.t.length).toBe(ch.pvSimulated.length);
+    expect(ch.t.length).toBeGreaterThan(30);
+    // Before the first step both sit at the 130 degC operating point (baseline from the lead-in).
+    expect(ch.pvMeasured[0]!).toBeCloseTo(130, 0);
+    expect(ch.pvSimulated[0]!).toBeCloseTo(130, 0);
+    // Long after the first step the simulated PV has moved by K * 5 = 4 degC (the truth).
+    const i = ch.t.findIndex((t) => t >= 650);
+    expect(ch.pvSimulated[i]! - 130).toBeGreaterThan(3.6);
+    expect(ch.pvSimulated[i]! - 130).toBeLessThan(4.4);
+  });
+
+  it("a log in which the MV never moves is refused with a reason (422)", () => {
+    const flat = stepTestCsv({ plant: PLANT, steps: [], mv0: 40, pv0: 130, T: 2, duration: 200, noiseStd: 0.05 });
+    expect(() => identifyStepTest(parseStepTestCsv(flat, UNITS), LOOP)).toThrow(/MV does not move/);
+    try {
+      identifyStepTest(parseStepTestCsv(flat, UNITS), LOOP);
+    } catch (e) {
+      expect(e).toBeInstanceOf(ValidationError);
+      expect((e as ValidationError).status).toBe(422);
+    }
+  });
+
+  it("a gap of more than ten logged periods is refused with the lines around it", () => {
+    const lines = csv(0.05).trim().split("\n");
+    const cut = [...lines.slice(0, 101), ...lines.slice(131)].join("\n"); // drops 30 rows (60 s)
+    expect(() => identifyStepTest(parseStepTestCsv(cut, UNITS), LOOP)).toThrow(/Lines 101–102: a gap of 62 s/);
+  });
+
+  it("closed-loop data are flagged", () => {
+    const text = csv(0.05).replace(/,manual$/gm, ",auto");
+    const r = identifyStepTest(parseStepTestCsv(text, UNITS), LOOP);
+    expect(r.data.closedLoop).toBe(true);
+    expect(r.warnings.join(" ")).toMatch(/closed-loop/);
+  });
+});
