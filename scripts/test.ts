@@ -29,8 +29,14 @@ child.on("exit", (code, signal) => {
       numFailedTests: number;
       numPendingTests: number;
       numTodoTests: number;
+      testResults: { status: string; assertionResults: { status: string }[] }[];
     };
-    line = `tests: ${r.numPassedTests} passed, ${r.numFailedTests} failed, ${r.numPendingTests + r.numTodoTests} skipped`;
+    // A file that fails to load or whose hooks throw has no failed test of its own: count it once.
+    const brokenFiles = r.testResults.filter(
+      (f) => f.status === "failed" && !f.assertionResults.some((a) => a.status === "failed"),
+    ).length;
+    const failed = r.numFailedTests + brokenFiles;
+    line = `tests: ${r.numPassedTests} passed, ${failed} failed, ${r.numPendingTests + r.numTodoTests} skipped`;
   }
   console.log(line);
   process.exit(code ?? (signal ? 1 : 0));
