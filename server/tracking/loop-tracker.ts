@@ -314,15 +314,15 @@ export class LoopTracker {
     const k = this.estimationSamples++;
     if (this.lastR !== null && Math.abs(r - this.lastR) > 0.05) this.lastSpMove = k;
     this.lastR = r;
-    // running PV variance (for the fit figure), same memory as the estimator
-    const w = 1 / Math.min(k + 1, this.memory);
-    const d = y - this.yMean;
-    this.yMean += w * d;
-    this.yVariance = (1 - w) * (this.yVariance + w * d * d);
     const learn = !saturated && !flat;
     // operating point removed by a leaky differencer (see the module comment)
     const f = this.prefilter(u, y, r);
     if (!f) return false;
+    // running variance of the filtered PV (the signal the model predicts), for the fit figure
+    const w = 1 / Math.min(k + 1, this.memory);
+    const d = f.y - this.yMean;
+    this.yMean += w * d;
+    this.yVariance = (1 - w) * (this.yVariance + w * d * d);
     try {
       if (this.plant.push(f.u, f.y, learn)) this.lastPlantUpdate = k;
       this.data.push(f.r, f.y, learn && !manual);
