@@ -145,9 +145,9 @@ export function TrendChart(props: TrendChartProps) {
                 ctx.fillStyle = resolveColor(b.fill);
                 ctx.fillRect(Math.min(x0, x1), Math.min(y0, y1), Math.max(1, Math.abs(x1 - x0)), Math.max(2, Math.abs(y1 - y0)));
               }
-              for (const l of q.levels ?? []) {
+              (q.levels ?? []).forEach((l, li) => {
                 const y = u.valToPos(l.value, l.scale ?? "y", true);
-                if (!Number.isFinite(y)) continue;
+                if (!Number.isFinite(y)) return;
                 ctx.strokeStyle = resolveColor(l.stroke);
                 ctx.lineWidth = 1 * devicePixelRatio;
                 ctx.setLineDash((l.dash ?? [6, 4]).map((d) => d * devicePixelRatio));
@@ -158,8 +158,10 @@ export function TrendChart(props: TrendChartProps) {
                 ctx.setLineDash([]);
                 ctx.fillStyle = resolveColor(l.stroke);
                 ctx.font = `${10 * devicePixelRatio}px ui-monospace, monospace`;
-                ctx.fillText(l.label, u.bbox.left + 4 * devicePixelRatio, y - 3 * devicePixelRatio);
-              }
+                // stagger the labels along the line so close levels stay readable
+                const lx = u.bbox.left + (4 + li * 130) * devicePixelRatio;
+                ctx.fillText(l.label, Math.min(lx, u.bbox.left + u.bbox.width - 120 * devicePixelRatio), y - 3 * devicePixelRatio);
+              });
               ctx.restore();
             },
           ],

@@ -136,19 +136,18 @@ function ZPlaneMapInner({
               );
             })}
             {loci.zeta
-              .filter((l) => l.zeta <= 0.8)
-              .map((l) => {
-                // label each spiral where it leaves the rim region: the point of largest imaginary part
-                let top = l.pts[0];
-                for (const p of l.pts) if (top && p.im > top.im) top = p;
-                if (!top) return null;
-                const [x, y] = s(top);
-                return (
-                  <text key={`tz${l.zeta}`} x={x} y={y - 3} textAnchor="middle">
-                    ζ{l.zeta.toFixed(1)}
-                  </text>
-                );
-              })}
+            .filter((l) => [0.1, 0.3, 0.5, 0.7].includes(l.zeta))
+            .map((l) => {
+              // labels fan out along one ray (arg z = 0.55π) so they neither crowd nor overlap
+              const p = l.pts[Math.round(0.55 * (l.pts.length - 1))];
+              if (!p) return null;
+              const [x, y] = s(p);
+              return (
+                <text key={`tz${l.zeta}`} x={x - 3} y={y - 2} textAnchor="end">
+                  ζ{l.zeta.toFixed(1)}
+                </text>
+              );
+            })}
           </g>
         )}
         {/* the unit circle: the strongest line */}
