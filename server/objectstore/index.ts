@@ -32,6 +32,8 @@ export interface ObjectStoreService extends Service, ObjectStore {
   readonly endpoint: string;
   /** Port of the embedded stand-in, null with an external endpoint. */
   readonly port: number | null;
+  /** Data directory of the embedded stand-in, null with an external endpoint. */
+  readonly directory: string | null;
 }
 
 export interface StartObjectStoreOptions {
@@ -51,13 +53,14 @@ export async function startObjectStore(ctx: ServerContext, opts: StartObjectStor
   let endpoint: string;
   let port: number | null = null;
   let tempDir: string | null = null;
+  let directory: string | null = null;
   if (external) {
     endpoint = external;
   } else {
     const wantPort = opts.port ?? ctx.config.S3_PORT;
     // Port 0 asks for a throw-away instance (tests): a temporary directory, removed on stop.
     if (!opts.directory && wantPort === 0) tempDir = fs.mkdtempSync(path.join(os.tmpdir(), "rg-objectstore-"));
-    const directory = path.resolve(opts.directory ?? tempDir ?? path.join(".data", "objectstore"));
+    directory = path.resolve(opts.directory ?? tempDir ?? path.join(".data", "objectstore"));
     fs.mkdirSync(directory, { recursive: true });
     fake = new S3rver({ address: "127.0.0.1", port: wantPort, silent: true, directory, vhostBuckets: false, configureBuckets: [{ name: bucket }] });
     const addr = await fake.run();
@@ -84,6 +87,7 @@ export async function startObjectStore(ctx: ServerContext, opts: StartObjectStor
   } catch (e) {
     client.destroy();
     await fake?.close().catch(() => {});
+    if (tempDir) fs.rmSync(tempDir, { recursive: true, force: true });
     throw e;
   }
   let puts = 0;
@@ -106,6 +110,7 @@ export async function startObjectStore(ctx: ServerContext, opts: StartObjectStor
     bucket,
     endpoint,
     port,
+    directory,
     async put(key, body, contentType) {
       await track(() => client.send(new PutObjectCommand({ Bucket: bucket, Key: key, Body: body, ContentType: contentType, ContentLength: body.byteLength })));
       puts++;
