@@ -1,0 +1,121 @@
+import mqtt, { type MqttClient } from "mqtt";
+import { io as connect, type Socket } from "socket.io-client";
+import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { hashDeviceSecret } from "@/lib/devices";
+import type { ClientToServerEvents, ServerToClientEvents, WatchReply } from "@/lib/realtime/events";
+import type { LoopStateDto, SampleDto } from "@/lib/types";
+import { isPipelineService, type PipelineService } from "@/server/pipeline";
+import { createAuthFixture, FIXTURE_PASSWORD, type AuthFixture, type FixtureTenant } from "../auth/fixture";
+import { signIn } from "../auth/helpers";
+import { startTestServer, type TestServer } from "../setup/server";
+
+// Realtime contract (ARCHITECTURE.md §8) on the real server: telemetry of two tenants flows
+// through the broker and pipeline; a client sees only its own tenant's loops and may watch only
+// its own tenant's loop.
+
+type ClientSocket = Socket<ServerToClientEvents, ClientToServerEvents>;
+
+let srv: TestServer;
+let fx: AuthFixture;
+let pipeline: PipelineService;
+const sockets: ClientSocket[] = [];
+const devices: MqttClient[] = [];
+
+async function device(t: FixtureTenant): Promise<MqttClient> {
+  const secret = `${t.slug}-secret-0123456789abcdef`;
+  await srv.db.models.DeviceCredential.create({
+    tenantId: t.id,
+    siteId: t.siteId,
+    name: `${t.slug} gateway`,
+    clientId: `${t.slug}-gw`,
+    keyId: `${t.slug}-gw`,
+    secretHash: hashDeviceSecret(secret, srv.server.ctx.config.DEVICE_SECRET_PEPPER),
+    createdBy: null,
+  });
+  const c = await mqtt.connectAsync(`mqtt://127.0.0.1:${pipeline.broker.address()!.port}`, { username: `${t.slug}-gw`, password: secret, clientId: `${t.slug}-gw`, reconnectPeriod: 0 });
+  devices.push(c);
+  return c;
+}
+
+async function socketOf(email: string): Promise<ClientSocket> {
+  const r = await signIn(srv.url, email, FIXTURE_PASSWORD);
+  if (!r.session) throw new Error(`sign-in failed: ${r.error}`);
+  const s: ClientSocket = connect(srv.url, { transports: ["websocket"], extraHeaders: { origin: srv.url, cookie: r.jar.header() }, reconnection: false, forceNew: true });
+  sockets.push(s);
+  await new Promise<void>((resolve, reject) => {
+    s.once("connect", () => resolve());
+    s.once("connect_error", (e) => reject(e));
+  });
+  return s;
+}
+
+const watch = (s: ClientSocket, loopId: number) => new Promise<WatchReply>((resolve) => s.emit("loop:watch", loopId, resolve));
+
+beforeAll(async () => {
+  srv = await startTestServer({ seed: false });
+  fx = await createAuthFixture(srv.db.models);
+  const svc = srv.server.ctx.services.get("pipeline");
+  if (!isPipelineService(svc)) throw new Error("the test server runs no pipeline");
+  pipeline = svc;
+  // The fixture's loops were created after the pipeline loaded its configuration.
+  await pipeline.reloadLoop(fx.a.loopId);
+  await pipeline.reloadLoop(fx.b.loopId);
+}, 300_000);
+
+afterAll(async () => {
+  for (const s of sockets) s.disconnect();
+  await Promise.all(devices.map((d) => d.endAsync(true).catch(() => undefined)));
+  await srv?.stop();
+});
+
+describe("realtime tenant isolation", () => {
+  it("sends each client only its own tenant's loop states and samples", async () => {
+    const viewerA = await socketOf(fx.a.users.viewer.email);
+    const viewerB = await socketOf(fx.b.users.viewer.email);
+    const got = { a: { states: [] as LoopStateDto[][], samples: [] as { loopId: number; samples: SampleDto[] }[] }, b: { states: [] as LoopStateDto[][], samples: [] as { loopId: number; samples: SampleDto[] }[] } };
+    viewerA.on("loop:state", (batch) => got.a.states.push(batch));
+    viewerA.on("loop:samples", (batch) => got.a.samples.push(batch));
+    viewerB.on("loop:state", (batch) => got.b.states.push(batch));
+    viewerB.on("loop:samples", (batch) => got.b.samples.push(batch));
+
+    // Watching: own loop yes; the other tenant's loop is answered like a loop that does not exist.
+    expect(await watch(viewerA, fx.a.loopId)).toEqual({ ok: true, loopId: fx.a.loopId });
+    expect(await watch(viewerB, fx.a.loopId)).toEqual({ ok: false, error: "Loop not found." });
+    expect(await watch(viewerB, 999_999)).toEqual({ ok: false, error: "Loop not found." });
+    expect(await watch(viewerB, fx.b.loopId)).toEqual({ ok: true, loopId: fx.b.loopId });
+
+    const devA = await device(fx.a);
+    const devB = await device(fx.b);
+    const started = Date.now();
+    for (let k = 0; k < 12; k++) {
+      const t = Date.now();
+      const s = (sp: number) => JSON.stringify({ t, sp, pv: sp - 1 + Math.sin(k), mv: 40 + k, mode: "auto" });
+      await devA.publishAsync(`rg/${fx.a.slug}/north/fic-101/samples`, s(50), { qos: 1 });
+      await devB.publishAsync(`rg/${fx.b.slug}/north/fic-101/samples`, s(20), { qos: 1 });
+      await new Promise((r) => setTimeout(r, 500));
+    }
+    await new Promise((r) => setTimeout(r, 800));
+    const elapsedS = (Date.now() - started) / 1000;
+
+    const aLoops = new Set(got.a.states.flat().map((s) => s.loopId));
+    const bLoops = new Set(got.b.states.flat().map((s) => s.loopId));
+    expect([...aLoops]).toEqual([fx.a.loopId]);
+    expect([...bLoops]).toEqual([fx.b.loopId]);
+    expect(got.a.states.flat().every((s) => s.tenantId === fx.a.id)).toBe(true);
+    expect(got.b.states.flat().every((s) => s.tenantId === fx.b.id)).toBe(true);
+    expect(got.a.samples.every((b) => b.loopId === fx.a.loopId)).toBe(true);
+    expect(got.b.samples.every((b) => b.loopId === fx.b.loopId)).toBe(true);
+    expect(got.a.samples.flatMap((b) => b.samples)).toHaveLength(12);
+    expect(got.b.samples.flatMap((b) => b.samples.map((s) => s.sp))).toEqual(new Array(12).fill(20));
+    // Batched: at most one loop:state batch per 500 ms per tenant (+1 for the window's edges).
+    expect(got.a.states.length).toBeLessThanOrEqual(Math.ceil(elapsedS * 2) + 1);
+
+    // After loop:unwatch the samples stop; states (tenant-wide) continue.
+    viewerA.emit("loop:unwatch", fx.a.loopId);
+    await new Promise((r) => setTimeout(r, 100));
+    const before = got.a.samples.length;
+    await devA.publishAsync(`rg/${fx.a.slug}/north/fic-101/samples`, JSON.stringify({ t: Date.now(), sp: 50, pv: 49, mv: 41, mode: "auto" }), { qos: 1 });
+    await new Promise((r) => setTimeout(r, 700));
+    expect(got.a.samples.length).toBe(before);
+  });
+});
