@@ -109,3 +109,37 @@ describe("console shell in Chromium", () => {
     await page.close();
   });
 });
+
+describe("palette contrast (WCAG 2.1 SC 1.4.3, AA: 4.5:1 for text)", () => {
+  // Relative luminance and contrast ratio as defined in WCAG 2.1 ("relative luminance", "contrast ratio").
+  const channel = (v: number) => (v <= 0.03928 ? v / 12.92 : ((v + 0.055) / 1.055) ** 2.4);
+  const luminance = (hex: string) => {
+    const [r, g, b] = [1, 3, 5].map((i) => channel(parseInt(hex.slice(i, i + 2), 16) / 255));
+    return 0.2126 * r! + 0.7152 * g! + 0.0722 * b!;
+  };
+  const ratio = (a: string, b: string) => {
+    const [hi, lo] = [luminance(a), luminance(b)].sort((x, y) => y - x);
+    return (hi! + 0.05) / (lo! + 0.05);
+  };
+
+  it("the WCAG formula gives the known extremes: black on white 21:1, equal colours 1:1", () => {
+    expect(ratio("#000000", "#ffffff")).toBeCloseTo(21, 6);
+    expect(ratio("#777777", "#777777")).toBe(1);
+  });
+
+  for (const theme of ["dark", "light"] as const) {
+    it(`every text role of the ${theme} theme reaches 4.5:1 on ground, surface and raised`, async () => {
+      const fs = await import("node:fs");
+      const css = fs.readFileSync(new URL("../../app/globals.css", import.meta.url), "utf8");
+      const block = theme === "dark" ? /\[data-theme="dark"\] \{([^}]*)\}/.exec(css) : /\[data-theme="light"\] \{([^}]*)\}/.exec(css);
+      expect(block).not.toBeNull();
+      const vars = Object.fromEntries([...block![1]!.matchAll(/--rg-([a-z-]+):\s*(#[0-9a-f]{6})/g)].map((m) => [m[1]!, m[2]!]));
+      for (const fg of ["ink", "muted", "accent", "urgent", "high", "low", "suppressed", "ok"]) {
+        for (const bg of ["ground", "surface", "raised"]) {
+          expect(ratio(vars[fg]!, vars[bg]!), `${theme} ${fg} on ${bg}`).toBeGreaterThanOrEqual(4.5);
+        }
+      }
+      expect(ratio(vars["accent-ink"]!, vars.accent!)).toBeGreaterThanOrEqual(4.5);
+    });
+  }
+});
