@@ -28,8 +28,10 @@ let browser: TestBrowser;
 let sims: SimulatorsService | null = null;
 
 function brokerPort(ctx: ServerContext): number {
+  type WithAddress = { address?: () => { port: number } | null };
   for (const s of ctx.services.values()) {
-    const a = (s as { address?: () => { port: number } | null }).address?.();
+    // the pipeline service carries its broker; a separately registered broker has address() itself
+    const a = ((s as { broker?: WithAddress }).broker ?? (s as WithAddress)).address?.();
     if (a && a.port > 0) return a.port;
   }
   throw new Error("no running MQTT broker service found in the server context");
