@@ -9,69 +9,19 @@
  * command started. A second signal exits at once (still stopping MariaDB).
  * `npm run dev` runs the same with `--dev` (Next in development mode, no build).
  */
-import { spawn } from "node:child_process";
-import fs from "node:fs";
-import path from "node:path";
 import { getConfig } from "@/lib/config";
 import { loadEnv } from "@/lib/load-env";
 import { prepareDatabase } from "@/lib/db/bootstrap";
 import { stopMariaDb } from "@/lib/db/mariadb-server";
 import { closeSequelize } from "@/lib/db/sequelize";
 import { REPO_ROOT, startServer } from "@/server/index";
+import { buildState, runNextBuild } from "@/server/next-build";
 
 const dev = process.argv.includes("--dev");
 (process.env as Record<string, string>).NODE_ENV = dev ? "development" : "production";
 process.env.NEXT_TELEMETRY_DISABLED = "1";
 
 const log = (m: string) => console.log(`[start] ${m}`);
-
-/** Inputs of the Next build: a newer file than BUILD_ID means the build is stale. */
-const BUILD_INPUTS = ["app", "lib", "models", "public", "next.config.ts", "postcss.config.mjs", "package-lock.json", "tsconfig.json"];
-const SKIP_DIRS = new Set(["node_modules", ".next", ".data", ".git"]);
-
-function newestMtime(p: string): number {
-  let st: fs.Stats;
-  try {
-    st = fs.statSync(p);
-  } catch {
-    return 0;
-  }
-  if (!st.isDirectory()) return st.mtimeMs;
-  let newest = 0;
-  for (const e of fs.readdirSync(p, { withFileTypes: true })) {
-    if (SKIP_DIRS.has(e.name)) continue;
-    newest = Math.max(newest, newestMtime(path.join(p, e.name)));
-  }
-  return newest;
-}
-
-export function buildIsStale(root: string = REPO_ROOT): { stale: boolean; why: string } {
-  const id = path.join(root, ".next", "BUILD_ID");
-  if (!fs.existsSync(id)) return { stale: true, why: "no production build yet" };
-  const built = fs.statSync(id).mtimeMs;
-  const newest = Math.max(...BUILD_INPUTS.map((p) => newestMtime(path.join(root, p))));
-  return newest > built ? { stale: true, why: "sources changed since the last build" } : { stale: false, why: "" };
-}
-
-function runBuild(): Promise<void> {
-  return new Promise((resolve, reject) => {
-    const child = spawn(path.join(REPO_ROOT, "node_modules", ".bin", "next"), ["build"], {
-      cwd: REPO_ROOT,
-      stdio: "inherit",
-      env: { ...process.env, NODE_ENV: "production", NEXT_TELEMETRY_DISABLED: "1" },
-    });
-    const forward = (sig: NodeJS.Signals) => child.kill(sig);
-    process.on("SIGINT", forward);
-    process.on("SIGTERM", forward);
-    child.on("error", reject);
-    child.on("exit", (code, signal) => {
-      process.off("SIGINT", forward);
-      process.off("SIGTERM", forward);
-      if (code === 0) resolve();
-      else reject(new Error(`next build failed (${signal ?? `exit ${code}`})`));
-    });
-  });
-}
 
 async function printWelcome(url: string): Promise<void> {
   const { DEMO_ACCOUNTS, DEMO_PASSWORD } = await import("@/lib/seed");
@@ -146,10 +96,10 @@ async function main(): Promise<void> {
     }
 
     if (!dev) {
-      const b = buildIsStale();
+      const b = buildState(REPO_ROOT);
       if (b.stale) {
         log(`building the web app (${b.why}); this takes a minute or two`);
-        await runBuild();
+        await runNextBuild(REPO_ROOT);
       }
     }
     if (signalled) return;

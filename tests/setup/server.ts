@@ -8,8 +8,9 @@
  *   afterAll(async () => { await srv?.stop(); });
  *
  * Next needs a production build: if `.next/BUILD_ID` is missing, one `next build` runs first
- * (under a lock, so parallel test files build once). The build is not refreshed when sources
- * change — run `npm run build` (or `npm start`, which checks) after editing pages.
+ * (under a lock, so parallel test files build once). A build older than the sources is only
+ * reported (a rebuild while other test files run would pull .next from under them); set
+ * RG_TEST_REBUILD=1 to rebuild a stale build before the tests.
  */
 import { spawnSync } from "node:child_process";
 import { randomBytes } from "node:crypto";
@@ -22,6 +23,7 @@ import { closeSequelize } from "@/lib/db/sequelize";
 import { resetAuthOptions } from "@/lib/auth/options";
 import { seedDemo } from "@/lib/seed";
 import { REPO_ROOT, startServer, type RunningServer, type StartServerOptions } from "@/server/index";
+import { buildState } from "@/server/next-build";
 import { createTestDatabase, type TestDatabase } from "./db";
 
 export interface TestServer {
@@ -39,13 +41,22 @@ export interface TestServerOptions {
   skip?: StartServerOptions["skip"];
 }
 
-/** Run `next build` once when no production build exists. */
+/** Run `next build` once when no production build exists (or it is stale and RG_TEST_REBUILD=1). */
 export function ensureNextBuild(): void {
-  if (fs.existsSync(path.join(REPO_ROOT, ".next", "BUILD_ID"))) return;
+  const state = buildState(REPO_ROOT);
+  const rebuild = process.env.RG_TEST_REBUILD === "1";
+  if (fs.existsSync(path.join(REPO_ROOT, ".next", "BUILD_ID"))) {
+    if (!state.stale) return;
+    if (!rebuild) {
+      console.warn(`[test server] the Next build is stale (${state.why}); new or changed routes may answer 404. RG_TEST_REBUILD=1 rebuilds.`);
+      return;
+    }
+  }
   const lock = path.join(os.tmpdir(), "rimguard-next-build.lock");
   const r = spawnSync(
     "flock",
-    [lock, "sh", "-c", "test -f .next/BUILD_ID || node_modules/.bin/next build"],
+    // Under the lock, skip the build when another test file finished one after we asked.
+    [lock, "sh", "-c", `b=$(stat -c %Y .next/BUILD_ID 2>/dev/null || echo 0); [ "$b" -ge ${Math.floor(Date.now() / 1000)} ] || node_modules/.bin/next build`],
     {
       cwd: REPO_ROOT,
       stdio: "inherit",
