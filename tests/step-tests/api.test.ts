@@ -66,7 +66,7 @@ const sp = (loopId: number, stepTestId: number | string) => ({ params: Promise.r
 
 function upload(loopId: number, content: string | Uint8Array, filename = "fic101-bump.csv", extra: Record<string, string> = {}): Request {
   const form = new FormData();
-  form.set("file", new Blob([content], { type: "text/csv" }), filename);
+  form.set("file", new Blob([typeof content === "string" ? content : new Uint8Array(content)], { type: "text/csv" }), filename);
   for (const [k, v] of Object.entries(extra)) form.set(k, v);
   return new Request(url(`/api/loops/${loopId}/step-tests`), { method: "POST", body: form });
 }
