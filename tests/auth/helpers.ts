@@ -1,7 +1,5 @@
 /** HTTP helpers for signing in through the real next-auth route handlers. */
-import { DEMO_PASSWORD } from "@/lib/seed";
-
-export { DEMO_PASSWORD };
+import http from "node:http";
 
 /** A minimal cookie jar: name -> value, from Set-Cookie headers. */
 export class CookieJar {
@@ -61,4 +59,58 @@ export function authedFetch(baseUrl: string, jar: CookieJar | null, path: string
   const headers = new Headers(init.headers);
   if (jar) headers.set("cookie", jar.header());
   return fetch(`${baseUrl}${path}`, { ...init, headers, redirect: "manual" });
+}
+
+interface RawResponse {
+  status: number;
+  setCookie: string[];
+  body: string;
+}
+
+/** One HTTP request from a chosen local address (127.0.0.x are all loopback on Linux). */
+function requestFrom(url: string, localAddress: string, init: { method?: string; headers?: Record<string, string>; body?: string } = {}): Promise<RawResponse> {
+  return new Promise((resolve, reject) => {
+    const req = http.request(url, { method: init.method ?? "GET", headers: init.headers, localAddress }, (res) => {
+      let body = "";
+      res.setEncoding("utf8");
+      res.on("data", (c: string) => (body += c));
+      res.on("end", () => {
+        const sc = res.headers["set-cookie"] ?? [];
+        resolve({ status: res.statusCode ?? 0, setCookie: Array.isArray(sc) ? sc : [sc], body });
+      });
+    });
+    req.on("error", reject);
+    if (init.body) req.write(init.body);
+    req.end();
+  });
+}
+
+/** Like signIn, but from a given loopback address and with extra request headers. */
+export async function signInFrom(
+  baseUrl: string,
+  localAddress: string,
+  email: string,
+  password: string,
+  extraHeaders: Record<string, string> = {},
+): Promise<{ session: boolean; error: string | null }> {
+  const cookies = new Map<string, string>();
+  const absorb = (lines: string[]) => {
+    for (const line of lines) {
+      const pair = line.split(";")[0] ?? "";
+      const eq = pair.indexOf("=");
+      if (eq > 0) cookies.set(pair.slice(0, eq).trim(), pair.slice(eq + 1).trim());
+    }
+  };
+  const header = () => [...cookies].map(([k, v]) => `${k}=${v}`).join("; ");
+  const csrf = await requestFrom(`${baseUrl}/api/auth/csrf`, localAddress, { headers: extraHeaders });
+  absorb(csrf.setCookie);
+  const { csrfToken } = JSON.parse(csrf.body) as { csrfToken: string };
+  const res = await requestFrom(`${baseUrl}/api/auth/callback/credentials`, localAddress, {
+    method: "POST",
+    headers: { ...extraHeaders, "content-type": "application/x-www-form-urlencoded", cookie: header() },
+    body: new URLSearchParams({ csrfToken, email, password, callbackUrl: `${baseUrl}/`, json: "true" }).toString(),
+  });
+  absorb(res.setCookie);
+  const url = (JSON.parse(res.body || "{}") as { url?: string }).url;
+  return { session: cookies.has(SESSION_COOKIE), error: url ? new URL(url, baseUrl).searchParams.get("error") : null };
 }

@@ -7,7 +7,7 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { SIGNIN_LIMITS } from "@/lib/auth/throttle";
 import { startTestServer, type TestServer } from "../setup/server";
 import { createAuthFixture, FIXTURE_PASSWORD as PASSWORD, type AuthFixture } from "./fixture";
-import { authedFetch, signIn } from "./helpers";
+import { authedFetch, signIn, signInFrom } from "./helpers";
 
 let srv: TestServer;
 let fx: AuthFixture;
@@ -71,6 +71,23 @@ describe("sign-in with e-mail and password", () => {
     // Another account from the same address is not blocked by this account's failures.
     const other = await signIn(srv.url, fx.b.users.admin.email, PASSWORD);
     expect(other.session).toBeTruthy();
+  });
+
+  it("counts attempts per client address taken from the connection, not from a header the client sends", async () => {
+    // 127.0.0.0/8 is loopback on Linux: 127.0.0.2 and 127.0.0.3 are other client addresses.
+    const email = fx.a.users.engineer.email;
+    for (let i = 0; i < SIGNIN_LIMITS.perAccount.points; i++) {
+      expect((await signInFrom(srv.url, "127.0.0.2", email, `wrong-${i}`)).error).toBe("CredentialsSignin");
+    }
+    const blocked = await signInFrom(srv.url, "127.0.0.2", email, PASSWORD);
+    expect(blocked.session).toBe(false);
+    expect(blocked.error).toMatch(/^Too many attempts/);
+    // Claiming another address in our header does not help: the server overwrites it.
+    const spoofed = await signInFrom(srv.url, "127.0.0.2", email, PASSWORD, { "x-rimguard-client-ip": "10.9.9.9" });
+    expect(spoofed.error).toMatch(/^Too many attempts/);
+    // The same account from another address is not blocked.
+    const elsewhere = await signInFrom(srv.url, "127.0.0.3", email, PASSWORD);
+    expect(elsewhere).toEqual({ session: true, error: null });
   });
 
   it("signing out revokes the session on the server, not only in the browser", async () => {
