@@ -20,6 +20,8 @@ export function SessionKeeper() {
       if (stopped) return;
       stopped = true;
       const back = `${window.location.pathname}${window.location.search}`;
+      // A full load on purpose: the page's live state belongs to a session that has ended.
+      // eslint-disable-next-line @next/next/no-location-assign-relative-destination
       window.location.assign(`/signin?error=SessionRequired&callbackUrl=${encodeURIComponent(back)}`);
     };
     const check = async () => {
