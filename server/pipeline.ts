@@ -9,12 +9,13 @@ import { getSequelize } from "@/lib/db/sequelize";
 import { loadLoopConfigs, type LoadedLoop } from "@/server/ingest/loop-source";
 import { TELEMETRY_WILDCARD } from "@/lib/telemetry";
 import type { LoopStateDto } from "@/lib/types";
-import { startBroker, type BrokerOptions, type BrokerService } from "./broker";
+import { EXTERNAL_BROKER, startBroker, type BrokerOptions, type BrokerService } from "./broker";
 import { dbCredentials } from "./broker/db-credentials";
 import type { ServerContext, Service, ServiceHealth } from "./context";
 import { loadCheckpoints, loadLoopStates, saveCheckpoints } from "./history/checkpoints";
 import { startHistory, type HistoryOptions, type HistoryService } from "./history";
-import { Ingest, IngestCounters, LoopDirectory, type DeviceCounters } from "./ingest";
+import { Ingest, IngestCounters, LoopDirectory, type DeviceCounters, type DeviceIdentity } from "./ingest";
+import { parseTelemetryTopic } from "@/lib/telemetry";
 import { startRealtimeEmitter, type RealtimeEmitter, type RealtimeEmitterOptions } from "./realtime/emitter";
 import { installWatch } from "./realtime/watch";
 import { TrackerRegistry } from "./tracking/registry";
@@ -53,6 +54,18 @@ export interface PipelineService extends Service {
 /** Find the running pipeline from a route handler (duck-typed: bundles may hold separate module copies). */
 export function isPipelineService(s: Service | undefined): s is PipelineService {
   return !!s && s.name === "pipeline" && typeof (s as Partial<PipelineService>).ingestDiagnostics === "function";
+}
+
+/**
+ * An external broker does its own device authentication and tells us nothing about the sender;
+ * its traffic is counted per tenant and site of the topic, so each tenant's admin still sees it.
+ */
+function externalIdentity(topic: string, directory: LoopDirectory): DeviceIdentity {
+  const t = parseTelemetryTopic(topic);
+  if (!t) return EXTERNAL_BROKER;
+  const tenantId = directory.tenantIdOf(t.tenantSlug);
+  if (tenantId === null) return EXTERNAL_BROKER;
+  return { key: `(external broker) ${t.tenantSlug}/${t.siteSlug}`, tenantId, tenantSlug: t.tenantSlug, siteSlug: t.siteSlug };
 }
 
 export async function startPipeline(ctx: ServerContext, opts: PipelineOptions = {}): Promise<PipelineService> {
@@ -141,7 +154,7 @@ export async function startPipeline(ctx: ServerContext, opts: PipelineOptions = 
     throw err;
   }
   broker.subscribeInternal(TELEMETRY_WILDCARD, (m) => {
-    ingest.handle({ topic: m.topic, payload: m.payload, device: m.device, dup: m.dup, retain: m.retain });
+    ingest.handle({ topic: m.topic, payload: m.payload, device: m.device === EXTERNAL_BROKER ? externalIdentity(m.topic, directory) : m.device, dup: m.dup, retain: m.retain });
   });
 
   const tickTimer = registry.startTimer(opts.tickEveryMs ?? 1_000);

@@ -194,3 +194,37 @@ describe("connection rate limits", () => {
     expect(codes).toEqual([4, 4, 4, 3]);
   });
 });
+
+describe("external broker (MQTT_URL)", () => {
+  it("subscribes to rg/+/+/+/samples on the external broker and delivers messages in-process", async () => {
+    // A plain aedes on port 0 stands in for the external broker (e.g. Debian's mosquitto).
+    const { Aedes } = await import("aedes");
+    const net = await import("node:net");
+    const external = await Aedes.createBroker();
+    const server = net.createServer(external.handle);
+    await new Promise<void>((r) => server.listen(0, "127.0.0.1", () => r()));
+    const port = (server.address() as { port: number }).port;
+    const clock = new ManualClock(Date.now());
+    const svc = await startBroker(testContext(clock), { credentials: new StaticCredentials(), mqttUrl: `mqtt://127.0.0.1:${port}` });
+    const got: BrokerMessage[] = [];
+    svc.subscribeInternal("rg/+/+/+/samples", (m) => got.push(m));
+    const pub = await mqtt.connectAsync(`mqtt://127.0.0.1:${port}`, { clientId: "plant-gw", reconnectPeriod: 0 });
+    try {
+      expect(svc.broker).toBeNull();
+      const end = Date.now() + 5000;
+      while (got.length === 0 && Date.now() < end) {
+        await pub.publishAsync("rg/acme/north/fic-101/samples", sample(1), { qos: 1 });
+        await pub.publishAsync("rg/acme/north/fic-101/other", sample(1), { qos: 0 });
+        await new Promise((r) => setTimeout(r, 50));
+      }
+      expect(got.length).toBeGreaterThan(0);
+      expect(got.every((m) => m.topic === "rg/acme/north/fic-101/samples" && m.device.key === "(external broker)")).toBe(true);
+      expect((await svc.health()).status).toBe("ok");
+    } finally {
+      await pub.endAsync(true);
+      await svc.stop();
+      await new Promise<void>((r) => external.close(() => r()));
+      await new Promise<void>((r) => server.close(() => r()));
+    }
+  });
+});
