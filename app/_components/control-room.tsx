@@ -9,9 +9,8 @@ import Link from "next/link";
 import { useDeferredValue, useLayoutEffect, useMemo, useRef, useState } from "react";
 import type { AlarmDto, Role } from "@/lib/types";
 import { roleAtLeast } from "@/lib/types";
-import { useAlarms, useLoops, useNow } from "@/lib/client/hooks";
+import { useAlarms, useDecayLevels, useLoops, useNow } from "@/lib/client/hooks";
 import { ATTENTION_STATES, sortWorstFirst } from "@/lib/client/order";
-import { DEFAULT_POLICY } from "@/lib/alarms/policy";
 import { CONDITION_WORDS, fmtClock } from "@/lib/client/format";
 import { AlarmActions } from "./alarm-actions";
 import { AreaSummaries, summariseAreas } from "./area-summary";
@@ -23,7 +22,8 @@ const GAP = 8;
 
 export function ControlRoom({ role }: { role: Role }) {
   const { loops: raw, store, error, isLoading, connected } = useLoops();
-  const loops = useMemo(() => sortWorstFirst(raw, DEFAULT_POLICY.decayRatio.high), [raw]);
+  const levels = useDecayLevels("tenant");
+  const loops = useMemo(() => sortWorstFirst(raw, levels.high), [raw, levels.high]);
   const now = useNow(1000);
   const areas = useMemo(() => summariseAreas(loops, now), [loops, now]);
   const [filter, setFilter] = useState("");
@@ -72,14 +72,14 @@ export function ControlRoom({ role }: { role: Role }) {
           <p className="text-xs text-muted">
             {shown.length} of {loops.length} loops, worst first (alarm priority, then margin to the alarm level).
           </p>
-          <TileGrid loops={shown} store={store} now={now} />
+          <TileGrid loops={shown} store={store} now={now} levels={levels} />
         </>
       )}
     </div>
   );
 }
 
-function TileGrid({ loops, store, now }: { loops: ReturnType<typeof useLoops>["loops"]; store: ReturnType<typeof useLoops>["store"]; now: number }) {
+function TileGrid({ loops, store, now, levels }: { loops: ReturnType<typeof useLoops>["loops"]; store: ReturnType<typeof useLoops>["store"]; now: number; levels: { low: number; high: number } }) {
   const parent = useRef<HTMLDivElement>(null);
   const [width, setWidth] = useState(1200);
   const [offset, setOffset] = useState(0);
@@ -115,7 +115,7 @@ function TileGrid({ loops, store, now }: { loops: ReturnType<typeof useLoops>["l
           }}
         >
           {loops.slice(row.index * cols, row.index * cols + cols).map((l) => (
-            <LoopTile key={l.id} loop={l} spark={store.spark(l.id)} now={nowS} />
+            <LoopTile key={l.id} loop={l} spark={store.spark(l.id)} now={nowS} levels={levels} />
           ))}
         </div>
       ))}

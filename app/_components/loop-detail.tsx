@@ -10,12 +10,11 @@ import useSWR from "swr";
 import type uPlot from "uplot";
 import type { LoopSummary, Role } from "@/lib/types";
 import { roleAtLeast } from "@/lib/types";
-import { DEFAULT_POLICY } from "@/lib/alarms/policy";
 import { fetchJson, query } from "@/lib/client/fetcher";
 import { fmt, fmtAge, fmtTime } from "@/lib/client/format";
 import { parseHistory, snapshotAt } from "@/lib/client/history";
 import { RANGES, type RangeKey } from "@/lib/client/ranges";
-import { useLoop, useLoopSamples, useNow } from "@/lib/client/hooks";
+import { useDecayLevels, useLoop, useLoopSamples, useNow } from "@/lib/client/hooks";
 import { dataAge } from "@/lib/client/order";
 import { AnalysisPanel } from "./analysis-panel";
 import { gaugeLevels } from "./loop-tile";
@@ -73,7 +72,8 @@ export function LoopDetail({ loopId, role, initialRange = "1h" }: { loopId: numb
     // eslint-disable-next-line react-hooks/exhaustive-deps
   }, [parsed, live.version, anchor, rangeMs]);
 
-  const levels = state ? gaugeLevels(state.modelPoles.length ? state.modelPoles : state.dataPoles) : { warn: null, alarm: null };
+  const dr = useDecayLevels("loop", loopId);
+  const levels = state ? gaugeLevels(state.modelPoles.length ? state.modelPoles : state.dataPoles, dr) : { warn: null, alarm: null };
   const radiusData = useMemo((): uPlot.AlignedData => {
     const c = parsed.cols;
     const t = Array.from(c.t);
@@ -186,8 +186,8 @@ export function LoopDetail({ loopId, role, initialRange = "1h" }: { loopId: numb
             axes={[{ scale: "r", label: "ρ" }]}
             levels={[
               { value: 1, label: "unit circle", stroke: "var(--rg-ink)", dash: [1, 0], scale: "r" },
-              ...(levels.warn != null ? [{ value: levels.warn, label: `warning (DR ${DEFAULT_POLICY.decayRatio.low})`, stroke: "var(--rg-muted)", scale: "r" }] : []),
-              ...(levels.alarm != null ? [{ value: levels.alarm, label: `alarm (DR ${DEFAULT_POLICY.decayRatio.high})`, stroke: "var(--rg-high)", scale: "r" }] : []),
+              ...(levels.warn != null ? [{ value: levels.warn, label: `low level (DR ${dr.low})`, stroke: "var(--rg-muted)", scale: "r" }] : []),
+              ...(levels.alarm != null ? [{ value: levels.alarm, label: `high level (DR ${dr.high})`, stroke: "var(--rg-high)", scale: "r" }] : []),
             ]}
             bands={forecastBand}
             height={170}

@@ -13,9 +13,8 @@ import Link from "next/link";
 import { useMemo, useState } from "react";
 import type { LoopSummary, Role } from "@/lib/types";
 import { TRACKER_STATES, roleAtLeast } from "@/lib/types";
-import { DEFAULT_POLICY } from "@/lib/alarms/policy";
 import { fmt, fmtAge, fmtSeconds } from "@/lib/client/format";
-import { useLoops, useNow } from "@/lib/client/hooks";
+import { useDecayLevels, useLoops, useNow } from "@/lib/client/hooks";
 import { compareWorstFirst, dataAge, worstPriority } from "@/lib/client/order";
 import { PriorityMark } from "./priority-mark";
 import { TrackerStateBadge } from "./tracker-state-badge";
@@ -25,6 +24,7 @@ const col = createColumnHelper<LoopSummary>();
 export function LoopInventory({ role }: { role: Role }) {
   const { loops, error, isLoading } = useLoops();
   const now = useNow(5000);
+  const levels = useDecayLevels("tenant");
   const [q, setQ] = useState("");
   const [site, setSite] = useState("");
   const [tracker, setTracker] = useState("");
@@ -48,7 +48,7 @@ export function LoopInventory({ role }: { role: Role }) {
         id: "worst",
         header: "Alarm",
         enableSorting: true,
-        sortingFn: (a, b) => compareWorstFirst(a.original, b.original, DEFAULT_POLICY.decayRatio.high),
+        sortingFn: (a, b) => compareWorstFirst(a.original, b.original, levels.high),
         cell: (c) => {
           const p = worstPriority(c.row.original);
           const a = c.row.original.alarms.find((x) => x.priority === p);
@@ -75,7 +75,7 @@ export function LoopInventory({ role }: { role: Role }) {
         },
       }),
     ],
-    [now],
+    [now, levels.high],
   );
   const table = useReactTable({
     data: rows,

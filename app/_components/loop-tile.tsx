@@ -34,10 +34,10 @@ export function gaugeLevels(poles: PoleDto[], levels = DEFAULT_POLICY.decayRatio
   return { warn: radiusForDecayRatio(levels.low, theta), alarm: radiusForDecayRatio(levels.high, theta) };
 }
 
-function LoopTileInner({ loop, spark, now, big = false }: { loop: LoopSummary; spark?: Spark; now: number; big?: boolean }) {
+function LoopTileInner({ loop, spark, now, big = false, levels: dr = DEFAULT_POLICY.decayRatio }: { loop: LoopSummary; spark?: Spark; now: number; big?: boolean; levels?: { low: number; high: number } }) {
   const st = loop.state;
   const { ageS, stale } = dataAge(st, now);
-  const levels = st ? gaugeLevels(st.modelPoles.length ? st.modelPoles : st.dataPoles) : { warn: null, alarm: null };
+  const levels = st ? gaugeLevels(st.modelPoles.length ? st.modelPoles : st.dataPoles, dr) : { warn: null, alarm: null };
   const radii = spark ? sparkValues(spark, "radius") : [];
   const decays = spark ? sparkValues(spark, "decay") : [];
   const finiteR = radii.filter(Number.isFinite);
@@ -80,7 +80,7 @@ function LoopTileInner({ loop, spark, now, big = false }: { loop: LoopSummary; s
           <div className={`num font-mono ${big ? "text-xl" : "text-sm"} ${stale ? "text-suppressed" : ""}`} data-testid="tile-radius">
             ρ {fmt(st?.spectralRadius ?? null)} <span className="text-muted">DR {fmt(st?.decayRatio ?? null, 2)}</span>
           </div>
-          <Sparkline values={decays.some(Number.isFinite) ? decays : radii} lo={0} hi={1} width={big ? 150 : 110} height={22} level={DEFAULT_POLICY.decayRatio.high} label={`${loop.tag} recent decay ratio`} />
+          <Sparkline values={decays.some(Number.isFinite) ? decays : radii} lo={0} hi={1} width={big ? 150 : 110} height={22} level={dr.high} label={`${loop.tag} recent decay ratio`} />
           <div className="mt-auto flex flex-wrap items-center gap-x-2 gap-y-0.5 text-xs">
             {active.slice(0, 2).map((a) => (
               <PriorityMark key={a.id} priority={a.priority} state={a.state} size={big ? 20 : 14} showWord={false} />

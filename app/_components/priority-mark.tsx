@@ -7,8 +7,20 @@ import { ALARM_STATE_WORDS } from "@/lib/client/format";
 
 const NUMBER: Record<AlarmPriority, string> = { urgent: "1", high: "2", low: "3" };
 
-export function PriorityShape({ priority, size = 20, pulse = false }: { priority: AlarmPriority; size?: number; pulse?: boolean }) {
+/** `muted`: the alarm is not asking for anyone (normal, shelved, suppressed, out of service): grey, same shape. */
+export function PriorityShape({ priority, size = 20, pulse = false, muted = false }: { priority: AlarmPriority; size?: number; pulse?: boolean; muted?: boolean }) {
   const cls = pulse ? "pulse-unack" : undefined;
+  if (muted)
+    return (
+      <svg width={size} height={size} viewBox="0 0 20 20" aria-hidden="true" style={{ flex: "none" }}>
+        {priority === "urgent" && <polygon points="10,1 18,5.5 18,14.5 10,19 2,14.5 2,5.5" fill="none" stroke="var(--rg-suppressed)" strokeWidth="1.6" />}
+        {priority === "high" && <polygon points="10,1 19,10 10,19 1,10" fill="none" stroke="var(--rg-suppressed)" strokeWidth="1.6" />}
+        {priority === "low" && <circle cx="10" cy="10" r="8" fill="none" stroke="var(--rg-suppressed)" strokeWidth="1.6" strokeDasharray="3 2" />}
+        <text x="10" y="14" textAnchor="middle" fontSize="11" fontWeight="700" fontFamily="var(--font-mono)" fill="var(--rg-suppressed)">
+          {NUMBER[priority]}
+        </text>
+      </svg>
+    );
   return (
     <svg width={size} height={size} viewBox="0 0 20 20" aria-hidden="true" className={cls} style={{ flex: "none" }}>
       {priority === "urgent" && (
@@ -48,10 +60,11 @@ export function PriorityMark({
   let stateWord = state ? (ALARM_STATE_WORDS[state] ?? state) : null;
   if (state === "shelved" && shelvedUntil) stateWord = `shelved until ${new Date(shelvedUntil).toISOString().slice(11, 16)} UTC`;
   const pulse = state === "unacknowledged" || state === "rtn-unacknowledged";
-  const colour = priority === "urgent" ? "text-urgent" : priority === "high" ? "text-high" : "text-low";
+  const muted = state !== undefined && !(state === "unacknowledged" || state === "acknowledged" || state === "rtn-unacknowledged");
+  const colour = muted ? "text-suppressed" : priority === "urgent" ? "text-urgent" : priority === "high" ? "text-high" : "text-low";
   return (
     <span className="inline-flex items-center gap-1.5 whitespace-nowrap" title={`${word} priority${stateWord ? `, ${stateWord}` : ""}`}>
-      <PriorityShape priority={priority} size={size} pulse={pulse} />
+      <PriorityShape priority={priority} size={size} pulse={pulse} muted={muted} />
       {showWord && <span className={`font-semibold ${colour}`}>{word}</span>}
       {stateWord && <span className="text-muted">{stateWord}</span>}
     </span>

@@ -5,10 +5,9 @@
  */
 import Link from "next/link";
 import { useMemo } from "react";
-import { DEFAULT_POLICY } from "@/lib/alarms/policy";
 import { TRACKER_STATES } from "@/lib/types";
 import { fmt } from "@/lib/client/format";
-import { useLoops, useNow } from "@/lib/client/hooks";
+import { useDecayLevels, useLoops, useNow } from "@/lib/client/hooks";
 import { dataAge, sortWorstFirst } from "@/lib/client/order";
 import { KpiCharts } from "./kpi-charts";
 
@@ -17,6 +16,7 @@ const BINS = [0, 0.1, 0.2, 0.3, 0.4, 0.5, 0.6, 0.7, 0.8, 0.9, 1.0001];
 export function ReportsView() {
   const { loops, isLoading } = useLoops();
   const now = useNow(10_000);
+  const levels = useDecayLevels("tenant");
   const byState = useMemo(() => {
     const m = new Map<string, number>();
     for (const l of loops) m.set(l.state?.trackerState ?? "no estimate", (m.get(l.state?.trackerState ?? "no estimate") ?? 0) + 1);
@@ -36,7 +36,7 @@ export function ReportsView() {
     }
     return { h, none };
   }, [loops]);
-  const worst = useMemo(() => sortWorstFirst(loops, DEFAULT_POLICY.decayRatio.high).slice(0, 10), [loops]);
+  const worst = useMemo(() => sortWorstFirst(loops, levels.high).slice(0, 10), [loops, levels.high]);
   const stale = loops.filter((l) => dataAge(l.state, now).stale).length;
   const maxBin = Math.max(1, ...hist.h);
   return (
@@ -66,7 +66,7 @@ export function ReportsView() {
               const h = (n / maxBin) * 90;
               return <rect key={i} x={10 + i * 20} y={100 - h} width="17" height={h} fill="var(--rg-ink)" opacity="0.8" />;
             })}
-            {[DEFAULT_POLICY.decayRatio.low, DEFAULT_POLICY.decayRatio.high].map((lv, i) => (
+            {[levels.low, levels.high].map((lv, i) => (
               <line key={i} x1={10 + lv * 200} x2={10 + lv * 200} y1="5" y2="100" stroke={i ? "var(--rg-high)" : "var(--rg-muted)"} strokeDasharray="3 2" />
             ))}
             <line x1="10" x2="210" y1="100" y2="100" stroke="var(--rg-line)" />
@@ -77,7 +77,7 @@ export function ReportsView() {
             ))}
           </svg>
           <p className="text-xs text-muted">
-            Dashed: low ({DEFAULT_POLICY.decayRatio.low}) and high ({DEFAULT_POLICY.decayRatio.high}) default levels. {hist.none} loop(s) have no oscillating mode.
+            Dashed: the tenant&apos;s low ({levels.low}) and high ({levels.high}) levels. {hist.none} loop(s) have no oscillating mode.
           </p>
         </section>
         <section className="rounded-md border border-line bg-surface p-3" aria-label="Closest to the levels">

@@ -7,7 +7,7 @@
 import Link from "next/link";
 import { useEffect, useMemo, useState } from "react";
 import type { LoopSummary, Role } from "@/lib/types";
-import { useLoops, useNow } from "@/lib/client/hooks";
+import { useDecayLevels, useLoops, useNow } from "@/lib/client/hooks";
 import { marginToAlarm, sortWorstFirst, worstPriority } from "@/lib/client/order";
 import { DEFAULT_POLICY } from "@/lib/alarms/policy";
 import { AreaSummaries, summariseAreas } from "./area-summary";
@@ -30,20 +30,21 @@ function useViewport(): { w: number; h: number } {
 }
 
 /** Loops that stay on every page: any alarm needing a person, or past the alarm level. */
-export function pinnedLoops(sorted: LoopSummary[], max: number): LoopSummary[] {
-  return sorted.filter((l) => worstPriority(l) !== null || marginToAlarm(l.state, DEFAULT_POLICY.decayRatio.high) < 0).slice(0, max);
+export function pinnedLoops(sorted: LoopSummary[], max: number, decayAlarm = DEFAULT_POLICY.decayRatio.high): LoopSummary[] {
+  return sorted.filter((l) => worstPriority(l) !== null || marginToAlarm(l.state, decayAlarm) < 0).slice(0, max);
 }
 
 export function WallView({ role, caution }: { role: Role; caution: string }) {
   const { loops: raw, store, connected } = useLoops();
-  const sorted = useMemo(() => sortWorstFirst(raw, DEFAULT_POLICY.decayRatio.high), [raw]);
+  const levels = useDecayLevels("tenant");
+  const sorted = useMemo(() => sortWorstFirst(raw, levels.high), [raw, levels.high]);
   const now = useNow(1000);
   const areas = useMemo(() => summariseAreas(sorted, now), [sorted, now]);
   const { w, h } = useViewport();
   const cols = Math.max(1, Math.floor((w - 32) / (TILE_W + 12)));
   const reserved = 300; // header, area summaries and alarm band
   const rowsFit = Math.max(1, Math.floor((h - reserved) / (TILE_H + 12)));
-  const pinned = pinnedLoops(sorted, cols); // one row at most stays put
+  const pinned = pinnedLoops(sorted, cols, levels.high); // one row at most stays put
   const pinnedIds = new Set(pinned.map((l) => l.id));
   const rest = sorted.filter((l) => !pinnedIds.has(l.id));
   const perPage = Math.max(1, (rowsFit - (pinned.length ? 1 : 0)) * cols);
@@ -94,7 +95,7 @@ export function WallView({ role, caution }: { role: Role; caution: string }) {
         <section aria-label="Loops needing attention" className="grid gap-3" style={{ gridTemplateColumns: `repeat(${cols}, minmax(0, 1fr))` }}>
           {pinned.map((l) => (
             <div key={l.id} style={{ height: TILE_H }}>
-              <LoopTile loop={l} spark={store.spark(l.id)} now={nowS} big />
+              <LoopTile loop={l} spark={store.spark(l.id)} now={nowS} big levels={levels} />
             </div>
           ))}
         </section>
@@ -102,7 +103,7 @@ export function WallView({ role, caution }: { role: Role; caution: string }) {
       <section aria-label={`Loops, page ${current + 1} of ${pages}`} className="grid flex-1 content-start gap-3" style={{ gridTemplateColumns: `repeat(${cols}, minmax(0, 1fr))` }}>
         {pageLoops.map((l) => (
           <div key={l.id} style={{ height: TILE_H }}>
-            <LoopTile loop={l} spark={store.spark(l.id)} now={nowS} big />
+            <LoopTile loop={l} spark={store.spark(l.id)} now={nowS} big levels={levels} />
           </div>
         ))}
       </section>

@@ -5,6 +5,7 @@
  */
 import { useEffect, useMemo, useRef, useState, useSyncExternalStore } from "react";
 import useSWR from "swr";
+import { DEFAULT_POLICY } from "@/lib/alarms/policy";
 import type { AlarmDto, LoopSummary, SampleDto } from "@/lib/types";
 import { fetchJson } from "./fetcher";
 import { LoopStore } from "./loop-store";
@@ -184,4 +185,15 @@ export function useLoop(loopId: number, trailLength = 24) {
   const live = liveRaw && liveRaw.loopId === loopId ? liveRaw : null;
   const state = live && (!base?.state || live.state.at >= base.state.at) ? live.state : (base?.state ?? null);
   return { loop: base, state, trail: live?.trail ?? [], error: error as Error | undefined, isLoading, mutate: () => void mutate() };
+}
+
+/**
+ * The effective decay-ratio levels of a scope (`GET /api/alarm-policies`), so gauges, bands and
+ * the worst-first order use the tenant's or the loop's own levels; the built-in defaults until
+ * the answer arrives (or when it fails).
+ */
+export function useDecayLevels(scope: "tenant" | "loop", id?: number): { low: number; high: number } {
+  const key = scope === "tenant" ? "/api/alarm-policies?scope=tenant" : id ? `/api/alarm-policies?scope=loop&id=${id}` : null;
+  const { data } = useSWR(key, (u: string) => fetchJson<{ effective?: { decayRatio?: { low: number; high: number } } }>(u), { refreshInterval: 60_000 });
+  return data?.effective?.decayRatio ?? DEFAULT_POLICY.decayRatio;
 }
