@@ -10,13 +10,20 @@ import { useState } from "react";
 import { useForm } from "react-hook-form";
 import useSWR from "swr";
 import { z } from "zod";
-import type { EffectivePolicy, LevelEquivalent, PolicyOverride, PolicyScope } from "@/lib/alarms/policy";
+import type {
+  EffectivePolicy,
+  LevelEquivalent,
+  PolicyOverride,
+  PolicyScope,
+} from "@/lib/alarms/policy";
 import type { SiteDto } from "@/lib/admin/sites";
 import type { Role } from "@/lib/types";
 import { roleAtLeast } from "@/lib/types";
 import { fetchJson, query, sendJson } from "@/lib/client/fetcher";
 import { fmt, fmtSeconds, fmtTime } from "@/lib/client/format";
-import { timeConstantOfRadius } from "@/lib/client/order";
+import { radiusForDecayRatio, timeConstantOfRadius } from "@/lib/client/order";
+import type { LoopSummary } from "@/lib/types";
+import { dominantPole } from "./loop-tile";
 
 interface LoopPolicyView {
   loopId: number;
@@ -51,20 +58,58 @@ const formSchema = z
     reason: z.string().trim().min(5, "Give a change reason (at least 5 characters)."),
     mocReference: z.string().trim().max(100).optional(),
   })
-  .refine((v) => v.drLow < v.drHigh, { path: ["drHigh"], message: "The high decay-ratio level must be above the low one." })
-  .refine((v) => (v.dampLow === undefined) === (v.dampHigh === undefined), { path: ["dampHigh"], message: "Give both damping levels or neither." })
-  .refine((v) => v.dampLow === undefined || v.dampHigh === undefined || v.dampHigh < v.dampLow, { path: ["dampHigh"], message: "The high damping level must be below the low one (less damping is worse)." })
-  .refine((v) => (v.rLow === undefined) === (v.rHigh === undefined), { path: ["rHigh"], message: "Give both radius levels or neither." })
-  .refine((v) => v.rLow === undefined || v.rHigh === undefined || v.rLow < v.rHigh, { path: ["rHigh"], message: "The high radius level must be above the low one." });
+  .refine((v) => v.drLow < v.drHigh, {
+    path: ["drHigh"],
+    message: "The high decay-ratio level must be above the low one.",
+  })
+  .refine((v) => (v.dampLow === undefined) === (v.dampHigh === undefined), {
+    path: ["dampHigh"],
+    message: "Give both damping levels or neither.",
+  })
+  .refine((v) => v.dampLow === undefined || v.dampHigh === undefined || v.dampHigh < v.dampLow, {
+    path: ["dampHigh"],
+    message: "The high damping level must be below the low one (less damping is worse).",
+  })
+  .refine((v) => (v.rLow === undefined) === (v.rHigh === undefined), {
+    path: ["rHigh"],
+    message: "Give both radius levels or neither.",
+  })
+  .refine((v) => v.rLow === undefined || v.rHigh === undefined || v.rLow < v.rHigh, {
+    path: ["rHigh"],
+    message: "The high radius level must be above the low one.",
+  });
 type F = z.infer<typeof formSchema>;
 
-export function AdminPolicies({ role, initialScope = "tenant", initialId }: { role: Role; initialScope?: PolicyScope; initialId?: number }) {
+export function AdminPolicies({
+  role,
+  initialScope = "tenant",
+  initialId,
+}: {
+  role: Role;
+  initialScope?: PolicyScope;
+  initialId?: number;
+}) {
   const [scope, setScope] = useState<PolicyScope>(initialScope);
   const [id, setId] = useState<number | undefined>(initialId);
   const sites = useSWR("/api/admin/sites", (u: string) => fetchJson<{ sites: SiteDto[] }>(u));
   const loops = useSWR("/api/loops", (u: string) => fetchJson<unknown>(u));
-  const loopList = (Array.isArray(loops.data) ? loops.data : ((loops.data as { loops?: unknown[] } | undefined)?.loops ?? [])) as { id: number; tag: string }[];
-  const key = scope === "tenant" || id ? `/api/alarm-policies${query({ scope, id: scope === "tenant" ? undefined : id })}` : null;
+  const loopList = (
+    Array.isArray(loops.data)
+      ? loops.data
+      : ((loops.data as { loops?: unknown[] } | undefined)?.loops ?? [])
+  ) as LoopSummary[];
+  // Angle of each loop's dominant pole now, to show what a decay-ratio level means as a radius.
+  const angles = new Map<number, number>();
+  for (const l of loopList) {
+    const d = l.state
+      ? dominantPole(l.state.modelPoles.length ? l.state.modelPoles : l.state.dataPoles)
+      : null;
+    if (d && Math.abs(d.im) > 1e-9) angles.set(l.id, Math.abs(Math.atan2(d.im, d.re)));
+  }
+  const key =
+    scope === "tenant" || id
+      ? `/api/alarm-policies${query({ scope, id: scope === "tenant" ? undefined : id })}`
+      : null;
   const view = useSWR(key, (u: string) => fetchJson<PolicyView>(u));
   const mayEdit = scope === "loop" ? roleAtLeast(role, "engineer") : roleAtLeast(role, "admin");
   const sel = "rounded border border-line bg-ground px-2 py-1 text-sm";
@@ -90,7 +135,11 @@ export function AdminPolicies({ role, initialScope = "tenant", initialId }: { ro
         {scope === "site" && (
           <label className="flex flex-col text-xs text-muted">
             Site
-            <select value={id ?? ""} onChange={(e) => setId(Number(e.target.value) || undefined)} className={sel}>
+            <select
+              value={id ?? ""}
+              onChange={(e) => setId(Number(e.target.value) || undefined)}
+              className={sel}
+            >
               <option value="">choose…</option>
               {sites.data?.sites.map((s) => (
                 <option key={s.id} value={s.id}>
@@ -103,7 +152,11 @@ export function AdminPolicies({ role, initialScope = "tenant", initialId }: { ro
         {scope === "loop" && (
           <label className="flex flex-col text-xs text-muted">
             Loop
-            <select value={id ?? ""} onChange={(e) => setId(Number(e.target.value) || undefined)} className={sel}>
+            <select
+              value={id ?? ""}
+              onChange={(e) => setId(Number(e.target.value) || undefined)}
+              className={sel}
+            >
               <option value="">choose…</option>
               {loopList.map((l) => (
                 <option key={l.id} value={l.id}>
@@ -115,12 +168,30 @@ export function AdminPolicies({ role, initialScope = "tenant", initialId }: { ro
         )}
       </div>
       {view.error && <p className="text-sm text-urgent">{(view.error as Error).message}</p>}
-      {view.data && <PolicyEditor key={`${view.data.scope}-${view.data.id}-${view.data.updatedAt}`} view={view.data} mayEdit={mayEdit} onSaved={() => void view.mutate()} />}
+      {view.data && (
+        <PolicyEditor
+          key={`${view.data.scope}-${view.data.id}-${view.data.updatedAt}`}
+          view={view.data}
+          mayEdit={mayEdit}
+          onSaved={() => void view.mutate()}
+          angles={angles}
+        />
+      )}
     </section>
   );
 }
 
-function PolicyEditor({ view, mayEdit, onSaved }: { view: PolicyView; mayEdit: boolean; onSaved: () => void }) {
+function PolicyEditor({
+  view,
+  mayEdit,
+  onSaved,
+  angles,
+}: {
+  view: PolicyView;
+  mayEdit: boolean;
+  onSaved: () => void;
+  angles: Map<number, number>;
+}) {
   const e = view.effective;
   const [msg, setMsg] = useState<string | null>(null);
   const [err, setErr] = useState<string | null>(null);
@@ -151,19 +222,31 @@ function PolicyEditor({ view, mayEdit, onSaved }: { view: PolicyView; mayEdit: b
     setMsg(null);
     const settings: PolicyOverride = {
       decayRatio: { low: v.drLow, high: v.drHigh },
-      minDamping: v.dampLow !== undefined && v.dampHigh !== undefined ? { low: v.dampLow, high: v.dampHigh } : null,
+      minDamping:
+        v.dampLow !== undefined && v.dampHigh !== undefined
+          ? { low: v.dampLow, high: v.dampHigh }
+          : null,
       onDelayS: v.onDelayS,
       offDelayS: v.offDelayS,
       shelveMaxMinutes: v.shelveMaxMinutes,
       forecastHorizonMinutes: v.forecastHorizonMinutes,
-      ...(view.scope === "loop" ? { radius: v.rLow !== undefined && v.rHigh !== undefined ? { low: v.rLow, high: v.rHigh } : null } : {}),
+      ...(view.scope === "loop"
+        ? {
+            radius:
+              v.rLow !== undefined && v.rHigh !== undefined ? { low: v.rLow, high: v.rHigh } : null,
+          }
+        : {}),
     };
     try {
-      await sendJson(`/api/alarm-policies${query({ scope: view.scope, id: view.scope === "tenant" ? undefined : view.id })}`, "PUT", {
-        settings,
-        reason: v.reason,
-        mocReference: v.mocReference || null,
-      });
+      await sendJson(
+        `/api/alarm-policies${query({ scope: view.scope, id: view.scope === "tenant" ? undefined : view.id })}`,
+        "PUT",
+        {
+          settings,
+          reason: v.reason,
+          mocReference: v.mocReference || null,
+        },
+      );
       setMsg("Saved. The new levels apply from now on.");
       reset({ ...v, reason: "", mocReference: "" });
       onSaved();
@@ -175,19 +258,34 @@ function PolicyEditor({ view, mayEdit, onSaved }: { view: PolicyView; mayEdit: b
   const n = (name: keyof F, label: string, hint?: string) => (
     <label className="flex flex-col gap-0.5 text-sm">
       {label}
-      <input type="number" step="any" disabled={!mayEdit} {...register(name, { setValueAs: optNum })} className={inp} data-testid={`policy-${name}`} />
+      <input
+        type="number"
+        step="any"
+        disabled={!mayEdit}
+        {...register(name, { setValueAs: optNum })}
+        className={inp}
+        data-testid={`policy-${name}`}
+      />
       {hint && <span className="text-xs text-muted">{hint}</span>}
       {errors[name] && <span className="text-xs text-urgent">{String(errors[name]?.message)}</span>}
     </label>
   );
   return (
     <div className="grid gap-4 lg:grid-cols-[minmax(0,26rem)_minmax(0,1fr)]">
-      <form onSubmit={submit} noValidate className="flex flex-col gap-3 rounded-md border border-line bg-surface p-3">
+      <form
+        onSubmit={submit}
+        noValidate
+        className="flex flex-col gap-3 rounded-md border border-line bg-surface p-3"
+      >
         <p className="text-xs text-muted">
-          {view.settings ? `This scope sets its own levels (last changed ${fmtTime(view.updatedAt)}).` : "This scope inherits every level; saving gives it its own."}
+          {view.settings
+            ? `This scope sets its own levels (last changed ${fmtTime(view.updatedAt)}).`
+            : "This scope inherits every level; saving gives it its own."}
         </p>
         <fieldset className="grid grid-cols-2 gap-3">
-          <legend className="mb-1 text-sm font-semibold">Decay ratio of the dominant oscillation</legend>
+          <legend className="mb-1 text-sm font-semibold">
+            Decay ratio of the dominant oscillation
+          </legend>
           {n("drLow", "low-priority level", "0.25 is quarter-amplitude decay")}
           {n("drHigh", "high-priority level", "1 = on the unit circle")}
         </fieldset>
@@ -198,7 +296,9 @@ function PolicyEditor({ view, mayEdit, onSaved }: { view: PolicyView; mayEdit: b
         </fieldset>
         {view.scope === "loop" && (
           <fieldset className="grid grid-cols-2 gap-3">
-            <legend className="mb-1 text-sm font-semibold">Spectral radius (this loop&apos;s period only, optional)</legend>
+            <legend className="mb-1 text-sm font-semibold">
+              Spectral radius (this loop&apos;s period only, optional)
+            </legend>
             {n("rLow", "low-priority above")}
             {n("rHigh", "high-priority above")}
           </fieldset>
@@ -211,23 +311,46 @@ function PolicyEditor({ view, mayEdit, onSaved }: { view: PolicyView; mayEdit: b
           {n("forecastHorizonMinutes", "rim forecast horizon, min")}
         </fieldset>
         <p role="note" className="rounded border border-line bg-raised p-2 text-xs text-muted">
-          Alarm levels are advisory: Rimguard is not a safety system and never writes to a controller. Changing a level follows your site&apos;s management of change; local
-          codes and licensed practice prevail.
+          Alarm levels are advisory: Rimguard is not a safety system and never writes to a
+          controller. Changing a level follows your site&apos;s management of change; local codes
+          and licensed practice prevail.
         </p>
         {mayEdit ? (
           <>
             <label className="flex flex-col gap-0.5 text-sm">
               Change reason (required, logged)
-              <input {...register("reason")} className="rounded border border-line bg-ground px-2 py-1" data-testid="policy-reason" />
-              {errors.reason && <span className="text-xs text-urgent">{errors.reason.message}</span>}
+              <input
+                {...register("reason")}
+                className="rounded border border-line bg-ground px-2 py-1"
+                data-testid="policy-reason"
+              />
+              {errors.reason && (
+                <span className="text-xs text-urgent">{errors.reason.message}</span>
+              )}
             </label>
             <label className="flex flex-col gap-0.5 text-sm">
               Management-of-change reference (optional)
-              <input {...register("mocReference")} className="rounded border border-line bg-ground px-2 py-1" />
+              <input
+                {...register("mocReference")}
+                className="rounded border border-line bg-ground px-2 py-1"
+              />
             </label>
-            {err && <p role="alert" className="text-sm text-urgent">{err}</p>}
-            {msg && <p role="status" className="text-sm">{msg}</p>}
-            <button type="submit" disabled={isSubmitting} className="self-start rounded bg-accent px-3 py-1 font-semibold text-accent-ink disabled:opacity-60" data-testid="policy-save">
+            {err && (
+              <p role="alert" className="text-sm text-urgent">
+                {err}
+              </p>
+            )}
+            {msg && (
+              <p role="status" className="text-sm">
+                {msg}
+              </p>
+            )}
+            <button
+              type="submit"
+              disabled={isSubmitting}
+              className="self-start rounded bg-accent px-3 py-1 font-semibold text-accent-ink disabled:opacity-60"
+              data-testid="policy-save"
+            >
               {isSubmitting ? "Saving…" : "Save levels"}
             </button>
           </>
@@ -235,19 +358,26 @@ function PolicyEditor({ view, mayEdit, onSaved }: { view: PolicyView; mayEdit: b
           <p className="text-sm text-muted">Your role may read these levels but not change them.</p>
         )}
       </form>
-      <LevelEquivalents loops={view.loops} />
+      <LevelEquivalents loops={view.loops} angles={angles} />
     </div>
   );
 }
 
-function LevelEquivalents({ loops }: { loops: LoopPolicyView[] }) {
+function LevelEquivalents({
+  loops,
+  angles,
+}: {
+  loops: LoopPolicyView[];
+  angles: Map<number, number>;
+}) {
   if (loops.length === 0) return <p className="text-sm text-muted">No loops in this scope.</p>;
   return (
     <div className="overflow-x-auto rounded-md border border-line bg-surface p-3">
       <h3 className="mb-1 font-semibold">What the levels mean for each loop</h3>
       <p className="mb-2 text-xs text-muted">
-        Radius and time constant depend on the loop&apos;s estimation period T and on the period of its current dominant oscillation; a radius r at period T decays like a
-        time constant τ = −T / ln r.
+        Radius and time constant depend on the loop&apos;s estimation period T and on the period of
+        its current dominant oscillation; a radius r at period T decays like a time constant τ = −T
+        / ln r. Where the current dominant mode does not oscillate, radius and τ stay empty.
       </p>
       <table className="w-full text-xs" data-testid="policy-equivalents">
         <thead>
@@ -263,23 +393,40 @@ function LevelEquivalents({ loops }: { loops: LoopPolicyView[] }) {
         </thead>
         <tbody>
           {loops.slice(0, 200).flatMap((l) =>
-            l.equivalents.map((q, i) => (
-              <tr key={`${l.loopId}-${i}`} className="border-b border-line/40">
-                <td className="py-0.5 pr-2 font-mono">{i === 0 ? l.tag : ""}</td>
-                <td className="num py-0.5 pr-2">{i === 0 ? fmtSeconds(l.estimationPeriodS) : ""}</td>
-                <td className="py-0.5 pr-2">
-                  {q.priority} · {q.source}
-                </td>
-                <td className="num py-0.5 pr-2 text-right font-mono">{fmt(q.decayRatio, 3)}</td>
-                <td className="num py-0.5 pr-2 text-right font-mono">{fmt(q.zeta, 3)}</td>
-                <td className="num py-0.5 pr-2 text-right font-mono">{fmt(q.radius, 4)}</td>
-                <td className="num py-0.5 text-right font-mono">{fmtSeconds(q.timeConstantS ?? (q.radius != null ? timeConstantOfRadius(q.radius, l.estimationPeriodS) : null))}</td>
-              </tr>
-            )),
+            l.equivalents.map((q, i) => {
+              // Where the service has no oscillation period, use the dominant pole's angle now:
+              // DR = r^(2π/θ)  =>  r = DR^(θ/2π) (DOMAIN.md §1).
+              const theta = angles.get(l.loopId);
+              const r =
+                q.radius ??
+                (q.decayRatio != null && theta != null
+                  ? radiusForDecayRatio(q.decayRatio, theta)
+                  : null);
+              const tau =
+                q.timeConstantS ??
+                (r != null ? timeConstantOfRadius(r, l.estimationPeriodS) : null);
+              return (
+                <tr key={`${l.loopId}-${i}`} className="border-b border-line/40">
+                  <td className="py-0.5 pr-2 font-mono">{i === 0 ? l.tag : ""}</td>
+                  <td className="num py-0.5 pr-2">
+                    {i === 0 ? fmtSeconds(l.estimationPeriodS) : ""}
+                  </td>
+                  <td className="py-0.5 pr-2">
+                    {q.priority} · {q.source}
+                  </td>
+                  <td className="num py-0.5 pr-2 text-right font-mono">{fmt(q.decayRatio, 3)}</td>
+                  <td className="num py-0.5 pr-2 text-right font-mono">{fmt(q.zeta, 3)}</td>
+                  <td className="num py-0.5 pr-2 text-right font-mono">{fmt(r, 4)}</td>
+                  <td className="num py-0.5 text-right font-mono">{fmtSeconds(tau)}</td>
+                </tr>
+              );
+            }),
           )}
         </tbody>
       </table>
-      {loops.length > 200 && <p className="mt-1 text-xs text-muted">First 200 of {loops.length} loops shown.</p>}
+      {loops.length > 200 && (
+        <p className="mt-1 text-xs text-muted">First 200 of {loops.length} loops shown.</p>
+      )}
     </div>
   );
 }
