@@ -6,7 +6,7 @@ import type { ClientToServerEvents, ServerToClientEvents, WatchReply } from "@/l
 import type { LoopStateDto, SampleDto } from "@/lib/types";
 import { isPipelineService, type PipelineService } from "@/server/pipeline";
 import { createAuthFixture, FIXTURE_PASSWORD, type AuthFixture, type FixtureTenant } from "../auth/fixture";
-import { signIn } from "../auth/helpers";
+import { authedFetch, signIn } from "../auth/helpers";
 import { startTestServer, type TestServer } from "../setup/server";
 
 // Realtime contract (ARCHITECTURE.md §8) on the real server: telemetry of two tenants flows
@@ -117,5 +117,39 @@ describe("realtime tenant isolation", () => {
     await devA.publishAsync(`rg/${fx.a.slug}/north/fic-101/samples`, JSON.stringify({ t: Date.now(), sp: 50, pv: 49, mv: 41, mode: "auto" }), { qos: 1 });
     await new Promise((r) => setTimeout(r, 700));
     expect(got.a.samples.length).toBe(before);
+  });
+});
+
+describe("loop API on the real server", () => {
+  const get = async (email: string, path: string) => {
+    const r = await signIn(srv.url, email, FIXTURE_PASSWORD);
+    return authedFetch(srv.url, r.jar, path);
+  };
+
+  it("lists only the tenant's loops, hides another tenant's loop (404) and refuses bad parameters (422)", async () => {
+    const list = await get(fx.a.users.viewer.email, "/api/loops");
+    expect(list.status).toBe(200);
+    const body = (await list.json()) as { loops: { id: number; tenantId: number; tag: string }[] };
+    expect(body.loops.map((l) => [l.id, l.tenantId, l.tag])).toEqual([[fx.a.loopId, fx.a.id, "FIC-101"]]);
+
+    expect((await get(fx.b.users.viewer.email, `/api/loops/${fx.a.loopId}`)).status).toBe(404);
+    expect((await get(fx.a.users.viewer.email, `/api/loops/${fx.a.loopId}`)).status).toBe(200);
+    const from = new Date(Date.now() - 600_000).toISOString();
+    const to = new Date().toISOString();
+    expect((await get(fx.b.users.viewer.email, `/api/loops/${fx.a.loopId}/history?from=${from}&to=${to}`)).status).toBe(404);
+    expect((await get(fx.a.users.viewer.email, `/api/loops/${fx.a.loopId}/history?from=${to}&to=${from}`)).status).toBe(422);
+    expect((await get(fx.a.users.viewer.email, `/api/loops/not-a-number/history?from=${from}&to=${to}`)).status).toBe(422);
+    expect((await get(fx.a.users.viewer.email, `/api/loops/${fx.a.loopId}/history?from=${from}&to=${to}&maxPoints=50`)).status).toBe(200);
+    expect((await authedFetch(srv.url, null, "/api/loops")).status).toBe(401);
+  });
+
+  it("serves ingest diagnostics to admins only, with their own tenant's devices", async () => {
+    expect((await get(fx.a.users.engineer.email, "/api/diagnostics/ingest")).status).toBe(403);
+    const r = await get(fx.a.users.admin.email, "/api/diagnostics/ingest");
+    expect(r.status).toBe(200);
+    const body = (await r.json()) as { running: boolean; devices: { device: string; acceptedSamples: number }[] };
+    expect(body.running).toBe(true);
+    expect(body.devices.map((d) => d.device)).toEqual([`${fx.a.slug}-gw`]);
+    expect(body.devices[0]!.acceptedSamples).toBeGreaterThan(0);
   });
 });
