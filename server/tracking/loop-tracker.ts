@@ -36,6 +36,8 @@
  *    dominant pole's zeta / wn / tau, gain headroom, radius confidence (delta method), crossing
  *    forecast of the radius over a window far longer than the estimator's memory.
  * A full state is computed at most once per second of telemetry time (and on state changes).
+ * `stale`: no message for 3 delivery periods (the telemetry period times the samples per
+ * message, so a batching gateway does not flap), or a PV repeated exactly for 30 s.
  */
 import { ArxEstimator, type ArxEstimatorState } from "@/lib/control/arx";
 import { closedLoopPolynomial, discretePid, gainHeadroom } from "@/lib/control/closed-loop";
@@ -161,6 +163,7 @@ export class LoopTracker {
   private radiusHistory: { t: number; value: number }[] = [];
   private lastSample: SampleDto | null = null;
   private receivedAt: number | null = null;
+  private deliveryPeriodMs = 0;
   private state: LoopStateDto;
   private stateReasonOverride: string | null = null;
   /** Samples skipped because their timestamp was not after the previous one. */
@@ -253,7 +256,12 @@ export class LoopTracker {
   push(samples: readonly SampleDto[], receivedAt: number): LoopStateDto | null {
     let computed = false;
     const prevKind = this.state.trackerState;
-    if (Number.isFinite(receivedAt) && samples.length > 0) this.receivedAt = receivedAt;
+    if (Number.isFinite(receivedAt) && samples.length > 0) {
+      this.receivedAt = receivedAt;
+      // a gateway that sends n samples per message delivers every n periods: "3 periods of
+      // silence" is counted in delivery periods, never shorter than 3 telemetry periods
+      this.deliveryPeriodMs = Math.max(1, samples.length) * this.config.telemetryPeriodS * 1000;
+    }
     for (const s of samples) {
       if (!Number.isFinite(s.t) || !Number.isFinite(s.pv) || !Number.isFinite(s.sp) || !Number.isFinite(s.mv)) {
         this.outOfOrder++;
@@ -357,7 +365,7 @@ export class LoopTracker {
     const c = this.config;
     if (this.receivedAt === null) return { state: "learning", reason: "waiting for telemetry" };
     const silence = now - this.receivedAt;
-    if (silence > 3 * c.telemetryPeriodS * 1000) return { state: "stale", reason: `no sample for ${(silence / 1000).toFixed(silence < 10_000 ? 1 : 0)} s` };
+    if (silence > 3 * Math.max(c.telemetryPeriodS * 1000, this.deliveryPeriodMs)) return { state: "stale", reason: `no sample for ${(silence / 1000).toFixed(silence < 10_000 ? 1 : 0)} s` };
     if (this.flatRun >= this.flatLimit) {
       return { state: "stale", reason: `PV flat at ${fmt(this.lastPv)} for ${this.flatRun + 1} samples: frozen transmitter?` };
     }

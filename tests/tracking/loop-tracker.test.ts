@@ -114,6 +114,30 @@ describe("tracker states", () => {
   });
 });
 
+describe("staleness with batched delivery", () => {
+  it("counts silence in delivery periods: 10-sample batches of a 10 Hz loop every second are not stale", async () => {
+    const sim = await scenarioSim("frozen-sensor"); // 0.2 s samples; frozen only from 300 s
+    const clock = new FakeClock();
+    const bus = new Bus();
+    const seen: LoopStateDto[] = [];
+    bus.on("tracker:update", (s) => seen.push(s));
+    const reg = new TrackerRegistry({ bus, clock }, [trackerConfigFor(sim, 4)]);
+    let start = clock.now();
+    for (let i = 0; i < 100; i++) {
+      const batch = sim.samples(10).map((s, j) => ({ t: start + j * 200, sp: s.sp, pv: s.pv, mv: s.mv, mode: s.mode }));
+      clock.t = start + 2000; // the batch arrives when its 2 s are over
+      reg.push(4, batch, clock.now());
+      clock.t = start + 3500; // 1.5 s after it: the next batch is due at start + 4000
+      reg.tick(clock.now());
+      start += 2000;
+    }
+    expect(seen.some((s) => s.trackerState === "stale")).toBe(false);
+    clock.t = start + 3 * 2000 + 100; // last arrival at start, three delivery periods later
+    reg.tick(clock.now());
+    expect(reg.get(4)!.current.trackerState).toBe("stale");
+  });
+});
+
 describe("hostile but valid telemetry", () => {
   const cfg: LoopConfig = {
     id: 3,
