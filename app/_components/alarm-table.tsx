@@ -18,7 +18,7 @@ import { Fragment, useMemo, useState } from "react";
 import type { AlarmDto, Role } from "@/lib/types";
 import { ALARM_PRIORITIES, ALARM_STATES, roleAtLeast } from "@/lib/types";
 import { query } from "@/lib/client/fetcher";
-import { ALARM_STATE_WORDS, CONDITION_WORDS, fmt, fmtTime } from "@/lib/client/format";
+import { ALARM_STATE_WORDS, CONDITION_WORDS, fmt, fmtStamp, fmtTime } from "@/lib/client/format";
 import { useAlarms } from "@/lib/client/hooks";
 import { ATTENTION_STATES } from "@/lib/client/order";
 import { AlarmActions } from "./alarm-actions";
@@ -36,6 +36,7 @@ export function AlarmTable({ role }: { role: Role }) {
   const [from, setFrom] = useState("");
   const [to, setTo] = useState("");
   const [open, setOpen] = useState<number | null>(null);
+  const [showSuppressed, setShowSuppressed] = useState(false);
   const qs = query({
     priority,
     state,
@@ -45,16 +46,22 @@ export function AlarmTable({ role }: { role: Role }) {
   const { alarms, error, isLoading, mutate } = useAlarms(qs);
   const rows = useMemo(() => {
     const f = tag.trim().toLowerCase();
-    return alarms.filter((a) => (view === "active" ? a.state !== "normal" : true) && (!f || a.loopTag.toLowerCase().includes(f) || a.message.toLowerCase().includes(f)));
-  }, [alarms, view, tag]);
+    const inView = (a: AlarmDto) =>
+      view === "history" || (a.state !== "normal" && (showSuppressed || a.state !== "suppressed-by-design"));
+    // Those that ask for a person first, then by priority; the table's own sort overrides this.
+    const rank = (a: AlarmDto) => (ATTENTION_STATES.has(a.state) ? 0 : 1) * 10 + PRIORITY_ORDER[a.priority];
+    return alarms
+      .filter((a) => inView(a) && (!f || a.loopTag.toLowerCase().includes(f) || a.message.toLowerCase().includes(f)))
+      .sort((a, b) => rank(a) - rank(b) || (b.changedAt ?? "").localeCompare(a.changedAt ?? ""));
+  }, [alarms, view, tag, showSuppressed]);
   const mayAct = roleAtLeast(role, "operator");
-  const [sorting, setSorting] = useState<SortingState>([{ id: "priority", desc: false }]);
+  const [sorting, setSorting] = useState<SortingState>([]);
   const columns = useMemo(
     () => [
       col.accessor("priority", {
         header: "Priority",
         sortingFn: (a, b) => PRIORITY_ORDER[a.original.priority] - PRIORITY_ORDER[b.original.priority],
-        cell: (c) => <PriorityMark priority={c.row.original.priority} size={18} />,
+        cell: (c) => <PriorityMark priority={c.row.original.priority} state={c.row.original.state} showState={false} size={18} />,
       }),
       col.accessor("state", {
         header: "State",
@@ -66,7 +73,7 @@ export function AlarmTable({ role }: { role: Role }) {
       col.accessor("loopTag", {
         header: "Loop",
         cell: (c) => (
-          <Link href={`/loops/${c.row.original.loopId}`} className="font-mono font-semibold hover:underline">
+          <Link href={`/loops/${c.row.original.loopId}`} className="whitespace-nowrap font-mono font-semibold hover:underline">
             {c.getValue()}
           </Link>
         ),
@@ -74,8 +81,8 @@ export function AlarmTable({ role }: { role: Role }) {
       col.accessor("condition", { header: "Condition", cell: (c) => CONDITION_WORDS[c.getValue()] ?? c.getValue() }),
       col.accessor("message", { header: "Message", enableSorting: false }),
       col.accessor("value", { header: "Value / level", cell: (c) => <span className="num font-mono">{fmt(c.getValue())} / {fmt(c.row.original.level)}</span> }),
-      col.accessor("activatedAt", { header: "Activated", cell: (c) => <span className="num">{fmtTime(c.getValue())}</span> }),
-      col.accessor("changedAt", { header: "Changed", cell: (c) => <span className="num">{fmtTime(c.getValue())}</span> }),
+      col.accessor("activatedAt", { header: "Activated (UTC)", cell: (c) => <span className="num whitespace-nowrap">{fmtStamp(c.getValue())}</span> }),
+      col.accessor("changedAt", { header: "Changed (UTC)", cell: (c) => <span className="num whitespace-nowrap">{fmtStamp(c.getValue())}</span> }),
       col.display({
         id: "actions",
         header: "Actions",
@@ -138,6 +145,11 @@ export function AlarmTable({ role }: { role: Role }) {
           Loop or text
           <input value={tag} onChange={(e) => setTag(e.target.value)} className={sel} placeholder="e.g. FIC" />
         </label>
+        {view === "active" && (
+          <label className="flex items-center gap-1 text-sm">
+            <input type="checkbox" checked={showSuppressed} onChange={(e) => setShowSuppressed(e.target.checked)} /> include suppressed by design
+          </label>
+        )}
         {view === "history" && (
           <>
             <label className="flex flex-col text-xs text-muted">

@@ -36,6 +36,8 @@ export function KpiCharts() {
   const url = `/api/alarms/kpis${query({ from: new Date(to - period.ms).toISOString(), to: new Date(to).toISOString() })}`;
   const { data, error, isLoading } = useSWR(url, (u: string) => fetchJson<AlarmKpis | { kpis: AlarmKpis }>(u));
   const k = data && "kpis" in data ? data.kpis : (data as AlarmKpis | undefined);
+  const loops = useSWR("/api/loops", (u: string) => fetchJson<{ loops?: { id: number; tag: string }[] }>(u));
+  const tagOf = (id: number) => loops.data?.loops?.find((l) => l.id === id)?.tag ?? `loop ${id}`;
   return (
     <section className="flex flex-col gap-3 rounded-md border border-line bg-surface p-3" aria-label="Alarm figures" data-testid="kpis">
       <div className="flex flex-wrap items-center justify-between gap-2">
@@ -116,8 +118,8 @@ export function KpiCharts() {
               <ol className="mt-1 list-decimal pl-5 text-xs">
                 {k.topTen.map((t) => (
                   <li key={t.alarmId}>
-                    <a className="hover:underline" href={`/loops/${t.loopId}`}>
-                      loop {t.loopId}
+                    <a className="font-mono hover:underline" href={`/loops/${t.loopId}`}>
+                      {tagOf(t.loopId)}
                     </a>{" "}
                     — {t.count}×
                   </li>

@@ -49,12 +49,15 @@ export function PriorityMark({
   shelvedUntil,
   size = 20,
   showWord = true,
+  showState = true,
 }: {
   priority: AlarmPriority;
   state?: AlarmState;
   shelvedUntil?: string | null;
   size?: number;
   showWord?: boolean;
+  /** Write the state in words next to the mark (off where a column already says it). */
+  showState?: boolean;
 }) {
   const word = priority;
   let stateWord = state ? (ALARM_STATE_WORDS[state] ?? state) : null;
@@ -66,7 +69,7 @@ export function PriorityMark({
     <span className="inline-flex items-center gap-1.5 whitespace-nowrap" title={`${word} priority${stateWord ? `, ${stateWord}` : ""}`}>
       <PriorityShape priority={priority} size={size} pulse={pulse} muted={muted} />
       {showWord && <span className={`font-semibold ${colour}`}>{word}</span>}
-      {stateWord && <span className="text-muted">{stateWord}</span>}
+      {showState && stateWord && <span className="text-muted">{stateWord}</span>}
     </span>
   );
 }

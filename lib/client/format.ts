@@ -27,6 +27,14 @@ export function fmtTime(iso: string | number | null | undefined): string {
   return d.toISOString().replace("T", " ").slice(0, 19) + " UTC";
 }
 
+/** Compact UTC stamp for tables: "12-01 22:11:36". */
+export function fmtStamp(iso: string | number | null | undefined): string {
+  if (iso === null || iso === undefined) return "—";
+  const d = new Date(iso);
+  if (Number.isNaN(d.getTime())) return "—";
+  return d.toISOString().slice(5, 19).replace("T", " ");
+}
+
 export function fmtClock(iso: string | number | null | undefined): string {
   if (iso === null || iso === undefined) return "—";
   const d = new Date(iso);
