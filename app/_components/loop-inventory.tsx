@@ -44,15 +44,15 @@ export function LoopInventory({ role }: { role: Role }) {
   const num = (v: number | null | undefined) => (v == null || !Number.isFinite(v) ? null : v);
   const columns = useMemo(
     () => [
-      col.display({
+      // an accessor column (display columns cannot sort in TanStack Table); the value is unused
+      col.accessor((l) => l.id, {
         id: "worst",
         header: "Alarm",
-        enableSorting: true,
         sortingFn: (a, b) => compareWorstFirst(a.original, b.original, levels.high),
         cell: (c) => {
           const p = worstPriority(c.row.original);
           const a = c.row.original.alarms.find((x) => x.priority === p);
-          return p && a ? <PriorityMark priority={p} state={a.state} size={16} showWord={false} /> : <span className="text-muted">—</span>;
+          return p && a ? <PriorityMark priority={p} state={a.state} size={16} /> : <span className="text-muted">—</span>;
         },
       }),
       col.accessor("tag", { header: "Tag", cell: (c) => <Link className="font-mono font-semibold hover:underline" href={`/loops/${c.row.original.id}`}>{c.getValue()}</Link> }),
