@@ -195,6 +195,34 @@ describe("connection rate limits", () => {
   });
 });
 
+describe("connection rate limits per source address", () => {
+  it("refuses CONNECT attempts beyond the per-address budget", async () => {
+    const clock = new ManualClock(Date.now());
+    const creds = new StaticCredentials([credential({ keyId: "acme-gw1", secret: "good", tenantId: 1, tenantSlug: "acme" })]);
+    const broker = await startBroker(testContext(clock), { credentials: creds, host: "127.0.0.1", port: 0, mqttUrl: null, perIp: { points: 2, durationS: 60 } });
+    const url = `mqtt://127.0.0.1:${broker.address()!.port}`;
+    const outcomes: string[] = [];
+    try {
+      for (let i = 0; i < 3; i++) {
+        // A refused CONNECT is closed without CONNACK (MQTT 3.1.1 §3.1.4 allows closing the connection).
+        const c = mqtt.connect(url, { username: "acme-gw1", password: "good", clientId: `acme-gw1:${i}`, reconnectPeriod: 0, connectTimeout: 3000 });
+        outcomes.push(
+          await new Promise<string>((resolve) => {
+            c.once("connect", () => resolve("connected"));
+            c.once("close", () => resolve("refused"));
+            c.once("error", () => resolve("refused"));
+          }),
+        );
+        await c.endAsync(true);
+      }
+    } finally {
+      await broker.stop();
+    }
+    expect(outcomes).toEqual(["connected", "connected", "refused"]);
+    expect(((await broker.health()).detail as { refusals: { rateLimited: number } }).refusals.rateLimited).toBe(1);
+  });
+});
+
 describe("external broker (MQTT_URL)", () => {
   it("subscribes to rg/+/+/+/samples on the external broker and delivers messages in-process", async () => {
     // A plain aedes on port 0 stands in for the external broker (e.g. Debian's mosquitto).
