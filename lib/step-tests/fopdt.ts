@@ -137,3 +137,73 @@ export function fitFopdt(u: Float64Array, y: Float64Array, T: number, maxDeadTim
   const fitPercent = syy > 0 ? 100 * (1 - Math.sqrt(Math.max(0, rss)) / Math.sqrt(syy)) : -Infinity;
   return { gain: K, timeConstantS: best.tau, deadTimeS: best.L, offset: c, fitPercent };
 }
+
+export interface IpdtFit {
+  /** Ramp rate: PV units per second per MV unit. */
+  rate: number;
+  deadTimeS: number;
+  offset: number;
+  fitPercent: number;
+}
+
+/**
+ * Integrator plus dead time, k e^{-Ls} / s, for a process that ramps after a step (a level, for
+ * instance), by output error: exact ZOH response with L = N T + f,
+ * y(k+1) = y(k) + k ((T - f) u(k-N) + f u(k-N-1)) (Åström & Wittenmark 1997, sec. 2.3); k and an
+ * offset by linear least squares for each L on a grid of quarter periods, then refined.
+ */
+export function fitIpdt(u: Float64Array, y: Float64Array, T: number, maxDeadTimeS: number): IpdtFit | null {
+  const n = y.length;
+  const g = new Float64Array(n);
+  let yMean = 0;
+  for (let k = 0; k < n; k++) yMean += y[k]!;
+  yMean /= n;
+  let syy = 0;
+  for (let k = 0; k < n; k++) syy += (y[k]! - yMean) ** 2;
+  const evaluate = (L: number) => {
+    const N = Math.floor(L / T + 1e-9);
+    const f = L - N * T;
+    let acc = 0;
+    for (let k = 0; k < n; k++) {
+      g[k] = acc;
+      acc += (T - f) * (k - N >= 0 ? u[k - N]! : 0) + f * (k - N - 1 >= 0 ? u[k - N - 1]! : 0);
+    }
+    let gm = 0;
+    for (let k = 0; k < n; k++) gm += g[k]!;
+    gm /= n;
+    let sgg = 0;
+    let sgy = 0;
+    for (let k = 0; k < n; k++) {
+      const d = g[k]! - gm;
+      sgg += d * d;
+      sgy += d * (y[k]! - yMean);
+    }
+    if (!(sgg > 0)) return { rss: Infinity, k: 0, c: 0 };
+    const k = sgy / sgg;
+    return { rss: syy - k * sgy, k, c: yMean - k * gm };
+  };
+  const Lmax = Math.max(0, Math.min(maxDeadTimeS, (n * T) / 2));
+  const dL = Math.max(T / 4, Lmax / 400);
+  let best = { L: 0, rss: Infinity };
+  for (let L = 0; L <= Lmax + 1e-12; L += dL) {
+    const r = evaluate(L).rss;
+    if (r < best.rss) best = { L, rss: r };
+  }
+  let a = Math.max(0, best.L - dL);
+  let b = Math.min(Lmax, best.L + dL);
+  const phi = (Math.sqrt(5) - 1) / 2;
+  for (let it = 0; it < 30 && b - a > 1e-6 * T; it++) {
+    const x1 = b - phi * (b - a);
+    const x2 = a + phi * (b - a);
+    const r1 = evaluate(x1).rss;
+    const r2 = evaluate(x2).rss;
+    if (r1 < best.rss) best = { L: x1, rss: r1 };
+    if (r2 < best.rss) best = { L: x2, rss: r2 };
+    if (r1 < r2) b = x2;
+    else a = x1;
+  }
+  if (!Number.isFinite(best.rss)) return null;
+  const r = evaluate(best.L);
+  if (!Number.isFinite(r.k) || r.k === 0) return null;
+  return { rate: r.k, deadTimeS: best.L, offset: r.c, fitPercent: syy > 0 ? 100 * (1 - Math.sqrt(Math.max(0, r.rss)) / Math.sqrt(syy)) : -Infinity };
+}

@@ -28,11 +28,12 @@ import {
   type ArxCandidate,
   type ArxFit,
   type ArxModel,
+  type Complex,
   type PeriodProposal,
 } from "@/lib/control";
 import { ValidationError } from "@/lib/errors";
 import type { ParsedStepTest } from "./csv";
-import { fitFopdt, type FopdtFit } from "./fopdt";
+import { fitFopdt, fitIpdt, type FopdtFit, type IpdtFit } from "./fopdt";
 import { detrend, loggedPeriod, resample, type DetrendMethod, type UniformSeries } from "./resample";
 
 export const RESULT_VERSION = 1;
@@ -102,7 +103,12 @@ export interface StepTestResult {
     gainPercent: number | null;
     /** Static gain B(1)/A(1) of the ARX model; null when it has a pole on or outside the circle. */
     arxGain: number | null;
-    /** FOPDT time constant and dead time, seconds (null when no FOPDT fits). */
+    /** True when the PV ramps after a step (integrating, or slower than twice the record). */
+    integrating: boolean;
+    /** Integrating processes: ramp rate in PV units per second per MV unit, and in %/s per % of span. */
+    rate: number | null;
+    ratePercent: number | null;
+    /** FOPDT (or, integrating, integrator) time constant and dead time, seconds (null when none fits). */
     timeConstantS: number | null;
     deadTimeS: number | null;
     fopdtFitPercent: number | null;
@@ -184,9 +190,14 @@ export function identifyStepTest(parsed: ParsedStepTest, loop: LoopForIdentifica
       : fitArx(d.u, d.y, { T, na: chosen.na, nb: chosen.nb, nk: chosen.nk, criterion: "fpe", removeMeans: false });
     return { T, fit: { ...fit, candidates: all.candidates }, series, u: d.u, y: d.y, yTrend: d.yTrend, leadIn: d.leadIn, baseline: d.baseline };
   };
+  // Modes slower than twice the record (an integrator, or a lag the test cannot resolve) are not
+  // the mode to choose the period for; an integrating plant's open-loop pole at z = 1 is its nature.
+  const slowLimit = 2 * duration;
   const propose = (m: ArxModel): PeriodProposal | null => {
+    const poles = polyRoots([1, ...m.a]).filter((z) => !isSlow(z, m.T, slowLimit));
+    if (poles.length === 0) return null;
     try {
-      return proposeEstimationPeriod({ from: "model", model: m, telemetryPeriod: loop.telemetryPeriodS });
+      return proposeEstimationPeriod({ from: "discrete-poles", poles, T: m.T, telemetryPeriod: loop.telemetryPeriodS });
     } catch (e) {
       if (e instanceof ControlArgumentError) return null;
       throw e;
@@ -219,7 +230,7 @@ export function identifyStepTest(parsed: ParsedStepTest, loop: LoopForIdentifica
       target = finalOwn;
     }
   } else {
-    warnings.push("No settling mode was found (an integrating or unstable plant?): no estimation period is proposed.");
+    warnings.push("No mode faster than the record was found: no estimation period is proposed. A longer test, or one with more moves, may resolve the dynamics.");
   }
   const final = passes[passes.length - 1]!;
   const model = final.fit.model;
@@ -231,7 +242,14 @@ export function identifyStepTest(parsed: ParsedStepTest, loop: LoopForIdentifica
   // FOPDT summary by output error on the finest pass (pass 1).
   const p1 = passes[0]!;
   const fo = fitFopdt(p1.u, p1.y, p1.T, maxDead);
-  const continuous = continuousEquivalents(model, fo, spans);
+  const integrating = (fo !== null && fo.timeConstantS > slowLimit) || polyRoots([1, ...model.a]).some((z) => isSlow(z, model.T, slowLimit));
+  const ip = integrating ? fitIpdt(p1.u, p1.y, p1.T, maxDead) : null;
+  const continuous = continuousEquivalents(model, fo, spans, ip);
+  if (integrating) {
+    warnings.push(
+      "The PV keeps ramping after an MV step: the process integrates (a level, for instance) or is slower than the record can show. Gain and time constant are replaced by the ramp rate; an open-loop pole at z = 1 is the nature of such a process, not an alarm.",
+    );
+  }
   let proposal: StepTestResult["proposal"] = null;
   if (target) {
     const nk = Math.abs(final.T - target.period) <= 1e-9 * target.period
@@ -309,7 +327,12 @@ function parsimonious(cands: ArxCandidate[]): ArxCandidate {
 }
 
 /** Continuous equivalents: the FOPDT summary, the ARX static gain and each ARX pole (see the module doc). */
-export function continuousEquivalents(model: ArxModel, fo: FopdtFit | null, spans: { mv: number; pv: number }): StepTestResult["continuous"] {
+export function continuousEquivalents(
+  model: ArxModel,
+  fo: FopdtFit | null,
+  spans: { mv: number; pv: number },
+  ip: IpdtFit | null = null,
+): StepTestResult["continuous"] {
   const T = model.T;
   const den = [1, ...model.a];
   const poles = polyRoots(den).map((z): PoleSummary => {
@@ -321,11 +344,30 @@ export function continuousEquivalents(model: ArxModel, fo: FopdtFit | null, span
   const b1 = model.b.reduce((s, v) => s + v, 0);
   const stable = poles.every((p) => p.radius < 1 - 1e-6);
   const arxGain = stable && Math.abs(a1) > 1e-9 ? b1 / a1 : null;
+  if (ip) {
+    const rate = ip.rate;
+    return {
+      gain: null,
+      gainPercent: null,
+      arxGain: null,
+      integrating: true,
+      rate,
+      ratePercent: (rate * spans.mv) / spans.pv,
+      timeConstantS: null,
+      deadTimeS: ip.deadTimeS,
+      fopdtFitPercent: ip.fitPercent,
+      method: "integrating process: integrator plus dead time fitted to the logged MV and PV by output error (exact ZOH simulation); poles from the ARX model",
+      poles,
+    };
+  }
   const gain = fo ? fo.gain : arxGain;
   return {
     gain,
     gainPercent: gain === null ? null : (gain * spans.mv) / spans.pv,
     arxGain,
+    integrating: false,
+    rate: null,
+    ratePercent: null,
     timeConstantS: fo ? fo.timeConstantS : null,
     deadTimeS: fo ? fo.deadTimeS : null,
     fopdtFitPercent: fo ? fo.fitPercent : null,
@@ -333,6 +375,13 @@ export function continuousEquivalents(model: ArxModel, fo: FopdtFit | null, span
       "first order plus dead time fitted to the logged MV and PV by output error (exact ZOH simulation, Åström & Wittenmark 1997 sec. 2.3); poles from the ARX model",
     poles,
   };
+}
+
+/** A real pole on or beyond z = 1, or a lag slower than `limit` seconds (-T/ln z > limit). */
+function isSlow(z: Complex, T: number, limit: number): boolean {
+  const r = Math.hypot(z.re, z.im);
+  if (Math.abs(z.im) > 1e-12 * Math.max(1, r) || z.re <= 0) return r >= 1;
+  return z.re >= 1 || -T / Math.log(z.re) > limit;
 }
 
 function fmt(x: number): string {

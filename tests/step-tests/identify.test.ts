@@ -13,6 +13,7 @@ import { parseStepTestCsv } from "@/lib/step-tests/csv";
 import { simulateFopdt } from "@/lib/step-tests/fopdt";
 import { identifyStepTest } from "@/lib/step-tests/identify";
 import { ValidationError } from "@/lib/errors";
+import { mulberry32, normal } from "../control/seeded-random";
 import { fopdtAt, stepTestCsv, type Fopdt, type MvStep } from "./simulate";
 
 // Invented plant: a steam-heated dryer temperature, PV 80-180 degC, MV 0-100 %, logged every 2 s.
@@ -165,5 +166,70 @@ describe("identification of a simulated FOPDT step test", () => {
     const r = identifyStepTest(parseStepTestCsv(text, UNITS), LOOP);
     expect(r.data.closedLoop).toBe(true);
     expect(r.warnings.join(" ")).toMatch(/closed-loop/);
+  });
+});
+
+describe("other kinds of step tests", () => {
+  it("set-point steps in auto under a PI: the plant MV -> PV is still recovered at low noise", () => {
+    // Invented flow loop: K = 1.2 (m3/h)/%, tau = 8 s, L = 3 s (6 whole samples at 0.5 s), so the
+    // exact ZOH recursion is y(k+1) = a y(k) + K (1 - a) u(k - 6), a = e^{-T/tau} (Åström &
+    // Wittenmark 1997 sec. 2.3). PI in position form, Kc = 0.8 %/(m3/h), Ti = 8 s.
+    const T = 0.5;
+    const a = Math.exp(-T / 8);
+    const randn = normal(mulberry32(5));
+    const lines = ["t,mv,pv,sp,mode"];
+    const du: number[] = [];
+    let y = 0;
+    let integral = 40;
+    for (let k = 0; k < 1200; k++) {
+      const t = k * T;
+      const sp = 50 + (t >= 30 ? 10 : 0) + (t >= 250 ? -15 : 0) + (t >= 450 ? 5 : 0);
+      const pv = 50 + y + 0.05 * randn();
+      const e = sp - pv;
+      integral += ((0.8 * T) / 8) * e;
+      const u = Math.min(100, Math.max(0, integral + 0.8 * e));
+      du.push(u - 40);
+      lines.push(`${t},${u.toFixed(4)},${pv.toFixed(4)},${sp},auto`);
+      y = a * y + 1.2 * (1 - a) * (du[k - 6] ?? 0);
+    }
+    const units = { pvUnits: "m3/h", mvUnits: "%", pvLo: 0, pvHi: 100, mvLo: 0, mvHi: 100 };
+    const r = identifyStepTest(parseStepTestCsv(lines.join("\n"), units), { telemetryPeriodS: 1, pvLo: 0, pvHi: 100, mvLo: 0, mvHi: 100 });
+    expect(r.data.closedLoop).toBe(true);
+    expect(Math.abs(r.continuous.gain! - 1.2) / 1.2).toBeLessThan(0.05);
+    expect(Math.abs(r.continuous.timeConstantS! - 8) / 8).toBeLessThan(0.05);
+    expect(Math.abs(r.continuous.deadTimeS! - 3)).toBeLessThan(0.5);
+    expect(r.identification.fitPercent).toBeGreaterThan(90);
+  });
+
+  it("an integrating plant is reported by its ramp rate, with no gain or time constant, and its z = 1 pole not used for the period", () => {
+    // Invented level: dy/dt = 0.01 %/s per % of MV, dead time 2 s; closed form y(t) = sum du 0.01 (t - t_i - 2)+.
+    const randn = normal(mulberry32(9));
+    const moves = [
+      { t: 50, du: 5 },
+      { t: 150, du: -5 },
+      { t: 300, du: -5 },
+      { t: 400, du: 5 },
+    ];
+    const lines = ["t,mv,pv,mode"];
+    for (let t = 0; t < 600; t++) {
+      let u = 50;
+      let y = 40;
+      for (const m of moves) {
+        if (t >= m.t) u += m.du;
+        y += m.du * 0.01 * Math.max(0, t - m.t - 2);
+      }
+      lines.push(`${t},${u},${(y + 0.02 * randn()).toFixed(4)},manual`);
+    }
+    const units = { pvUnits: "%", mvUnits: "%", pvLo: 0, pvHi: 100, mvLo: 0, mvHi: 100 };
+    const r = identifyStepTest(parseStepTestCsv(lines.join("\n"), units), { telemetryPeriodS: 1, pvLo: 0, pvHi: 100, mvLo: 0, mvHi: 100 });
+    const c = r.continuous;
+    expect(c.integrating).toBe(true);
+    expect(c.gain).toBeNull();
+    expect(c.timeConstantS).toBeNull();
+    expect(Math.abs(c.rate! - 0.01) / 0.01).toBeLessThan(0.05); // truth: 0.01 %/s per %
+    expect(Math.abs(c.deadTimeS! - 2)).toBeLessThan(1);
+    expect(r.warnings.join(" ")).toMatch(/integrates/);
+    // A period chosen from the z = 1 pole would hit the 1000x cap; it must come from the faster modes or be absent.
+    if (r.proposal) expect(r.proposal.factor).toBeLessThan(1000);
   });
 });

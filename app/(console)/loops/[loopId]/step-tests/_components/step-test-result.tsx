@@ -61,14 +61,25 @@ export function StepTestResultView({
 
       <div className="grid gap-4 md:grid-cols-2">
         <div>
-          <h3 className="mb-1 text-sm font-semibold">Plant summary (first order plus dead time)</h3>
+          <h3 className="mb-1 text-sm font-semibold">Plant summary ({c.integrating ? "integrator plus dead time" : "first order plus dead time"})</h3>
           <dl className="grid grid-cols-[auto_1fr] gap-x-4 text-sm">
-            <dt className="text-muted">Gain</dt>
-            <dd className="num">
-              {fmt(c.gain, 3)} {loop.units}/{loop.mvUnits} · {fmt(c.gainPercent, 3)} %/% of span
-            </dd>
-            <dt className="text-muted">Time constant</dt>
-            <dd className="num">{fmtSeconds(c.timeConstantS)}</dd>
+            {c.integrating ? (
+              <>
+                <dt className="text-muted">Ramp rate</dt>
+                <dd className="num">
+                  {fmt(c.rate, 5)} {loop.units}/s per {loop.mvUnits} · {fmt(c.ratePercent, 5)} %/s per % of span
+                </dd>
+              </>
+            ) : (
+              <>
+                <dt className="text-muted">Gain</dt>
+                <dd className="num">
+                  {fmt(c.gain, 3)} {loop.units}/{loop.mvUnits} · {fmt(c.gainPercent, 3)} %/% of span
+                </dd>
+                <dt className="text-muted">Time constant</dt>
+                <dd className="num">{fmtSeconds(c.timeConstantS)}</dd>
+              </>
+            )}
             <dt className="text-muted">Dead time</dt>
             <dd className="num">{fmtSeconds(c.deadTimeS)}</dd>
             <dt className="text-muted">Fit of this summary</dt>
