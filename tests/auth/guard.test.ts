@@ -14,7 +14,7 @@ import { REPO_ROOT } from "@/server/index";
 import { startTestServer, type TestServer } from "../setup/server";
 import { createAuthFixture, FIXTURE_PASSWORD, type AuthFixture, type FixtureTenant } from "./fixture";
 import { authedFetch, signIn, type CookieJar } from "./helpers";
-import { ROUTES, type RouteCase } from "./route-matrix";
+import { NOT_IN_MATRIX, ROUTES, type RouteCase } from "./route-matrix";
 
 let srv: TestServer;
 let fx: AuthFixture;
@@ -53,7 +53,19 @@ function call(c: RouteCase, jar: CookieJar | null, t: FixtureTenant): Promise<Re
   });
 }
 
+function routeFiles(dir: string, prefix = ""): string[] {
+  return fs.readdirSync(dir, { withFileTypes: true }).flatMap((e) =>
+    e.isDirectory() ? routeFiles(path.join(dir, e.name), `${prefix}${e.name}/`) : e.name === "route.ts" ? [`${prefix}${e.name}`] : [],
+  );
+}
+
 describe("route x role matrix", () => {
+  it("has a row for every route file under app/api (or names why not)", () => {
+    const covered = new Set([...ROUTES.map((c) => c.file), ...Object.keys(NOT_IN_MATRIX)]);
+    const missing = routeFiles(path.join(REPO_ROOT, "app", "api")).filter((f) => !covered.has(f));
+    expect(missing, "add these routes to tests/auth/route-matrix.ts").toEqual([]);
+  });
+
   it("lists the routes it could not check yet (their file or fixture data is missing)", () => {
     // Not an assertion on behaviour: a visible list, so a missing route is noticed.
     console.info(`[guard matrix] checked ${present.length} rows; skipped: ${skipped.map((c) => `${c.method} ${c.path}`).join(", ") || "none"}`);
