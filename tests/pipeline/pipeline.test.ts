@@ -3,6 +3,7 @@ import mqtt from "mqtt";
 import { QueryTypes } from "sequelize";
 import { startPipeline, type PipelineService } from "@/server/pipeline";
 import { ingestDiagnostics } from "@/lib/loops/diagnostics";
+import { DAY_MS, listPartitions, partitionName } from "@/lib/db/partitions";
 import { listLoops, getLoop } from "@/lib/loops";
 import type { DeviceIdentity } from "@/server/ingest";
 import type { SampleDto } from "@/lib/types";
@@ -201,6 +202,11 @@ describe("live pipeline with MariaDB", () => {
       expect(da.running).toBe(true);
       expect(da.devices.map((d) => d.device)).toEqual([a.device.keyId]);
       expect(da.devices[0]!.rejected).toMatchObject({ "bad-json": 1, future: 1 });
+      // Partition upkeep ran at start: today and three days ahead exist in every history table.
+      for (const table of ["samples_1s", "samples_1m", "pole_snapshots"]) {
+        const names = (await listPartitions(db.sequelize, table)).map((x) => x.name);
+        for (let d = 0; d <= 3; d++) expect(names).toContain(partitionName(clock.now() + d * DAY_MS));
+      }
       const dbb = await ingestDiagnostics({ tenantId: b.id }, { sequelize: db.sequelize, pipeline: p });
       expect(dbb.devices.map((d) => [d.device, d.messages])).toEqual([[b.device.keyId, 0]]);
       expect(dbb.totals.rejected["bad-json"]).toBe(0);
