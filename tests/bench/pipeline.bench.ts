@@ -317,6 +317,7 @@ async function pipeline(scenarioFile: string, opts: { loops: number; hz: number;
     emitter.state(s);
   });
   const perLoopAccepted = new Map<number, number>();
+  const ingestLat: number[] = [];
   const ingest = new Ingest({
     directory: new LoopDirectory(routes),
     now: () => Date.now(),
@@ -324,6 +325,8 @@ async function pipeline(scenarioFile: string, opts: { loops: number; hz: number;
       registry.push(route.loopId, samples, at);
       emitter.samples(route.loopId, samples);
       perLoopAccepted.set(route.loopId, (perLoopAccepted.get(route.loopId) ?? 0) + samples.length);
+      const lastSample = samples[samples.length - 1];
+      if (lastSample) ingestLat.push(at - lastSample.t);
     },
   });
   let accepted = 0;
@@ -375,8 +378,11 @@ async function pipeline(scenarioFile: string, opts: { loops: number; hz: number;
   emitter.stop();
   await broker.stop();
   await new Promise<void>((r) => io.close(() => r()));
+  ingestLat.sort((a, b) => a - b);
   return {
     sim,
+    ingestP50: quantile(ingestLat, 0.5),
+    ingestP99: quantile(ingestLat, 0.99),
     accepted,
     rejected,
     spanS: (last - first) / 1000,
@@ -417,7 +423,7 @@ async function main(): Promise<void> {
     const rate = p.accepted / opts.seconds;
     const loss = p.sim.sent - p.accepted;
     console.log(`  simulator sent ${p.sim.sent} samples (cpu ${p.sim.cpuS.toFixed(1)} s, rss ${(p.sim.peakRss / 2 ** 20).toFixed(0)} MiB, largest lag behind schedule ${p.sim.lagMs} ms)`);
-    console.log(`  ingest accepted ${p.accepted}, rejected ${p.rejected}, lost ${loss} = ${rate.toFixed(0)} samples/s sustained; tracker updates ${p.updates}`);
+    console.log(`  ingest accepted ${p.accepted}, rejected ${p.rejected}, lost ${loss} = ${rate.toFixed(0)} samples/s sustained; publish-to-ingest latency p50 ${p.ingestP50} ms, p99 ${p.ingestP99} ms; tracker updates ${p.updates}`);
     console.log(`  server process cpu ${p.serverCpuS.toFixed(1)} s over ~${(opts.seconds + 2.5).toFixed(0)} s (${((100 * p.serverCpuS) / (opts.seconds + 2.5)).toFixed(0)} % of one core), rss ${(p.serverRss / 2 ** 20).toFixed(0)} MiB`);
     if (p.client) {
       console.log(
