@@ -24,6 +24,8 @@ export interface DeviceCredential {
 export interface CredentialLookup {
   /** The credential with this key id, or null when there is none. */
   find(keyId: string): Promise<DeviceCredential | null>;
+  /** Record that the device was seen (connected or published) at `at` (epoch ms); optional. */
+  touch?(keyId: string, at: number): Promise<void>;
 }
 
 export function hashDeviceSecret(pepper: string, secret: string | Buffer): Buffer {

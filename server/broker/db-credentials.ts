@@ -42,5 +42,8 @@ export function dbCredentials(sequelize: Sequelize): CredentialLookup {
         siteSlug: r.siteSlug,
       };
     },
+    async touch(keyId: string, at: number): Promise<void> {
+      await sequelize.query("UPDATE device_credentials SET last_seen_at = ? WHERE key_id = ?", { replacements: [new Date(at), keyId] });
+    },
   };
 }

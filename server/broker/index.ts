@@ -90,6 +90,14 @@ async function startEmbedded(ctx: ServerContext, opts: BrokerOptions): Promise<B
   const now = () => ctx.clock.now();
   const identityOf = (client: Client | null) => (client ? identities.get(client)?.device : undefined) ?? UNAUTHENTICATED;
   const countReject = (device: DeviceIdentity, reason: RejectReason) => counters.reject(device, reason, now());
+  // "Last seen" for the admin's device list, written at most once a minute per device.
+  const lastTouch = new Map<string, number>();
+  const touch = (keyId: string) => {
+    const t = now();
+    if (!opts.credentials.touch || t - (lastTouch.get(keyId) ?? -Infinity) < 60_000) return;
+    lastTouch.set(keyId, t);
+    opts.credentials.touch(keyId, t).catch(() => lastTouch.delete(keyId));
+  };
 
   const broker = await Aedes.createBroker({
     // A device that has not completed CONNECT within 10 s is dropped (common practice: short).
@@ -133,6 +141,7 @@ async function startEmbedded(ctx: ServerContext, opts: BrokerOptions): Promise<B
           }
           identities.set(client, { device: deviceOf(cred), cred });
           clients.add(client);
+          touch(cred.keyId);
           done(null, true);
         },
         () => {
@@ -160,6 +169,7 @@ async function startEmbedded(ctx: ServerContext, opts: BrokerOptions): Promise<B
       if (topic.tenantSlug !== id.cred.tenantSlug || (id.cred.siteSlug !== null && topic.siteSlug !== id.cred.siteSlug)) {
         return refuse("wrong-tenant", "topic outside the credential's tenant or site");
       }
+      touch(id.cred.keyId);
       done(null);
     },
 

@@ -64,6 +64,9 @@ describe("live pipeline with MariaDB", () => {
       while (p.ingest.counters.totals(a.id).acceptedSamples < 10 && Date.now() < end) await new Promise((r) => setTimeout(r, 10));
       await c.endAsync();
       expect(p.ingest.counters.totals(a.id).acceptedSamples).toBe(10);
+      // The admin's device list shows when the gateway was last seen.
+      const seen = await rows<{ last_seen_at: Date | null }>("SELECT last_seen_at FROM device_credentials WHERE key_id = ?", [a.device.keyId]);
+      expect(seen[0]!.last_seen_at).not.toBeNull();
       sent.push(...first);
 
       // Then 20 minutes at 1 Hz, one message per second, straight into ingest.
