@@ -1,8 +1,8 @@
 /**
  * First-order-plus-dead-time (FOPDT) summary of a step test, K e^{-Ls} / (tau s + 1), fitted by
  * output error: the model is simulated from the logged MV and (K, offset) solved by linear least
- * squares for each (tau, L), tau by golden-section search on log tau, L on a grid of quarter
- * periods then refined. Output error is unbiased under white measurement noise, unlike the
+ * squares for each (tau, L), tau by a coarse scan then golden-section search on log tau, L on a
+ * grid of half periods (at most 80 points) then refined by golden-section search. Output error is unbiased under white measurement noise, unlike the
  * equation error of ARX (Ljung, *System Identification*, 2nd ed., 1999, sec. 7.4 and 8.3).
  *
  * Simulation: exact zero-order-hold discretisation of the first-order lag with a fractional dead
@@ -76,7 +76,7 @@ export function fitFopdt(u: Float64Array, y: Float64Array, T: number, maxDeadTim
   const bestTau = (L: number): { tau: number; rss: number } => {
     // Coarse scan on log tau, then golden-section around the best point.
     let best = { x: lo, rss: Infinity };
-    const steps = 24;
+    const steps = 16;
     for (let i = 0; i <= steps; i++) {
       const x = lo + ((hi - lo) * i) / steps;
       const r = evaluate(Math.exp(x), L).rss;
@@ -90,7 +90,7 @@ export function fitFopdt(u: Float64Array, y: Float64Array, T: number, maxDeadTim
     let x2 = a + phi * (b - a);
     let f1 = evaluate(Math.exp(x1), L).rss;
     let f2 = evaluate(Math.exp(x2), L).rss;
-    for (let it = 0; it < 30; it++) {
+    for (let it = 0; it < 22; it++) {
       if (f1 < f2) {
         b = x2;
         x2 = x1;
@@ -109,7 +109,7 @@ export function fitFopdt(u: Float64Array, y: Float64Array, T: number, maxDeadTim
     return { tau: Math.exp(x), rss: Math.min(f1, f2) };
   };
   const Lmax = Math.max(0, Math.min(maxDeadTimeS, duration / 2));
-  const dL = Math.max(T / 4, Lmax / 200);
+  const dL = Math.max(T / 2, Lmax / 80);
   let best = { L: 0, tau: T, rss: Infinity };
   for (let L = 0; L <= Lmax + 1e-12; L += dL) {
     const r = bestTau(L);
@@ -120,7 +120,7 @@ export function fitFopdt(u: Float64Array, y: Float64Array, T: number, maxDeadTim
     let a = Math.max(0, best.L - dL);
     let b = Math.min(Lmax, best.L + dL);
     const phi = (Math.sqrt(5) - 1) / 2;
-    for (let it = 0; it < 20 && b - a > 1e-6 * T; it++) {
+    for (let it = 0; it < 16 && b - a > 1e-4 * T; it++) {
       const x1 = b - phi * (b - a);
       const x2 = a + phi * (b - a);
       const r1 = bestTau(x1);

@@ -5,10 +5,13 @@
  *
  * Method:
  * 1. Resample the log to its own period (resample.ts) and remove the operating point.
- * 2. A first ARX fit (na, nb in 1..2, delay searched over 1..K samples; Ljung, *System
- *    Identification*, 2nd ed., 1999, sec. 16.4) at the logged period (averaged down if the log is
- *    long) gives the dominant dynamics, from which `proposeEstimationPeriod` (lib/control) picks
- *    the estimation period for the loop's telemetry period (rule of thumb wn T 0.1-0.6).
+ * 2. A first-order-plus-dead-time model is fitted to the log by output error (fopdt.ts); its
+ *    dead time centres the delay search of the ARX fits (nk within +-max(3, 30 %) around it).
+ *    A first ARX fit (na, nb in 1..2; Ljung, *System Identification*, 2nd ed., 1999, sec. 16.4)
+ *    at the logged period (averaged down if the log is long) gives the dominant dynamics, from
+ *    which `proposeEstimationPeriod` (lib/control) picks the estimation period for the loop's
+ *    telemetry period (rule of thumb wn T 0.1-0.6); modes slower than twice the record (an
+ *    integrator) are left out of that choice.
  * 3. The model is fitted again at that period (na, nb in 1..3, the delay searched again) so the
  *    proposed structure (na, nb, nk) is in the units the tracker uses; repeated once more if the
  *    proposal moves. Among candidates whose FPE is within 2 % of the best, the one with the fewest
@@ -169,6 +172,12 @@ export function identifyStepTest(parsed: ParsedStepTest, loop: LoopForIdentifica
     warnings.push("Most of the log is in auto or cascade: the plant was identified from closed-loop data, which ARX fits without bias only when the equation error is white (Ljung 1999, sec. 13.4). An open-loop test in manual gives the cleaner model.");
   }
   const maxDead = options.maxDeadTimeS ?? duration / 3;
+  const d1 = Math.max(1, Math.ceil(duration / T0 / 3000));
+
+  // FOPDT summary by output error on the finest series (the logged period, averaged down when long).
+  const T1 = T0 * d1;
+  const fine = detrend(T1 === T0 ? base : resample(rows, T1), method, spans);
+  const fo = fitFopdt(fine.u, fine.y, T1, maxDead);
 
   const runPass = (T: number, orders: number[]): Pass => {
     const series = T === T0 ? base : resample(rows, T);
@@ -176,7 +185,17 @@ export function identifyStepTest(parsed: ParsedStepTest, loop: LoopForIdentifica
     if (n < MIN_ID_SAMPLES / 2) throw new ValidationError(`The record is too short: ${n} samples at ${fmt(T)} s.`);
     const d = detrend(series, method, spans);
     const kMax = Math.max(1, Math.min(Math.floor(maxDead / T) + 2, Math.floor(n / 4), 150));
-    const nks = Array.from({ length: kMax }, (_, i) => i + 1);
+    // Delays searched: around the FOPDT dead time when there is one (nk = whole periods + 1 for
+    // ZOH), else 1..kMax.
+    let k0 = 1;
+    let k1 = kMax;
+    if (fo) {
+      const centre = Math.floor(fo.deadTimeS / T + 1e-9) + 1;
+      const w = Math.max(3, Math.ceil((0.3 * fo.deadTimeS) / T));
+      k0 = Math.max(1, Math.min(kMax, centre - w));
+      k1 = Math.max(k0, Math.min(kMax, centre + w));
+    }
+    const nks = Array.from({ length: k1 - k0 + 1 }, (_, i) => k0 + i);
     let all: ArxFit;
     try {
       all = fitArx(d.u, d.y, { T, na: orders, nb: orders, nk: nks, criterion: "fpe", removeMeans: false });
@@ -211,8 +230,7 @@ export function identifyStepTest(parsed: ParsedStepTest, loop: LoopForIdentifica
   };
 
   const passes: Pass[] = [];
-  const d1 = Math.max(1, Math.ceil(duration / T0 / 3000));
-  passes.push(runPass(T0 * d1, [1, 2]));
+  passes.push(runPass(T1, [1, 2]));
   // Iterate: identify at the proposed period until the model there proposes (nearly) the same.
   let target = propose(passes[0]!.fit.model);
   let finalOwn: PeriodProposal | null = target;
@@ -239,11 +257,8 @@ export function identifyStepTest(parsed: ParsedStepTest, loop: LoopForIdentifica
   }
   if (final.fit.fit < 60) warnings.push(`The model explains the PV poorly (fit ${fmt(final.fit.fit)} %): the step may be too small against the noise, or disturbances moved the PV during the test.`);
 
-  // FOPDT summary by output error on the finest pass (pass 1).
-  const p1 = passes[0]!;
-  const fo = fitFopdt(p1.u, p1.y, p1.T, maxDead);
   const integrating = (fo !== null && fo.timeConstantS > slowLimit) || polyRoots([1, ...model.a]).some((z) => isSlow(z, model.T, slowLimit));
-  const ip = integrating ? fitIpdt(p1.u, p1.y, p1.T, maxDead) : null;
+  const ip = integrating ? fitIpdt(fine.u, fine.y, T1, maxDead) : null;
   const continuous = continuousEquivalents(model, fo, spans, ip);
   if (integrating) {
     warnings.push(
