@@ -157,7 +157,9 @@ export class Ingest {
     }
     if (accepted.length === 0) return out;
     this.lastT.set(route.loopId, last);
-    this.lastMessage.set(route.loopId, { firstT: firstT(items) ?? NaN, count: items.length, payload: msg.payload });
+    // A copy: the broker's payload may be a view into a much larger socket buffer.
+    const kept = typeof msg.payload === "string" ? msg.payload : Buffer.from(msg.payload);
+    this.lastMessage.set(route.loopId, { firstT: firstT(items) ?? NaN, count: items.length, payload: kept });
     counters.accept(device, accepted.length);
     out.accepted = accepted.length;
     try {
