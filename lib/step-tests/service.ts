@@ -103,7 +103,7 @@ export async function uploadStepTest(
   loopId: number,
   file: { name: string; bytes: Uint8Array },
   options: UploadOptions = {},
-  store: ObjectStore = objectStore(),
+  storeOverride?: ObjectStore,
 ): Promise<StepTestDetail> {
   const opts = uploadOptionsSchema.parse(options);
   const loop = await loadLoop(ctx, loopId);
@@ -115,6 +115,7 @@ export async function uploadStepTest(
   );
   const filename = cleanFilename(file.name);
   const objectKey = `tenants/${ctx.tenantId}/loops/${loop.id}/step-tests/${randomUUID()}.csv`;
+  const store = storeOverride ?? objectStore();
   try {
     await store.put(objectKey, file.bytes, "text/csv; charset=utf-8");
   } catch (e) {
@@ -175,9 +176,10 @@ export async function getStepTestData(
   ctx: TenantContext,
   loopId: number,
   stepTestId: number,
-  store: ObjectStore = objectStore(),
+  storeOverride?: ObjectStore,
 ): Promise<{ filename: string; bytes: Buffer }> {
   const { row } = await loadStepTest(ctx, loopId, stepTestId);
+  const store = storeOverride ?? objectStore();
   let bytes: Buffer | null;
   try {
     bytes = await store.get(row.objectKey);

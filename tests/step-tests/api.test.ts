@@ -255,4 +255,22 @@ describe("step-test upload and download", () => {
     expect(diff.stepTest).toEqual({ from: null, to: `#${id} fic101-bump.csv` });
     expect(changed).toContain(fx.loopId);
   });
+
+  it("an object store failure is a 503 with nothing recorded; a failed row write removes the stored object", async () => {
+    const { uploadStepTest } = await import("@/lib/step-tests/service");
+    const rows = await stepTestRows();
+    const failing = { put: async () => Promise.reject(new Error("connection refused")), get: async () => null, delete: async () => {} };
+    await expect(uploadStepTest(fx.users.engineer, fx.loopId, { name: "a.csv", bytes: new TextEncoder().encode(CSV) }, {}, failing)).rejects.toMatchObject({ status: 503 });
+    expect(await stepTestRows()).toBe(rows);
+
+    const keysBefore = await objectKeys();
+    const spy = vi.spyOn(db.models.StepTest, "create").mockRejectedValueOnce(new Error("lost the database"));
+    try {
+      await expect(uploadStepTest(fx.users.engineer, fx.loopId, { name: "b.csv", bytes: new TextEncoder().encode(CSV) }, {}, store)).rejects.toThrow("lost the database");
+    } finally {
+      spy.mockRestore();
+    }
+    expect(await objectKeys()).toEqual(keysBefore);
+    expect(await stepTestRows()).toBe(rows);
+  });
 });
