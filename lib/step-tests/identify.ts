@@ -163,11 +163,13 @@ export function identifyStepTest(parsed: ParsedStepTest, loop: LoopForIdentifica
     mvMax = Math.max(mvMax, v);
   }
   if (!(mvMax - mvMin > 0.001 * spans.mv)) {
-    throw new ValidationError(`The MV does not move in this log (range ${fmt(mvMax - mvMin)} ${"of a span of " + fmt(spans.mv)}); a step test needs at least one MV step.`);
+    throw new ValidationError(`The MV does not move in this log (range ${fmt(mvMax - mvMin)} in a span of ${fmt(spans.mv)}); a step test needs at least one MV step.`);
   }
   const modes = parsed.hasMode ? { auto: 0, manual: 0, cascade: 0 } : null;
   if (modes) for (const m of base.mode) if (m) modes[m]++;
-  const closedLoop = modes ? modes.auto + modes.cascade > modes.manual : parsed.hasSp;
+  // Without a mode column, moving set points mean SP steps in auto.
+  const spMoves = base.sp !== null && base.sp.some((v) => Math.abs(v - base.sp![0]!) > 0.002 * spans.pv);
+  const closedLoop = modes ? modes.auto + modes.cascade > modes.manual : spMoves;
   if (closedLoop) {
     warnings.push("Most of the log is in auto or cascade: the plant was identified from closed-loop data, which ARX fits without bias only when the equation error is white (Ljung 1999, sec. 13.4). An open-loop test in manual gives the cleaner model.");
   }
@@ -273,6 +275,12 @@ export function identifyStepTest(parsed: ParsedStepTest, loop: LoopForIdentifica
     // wn of the final model's dominant mode at the proposed period.
     const wn = finalOwn ? finalOwn.wnT / finalOwn.period : target.wnT / target.period;
     const wnT = wn * target.period;
+    const inBand = wnT >= 0.1 && wnT <= 0.6;
+    if (!inBand) {
+      warnings.push(
+        `At the proposed ${fmt(target.period)} s the identified dominant mode has wn T = ${fmt(wnT)}, outside 0.1-0.6: ${wnT < 0.1 ? "the log or the telemetry cannot be averaged enough" : "the telemetry is already slow for this mode"}.`,
+      );
+    }
     proposal = {
       estimationPeriodS: target.period,
       factor: target.factor,
@@ -280,8 +288,8 @@ export function identifyStepTest(parsed: ParsedStepTest, loop: LoopForIdentifica
       wnT,
       reason:
         `Averaging ${target.factor} telemetry sample${target.factor === 1 ? "" : "s"} of ${fmt(loop.telemetryPeriodS)} s gives ${fmt(target.period)} s, ` +
-        `where the identified dominant mode (wn = ${fmt(wn)} rad/s) has wn T = ${fmt(wnT)}, inside the band 0.1-0.6 ` +
-        `(rule of thumb, Åström & Wittenmark 1997).` + (wnT < 0.1 || wnT > 0.6 ? " (Outside the band: see the warnings.)" : ""),
+        `where the identified dominant mode (wn = ${fmt(wn)} rad/s) has wn T = ${fmt(wnT)}, ${inBand ? "inside" : "outside"} the band 0.1-0.6 ` +
+        `(rule of thumb, Åström & Wittenmark 1997).`,
       modelStructure: { na: model.a.length, nb: model.b.length, nk },
     };
   }
