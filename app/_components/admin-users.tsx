@@ -62,12 +62,12 @@ export function AdminUsers({ selfUserId }: { selfUserId: number }) {
       <form onSubmit={invite} noValidate className="flex flex-wrap items-end gap-3 rounded-md border border-line bg-surface p-3">
         <label className="flex flex-col text-sm">
           E-mail
-          <input type="email" {...register("email")} className={`${sel} w-72`} />
+          <input type="email" {...register("email")} className={`${sel} w-72`} data-testid="invite-email" />
           {errors.email && <span className="text-xs text-urgent">{errors.email.message}</span>}
         </label>
         <label className="flex flex-col text-sm">
           Role
-          <select {...register("role")} className={sel}>
+          <select {...register("role")} className={sel} data-testid="invite-role">
             {ROLES.map((r) => (
               <option key={r}>{r}</option>
             ))}

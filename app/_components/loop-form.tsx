@@ -54,7 +54,9 @@ export function LoopForm({ initial, loopId }: { initial?: LoopFields & { estimat
   const router = useRouter();
   const sites = useSWR("/api/admin/sites", (u: string) => fetchJson<{ sites: SiteDto[] }>(u));
   const [serverError, setServerError] = useState<string | null>(null);
-  const defaults = { ...NEW_LOOP_DEFAULTS, siteId: 0, ...(initial ?? {}), reason: "", mocReference: "" } as Form;
+  // The schema is strict: keep only the form's own fields (the proposal is shown, not edited).
+  const { estimationProposedS: _proposed, ...own } = initial ?? {};
+  const defaults = { ...NEW_LOOP_DEFAULTS, siteId: 0, ...own, reason: "", mocReference: "" } as Form;
   const {
     register,
     handleSubmit,
@@ -198,6 +200,7 @@ export function LoopForm({ initial, loopId }: { initial?: LoopFields & { estimat
         <Field name="reason" label="Change reason (required, logged)" {...p} />
         <Field name="mocReference" label="Management-of-change reference (optional)" {...p} />
       </fieldset>
+      {errors.root && <p role="alert" className="text-urgent">{String(errors.root.message)}</p>}
       {serverError && (
         <p role="alert" className="text-urgent">
           {serverError}
