@@ -153,11 +153,16 @@ describe("administration in Chromium", () => {
     expect(bad.status()).toBe(422);
     expect(((await bad.json()) as { error: string }).error).toMatch(/estimationPeriodS/);
 
-    await signIn(page, "viewer@vantrell.example");
+    // The engineer belongs to two tenants: the viewer must be of the tenant the loop was made in.
+    const who = (await (await page.request.get(`${srv.url}/api/session`)).json()) as { context: { tenantSlug: string } };
+    const viewer = who.context.tenantSlug === "vantrell" ? "viewer@vantrell.example" : "viewer@orrinvale.example";
+    await signIn(page, viewer);
     const refused = await page.request.patch(`${srv.url}/api/loops/${id}`, { data: { estimationPeriodS: 2, reason: "viewer tries" } });
     expect(refused.status()).toBe(403);
+    expect((await page.request.get(`${srv.url}/api/loops/${id}`)).status()).toBe(200);
     await page.goto(`${srv.url}/loops/${id}`);
-    await page.getByTestId("z-plane").first().waitFor({ timeout: 30_000 });
+    await page.screenshot({ path: artifactPath("console-loop-new-viewer.png"), fullPage: true });
+    await page.getByRole("heading", { name: "FIC-9001" }).waitFor({ timeout: 30_000 });
     expect(await page.getByRole("link", { name: "Edit loop" }).count()).toBe(0);
     await page.close();
   }, 180_000);
