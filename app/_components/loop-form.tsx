@@ -50,9 +50,18 @@ function Field({ name, label, register, errors, type = "text", nullable = false,
   );
 }
 
-export function LoopForm({ initial, loopId }: { initial?: LoopFields & { estimationProposedS?: number | null }; loopId?: number }) {
-  const router = useRouter();
+type LoopFormProps = { initial?: LoopFields & { estimationProposedS?: number | null }; loopId?: number };
+
+/** Waits for the sites so the site and area selects show the loop's own values from the start. */
+export function LoopForm(props: LoopFormProps) {
   const sites = useSWR("/api/admin/sites", (u: string) => fetchJson<{ sites: SiteDto[] }>(u));
+  if (sites.error) return <p role="alert" className="text-urgent">Could not load the sites: {(sites.error as Error).message}</p>;
+  if (!sites.data) return <p className="text-muted">Loading…</p>;
+  return <LoopFormInner {...props} sites={sites.data.sites} />;
+}
+
+function LoopFormInner({ initial, loopId, sites }: LoopFormProps & { sites: SiteDto[] }) {
+  const router = useRouter();
   const [serverError, setServerError] = useState<string | null>(null);
   // The schema is strict: keep only the form's own fields (the proposal is shown, not edited).
   const { estimationProposedS: _proposed, ...own } = initial ?? {};
@@ -64,7 +73,7 @@ export function LoopForm({ initial, loopId }: { initial?: LoopFields & { estimat
     formState: { errors, isSubmitting, dirtyFields },
   } = useForm<Form>({ resolver: zodResolver(createLoopSchema) as never, defaultValues: defaults, mode: "onBlur" });
   const siteId = Number(watch("siteId"));
-  const areas = sites.data?.sites.find((s) => s.id === siteId)?.areas ?? [];
+  const areas = sites.find((s) => s.id === siteId)?.areas ?? [];
   const sel = "rounded border border-line bg-ground px-2 py-1";
 
   const submit = handleSubmit(async (v) => {
@@ -93,7 +102,7 @@ export function LoopForm({ initial, loopId }: { initial?: LoopFields & { estimat
         <Field name="siteId" label="Site" {...p}>
           <select id="f-siteId" {...register("siteId", { setValueAs: (v) => Number(v) })} className={sel}>
             <option value={0}>choose…</option>
-            {sites.data?.sites.map((s) => (
+            {sites.map((s) => (
               <option key={s.id} value={s.id}>
                 {s.name}
               </option>
