@@ -418,9 +418,13 @@ function sortRoots(re: Float64Array, im: Float64Array, n: number): void {
 }
 
 /**
- * Closed-form cubic (Press et al., *Numerical Recipes*, 3rd ed., 2007, sec. 5.6) with Newton
- * polishing on the original polynomial. Returns false (caller falls back to the iteration) if
- * anything is non-finite.
+ * Closed-form cubic (Press et al., *Numerical Recipes*, 3rd ed., 2007, sec. 5.6): one real root
+ * from the trigonometric or Cardano form, polished by Newton steps on the original cubic, then
+ * the other two from the deflated quadratic (Press et al. 2007 sec. 9.5: deflate by the largest
+ * root backward, otherwise forward, which keeps the quadratic's coefficients well conditioned),
+ * each polished again on the original cubic. One transcendental pair (acos + cos, or cbrt + sqrt)
+ * and one sqrt per call instead of three cosines or an iterated complex Newton step. Returns false
+ * (caller falls back to the iteration) if anything is non-finite.
  */
 function cubic(coeffs: ArrayLike<number>, first: number, outRe: Float64Array, outIm: Float64Array): boolean {
   const lead = coeffs[first]!;
@@ -431,73 +435,81 @@ function cubic(coeffs: ArrayLike<number>, first: number, outRe: Float64Array, ou
   const Q = (a * a - 3 * b) / 9;
   const R = (2 * a * a * a - 9 * a * b + 27 * c) / 54;
   const Q3 = Q * Q * Q;
+  let x0: number;
   if (R * R < Q3) {
+    // three real roots; th/3 in [0, pi/3] gives the root of largest modulus of the depressed cubic
     let x = R / Math.sqrt(Q3);
     if (x > 1) x = 1;
     else if (x < -1) x = -1;
-    const th = Math.acos(x);
-    const m2 = -2 * Math.sqrt(Q);
-    outRe[0] = polishReal(a, b, c, m2 * Math.cos(th / 3) - a3);
-    outRe[1] = polishReal(a, b, c, m2 * Math.cos((th + 2 * Math.PI) / 3) - a3);
-    outRe[2] = polishReal(a, b, c, m2 * Math.cos((th - 2 * Math.PI) / 3) - a3);
-    outIm[0] = 0;
+    x0 = -2 * Math.sqrt(Q) * Math.cos(Math.acos(x) / 3) - a3;
+  } else {
+    const A = (R > 0 ? -1 : 1) * Math.cbrt(Math.abs(R) + Math.sqrt(R * R - Q3));
+    const B = A === 0 ? 0 : Q / A;
+    x0 = A + B - a3;
+  }
+  x0 = polishReal(a, b, c, x0);
+  // z^3 + a z^2 + b z + c = (z - x0)(z^2 + e1 z + e0)
+  let e1: number;
+  let e0: number;
+  if (x0 !== 0 && Math.abs(x0 * x0 * x0) > Math.abs(c)) {
+    e0 = -c / x0; // backward: x0 is the largest root
+    e1 = (e0 - b) / x0;
+  } else {
+    e1 = a + x0; // forward: x0 is not larger than the pair
+    e0 = b + e1 * x0;
+  }
+  outRe[0] = x0;
+  outIm[0] = 0;
+  const h = -0.5 * e1;
+  const disc = h * h - e0;
+  if (disc >= 0) {
+    const q = h + (h >= 0 ? Math.sqrt(disc) : -Math.sqrt(disc));
+    outRe[1] = polishReal(a, b, c, q);
+    outRe[2] = polishReal(a, b, c, q === 0 ? 0 : e0 / q);
     outIm[1] = 0;
     outIm[2] = 0;
   } else {
-    const A = -Math.sign(R) * Math.cbrt(Math.abs(R) + Math.sqrt(R * R - Q3));
-    const B = A === 0 ? 0 : Q / A;
-    outRe[0] = polishReal(a, b, c, A + B - a3);
-    outIm[0] = 0;
-    let re = -0.5 * (A + B) - a3;
-    let im = 0.8660254037844386 * Math.abs(A - B); // sqrt(3)/2
-    if (im === 0) {
-      outRe[1] = polishReal(a, b, c, re);
-      outRe[2] = polishReal(a, b, c, re);
-      outIm[1] = 0;
-      outIm[2] = 0;
-    } else {
-      // Newton on the complex root while |p| decreases (at most 3 steps).
-      for (let step = 0; step < 3; step++) {
-        // p = ((z + a) z + b) z + c, p' = (3z + 2a) z + b
-        let pr = re + a;
-        let pi = im;
-        let t = pr * re - pi * im + b;
-        pi = pr * im + pi * re;
-        pr = t;
-        t = pr * re - pi * im + c;
-        pi = pr * im + pi * re;
-        pr = t;
-        let dr = 3 * re + 2 * a;
-        let di = 3 * im;
-        t = dr * re - di * im + b;
-        di = dr * im + di * re;
-        dr = t;
-        const d2 = dr * dr + di * di;
-        const p2 = pr * pr + pi * pi;
-        if (d2 === 0 || p2 === 0) break;
-        const nre = re - (pr * dr + pi * di) / d2;
-        const nim = im - (pi * dr - pr * di) / d2;
-        // accept only if |p| decreases
-        let qr = nre + a;
-        let qi = nim;
-        t = qr * nre - qi * nim + b;
-        qi = qr * nim + qi * nre;
-        qr = t;
-        t = qr * nre - qi * nim + c;
-        qi = qr * nim + qi * nre;
-        qr = t;
-        if (!(qr * qr + qi * qi < p2)) break;
+    let re = h;
+    let im = Math.sqrt(-disc);
+    // one Newton step on the original cubic, kept only if |p| decreases
+    // p = ((z + a) z + b) z + c, p' = (3z + 2a) z + b
+    let pr = re + a;
+    let pi = im;
+    let t = pr * re - pi * im + b;
+    pi = pr * im + pi * re;
+    pr = t;
+    t = pr * re - pi * im + c;
+    pi = pr * im + pi * re;
+    pr = t;
+    let dr = 3 * re + 2 * a;
+    let di = 3 * im;
+    t = dr * re - di * im + b;
+    di = dr * im + di * re;
+    dr = t;
+    const d2 = dr * dr + di * di;
+    const p2 = pr * pr + pi * pi;
+    if (d2 !== 0 && p2 !== 0) {
+      const nre = re - (pr * dr + pi * di) / d2;
+      const nim = im - (pi * dr - pr * di) / d2;
+      let qr = nre + a;
+      let qi = nim;
+      t = qr * nre - qi * nim + b;
+      qi = qr * nim + qi * nre;
+      qr = t;
+      t = qr * nre - qi * nim + c;
+      qi = qr * nim + qi * nre;
+      qr = t;
+      if (qr * qr + qi * qi < p2) {
         re = nre;
         im = nim;
       }
-      outRe[1] = re;
-      outIm[1] = Math.abs(im);
-      outRe[2] = re;
-      outIm[2] = -Math.abs(im);
     }
+    outRe[1] = re;
+    outIm[1] = Math.abs(im);
+    outRe[2] = re;
+    outIm[2] = -Math.abs(im);
   }
-  for (let i = 0; i < 3; i++) if (!Number.isFinite(outRe[i]!) || !Number.isFinite(outIm[i]!)) return false;
-  return true;
+  return Number.isFinite(outRe[0]! + outRe[1]! + outRe[2]! + outIm[1]!);
 }
 
 /** Newton steps on a real root of z^3 + a z^2 + b z + c while |p| decreases (at most 3). */

@@ -99,10 +99,14 @@ export function poleKind(z: Complex): PoleKind {
 }
 
 function kindOf(z: Complex, r: number): PoleKind {
+  return kindXY(z.re, z.im, r);
+}
+
+function kindXY(x: number, y: number, r: number): PoleKind {
   if (r <= ORIGIN_TOLERANCE) return "origin";
-  if ((z.re - 1) * (z.re - 1) + z.im * z.im <= INTEGRATOR_TOLERANCE * INTEGRATOR_TOLERANCE) return "integrator";
-  if (Math.abs(z.im) > REAL_AXIS_TOLERANCE * Math.max(1, r)) return "complex";
-  return z.re > 0 ? "positive-real" : "negative-real";
+  if ((x - 1) * (x - 1) + y * y <= INTEGRATOR_TOLERANCE * INTEGRATOR_TOLERANCE) return "integrator";
+  if (Math.abs(y) > REAL_AXIS_TOLERANCE * Math.max(1, r)) return "complex";
+  return x > 0 ? "positive-real" : "negative-real";
 }
 
 /**
@@ -134,6 +138,101 @@ export function poleCharacteristics(z: Complex, T: number): PoleCharacteristics 
   // r^(2 pi/|theta|) = exp(2 pi ln r / |theta|), reusing ln r
   const dr = kind === "complex" || kind === "negative-real" ? Math.exp((2 * Math.PI * lnr) / Math.abs(theta)) : null;
   return { radius, angle, zeta, wn, timeConstant, decayRatio: dr, kind, stable, continuousEquivalent: kind !== "negative-real" };
+}
+
+/**
+ * What the tracker needs of a root set on its hot path, written into a caller-owned object (no
+ * allocation): the dominant pole (largest modulus; the first of equal moduli in the given order)
+ * with its damping ratio, natural frequency and time constant, and the decay ratio of the dominant
+ * oscillating mode (the root with Im z > 0 of largest modulus; the slowest oscillation to die out).
+ * Absent figures are NaN (`timeConstant` when the dominant pole is not real in [0, 1),
+ * `decayRatio` when no root has Im z > 0). Same formulas and conventions as `poleCharacteristics`
+ * and `decayRatio`; they agree to rounding (tested).
+ */
+export interface DominantPoleFigures {
+  /** Index of the dominant pole in the input arrays (-1 when count is 0). */
+  index: number;
+  /** Spectral radius max |z| (dimensionless). */
+  radius: number;
+  /** Damping ratio of the dominant pole (see `PoleCharacteristics.zeta`). */
+  zeta: number;
+  /** Natural frequency of the dominant pole in rad/s. */
+  wn: number;
+  /** -T / ln z in seconds for a dominant pole real in [0, 1); NaN otherwise. */
+  timeConstant: number;
+  /** r^(2 pi / theta) of the dominant oscillating root (Im z > 0); NaN when none. */
+  decayRatio: number;
+}
+
+/** A zeroed `DominantPoleFigures` to reuse with `dominantPoleInto`. */
+export function newDominantPoleFigures(): DominantPoleFigures {
+  return { index: -1, radius: NaN, zeta: NaN, wn: NaN, timeConstant: NaN, decayRatio: NaN };
+}
+
+/**
+ * Hot-path figures of the roots `re[0..count)`, `im[0..count)` at sample period T (seconds),
+ * written into `out` (see `DominantPoleFigures`). Compares squared moduli (no square root per
+ * root) and spends the transcendental calls (sqrt, log, atan2 for a complex pole, exp for the
+ * decay ratio) on the dominant pole and the dominant oscillating root only.
+ * The caller guarantees finite roots and T > 0 (the contract function `poleCharacteristics`
+ * checks them).
+ */
+export function dominantPoleInto(re: Float64Array, im: Float64Array, count: number, T: number, out: DominantPoleFigures): DominantPoleFigures {
+  let dom = -1;
+  let dom2 = -1;
+  let osc = -1;
+  let osc2 = -1;
+  for (let k = 0; k < count; k++) {
+    const x = re[k]!;
+    const y = im[k]!;
+    const m2 = x * x + y * y;
+    if (m2 > dom2) {
+      dom2 = m2;
+      dom = k;
+    }
+    if (y > 0 && m2 > osc2) {
+      osc2 = m2;
+      osc = k;
+    }
+  }
+  out.index = dom;
+  out.timeConstant = NaN;
+  out.decayRatio = NaN;
+  if (dom < 0) {
+    out.radius = out.zeta = out.wn = NaN;
+    return out;
+  }
+  const x = re[dom]!;
+  const y = im[dom]!;
+  const radius = Math.sqrt(dom2);
+  out.radius = radius;
+  const kind = kindXY(x, y, radius);
+  if (kind === "origin") {
+    out.zeta = 1;
+    out.wn = Infinity;
+    out.timeConstant = 0;
+  } else if (kind === "integrator") {
+    out.zeta = 0;
+    out.wn = 0;
+  } else {
+    const lnr = 0.5 * Math.log(dom2);
+    const theta = kind === "positive-real" ? 0 : kind === "negative-real" ? Math.PI : Math.atan2(y, x);
+    const mag = Math.sqrt(lnr * lnr + theta * theta);
+    out.wn = mag / T;
+    out.zeta = mag === 0 ? 0 : -lnr / mag;
+    if (kind === "positive-real" && radius < 1) out.timeConstant = -T / lnr;
+  }
+  if (osc >= 0) {
+    // the same tests as decayRatio(): off the real axis, r^(2 pi / theta) = exp(2 pi ln r / theta)
+    const ox = re[osc]!;
+    const oy = im[osc]!;
+    const r = osc === dom ? radius : Math.sqrt(osc2);
+    if (!(oy <= REAL_AXIS_TOLERANCE * Math.max(1, r) && ox > 0)) {
+      const theta = Math.atan2(oy, ox);
+      if (theta !== 0) out.decayRatio = Math.exp((Math.PI * Math.log(osc2)) / theta);
+    }
+  }
+  return out;
 }
 
 function assertPoints(points: number): void {

@@ -6,13 +6,20 @@
  * exponential forgetting) written here and never to be changed, so ratios stay comparable between
  * machines and runs. Target (ARCHITECTURE.md §11 costs): the full tracker step per estimation
  * update <= 4x the bare RLS update.
+ *
+ * "Full tracker step" = what server/tracking/loop-tracker.ts computes per estimation update from
+ * the model: RLS update, closed-loop characteristic polynomial, all its roots, Jury verdict, the
+ * radius of every root (each pole the state carries has one), and zeta / wn / tau of the dominant
+ * pole plus the decay ratio of the dominant oscillating root. The earlier variant with full
+ * `poleCharacteristics` for every root is kept beside it for comparison.
  */
+import { availableParallelism, loadavg } from "node:os";
 import { RecursiveLeastSquares } from "@/lib/control/rls";
 import { ArxEstimator } from "@/lib/control/arx";
 import { closedLoopArxInto, closedLoopPolynomial, discretePid } from "@/lib/control/closed-loop";
 import { polyRoots, polyRootsInto } from "@/lib/control/roots";
 import { juryStable, juryTest } from "@/lib/control/jury";
-import { poleCharacteristics } from "@/lib/control/zplane";
+import { dominantPoleInto, newDominantPoleFigures, poleCharacteristics } from "@/lib/control/zplane";
 import type { ArxModel } from "@/lib/control/types";
 
 // ---- data: seeded regressors and outputs (mulberry32), shared by every case -------------------
@@ -113,8 +120,33 @@ const T = 1;
 const pi = discretePid({ kp: 0.8, ti: 20, T });
 const plantTrue: ArxModel = { a: [-1.6, 0.65], b: [0.05, 0.03], nk: 1, T };
 
-/** Tracker step, hot-path functions: RLS update + closedLoopArxInto + polyRootsInto + juryStable + poleCharacteristics per root. */
+/** Tracker step, hot path: RLS update + closedLoopArxInto + polyRootsInto + juryStable + radius per root + dominantPoleInto. */
 function trackerHotLoop(iterations: number): number {
+  const rls = new RecursiveLeastSquares({ parameters: 4, forgetting: 0.99, initialTheta: [...plantTrue.a, ...plantTrue.b] });
+  const phi = new Float64Array(4);
+  const coeffs = new Float64Array(8);
+  const re = new Float64Array(8);
+  const im = new Float64Array(8);
+  const radius = new Float64Array(8);
+  const dom = newDominantPoleFigures();
+  let sink = 0;
+  for (let it = 0; it < iterations; it++) {
+    const row = (it & (ROWS - 1)) * 8;
+    for (let i = 0; i < 4; i++) phi[i] = 0.01 * PHI8[row + i]!;
+    const y = phi[0]! * 1.6 - phi[1]! * 0.65 + 0.05 * phi[2]! + 0.03 * phi[3]! + 1e-4 * Y[it & (ROWS - 1)]!;
+    sink += rls.update(phi, y);
+    const len = closedLoopArxInto(rls.theta, 2, 2, 1, pi.num, pi.den, coeffs);
+    const count = polyRootsInto(coeffs, re, im, len);
+    sink += juryStable(coeffs, len) ? 1 : 0;
+    for (let k = 0; k < count; k++) radius[k] = Math.sqrt(re[k]! * re[k]! + im[k]! * im[k]!);
+    dominantPoleInto(re, im, count, T, dom);
+    sink += dom.zeta + dom.wn + (Number.isNaN(dom.decayRatio) ? 0 : dom.decayRatio) + radius[0]!;
+  }
+  return sink;
+}
+
+/** The earlier hot step: full poleCharacteristics (allocating, every figure) for each of the three roots. */
+function trackerHotAllRootsLoop(iterations: number): number {
   const rls = new RecursiveLeastSquares({ parameters: 4, forgetting: 0.99, initialTheta: [...plantTrue.a, ...plantTrue.b] });
   const phi = new Float64Array(4);
   const coeffs = new Float64Array(8);
@@ -159,7 +191,7 @@ function trackerApiLoop(iterations: number): number {
 }
 
 /** Parts of the hot step alone, to see which dominates. */
-function partLoop(part: "closed-loop" | "roots" | "jury" | "characteristics") {
+function partLoop(part: "closed-loop" | "roots" | "jury" | "characteristics" | "dominant") {
   return (iterations: number): number => {
     const theta = Float64Array.from([...plantTrue.a, ...plantTrue.b]);
     const coeffs = new Float64Array(8);
@@ -169,6 +201,8 @@ function partLoop(part: "closed-loop" | "roots" | "jury" | "characteristics") {
     const count = polyRootsInto(coeffs, re, im, len);
     const z = { re: re[0]!, im: im[0]! };
     const c1 = coeffs[1]!;
+    const dom = newDominantPoleFigures();
+    const reP = new Float64Array(8);
     let sink = 0;
     for (let it = 0; it < iterations; it++) {
       theta[0] = -1.6 + 1e-6 * Y[it & (ROWS - 1)]!;
@@ -179,6 +213,10 @@ function partLoop(part: "closed-loop" | "roots" | "jury" | "characteristics") {
       } else if (part === "jury") {
         coeffs[1] = c1 + 1e-6 * Y[it & (ROWS - 1)]!;
         sink += juryStable(coeffs, len) ? 1 : 0;
+      } else if (part === "dominant") {
+        reP.set(re);
+        reP[0] = re[0]! + 1e-9 * Y[it & (ROWS - 1)]!;
+        sink += dominantPoleInto(reP, im, count, T, dom).zeta;
       } else {
         z.re = re[it % count]! + 1e-9 * Y[it & (ROWS - 1)]!;
         z.im = im[it % count]!;
@@ -208,13 +246,16 @@ const cases: [string, (iterations: number) => number, number][] = [
   ["RecursiveLeastSquares ARX(2,2) (n = 4, directional)", rlsLoop(4), 200_000],
   ["RecursiveLeastSquares ARX(4,4) (n = 8, directional)", rlsLoop(8), 100_000],
   ["ArxEstimator.push ARX(2,2,1) (RLS + history + excitation accumulation)", arxPushLoop, 100_000],
-  ["tracker step, hot path (RLS + closedLoopArxInto + polyRootsInto + juryStable + poleCharacteristics x3)", trackerHotLoop, 50_000],
+  ["tracker step, hot path (RLS + closedLoopArxInto + polyRootsInto + juryStable + |z| x3 + dominantPoleInto)", trackerHotLoop, 50_000],
+  ["tracker step, earlier hot path (same with poleCharacteristics x3 instead of dominantPoleInto)", trackerHotAllRootsLoop, 50_000],
   ["  part: closedLoopArxInto", partLoop("closed-loop"), 200_000],
   ["  part: polyRootsInto (cubic)", partLoop("roots"), 50_000],
   ["  part: juryStable (cubic)", partLoop("jury"), 200_000],
   ["  part: poleCharacteristics (one root)", partLoop("characteristics"), 200_000],
+  ["  part: dominantPoleInto (three roots)", partLoop("dominant"), 200_000],
   ["tracker step, contract API (ArxEstimator.push + closedLoopPolynomial + polyRoots + juryTest + poleCharacteristics x3)", trackerApiLoop, 20_000],
 ];
+console.log(`load average at start: ${loadavg().map((v) => v.toFixed(2)).join(" ")} (${availableParallelism()} CPUs)`);
 console.log(`control bench (Node ${process.version}), one run; ns per call (best of 7) and ratio to BASELINE measured alternately`);
 let hotRatio = NaN;
 for (const [name, fn, iterations] of cases) {
@@ -223,4 +264,5 @@ for (const [name, fn, iterations] of cases) {
   if (fn === trackerHotLoop) hotRatio = ratio;
   console.log(`${name.padEnd(112)} ${ns.toFixed(1).padStart(8)} ns  ${(1e3 / ns).toFixed(2).padStart(7)} M/s  x${ratio.toFixed(2)}  (baseline ${base.toFixed(1)} ns)`);
 }
+console.log(`load average at end: ${loadavg().map((v) => v.toFixed(2)).join(" ")}`);
 console.log(`target: hot tracker step <= 4x BASELINE -> measured x${hotRatio.toFixed(2)} (${hotRatio <= 4 ? "within" : "over"} target)`);
