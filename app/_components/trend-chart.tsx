@@ -9,6 +9,10 @@ import { useEffect, useLayoutEffect, useRef } from "react";
 import type uPlot from "uplot";
 import "uplot/dist/uPlot.min.css";
 
+// Start fetching the chart library as soon as a page with trends loads, not when the first
+// chart mounts (the history request and the chunk then travel together).
+if (typeof window !== "undefined") void import("uplot");
+
 export interface TrendSeries {
   label: string;
   stroke: string;
