@@ -36,7 +36,7 @@ import {
 } from "@/lib/control";
 import { ValidationError } from "@/lib/errors";
 import type { ParsedStepTest } from "./csv";
-import { fitFopdt, fitIpdt, type FopdtFit, type IpdtFit } from "./fopdt";
+import { fitFopdt, fitIpdt, simulateFopdt, type FopdtFit, type IpdtFit } from "./fopdt";
 import { detrend, loggedPeriod, resample, type DetrendMethod, type UniformSeries } from "./resample";
 
 export const RESULT_VERSION = 1;
@@ -126,7 +126,13 @@ export interface StepTestResult {
     reason: string;
     modelStructure: { na: number; nb: number; nk: number };
   } | null;
-  chart: { t: number[]; pvMeasured: number[]; pvSimulated: number[]; mv: number[]; sp: number[] | null };
+  /**
+   * For the chart, on the finest grid (the logged period, averaged down for long logs), thinned to
+   * CHART_POINTS: measured PV, the ARX model's simulated PV (its samples every identification
+   * period, linearly interpolated between them), the FOPDT (or integrator) summary's simulated PV,
+   * MV and SP. All in engineering units; t in seconds from the start.
+   */
+  chart: { t: number[]; pvMeasured: number[]; pvSimulated: number[]; pvSummary: number[] | null; mv: number[]; sp: number[] | null };
   warnings: string[];
 }
 
@@ -294,17 +300,41 @@ export function identifyStepTest(parsed: ParsedStepTest, loop: LoopForIdentifica
     };
   }
 
-  // Chart: measured vs simulated PV at the identification period, thinned to CHART_POINTS.
+  // Chart on the fine grid: the ARX simulation (every final.T) interpolated, the summary model's
+  // simulation at T1, both with the operating point added back.
   const sim = simulateArx(model, final.u);
-  const n = final.series.pv.length;
-  const stride = Math.max(1, Math.ceil(n / CHART_POINTS));
-  const chart: StepTestResult["chart"] = { t: [], pvMeasured: [], pvSimulated: [], mv: [], sp: final.series.sp ? [] : null };
-  for (let k = 0; k < n; k += stride) {
-    chart.t.push(round(k * final.T, 6));
-    chart.pvMeasured.push(round(final.series.pv[k]!, 6));
-    chart.pvSimulated.push(round(sim[k]! + final.yTrend[k]!, 6));
-    chart.mv.push(round(final.series.mv[k]!, 6));
-    chart.sp?.push(round(final.series.sp![k]!, 6));
+  const fineSeries = T1 === T0 ? base : resample(rows, T1);
+  const nFine = fineSeries.pv.length;
+  let summary: Float64Array | null = null;
+  if (ip) {
+    summary = new Float64Array(nFine);
+    let acc = 0;
+    const N = Math.floor(ip.deadTimeS / T1 + 1e-9);
+    const f = ip.deadTimeS - N * T1;
+    for (let k = 0; k < nFine; k++) {
+      summary[k] = ip.rate * acc + ip.offset + fine.yTrend[k]!;
+      acc += (T1 - f) * (fine.u[k - N] ?? 0) + f * (fine.u[k - N - 1] ?? 0);
+    }
+  } else if (fo) {
+    summary = simulateFopdt(fine.u, T1, fo.timeConstantS, fo.deadTimeS);
+    for (let k = 0; k < nFine; k++) summary[k] = fo.gain * summary[k]! + fo.offset + fine.yTrend[k]!;
+  }
+  const stride = Math.max(1, Math.ceil(nFine / CHART_POINTS));
+  const chart: StepTestResult["chart"] = { t: [], pvMeasured: [], pvSimulated: [], pvSummary: summary ? [] : null, mv: [], sp: fineSeries.sp ? [] : null };
+  const nSim = sim.length;
+  for (let k = 0; k < nFine; k += stride) {
+    const t = k * T1;
+    const x = Math.min(t / final.T, nSim - 1);
+    const i = Math.floor(x);
+    const w = x - i;
+    const at = (j: number) => sim[j]! + final.yTrend[j]!;
+    const simAt = i + 1 < nSim ? at(i) + w * (at(i + 1) - at(i)) : at(nSim - 1);
+    chart.t.push(round(t, 6));
+    chart.pvMeasured.push(round(fineSeries.pv[k]!, 6));
+    chart.pvSimulated.push(round(simAt, 6));
+    chart.pvSummary?.push(round(summary![k]!, 6));
+    chart.mv.push(round(fineSeries.mv[k]!, 6));
+    chart.sp?.push(round(fineSeries.sp![k]!, 6));
   }
 
   return {

@@ -134,7 +134,10 @@ describe("identification of a simulated FOPDT step test", () => {
     const ch = r.chart;
     expect(ch.t.length).toBe(ch.pvMeasured.length);
     expect(ch.t.length).toBe(ch.pvSimulated.length);
-    expect(ch.t.length).toBeGreaterThan(30);
+    expect(ch.t.length).toBe(ch.pvSummary!.length);
+    // The logged grid (2 s over 1900 s), not the coarser identification period.
+    expect(ch.t.length).toBe(950);
+    expect(ch.t[1]! - ch.t[0]!).toBe(2);
     // Before the first step both sit at the 130 degC operating point (baseline from the lead-in).
     expect(ch.pvMeasured[0]!).toBeCloseTo(130, 0);
     expect(ch.pvSimulated[0]!).toBeCloseTo(130, 0);
@@ -142,6 +145,9 @@ describe("identification of a simulated FOPDT step test", () => {
     const i = ch.t.findIndex((t) => t >= 650);
     expect(ch.pvSimulated[i]! - 130).toBeGreaterThan(3.6);
     expect(ch.pvSimulated[i]! - 130).toBeLessThan(4.4);
+    // The FOPDT summary follows the measured PV to within a few noise widths (noise 0.05 degC).
+    const rms = Math.sqrt(ch.pvSummary!.reduce((s, v, k) => s + (v - ch.pvMeasured[k]!) ** 2, 0) / ch.t.length);
+    expect(rms).toBeLessThan(0.1);
   });
 
   it("a log in which the MV never moves is refused with a reason (422)", () => {

@@ -16,6 +16,7 @@ export interface StepTestChartProps {
   t: number[];
   pvMeasured: number[];
   pvSimulated: number[];
+  pvSummary: number[] | null;
   mv: number[];
   sp: number[] | null;
   units: string;
@@ -35,15 +36,20 @@ export function StepTestChart(p: StepTestChartProps) {
       const ink = cssVar("--rg-muted", "#a9b2bc");
       const grid = cssVar("--rg-line", "#414a55");
       const axis = (scale: string, label: string, side: 1 | 3 = 3): uPlot.Axis => ({ scale, label, side, stroke: ink, grid: { stroke: grid, width: 1 }, ticks: { stroke: grid } });
+      const points = { show: false };
       const series: uPlot.Series[] = [
         {},
-        { label: `PV measured (${p.units})`, stroke: cssVar("--rg-ink", "#e4e8ec"), width: 1.4, scale: "pv" },
-        { label: `PV model (${p.units})`, stroke: cssVar("--rg-accent", "#6cb4ee"), width: 1.6, dash: [6, 3], scale: "pv" },
-        { label: `MV (${p.mvUnits})`, stroke: cssVar("--rg-low", "#b9a0f5"), width: 1, scale: "mv" },
+        { label: `PV measured (${p.units})`, stroke: cssVar("--rg-ink", "#e4e8ec"), width: 1.4, scale: "pv", points },
+        { label: `PV, ARX model (${p.units})`, stroke: cssVar("--rg-accent", "#6cb4ee"), width: 1.6, dash: [6, 3], scale: "pv", points },
+        { label: `MV (${p.mvUnits})`, stroke: cssVar("--rg-low", "#b9a0f5"), width: 1, scale: "mv", points },
       ];
       const data: uPlot.AlignedData = [p.t, p.pvMeasured, p.pvSimulated, p.mv];
+      if (p.pvSummary) {
+        series.push({ label: `PV, summary model (${p.units})`, stroke: cssVar("--rg-ok", "#9fc3a8"), width: 1.2, dash: [2, 3], scale: "pv", points });
+        (data as unknown as number[][]).push(p.pvSummary);
+      }
       if (p.sp) {
-        series.push({ label: `SP (${p.units})`, stroke: ink, width: 1, dash: [2, 4], scale: "pv" });
+        series.push({ label: `SP (${p.units})`, stroke: ink, width: 1, dash: [8, 4], scale: "pv", points });
         (data as unknown as number[][]).push(p.sp);
       }
       plot = new UPlot(
@@ -66,6 +72,6 @@ export function StepTestChart(p: StepTestChartProps) {
       ro?.disconnect();
       plot?.destroy();
     };
-  }, [p.t, p.pvMeasured, p.pvSimulated, p.mv, p.sp, p.units, p.mvUnits]);
+  }, [p.t, p.pvMeasured, p.pvSimulated, p.pvSummary, p.mv, p.sp, p.units, p.mvUnits]);
   return <div ref={host} role="img" aria-label={p.ariaLabel} className="w-full" data-testid="step-test-chart" />;
 }

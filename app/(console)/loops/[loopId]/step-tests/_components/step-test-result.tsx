@@ -1,6 +1,6 @@
 "use client";
 /** One step test's result: chart, identified model, continuous equivalents, proposal and apply form. */
-import { useState } from "react";
+import { useState, useSyncExternalStore } from "react";
 import { sendJson } from "@/lib/client/fetcher";
 import { fmt, fmtSeconds } from "@/lib/client/format";
 import type { StepTestDetail } from "@/lib/step-tests/service";
@@ -165,6 +165,7 @@ function Proposal({ loopId, detail, canApply, onApplied }: { loopId: number; det
   const [structure, setStructure] = useState(true);
   const [busy, setBusy] = useState(false);
   const [message, setMessage] = useState<{ ok: boolean; text: string } | null>(null);
+  const ready = useHydrated();
   if (!p) return <p className="text-sm text-muted">No estimation period is proposed for this test (see the warnings).</p>;
   const cur = detail.loop;
   async function submit(e: React.FormEvent) {
@@ -251,7 +252,7 @@ function Proposal({ loopId, detail, canApply, onApplied }: { loopId: number; det
             any change to a live controller follows your site&apos;s management of change and is made by authorised personnel.
           </p>
           <div>
-            <button type="submit" disabled={busy} className="rounded bg-accent px-4 py-1.5 font-semibold text-accent-ink disabled:opacity-60">
+            <button type="submit" disabled={busy || !ready} className="rounded bg-accent px-4 py-1.5 font-semibold text-accent-ink disabled:opacity-60">
               {busy ? "Applying…" : "Apply to the tracker"}
             </button>
           </div>
@@ -266,4 +267,10 @@ function Proposal({ loopId, detail, canApply, onApplied }: { loopId: number; det
       )}
     </div>
   );
+}
+
+const noSubscribe = () => () => {};
+/** False during server rendering and hydration: until then a click would submit a form natively. */
+function useHydrated(): boolean {
+  return useSyncExternalStore(noSubscribe, () => true, () => false);
 }

@@ -1,7 +1,7 @@
 "use client";
 /** Upload form, list of the loop's step tests, and the selected result. */
 import { useRouter } from "next/navigation";
-import { useState } from "react";
+import { useState, useSyncExternalStore } from "react";
 import useSWR from "swr";
 import { ApiError, fetchJson } from "@/lib/client/fetcher";
 import { fmt, fmtSeconds, fmtTime } from "@/lib/client/format";
@@ -97,6 +97,7 @@ export function StepTestsView({
 function UploadForm({ action, onDone }: { action: string; onDone: (id: number) => Promise<void> }) {
   const router = useRouter();
   const [busy, setBusy] = useState(false);
+  const ready = useHydrated();
   const [error, setError] = useState<{ message: string; where: string | null } | null>(null);
   async function submit(e: React.FormEvent<HTMLFormElement>) {
     e.preventDefault();
@@ -150,16 +151,22 @@ function UploadForm({ action, onDone }: { action: string; onDone: (id: number) =
           Longest dead time to search (s, optional)
           <input name="maxDeadTimeS" type="number" min="0" step="any" className="num w-40 rounded border border-line bg-ground px-2 py-1" />
         </label>
-        <button type="submit" disabled={busy} className="rounded bg-accent px-4 py-1.5 font-semibold text-accent-ink disabled:opacity-60">
+        <button type="submit" disabled={busy || !ready} className="rounded bg-accent px-4 py-1.5 font-semibold text-accent-ink disabled:opacity-60">
           {busy ? "Analysing…" : "Upload and analyse"}
         </button>
       </div>
       {error && (
         <p role="alert" className="text-sm text-urgent" data-testid="step-test-upload-error">
-          {error.where && <strong className="mr-1">At {error.where}:</strong>}
+          {error.where && !/^Lines? \d/.test(error.message) && <strong className="mr-1">At {error.where}:</strong>}
           {error.message} Nothing was stored.
         </p>
       )}
     </form>
   );
+}
+
+const noSubscribe = () => () => {};
+/** False during server rendering and hydration: until then a click would submit a form natively. */
+function useHydrated(): boolean {
+  return useSyncExternalStore(noSubscribe, () => true, () => false);
 }
