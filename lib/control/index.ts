@@ -17,3 +17,4 @@ export * from "./arx";
 export * from "./excitation";
 export * from "./confidence";
 export * from "./forecast";
+export * from "./riv";

@@ -40,6 +40,7 @@
  * message, so a batching gateway does not flap), or a PV repeated exactly for 30 s.
  */
 import { ArxEstimator, type ArxEstimatorState } from "@/lib/control/arx";
+import { InstrumentalArxEstimator, type InstrumentalArxState } from "@/lib/control/riv";
 import { closedLoopPolynomial, discretePid, gainHeadroom } from "@/lib/control/closed-loop";
 import { closedLoopCoefficientCovariance, poleConfidence } from "@/lib/control/confidence";
 import { forecastCrossing } from "@/lib/control/forecast";
@@ -62,6 +63,10 @@ const LIMIT_RUN = 3;
 const PREFILTER_POLE = 0.9;
 /** Largest order of the data-only closed-loop model. */
 const MAX_DATA_ORDER = 8;
+/** Smallest prefiltered instrument (% of span) that counts as information (a set-point move of 0.05 % decays below it in ~40 samples). */
+const INSTRUMENT_THRESHOLD_PCT = 1e-3;
+/** Seconds without an informative sample (set-point or manual move) before `low-excitation`, at least one estimator memory. */
+const HOLD_S = 900;
 
 export interface LoopTrackerOptions {
   clock: Clock;
@@ -76,11 +81,13 @@ export interface LoopTrackerOptions {
 
 /** Serialisable tracker state (estimators and the radius history), for checkpoints. */
 export interface TrackerCheckpoint {
-  version: 1;
+  version: 2;
   loopId: number;
   /** The structure the estimators were built for; a restore into a different one is refused. */
   structure: { na: number; nb: number; nk: number; estimationPeriodS: number; dataOrder: number };
-  plant: ArxEstimatorState;
+  /** Plant estimator of the configured structure, and the one with a pole fewer (null when na = 1). */
+  plant: InstrumentalArxState;
+  plantReduced: InstrumentalArxState | null;
   data: ArxEstimatorState;
   estimationSamples: number;
   lastPlantUpdate: number;
@@ -118,9 +125,19 @@ export class LoopTracker {
   private readonly stateEvery: number;
   private readonly flatLimit: number;
   private controller: QTf;
-  private plant: ArxEstimator;
+  /** The plant model as reported: `plantFull` or `plantReduced`, whichever simulates the loop better. */
+  private plant: InstrumentalArxEstimator;
+  /** The configured structure (na, nb, nk). */
+  private plantFull: InstrumentalArxEstimator;
+  /** One pole fewer (na - 1, nb, nk) when na >= 2: an IV estimate of an over-parameterised model
+   * is ill-determined along the pole-zero cancellation direction, so a first-order plant fitted
+   * with na = 2 shows a spurious closed-loop pole anywhere, even outside the unit circle. */
+  private plantReduced: InstrumentalArxEstimator | null;
   private data: ArxEstimator;
+  /** Informative samples the plant estimate needs before it is reported. */
   private readonly minUpdates: number;
+  /** Estimation samples without an informative one before the loop counts as `low-excitation`. */
+  private readonly holdSamples: number;
   private readonly memory: number;
   // decimation accumulators
   private accY = 0;
@@ -182,8 +199,12 @@ export class LoopTracker {
     this.memory = 1 / (1 - lambda);
     this.forecastWindowS = options.forecastWindowS ?? Math.max(3600, 20 * this.memory * this.estimationPeriodS);
     this.forecastPointEveryS = Math.max(this.estimationPeriodS, this.forecastWindowS / 720);
-    this.minUpdates = Math.max(50, 10 * (config.na + config.nb));
-    this.plant = this.makePlantEstimator();
+    // about two set-point moves' worth of informative samples (one move of a few % gives 50-80)
+    this.minUpdates = Math.max(60, 12 * (config.na + config.nb));
+    this.holdSamples = Math.max(this.memory, Math.ceil(HOLD_S / this.estimationPeriodS));
+    this.plantFull = this.makePlantEstimator(config.na);
+    this.plantReduced = config.na >= 2 ? this.makePlantEstimator(config.na - 1) : null;
+    this.plant = this.plantFull;
     const degree = Math.max(config.na + this.controller.den.length - 1, config.nk + config.nb - 1 + this.controller.num.length - 1);
     this.dataOrder = Math.min(MAX_DATA_ORDER, Math.max(2, degree));
     this.data = this.makeDataEstimator();
@@ -203,9 +224,9 @@ export class LoopTracker {
     });
   }
 
-  private makePlantEstimator(): ArxEstimator {
+  private makePlantEstimator(na: number): InstrumentalArxEstimator {
     const c = this.config;
-    return new ArxEstimator({ na: c.na, nb: c.nb, nk: c.nk, forgetting: c.forgetting ?? 0.995, T: this.estimationPeriodS, operatingPoint: "none" });
+    return new InstrumentalArxEstimator({ na, nb: c.nb, nk: c.nk, forgetting: c.forgetting ?? 0.995, T: this.estimationPeriodS, instrumentThreshold: INSTRUMENT_THRESHOLD_PCT, controller: this.controller });
   }
 
   private makeDataEstimator(): ArxEstimator {
@@ -332,7 +353,10 @@ export class LoopTracker {
     this.yMean += w * d;
     this.yVariance = (1 - w) * (this.yVariance + w * d * d);
     try {
-      if (this.plant.push(f.u, f.y, learn)) this.lastPlantUpdate = k;
+      const mode = !learn ? "skip" : manual ? "open" : "closed";
+      if (this.plantFull.push(f.u, f.y, f.r, mode)) this.lastPlantUpdate = k;
+      this.plantReduced?.push(f.u, f.y, f.r, mode);
+      this.plant = this.choosePlant();
       this.data.push(f.r, f.y, learn && !manual);
     } catch {
       this.resetEstimators("estimators restarted after a numerical failure");
@@ -344,8 +368,31 @@ export class LoopTracker {
     return true;
   }
 
+  /** The plant estimate can be reported: enough informative samples and a well-posed solution. */
+  private plantReady(p: InstrumentalArxEstimator = this.plant): boolean {
+    return p.solved && p.informative >= this.minUpdates && p.conditioning > 1e-9;
+  }
+
+  /**
+   * Structure choice (common practice: the simpler model unless the richer one is clearly
+   * better): the reduced model unless the full one's closed-loop simulation error is at least
+   * 10 % lower, and the full model whenever the reduced one is not ready.
+   */
+  private choosePlant(): InstrumentalArxEstimator {
+    const red = this.plantReduced;
+    if (!red || !this.plantReady(red)) return this.plantFull;
+    if (!this.plantReady(this.plantFull)) return red;
+    const ef = this.plantFull.simulationError();
+    const er = red.simulationError();
+    if (!Number.isFinite(er)) return Number.isFinite(ef) ? this.plantFull : red;
+    if (!Number.isFinite(ef)) return red;
+    return ef < 0.9 * er ? this.plantFull : red;
+  }
+
   private parametersFinite(): boolean {
-    const a = this.plant.rls.theta;
+    const a = this.plantFull.theta;
+    const a2 = this.plantReduced?.theta ?? a;
+    for (let i = 0; i < a2.length; i++) if (!Number.isFinite(a2[i]!)) return false;
     const b = this.data.rls.theta;
     for (let i = 0; i < a.length; i++) if (!Number.isFinite(a[i]!)) return false;
     for (let i = 0; i < b.length; i++) if (!Number.isFinite(b[i]!)) return false;
@@ -353,7 +400,9 @@ export class LoopTracker {
   }
 
   private resetEstimators(reason: string): void {
-    this.plant = this.makePlantEstimator();
+    this.plantFull = this.makePlantEstimator(this.config.na);
+    this.plantReduced = this.config.na >= 2 ? this.makePlantEstimator(this.config.na - 1) : null;
+    this.plant = this.plantFull;
     this.data = this.makeDataEstimator();
     this.lastPlantUpdate = -Infinity;
     this.cachedHeadroom = { value: null, at: -Infinity };
@@ -374,15 +423,18 @@ export class LoopTracker {
       const lim = this.limitSide === "high" ? c.mvLimitHi : c.mvLimitLo;
       return { state: "saturated", reason: `MV at its ${this.limitSide} limit (${fmt(lim)}): the loop is open` };
     }
-    if (this.stateReasonOverride && this.plant.updates < this.minUpdates) return { state: "learning", reason: this.stateReasonOverride };
-    if (this.plant.updates < this.minUpdates) {
-      return { state: "learning", reason: `plant model learning: ${this.plant.updates} of ${this.minUpdates} updates` };
+    if (this.stateReasonOverride && !this.plantReady()) return { state: "learning", reason: this.stateReasonOverride };
+    if (!this.plantReady()) {
+      const n = this.plant.informative;
+      if (n >= this.minUpdates) return { state: "learning", reason: `plant model learning: the set-point moves so far do not determine all ${this.plant.d} parameters` };
+      const age = Number.isFinite(this.lastSpMove) ? ` (last set-point move ${Math.round((this.estimationSamples - this.lastSpMove) * this.estimationPeriodS)} s ago)` : " (no set-point move seen yet)";
+      return { state: "learning", reason: `plant model learning: ${n} of ${this.minUpdates} informative samples${age}` };
     }
     const idle = this.estimationSamples - this.lastPlantUpdate;
-    if (idle > this.memory) {
+    if (idle > this.holdSamples) {
       return {
         state: "low-excitation",
-        reason: `no set-point or manual move for ${Math.round(idle * this.estimationPeriodS)} s: plant model held`,
+        reason: `no set-point or manual move for ${Math.round(idle * this.estimationPeriodS)} s: plant model held (last updated ${Math.round(idle * this.estimationPeriodS)} s ago)`,
       };
     }
     return { state: "tracking", reason: null };
@@ -440,15 +492,14 @@ export class LoopTracker {
     const kind = this.currentKind(now);
     const st = this.emptyState(kind.state, kind.reason);
     st.at = now;
-    const ex = this.plant.excitation();
-    st.excitation = finite(ex.ratio);
+    st.excitation = this.plant.solved ? finite(this.plant.conditioning) : null;
     const s2 = this.plant.residualVariance();
     if (Number.isFinite(s2) && this.yVariance > 0) st.fitPercent = finite(Math.max(-100, Math.min(100, 100 * (1 - Math.sqrt(s2 / this.yVariance)))));
     // data-only poles
     const memorySamples = this.memory;
     st.dataPolesKind = this.estimationSamples - this.lastSpMove <= memorySamples ? "closed-loop" : "disturbance-response";
     if (this.data.updates >= Math.max(50, 10 * this.dataOrder)) st.dataPoles = this.dataPoles();
-    if (this.plant.updates >= this.minUpdates) this.modelBased(st);
+    if (this.plantReady()) this.modelBased(st);
     if (st.spectralRadius !== null && (kind.state === "tracking" || kind.state === "low-excitation")) {
       const t = sampleT / 1000;
       const last = this.radiusHistory[this.radiusHistory.length - 1];
@@ -550,22 +601,23 @@ export class LoopTracker {
   }
 
   /** Plant model (for diagnostics and tests). */
-  plantModel(): ReturnType<ArxEstimator["model"]> {
+  plantModel(): ReturnType<InstrumentalArxEstimator["model"]> {
     return this.plant.model();
   }
 
-  /** Plant-estimator updates so far. */
+  /** Informative samples the plant estimator has taken so far. */
   get plantUpdates(): number {
-    return this.plant.updates;
+    return this.plant.informative;
   }
 
   /** Serialisable estimator state for checkpoints (JSON-safe). */
   checkpoint(): TrackerCheckpoint {
     return {
-      version: 1,
+      version: 2,
       loopId: this.config.id,
       structure: { na: this.config.na, nb: this.config.nb, nk: this.config.nk, estimationPeriodS: this.estimationPeriodS, dataOrder: this.dataOrder },
-      plant: this.plant.toJSON(),
+      plant: this.plantFull.toJSON(),
+      plantReduced: this.plantReduced ? this.plantReduced.toJSON() : null,
       data: this.data.toJSON(),
       estimationSamples: this.estimationSamples,
       lastPlantUpdate: Number.isFinite(this.lastPlantUpdate) ? this.lastPlantUpdate : -1e15,
@@ -584,13 +636,17 @@ export class LoopTracker {
    */
   restore(cp: TrackerCheckpoint): { ok: true } | { ok: false; reason: string } {
     try {
-      if (!cp || cp.version !== 1) return { ok: false, reason: "unknown checkpoint version" };
+      if (!cp || cp.version !== 2) return { ok: false, reason: "unknown checkpoint version (made before the instrumental-variable plant estimator)" };
       if (cp.loopId !== this.config.id) return { ok: false, reason: `checkpoint of loop ${cp.loopId}, not ${this.config.id}` };
       const s = cp.structure;
       if (s.na !== this.config.na || s.nb !== this.config.nb || s.nk !== this.config.nk || s.estimationPeriodS !== this.estimationPeriodS || s.dataOrder !== this.dataOrder) {
         return { ok: false, reason: "checkpoint was made for another model structure or estimation period" };
       }
-      const plant = ArxEstimator.fromJSON(cp.plant);
+      const plant = InstrumentalArxEstimator.fromJSON(cp.plant);
+      const reduced = cp.plantReduced ? InstrumentalArxEstimator.fromJSON(cp.plantReduced) : null;
+      if (plant.na !== this.config.na || (reduced === null) !== (this.config.na < 2) || (reduced !== null && reduced.na !== this.config.na - 1)) {
+        return { ok: false, reason: "checkpoint was made for another model structure or estimation period" };
+      }
       const data = ArxEstimator.fromJSON(cp.data);
       const nums = [cp.estimationSamples, cp.lastPlantUpdate, cp.lastSpMove, cp.samplesSeen, cp.yVariance, cp.yMean];
       if (!nums.every((v) => typeof v === "number" && Number.isFinite(v))) return { ok: false, reason: "checkpoint counters are not finite numbers" };
@@ -601,7 +657,9 @@ export class LoopTracker {
       const triple = (v: unknown): v is { u: number; y: number; r: number } =>
         !!v && typeof v === "object" && ["u", "y", "r"].every((k) => Number.isFinite((v as Record<string, unknown>)[k]));
       if (!pf || !triple(pf.filtered) || (pf.prev !== null && !triple(pf.prev))) return { ok: false, reason: "checkpoint prefilter state is malformed" };
-      this.plant = plant;
+      this.plantFull = plant;
+      this.plantReduced = reduced;
+      this.plant = this.choosePlant();
       this.data = data;
       this.prevSignals = pf.prev ? { ...pf.prev } : null;
       this.filtered = { ...pf.filtered };

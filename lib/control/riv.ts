@@ -1,0 +1,535 @@
+/**
+ * Closed-loop ARX identification by instrumental variables with reference instruments
+ * (`InstrumentalArxEstimator`).
+ *
+ * Why: least squares on A(q) y = B(q) u + v is biased when the equation error v is not white.
+ * Measurement noise n on the PV enters as v = A(q) n (coloured), and in closed loop u is
+ * correlated with n through the controller, so an RLS/ARX estimate of a lightly damped plant
+ * comes out too damped and its gain too low (Söderström & Stoica, *System Identification*, 1989,
+ * ch. 7-8; Ljung, *System Identification*, 2nd ed., 1999, sec. 7.6 and 13.4).
+ *
+ * The instrumental-variable estimate (Söderström & Stoica 1989, sec. 8.1; Ljung 1999, sec. 7.6)
+ *   theta = [ sum w(k) z(k) phi(k)' ]^-1 [ sum w(k) z(k) y(k) ]
+ * is consistent whenever the instruments z(k) are uncorrelated with v(k) and correlated with the
+ * regressor phi(k) = [-y(k-1) .. -y(k-na), u(k-nk) .. u(k-nk-nb+1)]. In closed loop the set point
+ * r is external (uncorrelated with the noise), so its delayed values are valid instruments
+ * (closed-loop IV, Söderström & Stoica 1989 sec. 10.4; Gilson & Van den Hof, "Instrumental
+ * variable methods for closed-loop system identification", Automatica 41, 2005):
+ *   z(k) = [r(k-nk), r(k-nk-1), ..., r(k-nk-d+1)],  d = na + nb.
+ * While the loop is open (manual), the MV itself is the external signal and its delayed values
+ * serve instead: z(k) = [u(k-nk-1), ..., u(k-nk-d)] ("input instruments", same references).
+ *
+ * Once an estimate exists and the controller C(q) is known (`controller` option), the instruments
+ * are the noise-free regressor of an auxiliary model (the bootstrap / "tailor-made" IV:
+ * Söderström & Stoica 1989 sec. 8.2 and 10.4; Gilson & Van den Hof 2005): the closed loop of
+ * the current plant estimate and C, driven by r alone (or, open loop, the estimate driven by the
+ * measured MV), gives y_s, u_s and z(k) = [-y_s(k-1) .. -y_s(k-na), u_s(k-nk) .. ]. These
+ * correlate with phi far better than delayed set points (lower variance) and still contain no
+ * measurement noise. A simulated loop that diverges (a poor early estimate) is restarted at zero.
+ *
+ * Weighting: exponential forgetting with factor lambda, applied only on samples whose instrument
+ * carries information (|z|_inf above `instrumentThreshold`). With data-independent instruments
+ * that are zero between set-point moves, the sums would otherwise only shrink (both alike, so the
+ * estimate would not move) until rounding takes over; counting memory in informative samples
+ * keeps the last few moves' information however long the loop then sits still, and the estimate
+ * is held, not drifted by noise, while nothing excites it (the age of the last informative
+ * sample is reported).
+ *
+ * The sums are kept as d x d and d arrays and the normal equations are solved by Gaussian
+ * elimination with partial pivoting into preallocated buffers: O(d^2) per sample, O(d^3) per
+ * solve, no allocation per sample. Covariance (Söderström & Stoica 1989, eq. 8.11, white
+ * equation error assumed as an approximation): sigma^2 R^-1 Szz R^-T scaled as for weighted
+ * least squares (see `ArxEstimator.parameterCovariance`).
+ */
+import { ControlArgumentError, NonFiniteInputError } from "./errors";
+import type { ArxModel } from "./types";
+
+export interface InstrumentalArxOptions {
+  na: number;
+  nb: number;
+  nk: number;
+  /** Sample period, seconds; default 1. */
+  T?: number;
+  /** Forgetting factor per informative sample, (0, 1]; default 0.995. */
+  forgetting?: number;
+  /** Smallest |z|_inf (signal units) for a sample to count as informative; default 1e-3. */
+  instrumentThreshold?: number;
+  /** Weight of the running residual variance (all samples), (0, 1); default 0.995. */
+  residualMemory?: number;
+  /** The loop's controller u = C(q) (r - y) as num/den in ascending powers of q^-1 (den[0] != 0), for auxiliary-model instruments; default none. */
+  controller?: { num: readonly number[]; den: readonly number[] } | null;
+}
+
+export interface InstrumentalArxState {
+  version: 1;
+  options: Required<Omit<InstrumentalArxOptions, "controller">> & { controller: { num: number[]; den: number[] } | null };
+  R: number[];
+  f: number[];
+  Szz: number[];
+  theta: number[];
+  yHistory: number[];
+  uHistory: number[];
+  rHistory: number[];
+  informative: number;
+  effective: number;
+  samples: number;
+  residual: number;
+  residualWeight: number;
+  sinceInformative: number;
+  solved: boolean;
+  conditioning: number;
+  /** Auxiliary model: simulated y, u, e histories, run length, simulation-error sums. */
+  aux: { ys: number[]; us: number[]; es: number[]; run: number; error: number; weight: number };
+}
+
+function checkInt(name: string, v: number, min: number): void {
+  if (!Number.isInteger(v) || v < min) throw new ControlArgumentError(`${name} must be an integer >= ${min}, got ${v}`);
+}
+
+export class InstrumentalArxEstimator {
+  readonly na: number;
+  readonly nb: number;
+  readonly nk: number;
+  readonly T: number;
+  readonly d: number;
+  readonly options: Readonly<Required<Omit<InstrumentalArxOptions, "controller">>> & { readonly controller: { num: number[]; den: number[] } | null };
+  /** Current estimate [a1..a_na, b0..b_{nb-1}] (live view). */
+  readonly theta: Float64Array;
+  /** Informative samples accumulated (not decayed). */
+  informative = 0;
+  /** Samples pushed since the last informative one (Infinity before the first). */
+  sinceInformative = Infinity;
+  /** Pivot ratio |min pivot| / |max pivot| of the last solve (0 = singular); a conditioning indicator. */
+  conditioning = 0;
+  /** Whether `theta` holds a solution of the current sums (false before the first good solve). */
+  solved = false;
+  private readonly R: Float64Array;
+  private readonly f: Float64Array;
+  private readonly Szz: Float64Array;
+  private readonly phi: Float64Array;
+  private readonly z: Float64Array;
+  private readonly M: Float64Array;
+  private readonly x: Float64Array;
+  private readonly yHist: Float64Array;
+  private readonly uHist: Float64Array;
+  private readonly rHist: Float64Array;
+  private effective = 0;
+  private count = 0;
+  private residual = 0;
+  private residualWeight = 0;
+  private dirty = false;
+  // auxiliary-model simulation (noise-free signals), histories newest first
+  private readonly cNum: Float64Array;
+  private readonly cDen: Float64Array;
+  private readonly ysHist: Float64Array;
+  private readonly usHist: Float64Array;
+  private readonly esHist: Float64Array;
+  /** Samples the auxiliary model has run since its last (re)start. */
+  private auxRun = 0;
+  private simError = 0;
+  private simWeight = 0;
+
+  constructor(options: InstrumentalArxOptions) {
+    checkInt("na", options.na, 1);
+    checkInt("nb", options.nb, 1);
+    checkInt("nk", options.nk, 1);
+    const T = options.T ?? 1;
+    if (!(T > 0) || !Number.isFinite(T)) throw new ControlArgumentError(`T must be a finite number of seconds > 0, got ${T}`);
+    const lam = options.forgetting ?? 0.995;
+    if (!(lam > 0 && lam <= 1)) throw new ControlArgumentError(`forgetting must be in (0, 1], got ${lam}`);
+    const thr = options.instrumentThreshold ?? 1e-3;
+    if (!(thr >= 0) || !Number.isFinite(thr)) throw new ControlArgumentError(`instrumentThreshold must be a finite number >= 0, got ${thr}`);
+    const rm = options.residualMemory ?? 0.995;
+    if (!(rm > 0 && rm < 1)) throw new ControlArgumentError(`residualMemory must be in (0, 1), got ${rm}`);
+    let controller: { num: number[]; den: number[] } | null = null;
+    if (options.controller) {
+      const num = Array.from(options.controller.num);
+      const den = Array.from(options.controller.den);
+      if (num.length === 0 || den.length === 0 || !(den[0] !== 0) || ![...num, ...den].every(Number.isFinite)) {
+        throw new ControlArgumentError("controller must have finite num and den coefficients with den[0] != 0");
+      }
+      controller = { num, den };
+    }
+    this.options = { na: options.na, nb: options.nb, nk: options.nk, T, forgetting: lam, instrumentThreshold: thr, residualMemory: rm, controller };
+    this.na = options.na;
+    this.nb = options.nb;
+    this.nk = options.nk;
+    this.T = T;
+    const d = (this.d = this.na + this.nb);
+    this.theta = new Float64Array(d);
+    this.R = new Float64Array(d * d);
+    this.f = new Float64Array(d);
+    this.Szz = new Float64Array(d * d);
+    this.phi = new Float64Array(d);
+    this.z = new Float64Array(d);
+    this.M = new Float64Array(d * (d + 1));
+    this.x = new Float64Array(d);
+    this.yHist = new Float64Array(this.na);
+    // u and r lags up to nk + d (the input instruments reach one sample further than the regressor)
+    this.uHist = new Float64Array(this.nk + d + 1);
+    this.rHist = new Float64Array(this.nk + d);
+    const c = controller ?? { num: [0], den: [1] };
+    this.cNum = Float64Array.from(c.num, (v) => v / c.den[0]!);
+    this.cDen = Float64Array.from(c.den, (v) => v / c.den[0]!);
+    this.ysHist = new Float64Array(Math.max(1, this.na));
+    this.usHist = new Float64Array(Math.max(this.nk + this.nb, this.cDen.length));
+    this.esHist = new Float64Array(Math.max(1, this.cNum.length));
+  }
+
+  /**
+   * One step of the auxiliary model at time k (histories hold k-1 and older): fills z with the
+   * noise-free regressor and advances. `open`: the MV is external (measured u drives the model).
+   */
+  private auxiliaryStep(u: number, y: number, r: number, open: boolean, z: Float64Array): void {
+    const { na, nb, nk } = this;
+    const th = this.theta;
+    const ys = this.ysHist;
+    const us = this.usHist;
+    const es = this.esHist;
+    for (let i = 0; i < na; i++) z[i] = -ys[i]!;
+    for (let j = 0; j < nb; j++) z[na + j] = us[nk - 1 + j]!;
+    let yS = 0;
+    for (let i = 0; i < na; i++) yS -= th[i]! * ys[i]!;
+    for (let j = 0; j < nb; j++) yS += th[na + j]! * us[nk - 1 + j]!;
+    let uNew: number;
+    const e = r - yS;
+    if (!open && this.auxRun > nk + this.d) {
+      // closed-loop simulation error of the current estimate (model choice between structures)
+      const w = this.options.residualMemory;
+      this.simError = w * this.simError + (y - yS) ** 2;
+      this.simWeight = w * this.simWeight + 1;
+    }
+    if (open || this.options.controller === null) {
+      uNew = u;
+    } else {
+      const N = this.cNum;
+      const D = this.cDen;
+      uNew = N[0]! * e;
+      for (let i = 1; i < N.length; i++) uNew += N[i]! * es[i - 1]!;
+      for (let i = 1; i < D.length; i++) uNew -= D[i]! * us[i - 1]!;
+    }
+    if (!Number.isFinite(yS) || !Number.isFinite(uNew) || Math.abs(yS) > 1e6 || Math.abs(uNew) > 1e6) {
+      // a diverging simulated loop is itself evidence against the estimate
+      const w = this.options.residualMemory;
+      this.simError = w * this.simError + 1e6;
+      this.simWeight = w * this.simWeight + 1;
+      ys.fill(0);
+      us.fill(0);
+      es.fill(0);
+      this.auxRun = 0;
+      return;
+    }
+    if (na > 0) {
+      ys.copyWithin(1, 0, ys.length - 1);
+      ys[0] = yS;
+    }
+    us.copyWithin(1, 0, us.length - 1);
+    us[0] = uNew;
+    es.copyWithin(1, 0, es.length - 1);
+    es[0] = e;
+    this.auxRun++;
+  }
+
+  /** Samples pushed so far. */
+  get samples(): number {
+    return this.count;
+  }
+
+  /**
+   * Add one sample: u(k) (MV), y(k) (PV), r(k) (set point), all deviations (e.g. prefiltered).
+   * `mode` "closed" uses set-point instruments, "open" (manual: the MV is external) input
+   * instruments, "skip" updates nothing but the histories (saturated, flat-lined ...).
+   * Returns true when the sample was informative and entered the sums.
+   */
+  push(u: number, y: number, r: number, mode: "closed" | "open" | "skip" = "closed"): boolean {
+    if (!Number.isFinite(u)) throw new NonFiniteInputError("u");
+    if (!Number.isFinite(y)) throw new NonFiniteInputError("y");
+    if (!Number.isFinite(r)) throw new NonFiniteInputError("r");
+    const { na, nb, nk, d } = this;
+    const phi = this.phi;
+    const z = this.z;
+    for (let i = 0; i < na; i++) phi[i] = -this.yHist[i]!;
+    for (let j = 0; j < nb; j++) phi[na + j] = this.uHist[nk - 1 + j]!;
+    const full = this.count >= nk + d + 1;
+    let used = false;
+    if (full) {
+      // residual of the current estimate, every sample (noise level for the covariance and the fit)
+      if (this.solved) {
+        let e = y;
+        for (let i = 0; i < d; i++) e -= phi[i]! * this.theta[i]!;
+        const w = this.options.residualMemory;
+        this.residual = w * this.residual + e * e;
+        this.residualWeight = w * this.residualWeight + 1;
+      }
+      if (mode === "skip") {
+        // the real loop is open or the data are void: the noise-free copy restarts afterwards
+        this.ysHist.fill(0);
+        this.usHist.fill(0);
+        this.esHist.fill(0);
+        this.auxRun = 0;
+      } else {
+        let zmax = 0;
+        const aux = this.solved && (mode === "open" || this.options.controller !== null);
+        if (aux) this.auxiliaryStep(u, y, r, mode === "open", z);
+        if (aux && this.auxRun > nk + d) {
+          // z holds the auxiliary model's regressor
+        } else if (mode === "closed") for (let i = 0; i < d; i++) z[i] = this.rHist[nk - 1 + i]!;
+        else for (let i = 0; i < d; i++) z[i] = this.uHist[nk + i]!;
+        for (let i = 0; i < d; i++) zmax = Math.max(zmax, Math.abs(z[i]!));
+        if (zmax > this.options.instrumentThreshold) {
+          const lam = this.options.forgetting;
+          const R = this.R;
+          const S = this.Szz;
+          for (let i = 0; i < d; i++) {
+            const zi = z[i]!;
+            for (let j = 0; j < d; j++) {
+              R[i * d + j] = lam * R[i * d + j]! + zi * phi[j]!;
+              S[i * d + j] = lam * S[i * d + j]! + zi * z[j]!;
+            }
+            this.f[i] = lam * this.f[i]! + zi * y;
+          }
+          this.effective = lam * this.effective + 1;
+          this.informative++;
+          this.sinceInformative = 0;
+          this.dirty = true;
+          used = true;
+        }
+      }
+    }
+    if (!used) this.sinceInformative++;
+    if (na > 0) {
+      this.yHist.copyWithin(1, 0, na - 1);
+      this.yHist[0] = y;
+    }
+    this.uHist.copyWithin(1, 0, this.uHist.length - 1);
+    this.uHist[0] = u;
+    this.rHist.copyWithin(1, 0, this.rHist.length - 1);
+    this.rHist[0] = r;
+    this.count++;
+    // solve at most once per informative stretch sample; cheap for the small d of a loop model
+    if (used) this.solve();
+    return used;
+  }
+
+  /**
+   * Solve R theta = f (Gaussian elimination, partial pivoting) into `theta` when the sums
+   * changed. A (nearly) singular R keeps the previous estimate. Returns whether theta is solved.
+   */
+  solve(): boolean {
+    if (!this.dirty) return this.solved;
+    this.dirty = false;
+    const d = this.d;
+    const M = this.M;
+    const w = d + 1;
+    let scale = 0;
+    for (let i = 0; i < d; i++) {
+      for (let j = 0; j < d; j++) {
+        M[i * w + j] = this.R[i * d + j]!;
+        scale = Math.max(scale, Math.abs(this.R[i * d + j]!));
+      }
+      M[i * w + d] = this.f[i]!;
+    }
+    if (!(scale > 0) || !Number.isFinite(scale)) {
+      this.conditioning = 0;
+      return this.solved;
+    }
+    let minPivot = Infinity;
+    let maxPivot = 0;
+    for (let c = 0; c < d; c++) {
+      let p = c;
+      for (let i = c + 1; i < d; i++) if (Math.abs(M[i * w + c]!) > Math.abs(M[p * w + c]!)) p = i;
+      if (p !== c) {
+        for (let j = c; j < w; j++) {
+          const tmp = M[c * w + j]!;
+          M[c * w + j] = M[p * w + j]!;
+          M[p * w + j] = tmp;
+        }
+      }
+      const piv = M[c * w + c]!;
+      const ap = Math.abs(piv);
+      minPivot = Math.min(minPivot, ap);
+      maxPivot = Math.max(maxPivot, ap);
+      if (ap <= 1e-12 * scale) {
+        this.conditioning = 0;
+        return this.solved;
+      }
+      for (let i = c + 1; i < d; i++) {
+        const m = M[i * w + c]! / piv;
+        if (m === 0) continue;
+        for (let j = c; j < w; j++) M[i * w + j] = M[i * w + j]! - m * M[c * w + j]!;
+      }
+    }
+    const x = this.x;
+    for (let i = d - 1; i >= 0; i--) {
+      let s = M[i * w + d]!;
+      for (let j = i + 1; j < d; j++) s -= M[i * w + j]! * x[j]!;
+      x[i] = s / M[i * w + i]!;
+    }
+    for (let i = 0; i < d; i++) if (!Number.isFinite(x[i]!)) return this.solved;
+    this.conditioning = maxPivot > 0 ? minPivot / maxPivot : 0;
+    this.theta.set(x);
+    this.solved = true;
+    return true;
+  }
+
+  /** The current model { a, b, nk, T } (copies). */
+  model(): ArxModel {
+    this.solve();
+    return { a: Array.from(this.theta.subarray(0, this.na)), b: Array.from(this.theta.subarray(this.na)), nk: this.nk, T: this.T };
+  }
+
+  /** Exponentially weighted mean squared residual of the current estimate over all samples (NaN before a solve). */
+  residualVariance(): number {
+    return this.residualWeight > this.d ? this.residual / this.residualWeight : NaN;
+  }
+
+  /**
+   * Mean squared closed-loop simulation error: the measured y minus the output of the current
+   * estimate in closed loop with the controller, driven by the set point alone (exponentially
+   * weighted over `residualMemory`). It includes the disturbance response no model predicts, so
+   * it serves to compare structures on the same data, not as an absolute figure. NaN before
+   * 20 samples.
+   */
+  simulationError(): number {
+    return this.simWeight > 20 ? this.simError / this.simWeight : NaN;
+  }
+
+  /** Effective number of informative samples in the sums (decayed by the forgetting). */
+  get effectiveCount(): number {
+    return this.effective;
+  }
+
+  /**
+   * Approximate covariance of [a, b] (nested d x d): sigma^2 R^-1 Szz R^-T (Söderström & Stoica
+   * 1989, sec. 8.2, white equation error as an approximation), times the weighted-least-squares
+   * factor (1 + lambda^n)/(1 + lambda). NaN entries when not available. Allocates (state time only).
+   */
+  parameterCovariance(): number[][] {
+    const d = this.d;
+    const s2 = this.residualVariance();
+    const nan = () => Array.from({ length: d }, () => new Array<number>(d).fill(NaN));
+    if (!Number.isFinite(s2) || !this.solved) return nan();
+    // Rinv by solving R X = I column by column (small d)
+    const Rinv = invert(this.R, d);
+    if (!Rinv) return nan();
+    const lam = this.options.forgetting;
+    // sum w^2 z z' ~ Szz (sum w^2)/(sum w) = Szz (1 + lambda^n)/(1 + lambda)
+    const factor = lam === 1 ? 1 : (1 + lam ** this.informative) / (1 + lam);
+    const tmp = new Float64Array(d * d);
+    for (let i = 0; i < d; i++) for (let j = 0; j < d; j++) {
+      let s = 0;
+      for (let k = 0; k < d; k++) s += Rinv[i * d + k]! * this.Szz[k * d + j]!;
+      tmp[i * d + j] = s;
+    }
+    const out: number[][] = [];
+    for (let i = 0; i < d; i++) {
+      const row: number[] = [];
+      for (let j = 0; j < d; j++) {
+        let s = 0;
+        for (let k = 0; k < d; k++) s += tmp[i * d + k]! * Rinv[j * d + k]!;
+        row.push(s2 * factor * s);
+      }
+      out.push(row);
+    }
+    return out;
+  }
+
+  toJSON(): InstrumentalArxState {
+    return {
+      version: 1,
+      options: { ...this.options },
+      R: Array.from(this.R),
+      f: Array.from(this.f),
+      Szz: Array.from(this.Szz),
+      theta: Array.from(this.theta),
+      yHistory: Array.from(this.yHist),
+      uHistory: Array.from(this.uHist),
+      rHistory: Array.from(this.rHist),
+      informative: this.informative,
+      effective: this.effective,
+      samples: this.count,
+      residual: this.residual,
+      residualWeight: this.residualWeight,
+      sinceInformative: Number.isFinite(this.sinceInformative) ? this.sinceInformative : -1,
+      solved: this.solved,
+      conditioning: this.conditioning,
+      aux: { ys: Array.from(this.ysHist), us: Array.from(this.usHist), es: Array.from(this.esHist), run: this.auxRun, error: this.simError, weight: this.simWeight },
+    };
+  }
+
+  static fromJSON(s: InstrumentalArxState): InstrumentalArxEstimator {
+    if (!s || s.version !== 1 || typeof s.options !== "object" || s.options === null) throw new ControlArgumentError("IV estimator state: unknown version or missing options");
+    const est = new InstrumentalArxEstimator(s.options);
+    const arr = (name: string, v: unknown, len: number): number[] => {
+      if (!Array.isArray(v) || v.length !== len) throw new ControlArgumentError(`IV estimator state: ${name} must have ${len} entries`);
+      return v.map((x, i) => {
+        if (typeof x !== "number" || !Number.isFinite(x)) throw new NonFiniteInputError(`IV estimator state ${name}[${i}]`);
+        return x;
+      });
+    };
+    const num = (name: string, v: unknown): number => {
+      if (typeof v !== "number" || !Number.isFinite(v)) throw new NonFiniteInputError(`IV estimator state ${name}`);
+      return v;
+    };
+    const d = est.d;
+    est.R.set(arr("R", s.R, d * d));
+    est.f.set(arr("f", s.f, d));
+    est.Szz.set(arr("Szz", s.Szz, d * d));
+    est.theta.set(arr("theta", s.theta, d));
+    est.yHist.set(arr("yHistory", s.yHistory, est.yHist.length));
+    est.uHist.set(arr("uHistory", s.uHistory, est.uHist.length));
+    est.rHist.set(arr("rHistory", s.rHistory, est.rHist.length));
+    est.informative = num("informative", s.informative);
+    est.effective = num("effective", s.effective);
+    est.count = num("samples", s.samples);
+    est.residual = num("residual", s.residual);
+    est.residualWeight = num("residualWeight", s.residualWeight);
+    const since = num("sinceInformative", s.sinceInformative);
+    est.sinceInformative = since < 0 ? Infinity : since;
+    est.solved = s.solved === true;
+    est.conditioning = num("conditioning", s.conditioning);
+    if (!s.aux || typeof s.aux !== "object") throw new ControlArgumentError("IV estimator state: aux missing");
+    est.ysHist.set(arr("aux.ys", s.aux.ys, est.ysHist.length));
+    est.usHist.set(arr("aux.us", s.aux.us, est.usHist.length));
+    est.esHist.set(arr("aux.es", s.aux.es, est.esHist.length));
+    est.auxRun = num("aux.run", s.aux.run);
+    est.simError = num("aux.error", s.aux.error);
+    est.simWeight = num("aux.weight", s.aux.weight);
+    return est;
+  }
+}
+
+/** Inverse of a small d x d row-major matrix by Gauss-Jordan with partial pivoting; null if singular. */
+function invert(A: Float64Array, d: number): Float64Array | null {
+  const w = 2 * d;
+  const M = new Float64Array(d * w);
+  let scale = 0;
+  for (let i = 0; i < d; i++) {
+    for (let j = 0; j < d; j++) {
+      M[i * w + j] = A[i * d + j]!;
+      scale = Math.max(scale, Math.abs(A[i * d + j]!));
+    }
+    M[i * w + d + i] = 1;
+  }
+  for (let c = 0; c < d; c++) {
+    let p = c;
+    for (let i = c + 1; i < d; i++) if (Math.abs(M[i * w + c]!) > Math.abs(M[p * w + c]!)) p = i;
+    if (Math.abs(M[p * w + c]!) <= 1e-12 * scale) return null;
+    if (p !== c) for (let j = 0; j < w; j++) {
+      const t = M[c * w + j]!;
+      M[c * w + j] = M[p * w + j]!;
+      M[p * w + j] = t;
+    }
+    const piv = M[c * w + c]!;
+    for (let j = 0; j < w; j++) M[c * w + j] = M[c * w + j]! / piv;
+    for (let i = 0; i < d; i++) {
+      if (i === c) continue;
+      const m = M[i * w + c]!;
+      if (m === 0) continue;
+      for (let j = 0; j < w; j++) M[i * w + j] = M[i * w + j]! - m * M[c * w + j]!;
+    }
+  }
+  const out = new Float64Array(d * d);
+  for (let i = 0; i < d; i++) for (let j = 0; j < d; j++) out[i * d + j] = M[i * w + d + j]!;
+  return out;
+}
