@@ -5,6 +5,7 @@
  * identified in memory first, and the object is removed again if the row cannot be written.
  */
 import { randomUUID } from "node:crypto";
+import { literal } from "sequelize";
 import { z } from "zod";
 import { diffOf, logConfigChange } from "@/lib/admin/config-log";
 import { getDb } from "@/lib/db/sequelize";
@@ -150,12 +151,50 @@ function detail(row: Row, loop: { id: number; tag: string; units: string; mvUnit
   };
 }
 
-/** The loop's step tests, newest first. */
+/** JSON paths of the headline numbers in `result`, read by the database (the list never loads whole results). */
+const HEADLINE = {
+  fitPercent: "$.identification.fitPercent",
+  gainPercent: "$.continuous.gainPercent",
+  timeConstantS: "$.continuous.timeConstantS",
+  deadTimeS: "$.continuous.deadTimeS",
+  proposedPeriodS: "$.proposal.estimationPeriodS",
+} as const;
+
+/** The loop's step tests, newest first (at most 200). */
 export async function listStepTests(ctx: TenantContext, loopId: number): Promise<StepTestSummary[]> {
   const loop = await loadLoop(ctx, loopId);
   const { StepTest } = getDb().models;
-  const rows = await scoped(ctx).findAll(StepTest, { where: { loopId: loop.id }, order: [["createdAt", "DESC"], ["id", "DESC"]], limit: 200 });
-  return rows.map((r) => summary(r as unknown as Row));
+  const rows = await scoped(ctx).findAll(StepTest, {
+    where: { loopId: loop.id },
+    attributes: [
+      "id",
+      "loopId",
+      "filename",
+      "periodS",
+      "rowCount",
+      "createdAt",
+      "uploadedBy",
+      ...Object.entries(HEADLINE).map(([k, path]) => [literal(`JSON_VALUE(result, '${path}')`), k] as [ReturnType<typeof literal>, string]),
+    ],
+    order: [["createdAt", "DESC"], ["id", "DESC"]],
+    limit: 200,
+    raw: true,
+  });
+  const num = (v: unknown): number | null => (v === null || v === undefined || v === "" || v === "null" ? null : Number.isFinite(Number(v)) ? Number(v) : null);
+  return (rows as unknown as (Row & Record<keyof typeof HEADLINE, unknown>)[]).map((r) => ({
+    id: r.id,
+    loopId: r.loopId,
+    filename: r.filename,
+    periodS: Number(r.periodS),
+    rowCount: r.rowCount,
+    createdAt: new Date(r.createdAt).toISOString(),
+    uploadedBy: r.uploadedBy,
+    fitPercent: num(r.fitPercent),
+    gainPercent: num(r.gainPercent),
+    timeConstantS: num(r.timeConstantS),
+    deadTimeS: num(r.deadTimeS),
+    proposedPeriodS: num(r.proposedPeriodS),
+  }));
 }
 
 async function loadStepTest(ctx: TenantContext, loopId: number, stepTestId: number) {

@@ -158,7 +158,16 @@ describe("step-test upload and download", () => {
     expect(body.stepTests[0]!.fitPercent).toBeGreaterThan(90);
     const r = await one.GET(new Request(url(`/api/loops/${fx.loopId}/step-tests/${id}`)), sp(fx.loopId, id));
     expect(r.status).toBe(200);
-    expect(((await r.json()) as { stepTest: Detail }).stepTest.result.proposal.estimationPeriodS).toBeGreaterThan(0);
+    const full = ((await r.json()) as { stepTest: Detail & { gainPercent: number; timeConstantS: number; deadTimeS: number } }).stepTest;
+    expect(full.result.proposal.estimationPeriodS).toBeGreaterThan(0);
+    // The list's headline numbers (read by the database from the stored JSON) equal the full result's.
+    const head = body.stepTests[0] as unknown as Record<string, unknown>;
+    expect(head.fitPercent).toBeCloseTo(full.result.identification.fitPercent, 9);
+    expect(head.gainPercent).toBeCloseTo(full.gainPercent, 9);
+    expect(head.timeConstantS).toBeCloseTo(full.result.continuous.timeConstantS, 9);
+    expect(head.deadTimeS).toBeCloseTo(full.result.continuous.deadTimeS, 9);
+    expect(head.proposedPeriodS).toBe(full.result.proposal.estimationPeriodS);
+    expect(head.createdAt).toMatch(/^\d{4}-\d{2}-\d{2}T/);
     expect((await one.GET(new Request(url("/x")), sp(fx.loopId, "abc"))).status).toBe(422);
     expect((await one.GET(new Request(url("/x")), sp(fx.loopId, id + 999))).status).toBe(404);
   });
