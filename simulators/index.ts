@@ -44,7 +44,16 @@ async function main(): Promise<void> {
   }
   if (missing.size > 0) throw new Error(`no device credential for ${[...missing].join(", ")} (set SIM_DEVICE_CREDENTIALS)`);
   const publisher = await connectPublisher(opts.brokerUrl, Object.fromEntries(needed), { qos: opts.qos });
-  const runner = new SimulatorRunner({ sims, publish: (t, p) => publisher.publish(t, p), speedup: opts.speedup, batchSize: opts.batchSize, stamp: opts.stamp });
+  // SIM_BATCH_DELAY_MS: longest wait of a partial batch (load runs: long enough to fill --batch)
+  const batchDelay = Number(process.env.SIM_BATCH_DELAY_MS ?? "");
+  const runner = new SimulatorRunner({
+    sims,
+    publish: (t, p) => publisher.publish(t, p),
+    speedup: opts.speedup,
+    batchSize: opts.batchSize,
+    stamp: opts.stamp,
+    ...(Number.isFinite(batchDelay) && batchDelay > 0 ? { maxBatchDelayMs: batchDelay } : {}),
+  });
   const rate = sims.reduce((s, l) => s + 1 / l.config.telemetryPeriodS, 0) * opts.speedup;
   console.log(
     `[simulators] scenario "${scenario.name}": ${sims.length} loops, ${rate.toFixed(1)} samples/s, speed-up ${opts.speedup}, batch ${opts.batchSize}, broker ${opts.brokerUrl}`,

@@ -3,9 +3,15 @@
  * simulated time that corresponds to the wall time (times the speed-up factor), its samples are
  * stamped with wall-clock epoch ms (strictly increasing per loop, never ahead of the clock), and
  * batches of up to `batchSize` samples per message go to `publish` (ARCHITECTURE.md §5: one object
- * or an array of at most 500).
+ * or an array of at most 500). A lane's first message is shorter (1 + lane index mod batchSize) so
+ * that the lanes' messages do not all leave in the same tick.
+ *
+ * Load-mode economy: a lane keeps its pending samples as numbers in one preallocated Float64Array
+ * (no object per sample) and writes the message text itself, key for key what JSON.stringify of
+ * `{ t, sp, pv, mv, mode }` gives (a finite number prints as String(n) in both; a non-finite one
+ * as null); tested against JSON.stringify.
  */
-import type { SampleDto } from "@/lib/types";
+import type { LoopMode } from "@/lib/types";
 import { MAX_SAMPLES_PER_MESSAGE, telemetryTopic } from "@/lib/telemetry";
 import type { LoopSim } from "./loop-sim";
 
@@ -35,7 +41,12 @@ export interface RunnerOptions {
 interface Lane {
   sim: LoopSim;
   topic: string;
-  pending: SampleDto[];
+  /** Pending samples, 4 numbers each: t, sp, pv, mv. */
+  values: Float64Array;
+  modes: LoopMode[];
+  count: number;
+  /** Samples in the lane's next message: batchSize, except the first (staggered phase). */
+  limit: number;
   firstPendingAt: number;
   lastT: number;
   lastPublishedT: number;
@@ -73,10 +84,16 @@ export class SimulatorRunner {
     this.stamp = options.stamp ?? "simulated";
     this.publishFn = options.publish;
     this.clock = options.clock ?? { now: () => Date.now() };
-    this.lanes = options.sims.map((sim) => ({
+    // Lanes in step would all fill their batches in the same tick and send them in one burst
+    // (5000 loops x batch 10: 5000 messages at once every second). The first message of lane i
+    // carries 1 + (i mod batchSize) samples, which spreads the flushes evenly over a batch period.
+    this.lanes = options.sims.map((sim, i) => ({
       sim,
       topic: telemetryTopic({ tenantSlug: sim.config.tenantSlug, siteSlug: sim.config.siteSlug, loopSlug: sim.slug }),
-      pending: [],
+      values: new Float64Array(4 * batchSize),
+      modes: new Array<LoopMode>(batchSize).fill("auto"),
+      count: 0,
+      limit: 1 + (i % batchSize),
       firstPendingAt: 0,
       lastT: 0,
       lastPublishedT: 0,
@@ -110,36 +127,50 @@ export class SimulatorRunner {
           continue;
         }
         lane.lastT = t;
-        if (lane.pending.length === 0) lane.firstPendingAt = now;
-        lane.pending.push({ t, sp: s.sp, pv: s.pv, mv: s.mv, mode: s.mode });
-        if (lane.pending.length >= this.batchSize) this.flushLane(lane);
+        if (lane.count === 0) lane.firstPendingAt = now;
+        const o = 4 * lane.count;
+        lane.values[o] = t;
+        lane.values[o + 1] = s.sp;
+        lane.values[o + 2] = s.pv;
+        lane.values[o + 3] = s.mv;
+        lane.modes[lane.count] = s.mode;
+        lane.count++;
+        if (lane.count >= lane.limit) this.flushLane(lane);
       }
-      if (lane.pending.length > 0 && now - lane.firstPendingAt >= this.maxBatchDelayMs) this.flushLane(lane);
+      if (lane.count > 0 && now - lane.firstPendingAt >= this.maxBatchDelayMs) this.flushLane(lane);
     }
   }
 
   /** Publish every partial batch now. */
   flush(): void {
-    for (const lane of this.lanes) if (lane.pending.length > 0) this.flushLane(lane);
+    for (const lane of this.lanes) if (lane.count > 0) this.flushLane(lane);
   }
 
   private flushLane(lane: Lane): void {
-    const batch = lane.pending;
-    lane.pending = [];
+    const n = lane.count;
+    lane.count = 0;
+    lane.limit = this.batchSize;
+    const v = lane.values;
     if (this.stamp === "publish") {
       // restamp at the hand-over to MQTT, keeping the loop's timestamps strictly increasing
       const now = this.clock.now();
       let prev = lane.lastPublishedT;
-      for (const s of batch) {
-        s.t = Math.max(prev + 1, now);
-        prev = s.t;
+      for (let i = 0; i < n; i++) {
+        const t = Math.max(prev + 1, now);
+        v[4 * i] = t;
+        prev = t;
       }
       lane.lastT = Math.max(lane.lastT, prev);
       lane.lastPublishedT = prev;
     }
-    const payload = this.batchSize === 1 && batch.length === 1 ? JSON.stringify(batch[0]) : JSON.stringify(batch);
+    let payload = this.batchSize === 1 && n === 1 ? "" : "[";
+    for (let i = 0; i < n; i++) {
+      const o = 4 * i;
+      payload += (i === 0 ? '{"t":' : ',{"t":') + num(v[o]!) + ',"sp":' + num(v[o + 1]!) + ',"pv":' + num(v[o + 2]!) + ',"mv":' + num(v[o + 3]!) + ',"mode":' + modeJson(lane.modes[i]!) + "}";
+    }
+    if (!(this.batchSize === 1 && n === 1)) payload += "]";
     this.messages++;
-    this.samples += batch.length;
+    this.samples += n;
     try {
       const r = this.publishFn(lane.topic, payload);
       if (r && typeof (r as Promise<void>).catch === "function") {
@@ -153,4 +184,20 @@ export class SimulatorRunner {
       this.lastError = (e as Error).message;
     }
   }
+}
+
+/** A number as JSON.stringify writes it (non-finite -> null). */
+function num(x: number): string {
+  return Number.isFinite(x) ? String(x) : "null";
+}
+
+const modeText = new Map<string, string>();
+/** A mode string as JSON (quoted, escaped), cached per value. */
+function modeJson(mode: LoopMode): string {
+  let t = modeText.get(mode);
+  if (t === undefined) {
+    t = JSON.stringify(mode);
+    modeText.set(mode, t);
+  }
+  return t;
 }

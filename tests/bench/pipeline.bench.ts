@@ -15,7 +15,8 @@
  * pipeline-to-bare ratios (delivered rate, server CPU per sample). The Socket.IO handshake here sets the tenant directly (the session
  * cookie check of the real server is not what is measured).
  *
- * Flags: --loops N (default 5000) --hz R (10) --batch B (10) --seconds D (20) --watch W (50)
+ * Flags: --loops N (default 5000) --hz R (10) --batch B (10) --seconds D (20) --warmup S (5; latency
+ *        quantiles are printed for every sample and for the samples stamped S s after the first) --watch W (50)
  *        --state-every S (tracker state period in telemetry seconds, default 1) --with-states (the
  *        client also joins its tenant room and receives the `loop:state` batches)
  */
@@ -74,16 +75,23 @@ function watchChild(child: ChildProcess): { last: () => { cpuS: number; peakRss:
 // ---------------------------------------------------------------- client process
 async function clientMain(): Promise<void> {
   const { io } = await import("socket.io-client");
-  const [url, watchArg, loopsArg, withStates] = process.argv.slice(process.argv.indexOf("--client") + 1);
+  const [url, watchArg, loopsArg, withStates, warmupArg] = process.argv.slice(process.argv.indexOf("--client") + 1);
+  const warmupMs = Number(warmupArg ?? 0) * 1000;
   const watch = Number(watchArg);
   const loops = Number(loopsArg);
   const socket = io(url!, { transports: ["websocket"], reconnection: false });
   const lat: number[] = [];
+  const steady: number[] = [];
+  let firstT = 0;
   const perLoop = new Map<number, number>();
   let states = 0;
   socket.on("loop:samples", (batch: { loopId: number; samples: { t: number }[] }) => {
     const now = Date.now();
-    for (const s of batch.samples) lat.push(now - s.t);
+    for (const s of batch.samples) {
+      if (firstT === 0) firstT = s.t;
+      lat.push(now - s.t);
+      if (s.t >= firstT + warmupMs) steady.push(now - s.t);
+    }
     perLoop.set(batch.loopId, (perLoop.get(batch.loopId) ?? 0) + batch.samples.length);
   });
   socket.on("loop:state", (batch: unknown[]) => {
@@ -101,10 +109,11 @@ async function clientMain(): Promise<void> {
   process.stdout.write(`READY\n`);
   const finish = () => {
     lat.sort((a, b) => a - b);
+    steady.sort((a, b) => a - b);
     const mem = process.memoryUsage().rss;
     const cpu = process.cpuUsage();
     process.stdout.write(
-      `RESULT ${JSON.stringify({ received: lat.length, perLoop: Object.fromEntries(perLoop), p50: quantile(lat, 0.5), p99: quantile(lat, 0.99), max: lat.at(-1) ?? null, states, cpuS: (cpu.user + cpu.system) / 1e6, rss: mem })}\n`,
+      `RESULT ${JSON.stringify({ received: lat.length, perLoop: Object.fromEntries(perLoop), p50: quantile(lat, 0.5), p99: quantile(lat, 0.99), max: lat.at(-1) ?? null, steadyN: steady.length, steadyP50: quantile(steady, 0.5), steadyP99: quantile(steady, 0.99), steadyMax: steady.at(-1) ?? null, states, cpuS: (cpu.user + cpu.system) / 1e6, rss: mem })}\n`,
     );
     socket.close();
     process.exit(0);
@@ -116,11 +125,21 @@ async function clientMain(): Promise<void> {
 // ---------------------------------------------------------------- server side
 interface SimRun {
   sent: number;
+  messages: number;
   /** Largest lag of the simulator behind its own schedule (CPU-starved), ms. */
   lagMs: number | null;
   cpuS: number;
   peakRss: number;
   lastLine: string;
+}
+
+/**
+ * Longest a sample may wait in a partial batch: long enough for a full batch at the loop's rate
+ * (otherwise the runner's default 250 ms would cut "batch 10 at 10 Hz" to about 3 per message).
+ * With --stamp publish the wait is not part of the measured latency.
+ */
+function batchDelayMs(opts: { hz: number; batch: number }): number {
+  return Math.max(250, Math.ceil((opts.batch * 1000) / opts.hz) + 100);
 }
 
 function runSimulator(port: number, scenarioFile: string, opts: { loops: number; hz: number; batch: number; seconds: number }): Promise<SimRun> {
@@ -153,6 +172,7 @@ function runSimulator(port: number, scenarioFile: string, opts: { loops: number;
         MQTT_HOST: "127.0.0.1",
         MQTT_PORT: String(port),
         SIM_SPEEDUP: "1",
+        SIM_BATCH_DELAY_MS: String(batchDelayMs(opts)),
         SIM_DEVICE_CREDENTIALS: JSON.stringify({ "sim-lab": { username: "bench-key", password: "bench-secret-0123456789", clientId: "rg-sim-bench" } }),
       },
       stdio: ["ignore", "pipe", "pipe"],
@@ -164,10 +184,10 @@ function runSimulator(port: number, scenarioFile: string, opts: { loops: number;
   child.stderr!.on("data", (d: Buffer) => (out += d.toString()));
   return new Promise((resolve) => {
     child.once("exit", () => {
-      const m = /stopped \([^)]*\): (\d+) samples/.exec(out);
+      const m = /stopped \([^)]*\): (\d+) samples in (\d+) messages/.exec(out);
       const lag = /largest lag behind the clock (\d+) ms/.exec(out);
       const lines = out.trim().split("\n");
-      resolve({ sent: m ? Number(m[1]) : 0, lagMs: lag ? Number(lag[1]) : null, ...stats.last(), lastLine: lines.at(-1) ?? "" });
+      resolve({ sent: m ? Number(m[1]) : 0, messages: m ? Number(m[2]) : 0, lagMs: lag ? Number(lag[1]) : null, ...stats.last(), lastLine: lines.at(-1) ?? "" });
     });
   });
 }
@@ -203,13 +223,39 @@ function writeScenario(dir: string): string {
   return file;
 }
 
-async function bare(scenarioFile: string, opts: { loops: number; hz: number; batch: number; seconds: number }) {
+/** Latencies split at the warm-up: every sample, and those stamped at least `warmupMs` after the first. */
+class Latencies {
+  all: number[] = [];
+  steady: number[] = [];
+  private firstT = 0;
+  constructor(private readonly warmupMs: number) {}
+  add(t: number, now: number): void {
+    if (this.firstT === 0) this.firstT = t;
+    this.all.push(now - t);
+    if (t >= this.firstT + this.warmupMs) this.steady.push(now - t);
+  }
+  summary(): { p50: number | null; p99: number | null; max: number | null; steadyN: number; steadyP50: number | null; steadyP99: number | null; steadyMax: number | null } {
+    this.all.sort((a, b) => a - b);
+    this.steady.sort((a, b) => a - b);
+    return {
+      p50: quantile(this.all, 0.5),
+      p99: quantile(this.all, 0.99),
+      max: this.all.at(-1) ?? null,
+      steadyN: this.steady.length,
+      steadyP50: quantile(this.steady, 0.5),
+      steadyP99: quantile(this.steady, 0.99),
+      steadyMax: this.steady.at(-1) ?? null,
+    };
+  }
+}
+
+async function bare(scenarioFile: string, opts: { loops: number; hz: number; batch: number; seconds: number; warmup: number }) {
   const { Aedes } = await import("aedes");
   const broker = await Aedes.createBroker();
   let received = 0;
   let first = 0;
   let last = 0;
-  const lat: number[] = [];
+  const lat = new Latencies(opts.warmup * 1000);
   await new Promise<void>((resolve) =>
     broker.subscribe(
       "rg/+/+/+/samples",
@@ -218,7 +264,7 @@ async function bare(scenarioFile: string, opts: { loops: number; hz: number; bat
         const n = Array.isArray(v) ? v.length : 1;
         const now = Date.now();
         const lastSample = (Array.isArray(v) ? v[v.length - 1] : v) as { t?: number } | undefined;
-        if (typeof lastSample?.t === "number") lat.push(now - lastSample.t);
+        if (typeof lastSample?.t === "number") lat.add(lastSample.t, now);
         if (received === 0) first = now;
         last = now;
         received += n;
@@ -239,11 +285,10 @@ async function bare(scenarioFile: string, opts: { loops: number; hz: number; bat
   const cpu = process.cpuUsage(cpu0);
   await new Promise<void>((r) => broker.close(() => r()));
   await new Promise<void>((r) => server.close(() => r()));
-  lat.sort((a, b) => a - b);
-  return { sim, received, p50: quantile(lat, 0.5), p99: quantile(lat, 0.99), spanS: (last - first) / 1000, brokerCpuS: (cpu.user + cpu.system) / 1e6, rss: process.memoryUsage().rss };
+  return { sim, received, lat: lat.summary(), spanS: (last - first) / 1000, brokerCpuS: (cpu.user + cpu.system) / 1e6, rss: process.memoryUsage().rss };
 }
 
-async function pipeline(scenarioFile: string, opts: { loops: number; hz: number; batch: number; seconds: number; watch: number; stateEvery: number; withStates: boolean }) {
+async function pipeline(scenarioFile: string, opts: { loops: number; hz: number; batch: number; seconds: number; warmup: number; watch: number; stateEvery: number; withStates: boolean }) {
   const { Server } = await import("socket.io");
   const { getConfig } = await import("@/lib/config");
   const { Bus, systemClock } = await import("@/server/context");
@@ -317,7 +362,7 @@ async function pipeline(scenarioFile: string, opts: { loops: number; hz: number;
     emitter.state(s);
   });
   const perLoopAccepted = new Map<number, number>();
-  const ingestLat: number[] = [];
+  const ingestLat = new Latencies(opts.warmup * 1000);
   const ingest = new Ingest({
     directory: new LoopDirectory(routes),
     now: () => Date.now(),
@@ -326,7 +371,7 @@ async function pipeline(scenarioFile: string, opts: { loops: number; hz: number;
       emitter.samples(route.loopId, samples);
       perLoopAccepted.set(route.loopId, (perLoopAccepted.get(route.loopId) ?? 0) + samples.length);
       const lastSample = samples[samples.length - 1];
-      if (lastSample) ingestLat.push(at - lastSample.t);
+      if (lastSample) ingestLat.add(lastSample.t, at);
     },
   });
   let accepted = 0;
@@ -344,7 +389,7 @@ async function pipeline(scenarioFile: string, opts: { loops: number; hz: number;
   const unwatch = installWatch(io, { loopTenant: (id) => (id >= 1 && id <= opts.loops ? 1 : null) });
   const tick = registry.startTimer(1000);
 
-  const client = spawn(process.execPath, ["--import", "tsx", path.join(here, "pipeline.bench.ts"), "--client", `http://127.0.0.1:${httpPort}`, String(opts.watch), String(opts.loops), opts.withStates ? "1" : "0"], {
+  const client = spawn(process.execPath, ["--import", "tsx", path.join(here, "pipeline.bench.ts"), "--client", `http://127.0.0.1:${httpPort}`, String(opts.watch), String(opts.loops), opts.withStates ? "1" : "0", String(opts.warmup)], {
     cwd: root,
     stdio: ["ignore", "pipe", "inherit"],
   });
@@ -368,7 +413,7 @@ async function pipeline(scenarioFile: string, opts: { loops: number; hz: number;
   client.kill("SIGTERM");
   await new Promise<void>((r) => client.once("exit", () => r()));
   const m = /RESULT (.*)/.exec(clientOut);
-  const clientResult = m ? (JSON.parse(m[1]!) as { received: number; perLoop: Record<string, number>; p50: number | null; p99: number | null; max: number | null; states: number; cpuS: number; rss: number }) : null;
+  const clientResult = m ? (JSON.parse(m[1]!) as { received: number; perLoop: Record<string, number>; p50: number | null; p99: number | null; max: number | null; steadyN: number; steadyP50: number | null; steadyP99: number | null; steadyMax: number | null; states: number; cpuS: number; rss: number }) : null;
   let watchedAccepted = 0;
   for (const id of Object.keys(clientResult?.perLoop ?? {})) watchedAccepted += perLoopAccepted.get(Number(id)) ?? 0;
 
@@ -378,11 +423,9 @@ async function pipeline(scenarioFile: string, opts: { loops: number; hz: number;
   emitter.stop();
   await broker.stop();
   await new Promise<void>((r) => io.close(() => r()));
-  ingestLat.sort((a, b) => a - b);
   return {
     sim,
-    ingestP50: quantile(ingestLat, 0.5),
-    ingestP99: quantile(ingestLat, 0.99),
+    ingest: ingestLat.summary(),
     accepted,
     rejected,
     spanS: (last - first) / 1000,
@@ -401,6 +444,7 @@ async function main(): Promise<void> {
     hz: flag("hz", 10),
     batch: Math.round(flag("batch", 10)),
     seconds: flag("seconds", 20),
+    warmup: flag("warmup", 5),
     watch: Math.round(flag("watch", 50)),
     stateEvery: flag("state-every", 1),
     withStates: process.argv.includes("--with-states"),
@@ -409,25 +453,31 @@ async function main(): Promise<void> {
   try {
     const scenario = writeScenario(dir);
     const offered = opts.loops * opts.hz;
-    console.log(`pipeline bench: ${opts.loops} loops x ${opts.hz} Hz = ${offered} samples/s offered for ${opts.seconds} s; batch ${opts.batch} samples per MQTT message; ${os.cpus().length} CPUs, load average ${os.loadavg()[0]!.toFixed(1)}`);
+    console.log(`pipeline bench: ${opts.loops} loops x ${opts.hz} Hz = ${offered} samples/s offered for ${opts.seconds} s; batch ${opts.batch} samples per MQTT message (partial batches wait up to ${batchDelayMs(opts)} ms); ${os.cpus().length} CPUs, load average ${os.loadavg().map((v) => v.toFixed(2)).join(" ")}`);
+    console.log(`latency: publish (epoch ms stamped by the simulator when it hands the message to MQTT) to receipt (Date.now() in the receiving process), same machine and clock; "steady" = samples stamped >= ${opts.warmup} s after the first one (process start-up, broker connection and JIT excluded), "all" = every sample`);
+    const lat = (l: { p50: number | null; p99: number | null; max: number | null; steadyN: number; steadyP50: number | null; steadyP99: number | null; steadyMax: number | null }) =>
+      `steady p50 ${l.steadyP50} ms, p99 ${l.steadyP99} ms, max ${l.steadyMax} ms (n ${l.steadyN}); all p50 ${l.p50} ms, p99 ${l.p99} ms, max ${l.max} ms`;
+    const perMsg = (r: SimRun) => (r.messages > 0 ? (r.sent / r.messages).toFixed(1) : "n/a");
 
     console.log("phase 1: bare broker (aedes + in-process JSON.parse)");
     const b = await bare(scenario, opts);
     // delivered rate over the simulator's run time (its --duration)
     const bareRate = b.received / opts.seconds;
     if (b.sim.sent === 0) console.log(`  simulator: ${b.sim.lastLine}`);
-    console.log(`  simulator sent ${b.sim.sent} samples (cpu ${b.sim.cpuS.toFixed(1)} s, rss ${(b.sim.peakRss / 2 ** 20).toFixed(0)} MiB); largest lag behind schedule ${b.sim.lagMs} ms; broker received ${b.received} (${b.sim.sent - b.received} lost) = ${bareRate.toFixed(0)} samples/s; publish-to-subscriber latency p50 ${b.p50} ms, p99 ${b.p99} ms; broker process cpu ${b.brokerCpuS.toFixed(1)} s`);
+    console.log(`  simulator sent ${b.sim.sent} samples in ${b.sim.messages} messages (${perMsg(b.sim)} per message; cpu ${b.sim.cpuS.toFixed(1)} s, peak rss ${(b.sim.peakRss / 2 ** 20).toFixed(0)} MiB); largest lag behind schedule ${b.sim.lagMs} ms`);
+    console.log(`  broker received ${b.received} (${b.sim.sent - b.received} lost) = ${bareRate.toFixed(0)} samples/s; publish-to-subscriber latency (last sample of each message) ${lat(b.lat)}; broker process cpu ${b.brokerCpuS.toFixed(1)} s`);
 
     console.log("phase 2: pipeline (authenticated broker -> ingest -> trackers -> Socket.IO client process)");
     const p = await pipeline(scenario, opts);
     const rate = p.accepted / opts.seconds;
     const loss = p.sim.sent - p.accepted;
-    console.log(`  simulator sent ${p.sim.sent} samples (cpu ${p.sim.cpuS.toFixed(1)} s, rss ${(p.sim.peakRss / 2 ** 20).toFixed(0)} MiB, largest lag behind schedule ${p.sim.lagMs} ms)`);
-    console.log(`  ingest accepted ${p.accepted}, rejected ${p.rejected}, lost ${loss} = ${rate.toFixed(0)} samples/s sustained; publish-to-ingest latency p50 ${p.ingestP50} ms, p99 ${p.ingestP99} ms; tracker updates ${p.updates}`);
+    console.log(`  simulator sent ${p.sim.sent} samples in ${p.sim.messages} messages (${perMsg(p.sim)} per message; cpu ${p.sim.cpuS.toFixed(1)} s, peak rss ${(p.sim.peakRss / 2 ** 20).toFixed(0)} MiB, largest lag behind schedule ${p.sim.lagMs} ms)`);
+    console.log(`  ingest accepted ${p.accepted}, rejected ${p.rejected}, lost ${loss} = ${rate.toFixed(0)} samples/s sustained; tracker updates ${p.updates}`);
+    console.log(`  publish-to-ingest latency (last sample of each message) ${lat(p.ingest)}`);
     console.log(`  server process cpu ${p.serverCpuS.toFixed(1)} s over ~${(opts.seconds + 2.5).toFixed(0)} s (${((100 * p.serverCpuS) / (opts.seconds + 2.5)).toFixed(0)} % of one core), rss ${(p.serverRss / 2 ** 20).toFixed(0)} MiB`);
     if (p.client) {
       console.log(
-        `  client (${opts.watch} watched loops): received ${p.client.received} of ${p.watchedAccepted} accepted for them (${p.watchedAccepted - p.client.received} missing); latency p50 ${p.client.p50} ms, p99 ${p.client.p99} ms, max ${p.client.max} ms; loop:state summaries ${p.client.states}; cpu ${p.client.cpuS.toFixed(1)} s, rss ${(p.client.rss / 2 ** 20).toFixed(0)} MiB`,
+        `  client (${opts.watch} watched loops): received ${p.client.received} of ${p.watchedAccepted} accepted for them (${p.watchedAccepted - p.client.received} missing); loop:samples publish-to-client latency (every sample) ${lat(p.client)}; loop:state summaries ${p.client.states}; cpu ${p.client.cpuS.toFixed(1)} s, rss ${(p.client.rss / 2 ** 20).toFixed(0)} MiB`,
       );
     } else {
       console.log("  client produced no result");
@@ -436,6 +486,8 @@ async function main(): Promise<void> {
     const bareCost = b.received > 0 ? (1e6 * b.brokerCpuS) / b.received : NaN;
     const pipeCost = p.accepted > 0 ? (1e6 * p.serverCpuS) / p.accepted : NaN;
     console.log(`server CPU per sample: bare broker ${bareCost.toFixed(1)} us, pipeline ${pipeCost.toFixed(1)} us, ratio ${(pipeCost / bareCost).toFixed(2)}`);
+    console.log("MariaDB: not in this bench (the history writer is not attached; no database process runs), so no MariaDB CPU/RSS is reported");
+    console.log(`load average at end: ${os.loadavg().map((v) => v.toFixed(2)).join(" ")}`);
   } finally {
     rmSync(dir, { recursive: true, force: true });
   }
