@@ -56,6 +56,8 @@ function LoopTileInner({ loop, spark, now, big = false, levels: dr = DEFAULT_POL
     <Link
       href={`/loops/${loop.id}`}
       className={`flex h-full flex-col gap-1 rounded-md border-2 ${border} bg-surface p-2 no-underline hover:bg-raised focus-visible:bg-raised ${suppressed ? "hatch-suppressed" : ""} ${stale ? "opacity-75" : ""}`}
+      // each tile is its own layout and paint island: a live update re-lays-out and repaints one tile
+      style={{ contain: "layout paint style" }}
       data-testid="loop-tile"
       data-loop-id={loop.id}
       aria-label={`${loop.tag}: ${loop.description}. ${st ? `radius ${fmt(st.spectralRadius)}, ${st.trackerState}` : "no estimate"}${stale ? ", stale data" : ""}${active.length ? `, ${active.length} alarm(s)` : ""}`}

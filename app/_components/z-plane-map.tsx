@@ -43,7 +43,9 @@ function polyline(points: Complex[], s: (c: Complex) => [number, number], mirror
 }
 
 /** Ellipse parameters of a 2x2 covariance [xx, xy, yy]: semi-axes (1σ) and rotation in radians. */
-export function ellipseOf(cov: [number, number, number]): { a: number; b: number; angle: number } | null {
+export function ellipseOf(
+  cov: [number, number, number],
+): { a: number; b: number; angle: number } | null {
   const [xx, xy, yy] = cov;
   if (![xx, xy, yy].every(Number.isFinite) || xx < 0 || yy < 0) return null;
   const tr = xx + yy;
@@ -96,7 +98,7 @@ function ZPlaneMapInner({
   const background = useMemo(
     () => (
       <>
-      {/* warning -> alarm band, just inside the circle */}
+        {/* warning -> alarm band, just inside the circle */}
         {wr != null && ar != null && ar > wr && (
           <path
             d={`M${half - ar * k} ${half} a${ar * k} ${ar * k} 0 1 0 ${2 * ar * k} 0 a${ar * k} ${ar * k} 0 1 0 ${-2 * ar * k} 0 Z M${half - wr * k} ${half} a${wr * k} ${wr * k} 0 1 1 ${2 * wr * k} 0 a${wr * k} ${wr * k} 0 1 1 ${-2 * wr * k} 0 Z`}
@@ -106,8 +108,22 @@ function ZPlaneMapInner({
           />
         )}
         {/* axes */}
-        <line x1={s({ re: -R, im: 0 })[0]} y1={half} x2={s({ re: R, im: 0 })[0]} y2={half} stroke="var(--rg-line)" strokeWidth="1" />
-        <line x1={half} y1={s({ re: 0, im: R })[1]} x2={half} y2={s({ re: 0, im: -R })[1]} stroke="var(--rg-line)" strokeWidth="1" />
+        <line
+          x1={s({ re: -R, im: 0 })[0]}
+          y1={half}
+          x2={s({ re: R, im: 0 })[0]}
+          y2={half}
+          stroke="var(--rg-line)"
+          strokeWidth="1"
+        />
+        <line
+          x1={half}
+          y1={s({ re: 0, im: R })[1]}
+          x2={half}
+          y2={s({ re: 0, im: -R })[1]}
+          stroke="var(--rg-line)"
+          strokeWidth="1"
+        />
         {/* constant damping spirals and constant natural-frequency arcs */}
         <g stroke="var(--rg-line)" strokeWidth="0.8" fill="none" opacity="0.9">
           {loci.zeta.map((l) => (
@@ -136,121 +152,172 @@ function ZPlaneMapInner({
               );
             })}
             {loci.zeta
-            .filter((l) => [0.1, 0.3, 0.5, 0.7].includes(l.zeta))
-            .map((l) => {
-              // labels fan out along one ray (arg z = 0.55π) so they neither crowd nor overlap
-              const p = l.pts[Math.round(0.55 * (l.pts.length - 1))];
-              if (!p) return null;
-              const [x, y] = s(p);
-              return (
-                <text key={`tz${l.zeta}`} x={x - 3} y={y - 2} textAnchor="end">
-                  ζ{l.zeta.toFixed(1)}
-                </text>
-              );
-            })}
+              .filter((l) => [0.1, 0.3, 0.5, 0.7].includes(l.zeta))
+              .map((l) => {
+                // labels fan out along one ray (arg z = 0.55π) so they neither crowd nor overlap
+                const p = l.pts[Math.round(0.55 * (l.pts.length - 1))];
+                if (!p) return null;
+                const [x, y] = s(p);
+                return (
+                  <text key={`tz${l.zeta}`} x={x - 3} y={y - 2} textAnchor="end">
+                    ζ{l.zeta.toFixed(1)}
+                  </text>
+                );
+              })}
           </g>
         )}
         {/* the unit circle: the strongest line */}
-        <circle cx={half} cy={half} r={k} fill="none" stroke="var(--rg-ink)" strokeWidth={compact ? 1.4 : 2} />
+        <circle
+          cx={half}
+          cy={half}
+          r={k}
+          fill="none"
+          stroke="var(--rg-ink)"
+          strokeWidth={compact ? 1.4 : 2}
+        />
       </>
     ),
     // half, k and s are functions of size alone
     // eslint-disable-next-line react-hooks/exhaustive-deps
     [loci, size, compact, wr, ar],
   );
+  // Two stacked SVGs: the static grid on its own layer (painted once, kept as a bitmap), the
+  // poles on top (the only part a live update repaints).
   return (
-    <svg width={size} height={size} viewBox={`0 0 ${size} ${size}`} role="img" aria-label={described} data-testid="z-plane">
-      <title>{described}</title>
-      {background}
-      {/* trail: older positions fainter */}
-      {trail.map((set, i) => {
-        const opacity = ((i + 1) / (trail.length + 1)) * 0.5;
-        return (
-          <g key={`t${i}`} opacity={opacity} fill={poleInk}>
-            {set.map((p, j) => {
-              const [x, y] = s(p);
-              return <circle key={j} cx={x} cy={y} r={compact ? 1 : 1.6} />;
-            })}
-          </g>
-        );
-      })}
-      {/* confidence ellipses */}
-      {!compact &&
-        [...modelPoles, ...dataPoles].map((p, i) => {
-          if (!p.cov) return null;
-          const e = ellipseOf(p.cov);
-          if (!e || !(e.a > 0)) return null;
-          const [x, y] = s(p);
+    <div style={{ position: "relative", width: size, height: size, flex: "none" }}>
+      <svg
+        width={size}
+        height={size}
+        viewBox={`0 0 ${size} ${size}`}
+        aria-hidden="true"
+        style={{ position: "absolute", inset: 0, willChange: "transform" }}
+      >
+        {background}
+      </svg>
+      <svg
+        width={size}
+        height={size}
+        viewBox={`0 0 ${size} ${size}`}
+        role="img"
+        aria-label={described}
+        data-testid="z-plane"
+        style={{ position: "absolute", inset: 0 }}
+      >
+        <title>{described}</title>
+        {/* trail: older positions fainter */}
+        {trail.map((set, i) => {
+          const opacity = ((i + 1) / (trail.length + 1)) * 0.5;
           return (
-            <ellipse
-              key={`e${i}`}
+            <g key={`t${i}`} opacity={opacity} fill={poleInk}>
+              {set.map((p, j) => {
+                const [x, y] = s(p);
+                return <circle key={j} cx={x} cy={y} r={compact ? 1 : 1.6} />;
+              })}
+            </g>
+          );
+        })}
+        {/* confidence ellipses */}
+        {!compact &&
+          [...modelPoles, ...dataPoles].map((p, i) => {
+            if (!p.cov) return null;
+            const e = ellipseOf(p.cov);
+            if (!e || !(e.a > 0)) return null;
+            const [x, y] = s(p);
+            return (
+              <ellipse
+                key={`e${i}`}
+                cx={x}
+                cy={y}
+                rx={Math.min(half, e.a * CHI2_95 * k)}
+                ry={Math.max(0.5, Math.min(half, e.b * CHI2_95 * k))}
+                transform={`rotate(${(-e.angle * 180) / Math.PI} ${x} ${y})`}
+                fill="none"
+                stroke="var(--rg-accent)"
+                strokeWidth="0.8"
+                opacity="0.7"
+              />
+            );
+          })}
+        {/* zeros: small rings */}
+        {zeros.map((z, i) => {
+          const [x, y] = s(z);
+          return (
+            <circle
+              key={`o${i}`}
               cx={x}
               cy={y}
-              rx={Math.min(half, e.a * CHI2_95 * k)}
-              ry={Math.max(0.5, Math.min(half, e.b * CHI2_95 * k))}
-              transform={`rotate(${(-e.angle * 180) / Math.PI} ${x} ${y})`}
+              r={compact ? 2.5 : 4}
               fill="none"
-              stroke="var(--rg-accent)"
-              strokeWidth="0.8"
-              opacity="0.7"
+              stroke={poleInk}
+              strokeWidth="1.2"
+              data-kind="zero"
             />
           );
         })}
-      {/* zeros: small rings */}
-      {zeros.map((z, i) => {
-        const [x, y] = s(z);
-        return <circle key={`o${i}`} cx={x} cy={y} r={compact ? 2.5 : 4} fill="none" stroke={poleInk} strokeWidth="1.2" data-kind="zero" />;
-      })}
-      {/* data-only poles: thin + */}
-      {dataPoles.map((p, i) => {
-        const [x, y] = s(p);
-        return (
-          <path
-            key={`d${i}`}
-            d={`M${x - arm} ${y}H${x + arm}M${x} ${y - arm}V${y + arm}`}
-            stroke={poleInk}
-            strokeWidth="1"
-            data-kind={`data-pole-${dataPolesKind}`}
-          />
-        );
-      })}
-      {/* model-based poles: bold × (red only outside the circle) */}
-      {modelPoles.map((p, i) => {
-        const [x, y] = s(p);
-        const out = Math.hypot(p.re, p.im) >= 1;
-        return (
-          <path
-            key={`m${i}`}
-            d={`M${x - arm} ${y - arm}L${x + arm} ${y + arm}M${x - arm} ${y + arm}L${x + arm} ${y - arm}`}
-            stroke={out && !stale ? "var(--rg-urgent)" : poleInk}
-            strokeWidth={compact ? 2 : 2.6}
-            strokeLinecap="round"
-            data-kind="model-pole"
-          />
-        );
-      })}
-      {!compact && (
-        <g fontSize="10" fill="var(--rg-muted)" fontFamily="var(--font-mono)">
-          <text x={s({ re: 1, im: 0 })[0] + 3} y={half + 11}>1</text>
-          <text x={s({ re: -1, im: 0 })[0] - 12} y={half + 11}>−1</text>
-          <text x={half + 3} y={s({ re: 0, im: 1 })[1] - 3}>j</text>
-        </g>
-      )}
-    </svg>
+        {/* data-only poles: thin + */}
+        {dataPoles.map((p, i) => {
+          const [x, y] = s(p);
+          return (
+            <path
+              key={`d${i}`}
+              d={`M${x - arm} ${y}H${x + arm}M${x} ${y - arm}V${y + arm}`}
+              stroke={poleInk}
+              strokeWidth="1"
+              data-kind={`data-pole-${dataPolesKind}`}
+            />
+          );
+        })}
+        {/* model-based poles: bold × (red only outside the circle) */}
+        {modelPoles.map((p, i) => {
+          const [x, y] = s(p);
+          const out = Math.hypot(p.re, p.im) >= 1;
+          return (
+            <path
+              key={`m${i}`}
+              d={`M${x - arm} ${y - arm}L${x + arm} ${y + arm}M${x - arm} ${y + arm}L${x + arm} ${y - arm}`}
+              stroke={out && !stale ? "var(--rg-urgent)" : poleInk}
+              strokeWidth={compact ? 2 : 2.6}
+              strokeLinecap="round"
+              data-kind="model-pole"
+            />
+          );
+        })}
+        {!compact && (
+          <g fontSize="10" fill="var(--rg-muted)" fontFamily="var(--font-mono)">
+            <text x={s({ re: 1, im: 0 })[0] + 3} y={half + 11}>
+              1
+            </text>
+            <text x={s({ re: -1, im: 0 })[0] - 12} y={half + 11}>
+              −1
+            </text>
+            <text x={half + 3} y={s({ re: 0, im: 1 })[1] - 3}>
+              j
+            </text>
+          </g>
+        )}
+      </svg>
+    </div>
   );
 }
 
 export const ZPlaneMap = memo(ZPlaneMapInner);
 
 /** The legend under a full-size map: shapes explained in words. */
-export function ZPlaneLegend({ dataPolesKind }: { dataPolesKind: "closed-loop" | "disturbance-response" }) {
+export function ZPlaneLegend({
+  dataPolesKind,
+}: {
+  dataPolesKind: "closed-loop" | "disturbance-response";
+}) {
   return (
     <ul className="flex flex-wrap gap-x-4 gap-y-1 text-xs text-muted">
       <li>
         <span className="font-mono font-bold text-ink">×</span> closed-loop pole from the model
       </li>
       <li>
-        <span className="font-mono text-ink">+</span> {dataPolesKind === "closed-loop" ? "closed-loop pole from data alone" : "disturbance-response pole (data alone, constant SP)"}
+        <span className="font-mono text-ink">+</span>{" "}
+        {dataPolesKind === "closed-loop"
+          ? "closed-loop pole from data alone"
+          : "disturbance-response pole (data alone, constant SP)"}
       </li>
       <li>
         <span className="font-mono text-ink">○</span> zero
