@@ -33,7 +33,8 @@ export interface RunnerOptions {
   /**
    * "simulated" (default): each sample carries the wall time its simulated instant maps to.
    * "publish": samples carry the wall time they are handed to MQTT (load runs: the latency
-   * measured downstream then starts at the publish, not at a simulator that fell behind).
+   * measured downstream then starts at the publish, not at a simulator that fell behind); in a
+   * batch of n the last carries the publish ms and the others 1 ms apart before it.
    */
   stamp?: "simulated" | "publish";
 }
@@ -152,16 +153,14 @@ export class SimulatorRunner {
     lane.limit = this.batchSize;
     const v = lane.values;
     if (this.stamp === "publish") {
-      // restamp at the hand-over to MQTT, keeping the loop's timestamps strictly increasing
+      // restamp at the hand-over to MQTT: the last sample carries the publish instant and the
+      // earlier ones 1 ms apart before it (strictly increasing per loop, never after the publish,
+      // so a latency measured from t is at most n - 1 ms long, never short)
       const now = this.clock.now();
-      let prev = lane.lastPublishedT;
-      for (let i = 0; i < n; i++) {
-        const t = Math.max(prev + 1, now);
-        v[4 * i] = t;
-        prev = t;
-      }
-      lane.lastT = Math.max(lane.lastT, prev);
-      lane.lastPublishedT = prev;
+      let t = Math.max(now - (n - 1), lane.lastPublishedT + 1);
+      for (let i = 0; i < n; i++, t++) v[4 * i] = t;
+      lane.lastT = Math.max(lane.lastT, t - 1);
+      lane.lastPublishedT = t - 1;
     }
     let payload = this.batchSize === 1 && n === 1 ? "" : "[";
     for (let i = 0; i < n; i++) {

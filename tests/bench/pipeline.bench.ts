@@ -454,7 +454,7 @@ async function main(): Promise<void> {
     const scenario = writeScenario(dir);
     const offered = opts.loops * opts.hz;
     console.log(`pipeline bench: ${opts.loops} loops x ${opts.hz} Hz = ${offered} samples/s offered for ${opts.seconds} s; batch ${opts.batch} samples per MQTT message (partial batches wait up to ${batchDelayMs(opts)} ms); ${os.cpus().length} CPUs, load average ${os.loadavg().map((v) => v.toFixed(2)).join(" ")}`);
-    console.log(`latency: publish (epoch ms stamped by the simulator when it hands the message to MQTT) to receipt (Date.now() in the receiving process), same machine and clock; "steady" = samples stamped >= ${opts.warmup} s after the first one (process start-up, broker connection and JIT excluded), "all" = every sample`);
+    console.log(`latency: publish (epoch ms stamped by the simulator when it hands the message to MQTT; the last sample of a message carries it, the earlier ones 1 ms apart before it, so their latency reads up to ${opts.batch - 1} ms long, never short) to receipt (Date.now() in the receiving process), same machine and clock; "steady" = samples stamped >= ${opts.warmup} s after the first one (process start-up, broker connection and JIT excluded), "all" = every sample`);
     const lat = (l: { p50: number | null; p99: number | null; max: number | null; steadyN: number; steadyP50: number | null; steadyP99: number | null; steadyMax: number | null }) =>
       `steady p50 ${l.steadyP50} ms, p99 ${l.steadyP99} ms, max ${l.steadyMax} ms (n ${l.steadyN}); all p50 ${l.p50} ms, p99 ${l.p99} ms, max ${l.max} ms`;
     const perMsg = (r: SimRun) => (r.messages > 0 ? (r.sent / r.messages).toFixed(1) : "n/a");

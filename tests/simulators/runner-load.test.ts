@@ -52,4 +52,21 @@ describe("simulator runner, load mode", () => {
     // 20 lanes in step without staggering would send all 20 messages in one tick
     expect(Math.max(...atCounts.values())).toBeLessThanOrEqual(4);
   });
+
+  it("publish stamps: the last sample of a message carries the publish ms, none is later, strictly increasing per loop", () => {
+    const { messages } = run(5, 20, 6_000, "publish");
+    const lastT = new Map<string, number>();
+    let checked = 0;
+    for (const m of messages) {
+      const ts = (JSON.parse(m.payload) as { t: number }[]).map((s) => s.t);
+      expect(ts.at(-1)).toBe(m.at);
+      for (const t of ts) {
+        expect(t).toBeLessThanOrEqual(m.at);
+        expect(t).toBeGreaterThan(lastT.get(m.topic) ?? 0);
+        lastT.set(m.topic, t);
+        checked++;
+      }
+    }
+    expect(checked).toBe(300); // 5 loops x 10 Hz x 6 s
+  });
 });
