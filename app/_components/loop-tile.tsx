@@ -55,7 +55,7 @@ function LoopTileInner({ loop, spark, now, big = false, levels: dr = DEFAULT_POL
   return (
     <Link
       href={`/loops/${loop.id}`}
-      className={`flex h-full flex-col gap-1 rounded-md border-2 ${border} bg-surface p-2 no-underline hover:bg-raised focus-visible:bg-raised ${suppressed ? "hatch-suppressed" : ""} ${stale ? "opacity-75" : ""}`}
+      className={`flex h-full flex-col gap-1 overflow-hidden rounded-md border-2 ${border} bg-surface p-2 no-underline hover:bg-raised focus-visible:bg-raised ${suppressed ? "hatch-suppressed" : ""} ${stale ? "opacity-75" : ""}`}
       // each tile is its own layout and paint island: a live update re-lays-out and repaints one tile
       style={{ contain: "layout paint style" }}
       data-testid="loop-tile"
@@ -83,10 +83,15 @@ function LoopTileInner({ loop, spark, now, big = false, levels: dr = DEFAULT_POL
             ρ {fmt(st?.spectralRadius ?? null)} <span className="text-muted">DR {fmt(st?.decayRatio ?? null, 2)}</span>
           </div>
           <Sparkline values={decays.some(Number.isFinite) ? decays : radii} lo={0} hi={1} width={big ? 150 : 110} height={22} level={dr.high} label={`${loop.tag} recent decay ratio`} />
-          <div className="mt-auto flex flex-wrap items-center gap-x-2 gap-y-0.5 text-xs">
-            {active.slice(0, 2).map((a) => (
-              <PriorityMark key={a.id} priority={a.priority} state={a.state} size={big ? 20 : 14} showWord={false} />
-            ))}
+          <div className="mt-auto flex h-5 items-center gap-x-2 overflow-hidden whitespace-nowrap text-xs">
+            {/* one line: the worst alarm in words, the others as marks */}
+            {worst && <PriorityMark priority={worst.priority} state={worst.state} size={big ? 20 : 14} showWord={false} />}
+            {active
+              .filter((a) => a !== worst)
+              .slice(0, 3)
+              .map((a) => (
+                <PriorityMark key={a.id} priority={a.priority} state={a.state} size={big ? 18 : 13} showWord={false} showState={false} />
+              ))}
           </div>
           <div className={`num text-xs ${stale ? "text-suppressed" : "text-muted"}`} data-testid="tile-age">
             {stale ? <strong>stale · </strong> : null}
