@@ -128,6 +128,7 @@ export class InstrumentalArxEstimator {
   private auxRun = 0;
   private simError = 0;
   private simWeight = 0;
+  private lastSimError = NaN;
 
   constructor(options: InstrumentalArxOptions) {
     checkInt("na", options.na, 1);
@@ -193,12 +194,9 @@ export class InstrumentalArxEstimator {
     for (let j = 0; j < nb; j++) yS += th[na + j]! * us[nk - 1 + j]!;
     let uNew: number;
     const e = r - yS;
-    if (!open && this.auxRun > nk + this.d) {
-      // closed-loop simulation error of the current estimate (model choice between structures)
-      const w = this.options.residualMemory;
-      this.simError = w * this.simError + (y - yS) ** 2;
-      this.simWeight = w * this.simWeight + 1;
-    }
+    // closed-loop simulation error of the current estimate (model choice between structures),
+    // counted by `push` on informative samples only: the set-point responses, where structures differ
+    this.lastSimError = !open && this.auxRun > nk + this.d ? (y - yS) ** 2 : NaN;
     if (open || this.options.controller === null) {
       uNew = u;
     } else {
@@ -213,6 +211,7 @@ export class InstrumentalArxEstimator {
       const w = this.options.residualMemory;
       this.simError = w * this.simError + 1e6;
       this.simWeight = w * this.simWeight + 1;
+      this.lastSimError = NaN;
       ys.fill(0);
       us.fill(0);
       es.fill(0);
@@ -269,6 +268,7 @@ export class InstrumentalArxEstimator {
         this.auxRun = 0;
       } else {
         let zmax = 0;
+        this.lastSimError = NaN;
         const aux = this.solved && (mode === "open" || this.options.controller !== null);
         if (aux) this.auxiliaryStep(u, y, r, mode === "open", z);
         if (aux && this.auxRun > nk + d) {
@@ -289,6 +289,11 @@ export class InstrumentalArxEstimator {
             this.f[i] = lam * this.f[i]! + zi * y;
           }
           this.effective = lam * this.effective + 1;
+          if (aux && Number.isFinite(this.lastSimError)) {
+            const w = this.options.residualMemory;
+            this.simError = w * this.simError + this.lastSimError;
+            this.simWeight = w * this.simWeight + 1;
+          }
           this.informative++;
           this.sinceInformative = 0;
           this.dirty = true;
@@ -386,7 +391,7 @@ export class InstrumentalArxEstimator {
   /**
    * Mean squared closed-loop simulation error: the measured y minus the output of the current
    * estimate in closed loop with the controller, driven by the set point alone (exponentially
-   * weighted over `residualMemory`). It includes the disturbance response no model predicts, so
+   * weighted over `residualMemory`, informative samples only). It includes the disturbance response no model predicts, so
    * it serves to compare structures on the same data, not as an absolute figure. NaN before
    * 20 samples.
    */

@@ -47,7 +47,7 @@ import { forecastCrossing } from "@/lib/control/forecast";
 import { juryTest } from "@/lib/control/jury";
 import { polyMul, qToZ, stripLeadingZeros } from "@/lib/control/poly";
 import { polyRoots } from "@/lib/control/roots";
-import type { Complex, QTf } from "@/lib/control/types";
+import type { ArxModel, Complex, QTf } from "@/lib/control/types";
 import { decayRatio, poleCharacteristics } from "@/lib/control/zplane";
 import type { LoopMode, LoopStateDto, PoleDto, SampleDto, TrackerState } from "@/lib/types";
 import type { Clock } from "../context";
@@ -88,6 +88,8 @@ export interface TrackerCheckpoint {
   /** Plant estimator of the configured structure, and the one with a pole fewer (null when na = 1). */
   plant: InstrumentalArxState;
   plantReduced: InstrumentalArxState | null;
+  /** Last plausible plant model (held while the current estimate is not physical). */
+  lastGood?: { model: ArxModel; cov: number[][]; at: number } | null;
   data: ArxEstimatorState;
   estimationSamples: number;
   lastPlantUpdate: number;
@@ -134,6 +136,10 @@ export class LoopTracker {
    * with na = 2 shows a spurious closed-loop pole anywhere, even outside the unit circle. */
   private plantReduced: InstrumentalArxEstimator | null;
   private data: ArxEstimator;
+  /** The last plant model that passed the plausibility check, its covariance and when (estimation samples). */
+  private lastGood: { model: ArxModel; cov: number[][]; at: number } | null = null;
+  /** Why the current estimate is not physical (null when it is), from the last state computation. */
+  private implausible: string | null = null;
   /** Informative samples the plant estimate needs before it is reported. */
   private readonly minUpdates: number;
   /** Estimation samples without an informative one before the loop counts as `low-excitation`. */
@@ -199,8 +205,11 @@ export class LoopTracker {
     this.memory = 1 / (1 - lambda);
     this.forecastWindowS = options.forecastWindowS ?? Math.max(3600, 20 * this.memory * this.estimationPeriodS);
     this.forecastPointEveryS = Math.max(this.estimationPeriodS, this.forecastWindowS / 720);
-    // about two set-point moves' worth of informative samples (one move of a few % gives 50-80)
-    this.minUpdates = Math.max(60, 12 * (config.na + config.nb));
+    // informative samples before the plant model is reported: about two set-point moves' worth on
+    // a fast loop (a move of a few % gives 60-80; one move alone left closed-loop radii above 1 on
+    // healthy demo loops), capped at 8 minutes of estimation samples on a slow one (a sample
+    // every 10-40 s spans several moves by then), never fewer than 6 per parameter
+    this.minUpdates = Math.max(6 * (config.na + config.nb), Math.min(100, Math.ceil(480 / this.estimationPeriodS)));
     this.holdSamples = Math.max(this.memory, Math.ceil(HOLD_S / this.estimationPeriodS));
     this.plantFull = this.makePlantEstimator(config.na);
     this.plantReduced = config.na >= 2 ? this.makePlantEstimator(config.na - 1) : null;
@@ -356,7 +365,6 @@ export class LoopTracker {
       const mode = !learn ? "skip" : manual ? "open" : "closed";
       if (this.plantFull.push(f.u, f.y, f.r, mode)) this.lastPlantUpdate = k;
       this.plantReduced?.push(f.u, f.y, f.r, mode);
-      this.plant = this.choosePlant();
       this.data.push(f.r, f.y, learn && !manual);
     } catch {
       this.resetEstimators("estimators restarted after a numerical failure");
@@ -374,19 +382,38 @@ export class LoopTracker {
   }
 
   /**
-   * Structure choice (common practice: the simpler model unless the richer one is clearly
-   * better): the reduced model unless the full one's closed-loop simulation error is at least
-   * 10 % lower, and the full model whenever the reduced one is not ready.
+   * Structure choice, at state time: the configured structure while its plant poles are those
+   * a sampled continuous plant can have, else the one with a pole fewer. A zero-order-hold
+   * sampled plant has poles exp(s T) (Åström & Wittenmark, *Computer-Controlled Systems*, 3rd
+   * ed., 1997, sec. 2.3): a real pole below 0 has no continuous counterpart, and a stable or
+   * integrating process none outside the unit circle. The ill-determined extra pole of an
+   * over-parameterised IV fit lands exactly there (negative real or far outside), while a true
+   * second-order plant keeps its poles inside at the periods the period proposal aims at. When
+   * both are implausible, the closed-loop simulation error over the set-point responses decides.
    */
+  /**
+   * Null when the estimate is one a sampled plant under this controller can be: poles as in
+   * `plausiblePlantPoles`, and a process gain B(1) of the sign the controller action implies
+   * (reverse action for a rising process, common practice); else the reason.
+   */
+  private plausibility(p: InstrumentalArxEstimator): string | null {
+    if (!plausiblePlantPoles(p.theta.subarray(0, p.na))) return "plant poles no sampled process has";
+    let gain = 0;
+    for (let j = p.na; j < p.d; j++) gain += p.theta[j]!;
+    const want = this.config.controller.action === "reverse" ? 1 : -1;
+    if (!(gain * want > 0)) return "process gain of the wrong sign for the controller action";
+    return null;
+  }
+
   private choosePlant(): InstrumentalArxEstimator {
     const red = this.plantReduced;
     if (!red || !this.plantReady(red)) return this.plantFull;
     if (!this.plantReady(this.plantFull)) return red;
+    if (this.plausibility(this.plantFull) === null) return this.plantFull;
+    if (this.plausibility(red) === null) return red;
     const ef = this.plantFull.simulationError();
     const er = red.simulationError();
-    if (!Number.isFinite(er)) return Number.isFinite(ef) ? this.plantFull : red;
-    if (!Number.isFinite(ef)) return red;
-    return ef < 0.9 * er ? this.plantFull : red;
+    return Number.isFinite(ef) && (!Number.isFinite(er) || ef < er) ? this.plantFull : red;
   }
 
   private parametersFinite(): boolean {
@@ -403,6 +430,8 @@ export class LoopTracker {
     this.plantFull = this.makePlantEstimator(this.config.na);
     this.plantReduced = this.config.na >= 2 ? this.makePlantEstimator(this.config.na - 1) : null;
     this.plant = this.plantFull;
+    this.lastGood = null;
+    this.implausible = null;
     this.data = this.makeDataEstimator();
     this.lastPlantUpdate = -Infinity;
     this.cachedHeadroom = { value: null, at: -Infinity };
@@ -429,6 +458,11 @@ export class LoopTracker {
       if (n >= this.minUpdates) return { state: "learning", reason: `plant model learning: the set-point moves so far do not determine all ${this.plant.d} parameters` };
       const age = Number.isFinite(this.lastSpMove) ? ` (last set-point move ${Math.round((this.estimationSamples - this.lastSpMove) * this.estimationPeriodS)} s ago)` : " (no set-point move seen yet)";
       return { state: "learning", reason: `plant model learning: ${n} of ${this.minUpdates} informative samples${age}` };
+    }
+    if (this.implausible !== null) {
+      if (!this.lastGood) return { state: "learning", reason: `plant model learning: the estimate so far is not physical (${this.implausible})` };
+      const age = Math.round((this.estimationSamples - this.lastGood.at) * this.estimationPeriodS);
+      return { state: "low-excitation", reason: `the current estimate is not physical (${this.implausible}): plant model from ${age} s ago held` };
     }
     const idle = this.estimationSamples - this.lastPlantUpdate;
     if (idle > this.holdSamples) {
@@ -488,6 +522,11 @@ export class LoopTracker {
   }
 
   private computeState(sampleT: number): void {
+    this.plant = this.choosePlant();
+    this.implausible = this.plantReady() ? this.plausibility(this.plant) : null;
+    if (this.plantReady() && this.implausible === null) {
+      this.lastGood = { model: this.plant.model(), cov: this.plant.parameterCovariance(), at: this.estimationSamples };
+    }
     const now = this.clock.now();
     const kind = this.currentKind(now);
     const st = this.emptyState(kind.state, kind.reason);
@@ -499,7 +538,10 @@ export class LoopTracker {
     const memorySamples = this.memory;
     st.dataPolesKind = this.estimationSamples - this.lastSpMove <= memorySamples ? "closed-loop" : "disturbance-response";
     if (this.data.updates >= Math.max(50, 10 * this.dataOrder)) st.dataPoles = this.dataPoles();
-    if (this.plantReady()) this.modelBased(st);
+    if (this.plantReady()) {
+      if (this.implausible === null) this.modelBased(st, this.plant.model(), this.plant.parameterCovariance());
+      else if (this.lastGood) this.modelBased(st, this.lastGood.model, this.lastGood.cov);
+    }
     if (st.spectralRadius !== null && (kind.state === "tracking" || kind.state === "low-excitation")) {
       const t = sampleT / 1000;
       const last = this.radiusHistory[this.radiusHistory.length - 1];
@@ -536,15 +578,14 @@ export class LoopTracker {
     }
   }
 
-  private modelBased(st: LoopStateDto): void {
+  private modelBased(st: LoopStateDto, model: ArxModel, cov: number[][]): void {
     try {
-      const model = this.plant.model();
       const char = closedLoopPolynomial(model, this.controller);
       const roots = polyRoots(char);
       if (roots.some((z) => !Number.isFinite(z.re) || !Number.isFinite(z.im))) return;
       let conf: ReturnType<typeof poleConfidence> | null = null;
       try {
-        const cc = closedLoopCoefficientCovariance(model, this.controller, this.plant.parameterCovariance());
+        const cc = closedLoopCoefficientCovariance(model, this.controller, cov);
         conf = cc.coeffs.length === char.length ? poleConfidence(char, cc.covariance, { roots }) : null;
       } catch {
         conf = null;
@@ -618,6 +659,7 @@ export class LoopTracker {
       structure: { na: this.config.na, nb: this.config.nb, nk: this.config.nk, estimationPeriodS: this.estimationPeriodS, dataOrder: this.dataOrder },
       plant: this.plantFull.toJSON(),
       plantReduced: this.plantReduced ? this.plantReduced.toJSON() : null,
+      lastGood: this.lastGood ? { model: { ...this.lastGood.model, a: [...this.lastGood.model.a], b: [...this.lastGood.model.b] }, cov: this.lastGood.cov.map((r) => [...r]), at: this.lastGood.at } : null,
       data: this.data.toJSON(),
       estimationSamples: this.estimationSamples,
       lastPlantUpdate: Number.isFinite(this.lastPlantUpdate) ? this.lastPlantUpdate : -1e15,
@@ -657,6 +699,11 @@ export class LoopTracker {
       const triple = (v: unknown): v is { u: number; y: number; r: number } =>
         !!v && typeof v === "object" && ["u", "y", "r"].every((k) => Number.isFinite((v as Record<string, unknown>)[k]));
       if (!pf || !triple(pf.filtered) || (pf.prev !== null && !triple(pf.prev))) return { ok: false, reason: "checkpoint prefilter state is malformed" };
+      const lg = cp.lastGood;
+      if (lg && !(Array.isArray(lg.model?.a) && Array.isArray(lg.model?.b) && [...lg.model.a, ...lg.model.b, lg.at].every(Number.isFinite) && Array.isArray(lg.cov))) {
+        return { ok: false, reason: "checkpoint last good model is malformed" };
+      }
+      this.lastGood = lg ? { model: { ...lg.model, a: [...lg.model.a], b: [...lg.model.b] }, cov: lg.cov.map((r) => [...r]), at: lg.at } : null;
       this.plantFull = plant;
       this.plantReduced = reduced;
       this.plant = this.choosePlant();
@@ -678,6 +725,20 @@ export class LoopTracker {
       return { ok: false, reason: `checkpoint rejected: ${(e as Error).message}` };
     }
   }
+}
+
+/** Plant poles (roots of 1 + a1 z^-1 + ...) inside radius 1.02 and no real pole below -0.05. */
+function plausiblePlantPoles(a: ArrayLike<number>): boolean {
+  const coeffs = [1];
+  for (let i = 0; i < a.length; i++) coeffs.push(a[i]!);
+  if (!coeffs.every(Number.isFinite)) return false;
+  let roots: Complex[];
+  try {
+    roots = polyRoots(coeffs);
+  } catch {
+    return false;
+  }
+  return roots.every((z) => modulus(z) <= 1.02 && !(Math.abs(z.im) < 1e-9 && z.re < -0.05));
 }
 
 function toPoleDto(z: Complex, c: { radiusStd: number; covariance: [[number, number], [number, number]] } | undefined): PoleDto {
