@@ -66,8 +66,10 @@ function ensureCapacity(n: number): void {
  * `warmStart`: when true and `outRe`/`outIm` still hold the roots of a previous call with the same
  * degree and the same number of zero roots (a tracker re-solving a slowly changing polynomial),
  * those roots, slightly rotated to break the conjugate symmetry, seed the iteration instead of the
- * Newton-polygon circles; typically 2–4 iterations instead of 5–15. The result is the same
- * to rounding either way.
+ * Newton-polygon circles; typically 2–4 iterations instead of 5–15. For the closed-form cubic,
+ * the previous real root seeds Newton steps (no cube root or cosine), accepted only when |p| is
+ * at its rounding level, otherwise the closed form runs. The result is the same to rounding
+ * either way.
  *
  * @throws NonFiniteInputError on NaN/infinite coefficients; ControlArgumentError for the zero
  *   polynomial or output buffers that are too short.
@@ -79,6 +81,15 @@ export function polyRootsInto(
   length: number = coeffs.length,
   warmStart = false,
 ): number {
+  if (length === 4 && outRe.length >= 3 && outIm.length >= 3) {
+    // the tracker's common case (second-order plant under a PI): a proper cubic without zero roots
+    const c0 = coeffs[0]!;
+    const c3 = coeffs[3]!;
+    if (c0 !== 0 && c3 !== 0 && Number.isFinite(c0 + coeffs[1]! + coeffs[2]! + c3) && cubic(coeffs, 0, outRe, outIm, warmStart)) {
+      sortRoots(outRe, outIm, 3);
+      return 3;
+    }
+  }
   return rootsCore(coeffs, outRe, outIm, length, warmStart, true);
 }
 
@@ -113,7 +124,7 @@ function rootsCore(
   } else if (m === 2) {
     quadratic(coeffs[first]!, coeffs[first + 1]!, coeffs[first + 2]!, outRe, outIm);
     count = 2;
-  } else if (m === 3 && fastCubic && cubic(coeffs, first, outRe, outIm)) {
+  } else if (m === 3 && fastCubic && cubic(coeffs, first, outRe, outIm, warmStart)) {
     count = 3;
   } else if (m >= 3) {
     aberth(coeffs, first, m, outRe, outIm, warmStart);
@@ -426,11 +437,37 @@ function sortRoots(re: Float64Array, im: Float64Array, n: number): void {
  * and one sqrt per call instead of three cosines or an iterated complex Newton step. Returns false
  * (caller falls back to the iteration) if anything is non-finite.
  */
-function cubic(coeffs: ArrayLike<number>, first: number, outRe: Float64Array, outIm: Float64Array): boolean {
+function cubic(coeffs: ArrayLike<number>, first: number, outRe: Float64Array, outIm: Float64Array, warmStart: boolean): boolean {
   const lead = coeffs[first]!;
   const a = coeffs[first + 1]! / lead;
   const b = coeffs[first + 2]! / lead;
   const c = coeffs[first + 3]! / lead;
+  if (warmStart) {
+    // the previous call's real root (the first, i.e. largest, real one after sorting) seeds Newton;
+    // accepted only at the rounding level of evaluating p, otherwise the closed form below
+    let seed = NaN;
+    for (let i = 0; i < 3; i++) {
+      if (outIm[i] === 0 && Number.isFinite(outRe[i]!)) {
+        seed = outRe[i]!;
+        break;
+      }
+    }
+    if (Number.isFinite(seed)) {
+      let x = seed;
+      let p = ((x + a) * x + b) * x + c;
+      for (let step = 0; step < 4 && p !== 0; step++) {
+        const d = (3 * x + 2 * a) * x + b;
+        if (d === 0) break;
+        x -= p / d;
+        p = ((x + a) * x + b) * x + c;
+      }
+      const ax = Math.abs(x);
+      if (Math.abs(p) <= 16 * EPS * (((ax + Math.abs(a)) * ax + Math.abs(b)) * ax + Math.abs(c))) {
+        x = polishReal(a, b, c, x);
+        return deflatedCubic(a, b, c, x, outRe, outIm);
+      }
+    }
+  }
   const a3 = a / 3;
   const Q = (a * a - 3 * b) / 9;
   const R = (2 * a * a * a - 9 * a * b + 27 * c) / 54;
@@ -448,6 +485,11 @@ function cubic(coeffs: ArrayLike<number>, first: number, outRe: Float64Array, ou
     x0 = A + B - a3;
   }
   x0 = polishReal(a, b, c, x0);
+  return deflatedCubic(a, b, c, x0, outRe, outIm);
+}
+
+/** The other two roots of z^3 + a z^2 + b z + c from its real root x0 (deflation, then polish). */
+function deflatedCubic(a: number, b: number, c: number, x0: number, outRe: Float64Array, outIm: Float64Array): boolean {
   // z^3 + a z^2 + b z + c = (z - x0)(z^2 + e1 z + e0)
   let e1: number;
   let e0: number;
