@@ -103,9 +103,10 @@ describe("the console in Chromium", () => {
 
     const view = await apiJson<{ settings: { decayRatio?: { low: number; high: number } } | null }>(page, "/api/alarm-policies?scope=tenant");
     expect(view.settings?.decayRatio).toEqual({ low: 0.01, high: 0.02 });
-    // Took effect: alarms needing a person appear on the control room within a minute.
+    // Took effect: alarms needing a person appear on the control room (the trackers must have
+    // an estimate first; on a loaded 2-core machine that took 15-130 s in our runs).
     await page.goto(`${srv.url}/`);
-    await expect.poll(() => page.getByTestId("alarm-row").count(), { timeout: 120_000, interval: 1000 }).toBeGreaterThan(0);
+    await expect.poll(() => page.getByTestId("alarm-row").count(), { timeout: 240_000, interval: 1000 }).toBeGreaterThan(0);
     // ... and the change is in the log with its reason.
     await page.goto(`${srv.url}/admin?section=log`);
     await expect.poll(() => page.getByTestId("config-log").textContent(), { timeout: 15_000 }).toContain("tighten levels");
@@ -116,7 +117,7 @@ describe("the console in Chromium", () => {
       await page.screenshot({ path: artifactPath(`console-admin-${section}.png`), fullPage: true });
     }
     await page.close();
-  }, 240_000);
+  }, 360_000);
 
   it("an operator sees the tiles update live and acknowledges an alarm with a comment", async () => {
     const page = await browser.context.newPage();
