@@ -4,6 +4,8 @@
  * `loop:samples` to a loop's room every 200 ms. One emit per update would cap near 170k/s
  * (§11); one per tenant per period does not. A tenant's batch holds only its own loops, and only
  * sockets admitted by watch.ts sit in a loop's room, so no client sees another tenant's data.
+ * A batch for a room nobody is in is dropped unencoded (newcomers load the current states over
+ * HTTP and get every loop's next summary within its state period).
  */
 import { loopRoom, tenantRoom } from "@/lib/realtime/events";
 import type { LoopStateDto, SampleDto } from "@/lib/types";
@@ -37,8 +39,9 @@ export function startRealtimeEmitter(ctx: ServerContext, opts: RealtimeEmitterOp
     const io = ctx.io;
     if (!io || pendingStates.size === 0) return;
     for (const [tenantId, byLoop] of pendingStates) {
+      // nobody in the tenant's room: encoding the batch (thousands of summaries) would be wasted
+      if (byLoop.size === 0 || roomSize(tenantRoom(tenantId)) === 0) continue;
       const batch = [...byLoop.values()];
-      if (batch.length === 0) continue;
       io.to(tenantRoom(tenantId)).emit("loop:state", batch);
       stats.stateBatches++;
       stats.statesSent += batch.length;

@@ -7,7 +7,9 @@
  *           in-process subscriber only parses the JSON (the ceiling of this machine's intake);
  *   phase 2 "pipeline":    embedded broker with device authentication (server/broker), ingest
  *           (server/ingest), tracker registry (server/tracking), realtime emitter and watch
- *           (server/realtime) on a Socket.IO server; a client process watches W loops.
+ *           (server/realtime) on a Socket.IO server, history aggregation and batch writer
+ *           (server/history) into a throw-away MariaDB (unless --no-history); a client process
+ *           watches W loops.
  *
  * Reported: offered and delivered samples/s, loss, p50/p99 latency on `loop:samples` from the
  * publish (the simulator runs with --stamp publish: a sample's t is the moment its MQTT message
@@ -288,7 +290,43 @@ async function bare(scenarioFile: string, opts: { loops: number; hz: number; bat
   return { sim, received, lat: lat.summary(), spanS: (last - first) / 1000, brokerCpuS: (cpu.user + cpu.system) / 1e6, rss: process.memoryUsage().rss };
 }
 
-async function pipeline(scenarioFile: string, opts: { loops: number; hz: number; batch: number; seconds: number; warmup: number; watch: number; stateEvery: number; withStates: boolean }) {
+/** A throw-away MariaDB (temporary data directory, free port, stopped with this process) with the schema migrated. */
+async function startBenchDatabase() {
+  const { ensureMariaDb, freePort, rootConnection } = await import("@/lib/db/mariadb-server");
+  const { createSequelize } = await import("@/lib/db/sequelize");
+  const { migrateUp } = await import("@/lib/db/migrate");
+  const dbDir = mkdtempSync(path.join(os.tmpdir(), "rg-bdb-"));
+  const handle = await ensureMariaDb({
+    dataDir: path.join(dbDir, "data"),
+    port: await freePort(),
+    socket: path.join(dbDir, "s.sock"),
+    ephemeral: true,
+    watchPid: process.pid,
+    removeOnExit: dbDir,
+    allowApt: false,
+    database: "rg_bench",
+    user: "rg_bench",
+    password: "bench-db-pw-0123",
+  });
+  // the bench has no tenant, site or loop rows: loop_states (keyed to loops) would refuse every write
+  const root = await rootConnection(handle.socket);
+  await root.query("SET GLOBAL foreign_key_checks = 0");
+  await root.end();
+  const sequelize = createSequelize({ socket: handle.socket, database: "rg_bench", user: "rg_bench", password: "bench-db-pw-0123" });
+  await migrateUp(sequelize);
+  const pid = Number(readFileSync(path.join(handle.dataDir, "mariadbd.pid"), "utf8").trim());
+  return {
+    sequelize,
+    pid,
+    async stop() {
+      await sequelize.close();
+      await handle.stop();
+      rmSync(dbDir, { recursive: true, force: true });
+    },
+  };
+}
+
+async function pipeline(scenarioFile: string, opts: { loops: number; hz: number; batch: number; seconds: number; warmup: number; watch: number; stateEvery: number; withStates: boolean; history: boolean }) {
   const { Server } = await import("socket.io");
   const { getConfig } = await import("@/lib/config");
   const { Bus, systemClock } = await import("@/server/context");
@@ -300,6 +338,7 @@ async function pipeline(scenarioFile: string, opts: { loops: number; hz: number;
   const { tenantRoom } = await import("@/lib/realtime/events");
   const { slugify } = await import("@/lib/slug");
   const { cloneTag } = await import("@/simulators/fleet");
+  const { startHistory } = await import("@/server/history");
   type Ctx = import("@/server/context").ServerContext;
 
   const config = getConfig(withoutMqttUrl(process.env));
@@ -354,12 +393,22 @@ async function pipeline(scenarioFile: string, opts: { loops: number; hz: number;
       nk: 5,
     });
   }
+  const db = opts.history ? await startBenchDatabase() : null;
+  const history = db ? await startHistory(ctx, { sequelize: db.sequelize, partitionEveryMs: 0 }) : null;
+  const dbCpu0 = db ? (procStats(db.pid)?.cpuS ?? 0) : 0;
+  let dbPeakRss = 0;
+  const dbTimer = db
+    ? setInterval(() => {
+        dbPeakRss = Math.max(dbPeakRss, procStats(db.pid)?.rss ?? 0);
+      }, 250)
+    : null;
   const registry = new TrackerRegistry(ctx, configs, { stateEveryS: opts.stateEvery });
   const emitter = startRealtimeEmitter(ctx);
   let updates = 0;
   ctx.bus.on("tracker:update", (s) => {
     updates++;
     emitter.state(s);
+    history?.addState(s);
   });
   const perLoopAccepted = new Map<number, number>();
   const ingestLat = new Latencies(opts.warmup * 1000);
@@ -369,6 +418,7 @@ async function pipeline(scenarioFile: string, opts: { loops: number; hz: number;
     sink: (route, samples, at) => {
       registry.push(route.loopId, samples, at);
       emitter.samples(route.loopId, samples);
+      history?.addSamples(route.loopId, samples);
       perLoopAccepted.set(route.loopId, (perLoopAccepted.get(route.loopId) ?? 0) + samples.length);
       const lastSample = samples[samples.length - 1];
       if (lastSample) ingestLat.add(lastSample.t, at);
@@ -409,6 +459,8 @@ async function pipeline(scenarioFile: string, opts: { loops: number; hz: number;
   await new Promise((r) => setTimeout(r, 500));
   const cpu = process.cpuUsage(cpu0);
   const serverRss = process.memoryUsage().rss;
+  const dbCpuS = db ? (procStats(db.pid)?.cpuS ?? dbCpu0) - dbCpu0 : null;
+  if (dbTimer) clearInterval(dbTimer);
   const clientCpuBefore = clientStats.last();
   client.kill("SIGTERM");
   await new Promise<void>((r) => client.once("exit", () => r()));
@@ -421,6 +473,12 @@ async function pipeline(scenarioFile: string, opts: { loops: number; hz: number;
   unwatch();
   unsubscribe();
   emitter.stop();
+  let historyStats: ReturnType<NonNullable<typeof history>["writer"]["stats"]> | null = null;
+  if (history) {
+    await history.stop();
+    historyStats = history.writer.stats();
+  }
+  await db?.stop();
   await broker.stop();
   await new Promise<void>((r) => io.close(() => r()));
   return {
@@ -432,6 +490,9 @@ async function pipeline(scenarioFile: string, opts: { loops: number; hz: number;
     updates,
     serverCpuS: (cpu.user + cpu.system) / 1e6,
     serverRss,
+    dbCpuS,
+    dbPeakRss,
+    historyStats,
     client: clientResult,
     clientPeakRss: clientCpuBefore.peakRss,
     watchedAccepted,
@@ -448,6 +509,7 @@ async function main(): Promise<void> {
     watch: Math.round(flag("watch", 50)),
     stateEvery: flag("state-every", 1),
     withStates: process.argv.includes("--with-states"),
+    history: !process.argv.includes("--no-history"),
   };
   const dir = mkdtempSync(path.join(os.tmpdir(), "rg-bench-"));
   try {
@@ -461,18 +523,18 @@ async function main(): Promise<void> {
 
     console.log("phase 1: bare broker (aedes + in-process JSON.parse)");
     const b = await bare(scenario, opts);
-    // delivered rate over the simulator's run time (its --duration)
-    const bareRate = b.received / opts.seconds;
+    // delivered rate over the span from the first to the last receipt
+    const bareRate = b.spanS > 0 ? b.received / b.spanS : 0;
     if (b.sim.sent === 0) console.log(`  simulator: ${b.sim.lastLine}`);
     console.log(`  simulator sent ${b.sim.sent} samples in ${b.sim.messages} messages (${perMsg(b.sim)} per message; cpu ${b.sim.cpuS.toFixed(1)} s, peak rss ${(b.sim.peakRss / 2 ** 20).toFixed(0)} MiB); largest lag behind schedule ${b.sim.lagMs} ms`);
-    console.log(`  broker received ${b.received} (${b.sim.sent - b.received} lost) = ${bareRate.toFixed(0)} samples/s; publish-to-subscriber latency (last sample of each message) ${lat(b.lat)}; broker process cpu ${b.brokerCpuS.toFixed(1)} s`);
+    console.log(`  broker received ${b.received} (${b.sim.sent - b.received} lost) = ${bareRate.toFixed(0)} samples/s over ${b.spanS.toFixed(1)} s from first to last receipt; publish-to-subscriber latency (last sample of each message) ${lat(b.lat)}; broker process cpu ${b.brokerCpuS.toFixed(1)} s`);
 
-    console.log("phase 2: pipeline (authenticated broker -> ingest -> trackers -> Socket.IO client process)");
+    console.log(`phase 2: pipeline (authenticated broker -> ingest -> trackers -> Socket.IO client process${opts.history ? "; history aggregation and writer into a throw-away MariaDB, foreign-key checks off as it holds no loop rows" : "; no history (--no-history)"})`);
     const p = await pipeline(scenario, opts);
-    const rate = p.accepted / opts.seconds;
+    const rate = p.spanS > 0 ? p.accepted / p.spanS : 0;
     const loss = p.sim.sent - p.accepted;
     console.log(`  simulator sent ${p.sim.sent} samples in ${p.sim.messages} messages (${perMsg(p.sim)} per message; cpu ${p.sim.cpuS.toFixed(1)} s, peak rss ${(p.sim.peakRss / 2 ** 20).toFixed(0)} MiB, largest lag behind schedule ${p.sim.lagMs} ms)`);
-    console.log(`  ingest accepted ${p.accepted}, rejected ${p.rejected}, lost ${loss} = ${rate.toFixed(0)} samples/s sustained; tracker updates ${p.updates}`);
+    console.log(`  ingest accepted ${p.accepted}, rejected ${p.rejected}, lost ${loss} = ${rate.toFixed(0)} samples/s sustained over ${p.spanS.toFixed(1)} s from first to last receipt; tracker updates ${p.updates}`);
     console.log(`  publish-to-ingest latency (last sample of each message) ${lat(p.ingest)}`);
     console.log(`  server process cpu ${p.serverCpuS.toFixed(1)} s over ~${(opts.seconds + 2.5).toFixed(0)} s (${((100 * p.serverCpuS) / (opts.seconds + 2.5)).toFixed(0)} % of one core), rss ${(p.serverRss / 2 ** 20).toFixed(0)} MiB`);
     if (p.client) {
@@ -486,7 +548,14 @@ async function main(): Promise<void> {
     const bareCost = b.received > 0 ? (1e6 * b.brokerCpuS) / b.received : NaN;
     const pipeCost = p.accepted > 0 ? (1e6 * p.serverCpuS) / p.accepted : NaN;
     console.log(`server CPU per sample: bare broker ${bareCost.toFixed(1)} us, pipeline ${pipeCost.toFixed(1)} us, ratio ${(pipeCost / bareCost).toFixed(2)}`);
-    console.log("MariaDB: not in this bench (the history writer is not attached; no database process runs), so no MariaDB CPU/RSS is reported");
+    if (p.historyStats) {
+      const h = p.historyStats;
+      console.log(
+        `  MariaDB process cpu ${p.dbCpuS?.toFixed(1)} s, peak rss ${(p.dbPeakRss / 2 ** 20).toFixed(0)} MiB; history rows written samples_1s ${h.written.samples_1s}, samples_1m ${h.written.samples_1m}, pole_snapshots ${h.written.pole_snapshots}, loop_states ${h.written.loop_states}; shed ${JSON.stringify(h.shed)}; queued at stop ${JSON.stringify(h.queued)}; write errors ${h.errors}${h.lastError ? ` (last: ${String(h.lastError).slice(0, 160)})` : ""}`,
+      );
+    } else {
+      console.log("  MariaDB: not run (--no-history)");
+    }
     console.log(`load average at end: ${os.loadavg().map((v) => v.toFixed(2)).join(" ")}`);
   } finally {
     rmSync(dir, { recursive: true, force: true });

@@ -140,7 +140,11 @@ describe("realtime batching", () => {
     const clock = new ManualClock(T0);
     const ctx = testContext(clock);
     const emitted: { room: string; event: string; payload: unknown }[] = [];
-    const rooms = new Map<string, Set<string>>([["loop:5", new Set(["socket-1"])]]);
+    const rooms = new Map<string, Set<string>>([
+      ["loop:5", new Set(["socket-1"])],
+      ["tenant:1", new Set(["socket-1"])],
+      ["tenant:2", new Set(["socket-2"])],
+    ]);
     ctx.io = {
       to: (room: string) => ({ emit: (event: string, payload: unknown) => emitted.push({ room, event, payload }) }),
       sockets: { adapter: { rooms } },
