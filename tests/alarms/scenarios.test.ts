@@ -173,13 +173,10 @@ describe("alarms on simulated plants", () => {
     expect(raised.filter((r) => r.condition !== "sluggish").map((r) => r.text)).toEqual([]);
   }, 300_000);
 
-  // KNOWN DEFECT (reported to the lead): on the fast pressure/flow demo loops the tracker keeps
-  // `tracking` while its plant gain estimate collapses at low excitation (b coefficients near 0),
-  // which leaves an estimated closed-loop pole near z = 1 that the PI zero does not cancel, so
-  // the estimated average residence time is 3-10x the design value and `sluggish` fires. This
-  // test states the requirement; `it.fails` keeps the suite green while the defect is open and
-  // turns red once it is fixed (then make it a plain `it`).
-  it.fails("the healthy demo loops raise no `sluggish` advisory either (fails today: tracker bias at low excitation)", async () => {
+  // Formerly a known defect (the plant gain estimate collapsed at low excitation, leaving an
+  // uncancelled closed-loop pole near z = 1); fixed by the tracker's instrumental-variable plant
+  // estimator, which holds its estimate while nothing excites it.
+  it("the healthy demo loops raise no `sluggish` advisory either", async () => {
     const { raised } = await runHour();
     expect(raised.map((r) => r.text)).toEqual([]);
   }, 300_000);
