@@ -458,14 +458,14 @@ function cubic(coeffs: ArrayLike<number>, first: number, outRe: Float64Array, ou
       for (let step = 0; step < 4 && p !== 0; step++) {
         const d = (3 * x + 2 * a) * x + b;
         if (d === 0) break;
-        x -= p / d;
+        const dx = p / d;
+        x -= dx;
         p = ((x + a) * x + b) * x + c;
+        if (Math.abs(dx) <= EPS * Math.abs(x)) break; // converged to the last bit
       }
       const ax = Math.abs(x);
-      if (Math.abs(p) <= 16 * EPS * (((ax + Math.abs(a)) * ax + Math.abs(b)) * ax + Math.abs(c))) {
-        x = polishReal(a, b, c, x);
-        return deflatedCubic(a, b, c, x, outRe, outIm);
-      }
+      // at the rounding level of evaluating p: Newton has done what polishing would do
+      if (Math.abs(p) <= 16 * EPS * (((ax + Math.abs(a)) * ax + Math.abs(b)) * ax + Math.abs(c))) return deflatedCubic(a, b, c, x, outRe, outIm);
     }
   }
   const a3 = a / 3;
