@@ -283,20 +283,20 @@ export function evaluateConditions(
   let trigger = "";
   if (step("margin.decay.low", decay, policy.decayRatio.low, pd.decayRatio, "above")) {
     severity = 1;
-    trigger = `decay ratio ${fmt(decay ?? 0)} ≥ ${policy.decayRatio.low}`;
+    trigger = `decay ratio ${fmt(decay ?? 0)} against the low-priority level ${policy.decayRatio.low}`;
   }
   if (step("margin.decay.high", decay, policy.decayRatio.high, pd.decayRatio, "above")) {
     severity = 2;
-    trigger = `decay ratio ${fmt(decay ?? 0)} ≥ ${policy.decayRatio.high}`;
+    trigger = `decay ratio ${fmt(decay ?? 0)} against the high-priority level ${policy.decayRatio.high}`;
   }
   if (policy.minDamping) {
     if (step("margin.zeta.low", zeta, policy.minDamping.low, pd.damping, "below") && severity < 1) {
       severity = 1;
-      trigger = `damping ratio ${fmt(zeta ?? 0)} ≤ ${policy.minDamping.low}`;
+      trigger = `damping ratio ${fmt(zeta ?? 0)} against the low-priority minimum ${policy.minDamping.low}`;
     }
     if (step("margin.zeta.high", zeta, policy.minDamping.high, pd.damping, "below") && severity < 2) {
       severity = 2;
-      trigger = `damping ratio ${fmt(zeta ?? 0)} ≤ ${policy.minDamping.high}`;
+      trigger = `damping ratio ${fmt(zeta ?? 0)} against the high-priority minimum ${policy.minDamping.high}`;
     }
   }
   if (policy.radius) {
@@ -304,11 +304,11 @@ export function evaluateConditions(
     const r = rMode ? rMode.radius : null;
     if (step("margin.radius.low", r, policy.radius.low, pd.radius, "above") && severity < 1) {
       severity = 1;
-      trigger = `oscillating pole radius ${fmt(r ?? 0, 4)} ≥ ${policy.radius.low} at T = ${T} s`;
+      trigger = `oscillating pole radius ${fmt(r ?? 0, 4)} against the low-priority radius ${policy.radius.low} at T = ${T} s`;
     }
     if (step("margin.radius.high", r, policy.radius.high, pd.radius, "above") && severity < 2) {
       severity = 2;
-      trigger = `oscillating pole radius ${fmt(r ?? 0, 4)} ≥ ${policy.radius.high} at T = ${T} s`;
+      trigger = `oscillating pole radius ${fmt(r ?? 0, 4)} against the high-priority radius ${policy.radius.high} at T = ${T} s`;
     }
   }
   const marginOn = policy.enabled.margin && severity > 0;
