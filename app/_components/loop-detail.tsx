@@ -124,6 +124,9 @@ export function LoopDetail({ loopId, role, initialRange = "1h" }: { loopId: numb
             {stale ? "stale · " : ""}
             {fmtAge(ageS)}
           </span>
+          <Link href={`/loops/${loop.id}/step-tests`} className="rounded border border-line px-2 py-1 text-sm hover:border-accent">
+            Step tests
+          </Link>
           {roleAtLeast(role, "engineer") && (
             <Link href={`/loops/${loop.id}/edit`} className="rounded border border-line px-2 py-1 text-sm hover:border-accent">
               Edit loop
