@@ -28,6 +28,7 @@ import { createServer } from "node:http";
 import net from "node:net";
 import os from "node:os";
 import path from "node:path";
+import { monitorEventLoopDelay } from "node:perf_hooks";
 
 const here = import.meta.dirname;
 const root = path.resolve(here, "../..");
@@ -225,6 +226,12 @@ function writeScenario(dir: string): string {
   return file;
 }
 
+/** Event-loop delay of this process (how long ready work waited: blocking code or CPU starvation), ms. */
+function delaySummary(h: ReturnType<typeof monitorEventLoopDelay>): string {
+  const ms = (ns: number) => (ns / 1e6).toFixed(0);
+  return `event-loop delay p50 ${ms(h.percentile(50))} ms, p99 ${ms(h.percentile(99))} ms, max ${ms(h.max)} ms`;
+}
+
 /** Latencies split at the warm-up: every sample, and those stamped at least `warmupMs` after the first. */
 class Latencies {
   all: number[] = [];
@@ -282,12 +289,15 @@ async function bare(scenarioFile: string, opts: { loops: number; hz: number; bat
   await new Promise<void>((r) => server.listen(0, "127.0.0.1", r));
   const port = (server.address() as net.AddressInfo).port;
   const cpu0 = process.cpuUsage();
+  const loopDelay = monitorEventLoopDelay({ resolution: 10 });
+  loopDelay.enable();
   const sim = await runSimulator(port, scenarioFile, opts);
   await new Promise((r) => setTimeout(r, 1500));
+  loopDelay.disable();
   const cpu = process.cpuUsage(cpu0);
   await new Promise<void>((r) => broker.close(() => r()));
   await new Promise<void>((r) => server.close(() => r()));
-  return { sim, received, lat: lat.summary(), spanS: (last - first) / 1000, brokerCpuS: (cpu.user + cpu.system) / 1e6, rss: process.memoryUsage().rss };
+  return { sim, received, lat: lat.summary(), loopDelay: delaySummary(loopDelay), spanS: (last - first) / 1000, brokerCpuS: (cpu.user + cpu.system) / 1e6, rss: process.memoryUsage().rss };
 }
 
 /** A throw-away MariaDB (temporary data directory, free port, stopped with this process) with the schema migrated. */
@@ -453,10 +463,13 @@ async function pipeline(scenarioFile: string, opts: { loops: number; hz: number;
   const addr = broker.address();
   if (!addr) throw new Error("embedded broker has no address");
   const cpu0 = process.cpuUsage();
+  const loopDelay = monitorEventLoopDelay({ resolution: 10 });
+  loopDelay.enable();
   const sim = await runSimulator(addr.port, scenarioFile, opts);
   await new Promise((r) => setTimeout(r, 2000)); // drain: emitter flushes every 200/500 ms
   emitter.flush();
   await new Promise((r) => setTimeout(r, 500));
+  loopDelay.disable();
   const cpu = process.cpuUsage(cpu0);
   const serverRss = process.memoryUsage().rss;
   const dbCpuS = db ? (procStats(db.pid)?.cpuS ?? dbCpu0) - dbCpu0 : null;
@@ -490,6 +503,7 @@ async function pipeline(scenarioFile: string, opts: { loops: number; hz: number;
     updates,
     serverCpuS: (cpu.user + cpu.system) / 1e6,
     serverRss,
+    loopDelay: delaySummary(loopDelay),
     dbCpuS,
     dbPeakRss,
     historyStats,
@@ -527,7 +541,7 @@ async function main(): Promise<void> {
     const bareRate = b.spanS > 0 ? b.received / b.spanS : 0;
     if (b.sim.sent === 0) console.log(`  simulator: ${b.sim.lastLine}`);
     console.log(`  simulator sent ${b.sim.sent} samples in ${b.sim.messages} messages (${perMsg(b.sim)} per message; cpu ${b.sim.cpuS.toFixed(1)} s, peak rss ${(b.sim.peakRss / 2 ** 20).toFixed(0)} MiB); largest lag behind schedule ${b.sim.lagMs} ms`);
-    console.log(`  broker received ${b.received} (${b.sim.sent - b.received} lost) = ${bareRate.toFixed(0)} samples/s over ${b.spanS.toFixed(1)} s from first to last receipt; publish-to-subscriber latency (last sample of each message) ${lat(b.lat)}; broker process cpu ${b.brokerCpuS.toFixed(1)} s`);
+    console.log(`  broker received ${b.received} (${b.sim.sent - b.received} lost) = ${bareRate.toFixed(0)} samples/s over ${b.spanS.toFixed(1)} s from first to last receipt; publish-to-subscriber latency (last sample of each message) ${lat(b.lat)}; broker process cpu ${b.brokerCpuS.toFixed(1)} s, ${b.loopDelay}`);
 
     console.log(`phase 2: pipeline (authenticated broker -> ingest -> trackers -> Socket.IO client process${opts.history ? "; history aggregation and writer into a throw-away MariaDB, foreign-key checks off as it holds no loop rows" : "; no history (--no-history)"})`);
     const p = await pipeline(scenario, opts);
@@ -536,7 +550,7 @@ async function main(): Promise<void> {
     console.log(`  simulator sent ${p.sim.sent} samples in ${p.sim.messages} messages (${perMsg(p.sim)} per message; cpu ${p.sim.cpuS.toFixed(1)} s, peak rss ${(p.sim.peakRss / 2 ** 20).toFixed(0)} MiB, largest lag behind schedule ${p.sim.lagMs} ms)`);
     console.log(`  ingest accepted ${p.accepted}, rejected ${p.rejected}, lost ${loss} = ${rate.toFixed(0)} samples/s sustained over ${p.spanS.toFixed(1)} s from first to last receipt; tracker updates ${p.updates}`);
     console.log(`  publish-to-ingest latency (last sample of each message) ${lat(p.ingest)}`);
-    console.log(`  server process cpu ${p.serverCpuS.toFixed(1)} s over ~${(opts.seconds + 2.5).toFixed(0)} s (${((100 * p.serverCpuS) / (opts.seconds + 2.5)).toFixed(0)} % of one core), rss ${(p.serverRss / 2 ** 20).toFixed(0)} MiB`);
+    console.log(`  server process cpu ${p.serverCpuS.toFixed(1)} s over ~${(opts.seconds + 2.5).toFixed(0)} s (${((100 * p.serverCpuS) / (opts.seconds + 2.5)).toFixed(0)} % of one core), rss ${(p.serverRss / 2 ** 20).toFixed(0)} MiB, ${p.loopDelay}`);
     if (p.client) {
       console.log(
         `  client (${opts.watch} watched loops): received ${p.client.received} of ${p.watchedAccepted} accepted for them (${p.watchedAccepted - p.client.received} missing); loop:samples publish-to-client latency (every sample) ${lat(p.client)}; loop:state summaries ${p.client.states}; cpu ${p.client.cpuS.toFixed(1)} s, rss ${(p.client.rss / 2 ** 20).toFixed(0)} MiB`,
