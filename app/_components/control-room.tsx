@@ -6,11 +6,12 @@
  */
 import { useWindowVirtualizer } from "@tanstack/react-virtual";
 import Link from "next/link";
-import { useDeferredValue, useLayoutEffect, useMemo, useRef, useState } from "react";
+import { type ReactElement, useDeferredValue, useLayoutEffect, useMemo, useRef, useState } from "react";
 import type { AlarmDto, Role } from "@/lib/types";
 import { roleAtLeast } from "@/lib/types";
 import { useAlarms, useDecayLevels, useLoops, useNow } from "@/lib/client/hooks";
-import { ATTENTION_STATES, sortWorstFirst } from "@/lib/client/order";
+import { ATTENTION_STATES, stableWorstFirst } from "@/lib/client/order";
+import type { LoopSummary } from "@/lib/types";
 import { CONDITION_WORDS, fmtClock } from "@/lib/client/format";
 import { AlarmActions } from "./alarm-actions";
 import { AreaSummaries, summariseAreas } from "./area-summary";
@@ -23,9 +24,21 @@ const GAP = 8;
 export function ControlRoom({ role }: { role: Role }) {
   const { loops: raw, store, error, isLoading, connected } = useLoops();
   const levels = useDecayLevels("tenant");
-  const loops = useMemo(() => sortWorstFirst(raw, levels.high), [raw, levels.high]);
   const now = useNow(1000);
-  const areas = useMemo(() => summariseAreas(loops, now), [loops, now]);
+  // Worst-first order recomputed once a second (and at once when loops or alarms change), not
+  // on every live batch; within a margin step loops keep their places (no reshuffle on noise).
+  // Tiles read the loop's current summary from the store, so values stay live between sorts.
+  const rank = useRef<Map<number, number> | null>(null);
+  const loops = useMemo(() => {
+    const sorted = stableWorstFirst(raw, rank.current, levels.high);
+    const m = new Map<number, number>();
+    sorted.forEach((l, i) => m.set(l.id, i));
+    rank.current = m;
+    return sorted;
+    // raw is read at the moment of the tick; a new batch alone does not re-sort
+    // eslint-disable-next-line react-hooks/exhaustive-deps
+  }, [Math.floor(now / 1000), store.structureVersion, raw.length, levels.high]);
+  const areas = useMemo(() => summariseAreas(raw, now), [now, store.structureVersion, raw.length]); // eslint-disable-line react-hooks/exhaustive-deps
   const [filter, setFilter] = useState("");
   const deferred = useDeferredValue(filter);
   const shown = useMemo(() => {
@@ -79,7 +92,7 @@ export function ControlRoom({ role }: { role: Role }) {
   );
 }
 
-function TileGrid({ loops, store, now, levels }: { loops: ReturnType<typeof useLoops>["loops"]; store: ReturnType<typeof useLoops>["store"]; now: number; levels: { low: number; high: number } }) {
+function TileGrid({ loops, store, now, levels }: { loops: LoopSummary[]; store: ReturnType<typeof useLoops>["store"]; now: number; levels: { low: number; high: number } }) {
   const parent = useRef<HTMLDivElement>(null);
   const [width, setWidth] = useState(1200);
   const [offset, setOffset] = useState(0);
@@ -97,28 +110,29 @@ function TileGrid({ loops, store, now, levels }: { loops: ReturnType<typeof useL
   const rows = Math.ceil(loops.length / cols);
   const v = useWindowVirtualizer({ count: rows, estimateSize: () => TILE_HEIGHT + GAP, overscan: 2, scrollMargin: offset });
   const nowS = Math.floor(now / 1000) * 1000;
+  // One flat layer of tiles keyed by loop id, each placed by its own transform: a loop that
+  // moves in the order (or a row that scrolls) keeps its mounted tile, only the position changes.
+  const colW = (width - GAP * (cols - 1)) / cols;
+  const tiles: ReactElement[] = [];
+  for (const row of v.getVirtualItems()) {
+    const y = row.start - v.options.scrollMargin;
+    const end = Math.min(loops.length, row.index * cols + cols);
+    for (let i = row.index * cols; i < end; i++) {
+      const l = loops[i]!;
+      const c = i - row.index * cols;
+      tiles.push(
+        <div
+          key={l.id}
+          style={{ position: "absolute", top: 0, left: 0, width: colW, height: TILE_HEIGHT, transform: `translate(${c * (colW + GAP)}px, ${y}px)`, contain: "strict" }}
+        >
+          <LoopTile loop={store.get(l.id) ?? l} spark={store.spark(l.id)} now={nowS} levels={levels} />
+        </div>,
+      );
+    }
+  }
   return (
     <div ref={parent} style={{ height: v.getTotalSize(), position: "relative" }} data-testid="tile-grid">
-      {v.getVirtualItems().map((row) => (
-        <div
-          key={row.key}
-          className="grid"
-          style={{
-            position: "absolute",
-            top: 0,
-            left: 0,
-            width: "100%",
-            height: TILE_HEIGHT,
-            transform: `translateY(${row.start - v.options.scrollMargin}px)`,
-            gridTemplateColumns: `repeat(${cols}, minmax(0, 1fr))`,
-            gap: GAP,
-          }}
-        >
-          {loops.slice(row.index * cols, row.index * cols + cols).map((l) => (
-            <LoopTile key={l.id} loop={l} spark={store.spark(l.id)} now={nowS} levels={levels} />
-          ))}
-        </div>
-      ))}
+      {tiles}
     </div>
   );
 }

@@ -55,6 +55,8 @@ function LoopTileInner({ loop, spark, now, big = false, levels: dr = DEFAULT_POL
   return (
     <Link
       href={`/loops/${loop.id}`}
+      // no viewport prefetch: scrolling a wall of 2,000 tiles must not fetch a route per tile
+      prefetch={false}
       className={`flex h-full flex-col gap-1 overflow-hidden rounded-md border-2 ${border} bg-surface p-2 no-underline hover:bg-raised focus-visible:bg-raised ${suppressed ? "hatch-suppressed" : ""} ${stale ? "opacity-75" : ""}`}
       // each tile is its own layout and paint island: a live update re-lays-out and repaints one tile
       style={{ contain: "layout paint style" }}

@@ -8,6 +8,7 @@
 import { useEffect, useLayoutEffect, useRef } from "react";
 import type uPlot from "uplot";
 import "uplot/dist/uPlot.min.css";
+import { thinAligned } from "@/lib/client/history";
 
 // Start fetching the chart library as soon as a page with trends loads, not when the first
 // chart mounts (the history request and the chunk then travel together).
@@ -76,6 +77,15 @@ function resolveColor(c: string): string {
  * Record on the host element how many points were drawn and when the frame that shows them
  * starts (performance.now()), for the UI benchmark and tests; costs one attribute write.
  */
+/**
+ * The chart never gets more points than pixel columns: long raw data is thinned to min/max per
+ * column (lib/client/history thinAligned) before uPlot sees it.
+ */
+function chartData(el: HTMLElement, data: uPlot.AlignedData): uPlot.AlignedData {
+  const px = Math.max(200, Math.ceil((el.clientWidth || 600) * Math.min(2, window.devicePixelRatio || 1)));
+  return thinAligned(data as unknown as ArrayLike<number | null>[], px).data as unknown as uPlot.AlignedData;
+}
+
 function markDrawn(el: HTMLElement, data: uPlot.AlignedData): void {
   const n = data[0]?.length ?? 0;
   requestAnimationFrame(() => {
@@ -179,8 +189,9 @@ export function TrendChart(props: TrendChartProps) {
           ],
         },
       };
-      plot.current = new UPlot(opts, p.data, el);
-      markDrawn(el, p.data);
+      const d = chartData(el, p.data);
+      plot.current = new UPlot(opts, d, el);
+      markDrawn(el, d);
       p.onFirstDraw?.(performance.now() - t0);
       ro = new ResizeObserver(() => {
         if (plot.current && el.clientWidth > 0) plot.current.setSize({ width: el.clientWidth, height: latest.current.height ?? 220 });
@@ -198,8 +209,10 @@ export function TrendChart(props: TrendChartProps) {
   useEffect(() => {
     const u = plot.current;
     if (!u) return;
-    u.setData(props.data, true);
-    if (host.current) markDrawn(host.current, props.data);
+    const el = host.current;
+    const d = el ? chartData(el, props.data) : props.data;
+    u.setData(d, true);
+    if (el) markDrawn(el, d);
   }, [props.data, props.levels, props.bands, props.xRange]);
 
   return <div ref={host} role="img" aria-label={props.ariaLabel} className="w-full" data-testid="trend-chart" />;

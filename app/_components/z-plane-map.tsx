@@ -6,7 +6,7 @@
  * ellipse around each pole that carries a covariance; a fading trail of earlier positions; the
  * band between the warning and alarm radii lightly tinted.
  */
-import { memo, useMemo } from "react";
+import { memo, type ReactElement } from "react";
 import { dampingLocus, naturalFrequencyLocus } from "@/lib/control/zplane";
 import type { Complex } from "@/lib/control/types";
 import type { PoleDto } from "@/lib/types";
@@ -32,6 +32,31 @@ export interface ZPlaneMapProps {
   stale?: boolean;
   title?: string;
 }
+
+type Loci = { zeta: { zeta: number; pts: Complex[] }[]; wn: { wnT: number; pts: Complex[] }[] };
+const lociCache = new Map<boolean, Loci>();
+/** The loci depend on `compact` alone: computed once per page, shared by every map. */
+function lociFor(compact: boolean): Loci {
+  let l = lociCache.get(compact);
+  if (!l) {
+    const zetas = compact ? [0.2, 0.5, 0.8] : ZETAS.slice(1);
+    const wnts = compact ? [0.25, 0.5, 0.75] : WNT;
+    l = {
+      zeta: zetas.map((z) => ({ zeta: z, pts: dampingLocus(z, compact ? 24 : 64) })),
+      wn: wnts.map((w) => ({ wnT: w, pts: naturalFrequencyLocus(w * Math.PI, compact ? 12 : 32) })),
+    };
+    lociCache.set(compact, l);
+  }
+  return l;
+}
+
+/**
+ * Background layers (grid, loci, band, circle) by size, compact and rounded levels: one element
+ * built once and reused by every map with the same key (a tile mounting while the wall scrolls
+ * builds no path strings). Bounded; cleared when it grows past the limit.
+ */
+const backgroundCache = new Map<string, ReactElement>();
+const BACKGROUND_CACHE_MAX = 2000;
 
 function polyline(points: Complex[], s: (c: Complex) => [number, number], mirror = false): string {
   let d = "";
@@ -75,14 +100,7 @@ function ZPlaneMapInner({
   const k = half / R;
   const s = (c: Complex): [number, number] => [half + c.re * k, half - c.im * k];
 
-  const loci = useMemo(() => {
-    const zetas = compact ? [0.2, 0.5, 0.8] : ZETAS.slice(1);
-    const wnts = compact ? [0.25, 0.5, 0.75] : WNT;
-    return {
-      zeta: zetas.map((z) => ({ zeta: z, pts: dampingLocus(z, compact ? 24 : 64) })),
-      wn: wnts.map((w) => ({ wnT: w, pts: naturalFrequencyLocus(w * Math.PI, compact ? 12 : 32) })),
-    };
-  }, [compact]);
+  const loci = lociFor(compact);
 
   const poleInk = stale ? "var(--rg-suppressed)" : "var(--rg-ink)";
   const arm = compact ? 3.5 : 6;
@@ -95,8 +113,10 @@ function ZPlaneMapInner({
   // Levels rounded to 1/500 (under a pixel on a tile): small moves of the dominant angle do not redraw the grid.
   const wr = warnRadius == null ? null : Math.round(warnRadius * 500) / 500;
   const ar = alarmRadius == null ? null : Math.round(alarmRadius * 500) / 500;
-  const background = useMemo(
-    () => (
+  const bgKey = `${size}|${compact ? 1 : 0}|${wr}|${ar}`;
+  let background = backgroundCache.get(bgKey);
+  if (!background) {
+    background = (
       <>
         {/* warning -> alarm band, just inside the circle */}
         {wr != null && ar != null && ar > wr && (
@@ -176,11 +196,10 @@ function ZPlaneMapInner({
           strokeWidth={compact ? 1.4 : 2}
         />
       </>
-    ),
-    // half, k and s are functions of size alone
-    // eslint-disable-next-line react-hooks/exhaustive-deps
-    [loci, size, compact, wr, ar],
-  );
+    );
+    if (backgroundCache.size >= BACKGROUND_CACHE_MAX) backgroundCache.clear();
+    backgroundCache.set(bgKey, background);
+  }
   // Two stacked SVGs: the static grid on its own layer (painted once, kept as a bitmap), the
   // poles on top (the only part a live update repaints).
   return (

@@ -137,3 +137,65 @@ export function thinMinMax(t: Float64Array, y: Float64Array, width: number): { t
   }
   return { t: outT.subarray(0, k), y: outY.subarray(0, k) };
 }
+
+type Column = ArrayLike<number | null | undefined>;
+
+/**
+ * Thin aligned chart data (x in the first column) to about `columns` time columns before it
+ * reaches the chart: each column keeps its first and last x, and every series keeps its min and
+ * max in the order they occurred, so peaks and steps survive and a line looks as drawn from all
+ * points. Columns are by time, so lone points far off (a forecast) keep their own column. Data
+ * with fewer than 4 points per column is returned as it is.
+ */
+export function thinAligned(data: readonly Column[], columns: number): { data: Column[]; thinned: boolean } {
+  const x = data[0];
+  const n = x?.length ?? 0;
+  if (!x || n <= 4 * columns || columns < 1) return { data: data as Column[], thinned: false };
+  const x0 = x[0] as number;
+  const span = (x[n - 1] as number) - x0 || 1;
+  const ns = data.length - 1;
+  const outX = new Float64Array(2 * columns + 64);
+  let cap = outX.length;
+  let ox: Float64Array = outX;
+  const outY: (number | null)[][] = Array.from({ length: ns }, () => []);
+  let k = 0;
+  const push = (i: number) => {
+    if (k >= cap) {
+      const g = new Float64Array(cap * 2);
+      g.set(ox);
+      ox = g;
+      cap = g.length;
+    }
+    ox[k++] = x[i] as number;
+  };
+  let s = 0;
+  while (s < n) {
+    const col = Math.floor((((x[s] as number) - x0) / span) * columns);
+    let e = s + 1;
+    while (e < n && Math.floor((((x[e] as number) - x0) / span) * columns) === col) e++;
+    if (e - s === 1) {
+      push(s);
+      for (let j = 0; j < ns; j++) outY[j]!.push((data[j + 1]![s] as number | null | undefined) ?? null);
+    } else {
+      push(s);
+      push(e - 1);
+      for (let j = 0; j < ns; j++) {
+        const y = data[j + 1]!;
+        let iMin = -1;
+        let iMax = -1;
+        for (let i = s; i < e; i++) {
+          const v = y[i];
+          if (v == null || !Number.isFinite(v)) continue;
+          if (iMin < 0 || v < (y[iMin] as number)) iMin = i;
+          if (iMax < 0 || v > (y[iMax] as number)) iMax = i;
+        }
+        const out = outY[j]!;
+        if (iMin < 0) out.push(null, null);
+        else if (iMin <= iMax) out.push(y[iMin] as number, y[iMax] as number);
+        else out.push(y[iMax] as number, y[iMin] as number);
+      }
+    }
+    s = e;
+  }
+  return { data: [ox.subarray(0, k), ...outY], thinned: true };
+}

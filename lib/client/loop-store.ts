@@ -25,6 +25,8 @@ export class LoopStore {
   private scheduled = false;
   private snapshot: LoopSummary[] = [];
   version = 0;
+  /** Bumped when the set of loops or any loop's alarms change (not on live states): the wall re-sorts at once then. */
+  structureVersion = 0;
 
   constructor(private readonly schedule: (cb: () => void) => void = defaultSchedule) {}
 
@@ -39,6 +41,7 @@ export class LoopStore {
       if (state && !this.sparks.has(l.id)) this.pushSpark(l.id, state);
     }
     this.loops = next;
+    this.structureVersion++;
     this.emit();
   }
 
@@ -74,6 +77,7 @@ export class LoopStore {
     const l = this.loops.get(loopId);
     if (!l) return;
     this.loops.set(loopId, { ...l, alarms });
+    this.structureVersion++;
     this.emit();
   }
 

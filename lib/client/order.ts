@@ -52,6 +52,42 @@ export function sortWorstFirst(loops: LoopSummary[], decayAlarm = DEFAULT_DECAY_
 }
 
 /**
+ * Worst-first order that does not jitter: alarm priority first (exact), then the margin to the
+ * alarm level in steps of `quantum`, and loops in the same step keep their previous relative
+ * position (`prevRank`, loop id -> index of the last order), tag last. A loop moves only when
+ * its margin crosses a step or its alarms change, so a wall refreshed every second does not
+ * reshuffle on noise. Keys are computed once per loop (no priority/margin work inside the sort).
+ */
+export function stableWorstFirst(
+  loops: LoopSummary[],
+  prevRank: ReadonlyMap<number, number> | null,
+  decayAlarm = DEFAULT_DECAY_ALARM,
+  quantum = 0.02,
+): LoopSummary[] {
+  const n = loops.length;
+  const pr = new Float64Array(n);
+  const mq = new Float64Array(n);
+  const rk = new Float64Array(n);
+  const idx = new Array<number>(n);
+  for (let i = 0; i < n; i++) {
+    const l = loops[i]!;
+    const p = worstPriority(l);
+    pr[i] = p === null ? 3 : PRIORITY_RANK[p];
+    const m = marginToAlarm(l.state, decayAlarm);
+    mq[i] = Number.isFinite(m) ? Math.floor(m / quantum) : Number.POSITIVE_INFINITY;
+    rk[i] = prevRank?.get(l.id) ?? Number.POSITIVE_INFINITY;
+    idx[i] = i;
+  }
+  idx.sort((a, b) => {
+    if (pr[a] !== pr[b]) return pr[a]! - pr[b]!;
+    if (mq[a] !== mq[b]) return mq[a]! < mq[b]! ? -1 : 1;
+    if (rk[a] !== rk[b]) return rk[a]! < rk[b]! ? -1 : 1;
+    return loops[a]!.tag.localeCompare(loops[b]!.tag);
+  });
+  return idx.map((i) => loops[i]!);
+}
+
+/**
  * Radius that corresponds to a decay-ratio level for a mode at angle theta (rad/sample):
  * DR = r^(2π/|θ|)  =>  r = DR^(|θ|/2π). For a real mode (θ = 0) there is no decay ratio and
  * the function returns null.
