@@ -167,7 +167,7 @@ describe("truth: simulated plants through the broker into the trackers", () => {
       const poles = eigenvalues(sim.closedLoopStateMatrix(sim.gainFactor(t), 0));
       let osc: Complex | null = null;
       for (const z of poles) if (z.im > 0 && (!osc || Math.hypot(z.re, z.im) > Math.hypot(osc.re, osc.im))) osc = z;
-      return osc ? decayRatio(osc) : 0;
+      return (osc ? decayRatio(osc) : null) ?? 0;
     };
     const rows: { t: number; est: number; tru: number }[] = [];
     for (let t = 900; t <= 3600; t += 300) {

@@ -66,7 +66,7 @@ beforeAll(async () => {
         err = Math.hypot(Math.log(mod(md)) / T - sT.re, Math.abs(Math.atan2(md.im, md.re)) / T - sT.im) / Math.hypot(sT.re, sT.im);
       }
       const list = checks.get(tag) ?? [];
-      list.push({ t, state: st, err, trueDecay: osc ? decayRatio(osc) : 0, trackingS: trackedS.get(tag) ?? 0 });
+      list.push({ t, state: st, err, trueDecay: (osc ? decayRatio(osc) : null) ?? 0, trackingS: trackedS.get(tag) ?? 0 });
       checks.set(tag, list);
     }
   });
