@@ -12,9 +12,12 @@
  *           watches W loops.
  *
  * Reported: offered and delivered samples/s, loss, p50/p99 latency on `loop:samples` from the
- * publish (the simulator runs with --stamp publish: a sample's t is the moment its MQTT message
- * is handed to the client library) to the client's receipt, CPU and RSS per process, and the
- * pipeline-to-bare ratios (delivered rate, server CPU per sample). The Socket.IO handshake here sets the tenant directly (the session
+ * publish to the client's receipt, timed on the last sample of each MQTT message (the simulator
+ * stamps samples with their simulated instants, --stamp simulated, so trackers and history see the
+ * real time axis; the last sample of a full batch is published in the tick that produced it; an
+ * earlier variant restamped every sample at the publish, which squeezed a batch into a few ms
+ * and understated the tracker and history work), CPU and RSS per process, event-loop delay, and
+ * the pipeline-to-bare ratios (delivered rate, server CPU per sample). The Socket.IO handshake here sets the tenant directly (the session
  * cookie check of the real server is not what is measured).
  *
  * Flags: --loops N (default 5000) --hz R (10) --batch B (10) --seconds D (20) --warmup S (5; latency
@@ -78,8 +81,10 @@ function watchChild(child: ChildProcess): { last: () => { cpuS: number; peakRss:
 // ---------------------------------------------------------------- client process
 async function clientMain(): Promise<void> {
   const { io } = await import("socket.io-client");
-  const [url, watchArg, loopsArg, withStates, warmupArg] = process.argv.slice(process.argv.indexOf("--client") + 1);
+  const [url, watchArg, loopsArg, withStates, warmupArg, batchArg] = process.argv.slice(process.argv.indexOf("--client") + 1);
   const warmupMs = Number(warmupArg ?? 0) * 1000;
+  const batchSize = Number(batchArg ?? 1);
+  const seen = new Map<number, number>();
   const watch = Number(watchArg);
   const loops = Number(loopsArg);
   const socket = io(url!, { transports: ["websocket"], reconnection: false });
@@ -90,11 +95,20 @@ async function clientMain(): Promise<void> {
   let states = 0;
   socket.on("loop:samples", (batch: { loopId: number; samples: { t: number }[] }) => {
     const now = Date.now();
+    // Only the last sample of each MQTT message is timed: its stamp is its production time, at
+    // most one simulator tick before the publish. Lane i (loop id i + 1) sends 1 + (i mod batch)
+    // samples first, then full batches (simulators/runner.ts), so with no loss (checked below) the
+    // last of a message is sample number first, first + batch, first + 2 batch, ... of its loop.
+    const first = 1 + ((batch.loopId - 1) % batchSize);
+    let n = seen.get(batch.loopId) ?? 0;
     for (const s of batch.samples) {
+      n++;
+      if (n !== first && !(n > first && (n - first) % batchSize === 0)) continue;
       if (firstT === 0) firstT = s.t;
       lat.push(now - s.t);
       if (s.t >= firstT + warmupMs) steady.push(now - s.t);
     }
+    seen.set(batch.loopId, n);
     perLoop.set(batch.loopId, (perLoop.get(batch.loopId) ?? 0) + batch.samples.length);
   });
   socket.on("loop:state", (batch: unknown[]) => {
@@ -116,7 +130,7 @@ async function clientMain(): Promise<void> {
     const mem = process.memoryUsage().rss;
     const cpu = process.cpuUsage();
     process.stdout.write(
-      `RESULT ${JSON.stringify({ received: lat.length, perLoop: Object.fromEntries(perLoop), p50: quantile(lat, 0.5), p99: quantile(lat, 0.99), max: lat.at(-1) ?? null, steadyN: steady.length, steadyP50: quantile(steady, 0.5), steadyP99: quantile(steady, 0.99), steadyMax: steady.at(-1) ?? null, states, cpuS: (cpu.user + cpu.system) / 1e6, rss: mem })}\n`,
+      `RESULT ${JSON.stringify({ received: [...seen.values()].reduce((a, b) => a + b, 0), timed: lat.length, perLoop: Object.fromEntries(perLoop), p50: quantile(lat, 0.5), p99: quantile(lat, 0.99), max: lat.at(-1) ?? null, steadyN: steady.length, steadyP50: quantile(steady, 0.5), steadyP99: quantile(steady, 0.99), steadyMax: steady.at(-1) ?? null, states, cpuS: (cpu.user + cpu.system) / 1e6, rss: mem })}\n`,
     );
     socket.close();
     process.exit(0);
@@ -139,7 +153,7 @@ interface SimRun {
 /**
  * Longest a sample may wait in a partial batch: long enough for a full batch at the loop's rate
  * (otherwise the runner's default 250 ms would cut "batch 10 at 10 Hz" to about 3 per message).
- * With --stamp publish the wait is not part of the measured latency.
+ * Only the last sample of each message is timed, so the wait is not part of the measured latency.
  */
 function batchDelayMs(opts: { hz: number; batch: number }): number {
   return Math.max(250, Math.ceil((opts.batch * 1000) / opts.hz) + 100);
@@ -166,7 +180,7 @@ function runSimulator(port: number, scenarioFile: string, opts: { loops: number;
       "--tick-ms",
       "20",
       "--stamp",
-      "publish",
+      "simulated",
     ],
     {
       cwd: root,
@@ -449,7 +463,7 @@ async function pipeline(scenarioFile: string, opts: { loops: number; hz: number;
   const unwatch = installWatch(io, { loopTenant: (id) => (id >= 1 && id <= opts.loops ? 1 : null) });
   const tick = registry.startTimer(1000);
 
-  const client = spawn(process.execPath, ["--import", "tsx", path.join(here, "pipeline.bench.ts"), "--client", `http://127.0.0.1:${httpPort}`, String(opts.watch), String(opts.loops), opts.withStates ? "1" : "0", String(opts.warmup)], {
+  const client = spawn(process.execPath, ["--import", "tsx", path.join(here, "pipeline.bench.ts"), "--client", `http://127.0.0.1:${httpPort}`, String(opts.watch), String(opts.loops), opts.withStates ? "1" : "0", String(opts.warmup), String(opts.batch)], {
     cwd: root,
     stdio: ["ignore", "pipe", "inherit"],
   });
@@ -478,7 +492,7 @@ async function pipeline(scenarioFile: string, opts: { loops: number; hz: number;
   client.kill("SIGTERM");
   await new Promise<void>((r) => client.once("exit", () => r()));
   const m = /RESULT (.*)/.exec(clientOut);
-  const clientResult = m ? (JSON.parse(m[1]!) as { received: number; perLoop: Record<string, number>; p50: number | null; p99: number | null; max: number | null; steadyN: number; steadyP50: number | null; steadyP99: number | null; steadyMax: number | null; states: number; cpuS: number; rss: number }) : null;
+  const clientResult = m ? (JSON.parse(m[1]!) as { received: number; timed: number; perLoop: Record<string, number>; p50: number | null; p99: number | null; max: number | null; steadyN: number; steadyP50: number | null; steadyP99: number | null; steadyMax: number | null; states: number; cpuS: number; rss: number }) : null;
   let watchedAccepted = 0;
   for (const id of Object.keys(clientResult?.perLoop ?? {})) watchedAccepted += perLoopAccepted.get(Number(id)) ?? 0;
 
@@ -530,7 +544,7 @@ async function main(): Promise<void> {
     const scenario = writeScenario(dir);
     const offered = opts.loops * opts.hz;
     console.log(`pipeline bench: ${opts.loops} loops x ${opts.hz} Hz = ${offered} samples/s offered for ${opts.seconds} s; batch ${opts.batch} samples per MQTT message (partial batches wait up to ${batchDelayMs(opts)} ms); ${os.cpus().length} CPUs, load average ${os.loadavg().map((v) => v.toFixed(2)).join(" ")}`);
-    console.log(`latency: publish (epoch ms stamped by the simulator when it hands the message to MQTT; the last sample of a message carries it, the earlier ones 1 ms apart before it, so their latency reads up to ${opts.batch - 1} ms long, never short) to receipt (Date.now() in the receiving process), same machine and clock; "steady" = samples stamped >= ${opts.warmup} s after the first one (process start-up, broker connection and JIT excluded), "all" = every sample`);
+    console.log(`latency: from the stamp of the last sample of each MQTT message (samples carry the epoch ms of their simulated instant, so the time axis the trackers and history see is real; the last one of a batch is produced at most one simulator tick, 20 ms, plus the simulator's lag before the publish, so the figure is never short of publish-to-receipt) to receipt (Date.now() in the receiving process), same machine and clock; the wait of the earlier samples for their batch to fill is not counted; "steady" = samples stamped >= ${opts.warmup} s after the first one (process start-up, broker connection and JIT excluded), "all" = every sample`);
     const lat = (l: { p50: number | null; p99: number | null; max: number | null; steadyN: number; steadyP50: number | null; steadyP99: number | null; steadyMax: number | null }) =>
       `steady p50 ${l.steadyP50} ms, p99 ${l.steadyP99} ms, max ${l.steadyMax} ms (n ${l.steadyN}); all p50 ${l.p50} ms, p99 ${l.p99} ms, max ${l.max} ms`;
     const perMsg = (r: SimRun) => (r.messages > 0 ? (r.sent / r.messages).toFixed(1) : "n/a");
@@ -553,7 +567,7 @@ async function main(): Promise<void> {
     console.log(`  server process cpu ${p.serverCpuS.toFixed(1)} s over ~${(opts.seconds + 2.5).toFixed(0)} s (${((100 * p.serverCpuS) / (opts.seconds + 2.5)).toFixed(0)} % of one core), rss ${(p.serverRss / 2 ** 20).toFixed(0)} MiB, ${p.loopDelay}`);
     if (p.client) {
       console.log(
-        `  client (${opts.watch} watched loops): received ${p.client.received} of ${p.watchedAccepted} accepted for them (${p.watchedAccepted - p.client.received} missing); loop:samples publish-to-client latency (every sample) ${lat(p.client)}; loop:state summaries ${p.client.states}; cpu ${p.client.cpuS.toFixed(1)} s, rss ${(p.client.rss / 2 ** 20).toFixed(0)} MiB`,
+        `  client (${opts.watch} watched loops): received ${p.client.received} of ${p.watchedAccepted} accepted for them (${p.watchedAccepted - p.client.received} missing); loop:samples publish-to-client latency (last sample of each message, ${p.client.timed} timed) ${lat(p.client)}; loop:state summaries ${p.client.states}; cpu ${p.client.cpuS.toFixed(1)} s, rss ${(p.client.rss / 2 ** 20).toFixed(0)} MiB`,
       );
     } else {
       console.log("  client produced no result");
