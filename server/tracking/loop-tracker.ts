@@ -525,6 +525,7 @@ export class LoopTracker {
     this.plant = this.choosePlant();
     this.implausible = this.plantReady() ? this.plausibility(this.plant) : null;
     if (this.plantReady() && this.implausible === null) {
+      // the current estimate, kept as the last good one (the same objects feed the figures below)
       this.lastGood = { model: this.plant.model(), cov: this.plant.parameterCovariance(), at: this.estimationSamples };
     }
     const now = this.clock.now();
@@ -539,8 +540,7 @@ export class LoopTracker {
     st.dataPolesKind = this.estimationSamples - this.lastSpMove <= memorySamples ? "closed-loop" : "disturbance-response";
     if (this.data.updates >= Math.max(50, 10 * this.dataOrder)) st.dataPoles = this.dataPoles();
     if (this.plantReady()) {
-      if (this.implausible === null) this.modelBased(st, this.plant.model(), this.plant.parameterCovariance());
-      else if (this.lastGood) this.modelBased(st, this.lastGood.model, this.lastGood.cov);
+      if (this.lastGood) this.modelBased(st, this.lastGood.model, this.lastGood.cov);
     }
     if (st.spectralRadius !== null && (kind.state === "tracking" || kind.state === "low-excitation")) {
       const t = sampleT / 1000;
