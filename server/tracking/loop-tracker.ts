@@ -5,10 +5,17 @@
  * controller's %/% gains), clipped to ±10,000 % so hostile-but-valid numbers cannot overflow the
  * estimators, and averaged over `decimation` samples (estimation period Te = decimation x the
  * telemetry period: block averaging is the anti-alias filter). Per estimation sample:
- * 1. plant model MV -> PV: `ArxEstimator` (na, nb, nk from the loop's configuration), updated
- *    only while its excitation gate is open; it keeps learning in manual (operator moves are the
- *    best excitation) and pauses while the MV is pinned at a limit or the PV is flat-lined (no
- *    information, and a frozen PV is false). The operating point is removed by passing u, y and
+ * 1. plant model MV -> PV: `InstrumentalArxEstimator` (lib/control/riv.ts; na, nb, nk from the
+ *    loop's configuration, and a second one with na - 1): closed-loop instrumental variables with
+ *    set-point instruments, then auxiliary-model instruments from the loop's own controller.
+ *    Least squares (RLS/ARX) was biased by PV noise in closed loop (a lightly damped plant read
+ *    as well damped, gains collapsing between set-point moves). It learns only from informative
+ *    samples (a set-point move, or an operator's MV move in manual), so the estimate is held,
+ *    not drifted, while nothing excites it; it pauses while the MV is pinned at a limit or the
+ *    PV is flat-lined. The structure with a pole fewer is reported when the configured one has
+ *    plant poles no sampled process has (the over-parameterised IV fit's extra pole), and an
+ *    estimate that is not physical (such poles, or a process gain of the wrong sign for the
+ *    controller action) is replaced by the last good one, reported as `low-excitation` with its age. The operating point is removed by passing u, y and
  *    the set point alike through the leaky differencer L(q) = (1 - q^-1)/(1 - 0.9 q^-1): a linear
  *    filter applied to input and output leaves the ARX relation intact (prefiltering, Ljung,
  *    *System Identification*, 2nd ed., 1999, sec. 14.1). It removes the level AND slow load
