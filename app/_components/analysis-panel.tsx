@@ -71,7 +71,7 @@ export function AnalysisPanel({ state, now }: { state: LoopStateDto | null; now:
           <Row k="tracker state" v={`${state.trackerState}${state.stateReason ? ` — ${state.stateReason}` : ""}`} />
           <Row k="estimation period" v={fmtSeconds(T)} />
           <Row k="samples seen" v={state.samples.toLocaleString("en-GB")} />
-          <Row k="excitation" v={fmt(state.excitation, 4)} hint="smallest eigenvalue of the recent information matrix" />
+          <Row k="excitation" v={fmt(state.excitation, 4)} hint="conditioning of the identification equations (pivot ratio, 0 to 1): near 0, the data do not excite the plant" />
           <Row k="fit" v={state.fitPercent == null ? "—" : `${fmt(state.fitPercent, 1)} %`} />
           <Row k="data age" v={fmtAge(age)} />
           <Row k="data-only poles" v={state.dataPolesKind === "closed-loop" ? "closed loop (SP moves seen)" : "disturbance response (constant SP)"} />
