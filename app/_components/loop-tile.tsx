@@ -5,8 +5,8 @@
  * Fixed height so the wall can virtualise; memoised on the summary object (the store replaces
  * it only when the loop changes).
  */
-import Link from "next/link";
-import { memo } from "react";
+import { useRouter } from "next/navigation";
+import { memo, useSyncExternalStore, type MouseEvent } from "react";
 import type { LoopSummary, PoleDto } from "@/lib/types";
 import { DEFAULT_POLICY } from "@/lib/alarms/policy";
 import { dataAge, radiusForDecayRatio } from "@/lib/client/order";
@@ -34,9 +34,44 @@ export function gaugeLevels(poles: PoleDto[], levels = DEFAULT_POLICY.decayRatio
   return { warn: radiusForDecayRatio(levels.low, theta), alarm: radiusForDecayRatio(levels.high, theta) };
 }
 
+/**
+ * One shared 1 s clock for the tiles' data-age text: only that text re-renders every second,
+ * not the whole tile (a tile re-renders when its loop changes or its stale flag flips).
+ */
+const clockListeners = new Set<() => void>();
+let clockNow = Date.now();
+let clockTimer: ReturnType<typeof setInterval> | null = null;
+function subscribeClock(fn: () => void): () => void {
+  clockListeners.add(fn);
+  if (!clockTimer)
+    clockTimer = setInterval(() => {
+      clockNow = Date.now();
+      for (const l of clockListeners) l();
+    }, 1000);
+  return () => {
+    clockListeners.delete(fn);
+    if (clockListeners.size === 0 && clockTimer) {
+      clearInterval(clockTimer);
+      clockTimer = null;
+    }
+  };
+}
+const clockSnapshot = () => clockNow;
+
+function TileAge({ state, now }: { state: LoopSummary["state"]; now: number }) {
+  const tick = useSyncExternalStore(subscribeClock, clockSnapshot, () => now);
+  const { ageS, stale } = dataAge(state, Math.max(now, tick));
+  return (
+    <>
+      {stale ? <strong>stale · </strong> : null}
+      {fmtAge(ageS)}
+    </>
+  );
+}
+
 function LoopTileInner({ loop, spark, now, big = false, levels: dr = DEFAULT_POLICY.decayRatio }: { loop: LoopSummary; spark?: Spark; now: number; big?: boolean; levels?: { low: number; high: number } }) {
   const st = loop.state;
-  const { ageS, stale } = dataAge(st, now);
+  const { stale } = dataAge(st, now);
   const levels = st ? gaugeLevels(st.modelPoles.length ? st.modelPoles : st.dataPoles, dr) : { warn: null, alarm: null };
   const radii = spark ? sparkValues(spark, "radius") : [];
   const decays = spark ? sparkValues(spark, "decay") : [];
@@ -51,12 +86,18 @@ function LoopTileInner({ loop, spark, now, big = false, levels: dr = DEFAULT_POL
           ? "border-high"
           : "border-low"
       : "border-line";
+  const router = useRouter();
+  // A plain link (no per-tile prefetch or viewport observer); a plain left click navigates in the app.
+  const go = (e: MouseEvent<HTMLAnchorElement>) => {
+    if (e.defaultPrevented || e.button !== 0 || e.metaKey || e.ctrlKey || e.shiftKey || e.altKey) return;
+    e.preventDefault();
+    router.push(`/loops/${loop.id}`);
+  };
   const suppressed = active.length > 0 && active.every((a) => a.state === "out-of-service" || a.state === "suppressed-by-design" || a.state === "shelved");
   return (
-    <Link
+    <a
       href={`/loops/${loop.id}`}
-      // no viewport prefetch: scrolling a wall of 2,000 tiles must not fetch a route per tile
-      prefetch={false}
+      onClick={go}
       className={`flex h-full flex-col gap-1 overflow-hidden rounded-md border-2 ${border} bg-surface p-2 no-underline hover:bg-raised focus-visible:bg-raised ${suppressed ? "hatch-suppressed" : ""} ${stale ? "opacity-75" : ""}`}
       // each tile is its own layout and paint island: a live update re-lays-out and repaints one tile
       style={{ contain: "layout paint style" }}
@@ -96,8 +137,7 @@ function LoopTileInner({ loop, spark, now, big = false, levels: dr = DEFAULT_POL
               ))}
           </div>
           <div className={`num text-xs ${stale ? "text-suppressed" : "text-muted"}`} data-testid="tile-age">
-            {stale ? <strong>stale · </strong> : null}
-            {fmtAge(ageS)}
+            <TileAge state={st} now={now} />
           </div>
         </div>
         {st && (
@@ -114,9 +154,15 @@ function LoopTileInner({ loop, spark, now, big = false, levels: dr = DEFAULT_POL
           />
         )}
       </div>
-    </Link>
+    </a>
   );
 }
 
-/** Re-renders when the loop object is replaced (the store does so on every update) or the second ticks. */
-export const LoopTile = memo(LoopTileInner);
+type TileProps = Parameters<typeof LoopTileInner>[0];
+/**
+ * Re-renders when the loop object is replaced (the store does so on every update), the levels
+ * or size change, or the data turn stale or fresh; a new second alone only moves the age text.
+ */
+export const LoopTile = memo(LoopTileInner, (a: TileProps, b: TileProps) =>
+  a.loop === b.loop && a.spark === b.spark && a.big === b.big && a.levels === b.levels && (a.now === b.now || dataAge(a.loop.state, a.now).stale === dataAge(b.loop.state, b.now).stale),
+);

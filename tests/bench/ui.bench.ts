@@ -120,6 +120,69 @@ function report(label: string, r: { frames: number[]; longTasks: number[] }): { 
   return { p95 };
 }
 
+/**
+ * BENCH_PROFILE=1: a CPU profile of the page (Chrome DevTools Protocol `Profiler`) around one
+ * phase, printed as the functions with the most self time (where the frame time goes).
+ */
+async function profile(page: Page, label: string, run: () => Promise<unknown>): Promise<void> {
+  const cdp = await page.context().newCDPSession(page);
+  await cdp.send("Profiler.enable");
+  await cdp.send("Profiler.setSamplingInterval", { interval: 200 });
+  await cdp.send("Profiler.start");
+  await run();
+  const { profile: prof } = (await cdp.send("Profiler.stop")) as {
+    profile: { nodes: { id: number; callFrame: { functionName: string; url: string; lineNumber: number; columnNumber: number } }[]; samples: number[]; timeDeltas: number[] };
+  };
+  const byId = new Map(prof.nodes.map((n) => [n.id, n]));
+  const self = new Map<string, number>();
+  let total = 0;
+  prof.samples.forEach((id, i) => {
+    const n = byId.get(id);
+    const dt = prof.timeDeltas[i] ?? 0;
+    total += dt;
+    if (!n) return;
+    const cf = n.callFrame;
+    const key = `${cf.functionName || "(anonymous)"} ${cf.url.split("/").pop() ?? ""}:${cf.lineNumber + 1}:${cf.columnNumber + 1}`;
+    self.set(key, (self.get(key) ?? 0) + dt);
+  });
+  console.log(`profile, ${label}: ${(total / 1000).toFixed(0)} ms sampled; most self time:`);
+  for (const [k, us] of [...self.entries()].sort((a, b) => b[1] - a[1]).slice(0, 25)) console.log(`  ${(us / 1000).toFixed(0).padStart(6)} ms  ${k}`);
+  await cdp.send("Profiler.disable");
+  await cdp.detach();
+}
+
+/**
+ * BENCH_PROFILE=trace: a Chromium performance trace (CDP `Tracing`, devtools.timeline) around one
+ * phase, printed as total time per renderer main-thread event (style, layout, paint, script...).
+ */
+async function trace(page: Page, label: string, run: () => Promise<unknown>): Promise<void> {
+  const cdp = await page.context().newCDPSession(page);
+  const events: { name: string; ph: string; dur?: number; tid: number; pid: number; args?: { name?: string } }[] = [];
+  cdp.on("Tracing.dataCollected", (e) => {
+    for (const x of e.value as unknown as typeof events) events.push(x);
+  });
+  const done = new Promise<void>((r) => cdp.once("Tracing.tracingComplete", () => r()));
+  await cdp.send("Tracing.start", { categories: "devtools.timeline,disabled-by-default-devtools.timeline", transferMode: "ReportEvents" });
+  await run();
+  await cdp.send("Tracing.end");
+  await done;
+  // the renderer main thread: the thread that ran most top-level RunTask... take the one with most Layout events
+  const layoutsBy = new Map<string, number>();
+  for (const e of events) if (e.name === "Layout" || e.name === "UpdateLayoutTree") layoutsBy.set(`${e.pid}:${e.tid}`, (layoutsBy.get(`${e.pid}:${e.tid}`) ?? 0) + 1);
+  const main = [...layoutsBy.entries()].sort((a, b) => b[1] - a[1])[0]?.[0];
+  const tot = new Map<string, { n: number; us: number }>();
+  for (const e of events) {
+    if (`${e.pid}:${e.tid}` !== main || e.ph !== "X" || e.dur === undefined) continue;
+    const t = tot.get(e.name) ?? { n: 0, us: 0 };
+    t.n++;
+    t.us += e.dur;
+    tot.set(e.name, t);
+  }
+  console.log(`trace, ${label}: main-thread events by total duration (nested events counted in their parents too)`);
+  for (const [k, v] of [...tot.entries()].sort((a, b) => b[1].us - a[1].us).slice(0, 22)) console.log(`  ${(v.us / 1000).toFixed(0).padStart(6)} ms  ${String(v.n).padStart(5)}x  ${k}`);
+  await cdp.detach();
+}
+
 async function main(): Promise<void> {
   const t0 = performance.now();
   // A throw-away MariaDB like the test suite's global setup (never .data/), removed at the end.
@@ -186,6 +249,8 @@ async function main(): Promise<void> {
     const rendered = await page.getByTestId("loop-tile").count();
     console.log(`control room: ${N_LOOPS} loops, ${rendered} tiles in the DOM (the rest virtualised)`);
 
+    if (process.env.BENCH_PROFILE === "trace") await trace(page, "idle scrolling", () => recordFrames(page, 5000, true));
+    else if (process.env.BENCH_PROFILE) await profile(page, "idle scrolling", () => recordFrames(page, 5000, true));
     const idle = report("idle (no updates), scrolling", await recordFrames(page, 8000, true));
     // idOffset > 0 sends the same payload for loops the page does not know: transport and JSON
     // decoding only, no render (separates the two costs).
@@ -205,6 +270,8 @@ async function main(): Promise<void> {
     clearInterval(timer);
     timer = setInterval(emitter(0), UPDATE_MS);
     await page.waitForTimeout(1500);
+    if (process.env.BENCH_PROFILE === "trace") await trace(page, "2 Hz, scrolling", () => recordFrames(page, 5000, true));
+    else if (process.env.BENCH_PROFILE) await profile(page, "2 Hz, scrolling", () => recordFrames(page, 5000, true));
     const live = report("2,000 loops at 2 Hz, scrolling", await recordFrames(page, 15000, true));
     const still = report("2,000 loops at 2 Hz, not scrolling", await recordFrames(page, 8000, false));
     clearInterval(timer);
