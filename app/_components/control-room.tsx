@@ -108,7 +108,7 @@ function TileGrid({ loops, store, now, levels }: { loops: LoopSummary[]; store: 
   }, []);
   const cols = Math.max(1, Math.floor((width + GAP) / (TILE_MIN_WIDTH + GAP)));
   const rows = Math.ceil(loops.length / cols);
-  const v = useWindowVirtualizer({ count: rows, estimateSize: () => TILE_HEIGHT + GAP, overscan: 2, scrollMargin: offset });
+  const v = useWindowVirtualizer({ count: rows, estimateSize: () => TILE_HEIGHT + GAP, overscan: 2, scrollMargin: offset, useFlushSync: false });
   const nowS = Math.floor(now / 1000) * 1000;
   // One flat layer of tiles keyed by loop id, each placed by its own transform: a loop that
   // moves in the order (or a row that scrolls) keeps its mounted tile, only the position changes.

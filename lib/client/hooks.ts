@@ -3,7 +3,7 @@
  * Data hooks of the console: SWR for what the REST API answers, merged with Socket.IO updates.
  * Every socket listener is removed in its effect's cleanup.
  */
-import { useEffect, useMemo, useRef, useState, useSyncExternalStore } from "react";
+import { startTransition, useEffect, useMemo, useRef, useState, useSyncExternalStore } from "react";
 import useSWR from "swr";
 import { DEFAULT_POLICY } from "@/lib/alarms/policy";
 import type { AlarmDto, LoopSummary, SampleDto } from "@/lib/types";
@@ -52,7 +52,15 @@ export function useLoops(): { loops: LoopSummary[]; store: LoopStore; error: Err
       s.off("alarm:changed", onAlarm);
     };
   }, [store]);
-  const loops = useSyncExternalStore(store.subscribe, store.getSnapshot, store.getSnapshot);
+  // Live batches re-render in a transition: React renders the tiles in slices between frames and
+  // a scroll or a click is never stuck behind a batch (useSyncExternalStore would render each
+  // batch in one synchronous task).
+  const [loops, setLoops] = useState(store.getSnapshot);
+  useEffect(() => {
+    const on = () => startTransition(() => setLoops(store.getSnapshot()));
+    on();
+    return store.subscribe(on);
+  }, [store]);
   return { loops, store, error: error as Error | undefined, isLoading, connected };
 }
 
