@@ -10,7 +10,7 @@ import { type ReactElement, useDeferredValue, useLayoutEffect, useMemo, useRef, 
 import type { AlarmDto, Role } from "@/lib/types";
 import { roleAtLeast } from "@/lib/types";
 import { useAlarms, useDecayLevels, useLoops, useNow } from "@/lib/client/hooks";
-import { ATTENTION_STATES, stableWorstFirst } from "@/lib/client/order";
+import { ATTENTION_STATES, WorstFirstOrder } from "@/lib/client/order";
 import type { LoopSummary } from "@/lib/types";
 import { CONDITION_WORDS, fmtClock } from "@/lib/client/format";
 import { AlarmActions } from "./alarm-actions";
@@ -28,17 +28,13 @@ export function ControlRoom({ role }: { role: Role }) {
   // Worst-first order recomputed once a second (and at once when loops or alarms change), not
   // on every live batch; within a margin step loops keep their places (no reshuffle on noise).
   // Tiles read the loop's current summary from the store, so values stay live between sorts.
-  const rank = useRef<Map<number, number> | null>(null);
-  const loops = useMemo(() => {
-    const sorted = stableWorstFirst(raw, rank.current, levels.high);
-    const m = new Map<number, number>();
-    sorted.forEach((l, i) => m.set(l.id, i));
-    rank.current = m;
-    return sorted;
-    // raw is read at the moment of the tick; a new batch alone does not re-sort
-    // eslint-disable-next-line react-hooks/exhaustive-deps
-  }, [Math.floor(now / 1000), store.structureVersion, raw.length, levels.high]);
-  const areas = useMemo(() => summariseAreas(raw, now), [now, store.structureVersion, raw.length]); // eslint-disable-line react-hooks/exhaustive-deps
+  const [order] = useState(() => new WorstFirstOrder());
+  const tick = Math.floor(now / 1000);
+  const structure = store.structureVersion;
+  const count = raw.length;
+  // raw is read at the moment of the tick; a new batch alone does not re-sort
+  const loops = useMemo(() => order.sort(raw, levels.high), [order, tick, structure, count, levels.high]); // eslint-disable-line react-hooks/exhaustive-deps
+  const areas = useMemo(() => summariseAreas(raw, now), [now, structure, count]); // eslint-disable-line react-hooks/exhaustive-deps
   const [filter, setFilter] = useState("");
   const deferred = useDeferredValue(filter);
   const shown = useMemo(() => {

@@ -5,7 +5,7 @@
  * loop's alarms with their events.
  */
 import Link from "next/link";
-import { useEffect, useMemo, useRef, useState } from "react";
+import { useEffect, useMemo, useState } from "react";
 import useSWR from "swr";
 import type uPlot from "uplot";
 import type { LoopSummary, Role } from "@/lib/types";
@@ -266,12 +266,8 @@ export function LoopDetail({ loopId, role, initialRange = "1h" }: { loopId: numb
 }
 
 function useWidth(): number {
-  const [w, setW] = useState(1000);
-  const ref = useRef(false);
-  useEffect(() => {
-    if (ref.current) return;
-    ref.current = true;
-    setW(Math.round(window.innerWidth * 0.6));
-  }, []);
+  // Known on the first client render (the page shows "Loading loop…" until then), so the
+  // history is asked for once, not first for a guessed width and again for the real one.
+  const [w] = useState(() => (typeof window === "undefined" ? 1000 : Math.round(window.innerWidth * 0.6)));
   return w;
 }

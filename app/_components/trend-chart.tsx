@@ -86,6 +86,10 @@ function chartData(el: HTMLElement, data: uPlot.AlignedData): uPlot.AlignedData 
   return thinAligned(data as unknown as ArrayLike<number | null>[], px).data as unknown as uPlot.AlignedData;
 }
 
+function extraKey(p: TrendChartProps): string {
+  return JSON.stringify([p.levels ?? null, p.bands ?? null, p.xRange ?? null, p.scales]);
+}
+
 function markDrawn(el: HTMLElement, data: uPlot.AlignedData): void {
   const n = data[0]?.length ?? 0;
   requestAnimationFrame(() => {
@@ -101,7 +105,11 @@ export function TrendChart(props: TrendChartProps) {
   useLayoutEffect(() => {
     latest.current = props;
   });
-  const layoutKey = JSON.stringify([props.series, props.axes, props.scales, props.height, props.syncKey]);
+  // The chart is rebuilt only when its layout changes; scale ranges are read through `latest`
+  // on every draw, so a new range (e.g. the radius axis once the history arrives) is a redraw.
+  const layoutKey = JSON.stringify([props.series, props.axes, Object.keys(props.scales), props.height, props.syncKey]);
+  // What was last handed to the chart: column references and the small props drawn by hooks.
+  const fed = useRef<{ cols: readonly unknown[]; extra: string } | null>(null);
 
   useEffect(() => {
     let disposed = false;
@@ -191,6 +199,7 @@ export function TrendChart(props: TrendChartProps) {
       };
       const d = chartData(el, p.data);
       plot.current = new UPlot(opts, d, el);
+      fed.current = { cols: [...p.data], extra: extraKey(p) };
       markDrawn(el, d);
       p.onFirstDraw?.(performance.now() - t0);
       ro = new ResizeObserver(() => {
@@ -209,11 +218,17 @@ export function TrendChart(props: TrendChartProps) {
   useEffect(() => {
     const u = plot.current;
     if (!u) return;
+    // The page re-renders every second and on every live state with new wrapper arrays: feed
+    // the chart (thin and redraw) only when a column or what the hooks draw really changed.
+    const extra = extraKey(props);
+    const last = fed.current;
+    if (last && last.extra === extra && last.cols.length === props.data.length && props.data.every((c, i) => c === last.cols[i])) return;
+    fed.current = { cols: [...props.data], extra };
     const el = host.current;
     const d = el ? chartData(el, props.data) : props.data;
     u.setData(d, true);
     if (el) markDrawn(el, d);
-  }, [props.data, props.levels, props.bands, props.xRange]);
+  });
 
   return <div ref={host} role="img" aria-label={props.ariaLabel} className="w-full" data-testid="trend-chart" />;
 }

@@ -111,3 +111,16 @@ export function dataAge(state: LoopStateDto | null, now: number): { ageS: number
   const staleAfterS = Math.max(15, 5 * state.estimationPeriodS);
   return { ageS, stale: ageS > staleAfterS || state.trackerState === "stale" };
 }
+
+/** Holds the last order's places so each re-sort keeps loops of equal margin step where they were. */
+export class WorstFirstOrder {
+  private rank: Map<number, number> | null = null;
+
+  sort(loops: LoopSummary[], decayAlarm = DEFAULT_DECAY_ALARM): LoopSummary[] {
+    const sorted = stableWorstFirst(loops, this.rank, decayAlarm);
+    const m = new Map<number, number>();
+    sorted.forEach((l, i) => m.set(l.id, i));
+    this.rank = m;
+    return sorted;
+  }
+}
