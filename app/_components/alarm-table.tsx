@@ -24,6 +24,7 @@ import { ATTENTION_STATES } from "@/lib/client/order";
 import { AlarmActions } from "./alarm-actions";
 import { AlarmEvents } from "./loop-alarms";
 import { PriorityMark } from "./priority-mark";
+import { SortableHead } from "./sortable-head";
 
 const col = createColumnHelper<AlarmDto>();
 const PRIORITY_ORDER = { urgent: 0, high: 1, low: 2 } as const;
@@ -166,24 +167,7 @@ export function AlarmTable({ role }: { role: Role }) {
       {error && <p role="alert" className="text-urgent">Could not load alarms: {error.message}</p>}
       <div className="overflow-x-auto rounded-md border border-line bg-surface">
         <table className="w-full text-sm" data-testid="alarm-table">
-          <thead>
-            {table.getHeaderGroups().map((hg) => (
-              <tr key={hg.id} className="border-b border-line text-left">
-                {hg.headers.map((h) => (
-                  <th key={h.id} className="px-2 py-1.5 font-semibold" aria-sort={h.column.getIsSorted() === "asc" ? "ascending" : h.column.getIsSorted() === "desc" ? "descending" : undefined}>
-                    {h.column.getCanSort() ? (
-                      <button type="button" onClick={h.column.getToggleSortingHandler()} className="hover:underline">
-                        {flexRender(h.column.columnDef.header, h.getContext())}
-                        {h.column.getIsSorted() === "asc" ? " ▲" : h.column.getIsSorted() === "desc" ? " ▼" : ""}
-                      </button>
-                    ) : (
-                      flexRender(h.column.columnDef.header, h.getContext())
-                    )}
-                  </th>
-                ))}
-              </tr>
-            ))}
-          </thead>
+          <SortableHead table={table} />
           <tbody>
             {table.getRowModel().rows.map((r) => (
               <Fragment key={r.id}>

@@ -17,6 +17,7 @@ import { fmt, fmtAge, fmtSeconds } from "@/lib/client/format";
 import { useDecayLevels, useLoops, useNow } from "@/lib/client/hooks";
 import { compareWorstFirst, dataAge, worstPriority } from "@/lib/client/order";
 import { PriorityMark } from "./priority-mark";
+import { SortableHead } from "./sortable-head";
 import { TrackerStateBadge } from "./tracker-state-badge";
 
 const col = createColumnHelper<LoopSummary>();
@@ -128,24 +129,7 @@ export function LoopInventory({ role }: { role: Role }) {
       {error && <p role="alert" className="text-urgent">Could not load loops: {error.message}</p>}
       <div className="overflow-x-auto rounded-md border border-line bg-surface">
         <table className="w-full text-sm" data-testid="loop-table">
-          <thead>
-            {table.getHeaderGroups().map((hg) => (
-              <tr key={hg.id} className="border-b border-line text-left">
-                {hg.headers.map((h) => (
-                  <th key={h.id} className="whitespace-nowrap px-2 py-1.5 font-semibold" aria-sort={h.column.getIsSorted() === "asc" ? "ascending" : h.column.getIsSorted() === "desc" ? "descending" : undefined}>
-                    {h.column.getCanSort() ? (
-                      <button type="button" onClick={h.column.getToggleSortingHandler()} className="hover:underline">
-                        {flexRender(h.column.columnDef.header, h.getContext())}
-                        {h.column.getIsSorted() === "asc" ? " ▲" : h.column.getIsSorted() === "desc" ? " ▼" : ""}
-                      </button>
-                    ) : (
-                      flexRender(h.column.columnDef.header, h.getContext())
-                    )}
-                  </th>
-                ))}
-              </tr>
-            ))}
-          </thead>
+          <SortableHead table={table} nowrap />
           <tbody>
             {table.getRowModel().rows.map((r) => (
               <tr key={r.id} className="border-b border-line/60 hover:bg-raised">
