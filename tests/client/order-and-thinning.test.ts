@@ -1,0 +1,105 @@
+/**
+ * Browser-side pure functions: worst-first ordering (UI.md "Worst first") and the per-pixel
+ * min/max thinning of trend data. The expected values are computed here by brute force from the
+ * definitions, independently of the code under test.
+ */
+import { describe, expect, it } from "vitest";
+import { thinAligned } from "@/lib/client/history";
+import { WorstFirstOrder, sortWorstFirst, stableWorstFirst } from "@/lib/client/order";
+import type { AlarmPriority, LoopStateDto, LoopSummary } from "@/lib/types";
+
+function loop(id: number, tag: string, decayRatio: number | null, radius: number | null, alarm?: AlarmPriority): LoopSummary {
+  const state = radius === null ? null : ({ spectralRadius: radius, decayRatio, juryStable: radius < 1, rimDistance: 1 - radius } as unknown as LoopStateDto);
+  return {
+    id, tenantId: 1, siteId: 1, siteName: "Site", area: null, tag, slug: tag.toLowerCase(), description: "", kind: "flow",
+    units: "m3/h", pvLo: 0, pvHi: 100, estimationPeriodS: 1, state,
+    alarms: alarm ? [{ id: id * 10, condition: "margin", priority: alarm, state: "unacknowledged" }] : [],
+  };
+}
+
+describe("worst-first order", () => {
+  const loops = [
+    loop(1, "FIC-1", 0.1, 0.8),
+    loop(2, "FIC-2", 0.45, 0.95),
+    loop(3, "FIC-3", null, 0.99), // does not oscillate: after every oscillating loop
+    loop(4, "FIC-4", 0.2, 0.9, "low"),
+    loop(5, "FIC-5", 0.05, 0.7, "urgent"),
+    loop(6, "FIC-6", null, 1.02), // past the circle: first among loops without an alarm
+    loop(7, "FIC-7", null, null), // no estimate yet: last
+  ];
+
+  it("puts alarm priority first, then the smallest margin to the alarm level, loops without an estimate last", () => {
+    expect(sortWorstFirst(loops).map((l) => l.tag)).toEqual(["FIC-5", "FIC-4", "FIC-6", "FIC-2", "FIC-1", "FIC-3", "FIC-7"]);
+  });
+
+  it("the stable order agrees with the plain one when nothing ties within a margin step", () => {
+    expect(stableWorstFirst(loops, null).map((l) => l.tag)).toEqual(sortWorstFirst(loops).map((l) => l.tag));
+  });
+
+  it("does not reshuffle loops whose margins move by noise inside one step", () => {
+    const order = new WorstFirstOrder();
+    // Margins to the 0.5 level: 0.191 and 0.199, the same 0.02 step: first time, tag order.
+    const a = loop(11, "PIC-A", 0.309, 0.9);
+    const b = loop(12, "PIC-B", 0.301, 0.9);
+    expect(order.sort([b, a]).map((l) => l.tag)).toEqual(["PIC-A", "PIC-B"]);
+    // Noise makes B the slightly worse one, still inside the same step: the places hold.
+    const a2 = loop(11, "PIC-A", 0.3005, 0.9);
+    const b2 = loop(12, "PIC-B", 0.3095, 0.9);
+    expect(order.sort([b2, a2]).map((l) => l.tag)).toEqual(["PIC-A", "PIC-B"]);
+    // A real change (B two steps closer to its level) moves it ahead.
+    const b3 = loop(12, "PIC-B", 0.36, 0.9);
+    expect(order.sort([a2, b3]).map((l) => l.tag)).toEqual(["PIC-B", "PIC-A"]);
+  });
+});
+
+describe("per-pixel min/max thinning of aligned trend columns", () => {
+  // A 24 h day at 1 Hz with a sine, noise-free, and one spike that must survive.
+  const n = 86_400;
+  const x = new Float64Array(n);
+  const y = new Float64Array(n);
+  for (let i = 0; i < n; i++) {
+    x[i] = i;
+    y[i] = Math.sin((2 * Math.PI * i) / 3600);
+  }
+  y[43_210] = 10;
+  const columns = 800;
+  const { data, thinned } = thinAligned([x, y], columns);
+
+  it("thins to at most two points per pixel column", () => {
+    expect(thinned).toBe(true);
+    expect(data[0]!.length).toBeLessThanOrEqual(2 * columns + 2);
+    expect(data[1]!.length).toBe(data[0]!.length);
+  });
+
+  it("keeps the minimum and maximum of every column (checked by brute force) and the spike", () => {
+    const col = (t: number) => Math.floor((t / (n - 1)) * columns);
+    const want = new Map<number, [number, number]>();
+    for (let i = 0; i < n; i++) {
+      const c = col(x[i]!);
+      const m = want.get(c) ?? [Infinity, -Infinity];
+      want.set(c, [Math.min(m[0], y[i]!), Math.max(m[1], y[i]!)]);
+    }
+    const got = new Map<number, [number, number]>();
+    const tx = data[0]!;
+    const ty = data[1]!;
+    for (let i = 0; i < tx.length; i++) {
+      const c = col(tx[i] as number);
+      const v = ty[i] as number;
+      const m = got.get(c) ?? [Infinity, -Infinity];
+      got.set(c, [Math.min(m[0], v), Math.max(m[1], v)]);
+    }
+    expect(got.size).toBe(want.size);
+    for (const [c, [lo, hi]] of want) {
+      expect(got.get(c)).toEqual([lo, hi]);
+    }
+    expect(Math.max(...Array.from(ty as ArrayLike<number>))).toBe(10);
+    expect(tx[0]).toBe(0);
+    expect(tx[tx.length - 1]).toBe(n - 1);
+  });
+
+  it("leaves short series alone and keeps gaps as null", () => {
+    const short = thinAligned([[0, 1, 2], [1, null, 3]], 100);
+    expect(short.thinned).toBe(false);
+    expect(Array.from(short.data[1]!)).toEqual([1, null, 3]);
+  });
+});
