@@ -24,6 +24,23 @@ afterAll(async () => {
   await srv?.stop();
 });
 
+/**
+ * Signing out navigates twice (next-auth's redirect and the session keeper's), so a wait on one
+ * navigation can see it aborted by the other: wait for where the page ends up instead.
+ */
+async function expectSignInPage(page: Page): Promise<void> {
+  await expect.poll(() => new URL(page.url()).pathname, { timeout: 30_000 }).toBe("/signin");
+  await page.getByRole("button", { name: /sign in/i }).waitFor();
+}
+
+/** Open a console URL while signed out: the server redirects to the sign-in page. */
+async function gotoSignedOut(page: Page, url: string): Promise<void> {
+  await page.goto(url).catch((err: unknown) => {
+    if (!/ERR_ABORTED/.test(String(err))) throw err;
+  });
+  await expectSignInPage(page);
+}
+
 async function signInThroughForm(page: Page, email: string): Promise<void> {
   await page.goto(`${srv.url}/`);
   await page.waitForURL(/\/signin/);
@@ -76,9 +93,8 @@ describe("console shell in Chromium", () => {
 
     // Sign out returns to the sign-in page; the console is closed again.
     await page.getByRole("button", { name: "Sign out" }).click();
-    await page.waitForURL(/\/signin/);
-    await page.goto(`${srv.url}/reports`);
-    await page.waitForURL(/\/signin/);
+    await expectSignInPage(page);
+    await gotoSignedOut(page, `${srv.url}/reports`);
     await page.close();
   });
 
@@ -91,7 +107,7 @@ describe("console shell in Chromium", () => {
     await page.keyboard.press("Tab");
     expect(await page.evaluate(() => document.activeElement?.textContent)).toBe("Skip to content");
     await page.getByRole("button", { name: "Sign out" }).click();
-    await page.waitForURL(/\/signin/);
+    await expectSignInPage(page);
     await page.close();
   });
 
