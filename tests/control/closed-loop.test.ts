@@ -10,6 +10,7 @@ import { c2dZoh, c2dZohStateSpace } from "@/lib/control/discretize";
 import { polyRoots } from "@/lib/control/roots";
 import { ControlArgumentError, NonFiniteInputError, PeriodMismatchError } from "@/lib/control/errors";
 import type { Complex, QTf } from "@/lib/control/types";
+import { maxMatchError } from "./root-match";
 
 const radius = (p: number[]): number => Math.max(...polyRoots(p).map((z) => Math.hypot(z.re, z.im)));
 
@@ -32,26 +33,6 @@ function evalQ(c: QTf, w: number): Complex {
   re = (n.re * d.re + n.im * d.im) / d2;
   im = (n.im * d.re - n.re * d.im) / d2;
   return { re, im };
-}
-
-function maxMatchError(expected: Complex[], got: Complex[]): number {
-  const used = new Array<boolean>(got.length).fill(false);
-  let worst = 0;
-  for (const e of expected) {
-    let best = -1;
-    let dist = Infinity;
-    got.forEach((g, i) => {
-      if (used[i]) return;
-      const d = Math.hypot(g.re - e.re, g.im - e.im);
-      if (d < dist) {
-        dist = d;
-        best = i;
-      }
-    });
-    used[best] = true;
-    worst = Math.max(worst, dist);
-  }
-  return worst;
 }
 
 describe("discretePid", () => {

@@ -11,7 +11,7 @@ import { describe, expect, it } from "vitest";
 import { c2dZoh, c2dZohStateSpace } from "@/lib/control/discretize";
 import { polyRoots } from "@/lib/control/roots";
 import { closedLoopPolynomial, discretePid, gainHeadroom } from "@/lib/control/closed-loop";
-import type { Complex } from "@/lib/control/types";
+import { maxMatchError } from "./root-match";
 
 const here = import.meta.dirname;
 const fixturePath = path.join(here, "..", "reference", "fixtures", "control-a.json");
@@ -48,27 +48,6 @@ const fixture = JSON.parse(readFileSync(fixturePath, "utf8")) as Fixture;
 function alignRight(a: number[], b: number[]): [number[], number[]] {
   const n = Math.max(a.length, b.length);
   return [new Array<number>(n - a.length).fill(0).concat(a), new Array<number>(n - b.length).fill(0).concat(b)];
-}
-
-function maxMatchError(expected: Complex[], got: Complex[]): number {
-  expect(got.length).toBe(expected.length);
-  const used = new Array<boolean>(got.length).fill(false);
-  let worst = 0;
-  for (const e of expected) {
-    let best = -1;
-    let dist = Infinity;
-    got.forEach((g, i) => {
-      if (used[i]) return;
-      const d = Math.hypot(g.re - e.re, g.im - e.im);
-      if (d < dist) {
-        dist = d;
-        best = i;
-      }
-    });
-    used[best] = true;
-    worst = Math.max(worst, dist);
-  }
-  return worst;
 }
 
 describe("c2dZoh against scipy (cont2discrete; augmented scipy.linalg.expm + ss2tf for dead times)", () => {

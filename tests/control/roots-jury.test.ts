@@ -4,6 +4,7 @@ import { juryStable, juryTest } from "@/lib/control/jury";
 import { polyEvalComplex, polyFromRoots } from "@/lib/control/poly";
 import { ControlArgumentError, NonFiniteInputError } from "@/lib/control/errors";
 import type { Complex } from "@/lib/control/types";
+import { maxMatchError } from "./root-match";
 
 /** mulberry32: small seeded PRNG (public-domain algorithm by T. Ettinger). */
 function mulberry32(seed: number): () => number {
@@ -18,28 +19,6 @@ function mulberry32(seed: number): () => number {
 }
 
 const abs = (z: Complex): number => Math.hypot(z.re, z.im);
-
-/** Greedy match of expected roots to computed ones; returns the largest distance. */
-function maxMatchError(expected: Complex[], got: Complex[]): number {
-  expect(got.length).toBe(expected.length);
-  const used = new Array<boolean>(got.length).fill(false);
-  let worst = 0;
-  for (const e of expected) {
-    let best = -1;
-    let dist = Infinity;
-    got.forEach((g, i) => {
-      if (used[i]) return;
-      const d = Math.hypot(g.re - e.re, g.im - e.im);
-      if (d < dist) {
-        dist = d;
-        best = i;
-      }
-    });
-    used[best] = true;
-    worst = Math.max(worst, dist);
-  }
-  return worst;
-}
 
 /** Random roots of a real polynomial of the given degree: conjugate pairs and reals. */
 function randomRoots(rand: () => number, degree: number, radius: () => number): Complex[] {
