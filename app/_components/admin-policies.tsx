@@ -111,6 +111,9 @@ export function AdminPolicies({
       ? `/api/alarm-policies${query({ scope, id: scope === "tenant" ? undefined : id })}`
       : null;
   const view = useSWR(key, (u: string) => fetchJson<PolicyView>(u));
+  // The editor remounts when the saved view comes back (its key carries updatedAt), so the
+  // confirmation lives here, tied to the scope it was given for.
+  const [saved, setSaved] = useState<{ key: string; msg: string } | null>(null);
   const mayEdit = scope === "loop" ? roleAtLeast(role, "engineer") : roleAtLeast(role, "admin");
   const sel = "rounded border border-line bg-ground px-2 py-1 text-sm";
   return (
@@ -173,7 +176,11 @@ export function AdminPolicies({
           key={`${view.data.scope}-${view.data.id}-${view.data.updatedAt}`}
           view={view.data}
           mayEdit={mayEdit}
-          onSaved={() => void view.mutate()}
+          savedMsg={saved && saved.key === key ? saved.msg : null}
+          onSaved={(msg) => {
+            if (key) setSaved({ key, msg });
+            void view.mutate();
+          }}
           angles={angles}
         />
       )}
@@ -184,16 +191,18 @@ export function AdminPolicies({
 function PolicyEditor({
   view,
   mayEdit,
+  savedMsg,
   onSaved,
   angles,
 }: {
   view: PolicyView;
   mayEdit: boolean;
-  onSaved: () => void;
+  savedMsg: string | null;
+  onSaved: (msg: string) => void;
   angles: Map<number, number>;
 }) {
   const e = view.effective;
-  const [msg, setMsg] = useState<string | null>(null);
+  const [msg, setMsg] = useState<string | null>(savedMsg);
   const [err, setErr] = useState<string | null>(null);
   const {
     register,
@@ -247,9 +256,10 @@ function PolicyEditor({
           mocReference: v.mocReference || null,
         },
       );
-      setMsg("Saved. The new levels apply from now on.");
+      const done = "Saved. The new levels apply from now on.";
+      setMsg(done);
       reset({ ...v, reason: "", mocReference: "" });
-      onSaved();
+      onSaved(done);
     } catch (x) {
       setErr(x instanceof Error ? x.message : String(x));
     }
