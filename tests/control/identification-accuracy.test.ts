@@ -117,6 +117,17 @@ function cLog(z: Complex): Complex {
   return { re: Math.log(Math.hypot(z.re, z.im)), im: Math.atan2(z.im, z.re) };
 }
 
+/** Both bounds for every matched pole (the boolean form of expectClose). */
+function within(est: Complex[], truth: Complex[]): boolean {
+  if (est.length !== truth.length) return false;
+  return match(est, truth).every(([e, t]) => {
+    const le = cLog(e);
+    const lt = cLog(t);
+    const sErr = Math.hypot(le.re - lt.re, le.im - lt.im) / T;
+    return sErr <= 0.1 * (Math.hypot(lt.re, lt.im) / T) && Math.hypot(e.re - t.re, e.im - t.im) <= 0.01;
+  });
+}
+
 /** |ln zhat - ln z| / T <= 0.1 |s|  and  |zhat - z| <= 0.01. */
 function expectClose(est: Complex[], truth: Complex[], label: string) {
   expect(est).toHaveLength(truth.length);
@@ -160,15 +171,34 @@ describe("closed-loop identification under a velocity-form PI", () => {
     expect(worst).toBeGreaterThan(0.01);
   });
 
+  /**
+   * Set-point steps as a pseudo-random binary sequence: +-1 held for HOLD samples, the level drawn
+   * from a seeded generator (a PRBS-like test signal, Ljung 1999, sec. 13.3; the hold of 3 samples
+   * = 6 s puts its power around the loop's own bandwidth, where the data say most about the poles).
+   */
+  const HOLD = 3;
+  const prbsSteps = (seed: number) => {
+    const draw = mulberry32(seed * 31 + 5);
+    const levels: number[] = [];
+    return (k: number) => {
+      const j = Math.floor(k / HOLD);
+      while (levels.length <= j) levels.push(draw() < 0.5 ? 1 : -1);
+      return levels[j]!;
+    };
+  };
   const scenarios = [
-    { name: "set-point steps", setPoint: (k: number) => (Math.floor(k / 40) % 2 === 0 ? 1 : -1), ditherStd: 0 },
-    { name: "a small dither at a constant set point", setPoint: () => 0, ditherStd: 0.3 },
+    // minRunsWithin: share of the 40 runs at 20 dB that must meet both bounds; measured on seeds
+    // 101-300 (200 runs) with these settings: steps 96 % (plant) and 100 % (closed loop), dither
+    // 82 % and 86 %. The estimator's own spread at 20 dB is what sets these; see the test.
+    { name: "set-point steps", setPointFor: prbsSteps, ditherStd: 0, minRunsWithin: 0.9 },
+    { name: "a small dither at a constant set point", setPointFor: () => () => 0, ditherStd: 0.3, minRunsWithin: 0.75 },
   ];
 
   /** Identify from one seeded run; returns estimated plant and closed-loop poles and their errors. */
   function identify(sc: (typeof scenarios)[number], seed: number, snrLinear: number) {
-    const sd = noiseFor20dB(sc.setPoint, sc.ditherStd, N, seed) * Math.sqrt(100 / snrLinear);
-    const data = simulate({ n: N, seed, noiseStd: sd, setPoint: sc.setPoint, ditherStd: sc.ditherStd });
+    const setPoint = sc.setPointFor(seed);
+    const sd = noiseFor20dB(setPoint, sc.ditherStd, N, seed) * Math.sqrt(100 / snrLinear);
+    const data = simulate({ n: N, seed, noiseStd: sd, setPoint, ditherStd: sc.ditherStd });
     const est = new ArxEstimator({ na: 2, nb: 2, nk: 1, T, forgetting: 0.999 });
     data.u.forEach((u, k) => est.push(u, data.y[k]!));
     const model = est.model();
@@ -193,23 +223,31 @@ describe("closed-loop identification under a velocity-form PI", () => {
       }
     });
 
-    it(`with ${sc.name} at 20 dB SNR, 500 samples: unbiased, median run within 10 % in s and 0.01 in z, every run within 4 sigma of its own confidence`, () => {
+    it(`with ${sc.name} at 20 dB SNR, 500 samples: at least ${sc.minRunsWithin * 100} % of runs within 10 % in s and 0.01 in z, unbiased, every run within 4 sigma of its own confidence`, () => {
       // At 20 dB and 500 samples the delta-method standard deviation of these poles is about
-      // 0.007-0.01 (poleConfidence), so a per-run 0.01 bound is a ~1 sigma statement; measured:
-      // about 1 run in 4 exceeds it. Per-run bounds are asserted at 30 dB above.
-      const runs = Array.from({ length: 20 }, (_, i) => identify(sc, 101 + i, 100));
+      // 0.003-0.01 (poleConfidence), so with Gaussian noise no estimator meets a 0.01 bound in
+      // every run: the per-run statement is a coverage (share of seeded runs). Every run is held
+      // to both bounds at 30 dB above.
+      const runs = Array.from({ length: 40 }, (_, i) => identify(sc, 101 + i, 100));
       runs.forEach((r) => expect(r.est.excitation().excited).toBe(true));
+      const share = (pick: (r: (typeof runs)[number]) => [Complex[], Complex[]]) =>
+        runs.filter((r) => {
+          const [est, truth] = pick(r);
+          return within(est, truth);
+        }).length / runs.length;
+      expect(share((r) => [r.plant, truePlant]), "share of runs with the plant poles within both bounds").toBeGreaterThanOrEqual(sc.minRunsWithin);
+      expect(share((r) => [r.closed, trueClosed]), "share of runs with the closed-loop poles within both bounds").toBeGreaterThanOrEqual(sc.minRunsWithin);
       const median = (v: number[]) => v.slice().sort((a, b) => a - b)[Math.floor(v.length / 2)]!;
       expect(median(runs.map((r) => r.plantErr))).toBeLessThanOrEqual(0.01);
       expect(median(runs.map((r) => r.closedErr))).toBeLessThanOrEqual(0.01);
-      // Bias: the mean of the 20 estimated upper-half plant poles (and closed-loop poles) meets both bounds.
+      // Bias: the mean of the 40 estimated upper-half plant poles (and closed-loop poles) meets both bounds.
       const meanOf = (sets: Complex[][], truth: Complex[]) =>
         truth.map((t) => {
           const picked = sets.map((set) => set.reduce((b, z) => (Math.hypot(z.re - t.re, z.im - t.im) < Math.hypot(b.re - t.re, b.im - t.im) ? z : b)));
           return { re: picked.reduce((s, z) => s + z.re, 0) / picked.length, im: picked.reduce((s, z) => s + z.im, 0) / picked.length };
         });
-      expectClose(meanOf(runs.map((r) => r.plant), truePlant), truePlant, `${sc.name}, mean of 20 plant estimates`);
-      expectClose(meanOf(runs.map((r) => r.closed), trueClosed), trueClosed, `${sc.name}, mean of 20 closed-loop estimates`);
+      expectClose(meanOf(runs.map((r) => r.plant), truePlant), truePlant, `${sc.name}, mean of 40 plant estimates`);
+      expectClose(meanOf(runs.map((r) => r.closed), trueClosed), trueClosed, `${sc.name}, mean of 40 closed-loop estimates`);
       // Each run's error is explained by its own delta-method uncertainty (4 sigma of the (Re, Im) spread).
       runs.forEach((r) => {
         for (const [e, t] of match(r.plant, truePlant)) {
