@@ -9,6 +9,8 @@ import type { DeviceDto } from "@/lib/admin/devices";
 import type { SiteDto } from "@/lib/admin/sites";
 import { fetchJson, sendJson } from "@/lib/client/fetcher";
 import { fmtTime } from "@/lib/client/format";
+import { Field, INPUT_CLASS, SUBMIT_CLASS } from "./form-field";
+import { ReasonDialog } from "./reason-dialog";
 
 const form = z.object({ name: z.string().trim().min(2, "Name the device (at least 2 characters)."), siteId: z.number().int().positive().nullable() });
 
@@ -17,6 +19,7 @@ export function AdminDevices() {
   const sites = useSWR("/api/admin/sites", (u: string) => fetchJson<{ sites: SiteDto[] }>(u));
   const [created, setCreated] = useState<(DeviceDto & { secret: string }) | null>(null);
   const [err, setErr] = useState<string | null>(null);
+  const [revoking, setRevoking] = useState<DeviceDto | null>(null);
   const {
     register,
     handleSubmit,
@@ -34,28 +37,14 @@ export function AdminDevices() {
       setErr(x instanceof Error ? x.message : String(x));
     }
   });
-  const revoke = async (d: DeviceDto) => {
-    const reason = window.prompt(`Reason for revoking "${d.name}" (${d.keyId}):`);
-    if (!reason) return;
-    try {
-      await sendJson(`/api/admin/devices/${d.id}`, "DELETE", { reason });
-      void mutate();
-    } catch (x) {
-      setErr(x instanceof Error ? x.message : String(x));
-    }
-  };
-  const sel = "rounded border border-line bg-ground px-2 py-1 text-sm";
   return (
     <section className="flex flex-col gap-3" aria-label="Device credentials" data-testid="admin-devices">
       <form onSubmit={create} noValidate className="flex flex-wrap items-end gap-3 rounded-md border border-line bg-surface p-3">
-        <label className="flex flex-col text-sm">
-          Device name
-          <input {...register("name")} className={`${sel} w-64`} />
-          {errors.name && <span className="text-xs text-urgent">{errors.name.message}</span>}
-        </label>
-        <label className="flex flex-col text-sm">
-          May publish for
-          <select {...register("siteId", { setValueAs: (v) => (v === "" || v == null ? null : Number(v)) })} className={sel}>
+        <Field label="Device name" error={errors.name}>
+          <input {...register("name")} className={`${INPUT_CLASS} w-64`} />
+        </Field>
+        <Field label="May publish for">
+          <select {...register("siteId", { setValueAs: (v) => (v === "" || v == null ? null : Number(v)) })} className={INPUT_CLASS}>
             <option value="">every site of the tenant</option>
             {sites.data?.sites.map((s) => (
               <option key={s.id} value={s.id}>
@@ -63,8 +52,8 @@ export function AdminDevices() {
               </option>
             ))}
           </select>
-        </label>
-        <button type="submit" disabled={isSubmitting} className="rounded bg-accent px-3 py-1 font-semibold text-accent-ink disabled:opacity-60">
+        </Field>
+        <button type="submit" disabled={isSubmitting} className={SUBMIT_CLASS}>
           Create credential
         </button>
         {err && <p role="alert" className="w-full text-sm text-urgent">{err}</p>}
@@ -109,7 +98,7 @@ export function AdminDevices() {
                 {d.revokedAt ? (
                   `revoked ${fmtTime(d.revokedAt)}`
                 ) : (
-                  <button type="button" onClick={() => void revoke(d)} className="rounded border border-line px-2 py-0.5 text-xs">
+                  <button type="button" onClick={() => setRevoking(d)} className="rounded border border-line px-2 py-0.5 text-xs">
                     Revoke
                   </button>
                 )}
@@ -118,6 +107,24 @@ export function AdminDevices() {
           ))}
         </tbody>
       </table>
+      {revoking && (
+        <ReasonDialog
+          title="Revoke device credential"
+          lead={
+            <>
+              {revoking.name} · <span className="font-mono">{revoking.keyId}</span>
+            </>
+          }
+          caution="The broker drops this gateway and refuses it from now on: the loops it feeds go stale and raise no alarms from fresh data until another credential publishes for them. A revoked credential cannot be restored; make a new one."
+          submitLabel="Revoke"
+          onConfirm={({ reason }) => sendJson(`/api/admin/devices/${revoking.id}`, "DELETE", { reason })}
+          onDone={() => {
+            setRevoking(null);
+            void mutate();
+          }}
+          onClose={() => setRevoking(null)}
+        />
+      )}
     </section>
   );
 }

@@ -10,6 +10,8 @@ import type { SiteDto } from "@/lib/admin/sites";
 import { ALARM_PRIORITIES } from "@/lib/types";
 import { fetchJson, sendJson } from "@/lib/client/fetcher";
 import { fmtTime } from "@/lib/client/format";
+import { CheckField, Field, INPUT_CLASS, SUBMIT_CLASS } from "./form-field";
+import { ReasonDialog } from "./reason-dialog";
 
 const nullableInt = (v: unknown) => (v === "" || v === null || v === undefined ? null : Number(v));
 const ruleForm = z.object({
@@ -23,15 +25,12 @@ const ruleForm = z.object({
   reason: z.string().trim().min(3, "Give a change reason."),
 });
 
-function FieldError({ error }: { error?: { message?: string } }) {
-  return error ? <span className="text-xs text-urgent">{String(error.message)}</span> : null;
-}
-
 export function AdminRules() {
   const { data, error, mutate } = useSWR("/api/admin/notification-rules", (u: string) => fetchJson<{ rules: RuleDto[] }>(u));
   const sites = useSWR("/api/admin/sites", (u: string) => fetchJson<{ sites: SiteDto[] }>(u));
   const areas = sites.data?.sites.flatMap((s) => s.areas.map((a) => ({ ...a, site: s.name }))) ?? [];
   const [err, setErr] = useState<string | null>(null);
+  const [deleting, setDeleting] = useState<RuleDto | null>(null);
   const {
     register,
     handleSubmit,
@@ -51,28 +50,14 @@ export function AdminRules() {
       setErr(x instanceof Error ? x.message : String(x));
     }
   });
-  const del = async (r: RuleDto) => {
-    const reason = window.prompt(`Reason for deleting the rule "${r.name}":`);
-    if (!reason) return;
-    try {
-      await sendJson(`/api/admin/notification-rules/${r.id}`, "DELETE", { reason });
-      void mutate();
-    } catch (x) {
-      setErr(x instanceof Error ? x.message : String(x));
-    }
-  };
-  const inp = "rounded border border-line bg-ground px-2 py-1 text-sm";
   return (
     <section className="flex flex-col gap-3" aria-label="Notification rules" data-testid="admin-rules">
       <form onSubmit={create} noValidate className="grid gap-3 rounded-md border border-line bg-surface p-3 md:grid-cols-4">
-        <label className="flex flex-col text-sm">
-          Rule name
-          <input {...register("name")} className={inp} />
-          <FieldError error={errors.name} />
-        </label>
-        <label className="flex flex-col text-sm">
-          Operator area
-          <select {...register("areaId", { setValueAs: nullableInt })} className={inp}>
+        <Field label="Rule name" error={errors.name}>
+          <input {...register("name")} className={INPUT_CLASS} />
+        </Field>
+        <Field label="Operator area">
+          <select {...register("areaId", { setValueAs: nullableInt })} className={INPUT_CLASS}>
             <option value="">every area</option>
             {areas.map((a) => (
               <option key={a.id} value={a.id}>
@@ -80,41 +65,32 @@ export function AdminRules() {
               </option>
             ))}
           </select>
-        </label>
-        <label className="flex flex-col text-sm md:col-span-2">
-          Recipients (e-mail addresses, comma separated)
-          <input {...register("recipients")} className={inp} />
-          <FieldError error={errors.recipients} />
-        </label>
-        <label className="flex flex-col text-sm">
-          From priority
-          <select {...register("minPriority")} className={inp}>
+        </Field>
+        <Field label="Recipients (e-mail addresses, comma separated)" error={errors.recipients} className="md:col-span-2">
+          <input {...register("recipients")} className={INPUT_CLASS} />
+        </Field>
+        <Field label="From priority">
+          <select {...register("minPriority")} className={INPUT_CLASS}>
             {ALARM_PRIORITIES.map((p) => (
               <option key={p} value={p}>
                 {p} and above
               </option>
             ))}
           </select>
-        </label>
-        <label className="flex flex-col text-sm">
-          Escalate when unacknowledged after, min
-          <input type="number" {...register("escalationMinutes", { setValueAs: nullableInt })} className={inp} />
-          <FieldError error={errors.escalationMinutes} />
-        </label>
-        <label className="flex flex-col text-sm">
-          Repeat every, min
-          <input type="number" {...register("repeatMinutes", { setValueAs: nullableInt })} className={inp} />
-          <FieldError error={errors.repeatMinutes} />
-        </label>
-        <label className="flex items-center gap-2 text-sm">
-          <input type="checkbox" {...register("enabled")} /> enabled
-        </label>
-        <label className="flex flex-col text-sm md:col-span-3">
-          Change reason
-          <input {...register("reason")} className={inp} />
-          <FieldError error={errors.reason} />
-        </label>
-        <button type="submit" disabled={isSubmitting} className="self-end rounded bg-accent px-3 py-1 font-semibold text-accent-ink disabled:opacity-60">
+        </Field>
+        <Field label="Escalate when unacknowledged after, min" error={errors.escalationMinutes}>
+          <input type="number" {...register("escalationMinutes", { setValueAs: nullableInt })} className={INPUT_CLASS} />
+        </Field>
+        <Field label="Repeat every, min" error={errors.repeatMinutes}>
+          <input type="number" {...register("repeatMinutes", { setValueAs: nullableInt })} className={INPUT_CLASS} />
+        </Field>
+        <CheckField label="enabled">
+          <input type="checkbox" {...register("enabled")} />
+        </CheckField>
+        <Field label="Change reason" error={errors.reason} className="md:col-span-3">
+          <input {...register("reason")} className={INPUT_CLASS} />
+        </Field>
+        <button type="submit" disabled={isSubmitting} className={`self-end ${SUBMIT_CLASS}`}>
           Add rule
         </button>
         {err && <p role="alert" className="text-sm text-urgent md:col-span-4">{err}</p>}
@@ -132,12 +108,26 @@ export function AdminRules() {
               escalate {r.escalationMinutes ? `after ${r.escalationMinutes} min` : "never"}, repeat {r.repeatMinutes ? `every ${r.repeatMinutes} min` : "never"}
             </span>
             {!r.enabled && <span className="text-suppressed">disabled</span>}
-            <button type="button" onClick={() => void del(r)} className="ml-auto rounded border border-line px-2 py-0.5 text-xs">
+            <button type="button" onClick={() => setDeleting(r)} className="ml-auto rounded border border-line px-2 py-0.5 text-xs">
               Delete
             </button>
           </li>
         ))}
       </ul>
+      {deleting && (
+        <ReasonDialog
+          title="Delete notification rule"
+          lead={`${deleting.name}: ${deleting.minPriority} and above, to ${deleting.recipients.join(", ")}`}
+          caution="Alarms this rule covered will no longer be e-mailed or escalated to its recipients. The alarms themselves still show in the console."
+          submitLabel="Delete rule"
+          onConfirm={({ reason }) => sendJson(`/api/admin/notification-rules/${deleting.id}`, "DELETE", { reason })}
+          onDone={() => {
+            setDeleting(null);
+            void mutate();
+          }}
+          onClose={() => setDeleting(null)}
+        />
+      )}
     </section>
   );
 }
@@ -147,6 +137,7 @@ const siteForm = z.object({ name: z.string().trim().min(2, "Name the site."), ti
 export function AdminSites() {
   const { data, error, mutate } = useSWR("/api/admin/sites", (u: string) => fetchJson<{ sites: SiteDto[] }>(u));
   const [err, setErr] = useState<string | null>(null);
+  const [areaFor, setAreaFor] = useState<SiteDto | null>(null);
   const {
     register,
     handleSubmit,
@@ -163,31 +154,16 @@ export function AdminSites() {
       setErr(x instanceof Error ? x.message : String(x));
     }
   });
-  const addArea = async (s: SiteDto) => {
-    const name = window.prompt(`New operator area at ${s.name}:`);
-    if (!name) return;
-    try {
-      await sendJson(`/api/admin/sites/${s.id}/areas`, "POST", { name });
-      void mutate();
-    } catch (x) {
-      setErr(x instanceof Error ? x.message : String(x));
-    }
-  };
-  const inp = "rounded border border-line bg-ground px-2 py-1 text-sm";
   return (
     <section className="flex flex-col gap-3" aria-label="Sites and areas" data-testid="admin-sites">
       <form onSubmit={create} noValidate className="flex flex-wrap items-end gap-3 rounded-md border border-line bg-surface p-3">
-        <label className="flex flex-col text-sm">
-          Site name
-          <input {...register("name")} className={inp} />
-          {errors.name && <span className="text-xs text-urgent">{errors.name.message}</span>}
-        </label>
-        <label className="flex flex-col text-sm">
-          Time zone
-          <input {...register("timeZone")} className={inp} />
-          {errors.timeZone && <span className="text-xs text-urgent">{errors.timeZone.message}</span>}
-        </label>
-        <button type="submit" disabled={isSubmitting} className="rounded bg-accent px-3 py-1 font-semibold text-accent-ink disabled:opacity-60">
+        <Field label="Site name" error={errors.name}>
+          <input {...register("name")} className={INPUT_CLASS} />
+        </Field>
+        <Field label="Time zone" error={errors.timeZone}>
+          <input {...register("timeZone")} className={INPUT_CLASS} />
+        </Field>
+        <button type="submit" disabled={isSubmitting} className={SUBMIT_CLASS}>
           Add site
         </button>
         {err && <p role="alert" className="w-full text-sm text-urgent">{err}</p>}
@@ -200,7 +176,7 @@ export function AdminSites() {
               <strong>{s.name}</strong>
               <span className="font-mono text-muted">{s.slug}</span>
               <span className="text-muted">{s.timeZone}</span>
-              <button type="button" onClick={() => void addArea(s)} className="ml-auto rounded border border-line px-2 py-0.5 text-xs">
+              <button type="button" onClick={() => setAreaFor(s)} className="ml-auto rounded border border-line px-2 py-0.5 text-xs">
                 Add area
               </button>
             </div>
@@ -208,6 +184,20 @@ export function AdminSites() {
           </li>
         ))}
       </ul>
+      {areaFor && (
+        <ReasonDialog
+          title="Add operator area"
+          lead={`At ${areaFor.name}`}
+          nameLabel="Area name"
+          submitLabel="Add area"
+          onConfirm={({ name, reason }) => sendJson(`/api/admin/sites/${areaFor.id}/areas`, "POST", { name, reason })}
+          onDone={() => {
+            setAreaFor(null);
+            void mutate();
+          }}
+          onClose={() => setAreaFor(null)}
+        />
+      )}
     </section>
   );
 }

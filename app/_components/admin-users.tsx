@@ -6,10 +6,12 @@ import { useForm } from "react-hook-form";
 import useSWR from "swr";
 import { z } from "zod";
 import type { InvitationDto, MemberDto } from "@/lib/admin/users";
-import { ROLES, type Role } from "@/lib/types";
+import { ROLES, roleAtLeast, type Role } from "@/lib/types";
 import { fetchJson, sendJson } from "@/lib/client/fetcher";
 import { useNow } from "@/lib/client/hooks";
 import { fmtTime } from "@/lib/client/format";
+import { Field, INPUT_CLASS, SUBMIT_CLASS } from "./form-field";
+import { ReasonDialog } from "./reason-dialog";
 
 const inviteForm = z.object({ email: z.string().trim().email("Enter a valid e-mail address."), role: z.enum(ROLES) });
 
@@ -18,6 +20,7 @@ export function AdminUsers({ selfUserId }: { selfUserId: number }) {
   const now = useNow(60_000);
   const [msg, setMsg] = useState<string | null>(null);
   const [err, setErr] = useState<string | null>(null);
+  const [pending, setPending] = useState<{ member: MemberDto; role: Role | null } | null>(null);
   const {
     register,
     handleSubmit,
@@ -36,44 +39,20 @@ export function AdminUsers({ selfUserId }: { selfUserId: number }) {
       setErr(x instanceof Error ? x.message : String(x));
     }
   });
-  const change = async (m: MemberDto, role: Role) => {
-    const reason = window.prompt(`Reason for changing ${m.email} from ${m.role} to ${role}:`);
-    if (!reason) return;
-    try {
-      await sendJson(`/api/admin/users/${m.membershipId}`, "PATCH", { role, reason });
-      void mutate();
-    } catch (x) {
-      setErr(x instanceof Error ? x.message : String(x));
-    }
-  };
-  const remove = async (m: MemberDto) => {
-    const reason = window.prompt(`Reason for removing ${m.email} from this tenant:`);
-    if (!reason) return;
-    try {
-      await sendJson(`/api/admin/users/${m.membershipId}`, "DELETE", { reason });
-      void mutate();
-    } catch (x) {
-      setErr(x instanceof Error ? x.message : String(x));
-    }
-  };
-  const sel = "rounded border border-line bg-ground px-2 py-1 text-sm";
   return (
     <section className="flex flex-col gap-3" aria-label="Users and roles" data-testid="admin-users">
       <form onSubmit={invite} noValidate className="flex flex-wrap items-end gap-3 rounded-md border border-line bg-surface p-3">
-        <label className="flex flex-col text-sm">
-          E-mail
-          <input type="email" {...register("email")} className={`${sel} w-72`} data-testid="invite-email" />
-          {errors.email && <span className="text-xs text-urgent">{errors.email.message}</span>}
-        </label>
-        <label className="flex flex-col text-sm">
-          Role
-          <select {...register("role")} className={sel} data-testid="invite-role">
+        <Field label="E-mail" error={errors.email}>
+          <input type="email" {...register("email")} className={`${INPUT_CLASS} w-72`} data-testid="invite-email" />
+        </Field>
+        <Field label="Role">
+          <select {...register("role")} className={INPUT_CLASS} data-testid="invite-role">
             {ROLES.map((r) => (
               <option key={r}>{r}</option>
             ))}
           </select>
-        </label>
-        <button type="submit" disabled={isSubmitting} className="rounded bg-accent px-3 py-1 font-semibold text-accent-ink disabled:opacity-60">
+        </Field>
+        <button type="submit" disabled={isSubmitting} className={SUBMIT_CLASS}>
           Invite
         </button>
         {msg && <p role="status" className="w-full text-sm">{msg}</p>}
@@ -98,7 +77,7 @@ export function AdminUsers({ selfUserId }: { selfUserId: number }) {
               <td className="px-2 py-1">{m.name}</td>
               <td className="px-2 py-1">{m.email}</td>
               <td className="px-2 py-1">
-                <select aria-label={`Role of ${m.email}`} value={m.role} disabled={m.userId === selfUserId} onChange={(e) => void change(m, e.target.value as Role)} className={sel}>
+                <select aria-label={`Role of ${m.email}`} value={m.role} disabled={m.userId === selfUserId} onChange={(e) => setPending({ member: m, role: e.target.value as Role })} className={INPUT_CLASS}>
                   {ROLES.map((r) => (
                     <option key={r}>{r}</option>
                   ))}
@@ -107,7 +86,7 @@ export function AdminUsers({ selfUserId }: { selfUserId: number }) {
               <td className="num px-2 py-1">{m.lastSignInAt ? fmtTime(m.lastSignInAt) : "never"}</td>
               <td className="px-2 py-1">
                 {m.userId !== selfUserId && (
-                  <button type="button" onClick={() => void remove(m)} className="rounded border border-line px-2 py-0.5 text-xs">
+                  <button type="button" onClick={() => setPending({ member: m, role: null })} className="rounded border border-line px-2 py-0.5 text-xs">
                     Remove
                   </button>
                 )}
@@ -128,6 +107,25 @@ export function AdminUsers({ selfUserId }: { selfUserId: number }) {
           </ul>
         </div>
       )}
+      {pending && <MemberChangeDialog {...pending} onDone={() => { setPending(null); void mutate(); }} onClose={() => setPending(null)} />}
     </section>
+  );
+}
+
+/** A role change (`role` set) or a removal (`role` null), with its reason. */
+function MemberChangeDialog({ member: m, role, onDone, onClose }: { member: MemberDto; role: Role | null; onDone: () => void; onClose: () => void }) {
+  const loses = (r: Role | null) => roleAtLeast(m.role, "operator") && (r === null || !roleAtLeast(r, "operator"));
+  return (
+    <ReasonDialog
+      title={role ? "Change role" : "Remove member"}
+      lead={role ? `${m.email}: ${m.role} → ${role}` : `${m.email} (${m.role}) loses access to this tenant.`}
+      caution={loses(role) ? `From now on ${m.email} can no longer acknowledge or shelve alarms; make sure the shift still has someone who can.` : undefined}
+      submitLabel={role ? "Change role" : "Remove"}
+      onConfirm={({ reason }) =>
+        role ? sendJson(`/api/admin/users/${m.membershipId}`, "PATCH", { role, reason }) : sendJson(`/api/admin/users/${m.membershipId}`, "DELETE", { reason })
+      }
+      onDone={onDone}
+      onClose={onClose}
+    />
   );
 }

@@ -4,11 +4,13 @@
  * reason), unshelve. The server checks the role again; viewers never get these controls.
  */
 import { zodResolver } from "@hookform/resolvers/zod";
-import { useId, useRef, useState } from "react";
+import { useState } from "react";
 import { useForm } from "react-hook-form";
 import { z } from "zod";
 import type { AlarmDto, AlarmPriority, AlarmState } from "@/lib/types";
 import { sendJson } from "@/lib/client/fetcher";
+import { Field, INPUT_CLASS } from "./form-field";
+import { FormDialog } from "./reason-dialog";
 
 type Kind = "acknowledge" | "shelve" | "unshelve";
 
@@ -71,6 +73,9 @@ export function AlarmActions({
   );
 }
 
+const TITLES: Record<Kind, string> = { acknowledge: "Acknowledge alarm", shelve: "Shelve alarm", unshelve: "Unshelve alarm" };
+const SUBMITS: Record<Kind, string> = { acknowledge: "Acknowledge", shelve: "Shelve", unshelve: "Unshelve" };
+
 function ActionDialog({
   kind,
   alarm,
@@ -82,8 +87,6 @@ function ActionDialog({
   onClose: () => void;
   onDone: () => void;
 }) {
-  const ref = useRef<HTMLDialogElement>(null);
-  const id = useId();
   const [serverError, setServerError] = useState<string | null>(null);
   const schema = kind === "shelve" ? shelveSchema : ackSchema(alarm.priority);
   const {
@@ -95,7 +98,6 @@ function ActionDialog({
     resolver: zodResolver(schema as never) as never,
     defaultValues: kind === "shelve" ? { minutes: 60, reason: "" } : { comment: "" },
   });
-  const title = kind === "acknowledge" ? "Acknowledge alarm" : kind === "shelve" ? "Shelve alarm" : "Unshelve alarm";
   const submit = handleSubmit(async (v) => {
     setServerError(null);
     try {
@@ -107,57 +109,36 @@ function ActionDialog({
     }
   });
   return (
-    <dialog
-      ref={(el) => {
-        ref.current = el;
-        if (el && !el.open) el.showModal();
-      }}
-      onClose={onClose}
-      aria-labelledby={`${id}-t`}
-      className="m-auto w-[min(32rem,92vw)] rounded-md border border-line bg-surface p-4 text-ink backdrop:bg-black/50"
-    >
-      <form onSubmit={submit} className="flex flex-col gap-3" noValidate>
-        <h2 id={`${id}-t`} className="text-lg font-semibold">
-          {title}
-        </h2>
-        <p className="text-sm text-muted">
+    <FormDialog
+      title={TITLES[kind]}
+      lead={
+        <>
           <span className="font-mono text-ink">{alarm.loopTag}</span> — {alarm.message}
-        </p>
-        {kind !== "shelve" && (
-          <label className="flex flex-col gap-1 text-sm">
-            Comment {alarm.priority === "urgent" && kind === "acknowledge" ? "(required for an urgent alarm)" : "(optional)"}
-            <textarea {...register("comment")} rows={3} className="rounded border border-line bg-ground p-2" autoFocus data-testid="ack-comment" />
-            {errors.comment && <span className="text-urgent">{String(errors.comment.message)}</span>}
-          </label>
-        )}
-        {kind === "shelve" && (
-          <>
-            <label className="flex flex-col gap-1 text-sm">
-              Minutes (the policy may allow less)
-              <input type="number" {...register("minutes")} className="num w-32 rounded border border-line bg-ground p-2" />
-              {errors.minutes && <span className="text-urgent">{String(errors.minutes.message)}</span>}
-            </label>
-            <label className="flex flex-col gap-1 text-sm">
-              Reason
-              <textarea {...register("reason")} rows={2} className="rounded border border-line bg-ground p-2" autoFocus />
-              {errors.reason && <span className="text-urgent">{String(errors.reason.message)}</span>}
-            </label>
-          </>
-        )}
-        {serverError && (
-          <p role="alert" className="text-sm text-urgent">
-            {serverError}
-          </p>
-        )}
-        <div className="flex justify-end gap-2">
-          <button type="button" onClick={() => ref.current?.close()} className="rounded border border-line px-3 py-1">
-            Cancel
-          </button>
-          <button type="submit" disabled={isSubmitting} className="rounded bg-accent px-3 py-1 font-semibold text-accent-ink disabled:opacity-60" data-testid="action-submit">
-            {isSubmitting ? "Sending…" : title.split(" ")[0]}
-          </button>
-        </div>
-      </form>
-    </dialog>
+        </>
+      }
+      caution={kind === "shelve" ? "While shelved, this alarm neither annunciates nor notifies anyone; it returns by itself when the time is up. Shelve only as your site's alarm management procedure allows." : undefined}
+      submitLabel={SUBMITS[kind]}
+      busy={isSubmitting}
+      error={serverError}
+      onSubmit={(e) => void submit(e)}
+      onClose={onClose}
+      testId="alarm-action-dialog"
+    >
+      {kind !== "shelve" && (
+        <Field label={`Comment ${alarm.priority === "urgent" && kind === "acknowledge" ? "(required for an urgent alarm)" : "(optional)"}`} error={errors.comment}>
+          <textarea {...register("comment")} rows={3} className={INPUT_CLASS} data-autofocus data-testid="ack-comment" />
+        </Field>
+      )}
+      {kind === "shelve" && (
+        <>
+          <Field label="Minutes (the policy may allow less)" error={errors.minutes}>
+            <input type="number" {...register("minutes")} className={`num w-32 ${INPUT_CLASS}`} />
+          </Field>
+          <Field label="Reason" error={errors.reason}>
+            <textarea {...register("reason")} rows={2} className={INPUT_CLASS} data-autofocus />
+          </Field>
+        </>
+      )}
+    </FormDialog>
   );
 }

@@ -22,12 +22,14 @@ import { ALARM_STATE_WORDS, CONDITION_WORDS, fmt, fmtStamp, fmtTime } from "@/li
 import { useAlarms } from "@/lib/client/hooks";
 import { ATTENTION_STATES } from "@/lib/client/order";
 import { AlarmActions } from "./alarm-actions";
+import { FilterCheck, FilterInput, FilterRow, FilterSelect } from "./form-field";
 import { AlarmEvents } from "./loop-alarms";
 import { PriorityMark } from "./priority-mark";
 import { SortableHead } from "./sortable-head";
 
 const col = createColumnHelper<AlarmDto>();
 const PRIORITY_ORDER = { urgent: 0, high: 1, low: 2 } as const;
+const STATE_OPTIONS = ALARM_STATES.map((s) => ({ value: s, label: ALARM_STATE_WORDS[s] ?? s }));
 
 export function AlarmTable({ role }: { role: Role }) {
   const [view, setView] = useState<"active" | "history">("active");
@@ -111,10 +113,9 @@ export function AlarmTable({ role }: { role: Role }) {
     initialState: { pagination: { pageSize: 25 } },
   });
   const needing = alarms.filter((a) => ATTENTION_STATES.has(a.state)).length;
-  const sel = "rounded border border-line bg-surface px-2 py-1 text-sm";
   return (
     <div className="flex flex-col gap-3">
-      <div className="flex flex-wrap items-end gap-3">
+      <FilterRow label="Alarm filters">
         <div role="tablist" aria-label="Alarm view" className="flex gap-1">
           {(["active", "history"] as const).map((v) => (
             <button key={v} role="tab" aria-selected={view === v} type="button" onClick={() => setView(v)} className={`rounded border px-3 py-1 text-sm ${view === v ? "border-accent bg-raised" : "border-line"}`}>
@@ -122,48 +123,17 @@ export function AlarmTable({ role }: { role: Role }) {
             </button>
           ))}
         </div>
-        <label className="flex flex-col text-xs text-muted">
-          Priority
-          <select value={priority} onChange={(e) => setPriority(e.target.value)} className={sel}>
-            <option value="">all</option>
-            {ALARM_PRIORITIES.map((p) => (
-              <option key={p}>{p}</option>
-            ))}
-          </select>
-        </label>
-        <label className="flex flex-col text-xs text-muted">
-          State
-          <select value={state} onChange={(e) => setState(e.target.value)} className={sel}>
-            <option value="">all</option>
-            {ALARM_STATES.map((s) => (
-              <option key={s} value={s}>
-                {ALARM_STATE_WORDS[s]}
-              </option>
-            ))}
-          </select>
-        </label>
-        <label className="flex flex-col text-xs text-muted">
-          Loop or text
-          <input value={tag} onChange={(e) => setTag(e.target.value)} className={sel} placeholder="e.g. FIC" />
-        </label>
-        {view === "active" && (
-          <label className="flex items-center gap-1 text-sm">
-            <input type="checkbox" checked={showSuppressed} onChange={(e) => setShowSuppressed(e.target.checked)} /> include suppressed by design
-          </label>
-        )}
+        <FilterSelect label="Priority" value={priority} onChange={setPriority} options={ALARM_PRIORITIES} />
+        <FilterSelect label="State" value={state} onChange={setState} options={STATE_OPTIONS} />
+        <FilterInput label="Loop or text" value={tag} onChange={setTag} placeholder="e.g. FIC" />
+        {view === "active" && <FilterCheck label="include suppressed by design" checked={showSuppressed} onChange={setShowSuppressed} />}
         {view === "history" && (
           <>
-            <label className="flex flex-col text-xs text-muted">
-              From
-              <input type="datetime-local" value={from} onChange={(e) => setFrom(e.target.value)} className={sel} />
-            </label>
-            <label className="flex flex-col text-xs text-muted">
-              To
-              <input type="datetime-local" value={to} onChange={(e) => setTo(e.target.value)} className={sel} />
-            </label>
+            <FilterInput type="datetime-local" label="From" value={from} onChange={setFrom} />
+            <FilterInput type="datetime-local" label="To" value={to} onChange={setTo} />
           </>
         )}
-      </div>
+      </FilterRow>
       {error && <p role="alert" className="text-urgent">Could not load alarms: {error.message}</p>}
       <div className="overflow-x-auto rounded-md border border-line bg-surface">
         <table className="w-full text-sm" data-testid="alarm-table">

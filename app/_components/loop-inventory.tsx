@@ -16,6 +16,7 @@ import { TRACKER_STATES, roleAtLeast } from "@/lib/types";
 import { fmt, fmtAge, fmtSeconds } from "@/lib/client/format";
 import { useDecayLevels, useLoops, useNow } from "@/lib/client/hooks";
 import { compareWorstFirst, dataAge, worstPriority } from "@/lib/client/order";
+import { FilterCheck, FilterInput, FilterRow, FilterSelect } from "./form-field";
 import { PriorityMark } from "./priority-mark";
 import { SortableHead } from "./sortable-head";
 import { TrackerStateBadge } from "./tracker-state-badge";
@@ -88,7 +89,6 @@ export function LoopInventory({ role }: { role: Role }) {
     getPaginationRowModel: getPaginationRowModel(),
     initialState: { pagination: { pageSize: 50 } },
   });
-  const sel = "rounded border border-line bg-surface px-2 py-1 text-sm";
   return (
     <div className="flex flex-col gap-3">
       <div className="flex flex-wrap items-end justify-between gap-3">
@@ -99,33 +99,12 @@ export function LoopInventory({ role }: { role: Role }) {
           </Link>
         )}
       </div>
-      <div className="flex flex-wrap items-end gap-3">
-        <label className="flex flex-col text-xs text-muted">
-          Search
-          <input value={q} onChange={(e) => setQ(e.target.value)} className={sel} placeholder="tag, text, area" />
-        </label>
-        <label className="flex flex-col text-xs text-muted">
-          Site
-          <select value={site} onChange={(e) => setSite(e.target.value)} className={sel}>
-            <option value="">all</option>
-            {sites.map((s) => (
-              <option key={s}>{s}</option>
-            ))}
-          </select>
-        </label>
-        <label className="flex flex-col text-xs text-muted">
-          Tracker state
-          <select value={tracker} onChange={(e) => setTracker(e.target.value)} className={sel}>
-            <option value="">all</option>
-            {TRACKER_STATES.map((s) => (
-              <option key={s}>{s}</option>
-            ))}
-          </select>
-        </label>
-        <label className="flex items-center gap-1 text-sm">
-          <input type="checkbox" checked={alarmOnly} onChange={(e) => setAlarmOnly(e.target.checked)} /> with alarms only
-        </label>
-      </div>
+      <FilterRow label="Loop filters">
+        <FilterInput label="Search" value={q} onChange={setQ} placeholder="tag, text, area" />
+        <FilterSelect label="Site" value={site} onChange={setSite} options={sites} />
+        <FilterSelect label="Tracker state" value={tracker} onChange={setTracker} options={TRACKER_STATES} />
+        <FilterCheck label="with alarms only" checked={alarmOnly} onChange={setAlarmOnly} />
+      </FilterRow>
       {error && <p role="alert" className="text-urgent">Could not load loops: {error.message}</p>}
       <div className="overflow-x-auto rounded-md border border-line bg-surface">
         <table className="w-full text-sm" data-testid="loop-table">
