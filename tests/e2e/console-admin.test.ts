@@ -33,6 +33,24 @@ async function signIn(page: Page, email: string, password = DEMO_PASSWORD): Prom
   await page.waitForURL((u) => !u.pathname.startsWith("/signin"), { timeout: 30_000 });
 }
 
+/** The data-testid of the element that has focus (null when none has one). */
+function focusedTestId(page: Page): Promise<string | null> {
+  return page.evaluate(() => document.activeElement?.getAttribute("data-testid") ?? null);
+}
+
+interface Change {
+  entity: string;
+  entityId: number;
+  reason: string | null;
+  diff: Record<string, { from: unknown; to: unknown }>;
+}
+
+async function changesOf(page: Page, entity: string): Promise<Change[]> {
+  const r = await page.request.get(`${srv.url}/api/admin/config-changes?entity=${entity}`);
+  expect(r.status()).toBe(200);
+  return ((await r.json()) as { changes: Change[] }).changes;
+}
+
 describe("administration in Chromium", () => {
   it("an admin invites by e-mail; the one-time link sets a password once; the new user signs in with the invited role", async () => {
     const page = await browser.context.newPage();
@@ -102,9 +120,36 @@ describe("administration in Chromium", () => {
     expect(JSON.stringify(list)).not.toContain(secret);
     const bad = await page.request.delete(`${srv.url}/api/admin/devices/${dev!.id}`, { data: {} });
     expect(bad.status()).toBe(422);
-    const ok = await page.request.delete(`${srv.url}/api/admin/devices/${dev!.id}`, { data: { reason: "gateway replaced" } });
-    expect(ok.status()).toBe(200);
-    expect(((await ok.json()) as { device: { revokedAt: string | null } }).device.revokedAt).not.toBeNull();
+
+    // Revoke in the page: an in-page dialog (no window.prompt) with the caution, Escape leaves it
+    // and gives focus back to the button, an empty reason is refused with its message.
+    const revokeButton = page.getByTestId("admin-devices").locator("tr", { hasText: "Line 4 gateway" }).getByRole("button", { name: "Revoke" });
+    await revokeButton.click();
+    const dialog = page.getByRole("dialog", { name: "Revoke device credential" });
+    await dialog.waitFor();
+    expect(await dialog.getByTestId("dialog-caution").textContent()).toContain("stale");
+    expect(await focusedTestId(page)).toBe("reason-input");
+    await page.keyboard.press("Escape");
+    await dialog.waitFor({ state: "detached" });
+    expect(await page.evaluate(() => document.activeElement?.textContent)).toBe("Revoke");
+    expect((await (await page.request.get(`${srv.url}/api/admin/devices`)).json() as { devices: { id: number; revokedAt: string | null }[] }).devices.find((d) => d.id === dev!.id)?.revokedAt).toBeNull();
+
+    await revokeButton.click();
+    await dialog.waitFor();
+    // Tab from the last control comes back to the first: focus stays in the dialog.
+    await dialog.getByTestId("action-submit").focus();
+    await page.keyboard.press("Tab");
+    expect(await focusedTestId(page)).toBe("reason-input");
+    await dialog.getByTestId("action-submit").click();
+    await expect.poll(() => dialog.getByText("Give a reason (at least 3 characters).").count()).toBe(1);
+    expect(await dialog.getByTestId("reason-input").getAttribute("aria-invalid")).toBe("true");
+    await dialog.getByTestId("reason-input").fill("gateway replaced");
+    await page.screenshot({ path: artifactPath("console-admin-revoke-dialog.png") });
+    await dialog.getByTestId("action-submit").click();
+    await dialog.waitFor({ state: "detached", timeout: 15_000 });
+    await expect.poll(() => page.getByTestId("admin-devices").locator("tr", { hasText: "Line 4 gateway" }).textContent(), { timeout: 15_000 }).toContain("revoked");
+    const after = (await (await page.request.get(`${srv.url}/api/admin/devices`)).json()) as { devices: { id: number; revokedAt: string | null }[] };
+    expect(after.devices.find((d) => d.id === dev!.id)?.revokedAt).not.toBeNull();
     const log = (await (await page.request.get(`${srv.url}/api/admin/config-changes?entity=device_credential`)).json()) as { changes: { reason: string | null }[] };
     expect(log.changes.map((c) => c.reason)).toContain("gateway replaced");
     await page.close();
@@ -164,6 +209,101 @@ describe("administration in Chromium", () => {
     await page.screenshot({ path: artifactPath("console-loop-new-viewer.png"), fullPage: true });
     await page.getByRole("heading", { name: "FIC-9001" }).waitFor({ timeout: 30_000 });
     expect(await page.getByRole("link", { name: "Edit loop" }).count()).toBe(0);
+    await page.close();
+  }, 180_000);
+
+  it("role changes, rule deletion and a new area ask for their reason in the page; each reason reaches the change log; a refusal keeps the typed reason", async () => {
+    const page = await browser.context.newPage();
+    // None of this may fall back on the browser's own prompt.
+    const browserPrompts: string[] = [];
+    page.on("dialog", (d) => {
+      browserPrompts.push(d.message());
+      void d.dismiss();
+    });
+    await signIn(page, "admin@vantrell.example");
+
+    // Role change: operator -> viewer, with the caution that the member can no longer acknowledge.
+    await page.goto(`${srv.url}/admin?section=users`);
+    const roleSelect = page.getByLabel("Role of operator@vantrell.example");
+    await roleSelect.waitFor({ timeout: 15_000 });
+    await roleSelect.selectOption("viewer");
+    const roleDialog = page.getByRole("dialog", { name: "Change role" });
+    await roleDialog.waitFor();
+    expect(await roleDialog.textContent()).toContain("operator → viewer");
+    expect(await roleDialog.getByTestId("dialog-caution").textContent()).toContain("can no longer acknowledge");
+    // The select still shows the current role until the change is made.
+    expect(await roleSelect.inputValue()).toBe("operator");
+    await roleDialog.getByTestId("action-submit").click();
+    await expect.poll(() => roleDialog.getByText("Give a reason (at least 3 characters).").count()).toBe(1);
+    await roleDialog.getByTestId("reason-input").fill("moved to the day-shift planning desk");
+    await roleDialog.getByTestId("action-submit").click();
+    await roleDialog.waitFor({ state: "detached", timeout: 15_000 });
+    await expect.poll(() => roleSelect.inputValue(), { timeout: 15_000 }).toBe("viewer");
+    const roleLog = await changesOf(page, "membership");
+    const logged = roleLog.find((c) => c.reason === "moved to the day-shift planning desk");
+    expect(logged?.diff.role).toEqual({ from: "operator", to: "viewer" });
+
+    // A refusal from the server shows in the dialog and the typed reason stays: the membership is
+    // removed behind the dialog's back, so the role change answers 404.
+    const members = (await (await page.request.get(`${srv.url}/api/admin/users`)).json()) as { members: { membershipId: number; email: string }[] };
+    const target = members.members.find((m) => m.email === "operator@vantrell.example")!;
+    await roleSelect.selectOption("operator");
+    await roleDialog.waitFor();
+    await roleDialog.getByTestId("reason-input").fill("back on shift rota");
+    const gone = await page.request.delete(`${srv.url}/api/admin/users/${target.membershipId}`, { data: { reason: "left the site" } });
+    expect(gone.status()).toBe(204);
+    await roleDialog.getByTestId("action-submit").click();
+    await expect.poll(() => roleDialog.getByTestId("dialog-error").count(), { timeout: 15_000 }).toBe(1);
+    expect(await roleDialog.getByTestId("dialog-error").textContent()).toMatch(/not found/i);
+    expect(await roleDialog.getByTestId("reason-input").inputValue()).toBe("back on shift rota");
+    await page.screenshot({ path: artifactPath("console-admin-role-refused.png") });
+    await roleDialog.getByRole("button", { name: "Cancel" }).click();
+    await roleDialog.waitFor({ state: "detached" });
+    expect((await changesOf(page, "membership")).map((c) => c.reason)).toContain("left the site");
+
+    // Notification rule: made with the shared form fields, deleted through the dialog.
+    await page.goto(`${srv.url}/admin?section=notifications`);
+    const rules = page.getByTestId("admin-rules");
+    await rules.getByLabel("Rule name").fill("Night shift escalation");
+    await rules.getByLabel("Recipients (e-mail addresses, comma separated)").fill("night.lead@vantrell.example");
+    await rules.getByRole("button", { name: "Add rule" }).click();
+    // The form's own reason field refuses first, beside the field.
+    await expect.poll(() => rules.getByText("Give a change reason.").count()).toBe(1);
+    await rules.getByLabel("Change reason").fill("night cover for the new line");
+    await rules.getByRole("button", { name: "Add rule" }).click();
+    const ruleRow = rules.locator("li", { hasText: "Night shift escalation" });
+    await ruleRow.waitFor({ timeout: 15_000 });
+    await ruleRow.getByRole("button", { name: "Delete" }).click();
+    const ruleDialog = page.getByRole("dialog", { name: "Delete notification rule" });
+    await ruleDialog.waitFor();
+    expect(await ruleDialog.getByTestId("dialog-caution").textContent()).toContain("no longer be e-mailed");
+    await ruleDialog.getByTestId("reason-input").fill("  ");
+    await ruleDialog.getByTestId("action-submit").click();
+    await expect.poll(() => ruleDialog.getByText("Give a reason (at least 3 characters).").count()).toBe(1);
+    await ruleDialog.getByTestId("reason-input").fill("replaced by the area rule");
+    await ruleDialog.getByTestId("action-submit").click();
+    await ruleDialog.waitFor({ state: "detached", timeout: 15_000 });
+    await expect.poll(() => ruleRow.count(), { timeout: 15_000 }).toBe(0);
+    const ruleLog = await changesOf(page, "notification_rule");
+    expect(ruleLog.find((c) => c.reason === "replaced by the area rule")?.diff.name).toEqual({ from: "Night shift escalation", to: null });
+
+    // New operator area: a name and a reason, both checked in the page.
+    await page.goto(`${srv.url}/admin?section=sites`);
+    const site = page.getByTestId("admin-sites").locator("li").first();
+    await site.getByRole("button", { name: "Add area" }).click();
+    const areaDialog = page.getByRole("dialog", { name: "Add operator area" });
+    await areaDialog.waitFor();
+    expect(await areaDialog.getByTestId("dialog-caution").count()).toBe(0);
+    await areaDialog.getByTestId("action-submit").click();
+    await expect.poll(() => areaDialog.getByText("Give a name (at least 2 characters).").count()).toBe(1);
+    await areaDialog.getByLabel("Area name").fill("Tank farm east");
+    await areaDialog.getByTestId("reason-input").fill("new tanks commissioned");
+    await areaDialog.getByTestId("action-submit").click();
+    await areaDialog.waitFor({ state: "detached", timeout: 15_000 });
+    await expect.poll(() => site.textContent(), { timeout: 15_000 }).toContain("Tank farm east");
+    expect((await changesOf(page, "area")).map((c) => c.reason)).toContain("new tanks commissioned");
+
+    expect(browserPrompts).toEqual([]);
     await page.close();
   }, 180_000);
 });
