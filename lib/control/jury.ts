@@ -111,6 +111,7 @@ export function juryStable(coeffs: ArrayLike<number>, length: number = coeffs.le
   if (first < 0) throw new ControlArgumentError("juryStable: the zero polynomial has no stability verdict");
   const n = length - 1 - first;
   if (n < 1) throw new ControlArgumentError("juryStable: degree must be at least 1 (a constant has no roots)");
+  if (n === 3) return cubicStable(coeffs[first]!, coeffs[first + 1]!, coeffs[first + 2]!, coeffs[first + 3]!);
   if (scratch.length < n + 1) scratch = new Float64Array(2 * (n + 1));
   const sign = coeffs[first]! < 0 ? -1 : 1;
   let p1 = 0;
@@ -134,4 +135,24 @@ export function juryStable(coeffs: ArrayLike<number>, length: number = coeffs.le
     if (!(scratch[0]! > 0)) return false;
   }
   return true;
+}
+
+/**
+ * Jury's conditions written out for a cubic c0 z^3 + c1 z^2 + c2 z + c3 (the tracker's common
+ * case: a second-order plant under a PI), with c0 > 0 after a sign change: P(1) > 0,
+ * (-1)^3 P(-1) > 0, |c3| < c0, and the one condition of the second table row,
+ * |c3^2 - c0^2| > |c3 c1 - c0 c2| (Jury 1964; Ogata, *Discrete-Time Control Systems*, 2nd ed.,
+ * 1995, sec. 4-3, the third-order case). Strict inequalities: a root on the circle is not stable.
+ */
+function cubicStable(c0: number, c1: number, c2: number, c3: number): boolean {
+  if (c0 < 0) {
+    c0 = -c0;
+    c1 = -c1;
+    c2 = -c2;
+    c3 = -c3;
+  }
+  if (!(c0 + c1 + c2 + c3 > 0)) return false; // P(1) > 0
+  if (!(c0 - c1 + c2 - c3 > 0)) return false; // -P(-1) > 0
+  if (!(Math.abs(c3) < c0)) return false;
+  return Math.abs(c3 * c3 - c0 * c0) > Math.abs(c3 * c1 - c0 * c2);
 }

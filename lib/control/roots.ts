@@ -438,10 +438,10 @@ function sortRoots(re: Float64Array, im: Float64Array, n: number): void {
  * (caller falls back to the iteration) if anything is non-finite.
  */
 function cubic(coeffs: ArrayLike<number>, first: number, outRe: Float64Array, outIm: Float64Array, warmStart: boolean): boolean {
-  const lead = coeffs[first]!;
-  const a = coeffs[first + 1]! / lead;
-  const b = coeffs[first + 2]! / lead;
-  const c = coeffs[first + 3]! / lead;
+  const inv = 1 / coeffs[first]!;
+  const a = coeffs[first + 1]! * inv;
+  const b = coeffs[first + 2]! * inv;
+  const c = coeffs[first + 3]! * inv;
   if (warmStart) {
     // the previous call's real root (the first, i.e. largest, real one after sorting) seeds Newton;
     // accepted only at the rounding level of evaluating p, otherwise the closed form below
@@ -453,19 +453,21 @@ function cubic(coeffs: ArrayLike<number>, first: number, outRe: Float64Array, ou
       }
     }
     if (Number.isFinite(seed)) {
+      // accepted once |p| is at the rounding level of evaluating p (16 EPS times the sum of the
+      // terms' magnitudes): Newton has then done what polishing would do
+      const aa = Math.abs(a);
+      const ab = Math.abs(b);
+      const ac = Math.abs(c);
       let x = seed;
-      let p = ((x + a) * x + b) * x + c;
-      for (let step = 0; step < 4 && p !== 0; step++) {
+      for (let step = 0; step < 5; step++) {
+        const p = ((x + a) * x + b) * x + c;
+        const ax = Math.abs(x);
+        if (Math.abs(p) <= 16 * EPS * (((ax + aa) * ax + ab) * ax + ac)) return deflatedCubic(a, b, c, x, outRe, outIm);
+        if (step === 4) break;
         const d = (3 * x + 2 * a) * x + b;
         if (d === 0) break;
-        const dx = p / d;
-        x -= dx;
-        p = ((x + a) * x + b) * x + c;
-        if (Math.abs(dx) <= EPS * Math.abs(x)) break; // converged to the last bit
+        x -= p / d;
       }
-      const ax = Math.abs(x);
-      // at the rounding level of evaluating p: Newton has done what polishing would do
-      if (Math.abs(p) <= 16 * EPS * (((ax + Math.abs(a)) * ax + Math.abs(b)) * ax + Math.abs(c))) return deflatedCubic(a, b, c, x, outRe, outIm);
     }
   }
   const a3 = a / 3;
@@ -531,8 +533,9 @@ function deflatedCubic(a: number, b: number, c: number, x0: number, outRe: Float
     const d2 = dr * dr + di * di;
     const p2 = pr * pr + pi * pi;
     if (d2 !== 0 && p2 !== 0) {
-      const nre = re - (pr * dr + pi * di) / d2;
-      const nim = im - (pi * dr - pr * di) / d2;
+      const id2 = 1 / d2;
+      const nre = re - (pr * dr + pi * di) * id2;
+      const nim = im - (pi * dr - pr * di) * id2;
       let qr = nre + a;
       let qi = nim;
       t = qr * nre - qi * nim + b;

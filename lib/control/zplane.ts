@@ -221,6 +221,12 @@ export function dominantPoleInto(re: Float64Array, im: Float64Array, count: numb
     out.wn = mag / T;
     out.zeta = mag === 0 ? 0 : -lnr / mag;
     if (kind === "positive-real" && radius < 1) out.timeConstant = -T / lnr;
+    if (osc === dom && kind === "complex" && theta > 0) {
+      // the dominant pole is the oscillating one (upper half plane): r^(2 pi / theta) from the
+      // logarithm and angle just taken
+      out.decayRatio = Math.exp((2 * Math.PI * lnr) / theta);
+      return out;
+    }
   }
   if (osc >= 0) {
     // the same tests as decayRatio(): off the real axis, r^(2 pi / theta) = exp(2 pi ln r / theta)

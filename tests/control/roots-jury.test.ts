@@ -243,6 +243,33 @@ describe("juryTest", () => {
     expect(checked - stableCount).toBeGreaterThan(200);
   });
 
+  it("cubics (the tracker's case, written-out conditions): a root exactly on the circle is not stable, and the verdict matches the roots on 2,000 seeded cubics", () => {
+    // Exact on-circle cubics: a root at z = 1, at z = -1, and the pair z = +-j (every coefficient
+    // exact in binary, so the verdict is decided on the boundary itself).
+    const onCircle = [
+      polyFromRoots([{ re: 1, im: 0 }, { re: 0.5, im: 0 }, { re: -0.25, im: 0 }]),
+      polyFromRoots([{ re: -1, im: 0 }, { re: 0.5, im: 0 }, { re: 0.25, im: 0 }]),
+      [1, -0.5, 1, -0.5], // (z^2 + 1)(z - 0.5)
+    ];
+    for (const c of onCircle) {
+      expect(juryStable(c), JSON.stringify(c)).toBe(false);
+      expect(juryStable(c.map((x) => -2 * x)), JSON.stringify(c)).toBe(false);
+      expect(juryTest(c).stable).toBe(false);
+    }
+    const rand = mulberry32(77);
+    let stableCount = 0;
+    for (let i = 0; i < 2000; i++) {
+      const roots = randomRoots(rand, 3, () => (rand() < 0.5 ? 1 + (2 * rand() - 1) * 1e-3 : 1.3 * rand()));
+      if (Math.min(...roots.map((z) => Math.abs(abs(z) - 1))) < 1e-9) continue;
+      const truth = Math.max(...roots.map(abs)) < 1;
+      const c = polyFromRoots(roots);
+      expect(juryStable(c)).toBe(truth);
+      expect(juryStable(c.map((x) => -0.4 * x))).toBe(truth);
+      if (truth) stableCount++;
+    }
+    expect(stableCount).toBeGreaterThan(300);
+  });
+
   it("rejects degree 0, the zero polynomial and non-finite input with named errors", () => {
     expect(() => juryTest([5])).toThrow(ControlArgumentError);
     expect(() => juryTest([0, 0, 0])).toThrow(ControlArgumentError);
