@@ -53,6 +53,8 @@ const DIRECTIONAL_MIN_R = 1e-10;
 export class RecursiveLeastSquares {
   readonly n: number;
   readonly forgetting: number;
+  /** (1 - lambda) / lambda, for directional forgetting. */
+  private readonly forgetRatio: number;
   readonly windup: WindupGuard;
   readonly maxTrace: number;
   /** Parameter estimate (live view; copy before keeping). */
@@ -81,6 +83,7 @@ export class RecursiveLeastSquares {
     }
     this.n = n;
     this.forgetting = lambda;
+    this.forgetRatio = (1 - lambda) / lambda;
     this.windup = windup;
     this.p0 = new Float64Array(n * n);
     const ic = options.initialCovariance ?? 1000;
@@ -162,15 +165,13 @@ export class RecursiveLeastSquares {
     const err = y - yhat;
     const lambda = this.forgetting;
     if (this.windup === "directional") {
-      const g = err / (1 + r);
+      const inv1r = 1 / (1 + r);
+      const g = err * inv1r;
       for (let i = 0; i < n; i++) th[i] = th[i]! + pphi[i]! * g;
-      let c: number;
-      if (r > DIRECTIONAL_MIN_R && lambda < 1) {
-        const beta = lambda - (1 - lambda) / r;
-        c = 1 / (1 / beta + r);
-      } else {
-        c = 1 / (1 + r);
-      }
+      // c = 1 / (1/beta + r) with beta = lambda - (1 - lambda)/r; since 1 + beta r = lambda (1 + r),
+      // c = beta / (lambda (1 + r)) = (1 - ((1 - lambda)/lambda) / r) / (1 + r): two divisions, and
+      // no division by a beta near zero
+      const c = r > DIRECTIONAL_MIN_R && lambda < 1 ? (1 - this.forgetRatio / r) * inv1r : inv1r;
       for (let i = 0; i < n; i++) {
         const pi = pphi[i]! * c;
         for (let j = i; j < n; j++) {
