@@ -86,6 +86,11 @@ function checkInt(name: string, v: number, min: number): void {
   if (!Number.isInteger(v) || v < min) throw new ControlArgumentError(`${name} must be an integer >= ${min}, got ${v}`);
 }
 
+/**
+ * Recursive instrumental-variable ARX estimator for closed-loop data (method in the file header):
+ * push(u, y, r) per sample at period T (seconds); model() gives descending-power A and B with nk
+ * and T; parameterCovariance() the IV covariance scaled by the residual variance.
+ */
 export class InstrumentalArxEstimator {
   readonly na: number;
   readonly nb: number;

@@ -50,6 +50,11 @@ export interface RlsOptions {
 /** Smallest phi'P phi for which directional forgetting is applied (below it: data update only). */
 const DIRECTIONAL_MIN_R = 1e-10;
 
+/**
+ * Recursive least squares for y(k) = phi(k)' theta + e(k) with exponential forgetting and a
+ * wind-up guard (method and guards in the file header). Allocation-free per update; the
+ * covariance is kept symmetric and re-initialised if it loses definiteness.
+ */
 export class RecursiveLeastSquares {
   readonly n: number;
   readonly forgetting: number;
