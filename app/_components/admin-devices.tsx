@@ -9,7 +9,7 @@ import type { DeviceDto } from "@/lib/admin/devices";
 import type { SiteDto } from "@/lib/admin/sites";
 import { fetchJson, sendJson } from "@/lib/client/fetcher";
 import { fmtTime } from "@/lib/client/format";
-import { Field, INPUT_CLASS, SUBMIT_CLASS } from "./form-field";
+import { Field, FormAlert, INPUT_CLASS, SUBMIT_CLASS, useServerError } from "./form-field";
 import { ReasonDialog } from "./reason-dialog";
 
 const form = z.object({ name: z.string().trim().min(2, "Name the device (at least 2 characters)."), siteId: z.number().int().positive().nullable() });
@@ -18,7 +18,7 @@ export function AdminDevices() {
   const { data, error, mutate } = useSWR("/api/admin/devices", (u: string) => fetchJson<{ devices: DeviceDto[] }>(u));
   const sites = useSWR("/api/admin/sites", (u: string) => fetchJson<{ sites: SiteDto[] }>(u));
   const [created, setCreated] = useState<(DeviceDto & { secret: string }) | null>(null);
-  const [err, setErr] = useState<string | null>(null);
+  const { error: err, attempt } = useServerError();
   const [revoking, setRevoking] = useState<DeviceDto | null>(null);
   const {
     register,
@@ -26,17 +26,14 @@ export function AdminDevices() {
     reset,
     formState: { errors, isSubmitting },
   } = useForm<z.infer<typeof form>>({ resolver: zodResolver(form), defaultValues: { name: "", siteId: null } });
-  const create = handleSubmit(async (v) => {
-    setErr(null);
-    try {
+  const create = handleSubmit((v) =>
+    attempt(async () => {
       const r = await sendJson<{ device: DeviceDto & { secret: string } }>("/api/admin/devices", "POST", v);
       setCreated(r.device);
       reset({ name: "", siteId: v.siteId });
       void mutate();
-    } catch (x) {
-      setErr(x instanceof Error ? x.message : String(x));
-    }
-  });
+    }),
+  );
   return (
     <section className="flex flex-col gap-3" aria-label="Device credentials" data-testid="admin-devices">
       <form onSubmit={create} noValidate className="flex flex-wrap items-end gap-3 rounded-md border border-line bg-surface p-3">
@@ -56,7 +53,7 @@ export function AdminDevices() {
         <button type="submit" disabled={isSubmitting} className={SUBMIT_CLASS}>
           Create credential
         </button>
-        {err && <p role="alert" className="w-full text-sm text-urgent">{err}</p>}
+        <FormAlert error={err} />
       </form>
       {created && (
         <div role="status" className="rounded-md border-2 border-accent bg-surface p-3 text-sm" data-testid="device-secret">

@@ -10,7 +10,7 @@ import type { SiteDto } from "@/lib/admin/sites";
 import { ALARM_PRIORITIES } from "@/lib/types";
 import { fetchJson, sendJson } from "@/lib/client/fetcher";
 import { fmtTime } from "@/lib/client/format";
-import { CheckField, Field, INPUT_CLASS, SUBMIT_CLASS } from "./form-field";
+import { CheckField, Field, FormAlert, INPUT_CLASS, SUBMIT_CLASS, useServerError } from "./form-field";
 import { ReasonDialog } from "./reason-dialog";
 
 const nullableInt = (v: unknown) => (v === "" || v === null || v === undefined ? null : Number(v));
@@ -29,7 +29,7 @@ export function AdminRules() {
   const { data, error, mutate } = useSWR("/api/admin/notification-rules", (u: string) => fetchJson<{ rules: RuleDto[] }>(u));
   const sites = useSWR("/api/admin/sites", (u: string) => fetchJson<{ sites: SiteDto[] }>(u));
   const areas = sites.data?.sites.flatMap((s) => s.areas.map((a) => ({ ...a, site: s.name }))) ?? [];
-  const [err, setErr] = useState<string | null>(null);
+  const { error: err, attempt } = useServerError();
   const [deleting, setDeleting] = useState<RuleDto | null>(null);
   const {
     register,
@@ -40,16 +40,13 @@ export function AdminRules() {
     resolver: zodResolver(ruleForm),
     defaultValues: { name: "", areaId: null, recipients: "", minPriority: "high", escalationMinutes: 15, repeatMinutes: 60, enabled: true, reason: "" },
   });
-  const create = handleSubmit(async (v) => {
-    setErr(null);
-    try {
+  const create = handleSubmit((v) =>
+    attempt(async () => {
       await sendJson("/api/admin/notification-rules", "POST", { ...v, recipients: v.recipients.split(/[\s,;]+/).filter(Boolean) });
       reset();
       void mutate();
-    } catch (x) {
-      setErr(x instanceof Error ? x.message : String(x));
-    }
-  });
+    }),
+  );
   return (
     <section className="flex flex-col gap-3" aria-label="Notification rules" data-testid="admin-rules">
       <form onSubmit={create} noValidate className="grid gap-3 rounded-md border border-line bg-surface p-3 md:grid-cols-4">
@@ -93,7 +90,7 @@ export function AdminRules() {
         <button type="submit" disabled={isSubmitting} className={`self-end ${SUBMIT_CLASS}`}>
           Add rule
         </button>
-        {err && <p role="alert" className="text-sm text-urgent md:col-span-4">{err}</p>}
+        <FormAlert error={err} className="md:col-span-4" />
       </form>
       {error && <p className="text-sm text-urgent">{(error as Error).message}</p>}
       <ul className="flex flex-col gap-1 text-sm">
@@ -136,7 +133,7 @@ const siteForm = z.object({ name: z.string().trim().min(2, "Name the site."), ti
 
 export function AdminSites() {
   const { data, error, mutate } = useSWR("/api/admin/sites", (u: string) => fetchJson<{ sites: SiteDto[] }>(u));
-  const [err, setErr] = useState<string | null>(null);
+  const { error: err, attempt } = useServerError();
   const [areaFor, setAreaFor] = useState<SiteDto | null>(null);
   const {
     register,
@@ -144,16 +141,13 @@ export function AdminSites() {
     reset,
     formState: { errors, isSubmitting },
   } = useForm<z.infer<typeof siteForm>>({ resolver: zodResolver(siteForm), defaultValues: { name: "", timeZone: "UTC" } });
-  const create = handleSubmit(async (v) => {
-    setErr(null);
-    try {
+  const create = handleSubmit((v) =>
+    attempt(async () => {
       await sendJson("/api/admin/sites", "POST", v);
       reset();
       void mutate();
-    } catch (x) {
-      setErr(x instanceof Error ? x.message : String(x));
-    }
-  });
+    }),
+  );
   return (
     <section className="flex flex-col gap-3" aria-label="Sites and areas" data-testid="admin-sites">
       <form onSubmit={create} noValidate className="flex flex-wrap items-end gap-3 rounded-md border border-line bg-surface p-3">
@@ -166,7 +160,7 @@ export function AdminSites() {
         <button type="submit" disabled={isSubmitting} className={SUBMIT_CLASS}>
           Add site
         </button>
-        {err && <p role="alert" className="w-full text-sm text-urgent">{err}</p>}
+        <FormAlert error={err} />
       </form>
       {error && <p className="text-sm text-urgent">{(error as Error).message}</p>}
       <ul className="flex flex-col gap-2">

@@ -10,7 +10,7 @@ import { ROLES, roleAtLeast, type Role } from "@/lib/types";
 import { fetchJson, sendJson } from "@/lib/client/fetcher";
 import { useNow } from "@/lib/client/hooks";
 import { fmtTime } from "@/lib/client/format";
-import { Field, INPUT_CLASS, SUBMIT_CLASS } from "./form-field";
+import { Field, FormAlert, INPUT_CLASS, SUBMIT_CLASS, useServerError } from "./form-field";
 import { ReasonDialog } from "./reason-dialog";
 
 const inviteForm = z.object({ email: z.string().trim().email("Enter a valid e-mail address."), role: z.enum(ROLES) });
@@ -19,7 +19,7 @@ export function AdminUsers({ selfUserId }: { selfUserId: number }) {
   const { data, error, mutate } = useSWR("/api/admin/users", (u: string) => fetchJson<{ members: MemberDto[]; invitations: InvitationDto[] }>(u));
   const now = useNow(60_000);
   const [msg, setMsg] = useState<string | null>(null);
-  const [err, setErr] = useState<string | null>(null);
+  const { error: err, attempt } = useServerError();
   const [pending, setPending] = useState<{ member: MemberDto; role: Role | null } | null>(null);
   const {
     register,
@@ -27,18 +27,15 @@ export function AdminUsers({ selfUserId }: { selfUserId: number }) {
     reset,
     formState: { errors, isSubmitting },
   } = useForm<z.infer<typeof inviteForm>>({ resolver: zodResolver(inviteForm), defaultValues: { email: "", role: "viewer" } });
-  const invite = handleSubmit(async (v) => {
-    setErr(null);
-    setMsg(null);
-    try {
+  const invite = handleSubmit((v) =>
+    attempt(async () => {
+      setMsg(null);
       const r = await sendJson<{ invitation: InvitationDto & { mailed: boolean } }>("/api/admin/users", "POST", v);
       setMsg(r.invitation.mailed ? `Invitation sent to ${v.email}. The link is valid until ${fmtTime(r.invitation.expiresAt)}.` : "Invitation stored, but no mail service is running.");
       reset({ email: "", role: v.role });
       void mutate();
-    } catch (x) {
-      setErr(x instanceof Error ? x.message : String(x));
-    }
-  });
+    }),
+  );
   return (
     <section className="flex flex-col gap-3" aria-label="Users and roles" data-testid="admin-users">
       <form onSubmit={invite} noValidate className="flex flex-wrap items-end gap-3 rounded-md border border-line bg-surface p-3">
@@ -56,7 +53,7 @@ export function AdminUsers({ selfUserId }: { selfUserId: number }) {
           Invite
         </button>
         {msg && <p role="status" className="w-full text-sm">{msg}</p>}
-        {err && <p role="alert" className="w-full text-sm text-urgent">{err}</p>}
+        <FormAlert error={err} />
       </form>
       {error && <p className="text-sm text-urgent">{(error as Error).message}</p>}
       <table className="w-full rounded-md border border-line bg-surface text-sm">

@@ -9,7 +9,7 @@ import { useForm } from "react-hook-form";
 import { z } from "zod";
 import type { AlarmDto, AlarmPriority, AlarmState } from "@/lib/types";
 import { sendJson } from "@/lib/client/fetcher";
-import { Field, INPUT_CLASS } from "./form-field";
+import { Field, INPUT_CLASS, useServerError } from "./form-field";
 import { FormDialog } from "./reason-dialog";
 
 type Kind = "acknowledge" | "shelve" | "unshelve";
@@ -87,7 +87,7 @@ function ActionDialog({
   onClose: () => void;
   onDone: () => void;
 }) {
-  const [serverError, setServerError] = useState<string | null>(null);
+  const { error: serverError, attempt } = useServerError();
   const schema = kind === "shelve" ? shelveSchema : ackSchema(alarm.priority);
   const {
     register,
@@ -98,16 +98,13 @@ function ActionDialog({
     resolver: zodResolver(schema as never) as never,
     defaultValues: kind === "shelve" ? { minutes: 60, reason: "" } : { comment: "" },
   });
-  const submit = handleSubmit(async (v) => {
-    setServerError(null);
-    try {
+  const submit = handleSubmit((v) =>
+    attempt(async () => {
       const body = kind === "shelve" ? { minutes: Number(v.minutes), reason: v.reason } : { comment: v.comment ?? "" };
       await sendJson(`/api/alarms/${alarm.id}/${kind}`, "POST", body);
       onDone();
-    } catch (e) {
-      setServerError(e instanceof Error ? e.message : String(e));
-    }
-  });
+    }),
+  );
   return (
     <FormDialog
       title={TITLES[kind]}

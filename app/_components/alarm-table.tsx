@@ -26,6 +26,7 @@ import { FilterCheck, FilterInput, FilterRow, FilterSelect } from "./form-field"
 import { AlarmEvents } from "./loop-alarms";
 import { PriorityMark } from "./priority-mark";
 import { SortableHead } from "./sortable-head";
+import { EmptyRow, TablePager } from "./table-pager";
 
 const col = createColumnHelper<AlarmDto>();
 const PRIORITY_ORDER = { urgent: 0, high: 1, low: 2 } as const;
@@ -157,27 +158,11 @@ export function AlarmTable({ role }: { role: Role }) {
                 )}
               </Fragment>
             ))}
-            {rows.length === 0 && (
-              <tr>
-                <td colSpan={columns.length} className="px-2 py-3 text-muted">
-                  {isLoading ? "Loading…" : view === "active" ? "No active alarms." : "No alarms in this period."}
-                </td>
-              </tr>
-            )}
+            {rows.length === 0 && <EmptyRow span={columns.length}>{isLoading ? "Loading…" : view === "active" ? "No active alarms." : "No alarms in this period."}</EmptyRow>}
           </tbody>
         </table>
       </div>
-      <div className="flex items-center gap-2 text-sm">
-        <button type="button" className="rounded border border-line px-2 py-0.5 disabled:opacity-50" onClick={() => table.previousPage()} disabled={!table.getCanPreviousPage()}>
-          Previous
-        </button>
-        <span className="num">
-          page {table.getState().pagination.pageIndex + 1} of {Math.max(1, table.getPageCount())} · {rows.length} alarms
-        </span>
-        <button type="button" className="rounded border border-line px-2 py-0.5 disabled:opacity-50" onClick={() => table.nextPage()} disabled={!table.getCanNextPage()}>
-          Next
-        </button>
-      </div>
+      <TablePager table={table} count={<>{rows.length} alarms</>} />
     </div>
   );
 }

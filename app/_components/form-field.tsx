@@ -5,14 +5,22 @@
  * (react-hook-form's register, data-testid), the field only adds the label and the wiring that
  * lets a screen reader read the hint and the error with it.
  */
-import { cloneElement, useId, type ReactElement, type ReactNode } from "react";
+import {
+  cloneElement,
+  useCallback,
+  useId,
+  useState,
+  type ReactElement,
+  type ReactNode,
+} from "react";
 
 /** A text input or select in a form panel (panels are `bg-surface`, so the control is a step darker). */
 export const INPUT_CLASS = "rounded border border-line bg-ground px-2 py-1 text-sm";
 /** A control in a filter row on the page ground. */
 export const FILTER_CLASS = "rounded border border-line bg-surface px-2 py-1 text-sm";
 /** The primary button of a form. */
-export const SUBMIT_CLASS = "rounded bg-accent px-3 py-1 font-semibold text-accent-ink disabled:opacity-60";
+export const SUBMIT_CLASS =
+  "rounded bg-accent px-3 py-1 font-semibold text-accent-ink disabled:opacity-60";
 
 /** A react-hook-form field error, a message, or nothing. */
 export type FieldErrorLike = { message?: unknown } | string | null | undefined | false;
@@ -21,6 +29,43 @@ export function errorMessage(e: FieldErrorLike): string | null {
   if (!e) return null;
   if (typeof e === "string") return e;
   return e.message == null || e.message === "" ? null : String(e.message);
+}
+
+/**
+ * The server's refusal of a form: `attempt(send)` clears the last message, runs `send` and keeps
+ * the message of what it throws. The form's values stay as typed.
+ */
+export function useServerError(): {
+  error: string | null;
+  attempt: (send: () => Promise<void>) => Promise<void>;
+} {
+  const [error, setError] = useState<string | null>(null);
+  const attempt = useCallback(async (send: () => Promise<void>) => {
+    setError(null);
+    try {
+      await send();
+    } catch (x) {
+      setError(x instanceof Error ? x.message : String(x));
+    }
+  }, []);
+  return { error, attempt };
+}
+
+/** Where a form shows the server's refusal (announced when it appears). */
+export function FormAlert({
+  error,
+  className = "w-full",
+  testId,
+}: {
+  error: string | null;
+  className?: string;
+  testId?: string;
+}) {
+  return error ? (
+    <p role="alert" className={`text-sm text-urgent ${className}`} data-testid={testId}>
+      {error}
+    </p>
+  ) : null;
 }
 
 interface ControlProps {
@@ -50,11 +95,16 @@ export function Field({
   const auto = useId();
   const id = children.props.id ?? `${auto}-c`;
   const msg = errorMessage(error);
-  const described = [hint ? `${auto}-h` : null, msg ? `${auto}-e` : null].filter(Boolean).join(" ") || undefined;
+  const described =
+    [hint ? `${auto}-h` : null, msg ? `${auto}-e` : null].filter(Boolean).join(" ") || undefined;
   return (
     <div className={`flex flex-col gap-0.5 text-sm ${className}`}>
       <label htmlFor={id}>{label}</label>
-      {cloneElement(children, { id, "aria-describedby": described, "aria-invalid": msg ? true : undefined })}
+      {cloneElement(children, {
+        id,
+        "aria-describedby": described,
+        "aria-invalid": msg ? true : undefined,
+      })}
       {hint && (
         <span id={`${auto}-h`} className="text-xs text-muted">
           {hint}
@@ -70,7 +120,15 @@ export function Field({
 }
 
 /** A checkbox with its words to the right. */
-export function CheckField({ label, className = "", children }: { label: ReactNode; className?: string; children: ReactElement }) {
+export function CheckField({
+  label,
+  className = "",
+  children,
+}: {
+  label: ReactNode;
+  className?: string;
+  children: ReactElement;
+}) {
   return (
     <label className={`flex items-center gap-2 text-sm ${className}`}>
       {children} {label}
@@ -145,16 +203,31 @@ export function FilterInput({
 }) {
   return (
     <FilterLabel label={label}>
-      <input type={type} value={value} onChange={(e) => onChange(e.target.value)} className={FILTER_CLASS} placeholder={placeholder} />
+      <input
+        type={type}
+        value={value}
+        onChange={(e) => onChange(e.target.value)}
+        className={FILTER_CLASS}
+        placeholder={placeholder}
+      />
     </FilterLabel>
   );
 }
 
 /** An on/off filter. */
-export function FilterCheck({ label, checked, onChange }: { label: string; checked: boolean; onChange: (v: boolean) => void }) {
+export function FilterCheck({
+  label,
+  checked,
+  onChange,
+}: {
+  label: string;
+  checked: boolean;
+  onChange: (v: boolean) => void;
+}) {
   return (
     <label className="flex items-center gap-1 text-sm">
-      <input type="checkbox" checked={checked} onChange={(e) => onChange(e.target.checked)} /> {label}
+      <input type="checkbox" checked={checked} onChange={(e) => onChange(e.target.checked)} />{" "}
+      {label}
     </label>
   );
 }

@@ -19,6 +19,7 @@ import { compareWorstFirst, dataAge, worstPriority } from "@/lib/client/order";
 import { FilterCheck, FilterInput, FilterRow, FilterSelect } from "./form-field";
 import { PriorityMark } from "./priority-mark";
 import { SortableHead } from "./sortable-head";
+import { EmptyRow, TablePager } from "./table-pager";
 import { TrackerStateBadge } from "./tracker-state-badge";
 
 const col = createColumnHelper<LoopSummary>();
@@ -119,27 +120,11 @@ export function LoopInventory({ role }: { role: Role }) {
                 ))}
               </tr>
             ))}
-            {rows.length === 0 && (
-              <tr>
-                <td colSpan={columns.length} className="px-2 py-3 text-muted">
-                  {isLoading ? "Loading…" : loops.length === 0 ? "No loops yet." : "No loop matches the filters."}
-                </td>
-              </tr>
-            )}
+            {rows.length === 0 && <EmptyRow span={columns.length}>{isLoading ? "Loading…" : loops.length === 0 ? "No loops yet." : "No loop matches the filters."}</EmptyRow>}
           </tbody>
         </table>
       </div>
-      <div className="flex items-center gap-2 text-sm">
-        <button type="button" className="rounded border border-line px-2 py-0.5 disabled:opacity-50" onClick={() => table.previousPage()} disabled={!table.getCanPreviousPage()}>
-          Previous
-        </button>
-        <span className="num">
-          page {table.getState().pagination.pageIndex + 1} of {Math.max(1, table.getPageCount())} · {rows.length} of {loops.length} loops
-        </span>
-        <button type="button" className="rounded border border-line px-2 py-0.5 disabled:opacity-50" onClick={() => table.nextPage()} disabled={!table.getCanNextPage()}>
-          Next
-        </button>
-      </div>
+      <TablePager table={table} count={<>{rows.length} of {loops.length} loops</>} />
     </div>
   );
 }

@@ -7,12 +7,21 @@
  * is shown in the dialog and the typed words stay.
  */
 import { zodResolver } from "@hookform/resolvers/zod";
-import { useEffect, useId, useRef, useState, type FormEvent, type KeyboardEvent, type ReactNode } from "react";
+import {
+  useEffect,
+  useId,
+  useRef,
+  useState,
+  type FormEvent,
+  type KeyboardEvent,
+  type ReactNode,
+} from "react";
 import { useForm } from "react-hook-form";
 import { z } from "zod";
-import { Field, INPUT_CLASS, SUBMIT_CLASS } from "./form-field";
+import { Field, FormAlert, INPUT_CLASS, SUBMIT_CLASS, useServerError } from "./form-field";
 
-const FOCUSABLE = 'a[href], button:not([disabled]), input:not([disabled]), select:not([disabled]), textarea:not([disabled]), [tabindex]:not([tabindex="-1"])';
+const FOCUSABLE =
+  'a[href], button:not([disabled]), input:not([disabled]), select:not([disabled]), textarea:not([disabled]), [tabindex]:not([tabindex="-1"])';
 
 export function FormDialog({
   title,
@@ -44,7 +53,9 @@ export function FormDialog({
   const ref = useRef<HTMLDialogElement | null>(null);
   const id = useId();
   // What had focus when the dialog opened (read during the first render, before the dialog takes focus).
-  const [opener] = useState<HTMLElement | null>(() => (typeof document === "undefined" ? null : (document.activeElement as HTMLElement | null)));
+  const [opener] = useState<HTMLElement | null>(() =>
+    typeof document === "undefined" ? null : (document.activeElement as HTMLElement | null),
+  );
   useEffect(
     () => () => {
       // Unmounted by its owner after success: no close event comes, so give focus back here.
@@ -53,7 +64,8 @@ export function FormDialog({
     },
     [opener],
   );
-  const described = [lead ? `${id}-l` : null, caution ? `${id}-c` : null].filter(Boolean).join(" ") || undefined;
+  const described =
+    [lead ? `${id}-l` : null, caution ? `${id}-c` : null].filter(Boolean).join(" ") || undefined;
 
   const keepTabInside = (e: KeyboardEvent<HTMLDialogElement>) => {
     if (e.key !== "Tab" || !ref.current) return;
@@ -76,7 +88,10 @@ export function FormDialog({
         ref.current = el;
         if (el && !el.open) {
           el.showModal();
-          (el.querySelector<HTMLElement>("[data-autofocus]") ?? el.querySelector<HTMLElement>("input, select, textarea"))?.focus();
+          (
+            el.querySelector<HTMLElement>("[data-autofocus]") ??
+            el.querySelector<HTMLElement>("input, select, textarea")
+          )?.focus();
         }
       }}
       onCancel={(e) => {
@@ -104,20 +119,31 @@ export function FormDialog({
         )}
         {children}
         {caution && (
-          <p id={`${id}-c`} role="note" className="border-l-2 border-high pl-2 text-xs text-muted" data-testid="dialog-caution">
+          <p
+            id={`${id}-c`}
+            role="note"
+            className="border-l-2 border-high pl-2 text-xs text-muted"
+            data-testid="dialog-caution"
+          >
             {caution}
           </p>
         )}
-        {error && (
-          <p role="alert" className="text-sm text-urgent" data-testid="dialog-error">
-            {error}
-          </p>
-        )}
+        <FormAlert error={error} className="" testId="dialog-error" />
         <div className="flex justify-end gap-2">
-          <button type="button" onClick={() => ref.current?.close()} disabled={busy} className="rounded border border-line px-3 py-1 disabled:opacity-60">
+          <button
+            type="button"
+            onClick={() => ref.current?.close()}
+            disabled={busy}
+            className="rounded border border-line px-3 py-1 disabled:opacity-60"
+          >
             Cancel
           </button>
-          <button type="submit" disabled={busy} className={SUBMIT_CLASS} data-testid="action-submit">
+          <button
+            type="submit"
+            disabled={busy}
+            className={SUBMIT_CLASS}
+            data-testid="action-submit"
+          >
             {busy ? "Sending…" : submitLabel}
           </button>
         </div>
@@ -127,7 +153,11 @@ export function FormDialog({
 }
 
 /** The server's limits for a change reason (lib/admin/route-helpers.ts `reasonSchema`). */
-const reasonField = z.string().trim().min(3, "Give a reason (at least 3 characters).").max(500, "At most 500 characters.");
+const reasonField = z
+  .string()
+  .trim()
+  .min(3, "Give a reason (at least 3 characters).")
+  .max(500, "At most 500 characters.");
 
 export interface ReasonDialogProps {
   title: string;
@@ -144,35 +174,71 @@ export interface ReasonDialogProps {
   onClose: () => void;
 }
 
-export function ReasonDialog({ title, lead, caution, submitLabel, nameLabel, onConfirm, onDone, onClose }: ReasonDialogProps) {
-  const [serverError, setServerError] = useState<string | null>(null);
+export function ReasonDialog({
+  title,
+  lead,
+  caution,
+  submitLabel,
+  nameLabel,
+  onConfirm,
+  onDone,
+  onClose,
+}: ReasonDialogProps) {
+  const { error: serverError, attempt } = useServerError();
   const schema = z.object({
-    name: nameLabel ? z.string().trim().min(2, "Give a name (at least 2 characters).").max(120, "At most 120 characters.") : z.string(),
+    name: nameLabel
+      ? z
+          .string()
+          .trim()
+          .min(2, "Give a name (at least 2 characters).")
+          .max(120, "At most 120 characters.")
+      : z.string(),
     reason: reasonField,
   });
   const {
     register,
     handleSubmit,
     formState: { errors, isSubmitting },
-  } = useForm<z.infer<typeof schema>>({ resolver: zodResolver(schema), defaultValues: { name: "", reason: "" } });
-  const submit = handleSubmit(async (v) => {
-    setServerError(null);
-    try {
+  } = useForm<z.infer<typeof schema>>({
+    resolver: zodResolver(schema),
+    defaultValues: { name: "", reason: "" },
+  });
+  const submit = handleSubmit((v) =>
+    attempt(async () => {
       await onConfirm({ reason: v.reason.trim(), name: v.name.trim() });
       onDone();
-    } catch (e) {
-      setServerError(e instanceof Error ? e.message : String(e));
-    }
-  });
+    }),
+  );
   return (
-    <FormDialog title={title} lead={lead} caution={caution} submitLabel={submitLabel} busy={isSubmitting} error={serverError} onSubmit={(e) => void submit(e)} onClose={onClose} testId="reason-dialog">
+    <FormDialog
+      title={title}
+      lead={lead}
+      caution={caution}
+      submitLabel={submitLabel}
+      busy={isSubmitting}
+      error={serverError}
+      onSubmit={(e) => void submit(e)}
+      onClose={onClose}
+      testId="reason-dialog"
+    >
       {nameLabel && (
         <Field label={nameLabel} error={errors.name}>
-          <input {...register("name")} className={INPUT_CLASS} data-autofocus data-testid="dialog-name" />
+          <input
+            {...register("name")}
+            className={INPUT_CLASS}
+            data-autofocus
+            data-testid="dialog-name"
+          />
         </Field>
       )}
       <Field label="Change reason (kept in the change log)" error={errors.reason}>
-        <textarea {...register("reason")} rows={2} className={INPUT_CLASS} data-autofocus={nameLabel ? undefined : true} data-testid="reason-input" />
+        <textarea
+          {...register("reason")}
+          rows={2}
+          className={INPUT_CLASS}
+          data-autofocus={nameLabel ? undefined : true}
+          data-testid="reason-input"
+        />
       </Field>
     </FormDialog>
   );
