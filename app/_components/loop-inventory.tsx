@@ -11,7 +11,7 @@ import {
 } from "@tanstack/react-table";
 import Link from "next/link";
 import { useMemo, useState } from "react";
-import type { LoopSummary, Role } from "@/lib/types";
+import type { Role } from "@/lib/types";
 import { TRACKER_STATES, roleAtLeast } from "@/lib/types";
 import { fmt, fmtAge, fmtSeconds } from "@/lib/client/format";
 import { useDecayLevels, useLoops, useNow } from "@/lib/client/hooks";
@@ -22,7 +22,9 @@ import { SortableHead } from "./sortable-head";
 import { EmptyRow, TablePager } from "./table-pager";
 import { TrackerStateBadge } from "./tracker-state-badge";
 
-const col = createColumnHelper<LoopSummary>();
+/** A row as the live loop list gives it (its state may be a live summary rather than the full DTO). */
+type Row = ReturnType<typeof useLoops>["loops"][number];
+const col = createColumnHelper<Row>();
 
 export function LoopInventory({ role }: { role: Role }) {
   const { loops, error, isLoading } = useLoops();
