@@ -116,6 +116,41 @@ export interface AlarmDto {
   changedAt: string;
 }
 
+/** A pole as a live summary carries it: its place and radius, rounded, without uncertainty. */
+export interface PoleBrief extends Complex {
+  radius: number;
+}
+
+/**
+ * The live summary of one loop in a `loop:state` batch (ARCHITECTURE.md §8): what the control
+ * room, the wall, tiles, area summaries, the loop list and the worst-first order show. The same
+ * field names and meanings as LoopStateDto, rounded (server/realtime/summary.ts), without what
+ * only the loop detail shows (covariances, zeros, polynomial, forecast, fit, last sample). A
+ * LoopStateDto can stand wherever a LoopStateBrief is expected; the full state of a loop comes
+ * from `GET /api/loops/[id]` and, while the loop is watched, from `loop:detail`.
+ */
+export interface LoopStateBrief {
+  loopId: number;
+  tenantId: number;
+  at: number;
+  receivedAt: number | null;
+  trackerState: TrackerState;
+  stateReason: string | null;
+  estimationPeriodS: number;
+  spectralRadius: number | null;
+  rimDistance: number | null;
+  decayRatio: number | null;
+  juryStable: boolean | null;
+  dominant: { zeta: number | null; wn: number | null; timeConstant: number | null } | null;
+  gainHeadroom: number | null;
+  modelPoles: PoleBrief[];
+  dataPoles: PoleBrief[];
+  dataPolesKind: "closed-loop" | "disturbance-response";
+}
+
+/** A loop of the live loop list in the browser: the API's summary with a live state summary. */
+export type LiveLoopSummary = Omit<LoopSummary, "state"> & { state: LoopStateBrief | null };
+
 export interface LoopSummary {
   id: number;
   tenantId: number;

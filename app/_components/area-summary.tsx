@@ -1,5 +1,5 @@
 /** Per operator-area summary: loops, alarms by priority (shape + number), stale count, worst radius. */
-import type { AlarmPriority, LoopSummary } from "@/lib/types";
+import type { AlarmPriority, LiveLoopSummary } from "@/lib/types";
 import { ATTENTION_STATES, dataAge } from "@/lib/client/order";
 import { fmt } from "@/lib/client/format";
 import { PriorityShape } from "./priority-mark";
@@ -13,7 +13,7 @@ export interface AreaStats {
   worstRadius: number | null;
 }
 
-export function summariseAreas(loops: LoopSummary[], now: number): AreaStats[] {
+export function summariseAreas(loops: readonly LiveLoopSummary[], now: number): AreaStats[] {
   const m = new Map<string, AreaStats>();
   for (const l of loops) {
     const name = l.area ? `${l.siteName} · ${l.area}` : l.siteName;

@@ -11,7 +11,7 @@ import type { AlarmDto, Role } from "@/lib/types";
 import { roleAtLeast } from "@/lib/types";
 import { useAlarms, useDecayLevels, useLoops, useNow } from "@/lib/client/hooks";
 import { ATTENTION_STATES, WorstFirstOrder } from "@/lib/client/order";
-import type { LoopSummary } from "@/lib/types";
+import type { LiveLoopSummary } from "@/lib/types";
 import { CONDITION_WORDS, fmtClock } from "@/lib/client/format";
 import { AlarmActions } from "./alarm-actions";
 import { AreaSummaries, summariseAreas } from "./area-summary";
@@ -88,7 +88,7 @@ export function ControlRoom({ role }: { role: Role }) {
   );
 }
 
-function TileGrid({ loops, store, now, levels }: { loops: LoopSummary[]; store: ReturnType<typeof useLoops>["store"]; now: number; levels: { low: number; high: number } }) {
+function TileGrid({ loops, store, now, levels }: { loops: LiveLoopSummary[]; store: ReturnType<typeof useLoops>["store"]; now: number; levels: { low: number; high: number } }) {
   const parent = useRef<HTMLDivElement>(null);
   const [width, setWidth] = useState(1200);
   const [offset, setOffset] = useState(0);

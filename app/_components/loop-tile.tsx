@@ -7,7 +7,7 @@
  */
 import { useRouter } from "next/navigation";
 import { memo, useSyncExternalStore, type MouseEvent } from "react";
-import type { LoopSummary, PoleDto } from "@/lib/types";
+import type { LiveLoopSummary, PoleBrief } from "@/lib/types";
 import { DEFAULT_POLICY } from "@/lib/alarms/policy";
 import { dataAge, radiusForDecayRatio } from "@/lib/client/order";
 import { fmt, fmtAge } from "@/lib/client/format";
@@ -20,14 +20,14 @@ import { ZPlaneMap } from "./z-plane-map";
 
 export const TILE_HEIGHT = 176;
 
-export function dominantPole(poles: PoleDto[]): PoleDto | null {
-  let best: PoleDto | null = null;
+export function dominantPole(poles: PoleBrief[]): PoleBrief | null {
+  let best: PoleBrief | null = null;
   for (const p of poles) if (!best || p.radius > best.radius) best = p;
   return best;
 }
 
 /** Warning and alarm radii of the dominant mode from the period-invariant decay-ratio levels. */
-export function gaugeLevels(poles: PoleDto[], levels = DEFAULT_POLICY.decayRatio): { warn: number | null; alarm: number | null } {
+export function gaugeLevels(poles: PoleBrief[], levels = DEFAULT_POLICY.decayRatio): { warn: number | null; alarm: number | null } {
   const d = dominantPole(poles);
   if (!d) return { warn: null, alarm: null };
   const theta = Math.atan2(d.im, d.re);
@@ -58,7 +58,7 @@ function subscribeClock(fn: () => void): () => void {
 }
 const clockSnapshot = () => clockNow;
 
-function TileAge({ state, now }: { state: LoopSummary["state"]; now: number }) {
+function TileAge({ state, now }: { state: LiveLoopSummary["state"]; now: number }) {
   const tick = useSyncExternalStore(subscribeClock, clockSnapshot, () => now);
   const { ageS, stale } = dataAge(state, Math.max(now, tick));
   return (
@@ -69,7 +69,7 @@ function TileAge({ state, now }: { state: LoopSummary["state"]; now: number }) {
   );
 }
 
-function LoopTileInner({ loop, spark, now, big = false, levels: dr = DEFAULT_POLICY.decayRatio }: { loop: LoopSummary; spark?: Spark; now: number; big?: boolean; levels?: { low: number; high: number } }) {
+function LoopTileInner({ loop, spark, now, big = false, levels: dr = DEFAULT_POLICY.decayRatio }: { loop: LiveLoopSummary; spark?: Spark; now: number; big?: boolean; levels?: { low: number; high: number } }) {
   const st = loop.state;
   const { stale } = dataAge(st, now);
   const levels = st ? gaugeLevels(st.modelPoles.length ? st.modelPoles : st.dataPoles, dr) : { warn: null, alarm: null };

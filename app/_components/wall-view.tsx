@@ -6,7 +6,7 @@
  */
 import Link from "next/link";
 import { useEffect, useMemo, useState } from "react";
-import type { LoopSummary, Role } from "@/lib/types";
+import type { LiveLoopSummary, Role } from "@/lib/types";
 import { useDecayLevels, useLoops, useNow } from "@/lib/client/hooks";
 import { marginToAlarm, sortWorstFirst, worstPriority } from "@/lib/client/order";
 import { DEFAULT_POLICY } from "@/lib/alarms/policy";
@@ -30,7 +30,7 @@ function useViewport(): { w: number; h: number } {
 }
 
 /** Loops that stay on every page: any alarm needing a person, or past the alarm level. */
-export function pinnedLoops(sorted: LoopSummary[], max: number, decayAlarm = DEFAULT_POLICY.decayRatio.high): LoopSummary[] {
+export function pinnedLoops<L extends LiveLoopSummary>(sorted: readonly L[], max: number, decayAlarm = DEFAULT_POLICY.decayRatio.high): L[] {
   return sorted.filter((l) => worstPriority(l) !== null || marginToAlarm(l.state, decayAlarm) < 0).slice(0, max);
 }
 

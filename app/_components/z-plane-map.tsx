@@ -9,7 +9,10 @@
 import { memo, type ReactElement } from "react";
 import { dampingLocus, naturalFrequencyLocus } from "@/lib/control/zplane";
 import type { Complex } from "@/lib/control/types";
-import type { PoleDto } from "@/lib/types";
+import type { PoleBrief, PoleDto } from "@/lib/types";
+
+/** A pole to draw: a live summary's (place only) or a full state's (with its covariance for the ellipse). */
+export type MapPole = PoleBrief & { cov?: PoleDto["cov"] };
 
 const ZETAS = [0, 0.1, 0.2, 0.3, 0.4, 0.5, 0.6, 0.7, 0.8, 0.9];
 const WNT = [0.1, 0.2, 0.3, 0.4, 0.5, 0.6, 0.7, 0.8, 0.9, 1.0];
@@ -17,8 +20,8 @@ const WNT = [0.1, 0.2, 0.3, 0.4, 0.5, 0.6, 0.7, 0.8, 0.9, 1.0];
 const CHI2_95 = Math.sqrt(5.991);
 
 export interface ZPlaneMapProps {
-  modelPoles: PoleDto[];
-  dataPoles?: PoleDto[];
+  modelPoles: readonly MapPole[];
+  dataPoles?: readonly MapPole[];
   dataPolesKind?: "closed-loop" | "disturbance-response";
   zeros?: Complex[];
   /** Earlier model-pole sets, oldest first (the fading trail). */

@@ -6,10 +6,10 @@
 import { startTransition, useEffect, useMemo, useRef, useState, useSyncExternalStore } from "react";
 import useSWR from "swr";
 import { DEFAULT_POLICY } from "@/lib/alarms/policy";
-import type { AlarmDto, LoopSummary, SampleDto } from "@/lib/types";
+import type { AlarmDto, LiveLoopSummary, LoopStateDto, LoopSummary, SampleDto } from "@/lib/types";
 import { fetchJson } from "./fetcher";
 import { LoopStore } from "./loop-store";
-import { getSocket } from "./socket";
+import { getSocket, watchLoop } from "./socket";
 
 /** Accept either a bare array or `{ <key>: [...] }` from the API. */
 export function listOf<T>(body: unknown, key: string): T[] {
@@ -27,8 +27,11 @@ export function getLoopStore(): LoopStore {
   return sharedStore;
 }
 
-/** All loops of the tenant, live: the API's list merged with `loop:state` batches once per frame. */
-export function useLoops(): { loops: LoopSummary[]; store: LoopStore; error: Error | undefined; isLoading: boolean; connected: boolean } {
+/**
+ * All loops of the tenant, live: the API's list merged with `loop:state` batches (summaries,
+ * LoopStateBrief) once per frame. A loop's full state is `useLoop`'s.
+ */
+export function useLoops(): { loops: LiveLoopSummary[]; store: LoopStore; error: Error | undefined; isLoading: boolean; connected: boolean } {
   const store = getLoopStore();
   const { data, error, isLoading } = useSWR("/api/loops", (u: string) => fetchJson<unknown>(u), { revalidateOnFocus: true, refreshInterval: 60_000 });
   useEffect(() => {
@@ -90,11 +93,6 @@ export function useLoopSamples(loopId: number, keep = 3600): { samples: SampleDt
     const s = getSocket();
     buf.current = [];
     let raf = 0;
-    const watch = () =>
-      s.emit("loop:watch", loopId, (r) => {
-        if (!r.ok) setError(r.error);
-        else setError(null);
-      });
     const onSamples = (b: { loopId: number; samples: SampleDto[] }) => {
       if (b.loopId !== loopId) return;
       const arr = buf.current;
@@ -108,13 +106,11 @@ export function useLoopSamples(loopId: number, keep = 3600): { samples: SampleDt
         });
     };
     s.on("loop:samples", onSamples);
-    s.on("connect", watch);
-    if (s.connected) watch();
+    const unwatch = watchLoop(loopId, (r) => setError(r.ok ? null : r.error));
     return () => {
       s.off("loop:samples", onSamples);
-      s.off("connect", watch);
       if (raf) cancelAnimationFrame(raf);
-      s.emit("loop:unwatch", loopId);
+      unwatch();
     };
   }, [loopId, keep]);
   const current = view.loopId === loopId ? view : { samples: [] as SampleDto[], version: 0 };
@@ -156,8 +152,9 @@ export function useNow(ms = 1000): number {
 }
 
 /**
- * One loop, live: `GET /api/loops/[loopId]` merged with the tenant's `loop:state` batches.
- * Keeps the last `trailLength` model-pole sets for the z-plane trail.
+ * One loop, live: `GET /api/loops/[loopId]` merged with the loop's full states (`loop:detail`,
+ * sent while the loop is watched; this hook watches it). Keeps the last `trailLength`
+ * model-pole sets for the z-plane trail.
  */
 export function useLoop(loopId: number, trailLength = 24) {
   const { data, error, isLoading, mutate } = useSWR(`/api/loops/${loopId}`, (u: string) => fetchJson<unknown>(u));
@@ -166,28 +163,31 @@ export function useLoop(loopId: number, trailLength = 24) {
     const d = data as Record<string, unknown>;
     return ((d.loop && typeof d.loop === "object" ? d.loop : d) as LoopSummary & Record<string, unknown>) ?? null;
   }, [data]);
-  type Live = { loopId: number; state: NonNullable<LoopSummary["state"]>; trail: { re: number; im: number }[][] } | null;
+  type Live = { loopId: number; state: LoopStateDto; trail: { re: number; im: number }[][] } | null;
   const [liveRaw, setLive] = useState<Live>(null);
   useEffect(() => {
     const s = getSocket();
-    let pending: LoopSummary["state"] = null;
+    let pending: LoopStateDto | null = null;
     let raf = 0;
-    const on = (batch: NonNullable<LoopSummary["state"]>[]) => {
-      for (const st of batch) if (st.loopId === loopId) pending = st;
-      if (pending && !raf)
+    const on = (st: LoopStateDto) => {
+      if (st.loopId !== loopId) return;
+      pending = st;
+      if (!raf)
         raf = requestAnimationFrame(() => {
           raf = 0;
-          const st = pending;
+          const next = pending;
           pending = null;
-          if (!st) return;
-          const poles = st.modelPoles.map((p) => ({ re: p.re, im: p.im }));
-          setLive((prev) => ({ loopId, state: st, trail: [...(prev && prev.loopId === loopId ? prev.trail : []), poles].slice(-trailLength) }));
+          if (!next) return;
+          const poles = next.modelPoles.map((p) => ({ re: p.re, im: p.im }));
+          setLive((prev) => ({ loopId, state: next, trail: [...(prev && prev.loopId === loopId ? prev.trail : []), poles].slice(-trailLength) }));
         });
     };
-    s.on("loop:state", on);
+    s.on("loop:detail", on);
+    const unwatch = watchLoop(loopId);
     return () => {
-      s.off("loop:state", on);
+      s.off("loop:detail", on);
       if (raf) cancelAnimationFrame(raf);
+      unwatch();
     };
   }, [loopId, trailLength]);
   const live = liveRaw && liveRaw.loopId === loopId ? liveRaw : null;

@@ -1,10 +1,13 @@
 /**
- * Client-side store of the tenant's loops: seeded from `GET /api/loops`, updated by `loop:state`
- * batches. Updates are queued and applied once per animation frame (any number of batches ->
- * one render), and each loop keeps a short ring of recent radius and decay-ratio values for the
- * tile sparklines. Framework-free so the benchmark and the wall share it.
+ * Client-side store of the tenant's loops: seeded from `GET /api/loops` (full states), updated by
+ * `loop:state` batches (LoopStateBrief summaries) and by any full LoopStateDto a page hands it (a
+ * full state is a summary with more fields). A loop's state is replaced only by a newer one
+ * (`at`); a state for a loop the store does not know is dropped. Updates are queued and applied
+ * once per animation frame (any number of batches -> one render), and each loop keeps a short
+ * ring of recent radius and decay-ratio values for the tile sparklines. Framework-free so the
+ * benchmark and the wall share it.
  */
-import type { LoopStateDto, LoopSummary } from "@/lib/types";
+import type { LiveLoopSummary, LoopStateBrief } from "@/lib/types";
 
 export const SPARK_POINTS = 120;
 
@@ -18,12 +21,12 @@ export interface Spark {
 type Listener = () => void;
 
 export class LoopStore {
-  private loops = new Map<number, LoopSummary>();
+  private loops = new Map<number, LiveLoopSummary>();
   private sparks = new Map<number, Spark>();
-  private queue: LoopStateDto[] = [];
+  private queue: LoopStateBrief[] = [];
   private listeners = new Set<Listener>();
   private scheduled = false;
-  private snapshot: LoopSummary[] = [];
+  private snapshot: LiveLoopSummary[] = [];
   version = 0;
   /** Bumped when the set of loops or any loop's alarms change (not on live states): the wall re-sorts at once then. */
   structureVersion = 0;
@@ -31,8 +34,8 @@ export class LoopStore {
   constructor(private readonly schedule: (cb: () => void) => void = defaultSchedule) {}
 
   /** Replace the known loops (a fresh API answer); keeps sparklines of loops still present. */
-  seed(list: LoopSummary[]): void {
-    const next = new Map<number, LoopSummary>();
+  seed(list: readonly LiveLoopSummary[]): void {
+    const next = new Map<number, LiveLoopSummary>();
     for (const l of list) {
       const prev = this.loops.get(l.id);
       // A live state newer than the API's answer wins.
@@ -46,7 +49,7 @@ export class LoopStore {
   }
 
   /** Queue a batch of live states; applied on the next animation frame. */
-  enqueue(batch: LoopStateDto[]): void {
+  enqueue(batch: readonly LoopStateBrief[]): void {
     for (const s of batch) this.queue.push(s);
     if (!this.scheduled) {
       this.scheduled = true;
@@ -73,7 +76,7 @@ export class LoopStore {
   }
 
   /** Replace the alarm list of one loop (from `alarm:changed`). */
-  setAlarms(loopId: number, alarms: LoopSummary["alarms"]): void {
+  setAlarms(loopId: number, alarms: LiveLoopSummary["alarms"]): void {
     const l = this.loops.get(loopId);
     if (!l) return;
     this.loops.set(loopId, { ...l, alarms });
@@ -81,7 +84,7 @@ export class LoopStore {
     this.emit();
   }
 
-  get(loopId: number): LoopSummary | undefined {
+  get(loopId: number): LiveLoopSummary | undefined {
     return this.loops.get(loopId);
   }
 
@@ -90,14 +93,14 @@ export class LoopStore {
   }
 
   /** Stable array for useSyncExternalStore (a new array only after a change). */
-  getSnapshot = (): LoopSummary[] => this.snapshot;
+  getSnapshot = (): LiveLoopSummary[] => this.snapshot;
 
   subscribe = (fn: Listener): (() => void) => {
     this.listeners.add(fn);
     return () => this.listeners.delete(fn);
   };
 
-  private pushSpark(loopId: number, s: LoopStateDto): void {
+  private pushSpark(loopId: number, s: LoopStateBrief): void {
     let sp = this.sparks.get(loopId);
     if (!sp) {
       sp = { radius: new Float32Array(SPARK_POINTS).fill(NaN), decay: new Float32Array(SPARK_POINTS).fill(NaN), n: 0 };

@@ -5,7 +5,10 @@
  * period-invariant decay ratio where the dominant mode oscillates, and on the rim distance
  * only where it does not. Pure functions: used by the wall, the inventory and the benchmark.
  */
-import type { AlarmPriority, AlarmState, LoopStateDto, LoopSummary } from "@/lib/types";
+import type { AlarmPriority, AlarmState, LoopStateBrief, LoopSummary } from "@/lib/types";
+
+/** What the order reads of a loop: a REST LoopSummary (full state) and a live one (summary) both fit. */
+export type OrderedLoop = Pick<LoopSummary, "id" | "tag" | "alarms"> & { state: LoopStateBrief | null };
 
 const PRIORITY_RANK: Record<AlarmPriority, number> = { urgent: 0, high: 1, low: 2 };
 /** Alarm states that ask something of a person (normal, suppressed and out of service do not). */
@@ -28,14 +31,14 @@ export function worstPriority(loop: Pick<LoopSummary, "alarms">): AlarmPriority 
  * oscillating loops by (level - decay ratio) in [-1, 1], non-oscillating ones after them by
  * rim distance (offset by 1), loops without an estimate last.
  */
-export function marginToAlarm(state: LoopStateDto | null, decayAlarm = DEFAULT_DECAY_ALARM): number {
+export function marginToAlarm(state: Pick<LoopStateBrief, "spectralRadius" | "juryStable" | "decayRatio" | "rimDistance"> | null, decayAlarm = DEFAULT_DECAY_ALARM): number {
   if (!state || state.spectralRadius === null) return Number.POSITIVE_INFINITY;
   if (state.spectralRadius >= 1 || state.juryStable === false) return -1 - (state.spectralRadius - 1);
   if (state.decayRatio !== null) return decayAlarm - state.decayRatio;
   return 1 + (state.rimDistance ?? 1 - state.spectralRadius);
 }
 
-export function compareWorstFirst(a: LoopSummary, b: LoopSummary, decayAlarm = DEFAULT_DECAY_ALARM): number {
+export function compareWorstFirst(a: OrderedLoop, b: OrderedLoop, decayAlarm = DEFAULT_DECAY_ALARM): number {
   const pa = worstPriority(a);
   const pb = worstPriority(b);
   const ra = pa === null ? 3 : PRIORITY_RANK[pa];
@@ -47,7 +50,7 @@ export function compareWorstFirst(a: LoopSummary, b: LoopSummary, decayAlarm = D
   return a.tag.localeCompare(b.tag);
 }
 
-export function sortWorstFirst(loops: LoopSummary[], decayAlarm = DEFAULT_DECAY_ALARM): LoopSummary[] {
+export function sortWorstFirst<L extends OrderedLoop>(loops: readonly L[], decayAlarm = DEFAULT_DECAY_ALARM): L[] {
   return [...loops].sort((a, b) => compareWorstFirst(a, b, decayAlarm));
 }
 
@@ -58,12 +61,12 @@ export function sortWorstFirst(loops: LoopSummary[], decayAlarm = DEFAULT_DECAY_
  * its margin crosses a step or its alarms change, so a wall refreshed every second does not
  * reshuffle on noise. Keys are computed once per loop (no priority/margin work inside the sort).
  */
-export function stableWorstFirst(
-  loops: LoopSummary[],
+export function stableWorstFirst<L extends OrderedLoop>(
+  loops: readonly L[],
   prevRank: ReadonlyMap<number, number> | null,
   decayAlarm = DEFAULT_DECAY_ALARM,
   quantum = 0.02,
-): LoopSummary[] {
+): L[] {
   const n = loops.length;
   const pr = new Float64Array(n);
   const mq = new Float64Array(n);
@@ -105,7 +108,7 @@ export function timeConstantOfRadius(r: number, T: number): number | null {
 }
 
 /** Age of the data in seconds; stale when older than `staleAfterS` (or 5 estimation periods, at least 15 s). */
-export function dataAge(state: LoopStateDto | null, now: number): { ageS: number | null; stale: boolean } {
+export function dataAge(state: Pick<LoopStateBrief, "receivedAt" | "estimationPeriodS" | "trackerState"> | null, now: number): { ageS: number | null; stale: boolean } {
   if (!state || state.receivedAt === null) return { ageS: null, stale: true };
   const ageS = Math.max(0, (now - state.receivedAt) / 1000);
   const staleAfterS = Math.max(15, 5 * state.estimationPeriodS);
@@ -116,7 +119,7 @@ export function dataAge(state: LoopStateDto | null, now: number): { ageS: number
 export class WorstFirstOrder {
   private rank: Map<number, number> | null = null;
 
-  sort(loops: LoopSummary[], decayAlarm = DEFAULT_DECAY_ALARM): LoopSummary[] {
+  sort<L extends OrderedLoop>(loops: readonly L[], decayAlarm = DEFAULT_DECAY_ALARM): L[] {
     const sorted = stableWorstFirst(loops, this.rank, decayAlarm);
     const m = new Map<number, number>();
     sorted.forEach((l, i) => m.set(l.id, i));

@@ -2,13 +2,21 @@
  * The Socket.IO event map (ARCHITECTURE.md §8, a contract). Server and browser both import
  * these types; a payload change is made here and nowhere else.
  */
-import type { AlarmDto, LoopStateDto, SampleDto } from "../types";
+import type { AlarmDto, LoopStateBrief, LoopStateDto, SampleDto } from "../types";
 
 export type WatchReply = { ok: true; loopId: number } | { ok: false; error: string };
 
 export interface ServerToClientEvents {
-  /** A batch of loop summaries of the client's tenant, at most every 500 ms per tenant. */
-  "loop:state": (batch: LoopStateDto[]) => void;
+  /**
+   * A batch of loop summaries of the client's tenant, at most every 500 ms per tenant: the latest
+   * LoopStateBrief of every loop that changed since the last batch (server/realtime/summary.ts).
+   */
+  "loop:state": (batch: LoopStateBrief[]) => void;
+  /**
+   * The full state (with covariances, zeros, polynomial, forecast) of a loop the client watches
+   * (`loop:watch`), sent with the same pacing as `loop:state` whenever the loop changed.
+   */
+  "loop:detail": (state: LoopStateDto) => void;
   /** Batched full-rate samples of one watched loop. */
   "loop:samples": (batch: { loopId: number; samples: SampleDto[] }) => void;
   /** An alarm of the client's tenant changed state. */

@@ -1,15 +1,18 @@
 /**
  * Batched pushes to browsers (ARCHITECTURE.md §8, a contract): `loop:state` to each tenant's room
- * at most every 500 ms with the latest summary of every loop that changed, and full-rate
- * `loop:samples` to a loop's room every 200 ms. One emit per update would cap near 170k/s
+ * at most every 500 ms with the latest summary (LoopStateBrief, ./summary.ts) of every loop that
+ * changed; with it, `loop:detail` with the latest full LoopStateDto of each changed loop to that
+ * loop's room (only sockets watching the loop sit there); and full-rate `loop:samples` to a
+ * loop's room every 200 ms. One emit per update would cap near 170k/s
  * (§11); one per tenant per period does not. A tenant's batch holds only its own loops, and only
  * sockets admitted by watch.ts sit in a loop's room, so no client sees another tenant's data.
  * A batch for a room nobody is in is dropped unencoded (newcomers load the current states over
  * HTTP and get every loop's next summary within its state period).
  */
 import { loopRoom, tenantRoom } from "@/lib/realtime/events";
-import type { LoopStateDto, SampleDto } from "@/lib/types";
+import type { LoopStateBrief, LoopStateDto, SampleDto } from "@/lib/types";
 import type { ServerContext } from "@/server/context";
+import { toLoopBrief } from "./summary";
 
 export interface RealtimeEmitterOptions {
   stateEveryMs?: number;
@@ -23,7 +26,7 @@ export interface RealtimeEmitter {
   samples(loopId: number, samples: readonly SampleDto[]): void;
   /** Emit everything pending now (tests). */
   flush(): void;
-  stats(): { stateBatches: number; statesSent: number; sampleBatches: number; samplesSent: number; samplesDropped: number };
+  stats(): { stateBatches: number; statesSent: number; detailsSent: number; sampleBatches: number; samplesSent: number; samplesDropped: number };
   stop(): void;
 }
 
@@ -31,7 +34,7 @@ export function startRealtimeEmitter(ctx: ServerContext, opts: RealtimeEmitterOp
   const pendingStates = new Map<number, Map<number, LoopStateDto>>();
   const pendingSamples = new Map<number, SampleDto[]>();
   const maxPerLoop = opts.maxSamplesPerLoop ?? 5_000;
-  const stats = { stateBatches: 0, statesSent: 0, sampleBatches: 0, samplesSent: 0, samplesDropped: 0 };
+  const stats = { stateBatches: 0, statesSent: 0, detailsSent: 0, sampleBatches: 0, samplesSent: 0, samplesDropped: 0 };
 
   const roomSize = (room: string) => ctx.io?.sockets.adapter.rooms.get(room)?.size ?? 0;
 
@@ -39,9 +42,18 @@ export function startRealtimeEmitter(ctx: ServerContext, opts: RealtimeEmitterOp
     const io = ctx.io;
     if (!io || pendingStates.size === 0) return;
     for (const [tenantId, byLoop] of pendingStates) {
-      // nobody in the tenant's room: encoding the batch (thousands of summaries) would be wasted
-      if (byLoop.size === 0 || roomSize(tenantRoom(tenantId)) === 0) continue;
-      const batch = [...byLoop.values()];
+      if (byLoop.size === 0) continue;
+      // the full state of each changed loop to the sockets watching it (the loop detail page)
+      for (const [loopId, state] of byLoop) {
+        if (roomSize(loopRoom(loopId)) === 0) continue;
+        io.to(loopRoom(loopId)).emit("loop:detail", state);
+        stats.detailsSent++;
+      }
+      // nobody in the tenant's room: building and encoding the batch would be wasted
+      if (roomSize(tenantRoom(tenantId)) === 0) continue;
+      const batch: LoopStateBrief[] = new Array(byLoop.size);
+      let i = 0;
+      for (const state of byLoop.values()) batch[i++] = toLoopBrief(state);
       io.to(tenantRoom(tenantId)).emit("loop:state", batch);
       stats.stateBatches++;
       stats.statesSent += batch.length;

@@ -3,7 +3,7 @@ import { io as connect, type Socket } from "socket.io-client";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { hashDeviceSecret } from "@/lib/devices";
 import type { ClientToServerEvents, ServerToClientEvents, WatchReply } from "@/lib/realtime/events";
-import type { LoopStateDto, SampleDto } from "@/lib/types";
+import type { LoopStateBrief, LoopStateDto, SampleDto } from "@/lib/types";
 import { isPipelineService, type PipelineService } from "@/server/pipeline";
 import { createAuthFixture, FIXTURE_PASSWORD, type AuthFixture, type FixtureTenant } from "../auth/fixture";
 import { authedFetch, signIn } from "../auth/helpers";
@@ -72,10 +72,13 @@ describe("realtime tenant isolation", () => {
   it("sends each client only its own tenant's loop states and samples", async () => {
     const viewerA = await socketOf(fx.a.users.viewer.email);
     const viewerB = await socketOf(fx.b.users.viewer.email);
-    const got = { a: { states: [] as LoopStateDto[][], samples: [] as { loopId: number; samples: SampleDto[] }[] }, b: { states: [] as LoopStateDto[][], samples: [] as { loopId: number; samples: SampleDto[] }[] } };
+    const empty = () => ({ states: [] as LoopStateBrief[][], details: [] as LoopStateDto[], samples: [] as { loopId: number; samples: SampleDto[] }[] });
+    const got = { a: empty(), b: empty() };
     viewerA.on("loop:state", (batch) => got.a.states.push(batch));
+    viewerA.on("loop:detail", (state) => got.a.details.push(state));
     viewerA.on("loop:samples", (batch) => got.a.samples.push(batch));
     viewerB.on("loop:state", (batch) => got.b.states.push(batch));
+    viewerB.on("loop:detail", (state) => got.b.details.push(state));
     viewerB.on("loop:samples", (batch) => got.b.samples.push(batch));
 
     // Watching: own loop yes; the other tenant's loop is answered like a loop that does not exist.
@@ -109,14 +112,42 @@ describe("realtime tenant isolation", () => {
     expect(got.b.samples.flatMap((b) => b.samples.map((s) => s.sp))).toEqual(new Array(12).fill(20));
     // Batched: at most one loop:state batch per 500 ms per tenant (+1 for the window's edges).
     expect(got.a.states.length).toBeLessThanOrEqual(Math.ceil(elapsedS * 2) + 1);
+    // loop:state carries summaries (no covariances, zeros, polynomial, last sample); the watched
+    // loop's full state comes as loop:detail, of the socket's own tenant only.
+    expect(got.a.states.length).toBeGreaterThan(0);
+    for (const st of got.a.states.flat()) {
+      expect(Object.keys(st).sort()).toEqual(
+        ["at", "dataPoles", "dataPolesKind", "dominant", "estimationPeriodS", "gainHeadroom", "juryStable", "loopId", "modelPoles", "receivedAt", "rimDistance", "spectralRadius", "stateReason", "tenantId", "trackerState", "decayRatio"].sort(),
+      );
+      for (const p of [...st.modelPoles, ...st.dataPoles]) expect(Object.keys(p).sort()).toEqual(["im", "radius", "re"]);
+    }
+    expect(got.a.details.length).toBeGreaterThan(0);
+    expect(got.b.details.length).toBeGreaterThan(0);
+    expect(got.a.details.every((d) => d.loopId === fx.a.loopId && d.tenantId === fx.a.id && "characteristic" in d && "last" in d && "zeros" in d)).toBe(true);
+    expect(got.b.details.every((d) => d.loopId === fx.b.loopId && d.tenantId === fx.b.id)).toBe(true);
+    expect(got.a.details.length).toBeLessThanOrEqual(Math.ceil(elapsedS * 2) + 1);
+    // the summary of a moment is the full state of that moment, rounded (server/realtime/summary.ts)
+    const lastDetail = got.a.details.at(-1)!;
+    const sameMoment = got.a.states.flat().find((s) => s.at === lastDetail.at);
+    expect(sameMoment).toBeDefined();
+    expect(sameMoment!.trackerState).toBe(lastDetail.trackerState);
+    expect(sameMoment!.modelPoles).toHaveLength(lastDetail.modelPoles.length);
+    if (lastDetail.spectralRadius !== null) expect(Math.abs(sameMoment!.spectralRadius! - lastDetail.spectralRadius)).toBeLessThanOrEqual(5e-5);
 
-    // After loop:unwatch the samples stop; states (tenant-wide) continue.
+    // After loop:unwatch the samples and full states stop; summaries (tenant-wide) continue.
     viewerA.emit("loop:unwatch", fx.a.loopId);
     await new Promise((r) => setTimeout(r, 100));
     const before = got.a.samples.length;
-    await devA.publishAsync(`rg/${fx.a.slug}/north/fic-101/samples`, JSON.stringify({ t: Date.now(), sp: 50, pv: 49, mv: 41, mode: "auto" }), { qos: 1 });
+    const detailsBefore = got.a.details.length;
+    const statesBefore = got.a.states.length;
+    for (let k = 0; k < 3; k++) {
+      await devA.publishAsync(`rg/${fx.a.slug}/north/fic-101/samples`, JSON.stringify({ t: Date.now(), sp: 55, pv: 49 + k, mv: 41, mode: "auto" }), { qos: 1 });
+      await new Promise((r) => setTimeout(r, 500));
+    }
     await new Promise((r) => setTimeout(r, 700));
     expect(got.a.samples.length).toBe(before);
+    expect(got.a.details.length).toBe(detailsBefore);
+    expect(got.a.states.length).toBeGreaterThan(statesBefore);
   });
 });
 
