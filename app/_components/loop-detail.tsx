@@ -12,7 +12,7 @@ import type { LoopSummary, Role } from "@/lib/types";
 import { roleAtLeast } from "@/lib/types";
 import { fetchJson, query } from "@/lib/client/fetcher";
 import { fmt, fmtAge, fmtTime } from "@/lib/client/format";
-import { parseHistory, snapshotAt } from "@/lib/client/history";
+import { parseHistory, snapshotAt, thinAligned } from "@/lib/client/history";
 import { RANGES, type RangeKey } from "@/lib/client/ranges";
 import { useDecayLevels, useLoop, useLoopSamples, useNow } from "@/lib/client/hooks";
 import { dataAge } from "@/lib/client/order";
@@ -52,44 +52,90 @@ export function LoopDetail({ loopId, role, initialRange = "1h" }: { loopId: numb
   const mvLo = d?.mvLo ?? 0;
   const mvHi = d?.mvHi ?? 100;
 
-  const processData = useMemo((): uPlot.AlignedData => {
+  // The history is thinned once per answer to min/max per pixel column of the chart (every
+  // extreme survives, lib/client/history thinAligned), so live samples are appended to a few
+  // thousand points, not copied with 86,400 of them, and the charts get at most their width.
+  const columns = Math.ceil(width * Math.min(2, typeof window === "undefined" ? 1 : window.devicePixelRatio || 1));
+  const thinProcess = useMemo(() => {
     const c = parsed.cols;
-    const t: number[] = Array.from(c.t);
-    const sp = [...c.sp];
-    const pv = [...c.pv];
-    const mv = [...c.mv];
-    const lastT = t.length ? t[t.length - 1]! : -Infinity;
-    for (const s of live.samples) {
-      const ts = s.t / 1000;
-      if (ts <= lastT || ts < (anchor - rangeMs) / 1000) continue;
-      t.push(ts);
-      sp.push(s.sp);
-      pv.push(s.pv);
-      mv.push(s.mv);
+    return thinAligned([c.t, c.sp, c.pv, c.mv], columns).data;
+  }, [parsed, columns]);
+  const thinRadius = useMemo(() => {
+    const c = parsed.cols;
+    return thinAligned([c.t, c.radius], columns).data;
+  }, [parsed, columns]);
+
+  const processData = useMemo((): uPlot.AlignedData => {
+    const [ht, hsp, hpv, hmv] = thinProcess as [ArrayLike<number>, ArrayLike<number | null>, ArrayLike<number | null>, ArrayLike<number | null>];
+    const lastT = ht.length ? ht[ht.length - 1]! : -Infinity;
+    const from = (anchor - rangeMs) / 1000;
+    let k0 = live.samples.length;
+    while (k0 > 0 && live.samples[k0 - 1]!.t / 1000 > lastT) k0--;
+    const add = live.samples.slice(k0).filter((s) => s.t / 1000 >= from);
+    // nothing live to add: the thinned history as it is (no copy)
+    if (add.length === 0) return [ht, hsp, hpv, hmv] as unknown as uPlot.AlignedData;
+    const n = ht.length;
+    const t = new Array<number>(n + add.length);
+    const sp = new Array<number | null>(n + add.length);
+    const pv = new Array<number | null>(n + add.length);
+    const mv = new Array<number | null>(n + add.length);
+    for (let i = 0; i < n; i++) {
+      t[i] = ht[i]!;
+      sp[i] = hsp[i] ?? null;
+      pv[i] = hpv[i] ?? null;
+      mv[i] = hmv[i] ?? null;
     }
+    add.forEach((s, j) => {
+      t[n + j] = s.t / 1000;
+      sp[n + j] = s.sp;
+      pv[n + j] = s.pv;
+      mv[n + j] = s.mv;
+    });
     return [t, sp, pv, mv];
     // live.version changes whenever new samples arrive
     // eslint-disable-next-line react-hooks/exhaustive-deps
-  }, [parsed, live.version, anchor, rangeMs]);
+  }, [thinProcess, live.version, anchor, rangeMs]);
 
   const dr = useDecayLevels("loop", loopId);
   const levels = state ? gaugeLevels(state.modelPoles.length ? state.modelPoles : state.dataPoles, dr) : { warn: null, alarm: null };
+  const alarmRadius = levels.alarm;
   const radiusData = useMemo((): uPlot.AlignedData => {
-    const c = parsed.cols;
-    const t = Array.from(c.t);
-    const r = [...c.radius];
+    const [ht, hr] = thinRadius as [ArrayLike<number>, ArrayLike<number | null>];
     const snaps = parsed.snapshots;
-    if (r.every((x) => x === null) && snaps.length) {
+    let any = false;
+    for (let i = 0; i < hr.length && !any; i++) any = hr[i] != null;
+    if (!any && snaps.length) {
       return [snaps.map((s) => s.t / 1000), snaps.map((s) => s.radius), snaps.map(() => null)];
     }
-    const fc: (number | null)[] = r.map(() => null);
-    if (state?.forecast && state.spectralRadius != null && levels.alarm != null) {
-      t.push(state.at / 1000, state.forecast.at / 1000);
-      r.push(null, null);
-      fc.push(state.spectralRadius, levels.alarm);
+    const forecast = state?.forecast && state.spectralRadius != null && alarmRadius != null;
+    const n = ht.length;
+    const m = n + (forecast ? 2 : 0);
+    const t = new Array<number>(m);
+    const r = new Array<number | null>(m);
+    const fc = new Array<number | null>(m).fill(null);
+    for (let i = 0; i < n; i++) {
+      t[i] = ht[i]!;
+      r[i] = hr[i] ?? null;
+    }
+    if (forecast) {
+      t[n] = state.at / 1000;
+      t[n + 1] = state.forecast!.at / 1000;
+      r[n] = null;
+      r[n + 1] = null;
+      fc[n] = state.spectralRadius;
+      fc[n + 1] = alarmRadius;
     }
     return [t, r, fc];
-  }, [parsed, state, levels.alarm]);
+  }, [thinRadius, parsed.snapshots, state, alarmRadius]);
+  const rMin = useMemo(() => {
+    const hr = thinRadius[1] as ArrayLike<number | null>;
+    let m = 0.6;
+    for (let i = 0; i < hr.length; i++) {
+      const v = hr[i];
+      if (v != null && v - 0.02 < m) m = v - 0.02;
+    }
+    return m;
+  }, [thinRadius]);
 
   const forecastBand =
     state?.forecast && levels.alarm != null
@@ -102,7 +148,6 @@ export function LoopDetail({ loopId, role, initialRange = "1h" }: { loopId: numb
 
   if (error) return <p role="alert" className="text-urgent">Could not load this loop: {error.message}</p>;
   if (!loop) return <p className="text-muted">Loading loop…</p>;
-  const rMin = Math.min(0.6, ...parsed.cols.radius.filter((x): x is number => x !== null).map((x) => x - 0.02));
 
   return (
     <div className="flex flex-col gap-4">

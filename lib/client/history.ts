@@ -63,15 +63,29 @@ export function parseHistory(body: unknown): { cols: HistoryColumns; snapshots: 
   }
   const n = rows.length;
   const cols: HistoryColumns = { t: new Float64Array(n), sp: new Array(n), pv: new Array(n), mv: new Array(n), radius: new Array(n), radiusMin: new Array(n), radiusMax: new Array(n) };
-  rows.forEach((r, i) => {
-    cols.t[i] = toMs(r.t ?? r.time ?? r.at) / 1000;
-    cols.sp[i] = pick(r, "sp");
-    cols.pv[i] = pick(r, "pv");
-    cols.mv[i] = pick(r, "mv");
-    cols.radius[i] = pick(r, "radius") ?? pick(r, "spectralRadius");
-    cols.radiusMin[i] = pick(r, "radius", "min");
-    cols.radiusMax[i] = pick(r, "radius", "max");
-  });
+  // Raw rows (plain numbers) take the short path: a 24 h answer at 1 Hz is 86,400 rows.
+  const num = (v: unknown): number | null | undefined => (typeof v === "number" ? (Number.isFinite(v) ? v : null) : undefined);
+  for (let i = 0; i < n; i++) {
+    const r = rows[i]!;
+    const t = r.t;
+    cols.t[i] = (typeof t === "number" ? t : toMs(t ?? r.time ?? r.at)) / 1000;
+    const sp = num(r.sp);
+    cols.sp[i] = sp !== undefined ? sp : pick(r, "sp");
+    const pv = num(r.pv);
+    cols.pv[i] = pv !== undefined ? pv : pick(r, "pv");
+    const mv = num(r.mv);
+    cols.mv[i] = mv !== undefined ? mv : pick(r, "mv");
+    const radius = num(r.radius);
+    if (radius !== undefined && radius !== null) {
+      cols.radius[i] = radius;
+      cols.radiusMin[i] = radius;
+      cols.radiusMax[i] = radius;
+    } else {
+      cols.radius[i] = pick(r, "radius") ?? pick(r, "spectralRadius");
+      cols.radiusMin[i] = pick(r, "radius", "min");
+      cols.radiusMax[i] = pick(r, "radius", "max");
+    }
+  }
   const snapRaw = b.poles ?? b.snapshots ?? b.poleSnapshots;
   const snapshots: PoleSnapshot[] = Array.isArray(snapRaw)
     ? (snapRaw as Record<string, unknown>[])

@@ -34,7 +34,8 @@ import { chromium, type Page, type Route } from "playwright-core";
 import { ensureMariaDb, freePort } from "@/lib/db/mariadb-server";
 import { DEMO_PASSWORD } from "@/lib/seed";
 import { tenantRoom } from "@/lib/realtime/events";
-import type { LoopStateDto, LoopSummary, PoleDto } from "@/lib/types";
+import type { LoopStateBrief, LoopStateDto, LoopSummary, PoleDto } from "@/lib/types";
+import { toLoopBrief } from "@/server/realtime/summary";
 import { artifactPath, CHROMIUM_ARGS, findChromium, type TestBrowser } from "../setup/browser";
 import { startTestServer } from "../setup/server";
 
@@ -90,9 +91,9 @@ function stateOf(loopId: number, tenantId: number, r: number, th: number, now: n
   };
 }
 
-// What the server sends for one loop in a `loop:state` batch.
-type LiveBatch = LoopStateDto[];
-const payloadOf = (s: LoopStateDto): LoopStateDto => s;
+// What the server sends for one loop in a `loop:state` batch: its summary, by the server's own function.
+type LiveBatch = LoopStateBrief[];
+const payloadOf = toLoopBrief;
 
 function percentile(xs: number[], p: number): number {
   if (xs.length === 0) return NaN;
