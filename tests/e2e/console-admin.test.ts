@@ -3,7 +3,9 @@
  * simulators needed): invitation by e-mail through the SMTP sink with a one-time link to set a
  * password; device credentials (secret shown once, revoke with a reason); an engineer creates a
  * loop and changes its estimation period with a change reason, both in the change log; the API
- * refuses the same changes from a viewer and refuses bad input with a message.
+ * refuses the same changes from a viewer and refuses bad input with a message. Admin actions that
+ * need a change reason (device revoke, role change, member removal, rule deletion, new operator
+ * area) ask for it in an in-page dialog, and the reason reaches the change log.
  */
 import type { Page } from "playwright-core";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
