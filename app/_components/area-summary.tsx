@@ -2,6 +2,7 @@
 import type { AlarmPriority, LiveLoopSummary } from "@/lib/types";
 import { ATTENTION_STATES, dataAge } from "@/lib/client/order";
 import { fmt } from "@/lib/client/format";
+import { memo } from "react";
 import { PriorityShape } from "./priority-mark";
 
 export interface AreaStats {
@@ -35,7 +36,8 @@ export function summariseAreas(loops: readonly LiveLoopSummary[], now: number): 
   return [...m.values()].sort((x, y) => y.byPriority.urgent - x.byPriority.urgent || y.byPriority.high - x.byPriority.high || x.name.localeCompare(y.name));
 }
 
-export function AreaSummaries({ areas, big = false }: { areas: AreaStats[]; big?: boolean }) {
+/** Memoised on the `areas` array (recomputed once a second or when loops or alarms change). */
+export const AreaSummaries = memo(function AreaSummaries({ areas, big = false }: { areas: AreaStats[]; big?: boolean }) {
   if (areas.length === 0) return null;
   return (
     <ul className={`grid gap-2 ${big ? "grid-cols-[repeat(auto-fill,minmax(20rem,1fr))]" : "grid-cols-[repeat(auto-fill,minmax(15rem,1fr))]"}`} aria-label="Operator areas">
@@ -63,4 +65,4 @@ export function AreaSummaries({ areas, big = false }: { areas: AreaStats[]; big?
       ))}
     </ul>
   );
-}
+});

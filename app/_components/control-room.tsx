@@ -6,7 +6,7 @@
  */
 import { useWindowVirtualizer } from "@tanstack/react-virtual";
 import Link from "next/link";
-import { type ReactElement, useDeferredValue, useLayoutEffect, useMemo, useRef, useState } from "react";
+import { memo, type ReactElement, useDeferredValue, useLayoutEffect, useMemo, useRef, useState } from "react";
 import type { AlarmDto, Role } from "@/lib/types";
 import { roleAtLeast } from "@/lib/types";
 import { useAlarms, useDecayLevels, useLoops, useNow } from "@/lib/client/hooks";
@@ -133,8 +133,11 @@ function TileGrid({ loops, store, now, levels }: { loops: LiveLoopSummary[]; sto
   );
 }
 
-/** Alarms that need a person, highest priority first, with the operator's actions. */
-export function AlarmBand({ role, big = false }: { role: Role; big?: boolean }) {
+/**
+ * Alarms that need a person, highest priority first, with the operator's actions. Memoised: a
+ * live batch re-renders the page, not the band (it follows `alarm:changed` on its own).
+ */
+export const AlarmBand = memo(function AlarmBand({ role, big = false }: { role: Role; big?: boolean }) {
   const { alarms, mutate, error } = useAlarms("");
   const active = useMemo(
     () =>
@@ -175,4 +178,4 @@ export function AlarmBand({ role, big = false }: { role: Role; big?: boolean }) 
       )}
     </section>
   );
-}
+});

@@ -8,7 +8,7 @@ import Link from "next/link";
 import { useEffect, useMemo, useState } from "react";
 import type { LiveLoopSummary, Role } from "@/lib/types";
 import { useDecayLevels, useLoops, useNow } from "@/lib/client/hooks";
-import { marginToAlarm, sortWorstFirst, worstPriority } from "@/lib/client/order";
+import { marginToAlarm, worstPriority, WorstFirstOrder } from "@/lib/client/order";
 import { DEFAULT_POLICY } from "@/lib/alarms/policy";
 import { AreaSummaries, summariseAreas } from "./area-summary";
 import { AlarmBand } from "./control-room";
@@ -37,9 +37,17 @@ export function pinnedLoops<L extends LiveLoopSummary>(sorted: readonly L[], max
 export function WallView({ role, caution }: { role: Role; caution: string }) {
   const { loops: raw, store, connected } = useLoops();
   const levels = useDecayLevels("tenant");
-  const sorted = useMemo(() => sortWorstFirst(raw, levels.high), [raw, levels.high]);
   const now = useNow(1000);
-  const areas = useMemo(() => summariseAreas(sorted, now), [sorted, now]);
+  // Worst-first order and area summaries once a second (and at once when loops or alarms
+  // change), not on every live batch; loops keep their places within a margin step. Tiles read
+  // the loop's current summary from the store, so their figures stay live between sorts.
+  const [order] = useState(() => new WorstFirstOrder());
+  const tick = Math.floor(now / 1000);
+  const structure = store.structureVersion;
+  const count = raw.length;
+  // raw is read at the moment of the tick; a new batch alone does not re-sort
+  const sorted = useMemo(() => order.sort(raw, levels.high), [order, tick, structure, count, levels.high]); // eslint-disable-line react-hooks/exhaustive-deps
+  const areas = useMemo(() => summariseAreas(raw, now), [now, structure, count]); // eslint-disable-line react-hooks/exhaustive-deps
   const { w, h } = useViewport();
   const cols = Math.max(1, Math.floor((w - 32) / (TILE_W + 12)));
   const reserved = 300; // header, area summaries and alarm band
@@ -95,7 +103,7 @@ export function WallView({ role, caution }: { role: Role; caution: string }) {
         <section aria-label="Loops needing attention" className="grid gap-3" style={{ gridTemplateColumns: `repeat(${cols}, minmax(0, 1fr))` }}>
           {pinned.map((l) => (
             <div key={l.id} style={{ height: TILE_H }}>
-              <LoopTile loop={l} spark={store.spark(l.id)} now={nowS} big levels={levels} />
+              <LoopTile loop={store.get(l.id) ?? l} spark={store.spark(l.id)} now={nowS} big levels={levels} />
             </div>
           ))}
         </section>
@@ -103,7 +111,7 @@ export function WallView({ role, caution }: { role: Role; caution: string }) {
       <section aria-label={`Loops, page ${current + 1} of ${pages}`} className="grid flex-1 content-start gap-3" style={{ gridTemplateColumns: `repeat(${cols}, minmax(0, 1fr))` }}>
         {pageLoops.map((l) => (
           <div key={l.id} style={{ height: TILE_H }}>
-            <LoopTile loop={l} spark={store.spark(l.id)} now={nowS} big levels={levels} />
+            <LoopTile loop={store.get(l.id) ?? l} spark={store.spark(l.id)} now={nowS} big levels={levels} />
           </div>
         ))}
       </section>
