@@ -2,7 +2,8 @@
 /**
  * The wall on a desk: area summaries, the band of alarms that need a person (with acknowledge),
  * and every loop as a tile, worst first. Tiles off screen are not rendered (window
- * virtualisation); live updates are coalesced to one render per animation frame by the store.
+ * virtualisation, a fixed pool of recycled tile slots); live updates are coalesced to one render
+ * per animation frame by the store.
  */
 import { useWindowVirtualizer } from "@tanstack/react-virtual";
 import Link from "next/link";
@@ -88,37 +89,46 @@ export function ControlRoom({ role }: { role: Role }) {
   );
 }
 
+const OVERSCAN = 2;
+
 function TileGrid({ loops, store, now, levels }: { loops: LiveLoopSummary[]; store: ReturnType<typeof useLoops>["store"]; now: number; levels: { low: number; high: number } }) {
   const parent = useRef<HTMLDivElement>(null);
   const [width, setWidth] = useState(1200);
   const [offset, setOffset] = useState(0);
+  const [viewH, setViewH] = useState(1000);
   useLayoutEffect(() => {
     const el = parent.current;
     if (!el) return;
     const ro = new ResizeObserver(() => {
       setWidth(el.clientWidth);
       setOffset(el.getBoundingClientRect().top + window.scrollY);
+      setViewH(window.innerHeight);
     });
     ro.observe(el);
     return () => ro.disconnect();
   }, []);
   const cols = Math.max(1, Math.floor((width + GAP) / (TILE_MIN_WIDTH + GAP)));
   const rows = Math.ceil(loops.length / cols);
-  const v = useWindowVirtualizer({ count: rows, estimateSize: () => TILE_HEIGHT + GAP, overscan: 2, scrollMargin: offset, useFlushSync: false });
+  const rowH = TILE_HEIGHT + GAP;
+  const v = useWindowVirtualizer({ count: rows, estimateSize: () => rowH, overscan: OVERSCAN, scrollMargin: offset, useFlushSync: false });
   const nowS = Math.floor(now / 1000) * 1000;
-  // One flat layer of tiles keyed by loop id, each placed by its own transform: a loop that
-  // moves in the order (or a row that scrolls) keeps its mounted tile, only the position changes.
+  // A fixed pool of tile slots, keyed by row modulo the pool's rows: a row scrolling in takes
+  // the slots of the row that scrolled out, so React updates mounted tiles (text, canvases)
+  // instead of creating and styling new ones (the bench trace showed mounting a row as the
+  // largest cost of a scrolling frame). The order's re-sort likewise only updates contents.
+  const poolRows = Math.ceil(viewH / rowH) + 2 * OVERSCAN + 1;
+  const first = v.getVirtualItems()[0]?.index ?? 0;
   const colW = (width - GAP * (cols - 1)) / cols;
   const tiles: ReactElement[] = [];
-  for (const row of v.getVirtualItems()) {
-    const y = row.start - v.options.scrollMargin;
-    const end = Math.min(loops.length, row.index * cols + cols);
-    for (let i = row.index * cols; i < end; i++) {
+  for (let r = first; r < Math.min(rows, first + poolRows); r++) {
+    const y = r * rowH;
+    const end = Math.min(loops.length, r * cols + cols);
+    for (let i = r * cols; i < end; i++) {
       const l = loops[i]!;
-      const c = i - row.index * cols;
+      const c = i - r * cols;
       tiles.push(
         <div
-          key={l.id}
+          key={(r % poolRows) * cols + c}
           style={{ position: "absolute", top: 0, left: 0, width: colW, height: TILE_HEIGHT, transform: `translate(${c * (colW + GAP)}px, ${y}px)`, contain: "strict" }}
         >
           <LoopTile loop={store.get(l.id) ?? l} spark={store.spark(l.id)} now={nowS} levels={levels} />

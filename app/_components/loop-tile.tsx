@@ -11,12 +11,10 @@ import type { LiveLoopSummary, PoleBrief } from "@/lib/types";
 import { DEFAULT_POLICY } from "@/lib/alarms/policy";
 import { dataAge, radiusForDecayRatio } from "@/lib/client/order";
 import { fmt, fmtAge } from "@/lib/client/format";
-import { sparkValues, type Spark } from "@/lib/client/loop-store";
+import { SPARK_POINTS, type Spark } from "@/lib/client/loop-store";
 import { PriorityMark } from "./priority-mark";
-import { RimGauge } from "./rim-gauge";
-import { Sparkline } from "./sparkline";
+import { TileGauge, TileSparkline, ZPlaneMini } from "./tile-graphics";
 import { TrackerStateBadge } from "./tracker-state-badge";
-import { ZPlaneMap } from "./z-plane-map";
 
 export const TILE_HEIGHT = 176;
 
@@ -69,13 +67,29 @@ function TileAge({ state, now }: { state: LiveLoopSummary["state"]; now: number 
   );
 }
 
+/** Range of the recent radii in the ring, and whether any decay ratio was recorded (read in place). */
+function sparkRange(sp: Spark | undefined): { min: number | null; max: number | null; anyDecay: boolean } {
+  if (!sp) return { min: null, max: null, anyDecay: false };
+  let min = Infinity;
+  let max = -Infinity;
+  let anyDecay = false;
+  const n = Math.min(sp.n, SPARK_POINTS);
+  for (let k = 0; k < n; k++) {
+    const r = sp.radius[k]!;
+    if (Number.isFinite(r)) {
+      if (r < min) min = r;
+      if (r > max) max = r;
+    }
+    if (!anyDecay && Number.isFinite(sp.decay[k]!)) anyDecay = true;
+  }
+  return { min: Number.isFinite(min) ? min : null, max: Number.isFinite(max) ? max : null, anyDecay };
+}
+
 function LoopTileInner({ loop, spark, now, big = false, levels: dr = DEFAULT_POLICY.decayRatio }: { loop: LiveLoopSummary; spark?: Spark; now: number; big?: boolean; levels?: { low: number; high: number } }) {
   const st = loop.state;
   const { stale } = dataAge(st, now);
   const levels = st ? gaugeLevels(st.modelPoles.length ? st.modelPoles : st.dataPoles, dr) : { warn: null, alarm: null };
-  const radii = spark ? sparkValues(spark, "radius") : [];
-  const decays = spark ? sparkValues(spark, "decay") : [];
-  const finiteR = radii.filter(Number.isFinite);
+  const recent = sparkRange(spark);
   const active = loop.alarms.filter((a) => a.state !== "normal");
   const worst = active.find((a) => a.priority === "urgent") ?? active.find((a) => a.priority === "high") ?? active[0];
   const border =
@@ -112,20 +126,11 @@ function LoopTileInner({ loop, spark, now, big = false, levels: dr = DEFAULT_POL
       <div className={`truncate text-muted ${big ? "text-base" : "text-xs"}`}>{loop.description}</div>
       <div className="flex min-h-0 flex-1 gap-2">
         <div className="flex min-w-0 flex-1 flex-col gap-1">
-          <RimGauge
-            radius={st?.spectralRadius ?? null}
-            warn={levels.warn}
-            alarm={levels.alarm}
-            recentMin={finiteR.length ? Math.min(...finiteR) : null}
-            recentMax={finiteR.length ? Math.max(...finiteR) : null}
-            stale={stale}
-            width={big ? 150 : 110}
-            compact
-          />
+          <TileGauge radius={st?.spectralRadius ?? null} warn={levels.warn} alarm={levels.alarm} recentMin={recent.min} recentMax={recent.max} stale={stale} width={big ? 150 : 110} />
           <div className={`num font-mono ${big ? "text-xl" : "text-sm"} ${stale ? "text-suppressed" : ""}`} data-testid="tile-radius">
             ρ {fmt(st?.spectralRadius ?? null)} <span className="text-muted">DR {fmt(st?.decayRatio ?? null, 2)}</span>
           </div>
-          <Sparkline values={decays.some(Number.isFinite) ? decays : radii} lo={0} hi={1} width={big ? 150 : 110} height={22} level={dr.high} label={`${loop.tag} recent decay ratio`} />
+          <TileSparkline spark={spark} n={spark?.n ?? 0} which={recent.anyDecay ? "decay" : "radius"} lo={0} hi={1} width={big ? 150 : 110} height={22} level={dr.high} label={`${loop.tag} recent decay ratio`} />
           <div className="mt-auto flex h-5 items-center gap-x-2 overflow-hidden whitespace-nowrap text-xs">
             {/* one line: the worst alarm in words, the others as marks */}
             {worst && <PriorityMark priority={worst.priority} state={worst.state} size={big ? 20 : 14} showWord={false} />}
@@ -141,15 +146,13 @@ function LoopTileInner({ loop, spark, now, big = false, levels: dr = DEFAULT_POL
           </div>
         </div>
         {st && (
-          <ZPlaneMap
+          <ZPlaneMini
             modelPoles={st.modelPoles}
             dataPoles={st.dataPoles}
             dataPolesKind={st.dataPolesKind}
-            zeros={[]}
             warnRadius={levels.warn}
             alarmRadius={levels.alarm}
             size={big ? 130 : 96}
-            compact
             stale={stale}
           />
         )}

@@ -178,7 +178,7 @@ async function profile(page: Page, label: string, run: () => Promise<unknown>): 
  */
 async function trace(page: Page, label: string, run: () => Promise<unknown>): Promise<void> {
   const cdp = await page.context().newCDPSession(page);
-  const events: { name: string; ph: string; dur?: number; tid: number; pid: number; args?: { name?: string } }[] = [];
+  const events: { name: string; ph: string; ts?: number; dur?: number; tid: number; pid: number; args?: Record<string, unknown> }[] = [];
   cdp.on("Tracing.dataCollected", (e) => {
     for (const x of e.value as unknown as typeof events) events.push(x);
   });
@@ -187,6 +187,7 @@ async function trace(page: Page, label: string, run: () => Promise<unknown>): Pr
   await run();
   await cdp.send("Tracing.end");
   await done;
+  if (process.env.BENCH_TRACE_DUMP) fs.writeFileSync(`${process.env.BENCH_TRACE_DUMP}-${label.replace(/\W+/g, "_")}.json`, JSON.stringify(events));
   // the renderer main thread: the thread that ran most top-level RunTask... take the one with most Layout events
   const layoutsBy = new Map<string, number>();
   for (const e of events) if (e.name === "Layout" || e.name === "UpdateLayoutTree") layoutsBy.set(`${e.pid}:${e.tid}`, (layoutsBy.get(`${e.pid}:${e.tid}`) ?? 0) + 1);
