@@ -330,6 +330,8 @@ async function main(): Promise<void> {
       if (unlocked && check > 10) console.log("  WARNING: the flags did not unlock frames in this Chromium; the figures below are vsync-locked");
       const page = await signIn(b);
       await page.goto(`${srv.url}/`);
+      // BENCH_CSS: extra style rules for experiments (which style costs what in the trace)
+      if (process.env.BENCH_CSS) await page.addStyleTag({ content: process.env.BENCH_CSS });
       await page.getByTestId("loop-tile").first().waitFor({ timeout: 60_000 });
       await page.waitForTimeout(1500);
       const rendered = await page.getByTestId("loop-tile").count();
