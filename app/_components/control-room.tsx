@@ -118,20 +118,27 @@ function TileGrid({ loops, store, now, levels }: { loops: LiveLoopSummary[]; sto
   // largest cost of a scrolling frame). The order's re-sort likewise only updates contents.
   const poolRows = Math.ceil(viewH / rowH) + 2 * OVERSCAN + 1;
   const first = v.getVirtualItems()[0]?.index ?? 0;
+  // Tiles in the overscan rows (mounted, not on screen) skip live updates of their loop (see
+  // LoopTile): a batch re-renders only the tiles on screen. The grid re-renders as soon as a row
+  // comes into view (the virtualiser's visible range changed), and that row then shows the
+  // current summary; a slot that takes another loop always re-renders.
+  const visFrom = v.range?.startIndex ?? 0;
+  const visTo = v.range?.endIndex ?? rows;
   const colW = (width - GAP * (cols - 1)) / cols;
   const tiles: ReactElement[] = [];
   for (let r = first; r < Math.min(rows, first + poolRows); r++) {
     const y = r * rowH;
     const end = Math.min(loops.length, r * cols + cols);
+    const onScreen = r >= visFrom && r <= visTo;
     for (let i = r * cols; i < end; i++) {
-      const l = loops[i]!;
       const c = i - r * cols;
+      const l = store.get(loops[i]!.id) ?? loops[i]!;
       tiles.push(
         <div
           key={(r % poolRows) * cols + c}
           style={{ position: "absolute", top: 0, left: 0, width: colW, height: TILE_HEIGHT, transform: `translate(${c * (colW + GAP)}px, ${y}px)`, contain: "strict" }}
         >
-          <LoopTile loop={store.get(l.id) ?? l} spark={store.spark(l.id)} now={nowS} levels={levels} />
+          <LoopTile loop={l} spark={store.spark(l.id)} now={nowS} levels={levels} onScreen={onScreen} />
         </div>,
       );
     }

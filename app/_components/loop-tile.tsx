@@ -85,7 +85,21 @@ function sparkRange(sp: Spark | undefined): { min: number | null; max: number | 
   return { min: Number.isFinite(min) ? min : null, max: Number.isFinite(max) ? max : null, anyDecay };
 }
 
-function LoopTileInner({ loop, spark, now, big = false, levels: dr = DEFAULT_POLICY.decayRatio }: { loop: LiveLoopSummary; spark?: Spark; now: number; big?: boolean; levels?: { low: number; high: number } }) {
+function LoopTileInner({
+  loop,
+  spark,
+  now,
+  big = false,
+  levels: dr = DEFAULT_POLICY.decayRatio,
+}: {
+  loop: LiveLoopSummary;
+  spark?: Spark;
+  now: number;
+  big?: boolean;
+  levels?: { low: number; high: number };
+  /** False for a mounted tile off screen (virtualiser overscan): live updates of the same loop wait until it is on screen. */
+  onScreen?: boolean;
+}) {
   const st = loop.state;
   const { stale } = dataAge(st, now);
   const levels = st ? gaugeLevels(st.modelPoles.length ? st.modelPoles : st.dataPoles, dr) : { warn: null, alarm: null };
@@ -165,7 +179,11 @@ type TileProps = Parameters<typeof LoopTileInner>[0];
 /**
  * Re-renders when the loop object is replaced (the store does so on every update), the levels
  * or size change, or the data turn stale or fresh; a new second alone only moves the age text.
+ * Off screen (onScreen false before and after) a new state of the same loop waits; another loop
+ * in the slot, or the tile coming on screen, re-renders at once.
  */
-export const LoopTile = memo(LoopTileInner, (a: TileProps, b: TileProps) =>
-  a.loop === b.loop && a.spark === b.spark && a.big === b.big && a.levels === b.levels && (a.now === b.now || dataAge(a.loop.state, a.now).stale === dataAge(b.loop.state, b.now).stale),
-);
+export const LoopTile = memo(LoopTileInner, (a: TileProps, b: TileProps) => {
+  if (a.loop.id !== b.loop.id || a.big !== b.big || a.levels !== b.levels || a.spark !== b.spark || (a.onScreen ?? true) !== (b.onScreen ?? true)) return false;
+  if (b.onScreen === false) return true;
+  return a.loop === b.loop && (a.now === b.now || dataAge(a.loop.state, a.now).stale === dataAge(b.loop.state, b.now).stale);
+});

@@ -202,6 +202,23 @@ async function trace(page: Page, label: string, run: () => Promise<unknown>): Pr
   }
   console.log(`trace, ${label}: main-thread events by total duration (nested events counted in their parents too)`);
   for (const [k, v] of [...tot.entries()].sort((a, b) => b[1].us - a[1].us).slice(0, 22)) console.log(`  ${(v.us / 1000).toFixed(0).padStart(6)} ms  ${String(v.n).padStart(5)}x  ${k}`);
+  // Main-thread work per frame: every top-level task counted in the frame (animation frame) it starts in.
+  const onMain = events.filter((e) => `${e.pid}:${e.tid}` === main && e.ph === "X" && e.ts !== undefined && e.dur !== undefined);
+  const frameStarts = onMain.filter((e) => e.name === "FireAnimationFrame").map((e) => e.ts!).sort((a, b) => a - b);
+  const busy = new Array<number>(frameStarts.length + 1).fill(0);
+  for (const e of onMain) {
+    if (e.name !== "RunTask") continue;
+    let lo = 0;
+    let hi = frameStarts.length;
+    while (lo < hi) {
+      const mid = (lo + hi) >> 1;
+      if (frameStarts[mid]! <= e.ts!) lo = mid + 1;
+      else hi = mid;
+    }
+    busy[lo]! += e.dur! / 1000;
+  }
+  const perFrame = busy.slice(1, -1);
+  if (perFrame.length) console.log(`  main-thread work per frame (tasks by the frame they start in): p50 ${percentile(perFrame, 50).toFixed(1)} ms  p95 ${percentile(perFrame, 95).toFixed(1)} ms  max ${Math.max(...perFrame).toFixed(1)} ms over ${perFrame.length} frames`);
   await cdp.detach();
 }
 
@@ -357,6 +374,8 @@ async function main(): Promise<void> {
       if (process.env.BENCH_PROFILE === "trace") await trace(page, "2 Hz, scrolling", () => recordFrames(page, 5000, true));
       else if (process.env.BENCH_PROFILE) await profile(page, "2 Hz, scrolling", () => recordFrames(page, 5000, true));
       const live = show("2,000 loops at 2 Hz, scrolling", await recordFrames(page, 15000, true));
+      if (process.env.BENCH_PROFILE === "trace") await trace(page, "2 Hz, not scrolling", () => recordFrames(page, 5000, false));
+      else if (process.env.BENCH_PROFILE) await profile(page, "2 Hz, not scrolling", () => recordFrames(page, 5000, false));
       const still = show("2,000 loops at 2 Hz, not scrolling", await recordFrames(page, 8000, false));
       clearInterval(timer);
       timer = null;
