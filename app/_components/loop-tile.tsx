@@ -7,14 +7,18 @@
  */
 import { useRouter } from "next/navigation";
 import { memo, useSyncExternalStore, type MouseEvent } from "react";
-import type { LiveLoopSummary, PoleBrief } from "@/lib/types";
+import type { LiveLoopSummary, PoleBrief, TrackerState } from "@/lib/types";
 import { DEFAULT_POLICY } from "@/lib/alarms/policy";
 import { dataAge, radiusForDecayRatio } from "@/lib/client/order";
 import { fmt, fmtAge } from "@/lib/client/format";
 import { SPARK_POINTS, type Spark } from "@/lib/client/loop-store";
-import { PriorityMark } from "./priority-mark";
+import { PriorityMark as PriorityMarkPlain } from "./priority-mark";
 import { TileGauge, TileSparkline, ZPlaneMini } from "./tile-graphics";
-import { TrackerStateBadge } from "./tracker-state-badge";
+import { TrackerStateBadge as TrackerStateBadgePlain } from "./tracker-state-badge";
+
+// Memoised here: a live batch re-renders a tile, and these rarely change with it.
+const TrackerStateBadge = memo(TrackerStateBadgePlain);
+const PriorityMark = memo(PriorityMarkPlain);
 
 export const TILE_HEIGHT = 176;
 
@@ -56,16 +60,16 @@ function subscribeClock(fn: () => void): () => void {
 }
 const clockSnapshot = () => clockNow;
 
-function TileAge({ state, now }: { state: LiveLoopSummary["state"]; now: number }) {
+const TileAge = memo(function TileAge({ receivedAt, estimationPeriodS, trackerState, now }: { receivedAt: number | null; estimationPeriodS: number; trackerState: TrackerState | null; now: number }) {
   const tick = useSyncExternalStore(subscribeClock, clockSnapshot, () => now);
-  const { ageS, stale } = dataAge(state, Math.max(now, tick));
+  const { ageS, stale } = dataAge(trackerState === null ? null : { receivedAt, estimationPeriodS, trackerState }, Math.max(now, tick));
   return (
     <>
       {stale ? <strong>stale · </strong> : null}
       {fmtAge(ageS)}
     </>
   );
-}
+});
 
 /** Range of the recent radii in the ring, and whether any decay ratio was recorded (read in place). */
 function sparkRange(sp: Spark | undefined): { min: number | null; max: number | null; anyDecay: boolean } {
@@ -156,7 +160,7 @@ function LoopTileInner({
               ))}
           </div>
           <div className={`num text-xs ${stale ? "text-suppressed" : "text-muted"}`} data-testid="tile-age">
-            <TileAge state={st} now={now} />
+            <TileAge receivedAt={st?.receivedAt ?? null} estimationPeriodS={st?.estimationPeriodS ?? 1} trackerState={st?.trackerState ?? null} now={now} />
           </div>
         </div>
         {st && (
