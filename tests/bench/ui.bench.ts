@@ -129,11 +129,25 @@ const RECORDER = `(async ({ ms, scroll }) => new Promise((resolve) => {
   requestAnimationFrame(step);
 }))`;
 
-async function recordFrames(page: Page, ms: number, scroll: boolean): Promise<{ frames: number[]; longTasks: number[] }> {
-  return page.evaluate(`${RECORDER}(${JSON.stringify({ ms, scroll })})`) as Promise<{ frames: number[]; longTasks: number[] }>;
+/** Frames and long tasks of one phase; a page that produces no frame for a minute past the phase's end is reported as stalled. */
+async function recordFrames(page: Page, ms: number, scroll: boolean): Promise<{ frames: number[]; longTasks: number[]; stalled?: boolean }> {
+  let timer: ReturnType<typeof setTimeout> | undefined;
+  const stalled = new Promise<{ frames: number[]; longTasks: number[]; stalled: boolean }>((resolve) => {
+    timer = setTimeout(() => resolve({ frames: [], longTasks: [], stalled: true }), ms + 60_000);
+  });
+  const run = page.evaluate(`${RECORDER}(${JSON.stringify({ ms, scroll })})`) as Promise<{ frames: number[]; longTasks: number[] }>;
+  try {
+    return await Promise.race([run, stalled]);
+  } finally {
+    clearTimeout(timer);
+  }
 }
 
-function report(label: string, r: { frames: number[]; longTasks: number[] }): { p95: number } {
+function report(label: string, r: { frames: number[]; longTasks: number[]; stalled?: boolean }): { p95: number } {
+  if (r.stalled) {
+    console.log(`${label.padEnd(44)} STALLED: no frame for 60 s past the phase's end; the rest of this run is skipped`);
+    return { p95: NaN };
+  }
   const p95 = percentile(r.frames, 95);
   console.log(
     `${label.padEnd(44)} frames ${String(r.frames.length).padStart(5)}  p50 ${percentile(r.frames, 50).toFixed(1)} ms  p95 ${p95.toFixed(1)} ms  p99 ${percentile(r.frames, 99).toFixed(1)} ms  long tasks ${r.longTasks.length} (${r.longTasks.reduce((a, b) => a + b, 0).toFixed(0)} ms)`,
@@ -221,6 +235,8 @@ async function trace(page: Page, label: string, run: () => Promise<unknown>): Pr
   if (perFrame.length) console.log(`  main-thread work per frame (tasks by the frame they start in): p50 ${percentile(perFrame, 50).toFixed(1)} ms  p95 ${percentile(perFrame, 95).toFixed(1)} ms  max ${Math.max(...perFrame).toFixed(1)} ms over ${perFrame.length} frames`);
   await cdp.detach();
 }
+
+class Stalled extends Error {}
 
 /** Flags that stop Chromium from pacing frames at the display's vsync (checked by `frameCheck`). */
 const UNLOCK_ARGS = ["--disable-frame-rate-limit", "--disable-gpu-vsync", "--run-all-compositor-stages-before-draw"];
@@ -353,8 +369,9 @@ async function main(): Promise<void> {
       await page.waitForTimeout(1500);
       const rendered = await page.getByTestId("loop-tile").count();
       console.log(`${N_LOOPS} loops, ${rendered} tiles in the DOM (the rest virtualised)`);
-      const show = (label: string, r: { frames: number[]; longTasks: number[] }) => {
+      const show = (label: string, r: { frames: number[]; longTasks: number[]; stalled?: boolean }) => {
         const out = report(label, r);
+        if (r.stalled) throw new Stalled();
         if (!unlocked) {
           const d = dropped(r.frames);
           console.log(`${"".padEnd(46)}dropped frames ${d.dropped} (${((100 * d.dropped) / (d.dropped + d.shown)).toFixed(1)} % of vsyncs)`);
@@ -386,17 +403,26 @@ async function main(): Promise<void> {
       await page.close();
     };
 
+    const wallRunOrStall = async (b: TestBrowser, unlocked: boolean): Promise<void> => {
+      try {
+        await wallRun(b, unlocked);
+      } catch (e) {
+        if (!(e instanceof Stalled)) throw e;
+        if (timer) clearInterval(timer);
+        timer = null;
+      }
+    };
     const only = process.env.BENCH_SYNC;
     const part = process.env.BENCH_PART;
     if (only !== "locked" && part !== "detail") {
       const b = await launch(true);
       browsers.push(b);
-      await wallRun(b, true);
+      await wallRunOrStall(b, true);
       await b.close();
     }
     const browser = await launch(false);
     browsers.push(browser);
-    if (only !== "unlocked" && part !== "detail") await wallRun(browser, false);
+    if (only !== "unlocked" && part !== "detail") await wallRunOrStall(browser, false);
 
     if (part === "wall") return;
     console.log("");
