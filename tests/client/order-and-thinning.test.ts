@@ -103,3 +103,72 @@ describe("per-pixel min/max thinning of aligned trend columns", () => {
     expect(Array.from(short.data[1]!)).toEqual([1, null, 3]);
   });
 });
+
+describe("thinning twice: the loop detail's per-answer thinning, then the chart's own", () => {
+  // The loop detail thins a 24 h answer once to `columns` buckets over the data's span, then the
+  // chart thins again for its own pixel grid (a no-op when the first pass already fits). Checked
+  // by brute force on 86,400 points: each display column shows the raw min and max of its time
+  // range, up to the shift of a column of each pass (values are drawn at column edges).
+  const n = 86_400;
+  const x = new Float64Array(n);
+  const y = new Float64Array(n);
+  let s = 12345;
+  for (let i = 0; i < n; i++) {
+    s = (s * 1103515245 + 12345) % 2147483648;
+    x[i] = 1_700_000_000 + i;
+    y[i] = 50 + 5 * Math.sin(i / 700) + ((s / 2147483648) - 0.5);
+  }
+  const spikes = [1234, 40_000, 86_000];
+  y[spikes[0]!] = 90;
+  y[spikes[1]!] = 5;
+  y[spikes[2]!] = 77;
+  const columns = 1234;
+  const once = thinAligned([x, y], columns).data;
+  const twice = thinAligned(once, 600).data;
+
+  // thinAligned draws a column's min and max at the column's first and last time, so a value
+  // may move by up to one column of each pass (the first pass's and the chart's).
+  const x0 = x[0]!;
+  const span = x[n - 1]! - x0;
+  const shift = span / columns + span / 600;
+
+  it("keeps every spike's value through both passes, within one column of each pass of its time", () => {
+    const tx = twice[0] as ArrayLike<number>;
+    const ty = twice[1] as ArrayLike<number>;
+    for (const i of spikes) {
+      let found = false;
+      for (let k = 0; k < tx.length; k++) if (ty[k] === y[i] && Math.abs(tx[k]! - x[i]!) <= shift) found = true;
+      expect(found, `spike at ${i}`).toBe(true);
+    }
+    expect(Math.max(...Array.from(ty))).toBe(90);
+    expect(Math.min(...Array.from(ty))).toBe(5);
+  });
+
+  it("shows in each of 300 display columns the raw extremes of that column's time range (to one column of each pass)", () => {
+    const P = 300;
+    const bucket = shift;
+    const tx = twice[0] as ArrayLike<number>;
+    const ty = twice[1] as ArrayLike<number>;
+    for (let p = 0; p < P; p++) {
+      const a = x0 + (p * span) / P;
+      const b = x0 + ((p + 1) * span) / P;
+      let rawLo = Infinity;
+      let rawHi = -Infinity;
+      for (let i = 0; i < n; i++) {
+        if (x[i]! < a || x[i]! >= b) continue;
+        rawLo = Math.min(rawLo, y[i]!);
+        rawHi = Math.max(rawHi, y[i]!);
+      }
+      // drawn points within the column widened by one column of each pass on each side
+      let lo = Infinity;
+      let hi = -Infinity;
+      for (let k = 0; k < tx.length; k++) {
+        if (tx[k]! < a - bucket || tx[k]! >= b + bucket) continue;
+        lo = Math.min(lo, ty[k]!);
+        hi = Math.max(hi, ty[k]!);
+      }
+      expect(lo).toBeLessThanOrEqual(rawLo);
+      expect(hi).toBeGreaterThanOrEqual(rawHi);
+    }
+  });
+});
