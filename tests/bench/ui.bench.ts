@@ -510,12 +510,25 @@ async function main(): Promise<void> {
       await page.waitForTimeout(1500);
       const rendered = await page.getByTestId("loop-tile").count();
       console.log(`${N_LOOPS} loops, ${rendered} tiles in the DOM (the rest virtualised)`);
-      const show = (
+      const show = async (
         label: string,
         r: { frames: number[]; longTasks: number[]; stalled?: boolean },
       ) => {
         const out = report(label, r);
-        if (r.stalled) throw new Stalled();
+        if (r.stalled) {
+          // what the stalled page is doing: a CPU profile of 5 s (the profiler samples even a busy page)
+          await Promise.race([
+            profile(
+              page,
+              `stalled page (${label})`,
+              () => new Promise((res) => setTimeout(res, 5000)),
+            ),
+            new Promise((res) => setTimeout(res, 30_000)),
+          ]).catch((e: unknown) =>
+            console.log(`  (no profile of the stalled page: ${String(e).slice(0, 200)})`),
+          );
+          throw new Stalled();
+        }
         if (!unlocked) {
           const d = dropped(r.frames);
           console.log(
@@ -529,10 +542,10 @@ async function main(): Promise<void> {
         await trace(page, "idle scrolling", () => rec(5000, true));
       else if (process.env.BENCH_PROFILE)
         await profile(page, "idle scrolling", () => rec(5000, true));
-      const idle = show("idle (no updates), scrolling", await rec(8000, true));
+      const idle = await show("idle (no updates), scrolling", await rec(8000, true));
       timer = setInterval(emitter(100_000), UPDATE_MS);
       await page.waitForTimeout(1500);
-      show("same batches, loops not on the page (decode only)", await rec(8000, false));
+      await show("same batches, loops not on the page (decode only)", await rec(8000, false));
       clearInterval(timer);
       timer = setInterval(emitter(0), UPDATE_MS);
       await page.waitForTimeout(1500);
@@ -540,12 +553,12 @@ async function main(): Promise<void> {
         await trace(page, "2 Hz, scrolling", () => rec(5000, true));
       else if (process.env.BENCH_PROFILE)
         await profile(page, "2 Hz, scrolling", () => rec(5000, true));
-      const live = show("2,000 loops at 2 Hz, scrolling", await rec(15000, true));
+      const live = await show("2,000 loops at 2 Hz, scrolling", await rec(15000, true));
       if (process.env.BENCH_PROFILE === "trace")
         await trace(page, "2 Hz, not scrolling", () => rec(5000, false));
       else if (process.env.BENCH_PROFILE)
         await profile(page, "2 Hz, not scrolling", () => rec(5000, false));
-      const still = show("2,000 loops at 2 Hz, not scrolling", await rec(8000, false));
+      const still = await show("2,000 loops at 2 Hz, not scrolling", await rec(8000, false));
       clearInterval(timer);
       timer = null;
       console.log(
