@@ -18,6 +18,12 @@ const ZETAS = [0, 0.1, 0.2, 0.3, 0.4, 0.5, 0.6, 0.7, 0.8, 0.9];
 const WNT = [0.1, 0.2, 0.3, 0.4, 0.5, 0.6, 0.7, 0.8, 0.9, 1.0];
 /** sqrt of the χ²(2) 95 % quantile, 5.991 (standard table value): scales a 1σ ellipse to 95 %. */
 const CHI2_95 = Math.sqrt(5.991);
+/**
+ * Widest 95 % ellipse drawn, as a semi-axis in z units. A wider one says only "this pole is poorly
+ * determined" and would cover the map; such a pole gets a dashed ring instead (its ± is in the
+ * analysis panel's pole list).
+ */
+export const MAX_ELLIPSE_Z = 0.5;
 
 export interface ZPlaneMapProps {
   modelPoles: readonly MapPole[];
@@ -246,6 +252,24 @@ function ZPlaneMapInner({
             const e = ellipseOf(p.cov);
             if (!e || !(e.a > 0)) return null;
             const [x, y] = s(p);
+            if (e.a * CHI2_95 > MAX_ELLIPSE_Z) {
+              return (
+                <circle
+                  key={`e${i}`}
+                  cx={x}
+                  cy={y}
+                  r={9}
+                  fill="none"
+                  stroke="var(--rg-accent)"
+                  strokeWidth="0.8"
+                  strokeDasharray="2 2"
+                  opacity="0.8"
+                  data-kind="uncertain-pole"
+                >
+                  <title>poorly determined: 95 % ellipse wider than {MAX_ELLIPSE_Z} in z</title>
+                </circle>
+              );
+            }
             return (
               <ellipse
                 key={`e${i}`}
@@ -347,6 +371,10 @@ export function ZPlaneLegend({
       </li>
       <li>
         <span style={{ color: "var(--rg-accent)" }}>⬭</span> 95 % confidence
+      </li>
+      <li>
+        <span style={{ color: "var(--rg-accent)" }}>◌</span> poorly determined (ellipse wider than{" "}
+        {MAX_ELLIPSE_Z} in z)
       </li>
       <li>dotted trail: earlier positions</li>
       <li>tinted ring: between warning and alarm radius</li>
