@@ -129,24 +129,26 @@ export interface PoleBrief extends Complex {
  * LoopStateDto can stand wherever a LoopStateBrief is expected; the full state of a loop comes
  * from `GET /api/loops/[id]` and, while the loop is watched, from `loop:detail`.
  */
-export interface LoopStateBrief {
-  loopId: number;
-  tenantId: number;
-  at: number;
-  receivedAt: number | null;
-  trackerState: TrackerState;
-  stateReason: string | null;
-  estimationPeriodS: number;
-  spectralRadius: number | null;
-  rimDistance: number | null;
-  decayRatio: number | null;
-  juryStable: boolean | null;
-  dominant: { zeta: number | null; wn: number | null; timeConstant: number | null } | null;
-  gainHeadroom: number | null;
+export type LoopStateBrief = Pick<
+  LoopStateDto,
+  | "loopId"
+  | "tenantId"
+  | "at"
+  | "receivedAt"
+  | "trackerState"
+  | "stateReason"
+  | "estimationPeriodS"
+  | "spectralRadius"
+  | "rimDistance"
+  | "decayRatio"
+  | "juryStable"
+  | "dominant"
+  | "gainHeadroom"
+  | "dataPolesKind"
+> & {
   modelPoles: PoleBrief[];
   dataPoles: PoleBrief[];
-  dataPolesKind: "closed-loop" | "disturbance-response";
-}
+};
 
 /** A loop of the live loop list in the browser: the API's summary with a live state summary. */
 export type LiveLoopSummary = Omit<LoopSummary, "state"> & { state: LoopStateBrief | null };
