@@ -10,12 +10,13 @@ import Link from "next/link";
 import { memo, type ReactElement, useDeferredValue, useLayoutEffect, useMemo, useRef, useState } from "react";
 import type { AlarmDto, Role } from "@/lib/types";
 import { roleAtLeast } from "@/lib/types";
-import { useAlarms, useDecayLevels, useLoops, useNow } from "@/lib/client/hooks";
-import { ATTENTION_STATES, WorstFirstOrder } from "@/lib/client/order";
+import { useAlarms, type useLoops } from "@/lib/client/hooks";
+import { ATTENTION_STATES } from "@/lib/client/order";
 import type { LiveLoopSummary } from "@/lib/types";
 import { CONDITION_WORDS, fmtClock } from "@/lib/client/format";
 import { AlarmActions } from "./alarm-actions";
-import { AreaSummaries, summariseAreas } from "./area-summary";
+import { AreaSummaries } from "./area-summary";
+import { useWorstFirstLoops } from "./use-worst-first";
 import { LoopTile, TILE_HEIGHT } from "./loop-tile";
 import { PriorityMark } from "./priority-mark";
 
@@ -23,19 +24,7 @@ const TILE_MIN_WIDTH = 300;
 const GAP = 8;
 
 export function ControlRoom({ role }: { role: Role }) {
-  const { loops: raw, store, error, isLoading, connected } = useLoops();
-  const levels = useDecayLevels("tenant");
-  const now = useNow(1000);
-  // Worst-first order recomputed once a second (and at once when loops or alarms change), not
-  // on every live batch; within a margin step loops keep their places (no reshuffle on noise).
-  // Tiles read the loop's current summary from the store, so values stay live between sorts.
-  const [order] = useState(() => new WorstFirstOrder());
-  const tick = Math.floor(now / 1000);
-  const structure = store.structureVersion;
-  const count = raw.length;
-  // raw is read at the moment of the tick; a new batch alone does not re-sort
-  const loops = useMemo(() => order.sort(raw, levels.high), [order, tick, structure, count, levels.high]); // eslint-disable-line react-hooks/exhaustive-deps
-  const areas = useMemo(() => summariseAreas(raw, now), [now, structure, count]); // eslint-disable-line react-hooks/exhaustive-deps
+  const { store, error, isLoading, connected, sorted: loops, areas, levels, now } = useWorstFirstLoops();
   const [filter, setFilter] = useState("");
   const deferred = useDeferredValue(filter);
   const shown = useMemo(() => {

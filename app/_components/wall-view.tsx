@@ -5,12 +5,12 @@
  * indicator, so nothing hides below the fold. Keys: ← → change page, space pauses, Esc leaves.
  */
 import Link from "next/link";
-import { useEffect, useMemo, useState } from "react";
+import { useEffect, useState } from "react";
 import type { LiveLoopSummary, Role } from "@/lib/types";
-import { useDecayLevels, useLoops, useNow } from "@/lib/client/hooks";
-import { marginToAlarm, worstPriority, WorstFirstOrder } from "@/lib/client/order";
+import { marginToAlarm, worstPriority } from "@/lib/client/order";
 import { DEFAULT_POLICY } from "@/lib/alarms/policy";
-import { AreaSummaries, summariseAreas } from "./area-summary";
+import { AreaSummaries } from "./area-summary";
+import { useWorstFirstLoops } from "./use-worst-first";
 import { AlarmBand } from "./control-room";
 import { LoopTile } from "./loop-tile";
 
@@ -35,19 +35,7 @@ export function pinnedLoops<L extends LiveLoopSummary>(sorted: readonly L[], max
 }
 
 export function WallView({ role, caution }: { role: Role; caution: string }) {
-  const { loops: raw, store, connected } = useLoops();
-  const levels = useDecayLevels("tenant");
-  const now = useNow(1000);
-  // Worst-first order and area summaries once a second (and at once when loops or alarms
-  // change), not on every live batch; loops keep their places within a margin step. Tiles read
-  // the loop's current summary from the store, so their figures stay live between sorts.
-  const [order] = useState(() => new WorstFirstOrder());
-  const tick = Math.floor(now / 1000);
-  const structure = store.structureVersion;
-  const count = raw.length;
-  // raw is read at the moment of the tick; a new batch alone does not re-sort
-  const sorted = useMemo(() => order.sort(raw, levels.high), [order, tick, structure, count, levels.high]); // eslint-disable-line react-hooks/exhaustive-deps
-  const areas = useMemo(() => summariseAreas(raw, now), [now, structure, count]); // eslint-disable-line react-hooks/exhaustive-deps
+  const { store, connected, sorted, areas, levels, now } = useWorstFirstLoops();
   const { w, h } = useViewport();
   const cols = Math.max(1, Math.floor((w - 32) / (TILE_W + 12)));
   const reserved = 300; // header, area summaries and alarm band
