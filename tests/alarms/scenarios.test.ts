@@ -16,6 +16,7 @@ import { LoopSim, trueClosedLoopPoles } from "@/simulators/loop-sim";
 import { activitySchema, controllerSpecSchema, loadScenario } from "@/simulators/scenario";
 import { createTestDatabase, type TestDatabase } from "../setup/db";
 import { trackerConfigFor } from "../tracking/helpers";
+import { demoTrackerConfig } from "../tracking/demo-harness";
 import { createFixture, FakeClock, setTenantPolicy, tempJournal, testContext, type Fixture } from "./helpers";
 
 const T0 = Date.UTC(2026, 6, 1, 12, 0, 0);
@@ -125,25 +126,7 @@ describe("alarms on simulated plants", () => {
         seed: 9100 + i,
       });
       sims.push({ sim, id });
-      configs.push({
-        id,
-        tenantId: fx.tenantId,
-        siteId: fx.siteId,
-        tag: `H-${l.tag}`,
-        pvLo: l.pvLo,
-        pvHi: l.pvHi,
-        mvLo: 0,
-        mvHi: 100,
-        mvLimitLo: 0,
-        mvLimitHi: 100,
-        telemetryPeriodS: l.telemetryPeriodS,
-        controllerPeriodS: l.controllerPeriodS,
-        estimationPeriodS: l.estimationPeriodS,
-        controller: p.controller,
-        na: l.na,
-        nb: l.nb,
-        nk: l.nk,
-      });
+      configs.push(demoTrackerConfig(l.tag, id, { tenantId: fx.tenantId, siteId: fx.siteId, tag: `H-${l.tag}` }));
     }
     const clock = new FakeClock(T0);
     const ctx = testContext(clock);

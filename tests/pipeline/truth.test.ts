@@ -21,6 +21,7 @@ import { connectPublisher } from "@/simulators/publisher";
 import { SimulatorRunner } from "@/simulators/runner";
 import { loadScenario, type Scenario } from "@/simulators/scenario";
 import { trackerConfigFor } from "../tracking/helpers";
+import { collectStates } from "../tracking/demo-harness";
 
 const SPEEDUP = 150;
 const SIM_END_S = 3600;
@@ -54,12 +55,7 @@ beforeAll(async () => {
   for (const sc of scenarios) for (const sim of buildFleet({ scenario: sc, seed: sc.seed ?? 1 })) sims.set(sim.slug, sim);
   const ids = new Map([...sims.keys()].map((slug, i) => [slug, i + 1]));
   const bus = new Bus();
-  const states = new Map<number, LoopStateDto[]>();
-  bus.on("tracker:update", (s) => {
-    const list = states.get(s.loopId) ?? [];
-    list.push(s);
-    states.set(s.loopId, list);
-  });
+  const states = collectStates(bus);
   const registry = new TrackerRegistry({ bus, clock: systemClock }, [...sims.values()].map((sim) => trackerConfigFor(sim, ids.get(sim.slug)!)));
   const r: Run = { sims, ids, states, sent: 0, received: 0, rejected: 0, registry };
 

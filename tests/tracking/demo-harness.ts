@@ -17,8 +17,11 @@ import { FakeClock } from "./helpers";
 
 export const scenarioDir = path.join(import.meta.dirname, "../../simulators/scenarios");
 
-/** The tracker configuration the server builds from a demo loop's stored row. */
-export function demoTrackerConfig(tag: string, id: number): LoopConfig {
+/**
+ * The tracker configuration the server builds from a demo loop's stored row; `over` places the
+ * loop in another tenant/site or under another tag (a test fixture's copy of the loop).
+ */
+export function demoTrackerConfig(tag: string, id: number, over: Partial<Pick<LoopConfig, "tenantId" | "siteId" | "tag">> = {}): LoopConfig {
   const l = DEMO_LOOPS.find((d) => d.tag === tag);
   const p = DEMO_PLANTS[tag];
   if (!l || !p) throw new Error(`no demo loop ${tag}`);
@@ -40,7 +43,19 @@ export function demoTrackerConfig(tag: string, id: number): LoopConfig {
     na: l.na,
     nb: l.nb,
     nk: l.nk,
+    ...over,
   };
+}
+
+/** Every `tracker:update` state published on `bus`, per loop id, in order. */
+export function collectStates(bus: Bus): Map<number, LoopStateDto[]> {
+  const states = new Map<number, LoopStateDto[]>();
+  bus.on("tracker:update", (s) => {
+    const list = states.get(s.loopId) ?? [];
+    list.push(s);
+    states.set(s.loopId, list);
+  });
+  return states;
 }
 
 export interface DemoRun {
@@ -63,12 +78,7 @@ export async function startDemoRun(options: { scenario?: string; tags?: string[]
   const clock = new FakeClock(Date.UTC(2026, 0, 5, 8, 0, 0));
   const t0 = clock.t;
   const bus = new Bus();
-  const states = new Map<number, LoopStateDto[]>();
-  bus.on("tracker:update", (s) => {
-    const list = states.get(s.loopId) ?? [];
-    list.push(s);
-    states.set(s.loopId, list);
-  });
+  const states = collectStates(bus);
   const registry = new TrackerRegistry({ bus, clock }, fleet.map((s) => demoTrackerConfig(s.config.tag, ids.get(s.config.tag)!)));
   let now = 0;
   return {
