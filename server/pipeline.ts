@@ -129,7 +129,22 @@ export async function startPipeline(ctx: ServerContext, opts: PipelineOptions = 
 
   let checkpointError: string | null = null;
   let lastCheckpoint: { at: number; loops: number } | null = null;
-  const checkpointNow = async () => {
+  // Writes run one after another, and each takes its snapshot when its turn comes: a timer-fired
+  // write still in flight at shutdown must not land after (and over) the final, newer one. A
+  // request made while another is still waiting for its turn shares that one (same snapshot time).
+  let checkpointTail: Promise<number> = Promise.resolve(0);
+  let checkpointWaiting: Promise<number> | null = null;
+  const checkpointNow = (): Promise<number> => {
+    if (checkpointWaiting) return checkpointWaiting;
+    const run = checkpointTail.then(() => {
+      checkpointWaiting = null;
+      return writeCheckpoint();
+    });
+    checkpointWaiting = run;
+    checkpointTail = run;
+    return run;
+  };
+  const writeCheckpoint = async (): Promise<number> => {
     try {
       const n = await saveCheckpoints(sequelize, registry.checkpoint(), ctx.clock.now());
       lastCheckpoint = { at: ctx.clock.now(), loops: n };

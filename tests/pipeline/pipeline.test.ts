@@ -147,6 +147,64 @@ describe("live pipeline with MariaDB", () => {
     }
   });
 
+  it("stores the newest checkpoint at shutdown even when earlier checkpoint writes are still in flight", async () => {
+    // Timer-fired checkpoints are not awaited; the one written at stop must not be overtaken by
+    // an older snapshot finishing later on another pool connection.
+    const clock = new ManualClock(Math.floor(Date.now() / 60_000) * 60_000 + 60_000);
+    const plant = new PiLoop(0.85, 1.2);
+    // The database answers earlier checkpoint writes later (the k-th waits (20 - k) x 10 ms), the
+    // order a busy pool can produce; without ordered writes the oldest snapshot would land last.
+    let k = 0;
+    const slowFirst = new Proxy(db.sequelize, {
+      get(target, prop) {
+        if (prop === "query") {
+          return async (sql: unknown, ...rest: unknown[]) => {
+            if (typeof sql === "string" && sql.trimStart().startsWith("INSERT INTO estimator_checkpoints")) {
+              await new Promise((r) => setTimeout(r, Math.max(0, 20 - k++) * 10));
+            }
+            return (target.query as (...args: unknown[]) => Promise<unknown>)(sql, ...rest);
+          };
+        }
+        const v = Reflect.get(target, prop, target) as unknown;
+        return typeof v === "function" ? (v as (...args: unknown[]) => unknown).bind(target) : v;
+      },
+    });
+    let p = await startPipeline(testContext(clock), {
+      sequelize: slowFirst,
+      broker: { host: "127.0.0.1", port: 0, mqttUrl: null },
+      history: { partitionEveryMs: 0 },
+    });
+    let modelAtStop = "";
+    let samplesAtStop = 0;
+    const pending: Promise<number>[] = [];
+    try {
+      for (let m = 0; m < 400; m++) {
+        clock.advance(1000);
+        expect(p.ingest.handle({ topic: topic(a), payload: JSON.stringify(plant.next(clock.now())), device: identity(a) }).accepted).toBe(1);
+        if (m % 20 === 0) {
+          pending.push(p.checkpointNow());
+          await new Promise((r) => setImmediate(r)); // let that write start before the next samples
+        }
+      }
+    } finally {
+      const t = p.registry.get(a.loopId)!;
+      modelAtStop = JSON.stringify(t.plantModel());
+      samplesAtStop = t.current.samples;
+      await p.stop();
+    }
+    // Every requested write finished, none failed (a failure returns 0 loops written).
+    for (const n of await Promise.all(pending)) expect(n).toBe(2);
+    p = await start(clock);
+    try {
+      expect(JSON.stringify(p.registry.get(a.loopId)!.plantModel())).toBe(modelAtStop);
+      clock.advance(1000);
+      expect(p.ingest.handle({ topic: topic(a), payload: JSON.stringify(plant.next(clock.now())), device: identity(a) }).accepted).toBe(1);
+      expect(p.registry.get(a.loopId)!.current.samples).toBe(samplesAtStop + 1);
+    } finally {
+      await p.stop();
+    }
+  });
+
   it("picks up a new loop on loop:config-changed and drops a disabled one", async () => {
     const clock = new ManualClock(Date.now());
     const ctx = testContext(clock);
