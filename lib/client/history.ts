@@ -53,16 +53,9 @@ export function parseHistory(body: unknown): { cols: HistoryColumns; snapshots: 
   let rows: Record<string, unknown>[] = [];
   const cand = b.points ?? b.samples ?? b.rows ?? b.data;
   if (Array.isArray(cand)) rows = cand as Record<string, unknown>[];
-  else if (Array.isArray(b.t)) {
-    const n = (b.t as unknown[]).length;
-    rows = Array.from({ length: n }, (_, i) => {
-      const r: Record<string, unknown> = {};
-      for (const [k, v] of Object.entries(b)) if (Array.isArray(v)) r[k] = v[i];
-      return r;
-    });
-  }
+  else if (Array.isArray(b.t)) return { cols: parseColumns(b), snapshots: parseSnapshots(b) };
   const n = rows.length;
-  const cols: HistoryColumns = { t: new Float64Array(n), sp: new Array(n), pv: new Array(n), mv: new Array(n), radius: new Array(n), radiusMin: new Array(n), radiusMax: new Array(n) };
+  const cols = newColumns(n);
   // Raw rows (plain numbers) take the short path: a 24 h answer at 1 Hz is 86,400 rows.
   const num = (v: unknown): number | null | undefined => (typeof v === "number" ? (Number.isFinite(v) ? v : null) : undefined);
   for (let i = 0; i < n; i++) {
@@ -86,8 +79,57 @@ export function parseHistory(body: unknown): { cols: HistoryColumns; snapshots: 
       cols.radiusMax[i] = pick(r, "radius", "max");
     }
   }
+  return { cols, snapshots: parseSnapshots(b) };
+}
+
+function newColumns(n: number): HistoryColumns {
+  return { t: new Float64Array(n), sp: new Array(n), pv: new Array(n), mv: new Array(n), radius: new Array(n), radiusMin: new Array(n), radiusMax: new Array(n) };
+}
+
+/** One cell of a columnar answer: a number, or a `{ min, mean, max }` statistic. */
+function cell(v: unknown, stat: "mean" | "min" | "max"): number | null {
+  if (typeof v === "number") return Number.isFinite(v) ? v : null;
+  return v && typeof v === "object" ? pick({ v }, "v", stat) : null;
+}
+
+/**
+ * Columnar answers (`t: [...]`, `sp: [...]`, ... of equal length; a missing column reads as
+ * gaps): copied column by column, without building a row object per point.
+ */
+function parseColumns(b: Record<string, unknown>): HistoryColumns {
+  const t = b.t as unknown[];
+  const n = t.length;
+  const cols = newColumns(n);
+  for (let i = 0; i < n; i++) {
+    const v = t[i];
+    cols.t[i] = (typeof v === "number" ? v : toMs(v)) / 1000;
+  }
+  const fill = (name: string, into: (number | null)[], stat: "mean" | "min" | "max") => {
+    const src = b[name];
+    if (!Array.isArray(src)) {
+      into.fill(null);
+      return;
+    }
+    for (let i = 0; i < n; i++) {
+      const v: unknown = src[i];
+      into[i] = typeof v === "number" ? (Number.isFinite(v) ? v : null) : cell(v, stat);
+    }
+  };
+  fill("sp", cols.sp, "mean");
+  fill("pv", cols.pv, "mean");
+  fill("mv", cols.mv, "mean");
+  const radius = Array.isArray(b.radius) ? "radius" : "spectralRadius";
+  fill(radius, cols.radius, "mean");
+  if (Array.isArray(b.radiusMin)) fill("radiusMin", cols.radiusMin, "min");
+  else fill(radius, cols.radiusMin, "min");
+  if (Array.isArray(b.radiusMax)) fill("radiusMax", cols.radiusMax, "max");
+  else fill(radius, cols.radiusMax, "max");
+  return cols;
+}
+
+function parseSnapshots(b: Record<string, unknown>): PoleSnapshot[] {
   const snapRaw = b.poles ?? b.snapshots ?? b.poleSnapshots;
-  const snapshots: PoleSnapshot[] = Array.isArray(snapRaw)
+  return Array.isArray(snapRaw)
     ? (snapRaw as Record<string, unknown>[])
         .map((s) => {
           const poles = s.poles as unknown;
@@ -104,7 +146,6 @@ export function parseHistory(body: unknown): { cols: HistoryColumns; snapshots: 
         .filter((s) => Number.isFinite(s.t))
         .sort((x, y) => x.t - y.t)
     : [];
-  return { cols, snapshots };
 }
 
 /** The snapshot at or just before time t (ms); binary search. */
