@@ -254,6 +254,23 @@ export function closedLoopArxInto(
   const lenLoop = nk + nb + ctrlNum.length - 1;
   const len = Math.max(lenOpen, lenLoop);
   if (out.length < len) throw new ControlArgumentError(`closedLoopArxInto: out needs length >= ${len}`);
+  if (na === 2 && nb === 2 && nk === 1 && ctrlDen.length === 2 && ctrlNum.length === 2) {
+    // the tracker's common case, ARX(2,2,1) under a PI: the loops below written out, in their
+    // order of accumulation (the same rounding, bit for bit)
+    const a1 = theta[0]!;
+    const a2 = theta[1]!;
+    const b0 = theta[2]!;
+    const b1 = theta[3]!;
+    const d0 = ctrlDen[0]!;
+    const d1 = ctrlDen[1]!;
+    const n0 = ctrlNum[0]!;
+    const n1 = ctrlNum[1]!;
+    out[0] = 0 + 1 * d0;
+    out[1] = 0 + 1 * d1 + a1 * d0 + b0 * n0;
+    out[2] = 0 + a1 * d1 + a2 * d0 + b0 * n1 + b1 * n0;
+    out[3] = 0 + a2 * d1 + b1 * n1;
+    return 4;
+  }
   for (let i = 0; i < len; i++) out[i] = 0;
   for (let i = 0; i <= na; i++) {
     const ai = i === 0 ? 1 : theta[i - 1]!;

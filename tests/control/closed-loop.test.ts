@@ -171,6 +171,33 @@ describe("closedLoopPolynomial", () => {
   });
 });
 
+describe("closedLoopArxInto, ARX(2,2,1) under a PI (the tracker's common case)", () => {
+  it("gives the general loop's coefficients bit for bit, and agrees with closedLoopPolynomial", () => {
+    // seeded random plants and PI tunings (mulberry32); the general path is reached with a third
+    // b coefficient of zero, which adds exact zeros only
+    let a = 20261202 >>> 0;
+    const rand = () => {
+      a = (a + 0x6d2b79f5) >>> 0;
+      let t = a;
+      t = Math.imul(t ^ (t >>> 15), t | 1);
+      t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
+      return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
+    };
+    const fast = new Float64Array(8);
+    const general = new Float64Array(8);
+    for (let k = 0; k < 500; k++) {
+      const pi = discretePid({ kp: 0.05 + 3 * rand(), ti: 1 + 60 * rand(), T: 1 });
+      const th = [-2 * rand(), rand() - 0.3, 0.3 * (rand() - 0.5), 0.3 * (rand() - 0.5)];
+      expect(closedLoopArxInto(th, 2, 2, 1, pi.num, pi.den, fast)).toBe(4);
+      expect(closedLoopArxInto([th[0]!, th[1]!, th[2]!, th[3]!, 0], 2, 3, 1, pi.num, pi.den, general)).toBe(5);
+      expect(general[4]).toBe(0);
+      for (let i = 0; i < 4; i++) expect(fast[i]).toBe(general[i]);
+      const ref = closedLoopPolynomial({ a: th.slice(0, 2), b: th.slice(2), nk: 1, T: 1 }, pi);
+      ref.forEach((x, i) => expect(Math.abs(fast[i]! - x)).toBeLessThanOrEqual(1e-15 * (1 + Math.abs(x))));
+    }
+  });
+});
+
 describe("gainHeadroom", () => {
   it("equals the analytic critical gain of a first-order plant under P control: root 0.8 - 0.2 k kp reaches -1 at k kp = 9 (derived by hand)", () => {
     for (const kp of [0.5, 1, 3]) {
