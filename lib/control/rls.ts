@@ -147,9 +147,14 @@ export class RecursiveLeastSquares {
   update(regressor: ArrayLike<number>, y: number): number {
     const n = this.n;
     if (regressor.length !== n) throw new ControlArgumentError(`regressor must have ${n} entries, got ${regressor.length}`);
-    if (!Number.isFinite(y)) throw new NonFiniteInputError("y");
-    for (let i = 0; i < n; i++) {
-      if (!Number.isFinite(regressor[i]!)) throw new NonFiniteInputError(`regressor[${i}]`);
+    // one test for all inputs: a sum of finite numbers times 0 is 0; NaN or an infinity makes it NaN
+    let probe = y * 0;
+    for (let i = 0; i < n; i++) probe += regressor[i]! * 0;
+    if (probe !== 0) {
+      if (!Number.isFinite(y)) throw new NonFiniteInputError("y");
+      for (let i = 0; i < n; i++) {
+        if (!Number.isFinite(regressor[i]!)) throw new NonFiniteInputError(`regressor[${i}]`);
+      }
     }
     const P = this.covariance;
     const th = this.theta;

@@ -216,7 +216,7 @@ export function dominantPoleInto(re: Float64Array, im: Float64Array, count: numb
     out.wn = 0;
   } else {
     const lnr = 0.5 * Math.log(dom2);
-    const theta = kind === "positive-real" ? 0 : kind === "negative-real" ? Math.PI : Math.atan2(y, x);
+    const theta = kind === "positive-real" ? 0 : kind === "negative-real" ? Math.PI : x > 0 ? Math.atan(y / x) : Math.atan2(y, x);
     const mag = Math.sqrt(lnr * lnr + theta * theta);
     out.wn = mag / T;
     out.zeta = mag === 0 ? 0 : -lnr / mag;
@@ -232,9 +232,10 @@ export function dominantPoleInto(re: Float64Array, im: Float64Array, count: numb
     // the same tests as decayRatio(): off the real axis, r^(2 pi / theta) = exp(2 pi ln r / theta)
     const ox = re[osc]!;
     const oy = im[osc]!;
-    const r = osc === dom ? radius : Math.sqrt(osc2);
-    if (!(oy <= REAL_AXIS_TOLERANCE * Math.max(1, r) && ox > 0)) {
-      const theta = Math.atan2(oy, ox);
+    // oy <= tol * max(1, r), squared (oy > 0 here): no square root for r
+    if (!(oy * oy <= REAL_AXIS_TOLERANCE * REAL_AXIS_TOLERANCE * Math.max(1, osc2) && ox > 0)) {
+      // atan(y/x) in the right half plane (cheaper than atan2 and as accurate: one rounding in y/x)
+      const theta = ox > 0 ? Math.atan(oy / ox) : Math.atan2(oy, ox);
       if (theta !== 0) out.decayRatio = Math.exp((Math.PI * Math.log(osc2)) / theta);
     }
   }
