@@ -172,7 +172,7 @@ export function newDominantPoleFigures(): DominantPoleFigures {
 /**
  * Hot-path figures of the roots `re[0..count)`, `im[0..count)` at sample period T (seconds),
  * written into `out` (see `DominantPoleFigures`). Compares squared moduli (no square root per
- * root) and spends the transcendental calls (sqrt, log, atan2 for a complex pole, exp for the
+ * root) and spends the transcendental calls (sqrt, log, an arctangent for a complex pole, exp for the
  * decay ratio) on the dominant pole and the dominant oscillating root only.
  * The caller guarantees finite roots and T > 0 (the contract function `poleCharacteristics`
  * checks them).
@@ -204,6 +204,15 @@ export function dominantPoleInto(re: Float64Array, im: Float64Array, count: numb
   }
   const x = re[dom]!;
   const y = im[dom]!;
+  // The independent transcendental calls first (log of the dominant pole; log and angle of a
+  // separate oscillating root), so the processor can overlap them; then what depends on them.
+  const lnDom2 = Math.log(dom2);
+  const other = osc >= 0 && osc !== dom;
+  const ox = other ? re[osc]! : 0;
+  const oy = other ? im[osc]! : 0;
+  // atan(y/x) in the right half plane (cheaper than atan2 and as accurate: one rounding in y/x)
+  const oTheta = other ? (ox > 0 ? Math.atan(oy / ox) : Math.atan2(oy, ox)) : 0;
+  const lnOsc2 = other ? Math.log(osc2) : 0;
   const radius = Math.sqrt(dom2);
   out.radius = radius;
   const kind = kindXY(x, y, radius);
@@ -215,7 +224,7 @@ export function dominantPoleInto(re: Float64Array, im: Float64Array, count: numb
     out.zeta = 0;
     out.wn = 0;
   } else {
-    const lnr = 0.5 * Math.log(dom2);
+    const lnr = 0.5 * lnDom2;
     const theta = kind === "positive-real" ? 0 : kind === "negative-real" ? Math.PI : x > 0 ? Math.atan(y / x) : Math.atan2(y, x);
     const mag = Math.sqrt(lnr * lnr + theta * theta);
     out.wn = mag / T;
@@ -228,15 +237,18 @@ export function dominantPoleInto(re: Float64Array, im: Float64Array, count: numb
       return out;
     }
   }
-  if (osc >= 0) {
-    // the same tests as decayRatio(): off the real axis, r^(2 pi / theta) = exp(2 pi ln r / theta)
-    const ox = re[osc]!;
-    const oy = im[osc]!;
+  if (other) {
+    // the same tests as decayRatio(): off the real axis, r^(2 pi / theta) = exp(pi ln r^2 / theta);
     // oy <= tol * max(1, r), squared (oy > 0 here): no square root for r
-    if (!(oy * oy <= REAL_AXIS_TOLERANCE * REAL_AXIS_TOLERANCE * Math.max(1, osc2) && ox > 0)) {
-      // atan(y/x) in the right half plane (cheaper than atan2 and as accurate: one rounding in y/x)
-      const theta = ox > 0 ? Math.atan(oy / ox) : Math.atan2(oy, ox);
-      if (theta !== 0) out.decayRatio = Math.exp((Math.PI * Math.log(osc2)) / theta);
+    if (!(oy * oy <= REAL_AXIS_TOLERANCE * REAL_AXIS_TOLERANCE * Math.max(1, osc2) && ox > 0) && oTheta !== 0) {
+      out.decayRatio = Math.exp((Math.PI * lnOsc2) / oTheta);
+    }
+  } else if (osc === dom) {
+    // the dominant pole sits (within tolerance) at the origin, at z = 1 or on the real axis but
+    // has a tiny positive imaginary part: the same tests as decayRatio()
+    if (!(y <= REAL_AXIS_TOLERANCE * Math.max(1, radius) && x > 0)) {
+      const theta = Math.atan2(y, x);
+      if (theta !== 0) out.decayRatio = Math.exp((Math.PI * lnDom2) / theta);
     }
   }
   return out;
