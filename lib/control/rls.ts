@@ -147,27 +147,29 @@ export class RecursiveLeastSquares {
   update(regressor: ArrayLike<number>, y: number): number {
     const n = this.n;
     if (regressor.length !== n) throw new ControlArgumentError(`regressor must have ${n} entries, got ${regressor.length}`);
-    // one test for all inputs: a sum of finite numbers times 0 is 0; NaN or an infinity makes it NaN
-    let probe = y * 0;
-    for (let i = 0; i < n; i++) probe += regressor[i]! * 0;
-    if (probe !== 0) {
-      if (!Number.isFinite(y)) throw new NonFiniteInputError("y");
-      for (let i = 0; i < n; i++) {
-        if (!Number.isFinite(regressor[i]!)) throw new NonFiniteInputError(`regressor[${i}]`);
-      }
-    }
     const P = this.covariance;
     const th = this.theta;
     const pphi = this.pphi;
     let r = 0;
     let yhat = 0;
+    // `probe` stays 0 for finite input (a finite number times 0); NaN or an infinity makes it NaN.
+    // Nothing of the estimator's state is written before the test below.
+    let probe = y * 0;
     for (let i = 0; i < n; i++) {
       let s = 0;
       const row = i * n;
       for (let j = 0; j < n; j++) s += P[row + j]! * regressor[j]!;
       pphi[i] = s;
-      r += regressor[i]! * s;
-      yhat += regressor[i]! * th[i]!;
+      const f = regressor[i]!;
+      probe += f * 0;
+      r += f * s;
+      yhat += f * th[i]!;
+    }
+    if (probe !== 0) {
+      if (!Number.isFinite(y)) throw new NonFiniteInputError("y");
+      for (let i = 0; i < n; i++) {
+        if (!Number.isFinite(regressor[i]!)) throw new NonFiniteInputError(`regressor[${i}]`);
+      }
     }
     // phi'P phi < 0 means P has lost definiteness along phi (rounding): reset after this step.
     let ok = r >= 0;
@@ -184,7 +186,11 @@ export class RecursiveLeastSquares {
       const c = r > DIRECTIONAL_MIN_R && lambda < 1 ? (1 - this.forgetRatio / r) * inv1r : inv1r;
       for (let i = 0; i < n; i++) {
         const pi = pphi[i]! * c;
-        for (let j = i; j < n; j++) {
+        // the diagonal entry first: it must stay positive and finite
+        const d = P[i * n + i]! - pi * pphi[i]!;
+        P[i * n + i] = d;
+        if (!(d > 0 && d < Infinity)) ok = false;
+        for (let j = i + 1; j < n; j++) {
           const v = P[i * n + j]! - pi * pphi[j]!;
           P[i * n + j] = v;
           P[j * n + i] = v;
@@ -210,10 +216,10 @@ export class RecursiveLeastSquares {
           for (let i = 0; i < n * n; i++) P[i] = P[i]! * f;
         }
       }
-    }
-    for (let i = 0; i < n; i++) {
-      const d = P[i * n + i]!;
-      if (!(d > 0) || !Number.isFinite(d)) ok = false;
+      for (let i = 0; i < n; i++) {
+        const d = P[i * n + i]!;
+        if (!(d > 0 && d < Infinity)) ok = false;
+      }
     }
     if (!ok) {
       P.set(this.p0);
