@@ -102,6 +102,14 @@ let scratch = new Float64Array(16);
  * @throws as `juryTest`.
  */
 export function juryStable(coeffs: ArrayLike<number>, length: number = coeffs.length): boolean {
+  if (length === 4) {
+    // the tracker's common case (second-order plant under a PI): a proper cubic, finite
+    const c0 = coeffs[0]!;
+    const c1 = coeffs[1]!;
+    const c2 = coeffs[2]!;
+    const c3 = coeffs[3]!;
+    if (c0 !== 0 && Number.isFinite(c0 + c1 + c2 + c3)) return cubicStable(c0, c1, c2, c3);
+  }
   let first = -1;
   for (let i = 0; i < length; i++) {
     const c = coeffs[i]!;
