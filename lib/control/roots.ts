@@ -451,7 +451,8 @@ const CUBIC_SORTED = 2;
  */
 
 function cubic(coeffs: ArrayLike<number>, first: number, outRe: Float64Array, outIm: Float64Array, warmStart: boolean): number {
-  const inv = 1 / coeffs[first]!;
+  const lead = coeffs[first]!;
+  const inv = lead === 1 ? 1 : 1 / lead; // a monic polynomial (a closed loop with a monic controller denominator) needs no division
   const a = coeffs[first + 1]! * inv;
   const b = coeffs[first + 2]! * inv;
   const c = coeffs[first + 3]! * inv;
@@ -510,8 +511,9 @@ function deflatedCubic(a: number, b: number, c: number, x0: number, outRe: Float
   let e0: number;
   const backward = x0 !== 0 && Math.abs(x0 * x0 * x0) > Math.abs(c);
   if (backward) {
-    e0 = -c / x0; // backward: x0 is the largest root
-    e1 = (e0 - b) / x0;
+    const inv = 1 / x0; // backward: x0 is the largest root
+    e0 = -c * inv;
+    e1 = (e0 - b) * inv;
   } else {
     e1 = a + x0; // forward: x0 is not larger than the pair
     e0 = b + e1 * x0;

@@ -89,13 +89,16 @@ function timeOnce(fn: (iterations: number) => number, iterations: number): numbe
   return Number(t1 - t0) / iterations;
 }
 
-const ROUNDS = 15;
+const ROUNDS = 101;
 
 /**
  * ns per iteration of fn and of BASELINE, each the best of ROUNDS short runs taken alternately
  * (the machine is shared: interleaving keeps the ratio meaningful when the load changes; short
  * runs, about 5 ms each, are more likely to fall in an undisturbed time slice), and the median of
  * the per-round ratios (each fn run against the baseline run just before it).
+ * ROUNDS was 15 (about 0.15 s per case); on this 2-core VM the speed of the same code changes by
+ * up to 2x for seconds at a time (seen on the baseline alone: 79 to 173 ns in consecutive runs),
+ * so 101 rounds (about 1 s per case) give both sides a fair chance at an undisturbed slice.
  */
 function measure(fn: (iterations: number) => number, iterations: number): { ns: number; base: number; medianRatio: number } {
   timeOnce(fn, Math.min(iterations, 20_000));
