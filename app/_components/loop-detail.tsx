@@ -34,7 +34,7 @@ export function LoopDetail({ loopId, role, initialRange = "1h" }: { loopId: numb
   const [anchor, setAnchor] = useState(() => Date.now());
   const rangeMs = RANGES.find((r) => r.key === range)!.ms;
   const width = useWidth();
-  const historyUrl = `/api/loops/${loopId}/history${query({ from: new Date(anchor - rangeMs).toISOString(), to: new Date(anchor).toISOString(), maxPoints: Math.max(200, Math.min(4000, Math.round(width))) })}`;
+  const historyUrl = `/api/loops/${loopId}/history${query({ from: new Date(anchor - rangeMs).toISOString(), to: new Date(anchor).toISOString(), maxPoints: Math.max(200, Math.min(4000, Math.round(width))), shape: "columns" })}`;
   const hist = useSWR(historyUrl, (u: string) => fetchJson<unknown>(u), { keepPreviousData: true });
   const parsed = useMemo(() => parseHistory(hist.data), [hist.data]);
   const live = useLoopSamples(loopId, 3600);
@@ -195,7 +195,7 @@ export function LoopDetail({ loopId, role, initialRange = "1h" }: { loopId: numb
             {r.label}
           </button>
         ))}
-        <span className="text-xs text-muted">{hist.isLoading ? "loading history…" : hist.error ? `history unavailable: ${(hist.error as Error).message}` : `${parsed.cols.t.length} points`}</span>
+        <span className="text-xs text-muted" data-testid="history-status" data-points={parsed.cols.t.length}>{hist.isLoading ? "loading history…" : hist.error ? `history unavailable: ${(hist.error as Error).message}` : `${parsed.cols.t.length} points`}</span>
         {live.error && <span className="text-xs text-high">live samples refused: {live.error}</span>}
       </div>
 

@@ -115,10 +115,12 @@ function parseColumns(b: Record<string, unknown>): HistoryColumns {
       into[i] = typeof v === "number" ? (Number.isFinite(v) ? v : null) : cell(v, stat);
     }
   };
-  fill("sp", cols.sp, "mean");
-  fill("pv", cols.pv, "mean");
-  fill("mv", cols.mv, "mean");
-  const radius = Array.isArray(b.radius) ? "radius" : "spectralRadius";
+  // `sp` or the API's `spMean` (GET /api/loops/[id]/history?shape=columns), and so on
+  const mean = (name: string) => (Array.isArray(b[name]) ? name : `${name}Mean`);
+  fill(mean("sp"), cols.sp, "mean");
+  fill(mean("pv"), cols.pv, "mean");
+  fill(mean("mv"), cols.mv, "mean");
+  const radius = Array.isArray(b.radius) ? "radius" : Array.isArray(b.radiusMean) ? "radiusMean" : "spectralRadius";
   fill(radius, cols.radius, "mean");
   if (Array.isArray(b.radiusMin)) fill("radiusMin", cols.radiusMin, "min");
   else fill(radius, cols.radiusMin, "min");

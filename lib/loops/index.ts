@@ -10,7 +10,7 @@ import { getSequelize } from "@/lib/db/sequelize";
 import { getServerContext } from "@/lib/server-context";
 import type { AlarmDto, LoopKind, LoopStateDto, LoopSummary, TenantContext } from "@/lib/types";
 
-export { getLoopHistory, historySchema, type LoopHistory, type HistoryPoint, type HistorySnapshot } from "./history";
+export { getLoopHistory, historyColumns, historySchema, type LoopHistory, type LoopHistoryColumns, type HistoryPoint, type HistorySnapshot } from "./history";
 
 export interface LoopDeps {
   sequelize?: Sequelize;

@@ -31,8 +31,10 @@
  *    frame (tasks counted in the frame they start in) from a Chromium trace.
  * 2. Loop detail with 24 h of 1 Hz data (86,400 points x SP, PV, MV), vsync-locked browser: time
  *    from the history answer's arrival (resource timing responseEnd) to the frame that shows
- *    every trend, once with the API's down-sampled answer (~ maxPoints) and once with all raw
- *    points handed to the charts. Target < 200 ms each.
+ *    every trend, once with the API's down-sampled answer (~ maxPoints, in the columnar shape the
+ *    page asks for, made by the server's `historyColumns`) and once with all raw points handed to
+ *    the charts as columns. Target < 200 ms each. One more run hands the raw points as one JSON
+ *    object per point (the rows shape), for comparison.
  * BENCH_PART=wall|detail runs part 1 or 2 only; BENCH_SYNC=unlocked|locked runs part 1 in one
  * browser only.
  * The loops list and the history are synthetic load generated here (page.route), so the numbers
@@ -49,6 +51,7 @@ import { DEMO_PASSWORD } from "@/lib/seed";
 import { tenantRoom } from "@/lib/realtime/events";
 import type { LoopStateBrief, LoopStateDto, LoopSummary, PoleDto } from "@/lib/types";
 import { toLoopBrief } from "@/server/realtime/summary";
+import { historyColumns } from "@/lib/loops/history";
 import { artifactPath, CHROMIUM_ARGS, findChromium, type TestBrowser } from "../setup/browser";
 import { startTestServer } from "../setup/server";
 
@@ -635,17 +638,30 @@ async function main(): Promise<void> {
           return { min: mn, mean: s / seg.length, max: mx };
         };
         out.push({
-          t: seg[0]!.t,
+          t: new Date(seg[0]!.t).toISOString(),
           sp: stat("sp"),
           pv: stat("pv"),
           mv: stat("mv"),
           radius: stat("radius"),
+          n: seg.length,
         });
       }
-      return out;
+      // the answer the page asks for (shape=columns), made by the server's own function
+      return historyColumns({ loopId: loop.id, from: new Date(start).toISOString(), to: new Date(end).toISOString(), tier: "1s", bucketMs: per * 1000, points: out, poles: [] });
+    };
+    // all raw points as columns (what a columnar answer of every sample carries), and as rows
+    const rawColumns = {
+      loopId: loop.id,
+      shape: "columns",
+      t: rows.map((r) => r.t),
+      sp: rows.map((r) => r.sp),
+      pv: rows.map((r) => r.pv),
+      mv: rows.map((r) => r.mv),
+      radius: rows.map((r) => r.radius),
+      poles: [],
     };
     await page.route(`**/api/loops/${loop.id}`, (r: Route) => r.fulfill({ json: { loop } }));
-    const results: Record<string, number[]> = { "down-sampled": [], raw: [] };
+    const results: Record<string, number[]> = { "down-sampled": [], raw: [], "raw as rows": [] };
     for (const mode of [
       "down-sampled",
       "raw",
@@ -653,15 +669,20 @@ async function main(): Promise<void> {
       "raw",
       "down-sampled",
       "raw",
+      "raw as rows",
     ] as const) {
       await page.unroute(`**/api/loops/${loop.id}/history**`);
       let points = 0;
       await page.route(`**/api/loops/${loop.id}/history**`, (r: Route) => {
         const u = new URL(r.request().url());
         const maxPoints = Number(u.searchParams.get("maxPoints") ?? 1000);
-        const body = mode === "raw" ? rows : downsample(maxPoints);
-        points = body.length;
-        return r.fulfill({ json: { loopId: loop.id, points: body, poles: [] } });
+        if (mode === "raw as rows") {
+          points = rows.length;
+          return r.fulfill({ json: { loopId: loop.id, points: rows, poles: [] } });
+        }
+        const body = mode === "raw" ? rawColumns : downsample(maxPoints);
+        points = body.t.length;
+        return r.fulfill({ json: body });
       });
       const open = async () => {
         await page.goto(`${srv.url}/loops/${loop.id}?range=24h`);
@@ -702,6 +723,10 @@ async function main(): Promise<void> {
       );
     }
     for (const [mode, xs] of Object.entries(results)) {
+      if (mode === "raw as rows") {
+        console.log(`  ${mode.padEnd(12)} ${xs[0]!.toFixed(0)} ms (one run, for comparison: one JSON object per point, the rows shape)`);
+        continue;
+      }
       const med = percentile(xs, 50);
       console.log(
         `  ${mode.padEnd(12)} median ${med.toFixed(0)} ms, ratio to the 200 ms target ${(med / 200).toFixed(2)}`,

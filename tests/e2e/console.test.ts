@@ -169,6 +169,8 @@ describe("the console in Chromium", () => {
     await expect.poll(() => page.getByTestId("jury-conditions").locator("tbody tr").count(), { timeout: 30_000 }).toBeGreaterThanOrEqual(3);
     expect(await page.getByTestId("jury-verdict").textContent()).toMatch(/stable/);
     await expect.poll(() => page.getByTestId("trend-chart").locator("canvas").count(), { timeout: 30_000 }).toBeGreaterThanOrEqual(3);
+    // the stored history arrived (the page asks the history API for columns) and has points
+    await expect.poll(async () => Number(await page.getByTestId("history-status").getAttribute("data-points")), { timeout: 30_000 }).toBeGreaterThan(0);
     await page.screenshot({ path: artifactPath("console-loop-detail.png"), fullPage: true });
     await page.goto(`${srv.url}/loops`);
     await page.getByTestId("loop-table").waitFor();

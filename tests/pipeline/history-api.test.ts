@@ -1,6 +1,7 @@
 import { spawnSync } from "node:child_process";
 import { afterAll, beforeAll, describe, expect, it, vi } from "vitest";
-import { getLoopHistory, bucketWidth, historySchema } from "@/lib/loops/history";
+import { getLoopHistory, bucketWidth, historyColumns, historySchema } from "@/lib/loops/history";
+import { parseHistory } from "@/lib/client/history";
 import type { TenantContext } from "@/lib/types";
 import { createTestDatabase, type TestDatabase } from "../setup/db";
 import { createPipelineFixture, type PipelineTenant } from "./fixture";
@@ -114,13 +115,39 @@ describe("history down-sampling", () => {
     expect(h!.points[3]!.pv).toEqual({ min: 40, mean: 48, max: 60 });
   });
 
+  it("gives the same buckets as columns (shape=columns) as it gives as rows", async () => {
+    for (const now of [T0 + SECONDS * 1000, T0 + 48 * 3_600_000]) {
+      const h = (await getLoopHistory(ctxOf(a), a.loopId, T0, T0 + 7_200_000, 241, { sequelize: db.sequelize, now, secondRetentionH: 6 }))!;
+      const c = historyColumns(h);
+      expect(c).toMatchObject({ loopId: h.loopId, from: h.from, to: h.to, tier: h.tier, bucketMs: h.bucketMs, shape: "columns", poles: h.poles });
+      expect(c.t).toEqual(h.points.map((p) => Date.parse(p.t)));
+      expect(c.n).toEqual(h.points.map((p) => p.n));
+      for (const k of ["sp", "pv", "mv"] as const) {
+        expect(c[`${k}Min`]).toEqual(h.points.map((p) => p[k].min));
+        expect(c[`${k}Mean`]).toEqual(h.points.map((p) => p[k].mean));
+        expect(c[`${k}Max`]).toEqual(h.points.map((p) => p[k].max));
+      }
+      expect(c.radiusMin).toEqual(h.points.map((p) => p.radius?.min ?? null));
+      expect(c.radiusMean).toEqual(h.points.map((p) => p.radius?.mean ?? null));
+      expect(c.radiusMax).toEqual(h.points.map((p) => p.radius?.max ?? null));
+      // the chart reads both shapes alike
+      const fromRows = parseHistory(h);
+      const fromCols = parseHistory(c);
+      expect(Array.from(fromCols.cols.t)).toEqual(Array.from(fromRows.cols.t));
+      for (const k of ["sp", "pv", "mv", "radius", "radiusMin", "radiusMax"] as const) expect(fromCols.cols[k]).toEqual(fromRows.cols[k]);
+      expect(fromCols.snapshots).toEqual(fromRows.snapshots);
+      expect(fromRows.cols.pv.some((v) => v !== null)).toBe(true);
+    }
+  });
+
   it("returns null for another tenant's loop and for a loop that does not exist", async () => {
     expect(await getLoopHistory(ctxOf(b), a.loopId, T0, T0 + 60_000, 100, { sequelize: db.sequelize })).toBeNull();
     expect(await getLoopHistory(ctxOf(a), 987_654, T0, T0 + 60_000, 100, { sequelize: db.sequelize })).toBeNull();
   });
 
   it("validates the query: ISO or epoch-ms times, to after from, maxPoints 10..10000", () => {
-    expect(historySchema.parse({ from: "2026-01-05T06:00:00Z", to: String(T0 + 1000) })).toEqual({ from: T0, to: T0 + 1000, maxPoints: 1000, tier: "auto" });
+    expect(historySchema.parse({ from: "2026-01-05T06:00:00Z", to: String(T0 + 1000) })).toEqual({ from: T0, to: T0 + 1000, maxPoints: 1000, tier: "auto", shape: "rows" });
+    expect(historySchema.parse({ from: "2026-01-05T06:00:00Z", to: String(T0 + 1000), shape: "columns" }).shape).toBe("columns");
     for (const bad of [
       { from: "yesterday", to: "2026-01-05T06:00:00Z" },
       { from: "2026-01-05T06:00:00Z", to: "2026-01-05T05:00:00Z" },
@@ -128,6 +155,7 @@ describe("history down-sampling", () => {
       { from: "2026-01-05T06:00:00Z", to: "2026-01-05T07:00:00Z", maxPoints: "abc" },
       { from: "2020-01-01T00:00:00Z", to: "2026-01-05T07:00:00Z" },
       { to: "2026-01-05T07:00:00Z" },
+      { from: "2026-01-05T06:00:00Z", to: "2026-01-05T07:00:00Z", shape: "csv" },
     ]) {
       expect(historySchema.safeParse(bad).success).toBe(false);
     }

@@ -1,9 +1,9 @@
-/** GET /api/loops/[loopId]/history?from&to&maxPoints — down-sampled history and pole snapshots (viewer). */
+/** GET /api/loops/[loopId]/history?from&to&maxPoints&tier&shape — down-sampled history and pole snapshots (viewer); shape=columns answers one array per statistic. */
 import { NextResponse } from "next/server";
 import { requireContext } from "@/lib/auth/guard";
 import { NotFoundError } from "@/lib/errors";
 import { handle, parseQuery } from "@/lib/http";
-import { getLoopHistory, historySchema, loopIdSchema } from "@/lib/loops";
+import { getLoopHistory, historyColumns, historySchema, loopIdSchema } from "@/lib/loops";
 
 export const dynamic = "force-dynamic";
 
@@ -13,5 +13,5 @@ export const GET = handle(async (req: Request, { params }: { params: Promise<{ l
   const q = parseQuery(req, historySchema);
   const history = await getLoopHistory(ctx, id, q.from, q.to, q.maxPoints, { tier: q.tier });
   if (!history) throw new NotFoundError("Loop");
-  return NextResponse.json(history);
+  return NextResponse.json(q.shape === "columns" ? historyColumns(history) : history);
 });
