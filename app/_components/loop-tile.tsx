@@ -183,11 +183,12 @@ type TileProps = Parameters<typeof LoopTileInner>[0];
 /**
  * Re-renders when the loop object is replaced (the store does so on every update), the levels
  * or size change, or the data turn stale or fresh; a new second alone only moves the age text.
- * Off screen (onScreen false before and after) a new state of the same loop waits; another loop
- * in the slot, or the tile coming on screen, re-renders at once.
+ * Off screen (onScreen false) a new state of the same loop waits; another loop in the slot
+ * re-renders at once, and a tile coming on screen re-renders if its loop changed since it last
+ * rendered (`a` is what it last rendered: a skipped update leaves the rendered props in place).
  */
 export const LoopTile = memo(LoopTileInner, (a: TileProps, b: TileProps) => {
-  if (a.loop.id !== b.loop.id || a.big !== b.big || a.levels !== b.levels || a.spark !== b.spark || (a.onScreen ?? true) !== (b.onScreen ?? true)) return false;
+  if (a.loop.id !== b.loop.id || a.big !== b.big || a.levels !== b.levels || a.spark !== b.spark) return false;
   if (b.onScreen === false) return true;
   return a.loop === b.loop && (a.now === b.now || dataAge(a.loop.state, a.now).stale === dataAge(b.loop.state, b.now).stale);
 });
