@@ -478,9 +478,13 @@ function cubic(coeffs: ArrayLike<number>, first: number, outRe: Float64Array, ou
         const ax = Math.abs(x);
         if (Math.abs(p) <= 16 * EPS * (((ax + aa) * ax + ab) * ax + ac)) return deflatedCubic(a, b, c, x, outRe, outIm);
         if (step === 4) break;
+        // Halley's step (cubic convergence: a root that moved by 1e-5 since the last call is at
+        // the rounding level after one step, where Newton needs two)
         const d = (3 * x + 2 * a) * x + b;
-        if (d === 0) break;
-        x -= p / d;
+        const dd = 6 * x + 2 * a;
+        const den = 2 * d * d - p * dd;
+        if (den === 0) break;
+        x -= (2 * p * d) / den;
       }
     }
   }
