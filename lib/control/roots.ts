@@ -67,7 +67,7 @@ function ensureCapacity(n: number): void {
  * degree and the same number of zero roots (a tracker re-solving a slowly changing polynomial),
  * those roots, slightly rotated to break the conjugate symmetry, seed the iteration instead of the
  * Newton-polygon circles; typically 2–4 iterations instead of 5–15. For the closed-form cubic,
- * the previous real root seeds Newton steps (no cube root or cosine), accepted only when |p| is
+ * the previous real root seeds Halley steps (no cube root or cosine), accepted only when |p| is
  * at its rounding level, otherwise the closed form runs. The result is the same to rounding
  * either way.
  *
@@ -457,7 +457,7 @@ function cubic(coeffs: ArrayLike<number>, first: number, outRe: Float64Array, ou
   const b = coeffs[first + 2]! * inv;
   const c = coeffs[first + 3]! * inv;
   if (warmStart) {
-    // the previous call's real root (the first, i.e. largest, real one after sorting) seeds Newton;
+    // the previous call's real root (the first, i.e. largest, real one after sorting) seeds Halley steps;
     // accepted only at the rounding level of evaluating p, otherwise the closed form below
     let seed = NaN;
     for (let i = 0; i < 3; i++) {
@@ -468,7 +468,7 @@ function cubic(coeffs: ArrayLike<number>, first: number, outRe: Float64Array, ou
     }
     if (Number.isFinite(seed)) {
       // accepted once |p| is at the rounding level of evaluating p (16 EPS times the sum of the
-      // terms' magnitudes): Newton has then done what polishing would do
+      // terms' magnitudes): the iteration has then done what polishing would do
       const aa = Math.abs(a);
       const ab = Math.abs(b);
       const ac = Math.abs(c);
