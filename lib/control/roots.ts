@@ -59,8 +59,9 @@ function ensureCapacity(n: number): void {
  * Allocation-free once the internal scratch buffers have grown to the degree in use (hot path).
  * `length` (default `coeffs.length`) lets a caller pass a longer reusable buffer.
  * Degree 3 (after removing zero roots) is solved here in closed form (trigonometric / Cardano
- * form, Press et al. 2007 sec. 5.6) and each root polished by Newton steps on the original
- * cubic, kept only while they reduce |p(z)|; this is several times faster than the iteration and
+ * form, Press et al. 2007 sec. 5.6), its real roots polished by Newton steps on the original
+ * cubic, kept only while they reduce |p(z)| (a complex pair as described at `cubic`); this is
+ * several times faster than the iteration and
  * agrees with `polyRoots` to the conditioning of the roots (tested). Other degrees use the same
  * method as `polyRoots`.
  * `warmStart`: when true and `outRe`/`outIm` still hold the roots of a previous call with the same
