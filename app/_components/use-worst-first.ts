@@ -22,8 +22,8 @@ export function useWorstFirstLoops() {
   // raw is read at the moment of the tick; a new batch alone does not re-sort
   const sorted = useMemo(
     () => order.sort(raw, levels.high),
-    [order, tick, structure, count, levels.high],
-  ); // eslint-disable-line react-hooks/exhaustive-deps
+    [order, tick, structure, count, levels.high], // eslint-disable-line react-hooks/exhaustive-deps
+  );
   const areas = useMemo(() => summariseAreas(raw, now), [now, structure, count]); // eslint-disable-line react-hooks/exhaustive-deps
   return { ...live, sorted, areas, levels, now };
 }
