@@ -78,14 +78,47 @@ export function bucketWidth(spanMs: number, maxPoints: number, tierMs: number): 
   return Math.max(tierMs, Math.ceil(raw / tierMs) * tierMs);
 }
 
+interface HistoryOptions {
+  sequelize?: Sequelize;
+  now?: number;
+  tier?: "auto" | "1s" | "1m";
+  secondRetentionH?: number;
+  /** `rows` (default) gives `LoopHistory`, `columns` gives `LoopHistoryColumns`. */
+  shape?: "rows" | "columns";
+}
+
+export function getLoopHistory(
+  ctx: Pick<TenantContext, "tenantId">,
+  loopId: number,
+  from: number,
+  to: number,
+  maxPoints: number,
+  opts: HistoryOptions & { shape: "columns" },
+): Promise<LoopHistoryColumns | null>;
+export function getLoopHistory(
+  ctx: Pick<TenantContext, "tenantId">,
+  loopId: number,
+  from: number,
+  to: number,
+  maxPoints: number,
+  opts?: HistoryOptions & { shape?: "rows" },
+): Promise<LoopHistory | null>;
+export function getLoopHistory(
+  ctx: Pick<TenantContext, "tenantId">,
+  loopId: number,
+  from: number,
+  to: number,
+  maxPoints: number,
+  opts?: HistoryOptions,
+): Promise<LoopHistory | LoopHistoryColumns | null>;
 export async function getLoopHistory(
   ctx: Pick<TenantContext, "tenantId">,
   loopId: number,
   from: number,
   to: number,
   maxPoints: number,
-  opts: { sequelize?: Sequelize; now?: number; tier?: "auto" | "1s" | "1m"; secondRetentionH?: number } = {},
-): Promise<LoopHistory | null> {
+  opts: HistoryOptions = {},
+): Promise<LoopHistory | LoopHistoryColumns | null> {
   if (!Number.isInteger(ctx.tenantId) || ctx.tenantId <= 0) throw new Error("History queries need a tenant context with a valid tenantId.");
   if (!Number.isSafeInteger(loopId) || loopId <= 0) return null;
   if (!(to > from) || !(maxPoints >= 1)) throw new RangeError("getLoopHistory: need from < to and maxPoints >= 1.");
@@ -128,11 +161,11 @@ export async function getLoopHistory(
     for (const r of rr) radiusByBucket.set(Number(r.b), stat(r.r_min, r.r_mean, r.r_max));
   }
 
-  const points: HistoryPoint[] = rows.map((r) => {
+  const buckets: Bucket[] = rows.map((r) => {
     const b = Number(r.b);
     const radius = tier === "1m" ? (r.r_min === null && r.r_max === null ? null : stat(r.r_min ?? null, r.r_mean ?? null, r.r_max ?? null)) : (radiusByBucket.get(b) ?? null);
     return {
-      t: new Date(b).toISOString(),
+      t: b,
       sp: stat(r.sp_min ?? null, r.sp_mean ?? null, r.sp_max ?? null),
       pv: stat(r.pv_min ?? null, r.pv_mean ?? null, r.pv_max ?? null),
       mv: stat(r.mv_min ?? null, r.mv_mean ?? null, r.mv_max ?? null),
@@ -163,81 +196,35 @@ export async function getLoopHistory(
     };
   });
 
-  return { loopId, from: new Date(from).toISOString(), to: new Date(to).toISOString(), tier, bucketMs, points, poles };
+  const head = { loopId, from: new Date(from).toISOString(), to: new Date(to).toISOString(), tier, bucketMs } as const;
+  if (opts.shape === "columns") return { ...head, shape: "columns", ...bucketColumns(buckets), poles };
+  return { ...head, points: buckets.map((b) => ({ ...b, t: new Date(b.t).toISOString() })), poles };
 }
+
+/** A bucket as the query gives it (start time in epoch ms), before either answer shape. */
+type Bucket = Omit<HistoryPoint, "t"> & { t: number };
+
+const SERIES = ["sp", "pv", "mv", "radius"] as const;
+const STATS = ["min", "mean", "max"] as const;
+type StatColumn = `${(typeof SERIES)[number]}${Capitalize<(typeof STATS)[number]>}`;
+const COLUMN_NAMES = SERIES.flatMap((k) => STATS.map((st) => ({ k, st, name: `${k}${st.charAt(0).toUpperCase()}${st.slice(1)}` as StatColumn })));
 
 /**
- * The same history as columns (`?shape=columns`): one array per statistic, index i for bucket i,
- * `t` in epoch milliseconds, `null` where a bucket has no value. About a third of the rows'
- * JSON, and a browser parses arrays of numbers much faster than one object per bucket.
+ * The same history as columns (`?shape=columns`): one array per statistic (`spMin`, `spMean`,
+ * `spMax`, ... `radiusMax`), index i for bucket i, `t` in epoch milliseconds, `null` where a bucket
+ * has no value. About a third of the rows' JSON, and a browser parses arrays of numbers much
+ * faster than one object per bucket.
  */
-export interface LoopHistoryColumns {
-  loopId: number;
-  from: string;
-  to: string;
-  tier: "1s" | "1m";
-  bucketMs: number;
-  shape: "columns";
-  t: number[];
-  n: number[];
-  spMin: (number | null)[];
-  spMean: (number | null)[];
-  spMax: (number | null)[];
-  pvMin: (number | null)[];
-  pvMean: (number | null)[];
-  pvMax: (number | null)[];
-  mvMin: (number | null)[];
-  mvMean: (number | null)[];
-  mvMax: (number | null)[];
-  radiusMin: (number | null)[];
-  radiusMean: (number | null)[];
-  radiusMax: (number | null)[];
-  poles: HistorySnapshot[];
+export type LoopHistoryColumns = Omit<LoopHistory, "points"> & { shape: "columns"; t: number[]; n: number[] } & Record<StatColumn, (number | null)[]>;
+
+function bucketColumns(buckets: readonly Bucket[]): { t: number[]; n: number[] } & Record<StatColumn, (number | null)[]> {
+  const cols = { t: buckets.map((b) => b.t), n: buckets.map((b) => b.n) } as { t: number[]; n: number[] } & Record<StatColumn, (number | null)[]>;
+  for (const { k, st, name } of COLUMN_NAMES) cols[name] = buckets.map((b) => b[k]?.[st] ?? null);
+  return cols;
 }
 
-/** `LoopHistory` rows turned into `LoopHistoryColumns`. */
+/** `LoopHistory` rows turned into `LoopHistoryColumns` (what `getLoopHistory` gives with `shape: "columns"`). */
 export function historyColumns(h: LoopHistory): LoopHistoryColumns {
-  const len = h.points.length;
-  const col = () => new Array<number | null>(len);
-  const out: LoopHistoryColumns = {
-    loopId: h.loopId,
-    from: h.from,
-    to: h.to,
-    tier: h.tier,
-    bucketMs: h.bucketMs,
-    shape: "columns",
-    t: new Array<number>(len),
-    n: new Array<number>(len),
-    spMin: col(),
-    spMean: col(),
-    spMax: col(),
-    pvMin: col(),
-    pvMean: col(),
-    pvMax: col(),
-    mvMin: col(),
-    mvMean: col(),
-    mvMax: col(),
-    radiusMin: col(),
-    radiusMean: col(),
-    radiusMax: col(),
-    poles: h.poles,
-  };
-  for (let i = 0; i < len; i++) {
-    const p = h.points[i]!;
-    out.t[i] = Date.parse(p.t);
-    out.n[i] = p.n;
-    out.spMin[i] = p.sp.min;
-    out.spMean[i] = p.sp.mean;
-    out.spMax[i] = p.sp.max;
-    out.pvMin[i] = p.pv.min;
-    out.pvMean[i] = p.pv.mean;
-    out.pvMax[i] = p.pv.max;
-    out.mvMin[i] = p.mv.min;
-    out.mvMean[i] = p.mv.mean;
-    out.mvMax[i] = p.mv.max;
-    out.radiusMin[i] = p.radius?.min ?? null;
-    out.radiusMean[i] = p.radius?.mean ?? null;
-    out.radiusMax[i] = p.radius?.max ?? null;
-  }
-  return out;
+  const { points, ...head } = h;
+  return { ...head, shape: "columns", ...bucketColumns(points.map((p) => ({ ...p, t: Date.parse(p.t) }))) };
 }

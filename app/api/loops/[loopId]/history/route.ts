@@ -3,7 +3,7 @@ import { NextResponse } from "next/server";
 import { requireContext } from "@/lib/auth/guard";
 import { NotFoundError } from "@/lib/errors";
 import { handle, parseQuery } from "@/lib/http";
-import { getLoopHistory, historyColumns, historySchema, loopIdSchema } from "@/lib/loops";
+import { getLoopHistory, historySchema, loopIdSchema } from "@/lib/loops";
 
 export const dynamic = "force-dynamic";
 
@@ -11,7 +11,7 @@ export const GET = handle(async (req: Request, { params }: { params: Promise<{ l
   const ctx = await requireContext("viewer");
   const id = loopIdSchema.parse((await params).loopId);
   const q = parseQuery(req, historySchema);
-  const history = await getLoopHistory(ctx, id, q.from, q.to, q.maxPoints, { tier: q.tier });
+  const history = await getLoopHistory(ctx, id, q.from, q.to, q.maxPoints, { tier: q.tier, shape: q.shape });
   if (!history) throw new NotFoundError("Loop");
-  return NextResponse.json(q.shape === "columns" ? historyColumns(history) : history);
+  return NextResponse.json(history);
 });
