@@ -87,38 +87,17 @@ interface HistoryOptions {
   shape?: "rows" | "columns";
 }
 
-export function getLoopHistory(
+/** The answer for a shape: rows unless `shape` is `columns`. */
+export type HistoryAnswer<S extends "rows" | "columns"> = S extends "columns" ? LoopHistoryColumns : LoopHistory;
+
+export async function getLoopHistory<S extends "rows" | "columns" = "rows">(
   ctx: Pick<TenantContext, "tenantId">,
   loopId: number,
   from: number,
   to: number,
   maxPoints: number,
-  opts: HistoryOptions & { shape: "columns" },
-): Promise<LoopHistoryColumns | null>;
-export function getLoopHistory(
-  ctx: Pick<TenantContext, "tenantId">,
-  loopId: number,
-  from: number,
-  to: number,
-  maxPoints: number,
-  opts?: HistoryOptions & { shape?: "rows" },
-): Promise<LoopHistory | null>;
-export function getLoopHistory(
-  ctx: Pick<TenantContext, "tenantId">,
-  loopId: number,
-  from: number,
-  to: number,
-  maxPoints: number,
-  opts?: HistoryOptions,
-): Promise<LoopHistory | LoopHistoryColumns | null>;
-export async function getLoopHistory(
-  ctx: Pick<TenantContext, "tenantId">,
-  loopId: number,
-  from: number,
-  to: number,
-  maxPoints: number,
-  opts: HistoryOptions = {},
-): Promise<LoopHistory | LoopHistoryColumns | null> {
+  opts: HistoryOptions & { shape?: S } = {},
+): Promise<HistoryAnswer<S> | null> {
   if (!Number.isInteger(ctx.tenantId) || ctx.tenantId <= 0) throw new Error("History queries need a tenant context with a valid tenantId.");
   if (!Number.isSafeInteger(loopId) || loopId <= 0) return null;
   if (!(to > from) || !(maxPoints >= 1)) throw new RangeError("getLoopHistory: need from < to and maxPoints >= 1.");
@@ -197,8 +176,11 @@ export async function getLoopHistory(
   });
 
   const head = { loopId, from: new Date(from).toISOString(), to: new Date(to).toISOString(), tier, bucketMs } as const;
-  if (opts.shape === "columns") return { ...head, shape: "columns", ...bucketColumns(buckets), poles };
-  return { ...head, points: buckets.map((b) => ({ ...b, t: new Date(b.t).toISOString() })), poles };
+  const answer: LoopHistory | LoopHistoryColumns =
+    opts.shape === "columns"
+      ? { ...head, shape: "columns", ...bucketColumns(buckets), poles }
+      : { ...head, points: buckets.map((b) => ({ ...b, t: new Date(b.t).toISOString() })), poles };
+  return answer as HistoryAnswer<S>;
 }
 
 /** A bucket as the query gives it (start time in epoch ms), before either answer shape. */
