@@ -7,6 +7,7 @@
  */
 import { useRouter } from "next/navigation";
 import { memo, useSyncExternalStore, type MouseEvent } from "react";
+import { NON_TRACKING } from "@/lib/alarms/conditions";
 import type { LiveLoopSummary, PoleBrief, TrackerState } from "@/lib/types";
 import { DEFAULT_POLICY } from "@/lib/alarms/policy";
 import { dataAge, radiusForDecayRatio } from "@/lib/client/order";
@@ -106,6 +107,10 @@ function LoopTileInner({
 }) {
   const st = loop.state;
   const { stale } = dataAge(st, now);
+  // An estimate the tracker does not trust (learning, low excitation, manual, saturated, stale:
+  // the states in which no stability alarm is raised) is drawn in the muted ink, never in the
+  // alarm colour: a pole outside the circle from an untrusted model is not an abnormal state.
+  const muted = stale || (st != null && NON_TRACKING.has(st.trackerState));
   const levels = st ? gaugeLevels(st.modelPoles.length ? st.modelPoles : st.dataPoles, dr) : { warn: null, alarm: null };
   const recent = sparkRange(spark);
   const active = loop.alarms.filter((a) => a.state !== "normal");
@@ -135,6 +140,7 @@ function LoopTileInner({
       style={{ contain: "layout paint style" }}
       data-testid="loop-tile"
       data-loop-id={loop.id}
+      data-tracker-state={st?.trackerState ?? "none"}
       aria-label={`${loop.tag}: ${loop.description}. ${st ? `radius ${fmt(st.spectralRadius)}, ${st.trackerState}` : "no estimate"}${stale ? ", stale data" : ""}${active.length ? `, ${active.length} alarm(s)` : ""}`}
     >
       <div className="flex items-baseline justify-between gap-2">
@@ -144,8 +150,8 @@ function LoopTileInner({
       <div className={`truncate text-muted ${big ? "text-base" : "text-xs"}`}>{loop.description}</div>
       <div className="flex min-h-0 flex-1 gap-2">
         <div className="flex min-w-0 flex-1 flex-col gap-1">
-          <TileGauge radius={st?.spectralRadius ?? null} warn={levels.warn} alarm={levels.alarm} recentMin={recent.min} recentMax={recent.max} stale={stale} width={big ? 150 : 110} />
-          <div className={`num font-mono ${big ? "text-xl" : "text-sm"} ${stale ? "text-suppressed" : ""}`} data-testid="tile-radius">
+          <TileGauge radius={st?.spectralRadius ?? null} warn={levels.warn} alarm={levels.alarm} recentMin={recent.min} recentMax={recent.max} stale={muted} width={big ? 150 : 110} />
+          <div className={`num font-mono ${big ? "text-xl" : "text-sm"} ${muted ? "text-suppressed" : ""}`} data-testid="tile-radius">
             ρ {fmt(st?.spectralRadius ?? null)} <span className="text-muted">DR {fmt(st?.decayRatio ?? null, 2)}</span>
           </div>
           <TileSparkline spark={spark} n={spark?.n ?? 0} which={recent.anyDecay ? "decay" : "radius"} lo={0} hi={1} width={big ? 150 : 110} height={22} level={dr.high} label={`${loop.tag} recent decay ratio`} />
@@ -171,7 +177,7 @@ function LoopTileInner({
             warnRadius={levels.warn}
             alarmRadius={levels.alarm}
             size={big ? 130 : 96}
-            stale={stale}
+            stale={muted}
           />
         )}
       </div>
