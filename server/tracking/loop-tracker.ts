@@ -86,6 +86,9 @@ export interface LoopTrackerOptions {
   flatSeconds?: number;
 }
 
+/** "Never" in a checkpoint (JSON cannot carry -Infinity): an estimation-sample index no loop reaches. */
+const NEVER = -1e15;
+
 /** Serialisable tracker state (estimators and the radius history), for checkpoints. */
 export interface TrackerCheckpoint {
   version: 2;
@@ -669,8 +672,8 @@ export class LoopTracker {
       lastGood: this.lastGood ? { model: { ...this.lastGood.model, a: [...this.lastGood.model.a], b: [...this.lastGood.model.b] }, cov: this.lastGood.cov.map((r) => [...r]), at: this.lastGood.at } : null,
       data: this.data.toJSON(),
       estimationSamples: this.estimationSamples,
-      lastPlantUpdate: Number.isFinite(this.lastPlantUpdate) ? this.lastPlantUpdate : -1e15,
-      lastSpMove: Number.isFinite(this.lastSpMove) ? this.lastSpMove : -1e15,
+      lastPlantUpdate: Number.isFinite(this.lastPlantUpdate) ? this.lastPlantUpdate : NEVER,
+      lastSpMove: Number.isFinite(this.lastSpMove) ? this.lastSpMove : NEVER,
       samplesSeen: this.samplesSeen,
       radiusHistory: this.radiusHistory.map((p) => ({ ...p })),
       yVariance: this.yVariance,
@@ -718,8 +721,9 @@ export class LoopTracker {
       this.prevSignals = pf.prev ? { ...pf.prev } : null;
       this.filtered = { ...pf.filtered };
       this.estimationSamples = cp.estimationSamples;
-      this.lastPlantUpdate = cp.lastPlantUpdate;
-      this.lastSpMove = cp.lastSpMove;
+      // -1e15 in a checkpoint stands for "never" (JSON has no -Infinity)
+      this.lastPlantUpdate = cp.lastPlantUpdate <= NEVER ? -Infinity : cp.lastPlantUpdate;
+      this.lastSpMove = cp.lastSpMove <= NEVER ? -Infinity : cp.lastSpMove;
       this.samplesSeen = cp.samplesSeen;
       this.radiusHistory = cp.radiusHistory.map((p) => ({ t: p.t, value: p.value }));
       this.yVariance = cp.yVariance;

@@ -216,6 +216,34 @@ describe("checkpoints and configuration changes", () => {
     expect(sb.trackerState).toBe(sa.trackerState);
   });
 
+  it("keeps 'no set-point move seen yet' through a checkpoint (JSON has no -Infinity)", async () => {
+    // the simulated loop's telemetry with its set point held constant: no move before the checkpoint
+    const sim = await scenarioSim("gain-creep");
+    const clock = new FakeClock();
+    const cfg = trackerConfigFor(sim);
+    const a = new LoopTracker(cfg, { clock });
+    const b = new LoopTracker(cfg, { clock });
+    const dt = sim.config.telemetryPeriodS * 1000;
+    let sp: number | null = null;
+    const next = () => {
+      for (;;) {
+        const s = sim.step();
+        if (!s) continue;
+        sp ??= s.sp;
+        clock.advance(dt);
+        return [{ t: clock.now(), sp, pv: s.pv, mv: s.mv, mode: s.mode }];
+      }
+    };
+    for (let k = 0; k < 200; k++) a.push(next(), clock.now());
+    expect(a.current.stateReason).toMatch(/no set-point move seen yet/);
+    expect(b.restore(JSON.parse(JSON.stringify(a.checkpoint())) as ReturnType<LoopTracker["checkpoint"]>)).toEqual({ ok: true });
+    const batch = next();
+    a.push(batch, clock.now());
+    b.push(batch, clock.now());
+    expect(b.current.stateReason).toMatch(/no set-point move seen yet/);
+    expect(b.current.stateReason).toBe(a.current.stateReason);
+  });
+
   it("refuses a checkpoint of another loop or another structure, and keeps learning", async () => {
     const sim = await scenarioSim("gain-creep");
     const clock = new FakeClock();
