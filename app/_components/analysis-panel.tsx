@@ -64,7 +64,7 @@ export function AnalysisPanel({ state, now }: { state: LoopStateDto | null; now:
           {pc && !pc.continuousEquivalent && <Row k="note" v="negative real pole: rings at the Nyquist frequency, no continuous equivalent" />}
           <Row k="gain headroom" v={state.gainHeadroom == null ? "—" : Number.isFinite(state.gainHeadroom) ? `× ${fmt(state.gainHeadroom, 2)}` : "unbounded"} hint="factor by which the loop gain may grow before a closed-loop pole reaches the unit circle" />
           <Row k="delay" v={state.delaySamples == null ? "—" : `${state.delaySamples} samples = ${fmtSeconds(state.delaySamples * T)}`} />
-          <Row k="rim forecast" v={state.forecast ? `${new Date(state.forecast.at).toISOString().slice(0, 16).replace("T", " ")} UTC (${new Date(state.forecast.low).toISOString().slice(11, 16)}–${new Date(state.forecast.high).toISOString().slice(11, 16)})` : "no significant trend"} />
+          <Row k="radius reaches 1 (forecast)" v={state.forecast ? `${new Date(state.forecast.at).toISOString().slice(0, 16).replace("T", " ")} UTC (${new Date(state.forecast.low).toISOString().slice(11, 16)}–${new Date(state.forecast.high).toISOString().slice(11, 16)})` : "no significant trend"} />
         </dl>
         <h3 className="mb-1 mt-3 font-semibold">Estimation</h3>
         <dl>

@@ -98,7 +98,6 @@ export function LoopDetail({ loopId, role, initialRange = "1h" }: { loopId: numb
 
   const dr = useDecayLevels("loop", loopId);
   const levels = state ? gaugeLevels(state.modelPoles.length ? state.modelPoles : state.dataPoles, dr) : { warn: null, alarm: null };
-  const alarmRadius = levels.alarm;
   const radiusData = useMemo((): uPlot.AlignedData => {
     const [ht, hr] = thinRadius as [ArrayLike<number>, ArrayLike<number | null>];
     const snaps = parsed.snapshots;
@@ -107,7 +106,9 @@ export function LoopDetail({ loopId, role, initialRange = "1h" }: { loopId: numb
     if (!any && snaps.length) {
       return [snaps.map((s) => s.t / 1000), snaps.map((s) => s.radius), snaps.map(() => null)];
     }
-    const forecast = state?.forecast && state.spectralRadius != null && alarmRadius != null;
+    // The tracker's forecast is the time at which the radius trend reaches 1 (the unit circle), so
+    // the dotted continuation ends on the circle, not on the alarm level.
+    const forecast = state?.forecast && state.spectralRadius != null;
     const n = ht.length;
     const m = n + (forecast ? 2 : 0);
     const t = new Array<number>(m);
@@ -123,10 +124,10 @@ export function LoopDetail({ loopId, role, initialRange = "1h" }: { loopId: numb
       r[n] = null;
       r[n + 1] = null;
       fc[n] = state.spectralRadius;
-      fc[n + 1] = alarmRadius;
+      fc[n + 1] = 1;
     }
     return [t, r, fc];
-  }, [thinRadius, parsed.snapshots, state, alarmRadius]);
+  }, [thinRadius, parsed.snapshots, state]);
   const rMin = useMemo(() => {
     const hr = thinRadius[1] as ArrayLike<number | null>;
     let m = 0.6;
@@ -138,8 +139,8 @@ export function LoopDetail({ loopId, role, initialRange = "1h" }: { loopId: numb
   }, [thinRadius]);
 
   const forecastBand =
-    state?.forecast && levels.alarm != null
-      ? [{ x0: state.forecast.low / 1000, x1: state.forecast.high / 1000, y0: levels.alarm - 0.004, y1: levels.alarm + 0.004, fill: "rgba(240,176,73,0.35)", scale: "r" }]
+    state?.forecast
+      ? [{ x0: state.forecast.low / 1000, x1: state.forecast.high / 1000, y0: 1 - 0.004, y1: 1 + 0.004, fill: "rgba(240,176,73,0.35)", scale: "r" }]
       : [];
 
   const scrubSnap = scrubT !== null ? snapshotAt(parsed.snapshots, scrubT * 1000) : null;
@@ -228,7 +229,7 @@ export function LoopDetail({ loopId, role, initialRange = "1h" }: { loopId: numb
             data={radiusData}
             series={[
               { label: "spectral radius", stroke: "var(--rg-ink)", width: 1.4, scale: "r", points: (radiusData[1]?.length ?? 0) > 0 && (radiusData[1]?.length ?? 0) < 3 },
-              { label: "rim forecast", stroke: "var(--rg-high)", width: 1.4, dash: [2, 4], scale: "r" },
+              { label: "forecast to radius 1", stroke: "var(--rg-high)", width: 1.4, dash: [2, 4], scale: "r" },
             ]}
             scales={{ r: [rMin, 1.02] }}
             axes={[{ scale: "r", label: "ρ" }]}

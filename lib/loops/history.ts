@@ -139,10 +139,30 @@ export async function getLoopHistory<S extends "rows" | "columns" = "rows">(
     );
     for (const r of rr) radiusByBucket.set(Number(r.b), stat(r.r_min, r.r_mean, r.r_max));
   }
+  // A snapshot is written on change and at least once a minute while the tracker updates, so a
+  // bucket without one holds the estimate in force: the last snapshot at or before it, if that is
+  // at most RADIUS_HOLD_MS old (an older one means the tracker stopped: the trend shows a gap).
+  const held =
+    tier === "1s" && rows.length > 0
+      ? await sequelize.query<{ t: Num; radius: Num }>(
+          `SELECT t, radius FROM pole_snapshots WHERE loop_id = ? AND t >= ? AND t < ? AND radius IS NOT NULL ORDER BY t`,
+          { replacements: [loopId, from - RADIUS_HOLD_MS, to], type: QueryTypes.SELECT },
+        )
+      : [];
+  let hi = 0;
+  let last = null as { t: number; radius: number } | null;
+  const heldRadius = (bucketStart: number): Stat | null => {
+    while (hi < held.length && Number(held[hi]!.t) <= bucketStart) {
+      last = { t: Number(held[hi]!.t), radius: Number(held[hi]!.radius) };
+      hi++;
+    }
+    return last && bucketStart - last.t <= RADIUS_HOLD_MS ? { min: last.radius, mean: last.radius, max: last.radius } : null;
+  };
 
   const buckets: Bucket[] = rows.map((r) => {
     const b = Number(r.b);
-    const radius = tier === "1m" ? (r.r_min === null && r.r_max === null ? null : stat(r.r_min ?? null, r.r_mean ?? null, r.r_max ?? null)) : (radiusByBucket.get(b) ?? null);
+    const radius =
+      tier === "1m" ? (r.r_min === null && r.r_max === null ? null : stat(r.r_min ?? null, r.r_mean ?? null, r.r_max ?? null)) : (radiusByBucket.get(b) ?? heldRadius(b));
     return {
       t: b,
       sp: stat(r.sp_min ?? null, r.sp_mean ?? null, r.sp_max ?? null),
@@ -182,6 +202,9 @@ export async function getLoopHistory<S extends "rows" | "columns" = "rows">(
       : { ...head, points: buckets.map((b) => ({ ...b, t: new Date(b.t).toISOString() })), poles };
   return answer as HistoryAnswer<S>;
 }
+
+/** How long a pole snapshot's radius stands for the buckets after it (twice the one-minute snapshot cadence). */
+export const RADIUS_HOLD_MS = 120_000;
 
 /** A bucket as the query gives it (start time in epoch ms), before either answer shape. */
 type Bucket = Omit<HistoryPoint, "t"> & { t: number };

@@ -1,6 +1,6 @@
 import { spawnSync } from "node:child_process";
 import { afterAll, beforeAll, describe, expect, it, vi } from "vitest";
-import { getLoopHistory, bucketWidth, historyColumns, historySchema } from "@/lib/loops/history";
+import { getLoopHistory, bucketWidth, historyColumns, historySchema, RADIUS_HOLD_MS } from "@/lib/loops/history";
 import { parseHistory } from "@/lib/client/history";
 import type { TenantContext } from "@/lib/types";
 import { createTestDatabase, type TestDatabase } from "../setup/db";
@@ -89,6 +89,11 @@ describe("history down-sampling", () => {
     // Pole snapshots: one per bucket (the last), radius taken into the bucket.
     expect(h!.poles.map((s) => s.radius)).toEqual([0.92]);
     expect(h!.points[0]!.radius).toEqual({ min: 0.91, mean: expect.closeTo(0.915, 12), max: 0.92 });
+    // Buckets without a snapshot hold the estimate in force (the last snapshot, 7 s) while it is
+    // at most RADIUS_HOLD_MS old: 30..120 s hold 0.92, 150 s on is a gap (the tracker stopped).
+    expect(RADIUS_HOLD_MS).toBe(120_000);
+    for (const i of [1, 2, 3, 4]) expect(h!.points[i]!.radius).toEqual({ min: 0.92, mean: 0.92, max: 0.92 });
+    for (const i of [5, 6, 100]) expect(h!.points[i]!.radius).toBeNull();
   });
 
   it("never returns more than maxPoints buckets, for any range and limit", () => {
