@@ -1,7 +1,8 @@
 /**
  * End to end in Debian's Chromium (playwright-core): sign in through the form, see the console
  * shell with the tenant's name, the navigation for the role and the standing caution; switch
- * theme and tenant; sign out. Screenshots go to tests/artifacts/ (git-ignored).
+ * theme and tenant; sign out; the pages run under the Content-Security-Policy without a violation
+ * and cannot be framed. Screenshots go to tests/artifacts/ (git-ignored).
  */
 import type { Page } from "playwright-core";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
@@ -122,6 +123,44 @@ describe("console shell in Chromium", () => {
     await expect.poll(async () => page.locator("header select").inputValue(), { timeout: 15_000 }).toBe(String(target.id));
     await page.waitForLoadState("networkidle").catch(() => undefined);
     await page.screenshot({ path: artifactPath("shell-tenant-switched.png") });
+    await page.close();
+  });
+});
+
+describe("security headers in Chromium", () => {
+  it("the console runs under its Content-Security-Policy with no violation, and refuses to be framed", async () => {
+    const page = await browser.context.newPage();
+    const messages: string[] = [];
+    page.on("console", (m) => messages.push(m.text()));
+    await page.addInitScript(() => {
+      const w = window as unknown as { __csp: string[] };
+      w.__csp = [];
+      document.addEventListener("securitypolicyviolation", (e) => w.__csp.push(`${e.violatedDirective} ${e.blockedURI}`));
+    });
+    await browser.context.clearCookies();
+    await signInThroughForm(page, fx.a.users.admin.email);
+    const nav = page.getByRole("navigation", { name: "Console" });
+    for (const label of ["Loops", "Alarms", "Admin", "Control room"]) {
+      await nav.getByRole("link", { name: label }).click();
+      await page.waitForLoadState("networkidle").catch(() => undefined);
+      expect(await page.evaluate(() => (window as unknown as { __csp: string[] }).__csp), label).toEqual([]);
+    }
+    await page.goto(`${srv.url}/loops/${fx.a.loopId}`);
+    await page.waitForLoadState("networkidle").catch(() => undefined);
+    // Hydrated (scripts ran): the theme toggle works.
+    await page.getByRole("button", { name: "Light theme" }).click();
+    expect(await page.locator("html").getAttribute("data-theme")).toBe("light");
+    await page.getByRole("button", { name: "Dark theme" }).click();
+    expect(await page.evaluate(() => (window as unknown as { __csp: string[] }).__csp)).toEqual([]);
+    expect(messages.filter((m) => /Content Security Policy/i.test(m))).toEqual([]);
+
+    // frame-ancestors 'none': another page cannot frame the console (clickjacking).
+    const framer = await browser.context.newPage();
+    const framerLog: string[] = [];
+    framer.on("console", (m) => framerLog.push(m.text()));
+    await framer.setContent(`<iframe src="${srv.url}/signin"></iframe>`);
+    await expect.poll(() => framerLog.some((m) => /frame-ancestors/.test(m)), { timeout: 15_000 }).toBe(true);
+    await framer.close();
     await page.close();
   });
 });
