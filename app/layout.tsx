@@ -1,6 +1,7 @@
 import type { Metadata, Viewport } from "next";
 import { cookies } from "next/headers";
 import { parseTheme, THEME_COOKIE } from "@/lib/theme";
+import { ZodJitless } from "./_components/zod-jitless";
 import { inter, mono } from "./fonts";
 import "./globals.css";
 
@@ -21,7 +22,10 @@ export default async function RootLayout({ children }: { children: React.ReactNo
   const theme = parseTheme((await cookies()).get(THEME_COOKIE)?.value);
   return (
     <html lang="en" data-theme={theme} className={`${inter.variable} ${mono.variable}`}>
-      <body className="min-h-screen bg-ground text-ink antialiased">{children}</body>
+      <body className="min-h-screen bg-ground text-ink antialiased">
+        <ZodJitless />
+        {children}
+      </body>
     </html>
   );
 }

@@ -17,8 +17,21 @@ export const configSchema = z.object({
   /** HTTP + Socket.IO listen address (loopback by default). */
   HOST: z.string().default("127.0.0.1"),
   PORT: port.default(3000),
-  /** Public origin of the console; Socket.IO checks the Origin header against it. */
-  PUBLIC_ORIGIN: z.string().url().optional(),
+  /**
+   * Public origin of the console (scheme://host:port, no path), as the browser's address bar
+   * shows it. Every state-changing request and every Socket.IO handshake must carry exactly this
+   * Origin. Unset: NEXTAUTH_URL's origin, else http://HOST:PORT (127.0.0.1 for a wildcard HOST).
+   */
+  PUBLIC_ORIGIN: z
+    .string()
+    .url()
+    .refine((v) => /^https?:$/.test(new URL(v).protocol), "must be an http:// or https:// URL")
+    .refine((v) => {
+      const u = new URL(v);
+      return (u.pathname === "/" || u.pathname === "") && !u.search && !u.hash && !u.username;
+    }, "must be an origin only (scheme, host and port), e.g. https://rimguard.example.com")
+    .transform((v) => new URL(v).origin)
+    .optional(),
 
   /** Embedded aedes broker (ignored when MQTT_URL is set). */
   MQTT_HOST: z.string().default("127.0.0.1"),
@@ -92,7 +105,13 @@ export function resetConfigCache(): void {
   cached = null;
 }
 
-/** The origin browsers use for the console (Socket.IO Origin check, links in e-mail). */
+/**
+ * The origin browsers use for the console (the Origin check of writes and of Socket.IO, links in
+ * e-mail), normalised as browsers send it (lower-case host, default port left out).
+ */
 export function publicOrigin(cfg: Config = getConfig()): string {
-  return cfg.PUBLIC_ORIGIN ?? cfg.NEXTAUTH_URL ?? `http://${cfg.HOST}:${cfg.PORT}`;
+  if (cfg.PUBLIC_ORIGIN) return cfg.PUBLIC_ORIGIN;
+  if (cfg.NEXTAUTH_URL) return new URL(cfg.NEXTAUTH_URL).origin;
+  const host = cfg.HOST === "0.0.0.0" || cfg.HOST === "::" ? "127.0.0.1" : cfg.HOST;
+  return new URL(`http://${host.includes(":") ? `[${host}]` : host}:${cfg.PORT}`).origin;
 }

@@ -1,6 +1,7 @@
 import { NextResponse } from "next/server";
 import { z } from "zod";
 import { isHttpError, ValidationError } from "./errors";
+import { guardRequest, JSON_BODY, PayloadTooLargeError, type BodyRule } from "./request-guard";
 
 /** Map a thrown error to a JSON response: HttpError keeps its status, zod errors are 422. */
 export function errorResponse(err: unknown): NextResponse {
@@ -22,13 +23,23 @@ export function errorResponse(err: unknown): NextResponse {
   return NextResponse.json({ error: "Internal error." }, { status: 500 });
 }
 
-/** Wrap a route handler so every thrown error becomes the right status code. */
-export function handle<A extends unknown[]>(fn: (...args: A) => Promise<Response>) {
+/**
+ * Wrap a route handler so every thrown error becomes the right status code. A state-changing
+ * request first passes lib/request-guard.ts (Origin 403, content type 415, size 413); `body` says
+ * what the route takes (default: JSON up to 64 KiB).
+ */
+export function handle<A extends unknown[]>(fn: (...args: A) => Promise<Response>, body: BodyRule = JSON_BODY) {
   return async (...args: A): Promise<Response> => {
+    let overflowed = () => false;
     try {
+      if (args[0] instanceof Request) {
+        const guarded = guardRequest(args[0], body);
+        overflowed = guarded.overflowed;
+        args[0] = guarded.req as A[0];
+      }
       return await fn(...args);
     } catch (err) {
-      return errorResponse(err);
+      return errorResponse(overflowed() ? new PayloadTooLargeError(body.maxBytes) : err);
     }
   };
 }

@@ -13,6 +13,8 @@ import { loadEnv } from "@/lib/load-env";
 import { setServerContext } from "@/lib/server-context";
 import { CLIENT_IP_HEADER } from "@/lib/auth/options";
 import { closeSequelize, getSequelize } from "@/lib/db/sequelize";
+import { bodyLimitForPath } from "@/lib/request-guard";
+import { contentSecurityPolicy, makeNonce, STATIC_SECURITY_HEADERS } from "@/lib/security-headers";
 import { Bus, systemClock, type RimguardIo, type ServerContext, type Service } from "./context";
 import { installSocketAuth, originAllowed } from "./realtime/socket-auth";
 import { startServices, stopServices, type StartServicesOptions } from "./services";
@@ -79,6 +81,30 @@ interface NextUpgradeInternals {
   upgradeHandler?: UpgradeFn;
 }
 
+/**
+ * 413 before anything is read when the declared body is larger than the path accepts
+ * (lib/request-guard.ts); the connection is closed so the rest of the body is never taken in.
+ */
+function refuseLargeBody(req: http.IncomingMessage, res: http.ServerResponse): boolean {
+  const declared = Number(req.headers["content-length"] ?? NaN);
+  if (!Number.isFinite(declared)) return false;
+  const limit = bodyLimitForPath((req.url ?? "/").split("?")[0] ?? "/");
+  if (declared <= limit) return false;
+  const body = JSON.stringify({ error: `The request body is larger than this endpoint accepts (${Math.round(limit / 1024)} KiB).` });
+  res.shouldKeepAlive = false;
+  res.writeHead(413, { "content-type": "application/json", connection: "close", ...STATIC_SECURITY_HEADERS });
+  res.end(body, () => req.socket.destroy());
+  return true;
+}
+
+/** Security headers on every answer; the CSP nonce is handed to Next through the request. */
+function setSecurityHeaders(req: http.IncomingMessage, res: http.ServerResponse, dev: boolean): void {
+  const csp = contentSecurityPolicy(makeNonce(), dev);
+  req.headers["content-security-policy"] = csp;
+  res.setHeader("Content-Security-Policy", csp);
+  for (const [k, v] of Object.entries(STATIC_SECURITY_HEADERS)) res.setHeader(k, v);
+}
+
 export async function startServer(opts: StartServerOptions = {}): Promise<RunningServer> {
   const cfg = getConfig();
   const dev = opts.dev ?? cfg.NODE_ENV === "development";
@@ -91,6 +117,8 @@ export async function startServer(opts: StartServerOptions = {}): Promise<Runnin
     // The client's address for sign-in throttling comes from the TCP peer, never from the client.
     delete req.headers[CLIENT_IP_HEADER];
     req.headers[CLIENT_IP_HEADER] = req.socket.remoteAddress ?? "unknown";
+    if (refuseLargeBody(req, res)) return;
+    setSecurityHeaders(req, res, dev);
     if (!handler) {
       res.writeHead(503, { "content-type": "text/plain", "retry-after": "2" }).end("Rimguard is starting.\n");
       return;

@@ -1,7 +1,9 @@
 /**
  * Users and roles of a tenant (admin): list members and pending invitations, invite by e-mail
- * (a one-time link to set a password; only the token's SHA-256 is stored), change a role,
- * remove a membership, and accept an invitation. A role change or removal takes effect at once:
+ * (a one-time, expiring link; only the token's SHA-256 is stored), change a role, remove a
+ * membership, and accept an invitation: a new address sets its password with the link, an
+ * existing account accepts by signing in as itself (its password and identity never change).
+ * A role change or removal takes effect at once:
  * the auth layer re-reads memberships and is told through notifyUserChanged.
  */
 import { createHash, randomBytes } from "node:crypto";
@@ -9,7 +11,7 @@ import bcrypt from "bcryptjs";
 import { z } from "zod";
 import { publicOrigin } from "@/lib/config";
 import { getDb } from "@/lib/db/sequelize";
-import { ConflictError, NotFoundError, ValidationError } from "@/lib/errors";
+import { ConflictError, ForbiddenError, NotFoundError, ValidationError } from "@/lib/errors";
 import { getServerContext, notifyUserChanged } from "@/lib/server-context";
 import { ROLES, type Role, type TenantContext } from "@/lib/types";
 import type { MailService } from "@/server/mail";
@@ -96,21 +98,27 @@ export async function inviteUser(ctx: TenantContext, input: z.infer<typeof invit
   const mail = (srv?.services.get("mail") as MailService | undefined) ?? null;
   let mailed = false;
   if (mail) {
+    const hours = INVITATION_TTL_MS / 3600_000;
     await mail.send({
       to: [input.email],
       subject: `Rimguard: you are invited to ${ctx.tenantName}`,
-      // The demo outbox lists a tenant's messages by this header.
+      // The demo outbox lists a tenant's messages by this header (recorded when sent, server/mail).
       headers: { "x-rimguard-tenant": String(ctx.tenantId) },
+      // The link is the invitee's alone: the inviting admin's outbox never shows it.
+      withhold: [link],
       text: [
         `${ctx.name} invited you to ${ctx.tenantName} on Rimguard as ${input.role}.`,
         ``,
-        `Set your password with this one-time link (valid for ${INVITATION_TTL_MS / 3600_000} hours):`,
+        // One wording for new and existing accounts: the outbox must not tell the inviter which it is.
+        `Accept with this one-time link (valid for ${hours} hours). If you already have a Rimguard account, you sign in with it; otherwise you choose a password.`,
         link,
         ``,
         `If you did not expect this, ignore this message.`,
       ].join("\n"),
     });
     mailed = true;
+    // The demo's SMTP sink has no real mailbox: the person running the server reads the link here.
+    if (mail.sinkPort != null) console.info(`[mail] demo sink: invitation for ${input.email}: ${link}`);
   }
   return { id: inv.id, email: inv.email, role: inv.role, expiresAt: inv.expiresAt.toISOString(), usedAt: null, mailed };
 }
@@ -140,31 +148,73 @@ export async function removeMember(ctx: TenantContext, membershipId: number, rea
   notifyUserChanged(m.userId);
 }
 
-/** What the set-password page shows for a token (null when unknown, used or expired). */
-export async function describeInvitation(token: string, now = Date.now()): Promise<{ email: string; tenantName: string; role: Role } | null> {
-  const { Invitation, Tenant } = getDb().models;
-  if (!/^[A-Za-z0-9_-]{20,100}$/.test(token)) return null;
+export interface InvitationView {
+  email: string;
+  tenantName: string;
+  role: Role;
+  /** An account with this e-mail exists: it accepts by signing in, never by setting a password. */
+  existingAccount: boolean;
+}
+
+const TOKEN_SHAPE = /^[A-Za-z0-9_-]{20,100}$/;
+const INVALID_INVITATION = "Invitation (unknown, used or expired)";
+
+/** What the invitation page shows for a token (null when unknown, used or expired). */
+export async function describeInvitation(token: string, now = Date.now()): Promise<InvitationView | null> {
+  const { Invitation, Tenant, User } = getDb().models;
+  if (!TOKEN_SHAPE.test(token)) return null;
   const inv = await Invitation.findOne({ where: { tokenHash: hashToken(token) } });
   if (!inv || inv.usedAt || inv.expiresAt.getTime() < now) return null;
   const t = await Tenant.findByPk(inv.tenantId);
-  return { email: inv.email, tenantName: t?.name ?? "", role: inv.role };
+  const existing = await User.count({ where: { email: inv.email } });
+  return { email: inv.email, tenantName: t?.name ?? "", role: inv.role, existingAccount: existing > 0 };
 }
 
-/** Use a one-time token: create or update the user, add the membership, mark the token used. */
+/**
+ * Use a one-time token to create a NEW account: the user, the membership, the token marked used,
+ * in one transaction. An account with the invited e-mail that already exists is never touched
+ * (no password, name or session change): its owner accepts by signing in (acceptInvitationAsUser).
+ */
 export async function acceptInvitation(token: string, input: z.infer<typeof acceptSchema>, now = Date.now()): Promise<{ email: string }> {
   const { Invitation, User, Membership } = getDb().models;
   const { sequelize } = getDb();
-  if (!/^[A-Za-z0-9_-]{20,100}$/.test(token)) throw new NotFoundError("Invitation");
+  if (!TOKEN_SHAPE.test(token)) throw new NotFoundError(INVALID_INVITATION);
   const passwordHash = await bcrypt.hash(input.password, 12);
   return sequelize.transaction(async (transaction) => {
     const inv = await Invitation.findOne({ where: { tokenHash: hashToken(token) }, transaction, lock: transaction.LOCK.UPDATE });
-    if (!inv || inv.usedAt || inv.expiresAt.getTime() < now) throw new NotFoundError("Invitation (unknown, used or expired)");
-    let user = await User.findOne({ where: { email: inv.email }, transaction });
-    if (!user) user = await User.create({ email: inv.email, name: input.name, passwordHash }, { transaction });
-    else await user.update({ name: input.name, passwordHash, sessionVersion: (user.sessionVersion ?? 0) + 1 }, { transaction });
-    const m = await Membership.findOne({ where: { tenantId: inv.tenantId, userId: user.id }, transaction });
-    if (!m) await Membership.create({ tenantId: inv.tenantId, userId: user.id, role: inv.role }, { transaction });
+    if (!inv || inv.usedAt || inv.expiresAt.getTime() < now) throw new NotFoundError(INVALID_INVITATION);
+    if (await User.findOne({ where: { email: inv.email }, transaction })) {
+      throw new ConflictError(`An account for ${inv.email} already exists. Sign in as ${inv.email} to accept this invitation.`);
+    }
+    const user = await User.create({ email: inv.email, name: input.name, passwordHash }, { transaction });
+    await Membership.create({ tenantId: inv.tenantId, userId: user.id, role: inv.role }, { transaction });
     await inv.update({ usedAt: new Date(now) }, { transaction });
     return { email: inv.email };
   });
+}
+
+/**
+ * Accept an invitation as the signed-in user (`userId` from the session, never from the form):
+ * only when the invitation is addressed to that user's own e-mail. Adds the membership and marks
+ * the token used; the account itself is left as it is.
+ */
+export async function acceptInvitationAsUser(token: string, userId: number, now = Date.now()): Promise<{ email: string; tenantId: number }> {
+  const { Invitation, User, Membership } = getDb().models;
+  const { sequelize } = getDb();
+  if (!TOKEN_SHAPE.test(token)) throw new NotFoundError(INVALID_INVITATION);
+  const out = await sequelize.transaction(async (transaction) => {
+    const inv = await Invitation.findOne({ where: { tokenHash: hashToken(token) }, transaction, lock: transaction.LOCK.UPDATE });
+    if (!inv || inv.usedAt || inv.expiresAt.getTime() < now) throw new NotFoundError(INVALID_INVITATION);
+    const user = await User.findByPk(userId, { transaction });
+    if (!user || user.disabled) throw new NotFoundError(INVALID_INVITATION);
+    if (user.email.toLowerCase() !== inv.email.toLowerCase()) {
+      throw new ForbiddenError(`This invitation is for ${inv.email}; you are signed in as ${user.email}. Sign in as ${inv.email} to accept it.`);
+    }
+    const m = await Membership.findOne({ where: { tenantId: inv.tenantId, userId: user.id }, transaction });
+    if (!m) await Membership.create({ tenantId: inv.tenantId, userId: user.id, role: inv.role }, { transaction });
+    await inv.update({ usedAt: new Date(now) }, { transaction });
+    return { email: inv.email, tenantId: inv.tenantId };
+  });
+  notifyUserChanged(userId);
+  return out;
 }

@@ -22,9 +22,9 @@ export function alarmApi(): AlarmApi {
 }
 
 /** The running mail service (its outbox), or a 503. */
-export function mailApi(): Pick<MailService, "outbox" | "sinkPort"> {
+export function mailApi(): Pick<MailService, "outbox" | "outboxFor" | "sinkPort"> {
   const svc = getServerContext()?.services.get("mail") as MailService | undefined;
-  if (!svc || typeof svc.outbox !== "function") throw new HttpError(503, "The mail service is not running.");
+  if (!svc || typeof svc.outboxFor !== "function") throw new HttpError(503, "The mail service is not running.");
   return svc;
 }
 

@@ -25,18 +25,22 @@ function subscribe(): void {
   });
 }
 
-/** The user's context in a tenant from the database (cached briefly); null = no access. */
+/**
+ * The user's context in a tenant from the database (cached briefly); null = no access. With the
+ * session id, a session signed out before a restart (session_revocations) is refused too.
+ */
 export async function cachedTenantContext(
   userId: number,
   tenantId: number,
   sessionVersion: number,
+  sid?: string,
   now: number = Date.now(),
 ): Promise<TenantContext | null> {
   subscribe();
-  const key = `${userId}:${tenantId}:${sessionVersion}`;
+  const key = `${userId}:${tenantId}:${sessionVersion}:${sid ?? ""}`;
   const hit = cache.get(key);
   if (hit && now - hit.at < CONTEXT_TTL_MS) return hit.value;
-  const value = await loadTenantContext(userId, tenantId, sessionVersion);
+  const value = await loadTenantContext(userId, tenantId, sessionVersion, sid);
   if (cache.size > 10_000) cache.clear();
   cache.set(key, { at: now, value });
   return value;

@@ -30,7 +30,7 @@ export async function getSessionClaims(): Promise<SessionClaims | null> {
 export async function getContextOrNull(): Promise<TenantContext | null> {
   const claims = await getSessionClaims();
   if (!claims) return null;
-  return cachedTenantContext(claims.userId, claims.tenantId, claims.sessionVersion);
+  return cachedTenantContext(claims.userId, claims.tenantId, claims.sessionVersion, claims.sessionId);
 }
 
 /**
@@ -40,7 +40,7 @@ export async function getContextOrNull(): Promise<TenantContext | null> {
 export async function requireContext(minRole: Role = "viewer"): Promise<TenantContext> {
   const claims = await getSessionClaims();
   if (!claims) throw new UnauthenticatedError();
-  const ctx = await cachedTenantContext(claims.userId, claims.tenantId, claims.sessionVersion);
+  const ctx = await cachedTenantContext(claims.userId, claims.tenantId, claims.sessionVersion, claims.sessionId);
   if (!ctx) throw new UnauthenticatedError("Your session has ended or your access was withdrawn. Sign in again.");
   if (!roleAtLeast(ctx.role, minRole)) {
     throw new ForbiddenError(`This needs the ${minRole} role or higher; you are ${ctx.role}.`);
@@ -53,8 +53,9 @@ export async function contextForSocket(
   userId: number,
   tenantId: number,
   sessionVersion: number,
+  sid?: string,
 ): Promise<TenantContext | null> {
-  return cachedTenantContext(userId, tenantId, sessionVersion);
+  return cachedTenantContext(userId, tenantId, sessionVersion, sid);
 }
 
 /** Role check for code that already holds a context (e.g. a socket event handler). */

@@ -12,7 +12,7 @@ import { z } from "zod";
 import { getConfig } from "@/lib/config";
 import { TooManyRequestsError } from "@/lib/errors";
 import { revokeSession } from "@/lib/server-context";
-import { findUserByEmail, listMemberships, touchSignIn } from "./store";
+import { findUserByEmail, listMemberships, recordRevokedSession, touchSignIn } from "./store";
 import { assertSignInAllowed, recordSignInFailure, recordSignInSuccess } from "./throttle";
 
 /** Header set by server/index.ts from the TCP peer address (any client-sent value is dropped). */
@@ -131,7 +131,12 @@ export function getAuthOptions(): NextAuthOptions {
     },
     events: {
       async signOut({ token }) {
-        if (token?.sid && typeof token.exp === "number") revokeSession(String(token.sid), token.exp * 1000);
+        if (!token?.sid || typeof token.exp !== "number") return;
+        revokeSession(String(token.sid), token.exp * 1000);
+        // Kept in MariaDB too, so a restart does not accept the signed-out cookie again.
+        await recordRevokedSession(String(token.sid), typeof token.uid === "number" ? token.uid : null, token.exp * 1000).catch((err: unknown) =>
+          console.error("[auth] could not store a sign-out", err),
+        );
       },
     },
   };

@@ -91,13 +91,14 @@ export async function listMemberships(userId: number): Promise<MembershipRow[]> 
 
 /**
  * The user's context in one tenant, read fresh from the database: null when the user is gone,
- * disabled, the session version moved on (signed out everywhere, password changed), or the
- * membership does not exist.
+ * disabled, the session version moved on (signed out everywhere, password changed), the session
+ * `sid` was signed out (session_revocations, kept across restarts), or the membership does not exist.
  */
 export async function loadTenantContext(
   userId: number,
   tenantId: number,
   sessionVersion: number,
+  sid?: string,
 ): Promise<TenantContext | null> {
   const rows = await getSequelize().query<{
     email: string;
@@ -112,9 +113,9 @@ export async function loadTenantContext(
        FROM users u
        JOIN memberships m ON m.user_id = u.id AND m.tenant_id = ?
        JOIN tenants t ON t.id = m.tenant_id
-      WHERE u.id = ?
+      WHERE u.id = ?${sid === undefined ? "" : " AND NOT EXISTS (SELECT 1 FROM session_revocations r WHERE r.sid = ?)"}
       LIMIT 1`,
-    { replacements: [tenantId, userId], type: QueryTypes.SELECT },
+    { replacements: sid === undefined ? [tenantId, userId] : [tenantId, userId, sid], type: QueryTypes.SELECT },
   );
   const r = rows[0];
   if (!r) return null;
@@ -129,6 +130,16 @@ export async function loadTenantContext(
     tenantName: r.tname,
     role: toRole(r.role),
   };
+}
+
+/** Record that one session was signed out, until it would have expired (and drop lapsed rows). */
+export async function recordRevokedSession(sid: string, userId: number | null, expiresAtMs: number): Promise<void> {
+  const sq = getSequelize();
+  await sq.query("DELETE FROM session_revocations WHERE expires_at < UTC_TIMESTAMP(3)");
+  await sq.query(
+    "INSERT INTO session_revocations (sid, user_id, expires_at, created_at) VALUES (?, ?, ?, UTC_TIMESTAMP(3)) ON DUPLICATE KEY UPDATE expires_at = VALUES(expires_at)",
+    { replacements: [sid, userId, new Date(expiresAtMs)] },
+  );
 }
 
 /** Invalidate every JWT the user holds (sign out everywhere, password change). */

@@ -43,7 +43,12 @@ export interface BrokerOptions {
   credentialTtlMs?: number;
   /** CONNECT attempts allowed per source address per window. */
   perIp?: { points: number; durationS: number };
-  /** CONNECT attempts allowed per credential key id per window. */
+  /**
+   * Failed CONNECTs (wrong secret, unknown key, client id not bound) allowed per source address
+   * and key id together per window; past it, that address may not try that key id until the
+   * window ends. Counted only after the secret was checked, so the right secret from another
+   * address (the real gateway) is never locked out by a stranger's guesses.
+   */
   perKey?: { points: number; durationS: number };
   /** How often connected devices are re-checked for revocation (ms). */
   revocationSweepMs?: number;
@@ -81,7 +86,8 @@ async function startEmbedded(ctx: ServerContext, opts: BrokerOptions): Promise<B
   const credentials = new CachedCredentials(opts.credentials, ctx.clock, opts.credentialTtlMs ?? 5_000);
   const pepper = cfg.DEVICE_SECRET_PEPPER;
   const perIp = new RateLimiterMemory({ points: opts.perIp?.points ?? 30, duration: opts.perIp?.durationS ?? 10 });
-  const perKey = new RateLimiterMemory({ points: opts.perKey?.points ?? 20, duration: opts.perKey?.durationS ?? 60 });
+  const perKeyPoints = opts.perKey?.points ?? 20;
+  const perKey = new RateLimiterMemory({ points: perKeyPoints, duration: opts.perKey?.durationS ?? 60 });
   const identities = new WeakMap<Client, { device: DeviceIdentity; cred: DeviceCredential }>();
   /** Authenticated clients, for the revocation sweep. */
   const clients = new Set<Client>();
@@ -122,33 +128,39 @@ async function startEmbedded(ctx: ServerContext, opts: BrokerOptions): Promise<B
         done(authError(why, code), null);
       };
       if (!username || !password) return refuse("credentials required", BAD_USERNAME_OR_PASSWORD);
-      perKey.consume(username).then(
-        async () => {
-          let cred: DeviceCredential | null;
-          try {
-            cred = await credentials.find(username);
-          } catch (err) {
-            console.error("[broker] credential lookup failed:", err);
-            return refuse("credential store unavailable", SERVER_UNAVAILABLE);
-          }
-          if (!cred || cred.revoked || !secretMatches(pepper, password, cred.secretHash)) {
-            if (cred) countReject(deviceOf(cred), "unauthorised");
-            return refuse("bad username or password", BAD_USERNAME_OR_PASSWORD);
-          }
-          if (!clientIdAllowed(client.id, cred)) {
-            countReject(deviceOf(cred), "unauthorised");
-            return refuse(`client id not bound to credential ${cred.keyId}`, IDENTIFIER_REJECTED);
-          }
-          identities.set(client, { device: deviceOf(cred), cred });
-          clients.add(client);
-          touch(cred.keyId);
-          done(null, true);
-        },
-        () => {
+      const failKey = `${remoteAddressOf(client)}|${username}`;
+      const failed = () => void perKey.consume(failKey).catch(() => undefined);
+      void (async () => {
+        const spent = await perKey.get(failKey);
+        if (spent && spent.consumedPoints >= perKeyPoints) {
           refusals.rateLimited++;
-          refuse(`too many connection attempts for key ${username}`, SERVER_UNAVAILABLE);
-        },
-      );
+          return refuse(`too many failed connection attempts for key ${username} from this address`, SERVER_UNAVAILABLE);
+        }
+        let cred: DeviceCredential | null;
+        try {
+          cred = await credentials.find(username);
+        } catch (err) {
+          console.error("[broker] credential lookup failed:", err);
+          return refuse("credential store unavailable", SERVER_UNAVAILABLE);
+        }
+        if (!cred || cred.revoked || !secretMatches(pepper, password, cred.secretHash)) {
+          failed();
+          if (cred) countReject(deviceOf(cred), "unauthorised");
+          return refuse("bad username or password", BAD_USERNAME_OR_PASSWORD);
+        }
+        if (!clientIdAllowed(client.id, cred)) {
+          failed();
+          countReject(deviceOf(cred), "unauthorised");
+          return refuse(`client id not bound to credential ${cred.keyId}`, IDENTIFIER_REJECTED);
+        }
+        identities.set(client, { device: deviceOf(cred), cred });
+        clients.add(client);
+        touch(cred.keyId);
+        done(null, true);
+      })().catch((err: unknown) => {
+        console.error("[broker] authentication failed:", err);
+        refuse("authentication failed", SERVER_UNAVAILABLE);
+      });
     },
 
     authorizePublish(client, packet, done) {

@@ -3,7 +3,14 @@
  * runs in-process on loopback and keeps every message it receives in memory, for the admin outbox
  * page of the demo and for assertions in tests. With SMTP_URL set, messages go to that server and
  * the outbox only lists what this process sent.
+ *
+ * Which tenant a sink message belongs to is recorded here when this process sends it (from the
+ * sender's X-Rimguard-Tenant header, keyed by a Message-ID we choose), never read back from the
+ * received message: anything else that talks to the sink belongs to no tenant. Parts a sender
+ * marks `withhold` (an invitation's one-time link) are blanked in `outboxFor()`, the view the
+ * admin outbox shows: only the recipient's own mailbox may hold them.
  */
+import { randomUUID } from "node:crypto";
 import type { AddressInfo } from "node:net";
 import nodemailer from "nodemailer";
 import { SMTPServer } from "smtp-server";
@@ -20,6 +27,8 @@ export interface OutboxMessage {
   headers: Record<string, string>;
   /** Epoch ms. */
   receivedAt: number;
+  /** The tenant that sent it through this process; null for anything else the sink received. */
+  tenantId: number | null;
 }
 
 export interface MailMessage {
@@ -27,12 +36,18 @@ export interface MailMessage {
   subject: string;
   text: string;
   headers?: Record<string, string>;
+  /** Text never shown in the admin outbox (e.g. a one-time link). */
+  withhold?: string[];
 }
+
+export const WITHHELD_TEXT = "[one-time link withheld: only the recipient's mailbox holds it]";
 
 export interface MailService extends Service {
   send(msg: MailMessage): Promise<{ messageId: string }>;
   /** Messages received by the sink (newest last); empty when a real SMTP server is used. */
   outbox(): OutboxMessage[];
+  /** One tenant's sink messages for its admins, with withheld parts blanked (newest last). */
+  outboxFor(tenantId: number): OutboxMessage[];
   clearOutbox(): void;
   /** Resolves when the sink holds at least `n` messages (tests); rejects after `timeoutMs`. */
   waitForMessages(n: number, timeoutMs?: number): Promise<OutboxMessage[]>;
@@ -58,6 +73,8 @@ export async function startMail(ctx: ServerContext, opts: StartMailOptions = {})
   let lastError: string | null = null;
   let sink: SMTPServer | null = null;
   let sinkPort: number | null = null;
+  /** Message-ID -> who sent it and what to withhold, for messages this process sends. */
+  const sentBy = new Map<string, { tenantId: number | null; withhold: string[] }>();
 
   if (!smtpUrl) {
     sink = new SMTPServer({
@@ -70,6 +87,7 @@ export async function startMail(ctx: ServerContext, opts: StartMailOptions = {})
         stream.on("data", (c: Buffer) => chunks.push(c));
         stream.on("end", () => {
           const parsed = parseRawMessage(Buffer.concat(chunks).toString("utf8"));
+          const origin = sentBy.get(parsed.headers["message-id"] ?? "");
           box.push({
             id: nextId++,
             messageId: parsed.headers["message-id"] ?? null,
@@ -79,6 +97,7 @@ export async function startMail(ctx: ServerContext, opts: StartMailOptions = {})
             text: parsed.text,
             headers: parsed.headers,
             receivedAt: ctx.clock.now(),
+            tenantId: origin?.tenantId ?? null,
           });
           if (box.length > OUTBOX_LIMIT) box.splice(0, box.length - OUTBOX_LIMIT);
           for (const w of [...waiters]) {
@@ -109,8 +128,15 @@ export async function startMail(ctx: ServerContext, opts: StartMailOptions = {})
     name: "mail",
     sinkPort,
     async send(msg) {
+      const messageId = `<${randomUUID()}@rimguard.invalid>`;
+      const tenantHeader = Object.entries(msg.headers ?? {}).find(([k]) => k.toLowerCase() === "x-rimguard-tenant")?.[1];
+      const tenantId = tenantHeader !== undefined && /^\d+$/.test(tenantHeader) ? Number(tenantHeader) : null;
+      if (sink) {
+        sentBy.set(messageId, { tenantId, withhold: (msg.withhold ?? []).filter((w) => w.length > 0) });
+        if (sentBy.size > OUTBOX_LIMIT * 2) sentBy.delete(sentBy.keys().next().value!);
+      }
       try {
-        const info = await transport.sendMail({ from, to: msg.to, subject: msg.subject, text: msg.text, headers: msg.headers });
+        const info = await transport.sendMail({ from, to: msg.to, subject: msg.subject, text: msg.text, headers: msg.headers, messageId });
         sent++;
         lastError = null;
         return { messageId: info.messageId };
@@ -121,6 +147,14 @@ export async function startMail(ctx: ServerContext, opts: StartMailOptions = {})
       }
     },
     outbox: () => [...box],
+    outboxFor(tenantId) {
+      return box
+        .filter((m) => m.tenantId === tenantId)
+        .map((m) => {
+          const hide = sentBy.get(m.messageId ?? "")?.withhold ?? [];
+          return hide.length ? { ...m, text: hide.reduce((t, w) => t.replaceAll(w, WITHHELD_TEXT), m.text) } : m;
+        });
+    },
     clearOutbox: () => void box.splice(0, box.length),
     waitForMessages(n, timeoutMs = 10_000) {
       if (box.length >= n) return Promise.resolve([...box]);

@@ -2,7 +2,7 @@
  * Who may hold a Socket.IO connection (ARCHITECTURE.md §8): the handshake must carry a valid
  * next-auth session cookie and come from the console's own origin; the socket then joins its
  * tenant's room. Afterwards the membership is re-checked every few seconds and at once when a
- * user's rights change, a session is signed out, or it switches tenant: the client first gets
+ * user's rights change (a changed role also ends the socket), a session is signed out, or it switches tenant: the client first gets
  * `session:ended`, then the socket is closed.
  */
 import type { IncomingMessage } from "node:http";
@@ -60,7 +60,7 @@ export interface SocketAuth {
 export function installSocketAuth(
   io: RimguardIo,
   opts: {
-    lookup?: (userId: number, tenantId: number, sessionVersion: number) => Promise<TenantContext | null>;
+    lookup?: (userId: number, tenantId: number, sessionVersion: number, sid?: string) => Promise<TenantContext | null>;
     recheckMs?: number;
   } = {},
 ): SocketAuth {
@@ -71,7 +71,7 @@ export function installSocketAuth(
     void (async () => {
       const claims = await claimsFromCookieHeader(socket.request.headers.cookie);
       if (!claims) return next(new Error(HANDSHAKE_ERRORS.unauthenticated));
-      const ctx = await lookup(claims.userId, claims.tenantId, claims.sessionVersion);
+      const ctx = await lookup(claims.userId, claims.tenantId, claims.sessionVersion, claims.sessionId);
       if (!ctx) return next(new Error(HANDSHAKE_ERRORS.forbidden));
       socket.data.userId = ctx.userId;
       socket.data.tenantId = ctx.tenantId;
@@ -101,16 +101,18 @@ export function installSocketAuth(
         const s = sessions.get(socket);
         if (!s) return end(socket, "Session not recognised.");
         if (s.claims.expiresAt <= Date.now()) return end(socket, "Session expired. Sign in again.");
-        const { userId, tenantId, sessionVersion } = s.claims;
-        const key = `${userId}:${tenantId}:${sessionVersion}`;
+        const { userId, tenantId, sessionVersion, sessionId } = s.claims;
+        const key = `${userId}:${tenantId}:${sessionVersion}:${sessionId}`;
         let p = byKey.get(key);
         if (!p) {
-          p = lookup(userId, tenantId, sessionVersion).catch(() => null);
+          p = lookup(userId, tenantId, sessionVersion, sessionId).catch(() => null);
           byKey.set(key, p);
         }
         const ctx = await p;
         if (!ctx) return end(socket, "Your access to this tenant was withdrawn or your session ended.");
-        socket.data.role = ctx.role;
+        // A demotion (or promotion) ends the socket too: the console reconnects and reloads what
+        // the new role may see, instead of keeping what the old role subscribed to.
+        if (ctx.role !== socket.data.role) return end(socket, "Your role changed; reconnecting.");
       }),
     );
   };

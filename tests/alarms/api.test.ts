@@ -6,6 +6,7 @@
  */
 import { QueryTypes } from "sequelize";
 import { afterAll, beforeAll, describe, expect, it, vi } from "vitest";
+import { publicOrigin } from "@/lib/config";
 import { ForbiddenError } from "@/lib/errors";
 import { setServerContext } from "@/lib/server-context";
 import { roleAtLeast, type Role, type TenantContext } from "@/lib/types";
@@ -43,9 +44,10 @@ let mail: MailService;
 
 const url = (p: string) => `http://127.0.0.1${p}`;
 const get = (path: string) => new Request(url(path));
-const post = (path: string, body?: unknown) =>
-  new Request(url(path), { method: "POST", headers: { "content-type": "application/json" }, body: body === undefined ? undefined : JSON.stringify(body) });
-const put = (path: string, body: unknown) => new Request(url(path), { method: "PUT", headers: { "content-type": "application/json" }, body: JSON.stringify(body) });
+// Writes carry the console's Origin, as the browser sends it (lib/request-guard.ts).
+const json = () => ({ "content-type": "application/json", origin: publicOrigin() });
+const post = (path: string, body?: unknown) => new Request(url(path), { method: "POST", headers: json(), body: body === undefined ? undefined : JSON.stringify(body) });
+const put = (path: string, body: unknown) => new Request(url(path), { method: "PUT", headers: json(), body: JSON.stringify(body) });
 const p = (alarmId: number | string) => ({ params: Promise.resolve({ alarmId: String(alarmId) }) });
 const as = (role: Role | "outsider") => {
   current = role === "outsider" ? fx.outsider : fx.users[role];

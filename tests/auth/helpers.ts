@@ -54,10 +54,15 @@ export async function signIn(baseUrl: string, email: string, password: string): 
   return { jar, session: jar.get(SESSION_COOKIE) ?? null, error, status: res.status };
 }
 
-/** fetch with the jar's cookies. */
+/**
+ * fetch with the jar's cookies. A write carries the console's Origin (baseUrl), as a browser
+ * sends it on every same-origin POST/PUT/PATCH/DELETE, unless the caller sets its own.
+ */
 export function authedFetch(baseUrl: string, jar: CookieJar | null, path: string, init: RequestInit = {}): Promise<Response> {
   const headers = new Headers(init.headers);
   if (jar) headers.set("cookie", jar.header());
+  const method = (init.method ?? "GET").toUpperCase();
+  if (method !== "GET" && method !== "HEAD" && !headers.has("origin")) headers.set("origin", new URL(baseUrl).origin);
   return fetch(`${baseUrl}${path}`, { ...init, headers, redirect: "manual" });
 }
 

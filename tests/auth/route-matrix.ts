@@ -48,7 +48,8 @@ export const ROUTES: RouteCase[] = [
   { method: "POST", path: "/api/loops", minRole: "engineer", file: "loops/route.ts", body: {}, admitted: [422] },
   { method: "PATCH", path: "/api/loops/:loopId", minRole: "engineer", file: "loops/[loopId]/route.ts", body: {}, admitted: [422] },
   { method: "GET", path: "/api/loops/:loopId/step-tests", minRole: "viewer", file: "loops/[loopId]/step-tests/route.ts", admitted: [200] },
-  { method: "POST", path: "/api/loops/:loopId/step-tests", minRole: "engineer", file: "loops/[loopId]/step-tests/route.ts", body: {} },
+  // The upload takes multipart only (a JSON body is 415 before the role check): sent without a body.
+  { method: "POST", path: "/api/loops/:loopId/step-tests", minRole: "engineer", file: "loops/[loopId]/step-tests/route.ts" },
   { method: "GET", path: "/api/loops/:loopId/step-tests/:none", minRole: "viewer", file: "loops/[loopId]/step-tests/[stepTestId]/route.ts", admitted: [404] },
   { method: "GET", path: "/api/loops/:loopId/step-tests/:none/data", minRole: "viewer", file: "loops/[loopId]/step-tests/[stepTestId]/data/route.ts", admitted: [404] },
   { method: "POST", path: "/api/loops/:loopId/step-tests/:none/apply", minRole: "engineer", file: "loops/[loopId]/step-tests/[stepTestId]/apply/route.ts", body: {} },

@@ -36,6 +36,7 @@ const EXPECTED_TABLES = [
   "notification_rules",
   "notifications_sent",
   "pole_snapshots",
+  "session_revocations",
   "samples_1m",
   "samples_1s",
   "sites",

@@ -1,7 +1,7 @@
 /**
  * Administration end to end in Chromium against the real server and the demo seed (no
  * simulators needed): invitation by e-mail through the SMTP sink with a one-time link to set a
- * password; device credentials (secret shown once, revoke with a reason); an engineer creates a
+ * password (the admin's outbox withholds the link); device credentials (secret shown once, revoke with a reason); an engineer creates a
  * loop and changes its estimation period with a change reason, both in the change log; the API
  * refuses the same changes from a viewer and refuses bad input with a message. Admin actions that
  * need a change reason (device revoke, role change, member removal, rule deletion, new operator
@@ -11,6 +11,7 @@ import type { Page } from "playwright-core";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { DEMO_PASSWORD } from "@/lib/seed";
 import { artifactPath, launchBrowser, type TestBrowser } from "../setup/browser";
+import { mailOf } from "@/server/mail";
 import { startTestServer, type TestServer } from "../setup/server";
 
 let srv: TestServer;
@@ -63,20 +64,24 @@ describe("administration in Chromium", () => {
     await page.getByRole("button", { name: "Invite" }).click();
     await expect.poll(() => page.getByRole("status").textContent(), { timeout: 15_000 }).toContain("Invitation sent to new.operator@vantrell.example");
 
-    // The SMTP sink received it; the admin's outbox lists it with the link.
+    // The SMTP sink received it. The admin's outbox lists the message but withholds the one-time
+    // link (only the invitee's mailbox may hold it); the test reads the link from the sink itself.
+    const mail = mailOf(srv.server.ctx)!;
     let link = "";
     await expect
       .poll(
-        async () => {
-          const r = await page.request.get(`${srv.url}/api/outbox`);
-          const body = (await r.json()) as { messages: { to: string[]; text: string }[] };
-          const m = body.messages.find((x) => x.to.includes("new.operator@vantrell.example"));
+        () => {
+          const m = mail.outbox().find((x) => x.to.includes("new.operator@vantrell.example"));
           link = /https?:\/\/\S+\/invite\/[A-Za-z0-9_-]+/.exec(m?.text ?? "")?.[0] ?? "";
           return link;
         },
         { timeout: 15_000 },
       )
       .not.toBe("");
+    const listed = (await (await page.request.get(`${srv.url}/api/outbox`)).json()) as { messages: { to: string[]; text: string }[] };
+    const shown = listed.messages.find((x) => x.to.includes("new.operator@vantrell.example"));
+    expect(shown?.text).toContain("link withheld");
+    expect(shown?.text).not.toContain(link);
     await page.goto(`${srv.url}/admin?section=outbox`);
     await page.getByTestId("admin-outbox").waitFor();
     await page.screenshot({ path: artifactPath("console-admin-outbox-invite.png"), fullPage: true });
@@ -120,7 +125,7 @@ describe("administration in Chromium", () => {
     expect(dev).toBeTruthy();
     // The list never carries the secret.
     expect(JSON.stringify(list)).not.toContain(secret);
-    const bad = await page.request.delete(`${srv.url}/api/admin/devices/${dev!.id}`, { data: {} });
+    const bad = await page.request.delete(`${srv.url}/api/admin/devices/${dev!.id}`, { data: {}, headers: { origin: srv.url } });
     expect(bad.status()).toBe(422);
 
     // Revoke in the page: an in-page dialog (no window.prompt) with the caution, Escape leaves it
@@ -196,7 +201,7 @@ describe("administration in Chromium", () => {
     await page.screenshot({ path: artifactPath("console-loop-edit.png"), fullPage: true });
 
     // Bad input is a 422 with the field named; nothing changes.
-    const bad = await page.request.patch(`${srv.url}/api/loops/${id}`, { data: { estimationPeriodS: -1, reason: "typo test" } });
+    const bad = await page.request.patch(`${srv.url}/api/loops/${id}`, { data: { estimationPeriodS: -1, reason: "typo test" }, headers: { origin: srv.url } });
     expect(bad.status()).toBe(422);
     expect(((await bad.json()) as { error: string }).error).toMatch(/estimationPeriodS/);
 
@@ -204,7 +209,7 @@ describe("administration in Chromium", () => {
     const who = (await (await page.request.get(`${srv.url}/api/session`)).json()) as { context: { tenantSlug: string } };
     const viewer = who.context.tenantSlug === "vantrell" ? "viewer@vantrell.example" : "viewer@orrinvale.example";
     await signIn(page, viewer);
-    const refused = await page.request.patch(`${srv.url}/api/loops/${id}`, { data: { estimationPeriodS: 2, reason: "viewer tries" } });
+    const refused = await page.request.patch(`${srv.url}/api/loops/${id}`, { data: { estimationPeriodS: 2, reason: "viewer tries" }, headers: { origin: srv.url } });
     expect(refused.status()).toBe(403);
     expect((await page.request.get(`${srv.url}/api/loops/${id}`)).status()).toBe(200);
     await page.goto(`${srv.url}/loops/${id}`);
@@ -252,7 +257,7 @@ describe("administration in Chromium", () => {
     await roleSelect.selectOption("operator");
     await roleDialog.waitFor();
     await roleDialog.getByTestId("reason-input").fill("back on shift rota");
-    const gone = await page.request.delete(`${srv.url}/api/admin/users/${target.membershipId}`, { data: { reason: "left the site" } });
+    const gone = await page.request.delete(`${srv.url}/api/admin/users/${target.membershipId}`, { data: { reason: "left the site" }, headers: { origin: srv.url } });
     expect(gone.status()).toBe(204);
     await roleDialog.getByTestId("action-submit").click();
     await expect.poll(() => roleDialog.getByTestId("dialog-error").count(), { timeout: 15_000 }).toBe(1);

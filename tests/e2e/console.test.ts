@@ -201,7 +201,7 @@ describe("the console in Chromium", () => {
     const alarms = listOf<AlarmDto>(await apiJson(page, "/api/alarms"), "alarms");
     const target = alarms.find((a) => a.state === "unacknowledged") ?? alarms[0];
     expect(target).toBeTruthy();
-    const r = await page.request.post(`${srv.url}/api/alarms/${target!.id}/acknowledge`, { data: { comment: "viewer tries" } });
+    const r = await page.request.post(`${srv.url}/api/alarms/${target!.id}/acknowledge`, { data: { comment: "viewer tries" }, headers: { origin: srv.url } });
     expect(r.status()).toBe(403);
     await page.screenshot({ path: artifactPath("console-viewer.png"), fullPage: true });
     await page.close();

@@ -1,12 +1,16 @@
 /**
  * End to end in Debian's Chromium (playwright-core): sign in through the form, see the console
  * shell with the tenant's name, the navigation for the role and the standing caution; switch
- * theme and tenant; sign out. Screenshots go to tests/artifacts/ (git-ignored).
+ * theme and tenant; sign out; accept an invitation with an existing account by signing in; the
+ * pages run under the Content-Security-Policy without a violation and cannot be framed.
+ * Screenshots go to tests/artifacts/ (git-ignored).
  */
 import type { Page } from "playwright-core";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { CAUTION_TEXT } from "@/app/(console)/_shell/caution";
+import { mailOf } from "@/server/mail";
 import { createAuthFixture, FIXTURE_PASSWORD, type AuthFixture } from "../auth/fixture";
+import { authedFetch, signIn } from "../auth/helpers";
 import { artifactPath, launchBrowser, type TestBrowser } from "../setup/browser";
 import { startTestServer, type TestServer } from "../setup/server";
 
@@ -122,6 +126,79 @@ describe("console shell in Chromium", () => {
     await expect.poll(async () => page.locator("header select").inputValue(), { timeout: 15_000 }).toBe(String(target.id));
     await page.waitForLoadState("networkidle").catch(() => undefined);
     await page.screenshot({ path: artifactPath("shell-tenant-switched.png") });
+    await page.close();
+  });
+});
+
+describe("an invitation to an existing account", () => {
+  it("is accepted by signing in as that account; the page never offers to set its password", async () => {
+    const invitee = fx.b.users.operator;
+    const admin = await signIn(srv.url, fx.a.users.admin.email, FIXTURE_PASSWORD);
+    const mail = mailOf(srv.server.ctx)!;
+    const before = mail.outbox().length;
+    const res = await authedFetch(srv.url, admin.jar, "/api/admin/users", {
+      method: "POST",
+      headers: { "content-type": "application/json" },
+      body: JSON.stringify({ email: invitee.email, role: "viewer" }),
+    });
+    expect(res.status).toBe(201);
+    const [msg] = (await mail.waitForMessages(before + 1)).slice(before);
+    const token = /\/invite\/([A-Za-z0-9_-]+)/.exec(msg?.text ?? "")?.[1];
+    expect(token).toBeTruthy();
+
+    await browser.context.clearCookies();
+    const page = await browser.context.newPage();
+    await page.goto(`${srv.url}/invite/${token}`);
+    expect(await page.getByLabel("New password (at least 12 characters)").count()).toBe(0);
+    await page.getByRole("link", { name: `Sign in as ${invitee.email}` }).click();
+    await page.waitForURL(/\/signin/);
+    await page.getByLabel("E-mail").fill(invitee.email);
+    await page.getByLabel("Password").fill(FIXTURE_PASSWORD);
+    await page.getByRole("button", { name: "Sign in" }).click();
+    await page.waitForURL((u) => u.pathname === `/invite/${token}`, { timeout: 30_000 });
+    await page.getByRole("button", { name: "Accept invitation" }).click();
+    await expect.poll(() => page.getByRole("status").textContent(), { timeout: 15_000 }).toContain("Invitation accepted");
+    expect(await srv.db.models.Membership.count({ where: { userId: invitee.id, tenantId: fx.a.id } })).toBe(1);
+    // The account's password still works.
+    expect((await signIn(srv.url, invitee.email, FIXTURE_PASSWORD)).session).toBeTruthy();
+    await page.close();
+  });
+});
+
+describe("security headers in Chromium", () => {
+  it("the console runs under its Content-Security-Policy with no violation, and refuses to be framed", async () => {
+    const page = await browser.context.newPage();
+    const messages: string[] = [];
+    page.on("console", (m) => messages.push(m.text()));
+    await page.addInitScript(() => {
+      const w = window as unknown as { __csp: string[] };
+      w.__csp = [];
+      document.addEventListener("securitypolicyviolation", (e) => w.__csp.push(`${e.violatedDirective} ${e.blockedURI}`));
+    });
+    await browser.context.clearCookies();
+    await signInThroughForm(page, fx.a.users.admin.email);
+    const nav = page.getByRole("navigation", { name: "Console" });
+    for (const label of ["Loops", "Alarms", "Admin", "Control room"]) {
+      await nav.getByRole("link", { name: label }).click();
+      await page.waitForLoadState("networkidle").catch(() => undefined);
+      expect(await page.evaluate(() => (window as unknown as { __csp: string[] }).__csp), label).toEqual([]);
+    }
+    await page.goto(`${srv.url}/loops/${fx.a.loopId}`);
+    await page.waitForLoadState("networkidle").catch(() => undefined);
+    // Hydrated (scripts ran): the theme toggle works.
+    await page.getByRole("button", { name: "Light theme" }).click();
+    expect(await page.locator("html").getAttribute("data-theme")).toBe("light");
+    await page.getByRole("button", { name: "Dark theme" }).click();
+    expect(await page.evaluate(() => (window as unknown as { __csp: string[] }).__csp)).toEqual([]);
+    expect(messages.filter((m) => /Content Security Policy/i.test(m))).toEqual([]);
+
+    // frame-ancestors 'none': another page cannot frame the console (clickjacking).
+    const framer = await browser.context.newPage();
+    const framerLog: string[] = [];
+    framer.on("console", (m) => framerLog.push(m.text()));
+    await framer.setContent(`<iframe src="${srv.url}/signin"></iframe>`);
+    await expect.poll(() => framerLog.some((m) => /frame-ancestors/.test(m)), { timeout: 15_000 }).toBe(true);
+    await framer.close();
     await page.close();
   });
 });

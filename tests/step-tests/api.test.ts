@@ -7,7 +7,7 @@
  */
 import { ListObjectsV2Command } from "@aws-sdk/client-s3";
 import { afterAll, beforeAll, describe, expect, it, vi } from "vitest";
-import { getConfig } from "@/lib/config";
+import { getConfig, publicOrigin } from "@/lib/config";
 import { ForbiddenError } from "@/lib/errors";
 import { setServerContext } from "@/lib/server-context";
 import { roleAtLeast, type Role, type TenantContext } from "@/lib/types";
@@ -68,10 +68,11 @@ function upload(loopId: number, content: string | Uint8Array, filename = "fic101
   const form = new FormData();
   form.set("file", new Blob([typeof content === "string" ? content : new Uint8Array(content)], { type: "text/csv" }), filename);
   for (const [k, v] of Object.entries(extra)) form.set(k, v);
-  return new Request(url(`/api/loops/${loopId}/step-tests`), { method: "POST", body: form });
+  return new Request(url(`/api/loops/${loopId}/step-tests`), { method: "POST", headers: { origin: publicOrigin() }, body: form });
 }
+// Writes carry the console's Origin, as the browser sends it (lib/request-guard.ts).
 const postJson = (path: string, body: unknown) =>
-  new Request(url(path), { method: "POST", headers: { "content-type": "application/json" }, body: JSON.stringify(body) });
+  new Request(url(path), { method: "POST", headers: { "content-type": "application/json", origin: publicOrigin() }, body: JSON.stringify(body) });
 
 async function objectKeys(): Promise<string[]> {
   const r = await store.client.send(new ListObjectsV2Command({ Bucket: store.bucket }));
@@ -200,7 +201,7 @@ describe("step-test upload and download", () => {
     as("engineer");
     const form = new FormData();
     form.set("note", "no file");
-    const res = await list.POST(new Request(url(`/api/loops/${fx.loopId}/step-tests`), { method: "POST", body: form }), lp(fx.loopId));
+    const res = await list.POST(new Request(url(`/api/loops/${fx.loopId}/step-tests`), { method: "POST", headers: { origin: publicOrigin() }, body: form }), lp(fx.loopId));
     expect(res.status).toBe(422);
   });
 

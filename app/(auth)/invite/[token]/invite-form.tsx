@@ -1,7 +1,7 @@
 "use client";
 import Link from "next/link";
 import { useActionState } from "react";
-import { acceptInvitationAction, type AcceptState } from "./actions";
+import { acceptAsSignedInAction, acceptInvitationAction, type AcceptState } from "./actions";
 
 export function InviteForm({ token, email }: { token: string; email: string }) {
   const [state, action, pending] = useActionState<AcceptState, FormData>(acceptInvitationAction.bind(null, token), { ok: false, error: null });
@@ -40,6 +40,36 @@ export function InviteForm({ token, email }: { token: string; email: string }) {
       )}
       <button type="submit" disabled={pending} className="rounded bg-accent px-3 py-1.5 font-semibold text-accent-ink disabled:opacity-60">
         {pending ? "Saving…" : "Set password"}
+      </button>
+    </form>
+  );
+}
+
+/** An existing account, signed in as itself: one button adds the membership. */
+export function AcceptAsSignedInForm({ token, email }: { token: string; email: string }) {
+  const [state, action, pending] = useActionState<AcceptState, FormData>(acceptAsSignedInAction.bind(null, token), { ok: false, error: null });
+  if (state.ok)
+    return (
+      <p role="status">
+        Invitation accepted for {state.email}. Switch to the new tenant from the menu on the{" "}
+        <Link href="/" className="text-accent underline">
+          console
+        </Link>
+        .
+      </p>
+    );
+  return (
+    <form action={action} className="flex flex-col gap-3">
+      <p className="text-sm text-muted">
+        Signed in as <span className="text-ink">{email}</span>.
+      </p>
+      {state.error && (
+        <p role="alert" className="text-sm text-urgent">
+          {state.error}
+        </p>
+      )}
+      <button type="submit" disabled={pending} className="rounded bg-accent px-3 py-1.5 font-semibold text-accent-ink disabled:opacity-60">
+        {pending ? "Accepting…" : "Accept invitation"}
       </button>
     </form>
   );

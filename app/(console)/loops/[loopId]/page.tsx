@@ -2,6 +2,7 @@ import { notFound, redirect } from "next/navigation";
 import { LoopDetail } from "@/app/_components/loop-detail";
 import { isRangeKey } from "@/lib/client/ranges";
 import { getContextOrNull } from "@/lib/auth/guard";
+import { loopTenantId } from "@/lib/loops";
 
 export const dynamic = "force-dynamic";
 export const metadata = { title: "Loop · Rimguard" };
@@ -11,7 +12,9 @@ export default async function LoopPage({ params, searchParams }: { params: Promi
   if (!ctx) redirect("/signin");
   const { loopId } = await params;
   const id = Number(loopId);
-  if (!Number.isInteger(id) || id <= 0) notFound();
+  if (!Number.isInteger(id) || id <= 0 || id > Number.MAX_SAFE_INTEGER) notFound();
+  // Another tenant's loop is a 404, exactly like a loop that does not exist (as the API answers).
+  if ((await loopTenantId(id)) !== ctx.tenantId) notFound();
   const { range } = await searchParams;
   const initialRange = isRangeKey(range) ? range : "1h";
   return <LoopDetail loopId={id} role={ctx.role} initialRange={initialRange} />;

@@ -21,7 +21,7 @@ export const POST = handle(async (req: Request) => {
   const claims = await getSessionClaims();
   if (!claims) throw new UnauthenticatedError();
   const { tenantId } = await parseBody(req, bodySchema);
-  const target = await loadTenantContext(claims.userId, tenantId, claims.sessionVersion);
+  const target = await loadTenantContext(claims.userId, tenantId, claims.sessionVersion, claims.sessionId);
   if (!target) throw new NotFoundError("Tenant");
 
   const cfg = getConfig();

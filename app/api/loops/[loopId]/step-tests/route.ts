@@ -3,13 +3,15 @@
  * POST /api/loops/:loopId/step-tests — engineer: multipart upload, field `file` (CSV, at most
  *   5 MB), optional fields `detrend` (initial | mean | linear) and `maxDeadTimeS`. 201 with the
  *   identification result; 422 with { details: { row, column, columnName } } for the first
- *   problem in the file; 413 when too large. Nothing is stored when it fails.
+ *   problem in the file; 413 when too large (counted while the body streams, see handle()).
+ *   Nothing is stored when it fails.
  */
 import { NextResponse } from "next/server";
 import { parseId } from "@/lib/alarms/access";
 import { requireContext } from "@/lib/auth/guard";
 import { ValidationError } from "@/lib/errors";
 import { handle } from "@/lib/http";
+import { STEP_TEST_UPLOAD_BODY } from "@/lib/request-guard";
 import { MAX_CSV_BYTES, StepTestTooLargeError } from "@/lib/step-tests/csv";
 import { listStepTests, uploadStepTest } from "@/lib/step-tests/service";
 
@@ -23,14 +25,10 @@ export const GET = handle(async (_req: Request, { params }: Params) => {
   return NextResponse.json({ stepTests: await listStepTests(ctx, loopId) });
 });
 
-/** Room for the multipart envelope around a file of the largest accepted size. */
-const ENVELOPE_BYTES = 64 * 1024;
 
 export const POST = handle(async (req: Request, { params }: Params) => {
   const ctx = await requireContext("engineer");
   const loopId = parseId((await params).loopId, "loop id");
-  const declared = Number(req.headers.get("content-length") ?? NaN);
-  if (Number.isFinite(declared) && declared > MAX_CSV_BYTES + ENVELOPE_BYTES) throw new StepTestTooLargeError(declared);
   if (!(req.headers.get("content-type") ?? "").toLowerCase().startsWith("multipart/form-data")) {
     throw new ValidationError("Send the file as multipart/form-data with the field \"file\".");
   }
@@ -50,4 +48,4 @@ export const POST = handle(async (req: Request, { params }: Params) => {
   };
   const detail = await uploadStepTest(ctx, loopId, { name: file.name || "step-test.csv", bytes }, { detrend: opt("detrend") as never, maxDeadTimeS: opt("maxDeadTimeS") as never });
   return NextResponse.json({ stepTest: detail }, { status: 201 });
-});
+}, STEP_TEST_UPLOAD_BODY);
