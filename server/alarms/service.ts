@@ -16,7 +16,8 @@ import {
   CONDITION_PRIORITY,
   dominantOscillatingMode,
   evaluateConditions,
-  newConditionMemory,
+  isTrustedEstimate,
+  memoryForActive,
   NON_TRACKING,
   type ConditionMemory,
 } from "@/lib/alarms/conditions";
@@ -108,6 +109,8 @@ export class AlarmService implements Service {
   private byLoop = new Map<number, Map<AlarmCondition, number>>();
   private loops = new Map<number, LoopFacts>();
   private memory = new Map<number, ConditionMemory>();
+  /** Loops whose tracker has given a trusted estimate since this service started (see onTrackerUpdate). */
+  private evidenced = new Set<number>();
   private trends = new Map<number, MarginTrend>();
   private lastState = new Map<number, LoopStateDto>();
   private policyLayers = { tenant: new Map<number, PolicyOverride>(), site: new Map<number, PolicyOverride>(), loop: new Map<number, PolicyOverride>() };
@@ -383,8 +386,16 @@ export class AlarmService implements Service {
     const now = this.ctx.clock.now();
     const policy = this.policyFor(s.loopId);
     const forecastMinutes = this.forecast(s, policy, now);
+    // After a start (a restart, a crash) the alarms are what MariaDB and the journal say, not what
+    // this process has seen: until the loop's tracker gives a trusted estimate again, its alarms
+    // keep their state (no clear, no suppression, no re-announce; shown values are not updated),
+    // and the filters of active alarms start "on" so that evidence must last the off-delay.
+    if (!this.evidenced.has(s.loopId)) {
+      if (!isTrustedEstimate(s)) return;
+      this.evidenced.add(s.loopId);
+    }
     const { memory, verdicts } = evaluateConditions(
-      this.memory.get(s.loopId) ?? newConditionMemory(),
+      this.memory.get(s.loopId) ?? this.restoredMemory(ids),
       s,
       policy,
       { baselineTimeConstantS: loop.baselineTimeConstantS, forecastMinutes },
@@ -412,6 +423,15 @@ export class AlarmService implements Service {
         if (r) this.commit(rec, a, r, null, null);
       }
     }
+  }
+
+  private restoredMemory(ids: Map<AlarmCondition, number>): ConditionMemory {
+    const active: { condition: AlarmCondition; priority: AlarmPriority }[] = [];
+    for (const [condition, id] of ids) {
+      const p = this.points.get(id)?.point;
+      if (p?.active) active.push({ condition, priority: p.priority });
+    }
+    return memoryForActive(active);
   }
 
   /** Feed the loop's margin trend and forecast when it reaches the margin level (minutes). */
