@@ -45,7 +45,7 @@ import {
   type TenantContext,
 } from "@/lib/types";
 import type { ServerContext, Service, ServiceHealth } from "@/server/context";
-import { AlarmDbWriter, journalId } from "./db-writer";
+import { AlarmDbWriter, journalId, LAST_KNOWN_MEMBERSHIP, type LastKnownAuthorisation } from "./db-writer";
 import { AlarmJournal, type JournalEntry, type PointSnapshot } from "./journal";
 import { AlarmNotifier, priorityOfSubject, type NotificationRuleRow, type SentRow } from "./notifier";
 import type { MailService } from "@/server/mail";
@@ -531,7 +531,13 @@ export class AlarmService implements Service {
       throw err;
     }
     if (!r) return this.toDto(rec);
-    return this.commit(rec, action, r, user.userId, comment);
+    // Authorised from the last-known membership (database unreachable): say so in the journal;
+    // the writer checks the membership again when the database is back (db-writer.ts).
+    const data: LastKnownAuthorisation | null =
+      user.membershipAsOf == null
+        ? null
+        : { authorisation: LAST_KNOWN_MEMBERSHIP, membershipAsOf: new Date(user.membershipAsOf).toISOString(), role: user.role, requiredRole: min };
+    return this.commit(rec, action, r, user.userId, comment, data as Record<string, unknown> | null);
   }
 
   acknowledge(user: TenantContext, alarmId: number, comment: string | null): AlarmDto {
