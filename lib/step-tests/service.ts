@@ -9,6 +9,7 @@ import { literal } from "sequelize";
 import { z } from "zod";
 import { text } from "@/lib/text-input";
 import { diffOf, logConfigChange } from "@/lib/admin/config-log";
+import { LIMITS } from "@/lib/admin/loop-schema";
 import { getDb } from "@/lib/db/sequelize";
 import { ConflictError, HttpError, NotFoundError, ValidationError } from "@/lib/errors";
 import { getServerContext } from "@/lib/server-context";
@@ -260,6 +261,7 @@ export async function applyStepTestProposal(
   const patch: Record<string, number> = {};
   if (body.apply.includes("estimationPeriod")) {
     if (p.estimationPeriodS < loop.telemetryPeriodS) throw new ValidationError("The proposed estimation period is shorter than the telemetry period.");
+    if (!(p.estimationPeriodS <= LIMITS.periodS[1])) throw new ValidationError(`The proposed estimation period is longer than ${LIMITS.periodS[1]} s, the longest a loop accepts.`);
     patch.estimationPeriodS = p.estimationPeriodS;
     patch.estimationProposedS = p.estimationPeriodS;
   }
