@@ -42,6 +42,30 @@ export async function collectHealth(ctx: ServerContext | null): Promise<HealthRe
     [...ctx.services.values()].map(async (s) => [s.name, await probe(() => s.health())] as const),
   );
   const report: HealthReport = { status: worst(entries.map(([, h]) => h.status)), ...base };
-  for (const [name, h] of entries) report[name] = { status: h.status, ...(h.detail ?? {}) };
+  for (const [name, h] of entries) report[name] = redactErrors({ status: h.status, ...(h.detail ?? {}) });
   return report;
+}
+
+/**
+ * The health answer is public, and a service's last error is often a driver's message that names
+ * an internal address ("connect ECONNREFUSED 10.0.0.5:3306", a socket path). Every string under a
+ * key that names an error keeps its words but loses the addresses.
+ */
+export function redactAddresses(msg: string): string {
+  return msg
+    .replace(/\[[0-9a-f:.]+\](:\d+)?/gi, "<address>")
+    .replace(/\b\d{1,3}(\.\d{1,3}){3}(:\d+)?\b/g, "<address>")
+    .replace(/(^|[\s(])\/[^\s:)]+\.sock\b/g, "$1<address>")
+    .replace(/\b[a-z0-9][a-z0-9.-]*:\d{2,5}\b/gi, "<address>");
+}
+
+function redactErrors<T>(value: T, key = ""): T {
+  if (typeof value === "string") return (/error/i.test(key) ? redactAddresses(value) : value) as T;
+  if (Array.isArray(value)) return value.map((v) => redactErrors(v, key)) as T;
+  if (value && typeof value === "object") {
+    const out: Record<string, unknown> = {};
+    for (const [k, v] of Object.entries(value)) out[k] = redactErrors(v, k);
+    return out as T;
+  }
+  return value;
 }

@@ -1,5 +1,6 @@
 import { NextResponse } from "next/server";
 import { z } from "zod";
+import { DATABASE_UNAVAILABLE, isDatabaseUnavailable } from "./db/unavailable";
 import { isHttpError, ValidationError } from "./errors";
 import { guardRequest, JSON_BODY, PayloadTooLargeError, type BodyRule } from "./request-guard";
 
@@ -18,6 +19,11 @@ export function errorResponse(err: unknown): NextResponse {
     const retry = (err as { retryAfterSeconds?: unknown }).retryAfterSeconds;
     if (typeof retry === "number") headers["Retry-After"] = String(retry);
     return NextResponse.json({ error: err.message, details: err.details }, { status: err.status, headers });
+  }
+  if (isDatabaseUnavailable(err)) {
+    // A connection failure says where the database is: log it, never answer with it.
+    console.warn("[api] database unavailable:", err instanceof Error ? err.message : String(err));
+    return NextResponse.json({ error: DATABASE_UNAVAILABLE }, { status: 503, headers: { "Retry-After": "10" } });
   }
   console.error("[api] unexpected error", err);
   return NextResponse.json({ error: "Internal error." }, { status: 500 });

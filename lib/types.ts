@@ -180,4 +180,9 @@ export interface TenantContext {
   tenantSlug: string;
   tenantName: string;
   role: Role;
+  /**
+   * Set only while the database is unreachable: the role comes from the last successful read of
+   * the membership, made at this time (epoch ms); actions taken so are journaled as such.
+   */
+  membershipAsOf?: number;
 }

@@ -15,7 +15,9 @@ import { CLIENT_IP_HEADER } from "@/lib/auth/options";
 import { closeSequelize, getSequelize } from "@/lib/db/sequelize";
 import { bodyLimitForPath } from "@/lib/request-guard";
 import { contentSecurityPolicy, makeNonce, STATIC_SECURITY_HEADERS } from "@/lib/security-headers";
+import { isDatabaseUnavailable } from "@/lib/db/unavailable";
 import { Bus, systemClock, type RimguardIo, type ServerContext, type Service } from "./context";
+import { createDatabaseGate } from "./db-gate";
 import { installSocketAuth, originAllowed } from "./realtime/socket-auth";
 import { startServices, stopServices, type StartServicesOptions } from "./services";
 
@@ -47,7 +49,9 @@ function databaseService(): Service {
         await getSequelize().query("SELECT 1");
         return { status: "ok", detail: { latencyMs: Math.round((performance.now() - t0) * 10) / 10 } };
       } catch (err) {
-        return { status: "critical", detail: { error: err instanceof Error ? err.message : String(err) } };
+        // The health answer is public: the driver's message would name the database's address.
+        console.warn("[server] database health probe failed:", err instanceof Error ? err.message : String(err));
+        return { status: "critical", detail: { error: isDatabaseUnavailable(err) ? "database unreachable" : "database error" } };
       }
     },
     async stop() {
@@ -181,7 +185,10 @@ export async function startServer(opts: StartServerOptions = {}): Promise<Runnin
       });
     }
     const nextHandler = app.getRequestHandler();
-    handler = (req, res) => nextHandler(req, res);
+    const dbGate = createDatabaseGate(() => getSequelize().query("SELECT 1"));
+    handler = async (req, res) => {
+      if (!(await dbGate(req, res))) await nextHandler(req, res);
+    };
     services = await startServices(ctx, opts);
   } catch (err) {
     await shutdown().catch(() => undefined);

@@ -2,7 +2,9 @@
  * The simulators as a child process of the server (`npm start` unless SIMULATORS=false): one
  * `node --import tsx simulators/index.ts`, given the server's broker address and simulator
  * settings through its environment, its output prefixed into the server's log, and stopped
- * (SIGTERM, then SIGKILL after a grace period) when the server stops.
+ * (SIGTERM, then SIGKILL after a grace period) when the server stops. The child also has an IPC
+ * channel to this process and exits when it closes, which the kernel does when this process dies
+ * in any way (kill -9 included): no orphan keeps publishing into the next server.
  */
 import { spawn, type ChildProcess } from "node:child_process";
 import path from "node:path";
@@ -39,8 +41,9 @@ export async function startSimulators(ctx: ServerContext, options: StartSimulato
   const child: ChildProcess = spawn(process.execPath, ["--import", "tsx", path.join(root, "simulators", "index.ts"), ...(options.args ?? [])], {
     cwd: root,
     env,
-    stdio: ["ignore", "pipe", "pipe"],
+    stdio: ["ignore", "pipe", "pipe", "ipc"],
   });
+  child.channel?.unref(); // the channel is only a lifeline; it must not keep this process up
   let exited: { code: number | null; signal: NodeJS.Signals | null } | null = null;
   let lastLine = "";
   const exitPromise = new Promise<void>((resolve) => {

@@ -3,9 +3,15 @@
  * (the demo seed's loops unless --no-seed, plus the scenario's inline loops), connects one MQTT
  * client per tenant with its device credential and publishes telemetry until stopped (SIGINT /
  * SIGTERM) or until --duration has passed. Options: see ./options.ts.
+ *
+ * Started by the server (server/simulators-process.ts) it has an IPC channel to it and ends when
+ * that channel closes: the kernel closes it when the server dies, even by SIGKILL, so no orphan
+ * keeps publishing into the next server. A second simulator for devices another live simulator
+ * already publishes as is refused (./device-lock.ts).
  */
 import path from "node:path";
 import { loadEnv } from "@/lib/load-env";
+import { acquireDeviceLocks } from "./device-lock";
 import { buildFleet } from "./fleet";
 import { parseSimulatorOptions } from "./options";
 import { connectPublisher, type DeviceCredential } from "./publisher";
@@ -43,6 +49,11 @@ async function main(): Promise<void> {
     else missing.add(siteKey);
   }
   if (missing.size > 0) throw new Error(`no device credential for ${[...missing].join(", ")} (set SIM_DEVICE_CREDENTIALS)`);
+  const lock = acquireDeviceLocks(
+    path.resolve(process.env.SIM_LOCK_DIR || ".data"),
+    opts.brokerUrl,
+    [...needed.values()].map((c) => c.clientId),
+  );
   const publisher = await connectPublisher(opts.brokerUrl, Object.fromEntries(needed), { qos: opts.qos });
   // SIM_BATCH_DELAY_MS: longest wait of a partial batch (load runs: long enough to fill --batch)
   const batchDelay = Number(process.env.SIM_BATCH_DELAY_MS ?? "");
@@ -67,15 +78,22 @@ async function main(): Promise<void> {
   const stop = async (why: string) => {
     if (stopping) return;
     stopping = true;
+    // With the broker gone (it lived in the dead parent) closing may wait on nothing: cap it.
+    setTimeout(() => process.exit(0), 3_000).unref();
     clearInterval(timer);
     clearInterval(report);
     runner.flush();
     await publisher.close();
+    lock.release();
     console.log(`[simulators] stopped (${why}): ${runner.samples} samples in ${runner.messages} messages; largest lag behind the clock ${runner.maxLagMs} ms`);
     process.exit(0);
   };
   process.on("SIGINT", () => void stop("SIGINT"));
   process.on("SIGTERM", () => void stop("SIGTERM"));
+  if (process.channel) {
+    process.once("disconnect", () => void stop("the server process is gone"));
+    process.channel.unref();
+  }
   if (opts.durationS > 0) setTimeout(() => void stop(`duration ${opts.durationS} s`), opts.durationS * 1000);
 }
 

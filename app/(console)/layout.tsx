@@ -2,6 +2,7 @@ import { cookies } from "next/headers";
 import { redirect } from "next/navigation";
 import { getContextOrNull } from "@/lib/auth/guard";
 import { listMemberships } from "@/lib/auth/store";
+import { DATABASE_UNAVAILABLE, isDatabaseUnavailable } from "@/lib/db/unavailable";
 import { parseTheme, THEME_COOKIE } from "@/lib/theme";
 import { roleAtLeast } from "@/lib/types";
 import { CautionLine } from "./_shell/caution";
@@ -16,7 +17,12 @@ export const dynamic = "force-dynamic";
 export default async function ConsoleLayout({ children }: { children: React.ReactNode }) {
   const ctx = await getContextOrNull();
   if (!ctx) redirect("/signin");
-  const memberships = await listMemberships(ctx.userId);
+  // During a database outage the guard answers from the last-known membership (ctx.membershipAsOf):
+  // the console still opens (the alarm list works from memory), with the outage said at the top.
+  const memberships = await listMemberships(ctx.userId).catch((err: unknown) => {
+    if (!isDatabaseUnavailable(err)) throw err;
+    return [{ tenantId: ctx.tenantId, tenantSlug: ctx.tenantSlug, tenantName: ctx.tenantName, role: ctx.role }];
+  });
   const links = [
     { href: "/", label: "Control room" },
     { href: "/loops", label: "Loops" },
@@ -50,6 +56,11 @@ export default async function ConsoleLayout({ children }: { children: React.Reac
           </div>
         </div>
       </header>
+      {ctx.membershipAsOf != null && (
+        <p role="alert" className="border-b border-line bg-surface px-4 py-2 text-sm text-urgent">
+          {DATABASE_UNAVAILABLE}
+        </p>
+      )}
       <main id="main" className="flex-1 px-4 py-4">
         {children}
       </main>

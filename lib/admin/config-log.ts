@@ -1,6 +1,8 @@
 /**
  * The configuration change log (config_changes): who changed what, from what to what, why, and
- * under which management-of-change reference. Every admin and engineer write goes through here.
+ * under which management-of-change reference. Every admin and engineer write goes through here,
+ * and always inside the transaction of the change itself (`inConfigTransaction`): the change and
+ * its log row commit together or not at all, so no configuration changes without a trace.
  */
 import type { Transaction } from "sequelize";
 import { getDb } from "@/lib/db/sequelize";
@@ -31,7 +33,7 @@ export function diffOf(before: Record<string, unknown>, after: Record<string, un
 export async function logConfigChange(
   ctx: TenantContext,
   entry: { entity: string; entityId: number; diff: Record<string, { from: unknown; to: unknown }>; reason?: string | null; mocReference?: string | null },
-  transaction?: Transaction,
+  transaction: Transaction,
 ): Promise<void> {
   const { ConfigChange } = getDb().models;
   await ConfigChange.create(
@@ -46,6 +48,11 @@ export async function logConfigChange(
     },
     { transaction },
   );
+}
+
+/** Run a configuration change and its change-log entry in one transaction (both or neither). */
+export function inConfigTransaction<T>(fn: (transaction: Transaction) => Promise<T>): Promise<T> {
+  return getDb().sequelize.transaction(fn);
 }
 
 export async function listConfigChanges(ctx: TenantContext, filter: { entity?: string; entityId?: number; limit?: number } = {}): Promise<ConfigChangeDto[]> {

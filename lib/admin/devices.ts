@@ -4,18 +4,19 @@
  */
 import { randomBytes } from "node:crypto";
 import { z } from "zod";
+import { text } from "@/lib/text-input";
 import { getDb } from "@/lib/db/sequelize";
 import { generateDeviceSecret, hashDeviceSecret } from "@/lib/devices";
 import { NotFoundError, ValidationError } from "@/lib/errors";
 import { findOwned } from "@/lib/tenancy";
 import type { TenantContext } from "@/lib/types";
-import { logConfigChange } from "./config-log";
+import { inConfigTransaction, logConfigChange } from "./config-log";
 
 export const createDeviceSchema = z
   .object({
-    name: z.string().trim().min(2, "Name the device (at least 2 characters).").max(120),
+    name: text().trim().min(2, "Name the device (at least 2 characters).").max(120),
     siteId: z.number().int().positive().nullable(),
-    reason: z.string().trim().max(500).optional(),
+    reason: text().trim().max(500).optional(),
   })
   .strict();
 
@@ -44,8 +45,14 @@ export async function createDevice(ctx: TenantContext, input: z.infer<typeof cre
   if (input.siteId != null && !(await findOwned(Site, ctx, input.siteId))) throw new ValidationError("siteId: no such site in this tenant.");
   const { keyId, secret } = generateDeviceSecret();
   const clientId = `rg-${ctx.tenantSlug}-${randomBytes(4).toString("hex")}`;
-  const row = await DeviceCredential.create({ tenantId: ctx.tenantId, siteId: input.siteId, name: input.name, clientId, keyId, secretHash: hashDeviceSecret(secret), createdBy: ctx.userId });
-  await logConfigChange(ctx, { entity: "device_credential", entityId: row.id, diff: { name: { from: null, to: input.name }, keyId: { from: null, to: keyId } }, reason: input.reason ?? null });
+  const row = await inConfigTransaction(async (transaction) => {
+    const created = await DeviceCredential.create(
+      { tenantId: ctx.tenantId, siteId: input.siteId, name: input.name, clientId, keyId, secretHash: hashDeviceSecret(secret), createdBy: ctx.userId },
+      { transaction },
+    );
+    await logConfigChange(ctx, { entity: "device_credential", entityId: created.id, diff: { name: { from: null, to: input.name }, keyId: { from: null, to: keyId } }, reason: input.reason ?? null }, transaction);
+    return created;
+  });
   return { id: row.id, name: row.name, siteId: row.siteId, clientId, keyId, createdAt: iso(row.createdAt)!, revokedAt: null, lastSeenAt: null, secret };
 }
 
@@ -55,8 +62,10 @@ export async function revokeDevice(ctx: TenantContext, id: number, reason: strin
   if (!row) throw new NotFoundError("Device credential");
   if (!row.revokedAt) {
     const at = new Date();
-    await row.update({ revokedAt: at });
-    await logConfigChange(ctx, { entity: "device_credential", entityId: id, diff: { revokedAt: { from: null, to: at.toISOString() } }, reason });
+    await inConfigTransaction(async (transaction) => {
+      await row.update({ revokedAt: at }, { transaction });
+      await logConfigChange(ctx, { entity: "device_credential", entityId: id, diff: { revokedAt: { from: null, to: at.toISOString() } }, reason }, transaction);
+    });
   }
   return { id: row.id, name: row.name, siteId: row.siteId, clientId: row.clientId, keyId: row.keyId, createdAt: iso(row.createdAt)!, revokedAt: iso(row.revokedAt), lastSeenAt: iso(row.lastSeenAt) };
 }

@@ -5,6 +5,7 @@
  * never writes to a controller.
  */
 import { UniqueConstraintError } from "sequelize";
+import { z } from "zod";
 import { ConflictError, NotFoundError, ValidationError } from "@/lib/errors";
 import { getDb } from "@/lib/db/sequelize";
 import { getServerContext } from "@/lib/server-context";
@@ -13,7 +14,7 @@ import { findOwned } from "@/lib/tenancy";
 import type { TenantContext } from "@/lib/types";
 import { diffOf, logConfigChange } from "./config-log";
 import type { CreateLoopInput, LoopFields, UpdateLoopInput } from "./loop-schema";
-import { loopFieldsSchema } from "./loop-schema";
+import { loopConfigSchema, loopFieldsSchema } from "./loop-schema";
 
 const FIELDS = Object.keys(loopFieldsSchema.shape) as (keyof LoopFields)[];
 
@@ -41,6 +42,34 @@ export async function getLoopConfig(ctx: TenantContext, loopId: number): Promise
   const { Loop } = getDb().models;
   const row = await findOwned(Loop, ctx, loopId);
   return row ? toDto(row.get({ plain: true }) as Record<string, unknown>) : null;
+}
+
+/** Fields checked together (checkRanges in loop-schema.ts): a patch to one re-checks the other. */
+const LINKED: (keyof LoopFields)[][] = [
+  ["pvLo", "pvHi"],
+  ["mvLo", "mvHi"],
+  ["telemetryPeriodS", "estimationPeriodS"],
+  ["gainKind", "gainValue"],
+  ["tiValue", "tiUnits"],
+  ["tdValue", "tdUnits"],
+];
+
+/**
+ * A patch alone cannot be checked across fields (a gain without its kind, a period without the
+ * other): the stored loop with the patch applied must pass the whole schema. Only issues on the
+ * patched fields and the fields linked to them count, so an older row outside today's ranges can
+ * still be edited elsewhere (and is checked in full the day that field is edited).
+ */
+function checkMergedConfig(merged: Record<string, unknown>, patch: Record<string, unknown>): void {
+  const candidate: Record<string, unknown> = {};
+  for (const k of FIELDS) candidate[k] = merged[k] ?? null;
+  candidate.tdValue = (merged.tdValue as number | null) ?? 0;
+  candidate.enabled = Boolean(merged.enabled);
+  const touched = new Set(Object.keys(patch));
+  for (const group of LINKED) if (group.some((k) => touched.has(k))) for (const k of group) touched.add(k);
+  const res = loopConfigSchema.safeParse(candidate);
+  const issues = res.success ? [] : res.error.issues.filter((i) => touched.has(String(i.path[0])));
+  if (issues.length) throw new z.ZodError(issues);
 }
 
 function announce(loopId: number): void {
@@ -79,10 +108,7 @@ export async function updateLoop(ctx: TenantContext, loopId: number, input: Upda
   const { reason, mocReference, ...patch } = input;
   const before = row.get({ plain: true }) as Record<string, unknown>;
   const merged = { ...before, ...patch } as Record<string, number | null>;
-  if (!(Number(merged.pvHi) > Number(merged.pvLo))) throw new ValidationError("pvHi: PV range high must be above low.");
-  if (!(Number(merged.mvHi) > Number(merged.mvLo))) throw new ValidationError("mvHi: MV range high must be above low.");
-  if (Number(merged.estimationPeriodS) < Number(merged.telemetryPeriodS))
-    throw new ValidationError("estimationPeriodS: the estimation period cannot be shorter than the telemetry period.");
+  checkMergedConfig(merged, patch);
   if (patch.siteId !== undefined || patch.areaId !== undefined) await assertSiteAndArea(ctx, Number(merged.siteId), merged.areaId as number | null);
   const diff = diffOf(before, patch as Record<string, unknown>);
   if (Object.keys(diff).length === 0) return toDto(before);

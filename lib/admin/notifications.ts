@@ -1,21 +1,22 @@
 /** Notification rules (admin): who is e-mailed for which alarms of which operator area. */
 import { z } from "zod";
+import { text } from "@/lib/text-input";
 import { getDb } from "@/lib/db/sequelize";
 import { NotFoundError, ValidationError } from "@/lib/errors";
 import { findOwned } from "@/lib/tenancy";
 import { ALARM_PRIORITIES, type AlarmPriority, type TenantContext } from "@/lib/types";
-import { diffOf, logConfigChange } from "./config-log";
+import { diffOf, inConfigTransaction, logConfigChange } from "./config-log";
 
 export const ruleSchema = z
   .object({
-    name: z.string().trim().min(2, "Name the rule.").max(120),
+    name: text().trim().min(2, "Name the rule.").max(120),
     areaId: z.number().int().positive().nullable(),
-    recipients: z.array(z.string().trim().toLowerCase().email("Each recipient must be an e-mail address.")).min(1, "At least one recipient.").max(50),
+    recipients: z.array(text().trim().toLowerCase().email("Each recipient must be an e-mail address.")).min(1, "At least one recipient.").max(50),
     minPriority: z.enum(ALARM_PRIORITIES),
     escalationMinutes: z.number().int().min(1).max(24 * 60).nullable(),
     repeatMinutes: z.number().int().min(5).max(24 * 60).nullable(),
     enabled: z.boolean(),
-    reason: z.string().trim().min(3, "Give a change reason.").max(500),
+    reason: text().trim().min(3, "Give a change reason.").max(500),
   })
   .strict();
 
@@ -51,8 +52,11 @@ export async function createRule(ctx: TenantContext, input: z.infer<typeof ruleS
   const { NotificationRule } = getDb().models;
   await checkArea(ctx, input.areaId);
   const { reason, ...fields } = input;
-  const row = await NotificationRule.create({ ...fields, tenantId: ctx.tenantId });
-  await logConfigChange(ctx, { entity: "notification_rule", entityId: row.id, diff: diffOf({}, fields), reason });
+  const row = await inConfigTransaction(async (transaction) => {
+    const created = await NotificationRule.create({ ...fields, tenantId: ctx.tenantId }, { transaction });
+    await logConfigChange(ctx, { entity: "notification_rule", entityId: created.id, diff: diffOf({}, fields), reason }, transaction);
+    return created;
+  });
   return toDto(row.get({ plain: true }) as RuleRow);
 }
 
@@ -63,8 +67,12 @@ export async function updateRule(ctx: TenantContext, id: number, input: z.infer<
   await checkArea(ctx, input.areaId);
   const { reason, ...fields } = input;
   const diff = diffOf(toDto(row.get({ plain: true }) as RuleRow) as unknown as Record<string, unknown>, fields);
-  await row.update(fields);
-  if (Object.keys(diff).length) await logConfigChange(ctx, { entity: "notification_rule", entityId: id, diff, reason });
+  if (Object.keys(diff).length) {
+    await inConfigTransaction(async (transaction) => {
+      await row.update(fields, { transaction });
+      await logConfigChange(ctx, { entity: "notification_rule", entityId: id, diff, reason }, transaction);
+    });
+  }
   return toDto(row.get({ plain: true }) as RuleRow);
 }
 
@@ -72,6 +80,8 @@ export async function deleteRule(ctx: TenantContext, id: number, reason: string)
   const { NotificationRule } = getDb().models;
   const row = await findOwned(NotificationRule, ctx, id);
   if (!row) throw new NotFoundError("Notification rule");
-  await row.destroy();
-  await logConfigChange(ctx, { entity: "notification_rule", entityId: id, diff: { name: { from: row.name, to: null } }, reason });
+  await inConfigTransaction(async (transaction) => {
+    await row.destroy({ transaction });
+    await logConfigChange(ctx, { entity: "notification_rule", entityId: id, diff: { name: { from: row.name, to: null } }, reason }, transaction);
+  });
 }

@@ -1,5 +1,6 @@
 /** Small helpers shared by the admin route handlers. */
 import { z } from "zod";
+import { text } from "@/lib/text-input";
 import { ValidationError } from "@/lib/errors";
 
 /** A positive integer id from a dynamic route segment (422 otherwise). */
@@ -9,4 +10,4 @@ export function idParam(raw: string | undefined, what: string): number {
   return n;
 }
 
-export const reasonSchema = z.object({ reason: z.string().trim().min(3, "Give a reason (at least 3 characters).").max(500) }).strict();
+export const reasonSchema = z.object({ reason: text().trim().min(3, "Give a reason (at least 3 characters).").max(500) }).strict();

@@ -1,18 +1,18 @@
 /** Sites and their operator areas (admin creates; every role reads them for forms and filters). */
 import { UniqueConstraintError } from "sequelize";
 import { z } from "zod";
+import { text } from "@/lib/text-input";
 import { getDb } from "@/lib/db/sequelize";
 import { ConflictError, NotFoundError, ValidationError } from "@/lib/errors";
 import { slugify } from "@/lib/slug";
 import { findOwned } from "@/lib/tenancy";
 import type { TenantContext } from "@/lib/types";
-import { logConfigChange } from "./config-log";
+import { inConfigTransaction, logConfigChange } from "./config-log";
 
 export const siteSchema = z
   .object({
-    name: z.string().trim().min(2, "Name the site.").max(120),
-    timeZone: z
-      .string()
+    name: text().trim().min(2, "Name the site.").max(120),
+    timeZone: text()
       .trim()
       .refine((tz) => {
         try {
@@ -22,10 +22,10 @@ export const siteSchema = z
           return false;
         }
       }, "Use an IANA time zone such as Europe/Berlin."),
-    reason: z.string().trim().max(500).optional(),
+    reason: text().trim().max(500).optional(),
   })
   .strict();
-export const areaSchema = z.object({ name: z.string().trim().min(2, "Name the area.").max(120), reason: z.string().trim().max(500).optional() }).strict();
+export const areaSchema = z.object({ name: text().trim().min(2, "Name the area.").max(120), reason: text().trim().max(500).optional() }).strict();
 
 export interface SiteDto {
   id: number;
@@ -53,8 +53,11 @@ export async function createSite(ctx: TenantContext, input: z.infer<typeof siteS
   const slug = slugify(input.name);
   if (!slug) throw new ValidationError("name: the name must contain a letter or a digit.");
   try {
-    const s = await Site.create({ tenantId: ctx.tenantId, slug, name: input.name, timeZone: input.timeZone });
-    await logConfigChange(ctx, { entity: "site", entityId: s.id, diff: { name: { from: null, to: input.name } }, reason: input.reason ?? null });
+    const s = await inConfigTransaction(async (transaction) => {
+      const created = await Site.create({ tenantId: ctx.tenantId, slug, name: input.name, timeZone: input.timeZone }, { transaction });
+      await logConfigChange(ctx, { entity: "site", entityId: created.id, diff: { name: { from: null, to: input.name } }, reason: input.reason ?? null }, transaction);
+      return created;
+    });
     return { id: s.id, slug, name: s.name, timeZone: s.timeZone, areas: [] };
   } catch (e) {
     if (e instanceof UniqueConstraintError) throw new ConflictError(`A site named like "${input.name}" already exists.`);
@@ -69,8 +72,11 @@ export async function createArea(ctx: TenantContext, siteId: number, input: z.in
   const slug = slugify(input.name);
   if (!slug) throw new ValidationError("name: the name must contain a letter or a digit.");
   try {
-    const a = await Area.create({ tenantId: ctx.tenantId, siteId, slug, name: input.name });
-    await logConfigChange(ctx, { entity: "area", entityId: a.id, diff: { name: { from: null, to: input.name } }, reason: input.reason ?? null });
+    const a = await inConfigTransaction(async (transaction) => {
+      const created = await Area.create({ tenantId: ctx.tenantId, siteId, slug, name: input.name }, { transaction });
+      await logConfigChange(ctx, { entity: "area", entityId: created.id, diff: { name: { from: null, to: input.name } }, reason: input.reason ?? null }, transaction);
+      return created;
+    });
     return { id: a.id, slug, name: a.name };
   } catch (e) {
     if (e instanceof UniqueConstraintError) throw new ConflictError(`An area named like "${input.name}" already exists at this site.`);

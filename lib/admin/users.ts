@@ -9,27 +9,28 @@
 import { createHash, randomBytes } from "node:crypto";
 import bcrypt from "bcryptjs";
 import { z } from "zod";
+import { text } from "@/lib/text-input";
 import { publicOrigin } from "@/lib/config";
 import { getDb } from "@/lib/db/sequelize";
 import { ConflictError, ForbiddenError, NotFoundError, ValidationError } from "@/lib/errors";
 import { getServerContext, notifyUserChanged } from "@/lib/server-context";
 import { ROLES, type Role, type TenantContext } from "@/lib/types";
 import type { MailService } from "@/server/mail";
-import { logConfigChange } from "./config-log";
+import { inConfigTransaction, logConfigChange } from "./config-log";
 
 export const INVITATION_TTL_MS = 72 * 3600_000;
 
 export const inviteSchema = z
   .object({
-    email: z.string().trim().toLowerCase().email("Enter a valid e-mail address."),
+    email: text().trim().toLowerCase().email("Enter a valid e-mail address."),
     role: z.enum(ROLES),
-    reason: z.string().trim().max(500).optional(),
+    reason: text().trim().max(500).optional(),
   })
   .strict();
-export const roleChangeSchema = z.object({ role: z.enum(ROLES), reason: z.string().trim().min(3, "Give a reason.").max(500) }).strict();
+export const roleChangeSchema = z.object({ role: z.enum(ROLES), reason: text().trim().min(3, "Give a reason.").max(500) }).strict();
 export const acceptSchema = z
   .object({
-    name: z.string().trim().min(1, "Your name is required.").max(120),
+    name: text().trim().min(1, "Your name is required.").max(120),
     password: z.string().min(12, "At least 12 characters.").max(200),
   })
   .strict();
@@ -84,15 +85,14 @@ export async function inviteUser(ctx: TenantContext, input: z.infer<typeof invit
     if (m) throw new ConflictError(`${input.email} is already a member of this tenant.`);
   }
   const token = randomBytes(32).toString("base64url");
-  const inv = await Invitation.create({
-    tenantId: ctx.tenantId,
-    email: input.email,
-    role: input.role,
-    tokenHash: hashToken(token),
-    invitedBy: ctx.userId,
-    expiresAt: new Date(now + INVITATION_TTL_MS),
+  const inv = await inConfigTransaction(async (transaction) => {
+    const created = await Invitation.create(
+      { tenantId: ctx.tenantId, email: input.email, role: input.role, tokenHash: hashToken(token), invitedBy: ctx.userId, expiresAt: new Date(now + INVITATION_TTL_MS) },
+      { transaction },
+    );
+    await logConfigChange(ctx, { entity: "invitation", entityId: created.id, diff: { email: { from: null, to: input.email }, role: { from: null, to: input.role } }, reason: input.reason ?? null }, transaction);
+    return created;
   });
-  await logConfigChange(ctx, { entity: "invitation", entityId: inv.id, diff: { email: { from: null, to: input.email }, role: { from: null, to: input.role } }, reason: input.reason ?? null });
   const link = `${publicOrigin()}/invite/${token}`;
   const srv = getServerContext();
   const mail = (srv?.services.get("mail") as MailService | undefined) ?? null;
@@ -130,8 +130,10 @@ export async function changeRole(ctx: TenantContext, membershipId: number, input
   if (m.userId === ctx.userId && input.role !== "admin") throw new ValidationError("You cannot lower your own role; ask another admin.");
   const from = m.role;
   if (from !== input.role) {
-    await m.update({ role: input.role });
-    await logConfigChange(ctx, { entity: "membership", entityId: m.id, diff: { role: { from, to: input.role } }, reason: input.reason });
+    await inConfigTransaction(async (transaction) => {
+      await m.update({ role: input.role }, { transaction });
+      await logConfigChange(ctx, { entity: "membership", entityId: m.id, diff: { role: { from, to: input.role } }, reason: input.reason }, transaction);
+    });
     notifyUserChanged(m.userId);
   }
   const u = (m as unknown as { user: InstanceType<typeof User> }).user;
@@ -143,8 +145,10 @@ export async function removeMember(ctx: TenantContext, membershipId: number, rea
   const m = await Membership.findOne({ where: { id: membershipId, tenantId: ctx.tenantId } });
   if (!m) throw new NotFoundError("Membership");
   if (m.userId === ctx.userId) throw new ValidationError("You cannot remove yourself.");
-  await m.destroy();
-  await logConfigChange(ctx, { entity: "membership", entityId: membershipId, diff: { role: { from: m.role, to: null } }, reason });
+  await inConfigTransaction(async (transaction) => {
+    await m.destroy({ transaction });
+    await logConfigChange(ctx, { entity: "membership", entityId: membershipId, diff: { role: { from: m.role, to: null } }, reason }, transaction);
+  });
   notifyUserChanged(m.userId);
 }
 

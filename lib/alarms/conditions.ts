@@ -164,6 +164,37 @@ export interface ConditionMemory {
 
 export const newConditionMemory = (): ConditionMemory => ({ filters: {} });
 
+/**
+ * True when an update carries an estimate the alarms may act on: a trusted tracker state and a
+ * closed-loop estimate (poles or at least a spectral radius). A tracker just restored from a
+ * checkpoint may say `tracking` before it has any poles: that is no evidence either way.
+ */
+export function isTrustedEstimate(s: LoopStateDto): boolean {
+  if (NON_TRACKING.has(s.trackerState)) return false;
+  return s.modelPoles.length > 0 || s.dataPoles.length > 0 || s.spectralRadius != null;
+}
+
+/**
+ * The filter memory of a loop whose alarms were restored (from MariaDB and the journal) rather
+ * than evaluated in this process: every level behind an active alarm starts "on", so the alarm
+ * returns to normal only after evidence beyond the deadband for the whole off-delay (ISA-18.2:
+ * return to normal on evidence), and an alarm still in effect is not re-announced.
+ */
+export function memoryForActive(active: readonly { condition: AlarmCondition; priority: AlarmPriority }[]): ConditionMemory {
+  const on = (): LevelFilter => ({ on: true, pendingSince: null, clearingSince: null });
+  const filters: Record<string, LevelFilter> = {};
+  for (const a of active) {
+    if (a.condition === "unstable") filters.unstable = on();
+    else if (a.condition === "sluggish") filters.sluggish = on();
+    else if (a.condition === "rim-forecast") filters.forecast = on();
+    else {
+      const levels = a.priority === "high" || a.priority === "urgent" ? ["low", "high"] : ["low"];
+      for (const lv of levels) for (const m of ["decay", "zeta", "radius"]) filters[`margin.${m}.${lv}`] = on();
+    }
+  }
+  return { filters };
+}
+
 export interface ConditionVerdict {
   active: boolean;
   priority: AlarmPriority;

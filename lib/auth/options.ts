@@ -10,6 +10,7 @@ import type { NextAuthOptions, User } from "next-auth";
 import CredentialsProvider from "next-auth/providers/credentials";
 import { z } from "zod";
 import { getConfig } from "@/lib/config";
+import { isDatabaseUnavailable } from "@/lib/db/unavailable";
 import { TooManyRequestsError } from "@/lib/errors";
 import { revokeSession } from "@/lib/server-context";
 import { findUserByEmail, listMemberships, recordRevokedSession, touchSignIn } from "./store";
@@ -20,6 +21,9 @@ export const CLIENT_IP_HEADER = "x-rimguard-client-ip";
 
 export const SIGNIN_FAILED = "The e-mail or password is not right.";
 export const NO_MEMBERSHIP = "This account has no access to any tenant yet. Ask an administrator.";
+export const SIGNIN_DATABASE_UNAVAILABLE =
+  "Signing in is not possible right now: the database is unavailable. If you are already signed in elsewhere, that session can still see and acknowledge alarms.";
+export const SIGNIN_SERVER_ERROR = "Signing in failed because of a server error. Try again in a moment.";
 
 const credentialsSchema = z.object({
   email: z.string().trim().toLowerCase().email().max(254),
@@ -94,9 +98,13 @@ export function getAuthOptions(): NextAuthOptions {
           try {
             return await authorizeCredentials(credentials, ip);
           } catch (err) {
-            // next-auth shows a thrown error's message on the sign-in page (?error=...).
+            // next-auth shows a thrown error's message on the sign-in page (?error=...): only our
+            // own words go there, never a driver's (which names the database host and port).
             if (err instanceof TooManyRequestsError) throw new Error(err.message);
-            throw err;
+            if (err instanceof Error && err.message === NO_MEMBERSHIP) throw err;
+            if (isDatabaseUnavailable(err)) throw new Error(SIGNIN_DATABASE_UNAVAILABLE);
+            console.error("[auth] sign-in failed", err);
+            throw new Error(SIGNIN_SERVER_ERROR);
           }
         },
       }),

@@ -7,7 +7,9 @@
 import { randomUUID } from "node:crypto";
 import { literal } from "sequelize";
 import { z } from "zod";
+import { text } from "@/lib/text-input";
 import { diffOf, logConfigChange } from "@/lib/admin/config-log";
+import { LIMITS } from "@/lib/admin/loop-schema";
 import { getDb } from "@/lib/db/sequelize";
 import { ConflictError, HttpError, NotFoundError, ValidationError } from "@/lib/errors";
 import { getServerContext } from "@/lib/server-context";
@@ -47,8 +49,8 @@ export const uploadOptionsSchema = z.object({
 export type UploadOptions = z.input<typeof uploadOptionsSchema>;
 
 export const applySchema = z.object({
-  reason: z.string().trim().min(3, "Give a reason (at least 3 characters).").max(2000),
-  mocReference: z.string().trim().max(100).optional().transform((v) => (v ? v : undefined)),
+  reason: text().trim().min(3, "Give a reason (at least 3 characters).").max(2000),
+  mocReference: text().trim().max(100).optional().transform((v) => (v ? v : undefined)),
   apply: z.array(z.enum(["estimationPeriod", "modelStructure"])).min(1, "Choose what to apply.").max(2),
 });
 export type ApplyInput = z.input<typeof applySchema>;
@@ -259,6 +261,7 @@ export async function applyStepTestProposal(
   const patch: Record<string, number> = {};
   if (body.apply.includes("estimationPeriod")) {
     if (p.estimationPeriodS < loop.telemetryPeriodS) throw new ValidationError("The proposed estimation period is shorter than the telemetry period.");
+    if (!(p.estimationPeriodS <= LIMITS.periodS[1])) throw new ValidationError(`The proposed estimation period is longer than ${LIMITS.periodS[1]} s, the longest a loop accepts.`);
     patch.estimationPeriodS = p.estimationPeriodS;
     patch.estimationProposedS = p.estimationPeriodS;
   }

@@ -5,9 +5,21 @@
  * the queue waits and is retried; nothing is dropped and the order is kept.
  */
 import { QueryTypes, type Sequelize, type Transaction } from "sequelize";
+import { roleAtLeast, ROLES, type Role } from "@/lib/types";
 import type { JournalEntry } from "./journal";
 
 export const journalId = (seq: number) => String(seq).padStart(16, "0");
+
+/** `data.authorisation` of a person's action accepted from the last-known membership (database unreachable). */
+export const LAST_KNOWN_MEMBERSHIP = "last-known-membership";
+export interface LastKnownAuthorisation {
+  authorisation: typeof LAST_KNOWN_MEMBERSHIP;
+  membershipAsOf: string;
+  role: Role;
+  requiredRole: Role;
+  /** Added when written: the membership as the database says then ("revoked" = removed, user disabled or role too low now). */
+  membershipOnReplay?: "confirmed" | "revoked";
+}
 
 const d = (ms: number | null) => (ms == null ? null : new Date(ms));
 const clip = (s: string | null, n: number) => (s == null ? null : s.length > n ? s.slice(0, n - 1) + "…" : s);
@@ -102,6 +114,28 @@ export class AlarmDbWriter {
     this.opts.onDrained?.();
   }
 
+  /**
+   * An action accepted during an outage on the last-known membership: is the person still a
+   * member with the role it needed? If not, the event is flagged (and logged) for review; the
+   * action itself stands, as it did for the alarm and the people who saw it.
+   */
+  private async recheckMembership(e: JournalEntry, q: (sql: string, r: unknown[], t?: QueryTypes) => Promise<unknown>): Promise<Record<string, unknown>> {
+    const auth = e.data as unknown as LastKnownAuthorisation;
+    const rows = (await q(
+      "SELECT m.role, u.disabled FROM memberships m JOIN users u ON u.id = m.user_id WHERE m.user_id = ? AND m.tenant_id = ?",
+      [e.userId, e.tenantId],
+      QueryTypes.SELECT,
+    )) as { role: string; disabled: number | boolean }[];
+    const row = rows[0];
+    const role = row && (ROLES as readonly string[]).includes(row.role) ? (row.role as Role) : null;
+    const ok = row != null && !Number(row.disabled) && role != null && roleAtLeast(role, auth.requiredRole);
+    if (!ok)
+      this.opts.log?.(
+        `[alarms] ${e.kind} of alarm ${e.alarmId} by user ${e.userId} was accepted during a database outage on the membership known at ${auth.membershipAsOf}, which has been revoked since: flagged for review`,
+      );
+    return { ...auth, membershipOnReplay: ok ? "confirmed" : "revoked" };
+  }
+
   private async write(e: JournalEntry, transaction: Transaction): Promise<void> {
     const q = (sql: string, replacements: unknown[], type: QueryTypes = QueryTypes.RAW) =>
       this.sequelize.query(sql, { replacements, transaction, type });
@@ -109,9 +143,10 @@ export class AlarmDbWriter {
     const seen = (await q("SELECT id FROM alarm_events WHERE journal_id = ?", [jid], QueryTypes.SELECT)) as unknown[];
     if (seen.length > 0) return;
     const p = e.point;
+    const data = e.data?.authorisation === LAST_KNOWN_MEMBERSHIP ? await this.recheckMembership(e, q) : e.data;
     await q(
       "INSERT INTO alarm_events (tenant_id, alarm_id, loop_id, journal_id, at, kind, from_state, to_state, user_id, comment, data) VALUES (?,?,?,?,?,?,?,?,?,?,?)",
-      [e.tenantId, e.alarmId, e.loopId, jid, d(e.at), e.kind, e.from, e.to, e.userId, e.comment, JSON.stringify({ ...(e.data ?? {}), announce: e.announce, priority: p.priority, active: p.active, value: p.value, level: p.level, message: p.message })],
+      [e.tenantId, e.alarmId, e.loopId, jid, d(e.at), e.kind, e.from, e.to, e.userId, e.comment, JSON.stringify({ ...(data ?? {}), announce: e.announce, priority: p.priority, active: p.active, value: p.value, level: p.level, message: p.message })],
     );
     const ack = e.kind === "acknowledge";
     await q(

@@ -16,7 +16,8 @@ import {
   CONDITION_PRIORITY,
   dominantOscillatingMode,
   evaluateConditions,
-  newConditionMemory,
+  isTrustedEstimate,
+  memoryForActive,
   NON_TRACKING,
   type ConditionMemory,
 } from "@/lib/alarms/conditions";
@@ -44,7 +45,7 @@ import {
   type TenantContext,
 } from "@/lib/types";
 import type { ServerContext, Service, ServiceHealth } from "@/server/context";
-import { AlarmDbWriter, journalId } from "./db-writer";
+import { AlarmDbWriter, journalId, LAST_KNOWN_MEMBERSHIP, type LastKnownAuthorisation } from "./db-writer";
 import { AlarmJournal, type JournalEntry, type PointSnapshot } from "./journal";
 import { AlarmNotifier, priorityOfSubject, type NotificationRuleRow, type SentRow } from "./notifier";
 import type { MailService } from "@/server/mail";
@@ -108,6 +109,8 @@ export class AlarmService implements Service {
   private byLoop = new Map<number, Map<AlarmCondition, number>>();
   private loops = new Map<number, LoopFacts>();
   private memory = new Map<number, ConditionMemory>();
+  /** Loops whose tracker has given a trusted estimate since this service started (see onTrackerUpdate). */
+  private evidenced = new Set<number>();
   private trends = new Map<number, MarginTrend>();
   private lastState = new Map<number, LoopStateDto>();
   private policyLayers = { tenant: new Map<number, PolicyOverride>(), site: new Map<number, PolicyOverride>(), loop: new Map<number, PolicyOverride>() };
@@ -383,8 +386,16 @@ export class AlarmService implements Service {
     const now = this.ctx.clock.now();
     const policy = this.policyFor(s.loopId);
     const forecastMinutes = this.forecast(s, policy, now);
+    // After a start (a restart, a crash) the alarms are what MariaDB and the journal say, not what
+    // this process has seen: until the loop's tracker gives a trusted estimate again, its alarms
+    // keep their state (no clear, no suppression, no re-announce; shown values are not updated),
+    // and the filters of active alarms start "on" so that evidence must last the off-delay.
+    if (!this.evidenced.has(s.loopId)) {
+      if (!isTrustedEstimate(s)) return;
+      this.evidenced.add(s.loopId);
+    }
     const { memory, verdicts } = evaluateConditions(
-      this.memory.get(s.loopId) ?? newConditionMemory(),
+      this.memory.get(s.loopId) ?? this.restoredMemory(ids),
       s,
       policy,
       { baselineTimeConstantS: loop.baselineTimeConstantS, forecastMinutes },
@@ -412,6 +423,15 @@ export class AlarmService implements Service {
         if (r) this.commit(rec, a, r, null, null);
       }
     }
+  }
+
+  private restoredMemory(ids: Map<AlarmCondition, number>): ConditionMemory {
+    const active: { condition: AlarmCondition; priority: AlarmPriority }[] = [];
+    for (const [condition, id] of ids) {
+      const p = this.points.get(id)?.point;
+      if (p?.active) active.push({ condition, priority: p.priority });
+    }
+    return memoryForActive(active);
   }
 
   /** Feed the loop's margin trend and forecast when it reaches the margin level (minutes). */
@@ -511,7 +531,13 @@ export class AlarmService implements Service {
       throw err;
     }
     if (!r) return this.toDto(rec);
-    return this.commit(rec, action, r, user.userId, comment);
+    // Authorised from the last-known membership (database unreachable): say so in the journal;
+    // the writer checks the membership again when the database is back (db-writer.ts).
+    const data: LastKnownAuthorisation | null =
+      user.membershipAsOf == null
+        ? null
+        : { authorisation: LAST_KNOWN_MEMBERSHIP, membershipAsOf: new Date(user.membershipAsOf).toISOString(), role: user.role, requiredRole: min };
+    return this.commit(rec, action, r, user.userId, comment, data as Record<string, unknown> | null);
   }
 
   acknowledge(user: TenantContext, alarmId: number, comment: string | null): AlarmDto {

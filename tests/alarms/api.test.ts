@@ -203,4 +203,23 @@ describe("alarm API", () => {
     expect(k.totalAlarms).toBeGreaterThanOrEqual(1);
     expect((await kpis.GET(get(`/api/alarms/kpis?from=${to}&to=${from}`))).status).toBe(422);
   });
+
+  it("a comment or reason that is not well-formed Unicode (a lone surrogate) is 422 before it reaches the journal", async () => {
+    as("engineer");
+    const alarm = svc.list(fx.tenantId, {})[0]!;
+    const raw = (path: string, json: string) => new Request(url(path), { method: "POST", headers: { "content-type": "application/json" }, body: json });
+    const before = svc.get(fx.tenantId, alarm.id);
+    expect(before).not.toBeNull();
+    for (const [route, json] of [
+      [ack, '{"comment":"seen \\ud800"}'],
+      [shelve, '{"minutes":30,"reason":"work \\udc00"}'],
+      [oos, '{"reason":"\\ud83d broken transmitter"}'],
+    ] as const) {
+      const res = await route.POST(raw(`/api/alarms/${alarm.id}/x`, json), p(alarm.id));
+      expect(res.status).toBe(422);
+      expect(((await res.json()) as { error: string }).error).toMatch(/well-formed Unicode/);
+    }
+    expect(svc.get(fx.tenantId, alarm.id)).toEqual(before);
+  });
 });
+

@@ -39,6 +39,8 @@ export interface TestServerOptions {
   seed?: boolean;
   /** Service names to leave out (default: simulators). */
   skip?: StartServerOptions["skip"];
+  /** The port the server connects to instead of the database's own (e.g. a proxy that can cut it off). */
+  dbPort?: (databasePort: number) => Promise<number>;
 }
 
 /** Run `next build` once when no production build exists (or it is stale and RG_TEST_REBUILD=1). */
@@ -109,7 +111,7 @@ export async function startTestServer(opts: TestServerOptions = {}): Promise<Tes
   Object.assign(process.env, {
     NODE_ENV: "production",
     DB_HOST: "127.0.0.1",
-    DB_PORT: String(db.server.port),
+    DB_PORT: String(opts.dbPort ? await opts.dbPort(db.server.port) : db.server.port),
     DB_NAME: db.name,
     DB_USER: user,
     DB_PASSWORD: password,

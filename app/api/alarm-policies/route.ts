@@ -7,6 +7,7 @@
  */
 import { NextResponse } from "next/server";
 import { z } from "zod";
+import { text } from "@/lib/text-input";
 import { alarmApi } from "@/lib/alarms/access";
 import { POLICY_SCOPES } from "@/lib/alarms/policy";
 import { requireContext } from "@/lib/auth/guard";
@@ -18,8 +19,8 @@ const query = z.object({ scope: z.enum(POLICY_SCOPES), id: z.coerce.number().int
 const body = z
   .object({
     settings: z.record(z.string(), z.unknown()),
-    reason: z.string().trim().min(1, "a reason for the change is required").max(2000),
-    mocReference: z.string().trim().max(100).nullish(),
+    reason: text().trim().min(1, "a reason for the change is required").max(2000),
+    mocReference: text().trim().max(100).nullish(),
   })
   .strict();
 

@@ -1,13 +1,14 @@
 /** POST /api/alarms/[alarmId]/acknowledge { comment } — operator or higher; a comment is required for an urgent alarm. */
 import { NextResponse } from "next/server";
 import { z } from "zod";
+import { text } from "@/lib/text-input";
 import { alarmApi, parseId } from "@/lib/alarms/access";
 import { requireContext } from "@/lib/auth/guard";
 import { handle, parseBody } from "@/lib/http";
 
 export const dynamic = "force-dynamic";
 
-const body = z.object({ comment: z.string().max(1000).nullish() });
+const body = z.object({ comment: text().max(1000).nullish() });
 
 export const POST = handle(async (req: Request, { params }: { params: Promise<{ alarmId: string }> }) => {
   const ctx = await requireContext("operator");

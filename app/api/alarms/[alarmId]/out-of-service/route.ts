@@ -1,13 +1,14 @@
 /** POST /api/alarms/[alarmId]/out-of-service { reason } — engineer or higher. */
 import { NextResponse } from "next/server";
 import { z } from "zod";
+import { text } from "@/lib/text-input";
 import { alarmApi, parseId } from "@/lib/alarms/access";
 import { requireContext } from "@/lib/auth/guard";
 import { handle, parseBody } from "@/lib/http";
 
 export const dynamic = "force-dynamic";
 
-const body = z.object({ reason: z.string().trim().min(1, "a reason is required").max(1000) });
+const body = z.object({ reason: text().trim().min(1, "a reason is required").max(1000) });
 
 export const POST = handle(async (req: Request, { params }: { params: Promise<{ alarmId: string }> }) => {
   const ctx = await requireContext("engineer");
