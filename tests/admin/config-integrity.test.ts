@@ -4,6 +4,7 @@
  * physically meaningful. Route handlers run against a real MariaDB with the session guard replaced
  * by a stand-in returning a chosen admin/engineer context (the guard has its own tests).
  */
+import { publicOrigin } from "@/lib/config";
 import { QueryTypes } from "sequelize";
 import { afterAll, beforeAll, describe, expect, it, vi } from "vitest";
 import type { TenantContext } from "@/lib/types";
@@ -37,26 +38,60 @@ let admin: TenantContext;
 let ruleId: number;
 
 const req = (method: string, body: unknown) =>
-  new Request("http://127.0.0.1/api/x", { method, headers: { "content-type": "application/json" }, body: typeof body === "string" ? body : JSON.stringify(body) });
+  new Request("http://127.0.0.1/api/x", {
+    method,
+    headers: { "content-type": "application/json", origin: publicOrigin() },
+    body: typeof body === "string" ? body : JSON.stringify(body),
+  });
 const ruleParams = (id: number) => ({ params: Promise.resolve({ ruleId: String(id) }) });
 const loopParams = (id: number) => ({ params: Promise.resolve({ loopId: String(id) }) });
 
 /** Every configuration table plus the change log, as plain rows: "changes nothing" means equal snapshots. */
-const TABLES = ["notification_rules", "sites", "areas", "device_credentials", "invitations", "memberships", "loops", "alarm_policies", "config_changes"];
+const TABLES = [
+  "notification_rules",
+  "sites",
+  "areas",
+  "device_credentials",
+  "invitations",
+  "memberships",
+  "loops",
+  "alarm_policies",
+  "config_changes",
+];
 async function snapshot(): Promise<Record<string, unknown[]>> {
   const out: Record<string, unknown[]> = {};
-  for (const t of TABLES) out[t] = await db.sequelize.query(`SELECT * FROM \`${t}\` ORDER BY id`, { type: QueryTypes.SELECT });
+  for (const t of TABLES)
+    out[t] = await db.sequelize.query(`SELECT * FROM \`${t}\` ORDER BY id`, {
+      type: QueryTypes.SELECT,
+    });
   return out;
 }
-const baseRule = { name: "Night shift utilities", areaId: null, recipients: ["shift.lead@brackwater.example"], minPriority: "high", escalationMinutes: null, repeatMinutes: null, enabled: true };
+const baseRule = {
+  name: "Night shift utilities",
+  areaId: null,
+  recipients: ["shift.lead@brackwater.example"],
+  minPriority: "high",
+  escalationMinutes: null,
+  repeatMinutes: null,
+  enabled: true,
+};
 
 beforeAll(async () => {
   db = await createTestDatabase("cfgint", { asDefault: true });
   fx = await createAuthFixture(db.models);
   const u = fx.a.users.admin;
-  admin = { userId: u.id, email: u.email, name: "Admin", tenantId: fx.a.id, tenantSlug: fx.a.slug, tenantName: fx.a.name, role: "admin" };
+  admin = {
+    userId: u.id,
+    email: u.email,
+    name: "Admin",
+    tenantId: fx.a.id,
+    tenantSlug: fx.a.slug,
+    tenantName: fx.a.name,
+    role: "admin",
+  };
   current = admin;
-  ruleId = (await createRule(admin, { ...baseRule, minPriority: "high", reason: "initial rule" })).id;
+  ruleId = (await createRule(admin, { ...baseRule, minPriority: "high", reason: "initial rule" }))
+    .id;
 });
 afterAll(async () => {
   await db?.drop();
@@ -77,49 +112,140 @@ describe("text input: well-formed Unicode, NFC", () => {
     const before = await snapshot();
     const lowInReason = `{"name":"Night shift utilities","areaId":null,"recipients":["shift.lead@brackwater.example"],"minPriority":"low","escalationMinutes":null,"repeatMinutes":null,"enabled":true,"reason":"why \\udc00 not"}`;
     expect((await rule.PUT(req("PUT", lowInReason), ruleParams(ruleId))).status).toBe(422);
-    expect((await sites.POST(req("POST", `{"name":"Site \\udbff","timeZone":"UTC"}`))).status).toBe(422);
-    expect((await loop.PATCH(req("PATCH", `{"description":"x\\ud83d","reason":"documenting"}`), loopParams(fx.a.loopId))).status).toBe(422);
+    expect((await sites.POST(req("POST", `{"name":"Site \\udbff","timeZone":"UTC"}`))).status).toBe(
+      422,
+    );
+    expect(
+      (
+        await loop.PATCH(
+          req("PATCH", `{"description":"x\\ud83d","reason":"documenting"}`),
+          loopParams(fx.a.loopId),
+        )
+      ).status,
+    ).toBe(422);
     expect(await snapshot()).toEqual(before);
   });
 
   it("a well-formed pair (an emoji) is accepted and text is stored NFC-normalised", async () => {
     const decomposed = "Cafe\u0301 de\u0301part \u{1F525}"; // e + combining acute (NFD)
-    const res = await rules.POST(req("POST", { ...baseRule, name: decomposed, reason: "new rule" }));
+    const res = await rules.POST(
+      req("POST", { ...baseRule, name: decomposed, reason: "new rule" }),
+    );
     expect(res.status).toBe(201);
     const { rule: created } = (await res.json()) as { rule: { id: number; name: string } };
     expect(created.name).toBe("Caf\u00e9 d\u00e9part \u{1F525}");
-    const [row] = await db.sequelize.query("SELECT name FROM notification_rules WHERE id = ?", { replacements: [created.id], type: QueryTypes.SELECT });
+    const [row] = await db.sequelize.query("SELECT name FROM notification_rules WHERE id = ?", {
+      replacements: [created.id],
+      type: QueryTypes.SELECT,
+    });
     expect((row as { name: string }).name).toBe(decomposed.normalize("NFC"));
   });
 });
 
 describe("a change and its change-log row commit together or not at all", () => {
   // A trigger makes every insert into config_changes fail, as a log write failing for any reason would.
-  const arm = () => db.sequelize.query("CREATE TRIGGER cfgint_fail_log BEFORE INSERT ON config_changes FOR EACH ROW SIGNAL SQLSTATE '45000' SET MESSAGE_TEXT = 'forced change-log failure'");
+  const arm = () =>
+    db.sequelize.query(
+      "CREATE TRIGGER cfgint_fail_log BEFORE INSERT ON config_changes FOR EACH ROW SIGNAL SQLSTATE '45000' SET MESSAGE_TEXT = 'forced change-log failure'",
+    );
   const disarm = () => db.sequelize.query("DROP TRIGGER IF EXISTS cfgint_fail_log");
 
   const kinds: { kind: string; run: () => Promise<unknown> }[] = [
-    { kind: "notification rule create", run: () => createRule(admin, { ...baseRule, minPriority: "high", name: "Another rule", reason: "added" }) },
-    { kind: "notification rule update", run: () => updateRule(admin, ruleId, { ...baseRule, minPriority: "high", recipients: ["elsewhere@outside.example"], reason: "moved" }) },
+    {
+      kind: "notification rule create",
+      run: () =>
+        createRule(admin, {
+          ...baseRule,
+          minPriority: "high",
+          name: "Another rule",
+          reason: "added",
+        }),
+    },
+    {
+      kind: "notification rule update",
+      run: () =>
+        updateRule(admin, ruleId, {
+          ...baseRule,
+          minPriority: "high",
+          recipients: ["elsewhere@outside.example"],
+          reason: "moved",
+        }),
+    },
     { kind: "notification rule delete", run: () => deleteRule(admin, ruleId, "removed") },
-    { kind: "site create", run: () => createSite(admin, { name: "South works", timeZone: "UTC", reason: "new site" }) },
-    { kind: "area create", run: () => createArea(admin, fx.a.siteId, { name: "Boilers", reason: "new area" }) },
-    { kind: "device create", run: () => createDevice(admin, { name: "Gateway 7", siteId: fx.a.siteId, reason: "new gateway" }) },
+    {
+      kind: "site create",
+      run: () => createSite(admin, { name: "South works", timeZone: "UTC", reason: "new site" }),
+    },
+    {
+      kind: "area create",
+      run: () => createArea(admin, fx.a.siteId, { name: "Boilers", reason: "new area" }),
+    },
+    {
+      kind: "device create",
+      run: () =>
+        createDevice(admin, { name: "Gateway 7", siteId: fx.a.siteId, reason: "new gateway" }),
+    },
     { kind: "device revoke", run: async () => revokeDevice(admin, await deviceId(), "retired") },
-    { kind: "user invite", run: () => inviteUser(admin, { email: "new.hire@brackwater.example", role: "operator", reason: "new hire" }) },
-    { kind: "membership role change", run: async () => changeRole(admin, await membershipId("viewer"), { role: "operator", reason: "promoted" }) },
-    { kind: "membership removal", run: async () => removeMember(admin, await membershipId("operator"), "left the company") },
-    { kind: "loop create", run: () => createLoop({ ...admin, role: "engineer" }, { ...NEW_LOOP_DEFAULTS, siteId: fx.a.siteId, tag: "TIC-900", reason: "new loop" }) },
-    { kind: "loop update", run: () => updateLoop({ ...admin, role: "engineer" }, fx.a.loopId, { gainValue: 1.7, reason: "retuned" }) },
-    { kind: "alarm policy", run: () => writePolicy(db.sequelize, admin, "tenant", fx.a.id, { decayRatio: { low: 0.3, high: 0.4 } }, "tighter", null, []) },
+    {
+      kind: "user invite",
+      run: () =>
+        inviteUser(admin, {
+          email: "new.hire@brackwater.example",
+          role: "operator",
+          reason: "new hire",
+        }),
+    },
+    {
+      kind: "membership role change",
+      run: async () =>
+        changeRole(admin, await membershipId("viewer"), { role: "operator", reason: "promoted" }),
+    },
+    {
+      kind: "membership removal",
+      run: async () => removeMember(admin, await membershipId("operator"), "left the company"),
+    },
+    {
+      kind: "loop create",
+      run: () =>
+        createLoop(
+          { ...admin, role: "engineer" },
+          { ...NEW_LOOP_DEFAULTS, siteId: fx.a.siteId, tag: "TIC-900", reason: "new loop" },
+        ),
+    },
+    {
+      kind: "loop update",
+      run: () =>
+        updateLoop({ ...admin, role: "engineer" }, fx.a.loopId, {
+          gainValue: 1.7,
+          reason: "retuned",
+        }),
+    },
+    {
+      kind: "alarm policy",
+      run: () =>
+        writePolicy(
+          db.sequelize,
+          admin,
+          "tenant",
+          fx.a.id,
+          { decayRatio: { low: 0.3, high: 0.4 } },
+          "tighter",
+          null,
+          [],
+        ),
+    },
   ];
   let devId: number | null = null;
   async function deviceId(): Promise<number> {
-    devId ??= (await createDevice(admin, { name: "Gateway 1", siteId: fx.a.siteId, reason: "setup" })).id;
+    devId ??= (
+      await createDevice(admin, { name: "Gateway 1", siteId: fx.a.siteId, reason: "setup" })
+    ).id;
     return devId;
   }
   async function membershipId(role: "viewer" | "operator"): Promise<number> {
-    const m = await db.models.Membership.findOne({ where: { tenantId: fx.a.id, userId: fx.a.users[role].id } });
+    const m = await db.models.Membership.findOne({
+      where: { tenantId: fx.a.id, userId: fx.a.users[role].id },
+    });
     return m!.id;
   }
 
@@ -128,7 +254,10 @@ describe("a change and its change-log row commit together or not at all", () => 
     await arm();
     try {
       const before = await snapshot();
-      const err = await run().then(() => null, (e: unknown) => e as { parent?: Error });
+      const err = await run().then(
+        () => null,
+        (e: unknown) => e as { parent?: Error },
+      );
       expect(err?.parent?.message).toMatch(/forced change-log failure/);
       expect(await snapshot()).toEqual(before);
     } finally {
@@ -136,18 +265,34 @@ describe("a change and its change-log row commit together or not at all", () => 
     }
   });
 
-  it.each(kinds)("$kind: without the fault the change and exactly one log row are written", async ({ run }) => {
-    const n0 = await db.models.ConfigChange.count();
-    await run();
-    expect(await db.models.ConfigChange.count()).toBe(n0 + 1);
-  });
+  it.each(kinds)(
+    "$kind: without the fault the change and exactly one log row are written",
+    async ({ run }) => {
+      const n0 = await db.models.ConfigChange.count();
+      await run();
+      expect(await db.models.ConfigChange.count()).toBe(n0 + 1);
+    },
+  );
 });
 
 describe("loop fields: physically meaningful ranges (common practice, see lib/admin/loop-schema.ts)", () => {
-  const create = (patch: Record<string, unknown>) => loops.POST(req("POST", { ...NEW_LOOP_DEFAULTS, siteId: fx.a.siteId, tag: "FIC-777", reason: "new loop", ...patch }));
+  const create = (patch: Record<string, unknown>) =>
+    loops.POST(
+      req("POST", {
+        ...NEW_LOOP_DEFAULTS,
+        siteId: fx.a.siteId,
+        tag: "FIC-777",
+        reason: "new loop",
+        ...patch,
+      }),
+    );
   const bad: [string, Record<string, unknown>, string][] = [
     ["controller period 5e-324 s", { controllerPeriodS: 5e-324 }, "controllerPeriodS"],
-    ["telemetry period 0.001 s", { telemetryPeriodS: 0.001, estimationPeriodS: 1 }, "telemetryPeriodS"],
+    [
+      "telemetry period 0.001 s",
+      { telemetryPeriodS: 0.001, estimationPeriodS: 1 },
+      "telemetryPeriodS",
+    ],
     ["controller period 2 days", { controllerPeriodS: 172_800 }, "controllerPeriodS"],
     ["estimation period 5e-324 s", { estimationPeriodS: 5e-324 }, "estimationPeriodS"],
     ["gain 5e-324", { gainValue: 5e-324 }, "gainValue"],
@@ -175,19 +320,34 @@ describe("loop fields: physically meaningful ranges (common practice, see lib/ad
     expect(await db.models.Loop.count()).toBe(before);
   });
 
-  it.each(bad)("edit with %s is 422 naming the field, the loop unchanged", async (_what, patch, field) => {
-    const before = (await db.models.Loop.findByPk(fx.a.loopId))!.get({ plain: true });
-    const res = await loop.PATCH(req("PATCH", { ...patch, reason: "bad edit attempt" }), loopParams(fx.a.loopId));
-    expect(res.status).toBe(422);
-    expect(((await res.json()) as { error: string }).error).toContain(`${field}:`);
-    expect((await db.models.Loop.findByPk(fx.a.loopId))!.get({ plain: true })).toEqual(before);
-  });
+  it.each(bad)(
+    "edit with %s is 422 naming the field, the loop unchanged",
+    async (_what, patch, field) => {
+      const before = (await db.models.Loop.findByPk(fx.a.loopId))!.get({ plain: true });
+      const res = await loop.PATCH(
+        req("PATCH", { ...patch, reason: "bad edit attempt" }),
+        loopParams(fx.a.loopId),
+      );
+      expect(res.status).toBe(422);
+      expect(((await res.json()) as { error: string }).error).toContain(`${field}:`);
+      expect((await db.models.Loop.findByPk(fx.a.loopId))!.get({ plain: true })).toEqual(before);
+    },
+  );
 
   it("a patch is checked against the stored fields it depends on (gain kind switched to a band of 1e5 %)", async () => {
-    await loop.PATCH(req("PATCH", { gainValue: 2, reason: "set a gain of 2" }), loopParams(fx.a.loopId));
-    const res = await loop.PATCH(req("PATCH", { gainKind: "pb", gainValue: 1e6 + 1, reason: "band too wide" }), loopParams(fx.a.loopId));
+    await loop.PATCH(
+      req("PATCH", { gainValue: 2, reason: "set a gain of 2" }),
+      loopParams(fx.a.loopId),
+    );
+    const res = await loop.PATCH(
+      req("PATCH", { gainKind: "pb", gainValue: 1e6 + 1, reason: "band too wide" }),
+      loopParams(fx.a.loopId),
+    );
     expect(res.status).toBe(422);
-    const res2 = await loop.PATCH(req("PATCH", { tiUnits: "repeats-per-min", reason: "Ti 6 read as 6 repeats/min is 10 s" }), loopParams(fx.a.loopId));
+    const res2 = await loop.PATCH(
+      req("PATCH", { tiUnits: "repeats-per-min", reason: "Ti 6 read as 6 repeats/min is 10 s" }),
+      loopParams(fx.a.loopId),
+    );
     expect(res2.status).toBe(200);
   });
 

@@ -13,7 +13,16 @@ import { roleAtLeast, type Role, type TenantContext } from "@/lib/types";
 import { AlarmService } from "@/server/alarms/service";
 import { startMail, type MailService } from "@/server/mail";
 import { createTestDatabase, type TestDatabase } from "../setup/db";
-import { createFixture, FakeClock, loopState, polesWithDecay, setTenantPolicy, tempJournal, testContext, type Fixture } from "./helpers";
+import {
+  createFixture,
+  FakeClock,
+  loopState,
+  polesWithDecay,
+  setTenantPolicy,
+  tempJournal,
+  testContext,
+  type Fixture,
+} from "./helpers";
 
 let current: TenantContext | null = null;
 vi.mock("@/lib/auth/guard", () => ({
@@ -46,8 +55,14 @@ const url = (p: string) => `http://127.0.0.1${p}`;
 const get = (path: string) => new Request(url(path));
 // Writes carry the console's Origin, as the browser sends it (lib/request-guard.ts).
 const json = () => ({ "content-type": "application/json", origin: publicOrigin() });
-const post = (path: string, body?: unknown) => new Request(url(path), { method: "POST", headers: json(), body: body === undefined ? undefined : JSON.stringify(body) });
-const put = (path: string, body: unknown) => new Request(url(path), { method: "PUT", headers: json(), body: JSON.stringify(body) });
+const post = (path: string, body?: unknown) =>
+  new Request(url(path), {
+    method: "POST",
+    headers: json(),
+    body: body === undefined ? undefined : JSON.stringify(body),
+  });
+const put = (path: string, body: unknown) =>
+  new Request(url(path), { method: "PUT", headers: json(), body: JSON.stringify(body) });
 const p = (alarmId: number | string) => ({ params: Promise.resolve({ alarmId: String(alarmId) }) });
 const as = (role: Role | "outsider") => {
   current = role === "outsider" ? fx.outsider : fx.users[role];
@@ -56,10 +71,18 @@ const as = (role: Role | "outsider") => {
 beforeAll(async () => {
   db = await createTestDatabase("alarmapi");
   fx = await createFixture(db.models);
-  await setTenantPolicy(db.sequelize, fx.tenantId, { onDelayS: 0, offDelayS: 0, advisoryOnDelayS: 0 });
+  await setTenantPolicy(db.sequelize, fx.tenantId, {
+    onDelayS: 0,
+    offDelayS: 0,
+    advisoryOnDelayS: 0,
+  });
   clock = new FakeClock(T0);
   const ctx = testContext(clock);
-  svc = await AlarmService.start(ctx, { sequelize: db.sequelize, journalPath: tempJournal(), quiet: true });
+  svc = await AlarmService.start(ctx, {
+    sequelize: db.sequelize,
+    journalPath: tempJournal(),
+    quiet: true,
+  });
   ctx.services.set("alarms", svc);
   mail = await startMail(ctx, { sinkPort: 0 });
   ctx.services.set("mail", mail);
@@ -84,26 +107,45 @@ describe("alarm API", () => {
     svc.onTrackerUpdate(loopState(fx.loopId, fx.tenantId, clock.now(), polesWithDecay(0.42)));
     const r = await list.GET(get("/api/alarms?state=unacknowledged"));
     expect(r.status).toBe(200);
-    const body = (await r.json()) as { alarms: { id: number; state: string; changedAt: string; tenantId: number }[] };
+    const body = (await r.json()) as {
+      alarms: { id: number; state: string; changedAt: string; tenantId: number }[];
+    };
     expect(body.alarms).toHaveLength(1);
     expect(body.alarms[0]!.changedAt).toBe(new Date(T0).toISOString());
     expect((await list.GET(get("/api/alarms?state=bogus"))).status).toBe(422);
-    expect((await list.GET(get(`/api/alarms?from=${new Date(T0).toISOString()}&to=${new Date(T0 - 1).toISOString()}`))).status).toBe(422);
+    expect(
+      (
+        await list.GET(
+          get(
+            `/api/alarms?from=${new Date(T0).toISOString()}&to=${new Date(T0 - 1).toISOString()}`,
+          ),
+        )
+      ).status,
+    ).toBe(422);
     expect((await list.GET(get("/api/alarms?from=yesterday"))).status).toBe(422);
     as("outsider");
-    const other = (await (await list.GET(get("/api/alarms"))).json()) as { alarms: { tenantId: number }[] };
+    const other = (await (await list.GET(get("/api/alarms"))).json()) as {
+      alarms: { tenantId: number }[];
+    };
     expect(other.alarms.every((a) => a.tenantId === fx.otherTenantId)).toBe(true);
   });
 
   it("role matrix: a viewer cannot acknowledge (403), an operator can; another tenant's alarm is 404", async () => {
     const id = marginId();
     as("viewer");
-    expect((await ack.POST(post(`/api/alarms/${id}/acknowledge`, { comment: "x" }), p(id))).status).toBe(403);
+    expect(
+      (await ack.POST(post(`/api/alarms/${id}/acknowledge`, { comment: "x" }), p(id))).status,
+    ).toBe(403);
     as("outsider");
-    expect((await ack.POST(post(`/api/alarms/${id}/acknowledge`, { comment: "x" }), p(id))).status).toBe(404);
+    expect(
+      (await ack.POST(post(`/api/alarms/${id}/acknowledge`, { comment: "x" }), p(id))).status,
+    ).toBe(404);
     as("operator");
     expect((await ack.POST(post(`/api/alarms/abc/acknowledge`, {}), p("abc"))).status).toBe(422);
-    const r = await ack.POST(post(`/api/alarms/${id}/acknowledge`, { comment: "seen on the wall" }), p(id));
+    const r = await ack.POST(
+      post(`/api/alarms/${id}/acknowledge`, { comment: "seen on the wall" }),
+      p(id),
+    );
     expect(r.status).toBe(200);
     expect(((await r.json()) as { alarm: { state: string } }).alarm.state).toBe("acknowledged");
     const again = await ack.POST(post(`/api/alarms/${id}/acknowledge`, {}), p(id));
@@ -114,20 +156,35 @@ describe("alarm API", () => {
   it("shelve needs a reason (422) and respects the policy maximum; unshelve with no body; detail lists events", async () => {
     const id = marginId();
     as("operator");
-    expect((await shelve.POST(post(`/api/alarms/${id}/shelve`, { minutes: 30 }), p(id))).status).toBe(422);
-    expect((await shelve.POST(post(`/api/alarms/${id}/shelve`, { minutes: 100000, reason: "x" }), p(id))).status).toBe(422);
-    const s = await shelve.POST(post(`/api/alarms/${id}/shelve`, { minutes: 30, reason: "analyser calibration" }), p(id));
+    expect(
+      (await shelve.POST(post(`/api/alarms/${id}/shelve`, { minutes: 30 }), p(id))).status,
+    ).toBe(422);
+    expect(
+      (await shelve.POST(post(`/api/alarms/${id}/shelve`, { minutes: 100000, reason: "x" }), p(id)))
+        .status,
+    ).toBe(422);
+    const s = await shelve.POST(
+      post(`/api/alarms/${id}/shelve`, { minutes: 30, reason: "analyser calibration" }),
+      p(id),
+    );
     expect(s.status).toBe(200);
-    expect(((await s.json()) as { alarm: { shelvedUntil: string } }).alarm.shelvedUntil).toBe(new Date(T0 + 30 * 60_000).toISOString());
+    expect(((await s.json()) as { alarm: { shelvedUntil: string } }).alarm.shelvedUntil).toBe(
+      new Date(T0 + 30 * 60_000).toISOString(),
+    );
     const u = await unshelve.POST(post(`/api/alarms/${id}/unshelve`), p(id));
     expect(u.status).toBe(200);
     expect(((await u.json()) as { alarm: { state: string } }).alarm.state).toBe("unacknowledged");
     as("viewer");
     // Events just journalled show at once (marked pending); occurrences once written.
-    const early = (await (await one.GET(get(`/api/alarms/${id}`), p(id))).json()) as { events: { kind: string; pending: boolean }[] };
+    const early = (await (await one.GET(get(`/api/alarms/${id}`), p(id))).json()) as {
+      events: { kind: string; pending: boolean }[];
+    };
     expect(early.events[0]).toMatchObject({ kind: "unshelve" });
     await svc.flush();
-    const d = (await (await one.GET(get(`/api/alarms/${id}`), p(id))).json()) as { events: { kind: string; comment: string | null }[]; occurrences: unknown[] };
+    const d = (await (await one.GET(get(`/api/alarms/${id}`), p(id))).json()) as {
+      events: { kind: string; comment: string | null }[];
+      occurrences: unknown[];
+    };
     expect(d.events.slice(0, 3).map((e) => e.kind)).toEqual(["unshelve", "shelve", "acknowledge"]);
     expect(d.events[1]!.comment).toBe("analyser calibration");
     expect(d.occurrences.length).toBeGreaterThanOrEqual(1);
@@ -136,55 +193,152 @@ describe("alarm API", () => {
   it("out of service: operator 403, engineer with a reason", async () => {
     const id = marginId();
     as("operator");
-    expect((await oos.POST(post(`/api/alarms/${id}/out-of-service`, { reason: "x" }), p(id))).status).toBe(403);
+    expect(
+      (await oos.POST(post(`/api/alarms/${id}/out-of-service`, { reason: "x" }), p(id))).status,
+    ).toBe(403);
     as("engineer");
     expect((await oos.POST(post(`/api/alarms/${id}/out-of-service`, {}), p(id))).status).toBe(422);
-    expect((await oos.POST(post(`/api/alarms/${id}/out-of-service`, { reason: "transmitter replaced" }), p(id))).status).toBe(200);
+    expect(
+      (
+        await oos.POST(
+          post(`/api/alarms/${id}/out-of-service`, { reason: "transmitter replaced" }),
+          p(id),
+        )
+      ).status,
+    ).toBe(200);
     expect((await rts.POST(post(`/api/alarms/${id}/return-to-service`), p(id))).status).toBe(200);
   });
 
   it("policies: an operator cannot change thresholds, an engineer cannot change tenant policy but can set a loop's; logged; effective at once", async () => {
     const settings = { decayRatio: { low: 0.3, high: 0.4 } };
     as("operator");
-    expect((await policies.PUT(put(`/api/alarm-policies?scope=loop&id=${fx.loopId}`, { settings, reason: "r" }))).status).toBe(403);
+    expect(
+      (
+        await policies.PUT(
+          put(`/api/alarm-policies?scope=loop&id=${fx.loopId}`, { settings, reason: "r" }),
+        )
+      ).status,
+    ).toBe(403);
     as("engineer");
-    expect((await policies.PUT(put("/api/alarm-policies?scope=tenant", { settings, reason: "r" }))).status).toBe(403);
-    expect((await policies.PUT(put(`/api/alarm-policies?scope=site&id=${fx.siteId}`, { settings, reason: "r" }))).status).toBe(403);
-    expect((await policies.PUT(put(`/api/alarm-policies?scope=loop&id=${fx.loopId}`, { settings }))).status).toBe(422);
-    expect((await policies.PUT(put(`/api/alarm-policies?scope=loop&id=${fx.loopId}`, { settings: { decayRatio: { low: 0.5, high: 0.4 } }, reason: "r" }))).status).toBe(422);
-    expect((await policies.PUT(put(`/api/alarm-policies?scope=loop&id=${fx.otherLoopId}`, { settings, reason: "r" }))).status).toBe(404);
+    expect(
+      (await policies.PUT(put("/api/alarm-policies?scope=tenant", { settings, reason: "r" })))
+        .status,
+    ).toBe(403);
+    expect(
+      (
+        await policies.PUT(
+          put(`/api/alarm-policies?scope=site&id=${fx.siteId}`, { settings, reason: "r" }),
+        )
+      ).status,
+    ).toBe(403);
+    expect(
+      (await policies.PUT(put(`/api/alarm-policies?scope=loop&id=${fx.loopId}`, { settings })))
+        .status,
+    ).toBe(422);
+    expect(
+      (
+        await policies.PUT(
+          put(`/api/alarm-policies?scope=loop&id=${fx.loopId}`, {
+            settings: { decayRatio: { low: 0.5, high: 0.4 } },
+            reason: "r",
+          }),
+        )
+      ).status,
+    ).toBe(422);
+    expect(
+      (
+        await policies.PUT(
+          put(`/api/alarm-policies?scope=loop&id=${fx.otherLoopId}`, { settings, reason: "r" }),
+        )
+      ).status,
+    ).toBe(404);
     const ok = await policies.PUT(
-      put(`/api/alarm-policies?scope=loop&id=${fx.loopId}`, { settings: { ...settings, radius: { low: 0.95, high: 0.98 } }, reason: "tighter after retune", mocReference: "MOC-2026-014" }),
+      put(`/api/alarm-policies?scope=loop&id=${fx.loopId}`, {
+        settings: { ...settings, radius: { low: 0.95, high: 0.98 } },
+        reason: "tighter after retune",
+        mocReference: "MOC-2026-014",
+      }),
     );
     expect(ok.status).toBe(200);
-    const view = (await ok.json()) as { effective: { decayRatio: { low: number } }; loops: { equivalents: { source: string; priority: string; timeConstantS: number | null }[] }[] };
+    const view = (await ok.json()) as {
+      effective: { decayRatio: { low: number } };
+      loops: {
+        equivalents: { source: string; priority: string; timeConstantS: number | null }[];
+      }[];
+    };
     expect(view.effective.decayRatio.low).toBe(0.3);
     // ρ = 0.98 at the loop's 1 s estimation period is τ = -1/ln 0.98 = 49.5 s.
-    const r98 = view.loops[0]!.equivalents.find((e) => e.source === "radius" && e.priority === "high")!;
+    const r98 = view.loops[0]!.equivalents.find(
+      (e) => e.source === "radius" && e.priority === "high",
+    )!;
     expect(r98.timeConstantS).toBeCloseTo(-1 / Math.log(0.98), 6);
-    const [log] = (await db.sequelize.query("SELECT entity, reason, moc_reference, user_id FROM config_changes ORDER BY id DESC LIMIT 1", { type: QueryTypes.SELECT })) as Record<string, unknown>[];
-    expect(log).toMatchObject({ entity: "alarm_policy", reason: "tighter after retune", moc_reference: "MOC-2026-014", user_id: fx.users.engineer.userId });
+    const [log] = (await db.sequelize.query(
+      "SELECT entity, reason, moc_reference, user_id FROM config_changes ORDER BY id DESC LIMIT 1",
+      { type: QueryTypes.SELECT },
+    )) as Record<string, unknown>[];
+    expect(log).toMatchObject({
+      entity: "alarm_policy",
+      reason: "tighter after retune",
+      moc_reference: "MOC-2026-014",
+      user_id: fx.users.engineer.userId,
+    });
     // Effective without a restart: 0.45 is below the default high level 0.5 but above the new loop level 0.4.
     svc.onTrackerUpdate(loopState(fx.loopId, fx.tenantId, clock.now(), polesWithDecay(0.45)));
-    expect(svc.list(fx.tenantId, { loopId: fx.loopId }).find((a) => a.condition === "margin")!.priority).toBe("high");
+    expect(
+      svc.list(fx.tenantId, { loopId: fx.loopId }).find((a) => a.condition === "margin")!.priority,
+    ).toBe("high");
     as("admin");
-    expect((await policies.PUT(put("/api/alarm-policies?scope=tenant", { settings: { onDelayS: 0, offDelayS: 0, radius: { low: 0.9, high: 0.95 } }, reason: "r" }))).status).toBe(422);
-    expect((await policies.PUT(put("/api/alarm-policies?scope=tenant", { settings: { onDelayS: 0, offDelayS: 0, shelveMaxMinutes: 240 }, reason: "site review" }))).status).toBe(200);
+    expect(
+      (
+        await policies.PUT(
+          put("/api/alarm-policies?scope=tenant", {
+            settings: { onDelayS: 0, offDelayS: 0, radius: { low: 0.9, high: 0.95 } },
+            reason: "r",
+          }),
+        )
+      ).status,
+    ).toBe(422);
+    expect(
+      (
+        await policies.PUT(
+          put("/api/alarm-policies?scope=tenant", {
+            settings: { onDelayS: 0, offDelayS: 0, shelveMaxMinutes: 240 },
+            reason: "site review",
+          }),
+        )
+      ).status,
+    ).toBe(200);
     as("viewer");
-    const g = (await (await policies.GET(get("/api/alarm-policies?scope=tenant"))).json()) as { settings: { shelveMaxMinutes: number }; loops: { tag: string }[] };
+    const g = (await (await policies.GET(get("/api/alarm-policies?scope=tenant"))).json()) as {
+      settings: { shelveMaxMinutes: number };
+      loops: { tag: string }[];
+    };
     expect(g.settings.shelveMaxMinutes).toBe(240);
     expect(g.loops.map((l) => l.tag)).toEqual(["FIC-101"]);
     expect((await policies.GET(get("/api/alarm-policies?scope=site"))).status).toBe(422);
   });
 
   it("outbox: admin only, and only the tenant's own messages", async () => {
-    await mail.send({ to: ["board@harrowgate.example"], subject: "mine", text: "x", headers: { "X-Rimguard-Tenant": String(fx.tenantId) } });
-    await mail.send({ to: ["ops@quillon.example"], subject: "theirs", text: "y", headers: { "X-Rimguard-Tenant": String(fx.otherTenantId) } });
+    await mail.send({
+      to: ["board@harrowgate.example"],
+      subject: "mine",
+      text: "x",
+      headers: { "X-Rimguard-Tenant": String(fx.tenantId) },
+    });
+    await mail.send({
+      to: ["ops@quillon.example"],
+      subject: "theirs",
+      text: "y",
+      headers: { "X-Rimguard-Tenant": String(fx.otherTenantId) },
+    });
     await mail.waitForMessages(2);
     as("engineer");
     expect((await outbox.GET()).status).toBe(403);
     as("admin");
-    const body = (await (await outbox.GET()).json()) as { sink: boolean; messages: { subject: string; to: string[]; receivedAt: string }[] };
+    const body = (await (await outbox.GET()).json()) as {
+      sink: boolean;
+      messages: { subject: string; to: string[]; receivedAt: string }[];
+    };
     expect(body.sink).toBe(true);
     expect(body.messages.map((m) => m.subject)).toEqual(["mine"]);
     expect(body.messages[0]!.to).toEqual(["board@harrowgate.example"]);
@@ -207,7 +361,12 @@ describe("alarm API", () => {
   it("a comment or reason that is not well-formed Unicode (a lone surrogate) is 422 before it reaches the journal", async () => {
     as("engineer");
     const alarm = svc.list(fx.tenantId, {})[0]!;
-    const raw = (path: string, json: string) => new Request(url(path), { method: "POST", headers: { "content-type": "application/json" }, body: json });
+    const raw = (path: string, json: string) =>
+      new Request(url(path), {
+        method: "POST",
+        headers: { "content-type": "application/json", origin: publicOrigin() },
+        body: json,
+      });
     const before = svc.get(fx.tenantId, alarm.id);
     expect(before).not.toBeNull();
     for (const [route, json] of [
@@ -222,4 +381,3 @@ describe("alarm API", () => {
     expect(svc.get(fx.tenantId, alarm.id)).toEqual(before);
   });
 });
-
