@@ -117,14 +117,14 @@ export type RimVerdict = "inside" | "outside" | "undecided";
 /**
  * "outside" when some root's whole disk is outside the unit circle (|z| - bound > 1), otherwise
  * "undecided" when some root's disk straddles it (|z| - bound <= 1 <= |z| + bound), otherwise
- * "inside". An operator is told "undecided near the rim" for the middle case: the coefficients
+ * "inside" (a root without a bound counts as a point). An operator is told "undecided near the rim" for the middle case: the coefficients
  * do not determine on which side that root lies.
  */
-export function rimVerdict(roots: readonly Pick<BoundedRoot, "re" | "im" | "bound">[]): RimVerdict {
+export function rimVerdict(roots: readonly (Complex & { bound?: number | null })[]): RimVerdict {
   let undecided = false;
   for (const z of roots) {
     const r = Math.hypot(z.re, z.im);
-    const b = Number.isFinite(z.bound) ? z.bound : Infinity;
+    const b = z.bound == null ? 0 : Number.isNaN(z.bound) ? Infinity : z.bound;
     if (r - b > 1) return "outside";
     if (r + b >= 1) undecided = true;
   }
