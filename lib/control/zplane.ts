@@ -65,6 +65,12 @@ function assertPeriod(T: number): void {
 export function zToS(z: Complex, T: number): Complex {
   assertFiniteComplex(z, "z");
   assertPeriod(T);
+  const w = z.re - 1; // exact for z.re in [0.5, 2] (Sterbenz)
+  if (w * w + z.im * z.im < 0.25) {
+    // near z = 1: ln|z| = 0.5 log1p(|z|^2 - 1) with |z|^2 - 1 = w (2 + w) + y^2 formed without the
+    // cancellation of |z| - 1 (Higham 2002 sec. 1.14 on log1p; common practice)
+    return { re: (0.5 * Math.log1p(w * (2 + w) + z.im * z.im)) / T, im: Math.atan2(z.im, z.re) / T };
+  }
   const r = Math.sqrt(z.re * z.re + z.im * z.im);
   return { re: Math.log(r) / T, im: Math.atan2(z.im, z.re) / T };
 }
