@@ -494,7 +494,8 @@ export class InstrumentalArxEstimator {
     // sum w^2 z z' ~ Szz (sum w^2)/(sum w) = Szz (1 + lambda^n)/(1 + lambda)
     const factor = lam === 1 ? 1 : (1 + lam ** this.informative) / (1 + lam);
     // the HAC sum of the scores once it has enough samples, else sigma^2 Szz (white equation error);
-    // the truncated kernel is not always positive semi-definite: a non-positive variance falls back
+    // the truncated kernel is not always positive semi-definite: a covariance that is not positive
+    // definite falls back (else a derived quantity, e.g. a pole radius, could get variance 0)
     const sandwich = (middle: Float64Array, scale: number): number[][] => {
       const tmp = new Float64Array(d * d);
       for (let i = 0; i < d; i++) for (let j = 0; j < d; j++) {
@@ -516,7 +517,7 @@ export class InstrumentalArxEstimator {
     };
     if (this.hacWeight >= HAC_MIN_PER_PARAMETER * d) {
       const cov = sandwich(this.hacS, factor);
-      if (cov.every((row, i) => row[i]! > 0)) return cov;
+      if (isPositiveDefinite(cov)) return cov;
     }
     return sandwich(this.Szz, s2 * factor);
   }
@@ -594,6 +595,23 @@ export class InstrumentalArxEstimator {
     }
     return est;
   }
+}
+
+/** Cholesky test (Golub & Van Loan, *Matrix Computations*, 4th ed., 2013, sec. 4.2.5) of a small symmetric matrix. */
+function isPositiveDefinite(a: number[][]): boolean {
+  const n = a.length;
+  const l = Array.from({ length: n }, () => new Array<number>(n).fill(0));
+  for (let i = 0; i < n; i++) {
+    for (let j = 0; j <= i; j++) {
+      let s = a[i]![j]!;
+      for (let k = 0; k < j; k++) s -= l[i]![k]! * l[j]![k]!;
+      if (i === j) {
+        if (!(s > 1e-12 * Math.abs(a[i]![i]!))) return false;
+        l[i]![i] = Math.sqrt(s);
+      } else l[i]![j] = s / l[j]![j]!;
+    }
+  }
+  return true;
 }
 
 /** Inverse of a small d x d row-major matrix by Gauss-Jordan with partial pivoting; null if singular. */
