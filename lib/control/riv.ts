@@ -91,7 +91,7 @@ export interface InstrumentalArxState {
   /** Auxiliary model: simulated y, u, e histories, run length, simulation-error sums. */
   aux: { ys: number[]; us: number[]; es: number[]; run: number; error: number; weight: number };
   /** HAC score sum (absent in older states: it then starts empty and the white-noise covariance serves meanwhile). */
-  hac?: { S: number[]; g: number[]; weight: number; count: number; openAuxStarted: boolean };
+  hac?: { S: number[]; S0: number[]; g: number[]; weight: number; count: number; openAuxStarted: boolean };
 }
 
 /** Open loop: informative samples per parameter before the auxiliary-model instruments take over. */
@@ -155,6 +155,8 @@ export class InstrumentalArxEstimator {
   // cross products with the previous `hacLag` scores (ring, newest first), forgetting as R
   private readonly hacLag: number;
   private readonly hacS: Float64Array;
+  /** The lag-0 part of hacS alone (positive semi-definite), for its repair. */
+  private readonly hacS0: Float64Array;
   private readonly hacG: Float64Array;
   private readonly g: Float64Array;
   private hacWeight = 0;
@@ -209,6 +211,7 @@ export class InstrumentalArxEstimator {
     this.esHist = new Float64Array(Math.max(1, this.cNum.length));
     this.hacLag = this.na;
     this.hacS = new Float64Array(d * d);
+    this.hacS0 = new Float64Array(d * d);
     this.hacG = new Float64Array(this.hacLag * d);
     this.g = new Float64Array(d);
   }
@@ -224,9 +227,11 @@ export class InstrumentalArxEstimator {
     const lags = Math.min(L, this.hacCount);
     for (let i = 0; i < d; i++) {
       for (let j = 0; j < d; j++) {
-        let s = g[i]! * g[j]!;
+        const s0 = g[i]! * g[j]!;
+        let s = s0;
         for (let t = 0; t < lags; t++) s += g[i]! * G[t * d + j]! + G[t * d + i]! * g[j]!;
         S[i * d + j] = lam * S[i * d + j]! + s;
+        this.hacS0[i * d + j] = lam * this.hacS0[i * d + j]! + s0;
       }
     }
     G.copyWithin(d, 0, (L - 1) * d);
@@ -337,6 +342,7 @@ export class InstrumentalArxEstimator {
           // 99 % coverage of 95 % intervals at 500 samples with them, 95 % without)
           this.openAuxStarted = true;
           this.hacS.fill(0);
+          this.hacS0.fill(0);
           this.hacG.fill(0);
           this.hacWeight = 0;
           this.hacCount = 0;
@@ -516,8 +522,14 @@ export class InstrumentalArxEstimator {
       return out;
     };
     if (this.hacWeight >= HAC_MIN_PER_PARAMETER * d) {
-      const cov = sandwich(this.hacS, factor);
-      if (isPositiveDefinite(cov)) return cov;
+      // repair: S + mu S0 for the smallest listed mu that is positive definite (S0, the lag-0
+      // part, is; adding it only widens the intervals)
+      const m = new Float64Array(d * d);
+      for (const mu of [0, 0.02, 0.05, 0.1, 0.2, 0.5, 1]) {
+        for (let i = 0; i < d * d; i++) m[i] = this.hacS[i]! + mu * this.hacS0[i]!;
+        const cov = sandwich(m, factor);
+        if (isPositiveDefinite(cov)) return cov;
+      }
     }
     return sandwich(this.Szz, s2 * factor);
   }
@@ -542,7 +554,7 @@ export class InstrumentalArxEstimator {
       solved: this.solved,
       conditioning: this.conditioning,
       aux: { ys: Array.from(this.ysHist), us: Array.from(this.usHist), es: Array.from(this.esHist), run: this.auxRun, error: this.simError, weight: this.simWeight },
-      hac: { S: Array.from(this.hacS), g: Array.from(this.hacG), weight: this.hacWeight, count: this.hacCount, openAuxStarted: this.openAuxStarted },
+      hac: { S: Array.from(this.hacS), S0: Array.from(this.hacS0), g: Array.from(this.hacG), weight: this.hacWeight, count: this.hacCount, openAuxStarted: this.openAuxStarted },
     };
   }
 
@@ -586,6 +598,7 @@ export class InstrumentalArxEstimator {
     est.simWeight = num("aux.weight", s.aux.weight);
     if (s.hac) {
       est.hacS.set(arr("hac.S", s.hac.S, d * d));
+      est.hacS0.set(arr("hac.S0", s.hac.S0, d * d));
       est.hacG.set(arr("hac.g", s.hac.g, est.hacG.length));
       est.hacWeight = num("hac.weight", s.hac.weight);
       est.hacCount = num("hac.count", s.hac.count);
