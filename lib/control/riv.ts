@@ -47,7 +47,10 @@
  * weighted least squares (see `ArxEstimator.parameterCovariance`). The white-equation-error form
  * sigma^2 R^-1 Szz R^-T overstates the spread when v = A(q) n (measured open loop, white MV: 95 %
  * intervals covered 100 % with it, sd 2x too large) and serves only until the HAC sum has
- * 10 informative samples per parameter. In manual (open loop), the auxiliary model starts after
+ * 10 informative samples per parameter. The truncated kernel's sum need not be positive
+ * semi-definite (over half of those open-loop runs): its negative eigenvalues are set to zero.
+ * Measured (300 seeded runs, white MV, PV noise 0.3): coverage 96.7 % at 500 samples, 98 % at
+ * 2,000 (slightly conservative). In manual (open loop), the auxiliary model starts after
  * 25 informative samples per parameter; earlier, a poor estimate driven by the MV gave
  * instruments that spoiled the sums (pole errors up to 38 on 300 seeded runs).
  */
@@ -91,7 +94,7 @@ export interface InstrumentalArxState {
   /** Auxiliary model: simulated y, u, e histories, run length, simulation-error sums. */
   aux: { ys: number[]; us: number[]; es: number[]; run: number; error: number; weight: number };
   /** HAC score sum (absent in older states: it then starts empty and the white-noise covariance serves meanwhile). */
-  hac?: { S: number[]; S0: number[]; g: number[]; weight: number; count: number; openAuxStarted: boolean };
+  hac?: { S: number[]; g: number[]; weight: number; count: number; openAuxStarted: boolean };
 }
 
 /** Open loop: informative samples per parameter before the auxiliary-model instruments take over. */
@@ -155,8 +158,6 @@ export class InstrumentalArxEstimator {
   // cross products with the previous `hacLag` scores (ring, newest first), forgetting as R
   private readonly hacLag: number;
   private readonly hacS: Float64Array;
-  /** The lag-0 part of hacS alone (positive semi-definite), for its repair. */
-  private readonly hacS0: Float64Array;
   private readonly hacG: Float64Array;
   private readonly g: Float64Array;
   private hacWeight = 0;
@@ -211,7 +212,6 @@ export class InstrumentalArxEstimator {
     this.esHist = new Float64Array(Math.max(1, this.cNum.length));
     this.hacLag = this.na;
     this.hacS = new Float64Array(d * d);
-    this.hacS0 = new Float64Array(d * d);
     this.hacG = new Float64Array(this.hacLag * d);
     this.g = new Float64Array(d);
   }
@@ -227,11 +227,10 @@ export class InstrumentalArxEstimator {
     const lags = Math.min(L, this.hacCount);
     for (let i = 0; i < d; i++) {
       for (let j = 0; j < d; j++) {
-        const s0 = g[i]! * g[j]!;
-        let s = s0;
+        let s = g[i]! * g[j]!;
         for (let t = 0; t < lags; t++) s += g[i]! * G[t * d + j]! + G[t * d + i]! * g[j]!;
         S[i * d + j] = lam * S[i * d + j]! + s;
-        this.hacS0[i * d + j] = lam * this.hacS0[i * d + j]! + s0;
+
       }
     }
     G.copyWithin(d, 0, (L - 1) * d);
@@ -342,7 +341,6 @@ export class InstrumentalArxEstimator {
           // 99 % coverage of 95 % intervals at 500 samples with them, 95 % without)
           this.openAuxStarted = true;
           this.hacS.fill(0);
-          this.hacS0.fill(0);
           this.hacG.fill(0);
           this.hacWeight = 0;
           this.hacCount = 0;
@@ -499,9 +497,7 @@ export class InstrumentalArxEstimator {
     const lam = this.options.forgetting;
     // sum w^2 z z' ~ Szz (sum w^2)/(sum w) = Szz (1 + lambda^n)/(1 + lambda)
     const factor = lam === 1 ? 1 : (1 + lam ** this.informative) / (1 + lam);
-    // the HAC sum of the scores once it has enough samples, else sigma^2 Szz (white equation error);
-    // the truncated kernel is not always positive semi-definite: a covariance that is not positive
-    // definite falls back (else a derived quantity, e.g. a pole radius, could get variance 0)
+    // the HAC sum of the scores once it has enough samples, else sigma^2 Szz (white equation error)
     const sandwich = (middle: Float64Array, scale: number): number[][] => {
       const tmp = new Float64Array(d * d);
       for (let i = 0; i < d; i++) for (let j = 0; j < d; j++) {
@@ -522,14 +518,11 @@ export class InstrumentalArxEstimator {
       return out;
     };
     if (this.hacWeight >= HAC_MIN_PER_PARAMETER * d) {
-      // repair: S + mu S0 for the smallest listed mu that is positive definite (S0, the lag-0
-      // part, is; adding it only widens the intervals)
-      const m = new Float64Array(d * d);
-      for (const mu of [0, 0.02, 0.05, 0.1, 0.2, 0.5, 1]) {
-        for (let i = 0; i < d * d; i++) m[i] = this.hacS[i]! + mu * this.hacS0[i]!;
-        const cov = sandwich(m, factor);
-        if (isPositiveDefinite(cov)) return cov;
-      }
+      // the truncated kernel need not be positive semi-definite (seen in over half of the open-loop
+      // runs): its negative eigenvalues are set to zero (nearest PSD matrix in the Frobenius norm;
+      // Higham, Linear Algebra Appl. 103, 1988)
+      const cov = sandwich(nearestPsd(this.hacS, d), factor);
+      if (cov.every((row, i) => row[i]! > 0)) return cov;
     }
     return sandwich(this.Szz, s2 * factor);
   }
@@ -554,7 +547,7 @@ export class InstrumentalArxEstimator {
       solved: this.solved,
       conditioning: this.conditioning,
       aux: { ys: Array.from(this.ysHist), us: Array.from(this.usHist), es: Array.from(this.esHist), run: this.auxRun, error: this.simError, weight: this.simWeight },
-      hac: { S: Array.from(this.hacS), S0: Array.from(this.hacS0), g: Array.from(this.hacG), weight: this.hacWeight, count: this.hacCount, openAuxStarted: this.openAuxStarted },
+      hac: { S: Array.from(this.hacS), g: Array.from(this.hacG), weight: this.hacWeight, count: this.hacCount, openAuxStarted: this.openAuxStarted },
     };
   }
 
@@ -598,7 +591,6 @@ export class InstrumentalArxEstimator {
     est.simWeight = num("aux.weight", s.aux.weight);
     if (s.hac) {
       est.hacS.set(arr("hac.S", s.hac.S, d * d));
-      est.hacS0.set(arr("hac.S0", s.hac.S0, d * d));
       est.hacG.set(arr("hac.g", s.hac.g, est.hacG.length));
       est.hacWeight = num("hac.weight", s.hac.weight);
       est.hacCount = num("hac.count", s.hac.count);
@@ -610,21 +602,61 @@ export class InstrumentalArxEstimator {
   }
 }
 
-/** Cholesky test (Golub & Van Loan, *Matrix Computations*, 4th ed., 2013, sec. 4.2.5) of a small symmetric matrix. */
-function isPositiveDefinite(a: number[][]): boolean {
-  const n = a.length;
-  const l = Array.from({ length: n }, () => new Array<number>(n).fill(0));
-  for (let i = 0; i < n; i++) {
-    for (let j = 0; j <= i; j++) {
-      let s = a[i]![j]!;
-      for (let k = 0; k < j; k++) s -= l[i]![k]! * l[j]![k]!;
-      if (i === j) {
-        if (!(s > 1e-12 * Math.abs(a[i]![i]!))) return false;
-        l[i]![i] = Math.sqrt(s);
-      } else l[i]![j] = s / l[j]![j]!;
+/**
+ * V max(L, 0) V' of a symmetric row-major d x d matrix, by the cyclic Jacobi eigenvalue method
+ * (Golub & Van Loan, *Matrix Computations*, 4th ed., 2013, sec. 8.5); small d only.
+ */
+function nearestPsd(S: Float64Array, d: number): Float64Array {
+  const a = Float64Array.from(S);
+  for (let i = 0; i < d; i++) for (let j = 0; j < i; j++) a[i * d + j] = a[j * d + i] = 0.5 * (a[i * d + j]! + a[j * d + i]!);
+  const v = new Float64Array(d * d);
+  for (let i = 0; i < d; i++) v[i * d + i] = 1;
+  for (let sweep = 0; sweep < 50; sweep++) {
+    let off = 0;
+    let norm = 0;
+    for (let i = 0; i < d; i++) {
+      for (let j = 0; j < d; j++) {
+        if (i === j) norm += a[i * d + j]! ** 2;
+        else off += a[i * d + j]! ** 2;
+      }
+    }
+    if (off <= 1e-30 * norm) break;
+    for (let p = 0; p < d - 1; p++) {
+      for (let q = p + 1; q < d; q++) {
+        const apq = a[p * d + q]!;
+        if (apq === 0) continue;
+        const theta = (a[q * d + q]! - a[p * d + p]!) / (2 * apq);
+        const t = Math.sign(theta || 1) / (Math.abs(theta) + Math.sqrt(theta * theta + 1));
+        const c = 1 / Math.sqrt(t * t + 1);
+        const sn = t * c;
+        for (let k = 0; k < d; k++) {
+          const akp = a[k * d + p]!;
+          const akq = a[k * d + q]!;
+          a[k * d + p] = c * akp - sn * akq;
+          a[k * d + q] = sn * akp + c * akq;
+        }
+        for (let k = 0; k < d; k++) {
+          const apk = a[p * d + k]!;
+          const aqk = a[q * d + k]!;
+          a[p * d + k] = c * apk - sn * aqk;
+          a[q * d + k] = sn * apk + c * aqk;
+        }
+        for (let k = 0; k < d; k++) {
+          const vkp = v[k * d + p]!;
+          const vkq = v[k * d + q]!;
+          v[k * d + p] = c * vkp - sn * vkq;
+          v[k * d + q] = sn * vkp + c * vkq;
+        }
+      }
     }
   }
-  return true;
+  const out = new Float64Array(d * d);
+  for (let k = 0; k < d; k++) {
+    const lam = Math.max(0, a[k * d + k]!);
+    if (lam === 0) continue;
+    for (let i = 0; i < d; i++) for (let j = 0; j < d; j++) out[i * d + j] = out[i * d + j]! + lam * v[i * d + k]! * v[j * d + k]!;
+  }
+  return out;
 }
 
 /** Inverse of a small d x d row-major matrix by Gauss-Jordan with partial pivoting; null if singular. */
