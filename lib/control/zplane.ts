@@ -60,7 +60,9 @@ function assertPeriod(T: number): void {
 
 /**
  * s = ln(z) / T on the principal branch (arg z in (-pi, pi]); T in seconds, s in 1/s.
- * z = 0 maps to s = -Infinity (real part).
+ * z = 0 maps to s = -Infinity (real part). Within |z - 1| < 0.5 the real part is
+ * 0.5 log1p(|z|^2 - 1) / T with |z|^2 - 1 formed from w = z - 1, so it keeps full relative
+ * accuracy for poles very close to z = 1 (fast sampling).
  */
 export function zToS(z: Complex, T: number): Complex {
   assertFiniteComplex(z, "z");
