@@ -60,6 +60,11 @@ export interface PoleDto extends Complex {
   radius: number;
   sdRadius: number | null;
   cov: [number, number, number] | null;
+  /**
+   * Conditioning bound of the root (z-plane distance): a rounding error in the polynomial's
+   * coefficients can move it this far (lib/control/root-bounds.ts); null or absent when unknown.
+   */
+  bound?: number | null;
 }
 
 /** What a loop tracker knows about its loop at one moment (the live summary of a loop). */
@@ -81,6 +86,11 @@ export interface LoopStateDto {
   rimDistance: number | null;
   decayRatio: number | null;
   juryStable: boolean | null;
+  /**
+   * A pole's conditioning bound straddles the unit circle: the coefficients do not decide on
+   * which side it lies ("undecided near the rim"); no unstable verdict (juryStable is null) or alarm.
+   */
+  rimUndecided?: boolean;
   dominant: { zeta: number | null; wn: number | null; timeConstant: number | null } | null;
   gainHeadroom: number | null;
   radiusSd: number | null;

@@ -3,6 +3,7 @@
  * conditions (unstable, margin, sluggish, rim-forecast), with deadband and on/off delays.
  * Pure: no I/O; the caller passes `now` (epoch ms) and keeps the returned `ConditionMemory`.
  */
+import { rimVerdict } from "@/lib/control/root-bounds";
 import type { AlarmCondition, AlarmPriority, LoopStateDto, PoleDto, TrackerState } from "@/lib/types";
 import type { EffectivePolicy } from "./policy";
 
@@ -278,9 +279,13 @@ export function evaluateConditions(
   //    counts as outside when it is outside by more than `confidenceSigmas` standard deviations
   //    of its radius (a slow real pole near z = 1 sits within estimation noise of the circle).
   //    The on-delay is strict here: the verdict must hold at every update for the whole delay.
+  //    A pole whose conditioning bound (how far a rounding error in the coefficients can move it,
+  //    lib/control/root-bounds.ts) straddles the circle is "undecided near the rim": no unstable
+  //    verdict then, only the not-proven signal.
   const k = policy.confidenceSigmas;
-  const outsideRadius = poles.length > 0 ? Math.max(...poles.map((p) => Math.hypot(p.re, p.im) - k * (p.sdRadius ?? 0))) : s.spectralRadius;
-  const unstableNow = poles.length > 0 ? (outsideRadius ?? 0) >= 1 : s.juryStable === false || (s.spectralRadius ?? 0) >= 1;
+  const rimUndecided = poles.length > 0 ? rimVerdict(poles) === "undecided" : s.rimUndecided === true;
+  const outsideRadius = poles.length > 0 ? Math.max(...poles.map((p) => Math.hypot(p.re, p.im) - k * (p.sdRadius ?? 0) - (p.bound ?? 0))) : s.spectralRadius;
+  const unstableNow = rimUndecided ? false : poles.length > 0 ? (outsideRadius ?? 0) >= 1 : s.juryStable === false || (s.spectralRadius ?? 0) >= 1;
   const clearlyInside = poles.length > 0 ? (maxRadius ?? 0) < 1 - policy.deadband.radius : s.juryStable !== false && (s.spectralRadius ?? 0) < 1;
   // Filter input: 1 = unstable now, 0.5 = not proven either way (within the deadband), 0 = stable.
   const unstableSignal = unstableNow ? 1 : clearlyInside ? 0 : 0.5;
@@ -295,7 +300,9 @@ export function evaluateConditions(
     active: unstableOn,
     value: maxRadius,
     level: 1,
-    message: unstableNow
+    message: rimUndecided
+      ? `Pole at radius ${fmt(maxRadius ?? 1, 4)}: undecided near the rim (a rounding error in the model's coefficients can move it across the unit circle); not an unstable verdict.`
+      : unstableNow
       ? `Closed-loop pole at radius ${fmt(maxRadius ?? 1, 4)}${s.juryStable === false ? "; the Jury test fails" : ""}: the loop is unstable.`
       : s.juryStable === false || (maxRadius ?? 0) >= 1
         ? `Estimated pole at radius ${fmt(maxRadius ?? 1, 4)}, within ${k} standard deviation(s) of the unit circle: not yet proven unstable.`

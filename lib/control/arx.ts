@@ -140,6 +140,7 @@ export class ArxEstimator {
       forgetting: this.options.forgetting,
       initialCovariance: this.options.initialCovariance,
       windup: this.options.windup,
+      trackErrorCovariance: true,
     });
     this.excitationMonitor = new ExcitationMonitor({
       parameters: this.d,
@@ -252,21 +253,24 @@ export class ArxEstimator {
 
   /**
    * Covariance of [a1..a_na, b0..b_{nb-1}] (offset excluded), as (na+nb) x (na+nb) nested arrays:
+   *   sigma^2 Q, Q the propagated error covariance of the RLS (see below); formerly
    *   sigma^2 P (1 + lambda^k) / (1 + lambda),  k = number of updates.
    * Under exponential forgetting the estimate is a weighted LS with weights lambda^j, whose
    * covariance is sigma^2 (sum w)^-1 (sum w^2) (sum w)^-1 R^-1; with P ~ (sum w R)^-1 this is
    * sigma^2 P (sum w^2)/(sum w) = sigma^2 P (1 + lambda^k)/(1 + lambda): sigma^2 P at lambda = 1, and
-   * sigma^2 P / (1 + lambda) in steady state (checked by Monte Carlo in the tests). With
-   * directional forgetting the same factor is used; under persistent excitation it matches Monte
-   * Carlo (tests), while the data are not exciting it is only an approximation.
+   * sigma^2 P / (1 + lambda) in steady state. That factor does not hold under directional
+   * forgetting (95 % intervals covered 88-91 % at 500 samples), so the estimator's own error
+   * covariance Q, propagated exactly for the gains actually used (`RecursiveLeastSquares`,
+   * `trackErrorCovariance`), is used instead: sigma^2 Q (checked by Monte Carlo in the tests).
    */
   parameterCovariance(): number[][] {
     const n = this.na + this.nb;
     const s2 = this.residualVariance();
     const lam = this.rls.forgetting;
     const k = this.rls.updates;
-    const factor = lam === 1 ? 1 : (1 + lam ** k) / (1 + lam);
-    const P = this.rls.covariance;
+    const Q = this.rls.errorCovariance;
+    const factor = Q ? 1 : lam === 1 ? 1 : (1 + lam ** k) / (1 + lam);
+    const P = Q ?? this.rls.covariance;
     const d = this.d;
     const out: number[][] = [];
     for (let i = 0; i < n; i++) {

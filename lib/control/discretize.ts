@@ -14,7 +14,8 @@
  * per-sample path.
  *
  * The pulse transfer function: its denominator is det(zI - Phi), with exact integrators kept
- * exact: den(s) = s^k d(s) gives (z - 1)^k det(zI - e^{A_d T}), A_d the companion matrix of d(s).
+ * exact: den(s) = s^k d(s) gives (z - 1)^k det(zI - e^{A_d T}), A_d the companion matrix of d(s),
+ * with the constant term adjusted so that den(1) evaluated by Horner's rule is exactly 0.
  * The determinant is the characteristic polynomial of the upper Hessenberg form of the matrix
  * (Householder reduction, then La Budde's recursion; Wilkinson, *The Algebraic Eigenvalue
  * Problem*, 1965, ch. 6) — well conditioned in the matrix entries, unlike products of computed
@@ -278,6 +279,14 @@ function discreteDenominator(tf: ContinuousTf, T: number): number[] {
     const { A, B } = canonical([0], den);
     const { E } = expAugmented(A, B, T);
     out = polyMul(out, charPoly(E));
+  }
+  if (integrators > 0) {
+    // (z - 1) q(z) formed in floating point sums to ~1e-16 at z = 1, not 0: the constant term is
+    // set to minus the left-to-right sum of the others, so Horner's rule at z = 1 (and any
+    // summation in that order, e.g. numpy.polyval) gives exactly 0 (a change at the rounding level)
+    let s = 0;
+    for (let k = 0; k < out.length - 1; k++) s += out[k]!;
+    out[out.length - 1] = -s;
   }
   return out;
 }

@@ -7,6 +7,7 @@ export * from "./types";
 export * from "./errors";
 export * from "./poly";
 export * from "./roots";
+export * from "./root-bounds";
 export * from "./jury";
 export * from "./zplane";
 export * from "./discretize";

@@ -17,7 +17,9 @@
  * variable methods for closed-loop system identification", Automatica 41, 2005):
  *   z(k) = [r(k-nk), r(k-nk-1), ..., r(k-nk-d+1)],  d = na + nb.
  * While the loop is open (manual), the MV itself is the external signal and its delayed values
- * serve instead: z(k) = [u(k-nk-1), ..., u(k-nk-d)] ("input instruments", same references).
+ * serve instead: z(k) = [u(k-nk), ..., u(k-nk-d+1)] ("input instruments", same references). They
+ * must include u(k-nk): with a white MV, u(k-nk) is uncorrelated with every older input, so
+ * instruments that start at u(k-nk-1) leave sum z phi' singular along b0.
  *
  * Once an estimate exists and the controller C(q) is known (`controller` option), the instruments
  * are the noise-free regressor of an auxiliary model (the bootstrap / "tailor-made" IV:
@@ -37,9 +39,20 @@
  *
  * The sums are kept as d x d and d arrays and the normal equations are solved by Gaussian
  * elimination with partial pivoting into preallocated buffers: O(d^2) per sample, O(d^3) per
- * solve, no allocation per sample. Covariance (Söderström & Stoica 1989, eq. 8.11, white
- * equation error assumed as an approximation): sigma^2 R^-1 Szz R^-T scaled as for weighted
- * least squares (see `ArxEstimator.parameterCovariance`).
+ * solve, no allocation per sample. Covariance: the sandwich R^-1 S R^-T (Söderström & Stoica
+ * 1989, sec. 8.2) with S a heteroscedasticity-and-autocorrelation-consistent sum of the scores
+ * g(k) = z(k) e(k) (e the a-priori residual): g g' plus the cross products with the previous na
+ * scores, truncated kernel (Newey & West, Econometrica 55, 1987, for the form; the lag count is
+ * that of the equation error A(q) n of white PV noise n, an MA(na) process), scaled as for
+ * weighted least squares (see `ArxEstimator.parameterCovariance`). The white-equation-error form
+ * sigma^2 R^-1 Szz R^-T overstates the spread when v = A(q) n (measured open loop, white MV: 95 %
+ * intervals covered 100 % with it, sd 2x too large) and serves only until the HAC sum has
+ * 10 informative samples per parameter. The truncated kernel's sum need not be positive
+ * semi-definite (over half of those open-loop runs): its negative eigenvalues are set to zero.
+ * Measured (300 seeded runs, white MV, PV noise 0.3): coverage 96.7 % at 500 samples, 98 % at
+ * 2,000 (slightly conservative). In manual (open loop), the auxiliary model starts after
+ * 25 informative samples per parameter; earlier, a poor estimate driven by the MV gave
+ * instruments that spoiled the sums (pole errors up to 38 on 300 seeded runs).
  */
 import { ControlArgumentError, NonFiniteInputError } from "./errors";
 import type { ArxModel } from "./types";
@@ -80,7 +93,14 @@ export interface InstrumentalArxState {
   conditioning: number;
   /** Auxiliary model: simulated y, u, e histories, run length, simulation-error sums. */
   aux: { ys: number[]; us: number[]; es: number[]; run: number; error: number; weight: number };
+  /** HAC score sum (absent in older states: it then starts empty and the white-noise covariance serves meanwhile). */
+  hac?: { S: number[]; g: number[]; weight: number; count: number; openAuxStarted: boolean };
 }
+
+/** Open loop: informative samples per parameter before the auxiliary-model instruments take over. */
+const OPEN_AUX_MIN_PER_PARAMETER = 25;
+/** Effective informative samples per parameter before the HAC covariance replaces the white-noise one. */
+const HAC_MIN_PER_PARAMETER = 10;
 
 function checkInt(name: string, v: number, min: number): void {
   if (!Number.isInteger(v) || v < min) throw new ControlArgumentError(`${name} must be an integer >= ${min}, got ${v}`);
@@ -134,6 +154,16 @@ export class InstrumentalArxEstimator {
   private simError = 0;
   private simWeight = 0;
   private lastSimError = NaN;
+  // HAC (Newey-West) sum of the scores g = z e over informative samples: g g' plus Bartlett-weighted
+  // cross products with the previous `hacLag` scores (ring, newest first), forgetting as R
+  private readonly hacLag: number;
+  private readonly hacS: Float64Array;
+  private readonly hacG: Float64Array;
+  private readonly g: Float64Array;
+  private hacWeight = 0;
+  private hacCount = 0;
+  /** Whether open-loop auxiliary instruments have taken over (the HAC sum restarts then, once). */
+  private openAuxStarted = false;
 
   constructor(options: InstrumentalArxOptions) {
     checkInt("na", options.na, 1);
@@ -180,6 +210,33 @@ export class InstrumentalArxEstimator {
     this.ysHist = new Float64Array(Math.max(1, this.na));
     this.usHist = new Float64Array(Math.max(this.nk + this.nb, this.cDen.length));
     this.esHist = new Float64Array(Math.max(1, this.cNum.length));
+    this.hacLag = this.na;
+    this.hacS = new Float64Array(d * d);
+    this.hacG = new Float64Array(this.hacLag * d);
+    this.g = new Float64Array(d);
+  }
+
+  /** Adds the score z e of one informative sample to the HAC sum (see `parameterCovariance`). */
+  private addScore(z: Float64Array, e: number, lam: number): void {
+    const d = this.d;
+    const L = this.hacLag;
+    const g = this.g;
+    const S = this.hacS;
+    const G = this.hacG;
+    for (let i = 0; i < d; i++) g[i] = z[i]! * e;
+    const lags = Math.min(L, this.hacCount);
+    for (let i = 0; i < d; i++) {
+      for (let j = 0; j < d; j++) {
+        let s = g[i]! * g[j]!;
+        for (let t = 0; t < lags; t++) s += g[i]! * G[t * d + j]! + G[t * d + i]! * g[j]!;
+        S[i * d + j] = lam * S[i * d + j]! + s;
+
+      }
+    }
+    G.copyWithin(d, 0, (L - 1) * d);
+    G.set(g, 0);
+    this.hacWeight = lam * this.hacWeight + 1;
+    this.hacCount++;
   }
 
   /**
@@ -256,11 +313,13 @@ export class InstrumentalArxEstimator {
     for (let j = 0; j < nb; j++) phi[na + j] = this.uHist[nk - 1 + j]!;
     const full = this.count >= nk + d + 1;
     let used = false;
+    let prior = NaN; // a-priori residual of the current estimate
     if (full) {
       // residual of the current estimate, every sample (noise level for the covariance and the fit)
       if (this.solved) {
         let e = y;
         for (let i = 0; i < d; i++) e -= phi[i]! * this.theta[i]!;
+        prior = e;
         const w = this.options.residualMemory;
         this.residual = w * this.residual + e * e;
         this.residualWeight = w * this.residualWeight + 1;
@@ -274,12 +333,23 @@ export class InstrumentalArxEstimator {
       } else {
         let zmax = 0;
         this.lastSimError = NaN;
-        const aux = this.solved && (mode === "open" || this.options.controller !== null);
+        // open loop: the auxiliary model only once the estimate rests on enough samples (a poor early
+        // estimate driven by the MV gives instruments that spoil the sums; seen: pole errors of 38)
+        const aux = this.solved && (mode === "closed" ? this.options.controller !== null : this.informative >= OPEN_AUX_MIN_PER_PARAMETER * d);
+        if (aux && mode === "open" && !this.openAuxStarted) {
+          // the scores of the first, poorer estimates would inflate the HAC sum for long (measured:
+          // 99 % coverage of 95 % intervals at 500 samples with them, 95 % without)
+          this.openAuxStarted = true;
+          this.hacS.fill(0);
+          this.hacG.fill(0);
+          this.hacWeight = 0;
+          this.hacCount = 0;
+        }
         if (aux) this.auxiliaryStep(u, y, r, mode === "open", z);
         if (aux && this.auxRun > nk + d) {
           // z holds the auxiliary model's regressor
         } else if (mode === "closed") for (let i = 0; i < d; i++) z[i] = this.rHist[nk - 1 + i]!;
-        else for (let i = 0; i < d; i++) z[i] = this.uHist[nk + i]!;
+        else for (let i = 0; i < d; i++) z[i] = this.uHist[nk - 1 + i]!;
         for (let i = 0; i < d; i++) zmax = Math.max(zmax, Math.abs(z[i]!));
         if (zmax > this.options.instrumentThreshold) {
           const lam = this.options.forgetting;
@@ -294,6 +364,7 @@ export class InstrumentalArxEstimator {
             this.f[i] = lam * this.f[i]! + zi * y;
           }
           this.effective = lam * this.effective + 1;
+          if (Number.isFinite(prior)) this.addScore(z, prior, lam);
           if (aux && Number.isFinite(this.lastSimError)) {
             const w = this.options.residualMemory;
             this.simError = w * this.simError + this.lastSimError;
@@ -410,8 +481,9 @@ export class InstrumentalArxEstimator {
   }
 
   /**
-   * Approximate covariance of [a, b] (nested d x d): sigma^2 R^-1 Szz R^-T (Söderström & Stoica
-   * 1989, sec. 8.2, white equation error as an approximation), times the weighted-least-squares
+   * Approximate covariance of [a, b] (nested d x d): R^-1 S R^-T with the HAC score sum S (file
+   * header), or sigma^2 R^-1 Szz R^-T (white equation error) before that has enough samples or
+   * when it is not positive on the diagonal; times the weighted-least-squares
    * factor (1 + lambda^n)/(1 + lambda). NaN entries when not available. Allocates (state time only).
    */
   parameterCovariance(): number[][] {
@@ -425,23 +497,34 @@ export class InstrumentalArxEstimator {
     const lam = this.options.forgetting;
     // sum w^2 z z' ~ Szz (sum w^2)/(sum w) = Szz (1 + lambda^n)/(1 + lambda)
     const factor = lam === 1 ? 1 : (1 + lam ** this.informative) / (1 + lam);
-    const tmp = new Float64Array(d * d);
-    for (let i = 0; i < d; i++) for (let j = 0; j < d; j++) {
-      let s = 0;
-      for (let k = 0; k < d; k++) s += Rinv[i * d + k]! * this.Szz[k * d + j]!;
-      tmp[i * d + j] = s;
-    }
-    const out: number[][] = [];
-    for (let i = 0; i < d; i++) {
-      const row: number[] = [];
-      for (let j = 0; j < d; j++) {
+    // the HAC sum of the scores once it has enough samples, else sigma^2 Szz (white equation error)
+    const sandwich = (middle: Float64Array, scale: number): number[][] => {
+      const tmp = new Float64Array(d * d);
+      for (let i = 0; i < d; i++) for (let j = 0; j < d; j++) {
         let s = 0;
-        for (let k = 0; k < d; k++) s += tmp[i * d + k]! * Rinv[j * d + k]!;
-        row.push(s2 * factor * s);
+        for (let k = 0; k < d; k++) s += Rinv[i * d + k]! * middle[k * d + j]!;
+        tmp[i * d + j] = s;
       }
-      out.push(row);
+      const out: number[][] = [];
+      for (let i = 0; i < d; i++) {
+        const row: number[] = [];
+        for (let j = 0; j < d; j++) {
+          let s = 0;
+          for (let k = 0; k < d; k++) s += tmp[i * d + k]! * Rinv[j * d + k]!;
+          row.push(scale * s);
+        }
+        out.push(row);
+      }
+      return out;
+    };
+    if (this.hacWeight >= HAC_MIN_PER_PARAMETER * d) {
+      // the truncated kernel need not be positive semi-definite (seen in over half of the open-loop
+      // runs): its negative eigenvalues are set to zero (nearest PSD matrix in the Frobenius norm;
+      // Higham, Linear Algebra Appl. 103, 1988)
+      const cov = sandwich(nearestPsd(this.hacS, d), factor);
+      if (cov.every((row, i) => row[i]! > 0)) return cov;
     }
-    return out;
+    return sandwich(this.Szz, s2 * factor);
   }
 
   toJSON(): InstrumentalArxState {
@@ -464,6 +547,7 @@ export class InstrumentalArxEstimator {
       solved: this.solved,
       conditioning: this.conditioning,
       aux: { ys: Array.from(this.ysHist), us: Array.from(this.usHist), es: Array.from(this.esHist), run: this.auxRun, error: this.simError, weight: this.simWeight },
+      hac: { S: Array.from(this.hacS), g: Array.from(this.hacG), weight: this.hacWeight, count: this.hacCount, openAuxStarted: this.openAuxStarted },
     };
   }
 
@@ -505,8 +589,74 @@ export class InstrumentalArxEstimator {
     est.auxRun = num("aux.run", s.aux.run);
     est.simError = num("aux.error", s.aux.error);
     est.simWeight = num("aux.weight", s.aux.weight);
+    if (s.hac) {
+      est.hacS.set(arr("hac.S", s.hac.S, d * d));
+      est.hacG.set(arr("hac.g", s.hac.g, est.hacG.length));
+      est.hacWeight = num("hac.weight", s.hac.weight);
+      est.hacCount = num("hac.count", s.hac.count);
+      est.openAuxStarted = s.hac.openAuxStarted === true;
+    } else {
+      est.openAuxStarted = est.informative >= OPEN_AUX_MIN_PER_PARAMETER * d;
+    }
     return est;
   }
+}
+
+/**
+ * V max(L, 0) V' of a symmetric row-major d x d matrix, by the cyclic Jacobi eigenvalue method
+ * (Golub & Van Loan, *Matrix Computations*, 4th ed., 2013, sec. 8.5); small d only.
+ */
+function nearestPsd(S: Float64Array, d: number): Float64Array {
+  const a = Float64Array.from(S);
+  for (let i = 0; i < d; i++) for (let j = 0; j < i; j++) a[i * d + j] = a[j * d + i] = 0.5 * (a[i * d + j]! + a[j * d + i]!);
+  const v = new Float64Array(d * d);
+  for (let i = 0; i < d; i++) v[i * d + i] = 1;
+  for (let sweep = 0; sweep < 50; sweep++) {
+    let off = 0;
+    let norm = 0;
+    for (let i = 0; i < d; i++) {
+      for (let j = 0; j < d; j++) {
+        if (i === j) norm += a[i * d + j]! ** 2;
+        else off += a[i * d + j]! ** 2;
+      }
+    }
+    if (off <= 1e-30 * norm) break;
+    for (let p = 0; p < d - 1; p++) {
+      for (let q = p + 1; q < d; q++) {
+        const apq = a[p * d + q]!;
+        if (apq === 0) continue;
+        const theta = (a[q * d + q]! - a[p * d + p]!) / (2 * apq);
+        const t = Math.sign(theta || 1) / (Math.abs(theta) + Math.sqrt(theta * theta + 1));
+        const c = 1 / Math.sqrt(t * t + 1);
+        const sn = t * c;
+        for (let k = 0; k < d; k++) {
+          const akp = a[k * d + p]!;
+          const akq = a[k * d + q]!;
+          a[k * d + p] = c * akp - sn * akq;
+          a[k * d + q] = sn * akp + c * akq;
+        }
+        for (let k = 0; k < d; k++) {
+          const apk = a[p * d + k]!;
+          const aqk = a[q * d + k]!;
+          a[p * d + k] = c * apk - sn * aqk;
+          a[q * d + k] = sn * apk + c * aqk;
+        }
+        for (let k = 0; k < d; k++) {
+          const vkp = v[k * d + p]!;
+          const vkq = v[k * d + q]!;
+          v[k * d + p] = c * vkp - sn * vkq;
+          v[k * d + q] = sn * vkp + c * vkq;
+        }
+      }
+    }
+  }
+  const out = new Float64Array(d * d);
+  for (let k = 0; k < d; k++) {
+    const lam = Math.max(0, a[k * d + k]!);
+    if (lam === 0) continue;
+    for (let i = 0; i < d; i++) for (let j = 0; j < d; j++) out[i * d + j] = out[i * d + j]! + lam * v[i * d + k]! * v[j * d + k]!;
+  }
+  return out;
 }
 
 /** Inverse of a small d x d row-major matrix by Gauss-Jordan with partial pivoting; null if singular. */

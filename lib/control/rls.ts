@@ -23,6 +23,17 @@
  *   bound a few times the trace reached under good excitation is what curbs wind-up.
  * - "none": plain exponential forgetting.
  *
+ * Error covariance (`errorCovariance`): whatever the gain sequence (forgetting, guard), the
+ * estimate obeys theta~(k) = (I - K phi') theta~(k-1) + K e(k) for a constant true theta and
+ * white e of variance sigma^2, so Q = Cov(theta~)/sigma^2 propagates exactly as
+ *   Q <- (I - K phi') Q (I - K phi')' + K K' = Q - K v' - v K' + (phi' v + 1) K K',  v = Q phi
+ * (O(n^2); the Joseph form of the Kalman filter, e.g. Grewal & Andrews, *Kalman Filtering*, 2008,
+ * sec. 4.2, for an arbitrary gain). Q starts at P0 (the prior read as sigma^2 P0), so Q = P at
+ * lambda = 1. Under exponential forgetting Q ~ P (1 + lambda^k)/(1 + lambda); under directional
+ * forgetting no scalar factor holds (P keeps unexcited directions unforgotten while the gain
+ * still shrinks along the excited ones), and the tests measured 88-91 % coverage of 95 %
+ * intervals with that factor; with Q it is 93-97 %. Off by default (opt-in, `trackErrorCovariance`).
+ *
  * Numerical care: P is updated on its upper triangle and mirrored (exactly symmetric); if a
  * diagonal element turns non-positive or non-finite, or phi' P phi comes out negative (loss of
  * definiteness), P is re-initialised to the initial covariance and `covarianceResets` counts it. The per-sample path allocates nothing.
@@ -45,6 +56,8 @@ export interface RlsOptions {
   maxTrace?: number;
   /** Initial parameter vector; default zeros. */
   initialTheta?: readonly number[];
+  /** Propagate the error covariance Q (see the file header); default false. */
+  trackErrorCovariance?: boolean;
 }
 
 /** Smallest phi'P phi for which directional forgetting is applied (below it: data update only). */
@@ -72,6 +85,10 @@ export class RecursiveLeastSquares {
   covarianceResets = 0;
   /** r = phi' P phi of the last update (the regressor's uncertainty, dimensionless gain). */
   lastR = 0;
+  /** Error covariance Q per unit noise variance, row-major n x n (live view), or null when not tracked. */
+  readonly errorCovariance: Float64Array | null;
+  private readonly qv: Float64Array;
+  private readonly gain: Float64Array;
 
   private readonly p0: Float64Array;
   private readonly theta0: Float64Array;
@@ -128,12 +145,41 @@ export class RecursiveLeastSquares {
     this.theta = Float64Array.from(this.theta0);
     this.covariance = Float64Array.from(this.p0);
     this.pphi = new Float64Array(n);
+    this.errorCovariance = options.trackErrorCovariance ? Float64Array.from(this.p0) : null;
+    this.qv = new Float64Array(n);
+    this.gain = new Float64Array(n);
+  }
+
+  /** Q <- Q - K v' - v K' + (phi' v + 1) K K' with v = Q phi (file header). */
+  private propagateError(regressor: ArrayLike<number>, gainScale: number): void {
+    const Q = this.errorCovariance;
+    if (!Q) return;
+    const n = this.n;
+    const v = this.qv;
+    const K = this.gain;
+    let s = 0;
+    for (let i = 0; i < n; i++) {
+      let t = 0;
+      for (let j = 0; j < n; j++) t += Q[i * n + j]! * regressor[j]!;
+      v[i] = t;
+      s += regressor[i]! * t;
+      K[i] = this.pphi[i]! * gainScale;
+    }
+    const c = s + 1;
+    for (let i = 0; i < n; i++) {
+      for (let j = i; j < n; j++) {
+        const q = Q[i * n + j]! - K[i]! * v[j]! - v[i]! * K[j]! + c * K[i]! * K[j]!;
+        Q[i * n + j] = q;
+        Q[j * n + i] = q;
+      }
+    }
   }
 
   /** Back to theta0 and P0; counters cleared. */
   reset(): void {
     this.theta.set(this.theta0);
     this.covariance.set(this.p0);
+    this.errorCovariance?.set(this.p0);
     this.updates = 0;
     this.covarianceResets = 0;
     this.lastR = 0;
@@ -179,6 +225,7 @@ export class RecursiveLeastSquares {
     if (this.windup === "directional") {
       const inv1r = 1 / (1 + r);
       const g = err * inv1r;
+      this.propagateError(regressor, inv1r);
       for (let i = 0; i < n; i++) th[i] = th[i]! + pphi[i]! * g;
       // c = 1 / (1/beta + r) with beta = lambda - (1 - lambda)/r; since 1 + beta r = lambda (1 + r),
       // c = beta / (lambda (1 + r)) = (1 - ((1 - lambda)/lambda) / r) / (1 + r): two divisions, and
@@ -199,6 +246,7 @@ export class RecursiveLeastSquares {
     } else {
       const denom = lambda + r;
       const g = err / denom;
+      this.propagateError(regressor, 1 / denom);
       for (let i = 0; i < n; i++) th[i] = th[i]! + pphi[i]! * g;
       const inv = 1 / lambda;
       for (let i = 0; i < n; i++) {
@@ -223,6 +271,7 @@ export class RecursiveLeastSquares {
     }
     if (!ok) {
       P.set(this.p0);
+      this.errorCovariance?.set(this.p0);
       this.covarianceResets++;
     }
     this.lastR = r;
@@ -244,6 +293,7 @@ export class RecursiveLeastSquares {
       covariance: toNested(this.covariance, this.n),
       updates: this.updates,
       covarianceResets: this.covarianceResets,
+      ...(this.errorCovariance ? { errorCovariance: toNested(this.errorCovariance, this.n) } : {}),
     };
   }
 
@@ -277,6 +327,18 @@ export class RecursiveLeastSquares {
     this.covariance.set(p);
     this.updates = updates;
     this.covarianceResets = Number.isInteger(state.covarianceResets) ? state.covarianceResets : 0;
+    const Q = this.errorCovariance;
+    if (Q) {
+      const eq = state.errorCovariance;
+      const ok = Array.isArray(eq) && eq.length === n && eq.every((row) => Array.isArray(row) && row.length === n && row.every((v) => typeof v === "number" && Number.isFinite(v)));
+      if (ok) for (let i = 0; i < n; i++) for (let j = 0; j < n; j++) Q[i * n + j] = eq[i]![j]!;
+      else {
+        // an older state without Q: the exponential-forgetting approximation of it
+        const lam = this.forgetting;
+        const f = lam === 1 ? 1 : (1 + lam ** updates) / (1 + lam);
+        for (let i = 0; i < n * n; i++) Q[i] = p[i]! * f;
+      }
+    }
   }
 }
 
@@ -305,4 +367,6 @@ export interface RlsState {
   covariance: number[][];
   updates: number;
   covarianceResets: number;
+  /** Error covariance per unit noise variance, when tracked (absent in older states). */
+  errorCovariance?: number[][];
 }

@@ -11,6 +11,9 @@
  *   Algorithms 13, 1996: starting points on circles from the Newton polygon, evaluation through the
  *   reversed polynomial when |z| > 1, and a per-root stop once |p(z)| is at the rounding level of
  *   Horner's rule, 2(m + 1) eps sum |a_k| |z|^k (backward error of order machine epsilon).
+ *   A root whose last correction took it out of the stop test's region goes back to its last
+ *   position that passed; `polyRootsWithBounds` (root-bounds.ts) reports the test per root with a
+ *   conditioning bound.
  * The variable is first scaled by a power of two near the geometric mean of the root moduli
  * (exact in binary floating point). Exact zero roots (trailing zero coefficients) are returned
  * exactly; leading zero coefficients are stripped. For real input the returned set is exactly
@@ -41,6 +44,9 @@ let zi = new Float64Array(0);
 let done = new Uint8Array(0);
 let hullIdx = new Int32Array(0);
 let logAbs = new Float64Array(0);
+let okR = new Float64Array(0); // last position of each root that passed the stop test
+let okI = new Float64Array(0);
+let hasOk = new Uint8Array(0);
 
 function ensureCapacity(n: number): void {
   if (n <= cap) return;
@@ -51,6 +57,9 @@ function ensureCapacity(n: number): void {
   done = new Uint8Array(cap);
   hullIdx = new Int32Array(cap + 1);
   logAbs = new Float64Array(cap + 1);
+  okR = new Float64Array(cap);
+  okI = new Float64Array(cap);
+  hasOk = new Uint8Array(cap);
 }
 
 /**
@@ -224,7 +233,10 @@ function aberth(
     }
   }
   if (!warm) initialGuesses(m);
-  for (let i = 0; i < m; i++) done[i] = 0;
+  for (let i = 0; i < m; i++) {
+    done[i] = 0;
+    hasOk[i] = 0;
+  }
   let remaining = m;
   const stop = STOP_FACTOR_PER_DEGREE * (m + 1) * EPS;
   // Once every root has met the stop test, one more full sweep (all roots corrected): in a tight
@@ -262,6 +274,9 @@ function aberth(
         if (Math.sqrt(pp) <= stop * bound) {
           done[i] = 1;
           remaining--;
+          okR[i] = x;
+          okI[i] = y;
+          hasOk[i] = 1;
           if (pp === 0) continue;
         }
         if (pp === 0) continue;
@@ -287,6 +302,9 @@ function aberth(
         if (Math.sqrt(pp) <= stop * bound) {
           done[i] = 1;
           remaining--;
+          okR[i] = x;
+          okI[i] = y;
+          hasOk[i] = 1;
           if (pp === 0) continue;
         }
         if (pp === 0) continue;
@@ -319,11 +337,39 @@ function aberth(
       zi[i] = y + deni / den2;
     }
   }
+  // The correction applied after a root met the stop test (and the final sweep) is not checked by
+  // the loop; in a tight cluster it can throw a root out of the pseudo-zero region (seen: a root at
+  // modulus 1.16 for a degree-8 cluster whose largest root is 1.007). Every root that fails the
+  // test now goes back to its last position that passed it.
+  for (let i = 0; i < m; i++) {
+    if (hasOk[i] && !passesStop(m, zr[i]!, zi[i]!, stop)) {
+      zr[i] = okR[i]!;
+      zi[i] = okI[i]!;
+    }
+  }
   symmetrise(m);
   for (let i = 0; i < m; i++) {
     outRe[i] = zr[i]! * rho;
     outIm[i] = zi[i]! * rho;
   }
+}
+
+/** The stop test of `aberth` at z = x + iy on the scaled monic polynomial in `work`. */
+function passesStop(m: number, x: number, y: number, stop: number): boolean {
+  const mod2 = x * x + y * y;
+  const inside = mod2 <= 1;
+  const wr = inside ? x : x / mod2;
+  const wi = inside ? y : -y / mod2;
+  const aw = Math.sqrt(wr * wr + wi * wi);
+  let pr = 0, pi = 0, bound = 0;
+  for (let j = 0; j <= m; j++) {
+    const c = work[inside ? j : m - j]!;
+    const npr = pr * wr - pi * wi + c;
+    pi = pr * wi + pi * wr;
+    pr = npr;
+    bound = bound * aw + Math.abs(c);
+  }
+  return Math.sqrt(pr * pr + pi * pi) <= stop * bound;
 }
 
 /**

@@ -60,11 +60,19 @@ function assertPeriod(T: number): void {
 
 /**
  * s = ln(z) / T on the principal branch (arg z in (-pi, pi]); T in seconds, s in 1/s.
- * z = 0 maps to s = -Infinity (real part).
+ * z = 0 maps to s = -Infinity (real part). Within |z - 1| < 0.5 the real part is
+ * 0.5 log1p(|z|^2 - 1) / T with |z|^2 - 1 formed from w = z - 1, so it keeps full relative
+ * accuracy for poles very close to z = 1 (fast sampling).
  */
 export function zToS(z: Complex, T: number): Complex {
   assertFiniteComplex(z, "z");
   assertPeriod(T);
+  const w = z.re - 1; // exact for z.re in [0.5, 2] (Sterbenz)
+  if (w * w + z.im * z.im < 0.25) {
+    // near z = 1: ln|z| = 0.5 log1p(|z|^2 - 1) with |z|^2 - 1 = w (2 + w) + y^2 formed without the
+    // cancellation of |z| - 1 (Higham 2002 sec. 1.14 on log1p; common practice)
+    return { re: (0.5 * Math.log1p(w * (2 + w) + z.im * z.im)) / T, im: Math.atan2(z.im, z.re) / T };
+  }
   const r = Math.sqrt(z.re * z.re + z.im * z.im);
   return { re: Math.log(r) / T, im: Math.atan2(z.im, z.re) / T };
 }

@@ -54,6 +54,7 @@ import { forecastCrossing } from "@/lib/control/forecast";
 import { juryTest } from "@/lib/control/jury";
 import { polyMul, qToZ, stripLeadingZeros } from "@/lib/control/poly";
 import { polyRoots } from "@/lib/control/roots";
+import { polyRootsWithBounds, rimVerdict } from "@/lib/control/root-bounds";
 import type { ArxModel, Complex, QTf } from "@/lib/control/types";
 import { decayRatio, poleCharacteristics } from "@/lib/control/zplane";
 import type { LoopMode, LoopStateDto, PoleDto, SampleDto, TrackerState } from "@/lib/types";
@@ -517,6 +518,7 @@ export class LoopTracker {
       rimDistance: null,
       decayRatio: null,
       juryStable: null,
+      rimUndecided: false,
       dominant: null,
       gainHeadroom: null,
       radiusSd: null,
@@ -552,6 +554,9 @@ export class LoopTracker {
     if (this.plantReady()) {
       if (this.lastGood) this.modelBased(st, this.lastGood.model, this.lastGood.cov);
     }
+    // a root whose conditioning bound straddles |z| = 1: no Jury verdict either way ("undecided near the rim")
+    st.rimUndecided = rimVerdict(st.modelPoles.length > 0 ? st.modelPoles : st.dataPoles) === "undecided";
+    if (st.rimUndecided) st.juryStable = null;
     if (st.spectralRadius !== null && (kind.state === "tracking" || kind.state === "low-excitation")) {
       const t = sampleT / 1000;
       const last = this.radiusHistory[this.radiusHistory.length - 1];
@@ -582,7 +587,8 @@ export class LoopTracker {
       } catch {
         conf = null;
       }
-      return roots.map((z, i) => toPoleDto(z, conf?.[i]));
+      const bounded = polyRootsWithBounds(coeffs, { roots });
+      return roots.map((z, i) => toPoleDto(z, conf?.[i], bounded[i]?.bound));
     } catch {
       return [];
     }
@@ -601,7 +607,8 @@ export class LoopTracker {
         conf = null;
       }
       st.characteristic = char.every(Number.isFinite) ? char : null;
-      st.modelPoles = roots.map((z, i) => toPoleDto(z, conf?.[i]));
+      const bounded = polyRootsWithBounds(char, { roots });
+      st.modelPoles = roots.map((z, i) => toPoleDto(z, conf?.[i], bounded[i]?.bound));
       let rho = 0;
       let dom = 0;
       roots.forEach((z, i) => {
@@ -752,10 +759,10 @@ function plausiblePlantPoles(a: ArrayLike<number>): boolean {
   return roots.every((z) => modulus(z) <= 1.02 && !(Math.abs(z.im) < 1e-9 && z.re < -0.05));
 }
 
-function toPoleDto(z: Complex, c: { radiusStd: number; covariance: [[number, number], [number, number]] } | undefined): PoleDto {
+function toPoleDto(z: Complex, c: { radiusStd: number; covariance: [[number, number], [number, number]] } | undefined, bound?: number): PoleDto {
   const sd = c ? finite(c.radiusStd) : null;
   const cov = c ? ([c.covariance[0][0], c.covariance[0][1], c.covariance[1][1]] as [number, number, number]) : null;
-  return { re: z.re, im: z.im, radius: modulus(z), sdRadius: sd, cov: cov && cov.every(Number.isFinite) ? cov : null };
+  return { re: z.re, im: z.im, radius: modulus(z), sdRadius: sd, cov: cov && cov.every(Number.isFinite) ? cov : null, bound: bound !== undefined && Number.isFinite(bound) ? bound : null };
 }
 
 function fmt(v: number | null): string {

@@ -14,6 +14,7 @@ import {
   idleFilter,
   type ConditionMemory,
 } from "@/lib/alarms/conditions";
+import { polyRootsWithBounds } from "@/lib/control/root-bounds";
 import { DEFAULT_POLICY, resolvePolicy, type EffectivePolicy } from "@/lib/alarms/policy";
 import type { LoopStateDto, PoleDto, TrackerState } from "@/lib/types";
 
@@ -240,6 +241,23 @@ describe("unstable and suppression by design", () => {
     expect(evaluateConditions(newConditionMemory(), state(clear), policy({ onDelayS: 0 }), { baselineTimeConstantS: null }, T0).verdicts.unstable.active).toBe(true);
     // confidenceSigmas 0: point estimates
     expect(evaluateConditions(newConditionMemory(), state(noisy), policy({ onDelayS: 0, confidenceSigmas: 0 }), { baselineTimeConstantS: null }, T0).verdicts.unstable.active).toBe(true);
+  });
+
+  it("a pole whose conditioning bound straddles the circle is 'undecided near the rim': no `unstable` alarm, and no Jury verdict", () => {
+    // degree-8 cluster near z = 1 from an independent check: computed radius 1.0049, exact 1.0073
+    // (60-digit arithmetic, tests/reference/roots60.py); one rounding error moves these roots ~5e-3
+    const c = [1, -7.950331912110265, 27.656735084214, -54.98338110127773, 68.32749654287207, -54.34925991791389, 27.02255540039403, -7.678498832658167, 0.9546847364799502];
+    const poles: PoleDto[] = polyRootsWithBounds(c).map((z) => ({ ...pole(z.re, z.im), bound: z.bound }));
+    expect(Math.max(...poles.map((p) => p.radius))).toBeGreaterThan(1);
+    const r = evaluateConditions(newConditionMemory(), state(poles, { juryStable: null, rimUndecided: true }), policy({ onDelayS: 0 }), { baselineTimeConstantS: null }, T0);
+    expect(r.verdicts.unstable.active).toBe(false);
+    expect(r.verdicts.unstable.message).toMatch(/undecided near the rim/);
+    // the same poles without their bounds would raise it (what the console did before)
+    const bare = poles.map((p) => ({ ...p, bound: null }));
+    expect(evaluateConditions(newConditionMemory(), state(bare), policy({ onDelayS: 0 }), { baselineTimeConstantS: null }, T0).verdicts.unstable.active).toBe(true);
+    // a pole outside by more than its bound is decided: unstable
+    const far = [{ ...pole(1.05, 0), bound: 0.01 }, pole(0.3, 0)];
+    expect(evaluateConditions(newConditionMemory(), state(far), policy({ onDelayS: 0 }), { baselineTimeConstantS: null }, T0).verdicts.unstable.active).toBe(true);
   });
 
   it("the on-delay of `unstable` is strict: a verdict that flickers never activates", () => {

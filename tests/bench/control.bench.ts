@@ -15,6 +15,11 @@
  * can). The earlier variant (cold solve, full `poleCharacteristics` for every root) is kept beside
  * it for comparison. Note: server/tracking/loop-tracker.ts itself calls the contract API (last
  * line), once per state period rather than per update.
+ *
+ * After the timings, a coverage table (tests/bench/coverage-table.ts): seeded Monte Carlo interval
+ * coverage of pole radii, through the tracker, of the IV estimator in manual and of the rim
+ * forecast, each beside its target band (about a minute or two on one core; BENCH_COVERAGE=0
+ * leaves it out).
  */
 import { availableParallelism, loadavg } from "node:os";
 import { RecursiveLeastSquares } from "@/lib/control/rls";
@@ -24,6 +29,7 @@ import { polyRoots, polyRootsInto } from "@/lib/control/roots";
 import { juryStable, juryTest } from "@/lib/control/jury";
 import { dominantPoleInto, newDominantPoleFigures, poleCharacteristics } from "@/lib/control/zplane";
 import type { ArxModel } from "@/lib/control/types";
+import { printCoverageTable } from "./coverage-table";
 
 // ---- data: seeded regressors and outputs (mulberry32), shared by every case -------------------
 function mulberry32(seed: number): () => number {
@@ -289,3 +295,4 @@ for (const [name, fn, iterations] of cases) {
 }
 console.log(`load average at end: ${loadavg().map((v) => v.toFixed(2)).join(" ")}`);
 console.log(`target: hot tracker step <= 4x BASELINE -> measured x${hotRatio.toFixed(2)} (ratio of bests; ${hotRatio <= 4 ? "within" : "over"} target), median of paired rounds x${hotMedian.toFixed(2)}`);
+if (process.env.BENCH_COVERAGE !== "0") printCoverageTable();

@@ -57,6 +57,25 @@ describe("c2dZoh: textbook worked examples (Franklin, Powell & Workman 1998 ch. 
     expect(Math.abs(polyEval(d.den, 1))).toBeLessThan(1e-15); // the integrator stays at z = 1 (exact factor, rounded on expansion)
   });
 
+  it("keeps the integrator exact: den(1) by Horner's rule is exactly 0 for integrating plants, with and without dead time", () => {
+    // an integrator in G(s) is a pole at z = 1 in the ZOH model (Franklin, Powell & Workman 1998 sec. 4.3)
+    const plants: [number[], number[], number, number][] = [
+      [[1], [1, 1, 0], 1, 0],
+      [[0.5], [1, 0], 1, 0],
+      [[1], [1, 1, 0], 0.5, 0.2],
+      [[1], [3, 1, 0], 0.1, 0],
+      [[2, 1], [1, 0.7, 0.2, 0], 0.05, 0.13],
+      [[1], [10, 7, 1, 0], 0.3, 0.9],
+      [[1], [1, 0.4, 0], 0.01, 0],
+      [[1], [2, 3, 1, 0], 0.7, 0],
+      [[1], [1, 0, 0], 0.5, 0],
+    ];
+    for (const [num, den, T, delay] of plants) {
+      const d = c2dZoh({ num, den }, T, delay);
+      expect(polyEval(d.den, 1), `${den.join(",")} T=${T} delay=${delay}`).toBe(0);
+    }
+  });
+
   it("1/s^2 at T = 0.5 s gives T^2 (z + 1) / (2 (z - 1)^2)", () => {
     const d = c2dZoh({ num: [1], den: [1, 0, 0] }, 0.5);
     expectPoly(d.num, [0.125, 0.125], 1e-15);

@@ -1,6 +1,6 @@
 import { describe, expect, it } from "vitest";
 import { eigs, inv, matrix, multiply, transpose, add, type Matrix } from "mathjs";
-import { RecursiveLeastSquares, type WindupGuard } from "@/lib/control/rls";
+import { RecursiveLeastSquares, type RlsState, type WindupGuard } from "@/lib/control/rls";
 import { ControlArgumentError, NonFiniteInputError } from "@/lib/control/errors";
 import { mulberry32, normal } from "./seeded-random";
 
@@ -188,5 +188,36 @@ describe("RecursiveLeastSquares", () => {
     a.reset();
     expect(Array.from(a.theta)).toEqual([0, 0, 0]);
     expect(a.covariance[0]).toBe(1000);
+  });
+});
+
+describe("RLS error covariance (Joseph-form propagation for the gains used)", () => {
+  const run = (opts: ConstructorParameters<typeof RecursiveLeastSquares>[0], n: number) => {
+    const rls = new RecursiveLeastSquares({ ...opts, trackErrorCovariance: true });
+    const g = normal(mulberry32(31));
+    for (let k = 0; k < n; k++) rls.update([g(), g(), g()], g());
+    return rls;
+  };
+  it("equals P at lambda = 1 (recursive least squares is then exactly (sum phi phi' + P0^-1)^-1; Ljung & Söderström 1983 ch. 2)", () => {
+    const rls = run({ parameters: 3, forgetting: 1, windup: "none", initialCovariance: 100 }, 400);
+    const Q = rls.errorCovariance!;
+    for (let i = 0; i < 9; i++) expect(Math.abs(Q[i]! - rls.covariance[i]!)).toBeLessThan(1e-9 * Math.abs(rls.covariance[0]!));
+  });
+  it("approaches P / (1 + lambda) in steady state under exponential forgetting (weighted LS, sum w^2 / sum w)", () => {
+    const rls = run({ parameters: 3, forgetting: 0.98, windup: "none", initialCovariance: 100 }, 3000);
+    const Q = rls.errorCovariance!;
+    for (const i of [0, 4, 8]) expect(Q[i]! / (rls.covariance[i]! / 1.98)).toBeGreaterThan(0.9);
+    for (const i of [0, 4, 8]) expect(Q[i]! / (rls.covariance[i]! / 1.98)).toBeLessThan(1.1);
+  });
+  it("survives a checkpoint, and an older state without it gets the exponential-forgetting approximation", () => {
+    const a = run({ parameters: 3, forgetting: 0.995 }, 300);
+    const b = new RecursiveLeastSquares({ parameters: 3, trackErrorCovariance: true });
+    b.restore(JSON.parse(JSON.stringify(a.toJSON())) as RlsState);
+    expect(Array.from(b.errorCovariance!)).toEqual(Array.from(a.errorCovariance!));
+    const { errorCovariance: _q, ...old } = a.toJSON();
+    const c = new RecursiveLeastSquares({ parameters: 3, trackErrorCovariance: true });
+    c.restore(old);
+    const f = (1 + 0.995 ** 300) / 1.995;
+    expect(c.errorCovariance![0]).toBeCloseTo(a.covariance[0]! * f, 12);
   });
 });

@@ -29,6 +29,30 @@ describe("z = e^{sT} mapping", () => {
     }
   });
 
+  it("keeps full relative accuracy for |z - 1| < 1e-5 (reference: the Taylor series of ln(1 + w), common practice)", () => {
+    // z = 1 + w; Re ln z = Re(w - w^2/2 + w^3/3 - w^4/4), truncation below 1e-25 relative for |w| < 1e-5
+    const seriesRe = (a: number, b: number): number => {
+      let re = 0;
+      let pr = 1;
+      let pi = 0;
+      for (let k = 1; k <= 6; k++) {
+        const t = pr * a - pi * b;
+        pi = pr * b + pi * a;
+        pr = t;
+        re += ((k % 2 === 1 ? 1 : -1) * pr) / k;
+      }
+      return re;
+    };
+    let worst = 0;
+    for (const [a, b] of [[-3e-6, 1e-6], [1e-7, -4e-8], [-7.5e-9, 0], [2e-6, 5e-6], [-1e-10, 3e-11], [4e-6, -6e-6]] as const) {
+      const s = zToS({ re: 1 + a, im: b }, 2);
+      // the reference uses the w that 1 + a actually holds in binary
+      const ref = seriesRe(1 + a - 1, b) / 2;
+      worst = Math.max(worst, Math.abs(s.re - ref) / Math.abs(ref));
+    }
+    expect(worst).toBeLessThan(1e-13);
+  });
+
   it("crowds every pole toward z = 1 as T -> 0 (common practice)", () => {
     const poles = [sPole(0.2, 5), { re: -0.1, im: 0 }, { re: -20, im: 0 }];
     for (const s of poles) {

@@ -9,6 +9,8 @@ TypeScript code under test:
 - Roots: polynomials built from chosen roots with numpy.poly; the chosen roots are the truth
   (numpy.roots itself is inaccurate on clustered roots). A per-case tolerance is derived from the
   first-order perturbation bound of the rounded coefficients.
+- Clustered roots near z = 1: seeded polynomials rounded to doubles; their exact roots by
+  60-digit Durand-Kerner in Python's `decimal` (roots60.py), started from numpy.roots.
 - Step responses: scipy.signal.lfilter on the cont2discrete model.
 - Gain headroom: a scan of the loop-gain factor k with numpy.roots (max |root| >= 1), refined by
   bisection on the same test; no Jury test involved.
@@ -25,6 +27,8 @@ import numpy as np
 import scipy
 import scipy.linalg
 import scipy.signal
+
+from roots60 import roots60
 
 EPS = np.finfo(float).eps
 SEED = 20261201
@@ -241,6 +245,41 @@ def roots_cases(rng):
     return cases
 
 
+# ---------------------------------------------------------------- clustered roots near z = 1
+# The polynomial of the independent check (degree 8, spectral radius 1.0073 in 60 digits).
+CLUSTER_CHECK = [1, -7.950331912110265, 27.656735084214, -54.98338110127773, 68.32749654287207,
+                 -54.34925991791389, 27.02255540039403, -7.678498832658167, 0.9546847364799502]
+
+
+def cluster_cases(rng, count=60):
+    """Seeded polynomials of degree 6-10 with roots clustered near z = 1 (a data-only model at
+    fast sampling): conjugate pairs at small angles and reals, radius 0.96-1.01, one far root
+    sometimes. The double-precision coefficients are the polynomial; its exact roots come from
+    60-digit Durand-Kerner (roots60.py), not from the chosen roots."""
+    def case(name, coeffs):
+        # coefficients as round-trip strings (repr): the fixture's 15-digit rounding of numbers
+        # would change these ill-conditioned polynomials by more than their roots' bounds allow
+        return {"name": name, "coeffs": [repr(float(c)) for c in coeffs], "roots": [cplx(z) for z in roots60(coeffs)]}
+
+    cases = [case("independent-check-degree-8", CLUSTER_CHECK)]
+    for t in range(count):
+        deg = int(rng.integers(6, 11))
+        rs = []
+        while len(rs) < deg:
+            rad = rng.uniform(0.96, 1.01)
+            if deg - len(rs) >= 2 and rng.uniform() < 0.6:
+                ang = rng.uniform(0.0005, 0.06)
+                z = rad * complex(math.cos(ang), math.sin(ang))
+                rs += [z, z.conjugate()]
+            elif len(rs) == 0 or rng.uniform() < 0.85:
+                rs.append(rad)
+            else:
+                rs.append(rng.uniform(-0.5, 0.7))
+        coeffs = [float(c) for c in np.real(np.poly(rs))]
+        cases.append(case(f"cluster-{t}", coeffs))
+    return cases
+
+
 # ---------------------------------------------------------------- closed loop and gain headroom
 def pi_velocity(kp, ti, T):
     """Velocity-form PI (DOMAIN.md sec. 3): N = kp[(1 + T/ti) - q^-1], D = 1 - q^-1."""
@@ -352,6 +391,7 @@ def main():
         "libraries": "numpy, scipy (versions not recorded: values rounded to 15 significant digits)",
         "zoh": zoh_cases(),
         "roots": roots_cases(rng),
+        "clusters": cluster_cases(np.random.default_rng(SEED + 1)),
         "loops": loop_cases(),
         "steps": step_cases(),
     }
