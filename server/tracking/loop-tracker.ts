@@ -44,7 +44,16 @@
  *    forecast of the radius over a window far longer than the estimator's memory.
  * A full state is computed at most once per second of telemetry time (and on state changes).
  * `stale`: no message for 3 delivery periods (the telemetry period times the samples per
- * message, so a batching gateway does not flap), or a PV repeated exactly for 30 s.
+ * message, so a batching gateway does not flap), or a PV repeated exactly for 30 s, or a run of
+ * bad-quality samples (a sensor fault).
+ * Sample quality (lib/sample-quality.ts): a bad or uncertain sample (fault code, out of range,
+ * the gateway's word) never reaches an estimator or a statistic. It stands in the decimation
+ * block as the last good value (so the estimation clock keeps its period) and the estimation
+ * samples whose regressors hold it update nothing. The tracker counts quality over a recent window
+ * and remembers the last bad sample (`sampleQuality` in the state: input to a sensor-fault finding).
+ * Isolated in-range PV outliers are bounded by a residual test on the plant model's a-priori
+ * prediction error (lib/control/robust.ts), and a sustained collapse of that error against its own
+ * baseline is reported as `poor-fit` (the model figures are then not trusted, like low excitation).
  */
 import { ArxEstimator, type ArxEstimatorState } from "@/lib/control/arx";
 import { InstrumentalArxEstimator, type InstrumentalArxState } from "@/lib/control/riv";
@@ -53,11 +62,14 @@ import { closedLoopCoefficientCovariance, poleConfidence } from "@/lib/control/c
 import { forecastCrossing } from "@/lib/control/forecast";
 import { juryTest } from "@/lib/control/jury";
 import { polyMul, qToZ, stripLeadingZeros } from "@/lib/control/poly";
+import { ArxPredictor, ResidualScreen, type ResidualScreenState } from "@/lib/control/robust";
 import { polyRoots } from "@/lib/control/roots";
 import type { ArxModel, Complex, QTf } from "@/lib/control/types";
 import { decayRatio, poleCharacteristics } from "@/lib/control/zplane";
+import { judgeSampleQuality } from "@/lib/sample-quality";
 import type { LoopMode, LoopStateDto, PoleDto, SampleDto, TrackerState } from "@/lib/types";
 import type { Clock } from "../context";
+import { QualityWindow } from "./quality-window";
 import type { LoopConfig } from "./types";
 
 /** Normalised signals are clipped to this many % of span (100 x the span either way). */
@@ -74,6 +86,10 @@ const MAX_DATA_ORDER = 8;
 const INSTRUMENT_THRESHOLD_PCT = 1e-3;
 /** Seconds without an informative sample (set-point or manual move) before `low-excitation`, at least one estimator memory. */
 const HOLD_S = 900;
+/** Bad-quality samples in a row before the loop counts as `stale` (sensor fault). */
+const BAD_RUN = 3;
+/** Seconds of samples in the quality window of the state. */
+const QUALITY_WINDOW_S = 600;
 
 export interface LoopTrackerOptions {
   clock: Clock;
@@ -84,6 +100,25 @@ export interface LoopTrackerOptions {
   stateEveryS?: number;
   /** A PV repeated exactly for this many seconds of samples counts as flat-lined; default 30 (at least 20 samples). */
   flatSeconds?: number;
+}
+
+/** One estimation sample (block averages, % of span) with its flags. */
+interface EstimationInput {
+  u: number;
+  y: number;
+  r: number;
+  manual: boolean;
+  saturated: boolean;
+  flat: boolean;
+  t: number;
+  bad: boolean;
+}
+
+/** A sample with a large prediction error, waiting for the next one to tell an outlier from a change. */
+interface PendingSample {
+  sample: EstimationInput;
+  /** The raw PV (% of span) that bounds its prediction error. */
+  yBounded: number;
 }
 
 /** "Never" in a checkpoint (JSON cannot carry -Infinity): an estimation-sample index no loop reaches. */
@@ -110,6 +145,8 @@ export interface TrackerCheckpoint {
   yMean: number;
   /** Prefilter state: last raw signals and the filtered values. */
   prefilter: { prev: { u: number; y: number; r: number } | null; filtered: { u: number; y: number; r: number } };
+  /** Residual screen and its predictor history (absent in older checkpoints: they start afresh). */
+  robust?: { screen: ResidualScreenState; predictor: { y: number[]; u: number[] }; taint: number; collapseInformative: number; pending: PendingSample | null } | null;
 }
 
 function finite(x: number | null | undefined): number | null {
@@ -172,6 +209,19 @@ export class LoopTracker {
   private lastR: number | null = null;
   private prevSignals: { u: number; y: number; r: number } | null = null;
   private filtered = { u: 0, y: 0, r: 0 };
+  // sample quality and robustness (see the module comment)
+  private readonly quality: QualityWindow;
+  /** Last good normalised signals: what a bad sample stands in as (null before the first good one). */
+  private held: { y: number; u: number; r: number } | null = null;
+  private accBad = false;
+  private badRun = 0;
+  /** Estimation samples still to skip because their regressors hold a stood-in value. */
+  private taint = 0;
+  private screen = new ResidualScreen();
+  private predictor: ArxPredictor;
+  /** Informative plant samples when the current fit collapse began (-1: none). */
+  private collapseInformative = -1;
+  private pending: PendingSample | null = null;
 
   /** L(q) = (1 - q^-1) / (1 - c q^-1) applied to u, y and r alike; null for the first sample. */
   private prefilter(u: number, y: number, r: number): { u: number; y: number; r: number } | null {
@@ -227,6 +277,8 @@ export class LoopTracker {
     const degree = Math.max(config.na + this.controller.den.length - 1, config.nk + config.nb - 1 + this.controller.num.length - 1);
     this.dataOrder = Math.min(MAX_DATA_ORDER, Math.max(2, degree));
     this.data = this.makeDataEstimator();
+    this.predictor = new ArxPredictor(config.na, config.nk + config.nb);
+    this.quality = new QualityWindow(Math.max(60, Math.min(6000, Math.ceil(QUALITY_WINDOW_S / config.telemetryPeriodS))));
     this.state = this.emptyState("learning", "waiting for telemetry");
   }
 
@@ -324,20 +376,35 @@ export class LoopTracker {
   private ingest(s: SampleDto): boolean {
     const c = this.config;
     this.samplesSeen++;
-    this.lastSample = { t: s.t, sp: s.sp, pv: s.pv, mv: s.mv, mode: s.mode };
-    const y = clipPct((100 * (s.pv - c.pvLo)) / (c.pvHi - c.pvLo));
-    const u = clipPct((100 * (s.mv - c.mvLo)) / (c.mvHi - c.mvLo));
-    const r = clipPct((100 * (s.sp - c.pvLo)) / (c.pvHi - c.pvLo));
-    // flat-lined PV: a live measurement never repeats exactly for long (noise, quantisation aside)
-    if (this.lastPv !== null && s.pv === this.lastPv) this.flatRun++;
-    else this.flatRun = 0;
-    this.lastPv = s.pv;
-    const tol = LIMIT_TOLERANCE * (c.mvHi - c.mvLo);
-    const side = s.mv >= c.mvLimitHi - tol ? "high" : s.mv <= c.mvLimitLo + tol ? "low" : null;
-    if (side && side === this.limitSide) this.limitRun++;
-    else this.limitRun = side ? 1 : 0;
-    this.limitSide = side;
+    // ingest has judged the sample already; judging again covers direct callers and a range changed since
+    const q = judgeSampleQuality(s, c);
+    this.lastSample = { t: s.t, sp: s.sp, pv: s.pv, mv: s.mv, mode: s.mode, ...(q.reason === null ? {} : { quality: q.quality, qualityReason: q.reason }) };
+    this.quality.add(q.quality, q.reason, s.t);
     this.lastMode = s.mode;
+    let y: number, u: number, r: number;
+    if (q.reason !== null) {
+      // not good: it stands in as the last good value and its block updates nothing (see `estimate`)
+      if (q.quality === "bad") this.badRun++;
+      ({ y, u, r } = this.held ?? { y: 0, u: 0, r: 0 });
+      this.accBad = true;
+    } else {
+      this.badRun = 0;
+      y = clipPct((100 * (s.pv - c.pvLo)) / (c.pvHi - c.pvLo));
+      u = clipPct((100 * (s.mv - c.mvLo)) / (c.mvHi - c.mvLo));
+      r = clipPct((100 * (s.sp - c.pvLo)) / (c.pvHi - c.pvLo));
+      // the stand-ins before the first good sample are no history for the prefilter
+      if (this.held === null) this.prevSignals = null;
+      this.held = { y, u, r };
+      // flat-lined PV: a live measurement never repeats exactly for long (noise, quantisation aside)
+      if (this.lastPv !== null && s.pv === this.lastPv) this.flatRun++;
+      else this.flatRun = 0;
+      this.lastPv = s.pv;
+      const tol = LIMIT_TOLERANCE * (c.mvHi - c.mvLo);
+      const side = s.mv >= c.mvLimitHi - tol ? "high" : s.mv <= c.mvLimitLo + tol ? "low" : null;
+      if (side && side === this.limitSide) this.limitRun++;
+      else this.limitRun = side ? 1 : 0;
+      this.limitSide = side;
+    }
     this.accY += y;
     this.accU += u;
     this.accR += r;
@@ -352,25 +419,106 @@ export class LoopTracker {
     const manual = this.accManual;
     const saturated = this.accSaturated;
     const flat = this.accFlat;
+    const bad = this.accBad;
     this.accY = this.accU = this.accR = 0;
     this.accN = 0;
-    this.accManual = this.accSaturated = this.accFlat = false;
-    return this.estimate(uu, yy, rr, manual, saturated, flat, s.t);
+    this.accManual = this.accSaturated = this.accFlat = this.accBad = false;
+    return this.estimate(uu, yy, rr, manual, saturated, flat, s.t, bad);
   }
 
-  private estimate(u: number, y: number, r: number, manual: boolean, saturated: boolean, flat: boolean, t: number): boolean {
+  /**
+   * One estimation sample. An isolated PV outlier (robust residual test, lib/control/robust.ts)
+   * is told from a real change of the process by the next sample: a sample whose prediction error
+   * is beyond the threshold waits one estimation period; if the next one fits again under the
+   * hypothesis that it was an outlier, it enters bounded (the plant model's prediction plus a
+   * bounded error, in the prefilter state too), else as it is (a load step, a valve slip or a plant
+   * change is data). Bounding every large error instead cut into real responses and biased the
+   * estimate (measured on the demo loops: sticking valve, saturation).
+   */
+  private estimate(u: number, y: number, r: number, manual: boolean, saturated: boolean, flat: boolean, t: number, bad = false): boolean {
+    const sample: EstimationInput = { u, y, r, manual, saturated, flat, t, bad };
+    const held = this.pending;
+    if (held) {
+      this.pending = null;
+      // a bad sample next cannot confirm anything: the bounded value is the safer one
+      const isolated = bad || !this.largeError(sample, held);
+      const first = this.step(isolated ? { ...held.sample, y: held.yBounded } : held.sample, isolated);
+      return this.step(sample, false) || first;
+    }
+    const judged = this.largeError(sample, null);
+    if (judged) {
+      this.pending = { sample, yBounded: judged.yBounded };
+      return false;
+    }
+    return this.step(sample, false);
+  }
+
+  /**
+   * Is the sample's a-priori prediction error beyond the residual test's threshold? `after`: judge
+   * it as the sample after `after`, with `after` taken as an outlier (its bounded value in the
+   * histories). Returns the raw PV that bounds the error, or null when the error is normal or the
+   * sample cannot be judged (no trusted model, a stood-in value in the regressors).
+   */
+  private largeError(x: EstimationInput, after: PendingSample | null): { yBounded: number } | null {
+    const p = this.plant;
+    const prev = this.prevSignals;
+    if (!prev || x.bad || this.taint > 0 || !this.screen.ready() || !this.trusted()) return null;
+    const c = PREFILTER_POLE;
+    const f = this.filtered;
+    let fy: number;
+    let pred: number;
+    let yPrev: number;
+    let fyBefore: number;
+    if (after) {
+      // the histories as they will be once `after` is taken bounded
+      const a = after.sample;
+      const fyA = c * f.y + (after.yBounded - prev.y);
+      const fuA = c * f.u + (a.u - prev.u);
+      pred = this.predictor.predictNext(p.theta, p.na, p.nb, p.nk, fyA, fuA);
+      fy = c * fyA + (x.y - after.yBounded);
+      yPrev = after.yBounded;
+      fyBefore = fyA;
+    } else {
+      pred = this.predictor.predict(p.theta, p.na, p.nb, p.nk);
+      fy = c * f.y + (x.y - prev.y);
+      yPrev = prev.y;
+      fyBefore = f.y;
+    }
+    const e = fy - pred;
+    if (!Number.isFinite(e) || !this.screen.isLarge(e)) return null;
+    return { yBounded: yPrev + pred + this.screen.bound(e) - c * fyBefore };
+  }
+
+  /** The reported plant model is the current estimate (the residual test and the fit watch judge with it). */
+  private trusted(): boolean {
+    return this.plantReady(this.plant) && this.implausible === null && this.lastGood !== null;
+  }
+
+  private step(x: EstimationInput, outlier: boolean): boolean {
+    const { u, y, r, manual, saturated, flat, t, bad } = x;
     const k = this.estimationSamples++;
     if (this.lastR !== null && Math.abs(r - this.lastR) > 0.05) this.lastSpMove = k;
     this.lastR = r;
-    const learn = !saturated && !flat;
+    // a block with a stood-in value, and the samples whose regressors still hold it, update nothing
+    const tainted = bad || this.taint > 0;
+    if (bad) this.taint = this.config.na + this.config.nb + this.config.nk;
+    else if (this.taint > 0) this.taint--;
+    const learn = !saturated && !flat && !tainted;
+    const p = this.plant;
+    const pred = this.predictor.predict(p.theta, p.na, p.nb, p.nk);
     // operating point removed by a leaky differencer (see the module comment)
     const f = this.prefilter(u, y, r);
     if (!f) return false;
+    if (outlier) this.quality.markOutlier();
+    if (!tainted) this.watchFit(f.y - pred);
+    this.predictor.shift(f.y, f.u);
     // running variance of the filtered PV (the signal the model predicts), for the fit figure
-    const w = 1 / Math.min(k + 1, this.memory);
-    const d = f.y - this.yMean;
-    this.yMean += w * d;
-    this.yVariance = (1 - w) * (this.yVariance + w * d * d);
+    if (!tainted) {
+      const w = 1 / Math.min(k + 1, this.memory);
+      const d = f.y - this.yMean;
+      this.yMean += w * d;
+      this.yVariance = (1 - w) * (this.yVariance + w * d * d);
+    }
     try {
       const mode = !learn ? "skip" : manual ? "open" : "closed";
       if (this.plantFull.push(f.u, f.y, f.r, mode)) this.lastPlantUpdate = k;
@@ -384,6 +532,28 @@ export class LoopTracker {
     this.lastStateAt = k;
     this.computeState(t);
     return true;
+  }
+
+  /**
+   * The residual screen's scale and the fit-collapse watch, fed with the trusted model's
+   * a-priori prediction error; restarted while no trusted model exists (an early or implausible
+   * estimate would read its own learning as a collapse).
+   */
+  private watchFit(e: number): void {
+    if (!this.trusted() || !Number.isFinite(e)) {
+      this.screen.restart();
+      this.collapseInformative = -1;
+      return;
+    }
+    this.screen.record(e);
+    const p = this.plant;
+    if (!this.screen.collapsed) this.collapseInformative = -1;
+    else if (this.collapseInformative < 0) this.collapseInformative = p.informative;
+    else if (p.informative - this.collapseInformative >= this.memory) {
+      // refitted on a full memory of new set-point responses and still this far off: the new normal
+      this.screen.rebase();
+      this.collapseInformative = -1;
+    }
   }
 
   /** The plant estimate can be reported: enough informative samples and a well-posed solution. */
@@ -443,6 +613,9 @@ export class LoopTracker {
     this.lastGood = null;
     this.implausible = null;
     this.data = this.makeDataEstimator();
+    this.screen = new ResidualScreen();
+    this.collapseInformative = -1;
+    this.pending = null;
     this.lastPlantUpdate = -Infinity;
     this.cachedHeadroom = { value: null, at: -Infinity };
     this.stateReasonOverride = reason;
@@ -457,6 +630,10 @@ export class LoopTracker {
     if (this.flatRun >= this.flatLimit) {
       return { state: "stale", reason: `PV flat at ${fmt(this.lastPv)} for ${this.flatRun + 1} samples: frozen transmitter?` };
     }
+    if (this.badRun >= BAD_RUN) {
+      const why = this.quality.lastBadReason === "reported-bad" ? "marked bad by the gateway" : this.quality.lastBadReason === "out-of-range" ? "out of range" : "a fault value";
+      return { state: "stale", reason: `${this.badRun} samples in a row of bad quality (${why}, last PV ${fmt(this.lastSample?.pv ?? null)}): sensor fault?` };
+    }
     if (this.lastMode === "manual") return { state: "manual", reason: "loop in manual: the controller is not acting" };
     if (this.limitRun >= LIMIT_RUN) {
       const lim = this.limitSide === "high" ? c.mvLimitHi : c.mvLimitLo;
@@ -468,6 +645,10 @@ export class LoopTracker {
       if (n >= this.minUpdates) return { state: "learning", reason: `plant model learning: the set-point moves so far do not determine all ${this.plant.d} parameters` };
       const age = Number.isFinite(this.lastSpMove) ? ` (last set-point move ${Math.round((this.estimationSamples - this.lastSpMove) * this.estimationPeriodS)} s ago)` : " (no set-point move seen yet)";
       return { state: "learning", reason: `plant model learning: ${n} of ${this.minUpdates} informative samples${age}` };
+    }
+    if (this.screen.collapsed) {
+      const ratio = this.screen.collapseRatio;
+      return { state: "poor-fit", reason: `the plant model no longer predicts the PV (prediction error ${Number.isFinite(ratio) ? ratio.toFixed(1) : "several"} x its usual level): figures not trusted until it fits again` };
     }
     if (this.implausible !== null) {
       if (!this.lastGood) return { state: "learning", reason: `plant model learning: the estimate so far is not physical (${this.implausible})` };
@@ -498,7 +679,7 @@ export class LoopTracker {
   }
 
   private refreshStateOnly(kind: { state: TrackerState; reason: string | null }): void {
-    this.state = { ...this.state, at: this.clock.now(), receivedAt: this.receivedAt, trackerState: kind.state, stateReason: kind.reason, samples: this.samplesSeen, last: this.lastSample };
+    this.state = { ...this.state, at: this.clock.now(), receivedAt: this.receivedAt, trackerState: kind.state, stateReason: kind.reason, samples: this.samplesSeen, last: this.lastSample, sampleQuality: this.quality.dto() };
   }
 
   private emptyState(state: TrackerState, reason: string | null): LoopStateDto {
@@ -528,6 +709,7 @@ export class LoopTracker {
       characteristic: null,
       delaySamples: this.config.nk,
       last: this.lastSample,
+      sampleQuality: this.quality.dto(),
     };
   }
 
@@ -679,6 +861,7 @@ export class LoopTracker {
       yVariance: this.yVariance,
       yMean: this.yMean,
       prefilter: { prev: this.prevSignals ? { ...this.prevSignals } : null, filtered: { ...this.filtered } },
+      robust: { screen: this.screen.toJSON(), predictor: this.predictor.toJSON(), taint: this.taint, collapseInformative: this.collapseInformative, pending: this.pending ? { sample: { ...this.pending.sample }, yBounded: this.pending.yBounded } : null },
     };
   }
 
@@ -731,6 +914,18 @@ export class LoopTracker {
       this.lastStateAt = -Infinity;
       this.cachedHeadroom = { value: null, at: -Infinity };
       this.cachedForecast = null;
+      // the residual screen resumes too; from an older checkpoint (or a malformed part) it starts afresh
+      const rb = cp.robust;
+      const screen = new ResidualScreen();
+      const predictor = new ArxPredictor(this.config.na, this.config.nk + this.config.nb);
+      const robustOk = !!rb && screen.restore(rb.screen) && predictor.restore(rb.predictor) && Number.isInteger(rb.taint) && Number.isFinite(rb.collapseInformative);
+      this.screen = robustOk ? screen : new ResidualScreen();
+      this.predictor = robustOk ? predictor : new ArxPredictor(this.config.na, this.config.nk + this.config.nb);
+      this.taint = robustOk && rb ? Math.max(0, rb.taint) : 0;
+      this.collapseInformative = robustOk && rb ? rb.collapseInformative : -1;
+      const pend = robustOk && rb ? rb.pending : null;
+      const pendOk = !!pend && [pend.yBounded, pend.sample?.u, pend.sample?.y, pend.sample?.r, pend.sample?.t].every((v) => typeof v === "number" && Number.isFinite(v));
+      this.pending = pendOk && pend ? { sample: { ...pend.sample }, yBounded: pend.yBounded } : null;
       return { ok: true };
     } catch (e) {
       return { ok: false, reason: `checkpoint rejected: ${(e as Error).message}` };
