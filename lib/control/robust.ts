@@ -162,13 +162,12 @@ export class ResidualScreen {
       }
       return;
     }
+    // the baseline learns only from normal values: a run on its way to a collapse must not lift it
     this.above = ratio > this.collapseFactor ? this.above + 1 : 0;
     if (this.above >= this.collapseRun) {
       this.collapsed = true;
       this.collapseRatio = ratio;
-      return;
-    }
-    this.baseline += this.baselineWeight * (s - this.baseline);
+    } else if (this.above === 0) this.baseline += this.baselineWeight * (s - this.baseline);
   }
 
   /** Forget everything (the model that judged the errors is no longer the one in use); warms up again. */
@@ -276,3 +275,4 @@ export class ArxPredictor {
     return true;
   }
 }
+

@@ -223,6 +223,8 @@ export class LoopTracker {
   private collapseInformative = -1;
   private pending: PendingSample | null = null;
 
+
+
   /** L(q) = (1 - q^-1) / (1 - c q^-1) applied to u, y and r alike; null for the first sample. */
   private prefilter(u: number, y: number, r: number): { u: number; y: number; r: number } | null {
     const prev = this.prevSignals;
@@ -535,25 +537,26 @@ export class LoopTracker {
   }
 
   /**
-   * The residual screen's scale and the fit-collapse watch, fed with the trusted model's
-   * a-priori prediction error; restarted while no trusted model exists (an early or implausible
-   * estimate would read its own learning as a collapse).
+   * The residual screen's scale and the fit-collapse watch, fed with the model's a-priori
+   * prediction error from the first trusted estimate on (before it, an early estimate would read
+   * its own learning as a collapse).
    */
   private watchFit(e: number): void {
-    if (!this.trusted() || !Number.isFinite(e)) {
-      this.screen.restart();
-      this.collapseInformative = -1;
-      return;
-    }
-    this.screen.record(e);
     const p = this.plant;
-    if (!this.screen.collapsed) this.collapseInformative = -1;
+    // once a trusted model set the baseline, the current estimate stays under watch: an estimate
+    // that turns implausible because the data no longer fit any such model is a collapse too
+    if (Number.isFinite(e) && (this.trusted() || this.screen.baselineScale() > 0)) this.screen.record(e);
+    if (!this.fitCollapsed()) this.collapseInformative = -1;
     else if (this.collapseInformative < 0) this.collapseInformative = p.informative;
     else if (p.informative - this.collapseInformative >= this.memory) {
       // refitted on a full memory of new set-point responses and still this far off: the new normal
       this.screen.rebase();
       this.collapseInformative = -1;
     }
+  }
+
+  private fitCollapsed(): boolean {
+    return this.screen.collapsed;
   }
 
   /** The plant estimate can be reported: enough informative samples and a well-posed solution. */
@@ -646,9 +649,9 @@ export class LoopTracker {
       const age = Number.isFinite(this.lastSpMove) ? ` (last set-point move ${Math.round((this.estimationSamples - this.lastSpMove) * this.estimationPeriodS)} s ago)` : " (no set-point move seen yet)";
       return { state: "learning", reason: `plant model learning: ${n} of ${this.minUpdates} informative samples${age}` };
     }
-    if (this.screen.collapsed) {
-      const ratio = this.screen.collapseRatio;
-      return { state: "poor-fit", reason: `the plant model no longer predicts the PV (prediction error ${Number.isFinite(ratio) ? ratio.toFixed(1) : "several"} x its usual level): figures not trusted until it fits again` };
+    if (this.fitCollapsed()) {
+      const what = `prediction error ${this.screen.collapseRatio.toFixed(1)} x its usual level`;
+      return { state: "poor-fit", reason: `the plant model no longer fits the PV (${what}): figures not trusted until it fits again` };
     }
     if (this.implausible !== null) {
       if (!this.lastGood) return { state: "learning", reason: `plant model learning: the estimate so far is not physical (${this.implausible})` };
