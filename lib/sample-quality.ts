@@ -71,6 +71,11 @@ function outside(v: number, lo: number, hi: number): boolean {
   return v < lo - m || v > hi + m;
 }
 
+/** A single value that is neither a fault value nor out of its range (with the margin). */
+export function valueUsable(v: number, lo: number, hi: number): boolean {
+  return Number.isFinite(v) && !isFaultValue(v, lo, hi) && !outside(v, lo, hi);
+}
+
 /**
  * Judge one validated sample against its loop's ranges. Without a range (a loop whose
  * configuration is not loaded) only fault values and the gateway's own word count. Order:

@@ -66,7 +66,7 @@ import { ArxPredictor, ResidualScreen, type ResidualScreenState } from "@/lib/co
 import { polyRoots } from "@/lib/control/roots";
 import type { ArxModel, Complex, QTf } from "@/lib/control/types";
 import { decayRatio, poleCharacteristics } from "@/lib/control/zplane";
-import { judgeSampleQuality } from "@/lib/sample-quality";
+import { judgeSampleQuality, valueUsable } from "@/lib/sample-quality";
 import type { LoopMode, LoopStateDto, PoleDto, SampleDto, TrackerState } from "@/lib/types";
 import type { Clock } from "../context";
 import { QualityWindow } from "./quality-window";
@@ -112,13 +112,16 @@ interface EstimationInput {
   flat: boolean;
   t: number;
   bad: boolean;
+  /** The a-priori prediction error before an outlier was bounded (the fit watch takes the raw one). */
+  rawE?: number;
 }
 
 /** A sample with a large prediction error, waiting for the next one to tell an outlier from a change. */
 interface PendingSample {
   sample: EstimationInput;
-  /** The raw PV (% of span) that bounds its prediction error. */
+  /** The raw PV (% of span) that bounds its prediction error, and the error itself. */
   yBounded: number;
+  rawE: number;
 }
 
 /** "Never" in a checkpoint (JSON cannot carry -Infinity): an estimation-sample index no loop reaches. */
@@ -214,6 +217,8 @@ export class LoopTracker {
   /** Last good normalised signals: what a bad sample stands in as (null before the first good one). */
   private held: { y: number; u: number; r: number } | null = null;
   private accBad = false;
+  /** Zeros stood in for bad samples before any good one (see `ingest`). */
+  private standIns = false;
   private badRun = 0;
   /** Estimation samples still to skip because their regressors hold a stood-in value. */
   private taint = 0;
@@ -387,7 +392,19 @@ export class LoopTracker {
     if (q.reason !== null) {
       // not good: it stands in as the last good value and its block updates nothing (see `estimate`)
       if (q.quality === "bad") this.badRun++;
-      ({ y, u, r } = this.held ?? { y: 0, u: 0, r: 0 });
+      const last = this.held ?? this.prevSignals; // after a restore: the prefilter's last input
+      if (last) {
+        ({ y, u, r } = last);
+        // a value of its own that is fine (a bad PV beside a good MV and SP) is kept
+        if (q.reason === "fault-value" || q.reason === "out-of-range") {
+          if (valueUsable(s.mv, c.mvLo, c.mvHi)) u = clipPct((100 * (s.mv - c.mvLo)) / (c.mvHi - c.mvLo));
+          if (valueUsable(s.sp, c.pvLo, c.pvHi)) r = clipPct((100 * (s.sp - c.pvLo)) / (c.pvHi - c.pvLo));
+        }
+      } else {
+        // nothing good seen yet: zeros stand in, and the prefilter forgets them at the first good sample
+        y = u = r = 0;
+        this.standIns = true;
+      }
       this.accBad = true;
     } else {
       this.badRun = 0;
@@ -395,7 +412,8 @@ export class LoopTracker {
       u = clipPct((100 * (s.mv - c.mvLo)) / (c.mvHi - c.mvLo));
       r = clipPct((100 * (s.sp - c.pvLo)) / (c.pvHi - c.pvLo));
       // the stand-ins before the first good sample are no history for the prefilter
-      if (this.held === null) this.prevSignals = null;
+      if (this.standIns) this.prevSignals = null;
+      this.standIns = false;
       this.held = { y, u, r };
       // flat-lined PV: a live measurement never repeats exactly for long (noise, quantisation aside)
       if (this.lastPv !== null && s.pv === this.lastPv) this.flatRun++;
@@ -444,15 +462,31 @@ export class LoopTracker {
       this.pending = null;
       // a bad sample next cannot confirm anything: the bounded value is the safer one
       const isolated = bad || !this.largeError(sample, held);
-      const first = this.step(isolated ? { ...held.sample, y: held.yBounded } : held.sample, isolated);
-      return this.step(sample, false) || first;
+      const first = this.step(isolated ? { ...held.sample, y: held.yBounded, rawE: held.rawE } : held.sample, isolated);
+      return this.step(this.predictBad(sample), false) || first;
     }
+    if (bad) return this.step(this.predictBad(sample), false);
     const judged = this.largeError(sample, null);
     if (judged) {
-      this.pending = { sample, yBounded: judged.yBounded };
+      this.pending = { sample, yBounded: judged.yBounded, rawE: judged.rawE };
       return false;
     }
     return this.step(sample, false);
+  }
+
+  /**
+   * A block with a bad value, while a trusted model and a warm residual screen exist: its PV is
+   * the model's one-step prediction (an outlier of zero weight), and it is learnt from like any
+   * other, so a bad sample inside a set-point response costs that response nothing. Otherwise it
+   * stays a stand-in that updates nothing (`step` with `bad`).
+   */
+  private predictBad(x: EstimationInput): EstimationInput {
+    const prev = this.prevSignals;
+    if (!x.bad || !prev || this.taint > 0 || !this.screen.ready() || !this.trusted()) return x;
+    const p = this.plant;
+    const pred = this.predictor.predict(p.theta, p.na, p.nb, p.nk);
+    if (!Number.isFinite(pred)) return x;
+    return { ...x, y: prev.y + pred - PREFILTER_POLE * this.filtered.y, bad: false };
   }
 
   /**
@@ -461,7 +495,7 @@ export class LoopTracker {
    * histories). Returns the raw PV that bounds the error, or null when the error is normal or the
    * sample cannot be judged (no trusted model, a stood-in value in the regressors).
    */
-  private largeError(x: EstimationInput, after: PendingSample | null): { yBounded: number } | null {
+  private largeError(x: EstimationInput, after: PendingSample | null): { yBounded: number; rawE: number } | null {
     const p = this.plant;
     const prev = this.prevSignals;
     if (!prev || x.bad || this.taint > 0 || !this.screen.ready() || !this.trusted()) return null;
@@ -488,7 +522,7 @@ export class LoopTracker {
     }
     const e = fy - pred;
     if (!Number.isFinite(e) || !this.screen.isLarge(e)) return null;
-    return { yBounded: yPrev + pred + this.screen.bound(e) - c * fyBefore };
+    return { yBounded: yPrev + pred + this.screen.bound(e) - c * fyBefore, rawE: e };
   }
 
   /** The reported plant model is the current estimate (the residual test and the fit watch judge with it). */
@@ -512,7 +546,7 @@ export class LoopTracker {
     const f = this.prefilter(u, y, r);
     if (!f) return false;
     if (outlier) this.quality.markOutlier();
-    if (!tainted) this.watchFit(f.y - pred);
+    if (!tainted) this.watchFit(x.rawE ?? f.y - pred);
     this.predictor.shift(f.y, f.u);
     // running variance of the filtered PV (the signal the model predicts), for the fit figure
     if (!tainted) {
@@ -864,7 +898,7 @@ export class LoopTracker {
       yVariance: this.yVariance,
       yMean: this.yMean,
       prefilter: { prev: this.prevSignals ? { ...this.prevSignals } : null, filtered: { ...this.filtered } },
-      robust: { screen: this.screen.toJSON(), predictor: this.predictor.toJSON(), taint: this.taint, collapseInformative: this.collapseInformative, pending: this.pending ? { sample: { ...this.pending.sample }, yBounded: this.pending.yBounded } : null },
+      robust: { screen: this.screen.toJSON(), predictor: this.predictor.toJSON(), taint: this.taint, collapseInformative: this.collapseInformative, pending: this.pending ? { sample: { ...this.pending.sample }, yBounded: this.pending.yBounded, rawE: this.pending.rawE } : null },
     };
   }
 
@@ -927,8 +961,8 @@ export class LoopTracker {
       this.taint = robustOk && rb ? Math.max(0, rb.taint) : 0;
       this.collapseInformative = robustOk && rb ? rb.collapseInformative : -1;
       const pend = robustOk && rb ? rb.pending : null;
-      const pendOk = !!pend && [pend.yBounded, pend.sample?.u, pend.sample?.y, pend.sample?.r, pend.sample?.t].every((v) => typeof v === "number" && Number.isFinite(v));
-      this.pending = pendOk && pend ? { sample: { ...pend.sample }, yBounded: pend.yBounded } : null;
+      const pendOk = !!pend && [pend.yBounded, pend.rawE, pend.sample?.u, pend.sample?.y, pend.sample?.r, pend.sample?.t].every((v) => typeof v === "number" && Number.isFinite(v));
+      this.pending = pendOk && pend ? { sample: { ...pend.sample }, yBounded: pend.yBounded, rawE: pend.rawE } : null;
       return { ok: true };
     } catch (e) {
       return { ok: false, reason: `checkpoint rejected: ${(e as Error).message}` };
