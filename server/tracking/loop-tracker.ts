@@ -667,11 +667,13 @@ export class LoopTracker {
     if (this.flatRun >= this.flatLimit) {
       return { state: "stale", reason: `PV flat at ${fmt(this.lastPv)} for ${this.flatRun + 1} samples: frozen transmitter?` };
     }
+    if (this.lastMode === "manual") return { state: "manual", reason: "loop in manual: the controller is not acting" };
+    // after manual: an operator's loop says so first (a level left in manual may drain beyond its
+    // range in a simulator); the quality counts still show the bad samples
     if (this.badRun >= BAD_RUN) {
       const why = this.quality.lastBadReason === "reported-bad" ? "marked bad by the gateway" : this.quality.lastBadReason === "out-of-range" ? "out of range" : "a fault value";
       return { state: "stale", reason: `${this.badRun} samples in a row of bad quality (${why}, last PV ${fmt(this.lastSample?.pv ?? null)}): sensor fault?` };
     }
-    if (this.lastMode === "manual") return { state: "manual", reason: "loop in manual: the controller is not acting" };
     if (this.limitRun >= LIMIT_RUN) {
       const lim = this.limitSide === "high" ? c.mvLimitHi : c.mvLimitLo;
       return { state: "saturated", reason: `MV at its ${this.limitSide} limit (${fmt(lim)}): the loop is open` };
