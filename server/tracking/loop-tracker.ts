@@ -229,7 +229,6 @@ export class LoopTracker {
   private pending: PendingSample | null = null;
 
 
-
   /** L(q) = (1 - q^-1) / (1 - c q^-1) applied to u, y and r alike; null for the first sample. */
   private prefilter(u: number, y: number, r: number): { u: number; y: number; r: number } | null {
     const prev = this.prevSignals;
@@ -390,7 +389,8 @@ export class LoopTracker {
     this.lastMode = s.mode;
     let y: number, u: number, r: number;
     if (q.reason !== null) {
-      // not good: it stands in as the last good value and its block updates nothing (see `estimate`)
+      // not good: the last good value stands in; `estimate` puts a trusted model's prediction in
+      // its place, or (no trusted model) lets its block update nothing
       if (q.quality === "bad") this.badRun++;
       const last = this.held ?? this.prevSignals; // after a restore: the prefilter's last input
       if (last) {
@@ -686,7 +686,8 @@ export class LoopTracker {
       return { state: "learning", reason: `plant model learning: ${n} of ${this.minUpdates} informative samples${age}` };
     }
     if (this.fitCollapsed()) {
-      const what = `prediction error ${this.screen.collapseRatio.toFixed(1)} x its usual level`;
+      const ratio = this.screen.collapseRatio;
+      const what = `prediction error ${Number.isFinite(ratio) ? ratio.toFixed(1) : "several"} x its usual level`;
       return { state: "poor-fit", reason: `the plant model no longer fits the PV (${what}): figures not trusted until it fits again` };
     }
     if (this.implausible !== null) {
