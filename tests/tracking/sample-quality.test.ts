@@ -67,16 +67,6 @@ async function runLoop(seconds: number, mutate?: (s: SampleDto, simTimeS: number
   };
 }
 
-/** Replace the PV of the first sample at or after `atS` (simulated seconds). */
-function replacePv(atS: number, pv: (s: SampleDto) => number): (s: SampleDto, simTimeS: number) => SampleDto {
-  let done = false;
-  return (s, simTimeS) => {
-    if (done || simTimeS < atS) return s;
-    done = true;
-    return { ...s, pv: pv(s) };
-  };
-}
-
 /**
  * Replace the PV of the sample `after` samples into the first set-point response from `fromS` on
  * (simulated seconds): the estimator learns from set-point responses, so a bad value there meets it.
