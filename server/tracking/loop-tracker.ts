@@ -112,6 +112,8 @@ interface EstimationInput {
   flat: boolean;
   t: number;
   bad: boolean;
+  /** A sample of the block was stood in whole (an uncertain one, an unusable MV or SP): never learnt from. */
+  whole?: boolean;
   /** The a-priori prediction error before an outlier was bounded (the fit watch takes the raw one). */
   rawE?: number;
 }
@@ -217,6 +219,8 @@ export class LoopTracker {
   /** Last good normalised signals: what a bad sample stands in as (null before the first good one). */
   private held: { y: number; u: number; r: number } | null = null;
   private accBad = false;
+  /** The block holds a sample stood in whole (not only its PV): it is never learnt from. */
+  private accWhole = false;
   /** Zeros stood in for bad samples before any good one (see `ingest`). */
   private standIns = false;
   private badRun = 0;
@@ -395,15 +399,18 @@ export class LoopTracker {
       const last = this.held ?? this.prevSignals; // after a restore: the prefilter's last input
       if (last) {
         ({ y, u, r } = last);
-        // a value of its own that is fine (a bad PV beside a good MV and SP) is kept
-        if (q.reason === "fault-value" || q.reason === "out-of-range") {
-          if (valueUsable(s.mv, c.mvLo, c.mvHi)) u = clipPct((100 * (s.mv - c.mvLo)) / (c.mvHi - c.mvLo));
-          if (valueUsable(s.sp, c.pvLo, c.pvHi)) r = clipPct((100 * (s.sp - c.pvLo)) / (c.pvHi - c.pvLo));
-        }
+        // a bad PV beside a good MV and SP: those are kept (and the block may be learnt from with
+        // the model's prediction for the PV); anything else stands in whole and is not learnt from
+        const pvOnly = (q.reason === "fault-value" || q.reason === "out-of-range") && valueUsable(s.mv, c.mvLo, c.mvHi) && valueUsable(s.sp, c.pvLo, c.pvHi);
+        if (pvOnly) {
+          u = clipPct((100 * (s.mv - c.mvLo)) / (c.mvHi - c.mvLo));
+          r = clipPct((100 * (s.sp - c.pvLo)) / (c.pvHi - c.pvLo));
+        } else this.accWhole = true;
       } else {
         // nothing good seen yet: zeros stand in, and the prefilter forgets them at the first good sample
         y = u = r = 0;
         this.standIns = true;
+        this.accWhole = true;
       }
       this.accBad = true;
     } else {
@@ -440,10 +447,11 @@ export class LoopTracker {
     const saturated = this.accSaturated;
     const flat = this.accFlat;
     const bad = this.accBad;
+    const whole = this.accWhole;
     this.accY = this.accU = this.accR = 0;
     this.accN = 0;
-    this.accManual = this.accSaturated = this.accFlat = this.accBad = false;
-    return this.estimate(uu, yy, rr, manual, saturated, flat, s.t, bad);
+    this.accManual = this.accSaturated = this.accFlat = this.accBad = this.accWhole = false;
+    return this.estimate(uu, yy, rr, manual, saturated, flat, s.t, bad, whole);
   }
 
   /**
@@ -455,8 +463,8 @@ export class LoopTracker {
    * change is data). Bounding every large error instead cut into real responses and biased the
    * estimate (measured on the demo loops: sticking valve, saturation).
    */
-  private estimate(u: number, y: number, r: number, manual: boolean, saturated: boolean, flat: boolean, t: number, bad = false): boolean {
-    const sample: EstimationInput = { u, y, r, manual, saturated, flat, t, bad };
+  private estimate(u: number, y: number, r: number, manual: boolean, saturated: boolean, flat: boolean, t: number, bad = false, whole = false): boolean {
+    const sample: EstimationInput = { u, y, r, manual, saturated, flat, t, bad, whole };
     const held = this.pending;
     if (held) {
       this.pending = null;
@@ -475,14 +483,15 @@ export class LoopTracker {
   }
 
   /**
-   * A block with a bad value, while a trusted model and a warm residual screen exist: its PV is
-   * the model's one-step prediction (an outlier of zero weight), and it is learnt from like any
-   * other, so a bad sample inside a set-point response costs that response nothing. Otherwise it
-   * stays a stand-in that updates nothing (`step` with `bad`).
+   * A block whose only fault is a bad PV, while a trusted model and a warm residual screen exist:
+   * its PV is the model's one-step prediction (an outlier of zero weight), and it is learnt from
+   * like any other, so a bad PV inside a set-point response costs that response nothing. Otherwise
+   * (an uncertain sample, a bad MV or SP, no trusted model) it stays a stand-in that updates
+   * nothing (`step` with `bad`).
    */
   private predictBad(x: EstimationInput): EstimationInput {
     const prev = this.prevSignals;
-    if (!x.bad || !prev || this.taint > 0 || !this.screen.ready() || !this.trusted()) return x;
+    if (!x.bad || x.whole || !prev || this.taint > 0 || !this.screen.ready() || !this.trusted()) return x;
     const p = this.plant;
     const pred = this.predictor.predict(p.theta, p.na, p.nb, p.nk);
     if (!Number.isFinite(pred)) return x;

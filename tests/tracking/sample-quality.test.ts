@@ -125,6 +125,16 @@ describe("bad samples are evidence, not data", () => {
     expect(run.at(700).trackerState).toBe("tracking");
   });
 
+  it("an MV beyond its range is uncertain, not bad: counted apart, not learnt from, the estimate as without it", async () => {
+    const clean = await runLoop(1000);
+    const odd = await runLoop(1000, (s, t) => (t >= 650 && t < 651 ? { ...s, mv: 150 } : s));
+    const q = odd.tracker.current.sampleQuality!;
+    expect(q.badTotal).toBe(0);
+    expect(q.uncertainTotal).toBe(5); // one simulated second at a 0.2 s telemetry period
+    expect(q.lastBadAt).toBeNull();
+    for (const t of [700, 990]) expectClose(odd.at(t), clean.at(t), { radius: 0.01, decay: 0.03, fit: 10 });
+  });
+
   it("isolated in-range spikes (+250 and -250 noise standard deviations, a quarter of the span) do not move the estimate materially", async () => {
     // the demo scenario's measurement noise is 0.1 % of span (simulators/scenarios/demo.json); a
     // spike of 20 sd is averaged over the decimation block to about the estimation noise and moves
