@@ -6,9 +6,11 @@
  * Topic   rg/<tenantSlug>/<siteSlug>/<loopSlug>/samples
  * Payload one sample or an array of 1..500 samples, at most 64 KiB of UTF-8 JSON:
  *         { "t": <epoch ms, integer>, "sp": number, "pv": number, "mv": number,
- *           "mode": "auto" | "manual" | "cascade" }
+ *           "mode": "auto" | "manual" | "cascade", "quality"?: "good" | "bad" | "uncertain" }
+ *         A sample without `quality` is good unless its values say otherwise: ingest judges every
+ *         accepted sample against its loop's range and known fault values (lib/sample-quality.ts).
  */
-import type { LoopMode, SampleDto } from "./types";
+import { SAMPLE_QUALITIES, type LoopMode, type SampleDto, type SampleQuality } from "./types";
 import { isSlug } from "./slug";
 
 export const MAX_PAYLOAD_BYTES = 64 * 1024;
@@ -101,13 +103,15 @@ function isNonFiniteMarker(v: unknown): boolean {
 
 /**
  * Judge one sample alone (§5). `t` must be a non-negative safe integer (epoch ms); sp, pv, mv
- * finite numbers; mode one of LOOP_MODES. Extra fields are ignored (forward compatibility).
- * A missing or mistyped field is `bad-shape`; NaN/Infinity/null in a numeric field is `non-finite`.
+ * finite numbers; mode one of LOOP_MODES; `quality`, when present, one of SAMPLE_QUALITIES.
+ * Extra fields are ignored (forward compatibility). A missing or mistyped field is `bad-shape`;
+ * NaN/Infinity/null in a numeric field is `non-finite`. A valid sample's quality is judged apart
+ * (`judgeSampleQuality`): a bad value is accepted as bad quality, not rejected.
  */
 export function validateSample(item: unknown): SampleResult {
   if (item === null || typeof item !== "object" || Array.isArray(item)) return { ok: false, reason: "bad-shape" };
   const o = item as Record<string, unknown>;
-  const { t, sp, pv, mv, mode } = o;
+  const { t, sp, pv, mv, mode, quality } = o;
   let nonFinite = false;
   for (const v of [t, sp, pv, mv]) {
     if (typeof v === "number" && Number.isFinite(v)) continue;
@@ -115,7 +119,11 @@ export function validateSample(item: unknown): SampleResult {
     else return { ok: false, reason: "bad-shape" };
   }
   if (typeof mode !== "string" || !(LOOP_MODES as readonly string[]).includes(mode)) return { ok: false, reason: "bad-shape" };
+  if (quality !== undefined && (typeof quality !== "string" || !(SAMPLE_QUALITIES as readonly string[]).includes(quality))) return { ok: false, reason: "bad-shape" };
   if (nonFinite) return { ok: false, reason: "non-finite" };
   if (!Number.isSafeInteger(t) || (t as number) < 0) return { ok: false, reason: "bad-shape" };
-  return { ok: true, sample: { t: t as number, sp: sp as number, pv: pv as number, mv: mv as number, mode: mode as LoopMode } };
+  const sample: SampleDto = { t: t as number, sp: sp as number, pv: pv as number, mv: mv as number, mode: mode as LoopMode };
+  // "good" is the default and is not carried (keeps samples to the browser lean)
+  if (quality !== undefined && quality !== "good") sample.quality = quality as SampleQuality;
+  return { ok: true, sample };
 }

@@ -4,6 +4,7 @@
  * payloads, ISO 8601 strings in the REST API.
  */
 import type { Complex } from "./control/types";
+import type { QualityReason } from "./sample-quality";
 
 export const ROLES = ["viewer", "operator", "engineer", "admin"] as const;
 export type Role = (typeof ROLES)[number];
@@ -23,10 +24,15 @@ export const TRACKER_STATES = [
   "stale",
   "manual",
   "saturated",
+  "poor-fit",
 ] as const;
 export type TrackerState = (typeof TRACKER_STATES)[number];
 
 export type LoopMode = "auto" | "manual" | "cascade";
+
+/** Quality of a sample (telemetry contract): only `good` samples feed estimators and statistics (lib/sample-quality.ts). */
+export const SAMPLE_QUALITIES = ["good", "bad", "uncertain"] as const;
+export type SampleQuality = (typeof SAMPLE_QUALITIES)[number];
 
 export const ALARM_PRIORITIES = ["urgent", "high", "low"] as const;
 export type AlarmPriority = (typeof ALARM_PRIORITIES)[number];
@@ -53,6 +59,29 @@ export interface SampleDto {
   pv: number;
   mv: number;
   mode: LoopMode;
+  /** Absent = good. Set by the gateway, or by ingest when a value is a fault code or out of range. */
+  quality?: SampleQuality;
+  /** Why a sample is not good (set by ingest and the tracker, never taken from the gateway). */
+  qualityReason?: QualityReason;
+}
+
+/**
+ * What a loop's tracker saw of sample quality: counts over its last `windowSamples` samples, totals
+ * since it started, the last bad sample. Bad and uncertain samples never reach the estimators;
+ * `outliers` are in-range PV readings the residual test bounded (isolated outliers).
+ */
+export interface SampleQualityDto {
+  windowSamples: number;
+  bad: number;
+  uncertain: number;
+  outliers: number;
+  /** bad / windowSamples (0 when the window is empty). */
+  badShare: number;
+  badTotal: number;
+  uncertainTotal: number;
+  /** Epoch ms (sample time) of the last bad sample, and why it was bad. */
+  lastBadAt: number | null;
+  lastBadReason: QualityReason | null;
 }
 
 /** A pole with its uncertainty: radius standard deviation and (Re, Im) covariance [xx, xy, yy]. */
@@ -105,6 +134,8 @@ export interface LoopStateDto {
   characteristic: number[] | null;
   delaySamples: number | null;
   last: SampleDto | null;
+  /** Sample quality seen by the tracker (absent in states stored before it existed). */
+  sampleQuality?: SampleQualityDto;
 }
 
 export interface AlarmDto {

@@ -30,8 +30,11 @@ export class Sample1s extends Model<InferAttributes<Sample1s>, InferCreationAttr
   declare mvMean: number | null;
   declare mvMax: number | null;
   declare mode: LoopMode | null;
-  /** Raw samples aggregated. */
+  /** Good samples aggregated (the statistics are made of these). */
   declare n: CreationOptional<number>;
+  /** Samples of bad / uncertain quality in the second (in no statistic; migrations/0103). */
+  declare badN: CreationOptional<number>;
+  declare uncertainN: CreationOptional<number>;
 }
 
 /** 1-minute aggregates of SP, PV, MV and the spectral radius. */
@@ -54,6 +57,8 @@ export class Sample1m extends Model<InferAttributes<Sample1m>, InferCreationAttr
   /** Share of the minute in manual, 0..1. */
   declare manualFraction: number | null;
   declare n: CreationOptional<number>;
+  declare badN: CreationOptional<number>;
+  declare uncertainN: CreationOptional<number>;
 }
 
 export class PoleSnapshot extends Model<InferAttributes<PoleSnapshot>, InferCreationAttributes<PoleSnapshot>> {
@@ -87,6 +92,8 @@ export function initHistoryModels(sequelize: Sequelize) {
       ...mmm("mv"),
       mode: enumColumn(["auto", "manual", "cascade"], true),
       n: { type: DataTypes.SMALLINT.UNSIGNED, allowNull: false, defaultValue: 1 },
+      badN: { type: DataTypes.SMALLINT.UNSIGNED, allowNull: false, defaultValue: 0 },
+      uncertainN: { type: DataTypes.SMALLINT.UNSIGNED, allowNull: false, defaultValue: 0 },
     },
     { ...common, tableName: "samples_1s", modelName: "Sample1s" },
   );
@@ -99,6 +106,8 @@ export function initHistoryModels(sequelize: Sequelize) {
       ...mmm("radius"),
       manualFraction: { type: DataTypes.DOUBLE, allowNull: true },
       n: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false, defaultValue: 0 },
+      badN: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false, defaultValue: 0 },
+      uncertainN: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false, defaultValue: 0 },
     },
     { ...common, tableName: "samples_1m", modelName: "Sample1m" },
   );

@@ -11,6 +11,7 @@ const LABEL: Record<TrackerState, string> = {
   stale: "stale",
   manual: "manual",
   saturated: "saturated",
+  "poor-fit": "poor fit",
 };
 
 function Shape({ state }: { state: TrackerState }) {
@@ -32,6 +33,14 @@ function Shape({ state }: { state: TrackerState }) {
       );
     case "manual":
       return <rect x="2" y="2" width="8" height="8" fill="none" stroke={s} strokeWidth="1.6" />;
+    case "poor-fit":
+      // a broken trace: the model's prediction and the PV have parted
+      return (
+        <g stroke={s} strokeWidth="1.6" fill="none">
+          <path d="M1.5 8 L4.5 4.5" />
+          <path d="M7.5 7.5 L10.5 4" />
+        </g>
+      );
     case "saturated":
       return (
         <g fill={s}>

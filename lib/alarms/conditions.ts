@@ -157,7 +157,7 @@ export function averageResidenceTime(
 // ---------------------------------------------------------------- the four conditions
 
 /** Tracker states in which no stability alarm is raised (the estimate is not trustworthy). */
-export const NON_TRACKING: ReadonlySet<TrackerState> = new Set(["manual", "stale", "saturated", "learning", "low-excitation"]);
+export const NON_TRACKING: ReadonlySet<TrackerState> = new Set(["manual", "stale", "saturated", "learning", "low-excitation", "poor-fit"]);
 
 export interface ConditionMemory {
   filters: Record<string, LevelFilter>;

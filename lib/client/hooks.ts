@@ -96,7 +96,8 @@ export function useLoopSamples(loopId: number, keep = 3600): { samples: SampleDt
     const onSamples = (b: { loopId: number; samples: SampleDto[] }) => {
       if (b.loopId !== loopId) return;
       const arr = buf.current;
-      for (const x of b.samples) arr.push(x);
+      // a bad-quality sample (fault code, out of range) would wreck the trend's scale: it is counted, not drawn
+      for (const x of b.samples) if (x.quality !== "bad") arr.push(x);
       if (arr.length > keep) arr.splice(0, arr.length - keep);
       if (!raf)
         raf = requestAnimationFrame(() => {

@@ -1,10 +1,12 @@
 /**
  * Ingest diagnostics for an admin: the running pipeline's counters for the admin's tenant only,
  * joined with the tenant's device names. Devices that sent nothing since the start are listed
- * with zero counts so a silent gateway is visible.
+ * with zero counts so a silent gateway is visible. Samples accepted as bad or uncertain quality
+ * (lib/sample-quality.ts) are counted per reason beside the rejections.
  */
 import { QueryTypes, type Sequelize } from "sequelize";
 import { getSequelize } from "@/lib/db/sequelize";
+import { QUALITY_REASONS, type QualityReason } from "@/lib/sample-quality";
 import { getServerContext } from "@/lib/server-context";
 import { REJECT_REASONS, type RejectReason } from "@/lib/telemetry";
 import type { TenantContext } from "@/lib/types";
@@ -20,14 +22,19 @@ export interface DeviceIngestCounters {
   lastMessageAt: string | null;
   lastRejectAt: string | null;
   lastRejectReason: RejectReason | null;
+  /** Accepted samples of bad or uncertain quality, per reason. */
+  quality: Record<QualityReason, number>;
+  lastBadAt: string | null;
+  lastBadReason: QualityReason | null;
 }
 
 export interface IngestDiagnosticsDto {
   /** False when no pipeline runs in this process (counters then read zero). */
   running: boolean;
   reasons: readonly RejectReason[];
+  qualityReasons: readonly QualityReason[];
   devices: DeviceIngestCounters[];
-  totals: { messages: number; acceptedSamples: number; redelivered: number; rejected: Record<RejectReason, number> };
+  totals: { messages: number; acceptedSamples: number; redelivered: number; rejected: Record<RejectReason, number>; quality: Record<QualityReason, number> };
 }
 
 interface LiveCounters {
@@ -40,11 +47,15 @@ interface LiveCounters {
   lastMessageAt: number | null;
   lastRejectAt: number | null;
   lastRejectReason: RejectReason | null;
+  quality?: Record<QualityReason, number>;
+  lastBadAt?: number | null;
+  lastBadReason?: QualityReason | null;
 }
 
 type PipelineLike = { ingestDiagnostics?: (tenantId: number) => { devices: LiveCounters[] } };
 
 const zero = () => Object.fromEntries(REJECT_REASONS.map((r) => [r, 0])) as Record<RejectReason, number>;
+const zeroQuality = () => Object.fromEntries(QUALITY_REASONS.map((r) => [r, 0])) as Record<QualityReason, number>;
 const iso = (t: number | null) => (t === null ? null : new Date(t).toISOString());
 
 export async function ingestDiagnostics(
@@ -73,18 +84,22 @@ export async function ingestDiagnostics(
       lastMessageAt: iso(d?.lastMessageAt ?? null),
       lastRejectAt: iso(d?.lastRejectAt ?? null),
       lastRejectReason: d?.lastRejectReason ?? null,
+      quality: { ...zeroQuality(), ...d?.quality },
+      lastBadAt: iso(d?.lastBadAt ?? null),
+      lastBadReason: d?.lastBadReason ?? null,
     };
   });
   // Counters of a credential deleted since (still this tenant's traffic).
   for (const d of byKey.values()) {
-    devices.push({ device: d.device, name: null, revoked: true, messages: d.messages, acceptedSamples: d.acceptedSamples, redelivered: d.redelivered, rejected: { ...zero(), ...d.rejected }, lastMessageAt: iso(d.lastMessageAt), lastRejectAt: iso(d.lastRejectAt), lastRejectReason: d.lastRejectReason });
+    devices.push({ device: d.device, name: null, revoked: true, messages: d.messages, acceptedSamples: d.acceptedSamples, redelivered: d.redelivered, rejected: { ...zero(), ...d.rejected }, lastMessageAt: iso(d.lastMessageAt), lastRejectAt: iso(d.lastRejectAt), lastRejectReason: d.lastRejectReason, quality: { ...zeroQuality(), ...d.quality }, lastBadAt: iso(d.lastBadAt ?? null), lastBadReason: d.lastBadReason ?? null });
   }
-  const totals = { messages: 0, acceptedSamples: 0, redelivered: 0, rejected: zero() };
+  const totals = { messages: 0, acceptedSamples: 0, redelivered: 0, rejected: zero(), quality: zeroQuality() };
   for (const d of devices) {
     totals.messages += d.messages;
     totals.acceptedSamples += d.acceptedSamples;
     totals.redelivered += d.redelivered;
     for (const r of REJECT_REASONS) totals.rejected[r] += d.rejected[r];
+    for (const r of QUALITY_REASONS) totals.quality[r] += d.quality[r];
   }
-  return { running: live !== null, reasons: REJECT_REASONS, devices, totals };
+  return { running: live !== null, reasons: REJECT_REASONS, qualityReasons: QUALITY_REASONS, devices, totals };
 }

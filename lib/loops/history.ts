@@ -45,8 +45,11 @@ export interface HistoryPoint {
   pv: Stat;
   mv: Stat;
   radius: Stat | null;
-  /** Raw samples in the bucket. */
+  /** Good samples in the bucket (the statistics are made of these). */
   n: number;
+  /** Samples of bad / uncertain quality in the bucket (in no statistic: evidence of a sensor fault); always set by `getLoopHistory`. */
+  bad?: number;
+  uncertain?: number;
 }
 
 export interface HistorySnapshot {
@@ -122,7 +125,7 @@ export async function getLoopHistory<S extends "rows" | "columns" = "rows">(
             MIN(sp_min) AS sp_min, ${w("sp")} AS sp_mean, MAX(sp_max) AS sp_max,
             MIN(pv_min) AS pv_min, ${w("pv")} AS pv_mean, MAX(pv_max) AS pv_max,
             MIN(mv_min) AS mv_min, ${w("mv")} AS mv_mean, MAX(mv_max) AS mv_max,
-            SUM(n) AS n ${radiusCols}
+            SUM(n) AS n, SUM(bad_n) AS bad, SUM(uncertain_n) AS uncertain ${radiusCols}
        FROM ${table}
       WHERE loop_id = ? AND t >= ? AND t < ?
       GROUP BY b ORDER BY b`,
@@ -170,6 +173,8 @@ export async function getLoopHistory<S extends "rows" | "columns" = "rows">(
       mv: stat(r.mv_min ?? null, r.mv_mean ?? null, r.mv_max ?? null),
       radius,
       n: Number(r.n ?? 0),
+      bad: Number(r.bad ?? 0),
+      uncertain: Number(r.uncertain ?? 0),
     };
   });
 
@@ -220,10 +225,12 @@ const COLUMN_NAMES = SERIES.flatMap((k) => STATS.map((st) => ({ k, st, name: `${
  * has no value. About a third of the rows' JSON, and a browser parses arrays of numbers much
  * faster than one object per bucket.
  */
-export type LoopHistoryColumns = Omit<LoopHistory, "points"> & { shape: "columns"; t: number[]; n: number[] } & Record<StatColumn, (number | null)[]>;
+export type LoopHistoryColumns = Omit<LoopHistory, "points"> & { shape: "columns"; t: number[]; n: number[]; bad: number[]; uncertain: number[] } & Record<StatColumn, (number | null)[]>;
 
-function bucketColumns(buckets: readonly Bucket[]): { t: number[]; n: number[] } & Record<StatColumn, (number | null)[]> {
-  const cols = { t: buckets.map((b) => b.t), n: buckets.map((b) => b.n) } as { t: number[]; n: number[] } & Record<StatColumn, (number | null)[]>;
+type CountColumns = { t: number[]; n: number[]; bad: number[]; uncertain: number[] };
+
+function bucketColumns(buckets: readonly Bucket[]): CountColumns & Record<StatColumn, (number | null)[]> {
+  const cols = { t: buckets.map((b) => b.t), n: buckets.map((b) => b.n), bad: buckets.map((b) => b.bad ?? 0), uncertain: buckets.map((b) => b.uncertain ?? 0) } as CountColumns & Record<StatColumn, (number | null)[]>;
   for (const { k, st, name } of COLUMN_NAMES) cols[name] = buckets.map((b) => b[k]?.[st] ?? null);
   return cols;
 }

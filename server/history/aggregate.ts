@@ -2,7 +2,8 @@
  * In-memory aggregation for the history tiers (ARCHITECTURE.md §6): per-second min/mean/max of
  * SP, PV, MV (a loop at 1 Hz or slower gives one sample per row, n = 1), 1-minute aggregates of
  * SP, PV, MV and the spectral radius, pole snapshots at a coarser period or on change. Pure: the
- * writer decides when rows go to MariaDB.
+ * writer decides when rows go to MariaDB. A sample of bad or uncertain quality (lib/sample-quality.ts)
+ * enters no min/mean/max: it is counted in its row's `bad` or `uncertain` (`n` counts the good ones).
  */
 import type { LoopMode, LoopStateDto, SampleDto } from "@/lib/types";
 
@@ -32,7 +33,11 @@ export interface SecondBucketRow {
   pv: [number | null, number | null, number | null];
   mv: [number | null, number | null, number | null];
   mode: LoopMode | null;
+  /** Good samples in the statistics. */
   n: number;
+  /** Samples of bad and of uncertain quality in the period (not in the statistics); absent = 0. */
+  bad?: number;
+  uncertain?: number;
 }
 export interface MinuteBucketRow extends SecondBucketRow {
   radius: [number | null, number | null, number | null];
@@ -53,9 +58,16 @@ class Bucket {
   readonly mv = new MinMeanMax();
   readonly radius = new MinMeanMax();
   manual = 0;
+  bad = 0;
+  uncertain = 0;
   mode: LoopMode | null = null;
   constructor(readonly t: number) {}
   addSample(s: SampleDto): void {
+    if (s.quality === "bad" || s.quality === "uncertain") {
+      if (s.quality === "bad") this.bad++;
+      else this.uncertain++;
+      return;
+    }
     this.sp.add(s.sp);
     this.pv.add(s.pv);
     this.mv.add(s.mv);
@@ -188,12 +200,12 @@ export class HistoryAggregator {
   }
 
   private emitSecond(loopId: number, b: Bucket): void {
-    if (b.sp.n === 0) return;
-    this.out.second({ loopId, t: b.t, sp: b.sp.row(), pv: b.pv.row(), mv: b.mv.row(), mode: b.mode, n: b.sp.n });
+    if (b.sp.n === 0 && b.bad === 0 && b.uncertain === 0) return;
+    this.out.second({ loopId, t: b.t, sp: b.sp.row(), pv: b.pv.row(), mv: b.mv.row(), mode: b.mode, n: b.sp.n, bad: b.bad, uncertain: b.uncertain });
   }
 
   private emitMinute(loopId: number, m: Bucket): void {
-    if (m.sp.n === 0 && m.radius.n === 0) return;
+    if (m.sp.n === 0 && m.radius.n === 0 && m.bad === 0 && m.uncertain === 0) return;
     this.emittedMinute.set(loopId, m.t);
     this.out.minute({
       loopId,
@@ -203,6 +215,8 @@ export class HistoryAggregator {
       mv: m.mv.row(),
       mode: m.mode,
       n: m.sp.n,
+      bad: m.bad,
+      uncertain: m.uncertain,
       radius: m.radius.row(),
       manualFraction: m.sp.n === 0 ? null : m.manual / m.sp.n,
     });

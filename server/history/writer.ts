@@ -33,18 +33,19 @@ interface Table<R> {
 
 const SECONDS: Table<SecondBucketRow> = {
   name: "samples_1s",
-  columns: "loop_id,t,sp_min,sp_mean,sp_max,pv_min,pv_mean,pv_max,mv_min,mv_mean,mv_max,mode,n",
-  update: ["sp_min", "sp_mean", "sp_max", "pv_min", "pv_mean", "pv_max", "mv_min", "mv_mean", "mv_max", "mode", "n"].map((c) => `${c}=VALUES(${c})`).join(","),
-  values: (r) => `(${int(r.loopId)},${int(r.t)},${triple(r.sp)},${triple(r.pv)},${triple(r.mv)},${r.mode && MODES.has(r.mode) ? `'${r.mode}'` : "NULL"},${int(Math.min(r.n, 65535))})`,
+  columns: "loop_id,t,sp_min,sp_mean,sp_max,pv_min,pv_mean,pv_max,mv_min,mv_mean,mv_max,mode,n,bad_n,uncertain_n",
+  update: ["sp_min", "sp_mean", "sp_max", "pv_min", "pv_mean", "pv_max", "mv_min", "mv_mean", "mv_max", "mode", "n", "bad_n", "uncertain_n"].map((c) => `${c}=VALUES(${c})`).join(","),
+  values: (r) =>
+    `(${int(r.loopId)},${int(r.t)},${triple(r.sp)},${triple(r.pv)},${triple(r.mv)},${r.mode && MODES.has(r.mode) ? `'${r.mode}'` : "NULL"},${int(Math.min(r.n, 65535))},${int(Math.min(r.bad ?? 0, 65535))},${int(Math.min(r.uncertain ?? 0, 65535))})`,
 };
 
 const MINUTES: Table<MinuteBucketRow> = {
   name: "samples_1m",
-  columns: "loop_id,t,sp_min,sp_mean,sp_max,pv_min,pv_mean,pv_max,mv_min,mv_mean,mv_max,radius_min,radius_mean,radius_max,manual_fraction,n",
-  update: ["sp_min", "sp_mean", "sp_max", "pv_min", "pv_mean", "pv_max", "mv_min", "mv_mean", "mv_max", "radius_min", "radius_mean", "radius_max", "manual_fraction", "n"]
+  columns: "loop_id,t,sp_min,sp_mean,sp_max,pv_min,pv_mean,pv_max,mv_min,mv_mean,mv_max,radius_min,radius_mean,radius_max,manual_fraction,n,bad_n,uncertain_n",
+  update: ["sp_min", "sp_mean", "sp_max", "pv_min", "pv_mean", "pv_max", "mv_min", "mv_mean", "mv_max", "radius_min", "radius_mean", "radius_max", "manual_fraction", "n", "bad_n", "uncertain_n"]
     .map((c) => `${c}=VALUES(${c})`)
     .join(","),
-  values: (r) => `(${int(r.loopId)},${int(r.t)},${triple(r.sp)},${triple(r.pv)},${triple(r.mv)},${triple(r.radius)},${num(r.manualFraction)},${int(r.n)})`,
+  values: (r) => `(${int(r.loopId)},${int(r.t)},${triple(r.sp)},${triple(r.pv)},${triple(r.mv)},${triple(r.radius)},${num(r.manualFraction)},${int(r.n)},${int(r.bad ?? 0)},${int(r.uncertain ?? 0)})`,
 };
 
 const SNAPSHOTS: Table<PoleSnapshotRow> = {

@@ -2,8 +2,11 @@
  * Ingest counters per device and reason (ARCHITECTURE.md §5). Message-level reasons (bad-json,
  * too-large, too-many-samples, bad-topic, retained, unauthorised, unknown-loop, wrong-tenant) count
  * messages; sample-level reasons (bad-shape, non-finite, out-of-order, duplicate, future) and
- * `redelivery` count samples. Served to admins at GET /api/diagnostics/ingest.
+ * `redelivery` count samples. Samples accepted as bad or uncertain quality (lib/sample-quality.ts)
+ * are counted in `acceptedSamples` and again per quality reason. Served to admins at
+ * GET /api/diagnostics/ingest.
  */
+import { QUALITY_REASONS, type QualityReason } from "@/lib/sample-quality";
 import { REJECT_REASONS, type RejectReason } from "@/lib/telemetry";
 
 /** Who sent a message: the authenticated credential, or a bucket for traffic without one. */
@@ -28,6 +31,14 @@ export interface DeviceCounters {
   lastMessageAt: number | null;
   lastRejectAt: number | null;
   lastRejectReason: RejectReason | null;
+  /** Accepted samples that are not good, per reason (bad: fault-value, out-of-range, reported-bad; uncertain: the rest). */
+  quality: Record<QualityReason, number>;
+  lastBadAt: number | null;
+  lastBadReason: QualityReason | null;
+}
+
+export function emptyQualityReasons(): Record<QualityReason, number> {
+  return Object.fromEntries(QUALITY_REASONS.map((r) => [r, 0])) as Record<QualityReason, number>;
 }
 
 function emptyReasons(): Record<RejectReason, number> {
@@ -50,6 +61,9 @@ export class IngestCounters {
         lastMessageAt: null,
         lastRejectAt: null,
         lastRejectReason: null,
+        quality: emptyQualityReasons(),
+        lastBadAt: null,
+        lastBadReason: null,
       };
       this.byDevice.set(device.key, e);
     }
@@ -77,19 +91,28 @@ export class IngestCounters {
     e.lastRejectReason = reason;
   }
 
+  /** A sample accepted as bad or uncertain quality. */
+  quality(device: DeviceIdentity, reason: QualityReason, now: number): void {
+    const e = this.entry(device);
+    e.quality[reason]++;
+    e.lastBadAt = now;
+    e.lastBadReason = reason;
+  }
+
   /** Copies of the counters; with a tenant id, only that tenant's devices. */
   snapshot(tenantId?: number): DeviceCounters[] {
     const out: DeviceCounters[] = [];
     for (const e of this.byDevice.values()) {
       if (tenantId !== undefined && e.tenantId !== tenantId) continue;
-      out.push({ ...e, rejected: { ...e.rejected } });
+      out.push({ ...e, rejected: { ...e.rejected }, quality: { ...e.quality } });
     }
     return out.sort((a, b) => a.device.localeCompare(b.device));
   }
 
   /** Sums over all devices (or one tenant's). */
-  totals(tenantId?: number): { messages: number; acceptedSamples: number; redelivered: number; rejected: Record<RejectReason, number> } {
+  totals(tenantId?: number): { messages: number; acceptedSamples: number; redelivered: number; rejected: Record<RejectReason, number>; quality: Record<QualityReason, number> } {
     const rejected = emptyReasons();
+    const quality = emptyQualityReasons();
     let messages = 0;
     let acceptedSamples = 0;
     let redelivered = 0;
@@ -99,7 +122,8 @@ export class IngestCounters {
       acceptedSamples += e.acceptedSamples;
       redelivered += e.redelivered;
       for (const r of REJECT_REASONS) rejected[r] += e.rejected[r];
+      for (const r of QUALITY_REASONS) quality[r] += e.quality[r];
     }
-    return { messages, acceptedSamples, redelivered, rejected };
+    return { messages, acceptedSamples, redelivered, rejected, quality };
   }
 }

@@ -2,6 +2,7 @@
  * Which loop a topic names: (tenant slug, site slug, loop slug) -> loop id. Rebuilt from MariaDB at
  * start and whenever a loop changes; lookups are one Map access on the hot path.
  */
+import type { QualityRange } from "@/lib/sample-quality";
 import type { TelemetryTopic } from "@/lib/telemetry";
 
 export interface LoopRoute {
@@ -11,6 +12,8 @@ export interface LoopRoute {
   tenantSlug: string;
   siteSlug: string;
   loopSlug: string;
+  /** The loop's configured PV and MV ranges, for judging sample quality (absent: fault values only). */
+  range?: QualityRange;
 }
 
 const key = (tenant: string, site: string, loop: string) => `${tenant}/${site}/${loop}`;

@@ -1,8 +1,12 @@
 /**
  * Ingest: one MQTT message in, validated samples out (ARCHITECTURE.md §5). Each sample is judged
  * alone; every rejection is counted per device and reason; nothing here throws, and nothing
- * rejected reaches the sink (the tracker registry, history and realtime).
+ * rejected reaches the sink (the tracker registry, history and realtime). An accepted sample
+ * whose values are a fault code or out of the loop's range (or that the gateway marks so) goes on
+ * with `quality` bad or uncertain and its reason, counted per device and reason: the tracker and
+ * history keep it out of every estimate and statistic.
  */
+import { judgeSampleQuality, type QualityReason } from "@/lib/sample-quality";
 import type { SampleDto } from "@/lib/types";
 import {
   FUTURE_SKEW_MS,
@@ -33,6 +37,8 @@ export interface IngestOutcome {
   accepted: number;
   redelivered: number;
   rejected: Partial<Record<RejectReason, number>>;
+  /** Accepted samples (counted in `accepted` too) that are not good, per reason; absent when all were good. */
+  quality?: Partial<Record<QualityReason, number>>;
 }
 
 /** What identifies the last accepted message of a loop (for QoS 1 re-sends without the DUP flag). */
@@ -148,6 +154,14 @@ export class Ingest {
         continue;
       }
       last = s.t;
+      const q = judgeSampleQuality(s, route.range ?? null);
+      if (q.reason !== null) {
+        s.quality = q.quality;
+        s.qualityReason = q.reason;
+        counters.quality(device, q.reason, receivedAt);
+        const byReason = (out.quality ??= {});
+        byReason[q.reason] = (byReason[q.reason] ?? 0) + 1;
+      }
       accepted.push(s);
     }
 

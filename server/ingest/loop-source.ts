@@ -14,6 +14,7 @@ export interface LoopRouteRow {
   tenantSlug: string;
   siteSlug: string;
   loopSlug: string;
+  range: { pvLo: number; pvHi: number; mvLo: number; mvHi: number };
 }
 
 export interface LoadedLoop {
@@ -78,6 +79,7 @@ function toLoaded(r: Row): LoadedLoop {
     tenantSlug: r.tenant_slug,
     siteSlug: r.site_slug,
     loopSlug: r.slug,
+    range: { pvLo: Number(r.pv_lo), pvHi: Number(r.pv_hi), mvLo: Number(r.mv_lo), mvHi: Number(r.mv_hi) },
   };
   const enabled = r.enabled === true || Number(r.enabled) === 1;
   try {

@@ -44,7 +44,16 @@
  *    forecast of the radius over a window far longer than the estimator's memory.
  * A full state is computed at most once per second of telemetry time (and on state changes).
  * `stale`: no message for 3 delivery periods (the telemetry period times the samples per
- * message, so a batching gateway does not flap), or a PV repeated exactly for 30 s.
+ * message, so a batching gateway does not flap), or a PV repeated exactly for 30 s, or a run of
+ * bad-quality samples (a sensor fault).
+ * Sample quality (lib/sample-quality.ts): a bad or uncertain sample (fault code, out of range,
+ * the gateway's word) never reaches an estimator or a statistic. It stands in the decimation
+ * block as the last good value (so the estimation clock keeps its period) and the estimation
+ * samples whose regressors hold it update nothing. The tracker counts quality over a recent window
+ * and remembers the last bad sample (`sampleQuality` in the state: input to a sensor-fault finding).
+ * Isolated in-range PV outliers are bounded by a residual test on the plant model's a-priori
+ * prediction error (lib/control/robust.ts), and a sustained collapse of that error against its own
+ * baseline is reported as `poor-fit` (the model figures are then not trusted, like low excitation).
  */
 import { ArxEstimator, type ArxEstimatorState } from "@/lib/control/arx";
 import { InstrumentalArxEstimator, type InstrumentalArxState } from "@/lib/control/riv";
@@ -53,12 +62,15 @@ import { closedLoopCoefficientCovariance, poleConfidence } from "@/lib/control/c
 import { forecastCrossing } from "@/lib/control/forecast";
 import { juryTest } from "@/lib/control/jury";
 import { polyMul, qToZ, stripLeadingZeros } from "@/lib/control/poly";
+import { ArxPredictor, ResidualScreen, type ResidualScreenState } from "@/lib/control/robust";
 import { polyRoots } from "@/lib/control/roots";
 import { polyRootsWithBounds, rimVerdict } from "@/lib/control/root-bounds";
 import type { ArxModel, Complex, QTf } from "@/lib/control/types";
 import { decayRatio, poleCharacteristics } from "@/lib/control/zplane";
+import { judgeSampleQuality, valueUsable } from "@/lib/sample-quality";
 import type { LoopMode, LoopStateDto, PoleDto, SampleDto, TrackerState } from "@/lib/types";
 import type { Clock } from "../context";
+import { QualityWindow } from "./quality-window";
 import type { LoopConfig } from "./types";
 
 /** Normalised signals are clipped to this many % of span (100 x the span either way). */
@@ -75,6 +87,10 @@ const MAX_DATA_ORDER = 8;
 const INSTRUMENT_THRESHOLD_PCT = 1e-3;
 /** Seconds without an informative sample (set-point or manual move) before `low-excitation`, at least one estimator memory. */
 const HOLD_S = 900;
+/** Bad-quality samples in a row before the loop counts as `stale` (sensor fault). */
+const BAD_RUN = 3;
+/** Seconds of samples in the quality window of the state. */
+const QUALITY_WINDOW_S = 600;
 
 export interface LoopTrackerOptions {
   clock: Clock;
@@ -85,6 +101,30 @@ export interface LoopTrackerOptions {
   stateEveryS?: number;
   /** A PV repeated exactly for this many seconds of samples counts as flat-lined; default 30 (at least 20 samples). */
   flatSeconds?: number;
+}
+
+/** One estimation sample (block averages, % of span) with its flags. */
+interface EstimationInput {
+  u: number;
+  y: number;
+  r: number;
+  manual: boolean;
+  saturated: boolean;
+  flat: boolean;
+  t: number;
+  bad: boolean;
+  /** A sample of the block was stood in whole (an uncertain one, an unusable MV or SP): never learnt from. */
+  whole?: boolean;
+  /** The a-priori prediction error before an outlier was bounded (the fit watch takes the raw one). */
+  rawE?: number;
+}
+
+/** A sample with a large prediction error, waiting for the next one to tell an outlier from a change. */
+interface PendingSample {
+  sample: EstimationInput;
+  /** The raw PV (% of span) that bounds its prediction error, and the error itself. */
+  yBounded: number;
+  rawE: number;
 }
 
 /** "Never" in a checkpoint (JSON cannot carry -Infinity): an estimation-sample index no loop reaches. */
@@ -111,6 +151,8 @@ export interface TrackerCheckpoint {
   yMean: number;
   /** Prefilter state: last raw signals and the filtered values. */
   prefilter: { prev: { u: number; y: number; r: number } | null; filtered: { u: number; y: number; r: number } };
+  /** Residual screen and its predictor history (absent in older checkpoints: they start afresh). */
+  robust?: { screen: ResidualScreenState; predictor: { y: number[]; u: number[] }; taint: number; collapseInformative: number; pending: PendingSample | null } | null;
 }
 
 function finite(x: number | null | undefined): number | null {
@@ -173,6 +215,24 @@ export class LoopTracker {
   private lastR: number | null = null;
   private prevSignals: { u: number; y: number; r: number } | null = null;
   private filtered = { u: 0, y: 0, r: 0 };
+  // sample quality and robustness (see the module comment)
+  private readonly quality: QualityWindow;
+  /** Last good normalised signals: what a bad sample stands in as (null before the first good one). */
+  private held: { y: number; u: number; r: number } | null = null;
+  private accBad = false;
+  /** The block holds a sample stood in whole (not only its PV): it is never learnt from. */
+  private accWhole = false;
+  /** Zeros stood in for bad samples before any good one (see `ingest`). */
+  private standIns = false;
+  private badRun = 0;
+  /** Estimation samples still to skip because their regressors hold a stood-in value. */
+  private taint = 0;
+  private screen = new ResidualScreen();
+  private predictor: ArxPredictor;
+  /** Informative plant samples when the current fit collapse began (-1: none). */
+  private collapseInformative = -1;
+  private pending: PendingSample | null = null;
+
 
   /** L(q) = (1 - q^-1) / (1 - c q^-1) applied to u, y and r alike; null for the first sample. */
   private prefilter(u: number, y: number, r: number): { u: number; y: number; r: number } | null {
@@ -228,6 +288,8 @@ export class LoopTracker {
     const degree = Math.max(config.na + this.controller.den.length - 1, config.nk + config.nb - 1 + this.controller.num.length - 1);
     this.dataOrder = Math.min(MAX_DATA_ORDER, Math.max(2, degree));
     this.data = this.makeDataEstimator();
+    this.predictor = new ArxPredictor(config.na, config.nk + config.nb);
+    this.quality = new QualityWindow(Math.max(60, Math.min(6000, Math.ceil(QUALITY_WINDOW_S / config.telemetryPeriodS))));
     this.state = this.emptyState("learning", "waiting for telemetry");
   }
 
@@ -325,20 +387,52 @@ export class LoopTracker {
   private ingest(s: SampleDto): boolean {
     const c = this.config;
     this.samplesSeen++;
-    this.lastSample = { t: s.t, sp: s.sp, pv: s.pv, mv: s.mv, mode: s.mode };
-    const y = clipPct((100 * (s.pv - c.pvLo)) / (c.pvHi - c.pvLo));
-    const u = clipPct((100 * (s.mv - c.mvLo)) / (c.mvHi - c.mvLo));
-    const r = clipPct((100 * (s.sp - c.pvLo)) / (c.pvHi - c.pvLo));
-    // flat-lined PV: a live measurement never repeats exactly for long (noise, quantisation aside)
-    if (this.lastPv !== null && s.pv === this.lastPv) this.flatRun++;
-    else this.flatRun = 0;
-    this.lastPv = s.pv;
-    const tol = LIMIT_TOLERANCE * (c.mvHi - c.mvLo);
-    const side = s.mv >= c.mvLimitHi - tol ? "high" : s.mv <= c.mvLimitLo + tol ? "low" : null;
-    if (side && side === this.limitSide) this.limitRun++;
-    else this.limitRun = side ? 1 : 0;
-    this.limitSide = side;
+    // ingest has judged the sample already; judging again covers direct callers and a range changed since
+    const q = judgeSampleQuality(s, c);
+    this.lastSample = { t: s.t, sp: s.sp, pv: s.pv, mv: s.mv, mode: s.mode, ...(q.reason === null ? {} : { quality: q.quality, qualityReason: q.reason }) };
+    this.quality.add(q.quality, q.reason, s.t);
     this.lastMode = s.mode;
+    let y: number, u: number, r: number;
+    if (q.reason !== null) {
+      // not good: the last good value stands in; `estimate` puts a trusted model's prediction in
+      // its place, or (no trusted model) lets its block update nothing
+      if (q.quality === "bad") this.badRun++;
+      const last = this.held ?? this.prevSignals; // after a restore: the prefilter's last input
+      if (last) {
+        ({ y, u, r } = last);
+        // a bad PV beside a good MV and SP: those are kept (and the block may be learnt from with
+        // the model's prediction for the PV); anything else stands in whole and is not learnt from
+        const pvOnly = (q.reason === "fault-value" || q.reason === "out-of-range") && valueUsable(s.mv, c.mvLo, c.mvHi) && valueUsable(s.sp, c.pvLo, c.pvHi);
+        if (pvOnly) {
+          u = clipPct((100 * (s.mv - c.mvLo)) / (c.mvHi - c.mvLo));
+          r = clipPct((100 * (s.sp - c.pvLo)) / (c.pvHi - c.pvLo));
+        } else this.accWhole = true;
+      } else {
+        // nothing good seen yet: zeros stand in, and the prefilter forgets them at the first good sample
+        y = u = r = 0;
+        this.standIns = true;
+        this.accWhole = true;
+      }
+      this.accBad = true;
+    } else {
+      this.badRun = 0;
+      y = clipPct((100 * (s.pv - c.pvLo)) / (c.pvHi - c.pvLo));
+      u = clipPct((100 * (s.mv - c.mvLo)) / (c.mvHi - c.mvLo));
+      r = clipPct((100 * (s.sp - c.pvLo)) / (c.pvHi - c.pvLo));
+      // the stand-ins before the first good sample are no history for the prefilter
+      if (this.standIns) this.prevSignals = null;
+      this.standIns = false;
+      this.held = { y, u, r };
+      // flat-lined PV: a live measurement never repeats exactly for long (noise, quantisation aside)
+      if (this.lastPv !== null && s.pv === this.lastPv) this.flatRun++;
+      else this.flatRun = 0;
+      this.lastPv = s.pv;
+      const tol = LIMIT_TOLERANCE * (c.mvHi - c.mvLo);
+      const side = s.mv >= c.mvLimitHi - tol ? "high" : s.mv <= c.mvLimitLo + tol ? "low" : null;
+      if (side && side === this.limitSide) this.limitRun++;
+      else this.limitRun = side ? 1 : 0;
+      this.limitSide = side;
+    }
     this.accY += y;
     this.accU += u;
     this.accR += r;
@@ -353,25 +447,124 @@ export class LoopTracker {
     const manual = this.accManual;
     const saturated = this.accSaturated;
     const flat = this.accFlat;
+    const bad = this.accBad;
+    const whole = this.accWhole;
     this.accY = this.accU = this.accR = 0;
     this.accN = 0;
-    this.accManual = this.accSaturated = this.accFlat = false;
-    return this.estimate(uu, yy, rr, manual, saturated, flat, s.t);
+    this.accManual = this.accSaturated = this.accFlat = this.accBad = this.accWhole = false;
+    return this.estimate(uu, yy, rr, manual, saturated, flat, s.t, bad, whole);
   }
 
-  private estimate(u: number, y: number, r: number, manual: boolean, saturated: boolean, flat: boolean, t: number): boolean {
+  /**
+   * One estimation sample. An isolated PV outlier (robust residual test, lib/control/robust.ts)
+   * is told from a real change of the process by the next sample: a sample whose prediction error
+   * is beyond the threshold waits one estimation period; if the next one fits again under the
+   * hypothesis that it was an outlier, it enters bounded (the plant model's prediction plus a
+   * bounded error, in the prefilter state too), else as it is (a load step, a valve slip or a plant
+   * change is data). Bounding every large error instead cut into real responses and biased the
+   * estimate (measured on the demo loops: sticking valve, saturation).
+   */
+  private estimate(u: number, y: number, r: number, manual: boolean, saturated: boolean, flat: boolean, t: number, bad = false, whole = false): boolean {
+    const sample: EstimationInput = { u, y, r, manual, saturated, flat, t, bad, whole };
+    const held = this.pending;
+    if (held) {
+      this.pending = null;
+      // a bad sample next cannot confirm anything: the bounded value is the safer one
+      const isolated = bad || !this.largeError(sample, held);
+      const first = this.step(isolated ? { ...held.sample, y: held.yBounded, rawE: held.rawE } : held.sample, isolated);
+      return this.step(this.predictBad(sample), false) || first;
+    }
+    if (bad) return this.step(this.predictBad(sample), false);
+    const judged = this.largeError(sample, null);
+    if (judged) {
+      this.pending = { sample, yBounded: judged.yBounded, rawE: judged.rawE };
+      return false;
+    }
+    return this.step(sample, false);
+  }
+
+  /**
+   * A block whose only fault is a bad PV, while a trusted model and a warm residual screen exist:
+   * its PV is the model's one-step prediction (an outlier of zero weight), and it is learnt from
+   * like any other, so a bad PV inside a set-point response costs that response nothing. Otherwise
+   * (an uncertain sample, a bad MV or SP, no trusted model) it stays a stand-in that updates
+   * nothing (`step` with `bad`).
+   */
+  private predictBad(x: EstimationInput): EstimationInput {
+    const prev = this.prevSignals;
+    if (!x.bad || x.whole || !prev || this.taint > 0 || !this.screen.ready() || !this.trusted()) return x;
+    const p = this.plant;
+    const pred = this.predictor.predict(p.theta, p.na, p.nb, p.nk);
+    if (!Number.isFinite(pred)) return x;
+    return { ...x, y: prev.y + pred - PREFILTER_POLE * this.filtered.y, bad: false };
+  }
+
+  /**
+   * Is the sample's a-priori prediction error beyond the residual test's threshold? `after`: judge
+   * it as the sample after `after`, with `after` taken as an outlier (its bounded value in the
+   * histories). Returns the raw PV that bounds the error, or null when the error is normal or the
+   * sample cannot be judged (no trusted model, a stood-in value in the regressors).
+   */
+  private largeError(x: EstimationInput, after: PendingSample | null): { yBounded: number; rawE: number } | null {
+    const p = this.plant;
+    const prev = this.prevSignals;
+    if (!prev || x.bad || this.taint > 0 || !this.screen.ready() || !this.trusted()) return null;
+    const c = PREFILTER_POLE;
+    const f = this.filtered;
+    let fy: number;
+    let pred: number;
+    let yPrev: number;
+    let fyBefore: number;
+    if (after) {
+      // the histories as they will be once `after` is taken bounded
+      const a = after.sample;
+      const fyA = c * f.y + (after.yBounded - prev.y);
+      const fuA = c * f.u + (a.u - prev.u);
+      pred = this.predictor.predictNext(p.theta, p.na, p.nb, p.nk, fyA, fuA);
+      fy = c * fyA + (x.y - after.yBounded);
+      yPrev = after.yBounded;
+      fyBefore = fyA;
+    } else {
+      pred = this.predictor.predict(p.theta, p.na, p.nb, p.nk);
+      fy = c * f.y + (x.y - prev.y);
+      yPrev = prev.y;
+      fyBefore = f.y;
+    }
+    const e = fy - pred;
+    if (!Number.isFinite(e) || !this.screen.isLarge(e)) return null;
+    return { yBounded: yPrev + pred + this.screen.bound(e) - c * fyBefore, rawE: e };
+  }
+
+  /** The reported plant model is the current estimate (the residual test and the fit watch judge with it). */
+  private trusted(): boolean {
+    return this.plantReady(this.plant) && this.implausible === null && this.lastGood !== null;
+  }
+
+  private step(x: EstimationInput, outlier: boolean): boolean {
+    const { u, y, r, manual, saturated, flat, t, bad } = x;
     const k = this.estimationSamples++;
     if (this.lastR !== null && Math.abs(r - this.lastR) > 0.05) this.lastSpMove = k;
     this.lastR = r;
-    const learn = !saturated && !flat;
+    // a block with a stood-in value, and the samples whose regressors still hold it, update nothing
+    const tainted = bad || this.taint > 0;
+    if (bad) this.taint = this.config.na + this.config.nb + this.config.nk;
+    else if (this.taint > 0) this.taint--;
+    const learn = !saturated && !flat && !tainted;
+    const p = this.plant;
+    const pred = this.predictor.predict(p.theta, p.na, p.nb, p.nk);
     // operating point removed by a leaky differencer (see the module comment)
     const f = this.prefilter(u, y, r);
     if (!f) return false;
+    if (outlier) this.quality.markOutlier();
+    if (!tainted) this.watchFit(x.rawE ?? f.y - pred);
+    this.predictor.shift(f.y, f.u);
     // running variance of the filtered PV (the signal the model predicts), for the fit figure
-    const w = 1 / Math.min(k + 1, this.memory);
-    const d = f.y - this.yMean;
-    this.yMean += w * d;
-    this.yVariance = (1 - w) * (this.yVariance + w * d * d);
+    if (!tainted) {
+      const w = 1 / Math.min(k + 1, this.memory);
+      const d = f.y - this.yMean;
+      this.yMean += w * d;
+      this.yVariance = (1 - w) * (this.yVariance + w * d * d);
+    }
     try {
       const mode = !learn ? "skip" : manual ? "open" : "closed";
       if (this.plantFull.push(f.u, f.y, f.r, mode)) this.lastPlantUpdate = k;
@@ -385,6 +578,29 @@ export class LoopTracker {
     this.lastStateAt = k;
     this.computeState(t);
     return true;
+  }
+
+  /**
+   * The residual screen's scale and the fit-collapse watch, fed with the model's a-priori
+   * prediction error from the first trusted estimate on (before it, an early estimate would read
+   * its own learning as a collapse).
+   */
+  private watchFit(e: number): void {
+    const p = this.plant;
+    // once a trusted model set the baseline, the current estimate stays under watch: an estimate
+    // that turns implausible because the data no longer fit any such model is a collapse too
+    if (Number.isFinite(e) && (this.trusted() || this.screen.baselineScale() > 0)) this.screen.record(e);
+    if (!this.fitCollapsed()) this.collapseInformative = -1;
+    else if (this.collapseInformative < 0) this.collapseInformative = p.informative;
+    else if (p.informative - this.collapseInformative >= this.memory) {
+      // refitted on a full memory of new set-point responses and still this far off: the new normal
+      this.screen.rebase();
+      this.collapseInformative = -1;
+    }
+  }
+
+  private fitCollapsed(): boolean {
+    return this.screen.collapsed;
   }
 
   /** The plant estimate can be reported: enough informative samples and a well-posed solution. */
@@ -444,6 +660,9 @@ export class LoopTracker {
     this.lastGood = null;
     this.implausible = null;
     this.data = this.makeDataEstimator();
+    this.screen = new ResidualScreen();
+    this.collapseInformative = -1;
+    this.pending = null;
     this.lastPlantUpdate = -Infinity;
     this.cachedHeadroom = { value: null, at: -Infinity };
     this.stateReasonOverride = reason;
@@ -459,6 +678,12 @@ export class LoopTracker {
       return { state: "stale", reason: `PV flat at ${fmt(this.lastPv)} for ${this.flatRun + 1} samples: frozen transmitter?` };
     }
     if (this.lastMode === "manual") return { state: "manual", reason: "loop in manual: the controller is not acting" };
+    // after manual: an operator's loop says so first (a level left in manual may drain beyond its
+    // range in a simulator); the quality counts still show the bad samples
+    if (this.badRun >= BAD_RUN) {
+      const why = this.quality.lastBadReason === "reported-bad" ? "marked bad by the gateway" : this.quality.lastBadReason === "out-of-range" ? "out of range" : "a fault value";
+      return { state: "stale", reason: `${this.badRun} samples in a row of bad quality (${why}, last PV ${fmt(this.lastSample?.pv ?? null)}): sensor fault?` };
+    }
     if (this.limitRun >= LIMIT_RUN) {
       const lim = this.limitSide === "high" ? c.mvLimitHi : c.mvLimitLo;
       return { state: "saturated", reason: `MV at its ${this.limitSide} limit (${fmt(lim)}): the loop is open` };
@@ -469,6 +694,11 @@ export class LoopTracker {
       if (n >= this.minUpdates) return { state: "learning", reason: `plant model learning: the set-point moves so far do not determine all ${this.plant.d} parameters` };
       const age = Number.isFinite(this.lastSpMove) ? ` (last set-point move ${Math.round((this.estimationSamples - this.lastSpMove) * this.estimationPeriodS)} s ago)` : " (no set-point move seen yet)";
       return { state: "learning", reason: `plant model learning: ${n} of ${this.minUpdates} informative samples${age}` };
+    }
+    if (this.fitCollapsed()) {
+      const ratio = this.screen.collapseRatio;
+      const what = `prediction error ${Number.isFinite(ratio) ? ratio.toFixed(1) : "several"} x its usual level`;
+      return { state: "poor-fit", reason: `the plant model no longer fits the PV (${what}): figures not trusted until it fits again` };
     }
     if (this.implausible !== null) {
       if (!this.lastGood) return { state: "learning", reason: `plant model learning: the estimate so far is not physical (${this.implausible})` };
@@ -499,7 +729,7 @@ export class LoopTracker {
   }
 
   private refreshStateOnly(kind: { state: TrackerState; reason: string | null }): void {
-    this.state = { ...this.state, at: this.clock.now(), receivedAt: this.receivedAt, trackerState: kind.state, stateReason: kind.reason, samples: this.samplesSeen, last: this.lastSample };
+    this.state = { ...this.state, at: this.clock.now(), receivedAt: this.receivedAt, trackerState: kind.state, stateReason: kind.reason, samples: this.samplesSeen, last: this.lastSample, sampleQuality: this.quality.dto() };
   }
 
   private emptyState(state: TrackerState, reason: string | null): LoopStateDto {
@@ -530,6 +760,7 @@ export class LoopTracker {
       characteristic: null,
       delaySamples: this.config.nk,
       last: this.lastSample,
+      sampleQuality: this.quality.dto(),
     };
   }
 
@@ -686,6 +917,7 @@ export class LoopTracker {
       yVariance: this.yVariance,
       yMean: this.yMean,
       prefilter: { prev: this.prevSignals ? { ...this.prevSignals } : null, filtered: { ...this.filtered } },
+      robust: { screen: this.screen.toJSON(), predictor: this.predictor.toJSON(), taint: this.taint, collapseInformative: this.collapseInformative, pending: this.pending ? { sample: { ...this.pending.sample }, yBounded: this.pending.yBounded, rawE: this.pending.rawE } : null },
     };
   }
 
@@ -738,6 +970,18 @@ export class LoopTracker {
       this.lastStateAt = -Infinity;
       this.cachedHeadroom = { value: null, at: -Infinity };
       this.cachedForecast = null;
+      // the residual screen resumes too; from an older checkpoint (or a malformed part) it starts afresh
+      const rb = cp.robust;
+      const screen = new ResidualScreen();
+      const predictor = new ArxPredictor(this.config.na, this.config.nk + this.config.nb);
+      const robustOk = !!rb && screen.restore(rb.screen) && predictor.restore(rb.predictor) && Number.isInteger(rb.taint) && Number.isFinite(rb.collapseInformative);
+      this.screen = robustOk ? screen : new ResidualScreen();
+      this.predictor = robustOk ? predictor : new ArxPredictor(this.config.na, this.config.nk + this.config.nb);
+      this.taint = robustOk && rb ? Math.max(0, rb.taint) : 0;
+      this.collapseInformative = robustOk && rb ? rb.collapseInformative : -1;
+      const pend = robustOk && rb ? rb.pending : null;
+      const pendOk = !!pend && [pend.yBounded, pend.rawE, pend.sample?.u, pend.sample?.y, pend.sample?.r, pend.sample?.t].every((v) => typeof v === "number" && Number.isFinite(v));
+      this.pending = pendOk && pend ? { sample: { ...pend.sample }, yBounded: pend.yBounded, rawE: pend.rawE } : null;
       return { ok: true };
     } catch (e) {
       return { ok: false, reason: `checkpoint rejected: ${(e as Error).message}` };

@@ -1,8 +1,10 @@
 import { spawnSync } from "node:child_process";
+import { QueryTypes } from "sequelize";
 import { afterAll, beforeAll, describe, expect, it, vi } from "vitest";
 import { getLoopHistory, bucketWidth, historyColumns, historySchema, RADIUS_HOLD_MS } from "@/lib/loops/history";
 import { parseHistory } from "@/lib/client/history";
-import type { TenantContext } from "@/lib/types";
+import type { LoopStateDto, TenantContext } from "@/lib/types";
+import { HistoryAggregator, HistoryWriter } from "@/server/history";
 import { createTestDatabase, type TestDatabase } from "../setup/db";
 import { createPipelineFixture, type PipelineTenant } from "./fixture";
 
@@ -146,6 +148,31 @@ describe("history down-sampling", () => {
       expect(fromCols.snapshots).toEqual(fromRows.snapshots);
       expect(fromRows.cols.pv.some((v) => v !== null)).toBe(true);
     }
+  });
+
+  it("stores bad-quality samples as counts, outside the statistics, and the poor-fit state (migration 0103)", async () => {
+    const writer = new HistoryWriter(db.sequelize);
+    const agg = new HistoryAggregator({ second: (r) => writer.second(r), minute: (r) => writer.minute(r), snapshot: (r) => writer.snapshot(r) });
+    const t = T0 + 3_600_000;
+    const s = (dt: number, pv: number, quality?: "bad" | "uncertain") => ({ t: t + dt, sp: 50, pv, mv: 30, mode: "auto" as const, ...(quality ? { quality } : {}) });
+    // -9999: a common "no reading" code; 3.4e38: float32 overflow (IEEE 754 single max)
+    agg.addSamples(b.loopId, [s(0, 49), s(250, -9999, "bad"), s(500, 51), s(1000, 3.4e38, "bad"), s(1500, 50, "uncertain")]);
+    agg.closeAll();
+    const state = { loopId: b.loopId, tenantId: b.id, at: t + 2000, trackerState: "poor-fit" } as const;
+    // only the fields the history writer reads
+    const full = { ...state, spectralRadius: 0.9, decayRatio: 0.1, modelPoles: [], dataPoles: [], dataPolesKind: "closed-loop" } as unknown as LoopStateDto;
+    agg.addState(full);
+    writer.state(full);
+    await writer.flush({ now: t, force: true });
+    expect(writer.stats().errors).toBe(0);
+    const h = (await getLoopHistory(ctxOf(b), b.loopId, t, t + 60_000, 100, { sequelize: db.sequelize, now: t + 60_000, secondRetentionH: 6 }))!;
+    expect(h.points[0]).toMatchObject({ pv: { min: 49, mean: 50, max: 51 }, n: 2, bad: 1, uncertain: 0 });
+    expect(h.points[1]).toMatchObject({ pv: { min: null, mean: null, max: null }, n: 0, bad: 1, uncertain: 1 });
+    expect(h.poles.at(-1)?.trackerState).toBe("poor-fit");
+    const cols = (await getLoopHistory(ctxOf(b), b.loopId, t, t + 60_000, 100, { sequelize: db.sequelize, now: t + 60_000, secondRetentionH: 6, shape: "columns" }))!;
+    expect(cols.bad).toEqual([1, 1]);
+    const [row] = await db.sequelize.query<{ tracker_state: string }>(`SELECT tracker_state FROM loop_states WHERE loop_id = ${b.loopId}`, { type: QueryTypes.SELECT });
+    expect(row?.tracker_state).toBe("poor-fit");
   });
 
   it("returns null for another tenant's loop and for a loop that does not exist", async () => {

@@ -104,7 +104,8 @@ describe("history writer", () => {
     for (let i = 0; i < 250; i++) w.second(row(T0 + i * 1000));
     await w.flush({ now: T0 });
     expect(statements).toHaveLength(3);
-    expect(statements[0]).toMatch(/^INSERT INTO samples_1s \(loop_id,t,.*\) VALUES \(1,1767600000000,1,1,1,2,2,2,3,3,3,'auto',1\),/);
+    // n = 1 good sample, then the bad and uncertain counts (0, absent in the row)
+    expect(statements[0]).toMatch(/^INSERT INTO samples_1s \(loop_id,t,.*,n,bad_n,uncertain_n\) VALUES \(1,1767600000000,1,1,1,2,2,2,3,3,3,'auto',1,0,0\),/);
     expect(statements[0]).toMatch(/ON DUPLICATE KEY UPDATE sp_min=VALUES\(sp_min\)/);
     expect(w.stats().written.samples_1s).toBe(250);
   });
@@ -130,7 +131,7 @@ describe("history writer", () => {
     w.second({ ...row(T0), pv: [Number.NaN, 1, Infinity] });
     w.second({ ...row(T0 + 1000), t: 1.5 });
     await w.flush({ now: T0 });
-    expect(statements[0]).toContain("(1,1767600000000,1,1,1,NULL,1,NULL,3,3,3,'auto',1)");
+    expect(statements[0]).toContain("(1,1767600000000,1,1,1,NULL,1,NULL,3,3,3,'auto',1,0,0)");
     expect(w.stats().invalidRows).toBe(1);
   });
 });
