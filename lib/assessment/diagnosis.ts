@@ -1,0 +1,124 @@
+/**
+ * From figures to one finding with its evidence. Order of the checks (common practice: rule out
+ * what invalidates the others first): too little data -> sensor fault -> manual -> saturated ->
+ * oscillation (from outside, stiction, tuning, outside again) -> ringing without a sustained
+ * oscillation (aggressive) -> sluggish (idle index, Harris) -> healthy. Every threshold is ours
+ * unless a source is named; all figures are scale-free (shares, ratios, correlations, periods
+ * relative to the loop's own time scale), so the rules do not depend on units or tags.
+ */
+import { fmt } from "./oscillation";
+import type { Diagnosis, StictionFigures } from "./types";
+
+export interface DiagnosisInput {
+  spanS: number;
+  /** Data time the loop's time scale asks for, s. */
+  neededS: number;
+  timeScaleS: number;
+  badQuality: number;
+  frozenPv: { seconds: number; mvMove: number } | null;
+  outOfRange: number;
+  manual: number;
+  hasMode: boolean;
+  saturation: number;
+  oscillation: { detected: boolean; periodS: number | null; regularity: number | null; persistence: number | null; amplitudePct: number | null };
+  oscillationInManual: boolean | null;
+  spOscillates: boolean;
+  stiction: StictionFigures & { curveFitIndex: number | null };
+  compressed: boolean;
+  harrisIndex: number | null;
+  idleIndex: number | null;
+  disturbanceDecayRatio: number | null;
+  /** Most negative error ACF within the first lags (ringing). */
+  acfMinimum: number | null;
+  noisePct: number;
+}
+
+/** Per-period ACF ratio above which an oscillation counts as sustained (a damped mode decays). */
+const SUSTAINED = 0.93;
+
+const clamp = (v: number, lo = 0.3, hi = 0.95) => Math.min(hi, Math.max(lo, v));
+
+export function diagnose(x: DiagnosisInput): Diagnosis {
+  const periods = x.oscillation.periodS ? x.spanS / x.oscillation.periodS : 0;
+  const enoughForOscillation = x.oscillation.detected && periods >= 5;
+  if (x.spanS < x.neededS && !enoughForOscillation) {
+    return {
+      label: "undetermined",
+      confidence: 0,
+      evidence: [`${fmt(x.spanS, 0)} s of data; a loop with a time scale of ${fmt(x.timeScaleS, 0)} s needs about ${fmt(x.neededS, 0)} s for a verdict from routine data`],
+      reason: "too little data for the loop's time scale",
+      needsS: Math.ceil(x.neededS - x.spanS),
+    };
+  }
+  if (x.badQuality > 0.2) return { label: "sensor-fault", confidence: clamp(0.5 + x.badQuality), evidence: [`likely a measurement fault: ${pct(x.badQuality)} of samples have bad quality`] };
+  if (x.outOfRange > 0.05) return { label: "sensor-fault", confidence: clamp(0.5 + x.outOfRange), evidence: [`likely a measurement fault: PV is outside its range for ${pct(x.outOfRange)} of the time`] };
+  if (x.frozenPv) {
+    return {
+      label: "sensor-fault",
+      confidence: 0.8,
+      evidence: [`likely a frozen measurement: PV stays exactly constant for ${fmt(x.frozenPv.seconds, 0)} s while MV moves by ${fmt(x.frozenPv.mvMove, 1)} %`],
+    };
+  }
+  if (x.manual > 0.5) return { label: "manual", confidence: clamp(x.manual), evidence: [`likely not in service: in manual ${pct(x.manual)} of the time`] };
+  if (x.saturation > 0.3) return { label: "saturated", confidence: clamp(0.4 + x.saturation), evidence: [`likely saturated: MV at a limit ${pct(x.saturation)} of the time, the loop cannot act`] };
+
+  const osc = x.oscillation;
+  const persistence = osc.persistence;
+  if (osc.detected) {
+    const oscLine = `oscillation with period ${fmt(osc.periodS, 1)} s, regularity ${fmt(osc.regularity)} (Thornhill et al. 2003)`;
+    if (x.oscillationInManual) {
+      return { label: "external-disturbance", confidence: 0.85, evidence: [`likely an oscillation from outside: it persists while the loop is in manual`, oscLine] };
+    }
+    if (x.spOscillates) {
+      return { label: "external-disturbance", confidence: 0.7, evidence: ["likely an oscillation from outside: the set point itself oscillates (e.g. from a master loop)", oscLine] };
+    }
+    if (x.stiction.verdict === "likely") {
+      return { label: "valve-stiction", confidence: clamp(0.6 + 0.5 * ((x.stiction.curveFitIndex ?? 0.6) - 0.6)), evidence: [...x.stiction.evidence.slice(0, 1), oscLine, ...x.stiction.evidence.slice(1)] };
+    }
+    const sustained = persistence !== null && persistence > SUSTAINED;
+    if (sustained && x.stiction.verdict === "undetermined" && (x.stiction.curveFitIndex ?? 0) > 0.5) {
+      return { label: "valve-stiction", confidence: 0.45, evidence: ["possibly valve stiction: a sustained, non-sinusoidal cycle", oscLine, ...x.stiction.evidence] };
+    }
+    if (sustained) {
+      return {
+        label: "external-disturbance",
+        confidence: clamp(0.5 + 3 * (persistence! - SUSTAINED)),
+        evidence: [
+          "likely an oscillation from outside: the cycle does not decay (a stable loop's own mode would), and its shape is not a stick-slip cycle",
+          oscLine,
+          `autocorrelation kept ${fmt(persistence)} of its height from one period to the next`,
+          ...x.stiction.evidence,
+        ],
+      };
+    }
+    return {
+      label: "aggressive-tuning",
+      confidence: clamp(0.5 + 0.5 * (1 - (persistence ?? 0.5))),
+      evidence: ["likely aggressive tuning: a regular, decaying (linear) oscillation of the loop's own mode", oscLine, ...x.stiction.evidence],
+    };
+  }
+  if (x.disturbanceDecayRatio !== null && x.disturbanceDecayRatio > 0.25 && x.acfMinimum !== null && x.acfMinimum < -0.25) {
+    return {
+      label: "aggressive-tuning",
+      confidence: clamp(0.4 + x.disturbanceDecayRatio / 2),
+      evidence: [
+        `likely aggressive tuning: the error rings after disturbances (decay ratio ${fmt(x.disturbanceDecayRatio)} of the dominant disturbance-response mode; autocorrelation dips to ${fmt(x.acfMinimum)})`,
+      ],
+    };
+  }
+  const idle = x.idleIndex;
+  const harris = x.harrisIndex;
+  if (idle !== null && (idle > 0.6 || (idle > 0.3 && harris !== null && harris > 3))) {
+    const ev = [`likely sluggish tuning: idle index ${fmt(idle)} (near +1 sluggish; Hägglund 1999)`];
+    if (harris !== null) ev.push(`variance ${fmt(harris, 1)}× the minimum for the dead time (Harris index)`);
+    return { label: "sluggish-tuning", confidence: clamp(0.4 + 0.5 * idle), evidence: ev };
+  }
+  const ev = ["likely healthy: no oscillation, no stiction sign, the error does not ring"];
+  if (idle !== null) ev.push(`idle index ${fmt(idle)} (not sluggish; Hägglund 1999)`);
+  if (harris !== null) ev.push(`variance ${fmt(harris, 1)}× the minimum for the dead time (Harris index)`);
+  return { label: "healthy", confidence: clamp(0.6 + (idle !== null ? 0.1 : 0) + (harris !== null && harris < 3 ? 0.1 : 0)), evidence: ev };
+}
+
+function pct(v: number): string {
+  return `${(100 * v).toFixed(0)} %`;
+}

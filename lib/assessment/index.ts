@@ -1,0 +1,240 @@
+/**
+ * Routine-data assessment of one loop (pure, browser-safe): `assessLoop(samples, config)` turns
+ * a window of samples into the report of the `assess` command. The methods and their sources are
+ * named in each file and in docs/assessment.md.
+ */
+import { countExcitation, disturbanceResponse, estimationFactor, ownClosedLoopPoles } from "./closed-loop";
+import { detectCompression } from "./compression";
+import { integralTime, isIntegrating, type LoopConfig } from "./config";
+import { diagnose } from "./diagnosis";
+import { harrisIndex } from "./harris";
+import { countLoadDisturbances, detectOscillation, oscillatesAt } from "./oscillation";
+import { autocorrelation, variance } from "./signal";
+import { idleIndex } from "./sluggishness";
+import { assessStiction } from "./stiction";
+import type { AssessSample, LoopAssessmentReport } from "./types";
+import { computeUsage } from "./usage";
+import { buildWindow, constantSpStretches, isClosed, type AssessWindow } from "./window";
+
+export * from "./types";
+export { parseLoopConfig, loopConfigSchema, LoopConfigError, type LoopConfig, type LoopConfigInput } from "./config";
+export { parseAssessCsv, AssessCsvError, type ParsedAssessCsv } from "./csv";
+export { buildWindow, type AssessWindow } from "./window";
+
+/** Data span wanted, in multiples of the loop's time scale (Ti or dead time); ours. */
+const SPAN_FACTOR = 50;
+
+/** Longest stretch of exactly constant PV (grid) in closed loop, with the MV range over it. */
+function frozenPv(w: AssessWindow): { seconds: number; mvMove: number } | null {
+  let best: { seconds: number; mvMove: number } | null = null;
+  let start = 0;
+  let lo = w.mv[0] ?? 0;
+  let hi = lo;
+  for (let i = 1; i <= w.n; i++) {
+    const same = i < w.n && w.good[i] && w.pv[i] === w.pv[start] && isClosed(w, i);
+    if (same) {
+      lo = Math.min(lo, w.mv[i]!);
+      hi = Math.max(hi, w.mv[i]!);
+      continue;
+    }
+    const seconds = (i - start) * w.T;
+    if (!best || seconds > best.seconds) best = { seconds, mvMove: hi - lo };
+    start = i;
+    lo = hi = w.mv[Math.min(i, w.n - 1)] ?? 0;
+  }
+  return best;
+}
+
+function sortSamples(samples: readonly AssessSample[]): readonly AssessSample[] {
+  for (let i = 1; i < samples.length; i++) if (!(samples[i]!.t > samples[i - 1]!.t)) return [...samples].sort((a, b) => a.t - b.t).filter((s, i, a) => i === 0 || s.t > a[i - 1]!.t);
+  return samples;
+}
+
+/** Assessment of a loop from a window of samples (irregular spacing allowed). */
+export function assessLoop(input: readonly AssessSample[], config: LoopConfig): LoopAssessmentReport {
+  const samples = sortSamples(input);
+  const w = buildWindow(samples, config);
+  const cautions: string[] = [];
+  const usage = computeUsage(w, config);
+  const compression = detectCompression(samples, config, w.rawSpacing, usage.pvNoisePct);
+  if (compression.compressed) cautions.push(`The export looks compressed or quantised (${compression.reasons.join("; ")}): stiction and Harris figures are withheld, variances may be low.`);
+  if (w.rawSpacing > 1.5 * config.samplePeriodS && !compression.compressed) cautions.push(`Stored points are ${(w.rawSpacing / config.samplePeriodS).toFixed(1)}× the loop's sample period apart; fast dynamics are not seen.`);
+  const ti = integralTime(config);
+  const integrating = isIntegrating(config);
+
+  // Closed-loop, good samples.
+  const include = new Uint8Array(w.n);
+  let closedCount = 0;
+  for (let i = 0; i < w.n; i++) if (w.good[i] && isClosed(w, i)) {
+    include[i] = 1;
+    closedCount++;
+  }
+  // Error with excluded samples at its closed-loop mean (so the ACF is not torn by manual stretches).
+  let emean = 0;
+  for (let i = 0; i < w.n; i++) if (include[i]) emean += w.e[i]!;
+  emean = closedCount ? emean / closedCount : 0;
+  const eClosed = new Float64Array(w.n);
+  for (let i = 0; i < w.n; i++) eClosed[i] = include[i] ? w.e[i]! : emean;
+
+  const acfFull = autocorrelation(eClosed, Math.floor(w.n / 2));
+  const osc = detectOscillation(eClosed, w.T, { acf: acfFull });
+  const periodSamples = osc.periodS ? osc.periodS / w.T : null;
+  // Oscillation while in manual (outside cause): PV of the manual stretches, at the same period.
+  let oscillationInManual: boolean | null = null;
+  if (osc.detected && periodSamples && w.hasMode) {
+    let s = -1;
+    for (let i = 0; i <= w.n; i++) {
+      const man = i < w.n && w.good[i] && !isClosed(w, i);
+      if (man && s < 0) s = i;
+      else if (!man && s >= 0) {
+        if (i - s >= 3 * periodSamples) oscillationInManual = (oscillationInManual ?? false) || oscillatesAt(w.pvPct, s, i, periodSamples);
+        s = -1;
+      }
+    }
+  }
+  const spVar = variance(w.sp);
+  const spOscillates = osc.detected && periodSamples !== null && spVar > 0 && oscillatesAt(w.sp, 0, w.n, periodSamples);
+
+  const stiction = assessStiction({
+    pv: w.pvPct,
+    mv: w.mv,
+    include,
+    T: w.T,
+    periodS: osc.periodS,
+    oscillating: osc.detected,
+    integrating,
+    ti,
+    compressed: compression.compressed,
+    outsideOscillation: oscillationInManual === true || spOscillates,
+  });
+
+  // Harris index over constant-SP stretches.
+  const timeScale = Math.max(ti ?? 0, config.deadTimeS ?? 0) || 10 * config.samplePeriodS;
+  const minStretch = Math.max(50, Math.ceil((2 * timeScale) / w.T));
+  const stretches = constantSpStretches(w, Math.min(minStretch, Math.max(50, Math.floor(w.n / 4))));
+  let harris: LoopAssessmentReport["harrisIndex"] = null;
+  let harrisDetail: LoopAssessmentReport["details"]["harris"] = null;
+  if (config.deadTimeS === null || config.deadTimeS === undefined) cautions.push("No dead time configured: the Harris index needs it (dead time cannot be told from routine closed-loop data; take it from a step test).");
+  else if (compression.compressed) cautions.push("Harris index withheld: compressed data bias variances.");
+  else {
+    const b = Math.floor(config.deadTimeS / w.T) + 1;
+    const h = harrisIndex(w.e, stretches, b);
+    if (h) {
+      harris = h.index;
+      harrisDetail = { delaySamples: h.delaySamples, samplesUsed: h.samplesUsed, periodS: w.T };
+      if (w.T > config.samplePeriodS * 1.01) cautions.push(`Harris index computed at the export's ${w.T} s spacing, coarser than the loop's ${config.samplePeriodS} s.`);
+    } else cautions.push("Harris index: too few constant-set-point samples in closed loop.");
+  }
+
+  // Idle index (Hägglund 1999).
+  const idle = idleIndex({
+    pv: w.pvPct,
+    mv: w.mv,
+    e: w.e,
+    include: stretchMask(w.n, stretches),
+    T: w.T,
+    filterS: Math.max(3 * w.T, timeScale / 10),
+    gainSign: config.controller.action === "reverse" ? 1 : -1,
+    pvNoise: usage.pvNoisePct,
+    mvNoise: usage.mvNoise,
+    errorBand: 3 * usage.pvNoisePct,
+  });
+  const load = ti !== null || osc.periodS ? countLoadDisturbances(w.e, w.T, ti ?? osc.periodS!, include) : null;
+
+  // Closed-loop dynamics.
+  const d = estimationFactor(w, config);
+  const excitation = countExcitation(w, Math.max(3 * usage.noiseBand, 0.005 * w.pvSpan), Math.max(1, 6 * usage.mvNoise));
+  let own = null;
+  if (excitation.spMoves >= 2 || excitation.manualMoves >= 2) own = ownClosedLoopPoles(w, config, d);
+  if (!own) cautions.push("The loop's own closed-loop poles need set-point moves (or output moves in manual); routine data at a constant set point do not identify them.");
+  const dist = disturbanceResponse(w.e, stretches, w.T, config.samplePeriodS, d);
+  if (dist) cautions.push("disturbanceResponse: poles of an AR model of the control error in routine operation; they mix the loop's response with the disturbance's own dynamics and are not the loop's poles.");
+
+  const acf = acfFull.subarray(0, Math.min(acfFull.length, Math.max(20, Math.round((osc.periodS ?? timeScale * 2) / w.T) * 2)));
+  let acfMin = 0;
+  const ringLags = Math.min(acf.length, Math.max(10, Math.round((4 * timeScale) / w.T)));
+  for (let k = 1; k < ringLags; k++) acfMin = Math.min(acfMin, acf[k]!);
+
+  const outOfRange = shareOutOfRange(w, config);
+  const frozen = frozenPv(w);
+  const frozenFault = frozen && frozen.seconds > Math.max(20 * w.T, 2 * timeScale) && frozen.mvMove > 2 && usage.pvNoisePct > 0 && !compression.compressed ? frozen : null;
+  const neededS = Math.max(SPAN_FACTOR * timeScale, 200 * config.samplePeriodS);
+
+  const diagnosis = diagnose({
+    spanS: w.spanS,
+    neededS,
+    timeScaleS: timeScale,
+    badQuality: w.badQualityShare,
+    frozenPv: frozenFault,
+    outOfRange,
+    manual: usage.manual,
+    hasMode: w.hasMode,
+    saturation: usage.saturation,
+    oscillation: { ...osc, amplitudePct: osc.amplitude },
+    oscillationInManual,
+    spOscillates,
+    stiction: { ...stiction, curveFitIndex: stiction.tests.curveFit.index },
+    compressed: compression.compressed,
+    harrisIndex: harris,
+    idleIndex: idle?.index ?? null,
+    disturbanceDecayRatio: dist?.decayRatio ?? null,
+    acfMinimum: acf.length > 1 ? acfMin : null,
+    noisePct: usage.pvNoisePct,
+  });
+
+  return {
+    samples: w.samples,
+    spanS: w.spanS,
+    serviceFactor: usage.serviceFactor,
+    manual: usage.manual,
+    saturation: usage.saturation,
+    oscillation: {
+      detected: osc.detected,
+      periodS: osc.detected ? osc.periodS : null,
+      regularity: osc.regularity,
+      amplitude: osc.detected && osc.amplitude !== null ? (osc.amplitude * w.pvSpan) / 100 : null,
+    },
+    stiction: { verdict: stiction.verdict, evidence: stiction.evidence },
+    harrisIndex: harris,
+    spectralRadius: own?.spectralRadius ?? null,
+    decayRatio: own?.decayRatio ?? null,
+    poles: own?.poles ?? [],
+    disturbanceResponse: dist ? { poles: dist.poles, spectralRadius: dist.spectralRadius } : null,
+    diagnosis,
+    cautions,
+    details: {
+      analysisPeriodS: w.T,
+      idleIndex: idle?.index ?? null,
+      loadDisturbances: load ? { count: load.count, supervisionS: load.supervisionS, iaeLimit: load.iaeLimit, rate: load.rate } : null,
+      badQuality: w.badQualityShare,
+      valveTravelPctPerHour: usage.valveTravelPctPerHour,
+      valveReversalsPerHour: usage.valveReversalsPerHour,
+      noiseBand: usage.noiseBand,
+      compression,
+      stictionTests: stiction.tests,
+      harris: harrisDetail,
+      oscillationInManual,
+      disturbanceDecayRatio: dist?.decayRatio ?? null,
+      errorAcf: Array.from(acf.subarray(0, Math.min(acf.length, 400)), (v) => Math.round(v * 1e4) / 1e4),
+    },
+  };
+}
+
+function stretchMask(n: number, stretches: readonly [number, number][]): Uint8Array {
+  const m = new Uint8Array(n);
+  for (const [s, e] of stretches) m.fill(1, s, e);
+  return m;
+}
+
+function shareOutOfRange(w: AssessWindow, config: LoopConfig): number {
+  const margin = 0.01 * w.pvSpan;
+  let out = 0;
+  let good = 0;
+  for (let i = 0; i < w.n; i++) {
+    if (!w.good[i]) continue;
+    good++;
+    const v = w.pv[i]!;
+    if (v < config.pvLo - margin || v > config.pvHi + margin) out++;
+  }
+  return good ? out / good : 0;
+}
