@@ -26,13 +26,13 @@ export interface HarrisResult {
 
 /**
  * FCOR over the stretches [start, end) of y (already the signal to judge; means removed here).
- * `arOrder` defaults to max(b + 10, 20), capped by the data.
+ * `arOrder` defaults to max(b + 10, 30), capped at a twentieth of the samples.
  */
 export function harrisIndex(y: Float64Array, stretches: readonly [number, number][], delaySamples: number, arOrder?: number): HarrisResult | null {
   const b = Math.max(1, Math.round(delaySamples));
   let total = 0;
   for (const [s, e] of stretches) total += e - s;
-  const p = Math.min(arOrder ?? Math.max(b + 10, 20), Math.floor(total / 20));
+  const p = Math.min(arOrder ?? Math.max(b + 10, 30), Math.floor(total / 20));
   if (p < 2 || total < 10 * (p + b)) return null;
   // Mean-removed copy per stretch.
   const x = new Float64Array(y.length);

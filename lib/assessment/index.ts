@@ -76,7 +76,7 @@ export function assessLoop(input: readonly AssessSample[], config: LoopConfig): 
   const eClosed = new Float64Array(w.n);
   for (let i = 0; i < w.n; i++) eClosed[i] = include[i] ? w.e[i]! : emean;
 
-  const acfFull = autocorrelation(eClosed, Math.floor(w.n / 2));
+  const acfFull = autocorrelation(eClosed, Math.floor(w.n * 0.6));
   const osc = detectOscillation(eClosed, w.T, { acf: acfFull });
   const periodSamples = osc.periodS ? osc.periodS / w.T : null;
   // Oscillation while in manual (outside cause): PV of the manual stretches, at the same period.

@@ -90,9 +90,9 @@ export function detectOscillation(x: Float64Array, T: number, options: { maxPeri
     evidence: [why],
   });
   if (n < 20) return none("too few samples for the autocorrelation test");
-  const maxPeriod = Math.min(options.maxPeriodS ?? Infinity, (n * T) / 10) / T;
-  // Lags up to half the data: enough for ~10 crossings of periods up to a tenth of the span.
-  const maxLag = Math.min(n - 1, Math.ceil(maxPeriod * 5.5) + 2, Math.floor(n * 0.5));
+  const maxPeriod = Math.min(options.maxPeriodS ?? Infinity, (n * T) / 6) / T;
+  // Lags up to 60 % of the data: ten crossings of periods up to a sixth of the span.
+  const maxLag = Math.min(n - 1, Math.ceil(maxPeriod * 5.5) + 2, Math.floor(n * 0.6));
   const r = options.acf && options.acf.length >= maxLag + 1 ? options.acf : autocorrelation(x, maxLag);
   if (r[0] === 0) return none("the signal is constant");
   const c = crossingsOf(r, MAX_CROSSINGS, Math.min(0.1, 2 / Math.sqrt(n)));
