@@ -54,7 +54,7 @@ export interface SimSample {
 }
 
 /** Split a q^-1 controller into velocity form: D'(q) v = N'(q) e with v = u(k) - u(k-1). */
-function velocityForm(c: QTf): { n: Float64Array; d: Float64Array } {
+export function velocityForm(c: QTf): { n: Float64Array; d: Float64Array } {
   const den = [...c.den];
   const num = [...c.num];
   const d0 = den[0]!;
