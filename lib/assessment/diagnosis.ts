@@ -29,6 +29,8 @@ export interface DiagnosisInput {
   disturbanceDecayRatio: number | null;
   /** Most negative error ACF within 1.5 periods of its dominant mode (ringing), null without one. */
   ringDepth: number | null;
+  /** The ACF dip relative to its lag-1 value (white noise removed): how far the error swings back; null without a dominant mode. */
+  overshoot: number | null;
   noisePct: number;
 }
 
@@ -36,6 +38,10 @@ export interface DiagnosisInput {
 const SUSTAINED = 0.93;
 /** ACF dip below which a decaying mode reads as aggressive tuning (ours). */
 const AGGRESSIVE_RING = -0.35;
+/** Harris index above which a loop without oscillation reads as sluggish (ours). */
+const SLUGGISH_HARRIS = 3;
+/** Relative ACF dip below which the error never swings back (ours). */
+const NO_SWING = 0.08;
 
 const clamp = (v: number, lo = 0.3, hi = 0.95) => Math.min(hi, Math.max(lo, v));
 
@@ -115,10 +121,14 @@ export function diagnose(x: DiagnosisInput): Diagnosis {
   }
   const idle = x.idleIndex;
   const harris = x.harrisIndex;
-  if (idle !== null && (idle > 0.6 || (idle > 0.3 && harris !== null && harris > 3))) {
-    const ev = [`likely sluggish tuning: idle index ${fmt(idle)} (near +1 sluggish; Hägglund 1999)`];
-    if (harris !== null) ev.push(`variance ${fmt(harris, 1)}× the minimum for the dead time (Harris index)`);
-    return { label: "sluggish-tuning", confidence: clamp(0.4 + 0.5 * idle), evidence: ev };
+  const noSwing = x.overshoot !== null && x.overshoot < NO_SWING;
+  if ((harris !== null && harris > SLUGGISH_HARRIS) || noSwing || (idle !== null && idle > 0.6)) {
+    const ev = ["likely sluggish tuning: no oscillation, and the loop removes its disturbances slowly"];
+    if (harris !== null) ev.push(`variance ${fmt(harris, 1)}× the minimum the dead time allows (Harris index; a well-tuned PI loop is typically within 1–3, common practice)`);
+    if (noSwing) ev.push(`the error hardly swings back past the set point after a disturbance (autocorrelation dip ${fmt(-x.overshoot!)} of its lag-1 value): an overdamped, slow recovery`);
+    if (idle !== null) ev.push(`idle index ${fmt(idle)} (near +1 sluggish; Hägglund 1999)`);
+    const votes = (harris !== null && harris > SLUGGISH_HARRIS ? 1 : 0) + (noSwing ? 1 : 0) + (idle !== null && idle > 0.6 ? 1 : 0);
+    return { label: "sluggish-tuning", confidence: clamp(0.45 + 0.2 * votes), evidence: ev };
   }
   const ev = ["likely healthy: no oscillation, no stiction sign, the error does not ring"];
   if (idle !== null) ev.push(`idle index ${fmt(idle)} (not sluggish; Hägglund 1999)`);

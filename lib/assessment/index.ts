@@ -80,8 +80,12 @@ export function assessLoop(input: readonly AssessSample[], config: LoopConfig): 
 
   // Ringing: the error's ACF dips well below zero within one and a half periods (a decaying
   // mode, or an irregular cycle), even when the oscillation test above does not fire.
+  // Measured against the lag-1 value, so white measurement noise (which lowers every lag > 0
+  // alike) does not hide the ringing of the loop.
+  const acfLag1 = Math.max(acfFull[1] ?? 0, 0.05);
   let ringDepth = 0;
   if (periodSamples) for (let k = 1; k < Math.min(acfFull.length, Math.ceil(1.5 * periodSamples)); k++) ringDepth = Math.min(ringDepth, acfFull[k]!);
+  const overshoot = periodSamples ? Math.max(0, -ringDepth / acfLag1) : null;
   const ringing = periodSamples !== null && ringDepth < RING_DEPTH;
   const stiction = assessStiction({
     pv: w.pvPct,
@@ -121,11 +125,10 @@ export function assessLoop(input: readonly AssessSample[], config: LoopConfig): 
     e: w.e,
     include: stretchMask(w.n, stretches),
     T: w.T,
-    filterS: Math.max(3 * w.T, timeScale / 10),
+    filterS: Math.max(3 * w.T, timeScale / 5),
     gainSign: config.controller.action === "reverse" ? 1 : -1,
     pvNoise: usage.pvNoisePct,
     mvNoise: usage.mvNoise,
-    errorBand: 3 * usage.pvNoisePct,
   });
   const load = ti !== null || osc.periodS ? countLoadDisturbances(w.e, w.T, ti ?? osc.periodS!, include) : null;
 
@@ -169,6 +172,7 @@ export function assessLoop(input: readonly AssessSample[], config: LoopConfig): 
     idleIndex: idle?.index ?? null,
     disturbanceDecayRatio: dist?.decayRatio ?? null,
     ringDepth: periodSamples ? ringDepth : null,
+    overshoot,
     noisePct: usage.pvNoisePct,
   });
 
@@ -205,6 +209,7 @@ export function assessLoop(input: readonly AssessSample[], config: LoopConfig): 
       harris: harrisDetail,
       oscillationInManual,
       dominantPeriodS: osc.periodS,
+      errorDecorrelationS: decorrelation < acfFull.length ? decorrelationS : null,
       ringDepth: periodSamples ? ringDepth : null,
       disturbanceDecayRatio: dist?.decayRatio ?? null,
       errorAcf: Array.from(acf.subarray(0, Math.min(acf.length, 400)), (v) => Math.round(v * 1e4) / 1e4),
