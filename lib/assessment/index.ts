@@ -23,7 +23,7 @@ export { parseAssessCsv, AssessCsvError, type ParsedAssessCsv } from "./csv";
 export { buildWindow, type AssessWindow } from "./window";
 
 /** Data span wanted, in multiples of the loop's time scale (Ti or dead time), or of the error's decorrelation time; ours. */
-const SPAN_FACTOR = 50;
+const SPAN_FACTOR = 20;
 const DECORRELATIONS = 30;
 /** ACF depth below which the error counts as ringing (ours). */
 const RING_DEPTH = -0.2;
@@ -101,7 +101,10 @@ export function assessLoop(input: readonly AssessSample[], config: LoopConfig): 
   });
 
   // Harris index over constant-SP stretches.
-  const timeScale = Math.max(ti ?? 0, config.deadTimeS ?? 0) || 10 * config.samplePeriodS;
+  // The loop's time scale: its integral time, but no more than ten dead times when the dead time
+  // is known (a sluggish loop's long Ti says little about how fast the process is).
+  const dead = config.deadTimeS ?? null;
+  const timeScale = (dead !== null && dead > 0 ? Math.max(dead, Math.min(ti ?? Infinity, 10 * dead)) : ti) ?? 10 * config.samplePeriodS;
   const minStretch = Math.max(50, Math.ceil((2 * timeScale) / w.T));
   const stretches = constantSpStretches(w, Math.min(minStretch, Math.max(50, Math.floor(w.n / 4))));
   let harris: LoopAssessmentReport["harrisIndex"] = null;
