@@ -83,12 +83,9 @@ export function diagnose(x: DiagnosisInput): Diagnosis {
       return { label: "external-disturbance", confidence: 0.7, evidence: ["likely an oscillation from outside: the set point itself oscillates (e.g. from a master loop)", oscLine] };
     }
     if (x.stiction.verdict === "likely") {
-      return { label: "valve-stiction", confidence: clamp(0.6 + 0.5 * ((x.stiction.curveFitIndex ?? 0.6) - 0.6)), evidence: [...x.stiction.evidence.slice(0, 1), oscLine, ...x.stiction.evidence.slice(1)] };
+      return { label: "valve-stiction", confidence: stictionConfidence(x, 0.6), evidence: [...x.stiction.evidence.slice(0, 1), oscLine, ...x.stiction.evidence.slice(1)] };
     }
     const sustained = persistence !== null && persistence > SUSTAINED;
-    if (sustained && x.stiction.verdict === "undetermined" && (x.stiction.curveFitIndex ?? 0) > 0.5) {
-      return { label: "valve-stiction", confidence: 0.45, evidence: ["possibly valve stiction: a sustained, non-sinusoidal cycle", oscLine, ...x.stiction.evidence] };
-    }
     if (sustained) {
       return {
         label: "external-disturbance",
@@ -109,7 +106,7 @@ export function diagnose(x: DiagnosisInput): Diagnosis {
   }
   if (x.ringDepth !== null && x.ringDepth < -0.2) {
     if (x.stiction.verdict === "likely") {
-      return { label: "valve-stiction", confidence: clamp(0.5 + 0.5 * ((x.stiction.curveFitIndex ?? 0.6) - 0.6)), evidence: [...x.stiction.evidence.slice(0, 1), `irregular cycles of about ${fmt(osc.periodS, 1)} s`, ...x.stiction.evidence.slice(1)] };
+      return { label: "valve-stiction", confidence: stictionConfidence(x, 0.5), evidence: [...x.stiction.evidence.slice(0, 1), `irregular cycles of about ${fmt(osc.periodS, 1)} s`, ...x.stiction.evidence.slice(1)] };
     }
     if (x.ringDepth < AGGRESSIVE_RING) {
       return {
@@ -134,6 +131,13 @@ export function diagnose(x: DiagnosisInput): Diagnosis {
   if (idle !== null) ev.push(`idle index ${fmt(idle)} (not sluggish; Hägglund 1999)`);
   if (harris !== null) ev.push(`variance ${fmt(harris, 1)}× the minimum for the dead time (Harris index)`);
   return { label: "healthy", confidence: clamp(0.6 + (idle !== null ? 0.1 : 0) + (harris !== null && harris < 3 ? 0.1 : 0)), evidence: ev };
+}
+
+/** Higher with a more triangular shape; lower when the cross-correlation reads even. */
+function stictionConfidence(x: DiagnosisInput, base: number): number {
+  const shape = (x.stiction.curveFitIndex ?? 0.6) - 0.6;
+  const even = x.stiction.evidence.some((e) => e.includes("reads even"));
+  return clamp(base + shape - (even ? 0.1 : 0));
 }
 
 function pct(v: number): string {

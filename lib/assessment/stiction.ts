@@ -211,11 +211,16 @@ export function assessStiction(input: StictionInput): StictionResult {
     tests.curveFit.note = "too few clean half-cycles";
     evidence.push("curve-fit test withheld: too few clean half-cycles");
   }
+  // The curve fit leads: the cross-correlation of MV and PV is fixed by the controller's own
+  // phase at the cycle's period (MV = C(SP - PV)), so it mostly tells whether integral action
+  // dominates there, which is Horch's known limit; it confirms or tempers, it does not veto.
   let verdict: StictionFigures["verdict"] = "undetermined";
-  if (shape === "triangular" && horch !== "even") verdict = "likely";
-  else if (shape === "sinusoidal" && horch !== "odd") verdict = "unlikely";
-  else if (shape === "withheld" && horch === "even") verdict = "unlikely";
-  else if (shape === "inconclusive" && horch === "even") verdict = "unlikely";
-  if (verdict === "likely") evidence.unshift("likely valve stiction: the oscillation has the shape of a stick-slip cycle");
+  if (shape === "triangular") verdict = "likely";
+  else if (shape === "sinusoidal") verdict = "unlikely";
+  else if (horch === "even") verdict = "unlikely";
+  if (verdict === "likely") {
+    evidence.unshift("likely valve stiction: the cycles have the shape of a stick-slip cycle");
+    if (horch === "even") evidence.push("the cross-correlation test reads even, as it does whenever proportional action dominates at the cycle's period; the shape test is the stronger sign here");
+  }
   return { verdict, evidence, tests };
 }
