@@ -104,7 +104,7 @@ export function diagnose(x: DiagnosisInput): Diagnosis {
       evidence: ["likely aggressive tuning: a regular, decaying (linear) oscillation of the loop's own mode", oscLine, ...x.stiction.evidence],
     };
   }
-  if (x.ringDepth !== null && x.ringDepth < -0.2) {
+  if (x.ringDepth !== null && x.ringDepth < -0.15) {
     if (x.stiction.verdict === "likely") {
       return { label: "valve-stiction", confidence: stictionConfidence(x, 0.5), evidence: [...x.stiction.evidence.slice(0, 1), `irregular cycles of about ${fmt(osc.periodS, 1)} s`, ...x.stiction.evidence.slice(1)] };
     }

@@ -26,7 +26,7 @@ export { buildWindow, type AssessWindow } from "./window";
 const SPAN_FACTOR = 20;
 const DECORRELATIONS = 30;
 /** ACF depth below which the error counts as ringing (ours). */
-const RING_DEPTH = -0.2;
+const RING_DEPTH = -0.15;
 
 function sortSamples(samples: readonly AssessSample[]): readonly AssessSample[] {
   for (let i = 1; i < samples.length; i++) if (!(samples[i]!.t > samples[i - 1]!.t)) return [...samples].sort((a, b) => a.t - b.t).filter((s, i, a) => i === 0 || s.t > a[i - 1]!.t);

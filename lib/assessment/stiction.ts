@@ -60,7 +60,7 @@ export function crossCorrelationOddness(u: Float64Array, y: Float64Array, period
 /** He et al. (2007): stiction index from sine and triangle fits of half-cycles of x. */
 export function curveFitIndex(x: Float64Array, periodSamples: number): { index: number; halfCycles: number } | null {
   const n = x.length;
-  if (periodSamples < 8 || n < 2 * periodSamples) return null;
+  if (periodSamples < 16 || n < 2 * periodSamples) return null;
   // Light smoothing (moving average over a twentieth of the period) against noise.
   const w = Math.max(1, Math.round(periodSamples / 20));
   const s = new Float64Array(n);
