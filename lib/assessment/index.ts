@@ -94,6 +94,7 @@ export function assessLoop(input: readonly AssessSample[], config: LoopConfig): 
     T: w.T,
     periodS: osc.periodS,
     oscillating: osc.detected || ringing,
+    ringingOnly: !osc.detected,
     integrating,
     ti,
     compressed: compression.compressed,

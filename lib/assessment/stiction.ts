@@ -31,6 +31,8 @@ export interface StictionInput {
   T: number;
   periodS: number | null;
   oscillating: boolean;
+  /** True when the cycle is only a ringing mode, not a detected oscillation: the shape must then be clearer. */
+  ringingOnly?: boolean;
   integrating: boolean;
   /** Integral time, s, or null without integral action. */
   ti: number | null;
@@ -204,7 +206,10 @@ export function assessStiction(input: StictionInput): StictionResult {
   if (fit) {
     tests.curveFit.applicable = true;
     tests.curveFit.index = fit.index;
-    shape = fit.index >= 0.6 ? "triangular" : fit.index <= 0.4 ? "sinusoidal" : "inconclusive";
+    // He et al.'s 0.6 on an oscillation; 0.65 on a mere ringing mode, whose noisy half-cycles
+    // of a sluggish or aggressive loop reach about 0.6 without any stiction (seen in simulation).
+    const triangular = input.ringingOnly ? 0.65 : 0.6;
+    shape = fit.index >= triangular ? "triangular" : fit.index <= 0.4 ? "sinusoidal" : "inconclusive";
     tests.curveFit.note = shape;
     evidence.push(`${input.integrating ? "PV" : "MV"} half-cycles are ${shape} (stiction index ${fmt(fit.index)} over ${fit.halfCycles} half-cycles; >= 0.6 triangular, <= 0.4 sinusoidal: He et al. 2007)`);
   } else {
