@@ -15,7 +15,7 @@ import { idleIndex } from "./sluggishness";
 import { assessStiction } from "./stiction";
 import type { AssessSample, LoopAssessmentReport } from "./types";
 import { computeUsage } from "./usage";
-import { buildWindow, constantSpStretches, isClosed, type AssessWindow } from "./window";
+import { buildWindow, constantSpStretches, isClosed } from "./window";
 
 export * from "./types";
 export { parseLoopConfig, loopConfigSchema, LoopConfigError, type LoopConfig, type LoopConfigInput } from "./config";
