@@ -29,7 +29,7 @@ export interface OwnPoles {
   estimationPeriodS: number;
 }
 
-const MAX_FIT_SAMPLES = 30_000;
+const MAX_FIT_SAMPLES = 20_000;
 
 /** Maps poles from T1 to T2; a negative-real pole has no equivalent at another period and is dropped. */
 export function mapPoles(poles: Complex[], T1: number, T2: number): { poles: Complex[]; dropped: number } {
@@ -127,7 +127,7 @@ export function ownClosedLoopPoles(w: AssessWindow, config: LoopConfig, dLoop: n
   const nkFixed = config.deadTimeS !== null && config.deadTimeS !== undefined ? Math.floor(config.deadTimeS / Test) + 1 : null;
   const nks = nkFixed !== null ? [nkFixed] : [1, 2, 4, 7].filter((k) => k < u.length / 10);
   try {
-    const fit = fitArx(u, y, { T: Test, na: [1, 2], nb: [1, 2], nk: nks });
+    const fit = fitArx(u, y, { T: Test, na: [1, 2], nb: [2], nk: nks });
     if (!(fit.fit > 20)) return null;
     const c = config.controller;
     const ti = integralTime(config);

@@ -32,12 +32,47 @@ export const MAX_ASSESS_ROWS = 7 * 86_400;
 
 const TIME_UNITS: Record<string, number> = { s: 1, sec: 1, ms: 0.001, min: 60, h: 3600 };
 const ISO = /^\d{4}-\d{2}-\d{2}[T ]\d{2}:\d{2}(:\d{2}(\.\d+)?)?(Z|[+-]\d{2}:?\d{2})$/i;
-const NUMBER = /^[+-]?(\d+\.?\d*|\.\d+)([eE][+-]?\d+)?$/;
 const COLUMNS = ["t", "sp", "pv", "mv", "mode", "quality"] as const;
 type Column = (typeof COLUMNS)[number];
 
+/** A plain decimal number (sign, digits, one point, exponent): no hex, no Infinity, no blanks inside. */
+function isPlainNumber(s: string): boolean {
+  const n = s.length;
+  let i = 0;
+  let c = s.charCodeAt(0);
+  if (c === 43 || c === 45) i++;
+  let digits = 0;
+  let point = false;
+  for (; i < n; i++) {
+    c = s.charCodeAt(i);
+    if (c >= 48 && c <= 57) digits++;
+    else if (c === 46 && !point) point = true;
+    else break;
+  }
+  if (digits === 0) return false;
+  if (i === n) return true;
+  if (c !== 101 && c !== 69) return false;
+  i++;
+  c = s.charCodeAt(i);
+  if (c === 43 || c === 45) i++;
+  const start = i;
+  for (; i < n; i++) {
+    c = s.charCodeAt(i);
+    if (c < 48 || c > 57) return false;
+  }
+  return i > start;
+}
+
+function trimIfNeeded(c: string): string {
+  return c.length > 0 && (c.charCodeAt(0) <= 32 || c.charCodeAt(c.length - 1) <= 32) ? c.trim() : c;
+}
+
 function splitCells(line: string, sep: string): string[] {
-  if (!line.includes('"')) return line.split(sep).map((c) => c.trim());
+  if (!line.includes('"')) {
+    const cells = line.split(sep);
+    for (let i = 0; i < cells.length; i++) cells[i] = trimIfNeeded(cells[i]!);
+    return cells;
+  }
   const out: string[] = [];
   let cur = "";
   let quoted = false;
@@ -75,7 +110,7 @@ function parseMode(raw: string): AssessMode | null {
 function parseQuality(raw: string): AssessQuality | null {
   const q = raw.toLowerCase();
   if (q === "good" || q === "bad" || q === "uncertain") return q;
-  if (NUMBER.test(q)) {
+  if (isPlainNumber(q)) {
     const code = Number(q);
     return code >= 192 ? "good" : code >= 64 ? "uncertain" : "bad";
   }
@@ -153,7 +188,7 @@ export function parseAssessCsv(text: string): ParsedAssessCsv {
       throw new AssessCsvError(`Line ${lineNo}, column ${i + 1} (${name}): the cell is empty (allowed only on a row of bad quality).`, lineNo, name);
     }
     const v = Number(raw);
-    if (!Number.isFinite(v) || !NUMBER.test(raw)) {
+    if (!Number.isFinite(v) || !isPlainNumber(raw)) {
       const hint = /^[+-]?\d+,\d+$/.test(raw) ? " Use a point as the decimal separator." : "";
       throw new AssessCsvError(`Line ${lineNo}, column ${i + 1} (${name}): "${raw.slice(0, 40)}" is not a number.${hint}`, lineNo, name);
     }
@@ -173,7 +208,7 @@ export function parseAssessCsv(text: string): ParsedAssessCsv {
     let tAbs: number;
     let kind: "seconds" | "iso";
     const tn = Number(rawT);
-    if (rawT !== "" && Number.isFinite(tn) && NUMBER.test(rawT)) {
+    if (rawT !== "" && Number.isFinite(tn) && isPlainNumber(rawT)) {
       kind = "seconds";
       tAbs = tn * tScale;
     } else {
