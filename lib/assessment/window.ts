@@ -37,7 +37,10 @@ export interface AssessWindow {
   /** Raw sample count and span. */
   samples: number;
   spanS: number;
+  /** Share of raw samples with bad quality or missing values. */
   badQualityShare: number;
+  /** Share of grid points inside gaps of the export (no data; not a quality problem). */
+  gapShare: number;
 }
 
 /** A gap in the export longer than this many grid periods (and 60 s) is not bridged. */
@@ -62,7 +65,7 @@ export function buildWindow(samples: readonly AssessSample[], config: LoopConfig
   const mode = new Uint8Array(n).fill(MODE_UNKNOWN);
   const good = new Uint8Array(n);
   let hasMode = false;
-  let bad = 0;
+  let gaps = 0;
   const gapS = Math.max(GAP_PERIODS * T, 60);
   // Last good values, to hold across bad samples.
   let lastSp = NaN;
@@ -91,7 +94,7 @@ export function buildWindow(samples: readonly AssessSample[], config: LoopConfig
     } else {
       good[i] = 0;
     }
-    if (!good[i]) bad++;
+    if (inGap) gaps++;
     sp[i] = lastSp;
     pv[i] = lastPv;
     mv[i] = lastMv;
@@ -114,7 +117,7 @@ export function buildWindow(samples: readonly AssessSample[], config: LoopConfig
   }
   let rawBad = 0;
   for (const s of samples) if (s.quality === "bad" || !Number.isFinite(s.pv)) rawBad++;
-  return { T, n, sp, pv, mv, e, pvPct, mode, good, hasMode, pvSpan, rawSpacing, samples: nRaw, spanS, badQualityShare: nRaw ? Math.max(rawBad / nRaw, n ? bad / n : 0) : 0 };
+  return { T, n, sp, pv, mv, e, pvPct, mode, good, hasMode, pvSpan, rawSpacing, samples: nRaw, spanS, badQualityShare: nRaw ? rawBad / nRaw : 0, gapShare: n ? gaps / n : 0 };
 }
 
 /** True where the loop runs in its designed closed-loop mode (auto or cascade), or mode unknown. */

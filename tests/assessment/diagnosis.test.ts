@@ -103,6 +103,15 @@ describe("diagnosis on simulated loops (10 seeds each)", () => {
     expect(r.diagnosis.label).toBe("sensor-fault");
   });
 
+  it("a gap in the export is a caution, not a sensor fault", () => {
+    const cfg = config({ deadTimeS: 3, controller: { kp: 2.9, ti: 20, mvLo: 0, mvHi: 100 } });
+    const s = simulateLoop({ seed: 1, n: 8000, kp: 2.9, ti: 20 }).map((x, i) => ({ ...x, t: i < 4000 ? x.t : x.t + 20_000 }));
+    const r = assessLoop(s, cfg);
+    expect(r.diagnosis.label).not.toBe("sensor-fault");
+    expect(r.details.badQuality).toBe(0);
+    expect(r.cautions.join(" ")).toMatch(/gaps/);
+  });
+
   it("an output pinned at its limit reads saturated", () => {
     const r = assessLoop(simulateLoop({ seed: 1, n: 4000, kp: 0.5, ti: 15, sp0: 50, mvHi: 55, spSteps: [{ at: 1000, sp: 70 }] }), config({ controller: { kp: 0.5, ti: 15, mvLo: 0, mvHi: 55 } }));
     expect(r.saturation).toBeGreaterThan(0.5);
