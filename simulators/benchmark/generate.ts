@@ -187,8 +187,11 @@ export function writeRecordingFiles(rec: BenchRecording, dir: string): { csv: st
   const config = join(dir, `${rec.id}.loop.json`);
   const truth = join(dir, `${rec.id}.truth.json`);
   // a quarter of the files carry ISO 8601 times with a zone, as some historians export them
-  const iso = new Prng(deriveSeed(rec.seed, "csv")).chance(0.25);
-  writeFileSync(csv, recordingCsv(rec.samples, rec.config, iso ? { startIso: "2026-11-23T06:00:00+01:00" } : {}));
+  // and some leave a bad reading's cell empty
+  const rng = new Prng(deriveSeed(rec.seed, "csv"));
+  const iso = rng.chance(0.25);
+  const blankBad = rng.chance(0.5);
+  writeFileSync(csv, recordingCsv(rec.samples, rec.config, { ...(iso ? { startIso: "2026-11-23T06:00:00+01:00" } : {}), blankBad }));
   writeFileSync(config, `${JSON.stringify(rec.config, null, 2)}\n`);
   writeFileSync(truth, `${JSON.stringify({ id: rec.id, label: rec.label, alsoAccept: rec.alsoAccept, plantType: rec.plantType, note: rec.note, seed: rec.seed }, null, 2)}\n`);
   return { csv, config, truth };
