@@ -29,6 +29,8 @@ export interface OwnPoles {
   estimationPeriodS: number;
 }
 
+const MAX_FIT_SAMPLES = 30_000;
+
 /** Maps poles from T1 to T2; a negative-real pole has no equivalent at another period and is dropped. */
 export function mapPoles(poles: Complex[], T1: number, T2: number): { poles: Complex[]; dropped: number } {
   const ratio = T2 / T1;
@@ -115,13 +117,15 @@ export function countExcitation(w: AssessWindow, spThreshold: number, mvThreshol
 }
 
 /** The loop's own closed-loop poles from excited data, or null when the data do not excite the loop. */
-export function ownClosedLoopPoles(w: AssessWindow, config: LoopConfig, d: number): OwnPoles | null {
+export function ownClosedLoopPoles(w: AssessWindow, config: LoopConfig, dLoop: number): OwnPoles | null {
+  // At most MAX_FIT_SAMPLES equations per candidate structure (cost bound for long exports).
+  const d = Math.max(dLoop, Math.ceil(w.n / MAX_FIT_SAMPLES));
   const Test = w.T * d;
   const u = decimate(w.mv, d);
   const y = decimate(w.pvPct, d);
   if (u.length < 60) return null;
   const nkFixed = config.deadTimeS !== null && config.deadTimeS !== undefined ? Math.floor(config.deadTimeS / Test) + 1 : null;
-  const nks = nkFixed !== null ? [nkFixed] : [1, 2, 3, 4, 5, 6, 8, 10].filter((k) => k < u.length / 10);
+  const nks = nkFixed !== null ? [nkFixed] : [1, 2, 4, 7].filter((k) => k < u.length / 10);
   try {
     const fit = fitArx(u, y, { T: Test, na: [1, 2], nb: [1, 2], nk: nks });
     if (!(fit.fit > 20)) return null;

@@ -7,6 +7,7 @@
  * relative to the loop's own time scale), so the rules do not depend on units or tags.
  */
 import { fmt } from "./oscillation";
+import type { SensorFigures } from "./sensor";
 import type { Diagnosis, StictionFigures } from "./types";
 
 export interface DiagnosisInput {
@@ -14,9 +15,7 @@ export interface DiagnosisInput {
   /** Data time the loop's time scale asks for, s. */
   neededS: number;
   timeScaleS: number;
-  badQuality: number;
-  frozenPv: { seconds: number; mvMove: number } | null;
-  outOfRange: number;
+  sensor: SensorFigures;
   manual: number;
   hasMode: boolean;
   saturation: number;
@@ -28,39 +27,50 @@ export interface DiagnosisInput {
   harrisIndex: number | null;
   idleIndex: number | null;
   disturbanceDecayRatio: number | null;
-  /** Most negative error ACF within the first lags (ringing). */
-  acfMinimum: number | null;
+  /** Most negative error ACF within 1.5 periods of its dominant mode (ringing), null without one. */
+  ringDepth: number | null;
+  /** The ACF dip relative to its lag-1 value (white noise removed): how far the error swings back; null without a dominant mode. */
+  overshoot: number | null;
   noisePct: number;
 }
 
 /** Per-period ACF ratio above which an oscillation counts as sustained (a damped mode decays). */
 const SUSTAINED = 0.93;
+/** ACF dip below which a decaying mode reads as aggressive tuning (ours). */
+const AGGRESSIVE_RING = -0.35;
+/** Harris index above which a loop without oscillation reads as sluggish (ours). */
+const SLUGGISH_HARRIS = 3;
+/** Relative ACF dip below which the error never swings back (ours). */
+const NO_SWING = 0.08;
 
 const clamp = (v: number, lo = 0.3, hi = 0.95) => Math.min(hi, Math.max(lo, v));
 
 export function diagnose(x: DiagnosisInput): Diagnosis {
+  const sf = x.sensor;
+  if (sf.badQuality > 0.05) return { label: "sensor-fault", confidence: clamp(0.6 + sf.badQuality), evidence: [`likely a measurement fault: ${pct(sf.badQuality)} of samples have bad quality`] };
+  if (x.manual > 0.5) return { label: "manual", confidence: clamp(x.manual), evidence: [`likely not in service: in manual ${pct(x.manual)} of the time`] };
+  if (sf.flatShare > 0.05) {
+    return {
+      label: "sensor-fault",
+      confidence: clamp(0.6 + sf.flatShare),
+      evidence: [`likely a frozen measurement or a fault value: PV stays exactly constant for ${pct(sf.flatShare)} of the time (longest ${fmt(sf.longestFlatS, 0)} s), far longer than its noise allows`],
+    };
+  }
+  if (sf.outOfRange > 0.03) {
+    return { label: "sensor-fault", confidence: clamp(0.6 + sf.outOfRange), evidence: [`likely a measurement fault: PV leaves its range while the output is still free, ${pct(sf.outOfRange)} of the time`] };
+  }
+  if (x.saturation > 0.2) return { label: "saturated", confidence: clamp(0.5 + x.saturation), evidence: [`likely saturated: MV at a limit ${pct(x.saturation)} of the time, the loop cannot act`] };
   const periods = x.oscillation.periodS ? x.spanS / x.oscillation.periodS : 0;
   const enoughForOscillation = x.oscillation.detected && periods >= 5;
   if (x.spanS < x.neededS && !enoughForOscillation) {
     return {
       label: "undetermined",
       confidence: 0,
-      evidence: [`${fmt(x.spanS, 0)} s of data; a loop with a time scale of ${fmt(x.timeScaleS, 0)} s needs about ${fmt(x.neededS, 0)} s for a verdict from routine data`],
+      evidence: [`${fmt(x.spanS, 0)} s of data; this loop needs about ${fmt(x.neededS, 0)} s for a verdict from routine data (its time scale is ${fmt(x.timeScaleS, 0)} s)`],
       reason: "too little data for the loop's time scale",
       needsS: Math.ceil(x.neededS - x.spanS),
     };
   }
-  if (x.badQuality > 0.2) return { label: "sensor-fault", confidence: clamp(0.5 + x.badQuality), evidence: [`likely a measurement fault: ${pct(x.badQuality)} of samples have bad quality`] };
-  if (x.outOfRange > 0.05) return { label: "sensor-fault", confidence: clamp(0.5 + x.outOfRange), evidence: [`likely a measurement fault: PV is outside its range for ${pct(x.outOfRange)} of the time`] };
-  if (x.frozenPv) {
-    return {
-      label: "sensor-fault",
-      confidence: 0.8,
-      evidence: [`likely a frozen measurement: PV stays exactly constant for ${fmt(x.frozenPv.seconds, 0)} s while MV moves by ${fmt(x.frozenPv.mvMove, 1)} %`],
-    };
-  }
-  if (x.manual > 0.5) return { label: "manual", confidence: clamp(x.manual), evidence: [`likely not in service: in manual ${pct(x.manual)} of the time`] };
-  if (x.saturation > 0.3) return { label: "saturated", confidence: clamp(0.4 + x.saturation), evidence: [`likely saturated: MV at a limit ${pct(x.saturation)} of the time, the loop cannot act`] };
 
   const osc = x.oscillation;
   const persistence = osc.persistence;
@@ -97,21 +107,28 @@ export function diagnose(x: DiagnosisInput): Diagnosis {
       evidence: ["likely aggressive tuning: a regular, decaying (linear) oscillation of the loop's own mode", oscLine, ...x.stiction.evidence],
     };
   }
-  if (x.disturbanceDecayRatio !== null && x.disturbanceDecayRatio > 0.25 && x.acfMinimum !== null && x.acfMinimum < -0.25) {
-    return {
-      label: "aggressive-tuning",
-      confidence: clamp(0.4 + x.disturbanceDecayRatio / 2),
-      evidence: [
-        `likely aggressive tuning: the error rings after disturbances (decay ratio ${fmt(x.disturbanceDecayRatio)} of the dominant disturbance-response mode; autocorrelation dips to ${fmt(x.acfMinimum)})`,
-      ],
-    };
+  if (x.ringDepth !== null && x.ringDepth < -0.2) {
+    if (x.stiction.verdict === "likely") {
+      return { label: "valve-stiction", confidence: clamp(0.5 + 0.5 * ((x.stiction.curveFitIndex ?? 0.6) - 0.6)), evidence: [...x.stiction.evidence.slice(0, 1), `irregular cycles of about ${fmt(osc.periodS, 1)} s`, ...x.stiction.evidence.slice(1)] };
+    }
+    if (x.ringDepth < AGGRESSIVE_RING) {
+      return {
+        label: "aggressive-tuning",
+        confidence: clamp(0.4 + (AGGRESSIVE_RING - x.ringDepth)),
+        evidence: [`likely aggressive tuning: the error rings after disturbances (its autocorrelation dips to ${fmt(x.ringDepth)} within a period of about ${fmt(osc.periodS, 1)} s) without a stick-slip shape`, ...x.stiction.evidence],
+      };
+    }
   }
   const idle = x.idleIndex;
   const harris = x.harrisIndex;
-  if (idle !== null && (idle > 0.6 || (idle > 0.3 && harris !== null && harris > 3))) {
-    const ev = [`likely sluggish tuning: idle index ${fmt(idle)} (near +1 sluggish; Hägglund 1999)`];
-    if (harris !== null) ev.push(`variance ${fmt(harris, 1)}× the minimum for the dead time (Harris index)`);
-    return { label: "sluggish-tuning", confidence: clamp(0.4 + 0.5 * idle), evidence: ev };
+  const noSwing = x.overshoot !== null && x.overshoot < NO_SWING;
+  if ((harris !== null && harris > SLUGGISH_HARRIS) || noSwing || (idle !== null && idle > 0.6)) {
+    const ev = ["likely sluggish tuning: no oscillation, and the loop removes its disturbances slowly"];
+    if (harris !== null) ev.push(`variance ${fmt(harris, 1)}× the minimum the dead time allows (Harris index; a well-tuned PI loop is typically within 1–3, common practice)`);
+    if (noSwing) ev.push(`the error hardly swings back past the set point after a disturbance (autocorrelation dip ${fmt(-x.overshoot!)} of its lag-1 value): an overdamped, slow recovery`);
+    if (idle !== null) ev.push(`idle index ${fmt(idle)} (near +1 sluggish; Hägglund 1999)`);
+    const votes = (harris !== null && harris > SLUGGISH_HARRIS ? 1 : 0) + (noSwing ? 1 : 0) + (idle !== null && idle > 0.6 ? 1 : 0);
+    return { label: "sluggish-tuning", confidence: clamp(0.45 + 0.2 * votes), evidence: ev };
   }
   const ev = ["likely healthy: no oscillation, no stiction sign, the error does not ring"];
   if (idle !== null) ev.push(`idle index ${fmt(idle)} (not sluggish; Hägglund 1999)`);

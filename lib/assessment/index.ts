@@ -10,6 +10,7 @@ import { diagnose } from "./diagnosis";
 import { harrisIndex } from "./harris";
 import { countLoadDisturbances, detectOscillation, oscillatesAt } from "./oscillation";
 import { autocorrelation, variance } from "./signal";
+import { sensorFigures } from "./sensor";
 import { idleIndex } from "./sluggishness";
 import { assessStiction } from "./stiction";
 import type { AssessSample, LoopAssessmentReport } from "./types";
@@ -21,29 +22,11 @@ export { parseLoopConfig, loopConfigSchema, LoopConfigError, type LoopConfig, ty
 export { parseAssessCsv, AssessCsvError, type ParsedAssessCsv } from "./csv";
 export { buildWindow, type AssessWindow } from "./window";
 
-/** Data span wanted, in multiples of the loop's time scale (Ti or dead time); ours. */
+/** Data span wanted, in multiples of the loop's time scale (Ti or dead time), or of the error's decorrelation time; ours. */
 const SPAN_FACTOR = 50;
-
-/** Longest stretch of exactly constant PV (grid) in closed loop, with the MV range over it. */
-function frozenPv(w: AssessWindow): { seconds: number; mvMove: number } | null {
-  let best: { seconds: number; mvMove: number } | null = null;
-  let start = 0;
-  let lo = w.mv[0] ?? 0;
-  let hi = lo;
-  for (let i = 1; i <= w.n; i++) {
-    const same = i < w.n && w.good[i] && w.pv[i] === w.pv[start] && isClosed(w, i);
-    if (same) {
-      lo = Math.min(lo, w.mv[i]!);
-      hi = Math.max(hi, w.mv[i]!);
-      continue;
-    }
-    const seconds = (i - start) * w.T;
-    if (!best || seconds > best.seconds) best = { seconds, mvMove: hi - lo };
-    start = i;
-    lo = hi = w.mv[Math.min(i, w.n - 1)] ?? 0;
-  }
-  return best;
-}
+const DECORRELATIONS = 30;
+/** ACF depth below which the error counts as ringing (ours). */
+const RING_DEPTH = -0.2;
 
 function sortSamples(samples: readonly AssessSample[]): readonly AssessSample[] {
   for (let i = 1; i < samples.length; i++) if (!(samples[i]!.t > samples[i - 1]!.t)) return [...samples].sort((a, b) => a.t - b.t).filter((s, i, a) => i === 0 || s.t > a[i - 1]!.t);
@@ -95,13 +78,22 @@ export function assessLoop(input: readonly AssessSample[], config: LoopConfig): 
   const spVar = variance(w.sp);
   const spOscillates = osc.detected && periodSamples !== null && spVar > 0 && oscillatesAt(w.sp, 0, w.n, periodSamples);
 
+  // Ringing: the error's ACF dips well below zero within one and a half periods (a decaying
+  // mode, or an irregular cycle), even when the oscillation test above does not fire.
+  // Measured against the lag-1 value, so white measurement noise (which lowers every lag > 0
+  // alike) does not hide the ringing of the loop.
+  const acfLag1 = Math.max(acfFull[1] ?? 0, 0.05);
+  let ringDepth = 0;
+  if (periodSamples) for (let k = 1; k < Math.min(acfFull.length, Math.ceil(1.5 * periodSamples)); k++) ringDepth = Math.min(ringDepth, acfFull[k]!);
+  const overshoot = periodSamples ? Math.max(0, -ringDepth / acfLag1) : null;
+  const ringing = periodSamples !== null && ringDepth < RING_DEPTH;
   const stiction = assessStiction({
     pv: w.pvPct,
     mv: w.mv,
     include,
     T: w.T,
     periodS: osc.periodS,
-    oscillating: osc.detected,
+    oscillating: osc.detected || ringing,
     integrating,
     ti,
     compressed: compression.compressed,
@@ -133,11 +125,10 @@ export function assessLoop(input: readonly AssessSample[], config: LoopConfig): 
     e: w.e,
     include: stretchMask(w.n, stretches),
     T: w.T,
-    filterS: Math.max(3 * w.T, timeScale / 10),
+    filterS: Math.max(3 * w.T, timeScale / 5),
     gainSign: config.controller.action === "reverse" ? 1 : -1,
     pvNoise: usage.pvNoisePct,
     mvNoise: usage.mvNoise,
-    errorBand: 3 * usage.pvNoisePct,
   });
   const load = ti !== null || osc.periodS ? countLoadDisturbances(w.e, w.T, ti ?? osc.periodS!, include) : null;
 
@@ -151,22 +142,24 @@ export function assessLoop(input: readonly AssessSample[], config: LoopConfig): 
   if (dist) cautions.push("disturbanceResponse: poles of an AR model of the control error in routine operation; they mix the loop's response with the disturbance's own dynamics and are not the loop's poles.");
 
   const acf = acfFull.subarray(0, Math.min(acfFull.length, Math.max(20, Math.round((osc.periodS ?? timeScale * 2) / w.T) * 2)));
-  let acfMin = 0;
-  const ringLags = Math.min(acf.length, Math.max(10, Math.round((4 * timeScale) / w.T)));
-  for (let k = 1; k < ringLags; k++) acfMin = Math.min(acfMin, acf[k]!);
 
-  const outOfRange = shareOutOfRange(w, config);
-  const frozen = frozenPv(w);
-  const frozenFault = frozen && frozen.seconds > Math.max(20 * w.T, 2 * timeScale) && frozen.mvMove > 2 && usage.pvNoisePct > 0 && !compression.compressed ? frozen : null;
-  const neededS = Math.max(SPAN_FACTOR * timeScale, 200 * config.samplePeriodS);
+  const sensor = sensorFigures(w, config, compression.repeatShare);
+  // Data span: enough when it covers SPAN_FACTOR loop time scales, or when the error decorrelates
+  // within a thirtieth of the span (many independent stretches: judged from the data themselves).
+  let decorrelation = acfFull.length;
+  const r1 = acfFull[1] ?? 0;
+  for (let k = 1; k < acfFull.length; k++) if (acfFull[k]! < 0.37 * Math.max(r1, 0)) {
+    decorrelation = k;
+    break;
+  }
+  const decorrelationS = decorrelation * w.T;
+  const neededS = Math.max(Math.min(SPAN_FACTOR * timeScale, DECORRELATIONS * decorrelationS), 200 * config.samplePeriodS, 4 * decorrelationS);
 
   const diagnosis = diagnose({
     spanS: w.spanS,
     neededS,
     timeScaleS: timeScale,
-    badQuality: w.badQualityShare,
-    frozenPv: frozenFault,
-    outOfRange,
+    sensor,
     manual: usage.manual,
     hasMode: w.hasMode,
     saturation: usage.saturation,
@@ -178,7 +171,8 @@ export function assessLoop(input: readonly AssessSample[], config: LoopConfig): 
     harrisIndex: harris,
     idleIndex: idle?.index ?? null,
     disturbanceDecayRatio: dist?.decayRatio ?? null,
-    acfMinimum: acf.length > 1 ? acfMin : null,
+    ringDepth: periodSamples ? ringDepth : null,
+    overshoot,
     noisePct: usage.pvNoisePct,
   });
 
@@ -214,6 +208,9 @@ export function assessLoop(input: readonly AssessSample[], config: LoopConfig): 
       stictionTests: stiction.tests,
       harris: harrisDetail,
       oscillationInManual,
+      dominantPeriodS: osc.periodS,
+      errorDecorrelationS: decorrelation < acfFull.length ? decorrelationS : null,
+      ringDepth: periodSamples ? ringDepth : null,
       disturbanceDecayRatio: dist?.decayRatio ?? null,
       errorAcf: Array.from(acf.subarray(0, Math.min(acf.length, 400)), (v) => Math.round(v * 1e4) / 1e4),
     },
@@ -224,17 +221,4 @@ function stretchMask(n: number, stretches: readonly [number, number][]): Uint8Ar
   const m = new Uint8Array(n);
   for (const [s, e] of stretches) m.fill(1, s, e);
   return m;
-}
-
-function shareOutOfRange(w: AssessWindow, config: LoopConfig): number {
-  const margin = 0.01 * w.pvSpan;
-  let out = 0;
-  let good = 0;
-  for (let i = 0; i < w.n; i++) {
-    if (!w.good[i]) continue;
-    good++;
-    const v = w.pv[i]!;
-    if (v < config.pvLo - margin || v > config.pvHi + margin) out++;
-  }
-  return good ? out / good : 0;
 }

@@ -96,12 +96,14 @@ export function detectOscillation(x: Float64Array, T: number, options: { maxPeri
   const r = options.acf && options.acf.length >= maxLag + 1 ? options.acf : autocorrelation(x, maxLag);
   if (r[0] === 0) return none("the signal is constant");
   const c = crossingsOf(r, MAX_CROSSINGS, Math.min(0.1, 2 / Math.sqrt(n)));
-  if (c.length < MIN_CROSSINGS) return none(`the error's autocorrelation crosses zero only ${c.length} times within the lags examined: no regular oscillation (Thornhill et al. 2003)`, c.length);
+  if (c.length < 3) return none(`the error's autocorrelation crosses zero only ${c.length} times within the lags examined: no regular oscillation (Thornhill et al. 2003)`, c.length);
   const periods: number[] = [];
   for (let i = 0; i + 2 < c.length; i++) periods.push(c[i + 2]! - c[i]!);
   const tp = periods.reduce((s, v) => s + v, 0) / periods.length;
   const sd = Math.sqrt(periods.reduce((s, v) => s + (v - tp) ** 2, 0) / Math.max(1, periods.length - 1));
-  const regularity = sd > 0 ? tp / (3 * sd) : Infinity;
+  // Thornhill's regularity needs at least three period estimates; with fewer crossings the
+  // period is still reported (a ringing mode) but never called an oscillation.
+  const regularity = c.length < MIN_CROSSINGS ? 0 : sd > 0 ? tp / (3 * sd) : Infinity;
   const periodS = tp * T;
   if (tp > maxPeriod) return none(`the dominant autocorrelation period (${periodS.toFixed(1)} s) is too long for the span of data`, c.length, finiteOrNull(regularity));
   const a1 = acfAt(r, tp, n);
@@ -124,13 +126,15 @@ export function detectOscillation(x: Float64Array, T: number, options: { maxPeri
   // Periodic part's variance ≈ autocovariance at one period; amplitude of a sine = √(2 var).
   const amplitude = a1 > 0 ? Math.sqrt(2 * a1 * v0) : 0;
   const evidence = [
-    `autocorrelation zero crossings give a period of ${periodS.toFixed(1)} s with regularity r = ${fmt(regularity)} (${regular ? "regular" : "irregular"}: r > 1 is regular, Thornhill et al. 2003)`,
+    c.length < MIN_CROSSINGS
+      ? `the autocorrelation crosses zero only ${c.length} times (period about ${periodS.toFixed(1)} s): a decaying mode, not a regular oscillation (Thornhill et al. 2003)`
+      : `autocorrelation zero crossings give a period of ${periodS.toFixed(1)} s with regularity r = ${fmt(regularity)} (${regular ? "regular" : "irregular"}: r > 1 is regular, Thornhill et al. 2003)`,
     `autocorrelation at one and two periods: ${fmt(a1)} and ${fmt(a2)}, per-period decay ${fmt(persistence)} (${persistent ? "persistent" : "decaying or weak"})`,
   ];
   return {
     detected: regular && persistent,
     periodS,
-    regularity: finiteOrNull(regularity),
+    regularity: c.length < MIN_CROSSINGS ? null : finiteOrNull(regularity),
     amplitude,
     acfAtPeriod: finiteOrNull(a1),
     acfAtTwoPeriods: finiteOrNull(a2),

@@ -102,6 +102,12 @@ export interface AssessmentDetails {
   harris: { delaySamples: number; samplesUsed: number; periodS: number } | null;
   /** Oscillation also seen while the loop was in manual (Hägglund's outside-oscillation sign). */
   oscillationInManual: boolean | null;
+  /** Period of the error's dominant mode from its ACF zero crossings, s (also when not an oscillation). */
+  dominantPeriodS: number | null;
+  /** Lag at which the error's ACF falls below 0.37 of its lag-1 value, s (its decorrelation time). */
+  errorDecorrelationS: number | null;
+  /** Lowest error ACF within 1.5 dominant periods (below about -0.2: the error rings). */
+  ringDepth: number | null;
   /** Decay ratio of the dominant disturbance-response pole (period-invariant), null when real. */
   disturbanceDecayRatio: number | null;
   /** Autocorrelation of the control error (first lags, at analysisPeriodS), for the evidence plot. */
