@@ -39,6 +39,7 @@ const SHORT: Record<string, string> = {
 
 interface Outcome {
   id: string;
+  plantType: string;
   label: string;
   alsoAccept: string[];
   note: string;
@@ -60,6 +61,7 @@ function runSet(set: BenchSet): Outcome[] {
     const ms = performance.now() - t0;
     out.push({
       id: rec.id,
+      plantType: rec.plantType,
       label: rec.label,
       alsoAccept: rec.alsoAccept,
       note: rec.note,
@@ -109,6 +111,20 @@ function report(set: BenchSet, res: Outcome[]): void {
   }
   const osc = res.filter((r) => (r.label === "healthy" || r.label === "sluggish-tuning") && r.oscillation);
   console.log(`oscillation reported on healthy or sluggish loops: ${osc.length} (target 0)${osc.length ? `: ${osc.map((r) => r.id).join(", ")}` : ""}`);
+  console.log("\naccuracy per plant type (eight labels)");
+  for (const t of [...new Set(res.map((r) => r.plantType))]) {
+    const rows = eight.filter((r) => r.plantType === t);
+    const ok = rows.filter((r) => r.correct).length;
+    console.log(`  ${t.padEnd(20)}${String(rows.length).padStart(4)}  ${pct(ok, rows.length)}`);
+  }
+  const sure = res.filter((r) => r.confidence >= 0.8);
+  const checks = [
+    [`overall >= 85 %`, okEight / eight.length >= 0.85],
+    [`no label below 70 %`, worst >= 0.7],
+    [`confidence >= 0.8 right >= 80 %`, sure.length > 0 && sure.filter((r) => r.correct).length / sure.length >= 0.8],
+    [`no oscillation on healthy/sluggish`, osc.length === 0],
+  ] as const;
+  console.log(`targets (${set.toUpperCase()}): ${checks.map(([what, ok]) => `${what}: ${ok ? "met" : "NOT met"}`).join("; ")}`);
   const samples = res.reduce((s, r) => s + r.samples, 0);
   const ms = res.reduce((s, r) => s + r.ms, 0);
   console.log(`assessment time: ${(ms / 1000).toFixed(1)} s for ${(samples / 1e6).toFixed(2)} M samples (${((1000 * ms) / samples).toFixed(2)} µs per sample)`);
