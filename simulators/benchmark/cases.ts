@@ -4,7 +4,7 @@
  * made; where a practitioner could not tell from the data, the case is labelled `undetermined`
  * and names the verdicts that would still be fair (`alsoAccept`).
  */
-import type { Prng } from "../prng";
+import { deriveSeed, Prng } from "../prng";
 import { drawLoop, drawTiming, logUniform, pick, type DrawnLoop, type PlantType } from "./loops";
 import type { RecordingSpec } from "./recording-sim";
 import { effectiveDeadTime, loadToPvGain, loopMargins, simcTuning, type Margins, type PidSetting } from "./tuning";
@@ -248,7 +248,9 @@ export function drawCase(rng: Prng, seed: number, label: BenchLabel, plantType: 
             : { everyS, kind: "incremental", gain: rng.uniform(0.2, 0.6) / g, bandPct: rng.uniform(1, 5) },
         },
       ];
-      spec.withMode = true;
+      // most exports of a loop in manual carry the mode; a quarter do not, and then only the
+      // output's long flat stretches with rare steps tell it (a separate stream keeps the other draws)
+      spec.withMode = new Prng(deriveSeed(seed, "mode-column")).chance(0.75);
       if (integrating) spec.load = { ...spec.load, arSdPct: Math.min(spec.load.arSdPct, 1), walkSdPct: 0, steps: spec.load.steps.map((x) => ({ ...x, pct: x.pct * 0.1 })) };
       note = `in manual ${(share * 100).toFixed(0)} % of the time`;
       break;
