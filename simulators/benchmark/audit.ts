@@ -51,7 +51,8 @@ export function truthFigures(rec: BenchRecording): TruthFigures {
     if (k > 0 && tr.valvePct[k] === tr.valvePct[k - 1] && tr.mvPct[k] !== tr.mvPct[k - 1]) stuck++;
     // within 1 % of the MV range of a limit: noise through the controller jitters a pinned output
     if (tr.mvPct[k]! <= lo + 0.01 * (hi - lo) || tr.mvPct[k]! >= hi - 0.01 * (hi - lo)) atLimit++;
-    if (rec.samples[k]!.mode === "manual") manual++;
+    const t = rec.samples[k]!.t;
+    if (rec.draw.spec.manual.some((s) => t >= s.fromS && t < s.toS)) manual++;
     fault += tr.fault[k]!;
     const pv = rec.samples[k]!.pv;
     if (pv < rec.config.pvLo || pv > rec.config.pvHi) out++;

@@ -4,7 +4,7 @@
  * made; where a practitioner could not tell from the data, the case is labelled `undetermined`
  * and names the verdicts that would still be fair (`alsoAccept`).
  */
-import type { Prng } from "../prng";
+import { deriveSeed, Prng } from "../prng";
 import { drawLoop, drawTiming, logUniform, pick, type DrawnLoop, type PlantType } from "./loops";
 import type { RecordingSpec } from "./recording-sim";
 import { effectiveDeadTime, loadToPvGain, loopMargins, simcTuning, type Margins, type PidSetting } from "./tuning";
@@ -112,7 +112,10 @@ function operatorMoves(rng: Prng, spell: { fromS: number; toS: number }, mv0: nu
 
 export function drawCase(rng: Prng, seed: number, label: BenchLabel, plantType: PlantType, borderline?: BorderlineKind): CaseDraw {
   const loop = drawLoop(rng, plantType);
-  const hours = borderline === "too-short" ? 0 : logUniform(rng, 2, 24);
+  // 2-24 h, and at least about 60 settling times of the plant where a day allows it (a verdict
+  // on tuning or a cycle needs many of them; the too-short borderline cases are the exception)
+  const settleH = (60 * (loop.plant.deadTimeS + loop.timescaleS)) / 3600;
+  const hours = borderline === "too-short" ? 0 : Math.min(24, Math.max(logUniform(rng, 2, 24), settleH));
   let timing = drawTiming(rng, loop.timescaleS, hours, 80_000);
   const reference = simcTuning(loop.plant, effectiveDeadTime(loop.plant, timing.Tc), timing.Tc);
   let c = healthyTuning(rng, loop, timing.Tc);
@@ -150,6 +153,8 @@ export function drawCase(rng: Prng, seed: number, label: BenchLabel, plantType: 
       // measurement noise through the controller jitters the MV by about kp x noise x sqrt 2 a
       // step; a valve dithered past its band by noise does not show stiction, so keep it below S/4
       if (!faint) spec.noiseSdPct = Math.min(spec.noiseSdPct, S / (4 * Math.SQRT2 * c.kp * (1 + c.td / timing.Tc)));
+      // the stick-slip cycle is the loop's main feature: loads smaller than the band
+      if (!faint) spec.load = { ...spec.load, arSdPct: Math.min(spec.load.arSdPct, S / 2), steps: spec.load.steps.map((x) => ({ ...x, pct: Math.max(-S, Math.min(S, x.pct)) })) };
       note = `sticking valve S = ${S.toFixed(2)} %, J = ${J.toFixed(2)} %`;
       if (faint) {
         spec.noiseSdPct = Math.max(spec.noiseSdPct, 0.3);
@@ -203,7 +208,8 @@ export function drawCase(rng: Prng, seed: number, label: BenchLabel, plantType: 
       const jitterPerNoise = Math.SQRT2 * c.kp * (c.td > 0 ? 11 : 1);
       spec.noiseSdPct = Math.min(spec.noiseSdPct, excess / (4 * jitterPerNoise));
       const pct = up ? -(hi - spec.mv0Pct + excess) : spec.mv0Pct - lo + excess;
-      spec.load.pulses = pieces.map((p) => ({ ...p, pct }));
+      const rampS = Math.min(0.3 * len, Math.max(0.05 * len, 10 * (loop.plant.deadTimeS + loop.timescaleS)));
+      spec.load.pulses = pieces.map((p) => ({ ...p, pct, rampS }));
       note = `load beyond the MV range (${excess.toFixed(1)} % past the ${up ? "high" : "low"} limit) for ${(share * 100).toFixed(0)} % of the time`;
       break;
     }
@@ -228,8 +234,9 @@ export function drawCase(rng: Prng, seed: number, label: BenchLabel, plantType: 
       const from = share > 0.97 ? 0 : rng.uniform(0, 1 - share) * dur;
       const spell = { fromS: from, toS: from + share * dur };
       const g = Math.abs(loop.plant.gain);
-      const everyS = Math.max(60, rng.uniform(600, 3600) * Math.min(1, dur / 36_000));
       const integrating = loop.plantType === "integrating";
+      // an operator of a fast level looks more often than one of a slow temperature
+      const everyS = Math.min(integrating ? Math.max(60, 3 / g) : Infinity, Math.max(60, rng.uniform(600, 3600) * Math.min(1, dur / 36_000)));
       spec.manual = [
         {
           ...spell,
@@ -241,8 +248,10 @@ export function drawCase(rng: Prng, seed: number, label: BenchLabel, plantType: 
             : { everyS, kind: "incremental", gain: rng.uniform(0.2, 0.6) / g, bandPct: rng.uniform(1, 5) },
         },
       ];
-      spec.withMode = true;
-      if (integrating) spec.load = { ...spec.load, walkSdPct: 0, steps: spec.load.steps.map((x) => ({ ...x, pct: x.pct * 0.1 })) };
+      // most exports of a loop in manual carry the mode; a quarter do not, and then only the
+      // output's long flat stretches with rare steps tell it (a separate stream keeps the other draws)
+      spec.withMode = new Prng(deriveSeed(seed, "mode-column")).chance(0.75);
+      if (integrating) spec.load = { ...spec.load, arSdPct: Math.min(spec.load.arSdPct, 1), walkSdPct: 0, steps: spec.load.steps.map((x) => ({ ...x, pct: x.pct * 0.1 })) };
       note = `in manual ${(share * 100).toFixed(0)} % of the time`;
       break;
     }

@@ -1,5 +1,5 @@
 /**
- * A recording as a historian export for the offline assessment: header `t,sp,pv,mv[,mode]`,
+ * A recording as a historian export for the offline assessment: header `t,sp,pv,mv[,mode][,quality]`,
  * `t` in seconds from the start or ISO 8601 with a zone, SP/PV in engineering units at a
  * precision that suits the span, MV in % of output.
  */
@@ -19,10 +19,15 @@ function isoAt(startMs: number, offsetText: string, tS: number): string {
   return `${local.slice(0, 23)}${offsetText}`;
 }
 
-export function recordingCsv(samples: RecordedSample[], config: { pvLo: number; pvHi: number }, opts: { startIso?: string } = {}): string {
+/**
+ * The CSV text. A `quality` column is written when the samples carry one; `blankBad` leaves the
+ * PV cell of a bad-quality row empty, as some historians export it.
+ */
+export function recordingCsv(samples: RecordedSample[], config: { pvLo: number; pvHi: number }, opts: { startIso?: string; blankBad?: boolean } = {}): string {
   const d = decimalsFor(config.pvHi - config.pvLo);
   const withMode = samples.some((s) => s.mode !== undefined);
-  const lines = [withMode ? "t,sp,pv,mv,mode" : "t,sp,pv,mv"];
+  const withQuality = samples.some((s) => s.quality !== undefined);
+  const lines = [["t", "sp", "pv", "mv", ...(withMode ? ["mode"] : []), ...(withQuality ? ["quality"] : [])].join(",")];
   let time: (t: number) => string = (t) => String(Number(t.toFixed(3)));
   if (opts.startIso) {
     const m = /([+-]\d\d:\d\d|Z)$/.exec(opts.startIso);
@@ -31,8 +36,9 @@ export function recordingCsv(samples: RecordedSample[], config: { pvLo: number; 
     time = (t) => isoAt(startMs, zone, t);
   }
   for (const s of samples) {
-    const cells = [time(s.t), s.sp.toFixed(d), s.pv.toFixed(d), s.mv.toFixed(3)];
+    const cells = [time(s.t), s.sp.toFixed(d), opts.blankBad && s.quality === "bad" ? "" : s.pv.toFixed(d), s.mv.toFixed(3)];
     if (withMode) cells.push(s.mode ?? "");
+    if (withQuality) cells.push(s.quality ?? "good");
     lines.push(cells.join(","));
   }
   return `${lines.join("\n")}\n`;

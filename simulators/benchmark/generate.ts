@@ -15,6 +15,7 @@ import { deriveSeed, Prng } from "../prng";
 import { auditRecording } from "./audit";
 import { BORDERLINE, drawCase, LABELS, type BenchLabel, type BorderlineKind, type CaseDraw } from "./cases";
 import { recordingCsv } from "./files";
+import { applyHistorian, drawHistorian, type HistorianEffects } from "./historian";
 import { PLANT_TYPES, type LoopKind, type PlantType } from "./loops";
 import { simulateRecording, type RecordedSample, type RecordingTruth } from "./recording-sim";
 
@@ -59,6 +60,7 @@ export interface BenchRecording {
   config: LoopConfigJson;
   truth: RecordingTruth;
   draw: CaseDraw;
+  historian: HistorianEffects;
   /** How often the draw was repeated to meet the label's definition, and what still fails it. */
   redraws: number;
   auditProblems: string[];
@@ -120,6 +122,7 @@ function loopJson(draw: CaseDraw): LoopConfigJson {
 }
 
 const REDRAWS = 6;
+const COMPRESSIBLE = new Set<BenchLabel>(["healthy", "sluggish-tuning", "external-disturbance", "saturated", "manual"]);
 
 /**
  * One recording of a set (deterministic). A draw whose simulated truth does not meet its label's
@@ -141,7 +144,16 @@ function drawRecording(set: BenchSet, plan: PlanEntry, seed: number, redraws: nu
   // the loop's controller settings as written in its configuration are what the simulation runs
   const config = loopJson(draw);
   draw.spec.controller = { ...draw.spec.controller, kp: config.controller.kp, ti: config.controller.ti, td: config.controller.td };
-  const { samples, truth } = simulateRecording(draw.spec);
+  const raw = simulateRecording(draw.spec);
+  // the historian: dead-band compression on some recordings whose label survives it (not where
+  // the evidence is a small cycle or a flat line), missing rows on some of every label
+  const hrng = new Prng(deriveSeed(seed, "historian"));
+  const compress = COMPRESSIBLE.has(draw.label) && hrng.chance(0.15);
+  const historian = drawHistorian(hrng, raw.samples.length, config.pvHi - config.pvLo, draw.spec.noiseSdPct, compress, hrng.chance(0.1));
+  const { samples, truth } = applyHistorian(raw.samples, raw.truth, historian);
+  let note = draw.note;
+  if (historian.compression) note += `; historian dead band ${historian.compression.export === "hold" ? "held" : "interpolated"}`;
+  if (historian.gaps.length) note += `; ${historian.gaps.length} gap(s) in the export`;
   const rec: BenchRecording = {
     id: `${set}-${String(index).padStart(3, "0")}-${plan.borderline ?? plan.label}`,
     set,
@@ -150,11 +162,12 @@ function drawRecording(set: BenchSet, plan: PlanEntry, seed: number, redraws: nu
     label: draw.label,
     alsoAccept: draw.alsoAccept,
     plantType: plan.plantType,
-    note: draw.note,
+    note,
     samples,
     config,
     truth,
     draw,
+    historian,
     redraws,
     auditProblems: [],
   };
@@ -174,8 +187,11 @@ export function writeRecordingFiles(rec: BenchRecording, dir: string): { csv: st
   const config = join(dir, `${rec.id}.loop.json`);
   const truth = join(dir, `${rec.id}.truth.json`);
   // a quarter of the files carry ISO 8601 times with a zone, as some historians export them
-  const iso = new Prng(deriveSeed(rec.seed, "csv")).chance(0.25);
-  writeFileSync(csv, recordingCsv(rec.samples, rec.config, iso ? { startIso: "2026-11-23T06:00:00+01:00" } : {}));
+  // and some leave a bad reading's cell empty
+  const rng = new Prng(deriveSeed(rec.seed, "csv"));
+  const iso = rng.chance(0.25);
+  const blankBad = rng.chance(0.5);
+  writeFileSync(csv, recordingCsv(rec.samples, rec.config, { ...(iso ? { startIso: "2026-11-23T06:00:00+01:00" } : {}), blankBad }));
   writeFileSync(config, `${JSON.stringify(rec.config, null, 2)}\n`);
   writeFileSync(truth, `${JSON.stringify({ id: rec.id, label: rec.label, alsoAccept: rec.alsoAccept, plantType: rec.plantType, note: rec.note, seed: rec.seed }, null, 2)}\n`);
   return { csv, config, truth };

@@ -49,8 +49,8 @@ export interface RecordingSpec {
     /** Leaky random walk: sd per square-root second, % of MV span. */
     walkSdPct: number;
     steps: { atS: number; pct: number }[];
-    /** Load pulses that push the MV past a limit: extra % beyond the MV range while the spell lasts. */
-    pulses: { fromS: number; toS: number; pct: number }[];
+    /** Load pulses that push the MV past a limit, ramping in and out over `rampS` (a load builds up; it rarely jumps by half the valve). */
+    pulses: { fromS: number; toS: number; pct: number; rampS: number }[];
     sine: { amplitudePct: number; periodS: number; phase: number; harmonic2: number } | null;
   };
   /** Filtered noise added to the PV (an output disturbance), sd % of PV span, time constant s. */
@@ -170,7 +170,7 @@ export function simulateRecording(spec: RecordingSpec): { samples: RecordedSampl
     walk = 0.9995 * walk + walkB * rng.normal();
     let load = ar + walk;
     for (const s of L.steps) if (t >= s.atS) load += s.pct;
-    for (const p of L.pulses) if (t >= p.fromS && t < p.toS) load += p.pct;
+    for (const p of L.pulses) if (t >= p.fromS && t < p.toS) load += p.pct * Math.min(1, (t - p.fromS) / p.rampS, (p.toS - t) / p.rampS);
     let sine = 0;
     if (L.sine) {
       const ph = (2 * Math.PI * t) / L.sine.periodS + L.sine.phase;

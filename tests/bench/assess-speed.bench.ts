@@ -1,5 +1,5 @@
 /**
- * Speed of the offline assessment (`npm run bench:assess`): one day of a loop at 1 s (86,400
+ * Speed of the offline assessment (`npm run bench:assess-speed`): one day of a loop at 1 s (86,400
  * samples) as CSV text -> parseAssessCsv -> assessLoop. A plain script: it prints times measured
  * in one run (median of several; wall time and the process's CPU time, which a loaded machine
  * inflates less) and asserts nothing about time. Target: the whole day assesses
