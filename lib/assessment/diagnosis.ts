@@ -18,6 +18,8 @@ export interface DiagnosisInput {
   sensor: SensorFigures;
   manual: number;
   hasMode: boolean;
+  /** Share of the time the output is held exactly while PV moves (see usage.ts). */
+  heldOutput: number;
   saturation: number;
   oscillation: { detected: boolean; periodS: number | null; regularity: number | null; persistence: number | null; amplitudePct: number | null };
   oscillationInManual: boolean | null;
@@ -49,6 +51,13 @@ export function diagnose(x: DiagnosisInput): Diagnosis {
   const sf = x.sensor;
   if (sf.badQuality > 0.05) return { label: "sensor-fault", confidence: clamp(0.6 + sf.badQuality), evidence: [`likely a measurement fault: ${pct(sf.badQuality)} of samples have bad quality`] };
   if (x.manual > 0.5) return { label: "manual", confidence: clamp(x.manual), evidence: [`likely not in service: in manual ${pct(x.manual)} of the time`] };
+  if (!x.hasMode && x.heldOutput > 0.5) {
+    return {
+      label: "manual",
+      confidence: clamp(x.heldOutput - 0.1),
+      evidence: [`likely in manual: the output stays exactly constant while PV moves ${pct(x.heldOutput)} of the time (the export has no mode column)`],
+    };
+  }
   if (sf.flatShare > 0.05) {
     return {
       label: "sensor-fault",

@@ -167,6 +167,7 @@ export function assessLoop(input: readonly AssessSample[], config: LoopConfig): 
     sensor,
     manual: usage.manual,
     hasMode: w.hasMode,
+    heldOutput: usage.heldOutput,
     saturation: usage.saturation,
     oscillation: { ...osc, amplitudePct: osc.amplitude },
     oscillationInManual,

@@ -18,6 +18,12 @@ export interface UsageFigures {
   /** σ of PV noise in % of span, and of MV noise in %. */
   pvNoisePct: number;
   mvNoise: number;
+  /**
+   * Share of good samples where the output stays exactly as it was while PV moves, away from
+   * the output's limits: a controller in auto moves its output with every PV change, so a held
+   * output means manual even when the export has no mode column (common practice).
+   */
+  heldOutput: number;
 }
 
 /** Output within 0.5 % of its range from a limit counts as at the limit (common practice). */
@@ -65,6 +71,24 @@ export function computeUsage(w: AssessWindow, config: LoopConfig): UsageFigures 
       anchor = u;
     }
   }
+  // Only runs of 30+ samples count (a quantised output of a slow controller repeats briefly).
+  let held = 0;
+  let heldOf = 0;
+  let run = 0;
+  let runMoving = 0;
+  for (let i = 1; i <= w.n; i++) {
+    const same = i < w.n && w.good[i] === 1 && w.good[i - 1] === 1 && w.mv[i] === w.mv[i - 1];
+    if (same) {
+      run++;
+      if (w.pv[i] !== w.pv[i - 1]) runMoving++;
+      continue;
+    }
+    const u = w.mv[i - 1]!;
+    if (run >= 30 && u > mvLo + band && u < mvHi - band) held += runMoving;
+    run = 0;
+    runMoving = 0;
+  }
+  for (let i = 1; i < w.n; i++) if (w.good[i] && w.good[i - 1] && w.pv[i] !== w.pv[i - 1]) heldOf++;
   const hours = (w.n * w.T) / 3600;
   return {
     serviceFactor: w.hasMode && known > 0 ? normal / known : null,
@@ -75,5 +99,6 @@ export function computeUsage(w: AssessWindow, config: LoopConfig): UsageFigures 
     noiseBand: (3 * pvNoisePct * w.pvSpan) / 100,
     pvNoisePct,
     mvNoise,
+    heldOutput: heldOf > 0 ? held / heldOf : 0,
   };
 }

@@ -87,6 +87,14 @@ describe("diagnosis on simulated loops (10 seeds each)", () => {
     expect(r.serviceFactor).toBeCloseTo(0.25, 2);
   });
 
+  it("without a mode column, an output held exactly while PV moves reads manual; a quantised output in auto does not", () => {
+    const cfg = config({ deadTimeS: 3, controller: { kp: 2.9, ti: 20, mvLo: 0, mvHi: 100 } });
+    const held = simulateLoop({ seed: 1, n: 6000, kp: 2.9, ti: 20, manual: [[1000, 5000]] }).map(({ mode: _mode, ...x }) => x);
+    expect(assessLoop(held, cfg).diagnosis.label).toBe("manual");
+    const quantised = simulateLoop({ seed: 1, n: 6000, kp: 2.9, ti: 20 }).map(({ mode: _mode, ...x }) => ({ ...x, mv: Math.round(x.mv * 10) / 10 }));
+    expect(assessLoop(quantised, cfg).diagnosis.label).not.toBe("manual");
+  });
+
   it("bad quality on a tenth of the samples reads sensor-fault", () => {
     const r = assessLoop(
       simulateLoop({ seed: 1, n: 4000, kp: 0.5, ti: 15 }).map((s, i) => (i % 10 === 0 ? { ...s, pv: NaN, quality: "bad" as const } : { ...s, quality: "good" as const })),
