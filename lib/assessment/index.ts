@@ -142,6 +142,27 @@ export function assessLoop(input: readonly AssessSample[], config: LoopConfig): 
   const excitation = countExcitation(w, Math.max(3 * usage.noiseBand, 0.005 * w.pvSpan), Math.max(1, 6 * usage.mvNoise));
   let own = null;
   if (excitation.spMoves >= 2 || excitation.manualMoves >= 2) own = ownClosedLoopPoles(w, config, d);
+  // Cross-check: the period of the loop's own dominant oscillating pole, 2π·T/|arg z| (where a
+  // model exists), against the oscillation's period.
+  let ownPeriodS: number | null = null;
+  if (own) {
+    let best = -1;
+    for (const p of own.poles) {
+      const r = Math.hypot(p.re, p.im);
+      if (Math.abs(p.im) > 1e-9 && r > best) {
+        best = r;
+        ownPeriodS = (2 * Math.PI * config.samplePeriodS) / Math.abs(Math.atan2(p.im, p.re));
+      }
+    }
+    if (osc.detected && osc.periodS && ownPeriodS) {
+      const ratio = osc.periodS / ownPeriodS;
+      cautions.push(
+        Math.abs(ratio - 1) <= 0.2
+          ? `The oscillation's period (${osc.periodS.toFixed(1)} s) matches the loop's own dominant mode as identified (${ownPeriodS.toFixed(1)} s): the loop's tuning likely takes part in it (an outside oscillation in the data can bias that identification).`
+          : `The oscillation's period (${osc.periodS.toFixed(1)} s) differs from the loop's own dominant mode as identified (${ownPeriodS.toFixed(1)} s): likely not the loop's own linear mode.`,
+      );
+    }
+  }
   if (!own) cautions.push("The loop's own closed-loop poles need set-point moves (or output moves in manual); routine data at a constant set point do not identify them.");
   const dist = disturbanceResponse(w.e, stretches, w.T, config.samplePeriodS, d);
   if (dist) cautions.push("disturbanceResponse: poles of an AR model of the control error in routine operation; they mix the loop's response with the disturbance's own dynamics and are not the loop's poles.");
@@ -215,6 +236,7 @@ export function assessLoop(input: readonly AssessSample[], config: LoopConfig): 
       harris: harrisDetail,
       oscillationInManual,
       dominantPeriodS: osc.periodS,
+      ownModePeriodS: ownPeriodS,
       errorDecorrelationS: decorrelation < acfFull.length ? decorrelationS : null,
       ringDepth: periodSamples ? ringDepth : null,
       disturbanceDecayRatio: dist?.decayRatio ?? null,

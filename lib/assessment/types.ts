@@ -104,6 +104,8 @@ export interface AssessmentDetails {
   oscillationInManual: boolean | null;
   /** Period of the error's dominant mode from its ACF zero crossings, s (also when not an oscillation). */
   dominantPeriodS: number | null;
+  /** Period of the loop's own dominant oscillating pole, 2π·samplePeriodS/|arg z|, s (null without own poles or a complex one). */
+  ownModePeriodS: number | null;
   /** Lag at which the error's ACF falls below 0.37 of its lag-1 value, s (its decorrelation time). */
   errorDecorrelationS: number | null;
   /** Lowest error ACF within 1.5 dominant periods (below about -0.2: the error rings). */

@@ -158,6 +158,15 @@ describe("diagnosis on simulated loops (10 seeds each)", () => {
     expect(JSON.stringify(assessLoop(s, config()))).toBe(JSON.stringify(assessLoop(s.map((x) => ({ ...x })), config())));
   });
 
+  it("with set-point moves, the oscillation's period is cross-checked against the own dominant pole's 2πT/|arg z|", () => {
+    const cfg = config({ deadTimeS: 3, controller: { kp: 6.5, ti: 8, mvLo: 0, mvHi: 100 } });
+    const steps = Array.from({ length: 8 }, (_, i) => ({ at: 500 + i * 600, sp: i % 2 ? 50 : 56 }));
+    const own = assessLoop(simulateLoop({ seed: 2, n: 5500, kp: 6.5, ti: 8, spSteps: steps }), cfg);
+    expect(own.oscillation.detected).toBe(true);
+    expect(Math.abs(own.details.ownModePeriodS! / own.oscillation.periodS! - 1)).toBeLessThan(0.05);
+    expect(own.cautions.join(" ")).toMatch(/matches the loop's own dominant mode/);
+  });
+
   it("set-point moves identify the loop's own poles; routine data at a constant set point do not", () => {
     const steps = Array.from({ length: 8 }, (_, i) => ({ at: 500 + i * 600, sp: i % 2 ? 50 : 56 }));
     const moved = assessLoop(simulateLoop({ seed: 4, n: 5500, kp: 0.5, ti: 15, spSteps: steps, loadSigma: 0.01 }), config());
