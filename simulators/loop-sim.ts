@@ -1,7 +1,8 @@
 /**
  * One simulated control loop in closed loop: the plant (discrete state space from `plant.ts`),
  * the loop's own PI/PID (`discretePid` of lib/control, run in velocity form with the MV clamped
- * to its limits, so the integral cannot wind up), a valve (optionally sticky), measurement
+ * to its limits, so the integral cannot wind up), a valve (optionally sticking, by the model of
+ * `valve-stiction.ts`), measurement
  * noise, load disturbances, set-point moves, spells in manual and the scenario's drifts.
  * Deterministic for a given seed. Stepping is synchronous: a test steps N samples directly,
  * the process runner steps by the wall clock.
@@ -16,6 +17,7 @@ import { eigenvalues } from "./eigen";
 import { discretisePlant, type DiscreteStateSpace } from "./plant";
 import { Prng } from "./prng";
 import type { ActivitySpec, ControllerSpec, DriftSpec, PlantSpec } from "./scenario";
+import { StictionValve } from "./valve-stiction";
 
 export interface LoopSimConfig {
   tenantSlug: string;
@@ -52,7 +54,7 @@ export interface SimSample {
 }
 
 /** Split a q^-1 controller into velocity form: D'(q) v = N'(q) e with v = u(k) - u(k-1). */
-function velocityForm(c: QTf): { n: Float64Array; d: Float64Array } {
+export function velocityForm(c: QTf): { n: Float64Array; d: Float64Array } {
   const den = [...c.den];
   const num = [...c.num];
   const d0 = den[0]!;
@@ -103,7 +105,7 @@ export class LoopSim {
   private k = 0;
   private u: number;
   private valve: number;
-  private stickRef: number;
+  private stiction: StictionValve | null = null;
   private sp: number;
   private readonly spBase: number;
   private loadStep = 0;
@@ -142,7 +144,6 @@ export class LoopSim {
     this.extraBuf = new Float64Array(maxExtra + 1);
     this.u = config.mvPct;
     this.valve = config.mvPct;
-    this.stickRef = config.mvPct;
     this.sp = config.spPct;
     this.spBase = config.spPct;
     this.lastPvPct = config.spPct;
@@ -294,18 +295,15 @@ export class LoopSim {
       this.u = clamp(this.u + v, lo, hi);
     }
 
-    // valve (Choudhury, Thornhill & Shah, "Modelling valve stiction", Control Eng. Practice 13, 2005; simplified)
+    // valve: the two-parameter stiction model (Choudhury, Thornhill & Shah, Control Eng. Practice 13, 2005)
     if (sticky) {
-      const S = sticky.stictionPct;
-      const J = sticky.slipPct;
-      const dev = this.u - this.stickRef;
-      if (Math.abs(dev) > S) {
-        this.valve = this.u - Math.sign(dev) * (S - J) / 2;
-        this.stickRef = this.u;
+      if (!this.stiction || this.stiction.S !== sticky.stictionPct || this.stiction.J !== sticky.slipPct) {
+        this.stiction = new StictionValve({ S: sticky.stictionPct, J: sticky.slipPct }, this.valve);
       }
+      this.valve = this.stiction.update(this.u);
     } else {
+      this.stiction = null;
       this.valve = this.u;
-      this.stickRef = this.u;
     }
 
     // plant input (deviation from the operating point), through the extra dead time
@@ -356,8 +354,9 @@ export class LoopSim {
   }
 
   /** Current state of the drifts and the loop (for logs and tests). */
-  status(): { simTimeS: number; gainFactor: number; extraDelaySamples: number; mode: LoopMode; mvPct: number; spPct: number } {
+  status(): { simTimeS: number; gainFactor: number; extraDelaySamples: number; mode: LoopMode; mvPct: number; valvePct: number; spPct: number } {
     return {
+      valvePct: this.valve,
       simTimeS: this.simTimeS,
       gainFactor: this.gainFactor(),
       extraDelaySamples: this.extraDelaySamples(),

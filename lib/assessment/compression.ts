@@ -1,0 +1,65 @@
+/**
+ * Signs that the export is not the loop's raw signal: historian compression (swinging-door or
+ * dead-band storage, replayed by linear interpolation or by holding the last value), coarse
+ * quantisation, and stale repeats. Compression fakes stick-slip shapes and lowers variances
+ * (Thornhill, Choudhury & Shah, "The impact of compression on data-driven process analyses",
+ * J. Process Control 14, 2004 — from memory), so stiction and Harris figures are withheld on
+ * compressed data. Thresholds are ours.
+ */
+import type { LoopConfig } from "./config";
+import type { AssessSample, CompressionFigures } from "./types";
+
+/** More than this share of repeated or collinear PV samples reads as compressed/stale. */
+const REPEAT_LIMIT = 0.3;
+const LINEAR_LIMIT = 0.3;
+
+export function detectCompression(samples: readonly AssessSample[], config: LoopConfig, rawSpacing: number, pvNoisePct: number): CompressionFigures {
+  const n = samples.length;
+  const span = config.pvHi - config.pvLo;
+  let repeats = 0;
+  let linear = 0;
+  let pairs = 0;
+  let triples = 0;
+  let minStep = Infinity;
+  const stepCounts = new Map<number, number>();
+  for (let i = 1; i < n; i++) {
+    const a = samples[i - 1]!;
+    const b = samples[i]!;
+    if (!Number.isFinite(a.pv) || !Number.isFinite(b.pv)) continue;
+    pairs++;
+    const d = Math.abs(b.pv - a.pv);
+    if (d === 0) repeats++;
+    else {
+      if (d < minStep) minStep = d;
+      if (stepCounts.size < 4096) {
+        const key = Number(d.toPrecision(6));
+        stepCounts.set(key, (stepCounts.get(key) ?? 0) + 1);
+      }
+    }
+    if (i >= 2) {
+      const z = samples[i - 2]!;
+      if (!Number.isFinite(z.pv)) continue;
+      triples++;
+      // Collinear in time (not merely equal): the stored points were joined by straight lines.
+      const slope1 = (a.pv - z.pv) / (a.t - z.t);
+      const slope2 = (b.pv - a.pv) / (b.t - a.t);
+      if (slope1 !== 0 && Math.abs(slope1 - slope2) <= 1e-9 * (Math.abs(slope1) + Math.abs(slope2)) + 1e-12 * span) linear++;
+    }
+  }
+  const repeatShare = pairs ? repeats / pairs : 0;
+  const linearShare = triples ? linear / triples : 0;
+  // Quantisation: the smallest PV step over the noise sigma, when few distinct steps occur.
+  const noise = (pvNoisePct * span) / 100;
+  const quantisationRatio = Number.isFinite(minStep) && noise > 0 && stepCounts.size < 64 ? minStep / noise : null;
+  const spacingRatio = rawSpacing / config.samplePeriodS;
+  const reasons: string[] = [];
+  if (repeatShare > REPEAT_LIMIT) reasons.push(`${pct(repeatShare)} of PV samples repeat the previous value (held or stale data)`);
+  if (linearShare > LINEAR_LIMIT) reasons.push(`${pct(linearShare)} of PV samples lie on straight lines between stored points (interpolated compressed data)`);
+  if (quantisationRatio !== null && quantisationRatio > 2) reasons.push(`the PV moves in steps of ${minStep.toPrecision(3)} ${config.units}, ${quantisationRatio.toFixed(1)}× its noise (coarse quantisation)`);
+  if (spacingRatio > 3) reasons.push(`stored points are ${spacingRatio.toFixed(1)}× the loop's sample period apart`);
+  return { compressed: reasons.length > 0, repeatShare, linearShare, quantisationRatio, spacingRatio, reasons };
+}
+
+function pct(v: number): string {
+  return `${(100 * v).toFixed(0)} %`;
+}

@@ -1,0 +1,66 @@
+/**
+ * The loop as an engineer enters it for an assessment (LOOP.json of the `assess` command).
+ * Gains in engineers' units: kp in % of MV per % of PV span, ti/td in seconds. Extra fields are
+ * ignored so a fuller loop record can be passed as it is.
+ */
+import { z } from "zod";
+
+const finite = z.number().refine(Number.isFinite, "must be a finite number");
+
+export const controllerConfigSchema = z.object({
+  kp: finite.refine((v) => v >= 0, "must be >= 0"),
+  /** Integral time, s; null or 0 for none. */
+  ti: finite.refine((v) => v >= 0, "must be >= 0").nullable().optional().default(null),
+  td: finite.refine((v) => v >= 0, "must be >= 0").nullable().optional().default(0),
+  action: z.enum(["reverse", "direct"]).default("reverse"),
+  mvLo: finite.default(0),
+  mvHi: finite.default(100),
+  form: z.enum(["ideal", "parallel", "series"]).default("ideal"),
+  derivativeOn: z.enum(["pv", "error"]).default("pv"),
+  derivativeFilterS: finite.refine((v) => v >= 0, "must be >= 0").nullable().optional().default(null),
+});
+
+export const loopConfigSchema = z
+  .object({
+    tag: z.string().default(""),
+    description: z.string().default(""),
+    kind: z.enum(["flow", "level", "pressure", "temperature", "other"]).default("other"),
+    units: z.string().default(""),
+    pvLo: finite,
+    pvHi: finite,
+    samplePeriodS: finite.refine((v) => v > 0, "must be > 0"),
+    /** Known transport delay, s (from the process or a step test). */
+    deadTimeS: finite.refine((v) => v >= 0, "must be >= 0").nullable().optional().default(null),
+    normalMode: z.enum(["auto", "cascade"]).default("auto"),
+    controller: controllerConfigSchema,
+  })
+  .refine((c) => c.pvHi > c.pvLo, { message: "pvHi must be greater than pvLo", path: ["pvHi"] })
+  .refine((c) => c.controller.mvHi > c.controller.mvLo, { message: "mvHi must be greater than mvLo", path: ["controller", "mvHi"] });
+
+export type LoopConfig = z.infer<typeof loopConfigSchema>;
+export type LoopConfigInput = z.input<typeof loopConfigSchema>;
+
+export class LoopConfigError extends Error {
+  constructor(readonly issues: string[]) {
+    super(`Loop configuration: ${issues.join("; ")}`);
+    this.name = "LoopConfigError";
+  }
+}
+
+/** Checks a parsed JSON value; throws LoopConfigError naming each field at fault. */
+export function parseLoopConfig(value: unknown): LoopConfig {
+  const r = loopConfigSchema.safeParse(value);
+  if (r.success) return r.data;
+  throw new LoopConfigError(r.error.issues.map((i) => `${i.path.length ? i.path.join(".") : "(root)"}: ${i.message}`));
+}
+
+/** Integral time in s, or null when the controller has no integral action. */
+export function integralTime(c: LoopConfig): number | null {
+  const ti = c.controller.ti;
+  return ti !== null && ti !== undefined && ti > 0 && Number.isFinite(ti) ? ti : null;
+}
+
+/** True for loops whose process integrates (level), where PV increments replace PV (Horch). */
+export function isIntegrating(c: LoopConfig): boolean {
+  return c.kind === "level";
+}

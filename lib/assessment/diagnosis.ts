@@ -1,0 +1,154 @@
+/**
+ * From figures to one finding with its evidence. Order of the checks (common practice: rule out
+ * what invalidates the others first): too little data -> sensor fault -> manual -> saturated ->
+ * oscillation (from outside, stiction, tuning, outside again) -> ringing without a sustained
+ * oscillation (aggressive) -> sluggish (idle index, Harris) -> healthy. Every threshold is ours
+ * unless a source is named; all figures are scale-free (shares, ratios, correlations, periods
+ * relative to the loop's own time scale), so the rules do not depend on units or tags.
+ */
+import { fmt } from "./oscillation";
+import type { SensorFigures } from "./sensor";
+import type { Diagnosis, StictionFigures } from "./types";
+
+export interface DiagnosisInput {
+  spanS: number;
+  /** Data time the loop's time scale asks for, s. */
+  neededS: number;
+  timeScaleS: number;
+  sensor: SensorFigures;
+  manual: number;
+  hasMode: boolean;
+  /** Share of the time the output is held exactly while PV moves (see usage.ts). */
+  heldOutput: number;
+  saturation: number;
+  oscillation: { detected: boolean; periodS: number | null; regularity: number | null; persistence: number | null; amplitudePct: number | null };
+  oscillationInManual: boolean | null;
+  spOscillates: boolean;
+  stiction: StictionFigures & { curveFitIndex: number | null };
+  compressed: boolean;
+  harrisIndex: number | null;
+  idleIndex: number | null;
+  disturbanceDecayRatio: number | null;
+  /** Most negative error ACF within 1.5 periods of its dominant mode (ringing), null without one. */
+  ringDepth: number | null;
+  /** The ACF dip relative to its lag-1 value (white noise removed): how far the error swings back; null without a dominant mode. */
+  overshoot: number | null;
+  noisePct: number;
+}
+
+/** Per-period ACF ratio above which an oscillation counts as sustained (a damped mode decays). */
+const SUSTAINED = 0.93;
+/** ACF dip below which a decaying mode reads as aggressive tuning (ours). */
+const AGGRESSIVE_RING = -0.35;
+/** Harris index above which a loop without oscillation reads as sluggish (ours). */
+const SLUGGISH_HARRIS = 3;
+/** Relative ACF dip below which the error never swings back (ours). */
+const NO_SWING = 0.08;
+
+const clamp = (v: number, lo = 0.3, hi = 0.95) => Math.min(hi, Math.max(lo, v));
+
+export function diagnose(x: DiagnosisInput): Diagnosis {
+  const sf = x.sensor;
+  if (sf.badQuality > 0.05) return { label: "sensor-fault", confidence: clamp(0.6 + sf.badQuality), evidence: [`likely a measurement fault: ${pct(sf.badQuality)} of samples have bad quality`] };
+  if (x.manual > 0.5) return { label: "manual", confidence: clamp(x.manual), evidence: [`likely not in service: in manual ${pct(x.manual)} of the time`] };
+  if (!x.hasMode && x.heldOutput > 0.5) {
+    return {
+      label: "manual",
+      confidence: clamp(x.heldOutput - 0.1),
+      evidence: [`likely in manual: the output stays exactly constant while PV moves ${pct(x.heldOutput)} of the time (the export has no mode column)`],
+    };
+  }
+  if (sf.flatShare > 0.05) {
+    return {
+      label: "sensor-fault",
+      confidence: clamp(0.6 + sf.flatShare),
+      evidence: [`likely a frozen measurement or a fault value: PV stays exactly constant for ${pct(sf.flatShare)} of the time (longest ${fmt(sf.longestFlatS, 0)} s), far longer than its noise allows`],
+    };
+  }
+  if (sf.outOfRange > 0.03) {
+    return { label: "sensor-fault", confidence: clamp(0.6 + sf.outOfRange), evidence: [`likely a measurement fault: PV leaves its range while the output is still free, ${pct(sf.outOfRange)} of the time`] };
+  }
+  if (x.saturation > 0.2) return { label: "saturated", confidence: clamp(0.5 + x.saturation), evidence: [`likely saturated: MV at a limit ${pct(x.saturation)} of the time, the loop cannot act`] };
+  const periods = x.oscillation.periodS ? x.spanS / x.oscillation.periodS : 0;
+  const enoughForOscillation = x.oscillation.detected && periods >= 5;
+  if (x.spanS < x.neededS && !enoughForOscillation) {
+    return {
+      label: "undetermined",
+      confidence: 0,
+      evidence: [`${fmt(x.spanS, 0)} s of data; this loop needs about ${fmt(x.neededS, 0)} s for a verdict from routine data (its time scale is ${fmt(x.timeScaleS, 0)} s)`],
+      reason: "too little data for the loop's time scale",
+      needsS: Math.ceil(x.neededS - x.spanS),
+    };
+  }
+
+  const osc = x.oscillation;
+  const persistence = osc.persistence;
+  if (osc.detected) {
+    const oscLine = `oscillation with period ${fmt(osc.periodS, 1)} s, regularity ${fmt(osc.regularity)} (Thornhill et al. 2003)`;
+    if (x.oscillationInManual) {
+      return { label: "external-disturbance", confidence: 0.85, evidence: [`likely an oscillation from outside: it persists while the loop is in manual`, oscLine] };
+    }
+    if (x.spOscillates) {
+      return { label: "external-disturbance", confidence: 0.7, evidence: ["likely an oscillation from outside: the set point itself oscillates (e.g. from a master loop)", oscLine] };
+    }
+    if (x.stiction.verdict === "likely") {
+      return { label: "valve-stiction", confidence: stictionConfidence(x, 0.6), evidence: [...x.stiction.evidence.slice(0, 1), oscLine, ...x.stiction.evidence.slice(1)] };
+    }
+    const sustained = persistence !== null && persistence > SUSTAINED;
+    if (sustained) {
+      return {
+        label: "external-disturbance",
+        confidence: clamp(0.5 + 3 * (persistence! - SUSTAINED)),
+        evidence: [
+          "likely an oscillation from outside: the cycle does not decay (a stable loop's own mode would), and its shape is not a stick-slip cycle",
+          oscLine,
+          `autocorrelation kept ${fmt(persistence)} of its height from one period to the next`,
+          ...x.stiction.evidence,
+        ],
+      };
+    }
+    return {
+      label: "aggressive-tuning",
+      confidence: clamp(0.5 + 0.5 * (1 - (persistence ?? 0.5))),
+      evidence: ["likely aggressive tuning: a regular, decaying (linear) oscillation of the loop's own mode", oscLine, ...x.stiction.evidence],
+    };
+  }
+  if (x.ringDepth !== null && x.ringDepth < -0.15) {
+    if (x.stiction.verdict === "likely") {
+      return { label: "valve-stiction", confidence: stictionConfidence(x, 0.5), evidence: [...x.stiction.evidence.slice(0, 1), `irregular cycles of about ${fmt(osc.periodS, 1)} s`, ...x.stiction.evidence.slice(1)] };
+    }
+    if (x.ringDepth < AGGRESSIVE_RING) {
+      return {
+        label: "aggressive-tuning",
+        confidence: clamp(0.4 + (AGGRESSIVE_RING - x.ringDepth)),
+        evidence: [`likely aggressive tuning: the error rings after disturbances (its autocorrelation dips to ${fmt(x.ringDepth)} within a period of about ${fmt(osc.periodS, 1)} s) without a stick-slip shape`, ...x.stiction.evidence],
+      };
+    }
+  }
+  const idle = x.idleIndex;
+  const harris = x.harrisIndex;
+  const noSwing = x.overshoot !== null && x.overshoot < NO_SWING;
+  if ((harris !== null && harris > SLUGGISH_HARRIS) || noSwing || (idle !== null && idle > 0.6)) {
+    const ev = ["likely sluggish tuning: no oscillation, and the loop removes its disturbances slowly"];
+    if (harris !== null) ev.push(`variance ${fmt(harris, 1)}× the minimum the dead time allows (Harris index; a well-tuned PI loop is typically within 1–3, common practice)`);
+    if (noSwing) ev.push(`the error hardly swings back past the set point after a disturbance (autocorrelation dip ${fmt(-x.overshoot!)} of its lag-1 value): an overdamped, slow recovery`);
+    if (idle !== null) ev.push(`idle index ${fmt(idle)} (near +1 sluggish; Hägglund 1999)`);
+    const votes = (harris !== null && harris > SLUGGISH_HARRIS ? 1 : 0) + (noSwing ? 1 : 0) + (idle !== null && idle > 0.6 ? 1 : 0);
+    return { label: "sluggish-tuning", confidence: clamp(0.45 + 0.2 * votes), evidence: ev };
+  }
+  const ev = ["likely healthy: no oscillation, no stiction sign, the error does not ring"];
+  if (idle !== null) ev.push(`idle index ${fmt(idle)} (not sluggish; Hägglund 1999)`);
+  if (harris !== null) ev.push(`variance ${fmt(harris, 1)}× the minimum for the dead time (Harris index)`);
+  return { label: "healthy", confidence: clamp(0.6 + (idle !== null ? 0.1 : 0) + (harris !== null && harris < 3 ? 0.1 : 0)), evidence: ev };
+}
+
+/** Higher with a more triangular shape; lower when the cross-correlation reads even. */
+function stictionConfidence(x: DiagnosisInput, base: number): number {
+  const shape = (x.stiction.curveFitIndex ?? 0.6) - 0.6;
+  const even = x.stiction.evidence.some((e) => e.includes("reads even"));
+  return clamp(base + shape - (even ? 0.1 : 0));
+}
+
+function pct(v: number): string {
+  return `${(100 * v).toFixed(0)} %`;
+}

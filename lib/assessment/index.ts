@@ -1,0 +1,252 @@
+/**
+ * Routine-data assessment of one loop (pure, browser-safe): `assessLoop(samples, config)` turns
+ * a window of samples into the report of the `assess` command. The methods and their sources are
+ * named in each file and in docs/assessment.md.
+ */
+import { countExcitation, disturbanceResponse, estimationFactor, ownClosedLoopPoles } from "./closed-loop";
+import { detectCompression } from "./compression";
+import { integralTime, isIntegrating, type LoopConfig } from "./config";
+import { diagnose } from "./diagnosis";
+import { harrisIndex } from "./harris";
+import { countLoadDisturbances, detectOscillation, oscillatesAt } from "./oscillation";
+import { autocorrelation, variance } from "./signal";
+import { sensorFigures } from "./sensor";
+import { idleIndex } from "./sluggishness";
+import { assessStiction } from "./stiction";
+import type { AssessSample, LoopAssessmentReport } from "./types";
+import { computeUsage } from "./usage";
+import { buildWindow, constantSpStretches, isClosed } from "./window";
+
+export * from "./types";
+export { parseLoopConfig, loopConfigSchema, LoopConfigError, type LoopConfig, type LoopConfigInput } from "./config";
+export { parseAssessCsv, AssessCsvError, type ParsedAssessCsv } from "./csv";
+export { buildWindow, type AssessWindow } from "./window";
+
+/** Data span wanted, in multiples of the loop's time scale (Ti or dead time), or of the error's decorrelation time; ours. */
+const SPAN_FACTOR = 20;
+const DECORRELATIONS = 30;
+/** ACF depth below which the error counts as ringing (ours). */
+const RING_DEPTH = -0.15;
+
+function sortSamples(samples: readonly AssessSample[]): readonly AssessSample[] {
+  for (let i = 1; i < samples.length; i++) if (!(samples[i]!.t > samples[i - 1]!.t)) return [...samples].sort((a, b) => a.t - b.t).filter((s, i, a) => i === 0 || s.t > a[i - 1]!.t);
+  return samples;
+}
+
+/** Assessment of a loop from a window of samples (irregular spacing allowed). */
+export function assessLoop(input: readonly AssessSample[], config: LoopConfig): LoopAssessmentReport {
+  const samples = sortSamples(input);
+  const w = buildWindow(samples, config);
+  const cautions: string[] = [];
+  const usage = computeUsage(w, config);
+  const compression = detectCompression(samples, config, w.rawSpacing, usage.pvNoisePct);
+  if (compression.compressed) cautions.push(`The export looks compressed or quantised (${compression.reasons.join("; ")}): stiction and Harris figures are withheld, variances may be low.`);
+  if (w.rawSpacing > 1.5 * config.samplePeriodS && !compression.compressed) cautions.push(`Stored points are ${(w.rawSpacing / config.samplePeriodS).toFixed(1)}× the loop's sample period apart; fast dynamics are not seen.`);
+  if (w.gapShare > 0.01) cautions.push(`The export has gaps (${(100 * w.gapShare).toFixed(0)} % of the span without data); figures use the data on either side only.`);
+  const ti = integralTime(config);
+  const integrating = isIntegrating(config);
+
+  // Closed-loop, good samples.
+  const include = new Uint8Array(w.n);
+  let closedCount = 0;
+  for (let i = 0; i < w.n; i++) if (w.good[i] && isClosed(w, i)) {
+    include[i] = 1;
+    closedCount++;
+  }
+  // Error with excluded samples at its closed-loop mean (so the ACF is not torn by manual stretches).
+  let emean = 0;
+  for (let i = 0; i < w.n; i++) if (include[i]) emean += w.e[i]!;
+  emean = closedCount ? emean / closedCount : 0;
+  const eClosed = new Float64Array(w.n);
+  for (let i = 0; i < w.n; i++) eClosed[i] = include[i] ? w.e[i]! : emean;
+
+  const acfFull = autocorrelation(eClosed, Math.floor(w.n * 0.6));
+  const osc = detectOscillation(eClosed, w.T, { acf: acfFull });
+  const periodSamples = osc.periodS ? osc.periodS / w.T : null;
+  // Oscillation while in manual (outside cause): PV of the manual stretches, at the same period.
+  let oscillationInManual: boolean | null = null;
+  if (osc.detected && periodSamples && w.hasMode) {
+    let s = -1;
+    for (let i = 0; i <= w.n; i++) {
+      const man = i < w.n && w.good[i] && !isClosed(w, i);
+      if (man && s < 0) s = i;
+      else if (!man && s >= 0) {
+        if (i - s >= 3 * periodSamples) oscillationInManual = (oscillationInManual ?? false) || oscillatesAt(w.pvPct, s, i, periodSamples);
+        s = -1;
+      }
+    }
+  }
+  const spVar = variance(w.sp);
+  const spOscillates = osc.detected && periodSamples !== null && spVar > 0 && oscillatesAt(w.sp, 0, w.n, periodSamples);
+
+  // Ringing: the error's ACF dips well below zero within one and a half periods (a decaying
+  // mode, or an irregular cycle), even when the oscillation test above does not fire.
+  // Measured against the lag-1 value, so white measurement noise (which lowers every lag > 0
+  // alike) does not hide the ringing of the loop.
+  const acfLag1 = Math.max(acfFull[1] ?? 0, 0.05);
+  let ringDepth = 0;
+  if (periodSamples) for (let k = 1; k < Math.min(acfFull.length, Math.ceil(1.5 * periodSamples)); k++) ringDepth = Math.min(ringDepth, acfFull[k]!);
+  const overshoot = periodSamples ? Math.max(0, -ringDepth / acfLag1) : null;
+  const ringing = periodSamples !== null && ringDepth < RING_DEPTH;
+  const stiction = assessStiction({
+    pv: w.pvPct,
+    mv: w.mv,
+    include,
+    T: w.T,
+    periodS: osc.periodS,
+    oscillating: osc.detected || ringing,
+    ringingOnly: !osc.detected,
+    integrating,
+    ti,
+    compressed: compression.compressed,
+    outsideOscillation: oscillationInManual === true || spOscillates,
+  });
+
+  // Harris index over constant-SP stretches.
+  // The loop's time scale: its integral time, but no more than ten dead times when the dead time
+  // is known (a sluggish loop's long Ti says little about how fast the process is).
+  const dead = config.deadTimeS ?? null;
+  const timeScale = (dead !== null && dead > 0 ? Math.max(dead, Math.min(ti ?? Infinity, 10 * dead)) : ti) ?? 10 * config.samplePeriodS;
+  const minStretch = Math.max(50, Math.ceil((2 * timeScale) / w.T));
+  const stretches = constantSpStretches(w, Math.min(minStretch, Math.max(50, Math.floor(w.n / 4))));
+  let harris: LoopAssessmentReport["harrisIndex"] = null;
+  let harrisDetail: LoopAssessmentReport["details"]["harris"] = null;
+  if (config.deadTimeS === null || config.deadTimeS === undefined) cautions.push("No dead time configured: the Harris index needs it (dead time cannot be told from routine closed-loop data; take it from a step test).");
+  else if (compression.compressed) cautions.push("Harris index withheld: compressed data bias variances.");
+  else {
+    const b = Math.floor(config.deadTimeS / w.T) + 1;
+    const h = harrisIndex(w.e, stretches, b);
+    if (h) {
+      harris = h.index;
+      harrisDetail = { delaySamples: h.delaySamples, samplesUsed: h.samplesUsed, periodS: w.T };
+      if (w.T > config.samplePeriodS * 1.01) cautions.push(`Harris index computed at the export's ${w.T} s spacing, coarser than the loop's ${config.samplePeriodS} s.`);
+    } else cautions.push("Harris index: too few constant-set-point samples in closed loop.");
+  }
+
+  // Idle index (Hägglund 1999).
+  const idle = idleIndex({
+    pv: w.pvPct,
+    mv: w.mv,
+    e: w.e,
+    include: stretchMask(w.n, stretches),
+    T: w.T,
+    filterS: Math.max(3 * w.T, timeScale / 5),
+    gainSign: config.controller.action === "reverse" ? 1 : -1,
+    pvNoise: usage.pvNoisePct,
+    mvNoise: usage.mvNoise,
+  });
+  const load = ti !== null || osc.periodS ? countLoadDisturbances(w.e, w.T, ti ?? osc.periodS!, include) : null;
+
+  // Closed-loop dynamics.
+  const d = estimationFactor(w, config);
+  const excitation = countExcitation(w, Math.max(3 * usage.noiseBand, 0.005 * w.pvSpan), Math.max(1, 6 * usage.mvNoise));
+  let own = null;
+  if (excitation.spMoves >= 2 || excitation.manualMoves >= 2) own = ownClosedLoopPoles(w, config, d);
+  // Cross-check: the period of the loop's own dominant oscillating pole, 2π·T/|arg z| (where a
+  // model exists), against the oscillation's period.
+  let ownPeriodS: number | null = null;
+  if (own) {
+    let best = -1;
+    for (const p of own.poles) {
+      const r = Math.hypot(p.re, p.im);
+      if (Math.abs(p.im) > 1e-9 && r > best) {
+        best = r;
+        ownPeriodS = (2 * Math.PI * config.samplePeriodS) / Math.abs(Math.atan2(p.im, p.re));
+      }
+    }
+    if (osc.detected && osc.periodS && ownPeriodS) {
+      const ratio = osc.periodS / ownPeriodS;
+      cautions.push(
+        Math.abs(ratio - 1) <= 0.2
+          ? `The oscillation's period (${osc.periodS.toFixed(1)} s) matches the loop's own dominant mode as identified (${ownPeriodS.toFixed(1)} s): the loop's tuning likely takes part in it (an outside oscillation in the data can bias that identification).`
+          : `The oscillation's period (${osc.periodS.toFixed(1)} s) differs from the loop's own dominant mode as identified (${ownPeriodS.toFixed(1)} s): likely not the loop's own linear mode.`,
+      );
+    }
+  }
+  if (!own) cautions.push("The loop's own closed-loop poles need set-point moves (or output moves in manual); routine data at a constant set point do not identify them.");
+  const dist = disturbanceResponse(w.e, stretches, w.T, config.samplePeriodS, d);
+  if (dist) cautions.push("disturbanceResponse: poles of an AR model of the control error in routine operation; they mix the loop's response with the disturbance's own dynamics and are not the loop's poles.");
+
+  const acf = acfFull.subarray(0, Math.min(acfFull.length, Math.max(20, Math.round((osc.periodS ?? timeScale * 2) / w.T) * 2)));
+
+  const sensor = sensorFigures(w, config, compression.repeatShare);
+  // Data span: enough when it covers SPAN_FACTOR loop time scales, or when the error decorrelates
+  // within a thirtieth of the span (many independent stretches: judged from the data themselves).
+  let decorrelation = acfFull.length;
+  const r1 = acfFull[1] ?? 0;
+  for (let k = 1; k < acfFull.length; k++) if (acfFull[k]! < 0.37 * Math.max(r1, 0)) {
+    decorrelation = k;
+    break;
+  }
+  const decorrelationS = decorrelation * w.T;
+  const neededS = Math.max(Math.min(SPAN_FACTOR * timeScale, DECORRELATIONS * decorrelationS), 200 * config.samplePeriodS, 4 * decorrelationS);
+
+  const diagnosis = diagnose({
+    spanS: w.spanS,
+    neededS,
+    timeScaleS: timeScale,
+    sensor,
+    manual: usage.manual,
+    hasMode: w.hasMode,
+    heldOutput: usage.heldOutput,
+    saturation: usage.saturation,
+    oscillation: { ...osc, amplitudePct: osc.amplitude },
+    oscillationInManual,
+    spOscillates,
+    stiction: { ...stiction, curveFitIndex: stiction.tests.curveFit.index },
+    compressed: compression.compressed,
+    harrisIndex: harris,
+    idleIndex: idle?.index ?? null,
+    disturbanceDecayRatio: dist?.decayRatio ?? null,
+    ringDepth: periodSamples ? ringDepth : null,
+    overshoot,
+    noisePct: usage.pvNoisePct,
+  });
+
+  return {
+    samples: w.samples,
+    spanS: w.spanS,
+    serviceFactor: usage.serviceFactor,
+    manual: usage.manual,
+    saturation: usage.saturation,
+    oscillation: {
+      detected: osc.detected,
+      periodS: osc.detected ? osc.periodS : null,
+      regularity: osc.regularity,
+      amplitude: osc.detected && osc.amplitude !== null ? (osc.amplitude * w.pvSpan) / 100 : null,
+    },
+    stiction: { verdict: stiction.verdict, evidence: stiction.evidence },
+    harrisIndex: harris,
+    spectralRadius: own?.spectralRadius ?? null,
+    decayRatio: own?.decayRatio ?? null,
+    poles: own?.poles ?? [],
+    disturbanceResponse: dist ? { poles: dist.poles, spectralRadius: dist.spectralRadius } : null,
+    diagnosis,
+    cautions,
+    details: {
+      analysisPeriodS: w.T,
+      idleIndex: idle?.index ?? null,
+      loadDisturbances: load ? { count: load.count, supervisionS: load.supervisionS, iaeLimit: load.iaeLimit, rate: load.rate } : null,
+      badQuality: w.badQualityShare,
+      valveTravelPctPerHour: usage.valveTravelPctPerHour,
+      valveReversalsPerHour: usage.valveReversalsPerHour,
+      noiseBand: usage.noiseBand,
+      compression,
+      stictionTests: stiction.tests,
+      harris: harrisDetail,
+      oscillationInManual,
+      dominantPeriodS: osc.periodS,
+      ownModePeriodS: ownPeriodS,
+      errorDecorrelationS: decorrelation < acfFull.length ? decorrelationS : null,
+      ringDepth: periodSamples ? ringDepth : null,
+      disturbanceDecayRatio: dist?.decayRatio ?? null,
+      errorAcf: Array.from(acf.subarray(0, Math.min(acf.length, 400)), (v) => Math.round(v * 1e4) / 1e4),
+    },
+  };
+}
+
+function stretchMask(n: number, stretches: readonly [number, number][]): Uint8Array {
+  const m = new Uint8Array(n);
+  for (const [s, e] of stretches) m.fill(1, s, e);
+  return m;
+}

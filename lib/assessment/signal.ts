@@ -1,0 +1,195 @@
+/**
+ * Signal helpers for the assessment (typed arrays, no allocation in inner loops): an in-place
+ * radix-2 FFT, the autocorrelation by FFT (Wiener–Khinchin), robust noise sigma, Levinson–Durbin.
+ */
+
+/** In-place iterative radix-2 FFT (Cooley–Tukey); re/im length must be a power of two. */
+export function fftInPlace(re: Float64Array, im: Float64Array, inverse = false): void {
+  const n = re.length;
+  for (let i = 1, j = 0; i < n; i++) {
+    let bit = n >> 1;
+    for (; j & bit; bit >>= 1) j ^= bit;
+    j ^= bit;
+    if (i < j) {
+      let t = re[i]!;
+      re[i] = re[j]!;
+      re[j] = t;
+      t = im[i]!;
+      im[i] = im[j]!;
+      im[j] = t;
+    }
+  }
+  for (let len = 2; len <= n; len <<= 1) {
+    const ang = ((inverse ? 2 : -2) * Math.PI) / len;
+    const wr = Math.cos(ang);
+    const wi = Math.sin(ang);
+    const half = len >> 1;
+    for (let i = 0; i < n; i += len) {
+      let cr = 1;
+      let ci = 0;
+      for (let k = 0; k < half; k++) {
+        const a = i + k;
+        const b = a + half;
+        const xr = re[b]! * cr - im[b]! * ci;
+        const xi = re[b]! * ci + im[b]! * cr;
+        re[b] = re[a]! - xr;
+        im[b] = im[a]! - xi;
+        re[a] = re[a]! + xr;
+        im[a] = im[a]! + xi;
+        const ncr = cr * wr - ci * wi;
+        ci = cr * wi + ci * wr;
+        cr = ncr;
+      }
+    }
+  }
+  if (inverse) {
+    for (let i = 0; i < n; i++) {
+      re[i] = re[i]! / n;
+      im[i] = im[i]! / n;
+    }
+  }
+}
+
+function nextPow2(n: number): number {
+  let p = 1;
+  while (p < n) p <<= 1;
+  return p;
+}
+
+/**
+ * Biased autocovariance c(k) = (1/N) Σ x(t) x(t+k), k = 0..maxLag, of the mean-removed signal,
+ * by FFT with zero padding (no circular wrap).
+ */
+export function autocovariance(x: ArrayLike<number>, maxLag: number): Float64Array {
+  const n = x.length;
+  const lags = Math.max(0, Math.min(maxLag, n - 1));
+  let mean = 0;
+  for (let i = 0; i < n; i++) mean += x[i]!;
+  mean /= n || 1;
+  const m = nextPow2(n + lags + 1);
+  const re = new Float64Array(m);
+  const im = new Float64Array(m);
+  for (let i = 0; i < n; i++) re[i] = x[i]! - mean;
+  fftInPlace(re, im);
+  for (let i = 0; i < m; i++) {
+    re[i] = re[i]! * re[i]! + im[i]! * im[i]!;
+    im[i] = 0;
+  }
+  fftInPlace(re, im, true);
+  const out = new Float64Array(lags + 1);
+  for (let k = 0; k <= lags; k++) out[k] = re[k]! / n;
+  return out;
+}
+
+/** Autocorrelation r(k) = c(k)/c(0); all zeros for a constant signal. */
+export function autocorrelation(x: ArrayLike<number>, maxLag: number): Float64Array {
+  const c = autocovariance(x, maxLag);
+  const c0 = c[0]!;
+  if (!(c0 > 0)) return new Float64Array(c.length);
+  for (let k = 0; k < c.length; k++) c[k] = c[k]! / c0;
+  return c;
+}
+
+/** Biased cross-covariance c_xy(k) = (1/N) Σ x(t) y(t+k) for k = -maxLag..maxLag (index k + maxLag). */
+export function crossCovariance(x: ArrayLike<number>, y: ArrayLike<number>, maxLag: number): Float64Array {
+  const n = Math.min(x.length, y.length);
+  const lags = Math.max(0, Math.min(maxLag, n - 1));
+  let mx = 0;
+  let my = 0;
+  for (let i = 0; i < n; i++) {
+    mx += x[i]!;
+    my += y[i]!;
+  }
+  mx /= n || 1;
+  my /= n || 1;
+  const m = nextPow2(n + lags + 1);
+  const ar = new Float64Array(m);
+  const ai = new Float64Array(m);
+  const br = new Float64Array(m);
+  const bi = new Float64Array(m);
+  for (let i = 0; i < n; i++) {
+    ar[i] = x[i]! - mx;
+    br[i] = y[i]! - my;
+  }
+  fftInPlace(ar, ai);
+  fftInPlace(br, bi);
+  // conj(X) * Y -> sum x(t) y(t+k)
+  for (let i = 0; i < m; i++) {
+    const r = ar[i]! * br[i]! + ai[i]! * bi[i]!;
+    const im = ar[i]! * bi[i]! - ai[i]! * br[i]!;
+    ar[i] = r;
+    ai[i] = im;
+  }
+  fftInPlace(ar, ai, true);
+  const out = new Float64Array(2 * lags + 1);
+  for (let k = -lags; k <= lags; k++) out[k + lags] = ar[(k + m) % m]! / n;
+  return out;
+}
+
+export function mean(x: ArrayLike<number>, from = 0, to = x.length): number {
+  let s = 0;
+  for (let i = from; i < to; i++) s += x[i]!;
+  return to > from ? s / (to - from) : 0;
+}
+
+export function variance(x: ArrayLike<number>, from = 0, to = x.length): number {
+  const m = mean(x, from, to);
+  let s = 0;
+  for (let i = from; i < to; i++) s += (x[i]! - m) ** 2;
+  return to - from > 1 ? s / (to - from) : 0;
+}
+
+/** Median of a copy (NaN-free input). */
+export function median(values: ArrayLike<number>): number {
+  const a = Float64Array.from(values as ArrayLike<number>).sort();
+  if (a.length === 0) return NaN;
+  const h = a.length >> 1;
+  return a.length % 2 ? a[h]! : (a[h - 1]! + a[h]!) / 2;
+}
+
+/**
+ * Sigma of the fast (sample-to-sample) noise: 1.4826 MAD of first differences / √2, robust to
+ * slow moves and steps (a common robust scale estimate; Hampel's MAD constant).
+ */
+export function noiseSigma(x: ArrayLike<number>): number {
+  const n = x.length;
+  if (n < 3) return 0;
+  const d = new Float64Array(n - 1);
+  for (let i = 1; i < n; i++) d[i - 1] = x[i]! - x[i - 1]!;
+  const med = median(d);
+  for (let i = 0; i < d.length; i++) d[i] = Math.abs(d[i]! - med);
+  const mad = median(d);
+  if (mad > 0) return (1.4826 * mad) / Math.SQRT2;
+  // Most differences are zero (held or quantised data): fall back to the RMS difference.
+  let s = 0;
+  for (let i = 0; i < d.length; i++) s += d[i]! * d[i]!;
+  return Math.sqrt(s / d.length) / Math.SQRT2;
+}
+
+/**
+ * Levinson–Durbin recursion on autocovariances c(0..p): AR coefficients a1..ap of
+ * x(t) + a1 x(t-1) + ... + ap x(t-p) = e(t) and the prediction-error variance per order
+ * (Box, Jenkins & Reinsel, Time Series Analysis, Yule–Walker equations).
+ */
+export function levinson(c: ArrayLike<number>, p: number): { a: Float64Array; errorVariance: Float64Array } {
+  const a = new Float64Array(p);
+  const prev = new Float64Array(p);
+  const ev = new Float64Array(p + 1);
+  let err = c[0]!;
+  ev[0] = err;
+  for (let k = 1; k <= p; k++) {
+    if (!(err > 0)) {
+      for (let j = k; j <= p; j++) ev[j] = err;
+      break;
+    }
+    let acc = c[k]!;
+    for (let j = 1; j < k; j++) acc += a[j - 1]! * c[k - j]!;
+    const refl = -acc / err;
+    prev.set(a);
+    for (let j = 1; j < k; j++) a[j - 1] = prev[j - 1]! + refl * prev[k - j - 1]!;
+    a[k - 1] = refl;
+    err *= 1 - refl * refl;
+    ev[k] = err;
+  }
+  return { a, errorVariance: ev };
+}

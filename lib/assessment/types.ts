@@ -1,0 +1,135 @@
+/**
+ * Shapes of the routine-data assessment (the offline `assess` command and, later, the live
+ * tracker use the same ones). Units: time in seconds, SP/PV in the loop's engineering units, MV
+ * in % of output.
+ */
+import type { Complex } from "@/lib/control";
+
+export type AssessMode = "auto" | "manual" | "cascade";
+export type AssessQuality = "good" | "bad" | "uncertain";
+
+/** One historian sample (irregular spacing allowed). */
+export interface AssessSample {
+  /** Seconds (any origin; strictly increasing). */
+  t: number;
+  sp: number;
+  pv: number;
+  mv: number;
+  mode?: AssessMode;
+  quality?: AssessQuality;
+}
+
+export interface OscillationFigures {
+  detected: boolean;
+  periodS: number | null;
+  /** Thornhill, Huang & Zhang 2003 regularity r (regular when r > 1). */
+  regularity: number | null;
+  /** Amplitude of the control error's oscillation, PV engineering units. */
+  amplitude: number | null;
+}
+
+export type StictionVerdict = "likely" | "unlikely" | "undetermined";
+
+export interface StictionFigures {
+  verdict: StictionVerdict;
+  evidence: string[];
+}
+
+export interface DisturbanceResponse {
+  poles: Complex[];
+  spectralRadius: number | null;
+}
+
+export type DiagnosisLabel =
+  | "healthy"
+  | "aggressive-tuning"
+  | "sluggish-tuning"
+  | "valve-stiction"
+  | "external-disturbance"
+  | "saturated"
+  | "sensor-fault"
+  | "manual"
+  | "undetermined";
+
+export interface Diagnosis {
+  label: DiagnosisLabel;
+  /** 0..1; the evidence lines say "likely ..." and never state a certainty. */
+  confidence: number;
+  evidence: string[];
+  /** For "undetermined": why. */
+  reason?: string;
+  /** For "undetermined": more data time needed, s (when more data would help). */
+  needsS?: number;
+}
+
+/** The contract object (names and shapes are checked from outside; extra fields are welcome). */
+export interface LoopAssessmentReport {
+  samples: number;
+  spanS: number;
+  serviceFactor: number | null;
+  manual: number;
+  saturation: number;
+  oscillation: OscillationFigures;
+  stiction: StictionFigures;
+  harrisIndex: number | null;
+  spectralRadius: number | null;
+  decayRatio: number | null;
+  poles: Complex[];
+  disturbanceResponse: DisturbanceResponse | null;
+  diagnosis: Diagnosis;
+  cautions: string[];
+  /** Extra figures beyond the contract. */
+  details: AssessmentDetails;
+}
+
+export interface AssessmentDetails {
+  /** Period of the uniform grid the figures were computed on, s. */
+  analysisPeriodS: number;
+  /** Hägglund 1999 idle index, -1..1 (near +1: sluggish), null when too few load disturbances. */
+  idleIndex: number | null;
+  /** Hägglund 1995: load disturbances (IAE between zero crossings above the limit) per supervision time. */
+  loadDisturbances: { count: number; supervisionS: number; iaeLimit: number; rate: number } | null;
+  /** Share of time with quality bad, 0..1. */
+  badQuality: number;
+  valveTravelPctPerHour: number;
+  valveReversalsPerHour: number;
+  /** ±3σ of the PV's high-frequency noise, PV engineering units. */
+  noiseBand: number;
+  compression: CompressionFigures;
+  /** Horch 1999 cross-correlation test and He et al. 2007 curve-fit test. */
+  stictionTests: StictionTests;
+  /** Harris index inputs: delay b in samples and the constant-SP samples used. */
+  harris: { delaySamples: number; samplesUsed: number; periodS: number } | null;
+  /** Oscillation also seen while the loop was in manual (Hägglund's outside-oscillation sign). */
+  oscillationInManual: boolean | null;
+  /** Period of the error's dominant mode from its ACF zero crossings, s (also when not an oscillation). */
+  dominantPeriodS: number | null;
+  /** Period of the loop's own dominant oscillating pole, 2π·samplePeriodS/|arg z|, s (null without own poles or a complex one). */
+  ownModePeriodS: number | null;
+  /** Lag at which the error's ACF falls below 0.37 of its lag-1 value, s (its decorrelation time). */
+  errorDecorrelationS: number | null;
+  /** Lowest error ACF within 1.5 dominant periods (below about -0.2: the error rings). */
+  ringDepth: number | null;
+  /** Decay ratio of the dominant disturbance-response pole (period-invariant), null when real. */
+  disturbanceDecayRatio: number | null;
+  /** Autocorrelation of the control error (first lags, at analysisPeriodS), for the evidence plot. */
+  errorAcf: number[];
+}
+
+export interface CompressionFigures {
+  compressed: boolean;
+  /** Share of PV samples equal to the previous one. */
+  repeatShare: number;
+  /** Share of PV samples on a straight line through their neighbours (interpolated between stored points). */
+  linearShare: number;
+  /** Quantisation step over the noise sigma (large: coarse levels). */
+  quantisationRatio: number | null;
+  /** Median sample spacing over the loop's sample period. */
+  spacingRatio: number;
+  reasons: string[];
+}
+
+export interface StictionTests {
+  crossCorrelation: { applicable: boolean; oddness: number | null; signal: "pv" | "pv-increments"; note: string };
+  curveFit: { applicable: boolean; index: number | null; signal: "mv" | "pv"; note: string };
+}

@@ -1,0 +1,97 @@
+/**
+ * A small closed-loop simulator for the assessment tests: a first-order-plus-dead-time (or
+ * integrating) plant, discretised exactly for a zero-order hold (x+ = a x + (1 - a) K u,
+ * a = e^{-T/τ}), a velocity-form PI, measurement noise, an AR(1) load disturbance, an optional
+ * outside sinusoid, manual stretches and a sticking valve by the two-parameter data-driven model
+ * of Choudhury, Thornhill & Shah (Control Eng. Practice 13, 2005; S = dead band + stick band,
+ * J = slip jump; simplified from memory). Invented data, for tests only.
+ */
+import { Prng } from "@/simulators/prng";
+import type { AssessSample } from "@/lib/assessment";
+
+export interface SimOptions {
+  seed: number;
+  n: number;
+  T?: number;
+  K?: number;
+  tauS?: number;
+  deadS?: number;
+  integrating?: boolean;
+  kp: number;
+  ti: number | null;
+  noise?: number;
+  /** Load disturbance: AR(1) pole and innovation sigma (PV % units). */
+  loadPole?: number;
+  loadSigma?: number;
+  sine?: { amplitude: number; periodS: number };
+  stiction?: { S: number; J: number };
+  /** [start, end) sample ranges in manual (MV held). */
+  manual?: [number, number][];
+  spSteps?: { at: number; sp: number }[];
+  sp0?: number;
+  mvLo?: number;
+  mvHi?: number;
+  mv0?: number;
+}
+
+export function simulateLoop(o: SimOptions): AssessSample[] {
+  const rng = new Prng(o.seed);
+  const T = o.T ?? 1;
+  const K = o.K ?? 1;
+  const tau = o.tauS ?? 20;
+  const dead = Math.round((o.deadS ?? 2) / T);
+  const a = Math.exp(-T / tau);
+  const noise = o.noise ?? 0.1;
+  const loadPole = o.loadPole ?? 0.99;
+  const loadSigma = o.loadSigma ?? 0.05;
+  const mvLo = o.mvLo ?? 0;
+  const mvHi = o.mvHi ?? 100;
+  let sp = o.sp0 ?? 50;
+  let u = o.mv0 ?? 50;
+  let x = o.integrating ? sp : K * u; // plant state in PV %
+  let load = 0;
+  const uHist: number[] = new Array<number>(dead + 1).fill(u);
+  let valve = u;
+  let stuck = true;
+  let us = u;
+  let lastDu = 0;
+  let prevU = u;
+  let prevE = 0;
+  const out: AssessSample[] = [];
+  const steps = [...(o.spSteps ?? [])].sort((p, q) => p.at - q.at);
+  for (let k = 0; k < o.n; k++) {
+    while (steps.length && steps[0]!.at <= k) sp = steps.shift()!.sp;
+    load = loadPole * load + loadSigma * rng.normal();
+    const sine = o.sine ? o.sine.amplitude * Math.sin((2 * Math.PI * k * T) / o.sine.periodS) : 0;
+    const pv = x + load + sine + noise * rng.normal();
+    const manual = (o.manual ?? []).some(([s, e]) => k >= s && k < e);
+    const e = sp - pv;
+    if (!manual) {
+      const du = o.kp * (e - prevE) + (o.ti ? (o.kp * T * e) / o.ti : 0);
+      u = Math.min(mvHi, Math.max(mvLo, u + du));
+    }
+    prevE = e;
+    out.push({ t: k * T, sp, pv, mv: u, mode: manual ? "manual" : "auto" });
+    // Valve (Choudhury et al. 2005, simplified).
+    if (o.stiction) {
+      const { S, J } = o.stiction;
+      const du = u - prevU;
+      if (stuck) {
+        if (Math.abs(u - us) > S) {
+          stuck = false;
+          valve = u - Math.sign(u - us) * (S - J) / 2;
+        }
+      } else if (du === 0 || Math.sign(du) !== Math.sign(lastDu)) {
+        stuck = true;
+        us = u;
+      } else valve = u - Math.sign(du) * (S - J) / 2;
+      if (du !== 0) lastDu = du;
+    } else valve = u;
+    prevU = u;
+    uHist.push(valve);
+    const ud = uHist.shift()!;
+    if (o.integrating) x += (T * K * (ud - 50)) / tau;
+    else x = a * x + (1 - a) * K * ud;
+  }
+  return out;
+}
