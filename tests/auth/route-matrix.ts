@@ -93,6 +93,13 @@ export const ROUTES: RouteCase[] = [
   { method: "DELETE", path: "/api/admin/notification-rules/:none", minRole: "admin", file: "admin/notification-rules/[ruleId]/route.ts" },
   { method: "GET", path: "/api/admin/loops/:loopId", minRole: "engineer", file: "admin/loops/[loopId]/route.ts", admitted: [200] },
   { method: "GET", path: "/api/admin/config-changes", minRole: "engineer", file: "admin/config-changes/route.ts", admitted: [200] },
+
+  // operator log, loop timeline, shift handover
+  { method: "GET", path: "/api/notes", minRole: "viewer", file: "notes/route.ts", admitted: [200] },
+  { method: "POST", path: "/api/notes", minRole: "operator", file: "notes/route.ts", body: {}, admitted: [422] },
+  { method: "GET", path: "/api/loops/:loopId/timeline", minRole: "viewer", file: "loops/[loopId]/timeline/route.ts", admitted: [200] },
+  { method: "GET", path: "/api/reports/handover?siteId=:siteId", minRole: "viewer", file: "reports/handover/route.ts", admitted: [200] },
+  { method: "POST", path: "/api/reports/handover/confirm", minRole: "operator", file: "reports/handover/confirm/route.ts", body: {}, admitted: [422] },
 ];
 
 /**

@@ -8,7 +8,8 @@ import { isoTime } from "@/lib/alarms/access";
 import { requireContext } from "@/lib/auth/guard";
 import { handle, parseQuery } from "@/lib/http";
 import { buildHandover, resolveShift, siteShiftInfo } from "@/lib/reports/handover";
-import { reportResponse } from "@/lib/reports/respond";
+import { handoverDocument } from "@/lib/reports/document";
+import { documentResponse } from "@/lib/reports/respond";
 
 export const dynamic = "force-dynamic";
 
@@ -27,5 +28,5 @@ export const GET = handle(async (req: Request) => {
   const now = Date.now();
   const handover = await buildHandover(ctx, site, resolveShift(site, q.shift, now), now);
   if (q.format === "json") return NextResponse.json({ handover });
-  return reportResponse("handover", handover, q.format);
+  return documentResponse(handoverDocument(handover), q.format);
 });
