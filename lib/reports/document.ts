@@ -73,16 +73,16 @@ export function handoverDocument(h: Handover): ReportDoc {
   const k = h.kpis;
   return {
     kind: "handover",
-    title: `Shift handover — ${h.site.siteName}`,
+    title: `${h.inProgress ? "Shift in progress" : "Shift handover"} — ${h.site.siteName}`,
     tenant: h.tenantName,
-    period: `${at(h.shift.start)} – ${at(h.shift.end)} (${tz}, ${formatNumber(hours, 1)} h)`,
+    period: `${at(h.shift.start)} – ${at(h.shift.end)} (${tz}, ${formatNumber(hours, 1)} h)${h.inProgress ? `, as of ${at(h.asOf)}` : ""}`,
     generatedAt: new Date(h.generatedAt).toISOString(),
     caution: REPORT_CAUTION,
     fileName: fileSlug(`handover-${h.site.siteName}-${h.shift.localDate}-${h.shift.startsAt.replace(":", "")}`),
     sections: [
       {
         id: "active-alarms",
-        title: "Alarms active at the end of the shift",
+        title: h.inProgress ? "Alarms active now" : "Alarms active at the end of the shift",
         columns: [{ label: "Priority" }, { label: "Loop" }, { label: "Condition" }, { label: "Active since", width: 1.4 }, { label: "Acknowledged" }, { label: "Acknowledged at", width: 1.4 }],
         rows: h.activeAlarms.map((a) => [a.priority, a.loopTag, a.condition, at(a.startedAt), a.acknowledged ? "yes" : "no", a.acknowledgedAt === null ? "–" : at(a.acknowledgedAt)]),
         empty: "No alarm was active at the end of the shift.",

@@ -62,6 +62,10 @@ export interface Handover {
   tenantName: string;
   site: SiteShiftInfo;
   shift: Shift;
+  /** Epoch ms the figures are read at: the shift's end, or now for a shift still running. */
+  asOf: number;
+  /** The shift has not ended yet: a preview, not the handover. */
+  inProgress: boolean;
   /** Epoch ms when this was assembled. */
   generatedAt: number;
   activeAlarms: HandoverAlarm[];
@@ -86,9 +90,13 @@ export async function siteShiftInfo(ctx: { tenantId: number }, siteId: number, d
   return { siteId: Number(s.id), siteName: s.name, timeZone: s.time_zone, shiftStarts: parseShiftStarts(s.shift_starts) };
 }
 
-/** The shift a handover is asked for: the one starting at `start`, else the last one ended by `now`. */
-export function resolveShift(site: SiteShiftInfo, start: number | undefined, now: number): Shift {
+/**
+ * The shift a handover is asked for: the one starting at `start`, "current" (the running shift,
+ * a preview as of now), else the last one ended by `now`.
+ */
+export function resolveShift(site: SiteShiftInfo, start: number | "current" | undefined, now: number): Shift {
   if (start === undefined) return lastEndedShift(now, site.timeZone, site.shiftStarts);
+  if (start === "current") return shiftAt(now, site.timeZone, site.shiftStarts);
   const s = shiftAt(start, site.timeZone, site.shiftStarts);
   if (s.start !== start) throw new ValidationError(`No shift of ${site.siteName} starts at ${new Date(start).toISOString()}; shifts start at the site's local ${site.shiftStarts.map((m) => `${String(Math.floor(m / 60)).padStart(2, "0")}:${String(m % 60).padStart(2, "0")}`).join(", ")}.`);
   if (s.end > now) throw new ValidationError("The handover of a shift is available from the end of the shift.");
@@ -104,7 +112,8 @@ export async function buildHandover(
   now: number = Date.now(),
   db: Sequelize = getSequelize(),
 ): Promise<Handover> {
-  const { start, end } = shift;
+  const { start } = shift;
+  const end = Math.min(shift.end, now);
   const q = <T extends object>(sql: string, replacements: unknown[]) => db.query<T>(sql, { replacements, type: QueryTypes.SELECT });
   const loops = await q<{ id: number; tag: string }>("SELECT id, tag FROM loops WHERE tenant_id = ? AND site_id = ?", [ctx.tenantId, site.siteId]);
   const tagOf = new Map(loops.map((l) => [Number(l.id), l.tag]));
@@ -207,6 +216,8 @@ export async function buildHandover(
     tenantName: ctx.tenantName,
     site,
     shift,
+    asOf: end,
+    inProgress: end < shift.end,
     generatedAt: now,
     activeAlarms,
     outOfNormal,

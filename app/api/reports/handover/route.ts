@@ -1,6 +1,7 @@
 /**
  * GET /api/reports/handover?siteId=&shift=<ISO start>&format=json|csv|pdf — the handover of a
- * site's shift (default: the last shift that has ended), available from the shift's end (viewer).
+ * site's shift (default: the last shift that has ended), available from the shift's end; `shift=current`
+ * previews the running shift as of now (viewer).
  */
 import { NextResponse } from "next/server";
 import { z } from "zod";
@@ -16,7 +17,7 @@ export const dynamic = "force-dynamic";
 const query = z
   .object({
     siteId: z.coerce.number().int().positive(),
-    shift: isoTime.optional(),
+    shift: z.union([z.literal("current"), isoTime]).optional(),
     format: z.enum(["json", "csv", "pdf"]).default("json"),
   })
   .strict();
