@@ -180,4 +180,9 @@ export interface TenantContext {
   tenantSlug: string;
   tenantName: string;
   role: Role;
+  /**
+   * The sites this membership may see; null or absent = every site of the tenant. A client's
+   * staff invited into a contractor's tenant are scoped to their own site (membership_sites).
+   */
+  siteIds?: number[] | null;
 }

@@ -100,6 +100,9 @@ export const ROUTES: RouteCase[] = [
   { method: "GET", path: "/api/loops/:loopId/timeline", minRole: "viewer", file: "loops/[loopId]/timeline/route.ts", admitted: [200] },
   { method: "GET", path: "/api/reports/handover?siteId=:siteId", minRole: "viewer", file: "reports/handover/route.ts", admitted: [200] },
   { method: "POST", path: "/api/reports/handover/confirm", minRole: "operator", file: "reports/handover/confirm/route.ts", body: {}, admitted: [422] },
+  { method: "GET", path: "/api/reports/worst-loops", minRole: "viewer", file: "reports/worst-loops/route.ts", admitted: [200] },
+  { method: "GET", path: "/api/reports/worst-loops?siteId=:siteId&format=csv", minRole: "viewer", file: "reports/worst-loops/route.ts", admitted: [200], tenantScoped: false },
+  { method: "GET", path: "/api/reports/fleet-health", minRole: "viewer", file: "reports/fleet-health/route.ts", admitted: [200] },
 ];
 
 /**

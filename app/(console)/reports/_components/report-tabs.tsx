@@ -4,6 +4,9 @@ import Link from "next/link";
 const TABS = [
   { href: "/reports", label: "Overview" },
   { href: "/reports/handover", label: "Shift handover" },
+  { href: "/reports/worst-loops", label: "Worst loops" },
+  { href: "/reports/fleet-health", label: "Fleet health" },
+  { href: "/reports/subscriptions", label: "E-mail delivery" },
 ];
 
 export function ReportTabs({ active }: { active: string }) {
