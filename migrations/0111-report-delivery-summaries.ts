@@ -33,7 +33,7 @@ export const up: MigrationFn = async ({ context: qi }) => {
       cadence: { type: DataTypes.ENUM("shift", "weekly"), allowNull: false },
       site_id: ref("sites", "CASCADE", true),
       area_id: ref("areas", "CASCADE", true),
-      created_at: { type: DataTypes.DATE(3), allowNull: false, defaultValue: DataTypes.NOW },
+      created_at: { type: DataTypes.DATE(3), allowNull: false, defaultValue: qi.sequelize.literal("CURRENT_TIMESTAMP(3)") },
     },
     table,
   );
@@ -87,7 +87,7 @@ export const up: MigrationFn = async ({ context: qi }) => {
       oscillation_index: dbl,
       stiction_likelihood: dbl,
       harris_index: dbl,
-      updated_at: { type: DataTypes.DATE(3), allowNull: false, defaultValue: DataTypes.NOW },
+      updated_at: { type: DataTypes.DATE(3), allowNull: false, defaultValue: qi.sequelize.literal("CURRENT_TIMESTAMP(3)") },
     },
     table,
   );
