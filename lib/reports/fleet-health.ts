@@ -60,8 +60,14 @@ export async function buildFleetHealth(
   if (!(f.from < f.to) || f.to - f.from > 400 * DAY_MS) throw new ValidationError("The period must run forwards and cover at most 400 days.");
   const where = ["l.tenant_id = ?"];
   const args: unknown[] = [ctx.tenantId];
-  if (f.siteId !== undefined) (where.push("l.site_id = ?"), args.push(f.siteId));
-  if (f.siteIds) (where.push("l.site_id IN (?)"), args.push(f.siteIds.length ? f.siteIds : [0]));
+  if (f.siteId !== undefined) {
+    where.push("l.site_id = ?");
+    args.push(f.siteId);
+  }
+  if (f.siteIds) {
+    where.push("l.site_id IN (?)");
+    args.push(f.siteIds.length ? f.siteIds : [0]);
+  }
   const loops = await db.query<{ id: number; site: string }>(`SELECT l.id, s.name AS site FROM loops l JOIN sites s ON s.id = l.site_id WHERE ${where.join(" AND ")}`, {
     replacements: args,
     type: QueryTypes.SELECT,

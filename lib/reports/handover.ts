@@ -8,6 +8,7 @@ import { QueryTypes, type Sequelize } from "sequelize";
 import { computeAlarmKpis, type AlarmKpis, type OccurrenceRecord } from "@/lib/alarms/kpis";
 import { getSequelize } from "@/lib/db/sequelize";
 import { NotFoundError, ValidationError } from "@/lib/errors";
+import { assertSiteVisible } from "@/lib/tenancy";
 import type { AlarmPriority } from "@/lib/types";
 import { listNotes, type NoteDto } from "./notes";
 import { lastEndedShift, parseShiftStarts, shiftAt, type Shift } from "./shifts";
@@ -81,7 +82,8 @@ const PRIORITY_ORDER: Record<AlarmPriority, number> = { urgent: 0, high: 1, low:
 const ms = (d: unknown) => new Date(d as Date).getTime();
 
 /** The site's zone and shift starts, tenant-checked (404 for another tenant's site). */
-export async function siteShiftInfo(ctx: { tenantId: number }, siteId: number, db: Sequelize = getSequelize()): Promise<SiteShiftInfo> {
+export async function siteShiftInfo(ctx: { tenantId: number; siteIds?: number[] | null }, siteId: number, db: Sequelize = getSequelize()): Promise<SiteShiftInfo> {
+  assertSiteVisible(ctx, siteId, "Site");
   const [s] = await db.query<{ id: number; name: string; time_zone: string; shift_starts: string | null }>(
     "SELECT id, name, time_zone, shift_starts FROM sites WHERE id = ? AND tenant_id = ?",
     { replacements: [siteId, ctx.tenantId], type: QueryTypes.SELECT },

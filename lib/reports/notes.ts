@@ -8,6 +8,7 @@ import { QueryTypes, type Sequelize } from "sequelize";
 import { z } from "zod";
 import { getSequelize } from "@/lib/db/sequelize";
 import { NotFoundError } from "@/lib/errors";
+import { assertSiteVisible, siteVisible } from "@/lib/tenancy";
 import type { TenantContext } from "@/lib/types";
 
 export type NoteKind = "loop" | "alarm" | "shift";
@@ -39,7 +40,7 @@ export const noteInputSchema = z.discriminatedUnion("kind", [
 ]);
 export type NoteInput = z.infer<typeof noteInputSchema>;
 
-type NoteCtx = Pick<TenantContext, "tenantId" | "userId" | "name">;
+type NoteCtx = Pick<TenantContext, "tenantId" | "userId" | "name" | "siteIds">;
 
 interface Subject {
   siteId: number;
@@ -80,9 +81,10 @@ async function subjectOf(db: Sequelize, ctx: NoteCtx, input: NoteInput): Promise
 /** Append a note; returns it as stored. `at` defaults to now (epoch ms). */
 export async function createNote(ctx: NoteCtx, input: NoteInput, at: number = Date.now(), db: Sequelize = getSequelize()): Promise<NoteDto> {
   const s = await subjectOf(db, ctx, input);
+  assertSiteVisible(ctx, s.siteId, input.kind === "loop" ? "Loop" : input.kind === "alarm" ? "Alarm" : "Site");
   if (input.correctsId !== undefined) {
-    const old = await one<{ id: number }>(db, "SELECT id FROM operator_notes WHERE id = ? AND tenant_id = ?", [input.correctsId, ctx.tenantId]);
-    if (!old) throw new NotFoundError("Note");
+    const old = await one<{ id: number; site_id: number }>(db, "SELECT id, site_id FROM operator_notes WHERE id = ? AND tenant_id = ?", [input.correctsId, ctx.tenantId]);
+    if (!old || !siteVisible(ctx, Number(old.site_id))) throw new NotFoundError("Note");
   }
   const [insertId] = (await db.query(
     `INSERT INTO operator_notes (tenant_id, site_id, area_id, loop_id, alarm_id, kind, author_id, author_name, text, corrects_id, at)
@@ -131,7 +133,7 @@ interface RawNote {
 const nullableId = (v: unknown) => (v == null ? null : Number(v));
 
 /** Notes of the caller's tenant, newest first. */
-export async function listNotes(ctx: Pick<TenantContext, "tenantId">, f: NoteFilter = {}, db: Sequelize = getSequelize()): Promise<NoteDto[]> {
+export async function listNotes(ctx: Pick<TenantContext, "tenantId" | "siteIds">, f: NoteFilter = {}, db: Sequelize = getSequelize()): Promise<NoteDto[]> {
   const where = ["n.tenant_id = ?"];
   const args: unknown[] = [ctx.tenantId];
   const add = (sql: string, v: unknown) => {
@@ -147,6 +149,7 @@ export async function listNotes(ctx: Pick<TenantContext, "tenantId">, f: NoteFil
   if (f.from !== undefined) add("n.at >= ?", new Date(f.from));
   if (f.to !== undefined) add("n.at < ?", new Date(f.to));
   if (f.siteIds) add("n.site_id IN (?)", f.siteIds.length ? f.siteIds : [0]);
+  if (ctx.siteIds) add("n.site_id IN (?)", ctx.siteIds.length ? ctx.siteIds : [0]);
   const limit = Math.min(Math.max(f.limit ?? 500, 1), 5000);
   const rows = await db.query<RawNote>(
     `SELECT n.id, n.kind, n.site_id, n.area_id, n.loop_id, n.alarm_id, n.author_id, n.author_name, n.text, n.corrects_id, n.at, l.tag

@@ -32,3 +32,8 @@ export function periodOf(q: { from?: number; to?: number }, now: number, default
   const from = q.from ?? to - defaultDays * DAY_MS;
   return { from, to };
 }
+
+/** The time a server-rendered report is read at (server components render once per request). */
+export function readTime(): number {
+  return Date.now();
+}

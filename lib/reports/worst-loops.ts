@@ -67,10 +67,22 @@ export async function buildWorstLoops(
   if (f.to - f.from > 366 * DAY_MS) throw new ValidationError("The period may be at most 366 days.");
   const where = ["l.tenant_id = ?", "l.enabled = 1"];
   const args: unknown[] = [ctx.tenantId];
-  if (f.siteId !== undefined) (where.push("l.site_id = ?"), args.push(f.siteId));
-  if (f.areaId !== undefined) (where.push("l.area_id = ?"), args.push(f.areaId));
-  if (f.kind !== undefined) (where.push("l.kind = ?"), args.push(f.kind));
-  if (f.siteIds) (where.push("l.site_id IN (?)"), args.push(f.siteIds.length ? f.siteIds : [0]));
+  if (f.siteId !== undefined) {
+    where.push("l.site_id = ?");
+    args.push(f.siteId);
+  }
+  if (f.areaId !== undefined) {
+    where.push("l.area_id = ?");
+    args.push(f.areaId);
+  }
+  if (f.kind !== undefined) {
+    where.push("l.kind = ?");
+    args.push(f.kind);
+  }
+  if (f.siteIds) {
+    where.push("l.site_id IN (?)");
+    args.push(f.siteIds.length ? f.siteIds : [0]);
+  }
   const loops = await db.query<{ id: number; tag: string; description: string; kind: string; criticality: number; site: string; area: string | null }>(
     `SELECT l.id, l.tag, l.description, l.kind, l.criticality, s.name AS site, a.name AS area
        FROM loops l JOIN sites s ON s.id = l.site_id LEFT JOIN areas a ON a.id = l.area_id WHERE ${where.join(" AND ")}`,

@@ -103,6 +103,7 @@ export const ROUTES: RouteCase[] = [
   { method: "GET", path: "/api/reports/worst-loops", minRole: "viewer", file: "reports/worst-loops/route.ts", admitted: [200] },
   { method: "GET", path: "/api/reports/worst-loops?siteId=:siteId&format=csv", minRole: "viewer", file: "reports/worst-loops/route.ts", admitted: [200], tenantScoped: false },
   { method: "GET", path: "/api/reports/fleet-health", minRole: "viewer", file: "reports/fleet-health/route.ts", admitted: [200] },
+  { method: "PUT", path: "/api/admin/users/:none/sites", minRole: "admin", file: "admin/users/[membershipId]/sites/route.ts", body: { siteIds: [], reason: "test" }, admitted: [404] },
   { method: "GET", path: "/api/reports/subscriptions", minRole: "viewer", file: "reports/subscriptions/route.ts", admitted: [200] },
   { method: "POST", path: "/api/reports/subscriptions", minRole: "viewer", file: "reports/subscriptions/route.ts", body: {}, admitted: [422] },
   { method: "DELETE", path: "/api/reports/subscriptions/:none", minRole: "viewer", file: "reports/subscriptions/[subscriptionId]/route.ts", admitted: [404] },

@@ -3,7 +3,7 @@ import { listSites } from "@/lib/admin/sites";
 import { getContextOrNull } from "@/lib/auth/guard";
 import { buildFleetHealth } from "@/lib/reports/fleet-health";
 import { fleetHealthDocument } from "@/lib/reports/fleet-health-document";
-import { periodOf, periodReportQuery } from "@/lib/reports/params";
+import { periodOf, periodReportQuery, readTime } from "@/lib/reports/params";
 import { PeriodFilter } from "../_components/period-filter";
 import { ReportDocView } from "../_components/report-doc-view";
 import { ReportTabs } from "../_components/report-tabs";
@@ -21,7 +21,7 @@ export default async function FleetHealthPage({ searchParams }: { searchParams: 
   const raw = Object.fromEntries(Object.entries(sp).filter(([k, v]) => v && k !== "granularity" && k !== "areaId" && k !== "kind"));
   const parsed = periodReportQuery.safeParse(raw);
   const q = parsed.success ? parsed.data : { format: "json" as const };
-  const now = Date.now();
+  const now = readTime();
   const period = periodOf(q, now, 84);
   const sites = (await listSites(ctx)).filter((s) => !ctx.siteIds || ctx.siteIds.includes(s.id));
   const report = await buildFleetHealth(ctx, { ...period, siteId: q.siteId, granularity, siteIds: ctx.siteIds ?? null }, now);

@@ -4,6 +4,7 @@ import { listSites } from "@/lib/admin/sites";
 import { getContextOrNull } from "@/lib/auth/guard";
 import { handoverDocument, formatLocal } from "@/lib/reports/document";
 import { buildHandover, resolveShift, siteShiftInfo } from "@/lib/reports/handover";
+import { readTime } from "@/lib/reports/params";
 import { nextShift, shiftAt } from "@/lib/reports/shifts";
 import { roleAtLeast } from "@/lib/types";
 import { ConfirmHandover, ShiftNoteForm } from "../_components/handover-actions";
@@ -29,7 +30,7 @@ export default async function HandoverPage({ searchParams }: { searchParams: Pro
   }
   if (sp.site && String(chosen.id) !== sp.site) notFound();
   const site = await siteShiftInfo(ctx, chosen.id);
-  const now = Date.now();
+  const now = readTime();
   const asked = sp.shift === "current" ? "current" : sp.shift ? Date.parse(sp.shift) : undefined;
   if (typeof asked === "number" && !Number.isFinite(asked)) notFound();
   let shift;

@@ -1,7 +1,7 @@
 import { redirect } from "next/navigation";
 import { listSites } from "@/lib/admin/sites";
 import { getContextOrNull } from "@/lib/auth/guard";
-import { periodOf, periodReportQuery } from "@/lib/reports/params";
+import { periodOf, periodReportQuery, readTime } from "@/lib/reports/params";
 import { buildWorstLoops } from "@/lib/reports/worst-loops";
 import { worstLoopsDocument } from "@/lib/reports/worst-loops-document";
 import { PeriodFilter } from "../_components/period-filter";
@@ -19,7 +19,7 @@ export default async function WorstLoopsPage({ searchParams }: { searchParams: P
   const raw = Object.fromEntries(Object.entries(await searchParams).filter(([, v]) => v !== undefined && v !== ""));
   const parsed = periodReportQuery.safeParse(raw);
   const q = parsed.success ? parsed.data : { format: "json" as const };
-  const now = Date.now();
+  const now = readTime();
   const period = periodOf(q, now);
   const sites = (await listSites(ctx)).filter((s) => !ctx.siteIds || ctx.siteIds.includes(s.id));
   const report = await buildWorstLoops(ctx, { ...period, siteId: q.siteId, areaId: q.areaId, kind: q.kind, siteIds: ctx.siteIds ?? null }, now);

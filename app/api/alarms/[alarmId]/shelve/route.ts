@@ -2,6 +2,7 @@
 import { NextResponse } from "next/server";
 import { z } from "zod";
 import { alarmApi, parseId } from "@/lib/alarms/access";
+import { assertAlarmVisible } from "@/lib/alarms/scope";
 import { requireContext } from "@/lib/auth/guard";
 import { handle, parseBody } from "@/lib/http";
 
@@ -12,6 +13,7 @@ const body = z.object({ minutes: z.number().positive(), reason: z.string().trim(
 export const POST = handle(async (req: Request, { params }: { params: Promise<{ alarmId: string }> }) => {
   const ctx = await requireContext("operator");
   const id = parseId((await params).alarmId, "alarm id");
+  await assertAlarmVisible(ctx, id);
   const b = await parseBody(req, body);
   return NextResponse.json({ alarm: alarmApi().shelve(ctx, id, b.minutes, b.reason) });
 });
