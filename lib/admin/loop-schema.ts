@@ -42,6 +42,8 @@ export const loopFieldsSchema = z
     estimationPeriodS: positive("Estimation period").max(3600, "At most 3600 s."),
     baselineTimeConstantS: positive("Baseline time constant").nullable(),
     enabled: z.boolean(),
+    /** Weight in the worst-loops score: 1 low .. 5 critical (3 = normal, weight 1). */
+    criticality: z.number({ error: "Criticality must be a number." }).int().min(1, "Criticality 1 to 5.").max(5, "Criticality 1 to 5.").optional(),
   })
   .strict();
 
@@ -93,4 +95,5 @@ export const NEW_LOOP_DEFAULTS: Omit<LoopFields, "siteId"> = {
   estimationPeriodS: 1,
   baselineTimeConstantS: null,
   enabled: true,
+  criticality: 3,
 };
