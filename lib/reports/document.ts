@@ -71,6 +71,7 @@ export function handoverDocument(h: Handover): ReportDoc {
   const at = (t: number) => formatLocal(t, tz);
   const hours = (h.shift.end - h.shift.start) / 3600_000;
   const k = h.kpis;
+  const atEnd = h.inProgress ? "now" : "at the end of the shift";
   return {
     kind: "handover",
     title: `${h.inProgress ? "Shift in progress" : "Shift handover"} — ${h.site.siteName}`,
@@ -85,14 +86,14 @@ export function handoverDocument(h: Handover): ReportDoc {
         title: h.inProgress ? "Alarms active now" : "Alarms active at the end of the shift",
         columns: [{ label: "Priority" }, { label: "Loop" }, { label: "Condition" }, { label: "Active since", width: 1.4 }, { label: "Acknowledged" }, { label: "Acknowledged at", width: 1.4 }],
         rows: h.activeAlarms.map((a) => [a.priority, a.loopTag, a.condition, at(a.startedAt), a.acknowledged ? "yes" : "no", a.acknowledgedAt === null ? "–" : at(a.acknowledgedAt)]),
-        empty: "No alarm was active at the end of the shift.",
+        empty: `No alarm is active ${atEnd}.`,
       },
       {
         id: "out-of-normal",
-        title: "Shelved and out-of-service alarms",
+        title: `Shelved and out-of-service alarms ${atEnd}`,
         columns: [{ label: "Loop" }, { label: "Condition" }, { label: "State" }, { label: "Reason", width: 2.2 }, { label: "By" }, { label: "Since", width: 1.4 }],
         rows: h.outOfNormal.map((o) => [o.loopTag, o.condition, o.state, o.reason ?? "–", o.by ?? "–", at(o.at)]),
-        empty: "No alarm was shelved or out of service at the end of the shift.",
+        empty: `No alarm is shelved or out of service ${atEnd}.`,
       },
       {
         id: "state-changes",
@@ -103,10 +104,10 @@ export function handoverDocument(h: Handover): ReportDoc {
       },
       {
         id: "manual",
-        title: "Loops in manual or saturated at the end of the shift",
+        title: `Loops in manual or saturated ${atEnd}`,
         columns: [{ label: "Loop" }, { label: "State" }, { label: "Since", width: 1.4 }],
         rows: h.manualOrSaturated.map((m) => [m.loopTag, m.state, at(m.since)]),
-        empty: "No loop was in manual or saturated at the end of the shift.",
+        empty: `No loop is in manual or saturated ${atEnd}.`,
       },
       {
         id: "notes",

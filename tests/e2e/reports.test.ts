@@ -43,7 +43,7 @@ describe("reports in Chromium", () => {
     await expect.poll(() => page.getByRole("heading", { level: 1 }).textContent()).toContain("Shift in progress");
     await expect.poll(() => page.getByRole("note", { name: "Caution" }).count()).toBeGreaterThan(0);
     const text = `Feed pump B vibrating, fitter called ${Date.now().toString(36)}`;
-    await page.getByLabel(/^Shift note/).fill(text);
+    await page.getByRole("textbox", { name: /^Shift note/ }).fill(text);
     await page.getByRole("button", { name: "Add shift note" }).click();
     const notes = page.locator('[data-section="notes"]');
     await expect.poll(() => notes.textContent(), { timeout: 15_000 }).toContain(text);

@@ -18,7 +18,7 @@ export function ReportDocView({ doc }: { doc: ReportDoc }) {
           {s.chart && (
             <figure className="mb-2" aria-label={s.chart.title}>
               <figcaption className="text-xs text-muted">{s.chart.title}</figcaption>
-              <svg width="100%" height={s.chart.bars.length * 20} viewBox={`0 0 400 ${s.chart.bars.length * 20}`} preserveAspectRatio="none" role="img">
+              <svg width="400" height={s.chart.bars.length * 20} viewBox={`0 0 400 ${s.chart.bars.length * 20}`} role="img" className="max-w-full">
                 {s.chart.bars.map((b, i) => {
                   const max = Math.max(1, ...s.chart!.bars.map((x) => Math.max(x.value, x.target ?? 0)));
                   return (
