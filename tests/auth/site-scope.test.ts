@@ -3,9 +3,13 @@
  * (membership_sites) gets, for every route row with a loop or site id, the same answer as an
  * unscoped member for north's ids and a 404 (like a missing id) for the ids of A's other site
  * "south" (a write may refuse its body with 422 first, as in guard.test.ts, but never succeeds); lists (loops, notes, sites, alarms) hold only north's rows; writes on south's loop are
- * 404. The scope is set through the admin route, logged, and takes effect at once.
+ * 404. The scope is set through the admin route, logged, and takes effect at once. On the socket
+ * a scoped member joins its sites' rooms, not the tenant room (live states of other sites never
+ * reach it), and a change of its sites ends the socket so the console reconnects with the new scope.
  */
 import { QueryTypes } from "sequelize";
+import { io as connect, type Socket } from "socket.io-client";
+import { siteRoom, tenantRoom, type ClientToServerEvents, type ServerToClientEvents } from "@/lib/realtime/events";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { ROLES, roleAtLeast, type Role } from "@/lib/types";
 import fs from "node:fs";
@@ -114,5 +118,38 @@ describe("site-scoped members over the route matrix", () => {
   it("the scope change is in the change log with its reason", async () => {
     const r = (await (await authedFetch(srv.url, adminJar, "/api/admin/config-changes?entity=membership")).json()) as { changes: { reason: string | null; diff: Record<string, unknown> }[] };
     expect(r.changes.filter((c) => "siteIds" in c.diff && c.reason === "client staff see their own site")).toHaveLength(3);
+  });
+});
+
+describe("site-scoped members on the socket", () => {
+  it("joins its site's room, not the tenant room; a change of its sites ends the socket", async () => {
+    const jar = scoped.get("viewer")!;
+    const s: Socket<ServerToClientEvents, ClientToServerEvents> = connect(srv.url, { transports: ["websocket"], extraHeaders: { cookie: jar.header() }, reconnection: false, forceNew: true });
+    try {
+      await new Promise<void>((resolve, reject) => {
+        s.once("connect", () => resolve());
+        s.once("connect_error", reject);
+      });
+      await expect
+        .poll(async () => [...((await srv.server.ctx.io!.fetchSockets()).find((x) => x.id === s.id)?.rooms ?? [])])
+        .toEqual(expect.arrayContaining([siteRoom(fx.a.siteId)]));
+      const rooms = [...((await srv.server.ctx.io!.fetchSockets()).find((x) => x.id === s.id)?.rooms ?? [])];
+      expect(rooms).not.toContain(tenantRoom(fx.a.id));
+      expect(rooms).not.toContain(siteRoom(south.siteId));
+      const ended = new Promise<string>((resolve) => s.once("session:ended", resolve));
+      const [m] = await srv.db.sequelize.query<{ id: number }>("SELECT id FROM memberships WHERE tenant_id = ? AND user_id = ?", {
+        replacements: [fx.a.id, fx.a.users.viewer.id],
+        type: QueryTypes.SELECT,
+      });
+      const r = await authedFetch(srv.url, adminJar, `/api/admin/users/${m!.id}/sites`, {
+        method: "PUT",
+        headers: { "content-type": "application/json" },
+        body: JSON.stringify({ siteIds: [fx.a.siteId, south.siteId], reason: "now both sites" }),
+      });
+      expect(r.status).toBe(200);
+      expect(await ended).toMatch(/sites changed/);
+    } finally {
+      s.disconnect();
+    }
   });
 });
