@@ -115,6 +115,21 @@ describe("site-scoped members over the route matrix", () => {
     expect(mine.status).toBe(201);
   });
 
+  it("alarm figures of a scoped member count only its sites' alarms", async () => {
+    const [alarmId] = (await srv.db.sequelize.query(
+      "INSERT INTO alarms (tenant_id, loop_id, `condition`, priority, state, active, message) VALUES (?, ?, 'margin', 'high', 'unacknowledged', 1, '')",
+      { replacements: [fx.a.id, south.loopId] },
+    )) as unknown as [number];
+    const at = new Date(Date.now() - 3600_000);
+    await srv.db.sequelize.query("INSERT INTO alarm_occurrences (alarm_id, tenant_id, loop_id, `condition`, priority, started_at) VALUES (?,?,?, 'margin', 'high', ?)", {
+      replacements: [alarmId, fx.a.id, south.loopId, at],
+    });
+    const k = (await (await authedFetch(srv.url, scoped.get("viewer")!, "/api/alarms/kpis")).json()) as { totalAlarms: number };
+    expect(k.totalAlarms).toBe(0);
+    const all = (await (await authedFetch(srv.url, adminJar, "/api/alarms/kpis")).json()) as { totalAlarms: number };
+    expect(all.totalAlarms).toBe(1);
+  });
+
   it("the scope change is in the change log with its reason", async () => {
     const r = (await (await authedFetch(srv.url, adminJar, "/api/admin/config-changes?entity=membership")).json()) as { changes: { reason: string | null; diff: Record<string, unknown> }[] };
     expect(r.changes.filter((c) => "siteIds" in c.diff && c.reason === "client staff see their own site")).toHaveLength(3);
