@@ -25,10 +25,10 @@ export const periodReportQuery = z
   .strict();
 export type PeriodReportQuery = z.infer<typeof periodReportQuery>;
 
-/** The period of a query: default the last 7 whole UTC days before `now`. */
+/** The period of a query: default the last 7 UTC days, today (so far) included. */
 export function periodOf(q: { from?: number; to?: number }, now: number, defaultDays = 7): { from: number; to: number } {
-  const today = Math.floor(now / DAY_MS) * DAY_MS;
-  const to = q.to !== undefined ? q.to + DAY_MS : today;
+  const tomorrow = Math.floor(now / DAY_MS) * DAY_MS + DAY_MS;
+  const to = q.to !== undefined ? q.to + DAY_MS : tomorrow;
   const from = q.from ?? to - defaultDays * DAY_MS;
   return { from, to };
 }

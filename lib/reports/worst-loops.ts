@@ -51,12 +51,6 @@ export interface WorstLoopsReport {
   generatedAt: number;
 }
 
-/** The default period: the last 7 whole UTC days before `now`. */
-export function defaultWeek(now: number): { from: number; to: number } {
-  const to = Math.floor(now / DAY_MS) * DAY_MS;
-  return { from: to - 7 * DAY_MS, to };
-}
-
 export async function buildWorstLoops(
   ctx: { tenantId: number; tenantName: string },
   f: WorstLoopsFilter,

@@ -86,6 +86,10 @@ describe("reports in Chromium", () => {
     await signIn(page, "viewer@vantrell.example");
     await page.goto(`${srv.url}/reports/worst-loops`);
     await expect.poll(() => page.locator("main").textContent()).toContain("Score = 100 x (criticality / 3)");
+    await page.screenshot({ path: artifactPath("worst-loops-page.png"), fullPage: true });
+    await page.goto(`${srv.url}/reports/fleet-health`);
+    await expect.poll(() => page.locator("main").textContent()).toContain("Share of loops by diagnosis");
+    await page.screenshot({ path: artifactPath("fleet-health-page.png"), fullPage: true });
     await page.goto(`${srv.url}/reports/handover?shift=current`);
     await expect.poll(() => page.getByRole("heading", { level: 1 }).textContent()).toContain("Shift in progress");
     expect(await page.getByRole("button", { name: "Add shift note" }).count()).toBe(0);

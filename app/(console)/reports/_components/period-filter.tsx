@@ -12,7 +12,7 @@ export function PeriodFilter({ action, from, to, siteId, areaId, kind, sites }: 
         <input type="date" name="from" defaultValue={from} className={field} />
       </label>
       <label className="flex flex-col text-muted">
-        To (UTC day, included)
+        To (UTC day, included; today so far)
         <input type="date" name="to" defaultValue={to} className={field} />
       </label>
       <label className="flex flex-col text-muted">
