@@ -22,6 +22,7 @@ const nextConfig: NextConfig = {
     "smtp-server",
     "s3rver",
     "rate-limiter-flexible",
+    "pdfkit",
   ],
 };
 

@@ -12,7 +12,27 @@ import type { TenantContext } from "@/lib/types";
 
 /** The tenant of a context, as a where-clause fragment's value. */
 type TenantOwned = Model & { tenantId: number };
-type Ctx = Pick<TenantContext, "tenantId">;
+type Ctx = Pick<TenantContext, "tenantId" | "siteIds">;
+
+/**
+ * Site scope: a membership may be limited to some sites (TenantContext.siteIds). A row of a site
+ * outside the scope is, like another tenant's, indistinguishable from a missing one.
+ */
+export function siteVisible(ctx: Pick<TenantContext, "siteIds">, siteId: number | null | undefined): boolean {
+  if (!ctx.siteIds) return true;
+  return siteId != null && ctx.siteIds.includes(Number(siteId));
+}
+
+/** Throw NotFoundError(what) unless the context's site scope admits the site. */
+export function assertSiteVisible(ctx: Pick<TenantContext, "siteIds">, siteId: number | null | undefined, what = "Resource"): void {
+  if (!siteVisible(ctx, siteId)) throw new NotFoundError(what);
+}
+
+/** " AND <column> IN (?)" with its argument for a scoped context, or nothing. */
+export function siteScopeSql(ctx: Pick<TenantContext, "siteIds">, column: string): { sql: string; args: unknown[] } {
+  if (!ctx.siteIds) return { sql: "", args: [] };
+  return { sql: ` AND ${column} IN (?)`, args: [ctx.siteIds.length ? ctx.siteIds : [0]] };
+}
 
 function tenantIdOf(ctx: Ctx): number {
   if (!ctx || !Number.isInteger(ctx.tenantId) || ctx.tenantId <= 0) {
@@ -28,8 +48,14 @@ export function tenantWhere<M extends TenantOwned>(ctx: Ctx, where?: WhereOption
   return where ? ({ [Op.and]: [where, tenant] } as unknown as WhereOptions<M["_attributes"]>) : tenant;
 }
 
-function scopedOptions<M extends TenantOwned>(ctx: Ctx, options?: FindOptions<M["_attributes"]>): FindOptions<M["_attributes"]> {
-  return { ...options, where: tenantWhere<M>(ctx, options?.where) };
+function scopedOptions<M extends TenantOwned>(ctx: Ctx, options?: FindOptions<M["_attributes"]>, model?: ModelStatic<M>): FindOptions<M["_attributes"]> {
+  const where = tenantWhere<M>(ctx, options?.where);
+  // Rows that belong to a site (loops, areas, ...) obey the site scope too.
+  if (ctx.siteIds && model && "siteId" in model.getAttributes()) {
+    const site = { siteId: { [Op.in]: ctx.siteIds } } as unknown as WhereOptions<M["_attributes"]>;
+    return { ...options, where: { [Op.and]: [where, site] } as unknown as WhereOptions<M["_attributes"]> };
+  }
+  return { ...options, where };
 }
 
 /** The row with this primary key if it belongs to the context's tenant, else null. */
@@ -41,7 +67,7 @@ export async function findOwned<M extends TenantOwned>(
 ): Promise<M | null> {
   const pk = model.primaryKeyAttribute;
   if (id === null || id === undefined || (typeof id === "number" && !Number.isFinite(id))) return null;
-  return model.findOne(scopedOptions<M>(ctx, { ...options, where: { [pk]: id } as WhereOptions<M["_attributes"]> }));
+  return model.findOne(scopedOptions<M>(ctx, { ...options, where: { [pk]: id } as WhereOptions<M["_attributes"]> }, model));
 }
 
 /** Like findOwned, but throws NotFoundError(what) when missing or owned by another tenant. */
@@ -70,11 +96,11 @@ export function scoped(ctx: Ctx) {
     tenantId: ctx.tenantId,
     where: <M extends TenantOwned>(where?: WhereOptions<M["_attributes"]>) => tenantWhere<M>(ctx, where),
     findOne: <M extends TenantOwned>(model: ModelStatic<M>, options?: FindOptions<M["_attributes"]>) =>
-      model.findOne(scopedOptions<M>(ctx, options)),
+      model.findOne(scopedOptions<M>(ctx, options, model)),
     findAll: <M extends TenantOwned>(model: ModelStatic<M>, options?: FindOptions<M["_attributes"]>) =>
-      model.findAll(scopedOptions<M>(ctx, options)),
+      model.findAll(scopedOptions<M>(ctx, options, model)),
     count: <M extends TenantOwned>(model: ModelStatic<M>, options?: Omit<FindOptions<M["_attributes"]>, "group">) =>
-      model.count(scopedOptions<M>(ctx, options)),
+      model.count(scopedOptions<M>(ctx, options, model)),
     findById: <M extends TenantOwned>(model: ModelStatic<M>, id: number | string) => findOwned(model, ctx, id),
     findByIdOrThrow: <M extends TenantOwned>(model: ModelStatic<M>, id: number | string, what?: string) =>
       findOwnedOrThrow(model, ctx, id, what),

@@ -226,4 +226,9 @@ export interface TenantContext {
    * the membership, made at this time (epoch ms); actions taken so are journaled as such.
    */
   membershipAsOf?: number;
+  /**
+   * The sites this membership may see; null or absent = every site of the tenant. A client's
+   * staff invited into a contractor's tenant are scoped to their own site (membership_sites).
+   */
+  siteIds?: number[] | null;
 }

@@ -37,6 +37,8 @@ export class Loop extends Model<InferAttributes<Loop>, InferCreationAttributes<L
   /** MQTT topic segment: tag lower-cased, [a-z0-9-]. Unique per tenant + site. */
   declare slug: string;
   declare description: CreationOptional<string>;
+  /** Weight in the worst-loops score, 1..5 (3 = normal). */
+  declare criticality: CreationOptional<number>;
   declare kind: LoopKind;
   /** PV engineering units and range. */
   declare units: string;
@@ -187,6 +189,7 @@ export function initLoopModels(sequelize: Sequelize) {
       tag: { type: DataTypes.STRING(64), allowNull: false },
       slug: { type: DataTypes.STRING(64), allowNull: false, validate: { is: /^[a-z0-9-]+$/ } },
       description: { type: DataTypes.STRING(500), allowNull: false, defaultValue: "" },
+      criticality: { type: DataTypes.TINYINT.UNSIGNED, allowNull: false, defaultValue: 3 },
       kind: enumColumn(LOOP_KINDS, false),
       units: { type: DataTypes.STRING(32), allowNull: false },
       pvLo: num(),

@@ -86,8 +86,10 @@ export async function startPipeline(ctx: ServerContext, opts: PipelineOptions = 
   const lastStateByLoop = new Map(lastStates.map((s) => [s.loopId, s]));
 
   const history = await startHistory(ctx, { sequelize, ...opts.history });
-  const emitter = startRealtimeEmitter(ctx, opts.realtime);
-  const unwatch = ctx.io ? installWatch(ctx.io, { loopTenant: (id) => directory.get(id)?.tenantId ?? null }) : () => undefined;
+  const emitter = startRealtimeEmitter(ctx, { loopSite: (id) => directory.get(id)?.siteId ?? null, ...opts.realtime });
+  const unwatch = ctx.io
+    ? installWatch(ctx.io, { loopTenant: (id) => directory.get(id)?.tenantId ?? null, loopSite: (id) => directory.get(id)?.siteId ?? null })
+    : () => undefined;
 
   const onUpdate = (state: LoopStateDto) => {
     history.addState(state);

@@ -34,6 +34,8 @@ export const SERVICES: readonly ServiceEntry[] = [
   { name: "objectstore", module: "objectstore/index.ts", exportName: "startObjectStore" },
   // Alarms before the pipeline so no tracker update is missed.
   { name: "alarms", module: "alarms/index.ts", exportName: "startAlarms" },
+  // Report delivery and the daily loop summaries (sends through mail).
+  { name: "reports", module: "reports/index.ts", exportName: "startReports" },
   // The pipeline wires broker -> ingest -> trackers -> history + realtime emitting.
   { name: "pipeline", module: "pipeline.ts", exportName: "startPipeline" },
   {

@@ -16,6 +16,7 @@ import { parseHistory, snapshotAt, thinAligned } from "@/lib/client/history";
 import { RANGES, type RangeKey } from "@/lib/client/ranges";
 import { useDecayLevels, useLoop, useLoopSamples, useNow } from "@/lib/client/hooks";
 import { dataAge } from "@/lib/client/order";
+import { LoopTimeline } from "@/app/(console)/loops/[loopId]/_components/loop-timeline";
 import { AnalysisPanel } from "./analysis-panel";
 import { gaugeLevels } from "./loop-tile";
 import { LoopAlarms } from "./loop-alarms";
@@ -247,6 +248,7 @@ export function LoopDetail({ loopId, role, initialRange = "1h" }: { loopId: numb
           />
           <p className="text-xs text-muted">Move the pointer over any trend to see the poles of that moment on the map. SP dashed, PV solid, MV below; scales fixed from the loop&apos;s range.</p>
         </section>
+        <div className="flex flex-col gap-4">
         <section className="flex flex-col items-center gap-2 rounded-md border border-line bg-surface p-2" aria-label="z-plane">
           <h2 className="self-start font-semibold">
             z-plane{" "}
@@ -297,6 +299,8 @@ export function LoopDetail({ loopId, role, initialRange = "1h" }: { loopId: numb
             ρ {fmt(scrubSnap ? scrubSnap.radius : (state?.spectralRadius ?? null))} · DR {fmt(scrubSnap ? scrubSnap.decayRatio : (state?.decayRatio ?? null), 3)}
           </p>
         </section>
+        <LoopTimeline loopId={loopId} role={role} />
+        </div>
       </div>
 
       <section className="rounded-md border border-line bg-surface p-3" aria-label="Analysis">

@@ -128,6 +128,7 @@ function LoopFormInner({ initial, loopId, sites }: LoopFormProps & { sites: Site
             ))}
           </select>
         </Field>
+        <Field name="criticality" label="Criticality (1-5)" type="number" hint="Weight in the worst-loops score; 3 = normal" {...p} />
         <Field name="enabled" label="Tracked" {...p}>
           <input id="f-enabled" type="checkbox" {...register("enabled")} className="h-5 w-5" />
         </Field>

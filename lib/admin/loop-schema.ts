@@ -71,6 +71,8 @@ export const loopFieldsSchema = z
     estimationPeriodS: inRange("Estimation period", LIMITS.periodS, "s"),
     baselineTimeConstantS: inRange("Baseline time constant", LIMITS.baselineS, "s").nullable(),
     enabled: z.boolean(),
+    /** Weight in the worst-loops score: 1 low .. 5 critical (3 = normal, weight 1). */
+    criticality: z.number({ error: "Criticality must be a number." }).int().min(1, "Criticality 1 to 5.").max(5, "Criticality 1 to 5.").optional(),
   })
   .strict();
 
@@ -151,4 +153,5 @@ export const NEW_LOOP_DEFAULTS: Omit<LoopFields, "siteId"> = {
   estimationPeriodS: 1,
   baselineTimeConstantS: null,
   enabled: true,
+  criticality: 3,
 };

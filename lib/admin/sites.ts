@@ -5,7 +5,7 @@ import { text } from "@/lib/text-input";
 import { getDb } from "@/lib/db/sequelize";
 import { ConflictError, NotFoundError, ValidationError } from "@/lib/errors";
 import { slugify } from "@/lib/slug";
-import { findOwned } from "@/lib/tenancy";
+import { findOwned, siteVisible } from "@/lib/tenancy";
 import type { TenantContext } from "@/lib/types";
 import { inConfigTransaction, logConfigChange } from "./config-log";
 
@@ -39,7 +39,7 @@ export async function listSites(ctx: TenantContext): Promise<SiteDto[]> {
   const { Site, Area } = getDb().models;
   const sites = await Site.findAll({ where: { tenantId: ctx.tenantId }, order: [["name", "ASC"]] });
   const areas = await Area.findAll({ where: { tenantId: ctx.tenantId }, order: [["name", "ASC"]] });
-  return sites.map((s) => ({
+  return sites.filter((s) => siteVisible(ctx, s.id)).map((s) => ({
     id: s.id,
     slug: s.slug,
     name: s.name,

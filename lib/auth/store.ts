@@ -108,8 +108,10 @@ export async function loadTenantContext(
     slug: string;
     tname: string;
     role: string;
+    site_ids: string | null;
   }>(
-    `SELECT u.email, u.name AS uname, u.disabled, u.session_version, t.slug, t.name AS tname, m.role
+    `SELECT u.email, u.name AS uname, u.disabled, u.session_version, t.slug, t.name AS tname, m.role,
+            (SELECT GROUP_CONCAT(ms.site_id) FROM membership_sites ms WHERE ms.membership_id = m.id) AS site_ids
        FROM users u
        JOIN memberships m ON m.user_id = u.id AND m.tenant_id = ?
        JOIN tenants t ON t.id = m.tenant_id
@@ -129,6 +131,8 @@ export async function loadTenantContext(
     tenantSlug: r.slug,
     tenantName: r.tname,
     role: toRole(r.role),
+    // Site-scoped membership (membership_sites): only these sites; none listed = every site.
+    siteIds: r.site_ids ? r.site_ids.split(",").map(Number) : null,
   };
 }
 

@@ -8,6 +8,7 @@ import { QueryTypes, type Sequelize } from "sequelize";
 import { z } from "zod";
 import { getConfig } from "@/lib/config";
 import { getSequelize } from "@/lib/db/sequelize";
+import { siteScopeSql } from "@/lib/tenancy";
 import type { Complex } from "@/lib/control/types";
 import type { PoleDto, TenantContext, TrackerState } from "@/lib/types";
 
@@ -94,7 +95,7 @@ interface HistoryOptions {
 export type HistoryAnswer<S extends "rows" | "columns"> = S extends "columns" ? LoopHistoryColumns : LoopHistory;
 
 export async function getLoopHistory<S extends "rows" | "columns" = "rows">(
-  ctx: Pick<TenantContext, "tenantId">,
+  ctx: Pick<TenantContext, "tenantId" | "siteIds">,
   loopId: number,
   from: number,
   to: number,
@@ -105,8 +106,9 @@ export async function getLoopHistory<S extends "rows" | "columns" = "rows">(
   if (!Number.isSafeInteger(loopId) || loopId <= 0) return null;
   if (!(to > from) || !(maxPoints >= 1)) throw new RangeError("getLoopHistory: need from < to and maxPoints >= 1.");
   const sequelize = opts.sequelize ?? getSequelize();
-  const owned = await sequelize.query<{ id: number }>("SELECT id FROM loops WHERE id = ? AND tenant_id = ?", {
-    replacements: [loopId, ctx.tenantId],
+  const scope = siteScopeSql(ctx, "site_id");
+  const owned = await sequelize.query<{ id: number }>(`SELECT id FROM loops WHERE id = ? AND tenant_id = ?${scope.sql}`, {
+    replacements: [loopId, ctx.tenantId, ...scope.args],
     type: QueryTypes.SELECT,
   });
   if (owned.length === 0) return null;

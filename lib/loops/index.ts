@@ -8,6 +8,7 @@ import { QueryTypes, type Sequelize } from "sequelize";
 import { z } from "zod";
 import { getSequelize } from "@/lib/db/sequelize";
 import { getServerContext } from "@/lib/server-context";
+import { siteScopeSql } from "@/lib/tenancy";
 import type { AlarmDto, LoopKind, LoopStateDto, LoopSummary, TenantContext } from "@/lib/types";
 
 export { getLoopHistory, historyColumns, historySchema, type LoopHistory, type LoopHistoryColumns, type HistoryPoint, type HistorySnapshot } from "./history";
@@ -18,7 +19,7 @@ export interface LoopDeps {
   liveState?: (loopId: number) => LoopStateDto | null;
 }
 
-type Ctx = Pick<TenantContext, "tenantId">;
+type Ctx = Pick<TenantContext, "tenantId" | "siteIds">;
 
 export interface LoopDetail extends LoopSummary {
   mvLo: number;
@@ -151,7 +152,8 @@ function summary(r: Row, live: (id: number) => LoopStateDto | null, alarms: Map<
 export async function listLoops(ctx: Ctx, deps: LoopDeps = {}): Promise<LoopSummary[]> {
   const tenantId = tenantIdOf(ctx);
   const sequelize = deps.sequelize ?? getSequelize();
-  const rows = await sequelize.query<Row>(`${BASE_SELECT} WHERE l.tenant_id = ? ORDER BY s.name, l.tag`, { replacements: [tenantId], type: QueryTypes.SELECT });
+  const scope = siteScopeSql(ctx, "l.site_id");
+  const rows = await sequelize.query<Row>(`${BASE_SELECT} WHERE l.tenant_id = ?${scope.sql} ORDER BY s.name, l.tag`, { replacements: [tenantId, ...scope.args], type: QueryTypes.SELECT });
   const alarms = await activeAlarms(sequelize, tenantId, rows.map((r) => Number(r.id)));
   return rows.map((r) => summary(r, deps.liveState ?? defaultLiveState, alarms));
 }
@@ -161,7 +163,8 @@ export async function getLoop(ctx: Ctx, loopId: number, deps: LoopDeps = {}): Pr
   const tenantId = tenantIdOf(ctx);
   if (!Number.isSafeInteger(loopId) || loopId <= 0) return null;
   const sequelize = deps.sequelize ?? getSequelize();
-  const rows = await sequelize.query<DetailRow>(`${BASE_SELECT} WHERE l.tenant_id = ? AND l.id = ?`, { replacements: [tenantId, loopId], type: QueryTypes.SELECT });
+  const scope = siteScopeSql(ctx, "l.site_id");
+  const rows = await sequelize.query<DetailRow>(`${BASE_SELECT} WHERE l.tenant_id = ? AND l.id = ?${scope.sql}`, { replacements: [tenantId, loopId, ...scope.args], type: QueryTypes.SELECT });
   const r = rows[0];
   if (!r) return null;
   const alarms = await activeAlarms(sequelize, tenantId, [loopId]);
@@ -196,6 +199,22 @@ export async function loopTenantId(loopId: number, deps: Pick<LoopDeps, "sequeli
   const sequelize = deps.sequelize ?? getSequelize();
   const rows = await sequelize.query<{ tenant_id: number }>("SELECT tenant_id FROM loops WHERE id = ?", { replacements: [loopId], type: QueryTypes.SELECT });
   return rows[0] ? Number(rows[0].tenant_id) : null;
+}
+
+/** The tenant and site of a loop id, or null (pages check both against the caller's context). */
+export async function loopOwner(loopId: number, deps: Pick<LoopDeps, "sequelize"> = {}): Promise<{ tenantId: number; siteId: number } | null> {
+  const sequelize = deps.sequelize ?? getSequelize();
+  const rows = await sequelize.query<{ tenant_id: number; site_id: number }>("SELECT tenant_id, site_id FROM loops WHERE id = ?", { replacements: [loopId], type: QueryTypes.SELECT });
+  return rows[0] ? { tenantId: Number(rows[0].tenant_id), siteId: Number(rows[0].site_id) } : null;
+}
+
+/** The ids of the loops a context may see, or null when it sees every loop of its tenant. */
+export async function visibleLoopIds(ctx: Pick<TenantContext, "tenantId" | "siteIds">, deps: Pick<LoopDeps, "sequelize"> = {}): Promise<Set<number> | null> {
+  if (!ctx.siteIds) return null;
+  const sequelize = deps.sequelize ?? getSequelize();
+  const scope = siteScopeSql(ctx, "site_id");
+  const rows = await sequelize.query<{ id: number }>(`SELECT id FROM loops WHERE tenant_id = ?${scope.sql}`, { replacements: [ctx.tenantId, ...scope.args], type: QueryTypes.SELECT });
+  return new Set(rows.map((r) => Number(r.id)));
 }
 
 /** A loop id in a URL: a positive integer (422 otherwise). */

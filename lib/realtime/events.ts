@@ -39,8 +39,12 @@ export interface SocketData {
   userId: number;
   tenantId: number;
   role: import("../types").Role;
+  /** Site scope of the membership; null = every site (the socket joins the tenant room). */
+  siteIds?: number[] | null;
 }
 
 /** Room names: one per tenant, one per watched loop. */
 export const tenantRoom = (tenantId: number) => `tenant:${tenantId}`;
 export const loopRoom = (loopId: number) => `loop:${loopId}`;
+/** One room per site, for members scoped to sites (they do not join the tenant room). */
+export const siteRoom = (siteId: number) => `site:${siteId}`;

@@ -4,7 +4,7 @@
  * partial run) changes nothing that exists; an engineer's later edits to demo loops are kept.
  */
 import bcrypt from "bcryptjs";
-import type { Sequelize, Transaction } from "sequelize";
+import { QueryTypes, type Sequelize, type Transaction } from "sequelize";
 import { policyOverrideSchema } from "@/lib/alarms/policy";
 import { hashDeviceSecret } from "@/lib/devices";
 import { initModels, type Models } from "@/models";
@@ -169,6 +169,32 @@ export async function seedDemo(sequelize: Sequelize, opts: SeedOptions = {}): Pr
         ...t,
       });
       count("notification_rules", c);
+    }
+
+    // Report e-mails of the demo, so the outbox shows scheduled delivery: the operator gets each
+    // site's handover after every shift, the engineer the worst loops weekly, the admin fleet health.
+    for (const acc of DEMO_ACCOUNTS) {
+      const tenantId = must(tenantIds.get(acc.tenant), acc.tenant);
+      const userId = must(userIds.get(acc.email), acc.email);
+      const wanted: [string, string, number | null][] =
+        acc.role === "operator"
+          ? [...siteIds.entries()].filter(([k]) => k.startsWith(`${acc.tenant}/`)).map(([, id]) => ["handover", "shift", id])
+          : acc.role === "engineer"
+            ? [["worst-loops", "weekly", null]]
+            : acc.role === "admin"
+              ? [["fleet-health", "weekly", null]]
+              : [];
+      for (const [report, cadence, siteId] of wanted) {
+        const found = await sequelize.query("SELECT id FROM report_subscriptions WHERE tenant_id = ? AND user_id = ? AND report = ? AND site_id <=> ?", {
+          replacements: [tenantId, userId, report, siteId],
+          type: QueryTypes.SELECT,
+          ...t,
+        });
+        if (!found.length) {
+          await sequelize.query("INSERT INTO report_subscriptions (tenant_id, user_id, report, cadence, site_id) VALUES (?,?,?,?,?)", { replacements: [tenantId, userId, report, cadence, siteId], ...t });
+        }
+        count("report_subscriptions", !found.length);
+      }
     }
   });
   return { created };

@@ -29,6 +29,8 @@ export interface OutboxMessage {
   receivedAt: number;
   /** The tenant that sent it through this process; null for anything else the sink received. */
   tenantId: number | null;
+  /** File names of the message's attachments. */
+  attachments: string[];
 }
 
 export interface MailMessage {
@@ -38,6 +40,8 @@ export interface MailMessage {
   headers?: Record<string, string>;
   /** Text never shown in the admin outbox (e.g. a one-time link). */
   withhold?: string[];
+  /** Files attached (e.g. a report's PDF). */
+  attachments?: { filename: string; content: Buffer; contentType: string }[];
 }
 
 export const WITHHELD_TEXT = "[one-time link withheld: only the recipient's mailbox holds it]";
@@ -81,12 +85,14 @@ export async function startMail(ctx: ServerContext, opts: StartMailOptions = {})
       authOptional: true,
       disabledCommands: ["STARTTLS", "AUTH"],
       logger: false,
-      size: 1024 * 1024,
+      // Report PDFs travel as attachments (a top-50 report is well under 1 MB; base64 adds a third).
+      size: 4 * 1024 * 1024,
       onData(stream, session, callback) {
         const chunks: Buffer[] = [];
         stream.on("data", (c: Buffer) => chunks.push(c));
         stream.on("end", () => {
-          const parsed = parseRawMessage(Buffer.concat(chunks).toString("utf8"));
+          const raw = Buffer.concat(chunks).toString("utf8");
+          const parsed = parseRawMessage(raw);
           const origin = sentBy.get(parsed.headers["message-id"] ?? "");
           box.push({
             id: nextId++,
@@ -98,6 +104,7 @@ export async function startMail(ctx: ServerContext, opts: StartMailOptions = {})
             headers: parsed.headers,
             receivedAt: ctx.clock.now(),
             tenantId: origin?.tenantId ?? null,
+            attachments: [...raw.matchAll(/Content-Disposition:\s*attachment;\s*filename="?([^";\r\n]+)"?/gi)].map((m) => m[1]!),
           });
           if (box.length > OUTBOX_LIMIT) box.splice(0, box.length - OUTBOX_LIMIT);
           for (const w of [...waiters]) {
@@ -136,7 +143,7 @@ export async function startMail(ctx: ServerContext, opts: StartMailOptions = {})
         if (sentBy.size > OUTBOX_LIMIT * 2) sentBy.delete(sentBy.keys().next().value!);
       }
       try {
-        const info = await transport.sendMail({ from, to: msg.to, subject: msg.subject, text: msg.text, headers: msg.headers, messageId });
+        const info = await transport.sendMail({ from, to: msg.to, subject: msg.subject, text: msg.text, headers: msg.headers, messageId, attachments: msg.attachments });
         sent++;
         lastError = null;
         return { messageId: info.messageId };

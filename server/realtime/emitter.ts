@@ -9,7 +9,7 @@
  * A batch for a room nobody is in is dropped unencoded (newcomers load the current states over
  * HTTP and get every loop's next summary within its state period).
  */
-import { loopRoom, tenantRoom } from "@/lib/realtime/events";
+import { loopRoom, siteRoom, tenantRoom } from "@/lib/realtime/events";
 import type { LoopStateBrief, LoopStateDto, SampleDto } from "@/lib/types";
 import type { ServerContext } from "@/server/context";
 import { toLoopBrief } from "./summary";
@@ -19,6 +19,8 @@ export interface RealtimeEmitterOptions {
   samplesEveryMs?: number;
   /** Samples kept per loop between flushes (a burst beyond this keeps the newest). */
   maxSamplesPerLoop?: number;
+  /** The site of a loop, for the site rooms of site-scoped members. */
+  loopSite?: (loopId: number) => number | null;
 }
 
 export interface RealtimeEmitter {
@@ -48,6 +50,16 @@ export function startRealtimeEmitter(ctx: ServerContext, opts: RealtimeEmitterOp
         if (roomSize(loopRoom(loopId)) === 0) continue;
         io.to(loopRoom(loopId)).emit("loop:detail", state);
         stats.detailsSent++;
+      }
+      // site-scoped members: each site room gets its own loops' summaries
+      if (opts.loopSite) {
+        const bySite = new Map<number, LoopStateBrief[]>();
+        for (const state of byLoop.values()) {
+          const siteId = opts.loopSite(state.loopId);
+          if (siteId === null || roomSize(siteRoom(siteId)) === 0) continue;
+          (bySite.get(siteId) ?? bySite.set(siteId, []).get(siteId)!).push(toLoopBrief(state));
+        }
+        for (const [siteId, briefs] of bySite) io.to(siteRoom(siteId)).emit("loop:state", briefs);
       }
       // nobody in the tenant's room: building and encoding the batch would be wasted
       if (roomSize(tenantRoom(tenantId)) === 0) continue;

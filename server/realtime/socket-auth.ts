@@ -15,7 +15,7 @@ import type {
 } from "@/lib/realtime/events";
 import { claimsFromCookieHeader, type SessionClaims } from "@/lib/auth/session-token";
 import { loadTenantContext } from "@/lib/auth/store";
-import { tenantRoom } from "@/lib/realtime/events";
+import { siteRoom, tenantRoom } from "@/lib/realtime/events";
 import { sessionEvents } from "@/lib/server-context";
 import type { RimguardIo } from "@/server/context";
 import type { TenantContext } from "@/lib/types";
@@ -76,6 +76,7 @@ export function installSocketAuth(
       socket.data.userId = ctx.userId;
       socket.data.tenantId = ctx.tenantId;
       socket.data.role = ctx.role;
+      socket.data.siteIds = ctx.siteIds ?? null;
       sessions.set(socket, { claims });
       next();
     })().catch((err: unknown) => {
@@ -85,7 +86,9 @@ export function installSocketAuth(
   });
 
   io.on("connection", (socket) => {
-    void socket.join(tenantRoom(socket.data.tenantId));
+    // A site-scoped member gets the live states of its sites only (lib/tenancy.ts site scope).
+    if (socket.data.siteIds) for (const siteId of socket.data.siteIds) void socket.join(siteRoom(siteId));
+    else void socket.join(tenantRoom(socket.data.tenantId));
   });
 
   const end = (socket: RgSocket, reason: string) => {
@@ -113,6 +116,7 @@ export function installSocketAuth(
         // A demotion (or promotion) ends the socket too: the console reconnects and reloads what
         // the new role may see, instead of keeping what the old role subscribed to.
         if (ctx.role !== socket.data.role) return end(socket, "Your role changed; reconnecting.");
+        if (String(ctx.siteIds ?? null) !== String(socket.data.siteIds ?? null)) return end(socket, "Your sites changed; reconnecting.");
       }),
     );
   };

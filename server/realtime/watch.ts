@@ -13,6 +13,8 @@ type RgSocket = Socket<ClientToServerEvents, ServerToClientEvents, InterServerEv
 export interface WatchOptions {
   /** The tenant owning a loop, or null when there is no such loop. */
   loopTenant(loopId: number): number | null;
+  /** The site of a loop (checked against a site-scoped socket's sites). */
+  loopSite?(loopId: number): number | null;
   /** Loops one socket may watch at once. */
   maxWatchesPerSocket?: number;
 }
@@ -33,6 +35,8 @@ export function installWatch(io: RimguardIo, opts: WatchOptions): () => void {
       if (typeof loopId !== "number" || !Number.isSafeInteger(loopId) || loopId <= 0) return answer({ ok: false, error: "loopId must be a positive integer." });
       const tenantId = socket.data.tenantId;
       if (!Number.isInteger(tenantId) || opts.loopTenant(loopId) !== tenantId) return answer({ ok: false, error: WATCH_REFUSED });
+      const scope = socket.data.siteIds;
+      if (scope && !scope.includes(opts.loopSite?.(loopId) ?? -1)) return answer({ ok: false, error: WATCH_REFUSED });
       if (!watching.has(loopId) && watching.size >= max) return answer({ ok: false, error: `At most ${max} loops can be watched at once.` });
       watching.add(loopId);
       void socket.join(loopRoom(loopId));

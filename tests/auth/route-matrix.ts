@@ -93,6 +93,20 @@ export const ROUTES: RouteCase[] = [
   { method: "DELETE", path: "/api/admin/notification-rules/:none", minRole: "admin", file: "admin/notification-rules/[ruleId]/route.ts" },
   { method: "GET", path: "/api/admin/loops/:loopId", minRole: "engineer", file: "admin/loops/[loopId]/route.ts", admitted: [200] },
   { method: "GET", path: "/api/admin/config-changes", minRole: "engineer", file: "admin/config-changes/route.ts", admitted: [200] },
+
+  // operator log, loop timeline, shift handover
+  { method: "GET", path: "/api/notes", minRole: "viewer", file: "notes/route.ts", admitted: [200] },
+  { method: "POST", path: "/api/notes", minRole: "operator", file: "notes/route.ts", body: {}, admitted: [422] },
+  { method: "GET", path: "/api/loops/:loopId/timeline", minRole: "viewer", file: "loops/[loopId]/timeline/route.ts", admitted: [200] },
+  { method: "GET", path: "/api/reports/handover?siteId=:siteId", minRole: "viewer", file: "reports/handover/route.ts", admitted: [200] },
+  { method: "POST", path: "/api/reports/handover/confirm", minRole: "operator", file: "reports/handover/confirm/route.ts", body: {}, admitted: [422] },
+  { method: "GET", path: "/api/reports/worst-loops", minRole: "viewer", file: "reports/worst-loops/route.ts", admitted: [200] },
+  { method: "GET", path: "/api/reports/worst-loops?siteId=:siteId&format=csv", minRole: "viewer", file: "reports/worst-loops/route.ts", admitted: [200], tenantScoped: false },
+  { method: "GET", path: "/api/reports/fleet-health", minRole: "viewer", file: "reports/fleet-health/route.ts", admitted: [200] },
+  { method: "PUT", path: "/api/admin/users/:none/sites", minRole: "admin", file: "admin/users/[membershipId]/sites/route.ts", body: { siteIds: [], reason: "test" }, admitted: [404] },
+  { method: "GET", path: "/api/reports/subscriptions", minRole: "viewer", file: "reports/subscriptions/route.ts", admitted: [200] },
+  { method: "POST", path: "/api/reports/subscriptions", minRole: "viewer", file: "reports/subscriptions/route.ts", body: {}, admitted: [422] },
+  { method: "DELETE", path: "/api/reports/subscriptions/:none", minRole: "viewer", file: "reports/subscriptions/[subscriptionId]/route.ts", admitted: [404] },
 ];
 
 /**

@@ -1,6 +1,7 @@
 /** The standing caution, visible on every console page and on the sign-in page. */
-export const CAUTION_TEXT =
-  "Advisory monitoring only — not a safety system. Changes to live controllers follow your site's management of change; local codes and licensed practice prevail.";
+import { CAUTION_NEVER_WRITES, CAUTION_TEXT } from "@/lib/caution";
+
+export { CAUTION_TEXT };
 
 export function CautionLine({ className = "" }: { className?: string }) {
   return (
@@ -10,7 +11,7 @@ export function CautionLine({ className = "" }: { className?: string }) {
         <rect x="5.4" y="5" width="1.2" height="4" fill="currentColor" />
         <rect x="5.4" y="2.8" width="1.2" height="1.2" fill="currentColor" />
       </svg>
-      {CAUTION_TEXT} Rimguard reads telemetry and never writes to a controller.
+      {CAUTION_TEXT} {CAUTION_NEVER_WRITES}
     </p>
   );
 }

@@ -1,6 +1,7 @@
 import { redirect } from "next/navigation";
 import { ReportsView } from "@/app/_components/reports-view";
 import { getContextOrNull } from "@/lib/auth/guard";
+import { ReportTabs } from "./_components/report-tabs";
 
 export const dynamic = "force-dynamic";
 export const metadata = { title: "Reports · Rimguard" };
@@ -8,5 +9,10 @@ export const metadata = { title: "Reports · Rimguard" };
 export default async function ReportsPage() {
   const ctx = await getContextOrNull();
   if (!ctx) redirect("/signin");
-  return <ReportsView />;
+  return (
+    <div className="flex flex-col gap-3">
+      <ReportTabs active="/reports" />
+      <ReportsView />
+    </div>
+  );
 }

@@ -2,6 +2,7 @@
 import { NextResponse } from "next/server";
 import { z } from "zod";
 import { alarmApi, isoTime } from "@/lib/alarms/access";
+import { visibleAlarms } from "@/lib/alarms/scope";
 import { requireContext } from "@/lib/auth/guard";
 import { handle, parseQuery } from "@/lib/http";
 import { ALARM_PRIORITIES, ALARM_STATES } from "@/lib/types";
@@ -22,5 +23,5 @@ const query = z
 export const GET = handle(async (req: Request) => {
   const ctx = await requireContext("viewer");
   const q = parseQuery(req, query);
-  return NextResponse.json({ alarms: alarmApi().list(ctx.tenantId, q) });
+  return NextResponse.json({ alarms: await visibleAlarms(ctx, alarmApi().list(ctx.tenantId, q)) });
 });

@@ -2,7 +2,8 @@ import { notFound, redirect } from "next/navigation";
 import { LoopDetail } from "@/app/_components/loop-detail";
 import { isRangeKey } from "@/lib/client/ranges";
 import { getContextOrNull } from "@/lib/auth/guard";
-import { loopTenantId } from "@/lib/loops";
+import { loopOwner } from "@/lib/loops";
+import { siteVisible } from "@/lib/tenancy";
 
 export const dynamic = "force-dynamic";
 export const metadata = { title: "Loop · Rimguard" };
@@ -14,7 +15,8 @@ export default async function LoopPage({ params, searchParams }: { params: Promi
   const id = Number(loopId);
   if (!Number.isInteger(id) || id <= 0 || id > Number.MAX_SAFE_INTEGER) notFound();
   // Another tenant's loop is a 404, exactly like a loop that does not exist (as the API answers).
-  if ((await loopTenantId(id)) !== ctx.tenantId) notFound();
+  const owner = await loopOwner(id);
+  if (!owner || owner.tenantId !== ctx.tenantId || !siteVisible(ctx, owner.siteId)) notFound();
   const { range } = await searchParams;
   const initialRange = isRangeKey(range) ? range : "1h";
   return <LoopDetail loopId={id} role={ctx.role} initialRange={initialRange} />;

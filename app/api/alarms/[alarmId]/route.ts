@@ -1,6 +1,7 @@
 /** GET /api/alarms/[alarmId] — one alarm with its occurrences and events (newest first). */
 import { NextResponse } from "next/server";
 import { alarmApi, parseId } from "@/lib/alarms/access";
+import { assertAlarmVisible } from "@/lib/alarms/scope";
 import { requireContext } from "@/lib/auth/guard";
 import { handle } from "@/lib/http";
 
@@ -9,5 +10,6 @@ export const dynamic = "force-dynamic";
 export const GET = handle(async (_req: Request, { params }: { params: Promise<{ alarmId: string }> }) => {
   const ctx = await requireContext("viewer");
   const id = parseId((await params).alarmId, "alarm id");
+  await assertAlarmVisible(ctx, id);
   return NextResponse.json(await alarmApi().detail(ctx.tenantId, id));
 });

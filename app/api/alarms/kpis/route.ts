@@ -5,6 +5,7 @@
 import { NextResponse } from "next/server";
 import { z } from "zod";
 import { alarmApi, isoTime } from "@/lib/alarms/access";
+import { scopedAlarmKpis } from "@/lib/alarms/scope";
 import { requireContext } from "@/lib/auth/guard";
 import { handle, parseQuery } from "@/lib/http";
 
@@ -22,6 +23,6 @@ export const GET = handle(async (req: Request) => {
   const from = q.from ?? to - DAY;
   if (!(from < to)) throw new z.ZodError([{ code: "custom", path: ["from"], message: "`from` must be before `to`", input: q.from }]);
   if (to - from > 31 * DAY) throw new z.ZodError([{ code: "custom", path: ["from"], message: "the period may be at most 31 days", input: q.from }]);
-  const k = await alarmApi().kpis(ctx.tenantId, from, to, q.area ?? null);
+  const k = ctx.siteIds ? await scopedAlarmKpis({ ...ctx, siteIds: ctx.siteIds }, from, to, q.area ?? null) : await alarmApi().kpis(ctx.tenantId, from, to, q.area ?? null);
   return NextResponse.json({ ...k, from: new Date(from).toISOString(), to: new Date(to).toISOString() });
 });

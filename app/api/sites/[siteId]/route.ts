@@ -4,13 +4,14 @@ import { z } from "zod";
 import { requireContext } from "@/lib/auth/guard";
 import { getDb } from "@/lib/db/sequelize";
 import { handle } from "@/lib/http";
-import { findOwnedOrThrow } from "@/lib/tenancy";
+import { assertSiteVisible, findOwnedOrThrow } from "@/lib/tenancy";
 
 const paramsSchema = z.object({ siteId: z.coerce.number().int().positive() });
 
 export const GET = handle(async (_req: Request, { params }: { params: Promise<{ siteId: string }> }) => {
   const ctx = await requireContext("viewer");
   const { siteId } = paramsSchema.parse(await params);
+  assertSiteVisible(ctx, siteId, "Site");
   const site = await findOwnedOrThrow(getDb().models.Site, ctx, siteId, "Site");
   return NextResponse.json({ id: site.id, slug: site.slug, name: site.name, timeZone: site.timeZone });
 });

@@ -3,6 +3,7 @@ import { NextResponse } from "next/server";
 import { z } from "zod";
 import { text } from "@/lib/text-input";
 import { alarmApi, parseId } from "@/lib/alarms/access";
+import { assertAlarmVisible } from "@/lib/alarms/scope";
 import { requireContext } from "@/lib/auth/guard";
 import { handle, parseBody } from "@/lib/http";
 
@@ -13,6 +14,7 @@ const body = z.object({ minutes: z.number().positive(), reason: text().trim().mi
 export const POST = handle(async (req: Request, { params }: { params: Promise<{ alarmId: string }> }) => {
   const ctx = await requireContext("operator");
   const id = parseId((await params).alarmId, "alarm id");
+  await assertAlarmVisible(ctx, id);
   const b = await parseBody(req, body);
   return NextResponse.json({ alarm: alarmApi().shelve(ctx, id, b.minutes, b.reason) });
 });

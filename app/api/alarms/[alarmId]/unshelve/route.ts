@@ -3,6 +3,7 @@ import { NextResponse } from "next/server";
 import { z } from "zod";
 import { text } from "@/lib/text-input";
 import { alarmApi, parseId, parseOptionalBody } from "@/lib/alarms/access";
+import { assertAlarmVisible } from "@/lib/alarms/scope";
 import { requireContext } from "@/lib/auth/guard";
 import { handle } from "@/lib/http";
 
@@ -13,6 +14,7 @@ const body = z.object({ comment: text().max(1000).nullish() });
 export const POST = handle(async (req: Request, { params }: { params: Promise<{ alarmId: string }> }) => {
   const ctx = await requireContext("operator");
   const id = parseId((await params).alarmId, "alarm id");
+  await assertAlarmVisible(ctx, id);
   const b = await parseOptionalBody(req, body);
   return NextResponse.json({ alarm: alarmApi().unshelve(ctx, id, b.comment ?? null) });
 });

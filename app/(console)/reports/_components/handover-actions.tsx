@@ -1,0 +1,91 @@
+"use client";
+/** On the handover page: write a shift note (operator+) and confirm having read an ended shift's handover. */
+import { useRouter } from "next/navigation";
+import { useState } from "react";
+import { sendJson } from "@/lib/client/fetcher";
+
+export function ShiftNoteForm({ siteId, areas }: { siteId: number; areas: { id: number; name: string }[] }) {
+  const router = useRouter();
+  const [text, setText] = useState("");
+  const [areaId, setAreaId] = useState<string>("");
+  const [busy, setBusy] = useState(false);
+  const [fail, setFail] = useState<string | null>(null);
+  async function submit(e: React.FormEvent) {
+    e.preventDefault();
+    setBusy(true);
+    setFail(null);
+    try {
+      await sendJson("/api/notes", "POST", { kind: "shift", siteId, ...(areaId ? { areaId: Number(areaId) } : {}), text });
+      setText("");
+      router.refresh();
+    } catch (err) {
+      setFail((err as Error).message);
+    } finally {
+      setBusy(false);
+    }
+  }
+  return (
+    <form onSubmit={submit} className="flex flex-col gap-1 rounded-md border border-line bg-surface p-3" aria-label="Shift note">
+      <label htmlFor="shift-note" className="font-semibold">
+        Shift note <span className="text-sm font-normal text-muted">goes into the running shift&apos;s handover</span>
+      </label>
+      <textarea id="shift-note" value={text} onChange={(e) => setText(e.target.value)} rows={3} maxLength={2000} className="rounded border border-line bg-ground px-2 py-1 text-sm" />
+      <div className="flex flex-wrap items-center gap-2">
+        <label className="text-sm text-muted">
+          Area{" "}
+          <select value={areaId} onChange={(e) => setAreaId(e.target.value)} className="rounded border border-line bg-ground px-1 py-0.5 text-sm">
+            <option value="">whole site</option>
+            {areas.map((a) => (
+              <option key={a.id} value={a.id}>
+                {a.name}
+              </option>
+            ))}
+          </select>
+        </label>
+        <button type="submit" disabled={busy || !text.trim()} className="rounded border border-line px-3 py-0.5 text-sm disabled:opacity-50">
+          Add shift note
+        </button>
+        {fail && (
+          <span role="alert" className="text-sm text-urgent">
+            {fail}
+          </span>
+        )}
+      </div>
+    </form>
+  );
+}
+
+export function ConfirmHandover({ siteId, shift, confirmed }: { siteId: number; shift: string; confirmed: boolean }) {
+  const router = useRouter();
+  const [busy, setBusy] = useState(false);
+  const [fail, setFail] = useState<string | null>(null);
+  if (confirmed) return <p className="text-sm text-muted">You have confirmed reading this handover.</p>;
+  return (
+    <div className="flex items-center gap-2">
+      <button
+        type="button"
+        disabled={busy}
+        className="rounded border border-line px-3 py-1 text-sm"
+        onClick={async () => {
+          setBusy(true);
+          setFail(null);
+          try {
+            await sendJson("/api/reports/handover/confirm", "POST", { siteId, shift });
+            router.refresh();
+          } catch (err) {
+            setFail((err as Error).message);
+          } finally {
+            setBusy(false);
+          }
+        }}
+      >
+        I have read this handover
+      </button>
+      {fail && (
+        <span role="alert" className="text-sm text-urgent">
+          {fail}
+        </span>
+      )}
+    </div>
+  );
+}

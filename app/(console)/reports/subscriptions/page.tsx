@@ -1,0 +1,23 @@
+import { redirect } from "next/navigation";
+import { listSites } from "@/lib/admin/sites";
+import { getContextOrNull } from "@/lib/auth/guard";
+import { listMySubscriptions } from "@/lib/reports/delivery";
+import { ReportTabs } from "../_components/report-tabs";
+import { SubscriptionsForm } from "../_components/subscriptions-form";
+
+export const dynamic = "force-dynamic";
+export const metadata = { title: "Report e-mails · Rimguard" };
+
+export default async function SubscriptionsPage() {
+  const ctx = await getContextOrNull();
+  if (!ctx) redirect("/signin");
+  const [subs, sites] = await Promise.all([listMySubscriptions(ctx), listSites(ctx)]);
+  return (
+    <div className="flex flex-col gap-4">
+      <ReportTabs active="/reports/subscriptions" />
+      <h1 className="text-xl font-semibold">Report e-mails to {ctx.email}</h1>
+      <p className="text-sm text-muted">Reports arrive as a PDF attachment. The handover goes out at the end of every shift of the site; weekly reports on Monday for the previous week (UTC). Each goes out once; mail stops when your membership ends.</p>
+      <SubscriptionsForm subscriptions={subs} sites={sites.map((s) => ({ id: s.id, name: s.name }))} />
+    </div>
+  );
+}

@@ -1,0 +1,51 @@
+/**
+ * Site scope for the alarm routes: a member limited to some sites sees and acts on the alarms of
+ * those sites' loops only; any other alarm is a 404, worded like a missing one.
+ */
+import { QueryTypes } from "sequelize";
+import { getSequelize } from "@/lib/db/sequelize";
+import { NotFoundError } from "@/lib/errors";
+import { siteScopeSql } from "@/lib/tenancy";
+import { visibleLoopIds } from "@/lib/loops";
+import type { TenantContext } from "@/lib/types";
+import { alarmApi } from "./access";
+import { computeAlarmKpis, type AlarmKpis, type OccurrenceRecord } from "./kpis";
+
+type Ctx = Pick<TenantContext, "tenantId" | "siteIds">;
+
+export async function assertAlarmVisible(ctx: Ctx, alarmId: number): Promise<void> {
+  if (!ctx.siteIds) return;
+  const alarm = alarmApi().get(ctx.tenantId, alarmId);
+  const visible = await visibleLoopIds(ctx);
+  if (!alarm || !visible?.has(alarm.loopId)) throw new NotFoundError("Alarm");
+}
+
+export async function visibleAlarms<T extends { loopId: number }>(ctx: Ctx, alarms: T[]): Promise<T[]> {
+  const visible = await visibleLoopIds(ctx);
+  return visible ? alarms.filter((a) => visible.has(a.loopId)) : alarms;
+}
+
+/**
+ * Alarm-system figures (lib/alarms/kpis.ts) over the alarms of the loops a site-scoped member may
+ * see; an unscoped member gets the alarm service's tenant-wide figures instead.
+ */
+export async function scopedAlarmKpis(ctx: Ctx & { siteIds: number[] }, from: number, to: number, areaId: number | null): Promise<AlarmKpis> {
+  const scope = siteScopeSql(ctx, "l.site_id");
+  const rows = await getSequelize().query<{ alarm_id: number; loop_id: number; area_id: number | null; priority: OccurrenceRecord["priority"]; started_at: Date; ended_at: Date | null }>(
+    `SELECT o.alarm_id, o.loop_id, o.area_id, o.priority, o.started_at, o.ended_at FROM alarm_occurrences o JOIN loops l ON l.id = o.loop_id
+      WHERE o.tenant_id = ? AND o.started_at < ? AND (o.started_at >= ? OR o.ended_at IS NULL OR o.ended_at > ?)${scope.sql}${areaId != null ? " AND o.area_id = ?" : ""}`,
+    { replacements: [ctx.tenantId, new Date(to), new Date(from), new Date(from), ...scope.args, ...(areaId != null ? [areaId] : [])], type: QueryTypes.SELECT },
+  );
+  return computeAlarmKpis(
+    rows.map((r) => ({
+      alarmId: Number(r.alarm_id),
+      loopId: Number(r.loop_id),
+      areaId: r.area_id == null ? null : Number(r.area_id),
+      priority: r.priority,
+      startedAt: new Date(r.started_at).getTime(),
+      endedAt: r.ended_at == null ? null : new Date(r.ended_at).getTime(),
+    })),
+    from,
+    to,
+  );
+}

@@ -1,0 +1,46 @@
+/** Fleet health as a document (screen, CSV, PDF). Pure and browser-safe. */
+import { fileSlug, formatNumber, REPORT_CAUTION, type ReportDoc } from "./document";
+import type { FleetHealth } from "./fleet-health";
+import { DIAGNOSIS_LABELS } from "./score";
+
+const day = (t: number) => new Date(t).toISOString().slice(0, 10);
+const share = (n: number, of: number) => formatNumber(of ? (100 * n) / of : null, 1);
+
+export function fleetHealthDocument(r: FleetHealth): ReportDoc {
+  const last = r.buckets.at(-1);
+  const undetermined = r.buckets.every((b) => (b.counts.undetermined ?? 0) === b.loops);
+  return {
+    kind: "fleet-health",
+    title: `Fleet health${r.site ? ` — ${r.site}` : ""}`,
+    tenant: r.tenantName,
+    period: `${day(r.from)} – ${day(r.to - 1)} (UTC days), by ${r.granularity}`,
+    generatedAt: new Date(r.generatedAt).toISOString(),
+    caution: REPORT_CAUTION,
+    fileName: fileSlug(`fleet-health-${r.tenantName}-${day(r.from)}-${day(r.to - 1)}`),
+    sections: [
+      {
+        id: "trend",
+        title: `Share of loops by diagnosis, per ${r.granularity}`,
+        lines: [
+          "A loop counts once per period, with the diagnosis of its latest judged day (else undetermined); loops without data in a period are not counted.",
+          ...(undetermined
+            ? ["Every loop reads 'undetermined': the routine-data assessment that sets the diagnosis is not wired into the daily summaries yet. The shares are shown as they are, not guessed."]
+            : []),
+        ],
+        columns: [{ label: r.granularity === "week" ? "Week" : "Month" }, { label: "Loops", unit: "count" }, ...DIAGNOSIS_LABELS.map((l) => ({ label: l, unit: "%" }))],
+        rows: r.buckets.map((b) => [b.label, String(b.loops), ...DIAGNOSIS_LABELS.map((l) => share(b.counts[l] ?? 0, b.loops))]),
+        empty: "No daily summary in this period.",
+        chart: last
+          ? { title: `${last.label}: share of loops by diagnosis`, unit: "%", bars: DIAGNOSIS_LABELS.map((l) => ({ label: l, value: last.loops ? (100 * (last.counts[l] ?? 0)) / last.loops : 0 })) }
+          : undefined,
+      },
+      {
+        id: "sites",
+        title: `By site, ${last?.label ?? "latest period"}`,
+        columns: [{ label: "Site", width: 1.5 }, { label: "Loops", unit: "count" }, ...DIAGNOSIS_LABELS.map((l) => ({ label: l, unit: "%" }))],
+        rows: r.bySite.map((s) => [s.site, String(s.loops), ...DIAGNOSIS_LABELS.map((l) => share(s.counts[l] ?? 0, s.loops))]),
+        empty: "No daily summary in this period.",
+      },
+    ],
+  };
+}

@@ -1,0 +1,73 @@
+/** The worst-loops report as a document (screen, CSV, PDF). Pure and browser-safe. */
+import { fileSlug, formatNumber, REPORT_CAUTION, type ReportDoc } from "./document";
+import { SCORE_FORMULA_LINES } from "./score";
+import type { WorstLoopsReport } from "./worst-loops";
+
+const pct = (v: number | null) => formatNumber(v == null ? null : 100 * v, 1);
+const day = (t: number) => new Date(t).toISOString().slice(0, 10);
+
+export function trendWord(score: number, previous: number | null): string {
+  if (previous === null) return "new";
+  const d = score - previous;
+  if (Math.abs(d) < 2) return "steady";
+  return d > 0 ? `worse (+${d.toFixed(1)})` : `better (${d.toFixed(1)})`;
+}
+
+/** `limit`: only the first rows (the PDF holds the top 50; the CSV the full ranking). */
+export function worstLoopsDocument(r: WorstLoopsReport, opts: { limit?: number } = {}): ReportDoc {
+  const rows = opts.limit ? r.rows.slice(0, opts.limit) : r.rows;
+  const filters = [r.filter.site && `site ${r.filter.site}`, r.filter.area && `area ${r.filter.area}`, r.filter.kind && `kind ${r.filter.kind}`].filter(Boolean).join(", ");
+  const undetermined = r.rows.filter((x) => x.figures.diagnosisLabel === "undetermined").length;
+  return {
+    kind: "worst-loops",
+    title: "Worst loops",
+    tenant: r.tenantName,
+    period: `${day(r.from)} – ${day(r.to - 1)} (UTC days)${filters ? ` · ${filters}` : ""}`,
+    generatedAt: new Date(r.generatedAt).toISOString(),
+    caution: REPORT_CAUTION,
+    fileName: fileSlug(`worst-loops-${r.tenantName}-${day(r.from)}-${day(r.to - 1)}`),
+    sections: [
+      {
+        id: "ranking",
+        title: opts.limit && r.rows.length > opts.limit ? `Ranking (top ${opts.limit} of ${r.rows.length}; the CSV holds all)` : `Ranking (${r.rows.length} loops)`,
+        lines: [
+          ...SCORE_FORMULA_LINES,
+          `Trend: against the previous period of the same length. ${r.withoutData} loop(s) of the filter had no data in the period. ${undetermined} of ${r.rows.length} loop(s) have no diagnosis yet (undetermined). Open work-list items: the engineering work list is not part of this build yet.`,
+        ],
+        columns: [
+          { label: "Rank", width: 0.5 },
+          { label: "Loop", width: 1 },
+          { label: "Site", width: 1.1 },
+          { label: "Area", width: 1 },
+          { label: "Kind", width: 0.9 },
+          { label: "Criticality", unit: "1-5", width: 0.7 },
+          { label: "Score", width: 0.7 },
+          { label: "Trend", width: 1 },
+          { label: "Decay ratio mean", width: 0.8 },
+          { label: "Service factor", unit: "%", width: 0.8 },
+          { label: "Saturated", unit: "%", width: 0.8 },
+          { label: "In alarm", unit: "%", width: 0.8 },
+          { label: "Diagnosis", width: 1.1 },
+          { label: "Evidence", width: 2.6 },
+        ],
+        rows: rows.map((x) => [
+          String(x.rank),
+          x.tag,
+          x.site,
+          x.area ?? "–",
+          x.kind,
+          String(x.criticality),
+          formatNumber(x.score, 1),
+          trendWord(x.score, x.previousScore),
+          formatNumber(x.figures.decayRatioMean, 2),
+          pct(x.figures.serviceFactor),
+          pct(x.figures.saturationShare),
+          pct(x.figures.alarmShare),
+          x.figures.diagnosisLabel === "undetermined" ? "undetermined" : `likely ${x.figures.diagnosisLabel} (${formatNumber(x.figures.diagnosisConfidence, 2)})`,
+          x.evidence.join("; ") || "no figure above its threshold",
+        ]),
+        empty: "No loop of this filter has a daily summary in the period.",
+      },
+    ],
+  };
+}

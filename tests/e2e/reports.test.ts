@@ -1,0 +1,98 @@
+/**
+ * Reports in Chromium against the real server and the demo seed: an operator writes a shift note
+ * on the handover page of the running shift, the handover shows it, its PDF downloads and opens
+ * (text read back with poppler-utils' pdftotext, page 1 rendered to PNG with pdftoppm into
+ * tests/artifacts/); a note written on a loop's page appears in its timeline; the worst-loops page
+ * states its formula; a viewer sees no note form.
+ */
+import { execFileSync } from "node:child_process";
+import fs from "node:fs";
+import type { Page } from "playwright-core";
+import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { DEMO_PASSWORD } from "@/lib/seed";
+import { artifactPath, launchBrowser, type TestBrowser } from "../setup/browser";
+import { startTestServer, type TestServer } from "../setup/server";
+
+let srv: TestServer;
+let browser: TestBrowser;
+
+beforeAll(async () => {
+  srv = await startTestServer({ seed: true });
+  browser = await launchBrowser({ viewport: { width: 1440, height: 1000 } });
+}, 300_000);
+
+afterAll(async () => {
+  await browser?.close();
+  await srv?.stop();
+});
+
+async function signIn(page: Page, email: string): Promise<void> {
+  await browser.context.clearCookies();
+  await page.goto(`${srv.url}/signin`);
+  await page.getByLabel("E-mail").fill(email);
+  await page.getByLabel("Password").fill(DEMO_PASSWORD);
+  await page.getByRole("button", { name: "Sign in" }).click();
+  await page.waitForURL((u) => !u.pathname.startsWith("/signin"), { timeout: 30_000 });
+}
+
+describe("reports in Chromium", () => {
+  it("an operator writes a shift note, the handover shows it, and its PDF downloads and opens", async () => {
+    const page = await browser.context.newPage();
+    await signIn(page, "operator@vantrell.example");
+    await page.goto(`${srv.url}/reports/handover?shift=current`);
+    await expect.poll(() => page.getByRole("heading", { level: 1 }).textContent()).toContain("Shift in progress");
+    await expect.poll(() => page.getByRole("note", { name: "Caution" }).count()).toBeGreaterThan(0);
+    const text = `Feed pump B vibrating, fitter called ${Date.now().toString(36)}`;
+    await page.getByRole("textbox", { name: /^Shift note/ }).fill(text);
+    await page.getByRole("button", { name: "Add shift note" }).click();
+    const notes = page.locator('[data-section="notes"]');
+    await expect.poll(() => notes.textContent(), { timeout: 15_000 }).toContain(text);
+    expect(await notes.textContent()).toContain("Tomas Brell");
+
+    const [download] = await Promise.all([page.waitForEvent("download"), page.getByRole("link", { name: "Download PDF" }).click()]);
+    const pdfPath = artifactPath("handover.pdf");
+    await download.saveAs(pdfPath);
+    expect(download.suggestedFilename()).toMatch(/^handover-.*\.pdf$/);
+    const pdfText = execFileSync("pdftotext", ["-layout", pdfPath, "-"], { encoding: "utf8" }).replace(/\s+/g, " ");
+    expect(pdfText).toContain(text);
+    expect(pdfText).toContain("page 1 of");
+    expect(pdfText).toContain("Vantrell");
+    const pngBase = artifactPath("handover-page1");
+    fs.rmSync(`${pngBase}.png`, { force: true });
+    execFileSync("pdftoppm", ["-png", "-r", "80", "-f", "1", "-l", "1", "-singlefile", pdfPath, pngBase]);
+    const png = fs.readFileSync(`${pngBase}.png`);
+    expect([...png.subarray(0, 8)]).toEqual([0x89, 0x50, 0x4e, 0x47, 0x0d, 0x0a, 0x1a, 0x0a]);
+    expect(png.length).toBeGreaterThan(5_000);
+    await page.screenshot({ path: artifactPath("handover-page.png"), fullPage: true });
+    await page.close();
+  });
+
+  it("a note written on a loop's page appears in its timeline", async () => {
+    const page = await browser.context.newPage();
+    await signIn(page, "operator@vantrell.example");
+    const r = await page.request.get(`${srv.url}/api/loops`);
+    const { loops } = (await r.json()) as { loops: { id: number; tag: string }[] };
+    const loop = loops[0]!;
+    await page.goto(`${srv.url}/loops/${loop.id}`);
+    const text = `Checked positioner on ${loop.tag}, air supply fine`;
+    await page.getByLabel("Note on this loop").fill(text);
+    await page.getByRole("button", { name: "Add note" }).click();
+    await expect.poll(() => page.getByTestId("loop-timeline").textContent(), { timeout: 15_000 }).toContain(text);
+    await page.close();
+  });
+
+  it("the worst-loops page states its formula; a viewer gets no note form on the handover", async () => {
+    const page = await browser.context.newPage();
+    await signIn(page, "viewer@vantrell.example");
+    await page.goto(`${srv.url}/reports/worst-loops`);
+    await expect.poll(() => page.locator("main").textContent()).toContain("Score = 100 x (criticality / 3)");
+    await page.screenshot({ path: artifactPath("worst-loops-page.png"), fullPage: true });
+    await page.goto(`${srv.url}/reports/fleet-health`);
+    await expect.poll(() => page.locator("main").textContent()).toContain("Share of loops by diagnosis");
+    await page.screenshot({ path: artifactPath("fleet-health-page.png"), fullPage: true });
+    await page.goto(`${srv.url}/reports/handover?shift=current`);
+    await expect.poll(() => page.getByRole("heading", { level: 1 }).textContent()).toContain("Shift in progress");
+    expect(await page.getByRole("button", { name: "Add shift note" }).count()).toBe(0);
+    await page.close();
+  });
+});
