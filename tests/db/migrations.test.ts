@@ -29,13 +29,19 @@ const EXPECTED_TABLES = [
   "config_changes",
   "device_credentials",
   "estimator_checkpoints",
+  "handover_confirmations",
   "invitations",
+  "loop_daily_summaries",
   "loop_states",
   "loops",
+  "membership_sites",
   "memberships",
   "notification_rules",
   "notifications_sent",
+  "operator_notes",
   "pole_snapshots",
+  "report_runs",
+  "report_subscriptions",
   "session_revocations",
   "samples_1m",
   "samples_1s",
@@ -59,7 +65,7 @@ describe("migrations on an empty database", () => {
     expect(applied.length).toBeGreaterThanOrEqual(4);
     const tables = await tableNames(db);
     expect(tables).toEqual([...EXPECTED_TABLES, MIGRATIONS_TABLE].sort());
-    expect(await triggerNames(db)).toEqual(["alarm_events_no_delete", "alarm_events_no_update"]);
+    expect(await triggerNames(db)).toEqual(["alarm_events_no_delete", "alarm_events_no_update", "operator_notes_no_delete", "operator_notes_no_update"]);
     const status = await migrationStatus(db.sequelize);
     expect(status.pending).toEqual([]);
     expect(status.executed).toEqual(applied);
