@@ -14,6 +14,7 @@
  */
 import { publicOrigin } from "@/lib/config";
 import { HttpError } from "@/lib/errors";
+import { INVENTORY_IMPORT_BODY } from "@/lib/admin/inventory-limits";
 import { MAX_CSV_BYTES } from "@/lib/step-tests/csv";
 
 /** Body limits per kind of route (bytes). JSON bodies of the API are small forms. */
@@ -42,6 +43,7 @@ export const STEP_TEST_UPLOAD_BODY: BodyRule = { kind: "multipart", maxBytes: MA
  */
 export function bodyLimitForPath(pathname: string): number {
   if (/^\/api\/loops\/[^/]+\/step-tests\/?$/.test(pathname)) return STEP_TEST_UPLOAD_BODY.maxBytes;
+  if (/^\/api\/admin\/loop-inventory\/?$/.test(pathname)) return INVENTORY_IMPORT_BODY.maxBytes;
   if (pathname.startsWith("/api/")) return BODY_LIMITS.json;
   return BODY_LIMITS.form;
 }

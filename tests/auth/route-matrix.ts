@@ -93,6 +93,8 @@ export const ROUTES: RouteCase[] = [
   { method: "DELETE", path: "/api/admin/notification-rules/:none", minRole: "admin", file: "admin/notification-rules/[ruleId]/route.ts" },
   { method: "GET", path: "/api/admin/loops/:loopId", minRole: "engineer", file: "admin/loops/[loopId]/route.ts", admitted: [200] },
   { method: "GET", path: "/api/admin/config-changes", minRole: "engineer", file: "admin/config-changes/route.ts", admitted: [200] },
+  { method: "GET", path: "/api/admin/loop-inventory", minRole: "engineer", file: "admin/loop-inventory/route.ts", admitted: [200] },
+  { method: "POST", path: "/api/admin/loop-inventory", minRole: "engineer", file: "admin/loop-inventory/route.ts", body: {}, admitted: [422] },
 ];
 
 /**
