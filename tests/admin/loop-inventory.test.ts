@@ -24,7 +24,8 @@ vi.mock("@/lib/auth/guard", () => ({
 
 const route = await import("@/app/api/admin/loop-inventory/route");
 const { KIND_DEFAULTS } = await import("@/lib/admin/inventory-defaults");
-const { parseInventoryCsv, INVENTORY_COLUMNS } = await import("@/lib/admin/inventory-csv");
+const { parseInventoryCsv } = await import("@/lib/admin/inventory-csv");
+const { INVENTORY_COLUMNS } = await import("@/lib/admin/inventory-csv-columns");
 const { bodyLimitForPath } = await import("@/lib/request-guard");
 
 let db: TestDatabase;
