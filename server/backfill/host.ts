@@ -4,11 +4,21 @@
  * they run (server/pipeline.ts calls `observeLive` from its sink). Finished jobs stay listed for
  * a while so the console can show their outcome.
  */
-import { ConflictError } from "@/lib/errors";
+import { ConflictError, NotFoundError } from "@/lib/errors";
 import type { SampleDto } from "@/lib/types";
 import { BackfillJob, type BackfillDeps, type BackfillParams, type BackfillProgress } from "./job";
 import type { ByteSource } from "./sample-csv";
-import { closeAbandonedBackfills } from "./store";
+import { loadLoopConfigs } from "../ingest/loop-source";
+import { closeAbandonedBackfills, listBackfills, type BackfillRow } from "./store";
+
+export interface BackfillRequest {
+  tenantId: number;
+  loopId: number;
+  userId: number | null;
+  fileName: string;
+  totalBytes: number | null;
+  replaceModel: boolean;
+}
 
 const KEEP_FINISHED_MS = 3_600_000;
 
@@ -43,6 +53,19 @@ export class BackfillHost {
       const entry = this.jobs.get(job.id);
       if (entry) entry.finishedAt = Date.now();
     }
+  }
+
+  /** Load the loop (of the tenant) and run a backfill of it: the route's entry point. */
+  async start(req: BackfillRequest, source: ByteSource, onOpen?: (id: number) => void): Promise<BackfillProgress> {
+    const [l] = await loadLoopConfigs(this.deps.sequelize, req.loopId);
+    if (!l || l.route.tenantId !== req.tenantId) throw new NotFoundError("Loop");
+    return this.run({ route: l.route, config: l.config, enabled: l.enabled, userId: req.userId, fileName: req.fileName, totalBytes: req.totalBytes, replaceModel: req.replaceModel }, source, onOpen);
+  }
+
+  /** Recorded backfills of a loop, newest first, with the running one's live progress. */
+  async list(tenantId: number, loopId: number): Promise<{ running: BackfillProgress | null; recorded: BackfillRow[] }> {
+    const running = this.byLoop.get(loopId);
+    return { running: running && running.tenantId === tenantId && running.id > 0 ? running.progress() : null, recorded: await listBackfills(this.deps.sequelize, tenantId, loopId) };
   }
 
   observeLive(loopId: number, samples: readonly SampleDto[], receivedAt: number): void {

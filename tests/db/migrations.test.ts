@@ -29,6 +29,7 @@ const EXPECTED_TABLES = [
   "config_changes",
   "device_credentials",
   "estimator_checkpoints",
+  "history_backfills",
   "invitations",
   "loop_states",
   "loops",
