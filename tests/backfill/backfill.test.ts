@@ -136,6 +136,37 @@ describe("backfill equals live", () => {
   });
 });
 
+describe("live telemetry during a backfill", () => {
+  it("samples arriving live while the file is read follow the backfill into the trained tracker, in order", async () => {
+    // A fresh database table state is not needed: loop A's earlier rows lie hours apart from these.
+    const clock = new SetClock(NOW);
+    const { bus, writer } = setup(clock);
+    const l = await loaded(fx.a.loopId);
+    const registry = new TrackerRegistry({ bus, clock }, [l.config!]);
+    const host = new BackfillHost({ sequelize: db.sequelize, writer, registry, bus, clock, secondRetentionH: 6, minuteRetentionD: 180 });
+    const all = simulate(NOW - 12 * 3_600_000, 1500);
+    const past = all.slice(0, 1200);
+    // the live samples carry on 5 minutes later (the gateway came online after the historian export ended)
+    const live = all.slice(1200).map((s) => ({ ...s, t: s.t + 300_000 }));
+    let fed = false;
+    const res = await host.run({ route: l.route, config: l.config, enabled: true, userId: null, fileName: "past.csv", totalBytes: null, replaceModel: false }, chunks(csvOf(past), 1), () => {
+      setTimeout(() => {
+        for (const s of live) {
+          registry.push(fx.a.loopId, [{ ...s }], s.t); // what the pipeline's sink does first
+          host.observeLive(fx.a.loopId, [{ ...s }], s.t);
+        }
+        fed = true;
+      }, 1);
+    });
+    expect(fed).toBe(true);
+    expect(res.trained).toBe(true);
+    expect(res.accepted).toBe(1200);
+    const tr = registry.get(fx.a.loopId)!;
+    expect(tr.current.samples).toBe(1500);
+    expect(tr.current.last?.t).toBe(live[live.length - 1]!.t);
+  });
+});
+
 describe("rejections, overlap, retention, cancel", () => {
   it("counts every rejected sample with its line and refuses what an earlier backfill or live history wrote", async () => {
     const clock = new SetClock(NOW);
