@@ -51,8 +51,8 @@ export const uploadBackfillHandler = handle(async (req: Request, { params }: Par
   const ctx = await requireContext("engineer");
   const loopId = await ownedLoop(ctx, (await params).loopId);
   const q = parseQuery(req, uploadQuery);
-  if (!req.body) throw new ValidationError("Send the CSV as the request body (text/csv).");
   const len = Number(req.headers.get("content-length") ?? NaN);
+  if (!req.body || len === 0) throw new ValidationError("Send the CSV as the request body (text/csv).");
   const out = await host().start(
     { tenantId: ctx.tenantId, loopId, userId: ctx.userId, fileName: q.file, totalBytes: Number.isFinite(len) ? len : null, replaceModel: q.replace === "1" },
     req.body,

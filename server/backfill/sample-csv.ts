@@ -109,6 +109,7 @@ export async function* readSampleCsv(source: ByteSource, onBytes?: (n: number) =
       }
       yield { line, sample: v.sample };
     }
+    if (!index) yield { line: 1, reject: "bad-header", detail: "The file is empty: its first line must name the columns t, sp, pv, mv (mode, quality optional)." };
   } catch (e) {
     yield { line: Number((e as { lines?: number }).lines ?? 0), reject: "bad-row", detail: `The file is not readable CSV from here on: ${(e as Error).message}` };
   } finally {

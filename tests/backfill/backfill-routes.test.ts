@@ -102,5 +102,11 @@ describe("backfill routes", () => {
     const { backfill } = (await res.json()) as { backfill: { status: string; message: string; accepted: number } };
     expect(backfill).toMatchObject({ status: "failed", accepted: 0 });
     expect(backfill.message).toMatch(/missing: t, sp, pv, mv/);
+    // an empty body is refused before any job starts; an empty stream (no declared length) fails the job
+    expect((await upload(fx.a.loopId, "")).status).toBe(422);
+    const host = (ctx.services.get("pipeline") as unknown as { backfill: BackfillHost }).backfill;
+    const empty = await host.start({ tenantId: fx.a.id, loopId: fx.a.loopId, userId: null, fileName: "empty.csv", totalBytes: null, replaceModel: false }, (async function* () {})());
+    expect(empty).toMatchObject({ status: "failed", accepted: 0 });
+    expect(empty.message).toMatch(/empty/);
   });
 });
