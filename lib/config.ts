@@ -38,6 +38,14 @@ export const configSchema = z.object({
   MQTT_PORT: port.default(1884),
   /** An external broker, e.g. mqtt://127.0.0.1:1883; unset = embedded aedes. */
   MQTT_URL: z.string().optional(),
+  /** MQTT over TLS on its own port (server/broker/tls.ts): off | on | required (plain TCP off); unset = on, off in tests. */
+  MQTT_TLS: z.enum(["off", "on", "required"]).optional(),
+  MQTTS_HOST: z.string().optional(),
+  MQTTS_PORT: port.default(8884),
+  /** PEM certificate and key for mqtts; unset = a self-signed demo pair under MQTT_TLS_DIR. */
+  MQTT_TLS_CERT: z.string().optional(),
+  MQTT_TLS_KEY: z.string().optional(),
+  MQTT_TLS_DIR: z.string().default(".data"),
 
   /** MariaDB: private server under .data/ unless DB_EXTERNAL is true. */
   DB_HOST: z.string().default("127.0.0.1"),

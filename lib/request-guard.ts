@@ -14,6 +14,7 @@
  */
 import { publicOrigin } from "@/lib/config";
 import { HttpError } from "@/lib/errors";
+import { INVENTORY_IMPORT_BODY } from "@/lib/admin/inventory-limits";
 import { MAX_CSV_BYTES } from "@/lib/step-tests/csv";
 
 /** Body limits per kind of route (bytes). JSON bodies of the API are small forms. */
@@ -23,7 +24,7 @@ export const BODY_LIMITS = {
   form: 1024 * 1024,
 } as const;
 
-export type BodyKind = "json" | "multipart";
+export type BodyKind = "json" | "multipart" | "csv";
 
 export interface BodyRule {
   /** Accepted media type of a non-empty body (415 otherwise). */
@@ -34,6 +35,8 @@ export interface BodyRule {
 export const JSON_BODY: BodyRule = { kind: "json", maxBytes: BODY_LIMITS.json };
 /** The step-test CSV upload: the file plus room for the multipart envelope. */
 export const STEP_TEST_UPLOAD_BODY: BodyRule = { kind: "multipart", maxBytes: MAX_CSV_BYTES + 64 * 1024 };
+/** A historian backfill: a CSV streamed as the body (text/csv), read as it arrives, never held whole. */
+export const BACKFILL_UPLOAD_BODY: BodyRule = { kind: "csv", maxBytes: 2 * 1024 * 1024 * 1024 };
 
 /**
  * The largest body the custom server lets through to Next for a path, judged by Content-Length
@@ -42,6 +45,8 @@ export const STEP_TEST_UPLOAD_BODY: BodyRule = { kind: "multipart", maxBytes: MA
  */
 export function bodyLimitForPath(pathname: string): number {
   if (/^\/api\/loops\/[^/]+\/step-tests\/?$/.test(pathname)) return STEP_TEST_UPLOAD_BODY.maxBytes;
+  if (/^\/api\/admin\/loop-inventory\/?$/.test(pathname)) return INVENTORY_IMPORT_BODY.maxBytes;
+  if (/^\/api\/loops\/[^/]+\/backfills\/?$/.test(pathname)) return BACKFILL_UPLOAD_BODY.maxBytes;
   if (pathname.startsWith("/api/")) return BODY_LIMITS.json;
   return BODY_LIMITS.form;
 }
@@ -94,6 +99,7 @@ export function assertBodyHeaders(headers: Headers, rule: BodyRule): void {
   const type = mediaType(headers);
   if (rule.kind === "json" && type !== "application/json") throw new UnsupportedMediaTypeError("application/json");
   if (rule.kind === "multipart" && type !== "multipart/form-data") throw new UnsupportedMediaTypeError("multipart/form-data");
+  if (rule.kind === "csv" && type !== "text/csv") throw new UnsupportedMediaTypeError("text/csv");
   const declared = Number(headers.get("content-length") ?? NaN);
   if (Number.isFinite(declared) && declared > rule.maxBytes) throw new PayloadTooLargeError(rule.maxBytes);
 }

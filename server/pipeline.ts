@@ -19,6 +19,7 @@ import { parseTelemetryTopic } from "@/lib/telemetry";
 import { startRealtimeEmitter, type RealtimeEmitter, type RealtimeEmitterOptions } from "./realtime/emitter";
 import { installWatch } from "./realtime/watch";
 import { TrackerRegistry } from "./tracking/registry";
+import { BackfillHost } from "./backfill/host";
 
 export interface PipelineOptions {
   sequelize?: Sequelize;
@@ -43,6 +44,8 @@ export interface PipelineService extends Service {
   readonly history: HistoryService;
   readonly emitter: RealtimeEmitter;
   readonly directory: LoopDirectory;
+  /** Historian backfills (server/backfill). */
+  readonly backfill: BackfillHost;
   /** Per-device counters of one tenant (the admin diagnostics route). */
   ingestDiagnostics(tenantId: number): IngestDiagnostics;
   /** The live state of a loop, if tracked. */
@@ -97,6 +100,18 @@ export async function startPipeline(ctx: ServerContext, opts: PipelineOptions = 
   };
   ctx.bus.on("tracker:update", onUpdate);
 
+  // historian backfills: they write through the same writer and learn into trackers of this registry
+  const backfill = new BackfillHost({
+    sequelize,
+    writer: history.writer,
+    registry,
+    bus: ctx.bus,
+    clock: ctx.clock,
+    secondRetentionH: ctx.config.HISTORY_SECOND_RETENTION_H,
+    minuteRetentionD: ctx.config.HISTORY_MINUTE_RETENTION_D,
+  });
+  await backfill.recover();
+
   const counters = new IngestCounters();
   const ingest = new Ingest({
     directory,
@@ -104,6 +119,7 @@ export async function startPipeline(ctx: ServerContext, opts: PipelineOptions = 
     now: () => ctx.clock.now(),
     sink: (route, samples, receivedAt) => {
       registry.push(route.loopId, samples, receivedAt);
+      backfill.observeLive(route.loopId, samples, receivedAt);
       history.addSamples(route.loopId, samples);
       emitter.samples(route.loopId, samples);
     },
@@ -186,6 +202,7 @@ export async function startPipeline(ctx: ServerContext, opts: PipelineOptions = 
     history,
     emitter,
     directory,
+    backfill,
     ingestDiagnostics: (tenantId) => ({ devices: counters.snapshot(tenantId), totals: counters.totals(tenantId) }),
     loopState: (loopId) => registry.get(loopId)?.current ?? lastStateByLoop.get(loopId) ?? null,
     reloadLoop,
@@ -219,6 +236,7 @@ export async function startPipeline(ctx: ServerContext, opts: PipelineOptions = 
     async stop() {
       if (stopped) return;
       stopped = true;
+      backfill.cancelAll();
       await broker.stop();
       tickTimer.cancel();
       checkpointTimer.cancel();

@@ -179,6 +179,11 @@ export function LoopDetail({ loopId, role, initialRange = "1h" }: { loopId: numb
               Edit loop
             </Link>
           )}
+          {roleAtLeast(role, "engineer") && (
+            <Link href={`/loops/${loop.id}/backfill`} className="rounded border border-line px-2 py-1 text-sm hover:border-accent">
+              Historian backfill
+            </Link>
+          )}
         </div>
       </header>
 

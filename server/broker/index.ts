@@ -15,6 +15,7 @@ import { IngestCounters, UNAUTHENTICATED, type DeviceIdentity } from "@/server/i
 import { CachedCredentials, clientIdAllowed, secretMatches, type CredentialLookup, type DeviceCredential } from "./credentials";
 import { FrameGuard } from "./frame-guard";
 import { topicMatches } from "./topic-match";
+import { listenTls, tlsListenerFromConfig, type TlsListenerOptions } from "./tls";
 
 export { hashDeviceSecret, StaticCredentials, CachedCredentials, clientIdAllowed, type DeviceCredential, type CredentialLookup } from "./credentials";
 
@@ -52,12 +53,16 @@ export interface BrokerOptions {
   perKey?: { points: number; durationS: number };
   /** How often connected devices are re-checked for revocation (ms). */
   revocationSweepMs?: number;
+  /** mqtts listener (server/broker/tls.ts); default from the configuration, null = none. */
+  tls?: TlsListenerOptions | null;
 }
 
 export interface BrokerService extends Service {
   /** The embedded broker, or null when an external broker is used. */
   readonly broker: Aedes | null;
   address(): { host: string; port: number } | null;
+  /** The mqtts listener's address, when TLS is on. */
+  tlsAddress?(): { host: string; port: number } | null;
   publishInternal(topic: string, payload: Buffer | string): Promise<void>;
   subscribeInternal(pattern: string, handler: BrokerMessageHandler): () => void;
 }
@@ -218,7 +223,7 @@ async function startEmbedded(ctx: ServerContext, opts: BrokerOptions): Promise<B
   });
 
   const sockets = new Set<net.Socket>();
-  const server = net.createServer((socket) => {
+  const onSocket = (socket: net.Socket) => {
     socket.setNoDelay(true); // Nagle adds 15-50 ms tails at high per-connection rates (§11)
     sockets.add(socket);
     socket.on("close", () => sockets.delete(socket));
@@ -235,14 +240,20 @@ async function startEmbedded(ctx: ServerContext, opts: BrokerOptions): Promise<B
     socket.on("data", (chunk: Buffer) => {
       guard.push(chunk);
     });
-  });
-  await new Promise<void>((resolve, reject) => {
-    server.once("error", reject);
-    server.listen(opts.port ?? cfg.MQTT_PORT, opts.host ?? cfg.MQTT_HOST, () => {
-      server.off("error", reject);
-      resolve();
+  };
+  const tlsOpts = opts.tls !== undefined ? opts.tls : tlsListenerFromConfig(cfg, cfg.MQTT_TLS_DIR);
+  // TLS required: no plain listener at all, so a gateway without TLS cannot connect
+  const server = net.createServer(onSocket);
+  if (tlsOpts?.mode !== "required") {
+    await new Promise<void>((resolve, reject) => {
+      server.once("error", reject);
+      server.listen(opts.port ?? cfg.MQTT_PORT, opts.host ?? cfg.MQTT_HOST, () => {
+        server.off("error", reject);
+        resolve();
+      });
     });
-  });
+  }
+  const tlsServer = tlsOpts ? await listenTls(tlsOpts, onSocket) : null;
 
   // Connected devices whose credential was revoked (or changed) are dropped within one sweep.
   const sweep = ctx.clock.setInterval(() => {
@@ -273,10 +284,15 @@ async function startEmbedded(ctx: ServerContext, opts: BrokerOptions): Promise<B
     const a = server.address();
     return a && typeof a === "object" ? { host: a.address, port: a.port } : null;
   };
+  const tlsAddress = () => {
+    const a = tlsServer?.address();
+    return a && typeof a === "object" ? { host: a.address, port: a.port } : null;
+  };
   return {
     name: "broker",
     broker,
     address,
+    tlsAddress,
     async publishInternal(topic, payload) {
       await new Promise<void>((resolve, reject) =>
         broker.publish(
@@ -293,7 +309,7 @@ async function startEmbedded(ctx: ServerContext, opts: BrokerOptions): Promise<B
     health() {
       return {
         status: stopped ? "down" : "ok",
-        detail: { mode: "embedded", address: address(), connectedClients: broker.connectedClients, refusals: { ...refusals } },
+        detail: { mode: "embedded", address: address(), tls: tlsOpts ? { mode: tlsOpts.mode, address: tlsAddress() } : null, connectedClients: broker.connectedClients, refusals: { ...refusals } },
       };
     },
     async stop() {
@@ -301,7 +317,9 @@ async function startEmbedded(ctx: ServerContext, opts: BrokerOptions): Promise<B
       stopped = true;
       sweep.cancel();
       await new Promise<void>((resolve) => {
-        server.close(() => resolve());
+        if (server.listening) server.close(() => resolve());
+        else resolve();
+        tlsServer?.close();
         for (const s of sockets) s.destroy();
       });
       await new Promise<void>((resolve) => broker.close(() => resolve()));

@@ -118,6 +118,12 @@ export class TrackerRegistry {
     }
   }
 
+  /** Put a tracker built elsewhere (a historian backfill's, trained on past samples) in its loop's place. */
+  replaceTracker(tracker: LoopTracker): void {
+    this.trackers.set(tracker.config.id, tracker);
+    this.rejected.delete(tracker.config.id);
+  }
+
   removeLoop(loopId: number): boolean {
     return this.trackers.delete(loopId);
   }

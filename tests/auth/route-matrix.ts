@@ -53,6 +53,11 @@ export const ROUTES: RouteCase[] = [
   { method: "GET", path: "/api/loops/:loopId/step-tests/:none", minRole: "viewer", file: "loops/[loopId]/step-tests/[stepTestId]/route.ts", admitted: [404] },
   { method: "GET", path: "/api/loops/:loopId/step-tests/:none/data", minRole: "viewer", file: "loops/[loopId]/step-tests/[stepTestId]/data/route.ts", admitted: [404] },
   { method: "POST", path: "/api/loops/:loopId/step-tests/:none/apply", minRole: "engineer", file: "loops/[loopId]/step-tests/[stepTestId]/apply/route.ts", body: {} },
+  // The backfill upload takes text/csv only (a JSON body is 415 before the role check): sent without a body (422).
+  { method: "GET", path: "/api/loops/:loopId/backfills", minRole: "engineer", file: "loops/[loopId]/backfills/route.ts", admitted: [200] },
+  { method: "POST", path: "/api/loops/:loopId/backfills", minRole: "engineer", file: "loops/[loopId]/backfills/route.ts", admitted: [422] },
+  { method: "GET", path: "/api/loops/:loopId/backfills/:none", minRole: "engineer", file: "loops/[loopId]/backfills/[jobId]/route.ts", admitted: [404] },
+  { method: "DELETE", path: "/api/loops/:loopId/backfills/:none", minRole: "engineer", file: "loops/[loopId]/backfills/[jobId]/route.ts", admitted: [404] },
   { method: "GET", path: "/api/diagnostics/ingest", minRole: "admin", file: "diagnostics/ingest/route.ts" },
 
   // alarms
@@ -107,6 +112,8 @@ export const ROUTES: RouteCase[] = [
   { method: "GET", path: "/api/reports/subscriptions", minRole: "viewer", file: "reports/subscriptions/route.ts", admitted: [200] },
   { method: "POST", path: "/api/reports/subscriptions", minRole: "viewer", file: "reports/subscriptions/route.ts", body: {}, admitted: [422] },
   { method: "DELETE", path: "/api/reports/subscriptions/:none", minRole: "viewer", file: "reports/subscriptions/[subscriptionId]/route.ts", admitted: [404] },
+  { method: "GET", path: "/api/admin/loop-inventory", minRole: "engineer", file: "admin/loop-inventory/route.ts", admitted: [200] },
+  { method: "POST", path: "/api/admin/loop-inventory", minRole: "engineer", file: "admin/loop-inventory/route.ts", body: {}, admitted: [422] },
 ];
 
 /**

@@ -30,6 +30,7 @@ const EXPECTED_TABLES = [
   "device_credentials",
   "estimator_checkpoints",
   "handover_confirmations",
+  "history_backfills",
   "invitations",
   "loop_daily_summaries",
   "loop_states",

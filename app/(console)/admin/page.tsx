@@ -1,5 +1,6 @@
 import { redirect } from "next/navigation";
 import { AdminDevices } from "@/app/_components/admin-devices";
+import { AdminLoopImport } from "@/app/_components/admin-loop-import";
 import { AdminOutbox, AdminRules, AdminSites } from "@/app/_components/admin-misc";
 import { AdminPolicies } from "@/app/_components/admin-policies";
 import { AdminUsers } from "@/app/_components/admin-users";
@@ -13,6 +14,7 @@ export const metadata = { title: "Administration · Rimguard" };
 
 const SECTIONS = [
   { id: "levels", label: "Alarm levels", min: "engineer" },
+  { id: "inventory", label: "Loop inventory", min: "engineer" },
   { id: "users", label: "Users and roles", min: "admin" },
   { id: "devices", label: "Device credentials", min: "admin" },
   { id: "notifications", label: "Notification rules", min: "admin" },
@@ -49,6 +51,7 @@ export default async function AdminPage({ searchParams }: { searchParams: Promis
         </ul>
       </nav>
       {section === "levels" && <AdminPolicies role={ctx.role} initialScope={scope} initialId={id} />}
+      {section === "inventory" && <AdminLoopImport />}
       {section === "users" && <AdminUsers selfUserId={ctx.userId} />}
       {section === "devices" && <AdminDevices />}
       {section === "notifications" && <AdminRules />}

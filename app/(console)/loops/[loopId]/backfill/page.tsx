@@ -1,0 +1,38 @@
+import Link from "next/link";
+import { notFound, redirect } from "next/navigation";
+import { LoopBackfill } from "@/app/_components/loop-backfill";
+import { getLoopConfig } from "@/lib/admin/loops";
+import { getContextOrNull } from "@/lib/auth/guard";
+import { roleAtLeast } from "@/lib/types";
+
+export const dynamic = "force-dynamic";
+export const metadata = { title: "Historian backfill · Rimguard" };
+
+export default async function BackfillPage({ params }: { params: Promise<{ loopId: string }> }) {
+  const ctx = await getContextOrNull();
+  if (!ctx) redirect("/signin");
+  if (!roleAtLeast(ctx.role, "engineer")) redirect("/");
+  const id = Number((await params).loopId);
+  if (!Number.isInteger(id) || id <= 0) notFound();
+  const cfg = await getLoopConfig(ctx, id);
+  if (!cfg) notFound();
+  return (
+    <div className="flex flex-col gap-4">
+      <div className="flex flex-wrap items-baseline gap-3">
+        <h1 className="text-xl font-semibold">
+          Historian backfill · <span className="font-mono">{cfg.tag}</span>
+        </h1>
+        <Link href={`/loops/${id}`} className="text-sm text-accent underline">
+          back to the loop
+        </Link>
+      </div>
+      <p className="max-w-3xl text-sm text-muted">
+        Upload an export of this loop&apos;s past samples (columns t, sp, pv, mv and optionally mode and quality; t as ISO 8601 with a zone or epoch
+        seconds; in time order). Each sample is checked like live telemetry, written to the history, and replayed through the loop&apos;s tracker so
+        it starts live with a trained model. Times already in the history are refused, never written twice. Samples older than the per-second
+        history keep only their 1-minute aggregates.
+      </p>
+      <LoopBackfill loopId={id} />
+    </div>
+  );
+}
