@@ -68,6 +68,13 @@ export function diagnose(x: DiagnosisInput): Diagnosis {
   if (sf.outOfRange > 0.03) {
     return { label: "sensor-fault", confidence: clamp(0.6 + sf.outOfRange), evidence: [`likely a measurement fault: PV leaves its range while the output is still free, ${pct(sf.outOfRange)} of the time`] };
   }
+  if (sf.failureSignal > 0.03) {
+    return {
+      label: "sensor-fault",
+      confidence: clamp(0.6 + sf.failureSignal),
+      evidence: [`likely a failed measurement: PV lies beyond what a working transmitter reports (NAMUR NE 43 measurement limits −1.25 % / +103.1 % of span) ${pct(sf.failureSignal)} of the time${x.saturation > 0.2 ? "; the output at its limit follows from the false reading" : ""}`],
+    };
+  }
   if (x.saturation > 0.2) return { label: "saturated", confidence: clamp(0.5 + x.saturation), evidence: [`likely saturated: MV at a limit ${pct(x.saturation)} of the time, the loop cannot act`] };
   const periods = x.oscillation.periodS ? x.spanS / x.oscillation.periodS : 0;
   const enoughForOscillation = x.oscillation.detected && periods >= 5;
