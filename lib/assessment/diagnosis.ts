@@ -8,6 +8,7 @@
  */
 import { fmt } from "./oscillation";
 import type { SensorFigures } from "./sensor";
+import { isLine, type SpectralLine } from "./spectral-line";
 import type { Diagnosis, StictionFigures } from "./types";
 
 export interface DiagnosisInput {
@@ -34,6 +35,8 @@ export interface DiagnosisInput {
   /** The ACF dip relative to its lag-1 value (white noise removed): how far the error swings back; null without a dominant mode. */
   overshoot: number | null;
   noisePct: number;
+  /** Strongest spectral line of the error (spectral-line.ts). */
+  spectralLine: SpectralLine | null;
 }
 
 /** Per-period ACF ratio above which an oscillation counts as sustained (a damped mode decays). */
@@ -102,6 +105,9 @@ export function diagnose(x: DiagnosisInput): Diagnosis {
       return { label: "valve-stiction", confidence: stictionConfidence(x, 0.6), evidence: [...x.stiction.evidence.slice(0, 1), oscLine, ...x.stiction.evidence.slice(1)] };
     }
     const sustained = persistence !== null && persistence > SUSTAINED;
+    if (isLine(x.spectralLine) && !sustained) {
+      return { label: "external-disturbance", confidence: 0.7, evidence: [lineLine(x.spectralLine!), oscLine, ...x.stiction.evidence] };
+    }
     if (sustained) {
       return {
         label: "external-disturbance",
@@ -124,6 +130,11 @@ export function diagnose(x: DiagnosisInput): Diagnosis {
     if (x.stiction.verdict === "likely") {
       return { label: "valve-stiction", confidence: stictionConfidence(x, 0.5), evidence: [...x.stiction.evidence.slice(0, 1), `irregular cycles of about ${fmt(osc.periodS, 1)} s`, ...x.stiction.evidence.slice(1)] };
     }
+  }
+  if (isLine(x.spectralLine)) {
+    return { label: "external-disturbance", confidence: 0.6, evidence: [lineLine(x.spectralLine!), "the oscillation test did not fire: random disturbances of the loop mask the cycle in the time domain"] };
+  }
+  if (x.ringDepth !== null && x.ringDepth < -0.15) {
     if (x.ringDepth < AGGRESSIVE_RING) {
       return {
         label: "aggressive-tuning",
@@ -147,6 +158,10 @@ export function diagnose(x: DiagnosisInput): Diagnosis {
   if (idle !== null) ev.push(`idle index ${fmt(idle)} (not sluggish; Hägglund 1999)`);
   if (harris !== null) ev.push(`variance ${fmt(harris, 1)}× the minimum for the dead time (Harris index)`);
   return { label: "healthy", confidence: clamp(0.6 + (idle !== null ? 0.1 : 0) + (harris !== null && harris < 3 ? 0.1 : 0)), evidence: ev };
+}
+
+function lineLine(l: SpectralLine): string {
+  return `likely a periodic disturbance from outside: the error carries a spectral line at ${fmt(l.periodS, 1)} s (${fmt(l.ratio, 0)}× its neighbours, ${pct(l.share)} of the variance); a loop's own mode under random disturbances gives a broad peak, not a line (Fisher's periodogram test, 1929)`;
 }
 
 /** Higher with a more triangular shape; lower when the cross-correlation reads even. */
