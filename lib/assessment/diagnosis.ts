@@ -22,6 +22,9 @@ export interface DiagnosisInput {
   /** Share of the time the output is held exactly while PV moves (see usage.ts). */
   heldOutput: number;
   saturation: number;
+  /** Output moves from one limit to the other this many times; share of time at the less-used limit. */
+  limitAlternations: number;
+  saturationMinor: number;
   oscillation: { detected: boolean; periodS: number | null; regularity: number | null; persistence: number | null; amplitudePct: number | null };
   oscillationInManual: boolean | null;
   spOscillates: boolean;
@@ -78,7 +81,10 @@ export function diagnose(x: DiagnosisInput): Diagnosis {
       evidence: [`likely a failed measurement: PV lies beyond what a working transmitter reports (NAMUR NE 43 measurement limits −1.25 % / +103.1 % of span) ${pct(sf.failureSignal)} of the time${x.saturation > 0.2 ? "; the output at its limit follows from the false reading" : ""}`],
     };
   }
-  if (x.saturation > 0.2) return { label: "saturated", confidence: clamp(0.5 + x.saturation), evidence: [`likely saturated: MV at a limit ${pct(x.saturation)} of the time, the loop cannot act`] };
+  // An output driven from stop to stop many times (each limit reached at least a fifth as often
+  // as the saturation share) is a cycle's symptom: the oscillation checks decide (ours).
+  const stopToStop = x.limitAlternations >= 10 && x.saturationMinor >= 0.2 * x.saturation;
+  if (x.saturation > 0.2 && !stopToStop) return { label: "saturated", confidence: clamp(0.5 + x.saturation), evidence: [`likely saturated: MV at a limit ${pct(x.saturation)} of the time, the loop cannot act`] };
   const periods = x.oscillation.periodS ? x.spanS / x.oscillation.periodS : 0;
   const enoughForOscillation = x.oscillation.detected && periods >= 5;
   if (x.spanS < x.neededS && !enoughForOscillation) {
@@ -142,6 +148,15 @@ export function diagnose(x: DiagnosisInput): Diagnosis {
         evidence: [`likely aggressive tuning: the error rings after disturbances (its autocorrelation dips to ${fmt(x.ringDepth)} within a period of about ${fmt(osc.periodS, 1)} s) without a stick-slip shape`, ...x.stiction.evidence],
       };
     }
+  }
+  if (stopToStop && x.saturation > 0.2) {
+    return {
+      label: "aggressive-tuning",
+      confidence: 0.6,
+      evidence: [
+        `likely aggressive tuning: the output is driven from one limit to the other ${x.limitAlternations} times (at a limit ${pct(x.saturation)} of the time), with no outside cycle or stick-slip sign: the controller acts far harder than the loop needs`,
+      ],
+    };
   }
   const idle = x.idleIndex;
   const harris = x.harrisIndex;

@@ -194,6 +194,8 @@ export function assessLoop(input: readonly AssessSample[], config: LoopConfig): 
     hasMode: w.hasMode,
     heldOutput: usage.heldOutput,
     saturation: usage.saturation,
+    limitAlternations: usage.limitAlternations,
+    saturationMinor: usage.saturationMinor,
     oscillation: { ...osc, amplitudePct: osc.amplitude },
     oscillationInManual,
     spOscillates,

@@ -146,6 +146,18 @@ describe("diagnosis on simulated loops (10 seeds each)", () => {
     expect(r.diagnosis.label).toBe("saturated");
   });
 
+  // Common practice (no source): a load beyond the output's range pins it at one limit for long
+  // spells; an output banged from stop to stop by a far too high gain is a tuning fault.
+  it("an output driven from limit to limit by a far too high gain is not read as saturated", () => {
+    const got = labels(
+      (seed) => ({ seed, n: 4000, kp: 60, ti: 15, noise: 0.3, mvLo: 40, mvHi: 60, mv0: 50, sp0: 50 }),
+      (s) => s,
+      config({ controller: { kp: 60, ti: 15, td: 0, action: "reverse", mvLo: 40, mvHi: 60 } }),
+    );
+    expect(count(got, "saturated"), got.join(",")).toBe(0);
+    expect(count(got, "aggressive-tuning"), got.join(",")).toBeGreaterThanOrEqual(8);
+  });
+
   it("too little data for a slow loop is undetermined with the time still needed", () => {
     const cfg = config({ deadTimeS: 30, controller: { kp: 0.5, ti: 300, mvLo: 0, mvHi: 100 } });
     const r = assessLoop(simulateLoop({ seed: 1, n: 600, kp: 0.5, ti: 300, tauS: 300, deadS: 30 }), cfg);
