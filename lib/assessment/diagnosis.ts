@@ -8,6 +8,7 @@
  */
 import { fmt } from "./oscillation";
 import type { SensorFigures } from "./sensor";
+import { isLine, type SpectralLine } from "./spectral-line";
 import type { Diagnosis, StictionFigures } from "./types";
 
 export interface DiagnosisInput {
@@ -21,6 +22,9 @@ export interface DiagnosisInput {
   /** Share of the time the output is held exactly while PV moves (see usage.ts). */
   heldOutput: number;
   saturation: number;
+  /** Output moves from one limit to the other this many times; share of time at the less-used limit. */
+  limitAlternations: number;
+  saturationMinor: number;
   oscillation: { detected: boolean; periodS: number | null; regularity: number | null; persistence: number | null; amplitudePct: number | null };
   oscillationInManual: boolean | null;
   spOscillates: boolean;
@@ -34,6 +38,8 @@ export interface DiagnosisInput {
   /** The ACF dip relative to its lag-1 value (white noise removed): how far the error swings back; null without a dominant mode. */
   overshoot: number | null;
   noisePct: number;
+  /** Strongest spectral line of the error (spectral-line.ts). */
+  spectralLine: SpectralLine | null;
 }
 
 /** Per-period ACF ratio above which an oscillation counts as sustained (a damped mode decays). */
@@ -68,7 +74,17 @@ export function diagnose(x: DiagnosisInput): Diagnosis {
   if (sf.outOfRange > 0.03) {
     return { label: "sensor-fault", confidence: clamp(0.6 + sf.outOfRange), evidence: [`likely a measurement fault: PV leaves its range while the output is still free, ${pct(sf.outOfRange)} of the time`] };
   }
-  if (x.saturation > 0.2) return { label: "saturated", confidence: clamp(0.5 + x.saturation), evidence: [`likely saturated: MV at a limit ${pct(x.saturation)} of the time, the loop cannot act`] };
+  if (sf.failureSignal > 0.03) {
+    return {
+      label: "sensor-fault",
+      confidence: clamp(0.6 + sf.failureSignal),
+      evidence: [`likely a failed measurement: PV lies beyond what a working transmitter reports (NAMUR NE 43 measurement limits −1.25 % / +103.1 % of span) ${pct(sf.failureSignal)} of the time${x.saturation > 0.2 ? "; the output at its limit follows from the false reading" : ""}`],
+    };
+  }
+  // An output driven from stop to stop many times (each limit reached at least a fifth as often
+  // as the saturation share) is a cycle's symptom: the oscillation checks decide (ours).
+  const stopToStop = x.limitAlternations >= 10 && x.saturationMinor >= 0.2 * x.saturation;
+  if (x.saturation > 0.2 && !stopToStop) return { label: "saturated", confidence: clamp(0.5 + x.saturation), evidence: [`likely saturated: MV at a limit ${pct(x.saturation)} of the time, the loop cannot act`] };
   const periods = x.oscillation.periodS ? x.spanS / x.oscillation.periodS : 0;
   const enoughForOscillation = x.oscillation.detected && periods >= 5;
   if (x.spanS < x.neededS && !enoughForOscillation) {
@@ -95,6 +111,9 @@ export function diagnose(x: DiagnosisInput): Diagnosis {
       return { label: "valve-stiction", confidence: stictionConfidence(x, 0.6), evidence: [...x.stiction.evidence.slice(0, 1), oscLine, ...x.stiction.evidence.slice(1)] };
     }
     const sustained = persistence !== null && persistence > SUSTAINED;
+    if (isLine(x.spectralLine) && !sustained) {
+      return { label: "external-disturbance", confidence: 0.7, evidence: [lineLine(x.spectralLine!), oscLine, ...x.stiction.evidence] };
+    }
     if (sustained) {
       return {
         label: "external-disturbance",
@@ -117,6 +136,11 @@ export function diagnose(x: DiagnosisInput): Diagnosis {
     if (x.stiction.verdict === "likely") {
       return { label: "valve-stiction", confidence: stictionConfidence(x, 0.5), evidence: [...x.stiction.evidence.slice(0, 1), `irregular cycles of about ${fmt(osc.periodS, 1)} s`, ...x.stiction.evidence.slice(1)] };
     }
+  }
+  if (isLine(x.spectralLine)) {
+    return { label: "external-disturbance", confidence: 0.6, evidence: [lineLine(x.spectralLine!), "the oscillation test did not fire: random disturbances of the loop mask the cycle in the time domain"] };
+  }
+  if (x.ringDepth !== null && x.ringDepth < -0.15) {
     if (x.ringDepth < AGGRESSIVE_RING) {
       return {
         label: "aggressive-tuning",
@@ -124,6 +148,15 @@ export function diagnose(x: DiagnosisInput): Diagnosis {
         evidence: [`likely aggressive tuning: the error rings after disturbances (its autocorrelation dips to ${fmt(x.ringDepth)} within a period of about ${fmt(osc.periodS, 1)} s) without a stick-slip shape`, ...x.stiction.evidence],
       };
     }
+  }
+  if (stopToStop && x.saturation > 0.2) {
+    return {
+      label: "aggressive-tuning",
+      confidence: 0.6,
+      evidence: [
+        `likely aggressive tuning: the output is driven from one limit to the other ${x.limitAlternations} times (at a limit ${pct(x.saturation)} of the time), with no outside cycle or stick-slip sign: the controller acts far harder than the loop needs`,
+      ],
+    };
   }
   const idle = x.idleIndex;
   const harris = x.harrisIndex;
@@ -140,6 +173,10 @@ export function diagnose(x: DiagnosisInput): Diagnosis {
   if (idle !== null) ev.push(`idle index ${fmt(idle)} (not sluggish; Hägglund 1999)`);
   if (harris !== null) ev.push(`variance ${fmt(harris, 1)}× the minimum for the dead time (Harris index)`);
   return { label: "healthy", confidence: clamp(0.6 + (idle !== null ? 0.1 : 0) + (harris !== null && harris < 3 ? 0.1 : 0)), evidence: ev };
+}
+
+function lineLine(l: SpectralLine): string {
+  return `likely a periodic disturbance from outside: the error carries a spectral line at ${fmt(l.periodS, 1)} s (${fmt(l.ratio, 0)}× its neighbours, ${pct(l.share)} of the variance); a loop's own mode under random disturbances gives a broad peak, not a line (Fisher's periodogram test, 1929)`;
 }
 
 /** Higher with a more triangular shape; lower when the cross-correlation reads even. */

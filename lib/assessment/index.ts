@@ -12,6 +12,7 @@ import { countLoadDisturbances, detectOscillation, oscillatesAt } from "./oscill
 import { autocorrelation, variance } from "./signal";
 import { sensorFigures } from "./sensor";
 import { idleIndex } from "./sluggishness";
+import { strongestLine } from "./spectral-line";
 import { assessStiction } from "./stiction";
 import type { AssessSample, LoopAssessmentReport } from "./types";
 import { computeUsage } from "./usage";
@@ -167,6 +168,9 @@ export function assessLoop(input: readonly AssessSample[], config: LoopConfig): 
   const dist = disturbanceResponse(w.e, stretches, w.T, config.samplePeriodS, d);
   if (dist) cautions.push("disturbanceResponse: poles of an AR model of the control error in routine operation; they mix the loop's response with the disturbance's own dynamics and are not the loop's poles.");
 
+  // A periodic component from outside shows as a spectral line in the error.
+  const line = strongestLine(w.e, include, w.T);
+
   const acf = acfFull.subarray(0, Math.min(acfFull.length, Math.max(20, Math.round((osc.periodS ?? timeScale * 2) / w.T) * 2)));
 
   const sensor = sensorFigures(w, config, compression.repeatShare);
@@ -190,6 +194,8 @@ export function assessLoop(input: readonly AssessSample[], config: LoopConfig): 
     hasMode: w.hasMode,
     heldOutput: usage.heldOutput,
     saturation: usage.saturation,
+    limitAlternations: usage.limitAlternations,
+    saturationMinor: usage.saturationMinor,
     oscillation: { ...osc, amplitudePct: osc.amplitude },
     oscillationInManual,
     spOscillates,
@@ -200,6 +206,7 @@ export function assessLoop(input: readonly AssessSample[], config: LoopConfig): 
     disturbanceDecayRatio: dist?.decayRatio ?? null,
     ringDepth: periodSamples ? ringDepth : null,
     overshoot,
+    spectralLine: line,
     noisePct: usage.pvNoisePct,
   });
 
@@ -239,6 +246,7 @@ export function assessLoop(input: readonly AssessSample[], config: LoopConfig): 
       ownModePeriodS: ownPeriodS,
       errorDecorrelationS: decorrelation < acfFull.length ? decorrelationS : null,
       ringDepth: periodSamples ? ringDepth : null,
+      spectralLine: line ? { periodS: line.periodS, ratio: line.ratio, share: line.share } : null,
       disturbanceDecayRatio: dist?.decayRatio ?? null,
       errorAcf: Array.from(acf.subarray(0, Math.min(acf.length, 400)), (v) => Math.round(v * 1e4) / 1e4),
     },

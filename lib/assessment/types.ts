@@ -110,6 +110,8 @@ export interface AssessmentDetails {
   errorDecorrelationS: number | null;
   /** Lowest error ACF within 1.5 dominant periods (below about -0.2: the error rings). */
   ringDepth: number | null;
+  /** Strongest spectral line of the error: period, s; ordinate over its neighbours' median; share of the error variance (spectral-line.ts). */
+  spectralLine: { periodS: number; ratio: number; share: number } | null;
   /** Decay ratio of the dominant disturbance-response pole (period-invariant), null when real. */
   disturbanceDecayRatio: number | null;
   /** Autocorrelation of the control error (first lags, at analysisPeriodS), for the evidence plot. */

@@ -11,6 +11,14 @@ export interface UsageFigures {
   serviceFactor: number | null;
   manual: number;
   saturation: number;
+  /**
+   * Times the output went from one limit to the other (through the range). A load beyond the
+   * output's range pins it at one limit for long spells; an output driven from stop to stop,
+   * many times, is the symptom of a cycle, not of a load the valve cannot meet.
+   */
+  limitAlternations: number;
+  /** Share of good samples at the limit less used (0 when only one limit is reached). */
+  saturationMinor: number;
   valveTravelPctPerHour: number;
   valveReversalsPerHour: number;
   /** ±3σ of PV noise, PV units. */
@@ -36,6 +44,9 @@ export function computeUsage(w: AssessWindow, config: LoopConfig): UsageFigures 
   let manual = 0;
   let known = 0;
   let sat = 0;
+  let satLo = 0;
+  let alternations = 0;
+  let lastSide = 0;
   let goodCount = 0;
   const wanted = config.normalMode === "cascade" ? MODE_CASCADE : MODE_AUTO;
   for (let i = 0; i < w.n; i++) {
@@ -48,7 +59,13 @@ export function computeUsage(w: AssessWindow, config: LoopConfig): UsageFigures 
     if (w.good[i]) {
       goodCount++;
       const u = w.mv[i]!;
-      if (u <= mvLo + band || u >= mvHi - band) sat++;
+      const side = u <= mvLo + band ? -1 : u >= mvHi - band ? 1 : 0;
+      if (side !== 0) {
+        sat++;
+        if (side < 0) satLo++;
+        if (lastSide !== 0 && side !== lastSide) alternations++;
+        lastSide = side;
+      }
     }
   }
   const mvNoise = noiseSigma(w.mv);
@@ -94,6 +111,8 @@ export function computeUsage(w: AssessWindow, config: LoopConfig): UsageFigures 
     serviceFactor: w.hasMode && known > 0 ? normal / known : null,
     manual: known > 0 ? manual / known : 0,
     saturation: goodCount > 0 ? sat / goodCount : 0,
+    limitAlternations: alternations,
+    saturationMinor: goodCount > 0 ? Math.min(satLo, sat - satLo) / goodCount : 0,
     valveTravelPctPerHour: hours > 0 ? travel / hours : 0,
     valveReversalsPerHour: hours > 0 ? reversals / hours : 0,
     noiseBand: (3 * pvNoisePct * w.pvSpan) / 100,

@@ -33,9 +33,11 @@ describe("benchmark plan and seeds", () => {
     expect(plan.filter((p) => p.label === "undetermined" && p.borderline).length).toBe(16);
   });
 
-  it("keeps DEV and FROZEN seeds apart and generates the same recording from the same seed", () => {
+  it("keeps DEV, FROZEN and HOLDOUT seeds apart and generates the same recording from the same seed", () => {
     const dev = new Set(plan.map((p) => recordingSeed("dev", p.index)));
+    const frozen = new Set(plan.map((p) => recordingSeed("frozen", p.index)));
     for (const p of plan) expect(dev.has(recordingSeed("frozen", p.index))).toBe(false);
+    for (const p of plan) expect(dev.has(recordingSeed("holdout", p.index)) || frozen.has(recordingSeed("holdout", p.index))).toBe(false);
     const a = generateRecording("dev", 5);
     const b = generateRecording("dev", 5);
     expect(b.samples).toEqual(a.samples);

@@ -111,6 +111,26 @@ describe("diagnosis on simulated loops (10 seeds each)", () => {
     expect(r.diagnosis.label).toBe("sensor-fault");
   });
 
+  // NAMUR NE 43 (from memory): a 4–20 mA transmitter measures within 3.8–20.5 mA (−1.25 % to
+  // +103.125 % of span); beyond that is a failure signal, so the output that winds to its limit
+  // behind a reading pinned there is a consequence, not a saturated loop.
+  it("a PV pinned past the NE 43 measurement limit with the output wound to its limit reads sensor-fault, not saturated", () => {
+    const r = assessLoop(
+      simulateLoop({ seed: 3, n: 4000, kp: 0.5, ti: 15 }).map((s, i) => (i >= 2000 ? { ...s, pv: 105, mv: 0 } : s)),
+      config(),
+    );
+    expect(r.saturation).toBeGreaterThan(0.2);
+    expect(r.diagnosis.label).toBe("sensor-fault");
+  });
+
+  it("a PV at the range end but within the NE 43 measurement limit, output at its limit, still reads saturated", () => {
+    const r = assessLoop(
+      simulateLoop({ seed: 3, n: 4000, kp: 0.5, ti: 15 }).map((s, i) => (i >= 2000 ? { ...s, pv: 101 + 0.5 * Math.sin(i / 7), mv: 0 } : s)),
+      config(),
+    );
+    expect(r.diagnosis.label).toBe("saturated");
+  });
+
   it("a gap in the export is a caution, not a sensor fault", () => {
     const cfg = config({ deadTimeS: 3, controller: { kp: 2.9, ti: 20, mvLo: 0, mvHi: 100 } });
     const s = simulateLoop({ seed: 1, n: 8000, kp: 2.9, ti: 20 }).map((x, i) => ({ ...x, t: i < 4000 ? x.t : x.t + 20_000 }));
@@ -124,6 +144,18 @@ describe("diagnosis on simulated loops (10 seeds each)", () => {
     const r = assessLoop(simulateLoop({ seed: 1, n: 4000, kp: 0.5, ti: 15, sp0: 50, mvHi: 55, spSteps: [{ at: 1000, sp: 70 }] }), config({ controller: { kp: 0.5, ti: 15, mvLo: 0, mvHi: 55 } }));
     expect(r.saturation).toBeGreaterThan(0.5);
     expect(r.diagnosis.label).toBe("saturated");
+  });
+
+  // Common practice (no source): a load beyond the output's range pins it at one limit for long
+  // spells; an output banged from stop to stop by a far too high gain is a tuning fault.
+  it("an output driven from limit to limit by a far too high gain is not read as saturated", () => {
+    const got = labels(
+      (seed) => ({ seed, n: 4000, kp: 60, ti: 15, noise: 0.3, mvLo: 40, mvHi: 60, mv0: 50, sp0: 50 }),
+      (s) => s,
+      config({ controller: { kp: 60, ti: 15, td: 0, action: "reverse", mvLo: 40, mvHi: 60 } }),
+    );
+    expect(count(got, "saturated"), got.join(",")).toBe(0);
+    expect(count(got, "aggressive-tuning"), got.join(",")).toBeGreaterThanOrEqual(8);
   });
 
   it("too little data for a slow loop is undetermined with the time still needed", () => {
