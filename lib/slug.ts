@@ -1,5 +1,5 @@
 /**
- * Topic slugs (ARCHITECTURE.md §5, a contract): every topic segment is `[a-z0-9-]`. A loop's tag,
+ * Topic slugs (docs/architecture.md §5, a contract): every topic segment is `[a-z0-9-]`. A loop's tag,
  * a site's or a tenant's name maps to its slug by: lower-case, every run of characters outside
  * [a-z0-9] becomes one '-', no '-' at either end. FIC-101 -> fic-101, "TIC 2.04/B" -> tic-2-04-b.
  */

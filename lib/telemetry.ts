@@ -1,5 +1,5 @@
 /**
- * The telemetry contract (ARCHITECTURE.md §5) as code, shared by the ingest service, the
+ * The telemetry contract (docs/architecture.md §5) as code, shared by the ingest service, the
  * simulators and the tests. Hand-written rather than zod: it runs once per received sample on the
  * hot path, and every failure must map to one counted reason instead of an exception.
  *

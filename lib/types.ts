@@ -163,7 +163,7 @@ export interface PoleBrief extends Complex {
 }
 
 /**
- * The live summary of one loop in a `loop:state` batch (ARCHITECTURE.md §8): what the control
+ * The live summary of one loop in a `loop:state` batch (docs/architecture.md §8): what the control
  * room, the wall, tiles, area summaries, the loop list and the worst-first order show. The same
  * field names and meanings as LoopStateDto, rounded (server/realtime/summary.ts), without what
  * only the loop detail shows (covariances, zeros, polynomial, forecast, fit, last sample). A

@@ -1,5 +1,5 @@
 /**
- * The live pipeline (ARCHITECTURE.md §1): broker -> ingest -> tracker registry -> history and
+ * The live pipeline (docs/architecture.md §1): broker -> ingest -> tracker registry -> history and
  * realtime. Loop configurations come from MariaDB at start and on `loop:config-changed`;
  * estimator state is checkpointed every minute and at shutdown and restored at start, so a
  * restart resumes tracking instead of learning again. Started by server/services.ts.

@@ -405,7 +405,7 @@ function LevelEquivalents({
           {loops.slice(0, 200).flatMap((l) =>
             l.equivalents.map((q, i) => {
               // Where the service has no oscillation period, use the dominant pole's angle now:
-              // DR = r^(2π/θ)  =>  r = DR^(θ/2π) (DOMAIN.md §1).
+              // DR = r^(2π/θ)  =>  r = DR^(θ/2π) (docs/domain.md §1).
               const theta = angles.get(l.loopId);
               const r =
                 q.radius ??

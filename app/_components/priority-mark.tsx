@@ -1,5 +1,5 @@
 /**
- * Priority mark (UI.md): shape + number + word, never colour alone.
+ * Priority mark (docs/visual-language.md): shape + number + word, never colour alone.
  * urgent = filled hexagon "1", high = filled diamond "2", low = outlined circle "3".
  */
 import type { AlarmPriority, AlarmState } from "@/lib/types";

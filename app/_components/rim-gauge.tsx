@@ -1,5 +1,5 @@
 /**
- * Rim gauge (our instrument, UI.md): a horizontal bar from radius 0 to 1.05; the current
+ * Rim gauge (our instrument, docs/visual-language.md): a horizontal bar from radius 0 to 1.05; the current
  * spectral radius as a tick; warning and alarm radii as notches; the recent range as a faint
  * band. The number and the rim distance sit beside it.
  */

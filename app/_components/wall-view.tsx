@@ -1,6 +1,6 @@
 "use client";
 /**
- * Full-screen wall (UI.md "The wall"): readable from three metres, no mouse needed. Area
+ * Full-screen wall (docs/visual-language.md "The wall"): readable from three metres, no mouse needed. Area
  * summaries and the worst loops stay on screen; the rest pages on a timer with a visible page
  * indicator, so nothing hides below the fold. Keys: ← → change page, space pauses, Esc leaves.
  */

@@ -1,6 +1,6 @@
 "use client";
 /**
- * The z-plane map (UI.md): the unit circle is the strongest line; constant-ζ spirals and
+ * The z-plane map (docs/visual-language.md): the unit circle is the strongest line; constant-ζ spirals and
  * constant-ωn·T arcs are faint and labelled (from lib/control's loci, z = e^{sT}); model-based
  * closed-loop poles are bold ×, data-only poles thin +, zeros small rings; a 95 % confidence
  * ellipse around each pole that carries a covariance; a fading trail of earlier positions; the

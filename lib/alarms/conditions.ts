@@ -80,7 +80,7 @@ function closedLoopPoles(s: LoopStateDto): PoleDto[] {
  * The dominant oscillating mode for the margin: among oscillating poles resolved by the sampling
  * (|arg z| ≤ `maxAngle`, default π/2: at least four samples per cycle), the one with the largest
  * per-cycle decay ratio |z|^(2π/|arg z|), i.e. the one closest to the rim in period-invariant
- * terms, with its damping ratio ζ = -ln r / √(ln² r + θ²) (DOMAIN.md §1; Franklin, Powell &
+ * terms, with its damping ratio ζ = -ln r / √(ln² r + θ²) (docs/domain.md §1; Franklin, Powell &
  * Workman, ch. 4). Poles nearer the Nyquist frequency (negative real poles ring at it) are left
  * out by default: their per-cycle decay depends on the sample period, so a period-invariant
  * level does not apply to them (they stay on the z-plane map, and `unstable` covers them).

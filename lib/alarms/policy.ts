@@ -153,7 +153,7 @@ function stripUndefined<T extends object>(o: T): Partial<T> {
   return Object.fromEntries(Object.entries(o).filter(([, v]) => v !== undefined)) as Partial<T>;
 }
 
-// ---- period equivalents (DOMAIN.md §1; Franklin, Powell & Workman, Digital Control of Dynamic Systems, ch. 4) ----
+// ---- period equivalents (docs/domain.md §1; Franklin, Powell & Workman, Digital Control of Dynamic Systems, ch. 4) ----
 
 /** Damping ratio of a mode with per-cycle decay ratio d: d = exp(-2πζ/√(1-ζ²)) ⇒ ζ = -ln d / √(4π² + ln² d). */
 export function dampingFromDecayRatio(d: number): number {

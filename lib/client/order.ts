@@ -1,5 +1,5 @@
 /**
- * Worst-first ordering of loops (UI.md "Worst first"): by the highest priority of the loop's
+ * Worst-first ordering of loops (docs/visual-language.md, Principles, "Worst first"): by the highest priority of the loop's
  * alarms that need attention, then by the margin to the loop's own alarm level, smallest first.
  * A raw radius is not comparable across sample periods, so the margin is measured on the
  * period-invariant decay ratio where the dominant mode oscillates, and on the rim distance

@@ -1,5 +1,5 @@
 /**
- * The Socket.IO event map (ARCHITECTURE.md §8, a contract). Server and browser both import
+ * The Socket.IO event map (docs/architecture.md §8, a contract). Server and browser both import
  * these types; a payload change is made here and nowhere else.
  */
 import type { AlarmDto, LoopStateBrief, LoopStateDto, SampleDto } from "../types";

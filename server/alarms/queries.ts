@@ -218,7 +218,7 @@ function parsePolicyOverrideLenient(scope: PolicyScope, raw: unknown): PolicyOve
   }
 }
 
-/** Who may set which scope (ARCHITECTURE.md §7): admins tenant and site levels, engineers loop levels. */
+/** Who may set which scope (docs/architecture.md §7): admins tenant and site levels, engineers loop levels. */
 export function policyRole(scope: PolicyScope): "admin" | "engineer" {
   return scope === "loop" ? "engineer" : "admin";
 }

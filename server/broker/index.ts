@@ -1,5 +1,5 @@
 /**
- * The MQTT boundary (ARCHITECTURE.md §1, §5, §9). By default an embedded aedes broker on
+ * The MQTT boundary (docs/architecture.md §1, §5, §9). By default an embedded aedes broker on
  * MQTT_HOST:MQTT_PORT (loopback); with MQTT_URL set, a client of that external broker instead.
  * Either way the rest of the server sees the same thing: `subscribeInternal(pattern, handler)`
  * delivers each telemetry message in-process with the identity of the device that sent it.

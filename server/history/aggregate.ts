@@ -1,5 +1,5 @@
 /**
- * In-memory aggregation for the history tiers (ARCHITECTURE.md §6): per-second min/mean/max of
+ * In-memory aggregation for the history tiers (docs/architecture.md §6): per-second min/mean/max of
  * SP, PV, MV (a loop at 1 Hz or slower gives one sample per row, n = 1), 1-minute aggregates of
  * SP, PV, MV and the spectral radius, pole snapshots at a coarser period or on change. Pure: the
  * writer decides when rows go to MariaDB. A sample of bad or uncertain quality (lib/sample-quality.ts)

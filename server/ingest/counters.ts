@@ -1,5 +1,5 @@
 /**
- * Ingest counters per device and reason (ARCHITECTURE.md §5). Message-level reasons (bad-json,
+ * Ingest counters per device and reason (docs/architecture.md §5). Message-level reasons (bad-json,
  * too-large, too-many-samples, bad-topic, retained, unauthorised, unknown-loop, wrong-tenant) count
  * messages; sample-level reasons (bad-shape, non-finite, out-of-order, duplicate, future) and
  * `redelivery` count samples. Samples accepted as bad or uncertain quality (lib/sample-quality.ts)

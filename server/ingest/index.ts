@@ -1,5 +1,5 @@
 /**
- * Ingest: one MQTT message in, validated samples out (ARCHITECTURE.md §5). Each sample is judged
+ * Ingest: one MQTT message in, validated samples out (docs/architecture.md §5). Each sample is judged
  * alone; every rejection is counted per device and reason; nothing here throws, and nothing
  * rejected reaches the sink (the tracker registry, history and realtime). An accepted sample
  * whose values are a fault code or out of the loop's range (or that the gateway marks so) goes on

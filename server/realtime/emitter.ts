@@ -1,5 +1,5 @@
 /**
- * Batched pushes to browsers (ARCHITECTURE.md §8, a contract): `loop:state` to each tenant's room
+ * Batched pushes to browsers (docs/architecture.md §8, a contract): `loop:state` to each tenant's room
  * at most every 500 ms with the latest summary (LoopStateBrief, ./summary.ts) of every loop that
  * changed; with it, `loop:detail` with the latest full LoopStateDto of each changed loop to that
  * loop's room (only sockets watching the loop sit there); and full-rate `loop:samples` to a

@@ -1,6 +1,6 @@
 /**
  * The live summary of a loop (`LoopStateBrief`, lib/types.ts) built from a tracker's full state
- * for the tenant's `loop:state` batches (ARCHITECTURE.md §8: "a batch of loop summaries").
+ * for the tenant's `loop:state` batches (docs/architecture.md §8: "a batch of loop summaries").
  *
  * It keeps only what the control room, the wall, tiles, area summaries, the loop list and the
  * worst-first order show, rounded to well below what they can show: radii, rim distance, decay

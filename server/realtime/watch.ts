@@ -1,5 +1,5 @@
 /**
- * `loop:watch` / `loop:unwatch` (ARCHITECTURE.md §8): a socket joins a loop's room only when the
+ * `loop:watch` / `loop:unwatch` (docs/architecture.md §8): a socket joins a loop's room only when the
  * loop belongs to the socket's tenant (socket.data.tenantId, set by the handshake); otherwise it
  * gets `{ ok: false, error }` with the same words as for a loop that does not exist.
  */

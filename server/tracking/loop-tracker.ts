@@ -1,5 +1,5 @@
 /**
- * One loop's tracker (ARCHITECTURE.md §4): telemetry in, a `LoopStateDto` out.
+ * One loop's tracker (docs/architecture.md §4): telemetry in, a `LoopStateDto` out.
  *
  * Per telemetry sample: PV, SP and MV are scaled to % of their spans (the units of the
  * controller's %/% gains), clipped to ±10,000 % so hostile-but-valid numbers cannot overflow the

@@ -128,7 +128,7 @@ describe("deadband and on/off delays", () => {
 
 describe("margin levels are period-invariant", () => {
   // Continuous mode ζ = 0.15, ωn = 0.1 rad/s; decay ratio exp(-2πζ/√(1-ζ²)) = 0.3854
-  // (DOMAIN.md §1; Franklin, Powell & Workman, ch. 4). z = exp(sT) computed with mathjs.
+  // (docs/domain.md §1; Franklin, Powell & Workman, ch. 4). z = exp(sT) computed with mathjs.
   const zeta = 0.15;
   const wn = 0.1;
   const expectedDecay = Math.exp((-2 * Math.PI * zeta) / Math.sqrt(1 - zeta * zeta));

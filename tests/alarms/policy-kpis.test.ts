@@ -40,7 +40,7 @@ describe("policy precedence: loop > site > tenant > defaults", () => {
 });
 
 describe("period equivalents", () => {
-  it("quarter-amplitude decay (0.25) is ζ ≈ 0.215 (common practice; DOMAIN.md §1)", () => {
+  it("quarter-amplitude decay (0.25) is ζ ≈ 0.215 (common practice; docs/domain.md §1)", () => {
     expect(dampingFromDecayRatio(0.25)).toBeCloseTo(0.2155, 3);
     expect(decayRatioFromDamping(dampingFromDecayRatio(0.25))).toBeCloseTo(0.25, 12);
   });

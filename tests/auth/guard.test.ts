@@ -1,7 +1,7 @@
 /**
  * The role guard over every protected route (tests/auth/route-matrix.ts) for every role and
  * signed out, tenant isolation (another tenant's ids are 404), and withdrawal of a membership.
- * Role order viewer < operator < engineer < admin is ARCHITECTURE.md §7.
+ * Role order viewer < operator < engineer < admin is docs/architecture.md §7.
  */
 import fs from "node:fs";
 import bcrypt from "bcryptjs";

@@ -1,5 +1,5 @@
 /**
- * The Socket.IO handshake (ARCHITECTURE.md §8): refused without a session, with a forged one, or
+ * The Socket.IO handshake (docs/architecture.md §8): refused without a session, with a forged one, or
  * from a foreign Origin; accepted with a valid session from the console's origin, in its tenant's
  * room only; closed (after `session:ended`) when the membership is revoked, the user signs out,
  * or the session switches tenant.

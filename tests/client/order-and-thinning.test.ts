@@ -1,5 +1,5 @@
 /**
- * Browser-side pure functions: worst-first ordering (UI.md "Worst first") and the per-pixel
+ * Browser-side pure functions: worst-first ordering (docs/visual-language.md, Principles, "Worst first") and the per-pixel
  * min/max thinning of trend data. The expected values are computed here by brute force from the
  * definitions, independently of the code under test.
  */

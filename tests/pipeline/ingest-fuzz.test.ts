@@ -33,7 +33,7 @@ const loopConfig = (id: number): LoopConfig => ({
   nk: 1,
 });
 
-// Fuzzing the telemetry contract (ARCHITECTURE.md §5) with fast-check: every hostile message is
+// Fuzzing the telemetry contract (docs/architecture.md §5) with fast-check: every hostile message is
 // generated together with the outcome the contract prescribes; the server must stay up, count
 // each rejection by its reason, and pass on exactly the valid samples, all finite and in order.
 

@@ -12,7 +12,7 @@ import { createPipelineFixture, PiLoop, type PipelineTenant } from "./fixture";
 import { ManualClock, testContext } from "./helpers";
 
 // The live pipeline against a real MariaDB (tests/setup/db.ts) and a real aedes broker on port 0.
-// History tier rules restate ARCHITECTURE.md §6; aggregates are checked against the raw samples sent.
+// History tier rules restate docs/architecture.md §6; aggregates are checked against the raw samples sent.
 
 let db: TestDatabase;
 let a: PipelineTenant;

@@ -9,7 +9,7 @@ import { createAuthFixture, FIXTURE_PASSWORD, type AuthFixture, type FixtureTena
 import { authedFetch, signIn } from "../auth/helpers";
 import { startTestServer, type TestServer } from "../setup/server";
 
-// Realtime contract (ARCHITECTURE.md §8) on the real server: telemetry of two tenants flows
+// Realtime contract (docs/architecture.md §8) on the real server: telemetry of two tenants flows
 // through the broker and pipeline; a client sees only its own tenant's loops and may watch only
 // its own tenant's loop.
 

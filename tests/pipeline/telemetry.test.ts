@@ -10,7 +10,7 @@ import {
 import { FrameGuard } from "@/server/broker/frame-guard";
 import { topicMatches } from "@/server/broker/topic-match";
 
-// Cases below restate ARCHITECTURE.md §5 (the telemetry contract) and the MQTT 3.1.1 standard
+// Cases below restate docs/architecture.md §5 (the telemetry contract) and the MQTT 3.1.1 standard
 // (OASIS, 2014), sections named beside each check.
 
 describe("slugify maps tags to topic segments", () => {

@@ -5,7 +5,7 @@ import { startRealtimeEmitter } from "@/server/realtime/emitter";
 import { roundSig, roundTo, toLoopBrief } from "@/server/realtime/summary";
 import { ManualClock, testContext } from "../pipeline/helpers";
 
-// The live summary of a loop (`loop:state`, ARCHITECTURE.md §8) against the full state it is
+// The live summary of a loop (`loop:state`, docs/architecture.md §8) against the full state it is
 // built from. The expectations are identities of the summary's own definition (same figures,
 // rounded; no uncertainty, zeros, polynomial, forecast or last sample), not stored values.
 
