@@ -5,6 +5,7 @@
  */
 import type { Complex } from "./control/types";
 import type { QualityReason } from "./sample-quality";
+import type { LoopAssessment } from "./domain/assessment";
 
 export const ROLES = ["viewer", "operator", "engineer", "admin"] as const;
 export type Role = (typeof ROLES)[number];
@@ -96,34 +97,18 @@ export interface PoleDto extends Complex {
   bound?: number | null;
 }
 
-/** What a loop tracker knows about its loop at one moment (the live summary of a loop). */
-export interface LoopStateDto {
+/**
+ * What a loop tracker knows about its loop at one moment: its assessment (the figures, defined
+ * once in lib/domain/assessment.ts) and the estimates they come from.
+ */
+export interface LoopStateDto extends LoopAssessment {
   loopId: number;
   tenantId: number;
-  /** Epoch ms of the estimate. */
-  at: number;
   /** Epoch ms when the last sample was received (data age = now - receivedAt). */
   receivedAt: number | null;
-  trackerState: TrackerState;
-  /** Why the tracker is in its state, in words ("no sample for 15 s", "MV at 100 % limit"). */
-  stateReason: string | null;
-  estimationPeriodS: number;
   samples: number;
   excitation: number | null;
   fitPercent: number | null;
-  spectralRadius: number | null;
-  rimDistance: number | null;
-  decayRatio: number | null;
-  juryStable: boolean | null;
-  /**
-   * A pole's conditioning bound straddles the unit circle: the coefficients do not decide on
-   * which side it lies ("undecided near the rim"); no unstable verdict (juryStable is null) or alarm.
-   */
-  rimUndecided?: boolean;
-  dominant: { zeta: number | null; wn: number | null; timeConstant: number | null } | null;
-  gainHeadroom: number | null;
-  radiusSd: number | null;
-  forecast: { at: number; low: number; high: number } | null;
   /** Closed-loop poles from the estimated plant + the configured controller. */
   modelPoles: PoleDto[];
   /** Closed-loop poles from data alone (SP -> PV), or disturbance-response poles. */
@@ -134,8 +119,6 @@ export interface LoopStateDto {
   characteristic: number[] | null;
   delaySamples: number | null;
   last: SampleDto | null;
-  /** Sample quality seen by the tracker (absent in states stored before it existed). */
-  sampleQuality?: SampleQualityDto;
 }
 
 export interface AlarmDto {
@@ -186,6 +169,8 @@ export type LoopStateBrief = Pick<
   | "dominant"
   | "gainHeadroom"
   | "dataPolesKind"
+  | "polesFrom"
+  | "oscillation"
 > & {
   modelPoles: PoleBrief[];
   dataPoles: PoleBrief[];

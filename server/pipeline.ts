@@ -4,6 +4,7 @@
  * estimator state is checkpointed every minute and at shutdown and restored at start, so a
  * restart resumes tracking instead of learning again. Started by server/services.ts.
  */
+import { DEFAULT_POLICY, type EffectivePolicy } from "@/lib/alarms/policy";
 import type { Sequelize } from "sequelize";
 import { getSequelize } from "@/lib/db/sequelize";
 import { loadLoopConfigs, type LoadedLoop } from "@/server/ingest/loop-source";
@@ -74,9 +75,12 @@ export async function startPipeline(ctx: ServerContext, opts: PipelineOptions = 
   const directory = new LoopDirectory(loaded.map((l) => l.route));
   const configErrors = new Map<number, string>();
   for (const l of loaded) if (l.error) configErrors.set(l.route.loopId, l.error);
+  // The rim forecast runs to each loop's own decay-ratio level (the alarm service starts first).
+  const alarms = ctx.services.get("alarms") as { policyFor?: (loopId: number) => EffectivePolicy } | undefined;
   const registry = new TrackerRegistry(
     { bus: ctx.bus, clock: ctx.clock },
     loaded.flatMap((l) => (l.config && l.enabled ? [l.config] : [])),
+    { alarmDecayRatio: (loopId) => (alarms?.policyFor ? alarms.policyFor(loopId).decayRatio.low : DEFAULT_POLICY.decayRatio.low) },
   );
 
   // Resume: estimators from their checkpoints, sample order from the last stored states.

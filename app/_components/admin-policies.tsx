@@ -21,9 +21,9 @@ import type { Role } from "@/lib/types";
 import { roleAtLeast } from "@/lib/types";
 import { fetchJson, query, sendJson } from "@/lib/client/fetcher";
 import { fmt, fmtSeconds, fmtTime } from "@/lib/client/format";
-import { radiusForDecayRatio, timeConstantOfRadius } from "@/lib/client/order";
+import { timeConstantOfRadius } from "@/lib/client/order";
+import { radiusForDecayRatio } from "@/lib/domain/assessment";
 import type { LoopSummary } from "@/lib/types";
-import { dominantPole } from "./loop-tile";
 
 interface LoopPolicyView {
   loopId: number;
@@ -101,10 +101,8 @@ export function AdminPolicies({
   // Angle of each loop's dominant pole now, to show what a decay-ratio level means as a radius.
   const angles = new Map<number, number>();
   for (const l of loopList) {
-    const d = l.state
-      ? dominantPole(l.state.modelPoles.length ? l.state.modelPoles : l.state.dataPoles)
-      : null;
-    if (d && Math.abs(d.im) > 1e-9) angles.set(l.id, Math.abs(Math.atan2(d.im, d.re)));
+    const a = l.state?.oscillation?.angle;
+    if (a != null) angles.set(l.id, a);
   }
   const key =
     scope === "tenant" || id

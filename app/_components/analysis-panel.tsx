@@ -3,11 +3,11 @@
  * equivalents, gain headroom, delay, estimation period with a sampling-adequacy note, estimator
  * health, and the Jury test of the characteristic polynomial.
  */
-import { poleCharacteristics, zToS } from "@/lib/control/zplane";
+import { zToS } from "@/lib/control/zplane";
+import { dominantPole, effectivePoles } from "@/lib/domain/assessment";
 import type { LoopStateDto } from "@/lib/types";
 import { fmt, fmtAge, fmtSeconds } from "@/lib/client/format";
 import { JuryTable } from "./jury-table";
-import { dominantPole } from "./loop-tile";
 
 /**
  * Sampling adequacy from ωn·T of the dominant mode. Rule of thumb ωn·T ≈ 0.1–0.6 (Åström &
@@ -40,11 +40,13 @@ function Row({ k, v, hint }: { k: string; v: React.ReactNode; hint?: string }) {
 export function AnalysisPanel({ state, now }: { state: LoopStateDto | null; now: number }) {
   if (!state) return <p className="text-sm text-muted">No estimate yet. The tracker publishes one once it has seen enough samples.</p>;
   const T = state.estimationPeriodS;
-  const dom = dominantPole(state.modelPoles.length ? state.modelPoles : state.dataPoles);
-  const pc = dom ? poleCharacteristics(dom, T) : null;
-  const s = dom && Math.hypot(dom.re, dom.im) > 0 ? zToS(dom, T) : null;
-  const settling = pc && pc.zeta > 0 && pc.zeta < 1 && pc.wn > 0 ? 4 / (pc.zeta * pc.wn) : pc?.timeConstant != null ? 4 * pc.timeConstant : null;
-  const wnT = pc && Number.isFinite(pc.wn) ? pc.wn * T : null;
+  const dom = dominantPole(effectivePoles(state));
+  const pc = state.dominant;
+  const s = dom && dom.radius > 0 ? zToS(dom, T) : null;
+  const settling = pc && pc.zeta != null && pc.wn != null && pc.zeta > 0 && pc.zeta < 1 && pc.wn > 0 ? 4 / (pc.zeta * pc.wn) : pc?.timeConstant != null ? 4 * pc.timeConstant : null;
+  const wnT = pc?.wn != null ? pc.wn * T : null;
+  const crossing = (c: { at: number; low: number; high: number } | null | undefined) =>
+    c ? `${new Date(c.at).toISOString().slice(0, 16).replace("T", " ")} UTC (${new Date(c.low).toISOString().slice(11, 16)}–${new Date(c.high).toISOString().slice(11, 16)})` : "no significant trend";
   const note = samplingNote(wnT);
   const age = state.receivedAt ? (now - state.receivedAt) / 1000 : null;
   return (
@@ -53,18 +55,19 @@ export function AnalysisPanel({ state, now }: { state: LoopStateDto | null; now:
         <h3 className="mb-1 font-semibold">Dominant pole</h3>
         <dl>
           <Row k="z" v={dom ? `${fmt(dom.re, 4)} ${dom.im < 0 ? "−" : "+"} ${fmt(Math.abs(dom.im), 4)} j` : "—"} />
-          <Row k="radius |z|" v={`${fmt(pc?.radius ?? null, 4)}${state.radiusSd != null ? ` ± ${fmt(state.radiusSd, 4)} (1σ)` : ""}`} />
+          <Row k="radius |z|" v={`${fmt(state.spectralRadius, 4)}${state.radiusSd != null ? ` ± ${fmt(state.radiusSd, 4)} (1σ)` : ""}`} />
           <Row k="rim distance" v={fmt(state.rimDistance, 4)} />
           <Row k="decay ratio" v={fmt(state.decayRatio, 3)} hint="amplitude ratio of successive peaks; 1 on the unit circle" />
-          <Row k="damping ratio ζ" v={pc ? fmt(pc.zeta, 3) : "—"} />
-          <Row k="natural frequency ωn" v={pc && Number.isFinite(pc.wn) ? `${fmt(pc.wn, 4)} rad/s` : "—"} />
-          <Row k="time constant τ" v={fmtSeconds(state.dominant?.timeConstant ?? pc?.timeConstant ?? null)} />
+          <Row k="damping ratio ζ" v={pc?.zeta != null ? fmt(pc.zeta, 3) : "—"} />
+          <Row k="natural frequency ωn" v={pc?.wn != null ? `${fmt(pc.wn, 4)} rad/s` : "—"} />
+          <Row k="time constant τ" v={fmtSeconds(pc?.timeConstant ?? null)} />
           <Row k="settling time (2 %)" v={fmtSeconds(settling)} hint="4/(ζωn) for an oscillating mode, 4τ for a real one (common practice)" />
           <Row k="s-plane equivalent" v={s ? `${fmt(s.re, 4)} ${s.im < 0 ? "−" : "+"} ${fmt(Math.abs(s.im), 4)} j  1/s` : "—"} />
-          {pc && !pc.continuousEquivalent && <Row k="note" v="negative real pole: rings at the Nyquist frequency, no continuous equivalent" />}
+          {dom && dom.re < 0 && Math.abs(dom.im) < 1e-9 && <Row k="note" v="negative real pole: rings at the Nyquist frequency, no continuous equivalent" />}
           <Row k="gain headroom" v={state.gainHeadroom == null ? "—" : Number.isFinite(state.gainHeadroom) ? `× ${fmt(state.gainHeadroom, 2)}` : "unbounded"} hint="factor by which the loop gain may grow before a closed-loop pole reaches the unit circle" />
           <Row k="delay" v={state.delaySamples == null ? "—" : `${state.delaySamples} samples = ${fmtSeconds(state.delaySamples * T)}`} />
-          <Row k="radius reaches 1 (forecast)" v={state.forecast ? `${new Date(state.forecast.at).toISOString().slice(0, 16).replace("T", " ")} UTC (${new Date(state.forecast.low).toISOString().slice(11, 16)}–${new Date(state.forecast.high).toISOString().slice(11, 16)})` : "no significant trend"} />
+          <Row k={`decay ratio reaches ${state.forecast?.alarmLevel ? fmt(state.forecast.alarmLevel.decayRatio, 2) : "the alarm level"} (forecast)`} v={crossing(state.forecast?.alarmLevel)} />
+          <Row k="radius reaches 1 (forecast)" v={crossing(state.forecast?.radiusOne)} />
         </dl>
         <h3 className="mb-1 mt-3 font-semibold">Estimation</h3>
         <dl>
@@ -82,7 +85,7 @@ export function AnalysisPanel({ state, now }: { state: LoopStateDto | null; now:
       </section>
       <section>
         <h3 className="mb-1 font-semibold">Stability without roots: Jury test</h3>
-        <JuryTable characteristic={state.characteristic} />
+        <JuryTable characteristic={state.characteristic} stable={state.juryStable} rimUndecided={state.rimUndecided} />
         <h3 className="mb-1 mt-3 font-semibold">Closed-loop poles</h3>
         <ul className="num font-mono text-sm">
           {state.modelPoles.map((p, i) => (

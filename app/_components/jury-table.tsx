@@ -1,6 +1,7 @@
 /**
  * The Jury test laid out row by row (Jury 1964; Åström & Wittenmark 1997 §3.2), computed in the
- * browser from the characteristic polynomial with lib/control's juryTest (no mathjs).
+ * browser from the characteristic polynomial with lib/control's juryTest (no mathjs) to show its
+ * rows; the verdict is the tracker's (the loop's assessment), so page and alarms agree.
  */
 import { juryTest } from "@/lib/control/jury";
 
@@ -19,7 +20,7 @@ export function polynomialText(c: number[]): string {
   return parts.join(" ");
 }
 
-export function JuryTable({ characteristic }: { characteristic: number[] | null }) {
+export function JuryTable({ characteristic, stable, rimUndecided }: { characteristic: number[] | null; stable: boolean | null; rimUndecided?: boolean }) {
   if (!characteristic || characteristic.length < 2) {
     return <p className="text-sm text-muted">No characteristic polynomial yet (the tracker is still learning the plant).</p>;
   }
@@ -38,7 +39,14 @@ export function JuryTable({ characteristic }: { characteristic: number[] | null 
         <span className="font-mono break-words">{polynomialText(characteristic)}</span>
       </p>
       <p className="text-sm font-semibold" data-testid="jury-verdict">
-        Verdict: {result.stable ? "stable — every root strictly inside the unit circle" : "NOT stable — a root on or outside the unit circle"}
+        Verdict:{" "}
+        {rimUndecided
+          ? "undecided near the rim — a rounding error in the coefficients can move a root across the unit circle"
+          : stable === null
+            ? "none yet"
+            : stable
+              ? "stable — every root strictly inside the unit circle"
+              : "NOT stable — a root on or outside the unit circle"}
       </p>
       <table className="w-full text-sm" data-testid="jury-conditions">
         <caption className="sr-only">Jury conditions</caption>

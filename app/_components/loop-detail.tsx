@@ -17,7 +17,7 @@ import { RANGES, type RangeKey } from "@/lib/client/ranges";
 import { useDecayLevels, useLoop, useLoopSamples, useNow } from "@/lib/client/hooks";
 import { dataAge } from "@/lib/client/order";
 import { AnalysisPanel } from "./analysis-panel";
-import { gaugeLevels } from "./loop-tile";
+import { gaugeLevels } from "@/lib/domain/assessment";
 import { LoopAlarms } from "./loop-alarms";
 import { RimGauge } from "./rim-gauge";
 import { TrackerStateBadge } from "./tracker-state-badge";
@@ -97,7 +97,7 @@ export function LoopDetail({ loopId, role, initialRange = "1h" }: { loopId: numb
   }, [thinProcess, live.version, anchor, rangeMs]);
 
   const dr = useDecayLevels("loop", loopId);
-  const levels = state ? gaugeLevels(state.modelPoles.length ? state.modelPoles : state.dataPoles, dr) : { warn: null, alarm: null };
+  const levels = state ? gaugeLevels(state, dr) : { warn: null, alarm: null };
   const radiusData = useMemo((): uPlot.AlignedData => {
     const [ht, hr] = thinRadius as [ArrayLike<number>, ArrayLike<number | null>];
     const snaps = parsed.snapshots;
@@ -108,7 +108,8 @@ export function LoopDetail({ loopId, role, initialRange = "1h" }: { loopId: numb
     }
     // The tracker's forecast is the time at which the radius trend reaches 1 (the unit circle), so
     // the dotted continuation ends on the circle, not on the alarm level.
-    const forecast = state?.forecast && state.spectralRadius != null;
+    const toRim = state?.forecast?.radiusOne ?? null;
+    const forecast = toRim !== null && state?.spectralRadius != null;
     const n = ht.length;
     const m = n + (forecast ? 2 : 0);
     const t = new Array<number>(m);
@@ -120,7 +121,7 @@ export function LoopDetail({ loopId, role, initialRange = "1h" }: { loopId: numb
     }
     if (forecast) {
       t[n] = state.at / 1000;
-      t[n + 1] = state.forecast!.at / 1000;
+      t[n + 1] = toRim!.at / 1000;
       r[n] = null;
       r[n + 1] = null;
       fc[n] = state.spectralRadius;
@@ -139,13 +140,13 @@ export function LoopDetail({ loopId, role, initialRange = "1h" }: { loopId: numb
   }, [thinRadius]);
 
   const forecastBand =
-    state?.forecast
-      ? [{ x0: state.forecast.low / 1000, x1: state.forecast.high / 1000, y0: 1 - 0.004, y1: 1 + 0.004, fill: "rgba(240,176,73,0.35)", scale: "r" }]
+    state?.forecast?.radiusOne
+      ? [{ x0: state.forecast.radiusOne.low / 1000, x1: state.forecast.radiusOne.high / 1000, y0: 1 - 0.004, y1: 1 + 0.004, fill: "rgba(240,176,73,0.35)", scale: "r" }]
       : [];
 
   const scrubSnap = scrubT !== null ? snapshotAt(parsed.snapshots, scrubT * 1000) : null;
   const { ageS, stale } = dataAge(state, now);
-  const xRange: [number, number] = [(anchor - rangeMs) / 1000, Math.max(anchor, state?.forecast?.high ?? 0) / 1000];
+  const xRange: [number, number] = [(anchor - rangeMs) / 1000, Math.max(anchor, state?.forecast?.radiusOne?.high ?? 0) / 1000];
 
   if (error) return <p role="alert" className="text-urgent">Could not load this loop: {error.message}</p>;
   if (!loop) return <p className="text-muted">Loading loop…</p>;

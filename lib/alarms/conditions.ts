@@ -3,8 +3,8 @@
  * conditions (unstable, margin, sluggish, rim-forecast), with deadband and on/off delays.
  * Pure: no I/O; the caller passes `now` (epoch ms) and keeps the returned `ConditionMemory`.
  */
-import { rimVerdict } from "@/lib/control/root-bounds";
-import type { AlarmCondition, AlarmPriority, LoopStateDto, PoleDto, TrackerState } from "@/lib/types";
+import { effectivePoles, modeWithinConfidence } from "@/lib/domain/assessment";
+import type { AlarmCondition, AlarmPriority, LoopStateDto, TrackerState } from "@/lib/types";
 import type { EffectivePolicy } from "./policy";
 
 // ---------------------------------------------------------------- hysteresis with delays
@@ -59,56 +59,7 @@ export function stepLevel(f: LevelFilter, value: number | null, spec: LevelSpec,
 
 // ---------------------------------------------------------------- measures from the poles
 
-export interface OscillatingMode {
-  radius: number;
-  /** |arg z| in radians (π for a negative real pole, which rings at the Nyquist frequency). */
-  angle: number;
-  decayRatio: number;
-  zeta: number;
-  /** Oscillation period in seconds, 2πT/|arg z|. */
-  periodS: number;
-}
-
 const REAL_EPS = 1e-9;
-
-function closedLoopPoles(s: LoopStateDto): PoleDto[] {
-  if (s.modelPoles.length > 0) return s.modelPoles;
-  return s.dataPoles;
-}
-
-/**
- * The dominant oscillating mode for the margin: among oscillating poles resolved by the sampling
- * (|arg z| ≤ `maxAngle`, default π/2: at least four samples per cycle), the one with the largest
- * per-cycle decay ratio |z|^(2π/|arg z|), i.e. the one closest to the rim in period-invariant
- * terms, with its damping ratio ζ = -ln r / √(ln² r + θ²) (docs/domain.md §1; Franklin, Powell &
- * Workman, ch. 4). Poles nearer the Nyquist frequency (negative real poles ring at it) are left
- * out by default: their per-cycle decay depends on the sample period, so a period-invariant
- * level does not apply to them (they stay on the z-plane map, and `unstable` covers them).
- * With `sigmas` > 0 each radius is first moved that many standard deviations inward (r - k·sd),
- * so a poorly determined pole does not count as close to the rim. Null when none qualifies.
- */
-export function dominantOscillatingMode(
-  poles: readonly { re: number; im: number; sdRadius?: number | null }[],
-  T: number,
-  sigmas = 0,
-  maxAngle = Math.PI / 2,
-): OscillatingMode | null {
-  let best: OscillatingMode | null = null;
-  for (const p of poles) {
-    const r0 = Math.hypot(p.re, p.im);
-    const oscillating = Math.abs(p.im) > REAL_EPS * Math.max(1, r0) || p.re < -REAL_EPS;
-    if (!oscillating || r0 === 0) continue;
-    const angle = Math.abs(Math.atan2(p.im, p.re));
-    if (angle > maxAngle + 1e-12) continue;
-    const radius = Math.max(0, r0 - sigmas * (p.sdRadius ?? 0));
-    if (radius === 0) continue;
-    const decayRatio = Math.pow(radius, (2 * Math.PI) / angle);
-    if (best && decayRatio <= best.decayRatio) continue;
-    const lr = Math.log(radius);
-    best = { radius, angle, decayRatio, zeta: -lr / Math.sqrt(lr * lr + angle * angle), periodS: (2 * Math.PI * T) / angle };
-  }
-  return best;
-}
 
 /** Time constant τ = -T/ln z of the slowest positive real pole inside the circle (null if none). */
 export function slowestRealTimeConstant(poles: readonly { re: number; im: number }[], T: number): number | null {
@@ -210,10 +161,18 @@ export interface LoopFacts {
   /** The loop's baseline closed-loop time constant in seconds (for `sluggish`), null if unknown. */
   baselineTimeConstantS: number | null;
   /**
-   * Minutes until the margin measure's trend reaches the margin level (MarginTrend), null when
-   * no significant trend toward it; absent = not evaluated.
+   * Minutes until the decay-ratio trend reaches the margin level (the assessment's
+   * `forecast.alarmLevel`, `forecastMinutesOf`), null when no significant trend toward it;
+   * absent = not evaluated.
    */
   forecastMinutes?: number | null;
+}
+
+/** Minutes from `now` (epoch ms) to the assessment's forecast of the alarm level, or null. */
+export function forecastMinutesOf(s: Pick<LoopStateDto, "forecast" | "trackerState">, now: number): number | null {
+  if (NON_TRACKING.has(s.trackerState)) return null;
+  const f = s.forecast?.alarmLevel;
+  return f ? Math.max(0, (f.at - now) / 60_000) : null;
 }
 
 export const CONDITION_PRIORITY: Record<AlarmCondition, AlarmPriority> = {
@@ -271,7 +230,7 @@ export function evaluateConditions(
   }
 
   const T = s.estimationPeriodS;
-  const poles = closedLoopPoles(s);
+  const poles = effectivePoles(s);
   const maxRadius = poles.length > 0 ? Math.max(...poles.map((p) => Math.hypot(p.re, p.im))) : s.spectralRadius;
 
   // 2. unstable: a pole on/outside the unit circle, or the Jury test fails (Jury 1964). The Jury
@@ -283,7 +242,7 @@ export function evaluateConditions(
   //    lib/control/root-bounds.ts) straddles the circle is "undecided near the rim": no unstable
   //    verdict then, only the not-proven signal.
   const k = policy.confidenceSigmas;
-  const rimUndecided = poles.length > 0 ? rimVerdict(poles) === "undecided" : s.rimUndecided === true;
+  const rimUndecided = s.rimUndecided === true;
   const outsideRadius = poles.length > 0 ? Math.max(...poles.map((p) => Math.hypot(p.re, p.im) - k * (p.sdRadius ?? 0) - (p.bound ?? 0))) : s.spectralRadius;
   const unstableNow = rimUndecided ? false : poles.length > 0 ? (outsideRadius ?? 0) >= 1 : s.juryStable === false || (s.spectralRadius ?? 0) >= 1;
   const clearlyInside = poles.length > 0 ? (maxRadius ?? 0) < 1 - policy.deadband.radius : s.juryStable !== false && (s.spectralRadius ?? 0) < 1;
@@ -313,8 +272,10 @@ export function evaluateConditions(
   const rootCause = unstableOn ? "unstable alarm active on this loop (one cause, one alarm)" : null;
 
   // 3. margin: the dominant oscillating mode drifts toward the circle.
-  const mode = poles.length > 0 ? dominantOscillatingMode(poles, T, k) : null;
-  const decay = mode ? mode.decayRatio : poles.length === 0 ? s.decayRatio : null;
+  //    The assessment's slowest-decaying oscillating mode, its radius moved `confidenceSigmas`
+  //    standard deviations inward so a poorly determined pole does not count as near the rim.
+  const mode = s.oscillation ? modeWithinConfidence(s.oscillation, k) : null;
+  const decay = mode ? mode.decayRatio : s.oscillation === undefined ? s.decayRatio : null;
   const zeta = mode ? mode.zeta : null;
   const pd = policy.deadband;
   let severity = 0;
@@ -338,8 +299,7 @@ export function evaluateConditions(
     }
   }
   if (policy.radius) {
-    const rMode = dominantOscillatingMode(poles, T, k, Math.PI);
-    const r = rMode ? rMode.radius : null;
+    const r = mode ? mode.radius : null;
     if (step("margin.radius.low", r, policy.radius.low, pd.radius, "above") && severity < 1) {
       severity = 1;
       trigger = `oscillating pole radius ${fmt(r ?? 0, 4)} against the low-priority radius ${policy.radius.low} at T = ${T} s`;

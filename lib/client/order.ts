@@ -90,17 +90,6 @@ export function stableWorstFirst<L extends OrderedLoop>(
   return idx.map((i) => loops[i]!);
 }
 
-/**
- * Radius that corresponds to a decay-ratio level for a mode at angle theta (rad/sample):
- * DR = r^(2π/|θ|)  =>  r = DR^(|θ|/2π). For a real mode (θ = 0) there is no decay ratio and
- * the function returns null.
- */
-export function radiusForDecayRatio(decayRatio: number, theta: number): number | null {
-  const t = Math.abs(theta);
-  if (!(t > 1e-9) || !(decayRatio > 0)) return null;
-  return Math.pow(decayRatio, t / (2 * Math.PI));
-}
-
 /** Equivalent time constant of a real pole at radius r and period T: τ = -T / ln r (seconds). */
 export function timeConstantOfRadius(r: number, T: number): number | null {
   if (!(r > 0 && r < 1) || !(T > 0)) return null;

@@ -4,7 +4,6 @@
  * effective levels and their equivalents; written with a configuration-change record).
  */
 import { QueryTypes, type Sequelize } from "sequelize";
-import { dominantOscillatingMode } from "@/lib/alarms/conditions";
 import { computeAlarmKpis, type AlarmKpis, type OccurrenceRecord } from "@/lib/alarms/kpis";
 import {
   normalizeStoredSettings,
@@ -178,7 +177,8 @@ export async function readPolicy(
   id: number,
   layers: Layers,
   loops: PolicyLoopInfo[],
-  poles: (loopId: number) => { re: number; im: number }[] | null,
+  /** Oscillation period (s) of the loop's slowest-decaying oscillating mode now, from its assessment. */
+  oscillationPeriodS: (loopId: number) => number | null,
 ): Promise<PolicyView> {
   await checkScope(sequelize, user, scope, id, loops);
   const [row] = (await sequelize.query("SELECT settings, updated_at FROM alarm_policies WHERE tenant_id = ? AND scope = ? AND scope_id = ?", {
@@ -202,9 +202,7 @@ export async function readPolicy(
       .sort((a, b) => a.tag.localeCompare(b.tag))
       .map((l) => {
         const eff = resolvePolicy({ tenant: layers.tenant.get(l.tenantId), site: layers.site.get(l.siteId), loop: layers.loop.get(l.id) });
-        const p = poles(l.id);
-        const mode = p ? dominantOscillatingMode(p, l.estimationPeriodS) : null;
-        const osc = mode ? mode.periodS : null;
+        const osc = oscillationPeriodS(l.id);
         return { loopId: l.id, tag: l.tag, estimationPeriodS: l.estimationPeriodS, effective: eff, oscillationPeriodS: osc, equivalents: policyEquivalents(eff, l.estimationPeriodS, osc) };
       }),
   };

@@ -14,14 +14,12 @@ import type { Sequelize } from "sequelize";
 import { QueryTypes } from "sequelize";
 import {
   CONDITION_PRIORITY,
-  dominantOscillatingMode,
   evaluateConditions,
+  forecastMinutesOf,
   isTrustedEstimate,
   memoryForActive,
-  NON_TRACKING,
   type ConditionMemory,
 } from "@/lib/alarms/conditions";
-import { MarginTrend } from "@/lib/alarms/trend";
 import {
   normalizeStoredSettings,
   parsePolicyOverride,
@@ -111,7 +109,6 @@ export class AlarmService implements Service {
   private memory = new Map<number, ConditionMemory>();
   /** Loops whose tracker has given a trusted estimate since this service started (see onTrackerUpdate). */
   private evidenced = new Set<number>();
-  private trends = new Map<number, MarginTrend>();
   private lastState = new Map<number, LoopStateDto>();
   private policyLayers = { tenant: new Map<number, PolicyOverride>(), site: new Map<number, PolicyOverride>(), loop: new Map<number, PolicyOverride>() };
   private effective = new Map<number, EffectivePolicy>();
@@ -385,7 +382,7 @@ export class AlarmService implements Service {
     this.lastState.set(s.loopId, s);
     const now = this.ctx.clock.now();
     const policy = this.policyFor(s.loopId);
-    const forecastMinutes = this.forecast(s, policy, now);
+    const forecastMinutes = forecastMinutesOf(s, now);
     // After a start (a restart, a crash) the alarms are what MariaDB and the journal say, not what
     // this process has seen: until the loop's tracker gives a trusted estimate again, its alarms
     // keep their state (no clear, no suppression, no re-announce; shown values are not updated),
@@ -432,24 +429,6 @@ export class AlarmService implements Service {
       if (p?.active) active.push({ condition, priority: p.priority });
     }
     return memoryForActive(active);
-  }
-
-  /** Feed the loop's margin trend and forecast when it reaches the margin level (minutes). */
-  private forecast(s: LoopStateDto, policy: EffectivePolicy, now: number): number | null {
-    if (NON_TRACKING.has(s.trackerState)) {
-      this.trends.get(s.loopId)?.reset();
-      return null;
-    }
-    let trend = this.trends.get(s.loopId);
-    const memoryS = 200 * s.estimationPeriodS; // RLS memory 1/(1 - λ) at λ = 0.995, in seconds
-    if (!trend || trend.memoryS !== memoryS) {
-      trend = new MarginTrend({ memoryS, windowS: Math.max(7200, 20 * memoryS) });
-      this.trends.set(s.loopId, trend);
-    }
-    const poles = s.modelPoles.length ? s.modelPoles : s.dataPoles;
-    const mode = dominantOscillatingMode(poles, s.estimationPeriodS, policy.confidenceSigmas);
-    trend.push(now / 1000, mode ? mode.decayRatio : null);
-    return trend.minutesTo(policy.decayRatio.low, now / 1000);
   }
 
   // ------------------------------------------------------------------ transitions
@@ -636,11 +615,7 @@ export class AlarmService implements Service {
   }
 
   getPolicy(user: TenantContext, scope: PolicyScope, id: number): Promise<PolicyView> {
-    return readPolicy(this.sequelize, user, scope, id, this.policyLayers, this.policyLoops(), (loopId) => {
-      const s = this.lastState.get(loopId);
-      if (!s) return null;
-      return s.modelPoles.length ? s.modelPoles : s.dataPoles;
-    });
+    return readPolicy(this.sequelize, user, scope, id, this.policyLayers, this.policyLoops(), (loopId) => this.lastState.get(loopId)?.oscillation?.periodS ?? null);
   }
 
   /** Set one scope's levels; effective at once (no restart), logged with reason and MOC reference. */

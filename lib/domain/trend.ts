@@ -1,8 +1,8 @@
 /**
- * The `rim-forecast` trend: a thinned history of one loop's margin measure (the decay ratio of
- * its dominant oscillating mode, period-invariant) and the time at which its linear trend reaches
- * the margin alarm level, by `forecastCrossing` (Newey–West HAC interval, lib/control/forecast.ts).
- * Pure: times are passed in (seconds).
+ * A thinned history of one of a loop's figures (the decay ratio of its slowest-decaying
+ * oscillating mode, or its spectral radius) and the time at which its linear trend reaches a
+ * level, by `forecastCrossing` (Newey–West HAC interval, lib/control/forecast.ts). The tracker
+ * keeps one per loop for the rim forecast (lib/domain/assessment.ts). Pure: times in seconds.
  */
 import { forecastCrossing } from "@/lib/control/forecast";
 
@@ -15,7 +15,7 @@ export interface TrendOptions {
   memoryS?: number;
 }
 
-export class MarginTrend {
+export class FigureTrend {
   private points: { t: number; value: number }[] = [];
   readonly windowS: number;
   readonly pointEveryS: number;
@@ -49,17 +49,17 @@ export class MarginTrend {
   }
 
   /**
-   * Minutes from `nowS` until the trend reaches `level`, or null when the trend is not
-   * significant, moves away, or has already passed the level (then `margin` itself decides).
+   * When the trend reaches `level` (seconds, with its interval), or null when the trend is not
+   * significant, moves away, or has already passed the level (then the level itself decides).
+   * Extrapolates no further ahead than the history reaches back (common practice for trends).
    */
-  minutesTo(level: number, nowS: number): number | null {
+  crossing(level: number, nowS: number): { at: number; low: number; high: number } | null {
     if (this.points.length < 3) return null;
     try {
-      // Extrapolate no further ahead than the history reaches back (common practice for trends).
       const span = this.points[this.points.length - 1]!.t - this.points[0]!.t;
       const f = forecastCrossing(this.points, level, { memory: this.memoryS, maxHorizon: span });
-      if (!f || f.slope <= 0 || f.at < nowS) return null;
-      return (f.at - nowS) / 60;
+      if (!f || f.slope <= 0 || f.at < nowS || !Number.isFinite(f.at) || !Number.isFinite(f.low) || !Number.isFinite(f.high)) return null;
+      return { at: f.at, low: f.low, high: f.high };
     } catch {
       return null;
     }
