@@ -18,7 +18,7 @@ import {
   type Sequelize,
 } from "sequelize";
 import { enumColumn } from "./enum";
-import { LOOP_KINDS, TRACKER_STATES, type LoopKind, type LoopStateDto, type TrackerState } from "@/lib/types";
+import { LOOP_KINDS, TRACKER_STATES, type LoopKind, type LoopStateDto, type TrackerState } from "@/lib/domain/types";
 import type { Area, Site, Tenant } from "./tenant";
 
 export type ControllerAction = "direct" | "reverse";

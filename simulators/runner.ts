@@ -11,8 +11,8 @@
  * `{ t, sp, pv, mv, mode }` gives (a finite number prints as String(n) in both; a non-finite one
  * as null); tested against JSON.stringify.
  */
-import type { LoopMode } from "@/lib/types";
-import { MAX_SAMPLES_PER_MESSAGE, telemetryTopic } from "@/lib/telemetry";
+import type { LoopMode } from "@/lib/domain/types";
+import { MAX_SAMPLES_PER_MESSAGE, telemetryTopic } from "@/lib/domain/telemetry";
 import type { LoopSim } from "./loop-sim";
 
 export interface RunnerClock {

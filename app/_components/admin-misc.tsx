@@ -7,7 +7,7 @@ import useSWR from "swr";
 import { z } from "zod";
 import type { RuleDto } from "@/lib/admin/notifications";
 import type { SiteDto } from "@/lib/admin/sites";
-import { ALARM_PRIORITIES } from "@/lib/types";
+import { ALARM_PRIORITIES } from "@/lib/domain/types";
 import { fetchJson, sendJson } from "@/lib/client/fetcher";
 import { fmtTime } from "@/lib/client/format";
 import { CheckField, Field, FormAlert, INPUT_CLASS, SUBMIT_CLASS, useServerError } from "./form-field";

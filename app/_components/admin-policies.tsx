@@ -15,15 +15,15 @@ import type {
   LevelEquivalent,
   PolicyOverride,
   PolicyScope,
-} from "@/lib/alarms/policy";
+} from "@/lib/domain/alarms/policy";
 import type { SiteDto } from "@/lib/admin/sites";
-import type { Role } from "@/lib/types";
-import { roleAtLeast } from "@/lib/types";
+import type { Role } from "@/lib/domain/types";
+import { roleAtLeast } from "@/lib/domain/types";
 import { fetchJson, query, sendJson } from "@/lib/client/fetcher";
 import { fmt, fmtSeconds, fmtTime } from "@/lib/client/format";
 import { timeConstantOfRadius } from "@/lib/client/order";
 import { radiusForDecayRatio } from "@/lib/domain/assessment";
-import type { LoopSummary } from "@/lib/types";
+import type { LoopSummary } from "@/lib/domain/types";
 
 interface LoopPolicyView {
   loopId: number;

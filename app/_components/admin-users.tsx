@@ -6,7 +6,7 @@ import { useForm } from "react-hook-form";
 import useSWR from "swr";
 import { z } from "zod";
 import type { InvitationDto, MemberDto } from "@/lib/admin/users";
-import { ROLES, roleAtLeast, type Role } from "@/lib/types";
+import { ROLES, roleAtLeast, type Role } from "@/lib/domain/types";
 import { fetchJson, sendJson } from "@/lib/client/fetcher";
 import { useNow } from "@/lib/client/hooks";
 import { fmtTime } from "@/lib/client/format";

@@ -15,8 +15,8 @@ import {
 } from "@tanstack/react-table";
 import Link from "next/link";
 import { Fragment, useMemo, useState } from "react";
-import type { AlarmDto, Role } from "@/lib/types";
-import { ALARM_PRIORITIES, ALARM_STATES, roleAtLeast } from "@/lib/types";
+import type { AlarmDto, Role } from "@/lib/domain/types";
+import { ALARM_PRIORITIES, ALARM_STATES, roleAtLeast } from "@/lib/domain/types";
 import { query } from "@/lib/client/fetcher";
 import { ALARM_STATE_WORDS, CONDITION_WORDS, fmt, fmtStamp, fmtTime } from "@/lib/client/format";
 import { useAlarms } from "@/lib/client/hooks";

@@ -5,7 +5,7 @@
  */
 import { zToS } from "@/lib/control/zplane";
 import { dominantPole, effectivePoles } from "@/lib/domain/assessment";
-import type { LoopStateDto } from "@/lib/types";
+import type { LoopStateDto } from "@/lib/domain/types";
 import { fmt, fmtAge, fmtSeconds } from "@/lib/client/format";
 import { JuryTable } from "./jury-table";
 

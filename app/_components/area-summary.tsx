@@ -1,5 +1,5 @@
 /** Per operator-area summary: loops, alarms by priority (shape + number), stale count, worst radius. */
-import type { AlarmPriority, LiveLoopSummary } from "@/lib/types";
+import type { AlarmPriority, LiveLoopSummary } from "@/lib/domain/types";
 import { ATTENTION_STATES, dataAge } from "@/lib/client/order";
 import { fmt } from "@/lib/client/format";
 import { memo } from "react";

@@ -12,7 +12,7 @@ import { useForm, type FieldErrors, type UseFormRegister } from "react-hook-form
 import useSWR from "swr";
 import { createLoopSchema, NEW_LOOP_DEFAULTS, type CreateLoopInput, type LoopFields } from "@/lib/admin/loop-schema";
 import type { SiteDto } from "@/lib/admin/sites";
-import { LOOP_KINDS } from "@/lib/types";
+import { LOOP_KINDS } from "@/lib/domain/types";
 import { fetchJson, sendJson } from "@/lib/client/fetcher";
 
 type Form = CreateLoopInput;

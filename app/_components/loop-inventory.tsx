@@ -11,8 +11,8 @@ import {
 } from "@tanstack/react-table";
 import Link from "next/link";
 import { useMemo, useState } from "react";
-import type { Role } from "@/lib/types";
-import { TRACKER_STATES, roleAtLeast } from "@/lib/types";
+import type { Role } from "@/lib/domain/types";
+import { TRACKER_STATES, roleAtLeast } from "@/lib/domain/types";
 import { fmt, fmtAge, fmtSeconds } from "@/lib/client/format";
 import { useDecayLevels, useLoops, useNow } from "@/lib/client/hooks";
 import { compareWorstFirst, dataAge, worstPriority } from "@/lib/client/order";

@@ -7,10 +7,10 @@
  */
 import { useRouter } from "next/navigation";
 import { memo, useSyncExternalStore, type MouseEvent } from "react";
-import { NON_TRACKING } from "@/lib/alarms/conditions";
-import type { LiveLoopSummary, TrackerState } from "@/lib/types";
+import { NON_TRACKING } from "@/lib/domain/alarms/conditions";
+import type { LiveLoopSummary, TrackerState } from "@/lib/domain/types";
 import { gaugeLevels } from "@/lib/domain/assessment";
-import { DEFAULT_POLICY } from "@/lib/alarms/policy";
+import { DEFAULT_POLICY } from "@/lib/domain/alarms/policy";
 import { dataAge } from "@/lib/client/order";
 import { fmt, fmtAge } from "@/lib/client/format";
 import { SPARK_POINTS, type Spark } from "@/lib/client/loop-store";

@@ -5,7 +5,7 @@
  */
 import Link from "next/link";
 import { useMemo } from "react";
-import { TRACKER_STATES } from "@/lib/types";
+import { TRACKER_STATES } from "@/lib/domain/types";
 import { fmt } from "@/lib/client/format";
 import { useDecayLevels, useLoops, useNow } from "@/lib/client/hooks";
 import { dataAge, sortWorstFirst } from "@/lib/client/order";

@@ -12,7 +12,7 @@
 import { memo, type ReactElement } from "react";
 import { dampingLocus, naturalFrequencyLocus } from "@/lib/control/zplane";
 import type { Complex } from "@/lib/control/types";
-import type { PoleBrief } from "@/lib/types";
+import type { PoleBrief } from "@/lib/domain/types";
 import { fmt } from "@/lib/client/format";
 import { SPARK_POINTS, type Spark } from "@/lib/client/loop-store";
 

@@ -6,9 +6,9 @@
  */
 import Link from "next/link";
 import { useEffect, useState } from "react";
-import type { LiveLoopSummary, Role } from "@/lib/types";
+import type { LiveLoopSummary, Role } from "@/lib/domain/types";
 import { marginToAlarm, worstPriority } from "@/lib/client/order";
-import { DEFAULT_POLICY } from "@/lib/alarms/policy";
+import { DEFAULT_POLICY } from "@/lib/domain/alarms/policy";
 import { AreaSummaries } from "./area-summary";
 import { useWorstFirstLoops } from "./use-worst-first";
 import { AlarmBand } from "./control-room";

@@ -9,7 +9,7 @@
 import { memo, type ReactElement } from "react";
 import { dampingLocus, naturalFrequencyLocus } from "@/lib/control/zplane";
 import type { Complex } from "@/lib/control/types";
-import type { PoleBrief, PoleDto } from "@/lib/types";
+import type { PoleBrief, PoleDto } from "@/lib/domain/types";
 
 /** A pole to draw: a live summary's (place only) or a full state's (with its covariance for the ellipse). */
 export type MapPole = PoleBrief & { cov?: PoleDto["cov"] };

@@ -8,7 +8,7 @@
  */
 import type { Complex } from "@/lib/control/types";
 import { decayRatio as poleDecayRatio, poleCharacteristics } from "@/lib/control/zplane";
-import type { PoleDto, SampleQualityDto, TrackerState } from "@/lib/types";
+import type { PoleDto, SampleQualityDto, TrackerState } from "@/lib/domain/types";
 
 /** Which poles the figures come from: model-based closed-loop poles, else the data-only ones. */
 export type PoleSource = "model" | "closed-loop" | "disturbance-response";

@@ -2,14 +2,14 @@
  * Ingest diagnostics for an admin: the running pipeline's counters for the admin's tenant only,
  * joined with the tenant's device names. Devices that sent nothing since the start are listed
  * with zero counts so a silent gateway is visible. Samples accepted as bad or uncertain quality
- * (lib/sample-quality.ts) are counted per reason beside the rejections.
+ * (lib/domain/sample-quality.ts) are counted per reason beside the rejections.
  */
 import { QueryTypes, type Sequelize } from "sequelize";
 import { getSequelize } from "@/lib/db/sequelize";
-import { QUALITY_REASONS, type QualityReason } from "@/lib/sample-quality";
+import { QUALITY_REASONS, type QualityReason } from "@/lib/domain/sample-quality";
 import { getServerContext } from "@/lib/server-context";
-import { REJECT_REASONS, type RejectReason } from "@/lib/telemetry";
-import type { TenantContext } from "@/lib/types";
+import { REJECT_REASONS, type RejectReason } from "@/lib/domain/telemetry";
+import type { TenantContext } from "@/lib/domain/types";
 
 export interface DeviceIngestCounters {
   device: string;

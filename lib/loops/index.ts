@@ -8,7 +8,7 @@ import { QueryTypes, type Sequelize } from "sequelize";
 import { z } from "zod";
 import { getSequelize } from "@/lib/db/sequelize";
 import { getServerContext } from "@/lib/server-context";
-import type { AlarmDto, LoopKind, LoopStateDto, LoopSummary, TenantContext } from "@/lib/types";
+import type { AlarmDto, LoopKind, LoopStateDto, LoopSummary, TenantContext } from "@/lib/domain/types";
 
 export { getLoopHistory, historyColumns, historySchema, type LoopHistory, type LoopHistoryColumns, type HistoryPoint, type HistorySnapshot } from "./history";
 

@@ -2,7 +2,7 @@
  * How lib/ and route handlers reach the object store: through the running server context
  * (lib/server-context.ts), never by importing server/ code. server/objectstore implements this.
  */
-import { HttpError } from "@/lib/errors";
+import { HttpError } from "@/lib/domain/errors";
 import { getServerContext } from "@/lib/server-context";
 
 export interface ObjectStore {

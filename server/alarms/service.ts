@@ -11,6 +11,8 @@
  * keeps every acknowledgement and shelve durable before it is confirmed to the person.)
  */
 import type { Sequelize } from "sequelize";
+import type { AlarmApi, AlarmListFilter } from "@/lib/domain/services";
+export type { AlarmListFilter } from "@/lib/domain/services";
 import { QueryTypes } from "sequelize";
 import {
   CONDITION_PRIORITY,
@@ -19,18 +21,18 @@ import {
   isTrustedEstimate,
   memoryForActive,
   type ConditionMemory,
-} from "@/lib/alarms/conditions";
+} from "@/lib/domain/alarms/conditions";
 import {
   normalizeStoredSettings,
   parsePolicyOverride,
   resolvePolicy,
   type EffectivePolicy,
   type PolicyOverride,
-} from "@/lib/alarms/policy";
-import { applyAlarmAction, type AlarmAction, type TransitionResult } from "@/lib/alarms/state-machine";
+} from "@/lib/domain/alarms/policy";
+import { applyAlarmAction, type AlarmAction, type TransitionResult } from "@/lib/domain/alarms/state-machine";
 import { publicOrigin } from "@/lib/config";
-import { ForbiddenError, HttpError, NotFoundError } from "@/lib/errors";
-import { tenantRoom } from "@/lib/realtime/events";
+import { ForbiddenError, HttpError, NotFoundError } from "@/lib/domain/errors";
+import { tenantRoom } from "@/lib/domain/events";
 import {
   ALARM_CONDITIONS,
   roleAtLeast,
@@ -41,15 +43,15 @@ import {
   type LoopStateDto,
   type Role,
   type TenantContext,
-} from "@/lib/types";
+} from "@/lib/domain/types";
 import type { ServerContext, Service, ServiceHealth } from "@/server/context";
 import { AlarmDbWriter, journalId, LAST_KNOWN_MEMBERSHIP, type LastKnownAuthorisation } from "./db-writer";
 import { AlarmJournal, type JournalEntry, type PointSnapshot } from "./journal";
 import { AlarmNotifier, priorityOfSubject, type NotificationRuleRow, type SentRow } from "./notifier";
 import type { MailService } from "@/server/mail";
 import { alarmDetail, alarmKpis, readPolicy, writePolicy, type PolicyLoopInfo, type PolicyView } from "./queries";
-import type { AlarmKpis } from "@/lib/alarms/kpis";
-import type { PolicyScope } from "@/lib/alarms/policy";
+import type { AlarmKpis } from "@/lib/domain/alarms/kpis";
+import type { PolicyScope } from "@/lib/domain/alarms/policy";
 
 interface LoopFacts {
   id: number;
@@ -80,15 +82,6 @@ export interface AlarmServiceOptions {
   quiet?: boolean;
 }
 
-export interface AlarmListFilter {
-  state?: AlarmState;
-  priority?: AlarmPriority;
-  loopId?: number;
-  /** Epoch ms: changed at or after. */
-  from?: number;
-  /** Epoch ms: changed before. */
-  to?: number;
-}
 
 export class JournalFullHttpError extends HttpError {
   constructor() {
@@ -101,7 +94,7 @@ export class JournalFullHttpError extends HttpError {
 
 const ms = (d: Date | string | null | undefined): number | null => (d == null ? null : new Date(d).getTime());
 
-export class AlarmService implements Service {
+export class AlarmService implements Service, AlarmApi {
   readonly name = "alarms";
   private points = new Map<number, PointRecord>();
   private byLoop = new Map<number, Map<AlarmCondition, number>>();

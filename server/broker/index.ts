@@ -10,7 +10,7 @@ import { Aedes, type AedesPublishPacket, type Client } from "aedes";
 import mqtt from "mqtt";
 import { RateLimiterMemory } from "rate-limiter-flexible";
 import type { Service, ServerContext } from "@/server/context";
-import { MAX_PAYLOAD_BYTES, parseTelemetryTopic, type RejectReason } from "@/lib/telemetry";
+import { MAX_PAYLOAD_BYTES, parseTelemetryTopic, type RejectReason } from "@/lib/domain/telemetry";
 import { IngestCounters, UNAUTHENTICATED, type DeviceIdentity } from "@/server/ingest/counters";
 import { CachedCredentials, clientIdAllowed, secretMatches, type CredentialLookup, type DeviceCredential } from "./credentials";
 import { FrameGuard } from "./frame-guard";

@@ -8,8 +8,8 @@
  * never liveness.
  */
 import type { Sequelize } from "sequelize";
-import type { LoopStateDto } from "@/lib/types";
-import { TRACKER_STATES } from "@/lib/types";
+import type { LoopStateDto } from "@/lib/domain/types";
+import { TRACKER_STATES } from "@/lib/domain/types";
 import type { MinuteBucketRow, PoleSnapshotRow, SecondBucketRow } from "./aggregate";
 
 const MODES = new Set(["auto", "manual", "cascade"]);

@@ -6,8 +6,8 @@
  * with `quality` bad or uncertain and its reason, counted per device and reason: the tracker and
  * history keep it out of every estimate and statistic.
  */
-import { judgeSampleQuality, type QualityReason } from "@/lib/sample-quality";
-import type { SampleDto } from "@/lib/types";
+import { judgeSampleQuality, type QualityReason } from "@/lib/domain/sample-quality";
+import type { SampleDto } from "@/lib/domain/types";
 import {
   FUTURE_SKEW_MS,
   MAX_PAYLOAD_BYTES,
@@ -15,7 +15,7 @@ import {
   parseTelemetryTopic,
   validateSample,
   type RejectReason,
-} from "@/lib/telemetry";
+} from "@/lib/domain/telemetry";
 import { IngestCounters, type DeviceIdentity } from "./counters";
 import type { LoopDirectory, LoopRoute } from "./directory";
 

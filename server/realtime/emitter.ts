@@ -9,8 +9,8 @@
  * A batch for a room nobody is in is dropped unencoded (newcomers load the current states over
  * HTTP and get every loop's next summary within its state period).
  */
-import { loopRoom, tenantRoom } from "@/lib/realtime/events";
-import type { LoopStateBrief, LoopStateDto, SampleDto } from "@/lib/types";
+import { loopRoom, tenantRoom } from "@/lib/domain/events";
+import type { LoopStateBrief, LoopStateDto, SampleDto } from "@/lib/domain/types";
 import type { ServerContext } from "@/server/context";
 import { toLoopBrief } from "./summary";
 

@@ -12,13 +12,13 @@ import type {
   InterServerEvents,
   ServerToClientEvents,
   SocketData,
-} from "@/lib/realtime/events";
+} from "@/lib/domain/events";
 import { claimsFromCookieHeader, type SessionClaims } from "@/lib/auth/session-token";
 import { loadTenantContext } from "@/lib/auth/store";
-import { tenantRoom } from "@/lib/realtime/events";
+import { tenantRoom } from "@/lib/domain/events";
 import { sessionEvents } from "@/lib/server-context";
 import type { RimguardIo } from "@/server/context";
-import type { TenantContext } from "@/lib/types";
+import type { TenantContext } from "@/lib/domain/types";
 
 export const SOCKET_RECHECK_MS = 5_000;
 

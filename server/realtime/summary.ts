@@ -1,5 +1,5 @@
 /**
- * The live summary of a loop (`LoopStateBrief`, lib/types.ts) built from a tracker's full state
+ * The live summary of a loop (`LoopStateBrief`, lib/domain/types.ts) built from a tracker's full state
  * for the tenant's `loop:state` batches (docs/architecture.md §8: "a batch of loop summaries").
  *
  * It keeps only what the control room, the wall, tiles, area summaries, the loop list and the
@@ -12,7 +12,7 @@
  * For 2,000 loops a batch is about a sixth of the full states' JSON.
  */
 import type { DominantMode, OscillatingMode } from "@/lib/domain/assessment";
-import type { LoopStateBrief, LoopStateDto, PoleBrief, PoleDto } from "@/lib/types";
+import type { LoopStateBrief, LoopStateDto, PoleBrief, PoleDto } from "@/lib/domain/types";
 
 /** x rounded to `d` decimals, or null when not finite. */
 export function roundTo(x: number | null | undefined, d: number): number | null {

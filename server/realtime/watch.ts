@@ -3,9 +3,9 @@
  * loop belongs to the socket's tenant (socket.data.tenantId, set by the handshake); otherwise it
  * gets `{ ok: false, error }` with the same words as for a loop that does not exist.
  */
-import { loopRoom, type WatchReply } from "@/lib/realtime/events";
+import { loopRoom, type WatchReply } from "@/lib/domain/events";
 import type { Socket } from "socket.io";
-import type { ClientToServerEvents, InterServerEvents, ServerToClientEvents, SocketData } from "@/lib/realtime/events";
+import type { ClientToServerEvents, InterServerEvents, ServerToClientEvents, SocketData } from "@/lib/domain/events";
 import type { RimguardIo } from "@/server/context";
 
 type RgSocket = Socket<ClientToServerEvents, ServerToClientEvents, InterServerEvents, SocketData>;

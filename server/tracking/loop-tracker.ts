@@ -46,7 +46,7 @@
  * `stale`: no message for 3 delivery periods (the telemetry period times the samples per
  * message, so a batching gateway does not flap), or a PV repeated exactly for 30 s, or a run of
  * bad-quality samples (a sensor fault).
- * Sample quality (lib/sample-quality.ts): a bad or uncertain sample (fault code, out of range,
+ * Sample quality (lib/domain/sample-quality.ts): a bad or uncertain sample (fault code, out of range,
  * the gateway's word) never reaches an estimator or a statistic. It stands in the decimation
  * block as the last good value (so the estimation clock keeps its period) and the estimation
  * samples whose regressors hold it update nothing. The tracker counts quality over a recent window
@@ -65,13 +65,13 @@ import { polyMul, qToZ, stripLeadingZeros } from "@/lib/control/poly";
 import { ArxPredictor, ResidualScreen, type ResidualScreenState } from "@/lib/control/robust";
 import { polyRoots } from "@/lib/control/roots";
 import { polyRootsWithBounds, rimVerdict } from "@/lib/control/root-bounds";
-import { DEFAULT_POLICY } from "@/lib/alarms/policy";
-import { NON_TRACKING } from "@/lib/alarms/conditions";
+import { DEFAULT_POLICY } from "@/lib/domain/alarms/policy";
+import { NON_TRACKING } from "@/lib/domain/alarms/conditions";
 import { assessPoles, effectivePoles, effectivePolesSource, type Crossing } from "@/lib/domain/assessment";
 import { FigureTrend } from "@/lib/domain/trend";
 import type { ArxModel, Complex, QTf } from "@/lib/control/types";
-import { judgeSampleQuality, valueUsable } from "@/lib/sample-quality";
-import type { LoopMode, LoopStateDto, PoleDto, SampleDto, TrackerState } from "@/lib/types";
+import { judgeSampleQuality, valueUsable } from "@/lib/domain/sample-quality";
+import type { LoopMode, LoopStateDto, PoleDto, SampleDto, TrackerState } from "@/lib/domain/types";
 import type { Clock } from "../context";
 import { QualityWindow } from "./quality-window";
 import type { LoopConfig } from "./types";

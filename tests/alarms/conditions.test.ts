@@ -12,11 +12,11 @@ import {
   stepLevel,
   idleFilter,
   type ConditionMemory,
-} from "@/lib/alarms/conditions";
+} from "@/lib/domain/alarms/conditions";
 import { polyRootsWithBounds } from "@/lib/control/root-bounds";
 import { assessPoles, slowestOscillatingMode } from "@/lib/domain/assessment";
-import { DEFAULT_POLICY, resolvePolicy, type EffectivePolicy } from "@/lib/alarms/policy";
-import type { LoopStateDto, PoleDto, TrackerState } from "@/lib/types";
+import { DEFAULT_POLICY, resolvePolicy, type EffectivePolicy } from "@/lib/domain/alarms/policy";
+import type { LoopStateDto, PoleDto, TrackerState } from "@/lib/domain/types";
 
 const T0 = Date.UTC(2026, 0, 5, 8, 0, 0);
 

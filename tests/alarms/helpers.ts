@@ -6,7 +6,7 @@ import path from "node:path";
 import type { Sequelize } from "sequelize";
 import { afterAll } from "vitest";
 import { getConfig } from "@/lib/config";
-import type { LoopStateDto, PoleDto, Role, TenantContext } from "@/lib/types";
+import type { LoopStateDto, PoleDto, Role, TenantContext } from "@/lib/domain/types";
 import { Bus, type Clock, type ServerContext } from "@/server/context";
 import type { Models } from "@/models";
 

@@ -15,7 +15,7 @@ import { afterAll, beforeAll, describe, expect, it, vi } from "vitest";
 import { getConfig } from "@/lib/config";
 import { setSharedDb } from "@/lib/db/sequelize";
 import { setServerContext } from "@/lib/server-context";
-import type { Role, TenantContext } from "@/lib/types";
+import type { Role, TenantContext } from "@/lib/domain/types";
 import { createDatabaseGate } from "@/server/db-gate";
 import { ensureMariaDb, freePort, type MariaDbHandle } from "@/lib/db/mariadb-server";
 import { migrateUp } from "@/lib/db/migrate";

@@ -7,9 +7,9 @@ import {
   parsePolicyOverride,
   policyEquivalents,
   resolvePolicy,
-} from "@/lib/alarms/policy";
-import { computeAlarmKpis, type OccurrenceRecord } from "@/lib/alarms/kpis";
-import { ValidationError } from "@/lib/errors";
+} from "@/lib/domain/alarms/policy";
+import { computeAlarmKpis, type OccurrenceRecord } from "@/lib/domain/alarms/kpis";
+import { ValidationError } from "@/lib/domain/errors";
 
 describe("policy precedence: loop > site > tenant > defaults", () => {
   it("merges field by field", () => {

@@ -9,10 +9,10 @@
 import { createElement } from "react";
 import { renderToStaticMarkup } from "react-dom/server";
 import { describe, expect, it } from "vitest";
-import { evaluateConditions, newConditionMemory } from "@/lib/alarms/conditions";
-import { DEFAULT_POLICY } from "@/lib/alarms/policy";
+import { evaluateConditions, newConditionMemory } from "@/lib/domain/alarms/conditions";
+import { DEFAULT_POLICY } from "@/lib/domain/alarms/policy";
 import { assessPoles } from "@/lib/domain/assessment";
-import type { LoopStateDto, PoleDto } from "@/lib/types";
+import type { LoopStateDto, PoleDto } from "@/lib/domain/types";
 import { toLoopBrief } from "@/server/realtime/summary";
 import { AnalysisPanel } from "@/app/_components/analysis-panel";
 

@@ -9,7 +9,7 @@ import path from "node:path";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { notifyUserChanged } from "@/lib/server-context";
 import { CONTEXT_TTL_MS } from "@/lib/auth/context-cache";
-import { ROLES, roleAtLeast, type Role } from "@/lib/types";
+import { ROLES, roleAtLeast, type Role } from "@/lib/domain/types";
 import { REPO_ROOT } from "@/server/index";
 import { startTestServer, type TestServer } from "../setup/server";
 import { createAuthFixture, FIXTURE_PASSWORD, type AuthFixture, type FixtureTenant } from "./fixture";

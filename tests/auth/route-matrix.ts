@@ -12,7 +12,7 @@
  * fixture that lacks data or a body that does not fit is fine: the guard let the call through).
  * Set `admitted` to pin exact statuses when they are known.
  */
-import type { Role } from "@/lib/types";
+import type { Role } from "@/lib/domain/types";
 
 export type Method = "GET" | "POST" | "PUT" | "PATCH" | "DELETE";
 

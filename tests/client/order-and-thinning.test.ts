@@ -6,7 +6,7 @@
 import { describe, expect, it } from "vitest";
 import { thinAligned } from "@/lib/client/history";
 import { WorstFirstOrder, sortWorstFirst, stableWorstFirst } from "@/lib/client/order";
-import type { AlarmPriority, LoopStateDto, LoopSummary } from "@/lib/types";
+import type { AlarmPriority, LoopStateDto, LoopSummary } from "@/lib/domain/types";
 
 function loop(id: number, tag: string, decayRatio: number | null, radius: number | null, alarm?: AlarmPriority): LoopSummary {
   const state = radius === null ? null : ({ spectralRadius: radius, decayRatio, juryStable: radius < 1, rimDistance: 1 - radius } as unknown as LoopStateDto);

@@ -3,7 +3,7 @@ import type { Sequelize } from "sequelize";
 import { HistoryAggregator, type MinuteBucketRow, type PoleSnapshotRow, type SecondBucketRow } from "@/server/history/aggregate";
 import { HistoryWriter } from "@/server/history/writer";
 import { startRealtimeEmitter } from "@/server/realtime/emitter";
-import type { LoopStateDto, SampleDto } from "@/lib/types";
+import type { LoopStateDto, SampleDto } from "@/lib/domain/types";
 import { ManualClock, testContext } from "./helpers";
 
 // History tiers per docs/architecture.md §6 and batching per §8; min/mean/max are checked against

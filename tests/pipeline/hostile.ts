@@ -5,7 +5,7 @@
  * out-of-order and future samples are exact.
  */
 import fc from "fast-check";
-import type { RejectReason } from "@/lib/telemetry";
+import type { RejectReason } from "@/lib/domain/telemetry";
 
 export type SampleKind =
   | { kind: "valid"; sp: number; pv: number; mv: number; mode: string }

@@ -1,6 +1,6 @@
 import { describe, expect, it } from "vitest";
 import { Ingest, LoopDirectory, type DeviceIdentity, type LoopRoute } from "@/server/ingest";
-import type { SampleDto } from "@/lib/types";
+import type { SampleDto } from "@/lib/domain/types";
 
 // Rules from docs/architecture.md §5 (telemetry contract); the DUP flag from MQTT 3.1.1 §3.3.1.1.
 

@@ -6,7 +6,7 @@ import { ingestDiagnostics } from "@/lib/loops/diagnostics";
 import { DAY_MS, listPartitions, partitionName } from "@/lib/db/partitions";
 import { listLoops, getLoop } from "@/lib/loops";
 import type { DeviceIdentity } from "@/server/ingest";
-import type { SampleDto } from "@/lib/types";
+import type { SampleDto } from "@/lib/domain/types";
 import { createTestDatabase, type TestDatabase } from "../setup/db";
 import { createPipelineFixture, PiLoop, type PipelineTenant } from "./fixture";
 import { ManualClock, testContext } from "./helpers";

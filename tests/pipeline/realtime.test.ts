@@ -2,8 +2,8 @@ import mqtt, { type MqttClient } from "mqtt";
 import { io as connect, type Socket } from "socket.io-client";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { hashDeviceSecret } from "@/lib/devices";
-import type { ClientToServerEvents, ServerToClientEvents, WatchReply } from "@/lib/realtime/events";
-import type { LoopStateBrief, LoopStateDto, SampleDto } from "@/lib/types";
+import type { ClientToServerEvents, ServerToClientEvents, WatchReply } from "@/lib/domain/events";
+import type { LoopStateBrief, LoopStateDto, SampleDto } from "@/lib/domain/types";
 import { isPipelineService, type PipelineService } from "@/server/pipeline";
 import { createAuthFixture, FIXTURE_PASSWORD, type AuthFixture, type FixtureTenant } from "../auth/fixture";
 import { authedFetch, signIn } from "../auth/helpers";
@@ -117,7 +117,7 @@ describe("realtime tenant isolation", () => {
     expect(got.a.states.length).toBeGreaterThan(0);
     for (const st of got.a.states.flat()) {
       expect(Object.keys(st).sort()).toEqual(
-        ["at", "dataPoles", "dataPolesKind", "dominant", "estimationPeriodS", "gainHeadroom", "juryStable", "loopId", "modelPoles", "receivedAt", "rimDistance", "spectralRadius", "stateReason", "tenantId", "trackerState", "decayRatio"].sort(),
+        ["at", "dataPoles", "dataPolesKind", "dominant", "estimationPeriodS", "gainHeadroom", "juryStable", "loopId", "modelPoles", "receivedAt", "rimDistance", "spectralRadius", "stateReason", "tenantId", "trackerState", "decayRatio", "polesFrom", "oscillation"].sort(),
       );
       for (const p of [...st.modelPoles, ...st.dataPoles]) expect(Object.keys(p).sort()).toEqual(["im", "radius", "re"]);
     }

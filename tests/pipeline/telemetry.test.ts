@@ -1,12 +1,12 @@
 import { describe, expect, it } from "vitest";
-import { isSlug, slugify } from "@/lib/slug";
+import { isSlug, slugify } from "@/lib/domain/slug";
 import {
   MAX_PAYLOAD_BYTES,
   decodePayload,
   parseTelemetryTopic,
   telemetryTopic,
   validateSample,
-} from "@/lib/telemetry";
+} from "@/lib/domain/telemetry";
 import { FrameGuard } from "@/server/broker/frame-guard";
 import { topicMatches } from "@/server/broker/topic-match";
 

@@ -1,6 +1,6 @@
 import { describe, expect, it } from "vitest";
 import { poleCharacteristics, polyRoots } from "@/lib/control";
-import type { LoopStateBrief, LoopStateDto, PoleDto } from "@/lib/types";
+import type { LoopStateBrief, LoopStateDto, PoleDto } from "@/lib/domain/types";
 import { startRealtimeEmitter } from "@/server/realtime/emitter";
 import { roundSig, roundTo, toLoopBrief } from "@/server/realtime/summary";
 import { ManualClock, testContext } from "../pipeline/helpers";

@@ -20,7 +20,7 @@
 import { beforeAll, describe, expect, it } from "vitest";
 import type { Complex } from "@/lib/control/types";
 import { decayRatio } from "@/lib/control/zplane";
-import type { LoopStateDto } from "@/lib/types";
+import type { LoopStateDto } from "@/lib/domain/types";
 import { trueClosedLoopPoles } from "@/simulators/loop-sim";
 import { startDemoRun, type DemoRun } from "./demo-harness";
 

@@ -5,8 +5,8 @@ import { AdminPolicies } from "@/app/_components/admin-policies";
 import { AdminUsers } from "@/app/_components/admin-users";
 import { ConfigChangeLog } from "@/app/_components/config-change-log";
 import { getContextOrNull } from "@/lib/auth/guard";
-import { POLICY_SCOPES, type PolicyScope } from "@/lib/alarms/policy";
-import { roleAtLeast } from "@/lib/types";
+import { POLICY_SCOPES, type PolicyScope } from "@/lib/domain/alarms/policy";
+import { roleAtLeast } from "@/lib/domain/types";
 
 export const dynamic = "force-dynamic";
 export const metadata = { title: "Administration · Rimguard" };

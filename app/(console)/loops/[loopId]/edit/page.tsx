@@ -3,7 +3,7 @@ import { LoopForm } from "@/app/_components/loop-form";
 import { ConfigChangeLog } from "@/app/_components/config-change-log";
 import { getLoopConfig } from "@/lib/admin/loops";
 import { getContextOrNull } from "@/lib/auth/guard";
-import { roleAtLeast } from "@/lib/types";
+import { roleAtLeast } from "@/lib/domain/types";
 
 export const dynamic = "force-dynamic";
 export const metadata = { title: "Edit loop · Rimguard" };

@@ -2,7 +2,7 @@
  * The Socket.IO event map (docs/architecture.md §8, a contract). Server and browser both import
  * these types; a payload change is made here and nowhere else.
  */
-import type { AlarmDto, LoopStateBrief, LoopStateDto, SampleDto } from "../types";
+import type { AlarmDto, LoopStateBrief, LoopStateDto, SampleDto } from "./types";
 
 export type WatchReply = { ok: true; loopId: number } | { ok: false; error: string };
 
@@ -38,7 +38,7 @@ export interface InterServerEvents {
 export interface SocketData {
   userId: number;
   tenantId: number;
-  role: import("../types").Role;
+  role: import("./types").Role;
 }
 
 /** Room names: one per tenant, one per watched loop. */

@@ -21,8 +21,8 @@
  * suppression that arrives while shelved or out of service is remembered (`suppressedReason`)
  * and takes effect when the shelve or the out-of-service ends.
  */
-import { ConflictError, ValidationError } from "@/lib/errors";
-import type { AlarmPriority, AlarmState } from "@/lib/types";
+import { ConflictError, ValidationError } from "@/lib/domain/errors";
+import type { AlarmPriority, AlarmState } from "@/lib/domain/types";
 
 export const PRIORITY_RANK: Record<AlarmPriority, number> = { low: 1, high: 2, urgent: 3 };
 

@@ -6,7 +6,7 @@
  * noise: the sample is accepted and kept as *bad quality* (counted per device and reason, stored
  * as a count in history, remembered by the loop's tracker for a sensor-fault finding) and never
  * reaches an estimator or a min/mean/max. A gateway may say so itself with `"quality": "bad"` or
- * `"uncertain"` (telemetry contract, lib/telemetry.ts).
+ * `"uncertain"` (telemetry contract, lib/domain/telemetry.ts).
  *
  * MV: the controller output is not a measurement. An MV far outside its configured range is not a
  * sensor fault but an output the actuator cannot follow (it stops at its end), so what the

@@ -16,7 +16,7 @@
  * - Priority distribution against roughly 80 % low / 15 % high / 5 % urgent (EEMUA 191 and
  *   ISA-18.2 for three priorities).
  */
-import type { AlarmPriority } from "@/lib/types";
+import type { AlarmPriority } from "@/lib/domain/types";
 
 export interface OccurrenceRecord {
   alarmId: number;

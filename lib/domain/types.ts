@@ -3,9 +3,9 @@
  * IDs are database integers. Times are epoch milliseconds inside the server and Socket.IO
  * payloads, ISO 8601 strings in the REST API.
  */
-import type { Complex } from "./control/types";
+import type { Complex } from "@/lib/control/types";
 import type { QualityReason } from "./sample-quality";
-import type { LoopAssessment } from "./domain/assessment";
+import type { LoopAssessment } from "./assessment";
 
 export const ROLES = ["viewer", "operator", "engineer", "admin"] as const;
 export type Role = (typeof ROLES)[number];
@@ -31,7 +31,7 @@ export type TrackerState = (typeof TRACKER_STATES)[number];
 
 export type LoopMode = "auto" | "manual" | "cascade";
 
-/** Quality of a sample (telemetry contract): only `good` samples feed estimators and statistics (lib/sample-quality.ts). */
+/** Quality of a sample (telemetry contract): only `good` samples feed estimators and statistics (lib/domain/sample-quality.ts). */
 export const SAMPLE_QUALITIES = ["good", "bad", "uncertain"] as const;
 export type SampleQuality = (typeof SAMPLE_QUALITIES)[number];
 

@@ -8,7 +8,7 @@
  *         { "t": <epoch ms, integer>, "sp": number, "pv": number, "mv": number,
  *           "mode": "auto" | "manual" | "cascade", "quality"?: "good" | "bad" | "uncertain" }
  *         A sample without `quality` is good unless its values say otherwise: ingest judges every
- *         accepted sample against its loop's range and known fault values (lib/sample-quality.ts).
+ *         accepted sample against its loop's range and known fault values (lib/domain/sample-quality.ts).
  */
 import { SAMPLE_QUALITIES, type LoopMode, type SampleDto, type SampleQuality } from "./types";
 import { isSlug } from "./slug";

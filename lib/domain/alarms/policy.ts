@@ -8,7 +8,7 @@
  * Precedence: loop > site > tenant > built-in defaults, field by field.
  */
 import { z } from "zod";
-import { ValidationError } from "@/lib/errors";
+import { ValidationError } from "@/lib/domain/errors";
 
 export const POLICY_SCOPES = ["tenant", "site", "loop"] as const;
 export type PolicyScope = (typeof POLICY_SCOPES)[number];

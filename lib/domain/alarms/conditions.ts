@@ -4,7 +4,7 @@
  * Pure: no I/O; the caller passes `now` (epoch ms) and keeps the returned `ConditionMemory`.
  */
 import { effectivePoles, modeWithinConfidence } from "@/lib/domain/assessment";
-import type { AlarmCondition, AlarmPriority, LoopStateDto, TrackerState } from "@/lib/types";
+import type { AlarmCondition, AlarmPriority, LoopStateDto, TrackerState } from "@/lib/domain/types";
 import type { EffectivePolicy } from "./policy";
 
 // ---------------------------------------------------------------- hysteresis with delays
