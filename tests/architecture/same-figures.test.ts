@@ -14,7 +14,7 @@ import { DEFAULT_POLICY } from "@/lib/domain/alarms/policy";
 import { assessPoles } from "@/lib/domain/assessment";
 import type { LoopStateDto, PoleDto } from "@/lib/domain/types";
 import { toLoopBrief } from "@/server/realtime/summary";
-import { AnalysisPanel } from "@/app/_components/analysis-panel";
+import { AnalysisPanel } from "@/app/(console)/loops/[loopId]/_components/analysis-panel";
 
 const T = 1;
 const pole = (re: number, im: number): PoleDto => ({ re, im, radius: Math.hypot(re, im), sdRadius: null, cov: null });

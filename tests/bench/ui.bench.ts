@@ -49,7 +49,7 @@ import os from "node:os";
 import path from "node:path";
 import { performance } from "node:perf_hooks";
 import { chromium, type Page, type Route } from "playwright-core";
-import { ensureMariaDb, freePort } from "@/lib/db/mariadb-server";
+import { ensureMariaDb, freePort } from "@/scripts/mariadb-server";
 import { DEMO_PASSWORD } from "@/lib/seed";
 import { tenantRoom } from "@/lib/domain/events";
 import type { LoopStateBrief, LoopStateDto, LoopSummary, PoleDto } from "@/lib/domain/types";

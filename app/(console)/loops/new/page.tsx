@@ -1,5 +1,5 @@
 import { redirect } from "next/navigation";
-import { LoopForm } from "@/app/_components/loop-form";
+import { LoopForm } from "@/app/(console)/loops/_components/loop-form";
 import { getContextOrNull } from "@/lib/auth/guard";
 import { roleAtLeast } from "@/lib/domain/types";
 

@@ -8,9 +8,9 @@ import type { Config } from "@/lib/config";
 import { getConfig } from "@/lib/config";
 import type { Models } from "@/models";
 import { ensureMariaDb, stopMariaDb, type MariaDbHandle } from "./mariadb-server";
-import { migrateUp } from "./migrate";
-import { maintainHistoryPartitions } from "./partitions";
-import { getDb } from "./sequelize";
+import { migrateUp } from "@/lib/db/migrate";
+import { maintainHistoryPartitions } from "@/lib/db/partitions";
+import { getDb } from "@/lib/db/sequelize";
 
 export interface DatabaseReady {
   sequelize: Sequelize;

@@ -18,9 +18,9 @@ import { useDecayLevels, useLoop, useLoopSamples, useNow } from "@/lib/client/ho
 import { dataAge } from "@/lib/client/order";
 import { AnalysisPanel } from "./analysis-panel";
 import { gaugeLevels } from "@/lib/domain/assessment";
-import { LoopAlarms } from "./loop-alarms";
+import { LoopAlarms } from "@/app/_components/loop-alarms";
 import { RimGauge } from "./rim-gauge";
-import { TrackerStateBadge } from "./tracker-state-badge";
+import { TrackerStateBadge } from "@/app/_components/tracker-state-badge";
 import { TrendChart } from "./trend-chart";
 import { ZPlaneLegend, ZPlaneMap } from "./z-plane-map";
 

@@ -9,7 +9,7 @@ import { TRACKER_STATES } from "@/lib/domain/types";
 import { fmt } from "@/lib/client/format";
 import { useDecayLevels, useLoops, useNow } from "@/lib/client/hooks";
 import { dataAge, sortWorstFirst } from "@/lib/client/order";
-import { KpiCharts } from "./kpi-charts";
+import { KpiCharts } from "@/app/_components/kpi-charts";
 
 const BINS = [0, 0.1, 0.2, 0.3, 0.4, 0.5, 0.6, 0.7, 0.8, 0.9, 1.0001];
 

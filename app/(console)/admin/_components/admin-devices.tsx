@@ -9,8 +9,8 @@ import type { DeviceDto } from "@/lib/admin/devices";
 import type { SiteDto } from "@/lib/admin/sites";
 import { fetchJson, sendJson } from "@/lib/client/fetcher";
 import { fmtTime } from "@/lib/client/format";
-import { Field, FormAlert, INPUT_CLASS, SUBMIT_CLASS, useServerError } from "./form-field";
-import { ReasonDialog } from "./reason-dialog";
+import { Field, FormAlert, INPUT_CLASS, SUBMIT_CLASS, useServerError } from "@/app/_components/form-field";
+import { ReasonDialog } from "@/app/_components/reason-dialog";
 
 const form = z.object({ name: z.string().trim().min(2, "Name the device (at least 2 characters)."), siteId: z.number().int().positive().nullable() });
 

@@ -16,11 +16,11 @@ import { TRACKER_STATES, roleAtLeast } from "@/lib/domain/types";
 import { fmt, fmtAge, fmtSeconds } from "@/lib/client/format";
 import { useDecayLevels, useLoops, useNow } from "@/lib/client/hooks";
 import { compareWorstFirst, dataAge, worstPriority } from "@/lib/client/order";
-import { FilterCheck, FilterInput, FilterRow, FilterSelect } from "./form-field";
-import { PriorityMark } from "./priority-mark";
-import { SortableHead } from "./sortable-head";
-import { EmptyRow, TablePager } from "./table-pager";
-import { TrackerStateBadge } from "./tracker-state-badge";
+import { FilterCheck, FilterInput, FilterRow, FilterSelect } from "@/app/_components/form-field";
+import { PriorityMark } from "@/app/_components/priority-mark";
+import { SortableHead } from "@/app/_components/sortable-head";
+import { EmptyRow, TablePager } from "@/app/_components/table-pager";
+import { TrackerStateBadge } from "@/app/_components/tracker-state-badge";
 
 /** A row as the live loop list gives it (its state may be a live summary rather than the full DTO). */
 type Row = ReturnType<typeof useLoops>["loops"][number];

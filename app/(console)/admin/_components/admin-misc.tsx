@@ -10,8 +10,8 @@ import type { SiteDto } from "@/lib/admin/sites";
 import { ALARM_PRIORITIES } from "@/lib/domain/types";
 import { fetchJson, sendJson } from "@/lib/client/fetcher";
 import { fmtTime } from "@/lib/client/format";
-import { CheckField, Field, FormAlert, INPUT_CLASS, SUBMIT_CLASS, useServerError } from "./form-field";
-import { ReasonDialog } from "./reason-dialog";
+import { CheckField, Field, FormAlert, INPUT_CLASS, SUBMIT_CLASS, useServerError } from "@/app/_components/form-field";
+import { ReasonDialog } from "@/app/_components/reason-dialog";
 
 const nullableInt = (v: unknown) => (v === "" || v === null || v === undefined ? null : Number(v));
 const ruleForm = z.object({

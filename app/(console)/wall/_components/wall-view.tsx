@@ -9,10 +9,10 @@ import { useEffect, useState } from "react";
 import type { LiveLoopSummary, Role } from "@/lib/domain/types";
 import { marginToAlarm, worstPriority } from "@/lib/client/order";
 import { DEFAULT_POLICY } from "@/lib/domain/alarms/policy";
-import { AreaSummaries } from "./area-summary";
-import { useWorstFirstLoops } from "./use-worst-first";
-import { AlarmBand } from "./control-room";
-import { LoopTile } from "./loop-tile";
+import { AreaSummaries } from "@/app/_components/area-summary";
+import { useWorstFirstLoops } from "@/app/_components/use-worst-first";
+import { AlarmBand } from "@/app/_components/control-room";
+import { LoopTile } from "@/app/_components/loop-tile";
 
 const PAGE_SECONDS = 12;
 const TILE_W = 380;

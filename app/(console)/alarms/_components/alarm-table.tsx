@@ -21,12 +21,12 @@ import { query } from "@/lib/client/fetcher";
 import { ALARM_STATE_WORDS, CONDITION_WORDS, fmt, fmtStamp, fmtTime } from "@/lib/client/format";
 import { useAlarms } from "@/lib/client/hooks";
 import { ATTENTION_STATES } from "@/lib/client/order";
-import { AlarmActions } from "./alarm-actions";
-import { FilterCheck, FilterInput, FilterRow, FilterSelect } from "./form-field";
-import { AlarmEvents } from "./loop-alarms";
-import { PriorityMark } from "./priority-mark";
-import { SortableHead } from "./sortable-head";
-import { EmptyRow, TablePager } from "./table-pager";
+import { AlarmActions } from "@/app/_components/alarm-actions";
+import { FilterCheck, FilterInput, FilterRow, FilterSelect } from "@/app/_components/form-field";
+import { AlarmEvents } from "@/app/_components/loop-alarms";
+import { PriorityMark } from "@/app/_components/priority-mark";
+import { SortableHead } from "@/app/_components/sortable-head";
+import { EmptyRow, TablePager } from "@/app/_components/table-pager";
 
 const col = createColumnHelper<AlarmDto>();
 const PRIORITY_ORDER = { urgent: 0, high: 1, low: 2 } as const;

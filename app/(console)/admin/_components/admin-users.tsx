@@ -10,8 +10,8 @@ import { ROLES, roleAtLeast, type Role } from "@/lib/domain/types";
 import { fetchJson, sendJson } from "@/lib/client/fetcher";
 import { useNow } from "@/lib/client/hooks";
 import { fmtTime } from "@/lib/client/format";
-import { Field, FormAlert, INPUT_CLASS, SUBMIT_CLASS, useServerError } from "./form-field";
-import { ReasonDialog } from "./reason-dialog";
+import { Field, FormAlert, INPUT_CLASS, SUBMIT_CLASS, useServerError } from "@/app/_components/form-field";
+import { ReasonDialog } from "@/app/_components/reason-dialog";
 
 const inviteForm = z.object({ email: z.string().trim().email("Enter a valid e-mail address."), role: z.enum(ROLES) });
 
