@@ -7,9 +7,8 @@
  * telemetry period: block averaging is the anti-alias filter). Per estimation sample:
  * 1. plant model MV -> PV: `InstrumentalArxEstimator` (lib/control/riv.ts; na, nb, nk from the
  *    loop's configuration, and a second one with na - 1): closed-loop instrumental variables with
- *    set-point instruments, then auxiliary-model instruments from the loop's own controller.
- *    Least squares (RLS/ARX) was biased by PV noise in closed loop (a lightly damped plant read
- *    as well damped, gains collapsing between set-point moves). It learns only from informative
+ *    set-point instruments, then auxiliary-model instruments from the loop's own controller
+ *    (least squares is biased by PV noise in closed loop: docs/domain.md §3). It learns only from informative
  *    samples (a set-point move, or an operator's MV move in manual), so the estimate is held,
  *    not drifted, while nothing excites it; it pauses while the MV is pinned at a limit or the
  *    PV is flat-lined. The structure with a pole fewer is reported when the configured one has
@@ -20,10 +19,8 @@
  *    filter applied to input and output leaves the ARX relation intact (prefiltering, Ljung,
  *    *System Identification*, 2nd ed., 1999, sec. 14.1). It removes the level AND slow load
  *    drift, which enters the equation error as strongly coloured noise and biases a closed-loop
- *    ARX estimate (seen in the truth tests as a gain estimated 20-30 % low with a tracked mean),
- *    without the high-frequency noise gain of a pure difference (which biased the a-coefficients
- *    there). The pole 0.9 (per estimation sample) keeps the band of the dominant modes
- *    (wn Te about 0.1-0.6) and was chosen by those tests;
+ *    ARX estimate, without the high-frequency noise gain of a pure difference. The pole 0.9 (per
+ *    estimation sample) keeps the band of the dominant modes (wn Te about 0.1-0.6);
  * 2. closed-loop poles two ways:
  *    - model-based: `closedLoopPolynomial(plant model, controller)`. The controller is the loop's
  *      configured PI/PID through `discretePid` AT THE ESTIMATION PERIOD Te. When Te equals the
@@ -38,10 +35,11 @@
  *      most 8) by RLS without gating. While the set point has not moved within the estimator's
  *      memory its regressors in SP are empty and it is an AR model of the PV: the
  *      disturbance-response poles, biased by the disturbance's own dynamics, labelled so.
- * 3. radius, rim distance, the decay ratio of the dominant oscillating mode (the complex pair
- *    of largest radius), Jury verdict,
- *    dominant pole's zeta / wn / tau, gain headroom, radius confidence (delta method), crossing
- *    forecast of the radius over a window far longer than the estimator's memory.
+ * 3. the loop's assessment (lib/domain/assessment.ts, from the model-based poles): radius, rim
+ *    distance, the decay ratio of the slowest-decaying oscillating mode, Jury verdict, dominant
+ *    pole's zeta / wn / tau, gain headroom, radius confidence (delta method), and the rim
+ *    forecast: the decay-ratio trend to the loop's alarm level and the radius trend to 1, over
+ *    windows far longer than the estimator's memory.
  * A full state is computed at most once per second of telemetry time (and on state changes).
  * `stale`: no message for 3 delivery periods (the telemetry period times the samples per
  * message, so a batching gateway does not flap), or a PV repeated exactly for 30 s, or a run of

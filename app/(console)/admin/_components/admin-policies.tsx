@@ -11,8 +11,6 @@ import { useForm } from "react-hook-form";
 import useSWR from "swr";
 import { z } from "zod";
 import type {
-  EffectivePolicy,
-  LevelEquivalent,
   PolicyOverride,
   PolicyScope,
 } from "@/lib/domain/alarms/policy";
@@ -24,23 +22,8 @@ import { fmt, fmtSeconds, fmtTime } from "@/lib/client/format";
 import { timeConstantOfRadius } from "@/lib/client/order";
 import { radiusForDecayRatio } from "@/lib/domain/assessment";
 import type { LoopSummary } from "@/lib/domain/types";
+import type { LoopPolicyView, PolicyView } from "@/lib/domain/services";
 
-interface LoopPolicyView {
-  loopId: number;
-  tag: string;
-  estimationPeriodS: number;
-  effective: EffectivePolicy;
-  oscillationPeriodS: number | null;
-  equivalents: LevelEquivalent[];
-}
-interface PolicyView {
-  scope: PolicyScope;
-  id: number;
-  settings: PolicyOverride | null;
-  updatedAt: string | null;
-  effective: EffectivePolicy;
-  loops: LoopPolicyView[];
-}
 
 const optNum = (v: unknown) => (v === "" || v === null || v === undefined ? undefined : Number(v));
 const formSchema = z
