@@ -4,7 +4,7 @@
  * both sides must see lives on `globalThis.__rimguard` and is reached only through these functions.
  */
 import { EventEmitter } from "node:events";
-import type { AlarmApi, MailApi, Service } from "@/lib/domain/services";
+import type { AlarmApi, MailApi, ObjectStoreApi, PipelineApi, Service } from "@/lib/domain/services";
 
 /** What route handlers see of the running server's context (server/context.ts builds the whole). */
 export interface ServerContext {
@@ -16,6 +16,8 @@ export interface ServerContext {
 export interface RunningServices {
   alarms: AlarmApi;
   mail: MailApi;
+  pipeline: Partial<PipelineApi>;
+  objectstore: ObjectStoreApi;
 }
 
 export interface SessionEvents {

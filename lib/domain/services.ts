@@ -5,7 +5,9 @@
  */
 import type { AlarmKpis } from "./alarms/kpis";
 import type { EffectivePolicy, LevelEquivalent, PolicyOverride, PolicyScope } from "./alarms/policy";
-import type { AlarmDto, AlarmPriority, AlarmState, TenantContext } from "./types";
+import type { QualityReason } from "./sample-quality";
+import type { RejectReason } from "./telemetry";
+import type { AlarmDto, AlarmPriority, AlarmState, LoopStateDto, TenantContext } from "./types";
 
 export type HealthLevel = "ok" | "degraded" | "critical" | "down";
 
@@ -126,4 +128,34 @@ export interface AlarmApi {
   putPolicy(user: TenantContext, scope: PolicyScope, id: number, settings: unknown, reason: string, mocReference: string | null): Promise<PolicyView>;
   /** The loop's effective policy (the tracker forecasts to its decay-ratio level). */
   policyFor(loopId: number): EffectivePolicy;
+}
+
+/** Ingest counters of one device, live from the running pipeline. */
+export interface IngestDeviceCounters {
+  device: string;
+  tenantId: number | null;
+  messages: number;
+  acceptedSamples: number;
+  redelivered: number;
+  rejected: Record<RejectReason, number>;
+  lastMessageAt: number | null;
+  lastRejectAt: number | null;
+  lastRejectReason: RejectReason | null;
+  quality?: Record<QualityReason, number>;
+  lastBadAt?: number | null;
+  lastBadReason?: QualityReason | null;
+}
+
+/** What the pipeline offers route handlers: a loop's live state, the ingest counters. */
+export interface PipelineApi {
+  loopState(loopId: number): LoopStateDto | null;
+  ingestDiagnostics(tenantId: number): { devices: IngestDeviceCounters[] };
+}
+
+/** Object storage of uploaded files (s3rver on loopback, or S3). */
+export interface ObjectStoreApi {
+  put(key: string, body: Uint8Array, contentType: string): Promise<void>;
+  /** The object's bytes, or null when it has no body. Throws when the key does not exist. */
+  get(key: string): Promise<Buffer | null>;
+  delete(key: string): Promise<void>;
 }

@@ -7,7 +7,7 @@
 import { QueryTypes, type Sequelize } from "sequelize";
 import { z } from "zod";
 import { getSequelize } from "@/lib/db/sequelize";
-import { getServerContext } from "@/lib/server-context";
+import { runningService } from "@/lib/server-context";
 import type { AlarmDto, LoopKind, LoopStateDto, LoopSummary, TenantContext } from "@/lib/domain/types";
 
 export { getLoopHistory, historyColumns, historySchema, type LoopHistory, type LoopHistoryColumns, type HistoryPoint, type HistorySnapshot } from "./history";
@@ -97,7 +97,7 @@ function tenantIdOf(ctx: Ctx): number {
 }
 
 function defaultLiveState(loopId: number): LoopStateDto | null {
-  const svc = getServerContext()?.services.get("pipeline") as { loopState?: (id: number) => LoopStateDto | null } | undefined;
+  const svc = runningService("pipeline");
   return typeof svc?.loopState === "function" ? svc.loopState(loopId) : null;
 }
 
