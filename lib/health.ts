@@ -1,5 +1,6 @@
 /** Health of the running server, gathered from its registered services (for GET /api/health). */
-import type { HealthLevel, ServerContext, ServiceHealth } from "@/server/context";
+import type { HealthLevel, ServiceHealth } from "@/lib/domain/services";
+import type { ServerContext } from "@/lib/server-context";
 
 const ORDER: HealthLevel[] = ["ok", "degraded", "critical", "down"];
 

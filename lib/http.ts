@@ -1,7 +1,7 @@
 import { NextResponse } from "next/server";
 import { z } from "zod";
 import { DATABASE_UNAVAILABLE, isDatabaseUnavailable } from "./db/unavailable";
-import { isHttpError, ValidationError } from "./errors";
+import { isHttpError, ValidationError } from "@/lib/domain/errors";
 import { guardRequest, JSON_BODY, PayloadTooLargeError, type BodyRule } from "./request-guard";
 
 /** Map a thrown error to a JSON response: HttpError keeps its status, zod errors are 422. */

@@ -13,7 +13,7 @@
  *   a length is counted while it streams and cut off at the limit (413).
  */
 import { publicOrigin } from "@/lib/config";
-import { HttpError } from "@/lib/errors";
+import { HttpError } from "@/lib/domain/errors";
 import { INVENTORY_IMPORT_BODY } from "@/lib/admin/inventory-limits";
 import { MAX_CSV_BYTES } from "@/lib/step-tests/csv";
 

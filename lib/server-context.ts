@@ -4,7 +4,21 @@
  * both sides must see lives on `globalThis.__rimguard` and is reached only through these functions.
  */
 import { EventEmitter } from "node:events";
-import type { ServerContext } from "@/server/context";
+import type { AlarmApi, MailApi, ObjectStoreApi, PipelineApi, Service } from "@/lib/domain/services";
+
+/** What route handlers see of the running server's context (server/context.ts builds the whole). */
+export interface ServerContext {
+  services: ReadonlyMap<string, Service>;
+  bus: { emit(event: "loop:config-changed", loopId: number): boolean };
+}
+
+/** The typed services a route handler may reach by name. */
+export interface RunningServices {
+  alarms: AlarmApi;
+  mail: MailApi;
+  pipeline: Partial<PipelineApi>;
+  objectstore: ObjectStoreApi;
+}
 
 export interface SessionEvents {
   /** A user's sessions or memberships changed (sign-out everywhere, demotion, revocation). */
@@ -41,6 +55,14 @@ export function setServerContext(ctx: ServerContext | null): void {
 /** The running server's context, or null when no custom server runs (e.g. `next build`). */
 export function getServerContext(): ServerContext | null {
   return state().ctx;
+}
+
+/**
+ * A running service by name, typed, or null when this process runs without it (or without a
+ * server). The one place that casts what the server registered.
+ */
+export function runningService<K extends keyof RunningServices>(name: K): (RunningServices[K] & Service) | null {
+  return (state().ctx?.services.get(name) as (RunningServices[K] & Service) | undefined) ?? null;
 }
 
 export function sessionEvents(): EventEmitter<SessionEvents> {

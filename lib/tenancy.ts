@@ -7,8 +7,8 @@
  *   const alarms = await scoped(ctx).findAll(Alarm, { where: { loopId: loop.id } });
  */
 import { Op, type FindOptions, type Model, type ModelStatic, type WhereOptions } from "sequelize";
-import { NotFoundError } from "@/lib/errors";
-import type { TenantContext } from "@/lib/types";
+import { NotFoundError } from "@/lib/domain/errors";
+import type { TenantContext } from "@/lib/domain/types";
 
 /** The tenant of a context, as a where-clause fragment's value. */
 type TenantOwned = Model & { tenantId: number };

@@ -2,7 +2,7 @@
  * Sample quality in history and the `poor-fit` tracker state:
  * - samples_1s and samples_1m count the samples of bad and of uncertain quality in each period
  *   (`bad_n`, `uncertain_n`); such samples are in no min/mean/max, and `n` counts the good ones
- *   the statistics are made of (lib/sample-quality.ts);
+ *   the statistics are made of (lib/domain/sample-quality.ts);
  * - loop_states and pole_snapshots accept the tracker state `poor-fit`.
  * Down: `poor-fit` rows become `low-excitation` (the nearest older state: figures held, not
  * trusted) before the enum shrinks; the count columns are dropped.

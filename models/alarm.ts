@@ -2,7 +2,7 @@
  * Alarm policies, alarm points (one per loop and condition), occurrences (one row per
  * activation, for alarm-rate KPIs per operator area) and the append-only alarm event log
  * (UPDATE and DELETE refused by database triggers; `journalId` unique for idempotent replay).
- * States follow ANSI/ISA-18.2 (lib/types ALARM_STATES).
+ * States follow ANSI/ISA-18.2 (lib/domain/types ALARM_STATES).
  */
 import {
   DataTypes,
@@ -21,7 +21,7 @@ import {
   type AlarmCondition,
   type AlarmPriority,
   type AlarmState,
-} from "@/lib/types";
+} from "@/lib/domain/types";
 import type { Loop } from "./loop";
 import type { Tenant } from "./tenant";
 
@@ -29,7 +29,7 @@ export type PolicyScope = "tenant" | "site" | "loop";
 
 /**
  * Stored alarm levels of one scope: a partial override whose shape and meaning belong to
- * lib/alarms/policy.ts (`policyOverrideSchema` validates it before it is written).
+ * lib/domain/alarms/policy.ts (`policyOverrideSchema` validates it before it is written).
  */
 export type AlarmPolicySettings = Record<string, unknown>;
 

@@ -13,7 +13,7 @@ import {
   type Sequelize,
 } from "sequelize";
 import { enumColumn } from "./enum";
-import { TRACKER_STATES, type LoopMode, type TrackerState } from "@/lib/types";
+import { TRACKER_STATES, type LoopMode, type TrackerState } from "@/lib/domain/types";
 
 /** Per-second min/mean/max of SP, PV, MV. */
 export class Sample1s extends Model<InferAttributes<Sample1s>, InferCreationAttributes<Sample1s>> {

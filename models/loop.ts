@@ -18,11 +18,11 @@ import {
   type Sequelize,
 } from "sequelize";
 import { enumColumn } from "./enum";
-import { LOOP_KINDS, TRACKER_STATES, type LoopKind, type LoopStateDto, type TrackerState } from "@/lib/types";
+import { LOOP_KINDS, TRACKER_STATES, type LoopKind, type LoopStateDto, type TrackerState } from "@/lib/domain/types";
 import type { Area, Site, Tenant } from "./tenant";
 
-export type ControllerAction = "direct" | "reverse";
-export type ControllerForm = "ideal" | "parallel" | "series";
+import type { ControllerAction, ControllerForm } from "@/lib/domain/tuning";
+export type { ControllerAction, ControllerForm } from "@/lib/domain/tuning";
 export type GainKind = "gain" | "pb";
 export type TiUnits = "s" | "min" | "repeats-per-min";
 export type TdUnits = "s" | "min";
@@ -135,42 +135,7 @@ export class LoopState extends Model<InferAttributes<LoopState>, InferCreationAt
   declare at: number;
 }
 
-/** A loop's tuning in seconds and gain (%/% of span), as lib/control and the simulators use it. */
-export interface TuningSeconds {
-  /** Controller gain (%/% of span, > 0; `action` gives the sign). */
-  kp: number;
-  /** Integral time in seconds; null = no integral action. */
-  ti: number | null;
-  /** Derivative time in seconds (0 = none). */
-  td: number;
-  /** Derivative filter time constant in seconds (0 when there is no derivative action). */
-  tf: number;
-  action: ControllerAction;
-  form: ControllerForm;
-}
-
-type TuningFields = Pick<
-  InferAttributes<Loop>,
-  "gainKind" | "gainValue" | "tiValue" | "tiUnits" | "tdValue" | "tdUnits" | "tfS" | "derivativeAlpha" | "action" | "form"
->;
-
-/**
- * Convert the stored tuning (as the site writes it) to seconds: proportional band PB % ->
- * Kc = 100 / PB; Ti in minutes x 60; integral rate in repeats/min -> Ti = 60 / rate s; Td in
- * minutes x 60; derivative filter Tf = alpha * Td when given as alpha (common practice).
- */
-export function tuningSeconds(l: Partial<TuningFields> & Pick<TuningFields, "gainValue">): TuningSeconds {
-  const kp = (l.gainKind ?? "gain") === "pb" ? 100 / l.gainValue : l.gainValue;
-  if (!(kp > 0) || !Number.isFinite(kp)) throw new RangeError(`Controller gain must be > 0 (got ${l.gainValue}).`);
-  let ti: number | null = null;
-  if (l.tiValue != null && l.tiValue > 0) {
-    const units = l.tiUnits ?? "s";
-    ti = units === "s" ? l.tiValue : units === "min" ? l.tiValue * 60 : 60 / l.tiValue;
-  }
-  const td = (l.tdValue ?? 0) * ((l.tdUnits ?? "s") === "min" ? 60 : 1);
-  const tf = td > 0 ? (l.tfS ?? (l.derivativeAlpha != null ? l.derivativeAlpha * td : td / 10)) : 0;
-  return { kp, ti, td, tf, action: l.action ?? "reverse", form: l.form ?? "ideal" };
-}
+export { tuningSeconds, type TuningSeconds } from "@/lib/domain/tuning";
 
 const num = (allowNull = false, defaultValue?: number) => ({
   type: DataTypes.DOUBLE,

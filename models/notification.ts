@@ -12,7 +12,7 @@ import {
   type Sequelize,
 } from "sequelize";
 import { enumColumn } from "./enum";
-import { ALARM_PRIORITIES, type AlarmPriority } from "@/lib/types";
+import { ALARM_PRIORITIES, type AlarmPriority } from "@/lib/domain/types";
 import type { Tenant } from "./tenant";
 
 export class NotificationRule extends Model<InferAttributes<NotificationRule>, InferCreationAttributes<NotificationRule>> {

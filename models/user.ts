@@ -13,7 +13,7 @@ import {
   type Sequelize,
 } from "sequelize";
 import { enumColumn } from "./enum";
-import { ROLES, type Role } from "@/lib/types";
+import { ROLES, type Role } from "@/lib/domain/types";
 import type { Tenant } from "./tenant";
 
 export class User extends Model<InferAttributes<User>, InferCreationAttributes<User>> {

@@ -8,7 +8,7 @@
  *   down     revert the last migration (or all with --all) — development only
  */
 import { getConfig } from "@/lib/config";
-import { prepareDatabase, startDatabaseServer, stopDatabaseServer } from "@/lib/db/bootstrap";
+import { prepareDatabase, startDatabaseServer, stopDatabaseServer } from "@/scripts/db-bootstrap";
 import { migrateDown, migrationStatus } from "@/lib/db/migrate";
 import { closeSequelize, getSequelize } from "@/lib/db/sequelize";
 import { loadEnv } from "@/lib/load-env";

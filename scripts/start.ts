@@ -11,8 +11,8 @@
  */
 import { getConfig } from "@/lib/config";
 import { loadEnv } from "@/lib/load-env";
-import { prepareDatabase } from "@/lib/db/bootstrap";
-import { stopMariaDb } from "@/lib/db/mariadb-server";
+import { prepareDatabase } from "@/scripts/db-bootstrap";
+import { stopMariaDb } from "@/scripts/mariadb-server";
 import { closeSequelize } from "@/lib/db/sequelize";
 import { REPO_ROOT, startServer } from "@/server/index";
 import { buildState, runNextBuild } from "@/server/next-build";

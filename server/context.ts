@@ -6,13 +6,15 @@
 import { EventEmitter } from "node:events";
 import type { Server as IoServer } from "socket.io";
 import type { Config } from "@/lib/config";
+import type { Service } from "@/lib/domain/services";
+export type { HealthLevel, Service, ServiceHealth } from "@/lib/domain/services";
 import type {
   ClientToServerEvents,
   InterServerEvents,
   ServerToClientEvents,
   SocketData,
-} from "@/lib/realtime/events";
-import type { AlarmDto, LoopStateDto } from "@/lib/types";
+} from "@/lib/domain/events";
+import type { AlarmDto, LoopStateDto } from "@/lib/domain/types";
 
 export type RimguardIo = IoServer<ClientToServerEvents, ServerToClientEvents, InterServerEvents, SocketData>;
 
@@ -51,18 +53,6 @@ export interface BusEvents {
 
 export class Bus extends EventEmitter<BusEvents> {}
 
-export type HealthLevel = "ok" | "degraded" | "critical" | "down";
-
-export interface ServiceHealth {
-  status: HealthLevel;
-  detail?: Record<string, unknown>;
-}
-
-export interface Service {
-  readonly name: string;
-  health(): ServiceHealth | Promise<ServiceHealth>;
-  stop(): Promise<void>;
-}
 
 export interface ServerContext {
   config: Config;

@@ -1,21 +1,23 @@
 /**
- * The live pipeline (ARCHITECTURE.md §1): broker -> ingest -> tracker registry -> history and
+ * The live pipeline (docs/architecture.md §1): broker -> ingest -> tracker registry -> history and
  * realtime. Loop configurations come from MariaDB at start and on `loop:config-changed`;
  * estimator state is checkpointed every minute and at shutdown and restored at start, so a
  * restart resumes tracking instead of learning again. Started by server/services.ts.
  */
+import { DEFAULT_POLICY } from "@/lib/domain/alarms/policy";
+import type { AlarmApi } from "@/lib/domain/services";
 import type { Sequelize } from "sequelize";
 import { getSequelize } from "@/lib/db/sequelize";
 import { loadLoopConfigs, type LoadedLoop } from "@/server/ingest/loop-source";
-import { TELEMETRY_WILDCARD } from "@/lib/telemetry";
-import type { LoopStateDto } from "@/lib/types";
+import { TELEMETRY_WILDCARD } from "@/lib/domain/telemetry";
+import type { LoopStateDto } from "@/lib/domain/types";
 import { EXTERNAL_BROKER, startBroker, type BrokerOptions, type BrokerService } from "./broker";
 import { dbCredentials } from "./broker/db-credentials";
 import type { ServerContext, Service, ServiceHealth } from "./context";
 import { loadCheckpoints, loadLoopStates, saveCheckpoints } from "./history/checkpoints";
 import { startHistory, type HistoryOptions, type HistoryService } from "./history";
 import { Ingest, IngestCounters, LoopDirectory, type DeviceCounters, type DeviceIdentity } from "./ingest";
-import { parseTelemetryTopic } from "@/lib/telemetry";
+import { parseTelemetryTopic } from "@/lib/domain/telemetry";
 import { startRealtimeEmitter, type RealtimeEmitter, type RealtimeEmitterOptions } from "./realtime/emitter";
 import { installWatch } from "./realtime/watch";
 import { TrackerRegistry } from "./tracking/registry";
@@ -77,9 +79,12 @@ export async function startPipeline(ctx: ServerContext, opts: PipelineOptions = 
   const directory = new LoopDirectory(loaded.map((l) => l.route));
   const configErrors = new Map<number, string>();
   for (const l of loaded) if (l.error) configErrors.set(l.route.loopId, l.error);
+  // The rim forecast runs to each loop's own decay-ratio level (the alarm service starts first).
+  const alarms = ctx.services.get("alarms") as Partial<AlarmApi> | undefined;
   const registry = new TrackerRegistry(
     { bus: ctx.bus, clock: ctx.clock },
     loaded.flatMap((l) => (l.config && l.enabled ? [l.config] : [])),
+    { alarmDecayRatio: (loopId) => (alarms?.policyFor ? alarms.policyFor(loopId).decayRatio.low : DEFAULT_POLICY.decayRatio.low) },
   );
 
   // Resume: estimators from their checkpoints, sample order from the last stored states.

@@ -3,7 +3,7 @@
  * scenario's activity and drifts per tag, a seed per loop derived from the run seed, and for load
  * runs synthetic clones (loop-count multiplier) and faster sampling (rate multiplier).
  */
-import { slugify } from "@/lib/slug";
+import { slugify } from "@/lib/domain/slug";
 import { LoopSim, type LoopSimConfig } from "./loop-sim";
 import { deriveSeed } from "./prng";
 import { activitySchema, type InlineLoop, type Scenario } from "./scenario";

@@ -11,8 +11,8 @@
  */
 import { discretePid } from "@/lib/control/closed-loop";
 import type { Complex, QTf } from "@/lib/control/types";
-import { slugify } from "@/lib/slug";
-import type { LoopMode } from "@/lib/types";
+import { slugify } from "@/lib/domain/slug";
+import type { LoopMode } from "@/lib/domain/types";
 import { eigenvalues } from "./eigen";
 import { discretisePlant, type DiscreteStateSpace } from "./plant";
 import { Prng } from "./prng";

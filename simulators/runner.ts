@@ -2,7 +2,7 @@
  * Runs a fleet of simulated loops against a clock: on every tick each loop is stepped up to the
  * simulated time that corresponds to the wall time (times the speed-up factor), its samples are
  * stamped with wall-clock epoch ms (strictly increasing per loop, never ahead of the clock), and
- * batches of up to `batchSize` samples per message go to `publish` (ARCHITECTURE.md §5: one object
+ * batches of up to `batchSize` samples per message go to `publish` (docs/architecture.md §5: one object
  * or an array of at most 500). A lane's first message is shorter (1 + lane index mod batchSize) so
  * that the lanes' messages do not all leave in the same tick.
  *
@@ -11,8 +11,8 @@
  * `{ t, sp, pv, mv, mode }` gives (a finite number prints as String(n) in both; a non-finite one
  * as null); tested against JSON.stringify.
  */
-import type { LoopMode } from "@/lib/types";
-import { MAX_SAMPLES_PER_MESSAGE, telemetryTopic } from "@/lib/telemetry";
+import type { LoopMode } from "@/lib/domain/types";
+import { MAX_SAMPLES_PER_MESSAGE, telemetryTopic } from "@/lib/domain/telemetry";
 import type { LoopSim } from "./loop-sim";
 
 export interface RunnerClock {

@@ -4,7 +4,7 @@ import { getContextOrNull } from "@/lib/auth/guard";
 import { listMemberships } from "@/lib/auth/store";
 import { DATABASE_UNAVAILABLE, isDatabaseUnavailable } from "@/lib/db/unavailable";
 import { parseTheme, THEME_COOKIE } from "@/lib/theme";
-import { roleAtLeast } from "@/lib/types";
+import { roleAtLeast } from "@/lib/domain/types";
 import { CautionLine } from "./_shell/caution";
 import { ConsoleNav } from "./_shell/console-nav";
 import { SessionKeeper } from "./_shell/session-keeper";

@@ -7,7 +7,7 @@ import { zodResolver } from "@hookform/resolvers/zod";
 import { useState } from "react";
 import { useForm } from "react-hook-form";
 import { z } from "zod";
-import type { AlarmDto, AlarmPriority, AlarmState } from "@/lib/types";
+import type { AlarmDto, AlarmPriority, AlarmState } from "@/lib/domain/types";
 import { sendJson } from "@/lib/client/fetcher";
 import { Field, INPUT_CLASS, useServerError } from "./form-field";
 import { FormDialog } from "./reason-dialog";

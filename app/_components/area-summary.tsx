@@ -1,40 +1,8 @@
 /** Per operator-area summary: loops, alarms by priority (shape + number), stale count, worst radius. */
-import type { AlarmPriority, LiveLoopSummary } from "@/lib/types";
-import { ATTENTION_STATES, dataAge } from "@/lib/client/order";
+import type { AreaStats } from "@/lib/client/areas";
 import { fmt } from "@/lib/client/format";
 import { memo } from "react";
 import { PriorityShape } from "./priority-mark";
-
-export interface AreaStats {
-  name: string;
-  loops: number;
-  stale: number;
-  byPriority: Record<AlarmPriority, number>;
-  unacked: number;
-  worstRadius: number | null;
-}
-
-export function summariseAreas(loops: readonly LiveLoopSummary[], now: number): AreaStats[] {
-  const m = new Map<string, AreaStats>();
-  for (const l of loops) {
-    const name = l.area ? `${l.siteName} · ${l.area}` : l.siteName;
-    let a = m.get(name);
-    if (!a) {
-      a = { name, loops: 0, stale: 0, byPriority: { urgent: 0, high: 0, low: 0 }, unacked: 0, worstRadius: null };
-      m.set(name, a);
-    }
-    a.loops++;
-    if (dataAge(l.state, now).stale) a.stale++;
-    for (const al of l.alarms) {
-      if (!ATTENTION_STATES.has(al.state)) continue;
-      a.byPriority[al.priority]++;
-      if (al.state !== "acknowledged") a.unacked++;
-    }
-    const r = l.state?.spectralRadius;
-    if (r != null && (a.worstRadius === null || r > a.worstRadius)) a.worstRadius = r;
-  }
-  return [...m.values()].sort((x, y) => y.byPriority.urgent - x.byPriority.urgent || y.byPriority.high - x.byPriority.high || x.name.localeCompare(y.name));
-}
 
 /** Memoised on the `areas` array (recomputed once a second or when loops or alarms change). */
 export const AreaSummaries = memo(function AreaSummaries({ areas, big = false }: { areas: AreaStats[]; big?: boolean }) {

@@ -8,11 +8,11 @@
 import { useWindowVirtualizer } from "@tanstack/react-virtual";
 import Link from "next/link";
 import { memo, type ReactElement, useDeferredValue, useLayoutEffect, useMemo, useRef, useState } from "react";
-import type { AlarmDto, Role } from "@/lib/types";
-import { roleAtLeast } from "@/lib/types";
+import type { AlarmDto, Role } from "@/lib/domain/types";
+import { roleAtLeast } from "@/lib/domain/types";
 import { useAlarms, type useLoops } from "@/lib/client/hooks";
 import { ATTENTION_STATES } from "@/lib/client/order";
-import type { LiveLoopSummary } from "@/lib/types";
+import type { LiveLoopSummary } from "@/lib/domain/types";
 import { CONDITION_WORDS, fmtClock } from "@/lib/client/format";
 import { AlarmActions } from "./alarm-actions";
 import { AreaSummaries } from "./area-summary";

@@ -7,7 +7,7 @@
  */
 import { useState } from "react";
 import useSWR from "swr";
-import type { AlarmKpis } from "@/lib/alarms/kpis";
+import type { AlarmKpis } from "@/lib/domain/alarms/kpis";
 import { fetchJson, query } from "@/lib/client/fetcher";
 import { fmt } from "@/lib/client/format";
 import { PriorityShape } from "./priority-mark";

@@ -2,8 +2,8 @@
 /** The alarms of one loop with their event log (who, when, what, comment). */
 import { useState } from "react";
 import useSWR from "swr";
-import type { Role } from "@/lib/types";
-import { roleAtLeast } from "@/lib/types";
+import type { Role } from "@/lib/domain/types";
+import { roleAtLeast } from "@/lib/domain/types";
 import { fetchJson } from "@/lib/client/fetcher";
 import { CONDITION_WORDS, fmt, fmtTime } from "@/lib/client/format";
 import { useAlarms } from "@/lib/client/hooks";

@@ -7,10 +7,11 @@
  */
 import { useRouter } from "next/navigation";
 import { memo, useSyncExternalStore, type MouseEvent } from "react";
-import { NON_TRACKING } from "@/lib/alarms/conditions";
-import type { LiveLoopSummary, PoleBrief, TrackerState } from "@/lib/types";
-import { DEFAULT_POLICY } from "@/lib/alarms/policy";
-import { dataAge, radiusForDecayRatio } from "@/lib/client/order";
+import { NON_TRACKING } from "@/lib/domain/alarms/conditions";
+import type { LiveLoopSummary, TrackerState } from "@/lib/domain/types";
+import { gaugeLevels } from "@/lib/domain/assessment";
+import { DEFAULT_POLICY } from "@/lib/domain/alarms/policy";
+import { dataAge } from "@/lib/client/order";
 import { fmt, fmtAge } from "@/lib/client/format";
 import { SPARK_POINTS, type Spark } from "@/lib/client/loop-store";
 import { PriorityMark as PriorityMarkPlain } from "./priority-mark";
@@ -23,19 +24,6 @@ const PriorityMark = memo(PriorityMarkPlain);
 
 export const TILE_HEIGHT = 176;
 
-export function dominantPole(poles: PoleBrief[]): PoleBrief | null {
-  let best: PoleBrief | null = null;
-  for (const p of poles) if (!best || p.radius > best.radius) best = p;
-  return best;
-}
-
-/** Warning and alarm radii of the dominant mode from the period-invariant decay-ratio levels. */
-export function gaugeLevels(poles: PoleBrief[], levels = DEFAULT_POLICY.decayRatio): { warn: number | null; alarm: number | null } {
-  const d = dominantPole(poles);
-  if (!d) return { warn: null, alarm: null };
-  const theta = Math.atan2(d.im, d.re);
-  return { warn: radiusForDecayRatio(levels.low, theta), alarm: radiusForDecayRatio(levels.high, theta) };
-}
 
 /**
  * One shared 1 s clock for the tiles' data-age text: only that text re-renders every second,
@@ -111,7 +99,7 @@ function LoopTileInner({
   // the states in which no stability alarm is raised) is drawn in the muted ink, never in the
   // alarm colour: a pole outside the circle from an untrusted model is not an abnormal state.
   const muted = stale || (st != null && NON_TRACKING.has(st.trackerState));
-  const levels = st ? gaugeLevels(st.modelPoles.length ? st.modelPoles : st.dataPoles, dr) : { warn: null, alarm: null };
+  const levels = st ? gaugeLevels(st, dr) : { warn: null, alarm: null };
   const recent = sparkRange(spark);
   const active = loop.alarms.filter((a) => a.state !== "normal");
   const worst = active.find((a) => a.priority === "urgent") ?? active.find((a) => a.priority === "high") ?? active[0];

@@ -1,8 +1,8 @@
 /**
- * Priority mark (UI.md): shape + number + word, never colour alone.
+ * Priority mark (docs/visual-language.md): shape + number + word, never colour alone.
  * urgent = filled hexagon "1", high = filled diamond "2", low = outlined circle "3".
  */
-import type { AlarmPriority, AlarmState } from "@/lib/types";
+import type { AlarmPriority, AlarmState } from "@/lib/domain/types";
 import { ALARM_STATE_WORDS } from "@/lib/client/format";
 
 const NUMBER: Record<AlarmPriority, string> = { urgent: "1", high: "2", low: "3" };

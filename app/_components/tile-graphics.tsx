@@ -1,7 +1,7 @@
 "use client";
 /**
  * The small instruments of a loop tile: the rim gauge, the recent-trend sparkline and the small
- * z-plane. Same pictures as the RimGauge, Sparkline and compact ZPlaneMap (UI.md), drawn with
+ * z-plane. Same pictures as the RimGauge, Sparkline and compact ZPlaneMap (docs/visual-language.md), drawn with
  * as few SVG elements as possible (about 20 per tile instead of about 50): the wall repaints
  * every visible tile on each live batch and the bench trace showed style and layout of SVG
  * children as the largest cost of a frame. Canvases were tried and dropped: Chromium gives each
@@ -12,7 +12,7 @@
 import { memo, type ReactElement } from "react";
 import { dampingLocus, naturalFrequencyLocus } from "@/lib/control/zplane";
 import type { Complex } from "@/lib/control/types";
-import type { PoleBrief } from "@/lib/types";
+import type { PoleBrief } from "@/lib/domain/types";
 import { fmt } from "@/lib/client/format";
 import { SPARK_POINTS, type Spark } from "@/lib/client/loop-store";
 

@@ -2,7 +2,7 @@
  * Tracker state (our word): text + a small shape. Healthy `tracking` stays quiet (no colour);
  * the others are neutral too — they describe the estimator, not an alarm.
  */
-import type { TrackerState } from "@/lib/types";
+import type { TrackerState } from "@/lib/domain/types";
 
 const LABEL: Record<TrackerState, string> = {
   learning: "learning",

@@ -2,7 +2,7 @@
 import { useMemo, useState } from "react";
 import { useDecayLevels, useLoops, useNow } from "@/lib/client/hooks";
 import { WorstFirstOrder } from "@/lib/client/order";
-import { summariseAreas } from "./area-summary";
+import { summariseAreas } from "@/lib/client/areas";
 
 /**
  * The tenant's live loops for the control room and the wall: worst first and summarised per

@@ -6,7 +6,7 @@
  */
 import type { Transaction } from "sequelize";
 import { getDb } from "@/lib/db/sequelize";
-import type { TenantContext } from "@/lib/types";
+import type { TenantContext } from "@/lib/domain/types";
 
 export interface ConfigChangeDto {
   id: number;

@@ -7,9 +7,9 @@ import { z } from "zod";
 import { text } from "@/lib/text-input";
 import { getDb } from "@/lib/db/sequelize";
 import { generateDeviceSecret, hashDeviceSecret } from "@/lib/devices";
-import { NotFoundError, ValidationError } from "@/lib/errors";
+import { NotFoundError, ValidationError } from "@/lib/domain/errors";
 import { findOwned } from "@/lib/tenancy";
-import type { TenantContext } from "@/lib/types";
+import type { TenantContext } from "@/lib/domain/types";
 import { inConfigTransaction, logConfigChange } from "./config-log";
 
 export const createDeviceSchema = z

@@ -1,5 +1,5 @@
 /** The columns of the loop inventory sheet, in file order (no I/O, no CSV library: the browser reads them too). */
-import { LOOP_KINDS } from "@/lib/types";
+import { LOOP_KINDS } from "@/lib/domain/types";
 import type { LoopFields } from "./loop-schema";
 
 export type Cell = "text" | "number" | "int" | "numberOrNone" | "bool" | "enum";

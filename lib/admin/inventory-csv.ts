@@ -11,7 +11,7 @@
  */
 import { parse } from "csv-parse/sync";
 import { stringify } from "csv-stringify/sync";
-import type { LoopKind } from "@/lib/types";
+import type { LoopKind } from "@/lib/domain/types";
 import { INVENTORY_COLUMNS, type Column } from "./inventory-csv-columns";
 import type { DefaultableField } from "./inventory-defaults";
 import { MAX_INVENTORY_ROWS } from "./inventory-limits";

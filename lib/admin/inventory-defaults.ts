@@ -6,7 +6,7 @@
  * fast with a small gain and short integral time, level loops are averaging (gentle integral),
  * temperature and composition loops are slow and often sampled less often. Pure: no I/O.
  */
-import type { LoopKind } from "@/lib/types";
+import type { LoopKind } from "@/lib/domain/types";
 import type { LoopFields } from "./loop-schema";
 import { NEW_LOOP_DEFAULTS } from "./loop-schema";
 

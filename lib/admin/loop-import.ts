@@ -9,11 +9,11 @@
 import { UniqueConstraintError } from "sequelize";
 import { z } from "zod";
 import { getDb } from "@/lib/db/sequelize";
-import { ConflictError, ValidationError } from "@/lib/errors";
+import { ConflictError, ValidationError } from "@/lib/domain/errors";
 import { getServerContext } from "@/lib/server-context";
-import { slugify } from "@/lib/slug";
+import { slugify } from "@/lib/domain/slug";
 import { text } from "@/lib/text-input";
-import type { TenantContext } from "@/lib/types";
+import type { TenantContext } from "@/lib/domain/types";
 import { diffOf, inConfigTransaction, logConfigChange } from "./config-log";
 import { applyKindDefaults, type DefaultableField } from "./inventory-defaults";
 import { formatInventoryCsv, parseInventoryCsv, type InventoryIssue, type InventoryLoop } from "./inventory-csv";

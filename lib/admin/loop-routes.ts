@@ -4,7 +4,7 @@
  */
 import { NextResponse } from "next/server";
 import { requireContext } from "@/lib/auth/guard";
-import { NotFoundError } from "@/lib/errors";
+import { NotFoundError } from "@/lib/domain/errors";
 import { handle, parseBody } from "@/lib/http";
 import { createLoopSchema, updateLoopSchema } from "./loop-schema";
 import { createLoop, getLoopConfig, updateLoop } from "./loops";

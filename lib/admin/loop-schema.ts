@@ -4,7 +4,7 @@
  */
 import { z } from "zod";
 import { text } from "@/lib/text-input";
-import { LOOP_KINDS } from "@/lib/types";
+import { LOOP_KINDS } from "@/lib/domain/types";
 
 /*
  * Physically meaningful ranges. These are common practice for process control loops, chosen for

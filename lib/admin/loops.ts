@@ -6,12 +6,12 @@
  */
 import { UniqueConstraintError } from "sequelize";
 import { z } from "zod";
-import { ConflictError, NotFoundError, ValidationError } from "@/lib/errors";
+import { ConflictError, NotFoundError, ValidationError } from "@/lib/domain/errors";
 import { getDb } from "@/lib/db/sequelize";
 import { getServerContext } from "@/lib/server-context";
-import { slugify } from "@/lib/slug";
+import { slugify } from "@/lib/domain/slug";
 import { findOwned } from "@/lib/tenancy";
-import type { TenantContext } from "@/lib/types";
+import type { TenantContext } from "@/lib/domain/types";
 import { diffOf, logConfigChange } from "./config-log";
 import type { CreateLoopInput, LoopFields, UpdateLoopInput } from "./loop-schema";
 import { loopConfigSchema, loopFieldsSchema } from "./loop-schema";

@@ -6,9 +6,9 @@
 import { QueryTypes } from "sequelize";
 import { z } from "zod";
 import { getSequelize } from "@/lib/db/sequelize";
-import { NotFoundError, ValidationError } from "@/lib/errors";
+import { NotFoundError, ValidationError } from "@/lib/domain/errors";
 import { notifyUserChanged } from "@/lib/server-context";
-import type { TenantContext } from "@/lib/types";
+import type { TenantContext } from "@/lib/domain/types";
 import { logConfigChange } from "./config-log";
 
 export const membershipSitesSchema = z

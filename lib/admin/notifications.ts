@@ -2,9 +2,9 @@
 import { z } from "zod";
 import { text } from "@/lib/text-input";
 import { getDb } from "@/lib/db/sequelize";
-import { NotFoundError, ValidationError } from "@/lib/errors";
+import { NotFoundError, ValidationError } from "@/lib/domain/errors";
 import { findOwned } from "@/lib/tenancy";
-import { ALARM_PRIORITIES, type AlarmPriority, type TenantContext } from "@/lib/types";
+import { ALARM_PRIORITIES, type AlarmPriority, type TenantContext } from "@/lib/domain/types";
 import { diffOf, inConfigTransaction, logConfigChange } from "./config-log";
 
 export const ruleSchema = z

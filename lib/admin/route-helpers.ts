@@ -1,7 +1,7 @@
 /** Small helpers shared by the admin route handlers. */
 import { z } from "zod";
 import { text } from "@/lib/text-input";
-import { ValidationError } from "@/lib/errors";
+import { ValidationError } from "@/lib/domain/errors";
 
 /** A positive integer id from a dynamic route segment (422 otherwise). */
 export function idParam(raw: string | undefined, what: string): number {

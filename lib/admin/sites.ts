@@ -3,10 +3,10 @@ import { UniqueConstraintError } from "sequelize";
 import { z } from "zod";
 import { text } from "@/lib/text-input";
 import { getDb } from "@/lib/db/sequelize";
-import { ConflictError, NotFoundError, ValidationError } from "@/lib/errors";
-import { slugify } from "@/lib/slug";
+import { ConflictError, NotFoundError, ValidationError } from "@/lib/domain/errors";
+import { slugify } from "@/lib/domain/slug";
 import { findOwned, siteVisible } from "@/lib/tenancy";
-import type { TenantContext } from "@/lib/types";
+import type { TenantContext } from "@/lib/domain/types";
 import { inConfigTransaction, logConfigChange } from "./config-log";
 
 export const siteSchema = z

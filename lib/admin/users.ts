@@ -12,10 +12,9 @@ import { z } from "zod";
 import { text } from "@/lib/text-input";
 import { publicOrigin } from "@/lib/config";
 import { getDb } from "@/lib/db/sequelize";
-import { ConflictError, ForbiddenError, NotFoundError, ValidationError } from "@/lib/errors";
-import { getServerContext, notifyUserChanged } from "@/lib/server-context";
-import { ROLES, type Role, type TenantContext } from "@/lib/types";
-import type { MailService } from "@/server/mail";
+import { ConflictError, ForbiddenError, NotFoundError, ValidationError } from "@/lib/domain/errors";
+import { notifyUserChanged, runningService } from "@/lib/server-context";
+import { ROLES, type Role, type TenantContext } from "@/lib/domain/types";
 import { inConfigTransaction, logConfigChange } from "./config-log";
 
 export const INVITATION_TTL_MS = 72 * 3600_000;
@@ -94,8 +93,7 @@ export async function inviteUser(ctx: TenantContext, input: z.infer<typeof invit
     return created;
   });
   const link = `${publicOrigin()}/invite/${token}`;
-  const srv = getServerContext();
-  const mail = (srv?.services.get("mail") as MailService | undefined) ?? null;
+  const mail = runningService("mail");
   let mailed = false;
   if (mail) {
     const hours = INVITATION_TTL_MS / 3600_000;

@@ -1,29 +1,28 @@
 /**
  * How route handlers reach the running alarm and mail services: through the server context on
  * globalThis (lib/server-context.ts), never by importing server/ code (Next bundles route handlers
- * apart from the custom server). Only types are imported from server/.
+ * apart from the custom server); their interfaces are lib/domain/services.ts.
  */
 import { z } from "zod";
-import { HttpError, ValidationError } from "@/lib/errors";
-import { getServerContext } from "@/lib/server-context";
-import type { AlarmService } from "@/server/alarms/service";
-import type { MailService } from "@/server/mail";
+import { HttpError, ValidationError } from "@/lib/domain/errors";
+import type { AlarmApi as AlarmServiceApi, MailApi } from "@/lib/domain/services";
+import { runningService } from "@/lib/server-context";
 
 export type AlarmApi = Pick<
-  AlarmService,
+  AlarmServiceApi,
   "list" | "get" | "detail" | "acknowledge" | "shelve" | "unshelve" | "removeFromService" | "returnToService" | "kpis" | "getPolicy" | "putPolicy"
 >;
 
 /** The running alarm service, or a 503 when this process runs without it. */
 export function alarmApi(): AlarmApi {
-  const svc = getServerContext()?.services.get("alarms") as AlarmService | undefined;
+  const svc = runningService("alarms");
   if (!svc || typeof svc.acknowledge !== "function") throw new HttpError(503, "The alarm service is not running.");
   return svc;
 }
 
 /** The running mail service (its outbox), or a 503. */
-export function mailApi(): Pick<MailService, "outbox" | "outboxFor" | "sinkPort"> {
-  const svc = getServerContext()?.services.get("mail") as MailService | undefined;
+export function mailApi(): Pick<MailApi, "outbox" | "outboxFor" | "sinkPort"> {
+  const svc = runningService("mail");
   if (!svc || typeof svc.outboxFor !== "function") throw new HttpError(503, "The mail service is not running.");
   return svc;
 }

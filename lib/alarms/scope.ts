@@ -4,12 +4,12 @@
  */
 import { QueryTypes } from "sequelize";
 import { getSequelize } from "@/lib/db/sequelize";
-import { NotFoundError } from "@/lib/errors";
+import { NotFoundError } from "@/lib/domain/errors";
 import { siteScopeSql } from "@/lib/tenancy";
 import { visibleLoopIds } from "@/lib/loops";
-import type { TenantContext } from "@/lib/types";
+import type { TenantContext } from "@/lib/domain/types";
 import { alarmApi } from "./access";
-import { computeAlarmKpis, type AlarmKpis, type OccurrenceRecord } from "./kpis";
+import { computeAlarmKpis, type AlarmKpis, type OccurrenceRecord } from "@/lib/domain/alarms/kpis";
 
 type Ctx = Pick<TenantContext, "tenantId" | "siteIds">;
 

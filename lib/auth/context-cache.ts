@@ -8,7 +8,7 @@
  * operator can still acknowledge and shelve alarms (the alarm journal holds them; the alarm
  * service records how they were authorised and checks the membership again when it writes them).
  */
-import type { TenantContext } from "@/lib/types";
+import type { TenantContext } from "@/lib/domain/types";
 import { isDatabaseUnavailable } from "@/lib/db/unavailable";
 import { sessionEvents } from "@/lib/server-context";
 import { loadTenantContext } from "./store";

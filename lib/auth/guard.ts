@@ -12,8 +12,8 @@
  * Pages (server components): `const ctx = await getContextOrNull(); if (!ctx) redirect("/signin")`.
  * Socket layer: `await contextForSocket(userId, tenantId, sessionVersion)` (null = disconnect).
  */
-import { ForbiddenError, UnauthenticatedError } from "@/lib/errors";
-import { roleAtLeast, type Role, type TenantContext } from "@/lib/types";
+import { ForbiddenError, UnauthenticatedError } from "@/lib/domain/errors";
+import { roleAtLeast, type Role, type TenantContext } from "@/lib/domain/types";
 import { cachedTenantContext } from "./context-cache";
 import { decodeSessionToken, sessionCookieValue, type SessionClaims } from "./session-token";
 

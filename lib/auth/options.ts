@@ -11,7 +11,7 @@ import CredentialsProvider from "next-auth/providers/credentials";
 import { z } from "zod";
 import { getConfig } from "@/lib/config";
 import { isDatabaseUnavailable } from "@/lib/db/unavailable";
-import { TooManyRequestsError } from "@/lib/errors";
+import { TooManyRequestsError } from "@/lib/domain/errors";
 import { revokeSession } from "@/lib/server-context";
 import { findUserByEmail, listMemberships, recordRevokedSession, touchSignIn } from "./store";
 import { assertSignInAllowed, recordSignInFailure, recordSignInSuccess } from "./throttle";

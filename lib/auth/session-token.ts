@@ -1,7 +1,7 @@
 /**
  * Reading the next-auth session cookie without next-auth's request helpers, so the custom server
  * (Socket.IO handshake) and route handlers decode it the same way. next-auth's `getToken` on a raw
- * Node request reads `req.cookies` only (ARCHITECTURE.md §11), hence our own cookie parsing.
+ * Node request reads `req.cookies` only (docs/architecture.md §11), hence our own cookie parsing.
  */
 import { decode, type JWT } from "next-auth/jwt";
 import { getConfig } from "@/lib/config";

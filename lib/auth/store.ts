@@ -4,8 +4,8 @@
  */
 import { QueryTypes } from "sequelize";
 import { getSequelize } from "@/lib/db/sequelize";
-import type { Role, TenantContext } from "@/lib/types";
-import { ROLES } from "@/lib/types";
+import type { Role, TenantContext } from "@/lib/domain/types";
+import { ROLES } from "@/lib/domain/types";
 
 export interface UserRow {
   id: number;

@@ -5,7 +5,7 @@
  * e-mail + address counter. In-memory: one process; a cluster would move this to a shared store.
  */
 import { RateLimiterMemory, type RateLimiterRes } from "rate-limiter-flexible";
-import { TooManyRequestsError } from "@/lib/errors";
+import { TooManyRequestsError } from "@/lib/domain/errors";
 
 export const SIGNIN_LIMITS = {
   /** Failures per e-mail + address before a block. */

@@ -10,13 +10,13 @@ import { NextResponse } from "next/server";
 import { z } from "zod";
 import { requireContext } from "@/lib/auth/guard";
 import { getDb } from "@/lib/db/sequelize";
-import { HttpError, NotFoundError, ValidationError } from "@/lib/errors";
+import { HttpError, NotFoundError, ValidationError } from "@/lib/domain/errors";
 import { handle, parseQuery } from "@/lib/http";
 import { BACKFILL_UPLOAD_BODY } from "@/lib/request-guard";
 import { getServerContext } from "@/lib/server-context";
 import { findOwned } from "@/lib/tenancy";
 import { text } from "@/lib/text-input";
-import type { TenantContext } from "@/lib/types";
+import type { TenantContext } from "@/lib/domain/types";
 import type { BackfillHost } from "@/server/backfill/host";
 import { idParam } from "@/lib/admin/route-helpers";
 

@@ -5,8 +5,8 @@
  */
 import { startTransition, useEffect, useMemo, useRef, useState, useSyncExternalStore } from "react";
 import useSWR from "swr";
-import { DEFAULT_POLICY } from "@/lib/alarms/policy";
-import type { AlarmDto, LiveLoopSummary, LoopStateDto, LoopSummary, SampleDto } from "@/lib/types";
+import { DEFAULT_POLICY } from "@/lib/domain/alarms/policy";
+import type { AlarmDto, LiveLoopSummary, LoopStateDto, LoopSummary, SampleDto } from "@/lib/domain/types";
 import { fetchJson } from "./fetcher";
 import { LoopStore } from "./loop-store";
 import { getSocket, watchLoop } from "./socket";

@@ -7,7 +7,7 @@
  * ring of recent radius and decay-ratio values for the tile sparklines. Framework-free so the
  * benchmark and the wall share it.
  */
-import type { LiveLoopSummary, LoopStateBrief } from "@/lib/types";
+import type { LiveLoopSummary, LoopStateBrief } from "@/lib/domain/types";
 
 export const SPARK_POINTS = 120;
 

@@ -1,11 +1,11 @@
 /**
- * Worst-first ordering of loops (UI.md "Worst first"): by the highest priority of the loop's
+ * Worst-first ordering of loops (docs/visual-language.md, Principles, "Worst first"): by the highest priority of the loop's
  * alarms that need attention, then by the margin to the loop's own alarm level, smallest first.
  * A raw radius is not comparable across sample periods, so the margin is measured on the
  * period-invariant decay ratio where the dominant mode oscillates, and on the rim distance
  * only where it does not. Pure functions: used by the wall, the inventory and the benchmark.
  */
-import type { AlarmPriority, AlarmState, LoopStateBrief, LoopSummary } from "@/lib/types";
+import type { AlarmPriority, AlarmState, LoopStateBrief, LoopSummary } from "@/lib/domain/types";
 
 /** What the order reads of a loop: a REST LoopSummary (full state) and a live one (summary) both fit. */
 export type OrderedLoop = Pick<LoopSummary, "id" | "tag" | "alarms"> & { state: LoopStateBrief | null };
@@ -88,17 +88,6 @@ export function stableWorstFirst<L extends OrderedLoop>(
     return loops[a]!.tag.localeCompare(loops[b]!.tag);
   });
   return idx.map((i) => loops[i]!);
-}
-
-/**
- * Radius that corresponds to a decay-ratio level for a mode at angle theta (rad/sample):
- * DR = r^(2π/|θ|)  =>  r = DR^(|θ|/2π). For a real mode (θ = 0) there is no decay ratio and
- * the function returns null.
- */
-export function radiusForDecayRatio(decayRatio: number, theta: number): number | null {
-  const t = Math.abs(theta);
-  if (!(t > 1e-9) || !(decayRatio > 0)) return null;
-  return Math.pow(decayRatio, t / (2 * Math.PI));
 }
 
 /** Equivalent time constant of a real pole at radius r and period T: τ = -T / ln r (seconds). */

@@ -7,7 +7,7 @@
  * reconnect.
  */
 import { io, type Socket } from "socket.io-client";
-import type { ClientToServerEvents, ServerToClientEvents, WatchReply } from "@/lib/realtime/events";
+import type { ClientToServerEvents, ServerToClientEvents, WatchReply } from "@/lib/domain/events";
 
 export type RimSocket = Socket<ServerToClientEvents, ClientToServerEvents>;
 

@@ -1,5 +1,5 @@
 /**
- * The numerical core of the product (ARCHITECTURE.md section 3). Pure TypeScript, no I/O.
+ * The numerical core of the product (docs/architecture.md §3). Pure TypeScript, no I/O.
  * Polynomial conventions (z-descending, q^-1 ascending, ARX `a` without its leading 1) are stated
  * once in `./types`.
  */

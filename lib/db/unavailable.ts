@@ -7,7 +7,7 @@
  * Duck-typed on names and codes: Next bundles route handlers apart from the custom server, so an
  * error from another copy of Sequelize is not `instanceof` this one's classes.
  */
-import { HttpError } from "@/lib/errors";
+import { HttpError } from "@/lib/domain/errors";
 
 /** Shown to people (pages, API answers, sign-in): says what works, never where the database is. */
 export const DATABASE_UNAVAILABLE =

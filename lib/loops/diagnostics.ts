@@ -2,14 +2,15 @@
  * Ingest diagnostics for an admin: the running pipeline's counters for the admin's tenant only,
  * joined with the tenant's device names. Devices that sent nothing since the start are listed
  * with zero counts so a silent gateway is visible. Samples accepted as bad or uncertain quality
- * (lib/sample-quality.ts) are counted per reason beside the rejections.
+ * (lib/domain/sample-quality.ts) are counted per reason beside the rejections.
  */
 import { QueryTypes, type Sequelize } from "sequelize";
 import { getSequelize } from "@/lib/db/sequelize";
-import { QUALITY_REASONS, type QualityReason } from "@/lib/sample-quality";
-import { getServerContext } from "@/lib/server-context";
-import { REJECT_REASONS, type RejectReason } from "@/lib/telemetry";
-import type { TenantContext } from "@/lib/types";
+import { QUALITY_REASONS, type QualityReason } from "@/lib/domain/sample-quality";
+import type { PipelineApi } from "@/lib/domain/services";
+import { runningService } from "@/lib/server-context";
+import { REJECT_REASONS, type RejectReason } from "@/lib/domain/telemetry";
+import type { TenantContext } from "@/lib/domain/types";
 
 export interface DeviceIngestCounters {
   device: string;
@@ -37,22 +38,8 @@ export interface IngestDiagnosticsDto {
   totals: { messages: number; acceptedSamples: number; redelivered: number; rejected: Record<RejectReason, number>; quality: Record<QualityReason, number> };
 }
 
-interface LiveCounters {
-  device: string;
-  tenantId: number | null;
-  messages: number;
-  acceptedSamples: number;
-  redelivered: number;
-  rejected: Record<RejectReason, number>;
-  lastMessageAt: number | null;
-  lastRejectAt: number | null;
-  lastRejectReason: RejectReason | null;
-  quality?: Record<QualityReason, number>;
-  lastBadAt?: number | null;
-  lastBadReason?: QualityReason | null;
-}
 
-type PipelineLike = { ingestDiagnostics?: (tenantId: number) => { devices: LiveCounters[] } };
+type PipelineLike = Partial<Pick<PipelineApi, "ingestDiagnostics">>;
 
 const zero = () => Object.fromEntries(REJECT_REASONS.map((r) => [r, 0])) as Record<RejectReason, number>;
 const zeroQuality = () => Object.fromEntries(QUALITY_REASONS.map((r) => [r, 0])) as Record<QualityReason, number>;
@@ -63,7 +50,7 @@ export async function ingestDiagnostics(
   deps: { sequelize?: Sequelize; pipeline?: PipelineLike | null } = {},
 ): Promise<IngestDiagnosticsDto> {
   const sequelize = deps.sequelize ?? getSequelize();
-  const pipeline = deps.pipeline !== undefined ? deps.pipeline : ((getServerContext()?.services.get("pipeline") ?? null) as PipelineLike | null);
+  const pipeline = deps.pipeline !== undefined ? deps.pipeline : runningService("pipeline");
   const live = typeof pipeline?.ingestDiagnostics === "function" ? pipeline.ingestDiagnostics(ctx.tenantId).devices.filter((d) => d.tenantId === ctx.tenantId) : null;
   const rows = await sequelize.query<{ key_id: string; name: string; revoked_at: unknown }>(
     "SELECT key_id, name, revoked_at FROM device_credentials WHERE tenant_id = ? ORDER BY name",

@@ -10,7 +10,7 @@ import { getConfig } from "@/lib/config";
 import { getSequelize } from "@/lib/db/sequelize";
 import { siteScopeSql } from "@/lib/tenancy";
 import type { Complex } from "@/lib/control/types";
-import type { PoleDto, TenantContext, TrackerState } from "@/lib/types";
+import type { PoleDto, TenantContext, TrackerState } from "@/lib/domain/types";
 
 const MAX_SPAN_MS = 400 * 86_400_000;
 

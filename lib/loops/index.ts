@@ -7,9 +7,9 @@
 import { QueryTypes, type Sequelize } from "sequelize";
 import { z } from "zod";
 import { getSequelize } from "@/lib/db/sequelize";
-import { getServerContext } from "@/lib/server-context";
+import { runningService } from "@/lib/server-context";
 import { siteScopeSql } from "@/lib/tenancy";
-import type { AlarmDto, LoopKind, LoopStateDto, LoopSummary, TenantContext } from "@/lib/types";
+import type { AlarmDto, LoopKind, LoopStateDto, LoopSummary, TenantContext } from "@/lib/domain/types";
 
 export { getLoopHistory, historyColumns, historySchema, type LoopHistory, type LoopHistoryColumns, type HistoryPoint, type HistorySnapshot } from "./history";
 
@@ -98,7 +98,7 @@ function tenantIdOf(ctx: Ctx): number {
 }
 
 function defaultLiveState(loopId: number): LoopStateDto | null {
-  const svc = getServerContext()?.services.get("pipeline") as { loopState?: (id: number) => LoopStateDto | null } | undefined;
+  const svc = runningService("pipeline");
   return typeof svc?.loopState === "function" ? svc.loopState(loopId) : null;
 }
 

@@ -10,7 +10,7 @@
 import { QueryTypes, type Sequelize } from "sequelize";
 import { z } from "zod";
 import { getSequelize } from "@/lib/db/sequelize";
-import { NotFoundError } from "@/lib/errors";
+import { NotFoundError } from "@/lib/domain/errors";
 
 export const STALE_CLAIM_MS = 10 * 60_000;
 export type ReportKind = "handover" | "worst-loops" | "fleet-health";

@@ -5,11 +5,11 @@
  * statement of the handover is here; plain typed objects out.
  */
 import { QueryTypes, type Sequelize } from "sequelize";
-import { computeAlarmKpis, type AlarmKpis, type OccurrenceRecord } from "@/lib/alarms/kpis";
+import { computeAlarmKpis, type AlarmKpis, type OccurrenceRecord } from "@/lib/domain/alarms/kpis";
 import { getSequelize } from "@/lib/db/sequelize";
-import { NotFoundError, ValidationError } from "@/lib/errors";
+import { NotFoundError, ValidationError } from "@/lib/domain/errors";
 import { assertSiteVisible } from "@/lib/tenancy";
-import type { AlarmPriority } from "@/lib/types";
+import type { AlarmPriority } from "@/lib/domain/types";
 import { listNotes, type NoteDto } from "./notes";
 import { lastEndedShift, parseShiftStarts, shiftAt, type Shift } from "./shifts";
 

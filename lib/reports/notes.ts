@@ -7,9 +7,9 @@
 import { QueryTypes, type Sequelize } from "sequelize";
 import { z } from "zod";
 import { getSequelize } from "@/lib/db/sequelize";
-import { NotFoundError } from "@/lib/errors";
+import { NotFoundError } from "@/lib/domain/errors";
 import { assertSiteVisible, siteVisible } from "@/lib/tenancy";
-import type { TenantContext } from "@/lib/types";
+import type { TenantContext } from "@/lib/domain/types";
 
 export type NoteKind = "loop" | "alarm" | "shift";
 

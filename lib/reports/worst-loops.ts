@@ -6,7 +6,7 @@
  */
 import { QueryTypes, type Sequelize } from "sequelize";
 import { getSequelize } from "@/lib/db/sequelize";
-import { ValidationError } from "@/lib/errors";
+import { ValidationError } from "@/lib/domain/errors";
 import { combineDays, scoreLoop, type DaySummary, type PeriodFigures, type ScoreTerm } from "./score";
 import { loadDaySummaries, utcDay } from "./summaries";
 

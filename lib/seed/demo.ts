@@ -11,7 +11,7 @@
  * rules for model reduction and PID controller tuning", J. Process Control 13, 2003) for the
  * plant the simulator runs, then rounded and written in the units each site uses.
  */
-import type { LoopKind, Role } from "@/lib/types";
+import type { LoopKind, Role } from "@/lib/domain/types";
 import { tuningSeconds, type ControllerAction, type ControllerForm, type GainKind, type TdUnits, type TiUnits } from "@/models/loop";
 
 export const DEMO_PASSWORD = "rimguard-demo";
@@ -366,7 +366,7 @@ export const DEMO_DEVICES: DemoDevice[] = DEMO_TENANTS.flatMap((t) =>
 );
 
 /**
- * Default alarm levels of every demo tenant (lib/alarms/policy.ts format). Decay ratio 0.35 /
+ * Default alarm levels of every demo tenant (lib/domain/alarms/policy.ts format). Decay ratio 0.35 /
  * 0.5 correspond to damping ratios of about 0.165 / 0.11 (DR = exp(-2πζ/√(1-ζ²))).
  */
 export const DEMO_TENANT_POLICY = {

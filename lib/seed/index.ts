@@ -5,7 +5,7 @@
  */
 import bcrypt from "bcryptjs";
 import { QueryTypes, type Sequelize, type Transaction } from "sequelize";
-import { policyOverrideSchema } from "@/lib/alarms/policy";
+import { policyOverrideSchema } from "@/lib/domain/alarms/policy";
 import { hashDeviceSecret } from "@/lib/devices";
 import { initModels, type Models } from "@/models";
 import {

@@ -9,7 +9,7 @@
  * Every problem is reported with its line number in the file (the header is line 1 unless
  * comments precede it) and its 1-based column number and name, so the engineer can find it.
  */
-import { HttpError, ValidationError } from "@/lib/errors";
+import { HttpError, ValidationError } from "@/lib/domain/errors";
 
 /** Largest accepted upload, bytes (5 MiB). */
 export const MAX_CSV_BYTES = 5 * 1024 * 1024;

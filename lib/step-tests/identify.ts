@@ -34,7 +34,7 @@ import {
   type Complex,
   type PeriodProposal,
 } from "@/lib/control";
-import { ValidationError } from "@/lib/errors";
+import { ValidationError } from "@/lib/domain/errors";
 import type { ParsedStepTest } from "./csv";
 import { fitFopdt, fitIpdt, simulateFopdt, type FopdtFit, type IpdtFit } from "./fopdt";
 import { detrend, loggedPeriod, resample, type DetrendMethod, type UniformSeries } from "./resample";

@@ -7,7 +7,7 @@
  * grid points becomes a partial first value instead of a timing error); PV and SP are measured
  * values, taken at kT by linear interpolation between the logged rows.
  */
-import { ValidationError } from "@/lib/errors";
+import { ValidationError } from "@/lib/domain/errors";
 import type { StepTestMode, StepTestRow } from "./csv";
 
 /** A time gap longer than this many logged periods stops the analysis (common practice). */

@@ -5,7 +5,7 @@
  * the queue waits and is retried; nothing is dropped and the order is kept.
  */
 import { QueryTypes, type Sequelize, type Transaction } from "sequelize";
-import { roleAtLeast, ROLES, type Role } from "@/lib/types";
+import { roleAtLeast, ROLES, type Role } from "@/lib/domain/types";
 import type { JournalEntry } from "./journal";
 
 export const journalId = (seq: number) => String(seq).padStart(16, "0");

@@ -10,8 +10,8 @@
  */
 import fs from "node:fs";
 import path from "node:path";
-import type { AlarmActionKind, AlarmPoint } from "@/lib/alarms/state-machine";
-import type { AlarmCondition, AlarmState } from "@/lib/types";
+import type { AlarmActionKind, AlarmPoint } from "@/lib/domain/alarms/state-machine";
+import type { AlarmCondition, AlarmState } from "@/lib/domain/types";
 
 /** The stored alarm point plus what the pages show. */
 export interface PointSnapshot extends AlarmPoint {

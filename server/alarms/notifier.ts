@@ -4,8 +4,8 @@
  * loop's alarms to one rule are rate-limited to one per repeat interval, but a higher priority
  * than the last message and an escalation always send. Every message links to the alarm.
  */
-import { PRIORITY_RANK } from "@/lib/alarms/state-machine";
-import type { AlarmDto, AlarmPriority } from "@/lib/types";
+import { PRIORITY_RANK } from "@/lib/domain/alarms/state-machine";
+import type { AlarmDto, AlarmPriority } from "@/lib/domain/types";
 import type { Clock } from "@/server/context";
 import type { MailMessage } from "@/server/mail";
 

@@ -4,47 +4,24 @@
  * effective levels and their equivalents; written with a configuration-change record).
  */
 import { QueryTypes, type Sequelize } from "sequelize";
-import { dominantOscillatingMode } from "@/lib/alarms/conditions";
-import { computeAlarmKpis, type AlarmKpis, type OccurrenceRecord } from "@/lib/alarms/kpis";
+import { computeAlarmKpis, type AlarmKpis, type OccurrenceRecord } from "@/lib/domain/alarms/kpis";
 import {
   normalizeStoredSettings,
   parsePolicyOverride,
   policyEquivalents,
   resolvePolicy,
-  type EffectivePolicy,
-  type LevelEquivalent,
   type PolicyOverride,
   type PolicyScope,
-} from "@/lib/alarms/policy";
-import { ForbiddenError, NotFoundError, ValidationError } from "@/lib/errors";
-import { roleAtLeast, type AlarmDto, type TenantContext } from "@/lib/types";
+} from "@/lib/domain/alarms/policy";
+import { ForbiddenError, NotFoundError, ValidationError } from "@/lib/domain/errors";
+import { roleAtLeast, type AlarmDto, type TenantContext } from "@/lib/domain/types";
+import type { AlarmEventDto, AlarmOccurrenceDto, PolicyView } from "@/lib/domain/services";
 import type { JournalEntry } from "./journal";
+export type { AlarmEventDto, AlarmOccurrenceDto, LoopPolicyView, PolicyView } from "@/lib/domain/services";
 
 const iso = (d: Date | string | number | null | undefined) => (d == null ? null : new Date(d).toISOString());
 
-export interface AlarmEventDto {
-  id: number | null;
-  journalId: string;
-  at: string;
-  kind: string;
-  fromState: string | null;
-  toState: string | null;
-  userId: number | null;
-  userName: string | null;
-  userEmail: string | null;
-  comment: string | null;
-  data: unknown;
-  /** Journalled, not yet in the database. */
-  pending: boolean;
-}
 
-export interface AlarmOccurrenceDto {
-  id: number;
-  priority: string;
-  startedAt: string;
-  endedAt: string | null;
-  acknowledgedAt: string | null;
-}
 
 export async function alarmDetail(
   sequelize: Sequelize,
@@ -131,26 +108,7 @@ export async function alarmKpis(sequelize: Sequelize, tenantId: number, from: nu
 
 // ---------------------------------------------------------------- policies
 
-export interface LoopPolicyView {
-  loopId: number;
-  tag: string;
-  estimationPeriodS: number;
-  effective: EffectivePolicy;
-  /** Oscillation period of the loop's current dominant oscillating mode (null: none now). */
-  oscillationPeriodS: number | null;
-  equivalents: LevelEquivalent[];
-}
 
-export interface PolicyView {
-  scope: PolicyScope;
-  id: number;
-  /** What this scope sets (null: it inherits everything). */
-  settings: PolicyOverride | null;
-  updatedAt: string | null;
-  /** Effective at this scope (for a site or tenant: before any loop override). */
-  effective: EffectivePolicy;
-  loops: LoopPolicyView[];
-}
 
 export interface PolicyLoopInfo {
   id: number;
@@ -178,7 +136,8 @@ export async function readPolicy(
   id: number,
   layers: Layers,
   loops: PolicyLoopInfo[],
-  poles: (loopId: number) => { re: number; im: number }[] | null,
+  /** Oscillation period (s) of the loop's slowest-decaying oscillating mode now, from its assessment. */
+  oscillationPeriodS: (loopId: number) => number | null,
 ): Promise<PolicyView> {
   await checkScope(sequelize, user, scope, id, loops);
   const [row] = (await sequelize.query("SELECT settings, updated_at FROM alarm_policies WHERE tenant_id = ? AND scope = ? AND scope_id = ?", {
@@ -202,9 +161,7 @@ export async function readPolicy(
       .sort((a, b) => a.tag.localeCompare(b.tag))
       .map((l) => {
         const eff = resolvePolicy({ tenant: layers.tenant.get(l.tenantId), site: layers.site.get(l.siteId), loop: layers.loop.get(l.id) });
-        const p = poles(l.id);
-        const mode = p ? dominantOscillatingMode(p, l.estimationPeriodS) : null;
-        const osc = mode ? mode.periodS : null;
+        const osc = oscillationPeriodS(l.id);
         return { loopId: l.id, tag: l.tag, estimationPeriodS: l.estimationPeriodS, effective: eff, oscillationPeriodS: osc, equivalents: policyEquivalents(eff, l.estimationPeriodS, osc) };
       }),
   };
@@ -218,7 +175,7 @@ function parsePolicyOverrideLenient(scope: PolicyScope, raw: unknown): PolicyOve
   }
 }
 
-/** Who may set which scope (ARCHITECTURE.md §7): admins tenant and site levels, engineers loop levels. */
+/** Who may set which scope (docs/architecture.md §7): admins tenant and site levels, engineers loop levels. */
 export function policyRole(scope: PolicyScope): "admin" | "engineer" {
   return scope === "loop" ? "engineer" : "admin";
 }

@@ -11,28 +11,28 @@
  * keeps every acknowledgement and shelve durable before it is confirmed to the person.)
  */
 import type { Sequelize } from "sequelize";
+import type { AlarmApi, AlarmListFilter } from "@/lib/domain/services";
+export type { AlarmListFilter } from "@/lib/domain/services";
 import { QueryTypes } from "sequelize";
 import {
   CONDITION_PRIORITY,
-  dominantOscillatingMode,
   evaluateConditions,
+  forecastMinutesOf,
   isTrustedEstimate,
   memoryForActive,
-  NON_TRACKING,
   type ConditionMemory,
-} from "@/lib/alarms/conditions";
-import { MarginTrend } from "@/lib/alarms/trend";
+} from "@/lib/domain/alarms/conditions";
 import {
   normalizeStoredSettings,
   parsePolicyOverride,
   resolvePolicy,
   type EffectivePolicy,
   type PolicyOverride,
-} from "@/lib/alarms/policy";
-import { applyAlarmAction, type AlarmAction, type TransitionResult } from "@/lib/alarms/state-machine";
+} from "@/lib/domain/alarms/policy";
+import { applyAlarmAction, type AlarmAction, type TransitionResult } from "@/lib/domain/alarms/state-machine";
 import { publicOrigin } from "@/lib/config";
-import { ForbiddenError, HttpError, NotFoundError } from "@/lib/errors";
-import { tenantRoom } from "@/lib/realtime/events";
+import { ForbiddenError, HttpError, NotFoundError } from "@/lib/domain/errors";
+import { tenantRoom } from "@/lib/domain/events";
 import {
   ALARM_CONDITIONS,
   roleAtLeast,
@@ -43,15 +43,15 @@ import {
   type LoopStateDto,
   type Role,
   type TenantContext,
-} from "@/lib/types";
+} from "@/lib/domain/types";
 import type { ServerContext, Service, ServiceHealth } from "@/server/context";
 import { AlarmDbWriter, journalId, LAST_KNOWN_MEMBERSHIP, type LastKnownAuthorisation } from "./db-writer";
 import { AlarmJournal, type JournalEntry, type PointSnapshot } from "./journal";
 import { AlarmNotifier, priorityOfSubject, type NotificationRuleRow, type SentRow } from "./notifier";
 import type { MailService } from "@/server/mail";
 import { alarmDetail, alarmKpis, readPolicy, writePolicy, type PolicyLoopInfo, type PolicyView } from "./queries";
-import type { AlarmKpis } from "@/lib/alarms/kpis";
-import type { PolicyScope } from "@/lib/alarms/policy";
+import type { AlarmKpis } from "@/lib/domain/alarms/kpis";
+import type { PolicyScope } from "@/lib/domain/alarms/policy";
 
 interface LoopFacts {
   id: number;
@@ -82,15 +82,6 @@ export interface AlarmServiceOptions {
   quiet?: boolean;
 }
 
-export interface AlarmListFilter {
-  state?: AlarmState;
-  priority?: AlarmPriority;
-  loopId?: number;
-  /** Epoch ms: changed at or after. */
-  from?: number;
-  /** Epoch ms: changed before. */
-  to?: number;
-}
 
 export class JournalFullHttpError extends HttpError {
   constructor() {
@@ -103,7 +94,7 @@ export class JournalFullHttpError extends HttpError {
 
 const ms = (d: Date | string | null | undefined): number | null => (d == null ? null : new Date(d).getTime());
 
-export class AlarmService implements Service {
+export class AlarmService implements Service, AlarmApi {
   readonly name = "alarms";
   private points = new Map<number, PointRecord>();
   private byLoop = new Map<number, Map<AlarmCondition, number>>();
@@ -111,7 +102,6 @@ export class AlarmService implements Service {
   private memory = new Map<number, ConditionMemory>();
   /** Loops whose tracker has given a trusted estimate since this service started (see onTrackerUpdate). */
   private evidenced = new Set<number>();
-  private trends = new Map<number, MarginTrend>();
   private lastState = new Map<number, LoopStateDto>();
   private policyLayers = { tenant: new Map<number, PolicyOverride>(), site: new Map<number, PolicyOverride>(), loop: new Map<number, PolicyOverride>() };
   private effective = new Map<number, EffectivePolicy>();
@@ -385,7 +375,7 @@ export class AlarmService implements Service {
     this.lastState.set(s.loopId, s);
     const now = this.ctx.clock.now();
     const policy = this.policyFor(s.loopId);
-    const forecastMinutes = this.forecast(s, policy, now);
+    const forecastMinutes = forecastMinutesOf(s, now);
     // After a start (a restart, a crash) the alarms are what MariaDB and the journal say, not what
     // this process has seen: until the loop's tracker gives a trusted estimate again, its alarms
     // keep their state (no clear, no suppression, no re-announce; shown values are not updated),
@@ -432,24 +422,6 @@ export class AlarmService implements Service {
       if (p?.active) active.push({ condition, priority: p.priority });
     }
     return memoryForActive(active);
-  }
-
-  /** Feed the loop's margin trend and forecast when it reaches the margin level (minutes). */
-  private forecast(s: LoopStateDto, policy: EffectivePolicy, now: number): number | null {
-    if (NON_TRACKING.has(s.trackerState)) {
-      this.trends.get(s.loopId)?.reset();
-      return null;
-    }
-    let trend = this.trends.get(s.loopId);
-    const memoryS = 200 * s.estimationPeriodS; // RLS memory 1/(1 - λ) at λ = 0.995, in seconds
-    if (!trend || trend.memoryS !== memoryS) {
-      trend = new MarginTrend({ memoryS, windowS: Math.max(7200, 20 * memoryS) });
-      this.trends.set(s.loopId, trend);
-    }
-    const poles = s.modelPoles.length ? s.modelPoles : s.dataPoles;
-    const mode = dominantOscillatingMode(poles, s.estimationPeriodS, policy.confidenceSigmas);
-    trend.push(now / 1000, mode ? mode.decayRatio : null);
-    return trend.minutesTo(policy.decayRatio.low, now / 1000);
   }
 
   // ------------------------------------------------------------------ transitions
@@ -636,11 +608,7 @@ export class AlarmService implements Service {
   }
 
   getPolicy(user: TenantContext, scope: PolicyScope, id: number): Promise<PolicyView> {
-    return readPolicy(this.sequelize, user, scope, id, this.policyLayers, this.policyLoops(), (loopId) => {
-      const s = this.lastState.get(loopId);
-      if (!s) return null;
-      return s.modelPoles.length ? s.modelPoles : s.dataPoles;
-    });
+    return readPolicy(this.sequelize, user, scope, id, this.policyLayers, this.policyLoops(), (loopId) => this.lastState.get(loopId)?.oscillation?.periodS ?? null);
   }
 
   /** Set one scope's levels; effective at once (no restart), logged with reason and MOC reference. */

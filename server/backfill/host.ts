@@ -4,8 +4,8 @@
  * they run (server/pipeline.ts calls `observeLive` from its sink). Finished jobs stay listed for
  * a while so the console can show their outcome.
  */
-import { ConflictError, NotFoundError } from "@/lib/errors";
-import type { SampleDto } from "@/lib/types";
+import { ConflictError, NotFoundError } from "@/lib/domain/errors";
+import type { SampleDto } from "@/lib/domain/types";
 import { BackfillJob, type BackfillDeps, type BackfillParams, type BackfillProgress } from "./job";
 import type { ByteSource } from "./sample-csv";
 import { loadLoopConfigs } from "../ingest/loop-source";

@@ -15,9 +15,9 @@
 import type { Sequelize } from "sequelize";
 import { ensurePastPartition } from "@/lib/db/past-partitions";
 import { DAY_MS } from "@/lib/db/partitions";
-import { FUTURE_SKEW_MS } from "@/lib/telemetry";
-import { judgeSampleQuality } from "@/lib/sample-quality";
-import type { LoopStateDto, SampleDto } from "@/lib/types";
+import { FUTURE_SKEW_MS } from "@/lib/domain/telemetry";
+import { judgeSampleQuality } from "@/lib/domain/sample-quality";
+import type { LoopStateDto, SampleDto } from "@/lib/domain/types";
 import type { Bus, Clock } from "../context";
 import { HistoryAggregator } from "../history/aggregate";
 import type { HistoryWriter } from "../history/writer";

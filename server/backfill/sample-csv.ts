@@ -9,8 +9,8 @@
  */
 import { Readable } from "node:stream";
 import { parse } from "csv-parse";
-import { validateSample } from "@/lib/telemetry";
-import type { SampleDto } from "@/lib/types";
+import { validateSample } from "@/lib/domain/telemetry";
+import type { SampleDto } from "@/lib/domain/types";
 
 export const SAMPLE_REJECT_REASONS = [
   "bad-header",

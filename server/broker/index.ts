@@ -1,5 +1,5 @@
 /**
- * The MQTT boundary (ARCHITECTURE.md §1, §5, §9). By default an embedded aedes broker on
+ * The MQTT boundary (docs/architecture.md §1, §5, §9). By default an embedded aedes broker on
  * MQTT_HOST:MQTT_PORT (loopback); with MQTT_URL set, a client of that external broker instead.
  * Either way the rest of the server sees the same thing: `subscribeInternal(pattern, handler)`
  * delivers each telemetry message in-process with the identity of the device that sent it.
@@ -10,7 +10,7 @@ import { Aedes, type AedesPublishPacket, type Client } from "aedes";
 import mqtt from "mqtt";
 import { RateLimiterMemory } from "rate-limiter-flexible";
 import type { Service, ServerContext } from "@/server/context";
-import { MAX_PAYLOAD_BYTES, parseTelemetryTopic, type RejectReason } from "@/lib/telemetry";
+import { MAX_PAYLOAD_BYTES, parseTelemetryTopic, type RejectReason } from "@/lib/domain/telemetry";
 import { IngestCounters, UNAUTHENTICATED, type DeviceIdentity } from "@/server/ingest/counters";
 import { CachedCredentials, clientIdAllowed, secretMatches, type CredentialLookup, type DeviceCredential } from "./credentials";
 import { FrameGuard } from "./frame-guard";

@@ -1,11 +1,11 @@
 /**
- * In-memory aggregation for the history tiers (ARCHITECTURE.md §6): per-second min/mean/max of
+ * In-memory aggregation for the history tiers (docs/architecture.md §6): per-second min/mean/max of
  * SP, PV, MV (a loop at 1 Hz or slower gives one sample per row, n = 1), 1-minute aggregates of
  * SP, PV, MV and the spectral radius, pole snapshots at a coarser period or on change. Pure: the
- * writer decides when rows go to MariaDB. A sample of bad or uncertain quality (lib/sample-quality.ts)
+ * writer decides when rows go to MariaDB. A sample of bad or uncertain quality (lib/domain/sample-quality.ts)
  * enters no min/mean/max: it is counted in its row's `bad` or `uncertain` (`n` counts the good ones).
  */
-import type { LoopMode, LoopStateDto, SampleDto } from "@/lib/types";
+import type { LoopMode, LoopStateDto, SampleDto } from "@/lib/domain/types";
 
 export const SECOND_MS = 1_000;
 export const MINUTE_MS = 60_000;

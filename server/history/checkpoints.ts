@@ -3,7 +3,7 @@
  * restarted server resumes tracking where it stopped instead of learning again.
  */
 import { QueryTypes, type Sequelize } from "sequelize";
-import type { LoopStateDto } from "@/lib/types";
+import type { LoopStateDto } from "@/lib/domain/types";
 
 export interface StoredCheckpoint {
   loopId: number;

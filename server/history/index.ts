@@ -6,7 +6,7 @@
  */
 import type { Sequelize } from "sequelize";
 import { maintainHistoryPartitions } from "@/lib/db/partitions";
-import type { LoopStateDto, SampleDto } from "@/lib/types";
+import type { LoopStateDto, SampleDto } from "@/lib/domain/types";
 import type { ServerContext, Service, ServiceHealth } from "@/server/context";
 import { HistoryAggregator, type AggregatorOptions } from "./aggregate";
 import { HistoryWriter, type HistoryWriterOptions } from "./writer";

@@ -2,14 +2,14 @@
  * Buffered batch writer for the history tables. Ingest and trackers only append to bounded
  * in-memory queues (never awaiting MariaDB); a timer drains them with one multi-row
  * INSERT ... ON DUPLICATE KEY UPDATE per batch through sequelize.query (bulkCreate costs about
- * five times the CPU per row, ARCHITECTURE.md §11). Values are numbers, NULL or fixed enums and
+ * five times the CPU per row, docs/architecture.md §11). Values are numbers, NULL or fixed enums and
  * are written inline; the one text column (pole JSON) goes through the driver's escaping.
  * When a queue is full the newest rows are shed and counted, so a slow database costs history,
  * never liveness.
  */
 import type { Sequelize } from "sequelize";
-import type { LoopStateDto } from "@/lib/types";
-import { TRACKER_STATES } from "@/lib/types";
+import type { LoopStateDto } from "@/lib/domain/types";
+import { TRACKER_STATES } from "@/lib/domain/types";
 import type { MinuteBucketRow, PoleSnapshotRow, SecondBucketRow } from "./aggregate";
 
 const MODES = new Set(["auto", "manual", "cascade"]);

@@ -1,13 +1,13 @@
 /**
- * Ingest counters per device and reason (ARCHITECTURE.md §5). Message-level reasons (bad-json,
+ * Ingest counters per device and reason (docs/architecture.md §5). Message-level reasons (bad-json,
  * too-large, too-many-samples, bad-topic, retained, unauthorised, unknown-loop, wrong-tenant) count
  * messages; sample-level reasons (bad-shape, non-finite, out-of-order, duplicate, future) and
- * `redelivery` count samples. Samples accepted as bad or uncertain quality (lib/sample-quality.ts)
+ * `redelivery` count samples. Samples accepted as bad or uncertain quality (lib/domain/sample-quality.ts)
  * are counted in `acceptedSamples` and again per quality reason. Served to admins at
  * GET /api/diagnostics/ingest.
  */
-import { QUALITY_REASONS, type QualityReason } from "@/lib/sample-quality";
-import { REJECT_REASONS, type RejectReason } from "@/lib/telemetry";
+import { QUALITY_REASONS, type QualityReason } from "@/lib/domain/sample-quality";
+import { REJECT_REASONS, type RejectReason } from "@/lib/domain/telemetry";
 
 /** Who sent a message: the authenticated credential, or a bucket for traffic without one. */
 export interface DeviceIdentity {

@@ -2,8 +2,8 @@
  * Which loop a topic names: (tenant slug, site slug, loop slug) -> loop id. Rebuilt from MariaDB at
  * start and whenever a loop changes; lookups are one Map access on the hot path.
  */
-import type { QualityRange } from "@/lib/sample-quality";
-import type { TelemetryTopic } from "@/lib/telemetry";
+import type { QualityRange } from "@/lib/domain/sample-quality";
+import type { TelemetryTopic } from "@/lib/domain/telemetry";
 
 export interface LoopRoute {
   loopId: number;

@@ -1,13 +1,13 @@
 /**
- * Ingest: one MQTT message in, validated samples out (ARCHITECTURE.md §5). Each sample is judged
+ * Ingest: one MQTT message in, validated samples out (docs/architecture.md §5). Each sample is judged
  * alone; every rejection is counted per device and reason; nothing here throws, and nothing
  * rejected reaches the sink (the tracker registry, history and realtime). An accepted sample
  * whose values are a fault code or out of the loop's range (or that the gateway marks so) goes on
  * with `quality` bad or uncertain and its reason, counted per device and reason: the tracker and
  * history keep it out of every estimate and statistic.
  */
-import { judgeSampleQuality, type QualityReason } from "@/lib/sample-quality";
-import type { SampleDto } from "@/lib/types";
+import { judgeSampleQuality, type QualityReason } from "@/lib/domain/sample-quality";
+import type { SampleDto } from "@/lib/domain/types";
 import {
   FUTURE_SKEW_MS,
   MAX_PAYLOAD_BYTES,
@@ -15,7 +15,7 @@ import {
   parseTelemetryTopic,
   validateSample,
   type RejectReason,
-} from "@/lib/telemetry";
+} from "@/lib/domain/telemetry";
 import { IngestCounters, type DeviceIdentity } from "./counters";
 import type { LoopDirectory, LoopRoute } from "./directory";
 

@@ -83,8 +83,6 @@ function toLoaded(r: Row): LoadedLoop {
   };
   const enabled = r.enabled === true || Number(r.enabled) === 1;
   try {
-    const tdS = r.td_value === null ? 0 : r.td_units === "min" ? r.td_value * 60 : r.td_value;
-    const tfS = r.tf_s ?? (r.derivative_alpha !== null && tdS > 0 ? r.derivative_alpha * tdS : null);
     const controller = controllerTuningFromRow({
       gainKind: r.gain_kind,
       gainValue: Number(r.gain_value),
@@ -92,7 +90,8 @@ function toLoaded(r: Row): LoadedLoop {
       tiUnits: r.ti_units,
       tdValue: r.td_value === null ? null : Number(r.td_value),
       tdUnits: r.td_units,
-      tfS,
+      tfS: r.tf_s,
+      derivativeAlpha: r.derivative_alpha,
       action: r.action,
       form: r.form,
     });

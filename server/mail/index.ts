@@ -10,6 +10,11 @@
  * marks `withhold` (an invitation's one-time link) are blanked in `outboxFor()`, the view the
  * admin outbox shows: only the recipient's own mailbox may hold them.
  */
+import type { MailApi, OutboxMessage } from "@/lib/domain/services";
+export type { MailMessage, OutboxMessage } from "@/lib/domain/services";
+
+export interface MailService extends Service, MailApi {}
+
 import { randomUUID } from "node:crypto";
 import type { AddressInfo } from "node:net";
 import nodemailer from "nodemailer";
@@ -17,46 +22,10 @@ import { SMTPServer } from "smtp-server";
 import type { ServerContext, Service } from "@/server/context";
 import { parseRawMessage } from "./parse";
 
-export interface OutboxMessage {
-  id: number;
-  messageId: string | null;
-  from: string;
-  to: string[];
-  subject: string;
-  text: string;
-  headers: Record<string, string>;
-  /** Epoch ms. */
-  receivedAt: number;
-  /** The tenant that sent it through this process; null for anything else the sink received. */
-  tenantId: number | null;
-  /** File names of the message's attachments. */
-  attachments: string[];
-}
 
-export interface MailMessage {
-  to: string[];
-  subject: string;
-  text: string;
-  headers?: Record<string, string>;
-  /** Text never shown in the admin outbox (e.g. a one-time link). */
-  withhold?: string[];
-  /** Files attached (e.g. a report's PDF). */
-  attachments?: { filename: string; content: Buffer; contentType: string }[];
-}
 
 export const WITHHELD_TEXT = "[one-time link withheld: only the recipient's mailbox holds it]";
 
-export interface MailService extends Service {
-  send(msg: MailMessage): Promise<{ messageId: string }>;
-  /** Messages received by the sink (newest last); empty when a real SMTP server is used. */
-  outbox(): OutboxMessage[];
-  /** One tenant's sink messages for its admins, with withheld parts blanked (newest last). */
-  outboxFor(tenantId: number): OutboxMessage[];
-  clearOutbox(): void;
-  /** Resolves when the sink holds at least `n` messages (tests); rejects after `timeoutMs`. */
-  waitForMessages(n: number, timeoutMs?: number): Promise<OutboxMessage[]>;
-  readonly sinkPort: number | null;
-}
 
 const OUTBOX_LIMIT = 1000;
 
@@ -143,7 +112,7 @@ export async function startMail(ctx: ServerContext, opts: StartMailOptions = {})
         if (sentBy.size > OUTBOX_LIMIT * 2) sentBy.delete(sentBy.keys().next().value!);
       }
       try {
-        const info = await transport.sendMail({ from, to: msg.to, subject: msg.subject, text: msg.text, headers: msg.headers, messageId, attachments: msg.attachments });
+        const info = await transport.sendMail({ from, to: msg.to, subject: msg.subject, text: msg.text, headers: msg.headers, messageId, attachments: msg.attachments?.map((a) => ({ ...a, content: Buffer.from(a.content) })) });
         sent++;
         lastError = null;
         return { messageId: info.messageId };

@@ -5,7 +5,7 @@
  * S3_ENDPOINT set, the same client talks to that endpoint (credentials from the usual AWS
  * environment variables). Route handlers reach it through lib/step-tests/store.ts.
  *
- * Client settings for s3rver (ARCHITECTURE.md section 11): path-style addressing, and checksums
+ * Client settings for s3rver (docs/architecture.md §11): path-style addressing, and checksums
  * only when an operation requires them (current SDKs otherwise send CRC headers s3rver rejects).
  */
 import fs from "node:fs";

@@ -1,5 +1,5 @@
 /**
- * Batched pushes to browsers (ARCHITECTURE.md §8, a contract): `loop:state` to each tenant's room
+ * Batched pushes to browsers (docs/architecture.md §8, a contract): `loop:state` to each tenant's room
  * at most every 500 ms with the latest summary (LoopStateBrief, ./summary.ts) of every loop that
  * changed; with it, `loop:detail` with the latest full LoopStateDto of each changed loop to that
  * loop's room (only sockets watching the loop sit there); and full-rate `loop:samples` to a
@@ -9,8 +9,8 @@
  * A batch for a room nobody is in is dropped unencoded (newcomers load the current states over
  * HTTP and get every loop's next summary within its state period).
  */
-import { loopRoom, siteRoom, tenantRoom } from "@/lib/realtime/events";
-import type { LoopStateBrief, LoopStateDto, SampleDto } from "@/lib/types";
+import { loopRoom, siteRoom, tenantRoom } from "@/lib/domain/events";
+import type { LoopStateBrief, LoopStateDto, SampleDto } from "@/lib/domain/types";
 import type { ServerContext } from "@/server/context";
 import { toLoopBrief } from "./summary";
 

@@ -1,5 +1,5 @@
 /**
- * Who may hold a Socket.IO connection (ARCHITECTURE.md §8): the handshake must carry a valid
+ * Who may hold a Socket.IO connection (docs/architecture.md §8): the handshake must carry a valid
  * next-auth session cookie and come from the console's own origin; the socket then joins its
  * tenant's room. Afterwards the membership is re-checked every few seconds and at once when a
  * user's rights change (a changed role also ends the socket), a session is signed out, or it switches tenant: the client first gets
@@ -12,13 +12,13 @@ import type {
   InterServerEvents,
   ServerToClientEvents,
   SocketData,
-} from "@/lib/realtime/events";
+} from "@/lib/domain/events";
 import { claimsFromCookieHeader, type SessionClaims } from "@/lib/auth/session-token";
 import { loadTenantContext } from "@/lib/auth/store";
-import { siteRoom, tenantRoom } from "@/lib/realtime/events";
+import { siteRoom, tenantRoom } from "@/lib/domain/events";
 import { sessionEvents } from "@/lib/server-context";
 import type { RimguardIo } from "@/server/context";
-import type { TenantContext } from "@/lib/types";
+import type { TenantContext } from "@/lib/domain/types";
 
 export const SOCKET_RECHECK_MS = 5_000;
 

@@ -1,6 +1,6 @@
 /**
- * The live summary of a loop (`LoopStateBrief`, lib/types.ts) built from a tracker's full state
- * for the tenant's `loop:state` batches (ARCHITECTURE.md §8: "a batch of loop summaries").
+ * The live summary of a loop (`LoopStateBrief`, lib/domain/types.ts) built from a tracker's full state
+ * for the tenant's `loop:state` batches (docs/architecture.md §8: "a batch of loop summaries").
  *
  * It keeps only what the control room, the wall, tiles, area summaries, the loop list and the
  * worst-first order show, rounded to well below what they can show: radii, rim distance, decay
@@ -11,7 +11,8 @@
  * and the last sample stay in the full LoopStateDto (GET /api/loops/[id] and `loop:detail`).
  * For 2,000 loops a batch is about a sixth of the full states' JSON.
  */
-import type { LoopStateBrief, LoopStateDto, PoleBrief, PoleDto } from "@/lib/types";
+import type { DominantMode, OscillatingMode } from "@/lib/domain/assessment";
+import type { LoopStateBrief, LoopStateDto, PoleBrief, PoleDto } from "@/lib/domain/types";
 
 /** x rounded to `d` decimals, or null when not finite. */
 export function roundTo(x: number | null | undefined, d: number): number | null {
@@ -47,6 +48,21 @@ function poles(list: readonly PoleDto[]): PoleBrief[] {
   return out;
 }
 
+function dominant(d: DominantMode): DominantMode {
+  const out: DominantMode = { zeta: roundTo(d.zeta, 3), wn: roundSig(d.wn, 4), timeConstant: roundSig(d.timeConstant, 4) };
+  const re = roundTo(d.re, DEC);
+  const im = roundTo(d.im, DEC);
+  if (re !== null && im !== null) Object.assign(out, { re, im });
+  return out;
+}
+
+/** The oscillating mode without its uncertainty; its angle to 1e-4 rad (sets the gauge levels). */
+function oscillation(m: OscillatingMode): OscillatingMode | null {
+  const v = { re: roundTo(m.re, DEC), im: roundTo(m.im, DEC), radius: roundTo(m.radius, DEC), angle: roundTo(m.angle, DEC), decayRatio: roundTo(m.decayRatio, DEC), zeta: roundTo(m.zeta, 3), periodS: roundSig(m.periodS, 4) };
+  for (const x of Object.values(v)) if (x === null) return null;
+  return v as OscillatingMode;
+}
+
 export function toLoopBrief(s: LoopStateDto): LoopStateBrief {
   return {
     loopId: s.loopId,
@@ -60,10 +76,12 @@ export function toLoopBrief(s: LoopStateDto): LoopStateBrief {
     rimDistance: roundTo(s.rimDistance, DEC),
     decayRatio: roundTo(s.decayRatio, DEC),
     juryStable: s.juryStable,
-    dominant: s.dominant ? { zeta: roundTo(s.dominant.zeta, 3), wn: roundSig(s.dominant.wn, 4), timeConstant: roundSig(s.dominant.timeConstant, 4) } : null,
+    dominant: s.dominant ? dominant(s.dominant) : null,
     gainHeadroom: roundSig(s.gainHeadroom, 4),
     modelPoles: poles(s.modelPoles),
     dataPoles: poles(s.dataPoles),
     dataPolesKind: s.dataPolesKind,
+    polesFrom: s.polesFrom ?? null,
+    oscillation: s.oscillation ? oscillation(s.oscillation) : null,
   };
 }

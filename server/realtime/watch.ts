@@ -1,11 +1,11 @@
 /**
- * `loop:watch` / `loop:unwatch` (ARCHITECTURE.md §8): a socket joins a loop's room only when the
+ * `loop:watch` / `loop:unwatch` (docs/architecture.md §8): a socket joins a loop's room only when the
  * loop belongs to the socket's tenant (socket.data.tenantId, set by the handshake); otherwise it
  * gets `{ ok: false, error }` with the same words as for a loop that does not exist.
  */
-import { loopRoom, type WatchReply } from "@/lib/realtime/events";
+import { loopRoom, type WatchReply } from "@/lib/domain/events";
 import type { Socket } from "socket.io";
-import type { ClientToServerEvents, InterServerEvents, ServerToClientEvents, SocketData } from "@/lib/realtime/events";
+import type { ClientToServerEvents, InterServerEvents, ServerToClientEvents, SocketData } from "@/lib/domain/events";
 import type { RimguardIo } from "@/server/context";
 
 type RgSocket = Socket<ClientToServerEvents, ServerToClientEvents, InterServerEvents, SocketData>;

@@ -1,5 +1,5 @@
 /**
- * One loop's tracker (ARCHITECTURE.md §4): telemetry in, a `LoopStateDto` out.
+ * One loop's tracker (docs/architecture.md §4): telemetry in, a `LoopStateDto` out.
  *
  * Per telemetry sample: PV, SP and MV are scaled to % of their spans (the units of the
  * controller's %/% gains), clipped to ±10,000 % so hostile-but-valid numbers cannot overflow the
@@ -7,9 +7,8 @@
  * telemetry period: block averaging is the anti-alias filter). Per estimation sample:
  * 1. plant model MV -> PV: `InstrumentalArxEstimator` (lib/control/riv.ts; na, nb, nk from the
  *    loop's configuration, and a second one with na - 1): closed-loop instrumental variables with
- *    set-point instruments, then auxiliary-model instruments from the loop's own controller.
- *    Least squares (RLS/ARX) was biased by PV noise in closed loop (a lightly damped plant read
- *    as well damped, gains collapsing between set-point moves). It learns only from informative
+ *    set-point instruments, then auxiliary-model instruments from the loop's own controller
+ *    (least squares is biased by PV noise in closed loop: docs/domain.md §3). It learns only from informative
  *    samples (a set-point move, or an operator's MV move in manual), so the estimate is held,
  *    not drifted, while nothing excites it; it pauses while the MV is pinned at a limit or the
  *    PV is flat-lined. The structure with a pole fewer is reported when the configured one has
@@ -20,10 +19,8 @@
  *    filter applied to input and output leaves the ARX relation intact (prefiltering, Ljung,
  *    *System Identification*, 2nd ed., 1999, sec. 14.1). It removes the level AND slow load
  *    drift, which enters the equation error as strongly coloured noise and biases a closed-loop
- *    ARX estimate (seen in the truth tests as a gain estimated 20-30 % low with a tracked mean),
- *    without the high-frequency noise gain of a pure difference (which biased the a-coefficients
- *    there). The pole 0.9 (per estimation sample) keeps the band of the dominant modes
- *    (wn Te about 0.1-0.6) and was chosen by those tests;
+ *    ARX estimate, without the high-frequency noise gain of a pure difference. The pole 0.9 (per
+ *    estimation sample) keeps the band of the dominant modes (wn Te about 0.1-0.6);
  * 2. closed-loop poles two ways:
  *    - model-based: `closedLoopPolynomial(plant model, controller)`. The controller is the loop's
  *      configured PI/PID through `discretePid` AT THE ESTIMATION PERIOD Te. When Te equals the
@@ -38,15 +35,16 @@
  *      most 8) by RLS without gating. While the set point has not moved within the estimator's
  *      memory its regressors in SP are empty and it is an AR model of the PV: the
  *      disturbance-response poles, biased by the disturbance's own dynamics, labelled so.
- * 3. radius, rim distance, the decay ratio of the dominant oscillating mode (the complex pair
- *    of largest radius), Jury verdict,
- *    dominant pole's zeta / wn / tau, gain headroom, radius confidence (delta method), crossing
- *    forecast of the radius over a window far longer than the estimator's memory.
+ * 3. the loop's assessment (lib/domain/assessment.ts, from the model-based poles): radius, rim
+ *    distance, the decay ratio of the slowest-decaying oscillating mode, Jury verdict, dominant
+ *    pole's zeta / wn / tau, gain headroom, radius confidence (delta method), and the rim
+ *    forecast: the decay-ratio trend to the loop's alarm level and the radius trend to 1, over
+ *    windows far longer than the estimator's memory.
  * A full state is computed at most once per second of telemetry time (and on state changes).
  * `stale`: no message for 3 delivery periods (the telemetry period times the samples per
  * message, so a batching gateway does not flap), or a PV repeated exactly for 30 s, or a run of
  * bad-quality samples (a sensor fault).
- * Sample quality (lib/sample-quality.ts): a bad or uncertain sample (fault code, out of range,
+ * Sample quality (lib/domain/sample-quality.ts): a bad or uncertain sample (fault code, out of range,
  * the gateway's word) never reaches an estimator or a statistic. It stands in the decimation
  * block as the last good value (so the estimation clock keeps its period) and the estimation
  * samples whose regressors hold it update nothing. The tracker counts quality over a recent window
@@ -65,10 +63,13 @@ import { polyMul, qToZ, stripLeadingZeros } from "@/lib/control/poly";
 import { ArxPredictor, ResidualScreen, type ResidualScreenState } from "@/lib/control/robust";
 import { polyRoots } from "@/lib/control/roots";
 import { polyRootsWithBounds, rimVerdict } from "@/lib/control/root-bounds";
+import { DEFAULT_POLICY } from "@/lib/domain/alarms/policy";
+import { NON_TRACKING } from "@/lib/domain/alarms/conditions";
+import { assessPoles, effectivePoles, effectivePolesSource, type Crossing } from "@/lib/domain/assessment";
+import { FigureTrend } from "@/lib/domain/trend";
 import type { ArxModel, Complex, QTf } from "@/lib/control/types";
-import { decayRatio, poleCharacteristics } from "@/lib/control/zplane";
-import { judgeSampleQuality, valueUsable } from "@/lib/sample-quality";
-import type { LoopMode, LoopStateDto, PoleDto, SampleDto, TrackerState } from "@/lib/types";
+import { judgeSampleQuality, valueUsable } from "@/lib/domain/sample-quality";
+import type { LoopMode, LoopStateDto, PoleDto, SampleDto, TrackerState } from "@/lib/domain/types";
 import type { Clock } from "../context";
 import { QualityWindow } from "./quality-window";
 import type { LoopConfig } from "./types";
@@ -97,6 +98,11 @@ export interface LoopTrackerOptions {
   /** Length of the (t, radius) history for the crossing forecast, seconds; default the larger
    * of 3600 and 20 estimator memories. The history keeps at most one point per window/720. */
   forecastWindowS?: number;
+  /**
+   * The loop's low-priority decay-ratio level (the `rim-forecast` alarm's level), read at every
+   * forecast; default the default policy's.
+   */
+  alarmDecayRatio?: (loopId: number) => number;
   /** Telemetry seconds between full state computations; default 1. */
   stateEveryS?: number;
   /** A PV repeated exactly for this many seconds of samples counts as flat-lined; default 30 (at least 20 samples). */
@@ -176,6 +182,8 @@ export class LoopTracker {
   private readonly forecastWindowS: number;
   private readonly forecastPointEveryS: number;
   private cachedForecast: LoopStateDto["forecast"] = null;
+  private readonly decayTrend: FigureTrend;
+  private readonly alarmDecayRatio: (loopId: number) => number;
   private cachedHeadroom: { value: number | null; at: number } = { value: null, at: -Infinity };
   private readonly stateEvery: number;
   private readonly flatLimit: number;
@@ -276,6 +284,9 @@ export class LoopTracker {
     this.memory = 1 / (1 - lambda);
     this.forecastWindowS = options.forecastWindowS ?? Math.max(3600, 20 * this.memory * this.estimationPeriodS);
     this.forecastPointEveryS = Math.max(this.estimationPeriodS, this.forecastWindowS / 720);
+    const memoryS = this.memory * this.estimationPeriodS;
+    this.decayTrend = new FigureTrend({ memoryS, windowS: Math.max(7200, 20 * memoryS) });
+    this.alarmDecayRatio = options.alarmDecayRatio ?? (() => DEFAULT_POLICY.decayRatio.low);
     // informative samples before the plant model is reported: about two set-point moves' worth on
     // a fast loop (a move of a few % gives 60-80; one move alone left closed-loop radii above 1 on
     // healthy demo loops), capped at 8 minutes of estimation samples on a slow one (a sample
@@ -785,11 +796,19 @@ export class LoopTracker {
     if (this.plantReady()) {
       if (this.lastGood) this.modelBased(st, this.lastGood.model, this.lastGood.cov);
     }
+    const poles = effectivePoles(st);
+    // the figures come from the model-based poles only: data-only poles alone (while the plant is
+    // learnt) do not make a radius; they still decide "undecided near the rim" and the map
+    st.polesFrom = st.modelPoles.length > 0 ? effectivePolesSource(st) : null;
+    Object.assign(st, assessPoles(st.modelPoles, this.estimationPeriodS));
     // a root whose conditioning bound straddles |z| = 1: no Jury verdict either way ("undecided near the rim")
-    st.rimUndecided = rimVerdict(st.modelPoles.length > 0 ? st.modelPoles : st.dataPoles) === "undecided";
+    st.rimUndecided = rimVerdict(poles) === "undecided";
     if (st.rimUndecided) st.juryStable = null;
+    const t = sampleT / 1000;
+    // the decay-ratio trend only while the alarms may act on the estimate (they reset it otherwise)
+    if (NON_TRACKING.has(kind.state)) this.decayTrend.reset();
+    else this.decayTrend.push(t, st.decayRatio);
     if (st.spectralRadius !== null && (kind.state === "tracking" || kind.state === "low-excitation")) {
-      const t = sampleT / 1000;
       const last = this.radiusHistory[this.radiusHistory.length - 1];
       if (!last || t >= last.t + this.forecastPointEveryS) {
         this.radiusHistory.push({ t, value: st.spectralRadius });
@@ -797,11 +816,18 @@ export class LoopTracker {
         let drop = 0;
         while (drop < this.radiusHistory.length && this.radiusHistory[drop]!.t < cutoff) drop++;
         if (drop > 0) this.radiusHistory.splice(0, drop);
-        this.cachedForecast = this.forecast();
+        this.cachedForecast = { alarmLevel: null, radiusOne: this.forecastRadiusOne() };
       }
       st.forecast = this.cachedForecast;
     } else {
       this.cachedForecast = null;
+    }
+    const level = this.alarmDecayRatio(this.config.id);
+    const toLevel = NON_TRACKING.has(kind.state) ? null : this.decayTrend.crossing(level, t);
+    if (toLevel || st.forecast) {
+      const alarmLevel = toLevel ? { at: Math.round(toLevel.at * 1000), low: Math.round(toLevel.low * 1000), high: Math.round(toLevel.high * 1000), decayRatio: level } : null;
+      st.forecast = { radiusOne: st.forecast?.radiusOne ?? null, alarmLevel };
+      if (!st.forecast.radiusOne && !alarmLevel) st.forecast = null;
     }
     this.state = st;
   }
@@ -840,27 +866,7 @@ export class LoopTracker {
       st.characteristic = char.every(Number.isFinite) ? char : null;
       const bounded = polyRootsWithBounds(char, { roots });
       st.modelPoles = roots.map((z, i) => toPoleDto(z, conf?.[i], bounded[i]?.bound));
-      let rho = 0;
-      let dom = 0;
-      roots.forEach((z, i) => {
-        const r = modulus(z);
-        if (r > rho) {
-          rho = r;
-          dom = i;
-        }
-      });
-      st.spectralRadius = finite(rho);
-      st.rimDistance = finite(1 - rho);
-      st.radiusSd = finite(conf?.[dom]?.radiusStd);
-      // the dominant oscillating mode is the complex pair of largest radius (slowest to die out);
-      // a fast, well-decaying high-frequency pair (e.g. from dead-time poles) can show a larger
-      // per-cycle ratio while it is gone within a few samples, so it does not set the figure
-      let osc: Complex | null = null;
-      for (const z of roots) if (z.im > 0 && (osc === null || modulus(z) > modulus(osc))) osc = z;
-      st.decayRatio = osc ? finite(decayRatio(osc)) : null;
       st.juryStable = juryTest(char).stable;
-      const pc = poleCharacteristics(roots[dom]!, this.estimationPeriodS);
-      st.dominant = { zeta: finite(pc.zeta), wn: finite(pc.wn), timeConstant: finite(pc.timeConstant) };
       // the headroom search costs as much as the rest together: refreshed every 5 states
       if (this.estimationSamples - this.cachedHeadroom.at >= 5 * this.stateEvery) {
         this.cachedHeadroom = { value: finite(gainHeadroom(model, this.controller)), at: this.estimationSamples };
@@ -871,15 +877,15 @@ export class LoopTracker {
     } catch {
       // a degenerate model (e.g. all-zero b): keep the state without model-based figures
       st.modelPoles = [];
-      st.spectralRadius = st.rimDistance = st.decayRatio = st.radiusSd = st.gainHeadroom = null;
+      st.gainHeadroom = null;
       st.juryStable = null;
-      st.dominant = null;
       st.characteristic = null;
       st.zeros = [];
     }
   }
 
-  private forecast(): LoopStateDto["forecast"] {
+  /** When the spectral-radius trend reaches the unit circle. */
+  private forecastRadiusOne(): Crossing | null {
     try {
       const f = forecastCrossing(this.radiusHistory, 1, { memory: this.memory * this.estimationPeriodS });
       if (!f || !Number.isFinite(f.at) || !Number.isFinite(f.low) || !Number.isFinite(f.high)) return null;

@@ -4,8 +4,8 @@
  * bounded, totals since the tracker started, and the last bad sample. A sensor-fault finding reads
  * the share and the time of the last bad sample from here.
  */
-import type { QualityReason } from "@/lib/sample-quality";
-import type { SampleQualityDto } from "@/lib/types";
+import type { QualityReason } from "@/lib/domain/sample-quality";
+import type { SampleQualityDto } from "@/lib/domain/types";
 
 const GOOD = 0;
 const BAD = 1;

@@ -3,7 +3,7 @@
  * new estimate or tracker-state change, staleness by `tick(now)` (the host calls it, or
  * `startTimer` runs it on the injectable clock), checkpoints out and back in.
  */
-import type { LoopStateDto, SampleDto } from "@/lib/types";
+import type { LoopStateDto, SampleDto } from "@/lib/domain/types";
 import type { Bus, Clock } from "../context";
 import { LoopTracker, type LoopTrackerOptions, type TrackerCheckpoint } from "./loop-tracker";
 import type { LoopConfig } from "./types";

@@ -3,6 +3,8 @@
  * in the units the tracker works in. The pipeline maps database rows to this shape (see
  * `controllerTuningFromRow` for the tuning units).
  */
+import { tuningSeconds } from "@/lib/domain/tuning";
+
 export interface ControllerTuning {
   /** Proportional gain, % MV per % PV (> 0; `action` gives the sign). */
   kp: number;
@@ -49,7 +51,7 @@ export interface LoopConfig {
 /**
  * Tuning in the product's units from the loops table's columns: gain as gain (%/%) or
  * proportional band (PB % = 100 / gain), integral time in s, min or repeats per minute,
- * derivative time in s or min. Throws RangeError on a value that cannot be a tuning.
+ * derivative time in s or min (lib/domain/tuning.ts). Throws RangeError on a value that cannot be a tuning.
  */
 export function controllerTuningFromRow(row: {
   gainKind: "gain" | "pb";
@@ -59,16 +61,10 @@ export function controllerTuningFromRow(row: {
   tdValue: number | null;
   tdUnits: "s" | "min";
   tfS?: number | null;
+  derivativeAlpha?: number | null;
   action: "reverse" | "direct";
   form: "ideal" | "parallel" | "series";
 }): ControllerTuning {
   if (!(row.gainValue > 0) || !Number.isFinite(row.gainValue)) throw new RangeError(`controller gain must be > 0, got ${row.gainValue}`);
-  const kp = row.gainKind === "pb" ? 100 / row.gainValue : row.gainValue;
-  let ti: number | null = null;
-  if (row.tiValue !== null && row.tiValue > 0 && Number.isFinite(row.tiValue)) {
-    ti = row.tiUnits === "s" ? row.tiValue : row.tiUnits === "min" ? row.tiValue * 60 : 60 / row.tiValue;
-  }
-  const td = row.tdValue !== null && row.tdValue > 0 && Number.isFinite(row.tdValue) ? (row.tdUnits === "min" ? row.tdValue * 60 : row.tdValue) : 0;
-  const tf = row.tfS !== null && row.tfS !== undefined && row.tfS > 0 ? row.tfS : 0;
-  return { kp, ti, td, tf, action: row.action, form: row.form };
+  return tuningSeconds({ ...row, tfS: row.tfS ?? null, derivativeAlpha: row.derivativeAlpha ?? null });
 }

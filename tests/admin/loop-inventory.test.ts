@@ -10,14 +10,14 @@ import { execFileSync } from "node:child_process";
 import { QueryTypes } from "sequelize";
 import { afterAll, beforeAll, describe, expect, it, vi } from "vitest";
 import { publicOrigin } from "@/lib/config";
-import type { TenantContext } from "@/lib/types";
+import type { TenantContext } from "@/lib/domain/types";
 import { createAuthFixture, type AuthFixture } from "../auth/fixture";
 import { createTestDatabase, type TestDatabase } from "../setup/db";
 
 let current: TenantContext | null = null;
 vi.mock("@/lib/auth/guard", () => ({
   requireContext: async () => {
-    if (!current) throw new (await import("@/lib/errors")).UnauthenticatedError();
+    if (!current) throw new (await import("@/lib/domain/errors")).UnauthenticatedError();
     return current;
   },
 }));

@@ -7,9 +7,9 @@
 import { QueryTypes } from "sequelize";
 import { afterAll, beforeAll, describe, expect, it, vi } from "vitest";
 import { publicOrigin } from "@/lib/config";
-import { ForbiddenError } from "@/lib/errors";
+import { ForbiddenError } from "@/lib/domain/errors";
 import { setServerContext } from "@/lib/server-context";
-import { roleAtLeast, type Role, type TenantContext } from "@/lib/types";
+import { roleAtLeast, type Role, type TenantContext } from "@/lib/domain/types";
 import { AlarmService } from "@/server/alarms/service";
 import { startMail, type MailService } from "@/server/mail";
 import { createTestDatabase, type TestDatabase } from "../setup/db";
@@ -27,7 +27,7 @@ import {
 let current: TenantContext | null = null;
 vi.mock("@/lib/auth/guard", () => ({
   requireContext: async (min: Role = "viewer") => {
-    if (!current) throw new (await import("@/lib/errors")).UnauthenticatedError();
+    if (!current) throw new (await import("@/lib/domain/errors")).UnauthenticatedError();
     if (!roleAtLeast(current.role, min)) throw new ForbiddenError(`needs ${min}`);
     return current;
   },

@@ -5,7 +5,6 @@
 import { complex, exp, type Complex as MComplex } from "mathjs";
 import { describe, expect, it } from "vitest";
 import {
-  dominantOscillatingMode,
   evaluateConditions,
   newConditionMemory,
   slowestRealTimeConstant,
@@ -13,10 +12,11 @@ import {
   stepLevel,
   idleFilter,
   type ConditionMemory,
-} from "@/lib/alarms/conditions";
+} from "@/lib/domain/alarms/conditions";
 import { polyRootsWithBounds } from "@/lib/control/root-bounds";
-import { DEFAULT_POLICY, resolvePolicy, type EffectivePolicy } from "@/lib/alarms/policy";
-import type { LoopStateDto, PoleDto, TrackerState } from "@/lib/types";
+import { assessPoles, slowestOscillatingMode } from "@/lib/domain/assessment";
+import { DEFAULT_POLICY, resolvePolicy, type EffectivePolicy } from "@/lib/domain/alarms/policy";
+import type { LoopStateDto, PoleDto, TrackerState } from "@/lib/domain/types";
 
 const T0 = Date.UTC(2026, 0, 5, 8, 0, 0);
 
@@ -29,8 +29,10 @@ function pairWithDecay(d: number, theta = Math.PI / 4): PoleDto[] {
   return [pole(r * Math.cos(theta), r * Math.sin(theta)), pole(r * Math.cos(theta), -r * Math.sin(theta))];
 }
 
+/** A tracker state with these model poles, its figures from the one assessment (lib/domain/assessment.ts). */
 function state(poles: PoleDto[], over: Partial<LoopStateDto> = {}): LoopStateDto {
   const sr = poles.length ? Math.max(...poles.map((p) => p.radius)) : null;
+  const figures = assessPoles(poles, over.estimationPeriodS ?? 1);
   return {
     loopId: 7,
     tenantId: 1,
@@ -42,13 +44,8 @@ function state(poles: PoleDto[], over: Partial<LoopStateDto> = {}): LoopStateDto
     samples: 1000,
     excitation: 1,
     fitPercent: 90,
-    spectralRadius: sr,
-    rimDistance: sr == null ? null : 1 - sr,
-    decayRatio: null,
     juryStable: sr == null ? null : sr < 1,
-    dominant: null,
     gainHeadroom: null,
-    radiusSd: null,
     forecast: null,
     modelPoles: poles,
     dataPoles: [],
@@ -57,6 +54,8 @@ function state(poles: PoleDto[], over: Partial<LoopStateDto> = {}): LoopStateDto
     characteristic: null,
     delaySamples: null,
     last: null,
+    ...figures,
+    polesFrom: poles.length ? "model" : null,
     ...over,
   };
 }
@@ -128,7 +127,7 @@ describe("deadband and on/off delays", () => {
 
 describe("margin levels are period-invariant", () => {
   // Continuous mode ζ = 0.15, ωn = 0.1 rad/s; decay ratio exp(-2πζ/√(1-ζ²)) = 0.3854
-  // (DOMAIN.md §1; Franklin, Powell & Workman, ch. 4). z = exp(sT) computed with mathjs.
+  // (docs/domain.md §1; Franklin, Powell & Workman, ch. 4). z = exp(sT) computed with mathjs.
   const zeta = 0.15;
   const wn = 0.1;
   const expectedDecay = Math.exp((-2 * Math.PI * zeta) / Math.sqrt(1 - zeta * zeta));
@@ -136,7 +135,7 @@ describe("margin levels are period-invariant", () => {
     it(`at T = ${T} s the same mode has decay ratio ${expectedDecay.toFixed(4)} and raises a low margin alarm`, () => {
       const z = exp(complex(-zeta * wn * T, wn * Math.sqrt(1 - zeta * zeta) * T)) as MComplex;
       const poles = [pole(z.re, z.im), pole(z.re, -z.im), pole(0.2, 0)];
-      const mode = dominantOscillatingMode(poles, T)!;
+      const mode = slowestOscillatingMode(poles, T)!;
       expect(mode.decayRatio).toBeCloseTo(expectedDecay, 10);
       expect(mode.zeta).toBeCloseTo(zeta, 10);
       expect(mode.periodS).toBeCloseTo((2 * Math.PI) / (wn * Math.sqrt(1 - zeta * zeta)), 8);

@@ -1,11 +1,12 @@
 /** Shared pieces of the alarm tests: a fake clock, a server context, fixtures, loop states. */
+import { assessPoles } from "@/lib/domain/assessment";
 import fs from "node:fs";
 import os from "node:os";
 import path from "node:path";
 import type { Sequelize } from "sequelize";
 import { afterAll } from "vitest";
 import { getConfig } from "@/lib/config";
-import type { LoopStateDto, PoleDto, Role, TenantContext } from "@/lib/types";
+import type { LoopStateDto, PoleDto, Role, TenantContext } from "@/lib/domain/types";
 import { Bus, type Clock, type ServerContext } from "@/server/context";
 import type { Models } from "@/models";
 
@@ -126,8 +127,10 @@ export function polesWithDecay(d: number, theta = Math.PI / 4): PoleDto[] {
   return [pole(r * Math.cos(theta), r * Math.sin(theta)), pole(r * Math.cos(theta), -r * Math.sin(theta)), pole(0.2, 0)];
 }
 
+/** A tracker state with these model poles, its figures from the one assessment (lib/domain/assessment.ts). */
 export function loopState(loopId: number, tenantId: number, at: number, poles: PoleDto[], over: Partial<LoopStateDto> = {}): LoopStateDto {
   const sr = Math.max(...poles.map((p) => p.radius));
+  const figures = assessPoles(poles, over.estimationPeriodS ?? 1);
   return {
     loopId,
     tenantId,
@@ -139,13 +142,8 @@ export function loopState(loopId: number, tenantId: number, at: number, poles: P
     samples: 5000,
     excitation: 1,
     fitPercent: 92,
-    spectralRadius: sr,
-    rimDistance: 1 - sr,
-    decayRatio: null,
     juryStable: sr < 1,
-    dominant: null,
     gainHeadroom: null,
-    radiusSd: null,
     forecast: null,
     modelPoles: poles,
     dataPoles: [],
@@ -154,6 +152,8 @@ export function loopState(loopId: number, tenantId: number, at: number, poles: P
     characteristic: null,
     delaySamples: null,
     last: null,
+    ...figures,
+    polesFrom: "model",
     ...over,
   };
 }

@@ -1,6 +1,6 @@
 /**
  * MariaDB stopped while alarms change, are acknowledged and shelved, then started again: nothing
- * is lost and the order is kept. Uses a dedicated MariaDB (lib/db/mariadb-server.ts) because the
+ * is lost and the order is kept. Uses a dedicated MariaDB (scripts/mariadb-server.ts) because the
  * run's shared test server must not be stopped. The last part goes through the real route
  * handlers and session guard (a session cookie made with next-auth's own encoder): operators act
  * on their last-known membership, everything else answers 503 without internal addresses.
@@ -15,9 +15,9 @@ import { afterAll, beforeAll, describe, expect, it, vi } from "vitest";
 import { getConfig } from "@/lib/config";
 import { setSharedDb } from "@/lib/db/sequelize";
 import { setServerContext } from "@/lib/server-context";
-import type { Role, TenantContext } from "@/lib/types";
+import type { Role, TenantContext } from "@/lib/domain/types";
 import { createDatabaseGate } from "@/server/db-gate";
-import { ensureMariaDb, freePort, type MariaDbHandle } from "@/lib/db/mariadb-server";
+import { ensureMariaDb, freePort, type MariaDbHandle } from "@/scripts/mariadb-server";
 import { migrateUp } from "@/lib/db/migrate";
 import { createSequelize } from "@/lib/db/sequelize";
 import { initModels, type Models } from "@/models";

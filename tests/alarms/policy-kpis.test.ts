@@ -7,9 +7,9 @@ import {
   parsePolicyOverride,
   policyEquivalents,
   resolvePolicy,
-} from "@/lib/alarms/policy";
-import { computeAlarmKpis, type OccurrenceRecord } from "@/lib/alarms/kpis";
-import { ValidationError } from "@/lib/errors";
+} from "@/lib/domain/alarms/policy";
+import { computeAlarmKpis, type OccurrenceRecord } from "@/lib/domain/alarms/kpis";
+import { ValidationError } from "@/lib/domain/errors";
 
 describe("policy precedence: loop > site > tenant > defaults", () => {
   it("merges field by field", () => {
@@ -40,7 +40,7 @@ describe("policy precedence: loop > site > tenant > defaults", () => {
 });
 
 describe("period equivalents", () => {
-  it("quarter-amplitude decay (0.25) is ζ ≈ 0.215 (common practice; DOMAIN.md §1)", () => {
+  it("quarter-amplitude decay (0.25) is ζ ≈ 0.215 (common practice; docs/domain.md §1)", () => {
     expect(dampingFromDecayRatio(0.25)).toBeCloseTo(0.2155, 3);
     expect(decayRatioFromDamping(dampingFromDecayRatio(0.25))).toBeCloseTo(0.25, 12);
   });

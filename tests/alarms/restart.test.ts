@@ -8,7 +8,7 @@
  */
 import { QueryTypes } from "sequelize";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import type { AlarmDto, LoopStateDto } from "@/lib/types";
+import type { AlarmDto, LoopStateDto } from "@/lib/domain/types";
 import { AlarmService } from "@/server/alarms/service";
 import { createTestDatabase, type TestDatabase } from "../setup/db";
 import { createFixture, FakeClock, loopState, pole, polesWithDecay, setTenantPolicy, tempJournal, testContext, type Fixture } from "./helpers";

@@ -7,7 +7,7 @@
 import path from "node:path";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { DEMO_LOOPS, DEMO_PLANTS, DEMO_TENANT_POLICY } from "@/lib/seed/demo";
-import type { AlarmDto } from "@/lib/types";
+import type { AlarmDto } from "@/lib/domain/types";
 import { AlarmService } from "@/server/alarms/service";
 import { TrackerRegistry } from "@/server/tracking/registry";
 import type { LoopConfig } from "@/server/tracking/types";

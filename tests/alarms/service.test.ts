@@ -6,9 +6,9 @@
 import fs from "node:fs";
 import { QueryTypes } from "sequelize";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import { ForbiddenError, NotFoundError, ValidationError } from "@/lib/errors";
-import { IllegalTransitionError } from "@/lib/alarms/state-machine";
-import type { AlarmDto } from "@/lib/types";
+import { ForbiddenError, NotFoundError, ValidationError } from "@/lib/domain/errors";
+import { IllegalTransitionError } from "@/lib/domain/alarms/state-machine";
+import type { AlarmDto } from "@/lib/domain/types";
 import { AlarmService } from "@/server/alarms/service";
 import { startMail, type MailService } from "@/server/mail";
 import { createTestDatabase, type TestDatabase } from "../setup/db";

@@ -13,9 +13,9 @@ import {
   type AlarmAction,
   type AlarmActionKind,
   type AlarmPoint,
-} from "@/lib/alarms/state-machine";
-import { ConflictError, ValidationError } from "@/lib/errors";
-import type { AlarmState } from "@/lib/types";
+} from "@/lib/domain/alarms/state-machine";
+import { ConflictError, ValidationError } from "@/lib/domain/errors";
+import type { AlarmState } from "@/lib/domain/types";
 
 const T0 = Date.UTC(2026, 0, 5, 8, 0, 0);
 

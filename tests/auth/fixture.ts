@@ -5,7 +5,7 @@
  */
 import bcrypt from "bcryptjs";
 import type { Models } from "@/models";
-import { ROLES, type Role } from "@/lib/types";
+import { ROLES, type Role } from "@/lib/domain/types";
 
 export const FIXTURE_PASSWORD = "fixture-pass-7319";
 

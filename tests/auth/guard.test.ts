@@ -1,7 +1,7 @@
 /**
  * The role guard over every protected route (tests/auth/route-matrix.ts) for every role and
  * signed out, tenant isolation (another tenant's ids are 404), and withdrawal of a membership.
- * Role order viewer < operator < engineer < admin is ARCHITECTURE.md §7.
+ * Role order viewer < operator < engineer < admin is docs/architecture.md §7.
  */
 import fs from "node:fs";
 import bcrypt from "bcryptjs";
@@ -9,7 +9,7 @@ import path from "node:path";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { notifyUserChanged } from "@/lib/server-context";
 import { CONTEXT_TTL_MS } from "@/lib/auth/context-cache";
-import { ROLES, roleAtLeast, type Role } from "@/lib/types";
+import { ROLES, roleAtLeast, type Role } from "@/lib/domain/types";
 import { REPO_ROOT } from "@/server/index";
 import { startTestServer, type TestServer } from "../setup/server";
 import { createAuthFixture, FIXTURE_PASSWORD, type AuthFixture, type FixtureTenant } from "./fixture";

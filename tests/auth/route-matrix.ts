@@ -1,5 +1,5 @@
 /**
- * THE table of protected routes and the lowest role each one admits (ARCHITECTURE.md §7).
+ * THE table of protected routes and the lowest role each one admits (docs/architecture.md §7).
  * Helpers who add a route add a row here; tests/auth/guard.test.ts checks every row for every
  * role, signed out, and (for rows with an id of the caller's tenant) against another tenant's id.
  *
@@ -12,7 +12,7 @@
  * fixture that lacks data or a body that does not fit is fine: the guard let the call through).
  * Set `admitted` to pin exact statuses when they are known.
  */
-import type { Role } from "@/lib/types";
+import type { Role } from "@/lib/domain/types";
 
 export type Method = "GET" | "POST" | "PUT" | "PATCH" | "DELETE";
 

@@ -9,9 +9,9 @@
  */
 import { QueryTypes } from "sequelize";
 import { io as connect, type Socket } from "socket.io-client";
-import { siteRoom, tenantRoom, type ClientToServerEvents, type ServerToClientEvents } from "@/lib/realtime/events";
+import { siteRoom, tenantRoom, type ClientToServerEvents, type ServerToClientEvents } from "@/lib/domain/events";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import { ROLES, roleAtLeast, type Role } from "@/lib/types";
+import { ROLES, roleAtLeast, type Role } from "@/lib/domain/types";
 import fs from "node:fs";
 import path from "node:path";
 import { REPO_ROOT } from "@/server/index";

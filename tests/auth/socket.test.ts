@@ -1,5 +1,5 @@
 /**
- * The Socket.IO handshake (ARCHITECTURE.md §8): refused without a session, with a forged one, or
+ * The Socket.IO handshake (docs/architecture.md §8): refused without a session, with a forged one, or
  * from a foreign Origin; accepted with a valid session from the console's origin, in its tenant's
  * room only; closed (after `session:ended`) when the membership is revoked, the user signs out,
  * or the session switches tenant.
@@ -7,7 +7,7 @@
 import bcrypt from "bcryptjs";
 import { io as connect, type Socket } from "socket.io-client";
 import { afterAll, afterEach, beforeAll, describe, expect, it } from "vitest";
-import { tenantRoom, type ClientToServerEvents, type ServerToClientEvents } from "@/lib/realtime/events";
+import { tenantRoom, type ClientToServerEvents, type ServerToClientEvents } from "@/lib/domain/events";
 import { notifyUserChanged } from "@/lib/server-context";
 import { startTestServer, type TestServer } from "../setup/server";
 import { createAuthFixture, FIXTURE_PASSWORD, type AuthFixture } from "./fixture";

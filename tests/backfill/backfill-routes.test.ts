@@ -7,7 +7,7 @@
 import { afterAll, beforeAll, describe, expect, it, vi } from "vitest";
 import { publicOrigin } from "@/lib/config";
 import { setServerContext } from "@/lib/server-context";
-import type { TenantContext } from "@/lib/types";
+import type { TenantContext } from "@/lib/domain/types";
 import { Bus, type ServerContext, type Service } from "@/server/context";
 import { BackfillHost } from "@/server/backfill/host";
 import { HistoryWriter } from "@/server/history/writer";
@@ -20,7 +20,7 @@ import { createTestDatabase, type TestDatabase } from "../setup/db";
 let current: TenantContext | null = null;
 vi.mock("@/lib/auth/guard", () => ({
   requireContext: async () => {
-    if (!current) throw new (await import("@/lib/errors")).UnauthenticatedError();
+    if (!current) throw new (await import("@/lib/domain/errors")).UnauthenticatedError();
     return current;
   },
 }));

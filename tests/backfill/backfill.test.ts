@@ -16,7 +16,7 @@ import { Bus, type Clock } from "@/server/context";
 import { BackfillHost } from "@/server/backfill/host";
 import type { BackfillProgress } from "@/server/backfill/job";
 import { listPartitions, maintainHistoryPartitions, partitionName, DAY_MS } from "@/lib/db/partitions";
-import type { SampleDto } from "@/lib/types";
+import type { SampleDto } from "@/lib/domain/types";
 import { createPipelineFixture, PiLoop, type PipelineTenant } from "../pipeline/fixture";
 import { createTestDatabase, type TestDatabase } from "../setup/db";
 

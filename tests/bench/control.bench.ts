@@ -4,7 +4,7 @@
  *
  * Every rate is also given as a ratio to BASELINE: a bare typed-array RLS update (n = 4,
  * exponential forgetting) written here and never to be changed, so ratios stay comparable between
- * machines and runs. Target (ARCHITECTURE.md §11 costs): the full tracker step per estimation
+ * machines and runs. Target (docs/architecture.md §11 costs): the full tracker step per estimation
  * update <= 4x the bare RLS update.
  *
  * "Full tracker step" = what server/tracking/loop-tracker.ts computes per estimation update from

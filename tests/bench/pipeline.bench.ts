@@ -316,7 +316,7 @@ async function bare(scenarioFile: string, opts: { loops: number; hz: number; bat
 
 /** A throw-away MariaDB (temporary data directory, free port, stopped with this process) with the schema migrated. */
 async function startBenchDatabase() {
-  const { ensureMariaDb, freePort, rootConnection } = await import("@/lib/db/mariadb-server");
+  const { ensureMariaDb, freePort, rootConnection } = await import("@/scripts/mariadb-server");
   const { createSequelize } = await import("@/lib/db/sequelize");
   const { migrateUp } = await import("@/lib/db/migrate");
   const dbDir = mkdtempSync(path.join(os.tmpdir(), "rg-bdb-"));
@@ -359,8 +359,8 @@ async function pipeline(scenarioFile: string, opts: { loops: number; hz: number;
   const { TrackerRegistry } = await import("@/server/tracking/registry");
   const { startRealtimeEmitter } = await import("@/server/realtime/emitter");
   const { installWatch } = await import("@/server/realtime/watch");
-  const { tenantRoom } = await import("@/lib/realtime/events");
-  const { slugify } = await import("@/lib/slug");
+  const { tenantRoom } = await import("@/lib/domain/events");
+  const { slugify } = await import("@/lib/domain/slug");
   const { cloneTag } = await import("@/simulators/fleet");
   const { startHistory } = await import("@/server/history");
   type Ctx = import("@/server/context").ServerContext;

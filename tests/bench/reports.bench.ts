@@ -19,7 +19,7 @@ const TO = Date.UTC(2026, 10, 30);
 const FROM = TO - 7 * DAY_MS;
 
 async function startBenchDatabase() {
-  const { ensureMariaDb, freePort } = await import("@/lib/db/mariadb-server");
+  const { ensureMariaDb, freePort } = await import("@/scripts/mariadb-server");
   const { createSequelize } = await import("@/lib/db/sequelize");
   const { migrateUp } = await import("@/lib/db/migrate");
   const dbDir = mkdtempSync(path.join(os.tmpdir(), "rg-rbench-"));

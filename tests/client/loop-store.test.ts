@@ -1,6 +1,6 @@
 import { describe, expect, it } from "vitest";
 import { LoopStore, SPARK_POINTS, sparkValues } from "@/lib/client/loop-store";
-import type { LoopStateBrief, LoopStateDto, LoopSummary } from "@/lib/types";
+import type { LoopStateBrief, LoopStateDto, LoopSummary } from "@/lib/domain/types";
 import { toLoopBrief } from "@/server/realtime/summary";
 
 // The browser's loop store merging the API's full states with live summaries (`loop:state`) and

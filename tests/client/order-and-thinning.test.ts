@@ -1,12 +1,12 @@
 /**
- * Browser-side pure functions: worst-first ordering (UI.md "Worst first") and the per-pixel
+ * Browser-side pure functions: worst-first ordering (docs/visual-language.md, Principles, "Worst first") and the per-pixel
  * min/max thinning of trend data. The expected values are computed here by brute force from the
  * definitions, independently of the code under test.
  */
 import { describe, expect, it } from "vitest";
 import { thinAligned } from "@/lib/client/history";
 import { WorstFirstOrder, sortWorstFirst, stableWorstFirst } from "@/lib/client/order";
-import type { AlarmPriority, LoopStateDto, LoopSummary } from "@/lib/types";
+import type { AlarmPriority, LoopStateDto, LoopSummary } from "@/lib/domain/types";
 
 function loop(id: number, tag: string, decayRatio: number | null, radius: number | null, alarm?: AlarmPriority): LoopSummary {
   const state = radius === null ? null : ({ spectralRadius: radius, decayRatio, juryStable: radius < 1, rimDistance: 1 - radius } as unknown as LoopStateDto);

@@ -197,7 +197,7 @@ describe("ArxEstimator", () => {
   });
 
   it("parameterCovariance: sigma^2 P/(1 + lambda) under forgetting and sigma^2 P at lambda = 1 (Monte Carlo, 300 runs)", () => {
-    // Derivation in arx.ts (weighted LS with weights lambda^j); DOMAIN.md §3 asks for this check.
+    // Derivation in arx.ts (weighted LS with weights lambda^j); docs/domain.md §3 asks for this check.
     const aTrue = [-1.5, 0.7];
     const bTrue = [0.5, 0.3];
     const runs = 300;

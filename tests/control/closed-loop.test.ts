@@ -36,7 +36,7 @@ function evalQ(c: QTf, w: number): Complex {
 }
 
 describe("discretePid", () => {
-  it("gives the velocity-form PI of DOMAIN.md sec. 3: N = kp[(1 + T/ti) - q^-1], D = 1 - q^-1", () => {
+  it("gives the velocity-form PI of docs/domain.md §3: N = kp[(1 + T/ti) - q^-1], D = 1 - q^-1", () => {
     const c = discretePid({ kp: 2, ti: 5, T: 1 });
     expect(c.num[0]).toBeCloseTo(2.4, 15);
     expect(c.num[1]).toBeCloseTo(-2, 15);

@@ -133,7 +133,7 @@ describe("poleConfidence (delta method)", () => {
 
 describe("closedLoopCoefficientCovariance", () => {
   const plant: ArxModel = { a: [-1.5, 0.7], b: [0.5, 0.3], nk: 1, T: 2 };
-  // Velocity-form PI (DOMAIN.md §3): N = Kp[(1 + T/Ti) - q^-1], D = 1 - q^-1; Kp = 0.4, Ti = 10 s.
+  // Velocity-form PI (docs/domain.md §3): N = Kp[(1 + T/Ti) - q^-1], D = 1 - q^-1; Kp = 0.4, Ti = 10 s.
   const kp = 0.4;
   const pi: QTf = { num: [kp * (1 + 2 / 10), -kp], den: [1, -1], T: 2 };
 

@@ -20,7 +20,7 @@ const PHI = [
 ];
 const GAMMA = [0.2, 0.05];
 const C = [0, 1];
-// Velocity-form PI, DOMAIN.md §3: N = Kp[(1 + T/Ti) - q^-1], D = 1 - q^-1.
+// Velocity-form PI, docs/domain.md §3: N = Kp[(1 + T/Ti) - q^-1], D = 1 - q^-1.
 const KP = 0.6;
 const TI = 12; // s
 const G = KP * (1 + T / TI);
@@ -148,7 +148,7 @@ describe("closed-loop identification under a velocity-form PI", () => {
   it("the scenario is a stable loop around an oscillatory plant (sanity of the test set-up)", () => {
     expect(truePlant.every((z) => Math.hypot(z.re, z.im) < 1 && Math.abs(z.im) > 0.1)).toBe(true);
     expect(trueClosed.every((z) => Math.hypot(z.re, z.im) < 1)).toBe(true);
-    // discretePid gives the formula's PI (DOMAIN.md §3).
+    // discretePid gives the formula's PI (docs/domain.md §3).
     expect(pi.num[0]).toBeCloseTo(G, 14);
     expect(pi.num[1]).toBeCloseTo(-KP, 14);
     expect(pi.den).toEqual([1, -1]);

@@ -8,7 +8,7 @@
 import { closedLoopPolynomial, discretePid } from "@/lib/control/closed-loop";
 import { polyRoots } from "@/lib/control/roots";
 import type { ArxModel } from "@/lib/control/types";
-import type { LoopStateDto } from "@/lib/types";
+import type { LoopStateDto } from "@/lib/domain/types";
 import { LoopTracker } from "@/server/tracking/loop-tracker";
 import type { LoopConfig } from "@/server/tracking/types";
 import { FakeClock } from "../tracking/helpers";

@@ -88,7 +88,7 @@ describe("poleCharacteristics", () => {
       expect(c.zeta).toBeCloseTo(zeta, 12);
       expect(c.wn).toBeCloseTo(wn, 10);
       expect(c.stable).toBe(true);
-      // decay ratio exp(-2 pi zeta / sqrt(1 - zeta^2)) (DOMAIN.md sec. 1)
+      // decay ratio exp(-2 pi zeta / sqrt(1 - zeta^2)) (docs/domain.md §1)
       expect(c.decayRatio!).toBeCloseTo(Math.exp((-2 * Math.PI * zeta) / Math.sqrt(1 - zeta * zeta)), 12);
       expect(c.continuousEquivalent).toBe(true);
     }
@@ -141,7 +141,7 @@ describe("decayRatio", () => {
     expect(decayRatio(sToZ(sPole(zeta, 1), 0.2))!).toBeCloseTo(0.25, 12);
   });
 
-  it("does not depend on the sample period (DOMAIN.md sec. 1)", () => {
+  it("does not depend on the sample period (docs/domain.md §1)", () => {
     const s = sPole(0.3, 1.5);
     const ratios = [0.05, 0.2, 0.8, 1.5].map((T) => decayRatio(sToZ(s, T))!);
     for (const r of ratios) expect(r).toBeCloseTo(ratios[0]!, 12);

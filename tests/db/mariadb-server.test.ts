@@ -12,7 +12,7 @@ import {
   portInUse,
   stopMariaDb,
   type MariaDbHandle,
-} from "@/lib/db/mariadb-server";
+} from "@/scripts/mariadb-server";
 import { migrateUp } from "@/lib/db/migrate";
 import { createSequelize } from "@/lib/db/sequelize";
 

@@ -1,7 +1,7 @@
 import { execFileSync } from "node:child_process";
 import bcrypt from "bcryptjs";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import { policyOverrideSchema } from "@/lib/alarms/policy";
+import { policyOverrideSchema } from "@/lib/domain/alarms/policy";
 import { c2dZoh, closedLoopPolynomial, discretePid, juryTest, polyRoots, type ContinuousTf } from "@/lib/control";
 import { verifyDeviceSecret } from "@/lib/devices";
 import {
@@ -14,8 +14,8 @@ import {
   seedDemo,
   type DemoPlantModel,
 } from "@/lib/seed";
-import { isSlug } from "@/lib/slug";
-import { ROLES } from "@/lib/types";
+import { isSlug } from "@/lib/domain/slug";
+import { ROLES } from "@/lib/domain/types";
 import { tuningSeconds } from "@/models";
 import { createTestDatabase, type TestDatabase } from "@/tests/setup/db";
 
@@ -101,7 +101,7 @@ describe("the demo seed", () => {
     }
   });
 
-  it("writes a tenant policy per tenant and overrides that lib/alarms/policy accepts", async () => {
+  it("writes a tenant policy per tenant and overrides that lib/domain/alarms/policy accepts", async () => {
     const policies = await db.models.AlarmPolicy.findAll();
     expect(policies.filter((p) => p.scope === "tenant").length).toBe(DEMO_TENANTS.length);
     expect(policies.some((p) => p.scope === "site")).toBe(true);

@@ -1,7 +1,7 @@
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import { NotFoundError } from "@/lib/errors";
+import { NotFoundError } from "@/lib/domain/errors";
 import { assertOwned, findOwned, findOwnedOrThrow, scoped, tenantWhere } from "@/lib/tenancy";
-import type { TenantContext } from "@/lib/types";
+import type { TenantContext } from "@/lib/domain/types";
 import { createTestDatabase, type TestDatabase } from "@/tests/setup/db";
 
 let db: TestDatabase;

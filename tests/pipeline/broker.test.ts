@@ -4,7 +4,7 @@ import { startBroker, StaticCredentials, type BrokerMessage, type BrokerService 
 import { IngestCounters } from "@/server/ingest/counters";
 import { ManualClock, credential, testContext } from "./helpers";
 
-// Broker security against ARCHITECTURE.md §5 and the MQTT 3.1.1 standard (OASIS, 2014):
+// Broker security against docs/architecture.md §5 and the MQTT 3.1.1 standard (OASIS, 2014):
 // CONNACK return codes §3.2.2.3, SUBACK failure 0x80 §3.9.3. Real aedes on port 0.
 
 const sample = (t: number) => JSON.stringify({ t, sp: 50, pv: 49, mv: 30, mode: "auto" });

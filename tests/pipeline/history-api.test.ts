@@ -3,7 +3,7 @@ import { QueryTypes } from "sequelize";
 import { afterAll, beforeAll, describe, expect, it, vi } from "vitest";
 import { getLoopHistory, bucketWidth, historyColumns, historySchema, RADIUS_HOLD_MS } from "@/lib/loops/history";
 import { parseHistory } from "@/lib/client/history";
-import type { LoopStateDto, TenantContext } from "@/lib/types";
+import type { LoopStateDto, TenantContext } from "@/lib/domain/types";
 import { HistoryAggregator, HistoryWriter } from "@/server/history";
 import { createTestDatabase, type TestDatabase } from "../setup/db";
 import { createPipelineFixture, type PipelineTenant } from "./fixture";

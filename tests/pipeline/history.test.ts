@@ -3,10 +3,10 @@ import type { Sequelize } from "sequelize";
 import { HistoryAggregator, type MinuteBucketRow, type PoleSnapshotRow, type SecondBucketRow } from "@/server/history/aggregate";
 import { HistoryWriter } from "@/server/history/writer";
 import { startRealtimeEmitter } from "@/server/realtime/emitter";
-import type { LoopStateDto, SampleDto } from "@/lib/types";
+import type { LoopStateDto, SampleDto } from "@/lib/domain/types";
 import { ManualClock, testContext } from "./helpers";
 
-// History tiers per ARCHITECTURE.md §6 and batching per §8; min/mean/max are checked against
+// History tiers per docs/architecture.md §6 and batching per §8; min/mean/max are checked against
 // direct reductions of the samples fed in (identities, no stored expectations).
 
 const T0 = Date.UTC(2026, 0, 5, 8, 0, 0);

@@ -1,11 +1,11 @@
 /**
  * Hostile telemetry for the ingest fuzz suites (fast-check arbitraries). Each generated message
- * carries the outcome the telemetry contract (ARCHITECTURE.md §5) prescribes for it; sample times
+ * carries the outcome the telemetry contract (docs/architecture.md §5) prescribes for it; sample times
  * are placeholders resolved against a per-loop cursor when the message is sent, so duplicate,
  * out-of-order and future samples are exact.
  */
 import fc from "fast-check";
-import type { RejectReason } from "@/lib/telemetry";
+import type { RejectReason } from "@/lib/domain/telemetry";
 
 export type SampleKind =
   | { kind: "valid"; sp: number; pv: number; mv: number; mode: string }

@@ -4,8 +4,8 @@ import mqtt, { type MqttClient } from "mqtt";
 import { Ingest, LoopDirectory, type DeviceIdentity, type LoopRoute } from "@/server/ingest";
 import { IngestCounters } from "@/server/ingest/counters";
 import { startBroker, StaticCredentials, type BrokerService } from "@/server/broker";
-import type { RejectReason } from "@/lib/telemetry";
-import type { SampleDto } from "@/lib/types";
+import type { RejectReason } from "@/lib/domain/telemetry";
+import type { SampleDto } from "@/lib/domain/types";
 import { addExpected, expectRaw, hostileMessage, renderSamples, type Expected, type HostileMessage, type LoopCursor } from "./hostile";
 import { ManualClock, credential, testContext } from "./helpers";
 import { Bus } from "@/server/context";
@@ -33,7 +33,7 @@ const loopConfig = (id: number): LoopConfig => ({
   nk: 1,
 });
 
-// Fuzzing the telemetry contract (ARCHITECTURE.md §5) with fast-check: every hostile message is
+// Fuzzing the telemetry contract (docs/architecture.md §5) with fast-check: every hostile message is
 // generated together with the outcome the contract prescribes; the server must stay up, count
 // each rejection by its reason, and pass on exactly the valid samples, all finite and in order.
 

@@ -1,8 +1,8 @@
 import { describe, expect, it } from "vitest";
 import { Ingest, LoopDirectory, type DeviceIdentity, type LoopRoute } from "@/server/ingest";
-import type { SampleDto } from "@/lib/types";
+import type { SampleDto } from "@/lib/domain/types";
 
-// Rules from ARCHITECTURE.md §5 (telemetry contract); the DUP flag from MQTT 3.1.1 §3.3.1.1.
+// Rules from docs/architecture.md §5 (telemetry contract); the DUP flag from MQTT 3.1.1 §3.3.1.1.
 
 const NOW = Date.UTC(2026, 0, 5, 8, 0, 0);
 const routes: LoopRoute[] = [

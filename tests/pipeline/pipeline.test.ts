@@ -6,13 +6,13 @@ import { ingestDiagnostics } from "@/lib/loops/diagnostics";
 import { DAY_MS, listPartitions, partitionName } from "@/lib/db/partitions";
 import { listLoops, getLoop } from "@/lib/loops";
 import type { DeviceIdentity } from "@/server/ingest";
-import type { SampleDto } from "@/lib/types";
+import type { SampleDto } from "@/lib/domain/types";
 import { createTestDatabase, type TestDatabase } from "../setup/db";
 import { createPipelineFixture, PiLoop, type PipelineTenant } from "./fixture";
 import { ManualClock, testContext } from "./helpers";
 
 // The live pipeline against a real MariaDB (tests/setup/db.ts) and a real aedes broker on port 0.
-// History tier rules restate ARCHITECTURE.md §6; aggregates are checked against the raw samples sent.
+// History tier rules restate docs/architecture.md §6; aggregates are checked against the raw samples sent.
 
 let db: TestDatabase;
 let a: PipelineTenant;

@@ -2,14 +2,14 @@ import mqtt, { type MqttClient } from "mqtt";
 import { io as connect, type Socket } from "socket.io-client";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { hashDeviceSecret } from "@/lib/devices";
-import type { ClientToServerEvents, ServerToClientEvents, WatchReply } from "@/lib/realtime/events";
-import type { LoopStateBrief, LoopStateDto, SampleDto } from "@/lib/types";
+import type { ClientToServerEvents, ServerToClientEvents, WatchReply } from "@/lib/domain/events";
+import type { LoopStateBrief, LoopStateDto, SampleDto } from "@/lib/domain/types";
 import { isPipelineService, type PipelineService } from "@/server/pipeline";
 import { createAuthFixture, FIXTURE_PASSWORD, type AuthFixture, type FixtureTenant } from "../auth/fixture";
 import { authedFetch, signIn } from "../auth/helpers";
 import { startTestServer, type TestServer } from "../setup/server";
 
-// Realtime contract (ARCHITECTURE.md §8) on the real server: telemetry of two tenants flows
+// Realtime contract (docs/architecture.md §8) on the real server: telemetry of two tenants flows
 // through the broker and pipeline; a client sees only its own tenant's loops and may watch only
 // its own tenant's loop.
 
@@ -117,7 +117,7 @@ describe("realtime tenant isolation", () => {
     expect(got.a.states.length).toBeGreaterThan(0);
     for (const st of got.a.states.flat()) {
       expect(Object.keys(st).sort()).toEqual(
-        ["at", "dataPoles", "dataPolesKind", "dominant", "estimationPeriodS", "gainHeadroom", "juryStable", "loopId", "modelPoles", "receivedAt", "rimDistance", "spectralRadius", "stateReason", "tenantId", "trackerState", "decayRatio"].sort(),
+        ["at", "dataPoles", "dataPolesKind", "dominant", "estimationPeriodS", "gainHeadroom", "juryStable", "loopId", "modelPoles", "receivedAt", "rimDistance", "spectralRadius", "stateReason", "tenantId", "trackerState", "decayRatio", "polesFrom", "oscillation"].sort(),
       );
       for (const p of [...st.modelPoles, ...st.dataPoles]) expect(Object.keys(p).sort()).toEqual(["im", "radius", "re"]);
     }

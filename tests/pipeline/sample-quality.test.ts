@@ -6,9 +6,9 @@
  * min/mean/max, which counts it in `bad` instead.
  */
 import { describe, expect, it } from "vitest";
-import { judgeSampleQuality, RANGE_MARGIN_FRACTION } from "@/lib/sample-quality";
-import { validateSample } from "@/lib/telemetry";
-import type { SampleDto } from "@/lib/types";
+import { judgeSampleQuality, RANGE_MARGIN_FRACTION } from "@/lib/domain/sample-quality";
+import { validateSample } from "@/lib/domain/telemetry";
+import type { SampleDto } from "@/lib/domain/types";
 import { HistoryAggregator } from "@/server/history/aggregate";
 import type { MinuteBucketRow, SecondBucketRow } from "@/server/history/aggregate";
 import { Ingest, LoopDirectory, type DeviceIdentity, type LoopRoute } from "@/server/ingest";

@@ -1,16 +1,16 @@
 import { describe, expect, it } from "vitest";
-import { isSlug, slugify } from "@/lib/slug";
+import { isSlug, slugify } from "@/lib/domain/slug";
 import {
   MAX_PAYLOAD_BYTES,
   decodePayload,
   parseTelemetryTopic,
   telemetryTopic,
   validateSample,
-} from "@/lib/telemetry";
+} from "@/lib/domain/telemetry";
 import { FrameGuard } from "@/server/broker/frame-guard";
 import { topicMatches } from "@/server/broker/topic-match";
 
-// Cases below restate ARCHITECTURE.md §5 (the telemetry contract) and the MQTT 3.1.1 standard
+// Cases below restate docs/architecture.md §5 (the telemetry contract) and the MQTT 3.1.1 standard
 // (OASIS, 2014), sections named beside each check.
 
 describe("slugify maps tags to topic segments", () => {

@@ -1,11 +1,11 @@
 import { describe, expect, it } from "vitest";
 import { poleCharacteristics, polyRoots } from "@/lib/control";
-import type { LoopStateBrief, LoopStateDto, PoleDto } from "@/lib/types";
+import type { LoopStateBrief, LoopStateDto, PoleDto } from "@/lib/domain/types";
 import { startRealtimeEmitter } from "@/server/realtime/emitter";
 import { roundSig, roundTo, toLoopBrief } from "@/server/realtime/summary";
 import { ManualClock, testContext } from "../pipeline/helpers";
 
-// The live summary of a loop (`loop:state`, ARCHITECTURE.md §8) against the full state it is
+// The live summary of a loop (`loop:state`, docs/architecture.md §8) against the full state it is
 // built from. The expectations are identities of the summary's own definition (same figures,
 // rounded; no uncertainty, zeros, polynomial, forecast or last sample), not stored values.
 
@@ -40,7 +40,7 @@ function fullState(loopId = 11, tenantId = 3, at = T0): LoopStateDto {
     dominant: { zeta: ch.zeta, wn: ch.wn, timeConstant: ch.timeConstant },
     gainHeadroom: 2.718281828,
     radiusSd: 0.00412345,
-    forecast: { at: at + 3_600_000, low: at + 3_000_000, high: at + 4_000_000 },
+    forecast: { radiusOne: { at: at + 3_600_000, low: at + 3_000_000, high: at + 4_000_000 }, alarmLevel: { at: at + 1_800_000, low: at + 1_500_000, high: at + 2_000_000, decayRatio: 0.35 } },
     modelPoles,
     dataPoles: modelPoles.slice(0, 2).map((p) => ({ ...p, re: p.re * 0.99, im: p.im * 1.01, radius: Math.hypot(p.re * 0.99, p.im * 1.01) })),
     dataPolesKind: "disturbance-response",
@@ -68,6 +68,9 @@ const BRIEF_KEYS: (keyof LoopStateBrief)[] = [
   "modelPoles",
   "dataPoles",
   "dataPolesKind",
+  // which poles the figures come from, and the slowest-decaying oscillating mode (its angle sets the gauge levels)
+  "polesFrom",
+  "oscillation",
 ];
 
 describe("loop summary (server/realtime/summary.ts)", () => {

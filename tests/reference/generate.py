@@ -282,7 +282,7 @@ def cluster_cases(rng, count=60):
 
 # ---------------------------------------------------------------- closed loop and gain headroom
 def pi_velocity(kp, ti, T):
-    """Velocity-form PI (DOMAIN.md sec. 3): N = kp[(1 + T/ti) - q^-1], D = 1 - q^-1."""
+    """Velocity-form PI (docs/domain.md §3): N = kp[(1 + T/ti) - q^-1], D = 1 - q^-1."""
     return [kp * (1 + T / ti), -kp], [1.0, -1.0]
 
 

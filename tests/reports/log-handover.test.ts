@@ -12,17 +12,17 @@ import os from "node:os";
 import path from "node:path";
 import { afterAll, beforeAll, describe, expect, it, vi } from "vitest";
 import { publicOrigin } from "@/lib/config";
-import { ForbiddenError } from "@/lib/errors";
+import { ForbiddenError } from "@/lib/domain/errors";
 import { handoverDocument } from "@/lib/reports/document";
 import type { Handover } from "@/lib/reports/handover";
-import { roleAtLeast, type Role, type TenantContext } from "@/lib/types";
+import { roleAtLeast, type Role, type TenantContext } from "@/lib/domain/types";
 import { createFixture, type Fixture } from "../alarms/helpers";
 import { createTestDatabase, type TestDatabase } from "../setup/db";
 
 let current: TenantContext | null = null;
 vi.mock("@/lib/auth/guard", () => ({
   requireContext: async (min: Role = "viewer") => {
-    if (!current) throw new (await import("@/lib/errors")).UnauthenticatedError();
+    if (!current) throw new (await import("@/lib/domain/errors")).UnauthenticatedError();
     if (!roleAtLeast(current.role, min)) throw new ForbiddenError(`needs ${min}`);
     return current;
   },

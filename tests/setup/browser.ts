@@ -1,5 +1,5 @@
 /**
- * Debian's Chromium through playwright-core (ARCHITECTURE.md §11): a persistent context in a
+ * Debian's Chromium through playwright-core (docs/architecture.md §11): a persistent context in a
  * temporary profile, headless, with the flags that keep it off the network. Close it with
  * `close()`, which also deletes the profile.
  */

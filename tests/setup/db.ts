@@ -13,7 +13,7 @@
 import { randomBytes } from "node:crypto";
 import type { Sequelize } from "sequelize";
 import { inject } from "vitest";
-import { rootConnection } from "@/lib/db/mariadb-server";
+import { rootConnection } from "@/scripts/mariadb-server";
 import { migrateUp } from "@/lib/db/migrate";
 import { createSequelize, setSharedDb } from "@/lib/db/sequelize";
 import { initModels, type Models } from "@/models";

@@ -10,7 +10,7 @@ import fs from "node:fs";
 import os from "node:os";
 import path from "node:path";
 import type { TestProject } from "vitest/node";
-import { ensureMariaDb, freePort } from "@/lib/db/mariadb-server";
+import { ensureMariaDb, freePort } from "@/scripts/mariadb-server";
 
 export interface TestDbInfo {
   host: string;

@@ -18,7 +18,7 @@ import fs from "node:fs";
 import os from "node:os";
 import path from "node:path";
 import { resetConfigCache } from "@/lib/config";
-import { rootConnection } from "@/lib/db/mariadb-server";
+import { rootConnection } from "@/scripts/mariadb-server";
 import { closeSequelize } from "@/lib/db/sequelize";
 import { resetAuthOptions } from "@/lib/auth/options";
 import { seedDemo } from "@/lib/seed";

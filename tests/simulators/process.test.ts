@@ -11,7 +11,7 @@ import path from "node:path";
 import { Aedes } from "aedes";
 import { afterAll, afterEach, describe, expect, it } from "vitest";
 import { getConfig } from "@/lib/config";
-import { decodePayload, validateSample } from "@/lib/telemetry";
+import { decodePayload, validateSample } from "@/lib/domain/telemetry";
 import { Bus, systemClock, type ServerContext } from "@/server/context";
 import { startSimulators } from "@/server/simulators-process";
 

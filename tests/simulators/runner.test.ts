@@ -1,5 +1,5 @@
 import { describe, expect, it } from "vitest";
-import { decodePayload, parseTelemetryTopic, validateSample } from "@/lib/telemetry";
+import { decodePayload, parseTelemetryTopic, validateSample } from "@/lib/domain/telemetry";
 import { LoopSim } from "@/simulators/loop-sim";
 import { SimulatorRunner } from "@/simulators/runner";
 import { loopConfig } from "./helpers";

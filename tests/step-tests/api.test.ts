@@ -8,9 +8,9 @@
 import { ListObjectsV2Command } from "@aws-sdk/client-s3";
 import { afterAll, beforeAll, describe, expect, it, vi } from "vitest";
 import { getConfig, publicOrigin } from "@/lib/config";
-import { ForbiddenError } from "@/lib/errors";
+import { ForbiddenError } from "@/lib/domain/errors";
 import { setServerContext } from "@/lib/server-context";
-import { roleAtLeast, type Role, type TenantContext } from "@/lib/types";
+import { roleAtLeast, type Role, type TenantContext } from "@/lib/domain/types";
 import { Bus, systemClock, type ServerContext } from "@/server/context";
 import { startObjectStore, type ObjectStoreService } from "@/server/objectstore";
 import { createFixture, type Fixture } from "../alarms/helpers";
@@ -20,7 +20,7 @@ import { stepTestCsv } from "./simulate";
 let current: TenantContext | null = null;
 vi.mock("@/lib/auth/guard", () => ({
   requireContext: async (min: Role = "viewer") => {
-    if (!current) throw new (await import("@/lib/errors")).UnauthenticatedError();
+    if (!current) throw new (await import("@/lib/domain/errors")).UnauthenticatedError();
     if (!roleAtLeast(current.role, min)) throw new ForbiddenError(`needs ${min}`);
     return current;
   },

@@ -12,7 +12,7 @@ import { c2dZoh, proposeEstimationPeriod } from "@/lib/control";
 import { parseStepTestCsv } from "@/lib/step-tests/csv";
 import { simulateFopdt } from "@/lib/step-tests/fopdt";
 import { identifyStepTest } from "@/lib/step-tests/identify";
-import { ValidationError } from "@/lib/errors";
+import { ValidationError } from "@/lib/domain/errors";
 import { mulberry32, normal } from "../control/seeded-random";
 import { fopdtAt, stepTestCsv, type Fopdt, type MvStep } from "./simulate";
 

@@ -14,13 +14,13 @@
  * Known limits (measured with this test's run, seed 1; see the report): integrating level loops
  * LIC-2102 and LIC-4102 stay 15-80 % off on the slow real pole next to the PI zero; TIC-3202
  * (PID, dead time 60 s, Te = 25 s against Tc = 5 s) 22-35 % off, as the controller can only be
- * re-discretised at Te (ARCHITECTURE.md section 4); TIC-2203 saturates on the demo's set-point
+ * re-discretised at Te (docs/architecture.md §4); TIC-2203 saturates on the demo's set-point
  * moves and tracks only after about 55 minutes. Those are not asserted at 10 %.
  */
 import { beforeAll, describe, expect, it } from "vitest";
 import type { Complex } from "@/lib/control/types";
 import { decayRatio } from "@/lib/control/zplane";
-import type { LoopStateDto } from "@/lib/types";
+import type { LoopStateDto } from "@/lib/domain/types";
 import { trueClosedLoopPoles } from "@/simulators/loop-sim";
 import { startDemoRun, type DemoRun } from "./demo-harness";
 

@@ -4,7 +4,7 @@
  * (no broker), on a fake clock that follows simulated time, so an hour of plant time runs in seconds.
  */
 import path from "node:path";
-import type { LoopStateDto } from "@/lib/types";
+import type { LoopStateDto } from "@/lib/domain/types";
 import { DEMO_LOOPS, DEMO_PLANTS } from "@/lib/seed/demo";
 import { Bus } from "@/server/context";
 import { TrackerRegistry } from "@/server/tracking/registry";

@@ -4,7 +4,7 @@
  * whose set point stops moving keeps its last estimate and says `low-excitation` with the age.
  */
 import { describe, expect, it } from "vitest";
-import type { LoopStateDto } from "@/lib/types";
+import type { LoopStateDto } from "@/lib/domain/types";
 import { LoopTracker } from "@/server/tracking/loop-tracker";
 import { buildFleet } from "@/simulators/fleet";
 import type { LoopSim } from "@/simulators/loop-sim";

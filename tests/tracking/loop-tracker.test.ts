@@ -1,6 +1,6 @@
 import path from "node:path";
 import { describe, expect, it } from "vitest";
-import type { LoopStateDto, SampleDto } from "@/lib/types";
+import type { LoopStateDto, SampleDto } from "@/lib/domain/types";
 import { Bus } from "@/server/context";
 import { LoopTracker } from "@/server/tracking/loop-tracker";
 import { TrackerRegistry } from "@/server/tracking/registry";

@@ -13,7 +13,7 @@
 import path from "node:path";
 import { describe, expect, it } from "vitest";
 import { DEMO_LOOPS } from "@/lib/seed/demo";
-import type { LoopStateDto, SampleDto } from "@/lib/types";
+import type { LoopStateDto, SampleDto } from "@/lib/domain/types";
 import { LoopTracker } from "@/server/tracking/loop-tracker";
 import { buildFleet } from "@/simulators/fleet";
 import { loadScenario } from "@/simulators/scenario";

@@ -1,13 +1,13 @@
 import { redirect } from "next/navigation";
-import { AdminDevices } from "@/app/_components/admin-devices";
+import { AdminDevices } from "@/app/(console)/admin/_components/admin-devices";
 import { AdminLoopImport } from "@/app/_components/admin-loop-import";
-import { AdminOutbox, AdminRules, AdminSites } from "@/app/_components/admin-misc";
-import { AdminPolicies } from "@/app/_components/admin-policies";
-import { AdminUsers } from "@/app/_components/admin-users";
+import { AdminOutbox, AdminRules, AdminSites } from "@/app/(console)/admin/_components/admin-misc";
+import { AdminPolicies } from "@/app/(console)/admin/_components/admin-policies";
+import { AdminUsers } from "@/app/(console)/admin/_components/admin-users";
 import { ConfigChangeLog } from "@/app/_components/config-change-log";
 import { getContextOrNull } from "@/lib/auth/guard";
-import { POLICY_SCOPES, type PolicyScope } from "@/lib/alarms/policy";
-import { roleAtLeast } from "@/lib/types";
+import { POLICY_SCOPES, type PolicyScope } from "@/lib/domain/alarms/policy";
+import { roleAtLeast } from "@/lib/domain/types";
 
 export const dynamic = "force-dynamic";
 export const metadata = { title: "Administration · Rimguard" };

@@ -1,5 +1,5 @@
 import { redirect } from "next/navigation";
-import { AlarmTable } from "@/app/_components/alarm-table";
+import { AlarmTable } from "@/app/(console)/alarms/_components/alarm-table";
 import { KpiCharts } from "@/app/_components/kpi-charts";
 import { getContextOrNull } from "@/lib/auth/guard";
 

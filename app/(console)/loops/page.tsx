@@ -1,5 +1,5 @@
 import { redirect } from "next/navigation";
-import { LoopInventory } from "@/app/_components/loop-inventory";
+import { LoopInventory } from "@/app/(console)/loops/_components/loop-inventory";
 import { getContextOrNull } from "@/lib/auth/guard";
 
 export const dynamic = "force-dynamic";

@@ -1,5 +1,5 @@
 import { redirect } from "next/navigation";
-import { ReportsView } from "@/app/_components/reports-view";
+import { ReportsView } from "@/app/(console)/reports/_components/reports-view";
 import { getContextOrNull } from "@/lib/auth/guard";
 import { ReportTabs } from "./_components/report-tabs";
 

@@ -1,5 +1,5 @@
 import { redirect } from "next/navigation";
-import { WallView } from "@/app/_components/wall-view";
+import { WallView } from "@/app/(console)/wall/_components/wall-view";
 import { getContextOrNull } from "@/lib/auth/guard";
 import { CAUTION_TEXT } from "../_shell/caution";
 

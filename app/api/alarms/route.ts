@@ -5,7 +5,7 @@ import { alarmApi, isoTime } from "@/lib/alarms/access";
 import { visibleAlarms } from "@/lib/alarms/scope";
 import { requireContext } from "@/lib/auth/guard";
 import { handle, parseQuery } from "@/lib/http";
-import { ALARM_PRIORITIES, ALARM_STATES } from "@/lib/types";
+import { ALARM_PRIORITIES, ALARM_STATES } from "@/lib/domain/types";
 
 export const dynamic = "force-dynamic";
 

@@ -7,7 +7,7 @@
 import { headers } from "next/headers";
 import { acceptInvitation, acceptInvitationAsUser, acceptSchema } from "@/lib/admin/users";
 import { getContextOrNull } from "@/lib/auth/guard";
-import { isHttpError } from "@/lib/errors";
+import { isHttpError } from "@/lib/domain/errors";
 import { assertSameOrigin } from "@/lib/request-guard";
 
 export interface AcceptState {

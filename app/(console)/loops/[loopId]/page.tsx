@@ -1,5 +1,5 @@
 import { notFound, redirect } from "next/navigation";
-import { LoopDetail } from "@/app/_components/loop-detail";
+import { LoopDetail } from "@/app/(console)/loops/[loopId]/_components/loop-detail";
 import { isRangeKey } from "@/lib/client/ranges";
 import { getContextOrNull } from "@/lib/auth/guard";
 import { loopOwner } from "@/lib/loops";

@@ -1,7 +1,7 @@
 import { redirect } from "next/navigation";
-import { LoopForm } from "@/app/_components/loop-form";
+import { LoopForm } from "@/app/(console)/loops/_components/loop-form";
 import { getContextOrNull } from "@/lib/auth/guard";
-import { roleAtLeast } from "@/lib/types";
+import { roleAtLeast } from "@/lib/domain/types";
 
 export const dynamic = "force-dynamic";
 export const metadata = { title: "New loop · Rimguard" };

@@ -6,7 +6,7 @@ import { handoverDocument, formatLocal } from "@/lib/reports/document";
 import { buildHandover, resolveShift, siteShiftInfo } from "@/lib/reports/handover";
 import { readTime } from "@/lib/reports/params";
 import { nextShift, shiftAt } from "@/lib/reports/shifts";
-import { roleAtLeast } from "@/lib/types";
+import { roleAtLeast } from "@/lib/domain/types";
 import { ConfirmHandover, ShiftNoteForm } from "../_components/handover-actions";
 import { ReportDocView } from "../_components/report-doc-view";
 import { ReportTabs } from "../_components/report-tabs";

@@ -1,6 +1,6 @@
 /**
  * GET /api/alarms/kpis?from=&to=&area= — alarm-system figures of a period (EEMUA 191 and
- * ANSI/ISA-18.2; see lib/alarms/kpis.ts). Default period: the last 24 hours; at most 31 days.
+ * ANSI/ISA-18.2; see lib/domain/alarms/kpis.ts). Default period: the last 24 hours; at most 31 days.
  */
 import { NextResponse } from "next/server";
 import { z } from "zod";

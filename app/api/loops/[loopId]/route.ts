@@ -2,7 +2,7 @@
 import { NextResponse } from "next/server";
 import { updateLoopHandler } from "@/lib/admin/loop-routes";
 import { requireContext } from "@/lib/auth/guard";
-import { NotFoundError } from "@/lib/errors";
+import { NotFoundError } from "@/lib/domain/errors";
 import { handle } from "@/lib/http";
 import { getLoop, loopIdSchema } from "@/lib/loops";
 

@@ -1,6 +1,6 @@
 /** POST /api/session/signout-everywhere — end every session of the caller on every device. */
 import { NextResponse } from "next/server";
-import { UnauthenticatedError } from "@/lib/errors";
+import { UnauthenticatedError } from "@/lib/domain/errors";
 import { handle } from "@/lib/http";
 import { notifyUserChanged } from "@/lib/server-context";
 import { getSessionClaims } from "@/lib/auth/guard";

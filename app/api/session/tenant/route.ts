@@ -9,7 +9,7 @@ import { NextResponse } from "next/server";
 import { encode, decode } from "next-auth/jwt";
 import { z } from "zod";
 import { getConfig } from "@/lib/config";
-import { NotFoundError, UnauthenticatedError } from "@/lib/errors";
+import { NotFoundError, UnauthenticatedError } from "@/lib/domain/errors";
 import { handle, parseBody } from "@/lib/http";
 import { sessionEvents } from "@/lib/server-context";
 import { getSessionClaims } from "@/lib/auth/guard";

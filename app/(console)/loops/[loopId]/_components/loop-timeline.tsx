@@ -6,8 +6,8 @@
  */
 import { useState } from "react";
 import useSWR from "swr";
-import type { Role } from "@/lib/types";
-import { roleAtLeast } from "@/lib/types";
+import type { Role } from "@/lib/domain/types";
+import { roleAtLeast } from "@/lib/domain/types";
 import { fetchJson, sendJson } from "@/lib/client/fetcher";
 import { fmtTime } from "@/lib/client/format";
 import type { TimelineItem, TimelineKind } from "@/lib/reports/timeline";

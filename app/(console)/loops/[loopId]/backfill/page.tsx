@@ -3,7 +3,7 @@ import { notFound, redirect } from "next/navigation";
 import { LoopBackfill } from "@/app/_components/loop-backfill";
 import { getLoopConfig } from "@/lib/admin/loops";
 import { getContextOrNull } from "@/lib/auth/guard";
-import { roleAtLeast } from "@/lib/types";
+import { roleAtLeast } from "@/lib/domain/types";
 
 export const dynamic = "force-dynamic";
 export const metadata = { title: "Historian backfill · Rimguard" };

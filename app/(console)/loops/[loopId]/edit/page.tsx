@@ -1,9 +1,9 @@
 import { notFound, redirect } from "next/navigation";
-import { LoopForm } from "@/app/_components/loop-form";
+import { LoopForm } from "@/app/(console)/loops/_components/loop-form";
 import { ConfigChangeLog } from "@/app/_components/config-change-log";
 import { getLoopConfig } from "@/lib/admin/loops";
 import { getContextOrNull } from "@/lib/auth/guard";
-import { roleAtLeast } from "@/lib/types";
+import { roleAtLeast } from "@/lib/domain/types";
 
 export const dynamic = "force-dynamic";
 export const metadata = { title: "Edit loop · Rimguard" };

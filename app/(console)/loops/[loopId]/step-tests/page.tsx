@@ -3,7 +3,7 @@ import { notFound, redirect } from "next/navigation";
 import { getLoopConfig } from "@/lib/admin/loops";
 import { getContextOrNull } from "@/lib/auth/guard";
 import { listStepTests } from "@/lib/step-tests/service";
-import { roleAtLeast } from "@/lib/types";
+import { roleAtLeast } from "@/lib/domain/types";
 import { StepTestsView } from "./_components/step-tests-view";
 
 export const dynamic = "force-dynamic";

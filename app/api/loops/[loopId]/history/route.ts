@@ -1,7 +1,7 @@
 /** GET /api/loops/[loopId]/history?from&to&maxPoints&tier&shape — down-sampled history and pole snapshots (viewer); shape=columns answers one array per statistic. */
 import { NextResponse } from "next/server";
 import { requireContext } from "@/lib/auth/guard";
-import { NotFoundError } from "@/lib/errors";
+import { NotFoundError } from "@/lib/domain/errors";
 import { handle, parseQuery } from "@/lib/http";
 import { getLoopHistory, historySchema, loopIdSchema } from "@/lib/loops";
 

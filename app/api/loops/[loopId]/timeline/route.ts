@@ -3,7 +3,7 @@ import { NextResponse } from "next/server";
 import { z } from "zod";
 import { isoTime } from "@/lib/alarms/access";
 import { requireContext } from "@/lib/auth/guard";
-import { NotFoundError } from "@/lib/errors";
+import { NotFoundError } from "@/lib/domain/errors";
 import { handle, parseQuery } from "@/lib/http";
 import { getLoop, loopIdSchema } from "@/lib/loops";
 import { loopTimeline } from "@/lib/reports/timeline";
