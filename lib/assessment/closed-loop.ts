@@ -20,6 +20,7 @@ import { integralTime } from "./config";
 import { levinson } from "./signal";
 import type { AssessWindow } from "./window";
 import { isClosed } from "./window";
+import { slowestOscillatingMode } from "@/lib/domain/assessment";
 
 export interface OwnPoles {
   poles: Complex[];
@@ -32,7 +33,11 @@ export interface OwnPoles {
 const MAX_FIT_SAMPLES = 20_000;
 
 /** Maps poles from T1 to T2; a negative-real pole has no equivalent at another period and is dropped. */
-export function mapPoles(poles: Complex[], T1: number, T2: number): { poles: Complex[]; dropped: number } {
+export function mapPoles(
+  poles: Complex[],
+  T1: number,
+  T2: number,
+): { poles: Complex[]; dropped: number } {
   const ratio = T2 / T1;
   if (Math.abs(ratio - 1) < 1e-9) return { poles, dropped: 0 };
   const out: Complex[] = [];
@@ -60,20 +65,12 @@ export function radiusOf(poles: readonly Complex[]): number | null {
   return r >= 0 ? r : null;
 }
 
-/** Decay ratio of the dominant oscillating pole (largest radius among complex ones), null if none. */
+/**
+ * Decay ratio of the slowest-decaying oscillating mode (max over complex poles of
+ * |z|^(2π/|arg z|)), the product's one definition (lib/domain/assessment.ts); null if none.
+ */
 export function dominantDecayRatio(poles: readonly Complex[]): number | null {
-  let best: Complex | null = null;
-  let br = -1;
-  for (const p of poles) {
-    if (Math.abs(p.im) < 1e-9) continue;
-    const r = Math.hypot(p.re, p.im);
-    if (r > br) {
-      br = r;
-      best = p;
-    }
-  }
-  if (!best) return null;
-  return Math.pow(br, (2 * Math.PI) / Math.abs(Math.atan2(best.im, best.re)));
+  return slowestOscillatingMode(poles, 1)?.decayRatio ?? null;
 }
 
 /** Block averages of x over d samples (anti-alias before decimation), only over fully included blocks. */
@@ -95,7 +92,11 @@ export function estimationFactor(w: AssessWindow, config: LoopConfig): number {
 }
 
 /** Counts excitation: set-point moves (closed loop) and output moves in manual, each above `threshold`. */
-export function countExcitation(w: AssessWindow, spThreshold: number, mvThreshold: number): { spMoves: number; manualMoves: number } {
+export function countExcitation(
+  w: AssessWindow,
+  spThreshold: number,
+  mvThreshold: number,
+): { spMoves: number; manualMoves: number } {
   let spMoves = 0;
   let manualMoves = 0;
   let anchorSp = w.sp[0] ?? 0;
@@ -117,14 +118,21 @@ export function countExcitation(w: AssessWindow, spThreshold: number, mvThreshol
 }
 
 /** The loop's own closed-loop poles from excited data, or null when the data do not excite the loop. */
-export function ownClosedLoopPoles(w: AssessWindow, config: LoopConfig, dLoop: number): OwnPoles | null {
+export function ownClosedLoopPoles(
+  w: AssessWindow,
+  config: LoopConfig,
+  dLoop: number,
+): OwnPoles | null {
   // At most MAX_FIT_SAMPLES equations per candidate structure (cost bound for long exports).
   const d = Math.max(dLoop, Math.ceil(w.n / MAX_FIT_SAMPLES));
   const Test = w.T * d;
   const u = decimate(w.mv, d);
   const y = decimate(w.pvPct, d);
   if (u.length < 60) return null;
-  const nkFixed = config.deadTimeS !== null && config.deadTimeS !== undefined ? Math.floor(config.deadTimeS / Test) + 1 : null;
+  const nkFixed =
+    config.deadTimeS !== null && config.deadTimeS !== undefined
+      ? Math.floor(config.deadTimeS / Test) + 1
+      : null;
   const nks = nkFixed !== null ? [nkFixed] : [1, 2, 4, 7].filter((k) => k < u.length / 10);
   try {
     const fit = fitArx(u, y, { T: Test, na: [1, 2], nb: [2], nk: nks });
@@ -145,7 +153,13 @@ export function ownClosedLoopPoles(w: AssessWindow, config: LoopConfig, dLoop: n
     const { poles } = mapPoles(raw, Test, config.samplePeriodS);
     const spectralRadius = radiusOf(poles);
     if (spectralRadius === null) return null;
-    return { poles, spectralRadius, decayRatio: dominantDecayRatio(poles), fitPercent: fit.fit, estimationPeriodS: Test };
+    return {
+      poles,
+      spectralRadius,
+      decayRatio: dominantDecayRatio(poles),
+      fitPercent: fit.fit,
+      estimationPeriodS: Test,
+    };
   } catch {
     return null;
   }
@@ -160,7 +174,14 @@ export interface DisturbanceModel {
 }
 
 /** AR model of the control error over constant-SP stretches (order 1..maxOrder by AIC), poles at samplePeriodS. */
-export function disturbanceResponse(e: Float64Array, stretches: readonly [number, number][], T: number, samplePeriodS: number, d: number, maxOrder = 10): DisturbanceModel | null {
+export function disturbanceResponse(
+  e: Float64Array,
+  stretches: readonly [number, number][],
+  T: number,
+  samplePeriodS: number,
+  d: number,
+  maxOrder = 10,
+): DisturbanceModel | null {
   // Decimate each stretch by block averages, then pool autocovariances within stretches.
   const segs: Float64Array[] = [];
   let total = 0;
@@ -176,11 +197,12 @@ export function disturbanceResponse(e: Float64Array, stretches: readonly [number
   }
   if (total < 20 * maxOrder) return null;
   const c = new Float64Array(maxOrder + 1);
-  for (const seg of segs) for (let k = 0; k <= maxOrder; k++) {
-    let acc = 0;
-    for (let i = k; i < seg.length; i++) acc += seg[i]! * seg[i - k]!;
-    c[k] = c[k]! + acc;
-  }
+  for (const seg of segs)
+    for (let k = 0; k <= maxOrder; k++) {
+      let acc = 0;
+      for (let i = k; i < seg.length; i++) acc += seg[i]! * seg[i - k]!;
+      c[k] = c[k]! + acc;
+    }
   for (let k = 0; k <= maxOrder; k++) c[k] = c[k]! / total;
   if (!(c[0]! > 0)) return null;
   let bestP = 1;
@@ -200,5 +222,11 @@ export function disturbanceResponse(e: Float64Array, stretches: readonly [number
   if (!bestA) return null;
   const raw = polyRoots([1, ...bestA]);
   const { poles, dropped } = mapPoles(raw, T * d, samplePeriodS);
-  return { poles, spectralRadius: radiusOf(poles), decayRatio: dominantDecayRatio(poles), order: bestP, droppedNegativeReal: dropped };
+  return {
+    poles,
+    spectralRadius: radiusOf(poles),
+    decayRatio: dominantDecayRatio(poles),
+    order: bestP,
+    droppedNegativeReal: dropped,
+  };
 }

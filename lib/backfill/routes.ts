@@ -13,11 +13,11 @@ import { getDb } from "@/lib/db/sequelize";
 import { HttpError, NotFoundError, ValidationError } from "@/lib/domain/errors";
 import { handle, parseQuery } from "@/lib/http";
 import { BACKFILL_UPLOAD_BODY } from "@/lib/request-guard";
-import { getServerContext } from "@/lib/server-context";
+import { runningService } from "@/lib/server-context";
 import { findOwned } from "@/lib/tenancy";
 import { text } from "@/lib/text-input";
 import type { TenantContext } from "@/lib/domain/types";
-import type { BackfillHost } from "@/server/backfill/host";
+import type { BackfillApi } from "@/lib/domain/backfill";
 import { idParam } from "@/lib/admin/route-helpers";
 
 type Params = { params: Promise<{ loopId: string; jobId?: string }> };
@@ -28,10 +28,10 @@ class ServiceUnavailableError extends HttpError {
   }
 }
 
-function host(): BackfillHost {
-  const p = getServerContext()?.services.get("pipeline") as { backfill?: BackfillHost } | undefined;
-  if (!p?.backfill || typeof p.backfill.start !== "function") throw new ServiceUnavailableError();
-  return p.backfill;
+function host(): BackfillApi {
+  const b = runningService("pipeline")?.backfill;
+  if (!b || typeof b.start !== "function") throw new ServiceUnavailableError();
+  return b;
 }
 
 async function ownedLoop(ctx: TenantContext, raw: string): Promise<number> {
@@ -52,9 +52,17 @@ export const uploadBackfillHandler = handle(async (req: Request, { params }: Par
   const loopId = await ownedLoop(ctx, (await params).loopId);
   const q = parseQuery(req, uploadQuery);
   const len = Number(req.headers.get("content-length") ?? NaN);
-  if (!req.body || len === 0) throw new ValidationError("Send the CSV as the request body (text/csv).");
+  if (!req.body || len === 0)
+    throw new ValidationError("Send the CSV as the request body (text/csv).");
   const out = await host().start(
-    { tenantId: ctx.tenantId, loopId, userId: ctx.userId, fileName: q.file, totalBytes: Number.isFinite(len) ? len : null, replaceModel: q.replace === "1" },
+    {
+      tenantId: ctx.tenantId,
+      loopId,
+      userId: ctx.userId,
+      fileName: q.file,
+      totalBytes: Number.isFinite(len) ? len : null,
+      replaceModel: q.replace === "1",
+    },
     req.body,
   );
   return NextResponse.json({ backfill: out }, { status: out.status === "failed" ? 422 : 201 });

@@ -1,3 +1,2 @@
 /** Shapes of the historian backfill as the console reads them (the work itself is in server/backfill). */
-export type { BackfillProgress } from "@/server/backfill/job";
-export type { BackfillRow } from "@/server/backfill/store";
+export type { BackfillProgress, BackfillRow } from "@/lib/domain/backfill";

@@ -4,10 +4,16 @@
  * server implements them (server/), route handlers reach them through lib/server-context.ts.
  */
 import type { AlarmKpis } from "./alarms/kpis";
-import type { EffectivePolicy, LevelEquivalent, PolicyOverride, PolicyScope } from "./alarms/policy";
+import type {
+  EffectivePolicy,
+  LevelEquivalent,
+  PolicyOverride,
+  PolicyScope,
+} from "./alarms/policy";
 import type { QualityReason } from "./sample-quality";
 import type { RejectReason } from "./telemetry";
 import type { AlarmDto, AlarmPriority, AlarmState, LoopStateDto, TenantContext } from "./types";
+import type { BackfillApi } from "./backfill";
 
 export type HealthLevel = "ok" | "degraded" | "critical" | "down";
 
@@ -121,7 +127,10 @@ export interface AlarmListFilter {
 export interface AlarmApi {
   list(tenantId: number, f?: AlarmListFilter): AlarmDto[];
   get(tenantId: number, alarmId: number): AlarmDto | null;
-  detail(tenantId: number, alarmId: number): Promise<{ alarm: AlarmDto; occurrences: AlarmOccurrenceDto[]; events: AlarmEventDto[] }>;
+  detail(
+    tenantId: number,
+    alarmId: number,
+  ): Promise<{ alarm: AlarmDto; occurrences: AlarmOccurrenceDto[]; events: AlarmEventDto[] }>;
   acknowledge(user: TenantContext, alarmId: number, comment: string | null): AlarmDto;
   shelve(user: TenantContext, alarmId: number, minutes: number, reason: string): AlarmDto;
   unshelve(user: TenantContext, alarmId: number, comment?: string | null): AlarmDto;
@@ -129,7 +138,14 @@ export interface AlarmApi {
   returnToService(user: TenantContext, alarmId: number, comment?: string | null): AlarmDto;
   kpis(tenantId: number, from: number, to: number, areaId: number | null): Promise<AlarmKpis>;
   getPolicy(user: TenantContext, scope: PolicyScope, id: number): Promise<PolicyView>;
-  putPolicy(user: TenantContext, scope: PolicyScope, id: number, settings: unknown, reason: string, mocReference: string | null): Promise<PolicyView>;
+  putPolicy(
+    user: TenantContext,
+    scope: PolicyScope,
+    id: number,
+    settings: unknown,
+    reason: string,
+    mocReference: string | null,
+  ): Promise<PolicyView>;
   /** The loop's effective policy (the tracker forecasts to its decay-ratio level). */
   policyFor(loopId: number): EffectivePolicy;
 }
@@ -153,6 +169,7 @@ export interface IngestDeviceCounters {
 /** What the pipeline offers route handlers: a loop's live state, the ingest counters. */
 export interface PipelineApi {
   loopState(loopId: number): LoopStateDto | null;
+  backfill: BackfillApi;
   ingestDiagnostics(tenantId: number): { devices: IngestDeviceCounters[] };
 }
 

@@ -6,23 +6,17 @@
  */
 import { ConflictError, NotFoundError } from "@/lib/domain/errors";
 import type { SampleDto } from "@/lib/domain/types";
+import type { BackfillApi, BackfillRequest } from "@/lib/domain/backfill";
 import { BackfillJob, type BackfillDeps, type BackfillParams, type BackfillProgress } from "./job";
 import type { ByteSource } from "./sample-csv";
 import { loadLoopConfigs } from "../ingest/loop-source";
 import { closeAbandonedBackfills, listBackfills, type BackfillRow } from "./store";
 
-export interface BackfillRequest {
-  tenantId: number;
-  loopId: number;
-  userId: number | null;
-  fileName: string;
-  totalBytes: number | null;
-  replaceModel: boolean;
-}
+export type { BackfillRequest };
 
 const KEEP_FINISHED_MS = 3_600_000;
 
-export class BackfillHost {
+export class BackfillHost implements BackfillApi {
   private readonly jobs = new Map<number, { job: BackfillJob; finishedAt: number | null }>();
   private readonly byLoop = new Map<number, BackfillJob>();
 
@@ -37,9 +31,16 @@ export class BackfillHost {
    * Open a job (its row and id), then read `source` to the end. `onOpen` gets the id before any
    * sample is read, so the caller can report progress while it runs.
    */
-  async run(params: BackfillParams, source: ByteSource, onOpen?: (id: number) => void): Promise<BackfillProgress> {
+  async run(
+    params: BackfillParams,
+    source: ByteSource,
+    onOpen?: (id: number) => void,
+  ): Promise<BackfillProgress> {
     const loopId = params.route.loopId;
-    if (this.byLoop.has(loopId)) throw new ConflictError("A backfill of this loop is already running: wait for it or cancel it.");
+    if (this.byLoop.has(loopId))
+      throw new ConflictError(
+        "A backfill of this loop is already running: wait for it or cancel it.",
+      );
     const job = new BackfillJob(this.deps, params);
     this.byLoop.set(loopId, job);
     try {
@@ -56,16 +57,39 @@ export class BackfillHost {
   }
 
   /** Load the loop (of the tenant) and run a backfill of it: the route's entry point. */
-  async start(req: BackfillRequest, source: ByteSource, onOpen?: (id: number) => void): Promise<BackfillProgress> {
+  async start(
+    req: BackfillRequest,
+    source: ByteSource,
+    onOpen?: (id: number) => void,
+  ): Promise<BackfillProgress> {
     const [l] = await loadLoopConfigs(this.deps.sequelize, req.loopId);
     if (!l || l.route.tenantId !== req.tenantId) throw new NotFoundError("Loop");
-    return this.run({ route: l.route, config: l.config, enabled: l.enabled, userId: req.userId, fileName: req.fileName, totalBytes: req.totalBytes, replaceModel: req.replaceModel }, source, onOpen);
+    return this.run(
+      {
+        route: l.route,
+        config: l.config,
+        enabled: l.enabled,
+        userId: req.userId,
+        fileName: req.fileName,
+        totalBytes: req.totalBytes,
+        replaceModel: req.replaceModel,
+      },
+      source,
+      onOpen,
+    );
   }
 
   /** Recorded backfills of a loop, newest first, with the running one's live progress. */
-  async list(tenantId: number, loopId: number): Promise<{ running: BackfillProgress | null; recorded: BackfillRow[] }> {
+  async list(
+    tenantId: number,
+    loopId: number,
+  ): Promise<{ running: BackfillProgress | null; recorded: BackfillRow[] }> {
     const running = this.byLoop.get(loopId);
-    return { running: running && running.tenantId === tenantId && running.id > 0 ? running.progress() : null, recorded: await listBackfills(this.deps.sequelize, tenantId, loopId) };
+    return {
+      running:
+        running && running.tenantId === tenantId && running.id > 0 ? running.progress() : null,
+      recorded: await listBackfills(this.deps.sequelize, tenantId, loopId),
+    };
   }
 
   observeLive(loopId: number, samples: readonly SampleDto[], receivedAt: number): void {
@@ -88,6 +112,7 @@ export class BackfillHost {
 
   private prune(): void {
     const now = Date.now();
-    for (const [id, e] of this.jobs) if (e.finishedAt !== null && now - e.finishedAt > KEEP_FINISHED_MS) this.jobs.delete(id);
+    for (const [id, e] of this.jobs)
+      if (e.finishedAt !== null && now - e.finishedAt > KEEP_FINISHED_MS) this.jobs.delete(id);
   }
 }

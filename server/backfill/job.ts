@@ -26,7 +26,15 @@ import { LoopTracker } from "../tracking/loop-tracker";
 import type { TrackerRegistry } from "../tracking/registry";
 import type { LoopConfig } from "../tracking/types";
 import { readSampleCsv, type ByteSource, type SampleRejectReason } from "./sample-csv";
-import { blockedSpans, insertBackfill, updateBackfill, type BackfillStatus, type BlockedSpans } from "./store";
+import type { BackfillProgress } from "@/lib/domain/backfill";
+export type { BackfillProgress };
+import {
+  blockedSpans,
+  insertBackfill,
+  updateBackfill,
+  type BackfillStatus,
+  type BlockedSpans,
+} from "./store";
 
 export interface BackfillDeps {
   sequelize: Sequelize;
@@ -50,31 +58,6 @@ export interface BackfillParams {
   totalBytes: number | null;
   /** Train even though the live tracker has learnt already (its model is replaced). */
   replaceModel: boolean;
-}
-
-export interface BackfillProgress {
-  id: number;
-  loopId: number;
-  fileName: string;
-  status: BackfillStatus;
-  bytesRead: number;
-  totalBytes: number | null;
-  accepted: number;
-  rejected: number;
-  /** Accepted samples that went to the 1-minute tier only (older than the per-second retention). */
-  minuteOnly: number;
-  rejections: Partial<Record<SampleRejectReason, number>>;
-  /** The first rejections with their lines (at most 200). */
-  firstRejections: { line: number; reason: SampleRejectReason; detail: string }[];
-  quality: Record<string, number>;
-  fromT: number | null;
-  toT: number | null;
-  samplesPerS: number;
-  /** Seconds left at the current byte rate (null without a declared size). */
-  etaS: number | null;
-  training: boolean;
-  trained: boolean;
-  message: string | null;
 }
 
 /** A clock that reads the sample being replayed, then (after `goLive`) the server's clock. */
@@ -153,7 +136,8 @@ export class BackfillJob {
     if (this.heldCount + samples.length > MAX_HELD_LIVE) {
       this.tracker = null;
       this.held = [];
-      this.message = "Too much live telemetry arrived during the backfill to carry into the trained model: history written, the live model kept.";
+      this.message =
+        "Too much live telemetry arrived during the backfill to carry into the trained model: history written, the live model kept.";
       return;
     }
     this.held.push({ samples: [...samples], receivedAt });
@@ -180,7 +164,10 @@ export class BackfillJob {
       fromT: this.fromT,
       toT: this.toT,
       samplesPerS: (this.accepted + this.rejected) / elapsedS,
-      etaS: total !== null && byteRate > 0 && this.running ? Math.max(0, (total - this.bytesRead) / byteRate) : null,
+      etaS:
+        total !== null && byteRate > 0 && this.running
+          ? Math.max(0, (total - this.bytesRead) / byteRate)
+          : null,
       training: this.tracker !== null,
       trained: this.trained,
       message: this.message,
@@ -190,17 +177,28 @@ export class BackfillJob {
   /** Create the job's row (its id) and decide whether it trains. */
   async open(): Promise<void> {
     const { route, config, enabled, replaceModel } = this.params;
-    this.id = await insertBackfill(this.deps.sequelize, { tenantId: route.tenantId, loopId: route.loopId, userId: this.params.userId, fileName: this.params.fileName });
+    this.id = await insertBackfill(this.deps.sequelize, {
+      tenantId: route.tenantId,
+      loopId: route.loopId,
+      userId: this.params.userId,
+      fileName: this.params.fileName,
+    });
     const live = this.deps.registry.get(route.loopId);
     const liveSeen = live ? live.current.samples : 0;
-    if (config && enabled && (liveSeen === 0 || replaceModel)) this.tracker = new LoopTracker(config, { clock: this.replayClock });
-    else this.message = !config || !enabled ? "The loop is disabled or its configuration cannot build a tracker: history only." : "The loop already learns from live telemetry: history only (choose to replace the model to train from the backfill).";
+    if (config && enabled && (liveSeen === 0 || replaceModel))
+      this.tracker = new LoopTracker(config, { clock: this.replayClock });
+    else
+      this.message =
+        !config || !enabled
+          ? "The loop is disabled or its configuration cannot build a tracker: history only."
+          : "The loop already learns from live telemetry: history only (choose to replace the model to train from the backfill).";
   }
 
   private reject(line: number, reason: SampleRejectReason, detail: string): void {
     this.rejected++;
     this.rejections[reason] = (this.rejections[reason] ?? 0) + 1;
-    if (this.firstRejections.length < MAX_LISTED) this.firstRejections.push({ line, reason, detail });
+    if (this.firstRejections.length < MAX_LISTED)
+      this.firstRejections.push({ line, reason, detail });
   }
 
   /** Read the whole source; resolves with the final progress (never rejects for bad data). */
@@ -230,7 +228,14 @@ export class BackfillJob {
       blocked = await blockedSpans(d.sequelize, loopId, this.id);
       if (blocked.liveFrom !== null) this.liveCutoff = Math.min(this.liveCutoff, blocked.liveFrom);
       this.liveCutoff = Math.min(this.liveCutoff, Math.floor(startNow / 60_000) * 60_000 + 60_000);
-      const range = this.params.config ? { pvLo: this.params.config.pvLo, pvHi: this.params.config.pvHi, mvLo: this.params.config.mvLo, mvHi: this.params.config.mvHi } : this.params.route.range;
+      const range = this.params.config
+        ? {
+            pvLo: this.params.config.pvLo,
+            pvHi: this.params.config.pvHi,
+            mvLo: this.params.config.mvLo,
+            mvHi: this.params.config.mvHi,
+          }
+        : this.params.route.range;
       for await (const rec of readSampleCsv(source, (n) => (this.bytesRead = n))) {
         if (this.cancelled) break;
         if ("reject" in rec) {
@@ -244,17 +249,29 @@ export class BackfillJob {
           continue;
         }
         if (s.t <= last) {
-          this.reject(rec.line, s.t === last ? "duplicate" : "out-of-order", "samples must be in time order, one per time.");
+          this.reject(
+            rec.line,
+            s.t === last ? "duplicate" : "out-of-order",
+            "samples must be in time order, one per time.",
+          );
           continue;
         }
         if (s.t < minuteCutoff) {
-          this.reject(rec.line, "beyond-retention", `older than the ${d.minuteRetentionD}-day history retention.`);
+          this.reject(
+            rec.line,
+            "beyond-retention",
+            `older than the ${d.minuteRetentionD}-day history retention.`,
+          );
           continue;
         }
         while (spanIdx < blocked.spans.length && blocked.spans[spanIdx]!.to <= s.t) spanIdx++;
         const span = blocked.spans[spanIdx];
         if (span && s.t >= span.from) {
-          this.reject(rec.line, "overlap", `backfill #${span.backfillId} already wrote this minute.`);
+          this.reject(
+            rec.line,
+            "overlap",
+            `backfill #${span.backfillId} already wrote this minute.`,
+          );
           continue;
         }
         if (s.t >= this.liveCutoff) {
@@ -302,17 +319,22 @@ export class BackfillJob {
       if (d.writer.pending() > 0) await d.writer.flush({ now: d.clock.now(), force: true });
       this.status = this.cancelled ? "cancelled" : "done";
       if (!this.cancelled && this.tracker && this.accepted > 0) this.install(this.tracker);
-      else if (this.cancelled && this.tracker) this.message = "Cancelled: history written so far stays; the model was not installed.";
+      else if (this.cancelled && this.tracker)
+        this.message = "Cancelled: history written so far stays; the model was not installed.";
     } catch (e) {
       agg.closeAll();
       await d.writer.flush({ now: d.clock.now(), force: true });
       this.status = "failed";
-      this.message = e instanceof BadFileError ? e.message : `The backfill stopped: ${(e as Error).message}`;
-      if (!(e instanceof BadFileError)) console.error(`[backfill] loop ${loopId} job ${this.id} failed:`, e);
+      this.message =
+        e instanceof BadFileError ? e.message : `The backfill stopped: ${(e as Error).message}`;
+      if (!(e instanceof BadFileError))
+        console.error(`[backfill] loop ${loopId} job ${this.id} failed:`, e);
     }
     this.tracker = null;
     this.held = [];
-    await this.persist().catch((e: unknown) => console.error("[backfill] could not record the job:", e));
+    await this.persist().catch((e: unknown) =>
+      console.error("[backfill] could not record the job:", e),
+    );
     return this.progress();
   }
 
@@ -341,7 +363,12 @@ export class BackfillJob {
       rejected: this.rejected,
       minuteOnly: this.minuteOnly,
       trained: this.trained,
-      summary: { rejections: p.rejections, firstRejections: p.firstRejections.slice(0, 50), quality: p.quality, message: p.message },
+      summary: {
+        rejections: p.rejections,
+        firstRejections: p.firstRejections.slice(0, 50),
+        quality: p.quality,
+        message: p.message,
+      },
     });
   }
 }

@@ -12,22 +12,16 @@ import { parse } from "csv-parse";
 import { validateSample } from "@/lib/domain/telemetry";
 import type { SampleDto } from "@/lib/domain/types";
 
-export const SAMPLE_REJECT_REASONS = [
-  "bad-header",
-  "bad-row",
-  "bad-time",
-  "missing-value",
-  "non-finite",
-  "bad-shape",
-  "future",
-  "duplicate",
-  "out-of-order",
-  "beyond-retention",
-  "overlap",
-] as const;
-export type SampleRejectReason = (typeof SAMPLE_REJECT_REASONS)[number];
+import {
+  SAMPLE_REJECT_REASONS,
+  type ByteSource,
+  type SampleRejectReason,
+} from "@/lib/domain/backfill";
+export { SAMPLE_REJECT_REASONS, type ByteSource, type SampleRejectReason };
 
-export type SampleRecord = { line: number; sample: SampleDto } | { line: number; reject: SampleRejectReason; detail: string };
+export type SampleRecord =
+  | { line: number; sample: SampleDto }
+  | { line: number; reject: SampleRejectReason; detail: string };
 
 const ISO_WITH_ZONE = /^\d{4}-\d{2}-\d{2}[T ]\d{2}:\d{2}(:\d{2}(\.\d+)?)?(Z|[+-]\d{2}:?\d{2})$/i;
 const DECIMAL = /^[+-]?(\d+\.?\d*|\.\d+)([eE][+-]?\d+)?$/;
@@ -52,45 +46,81 @@ function numberCell(cell: string): number | string | null {
 }
 
 /** Anything that yields bytes: a Node stream, a web ReadableStream, an array of chunks. */
-export type ByteSource = AsyncIterable<Uint8Array | string> | ReadableStream<Uint8Array>;
 
 /**
  * Records of the file in order. `onBytes` is called with the count of bytes consumed so far
  * (for progress). The first yielded value is a `bad-header` rejection when the header lacks a
  * required column; nothing follows it then.
  */
-export async function* readSampleCsv(source: ByteSource, onBytes?: (n: number) => void): AsyncGenerator<SampleRecord> {
-  const input = typeof (source as ReadableStream).getReader === "function" ? Readable.fromWeb(source as import("node:stream/web").ReadableStream<Uint8Array>) : Readable.from(source as AsyncIterable<Uint8Array>);
+export async function* readSampleCsv(
+  source: ByteSource,
+  onBytes?: (n: number) => void,
+): AsyncGenerator<SampleRecord> {
+  const input =
+    typeof (source as ReadableStream).getReader === "function"
+      ? Readable.fromWeb(source as import("node:stream/web").ReadableStream<Uint8Array>)
+      : Readable.from(source as AsyncIterable<Uint8Array>);
   let bytes = 0;
   input.on("data", (c: Buffer | string) => {
     bytes += typeof c === "string" ? Buffer.byteLength(c) : c.byteLength;
     onBytes?.(bytes);
   });
-  const parser = input.pipe(parse({ info: true, relax_column_count: true, skip_empty_lines: true, trim: true, bom: true, max_record_size: 4096 }));
+  const parser = input.pipe(
+    parse({
+      info: true,
+      relax_column_count: true,
+      skip_empty_lines: true,
+      trim: true,
+      bom: true,
+      max_record_size: 4096,
+    }),
+  );
   let index: Record<"t" | "sp" | "pv" | "mv" | "mode" | "quality", number> | null = null;
   let width = 0;
   try {
-    for await (const { record, info } of parser as AsyncIterable<{ record: string[]; info: { lines: number } }>) {
+    for await (const { record, info } of parser as AsyncIterable<{
+      record: string[];
+      info: { lines: number };
+    }>) {
       const line = info.lines;
       if (!index) {
         const names = record.map((h) => h.trim().toLowerCase());
         const at = (n: string) => names.indexOf(n);
         const missing = ["t", "sp", "pv", "mv"].filter((n) => at(n) < 0);
         if (missing.length) {
-          yield { line, reject: "bad-header", detail: `The first line must name the columns t, sp, pv, mv (mode, quality optional); missing: ${missing.join(", ")}.` };
+          yield {
+            line,
+            reject: "bad-header",
+            detail: `The first line must name the columns t, sp, pv, mv (mode, quality optional); missing: ${missing.join(", ")}.`,
+          };
           return;
         }
-        index = { t: at("t"), sp: at("sp"), pv: at("pv"), mv: at("mv"), mode: at("mode"), quality: at("quality") };
+        index = {
+          t: at("t"),
+          sp: at("sp"),
+          pv: at("pv"),
+          mv: at("mv"),
+          mode: at("mode"),
+          quality: at("quality"),
+        };
         width = names.length;
         continue;
       }
       if (record.length !== width) {
-        yield { line, reject: "bad-row", detail: `${record.length} cells, the header has ${width}.` };
+        yield {
+          line,
+          reject: "bad-row",
+          detail: `${record.length} cells, the header has ${width}.`,
+        };
         continue;
       }
       const t = parseSampleTime(record[index.t] ?? "");
       if (t === null) {
-        yield { line, reject: "bad-time", detail: `"${(record[index.t] ?? "").slice(0, 40)}" is neither ISO 8601 with a zone nor epoch seconds.` };
+        yield {
+          line,
+          reject: "bad-time",
+          detail: `"${(record[index.t] ?? "").slice(0, 40)}" is neither ISO 8601 with a zone nor epoch seconds.`,
+        };
         continue;
       }
       const sp = numberCell(record[index.sp] ?? "");
@@ -101,17 +131,44 @@ export async function* readSampleCsv(source: ByteSource, onBytes?: (n: number) =
         continue;
       }
       const mode = index.mode >= 0 ? (record[index.mode] ?? "").toLowerCase() : "auto";
-      const quality = index.quality >= 0 && record[index.quality] !== "" ? (record[index.quality] ?? "").toLowerCase() : undefined;
-      const v = validateSample({ t, sp, pv, mv, mode, ...(quality === undefined ? {} : { quality }) });
+      const quality =
+        index.quality >= 0 && record[index.quality] !== ""
+          ? (record[index.quality] ?? "").toLowerCase()
+          : undefined;
+      const v = validateSample({
+        t,
+        sp,
+        pv,
+        mv,
+        mode,
+        ...(quality === undefined ? {} : { quality }),
+      });
       if (!v.ok) {
-        yield { line, reject: v.reason, detail: v.reason === "non-finite" ? "SP, PV or MV is not a finite number." : "a value, the mode or the quality is not valid." };
+        yield {
+          line,
+          reject: v.reason,
+          detail:
+            v.reason === "non-finite"
+              ? "SP, PV or MV is not a finite number."
+              : "a value, the mode or the quality is not valid.",
+        };
         continue;
       }
       yield { line, sample: v.sample };
     }
-    if (!index) yield { line: 1, reject: "bad-header", detail: "The file is empty: its first line must name the columns t, sp, pv, mv (mode, quality optional)." };
+    if (!index)
+      yield {
+        line: 1,
+        reject: "bad-header",
+        detail:
+          "The file is empty: its first line must name the columns t, sp, pv, mv (mode, quality optional).",
+      };
   } catch (e) {
-    yield { line: Number((e as { lines?: number }).lines ?? 0), reject: "bad-row", detail: `The file is not readable CSV from here on: ${(e as Error).message}` };
+    yield {
+      line: Number((e as { lines?: number }).lines ?? 0),
+      reject: "bad-row",
+      detail: `The file is not readable CSV from here on: ${(e as Error).message}`,
+    };
   } finally {
     input.destroy();
   }

@@ -5,55 +5,74 @@
  */
 import { QueryTypes, type Sequelize } from "sequelize";
 
-export type BackfillStatus = "running" | "done" | "cancelled" | "failed";
-
-export interface BackfillRow {
-  id: number;
-  loopId: number;
-  userId: number | null;
-  fileName: string;
-  status: BackfillStatus;
-  fromT: number | null;
-  toT: number | null;
-  bytes: number;
-  accepted: number;
-  rejected: number;
-  minuteOnly: number;
-  trained: boolean;
-  summary: unknown;
-  startedAt: string;
-  finishedAt: string | null;
-}
+import type { BackfillRow, BackfillStatus } from "@/lib/domain/backfill";
+export type { BackfillRow, BackfillStatus };
 
 export const MINUTE_MS = 60_000;
 const floorMinute = (t: number) => Math.floor(t / MINUTE_MS) * MINUTE_MS;
 
-export async function insertBackfill(sequelize: Sequelize, r: { tenantId: number; loopId: number; userId: number | null; fileName: string }): Promise<number> {
-  const [id] = await sequelize.query("INSERT INTO history_backfills (tenant_id, loop_id, user_id, file_name, status, started_at) VALUES (?, ?, ?, ?, 'running', NOW(3))", {
-    replacements: [r.tenantId, r.loopId, r.userId, r.fileName.slice(0, 255)],
-    type: QueryTypes.INSERT,
-  });
+export async function insertBackfill(
+  sequelize: Sequelize,
+  r: { tenantId: number; loopId: number; userId: number | null; fileName: string },
+): Promise<number> {
+  const [id] = await sequelize.query(
+    "INSERT INTO history_backfills (tenant_id, loop_id, user_id, file_name, status, started_at) VALUES (?, ?, ?, ?, 'running', NOW(3))",
+    {
+      replacements: [r.tenantId, r.loopId, r.userId, r.fileName.slice(0, 255)],
+      type: QueryTypes.INSERT,
+    },
+  );
   return Number(id);
 }
 
 export async function updateBackfill(
   sequelize: Sequelize,
   id: number,
-  r: { status: BackfillStatus; fromT: number | null; toT: number | null; bytes: number; accepted: number; rejected: number; minuteOnly: number; trained: boolean; summary: unknown },
+  r: {
+    status: BackfillStatus;
+    fromT: number | null;
+    toT: number | null;
+    bytes: number;
+    accepted: number;
+    rejected: number;
+    minuteOnly: number;
+    trained: boolean;
+    summary: unknown;
+  },
 ): Promise<void> {
   await sequelize.query(
     `UPDATE history_backfills SET status = ?, from_t = ?, to_t = ?, bytes = ?, accepted = ?, rejected = ?, minute_only = ?, trained = ?, summary = ?,
        finished_at = IF(? = 'running', NULL, NOW(3)) WHERE id = ?`,
-    { replacements: [r.status, r.fromT, r.toT, r.bytes, r.accepted, r.rejected, r.minuteOnly, r.trained, JSON.stringify(r.summary), r.status, id] },
+    {
+      replacements: [
+        r.status,
+        r.fromT,
+        r.toT,
+        r.bytes,
+        r.accepted,
+        r.rejected,
+        r.minuteOnly,
+        r.trained,
+        JSON.stringify(r.summary),
+        r.status,
+        id,
+      ],
+    },
   );
 }
 
 /** A backfill left `running` by a process that ended: it stopped where its span ends. */
 export async function closeAbandonedBackfills(sequelize: Sequelize): Promise<void> {
-  await sequelize.query("UPDATE history_backfills SET status = 'failed', finished_at = NOW(3) WHERE status = 'running'");
+  await sequelize.query(
+    "UPDATE history_backfills SET status = 'failed', finished_at = NOW(3) WHERE status = 'running'",
+  );
 }
 
-export async function listBackfills(sequelize: Sequelize, tenantId: number, loopId: number): Promise<BackfillRow[]> {
+export async function listBackfills(
+  sequelize: Sequelize,
+  tenantId: number,
+  loopId: number,
+): Promise<BackfillRow[]> {
   const rows = await sequelize.query<Record<string, unknown>>(
     `SELECT id, loop_id, user_id, file_name, status, from_t, to_t, bytes, accepted, rejected, minute_only, trained, summary, started_at, finished_at
        FROM history_backfills WHERE tenant_id = ? AND loop_id = ? ORDER BY id DESC LIMIT 100`,
@@ -87,21 +106,37 @@ export interface BlockedSpans {
 }
 
 /** What a new backfill of `loopId` must leave alone (see the header). */
-export async function blockedSpans(sequelize: Sequelize, loopId: number, exceptId: number): Promise<BlockedSpans> {
-  const rows = await sequelize.query<{ id: number; from_t: number | string; to_t: number | string }>(
+export async function blockedSpans(
+  sequelize: Sequelize,
+  loopId: number,
+  exceptId: number,
+): Promise<BlockedSpans> {
+  const rows = await sequelize.query<{
+    id: number;
+    from_t: number | string;
+    to_t: number | string;
+  }>(
     "SELECT id, from_t, to_t FROM history_backfills WHERE loop_id = ? AND id <> ? AND from_t IS NOT NULL AND to_t IS NOT NULL ORDER BY from_t",
     { replacements: [loopId, exceptId], type: QueryTypes.SELECT },
   );
-  const spans = rows.map((r) => ({ from: floorMinute(Number(r.from_t)), to: floorMinute(Number(r.to_t)) + MINUTE_MS, backfillId: Number(r.id) }));
+  const spans = rows.map((r) => ({
+    from: floorMinute(Number(r.from_t)),
+    to: floorMinute(Number(r.to_t)) + MINUTE_MS,
+    backfillId: Number(r.id),
+  }));
   const notBackfilled = spans.map(() => "NOT (t >= ? AND t < ?)").join(" AND ");
   const args = spans.flatMap((s) => [s.from, s.to]);
   let liveFrom: number | null = null;
   for (const table of ["samples_1m", "samples_1s", "pole_snapshots"]) {
-    const [row] = await sequelize.query<{ t: number | string | null }>(`SELECT MIN(t) AS t FROM ${table} WHERE loop_id = ?${spans.length ? ` AND ${notBackfilled}` : ""}`, {
-      replacements: [loopId, ...args],
-      type: QueryTypes.SELECT,
-    });
-    if (row?.t !== null && row?.t !== undefined) liveFrom = Math.min(liveFrom ?? Infinity, floorMinute(Number(row.t)));
+    const [row] = await sequelize.query<{ t: number | string | null }>(
+      `SELECT MIN(t) AS t FROM ${table} WHERE loop_id = ?${spans.length ? ` AND ${notBackfilled}` : ""}`,
+      {
+        replacements: [loopId, ...args],
+        type: QueryTypes.SELECT,
+      },
+    );
+    if (row?.t !== null && row?.t !== undefined)
+      liveFrom = Math.min(liveFrom ?? Infinity, floorMinute(Number(row.t)));
   }
   return { spans, liveFrom };
 }
