@@ -19,6 +19,7 @@ import { parseTelemetryTopic } from "@/lib/telemetry";
 import { startRealtimeEmitter, type RealtimeEmitter, type RealtimeEmitterOptions } from "./realtime/emitter";
 import { installWatch } from "./realtime/watch";
 import { TrackerRegistry } from "./tracking/registry";
+import { startLiveAssessment, type LiveAssessmentService } from "./assessment/service";
 
 export interface PipelineOptions {
   sequelize?: Sequelize;
@@ -43,6 +44,8 @@ export interface PipelineService extends Service {
   readonly history: HistoryService;
   readonly emitter: RealtimeEmitter;
   readonly directory: LoopDirectory;
+  /** Routine-data findings (server/assessment). */
+  readonly assessment: LiveAssessmentService;
   /** Per-device counters of one tenant (the admin diagnostics route). */
   ingestDiagnostics(tenantId: number): IngestDiagnostics;
   /** The live state of a loop, if tracked. */
@@ -87,6 +90,7 @@ export async function startPipeline(ctx: ServerContext, opts: PipelineOptions = 
 
   const history = await startHistory(ctx, { sequelize, ...opts.history });
   const emitter = startRealtimeEmitter(ctx, opts.realtime);
+  const assessment = await startLiveAssessment(ctx, { sequelize });
   const unwatch = ctx.io ? installWatch(ctx.io, { loopTenant: (id) => directory.get(id)?.tenantId ?? null }) : () => undefined;
 
   const onUpdate = (state: LoopStateDto) => {
@@ -104,6 +108,7 @@ export async function startPipeline(ctx: ServerContext, opts: PipelineOptions = 
       registry.push(route.loopId, samples, receivedAt);
       history.addSamples(route.loopId, samples);
       emitter.samples(route.loopId, samples);
+      assessment.push(route.loopId, samples);
     },
   });
   ingest.seedLastTimes(lastStates.flatMap((s) => (s.last ? [[s.loopId, s.last.t] as [number, number]] : [])));
@@ -123,6 +128,7 @@ export async function startPipeline(ctx: ServerContext, opts: PipelineOptions = 
     else registry.removeLoop(loopId);
   };
   const onConfigChanged = (loopId: number) => {
+    assessment.reloadLoop(loopId).catch((err: unknown) => console.error(`[pipeline] reloading the assessment of loop ${loopId} failed:`, err));
     reloadLoop(loopId).catch((err: unknown) => console.error(`[pipeline] reloading loop ${loopId} failed:`, err));
   };
   ctx.bus.on("loop:config-changed", onConfigChanged);
@@ -165,6 +171,7 @@ export async function startPipeline(ctx: ServerContext, opts: PipelineOptions = 
     ctx.bus.off("loop:config-changed", onConfigChanged);
     unwatch();
     emitter.stop();
+    await assessment.stop();
     await history.stop();
     throw err;
   }
@@ -184,6 +191,7 @@ export async function startPipeline(ctx: ServerContext, opts: PipelineOptions = 
     history,
     emitter,
     directory,
+    assessment,
     ingestDiagnostics: (tenantId) => ({ devices: counters.snapshot(tenantId), totals: counters.totals(tenantId) }),
     loopState: (loopId) => registry.get(loopId)?.current ?? lastStateByLoop.get(loopId) ?? null,
     reloadLoop,
@@ -201,6 +209,7 @@ export async function startPipeline(ctx: ServerContext, opts: PipelineOptions = 
           history: h,
           ingest: counters.totals(),
           realtime: emitter.stats(),
+          assessment: assessment.stats(),
           trackers: {
             loops: registry.size,
             routes: directory.size,
@@ -225,6 +234,7 @@ export async function startPipeline(ctx: ServerContext, opts: PipelineOptions = 
       ctx.bus.off("tracker:update", onUpdate);
       unwatch();
       emitter.stop();
+      await assessment.stop();
       await history.stop();
     },
   };
