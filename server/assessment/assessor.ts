@@ -8,9 +8,11 @@
  * 2–3 µs per window sample (bench:assess-speed: one day at 1 s, 86,400 samples, in 0.2–0.3 s of
  * CPU), so a window of n stored samples costs ≈ 2.5·n µs. Re-running it only after
  * RERUN_FACTOR·n new samples (n counted in incoming samples, i.e. times the decimation stride)
- * gives 2.5·n / (1.5·n) ≈ 1.7 µs per sample (2 µs at 3 µs per window sample). While the window
- * fills, runs come at n = 60, 150, 375, ... samples (each 2.5 times the last), so the first
- * verdict (or "not judged yet · about N min") comes after a minute of data at 1 s. Loops are
+ * gives 2.5·n / (1.5·n) ≈ 1.7 µs per sample (2 µs at 3 µs per window sample) once the window is
+ * full. While it fills, runs come at n = 60, 150, 375, ... samples (each 2.5 times the last, so
+ * the first verdict, or "not judged yet · about N min", comes after a minute of data at 1 s); each
+ * covers all data so far, so that first fill costs up to 2.5/1.5 window samples per incoming one
+ * (≈ 4 µs per sample for one window's length, ≈ 15 ms per loop in all at 3,600 samples). Loops are
  * staggered: each loop's first run is offset by a share of its own interval taken from its id, and
  * due loops run from a timer in small batches with a time cap per tick.
  */
