@@ -10,7 +10,7 @@ import { describe, expect, it } from "vitest";
 import { assessLoop, parseLoopConfig, type AssessSample } from "@/lib/assessment";
 import { findingPhrase } from "@/lib/findings/types";
 import type { SampleDto } from "@/lib/types";
-import { FIRST_RUN_SAMPLES, LiveAssessor, RERUN_FACTOR, strideFor, type LiveResult } from "@/server/assessment/assessor";
+import { LiveAssessor, RERUN_FACTOR, strideFor } from "@/server/assessment/assessor";
 import { benchmarkPlan, generateRecording } from "@/simulators/benchmark/generate";
 
 const T0_MS = Date.UTC(2026, 11, 2, 6, 0, 0);

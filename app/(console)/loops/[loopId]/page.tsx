@@ -1,5 +1,6 @@
 import { notFound, redirect } from "next/navigation";
 import { LoopDetail } from "@/app/_components/loop-detail";
+import { FindingEvidencePanel } from "@/app/_components/finding-evidence";
 import { isRangeKey } from "@/lib/client/ranges";
 import { getContextOrNull } from "@/lib/auth/guard";
 import { loopTenantId } from "@/lib/loops";
@@ -17,5 +18,5 @@ export default async function LoopPage({ params, searchParams }: { params: Promi
   if ((await loopTenantId(id)) !== ctx.tenantId) notFound();
   const { range } = await searchParams;
   const initialRange = isRangeKey(range) ? range : "1h";
-  return <LoopDetail loopId={id} role={ctx.role} initialRange={initialRange} />;
+  return <><LoopDetail loopId={id} role={ctx.role} initialRange={initialRange} /><FindingEvidencePanel loopId={id} /></>;
 }
