@@ -24,8 +24,9 @@ import { AssessRing } from "./ring";
 export const WINDOW_SAMPLES = 3_600;
 /** Re-run after this many times the window's (incoming) length: see the CPU budget above. */
 export const RERUN_FACTOR = 1.5;
-/** First assessment after this many samples. */
+/** First assessment after this many samples, or a minute of data when that is fewer samples. */
 export const FIRST_RUN_SAMPLES = 60;
+const FIRST_RUN_S = 60;
 /** The window is made to span at least this many integral times (or dead times), capped at 24 h (decimated). */
 const SPAN_TIME_SCALES = 40;
 const MAX_SPAN_S = 24 * 3_600;
@@ -55,6 +56,8 @@ interface Entry {
   windowConfig: AssessConfig;
   ring: AssessRing;
   sinceRun: number;
+  /** Incoming samples before the first run (and the least between runs). */
+  firstRun: number;
   dueAfter: number;
   due: boolean;
 }
@@ -95,12 +98,15 @@ export class LiveAssessor {
       old.loop = loop;
       return;
     }
+    const firstRun = Math.max(8 * stride, Math.min(FIRST_RUN_SAMPLES, Math.ceil(FIRST_RUN_S / loop.config.samplePeriodS)));
     this.loops.set(loop.loopId, {
       loop,
+      firstRun,
       windowConfig,
       ring: new AssessRing(capacity, stride),
       sinceRun: 0,
-      dueAfter: Math.max(1, Math.round(FIRST_RUN_SAMPLES * stride * (1 + 0.5 * stagger(loop.loopId)))),
+      // The first run comes early even for a decimated window (a few stored samples cost nothing): it says how much data is still needed.
+      dueAfter: Math.max(1, Math.round(firstRun * (1 + 0.5 * stagger(loop.loopId)))),
       due: false,
     });
   }
@@ -169,14 +175,14 @@ export class LiveAssessor {
     const stride = e.ring.stride;
     e.sinceRun = 0;
     if (n < 2) {
-      e.dueAfter = FIRST_RUN_SAMPLES * stride;
+      e.dueAfter = e.firstRun;
       return null;
     }
     const report = assessLoop(e.ring.samples(), e.windowConfig);
     // Next run: the CPU budget's interval, or later when the verdict says how much data it needs.
     const needs = report.diagnosis.needsS ? report.diagnosis.needsS / e.loop.config.samplePeriodS : 0;
     const budget = RERUN_FACTOR * n * stride;
-    e.dueAfter = Math.max(FIRST_RUN_SAMPLES * stride, Math.ceil(Math.min(Math.max(budget, needs), RERUN_FACTOR * e.ring.capacity * stride)));
+    e.dueAfter = Math.max(e.firstRun, Math.ceil(Math.min(Math.max(budget, needs), RERUN_FACTOR * e.ring.capacity * stride)));
     const r: LiveResult = {
       loopId: e.loop.loopId,
       tenantId: e.loop.tenantId,
