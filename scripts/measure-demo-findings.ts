@@ -26,6 +26,7 @@ const ACCEPT: Record<string, string[]> = {
   saturation: ["saturated"],
   "manual-switch": ["manual"],
   "frozen-sensor": ["sensor-fault"],
+  "outside-oscillation": ["external-disturbance"],
 };
 
 async function main() {
@@ -58,7 +59,7 @@ async function main() {
     });
   });
   const expectedAt = (tag: string, tS: number): string[] => {
-    const active = (drifts.get(tag) ?? []).filter((d) => d.startS <= tS && (d.durationS === undefined || d.kind === "sticky-valve" || d.kind === "gain-creep" || d.kind === "dead-time-growth" || tS <= d.startS + d.durationS));
+    const active = (drifts.get(tag) ?? []).filter((d) => d.startS <= tS && (d.durationS == null || d.kind === "sticky-valve" || d.kind === "gain-creep" || d.kind === "dead-time-growth" || tS <= d.startS + d.durationS));
     return active.length ? active.flatMap((d) => ACCEPT[d.kind] ?? []) : ["healthy"];
   };
   const cpu0 = process.cpuUsage();
