@@ -5,7 +5,8 @@
  * - `work_items`: one open item per loop and finding label (a generated column `open_key` is the
  *   label while the item is not closed and NULL once closed, so a unique index allows any number of
  *   closed items but one open one), with the figures when it opened and the latest;
- * - `work_item_events`: the append-only history of status changes, owners and notes;
+ * - `work_item_events`: the append-only history of status changes, owners and notes (triggers
+ *   refuse UPDATE and DELETE);
  * - `notification_rules.kind`: `alarm` (the operator's rules) or `finding` (an engineer's rules
  *   for work-list items); a finding never reaches the alarm list or its KPIs.
  */
@@ -87,6 +88,15 @@ export const up: MigrationFn = async ({ context: qi }) => {
     table,
   );
   await qi.addIndex("work_item_events", ["work_item_id", "at"], { name: "work_item_events_item_at" });
+  // The history is append-only (foreign-key cascades do not fire triggers, so removing a tenant still works).
+  await qi.sequelize.query(
+    "CREATE TRIGGER work_item_events_no_update BEFORE UPDATE ON work_item_events FOR EACH ROW " +
+      "SIGNAL SQLSTATE '45000' SET MESSAGE_TEXT = 'work_item_events is append-only: UPDATE refused'",
+  );
+  await qi.sequelize.query(
+    "CREATE TRIGGER work_item_events_no_delete BEFORE DELETE ON work_item_events FOR EACH ROW " +
+      "SIGNAL SQLSTATE '45000' SET MESSAGE_TEXT = 'work_item_events is append-only: DELETE refused'",
+  );
   await qi.sequelize.query(
     "ALTER TABLE notification_rules ADD COLUMN kind ENUM('alarm','finding') NOT NULL DEFAULT 'alarm' AFTER name",
   );
@@ -95,6 +105,8 @@ export const up: MigrationFn = async ({ context: qi }) => {
 export const down: MigrationFn = async ({ context: qi }) => {
   await qi.sequelize.query("DELETE FROM notification_rules WHERE kind = 'finding'");
   await qi.sequelize.query("ALTER TABLE notification_rules DROP COLUMN kind");
+  await qi.sequelize.query("DROP TRIGGER IF EXISTS work_item_events_no_update");
+  await qi.sequelize.query("DROP TRIGGER IF EXISTS work_item_events_no_delete");
   await qi.dropTable("work_item_events");
   await qi.dropTable("work_items");
   await qi.dropTable("loop_assessments");

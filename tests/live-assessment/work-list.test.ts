@@ -130,6 +130,9 @@ describe("work list rules", () => {
     expect((await itemRoute.PATCH(req("PATCH", { status: "open", note: "again" }), params("itemId", id))).status).toBe(409);
     const events = await db.sequelize.query<{ n: number }>("SELECT COUNT(*) AS n FROM work_item_events WHERE work_item_id = ?", { replacements: [id], type: QueryTypes.SELECT });
     expect(Number(events[0]!.n)).toBe(4);
+    // The history cannot be rewritten (migration 0130 triggers).
+    await expect(db.sequelize.query("UPDATE work_item_events SET note = 'rewritten' WHERE work_item_id = ?", { replacements: [id] })).rejects.toThrow(/append-only/);
+    await expect(db.sequelize.query("DELETE FROM work_item_events WHERE work_item_id = ?", { replacements: [id] })).rejects.toThrow(/append-only/);
   });
 
   it("engineers edit; viewers and operators read", async () => {
