@@ -21,6 +21,8 @@ export class NotificationRule extends Model<InferAttributes<NotificationRule>, I
   /** null = every area of the tenant. */
   declare areaId: number | null;
   declare name: string;
+  /** `alarm`: the operator's alarm mails; `finding`: an engineer's work-list mails (migration 0130). */
+  declare kind: CreationOptional<"alarm" | "finding">;
   /** E-mail addresses. */
   declare recipients: string[];
   /** Notify for this priority and more urgent ones. */
@@ -58,6 +60,7 @@ export function initNotificationModels(sequelize: Sequelize) {
       tenantId: { type: DataTypes.INTEGER, allowNull: false },
       areaId: { type: DataTypes.INTEGER, allowNull: true },
       name: { type: DataTypes.STRING(200), allowNull: false },
+      kind: enumColumn(["alarm", "finding"], false, "alarm"),
       recipients: { type: DataTypes.JSON, allowNull: false },
       minPriority: enumColumn(ALARM_PRIORITIES, false, "high"),
       escalationMinutes: { type: DataTypes.INTEGER, allowNull: true, validate: { min: 1 } },

@@ -16,12 +16,23 @@ import { dbCredentials } from "./broker/db-credentials";
 import type { ServerContext, Service, ServiceHealth } from "./context";
 import { loadCheckpoints, loadLoopStates, saveCheckpoints } from "./history/checkpoints";
 import { startHistory, type HistoryOptions, type HistoryService } from "./history";
-import { Ingest, IngestCounters, LoopDirectory, type DeviceCounters, type DeviceIdentity } from "./ingest";
+import {
+  Ingest,
+  IngestCounters,
+  LoopDirectory,
+  type DeviceCounters,
+  type DeviceIdentity,
+} from "./ingest";
 import { parseTelemetryTopic } from "@/lib/domain/telemetry";
-import { startRealtimeEmitter, type RealtimeEmitter, type RealtimeEmitterOptions } from "./realtime/emitter";
+import {
+  startRealtimeEmitter,
+  type RealtimeEmitter,
+  type RealtimeEmitterOptions,
+} from "./realtime/emitter";
 import { installWatch } from "./realtime/watch";
 import { TrackerRegistry } from "./tracking/registry";
 import { BackfillHost } from "./backfill/host";
+import { startLiveAssessment, type LiveAssessmentService } from "./assessment/service";
 
 export interface PipelineOptions {
   sequelize?: Sequelize;
@@ -48,6 +59,8 @@ export interface PipelineService extends Service {
   readonly directory: LoopDirectory;
   /** Historian backfills (server/backfill). */
   readonly backfill: BackfillHost;
+  /** Routine-data findings (server/assessment). */
+  readonly assessment: LiveAssessmentService;
   /** Per-device counters of one tenant (the admin diagnostics route). */
   ingestDiagnostics(tenantId: number): IngestDiagnostics;
   /** The live state of a loop, if tracked. */
@@ -58,7 +71,11 @@ export interface PipelineService extends Service {
 
 /** Find the running pipeline from a route handler (duck-typed: bundles may hold separate module copies). */
 export function isPipelineService(s: Service | undefined): s is PipelineService {
-  return !!s && s.name === "pipeline" && typeof (s as Partial<PipelineService>).ingestDiagnostics === "function";
+  return (
+    !!s &&
+    s.name === "pipeline" &&
+    typeof (s as Partial<PipelineService>).ingestDiagnostics === "function"
+  );
 }
 
 /**
@@ -70,10 +87,18 @@ function externalIdentity(topic: string, directory: LoopDirectory): DeviceIdenti
   if (!t) return EXTERNAL_BROKER;
   const tenantId = directory.tenantIdOf(t.tenantSlug);
   if (tenantId === null) return EXTERNAL_BROKER;
-  return { key: `(external broker) ${t.tenantSlug}/${t.siteSlug}`, tenantId, tenantSlug: t.tenantSlug, siteSlug: t.siteSlug };
+  return {
+    key: `(external broker) ${t.tenantSlug}/${t.siteSlug}`,
+    tenantId,
+    tenantSlug: t.tenantSlug,
+    siteSlug: t.siteSlug,
+  };
 }
 
-export async function startPipeline(ctx: ServerContext, opts: PipelineOptions = {}): Promise<PipelineService> {
+export async function startPipeline(
+  ctx: ServerContext,
+  opts: PipelineOptions = {},
+): Promise<PipelineService> {
   const sequelize = opts.sequelize ?? getSequelize(ctx.config);
   const loaded = await loadLoopConfigs(sequelize);
   const directory = new LoopDirectory(loaded.map((l) => l.route));
@@ -84,7 +109,10 @@ export async function startPipeline(ctx: ServerContext, opts: PipelineOptions = 
   const registry = new TrackerRegistry(
     { bus: ctx.bus, clock: ctx.clock },
     loaded.flatMap((l) => (l.config && l.enabled ? [l.config] : [])),
-    { alarmDecayRatio: (loopId) => (alarms?.policyFor ? alarms.policyFor(loopId).decayRatio.low : DEFAULT_POLICY.decayRatio.low) },
+    {
+      alarmDecayRatio: (loopId) =>
+        alarms?.policyFor ? alarms.policyFor(loopId).decayRatio.low : DEFAULT_POLICY.decayRatio.low,
+    },
   );
 
   // Resume: estimators from their checkpoints, sample order from the last stored states.
@@ -94,10 +122,17 @@ export async function startPipeline(ctx: ServerContext, opts: PipelineOptions = 
   const lastStateByLoop = new Map(lastStates.map((s) => [s.loopId, s]));
 
   const history = await startHistory(ctx, { sequelize, ...opts.history });
-  const emitter = startRealtimeEmitter(ctx, { loopSite: (id) => directory.get(id)?.siteId ?? null, ...opts.realtime });
+  const emitter = startRealtimeEmitter(ctx, {
+    loopSite: (id) => directory.get(id)?.siteId ?? null,
+    ...opts.realtime,
+  });
   const unwatch = ctx.io
-    ? installWatch(ctx.io, { loopTenant: (id) => directory.get(id)?.tenantId ?? null, loopSite: (id) => directory.get(id)?.siteId ?? null })
+    ? installWatch(ctx.io, {
+        loopTenant: (id) => directory.get(id)?.tenantId ?? null,
+        loopSite: (id) => directory.get(id)?.siteId ?? null,
+      })
     : () => undefined;
+  const assessment = await startLiveAssessment(ctx, { sequelize });
 
   const onUpdate = (state: LoopStateDto) => {
     history.addState(state);
@@ -127,9 +162,12 @@ export async function startPipeline(ctx: ServerContext, opts: PipelineOptions = 
       backfill.observeLive(route.loopId, samples, receivedAt);
       history.addSamples(route.loopId, samples);
       emitter.samples(route.loopId, samples);
+      assessment.push(route.loopId, samples);
     },
   });
-  ingest.seedLastTimes(lastStates.flatMap((s) => (s.last ? [[s.loopId, s.last.t] as [number, number]] : [])));
+  ingest.seedLastTimes(
+    lastStates.flatMap((s) => (s.last ? [[s.loopId, s.last.t] as [number, number]] : [])),
+  );
 
   const reloadLoop = async (loopId: number) => {
     const [l]: (LoadedLoop | undefined)[] = await loadLoopConfigs(sequelize, loopId);
@@ -146,7 +184,14 @@ export async function startPipeline(ctx: ServerContext, opts: PipelineOptions = 
     else registry.removeLoop(loopId);
   };
   const onConfigChanged = (loopId: number) => {
-    reloadLoop(loopId).catch((err: unknown) => console.error(`[pipeline] reloading loop ${loopId} failed:`, err));
+    assessment
+      .reloadLoop(loopId)
+      .catch((err: unknown) =>
+        console.error(`[pipeline] reloading the assessment of loop ${loopId} failed:`, err),
+      );
+    reloadLoop(loopId).catch((err: unknown) =>
+      console.error(`[pipeline] reloading loop ${loopId} failed:`, err),
+    );
   };
   ctx.bus.on("loop:config-changed", onConfigChanged);
 
@@ -182,21 +227,35 @@ export async function startPipeline(ctx: ServerContext, opts: PipelineOptions = 
 
   let broker: BrokerService;
   try {
-    broker = await startBroker(ctx, { credentials: dbCredentials(sequelize), counters, ...opts.broker });
+    broker = await startBroker(ctx, {
+      credentials: dbCredentials(sequelize),
+      counters,
+      ...opts.broker,
+    });
   } catch (err) {
     ctx.bus.off("tracker:update", onUpdate);
     ctx.bus.off("loop:config-changed", onConfigChanged);
     unwatch();
     emitter.stop();
+    await assessment.stop();
     await history.stop();
     throw err;
   }
   broker.subscribeInternal(TELEMETRY_WILDCARD, (m) => {
-    ingest.handle({ topic: m.topic, payload: m.payload, device: m.device === EXTERNAL_BROKER ? externalIdentity(m.topic, directory) : m.device, dup: m.dup, retain: m.retain });
+    ingest.handle({
+      topic: m.topic,
+      payload: m.payload,
+      device: m.device === EXTERNAL_BROKER ? externalIdentity(m.topic, directory) : m.device,
+      dup: m.dup,
+      retain: m.retain,
+    });
   });
 
   const tickTimer = registry.startTimer(opts.tickEveryMs ?? 1_000);
-  const checkpointTimer = ctx.clock.setInterval(() => void checkpointNow(), opts.checkpointEveryMs ?? 60_000);
+  const checkpointTimer = ctx.clock.setInterval(
+    () => void checkpointNow(),
+    opts.checkpointEveryMs ?? 60_000,
+  );
 
   let stopped = false;
   return {
@@ -208,7 +267,11 @@ export async function startPipeline(ctx: ServerContext, opts: PipelineOptions = 
     emitter,
     directory,
     backfill,
-    ingestDiagnostics: (tenantId) => ({ devices: counters.snapshot(tenantId), totals: counters.totals(tenantId) }),
+    assessment,
+    ingestDiagnostics: (tenantId) => ({
+      devices: counters.snapshot(tenantId),
+      totals: counters.totals(tenantId),
+    }),
     loopState: (loopId) => registry.get(loopId)?.current ?? lastStateByLoop.get(loopId) ?? null,
     reloadLoop,
     checkpointNow,
@@ -216,7 +279,11 @@ export async function startPipeline(ctx: ServerContext, opts: PipelineOptions = 
       const [b, h] = await Promise.all([broker.health(), history.health()]);
       const levels = ["ok", "degraded", "critical", "down"] as const;
       let status = levels[Math.max(levels.indexOf(b.status), levels.indexOf(h.status))] ?? "ok";
-      if (status === "ok" && (checkpointError || configErrors.size > 0 || registry.rejected.size > 0)) status = "degraded";
+      if (
+        status === "ok" &&
+        (checkpointError || configErrors.size > 0 || registry.rejected.size > 0)
+      )
+        status = "degraded";
       if (stopped) status = "down";
       return {
         status,
@@ -225,6 +292,7 @@ export async function startPipeline(ctx: ServerContext, opts: PipelineOptions = 
           history: h,
           ingest: counters.totals(),
           realtime: emitter.stats(),
+          assessment: assessment.stats(),
           trackers: {
             loops: registry.size,
             routes: directory.size,
@@ -250,6 +318,7 @@ export async function startPipeline(ctx: ServerContext, opts: PipelineOptions = 
       ctx.bus.off("tracker:update", onUpdate);
       unwatch();
       emitter.stop();
+      await assessment.stop();
       await history.stop();
     },
   };

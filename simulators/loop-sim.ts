@@ -213,7 +213,7 @@ export class LoopSim {
   private activeDrift<K extends DriftSpec["kind"]>(kind: K, t: number): Extract<DriftSpec, { kind: K }> | null {
     for (const d of this.config.drift) {
       if (d.kind !== kind || t < d.startS) continue;
-      const dur = d.kind === "manual-switch" || d.kind === "frozen-sensor" || d.kind === "saturation" ? d.durationS : null;
+      const dur = d.kind === "manual-switch" || d.kind === "frozen-sensor" || d.kind === "saturation" || d.kind === "outside-oscillation" ? d.durationS : null;
       if (dur !== null && t >= d.startS + dur) continue;
       return d as Extract<DriftSpec, { kind: K }>;
     }
@@ -248,6 +248,8 @@ export class LoopSim {
     this.extraDelay = this.extraDelaySamples(t);
     const sat = this.activeDrift("saturation", t);
     this.loadDrift = sat ? sat.loadPct : 0;
+    const outside = this.activeDrift("outside-oscillation", t);
+    if (outside) this.loadDrift += outside.amplitudePct * Math.sin((2 * Math.PI * (t - outside.startS)) / outside.periodS);
     const man = this.activeDrift("manual-switch", t);
     const frozen = this.activeDrift("frozen-sensor", t);
     const sticky = this.activeDrift("sticky-valve", t);

@@ -108,6 +108,15 @@ export const driftSchema = z.discriminatedUnion("kind", [
     /** How long the load stays; null = until the end of the run. */
     durationS: positiveSeconds.nullable().default(null),
   }),
+  z.object({
+    /** A sinusoidal load from outside the loop (e.g. an upstream unit cycling), at the plant input. */
+    kind: z.literal("outside-oscillation"),
+    startS: seconds,
+    /** Amplitude, % of MV span. */
+    amplitudePct: pct.refine((v) => v > 0, "amplitudePct must be > 0"),
+    periodS: positiveSeconds,
+    durationS: positiveSeconds.nullable().default(null),
+  }),
 ]);
 export type DriftSpec = z.infer<typeof driftSchema>;
 export type DriftKind = DriftSpec["kind"];

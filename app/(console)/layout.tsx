@@ -27,6 +27,7 @@ export default async function ConsoleLayout({ children }: { children: React.Reac
     { href: "/", label: "Control room" },
     { href: "/loops", label: "Loops" },
     { href: "/alarms", label: "Alarms" },
+    { href: "/work-list", label: "Work list" },
     { href: "/reports", label: "Reports" },
     ...(roleAtLeast(ctx.role, "admin") ? [{ href: "/admin", label: "Admin" }] : []),
   ];

@@ -2,6 +2,7 @@
  * The Socket.IO event map (docs/architecture.md §8, a contract). Server and browser both import
  * these types; a payload change is made here and nowhere else.
  */
+import type { LoopFinding } from "./findings";
 import type { AlarmDto, LoopStateBrief, LoopStateDto, SampleDto } from "./types";
 
 export type WatchReply = { ok: true; loopId: number } | { ok: false; error: string };
@@ -19,6 +20,8 @@ export interface ServerToClientEvents {
   "loop:detail": (state: LoopStateDto) => void;
   /** Batched full-rate samples of one watched loop. */
   "loop:samples": (batch: { loopId: number; samples: SampleDto[] }) => void;
+  /** A loop of the client's tenant has a new routine-data finding (server/assessment; engineering work, not an alarm). */
+  "loop:finding": (finding: LoopFinding) => void;
   /** An alarm of the client's tenant changed state. */
   "alarm:changed": (alarm: AlarmDto) => void;
   /** The session was signed out, demoted or its membership revoked; the socket closes next. */

@@ -668,7 +668,7 @@ export class AlarmService implements Service, AlarmApi {
     if (cached && now - cached.at < 30_000) return cached.rules;
     try {
       const rows = (await this.sequelize.query(
-        "SELECT id, tenant_id, area_id, name, recipients, min_priority, escalation_minutes, repeat_minutes FROM notification_rules WHERE tenant_id = ? AND enabled = 1",
+        "SELECT id, tenant_id, area_id, name, recipients, min_priority, escalation_minutes, repeat_minutes FROM notification_rules WHERE tenant_id = ? AND enabled = 1 AND kind = 'alarm'",
         { replacements: [tenantId], type: QueryTypes.SELECT },
       )) as Record<string, unknown>[];
       const rules = rows.map((r) => ({

@@ -207,7 +207,10 @@ describe("slow real poles", () => {
   });
 
   it("the same pole is `sluggish` against a 100 s baseline, still not `margin`", () => {
-    const r = evaluateConditions(newConditionMemory(), state(slow), policy({ onDelayS: 0, advisoryOnDelayS: 0 }), { baselineTimeConstantS: 100 }, T0);
+    // Off by default (a sluggish loop is a work-list finding, not an operator alarm) ...
+    expect(evaluateConditions(newConditionMemory(), state(slow), policy({ onDelayS: 0, advisoryOnDelayS: 0 }), { baselineTimeConstantS: 100 }, T0).verdicts.sluggish.active).toBe(false);
+    // ... and raised where a site's policy turns it back on.
+    const r = evaluateConditions(newConditionMemory(), state(slow), policy({ onDelayS: 0, advisoryOnDelayS: 0, enabled: { ...DEFAULT_POLICY.enabled, sluggish: true } }), { baselineTimeConstantS: 100 }, T0);
     expect(r.verdicts.sluggish.active).toBe(true);
     expect(r.verdicts.sluggish.priority).toBe("low");
     expect(r.verdicts.margin.active).toBe(false);

@@ -21,7 +21,7 @@ let fx: Fixture;
 beforeAll(async () => {
   db = await createTestDatabase("alarmrestart");
   fx = await createFixture(db.models);
-  await setTenantPolicy(db.sequelize, fx.tenantId, { onDelayS: 60, offDelayS: OFF_DELAY_S, advisoryOnDelayS: 60, shelveMaxMinutes: 480 });
+  await setTenantPolicy(db.sequelize, fx.tenantId, { onDelayS: 60, offDelayS: OFF_DELAY_S, advisoryOnDelayS: 60, shelveMaxMinutes: 480, enabled: { sluggish: true } }); // `sluggish` is off by default (a work-list finding)
 });
 afterAll(async () => {
   await db?.drop();

@@ -22,7 +22,7 @@ let fx: Fixture;
 beforeAll(async () => {
   db = await createTestDatabase("alarms");
   fx = await createFixture(db.models);
-  await setTenantPolicy(db.sequelize, fx.tenantId, { onDelayS: 0, offDelayS: 0, advisoryOnDelayS: 0, shelveMaxMinutes: 120 });
+  await setTenantPolicy(db.sequelize, fx.tenantId, { onDelayS: 0, offDelayS: 0, advisoryOnDelayS: 0, shelveMaxMinutes: 120, enabled: { sluggish: true } }); // `sluggish` is off by default (a work-list finding); these tests use it as a low-priority advisory
 });
 afterAll(async () => {
   await db?.drop();

@@ -23,7 +23,8 @@ function sources(dir: string): string[] {
   return out;
 }
 
-const IMPORT = /(?:^|[\s;])(?:import|export)\s[^'"]*?from\s*["']([^"']+)["']|import\(\s*["']([^"']+)["']\s*\)|^\s*import\s*["']([^"']+)["']/gm;
+const IMPORT =
+  /(?:^|[\s;])(?:import|export)\s[^'"]*?from\s*["']([^"']+)["']|import\(\s*["']([^"']+)["']\s*\)|^\s*import\s*["']([^"']+)["']/gm;
 
 /** Every import of a file, resolved to a repository path ("lib/control/roots") or a package name ("mathjs"). */
 export function importsOf(file: string, text: string): string[] {
@@ -32,8 +33,17 @@ export function importsOf(file: string, text: string): string[] {
     const spec = m[1] ?? m[2] ?? m[3];
     if (!spec) continue;
     if (spec.startsWith("@/")) out.push(spec.slice(2));
-    else if (spec.startsWith(".")) out.push(path.posix.normalize(path.posix.join(path.posix.dirname(file), spec)));
-    else out.push(spec.startsWith("node:") ? spec : spec.split("/").slice(0, spec.startsWith("@") ? 2 : 1).join("/"));
+    else if (spec.startsWith("."))
+      out.push(path.posix.normalize(path.posix.join(path.posix.dirname(file), spec)));
+    else
+      out.push(
+        spec.startsWith("node:")
+          ? spec
+          : spec
+              .split("/")
+              .slice(0, spec.startsWith("@") ? 2 : 1)
+              .join("/"),
+      );
   }
   return out;
 }
@@ -47,12 +57,48 @@ interface Rule {
 }
 
 const RULES: Rule[] = [
-  { from: "lib/control", check: (t) => (under(t, "lib/control") || t === "mathjs" ? null : "lib/control imports only lib/control and mathjs") },
-  { from: "lib/domain", check: (t) => (under(t, "lib/domain") || under(t, "lib/control") || t === "zod" || t === "mathjs" ? null : "lib/domain imports only lib/domain, lib/control and zod") },
-  { from: "models", check: (t) => (under(t, "models") || under(t, "lib/domain") || t === "sequelize" || t.startsWith("node:") ? null : "models import only lib/domain") },
+  {
+    from: "lib/control",
+    check: (t) =>
+      under(t, "lib/control") || t === "mathjs"
+        ? null
+        : "lib/control imports only lib/control and mathjs",
+  },
+  {
+    from: "lib/domain",
+    check: (t) =>
+      under(t, "lib/domain") ||
+      under(t, "lib/assessment") ||
+      under(t, "lib/control") ||
+      t === "zod" ||
+      t === "mathjs"
+        ? null
+        : "lib/domain imports only lib/domain, lib/assessment, lib/control and zod",
+  },
+  // the routine-data assessment is pure domain rules too (browser-safe, no I/O)
+  {
+    from: "lib/assessment",
+    check: (t) =>
+      under(t, "lib/assessment") || under(t, "lib/domain") || under(t, "lib/control") || t === "zod"
+        ? null
+        : "lib/assessment imports only lib/assessment, lib/domain, lib/control and zod",
+  },
+  {
+    from: "models",
+    check: (t) =>
+      under(t, "models") || under(t, "lib/domain") || t === "sequelize" || t.startsWith("node:")
+        ? null
+        : "models import only lib/domain",
+  },
   { from: "app", check: (t) => (under(t, "server") ? "app never imports server" : null) },
   { from: "lib", check: (t) => (under(t, "server") ? "lib never imports server" : null) },
-  { from: "lib/client", check: (t) => (under(t, "models") || under(t, "lib/db") || under(t, "server") ? "lib/client never imports the data layer" : null) },
+  {
+    from: "lib/client",
+    check: (t) =>
+      under(t, "models") || under(t, "lib/db") || under(t, "server")
+        ? "lib/client never imports the data layer"
+        : null,
+  },
 ];
 
 function violations(files: readonly string[], read: (f: string) => string): string[] {

@@ -114,6 +114,16 @@ export const ROUTES: RouteCase[] = [
   { method: "DELETE", path: "/api/reports/subscriptions/:none", minRole: "viewer", file: "reports/subscriptions/[subscriptionId]/route.ts", admitted: [404] },
   { method: "GET", path: "/api/admin/loop-inventory", minRole: "engineer", file: "admin/loop-inventory/route.ts", admitted: [200] },
   { method: "POST", path: "/api/admin/loop-inventory", minRole: "engineer", file: "admin/loop-inventory/route.ts", body: {}, admitted: [422] },
+  // engineering work list and routine-data findings (never alarms)
+  { method: "GET", path: "/api/work-list", minRole: "viewer", file: "work-list/route.ts", admitted: [200] },
+  { method: "GET", path: "/api/work-list?status=all", minRole: "viewer", file: "work-list/route.ts", admitted: [200] },
+  { method: "GET", path: "/api/work-list/:none", minRole: "viewer", file: "work-list/[itemId]/route.ts", admitted: [404] },
+  { method: "PATCH", path: "/api/work-list/:none", minRole: "engineer", file: "work-list/[itemId]/route.ts", body: { note: "checked" }, admitted: [404] },
+  { method: "GET", path: "/api/work-list/findings", minRole: "viewer", file: "work-list/findings/route.ts", admitted: [200] },
+  { method: "GET", path: "/api/work-list/rules", minRole: "engineer", file: "work-list/rules/route.ts", admitted: [200] },
+  { method: "POST", path: "/api/work-list/rules", minRole: "engineer", file: "work-list/rules/route.ts", body: {}, admitted: [422] },
+  { method: "DELETE", path: "/api/work-list/rules/:none", minRole: "engineer", file: "work-list/rules/[ruleId]/route.ts", admitted: [404] },
+  { method: "GET", path: "/api/loops/:loopId/finding", minRole: "viewer", file: "loops/[loopId]/finding/route.ts", admitted: [200] },
 ];
 
 /**

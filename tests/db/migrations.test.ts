@@ -32,6 +32,7 @@ const EXPECTED_TABLES = [
   "handover_confirmations",
   "history_backfills",
   "invitations",
+  "loop_assessments",
   "loop_daily_summaries",
   "loop_states",
   "loops",
@@ -50,6 +51,8 @@ const EXPECTED_TABLES = [
   "step_tests",
   "tenants",
   "users",
+  "work_item_events",
+  "work_items",
 ];
 
 describe("migrations on an empty database", () => {
@@ -66,7 +69,7 @@ describe("migrations on an empty database", () => {
     expect(applied.length).toBeGreaterThanOrEqual(4);
     const tables = await tableNames(db);
     expect(tables).toEqual([...EXPECTED_TABLES, MIGRATIONS_TABLE].sort());
-    expect(await triggerNames(db)).toEqual(["alarm_events_no_delete", "alarm_events_no_update", "operator_notes_no_delete", "operator_notes_no_update"]);
+    expect(await triggerNames(db)).toEqual(["alarm_events_no_delete", "alarm_events_no_update", "operator_notes_no_delete", "operator_notes_no_update", "work_item_events_no_delete", "work_item_events_no_update"]);
     const status = await migrationStatus(db.sequelize);
     expect(status.pending).toEqual([]);
     expect(status.executed).toEqual(applied);

@@ -112,7 +112,9 @@ export const DEFAULT_POLICY: EffectivePolicy = {
   sluggishMultiple: 3,
   forecastHorizonMinutes: 60,
   confidenceSigmas: 1,
-  enabled: { unstable: true, margin: true, sluggish: true, "rim-forecast": true },
+  // `sluggish` is engineering work (the work list's sluggish-tuning finding, server/assessment),
+  // not an operator alarm: off unless a site's policy turns it back on.
+  enabled: { unstable: true, margin: true, sluggish: false, "rim-forecast": true },
 };
 
 /** Validate the settings of one scope; 422 with the field names on bad input. */

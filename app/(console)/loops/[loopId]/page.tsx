@@ -1,5 +1,6 @@
 import { notFound, redirect } from "next/navigation";
 import { LoopDetail } from "@/app/(console)/loops/[loopId]/_components/loop-detail";
+import { FindingEvidencePanel } from "@/app/_components/finding-evidence";
 import { isRangeKey } from "@/lib/client/ranges";
 import { getContextOrNull } from "@/lib/auth/guard";
 import { loopOwner } from "@/lib/loops";
@@ -19,5 +20,5 @@ export default async function LoopPage({ params, searchParams }: { params: Promi
   if (!owner || owner.tenantId !== ctx.tenantId || !siteVisible(ctx, owner.siteId)) notFound();
   const { range } = await searchParams;
   const initialRange = isRangeKey(range) ? range : "1h";
-  return <LoopDetail loopId={id} role={ctx.role} initialRange={initialRange} />;
+  return <><LoopDetail loopId={id} role={ctx.role} initialRange={initialRange} /><FindingEvidencePanel loopId={id} /></>;
 }

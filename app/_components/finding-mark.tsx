@@ -1,0 +1,72 @@
+"use client";
+/**
+ * A loop's routine-data finding as a word with its own small outlined glyph (docs/visual-language.md,
+ * "Findings and the work list"): one glyph per finding so shape tells them apart, neutral ink
+ * (never the alarm priority colours or marks), never pulsing. Below certain it reads "likely …";
+ * a loop that cannot be judged yet says so muted, with the data time still needed.
+ * `FindingMark` takes a finding; `LoopFindingMark` finds the loop's own from the shared store.
+ */
+import { memo } from "react";
+import type { DiagnosisLabel } from "@/lib/assessment/types";
+import { useFindings } from "@/lib/client/findings";
+import { findingPhrase, type LoopFinding } from "@/lib/domain/findings";
+
+/** Outlined glyphs, 12×12, stroke only. */
+function Glyph({ label }: { label: DiagnosisLabel }) {
+  const p = { fill: "none", stroke: "currentColor", strokeWidth: 1.4, strokeLinejoin: "round" as const, strokeLinecap: "round" as const };
+  switch (label) {
+    case "healthy":
+      return <circle cx="6" cy="6" r="4" {...p} />;
+    case "aggressive-tuning":
+      // a growing ring-down: overshoot past the set point
+      return <path d="M1 6 Q2.5 1 4 6 T7 6 T10 6 L11 6" {...p} />;
+    case "sluggish-tuning":
+      // a slow creep toward the line
+      return <path d="M1 10 Q4 10 6 7 T11 3" {...p} />;
+    case "valve-stiction":
+      // stick-slip: flat, jump, flat
+      return <path d="M1 9 H4 V3 H8 V9 H11" {...p} />;
+    case "external-disturbance":
+      // a wave arriving from outside a box
+      return (
+        <g {...p}>
+          <rect x="6.5" y="2.5" width="4" height="7" />
+          <path d="M1 6 Q2 3.5 3 6 T5 6" />
+        </g>
+      );
+    case "saturated":
+      // pinned against a limit
+      return <path d="M1 10 L6 3 H11 M1 2 H11" {...p} />;
+    case "sensor-fault":
+      // a broken reading
+      return <path d="M1 6 H4 M8 6 H11 M5 3 L7 9" {...p} />;
+    case "manual":
+      // an open square (the loop is opened by hand)
+      return <path d="M3 3 H9 V9 H3 Z M6 3 V1" {...p} />;
+    case "undetermined":
+      return <path d="M2 6 H3 M5.5 6 H6.5 M9 6 H10" {...p} />;
+  }
+}
+
+function FindingMarkPlain({ finding, compact = false }: { finding: LoopFinding | null; compact?: boolean }) {
+  if (!finding) return <span className="text-xs text-muted">not judged yet</span>;
+  const phrase = findingPhrase(finding);
+  const muted = finding.label === "undetermined" || finding.label === "healthy";
+  const title = [phrase, ...(finding.reason ? [finding.reason] : []), ...finding.evidence.slice(0, 4)].join("\n");
+  return (
+    <span className={`inline-flex items-center gap-1 whitespace-nowrap ${compact ? "text-xs" : "text-sm"} ${muted ? "text-muted" : "text-ink"}`} title={title} data-testid="finding-mark" data-finding={finding.label}>
+      <svg width="12" height="12" viewBox="0 0 12 12" aria-hidden="true">
+        <Glyph label={finding.label} />
+      </svg>
+      <span>{phrase}</span>
+    </span>
+  );
+}
+
+export const FindingMark = memo(FindingMarkPlain);
+
+/** The mark of one loop from the tenant's findings (one request for all marks on a page). */
+export function LoopFindingMark({ loopId, compact }: { loopId: number; compact?: boolean }) {
+  const { findings } = useFindings();
+  return <FindingMark finding={findings.get(loopId) ?? null} compact={compact} />;
+}

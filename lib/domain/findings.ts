@@ -1,0 +1,78 @@
+/**
+ * A loop's routine-data finding as screens show it (browser-safe): the diagnosis of the latest
+ * live assessment, without the full report. Findings are engineering work, never alarms.
+ */
+import type { DiagnosisLabel } from "@/lib/assessment/types";
+
+export interface LoopFinding {
+  loopId: number;
+  /** Epoch ms of the assessment. */
+  at: number;
+  label: DiagnosisLabel;
+  /** 0..1. */
+  confidence: number;
+  /** For `undetermined`: more data time wanted, s. */
+  needsS: number | null;
+  reason: string | null;
+  evidence: string[];
+  /** Span of the window assessed, s. */
+  windowS: number;
+}
+
+/** Confidence from which a finding is shown without "likely" (ours). */
+export const CERTAIN_CONFIDENCE = 0.9;
+/** Confidence above which a finding opens a work-list item (ours). */
+export const WORK_ITEM_CONFIDENCE = 0.6;
+/** Verdicts that are not engineering work. */
+export const NO_WORK_LABELS: readonly DiagnosisLabel[] = ["healthy", "undetermined"];
+
+export const FINDING_WORDS: Record<DiagnosisLabel, string> = {
+  healthy: "healthy",
+  "aggressive-tuning": "aggressive tuning",
+  "sluggish-tuning": "sluggish tuning",
+  "valve-stiction": "sticking valve",
+  "external-disturbance": "outside disturbance",
+  saturated: "saturation",
+  "sensor-fault": "sensor fault",
+  manual: "in manual",
+  undetermined: "not judged yet",
+};
+
+/** "about 25 min" / "about 2 h" for a data time still needed. */
+export function formatNeeded(needsS: number | null): string | null {
+  if (needsS === null || !Number.isFinite(needsS) || needsS <= 0) return null;
+  if (needsS < 90) return "about 1 min";
+  if (needsS < 5_400) return `about ${Math.round(needsS / 60)} min`;
+  return `about ${Math.round(needsS / 3_600)} h`;
+}
+
+/** The words a tile shows: "likely sticking valve", "not judged yet · about 25 min". */
+export function findingPhrase(f: Pick<LoopFinding, "label" | "confidence" | "needsS">): string {
+  if (f.label === "undetermined") {
+    const need = formatNeeded(f.needsS);
+    return need ? `not judged yet · ${need}` : "not judged yet";
+  }
+  const word = FINDING_WORDS[f.label];
+  return f.confidence >= CERTAIN_CONFIDENCE || f.label === "healthy" ? word : `likely ${word}`;
+}
+
+/** Whether a finding opens or updates a work-list item. */
+export function opensWorkItem(f: Pick<LoopFinding, "label" | "confidence">): boolean {
+  return !NO_WORK_LABELS.includes(f.label) && f.confidence > WORK_ITEM_CONFIDENCE;
+}
+
+/** The figures kept with a work item (before and after a change). */
+export interface FindingFigures {
+  at: number;
+  label: DiagnosisLabel;
+  confidence: number;
+  oscillationPeriodS: number | null;
+  oscillationAmplitude: number | null;
+  harrisIndex: number | null;
+  stiction: string;
+  serviceFactor: number | null;
+  saturation: number;
+  valveTravelPctPerHour: number;
+  valveReversalsPerHour: number;
+  idleIndex: number | null;
+}

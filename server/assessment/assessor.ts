@@ -1,0 +1,199 @@
+/**
+ * Live routine assessment (docs/assessment.md, "Live use"): each loop's accepted good samples go
+ * into a bounded window (`AssessRing`), and `assessLoop` — the same function the offline `assess`
+ * command runs — is re-run on it from time to time. No I/O here: the service (service.ts) persists
+ * and publishes the results.
+ *
+ * CPU budget: at most 2 µs of server CPU per incoming sample on average. `assessLoop` costs about
+ * 2–3 µs per window sample (bench:assess-speed: one day at 1 s, 86,400 samples, in 0.2–0.3 s of
+ * CPU), so a window of n stored samples costs ≈ 2.5·n µs. Re-running it only after
+ * RERUN_FACTOR·n new samples (n counted in incoming samples, i.e. times the decimation stride)
+ * gives 2.5·n / (1.5·n) ≈ 1.7 µs per sample (2 µs at 3 µs per window sample) once the window is
+ * full. While it fills, runs come at n = 60, 150, 375, ... samples (each 2.5 times the last, so
+ * the first verdict, or "not judged yet · about N min", comes after a minute of data at 1 s); each
+ * covers all data so far, so that first fill costs up to 2.5/1.5 window samples per incoming one
+ * (≈ 4 µs per sample for one window's length, ≈ 15 ms per loop in all at 3,600 samples). Loops are
+ * staggered: each loop's first run is offset by a share of its own interval taken from its id, and
+ * due loops run from a timer in small batches with a time cap per tick.
+ */
+import { assessLoop, type AssessMode, type LoopAssessmentReport, type LoopConfig as AssessConfig } from "@/lib/assessment";
+import type { SampleDto } from "@/lib/domain/types";
+import { AssessRing } from "./ring";
+
+/** Window length in stored samples (memory: 33 bytes per sample, ≈ 120 kB per loop). */
+export const WINDOW_SAMPLES = 3_600;
+/** Re-run after this many times the window's (incoming) length: see the CPU budget above. */
+export const RERUN_FACTOR = 1.5;
+/** First assessment after this many samples, or a minute of data when that is fewer samples. */
+export const FIRST_RUN_SAMPLES = 60;
+const FIRST_RUN_S = 60;
+/** The window is made to span at least this many integral times (or dead times), capped at 24 h (decimated). */
+const SPAN_TIME_SCALES = 40;
+const MAX_SPAN_S = 24 * 3_600;
+
+export interface LiveLoop {
+  loopId: number;
+  tenantId: number;
+  siteId: number;
+  /** The loop as the offline command's LOOP.json gives it; samplePeriodS = the telemetry period. */
+  config: AssessConfig;
+}
+
+export interface LiveResult {
+  loopId: number;
+  tenantId: number;
+  siteId: number;
+  /** Epoch ms. */
+  at: number;
+  report: LoopAssessmentReport;
+  windowSamples: number;
+  windowS: number;
+}
+
+interface Entry {
+  loop: LiveLoop;
+  /** Config at the stored period (samplePeriodS × stride). */
+  windowConfig: AssessConfig;
+  ring: AssessRing;
+  sinceRun: number;
+  /** Incoming samples before the first run (and the least between runs). */
+  firstRun: number;
+  dueAfter: number;
+  due: boolean;
+}
+
+/** Decimation stride so the window spans SPAN_TIME_SCALES loop time scales (ours). */
+export function strideFor(config: AssessConfig, capacity = WINDOW_SAMPLES): number {
+  const T = config.samplePeriodS;
+  const ti = config.controller.ti && config.controller.ti > 0 ? config.controller.ti : null;
+  const scale = Math.max(ti ?? 0, config.deadTimeS ?? 0);
+  const span = Math.min(MAX_SPAN_S, Math.max(capacity * T, SPAN_TIME_SCALES * scale));
+  return Math.max(1, Math.ceil(span / (capacity * T) - 1e-9));
+}
+
+/** Stagger offset in [0, 1) from the loop id (Knuth's multiplicative hash). */
+function stagger(loopId: number): number {
+  return ((loopId * 2654435761) >>> 0) / 2 ** 32;
+}
+
+export class LiveAssessor {
+  private readonly loops = new Map<number, Entry>();
+  private readonly dueQueue: number[] = [];
+  private readonly latest = new Map<number, LiveResult>();
+
+  constructor(private readonly opts: { capacity?: number; now: () => number; onResult?: (r: LiveResult) => void }) {}
+
+  get size(): number {
+    return this.loops.size;
+  }
+
+  /** Adds or reconfigures a loop; a changed period or range starts its window again. */
+  upsertLoop(loop: LiveLoop): void {
+    const capacity = this.opts.capacity ?? WINDOW_SAMPLES;
+    const old = this.loops.get(loop.loopId);
+    const stride = strideFor(loop.config, capacity);
+    const windowConfig: AssessConfig = { ...loop.config, samplePeriodS: loop.config.samplePeriodS * stride };
+    const same = old && old.ring.stride === stride && JSON.stringify(old.loop.config) === JSON.stringify(loop.config);
+    if (same) {
+      old.loop = loop;
+      return;
+    }
+    const firstRun = Math.max(8 * stride, Math.min(FIRST_RUN_SAMPLES, Math.ceil(FIRST_RUN_S / loop.config.samplePeriodS)));
+    this.loops.set(loop.loopId, {
+      loop,
+      firstRun,
+      windowConfig,
+      ring: new AssessRing(capacity, stride),
+      sinceRun: 0,
+      // The first run comes early even for a decimated window (a few stored samples cost nothing): it says how much data is still needed.
+      dueAfter: Math.max(1, Math.round(firstRun * (1 + 0.5 * stagger(loop.loopId)))),
+      due: false,
+    });
+  }
+
+  removeLoop(loopId: number): void {
+    this.loops.delete(loopId);
+    this.latest.delete(loopId);
+  }
+
+  has(loopId: number): boolean {
+    return this.loops.has(loopId);
+  }
+
+  /** Accepted samples of a loop (SampleDto: t in epoch ms); only good ones enter the window. */
+  push(loopId: number, samples: readonly SampleDto[]): void {
+    const e = this.loops.get(loopId);
+    if (!e) return;
+    for (const s of samples) {
+      if (s.quality !== undefined && s.quality !== "good") continue;
+      if (e.ring.push(s.t / 1000, s.sp, s.pv, s.mv, s.mode as AssessMode)) e.sinceRun++;
+    }
+    if (!e.due && e.sinceRun >= e.dueAfter) {
+      e.due = true;
+      this.dueQueue.push(loopId);
+    }
+  }
+
+  /** Runs due assessments until `maxMs` of wall time is used; returns how many ran. */
+  runDue(maxMs = 20): number {
+    const start = performance.now();
+    let ran = 0;
+    while (this.dueQueue.length && performance.now() - start < maxMs) {
+      const id = this.dueQueue.shift()!;
+      const e = this.loops.get(id);
+      if (!e || !e.due) continue;
+      this.assess(e);
+      ran++;
+    }
+    return ran;
+  }
+
+  /** Assesses one loop now (tests, and an engineer's request). */
+  assessNow(loopId: number): LiveResult | null {
+    const e = this.loops.get(loopId);
+    return e ? this.assess(e) : null;
+  }
+
+  /** The window a loop's assessment runs on (for the evidence panel and tests). */
+  window(loopId: number): { samples: ReturnType<AssessRing["samples"]>; config: AssessConfig } | null {
+    const e = this.loops.get(loopId);
+    return e ? { samples: e.ring.samples(), config: e.windowConfig } : null;
+  }
+
+  latestOf(loopId: number): LiveResult | null {
+    return this.latest.get(loopId) ?? null;
+  }
+
+  /** A result restored from storage (shown until the loop's first live run). */
+  restore(r: LiveResult): void {
+    if (!this.latest.has(r.loopId)) this.latest.set(r.loopId, r);
+  }
+
+  private assess(e: Entry): LiveResult | null {
+    e.due = false;
+    const n = e.ring.size;
+    const stride = e.ring.stride;
+    e.sinceRun = 0;
+    if (n < 2) {
+      e.dueAfter = e.firstRun;
+      return null;
+    }
+    const report = assessLoop(e.ring.samples(), e.windowConfig);
+    // Next run: the CPU budget's interval, or later when the verdict says how much data it needs.
+    const needs = report.diagnosis.needsS ? report.diagnosis.needsS / e.loop.config.samplePeriodS : 0;
+    const budget = RERUN_FACTOR * n * stride;
+    e.dueAfter = Math.max(e.firstRun, Math.ceil(Math.min(Math.max(budget, needs), RERUN_FACTOR * e.ring.capacity * stride)));
+    const r: LiveResult = {
+      loopId: e.loop.loopId,
+      tenantId: e.loop.tenantId,
+      siteId: e.loop.siteId,
+      at: this.opts.now(),
+      report,
+      windowSamples: n,
+      windowS: e.ring.spanS,
+    };
+    this.latest.set(e.loop.loopId, r);
+    this.opts.onResult?.(r);
+    return r;
+  }
+}
