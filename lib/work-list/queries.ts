@@ -11,7 +11,7 @@ import { getDb } from "@/lib/db/sequelize";
 import { ConflictError, NotFoundError, ValidationError } from "@/lib/domain/errors";
 import type { DiagnosisLabel } from "@/lib/assessment/types";
 import type { FindingFigures } from "@/lib/domain/findings";
-import { scoped } from "@/lib/tenancy";
+import { scoped, siteScopeSql } from "@/lib/tenancy";
 import { text } from "@/lib/text-input";
 import type { TenantContext } from "@/lib/domain/types";
 
@@ -49,9 +49,23 @@ export interface WorkItemEventDto {
 }
 
 type ItemRow = {
-  id: number; loop_id: number; tag: string; site_id: number; site_name: string; label: DiagnosisLabel; status: WorkStatus; confidence: number;
-  owner_id: number | null; owner_name: string | null; opened_at: Date; last_seen_at: Date; closed_at: Date | null; seen_count: number;
-  figures_at_open: unknown; figures_latest: unknown; evidence: unknown;
+  id: number;
+  loop_id: number;
+  tag: string;
+  site_id: number;
+  site_name: string;
+  label: DiagnosisLabel;
+  status: WorkStatus;
+  confidence: number;
+  owner_id: number | null;
+  owner_name: string | null;
+  opened_at: Date;
+  last_seen_at: Date;
+  closed_at: Date | null;
+  seen_count: number;
+  figures_at_open: unknown;
+  figures_latest: unknown;
+  evidence: unknown;
 };
 
 const json = <T>(v: unknown): T => (typeof v === "string" ? (JSON.parse(v) as T) : (v as T));
@@ -87,10 +101,14 @@ export const workListQuerySchema = z.object({
 });
 
 /** The tenant's items (newest first), per site and status; `active` = open or in work. */
-export async function listWorkItems(ctx: TenantContext, q: z.infer<typeof workListQuerySchema>): Promise<WorkItemDto[]> {
+export async function listWorkItems(
+  ctx: TenantContext,
+  q: z.infer<typeof workListQuerySchema>,
+): Promise<WorkItemDto[]> {
   const { tenantId } = scoped(ctx);
-  const where = ["w.tenant_id = ?"];
-  const args: unknown[] = [tenantId];
+  const site = siteScopeSql(ctx, "w.site_id");
+  const where = [`w.tenant_id = ?${site.sql}`];
+  const args: unknown[] = [tenantId, ...site.args];
   if (q.siteId !== undefined) {
     where.push("w.site_id = ?");
     args.push(q.siteId);
@@ -100,30 +118,53 @@ export async function listWorkItems(ctx: TenantContext, q: z.infer<typeof workLi
     where.push("w.status = ?");
     args.push(q.status);
   }
-  const rows = await getDb().sequelize.query<ItemRow>(`${SELECT_ITEMS} WHERE ${where.join(" AND ")} ORDER BY w.opened_at DESC, w.id DESC LIMIT 1000`, {
-    replacements: args,
-    type: QueryTypes.SELECT,
-  });
+  const rows = await getDb().sequelize.query<ItemRow>(
+    `${SELECT_ITEMS} WHERE ${where.join(" AND ")} ORDER BY w.opened_at DESC, w.id DESC LIMIT 1000`,
+    {
+      replacements: args,
+      type: QueryTypes.SELECT,
+    },
+  );
   return rows.map(toDto);
 }
 
-async function itemRow(ctx: TenantContext, id: number, transaction?: Transaction): Promise<ItemRow> {
+async function itemRow(
+  ctx: TenantContext,
+  id: number,
+  transaction?: Transaction,
+): Promise<ItemRow> {
   const { tenantId } = scoped(ctx);
-  const [row] = await getDb().sequelize.query<ItemRow>(`${SELECT_ITEMS} WHERE w.id = ? AND w.tenant_id = ?${transaction ? " FOR UPDATE" : ""}`, {
-    replacements: [id, tenantId],
-    type: QueryTypes.SELECT,
-    transaction,
-  });
+  // an item of a site outside the member's scope is a 404 like a missing one
+  const site = siteScopeSql(ctx, "w.site_id");
+  const [row] = await getDb().sequelize.query<ItemRow>(
+    `${SELECT_ITEMS} WHERE w.id = ? AND w.tenant_id = ?${site.sql}${transaction ? " FOR UPDATE" : ""}`,
+    {
+      replacements: [id, tenantId, ...site.args],
+      type: QueryTypes.SELECT,
+      transaction,
+    },
+  );
   if (!row) throw new NotFoundError("Work item");
   return row;
 }
 
 /** One item with its history (oldest first). Another tenant's id is a 404 like a missing one. */
-export async function getWorkItem(ctx: TenantContext, id: number): Promise<{ item: WorkItemDto; history: WorkItemEventDto[] }> {
+export async function getWorkItem(
+  ctx: TenantContext,
+  id: number,
+): Promise<{ item: WorkItemDto; history: WorkItemEventDto[] }> {
   const item = toDto(await itemRow(ctx, id));
   const rows = await getDb().sequelize.query<{
-    id: number; kind: WorkItemEventDto["kind"]; from_status: WorkStatus | null; to_status: WorkStatus | null; owner_id: number | null; owner_name: string | null;
-    note: string | null; user_id: number | null; user_name: string | null; at: Date;
+    id: number;
+    kind: WorkItemEventDto["kind"];
+    from_status: WorkStatus | null;
+    to_status: WorkStatus | null;
+    owner_id: number | null;
+    owner_name: string | null;
+    note: string | null;
+    user_id: number | null;
+    user_name: string | null;
+    at: Date;
   }>(
     `SELECT e.*, o.name AS owner_name, u.name AS user_name FROM work_item_events e
        LEFT JOIN users o ON o.id = e.owner_id LEFT JOIN users u ON u.id = e.user_id
@@ -151,45 +192,101 @@ export const workItemPatchSchema = z
     note: text().trim().max(2_000).optional(),
   })
   .strict()
-  .refine((p) => p.status !== undefined || p.ownerId !== undefined || (p.note !== undefined && p.note.length > 0), "Give a status, an owner or a note.");
+  .refine(
+    (p) =>
+      p.status !== undefined ||
+      p.ownerId !== undefined ||
+      (p.note !== undefined && p.note.length > 0),
+    "Give a status, an owner or a note.",
+  );
 
 /** Changes status, owner or adds a note (engineer); one history row per change. */
-export async function updateWorkItem(ctx: TenantContext, id: number, patch: z.infer<typeof workItemPatchSchema>): Promise<{ item: WorkItemDto; history: WorkItemEventDto[] }> {
+export async function updateWorkItem(
+  ctx: TenantContext,
+  id: number,
+  patch: z.infer<typeof workItemPatchSchema>,
+): Promise<{ item: WorkItemDto; history: WorkItemEventDto[] }> {
   const { sequelize } = getDb();
   const { tenantId } = scoped(ctx);
   const note = patch.note && patch.note.length ? patch.note : null;
   await sequelize.transaction(async (transaction) => {
     const row = await itemRow(ctx, id, transaction);
     const now = new Date();
-    const event = (kind: WorkItemEventDto["kind"], extra: { from?: WorkStatus | null; to?: WorkStatus | null; ownerId?: number | null; note?: string | null }) =>
+    const event = (
+      kind: WorkItemEventDto["kind"],
+      extra: {
+        from?: WorkStatus | null;
+        to?: WorkStatus | null;
+        ownerId?: number | null;
+        note?: string | null;
+      },
+    ) =>
       sequelize.query(
         "INSERT INTO work_item_events (tenant_id, work_item_id, user_id, kind, from_status, to_status, owner_id, note, at) VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?)",
-        { replacements: [tenantId, id, ctx.userId, kind, extra.from ?? null, extra.to ?? null, extra.ownerId ?? null, extra.note ?? null, now], transaction },
+        {
+          replacements: [
+            tenantId,
+            id,
+            ctx.userId,
+            kind,
+            extra.from ?? null,
+            extra.to ?? null,
+            extra.ownerId ?? null,
+            extra.note ?? null,
+            now,
+          ],
+          transaction,
+        },
       );
     let noteUsed = false;
-    if (patch.ownerId !== undefined && patch.ownerId !== (row.owner_id === null ? null : Number(row.owner_id))) {
+    if (
+      patch.ownerId !== undefined &&
+      patch.ownerId !== (row.owner_id === null ? null : Number(row.owner_id))
+    ) {
       if (patch.ownerId !== null) {
-        const [m] = await sequelize.query("SELECT 1 AS ok FROM memberships WHERE tenant_id = ? AND user_id = ?", { replacements: [tenantId, patch.ownerId], type: QueryTypes.SELECT, transaction });
+        const [m] = await sequelize.query(
+          "SELECT 1 AS ok FROM memberships WHERE tenant_id = ? AND user_id = ?",
+          { replacements: [tenantId, patch.ownerId], type: QueryTypes.SELECT, transaction },
+        );
         if (!m) throw new ValidationError("The owner must be a member of this tenant.");
       }
-      await sequelize.query("UPDATE work_items SET owner_id = ?, updated_at = ? WHERE id = ?", { replacements: [patch.ownerId, now, id], transaction });
+      await sequelize.query("UPDATE work_items SET owner_id = ?, updated_at = ? WHERE id = ?", {
+        replacements: [patch.ownerId, now, id],
+        transaction,
+      });
       await event("owner", { ownerId: patch.ownerId });
     }
     if (patch.status !== undefined && patch.status !== row.status) {
-      if (patch.status === "closed" && !note) throw new ValidationError("Closing an item needs a note (what was done, or why nothing is).");
+      if (patch.status === "closed" && !note)
+        throw new ValidationError(
+          "Closing an item needs a note (what was done, or why nothing is).",
+        );
       if (row.status === "closed") {
-        const [open] = await sequelize.query("SELECT id FROM work_items WHERE loop_id = ? AND open_key = ? AND id <> ?", {
-          replacements: [row.loop_id, row.label, id],
-          type: QueryTypes.SELECT,
-          transaction,
-        });
-        if (open) throw new ConflictError("The same finding has a newer open item for this loop; work on that one.");
+        const [open] = await sequelize.query(
+          "SELECT id FROM work_items WHERE loop_id = ? AND open_key = ? AND id <> ?",
+          {
+            replacements: [row.loop_id, row.label, id],
+            type: QueryTypes.SELECT,
+            transaction,
+          },
+        );
+        if (open)
+          throw new ConflictError(
+            "The same finding has a newer open item for this loop; work on that one.",
+          );
       }
-      await sequelize.query("UPDATE work_items SET status = ?, closed_at = ?, updated_at = ? WHERE id = ?", {
-        replacements: [patch.status, patch.status === "closed" ? now : null, now, id],
-        transaction,
+      await sequelize.query(
+        "UPDATE work_items SET status = ?, closed_at = ?, updated_at = ? WHERE id = ?",
+        {
+          replacements: [patch.status, patch.status === "closed" ? now : null, now, id],
+          transaction,
+        },
+      );
+      await event(row.status === "closed" ? "reopened" : "status", {
+        from: row.status,
+        to: patch.status,
+        note,
       });
-      await event(row.status === "closed" ? "reopened" : "status", { from: row.status, to: patch.status, note });
       noteUsed = true;
     }
     if (note && !noteUsed) await event("note", { note });
