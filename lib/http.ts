@@ -1,6 +1,6 @@
 import { NextResponse } from "next/server";
 import { z } from "zod";
-import { DATABASE_UNAVAILABLE, isDatabaseUnavailable } from "./db/unavailable";
+import { DATABASE_UNAVAILABLE, isDatabaseUnavailable } from "./data/db/unavailable";
 import { isHttpError, ValidationError } from "@/lib/domain/errors";
 import { guardRequest, JSON_BODY, PayloadTooLargeError, type BodyRule } from "./request-guard";
 

@@ -1,6 +1,6 @@
 /** Tenants, their sites and operator areas, users, memberships, invitations, device credentials. */
 import { DataTypes } from "sequelize";
-import type { MigrationFn } from "@/lib/db/migrate";
+import type { MigrationFn } from "@/lib/data/db/migrate";
 
 const ROLES = ["viewer", "operator", "engineer", "admin"];
 const id = { type: DataTypes.INTEGER, autoIncrement: true, primaryKey: true, allowNull: false };

@@ -3,7 +3,7 @@
  * uploaded step tests, the configuration change log, estimator checkpoints, latest states.
  */
 import { DataTypes } from "sequelize";
-import type { MigrationFn } from "@/lib/db/migrate";
+import type { MigrationFn } from "@/lib/data/db/migrate";
 
 const LOOP_KINDS = ["flow", "level", "temperature", "pressure", "composition", "other"];
 const TRACKER_STATES = ["learning", "tracking", "low-excitation", "stale", "manual", "saturated"];

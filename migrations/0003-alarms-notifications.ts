@@ -8,7 +8,7 @@
  * disabled instead of deleted. DROP TABLE (a migration's down) still works.
  */
 import { DataTypes } from "sequelize";
-import type { MigrationFn } from "@/lib/db/migrate";
+import type { MigrationFn } from "@/lib/data/db/migrate";
 
 const PRIORITIES = ["urgent", "high", "low"];
 const CONDITIONS = ["unstable", "margin", "sluggish", "rim-forecast"];

@@ -9,9 +9,9 @@
  * primary key (loop_id, t). Partitioned InnoDB tables cannot have foreign keys, so loop_id is not
  * one; every read goes through the owning loop, found with the tenancy guard first.
  * Partition `pmax` (VALUES LESS THAN MAXVALUE) catches rows beyond the prepared days so nothing is
- * lost; lib/db/partitions.ts splits daily partitions out of it ahead of time.
+ * lost; lib/data/db/partitions.ts splits daily partitions out of it ahead of time.
  */
-import type { MigrationFn } from "@/lib/db/migrate";
+import type { MigrationFn } from "@/lib/data/db/migrate";
 
 const TRACKER_STATES = "'learning','tracking','low-excitation','stale','manual','saturated'";
 const OPTIONS = "ENGINE=InnoDB DEFAULT CHARSET=utf8mb4 COLLATE=utf8mb4_unicode_ci";

@@ -5,7 +5,7 @@
  * (Sequelize timezone '+00:00'; the private server runs with --default-time-zone=+00:00).
  */
 import { QueryTypes } from "sequelize";
-import type { MigrationFn } from "@/lib/db/migrate";
+import type { MigrationFn } from "@/lib/data/db/migrate";
 
 const COLUMNS: [table: string, column: string][] = [
   ...["tenants", "sites", "areas", "users", "memberships", "invitations", "device_credentials", "loops", "alarm_policies", "alarms", "notification_rules"].flatMap(

@@ -4,7 +4,7 @@
  * (so replaying the alarm journal into MariaDB is idempotent and never moves a point backwards).
  */
 import { DataTypes } from "sequelize";
-import type { MigrationFn } from "@/lib/db/migrate";
+import type { MigrationFn } from "@/lib/data/db/migrate";
 
 export const up: MigrationFn = async ({ context: qi }) => {
   await qi.addColumn("alarms", "shelve_reason", { type: DataTypes.STRING(1000), allowNull: true });

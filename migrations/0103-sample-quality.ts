@@ -7,7 +7,7 @@
  * Down: `poor-fit` rows become `low-excitation` (the nearest older state: figures held, not
  * trusted) before the enum shrinks; the count columns are dropped.
  */
-import type { MigrationFn } from "@/lib/db/migrate";
+import type { MigrationFn } from "@/lib/data/db/migrate";
 
 const OLD_STATES = "'learning','tracking','low-excitation','stale','manual','saturated'";
 const NEW_STATES = `${OLD_STATES},'poor-fit'`;

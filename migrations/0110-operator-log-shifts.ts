@@ -9,7 +9,7 @@
  * - handover_confirmations: who confirmed having read the handover of which shift, once per user.
  */
 import { DataTypes } from "sequelize";
-import type { MigrationFn } from "@/lib/db/migrate";
+import type { MigrationFn } from "@/lib/data/db/migrate";
 
 const ref = (table: string, onDelete: "CASCADE" | "SET NULL" | "RESTRICT", allowNull = false, bigint = false) => ({
   type: bigint ? DataTypes.BIGINT : DataTypes.INTEGER,

@@ -9,7 +9,7 @@
  * - loops.criticality: the engineer's weight of a loop in the worst-loops score (1 low .. 5 critical).
  */
 import { DataTypes } from "sequelize";
-import type { MigrationFn } from "@/lib/db/migrate";
+import type { MigrationFn } from "@/lib/data/db/migrate";
 
 const ref = (table: string, onDelete: "CASCADE" | "SET NULL", allowNull = false) => ({
   type: DataTypes.INTEGER,

@@ -4,7 +4,7 @@
  * site of the tenant, as before.
  */
 import { DataTypes } from "sequelize";
-import type { MigrationFn } from "@/lib/db/migrate";
+import type { MigrationFn } from "@/lib/data/db/migrate";
 
 export const up: MigrationFn = async ({ context: qi }) => {
   await qi.createTable(

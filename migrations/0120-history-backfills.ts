@@ -5,7 +5,7 @@
  * rather than written twice.
  */
 import { DataTypes } from "sequelize";
-import type { MigrationFn } from "@/lib/db/migrate";
+import type { MigrationFn } from "@/lib/data/db/migrate";
 
 export const up: MigrationFn = async ({ context: qi }) => {
   await qi.createTable(

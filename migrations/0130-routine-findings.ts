@@ -11,7 +11,7 @@
  *   for work-list items); a finding never reaches the alarm list or its KPIs.
  */
 import { DataTypes } from "sequelize";
-import type { MigrationFn } from "@/lib/db/migrate";
+import type { MigrationFn } from "@/lib/data/db/migrate";
 
 const table = { charset: "utf8mb4", collate: "utf8mb4_unicode_ci", engine: "InnoDB" } as const;
 const ref = (model: string, onDelete: "CASCADE" | "SET NULL", allowNull = false) => ({

@@ -1,6 +1,6 @@
 /**
  * History tiers (see migrations/0004-history.ts): `t` is BIGINT epoch milliseconds (UTC);
- * primary key (loopId, t); tables partitioned by day (lib/db/partitions.ts). For bulk writes use
+ * primary key (loopId, t); tables partitioned by day (lib/data/db/partitions.ts). For bulk writes use
  * one multi-row INSERT through `sequelize.query` (bulkCreate costs ~5x the CPU per row).
  * No tenantId column: rows are reached only through their loop, which the tenancy guard checks.
  */

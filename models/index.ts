@@ -1,13 +1,13 @@
 /**
  * Sequelize models of Rimguard and their associations. Call `initModels(sequelize)` once per
- * process (lib/db/sequelize.ts does it for the shared connection; tests through
+ * process (lib/data/db/sequelize.ts does it for the shared connection; tests through
  * tests/setup/db.ts). The model classes are module singletons: the last `initModels` call binds
  * them to its Sequelize instance.
  *
  * Conventions: attributes camelCase in TypeScript, columns snake_case (underscored); times
  * DATETIME(3) in UTC, except the history tables whose `t` is BIGINT epoch ms. The schema itself
  * is defined by migrations/ (never by `sync()`); these definitions must match it.
- * Every tenant-owned model has `tenantId`: query it through lib/tenancy.ts.
+ * Every tenant-owned model has `tenantId`: query it through lib/data/tenancy.ts.
  */
 import type { Sequelize } from "sequelize";
 import { initAlarmModels } from "./alarm";

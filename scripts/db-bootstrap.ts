@@ -8,9 +8,9 @@ import type { Config } from "@/lib/config";
 import { getConfig } from "@/lib/config";
 import type { Models } from "@/models";
 import { ensureMariaDb, stopMariaDb, type MariaDbHandle } from "./mariadb-server";
-import { migrateUp } from "@/lib/db/migrate";
-import { maintainHistoryPartitions } from "@/lib/db/partitions";
-import { getDb } from "@/lib/db/sequelize";
+import { migrateUp } from "@/lib/data/db/migrate";
+import { maintainHistoryPartitions } from "@/lib/data/db/partitions";
+import { getDb } from "@/lib/data/db/sequelize";
 
 export interface DatabaseReady {
   sequelize: Sequelize;
@@ -54,7 +54,7 @@ export async function prepareDatabase(
   if (migrationsApplied.length) log(`Applied migrations: ${migrationsApplied.join(", ")}`);
   let seeded: Record<string, number> | null = null;
   if (opts.seed) {
-    const { seedDemo } = await import("@/lib/seed");
+    const { seedDemo } = await import("@/lib/data/seed");
     seeded = (await seedDemo(sequelize, { models, devicePepper: cfg.DEVICE_SECRET_PEPPER })).created;
   }
   await maintainHistoryPartitions(sequelize, {

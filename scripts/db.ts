@@ -9,8 +9,8 @@
  */
 import { getConfig } from "@/lib/config";
 import { prepareDatabase, startDatabaseServer, stopDatabaseServer } from "@/scripts/db-bootstrap";
-import { migrateDown, migrationStatus } from "@/lib/db/migrate";
-import { closeSequelize, getSequelize } from "@/lib/db/sequelize";
+import { migrateDown, migrationStatus } from "@/lib/data/db/migrate";
+import { closeSequelize, getSequelize } from "@/lib/data/db/sequelize";
 import { loadEnv } from "@/lib/load-env";
 
 const log = (m: string) => console.log(`[db] ${m}`);

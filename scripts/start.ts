@@ -13,7 +13,7 @@ import { getConfig } from "@/lib/config";
 import { loadEnv } from "@/lib/load-env";
 import { prepareDatabase } from "@/scripts/db-bootstrap";
 import { stopMariaDb } from "@/scripts/mariadb-server";
-import { closeSequelize } from "@/lib/db/sequelize";
+import { closeSequelize } from "@/lib/data/db/sequelize";
 import { REPO_ROOT, startServer } from "@/server/index";
 import { buildState, runNextBuild } from "@/server/next-build";
 
@@ -24,7 +24,7 @@ process.env.NEXT_TELEMETRY_DISABLED = "1";
 const log = (m: string) => console.log(`[start] ${m}`);
 
 async function printWelcome(url: string): Promise<void> {
-  const { DEMO_ACCOUNTS, DEMO_PASSWORD } = await import("@/lib/seed");
+  const { DEMO_ACCOUNTS, DEMO_PASSWORD } = await import("@/lib/data/seed");
   const rows = DEMO_ACCOUNTS.map((a) => [a.email, a.name, a.tenant, a.role]);
   const head = ["e-mail", "name", "tenant", "role"];
   const widths = head.map((h, i) => Math.max(h.length, ...rows.map((r) => r[i]!.length)));

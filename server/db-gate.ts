@@ -10,7 +10,7 @@
  * (lib/http.ts errorResponse); static files and Socket.IO are not gated.
  */
 import type http from "node:http";
-import { DATABASE_UNAVAILABLE } from "@/lib/db/unavailable";
+import { DATABASE_UNAVAILABLE } from "@/lib/data/db/unavailable";
 
 /** Pages that work without the database. */
 export const OUTAGE_PAGES: ReadonlySet<string> = new Set(["/alarms", "/signin"]);

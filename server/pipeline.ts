@@ -7,14 +7,14 @@
 import { DEFAULT_POLICY } from "@/lib/domain/alarms/policy";
 import type { AlarmApi } from "@/lib/domain/services";
 import type { Sequelize } from "sequelize";
-import { getSequelize } from "@/lib/db/sequelize";
+import { getSequelize } from "@/lib/data/db/sequelize";
 import { loadLoopConfigs, type LoadedLoop } from "@/server/ingest/loop-source";
 import { TELEMETRY_WILDCARD } from "@/lib/domain/telemetry";
 import type { LoopStateDto } from "@/lib/domain/types";
 import { EXTERNAL_BROKER, startBroker, type BrokerOptions, type BrokerService } from "./broker";
-import { dbCredentials } from "./broker/db-credentials";
+import { dbCredentials } from "@/lib/data/device-credentials";
 import type { ServerContext, Service, ServiceHealth } from "./context";
-import { loadCheckpoints, loadLoopStates, saveCheckpoints } from "./history/checkpoints";
+import { loadCheckpoints, loadLoopStates, saveCheckpoints } from "@/lib/data/checkpoints";
 import { startHistory, type HistoryOptions, type HistoryService } from "./history";
 import {
   Ingest,

@@ -1,8 +1,8 @@
 import { cookies } from "next/headers";
 import { redirect } from "next/navigation";
 import { getContextOrNull } from "@/lib/auth/guard";
-import { listMemberships } from "@/lib/auth/store";
-import { DATABASE_UNAVAILABLE, isDatabaseUnavailable } from "@/lib/db/unavailable";
+import { listMemberships } from "@/lib/data/auth";
+import { DATABASE_UNAVAILABLE, isDatabaseUnavailable } from "@/lib/data/db/unavailable";
 import { parseTheme, THEME_COOKIE } from "@/lib/theme";
 import { roleAtLeast } from "@/lib/domain/types";
 import { CautionLine } from "./_shell/caution";

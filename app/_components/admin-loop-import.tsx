@@ -5,7 +5,7 @@
  * or none. The export downloads the inventory in the same format.
  */
 import { useState } from "react";
-import type { ImportResult } from "@/lib/admin/loop-import";
+import type { ImportResult } from "@/lib/data/admin/loop-import";
 import { INVENTORY_COLUMNS } from "@/lib/admin/inventory-csv-columns";
 import { MAX_INVENTORY_BYTES } from "@/lib/admin/inventory-limits";
 import { ApiError, sendJson } from "@/lib/client/fetcher";

@@ -1,7 +1,7 @@
 "use client";
 /** The configuration change log (who, when, what from → to, why, MOC reference). */
 import useSWR from "swr";
-import type { ConfigChangeDto } from "@/lib/admin/config-log";
+import type { ConfigChangeDto } from "@/lib/data/admin/config-log";
 import { fetchJson, query } from "@/lib/client/fetcher";
 import { fmtTime } from "@/lib/client/format";
 

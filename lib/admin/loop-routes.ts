@@ -7,7 +7,7 @@ import { requireContext } from "@/lib/auth/guard";
 import { NotFoundError } from "@/lib/domain/errors";
 import { handle, parseBody } from "@/lib/http";
 import { createLoopSchema, updateLoopSchema } from "./loop-schema";
-import { createLoop, getLoopConfig, updateLoop } from "./loops";
+import { createLoop, getLoopConfig, updateLoop } from "@/lib/data/admin/loops";
 import { idParam } from "./route-helpers";
 
 export const createLoopHandler = handle(async (req: Request) => {

@@ -9,9 +9,9 @@
  * service records how they were authorised and checks the membership again when it writes them).
  */
 import type { TenantContext } from "@/lib/domain/types";
-import { isDatabaseUnavailable } from "@/lib/db/unavailable";
+import { isDatabaseUnavailable } from "@/lib/data/db/unavailable";
 import { sessionEvents } from "@/lib/server-context";
-import { loadTenantContext } from "./store";
+import { loadTenantContext } from "@/lib/data/auth";
 
 export const CONTEXT_TTL_MS = 3_000;
 const MAX_ENTRIES = 10_000;

@@ -10,10 +10,10 @@ import type { NextAuthOptions, User } from "next-auth";
 import CredentialsProvider from "next-auth/providers/credentials";
 import { z } from "zod";
 import { getConfig } from "@/lib/config";
-import { isDatabaseUnavailable } from "@/lib/db/unavailable";
+import { isDatabaseUnavailable } from "@/lib/data/db/unavailable";
 import { TooManyRequestsError } from "@/lib/domain/errors";
 import { revokeSession } from "@/lib/server-context";
-import { findUserByEmail, listMemberships, recordRevokedSession, touchSignIn } from "./store";
+import { findUserByEmail, listMemberships, recordRevokedSession, touchSignIn } from "@/lib/data/auth";
 import { assertSignInAllowed, recordSignInFailure, recordSignInSuccess } from "./throttle";
 
 /** Header set by server/index.ts from the TCP peer address (any client-sent value is dropped). */

@@ -9,12 +9,12 @@
 import { NextResponse } from "next/server";
 import { z } from "zod";
 import { requireContext } from "@/lib/auth/guard";
-import { getDb } from "@/lib/db/sequelize";
+import { getDb } from "@/lib/data/db/sequelize";
 import { HttpError, NotFoundError, ValidationError } from "@/lib/domain/errors";
 import { handle, parseQuery } from "@/lib/http";
 import { BACKFILL_UPLOAD_BODY } from "@/lib/request-guard";
 import { runningService } from "@/lib/server-context";
-import { findOwned } from "@/lib/tenancy";
+import { findOwned } from "@/lib/data/tenancy";
 import { text } from "@/lib/text-input";
 import type { TenantContext } from "@/lib/domain/types";
 import type { BackfillApi } from "@/lib/domain/backfill";

@@ -4,7 +4,7 @@
  */
 import os from "node:os";
 import path from "node:path";
-import { getDb } from "@/lib/db/sequelize";
+import { getDb } from "@/lib/data/db/sequelize";
 import type { ServerContext } from "@/server/context";
 import { AlarmService, type AlarmServiceOptions } from "./service";
 

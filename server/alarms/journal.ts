@@ -10,36 +10,9 @@
  */
 import fs from "node:fs";
 import path from "node:path";
-import type { AlarmActionKind, AlarmPoint } from "@/lib/domain/alarms/state-machine";
-import type { AlarmCondition, AlarmState } from "@/lib/domain/types";
 
-/** The stored alarm point plus what the pages show. */
-export interface PointSnapshot extends AlarmPoint {
-  value: number | null;
-  level: number | null;
-  message: string;
-}
-
-export interface JournalEntry {
-  seq: number;
-  /** Epoch ms of the transition. */
-  at: number;
-  tenantId: number;
-  alarmId: number;
-  loopId: number;
-  areaId: number | null;
-  condition: AlarmCondition;
-  kind: AlarmActionKind;
-  from: AlarmState;
-  to: AlarmState;
-  userId: number | null;
-  comment: string | null;
-  announce: boolean;
-  occurrence: "start" | "end" | null;
-  /** The alarm point after the transition. */
-  point: PointSnapshot;
-  data: Record<string, unknown> | null;
-}
+export type { JournalEntry, PointSnapshot } from "@/lib/domain/alarms/journal-entry";
+import type { JournalEntry } from "@/lib/domain/alarms/journal-entry";
 
 export class JournalFullError extends Error {
   constructor(readonly sizeBytes: number, readonly maxBytes: number) {

@@ -45,11 +45,11 @@ import {
   type TenantContext,
 } from "@/lib/domain/types";
 import type { ServerContext, Service, ServiceHealth } from "@/server/context";
-import { AlarmDbWriter, journalId, LAST_KNOWN_MEMBERSHIP, type LastKnownAuthorisation } from "./db-writer";
+import { AlarmDbWriter, journalId, LAST_KNOWN_MEMBERSHIP, type LastKnownAuthorisation } from "@/lib/data/alarms/db-writer";
 import { AlarmJournal, type JournalEntry, type PointSnapshot } from "./journal";
 import { AlarmNotifier, priorityOfSubject, type NotificationRuleRow, type SentRow } from "./notifier";
 import type { MailService } from "@/server/mail";
-import { alarmDetail, alarmKpis, readPolicy, writePolicy, type PolicyLoopInfo, type PolicyView } from "./queries";
+import { alarmDetail, alarmKpis, readPolicy, writePolicy, type PolicyLoopInfo, type PolicyView } from "@/lib/data/alarms/queries";
 import type { AlarmKpis } from "@/lib/domain/alarms/kpis";
 import type { PolicyScope } from "@/lib/domain/alarms/policy";
 

@@ -10,7 +10,7 @@ import type { BackfillApi, BackfillRequest } from "@/lib/domain/backfill";
 import { BackfillJob, type BackfillDeps, type BackfillParams, type BackfillProgress } from "./job";
 import type { ByteSource } from "./sample-csv";
 import { loadLoopConfigs } from "../ingest/loop-source";
-import { closeAbandonedBackfills, listBackfills, type BackfillRow } from "./store";
+import { closeAbandonedBackfills, listBackfills, type BackfillRow } from "@/lib/data/backfill";
 
 export type { BackfillRequest };
 

@@ -13,8 +13,8 @@
  * tier's retention they are refused. Day partitions the samples need are created first.
  */
 import type { Sequelize } from "sequelize";
-import { ensurePastPartition } from "@/lib/db/past-partitions";
-import { DAY_MS } from "@/lib/db/partitions";
+import { ensurePastPartition } from "@/lib/data/db/past-partitions";
+import { DAY_MS } from "@/lib/data/db/partitions";
 import { FUTURE_SKEW_MS } from "@/lib/domain/telemetry";
 import { judgeSampleQuality } from "@/lib/domain/sample-quality";
 import type { LoopStateDto, SampleDto } from "@/lib/domain/types";
@@ -34,7 +34,7 @@ import {
   updateBackfill,
   type BackfillStatus,
   type BlockedSpans,
-} from "./store";
+} from "@/lib/data/backfill";
 
 export interface BackfillDeps {
   sequelize: Sequelize;

@@ -7,26 +7,8 @@
 import { createHmac, timingSafeEqual } from "node:crypto";
 import type { Clock } from "@/server/context";
 
-export interface DeviceCredential {
-  keyId: string;
-  tenantId: number;
-  tenantSlug: string;
-  /** The site the credential may publish for; null = every site of its tenant. */
-  siteId: number | null;
-  siteSlug: string | null;
-  /** The MQTT client id bound to the credential (see clientIdAllowed). */
-  clientId: string;
-  /** HMAC-SHA256(pepper, secret). */
-  secretHash: Buffer;
-  revoked: boolean;
-}
-
-export interface CredentialLookup {
-  /** The credential with this key id, or null when there is none. */
-  find(keyId: string): Promise<DeviceCredential | null>;
-  /** Record that the device was seen (connected or published) at `at` (epoch ms); optional. */
-  touch?(keyId: string, at: number): Promise<void>;
-}
+export type { CredentialLookup, DeviceCredential } from "@/lib/data/device-credentials";
+import type { CredentialLookup, DeviceCredential } from "@/lib/data/device-credentials";
 
 export function hashDeviceSecret(pepper: string, secret: string | Buffer): Buffer {
   return createHmac("sha256", pepper).update(secret).digest();

@@ -1,11 +1,11 @@
 /**
  * The history service: aggregates validated samples and tracker estimates into the history tiers
  * and writes them in batches; keeps the daily partitions (created ahead, dropped beyond
- * retention, lib/db/partitions.ts). Nothing here blocks ingest: appends are synchronous and
+ * retention, lib/data/db/partitions.ts). Nothing here blocks ingest: appends are synchronous and
  * bounded, writes happen on a timer.
  */
 import type { Sequelize } from "sequelize";
-import { maintainHistoryPartitions } from "@/lib/db/partitions";
+import { maintainHistoryPartitions } from "@/lib/data/db/partitions";
 import type { LoopStateDto, SampleDto } from "@/lib/domain/types";
 import type { ServerContext, Service, ServiceHealth } from "@/server/context";
 import { HistoryAggregator, type AggregatorOptions } from "./aggregate";

@@ -14,7 +14,7 @@ import type {
   SocketData,
 } from "@/lib/domain/events";
 import { claimsFromCookieHeader, type SessionClaims } from "@/lib/auth/session-token";
-import { loadTenantContext } from "@/lib/auth/store";
+import { loadTenantContext } from "@/lib/data/auth";
 import { siteRoom, tenantRoom } from "@/lib/domain/events";
 import { sessionEvents } from "@/lib/server-context";
 import type { RimguardIo } from "@/server/context";
@@ -86,7 +86,7 @@ export function installSocketAuth(
   });
 
   io.on("connection", (socket) => {
-    // A site-scoped member gets the live states of its sites only (lib/tenancy.ts site scope).
+    // A site-scoped member gets the live states of its sites only (lib/data/tenancy.ts site scope).
     if (socket.data.siteIds) for (const siteId of socket.data.siteIds) void socket.join(siteRoom(siteId));
     else void socket.join(tenantRoom(socket.data.tenantId));
   });

@@ -24,12 +24,12 @@ const rule = await import("@/app/api/admin/notification-rules/[ruleId]/route");
 const sites = await import("@/app/api/admin/sites/route");
 const loops = await import("@/app/api/loops/route");
 const loop = await import("@/app/api/loops/[loopId]/route");
-const { createSite, createArea } = await import("@/lib/admin/sites");
-const { createRule, updateRule, deleteRule } = await import("@/lib/admin/notifications");
-const { createDevice, revokeDevice } = await import("@/lib/admin/devices");
-const { inviteUser, changeRole, removeMember } = await import("@/lib/admin/users");
-const { createLoop, updateLoop } = await import("@/lib/admin/loops");
-const { writePolicy } = await import("@/server/alarms/queries");
+const { createSite, createArea } = await import("@/lib/data/admin/sites");
+const { createRule, updateRule, deleteRule } = await import("@/lib/data/admin/notifications");
+const { createDevice, revokeDevice } = await import("@/lib/data/admin/devices");
+const { inviteUser, changeRole, removeMember } = await import("@/lib/data/admin/users");
+const { createLoop, updateLoop } = await import("@/lib/data/admin/loops");
+const { writePolicy } = await import("@/lib/data/alarms/queries");
 const { NEW_LOOP_DEFAULTS } = await import("@/lib/admin/loop-schema");
 
 let db: TestDatabase;

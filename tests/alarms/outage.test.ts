@@ -13,13 +13,13 @@ import { QueryTypes, type Sequelize } from "sequelize";
 import { encode } from "next-auth/jwt";
 import { afterAll, beforeAll, describe, expect, it, vi } from "vitest";
 import { getConfig } from "@/lib/config";
-import { setSharedDb } from "@/lib/db/sequelize";
+import { setSharedDb } from "@/lib/data/db/sequelize";
 import { setServerContext } from "@/lib/server-context";
 import type { Role, TenantContext } from "@/lib/domain/types";
 import { createDatabaseGate } from "@/server/db-gate";
 import { ensureMariaDb, freePort, type MariaDbHandle } from "@/scripts/mariadb-server";
-import { migrateUp } from "@/lib/db/migrate";
-import { createSequelize } from "@/lib/db/sequelize";
+import { migrateUp } from "@/lib/data/db/migrate";
+import { createSequelize } from "@/lib/data/db/sequelize";
 import { initModels, type Models } from "@/models";
 import { AlarmService } from "@/server/alarms/service";
 import {

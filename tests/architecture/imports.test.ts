@@ -2,7 +2,7 @@
  * The folder arrows (DEVELOPERS.md, Folders): a scan of every import in the product's sources
  * fails on a forbidden one. lib/control imports only lib/control and mathjs; lib/domain only
  * itself, lib/control and zod; models only lib/domain (and Sequelize); app never server; lib
- * never server (not even a type); lib/client never the data layer (models, lib/db, server).
+ * never server (not even a type); lib/client never the data layer (models, lib/data, server).
  * Common practice (layering); no external source.
  */
 import fs from "node:fs";
@@ -95,7 +95,7 @@ const RULES: Rule[] = [
   {
     from: "lib/client",
     check: (t) =>
-      under(t, "models") || under(t, "lib/db") || under(t, "server")
+      under(t, "models") || under(t, "lib/data") || under(t, "lib/db") || under(t, "server")
         ? "lib/client never imports the data layer"
         : null,
   },
@@ -135,7 +135,7 @@ describe("import arrows", () => {
       "models/x.ts": 'import { getConfig } from "@/lib/config";',
       "app/x.tsx": 'import type { AlarmService } from "@/server/alarms/service";',
       "lib/x.ts": 'import type { ServerContext } from "../server/context";',
-      "lib/client/x.ts": 'const m = await import("@/lib/db/connection");',
+      "lib/client/x.ts": 'const m = await import("@/lib/data/db/connection");',
     };
     const v = violations(Object.keys(fake), (f) => fake[f]!);
     expect([...new Set(v.map((s) => s.split(" -> ")[0]))].sort()).toEqual(Object.keys(fake).sort());

@@ -10,7 +10,7 @@ import { createHash } from "node:crypto";
 import net from "node:net";
 import { QueryTypes } from "sequelize";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import { acceptInvitation, acceptInvitationAsUser, describeInvitation, INVITATION_TTL_MS } from "@/lib/admin/users";
+import { acceptInvitation, acceptInvitationAsUser, describeInvitation, INVITATION_TTL_MS } from "@/lib/data/admin/users";
 import { mailOf } from "@/server/mail";
 import { startTestServer, type TestServer } from "../setup/server";
 import { createAuthFixture, FIXTURE_PASSWORD, type AuthFixture } from "./fixture";

@@ -15,7 +15,7 @@ import { TrackerRegistry } from "@/server/tracking/registry";
 import { Bus, type Clock } from "@/server/context";
 import { BackfillHost } from "@/server/backfill/host";
 import type { BackfillProgress } from "@/server/backfill/job";
-import { listPartitions, maintainHistoryPartitions, partitionName, DAY_MS } from "@/lib/db/partitions";
+import { listPartitions, maintainHistoryPartitions, partitionName, DAY_MS } from "@/lib/data/db/partitions";
 import type { SampleDto } from "@/lib/domain/types";
 import { createPipelineFixture, PiLoop, type PipelineTenant } from "../pipeline/fixture";
 import { createTestDatabase, type TestDatabase } from "../setup/db";

@@ -317,8 +317,8 @@ async function bare(scenarioFile: string, opts: { loops: number; hz: number; bat
 /** A throw-away MariaDB (temporary data directory, free port, stopped with this process) with the schema migrated. */
 async function startBenchDatabase() {
   const { ensureMariaDb, freePort, rootConnection } = await import("@/scripts/mariadb-server");
-  const { createSequelize } = await import("@/lib/db/sequelize");
-  const { migrateUp } = await import("@/lib/db/migrate");
+  const { createSequelize } = await import("@/lib/data/db/sequelize");
+  const { migrateUp } = await import("@/lib/data/db/migrate");
   const dbDir = mkdtempSync(path.join(os.tmpdir(), "rg-bdb-"));
   const handle = await ensureMariaDb({
     dataDir: path.join(dbDir, "data"),

@@ -20,8 +20,8 @@ const FROM = TO - 7 * DAY_MS;
 
 async function startBenchDatabase() {
   const { ensureMariaDb, freePort } = await import("@/scripts/mariadb-server");
-  const { createSequelize } = await import("@/lib/db/sequelize");
-  const { migrateUp } = await import("@/lib/db/migrate");
+  const { createSequelize } = await import("@/lib/data/db/sequelize");
+  const { migrateUp } = await import("@/lib/data/db/migrate");
   const dbDir = mkdtempSync(path.join(os.tmpdir(), "rg-rbench-"));
   const handle = await ensureMariaDb({
     dataDir: path.join(dbDir, "data"),
@@ -96,7 +96,7 @@ async function median(fn: () => Promise<unknown>, n = 5): Promise<number> {
 async function main(): Promise<void> {
   const db = await startBenchDatabase();
   try {
-    const { setSharedDb } = await import("@/lib/db/sequelize");
+    const { setSharedDb } = await import("@/lib/data/db/sequelize");
     const { initModels } = await import("@/models");
     setSharedDb({ sequelize: db.sequelize, models: initModels(db.sequelize) });
     const { buildWorstLoops } = await import("@/lib/reports/worst-loops");

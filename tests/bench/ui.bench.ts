@@ -50,11 +50,11 @@ import path from "node:path";
 import { performance } from "node:perf_hooks";
 import { chromium, type Page, type Route } from "playwright-core";
 import { ensureMariaDb, freePort } from "@/scripts/mariadb-server";
-import { DEMO_PASSWORD } from "@/lib/seed";
+import { DEMO_PASSWORD } from "@/lib/data/seed";
 import { tenantRoom } from "@/lib/domain/events";
 import type { LoopStateBrief, LoopStateDto, LoopSummary, PoleDto } from "@/lib/domain/types";
 import { toLoopBrief } from "@/server/realtime/summary";
-import { historyColumns } from "@/lib/loops/history";
+import { historyColumns } from "@/lib/data/loop-history";
 import { artifactPath, CHROMIUM_ARGS, findChromium, type TestBrowser } from "../setup/browser";
 import { startTestServer } from "../setup/server";
 

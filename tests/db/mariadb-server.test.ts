@@ -13,8 +13,8 @@ import {
   stopMariaDb,
   type MariaDbHandle,
 } from "@/scripts/mariadb-server";
-import { migrateUp } from "@/lib/db/migrate";
-import { createSequelize } from "@/lib/db/sequelize";
+import { migrateUp } from "@/lib/data/db/migrate";
+import { createSequelize } from "@/lib/data/db/sequelize";
 
 // A second private server of its own (the run's shared test server is not touched).
 let dir: string;

@@ -1,5 +1,5 @@
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import { MIGRATIONS_TABLE, migrateDown, migrateUp, migrationStatus } from "@/lib/db/migrate";
+import { MIGRATIONS_TABLE, migrateDown, migrateUp, migrationStatus } from "@/lib/data/db/migrate";
 import { createEmptyDatabase } from "@/tests/setup/db";
 
 type Db = Awaited<ReturnType<typeof createEmptyDatabase>>;

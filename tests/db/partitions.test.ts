@@ -7,7 +7,7 @@ import {
   listPartitions,
   maintainHistoryPartitions,
   partitionName,
-} from "@/lib/db/partitions";
+} from "@/lib/data/db/partitions";
 import { createTestDatabase, type TestDatabase } from "@/tests/setup/db";
 
 let db: TestDatabase;

@@ -13,7 +13,7 @@ import {
   DEMO_TENANTS,
   seedDemo,
   type DemoPlantModel,
-} from "@/lib/seed";
+} from "@/lib/data/seed";
 import { isSlug } from "@/lib/domain/slug";
 import { ROLES } from "@/lib/domain/types";
 import { tuningSeconds } from "@/models";

@@ -1,6 +1,6 @@
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { NotFoundError } from "@/lib/domain/errors";
-import { assertOwned, findOwned, findOwnedOrThrow, scoped, tenantWhere } from "@/lib/tenancy";
+import { assertOwned, findOwned, findOwnedOrThrow, scoped, tenantWhere } from "@/lib/data/tenancy";
 import type { TenantContext } from "@/lib/domain/types";
 import { createTestDatabase, type TestDatabase } from "@/tests/setup/db";
 
@@ -106,7 +106,7 @@ describe("assertOwned", () => {
 
 describe("a test database as the process-wide connection", () => {
   it("is what getDb() returns while it is the default", async () => {
-    const { getDb } = await import("@/lib/db/sequelize");
+    const { getDb } = await import("@/lib/data/db/sequelize");
     const { createTestDatabase: create } = await import("@/tests/setup/db");
     const other = await create("dflt", { asDefault: true });
     try {

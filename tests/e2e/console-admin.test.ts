@@ -9,7 +9,7 @@
  */
 import type { Page } from "playwright-core";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import { DEMO_PASSWORD } from "@/lib/seed";
+import { DEMO_PASSWORD } from "@/lib/data/seed";
 import { artifactPath, launchBrowser, type TestBrowser } from "../setup/browser";
 import { mailOf } from "@/server/mail";
 import { startTestServer, type TestServer } from "../setup/server";

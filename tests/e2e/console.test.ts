@@ -9,7 +9,7 @@
  */
 import type { Page } from "playwright-core";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import { DEMO_PASSWORD } from "@/lib/seed";
+import { DEMO_PASSWORD } from "@/lib/data/seed";
 import type { AlarmDto, LoopSummary } from "@/lib/domain/types";
 import type { ServerContext } from "@/server/context";
 import { startSimulators, type SimulatorsService } from "@/server/simulators-process";

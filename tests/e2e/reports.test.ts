@@ -9,7 +9,7 @@ import { execFileSync } from "node:child_process";
 import fs from "node:fs";
 import type { Page } from "playwright-core";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import { DEMO_PASSWORD } from "@/lib/seed";
+import { DEMO_PASSWORD } from "@/lib/data/seed";
 import { artifactPath, launchBrowser, type TestBrowser } from "../setup/browser";
 import { startTestServer, type TestServer } from "../setup/server";
 

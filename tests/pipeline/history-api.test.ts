@@ -1,7 +1,7 @@
 import { spawnSync } from "node:child_process";
 import { QueryTypes } from "sequelize";
 import { afterAll, beforeAll, describe, expect, it, vi } from "vitest";
-import { getLoopHistory, bucketWidth, historyColumns, historySchema, RADIUS_HOLD_MS } from "@/lib/loops/history";
+import { getLoopHistory, bucketWidth, historyColumns, historySchema, RADIUS_HOLD_MS } from "@/lib/data/loop-history";
 import { parseHistory } from "@/lib/client/history";
 import type { LoopStateDto, TenantContext } from "@/lib/domain/types";
 import { HistoryAggregator, HistoryWriter } from "@/server/history";
@@ -206,7 +206,7 @@ vi.mock("@/lib/auth/guard", () => ({
     return guard.ctx;
   },
 }));
-vi.mock("@/lib/db/sequelize", async (orig) => ({ ...(await orig<object>()), getSequelize: () => db.sequelize }));
+vi.mock("@/lib/data/db/sequelize", async (orig) => ({ ...(await orig<object>()), getSequelize: () => db.sequelize }));
 
 describe("GET /api/loops/[loopId]/history and /api/loops/[loopId]", () => {
   const as = (t: PipelineTenant) => {

@@ -14,8 +14,8 @@ import { randomBytes } from "node:crypto";
 import type { Sequelize } from "sequelize";
 import { inject } from "vitest";
 import { rootConnection } from "@/scripts/mariadb-server";
-import { migrateUp } from "@/lib/db/migrate";
-import { createSequelize, setSharedDb } from "@/lib/db/sequelize";
+import { migrateUp } from "@/lib/data/db/migrate";
+import { createSequelize, setSharedDb } from "@/lib/data/db/sequelize";
 import { initModels, type Models } from "@/models";
 import type { TestDbInfo } from "./global-db";
 
@@ -78,7 +78,7 @@ export async function createEmptyDatabase(prefix = "t"): Promise<Omit<TestDataba
 
 /**
  * A fresh database with every migration applied and the models bound to it. With `asDefault`,
- * it also becomes the process-wide connection of lib/db/sequelize.ts until `drop()`.
+ * it also becomes the process-wide connection of lib/data/db/sequelize.ts until `drop()`.
  */
 export async function createTestDatabase(prefix = "t", opts: { asDefault?: boolean } = {}): Promise<TestDatabase> {
   const db = await createEmptyDatabase(prefix);

@@ -2,7 +2,7 @@
 import { NextResponse } from "next/server";
 import { z } from "zod";
 import { alarmApi, isoTime } from "@/lib/alarms/access";
-import { visibleAlarms } from "@/lib/alarms/scope";
+import { visibleAlarms } from "@/lib/data/alarms/scope";
 import { requireContext } from "@/lib/auth/guard";
 import { handle, parseQuery } from "@/lib/http";
 import { ALARM_PRIORITIES, ALARM_STATES } from "@/lib/domain/types";

@@ -3,7 +3,7 @@ import { NextResponse } from "next/server";
 import { createLoopHandler } from "@/lib/admin/loop-routes";
 import { requireContext } from "@/lib/auth/guard";
 import { handle } from "@/lib/http";
-import { listLoops } from "@/lib/loops";
+import { listLoops } from "@/lib/data/loops";
 
 export const dynamic = "force-dynamic";
 

@@ -2,7 +2,7 @@
 import { NextResponse } from "next/server";
 import { handle } from "@/lib/http";
 import { requireContext } from "@/lib/auth/guard";
-import { listMemberships } from "@/lib/auth/store";
+import { listMemberships } from "@/lib/data/auth";
 
 export const GET = handle(async () => {
   const ctx = await requireContext("viewer");

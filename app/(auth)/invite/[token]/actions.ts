@@ -5,7 +5,7 @@
  * from the session, and the account's password and name are never changed here.
  */
 import { headers } from "next/headers";
-import { acceptInvitation, acceptInvitationAsUser, acceptSchema } from "@/lib/admin/users";
+import { acceptInvitation, acceptInvitationAsUser, acceptSchema } from "@/lib/data/admin/users";
 import { getContextOrNull } from "@/lib/auth/guard";
 import { isHttpError } from "@/lib/domain/errors";
 import { assertSameOrigin } from "@/lib/request-guard";

@@ -1,5 +1,5 @@
 import Link from "next/link";
-import { describeInvitation } from "@/lib/admin/users";
+import { describeInvitation } from "@/lib/data/admin/users";
 import { getContextOrNull } from "@/lib/auth/guard";
 import { AcceptAsSignedInForm, InviteForm } from "./invite-form";
 

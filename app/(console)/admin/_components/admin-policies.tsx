@@ -14,7 +14,7 @@ import type {
   PolicyOverride,
   PolicyScope,
 } from "@/lib/domain/alarms/policy";
-import type { SiteDto } from "@/lib/admin/sites";
+import type { SiteDto } from "@/lib/data/admin/sites";
 import type { Role } from "@/lib/domain/types";
 import { roleAtLeast } from "@/lib/domain/types";
 import { fetchJson, query, sendJson } from "@/lib/client/fetcher";

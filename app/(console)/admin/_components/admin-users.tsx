@@ -5,7 +5,7 @@ import { useState } from "react";
 import { useForm } from "react-hook-form";
 import useSWR from "swr";
 import { z } from "zod";
-import type { InvitationDto, MemberDto } from "@/lib/admin/users";
+import type { InvitationDto, MemberDto } from "@/lib/data/admin/users";
 import { ROLES, roleAtLeast, type Role } from "@/lib/domain/types";
 import { fetchJson, sendJson } from "@/lib/client/fetcher";
 import { useNow } from "@/lib/client/hooks";

@@ -3,8 +3,8 @@ import { LoopDetail } from "@/app/(console)/loops/[loopId]/_components/loop-deta
 import { FindingEvidencePanel } from "@/app/_components/finding-evidence";
 import { isRangeKey } from "@/lib/client/ranges";
 import { getContextOrNull } from "@/lib/auth/guard";
-import { loopOwner } from "@/lib/loops";
-import { siteVisible } from "@/lib/tenancy";
+import { loopOwner } from "@/lib/data/loops";
+import { siteVisible } from "@/lib/data/tenancy";
 
 export const dynamic = "force-dynamic";
 export const metadata = { title: "Loop · Rimguard" };

@@ -11,7 +11,7 @@ import { useState } from "react";
 import { useForm, type FieldErrors, type UseFormRegister } from "react-hook-form";
 import useSWR from "swr";
 import { createLoopSchema, NEW_LOOP_DEFAULTS, type CreateLoopInput, type LoopFields } from "@/lib/admin/loop-schema";
-import type { SiteDto } from "@/lib/admin/sites";
+import type { SiteDto } from "@/lib/data/admin/sites";
 import { LOOP_KINDS } from "@/lib/domain/types";
 import { fetchJson, sendJson } from "@/lib/client/fetcher";
 

@@ -1,5 +1,5 @@
 /** GET form for a report's period and filters (no script needed). Server component. */
-import type { SiteDto } from "@/lib/admin/sites";
+import type { SiteDto } from "@/lib/data/admin/sites";
 
 const KINDS = ["flow", "level", "temperature", "pressure", "composition", "other"];
 

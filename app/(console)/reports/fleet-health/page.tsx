@@ -1,5 +1,5 @@
 import { redirect } from "next/navigation";
-import { listSites } from "@/lib/admin/sites";
+import { listSites } from "@/lib/data/admin/sites";
 import { getContextOrNull } from "@/lib/auth/guard";
 import { buildFleetHealth } from "@/lib/reports/fleet-health";
 import { fleetHealthDocument } from "@/lib/reports/fleet-health-document";

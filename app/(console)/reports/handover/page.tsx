@@ -1,6 +1,6 @@
 import Link from "next/link";
 import { notFound, redirect } from "next/navigation";
-import { listSites } from "@/lib/admin/sites";
+import { listSites } from "@/lib/data/admin/sites";
 import { getContextOrNull } from "@/lib/auth/guard";
 import { handoverDocument, formatLocal } from "@/lib/reports/document";
 import { buildHandover, resolveShift, siteShiftInfo } from "@/lib/reports/handover";

@@ -1,5 +1,5 @@
 import { redirect } from "next/navigation";
-import { listSites } from "@/lib/admin/sites";
+import { listSites } from "@/lib/data/admin/sites";
 import { getContextOrNull } from "@/lib/auth/guard";
 import { listMySubscriptions } from "@/lib/reports/delivery";
 import { ReportTabs } from "../_components/report-tabs";

@@ -1,5 +1,5 @@
 import { redirect } from "next/navigation";
-import { listSites } from "@/lib/admin/sites";
+import { listSites } from "@/lib/data/admin/sites";
 import { getContextOrNull } from "@/lib/auth/guard";
 import { periodOf, periodReportQuery, readTime } from "@/lib/reports/params";
 import { buildWorstLoops } from "@/lib/reports/worst-loops";

@@ -1,6 +1,6 @@
 import { NextResponse } from "next/server";
 import { z } from "zod";
-import { listConfigChanges } from "@/lib/admin/config-log";
+import { listConfigChanges } from "@/lib/data/admin/config-log";
 import { requireContext } from "@/lib/auth/guard";
 import { handle, parseQuery } from "@/lib/http";
 

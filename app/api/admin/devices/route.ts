@@ -1,5 +1,5 @@
 import { NextResponse } from "next/server";
-import { createDevice, createDeviceSchema, listDevices } from "@/lib/admin/devices";
+import { createDevice, createDeviceSchema, listDevices } from "@/lib/data/admin/devices";
 import { requireContext } from "@/lib/auth/guard";
 import { handle, parseBody } from "@/lib/http";
 

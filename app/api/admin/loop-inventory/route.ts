@@ -6,7 +6,7 @@
 import { NextResponse } from "next/server";
 import { requireContext } from "@/lib/auth/guard";
 import { handle, parseBody } from "@/lib/http";
-import { commitInventoryImport, exportInventoryCsv, importRequestSchema, previewInventoryImport } from "@/lib/admin/loop-import";
+import { commitInventoryImport, exportInventoryCsv, importRequestSchema, previewInventoryImport } from "@/lib/data/admin/loop-import";
 import { INVENTORY_IMPORT_BODY } from "@/lib/admin/inventory-limits";
 
 export const dynamic = "force-dynamic";

@@ -1,5 +1,5 @@
 import { NextResponse } from "next/server";
-import { createRule, listRules, ruleSchema } from "@/lib/admin/notifications";
+import { createRule, listRules, ruleSchema } from "@/lib/data/admin/notifications";
 import { requireContext } from "@/lib/auth/guard";
 import { handle, parseBody } from "@/lib/http";
 

@@ -1,5 +1,5 @@
 import { NextResponse } from "next/server";
-import { createSite, listSites, siteSchema } from "@/lib/admin/sites";
+import { createSite, listSites, siteSchema } from "@/lib/data/admin/sites";
 import { requireContext } from "@/lib/auth/guard";
 import { handle, parseBody } from "@/lib/http";
 

@@ -1,5 +1,5 @@
 import { NextResponse } from "next/server";
-import { inviteSchema, inviteUser, listMembers } from "@/lib/admin/users";
+import { inviteSchema, inviteUser, listMembers } from "@/lib/data/admin/users";
 import { requireContext } from "@/lib/auth/guard";
 import { handle, parseBody } from "@/lib/http";
 

@@ -1,7 +1,7 @@
 /** GET /api/alarms/[alarmId] — one alarm with its occurrences and events (newest first). */
 import { NextResponse } from "next/server";
 import { alarmApi, parseId } from "@/lib/alarms/access";
-import { assertAlarmVisible } from "@/lib/alarms/scope";
+import { assertAlarmVisible } from "@/lib/data/alarms/scope";
 import { requireContext } from "@/lib/auth/guard";
 import { handle } from "@/lib/http";
 

@@ -5,7 +5,7 @@
 import { NextResponse } from "next/server";
 import { z } from "zod";
 import { alarmApi, isoTime } from "@/lib/alarms/access";
-import { scopedAlarmKpis } from "@/lib/alarms/scope";
+import { scopedAlarmKpis } from "@/lib/data/alarms/scope";
 import { requireContext } from "@/lib/auth/guard";
 import { handle, parseQuery } from "@/lib/http";
 

@@ -2,7 +2,7 @@
 import { NextResponse } from "next/server";
 import { requireContext } from "@/lib/auth/guard";
 import { handle } from "@/lib/http";
-import { ingestDiagnostics } from "@/lib/loops/diagnostics";
+import { ingestDiagnostics } from "@/lib/data/loop-diagnostics";
 
 export const dynamic = "force-dynamic";
 

@@ -4,7 +4,7 @@ import { updateLoopHandler } from "@/lib/admin/loop-routes";
 import { requireContext } from "@/lib/auth/guard";
 import { NotFoundError } from "@/lib/domain/errors";
 import { handle } from "@/lib/http";
-import { getLoop, loopIdSchema } from "@/lib/loops";
+import { getLoop, loopIdSchema } from "@/lib/data/loops";
 
 export const dynamic = "force-dynamic";
 

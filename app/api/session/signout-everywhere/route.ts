@@ -4,7 +4,7 @@ import { UnauthenticatedError } from "@/lib/domain/errors";
 import { handle } from "@/lib/http";
 import { notifyUserChanged } from "@/lib/server-context";
 import { getSessionClaims } from "@/lib/auth/guard";
-import { bumpSessionVersion } from "@/lib/auth/store";
+import { bumpSessionVersion } from "@/lib/data/auth";
 
 export const POST = handle(async () => {
   const claims = await getSessionClaims();

@@ -13,7 +13,7 @@ import { NotFoundError, UnauthenticatedError } from "@/lib/domain/errors";
 import { handle, parseBody } from "@/lib/http";
 import { sessionEvents } from "@/lib/server-context";
 import { getSessionClaims } from "@/lib/auth/guard";
-import { loadTenantContext } from "@/lib/auth/store";
+import { loadTenantContext } from "@/lib/data/auth";
 
 const bodySchema = z.object({ tenantId: z.coerce.number().int().positive() });
 

@@ -2,9 +2,9 @@
 import { NextResponse } from "next/server";
 import { z } from "zod";
 import { requireContext } from "@/lib/auth/guard";
-import { getDb } from "@/lib/db/sequelize";
+import { getDb } from "@/lib/data/db/sequelize";
 import { handle } from "@/lib/http";
-import { assertSiteVisible, findOwnedOrThrow } from "@/lib/tenancy";
+import { assertSiteVisible, findOwnedOrThrow } from "@/lib/data/tenancy";
 
 const paramsSchema = z.object({ siteId: z.coerce.number().int().positive() });
 

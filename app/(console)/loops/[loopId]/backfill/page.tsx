@@ -1,7 +1,7 @@
 import Link from "next/link";
 import { notFound, redirect } from "next/navigation";
 import { LoopBackfill } from "@/app/_components/loop-backfill";
-import { getLoopConfig } from "@/lib/admin/loops";
+import { getLoopConfig } from "@/lib/data/admin/loops";
 import { getContextOrNull } from "@/lib/auth/guard";
 import { roleAtLeast } from "@/lib/domain/types";
 

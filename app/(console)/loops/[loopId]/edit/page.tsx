@@ -1,7 +1,7 @@
 import { notFound, redirect } from "next/navigation";
 import { LoopForm } from "@/app/(console)/loops/_components/loop-form";
 import { ConfigChangeLog } from "@/app/_components/config-change-log";
-import { getLoopConfig } from "@/lib/admin/loops";
+import { getLoopConfig } from "@/lib/data/admin/loops";
 import { getContextOrNull } from "@/lib/auth/guard";
 import { roleAtLeast } from "@/lib/domain/types";
 

@@ -1,6 +1,6 @@
 import Link from "next/link";
 import { notFound, redirect } from "next/navigation";
-import { getLoopConfig } from "@/lib/admin/loops";
+import { getLoopConfig } from "@/lib/data/admin/loops";
 import { getContextOrNull } from "@/lib/auth/guard";
 import { listStepTests } from "@/lib/step-tests/service";
 import { roleAtLeast } from "@/lib/domain/types";

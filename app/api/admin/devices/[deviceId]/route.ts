@@ -1,5 +1,5 @@
 import { NextResponse } from "next/server";
-import { revokeDevice } from "@/lib/admin/devices";
+import { revokeDevice } from "@/lib/data/admin/devices";
 import { idParam, reasonSchema } from "@/lib/admin/route-helpers";
 import { requireContext } from "@/lib/auth/guard";
 import { handle, parseBody } from "@/lib/http";

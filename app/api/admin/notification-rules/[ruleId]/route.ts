@@ -1,5 +1,5 @@
 import { NextResponse } from "next/server";
-import { deleteRule, ruleSchema, updateRule } from "@/lib/admin/notifications";
+import { deleteRule, ruleSchema, updateRule } from "@/lib/data/admin/notifications";
 import { idParam, reasonSchema } from "@/lib/admin/route-helpers";
 import { requireContext } from "@/lib/auth/guard";
 import { handle, parseBody } from "@/lib/http";

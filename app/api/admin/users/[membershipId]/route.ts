@@ -1,6 +1,6 @@
 import { NextResponse } from "next/server";
 import { idParam, reasonSchema } from "@/lib/admin/route-helpers";
-import { changeRole, removeMember, roleChangeSchema } from "@/lib/admin/users";
+import { changeRole, removeMember, roleChangeSchema } from "@/lib/data/admin/users";
 import { requireContext } from "@/lib/auth/guard";
 import { handle, parseBody } from "@/lib/http";
 

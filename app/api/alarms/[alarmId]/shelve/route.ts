@@ -3,7 +3,7 @@ import { NextResponse } from "next/server";
 import { z } from "zod";
 import { text } from "@/lib/text-input";
 import { alarmApi, parseId } from "@/lib/alarms/access";
-import { assertAlarmVisible } from "@/lib/alarms/scope";
+import { assertAlarmVisible } from "@/lib/data/alarms/scope";
 import { requireContext } from "@/lib/auth/guard";
 import { handle, parseBody } from "@/lib/http";
 

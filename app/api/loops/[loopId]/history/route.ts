@@ -3,7 +3,7 @@ import { NextResponse } from "next/server";
 import { requireContext } from "@/lib/auth/guard";
 import { NotFoundError } from "@/lib/domain/errors";
 import { handle, parseQuery } from "@/lib/http";
-import { getLoopHistory, historySchema, loopIdSchema } from "@/lib/loops";
+import { getLoopHistory, historySchema, loopIdSchema } from "@/lib/data/loops";
 
 export const dynamic = "force-dynamic";
 

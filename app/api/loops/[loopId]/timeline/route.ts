@@ -5,7 +5,7 @@ import { isoTime } from "@/lib/alarms/access";
 import { requireContext } from "@/lib/auth/guard";
 import { NotFoundError } from "@/lib/domain/errors";
 import { handle, parseQuery } from "@/lib/http";
-import { getLoop, loopIdSchema } from "@/lib/loops";
+import { getLoop, loopIdSchema } from "@/lib/data/loops";
 import { loopTimeline } from "@/lib/reports/timeline";
 
 export const dynamic = "force-dynamic";

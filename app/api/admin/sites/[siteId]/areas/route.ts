@@ -1,6 +1,6 @@
 import { NextResponse } from "next/server";
 import { idParam } from "@/lib/admin/route-helpers";
-import { areaSchema, createArea } from "@/lib/admin/sites";
+import { areaSchema, createArea } from "@/lib/data/admin/sites";
 import { requireContext } from "@/lib/auth/guard";
 import { handle, parseBody } from "@/lib/http";
 

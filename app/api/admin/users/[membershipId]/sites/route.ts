@@ -1,6 +1,6 @@
 /** PUT /api/admin/users/[membershipId]/sites {siteIds, reason} — limit a member to some sites; [] lifts the limit (admin). */
 import { NextResponse } from "next/server";
-import { setMembershipSites, membershipSitesSchema } from "@/lib/admin/membership-sites";
+import { setMembershipSites, membershipSitesSchema } from "@/lib/data/admin/membership-sites";
 import { parseId } from "@/lib/alarms/access";
 import { requireContext } from "@/lib/auth/guard";
 import { handle, parseBody } from "@/lib/http";

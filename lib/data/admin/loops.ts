@@ -7,14 +7,14 @@
 import { UniqueConstraintError } from "sequelize";
 import { z } from "zod";
 import { ConflictError, NotFoundError, ValidationError } from "@/lib/domain/errors";
-import { getDb } from "@/lib/db/sequelize";
+import { getDb } from "@/lib/data/db/sequelize";
 import { getServerContext } from "@/lib/server-context";
 import { slugify } from "@/lib/domain/slug";
-import { findOwned } from "@/lib/tenancy";
+import { findOwned } from "@/lib/data/tenancy";
 import type { TenantContext } from "@/lib/domain/types";
 import { diffOf, logConfigChange } from "./config-log";
-import type { CreateLoopInput, LoopFields, UpdateLoopInput } from "./loop-schema";
-import { loopConfigSchema, loopFieldsSchema } from "./loop-schema";
+import type { CreateLoopInput, LoopFields, UpdateLoopInput } from "@/lib/admin/loop-schema";
+import { loopConfigSchema, loopFieldsSchema } from "@/lib/admin/loop-schema";
 
 const FIELDS = Object.keys(loopFieldsSchema.shape) as (keyof LoopFields)[];
 

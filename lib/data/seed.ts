@@ -16,9 +16,9 @@ import {
   DEMO_POLICY_OVERRIDES,
   DEMO_TENANT_POLICY,
   DEMO_TENANTS,
-} from "./demo";
+} from "@/lib/seed/demo";
 
-export * from "./demo";
+export * from "@/lib/seed/demo";
 
 export interface SeedSummary {
   /** Rows created by this call, per table (0 everywhere on a second run). */

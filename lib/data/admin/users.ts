@@ -11,7 +11,7 @@ import bcrypt from "bcryptjs";
 import { z } from "zod";
 import { text } from "@/lib/text-input";
 import { publicOrigin } from "@/lib/config";
-import { getDb } from "@/lib/db/sequelize";
+import { getDb } from "@/lib/data/db/sequelize";
 import { ConflictError, ForbiddenError, NotFoundError, ValidationError } from "@/lib/domain/errors";
 import { notifyUserChanged, runningService } from "@/lib/server-context";
 import { ROLES, type Role, type TenantContext } from "@/lib/domain/types";

@@ -16,7 +16,7 @@ import {
 import { ForbiddenError, NotFoundError, ValidationError } from "@/lib/domain/errors";
 import { roleAtLeast, type AlarmDto, type TenantContext } from "@/lib/domain/types";
 import type { AlarmEventDto, AlarmOccurrenceDto, PolicyView } from "@/lib/domain/services";
-import type { JournalEntry } from "./journal";
+import type { JournalEntry } from "@/lib/domain/alarms/journal-entry";
 export type { AlarmEventDto, AlarmOccurrenceDto, LoopPolicyView, PolicyView } from "@/lib/domain/services";
 
 const iso = (d: Date | string | number | null | undefined) => (d == null ? null : new Date(d).toISOString());

@@ -3,7 +3,7 @@
  * historian backfill). Range partitions are ordered, and the oldest partition holds every row
  * below its bound: a row of an older day would land there and be dropped with that partition's
  * day. So the oldest partition is split (REORGANIZE PARTITION, rows kept) into one partition per
- * day from the day needed up to its own day. See lib/db/partitions.ts for the naming and for
+ * day from the day needed up to its own day. See lib/data/db/partitions.ts for the naming and for
  * the days ahead.
  */
 import type { Sequelize } from "sequelize";

@@ -2,10 +2,10 @@
 import { UniqueConstraintError } from "sequelize";
 import { z } from "zod";
 import { text } from "@/lib/text-input";
-import { getDb } from "@/lib/db/sequelize";
+import { getDb } from "@/lib/data/db/sequelize";
 import { ConflictError, NotFoundError, ValidationError } from "@/lib/domain/errors";
 import { slugify } from "@/lib/domain/slug";
-import { findOwned, siteVisible } from "@/lib/tenancy";
+import { findOwned, siteVisible } from "@/lib/data/tenancy";
 import type { TenantContext } from "@/lib/domain/types";
 import { inConfigTransaction, logConfigChange } from "./config-log";
 

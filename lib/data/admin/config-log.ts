@@ -5,7 +5,7 @@
  * its log row commit together or not at all, so no configuration changes without a trace.
  */
 import type { Transaction } from "sequelize";
-import { getDb } from "@/lib/db/sequelize";
+import { getDb } from "@/lib/data/db/sequelize";
 import type { TenantContext } from "@/lib/domain/types";
 
 export interface ConfigChangeDto {

@@ -1,6 +1,26 @@
 /** Device credentials from MariaDB (device_credentials joined to its tenant and site). */
 import { QueryTypes, type Sequelize } from "sequelize";
-import type { CredentialLookup, DeviceCredential } from "./credentials";
+
+export interface DeviceCredential {
+  keyId: string;
+  tenantId: number;
+  tenantSlug: string;
+  /** The site the credential may publish for; null = every site of its tenant. */
+  siteId: number | null;
+  siteSlug: string | null;
+  /** The MQTT client id bound to the credential (see clientIdAllowed). */
+  clientId: string;
+  /** HMAC-SHA256(pepper, secret). */
+  secretHash: Buffer;
+  revoked: boolean;
+}
+
+export interface CredentialLookup {
+  /** The credential with this key id, or null when there is none. */
+  find(keyId: string): Promise<DeviceCredential | null>;
+  /** Record that the device was seen (connected or published) at `at` (epoch ms); optional. */
+  touch?(keyId: string, at: number): Promise<void>;
+}
 
 interface Row {
   keyId: string;

@@ -8,17 +8,17 @@
  */
 import { UniqueConstraintError } from "sequelize";
 import { z } from "zod";
-import { getDb } from "@/lib/db/sequelize";
+import { getDb } from "@/lib/data/db/sequelize";
 import { ConflictError, ValidationError } from "@/lib/domain/errors";
 import { getServerContext } from "@/lib/server-context";
 import { slugify } from "@/lib/domain/slug";
 import { text } from "@/lib/text-input";
 import type { TenantContext } from "@/lib/domain/types";
 import { diffOf, inConfigTransaction, logConfigChange } from "./config-log";
-import { applyKindDefaults, type DefaultableField } from "./inventory-defaults";
-import { formatInventoryCsv, parseInventoryCsv, type InventoryIssue, type InventoryLoop } from "./inventory-csv";
-import { MAX_INVENTORY_BYTES } from "./inventory-limits";
-import { loopConfigSchema, loopFieldsSchema, type LoopFields } from "./loop-schema";
+import { applyKindDefaults, type DefaultableField } from "@/lib/admin/inventory-defaults";
+import { formatInventoryCsv, parseInventoryCsv, type InventoryIssue, type InventoryLoop } from "@/lib/admin/inventory-csv";
+import { MAX_INVENTORY_BYTES } from "@/lib/admin/inventory-limits";
+import { loopConfigSchema, loopFieldsSchema, type LoopFields } from "@/lib/admin/loop-schema";
 
 export const importRequestSchema = z
   .object({

@@ -1,9 +1,9 @@
 /** Notification rules (admin): who is e-mailed for which alarms of which operator area. */
 import { z } from "zod";
 import { text } from "@/lib/text-input";
-import { getDb } from "@/lib/db/sequelize";
+import { getDb } from "@/lib/data/db/sequelize";
 import { NotFoundError, ValidationError } from "@/lib/domain/errors";
-import { findOwned } from "@/lib/tenancy";
+import { findOwned } from "@/lib/data/tenancy";
 import { ALARM_PRIORITIES, type AlarmPriority, type TenantContext } from "@/lib/domain/types";
 import { diffOf, inConfigTransaction, logConfigChange } from "./config-log";
 

@@ -7,8 +7,8 @@
 import { QueryTypes, type Sequelize } from "sequelize";
 import { z } from "zod";
 import { getConfig } from "@/lib/config";
-import { getSequelize } from "@/lib/db/sequelize";
-import { siteScopeSql } from "@/lib/tenancy";
+import { getSequelize } from "@/lib/data/db/sequelize";
+import { siteScopeSql } from "@/lib/data/tenancy";
 import type { Complex } from "@/lib/control/types";
 import type { PoleDto, TenantContext, TrackerState } from "@/lib/domain/types";
 

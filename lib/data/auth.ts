@@ -3,7 +3,7 @@
  * tenants. Plain typed rows out; no Sequelize instances cross this boundary.
  */
 import { QueryTypes } from "sequelize";
-import { getSequelize } from "@/lib/db/sequelize";
+import { getSequelize } from "@/lib/data/db/sequelize";
 import type { Role, TenantContext } from "@/lib/domain/types";
 import { ROLES } from "@/lib/domain/types";
 

@@ -6,12 +6,12 @@
  */
 import { QueryTypes, type Sequelize } from "sequelize";
 import { z } from "zod";
-import { getSequelize } from "@/lib/db/sequelize";
+import { getSequelize } from "@/lib/data/db/sequelize";
 import { runningService } from "@/lib/server-context";
-import { siteScopeSql } from "@/lib/tenancy";
+import { siteScopeSql } from "@/lib/data/tenancy";
 import type { AlarmDto, LoopKind, LoopStateDto, LoopSummary, TenantContext } from "@/lib/domain/types";
 
-export { getLoopHistory, historyColumns, historySchema, type LoopHistory, type LoopHistoryColumns, type HistoryPoint, type HistorySnapshot } from "./history";
+export { getLoopHistory, historyColumns, historySchema, type LoopHistory, type LoopHistoryColumns, type HistoryPoint, type HistorySnapshot } from "./loop-history";
 
 export interface LoopDeps {
   sequelize?: Sequelize;

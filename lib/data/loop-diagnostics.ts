@@ -5,7 +5,7 @@
  * (lib/domain/sample-quality.ts) are counted per reason beside the rejections.
  */
 import { QueryTypes, type Sequelize } from "sequelize";
-import { getSequelize } from "@/lib/db/sequelize";
+import { getSequelize } from "@/lib/data/db/sequelize";
 import { QUALITY_REASONS, type QualityReason } from "@/lib/domain/sample-quality";
 import type { PipelineApi } from "@/lib/domain/services";
 import { runningService } from "@/lib/server-context";

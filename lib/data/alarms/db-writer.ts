@@ -6,7 +6,7 @@
  */
 import { QueryTypes, type Sequelize, type Transaction } from "sequelize";
 import { roleAtLeast, ROLES, type Role } from "@/lib/domain/types";
-import type { JournalEntry } from "./journal";
+import type { JournalEntry } from "@/lib/domain/alarms/journal-entry";
 
 export const journalId = (seq: number) => String(seq).padStart(16, "0");
 

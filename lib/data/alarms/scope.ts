@@ -3,12 +3,12 @@
  * those sites' loops only; any other alarm is a 404, worded like a missing one.
  */
 import { QueryTypes } from "sequelize";
-import { getSequelize } from "@/lib/db/sequelize";
+import { getSequelize } from "@/lib/data/db/sequelize";
 import { NotFoundError } from "@/lib/domain/errors";
-import { siteScopeSql } from "@/lib/tenancy";
-import { visibleLoopIds } from "@/lib/loops";
+import { siteScopeSql } from "@/lib/data/tenancy";
+import { visibleLoopIds } from "@/lib/data/loops";
 import type { TenantContext } from "@/lib/domain/types";
-import { alarmApi } from "./access";
+import { alarmApi } from "@/lib/alarms/access";
 import { computeAlarmKpis, type AlarmKpis, type OccurrenceRecord } from "@/lib/domain/alarms/kpis";
 
 type Ctx = Pick<TenantContext, "tenantId" | "siteIds">;

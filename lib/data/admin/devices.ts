@@ -5,10 +5,10 @@
 import { randomBytes } from "node:crypto";
 import { z } from "zod";
 import { text } from "@/lib/text-input";
-import { getDb } from "@/lib/db/sequelize";
+import { getDb } from "@/lib/data/db/sequelize";
 import { generateDeviceSecret, hashDeviceSecret } from "@/lib/devices";
 import { NotFoundError, ValidationError } from "@/lib/domain/errors";
-import { findOwned } from "@/lib/tenancy";
+import { findOwned } from "@/lib/data/tenancy";
 import type { TenantContext } from "@/lib/domain/types";
 import { inConfigTransaction, logConfigChange } from "./config-log";
 
