@@ -3,6 +3,7 @@
  * the route handlers, so both refuse the same input with the same words. Pure: no I/O.
  */
 import { z } from "zod";
+import { derivativeTimeSeconds, integralTimeSeconds } from "@/lib/domain/tuning";
 import { text } from "@/lib/text-input";
 import { LOOP_KINDS } from "@/lib/domain/types";
 
@@ -76,10 +77,6 @@ export const loopFieldsSchema = z
   })
   .strict();
 
-/** Seconds of an integral setting (repeats per minute is 60 / Ti[s]). */
-export function integralSeconds(value: number, units: "s" | "min" | "repeats-per-min"): number {
-  return units === "s" ? value : units === "min" ? value * 60 : 60 / value;
-}
 
 function checkRanges(v: Partial<z.infer<typeof loopFieldsSchema>>, ctx: z.RefinementCtx) {
   const issue = (path: string, message: string) => ctx.addIssue({ code: "custom", path: [path], message });
@@ -99,11 +96,11 @@ function checkRanges(v: Partial<z.infer<typeof loopFieldsSchema>>, ctx: z.Refine
       issue("gainValue", v.gainKind === "gain" ? "Controller gain must be between 1e-4 and 1e4 %/%." : "Proportional band must be between 0.01 % and 1e6 %.");
   }
   if (v.tiValue != null && v.tiUnits !== undefined) {
-    const ti = integralSeconds(v.tiValue, v.tiUnits);
+    const ti = integralTimeSeconds(v.tiValue, v.tiUnits);
     if (!(ti >= LIMITS.tiS[0] && ti <= LIMITS.tiS[1])) issue("tiValue", "Integral time must be between 0.01 s and 1 day.");
   }
   if (v.tdValue !== undefined && v.tdValue !== 0 && v.tdUnits !== undefined) {
-    const td = v.tdUnits === "s" ? v.tdValue : v.tdValue * 60;
+    const td = derivativeTimeSeconds(v.tdValue, v.tdUnits);
     if (!(td >= LIMITS.tdS[0] && td <= LIMITS.tdS[1])) issue("tdValue", "Derivative time must be 0 (off) or between 0.01 s and 1 day.");
   }
   if (v.tfS != null && v.tfS !== 0 && v.tfS < LIMITS.tfS[0]) issue("tfS", "Derivative filter must be 0 (none) or at least 0.001 s.");

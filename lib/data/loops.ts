@@ -9,7 +9,8 @@ import { z } from "zod";
 import { getSequelize } from "@/lib/data/db/sequelize";
 import { runningService } from "@/lib/server-context";
 import { siteScopeSql } from "@/lib/data/tenancy";
-import type { AlarmDto, LoopKind, LoopStateDto, LoopSummary, TenantContext } from "@/lib/domain/types";
+import { loopFromRow, type LoopRow, type StoredLoop } from "@/lib/data/loop-rows";
+import type { AlarmDto, LoopStateDto, LoopSummary, TenantContext } from "@/lib/domain/types";
 
 export { getLoopHistory, historyColumns, historySchema, type LoopHistory, type LoopHistoryColumns, type HistoryPoint, type HistorySnapshot } from "./loop-history";
 
@@ -45,45 +46,10 @@ export interface LoopDetail extends LoopSummary {
   enabled: boolean;
 }
 
-interface Row {
-  id: number;
-  tenant_id: number;
-  site_id: number;
+interface Row extends LoopRow {
   site_name: string;
   area_name: string | null;
-  tag: string;
-  slug: string;
-  description: string;
-  kind: LoopKind;
-  units: string;
-  pv_lo: number;
-  pv_hi: number;
-  estimation_period_s: number;
   stored_state: string | LoopStateDto | null;
-}
-
-interface DetailRow extends Row {
-  mv_lo: number;
-  mv_hi: number;
-  mv_units: string;
-  mv_limit_lo: number | null;
-  mv_limit_hi: number | null;
-  telemetry_period_s: number;
-  controller_period_s: number;
-  estimation_proposed_s: number | null;
-  baseline_time_constant_s: number | null;
-  action: "reverse" | "direct";
-  form: "ideal" | "parallel" | "series";
-  gain_kind: "gain" | "pb";
-  gain_value: number;
-  ti_value: number | null;
-  ti_units: "s" | "min" | "repeats-per-min";
-  td_value: number;
-  td_units: "s" | "min";
-  na: number;
-  nb: number;
-  nk: number;
-  enabled: number | boolean;
 }
 
 const BASE_SELECT = `SELECT l.*, s.name AS site_name, a.name AS area_name, ls.latest AS stored_state
@@ -127,24 +93,23 @@ async function activeAlarms(sequelize: Sequelize, tenantId: number, loopIds: num
   return out;
 }
 
-function summary(r: Row, live: (id: number) => LoopStateDto | null, alarms: Map<number, LoopSummary["alarms"]>): LoopSummary {
-  const id = Number(r.id);
+function summary(r: Row, l: StoredLoop, live: (id: number) => LoopStateDto | null, alarms: Map<number, LoopSummary["alarms"]>): LoopSummary {
   return {
-    id,
-    tenantId: Number(r.tenant_id),
-    siteId: Number(r.site_id),
+    id: l.id,
+    tenantId: l.tenantId,
+    siteId: l.siteId,
     siteName: r.site_name,
     area: r.area_name,
-    tag: r.tag,
-    slug: r.slug,
-    description: r.description,
-    kind: r.kind,
-    units: r.units,
-    pvLo: Number(r.pv_lo),
-    pvHi: Number(r.pv_hi),
-    estimationPeriodS: Number(r.estimation_period_s),
-    state: live(id) ?? parseState(r.stored_state),
-    alarms: alarms.get(id) ?? [],
+    tag: l.tag,
+    slug: l.slug,
+    description: l.description,
+    kind: l.kind,
+    units: l.units,
+    pvLo: l.pvLo,
+    pvHi: l.pvHi,
+    estimationPeriodS: l.estimationPeriodS,
+    state: live(l.id) ?? parseState(r.stored_state),
+    alarms: alarms.get(l.id) ?? [],
   };
 }
 
@@ -155,7 +120,7 @@ export async function listLoops(ctx: Ctx, deps: LoopDeps = {}): Promise<LoopSumm
   const scope = siteScopeSql(ctx, "l.site_id");
   const rows = await sequelize.query<Row>(`${BASE_SELECT} WHERE l.tenant_id = ?${scope.sql} ORDER BY s.name, l.tag`, { replacements: [tenantId, ...scope.args], type: QueryTypes.SELECT });
   const alarms = await activeAlarms(sequelize, tenantId, rows.map((r) => Number(r.id)));
-  return rows.map((r) => summary(r, deps.liveState ?? defaultLiveState, alarms));
+  return rows.map((r) => summary(r, loopFromRow(r), deps.liveState ?? defaultLiveState, alarms));
 }
 
 /** One loop of the caller's tenant with its configuration, or null. */
@@ -164,33 +129,26 @@ export async function getLoop(ctx: Ctx, loopId: number, deps: LoopDeps = {}): Pr
   if (!Number.isSafeInteger(loopId) || loopId <= 0) return null;
   const sequelize = deps.sequelize ?? getSequelize();
   const scope = siteScopeSql(ctx, "l.site_id");
-  const rows = await sequelize.query<DetailRow>(`${BASE_SELECT} WHERE l.tenant_id = ? AND l.id = ?${scope.sql}`, { replacements: [tenantId, loopId, ...scope.args], type: QueryTypes.SELECT });
+  const rows = await sequelize.query<Row>(`${BASE_SELECT} WHERE l.tenant_id = ? AND l.id = ?${scope.sql}`, { replacements: [tenantId, loopId, ...scope.args], type: QueryTypes.SELECT });
   const r = rows[0];
   if (!r) return null;
   const alarms = await activeAlarms(sequelize, tenantId, [loopId]);
+  const l = loopFromRow(r);
+  const { tfS: _tf, derivativeAlpha: _alpha, ...tuning } = l.tuning;
   return {
-    ...summary(r, deps.liveState ?? defaultLiveState, alarms),
-    mvLo: Number(r.mv_lo),
-    mvHi: Number(r.mv_hi),
-    mvUnits: r.mv_units,
-    mvLimitLo: r.mv_limit_lo === null ? null : Number(r.mv_limit_lo),
-    mvLimitHi: r.mv_limit_hi === null ? null : Number(r.mv_limit_hi),
-    telemetryPeriodS: Number(r.telemetry_period_s),
-    controllerPeriodS: Number(r.controller_period_s),
-    estimationProposedS: r.estimation_proposed_s === null ? null : Number(r.estimation_proposed_s),
-    baselineTimeConstantS: r.baseline_time_constant_s === null ? null : Number(r.baseline_time_constant_s),
-    tuning: {
-      action: r.action,
-      form: r.form,
-      gainKind: r.gain_kind,
-      gainValue: Number(r.gain_value),
-      tiValue: r.ti_value === null ? null : Number(r.ti_value),
-      tiUnits: r.ti_units,
-      tdValue: Number(r.td_value),
-      tdUnits: r.td_units,
-    },
-    model: { na: Number(r.na), nb: Number(r.nb), nk: Number(r.nk) },
-    enabled: r.enabled === true || Number(r.enabled) === 1,
+    ...summary(r, l, deps.liveState ?? defaultLiveState, alarms),
+    mvLo: l.mvLo,
+    mvHi: l.mvHi,
+    mvUnits: l.mvUnits,
+    mvLimitLo: l.mvLimitLo,
+    mvLimitHi: l.mvLimitHi,
+    telemetryPeriodS: l.telemetryPeriodS,
+    controllerPeriodS: l.controllerPeriodS,
+    estimationProposedS: l.estimationProposedS,
+    baselineTimeConstantS: l.baselineTimeConstantS,
+    tuning: { ...tuning, tdValue: tuning.tdValue ?? 0 },
+    model: l.model,
+    enabled: l.enabled,
   };
 }
 

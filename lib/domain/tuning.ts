@@ -34,6 +34,16 @@ export interface TuningFields {
   form: ControllerForm;
 }
 
+/** Seconds of an integral setting: Ti in s or min, or an integral rate in repeats/min (Ti = 60 / rate). */
+export function integralTimeSeconds(value: number, units: TuningFields["tiUnits"]): number {
+  return units === "s" ? value : units === "min" ? value * 60 : 60 / value;
+}
+
+/** Seconds of a derivative setting: Td in s or min. */
+export function derivativeTimeSeconds(value: number, units: TuningFields["tdUnits"]): number {
+  return units === "min" ? value * 60 : value;
+}
+
 /**
  * Convert the stored tuning (as the site writes it) to seconds: proportional band PB % ->
  * Kc = 100 / PB; Ti in minutes x 60; integral rate in repeats/min -> Ti = 60 / rate s; Td in
@@ -44,10 +54,9 @@ export function tuningSeconds(l: Partial<TuningFields> & Pick<TuningFields, "gai
   if (!(kp > 0) || !Number.isFinite(kp)) throw new RangeError(`Controller gain must be > 0 (got ${l.gainValue}).`);
   let ti: number | null = null;
   if (l.tiValue != null && l.tiValue > 0 && Number.isFinite(l.tiValue)) {
-    const units = l.tiUnits ?? "s";
-    ti = units === "s" ? l.tiValue : units === "min" ? l.tiValue * 60 : 60 / l.tiValue;
+    ti = integralTimeSeconds(l.tiValue, l.tiUnits ?? "s");
   }
-  const td = l.tdValue != null && l.tdValue > 0 && Number.isFinite(l.tdValue) ? l.tdValue * ((l.tdUnits ?? "s") === "min" ? 60 : 1) : 0;
+  const td = l.tdValue != null && l.tdValue > 0 && Number.isFinite(l.tdValue) ? derivativeTimeSeconds(l.tdValue, l.tdUnits ?? "s") : 0;
   const tf = td > 0 ? (l.tfS != null && l.tfS > 0 ? l.tfS : l.derivativeAlpha != null && l.derivativeAlpha > 0 ? l.derivativeAlpha * td : td / 10) : 0;
   return { kp, ti, td, tf, action: l.action ?? "reverse", form: l.form ?? "ideal" };
 }

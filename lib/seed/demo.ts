@@ -12,7 +12,8 @@
  * plant the simulator runs, then rounded and written in the units each site uses.
  */
 import type { LoopKind, Role } from "@/lib/domain/types";
-import { tuningSeconds, type ControllerAction, type ControllerForm, type GainKind, type TdUnits, type TiUnits } from "@/models/loop";
+import { tuningSeconds, type ControllerAction, type ControllerForm } from "@/lib/domain/tuning";
+import type { GainKind, TdUnits, TiUnits } from "@/models/loop";
 
 export const DEMO_PASSWORD = "rimguard-demo";
 
