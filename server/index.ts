@@ -12,7 +12,7 @@ import { getConfig, publicOrigin, resetConfigCache } from "@/lib/config";
 import { loadEnv } from "@/lib/load-env";
 import { setServerContext } from "@/lib/server-context";
 import { CLIENT_IP_HEADER } from "@/lib/auth/options";
-import { closeSequelize, getSequelize } from "@/lib/data/db/sequelize";
+import { closeSequelize, pingDatabase } from "@/lib/data/db/sequelize";
 import { bodyLimitForPath } from "@/lib/request-guard";
 import { contentSecurityPolicy, makeNonce, STATIC_SECURITY_HEADERS } from "@/lib/security-headers";
 import { isDatabaseUnavailable } from "@/lib/data/db/unavailable";
@@ -46,7 +46,7 @@ function databaseService(): Service {
     async health() {
       const t0 = performance.now();
       try {
-        await getSequelize().query("SELECT 1");
+        await pingDatabase();
         return { status: "ok", detail: { latencyMs: Math.round((performance.now() - t0) * 10) / 10 } };
       } catch (err) {
         // The health answer is public: the driver's message would name the database's address.
@@ -185,7 +185,7 @@ export async function startServer(opts: StartServerOptions = {}): Promise<Runnin
       });
     }
     const nextHandler = app.getRequestHandler();
-    const dbGate = createDatabaseGate(() => getSequelize().query("SELECT 1"));
+    const dbGate = createDatabaseGate(() => pingDatabase());
     handler = async (req, res) => {
       if (!(await dbGate(req, res))) await nextHandler(req, res);
     };

@@ -9,29 +9,7 @@ import type { AlarmDto, AlarmPriority } from "@/lib/domain/types";
 import type { Clock } from "@/server/context";
 import type { MailMessage } from "@/server/mail";
 
-export interface NotificationRuleRow {
-  id: number;
-  tenantId: number;
-  areaId: number | null;
-  name: string;
-  recipients: string[];
-  minPriority: AlarmPriority;
-  escalationMinutes: number | null;
-  repeatMinutes: number | null;
-}
-
-export interface SentRow {
-  tenantId: number;
-  ruleId: number;
-  alarmId: number;
-  recipient: string;
-  kind: "initial" | "escalation";
-  subject: string;
-  status: "sent" | "failed" | "rate-limited";
-  messageId: string | null;
-  error: string | null;
-  sentAt: number;
-}
+import type { NotificationRuleRow, SentRow } from "@/lib/data/alarms/store";
 
 export interface NotifierDeps {
   clock: Clock;

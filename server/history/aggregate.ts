@@ -26,31 +26,8 @@ class MinMeanMax {
   }
 }
 
-export interface SecondBucketRow {
-  loopId: number;
-  t: number;
-  sp: [number | null, number | null, number | null];
-  pv: [number | null, number | null, number | null];
-  mv: [number | null, number | null, number | null];
-  mode: LoopMode | null;
-  /** Good samples in the statistics. */
-  n: number;
-  /** Samples of bad and of uncertain quality in the period (not in the statistics); absent = 0. */
-  bad?: number;
-  uncertain?: number;
-}
-export interface MinuteBucketRow extends SecondBucketRow {
-  radius: [number | null, number | null, number | null];
-  manualFraction: number | null;
-}
-export interface PoleSnapshotRow {
-  loopId: number;
-  t: number;
-  radius: number | null;
-  decayRatio: number | null;
-  poles: string;
-  trackerState: LoopStateDto["trackerState"];
-}
+export type { MinuteBucketRow, PoleSnapshotRow, SecondBucketRow } from "@/lib/data/history-tables";
+import type { MinuteBucketRow, PoleSnapshotRow, SecondBucketRow } from "@/lib/data/history-tables";
 
 class Bucket {
   readonly sp = new MinMeanMax();

@@ -1,77 +1,21 @@
 /**
  * Buffered batch writer for the history tables. Ingest and trackers only append to bounded
  * in-memory queues (never awaiting MariaDB); a timer drains them with one multi-row
- * INSERT ... ON DUPLICATE KEY UPDATE per batch through sequelize.query (bulkCreate costs about
- * five times the CPU per row, docs/architecture.md §11). Values are numbers, NULL or fixed enums and
- * are written inline; the one text column (pole JSON) goes through the driver's escaping.
+ * INSERT ... ON DUPLICATE KEY UPDATE per batch (lib/data/history-tables.ts).
  * When a queue is full the newest rows are shed and counted, so a slow database costs history,
  * never liveness.
  */
 import type { Sequelize } from "sequelize";
+import {
+  HISTORY_TABLES,
+  upsertHistoryRows,
+  type HistoryTable,
+  type LoopStateRow,
+  type MinuteBucketRow,
+  type PoleSnapshotRow,
+  type SecondBucketRow,
+} from "@/lib/data/history-tables";
 import type { LoopStateDto } from "@/lib/domain/types";
-import { TRACKER_STATES } from "@/lib/domain/types";
-import type { MinuteBucketRow, PoleSnapshotRow, SecondBucketRow } from "./aggregate";
-
-const MODES = new Set(["auto", "manual", "cascade"]);
-const STATES = new Set<string>(TRACKER_STATES);
-
-function num(v: number | null | undefined): string {
-  return v === null || v === undefined || !Number.isFinite(v) ? "NULL" : String(v);
-}
-function int(v: number): string {
-  if (!Number.isSafeInteger(v)) throw new RangeError(`not an integer: ${v}`);
-  return String(v);
-}
-const triple = (x: [number | null, number | null, number | null]) => `${num(x[0])},${num(x[1])},${num(x[2])}`;
-
-interface Table<R> {
-  name: string;
-  columns: string;
-  update: string;
-  values(row: R, esc: (s: string) => string): string;
-}
-
-const SECONDS: Table<SecondBucketRow> = {
-  name: "samples_1s",
-  columns: "loop_id,t,sp_min,sp_mean,sp_max,pv_min,pv_mean,pv_max,mv_min,mv_mean,mv_max,mode,n,bad_n,uncertain_n",
-  update: ["sp_min", "sp_mean", "sp_max", "pv_min", "pv_mean", "pv_max", "mv_min", "mv_mean", "mv_max", "mode", "n", "bad_n", "uncertain_n"].map((c) => `${c}=VALUES(${c})`).join(","),
-  values: (r) =>
-    `(${int(r.loopId)},${int(r.t)},${triple(r.sp)},${triple(r.pv)},${triple(r.mv)},${r.mode && MODES.has(r.mode) ? `'${r.mode}'` : "NULL"},${int(Math.min(r.n, 65535))},${int(Math.min(r.bad ?? 0, 65535))},${int(Math.min(r.uncertain ?? 0, 65535))})`,
-};
-
-const MINUTES: Table<MinuteBucketRow> = {
-  name: "samples_1m",
-  columns: "loop_id,t,sp_min,sp_mean,sp_max,pv_min,pv_mean,pv_max,mv_min,mv_mean,mv_max,radius_min,radius_mean,radius_max,manual_fraction,n,bad_n,uncertain_n",
-  update: ["sp_min", "sp_mean", "sp_max", "pv_min", "pv_mean", "pv_max", "mv_min", "mv_mean", "mv_max", "radius_min", "radius_mean", "radius_max", "manual_fraction", "n", "bad_n", "uncertain_n"]
-    .map((c) => `${c}=VALUES(${c})`)
-    .join(","),
-  values: (r) => `(${int(r.loopId)},${int(r.t)},${triple(r.sp)},${triple(r.pv)},${triple(r.mv)},${triple(r.radius)},${num(r.manualFraction)},${int(r.n)},${int(r.bad ?? 0)},${int(r.uncertain ?? 0)})`,
-};
-
-const SNAPSHOTS: Table<PoleSnapshotRow> = {
-  name: "pole_snapshots",
-  columns: "loop_id,t,radius,decay_ratio,poles,tracker_state",
-  update: ["radius", "decay_ratio", "poles", "tracker_state"].map((c) => `${c}=VALUES(${c})`).join(","),
-  values: (r, esc) => `(${int(r.loopId)},${int(r.t)},${num(r.radius)},${num(r.decayRatio)},${esc(r.poles)},'${STATES.has(r.trackerState) ? r.trackerState : "learning"}')`,
-};
-
-interface LoopStateRow {
-  loopId: number;
-  tenantId: number;
-  state: LoopStateDto;
-}
-const LOOP_STATES: Table<LoopStateRow> = {
-  name: "loop_states",
-  columns: "loop_id,tenant_id,tracker_state,latest,at",
-  update: ["tenant_id", "tracker_state", "latest", "at"].map((c) => `${c}=VALUES(${c})`).join(","),
-  values: (r, esc) =>
-    `(${int(r.loopId)},${int(r.tenantId)},'${STATES.has(r.state.trackerState) ? r.state.trackerState : "learning"}',${esc(JSON.stringify(r.state, finiteJson))},${int(Math.round(r.state.at))})`,
-};
-
-/** JSON has no NaN/Infinity: write null rather than let JSON.stringify do it silently. */
-function finiteJson(_k: string, v: unknown): unknown {
-  return typeof v === "number" && !Number.isFinite(v) ? null : v;
-}
 
 class BoundedQueue<R> {
   items: R[] = [];
@@ -175,15 +119,15 @@ export class HistoryWriter {
   }
 
   private async drain(states: boolean): Promise<void> {
-    await this.drainQueue(MINUTES, this.minutes);
-    await this.drainQueue(SNAPSHOTS, this.snapshots);
-    await this.drainQueue(SECONDS, this.seconds);
+    await this.drainQueue(HISTORY_TABLES.minutes, this.minutes);
+    await this.drainQueue(HISTORY_TABLES.snapshots, this.snapshots);
+    await this.drainQueue(HISTORY_TABLES.seconds, this.seconds);
     if (states && this.latest.size > 0) {
       const rows = [...this.latest.values()];
       this.latest.clear();
       for (let i = 0; i < rows.length; i += this.batch) {
         const part = rows.slice(i, i + this.batch);
-        const ok = await this.insert(LOOP_STATES, part);
+        const ok = await this.insert(HISTORY_TABLES.loopStates, part);
         if (ok) this.statesWritten += part.length;
         else {
           // Keep the newest state per loop for the next attempt.
@@ -194,7 +138,7 @@ export class HistoryWriter {
     }
   }
 
-  private async drainQueue<R>(table: Table<R>, q: BoundedQueue<R>): Promise<void> {
+  private async drainQueue<R>(table: HistoryTable<R>, q: BoundedQueue<R>): Promise<void> {
     while (q.items.length > 0) {
       const part = q.items.splice(0, this.batch);
       if (await this.insert(table, part)) q.written += part.length;
@@ -205,26 +149,14 @@ export class HistoryWriter {
     }
   }
 
-  private async insert<R>(table: Table<R>, rows: R[]): Promise<boolean> {
+  private async insert<R>(table: HistoryTable<R>, rows: R[]): Promise<boolean> {
     if (rows.length === 0) return true;
-    const esc = (s: string) => this.sequelize.escape(s);
-    const parts: string[] = [];
-    for (const r of rows) {
-      try {
-        parts.push(table.values(r, esc));
-      } catch {
-        this.invalid++; // a row that cannot be written (e.g. a non-integer time) must not block the rest
-      }
-    }
-    if (parts.length === 0) return true;
-    const values = parts.join(",");
-    try {
-      await this.sequelize.query(`INSERT INTO ${table.name} (${table.columns}) VALUES ${values} ON DUPLICATE KEY UPDATE ${table.update}`);
-      return true;
-    } catch (err) {
-      this.errors++;
-      this.lastError = `${table.name}: ${err instanceof Error ? err.message : String(err)}`.slice(0, 300);
-      return false;
-    }
+    // a row that cannot be written (e.g. a non-integer time) is counted and must not block the rest
+    const { invalid, error } = await upsertHistoryRows(this.sequelize, table, rows);
+    this.invalid += invalid;
+    if (error === null) return true;
+    this.errors++;
+    this.lastError = `${table.name}: ${error instanceof Error ? error.message : String(error)}`.slice(0, 300);
+    return false;
   }
 }

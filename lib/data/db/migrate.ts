@@ -20,7 +20,7 @@ const MIGRATION_FILE = /^\d{4}-[a-z0-9-]+\.ts$/;
 
 /** The folder that holds the migrations (repository root / migrations). */
 export function migrationsDir(): string {
-  return path.resolve(path.dirname(fileURLToPath(import.meta.url)), "../../migrations");
+  return path.resolve(path.dirname(fileURLToPath(import.meta.url)), "../../../migrations");
 }
 
 async function loadMigrations(dir: string): Promise<{ name: string; up: MigrationFn; down: MigrationFn }[]> {

@@ -77,3 +77,8 @@ export async function closeSequelize(): Promise<void> {
   shared = null;
   if (s) await s.sequelize.close();
 }
+
+/** One round trip to the database (`SELECT 1`); rejects when it cannot be reached. */
+export async function pingDatabase(sequelize: Sequelize = getSequelize()): Promise<void> {
+  await sequelize.query("SELECT 1");
+}
