@@ -9,12 +9,11 @@
 import { NextResponse } from "next/server";
 import { z } from "zod";
 import { requireContext } from "@/lib/auth/guard";
-import { getDb } from "@/lib/data/db/sequelize";
+import { ownsLoop } from "@/lib/data/loops";
 import { HttpError, NotFoundError, ValidationError } from "@/lib/domain/errors";
 import { handle, parseQuery } from "@/lib/http";
 import { BACKFILL_UPLOAD_BODY } from "@/lib/request-guard";
 import { runningService } from "@/lib/server-context";
-import { findOwned } from "@/lib/data/tenancy";
 import { text } from "@/lib/text-input";
 import type { TenantContext } from "@/lib/domain/types";
 import type { BackfillApi } from "@/lib/domain/backfill";
@@ -36,7 +35,7 @@ function host(): BackfillApi {
 
 async function ownedLoop(ctx: TenantContext, raw: string): Promise<number> {
   const id = idParam(raw, "loopId");
-  if (!(await findOwned(getDb().models.Loop, ctx, id))) throw new NotFoundError("Loop");
+  if (!(await ownsLoop(ctx, id))) throw new NotFoundError("Loop");
   return id;
 }
 

@@ -6,9 +6,9 @@
  */
 import { QueryTypes, type Sequelize } from "sequelize";
 import { z } from "zod";
-import { getSequelize } from "@/lib/data/db/sequelize";
+import { getDb, getSequelize } from "@/lib/data/db/sequelize";
 import { runningService } from "@/lib/server-context";
-import { siteScopeSql } from "@/lib/data/tenancy";
+import { findOwned, siteScopeSql } from "@/lib/data/tenancy";
 import { loopFromRow, type LoopRow, type StoredLoop } from "@/lib/data/loop-rows";
 import type { AlarmDto, LoopStateDto, LoopSummary, TenantContext } from "@/lib/domain/types";
 
@@ -173,6 +173,11 @@ export async function visibleLoopIds(ctx: Pick<TenantContext, "tenantId" | "site
   const scope = siteScopeSql(ctx, "site_id");
   const rows = await sequelize.query<{ id: number }>(`SELECT id FROM loops WHERE tenant_id = ?${scope.sql}`, { replacements: [ctx.tenantId, ...scope.args], type: QueryTypes.SELECT });
   return new Set(rows.map((r) => Number(r.id)));
+}
+
+/** Whether the loop belongs to the caller's tenant and site scope. */
+export async function ownsLoop(ctx: Ctx, loopId: number): Promise<boolean> {
+  return (await findOwned(getDb().models.Loop, ctx, loopId)) !== null;
 }
 
 /** A loop id in a URL: a positive integer (422 otherwise). */

@@ -5,15 +5,21 @@
  * identified in memory first, and the object is removed again if the row cannot be written.
  */
 import { randomUUID } from "node:crypto";
-import { literal } from "sequelize";
 import { z } from "zod";
 import { text } from "@/lib/text-input";
-import { diffOf, logConfigChange } from "@/lib/data/admin/config-log";
+import { diffOf } from "@/lib/data/admin/config-log";
 import { LIMITS } from "@/lib/admin/loop-schema";
-import { getDb } from "@/lib/data/db/sequelize";
+import {
+  insertStepTest,
+  patchLoopEstimation,
+  readStepTest,
+  readStepTestHeadlines,
+  readStepTestLoop,
+  type StepTestLoop,
+  type StepTestRow,
+} from "@/lib/data/step-tests";
 import { ConflictError, HttpError, NotFoundError, ValidationError } from "@/lib/domain/errors";
 import { getServerContext } from "@/lib/server-context";
-import { findOwned, scoped } from "@/lib/data/tenancy";
 import type { TenantContext } from "@/lib/domain/types";
 import { parseStepTestCsv } from "./csv";
 import { identifyStepTest, type StepTestResult } from "./identify";
@@ -57,14 +63,9 @@ export type ApplyInput = z.input<typeof applySchema>;
 
 const FILENAME_MAX = 255;
 
-async function loadLoop(ctx: TenantContext, loopId: number) {
-  const { Loop } = getDb().models;
-  const loop = await findOwned(Loop, ctx, loopId);
-  if (!loop) throw new NotFoundError("Loop");
-  return loop;
-}
+const loadLoop = readStepTestLoop;
 
-type Row = { id: number; loopId: number; filename: string; periodS: number; rowCount: number; createdAt: Date; uploadedBy: number | null; result: unknown; objectKey: string };
+type Row = StepTestRow;
 
 function parseResult(raw: unknown): StepTestResult | null {
   const r = typeof raw === "string" ? (JSON.parse(raw) as unknown) : raw;
@@ -125,27 +126,17 @@ export async function uploadStepTest(
     console.error("[step-tests] object store put failed", e);
     throw new HttpError(503, "The file could not be stored; nothing was saved. Try again later.");
   }
-  const { StepTest } = getDb().models;
-  let row;
+  let row: Row;
   try {
-    row = await StepTest.create({
-      tenantId: ctx.tenantId,
-      loopId: loop.id,
-      uploadedBy: ctx.userId,
-      objectKey,
-      filename,
-      periodS: result.data.periodS,
-      rowCount: result.data.rows,
-      result,
-    });
+    row = await insertStepTest(ctx, { loopId: loop.id, objectKey, filename, periodS: result.data.periodS, rowCount: result.data.rows, result });
   } catch (e) {
     await store.delete(objectKey).catch(() => {});
     throw e;
   }
-  return detail(row as unknown as Row, loop);
+  return detail(row, loop);
 }
 
-function detail(row: Row, loop: { id: number; tag: string; units: string; mvUnits: string; estimationPeriodS: number; telemetryPeriodS: number; na: number; nb: number; nk: number }): StepTestDetail {
+function detail(row: Row, loop: StepTestLoop): StepTestDetail {
   return {
     ...summary(row),
     result: parseResult(row.result),
@@ -153,37 +144,12 @@ function detail(row: Row, loop: { id: number; tag: string; units: string; mvUnit
   };
 }
 
-/** JSON paths of the headline numbers in `result`, read by the database (the list never loads whole results). */
-const HEADLINE = {
-  fitPercent: "$.identification.fitPercent",
-  gainPercent: "$.continuous.gainPercent",
-  timeConstantS: "$.continuous.timeConstantS",
-  deadTimeS: "$.continuous.deadTimeS",
-  proposedPeriodS: "$.proposal.estimationPeriodS",
-} as const;
-
 /** The loop's step tests, newest first (at most 200). */
 export async function listStepTests(ctx: TenantContext, loopId: number): Promise<StepTestSummary[]> {
   const loop = await loadLoop(ctx, loopId);
-  const { StepTest } = getDb().models;
-  const rows = await scoped(ctx).findAll(StepTest, {
-    where: { loopId: loop.id },
-    attributes: [
-      "id",
-      "loopId",
-      "filename",
-      "periodS",
-      "rowCount",
-      "createdAt",
-      "uploadedBy",
-      ...Object.entries(HEADLINE).map(([k, path]) => [literal(`JSON_VALUE(result, '${path}')`), k] as [ReturnType<typeof literal>, string]),
-    ],
-    order: [["createdAt", "DESC"], ["id", "DESC"]],
-    limit: 200,
-    raw: true,
-  });
+  const rows = await readStepTestHeadlines(ctx, loop.id);
   const num = (v: unknown): number | null => (v === null || v === undefined || v === "" || v === "null" ? null : Number.isFinite(Number(v)) ? Number(v) : null);
-  return (rows as unknown as (Row & Record<keyof typeof HEADLINE, unknown>)[]).map((r) => ({
+  return rows.map((r) => ({
     id: r.id,
     loopId: r.loopId,
     filename: r.filename,
@@ -201,15 +167,14 @@ export async function listStepTests(ctx: TenantContext, loopId: number): Promise
 
 async function loadStepTest(ctx: TenantContext, loopId: number, stepTestId: number) {
   const loop = await loadLoop(ctx, loopId);
-  const { StepTest } = getDb().models;
-  const row = await findOwned(StepTest, ctx, stepTestId);
-  if (!row || row.loopId !== loop.id) throw new NotFoundError("Step test");
+  const row = await readStepTest(ctx, loop.id, stepTestId);
+  if (!row) throw new NotFoundError("Step test");
   return { loop, row };
 }
 
 export async function getStepTest(ctx: TenantContext, loopId: number, stepTestId: number): Promise<StepTestDetail> {
   const { loop, row } = await loadStepTest(ctx, loopId, stepTestId);
-  return detail(row as unknown as Row, loop);
+  return detail(row, loop);
 }
 
 /** The uploaded file as stored. */
@@ -274,25 +239,16 @@ export async function applyStepTestProposal(
     patch.nb = s.nb;
     patch.nk = s.nk;
   }
-  const before = loop.get({ plain: true }) as Record<string, unknown>;
-  const changed = diffOf(before, patch);
+  const changed = diffOf(loop as unknown as Record<string, unknown>, patch);
   if (Object.keys(changed).length > 0) {
-    const { sequelize } = getDb();
-    await sequelize.transaction(async (transaction) => {
-      await loop.update(patch, { transaction });
-      await logConfigChange(
-        ctx,
-        {
-          entity: "loop",
-          entityId: loop.id,
-          diff: { ...changed, stepTest: { from: null, to: `#${row.id} ${row.filename}` } },
-          reason: body.reason,
-          mocReference: body.mocReference ?? null,
-        },
-        transaction,
-      );
+    await patchLoopEstimation(ctx, loop.id, patch, {
+      entity: "loop",
+      entityId: loop.id,
+      diff: { ...changed, stepTest: { from: null, to: `#${row.id} ${row.filename}` } },
+      reason: body.reason,
+      mocReference: body.mocReference ?? null,
     });
     getServerContext()?.bus.emit("loop:config-changed", loop.id);
   }
-  return { changed, loop: detail(row as unknown as Row, loop).loop };
+  return { changed, loop: detail(row, loop).loop };
 }

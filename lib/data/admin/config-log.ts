@@ -30,9 +30,18 @@ export function diffOf(before: Record<string, unknown>, after: Record<string, un
   return out;
 }
 
+/** One configuration change as the log records it. */
+export interface ConfigChangeEntry {
+  entity: string;
+  entityId: number;
+  diff: Record<string, { from: unknown; to: unknown }>;
+  reason?: string | null;
+  mocReference?: string | null;
+}
+
 export async function logConfigChange(
   ctx: TenantContext,
-  entry: { entity: string; entityId: number; diff: Record<string, { from: unknown; to: unknown }>; reason?: string | null; mocReference?: string | null },
+  entry: ConfigChangeEntry,
   transaction: Transaction,
 ): Promise<void> {
   const { ConfigChange } = getDb().models;

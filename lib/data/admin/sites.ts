@@ -5,7 +5,7 @@ import { text } from "@/lib/text-input";
 import { getDb } from "@/lib/data/db/sequelize";
 import { ConflictError, NotFoundError, ValidationError } from "@/lib/domain/errors";
 import { slugify } from "@/lib/domain/slug";
-import { findOwned, siteVisible } from "@/lib/data/tenancy";
+import { assertSiteVisible, findOwned, findOwnedOrThrow, siteVisible } from "@/lib/data/tenancy";
 import type { TenantContext } from "@/lib/domain/types";
 import { inConfigTransaction, logConfigChange } from "./config-log";
 
@@ -33,6 +33,13 @@ export interface SiteDto {
   name: string;
   timeZone: string;
   areas: { id: number; slug: string; name: string }[];
+}
+
+/** One site of the caller's tenant and site scope (404 otherwise). */
+export async function getSite(ctx: TenantContext, siteId: number): Promise<{ id: number; slug: string; name: string; timeZone: string }> {
+  assertSiteVisible(ctx, siteId, "Site");
+  const site = await findOwnedOrThrow(getDb().models.Site, ctx, siteId, "Site");
+  return { id: site.id, slug: site.slug, name: site.name, timeZone: site.timeZone };
 }
 
 export async function listSites(ctx: TenantContext): Promise<SiteDto[]> {
