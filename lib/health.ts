@@ -1,6 +1,6 @@
 /** Health of the running server, gathered from its registered services (for GET /api/health). */
 import type { HealthLevel, ServiceHealth } from "@/lib/domain/services";
-import type { ServerContext } from "@/lib/server-context";
+import type { ServerContext } from "@/lib/data/server-context";
 
 const ORDER: HealthLevel[] = ["ok", "degraded", "critical", "down"];
 

@@ -66,3 +66,29 @@ export function parseQuery<T extends z.ZodType>(req: Request, schema: T): z.infe
   const url = new URL(req.url);
   return schema.parse(Object.fromEntries(url.searchParams.entries()));
 }
+
+const idSchema = z.coerce.number().int().positive();
+
+/** Parse a numeric id from a route segment (422 on anything else). */
+export function parseId(raw: string | undefined, what = "id"): number {
+  const r = idSchema.safeParse(raw);
+  if (!r.success) throw new ValidationError(`The ${what} must be a positive whole number.`);
+  return r.data;
+}
+
+/** ISO 8601 date-time (with Z or an offset) to epoch ms. */
+export const isoTime = z.iso.datetime({ offset: true }).transform((s) => Date.parse(s));
+
+/** Like parseBody, but an empty body counts as `{}` (actions whose fields are all optional). */
+export async function parseOptionalBody<T extends z.ZodType>(req: Request, schema: T): Promise<z.infer<T>> {
+  const text = await req.text();
+  let raw: unknown = {};
+  if (text.trim()) {
+    try {
+      raw = JSON.parse(text) as unknown;
+    } catch {
+      throw new ValidationError("The request body must be JSON.");
+    }
+  }
+  return schema.parse(raw);
+}

@@ -10,7 +10,7 @@ import next from "next";
 import { Server as IoServer } from "socket.io";
 import { getConfig, publicOrigin, resetConfigCache } from "@/lib/config";
 import { loadEnv } from "@/lib/load-env";
-import { setServerContext } from "@/lib/server-context";
+import { setServerContext } from "@/lib/data/server-context";
 import { CLIENT_IP_HEADER } from "@/lib/auth/options";
 import { closeSequelize, pingDatabase } from "@/lib/data/db/sequelize";
 import { bodyLimitForPath } from "@/lib/request-guard";

@@ -1,7 +1,7 @@
 /**
  * A few seconds of memory for "who is this user in this tenant", so a busy page does not hit the
  * database per request, while a revoked membership still stops working within CONTEXT_TTL_MS —
- * and at once when the change goes through `notifyUserChanged()` (lib/server-context.ts).
+ * and at once when the change goes through `notifyUserChanged()` (lib/data/server-context.ts).
  *
  * During a database outage (a connection failure, never an answer such as "not a member") the
  * last membership read successfully is used past the TTL, marked with `membershipAsOf`, so an
@@ -10,7 +10,7 @@
  */
 import type { TenantContext } from "@/lib/domain/types";
 import { isDatabaseUnavailable } from "@/lib/data/db/unavailable";
-import { sessionEvents } from "@/lib/server-context";
+import { sessionEvents } from "@/lib/data/server-context";
 import { loadTenantContext } from "@/lib/data/auth";
 
 export const CONTEXT_TTL_MS = 3_000;

@@ -12,7 +12,7 @@ import { z } from "zod";
 import { getConfig } from "@/lib/config";
 import { isDatabaseUnavailable } from "@/lib/data/db/unavailable";
 import { TooManyRequestsError } from "@/lib/domain/errors";
-import { revokeSession } from "@/lib/server-context";
+import { revokeSession } from "@/lib/data/server-context";
 import { findUserByEmail, listMemberships, recordRevokedSession, touchSignIn } from "@/lib/data/auth";
 import { assertSignInAllowed, recordSignInFailure, recordSignInSuccess } from "./throttle";
 

@@ -5,7 +5,7 @@
  */
 import { decode, type JWT } from "next-auth/jwt";
 import { getConfig } from "@/lib/config";
-import { isSessionRevoked } from "@/lib/server-context";
+import { isSessionRevoked } from "@/lib/data/server-context";
 
 export interface SessionClaims {
   userId: number;

@@ -13,7 +13,7 @@ import { ownsLoop } from "@/lib/data/loops";
 import { HttpError, NotFoundError, ValidationError } from "@/lib/domain/errors";
 import { handle, parseQuery } from "@/lib/http";
 import { BACKFILL_UPLOAD_BODY } from "@/lib/request-guard";
-import { runningService } from "@/lib/server-context";
+import { runningService } from "@/lib/data/server-context";
 import { text } from "@/lib/text-input";
 import type { TenantContext } from "@/lib/domain/types";
 import type { BackfillApi } from "@/lib/domain/backfill";

@@ -8,7 +8,7 @@ import { QueryTypes, type Sequelize } from "sequelize";
 import { getSequelize } from "@/lib/data/db/sequelize";
 import { QUALITY_REASONS, type QualityReason } from "@/lib/domain/sample-quality";
 import type { PipelineApi } from "@/lib/domain/services";
-import { runningService } from "@/lib/server-context";
+import { runningService } from "@/lib/data/server-context";
 import { REJECT_REASONS, type RejectReason } from "@/lib/domain/telemetry";
 import type { TenantContext } from "@/lib/domain/types";
 

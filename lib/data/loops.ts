@@ -7,7 +7,7 @@
 import { QueryTypes, type Sequelize } from "sequelize";
 import { z } from "zod";
 import { getDb, getSequelize } from "@/lib/data/db/sequelize";
-import { runningService } from "@/lib/server-context";
+import { runningService } from "@/lib/data/server-context";
 import { findOwned, siteScopeSql } from "@/lib/data/tenancy";
 import { loopFromRow, type LoopRow, type StoredLoop } from "@/lib/data/loop-rows";
 import type { AlarmDto, LoopStateDto, LoopSummary, TenantContext } from "@/lib/domain/types";

@@ -1,7 +1,7 @@
 /**
  * The services of the running server as the rest of the product sees them: health, and the
  * operations route handlers call on the alarm and mail services. Interfaces only; the custom
- * server implements them (server/), route handlers reach them through lib/server-context.ts.
+ * server implements them (server/), route handlers reach them through lib/data/server-context.ts.
  */
 import type { AlarmKpis } from "./alarms/kpis";
 import type {

@@ -19,7 +19,7 @@ import {
   type StepTestRow,
 } from "@/lib/data/step-tests";
 import { ConflictError, HttpError, NotFoundError, ValidationError } from "@/lib/domain/errors";
-import { getServerContext } from "@/lib/server-context";
+import { getServerContext } from "@/lib/data/server-context";
 import type { TenantContext } from "@/lib/domain/types";
 import { parseStepTestCsv } from "./csv";
 import { identifyStepTest, type StepTestResult } from "./identify";

@@ -1,11 +1,11 @@
 /**
  * How lib/ and route handlers reach the object store: through the running server context
- * (lib/server-context.ts), never by importing server/ code. server/objectstore implements
+ * (lib/data/server-context.ts), never by importing server/ code. server/objectstore implements
  * `ObjectStoreApi` (lib/domain/services.ts).
  */
 import { HttpError } from "@/lib/domain/errors";
 import type { ObjectStoreApi } from "@/lib/domain/services";
-import { runningService } from "@/lib/server-context";
+import { runningService } from "@/lib/data/server-context";
 
 export type { ObjectStoreApi as ObjectStore } from "@/lib/domain/services";
 

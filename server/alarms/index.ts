@@ -1,6 +1,6 @@
 /**
  * The alarm service entry point for server/services.ts. Route handlers reach the running
- * instance through `alarmApi()` (lib/alarms/access.ts; its interface is lib/domain/services.ts).
+ * instance through `alarmApi()` (lib/data/server-context.ts; its interface is lib/domain/services.ts).
  */
 import os from "node:os";
 import path from "node:path";

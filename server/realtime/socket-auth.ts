@@ -16,7 +16,7 @@ import type {
 import { claimsFromCookieHeader, type SessionClaims } from "@/lib/auth/session-token";
 import { loadTenantContext } from "@/lib/data/auth";
 import { siteRoom, tenantRoom } from "@/lib/domain/events";
-import { sessionEvents } from "@/lib/server-context";
+import { sessionEvents } from "@/lib/data/server-context";
 import type { RimguardIo } from "@/server/context";
 import type { TenantContext } from "@/lib/domain/types";
 

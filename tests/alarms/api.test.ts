@@ -8,7 +8,7 @@ import { QueryTypes } from "sequelize";
 import { afterAll, beforeAll, describe, expect, it, vi } from "vitest";
 import { publicOrigin } from "@/lib/config";
 import { ForbiddenError } from "@/lib/domain/errors";
-import { setServerContext } from "@/lib/server-context";
+import { setServerContext } from "@/lib/data/server-context";
 import { roleAtLeast, type Role, type TenantContext } from "@/lib/domain/types";
 import { AlarmService } from "@/server/alarms/service";
 import { startMail, type MailService } from "@/server/mail";

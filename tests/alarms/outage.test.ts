@@ -14,7 +14,7 @@ import { encode } from "next-auth/jwt";
 import { afterAll, beforeAll, describe, expect, it, vi } from "vitest";
 import { getConfig } from "@/lib/config";
 import { setSharedDb } from "@/lib/data/db/sequelize";
-import { setServerContext } from "@/lib/server-context";
+import { setServerContext } from "@/lib/data/server-context";
 import type { Role, TenantContext } from "@/lib/domain/types";
 import { createDatabaseGate } from "@/server/db-gate";
 import { ensureMariaDb, freePort, type MariaDbHandle } from "@/scripts/mariadb-server";

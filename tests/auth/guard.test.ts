@@ -7,7 +7,7 @@ import fs from "node:fs";
 import bcrypt from "bcryptjs";
 import path from "node:path";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import { notifyUserChanged } from "@/lib/server-context";
+import { notifyUserChanged } from "@/lib/data/server-context";
 import { CONTEXT_TTL_MS } from "@/lib/auth/context-cache";
 import { ROLES, roleAtLeast, type Role } from "@/lib/domain/types";
 import { REPO_ROOT } from "@/server/index";

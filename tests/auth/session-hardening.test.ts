@@ -9,7 +9,7 @@ import { QueryTypes } from "sequelize";
 import { io as connect, type Socket } from "socket.io-client";
 import { afterAll, afterEach, beforeAll, describe, expect, it } from "vitest";
 import type { ClientToServerEvents, ServerToClientEvents } from "@/lib/domain/events";
-import { notifyUserChanged } from "@/lib/server-context";
+import { notifyUserChanged } from "@/lib/data/server-context";
 import { startTestServer, type TestServer } from "../setup/server";
 import { createAuthFixture, FIXTURE_PASSWORD, type AuthFixture } from "./fixture";
 import { authedFetch, signIn, type CookieJar } from "./helpers";

@@ -6,7 +6,7 @@
  */
 import { afterAll, beforeAll, describe, expect, it, vi } from "vitest";
 import { publicOrigin } from "@/lib/config";
-import { setServerContext } from "@/lib/server-context";
+import { setServerContext } from "@/lib/data/server-context";
 import type { TenantContext } from "@/lib/domain/types";
 import { Bus, type ServerContext, type Service } from "@/server/context";
 import { BackfillHost } from "@/server/backfill/host";

@@ -9,7 +9,7 @@ import { ListObjectsV2Command } from "@aws-sdk/client-s3";
 import { afterAll, beforeAll, describe, expect, it, vi } from "vitest";
 import { getConfig, publicOrigin } from "@/lib/config";
 import { ForbiddenError } from "@/lib/domain/errors";
-import { setServerContext } from "@/lib/server-context";
+import { setServerContext } from "@/lib/data/server-context";
 import { roleAtLeast, type Role, type TenantContext } from "@/lib/domain/types";
 import { Bus, systemClock, type ServerContext } from "@/server/context";
 import { startObjectStore, type ObjectStoreService } from "@/server/objectstore";

@@ -8,7 +8,7 @@
 import { NextResponse } from "next/server";
 import { z } from "zod";
 import { text } from "@/lib/text-input";
-import { alarmApi } from "@/lib/alarms/access";
+import { alarmApi } from "@/lib/data/server-context";
 import { POLICY_SCOPES } from "@/lib/domain/alarms/policy";
 import { requireContext } from "@/lib/auth/guard";
 import { handle, parseBody, parseQuery } from "@/lib/http";

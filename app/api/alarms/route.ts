@@ -1,10 +1,10 @@
 /** GET /api/alarms?state=&priority=&loopId=&from=&to= — the tenant's alarm points, worst first. */
 import { NextResponse } from "next/server";
 import { z } from "zod";
-import { alarmApi, isoTime } from "@/lib/alarms/access";
+import { alarmApi } from "@/lib/data/server-context";
+import { isoTime, handle, parseQuery } from "@/lib/http";
 import { visibleAlarms } from "@/lib/data/alarms/scope";
 import { requireContext } from "@/lib/auth/guard";
-import { handle, parseQuery } from "@/lib/http";
 import { ALARM_PRIORITIES, ALARM_STATES } from "@/lib/domain/types";
 
 export const dynamic = "force-dynamic";

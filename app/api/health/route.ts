@@ -5,7 +5,7 @@
  */
 import { NextResponse } from "next/server";
 import { collectHealth } from "@/lib/health";
-import { getServerContext } from "@/lib/server-context";
+import { getServerContext } from "@/lib/data/server-context";
 
 export const dynamic = "force-dynamic";
 

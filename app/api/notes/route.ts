@@ -4,9 +4,8 @@
  */
 import { NextResponse } from "next/server";
 import { z } from "zod";
-import { isoTime } from "@/lib/alarms/access";
+import { isoTime, handle, parseBody, parseQuery } from "@/lib/http";
 import { requireContext } from "@/lib/auth/guard";
-import { handle, parseBody, parseQuery } from "@/lib/http";
 import { createNote, listNotes, noteInputSchema } from "@/lib/reports/notes";
 
 export const dynamic = "force-dynamic";

@@ -5,7 +5,7 @@
  * withheld: an admin never reads another tenant's mail or an invitee's link.
  */
 import { NextResponse } from "next/server";
-import { mailApi } from "@/lib/alarms/access";
+import { mailApi } from "@/lib/data/server-context";
 import { requireContext } from "@/lib/auth/guard";
 import { handle } from "@/lib/http";
 

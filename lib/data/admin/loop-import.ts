@@ -10,7 +10,7 @@ import { UniqueConstraintError } from "sequelize";
 import { z } from "zod";
 import { getDb } from "@/lib/data/db/sequelize";
 import { ConflictError, ValidationError } from "@/lib/domain/errors";
-import { getServerContext } from "@/lib/server-context";
+import { getServerContext } from "@/lib/data/server-context";
 import { slugify } from "@/lib/domain/slug";
 import { text } from "@/lib/text-input";
 import type { TenantContext } from "@/lib/domain/types";

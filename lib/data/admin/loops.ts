@@ -8,7 +8,7 @@ import { UniqueConstraintError } from "sequelize";
 import { z } from "zod";
 import { ConflictError, NotFoundError, ValidationError } from "@/lib/domain/errors";
 import { getDb } from "@/lib/data/db/sequelize";
-import { getServerContext } from "@/lib/server-context";
+import { getServerContext } from "@/lib/data/server-context";
 import { slugify } from "@/lib/domain/slug";
 import { findOwned } from "@/lib/data/tenancy";
 import type { TenantContext } from "@/lib/domain/types";

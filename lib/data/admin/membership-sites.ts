@@ -7,7 +7,7 @@ import { QueryTypes } from "sequelize";
 import { z } from "zod";
 import { getSequelize } from "@/lib/data/db/sequelize";
 import { NotFoundError, ValidationError } from "@/lib/domain/errors";
-import { notifyUserChanged } from "@/lib/server-context";
+import { notifyUserChanged } from "@/lib/data/server-context";
 import type { TenantContext } from "@/lib/domain/types";
 import { logConfigChange } from "./config-log";
 

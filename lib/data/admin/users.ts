@@ -13,7 +13,7 @@ import { text } from "@/lib/text-input";
 import { publicOrigin } from "@/lib/config";
 import { getDb } from "@/lib/data/db/sequelize";
 import { ConflictError, ForbiddenError, NotFoundError, ValidationError } from "@/lib/domain/errors";
-import { notifyUserChanged, runningService } from "@/lib/server-context";
+import { notifyUserChanged, runningService } from "@/lib/data/server-context";
 import { ROLES, type Role, type TenantContext } from "@/lib/domain/types";
 import { inConfigTransaction, logConfigChange } from "./config-log";
 

@@ -8,7 +8,7 @@ import { NotFoundError } from "@/lib/domain/errors";
 import { siteScopeSql } from "@/lib/data/tenancy";
 import { visibleLoopIds } from "@/lib/data/loops";
 import type { TenantContext } from "@/lib/domain/types";
-import { alarmApi } from "@/lib/alarms/access";
+import { alarmApi } from "@/lib/data/server-context";
 import { computeAlarmKpis, type AlarmKpis, type OccurrenceRecord } from "@/lib/domain/alarms/kpis";
 
 type Ctx = Pick<TenantContext, "tenantId" | "siteIds">;
@@ -26,7 +26,7 @@ export async function visibleAlarms<T extends { loopId: number }>(ctx: Ctx, alar
 }
 
 /**
- * Alarm-system figures (lib/alarms/kpis.ts) over the alarms of the loops a site-scoped member may
+ * Alarm-system figures (lib/domain/alarms/kpis.ts) over the alarms of the loops a site-scoped member may
  * see; an unscoped member gets the alarm service's tenant-wide figures instead.
  */
 export async function scopedAlarmKpis(ctx: Ctx & { siteIds: number[] }, from: number, to: number, areaId: number | null): Promise<AlarmKpis> {

@@ -1,9 +1,9 @@
 /** GET /api/alarms/[alarmId] — one alarm with its occurrences and events (newest first). */
 import { NextResponse } from "next/server";
-import { alarmApi, parseId } from "@/lib/alarms/access";
+import { alarmApi } from "@/lib/data/server-context";
+import { parseId, handle } from "@/lib/http";
 import { assertAlarmVisible } from "@/lib/data/alarms/scope";
 import { requireContext } from "@/lib/auth/guard";
-import { handle } from "@/lib/http";
 
 export const dynamic = "force-dynamic";
 

@@ -4,10 +4,10 @@
  */
 import { NextResponse } from "next/server";
 import { z } from "zod";
-import { alarmApi, isoTime } from "@/lib/alarms/access";
+import { alarmApi } from "@/lib/data/server-context";
+import { isoTime, handle, parseQuery } from "@/lib/http";
 import { scopedAlarmKpis } from "@/lib/data/alarms/scope";
 import { requireContext } from "@/lib/auth/guard";
-import { handle, parseQuery } from "@/lib/http";
 
 export const dynamic = "force-dynamic";
 

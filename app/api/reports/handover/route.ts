@@ -5,9 +5,8 @@
  */
 import { NextResponse } from "next/server";
 import { z } from "zod";
-import { isoTime } from "@/lib/alarms/access";
+import { isoTime, handle, parseQuery } from "@/lib/http";
 import { requireContext } from "@/lib/auth/guard";
-import { handle, parseQuery } from "@/lib/http";
 import { buildHandover, resolveShift, siteShiftInfo } from "@/lib/reports/handover";
 import { handoverDocument } from "@/lib/reports/document";
 import { documentResponse } from "@/lib/reports/respond";

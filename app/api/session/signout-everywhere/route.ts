@@ -2,7 +2,7 @@
 import { NextResponse } from "next/server";
 import { UnauthenticatedError } from "@/lib/domain/errors";
 import { handle } from "@/lib/http";
-import { notifyUserChanged } from "@/lib/server-context";
+import { notifyUserChanged } from "@/lib/data/server-context";
 import { getSessionClaims } from "@/lib/auth/guard";
 import { bumpSessionVersion } from "@/lib/data/auth";
 

@@ -11,7 +11,7 @@ import { z } from "zod";
 import { getConfig } from "@/lib/config";
 import { NotFoundError, UnauthenticatedError } from "@/lib/domain/errors";
 import { handle, parseBody } from "@/lib/http";
-import { sessionEvents } from "@/lib/server-context";
+import { sessionEvents } from "@/lib/data/server-context";
 import { getSessionClaims } from "@/lib/auth/guard";
 import { loadTenantContext } from "@/lib/data/auth";
 

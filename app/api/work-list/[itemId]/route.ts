@@ -4,9 +4,8 @@
  *   reopening an item whose finding has a newer open item.
  */
 import { NextResponse } from "next/server";
-import { parseId } from "@/lib/alarms/access";
+import { parseId, handle, parseBody } from "@/lib/http";
 import { requireContext } from "@/lib/auth/guard";
-import { handle, parseBody } from "@/lib/http";
 import { getWorkItem, updateWorkItem, workItemPatchSchema } from "@/lib/work-list/queries";
 
 export const dynamic = "force-dynamic";

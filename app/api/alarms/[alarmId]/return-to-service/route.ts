@@ -2,10 +2,10 @@
 import { NextResponse } from "next/server";
 import { z } from "zod";
 import { text } from "@/lib/text-input";
-import { alarmApi, parseId, parseOptionalBody } from "@/lib/alarms/access";
+import { alarmApi } from "@/lib/data/server-context";
+import { parseId, parseOptionalBody, handle } from "@/lib/http";
 import { assertAlarmVisible } from "@/lib/data/alarms/scope";
 import { requireContext } from "@/lib/auth/guard";
-import { handle } from "@/lib/http";
 
 export const dynamic = "force-dynamic";
 

@@ -1,8 +1,7 @@
 /** GET /api/loops/:loopId/finding — viewer: the loop's latest routine-data finding and its full assessment (both null before the first). */
 import { NextResponse } from "next/server";
-import { parseId } from "@/lib/alarms/access";
+import { parseId, handle } from "@/lib/http";
 import { requireContext } from "@/lib/auth/guard";
-import { handle } from "@/lib/http";
 import { loopFinding } from "@/lib/work-list/findings";
 
 export const dynamic = "force-dynamic";

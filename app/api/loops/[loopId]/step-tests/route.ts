@@ -7,10 +7,9 @@
  *   Nothing is stored when it fails.
  */
 import { NextResponse } from "next/server";
-import { parseId } from "@/lib/alarms/access";
+import { parseId, handle } from "@/lib/http";
 import { requireContext } from "@/lib/auth/guard";
 import { ValidationError } from "@/lib/domain/errors";
-import { handle } from "@/lib/http";
 import { STEP_TEST_UPLOAD_BODY } from "@/lib/request-guard";
 import { MAX_CSV_BYTES, StepTestTooLargeError } from "@/lib/step-tests/csv";
 import { listStepTests, uploadStepTest } from "@/lib/step-tests/service";

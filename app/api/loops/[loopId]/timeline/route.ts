@@ -1,10 +1,9 @@
 /** GET /api/loops/[loopId]/timeline?from=&to= — events, acknowledgements, notes, changes and state changes, newest first (viewer). */
 import { NextResponse } from "next/server";
 import { z } from "zod";
-import { isoTime } from "@/lib/alarms/access";
+import { isoTime, handle, parseQuery } from "@/lib/http";
 import { requireContext } from "@/lib/auth/guard";
 import { NotFoundError } from "@/lib/domain/errors";
-import { handle, parseQuery } from "@/lib/http";
 import { getLoop, loopIdSchema } from "@/lib/data/loops";
 import { loopTimeline } from "@/lib/reports/timeline";
 

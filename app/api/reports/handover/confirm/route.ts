@@ -1,9 +1,8 @@
 /** POST /api/reports/handover/confirm {siteId, shift: ISO start} — the caller has read the handover (operator). */
 import { NextResponse } from "next/server";
 import { z } from "zod";
-import { isoTime } from "@/lib/alarms/access";
+import { isoTime, handle, parseBody } from "@/lib/http";
 import { requireContext } from "@/lib/auth/guard";
-import { handle, parseBody } from "@/lib/http";
 import { confirmHandover, resolveShift, siteShiftInfo } from "@/lib/reports/handover";
 
 export const dynamic = "force-dynamic";

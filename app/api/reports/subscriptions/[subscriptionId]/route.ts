@@ -1,8 +1,7 @@
 /** DELETE /api/reports/subscriptions/[subscriptionId] — end one of the caller's own report e-mails (viewer). */
 import { NextResponse } from "next/server";
-import { parseId } from "@/lib/alarms/access";
+import { parseId, handle } from "@/lib/http";
 import { requireContext } from "@/lib/auth/guard";
-import { handle } from "@/lib/http";
 import { unsubscribe } from "@/lib/reports/delivery";
 
 export const dynamic = "force-dynamic";

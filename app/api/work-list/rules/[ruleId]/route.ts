@@ -1,7 +1,6 @@
 /** DELETE /api/work-list/rules/:ruleId — engineer: removes a finding e-mail rule (204). */
-import { parseId } from "@/lib/alarms/access";
+import { parseId, handle } from "@/lib/http";
 import { requireContext } from "@/lib/auth/guard";
-import { handle } from "@/lib/http";
 import { deleteFindingRule } from "@/lib/work-list/rules";
 
 export const dynamic = "force-dynamic";

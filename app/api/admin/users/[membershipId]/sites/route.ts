@@ -1,9 +1,8 @@
 /** PUT /api/admin/users/[membershipId]/sites {siteIds, reason} — limit a member to some sites; [] lifts the limit (admin). */
 import { NextResponse } from "next/server";
 import { setMembershipSites, membershipSitesSchema } from "@/lib/data/admin/membership-sites";
-import { parseId } from "@/lib/alarms/access";
+import { parseId, handle, parseBody } from "@/lib/http";
 import { requireContext } from "@/lib/auth/guard";
-import { handle, parseBody } from "@/lib/http";
 
 export const dynamic = "force-dynamic";
 

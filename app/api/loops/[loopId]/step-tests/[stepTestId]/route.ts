@@ -1,8 +1,7 @@
 /** GET /api/loops/:loopId/step-tests/:stepTestId — viewer: one step test with its full result. */
 import { NextResponse } from "next/server";
-import { parseId } from "@/lib/alarms/access";
+import { parseId, handle } from "@/lib/http";
 import { requireContext } from "@/lib/auth/guard";
-import { handle } from "@/lib/http";
 import { getStepTest } from "@/lib/step-tests/service";
 
 export const dynamic = "force-dynamic";

@@ -4,9 +4,8 @@
  * "modelStructure", ...] }; logged in config_changes. Rimguard never writes to a controller.
  */
 import { NextResponse } from "next/server";
-import { parseId } from "@/lib/alarms/access";
+import { parseId, handle, parseBody } from "@/lib/http";
 import { requireContext } from "@/lib/auth/guard";
-import { handle, parseBody } from "@/lib/http";
 import { applySchema, applyStepTestProposal } from "@/lib/step-tests/service";
 
 export const dynamic = "force-dynamic";

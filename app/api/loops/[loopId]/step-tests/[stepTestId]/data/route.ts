@@ -1,7 +1,6 @@
 /** GET /api/loops/:loopId/step-tests/:stepTestId/data — viewer: the uploaded CSV, byte for byte. */
-import { parseId } from "@/lib/alarms/access";
+import { parseId, handle } from "@/lib/http";
 import { requireContext } from "@/lib/auth/guard";
-import { handle } from "@/lib/http";
 import { getStepTestData } from "@/lib/step-tests/service";
 
 export const dynamic = "force-dynamic";

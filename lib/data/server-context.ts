@@ -1,10 +1,13 @@
 /**
- * The bridge between the custom server and the route handlers running in the same Node process.
+ * The bridge between the custom server and the route handlers running in the same Node process,
+ * and the typed access to its running services (`runningService`, `alarmApi`, `mailApi`): route
+ * handlers never import server/ code, they reach the live services through here.
  * Next bundles route handlers separately, so a module imported by both may exist twice; state that
  * both sides must see lives on `globalThis.__rimguard` and is reached only through these functions.
  */
 import { EventEmitter } from "node:events";
-import type { AlarmApi, MailApi, ObjectStoreApi, PipelineApi, Service } from "@/lib/domain/services";
+import { HttpError } from "@/lib/domain/errors";
+import type { AlarmApi as AlarmServiceApi, MailApi, ObjectStoreApi, PipelineApi, Service } from "@/lib/domain/services";
 
 /** What route handlers see of the running server's context (server/context.ts builds the whole). */
 export interface ServerContext {
@@ -14,7 +17,7 @@ export interface ServerContext {
 
 /** The typed services a route handler may reach by name. */
 export interface RunningServices {
-  alarms: AlarmApi;
+  alarms: AlarmServiceApi;
   mail: MailApi;
   pipeline: Partial<PipelineApi>;
   objectstore: ObjectStoreApi;
@@ -63,6 +66,25 @@ export function getServerContext(): ServerContext | null {
  */
 export function runningService<K extends keyof RunningServices>(name: K): (RunningServices[K] & Service) | null {
   return (state().ctx?.services.get(name) as (RunningServices[K] & Service) | undefined) ?? null;
+}
+
+export type AlarmApi = Pick<
+  AlarmServiceApi,
+  "list" | "get" | "detail" | "acknowledge" | "shelve" | "unshelve" | "removeFromService" | "returnToService" | "kpis" | "getPolicy" | "putPolicy"
+>;
+
+/** The running alarm service, or a 503 when this process runs without it. */
+export function alarmApi(): AlarmApi {
+  const svc = runningService("alarms");
+  if (!svc || typeof svc.acknowledge !== "function") throw new HttpError(503, "The alarm service is not running.");
+  return svc;
+}
+
+/** The running mail service (its outbox), or a 503. */
+export function mailApi(): Pick<MailApi, "outbox" | "outboxFor" | "sinkPort"> {
+  const svc = runningService("mail");
+  if (!svc || typeof svc.outboxFor !== "function") throw new HttpError(503, "The mail service is not running.");
+  return svc;
 }
 
 export function sessionEvents(): EventEmitter<SessionEvents> {
