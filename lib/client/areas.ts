@@ -1,4 +1,5 @@
 /** Per operator-area summary of the live loop list: loops, alarms by priority, stale count, worst radius. */
+import "client-only";
 import type { AlarmPriority, LiveLoopSummary } from "@/lib/domain/types";
 import { ATTENTION_STATES, dataAge } from "./order";
 

@@ -2,6 +2,7 @@
  * Fetch helpers for SWR and forms. A non-2xx answer becomes an ApiError carrying the server's
  * message (lib/http.ts returns `{ error }`), so a form can show it beside the field.
  */
+import "client-only";
 export class ApiError extends Error {
   constructor(
     readonly status: number,

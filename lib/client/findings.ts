@@ -5,6 +5,7 @@
  * full assessment from `GET /api/loops/:loopId/finding`. Shared by the wall tile, the loop list
  * and the loop detail (one SWR key each, so many marks make one request).
  */
+import "client-only";
 import { useEffect, useMemo } from "react";
 import useSWR from "swr";
 import type { LoopAssessmentReport } from "@/lib/assessment/types";

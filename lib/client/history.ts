@@ -4,6 +4,7 @@
  * `spMean`-style fields) or columns (`t: [], sp: [] ...`), and pole snapshots under `poles` or
  * `snapshots`.
  */
+import "client-only";
 import type { Complex } from "@/lib/control/types";
 
 export interface HistoryColumns {

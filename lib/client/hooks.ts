@@ -3,6 +3,7 @@
  * Data hooks of the console: SWR for what the REST API answers, merged with Socket.IO updates.
  * Every socket listener is removed in its effect's cleanup.
  */
+import "client-only";
 import { startTransition, useEffect, useMemo, useRef, useState, useSyncExternalStore } from "react";
 import useSWR from "swr";
 import { DEFAULT_POLICY } from "@/lib/domain/alarms/policy";

@@ -7,6 +7,7 @@
  * ring of recent radius and decay-ratio values for the tile sparklines. Framework-free so the
  * benchmark and the wall share it.
  */
+import "client-only";
 import type { LiveLoopSummary, LoopStateBrief } from "@/lib/domain/types";
 
 export const SPARK_POINTS = 120;

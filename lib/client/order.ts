@@ -5,6 +5,7 @@
  * period-invariant decay ratio where the dominant mode oscillates, and on the rim distance
  * only where it does not. Pure functions: used by the wall, the inventory and the benchmark.
  */
+import "client-only";
 import type { AlarmPriority, AlarmState, LoopStateBrief, LoopSummary } from "@/lib/domain/types";
 
 /** What the order reads of a loop: a REST LoopSummary (full state) and a live one (summary) both fit. */

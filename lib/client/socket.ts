@@ -6,6 +6,7 @@
  * same loop, the server hears one watch and one unwatch, and every watch is renewed after a
  * reconnect.
  */
+import "client-only";
 import { io, type Socket } from "socket.io-client";
 import type { ClientToServerEvents, ServerToClientEvents, WatchReply } from "@/lib/domain/events";
 

@@ -4,6 +4,7 @@
  * with zero counts so a silent gateway is visible. Samples accepted as bad or uncertain quality
  * (lib/domain/sample-quality.ts) are counted per reason beside the rejections.
  */
+import "server-only";
 import { QueryTypes, type Sequelize } from "sequelize";
 import { getSequelize } from "@/lib/data/db/sequelize";
 import { QUALITY_REASONS, type QualityReason } from "@/lib/domain/sample-quality";

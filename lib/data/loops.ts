@@ -4,6 +4,7 @@
  * Returns plain typed objects. The live tracker state comes from the running pipeline when there
  * is one, else from the last state stored in loop_states.
  */
+import "server-only";
 import { QueryTypes, type Sequelize } from "sequelize";
 import { z } from "zod";
 import { getDb, getSequelize } from "@/lib/data/db/sequelize";

@@ -2,6 +2,7 @@
  * Step tests in MariaDB (table step_tests) and the loop columns a step test reads and may change.
  * The parsing, identification and object storage are lib/step-tests; this is their SQL.
  */
+import "server-only";
 import { literal } from "sequelize";
 import { getDb } from "@/lib/data/db/sequelize";
 import { logConfigChange, type ConfigChangeEntry } from "@/lib/data/admin/config-log";

@@ -2,6 +2,7 @@
  * Device credentials (admin): list, create (the secret is returned once and never stored in
  * clear), revoke. The broker refuses a revoked key within its cache's short TTL.
  */
+import "server-only";
 import { randomBytes } from "node:crypto";
 import { z } from "zod";
 import { text } from "@/lib/text-input";

@@ -6,6 +6,7 @@
  * does all of that again and then creates every loop and its change-log entry in one transaction —
  * all loops or none. The export writes the tenant's loops in the same format.
  */
+import "server-only";
 import { UniqueConstraintError } from "sequelize";
 import { z } from "zod";
 import { getDb } from "@/lib/data/db/sequelize";

@@ -4,6 +4,7 @@
  * loop. Rimguard stores the controller's tuning as documentation of the live controller; it
  * never writes to a controller.
  */
+import "server-only";
 import { UniqueConstraintError } from "sequelize";
 import { z } from "zod";
 import { ConflictError, NotFoundError, ValidationError } from "@/lib/domain/errors";

@@ -3,6 +3,7 @@
  * client's staff invited into a contractor's tenant see only their own site — or lifts the limit
  * (an empty list). Logged with a reason; the member's open sessions pick it up at once.
  */
+import "server-only";
 import { QueryTypes } from "sequelize";
 import { z } from "zod";
 import { getSequelize } from "@/lib/data/db/sequelize";

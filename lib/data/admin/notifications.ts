@@ -1,4 +1,5 @@
 /** Notification rules (admin): who is e-mailed for which alarms of which operator area. */
+import "server-only";
 import { z } from "zod";
 import { text } from "@/lib/text-input";
 import { getDb } from "@/lib/data/db/sequelize";

@@ -1,4 +1,5 @@
 /** Sites and their operator areas (admin creates; every role reads them for forms and filters). */
+import "server-only";
 import { UniqueConstraintError } from "sequelize";
 import { z } from "zod";
 import { text } from "@/lib/text-input";

@@ -6,6 +6,7 @@
  * A role change or removal takes effect at once:
  * the auth layer re-reads memberships and is told through notifyUserChanged.
  */
+import "server-only";
 import { createHash, randomBytes } from "node:crypto";
 import bcrypt from "bcryptjs";
 import { z } from "zod";

@@ -2,6 +2,7 @@
  * Site scope for the alarm routes: a member limited to some sites sees and acts on the alarms of
  * those sites' loops only; any other alarm is a 404, worded like a missing one.
  */
+import "server-only";
 import { QueryTypes } from "sequelize";
 import { getSequelize } from "@/lib/data/db/sequelize";
 import { NotFoundError } from "@/lib/domain/errors";
