@@ -55,7 +55,7 @@ function graphOf(texts: Map<string, string>): Graph {
 }
 
 const NODE_ENTRIES = /^(server|scripts|simulators|tests\/bench)\//;
-const useClient = (text: string) => /^\s*(\/\*[\s\S]*?\*\/\s*)?["']use client["']/.test(text);
+const isClientModule = (text: string) => /^\s*(\/\*[\s\S]*?\*\/\s*)?["']use client["']/.test(text);
 
 export function markViolations(texts: Map<string, string>): string[] {
   const g = graphOf(texts);
@@ -74,7 +74,7 @@ export function markViolations(texts: Map<string, string>): string[] {
   }
   for (const [f, { bare }] of g) if (bare.includes("server-only") && via.has(f)) out.push(`${f} is marked server-only but plain Node loads it: ${via.get(f)}`);
   for (const [f, { value }] of g) {
-    if (f.startsWith("lib/client/") || useClient(texts.get(f)!)) continue;
+    if (f.startsWith("lib/client/") || isClientModule(texts.get(f)!)) continue;
     for (const d of value) if (g.get(d)?.bare.includes("client-only")) out.push(`${f} (a server module) imports ${d}, which is marked client-only`);
   }
   return out;
