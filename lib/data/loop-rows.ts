@@ -5,7 +5,7 @@
  * converter, `tuningSeconds` (lib/domain/tuning.ts), with the row's derivative filter.
  */
 import { QueryTypes, type Sequelize } from "sequelize";
-import type { LoopKind } from "@/lib/domain/types";
+import type { LoopKind, LoopSummary } from "@/lib/domain/types";
 import { tuningSeconds, type TuningFields, type TuningSeconds } from "@/lib/domain/tuning";
 
 /** A row of `loops` as MariaDB returns it (snake_case; numbers may arrive as strings). */
@@ -48,18 +48,8 @@ export interface LoopRow {
 }
 
 /** A loop's stored configuration, typed; tuning as the site writes it. */
-export interface StoredLoop {
-  id: number;
-  tenantId: number;
-  siteId: number;
+export interface StoredLoop extends Pick<LoopSummary, "id" | "tenantId" | "siteId" | "tag" | "slug" | "description" | "kind" | "units" | "pvLo" | "pvHi" | "estimationPeriodS"> {
   areaId: number | null;
-  tag: string;
-  slug: string;
-  description: string;
-  kind: LoopKind;
-  units: string;
-  pvLo: number;
-  pvHi: number;
   mvLo: number;
   mvHi: number;
   mvUnits: string;
@@ -68,7 +58,6 @@ export interface StoredLoop {
   mvLimitHi: number | null;
   telemetryPeriodS: number;
   controllerPeriodS: number;
-  estimationPeriodS: number;
   estimationProposedS: number | null;
   baselineTimeConstantS: number | null;
   tuning: TuningFields;

@@ -11,6 +11,7 @@ import { getDb, getSequelize } from "@/lib/data/db/sequelize";
 import { runningService } from "@/lib/data/server-context";
 import { findOwned, siteScopeSql } from "@/lib/data/tenancy";
 import { loopFromRow, type LoopRow, type StoredLoop } from "@/lib/data/loop-rows";
+import type { TuningFields } from "@/lib/domain/tuning";
 import type { AlarmDto, LoopStateDto, LoopSummary, TenantContext } from "@/lib/domain/types";
 
 export { getLoopHistory, historyColumns, historySchema, type LoopHistory, type LoopHistoryColumns, type HistoryPoint, type HistorySnapshot } from "./loop-history";
@@ -23,28 +24,11 @@ export interface LoopDeps {
 
 type Ctx = Pick<TenantContext, "tenantId" | "siteIds">;
 
-export interface LoopDetail extends LoopSummary {
-  mvLo: number;
-  mvHi: number;
-  mvUnits: string;
-  mvLimitLo: number | null;
-  mvLimitHi: number | null;
-  telemetryPeriodS: number;
-  controllerPeriodS: number;
-  estimationProposedS: number | null;
-  baselineTimeConstantS: number | null;
-  tuning: {
-    action: "reverse" | "direct";
-    form: "ideal" | "parallel" | "series";
-    gainKind: "gain" | "pb";
-    gainValue: number;
-    tiValue: number | null;
-    tiUnits: "s" | "min" | "repeats-per-min";
-    tdValue: number;
-    tdUnits: "s" | "min";
-  };
-  model: { na: number; nb: number; nk: number };
-  enabled: boolean;
+/** A loop with its configuration; tuning as the site writes it (no derivative filter; Td 0 = off). */
+export interface LoopDetail
+  extends LoopSummary,
+    Pick<StoredLoop, "mvLo" | "mvHi" | "mvUnits" | "mvLimitLo" | "mvLimitHi" | "telemetryPeriodS" | "controllerPeriodS" | "estimationProposedS" | "baselineTimeConstantS" | "model" | "enabled"> {
+  tuning: Omit<TuningFields, "tfS" | "derivativeAlpha" | "tdValue"> & { tdValue: number };
 }
 
 interface Row extends LoopRow {

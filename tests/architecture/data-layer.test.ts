@@ -9,20 +9,7 @@
 import fs from "node:fs";
 import path from "node:path";
 import { describe, expect, it } from "vitest";
-
-const ROOT = path.resolve(import.meta.dirname, "../..");
-
-function sources(dir: string): string[] {
-  const abs = path.join(ROOT, dir);
-  if (!fs.existsSync(abs)) return [];
-  const out: string[] = [];
-  for (const e of fs.readdirSync(abs, { withFileTypes: true })) {
-    const rel = `${dir}/${e.name}`;
-    if (e.isDirectory()) out.push(...sources(rel));
-    else if (/\.(ts|tsx|mts)$/.test(e.name) && !e.name.endsWith(".d.ts")) out.push(rel);
-  }
-  return out;
-}
+import { ROOT, sources } from "./sources";
 
 const under = (p: string, dir: string) => p === dir || p.startsWith(`${dir}/`);
 
