@@ -32,6 +32,7 @@ import net from "node:net";
 import os from "node:os";
 import path from "node:path";
 import { monitorEventLoopDelay } from "node:perf_hooks";
+import { piTuning, testLoopConfig } from "@/tests/helpers/loop-config";
 
 const here = import.meta.dirname;
 const root = path.resolve(here, "../..");
@@ -396,26 +397,20 @@ async function pipeline(scenarioFile: string, opts: { loops: number; hz: number;
     const tag = cloneTag("FIC-900", i);
     routes.push({ loopId: i + 1, tenantId: 1, siteId: 1, tenantSlug: "sim-lab", siteSlug: "bench-1", loopSlug: slugify(tag) });
     const T = 1 / opts.hz;
-    configs.push({
-      id: i + 1,
-      tenantId: 1,
-      siteId: 1,
-      tag,
-      pvLo: 0,
-      pvHi: 100,
-      mvLo: 0,
-      mvHi: 100,
-      mvLimitLo: 0,
-      mvLimitHi: 100,
-      telemetryPeriodS: T,
-      controllerPeriodS: T,
-      // decimated to about 0.5 s, as the product's period proposal would for this plant
-      estimationPeriodS: Math.max(T, Math.round(0.5 / T) * T),
-      controller: { kp: 1.5, ti: 15, td: 0, tf: 0, action: "reverse" as const, form: "ideal" as const },
-      na: 1,
-      nb: 2,
-      nk: 5,
-    });
+    configs.push(
+      testLoopConfig({
+        id: i + 1,
+        tag,
+        telemetryPeriodS: T,
+        controllerPeriodS: T,
+        // decimated to about 0.5 s, as the product's period proposal would for this plant
+        estimationPeriodS: Math.max(T, Math.round(0.5 / T) * T),
+        controller: piTuning(1.5, 15),
+        na: 1,
+        nb: 2,
+        nk: 5,
+      }),
+    );
   }
   const db = opts.history ? await startBenchDatabase() : null;
   const history = db ? await startHistory(ctx, { sequelize: db.sequelize, partitionEveryMs: 0 }) : null;
