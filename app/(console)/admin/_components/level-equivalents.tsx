@@ -1,5 +1,6 @@
 "use client";
 /** What each alarm level of a scope means for each of its loops: radius and time constant at the loop's period. */
+import { right, TableHead } from "@/app/_components/table-head";
 import { fmt, fmtSeconds } from "@/lib/client/format";
 import { timeConstantOfRadius } from "@/lib/client/order";
 import { radiusForDecayRatio } from "@/lib/domain/assessment";
@@ -22,17 +23,7 @@ export function LevelEquivalents({
         / ln r. Where the current dominant mode does not oscillate, radius and τ stay empty.
       </p>
       <table className="w-full text-xs" data-testid="policy-equivalents">
-        <thead>
-          <tr className="border-b border-line text-left text-muted">
-            <th className="py-1 pr-2 font-normal">loop</th>
-            <th className="py-1 pr-2 font-normal">T</th>
-            <th className="py-1 pr-2 font-normal">level</th>
-            <th className="py-1 pr-2 text-right font-normal">decay ratio</th>
-            <th className="py-1 pr-2 text-right font-normal">ζ</th>
-            <th className="py-1 pr-2 text-right font-normal">radius</th>
-            <th className="py-1 text-right font-normal">τ</th>
-          </tr>
-        </thead>
+        <TableHead columns={["loop", "T", "level", right("decay ratio"), right("ζ"), right("radius"), right("τ")]} />
         <tbody>
           {loops.slice(0, 200).flatMap((l) =>
             l.equivalents.map((q, i) => {
