@@ -33,6 +33,7 @@ import os from "node:os";
 import path from "node:path";
 import { monitorEventLoopDelay } from "node:perf_hooks";
 import { piTuning, testLoopConfig } from "@/tests/helpers/loop-config";
+import { startBenchDatabase } from "./bench-database";
 
 const here = import.meta.dirname;
 const root = path.resolve(here, "../..");
@@ -315,41 +316,6 @@ async function bare(scenarioFile: string, opts: { loops: number; hz: number; bat
   return { sim, received, lat: lat.summary(), loopDelay: delaySummary(loopDelay), spanS: (last - first) / 1000, brokerCpuS: (cpu.user + cpu.system) / 1e6, rss: process.memoryUsage().rss };
 }
 
-/** A throw-away MariaDB (temporary data directory, free port, stopped with this process) with the schema migrated. */
-async function startBenchDatabase() {
-  const { ensureMariaDb, freePort, rootConnection } = await import("@/scripts/mariadb-server");
-  const { createSequelize } = await import("@/lib/db/sequelize");
-  const { migrateUp } = await import("@/lib/db/migrate");
-  const dbDir = mkdtempSync(path.join(os.tmpdir(), "rg-bdb-"));
-  const handle = await ensureMariaDb({
-    dataDir: path.join(dbDir, "data"),
-    port: await freePort(),
-    socket: path.join(dbDir, "s.sock"),
-    ephemeral: true,
-    watchPid: process.pid,
-    removeOnExit: dbDir,
-    allowApt: false,
-    database: "rg_bench",
-    user: "rg_bench",
-    password: "bench-db-pw-0123",
-  });
-  // the bench has no tenant, site or loop rows: loop_states (keyed to loops) would refuse every write
-  const root = await rootConnection(handle.socket);
-  await root.query("SET GLOBAL foreign_key_checks = 0");
-  await root.end();
-  const sequelize = createSequelize({ socket: handle.socket, database: "rg_bench", user: "rg_bench", password: "bench-db-pw-0123" });
-  await migrateUp(sequelize);
-  const pid = Number(readFileSync(path.join(handle.dataDir, "mariadbd.pid"), "utf8").trim());
-  return {
-    sequelize,
-    pid,
-    async stop() {
-      await sequelize.close();
-      await handle.stop();
-      rmSync(dbDir, { recursive: true, force: true });
-    },
-  };
-}
 
 async function pipeline(scenarioFile: string, opts: { loops: number; hz: number; batch: number; seconds: number; warmup: number; watch: number; stateEvery: number; withStates: boolean; history: boolean }) {
   const { Server } = await import("socket.io");
@@ -412,7 +378,7 @@ async function pipeline(scenarioFile: string, opts: { loops: number; hz: number;
       }),
     );
   }
-  const db = opts.history ? await startBenchDatabase() : null;
+  const db = opts.history ? await startBenchDatabase({ name: "rg_bench", foreignKeyChecks: false }) : null;
   const history = db ? await startHistory(ctx, { sequelize: db.sequelize, partitionEveryMs: 0 }) : null;
   const dbCpu0 = db ? (procStats(db.pid)?.cpuS ?? 0) : 0;
   let dbPeakRss = 0;
