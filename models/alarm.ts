@@ -4,15 +4,9 @@
  * (UPDATE and DELETE refused by database triggers; `journalId` unique for idempotent replay).
  * States follow ANSI/ISA-18.2 (lib/domain/types ALARM_STATES).
  */
-import {
-  DataTypes,
-  Model,
-  type CreationOptional,
-  type ForeignKey,
-  type InferAttributes,
-  type InferCreationAttributes,
-  type Sequelize,
-} from "sequelize";
+import { DataTypes, type CreationOptional, type ForeignKey, type Sequelize } from "sequelize";
+import { Row, TimedRow } from "./base";
+import { date, flag, int, json, num, serial, string, tableOptions, timestamps } from "./columns";
 import { enumColumn } from "./enum";
 import {
   ALARM_CONDITIONS,
@@ -33,20 +27,16 @@ export type PolicyScope = "tenant" | "site" | "loop";
  */
 export type AlarmPolicySettings = Record<string, unknown>;
 
-export class AlarmPolicy extends Model<InferAttributes<AlarmPolicy>, InferCreationAttributes<AlarmPolicy>> {
-  declare id: CreationOptional<number>;
+export class AlarmPolicy extends TimedRow<AlarmPolicy> {
   declare tenantId: ForeignKey<Tenant["id"]>;
   declare scope: PolicyScope;
   /** tenants.id, sites.id or loops.id according to scope. */
   declare scopeId: number;
   declare settings: AlarmPolicySettings;
   declare updatedBy: number | null;
-  declare createdAt: CreationOptional<Date>;
-  declare updatedAt: CreationOptional<Date>;
 }
 
-export class Alarm extends Model<InferAttributes<Alarm>, InferCreationAttributes<Alarm>> {
-  declare id: CreationOptional<number>;
+export class Alarm extends TimedRow<Alarm> {
   declare tenantId: ForeignKey<Tenant["id"]>;
   declare loopId: ForeignKey<Loop["id"]>;
   declare condition: AlarmCondition;
@@ -72,11 +62,9 @@ export class Alarm extends Model<InferAttributes<Alarm>, InferCreationAttributes
   declare occurrenceOpen: CreationOptional<boolean>;
   /** Journal sequence of the last transition written (replay never moves a point backwards). */
   declare journalSeq: CreationOptional<number>;
-  declare createdAt: CreationOptional<Date>;
-  declare updatedAt: CreationOptional<Date>;
 }
 
-export class AlarmOccurrence extends Model<InferAttributes<AlarmOccurrence>, InferCreationAttributes<AlarmOccurrence>> {
+export class AlarmOccurrence extends Row<AlarmOccurrence> {
   declare id: CreationOptional<number>;
   declare alarmId: number;
   declare tenantId: ForeignKey<Tenant["id"]>;
@@ -89,7 +77,7 @@ export class AlarmOccurrence extends Model<InferAttributes<AlarmOccurrence>, Inf
   declare acknowledgedAt: CreationOptional<Date | null>;
 }
 
-export class AlarmEvent extends Model<InferAttributes<AlarmEvent>, InferCreationAttributes<AlarmEvent>> {
+export class AlarmEvent extends Row<AlarmEvent> {
   declare id: CreationOptional<number>;
   declare tenantId: ForeignKey<Tenant["id"]>;
   declare alarmId: number;
@@ -112,77 +100,75 @@ const enumOf = (values: readonly string[], allowNull = false) => enumColumn(valu
 export function initAlarmModels(sequelize: Sequelize) {
   AlarmPolicy.init(
     {
-      id: { type: DataTypes.INTEGER, autoIncrement: true, primaryKey: true },
-      tenantId: { type: DataTypes.INTEGER, allowNull: false },
+      id: serial(),
+      tenantId: int(),
       scope: enumOf(["tenant", "site", "loop"]),
-      scopeId: { type: DataTypes.INTEGER, allowNull: false },
-      settings: { type: DataTypes.JSON, allowNull: false },
-      updatedBy: { type: DataTypes.INTEGER, allowNull: true },
-      createdAt: DataTypes.DATE(3),
-      updatedAt: DataTypes.DATE(3),
+      scopeId: int(),
+      settings: json(),
+      updatedBy: int(true),
+      ...timestamps(),
     },
-    { sequelize, tableName: "alarm_policies", modelName: "AlarmPolicy", underscored: true },
+    tableOptions(sequelize, "alarm_policies", "AlarmPolicy"),
   );
   Alarm.init(
     {
-      id: { type: DataTypes.INTEGER, autoIncrement: true, primaryKey: true },
-      tenantId: { type: DataTypes.INTEGER, allowNull: false },
-      loopId: { type: DataTypes.INTEGER, allowNull: false },
+      id: serial(),
+      tenantId: int(),
+      loopId: int(),
       condition: enumOf(ALARM_CONDITIONS),
       priority: enumOf(ALARM_PRIORITIES),
       state: enumColumn(ALARM_STATES, false, "normal"),
-      active: { type: DataTypes.BOOLEAN, allowNull: false, defaultValue: false },
-      shelvedUntil: { type: DataTypes.DATE(3), allowNull: true },
-      shelvedBy: { type: DataTypes.INTEGER, allowNull: true },
-      suppressedReason: { type: DataTypes.STRING(500), allowNull: true },
-      outOfServiceReason: { type: DataTypes.STRING(500), allowNull: true },
-      value: { type: DataTypes.DOUBLE, allowNull: true },
-      level: { type: DataTypes.DOUBLE, allowNull: true },
+      active: flag(false),
+      shelvedUntil: date(true),
+      shelvedBy: int(true),
+      suppressedReason: string(500, true),
+      outOfServiceReason: string(500, true),
+      value: num(true),
+      level: num(true),
       message: { type: DataTypes.STRING(500), allowNull: false, defaultValue: "" },
-      activatedAt: { type: DataTypes.DATE(3), allowNull: true },
-      acknowledgedAt: { type: DataTypes.DATE(3), allowNull: true },
-      acknowledgedBy: { type: DataTypes.INTEGER, allowNull: true },
+      activatedAt: date(true),
+      acknowledgedAt: date(true),
+      acknowledgedBy: int(true),
       changedAt: { type: DataTypes.DATE(3), allowNull: false, defaultValue: DataTypes.NOW },
       version: { type: DataTypes.INTEGER, allowNull: false, defaultValue: 0 },
-      shelveReason: { type: DataTypes.STRING(1000), allowNull: true },
-      occurrenceOpen: { type: DataTypes.BOOLEAN, allowNull: false, defaultValue: false },
+      shelveReason: string(1000, true),
+      occurrenceOpen: flag(false),
       journalSeq: { type: DataTypes.BIGINT, allowNull: false, defaultValue: 0 },
-      createdAt: DataTypes.DATE(3),
-      updatedAt: DataTypes.DATE(3),
+      ...timestamps(),
     },
-    { sequelize, tableName: "alarms", modelName: "Alarm", underscored: true },
+    tableOptions(sequelize, "alarms", "Alarm"),
   );
   AlarmOccurrence.init(
     {
-      id: { type: DataTypes.BIGINT, autoIncrement: true, primaryKey: true },
-      alarmId: { type: DataTypes.INTEGER, allowNull: false },
-      tenantId: { type: DataTypes.INTEGER, allowNull: false },
-      loopId: { type: DataTypes.INTEGER, allowNull: false },
-      areaId: { type: DataTypes.INTEGER, allowNull: true },
+      id: serial(true),
+      alarmId: int(),
+      tenantId: int(),
+      loopId: int(),
+      areaId: int(true),
       condition: enumOf(ALARM_CONDITIONS),
       priority: enumOf(ALARM_PRIORITIES),
-      startedAt: { type: DataTypes.DATE(3), allowNull: false },
-      endedAt: { type: DataTypes.DATE(3), allowNull: true },
-      acknowledgedAt: { type: DataTypes.DATE(3), allowNull: true },
+      startedAt: date(),
+      endedAt: date(true),
+      acknowledgedAt: date(true),
     },
-    { sequelize, tableName: "alarm_occurrences", modelName: "AlarmOccurrence", underscored: true, timestamps: false },
+    tableOptions(sequelize, "alarm_occurrences", "AlarmOccurrence", { timestamps: false }),
   );
   AlarmEvent.init(
     {
-      id: { type: DataTypes.BIGINT, autoIncrement: true, primaryKey: true },
-      tenantId: { type: DataTypes.INTEGER, allowNull: false },
-      alarmId: { type: DataTypes.INTEGER, allowNull: false },
-      loopId: { type: DataTypes.INTEGER, allowNull: false },
+      id: serial(true),
+      tenantId: int(),
+      alarmId: int(),
+      loopId: int(),
       journalId: { type: DataTypes.STRING(64), allowNull: false, unique: true },
-      at: { type: DataTypes.DATE(3), allowNull: false },
-      kind: { type: DataTypes.STRING(40), allowNull: false },
+      at: date(),
+      kind: string(40),
       fromState: enumOf(ALARM_STATES, true),
       toState: enumOf(ALARM_STATES, true),
-      userId: { type: DataTypes.INTEGER, allowNull: true },
+      userId: int(true),
       comment: { type: DataTypes.TEXT, allowNull: true },
-      data: { type: DataTypes.JSON, allowNull: true },
+      data: json(true),
     },
-    { sequelize, tableName: "alarm_events", modelName: "AlarmEvent", underscored: true, timestamps: false },
+    tableOptions(sequelize, "alarm_events", "AlarmEvent", { timestamps: false }),
   );
   return { AlarmPolicy, Alarm, AlarmOccurrence, AlarmEvent };
 }

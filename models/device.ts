@@ -3,19 +3,12 @@
  * only under its own tenant (and site, when siteId is set). Only an HMAC-SHA256 of the secret is
  * stored (lib/devices.ts); revoked credentials are kept for the audit trail.
  */
-import {
-  DataTypes,
-  Model,
-  type CreationOptional,
-  type ForeignKey,
-  type InferAttributes,
-  type InferCreationAttributes,
-  type Sequelize,
-} from "sequelize";
+import { DataTypes, type CreationOptional, type ForeignKey, type Sequelize } from "sequelize";
+import { TimedRow } from "./base";
+import { date, int, serial, string, tableOptions, timestamps } from "./columns";
 import type { Tenant } from "./tenant";
 
-export class DeviceCredential extends Model<InferAttributes<DeviceCredential>, InferCreationAttributes<DeviceCredential>> {
-  declare id: CreationOptional<number>;
+export class DeviceCredential extends TimedRow<DeviceCredential> {
   declare tenantId: ForeignKey<Tenant["id"]>;
   declare siteId: number | null;
   declare name: string;
@@ -28,27 +21,24 @@ export class DeviceCredential extends Model<InferAttributes<DeviceCredential>, I
   declare createdBy: number | null;
   declare revokedAt: CreationOptional<Date | null>;
   declare lastSeenAt: CreationOptional<Date | null>;
-  declare createdAt: CreationOptional<Date>;
-  declare updatedAt: CreationOptional<Date>;
 }
 
 export function initDeviceModels(sequelize: Sequelize) {
   DeviceCredential.init(
     {
-      id: { type: DataTypes.INTEGER, autoIncrement: true, primaryKey: true },
-      tenantId: { type: DataTypes.INTEGER, allowNull: false },
-      siteId: { type: DataTypes.INTEGER, allowNull: true },
-      name: { type: DataTypes.STRING(200), allowNull: false },
+      id: serial(),
+      tenantId: int(),
+      siteId: int(true),
+      name: string(200),
       clientId: { type: DataTypes.STRING(128), allowNull: false, unique: true },
       keyId: { type: DataTypes.STRING(64), allowNull: false, unique: true },
       secretHash: { type: DataTypes.CHAR(64), allowNull: false },
-      createdBy: { type: DataTypes.INTEGER, allowNull: true },
-      revokedAt: { type: DataTypes.DATE(3), allowNull: true },
-      lastSeenAt: { type: DataTypes.DATE(3), allowNull: true },
-      createdAt: DataTypes.DATE(3),
-      updatedAt: DataTypes.DATE(3),
+      createdBy: int(true),
+      revokedAt: date(true),
+      lastSeenAt: date(true),
+      ...timestamps(),
     },
-    { sequelize, tableName: "device_credentials", modelName: "DeviceCredential", underscored: true },
+    tableOptions(sequelize, "device_credentials", "DeviceCredential"),
   );
   return { DeviceCredential };
 }

@@ -4,21 +4,17 @@
  * one multi-row INSERT through `sequelize.query` (bulkCreate costs ~5x the CPU per row).
  * No tenantId column: rows are reached only through their loop, which the tenancy guard checks.
  */
-import {
-  DataTypes,
-  Model,
-  type CreationOptional,
-  type InferAttributes,
-  type InferCreationAttributes,
-  type Sequelize,
-} from "sequelize";
+import { DataTypes, type CreationOptional, type Model, type Sequelize } from "sequelize";
+import { Row } from "./base";
+import { num } from "./columns";
 import { enumColumn } from "./enum";
 import { TRACKER_STATES, type LoopMode, type TrackerState } from "@/lib/domain/types";
 
-/** Per-second min/mean/max of SP, PV, MV. */
-export class Sample1s extends Model<InferAttributes<Sample1s>, InferCreationAttributes<Sample1s>> {
+
+/** What both sample tiers hold: min/mean/max of SP, PV, MV over a bucket, and the sample counts. */
+abstract class SampleStats<M extends Model> extends Row<M> {
   declare loopId: number;
-  /** Epoch ms (UTC), start of the second. */
+  /** Epoch ms (UTC), start of the bucket. */
   declare t: number;
   declare spMin: number | null;
   declare spMean: number | null;
@@ -29,39 +25,28 @@ export class Sample1s extends Model<InferAttributes<Sample1s>, InferCreationAttr
   declare mvMin: number | null;
   declare mvMean: number | null;
   declare mvMax: number | null;
-  declare mode: LoopMode | null;
   /** Good samples aggregated (the statistics are made of these). */
   declare n: CreationOptional<number>;
-  /** Samples of bad / uncertain quality in the second (in no statistic; migrations/0103). */
+  /** Samples of bad / uncertain quality in the bucket (in no statistic; migrations/0103). */
   declare badN: CreationOptional<number>;
   declare uncertainN: CreationOptional<number>;
 }
 
+/** Per-second min/mean/max of SP, PV, MV. */
+export class Sample1s extends SampleStats<Sample1s> {
+  declare mode: LoopMode | null;
+}
+
 /** 1-minute aggregates of SP, PV, MV and the spectral radius. */
-export class Sample1m extends Model<InferAttributes<Sample1m>, InferCreationAttributes<Sample1m>> {
-  declare loopId: number;
-  /** Epoch ms (UTC), start of the minute. */
-  declare t: number;
-  declare spMin: number | null;
-  declare spMean: number | null;
-  declare spMax: number | null;
-  declare pvMin: number | null;
-  declare pvMean: number | null;
-  declare pvMax: number | null;
-  declare mvMin: number | null;
-  declare mvMean: number | null;
-  declare mvMax: number | null;
+export class Sample1m extends SampleStats<Sample1m> {
   declare radiusMin: number | null;
   declare radiusMean: number | null;
   declare radiusMax: number | null;
   /** Share of the minute in manual, 0..1. */
   declare manualFraction: number | null;
-  declare n: CreationOptional<number>;
-  declare badN: CreationOptional<number>;
-  declare uncertainN: CreationOptional<number>;
 }
 
-export class PoleSnapshot extends Model<InferAttributes<PoleSnapshot>, InferCreationAttributes<PoleSnapshot>> {
+export class PoleSnapshot extends Row<PoleSnapshot> {
   declare loopId: number;
   declare t: number;
   declare radius: number | null;
@@ -75,11 +60,10 @@ const key = () => ({
   loopId: { type: DataTypes.INTEGER, allowNull: false, primaryKey: true },
   t: { type: DataTypes.BIGINT, allowNull: false, primaryKey: true },
 });
-const col = () => ({ type: DataTypes.DOUBLE, allowNull: true });
 const mmm = <P extends string>(p: P) =>
-  ({ [`${p}Min`]: col(), [`${p}Mean`]: col(), [`${p}Max`]: col() }) as Record<
+  ({ [`${p}Min`]: num(true), [`${p}Mean`]: num(true), [`${p}Max`]: num(true) }) as Record<
     `${P}Min` | `${P}Mean` | `${P}Max`,
-    ReturnType<typeof col>
+    ReturnType<typeof num>
   >;
 
 export function initHistoryModels(sequelize: Sequelize) {
@@ -104,7 +88,7 @@ export function initHistoryModels(sequelize: Sequelize) {
       ...mmm("pv"),
       ...mmm("mv"),
       ...mmm("radius"),
-      manualFraction: { type: DataTypes.DOUBLE, allowNull: true },
+      manualFraction: num(true),
       n: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false, defaultValue: 0 },
       badN: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false, defaultValue: 0 },
       uncertainN: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false, defaultValue: 0 },
@@ -114,8 +98,8 @@ export function initHistoryModels(sequelize: Sequelize) {
   PoleSnapshot.init(
     {
       ...key(),
-      radius: { type: DataTypes.DOUBLE, allowNull: true },
-      decayRatio: { type: DataTypes.DOUBLE, allowNull: true },
+      radius: num(true),
+      decayRatio: num(true),
       poles: { type: DataTypes.TEXT("long"), allowNull: true },
       trackerState: enumColumn(TRACKER_STATES, false),
     },

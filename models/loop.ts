@@ -8,15 +8,9 @@
  * Also here: uploaded step tests, the configuration change log, estimator checkpoints (so a
  * restart resumes) and the latest tracker state of each loop.
  */
-import {
-  DataTypes,
-  Model,
-  type CreationOptional,
-  type ForeignKey,
-  type InferAttributes,
-  type InferCreationAttributes,
-  type Sequelize,
-} from "sequelize";
+import { DataTypes, type CreationOptional, type ForeignKey, type Sequelize } from "sequelize";
+import { Row, TimedRow } from "./base";
+import { flag, int, json, num, serial, string, tableOptions, timestamps } from "./columns";
 import { enumColumn } from "./enum";
 import { LOOP_KINDS, TRACKER_STATES, type LoopKind, type LoopStateDto, type TrackerState } from "@/lib/domain/types";
 import type { Area, Site, Tenant } from "./tenant";
@@ -27,8 +21,7 @@ export type GainKind = "gain" | "pb";
 export type TiUnits = "s" | "min" | "repeats-per-min";
 export type TdUnits = "s" | "min";
 
-export class Loop extends Model<InferAttributes<Loop>, InferCreationAttributes<Loop>> {
-  declare id: CreationOptional<number>;
+export class Loop extends TimedRow<Loop> {
   declare tenantId: ForeignKey<Tenant["id"]>;
   declare siteId: ForeignKey<Site["id"]>;
   declare areaId: ForeignKey<Area["id"]> | null;
@@ -79,11 +72,9 @@ export class Loop extends Model<InferAttributes<Loop>, InferCreationAttributes<L
   /** Dominant closed-loop time constant when commissioned (for the sluggish-loop check). */
   declare baselineTimeConstantS: number | null;
   declare enabled: CreationOptional<boolean>;
-  declare createdAt: CreationOptional<Date>;
-  declare updatedAt: CreationOptional<Date>;
 }
 
-export class StepTest extends Model<InferAttributes<StepTest>, InferCreationAttributes<StepTest>> {
+export class StepTest extends Row<StepTest> {
   declare id: CreationOptional<number>;
   declare tenantId: ForeignKey<Tenant["id"]>;
   declare loopId: ForeignKey<Loop["id"]>;
@@ -99,7 +90,7 @@ export class StepTest extends Model<InferAttributes<StepTest>, InferCreationAttr
   declare createdAt: CreationOptional<Date>;
 }
 
-export class ConfigChange extends Model<InferAttributes<ConfigChange>, InferCreationAttributes<ConfigChange>> {
+export class ConfigChange extends Row<ConfigChange> {
   declare id: CreationOptional<number>;
   declare tenantId: ForeignKey<Tenant["id"]>;
   declare userId: number | null;
@@ -114,10 +105,7 @@ export class ConfigChange extends Model<InferAttributes<ConfigChange>, InferCrea
   declare at: CreationOptional<Date>;
 }
 
-export class EstimatorCheckpoint extends Model<
-  InferAttributes<EstimatorCheckpoint>,
-  InferCreationAttributes<EstimatorCheckpoint>
-> {
+export class EstimatorCheckpoint extends Row<EstimatorCheckpoint> {
   declare loopId: number;
   declare tenantId: ForeignKey<Tenant["id"]>;
   /** Serialised estimator state (JSON text, owned by server/tracking). */
@@ -126,7 +114,7 @@ export class EstimatorCheckpoint extends Model<
   declare updatedAt: CreationOptional<Date>;
 }
 
-export class LoopState extends Model<InferAttributes<LoopState>, InferCreationAttributes<LoopState>> {
+export class LoopState extends Row<LoopState> {
   declare loopId: number;
   declare tenantId: ForeignKey<Tenant["id"]>;
   declare trackerState: TrackerState;
@@ -137,26 +125,21 @@ export class LoopState extends Model<InferAttributes<LoopState>, InferCreationAt
 
 export { tuningSeconds, type TuningSeconds } from "@/lib/domain/tuning";
 
-const num = (allowNull = false, defaultValue?: number) => ({
-  type: DataTypes.DOUBLE,
-  allowNull,
-  ...(defaultValue === undefined ? {} : { defaultValue }),
-});
 const positive = () => ({ ...num(), validate: { min: 1e-6 } });
 
 export function initLoopModels(sequelize: Sequelize) {
   Loop.init(
     {
-      id: { type: DataTypes.INTEGER, autoIncrement: true, primaryKey: true },
-      tenantId: { type: DataTypes.INTEGER, allowNull: false },
-      siteId: { type: DataTypes.INTEGER, allowNull: false },
-      areaId: { type: DataTypes.INTEGER, allowNull: true },
-      tag: { type: DataTypes.STRING(64), allowNull: false },
+      id: serial(),
+      tenantId: int(),
+      siteId: int(),
+      areaId: int(true),
+      tag: string(64),
       slug: { type: DataTypes.STRING(64), allowNull: false, validate: { is: /^[a-z0-9-]+$/ } },
       description: { type: DataTypes.STRING(500), allowNull: false, defaultValue: "" },
       criticality: { type: DataTypes.TINYINT.UNSIGNED, allowNull: false, defaultValue: 3 },
       kind: enumColumn(LOOP_KINDS, false),
-      units: { type: DataTypes.STRING(32), allowNull: false },
+      units: string(32),
       pvLo: num(),
       pvHi: num(),
       mvLo: num(false, 0),
@@ -176,16 +159,15 @@ export function initLoopModels(sequelize: Sequelize) {
       tdUnits: enumColumn(["s", "min"], false, "s"),
       tfS: num(true),
       derivativeAlpha: num(true),
-      cascadeMasterLoopId: { type: DataTypes.INTEGER, allowNull: true },
+      cascadeMasterLoopId: int(true),
       na: { type: DataTypes.TINYINT.UNSIGNED, allowNull: false, defaultValue: 2, validate: { min: 1, max: 10 } },
       nb: { type: DataTypes.TINYINT.UNSIGNED, allowNull: false, defaultValue: 2, validate: { min: 1, max: 10 } },
       nk: { type: DataTypes.SMALLINT.UNSIGNED, allowNull: false, defaultValue: 1, validate: { min: 1, max: 500 } },
       estimationPeriodS: positive(),
       estimationProposedS: num(true),
       baselineTimeConstantS: num(true),
-      enabled: { type: DataTypes.BOOLEAN, allowNull: false, defaultValue: true },
-      createdAt: DataTypes.DATE(3),
-      updatedAt: DataTypes.DATE(3),
+      enabled: flag(true),
+      ...timestamps(),
     },
     {
       sequelize,
@@ -209,37 +191,37 @@ export function initLoopModels(sequelize: Sequelize) {
   );
   StepTest.init(
     {
-      id: { type: DataTypes.INTEGER, autoIncrement: true, primaryKey: true },
-      tenantId: { type: DataTypes.INTEGER, allowNull: false },
-      loopId: { type: DataTypes.INTEGER, allowNull: false },
-      uploadedBy: { type: DataTypes.INTEGER, allowNull: true },
-      objectKey: { type: DataTypes.STRING(512), allowNull: false },
-      filename: { type: DataTypes.STRING(255), allowNull: false },
+      id: serial(),
+      tenantId: int(),
+      loopId: int(),
+      uploadedBy: int(true),
+      objectKey: string(512),
+      filename: string(255),
       periodS: positive(),
-      rowCount: { type: DataTypes.INTEGER, allowNull: false },
-      result: { type: DataTypes.JSON, allowNull: true },
+      rowCount: int(),
+      result: json(true),
       createdAt: DataTypes.DATE(3),
     },
-    { sequelize, tableName: "step_tests", modelName: "StepTest", underscored: true, updatedAt: false },
+    tableOptions(sequelize, "step_tests", "StepTest", { updatedAt: false }),
   );
   ConfigChange.init(
     {
-      id: { type: DataTypes.BIGINT, autoIncrement: true, primaryKey: true },
-      tenantId: { type: DataTypes.INTEGER, allowNull: false },
-      userId: { type: DataTypes.INTEGER, allowNull: true },
-      entity: { type: DataTypes.STRING(40), allowNull: false },
-      entityId: { type: DataTypes.INTEGER, allowNull: false },
-      diff: { type: DataTypes.JSON, allowNull: false },
+      id: serial(true),
+      tenantId: int(),
+      userId: int(true),
+      entity: string(40),
+      entityId: int(),
+      diff: json(),
       reason: { type: DataTypes.TEXT, allowNull: true },
-      mocReference: { type: DataTypes.STRING(100), allowNull: true },
+      mocReference: string(100, true),
       at: { type: DataTypes.DATE(3), allowNull: false, defaultValue: DataTypes.NOW },
     },
-    { sequelize, tableName: "config_changes", modelName: "ConfigChange", underscored: true, timestamps: false },
+    tableOptions(sequelize, "config_changes", "ConfigChange", { timestamps: false }),
   );
   EstimatorCheckpoint.init(
     {
       loopId: { type: DataTypes.INTEGER, primaryKey: true },
-      tenantId: { type: DataTypes.INTEGER, allowNull: false },
+      tenantId: int(),
       state: { type: DataTypes.TEXT("long"), allowNull: false },
       version: { type: DataTypes.INTEGER, allowNull: false, defaultValue: 1 },
       updatedAt: DataTypes.DATE(3),
@@ -255,12 +237,12 @@ export function initLoopModels(sequelize: Sequelize) {
   LoopState.init(
     {
       loopId: { type: DataTypes.INTEGER, primaryKey: true },
-      tenantId: { type: DataTypes.INTEGER, allowNull: false },
+      tenantId: int(),
       trackerState: enumColumn(TRACKER_STATES, false, "learning"),
-      latest: { type: DataTypes.JSON, allowNull: false },
+      latest: json(),
       at: { type: DataTypes.BIGINT, allowNull: false },
     },
-    { sequelize, tableName: "loop_states", modelName: "LoopState", underscored: true, timestamps: false },
+    tableOptions(sequelize, "loop_states", "LoopState", { timestamps: false }),
   );
   return { Loop, StepTest, ConfigChange, EstimatorCheckpoint, LoopState };
 }

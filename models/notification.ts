@@ -2,21 +2,14 @@
  * Notification rules (who is told about which alarms of an area, with escalation and repeat
  * intervals) and the log of notifications sent (rate limiting and the link to the outbox).
  */
-import {
-  DataTypes,
-  Model,
-  type CreationOptional,
-  type ForeignKey,
-  type InferAttributes,
-  type InferCreationAttributes,
-  type Sequelize,
-} from "sequelize";
+import { DataTypes, type CreationOptional, type ForeignKey, type Sequelize } from "sequelize";
+import { Row, TimedRow } from "./base";
+import { date, flag, int, json, serial, string, tableOptions, timestamps } from "./columns";
 import { enumColumn } from "./enum";
 import { ALARM_PRIORITIES, type AlarmPriority } from "@/lib/domain/types";
 import type { Tenant } from "./tenant";
 
-export class NotificationRule extends Model<InferAttributes<NotificationRule>, InferCreationAttributes<NotificationRule>> {
-  declare id: CreationOptional<number>;
+export class NotificationRule extends TimedRow<NotificationRule> {
   declare tenantId: ForeignKey<Tenant["id"]>;
   /** null = every area of the tenant. */
   declare areaId: number | null;
@@ -32,13 +25,11 @@ export class NotificationRule extends Model<InferAttributes<NotificationRule>, I
   /** Repeat while unacknowledged every this many minutes (null = never). */
   declare repeatMinutes: number | null;
   declare enabled: CreationOptional<boolean>;
-  declare createdAt: CreationOptional<Date>;
-  declare updatedAt: CreationOptional<Date>;
 }
 
 export type NotificationStatus = "sent" | "failed" | "rate-limited";
 
-export class NotificationSent extends Model<InferAttributes<NotificationSent>, InferCreationAttributes<NotificationSent>> {
+export class NotificationSent extends Row<NotificationSent> {
   declare id: CreationOptional<number>;
   declare tenantId: ForeignKey<Tenant["id"]>;
   declare ruleId: number | null;
@@ -56,36 +47,35 @@ export class NotificationSent extends Model<InferAttributes<NotificationSent>, I
 export function initNotificationModels(sequelize: Sequelize) {
   NotificationRule.init(
     {
-      id: { type: DataTypes.INTEGER, autoIncrement: true, primaryKey: true },
-      tenantId: { type: DataTypes.INTEGER, allowNull: false },
-      areaId: { type: DataTypes.INTEGER, allowNull: true },
-      name: { type: DataTypes.STRING(200), allowNull: false },
+      id: serial(),
+      tenantId: int(),
+      areaId: int(true),
+      name: string(200),
       kind: enumColumn(["alarm", "finding"], false, "alarm"),
-      recipients: { type: DataTypes.JSON, allowNull: false },
+      recipients: json(),
       minPriority: enumColumn(ALARM_PRIORITIES, false, "high"),
       escalationMinutes: { type: DataTypes.INTEGER, allowNull: true, validate: { min: 1 } },
       repeatMinutes: { type: DataTypes.INTEGER, allowNull: true, validate: { min: 1 } },
-      enabled: { type: DataTypes.BOOLEAN, allowNull: false, defaultValue: true },
-      createdAt: DataTypes.DATE(3),
-      updatedAt: DataTypes.DATE(3),
+      enabled: flag(true),
+      ...timestamps(),
     },
-    { sequelize, tableName: "notification_rules", modelName: "NotificationRule", underscored: true },
+    tableOptions(sequelize, "notification_rules", "NotificationRule"),
   );
   NotificationSent.init(
     {
-      id: { type: DataTypes.BIGINT, autoIncrement: true, primaryKey: true },
-      tenantId: { type: DataTypes.INTEGER, allowNull: false },
-      ruleId: { type: DataTypes.INTEGER, allowNull: true },
-      alarmId: { type: DataTypes.INTEGER, allowNull: true },
-      recipient: { type: DataTypes.STRING(254), allowNull: false },
-      kind: { type: DataTypes.STRING(32), allowNull: false },
-      subject: { type: DataTypes.STRING(300), allowNull: false },
+      id: serial(true),
+      tenantId: int(),
+      ruleId: int(true),
+      alarmId: int(true),
+      recipient: string(254),
+      kind: string(32),
+      subject: string(300),
       status: enumColumn(["sent", "failed", "rate-limited"], false),
-      messageId: { type: DataTypes.STRING(255), allowNull: true },
+      messageId: string(255, true),
       error: { type: DataTypes.TEXT, allowNull: true },
-      sentAt: { type: DataTypes.DATE(3), allowNull: false },
+      sentAt: date(),
     },
-    { sequelize, tableName: "notifications_sent", modelName: "NotificationSent", underscored: true, timestamps: false },
+    tableOptions(sequelize, "notifications_sent", "NotificationSent", { timestamps: false }),
   );
   return { NotificationRule, NotificationSent };
 }

@@ -2,43 +2,28 @@
  * Tenants (companies served by Rimguard), their sites (plants) and operator areas (the
  * positions that alarm-rate KPIs are counted for). Every row below a tenant carries tenantId.
  */
-import {
-  DataTypes,
-  Model,
-  type CreationOptional,
-  type ForeignKey,
-  type InferAttributes,
-  type InferCreationAttributes,
-  type Sequelize,
-} from "sequelize";
+import { DataTypes, type CreationOptional, type ForeignKey, type Sequelize } from "sequelize";
+import { TimedRow } from "./base";
+import { int, serial, string, tableOptions, timestamps } from "./columns";
 
-export class Tenant extends Model<InferAttributes<Tenant>, InferCreationAttributes<Tenant>> {
-  declare id: CreationOptional<number>;
+export class Tenant extends TimedRow<Tenant> {
   declare slug: string;
   declare name: string;
-  declare createdAt: CreationOptional<Date>;
-  declare updatedAt: CreationOptional<Date>;
 }
 
-export class Site extends Model<InferAttributes<Site>, InferCreationAttributes<Site>> {
-  declare id: CreationOptional<number>;
+export class Site extends TimedRow<Site> {
   declare tenantId: ForeignKey<Tenant["id"]>;
   declare slug: string;
   declare name: string;
   /** IANA zone name for shift-aligned reports, e.g. "Europe/Berlin". */
   declare timeZone: CreationOptional<string>;
-  declare createdAt: CreationOptional<Date>;
-  declare updatedAt: CreationOptional<Date>;
 }
 
-export class Area extends Model<InferAttributes<Area>, InferCreationAttributes<Area>> {
-  declare id: CreationOptional<number>;
+export class Area extends TimedRow<Area> {
   declare tenantId: ForeignKey<Tenant["id"]>;
   declare siteId: ForeignKey<Site["id"]>;
   declare slug: string;
   declare name: string;
-  declare createdAt: CreationOptional<Date>;
-  declare updatedAt: CreationOptional<Date>;
 }
 
 // A fresh object per attribute: Sequelize annotates attribute definitions in place.
@@ -47,37 +32,34 @@ const slug = () => ({ type: DataTypes.STRING(64), allowNull: false, validate: { 
 export function initTenantModels(sequelize: Sequelize) {
   Tenant.init(
     {
-      id: { type: DataTypes.INTEGER, autoIncrement: true, primaryKey: true },
+      id: serial(),
       slug: slug(),
-      name: { type: DataTypes.STRING(200), allowNull: false },
-      createdAt: DataTypes.DATE(3),
-      updatedAt: DataTypes.DATE(3),
+      name: string(200),
+      ...timestamps(),
     },
-    { sequelize, tableName: "tenants", modelName: "Tenant", underscored: true },
+    tableOptions(sequelize, "tenants", "Tenant"),
   );
   Site.init(
     {
-      id: { type: DataTypes.INTEGER, autoIncrement: true, primaryKey: true },
-      tenantId: { type: DataTypes.INTEGER, allowNull: false },
+      id: serial(),
+      tenantId: int(),
       slug: slug(),
-      name: { type: DataTypes.STRING(200), allowNull: false },
+      name: string(200),
       timeZone: { type: DataTypes.STRING(64), allowNull: false, defaultValue: "UTC" },
-      createdAt: DataTypes.DATE(3),
-      updatedAt: DataTypes.DATE(3),
+      ...timestamps(),
     },
-    { sequelize, tableName: "sites", modelName: "Site", underscored: true },
+    tableOptions(sequelize, "sites", "Site"),
   );
   Area.init(
     {
-      id: { type: DataTypes.INTEGER, autoIncrement: true, primaryKey: true },
-      tenantId: { type: DataTypes.INTEGER, allowNull: false },
-      siteId: { type: DataTypes.INTEGER, allowNull: false },
+      id: serial(),
+      tenantId: int(),
+      siteId: int(),
       slug: slug(),
-      name: { type: DataTypes.STRING(200), allowNull: false },
-      createdAt: DataTypes.DATE(3),
-      updatedAt: DataTypes.DATE(3),
+      name: string(200),
+      ...timestamps(),
     },
-    { sequelize, tableName: "areas", modelName: "Area", underscored: true },
+    tableOptions(sequelize, "areas", "Area"),
   );
   return { Tenant, Site, Area };
 }

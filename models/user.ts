@@ -3,21 +3,14 @@
  * force sign-out everywhere), memberships (user x tenant x role) and one-time invitations
  * (only the SHA-256 of the token is stored).
  */
-import {
-  DataTypes,
-  Model,
-  type CreationOptional,
-  type ForeignKey,
-  type InferAttributes,
-  type InferCreationAttributes,
-  type Sequelize,
-} from "sequelize";
+import { DataTypes, type CreationOptional, type ForeignKey, type Sequelize } from "sequelize";
+import { TimedRow } from "./base";
+import { date, flag, int, serial, string, tableOptions, timestamps } from "./columns";
 import { enumColumn } from "./enum";
 import { ROLES, type Role } from "@/lib/domain/types";
 import type { Tenant } from "./tenant";
 
-export class User extends Model<InferAttributes<User>, InferCreationAttributes<User>> {
-  declare id: CreationOptional<number>;
+export class User extends TimedRow<User> {
   declare email: string;
   declare name: string;
   /** bcrypt hash; null until an invited user sets a password. */
@@ -25,21 +18,15 @@ export class User extends Model<InferAttributes<User>, InferCreationAttributes<U
   declare disabled: CreationOptional<boolean>;
   declare sessionVersion: CreationOptional<number>;
   declare lastSignInAt: CreationOptional<Date | null>;
-  declare createdAt: CreationOptional<Date>;
-  declare updatedAt: CreationOptional<Date>;
 }
 
-export class Membership extends Model<InferAttributes<Membership>, InferCreationAttributes<Membership>> {
-  declare id: CreationOptional<number>;
+export class Membership extends TimedRow<Membership> {
   declare userId: ForeignKey<User["id"]>;
   declare tenantId: ForeignKey<Tenant["id"]>;
   declare role: Role;
-  declare createdAt: CreationOptional<Date>;
-  declare updatedAt: CreationOptional<Date>;
 }
 
-export class Invitation extends Model<InferAttributes<Invitation>, InferCreationAttributes<Invitation>> {
-  declare id: CreationOptional<number>;
+export class Invitation extends TimedRow<Invitation> {
   declare tenantId: ForeignKey<Tenant["id"]>;
   declare email: string;
   declare role: Role;
@@ -48,14 +35,12 @@ export class Invitation extends Model<InferAttributes<Invitation>, InferCreation
   declare invitedBy: number | null;
   declare expiresAt: Date;
   declare usedAt: CreationOptional<Date | null>;
-  declare createdAt: CreationOptional<Date>;
-  declare updatedAt: CreationOptional<Date>;
 }
 
 export function initUserModels(sequelize: Sequelize) {
   User.init(
     {
-      id: { type: DataTypes.INTEGER, autoIncrement: true, primaryKey: true },
+      id: serial(),
       email: {
         type: DataTypes.STRING(254),
         allowNull: false,
@@ -65,13 +50,12 @@ export function initUserModels(sequelize: Sequelize) {
           this.setDataValue("email", String(v).trim().toLowerCase());
         },
       },
-      name: { type: DataTypes.STRING(200), allowNull: false },
-      passwordHash: { type: DataTypes.STRING(100), allowNull: true },
-      disabled: { type: DataTypes.BOOLEAN, allowNull: false, defaultValue: false },
+      name: string(200),
+      passwordHash: string(100, true),
+      disabled: flag(false),
       sessionVersion: { type: DataTypes.INTEGER, allowNull: false, defaultValue: 0 },
-      lastSignInAt: { type: DataTypes.DATE(3), allowNull: true },
-      createdAt: DataTypes.DATE(3),
-      updatedAt: DataTypes.DATE(3),
+      lastSignInAt: date(true),
+      ...timestamps(),
     },
     {
       sequelize,
@@ -85,29 +69,27 @@ export function initUserModels(sequelize: Sequelize) {
   );
   Membership.init(
     {
-      id: { type: DataTypes.INTEGER, autoIncrement: true, primaryKey: true },
-      userId: { type: DataTypes.INTEGER, allowNull: false },
-      tenantId: { type: DataTypes.INTEGER, allowNull: false },
+      id: serial(),
+      userId: int(),
+      tenantId: int(),
       role: enumColumn(ROLES, false),
-      createdAt: DataTypes.DATE(3),
-      updatedAt: DataTypes.DATE(3),
+      ...timestamps(),
     },
-    { sequelize, tableName: "memberships", modelName: "Membership", underscored: true },
+    tableOptions(sequelize, "memberships", "Membership"),
   );
   Invitation.init(
     {
-      id: { type: DataTypes.INTEGER, autoIncrement: true, primaryKey: true },
-      tenantId: { type: DataTypes.INTEGER, allowNull: false },
-      email: { type: DataTypes.STRING(254), allowNull: false },
+      id: serial(),
+      tenantId: int(),
+      email: string(254),
       role: enumColumn(ROLES, false),
       tokenHash: { type: DataTypes.CHAR(64), allowNull: false, unique: true },
-      invitedBy: { type: DataTypes.INTEGER, allowNull: true },
-      expiresAt: { type: DataTypes.DATE(3), allowNull: false },
-      usedAt: { type: DataTypes.DATE(3), allowNull: true },
-      createdAt: DataTypes.DATE(3),
-      updatedAt: DataTypes.DATE(3),
+      invitedBy: int(true),
+      expiresAt: date(),
+      usedAt: date(true),
+      ...timestamps(),
     },
-    { sequelize, tableName: "invitations", modelName: "Invitation", underscored: true },
+    tableOptions(sequelize, "invitations", "Invitation"),
   );
   return { User, Membership, Invitation };
 }

@@ -13,7 +13,9 @@ import { discretePid } from "@/lib/control/closed-loop";
 import type { Complex, QTf } from "@/lib/control/types";
 import { slugify } from "@/lib/domain/slug";
 import type { LoopMode } from "@/lib/domain/types";
+import { velocityForm } from "./controller";
 import { eigenvalues } from "./eigen";
+import { closedLoopStateMatrix, criticalGainFactor } from "./loop-analysis";
 import { discretisePlant, type DiscreteStateSpace } from "./plant";
 import { Prng } from "./prng";
 import type { ActivitySpec, ControllerSpec, DriftSpec, PlantSpec } from "./scenario";
@@ -53,36 +55,11 @@ export interface SimSample {
   mode: LoopMode;
 }
 
-/** Split a q^-1 controller into velocity form: D'(q) v = N'(q) e with v = u(k) - u(k-1). */
-export function velocityForm(c: QTf): { n: Float64Array; d: Float64Array } {
-  const den = [...c.den];
-  const num = [...c.num];
-  const d0 = den[0]!;
-  // synthetic division of den by (1 - q^-1) when it has that factor (sum of coefficients 0)
-  const sum = den.reduce((s, v) => s + v, 0);
-  let dPrime: number[];
-  let nPrime: number[];
-  if (Math.abs(sum) <= 1e-12 * den.reduce((s, v) => s + Math.abs(v), 0)) {
-    dPrime = [];
-    let acc = 0;
-    for (let i = 0; i < den.length - 1; i++) {
-      acc += den[i]!;
-      dPrime.push(acc);
-    }
-    nPrime = num;
-  } else {
-    dPrime = den;
-    nPrime = [...num, 0].map((v, i) => v - (i > 0 ? (num[i - 1] ?? 0) : 0));
-  }
-  return {
-    n: Float64Array.from(nPrime.map((v) => v / d0)),
-    d: Float64Array.from(dPrime.map((v) => v / d0)),
-  };
-}
-
 function clamp(v: number, lo: number, hi: number): number {
   return v < lo ? lo : v > hi ? hi : v;
 }
+
+export { velocityForm } from "./controller";
 
 export class LoopSim {
   readonly config: LoopSimConfig;
@@ -179,24 +156,10 @@ export class LoopSim {
 
   /**
    * The process-gain multiplier at which the loop (as configured, no drift) reaches the unit
-   * circle: bisection on the spectral radius of the closed-loop state matrix. Infinity if none below 1e4.
+   * circle (see `criticalGainFactor` in loop-analysis.ts).
    */
   criticalGainFactor(): number {
-    const rho = (g: number) => Math.max(...eigenvalues(this.closedLoopStateMatrix(g, 0)).map((z) => Math.hypot(z.re, z.im)));
-    if (rho(1) >= 1) return 1;
-    let lo = 1;
-    let hi = 2;
-    while (rho(hi) < 1) {
-      lo = hi;
-      hi *= 2;
-      if (hi > 1e4) return Infinity;
-    }
-    for (let i = 0; i < 50; i++) {
-      const mid = 0.5 * (lo + hi);
-      if (rho(mid) < 1) lo = mid;
-      else hi = mid;
-    }
-    return 0.5 * (lo + hi);
+    return criticalGainFactor(this.plant, this.controller);
   }
 
   /** Extra dead time in controller samples at simulated time t (dead-time-growth drifts). */
@@ -369,48 +332,11 @@ export class LoopSim {
   }
 
   /**
-   * The closed-loop state matrix at the current drift state, for the linear loop in auto (valve
-   * following its command, MV inside its limits), at the controller period. State: plant states
-   * (dead time included), the extra dead-time shift register, the controller's states
-   * (observable canonical realisation of N(q)/D(q)).
+   * The closed-loop state matrix at the current drift state, for the linear loop in auto
+   * (see `closedLoopStateMatrix` in loop-analysis.ts).
    */
   closedLoopStateMatrix(g = this.gainFactor(), M = this.extraDelaySamples()): number[][] {
-    const p = this.plant;
-    const n = p.n;
-    // controller C(q) = (b0 + b1 q^-1 + ...)/(1 + a1 q^-1 + ...)
-    const d0 = this.controller.den[0]!;
-    const m = Math.max(this.controller.num.length, this.controller.den.length) - 1;
-    const b = Array.from({ length: m + 1 }, (_, i) => (this.controller.num[i] ?? 0) / d0);
-    const a = Array.from({ length: m + 1 }, (_, i) => (this.controller.den[i] ?? 0) / d0);
-    const dim = n + M + m;
-    const X: number[][] = Array.from({ length: dim }, () => new Array<number>(dim).fill(0));
-    const ix = 0;
-    const iz = n;
-    const is = n + M;
-    // u = Cc s + Dc e, e = -y = -C x   (Cc = [1, 0, ...], Dc = b0)
-    const uRow = new Array<number>(dim).fill(0);
-    for (let j = 0; j < n; j++) uRow[ix + j] = -b[0]! * p.C[j]!;
-    if (m > 0) uRow[is] = 1;
-    // plant: x' = A x + B g w, w = z_M (M > 0) or u
-    for (let i = 0; i < n; i++) {
-      for (let j = 0; j < n; j++) X[ix + i]![ix + j]! += p.A[i * n + j]!;
-      if (M > 0) X[ix + i]![iz + M - 1]! += p.B[i]! * g;
-      else for (let j = 0; j < dim; j++) X[ix + i]![j]! += p.B[i]! * g * uRow[j]!;
-    }
-    // extra delay: z1' = u, zj' = z_{j-1}
-    for (let r = 0; r < M; r++) {
-      if (r === 0) for (let j = 0; j < dim; j++) X[iz]![j]! += uRow[j]!;
-      else X[iz + r]![iz + r - 1] = 1;
-    }
-    // controller: s_i' = s_{i+1} - a_i s_1 + (b_i - a_i b0) e
-    for (let i = 0; i < m; i++) {
-      const ai = a[i + 1]!;
-      const bi = b[i + 1]! - ai * b[0]!;
-      X[is + i]![is]! += -ai;
-      if (i + 1 < m) X[is + i]![is + i + 1]! += 1;
-      for (let j = 0; j < n; j++) X[is + i]![ix + j]! += -bi * p.C[j]!;
-    }
-    return X;
+    return closedLoopStateMatrix(this.plant, this.controller, g, M);
   }
 }
 

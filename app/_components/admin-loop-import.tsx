@@ -9,6 +9,7 @@ import type { ImportResult } from "@/lib/data/admin/loop-import";
 import { INVENTORY_COLUMNS } from "@/lib/admin/inventory-csv-columns";
 import { MAX_INVENTORY_BYTES } from "@/lib/admin/inventory-limits";
 import { ApiError, sendJson } from "@/lib/client/fetcher";
+import { TableHead } from "@/app/_components/table-head";
 
 export function AdminLoopImport() {
   const [csv, setCsv] = useState<string | null>(null);
@@ -95,17 +96,7 @@ export function AdminLoopImport() {
         <div className="overflow-x-auto">
           <h3 className="text-sm font-semibold">{result.created ? "Created" : "To be created"}: {result.rows.length} loops</h3>
           <table className="w-full text-xs">
-            <thead>
-              <tr className="border-b border-line text-left text-muted">
-                <th className="py-1 pr-2 font-normal">line</th>
-                <th className="py-1 pr-2 font-normal">tag</th>
-                <th className="py-1 pr-2 font-normal">site / area</th>
-                <th className="py-1 pr-2 font-normal">kind</th>
-                <th className="py-1 pr-2 font-normal">tuning</th>
-                <th className="py-1 pr-2 font-normal">periods (s)</th>
-                <th className="py-1 font-normal">defaults applied</th>
-              </tr>
-            </thead>
+            <TableHead columns={["line", "tag", "site / area", "kind", "tuning", "periods (s)", "defaults applied"]} />
             <tbody>
               {result.rows.map((r) => (
                 <tr key={r.line} className="border-b border-line/50 align-top">

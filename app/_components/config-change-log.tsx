@@ -4,6 +4,7 @@ import useSWR from "swr";
 import type { ConfigChangeDto } from "@/lib/data/admin/config-log";
 import { fetchJson, query } from "@/lib/client/fetcher";
 import { fmtTime } from "@/lib/client/format";
+import { TableHead } from "@/app/_components/table-head";
 
 function show(v: unknown): string {
   if (v === null || v === undefined) return "—";
@@ -22,16 +23,7 @@ export function ConfigChangeLog({ entity, entityId, title = "Change log" }: { en
       {data && data.changes.length > 0 && (
         <div className="overflow-x-auto">
           <table className="w-full text-xs">
-            <thead>
-              <tr className="border-b border-line text-left text-muted">
-                <th className="py-1 pr-2 font-normal">when</th>
-                <th className="py-1 pr-2 font-normal">who</th>
-                <th className="py-1 pr-2 font-normal">what</th>
-                <th className="py-1 pr-2 font-normal">change</th>
-                <th className="py-1 pr-2 font-normal">reason</th>
-                <th className="py-1 font-normal">MOC</th>
-              </tr>
-            </thead>
+            <TableHead columns={["when", "who", "what", "change", "reason", "MOC"]} />
             <tbody>
               {data.changes.map((c) => (
                 <tr key={c.id} className="border-b border-line/50 align-top">

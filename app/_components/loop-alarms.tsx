@@ -9,6 +9,7 @@ import { CONDITION_WORDS, fmt, fmtTime } from "@/lib/client/format";
 import { useAlarms } from "@/lib/client/hooks";
 import { AlarmActions } from "./alarm-actions";
 import { PriorityMark } from "./priority-mark";
+import { TableHead } from "@/app/_components/table-head";
 
 interface AlarmEventDto {
   id?: number;
@@ -61,14 +62,7 @@ export function AlarmEvents({ alarmId }: { alarmId: number }) {
   if (events.length === 0) return <p className="text-sm text-muted">No events recorded.</p>;
   return (
     <table className="mt-2 w-full text-xs">
-      <thead>
-        <tr className="text-left text-muted">
-          <th className="font-normal">when</th>
-          <th className="font-normal">what</th>
-          <th className="font-normal">who</th>
-          <th className="font-normal">comment</th>
-        </tr>
-      </thead>
+      <TableHead columns={["when", "what", "who", "comment"]} rowClassName="text-left text-muted" cell="" lastCell="" />
       <tbody>
         {events.map((e, i) => (
           <tr key={e.id ?? i} className="border-t border-line/50">

@@ -9,6 +9,7 @@ import useSWR from "swr";
 import type { BackfillProgress, BackfillRow } from "@/lib/backfill/types";
 import { ApiError, fetchJson, sendJson } from "@/lib/client/fetcher";
 import { fmtTime } from "@/lib/client/format";
+import { TableHead } from "@/app/_components/table-head";
 
 const fmtS = (s: number | null) => (s === null ? "—" : s < 90 ? `${Math.round(s)} s` : `${Math.round(s / 60)} min`);
 const fmtBytes = (n: number) => (n >= 1e6 ? `${(n / 1e6).toFixed(1)} MB` : `${Math.round(n / 1e3)} kB`);
@@ -108,16 +109,7 @@ export function LoopBackfill({ loopId }: { loopId: number }) {
       )}
       {data && data.recorded.length > 0 && (
         <table className="w-full text-xs">
-          <thead>
-            <tr className="border-b border-line text-left text-muted">
-              <th className="py-1 pr-2 font-normal">started</th>
-              <th className="py-1 pr-2 font-normal">file</th>
-              <th className="py-1 pr-2 font-normal">status</th>
-              <th className="py-1 pr-2 font-normal">span</th>
-              <th className="py-1 pr-2 font-normal">accepted / refused</th>
-              <th className="py-1 font-normal">model</th>
-            </tr>
-          </thead>
+          <TableHead columns={["started", "file", "status", "span", "accepted / refused", "model"]} />
           <tbody>
             {data.recorded.map((r) => (
               <tr key={r.id} className="border-b border-line/50">

@@ -27,7 +27,6 @@ import {
   poleCharacteristics,
   polyRoots,
   proposeEstimationPeriod,
-  simulateArx,
   type ArxCandidate,
   type ArxFit,
   type ArxModel,
@@ -35,106 +34,18 @@ import {
   type PeriodProposal,
 } from "@/lib/control";
 import { ValidationError } from "@/lib/domain/errors";
+import { chartOfFit } from "./chart";
 import type { ParsedStepTest } from "./csv";
-import { fitFopdt, fitIpdt, simulateFopdt, type FopdtFit, type IpdtFit } from "./fopdt";
-import { detrend, loggedPeriod, resample, type DetrendMethod, type UniformSeries } from "./resample";
+import { fitFopdt, fitIpdt, type FopdtFit, type IpdtFit } from "./fopdt";
+import { detrend, loggedPeriod, resample, type UniformSeries } from "./resample";
+import { RESULT_VERSION, type IdentifyOptions, type LoopForIdentification, type PoleSummary, type StepTestResult } from "./result";
 
-export const RESULT_VERSION = 1;
-/** Most points kept for the chart of measured vs simulated PV. */
-export const CHART_POINTS = 2000;
+export { CHART_POINTS, RESULT_VERSION, type IdentifyOptions, type LoopForIdentification, type PoleSummary, type StepTestResult } from "./result";
+
 /** FPE within this fraction of the best counts as "as good" for the parsimony rule. */
 const PARSIMONY = 0.02;
 /** Fewest samples at the identification period. */
 const MIN_ID_SAMPLES = 40;
-
-export interface LoopForIdentification {
-  telemetryPeriodS: number;
-  pvLo: number;
-  pvHi: number;
-  mvLo: number;
-  mvHi: number;
-}
-
-export interface IdentifyOptions {
-  detrend?: DetrendMethod;
-  /** Longest dead time searched, seconds (default: a third of the record). */
-  maxDeadTimeS?: number;
-}
-
-export interface PoleSummary {
-  re: number;
-  im: number;
-  radius: number;
-  kind: string;
-  timeConstantS: number | null;
-  wn: number | null;
-  zeta: number | null;
-}
-
-export interface StepTestResult {
-  version: number;
-  data: {
-    rows: number;
-    /** Logged period (median step), seconds. */
-    periodS: number;
-    durationS: number;
-    startTime: string | null;
-    irregular: boolean;
-    hasSp: boolean;
-    /** Samples per mode at the logged period (null when the file has no mode column). */
-    modes: Record<"auto" | "manual" | "cascade", number> | null;
-    closedLoop: boolean;
-    detrend: DetrendMethod;
-    baseline: { mv: number; pv: number };
-    leadInS: number;
-  };
-  identification: {
-    /** Period the final model is sampled at, seconds. */
-    periodS: number;
-    samples: number;
-    criterion: "fpe";
-    model: ArxModel;
-    fitPercent: number;
-    loss: number;
-    candidates: ArxCandidate[];
-    passes: { periodS: number; na: number; nb: number; nk: number; fitPercent: number }[];
-  };
-  continuous: {
-    /** FOPDT gain in PV units per MV unit (the ARX static gain when no FOPDT fits). */
-    gain: number | null;
-    /** %/% of span, using the loop's PV and MV spans. */
-    gainPercent: number | null;
-    /** Static gain B(1)/A(1) of the ARX model; null when it has a pole on or outside the circle. */
-    arxGain: number | null;
-    /** True when the PV ramps after a step (integrating, or slower than twice the record). */
-    integrating: boolean;
-    /** Integrating processes: ramp rate in PV units per second per MV unit, and in %/s per % of span. */
-    rate: number | null;
-    ratePercent: number | null;
-    /** FOPDT (or, integrating, integrator) time constant and dead time, seconds (null when none fits). */
-    timeConstantS: number | null;
-    deadTimeS: number | null;
-    fopdtFitPercent: number | null;
-    method: string;
-    poles: PoleSummary[];
-  };
-  proposal: {
-    estimationPeriodS: number;
-    factor: number;
-    telemetryPeriodS: number;
-    wnT: number;
-    reason: string;
-    modelStructure: { na: number; nb: number; nk: number };
-  } | null;
-  /**
-   * For the chart, on the finest grid (the logged period, averaged down for long logs), thinned to
-   * CHART_POINTS: measured PV, the ARX model's simulated PV (its samples every identification
-   * period, linearly interpolated between them), the FOPDT (or integrator) summary's simulated PV,
-   * MV and SP. All in engineering units; t in seconds from the start.
-   */
-  chart: { t: number[]; pvMeasured: number[]; pvSimulated: number[]; pvSummary: number[] | null; mv: number[]; sp: number[] | null };
-  warnings: string[];
-}
 
 interface Pass {
   T: number;
@@ -184,7 +95,8 @@ export function identifyStepTest(parsed: ParsedStepTest, loop: LoopForIdentifica
 
   // FOPDT summary by output error on the finest series (the logged period, averaged down when long).
   const T1 = T0 * d1;
-  const fine = detrend(T1 === T0 ? base : resample(rows, T1), method, spans);
+  const fineSeries = T1 === T0 ? base : resample(rows, T1);
+  const fine = detrend(fineSeries, method, spans);
   const fo = fitFopdt(fine.u, fine.y, T1, maxDead);
 
   const runPass = (T: number, orders: number[]): Pass => {
@@ -300,42 +212,7 @@ export function identifyStepTest(parsed: ParsedStepTest, loop: LoopForIdentifica
     };
   }
 
-  // Chart on the fine grid: the ARX simulation (every final.T) interpolated, the summary model's
-  // simulation at T1, both with the operating point added back.
-  const sim = simulateArx(model, final.u);
-  const fineSeries = T1 === T0 ? base : resample(rows, T1);
-  const nFine = fineSeries.pv.length;
-  let summary: Float64Array | null = null;
-  if (ip) {
-    summary = new Float64Array(nFine);
-    let acc = 0;
-    const N = Math.floor(ip.deadTimeS / T1 + 1e-9);
-    const f = ip.deadTimeS - N * T1;
-    for (let k = 0; k < nFine; k++) {
-      summary[k] = ip.rate * acc + ip.offset + fine.yTrend[k]!;
-      acc += (T1 - f) * (fine.u[k - N] ?? 0) + f * (fine.u[k - N - 1] ?? 0);
-    }
-  } else if (fo) {
-    summary = simulateFopdt(fine.u, T1, fo.timeConstantS, fo.deadTimeS);
-    for (let k = 0; k < nFine; k++) summary[k] = fo.gain * summary[k]! + fo.offset + fine.yTrend[k]!;
-  }
-  const stride = Math.max(1, Math.ceil(nFine / CHART_POINTS));
-  const chart: StepTestResult["chart"] = { t: [], pvMeasured: [], pvSimulated: [], pvSummary: summary ? [] : null, mv: [], sp: fineSeries.sp ? [] : null };
-  const nSim = sim.length;
-  for (let k = 0; k < nFine; k += stride) {
-    const t = k * T1;
-    const x = Math.min(t / final.T, nSim - 1);
-    const i = Math.floor(x);
-    const w = x - i;
-    const at = (j: number) => sim[j]! + final.yTrend[j]!;
-    const simAt = i + 1 < nSim ? at(i) + w * (at(i + 1) - at(i)) : at(nSim - 1);
-    chart.t.push(round(t, 6));
-    chart.pvMeasured.push(round(fineSeries.pv[k]!, 6));
-    chart.pvSimulated.push(round(simAt, 6));
-    chart.pvSummary?.push(round(summary![k]!, 6));
-    chart.mv.push(round(fineSeries.mv[k]!, 6));
-    chart.sp?.push(round(fineSeries.sp![k]!, 6));
-  }
+  const chart = chartOfFit({ model, final, fine, fineSeries, T1, fo, ip });
 
   return {
     version: RESULT_VERSION,
@@ -439,8 +316,4 @@ function isSlow(z: Complex, T: number, limit: number): boolean {
 
 function fmt(x: number): string {
   return Number(x.toPrecision(3)).toString();
-}
-
-function round(x: number, digits: number): number {
-  return Number(x.toPrecision(digits + 2));
 }

@@ -10,14 +10,9 @@ import { afterAll, beforeAll, describe, expect, it, vi } from "vitest";
 import type { TenantContext } from "@/lib/domain/types";
 import { createAuthFixture, type AuthFixture } from "../auth/fixture";
 import { createTestDatabase, type TestDatabase } from "../setup/db";
+import { signInAs } from "@/tests/helpers/guard-stand-in";
 
-let current: TenantContext | null = null;
-vi.mock("@/lib/auth/guard", () => ({
-  requireContext: async () => {
-    if (!current) throw new (await import("@/lib/domain/errors")).UnauthenticatedError();
-    return current;
-  },
-}));
+vi.mock("@/lib/auth/guard", async () => (await import("@/tests/helpers/guard-stand-in")).guardStandIn({ checkRole: false }));
 
 const rules = await import("@/app/api/admin/notification-rules/route");
 const rule = await import("@/app/api/admin/notification-rules/[ruleId]/route");
@@ -89,7 +84,7 @@ beforeAll(async () => {
     tenantName: fx.a.name,
     role: "admin",
   };
-  current = admin;
+  signInAs(admin);
   ruleId = (await createRule(admin, { ...baseRule, minPriority: "high", reason: "initial rule" }))
     .id;
 });

@@ -13,14 +13,9 @@ import { publicOrigin } from "@/lib/config";
 import type { TenantContext } from "@/lib/domain/types";
 import { createAuthFixture, type AuthFixture } from "../auth/fixture";
 import { createTestDatabase, type TestDatabase } from "../setup/db";
+import { signInAs } from "@/tests/helpers/guard-stand-in";
 
-let current: TenantContext | null = null;
-vi.mock("@/lib/auth/guard", () => ({
-  requireContext: async () => {
-    if (!current) throw new (await import("@/lib/domain/errors")).UnauthenticatedError();
-    return current;
-  },
-}));
+vi.mock("@/lib/auth/guard", async () => (await import("@/tests/helpers/guard-stand-in")).guardStandIn({ checkRole: false }));
 
 const route = await import("@/app/api/admin/loop-inventory/route");
 const { KIND_DEFAULTS } = await import("@/lib/admin/inventory-defaults");
@@ -74,7 +69,7 @@ beforeAll(async () => {
   });
   engA = ctx(fx.a);
   engB = ctx(fx.b);
-  current = engA;
+  signInAs(engA);
 });
 afterAll(async () => {
   await db?.drop();
@@ -211,7 +206,7 @@ describe("commit", () => {
 
 describe("export", () => {
   it("round trip: an export imported into another tenant exports to the same file and the same loops", async () => {
-    current = engA;
+    signInAs(engA);
     const sheet = [
       "tag,site,area,kind,description,units,gain_kind,gain,ti,ti_units,td,td_units,derivative_filter_s,pv_lo,pv_hi,baseline_time_constant_s,enabled,action,form",
       `TIC-701,${SITE_A},Utilities,temperature,"=SUM(A1) looks like a formula",°C,pb,150,2,repeats-per-min,0.5,min,none,-40,1.5e3,600,no,direct,series`,
@@ -227,7 +222,7 @@ describe("export", () => {
     // Tenant B gets a site and area of the same names, then imports A's export.
     const site = await db.models.Site.create({ tenantId: fx.b.id, slug: "brackwater-north", name: SITE_A });
     await db.models.Area.create({ tenantId: fx.b.id, siteId: site.id, slug: "utilities", name: "Utilities" });
-    current = engB;
+    signInAs(engB);
     const res = await post({ csv: exportA, commit: true, reason: "copy of the inventory" });
     expect(res.status, JSON.stringify(await res.clone().json())).toBe(201);
     const exportB = await exportCsv();
@@ -244,7 +239,7 @@ describe("export", () => {
     expect(tic).toMatchObject({ description: "=SUM(A1) looks like a formula", gain_kind: "pb", ti_units: "repeats-per-min", tf_s: null, pv_hi: 1500, enabled: 0 });
     const aic = (a as Record<string, unknown>[]).find((r) => r.tag === "AIC-703")!;
     expect(aic.description).toBe("@head");
-    current = engA;
+    signInAs(engA);
   });
 
   it("a sheet of 800 loops (over the 64 KiB JSON limit) is admitted by the body limit and previews clean", async () => {

@@ -7,9 +7,8 @@
 import { QueryTypes } from "sequelize";
 import { afterAll, beforeAll, describe, expect, it, vi } from "vitest";
 import { publicOrigin } from "@/lib/config";
-import { ForbiddenError } from "@/lib/domain/errors";
 import { setServerContext } from "@/lib/data/server-context";
-import { roleAtLeast, type Role, type TenantContext } from "@/lib/domain/types";
+import type { Role } from "@/lib/domain/types";
 import { AlarmService } from "@/server/alarms/service";
 import { startMail, type MailService } from "@/server/mail";
 import { createTestDatabase, type TestDatabase } from "../setup/db";
@@ -23,15 +22,9 @@ import {
   testContext,
   type Fixture,
 } from "./helpers";
+import { signInAs } from "@/tests/helpers/guard-stand-in";
 
-let current: TenantContext | null = null;
-vi.mock("@/lib/auth/guard", () => ({
-  requireContext: async (min: Role = "viewer") => {
-    if (!current) throw new (await import("@/lib/domain/errors")).UnauthenticatedError();
-    if (!roleAtLeast(current.role, min)) throw new ForbiddenError(`needs ${min}`);
-    return current;
-  },
-}));
+vi.mock("@/lib/auth/guard", async () => (await import("@/tests/helpers/guard-stand-in")).guardStandIn());
 
 const list = await import("@/app/api/alarms/route");
 const one = await import("@/app/api/alarms/[alarmId]/route");
@@ -65,7 +58,7 @@ const put = (path: string, body: unknown) =>
   new Request(url(path), { method: "PUT", headers: json(), body: JSON.stringify(body) });
 const p = (alarmId: number | string) => ({ params: Promise.resolve({ alarmId: String(alarmId) }) });
 const as = (role: Role | "outsider") => {
-  current = role === "outsider" ? fx.outsider : fx.users[role];
+  signInAs(role === "outsider" ? fx.outsider : fx.users[role]);
 };
 
 beforeAll(async () => {
@@ -101,7 +94,7 @@ function marginId(): number {
 
 describe("alarm API", () => {
   it("lists the tenant's alarms with ISO 8601 times, filtered; 422 on a bad filter; 401 signed out", async () => {
-    current = null;
+    signInAs(null);
     expect((await list.GET(get("/api/alarms"))).status).toBe(401);
     as("viewer");
     svc.onTrackerUpdate(loopState(fx.loopId, fx.tenantId, clock.now(), polesWithDecay(0.42)));

@@ -14,50 +14,22 @@ import {
   type ConditionMemory,
 } from "@/lib/domain/alarms/conditions";
 import { polyRootsWithBounds } from "@/lib/control/root-bounds";
-import { assessPoles, slowestOscillatingMode } from "@/lib/domain/assessment";
+import { slowestOscillatingMode } from "@/lib/domain/assessment";
 import { DEFAULT_POLICY, resolvePolicy, type EffectivePolicy } from "@/lib/domain/alarms/policy";
 import type { LoopStateDto, PoleDto, TrackerState } from "@/lib/domain/types";
+import { loopState, pole } from "./helpers";
 
 const T0 = Date.UTC(2026, 0, 5, 8, 0, 0);
 
-function pole(re: number, im: number): PoleDto {
-  return { re, im, radius: Math.hypot(re, im), sdRadius: null, cov: null };
-}
 /** A conjugate pair with a given per-cycle decay ratio d at angle θ: r = d^(θ/2π). */
 function pairWithDecay(d: number, theta = Math.PI / 4): PoleDto[] {
   const r = Math.pow(d, theta / (2 * Math.PI));
   return [pole(r * Math.cos(theta), r * Math.sin(theta)), pole(r * Math.cos(theta), -r * Math.sin(theta))];
 }
 
-/** A tracker state with these model poles, its figures from the one assessment (lib/domain/assessment.ts). */
+/** A tracker state of loop 7 at T0 with these model poles (1,000 samples, fit 90 %). */
 function state(poles: PoleDto[], over: Partial<LoopStateDto> = {}): LoopStateDto {
-  const sr = poles.length ? Math.max(...poles.map((p) => p.radius)) : null;
-  const figures = assessPoles(poles, over.estimationPeriodS ?? 1);
-  return {
-    loopId: 7,
-    tenantId: 1,
-    at: T0,
-    receivedAt: T0,
-    trackerState: "tracking",
-    stateReason: null,
-    estimationPeriodS: 1,
-    samples: 1000,
-    excitation: 1,
-    fitPercent: 90,
-    juryStable: sr == null ? null : sr < 1,
-    gainHeadroom: null,
-    forecast: null,
-    modelPoles: poles,
-    dataPoles: [],
-    dataPolesKind: "disturbance-response",
-    zeros: [],
-    characteristic: null,
-    delaySamples: null,
-    last: null,
-    ...figures,
-    polesFrom: poles.length ? "model" : null,
-    ...over,
-  };
+  return loopState(7, 1, T0, poles, { samples: 1000, fitPercent: 90, ...over });
 }
 
 function policy(p: Partial<EffectivePolicy> = {}): EffectivePolicy {

@@ -129,7 +129,7 @@ export function polesWithDecay(d: number, theta = Math.PI / 4): PoleDto[] {
 
 /** A tracker state with these model poles, its figures from the one assessment (lib/domain/assessment.ts). */
 export function loopState(loopId: number, tenantId: number, at: number, poles: PoleDto[], over: Partial<LoopStateDto> = {}): LoopStateDto {
-  const sr = Math.max(...poles.map((p) => p.radius));
+  const sr = poles.length ? Math.max(...poles.map((p) => p.radius)) : null;
   const figures = assessPoles(poles, over.estimationPeriodS ?? 1);
   return {
     loopId,
@@ -142,7 +142,7 @@ export function loopState(loopId: number, tenantId: number, at: number, poles: P
     samples: 5000,
     excitation: 1,
     fitPercent: 92,
-    juryStable: sr < 1,
+    juryStable: sr == null ? null : sr < 1,
     gainHeadroom: null,
     forecast: null,
     modelPoles: poles,
@@ -153,7 +153,7 @@ export function loopState(loopId: number, tenantId: number, at: number, poles: P
     delaySamples: null,
     last: null,
     ...figures,
-    polesFrom: "model",
+    polesFrom: poles.length ? "model" : null,
     ...over,
   };
 }

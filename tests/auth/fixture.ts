@@ -6,6 +6,7 @@
 import bcrypt from "bcryptjs";
 import type { Models } from "@/models";
 import { ROLES, type Role } from "@/lib/domain/types";
+import { testLoopRow } from "@/tests/helpers/loop-row";
 
 export const FIXTURE_PASSWORD = "fixture-pass-7319";
 
@@ -30,29 +31,15 @@ async function makeTenant(m: Models, slug: string, name: string, hash: string): 
   const tenant = await m.Tenant.create({ slug, name });
   const site = await m.Site.create({ tenantId: tenant.id, slug: "north", name: `${name} North` });
   const area = await m.Area.create({ tenantId: tenant.id, siteId: site.id, slug: "utilities", name: "Utilities" });
-  const loop = await m.Loop.create({
-    tenantId: tenant.id,
-    siteId: site.id,
-    areaId: area.id,
-    tag: "FIC-101",
-    slug: "fic-101",
-    kind: "flow",
-    units: "m3/h",
-    pvLo: 0,
-    pvHi: 100,
-    mvLimitLo: null,
-    mvLimitHi: null,
-    telemetryPeriodS: 0.5,
-    controllerPeriodS: 0.5,
-    gainValue: 0.8,
-    tiValue: 6,
-    tfS: null,
-    derivativeAlpha: null,
-    cascadeMasterLoopId: null,
-    estimationPeriodS: 0.5,
-    estimationProposedS: null,
-    baselineTimeConstantS: null,
-  });
+  const loop = await m.Loop.create(
+    testLoopRow({ tenantId: tenant.id, siteId: site.id, areaId: area.id }, {
+      telemetryPeriodS: 0.5,
+      controllerPeriodS: 0.5,
+      gainValue: 0.8,
+      tiValue: 6,
+      estimationPeriodS: 0.5,
+    }),
+  );
   const users = {} as Record<Role, { id: number; email: string }>;
   for (const role of ROLES) {
     const email = `${role}@${slug}.example`;

@@ -1,5 +1,6 @@
 /** HTTP helpers for signing in through the real next-auth route handlers. */
 import http from "node:http";
+import { FIXTURE_PASSWORD } from "./fixture";
 
 /** A minimal cookie jar: name -> value, from Set-Cookie headers. */
 export class CookieJar {
@@ -88,6 +89,13 @@ function requestFrom(url: string, localAddress: string, init: { method?: string;
     if (init.body) req.write(init.body);
     req.end();
   });
+}
+
+/** The cookies of a session for `email` with the fixture's password; throws when sign-in fails. */
+export async function sessionOf(baseUrl: string, email: string): Promise<CookieJar> {
+  const r = await signIn(baseUrl, email, FIXTURE_PASSWORD);
+  if (!r.session) throw new Error(`sign-in failed: ${r.error}`);
+  return r.jar;
 }
 
 /** Like signIn, but from a given loopback address and with extra request headers. */

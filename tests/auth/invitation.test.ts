@@ -14,7 +14,7 @@ import { acceptInvitation, acceptInvitationAsUser, describeInvitation, INVITATIO
 import { mailOf } from "@/server/mail";
 import { startTestServer, type TestServer } from "../setup/server";
 import { createAuthFixture, FIXTURE_PASSWORD, type AuthFixture } from "./fixture";
-import { authedFetch, signIn, type CookieJar } from "./helpers";
+import { authedFetch, sessionOf, signIn, type CookieJar } from "./helpers";
 
 let srv: TestServer;
 let fx: AuthFixture;
@@ -23,9 +23,7 @@ let adminA: CookieJar;
 beforeAll(async () => {
   srv = await startTestServer({ seed: false });
   fx = await createAuthFixture(srv.db.models);
-  const r = await signIn(srv.url, fx.a.users.admin.email, FIXTURE_PASSWORD);
-  if (!r.session) throw new Error(`sign-in failed: ${r.error}`);
-  adminA = r.jar;
+  adminA = await sessionOf(srv.url, fx.a.users.admin.email);
 });
 afterAll(async () => {
   await srv?.stop();

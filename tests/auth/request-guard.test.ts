@@ -12,8 +12,8 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { configSchema, publicOrigin } from "@/lib/config";
 import { BODY_LIMITS } from "@/lib/request-guard";
 import { startTestServer, type TestServer } from "../setup/server";
-import { createAuthFixture, FIXTURE_PASSWORD, type AuthFixture } from "./fixture";
-import { authedFetch, signIn, type CookieJar } from "./helpers";
+import { createAuthFixture, type AuthFixture } from "./fixture";
+import { authedFetch, sessionOf, type CookieJar } from "./helpers";
 import { ROUTES, type RouteCase } from "./route-matrix";
 
 let srv: TestServer;
@@ -23,9 +23,7 @@ let admin: CookieJar;
 beforeAll(async () => {
   srv = await startTestServer({ seed: false });
   fx = await createAuthFixture(srv.db.models);
-  const r = await signIn(srv.url, fx.a.users.admin.email, FIXTURE_PASSWORD);
-  if (!r.session) throw new Error(`sign-in failed: ${r.error}`);
-  admin = r.jar;
+  admin = await sessionOf(srv.url, fx.a.users.admin.email);
 });
 afterAll(async () => {
   await srv?.stop();

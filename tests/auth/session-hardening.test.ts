@@ -12,7 +12,7 @@ import type { ClientToServerEvents, ServerToClientEvents } from "@/lib/domain/ev
 import { notifyUserChanged } from "@/lib/data/server-context";
 import { startTestServer, type TestServer } from "../setup/server";
 import { createAuthFixture, FIXTURE_PASSWORD, type AuthFixture } from "./fixture";
-import { authedFetch, signIn, type CookieJar } from "./helpers";
+import { authedFetch, sessionOf, signIn, type CookieJar } from "./helpers";
 
 type ClientSocket = Socket<ServerToClientEvents, ClientToServerEvents>;
 
@@ -33,11 +33,7 @@ afterAll(async () => {
   await srv?.stop();
 });
 
-async function sessionOf(email: string): Promise<CookieJar> {
-  const r = await signIn(srv.url, email, FIXTURE_PASSWORD);
-  if (!r.session) throw new Error(`sign-in failed: ${r.error}`);
-  return r.jar;
-}
+const sessionFor = (email: string): Promise<CookieJar> => sessionOf(srv.url, email);
 
 function socketWith(cookie: string): Promise<{ socket: ClientSocket; connected: boolean }> {
   const socket: ClientSocket = connect(srv.url, { transports: ["websocket"], extraHeaders: { origin: srv.url, cookie }, reconnection: false, forceNew: true, timeout: 5_000 });
@@ -61,7 +57,7 @@ function endedWithin(s: ClientSocket, start: () => number, ms: number): Promise<
 
 describe("sign-out survives a restart", () => {
   it("a signed-out cookie is refused after the in-memory state is gone", async () => {
-    const jar = await sessionOf(fx.a.users.viewer.email);
+    const jar = await sessionFor(fx.a.users.viewer.email);
     const old = jar.header();
     expect((await authedFetch(srv.url, jar, "/api/session")).status).toBe(200);
     const csrf = (await (await authedFetch(srv.url, jar, "/api/auth/csrf")).json()) as { csrfToken: string };
@@ -84,7 +80,7 @@ describe("sign-out survives a restart", () => {
     expect((await fetch(`${srv.url}/api/session`, { headers: { cookie: old } })).status).toBe(401);
     expect((await socketWith(old)).connected).toBe(false);
     // Another session of the same user is not affected.
-    expect((await authedFetch(srv.url, await sessionOf(fx.a.users.viewer.email), "/api/session")).status).toBe(200);
+    expect((await authedFetch(srv.url, await sessionFor(fx.a.users.viewer.email), "/api/session")).status).toBe(200);
   });
 });
 
@@ -98,7 +94,7 @@ describe("rights withdrawn from an open socket", () => {
 
   it("a demotion through the admin API closes the user's socket within 1 s", async () => {
     const { membership } = await tempMember("demoted@brackwater.example");
-    const { socket, connected } = await socketWith((await sessionOf("demoted@brackwater.example")).header());
+    const { socket, connected } = await socketWith((await sessionFor("demoted@brackwater.example")).header());
     expect(connected).toBe(true);
     let t0 = 0;
     const ended = endedWithin(socket, () => t0, 1_000);
@@ -111,13 +107,13 @@ describe("rights withdrawn from an open socket", () => {
     expect(res.status).toBe(200);
     await ended;
     // It may reconnect, now as a viewer.
-    const again = await socketWith((await sessionOf("demoted@brackwater.example")).header());
+    const again = await socketWith((await sessionFor("demoted@brackwater.example")).header());
     expect(again.connected).toBe(true);
   });
 
   it("a removal through the admin API closes the user's socket within 1 s", async () => {
     const { membership } = await tempMember("removed@brackwater.example");
-    const { socket, connected } = await socketWith((await sessionOf("removed@brackwater.example")).header());
+    const { socket, connected } = await socketWith((await sessionFor("removed@brackwater.example")).header());
     expect(connected).toBe(true);
     let t0 = 0;
     const ended = endedWithin(socket, () => t0, 1_000);

@@ -11,7 +11,7 @@ import { tenantRoom, type ClientToServerEvents, type ServerToClientEvents } from
 import { notifyUserChanged } from "@/lib/data/server-context";
 import { startTestServer, type TestServer } from "../setup/server";
 import { createAuthFixture, FIXTURE_PASSWORD, type AuthFixture } from "./fixture";
-import { authedFetch, signIn, type CookieJar } from "./helpers";
+import { authedFetch, sessionOf, type CookieJar } from "./helpers";
 
 type ClientSocket = Socket<ServerToClientEvents, ClientToServerEvents>;
 
@@ -54,11 +54,7 @@ async function roomsOf(socketId: string): Promise<string[]> {
   return [...(sockets.find((s) => s.id === socketId)?.rooms ?? [])];
 }
 
-async function sessionOf(email: string): Promise<CookieJar> {
-  const r = await signIn(srv.url, email, FIXTURE_PASSWORD);
-  if (!r.session) throw new Error(`sign-in failed: ${r.error}`);
-  return r.jar;
-}
+const sessionFor = (email: string): Promise<CookieJar> => sessionOf(srv.url, email);
 
 describe("Socket.IO handshake", () => {
   it("refuses a connection without a session", async () => {
@@ -82,7 +78,7 @@ describe("Socket.IO handshake", () => {
   });
 
   it("refuses a valid session from a foreign Origin, over WebSocket and over polling", async () => {
-    const jar = await sessionOf(fx.a.users.viewer.email);
+    const jar = await sessionFor(fx.a.users.viewer.email);
     const ws = await outcome(socketFor({ origin: "http://evil.example", cookie: jar.header() }));
     expect(ws.connected).toBe(false);
     const polling = await outcome(socketFor({ origin: "http://evil.example", cookie: jar.header() }, "polling"));
@@ -90,7 +86,7 @@ describe("Socket.IO handshake", () => {
   });
 
   it("accepts a valid session from the console's origin and joins only its tenant's room", async () => {
-    const jar = await sessionOf(fx.a.users.viewer.email);
+    const jar = await sessionFor(fx.a.users.viewer.email);
     const s = socketFor({ origin: srv.url, cookie: jar.header() });
     expect(await outcome(s)).toEqual({ connected: true });
     const rooms = await roomsOf(s.id!);
@@ -102,7 +98,7 @@ describe("Socket.IO handshake", () => {
   });
 
   it("a tenant's broadcast reaches its sockets and not another tenant's", async () => {
-    const [ja, jb] = [await sessionOf(fx.a.users.operator.email), await sessionOf(fx.b.users.operator.email)];
+    const [ja, jb] = [await sessionFor(fx.a.users.operator.email), await sessionFor(fx.b.users.operator.email)];
     const sa = socketFor({ origin: srv.url, cookie: ja.header() });
     const sb = socketFor({ origin: srv.url, cookie: jb.header() });
     expect(await Promise.all([outcome(sa), outcome(sb)])).toEqual([{ connected: true }, { connected: true }]);
@@ -132,7 +128,7 @@ describe("withdrawn sessions close their sockets", () => {
     const email = "socket-temp@quillon.example";
     const user = await m.User.create({ email, name: "Socket Temp", passwordHash: await bcrypt.hash(FIXTURE_PASSWORD, 4) });
     const membership = await m.Membership.create({ userId: user.id, tenantId: fx.b.id, role: "operator" });
-    const jar = await sessionOf(email);
+    const jar = await sessionFor(email);
     const s = socketFor({ origin: srv.url, cookie: jar.header() });
     expect((await outcome(s)).connected).toBe(true);
     const done = ended(s);
@@ -151,7 +147,7 @@ describe("withdrawn sessions close their sockets", () => {
     const email = "socket-quiet@quillon.example";
     const user = await m.User.create({ email, name: "Socket Quiet", passwordHash: await bcrypt.hash(FIXTURE_PASSWORD, 4) });
     const membership = await m.Membership.create({ userId: user.id, tenantId: fx.b.id, role: "viewer" });
-    const s = socketFor({ origin: srv.url, cookie: (await sessionOf(email)).header() });
+    const s = socketFor({ origin: srv.url, cookie: (await sessionFor(email)).header() });
     expect((await outcome(s)).connected).toBe(true);
     const done = ended(s);
     await membership.destroy();
@@ -160,7 +156,7 @@ describe("withdrawn sessions close their sockets", () => {
   }, 20_000);
 
   it("signing out closes that session's sockets", async () => {
-    const jar = await sessionOf(fx.a.users.engineer.email);
+    const jar = await sessionFor(fx.a.users.engineer.email);
     const s = socketFor({ origin: srv.url, cookie: jar.header() });
     expect((await outcome(s)).connected).toBe(true);
     const done = ended(s);
@@ -174,7 +170,7 @@ describe("withdrawn sessions close their sockets", () => {
   });
 
   it("switching tenant closes the old socket; a new one joins the new tenant's room", async () => {
-    const jar = await sessionOf(fx.both.email);
+    const jar = await sessionFor(fx.both.email);
     const s = socketFor({ origin: srv.url, cookie: jar.header() });
     expect((await outcome(s)).connected).toBe(true);
     const before = await roomsOf(s.id!);

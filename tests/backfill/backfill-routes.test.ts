@@ -7,7 +7,6 @@
 import { afterAll, beforeAll, describe, expect, it, vi } from "vitest";
 import { publicOrigin } from "@/lib/config";
 import { setServerContext } from "@/lib/data/server-context";
-import type { TenantContext } from "@/lib/domain/types";
 import { Bus, type ServerContext, type Service } from "@/server/context";
 import { BackfillHost } from "@/server/backfill/host";
 import { HistoryWriter } from "@/server/history/writer";
@@ -16,14 +15,9 @@ import { TrackerRegistry } from "@/server/tracking/registry";
 import { createPipelineFixture, PiLoop, type PipelineTenant } from "../pipeline/fixture";
 import { testContext, ManualClock } from "../pipeline/helpers";
 import { createTestDatabase, type TestDatabase } from "../setup/db";
+import { signInAs } from "@/tests/helpers/guard-stand-in";
 
-let current: TenantContext | null = null;
-vi.mock("@/lib/auth/guard", () => ({
-  requireContext: async () => {
-    if (!current) throw new (await import("@/lib/domain/errors")).UnauthenticatedError();
-    return current;
-  },
-}));
+vi.mock("@/lib/auth/guard", async () => (await import("@/tests/helpers/guard-stand-in")).guardStandIn({ checkRole: false }));
 
 const list = await import("@/app/api/loops/[loopId]/backfills/route");
 const one = await import("@/app/api/loops/[loopId]/backfills/[jobId]/route");
@@ -59,7 +53,7 @@ beforeAll(async () => {
   ctx.services.set("pipeline", { name: "pipeline", backfill, health: () => ({ status: "ok" }), stop: async () => undefined } as unknown as Service);
   setServerContext(ctx);
   const user = await db.models.User.create({ email: "engineer@acme-test.example", name: "Engineer", passwordHash: "x" });
-  current = {
+  signInAs({
     userId: user.id,
     email: "engineer@acme-test.example",
     name: "Engineer",
@@ -67,7 +61,7 @@ beforeAll(async () => {
     tenantSlug: fx.a.slug,
     tenantName: "Acme",
     role: "engineer",
-  };
+  });
 });
 afterAll(async () => {
   setServerContext(null);

@@ -30,18 +30,9 @@ import { juryStable, juryTest } from "@/lib/control/jury";
 import { dominantPoleInto, newDominantPoleFigures, poleCharacteristics } from "@/lib/control/zplane";
 import type { ArxModel } from "@/lib/control/types";
 import { printCoverageTable } from "./coverage-table";
+import { mulberry32 } from "@/tests/control/seeded-random";
 
 // ---- data: seeded regressors and outputs (mulberry32), shared by every case -------------------
-function mulberry32(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
 const rand = mulberry32(12345);
 const ROWS = 4096; // power of two: index with & (ROWS - 1)
 const PHI8 = new Float64Array(ROWS * 8).map(() => rand() - 0.5);

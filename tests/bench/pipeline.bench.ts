@@ -32,6 +32,8 @@ import net from "node:net";
 import os from "node:os";
 import path from "node:path";
 import { monitorEventLoopDelay } from "node:perf_hooks";
+import { piTuning, testLoopConfig } from "@/tests/helpers/loop-config";
+import { startBenchDatabase } from "./bench-database";
 
 const here = import.meta.dirname;
 const root = path.resolve(here, "../..");
@@ -314,41 +316,6 @@ async function bare(scenarioFile: string, opts: { loops: number; hz: number; bat
   return { sim, received, lat: lat.summary(), loopDelay: delaySummary(loopDelay), spanS: (last - first) / 1000, brokerCpuS: (cpu.user + cpu.system) / 1e6, rss: process.memoryUsage().rss };
 }
 
-/** A throw-away MariaDB (temporary data directory, free port, stopped with this process) with the schema migrated. */
-async function startBenchDatabase() {
-  const { ensureMariaDb, freePort, rootConnection } = await import("@/scripts/mariadb-server");
-  const { createSequelize } = await import("@/lib/data/db/sequelize");
-  const { migrateUp } = await import("@/lib/data/db/migrate");
-  const dbDir = mkdtempSync(path.join(os.tmpdir(), "rg-bdb-"));
-  const handle = await ensureMariaDb({
-    dataDir: path.join(dbDir, "data"),
-    port: await freePort(),
-    socket: path.join(dbDir, "s.sock"),
-    ephemeral: true,
-    watchPid: process.pid,
-    removeOnExit: dbDir,
-    allowApt: false,
-    database: "rg_bench",
-    user: "rg_bench",
-    password: "bench-db-pw-0123",
-  });
-  // the bench has no tenant, site or loop rows: loop_states (keyed to loops) would refuse every write
-  const root = await rootConnection(handle.socket);
-  await root.query("SET GLOBAL foreign_key_checks = 0");
-  await root.end();
-  const sequelize = createSequelize({ socket: handle.socket, database: "rg_bench", user: "rg_bench", password: "bench-db-pw-0123" });
-  await migrateUp(sequelize);
-  const pid = Number(readFileSync(path.join(handle.dataDir, "mariadbd.pid"), "utf8").trim());
-  return {
-    sequelize,
-    pid,
-    async stop() {
-      await sequelize.close();
-      await handle.stop();
-      rmSync(dbDir, { recursive: true, force: true });
-    },
-  };
-}
 
 async function pipeline(scenarioFile: string, opts: { loops: number; hz: number; batch: number; seconds: number; warmup: number; watch: number; stateEvery: number; withStates: boolean; history: boolean }) {
   const { Server } = await import("socket.io");
@@ -396,28 +363,22 @@ async function pipeline(scenarioFile: string, opts: { loops: number; hz: number;
     const tag = cloneTag("FIC-900", i);
     routes.push({ loopId: i + 1, tenantId: 1, siteId: 1, tenantSlug: "sim-lab", siteSlug: "bench-1", loopSlug: slugify(tag) });
     const T = 1 / opts.hz;
-    configs.push({
-      id: i + 1,
-      tenantId: 1,
-      siteId: 1,
-      tag,
-      pvLo: 0,
-      pvHi: 100,
-      mvLo: 0,
-      mvHi: 100,
-      mvLimitLo: 0,
-      mvLimitHi: 100,
-      telemetryPeriodS: T,
-      controllerPeriodS: T,
-      // decimated to about 0.5 s, as the product's period proposal would for this plant
-      estimationPeriodS: Math.max(T, Math.round(0.5 / T) * T),
-      controller: { kp: 1.5, ti: 15, td: 0, tf: 0, action: "reverse" as const, form: "ideal" as const },
-      na: 1,
-      nb: 2,
-      nk: 5,
-    });
+    configs.push(
+      testLoopConfig({
+        id: i + 1,
+        tag,
+        telemetryPeriodS: T,
+        controllerPeriodS: T,
+        // decimated to about 0.5 s, as the product's period proposal would for this plant
+        estimationPeriodS: Math.max(T, Math.round(0.5 / T) * T),
+        controller: piTuning(1.5, 15),
+        na: 1,
+        nb: 2,
+        nk: 5,
+      }),
+    );
   }
-  const db = opts.history ? await startBenchDatabase() : null;
+  const db = opts.history ? await startBenchDatabase({ name: "rg_bench", foreignKeyChecks: false }) : null;
   const history = db ? await startHistory(ctx, { sequelize: db.sequelize, partitionEveryMs: 0 }) : null;
   const dbCpu0 = db ? (procStats(db.pid)?.cpuS ?? 0) : 0;
   let dbPeakRss = 0;

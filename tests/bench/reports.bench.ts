@@ -7,45 +7,15 @@
  *   - building one day's summaries for 2,000 loops from 1-minute history (1,440 rows per loop).
  * Figures are printed, never asserted. The summaries are invented bench data (seeded PRNG).
  */
-import { mkdtempSync, rmSync } from "node:fs";
-import os from "node:os";
-import path from "node:path";
 import { performance } from "node:perf_hooks";
 import type { Sequelize } from "sequelize";
+import { startBenchDatabase } from "./bench-database";
 
 const LOOPS = Number(process.env.BENCH_LOOPS ?? 2000);
 const DAY_MS = 86_400_000;
 const TO = Date.UTC(2026, 10, 30);
 const FROM = TO - 7 * DAY_MS;
 
-async function startBenchDatabase() {
-  const { ensureMariaDb, freePort } = await import("@/scripts/mariadb-server");
-  const { createSequelize } = await import("@/lib/data/db/sequelize");
-  const { migrateUp } = await import("@/lib/data/db/migrate");
-  const dbDir = mkdtempSync(path.join(os.tmpdir(), "rg-rbench-"));
-  const handle = await ensureMariaDb({
-    dataDir: path.join(dbDir, "data"),
-    port: await freePort(),
-    socket: path.join(dbDir, "s.sock"),
-    ephemeral: true,
-    watchPid: process.pid,
-    removeOnExit: dbDir,
-    allowApt: false,
-    database: "rg_rbench",
-    user: "rg_rbench",
-    password: "bench-db-pw-0123",
-  });
-  const sequelize = createSequelize({ socket: handle.socket, database: "rg_rbench", user: "rg_rbench", password: "bench-db-pw-0123" });
-  await migrateUp(sequelize);
-  return {
-    sequelize,
-    async stop() {
-      await sequelize.close();
-      await handle.stop();
-      rmSync(dbDir, { recursive: true, force: true });
-    },
-  };
-}
 
 function prng(seed: number) {
   let s = seed >>> 0;
@@ -94,7 +64,7 @@ async function median(fn: () => Promise<unknown>, n = 5): Promise<number> {
 }
 
 async function main(): Promise<void> {
-  const db = await startBenchDatabase();
+  const db = await startBenchDatabase({ name: "rg_rbench" });
   try {
     const { setSharedDb } = await import("@/lib/data/db/sequelize");
     const { initModels } = await import("@/models");

@@ -57,21 +57,12 @@ import { toLoopBrief } from "@/server/realtime/summary";
 import { historyColumns } from "@/lib/data/loop-history";
 import { artifactPath, CHROMIUM_ARGS, findChromium, type TestBrowser } from "../setup/browser";
 import { startTestServer } from "../setup/server";
+import { mulberry32 } from "@/tests/control/seeded-random";
 
 const N_LOOPS = 2000;
 const BASE_ID = 900_000;
 const UPDATE_MS = 500;
 
-function mulberry32(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
 const rand = mulberry32(20261201);
 
 function pole(r: number, th: number): PoleDto {

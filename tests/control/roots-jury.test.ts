@@ -5,18 +5,8 @@ import { polyEvalComplex, polyFromRoots } from "@/lib/control/poly";
 import { ControlArgumentError, NonFiniteInputError } from "@/lib/control/errors";
 import type { Complex } from "@/lib/control/types";
 import { maxMatchError } from "./root-match";
+import { mulberry32 } from "./seeded-random";
 
-/** mulberry32: small seeded PRNG (public-domain algorithm by T. Ettinger). */
-function mulberry32(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
 
 const abs = (z: Complex): number => Math.hypot(z.re, z.im);
 

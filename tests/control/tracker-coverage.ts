@@ -13,6 +13,7 @@ import { LoopTracker } from "@/server/tracking/loop-tracker";
 import type { LoopConfig } from "@/server/tracking/types";
 import { FakeClock } from "../tracking/helpers";
 import { mulberry32, normal } from "./seeded-random";
+import { piTuning, testLoopConfig } from "@/tests/helpers/loop-config";
 
 export interface CoveragePlant {
   name: string;
@@ -31,25 +32,7 @@ export const COMPLEX_PAIR: CoveragePlant = { name: "complex pair", plant: { a: [
 export const REAL_POLE: CoveragePlant = { name: "real dominant pole", plant: { a: [-1.4, 0.45], b: [0.2, 0.1], nk: 1, T: 1 }, kp: 0.5, ti: 20, noise: 0.3, stepEvery: 40 };
 
 export function coverageConfig(p: CoveragePlant): LoopConfig {
-  return {
-    id: 1,
-    tenantId: 1,
-    siteId: 1,
-    tag: "MC-1",
-    pvLo: 0,
-    pvHi: 100,
-    mvLo: 0,
-    mvHi: 100,
-    mvLimitLo: 0,
-    mvLimitHi: 100,
-    telemetryPeriodS: 1,
-    controllerPeriodS: 1,
-    estimationPeriodS: 1,
-    controller: { kp: p.kp, ti: p.ti, td: 0, tf: 0, action: "reverse", form: "ideal" },
-    na: p.plant.a.length,
-    nb: p.plant.b.length,
-    nk: p.plant.nk,
-  };
+  return testLoopConfig({ tag: "MC-1", controller: piTuning(p.kp, p.ti), na: p.plant.a.length, nb: p.plant.b.length, nk: p.plant.nk });
 }
 
 /** The true closed-loop poles' spectral radius and whether the dominant pole is real. */

@@ -2,6 +2,7 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { UniqueConstraintError, ForeignKeyConstraintError, ValidationError as SequelizeValidationError } from "sequelize";
 import { tuningSeconds } from "@/models";
 import { createTestDatabase, type TestDatabase } from "@/tests/setup/db";
+import { testLoopRow } from "@/tests/helpers/loop-row";
 
 let db: TestDatabase;
 beforeAll(async () => {
@@ -16,29 +17,16 @@ async function tenantWithLoop(slug: string) {
   const tenant = await Tenant.create({ slug, name: `Tenant ${slug}` });
   const site = await Site.create({ tenantId: tenant.id, slug: "north", name: "North Works" });
   const area = await Area.create({ tenantId: tenant.id, siteId: site.id, slug: "units", name: "Units" });
-  const loop = await Loop.create({
-    tenantId: tenant.id,
-    siteId: site.id,
-    areaId: area.id,
-    tag: "FIC-7",
-    slug: "fic-7",
-    kind: "flow",
-    units: "m3/h",
-    pvLo: 0,
-    pvHi: 100,
-    mvLimitLo: null,
-    mvLimitHi: null,
-    telemetryPeriodS: 0.5,
-    controllerPeriodS: 0.5,
-    gainValue: 1.2,
-    tiValue: 6,
-    tfS: null,
-    derivativeAlpha: null,
-    cascadeMasterLoopId: null,
-    estimationPeriodS: 1,
-    estimationProposedS: null,
-    baselineTimeConstantS: null,
-  });
+  const loop = await Loop.create(
+    testLoopRow({ tenantId: tenant.id, siteId: site.id, areaId: area.id }, {
+      tag: "FIC-7",
+      slug: "fic-7",
+      telemetryPeriodS: 0.5,
+      controllerPeriodS: 0.5,
+      gainValue: 1.2,
+      tiValue: 6,
+    }),
+  );
   return { tenant, site, area, loop };
 }
 

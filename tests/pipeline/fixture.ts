@@ -5,6 +5,7 @@
 import type { Models } from "@/models";
 import { hashDeviceSecret } from "@/lib/devices";
 import { TEST_PEPPER } from "./helpers";
+import { testLoopRow } from "@/tests/helpers/loop-row";
 
 export interface PipelineTenant {
   id: number;
@@ -18,34 +19,17 @@ export interface PipelineTenant {
 async function tenant(m: Models, slug: string): Promise<PipelineTenant> {
   const t = await m.Tenant.create({ slug, name: `${slug} Works` });
   const site = await m.Site.create({ tenantId: t.id, slug: "north", name: "North Plant" });
-  const loop = await m.Loop.create({
-    tenantId: t.id,
-    siteId: site.id,
-    areaId: null,
-    tag: "FIC-101",
-    slug: "fic-101",
-    description: "Feed flow",
-    kind: "flow",
-    units: "m3/h",
-    pvLo: 0,
-    pvHi: 100,
-    mvLimitLo: null,
-    mvLimitHi: null,
-    telemetryPeriodS: 1,
-    controllerPeriodS: 1,
-    gainValue: 0.5,
-    tiValue: 8,
-    tfS: null,
-    derivativeAlpha: null,
-    cascadeMasterLoopId: null,
-    // The fixture plant is first order: a first-order ARX keeps the regressors well conditioned.
-    na: 1,
-    nb: 1,
-    nk: 1,
-    estimationPeriodS: 1,
-    estimationProposedS: null,
-    baselineTimeConstantS: null,
-  });
+  const loop = await m.Loop.create(
+    testLoopRow({ tenantId: t.id, siteId: site.id, areaId: null }, {
+      description: "Feed flow",
+      gainValue: 0.5,
+      tiValue: 8,
+      // The fixture plant is first order: a first-order ARX keeps the regressors well conditioned.
+      na: 1,
+      nb: 1,
+      nk: 1,
+    }),
+  );
   const device = { keyId: `${slug}-gw1`, secret: `${slug}-device-secret-0123456789`, clientId: `${slug}-gw1` };
   await m.DeviceCredential.create({
     tenantId: t.id,

@@ -12,26 +12,9 @@ import { Bus } from "@/server/context";
 import { TrackerRegistry } from "@/server/tracking/registry";
 import type { LoopConfig } from "@/server/tracking/types";
 import { allNumbers } from "../tracking/helpers";
+import { piTuning, testLoopConfig } from "@/tests/helpers/loop-config";
 
-const loopConfig = (id: number): LoopConfig => ({
-  id,
-  tenantId: 1,
-  siteId: 10,
-  tag: `FIC-10${id - 1}`,
-  pvLo: 0,
-  pvHi: 100,
-  mvLo: 0,
-  mvHi: 100,
-  mvLimitLo: 0,
-  mvLimitHi: 100,
-  telemetryPeriodS: 1,
-  controllerPeriodS: 1,
-  estimationPeriodS: 1,
-  controller: { kp: 0.5, ti: 8, td: 0, tf: 0, action: "reverse", form: "ideal" },
-  na: 2,
-  nb: 2,
-  nk: 1,
-});
+const loopConfig = (id: number): LoopConfig => testLoopConfig({ id, siteId: 10, tag: `FIC-10${id - 1}`, controller: piTuning(0.5, 8) });
 
 // Fuzzing the telemetry contract (docs/architecture.md §5) with fast-check: every hostile message is
 // generated together with the outcome the contract prescribes; the server must stay up, count

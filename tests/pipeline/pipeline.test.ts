@@ -10,6 +10,7 @@ import type { SampleDto } from "@/lib/domain/types";
 import { createTestDatabase, type TestDatabase } from "../setup/db";
 import { createPipelineFixture, PiLoop, type PipelineTenant } from "./fixture";
 import { ManualClock, testContext } from "./helpers";
+import { testLoopRow } from "@/tests/helpers/loop-row";
 
 // The live pipeline against a real MariaDB (tests/setup/db.ts) and a real aedes broker on port 0.
 // History tier rules restate docs/architecture.md §6; aggregates are checked against the raw samples sent.
@@ -210,29 +211,16 @@ describe("live pipeline with MariaDB", () => {
     const ctx = testContext(clock);
     const p = await startPipeline(ctx, { sequelize: db.sequelize, broker: { host: "127.0.0.1", port: 0, mqttUrl: null }, history: { partitionEveryMs: 0 } });
     try {
-      const loop = await db.models.Loop.create({
-        tenantId: a.id,
-        siteId: a.siteId,
-        areaId: null,
-        tag: "TIC 2.04/B",
-        slug: "tic-2-04-b",
-        kind: "temperature",
-        units: "degC",
-        pvLo: 0,
-        pvHi: 200,
-        mvLimitLo: null,
-        mvLimitHi: null,
-        telemetryPeriodS: 1,
-        controllerPeriodS: 1,
-        gainValue: 1,
-        tiValue: 30,
-        tfS: null,
-        derivativeAlpha: null,
-        cascadeMasterLoopId: null,
-        estimationPeriodS: 1,
-        estimationProposedS: null,
-        baselineTimeConstantS: null,
-      });
+      const loop = await db.models.Loop.create(
+        testLoopRow({ tenantId: a.id, siteId: a.siteId, areaId: null }, {
+          tag: "TIC 2.04/B",
+          slug: "tic-2-04-b",
+          kind: "temperature",
+          units: "degC",
+          pvHi: 200,
+          tiValue: 30,
+        }),
+      );
       const t = `rg/${a.slug}/north/tic-2-04-b/samples`;
       const s = (k: number) => JSON.stringify({ t: clock.now() - 10_000 + k, sp: 80, pv: 79, mv: 20, mode: "auto" });
       expect(p.ingest.handle({ topic: t, payload: s(0), device: identity(a) }).rejected).toEqual({ "unknown-loop": 1 });

@@ -12,21 +12,14 @@ import os from "node:os";
 import path from "node:path";
 import { afterAll, beforeAll, describe, expect, it, vi } from "vitest";
 import { publicOrigin } from "@/lib/config";
-import { ForbiddenError } from "@/lib/domain/errors";
 import { handoverDocument } from "@/lib/reports/document";
 import type { Handover } from "@/lib/reports/handover";
-import { roleAtLeast, type Role, type TenantContext } from "@/lib/domain/types";
+import type { Role } from "@/lib/domain/types";
 import { createFixture, type Fixture } from "../alarms/helpers";
 import { createTestDatabase, type TestDatabase } from "../setup/db";
+import { signInAs } from "@/tests/helpers/guard-stand-in";
 
-let current: TenantContext | null = null;
-vi.mock("@/lib/auth/guard", () => ({
-  requireContext: async (min: Role = "viewer") => {
-    if (!current) throw new (await import("@/lib/domain/errors")).UnauthenticatedError();
-    if (!roleAtLeast(current.role, min)) throw new ForbiddenError(`needs ${min}`);
-    return current;
-  },
-}));
+vi.mock("@/lib/auth/guard", async () => (await import("@/tests/helpers/guard-stand-in")).guardStandIn());
 
 const notesRoute = await import("@/app/api/notes/route");
 const timelineRoute = await import("@/app/api/loops/[loopId]/timeline/route");
@@ -38,7 +31,7 @@ const get = (p: string) => new Request(url(p));
 const post = (p: string, body: unknown) =>
   new Request(url(p), { method: "POST", headers: { "content-type": "application/json", origin: publicOrigin() }, body: JSON.stringify(body) });
 const as = (role: Role | "outsider") => {
-  current = role === "outsider" ? fx.outsider : fx.users[role];
+  signInAs(role === "outsider" ? fx.outsider : fx.users[role]);
 };
 const Z = (s: string) => Date.parse(s);
 

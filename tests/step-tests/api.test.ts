@@ -8,23 +8,16 @@
 import { ListObjectsV2Command } from "@aws-sdk/client-s3";
 import { afterAll, beforeAll, describe, expect, it, vi } from "vitest";
 import { getConfig, publicOrigin } from "@/lib/config";
-import { ForbiddenError } from "@/lib/domain/errors";
 import { setServerContext } from "@/lib/data/server-context";
-import { roleAtLeast, type Role, type TenantContext } from "@/lib/domain/types";
+import type { Role } from "@/lib/domain/types";
 import { Bus, systemClock, type ServerContext } from "@/server/context";
 import { startObjectStore, type ObjectStoreService } from "@/server/objectstore";
 import { createFixture, type Fixture } from "../alarms/helpers";
 import { createTestDatabase, type TestDatabase } from "../setup/db";
 import { stepTestCsv } from "./simulate";
+import { signInAs } from "@/tests/helpers/guard-stand-in";
 
-let current: TenantContext | null = null;
-vi.mock("@/lib/auth/guard", () => ({
-  requireContext: async (min: Role = "viewer") => {
-    if (!current) throw new (await import("@/lib/domain/errors")).UnauthenticatedError();
-    if (!roleAtLeast(current.role, min)) throw new ForbiddenError(`needs ${min}`);
-    return current;
-  },
-}));
+vi.mock("@/lib/auth/guard", async () => (await import("@/tests/helpers/guard-stand-in")).guardStandIn());
 
 const list = await import("@/app/api/loops/[loopId]/step-tests/route");
 const one = await import("@/app/api/loops/[loopId]/step-tests/[stepTestId]/route");
@@ -59,7 +52,7 @@ const CSV =
 
 const url = (p: string) => `http://127.0.0.1${p}`;
 const as = (role: Role | "outsider" | null) => {
-  current = role === null ? null : role === "outsider" ? fx.outsider : fx.users[role];
+  signInAs(role === null ? null : role === "outsider" ? fx.outsider : fx.users[role]);
 };
 const lp = (loopId: number) => ({ params: Promise.resolve({ loopId: String(loopId) }) });
 const sp = (loopId: number, stepTestId: number | string) => ({ params: Promise.resolve({ loopId: String(loopId), stepTestId: String(stepTestId) }) });

@@ -4,11 +4,11 @@ import type { LoopStateDto, SampleDto } from "@/lib/domain/types";
 import { Bus } from "@/server/context";
 import { LoopTracker } from "@/server/tracking/loop-tracker";
 import { TrackerRegistry } from "@/server/tracking/registry";
-import type { LoopConfig } from "@/server/tracking/types";
 import { buildFleet } from "@/simulators/fleet";
 import type { LoopSim } from "@/simulators/loop-sim";
 import { loadScenario } from "@/simulators/scenario";
 import { allNumbers, FakeClock, trackerConfigFor } from "./helpers";
+import { testLoopConfig } from "@/tests/helpers/loop-config";
 
 const scenarioDir = path.join(import.meta.dirname, "../../simulators/scenarios");
 
@@ -139,25 +139,7 @@ describe("staleness with batched delivery", () => {
 });
 
 describe("hostile but valid telemetry", () => {
-  const cfg: LoopConfig = {
-    id: 3,
-    tenantId: 1,
-    siteId: 1,
-    tag: "FIC-3",
-    pvLo: 0,
-    pvHi: 100,
-    mvLo: 0,
-    mvHi: 100,
-    mvLimitLo: 0,
-    mvLimitHi: 100,
-    telemetryPeriodS: 1,
-    controllerPeriodS: 1,
-    estimationPeriodS: 1,
-    controller: { kp: 1, ti: 10, td: 0, tf: 0, action: "reverse", form: "ideal" },
-    na: 2,
-    nb: 2,
-    nk: 1,
-  };
+  const cfg = testLoopConfig({ id: 3, tag: "FIC-3" });
   const streams: Record<string, (k: number) => Omit<SampleDto, "t">> = {
     constant: () => ({ sp: 50, pv: 50, mv: 50, mode: "auto" }),
     "huge values": (k) => ({ sp: 1e300, pv: k % 2 ? 1e300 : -1e300, mv: k % 3 ? 1e250 : -1e250, mode: "auto" }),

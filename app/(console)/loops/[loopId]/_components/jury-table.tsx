@@ -4,6 +4,7 @@
  * rows; the verdict is the tracker's (the loop's assessment), so page and alarms agree.
  */
 import { juryTest } from "@/lib/control/jury";
+import { right, TableHead } from "@/app/_components/table-head";
 
 export function polynomialText(c: number[]): string {
   const n = c.length - 1;
@@ -50,13 +51,7 @@ export function JuryTable({ characteristic, stable, rimUndecided }: { characteri
       </p>
       <table className="w-full text-sm" data-testid="jury-conditions">
         <caption className="sr-only">Jury conditions</caption>
-        <thead>
-          <tr className="border-b border-line text-left text-muted">
-            <th className="py-1 font-normal">condition</th>
-            <th className="py-1 text-right font-normal">value</th>
-            <th className="py-1 pl-3 font-normal">holds</th>
-          </tr>
-        </thead>
+        <TableHead columns={["condition", right("value"), { label: "holds", className: "pl-3" }]} cell="py-1" />
         <tbody>
           {result.conditions.map((c, i) => (
             <tr key={i} className="border-b border-line/50">

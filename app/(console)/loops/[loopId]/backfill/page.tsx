@@ -1,9 +1,9 @@
-import Link from "next/link";
 import { notFound, redirect } from "next/navigation";
 import { LoopBackfill } from "@/app/_components/loop-backfill";
 import { getLoopConfig } from "@/lib/data/admin/loops";
 import { getContextOrNull } from "@/lib/auth/guard";
 import { roleAtLeast } from "@/lib/domain/types";
+import { LoopSubpageTitle } from "../_components/loop-subpage-title";
 
 export const dynamic = "force-dynamic";
 export const metadata = { title: "Historian backfill · Rimguard" };
@@ -18,14 +18,7 @@ export default async function BackfillPage({ params }: { params: Promise<{ loopI
   if (!cfg) notFound();
   return (
     <div className="flex flex-col gap-4">
-      <div className="flex flex-wrap items-baseline gap-3">
-        <h1 className="text-xl font-semibold">
-          Historian backfill · <span className="font-mono">{cfg.tag}</span>
-        </h1>
-        <Link href={`/loops/${id}`} className="text-sm text-accent underline">
-          back to the loop
-        </Link>
-      </div>
+      <LoopSubpageTitle title="Historian backfill" loopId={id} tag={cfg.tag} />
       <p className="max-w-3xl text-sm text-muted">
         Upload an export of this loop&apos;s past samples (columns t, sp, pv, mv and optionally mode and quality; t as ISO 8601 with a zone or epoch
         seconds; in time order). Each sample is checked like live telemetry, written to the history, and replayed through the loop&apos;s tracker so

@@ -1,10 +1,10 @@
-import Link from "next/link";
 import { notFound, redirect } from "next/navigation";
 import { getLoopConfig } from "@/lib/data/admin/loops";
 import { getContextOrNull } from "@/lib/auth/guard";
 import { listStepTests } from "@/lib/step-tests/service";
 import { roleAtLeast } from "@/lib/domain/types";
 import { StepTestsView } from "./_components/step-tests-view";
+import { LoopSubpageTitle } from "../_components/loop-subpage-title";
 
 export const dynamic = "force-dynamic";
 export const metadata = { title: "Step tests · Rimguard" };
@@ -21,14 +21,7 @@ export default async function StepTestsPage({ params, searchParams }: { params: 
   const selected = tests.find((t) => t.id === wanted)?.id ?? tests[0]?.id ?? null;
   return (
     <div className="flex flex-col gap-4">
-      <div className="flex flex-wrap items-baseline gap-3">
-        <h1 className="text-xl font-semibold">
-          Step tests · <span className="font-mono">{cfg.tag}</span>
-        </h1>
-        <Link href={`/loops/${id}`} className="text-sm text-accent underline">
-          back to the loop
-        </Link>
-      </div>
+      <LoopSubpageTitle title="Step tests" loopId={id} tag={cfg.tag} />
       <p className="max-w-3xl text-sm text-muted">
         Upload the log of an MV bump in manual (or of set-point steps in auto). Rimguard identifies the plant from MV to PV,
         summarises it as gain, time constant and dead time, and proposes the estimation period and model structure its live

@@ -1,20 +1,10 @@
 /** POST /api/alarms/[alarmId]/acknowledge { comment } — operator or higher; a comment is required for an urgent alarm. */
-import { NextResponse } from "next/server";
-import { z } from "zod";
-import { text } from "@/lib/text-input";
-import { alarmApi } from "@/lib/data/server-context";
-import { parseId, handle, parseBody } from "@/lib/http";
-import { assertAlarmVisible } from "@/lib/data/alarms/scope";
-import { requireContext } from "@/lib/auth/guard";
+import { alarmActionRoute, commentBody } from "@/lib/data/alarms/action-route";
 
 export const dynamic = "force-dynamic";
 
-const body = z.object({ comment: text().max(1000).nullish() });
-
-export const POST = handle(async (req: Request, { params }: { params: Promise<{ alarmId: string }> }) => {
-  const ctx = await requireContext("operator");
-  const id = parseId((await params).alarmId, "alarm id");
-  await assertAlarmVisible(ctx, id);
-  const b = await parseBody(req, body);
-  return NextResponse.json({ alarm: alarmApi().acknowledge(ctx, id, b.comment ?? null) });
+export const POST = alarmActionRoute({
+  role: "operator",
+  body: commentBody,
+  act: (api, ctx, id, b) => api.acknowledge(ctx, id, b.comment ?? null),
 });

@@ -1,20 +1,12 @@
 /** POST /api/alarms/[alarmId]/out-of-service { reason } — engineer or higher. */
-import { NextResponse } from "next/server";
 import { z } from "zod";
 import { text } from "@/lib/text-input";
-import { alarmApi } from "@/lib/data/server-context";
-import { parseId, handle, parseBody } from "@/lib/http";
-import { assertAlarmVisible } from "@/lib/data/alarms/scope";
-import { requireContext } from "@/lib/auth/guard";
+import { alarmActionRoute } from "@/lib/data/alarms/action-route";
 
 export const dynamic = "force-dynamic";
 
-const body = z.object({ reason: text().trim().min(1, "a reason is required").max(1000) });
-
-export const POST = handle(async (req: Request, { params }: { params: Promise<{ alarmId: string }> }) => {
-  const ctx = await requireContext("engineer");
-  const id = parseId((await params).alarmId, "alarm id");
-  await assertAlarmVisible(ctx, id);
-  const b = await parseBody(req, body);
-  return NextResponse.json({ alarm: alarmApi().removeFromService(ctx, id, b.reason) });
+export const POST = alarmActionRoute({
+  role: "engineer",
+  body: z.object({ reason: text().trim().min(1, "a reason is required").max(1000) }),
+  act: (api, ctx, id, b) => api.removeFromService(ctx, id, b.reason),
 });

@@ -1,20 +1,11 @@
 /** POST /api/alarms/[alarmId]/return-to-service { comment? } — engineer or higher. */
-import { NextResponse } from "next/server";
-import { z } from "zod";
-import { text } from "@/lib/text-input";
-import { alarmApi } from "@/lib/data/server-context";
-import { parseId, parseOptionalBody, handle } from "@/lib/http";
-import { assertAlarmVisible } from "@/lib/data/alarms/scope";
-import { requireContext } from "@/lib/auth/guard";
+import { alarmActionRoute, commentBody } from "@/lib/data/alarms/action-route";
 
 export const dynamic = "force-dynamic";
 
-const body = z.object({ comment: text().max(1000).nullish() });
-
-export const POST = handle(async (req: Request, { params }: { params: Promise<{ alarmId: string }> }) => {
-  const ctx = await requireContext("engineer");
-  const id = parseId((await params).alarmId, "alarm id");
-  await assertAlarmVisible(ctx, id);
-  const b = await parseOptionalBody(req, body);
-  return NextResponse.json({ alarm: alarmApi().returnToService(ctx, id, b.comment ?? null) });
+export const POST = alarmActionRoute({
+  role: "engineer",
+  body: commentBody,
+  optionalBody: true,
+  act: (api, ctx, id, b) => api.returnToService(ctx, id, b.comment ?? null),
 });

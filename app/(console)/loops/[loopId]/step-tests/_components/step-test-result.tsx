@@ -5,6 +5,7 @@ import { sendJson } from "@/lib/client/fetcher";
 import { fmt, fmtSeconds } from "@/lib/client/format";
 import type { StepTestDetail } from "@/lib/step-tests/service";
 import { StepTestChart } from "./step-test-chart";
+import { right, TableHead } from "@/app/_components/table-head";
 
 export interface LoopInfo {
   tag: string;
@@ -98,15 +99,7 @@ export function StepTestResultView({
           </p>
           <table className="mt-2 text-sm">
             <caption className="text-left text-xs text-muted">Plant poles</caption>
-            <thead className="text-muted">
-              <tr>
-                <th className="pr-3 text-right font-normal">z</th>
-                <th className="pr-3 text-right font-normal">|z|</th>
-                <th className="pr-3 text-right font-normal">time constant</th>
-                <th className="pr-3 text-right font-normal">ζ</th>
-                <th className="text-right font-normal">ωn (rad/s)</th>
-              </tr>
-            </thead>
+            <TableHead columns={["z", "|z|", "time constant", "ζ", "ωn (rad/s)"].map(right)} theadClassName="text-muted" rowClassName="" cell="pr-3" lastCell="" />
             <tbody>
               {c.poles.map((p, i) => (
                 <tr key={i}>
@@ -128,15 +121,7 @@ export function StepTestResultView({
       <details className="text-sm">
         <summary className="cursor-pointer">Structures compared ({r.identification.candidates.length}; best 8 by FPE)</summary>
         <table className="mt-1">
-          <thead className="text-muted">
-            <tr>
-              <th className="pr-3 text-right font-normal">na</th>
-              <th className="pr-3 text-right font-normal">nb</th>
-              <th className="pr-3 text-right font-normal">nk</th>
-              <th className="pr-3 text-right font-normal">FPE</th>
-              <th className="text-right font-normal">fit %</th>
-            </tr>
-          </thead>
+          <TableHead columns={["na", "nb", "nk", "FPE", "fit %"].map(right)} theadClassName="text-muted" rowClassName="" cell="pr-3" lastCell="" />
           <tbody>
             {best.map((x) => (
               <tr key={`${x.na}-${x.nb}-${x.nk}`} className={x.na === m.a.length && x.nb === m.b.length && x.nk === m.nk ? "font-semibold" : ""}>
