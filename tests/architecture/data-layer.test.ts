@@ -23,10 +23,10 @@ const HOME = "lib/data";
  */
 const TEMPORARILY_ALLOWED = ["lib/reports", "lib/work-list"];
 
-/** The model classes defined in models/ (`export class X extends Model`). */
+/** The model classes defined in models/ (`export class X extends Model`, or a shared base such as `Row<X>`). */
 function modelNames(): string[] {
   return sources("models").flatMap((f) =>
-    [...fs.readFileSync(path.join(ROOT, f), "utf8").matchAll(/export class (\w+) extends Model\b/g)].map((m) => m[1]!),
+    [...fs.readFileSync(path.join(ROOT, f), "utf8").matchAll(/export class (\w+) extends (?:Model|\w+<\1>)\W/g)].map((m) => m[1]!),
   );
 }
 
