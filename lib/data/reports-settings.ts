@@ -1,0 +1,49 @@
+/**
+ * A site's shift settings (sites.time_zone, sites.shift_starts) and membership site scopes, read
+ * and written inside the caller's transaction. Node only; plain rows out.
+ */
+import { QueryTypes, type Transaction } from "sequelize";
+import { getSequelize } from "@/lib/db/sequelize";
+
+export interface SiteShiftSettingsRow {
+  id: number;
+  name: string;
+  timeZone: string;
+  shiftStarts: string | null;
+}
+
+/** A site of the tenant (locked for update inside a transaction), or undefined. */
+export async function siteShiftSettings(tenantId: number, siteId: number, transaction?: Transaction): Promise<SiteShiftSettingsRow | undefined> {
+  const [r] = await getSequelize().query<{ id: number; name: string; time_zone: string; shift_starts: string | null }>(
+    `SELECT id, name, time_zone, shift_starts FROM sites WHERE id = ? AND tenant_id = ?${transaction ? " FOR UPDATE" : ""}`,
+    { replacements: [siteId, tenantId], type: QueryTypes.SELECT, transaction },
+  );
+  return r && { id: Number(r.id), name: r.name, timeZone: r.time_zone, shiftStarts: r.shift_starts };
+}
+
+export async function updateSiteShiftSettings(tenantId: number, siteId: number, timeZone: string, shiftStarts: string, transaction: Transaction): Promise<void> {
+  await getSequelize().query("UPDATE sites SET time_zone = ?, shift_starts = ?, updated_at = UTC_TIMESTAMP(3) WHERE id = ? AND tenant_id = ?", {
+    replacements: [timeZone, shiftStarts, siteId, tenantId],
+    transaction,
+  });
+}
+
+/** Every site's shift settings of a tenant, by name. */
+export async function tenantShiftSettings(tenantId: number): Promise<SiteShiftSettingsRow[]> {
+  const rows = await getSequelize().query<{ id: number; name: string; time_zone: string; shift_starts: string | null }>(
+    "SELECT id, name, time_zone, shift_starts FROM sites WHERE tenant_id = ? ORDER BY name",
+    { replacements: [tenantId], type: QueryTypes.SELECT },
+  );
+  return rows.map((r) => ({ id: Number(r.id), name: r.name, timeZone: r.time_zone, shiftStarts: r.shift_starts }));
+}
+
+/** Site scope of every membership of a tenant that has one (membership id -> site ids). */
+export async function membershipSiteScopes(tenantId: number): Promise<Map<number, number[]>> {
+  const rows = await getSequelize().query<{ membership_id: number; site_id: number }>(
+    "SELECT ms.membership_id, ms.site_id FROM membership_sites ms JOIN memberships m ON m.id = ms.membership_id WHERE m.tenant_id = ? ORDER BY ms.site_id",
+    { replacements: [tenantId], type: QueryTypes.SELECT },
+  );
+  const out = new Map<number, number[]>();
+  for (const r of rows) (out.get(Number(r.membership_id)) ?? out.set(Number(r.membership_id), []).get(Number(r.membership_id))!).push(Number(r.site_id));
+  return out;
+}
