@@ -50,7 +50,9 @@ export function LoopTimeline({ loopId, role }: { loopId: number; role: Role }) {
   }
 
   return (
-    <section className="flex min-h-0 flex-col gap-2 rounded-md border border-line bg-surface p-2" aria-label="Timeline">
+    // Wide screens: sized by its grid row (the trends' height less the z-plane), never by its
+    // items (contain: size), so the list scrolls inside instead of stretching the page.
+    <section className="flex min-h-0 flex-col gap-2 rounded-md border border-line bg-surface p-2 xl:min-h-64 xl:[contain:size]" aria-label="Timeline" data-testid="loop-timeline-panel">
       <h2 className="font-semibold">
         Timeline <span className="text-sm font-normal text-muted">last 7 days</span>
       </h2>
@@ -78,7 +80,7 @@ export function LoopTimeline({ loopId, role }: { loopId: number; role: Role }) {
       {error && <p className="text-sm text-urgent">Could not load the timeline: {(error as Error).message}</p>}
       {isLoading && <p className="text-sm text-muted">Loading…</p>}
       {data && data.items.length === 0 && <p className="text-sm text-muted">Nothing happened on this loop in the last 7 days.</p>}
-      <ol className="max-h-[420px] divide-y divide-line overflow-y-auto text-sm" data-testid="loop-timeline">
+      <ol className="max-h-[420px] min-h-0 divide-y divide-line overflow-y-auto text-sm xl:max-h-none xl:flex-1" data-testid="loop-timeline">
         {data?.items.map((i, k) => (
           <li key={`${i.kind}-${i.refId ?? k}-${i.at}`} className="flex gap-2 py-1.5">
             <KindGlyph kind={i.kind} />
@@ -86,6 +88,12 @@ export function LoopTimeline({ loopId, role }: { loopId: number; role: Role }) {
               <div className="flex flex-wrap gap-x-2">
                 <span className="text-xs uppercase tracking-wide text-muted">{KIND_WORD[i.kind]}</span>
                 <span>{i.title}</span>
+                {i.repeats && i.repeats > 1 && (
+                  <span className="text-xs text-muted" title={i.firstAt ? `first at ${fmtTime(i.firstAt)}` : undefined}>
+                    ×{i.repeats}
+                    {i.firstAt ? ` since ${fmtTime(i.firstAt)}` : ""}
+                  </span>
+                )}
               </div>
               {i.detail && <p className="whitespace-pre-wrap break-words text-muted">{i.detail}</p>}
               <p className="num font-mono text-xs text-muted">
