@@ -47,3 +47,31 @@ export async function membershipSiteScopes(tenantId: number): Promise<Map<number
   for (const r of rows) (out.get(Number(r.membership_id)) ?? out.set(Number(r.membership_id), []).get(Number(r.membership_id))!).push(Number(r.site_id));
   return out;
 }
+
+/** A membership of the tenant (locked for update) with its user, or undefined. */
+export async function membershipForUpdate(tenantId: number, membershipId: number, transaction: Transaction): Promise<{ id: number; userId: number } | undefined> {
+  const [m] = await getSequelize().query<{ id: number; user_id: number }>("SELECT id, user_id FROM memberships WHERE id = ? AND tenant_id = ? FOR UPDATE", {
+    replacements: [membershipId, tenantId],
+    type: QueryTypes.SELECT,
+    transaction,
+  });
+  return m && { id: Number(m.id), userId: Number(m.user_id) };
+}
+
+/** How many of the given site ids are sites of the tenant. */
+export async function countTenantSites(tenantId: number, siteIds: number[], transaction: Transaction): Promise<number> {
+  if (!siteIds.length) return 0;
+  const found = await getSequelize().query<{ id: number }>("SELECT id FROM sites WHERE tenant_id = ? AND id IN (?)", { replacements: [tenantId, siteIds], type: QueryTypes.SELECT, transaction });
+  return found.length;
+}
+
+/** Replace a membership's site scope; returns the site ids it had before. */
+export async function replaceMembershipSites(membershipId: number, siteIds: number[], transaction: Transaction): Promise<number[]> {
+  const db = getSequelize();
+  const before = await db.query<{ site_id: number }>("SELECT site_id FROM membership_sites WHERE membership_id = ?", { replacements: [membershipId], type: QueryTypes.SELECT, transaction });
+  await db.query("DELETE FROM membership_sites WHERE membership_id = ?", { replacements: [membershipId], transaction });
+  if (siteIds.length) {
+    await db.query(`INSERT INTO membership_sites (membership_id, site_id) VALUES ${siteIds.map(() => "(?,?)").join(",")}`, { replacements: siteIds.flatMap((s) => [membershipId, s]), transaction });
+  }
+  return before.map((b) => Number(b.site_id));
+}
