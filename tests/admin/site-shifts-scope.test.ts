@@ -8,21 +8,14 @@
 import { QueryTypes } from "sequelize";
 import { afterAll, beforeAll, describe, expect, it, vi } from "vitest";
 import { publicOrigin } from "@/lib/config";
-import { ForbiddenError } from "@/lib/domain/errors";
-import { roleAtLeast, type Role, type TenantContext } from "@/lib/domain/types";
+import type { TenantContext } from "@/lib/domain/types";
 import { resolveShift, siteShiftInfo } from "@/lib/reports/handover";
 import { shiftStartProblems } from "@/lib/reports/shifts";
 import { createFixture, type Fixture } from "../alarms/helpers";
 import { createTestDatabase, type TestDatabase } from "../setup/db";
 
 let current: TenantContext | null = null;
-vi.mock("@/lib/auth/guard", () => ({
-  requireContext: async (min: Role = "viewer") => {
-    if (!current) throw new (await import("@/lib/domain/errors")).UnauthenticatedError();
-    if (!roleAtLeast(current.role, min)) throw new ForbiddenError(`needs ${min}`);
-    return current;
-  },
-}));
+vi.mock("@/lib/auth/guard", async () => (await import("../setup/guard-stand-in")).guardStandIn(() => current));
 vi.mock("@/lib/server-context", async (orig) => ({ ...(await orig<object>()), notifyUserChanged: () => {} }));
 
 const shiftsRoute = await import("@/app/api/admin/sites/[siteId]/shifts/route");

@@ -16,9 +16,8 @@ import path from "node:path";
 import { QueryTypes } from "sequelize";
 import { renderToStaticMarkup } from "react-dom/server";
 import { afterAll, beforeAll, describe, expect, it, vi } from "vitest";
-import { ForbiddenError } from "@/lib/domain/errors";
 import type { LoopFinding } from "@/lib/domain/findings";
-import { roleAtLeast, type Role, type TenantContext } from "@/lib/domain/types";
+import type { TenantContext } from "@/lib/domain/types";
 import { buildFleetHealth, type FleetHealth } from "@/lib/reports/fleet-health";
 import { fleetHealthDocument } from "@/lib/reports/fleet-health-document";
 import type { LiveFindingSource } from "@/lib/reports/summaries";
@@ -28,14 +27,7 @@ import { createFixture, FakeClock, testContext, type Fixture } from "../alarms/h
 import { createTestDatabase, type TestDatabase } from "../setup/db";
 
 let current: TenantContext | null = null;
-vi.mock("@/lib/auth/guard", () => ({
-  requireContext: async (min: Role = "viewer") => {
-    if (!current) throw new (await import("@/lib/domain/errors")).UnauthenticatedError();
-    if (!roleAtLeast(current.role, min)) throw new ForbiddenError(`needs ${min}`);
-    return current;
-  },
-  getContextOrNull: async () => current,
-}));
+vi.mock("@/lib/auth/guard", async () => (await import("../setup/guard-stand-in")).guardStandIn(() => current));
 
 const route = await import("@/app/api/reports/fleet-health/route");
 const page = (await import("@/app/(console)/reports/fleet-health/page")).default;

@@ -7,6 +7,7 @@ import { useRouter } from "next/navigation";
 import { useState } from "react";
 import { sendJson } from "@/lib/client/fetcher";
 import type { SubscriptionDto } from "@/lib/reports/delivery";
+import { AreaSelect } from "./area-select";
 
 const NAMES: Record<string, string> = { handover: "Shift handover", "worst-loops": "Worst loops", "fleet-health": "Fleet health" };
 
@@ -94,14 +95,7 @@ export function SubscriptionsForm({ subscriptions, sites }: { subscriptions: Sub
         </label>
         <label className="flex flex-col text-muted">
           Area
-          <select value={areaId} onChange={(e) => setAreaId(e.target.value)} className={field} disabled={!siteId}>
-            <option value="">{siteId ? "every area of the site" : "—"}</option>
-            {areas.map((a) => (
-              <option key={a.id} value={a.id}>
-                {a.name}
-              </option>
-            ))}
-          </select>
+          <AreaSelect value={areaId} onChange={setAreaId} areas={areas} emptyLabel={siteId ? "every area of the site" : "—"} className={field} disabled={!siteId} />
         </label>
         <button type="submit" className="rounded border border-line px-3 py-1">
           Send it to me {report === "handover" ? "after every shift" : "weekly"}
