@@ -8,7 +8,6 @@ import type { Sequelize } from "sequelize";
 import { z } from "zod";
 import { deleteSubscription, insertSubscription, selectSubscriptions } from "@/lib/data/reports-delivery";
 import { siteAndAreaExist } from "@/lib/data/reports-log";
-import { getSequelize } from "@/lib/db/sequelize";
 import { NotFoundError } from "@/lib/domain/errors";
 
 export type ReportKind = "handover" | "worst-loops" | "fleet-health";
@@ -36,14 +35,14 @@ export interface SubscriptionDto {
   areaName: string | null;
 }
 
-export async function listMySubscriptions(ctx: { tenantId: number; userId: number }, db: Sequelize = getSequelize()): Promise<SubscriptionDto[]> {
+export async function listMySubscriptions(ctx: { tenantId: number; userId: number }, db?: Sequelize): Promise<SubscriptionDto[]> {
   return selectSubscriptions(ctx.tenantId, ctx.userId, db);
 }
 
 export async function subscribe(
   ctx: { tenantId: number; userId: number; siteIds?: number[] | null },
   input: z.infer<typeof subscriptionInputSchema>,
-  db: Sequelize = getSequelize(),
+  db?: Sequelize,
 ): Promise<SubscriptionDto> {
   if (input.siteId !== undefined) {
     const found = await siteAndAreaExist(ctx.tenantId, input.siteId, input.areaId, db);
@@ -60,6 +59,6 @@ export async function subscribe(
 }
 
 /** Remove one of the caller's own subscriptions (another user's or tenant's is a 404). */
-export async function unsubscribe(ctx: { tenantId: number; userId: number }, id: number, db: Sequelize = getSequelize()): Promise<void> {
+export async function unsubscribe(ctx: { tenantId: number; userId: number }, id: number, db?: Sequelize): Promise<void> {
   if (!(await deleteSubscription(ctx.tenantId, ctx.userId, id, db))) throw new NotFoundError("Subscription");
 }

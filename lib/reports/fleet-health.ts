@@ -7,7 +7,6 @@
  */
 import type { Sequelize } from "sequelize";
 import { loadDaySummaries, reportLoops, siteAndAreaNames } from "@/lib/data/reports";
-import { getSequelize } from "@/lib/db/sequelize";
 import { ValidationError } from "@/lib/domain/errors";
 import { assertSiteVisible } from "@/lib/tenancy";
 import { DIAGNOSIS_LABELS } from "./score";
@@ -60,7 +59,7 @@ export async function buildFleetHealth(
   ctx: { tenantId: number; tenantName: string },
   f: { from: number; to: number; siteId?: number; areaId?: number; kind?: string; granularity: Granularity; siteIds?: number[] | null },
   now: number = Date.now(),
-  db: Sequelize = getSequelize(),
+  db?: Sequelize,
 ): Promise<FleetHealth> {
   if (!(f.from < f.to) || f.to - f.from > 400 * DAY_MS) throw new ValidationError("The period must run forwards and cover at most 400 days.");
   if (f.siteId !== undefined) assertSiteVisible({ siteIds: f.siteIds ?? null }, f.siteId, "Site");

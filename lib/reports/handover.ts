@@ -18,7 +18,6 @@ import {
   snapshotsDuring,
 } from "@/lib/data/reports-handover";
 import { computeAlarmKpis, type AlarmKpis, type OccurrenceRecord } from "@/lib/domain/alarms/kpis";
-import { getSequelize } from "@/lib/db/sequelize";
 import { NotFoundError, ValidationError } from "@/lib/domain/errors";
 import { assertSiteVisible } from "@/lib/tenancy";
 import type { AlarmPriority } from "@/lib/domain/types";
@@ -103,7 +102,7 @@ export async function siteShiftInfo(
   ctx: { tenantId: number; siteIds?: number[] | null },
   siteId: number,
   areaId?: number | null,
-  db: Sequelize = getSequelize(),
+  db?: Sequelize,
 ): Promise<SiteShiftInfo> {
   assertSiteVisible(ctx, siteId, "Site");
   const s = await siteShiftRow(ctx.tenantId, siteId, db);
@@ -135,7 +134,7 @@ export async function buildHandover(
   site: SiteShiftInfo,
   shift: Shift,
   now: number = Date.now(),
-  db: Sequelize = getSequelize(),
+  db?: Sequelize,
 ): Promise<Handover> {
   const { start } = shift;
   const end = Math.min(shift.end, now);
@@ -241,7 +240,7 @@ export async function confirmHandover(
   site: SiteShiftInfo,
   shift: Shift,
   now: number = Date.now(),
-  db: Sequelize = getSequelize(),
+  db?: Sequelize,
 ): Promise<{ userId: number; userName: string; at: number }> {
   await insertConfirmation({ tenantId: ctx.tenantId, siteId: site.siteId, shiftStart: shift.start, shiftEnd: shift.end, userId: ctx.userId, userName: ctx.name, at: now }, db);
   const mine = (await listConfirmations(ctx, site.siteId, shift.start, db)).find((c) => c.userId === ctx.userId);

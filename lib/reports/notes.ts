@@ -7,7 +7,6 @@
 import type { Sequelize } from "sequelize";
 import { z } from "zod";
 import { insertNote, noteAlarmPlace, noteLoopPlace, noteSite, selectNotes, siteAndAreaExist } from "@/lib/data/reports-log";
-import { getSequelize } from "@/lib/db/sequelize";
 import { NotFoundError } from "@/lib/domain/errors";
 import { assertSiteVisible, siteVisible } from "@/lib/tenancy";
 import type { TenantContext } from "@/lib/domain/types";
@@ -50,7 +49,7 @@ interface Subject {
   alarmId: number | null;
 }
 
-async function subjectOf(db: Sequelize, ctx: NoteCtx, input: NoteInput): Promise<Subject> {
+async function subjectOf(db: Sequelize | undefined, ctx: NoteCtx, input: NoteInput): Promise<Subject> {
   if (input.kind === "loop") {
     const r = await noteLoopPlace(ctx.tenantId, input.loopId, db);
     if (!r) throw new NotFoundError("Loop");
@@ -68,7 +67,7 @@ async function subjectOf(db: Sequelize, ctx: NoteCtx, input: NoteInput): Promise
 }
 
 /** Append a note; returns it as stored. `at` defaults to now (epoch ms). */
-export async function createNote(ctx: NoteCtx, input: NoteInput, at: number = Date.now(), db: Sequelize = getSequelize()): Promise<NoteDto> {
+export async function createNote(ctx: NoteCtx, input: NoteInput, at: number = Date.now(), db?: Sequelize): Promise<NoteDto> {
   const s = await subjectOf(db, ctx, input);
   assertSiteVisible(ctx, s.siteId, input.kind === "loop" ? "Loop" : input.kind === "alarm" ? "Alarm" : "Site");
   if (input.correctsId !== undefined) {
@@ -103,6 +102,6 @@ export interface NoteFilter {
 }
 
 /** Notes of the caller's tenant, newest first. */
-export async function listNotes(ctx: Pick<TenantContext, "tenantId" | "siteIds">, f: NoteFilter = {}, db: Sequelize = getSequelize()): Promise<NoteDto[]> {
+export async function listNotes(ctx: Pick<TenantContext, "tenantId" | "siteIds">, f: NoteFilter = {}, db?: Sequelize): Promise<NoteDto[]> {
   return selectNotes(ctx.tenantId, ctx.siteIds, f, db);
 }

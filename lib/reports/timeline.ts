@@ -7,7 +7,6 @@
  */
 import type { Sequelize } from "sequelize";
 import { timelineAlarmEvents, timelineConfigChanges, timelineSnapshots } from "@/lib/data/reports-log";
-import { getSequelize } from "@/lib/db/sequelize";
 import { listNotes } from "./notes";
 
 export type TimelineKind = "alarm" | "note" | "config" | "state";
@@ -84,7 +83,7 @@ export async function loopTimeline(
   from: number,
   to: number,
   limit = 500,
-  db: Sequelize = getSequelize(),
+  db?: Sequelize,
 ): Promise<TimelineItem[]> {
   const items: TimelineItem[] = [];
   const events = await timelineAlarmEvents(ctx.tenantId, loopId, from, to, limit, db);

@@ -5,7 +5,6 @@
  */
 import type { Sequelize } from "sequelize";
 import { loadDaySummaries, reportLoops } from "@/lib/data/reports";
-import { getSequelize } from "@/lib/db/sequelize";
 import { ValidationError } from "@/lib/domain/errors";
 import { combineDays, scoreLoop, type DaySummary, type PeriodFigures, type ScoreTerm } from "./score";
 import { utcDay } from "./summaries";
@@ -55,7 +54,7 @@ export async function buildWorstLoops(
   ctx: { tenantId: number; tenantName: string },
   f: WorstLoopsFilter,
   now: number = Date.now(),
-  db: Sequelize = getSequelize(),
+  db?: Sequelize,
 ): Promise<WorstLoopsReport> {
   if (!(f.from < f.to) || f.from % DAY_MS !== 0 || f.to % DAY_MS !== 0) throw new ValidationError("The period must be whole UTC days, `from` before `to`.");
   if (f.to - f.from > 366 * DAY_MS) throw new ValidationError("The period may be at most 366 days.");
