@@ -50,9 +50,10 @@ export function LoopTimeline({ loopId, role }: { loopId: number; role: Role }) {
   }
 
   return (
-    // Wide screens: sized by its grid row (the trends' height less the z-plane), never by its
-    // items (contain: size), so the list scrolls inside instead of stretching the page.
-    <section className="flex min-h-0 flex-col gap-2 rounded-md border border-line bg-surface p-2 xl:min-h-64 xl:[contain:size]" aria-label="Timeline" data-testid="loop-timeline-panel">
+    // Wide screens: sized by its grid row (the trends' height less the z-plane; at least 10rem for
+    // the heading, the note form and a row or two), never by its items (contain: size), so the
+    // list scrolls inside instead of stretching the page.
+    <section className="flex min-h-0 flex-col gap-2 rounded-md border border-line bg-surface p-2 xl:min-h-40 xl:[contain:size]" aria-label="Timeline" data-testid="loop-timeline-panel">
       <h2 className="font-semibold">
         Timeline <span className="text-sm font-normal text-muted">last 7 days</span>
       </h2>
