@@ -76,6 +76,7 @@ describe("reports in Chromium", () => {
     const loop = loops[0]!;
     await page.goto(`${srv.url}/loops/${loop.id}`);
     const text = `Checked positioner on ${loop.tag}, air supply fine`;
+    await page.getByRole("button", { name: "Write a note" }).click();
     await page.getByLabel("Note on this loop").fill(text);
     await page.getByRole("button", { name: "Add note" }).click();
     await expect.poll(() => page.getByTestId("loop-timeline").textContent(), { timeout: 15_000 }).toContain(text);

@@ -32,6 +32,8 @@ export function LoopTimeline({ loopId, role }: { loopId: number; role: Role }) {
   const [text, setText] = useState("");
   const [busy, setBusy] = useState(false);
   const [fail, setFail] = useState<string | null>(null);
+  // The form opens on demand, so the list keeps the panel's room beside the trends.
+  const [writing, setWriting] = useState(false);
   const canWrite = roleAtLeast(role, "operator");
 
   async function submit(e: React.FormEvent) {
@@ -41,6 +43,7 @@ export function LoopTimeline({ loopId, role }: { loopId: number; role: Role }) {
     try {
       await sendJson("/api/notes", "POST", { kind: "loop", loopId, text });
       setText("");
+      setWriting(false);
       await mutate();
     } catch (err) {
       setFail((err as Error).message);
@@ -54,10 +57,17 @@ export function LoopTimeline({ loopId, role }: { loopId: number; role: Role }) {
     // the heading, the note form and a row or two), never by its items (contain: size), so the
     // list scrolls inside instead of stretching the page.
     <section className="flex min-h-0 flex-col gap-2 rounded-md border border-line bg-surface p-2 xl:min-h-40 xl:[contain:size]" aria-label="Timeline" data-testid="loop-timeline-panel">
-      <h2 className="font-semibold">
-        Timeline <span className="text-sm font-normal text-muted">last 7 days</span>
-      </h2>
-      {canWrite && (
+      <div className="flex items-baseline justify-between gap-2">
+        <h2 className="font-semibold">
+          Timeline <span className="text-sm font-normal text-muted">last 7 days</span>
+        </h2>
+        {canWrite && !writing && (
+          <button type="button" className="rounded border border-line px-2 py-0.5 text-xs" onClick={() => setWriting(true)}>
+            Write a note
+          </button>
+        )}
+      </div>
+      {canWrite && writing && (
         <form onSubmit={submit} className="flex flex-col gap-1">
           <label className="text-xs text-muted" htmlFor={`note-${loopId}`}>
             Note on this loop
@@ -68,11 +78,15 @@ export function LoopTimeline({ loopId, role }: { loopId: number; role: Role }) {
             onChange={(e) => setText(e.target.value)}
             maxLength={2000}
             rows={2}
+            autoFocus
             className="rounded border border-line bg-ground px-2 py-1 text-sm"
           />
           <div className="flex items-center gap-2">
             <button type="submit" disabled={busy || !text.trim()} className="rounded border border-line px-2 py-0.5 text-sm disabled:opacity-50">
               Add note
+            </button>
+            <button type="button" className="text-xs text-muted underline" onClick={() => setWriting(false)}>
+              cancel
             </button>
             {fail && <span role="alert" className="text-xs text-urgent">{fail}</span>}
           </div>
