@@ -23,6 +23,8 @@ export interface LoopFinding {
 export const CERTAIN_CONFIDENCE = 0.9;
 /** Confidence above which a finding opens a work-list item (ours). */
 export const WORK_ITEM_CONFIDENCE = 0.6;
+/** Causes inferred from routine data: always worded "likely …". */
+export const INFERRED_LABELS: readonly DiagnosisLabel[] = ["aggressive-tuning", "sluggish-tuning", "valve-stiction", "external-disturbance", "sensor-fault"];
 /** Verdicts that are not engineering work. */
 export const NO_WORK_LABELS: readonly DiagnosisLabel[] = ["healthy", "undetermined"];
 
@@ -53,7 +55,11 @@ export function findingPhrase(f: Pick<LoopFinding, "label" | "confidence" | "nee
     return need ? `not judged yet · ${need}` : "not judged yet";
   }
   const word = FINDING_WORDS[f.label];
-  return f.confidence >= CERTAIN_CONFIDENCE || f.label === "healthy" ? word : `likely ${word}`;
+  if (f.label === "healthy") return word;
+  // A cause read from routine data is an inference at any confidence (the evidence lines say
+  // "likely" too); only what the data shows directly (manual, saturation) may read plain.
+  if (INFERRED_LABELS.includes(f.label)) return `likely ${word}`;
+  return f.confidence >= CERTAIN_CONFIDENCE ? word : `likely ${word}`;
 }
 
 /** Whether a finding opens or updates a work-list item. */

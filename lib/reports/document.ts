@@ -74,12 +74,12 @@ export function handoverDocument(h: Handover): ReportDoc {
   const atEnd = h.inProgress ? "now" : "at the end of the shift";
   return {
     kind: "handover",
-    title: `${h.inProgress ? "Shift in progress" : "Shift handover"} — ${h.site.siteName}`,
+    title: `${h.inProgress ? "Shift in progress" : "Shift handover"} — ${h.site.siteName}${h.site.areaName ? ` · ${h.site.areaName}` : ""}`,
     tenant: h.tenantName,
     period: `${at(h.shift.start)} – ${at(h.shift.end)} (${tz}, ${formatNumber(hours, 1)} h)${h.inProgress ? `, as of ${at(h.asOf)}` : ""}`,
     generatedAt: new Date(h.generatedAt).toISOString(),
     caution: REPORT_CAUTION,
-    fileName: fileSlug(`handover-${h.site.siteName}-${h.shift.localDate}-${h.shift.startsAt.replace(":", "")}`),
+    fileName: fileSlug(`handover-${h.site.siteName}${h.site.areaName ? `-${h.site.areaName}` : ""}-${h.shift.localDate}-${h.shift.startsAt.replace(":", "")}`),
     sections: [
       {
         id: "active-alarms",

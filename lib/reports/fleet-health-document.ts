@@ -8,15 +8,16 @@ const share = (n: number, of: number) => formatNumber(of ? (100 * n) / of : null
 
 export function fleetHealthDocument(r: FleetHealth): ReportDoc {
   const last = r.buckets.at(-1);
+  const scope = [r.filter.site, r.filter.area, r.filter.kind ? `${r.filter.kind} loops` : null].filter((x): x is string => !!x);
   const undetermined = r.buckets.every((b) => (b.counts.undetermined ?? 0) === b.loops);
   return {
     kind: "fleet-health",
-    title: `Fleet health${r.site ? ` — ${r.site}` : ""}`,
+    title: `Fleet health${scope.length ? ` — ${scope.join(" · ")}` : ""}`,
     tenant: r.tenantName,
     period: `${day(r.from)} – ${day(r.to - 1)} (UTC days), by ${r.granularity}`,
     generatedAt: new Date(r.generatedAt).toISOString(),
     caution: REPORT_CAUTION,
-    fileName: fileSlug(`fleet-health-${r.tenantName}-${day(r.from)}-${day(r.to - 1)}`),
+    fileName: fileSlug(`fleet-health-${[r.tenantName, ...scope].join("-")}-${day(r.from)}-${day(r.to - 1)}`),
     sections: [
       {
         id: "trend",
@@ -24,7 +25,7 @@ export function fleetHealthDocument(r: FleetHealth): ReportDoc {
         lines: [
           "A loop counts once per period, with the diagnosis of its latest judged day (else undetermined); loops without data in a period are not counted.",
           ...(undetermined
-            ? ["Every loop reads 'undetermined': the routine-data assessment that sets the diagnosis is not wired into the daily summaries yet. The shares are shown as they are, not guessed."]
+            ? ["Every loop reads 'undetermined': no routine-data finding was recorded for these days yet (a summary takes the live assessment's finding of its day). The shares are shown as they are, not guessed."]
             : []),
         ],
         columns: [{ label: r.granularity === "week" ? "Week" : "Month" }, { label: "Loops", unit: "count" }, ...DIAGNOSIS_LABELS.map((l) => ({ label: l, unit: "%" }))],

@@ -2,13 +2,15 @@
  * Fleet health: the share of a tenant's loops (or one site's) by diagnosis label, per week or
  * month, from the daily summaries (so it outlives raw-data retention). A loop counts in a bucket
  * once, with the label of its latest judged day in that bucket, else `undetermined`; loops without
- * any summary in a bucket are not counted. SQL lives in summaries.ts and here; plain objects out.
+ * any summary in a bucket are not counted. Filters: site, area, kind (the same loops on screen, in
+ * the CSV and the PDF: all three render this object). SQL in lib/data/reports.ts.
  */
-import { QueryTypes, type Sequelize } from "sequelize";
-import { getSequelize } from "@/lib/db/sequelize";
+import type { Sequelize } from "sequelize";
+import { loadDaySummaries, reportLoops, siteAndAreaNames } from "@/lib/data/reports";
 import { ValidationError } from "@/lib/domain/errors";
+import { assertSiteVisible } from "@/lib/data/tenancy";
 import { DIAGNOSIS_LABELS } from "./score";
-import { loadDaySummaries, utcDay } from "./summaries";
+import { utcDay } from "./summaries";
 
 export type Granularity = "week" | "month";
 
@@ -23,6 +25,8 @@ export interface FleetBucket {
 export interface FleetHealth {
   tenantName: string;
   site: string | null;
+  /** The filters applied (names for the title, null = all). */
+  filter: { siteId: number | null; areaId: number | null; kind: string | null; site: string | null; area: string | null };
   from: number;
   to: number;
   granularity: Granularity;
@@ -53,26 +57,15 @@ function bucketOf(t: number, g: Granularity): { start: number; label: string } {
 
 export async function buildFleetHealth(
   ctx: { tenantId: number; tenantName: string },
-  f: { from: number; to: number; siteId?: number; granularity: Granularity; siteIds?: number[] | null },
+  f: { from: number; to: number; siteId?: number; areaId?: number; kind?: string; granularity: Granularity; siteIds?: number[] | null },
   now: number = Date.now(),
-  db: Sequelize = getSequelize(),
+  db?: Sequelize,
 ): Promise<FleetHealth> {
   if (!(f.from < f.to) || f.to - f.from > 400 * DAY_MS) throw new ValidationError("The period must run forwards and cover at most 400 days.");
-  const where = ["l.tenant_id = ?"];
-  const args: unknown[] = [ctx.tenantId];
-  if (f.siteId !== undefined) {
-    where.push("l.site_id = ?");
-    args.push(f.siteId);
-  }
-  if (f.siteIds) {
-    where.push("l.site_id IN (?)");
-    args.push(f.siteIds.length ? f.siteIds : [0]);
-  }
-  const loops = await db.query<{ id: number; site: string }>(`SELECT l.id, s.name AS site FROM loops l JOIN sites s ON s.id = l.site_id WHERE ${where.join(" AND ")}`, {
-    replacements: args,
-    type: QueryTypes.SELECT,
-  });
-  const siteOf = new Map(loops.map((l) => [Number(l.id), l.site]));
+  if (f.siteId !== undefined) assertSiteVisible({ siteIds: f.siteIds ?? null }, f.siteId, "Site");
+  const filter = { siteId: f.siteId, areaId: f.areaId, kind: f.kind, siteIds: f.siteIds };
+  const loops = await reportLoops(ctx.tenantId, filter, db);
+  const siteOf = new Map(loops.map((l) => [l.id, l.site]));
   const days = await loadDaySummaries(ctx, utcDay(f.from), utcDay(f.to), [...siteOf.keys()], db);
   // bucket -> loop -> [day, label] of the latest judged day (or undetermined)
   const perBucket = new Map<number, { label: string; loops: Map<number, { day: string; label: string }> }>();
@@ -99,9 +92,11 @@ export async function buildFleetHealth(
     e.loops++;
     e.counts[label] = (e.counts[label] ?? 0) + 1;
   }
+  const names = await siteAndAreaNames(ctx.tenantId, f.siteId, f.areaId, db);
   return {
     tenantName: ctx.tenantName,
-    site: f.siteId !== undefined ? (loops[0]?.site ?? null) : null,
+    site: names.site,
+    filter: { siteId: f.siteId ?? null, areaId: f.areaId ?? null, kind: f.kind ?? null, ...names },
     from: f.from,
     to: f.to,
     granularity: f.granularity,

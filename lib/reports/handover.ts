@@ -1,16 +1,29 @@
 /**
- * The shift handover of a site: what the incoming shift must know, as of the end of the outgoing
- * shift. Every figure is read as it stood at the shift's end (alarm occurrences, the alarm event
- * log, tracker-state snapshots), so a handover read a week later says the same. Every SQL
- * statement of the handover is here; plain typed objects out.
+ * The shift handover of a site, or of one of its areas: what the incoming shift must know, as of
+ * the end of the outgoing shift. Every figure is read as it stood at the shift's end (alarm
+ * occurrences, the alarm event log, tracker-state snapshots), so a handover read a week later says
+ * the same. An area's handover holds that area's loops, alarms and notes and the site's shift notes
+ * without an area. SQL in lib/data/reports-handover.ts; plain typed objects out.
  */
-import { QueryTypes, type Sequelize } from "sequelize";
+import type { Sequelize } from "sequelize";
+import {
+  handoverLoops,
+  handoverOccurrences,
+  insertConfirmation,
+  listConfirmations,
+  outOfNormalAt,
+  siteAreaName,
+  siteShiftRow,
+  snapshotsBefore,
+  snapshotsDuring,
+} from "@/lib/data/reports-handover";
 import { computeAlarmKpis, type AlarmKpis, type OccurrenceRecord } from "@/lib/domain/alarms/kpis";
-import { getSequelize } from "@/lib/db/sequelize";
 import { NotFoundError, ValidationError } from "@/lib/domain/errors";
-import { assertSiteVisible } from "@/lib/tenancy";
+import { assertSiteVisible } from "@/lib/data/tenancy";
 import type { AlarmPriority } from "@/lib/domain/types";
 import { listNotes, type NoteDto } from "./notes";
+
+export { listConfirmations };
 import { lastEndedShift, parseShiftStarts, shiftAt, type Shift } from "./shifts";
 
 export interface SiteShiftInfo {
@@ -18,6 +31,9 @@ export interface SiteShiftInfo {
   siteName: string;
   timeZone: string;
   shiftStarts: number[];
+  /** The area the handover is for (null or absent: the whole site). */
+  areaId?: number | null;
+  areaName?: string | null;
 }
 
 export interface HandoverAlarm {
@@ -82,14 +98,20 @@ const PRIORITY_ORDER: Record<AlarmPriority, number> = { urgent: 0, high: 1, low:
 const ms = (d: unknown) => new Date(d as Date).getTime();
 
 /** The site's zone and shift starts, tenant-checked (404 for another tenant's site). */
-export async function siteShiftInfo(ctx: { tenantId: number; siteIds?: number[] | null }, siteId: number, db: Sequelize = getSequelize()): Promise<SiteShiftInfo> {
+export async function siteShiftInfo(
+  ctx: { tenantId: number; siteIds?: number[] | null },
+  siteId: number,
+  areaId?: number | null,
+  db?: Sequelize,
+): Promise<SiteShiftInfo> {
   assertSiteVisible(ctx, siteId, "Site");
-  const [s] = await db.query<{ id: number; name: string; time_zone: string; shift_starts: string | null }>(
-    "SELECT id, name, time_zone, shift_starts FROM sites WHERE id = ? AND tenant_id = ?",
-    { replacements: [siteId, ctx.tenantId], type: QueryTypes.SELECT },
-  );
+  const s = await siteShiftRow(ctx.tenantId, siteId, db);
   if (!s) throw new NotFoundError("Site");
-  return { siteId: Number(s.id), siteName: s.name, timeZone: s.time_zone, shiftStarts: parseShiftStarts(s.shift_starts) };
+  const info: SiteShiftInfo = { siteId: Number(s.id), siteName: s.name, timeZone: s.time_zone, shiftStarts: parseShiftStarts(s.shift_starts) };
+  if (areaId == null) return info;
+  const areaName = await siteAreaName(ctx.tenantId, siteId, areaId, db);
+  if (areaName === undefined) throw new NotFoundError("Area");
+  return { ...info, areaId, areaName };
 }
 
 /**
@@ -112,20 +134,16 @@ export async function buildHandover(
   site: SiteShiftInfo,
   shift: Shift,
   now: number = Date.now(),
-  db: Sequelize = getSequelize(),
+  db?: Sequelize,
 ): Promise<Handover> {
   const { start } = shift;
   const end = Math.min(shift.end, now);
-  const q = <T extends object>(sql: string, replacements: unknown[]) => db.query<T>(sql, { replacements, type: QueryTypes.SELECT });
-  const loops = await q<{ id: number; tag: string }>("SELECT id, tag FROM loops WHERE tenant_id = ? AND site_id = ?", [ctx.tenantId, site.siteId]);
+  const areaId = site.areaId ?? null;
+  const loops = await handoverLoops(ctx.tenantId, site.siteId, areaId, db);
   const tagOf = new Map(loops.map((l) => [Number(l.id), l.tag]));
-  const ids = loops.length ? loops.map((l) => Number(l.id)) : [0];
+  const ids = loops.map((l) => Number(l.id));
 
-  const occRows = await q<{ alarm_id: number; loop_id: number; area_id: number | null; priority: AlarmPriority; condition: string; started_at: Date; ended_at: Date | null; acknowledged_at: Date | null }>(
-    `SELECT alarm_id, loop_id, area_id, priority, \`condition\`, started_at, ended_at, acknowledged_at FROM alarm_occurrences
-      WHERE tenant_id = ? AND loop_id IN (?) AND started_at < ? AND (started_at >= ? OR ended_at IS NULL OR ended_at > ?)`,
-    [ctx.tenantId, ids, new Date(end), new Date(start), new Date(start)],
-  );
+  const occRows = await handoverOccurrences(ctx.tenantId, ids, start, end, db);
   const occ: OccurrenceRecord[] = occRows.map((r) => ({
     alarmId: Number(r.alarm_id),
     loopId: Number(r.loop_id),
@@ -152,15 +170,7 @@ export async function buildHandover(
     })
     .sort((a, b) => PRIORITY_ORDER[a.priority] - PRIORITY_ORDER[b.priority] || Number(a.acknowledged) - Number(b.acknowledged) || a.startedAt - b.startedAt);
 
-  const last = await q<{ alarm_id: number; loop_id: number; to_state: string; comment: string | null; at: Date; name: string | null; condition: string }>(
-    `SELECT e.alarm_id, e.loop_id, e.to_state, e.comment, e.at, u.name, a.\`condition\`
-       FROM alarm_events e
-       JOIN (SELECT alarm_id, MAX(id) AS id FROM alarm_events
-              WHERE tenant_id = ? AND loop_id IN (?) AND at < ? AND to_state IS NOT NULL GROUP BY alarm_id) m ON m.id = e.id
-       JOIN alarms a ON a.id = e.alarm_id LEFT JOIN users u ON u.id = e.user_id
-      WHERE e.to_state IN ('shelved', 'out-of-service')`,
-    [ctx.tenantId, ids, new Date(end)],
-  );
+  const last = await outOfNormalAt(ctx.tenantId, ids, end, db);
   const outOfNormal: HandoverOutOfNormal[] = last
     .map((e) => ({
       alarmId: Number(e.alarm_id),
@@ -173,16 +183,8 @@ export async function buildHandover(
     }))
     .sort((a, b) => a.loopTag.localeCompare(b.loopTag) || a.alarmId - b.alarmId);
 
-  const before = await q<{ loop_id: number; t: number; tracker_state: string; radius: number | null }>(
-    `SELECT p.loop_id, p.t, p.tracker_state, p.radius FROM pole_snapshots p
-       JOIN (SELECT loop_id, MAX(t) AS t FROM pole_snapshots WHERE loop_id IN (?) AND t < ? GROUP BY loop_id) m
-         ON m.loop_id = p.loop_id AND m.t = p.t`,
-    [ids, start],
-  );
-  const during = await q<{ loop_id: number; t: number; tracker_state: string; radius: number | null }>(
-    "SELECT loop_id, t, tracker_state, radius FROM pole_snapshots WHERE loop_id IN (?) AND t >= ? AND t < ? ORDER BY loop_id, t",
-    [ids, start, end],
-  );
+  const before = await snapshotsBefore(ids, start, db);
+  const during = await snapshotsDuring(ids, start, end, db);
   const startOf = new Map(before.map((b) => [Number(b.loop_id), b]));
   const track = new Map<number, { changes: number; last: { t: number; tracker_state: string; radius: number | null }; since: number }>();
   for (const b of before) track.set(Number(b.loop_id), { changes: 0, last: b, since: Number(b.t) });
@@ -212,7 +214,8 @@ export async function buildHandover(
   stateChanges.sort((a, b) => a.loopTag.localeCompare(b.loopTag));
   manualOrSaturated.sort((a, b) => a.loopTag.localeCompare(b.loopTag));
 
-  const notes = (await listNotes(ctx, { siteId: site.siteId, from: start, to: end, limit: 2000 }, db)).reverse();
+  const noteFilter = areaId === null ? {} : { areaOrSiteWide: areaId };
+  const notes = (await listNotes(ctx, { siteId: site.siteId, ...noteFilter, from: start, to: end, limit: 2000 }, db)).reverse();
   const confirmations = await listConfirmations(ctx, site.siteId, start, db);
   return {
     tenantName: ctx.tenantName,
@@ -231,26 +234,15 @@ export async function buildHandover(
   };
 }
 
-export async function listConfirmations(ctx: { tenantId: number }, siteId: number, shiftStart: number, db: Sequelize = getSequelize()) {
-  const rows = await db.query<{ user_id: number; user_name: string; at: Date }>(
-    "SELECT user_id, user_name, at FROM handover_confirmations WHERE tenant_id = ? AND site_id = ? AND shift_start = ? ORDER BY at",
-    { replacements: [ctx.tenantId, siteId, new Date(shiftStart)], type: QueryTypes.SELECT },
-  );
-  return rows.map((r) => ({ userId: Number(r.user_id), userName: r.user_name, at: ms(r.at) }));
-}
-
 /** Record that the caller read the handover; a second confirmation keeps the first (idempotent). */
 export async function confirmHandover(
   ctx: { tenantId: number; userId: number; name: string },
   site: SiteShiftInfo,
   shift: Shift,
   now: number = Date.now(),
-  db: Sequelize = getSequelize(),
+  db?: Sequelize,
 ): Promise<{ userId: number; userName: string; at: number }> {
-  await db.query(
-    `INSERT IGNORE INTO handover_confirmations (tenant_id, site_id, shift_start, shift_end, user_id, user_name, at) VALUES (?,?,?,?,?,?,?)`,
-    { replacements: [ctx.tenantId, site.siteId, new Date(shift.start), new Date(shift.end), ctx.userId, ctx.name, new Date(now)], type: QueryTypes.INSERT },
-  );
+  await insertConfirmation({ tenantId: ctx.tenantId, siteId: site.siteId, shiftStart: shift.start, shiftEnd: shift.end, userId: ctx.userId, userName: ctx.name, at: now }, db);
   const mine = (await listConfirmations(ctx, site.siteId, shift.start, db)).find((c) => c.userId === ctx.userId);
   if (!mine) throw new Error("The confirmation just written could not be read back.");
   return mine;

@@ -40,6 +40,38 @@ export function parseShiftStarts(spec: string | null | undefined): number[] {
   return sorted;
 }
 
+/** A shift shorter than this is a typing slip, not a shift (our rule). */
+export const MIN_SHIFT_MINUTES = 60;
+export const MAX_SHIFTS = 6;
+
+/**
+ * What is wrong with a list of local shift starts as typed ("HH:MM", earliest first), one message
+ * per problem with the index it concerns; empty when the list is good. Browser-safe: the settings
+ * form and the server check the same rules.
+ */
+export function shiftStartProblems(starts: readonly string[]): { index: number; message: string }[] {
+  const out: { index: number; message: string }[] = [];
+  if (starts.length === 0) return [{ index: 0, message: "Give at least one shift start." }];
+  if (starts.length > MAX_SHIFTS) out.push({ index: MAX_SHIFTS, message: `At most ${MAX_SHIFTS} shifts a day.` });
+  const mins: number[] = [];
+  starts.forEach((t, i) => {
+    const m = /^([01]\d|2[0-3]):([0-5]\d)$/.exec(t.trim());
+    if (!m) out.push({ index: i, message: `"${t}" is not a time of day HH:MM (00:00-23:59).` });
+    else mins.push(Number(m[1]) * 60 + Number(m[2]));
+  });
+  if (out.length) return out;
+  for (let i = 1; i < mins.length; i++) {
+    if (mins[i] === mins[i - 1]) out.push({ index: i, message: `${starts[i]} is given twice: shift starts must be different times.` });
+    else if (mins[i]! < mins[i - 1]!) out.push({ index: i, message: "List the shift starts in the order of the day (earliest first)." });
+  }
+  if (out.length || mins.length < 2) return out;
+  mins.forEach((m, i) => {
+    const len = (mins[(i + 1) % mins.length]! - m + 1440) % 1440;
+    if (len < MIN_SHIFT_MINUTES) out.push({ index: i, message: `The shift from ${starts[i]} would last ${len} min; a shift lasts at least ${MIN_SHIFT_MINUTES} min.` });
+  });
+  return out;
+}
+
 export function formatMinutes(min: number): string {
   return `${String(Math.floor(min / 60)).padStart(2, "0")}:${String(min % 60).padStart(2, "0")}`;
 }

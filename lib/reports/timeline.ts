@@ -2,10 +2,11 @@
  * A loop's timeline: alarm events (activations, acknowledgements, shelving, service changes),
  * operator notes on the loop and its alarms, configuration and tuning changes, and tracker-state
  * changes (from pole_snapshots, which the history writer stores on every state change), merged
- * newest first. The caller has already found the loop through the tenancy guard.
+ * newest first. The caller has already found the loop through the tenancy guard. SQL in
+ * lib/data/reports-log.ts.
  */
-import { QueryTypes, type Sequelize } from "sequelize";
-import { getSequelize } from "@/lib/db/sequelize";
+import type { Sequelize } from "sequelize";
+import { timelineAlarmEvents, timelineConfigChanges, timelineSnapshots } from "@/lib/data/reports-log";
 import { listNotes } from "./notes";
 
 export type TimelineKind = "alarm" | "note" | "config" | "state";
@@ -20,6 +21,38 @@ export interface TimelineItem {
   who: string | null;
   /** Alarm id, note id or config-change id, when there is one. */
   refId: number | null;
+  /** How many identical rows this one stands for (collapsed repeats; absent = 1). */
+  repeats?: number;
+  /** Epoch ms of the earliest of the collapsed rows. */
+  firstAt?: number;
+}
+
+/**
+ * Collapse repeats (input newest first): an alarm row whose alarm's previous row (in time, other
+ * kinds of rows between it allowed) has the same title stands for one more of that row — e.g.
+ * "suppressed by design" written again each time the tracker state flickers. A row of that alarm
+ * with another title ends the run.
+ */
+export function collapseRepeats(items: readonly TimelineItem[]): TimelineItem[] {
+  const out: TimelineItem[] = [];
+  /** alarm id -> the kept row its next (older) row would repeat. */
+  const open = new Map<number, TimelineItem>();
+  for (const it of items) {
+    if (it.kind !== "alarm" || it.refId === null) {
+      out.push(it);
+      continue;
+    }
+    const prev = open.get(it.refId);
+    if (prev && prev.title === it.title && (prev.detail ?? null) === (it.detail ?? null) && (prev.who ?? null) === (it.who ?? null)) {
+      prev.repeats = (prev.repeats ?? 1) + 1;
+      prev.firstAt = it.at;
+      continue;
+    }
+    const kept = { ...it };
+    open.set(it.refId, kept);
+    out.push(kept);
+  }
+  return out;
 }
 
 const ACTION_WORDS: Record<string, string> = {
@@ -50,17 +83,10 @@ export async function loopTimeline(
   from: number,
   to: number,
   limit = 500,
-  db: Sequelize = getSequelize(),
+  db?: Sequelize,
 ): Promise<TimelineItem[]> {
   const items: TimelineItem[] = [];
-  const range = [new Date(from), new Date(to)];
-
-  const events = await db.query<{ id: number; alarm_id: number; at: Date; kind: string; to_state: string | null; comment: string | null; condition: string; name: string | null }>(
-    `SELECT e.id, e.alarm_id, e.at, e.kind, e.to_state, e.comment, a.\`condition\`, u.name
-       FROM alarm_events e JOIN alarms a ON a.id = e.alarm_id LEFT JOIN users u ON u.id = e.user_id
-      WHERE e.loop_id = ? AND e.tenant_id = ? AND e.at >= ? AND e.at < ? ORDER BY e.at DESC LIMIT ${limit}`,
-    { replacements: [loopId, ctx.tenantId, ...range], type: QueryTypes.SELECT },
-  );
+  const events = await timelineAlarmEvents(ctx.tenantId, loopId, from, to, limit, db);
   for (const e of events) {
     items.push({
       kind: "alarm",
@@ -83,11 +109,7 @@ export async function loopTimeline(
     });
   }
 
-  const changes = await db.query<{ id: number; at: Date; diff: unknown; reason: string | null; moc_reference: string | null; name: string | null }>(
-    `SELECT c.id, c.at, c.diff, c.reason, c.moc_reference, u.name FROM config_changes c LEFT JOIN users u ON u.id = c.user_id
-      WHERE c.tenant_id = ? AND c.entity = 'loop' AND c.entity_id = ? AND c.at >= ? AND c.at < ? ORDER BY c.at DESC LIMIT ${limit}`,
-    { replacements: [ctx.tenantId, loopId, ...range], type: QueryTypes.SELECT },
-  );
+  const changes = await timelineConfigChanges(ctx.tenantId, loopId, from, to, limit, db);
   for (const c of changes) {
     const diff = typeof c.diff === "string" ? (JSON.parse(c.diff) as unknown) : c.diff;
     const text = describeDiff(diff);
@@ -102,11 +124,7 @@ export async function loopTimeline(
   }
 
   // State changes: the snapshot before the window gives the state the window starts in.
-  const snaps = await db.query<{ t: number; tracker_state: string }>(
-    `(SELECT t, tracker_state FROM pole_snapshots WHERE loop_id = ? AND t < ? ORDER BY t DESC LIMIT 1)
-     UNION ALL (SELECT t, tracker_state FROM pole_snapshots WHERE loop_id = ? AND t >= ? AND t < ? ORDER BY t)`,
-    { replacements: [loopId, from, loopId, from, to], type: QueryTypes.SELECT },
-  );
+  const snaps = await timelineSnapshots(loopId, from, to, db);
   let prev: string | null = null;
   for (const s of snaps.sort((a, b) => Number(a.t) - Number(b.t))) {
     if (prev !== null && s.tracker_state !== prev && Number(s.t) >= from) {
@@ -115,5 +133,5 @@ export async function loopTimeline(
     prev = s.tracker_state;
   }
 
-  return items.sort((a, b) => b.at - a.at).slice(0, limit);
+  return collapseRepeats(items.sort((a, b) => b.at - a.at)).slice(0, limit);
 }

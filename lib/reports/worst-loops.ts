@@ -1,14 +1,13 @@
 /**
  * The worst-loops report: a tenant's loops ranked by the stated score (lib/reports/score.ts) over a
  * period, from the daily summaries, with each loop's evidence and its trend against the previous
- * period of the same length. Filters: site, area, kind. Every SQL statement of the report is here
- * or in summaries.ts; plain typed objects out.
+ * period of the same length. Filters: site, area, kind. Its SQL is in lib/data/reports.ts.
  */
-import { QueryTypes, type Sequelize } from "sequelize";
-import { getSequelize } from "@/lib/db/sequelize";
+import type { Sequelize } from "sequelize";
+import { loadDaySummaries, reportLoops } from "@/lib/data/reports";
 import { ValidationError } from "@/lib/domain/errors";
 import { combineDays, scoreLoop, type DaySummary, type PeriodFigures, type ScoreTerm } from "./score";
-import { loadDaySummaries, utcDay } from "./summaries";
+import { utcDay } from "./summaries";
 
 const DAY_MS = 86_400_000;
 
@@ -55,34 +54,12 @@ export async function buildWorstLoops(
   ctx: { tenantId: number; tenantName: string },
   f: WorstLoopsFilter,
   now: number = Date.now(),
-  db: Sequelize = getSequelize(),
+  db?: Sequelize,
 ): Promise<WorstLoopsReport> {
   if (!(f.from < f.to) || f.from % DAY_MS !== 0 || f.to % DAY_MS !== 0) throw new ValidationError("The period must be whole UTC days, `from` before `to`.");
   if (f.to - f.from > 366 * DAY_MS) throw new ValidationError("The period may be at most 366 days.");
-  const where = ["l.tenant_id = ?", "l.enabled = 1"];
-  const args: unknown[] = [ctx.tenantId];
-  if (f.siteId !== undefined) {
-    where.push("l.site_id = ?");
-    args.push(f.siteId);
-  }
-  if (f.areaId !== undefined) {
-    where.push("l.area_id = ?");
-    args.push(f.areaId);
-  }
-  if (f.kind !== undefined) {
-    where.push("l.kind = ?");
-    args.push(f.kind);
-  }
-  if (f.siteIds) {
-    where.push("l.site_id IN (?)");
-    args.push(f.siteIds.length ? f.siteIds : [0]);
-  }
-  const loops = await db.query<{ id: number; tag: string; description: string; kind: string; criticality: number; site: string; area: string | null }>(
-    `SELECT l.id, l.tag, l.description, l.kind, l.criticality, s.name AS site, a.name AS area
-       FROM loops l JOIN sites s ON s.id = l.site_id LEFT JOIN areas a ON a.id = l.area_id WHERE ${where.join(" AND ")}`,
-    { replacements: args, type: QueryTypes.SELECT },
-  );
-  const ids = loops.map((l) => Number(l.id));
+  const loops = await reportLoops(ctx.tenantId, { ...f, enabledOnly: true }, db);
+  const ids = loops.map((l) => l.id);
   const len = f.to - f.from;
   const cur = await loadDaySummaries(ctx, utcDay(f.from), utcDay(f.to), ids, db);
   const prev = await loadDaySummaries(ctx, utcDay(f.from - len), utcDay(f.from), ids, db);
@@ -96,14 +73,14 @@ export async function buildWorstLoops(
   let withoutData = 0;
   const rows: WorstLoopRow[] = [];
   for (const l of loops) {
-    const id = Number(l.id);
+    const id = l.id;
     const days = curBy.get(id);
     if (!days?.length) {
       withoutData++;
       continue;
     }
     const figures = combineDays(days);
-    const s = scoreLoop(figures, l.kind, Number(l.criticality));
+    const s = scoreLoop(figures, l.kind, l.criticality);
     const p = prevBy.get(id);
     rows.push({
       rank: 0,
@@ -113,9 +90,9 @@ export async function buildWorstLoops(
       site: l.site,
       area: l.area,
       kind: l.kind,
-      criticality: Number(l.criticality),
+      criticality: l.criticality,
       score: s.score,
-      previousScore: p?.length ? scoreLoop(combineDays(p), l.kind, Number(l.criticality)).score : null,
+      previousScore: p?.length ? scoreLoop(combineDays(p), l.kind, l.criticality).score : null,
       terms: s.terms,
       figures,
       evidence: s.evidence,

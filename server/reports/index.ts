@@ -3,27 +3,30 @@
  * through the mail service, with the PDF attached.
  *
  * - Daily summaries: today's are rebuilt every TODAY_EVERY_MS (the reports include today so far),
- *   yesterday's once after midnight (idempotent set-based statements, lib/reports/summaries.ts;
- *   `npm run bench:reports` measures one full day of 2,000 loops).
+ *   yesterday's once after midnight (idempotent set-based statements, lib/data/reports.ts;
+ *   `npm run bench:reports` measures one full day of 2,000 loops), each with the diagnosis of the
+ *   live assessment's finding of that day (findings.ts).
  * - Shift handovers: when a site's shift has ended (within the last HANDOVER_CATCH_UP_MS, so a
- *   restart still sends the one it missed), to that site's handover subscribers.
+ *   restart still sends the one it missed): the whole site's handover to the site's subscribers,
+ *   and each area's handover (its loops, alarms and notes) to that area's subscribers only.
  * - Weekly reports: for the previous ISO week (Monday 00:00 UTC), to each weekly subscriber.
- * Each run is claimed in report_runs before it is built (lib/reports/delivery.ts): no run goes out
+ * Each run is claimed in report_runs before it is built (lib/data/reports-delivery.ts): no run goes out
  * twice, across ticks, processes and restarts. `tick()` is public for tests.
  */
 import type { ServerContext, Service } from "@/server/context";
 import { mailOf } from "@/server/mail";
-import { allSites, claimRun, finishRun, handoverRecipients, weeklySubscriptions, type Recipient, type RunKey } from "@/lib/reports/delivery";
+import { allSites, claimRun, finishRun, handoverAreas, handoverRecipients, weeklySubscriptions, type Recipient, type RunKey } from "@/lib/data/reports";
 import { handoverDocument, type ReportDoc } from "@/lib/reports/document";
 import { buildFleetHealth } from "@/lib/reports/fleet-health";
 import { fleetHealthDocument } from "@/lib/reports/fleet-health-document";
 import { buildHandover, siteShiftInfo } from "@/lib/reports/handover";
 import { reportPdf } from "@/lib/reports/pdf";
 import { lastEndedShift, parseShiftStarts } from "@/lib/reports/shifts";
-import { summarizeDay, utcDay } from "@/lib/reports/summaries";
+import { utcDay } from "@/lib/reports/summaries";
 import { buildWorstLoops } from "@/lib/reports/worst-loops";
 import { worstLoopsDocument } from "@/lib/reports/worst-loops-document";
 import { isoWeek } from "@/lib/reports/fleet-health";
+import { liveFindingsOf, summarizeDayWithFindings, type FindingLookup } from "./findings";
 
 const DAY_MS = 86_400_000;
 export const HANDOVER_CATCH_UP_MS = 6 * 3600_000;
@@ -34,7 +37,7 @@ export interface ReportScheduler extends Service {
   tick(): Promise<{ sent: number; skipped: number; failed: number }>;
 }
 
-export async function startReports(ctx: ServerContext, opts: { intervalMs?: number | null } = {}): Promise<ReportScheduler> {
+export async function startReports(ctx: ServerContext, opts: { intervalMs?: number | null; findings?: FindingLookup } = {}): Promise<ReportScheduler> {
   let lastToday = -Infinity;
   let lastYesterday = "";
   let running: Promise<unknown> | null = null;
@@ -75,13 +78,15 @@ export async function startReports(ctx: ServerContext, opts: { intervalMs?: numb
   async function tickOnce(): Promise<{ sent: number; skipped: number; failed: number }> {
     const now = ctx.clock.now();
     const count = { sent: 0, skipped: 0, failed: 0 };
+    // Looked up per tick: the pipeline starts after this service.
+    const findings = opts.findings ?? liveFindingsOf(ctx);
     if (now - lastToday >= TODAY_EVERY_MS) {
-      await summarizeDay(utcDay(now));
+      await summarizeDayWithFindings(utcDay(now), findings);
       lastToday = now;
     }
     const yesterday = utcDay(now - DAY_MS);
     if (lastYesterday !== yesterday) {
-      await summarizeDay(yesterday);
+      await summarizeDayWithFindings(yesterday, findings);
       lastYesterday = yesterday;
     }
 
@@ -94,12 +99,15 @@ export async function startReports(ctx: ServerContext, opts: { intervalMs?: numb
       }
       const shift = lastEndedShift(now, site.timeZone, starts);
       if (now - shift.end > HANDOVER_CATCH_UP_MS) continue;
-      const key: RunKey = { tenantId: site.tenantId, kind: "handover", scopeKey: `site:${site.id}`, periodStart: shift.start, periodEnd: shift.end };
-      const recipients = await handoverRecipients(site.tenantId, site.id);
       const tctx = { tenantId: site.tenantId, tenantName: site.tenantName };
-      let doc: ReportDoc | null = null;
-      const r = await deliver(key, recipients, async () => (doc ??= handoverDocument(await buildHandover(tctx, await siteShiftInfo(tctx, site.id), shift, now))));
-      count[r]++;
+      // The whole site (area null), then each area with subscribers of its own.
+      for (const areaId of [null, ...(await handoverAreas(site.tenantId, site.id))]) {
+        const key: RunKey = { tenantId: site.tenantId, kind: "handover", scopeKey: areaId === null ? `site:${site.id}` : `area:${areaId}`, periodStart: shift.start, periodEnd: shift.end };
+        const recipients = await handoverRecipients(site.tenantId, site.id, areaId);
+        let doc: ReportDoc | null = null;
+        const r = await deliver(key, recipients, async () => (doc ??= handoverDocument(await buildHandover(tctx, await siteShiftInfo(tctx, site.id, areaId), shift, now))));
+        count[r]++;
+      }
     }
 
     const week = isoWeek(now);
@@ -108,7 +116,7 @@ export async function startReports(ctx: ServerContext, opts: { intervalMs?: numb
       if (sub.report === "handover") continue;
       const key: RunKey = { tenantId: sub.tenantId, kind: sub.report, scopeKey: `sub:${sub.subscriptionId}`, periodStart: period.from, periodEnd: period.to };
       const tctx = { tenantId: sub.tenantId, tenantName: sub.tenantName };
-      const scope = { siteId: sub.siteId ?? undefined, siteIds: sub.siteIds };
+      const scope = { siteId: sub.siteId ?? undefined, areaId: sub.areaId ?? undefined, siteIds: sub.siteIds };
       const r = await deliver(key, [sub], async () =>
         sub.report === "worst-loops"
           ? worstLoopsDocument(await buildWorstLoops(tctx, { ...period, ...scope }, now), { limit: 50 })

@@ -92,6 +92,8 @@ export const ROUTES: RouteCase[] = [
   { method: "GET", path: "/api/admin/sites", minRole: "viewer", file: "admin/sites/route.ts", admitted: [200] },
   { method: "POST", path: "/api/admin/sites", minRole: "admin", file: "admin/sites/route.ts", body: {} },
   { method: "POST", path: "/api/admin/sites/:siteId/areas", minRole: "admin", file: "admin/sites/[siteId]/areas/route.ts", body: {} },
+  { method: "GET", path: "/api/admin/sites/:siteId/shifts", minRole: "viewer", file: "admin/sites/[siteId]/shifts/route.ts", admitted: [200] },
+  { method: "PUT", path: "/api/admin/sites/:siteId/shifts", minRole: "admin", file: "admin/sites/[siteId]/shifts/route.ts", body: {}, admitted: [422] },
   { method: "GET", path: "/api/admin/notification-rules", minRole: "admin", file: "admin/notification-rules/route.ts", admitted: [200] },
   { method: "POST", path: "/api/admin/notification-rules", minRole: "admin", file: "admin/notification-rules/route.ts", body: {} },
   { method: "PUT", path: "/api/admin/notification-rules/:none", minRole: "admin", file: "admin/notification-rules/[ruleId]/route.ts", body: {} },

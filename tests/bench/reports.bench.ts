@@ -73,7 +73,7 @@ async function main(): Promise<void> {
     const { worstLoopsDocument } = await import("@/lib/reports/worst-loops-document");
     const { reportPdf } = await import("@/lib/reports/pdf");
     const { reportCsv } = await import("@/lib/reports/csv");
-    const { summarizeDay } = await import("@/lib/reports/summaries");
+    const { summarizeDay } = await import("@/lib/data/reports");
     const rows = await seed(db.sequelize);
     const ctx = { tenantId: 1, tenantName: "Bench Works" };
     const screen = await median(async () => worstLoopsDocument(await buildWorstLoops(ctx, { from: FROM, to: TO }, TO, db.sequelize)));

@@ -2,7 +2,8 @@
  * Reports in Chromium against the real server and the demo seed: an operator writes a shift note
  * on the handover page of the running shift, the handover shows it, its PDF downloads and opens
  * (text read back with poppler-utils' pdftotext, page 1 rendered to PNG with pdftoppm into
- * tests/artifacts/); a note written on a loop's page appears in its timeline; the worst-loops page
+ * tests/artifacts/); a note written on a loop's page appears in its timeline, which ends with the
+ * trends beside it and scrolls within their height; the worst-loops page
  * states its formula; a viewer sees no note form.
  */
 import { execFileSync } from "node:child_process";
@@ -75,9 +76,21 @@ describe("reports in Chromium", () => {
     const loop = loops[0]!;
     await page.goto(`${srv.url}/loops/${loop.id}`);
     const text = `Checked positioner on ${loop.tag}, air supply fine`;
+    await page.getByRole("button", { name: "Write a note" }).click();
     await page.getByLabel("Note on this loop").fill(text);
     await page.getByRole("button", { name: "Add note" }).click();
     await expect.poll(() => page.getByTestId("loop-timeline").textContent(), { timeout: 15_000 }).toContain(text);
+    // At 1440 px wide the timeline sits beside the trends and ends with them: it scrolls within
+    // their height instead of stretching the row (no empty area below the trends).
+    const box = async (sel: string) => (await page.locator(sel).boundingBox())!;
+    const trends = await box('section[aria-label="Trends"]');
+    const panel = await box('[data-testid="loop-timeline-panel"]');
+    expect(panel.x).toBeGreaterThan(trends.x + trends.width - 1);
+    expect(Math.abs(panel.y + panel.height - (trends.y + trends.height))).toBeLessThan(2);
+    const list = await page.getByTestId("loop-timeline").evaluate((el) => ({ overflow: getComputedStyle(el).overflowY, bottom: el.getBoundingClientRect().bottom }));
+    expect(list.overflow).toBe("auto");
+    expect(list.bottom).toBeLessThanOrEqual(panel.y + panel.height + 1);
+    await page.screenshot({ path: artifactPath("loop-detail-timeline.png"), fullPage: true });
     await page.close();
   });
 

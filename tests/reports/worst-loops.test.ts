@@ -21,7 +21,7 @@ import { decayRatio } from "@/lib/control/zplane";
 import { reportCsv } from "@/lib/reports/csv";
 import { reportPdf } from "@/lib/reports/pdf";
 import { SCORE_FORMULA_LINES } from "@/lib/reports/score";
-import { summarizeDay } from "@/lib/reports/summaries";
+import { summarizeDay } from "@/lib/data/reports";
 import { buildWorstLoops, type WorstLoopsReport } from "@/lib/reports/worst-loops";
 import { worstLoopsDocument } from "@/lib/reports/worst-loops-document";
 import { DEMO_LOOPS } from "@/lib/seed/demo";

@@ -3,6 +3,7 @@ import { AdminDevices } from "@/app/(console)/admin/_components/admin-devices";
 import { AdminLoopImport } from "@/app/_components/admin-loop-import";
 import { AdminOutbox, AdminRules, AdminSites } from "@/app/(console)/admin/_components/admin-misc";
 import { AdminPolicies } from "@/app/(console)/admin/_components/admin-policies";
+import { AdminShifts } from "@/app/(console)/admin/_components/admin-shifts";
 import { AdminUsers } from "@/app/(console)/admin/_components/admin-users";
 import { ConfigChangeLog } from "@/app/_components/config-change-log";
 import { getContextOrNull } from "@/lib/auth/guard";
@@ -55,7 +56,12 @@ export default async function AdminPage({ searchParams }: { searchParams: Promis
       {section === "users" && <AdminUsers selfUserId={ctx.userId} />}
       {section === "devices" && <AdminDevices />}
       {section === "notifications" && <AdminRules />}
-      {section === "sites" && <AdminSites />}
+      {section === "sites" && (
+        <>
+          <AdminSites />
+          <AdminShifts />
+        </>
+      )}
       {section === "outbox" && <AdminOutbox />}
       {section === "log" && <ConfigChangeLog title="Configuration change log" />}
     </div>

@@ -10,19 +10,23 @@ import { assertSiteVisible, findOwned, findOwnedOrThrow, siteVisible } from "@/l
 import type { TenantContext } from "@/lib/domain/types";
 import { inConfigTransaction, logConfigChange } from "./config-log";
 
+/** A text field holding an IANA time zone the runtime knows (e.g. Europe/Berlin). */
+export const ianaTimeZone = () =>
+  text()
+    .trim()
+    .refine((tz) => {
+      try {
+        new Intl.DateTimeFormat("en", { timeZone: tz });
+        return tz.length > 0;
+      } catch {
+        return false;
+      }
+    }, "Use an IANA time zone such as Europe/Berlin.");
+
 export const siteSchema = z
   .object({
     name: text().trim().min(2, "Name the site.").max(120),
-    timeZone: text()
-      .trim()
-      .refine((tz) => {
-        try {
-          new Intl.DateTimeFormat("en", { timeZone: tz });
-          return true;
-        } catch {
-          return false;
-        }
-      }, "Use an IANA time zone such as Europe/Berlin."),
+    timeZone: ianaTimeZone(),
     reason: text().trim().max(500).optional(),
   })
   .strict();

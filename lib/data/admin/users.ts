@@ -12,6 +12,7 @@ import bcrypt from "bcryptjs";
 import { z } from "zod";
 import { text } from "@/lib/text-input";
 import { publicOrigin } from "@/lib/config";
+import { membershipSiteScopes } from "@/lib/data/reports";
 import { getDb } from "@/lib/data/db/sequelize";
 import { ConflictError, ForbiddenError, NotFoundError, ValidationError } from "@/lib/domain/errors";
 import { notifyUserChanged, runningService } from "@/lib/data/server-context";
@@ -43,6 +44,8 @@ export interface MemberDto {
   role: Role;
   disabled: boolean;
   lastSignInAt: string | null;
+  /** The sites this member may see; null = every site of the tenant (membership_sites). */
+  siteIds: number[] | null;
 }
 export interface InvitationDto {
   id: number;
@@ -57,6 +60,7 @@ const hashToken = (t: string) => createHash("sha256").update(t, "utf8").digest("
 export async function listMembers(ctx: TenantContext): Promise<{ members: MemberDto[]; invitations: InvitationDto[] }> {
   const { Membership, User, Invitation } = getDb().models;
   const rows = await Membership.findAll({ where: { tenantId: ctx.tenantId }, include: [{ model: User, as: "user" }], order: [["id", "ASC"]] });
+  const scopes = await membershipSiteScopes(ctx.tenantId);
   const members = rows.map((m) => {
     const u = (m as unknown as { user: InstanceType<typeof User> }).user;
     return {
@@ -67,6 +71,7 @@ export async function listMembers(ctx: TenantContext): Promise<{ members: Member
       role: m.role,
       disabled: Boolean(u.disabled),
       lastSignInAt: u.lastSignInAt ? new Date(u.lastSignInAt).toISOString() : null,
+      siteIds: scopes.get(m.id) ?? null,
     };
   });
   const inv = await Invitation.findAll({ where: { tenantId: ctx.tenantId }, order: [["id", "DESC"]], limit: 100 });
@@ -136,7 +141,8 @@ export async function changeRole(ctx: TenantContext, membershipId: number, input
     notifyUserChanged(m.userId);
   }
   const u = (m as unknown as { user: InstanceType<typeof User> }).user;
-  return { membershipId: m.id, userId: u.id, email: u.email, name: u.name, role: m.role, disabled: Boolean(u.disabled), lastSignInAt: u.lastSignInAt ? new Date(u.lastSignInAt).toISOString() : null };
+  const siteIds = (await membershipSiteScopes(ctx.tenantId)).get(m.id) ?? null;
+  return { membershipId: m.id, userId: u.id, email: u.email, name: u.name, role: m.role, disabled: Boolean(u.disabled), lastSignInAt: u.lastSignInAt ? new Date(u.lastSignInAt).toISOString() : null, siteIds };
 }
 
 export async function removeMember(ctx: TenantContext, membershipId: number, reason: string): Promise<void> {

@@ -5,6 +5,7 @@ import { useState } from "react";
 import { useForm } from "react-hook-form";
 import useSWR from "swr";
 import { z } from "zod";
+import type { SiteDto } from "@/lib/data/admin/sites";
 import type { InvitationDto, MemberDto } from "@/lib/data/admin/users";
 import { ROLES, roleAtLeast, type Role } from "@/lib/domain/types";
 import { fetchJson, sendJson } from "@/lib/client/fetcher";
@@ -12,11 +13,13 @@ import { useNow } from "@/lib/client/hooks";
 import { fmtTime } from "@/lib/client/format";
 import { Field, FormAlert, INPUT_CLASS, SUBMIT_CLASS, useServerError } from "@/app/_components/form-field";
 import { ReasonDialog } from "@/app/_components/reason-dialog";
+import { MemberSites } from "./admin-member-sites";
 
 const inviteForm = z.object({ email: z.string().trim().email("Enter a valid e-mail address."), role: z.enum(ROLES) });
 
 export function AdminUsers({ selfUserId }: { selfUserId: number }) {
   const { data, error, mutate } = useSWR("/api/admin/users", (u: string) => fetchJson<{ members: MemberDto[]; invitations: InvitationDto[] }>(u));
+  const sites = useSWR("/api/admin/sites", (u: string) => fetchJson<{ sites: SiteDto[] }>(u)).data?.sites ?? [];
   const now = useNow(60_000);
   const [msg, setMsg] = useState<string | null>(null);
   const { error: err, attempt } = useServerError();
@@ -62,6 +65,7 @@ export function AdminUsers({ selfUserId }: { selfUserId: number }) {
             <th className="px-2 py-1">Name</th>
             <th className="px-2 py-1">E-mail</th>
             <th className="px-2 py-1">Role</th>
+            <th className="px-2 py-1">Sites</th>
             <th className="px-2 py-1">Last sign-in</th>
             <th className="px-2 py-1">
               <span className="sr-only">Actions</span>
@@ -79,6 +83,9 @@ export function AdminUsers({ selfUserId }: { selfUserId: number }) {
                     <option key={r}>{r}</option>
                   ))}
                 </select>
+              </td>
+              <td className="px-2 py-1">
+                <MemberSites member={m} sites={sites.map((s) => ({ id: s.id, name: s.name }))} self={m.userId === selfUserId} onChanged={() => void mutate()} />
               </td>
               <td className="num px-2 py-1">{m.lastSignInAt ? fmtTime(m.lastSignInAt) : "never"}</td>
               <td className="px-2 py-1">

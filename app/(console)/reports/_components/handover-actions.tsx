@@ -3,6 +3,7 @@
 import { useRouter } from "next/navigation";
 import { useState } from "react";
 import { sendJson } from "@/lib/client/fetcher";
+import { AreaSelect } from "./area-select";
 
 export function ShiftNoteForm({ siteId, areas }: { siteId: number; areas: { id: number; name: string }[] }) {
   const router = useRouter();
@@ -33,14 +34,7 @@ export function ShiftNoteForm({ siteId, areas }: { siteId: number; areas: { id: 
       <div className="flex flex-wrap items-center gap-2">
         <label className="text-sm text-muted">
           Area{" "}
-          <select value={areaId} onChange={(e) => setAreaId(e.target.value)} className="rounded border border-line bg-ground px-1 py-0.5 text-sm">
-            <option value="">whole site</option>
-            {areas.map((a) => (
-              <option key={a.id} value={a.id}>
-                {a.name}
-              </option>
-            ))}
-          </select>
+          <AreaSelect value={areaId} onChange={setAreaId} areas={areas} emptyLabel="whole site" className="rounded border border-line bg-ground px-1 py-0.5 text-sm" />
         </label>
         <button type="submit" disabled={busy || !text.trim()} className="rounded border border-line px-3 py-0.5 text-sm disabled:opacity-50">
           Add shift note

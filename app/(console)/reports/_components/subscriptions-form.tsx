@@ -1,16 +1,28 @@
 "use client";
-/** The caller's own report e-mails: add (handover per shift for a site; worst loops or fleet health weekly) and remove. */
+/**
+ * The caller's own report e-mails: add (handover per shift for a site or one of its areas; worst
+ * loops or fleet health weekly, for every site, a site or an area) and remove.
+ */
 import { useRouter } from "next/navigation";
 import { useState } from "react";
 import { sendJson } from "@/lib/client/fetcher";
 import type { SubscriptionDto } from "@/lib/reports/delivery";
+import { AreaSelect } from "./area-select";
 
 const NAMES: Record<string, string> = { handover: "Shift handover", "worst-loops": "Worst loops", "fleet-health": "Fleet health" };
 
-export function SubscriptionsForm({ subscriptions, sites }: { subscriptions: SubscriptionDto[]; sites: { id: number; name: string }[] }) {
+export interface SubscriptionSite {
+  id: number;
+  name: string;
+  areas: { id: number; name: string }[];
+}
+
+export function SubscriptionsForm({ subscriptions, sites }: { subscriptions: SubscriptionDto[]; sites: SubscriptionSite[] }) {
   const router = useRouter();
   const [report, setReport] = useState("handover");
   const [siteId, setSiteId] = useState(sites[0] ? String(sites[0].id) : "");
+  const [areaId, setAreaId] = useState("");
+  const areas = sites.find((s) => String(s.id) === siteId)?.areas ?? [];
   const [fail, setFail] = useState<string | null>(null);
   const field = "rounded border border-line bg-ground px-1 py-0.5 text-sm";
   async function run(fn: () => Promise<unknown>) {
@@ -31,6 +43,7 @@ export function SubscriptionsForm({ subscriptions, sites }: { subscriptions: Sub
             <span>
               {NAMES[s.report]} · {s.cadence === "shift" ? "after every shift" : "weekly (Monday, previous week)"}
               {s.siteName ? ` · ${s.siteName}` : " · all your sites"}
+              {s.siteName ? (s.areaName ? ` · area ${s.areaName}` : " · every area") : ""}
             </span>
             <button type="button" className="rounded border border-line px-2 py-0.5" onClick={() => run(() => sendJson(`/api/reports/subscriptions/${s.id}`, "DELETE"))}>
               Stop
@@ -47,6 +60,7 @@ export function SubscriptionsForm({ subscriptions, sites }: { subscriptions: Sub
               report,
               cadence: report === "handover" ? "shift" : "weekly",
               ...(siteId ? { siteId: Number(siteId) } : {}),
+              ...(siteId && areaId ? { areaId: Number(areaId) } : {}),
             }),
           );
         }}
@@ -63,7 +77,14 @@ export function SubscriptionsForm({ subscriptions, sites }: { subscriptions: Sub
         </label>
         <label className="flex flex-col text-muted">
           Site
-          <select value={siteId} onChange={(e) => setSiteId(e.target.value)} className={field}>
+          <select
+            value={siteId}
+            onChange={(e) => {
+              setSiteId(e.target.value);
+              setAreaId("");
+            }}
+            className={field}
+          >
             {report !== "handover" && <option value="">all your sites</option>}
             {sites.map((s) => (
               <option key={s.id} value={s.id}>
@@ -71,6 +92,10 @@ export function SubscriptionsForm({ subscriptions, sites }: { subscriptions: Sub
               </option>
             ))}
           </select>
+        </label>
+        <label className="flex flex-col text-muted">
+          Area
+          <AreaSelect value={areaId} onChange={setAreaId} areas={areas} emptyLabel={siteId ? "every area of the site" : "—"} className={field} disabled={!siteId} />
         </label>
         <button type="submit" className="rounded border border-line px-3 py-1">
           Send it to me {report === "handover" ? "after every shift" : "weekly"}

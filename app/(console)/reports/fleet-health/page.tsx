@@ -18,16 +18,18 @@ export default async function FleetHealthPage({ searchParams }: { searchParams: 
   if (!ctx) redirect("/signin");
   const sp = await searchParams;
   const granularity = sp.granularity === "month" ? "month" : "week";
-  const raw = Object.fromEntries(Object.entries(sp).filter(([k, v]) => v && k !== "granularity" && k !== "areaId" && k !== "kind"));
+  const raw = Object.fromEntries(Object.entries(sp).filter(([k, v]) => v && k !== "granularity"));
   const parsed = periodReportQuery.safeParse(raw);
   const q = parsed.success ? parsed.data : { format: "json" as const };
   const now = readTime();
   const period = periodOf(q, now, 84);
   const sites = (await listSites(ctx)).filter((s) => !ctx.siteIds || ctx.siteIds.includes(s.id));
-  const report = await buildFleetHealth(ctx, { ...period, siteId: q.siteId, granularity, siteIds: ctx.siteIds ?? null }, now);
+  const report = await buildFleetHealth(ctx, { ...period, siteId: q.siteId, areaId: q.areaId, kind: q.kind, granularity, siteIds: ctx.siteIds ?? null }, now);
   const doc = fleetHealthDocument(report);
   const params = new URLSearchParams({ from: day(period.from), to: day(period.to - 86_400_000), granularity });
   if (q.siteId) params.set("siteId", String(q.siteId));
+  if (q.areaId) params.set("areaId", String(q.areaId));
+  if (q.kind) params.set("kind", q.kind);
   return (
     <div className="flex flex-col gap-4">
       <ReportTabs active="/reports/fleet-health" />
@@ -46,7 +48,7 @@ export default async function FleetHealthPage({ searchParams }: { searchParams: 
           </a>
         </span>
       </div>
-      <PeriodFilter action="/reports/fleet-health" from={day(period.from)} to={day(period.to - 86_400_000)} siteId={q.siteId} sites={sites} />
+      <PeriodFilter action="/reports/fleet-health" from={day(period.from)} to={day(period.to - 86_400_000)} siteId={q.siteId} areaId={q.areaId} kind={q.kind} sites={sites} />
       <ReportDocView doc={doc} />
     </div>
   );

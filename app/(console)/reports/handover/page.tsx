@@ -14,7 +14,7 @@ import { ReportTabs } from "../_components/report-tabs";
 export const dynamic = "force-dynamic";
 export const metadata = { title: "Shift handover · Rimguard" };
 
-export default async function HandoverPage({ searchParams }: { searchParams: Promise<{ site?: string; shift?: string }> }) {
+export default async function HandoverPage({ searchParams }: { searchParams: Promise<{ site?: string; area?: string; shift?: string }> }) {
   const ctx = await getContextOrNull();
   if (!ctx) redirect("/signin");
   const sp = await searchParams;
@@ -29,7 +29,10 @@ export default async function HandoverPage({ searchParams }: { searchParams: Pro
     );
   }
   if (sp.site && String(chosen.id) !== sp.site) notFound();
-  const site = await siteShiftInfo(ctx, chosen.id);
+  const area = sp.area ? chosen.areas.find((a) => String(a.id) === sp.area) : undefined;
+  if (sp.area && !area) notFound();
+  const site = await siteShiftInfo(ctx, chosen.id, area?.id ?? null);
+  const areaQ = area ? `&area=${area.id}` : "";
   const now = readTime();
   const asked = sp.shift === "current" ? "current" : sp.shift ? Date.parse(sp.shift) : undefined;
   if (typeof asked === "number" && !Number.isFinite(asked)) notFound();
@@ -43,9 +46,9 @@ export default async function HandoverPage({ searchParams }: { searchParams: Pro
   const doc = handoverDocument(h);
   const prev = shiftAt(shift.start - 1, site.timeZone, site.shiftStarts);
   const next = nextShift(shift, site.timeZone, site.shiftStarts);
-  const href = (s: string) => `/reports/handover?site=${site.siteId}&shift=${encodeURIComponent(s)}`;
+  const href = (s: string) => `/reports/handover?site=${site.siteId}${areaQ}&shift=${encodeURIComponent(s)}`;
   const shiftIso = new Date(shift.start).toISOString();
-  const download = (format: string) => `/api/reports/handover?siteId=${site.siteId}&shift=${h.inProgress ? "current" : encodeURIComponent(shiftIso)}&format=${format}`;
+  const download = (format: string) => `/api/reports/handover?siteId=${site.siteId}${area ? `&areaId=${area.id}` : ""}&shift=${h.inProgress ? "current" : encodeURIComponent(shiftIso)}&format=${format}`;
   return (
     <div className="flex flex-col gap-4">
       <ReportTabs active="/reports/handover" />
@@ -65,10 +68,22 @@ export default async function HandoverPage({ searchParams }: { searchParams: Pro
             ))}
         </div>
       </div>
+      {chosen.areas.length > 0 && (
+        <nav aria-label="Areas" className="flex flex-wrap items-center gap-3 text-sm">
+          <Link href={`/reports/handover?site=${site.siteId}`} aria-current={!area ? "true" : undefined} className={!area ? "font-medium underline" : "text-muted"}>
+            whole site
+          </Link>
+          {chosen.areas.map((a) => (
+            <Link key={a.id} href={`/reports/handover?site=${site.siteId}&area=${a.id}`} aria-current={a.id === area?.id ? "true" : undefined} className={a.id === area?.id ? "font-medium underline" : "text-muted"}>
+              {a.name}
+            </Link>
+          ))}
+        </nav>
+      )}
       <nav aria-label="Shifts" className="flex flex-wrap items-center gap-3 text-sm">
         <Link href={href(new Date(prev.start).toISOString())}>← previous shift ({formatLocal(prev.start, site.timeZone)})</Link>
         {next.end <= now && <Link href={href(new Date(next.start).toISOString())}>next shift ({formatLocal(next.start, site.timeZone)}) →</Link>}
-        <Link href={`/reports/handover?site=${site.siteId}`}>last ended shift</Link>
+        <Link href={`/reports/handover?site=${site.siteId}${areaQ}`}>last ended shift</Link>
         <Link href={href("current")}>running shift (in progress)</Link>
         <span className="ml-auto flex gap-2">
           <a href={download("csv")} download className="rounded border border-line px-2 py-0.5">

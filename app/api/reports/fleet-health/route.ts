@@ -1,5 +1,5 @@
 /**
- * GET /api/reports/fleet-health?from=&to=&siteId=&granularity=week|month&format=json|csv|pdf —
+ * GET /api/reports/fleet-health?from=&to=&siteId=&areaId=&kind=&granularity=week|month&format=json|csv|pdf —
  * share of loops by diagnosis label per week or month, from the daily summaries (viewer).
  * Default period: the last 12 weeks.
  */
@@ -14,13 +14,13 @@ import { documentResponse } from "@/lib/reports/respond";
 
 export const dynamic = "force-dynamic";
 
-const query = periodReportQuery.omit({ areaId: true, kind: true }).extend({ granularity: z.enum(["week", "month"]).default("week") });
+const query = periodReportQuery.extend({ granularity: z.enum(["week", "month"]).default("week") });
 
 export const GET = handle(async (req: Request) => {
   const ctx = await requireContext("viewer");
   const q = parseQuery(req, query);
   const now = Date.now();
-  const report = await buildFleetHealth(ctx, { ...periodOf(q, now, 84), siteId: q.siteId, granularity: q.granularity, siteIds: ctx.siteIds ?? null }, now);
+  const report = await buildFleetHealth(ctx, { ...periodOf(q, now, 84), siteId: q.siteId, areaId: q.areaId, kind: q.kind, granularity: q.granularity, siteIds: ctx.siteIds ?? null }, now);
   if (q.format === "json") return NextResponse.json({ report });
   return documentResponse(fleetHealthDocument(report), q.format);
 });

@@ -207,8 +207,10 @@ export function LoopDetail({ loopId, role, initialRange = "1h" }: { loopId: numb
         {live.error && <span className="text-xs text-high">live samples refused: {live.error}</span>}
       </div>
 
-      <div className="grid gap-4 xl:grid-cols-[minmax(0,1fr)_400px]">
-        <section className="flex flex-col gap-1 rounded-md border border-line bg-surface p-2" aria-label="Trends">
+      {/* On wide screens the trends span both rows of the right column: the z-plane takes its
+          height, the timeline the rest of the trends' height and scrolls within it. */}
+      <div className="grid gap-4 xl:grid-cols-[minmax(0,1fr)_400px] xl:grid-rows-[auto_minmax(0,1fr)]">
+        <section className="flex flex-col gap-1 rounded-md border border-line bg-surface p-2 xl:row-span-2" aria-label="Trends">
           <TrendChart
             data={processData.slice(0, 3) as uPlot.AlignedData}
             series={[
@@ -254,7 +256,6 @@ export function LoopDetail({ loopId, role, initialRange = "1h" }: { loopId: numb
           />
           <p className="text-xs text-muted">Move the pointer over any trend to see the poles of that moment on the map. SP dashed, PV solid, MV below; scales fixed from the loop&apos;s range.</p>
         </section>
-        <div className="flex flex-col gap-4">
         <section className="flex flex-col items-center gap-2 rounded-md border border-line bg-surface p-2" aria-label="z-plane">
           <h2 className="self-start font-semibold">
             z-plane{" "}
@@ -306,7 +307,6 @@ export function LoopDetail({ loopId, role, initialRange = "1h" }: { loopId: numb
           </p>
         </section>
         <LoopTimeline loopId={loopId} role={role} />
-        </div>
       </div>
 
       <section className="rounded-md border border-line bg-surface p-3" aria-label="Analysis">

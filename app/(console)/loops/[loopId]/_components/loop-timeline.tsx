@@ -32,6 +32,8 @@ export function LoopTimeline({ loopId, role }: { loopId: number; role: Role }) {
   const [text, setText] = useState("");
   const [busy, setBusy] = useState(false);
   const [fail, setFail] = useState<string | null>(null);
+  // The form opens on demand, so the list keeps the panel's room beside the trends.
+  const [writing, setWriting] = useState(false);
   const canWrite = roleAtLeast(role, "operator");
 
   async function submit(e: React.FormEvent) {
@@ -41,6 +43,7 @@ export function LoopTimeline({ loopId, role }: { loopId: number; role: Role }) {
     try {
       await sendJson("/api/notes", "POST", { kind: "loop", loopId, text });
       setText("");
+      setWriting(false);
       await mutate();
     } catch (err) {
       setFail((err as Error).message);
@@ -50,11 +53,21 @@ export function LoopTimeline({ loopId, role }: { loopId: number; role: Role }) {
   }
 
   return (
-    <section className="flex min-h-0 flex-col gap-2 rounded-md border border-line bg-surface p-2" aria-label="Timeline">
-      <h2 className="font-semibold">
-        Timeline <span className="text-sm font-normal text-muted">last 7 days</span>
-      </h2>
-      {canWrite && (
+    // Wide screens: sized by its grid row (the trends' height less the z-plane; at least 10rem for
+    // the heading, the note form and a row or two), never by its items (contain: size), so the
+    // list scrolls inside instead of stretching the page.
+    <section className="flex min-h-0 flex-col gap-2 rounded-md border border-line bg-surface p-2 xl:min-h-40 xl:[contain:size]" aria-label="Timeline" data-testid="loop-timeline-panel">
+      <div className="flex items-baseline justify-between gap-2">
+        <h2 className="font-semibold">
+          Timeline <span className="text-sm font-normal text-muted">last 7 days</span>
+        </h2>
+        {canWrite && !writing && (
+          <button type="button" className="rounded border border-line px-2 py-0.5 text-xs" onClick={() => setWriting(true)}>
+            Write a note
+          </button>
+        )}
+      </div>
+      {canWrite && writing && (
         <form onSubmit={submit} className="flex flex-col gap-1">
           <label className="text-xs text-muted" htmlFor={`note-${loopId}`}>
             Note on this loop
@@ -65,11 +78,15 @@ export function LoopTimeline({ loopId, role }: { loopId: number; role: Role }) {
             onChange={(e) => setText(e.target.value)}
             maxLength={2000}
             rows={2}
+            autoFocus
             className="rounded border border-line bg-ground px-2 py-1 text-sm"
           />
           <div className="flex items-center gap-2">
             <button type="submit" disabled={busy || !text.trim()} className="rounded border border-line px-2 py-0.5 text-sm disabled:opacity-50">
               Add note
+            </button>
+            <button type="button" className="text-xs text-muted underline" onClick={() => setWriting(false)}>
+              cancel
             </button>
             {fail && <span role="alert" className="text-xs text-urgent">{fail}</span>}
           </div>
@@ -78,7 +95,7 @@ export function LoopTimeline({ loopId, role }: { loopId: number; role: Role }) {
       {error && <p className="text-sm text-urgent">Could not load the timeline: {(error as Error).message}</p>}
       {isLoading && <p className="text-sm text-muted">Loading…</p>}
       {data && data.items.length === 0 && <p className="text-sm text-muted">Nothing happened on this loop in the last 7 days.</p>}
-      <ol className="max-h-[420px] divide-y divide-line overflow-y-auto text-sm" data-testid="loop-timeline">
+      <ol className="max-h-[420px] min-h-0 divide-y divide-line overflow-y-auto text-sm xl:max-h-none xl:flex-1" data-testid="loop-timeline">
         {data?.items.map((i, k) => (
           <li key={`${i.kind}-${i.refId ?? k}-${i.at}`} className="flex gap-2 py-1.5">
             <KindGlyph kind={i.kind} />
@@ -86,6 +103,12 @@ export function LoopTimeline({ loopId, role }: { loopId: number; role: Role }) {
               <div className="flex flex-wrap gap-x-2">
                 <span className="text-xs uppercase tracking-wide text-muted">{KIND_WORD[i.kind]}</span>
                 <span>{i.title}</span>
+                {i.repeats && i.repeats > 1 && (
+                  <span className="text-xs text-muted" title={i.firstAt ? `first at ${fmtTime(i.firstAt)}` : undefined}>
+                    ×{i.repeats}
+                    {i.firstAt ? ` since ${fmtTime(i.firstAt)}` : ""}
+                  </span>
+                )}
               </div>
               {i.detail && <p className="whitespace-pre-wrap break-words text-muted">{i.detail}</p>}
               <p className="num font-mono text-xs text-muted">

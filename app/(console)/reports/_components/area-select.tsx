@@ -1,0 +1,27 @@
+/** An operator-area choice of one site; the empty value means the whole site (label given by the caller). */
+export function AreaSelect({
+  value,
+  onChange,
+  areas,
+  emptyLabel,
+  className,
+  disabled,
+}: {
+  value: string;
+  onChange: (areaId: string) => void;
+  areas: { id: number; name: string }[];
+  emptyLabel: string;
+  className: string;
+  disabled?: boolean;
+}) {
+  return (
+    <select value={value} onChange={(e) => onChange(e.target.value)} className={className} disabled={disabled}>
+      <option value="">{emptyLabel}</option>
+      {areas.map((a) => (
+        <option key={a.id} value={a.id}>
+          {a.name}
+        </option>
+      ))}
+    </select>
+  );
+}
