@@ -113,7 +113,7 @@ export async function bindSparkplugGroup(ctx: TenantContext, input: { groupId: s
   await inConfigTransaction(async (transaction) => {
     const [owner] = await sequelize.query<{ tenant_id: number }>("SELECT tenant_id FROM sparkplug_groups WHERE group_id = ? FOR UPDATE", { type: QueryTypes.SELECT, replacements: [input.groupId], transaction });
     if (owner) throw new ConflictError(owner.tenant_id === ctx.tenantId ? "This group id is already yours." : "This group id is not available.");
-    const [id] = await sequelize.query("INSERT INTO sparkplug_groups (tenant_id, group_id) VALUES (?, ?)", { type: QueryTypes.INSERT, replacements: [ctx.tenantId, input.groupId], transaction });
+    const [id] = await sequelize.query("INSERT INTO sparkplug_groups (tenant_id, group_id, created_at) VALUES (?, ?, NOW(3))", { type: QueryTypes.INSERT, replacements: [ctx.tenantId, input.groupId], transaction });
     await logConfigChange(ctx, { entity: "sparkplug-group", entityId: Number(id), diff: { groupId: { from: null, to: input.groupId } }, reason: input.reason ?? null }, transaction);
   });
 }
