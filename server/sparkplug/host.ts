@@ -12,7 +12,7 @@
 import type { Sequelize } from "sequelize";
 import { loadSparkplugBirths, loadSparkplugGroups, loadSparkplugMappings, saveSparkplugBirths } from "@/lib/data/sparkplug";
 import type { BirthRecord, LoopMapping } from "@/lib/domain/sparkplug";
-import type { RejectReason } from "@/lib/domain/telemetry";
+import { MAX_PAYLOAD_BYTES, type RejectReason } from "@/lib/domain/telemetry";
 import type { BrokerMessage, TopicNamespace } from "@/server/broker";
 import { EXTERNAL_BROKER } from "@/server/broker/types";
 import type { DeviceCredential } from "@/server/broker/credentials";
@@ -104,6 +104,7 @@ export class SparkplugHost {
     if (owner === undefined) return reject("sp-unbound-group"), null;
     if (device.tenantId !== null && device.tenantId !== owner) return reject("wrong-tenant"), null;
     if (msg.retain) return reject("retained"), null;
+    if (msg.payload.byteLength > MAX_PAYLOAD_BYTES) return reject("too-large"), null;
     const topic = parseSparkplugTopic(msg.topic);
     if (!topic) return reject("bad-topic"), null;
     const decoded = decodeSparkplugPayload(msg.payload);
