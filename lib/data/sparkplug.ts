@@ -103,7 +103,10 @@ export async function sparkplugOverview(ctx: TenantContext): Promise<SparkplugOv
       needsRebirth: b.needsRebirth,
       metrics: b.metrics.map((m) => ({ name: m.name, alias: m.alias, datatype: datatypeName(m.datatype), value: m.value ?? null })),
     })),
-    mappings: mappings.map((r) => ({ ...toMapping(r), tenantId: undefined, loopTag: r.tag ?? "" })).map(({ tenantId: _t, ...rest }) => rest),
+    mappings: mappings.map((r) => {
+      const { tenantId: _tenant, ...rest } = toMapping(r);
+      return { ...rest, loopTag: r.tag ?? "" };
+    }),
   };
 }
 

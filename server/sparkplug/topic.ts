@@ -4,6 +4,8 @@
  * the specification; Rimguard takes letters, digits and `._:-`, 1 to 64 characters, so an id is
  * also a safe key in the database and in the admin's form.
  */
+import { isSparkplugId } from "@/lib/domain/sparkplug";
+
 export const SPARKPLUG_NAMESPACE = "spBv1.0";
 export const SPARKPLUG_WILDCARD = `${SPARKPLUG_NAMESPACE}/#`;
 
@@ -19,7 +21,6 @@ export interface SparkplugTopic {
   device: string;
 }
 
-import { isSparkplugId } from "@/lib/domain/sparkplug";
 
 export function isSparkplugTopic(topic: string): boolean {
   return topic.startsWith(`${SPARKPLUG_NAMESPACE}/`);
