@@ -33,7 +33,7 @@ import { installWatch } from "./realtime/watch";
 import { TrackerRegistry } from "./tracking/registry";
 import { BackfillHost } from "./backfill/host";
 import { startLiveAssessment, type LiveAssessmentService } from "./assessment/service";
-import { SparkplugHost } from "./sparkplug/host";
+import { databaseStore, SparkplugHost } from "./sparkplug/host";
 import { SPARKPLUG_WILDCARD } from "./sparkplug/topic";
 
 export interface PipelineOptions {
@@ -173,7 +173,7 @@ export async function startPipeline(
     // Sparkplug store-and-forward samples: history, not live
     historySink: (route, samples) => history.addSamples(route.loopId, samples),
   });
-  const sparkplug = new SparkplugHost({ sequelize, ingest, counters, directory, registry, now: () => ctx.clock.now() });
+  const sparkplug = new SparkplugHost({ store: databaseStore(sequelize), ingest, counters, directory, registry, now: () => ctx.clock.now() });
   await sparkplug.start();
   ingest.seedLastTimes(
     lastStates.flatMap((s) => (s.last ? [[s.loopId, s.last.t] as [number, number]] : [])),

@@ -165,3 +165,24 @@ export async function deleteSparkplugMapping(ctx: TenantContext, loopId: number,
     await logConfigChange(ctx, { entity: "sparkplug-mapping", entityId: loopId, diff: diffOf(before, Object.fromEntries(Object.keys(before).map((k) => [k, null]))), reason: reason ?? null }, transaction);
   });
 }
+
+/**
+ * The demo's Sparkplug side (lib/seed): each demo tenant owns its slug as group id and every demo
+ * loop is mapped to the simulators' device for it, so `--protocol sparkplug` feeds the same loops.
+ * Existing rows are kept (idempotent).
+ */
+export async function seedSparkplugDemo(sequelize: Sequelize, transaction: Transaction, groups: { tenantId: number; groupId: string }[], mappings: Omit<LoopMapping, "sp" | "pv" | "mv" | "mode">[]): Promise<number> {
+  let created = 0;
+  for (const g of groups) {
+    const [, n] = await sequelize.query("INSERT IGNORE INTO sparkplug_groups (tenant_id, group_id, created_at) VALUES (?, ?, NOW(3))", { replacements: [g.tenantId, g.groupId], transaction });
+    created += Number(n) || 0;
+  }
+  for (const m of mappings) {
+    const [, n] = await sequelize.query(
+      "INSERT IGNORE INTO sparkplug_mappings (tenant_id, loop_id, group_id, edge_node, device, sp_metric, pv_metric, mv_metric, mode_metric, updated_at) VALUES (?, ?, ?, ?, ?, 'SP', 'PV', 'MV', 'MODE', NOW(3))",
+      { replacements: [m.tenantId, m.loopId, m.groupId, m.edgeNode, m.device], transaction },
+    );
+    created += Number(n) || 0;
+  }
+  return created;
+}

@@ -126,3 +126,19 @@ export interface SparkplugOverviewDto {
   sources: SparkplugSourceDto[];
   mappings: (Omit<LoopMapping, "tenantId"> & { loopTag: string })[];
 }
+
+/**
+ * Where the simulators' Sparkplug mode publishes a loop, and what the demo seed maps: the
+ * tenant's slug as group id, one edge node per site (`sim-<site>`), one device per loop, metrics
+ * SP, PV, MV and MODE (a string) with aliases 1 to 4.
+ */
+export const SIM_METRICS = [
+  { name: "SP", alias: 1 },
+  { name: "PV", alias: 2 },
+  { name: "MV", alias: 3 },
+  { name: "MODE", alias: 4 },
+] as const;
+
+export function simulatorSparkplugIds(tenantSlug: string, siteSlug: string, loopSlug: string): { groupId: string; edgeNode: string; device: string } {
+  return { groupId: tenantSlug, edgeNode: `sim-${siteSlug}`, device: loopSlug };
+}

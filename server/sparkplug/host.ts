@@ -23,8 +23,25 @@ import { LoopResampler, type HeldSample } from "./resample";
 import { SparkplugNodes, type MetricUpdate, type SparkplugOutcome } from "./state";
 import { groupOfTopic, isSparkplugTopic, parseSparkplugTopic, type SparkplugTopic } from "./topic";
 
+/** Where groups, mappings and births are kept (MariaDB through lib/data/sparkplug.ts; the bench passes memory). */
+export interface SparkplugStore {
+  loadGroups(): Promise<Map<string, number>>;
+  loadMappings(): Promise<LoopMapping[]>;
+  loadBirths(): Promise<(BirthRecord & { tenantId: number })[]>;
+  saveBirths(rows: readonly { tenantId: number; record: BirthRecord }[]): Promise<void>;
+}
+
+export function databaseStore(sequelize: Sequelize): SparkplugStore {
+  return {
+    loadGroups: () => loadSparkplugGroups(sequelize),
+    loadMappings: () => loadSparkplugMappings(sequelize),
+    loadBirths: () => loadSparkplugBirths(sequelize),
+    saveBirths: (rows) => saveSparkplugBirths(sequelize, rows),
+  };
+}
+
 export interface SparkplugHostOptions {
-  sequelize: Sequelize;
+  store: SparkplugStore;
   ingest: Ingest;
   counters: IngestCounters;
   directory: LoopDirectory;
@@ -49,7 +66,7 @@ export class SparkplugHost {
 
   /** Load group owners, mappings and the persisted births; loops of dead sources are stale at once. */
   async start(): Promise<void> {
-    const births = await loadSparkplugBirths(this.opts.sequelize);
+    const births = await this.opts.store.loadBirths();
     this.nodes.restore(births);
     await this.reload();
     // the held values resume (a set point may have come only in the birth), but nothing is filled
@@ -61,7 +78,7 @@ export class SparkplugHost {
 
   /** Re-read group owners and mappings (after an admin's change). */
   async reload(): Promise<void> {
-    const [groups, mappings] = await Promise.all([loadSparkplugGroups(this.opts.sequelize), loadSparkplugMappings(this.opts.sequelize)]);
+    const [groups, mappings] = await Promise.all([this.opts.store.loadGroups(), this.opts.store.loadMappings()]);
     this.groups = groups;
     const old = new Map<number, LoopResampler>();
     for (const list of this.byDevice.values()) for (const r of list) old.set(r.mapping.loopId, r);
@@ -198,7 +215,7 @@ export class SparkplugHost {
       const rows = [...this.pendingSave.values()].map((x) => ({ tenantId: x.tenantId, record: { ...x.record, metrics: [...x.record.metrics] } }));
       this.pendingSave.clear();
       try {
-        await saveSparkplugBirths(this.opts.sequelize, rows);
+        await this.opts.store.saveBirths(rows);
         this.saveError = null;
       } catch (err) {
         this.saveError = err instanceof Error ? err.message : String(err);
