@@ -58,8 +58,8 @@ export class SparkplugHost {
   private byDevice = new Map<string, LoopResampler[]>();
   private pendingSave = new Map<string, { tenantId: number; record: BirthRecord }>();
   private saving: Promise<void> = Promise.resolve();
-  /** Edge nodes (group/edge) heard from since the start: only their loops are filled by the tick. */
-  private readonly heard = new Set<string>();
+  /** Edge nodes (group/edge) heard from since the start, with who sent: only their loops are filled by the tick, counted for that sender. */
+  private readonly heard = new Map<string, DeviceIdentity>();
   saveError: string | null = null;
 
   constructor(private readonly opts: SparkplugHostOptions) {}
@@ -126,7 +126,7 @@ export class SparkplugHost {
     if (!topic) return reject("bad-topic"), null;
     const decoded = decodeSparkplugPayload(msg.payload);
     if (!decoded.ok) return reject(decoded.reason), null;
-    this.heard.add(`${topic.groupId}/${topic.edgeNode}`);
+    this.heard.set(`${topic.groupId}/${topic.edgeNode}`, device);
     const out = this.nodes.handle(topic, decoded.payload, now);
     for (const [reason, n] of Object.entries(out.problems)) reject(reason as RejectReason, n);
     for (const ev of out.events) {
@@ -147,12 +147,12 @@ export class SparkplugHost {
     for (const [k, list] of this.byDevice) {
       const [g = "", e = "", d = ""] = k.split("/");
       const rec = this.nodes.find(g, e, d);
-      if (!rec || rec.deadAt !== null || !this.heard.has(`${g}/${e}`)) continue;
-      const owner = this.groups.get(g) ?? null;
+      const sender = this.heard.get(`${g}/${e}`);
+      if (!rec || rec.deadAt !== null || !sender) continue;
       for (const r of list) {
         const until = now - Math.max(r.periodMs, 1_000);
         if (!(r.newest > -Infinity)) continue;
-        this.push(r, r.advance(until), { key: `sparkplug ${k}`, tenantId: owner, tenantSlug: null, siteSlug: null }, false);
+        this.push(r, r.advance(until), sender, false);
       }
     }
   }
