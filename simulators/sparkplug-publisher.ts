@@ -4,7 +4,7 @@
  * `sparkplug-payload` codec. On connect an NBIRTH with the session's bdSeq (and the matching
  * NDEATH as MQTT will); a DBIRTH per loop with its first sample (SP, PV, MV, MODE, aliases 1-4);
  * then DDATA by alias with only the metrics that changed (report by exception), each with its
- * sample time. seq counts 0-255 per edge node. Ids: lib/domain/sparkplug.ts `simulatorSparkplugIds`.
+ * sample time. seq counts 0-255 per edge node. Ids: lib/domain/sparkplug.ts `simulatorSparkplugIds` (site-bound or tenant-wide credential).
  */
 import mqtt, { type MqttClient } from "mqtt";
 import sparkplug from "sparkplug-payload";
@@ -58,8 +58,8 @@ export async function connectSparkplugPublisher(url: string, credentials: Record
     send(n, "NBIRTH", "", [{ name: "bdSeq", alias: 0, type: "UInt64", value: n.bdSeq, timestamp: Date.now() }], Date.now());
   };
   for (const [key, cred] of Object.entries(credentials)) {
-    const [tenantSlug = "", siteSlug = "all"] = key.split("/");
-    const ids = simulatorSparkplugIds(tenantSlug, siteSlug, "");
+    const [tenantSlug = "", siteSlug = ""] = key.split("/");
+    const ids = simulatorSparkplugIds(tenantSlug, siteSlug, "", key.includes("/"));
     const bdSeq = Math.floor(Date.now() / 1000) % 256;
     const will = { topic: `spBv1.0/${ids.groupId}/NDEATH/${ids.edgeNode}`, payload: encodeSparkplug({ timestamp: Date.now(), metrics: [{ name: "bdSeq", type: "UInt64", value: bdSeq }] }), qos: 1 as const, retain: false };
     let client: MqttClient;
@@ -81,6 +81,7 @@ export async function connectSparkplugPublisher(url: string, credentials: Record
     },
     async publish(topic, payload) {
       const [, tenantSlug = "", siteSlug = "", loopSlug = ""] = topic.split("/");
+      const siteBound = nodes.has(`${tenantSlug}/${siteSlug}`);
       const node = nodes.get(`${tenantSlug}/${siteSlug}`) ?? nodes.get(tenantSlug);
       if (!node) {
         errors++;
@@ -88,7 +89,7 @@ export async function connectSparkplugPublisher(url: string, credentials: Record
       }
       const parsed = JSON.parse(payload) as Sample | Sample[];
       const samples = Array.isArray(parsed) ? parsed : [parsed];
-      const { device } = simulatorSparkplugIds(tenantSlug, siteSlug, loopSlug);
+      const { device } = simulatorSparkplugIds(tenantSlug, siteSlug, loopSlug, siteBound);
       let prev = node.born.get(device) ?? null;
       const metrics: ReturnType<typeof sampleMetrics> = [];
       for (const s of samples) {

@@ -129,8 +129,9 @@ export interface SparkplugOverviewDto {
 
 /**
  * Where the simulators' Sparkplug mode publishes a loop, and what the demo seed maps: the
- * tenant's slug as group id, one edge node per site (`sim-<site>`), one device per loop, metrics
- * SP, PV, MV and MODE (a string) with aliases 1 to 4.
+ * tenant's slug as group id; one edge node per device credential, `sim-<site>` for a credential
+ * bound to a site (the demo's) with one device per loop, or `sim` for a tenant-wide one with
+ * devices `<site>.<loop>`; metrics SP, PV, MV and MODE (a string) with aliases 1 to 4.
  */
 export const SIM_METRICS = [
   { name: "SP", alias: 1 },
@@ -139,6 +140,6 @@ export const SIM_METRICS = [
   { name: "MODE", alias: 4 },
 ] as const;
 
-export function simulatorSparkplugIds(tenantSlug: string, siteSlug: string, loopSlug: string): { groupId: string; edgeNode: string; device: string } {
-  return { groupId: tenantSlug, edgeNode: `sim-${siteSlug}`, device: loopSlug };
+export function simulatorSparkplugIds(tenantSlug: string, siteSlug: string, loopSlug: string, siteBound = true): { groupId: string; edgeNode: string; device: string } {
+  return siteBound ? { groupId: tenantSlug, edgeNode: `sim-${siteSlug}`, device: loopSlug } : { groupId: tenantSlug, edgeNode: "sim", device: `${siteSlug}.${loopSlug}` };
 }

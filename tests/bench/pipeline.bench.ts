@@ -475,7 +475,8 @@ async function pipeline(scenarioFile: string, opts: { loops: number; hz: number;
   let spTick: ReturnType<typeof setInterval> | null = null;
   let unsubscribeSp: () => void = () => undefined;
   if (sparkplugMode) {
-    const mappings = routes.map((r) => ({ loopId: r.loopId, tenantId: 1, ...simulatorSparkplugIds(r.tenantSlug, r.siteSlug, r.loopSlug), sp: "SP", pv: "PV", mv: "MV", mode: "MODE" }));
+    // the bench's credential is tenant-wide ("sim-lab"): one edge node "sim", devices "<site>.<loop>"
+    const mappings = routes.map((r) => ({ loopId: r.loopId, tenantId: 1, ...simulatorSparkplugIds(r.tenantSlug, r.siteSlug, r.loopSlug, false), sp: "SP", pv: "PV", mv: "MV", mode: "MODE" }));
     sparkplug = new SparkplugHost({
       store: { loadGroups: async () => new Map([["sim-lab", 1]]), loadMappings: async () => mappings, loadBirths: async () => [], saveBirths: async () => undefined },
       ingest,

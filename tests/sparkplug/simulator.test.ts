@@ -41,3 +41,44 @@ describe("simulators' Sparkplug B mode", () => {
     expect(got).toEqual(sims.map((s) => ({ t: s.t, sp: s.sp, pv: s.pv, mv: s.mv, mode: "auto" })));
   });
 });
+
+describe("simulators' Sparkplug mode through the embedded broker", () => {
+  it("a tenant-wide credential's edge node feeds the mapped loops (the bench's wiring)", async () => {
+    const { startBroker, StaticCredentials } = await import("@/server/broker");
+    const { Ingest, LoopDirectory } = await import("@/server/ingest");
+    const { TrackerRegistry } = await import("@/server/tracking/registry");
+    const { SparkplugHost } = await import("@/server/sparkplug/host");
+    const { SPARKPLUG_WILDCARD } = await import("@/server/sparkplug/topic");
+    const { connectSparkplugPublisher } = await import("@/simulators/sparkplug-publisher");
+    const { Bus, systemClock } = await import("@/server/context");
+    const { credential, testContext } = await import("../pipeline/helpers");
+    const ctx = testContext(systemClock);
+    const loops = ["fic-1", "fic-2"].map((slug, i) => ({ loopId: i + 1, tenantId: 1, siteId: 1, tenantSlug: "sim-lab", siteSlug: "bench-1", loopSlug: slug }));
+    const directory = new LoopDirectory(loops);
+    const registry = new TrackerRegistry({ bus: new Bus(), clock: systemClock }, []);
+    const got: { loopId: number; pv: number }[] = [];
+    const ingest = new Ingest({ directory, now: () => Date.now(), sink: (route, samples) => got.push(...samples.map((s) => ({ loopId: route.loopId, pv: s.pv }))) });
+    const mappings = loops.map((r) => ({ loopId: r.loopId, tenantId: 1, ...simulatorSparkplugIds(r.tenantSlug, r.siteSlug, r.loopSlug, false), sp: "SP", pv: "PV", mv: "MV", mode: "MODE" }));
+    const host = new SparkplugHost({ store: { loadGroups: async () => new Map([["sim-lab", 1]]), loadMappings: async () => mappings, loadBirths: async () => [], saveBirths: async () => undefined }, ingest, counters: ingest.counters, directory, registry, now: () => Date.now() });
+    await host.start();
+    const cred = credential({ keyId: "sim-key", secret: "sim-secret-0123456789", tenantId: 1, tenantSlug: "sim-lab" });
+    const broker = await startBroker(ctx, { credentials: new StaticCredentials([cred]), host: "127.0.0.1", port: 0, mqttUrl: null, tls: null, namespaces: [host.namespace()] });
+    broker.subscribeInternal(SPARKPLUG_WILDCARD, (m) => void host.handle(m));
+    const pub = await connectSparkplugPublisher(`mqtt://127.0.0.1:${broker.address()!.port}`, { "sim-lab": { username: "sim-key", password: "sim-secret-0123456789", clientId: "sim-key" } }, { qos: 1 });
+    try {
+      // sample times after the host's start: nothing before it is filled (no filling across a restart)
+      const t0 = Math.ceil((Date.now() + 1) / 1000) * 1000;
+      for (let i = 0; i < 4; i++) for (const l of loops) await pub.publish(`rg/sim-lab/bench-1/${l.loopSlug}/samples`, JSON.stringify({ t: t0 + i * 1000, sp: 50, pv: 40 + i + l.loopId / 10, mv: 30, mode: "auto" }));
+      const end = Date.now() + 5000;
+      while (got.length < 8 && Date.now() < end) await new Promise((r) => setTimeout(r, 20));
+      const totals = ingest.counters.totals();
+      expect(Object.fromEntries(Object.entries(totals.rejected).filter(([, n]) => n > 0))).toEqual({});
+      expect(totals.messages).toBe(9);
+      expect(got.filter((g) => g.loopId === 2).map((g) => g.pv)).toEqual([40.2, 41.2, 42.2, 43.2]);
+      expect(got).toHaveLength(8);
+    } finally {
+      await pub.close();
+      await broker.stop();
+    }
+  });
+});
