@@ -33,6 +33,8 @@ import { installWatch } from "./realtime/watch";
 import { TrackerRegistry } from "./tracking/registry";
 import { BackfillHost } from "./backfill/host";
 import { startLiveAssessment, type LiveAssessmentService } from "./assessment/service";
+import { databaseStore, SparkplugHost } from "./sparkplug/host";
+import { SPARKPLUG_WILDCARD } from "./sparkplug/topic";
 
 export interface PipelineOptions {
   sequelize?: Sequelize;
@@ -61,6 +63,10 @@ export interface PipelineService extends Service {
   readonly backfill: BackfillHost;
   /** Routine-data findings (server/assessment). */
   readonly assessment: LiveAssessmentService;
+  /** Sparkplug B ingest (server/sparkplug). */
+  readonly sparkplug: SparkplugHost;
+  /** Re-read Sparkplug group owners and mappings (after an admin's change). */
+  reloadSparkplug(): Promise<void>;
   /** Per-device counters of one tenant (the admin diagnostics route). */
   ingestDiagnostics(tenantId: number): IngestDiagnostics;
   /** The live state of a loop, if tracked. */
@@ -164,7 +170,11 @@ export async function startPipeline(
       emitter.samples(route.loopId, samples);
       assessment.push(route.loopId, samples);
     },
+    // Sparkplug store-and-forward samples: history, not live
+    historySink: (route, samples) => history.addSamples(route.loopId, samples),
   });
+  const sparkplug = new SparkplugHost({ store: databaseStore(sequelize), ingest, counters, directory, registry, now: () => ctx.clock.now() });
+  await sparkplug.start();
   ingest.seedLastTimes(
     lastStates.flatMap((s) => (s.last ? [[s.loopId, s.last.t] as [number, number]] : [])),
   );
@@ -189,9 +199,9 @@ export async function startPipeline(
       .catch((err: unknown) =>
         console.error(`[pipeline] reloading the assessment of loop ${loopId} failed:`, err),
       );
-    reloadLoop(loopId).catch((err: unknown) =>
-      console.error(`[pipeline] reloading loop ${loopId} failed:`, err),
-    );
+    reloadLoop(loopId)
+      .then(() => sparkplug.reload())
+      .catch((err: unknown) => console.error(`[pipeline] reloading loop ${loopId} failed:`, err));
   };
   ctx.bus.on("loop:config-changed", onConfigChanged);
 
@@ -230,6 +240,7 @@ export async function startPipeline(
     broker = await startBroker(ctx, {
       credentials: dbCredentials(sequelize),
       counters,
+      namespaces: [sparkplug.namespace()],
       ...opts.broker,
     });
   } catch (err) {
@@ -251,7 +262,11 @@ export async function startPipeline(
     });
   });
 
+  broker.subscribeInternal(SPARKPLUG_WILDCARD, (m) => void sparkplug.handle(m));
+
   const tickTimer = registry.startTimer(opts.tickEveryMs ?? 1_000);
+  const sparkplugTimer = ctx.clock.setInterval(() => sparkplug.tick(), opts.tickEveryMs ?? 1_000);
+  const sparkplugSave = ctx.clock.setInterval(() => void sparkplug.flush(), 30_000);
   const checkpointTimer = ctx.clock.setInterval(
     () => void checkpointNow(),
     opts.checkpointEveryMs ?? 60_000,
@@ -268,6 +283,8 @@ export async function startPipeline(
     directory,
     backfill,
     assessment,
+    sparkplug,
+    reloadSparkplug: () => sparkplug.reload(),
     ingestDiagnostics: (tenantId) => ({
       devices: counters.snapshot(tenantId),
       totals: counters.totals(tenantId),
@@ -293,6 +310,7 @@ export async function startPipeline(
           ingest: counters.totals(),
           realtime: emitter.stats(),
           assessment: assessment.stats(),
+          sparkplug: { births: sparkplug.nodes.records().length, saveError: sparkplug.saveError },
           trackers: {
             loops: registry.size,
             routes: directory.size,
@@ -312,6 +330,9 @@ export async function startPipeline(
       backfill.cancelAll();
       await broker.stop();
       tickTimer.cancel();
+      sparkplugTimer.cancel();
+      sparkplugSave.cancel();
+      await sparkplug.flush();
       checkpointTimer.cancel();
       ctx.bus.off("loop:config-changed", onConfigChanged);
       await checkpointNow();

@@ -16,6 +16,7 @@ import { buildFleet } from "./fleet";
 import { parseSimulatorOptions } from "./options";
 import { connectPublisher, type DeviceCredential } from "./publisher";
 import { SimulatorRunner } from "./runner";
+import { connectSparkplugPublisher } from "./sparkplug-publisher";
 import { loadScenario, type InlineLoop } from "./scenario";
 
 async function main(): Promise<void> {
@@ -54,7 +55,10 @@ async function main(): Promise<void> {
     opts.brokerUrl,
     [...needed.values()].map((c) => c.clientId),
   );
-  const publisher = await connectPublisher(opts.brokerUrl, Object.fromEntries(needed), { qos: opts.qos });
+  const publisher =
+    opts.protocol === "sparkplug"
+      ? await connectSparkplugPublisher(opts.brokerUrl, Object.fromEntries(needed), { qos: opts.qos })
+      : await connectPublisher(opts.brokerUrl, Object.fromEntries(needed), { qos: opts.qos });
   // SIM_BATCH_DELAY_MS: longest wait of a partial batch (load runs: long enough to fill --batch)
   const batchDelay = Number(process.env.SIM_BATCH_DELAY_MS ?? "");
   const runner = new SimulatorRunner({
@@ -67,7 +71,7 @@ async function main(): Promise<void> {
   });
   const rate = sims.reduce((s, l) => s + 1 / l.config.telemetryPeriodS, 0) * opts.speedup;
   console.log(
-    `[simulators] scenario "${scenario.name}": ${sims.length} loops, ${rate.toFixed(1)} samples/s, speed-up ${opts.speedup}, batch ${opts.batchSize}, broker ${opts.brokerUrl}`,
+    `[simulators] scenario "${scenario.name}": ${sims.length} loops, ${rate.toFixed(1)} samples/s, speed-up ${opts.speedup}, batch ${opts.batchSize}, ${opts.protocol === "sparkplug" ? "Sparkplug B" : "JSON"}, broker ${opts.brokerUrl}`,
   );
   const timer = setInterval(() => runner.tick(), opts.tickMs);
   const report = setInterval(() => {

@@ -13,6 +13,7 @@
  *   --broker <url>      MQTT_URL              broker URL (default mqtt://MQTT_HOST:MQTT_PORT)
  *   --qos <0|1>         SIM_QOS               MQTT QoS of telemetry (default 0)
  *   --stamp <mode>      SIM_STAMP             "simulated" (default) or "publish" (load runs; see runner.ts)
+ *   --protocol <p>      SIM_PROTOCOL          "json" (default: rg/.../samples) or "sparkplug" (Sparkplug B, see sparkplug-publisher.ts)
  *   --no-seed           SIM_NO_SEED=true      use only the scenario's inline loops
  *   (credentials)       SIM_DEVICE_CREDENTIALS JSON { "tenant/site" or tenant: { username, password, clientId } }
  */
@@ -31,6 +32,7 @@ const FLAGS: Record<string, string> = {
   "--broker": "MQTT_URL",
   "--qos": "SIM_QOS",
   "--stamp": "SIM_STAMP",
+  "--protocol": "SIM_PROTOCOL",
 };
 
 const credentialSchema = z.object({ username: z.string().min(1), password: z.string().min(1), clientId: z.string().min(1) });
@@ -44,6 +46,7 @@ const schema = z.object({
   SIM_TICK_MS: z.coerce.number().int().min(5).max(5000).default(50),
   SIM_QOS: z.enum(["0", "1"]).default("0").transform((v) => (v === "1" ? 1 : 0) as 0 | 1),
   SIM_STAMP: z.enum(["simulated", "publish"]).default("simulated"),
+  SIM_PROTOCOL: z.enum(["json", "sparkplug"]).default("json"),
   SIM_NO_SEED: z.enum(["true", "false", "1", "0"]).default("false").transform((v) => v === "true" || v === "1"),
   SIM_DEVICE_CREDENTIALS: z
     .string()
@@ -71,6 +74,7 @@ export interface SimulatorOptions {
   brokerUrl: string;
   qos: 0 | 1;
   stamp: "simulated" | "publish";
+  protocol: "json" | "sparkplug";
   useSeed: boolean;
   credentials: Record<string, z.infer<typeof credentialSchema>> | undefined;
 }
@@ -114,6 +118,7 @@ export function parseSimulatorOptions(argv: string[], env: NodeJS.ProcessEnv, de
     brokerUrl: cfg.MQTT_URL || `mqtt://${cfg.MQTT_HOST}:${cfg.MQTT_PORT}`,
     qos: o.SIM_QOS,
     stamp: o.SIM_STAMP,
+    protocol: o.SIM_PROTOCOL,
     useSeed: !o.SIM_NO_SEED,
     credentials: o.SIM_DEVICE_CREDENTIALS,
   };

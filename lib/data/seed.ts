@@ -5,7 +5,9 @@
  */
 import bcrypt from "bcryptjs";
 import { QueryTypes, type Sequelize, type Transaction } from "sequelize";
+import { seedSparkplugDemo } from "@/lib/data/sparkplug";
 import { policyOverrideSchema } from "@/lib/domain/alarms/policy";
+import { simulatorSparkplugIds } from "@/lib/domain/sparkplug";
 import { hashDeviceSecret } from "@/lib/devices";
 import { initModels, type Models } from "@/models";
 import {
@@ -150,6 +152,14 @@ export async function seedDemo(sequelize: Sequelize, opts: SeedOptions = {}): Pr
       });
       count("device_credentials", c);
     }
+
+    // the simulators' Sparkplug mode feeds the same loops (simulators/sparkplug-publisher.ts)
+    await seedSparkplugDemo(
+      sequelize,
+      t.transaction,
+      DEMO_TENANTS.map((x) => ({ tenantId: must(tenantIds.get(x.slug), x.slug), groupId: x.slug })),
+      DEMO_LOOPS.map((l) => ({ tenantId: must(tenantIds.get(l.tenant), l.tenant), loopId: must(loopIds.get(l.tag), l.tag), ...simulatorSparkplugIds(l.tenant, l.site, l.slug) })),
+    );
 
     for (const tenant of DEMO_TENANTS) {
       const tenantId = must(tenantIds.get(tenant.slug), tenant.slug);

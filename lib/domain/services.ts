@@ -171,6 +171,8 @@ export interface PipelineApi {
   loopState(loopId: number): LoopStateDto | null;
   backfill: BackfillApi;
   ingestDiagnostics(tenantId: number): { devices: IngestDeviceCounters[] };
+  /** Re-read Sparkplug group owners and metric mappings after an admin's change. */
+  reloadSparkplug(): Promise<void>;
 }
 
 /** Object storage of uploaded files (s3rver on loopback, or S3). */

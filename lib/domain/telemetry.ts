@@ -34,6 +34,20 @@ export const REJECT_REASONS = [
   "too-many-samples",
   "retained",
   "unauthorised",
+  // Sparkplug B (server/sparkplug): a payload the codec cannot read or too many metrics (messages);
+  // a sequence gap, data before a birth, an NDEATH of an old session, a birth refused (messages);
+  // an unknown alias, a value that does not fit its datatype (metrics); data of a device no loop is
+  // mapped to or of a group id no tenant owns (messages)
+  "sp-bad-payload",
+  "sp-too-many-metrics",
+  "sp-seq-gap",
+  "sp-no-birth",
+  "sp-stale-death",
+  "sp-bad-birth",
+  "sp-unknown-alias",
+  "sp-bad-metric",
+  "sp-unmapped",
+  "sp-unbound-group",
 ] as const;
 export type RejectReason = (typeof REJECT_REASONS)[number];
 

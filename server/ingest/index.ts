@@ -53,6 +53,8 @@ export interface IngestOptions {
   directory: LoopDirectory;
   now: () => number;
   sink: IngestSink;
+  /** Where historical samples go (history only; absent: they are counted and dropped). */
+  historySink?: (route: LoopRoute, samples: SampleDto[]) => void;
   counters?: IngestCounters;
   futureSkewMs?: number;
 }
@@ -60,6 +62,8 @@ export interface IngestOptions {
 export class Ingest {
   readonly counters: IngestCounters;
   private readonly lastT = new Map<number, number>();
+  /** Per loop, the last store-and-forward sample taken (Sparkplug is_historical), apart from live. */
+  private readonly lastHistoricalT = new Map<number, number>();
   private readonly lastMessage = new Map<number, LastMessage>();
   private readonly skew: number;
 
@@ -130,12 +134,47 @@ export class Ingest {
 
     const items = decoded.items;
     const prev = this.lastMessage.get(route.loopId);
-    let last = this.lastT.get(route.loopId) ?? -Infinity;
+    // A QoS 1 re-send: the DUP flag, or byte for byte the message taken last.
+    const resend = msg.dup === true || (prev !== undefined && prev.count === items.length && firstT(items) === prev.firstT && samePayload(prev.payload, msg.payload));
+    const n = this.take(route, device, items, receivedAt, out, resend, false);
+    if (n > 0) {
+      // A copy: the broker's payload may be a view into a much larger socket buffer.
+      const kept = typeof msg.payload === "string" ? msg.payload : Buffer.from(msg.payload);
+      this.lastMessage.set(route.loopId, { firstT: firstT(items) ?? NaN, count: items.length, payload: kept });
+    }
+    return out;
+  }
+
+  /**
+   * Samples of a loop decoded from another wire format (Sparkplug B, server/sparkplug): the same
+   * tenant and site check, per-sample validation, quality judgement, counters and sink as a JSON
+   * message. `historical` (store-and-forward after an outage): taken in order among themselves,
+   * and written as history only (`historySink`), never as live data.
+   */
+  takeSamples(route: LoopRoute, device: DeviceIdentity, items: unknown[], opts: { historical?: boolean } = {}): IngestOutcome {
+    const receivedAt = this.opts.now();
+    const out: IngestOutcome = { accepted: 0, redelivered: 0, rejected: {} };
+    if ((device.tenantId !== null && route.tenantId !== device.tenantId) || (device.siteSlug !== null && route.siteSlug !== device.siteSlug)) {
+      this.counters.reject(device, "wrong-tenant", receivedAt, items.length);
+      out.rejected["wrong-tenant"] = items.length;
+      return out;
+    }
+    this.take(route, device, items, receivedAt, out, false, opts.historical === true);
+    return out;
+  }
+
+  /** The per-sample checks; returns how many samples went to the sink. */
+  private take(route: LoopRoute, device: DeviceIdentity, items: unknown[], receivedAt: number, out: IngestOutcome, resend: boolean, historical: boolean): number {
+    const counters = this.counters;
+    const reject = (reason: RejectReason) => {
+      counters.reject(device, reason, receivedAt, 1);
+      out.rejected[reason] = (out.rejected[reason] ?? 0) + 1;
+    };
+    const lastT = historical ? this.lastHistoricalT : this.lastT;
+    let last = lastT.get(route.loopId) ?? -Infinity;
     const maxT = receivedAt + this.skew;
     const accepted: SampleDto[] = [];
     let redelivered = 0;
-    // A QoS 1 re-send: the DUP flag, or byte for byte the message taken last.
-    const resend = msg.dup === true || (prev !== undefined && prev.count === items.length && firstT(items) === prev.firstT && samePayload(prev.payload, msg.payload));
 
     for (const item of items) {
       const v = validateSample(item);
@@ -169,19 +208,17 @@ export class Ingest {
       counters.redelivery(device, redelivered);
       out.redelivered = redelivered;
     }
-    if (accepted.length === 0) return out;
-    this.lastT.set(route.loopId, last);
-    // A copy: the broker's payload may be a view into a much larger socket buffer.
-    const kept = typeof msg.payload === "string" ? msg.payload : Buffer.from(msg.payload);
-    this.lastMessage.set(route.loopId, { firstT: firstT(items) ?? NaN, count: items.length, payload: kept });
+    if (accepted.length === 0) return 0;
+    lastT.set(route.loopId, last);
     counters.accept(device, accepted.length);
-    out.accepted = accepted.length;
+    out.accepted += accepted.length;
     try {
-      this.opts.sink(route, accepted, receivedAt);
+      if (historical) this.opts.historySink?.(route, accepted);
+      else this.opts.sink(route, accepted, receivedAt);
     } catch (err) {
       console.error(`[ingest] sink failed for loop ${route.loopId}:`, err);
     }
-    return out;
+    return accepted.length;
   }
 }
 

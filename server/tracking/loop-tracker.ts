@@ -268,6 +268,8 @@ export class LoopTracker {
   private deliveryPeriodMs = 0;
   private state: LoopStateDto;
   private stateReasonOverride: string | null = null;
+  /** The source said it is gone (a Sparkplug NDEATH/DDEATH or its will): stale until it sends again. */
+  private sourceGone: string | null = null;
   /** Samples skipped because their timestamp was not after the previous one. */
   outOfOrder = 0;
 
@@ -372,6 +374,7 @@ export class LoopTracker {
     const prevKind = this.state.trackerState;
     if (Number.isFinite(receivedAt) && samples.length > 0) {
       this.receivedAt = receivedAt;
+      this.sourceGone = null;
       // a gateway that sends n samples per message delivers every n periods: "3 periods of
       // silence" is counted in delivery periods, never shorter than 3 telemetry periods
       this.deliveryPeriodMs = Math.max(1, samples.length) * this.config.telemetryPeriodS * 1000;
@@ -682,6 +685,7 @@ export class LoopTracker {
   /** The tracker state and its reason at time `now` (epoch ms), from the detectors and counters. */
   private currentKind(now: number): { state: TrackerState; reason: string | null } {
     const c = this.config;
+    if (this.sourceGone !== null) return { state: "stale", reason: this.sourceGone };
     if (this.receivedAt === null) return { state: "learning", reason: "waiting for telemetry" };
     const silence = now - this.receivedAt;
     if (silence > 3 * Math.max(c.telemetryPeriodS * 1000, this.deliveryPeriodMs)) return { state: "stale", reason: `no sample for ${(silence / 1000).toFixed(silence < 10_000 ? 1 : 0)} s` };
@@ -724,6 +728,14 @@ export class LoopTracker {
       };
     }
     return { state: "tracking", reason: null };
+  }
+
+  /** The source announced it is gone: `stale` at once with `reason`, until its next samples. */
+  markSourceGone(reason: string): LoopStateDto | null {
+    this.sourceGone = reason;
+    if (this.receivedAt === null) return null;
+    this.refreshStateOnly({ state: "stale", reason });
+    return this.state;
   }
 
   /**

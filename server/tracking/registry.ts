@@ -49,6 +49,12 @@ export class TrackerRegistry {
     if (state) this.ctx.bus.emit("tracker:update", state);
   }
 
+  /** A loop's source said it is gone (Sparkplug death): `stale` at once, not after 3 silent periods. */
+  markSourceGone(loopId: number, reason: string): void {
+    const st = this.trackers.get(loopId)?.markSourceGone(reason);
+    if (st) this.ctx.bus.emit("tracker:update", st);
+  }
+
   /** Staleness: every tracker whose state changed at `now` emits its new state. */
   tick(now: number = this.ctx.clock.now()): void {
     for (const tr of this.trackers.values()) {

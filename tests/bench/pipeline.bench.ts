@@ -23,7 +23,9 @@
  * Flags: --loops N (default 5000) --hz R (10) --batch B (10) --seconds D (20) --warmup S (5; latency
  *        quantiles are printed for every sample and for the samples stamped S s after the first) --watch W (50)
  *        --state-every S (tracker state period in telemetry seconds, default 1) --with-states (the
- *        client also joins its tenant room and receives the `loop:state` batches)
+ *        client also joins its tenant room and receives the `loop:state` batches) --sparkplug (phase 3:
+ *        the same pipeline fed by the simulators' Sparkplug B mode, births then report-by-exception
+ *        DDATA by alias, decoded by server/sparkplug; printed beside phase 2 with the ratio)
  */
 import { spawn, type ChildProcess } from "node:child_process";
 import { readFileSync, writeFileSync, mkdtempSync, rmSync } from "node:fs";
@@ -161,7 +163,7 @@ function batchDelayMs(opts: { hz: number; batch: number }): number {
   return Math.max(250, Math.ceil((opts.batch * 1000) / opts.hz) + 100);
 }
 
-function runSimulator(port: number, scenarioFile: string, opts: { loops: number; hz: number; batch: number; seconds: number }): Promise<SimRun> {
+function runSimulator(port: number, scenarioFile: string, opts: { loops: number; hz: number; batch: number; seconds: number; protocol?: "json" | "sparkplug" }): Promise<SimRun> {
   const child = spawn(
     process.execPath,
     [
@@ -183,6 +185,8 @@ function runSimulator(port: number, scenarioFile: string, opts: { loops: number;
       "20",
       "--stamp",
       "simulated",
+      "--protocol",
+      opts.protocol ?? "json",
     ],
     {
       cwd: root,
@@ -317,7 +321,7 @@ async function bare(scenarioFile: string, opts: { loops: number; hz: number; bat
 }
 
 
-async function pipeline(scenarioFile: string, opts: { loops: number; hz: number; batch: number; seconds: number; warmup: number; watch: number; stateEvery: number; withStates: boolean; history: boolean }) {
+async function pipeline(scenarioFile: string, opts: { loops: number; hz: number; batch: number; seconds: number; warmup: number; watch: number; stateEvery: number; withStates: boolean; history: boolean; protocol?: "json" | "sparkplug" }) {
   const { Server } = await import("socket.io");
   const { getConfig } = await import("@/lib/config");
   const { Bus, systemClock } = await import("@/server/context");
@@ -356,7 +360,13 @@ async function pipeline(scenarioFile: string, opts: { loops: number; hz: number;
     secretHash: hashDeviceSecret(config.DEVICE_SECRET_PEPPER, "bench-secret-0123456789"),
     revoked: false,
   };
-  const broker = await startBroker(ctx, { credentials: new StaticCredentials([cred]), host: "127.0.0.1", port: 0, mqttUrl: null });
+  const sparkplugMode = opts.protocol === "sparkplug";
+  const { SparkplugHost } = await import("@/server/sparkplug/host");
+  const { SPARKPLUG_WILDCARD } = await import("@/server/sparkplug/topic");
+  const { simulatorSparkplugIds } = await import("@/lib/domain/sparkplug");
+  let sparkplug: InstanceType<typeof SparkplugHost> | null = null;
+  const namespace = { owns: (t: string) => t.startsWith("spBv1.0/"), authorize: (t: string, c: { tenantId: number }) => sparkplug?.namespace().authorize(t, c as never) ?? null };
+  const broker = await startBroker(ctx, { credentials: new StaticCredentials([cred]), host: "127.0.0.1", port: 0, mqttUrl: null, namespaces: sparkplugMode ? [namespace] : [] });
   const routes = [];
   const configs = [];
   for (let i = 0; i < opts.loops; i++) {
@@ -397,8 +407,9 @@ async function pipeline(scenarioFile: string, opts: { loops: number; hz: number;
   });
   const perLoopAccepted = new Map<number, number>();
   const ingestLat = new Latencies(opts.warmup * 1000);
+  const ingestDirectory = new LoopDirectory(routes);
   const ingest = new Ingest({
-    directory: new LoopDirectory(routes),
+    directory: ingestDirectory,
     now: () => Date.now(),
     sink: (route, samples, at) => {
       registry.push(route.loopId, samples, at);
@@ -421,6 +432,32 @@ async function pipeline(scenarioFile: string, opts: { loops: number; hz: number;
     accepted += o.accepted;
     for (const n of Object.values(o.rejected)) rejected += n ?? 0;
   });
+  // Sparkplug B: the simulators' ids (lib/domain/sparkplug.ts), groups and mappings held in memory
+  let spTick: ReturnType<typeof setInterval> | null = null;
+  let unsubscribeSp: () => void = () => undefined;
+  if (sparkplugMode) {
+    // the bench's credential is tenant-wide ("sim-lab"): one edge node "sim", devices "<site>.<loop>"
+    const mappings = routes.map((r) => ({ loopId: r.loopId, tenantId: 1, ...simulatorSparkplugIds(r.tenantSlug, r.siteSlug, r.loopSlug, false), sp: "SP", pv: "PV", mv: "MV", mode: "MODE" }));
+    sparkplug = new SparkplugHost({
+      store: { loadGroups: async () => new Map([["sim-lab", 1]]), loadMappings: async () => mappings, loadBirths: async () => [], saveBirths: async () => undefined },
+      ingest,
+      counters: ingest.counters,
+      directory: ingestDirectory,
+      registry,
+      now: () => Date.now(),
+    });
+    await sparkplug.start();
+    unsubscribeSp = broker.subscribeInternal(SPARKPLUG_WILDCARD, (msg) => {
+      const before = ingest.counters.totals().acceptedSamples;
+      sparkplug!.handle(msg);
+      const now = Date.now();
+      const n = ingest.counters.totals().acceptedSamples - before;
+      if (n > 0 && accepted === 0) first = now;
+      if (n > 0) last = now;
+      accepted += n;
+    });
+    spTick = setInterval(() => sparkplug!.tick(), 1000);
+  }
   const unwatch = installWatch(io, { loopTenant: (id) => (id >= 1 && id <= opts.loops ? 1 : null) });
   const tick = registry.startTimer(1000);
 
@@ -441,6 +478,8 @@ async function pipeline(scenarioFile: string, opts: { loops: number; hz: number;
   const loopDelay = monitorEventLoopDelay({ resolution: 10 });
   loopDelay.enable();
   const sim = await runSimulator(addr.port, scenarioFile, opts);
+  if (spTick) clearInterval(spTick);
+  if (sparkplugMode) rejected = Object.values(ingest.counters.totals().rejected).reduce((x, y) => x + y, 0);
   await new Promise((r) => setTimeout(r, 2000)); // drain: emitter flushes every 200/500 ms
   emitter.flush();
   await new Promise((r) => setTimeout(r, 500));
@@ -460,6 +499,7 @@ async function pipeline(scenarioFile: string, opts: { loops: number; hz: number;
   tick.cancel();
   unwatch();
   unsubscribe();
+  unsubscribeSp();
   emitter.stop();
   let historyStats: ReturnType<NonNullable<typeof history>["writer"]["stats"]> | null = null;
   if (history) {
@@ -544,6 +584,13 @@ async function main(): Promise<void> {
       );
     } else {
       console.log("  MariaDB: not run (--no-history)");
+    }
+    if (process.argv.includes("--sparkplug")) {
+      console.log("phase 3: the same pipeline fed by Sparkplug B (simulators --protocol sparkplug: births, then DDATA by alias with the changed metrics; server/sparkplug decodes, resamples to the loop period, then the same ingest)");
+      const sp = await pipeline(scenario, { ...opts, protocol: "sparkplug" });
+      const spRate = sp.spanS > 0 ? sp.accepted / sp.spanS : 0;
+      console.log(`  simulator sent ${sp.sim.sent} samples in ${sp.sim.messages} messages; ingest accepted ${sp.accepted}, rejected ${sp.rejected} = ${spRate.toFixed(0)} samples/s over ${sp.spanS.toFixed(1)} s; server cpu ${sp.serverCpuS.toFixed(1)} s (${sp.accepted > 0 ? ((1e6 * sp.serverCpuS) / sp.accepted).toFixed(1) : "n/a"} us per sample)`);
+      console.log(`ratio Sparkplug B / JSON intake, delivered samples/s (same run): ${rate > 0 ? (spRate / rate).toFixed(3) : "n/a"}`);
     }
     console.log(`load average at end: ${os.loadavg().map((v) => v.toFixed(2)).join(" ")}`);
   } finally {

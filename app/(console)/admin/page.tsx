@@ -2,6 +2,7 @@ import { redirect } from "next/navigation";
 import { AdminDevices } from "@/app/(console)/admin/_components/admin-devices";
 import { AdminLoopImport } from "@/app/_components/admin-loop-import";
 import { AdminOutbox, AdminRules, AdminSites } from "@/app/(console)/admin/_components/admin-misc";
+import { AdminSparkplug } from "@/app/(console)/admin/_components/admin-sparkplug";
 import { AdminPolicies } from "@/app/(console)/admin/_components/admin-policies";
 import { AdminShifts } from "@/app/(console)/admin/_components/admin-shifts";
 import { AdminUsers } from "@/app/(console)/admin/_components/admin-users";
@@ -18,6 +19,7 @@ const SECTIONS = [
   { id: "inventory", label: "Loop inventory", min: "engineer" },
   { id: "users", label: "Users and roles", min: "admin" },
   { id: "devices", label: "Device credentials", min: "admin" },
+  { id: "sparkplug", label: "Sparkplug gateways", min: "admin" },
   { id: "notifications", label: "Notification rules", min: "admin" },
   { id: "sites", label: "Sites and areas", min: "admin" },
   { id: "outbox", label: "Outbox", min: "admin" },
@@ -55,6 +57,7 @@ export default async function AdminPage({ searchParams }: { searchParams: Promis
       {section === "inventory" && <AdminLoopImport />}
       {section === "users" && <AdminUsers selfUserId={ctx.userId} />}
       {section === "devices" && <AdminDevices />}
+      {section === "sparkplug" && <AdminSparkplug />}
       {section === "notifications" && <AdminRules />}
       {section === "sites" && (
         <>
