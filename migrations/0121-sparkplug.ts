@@ -7,7 +7,7 @@
  * one, so they are restored from here after a restart). `device` is '' for the edge node itself.
  */
 import { DataTypes } from "sequelize";
-import type { MigrationFn } from "@/lib/db/migrate";
+import type { MigrationFn } from "@/lib/data/db/migrate";
 
 const table = { charset: "utf8mb4", collate: "utf8mb4_unicode_ci", engine: "InnoDB" } as const;
 const tenantRef = { type: DataTypes.INTEGER, allowNull: false, references: { model: "tenants", key: "id" }, onDelete: "CASCADE", onUpdate: "CASCADE" } as const;

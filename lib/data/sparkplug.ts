@@ -5,12 +5,12 @@
  * and write the change log in the same transaction.
  */
 import { QueryTypes, type Sequelize, type Transaction } from "sequelize";
-import { inConfigTransaction, logConfigChange, diffOf } from "@/lib/admin/config-log";
-import { getDb } from "@/lib/db/sequelize";
+import { inConfigTransaction, logConfigChange, diffOf } from "@/lib/data/admin/config-log";
+import { getDb } from "@/lib/data/db/sequelize";
 import { ConflictError, NotFoundError, ValidationError } from "@/lib/domain/errors";
 import { checkMappingAgainstBirth, datatypeName, type BirthRecord, type LoopMapping, type MappingInput, type MetricDef, type SparkplugOverviewDto } from "@/lib/domain/sparkplug";
 import type { TenantContext } from "@/lib/domain/types";
-import { siteScopeSql, siteVisible } from "@/lib/tenancy";
+import { siteScopeSql, siteVisible } from "@/lib/data/tenancy";
 
 interface BirthRow {
   tenant_id: number;

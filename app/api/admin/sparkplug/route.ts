@@ -3,7 +3,7 @@ import { requireContext } from "@/lib/auth/guard";
 import { bindSparkplugGroup, sparkplugOverview } from "@/lib/data/sparkplug";
 import { bindGroupSchema } from "@/lib/domain/sparkplug";
 import { handle, parseBody } from "@/lib/http";
-import { runningService } from "@/lib/server-context";
+import { runningService } from "@/lib/data/server-context";
 
 export const dynamic = "force-dynamic";
 

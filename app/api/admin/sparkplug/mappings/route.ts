@@ -3,7 +3,7 @@ import { requireContext } from "@/lib/auth/guard";
 import { saveSparkplugMapping } from "@/lib/data/sparkplug";
 import { mappingSchema } from "@/lib/domain/sparkplug";
 import { handle, parseBody } from "@/lib/http";
-import { runningService } from "@/lib/server-context";
+import { runningService } from "@/lib/data/server-context";
 
 /**
  * Map a device's metrics to a loop's SP, PV, MV and mode: `{ loopId, groupId, edgeNode, device,

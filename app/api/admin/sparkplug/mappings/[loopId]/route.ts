@@ -3,7 +3,7 @@ import { idParam, reasonSchema } from "@/lib/admin/route-helpers";
 import { requireContext } from "@/lib/auth/guard";
 import { deleteSparkplugMapping } from "@/lib/data/sparkplug";
 import { handle, parseBody } from "@/lib/http";
-import { runningService } from "@/lib/server-context";
+import { runningService } from "@/lib/data/server-context";
 
 /** Remove a loop's Sparkplug mapping: `{ reason }` (logged). */
 export const DELETE = handle(async (req: Request, { params }: { params: Promise<{ loopId: string }> }) => {
