@@ -7,7 +7,6 @@
  */
 import net from "node:net";
 import { Aedes, type AedesPublishPacket, type Client } from "aedes";
-import mqtt from "mqtt";
 import { RateLimiterMemory } from "rate-limiter-flexible";
 import type { Service, ServerContext } from "@/server/context";
 import { MAX_PAYLOAD_BYTES, parseTelemetryTopic, type RejectReason } from "@/lib/domain/telemetry";
@@ -16,6 +15,7 @@ import { CachedCredentials, clientIdAllowed, secretMatches, type CredentialLooku
 import { FrameGuard } from "./frame-guard";
 import { topicMatches } from "./topic-match";
 import { listenTls, tlsListenerFromConfig, type TlsListenerOptions } from "./tls";
+import { EXTERNAL_BROKER, externalOptionsFromConfig, startExternalBroker } from "./external";
 
 export { hashDeviceSecret, StaticCredentials, CachedCredentials, clientIdAllowed, type DeviceCredential, type CredentialLookup } from "./credentials";
 
@@ -28,7 +28,7 @@ export interface BrokerMessage {
 }
 export type BrokerMessageHandler = (msg: BrokerMessage) => void;
 
-export const EXTERNAL_BROKER: DeviceIdentity = { key: "(external broker)", tenantId: null, tenantSlug: null, siteSlug: null };
+export { EXTERNAL_BROKER };
 export const INTERNAL_PUBLISHER: DeviceIdentity = { key: "(internal)", tenantId: null, tenantSlug: null, siteSlug: null };
 
 export interface BrokerOptions {
@@ -81,7 +81,7 @@ const MAX_REMAINING_LENGTH = MAX_PAYLOAD_BYTES + 1024;
 
 export async function startBroker(ctx: ServerContext, opts: BrokerOptions): Promise<BrokerService> {
   const url = opts.mqttUrl === undefined ? ctx.config.MQTT_URL : opts.mqttUrl;
-  if (url) return startExternal(url);
+  if (url) return startExternalBroker(externalOptionsFromConfig(ctx.config, url));
   return startEmbedded(ctx, opts);
 }
 
@@ -327,62 +327,6 @@ async function startEmbedded(ctx: ServerContext, opts: BrokerOptions): Promise<B
   };
 }
 
-async function startExternal(url: string): Promise<BrokerService> {
-  const handlers = new Set<{ pattern: string; fn: BrokerMessageHandler }>();
-  const client = mqtt.connect(url, {
-    clientId: `rimguard-ingest-${process.pid}`,
-    clean: true,
-    reconnectPeriod: 2_000,
-    connectTimeout: 10_000,
-  });
-  let lastError: string | null = null;
-  client.on("error", (err) => {
-    lastError = err.message;
-  });
-  client.on("message", (topic, payload, packet) => {
-    const msg: BrokerMessage = { topic, payload, device: EXTERNAL_BROKER, dup: packet.dup === true, retain: packet.retain === true };
-    for (const h of handlers) {
-      if (!topicMatches(h.pattern, topic)) continue;
-      try {
-        h.fn(msg);
-      } catch (err) {
-        console.error("[broker] message handler failed:", err);
-      }
-    }
-  });
-  const subscribed = new Map<string, number>();
-  return {
-    name: "broker",
-    broker: null,
-    address: () => null,
-    async publishInternal(topic, payload) {
-      await client.publishAsync(topic, payload, { qos: 0, retain: false });
-    },
-    subscribeInternal(pattern, fn) {
-      const h = { pattern, fn };
-      handlers.add(h);
-      const n = subscribed.get(pattern) ?? 0;
-      subscribed.set(pattern, n + 1);
-      if (n === 0) client.subscribe(pattern, { qos: 1 });
-      return () => {
-        handlers.delete(h);
-        const left = (subscribed.get(pattern) ?? 1) - 1;
-        subscribed.set(pattern, left);
-        if (left === 0) client.unsubscribe(pattern);
-      };
-    },
-    health() {
-      return {
-        status: client.connected ? "ok" : "critical",
-        detail: { mode: "external", url: redactUrl(url), connected: client.connected, lastError },
-      };
-    },
-    async stop() {
-      await client.endAsync(true);
-    },
-  };
-}
-
 function deviceOf(cred: DeviceCredential): DeviceIdentity {
   return { key: cred.keyId, tenantId: cred.tenantId, tenantSlug: cred.tenantSlug, siteSlug: cred.siteSlug };
 }
@@ -390,14 +334,4 @@ function deviceOf(cred: DeviceCredential): DeviceIdentity {
 function remoteAddressOf(client: Client): string {
   const conn = client.conn as Partial<net.Socket>;
   return conn.remoteAddress ?? "unknown";
-}
-
-function redactUrl(url: string): string {
-  try {
-    const u = new URL(url);
-    if (u.password) u.password = "***";
-    return u.toString();
-  } catch {
-    return "(invalid url)";
-  }
 }
