@@ -24,14 +24,19 @@
  *        quantiles are printed for every sample and for the samples stamped S s after the first) --watch W (50)
  *        --state-every S (tracker state period in telemetry seconds, default 1) --with-states (the
  *        client also joins its tenant room and receives the `loop:state` batches)
+ *        --steady (steady-state mode: default --seconds 300; figures over the first 20 s and over
+ *        the last --tail F of the run, default 0.5; the bare-broker phase runs 30 s)
+ *        --no-assessment (leave out the live routine assessment, ./pipeline-steady.ts)
  */
 import { spawn, type ChildProcess } from "node:child_process";
-import { readFileSync, writeFileSync, mkdtempSync, rmSync } from "node:fs";
+import { writeFileSync, mkdtempSync, rmSync } from "node:fs";
 import { createServer } from "node:http";
 import net from "node:net";
 import os from "node:os";
 import path from "node:path";
 import { monitorEventLoopDelay } from "node:perf_hooks";
+import { procStats, quantile, startBenchDatabase } from "./bench-support";
+import { BenchAssessment, describeSteady, SteadyMarks } from "./pipeline-steady";
 
 const here = import.meta.dirname;
 const root = path.resolve(here, "../..");
@@ -42,25 +47,6 @@ function flag(name: string, def: number): number {
   const v = Number(process.argv[i + 1]);
   if (!Number.isFinite(v) || v <= 0) throw new Error(`--${name} needs a positive number`);
   return v;
-}
-
-function quantile(sorted: number[], q: number): number | null {
-  if (sorted.length === 0) return null;
-  return sorted[Math.min(sorted.length - 1, Math.floor(q * sorted.length))]!;
-}
-
-/** CPU seconds (user + system) and RSS bytes of a process, from /proc (Linux). */
-function procStats(pid: number): { cpuS: number; rss: number } | null {
-  try {
-    const stat = readFileSync(`/proc/${pid}/stat`, "utf8");
-    const fields = stat.slice(stat.lastIndexOf(")") + 2).split(" ");
-    const ticks = Number(fields[11]) + Number(fields[12]);
-    const status = readFileSync(`/proc/${pid}/status`, "utf8");
-    const rssKb = Number(/VmRSS:\s+(\d+)/.exec(status)?.[1] ?? 0);
-    return { cpuS: ticks / 100, rss: rssKb * 1024 };
-  } catch {
-    return null;
-  }
 }
 
 /** Track a child's last known CPU and RSS (it stops by itself; /proc vanishes with it). */
@@ -314,43 +300,7 @@ async function bare(scenarioFile: string, opts: { loops: number; hz: number; bat
   return { sim, received, lat: lat.summary(), loopDelay: delaySummary(loopDelay), spanS: (last - first) / 1000, brokerCpuS: (cpu.user + cpu.system) / 1e6, rss: process.memoryUsage().rss };
 }
 
-/** A throw-away MariaDB (temporary data directory, free port, stopped with this process) with the schema migrated. */
-async function startBenchDatabase() {
-  const { ensureMariaDb, freePort, rootConnection } = await import("@/scripts/mariadb-server");
-  const { createSequelize } = await import("@/lib/db/sequelize");
-  const { migrateUp } = await import("@/lib/db/migrate");
-  const dbDir = mkdtempSync(path.join(os.tmpdir(), "rg-bdb-"));
-  const handle = await ensureMariaDb({
-    dataDir: path.join(dbDir, "data"),
-    port: await freePort(),
-    socket: path.join(dbDir, "s.sock"),
-    ephemeral: true,
-    watchPid: process.pid,
-    removeOnExit: dbDir,
-    allowApt: false,
-    database: "rg_bench",
-    user: "rg_bench",
-    password: "bench-db-pw-0123",
-  });
-  // the bench has no tenant, site or loop rows: loop_states (keyed to loops) would refuse every write
-  const root = await rootConnection(handle.socket);
-  await root.query("SET GLOBAL foreign_key_checks = 0");
-  await root.end();
-  const sequelize = createSequelize({ socket: handle.socket, database: "rg_bench", user: "rg_bench", password: "bench-db-pw-0123" });
-  await migrateUp(sequelize);
-  const pid = Number(readFileSync(path.join(handle.dataDir, "mariadbd.pid"), "utf8").trim());
-  return {
-    sequelize,
-    pid,
-    async stop() {
-      await sequelize.close();
-      await handle.stop();
-      rmSync(dbDir, { recursive: true, force: true });
-    },
-  };
-}
-
-async function pipeline(scenarioFile: string, opts: { loops: number; hz: number; batch: number; seconds: number; warmup: number; watch: number; stateEvery: number; withStates: boolean; history: boolean }) {
+async function pipeline(scenarioFile: string, opts: { loops: number; hz: number; batch: number; seconds: number; warmup: number; watch: number; stateEvery: number; withStates: boolean; history: boolean; assessment: boolean }) {
   const { Server } = await import("socket.io");
   const { getConfig } = await import("@/lib/config");
   const { Bus, systemClock } = await import("@/server/context");
@@ -427,6 +377,7 @@ async function pipeline(scenarioFile: string, opts: { loops: number; hz: number;
       }, 250)
     : null;
   const registry = new TrackerRegistry(ctx, configs, { stateEveryS: opts.stateEvery });
+  const assessment = opts.assessment ? new BenchAssessment(configs.map((c) => ({ loopId: c.id, tag: c.tag, periodS: c.telemetryPeriodS, kp: c.controller.kp, ti: c.controller.ti }))) : null;
   const emitter = startRealtimeEmitter(ctx);
   let updates = 0;
   ctx.bus.on("tracker:update", (s) => {
@@ -443,6 +394,7 @@ async function pipeline(scenarioFile: string, opts: { loops: number; hz: number;
       registry.push(route.loopId, samples, at);
       emitter.samples(route.loopId, samples);
       history?.addSamples(route.loopId, samples);
+      assessment?.push(route.loopId, samples);
       perLoopAccepted.set(route.loopId, (perLoopAccepted.get(route.loopId) ?? 0) + samples.length);
       const lastSample = samples[samples.length - 1];
       if (lastSample) ingestLat.add(lastSample.t, at);
@@ -479,7 +431,10 @@ async function pipeline(scenarioFile: string, opts: { loops: number; hz: number;
   const cpu0 = process.cpuUsage();
   const loopDelay = monitorEventLoopDelay({ resolution: 10 });
   loopDelay.enable();
+  const marks = new SteadyMarks(() => ({ accepted, dbCpuS: db ? (procStats(db.pid)?.cpuS ?? null) : null, assessMs: assessment?.spentMs ?? 0 }));
   const sim = await runSimulator(addr.port, scenarioFile, opts);
+  marks.stop();
+  assessment?.stop();
   await new Promise((r) => setTimeout(r, 2000)); // drain: emitter flushes every 200/500 ms
   emitter.flush();
   await new Promise((r) => setTimeout(r, 500));
@@ -524,6 +479,8 @@ async function pipeline(scenarioFile: string, opts: { loops: number; hz: number;
     client: clientResult,
     clientPeakRss: clientCpuBefore.peakRss,
     watchedAccepted,
+    marks,
+    assessmentRuns: assessment?.runs ?? null,
   };
 }
 
@@ -538,7 +495,14 @@ async function main(): Promise<void> {
     stateEvery: flag("state-every", 1),
     withStates: process.argv.includes("--with-states"),
     history: !process.argv.includes("--no-history"),
+    assessment: !process.argv.includes("--no-assessment"),
+    steady: process.argv.includes("--steady"),
+    tail: 0.5,
   };
+  if (opts.steady) {
+    opts.seconds = flag("seconds", 300);
+    opts.tail = Math.min(1, flag("tail", 0.5));
+  }
   const dir = mkdtempSync(path.join(os.tmpdir(), "rg-bench-"));
   try {
     const scenario = writeScenario(dir);
@@ -550,7 +514,7 @@ async function main(): Promise<void> {
     const perMsg = (r: SimRun) => (r.messages > 0 ? (r.sent / r.messages).toFixed(1) : "n/a");
 
     console.log("phase 1: bare broker (aedes + in-process JSON.parse)");
-    const b = await bare(scenario, opts);
+    const b = await bare(scenario, opts.steady ? { ...opts, seconds: Math.min(30, opts.seconds) } : opts);
     // delivered rate over the span from the first to the last receipt
     const bareRate = b.spanS > 0 ? b.received / b.spanS : 0;
     if (b.sim.sent === 0) console.log(`  simulator: ${b.sim.lastLine}`);
@@ -576,6 +540,10 @@ async function main(): Promise<void> {
     const bareCost = b.received > 0 ? (1e6 * b.brokerCpuS) / b.received : NaN;
     const pipeCost = p.accepted > 0 ? (1e6 * p.serverCpuS) / p.accepted : NaN;
     console.log(`server CPU per sample: bare broker ${bareCost.toFixed(1)} us, pipeline ${pipeCost.toFixed(1)} us, ratio ${(pipeCost / bareCost).toFixed(2)}`);
+    // marks every 5 s while the simulator runs (the drain after it is left out)
+    console.log(`  ${describeSteady("first 20 s", p.marks.head(20, opts.assessment))}`);
+    console.log(`  ${describeSteady(`last ${(100 * opts.tail).toFixed(0)} %`, p.marks.tail(opts.tail, opts.assessment))}`);
+    if (p.assessmentRuns !== null) console.log(`  live assessment: ${p.assessmentRuns} assessments run (LiveAssessor, 250 ms timer, 15 ms budget)`);
     if (p.historyStats) {
       const h = p.historyStats;
       console.log(
