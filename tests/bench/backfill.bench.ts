@@ -19,7 +19,7 @@ import fs from "node:fs";
 import os from "node:os";
 import path from "node:path";
 import { monitorEventLoopDelay } from "node:perf_hooks";
-import { quantile, startBenchDatabase } from "./bench-support";
+import { quantile, runBench, startBenchDatabase } from "./bench-support";
 
 const here = import.meta.dirname;
 const root = path.resolve(here, "../..");
@@ -224,17 +224,4 @@ async function main(): Promise<void> {
   }
 }
 
-if (process.argv.includes("--publisher")) {
-  publisherMain().catch((e: unknown) => {
-    console.error(e);
-    process.exit(1);
-  });
-} else {
-  main().then(
-    () => process.exit(0),
-    (e: unknown) => {
-      console.error(e);
-      process.exit(1);
-    },
-  );
-}
+runBench(main, { "--publisher": publisherMain });

@@ -6,6 +6,20 @@ import { readFileSync, mkdtempSync, rmSync } from "node:fs";
 import os from "node:os";
 import path from "node:path";
 
+/**
+ * Run a bench script: `main`, or the helper process a flag names (e.g. `--client`), exiting with
+ * 1 and the error on failure.
+ */
+export function runBench(main: () => Promise<void>, helpers: Record<string, () => Promise<void>> = {}): void {
+  const flag = Object.keys(helpers).find((f) => process.argv.includes(f));
+  const fail = (e: unknown) => {
+    console.error(e);
+    process.exit(1);
+  };
+  if (flag) helpers[flag]!().catch(fail);
+  else main().then(() => process.exit(0), fail);
+}
+
 export function quantile(sorted: number[], q: number): number | null {
   if (sorted.length === 0) return null;
   return sorted[Math.min(sorted.length - 1, Math.floor(q * sorted.length))]!;

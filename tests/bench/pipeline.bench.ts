@@ -35,7 +35,7 @@ import net from "node:net";
 import os from "node:os";
 import path from "node:path";
 import { monitorEventLoopDelay } from "node:perf_hooks";
-import { procStats, quantile, startBenchDatabase } from "./bench-support";
+import { procStats, quantile, runBench, startBenchDatabase } from "./bench-support";
 import { BenchAssessment, describeSteady, SteadyMarks } from "./pipeline-steady";
 
 const here = import.meta.dirname;
@@ -558,17 +558,4 @@ async function main(): Promise<void> {
   }
 }
 
-if (process.argv.includes("--client")) {
-  clientMain().catch((e: unknown) => {
-    console.error(e);
-    process.exit(1);
-  });
-} else {
-  main().then(
-    () => process.exit(0),
-    (e: unknown) => {
-      console.error(e);
-      process.exit(1);
-    },
-  );
-}
+runBench(main, { "--client": clientMain });
