@@ -37,8 +37,16 @@ export function externalOptionsFromConfig(cfg: Pick<AppConfig, "MQTT_USERNAME" |
     url,
     username: cfg.MQTT_USERNAME,
     password: cfg.MQTT_PASSWORD,
-    ca: cfg.MQTT_CA_FILE ? fs.readFileSync(cfg.MQTT_CA_FILE) : undefined,
+    ca: cfg.MQTT_CA_FILE ? readCa(cfg.MQTT_CA_FILE) : undefined,
   };
+}
+
+function readCa(file: string): Buffer {
+  try {
+    return fs.readFileSync(file);
+  } catch (e) {
+    throw new Error(`MQTT_CA_FILE: cannot read ${file}: ${(e as Error).message}`);
+  }
 }
 
 /** SUBACK return code of a refused subscription (MQTT 3.1.1 §3.9.3). */
