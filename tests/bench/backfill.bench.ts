@@ -20,7 +20,8 @@ import fs from "node:fs";
 import os from "node:os";
 import path from "node:path";
 import { monitorEventLoopDelay } from "node:perf_hooks";
-import { quantile, runBench, startBenchDatabase } from "./bench-support";
+import { quantile, runBench } from "./bench-support";
+import { startBenchDatabase } from "./bench-database";
 
 const here = import.meta.dirname;
 const root = path.resolve(here, "../..");
@@ -146,7 +147,7 @@ async function main(): Promise<void> {
   const { MQTT_URL: _ignored, ...env } = process.env;
   const config = getConfig({ ...env, SIMULATORS: "false" });
   const dir = fs.mkdtempSync(path.join(os.tmpdir(), "rg-bfbench-"));
-  const db = await startBenchDatabase({ foreignKeys: true });
+  const db = await startBenchDatabase({ name: "rg_bfbench" });
   try {
     console.log(`backfill bench: ${opts.mb} MB CSV of one loop at 1 s, while ${opts.loops} live loops x ${opts.hz} Hz = ${opts.loops * opts.hz} samples/s flow; ${os.cpus().length} CPUs, load average ${os.loadavg().map((v) => v.toFixed(2)).join(" ")}`);
     const { tenantId, backfillLoopId } = await createRows(db.sequelize, opts.loops, config.DEVICE_SECRET_PEPPER);

@@ -1,10 +1,8 @@
 /**
- * Helpers shared by the pipeline and backfill benches (plain scripts, not tests): quantiles,
- * per-process CPU and RSS from /proc, and a throw-away MariaDB with the schema migrated.
+ * Helpers shared by the pipeline and backfill benches (plain scripts, not tests): how a bench
+ * script runs, quantiles, per-process CPU and RSS from /proc. The bench MariaDB is ./bench-database.ts.
  */
-import { readFileSync, mkdtempSync, rmSync } from "node:fs";
-import os from "node:os";
-import path from "node:path";
+import { readFileSync } from "node:fs";
 
 /**
  * Run a bench script: `main`, or the helper process a flag names (e.g. `--client`), exiting with
@@ -38,42 +36,3 @@ export function procStats(pid: number): { cpuS: number; rss: number } | null {
     return null;
   }
 }
-
-/** A throw-away MariaDB (temporary data directory, free port, stopped with this process) with the schema migrated. */
-export async function startBenchDatabase(opts: { foreignKeys?: boolean } = {}) {
-  const { ensureMariaDb, freePort, rootConnection } = await import("@/scripts/mariadb-server");
-  const { createSequelize } = await import("@/lib/db/sequelize");
-  const { migrateUp } = await import("@/lib/db/migrate");
-  const dbDir = mkdtempSync(path.join(os.tmpdir(), "rg-bdb-"));
-  const handle = await ensureMariaDb({
-    dataDir: path.join(dbDir, "data"),
-    port: await freePort(),
-    socket: path.join(dbDir, "s.sock"),
-    ephemeral: true,
-    watchPid: process.pid,
-    removeOnExit: dbDir,
-    allowApt: false,
-    database: "rg_bench",
-    user: "rg_bench",
-    password: "bench-db-pw-0123",
-  });
-  // the pipeline bench has no tenant, site or loop rows: loop_states (keyed to loops) would refuse every write
-  if (opts.foreignKeys !== true) {
-    const root = await rootConnection(handle.socket);
-    await root.query("SET GLOBAL foreign_key_checks = 0");
-    await root.end();
-  }
-  const sequelize = createSequelize({ socket: handle.socket, database: "rg_bench", user: "rg_bench", password: "bench-db-pw-0123" });
-  await migrateUp(sequelize);
-  const pid = Number(readFileSync(path.join(handle.dataDir, "mariadbd.pid"), "utf8").trim());
-  return {
-    sequelize,
-    pid,
-    async stop() {
-      await sequelize.close();
-      await handle.stop();
-      rmSync(dbDir, { recursive: true, force: true });
-    },
-  };
-}
-

@@ -35,7 +35,8 @@ import net from "node:net";
 import os from "node:os";
 import path from "node:path";
 import { monitorEventLoopDelay } from "node:perf_hooks";
-import { procStats, quantile, runBench, startBenchDatabase } from "./bench-support";
+import { procStats, quantile, runBench } from "./bench-support";
+import { startBenchDatabase } from "./bench-database";
 import { BenchAssessment, describeSteady, SteadyMarks } from "./pipeline-steady";
 
 const here = import.meta.dirname;
@@ -367,7 +368,7 @@ async function pipeline(scenarioFile: string, opts: { loops: number; hz: number;
       nk: 5,
     });
   }
-  const db = opts.history ? await startBenchDatabase() : null;
+  const db = opts.history ? await startBenchDatabase({ name: "rg_bench", foreignKeyChecks: false }) : null;
   const history = db ? await startHistory(ctx, { sequelize: db.sequelize, partitionEveryMs: 0 }) : null;
   const dbCpu0 = db ? (procStats(db.pid)?.cpuS ?? 0) : 0;
   let dbPeakRss = 0;
