@@ -36,8 +36,13 @@ export const configSchema = z.object({
   /** Embedded aedes broker (ignored when MQTT_URL is set). */
   MQTT_HOST: z.string().default("127.0.0.1"),
   MQTT_PORT: port.default(1884),
-  /** An external broker, e.g. mqtt://127.0.0.1:1883; unset = embedded aedes. */
+  /** An external broker, e.g. mqtt://127.0.0.1:1883 or mqtts://broker:8883; unset = embedded aedes. */
   MQTT_URL: z.string().optional(),
+  /** Rimguard's own credential on the external broker (or in MQTT_URL as user:pass@). */
+  MQTT_USERNAME: z.string().optional(),
+  MQTT_PASSWORD: z.string().optional(),
+  /** PEM file of the certificate(s) Rimguard's MQTT clients trust for mqtts (external broker, simulators); unset = the system store. */
+  MQTT_CA_FILE: z.string().optional(),
   /** MQTT over TLS on its own port (server/broker/tls.ts): off | on | required (plain TCP off); unset = on, off in tests. */
   MQTT_TLS: z.enum(["off", "on", "required"]).optional(),
   MQTTS_HOST: z.string().optional(),

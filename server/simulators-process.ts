@@ -8,6 +8,7 @@
  */
 import { spawn, type ChildProcess } from "node:child_process";
 import path from "node:path";
+import { tlsModeOf } from "./broker/tls";
 import type { ServerContext, Service, ServiceHealth } from "./context";
 
 export interface SimulatorsService extends Service {
@@ -35,7 +36,17 @@ export async function startSimulators(ctx: ServerContext, options: StartSimulato
     SIM_SEED: String(cfg.SIM_SEED),
     MQTT_HOST: cfg.MQTT_HOST,
     MQTT_PORT: String(cfg.MQTT_PORT),
-    ...(cfg.MQTT_URL ? { MQTT_URL: cfg.MQTT_URL } : {}),
+    // the broker's TLS settings as this process resolved them, so the simulators use mqtts when it is required
+    MQTT_TLS: tlsModeOf(cfg),
+    MQTTS_PORT: String(cfg.MQTTS_PORT),
+    MQTT_TLS_DIR: path.resolve(cfg.MQTT_TLS_DIR),
+    ...(cfg.MQTTS_HOST ? { MQTTS_HOST: cfg.MQTTS_HOST } : {}),
+    ...(cfg.MQTT_TLS_CERT ? { MQTT_TLS_CERT: path.resolve(cfg.MQTT_TLS_CERT) } : {}),
+    ...(cfg.MQTT_CA_FILE ? { MQTT_CA_FILE: path.resolve(cfg.MQTT_CA_FILE) } : {}),
+    // the simulators are devices with their own credentials: never hand them the server's
+    ...(cfg.MQTT_URL ? { MQTT_URL: withoutCredentials(cfg.MQTT_URL) } : {}),
+    MQTT_USERNAME: undefined,
+    MQTT_PASSWORD: undefined,
     ...options.env,
   };
   const child: ChildProcess = spawn(process.execPath, ["--import", "tsx", path.join(root, "simulators", "index.ts"), ...(options.args ?? [])], {
@@ -94,4 +105,15 @@ export async function startSimulators(ctx: ServerContext, options: StartSimulato
       clearTimeout(timer);
     },
   };
+}
+
+function withoutCredentials(url: string): string {
+  try {
+    const u = new URL(url);
+    u.username = "";
+    u.password = "";
+    return u.toString();
+  } catch {
+    return url;
+  }
 }

@@ -9,6 +9,7 @@
  * keeps publishing into the next server. A second simulator for devices another live simulator
  * already publishes as is refused (./device-lock.ts).
  */
+import fs from "node:fs";
 import path from "node:path";
 import { loadEnv } from "@/lib/load-env";
 import { acquireDeviceLocks } from "./device-lock";
@@ -55,10 +56,18 @@ async function main(): Promise<void> {
     opts.brokerUrl,
     [...needed.values()].map((c) => c.clientId),
   );
+  let ca: Buffer | undefined;
+  if (opts.caFile) {
+    try {
+      ca = fs.readFileSync(opts.caFile);
+    } catch (e) {
+      throw new Error(`cannot read the broker certificate to trust (${opts.caFile}): ${(e as Error).message}`);
+    }
+  }
   const publisher =
     opts.protocol === "sparkplug"
-      ? await connectSparkplugPublisher(opts.brokerUrl, Object.fromEntries(needed), { qos: opts.qos })
-      : await connectPublisher(opts.brokerUrl, Object.fromEntries(needed), { qos: opts.qos });
+      ? await connectSparkplugPublisher(opts.brokerUrl, Object.fromEntries(needed), { qos: opts.qos, ...(ca ? { ca } : {}) })
+      : await connectPublisher(opts.brokerUrl, Object.fromEntries(needed), { qos: opts.qos, ...(ca ? { ca } : {}) });
   // SIM_BATCH_DELAY_MS: longest wait of a partial batch (load runs: long enough to fill --batch)
   const batchDelay = Number(process.env.SIM_BATCH_DELAY_MS ?? "");
   const runner = new SimulatorRunner({

@@ -10,7 +10,10 @@
  *   --batch <n>         SIM_BATCH             samples per MQTT message, 1..500 (default 1)
  *   --duration <s>      SIM_DURATION_S        stop by itself after s wall seconds (0 = run on)
  *   --tick-ms <ms>      SIM_TICK_MS           wall interval between simulation ticks (default 50)
- *   --broker <url>      MQTT_URL              broker URL (default mqtt://MQTT_HOST:MQTT_PORT)
+ *   --broker <url>      MQTT_URL              broker URL (default mqtt://MQTT_HOST:MQTT_PORT, or
+ *                                             mqtts://MQTTS_HOST:MQTTS_PORT when MQTT_TLS=required)
+ *   --ca <file>         MQTT_CA_FILE          PEM certificate to trust for mqtts (default with MQTT_TLS=required:
+ *                                             the broker's own, MQTT_TLS_CERT or the demo's self-signed one)
  *   --qos <0|1>         SIM_QOS               MQTT QoS of telemetry (default 0)
  *   --stamp <mode>      SIM_STAMP             "simulated" (default) or "publish" (load runs; see runner.ts)
  *   --protocol <p>      SIM_PROTOCOL          "json" (default: rg/.../samples) or "sparkplug" (Sparkplug B, see sparkplug-publisher.ts)
@@ -18,7 +21,8 @@
  *   (credentials)       SIM_DEVICE_CREDENTIALS JSON { "tenant/site" or tenant: { username, password, clientId } }
  */
 import { z } from "zod";
-import { getConfig } from "@/lib/config";
+import { getConfig, type Config } from "@/lib/config";
+import { brokerCertificatePath, tlsModeOf } from "@/server/broker/tls";
 
 const FLAGS: Record<string, string> = {
   "--scenario": "SIM_SCENARIO",
@@ -30,6 +34,7 @@ const FLAGS: Record<string, string> = {
   "--duration": "SIM_DURATION_S",
   "--tick-ms": "SIM_TICK_MS",
   "--broker": "MQTT_URL",
+  "--ca": "MQTT_CA_FILE",
   "--qos": "SIM_QOS",
   "--stamp": "SIM_STAMP",
   "--protocol": "SIM_PROTOCOL",
@@ -72,6 +77,8 @@ export interface SimulatorOptions {
   durationS: number;
   tickMs: number;
   brokerUrl: string;
+  /** PEM file of the certificate to trust for mqtts (verification is never skipped); null = the system store. */
+  caFile: string | null;
   qos: 0 | 1;
   stamp: "simulated" | "publish";
   protocol: "json" | "sparkplug";
@@ -115,11 +122,24 @@ export function parseSimulatorOptions(argv: string[], env: NodeJS.ProcessEnv, de
     batchSize: o.SIM_BATCH,
     durationS: o.SIM_DURATION_S,
     tickMs: o.SIM_TICK_MS,
-    brokerUrl: cfg.MQTT_URL || `mqtt://${cfg.MQTT_HOST}:${cfg.MQTT_PORT}`,
+    ...brokerOf(cfg),
     qos: o.SIM_QOS,
     stamp: o.SIM_STAMP,
     protocol: o.SIM_PROTOCOL,
     useSeed: !o.SIM_NO_SEED,
     credentials: o.SIM_DEVICE_CREDENTIALS,
   };
+}
+
+/**
+ * Where the simulators connect: MQTT_URL as given; else the embedded broker, over mqtts when it
+ * requires TLS (it has no plain listener then), trusting the broker's certificate by its file.
+ */
+export function brokerOf(cfg: Config): { brokerUrl: string; caFile: string | null } {
+  if (cfg.MQTT_URL) return { brokerUrl: cfg.MQTT_URL, caFile: cfg.MQTT_CA_FILE ?? null };
+  if (tlsModeOf(cfg) !== "required") return { brokerUrl: `mqtt://${cfg.MQTT_HOST}:${cfg.MQTT_PORT}`, caFile: cfg.MQTT_CA_FILE ?? null };
+  const host = cfg.MQTTS_HOST ?? cfg.MQTT_HOST;
+  // a wildcard listen address is reached on loopback, which the demo certificate names
+  const connectHost = host === "0.0.0.0" || host === "::" ? "127.0.0.1" : host;
+  return { brokerUrl: `mqtts://${connectHost.includes(":") ? `[${connectHost}]` : connectHost}:${cfg.MQTTS_PORT}`, caFile: cfg.MQTT_CA_FILE ?? brokerCertificatePath(cfg) };
 }

@@ -33,7 +33,7 @@ function keysOf(topic: string): [string, string] {
 export async function connectPublisher(
   url: string,
   credentials: Record<string, DeviceCredential>,
-  options: { qos?: 0 | 1; connectTimeoutMs?: number } = {},
+  options: { qos?: 0 | 1; connectTimeoutMs?: number; /** PEM certificate(s) to trust for mqtts. */ ca?: Buffer } = {},
 ): Promise<TelemetryPublisher> {
   const clients = new Map<string, MqttClient>();
   let errors = 0;
@@ -47,6 +47,8 @@ export async function connectPublisher(
         reconnectPeriod: 2_000,
         connectTimeout: options.connectTimeoutMs ?? 10_000,
         clean: true,
+        ...(options.ca ? { ca: options.ca } : {}),
+        rejectUnauthorized: true,
       });
       client.on("error", () => {
         errors++;

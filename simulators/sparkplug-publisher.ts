@@ -40,7 +40,7 @@ export function sampleMetrics(s: Sample, prev: Sample | null): { name?: string; 
   return out;
 }
 
-export async function connectSparkplugPublisher(url: string, credentials: Record<string, DeviceCredential>, options: { qos?: 0 | 1 } = {}): Promise<TelemetryPublisher> {
+export async function connectSparkplugPublisher(url: string, credentials: Record<string, DeviceCredential>, options: { qos?: 0 | 1; /** PEM certificate(s) to trust for mqtts. */ ca?: Buffer } = {}): Promise<TelemetryPublisher> {
   const nodes = new Map<string, EdgeNode>();
   let errors = 0;
   const qos = options.qos ?? 0;
@@ -64,7 +64,7 @@ export async function connectSparkplugPublisher(url: string, credentials: Record
     const will = { topic: `spBv1.0/${ids.groupId}/NDEATH/${ids.edgeNode}`, payload: encodeSparkplug({ timestamp: Date.now(), metrics: [{ name: "bdSeq", type: "UInt64", value: bdSeq }] }), qos: 1 as const, retain: false };
     let client: MqttClient;
     try {
-      client = await mqtt.connectAsync(url, { username: cred.username, password: cred.password, clientId: cred.clientId, protocolVersion: 4, reconnectPeriod: 2_000, clean: true, will });
+      client = await mqtt.connectAsync(url, { username: cred.username, password: cred.password, clientId: cred.clientId, protocolVersion: 4, reconnectPeriod: 2_000, clean: true, will, ...(options.ca ? { ca: options.ca } : {}) });
     } catch (e) {
       await Promise.all([...nodes.values()].map((n) => n.client.endAsync(true).catch(() => undefined)));
       throw new Error(`simulator could not connect to the MQTT broker at ${url}: ${(e as Error).message}`);

@@ -8,14 +8,15 @@
  */
 import type { ServerContext } from "@/server/context";
 import { startEmbedded } from "./embedded";
-import { startExternal } from "./external";
+import { externalOptionsFromConfig, startExternal } from "./external";
 import type { BrokerOptions, BrokerService } from "./types";
 
 export { hashDeviceSecret, StaticCredentials, CachedCredentials, clientIdAllowed, type DeviceCredential, type CredentialLookup } from "./credentials";
+export { externalOptionsFromConfig, startExternal, type ExternalBrokerOptions } from "./external";
 export { EXTERNAL_BROKER, INTERNAL_PUBLISHER, type BrokerMessage, type BrokerMessageHandler, type BrokerOptions, type BrokerService, type TopicNamespace } from "./types";
 
 export async function startBroker(ctx: ServerContext, opts: BrokerOptions): Promise<BrokerService> {
   const url = opts.mqttUrl === undefined ? ctx.config.MQTT_URL : opts.mqttUrl;
-  if (url) return startExternal(url);
+  if (url) return startExternal(externalOptionsFromConfig(ctx.config, url));
   return startEmbedded(ctx, opts);
 }

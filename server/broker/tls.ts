@@ -31,13 +31,22 @@ export function tlsModeOf(cfg: Pick<AppConfig, "MQTT_TLS" | "NODE_ENV">): TlsMod
   return cfg.MQTT_TLS ?? (cfg.NODE_ENV === "test" ? "off" : "on");
 }
 
+/** Where the demo's self-signed pair lives under a directory. */
+export function selfSignedPairPaths(dir: string): { certPath: string; keyPath: string } {
+  return { certPath: path.join(dir, "broker-cert.pem"), keyPath: path.join(dir, "broker-key.pem") };
+}
+
+/** The PEM certificate the broker presents for mqtts: MQTT_TLS_CERT, else the demo pair's (what a local client trusts). */
+export function brokerCertificatePath(cfg: Pick<AppConfig, "MQTT_TLS_CERT" | "MQTT_TLS_DIR">): string {
+  return cfg.MQTT_TLS_CERT ?? selfSignedPairPaths(path.join(cfg.MQTT_TLS_DIR, "mqtt-tls")).certPath;
+}
+
 /**
  * A self-signed certificate for the demo broker in `dir` (made once, kept): CN and subject
  * alternative names localhost and 127.0.0.1, ECDSA P-256, about two years. Returns the PEM paths.
  */
 export function ensureSelfSignedPair(dir: string): { certPath: string; keyPath: string; created: boolean } {
-  const certPath = path.join(dir, "broker-cert.pem");
-  const keyPath = path.join(dir, "broker-key.pem");
+  const { certPath, keyPath } = selfSignedPairPaths(dir);
   if (fs.existsSync(certPath) && fs.existsSync(keyPath)) return { certPath, keyPath, created: false };
   fs.mkdirSync(dir, { recursive: true, mode: 0o700 });
   execFileSync(

@@ -26,16 +26,21 @@
  *        client also joins its tenant room and receives the `loop:state` batches) --sparkplug (phase 3:
  *        the same pipeline fed by the simulators' Sparkplug B mode, births then report-by-exception
  *        DDATA by alias, decoded by server/sparkplug; printed beside phase 2 with the ratio)
+ *        --steady (steady-state mode: default --seconds 300; figures over the first 20 s and over
+ *        the last --tail F of the run, default 0.5; the bare-broker phase runs 30 s)
+ *        --no-assessment (leave out the live routine assessment, ./pipeline-steady.ts)
  */
 import { spawn, type ChildProcess } from "node:child_process";
-import { readFileSync, writeFileSync, mkdtempSync, rmSync } from "node:fs";
+import { writeFileSync, mkdtempSync, rmSync } from "node:fs";
 import { createServer } from "node:http";
 import net from "node:net";
 import os from "node:os";
 import path from "node:path";
 import { monitorEventLoopDelay } from "node:perf_hooks";
 import { piTuning, testLoopConfig } from "@/tests/helpers/loop-config";
+import { procStats, quantile, runBench } from "./bench-support";
 import { startBenchDatabase } from "./bench-database";
+import { BenchAssessment, describeSteady, SteadyMarks } from "./pipeline-steady";
 
 const here = import.meta.dirname;
 const root = path.resolve(here, "../..");
@@ -46,25 +51,6 @@ function flag(name: string, def: number): number {
   const v = Number(process.argv[i + 1]);
   if (!Number.isFinite(v) || v <= 0) throw new Error(`--${name} needs a positive number`);
   return v;
-}
-
-function quantile(sorted: number[], q: number): number | null {
-  if (sorted.length === 0) return null;
-  return sorted[Math.min(sorted.length - 1, Math.floor(q * sorted.length))]!;
-}
-
-/** CPU seconds (user + system) and RSS bytes of a process, from /proc (Linux). */
-function procStats(pid: number): { cpuS: number; rss: number } | null {
-  try {
-    const stat = readFileSync(`/proc/${pid}/stat`, "utf8");
-    const fields = stat.slice(stat.lastIndexOf(")") + 2).split(" ");
-    const ticks = Number(fields[11]) + Number(fields[12]);
-    const status = readFileSync(`/proc/${pid}/status`, "utf8");
-    const rssKb = Number(/VmRSS:\s+(\d+)/.exec(status)?.[1] ?? 0);
-    return { cpuS: ticks / 100, rss: rssKb * 1024 };
-  } catch {
-    return null;
-  }
 }
 
 /** Track a child's last known CPU and RSS (it stops by itself; /proc vanishes with it). */
@@ -321,7 +307,7 @@ async function bare(scenarioFile: string, opts: { loops: number; hz: number; bat
 }
 
 
-async function pipeline(scenarioFile: string, opts: { loops: number; hz: number; batch: number; seconds: number; warmup: number; watch: number; stateEvery: number; withStates: boolean; history: boolean; protocol?: "json" | "sparkplug" }) {
+async function pipeline(scenarioFile: string, opts: { loops: number; hz: number; batch: number; seconds: number; warmup: number; watch: number; stateEvery: number; withStates: boolean; history: boolean; assessment: boolean; protocol?: "json" | "sparkplug" }) {
   const { Server } = await import("socket.io");
   const { getConfig } = await import("@/lib/config");
   const { Bus, systemClock } = await import("@/server/context");
@@ -366,7 +352,7 @@ async function pipeline(scenarioFile: string, opts: { loops: number; hz: number;
   const { simulatorSparkplugIds } = await import("@/lib/domain/sparkplug");
   let sparkplug: InstanceType<typeof SparkplugHost> | null = null;
   const namespace = { owns: (t: string) => t.startsWith("spBv1.0/"), authorize: (t: string, c: { tenantId: number }) => sparkplug?.namespace().authorize(t, c as never) ?? null };
-  const broker = await startBroker(ctx, { credentials: new StaticCredentials([cred]), host: "127.0.0.1", port: 0, mqttUrl: null, namespaces: sparkplugMode ? [namespace] : [] });
+  const broker = await startBroker(ctx, { credentials: new StaticCredentials([cred]), host: "127.0.0.1", port: 0, mqttUrl: null, namespaces: sparkplugMode ? [namespace] : [], tls: null });
   const routes = [];
   const configs = [];
   for (let i = 0; i < opts.loops; i++) {
@@ -398,6 +384,7 @@ async function pipeline(scenarioFile: string, opts: { loops: number; hz: number;
       }, 250)
     : null;
   const registry = new TrackerRegistry(ctx, configs, { stateEveryS: opts.stateEvery });
+  const assessment = opts.assessment ? new BenchAssessment(configs.map((c) => ({ loopId: c.id, tag: c.tag, periodS: c.telemetryPeriodS, kp: c.controller.kp, ti: c.controller.ti }))) : null;
   const emitter = startRealtimeEmitter(ctx);
   let updates = 0;
   ctx.bus.on("tracker:update", (s) => {
@@ -415,6 +402,7 @@ async function pipeline(scenarioFile: string, opts: { loops: number; hz: number;
       registry.push(route.loopId, samples, at);
       emitter.samples(route.loopId, samples);
       history?.addSamples(route.loopId, samples);
+      assessment?.push(route.loopId, samples);
       perLoopAccepted.set(route.loopId, (perLoopAccepted.get(route.loopId) ?? 0) + samples.length);
       const lastSample = samples[samples.length - 1];
       if (lastSample) ingestLat.add(lastSample.t, at);
@@ -477,9 +465,12 @@ async function pipeline(scenarioFile: string, opts: { loops: number; hz: number;
   const cpu0 = process.cpuUsage();
   const loopDelay = monitorEventLoopDelay({ resolution: 10 });
   loopDelay.enable();
+  const marks = new SteadyMarks(() => ({ accepted, dbCpuS: db ? (procStats(db.pid)?.cpuS ?? null) : null, assessMs: assessment?.spentMs ?? 0 }));
   const sim = await runSimulator(addr.port, scenarioFile, opts);
   if (spTick) clearInterval(spTick);
   if (sparkplugMode) rejected = Object.values(ingest.counters.totals().rejected).reduce((x, y) => x + y, 0);
+  marks.stop();
+  assessment?.stop();
   await new Promise((r) => setTimeout(r, 2000)); // drain: emitter flushes every 200/500 ms
   emitter.flush();
   await new Promise((r) => setTimeout(r, 500));
@@ -525,6 +516,9 @@ async function pipeline(scenarioFile: string, opts: { loops: number; hz: number;
     client: clientResult,
     clientPeakRss: clientCpuBefore.peakRss,
     watchedAccepted,
+    marks,
+    assessmentRuns: assessment?.runs ?? null,
+    assessmentSteady: assessment?.steadyCost() ?? null,
   };
 }
 
@@ -539,7 +533,14 @@ async function main(): Promise<void> {
     stateEvery: flag("state-every", 1),
     withStates: process.argv.includes("--with-states"),
     history: !process.argv.includes("--no-history"),
+    assessment: !process.argv.includes("--no-assessment"),
+    steady: process.argv.includes("--steady"),
+    tail: 0.5,
   };
+  if (opts.steady) {
+    opts.seconds = flag("seconds", 300);
+    opts.tail = Math.min(1, flag("tail", 0.5));
+  }
   const dir = mkdtempSync(path.join(os.tmpdir(), "rg-bench-"));
   try {
     const scenario = writeScenario(dir);
@@ -551,7 +552,7 @@ async function main(): Promise<void> {
     const perMsg = (r: SimRun) => (r.messages > 0 ? (r.sent / r.messages).toFixed(1) : "n/a");
 
     console.log("phase 1: bare broker (aedes + in-process JSON.parse)");
-    const b = await bare(scenario, opts);
+    const b = await bare(scenario, opts.steady ? { ...opts, seconds: Math.min(30, opts.seconds) } : opts);
     // delivered rate over the span from the first to the last receipt
     const bareRate = b.spanS > 0 ? b.received / b.spanS : 0;
     if (b.sim.sent === 0) console.log(`  simulator: ${b.sim.lastLine}`);
@@ -577,6 +578,18 @@ async function main(): Promise<void> {
     const bareCost = b.received > 0 ? (1e6 * b.brokerCpuS) / b.received : NaN;
     const pipeCost = p.accepted > 0 ? (1e6 * p.serverCpuS) / p.accepted : NaN;
     console.log(`server CPU per sample: bare broker ${bareCost.toFixed(1)} us, pipeline ${pipeCost.toFixed(1)} us, ratio ${(pipeCost / bareCost).toFixed(2)}`);
+    // marks every 5 s while the simulator runs (the drain after it is left out)
+    console.log(`  ${describeSteady("first 20 s", p.marks.head(20, opts.assessment))}`);
+    console.log(`  ${describeSteady(`last ${(100 * opts.tail).toFixed(0)} %`, p.marks.tail(opts.tail, opts.assessment))}`);
+    if (p.assessmentRuns !== null) console.log(`  live assessment: ${p.assessmentRuns} assessments run in the run (LiveAssessor, 250 ms timer, 15 ms budget; a loop's first runs come while its window fills, so a run of minutes reads the start-up cost)`);
+    if (p.assessmentSteady) {
+      const a = p.assessmentSteady;
+      const inRun = p.marks.tail(opts.tail, true);
+      const withoutInRun = inRun ? inRun.serverUsPerSample - (inRun.assessUsPerSample ?? 0) : NaN;
+      console.log(
+        `  live assessment in the long run (full windows): push ${a.pushUs.toFixed(3)} us/sample + one full-window run ${a.fullRunMs.toFixed(1)} ms every ${a.samplesBetweenRuns} samples = ${a.perSampleUs.toFixed(3)} us/sample (target <= 2 us); ratio to the pipeline's cost without it (last part, ${withoutInRun.toFixed(2)} us/sample) ${(a.perSampleUs / withoutInRun).toFixed(3)}`,
+      );
+    }
     if (p.historyStats) {
       const h = p.historyStats;
       console.log(
@@ -598,17 +611,4 @@ async function main(): Promise<void> {
   }
 }
 
-if (process.argv.includes("--client")) {
-  clientMain().catch((e: unknown) => {
-    console.error(e);
-    process.exit(1);
-  });
-} else {
-  main().then(
-    () => process.exit(0),
-    (e: unknown) => {
-      console.error(e);
-      process.exit(1);
-    },
-  );
-}
+runBench(main, { "--client": clientMain });
