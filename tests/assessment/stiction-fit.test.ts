@@ -8,22 +8,9 @@
  * clear gain. Thresholds ours (stiction.ts); the S recovery is what the method claims.
  */
 import { describe, expect, it } from "vitest";
-import { assessLoop, parseLoopConfig } from "@/lib/assessment";
+import { assessLoop } from "@/lib/assessment";
 import { fitStictionModel } from "@/lib/assessment/stiction-fit";
-import { simulateLoop, type SimOptions } from "./loop-sim";
-
-const config = (kp: number, ti: number) =>
-  parseLoopConfig({
-    tag: "FIC-311",
-    kind: "flow",
-    units: "m3/h",
-    pvLo: 0,
-    pvHi: 100,
-    samplePeriodS: 1,
-    deadTimeS: 2,
-    normalMode: "auto",
-    controller: { kp, ti, td: 0, action: "reverse", mvLo: 0, mvHi: 100 },
-  });
+import { simulatedLoopConfig, simulateLoop, type SimOptions } from "./loop-sim";
 
 function fits(make: (seed: number) => SimOptions, periodS?: number) {
   const out: { ratio: number; S: number }[] = [];
@@ -32,7 +19,7 @@ function fits(make: (seed: number) => SimOptions, periodS?: number) {
     const s = simulateLoop(o);
     const mv = Float64Array.from(s, (x) => x.mv);
     const pv = Float64Array.from(s, (x) => x.pv);
-    const P = periodS ?? assessLoop(s, config(o.kp, o.ti!)).details.dominantPeriodS ?? 60;
+    const P = periodS ?? assessLoop(s, simulatedLoopConfig(o.kp, o.ti ?? null)).details.dominantPeriodS ?? 60;
     const f = fitStictionModel(mv, pv, P);
     // no fit (too few cycles in the data) counts as no gain
     out.push({ ratio: f?.residualRatio ?? 1, S: f?.bandPct ?? 0 });
