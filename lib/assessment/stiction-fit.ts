@@ -15,8 +15,9 @@
  *
  * Guards: the data are block-averaged to about 12 samples per cycle (each step then carries a
  * clear share of the input's effect, and noise averages out: 24 found half as many sticking
- * valves on DEV); the process part has two autoregressive terms (enough for an integrator or a lag) and input lags up to half a cycle
- * (dead time unknown); an offset term takes the load's mean. Loads and noise remain in the
+ * valves on DEV); the process part has two autoregressive terms (enough for an integrator or a
+ * lag) and input lags up to half a cycle (dead time unknown); an offset term takes the load's
+ * mean. Loads and noise remain in the
  * residual, so the ratio is judged with a margin (diagnosis.ts, stiction.ts).
  */
 import { StictionValve } from "./stiction-model";
