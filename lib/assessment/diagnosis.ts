@@ -28,7 +28,7 @@ export interface DiagnosisInput {
   oscillation: { detected: boolean; periodS: number | null; regularity: number | null; persistence: number | null; amplitudePct: number | null };
   oscillationInManual: boolean | null;
   spOscillates: boolean;
-  stiction: StictionFigures & { curveFitIndex: number | null };
+  stiction: StictionFigures & { curveFitIndex: number | null; modelFitRatio?: number | null };
   compressed: boolean;
   harrisIndex: number | null;
   idleIndex: number | null;
@@ -181,9 +181,12 @@ function lineLine(l: SpectralLine): string {
 
 /** Higher with a more triangular shape; lower when the cross-correlation reads even. */
 function stictionConfidence(x: DiagnosisInput, base: number): number {
-  const shape = (x.stiction.curveFitIndex ?? 0.6) - 0.6;
+  const shape = Math.max(-0.1, (x.stiction.curveFitIndex ?? 0.6) - 0.6);
+  // The model fit's gain over a linear valve (Jelali 2008) adds when it is clear.
+  const ratio = x.stiction.modelFitRatio ?? 1;
+  const model = ratio <= 0.95 ? Math.min(0.25, 0.05 + (0.95 - ratio)) : 0;
   const even = x.stiction.evidence.some((e) => e.includes("reads even"));
-  return clamp(base + shape - (even ? 0.1 : 0));
+  return clamp(base + shape + model - (even ? 0.1 : 0));
 }
 
 function pct(v: number): string {

@@ -101,6 +101,7 @@ export function assessLoop(input: readonly AssessSample[], config: LoopConfig): 
     ti,
     compressed: compression.compressed,
     outsideOscillation: oscillationInManual === true || spOscillates,
+    mvLimits: [config.controller.mvLo, config.controller.mvHi],
   });
 
   // Harris index over constant-SP stretches.
@@ -199,7 +200,7 @@ export function assessLoop(input: readonly AssessSample[], config: LoopConfig): 
     oscillation: { ...osc, amplitudePct: osc.amplitude },
     oscillationInManual,
     spOscillates,
-    stiction: { ...stiction, curveFitIndex: stiction.tests.curveFit.index },
+    stiction: { ...stiction, curveFitIndex: stiction.tests.curveFit.index, modelFitRatio: stiction.tests.modelFit.residualRatio },
     compressed: compression.compressed,
     harrisIndex: harris,
     idleIndex: idle?.index ?? null,

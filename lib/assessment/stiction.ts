@@ -20,7 +20,9 @@
  * (intrusive, with operations' consent) decides.
  */
 import { fmt } from "./oscillation";
+import { findHalfCycles, fitShape, sineShape } from "./half-cycles";
 import { crossCovariance } from "./signal";
+import { fitStictionModel } from "./stiction-fit";
 import type { StictionFigures, StictionTests } from "./types";
 
 export interface StictionInput {
@@ -38,10 +40,48 @@ export interface StictionInput {
   ti: number | null;
   compressed: boolean;
   outsideOscillation: boolean;
+  /** Output limits, % (the model fit is withheld when the output rests at one). */
+  mvLimits: [number, number];
 }
 
 export interface StictionResult extends StictionFigures {
   tests: StictionTests;
+}
+
+/** Residual ratio of the model fit at or below which a sticking valve clearly explains PV better (ours, set on DEV). */
+const MODEL_CLEAR = 0.95;
+/** Above this the sticking valve explains nothing beyond a linear valve: it contradicts a stick-slip shape (ours). */
+const MODEL_NONE = 0.99;
+/** Share of the stretch with the output at a limit above which the model fit is withheld (ours). */
+const MODEL_LIMIT_SHARE = 0.02;
+
+function modelFitTest(mv: Float64Array, pv: Float64Array, P: number, [lo, hi]: [number, number]): { figures: StictionTests["modelFit"]; line: string | null } {
+  const band = 0.005 * (hi - lo);
+  let atLimit = 0;
+  for (let i = 0; i < mv.length; i++) if (mv[i]! <= lo + band || mv[i]! >= hi - band) atLimit++;
+  const figures: StictionTests["modelFit"] = { applicable: false, residualRatio: null, bandPct: null, jumpPct: null, note: "" };
+  if (atLimit > MODEL_LIMIT_SHARE * mv.length) {
+    figures.note = "withheld: the output rests at a limit";
+    return { figures, line: "model-fit test withheld: the output rests at a limit, which also holds the valve still" };
+  }
+  const fit = fitStictionModel(mv, pv, P);
+  if (!fit) {
+    figures.note = "too few cycles";
+    return { figures, line: null };
+  }
+  figures.applicable = true;
+  figures.residualRatio = fit.residualRatio;
+  figures.bandPct = fit.bandPct;
+  figures.jumpPct = fit.jumpPct;
+  const gain = 1 - fit.residualRatio;
+  figures.note = fit.residualRatio <= MODEL_CLEAR ? "stick-slip explains PV" : fit.residualRatio > MODEL_NONE ? "no gain over a linear valve" : "slight gain";
+  return {
+    figures,
+    line:
+      fit.residualRatio <= MODEL_NONE
+        ? `a sticking valve (S ${fmt(fit.bandPct, 2)} %, J ${fmt(fit.jumpPct, 2)} % of output) explains ${(100 * gain).toFixed(0)} % of the residual variance a linear valve leaves (stiction model fit: Jelali 2008, model of Choudhury et al. 2005)`
+        : "a sticking valve explains PV no better than a linear valve (stiction model fit: Jelali 2008)",
+  };
 }
 
 /** ∠C of a PI above this (degrees) at the oscillation frequency: integral action dominates. */
@@ -61,82 +101,25 @@ export function crossCorrelationOddness(u: Float64Array, y: Float64Array, period
 
 /** He et al. (2007): stiction index from sine and triangle fits of half-cycles of x. */
 export function curveFitIndex(x: Float64Array, periodSamples: number): { index: number; halfCycles: number } | null {
-  const n = x.length;
-  if (periodSamples < 16 || n < 2 * periodSamples) return null;
-  // Light smoothing (moving average over a twentieth of the period) against noise.
-  const w = Math.max(1, Math.round(periodSamples / 20));
-  const s = new Float64Array(n);
-  let acc = 0;
-  let m = 0;
-  for (let i = 0; i < n; i++) m += x[i]!;
-  m /= n;
-  for (let i = 0; i < n; i++) {
-    acc += x[i]! - m;
-    if (i >= w) acc -= x[i - w]! - m;
-    s[i] = acc / Math.min(i + 1, w);
-  }
-  // Zero crossings with hysteresis of a quarter of the RMS (centre the smoothing delay).
-  let rms = 0;
-  for (let i = 0; i < n; i++) rms += s[i]! * s[i]!;
-  rms = Math.sqrt(rms / n);
-  const hyst = 0.25 * rms;
-  const shift = Math.floor((w - 1) / 2);
-  const crossings: number[] = [];
-  let state = 0;
-  for (let i = 0; i < n; i++) {
-    const v = s[i]!;
-    const next = v > hyst ? 1 : v < -hyst ? -1 : state;
-    if (next !== state && state !== 0) {
-      // Back-track to the sign change.
-      let k = i;
-      while (k > 0 && Math.sign(s[k - 1]!) === next) k--;
-      crossings.push(Math.max(0, k - shift));
-    }
-    state = next;
-  }
-  const halfP = periodSamples / 2;
+  if (periodSamples < 16 || x.length < 2 * periodSamples) return null;
+  const hc = findHalfCycles(x, periodSamples);
   let mseSin = 0;
   let mseTri = 0;
-  let count = 0;
-  for (let c = 0; c + 1 < crossings.length; c++) {
-    const a = crossings[c]!;
-    const b = crossings[c + 1]!;
+  for (const [a, b] of hc.spans) {
     const L = b - a;
-    if (L < 0.4 * halfP || L > 1.6 * halfP || L < 4) continue;
-    let segMean = 0;
-    for (let i = a; i < b; i++) segMean += x[i]!;
-    // The half-cycle is measured from the signal's overall mean.
-    const seg = new Float64Array(L);
-    for (let i = 0; i < L; i++) seg[i] = x[a + i]! - m;
-    void segMean;
-    mseSin += fitShape(seg, (t) => Math.sin((Math.PI * (t + 0.5)) / L));
+    mseSin += fitShape(hc.x, a, b, sineShape(L));
     let bestTri = Infinity;
+    const tri = new Float64Array(L);
     for (let q = 0.15; q <= 0.851; q += 0.05) {
       const peak = q * L;
-      bestTri = Math.min(bestTri, fitShape(seg, (t) => (t + 0.5 <= peak ? (t + 0.5) / peak : (L - t - 0.5) / (L - peak))));
+      for (let t = 0; t < L; t++) tri[t] = t + 0.5 <= peak ? (t + 0.5) / peak : (L - t - 0.5) / (L - peak);
+      bestTri = Math.min(bestTri, fitShape(hc.x, a, b, tri));
     }
     mseTri += bestTri;
-    count++;
   }
+  const count = hc.spans.length;
   if (count < 3 || !(mseSin + mseTri > 0)) return null;
   return { index: mseSin / (mseSin + mseTri), halfCycles: count };
-}
-
-/** Least-squares amplitude of a fixed shape; returns the mean squared residual. */
-function fitShape(seg: Float64Array, shape: (t: number) => number): number {
-  let sxy = 0;
-  let sxx = 0;
-  const L = seg.length;
-  const f = new Float64Array(L);
-  for (let t = 0; t < L; t++) {
-    f[t] = shape(t);
-    sxy += f[t]! * seg[t]!;
-    sxx += f[t]! * f[t]!;
-  }
-  const A = sxx > 0 ? sxy / sxx : 0;
-  let r = 0;
-  for (let t = 0; t < L; t++) r += (seg[t]! - A * f[t]!) ** 2;
-  return r / L;
 }
 
 /** Longest run of included samples, as [start, end). */
@@ -158,18 +141,19 @@ export function assessStiction(input: StictionInput): StictionResult {
   const tests: StictionTests = {
     crossCorrelation: { applicable: false, oddness: null, signal: input.integrating ? "pv-increments" : "pv", note: "" },
     curveFit: { applicable: false, index: null, signal: input.integrating ? "pv" : "mv", note: "" },
+    modelFit: { applicable: false, residualRatio: null, bandPct: null, jumpPct: null, note: "" },
   };
   const evidence: string[] = [];
   if (!input.oscillating || input.periodS === null) {
-    tests.crossCorrelation.note = tests.curveFit.note = "no oscillation";
+    tests.crossCorrelation.note = tests.curveFit.note = tests.modelFit.note = "no oscillation";
     return { verdict: "unlikely", evidence: ["no limit cycle in the data, so no stick-slip cycle seen (a valve can still stick without cycling; a valve travel test decides)"], tests };
   }
   if (input.compressed) {
-    tests.crossCorrelation.note = tests.curveFit.note = "withheld: compressed data";
+    tests.crossCorrelation.note = tests.curveFit.note = tests.modelFit.note = "withheld: compressed data";
     return { verdict: "undetermined", evidence: ["withheld: the export looks compressed or quantised, which fakes stick-slip shapes"], tests };
   }
   if (input.outsideOscillation) {
-    tests.crossCorrelation.note = tests.curveFit.note = "withheld: oscillation from outside";
+    tests.crossCorrelation.note = tests.curveFit.note = tests.modelFit.note = "withheld: oscillation from outside";
     return { verdict: "unlikely", evidence: ["the oscillation persists while the loop is in manual, so it comes from outside the loop, not from its valve"], tests };
   }
   const P = input.periodS / input.T;
@@ -216,15 +200,27 @@ export function assessStiction(input: StictionInput): StictionResult {
     tests.curveFit.note = "too few clean half-cycles";
     evidence.push("curve-fit test withheld: too few clean half-cycles");
   }
-  // The curve fit leads: the cross-correlation of MV and PV is fixed by the controller's own
-  // phase at the cycle's period (MV = C(SP - PV)), so it mostly tells whether integral action
-  // dominates there, which is Horch's known limit; it confirms or tempers, it does not veto.
+  // Model fit (Jelali 2008): does a valve that holds still until the output has moved by S
+  // explain PV better than one that follows the output? Withheld when the output rests at a limit
+  // (another way for the valve to hold still).
+  const model = modelFitTest(u, input.pv.subarray(s, e), P, input.mvLimits);
+  tests.modelFit = model.figures;
+  if (model.line) evidence.push(model.line);
+  // The shape and the model fit are the two independent tests; the cross-correlation of MV and
+  // PV is fixed by the controller's own phase at the cycle's period (MV = C(SP - PV)), so it
+  // mostly tells whether integral action dominates there, which is Horch's known limit; it
+  // confirms or tempers, it does not veto.
   let verdict: StictionFigures["verdict"] = "undetermined";
-  if (shape === "triangular") verdict = "likely";
+  const m = model.figures.residualRatio;
+  if (m !== null && m <= MODEL_CLEAR && shape !== "sinusoidal") verdict = "likely";
+  else if (shape === "triangular" && (m === null || m <= MODEL_NONE)) verdict = "likely";
+  else if (shape === "triangular") evidence.push("the two tests disagree: the half-cycles look like stick-slip, but a sticking valve explains PV no better than a linear one (undetermined)");
+  else if (shape === "sinusoidal" && m !== null && m <= MODEL_CLEAR) evidence.push("the two tests disagree: the half-cycles are sinusoidal, but a sticking valve explains PV better than a linear one (undetermined)");
   else if (shape === "sinusoidal") verdict = "unlikely";
+  else if (m !== null && m > MODEL_NONE) verdict = "unlikely";
   else if (horch === "even") verdict = "unlikely";
   if (verdict === "likely") {
-    evidence.unshift("likely valve stiction: the cycles have the shape of a stick-slip cycle");
+    evidence.unshift(`likely valve stiction: ${m !== null && m <= MODEL_CLEAR ? "a sticking valve explains PV markedly better than a linear one" : "the cycles have the shape of a stick-slip cycle"}`);
     if (horch === "even") evidence.push("the cross-correlation test reads even, as it does whenever proportional action dominates at the cycle's period; the shape test is the stronger sign here");
   }
   return { verdict, evidence, tests };

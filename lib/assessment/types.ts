@@ -134,4 +134,6 @@ export interface CompressionFigures {
 export interface StictionTests {
   crossCorrelation: { applicable: boolean; oddness: number | null; signal: "pv" | "pv-increments"; note: string };
   curveFit: { applicable: boolean; index: number | null; signal: "mv" | "pv"; note: string };
+  /** Jelali 2008 model fit: residual of the best sticking valve over a linear one (<= 1), and its S, J in % of output. */
+  modelFit: { applicable: boolean; residualRatio: number | null; bandPct: number | null; jumpPct: number | null; note: string };
 }

@@ -7,7 +7,7 @@
  * J = slip jump; simplified from memory). Invented data, for tests only.
  */
 import { Prng } from "@/simulators/prng";
-import type { AssessSample } from "@/lib/assessment";
+import { parseLoopConfig, type AssessSample, type LoopConfig } from "@/lib/assessment";
 
 export interface SimOptions {
   seed: number;
@@ -94,4 +94,19 @@ export function simulateLoop(o: SimOptions): AssessSample[] {
     else x = a * x + (1 - a) * K * ud;
   }
   return out;
+}
+
+/** LOOP.json of the simulated loop (a flow loop, span 0-100, 1 s, dead time 2 s) with a PI controller. */
+export function simulatedLoopConfig(kp: number, ti: number | null): LoopConfig {
+  return parseLoopConfig({
+    tag: "FIC-311",
+    kind: "flow",
+    units: "m3/h",
+    pvLo: 0,
+    pvHi: 100,
+    samplePeriodS: 1,
+    deadTimeS: 2,
+    normalMode: "auto",
+    controller: { kp, ti, td: 0, action: "reverse", mvLo: 0, mvHi: 100 },
+  });
 }

@@ -1,0 +1,99 @@
+/**
+ * The two-parameter data-driven valve stiction model of Choudhury, Thornhill & Shah, "Modelling
+ * valve stiction", Control Engineering Practice 13 (2005) 641-658. Both parameters are in % of
+ * valve travel:
+ *   S = dead band + stick band: how far the controller output must travel, after the valve has
+ *       come to rest and reversed, before the valve moves again;
+ *   J = slip jump: how far the valve jumps when it breaks free.
+ * J = 0 gives a pure dead band (backlash-like); S = J gives stick-slip with no dead band.
+ *
+ * The logic follows the model's flowchart (from memory): the valve sticks whenever the controller
+ * output stops or reverses; from rest it breaks free when the output has moved by more than S
+ * from the sticking point in the opposite direction of the last travel, or by more than J in the
+ * same direction (only the stick band to overcome), and once moving it follows the output at an
+ * offset of (S - J) / 2 against the direction of travel. Our choice where the paper is silent for
+ * a noisy output: the sticking point is held while the valve is stuck (jitter of the output does
+ * not reset it), since the force on a stuck stem builds from where it stopped.
+ *
+ * Used by the simulators (simulators/valve-stiction.ts) and by the model fit of stiction-fit.ts.
+ */
+
+export interface StictionParams {
+  /** Dead band plus stick band, % of valve travel (>= 0). */
+  S: number;
+  /** Slip jump, % of valve travel (0 <= J <= S). */
+  J: number;
+}
+
+export function checkStictionParams({ S, J }: StictionParams): void {
+  if (!Number.isFinite(S) || S < 0) throw new RangeError(`stiction band S must be a finite number >= 0 (got ${S})`);
+  if (!Number.isFinite(J) || J < 0) throw new RangeError(`slip jump J must be a finite number >= 0 (got ${J})`);
+  if (J > S) throw new RangeError(`slip jump J (${J}) must not exceed the stiction band S (${S})`);
+}
+
+/** One sticking valve: feed it the controller output (% of travel) each controller period. */
+export class StictionValve {
+  readonly S: number;
+  readonly J: number;
+  /** Valve position, % of travel. */
+  private y: number;
+  /** Controller output at the previous call. */
+  private xPrev: number;
+  /** Controller output at which the valve came to rest (meaningful while stuck). */
+  private xss: number;
+  private stuck = true;
+  /** Direction of the last travel (+1, -1; 0 before the first move). */
+  private dir = 0;
+  /** Number of slips (the valve broke free) since construction. */
+  slips = 0;
+
+  constructor(params: StictionParams, initialPct: number, private readonly travel: [number, number] = [0, 100]) {
+    checkStictionParams(params);
+    this.S = params.S;
+    this.J = params.J;
+    this.y = initialPct;
+    this.xPrev = initialPct;
+    this.xss = initialPct;
+  }
+
+  get position(): number {
+    return this.y;
+  }
+
+  get isStuck(): boolean {
+    return this.stuck;
+  }
+
+  /** Advance one period with controller output `x` (% of travel); returns the valve position. */
+  update(x: number): number {
+    const [lo, hi] = this.travel;
+    x = x < lo ? lo : x > hi ? hi : x;
+    const v = x - this.xPrev;
+    const half = (this.S - this.J) / 2;
+    if (!this.stuck) {
+      if (v !== 0 && Math.sign(v) === this.dir) {
+        this.y = x - this.dir * half;
+      } else {
+        // the output stopped or reversed: the valve sticks where it is
+        this.stuck = true;
+        this.xss = this.xPrev;
+      }
+    }
+    if (this.stuck) {
+      const d = x - this.xss;
+      const s = Math.sign(d);
+      // same direction as the last travel: only the stick band J holds it; reversed: S; at the
+      // start (no travel yet) the valve rests mid dead band, so (S + J)/2 gives a jump of J
+      const limit = this.dir === 0 ? (this.S + this.J) / 2 : s === this.dir ? this.J : this.S;
+      if (s !== 0 && Math.abs(d) > limit) {
+        this.stuck = false;
+        this.dir = s;
+        this.y = x - s * half;
+        this.slips++;
+      }
+    }
+    this.y = this.y < lo ? lo : this.y > hi ? hi : this.y;
+    this.xPrev = x;
+    return this.y;
+  }
+}
