@@ -78,6 +78,8 @@ export class Loop extends Model<InferAttributes<Loop>, InferCreationAttributes<L
   declare estimationProposedS: number | null;
   /** Dominant closed-loop time constant when commissioned (for the sluggish-loop check). */
   declare baselineTimeConstantS: number | null;
+  /** Dead time, s, as the engineer configured it (Harris index); null = not configured (migration 0131). */
+  declare deadTimeS: CreationOptional<number | null>;
   declare enabled: CreationOptional<boolean>;
   declare createdAt: CreationOptional<Date>;
   declare updatedAt: CreationOptional<Date>;
@@ -183,6 +185,7 @@ export function initLoopModels(sequelize: Sequelize) {
       estimationPeriodS: positive(),
       estimationProposedS: num(true),
       baselineTimeConstantS: num(true),
+      deadTimeS: num(true),
       enabled: { type: DataTypes.BOOLEAN, allowNull: false, defaultValue: true },
       createdAt: DataTypes.DATE(3),
       updatedAt: DataTypes.DATE(3),

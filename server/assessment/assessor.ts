@@ -92,7 +92,10 @@ export class LiveAssessor {
     return this.loops.size;
   }
 
-  /** Adds or reconfigures a loop; a changed period or range starts its window again. */
+  /**
+   * Adds or reconfigures a loop; a changed period, range or tuning starts its window again (data
+   * from before a tuning change say nothing of the loop after it); a new dead time alone keeps it.
+   */
   upsertLoop(loop: LiveLoop): void {
     const capacity = this.opts.capacity ?? WINDOW_SAMPLES;
     const old = this.loops.get(loop.loopId);
@@ -101,6 +104,13 @@ export class LiveAssessor {
     const same = old && old.ring.stride === stride && JSON.stringify(old.loop.config) === JSON.stringify(loop.config);
     if (same) {
       old.loop = loop;
+      return;
+    }
+    // A new dead time changes no sample: the window stays, and the next run (soon) uses it.
+    if (old && old.ring.stride === stride && JSON.stringify({ ...old.loop.config, deadTimeS: null }) === JSON.stringify({ ...loop.config, deadTimeS: null })) {
+      old.loop = loop;
+      old.windowConfig = windowConfig;
+      old.dueAfter = Math.min(old.dueAfter, old.firstRun);
       return;
     }
     const firstRun = Math.max(8 * stride, Math.min(FIRST_RUN_SAMPLES, Math.ceil(FIRST_RUN_S / loop.config.samplePeriodS)));

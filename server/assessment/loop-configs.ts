@@ -1,46 +1,30 @@
 /**
  * Loops as the live assessment needs them: the offline command's LOOP.json fields from the loops
- * table (kind, PV range, telemetry period, tuning in engineers' units, MV limits). One query.
+ * table (kind, PV range, telemetry period, tuning in engineers' units, MV limits, dead time). One
+ * query (lib/data/work-list.ts). The dead time is the engineer's (`loops.dead_time_s`), else that
+ * of the loop's latest step test whose proposal was applied (accepted) to the loop, else none: the
+ * Harris index is then null with a caution (routine closed-loop data cannot tell the dead time).
  */
-import { QueryTypes, type Sequelize } from "sequelize";
+import type { Sequelize } from "sequelize";
 import { parseLoopConfig } from "@/lib/assessment";
+import { selectLiveLoopRows } from "@/lib/data/work-list";
 import { controllerTuningFromRow } from "../tracking/types";
 import type { LiveLoop } from "./assessor";
 
-interface Row {
-  id: number;
-  tenant_id: number;
-  site_id: number;
-  tag: string;
-  description: string | null;
-  kind: string;
-  units: string | null;
-  pv_lo: number;
-  pv_hi: number;
-  mv_lo: number;
-  mv_hi: number;
-  mv_limit_lo: number | null;
-  mv_limit_hi: number | null;
-  telemetry_period_s: number;
-  action: "reverse" | "direct";
-  form: "ideal" | "parallel" | "series";
-  gain_kind: "gain" | "pb";
-  gain_value: number;
-  ti_value: number | null;
-  ti_units: "s" | "min" | "repeats-per-min";
-  td_value: number | null;
-  td_units: "s" | "min";
-  enabled: number | boolean;
+/** The engineer's dead time, else the latest applied step test's, else null (s; a negative or non-finite value counts as none). */
+function deadTimeOf(r: { dead_time_s: number | null; step_dead_time_s: number | string | null }): number | null {
+  for (const v of [r.dead_time_s, r.step_dead_time_s]) {
+    const x = v === null ? NaN : Number(v);
+    if (Number.isFinite(x) && x >= 0) return x;
+  }
+  return null;
 }
 
 const KINDS = new Set(["flow", "level", "pressure", "temperature"]);
 
 /** Enabled loops with a usable configuration (a bad row is skipped with its reason). */
 export async function loadLiveLoops(sequelize: Sequelize, loopId?: number): Promise<{ loops: LiveLoop[]; errors: Map<number, string> }> {
-  const rows = await sequelize.query<Row>(`SELECT l.* FROM loops l ${loopId === undefined ? "" : "WHERE l.id = ?"} ORDER BY l.id`, {
-    replacements: loopId === undefined ? [] : [loopId],
-    type: QueryTypes.SELECT,
-  });
+  const rows = await selectLiveLoopRows(sequelize, loopId);
   const loops: LiveLoop[] = [];
   const errors = new Map<number, string>();
   for (const r of rows) {
@@ -64,7 +48,7 @@ export async function loadLiveLoops(sequelize: Sequelize, loopId?: number): Prom
         pvLo: Number(r.pv_lo),
         pvHi: Number(r.pv_hi),
         samplePeriodS: Number(r.telemetry_period_s),
-        deadTimeS: null,
+        deadTimeS: deadTimeOf(r),
         normalMode: "auto",
         controller: {
           kp: tuning.kp,
