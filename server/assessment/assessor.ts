@@ -15,6 +15,10 @@
  * (≈ 4 µs per sample for one window's length, ≈ 15 ms per loop in all at 3,600 samples). Loops are
  * staggered: each loop's first run is offset by a share of its own interval taken from its id, and
  * due loops run from a timer in small batches with a time cap per tick.
+ *
+ * Each result is grouped with the site's other loops by oscillation period (site-groups.ts): a
+ * sticking valve whose period other loops of the site share becomes a shared oscillation. Without
+ * such peers the report is exactly what `assessLoop` gave (live = offline on the same samples).
  */
 import { assessLoop, type AssessMode, type LoopConfig as AssessConfig } from "@/lib/assessment";
 import type { LiveAssessmentReport } from "@/lib/domain/findings";
