@@ -5,7 +5,9 @@
  * always bound to a tenant id, and reads for a member to the member's site scope (lib/tenancy.ts).
  */
 import { QueryTypes, type Sequelize, type Transaction } from "sequelize";
+import type { InferAttributes } from "sequelize";
 import { getDb } from "@/lib/db/sequelize";
+import type { Loop } from "@/models/loop";
 import type { TenantContext } from "@/lib/domain/types";
 import { scoped, siteScopeSql } from "@/lib/tenancy";
 
@@ -15,46 +17,30 @@ const json = <T>(v: unknown): T => (typeof v === "string" ? (JSON.parse(v) as T)
 
 // ---------------------------------------------------------------- loops as the live assessment reads them
 
-export interface LiveLoopRow {
-  id: number;
-  tenant_id: number;
-  site_id: number;
-  tag: string;
-  description: string | null;
-  kind: string;
-  units: string | null;
-  pv_lo: number;
-  pv_hi: number;
-  mv_lo: number;
-  mv_hi: number;
-  mv_limit_lo: number | null;
-  mv_limit_hi: number | null;
-  telemetry_period_s: number;
-  action: "reverse" | "direct";
-  form: "ideal" | "parallel" | "series";
-  gain_kind: "gain" | "pb";
-  gain_value: number;
-  ti_value: number | null;
-  ti_units: "s" | "min" | "repeats-per-min";
-  td_value: number | null;
-  td_units: "s" | "min";
-  enabled: number | boolean;
-  /** The engineer's dead time, s (migration 0131), or null. */
-  dead_time_s: number | null;
-  /** Dead time of the latest step test whose proposal was applied to the loop (config_changes names it "#id file"), s, or null. */
-  step_dead_time_s: number | string | null;
-}
+const LIVE_LOOP_COLUMNS = [
+  "id", "tenantId", "siteId", "tag", "description", "kind", "units", "pvLo", "pvHi", "mvLo", "mvHi", "mvLimitLo", "mvLimitHi",
+  "telemetryPeriodS", "action", "form", "gainKind", "gainValue", "tiValue", "tiUnits", "tdValue", "tdUnits", "enabled", "deadTimeS",
+] as const;
+
+/**
+ * A loop as the live assessment reads it (the model's attribute names; numbers as the driver gives
+ * them), with `stepDeadTimeS`: the dead time of the latest step test whose proposal was applied to
+ * the loop (config_changes names it "#id file"), s, or null.
+ */
+export type LiveLoopRow = Pick<InferAttributes<Loop>, (typeof LIVE_LOOP_COLUMNS)[number]> & { stepDeadTimeS: number | string | null };
+
+const snake = (k: string) => k.replace(/[A-Z]/g, (c) => `_${c.toLowerCase()}`);
 
 /** Every loop (or one) with what the live assessment needs, oldest id first. */
 export async function selectLiveLoopRows(sequelize: Sequelize, loopId?: number): Promise<LiveLoopRow[]> {
   return sequelize.query<LiveLoopRow>(
-    `SELECT l.*, (
+    `SELECT ${LIVE_LOOP_COLUMNS.map((k) => `l.${snake(k)} AS ${k}`).join(", ")}, (
         SELECT JSON_VALUE(st.result, '$.continuous.deadTimeS') FROM config_changes c
           JOIN step_tests st ON st.id = CAST(SUBSTRING_INDEX(SUBSTRING(JSON_VALUE(c.diff, '$.stepTest.to'), 2), ' ', 1) AS UNSIGNED)
                             AND st.loop_id = l.id AND st.tenant_id = l.tenant_id
          WHERE c.tenant_id = l.tenant_id AND c.entity = 'loop' AND c.entity_id = l.id AND JSON_VALUE(c.diff, '$.stepTest.to') LIKE '#%'
          ORDER BY c.at DESC, c.id DESC LIMIT 1
-      ) AS step_dead_time_s
+      ) AS stepDeadTimeS
      FROM loops l ${loopId === undefined ? "" : "WHERE l.id = ?"} ORDER BY l.id`,
     { replacements: loopId === undefined ? [] : [loopId], type: QueryTypes.SELECT },
   );

@@ -12,8 +12,8 @@ import { controllerTuningFromRow } from "../tracking/types";
 import type { LiveLoop } from "./assessor";
 
 /** The engineer's dead time, else the latest applied step test's, else null (s; a negative or non-finite value counts as none). */
-function deadTimeOf(r: { dead_time_s: number | null; step_dead_time_s: number | string | null }): number | null {
-  for (const v of [r.dead_time_s, r.step_dead_time_s]) {
+function deadTimeOf(r: { deadTimeS: number | null; stepDeadTimeS: number | string | null }): number | null {
+  for (const v of [r.deadTimeS, r.stepDeadTimeS]) {
     const x = v === null ? NaN : Number(v);
     if (Number.isFinite(x) && x >= 0) return x;
   }
@@ -29,14 +29,15 @@ export async function loadLiveLoops(sequelize: Sequelize, loopId?: number): Prom
   const errors = new Map<number, string>();
   for (const r of rows) {
     if (!(r.enabled === true || Number(r.enabled) === 1)) continue;
+    const num = (v: number | null) => (v === null ? null : Number(v));
     try {
       const tuning = controllerTuningFromRow({
-        gainKind: r.gain_kind,
-        gainValue: Number(r.gain_value),
-        tiValue: r.ti_value === null ? null : Number(r.ti_value),
-        tiUnits: r.ti_units,
-        tdValue: r.td_value === null ? null : Number(r.td_value),
-        tdUnits: r.td_units,
+        gainKind: r.gainKind,
+        gainValue: Number(r.gainValue),
+        tiValue: num(r.tiValue),
+        tiUnits: r.tiUnits,
+        tdValue: num(r.tdValue),
+        tdUnits: r.tdUnits,
         action: r.action,
         form: r.form,
       });
@@ -45,9 +46,9 @@ export async function loadLiveLoops(sequelize: Sequelize, loopId?: number): Prom
         description: r.description ?? "",
         kind: KINDS.has(r.kind) ? r.kind : "other",
         units: r.units ?? "",
-        pvLo: Number(r.pv_lo),
-        pvHi: Number(r.pv_hi),
-        samplePeriodS: Number(r.telemetry_period_s),
+        pvLo: Number(r.pvLo),
+        pvHi: Number(r.pvHi),
+        samplePeriodS: Number(r.telemetryPeriodS),
         deadTimeS: deadTimeOf(r),
         normalMode: "auto",
         controller: {
@@ -55,12 +56,12 @@ export async function loadLiveLoops(sequelize: Sequelize, loopId?: number): Prom
           ti: tuning.ti,
           td: tuning.td,
           action: tuning.action,
-          mvLo: r.mv_limit_lo === null ? Number(r.mv_lo) : Number(r.mv_limit_lo),
-          mvHi: r.mv_limit_hi === null ? Number(r.mv_hi) : Number(r.mv_limit_hi),
+          mvLo: r.mvLimitLo === null ? Number(r.mvLo) : Number(r.mvLimitLo),
+          mvHi: r.mvLimitHi === null ? Number(r.mvHi) : Number(r.mvLimitHi),
           form: tuning.form,
         },
       });
-      loops.push({ loopId: Number(r.id), tenantId: Number(r.tenant_id), siteId: Number(r.site_id), config });
+      loops.push({ loopId: Number(r.id), tenantId: Number(r.tenantId), siteId: Number(r.siteId), config });
     } catch (e) {
       errors.set(Number(r.id), e instanceof Error ? e.message : String(e));
     }
