@@ -71,6 +71,8 @@ export class Loop extends TimedRow<Loop> {
   declare estimationProposedS: number | null;
   /** Dominant closed-loop time constant when commissioned (for the sluggish-loop check). */
   declare baselineTimeConstantS: number | null;
+  /** Dead time, s, as the engineer configured it (Harris index); null = not configured (migration 0131). */
+  declare deadTimeS: CreationOptional<number | null>;
   declare enabled: CreationOptional<boolean>;
 }
 
@@ -166,6 +168,7 @@ export function initLoopModels(sequelize: Sequelize) {
       estimationPeriodS: positive(),
       estimationProposedS: num(true),
       baselineTimeConstantS: num(true),
+      deadTimeS: num(true),
       enabled: flag(true),
       ...timestamps(),
     },

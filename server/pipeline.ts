@@ -138,7 +138,8 @@ export async function startPipeline(
         loopSite: (id) => directory.get(id)?.siteId ?? null,
       })
     : () => undefined;
-  const assessment = await startLiveAssessment(ctx, { sequelize });
+  // each verdict rides in the loop's assessment from its tracker (LoopAssessment.routine)
+  const assessment = await startLiveAssessment(ctx, { sequelize, onRoutine: (loopId, routine) => registry.attachRoutine(loopId, routine) });
 
   const onUpdate = (state: LoopStateDto) => {
     history.addState(state);

@@ -5,10 +5,12 @@
  * test of He et al. 2007 reads the same data), the control error's autocorrelation (regularity
  * and decay, Thornhill, Huang & Zhang 2003), the oscillation period beside the period of the
  * loop's own dominant pole (2πT/|arg z|) with the angle it means at the analysis period, and the
- * evidence lines and cautions. Advisory: "likely …", never a certainty. Lean SVG, neutral ink.
+ * evidence lines and cautions. The verdict is the one the loop's assessment carries
+ * (`state.routine`, with the site's period group); the stored report behind it gives the plots.
+ * Advisory: "likely …", never a certainty. Lean SVG, neutral ink.
  */
 import { useMemo } from "react";
-import { useLoopSamples } from "@/lib/client/hooks";
+import { useLoop, useLoopSamples } from "@/lib/client/hooks";
 import { useLoopFinding } from "@/lib/client/findings";
 import { fmt } from "@/lib/client/format";
 import { FindingMark } from "./finding-mark";
@@ -72,7 +74,8 @@ function AcfPlot({ acf, periodS }: { acf: number[]; periodS: number }) {
 const deg = (rad: number) => `${((rad * 180) / Math.PI).toFixed(1)}°`;
 
 export function FindingEvidencePanel({ loopId }: { loopId: number }) {
-  const { finding, report, error } = useLoopFinding(loopId);
+  const { report, error } = useLoopFinding(loopId);
+  const finding = useLoop(loopId).state?.routine ?? null;
   const { samples } = useLoopSamples(loopId, 1800);
   const pts = useMemo(() => samples.filter((s) => s.quality === undefined || s.quality === "good").map((s) => ({ pv: s.pv, mv: s.mv })), [samples]);
   if (error) return <p className="text-sm text-muted">The finding could not be loaded: {error.message}</p>;
@@ -109,10 +112,16 @@ export function FindingEvidencePanel({ loopId }: { loopId: number }) {
                 <dd className="num font-mono">{deg((2 * Math.PI * T) / ownP)}</dd>
               </>
             )}
+            {finding?.sharedOscillation && (
+              <>
+                <dt className="text-muted">same period (±5 %) on this site</dt>
+                <dd data-testid="shared-oscillation">{finding.sharedOscillation.loops.map((l) => `${l.tag} ${fmt(l.periodS)} s`).join(", ")}</dd>
+              </>
+            )}
             <dt className="text-muted">valve stiction</dt>
             <dd>{report.stiction.verdict}</dd>
             <dt className="text-muted">Harris index</dt>
-            <dd className="num font-mono">{report.harrisIndex !== null ? fmt(report.harrisIndex) : "– (dead time not configured)"}</dd>
+            <dd className="num font-mono">{report.harrisIndex !== null ? fmt(report.harrisIndex) : "– (dead time not configured, or withheld)"}</dd>
             <dt className="text-muted">service factor</dt>
             <dd className="num font-mono">{report.serviceFactor !== null ? `${(100 * report.serviceFactor).toFixed(0)} %` : "–"}</dd>
           </dl>

@@ -4,12 +4,15 @@
  * "Findings and the work list"): one glyph per finding so shape tells them apart, neutral ink
  * (never the alarm priority colours or marks), never pulsing. Below certain it reads "likely …";
  * a loop that cannot be judged yet says so muted, with the data time still needed.
- * `FindingMark` takes a finding; `LoopFindingMark` finds the loop's own from the shared store.
+ * It reads the verdict the loop's assessment carries (`LoopAssessment.routine`, a tile's live
+ * summary holds its label, confidence and time still needed); nothing here recomputes it.
  */
 import { memo } from "react";
 import type { DiagnosisLabel } from "@/lib/assessment/types";
-import { useFindings } from "@/lib/client/findings";
-import { findingPhrase, type LoopFinding } from "@/lib/domain/findings";
+import { findingPhrase, type RoutineBrief, type RoutineFindings } from "@/lib/domain/findings";
+
+/** What a mark shows: the verdict, and where known its reason and evidence (tooltip). */
+export type MarkedFinding = Pick<RoutineBrief, "label" | "confidence" | "needsS"> & Partial<Pick<RoutineFindings, "reason" | "evidence">>;
 
 /** Outlined glyphs, 12×12, stroke only. */
 function Glyph({ label }: { label: DiagnosisLabel }) {
@@ -48,25 +51,20 @@ function Glyph({ label }: { label: DiagnosisLabel }) {
   }
 }
 
-function FindingMarkPlain({ finding, compact = false }: { finding: LoopFinding | null; compact?: boolean }) {
-  if (!finding) return <span className="text-xs text-muted">not judged yet</span>;
+function FindingMarkPlain({ finding, compact = false, big = false }: { finding: MarkedFinding | null | undefined; compact?: boolean; big?: boolean }) {
+  if (!finding) return <span className={`${big ? "text-base" : "text-xs"} text-muted`} data-testid="finding-mark" data-finding="none">not judged yet</span>;
   const phrase = findingPhrase(finding);
   const muted = finding.label === "undetermined" || finding.label === "healthy";
-  const title = [phrase, ...(finding.reason ? [finding.reason] : []), ...finding.evidence.slice(0, 4)].join("\n");
+  const title = [phrase, ...(finding.reason ? [finding.reason] : []), ...(finding.evidence ?? []).slice(0, 4)].join("\n");
+  const px = big ? 16 : 12;
   return (
-    <span className={`inline-flex items-center gap-1 whitespace-nowrap ${compact ? "text-xs" : "text-sm"} ${muted ? "text-muted" : "text-ink"}`} title={title} data-testid="finding-mark" data-finding={finding.label}>
-      <svg width="12" height="12" viewBox="0 0 12 12" aria-hidden="true">
+    <span className={`inline-flex min-w-0 items-center gap-1 whitespace-nowrap ${big ? "text-base" : compact ? "text-xs" : "text-sm"} ${muted ? "text-muted" : "text-ink"}`} title={title} data-testid="finding-mark" data-finding={finding.label}>
+      <svg width={px} height={px} viewBox="0 0 12 12" aria-hidden="true" className="shrink-0">
         <Glyph label={finding.label} />
       </svg>
-      <span>{phrase}</span>
+      <span className="truncate">{phrase}</span>
     </span>
   );
 }
 
 export const FindingMark = memo(FindingMarkPlain);
-
-/** The mark of one loop from the tenant's findings (one request for all marks on a page). */
-export function LoopFindingMark({ loopId, compact }: { loopId: number; compact?: boolean }) {
-  const { findings } = useFindings();
-  return <FindingMark finding={findings.get(loopId) ?? null} compact={compact} />;
-}

@@ -1,6 +1,7 @@
 "use client";
 /**
- * One loop on the wall: tag, description, tracker state, alarm marks, rim gauge, decay ratio
+ * One loop on the wall: tag, description, tracker state, the routine-data finding (a word with its
+ * own glyph, from the loop's assessment: `state.routine`), alarm marks, rim gauge, decay ratio
  * with a short trend, a small z-plane, and the data age (greyed and marked "stale" when old).
  * Fixed height so the wall can virtualise; memoised on the summary object (the store replaces
  * it only when the loop changes).
@@ -14,6 +15,8 @@ import { DEFAULT_POLICY } from "@/lib/domain/alarms/policy";
 import { dataAge } from "@/lib/client/order";
 import { fmt, fmtAge } from "@/lib/client/format";
 import { SPARK_POINTS, type Spark } from "@/lib/client/loop-store";
+import { findingPhrase } from "@/lib/domain/findings";
+import { FindingMark } from "./finding-mark";
 import { PriorityMark as PriorityMarkPlain } from "./priority-mark";
 import { TileGauge, TileSparkline, ZPlaneMini } from "./tile-graphics";
 import { TrackerStateBadge as TrackerStateBadgePlain } from "./tracker-state-badge";
@@ -118,6 +121,7 @@ function LoopTileInner({
     e.preventDefault();
     router.push(`/loops/${loop.id}`);
   };
+  const routine = st?.routine ?? null;
   const suppressed = active.length > 0 && active.every((a) => a.state === "out-of-service" || a.state === "suppressed-by-design" || a.state === "shelved");
   return (
     <a
@@ -129,13 +133,19 @@ function LoopTileInner({
       data-testid="loop-tile"
       data-loop-id={loop.id}
       data-tracker-state={st?.trackerState ?? "none"}
-      aria-label={`${loop.tag}: ${loop.description}. ${st ? `radius ${fmt(st.spectralRadius)}, ${st.trackerState}` : "no estimate"}${stale ? ", stale data" : ""}${active.length ? `, ${active.length} alarm(s)` : ""}`}
+      aria-label={`${loop.tag}: ${loop.description}. ${st ? `radius ${fmt(st.spectralRadius)}, ${st.trackerState}` : "no estimate"}${stale ? ", stale data" : ""}${active.length ? `, ${active.length} alarm(s)` : ""}. Finding: ${routine ? findingPhrase(routine) : "not judged yet"}`}
     >
       <div className="flex items-baseline justify-between gap-2">
         <span className={`truncate font-mono font-semibold ${big ? "text-2xl" : "text-base"}`}>{loop.tag}</span>
         <TrackerStateBadge state={st?.trackerState ?? null} reason={st?.stateReason} />
       </div>
-      <div className={`truncate text-muted ${big ? "text-base" : "text-xs"}`}>{loop.description}</div>
+      <div className={`flex items-baseline justify-between gap-2 ${big ? "text-base" : "text-xs"}`}>
+        <span className="min-w-0 truncate text-muted">{loop.description}</span>
+        {/* engineering work, not an alarm: neutral ink, own glyph, never pulsing */}
+        <span className="flex min-w-0 max-w-[70%] shrink-0 justify-end" data-testid="tile-finding">
+          <FindingMark finding={routine} compact big={big} />
+        </span>
+      </div>
       <div className="flex min-h-0 flex-1 gap-2">
         <div className="flex min-w-0 flex-1 flex-col gap-1">
           <TileGauge radius={st?.spectralRadius ?? null} warn={levels.warn} alarm={levels.alarm} recentMin={recent.min} recentMax={recent.max} stale={muted} width={big ? 150 : 110} />

@@ -26,6 +26,7 @@ export const LIMITS = {
   tdS: [0.01, 86_400],
   tfS: [0.001, 1e4],
   baselineS: [0.01, 7 * 86_400],
+  deadTimeS: [0, 86_400],
   rangeAbs: 1e12,
   minSpan: 1e-9,
   relativeSpan: 1e-6,
@@ -71,6 +72,8 @@ export const loopFieldsSchema = z
     nk: z.number().int().min(1, "Delay at least 1 period.").max(120, "At most 120 periods."),
     estimationPeriodS: inRange("Estimation period", LIMITS.periodS, "s"),
     baselineTimeConstantS: inRange("Baseline time constant", LIMITS.baselineS, "s").nullable(),
+    /** Dead time, s (Harris index of the routine assessment); null = take it from the latest applied step test, if any. */
+    deadTimeS: inRange("Dead time", LIMITS.deadTimeS, "s").nullable().optional(),
     enabled: z.boolean(),
     /** Weight in the worst-loops score: 1 low .. 5 critical (3 = normal, weight 1). */
     criticality: z.number({ error: "Criticality must be a number." }).int().min(1, "Criticality 1 to 5.").max(5, "Criticality 1 to 5.").optional(),
@@ -149,6 +152,7 @@ export const NEW_LOOP_DEFAULTS: Omit<LoopFields, "siteId"> = {
   nk: 1,
   estimationPeriodS: 1,
   baselineTimeConstantS: null,
+  deadTimeS: null,
   enabled: true,
   criticality: 3,
 };

@@ -1,11 +1,18 @@
 /**
  * Worst-first ordering of loops (docs/visual-language.md, Principles, "Worst first"): by the highest priority of the loop's
- * alarms that need attention, then by the margin to the loop's own alarm level, smallest first.
+ * alarms that need attention; then loops already past their own alarm level (unstable, or a decay
+ * ratio over the level, still within the on-delay or untrusted); then loops whose routine-data
+ * finding is engineering work (`findingRank`: the verdict the loop's assessment carries in
+ * `state.routine` opens a work-list item — likely sticking valve, aggressive or sluggish tuning,
+ * outside disturbance, saturation, sensor fault, manual — with confidence above 0.6); then the
+ * margin to the loop's own alarm level, smallest first. A finding never outranks an alarm or a
+ * loop past its level: it asks for an engineer's time, not an operator's response.
  * A raw radius is not comparable across sample periods, so the margin is measured on the
  * period-invariant decay ratio where the dominant mode oscillates, and on the rim distance
  * only where it does not. Pure functions: used by the wall, the inventory and the benchmark.
  */
 import "client-only";
+import { findingRank } from "@/lib/domain/findings";
 import type { AlarmPriority, AlarmState, LoopStateBrief, LoopSummary } from "@/lib/domain/types";
 
 /** What the order reads of a loop: a REST LoopSummary (full state) and a live one (summary) both fit. */
@@ -39,6 +46,11 @@ export function marginToAlarm(state: Pick<LoopStateBrief, "spectralRadius" | "ju
   return 1 + (state.rimDistance ?? 1 - state.spectralRadius);
 }
 
+/** Past the alarm level (0), then an engineering finding (1), then the rest (2). */
+function attentionKey(margin: number, state: Pick<LoopStateBrief, "routine"> | null): number {
+  return margin < 0 ? 0 : 1 + findingRank(state?.routine);
+}
+
 export function compareWorstFirst(a: OrderedLoop, b: OrderedLoop, decayAlarm = DEFAULT_DECAY_ALARM): number {
   const pa = worstPriority(a);
   const pb = worstPriority(b);
@@ -47,6 +59,9 @@ export function compareWorstFirst(a: OrderedLoop, b: OrderedLoop, decayAlarm = D
   if (ra !== rb) return ra - rb;
   const ma = marginToAlarm(a.state, decayAlarm);
   const mb = marginToAlarm(b.state, decayAlarm);
+  const ka = attentionKey(ma, a.state);
+  const kb = attentionKey(mb, b.state);
+  if (ka !== kb) return ka - kb;
   if (ma !== mb) return ma < mb ? -1 : 1;
   return a.tag.localeCompare(b.tag);
 }
@@ -56,8 +71,8 @@ export function sortWorstFirst<L extends OrderedLoop>(loops: readonly L[], decay
 }
 
 /**
- * Worst-first order that does not jitter: alarm priority first (exact), then the margin to the
- * alarm level in steps of `quantum`, and loops in the same step keep their previous relative
+ * Worst-first order that does not jitter: alarm priority first (exact), then past the alarm level
+ * or not, then the finding's rank (exact), then the margin to the alarm level in steps of `quantum`, and loops in the same step keep their previous relative
  * position (`prevRank`, loop id -> index of the last order), tag last. A loop moves only when
  * its margin crosses a step or its alarms change, so a wall refreshed every second does not
  * reshuffle on noise. Keys are computed once per loop (no priority/margin work inside the sort).
@@ -70,6 +85,7 @@ export function stableWorstFirst<L extends OrderedLoop>(
 ): L[] {
   const n = loops.length;
   const pr = new Float64Array(n);
+  const fr = new Float64Array(n);
   const mq = new Float64Array(n);
   const rk = new Float64Array(n);
   const idx = new Array<number>(n);
@@ -78,12 +94,14 @@ export function stableWorstFirst<L extends OrderedLoop>(
     const p = worstPriority(l);
     pr[i] = p === null ? 3 : PRIORITY_RANK[p];
     const m = marginToAlarm(l.state, decayAlarm);
+    fr[i] = attentionKey(m, l.state);
     mq[i] = Number.isFinite(m) ? Math.floor(m / quantum) : Number.POSITIVE_INFINITY;
     rk[i] = prevRank?.get(l.id) ?? Number.POSITIVE_INFINITY;
     idx[i] = i;
   }
   idx.sort((a, b) => {
     if (pr[a] !== pr[b]) return pr[a]! - pr[b]!;
+    if (fr[a] !== fr[b]) return fr[a]! - fr[b]!;
     if (mq[a] !== mq[b]) return mq[a]! < mq[b]! ? -1 : 1;
     if (rk[a] !== rk[b]) return rk[a]! < rk[b]! ? -1 : 1;
     return loops[a]!.tag.localeCompare(loops[b]!.tag);

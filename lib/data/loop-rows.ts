@@ -44,6 +44,7 @@ export interface LoopRow {
   na: number;
   nb: number;
   nk: number;
+  dead_time_s: number | string | null;
   enabled: number | boolean;
 }
 
@@ -62,6 +63,8 @@ export interface StoredLoop extends Pick<LoopSummary, "id" | "tenantId" | "siteI
   baselineTimeConstantS: number | null;
   tuning: TuningFields;
   model: { na: number; nb: number; nk: number };
+  /** The engineer's dead time (s), or null when not configured. */
+  deadTimeS: number | null;
   enabled: boolean;
 }
 
@@ -104,6 +107,7 @@ export function loopFromRow(r: LoopRow): StoredLoop {
       derivativeAlpha: num(r.derivative_alpha),
     },
     model: { na: Number(r.na), nb: Number(r.nb), nk: Number(r.nk) },
+    deadTimeS: num(r.dead_time_s ?? null),
     enabled: r.enabled === true || Number(r.enabled) === 1,
   };
 }

@@ -9,6 +9,9 @@
 import type { Complex } from "@/lib/control/types";
 import { decayRatio as poleDecayRatio, poleCharacteristics } from "@/lib/control/zplane";
 import type { PoleDto, SampleQualityDto, TrackerState } from "@/lib/domain/types";
+import type { RoutineFindings } from "./findings";
+
+export type { RoutineFindings } from "./findings";
 
 /** Which poles the figures come from: model-based closed-loop poles, else the data-only ones. */
 export type PoleSource = "model" | "closed-loop" | "disturbance-response";
@@ -57,13 +60,6 @@ export interface DominantMode {
   im?: number;
 }
 
-/**
- * Findings of the routine-data assessment (lib/assessment), added to the loop's assessment by
- * that module; it extends this interface by declaration merging.
- */
-// eslint-disable-next-line @typescript-eslint/no-empty-object-type
-export interface RoutineFindings {}
-
 /** What the tracker says about a loop at one moment: the figures every reader shows. */
 export interface LoopAssessment {
   /** Epoch ms of the estimate. */
@@ -93,7 +89,10 @@ export interface LoopAssessment {
   forecast: LoopForecast | null;
   /** Sample quality seen by the tracker (absent in states stored before it existed). */
   sampleQuality?: SampleQualityDto;
-  /** Routine-data findings (lib/assessment), when that assessment has run. */
+  /**
+   * The latest routine-data finding of the live assessor (server/assessment runs lib/assessment
+   * on the loop's window and attaches its verdict to the tracker), once it has run.
+   */
   routine?: RoutineFindings;
 }
 

@@ -2,10 +2,25 @@
  * A loop's routine-data finding as screens show it (browser-safe): the diagnosis of the latest
  * live assessment, without the full report. Findings are engineering work, never alarms.
  */
-import type { DiagnosisLabel } from "@/lib/assessment/types";
+import type { DiagnosisLabel, LoopAssessmentReport, StictionVerdict } from "@/lib/assessment/types";
 
-export interface LoopFinding {
-  loopId: number;
+/** Loops of one site whose oscillations share a period (±5 %): one source is more likely than one valve each. */
+export interface SharedOscillation {
+  /** The loop's own oscillation period, s. */
+  periodS: number;
+  /** The other loops of the site in the group, with their periods (s). */
+  loops: { loopId: number; tag: string; periodS: number }[];
+}
+
+/** A live assessment's report: lib/assessment's, with the site's period group (stored as one JSON). */
+export type LiveAssessmentReport = LoopAssessmentReport & { sharedOscillation?: SharedOscillation | null };
+
+/**
+ * The live routine assessment's latest verdict on a loop as the tracker carries it in the loop's
+ * assessment (`LoopAssessment.routine`, lib/domain/assessment.ts): set by the live assessor
+ * (server/assessment), read by the API, the live summary and every page; nothing recomputes it.
+ */
+export interface RoutineFindings {
   /** Epoch ms of the assessment. */
   at: number;
   label: DiagnosisLabel;
@@ -17,6 +32,21 @@ export interface LoopFinding {
   evidence: string[];
   /** Span of the window assessed, s. */
   windowS: number;
+  /** Period of a detected oscillation, s. */
+  oscillationPeriodS: number | null;
+  /** Harris index (null without the loop's dead time, or withheld). */
+  harrisIndex: number | null;
+  stiction: StictionVerdict;
+  /** Set when other loops of the site oscillate with the same period (±5 %). */
+  sharedOscillation: SharedOscillation | null;
+}
+
+/** What the live summary (`loop:state`), the tiles, the loop list and the worst-first order read. */
+export type RoutineBrief = Pick<RoutineFindings, "at" | "label" | "confidence" | "needsS">;
+
+/** A loop's finding as the work list and `loop:finding` carry it. */
+export interface LoopFinding extends RoutineFindings {
+  loopId: number;
 }
 
 /** Confidence from which a finding is shown without "likely" (ours). */
@@ -60,6 +90,14 @@ export function findingPhrase(f: Pick<LoopFinding, "label" | "confidence" | "nee
   // "likely" too); only what the data shows directly (manual, saturation) may read plain.
   if (INFERRED_LABELS.includes(f.label)) return `likely ${word}`;
   return f.confidence >= CERTAIN_CONFIDENCE ? word : `likely ${word}`;
+}
+
+/**
+ * Rank of a finding in the worst-first order (lib/client/order.ts): 0 for one that is engineering
+ * work (it opens a work-list item: not healthy or not-yet, confidence above 0.6), else 1.
+ */
+export function findingRank(f: Pick<RoutineFindings, "label" | "confidence"> | null | undefined): 0 | 1 {
+  return f && opensWorkItem(f) ? 0 : 1;
 }
 
 /** Whether a finding opens or updates a work-list item. */

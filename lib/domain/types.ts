@@ -6,6 +6,7 @@
 import type { Complex } from "@/lib/control/types";
 import type { QualityReason } from "./sample-quality";
 import type { LoopAssessment } from "./assessment";
+import type { RoutineBrief } from "./findings";
 
 export const ROLES = ["viewer", "operator", "engineer", "admin"] as const;
 export type Role = (typeof ROLES)[number];
@@ -174,6 +175,8 @@ export type LoopStateBrief = Pick<
 > & {
   modelPoles: PoleBrief[];
   dataPoles: PoleBrief[];
+  /** The routine-data verdict (label, confidence, time still needed), when the live assessor has run. */
+  routine?: RoutineBrief | null;
 };
 
 /** A loop of the live loop list in the browser: the API's summary with a live state summary. */

@@ -1,6 +1,6 @@
-/** The figures a work item keeps from an assessment (at open and the latest), and the finding brief. */
+/** The figures a work item keeps from an assessment (at open and the latest), and the verdict a loop's assessment carries. */
 import type { LoopAssessmentReport } from "@/lib/assessment/types";
-import type { FindingFigures, LoopFinding } from "@/lib/domain/findings";
+import type { FindingFigures, LiveAssessmentReport, LoopFinding, RoutineFindings } from "@/lib/domain/findings";
 
 const round = (v: number | null, digits = 4): number | null => (v === null || !Number.isFinite(v) ? null : Number(v.toPrecision(digits)));
 
@@ -21,10 +21,10 @@ export function figuresOf(report: LoopAssessmentReport, at: number): FindingFigu
   };
 }
 
-export function findingOf(loopId: number, at: number, report: LoopAssessmentReport, windowS: number): LoopFinding {
+/** The verdict of a live assessment as the loop's assessment carries it (`LoopAssessment.routine`). */
+export function routineOf(report: LiveAssessmentReport, at: number, windowS: number): RoutineFindings {
   const d = report.diagnosis;
   return {
-    loopId,
     at,
     label: d.label,
     confidence: d.confidence,
@@ -32,5 +32,13 @@ export function findingOf(loopId: number, at: number, report: LoopAssessmentRepo
     reason: d.reason ?? null,
     evidence: d.evidence,
     windowS,
+    oscillationPeriodS: report.oscillation.detected ? report.oscillation.periodS : null,
+    harrisIndex: report.harrisIndex,
+    stiction: report.stiction.verdict,
+    sharedOscillation: report.sharedOscillation ?? null,
   };
+}
+
+export function findingOf(loopId: number, at: number, report: LiveAssessmentReport, windowS: number): LoopFinding {
+  return { loopId, ...routineOf(report, at, windowS) };
 }

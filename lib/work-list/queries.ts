@@ -1,17 +1,28 @@
 /**
  * The engineering work list as the console reads and edits it (tenant-scoped: every query is
- * bound to the context's tenant through lib/tenancy.ts). Engineers change status and owner and add
+ * bound to the context's tenant through lib/tenancy.ts; SQL in lib/data/work-list.ts). Engineers change status and owner and add
  * notes; viewers and operators read. Every change is one row of `work_item_events` (append-only).
  * Status: open -> in-work -> closed (closing needs a note); a closed item can be reopened unless the
  * same finding has opened a new item for the loop meanwhile (409).
  */
-import { QueryTypes, type Transaction } from "sequelize";
+import type { Transaction } from "sequelize";
 import { z } from "zod";
-import { getDb } from "@/lib/db/sequelize";
+import {
+  inWorkListTransaction,
+  insertWorkItemEvent,
+  isTenantMember,
+  otherOpenItemExists,
+  selectOwners,
+  selectWorkItem,
+  selectWorkItemEvents,
+  selectWorkItems,
+  updateWorkItemOwner,
+  updateWorkItemStatus,
+  type WorkItemRow,
+} from "@/lib/data/work-list";
 import { ConflictError, NotFoundError, ValidationError } from "@/lib/domain/errors";
 import type { DiagnosisLabel } from "@/lib/assessment/types";
 import type { FindingFigures } from "@/lib/domain/findings";
-import { scoped, siteScopeSql } from "@/lib/tenancy";
 import { text } from "@/lib/text-input";
 import type { TenantContext } from "@/lib/domain/types";
 
@@ -48,38 +59,18 @@ export interface WorkItemEventDto {
   at: string;
 }
 
-type ItemRow = {
-  id: number;
-  loop_id: number;
-  tag: string;
-  site_id: number;
-  site_name: string;
-  label: DiagnosisLabel;
-  status: WorkStatus;
-  confidence: number;
-  owner_id: number | null;
-  owner_name: string | null;
-  opened_at: Date;
-  last_seen_at: Date;
-  closed_at: Date | null;
-  seen_count: number;
-  figures_at_open: unknown;
-  figures_latest: unknown;
-  evidence: unknown;
-};
-
 const json = <T>(v: unknown): T => (typeof v === "string" ? (JSON.parse(v) as T) : (v as T));
 const iso = (d: Date | string) => new Date(d).toISOString();
 
-function toDto(r: ItemRow): WorkItemDto {
+function toDto(r: WorkItemRow): WorkItemDto {
   return {
     id: Number(r.id),
     loopId: Number(r.loop_id),
     tag: r.tag,
     siteId: Number(r.site_id),
     siteName: r.site_name,
-    label: r.label,
-    status: r.status,
+    label: r.label as DiagnosisLabel,
+    status: r.status as WorkStatus,
     confidence: Number(r.confidence),
     owner: r.owner_id === null ? null : { id: Number(r.owner_id), name: r.owner_name ?? "" },
     openedAt: iso(r.opened_at),
@@ -92,9 +83,6 @@ function toDto(r: ItemRow): WorkItemDto {
   };
 }
 
-const SELECT_ITEMS = `SELECT w.*, l.tag, s.name AS site_name, u.name AS owner_name
-  FROM work_items w JOIN loops l ON l.id = w.loop_id JOIN sites s ON s.id = w.site_id LEFT JOIN users u ON u.id = w.owner_id`;
-
 export const workListQuerySchema = z.object({
   siteId: z.coerce.number().int().positive().optional(),
   status: z.enum([...WORK_STATUSES, "active", "all"]).default("active"),
@@ -105,45 +93,12 @@ export async function listWorkItems(
   ctx: TenantContext,
   q: z.infer<typeof workListQuerySchema>,
 ): Promise<WorkItemDto[]> {
-  const { tenantId } = scoped(ctx);
-  const site = siteScopeSql(ctx, "w.site_id");
-  const where = [`w.tenant_id = ?${site.sql}`];
-  const args: unknown[] = [tenantId, ...site.args];
-  if (q.siteId !== undefined) {
-    where.push("w.site_id = ?");
-    args.push(q.siteId);
-  }
-  if (q.status === "active") where.push("w.status <> 'closed'");
-  else if (q.status !== "all") {
-    where.push("w.status = ?");
-    args.push(q.status);
-  }
-  const rows = await getDb().sequelize.query<ItemRow>(
-    `${SELECT_ITEMS} WHERE ${where.join(" AND ")} ORDER BY w.opened_at DESC, w.id DESC LIMIT 1000`,
-    {
-      replacements: args,
-      type: QueryTypes.SELECT,
-    },
-  );
-  return rows.map(toDto);
+  return (await selectWorkItems(ctx, q)).map(toDto);
 }
 
-async function itemRow(
-  ctx: TenantContext,
-  id: number,
-  transaction?: Transaction,
-): Promise<ItemRow> {
-  const { tenantId } = scoped(ctx);
+async function itemRow(ctx: TenantContext, id: number, transaction?: Transaction): Promise<WorkItemRow> {
   // an item of a site outside the member's scope is a 404 like a missing one
-  const site = siteScopeSql(ctx, "w.site_id");
-  const [row] = await getDb().sequelize.query<ItemRow>(
-    `${SELECT_ITEMS} WHERE w.id = ? AND w.tenant_id = ?${site.sql}${transaction ? " FOR UPDATE" : ""}`,
-    {
-      replacements: [id, tenantId, ...site.args],
-      type: QueryTypes.SELECT,
-      transaction,
-    },
-  );
+  const row = await selectWorkItem(ctx, id, transaction);
   if (!row) throw new NotFoundError("Work item");
   return row;
 }
@@ -154,28 +109,12 @@ export async function getWorkItem(
   id: number,
 ): Promise<{ item: WorkItemDto; history: WorkItemEventDto[] }> {
   const item = toDto(await itemRow(ctx, id));
-  const rows = await getDb().sequelize.query<{
-    id: number;
-    kind: WorkItemEventDto["kind"];
-    from_status: WorkStatus | null;
-    to_status: WorkStatus | null;
-    owner_id: number | null;
-    owner_name: string | null;
-    note: string | null;
-    user_id: number | null;
-    user_name: string | null;
-    at: Date;
-  }>(
-    `SELECT e.*, o.name AS owner_name, u.name AS user_name FROM work_item_events e
-       LEFT JOIN users o ON o.id = e.owner_id LEFT JOIN users u ON u.id = e.user_id
-      WHERE e.work_item_id = ? AND e.tenant_id = ? ORDER BY e.at, e.id`,
-    { replacements: [id, scoped(ctx).tenantId], type: QueryTypes.SELECT },
-  );
+  const rows = await selectWorkItemEvents(ctx, id);
   const history = rows.map((e) => ({
     id: Number(e.id),
-    kind: e.kind,
-    fromStatus: e.from_status,
-    toStatus: e.to_status,
+    kind: e.kind as WorkItemEventDto["kind"],
+    fromStatus: e.from_status as WorkStatus | null,
+    toStatus: e.to_status as WorkStatus | null,
     owner: e.owner_id === null ? null : { id: Number(e.owner_id), name: e.owner_name ?? "" },
     note: e.note,
     by: e.user_id === null ? null : { id: Number(e.user_id), name: e.user_name ?? "" },
@@ -206,87 +145,25 @@ export async function updateWorkItem(
   id: number,
   patch: z.infer<typeof workItemPatchSchema>,
 ): Promise<{ item: WorkItemDto; history: WorkItemEventDto[] }> {
-  const { sequelize } = getDb();
-  const { tenantId } = scoped(ctx);
   const note = patch.note && patch.note.length ? patch.note : null;
-  await sequelize.transaction(async (transaction) => {
+  await inWorkListTransaction(async (transaction) => {
     const row = await itemRow(ctx, id, transaction);
     const now = new Date();
-    const event = (
-      kind: WorkItemEventDto["kind"],
-      extra: {
-        from?: WorkStatus | null;
-        to?: WorkStatus | null;
-        ownerId?: number | null;
-        note?: string | null;
-      },
-    ) =>
-      sequelize.query(
-        "INSERT INTO work_item_events (tenant_id, work_item_id, user_id, kind, from_status, to_status, owner_id, note, at) VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?)",
-        {
-          replacements: [
-            tenantId,
-            id,
-            ctx.userId,
-            kind,
-            extra.from ?? null,
-            extra.to ?? null,
-            extra.ownerId ?? null,
-            extra.note ?? null,
-            now,
-          ],
-          transaction,
-        },
-      );
+    const event = (kind: WorkItemEventDto["kind"], extra: { from?: WorkStatus | null; to?: WorkStatus | null; ownerId?: number | null; note?: string | null }) =>
+      insertWorkItemEvent(ctx, id, { kind, from: extra.from ?? null, to: extra.to ?? null, ownerId: extra.ownerId ?? null, note: extra.note ?? null, at: now }, transaction);
     let noteUsed = false;
-    if (
-      patch.ownerId !== undefined &&
-      patch.ownerId !== (row.owner_id === null ? null : Number(row.owner_id))
-    ) {
-      if (patch.ownerId !== null) {
-        const [m] = await sequelize.query(
-          "SELECT 1 AS ok FROM memberships WHERE tenant_id = ? AND user_id = ?",
-          { replacements: [tenantId, patch.ownerId], type: QueryTypes.SELECT, transaction },
-        );
-        if (!m) throw new ValidationError("The owner must be a member of this tenant.");
-      }
-      await sequelize.query("UPDATE work_items SET owner_id = ?, updated_at = ? WHERE id = ?", {
-        replacements: [patch.ownerId, now, id],
-        transaction,
-      });
+    if (patch.ownerId !== undefined && patch.ownerId !== (row.owner_id === null ? null : Number(row.owner_id))) {
+      if (patch.ownerId !== null && !(await isTenantMember(ctx, patch.ownerId, transaction))) throw new ValidationError("The owner must be a member of this tenant.");
+      await updateWorkItemOwner(id, patch.ownerId, now, transaction);
       await event("owner", { ownerId: patch.ownerId });
     }
-    if (patch.status !== undefined && patch.status !== row.status) {
-      if (patch.status === "closed" && !note)
-        throw new ValidationError(
-          "Closing an item needs a note (what was done, or why nothing is).",
-        );
-      if (row.status === "closed") {
-        const [open] = await sequelize.query(
-          "SELECT id FROM work_items WHERE loop_id = ? AND open_key = ? AND id <> ?",
-          {
-            replacements: [row.loop_id, row.label, id],
-            type: QueryTypes.SELECT,
-            transaction,
-          },
-        );
-        if (open)
-          throw new ConflictError(
-            "The same finding has a newer open item for this loop; work on that one.",
-          );
-      }
-      await sequelize.query(
-        "UPDATE work_items SET status = ?, closed_at = ?, updated_at = ? WHERE id = ?",
-        {
-          replacements: [patch.status, patch.status === "closed" ? now : null, now, id],
-          transaction,
-        },
-      );
-      await event(row.status === "closed" ? "reopened" : "status", {
-        from: row.status,
-        to: patch.status,
-        note,
-      });
+    const status = row.status as WorkStatus;
+    if (patch.status !== undefined && patch.status !== status) {
+      if (patch.status === "closed" && !note) throw new ValidationError("Closing an item needs a note (what was done, or why nothing is).");
+      if (status === "closed" && (await otherOpenItemExists(Number(row.loop_id), row.label, id, transaction)))
+        throw new ConflictError("The same finding has a newer open item for this loop; work on that one.");
+      await updateWorkItemStatus(id, patch.status, patch.status === "closed" ? now : null, now, transaction);
+      await event(status === "closed" ? "reopened" : "status", { from: status, to: patch.status, note });
       noteUsed = true;
     }
     if (note && !noteUsed) await event("note", { note });
@@ -296,9 +173,5 @@ export async function updateWorkItem(
 
 /** Members of the tenant who can own an item (engineers and admins). */
 export async function listOwners(ctx: TenantContext): Promise<{ id: number; name: string }[]> {
-  const rows = await getDb().sequelize.query<{ id: number; name: string }>(
-    "SELECT u.id, u.name FROM memberships m JOIN users u ON u.id = m.user_id WHERE m.tenant_id = ? AND m.role IN ('engineer', 'admin') ORDER BY u.name",
-    { replacements: [scoped(ctx).tenantId], type: QueryTypes.SELECT },
-  );
-  return rows.map((r) => ({ id: Number(r.id), name: r.name }));
+  return selectOwners(ctx);
 }

@@ -4,11 +4,20 @@
  * and label (unique index on `work_items(loop_id, open_key)`, migration 0130): a repeated finding
  * updates it (latest figures, confidence, count), never duplicates it. Every finding also updates
  * the latest figures of the loop's other items still open or in work, so an engineer sees the
- * figures after a tuning or maintenance change beside those at open.
+ * figures after a tuning or maintenance change beside those at open. SQL: lib/data/work-list.ts.
  */
-import { QueryTypes, type Sequelize, type Transaction } from "sequelize";
-import type { LoopAssessmentReport } from "@/lib/assessment/types";
-import { opensWorkItem } from "@/lib/domain/findings";
+import type { Sequelize } from "sequelize";
+import {
+  inWorkListTransaction,
+  insertOpenItem,
+  lockOpenItem,
+  selectAllAssessments,
+  selectFindingRecipientLists,
+  touchOpenItem,
+  updateOpenItemFigures,
+  upsertAssessment,
+} from "@/lib/data/work-list";
+import { opensWorkItem, type LiveAssessmentReport } from "@/lib/domain/findings";
 import { figuresOf } from "./figures";
 
 export interface RecordInput {
@@ -17,7 +26,7 @@ export interface RecordInput {
   siteId: number;
   /** Epoch ms. */
   at: number;
-  report: LoopAssessmentReport;
+  report: LiveAssessmentReport;
   windowSamples: number;
   windowS: number;
 }
@@ -25,13 +34,7 @@ export interface RecordInput {
 /** Stores the latest assessment of a loop (one row per loop). */
 export async function saveAssessment(sequelize: Sequelize, r: RecordInput): Promise<void> {
   const d = r.report.diagnosis;
-  await sequelize.query(
-    `INSERT INTO loop_assessments (loop_id, tenant_id, assessed_at, label, confidence, needs_s, window_samples, window_s, report)
-     VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?)
-     ON DUPLICATE KEY UPDATE assessed_at = VALUES(assessed_at), label = VALUES(label), confidence = VALUES(confidence),
-       needs_s = VALUES(needs_s), window_samples = VALUES(window_samples), window_s = VALUES(window_s), report = VALUES(report)`,
-    { replacements: [r.loopId, r.tenantId, new Date(r.at), d.label, d.confidence, d.needsS ?? null, r.windowSamples, r.windowS, JSON.stringify(r.report)] },
-  );
+  await upsertAssessment(sequelize, { ...r, label: d.label, confidence: d.confidence, needsS: d.needsS ?? null });
 }
 
 export interface StoredAssessment {
@@ -40,22 +43,19 @@ export interface StoredAssessment {
   at: number;
   windowSamples: number;
   windowS: number;
-  report: LoopAssessmentReport;
+  report: LiveAssessmentReport;
 }
 
 /** Every stored assessment (restored at start), or one tenant's. */
 export async function loadAssessments(sequelize: Sequelize, tenantId?: number): Promise<StoredAssessment[]> {
-  const rows = await sequelize.query<{ loop_id: number; tenant_id: number; assessed_at: Date; window_samples: number; window_s: number; report: unknown }>(
-    `SELECT loop_id, tenant_id, assessed_at, window_samples, window_s, report FROM loop_assessments ${tenantId === undefined ? "" : "WHERE tenant_id = ?"}`,
-    { replacements: tenantId === undefined ? [] : [tenantId], type: QueryTypes.SELECT },
-  );
+  const rows = await selectAllAssessments(sequelize, tenantId);
   return rows.map((r) => ({
     loopId: Number(r.loop_id),
     tenantId: Number(r.tenant_id),
     at: new Date(r.assessed_at).getTime(),
     windowSamples: Number(r.window_samples),
     windowS: Number(r.window_s),
-    report: (typeof r.report === "string" ? JSON.parse(r.report) : r.report) as LoopAssessmentReport,
+    report: (typeof r.report === "string" ? JSON.parse(r.report) : r.report) as LiveAssessmentReport,
   }));
 }
 
@@ -65,57 +65,33 @@ export interface RecordOutcome {
   updated: number | null;
 }
 
-async function openItemId(sequelize: Sequelize, loopId: number, label: string, transaction: Transaction): Promise<number | null> {
-  const [row] = await sequelize.query<{ id: number }>("SELECT id FROM work_items WHERE loop_id = ? AND open_key = ? FOR UPDATE", {
-    replacements: [loopId, label],
-    type: QueryTypes.SELECT,
-    transaction,
-  });
-  return row ? Number(row.id) : null;
-}
-
 /** Opens or updates the work item of a finding; returns what happened. */
 export async function recordFinding(sequelize: Sequelize, r: RecordInput): Promise<RecordOutcome> {
-  const figures = JSON.stringify(figuresOf(r.report, r.at));
+  const figures = figuresOf(r.report, r.at);
   const d = r.report.diagnosis;
   const at = new Date(r.at);
-  return sequelize.transaction(async (transaction) => {
-    await sequelize.query("UPDATE work_items SET figures_latest = ?, updated_at = ? WHERE loop_id = ? AND status <> 'closed'", {
-      replacements: [figures, at, r.loopId],
-      transaction,
-    });
+  return inWorkListTransaction(async (transaction) => {
+    await updateOpenItemFigures(sequelize, r.loopId, figures, at, transaction);
     if (!opensWorkItem(d)) return { opened: null, updated: null };
-    const existing = await openItemId(sequelize, r.loopId, d.label, transaction);
+    const existing = await lockOpenItem(sequelize, r.loopId, d.label, transaction);
     if (existing !== null) {
-      await sequelize.query(
-        "UPDATE work_items SET confidence = ?, last_seen_at = ?, seen_count = seen_count + 1, evidence = ? WHERE id = ?",
-        { replacements: [d.confidence, at, JSON.stringify(d.evidence), existing], transaction },
-      );
+      await touchOpenItem(sequelize, existing, { confidence: d.confidence, at, evidence: d.evidence }, transaction);
       return { opened: null, updated: existing };
     }
-    const [insertId] = (await sequelize.query(
-      `INSERT INTO work_items (tenant_id, site_id, loop_id, label, status, confidence, opened_at, last_seen_at, figures_at_open, figures_latest, evidence, created_at, updated_at)
-       VALUES (?, ?, ?, ?, 'open', ?, ?, ?, ?, ?, ?, ?, ?)`,
-      { replacements: [r.tenantId, r.siteId, r.loopId, d.label, d.confidence, at, at, figures, figures, JSON.stringify(d.evidence), at, at], type: QueryTypes.INSERT, transaction },
-    )) as unknown as [number, number];
-    const id = Number(insertId);
-    await sequelize.query(
-      "INSERT INTO work_item_events (tenant_id, work_item_id, user_id, kind, from_status, to_status, note, at) VALUES (?, ?, NULL, 'opened', NULL, 'open', ?, ?)",
-      { replacements: [r.tenantId, id, `${d.evidence[0] ?? d.label} (confidence ${d.confidence.toFixed(2)})`, at], transaction },
+    const note = `${d.evidence[0] ?? d.label} (confidence ${d.confidence.toFixed(2)})`;
+    const id = await insertOpenItem(
+      sequelize,
+      { tenantId: r.tenantId, siteId: r.siteId, loopId: r.loopId, label: d.label, confidence: d.confidence, at, figures, evidence: d.evidence, note },
+      transaction,
     );
     return { opened: id, updated: null };
-  });
+  }, sequelize);
 }
 
 /** Recipients of a tenant's enabled finding rules (notification_rules.kind = 'finding'). */
 export async function findingRecipients(sequelize: Sequelize, tenantId: number): Promise<string[]> {
-  const rows = await sequelize.query<{ recipients: unknown }>("SELECT recipients FROM notification_rules WHERE tenant_id = ? AND enabled = 1 AND kind = 'finding'", {
-    replacements: [tenantId],
-    type: QueryTypes.SELECT,
-  });
   const out = new Set<string>();
-  for (const r of rows) {
-    const list = typeof r.recipients === "string" ? (JSON.parse(r.recipients) as unknown) : r.recipients;
+  for (const list of await selectFindingRecipientLists(sequelize, tenantId)) {
     if (Array.isArray(list)) for (const a of list) if (typeof a === "string") out.add(a);
   }
   return [...out];

@@ -3,11 +3,9 @@
  * (the alarm notifier reads only kind `alarm`). A rule mails its recipients when a finding opens
  * a work item of the tenant (server/assessment/service.ts); nothing reaches the operator's alarms.
  */
-import { QueryTypes } from "sequelize";
 import { z } from "zod";
-import { getDb } from "@/lib/db/sequelize";
+import { deleteFindingRuleRow, insertFindingRule, selectFindingRules } from "@/lib/data/work-list";
 import { NotFoundError } from "@/lib/domain/errors";
-import { scoped } from "@/lib/tenancy";
 import { text } from "@/lib/text-input";
 import type { TenantContext } from "@/lib/domain/types";
 
@@ -27,10 +25,7 @@ export const findingRuleSchema = z
   .strict();
 
 export async function listFindingRules(ctx: TenantContext): Promise<FindingRuleDto[]> {
-  const rows = await getDb().sequelize.query<{ id: number; name: string; recipients: unknown; enabled: number | boolean }>(
-    "SELECT id, name, recipients, enabled FROM notification_rules WHERE tenant_id = ? AND kind = 'finding' ORDER BY id",
-    { replacements: [scoped(ctx).tenantId], type: QueryTypes.SELECT },
-  );
+  const rows = await selectFindingRules(ctx);
   return rows.map((r) => ({
     id: Number(r.id),
     name: r.name,
@@ -40,22 +35,10 @@ export async function listFindingRules(ctx: TenantContext): Promise<FindingRuleD
 }
 
 export async function createFindingRule(ctx: TenantContext, input: z.infer<typeof findingRuleSchema>): Promise<FindingRuleDto> {
-  const { NotificationRule } = getDb().models;
-  const row = await NotificationRule.create({
-    tenantId: scoped(ctx).tenantId,
-    areaId: null,
-    name: input.name,
-    kind: "finding",
-    recipients: input.recipients,
-    escalationMinutes: null,
-    repeatMinutes: null,
-    enabled: input.enabled,
-  });
-  return { id: row.id, name: row.name, recipients: input.recipients, enabled: input.enabled };
+  const id = await insertFindingRule(ctx, input);
+  return { id, name: input.name, recipients: input.recipients, enabled: input.enabled };
 }
 
 export async function deleteFindingRule(ctx: TenantContext, id: number): Promise<void> {
-  const { NotificationRule } = getDb().models;
-  const n = await NotificationRule.destroy({ where: { id, tenantId: scoped(ctx).tenantId, kind: "finding" } });
-  if (!n) throw new NotFoundError("Rule");
+  if (!(await deleteFindingRuleRow(ctx, id))) throw new NotFoundError("Rule");
 }

@@ -15,10 +15,16 @@
  * (≈ 4 µs per sample for one window's length, ≈ 15 ms per loop in all at 3,600 samples). Loops are
  * staggered: each loop's first run is offset by a share of its own interval taken from its id, and
  * due loops run from a timer in small batches with a time cap per tick.
+ *
+ * Each result is grouped with the site's other loops by oscillation period (site-groups.ts): a
+ * sticking valve whose period other loops of the site share becomes a shared oscillation. Without
+ * such peers the report is exactly what `assessLoop` gave (live = offline on the same samples).
  */
-import { assessLoop, type AssessMode, type LoopAssessmentReport, type LoopConfig as AssessConfig } from "@/lib/assessment";
+import { assessLoop, type AssessMode, type LoopConfig as AssessConfig } from "@/lib/assessment";
+import type { LiveAssessmentReport } from "@/lib/domain/findings";
 import type { SampleDto } from "@/lib/domain/types";
 import { AssessRing } from "./ring";
+import { applySharedOscillation, sharedOscillationOf, type PeriodPeer } from "./site-groups";
 
 /** Window length in stored samples (memory: 33 bytes per sample, ≈ 120 kB per loop). */
 export const WINDOW_SAMPLES = 3_600;
@@ -45,7 +51,8 @@ export interface LiveResult {
   siteId: number;
   /** Epoch ms. */
   at: number;
-  report: LoopAssessmentReport;
+  /** With the site's period group (site-groups.ts): a shared period turns a sticking valve into a shared oscillation. */
+  report: LiveAssessmentReport;
   windowSamples: number;
   windowS: number;
 }
@@ -80,6 +87,8 @@ export class LiveAssessor {
   private readonly loops = new Map<number, Entry>();
   private readonly dueQueue: number[] = [];
   private readonly latest = new Map<number, LiveResult>();
+  /** The latest detected oscillation of each loop, per site (for the site period grouping). */
+  private readonly periods = new Map<number, Map<number, PeriodPeer>>();
 
   constructor(private readonly opts: { capacity?: number; now: () => number; onResult?: (r: LiveResult) => void }) {}
 
@@ -87,7 +96,10 @@ export class LiveAssessor {
     return this.loops.size;
   }
 
-  /** Adds or reconfigures a loop; a changed period or range starts its window again. */
+  /**
+   * Adds or reconfigures a loop; a changed period, range or tuning starts its window again (data
+   * from before a tuning change say nothing of the loop after it); a new dead time alone keeps it.
+   */
   upsertLoop(loop: LiveLoop): void {
     const capacity = this.opts.capacity ?? WINDOW_SAMPLES;
     const old = this.loops.get(loop.loopId);
@@ -96,6 +108,13 @@ export class LiveAssessor {
     const same = old && old.ring.stride === stride && JSON.stringify(old.loop.config) === JSON.stringify(loop.config);
     if (same) {
       old.loop = loop;
+      return;
+    }
+    // A new dead time changes no sample: the window stays, and the next run (soon) uses it.
+    if (old && old.ring.stride === stride && JSON.stringify({ ...old.loop.config, deadTimeS: null }) === JSON.stringify({ ...loop.config, deadTimeS: null })) {
+      old.loop = loop;
+      old.windowConfig = windowConfig;
+      old.dueAfter = Math.min(old.dueAfter, old.firstRun);
       return;
     }
     const firstRun = Math.max(8 * stride, Math.min(FIRST_RUN_SAMPLES, Math.ceil(FIRST_RUN_S / loop.config.samplePeriodS)));
@@ -114,6 +133,7 @@ export class LiveAssessor {
   removeLoop(loopId: number): void {
     this.loops.delete(loopId);
     this.latest.delete(loopId);
+    for (const m of this.periods.values()) m.delete(loopId);
   }
 
   has(loopId: number): boolean {
@@ -166,7 +186,22 @@ export class LiveAssessor {
 
   /** A result restored from storage (shown until the loop's first live run). */
   restore(r: LiveResult): void {
-    if (!this.latest.has(r.loopId)) this.latest.set(r.loopId, r);
+    if (this.latest.has(r.loopId)) return;
+    this.latest.set(r.loopId, r);
+    this.notePeriod(r);
+  }
+
+  private notePeriod(r: LiveResult): void {
+    const osc = r.report.oscillation;
+    let site = this.periods.get(r.siteId);
+    for (const [id, m] of this.periods) if (id !== r.siteId) m.delete(r.loopId);
+    if (!osc.detected || osc.periodS === null || !(osc.periodS > 0)) {
+      site?.delete(r.loopId);
+      return;
+    }
+    if (!site) this.periods.set(r.siteId, (site = new Map()));
+    const tag = this.loops.get(r.loopId)?.loop.config.tag ?? `loop ${r.loopId}`;
+    site.set(r.loopId, { loopId: r.loopId, tag, siteId: r.siteId, periodS: osc.periodS, at: r.at, windowS: r.windowS });
   }
 
   private assess(e: Entry): LiveResult | null {
@@ -178,21 +213,20 @@ export class LiveAssessor {
       e.dueAfter = e.firstRun;
       return null;
     }
-    const report = assessLoop(e.ring.samples(), e.windowConfig);
+    const own = assessLoop(e.ring.samples(), e.windowConfig);
+    const at = this.opts.now();
+    const windowS = e.ring.spanS;
+    const { loopId, siteId } = e.loop;
+    const periodS = own.oscillation.detected ? own.oscillation.periodS : null;
+    const shared = sharedOscillationOf({ loopId, siteId, periodS, at, windowS }, this.periods.get(siteId)?.values() ?? []);
+    const report = applySharedOscillation(own, shared);
     // Next run: the CPU budget's interval, or later when the verdict says how much data it needs.
     const needs = report.diagnosis.needsS ? report.diagnosis.needsS / e.loop.config.samplePeriodS : 0;
     const budget = RERUN_FACTOR * n * stride;
     e.dueAfter = Math.max(e.firstRun, Math.ceil(Math.min(Math.max(budget, needs), RERUN_FACTOR * e.ring.capacity * stride)));
-    const r: LiveResult = {
-      loopId: e.loop.loopId,
-      tenantId: e.loop.tenantId,
-      siteId: e.loop.siteId,
-      at: this.opts.now(),
-      report,
-      windowSamples: n,
-      windowS: e.ring.spanS,
-    };
-    this.latest.set(e.loop.loopId, r);
+    const r: LiveResult = { loopId, tenantId: e.loop.tenantId, siteId, at, report, windowSamples: n, windowS };
+    this.latest.set(loopId, r);
+    this.notePeriod(r);
     this.opts.onResult?.(r);
     return r;
   }

@@ -1,11 +1,15 @@
 /**
  * Loops as the live assessment needs them: the offline command's LOOP.json fields from the one
  * loops reader (lib/data/loop-rows.ts): kind, PV range, telemetry period, tuning in seconds with
- * the loop's own derivative filter, MV limits.
+ * the loop's own derivative filter, MV limits, dead time. The dead time is the engineer's
+ * (`loops.dead_time_s`), else that of the loop's latest step test whose proposal was applied
+ * (accepted) to the loop, else none: the Harris index is then null with a caution (routine
+ * closed-loop data cannot tell the dead time).
  */
 import type { Sequelize } from "sequelize";
 import { parseLoopConfig } from "@/lib/assessment";
 import { loopTuningSeconds, mvLimits, readLoops } from "@/lib/data/loop-rows";
+import { selectStepDeadTimes } from "@/lib/data/work-list";
 import type { LiveLoop } from "./assessor";
 
 const KINDS = new Set(["flow", "level", "pressure", "temperature"]);
@@ -14,7 +18,9 @@ const KINDS = new Set(["flow", "level", "pressure", "temperature"]);
 export async function loadLiveLoops(sequelize: Sequelize, loopId?: number): Promise<{ loops: LiveLoop[]; errors: Map<number, string> }> {
   const loops: LiveLoop[] = [];
   const errors = new Map<number, string>();
-  for (const l of await readLoops(sequelize, loopId)) {
+  const rows = await readLoops(sequelize, loopId);
+  const stepDeadTimes = rows.some((l) => l.enabled && l.deadTimeS === null) ? await selectStepDeadTimes(sequelize, loopId) : new Map<number, number>();
+  for (const l of rows) {
     if (!l.enabled) continue;
     try {
       const tuning = loopTuningSeconds(l);
@@ -27,7 +33,7 @@ export async function loadLiveLoops(sequelize: Sequelize, loopId?: number): Prom
         pvLo: l.pvLo,
         pvHi: l.pvHi,
         samplePeriodS: l.telemetryPeriodS,
-        deadTimeS: null,
+        deadTimeS: deadTimeOf(l.deadTimeS, stepDeadTimes.get(l.id)),
         normalMode: "auto",
         controller: {
           kp: tuning.kp,
@@ -46,4 +52,12 @@ export async function loadLiveLoops(sequelize: Sequelize, loopId?: number): Prom
     }
   }
   return { loops, errors };
+}
+
+/** The engineer's dead time, else the latest applied step test's, else null (s; a negative or non-finite value counts as none). */
+function deadTimeOf(configured: number | null, fromStepTest: number | undefined): number | null {
+  for (const x of [configured, fromStepTest]) {
+    if (x !== null && x !== undefined && Number.isFinite(x) && x >= 0) return x;
+  }
+  return null;
 }

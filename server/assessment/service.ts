@@ -10,7 +10,8 @@ import { publicOrigin } from "@/lib/config";
 import { findingPhrase, type LoopFinding } from "@/lib/domain/findings";
 import { tenantRoom } from "@/lib/domain/events";
 import type { SampleDto } from "@/lib/domain/types";
-import { findingOf } from "@/lib/work-list/figures";
+import type { RoutineFindings } from "@/lib/domain/findings";
+import { findingOf, routineOf } from "@/lib/work-list/figures";
 import { findingRecipients, loadAssessments, recordFinding, saveAssessment } from "@/lib/work-list/record";
 import type { ServerContext } from "../context";
 import type { MailService } from "../mail";
@@ -36,6 +37,11 @@ export interface LiveAssessmentOptions {
   /** Wall time allowed per tick (ms), so the event loop is never held long. */
   tickBudgetMs?: number;
   capacity?: number;
+  /**
+   * Hands each loop's verdict to the loop's tracker, which carries it in the loop's assessment
+   * (`LoopAssessment.routine`) for the API, the live summary and the pages (the pipeline wires it).
+   */
+  onRoutine?: (loopId: number, routine: RoutineFindings) => void;
 }
 
 export async function startLiveAssessment(ctx: ServerContext, opts: LiveAssessmentOptions): Promise<LiveAssessmentService> {
@@ -88,6 +94,7 @@ export async function startLiveAssessment(ctx: ServerContext, opts: LiveAssessme
     now: () => ctx.clock.now(),
     onResult: (r) => {
       runs++;
+      opts.onRoutine?.(r.loopId, routineOf(r.report, r.at, r.windowS));
       ctx.io?.to(tenantRoom(r.tenantId)).emit("loop:finding", findingOf(r.loopId, r.at, r.report, r.windowS));
       write(r);
     },
@@ -98,8 +105,12 @@ export async function startLiveAssessment(ctx: ServerContext, opts: LiveAssessme
     assessor.upsertLoop(l);
     tags.set(l.loopId, l.config.tag);
   }
+  const siteOf = new Map(loops.map((l) => [l.loopId, l.siteId]));
   for (const s of await loadAssessments(sequelize)) {
-    if (assessor.has(s.loopId)) assessor.restore({ ...s, siteId: 0 });
+    const siteId = siteOf.get(s.loopId);
+    if (siteId === undefined || !assessor.has(s.loopId)) continue;
+    assessor.restore({ ...s, siteId });
+    opts.onRoutine?.(s.loopId, routineOf(s.report, s.at, s.windowS));
   }
 
   const timer = ctx.clock.setInterval(() => {

@@ -83,5 +83,7 @@ export function toLoopBrief(s: LoopStateDto): LoopStateBrief {
     dataPolesKind: s.dataPolesKind,
     polesFrom: s.polesFrom ?? null,
     oscillation: s.oscillation ? oscillation(s.oscillation) : null,
+    // the verdict only (evidence, figures and the shared-oscillation group stay in the full state)
+    routine: s.routine ? { at: Math.round(s.routine.at), label: s.routine.label, confidence: roundTo(s.routine.confidence, 2) ?? 0, needsS: roundSig(s.routine.needsS, 3) } : null,
   };
 }

@@ -65,7 +65,7 @@ import { polyRoots } from "@/lib/control/roots";
 import { polyRootsWithBounds, rimVerdict } from "@/lib/control/root-bounds";
 import { DEFAULT_POLICY } from "@/lib/domain/alarms/policy";
 import { NON_TRACKING } from "@/lib/domain/alarms/conditions";
-import { assessPoles, effectivePoles, effectivePolesSource, type Crossing } from "@/lib/domain/assessment";
+import { assessPoles, effectivePoles, effectivePolesSource, type Crossing, type RoutineFindings } from "@/lib/domain/assessment";
 import { FigureTrend } from "@/lib/domain/trend";
 import type { ArxModel, Complex, QTf } from "@/lib/control/types";
 import { judgeSampleQuality, valueUsable } from "@/lib/domain/sample-quality";
@@ -201,6 +201,8 @@ export class LoopTracker {
   private lastGood: { model: ArxModel; cov: number[][]; at: number } | null = null;
   /** Why the current estimate is not physical (null when it is), from the last state computation. */
   private implausible: string | null = null;
+  /** The live routine assessment's latest verdict (server/assessment), carried in every state. */
+  private routine: RoutineFindings | undefined;
   /** Informative samples the plant estimate needs before it is reported. */
   private readonly minUpdates: number;
   /** Estimation samples without an informative one before the loop counts as `low-excitation`. */
@@ -361,6 +363,13 @@ export class LoopTracker {
 
   /** The latest state (no computation). */
   get current(): LoopStateDto {
+    return this.state;
+  }
+
+  /** Attach the live routine assessment's verdict (server/assessment) to this and every later state. */
+  attachRoutine(routine: RoutineFindings): LoopStateDto {
+    this.routine = routine;
+    this.state = { ...this.state, routine };
     return this.state;
   }
 
@@ -784,6 +793,7 @@ export class LoopTracker {
       delaySamples: this.config.nk,
       last: this.lastSample,
       sampleQuality: this.quality.dto(),
+      ...(this.routine ? { routine: this.routine } : {}),
     };
   }
 

@@ -3,6 +3,7 @@
  * new estimate or tracker-state change, staleness by `tick(now)` (the host calls it, or
  * `startTimer` runs it on the injectable clock), checkpoints out and back in.
  */
+import type { RoutineFindings } from "@/lib/domain/assessment";
 import type { LoopStateDto, SampleDto } from "@/lib/domain/types";
 import type { Bus, Clock } from "../context";
 import { LoopTracker, type LoopTrackerOptions, type TrackerCheckpoint } from "./loop-tracker";
@@ -27,6 +28,8 @@ export class TrackerRegistry {
   readonly rejected = new Map<number, string>();
   /** Samples pushed for a loop the registry does not know. */
   unknownLoopSamples = 0;
+  /** The live routine assessment's latest verdict per loop, kept across a relearn or a replaced tracker. */
+  private readonly routines = new Map<number, RoutineFindings>();
 
   constructor(ctx: TrackerRegistryContext, loops: LoopConfig[], options: Omit<LoopTrackerOptions, "clock"> = {}) {
     this.ctx = ctx;
@@ -66,6 +69,16 @@ export class TrackerRegistry {
   /** Run `tick` every `intervalMs` on the context's clock; returns the cancel handle. */
   startTimer(intervalMs = 1000): { cancel(): void } {
     return this.ctx.clock.setInterval(() => this.tick(), intervalMs);
+  }
+
+  /**
+   * The live routine assessment's verdict of a loop (server/assessment): carried in the loop's
+   * assessment from now on (`routine`), and published at once with the current figures.
+   */
+  attachRoutine(loopId: number, routine: RoutineFindings): void {
+    this.routines.set(loopId, routine);
+    const tr = this.trackers.get(loopId);
+    if (tr) this.ctx.bus.emit("tracker:update", tr.attachRoutine(routine));
   }
 
   get(loopId: number): LoopTracker | undefined {
@@ -115,7 +128,10 @@ export class TrackerRegistry {
         this.rejected.delete(cfg.id);
         return "kept";
       }
-      this.trackers.set(cfg.id, new LoopTracker(cfg, { ...this.options, clock: this.ctx.clock }));
+      const tr = new LoopTracker(cfg, { ...this.options, clock: this.ctx.clock });
+      const routine = this.routines.get(cfg.id);
+      if (routine) tr.attachRoutine(routine);
+      this.trackers.set(cfg.id, tr);
       this.rejected.delete(cfg.id);
       return existing ? "relearn" : "added";
     } catch (e) {
@@ -126,11 +142,14 @@ export class TrackerRegistry {
 
   /** Put a tracker built elsewhere (a historian backfill's, trained on past samples) in its loop's place. */
   replaceTracker(tracker: LoopTracker): void {
+    const routine = this.routines.get(tracker.config.id);
+    if (routine) tracker.attachRoutine(routine);
     this.trackers.set(tracker.config.id, tracker);
     this.rejected.delete(tracker.config.id);
   }
 
   removeLoop(loopId: number): boolean {
+    this.routines.delete(loopId);
     return this.trackers.delete(loopId);
   }
 }

@@ -384,7 +384,7 @@ async function pipeline(scenarioFile: string, opts: { loops: number; hz: number;
       }, 250)
     : null;
   const registry = new TrackerRegistry(ctx, configs, { stateEveryS: opts.stateEvery });
-  const assessment = opts.assessment ? new BenchAssessment(configs.map((c) => ({ loopId: c.id, tag: c.tag, periodS: c.telemetryPeriodS, kp: c.controller.kp, ti: c.controller.ti }))) : null;
+  const assessment = opts.assessment ? new BenchAssessment(configs.map((c) => ({ loopId: c.id, tag: c.tag, periodS: c.telemetryPeriodS, kp: c.controller.kp, ti: c.controller.ti ?? Number.POSITIVE_INFINITY }))) : null;
   const emitter = startRealtimeEmitter(ctx);
   let updates = 0;
   ctx.bus.on("tracker:update", (s) => {

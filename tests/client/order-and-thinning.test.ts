@@ -6,10 +6,11 @@
 import { describe, expect, it } from "vitest";
 import { thinAligned } from "@/lib/client/history";
 import { WorstFirstOrder, sortWorstFirst, stableWorstFirst } from "@/lib/client/order";
+import type { RoutineFindings } from "@/lib/domain/findings";
 import type { AlarmPriority, LoopStateDto, LoopSummary } from "@/lib/domain/types";
 
-function loop(id: number, tag: string, decayRatio: number | null, radius: number | null, alarm?: AlarmPriority): LoopSummary {
-  const state = radius === null ? null : ({ spectralRadius: radius, decayRatio, juryStable: radius < 1, rimDistance: 1 - radius } as unknown as LoopStateDto);
+function loop(id: number, tag: string, decayRatio: number | null, radius: number | null, alarm?: AlarmPriority, routine?: Pick<RoutineFindings, "label" | "confidence">): LoopSummary {
+  const state = radius === null && !routine ? null : ({ spectralRadius: radius, decayRatio, juryStable: radius === null ? null : radius < 1, rimDistance: radius === null ? null : 1 - radius, routine: routine ? { at: 0, needsS: null, ...routine } : undefined } as unknown as LoopStateDto);
   return {
     id, tenantId: 1, siteId: 1, siteName: "Site", area: null, tag, slug: tag.toLowerCase(), description: "", kind: "flow",
     units: "m3/h", pvLo: 0, pvHi: 100, estimationPeriodS: 1, state,
@@ -49,6 +50,23 @@ describe("worst-first order", () => {
     // A real change (B two steps closer to its level) moves it ahead.
     const b3 = loop(12, "PIC-B", 0.36, 0.9);
     expect(order.sort([a2, b3]).map((l) => l.tag)).toEqual(["PIC-B", "PIC-A"]);
+  });
+
+  it("puts a loop whose finding is engineering work after alarms and loops past their level, before the others (margin order kept within each group)", () => {
+    const withFindings = [
+      loop(21, "FIC-21", 0.1, 0.8, undefined, { label: "valve-stiction", confidence: 0.8 }),
+      loop(22, "FIC-22", 0.45, 0.95), // smallest margin of the loops without a finding
+      loop(23, "FIC-23", 0.3, 0.9, undefined, { label: "healthy", confidence: 0.9 }), // healthy is not work
+      loop(24, "FIC-24", 0.05, 0.7, "low"), // an alarm outranks any finding
+      loop(25, "FIC-25", null, 1.02), // past the circle, no alarm yet: before any finding
+      loop(26, "FIC-26", 0.2, 0.85, undefined, { label: "sluggish-tuning", confidence: 0.7 }),
+      loop(27, "FIC-27", 0.4, 0.9, undefined, { label: "valve-stiction", confidence: 0.5 }), // too weak to open an item
+      loop(28, "FIC-28", null, null, undefined, { label: "manual", confidence: 0.9 }), // no estimate, but in manual: work
+    ];
+    // margins to the 0.5 level: FIC-21 0.4, FIC-26 0.3, FIC-28 none (+inf); FIC-22 0.05, FIC-27 0.1, FIC-23 0.2
+    const want = ["FIC-24", "FIC-25", "FIC-26", "FIC-21", "FIC-28", "FIC-22", "FIC-27", "FIC-23"];
+    expect(sortWorstFirst(withFindings).map((l) => l.tag)).toEqual(want);
+    expect(stableWorstFirst(withFindings, null).map((l) => l.tag)).toEqual(want);
   });
 });
 

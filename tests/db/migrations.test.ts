@@ -101,6 +101,19 @@ describe("migrations on an empty database", () => {
     expect((await tableNames(db)).length).toBe(EXPECTED_TABLES.length + 1);
   });
 
+  it("0131 adds the loop's dead time (nullable, s) and its down removes it", async () => {
+    const cols = async () =>
+      ((await db.sequelize.query("SELECT column_name AS c, is_nullable AS n FROM information_schema.columns WHERE table_schema = ? AND table_name = 'loops' AND column_name = 'dead_time_s'", { replacements: [db.name] }))[0] as { c: string; n: string }[]);
+    expect(await cols()).toEqual([{ c: "dead_time_s", n: "YES" }]);
+    const name = (await migrationStatus(db.sequelize)).executed.find((m) => m.startsWith("0131-"))!;
+    expect(name).toBeDefined();
+    const reverted = await migrateDown(db.sequelize, name);
+    expect(reverted).toContain(name);
+    expect(await cols()).toEqual([]);
+    await migrateUp(db.sequelize);
+    expect(await cols()).toHaveLength(1);
+  });
+
   it("steps down one migration at a time", async () => {
     const { executed } = await migrationStatus(db.sequelize);
     const last = executed[executed.length - 1]!;

@@ -178,9 +178,12 @@ describe("latest assessment stored, restored, and mailed to finding rules only",
     const sent: { to: string[]; subject: string }[] = [];
     const mail = { name: "mail", send: async (m: { to: string[]; subject: string }) => (sent.push(m), { messageId: "x" }), health: () => ({ status: "ok" as const }), stop: async () => undefined };
     const ctx: ServerContext = { config: getConfig({ NODE_ENV: "test" }), io: null, bus: new Bus(), clock: systemClock, services: new Map([["mail", mail as never]]) };
-    const svc = await startLiveAssessment(ctx, { sequelize: db.sequelize, tickEveryMs: 60_000 });
+    // what the pipeline attaches to the loop's tracker (LoopAssessment.routine)
+    const routines = new Map<number, { label: string; at: number }>();
+    const svc = await startLiveAssessment(ctx, { sequelize: db.sequelize, tickEveryMs: 60_000, onRoutine: (id, r) => routines.set(id, r) });
     try {
       expect(svc.finding(fx.b.loopId)?.label).toBe("aggressive-tuning"); // restored
+      expect(routines.get(fx.b.loopId)).toMatchObject({ label: "aggressive-tuning", at: Date.UTC(2026, 11, 2, 9) }); // and handed to the tracker
       // Feed DEV recordings (sticking valve, aggressive tuning) as telemetry until one opens an item
       // (the first ones may read below the threshold on the service's one-hour window).
       const candidates = plan.filter((p) => p.label === "valve-stiction" || p.label === "aggressive-tuning").slice(0, 12);
@@ -194,6 +197,7 @@ describe("latest assessment stored, restored, and mailed to finding rules only",
         const t0 = Date.UTC(2026, 11, 2, 10);
         svc.push(fx.b.loopId, rec.samples.map((s) => ({ t: t0 + Math.round(s.t * 1000), sp: s.sp, pv: s.pv, mv: s.mv, mode: s.mode ?? "auto", ...(s.quality ? { quality: s.quality } : {}) })));
         const d = svc.assessor.assessNow(fx.b.loopId)!.report.diagnosis;
+        expect(routines.get(fx.b.loopId)?.label).toBe(d.label);
         await svc.flush();
         if (opensWorkItem(d)) {
           opened = d;

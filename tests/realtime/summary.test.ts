@@ -71,6 +71,8 @@ const BRIEF_KEYS: (keyof LoopStateBrief)[] = [
   // which poles the figures come from, and the slowest-decaying oscillating mode (its angle sets the gauge levels)
   "polesFrom",
   "oscillation",
+  // the routine-data verdict (label, confidence, time still needed) the tiles, list and order read
+  "routine",
 ];
 
 describe("loop summary (server/realtime/summary.ts)", () => {
@@ -103,6 +105,23 @@ describe("loop summary (server/realtime/summary.ts)", () => {
     // a full state still fits wherever a summary is expected (the REST list seeds the store)
     const asBrief: LoopStateBrief = s;
     expect(asBrief.spectralRadius).toBe(s.spectralRadius);
+  });
+
+  it("carries the routine-data verdict without its evidence, figures or period group", () => {
+    const s: LoopStateDto = {
+      ...fullState(),
+      routine: {
+        at: 1_700_000_000_123.4, label: "valve-stiction", confidence: 0.83456, needsS: null, reason: null,
+        evidence: ["likely valve stiction: the cycles have the shape of a stick-slip cycle"], windowS: 600,
+        oscillationPeriodS: 41.2, harrisIndex: null, stiction: "likely",
+        sharedOscillation: { periodS: 41.2, loops: [{ loopId: 2, tag: "FIC-2", periodS: 40.5 }] },
+      },
+    };
+    const b = toLoopBrief(s);
+    expect(b.routine).toEqual({ at: 1_700_000_000_123, label: "valve-stiction", confidence: 0.83, needsS: null });
+    expect(JSON.stringify(b)).not.toContain("evidence");
+    expect(toLoopBrief({ ...s, routine: { ...s.routine!, label: "undetermined", needsS: 1234.5 } }).routine?.needsS).toBe(1230);
+    expect(toLoopBrief(fullState()).routine).toBeNull();
   });
 
   it("is a fraction of the full state's JSON", () => {

@@ -49,6 +49,10 @@ const finding = (loopId: number, at: string, label: LoopFinding["label"], confid
   reason: null,
   evidence: [],
   windowS: 3600,
+  oscillationPeriodS: null,
+  harrisIndex: null,
+  stiction: "undetermined",
+  sharedOscillation: null,
 });
 
 /** The shape of the running pipeline the scheduler reads findings from (server/pipeline.ts). */

@@ -4,7 +4,6 @@
  * and always inside the transaction of the change itself (`inConfigTransaction`): the change and
  * its log row commit together or not at all, so no configuration changes without a trace.
  */
-import "server-only";
 import type { Transaction } from "sequelize";
 import { getDb } from "@/lib/data/db/sequelize";
 import type { TenantContext } from "@/lib/domain/types";

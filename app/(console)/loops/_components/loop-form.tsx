@@ -203,6 +203,14 @@ function LoopFormInner({ initial, loopId, sites }: LoopFormProps & { sites: Site
           hint={`Telemetry is averaged to this period so the dominant poles do not crowd at z = 1.${initial?.estimationProposedS ? ` Proposed: ${initial.estimationProposedS} s.` : ""}`}
         />
         <Field name="baselineTimeConstantS" label="Baseline closed-loop time constant, s (blank = none)" type="number" nullable {...p} />
+        <Field
+          name="deadTimeS"
+          label="Dead time, s (blank = from the latest applied step test)"
+          type="number"
+          nullable
+          {...p}
+          hint="For the Harris index of the routine-data finding; routine closed-loop data cannot tell it. Without it (and without an applied step test) the index stays empty."
+        />
       </fieldset>
 
       <fieldset className="grid gap-3 rounded-md border border-line bg-surface p-3 md:grid-cols-2">

@@ -1,5 +1,8 @@
 "use client";
-/** The loop inventory: search, filters, sortable health columns; worst first by default. */
+/**
+ * The loop inventory: search, filters, sortable health columns and the routine-data finding
+ * (from the loop's assessment, `state.routine`); worst first by default (lib/client/order.ts).
+ */
 import {
   createColumnHelper,
   flexRender,
@@ -16,6 +19,8 @@ import { TRACKER_STATES, roleAtLeast } from "@/lib/domain/types";
 import { fmt, fmtAge, fmtSeconds } from "@/lib/client/format";
 import { useDecayLevels, useLoops, useNow } from "@/lib/client/hooks";
 import { compareWorstFirst, dataAge, worstPriority } from "@/lib/client/order";
+import { FINDING_WORDS, findingRank } from "@/lib/domain/findings";
+import { FindingMark } from "@/app/_components/finding-mark";
 import { FilterCheck, FilterInput, FilterRow, FilterSelect } from "@/app/_components/form-field";
 import { PriorityMark } from "@/app/_components/priority-mark";
 import { SortableHead } from "@/app/_components/sortable-head";
@@ -34,6 +39,7 @@ export function LoopInventory({ role }: { role: Role }) {
   const [site, setSite] = useState("");
   const [tracker, setTracker] = useState("");
   const [alarmOnly, setAlarmOnly] = useState(false);
+  const [finding, setFinding] = useState("");
   const [sorting, setSorting] = useState<SortingState>([{ id: "worst", desc: false }]);
   const sites = useMemo(() => [...new Set(loops.map((l) => l.siteName))].sort(), [loops]);
   const rows = useMemo(() => {
@@ -43,9 +49,10 @@ export function LoopInventory({ role }: { role: Role }) {
         (!f || l.tag.toLowerCase().includes(f) || l.description.toLowerCase().includes(f) || (l.area ?? "").toLowerCase().includes(f)) &&
         (!site || l.siteName === site) &&
         (!tracker || l.state?.trackerState === tracker) &&
-        (!alarmOnly || worstPriority(l) !== null),
+        (!alarmOnly || worstPriority(l) !== null) &&
+        (!finding || (l.state?.routine ? FINDING_WORDS[l.state.routine.label] : "not judged yet") === finding),
     );
-  }, [loops, q, site, tracker, alarmOnly]);
+  }, [loops, q, site, tracker, alarmOnly, finding]);
   const num = (v: number | null | undefined) => (v == null || !Number.isFinite(v) ? null : v);
   const columns = useMemo(
     () => [
@@ -65,6 +72,13 @@ export function LoopInventory({ role }: { role: Role }) {
       col.accessor((l) => `${l.siteName}${l.area ? ` · ${l.area}` : ""}`, { id: "where", header: "Site · area" }),
       col.accessor("kind", { header: "Kind" }),
       col.accessor((l) => l.state?.trackerState ?? "", { id: "tracker", header: "Tracker", cell: (c) => <TrackerStateBadge state={c.row.original.state?.trackerState ?? null} reason={c.row.original.state?.stateReason} /> }),
+      // sorted by work first (findings that open a work-list item), then by confidence, highest first
+      col.accessor((l) => (l.state?.routine ? findingRank(l.state.routine) * 2 - l.state.routine.confidence : undefined), {
+        id: "finding",
+        header: "Finding",
+        sortUndefined: "last",
+        cell: (c) => <FindingMark finding={c.row.original.state?.routine} compact />,
+      }),
       col.accessor((l) => num(l.state?.spectralRadius), { id: "radius", header: "ρ", sortUndefined: "last", cell: (c) => <span className="num font-mono">{fmt(c.getValue())}</span> }),
       col.accessor((l) => num(l.state?.decayRatio), { id: "decay", header: "Decay ratio", sortUndefined: "last", cell: (c) => <span className="num font-mono">{fmt(c.getValue(), 2)}</span> }),
       col.accessor((l) => num(l.state?.dominant?.zeta), { id: "zeta", header: "ζ", sortUndefined: "last", cell: (c) => <span className="num font-mono">{fmt(c.getValue(), 2)}</span> }),
@@ -106,6 +120,7 @@ export function LoopInventory({ role }: { role: Role }) {
         <FilterInput label="Search" value={q} onChange={setQ} placeholder="tag, text, area" />
         <FilterSelect label="Site" value={site} onChange={setSite} options={sites} />
         <FilterSelect label="Tracker state" value={tracker} onChange={setTracker} options={TRACKER_STATES} />
+        <FilterSelect label="Finding" value={finding} onChange={setFinding} options={Object.values(FINDING_WORDS)} />
         <FilterCheck label="with alarms only" checked={alarmOnly} onChange={setAlarmOnly} />
       </FilterRow>
       {error && <p role="alert" className="text-urgent">Could not load loops: {error.message}</p>}

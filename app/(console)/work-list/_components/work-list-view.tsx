@@ -190,7 +190,7 @@ function WorkRow({ item: i, open, onToggle, children }: { item: WorkItemDto; ope
         <td className="px-2 py-1">{i.siteName}</td>
         <td className="px-2 py-1">
           <button type="button" className="hover:underline" aria-expanded={open} onClick={onToggle}>
-            <FindingMark finding={{ loopId: i.loopId, at: Date.parse(i.lastSeenAt), label: i.label, confidence: i.confidence, needsS: null, reason: null, evidence: i.evidence, windowS: 0 }} />
+            <FindingMark finding={{ label: i.label, confidence: i.confidence, needsS: null, evidence: i.evidence }} />
           </button>
         </td>
         <td className="px-2 py-1">{STATUS_WORDS[i.status]}</td>
