@@ -15,7 +15,7 @@ import { createFixture, type Fixture } from "../alarms/helpers";
 import { createTestDatabase, type TestDatabase } from "../setup/db";
 
 let current: TenantContext | null = null;
-vi.mock("@/lib/auth/guard", async () => (await import("../setup/guard-stand-in")).guardStandIn(() => current));
+vi.mock("@/lib/auth/guard", async () => (await import("@/tests/helpers/guard-stand-in")).guardStandIn({ currentUser: () => current }));
 vi.mock("@/lib/data/server-context", async (orig) => ({ ...(await orig<object>()), notifyUserChanged: () => {} }));
 
 const shiftsRoute = await import("@/app/api/admin/sites/[siteId]/shifts/route");

@@ -27,7 +27,7 @@ import { createFixture, FakeClock, testContext, type Fixture } from "../alarms/h
 import { createTestDatabase, type TestDatabase } from "../setup/db";
 
 let current: TenantContext | null = null;
-vi.mock("@/lib/auth/guard", async () => (await import("../setup/guard-stand-in")).guardStandIn(() => current));
+vi.mock("@/lib/auth/guard", async () => (await import("@/tests/helpers/guard-stand-in")).guardStandIn({ currentUser: () => current }));
 
 const route = await import("@/app/api/reports/fleet-health/route");
 const page = (await import("@/app/(console)/reports/fleet-health/page")).default;
