@@ -201,6 +201,8 @@ export class LoopTracker {
   private lastGood: { model: ArxModel; cov: number[][]; at: number } | null = null;
   /** Why the current estimate is not physical (null when it is), from the last state computation. */
   private implausible: string | null = null;
+  /** Why the model's radius is not trusted although the estimate is physical (null when it is; see `judgeRim`). */
+  private rimDoubt: string | null = null;
   /** Informative samples the plant estimate needs before it is reported. */
   private readonly minUpdates: number;
   /** Estimation samples without an informative one before the loop counts as `low-excitation`. */
@@ -670,6 +672,7 @@ export class LoopTracker {
     this.plant = this.plantFull;
     this.lastGood = null;
     this.implausible = null;
+    this.rimDoubt = null;
     this.data = this.makeDataEstimator();
     this.screen = new ResidualScreen();
     this.collapseInformative = -1;
@@ -711,6 +714,7 @@ export class LoopTracker {
       const what = `prediction error ${Number.isFinite(ratio) ? ratio.toFixed(1) : "several"} x its usual level`;
       return { state: "poor-fit", reason: `the plant model no longer fits the PV (${what}): figures not trusted until it fits again` };
     }
+    if (this.rimDoubt !== null) return { state: "poor-fit", reason: this.rimDoubt };
     if (this.implausible !== null) {
       if (!this.lastGood) return { state: "learning", reason: `plant model learning: the estimate so far is not physical (${this.implausible})` };
       const age = Math.round((this.estimationSamples - this.lastGood.at) * this.estimationPeriodS);
@@ -783,7 +787,7 @@ export class LoopTracker {
       this.lastGood = { model: this.plant.model(), cov: this.plant.parameterCovariance(), at: this.estimationSamples };
     }
     const now = this.clock.now();
-    const kind = this.currentKind(now);
+    let kind = this.currentKind(now);
     const st = this.emptyState(kind.state, kind.reason);
     st.at = now;
     st.excitation = this.plant.solved ? finite(this.plant.conditioning) : null;
@@ -803,6 +807,13 @@ export class LoopTracker {
     Object.assign(st, assessPoles(st.modelPoles, this.estimationPeriodS));
     // a root whose conditioning bound straddles |z| = 1: no Jury verdict either way ("undecided near the rim")
     st.rimUndecided = rimVerdict(poles) === "undecided";
+    this.rimDoubt = this.judgeRim(st);
+    if (this.rimDoubt !== null) {
+      st.rimUndecided = true;
+      kind = this.currentKind(now);
+      st.trackerState = kind.state;
+      st.stateReason = kind.reason;
+    }
     if (st.rimUndecided) st.juryStable = null;
     const t = sampleT / 1000;
     // the decay-ratio trend only while the alarms may act on the estimate (they reset it otherwise)
@@ -830,6 +841,23 @@ export class LoopTracker {
       if (!st.forecast.radiusOne && !alarmLevel) st.forecast = null;
     }
     this.state = st;
+  }
+
+  /**
+   * A radius at or beyond 1 whose own 95 % interval (delta method, `radiusSd`) reaches back inside
+   * the circle is no evidence of instability: the estimate is then ill-determined, as when an
+   * unmeasured periodic load drives the equation error (seen under a 40 s load cycle: radii
+   * 1.01-1.41 with sd 2.5-3.7 on stable loops). Such a state is `poor-fit` ("undecided near the
+   * rim", alarms held) rather than `tracking` with an unstable verdict. A radius inside the circle
+   * keeps its verdict; a well-determined radius beyond it stays an alarm.
+   */
+  private judgeRim(st: LoopStateDto): string | null {
+    const r = st.spectralRadius;
+    if (r === null || r < 1) return null;
+    const sd = st.radiusSd;
+    if (sd !== null && Number.isFinite(sd) && r - 1.959964 * sd >= 1) return null;
+    const spread = sd !== null && Number.isFinite(sd) ? ` ± ${fmt(1.959964 * sd)}` : " (no interval)";
+    return `radius ${fmt(r)}${spread} spans the unit circle: undecided near the rim, figures not trusted (an unmeasured periodic load or too little excitation?)`;
   }
 
   private dataPoles(): PoleDto[] {
@@ -962,6 +990,7 @@ export class LoopTracker {
       this.plantFull = plant;
       this.plantReduced = reduced;
       this.plant = this.choosePlant();
+      this.rimDoubt = null;
       this.data = data;
       this.prevSignals = pf.prev ? { ...pf.prev } : null;
       this.filtered = { ...pf.filtered };
