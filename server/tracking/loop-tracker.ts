@@ -53,24 +53,22 @@
  * prediction error (lib/control/robust.ts), and a sustained collapse of that error against its own
  * baseline is reported as `poor-fit` (the model figures are then not trusted, like low excitation).
  */
-import { ArxEstimator, type ArxEstimatorState } from "@/lib/control/arx";
-import { InstrumentalArxEstimator, type InstrumentalArxState } from "@/lib/control/riv";
-import { closedLoopPolynomial, discretePid, gainHeadroom } from "@/lib/control/closed-loop";
-import { closedLoopCoefficientCovariance, poleConfidence } from "@/lib/control/confidence";
-import { forecastCrossing } from "@/lib/control/forecast";
-import { juryTest } from "@/lib/control/jury";
-import { polyMul, qToZ, stripLeadingZeros } from "@/lib/control/poly";
-import { ArxPredictor, ResidualScreen, type ResidualScreenState } from "@/lib/control/robust";
-import { polyRoots } from "@/lib/control/roots";
-import { polyRootsWithBounds, rimVerdict } from "@/lib/control/root-bounds";
+import { ArxEstimator } from "@/lib/control/arx";
+import { InstrumentalArxEstimator } from "@/lib/control/riv";
+import { discretePid, gainHeadroom } from "@/lib/control/closed-loop";
+import { ArxPredictor, ResidualScreen } from "@/lib/control/robust";
+import { rimVerdict } from "@/lib/control/root-bounds";
 import { DEFAULT_POLICY } from "@/lib/domain/alarms/policy";
 import { NON_TRACKING } from "@/lib/domain/alarms/conditions";
-import { assessPoles, effectivePoles, effectivePolesSource, type Crossing } from "@/lib/domain/assessment";
+import { assessPoles, effectivePoles, effectivePolesSource } from "@/lib/domain/assessment";
 import { FigureTrend } from "@/lib/domain/trend";
-import type { ArxModel, Complex, QTf } from "@/lib/control/types";
+import type { ArxModel, QTf } from "@/lib/control/types";
 import { judgeSampleQuality, valueUsable } from "@/lib/domain/sample-quality";
-import type { LoopMode, LoopStateDto, PoleDto, SampleDto, TrackerState } from "@/lib/domain/types";
+import type { LoopMode, LoopStateDto, SampleDto, TrackerState } from "@/lib/domain/types";
 import type { Clock } from "../context";
+import { checkpointProblem, NEVER, type EstimationInput, type PendingSample, type TrackerCheckpoint } from "./checkpoint";
+import { dataPolesOf, fillModelFigures, finite, fmt, forecastRadiusOne, rimDoubt } from "./figures";
+import { choosePlant, plausibility } from "./plant-choice";
 import { QualityWindow } from "./quality-window";
 import type { LoopConfig } from "./types";
 
@@ -109,68 +107,8 @@ export interface LoopTrackerOptions {
   flatSeconds?: number;
 }
 
-/** One estimation sample (block averages, % of span) with its flags. */
-interface EstimationInput {
-  u: number;
-  y: number;
-  r: number;
-  manual: boolean;
-  saturated: boolean;
-  flat: boolean;
-  t: number;
-  bad: boolean;
-  /** A sample of the block was stood in whole (an uncertain one, an unusable MV or SP): never learnt from. */
-  whole?: boolean;
-  /** The a-priori prediction error before an outlier was bounded (the fit watch takes the raw one). */
-  rawE?: number;
-}
-
-/** A sample with a large prediction error, waiting for the next one to tell an outlier from a change. */
-interface PendingSample {
-  sample: EstimationInput;
-  /** The raw PV (% of span) that bounds its prediction error, and the error itself. */
-  yBounded: number;
-  rawE: number;
-}
-
-/** "Never" in a checkpoint (JSON cannot carry -Infinity): an estimation-sample index no loop reaches. */
-const NEVER = -1e15;
-
-/** Serialisable tracker state (estimators and the radius history), for checkpoints. */
-export interface TrackerCheckpoint {
-  version: 2;
-  loopId: number;
-  /** The structure the estimators were built for; a restore into a different one is refused. */
-  structure: { na: number; nb: number; nk: number; estimationPeriodS: number; dataOrder: number };
-  /** Plant estimator of the configured structure, and the one with a pole fewer (null when na = 1). */
-  plant: InstrumentalArxState;
-  plantReduced: InstrumentalArxState | null;
-  /** Last plausible plant model (held while the current estimate is not physical). */
-  lastGood?: { model: ArxModel; cov: number[][]; at: number } | null;
-  data: ArxEstimatorState;
-  estimationSamples: number;
-  lastPlantUpdate: number;
-  lastSpMove: number;
-  samplesSeen: number;
-  radiusHistory: { t: number; value: number }[];
-  yVariance: number;
-  yMean: number;
-  /** Prefilter state: last raw signals and the filtered values. */
-  prefilter: { prev: { u: number; y: number; r: number } | null; filtered: { u: number; y: number; r: number } };
-  /** Residual screen and its predictor history (absent in older checkpoints: they start afresh). */
-  robust?: { screen: ResidualScreenState; predictor: { y: number[]; u: number[] }; taint: number; collapseInformative: number; pending: PendingSample | null } | null;
-}
-
-function finite(x: number | null | undefined): number | null {
-  return x !== null && x !== undefined && Number.isFinite(x) ? x : null;
-}
-
 function clipPct(x: number): number {
   return x > CLIP_PCT ? CLIP_PCT : x < -CLIP_PCT ? -CLIP_PCT : x;
-}
-
-function modulus(z: Complex): number {
-  return Math.hypot(z.re, z.im);
 }
 
 export class LoopTracker {
@@ -621,41 +559,6 @@ export class LoopTracker {
     return p.solved && p.informative >= this.minUpdates && p.conditioning > 1e-9;
   }
 
-  /**
-   * Structure choice, at state time: the configured structure while its plant poles are those
-   * a sampled continuous plant can have, else the one with a pole fewer. A zero-order-hold
-   * sampled plant has poles exp(s T) (Åström & Wittenmark, *Computer-Controlled Systems*, 3rd
-   * ed., 1997, sec. 2.3): a real pole below 0 has no continuous counterpart, and a stable or
-   * integrating process none outside the unit circle. The ill-determined extra pole of an
-   * over-parameterised IV fit lands exactly there (negative real or far outside), while a true
-   * second-order plant keeps its poles inside at the periods the period proposal aims at. When
-   * both are implausible, the closed-loop simulation error over the set-point responses decides.
-   */
-  /**
-   * Null when the estimate is one a sampled plant under this controller can be: poles as in
-   * `plausiblePlantPoles`, and a process gain B(1) of the sign the controller action implies
-   * (reverse action for a rising process, common practice); else the reason.
-   */
-  private plausibility(p: InstrumentalArxEstimator): string | null {
-    if (!plausiblePlantPoles(p.theta.subarray(0, p.na))) return "plant poles no sampled process has";
-    let gain = 0;
-    for (let j = p.na; j < p.d; j++) gain += p.theta[j]!;
-    const want = this.config.controller.action === "reverse" ? 1 : -1;
-    if (!(gain * want > 0)) return "process gain of the wrong sign for the controller action";
-    return null;
-  }
-
-  private choosePlant(): InstrumentalArxEstimator {
-    const red = this.plantReduced;
-    if (!red || !this.plantReady(red)) return this.plantFull;
-    if (!this.plantReady(this.plantFull)) return red;
-    if (this.plausibility(this.plantFull) === null) return this.plantFull;
-    if (this.plausibility(red) === null) return red;
-    const ef = this.plantFull.simulationError();
-    const er = red.simulationError();
-    return Number.isFinite(ef) && (!Number.isFinite(er) || ef < er) ? this.plantFull : red;
-  }
-
   private parametersFinite(): boolean {
     const a = this.plantFull.theta;
     const a2 = this.plantReduced?.theta ?? a;
@@ -780,8 +683,8 @@ export class LoopTracker {
   }
 
   private computeState(sampleT: number): void {
-    this.plant = this.choosePlant();
-    this.implausible = this.plantReady() ? this.plausibility(this.plant) : null;
+    this.plant = choosePlant(this.plantFull, this.plantReduced, (p) => this.plantReady(p), this.config.controller.action);
+    this.implausible = this.plantReady() ? plausibility(this.plant, this.config.controller.action) : null;
     if (this.plantReady() && this.implausible === null) {
       // the current estimate, kept as the last good one (the same objects feed the figures below)
       this.lastGood = { model: this.plant.model(), cov: this.plant.parameterCovariance(), at: this.estimationSamples };
@@ -796,9 +699,9 @@ export class LoopTracker {
     // data-only poles
     const memorySamples = this.memory;
     st.dataPolesKind = this.estimationSamples - this.lastSpMove <= memorySamples ? "closed-loop" : "disturbance-response";
-    if (this.data.updates >= Math.max(50, 10 * this.dataOrder)) st.dataPoles = this.dataPoles();
+    if (this.data.updates >= Math.max(50, 10 * this.dataOrder)) st.dataPoles = dataPolesOf(this.data);
     if (this.plantReady()) {
-      if (this.lastGood) this.modelBased(st, this.lastGood.model, this.lastGood.cov);
+      if (this.lastGood) fillModelFigures(st, this.lastGood.model, this.lastGood.cov, this.controller, () => this.headroom(this.lastGood!.model));
     }
     const poles = effectivePoles(st);
     // the figures come from the model-based poles only: data-only poles alone (while the plant is
@@ -807,7 +710,7 @@ export class LoopTracker {
     Object.assign(st, assessPoles(st.modelPoles, this.estimationPeriodS));
     // a root whose conditioning bound straddles |z| = 1: no Jury verdict either way ("undecided near the rim")
     st.rimUndecided = rimVerdict(poles) === "undecided";
-    this.rimDoubt = this.judgeRim(st);
+    this.rimDoubt = rimDoubt(st);
     if (this.rimDoubt !== null) {
       st.rimUndecided = true;
       kind = this.currentKind(now);
@@ -827,7 +730,7 @@ export class LoopTracker {
         let drop = 0;
         while (drop < this.radiusHistory.length && this.radiusHistory[drop]!.t < cutoff) drop++;
         if (drop > 0) this.radiusHistory.splice(0, drop);
-        this.cachedForecast = { alarmLevel: null, radiusOne: this.forecastRadiusOne() };
+        this.cachedForecast = { alarmLevel: null, radiusOne: forecastRadiusOne(this.radiusHistory, this.memory * this.estimationPeriodS) };
       }
       st.forecast = this.cachedForecast;
     } else {
@@ -843,84 +746,12 @@ export class LoopTracker {
     this.state = st;
   }
 
-  /**
-   * A radius at or beyond 1 whose own 95 % interval (delta method, `radiusSd`) reaches back inside
-   * the circle is no evidence of instability: the estimate is then ill-determined, as when an
-   * unmeasured periodic load drives the equation error (seen under a 40 s load cycle: radii
-   * 1.01-1.41 with sd 2.5-3.7 on stable loops). Such a state is `poor-fit` ("undecided near the
-   * rim", alarms held) rather than `tracking` with an unstable verdict. A radius inside the circle
-   * keeps its verdict; a well-determined radius beyond it stays an alarm.
-   */
-  private judgeRim(st: LoopStateDto): string | null {
-    const r = st.spectralRadius;
-    if (r === null || r < 1) return null;
-    const sd = st.radiusSd;
-    if (sd !== null && Number.isFinite(sd) && r - 1.959964 * sd >= 1) return null;
-    const spread = sd !== null && Number.isFinite(sd) ? ` ± ${fmt(1.959964 * sd)}` : " (no interval)";
-    return `radius ${fmt(r)}${spread} spans the unit circle: undecided near the rim, figures not trusted (an unmeasured periodic load or too little excitation?)`;
-  }
-
-  private dataPoles(): PoleDto[] {
-    try {
-      const m = this.data.model();
-      const coeffs = [1, ...m.a];
-      const roots = polyRoots(coeffs);
-      const cov = this.data.parameterCovariance().slice(0, m.a.length).map((row) => row.slice(0, m.a.length));
-      let conf: ReturnType<typeof poleConfidence> | null = null;
-      try {
-        conf = poleConfidence(coeffs, cov, { roots });
-      } catch {
-        conf = null;
-      }
-      const bounded = polyRootsWithBounds(coeffs, { roots });
-      return roots.map((z, i) => toPoleDto(z, conf?.[i], bounded[i]?.bound));
-    } catch {
-      return [];
+  /** Gain headroom of the reported model; the search costs as much as the rest of a state together, so it is refreshed every 5 states. */
+  private headroom(model: ArxModel): number | null {
+    if (this.estimationSamples - this.cachedHeadroom.at >= 5 * this.stateEvery) {
+      this.cachedHeadroom = { value: finite(gainHeadroom(model, this.controller)), at: this.estimationSamples };
     }
-  }
-
-  private modelBased(st: LoopStateDto, model: ArxModel, cov: number[][]): void {
-    try {
-      const char = closedLoopPolynomial(model, this.controller);
-      const roots = polyRoots(char);
-      if (roots.some((z) => !Number.isFinite(z.re) || !Number.isFinite(z.im))) return;
-      let conf: ReturnType<typeof poleConfidence> | null = null;
-      try {
-        const cc = closedLoopCoefficientCovariance(model, this.controller, cov);
-        conf = cc.coeffs.length === char.length ? poleConfidence(char, cc.covariance, { roots }) : null;
-      } catch {
-        conf = null;
-      }
-      st.characteristic = char.every(Number.isFinite) ? char : null;
-      const bounded = polyRootsWithBounds(char, { roots });
-      st.modelPoles = roots.map((z, i) => toPoleDto(z, conf?.[i], bounded[i]?.bound));
-      st.juryStable = juryTest(char).stable;
-      // the headroom search costs as much as the rest together: refreshed every 5 states
-      if (this.estimationSamples - this.cachedHeadroom.at >= 5 * this.stateEvery) {
-        this.cachedHeadroom = { value: finite(gainHeadroom(model, this.controller)), at: this.estimationSamples };
-      }
-      st.gainHeadroom = this.cachedHeadroom.value;
-      const num = stripLeadingZeros(polyMul(qToZ(model.b), qToZ(this.controller.num)));
-      st.zeros = num.length > 1 && num.every(Number.isFinite) ? polyRoots(num).filter((z) => Number.isFinite(z.re) && Number.isFinite(z.im)) : [];
-    } catch {
-      // a degenerate model (e.g. all-zero b): keep the state without model-based figures
-      st.modelPoles = [];
-      st.gainHeadroom = null;
-      st.juryStable = null;
-      st.characteristic = null;
-      st.zeros = [];
-    }
-  }
-
-  /** When the spectral-radius trend reaches the unit circle. */
-  private forecastRadiusOne(): Crossing | null {
-    try {
-      const f = forecastCrossing(this.radiusHistory, 1, { memory: this.memory * this.estimationPeriodS });
-      if (!f || !Number.isFinite(f.at) || !Number.isFinite(f.low) || !Number.isFinite(f.high)) return null;
-      return { at: Math.round(f.at * 1000), low: Math.round(f.low * 1000), high: Math.round(f.high * 1000) };
-    } catch {
-      return null;
-    }
+    return this.cachedHeadroom.value;
   }
 
   /** Plant model (for diagnostics and tests). */
@@ -963,33 +794,20 @@ export class LoopTracker {
     try {
       if (!cp || cp.version !== 2) return { ok: false, reason: "unknown checkpoint version (made before the instrumental-variable plant estimator)" };
       if (cp.loopId !== this.config.id) return { ok: false, reason: `checkpoint of loop ${cp.loopId}, not ${this.config.id}` };
-      const s = cp.structure;
-      if (s.na !== this.config.na || s.nb !== this.config.nb || s.nk !== this.config.nk || s.estimationPeriodS !== this.estimationPeriodS || s.dataOrder !== this.dataOrder) {
-        return { ok: false, reason: "checkpoint was made for another model structure or estimation period" };
-      }
+      const bad = checkpointProblem(cp, { na: this.config.na, nb: this.config.nb, nk: this.config.nk, estimationPeriodS: this.estimationPeriodS, dataOrder: this.dataOrder });
+      if (bad !== null) return { ok: false, reason: bad };
       const plant = InstrumentalArxEstimator.fromJSON(cp.plant);
       const reduced = cp.plantReduced ? InstrumentalArxEstimator.fromJSON(cp.plantReduced) : null;
       if (plant.na !== this.config.na || (reduced === null) !== (this.config.na < 2) || (reduced !== null && reduced.na !== this.config.na - 1)) {
         return { ok: false, reason: "checkpoint was made for another model structure or estimation period" };
       }
       const data = ArxEstimator.fromJSON(cp.data);
-      const nums = [cp.estimationSamples, cp.lastPlantUpdate, cp.lastSpMove, cp.samplesSeen, cp.yVariance, cp.yMean];
-      if (!nums.every((v) => typeof v === "number" && Number.isFinite(v))) return { ok: false, reason: "checkpoint counters are not finite numbers" };
-      if (!Array.isArray(cp.radiusHistory) || !cp.radiusHistory.every((p) => Number.isFinite(p?.t) && Number.isFinite(p?.value))) {
-        return { ok: false, reason: "checkpoint radius history is malformed" };
-      }
       const pf = cp.prefilter;
-      const triple = (v: unknown): v is { u: number; y: number; r: number } =>
-        !!v && typeof v === "object" && ["u", "y", "r"].every((k) => Number.isFinite((v as Record<string, unknown>)[k]));
-      if (!pf || !triple(pf.filtered) || (pf.prev !== null && !triple(pf.prev))) return { ok: false, reason: "checkpoint prefilter state is malformed" };
       const lg = cp.lastGood;
-      if (lg && !(Array.isArray(lg.model?.a) && Array.isArray(lg.model?.b) && [...lg.model.a, ...lg.model.b, lg.at].every(Number.isFinite) && Array.isArray(lg.cov))) {
-        return { ok: false, reason: "checkpoint last good model is malformed" };
-      }
       this.lastGood = lg ? { model: { ...lg.model, a: [...lg.model.a], b: [...lg.model.b] }, cov: lg.cov.map((r) => [...r]), at: lg.at } : null;
       this.plantFull = plant;
       this.plantReduced = reduced;
-      this.plant = this.choosePlant();
+      this.plant = choosePlant(this.plantFull, this.plantReduced, (p) => this.plantReady(p), this.config.controller.action);
       this.rimDoubt = null;
       this.data = data;
       this.prevSignals = pf.prev ? { ...pf.prev } : null;
@@ -1022,31 +840,6 @@ export class LoopTracker {
       return { ok: false, reason: `checkpoint rejected: ${(e as Error).message}` };
     }
   }
-}
-
-/** Plant poles (roots of 1 + a1 z^-1 + ...) inside radius 1.02 and no real pole below -0.05. */
-function plausiblePlantPoles(a: ArrayLike<number>): boolean {
-  const coeffs = [1];
-  for (let i = 0; i < a.length; i++) coeffs.push(a[i]!);
-  if (!coeffs.every(Number.isFinite)) return false;
-  let roots: Complex[];
-  try {
-    roots = polyRoots(coeffs);
-  } catch {
-    return false;
-  }
-  return roots.every((z) => modulus(z) <= 1.02 && !(Math.abs(z.im) < 1e-9 && z.re < -0.05));
-}
-
-function toPoleDto(z: Complex, c: { radiusStd: number; covariance: [[number, number], [number, number]] } | undefined, bound?: number): PoleDto {
-  const sd = c ? finite(c.radiusStd) : null;
-  const cov = c ? ([c.covariance[0][0], c.covariance[0][1], c.covariance[1][1]] as [number, number, number]) : null;
-  return { re: z.re, im: z.im, radius: modulus(z), sdRadius: sd, cov: cov && cov.every(Number.isFinite) ? cov : null, bound: bound !== undefined && Number.isFinite(bound) ? bound : null };
-}
-
-function fmt(v: number | null): string {
-  if (v === null) return "?";
-  return Math.abs(v) >= 1000 || Number.isInteger(v) ? String(Math.round(v * 100) / 100) : v.toPrecision(4);
 }
 
 /** Throws RangeError naming the first field that cannot configure a tracker. */
