@@ -1,57 +1,24 @@
 /**
- * One loop's tracker (docs/architecture.md §4): telemetry in, a `LoopStateDto` out.
- *
- * Per telemetry sample: PV, SP and MV are scaled to % of their spans (the units of the
- * controller's %/% gains), clipped to ±10,000 % so hostile-but-valid numbers cannot overflow the
- * estimators, and averaged over `decimation` samples (estimation period Te = decimation x the
- * telemetry period: block averaging is the anti-alias filter). Per estimation sample:
- * 1. plant model MV -> PV: `InstrumentalArxEstimator` (lib/control/riv.ts; na, nb, nk from the
- *    loop's configuration, and a second one with na - 1): closed-loop instrumental variables with
- *    set-point instruments, then auxiliary-model instruments from the loop's own controller
- *    (least squares is biased by PV noise in closed loop: docs/domain.md §3). It learns only from informative
- *    samples (a set-point move, or an operator's MV move in manual), so the estimate is held,
- *    not drifted, while nothing excites it; it pauses while the MV is pinned at a limit or the
- *    PV is flat-lined. The structure with a pole fewer is reported when the configured one has
- *    plant poles no sampled process has (the over-parameterised IV fit's extra pole), and an
- *    estimate that is not physical (such poles, or a process gain of the wrong sign for the
- *    controller action) is replaced by the last good one, reported as `low-excitation` with its age. The operating point is removed by passing u, y and
- *    the set point alike through the leaky differencer L(q) = (1 - q^-1)/(1 - 0.9 q^-1): a linear
- *    filter applied to input and output leaves the ARX relation intact (prefiltering, Ljung,
- *    *System Identification*, 2nd ed., 1999, sec. 14.1). It removes the level AND slow load
- *    drift, which enters the equation error as strongly coloured noise and biases a closed-loop
- *    ARX estimate, without the high-frequency noise gain of a pure difference. The pole 0.9 (per
- *    estimation sample) keeps the band of the dominant modes (wn Te about 0.1-0.6);
- * 2. closed-loop poles two ways:
- *    - model-based: `closedLoopPolynomial(plant model, controller)`. The controller is the loop's
- *      configured PI/PID through `discretePid` AT THE ESTIMATION PERIOD Te. When Te equals the
- *      controller's execution period Tc this is exactly the loop as it runs. When the telemetry
- *      is decimated (Te > Tc) the plant model exists only at Te, so the controller is
- *      re-discretised at Te with the same continuous tuning (backward differences) instead of
- *      mapping a model we do not have down to Tc. The dominant poles then approximate the true
- *      ones as long as Te keeps wn Te in the 0.1-0.6 range the period proposal aims at; decay
- *      ratio, damping and wn are period-invariant, radii are those at Te (the DTO says which
- *      period: `estimationPeriodS`).
- *    - data-only: an ARX model SP -> PV of the closed loop (order = the closed-loop degree, at
- *      most 8) by RLS without gating. While the set point has not moved within the estimator's
- *      memory its regressors in SP are empty and it is an AR model of the PV: the
- *      disturbance-response poles, biased by the disturbance's own dynamics, labelled so.
- * 3. the loop's assessment (lib/domain/assessment.ts, from the model-based poles): radius, rim
- *    distance, the decay ratio of the slowest-decaying oscillating mode, Jury verdict, dominant
- *    pole's zeta / wn / tau, gain headroom, radius confidence (delta method), and the rim
- *    forecast: the decay-ratio trend to the loop's alarm level and the radius trend to 1, over
- *    windows far longer than the estimator's memory.
+ * One loop's tracker (docs/architecture.md §4): telemetry in, a `LoopStateDto` out. The seams:
+ * - conditioning (./conditioning.ts): scaling to % of span, block averaging to the estimation
+ *   period Te, limit / flat-line / bad-run detectors, sample quality and the operating-point
+ *   prefilter;
+ * - plant choice (./plant-choice.ts): two closed-loop instrumental-variable estimators of the
+ *   plant MV -> PV (lib/control/riv.ts: least squares is biased by PV noise in closed loop,
+ *   docs/domain.md §3), the configured structure and one with a pole fewer, because an
+ *   over-parameterised IV fit is ill-determined along its pole-zero cancellation and shows a
+ *   spurious pole; an estimate no sampled plant can have is replaced by the last good one;
+ * - state (./tracker-state.ts and `currentKind`): learning, tracking, low-excitation, poor-fit,
+ *   saturated, manual, stale, each with its reason, so that alarms act only on a trusted model;
+ * - figures (./figures.ts): closed-loop poles of the plant model under the loop's controller
+ *   re-discretised at Te (the plant model exists only at Te; decay ratio, damping and wn are
+ *   period-invariant), the data-only poles, and the assessment (lib/domain/assessment.ts);
+ * - checkpoint (./checkpoint.ts): the estimator state across restarts.
+ * Why learning is gated: the estimators learn only from informative samples (a set-point move, or
+ * an operator's MV move in manual), so the estimate is held, not drifted by noise, while nothing
+ * excites it; an isolated PV outlier is bounded by a residual test on the a-priori prediction
+ * error (lib/control/robust.ts) and a sustained rise of that error makes the loop `poor-fit`.
  * A full state is computed at most once per second of telemetry time (and on state changes).
- * `stale`: no message for 3 delivery periods (the telemetry period times the samples per
- * message, so a batching gateway does not flap), or a PV repeated exactly for 30 s, or a run of
- * bad-quality samples (a sensor fault).
- * Sample quality (lib/domain/sample-quality.ts): a bad or uncertain sample (fault code, out of range,
- * the gateway's word) never reaches an estimator or a statistic. It stands in the decimation
- * block as the last good value (so the estimation clock keeps its period) and the estimation
- * samples whose regressors hold it update nothing. The tracker counts quality over a recent window
- * and remembers the last bad sample (`sampleQuality` in the state: input to a sensor-fault finding).
- * Isolated in-range PV outliers are bounded by a residual test on the plant model's a-priori
- * prediction error (lib/control/robust.ts), and a sustained collapse of that error against its own
- * baseline is reported as `poor-fit` (the model figures are then not trusted, like low excitation).
  */
 import { ArxEstimator } from "@/lib/control/arx";
 import { InstrumentalArxEstimator } from "@/lib/control/riv";
@@ -63,33 +30,21 @@ import { NON_TRACKING } from "@/lib/domain/alarms/conditions";
 import { assessPoles, effectivePoles, effectivePolesSource } from "@/lib/domain/assessment";
 import { FigureTrend } from "@/lib/domain/trend";
 import type { ArxModel, QTf } from "@/lib/control/types";
-import { judgeSampleQuality, valueUsable } from "@/lib/domain/sample-quality";
-import type { LoopMode, LoopStateDto, SampleDto, TrackerState } from "@/lib/domain/types";
+import type { LoopStateDto, SampleDto, TrackerState } from "@/lib/domain/types";
 import type { Clock } from "../context";
 import { checkpointProblem, NEVER, type EstimationInput, type PendingSample, type TrackerCheckpoint } from "./checkpoint";
 import { dataPolesOf, fillModelFigures, finite, fmt, forecastRadiusOne, rimDoubt } from "./figures";
 import { choosePlant, plausibility } from "./plant-choice";
-import { QualityWindow } from "./quality-window";
+import { BAD_RUN, LIMIT_RUN, PREFILTER_POLE, SignalConditioner } from "./conditioning";
+import { emptyState, validateConfig, type EmptyStateInput } from "./tracker-state";
 import type { LoopConfig } from "./types";
 
-/** Normalised signals are clipped to this many % of span (100 x the span either way). */
-const CLIP_PCT = 10_000;
-/** An MV within this fraction of its span of a limit counts as at the limit. */
-const LIMIT_TOLERANCE = 5e-4;
-/** Consecutive samples at a limit before the loop counts as saturated. */
-const LIMIT_RUN = 3;
-/** Pole of the operating-point prefilter L(q) = (1 - q^-1)/(1 - c q^-1). */
-const PREFILTER_POLE = 0.9;
 /** Largest order of the data-only closed-loop model. */
 const MAX_DATA_ORDER = 8;
 /** Smallest prefiltered instrument (% of span) that counts as information (a set-point move of 0.05 % decays below it in ~40 samples). */
 const INSTRUMENT_THRESHOLD_PCT = 1e-3;
 /** Seconds without an informative sample (set-point or manual move) before `low-excitation`, at least one estimator memory. */
 const HOLD_S = 900;
-/** Bad-quality samples in a row before the loop counts as `stale` (sensor fault). */
-const BAD_RUN = 3;
-/** Seconds of samples in the quality window of the state. */
-const QUALITY_WINDOW_S = 600;
 
 export interface LoopTrackerOptions {
   clock: Clock;
@@ -107,10 +62,6 @@ export interface LoopTrackerOptions {
   flatSeconds?: number;
 }
 
-function clipPct(x: number): number {
-  return x > CLIP_PCT ? CLIP_PCT : x < -CLIP_PCT ? -CLIP_PCT : x;
-}
-
 export class LoopTracker {
   config: LoopConfig;
   readonly decimation: number;
@@ -124,7 +75,8 @@ export class LoopTracker {
   private readonly alarmDecayRatio: (loopId: number) => number;
   private cachedHeadroom: { value: number | null; at: number } = { value: null, at: -Infinity };
   private readonly stateEvery: number;
-  private readonly flatLimit: number;
+  /** Scaling, decimation, detectors, sample quality and the prefilter (./conditioning.ts). */
+  private readonly cond: SignalConditioner;
   private controller: QTf;
   /** The plant model as reported: `plantFull` or `plantReduced`, whichever simulates the loop better. */
   private plant: InstrumentalArxEstimator;
@@ -146,33 +98,7 @@ export class LoopTracker {
   /** Estimation samples without an informative one before the loop counts as `low-excitation`. */
   private readonly holdSamples: number;
   private readonly memory: number;
-  // decimation accumulators
-  private accY = 0;
-  private accU = 0;
-  private accR = 0;
-  private accN = 0;
-  private accManual = false;
-  private accSaturated = false;
-  private accFlat = false;
-  // per-sample detectors
-  private lastPv: number | null = null;
-  private flatRun = 0;
-  private limitRun = 0;
-  private limitSide: "high" | "low" | null = null;
-  private lastMode: LoopMode | null = null;
   private lastR: number | null = null;
-  private prevSignals: { u: number; y: number; r: number } | null = null;
-  private filtered = { u: 0, y: 0, r: 0 };
-  // sample quality and robustness (see the module comment)
-  private readonly quality: QualityWindow;
-  /** Last good normalised signals: what a bad sample stands in as (null before the first good one). */
-  private held: { y: number; u: number; r: number } | null = null;
-  private accBad = false;
-  /** The block holds a sample stood in whole (not only its PV): it is never learnt from. */
-  private accWhole = false;
-  /** Zeros stood in for bad samples before any good one (see `ingest`). */
-  private standIns = false;
-  private badRun = 0;
   /** Estimation samples still to skip because their regressors hold a stood-in value. */
   private taint = 0;
   private screen = new ResidualScreen();
@@ -182,18 +108,6 @@ export class LoopTracker {
   private pending: PendingSample | null = null;
 
 
-  /** L(q) = (1 - q^-1) / (1 - c q^-1) applied to u, y and r alike; null for the first sample. */
-  private prefilter(u: number, y: number, r: number): { u: number; y: number; r: number } | null {
-    const prev = this.prevSignals;
-    this.prevSignals = { u, y, r };
-    if (!prev) return null;
-    const c = PREFILTER_POLE;
-    const f = this.filtered;
-    f.u = c * f.u + (u - prev.u);
-    f.y = c * f.y + (y - prev.y);
-    f.r = c * f.r + (r - prev.r);
-    return f;
-  }
   // counters (in estimation samples unless said otherwise)
   private estimationSamples = 0;
   private lastPlantUpdate = -Infinity;
@@ -203,7 +117,6 @@ export class LoopTracker {
   private yMean = 0;
   private yVariance = 0;
   private radiusHistory: { t: number; value: number }[] = [];
-  private lastSample: SampleDto | null = null;
   private receivedAt: number | null = null;
   private deliveryPeriodMs = 0;
   private state: LoopStateDto;
@@ -218,7 +131,7 @@ export class LoopTracker {
     this.decimation = Math.max(1, Math.round(config.estimationPeriodS / config.telemetryPeriodS));
     this.estimationPeriodS = this.decimation * config.telemetryPeriodS;
     this.stateEvery = Math.max(1, Math.round((options.stateEveryS ?? 1) / this.estimationPeriodS));
-    this.flatLimit = Math.max(20, Math.ceil((options.flatSeconds ?? 30) / config.telemetryPeriodS));
+    this.cond = new SignalConditioner(config, this.decimation, Math.max(20, Math.ceil((options.flatSeconds ?? 30) / config.telemetryPeriodS)));
     this.controller = this.makeController();
     const lambda = config.forgetting ?? 0.995;
     this.memory = 1 / (1 - lambda);
@@ -240,8 +153,7 @@ export class LoopTracker {
     this.dataOrder = Math.min(MAX_DATA_ORDER, Math.max(2, degree));
     this.data = this.makeDataEstimator();
     this.predictor = new ArxPredictor(config.na, config.nk + config.nb);
-    this.quality = new QualityWindow(Math.max(60, Math.min(6000, Math.ceil(QUALITY_WINDOW_S / config.telemetryPeriodS))));
-    this.state = this.emptyState("learning", "waiting for telemetry");
+    this.state = emptyState(this.stateInput(), "learning", "waiting for telemetry");
   }
 
   private makeController(): QTf {
@@ -292,6 +204,7 @@ export class LoopTracker {
       old.mvHi === config.mvHi;
     if (!sameStructure) return "relearn";
     this.config = config;
+    this.cond.config = config;
     this.controller = this.makeController();
     this.cachedHeadroom = { value: null, at: -Infinity };
     return "kept";
@@ -321,11 +234,13 @@ export class LoopTracker {
         this.outOfOrder++;
         continue;
       }
-      if (this.lastSample && s.t <= this.lastSample.t) {
+      if (this.cond.lastSample && s.t <= this.cond.lastSample.t) {
         this.outOfOrder++;
         continue;
       }
-      if (this.ingest(s)) computed = true;
+      this.samplesSeen++;
+      const block = this.cond.ingest(s);
+      if (block && this.estimate(block.u, block.y, block.r, block.manual, block.saturated, block.flat, block.t, block.bad, block.whole)) computed = true;
     }
     const kind = this.currentKind(this.clock.now());
     if (!computed && kind.state !== prevKind && this.samplesSeen > 0) {
@@ -335,76 +250,6 @@ export class LoopTracker {
     return computed ? this.state : null;
   }
 
-  private ingest(s: SampleDto): boolean {
-    const c = this.config;
-    this.samplesSeen++;
-    // ingest has judged the sample already; judging again covers direct callers and a range changed since
-    const q = judgeSampleQuality(s, c);
-    this.lastSample = { t: s.t, sp: s.sp, pv: s.pv, mv: s.mv, mode: s.mode, ...(q.reason === null ? {} : { quality: q.quality, qualityReason: q.reason }) };
-    this.quality.add(q.quality, q.reason, s.t);
-    this.lastMode = s.mode;
-    let y: number, u: number, r: number;
-    if (q.reason !== null) {
-      // not good: the last good value stands in; `estimate` puts a trusted model's prediction in
-      // its place, or (no trusted model) lets its block update nothing
-      if (q.quality === "bad") this.badRun++;
-      const last = this.held ?? this.prevSignals; // after a restore: the prefilter's last input
-      if (last) {
-        ({ y, u, r } = last);
-        // a bad PV beside a good MV and SP: those are kept (and the block may be learnt from with
-        // the model's prediction for the PV); anything else stands in whole and is not learnt from
-        const pvOnly = (q.reason === "fault-value" || q.reason === "out-of-range") && valueUsable(s.mv, c.mvLo, c.mvHi) && valueUsable(s.sp, c.pvLo, c.pvHi);
-        if (pvOnly) {
-          u = clipPct((100 * (s.mv - c.mvLo)) / (c.mvHi - c.mvLo));
-          r = clipPct((100 * (s.sp - c.pvLo)) / (c.pvHi - c.pvLo));
-        } else this.accWhole = true;
-      } else {
-        // nothing good seen yet: zeros stand in, and the prefilter forgets them at the first good sample
-        y = u = r = 0;
-        this.standIns = true;
-        this.accWhole = true;
-      }
-      this.accBad = true;
-    } else {
-      this.badRun = 0;
-      y = clipPct((100 * (s.pv - c.pvLo)) / (c.pvHi - c.pvLo));
-      u = clipPct((100 * (s.mv - c.mvLo)) / (c.mvHi - c.mvLo));
-      r = clipPct((100 * (s.sp - c.pvLo)) / (c.pvHi - c.pvLo));
-      // the stand-ins before the first good sample are no history for the prefilter
-      if (this.standIns) this.prevSignals = null;
-      this.standIns = false;
-      this.held = { y, u, r };
-      // flat-lined PV: a live measurement never repeats exactly for long (noise, quantisation aside)
-      if (this.lastPv !== null && s.pv === this.lastPv) this.flatRun++;
-      else this.flatRun = 0;
-      this.lastPv = s.pv;
-      const tol = LIMIT_TOLERANCE * (c.mvHi - c.mvLo);
-      const side = s.mv >= c.mvLimitHi - tol ? "high" : s.mv <= c.mvLimitLo + tol ? "low" : null;
-      if (side && side === this.limitSide) this.limitRun++;
-      else this.limitRun = side ? 1 : 0;
-      this.limitSide = side;
-    }
-    this.accY += y;
-    this.accU += u;
-    this.accR += r;
-    this.accN++;
-    if (s.mode === "manual") this.accManual = true;
-    if (this.limitRun >= LIMIT_RUN) this.accSaturated = true;
-    if (this.flatRun >= this.flatLimit) this.accFlat = true;
-    if (this.accN < this.decimation) return false;
-    const yy = this.accY / this.accN;
-    const uu = this.accU / this.accN;
-    const rr = this.accR / this.accN;
-    const manual = this.accManual;
-    const saturated = this.accSaturated;
-    const flat = this.accFlat;
-    const bad = this.accBad;
-    const whole = this.accWhole;
-    this.accY = this.accU = this.accR = 0;
-    this.accN = 0;
-    this.accManual = this.accSaturated = this.accFlat = this.accBad = this.accWhole = false;
-    return this.estimate(uu, yy, rr, manual, saturated, flat, s.t, bad, whole);
-  }
 
   /**
    * One estimation sample. An isolated PV outlier (robust residual test, lib/control/robust.ts)
@@ -442,12 +287,12 @@ export class LoopTracker {
    * nothing (`step` with `bad`).
    */
   private predictBad(x: EstimationInput): EstimationInput {
-    const prev = this.prevSignals;
+    const prev = this.cond.prevSignals;
     if (!x.bad || x.whole || !prev || this.taint > 0 || !this.screen.ready() || !this.trusted()) return x;
     const p = this.plant;
     const pred = this.predictor.predict(p.theta, p.na, p.nb, p.nk);
     if (!Number.isFinite(pred)) return x;
-    return { ...x, y: prev.y + pred - PREFILTER_POLE * this.filtered.y, bad: false };
+    return { ...x, y: prev.y + pred - PREFILTER_POLE * this.cond.filtered.y, bad: false };
   }
 
   /**
@@ -458,10 +303,10 @@ export class LoopTracker {
    */
   private largeError(x: EstimationInput, after: PendingSample | null): { yBounded: number; rawE: number } | null {
     const p = this.plant;
-    const prev = this.prevSignals;
+    const prev = this.cond.prevSignals;
     if (!prev || x.bad || this.taint > 0 || !this.screen.ready() || !this.trusted()) return null;
     const c = PREFILTER_POLE;
-    const f = this.filtered;
+    const f = this.cond.filtered;
     let fy: number;
     let pred: number;
     let yPrev: number;
@@ -504,9 +349,9 @@ export class LoopTracker {
     const p = this.plant;
     const pred = this.predictor.predict(p.theta, p.na, p.nb, p.nk);
     // operating point removed by a leaky differencer (see the module comment)
-    const f = this.prefilter(u, y, r);
+    const f = this.cond.prefilter(u, y, r);
     if (!f) return false;
-    if (outlier) this.quality.markOutlier();
+    if (outlier) this.cond.quality.markOutlier();
     if (!tainted) this.watchFit(x.rawE ?? f.y - pred);
     this.predictor.shift(f.y, f.u);
     // running variance of the filtered PV (the signal the model predicts), for the fit figure
@@ -591,19 +436,19 @@ export class LoopTracker {
     if (this.receivedAt === null) return { state: "learning", reason: "waiting for telemetry" };
     const silence = now - this.receivedAt;
     if (silence > 3 * Math.max(c.telemetryPeriodS * 1000, this.deliveryPeriodMs)) return { state: "stale", reason: `no sample for ${(silence / 1000).toFixed(silence < 10_000 ? 1 : 0)} s` };
-    if (this.flatRun >= this.flatLimit) {
-      return { state: "stale", reason: `PV flat at ${fmt(this.lastPv)} for ${this.flatRun + 1} samples: frozen transmitter?` };
+    if (this.cond.flatRun >= this.cond.flatLimit) {
+      return { state: "stale", reason: `PV flat at ${fmt(this.cond.lastPv)} for ${this.cond.flatRun + 1} samples: frozen transmitter?` };
     }
-    if (this.lastMode === "manual") return { state: "manual", reason: "loop in manual: the controller is not acting" };
+    if (this.cond.lastMode === "manual") return { state: "manual", reason: "loop in manual: the controller is not acting" };
     // after manual: an operator's loop says so first (a level left in manual may drain beyond its
     // range in a simulator); the quality counts still show the bad samples
-    if (this.badRun >= BAD_RUN) {
-      const why = this.quality.lastBadReason === "reported-bad" ? "marked bad by the gateway" : this.quality.lastBadReason === "out-of-range" ? "out of range" : "a fault value";
-      return { state: "stale", reason: `${this.badRun} samples in a row of bad quality (${why}, last PV ${fmt(this.lastSample?.pv ?? null)}): sensor fault?` };
+    if (this.cond.badRun >= BAD_RUN) {
+      const why = this.cond.quality.lastBadReason === "reported-bad" ? "marked bad by the gateway" : this.cond.quality.lastBadReason === "out-of-range" ? "out of range" : "a fault value";
+      return { state: "stale", reason: `${this.cond.badRun} samples in a row of bad quality (${why}, last PV ${fmt(this.cond.lastSample?.pv ?? null)}): sensor fault?` };
     }
-    if (this.limitRun >= LIMIT_RUN) {
-      const lim = this.limitSide === "high" ? c.mvLimitHi : c.mvLimitLo;
-      return { state: "saturated", reason: `MV at its ${this.limitSide} limit (${fmt(lim)}): the loop is open` };
+    if (this.cond.limitRun >= LIMIT_RUN) {
+      const lim = this.cond.limitSide === "high" ? c.mvLimitHi : c.mvLimitLo;
+      return { state: "saturated", reason: `MV at its ${this.cond.limitSide} limit (${fmt(lim)}): the loop is open` };
     }
     if (this.stateReasonOverride && !this.plantReady()) return { state: "learning", reason: this.stateReasonOverride };
     if (!this.plantReady()) {
@@ -646,40 +491,12 @@ export class LoopTracker {
     return this.state;
   }
 
-  private refreshStateOnly(kind: { state: TrackerState; reason: string | null }): void {
-    this.state = { ...this.state, at: this.clock.now(), receivedAt: this.receivedAt, trackerState: kind.state, stateReason: kind.reason, samples: this.samplesSeen, last: this.lastSample, sampleQuality: this.quality.dto() };
+  private stateInput(): EmptyStateInput {
+    return { config: this.config, now: this.clock.now(), receivedAt: this.receivedAt, estimationPeriodS: this.estimationPeriodS, samples: this.samplesSeen, last: this.cond.lastSample, quality: this.cond.quality.dto() };
   }
 
-  private emptyState(state: TrackerState, reason: string | null): LoopStateDto {
-    return {
-      loopId: this.config.id,
-      tenantId: this.config.tenantId,
-      at: this.clock.now(),
-      receivedAt: this.receivedAt,
-      trackerState: state,
-      stateReason: reason,
-      estimationPeriodS: this.estimationPeriodS,
-      samples: this.samplesSeen,
-      excitation: null,
-      fitPercent: null,
-      spectralRadius: null,
-      rimDistance: null,
-      decayRatio: null,
-      juryStable: null,
-      rimUndecided: false,
-      dominant: null,
-      gainHeadroom: null,
-      radiusSd: null,
-      forecast: null,
-      modelPoles: [],
-      dataPoles: [],
-      dataPolesKind: "disturbance-response",
-      zeros: [],
-      characteristic: null,
-      delaySamples: this.config.nk,
-      last: this.lastSample,
-      sampleQuality: this.quality.dto(),
-    };
+  private refreshStateOnly(kind: { state: TrackerState; reason: string | null }): void {
+    this.state = { ...this.state, at: this.clock.now(), receivedAt: this.receivedAt, trackerState: kind.state, stateReason: kind.reason, samples: this.samplesSeen, last: this.cond.lastSample, sampleQuality: this.cond.quality.dto() };
   }
 
   private computeState(sampleT: number): void {
@@ -691,7 +508,7 @@ export class LoopTracker {
     }
     const now = this.clock.now();
     let kind = this.currentKind(now);
-    const st = this.emptyState(kind.state, kind.reason);
+    const st = emptyState(this.stateInput(), kind.state, kind.reason);
     st.at = now;
     st.excitation = this.plant.solved ? finite(this.plant.conditioning) : null;
     const s2 = this.plant.residualVariance();
@@ -781,7 +598,7 @@ export class LoopTracker {
       radiusHistory: this.radiusHistory.map((p) => ({ ...p })),
       yVariance: this.yVariance,
       yMean: this.yMean,
-      prefilter: { prev: this.prevSignals ? { ...this.prevSignals } : null, filtered: { ...this.filtered } },
+      prefilter: { prev: this.cond.prevSignals ? { ...this.cond.prevSignals } : null, filtered: { ...this.cond.filtered } },
       robust: { screen: this.screen.toJSON(), predictor: this.predictor.toJSON(), taint: this.taint, collapseInformative: this.collapseInformative, pending: this.pending ? { sample: { ...this.pending.sample }, yBounded: this.pending.yBounded, rawE: this.pending.rawE } : null },
     };
   }
@@ -810,8 +627,8 @@ export class LoopTracker {
       this.plant = choosePlant(this.plantFull, this.plantReduced, (p) => this.plantReady(p), this.config.controller.action);
       this.rimDoubt = null;
       this.data = data;
-      this.prevSignals = pf.prev ? { ...pf.prev } : null;
-      this.filtered = { ...pf.filtered };
+      this.cond.prevSignals = pf.prev ? { ...pf.prev } : null;
+      this.cond.filtered = { ...pf.filtered };
       this.estimationSamples = cp.estimationSamples;
       // -1e15 in a checkpoint stands for "never" (JSON has no -Infinity)
       this.lastPlantUpdate = cp.lastPlantUpdate <= NEVER ? -Infinity : cp.lastPlantUpdate;
@@ -842,19 +659,3 @@ export class LoopTracker {
   }
 }
 
-/** Throws RangeError naming the first field that cannot configure a tracker. */
-export function validateConfig(c: LoopConfig): void {
-  const pos = (name: string, v: number) => {
-    if (!(Number.isFinite(v) && v > 0)) throw new RangeError(`loop ${c.id}: ${name} must be a finite number > 0, got ${v}`);
-  };
-  pos("telemetryPeriodS", c.telemetryPeriodS);
-  pos("controllerPeriodS", c.controllerPeriodS);
-  pos("estimationPeriodS", c.estimationPeriodS);
-  if (!(c.pvHi > c.pvLo)) throw new RangeError(`loop ${c.id}: pvHi must exceed pvLo`);
-  if (!(c.mvHi > c.mvLo)) throw new RangeError(`loop ${c.id}: mvHi must exceed mvLo`);
-  if (!(c.mvLimitHi > c.mvLimitLo)) throw new RangeError(`loop ${c.id}: mvLimitHi must exceed mvLimitLo`);
-  for (const [n, v, min] of [["na", c.na, 1], ["nb", c.nb, 1], ["nk", c.nk, 1]] as const) {
-    if (!Number.isInteger(v) || v < min) throw new RangeError(`loop ${c.id}: ${n} must be an integer >= ${min}, got ${v}`);
-  }
-  pos("controller.kp", c.controller.kp);
-}
