@@ -12,8 +12,9 @@
  * difference; the pole 0.9 per estimation sample keeps the band of the dominant modes).
  */
 import { judgeSampleQuality, valueUsable } from "@/lib/domain/sample-quality";
-import type { LoopMode, SampleDto } from "@/lib/domain/types";
+import type { LoopMode, SampleDto, TrackerState } from "@/lib/domain/types";
 import type { EstimationInput } from "./checkpoint";
+import { fmt } from "./figures";
 import { QualityWindow } from "./quality-window";
 import type { LoopConfig } from "./types";
 
@@ -155,5 +156,31 @@ export class SignalConditioner {
     this.accN = 0;
     this.accManual = this.accSaturated = this.accFlat = this.accBad = this.accWhole = false;
     return { u: uu, y: yy, r: rr, manual, saturated, flat, t: s.t, bad, whole };
+  }
+
+  /**
+   * What the signals alone say about the loop at `now` (epoch ms), before any model is asked:
+   * silent (3 delivery periods, so a batching gateway does not flap), PV flat-lined, in manual,
+   * a run of bad samples, MV pinned at a limit; null when none of these holds.
+   */
+  signalKind(now: number, receivedAt: number, deliveryPeriodMs: number): { state: TrackerState; reason: string } | null {
+    const c = this.config;
+    const silence = now - receivedAt;
+    if (silence > 3 * Math.max(c.telemetryPeriodS * 1000, deliveryPeriodMs)) return { state: "stale", reason: `no sample for ${(silence / 1000).toFixed(silence < 10_000 ? 1 : 0)} s` };
+    if (this.flatRun >= this.flatLimit) {
+      return { state: "stale", reason: `PV flat at ${fmt(this.lastPv)} for ${this.flatRun + 1} samples: frozen transmitter?` };
+    }
+    if (this.lastMode === "manual") return { state: "manual", reason: "loop in manual: the controller is not acting" };
+    // after manual: an operator's loop says so first (a level left in manual may drain beyond its
+    // range in a simulator); the quality counts still show the bad samples
+    if (this.badRun >= BAD_RUN) {
+      const why = this.quality.lastBadReason === "reported-bad" ? "marked bad by the gateway" : this.quality.lastBadReason === "out-of-range" ? "out of range" : "a fault value";
+      return { state: "stale", reason: `${this.badRun} samples in a row of bad quality (${why}, last PV ${fmt(this.lastSample?.pv ?? null)}): sensor fault?` };
+    }
+    if (this.limitRun >= LIMIT_RUN) {
+      const lim = this.limitSide === "high" ? c.mvLimitHi : c.mvLimitLo;
+      return { state: "saturated", reason: `MV at its ${this.limitSide} limit (${fmt(lim)}): the loop is open` };
+    }
+    return null;
   }
 }

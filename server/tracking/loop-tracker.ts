@@ -33,9 +33,10 @@ import type { ArxModel, QTf } from "@/lib/control/types";
 import type { LoopStateDto, SampleDto, TrackerState } from "@/lib/domain/types";
 import type { Clock } from "../context";
 import { checkpointProblem, NEVER, type EstimationInput, type PendingSample, type TrackerCheckpoint } from "./checkpoint";
-import { dataPolesOf, fillModelFigures, finite, fmt, forecastRadiusOne, rimDoubt } from "./figures";
+import { dataPolesOf, fillModelFigures, finite, forecastRadiusOne, rimDoubt } from "./figures";
+import { largeError, predictBad, type OutlierJudge } from "./outliers";
 import { choosePlant, plausibility } from "./plant-choice";
-import { BAD_RUN, LIMIT_RUN, PREFILTER_POLE, SignalConditioner } from "./conditioning";
+import { SignalConditioner } from "./conditioning";
 import { emptyState, validateConfig, type EmptyStateInput } from "./tracker-state";
 import type { LoopConfig } from "./types";
 
@@ -279,56 +280,19 @@ export class LoopTracker {
     return this.step(sample, false);
   }
 
-  /**
-   * A block whose only fault is a bad PV, while a trusted model and a warm residual screen exist:
-   * its PV is the model's one-step prediction (an outlier of zero weight), and it is learnt from
-   * like any other, so a bad PV inside a set-point response costs that response nothing. Otherwise
-   * (an uncertain sample, a bad MV or SP, no trusted model) it stays a stand-in that updates
-   * nothing (`step` with `bad`).
-   */
-  private predictBad(x: EstimationInput): EstimationInput {
+  /** What the outlier checks (./outliers.ts) judge with, or null when no trusted model may judge. */
+  private outlierJudge(): OutlierJudge | null {
     const prev = this.cond.prevSignals;
-    if (!x.bad || x.whole || !prev || this.taint > 0 || !this.screen.ready() || !this.trusted()) return x;
-    const p = this.plant;
-    const pred = this.predictor.predict(p.theta, p.na, p.nb, p.nk);
-    if (!Number.isFinite(pred)) return x;
-    return { ...x, y: prev.y + pred - PREFILTER_POLE * this.cond.filtered.y, bad: false };
+    if (!prev || this.taint > 0 || !this.screen.ready() || !this.trusted()) return null;
+    return { plant: this.plant, predictor: this.predictor, screen: this.screen, prev, filtered: this.cond.filtered };
   }
 
-  /**
-   * Is the sample's a-priori prediction error beyond the residual test's threshold? `after`: judge
-   * it as the sample after `after`, with `after` taken as an outlier (its bounded value in the
-   * histories). Returns the raw PV that bounds the error, or null when the error is normal or the
-   * sample cannot be judged (no trusted model, a stood-in value in the regressors).
-   */
+  private predictBad(x: EstimationInput): EstimationInput {
+    return predictBad(x, this.outlierJudge());
+  }
+
   private largeError(x: EstimationInput, after: PendingSample | null): { yBounded: number; rawE: number } | null {
-    const p = this.plant;
-    const prev = this.cond.prevSignals;
-    if (!prev || x.bad || this.taint > 0 || !this.screen.ready() || !this.trusted()) return null;
-    const c = PREFILTER_POLE;
-    const f = this.cond.filtered;
-    let fy: number;
-    let pred: number;
-    let yPrev: number;
-    let fyBefore: number;
-    if (after) {
-      // the histories as they will be once `after` is taken bounded
-      const a = after.sample;
-      const fyA = c * f.y + (after.yBounded - prev.y);
-      const fuA = c * f.u + (a.u - prev.u);
-      pred = this.predictor.predictNext(p.theta, p.na, p.nb, p.nk, fyA, fuA);
-      fy = c * fyA + (x.y - after.yBounded);
-      yPrev = after.yBounded;
-      fyBefore = fyA;
-    } else {
-      pred = this.predictor.predict(p.theta, p.na, p.nb, p.nk);
-      fy = c * f.y + (x.y - prev.y);
-      yPrev = prev.y;
-      fyBefore = f.y;
-    }
-    const e = fy - pred;
-    if (!Number.isFinite(e) || !this.screen.isLarge(e)) return null;
-    return { yBounded: yPrev + pred + this.screen.bound(e) - c * fyBefore, rawE: e };
+    return largeError(x, after, this.outlierJudge());
   }
 
   /** The reported plant model is the current estimate (the residual test and the fit watch judge with it). */
@@ -432,24 +396,9 @@ export class LoopTracker {
 
   /** The tracker state and its reason at time `now` (epoch ms), from the detectors and counters. */
   private currentKind(now: number): { state: TrackerState; reason: string | null } {
-    const c = this.config;
     if (this.receivedAt === null) return { state: "learning", reason: "waiting for telemetry" };
-    const silence = now - this.receivedAt;
-    if (silence > 3 * Math.max(c.telemetryPeriodS * 1000, this.deliveryPeriodMs)) return { state: "stale", reason: `no sample for ${(silence / 1000).toFixed(silence < 10_000 ? 1 : 0)} s` };
-    if (this.cond.flatRun >= this.cond.flatLimit) {
-      return { state: "stale", reason: `PV flat at ${fmt(this.cond.lastPv)} for ${this.cond.flatRun + 1} samples: frozen transmitter?` };
-    }
-    if (this.cond.lastMode === "manual") return { state: "manual", reason: "loop in manual: the controller is not acting" };
-    // after manual: an operator's loop says so first (a level left in manual may drain beyond its
-    // range in a simulator); the quality counts still show the bad samples
-    if (this.cond.badRun >= BAD_RUN) {
-      const why = this.cond.quality.lastBadReason === "reported-bad" ? "marked bad by the gateway" : this.cond.quality.lastBadReason === "out-of-range" ? "out of range" : "a fault value";
-      return { state: "stale", reason: `${this.cond.badRun} samples in a row of bad quality (${why}, last PV ${fmt(this.cond.lastSample?.pv ?? null)}): sensor fault?` };
-    }
-    if (this.cond.limitRun >= LIMIT_RUN) {
-      const lim = this.cond.limitSide === "high" ? c.mvLimitHi : c.mvLimitLo;
-      return { state: "saturated", reason: `MV at its ${this.cond.limitSide} limit (${fmt(lim)}): the loop is open` };
-    }
+    const signal = this.cond.signalKind(now, this.receivedAt, this.deliveryPeriodMs);
+    if (signal) return signal;
     if (this.stateReasonOverride && !this.plantReady()) return { state: "learning", reason: this.stateReasonOverride };
     if (!this.plantReady()) {
       const n = this.plant.informative;
