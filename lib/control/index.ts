@@ -15,6 +15,7 @@ export * from "./closed-loop";
 export * from "./sampling";
 export * from "./rls";
 export * from "./arx";
+export * from "./arx-batch";
 export * from "./excitation";
 export * from "./confidence";
 export * from "./forecast";

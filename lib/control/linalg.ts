@@ -174,3 +174,95 @@ export function fromNested(rows: readonly (readonly number[])[], n: number, what
   });
   return out;
 }
+
+/**
+ * V max(L, 0) V' of a symmetric row-major d x d matrix, by the cyclic Jacobi eigenvalue method
+ * (Golub & Van Loan, *Matrix Computations*, 4th ed., 2013, sec. 8.5); small d only.
+ */
+export function nearestPsd(S: Float64Array, d: number): Float64Array {
+  const a = Float64Array.from(S);
+  for (let i = 0; i < d; i++) for (let j = 0; j < i; j++) a[i * d + j] = a[j * d + i] = 0.5 * (a[i * d + j]! + a[j * d + i]!);
+  const v = new Float64Array(d * d);
+  for (let i = 0; i < d; i++) v[i * d + i] = 1;
+  for (let sweep = 0; sweep < 50; sweep++) {
+    let off = 0;
+    let norm = 0;
+    for (let i = 0; i < d; i++) {
+      for (let j = 0; j < d; j++) {
+        if (i === j) norm += a[i * d + j]! ** 2;
+        else off += a[i * d + j]! ** 2;
+      }
+    }
+    if (off <= 1e-30 * norm) break;
+    for (let p = 0; p < d - 1; p++) {
+      for (let q = p + 1; q < d; q++) {
+        const apq = a[p * d + q]!;
+        if (apq === 0) continue;
+        const theta = (a[q * d + q]! - a[p * d + p]!) / (2 * apq);
+        const t = Math.sign(theta || 1) / (Math.abs(theta) + Math.sqrt(theta * theta + 1));
+        const c = 1 / Math.sqrt(t * t + 1);
+        const sn = t * c;
+        for (let k = 0; k < d; k++) {
+          const akp = a[k * d + p]!;
+          const akq = a[k * d + q]!;
+          a[k * d + p] = c * akp - sn * akq;
+          a[k * d + q] = sn * akp + c * akq;
+        }
+        for (let k = 0; k < d; k++) {
+          const apk = a[p * d + k]!;
+          const aqk = a[q * d + k]!;
+          a[p * d + k] = c * apk - sn * aqk;
+          a[q * d + k] = sn * apk + c * aqk;
+        }
+        for (let k = 0; k < d; k++) {
+          const vkp = v[k * d + p]!;
+          const vkq = v[k * d + q]!;
+          v[k * d + p] = c * vkp - sn * vkq;
+          v[k * d + q] = sn * vkp + c * vkq;
+        }
+      }
+    }
+  }
+  const out = new Float64Array(d * d);
+  for (let k = 0; k < d; k++) {
+    const lam = Math.max(0, a[k * d + k]!);
+    if (lam === 0) continue;
+    for (let i = 0; i < d; i++) for (let j = 0; j < d; j++) out[i * d + j] = out[i * d + j]! + lam * v[i * d + k]! * v[j * d + k]!;
+  }
+  return out;
+}
+
+/** Inverse of a small d x d row-major matrix by Gauss-Jordan with partial pivoting; null if singular. */
+export function invert(A: Float64Array, d: number): Float64Array | null {
+  const w = 2 * d;
+  const M = new Float64Array(d * w);
+  let scale = 0;
+  for (let i = 0; i < d; i++) {
+    for (let j = 0; j < d; j++) {
+      M[i * w + j] = A[i * d + j]!;
+      scale = Math.max(scale, Math.abs(A[i * d + j]!));
+    }
+    M[i * w + d + i] = 1;
+  }
+  for (let c = 0; c < d; c++) {
+    let p = c;
+    for (let i = c + 1; i < d; i++) if (Math.abs(M[i * w + c]!) > Math.abs(M[p * w + c]!)) p = i;
+    if (Math.abs(M[p * w + c]!) <= 1e-12 * scale) return null;
+    if (p !== c) for (let j = 0; j < w; j++) {
+      const t = M[c * w + j]!;
+      M[c * w + j] = M[p * w + j]!;
+      M[p * w + j] = t;
+    }
+    const piv = M[c * w + c]!;
+    for (let j = 0; j < w; j++) M[c * w + j] = M[c * w + j]! / piv;
+    for (let i = 0; i < d; i++) {
+      if (i === c) continue;
+      const m = M[i * w + c]!;
+      if (m === 0) continue;
+      for (let j = 0; j < w; j++) M[i * w + j] = M[i * w + j]! - m * M[c * w + j]!;
+    }
+  }
+  const out = new Float64Array(d * d);
+  for (let i = 0; i < d; i++) for (let j = 0; j < d; j++) out[i * d + j] = M[i * w + d + j]!;
+  return out;
+}

@@ -1,97 +1,51 @@
 /**
- * One loop's tracker (docs/architecture.md §4): telemetry in, a `LoopStateDto` out.
- *
- * Per telemetry sample: PV, SP and MV are scaled to % of their spans (the units of the
- * controller's %/% gains), clipped to ±10,000 % so hostile-but-valid numbers cannot overflow the
- * estimators, and averaged over `decimation` samples (estimation period Te = decimation x the
- * telemetry period: block averaging is the anti-alias filter). Per estimation sample:
- * 1. plant model MV -> PV: `InstrumentalArxEstimator` (lib/control/riv.ts; na, nb, nk from the
- *    loop's configuration, and a second one with na - 1): closed-loop instrumental variables with
- *    set-point instruments, then auxiliary-model instruments from the loop's own controller
- *    (least squares is biased by PV noise in closed loop: docs/domain.md §3). It learns only from informative
- *    samples (a set-point move, or an operator's MV move in manual), so the estimate is held,
- *    not drifted, while nothing excites it; it pauses while the MV is pinned at a limit or the
- *    PV is flat-lined. The structure with a pole fewer is reported when the configured one has
- *    plant poles no sampled process has (the over-parameterised IV fit's extra pole), and an
- *    estimate that is not physical (such poles, or a process gain of the wrong sign for the
- *    controller action) is replaced by the last good one, reported as `low-excitation` with its age. The operating point is removed by passing u, y and
- *    the set point alike through the leaky differencer L(q) = (1 - q^-1)/(1 - 0.9 q^-1): a linear
- *    filter applied to input and output leaves the ARX relation intact (prefiltering, Ljung,
- *    *System Identification*, 2nd ed., 1999, sec. 14.1). It removes the level AND slow load
- *    drift, which enters the equation error as strongly coloured noise and biases a closed-loop
- *    ARX estimate, without the high-frequency noise gain of a pure difference. The pole 0.9 (per
- *    estimation sample) keeps the band of the dominant modes (wn Te about 0.1-0.6);
- * 2. closed-loop poles two ways:
- *    - model-based: `closedLoopPolynomial(plant model, controller)`. The controller is the loop's
- *      configured PI/PID through `discretePid` AT THE ESTIMATION PERIOD Te. When Te equals the
- *      controller's execution period Tc this is exactly the loop as it runs. When the telemetry
- *      is decimated (Te > Tc) the plant model exists only at Te, so the controller is
- *      re-discretised at Te with the same continuous tuning (backward differences) instead of
- *      mapping a model we do not have down to Tc. The dominant poles then approximate the true
- *      ones as long as Te keeps wn Te in the 0.1-0.6 range the period proposal aims at; decay
- *      ratio, damping and wn are period-invariant, radii are those at Te (the DTO says which
- *      period: `estimationPeriodS`).
- *    - data-only: an ARX model SP -> PV of the closed loop (order = the closed-loop degree, at
- *      most 8) by RLS without gating. While the set point has not moved within the estimator's
- *      memory its regressors in SP are empty and it is an AR model of the PV: the
- *      disturbance-response poles, biased by the disturbance's own dynamics, labelled so.
- * 3. the loop's assessment (lib/domain/assessment.ts, from the model-based poles): radius, rim
- *    distance, the decay ratio of the slowest-decaying oscillating mode, Jury verdict, dominant
- *    pole's zeta / wn / tau, gain headroom, radius confidence (delta method), and the rim
- *    forecast: the decay-ratio trend to the loop's alarm level and the radius trend to 1, over
- *    windows far longer than the estimator's memory.
+ * One loop's tracker (docs/architecture.md §4): telemetry in, a `LoopStateDto` out. The seams:
+ * - conditioning (./conditioning.ts): scaling to % of span, block averaging to the estimation
+ *   period Te, limit / flat-line / bad-run detectors, sample quality and the operating-point
+ *   prefilter;
+ * - plant choice (./plant-choice.ts): two closed-loop instrumental-variable estimators of the
+ *   plant MV -> PV (lib/control/riv.ts: least squares is biased by PV noise in closed loop,
+ *   docs/domain.md §3), the configured structure and one with a pole fewer, because an
+ *   over-parameterised IV fit is ill-determined along its pole-zero cancellation and shows a
+ *   spurious pole; an estimate no sampled plant can have is replaced by the last good one;
+ * - state (./tracker-state.ts and `currentKind`): learning, tracking, low-excitation, poor-fit,
+ *   saturated, manual, stale, each with its reason, so that alarms act only on a trusted model;
+ * - figures (./figures.ts): closed-loop poles of the plant model under the loop's controller
+ *   re-discretised at Te (the plant model exists only at Te; decay ratio, damping and wn are
+ *   period-invariant), the data-only poles, and the assessment (lib/domain/assessment.ts);
+ * - checkpoint (./checkpoint.ts): the estimator state across restarts.
+ * Why learning is gated: the estimators learn only from informative samples (a set-point move, or
+ * an operator's MV move in manual), so the estimate is held, not drifted by noise, while nothing
+ * excites it; an isolated PV outlier is bounded by a residual test on the a-priori prediction
+ * error (lib/control/robust.ts) and a sustained rise of that error makes the loop `poor-fit`.
  * A full state is computed at most once per second of telemetry time (and on state changes).
- * `stale`: no message for 3 delivery periods (the telemetry period times the samples per
- * message, so a batching gateway does not flap), or a PV repeated exactly for 30 s, or a run of
- * bad-quality samples (a sensor fault).
- * Sample quality (lib/domain/sample-quality.ts): a bad or uncertain sample (fault code, out of range,
- * the gateway's word) never reaches an estimator or a statistic. It stands in the decimation
- * block as the last good value (so the estimation clock keeps its period) and the estimation
- * samples whose regressors hold it update nothing. The tracker counts quality over a recent window
- * and remembers the last bad sample (`sampleQuality` in the state: input to a sensor-fault finding).
- * Isolated in-range PV outliers are bounded by a residual test on the plant model's a-priori
- * prediction error (lib/control/robust.ts), and a sustained collapse of that error against its own
- * baseline is reported as `poor-fit` (the model figures are then not trusted, like low excitation).
  */
-import { ArxEstimator, type ArxEstimatorState } from "@/lib/control/arx";
-import { InstrumentalArxEstimator, type InstrumentalArxState } from "@/lib/control/riv";
-import { closedLoopPolynomial, discretePid, gainHeadroom } from "@/lib/control/closed-loop";
-import { closedLoopCoefficientCovariance, poleConfidence } from "@/lib/control/confidence";
-import { forecastCrossing } from "@/lib/control/forecast";
-import { juryTest } from "@/lib/control/jury";
-import { polyMul, qToZ, stripLeadingZeros } from "@/lib/control/poly";
-import { ArxPredictor, ResidualScreen, type ResidualScreenState } from "@/lib/control/robust";
-import { polyRoots } from "@/lib/control/roots";
-import { polyRootsWithBounds, rimVerdict } from "@/lib/control/root-bounds";
+import { ArxEstimator } from "@/lib/control/arx";
+import { InstrumentalArxEstimator } from "@/lib/control/riv";
+import { discretePid, gainHeadroom } from "@/lib/control/closed-loop";
+import { ArxPredictor, ResidualScreen } from "@/lib/control/robust";
+import { rimVerdict } from "@/lib/control/root-bounds";
 import { DEFAULT_POLICY } from "@/lib/domain/alarms/policy";
 import { NON_TRACKING } from "@/lib/domain/alarms/conditions";
 import { assessPoles, effectivePoles, effectivePolesSource, type Crossing, type RoutineFindings } from "@/lib/domain/assessment";
 import { FigureTrend } from "@/lib/domain/trend";
-import type { ArxModel, Complex, QTf } from "@/lib/control/types";
-import { judgeSampleQuality, valueUsable } from "@/lib/domain/sample-quality";
-import type { LoopMode, LoopStateDto, PoleDto, SampleDto, TrackerState } from "@/lib/domain/types";
+import type { ArxModel, QTf } from "@/lib/control/types";
+import type { LoopStateDto, SampleDto, TrackerState } from "@/lib/domain/types";
 import type { Clock } from "../context";
-import { QualityWindow } from "./quality-window";
+import { checkpointProblem, NEVER, type EstimationInput, type PendingSample, type TrackerCheckpoint } from "./checkpoint";
+import { dataPolesOf, fillModelFigures, finite, forecastRadiusOne, rimDoubt } from "./figures";
+import { largeError, predictBad, type OutlierJudge } from "./outliers";
+import { choosePlant, plausibility } from "./plant-choice";
+import { SignalConditioner } from "./conditioning";
+import { emptyState, validateConfig, type EmptyStateInput } from "./tracker-state";
 import type { LoopConfig } from "./types";
 
-/** Normalised signals are clipped to this many % of span (100 x the span either way). */
-const CLIP_PCT = 10_000;
-/** An MV within this fraction of its span of a limit counts as at the limit. */
-const LIMIT_TOLERANCE = 5e-4;
-/** Consecutive samples at a limit before the loop counts as saturated. */
-const LIMIT_RUN = 3;
-/** Pole of the operating-point prefilter L(q) = (1 - q^-1)/(1 - c q^-1). */
-const PREFILTER_POLE = 0.9;
 /** Largest order of the data-only closed-loop model. */
 const MAX_DATA_ORDER = 8;
 /** Smallest prefiltered instrument (% of span) that counts as information (a set-point move of 0.05 % decays below it in ~40 samples). */
 const INSTRUMENT_THRESHOLD_PCT = 1e-3;
 /** Seconds without an informative sample (set-point or manual move) before `low-excitation`, at least one estimator memory. */
 const HOLD_S = 900;
-/** Bad-quality samples in a row before the loop counts as `stale` (sensor fault). */
-const BAD_RUN = 3;
-/** Seconds of samples in the quality window of the state. */
-const QUALITY_WINDOW_S = 600;
 
 export interface LoopTrackerOptions {
   clock: Clock;
@@ -109,70 +63,6 @@ export interface LoopTrackerOptions {
   flatSeconds?: number;
 }
 
-/** One estimation sample (block averages, % of span) with its flags. */
-interface EstimationInput {
-  u: number;
-  y: number;
-  r: number;
-  manual: boolean;
-  saturated: boolean;
-  flat: boolean;
-  t: number;
-  bad: boolean;
-  /** A sample of the block was stood in whole (an uncertain one, an unusable MV or SP): never learnt from. */
-  whole?: boolean;
-  /** The a-priori prediction error before an outlier was bounded (the fit watch takes the raw one). */
-  rawE?: number;
-}
-
-/** A sample with a large prediction error, waiting for the next one to tell an outlier from a change. */
-interface PendingSample {
-  sample: EstimationInput;
-  /** The raw PV (% of span) that bounds its prediction error, and the error itself. */
-  yBounded: number;
-  rawE: number;
-}
-
-/** "Never" in a checkpoint (JSON cannot carry -Infinity): an estimation-sample index no loop reaches. */
-const NEVER = -1e15;
-
-/** Serialisable tracker state (estimators and the radius history), for checkpoints. */
-export interface TrackerCheckpoint {
-  version: 2;
-  loopId: number;
-  /** The structure the estimators were built for; a restore into a different one is refused. */
-  structure: { na: number; nb: number; nk: number; estimationPeriodS: number; dataOrder: number };
-  /** Plant estimator of the configured structure, and the one with a pole fewer (null when na = 1). */
-  plant: InstrumentalArxState;
-  plantReduced: InstrumentalArxState | null;
-  /** Last plausible plant model (held while the current estimate is not physical). */
-  lastGood?: { model: ArxModel; cov: number[][]; at: number } | null;
-  data: ArxEstimatorState;
-  estimationSamples: number;
-  lastPlantUpdate: number;
-  lastSpMove: number;
-  samplesSeen: number;
-  radiusHistory: { t: number; value: number }[];
-  yVariance: number;
-  yMean: number;
-  /** Prefilter state: last raw signals and the filtered values. */
-  prefilter: { prev: { u: number; y: number; r: number } | null; filtered: { u: number; y: number; r: number } };
-  /** Residual screen and its predictor history (absent in older checkpoints: they start afresh). */
-  robust?: { screen: ResidualScreenState; predictor: { y: number[]; u: number[] }; taint: number; collapseInformative: number; pending: PendingSample | null } | null;
-}
-
-function finite(x: number | null | undefined): number | null {
-  return x !== null && x !== undefined && Number.isFinite(x) ? x : null;
-}
-
-function clipPct(x: number): number {
-  return x > CLIP_PCT ? CLIP_PCT : x < -CLIP_PCT ? -CLIP_PCT : x;
-}
-
-function modulus(z: Complex): number {
-  return Math.hypot(z.re, z.im);
-}
-
 export class LoopTracker {
   config: LoopConfig;
   readonly decimation: number;
@@ -186,7 +76,8 @@ export class LoopTracker {
   private readonly alarmDecayRatio: (loopId: number) => number;
   private cachedHeadroom: { value: number | null; at: number } = { value: null, at: -Infinity };
   private readonly stateEvery: number;
-  private readonly flatLimit: number;
+  /** Scaling, decimation, detectors, sample quality and the prefilter (./conditioning.ts). */
+  private readonly cond: SignalConditioner;
   private controller: QTf;
   /** The plant model as reported: `plantFull` or `plantReduced`, whichever simulates the loop better. */
   private plant: InstrumentalArxEstimator;
@@ -203,38 +94,14 @@ export class LoopTracker {
   private implausible: string | null = null;
   /** The live routine assessment's latest verdict (server/assessment), carried in every state. */
   private routine: RoutineFindings | undefined;
+  /** Why the model's radius is not trusted although the estimate is physical (null when it is; see `judgeRim`). */
+  private rimDoubt: string | null = null;
   /** Informative samples the plant estimate needs before it is reported. */
   private readonly minUpdates: number;
   /** Estimation samples without an informative one before the loop counts as `low-excitation`. */
   private readonly holdSamples: number;
   private readonly memory: number;
-  // decimation accumulators
-  private accY = 0;
-  private accU = 0;
-  private accR = 0;
-  private accN = 0;
-  private accManual = false;
-  private accSaturated = false;
-  private accFlat = false;
-  // per-sample detectors
-  private lastPv: number | null = null;
-  private flatRun = 0;
-  private limitRun = 0;
-  private limitSide: "high" | "low" | null = null;
-  private lastMode: LoopMode | null = null;
   private lastR: number | null = null;
-  private prevSignals: { u: number; y: number; r: number } | null = null;
-  private filtered = { u: 0, y: 0, r: 0 };
-  // sample quality and robustness (see the module comment)
-  private readonly quality: QualityWindow;
-  /** Last good normalised signals: what a bad sample stands in as (null before the first good one). */
-  private held: { y: number; u: number; r: number } | null = null;
-  private accBad = false;
-  /** The block holds a sample stood in whole (not only its PV): it is never learnt from. */
-  private accWhole = false;
-  /** Zeros stood in for bad samples before any good one (see `ingest`). */
-  private standIns = false;
-  private badRun = 0;
   /** Estimation samples still to skip because their regressors hold a stood-in value. */
   private taint = 0;
   private screen = new ResidualScreen();
@@ -244,18 +111,6 @@ export class LoopTracker {
   private pending: PendingSample | null = null;
 
 
-  /** L(q) = (1 - q^-1) / (1 - c q^-1) applied to u, y and r alike; null for the first sample. */
-  private prefilter(u: number, y: number, r: number): { u: number; y: number; r: number } | null {
-    const prev = this.prevSignals;
-    this.prevSignals = { u, y, r };
-    if (!prev) return null;
-    const c = PREFILTER_POLE;
-    const f = this.filtered;
-    f.u = c * f.u + (u - prev.u);
-    f.y = c * f.y + (y - prev.y);
-    f.r = c * f.r + (r - prev.r);
-    return f;
-  }
   // counters (in estimation samples unless said otherwise)
   private estimationSamples = 0;
   private lastPlantUpdate = -Infinity;
@@ -265,7 +120,6 @@ export class LoopTracker {
   private yMean = 0;
   private yVariance = 0;
   private radiusHistory: { t: number; value: number }[] = [];
-  private lastSample: SampleDto | null = null;
   private receivedAt: number | null = null;
   private deliveryPeriodMs = 0;
   private state: LoopStateDto;
@@ -282,7 +136,7 @@ export class LoopTracker {
     this.decimation = Math.max(1, Math.round(config.estimationPeriodS / config.telemetryPeriodS));
     this.estimationPeriodS = this.decimation * config.telemetryPeriodS;
     this.stateEvery = Math.max(1, Math.round((options.stateEveryS ?? 1) / this.estimationPeriodS));
-    this.flatLimit = Math.max(20, Math.ceil((options.flatSeconds ?? 30) / config.telemetryPeriodS));
+    this.cond = new SignalConditioner(config, this.decimation, Math.max(20, Math.ceil((options.flatSeconds ?? 30) / config.telemetryPeriodS)));
     this.controller = this.makeController();
     const lambda = config.forgetting ?? 0.995;
     this.memory = 1 / (1 - lambda);
@@ -304,8 +158,7 @@ export class LoopTracker {
     this.dataOrder = Math.min(MAX_DATA_ORDER, Math.max(2, degree));
     this.data = this.makeDataEstimator();
     this.predictor = new ArxPredictor(config.na, config.nk + config.nb);
-    this.quality = new QualityWindow(Math.max(60, Math.min(6000, Math.ceil(QUALITY_WINDOW_S / config.telemetryPeriodS))));
-    this.state = this.emptyState("learning", "waiting for telemetry");
+    this.state = emptyState(this.stateInput(), "learning", "waiting for telemetry");
   }
 
   private makeController(): QTf {
@@ -356,6 +209,7 @@ export class LoopTracker {
       old.mvHi === config.mvHi;
     if (!sameStructure) return "relearn";
     this.config = config;
+    this.cond.config = config;
     this.controller = this.makeController();
     this.cachedHeadroom = { value: null, at: -Infinity };
     return "kept";
@@ -393,11 +247,13 @@ export class LoopTracker {
         this.outOfOrder++;
         continue;
       }
-      if (this.lastSample && s.t <= this.lastSample.t) {
+      if (this.cond.lastSample && s.t <= this.cond.lastSample.t) {
         this.outOfOrder++;
         continue;
       }
-      if (this.ingest(s)) computed = true;
+      this.samplesSeen++;
+      const block = this.cond.ingest(s);
+      if (block && this.estimate(block.u, block.y, block.r, block.manual, block.saturated, block.flat, block.t, block.bad, block.whole)) computed = true;
     }
     const kind = this.currentKind(this.clock.now());
     if (!computed && kind.state !== prevKind && this.samplesSeen > 0) {
@@ -407,76 +263,6 @@ export class LoopTracker {
     return computed ? this.state : null;
   }
 
-  private ingest(s: SampleDto): boolean {
-    const c = this.config;
-    this.samplesSeen++;
-    // ingest has judged the sample already; judging again covers direct callers and a range changed since
-    const q = judgeSampleQuality(s, c);
-    this.lastSample = { t: s.t, sp: s.sp, pv: s.pv, mv: s.mv, mode: s.mode, ...(q.reason === null ? {} : { quality: q.quality, qualityReason: q.reason }) };
-    this.quality.add(q.quality, q.reason, s.t);
-    this.lastMode = s.mode;
-    let y: number, u: number, r: number;
-    if (q.reason !== null) {
-      // not good: the last good value stands in; `estimate` puts a trusted model's prediction in
-      // its place, or (no trusted model) lets its block update nothing
-      if (q.quality === "bad") this.badRun++;
-      const last = this.held ?? this.prevSignals; // after a restore: the prefilter's last input
-      if (last) {
-        ({ y, u, r } = last);
-        // a bad PV beside a good MV and SP: those are kept (and the block may be learnt from with
-        // the model's prediction for the PV); anything else stands in whole and is not learnt from
-        const pvOnly = (q.reason === "fault-value" || q.reason === "out-of-range") && valueUsable(s.mv, c.mvLo, c.mvHi) && valueUsable(s.sp, c.pvLo, c.pvHi);
-        if (pvOnly) {
-          u = clipPct((100 * (s.mv - c.mvLo)) / (c.mvHi - c.mvLo));
-          r = clipPct((100 * (s.sp - c.pvLo)) / (c.pvHi - c.pvLo));
-        } else this.accWhole = true;
-      } else {
-        // nothing good seen yet: zeros stand in, and the prefilter forgets them at the first good sample
-        y = u = r = 0;
-        this.standIns = true;
-        this.accWhole = true;
-      }
-      this.accBad = true;
-    } else {
-      this.badRun = 0;
-      y = clipPct((100 * (s.pv - c.pvLo)) / (c.pvHi - c.pvLo));
-      u = clipPct((100 * (s.mv - c.mvLo)) / (c.mvHi - c.mvLo));
-      r = clipPct((100 * (s.sp - c.pvLo)) / (c.pvHi - c.pvLo));
-      // the stand-ins before the first good sample are no history for the prefilter
-      if (this.standIns) this.prevSignals = null;
-      this.standIns = false;
-      this.held = { y, u, r };
-      // flat-lined PV: a live measurement never repeats exactly for long (noise, quantisation aside)
-      if (this.lastPv !== null && s.pv === this.lastPv) this.flatRun++;
-      else this.flatRun = 0;
-      this.lastPv = s.pv;
-      const tol = LIMIT_TOLERANCE * (c.mvHi - c.mvLo);
-      const side = s.mv >= c.mvLimitHi - tol ? "high" : s.mv <= c.mvLimitLo + tol ? "low" : null;
-      if (side && side === this.limitSide) this.limitRun++;
-      else this.limitRun = side ? 1 : 0;
-      this.limitSide = side;
-    }
-    this.accY += y;
-    this.accU += u;
-    this.accR += r;
-    this.accN++;
-    if (s.mode === "manual") this.accManual = true;
-    if (this.limitRun >= LIMIT_RUN) this.accSaturated = true;
-    if (this.flatRun >= this.flatLimit) this.accFlat = true;
-    if (this.accN < this.decimation) return false;
-    const yy = this.accY / this.accN;
-    const uu = this.accU / this.accN;
-    const rr = this.accR / this.accN;
-    const manual = this.accManual;
-    const saturated = this.accSaturated;
-    const flat = this.accFlat;
-    const bad = this.accBad;
-    const whole = this.accWhole;
-    this.accY = this.accU = this.accR = 0;
-    this.accN = 0;
-    this.accManual = this.accSaturated = this.accFlat = this.accBad = this.accWhole = false;
-    return this.estimate(uu, yy, rr, manual, saturated, flat, s.t, bad, whole);
-  }
 
   /**
    * One estimation sample. An isolated PV outlier (robust residual test, lib/control/robust.ts)
@@ -506,56 +292,19 @@ export class LoopTracker {
     return this.step(sample, false);
   }
 
-  /**
-   * A block whose only fault is a bad PV, while a trusted model and a warm residual screen exist:
-   * its PV is the model's one-step prediction (an outlier of zero weight), and it is learnt from
-   * like any other, so a bad PV inside a set-point response costs that response nothing. Otherwise
-   * (an uncertain sample, a bad MV or SP, no trusted model) it stays a stand-in that updates
-   * nothing (`step` with `bad`).
-   */
-  private predictBad(x: EstimationInput): EstimationInput {
-    const prev = this.prevSignals;
-    if (!x.bad || x.whole || !prev || this.taint > 0 || !this.screen.ready() || !this.trusted()) return x;
-    const p = this.plant;
-    const pred = this.predictor.predict(p.theta, p.na, p.nb, p.nk);
-    if (!Number.isFinite(pred)) return x;
-    return { ...x, y: prev.y + pred - PREFILTER_POLE * this.filtered.y, bad: false };
+  /** What the outlier checks (./outliers.ts) judge with, or null when no trusted model may judge. */
+  private outlierJudge(): OutlierJudge | null {
+    const prev = this.cond.prevSignals;
+    if (!prev || this.taint > 0 || !this.screen.ready() || !this.trusted()) return null;
+    return { plant: this.plant, predictor: this.predictor, screen: this.screen, prev, filtered: this.cond.filtered };
   }
 
-  /**
-   * Is the sample's a-priori prediction error beyond the residual test's threshold? `after`: judge
-   * it as the sample after `after`, with `after` taken as an outlier (its bounded value in the
-   * histories). Returns the raw PV that bounds the error, or null when the error is normal or the
-   * sample cannot be judged (no trusted model, a stood-in value in the regressors).
-   */
+  private predictBad(x: EstimationInput): EstimationInput {
+    return predictBad(x, this.outlierJudge());
+  }
+
   private largeError(x: EstimationInput, after: PendingSample | null): { yBounded: number; rawE: number } | null {
-    const p = this.plant;
-    const prev = this.prevSignals;
-    if (!prev || x.bad || this.taint > 0 || !this.screen.ready() || !this.trusted()) return null;
-    const c = PREFILTER_POLE;
-    const f = this.filtered;
-    let fy: number;
-    let pred: number;
-    let yPrev: number;
-    let fyBefore: number;
-    if (after) {
-      // the histories as they will be once `after` is taken bounded
-      const a = after.sample;
-      const fyA = c * f.y + (after.yBounded - prev.y);
-      const fuA = c * f.u + (a.u - prev.u);
-      pred = this.predictor.predictNext(p.theta, p.na, p.nb, p.nk, fyA, fuA);
-      fy = c * fyA + (x.y - after.yBounded);
-      yPrev = after.yBounded;
-      fyBefore = fyA;
-    } else {
-      pred = this.predictor.predict(p.theta, p.na, p.nb, p.nk);
-      fy = c * f.y + (x.y - prev.y);
-      yPrev = prev.y;
-      fyBefore = f.y;
-    }
-    const e = fy - pred;
-    if (!Number.isFinite(e) || !this.screen.isLarge(e)) return null;
-    return { yBounded: yPrev + pred + this.screen.bound(e) - c * fyBefore, rawE: e };
+    return largeError(x, after, this.outlierJudge());
   }
 
   /** The reported plant model is the current estimate (the residual test and the fit watch judge with it). */
@@ -576,9 +325,9 @@ export class LoopTracker {
     const p = this.plant;
     const pred = this.predictor.predict(p.theta, p.na, p.nb, p.nk);
     // operating point removed by a leaky differencer (see the module comment)
-    const f = this.prefilter(u, y, r);
+    const f = this.cond.prefilter(u, y, r);
     if (!f) return false;
-    if (outlier) this.quality.markOutlier();
+    if (outlier) this.cond.quality.markOutlier();
     if (!tainted) this.watchFit(x.rawE ?? f.y - pred);
     this.predictor.shift(f.y, f.u);
     // running variance of the filtered PV (the signal the model predicts), for the fit figure
@@ -631,41 +380,6 @@ export class LoopTracker {
     return p.solved && p.informative >= this.minUpdates && p.conditioning > 1e-9;
   }
 
-  /**
-   * Structure choice, at state time: the configured structure while its plant poles are those
-   * a sampled continuous plant can have, else the one with a pole fewer. A zero-order-hold
-   * sampled plant has poles exp(s T) (Åström & Wittenmark, *Computer-Controlled Systems*, 3rd
-   * ed., 1997, sec. 2.3): a real pole below 0 has no continuous counterpart, and a stable or
-   * integrating process none outside the unit circle. The ill-determined extra pole of an
-   * over-parameterised IV fit lands exactly there (negative real or far outside), while a true
-   * second-order plant keeps its poles inside at the periods the period proposal aims at. When
-   * both are implausible, the closed-loop simulation error over the set-point responses decides.
-   */
-  /**
-   * Null when the estimate is one a sampled plant under this controller can be: poles as in
-   * `plausiblePlantPoles`, and a process gain B(1) of the sign the controller action implies
-   * (reverse action for a rising process, common practice); else the reason.
-   */
-  private plausibility(p: InstrumentalArxEstimator): string | null {
-    if (!plausiblePlantPoles(p.theta.subarray(0, p.na))) return "plant poles no sampled process has";
-    let gain = 0;
-    for (let j = p.na; j < p.d; j++) gain += p.theta[j]!;
-    const want = this.config.controller.action === "reverse" ? 1 : -1;
-    if (!(gain * want > 0)) return "process gain of the wrong sign for the controller action";
-    return null;
-  }
-
-  private choosePlant(): InstrumentalArxEstimator {
-    const red = this.plantReduced;
-    if (!red || !this.plantReady(red)) return this.plantFull;
-    if (!this.plantReady(this.plantFull)) return red;
-    if (this.plausibility(this.plantFull) === null) return this.plantFull;
-    if (this.plausibility(red) === null) return red;
-    const ef = this.plantFull.simulationError();
-    const er = red.simulationError();
-    return Number.isFinite(ef) && (!Number.isFinite(er) || ef < er) ? this.plantFull : red;
-  }
-
   private parametersFinite(): boolean {
     const a = this.plantFull.theta;
     const a2 = this.plantReduced?.theta ?? a;
@@ -682,6 +396,7 @@ export class LoopTracker {
     this.plant = this.plantFull;
     this.lastGood = null;
     this.implausible = null;
+    this.rimDoubt = null;
     this.data = this.makeDataEstimator();
     this.screen = new ResidualScreen();
     this.collapseInformative = -1;
@@ -693,25 +408,10 @@ export class LoopTracker {
 
   /** The tracker state and its reason at time `now` (epoch ms), from the detectors and counters. */
   private currentKind(now: number): { state: TrackerState; reason: string | null } {
-    const c = this.config;
     if (this.sourceGone !== null) return { state: "stale", reason: this.sourceGone };
     if (this.receivedAt === null) return { state: "learning", reason: "waiting for telemetry" };
-    const silence = now - this.receivedAt;
-    if (silence > 3 * Math.max(c.telemetryPeriodS * 1000, this.deliveryPeriodMs)) return { state: "stale", reason: `no sample for ${(silence / 1000).toFixed(silence < 10_000 ? 1 : 0)} s` };
-    if (this.flatRun >= this.flatLimit) {
-      return { state: "stale", reason: `PV flat at ${fmt(this.lastPv)} for ${this.flatRun + 1} samples: frozen transmitter?` };
-    }
-    if (this.lastMode === "manual") return { state: "manual", reason: "loop in manual: the controller is not acting" };
-    // after manual: an operator's loop says so first (a level left in manual may drain beyond its
-    // range in a simulator); the quality counts still show the bad samples
-    if (this.badRun >= BAD_RUN) {
-      const why = this.quality.lastBadReason === "reported-bad" ? "marked bad by the gateway" : this.quality.lastBadReason === "out-of-range" ? "out of range" : "a fault value";
-      return { state: "stale", reason: `${this.badRun} samples in a row of bad quality (${why}, last PV ${fmt(this.lastSample?.pv ?? null)}): sensor fault?` };
-    }
-    if (this.limitRun >= LIMIT_RUN) {
-      const lim = this.limitSide === "high" ? c.mvLimitHi : c.mvLimitLo;
-      return { state: "saturated", reason: `MV at its ${this.limitSide} limit (${fmt(lim)}): the loop is open` };
-    }
+    const signal = this.cond.signalKind(now, this.receivedAt, this.deliveryPeriodMs);
+    if (signal) return signal;
     if (this.stateReasonOverride && !this.plantReady()) return { state: "learning", reason: this.stateReasonOverride };
     if (!this.plantReady()) {
       const n = this.plant.informative;
@@ -724,6 +424,7 @@ export class LoopTracker {
       const what = `prediction error ${Number.isFinite(ratio) ? ratio.toFixed(1) : "several"} x its usual level`;
       return { state: "poor-fit", reason: `the plant model no longer fits the PV (${what}): figures not trusted until it fits again` };
     }
+    if (this.rimDoubt !== null) return { state: "poor-fit", reason: this.rimDoubt };
     if (this.implausible !== null) {
       if (!this.lastGood) return { state: "learning", reason: `plant model learning: the estimate so far is not physical (${this.implausible})` };
       const age = Math.round((this.estimationSamples - this.lastGood.at) * this.estimationPeriodS);
@@ -760,53 +461,24 @@ export class LoopTracker {
     return this.state;
   }
 
-  private refreshStateOnly(kind: { state: TrackerState; reason: string | null }): void {
-    this.state = { ...this.state, at: this.clock.now(), receivedAt: this.receivedAt, trackerState: kind.state, stateReason: kind.reason, samples: this.samplesSeen, last: this.lastSample, sampleQuality: this.quality.dto() };
+  private stateInput(): EmptyStateInput {
+    return { config: this.config, now: this.clock.now(), receivedAt: this.receivedAt, estimationPeriodS: this.estimationPeriodS, samples: this.samplesSeen, last: this.cond.lastSample, quality: this.cond.quality.dto(), routine: this.routine };
   }
 
-  private emptyState(state: TrackerState, reason: string | null): LoopStateDto {
-    return {
-      loopId: this.config.id,
-      tenantId: this.config.tenantId,
-      at: this.clock.now(),
-      receivedAt: this.receivedAt,
-      trackerState: state,
-      stateReason: reason,
-      estimationPeriodS: this.estimationPeriodS,
-      samples: this.samplesSeen,
-      excitation: null,
-      fitPercent: null,
-      spectralRadius: null,
-      rimDistance: null,
-      decayRatio: null,
-      juryStable: null,
-      rimUndecided: false,
-      dominant: null,
-      gainHeadroom: null,
-      radiusSd: null,
-      forecast: null,
-      modelPoles: [],
-      dataPoles: [],
-      dataPolesKind: "disturbance-response",
-      zeros: [],
-      characteristic: null,
-      delaySamples: this.config.nk,
-      last: this.lastSample,
-      sampleQuality: this.quality.dto(),
-      ...(this.routine ? { routine: this.routine } : {}),
-    };
+  private refreshStateOnly(kind: { state: TrackerState; reason: string | null }): void {
+    this.state = { ...this.state, at: this.clock.now(), receivedAt: this.receivedAt, trackerState: kind.state, stateReason: kind.reason, samples: this.samplesSeen, last: this.cond.lastSample, sampleQuality: this.cond.quality.dto() };
   }
 
   private computeState(sampleT: number): void {
-    this.plant = this.choosePlant();
-    this.implausible = this.plantReady() ? this.plausibility(this.plant) : null;
+    this.plant = choosePlant(this.plantFull, this.plantReduced, (p) => this.plantReady(p), this.config.controller.action);
+    this.implausible = this.plantReady() ? plausibility(this.plant, this.config.controller.action) : null;
     if (this.plantReady() && this.implausible === null) {
       // the current estimate, kept as the last good one (the same objects feed the figures below)
       this.lastGood = { model: this.plant.model(), cov: this.plant.parameterCovariance(), at: this.estimationSamples };
     }
     const now = this.clock.now();
-    const kind = this.currentKind(now);
-    const st = this.emptyState(kind.state, kind.reason);
+    let kind = this.currentKind(now);
+    const st = emptyState(this.stateInput(), kind.state, kind.reason);
     st.at = now;
     st.excitation = this.plant.solved ? finite(this.plant.conditioning) : null;
     const s2 = this.plant.residualVariance();
@@ -814,9 +486,9 @@ export class LoopTracker {
     // data-only poles
     const memorySamples = this.memory;
     st.dataPolesKind = this.estimationSamples - this.lastSpMove <= memorySamples ? "closed-loop" : "disturbance-response";
-    if (this.data.updates >= Math.max(50, 10 * this.dataOrder)) st.dataPoles = this.dataPoles();
+    if (this.data.updates >= Math.max(50, 10 * this.dataOrder)) st.dataPoles = dataPolesOf(this.data);
     if (this.plantReady()) {
-      if (this.lastGood) this.modelBased(st, this.lastGood.model, this.lastGood.cov);
+      if (this.lastGood) fillModelFigures(st, this.lastGood.model, this.lastGood.cov, this.controller, () => this.headroom(this.lastGood!.model));
     }
     const poles = effectivePoles(st);
     // the figures come from the model-based poles only: data-only poles alone (while the plant is
@@ -825,6 +497,13 @@ export class LoopTracker {
     Object.assign(st, assessPoles(st.modelPoles, this.estimationPeriodS));
     // a root whose conditioning bound straddles |z| = 1: no Jury verdict either way ("undecided near the rim")
     st.rimUndecided = rimVerdict(poles) === "undecided";
+    this.rimDoubt = rimDoubt(st);
+    if (this.rimDoubt !== null) {
+      st.rimUndecided = true;
+      kind = this.currentKind(now);
+      st.trackerState = kind.state;
+      st.stateReason = kind.reason;
+    }
     if (st.rimUndecided) st.juryStable = null;
     const t = sampleT / 1000;
     // the decay-ratio trend only while the alarms may act on the estimate (they reset it otherwise)
@@ -838,7 +517,7 @@ export class LoopTracker {
         let drop = 0;
         while (drop < this.radiusHistory.length && this.radiusHistory[drop]!.t < cutoff) drop++;
         if (drop > 0) this.radiusHistory.splice(0, drop);
-        this.cachedForecast = { alarmLevel: null, radiusOne: this.forecastRadiusOne() };
+        this.cachedForecast = { alarmLevel: null, radiusOne: forecastRadiusOne(this.radiusHistory, this.memory * this.estimationPeriodS) };
       }
       st.forecast = this.cachedForecast;
     } else {
@@ -854,67 +533,12 @@ export class LoopTracker {
     this.state = st;
   }
 
-  private dataPoles(): PoleDto[] {
-    try {
-      const m = this.data.model();
-      const coeffs = [1, ...m.a];
-      const roots = polyRoots(coeffs);
-      const cov = this.data.parameterCovariance().slice(0, m.a.length).map((row) => row.slice(0, m.a.length));
-      let conf: ReturnType<typeof poleConfidence> | null = null;
-      try {
-        conf = poleConfidence(coeffs, cov, { roots });
-      } catch {
-        conf = null;
-      }
-      const bounded = polyRootsWithBounds(coeffs, { roots });
-      return roots.map((z, i) => toPoleDto(z, conf?.[i], bounded[i]?.bound));
-    } catch {
-      return [];
+  /** Gain headroom of the reported model; the search costs as much as the rest of a state together, so it is refreshed every 5 states. */
+  private headroom(model: ArxModel): number | null {
+    if (this.estimationSamples - this.cachedHeadroom.at >= 5 * this.stateEvery) {
+      this.cachedHeadroom = { value: finite(gainHeadroom(model, this.controller)), at: this.estimationSamples };
     }
-  }
-
-  private modelBased(st: LoopStateDto, model: ArxModel, cov: number[][]): void {
-    try {
-      const char = closedLoopPolynomial(model, this.controller);
-      const roots = polyRoots(char);
-      if (roots.some((z) => !Number.isFinite(z.re) || !Number.isFinite(z.im))) return;
-      let conf: ReturnType<typeof poleConfidence> | null = null;
-      try {
-        const cc = closedLoopCoefficientCovariance(model, this.controller, cov);
-        conf = cc.coeffs.length === char.length ? poleConfidence(char, cc.covariance, { roots }) : null;
-      } catch {
-        conf = null;
-      }
-      st.characteristic = char.every(Number.isFinite) ? char : null;
-      const bounded = polyRootsWithBounds(char, { roots });
-      st.modelPoles = roots.map((z, i) => toPoleDto(z, conf?.[i], bounded[i]?.bound));
-      st.juryStable = juryTest(char).stable;
-      // the headroom search costs as much as the rest together: refreshed every 5 states
-      if (this.estimationSamples - this.cachedHeadroom.at >= 5 * this.stateEvery) {
-        this.cachedHeadroom = { value: finite(gainHeadroom(model, this.controller)), at: this.estimationSamples };
-      }
-      st.gainHeadroom = this.cachedHeadroom.value;
-      const num = stripLeadingZeros(polyMul(qToZ(model.b), qToZ(this.controller.num)));
-      st.zeros = num.length > 1 && num.every(Number.isFinite) ? polyRoots(num).filter((z) => Number.isFinite(z.re) && Number.isFinite(z.im)) : [];
-    } catch {
-      // a degenerate model (e.g. all-zero b): keep the state without model-based figures
-      st.modelPoles = [];
-      st.gainHeadroom = null;
-      st.juryStable = null;
-      st.characteristic = null;
-      st.zeros = [];
-    }
-  }
-
-  /** When the spectral-radius trend reaches the unit circle. */
-  private forecastRadiusOne(): Crossing | null {
-    try {
-      const f = forecastCrossing(this.radiusHistory, 1, { memory: this.memory * this.estimationPeriodS });
-      if (!f || !Number.isFinite(f.at) || !Number.isFinite(f.low) || !Number.isFinite(f.high)) return null;
-      return { at: Math.round(f.at * 1000), low: Math.round(f.low * 1000), high: Math.round(f.high * 1000) };
-    } catch {
-      return null;
-    }
+    return this.cachedHeadroom.value;
   }
 
   /** Plant model (for diagnostics and tests). */
@@ -944,7 +568,7 @@ export class LoopTracker {
       radiusHistory: this.radiusHistory.map((p) => ({ ...p })),
       yVariance: this.yVariance,
       yMean: this.yMean,
-      prefilter: { prev: this.prevSignals ? { ...this.prevSignals } : null, filtered: { ...this.filtered } },
+      prefilter: { prev: this.cond.prevSignals ? { ...this.cond.prevSignals } : null, filtered: { ...this.cond.filtered } },
       robust: { screen: this.screen.toJSON(), predictor: this.predictor.toJSON(), taint: this.taint, collapseInformative: this.collapseInformative, pending: this.pending ? { sample: { ...this.pending.sample }, yBounded: this.pending.yBounded, rawE: this.pending.rawE } : null },
     };
   }
@@ -957,36 +581,24 @@ export class LoopTracker {
     try {
       if (!cp || cp.version !== 2) return { ok: false, reason: "unknown checkpoint version (made before the instrumental-variable plant estimator)" };
       if (cp.loopId !== this.config.id) return { ok: false, reason: `checkpoint of loop ${cp.loopId}, not ${this.config.id}` };
-      const s = cp.structure;
-      if (s.na !== this.config.na || s.nb !== this.config.nb || s.nk !== this.config.nk || s.estimationPeriodS !== this.estimationPeriodS || s.dataOrder !== this.dataOrder) {
-        return { ok: false, reason: "checkpoint was made for another model structure or estimation period" };
-      }
+      const bad = checkpointProblem(cp, { na: this.config.na, nb: this.config.nb, nk: this.config.nk, estimationPeriodS: this.estimationPeriodS, dataOrder: this.dataOrder });
+      if (bad !== null) return { ok: false, reason: bad };
       const plant = InstrumentalArxEstimator.fromJSON(cp.plant);
       const reduced = cp.plantReduced ? InstrumentalArxEstimator.fromJSON(cp.plantReduced) : null;
       if (plant.na !== this.config.na || (reduced === null) !== (this.config.na < 2) || (reduced !== null && reduced.na !== this.config.na - 1)) {
         return { ok: false, reason: "checkpoint was made for another model structure or estimation period" };
       }
       const data = ArxEstimator.fromJSON(cp.data);
-      const nums = [cp.estimationSamples, cp.lastPlantUpdate, cp.lastSpMove, cp.samplesSeen, cp.yVariance, cp.yMean];
-      if (!nums.every((v) => typeof v === "number" && Number.isFinite(v))) return { ok: false, reason: "checkpoint counters are not finite numbers" };
-      if (!Array.isArray(cp.radiusHistory) || !cp.radiusHistory.every((p) => Number.isFinite(p?.t) && Number.isFinite(p?.value))) {
-        return { ok: false, reason: "checkpoint radius history is malformed" };
-      }
       const pf = cp.prefilter;
-      const triple = (v: unknown): v is { u: number; y: number; r: number } =>
-        !!v && typeof v === "object" && ["u", "y", "r"].every((k) => Number.isFinite((v as Record<string, unknown>)[k]));
-      if (!pf || !triple(pf.filtered) || (pf.prev !== null && !triple(pf.prev))) return { ok: false, reason: "checkpoint prefilter state is malformed" };
       const lg = cp.lastGood;
-      if (lg && !(Array.isArray(lg.model?.a) && Array.isArray(lg.model?.b) && [...lg.model.a, ...lg.model.b, lg.at].every(Number.isFinite) && Array.isArray(lg.cov))) {
-        return { ok: false, reason: "checkpoint last good model is malformed" };
-      }
       this.lastGood = lg ? { model: { ...lg.model, a: [...lg.model.a], b: [...lg.model.b] }, cov: lg.cov.map((r) => [...r]), at: lg.at } : null;
       this.plantFull = plant;
       this.plantReduced = reduced;
-      this.plant = this.choosePlant();
+      this.plant = choosePlant(this.plantFull, this.plantReduced, (p) => this.plantReady(p), this.config.controller.action);
+      this.rimDoubt = null;
       this.data = data;
-      this.prevSignals = pf.prev ? { ...pf.prev } : null;
-      this.filtered = { ...pf.filtered };
+      this.cond.prevSignals = pf.prev ? { ...pf.prev } : null;
+      this.cond.filtered = { ...pf.filtered };
       this.estimationSamples = cp.estimationSamples;
       // -1e15 in a checkpoint stands for "never" (JSON has no -Infinity)
       this.lastPlantUpdate = cp.lastPlantUpdate <= NEVER ? -Infinity : cp.lastPlantUpdate;
@@ -1017,44 +629,3 @@ export class LoopTracker {
   }
 }
 
-/** Plant poles (roots of 1 + a1 z^-1 + ...) inside radius 1.02 and no real pole below -0.05. */
-function plausiblePlantPoles(a: ArrayLike<number>): boolean {
-  const coeffs = [1];
-  for (let i = 0; i < a.length; i++) coeffs.push(a[i]!);
-  if (!coeffs.every(Number.isFinite)) return false;
-  let roots: Complex[];
-  try {
-    roots = polyRoots(coeffs);
-  } catch {
-    return false;
-  }
-  return roots.every((z) => modulus(z) <= 1.02 && !(Math.abs(z.im) < 1e-9 && z.re < -0.05));
-}
-
-function toPoleDto(z: Complex, c: { radiusStd: number; covariance: [[number, number], [number, number]] } | undefined, bound?: number): PoleDto {
-  const sd = c ? finite(c.radiusStd) : null;
-  const cov = c ? ([c.covariance[0][0], c.covariance[0][1], c.covariance[1][1]] as [number, number, number]) : null;
-  return { re: z.re, im: z.im, radius: modulus(z), sdRadius: sd, cov: cov && cov.every(Number.isFinite) ? cov : null, bound: bound !== undefined && Number.isFinite(bound) ? bound : null };
-}
-
-function fmt(v: number | null): string {
-  if (v === null) return "?";
-  return Math.abs(v) >= 1000 || Number.isInteger(v) ? String(Math.round(v * 100) / 100) : v.toPrecision(4);
-}
-
-/** Throws RangeError naming the first field that cannot configure a tracker. */
-export function validateConfig(c: LoopConfig): void {
-  const pos = (name: string, v: number) => {
-    if (!(Number.isFinite(v) && v > 0)) throw new RangeError(`loop ${c.id}: ${name} must be a finite number > 0, got ${v}`);
-  };
-  pos("telemetryPeriodS", c.telemetryPeriodS);
-  pos("controllerPeriodS", c.controllerPeriodS);
-  pos("estimationPeriodS", c.estimationPeriodS);
-  if (!(c.pvHi > c.pvLo)) throw new RangeError(`loop ${c.id}: pvHi must exceed pvLo`);
-  if (!(c.mvHi > c.mvLo)) throw new RangeError(`loop ${c.id}: mvHi must exceed mvLo`);
-  if (!(c.mvLimitHi > c.mvLimitLo)) throw new RangeError(`loop ${c.id}: mvLimitHi must exceed mvLimitLo`);
-  for (const [n, v, min] of [["na", c.na, 1], ["nb", c.nb, 1], ["nk", c.nk, 1]] as const) {
-    if (!Number.isInteger(v) || v < min) throw new RangeError(`loop ${c.id}: ${n} must be an integer >= ${min}, got ${v}`);
-  }
-  pos("controller.kp", c.controller.kp);
-}

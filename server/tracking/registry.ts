@@ -6,7 +6,8 @@
 import type { RoutineFindings } from "@/lib/domain/assessment";
 import type { LoopStateDto, SampleDto } from "@/lib/domain/types";
 import type { Bus, Clock } from "../context";
-import { LoopTracker, type LoopTrackerOptions, type TrackerCheckpoint } from "./loop-tracker";
+import type { TrackerCheckpoint } from "./checkpoint";
+import { LoopTracker, type LoopTrackerOptions } from "./loop-tracker";
 import type { LoopConfig } from "./types";
 
 export interface TrackerRegistryContext {

@@ -33,7 +33,7 @@ const RULES: { figure: string; pattern: RegExp; allowed: readonly string[] }[] =
   { figure: "decay ratio of a pole", pattern: /\bdecayRatio\s*\(\s*\{?\s*\w+/, allowed: [HOME] },
   { figure: "dominant pole selection", pattern: /function\s+(dominantPole|dominantOscillatingMode|slowestOscillatingMode)\b/, allowed: [HOME] },
   { figure: "pole characteristics of the dominant pole", pattern: /\bpoleCharacteristics\s*\(/, allowed: [HOME, "lib/step-tests/identify.ts"] },
-  { figure: "Jury verdict", pattern: /\bjuryTest\s*\([^)]*\)\s*\.stable/, allowed: ["server/tracking/loop-tracker.ts"] },
+  { figure: "Jury verdict", pattern: /\bjuryTest\s*\([^)]*\)\s*\.stable/, allowed: ["server/tracking/figures.ts"] },
 ];
 
 describe("one home per figure", () => {

@@ -10,7 +10,7 @@
  */
 import { execFileSync } from "node:child_process";
 import { describe, expect, it } from "vitest";
-import { fitArx } from "@/lib/control/arx";
+import { fitArx } from "@/lib/control/arx-batch";
 import { InstrumentalArxEstimator } from "@/lib/control/riv";
 
 /** Deterministic normal deviates (xorshift + Box-Muller), for reproducible data. */
