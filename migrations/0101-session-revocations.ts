@@ -1,6 +1,6 @@
 /**
  * Sessions signed out before their expiry, so a restart does not bring a signed-out cookie back
- * (the in-memory list in lib/server-context.ts is only the fast path). A row can go once its
+ * (the in-memory list in lib/data/server-context.ts is only the fast path). A row can go once its
  * session would have expired anyway.
  */
 import { DataTypes } from "sequelize";

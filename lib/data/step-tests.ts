@@ -120,8 +120,10 @@ export async function patchLoopEstimation(
 ): Promise<void> {
   const { sequelize, models } = getDb();
   await sequelize.transaction(async (transaction) => {
-    const [n] = await models.Loop.update(patch, { where: { id: loopId, tenantId: ctx.tenantId }, transaction });
-    if (n === 0) throw new NotFoundError("Loop");
+    // Through the instance, so the model's whole-row rules see the stored row with the patch.
+    const loop = await findOwned(models.Loop, ctx, loopId, { transaction });
+    if (!loop) throw new NotFoundError("Loop");
+    await loop.update(patch, { transaction });
     await logConfigChange(ctx, entry, transaction);
   });
 }
