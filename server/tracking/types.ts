@@ -1,9 +1,8 @@
 /**
  * What a loop tracker needs to know about its loop: the fields of the `loops` table (data layer)
- * in the units the tracker works in. The pipeline maps database rows to this shape (see
- * `controllerTuningFromRow` for the tuning units).
+ * in the units the tracker works in. The pipeline maps database rows to this shape through the one
+ * loops reader (lib/data/loop-rows.ts) and the one tuning converter (lib/domain/tuning.ts).
  */
-import { tuningSeconds } from "@/lib/domain/tuning";
 
 export interface ControllerTuning {
   /** Proportional gain, % MV per % PV (> 0; `action` gives the sign). */
@@ -46,25 +45,4 @@ export interface LoopConfig {
   /** RLS forgetting factor (default 0.995). */
   forgetting?: number;
   enabled?: boolean;
-}
-
-/**
- * Tuning in the product's units from the loops table's columns: gain as gain (%/%) or
- * proportional band (PB % = 100 / gain), integral time in s, min or repeats per minute,
- * derivative time in s or min (lib/domain/tuning.ts). Throws RangeError on a value that cannot be a tuning.
- */
-export function controllerTuningFromRow(row: {
-  gainKind: "gain" | "pb";
-  gainValue: number;
-  tiValue: number | null;
-  tiUnits: "s" | "min" | "repeats-per-min";
-  tdValue: number | null;
-  tdUnits: "s" | "min";
-  tfS?: number | null;
-  derivativeAlpha?: number | null;
-  action: "reverse" | "direct";
-  form: "ideal" | "parallel" | "series";
-}): ControllerTuning {
-  if (!(row.gainValue > 0) || !Number.isFinite(row.gainValue)) throw new RangeError(`controller gain must be > 0, got ${row.gainValue}`);
-  return tuningSeconds({ ...row, tfS: row.tfS ?? null, derivativeAlpha: row.derivativeAlpha ?? null });
 }
