@@ -2,12 +2,10 @@
  * Data layer of the engineering work list and the live assessment's records (node only): every SQL
  * statement of lib/work-list and server/assessment lives here; those modules keep the rules
  * (who may do what, status transitions, DTOs) and call these functions. Tenant-owned rows are
- * always bound to a tenant id, and reads for a member to the member's site scope (lib/tenancy.ts).
+ * always bound to a tenant id, and reads for a member to the member's site scope (lib/data/tenancy.ts).
  */
 import { QueryTypes, type Sequelize, type Transaction } from "sequelize";
-import type { InferAttributes } from "sequelize";
 import { getDb } from "@/lib/data/db/sequelize";
-import type { Loop } from "@/models/loop";
 import type { TenantContext } from "@/lib/domain/types";
 import { scoped, siteScopeSql } from "@/lib/data/tenancy";
 

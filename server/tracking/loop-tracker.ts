@@ -27,7 +27,7 @@ import { ArxPredictor, ResidualScreen } from "@/lib/control/robust";
 import { rimVerdict } from "@/lib/control/root-bounds";
 import { DEFAULT_POLICY } from "@/lib/domain/alarms/policy";
 import { NON_TRACKING } from "@/lib/domain/alarms/conditions";
-import { assessPoles, effectivePoles, effectivePolesSource, type Crossing, type RoutineFindings } from "@/lib/domain/assessment";
+import { assessPoles, effectivePoles, effectivePolesSource, type RoutineFindings } from "@/lib/domain/assessment";
 import { FigureTrend } from "@/lib/domain/trend";
 import type { ArxModel, QTf } from "@/lib/control/types";
 import type { LoopStateDto, SampleDto, TrackerState } from "@/lib/domain/types";
