@@ -10,6 +10,7 @@
  * Browser-safe (no Node APIs). One pass over the text without splitting it into an array of
  * lines, so a day at 1 s (86,400 rows) parses in tens of milliseconds. Every error names its line.
  */
+import { splitQuotedCells } from "@/lib/domain/csv-cells";
 import type { AssessMode, AssessQuality, AssessSample } from "./types";
 
 export class AssessCsvError extends Error {
@@ -73,25 +74,7 @@ function splitCells(line: string, sep: string): string[] {
     for (let i = 0; i < cells.length; i++) cells[i] = trimIfNeeded(cells[i]!);
     return cells;
   }
-  const out: string[] = [];
-  let cur = "";
-  let quoted = false;
-  for (let i = 0; i < line.length; i++) {
-    const ch = line[i]!;
-    if (quoted) {
-      if (ch === '"' && line[i + 1] === '"') {
-        cur += '"';
-        i++;
-      } else if (ch === '"') quoted = false;
-      else cur += ch;
-    } else if (ch === '"') quoted = true;
-    else if (ch === sep) {
-      out.push(cur.trim());
-      cur = "";
-    } else cur += ch;
-  }
-  out.push(cur.trim());
-  return out;
+  return splitQuotedCells(line, sep);
 }
 
 function headerName(cell: string): { name: string; unit: string | null } {

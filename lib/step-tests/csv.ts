@@ -9,6 +9,7 @@
  * Every problem is reported with its line number in the file (the header is line 1 unless
  * comments precede it) and its 1-based column number and name, so the engineer can find it.
  */
+import { splitQuotedCells } from "@/lib/domain/csv-cells";
 import { HttpError, ValidationError } from "@/lib/domain/errors";
 
 /** Largest accepted upload, bytes (5 MiB). */
@@ -86,28 +87,6 @@ function normaliseUnit(u: string): string {
   return u.toLowerCase().replace(/\s+/g, "").replace(/°/g, "deg").replace(/^deg(?=[a-z])/, "");
 }
 
-function splitLine(line: string, sep: string): string[] {
-  // Quoted cells ("a,b") are allowed; a doubled quote inside is a literal quote (RFC 4180).
-  const out: string[] = [];
-  let cur = "";
-  let quoted = false;
-  for (let i = 0; i < line.length; i++) {
-    const ch = line[i]!;
-    if (quoted) {
-      if (ch === '"' && line[i + 1] === '"') {
-        cur += '"';
-        i++;
-      } else if (ch === '"') quoted = false;
-      else cur += ch;
-    } else if (ch === '"') quoted = true;
-    else if (ch === sep) {
-      out.push(cur);
-      cur = "";
-    } else cur += ch;
-  }
-  out.push(cur);
-  return out.map((c) => c.trim());
-}
 
 function parseHeaderCell(cell: string): { name: string; unit: string | null } {
   const m = /^([^[(]*?)\s*(?:[[(]\s*([^\])]*?)\s*[\])])?$/.exec(cell);
@@ -139,7 +118,7 @@ export function parseStepTestCsv(input: string | Uint8Array, loop?: LoopUnits): 
   if (headerIdx < 0) throw new StepTestFormatError("The file is empty: expected a header line with the columns t, mv, pv.", { row: 1, column: null, columnName: null });
   const headerLine = lines[headerIdx]!;
   const sep = headerLine.includes(",") ? "," : headerLine.includes(";") ? ";" : headerLine.includes("\t") ? "\t" : ",";
-  const header = splitLine(headerLine, sep).map(parseHeaderCell);
+  const header = splitQuotedCells(headerLine, sep).map(parseHeaderCell);
   const index: Partial<Record<Known, number>> = {};
   const units: Partial<Record<Known, string | null>> = {};
   header.forEach((h, i) => {
@@ -209,7 +188,7 @@ export function parseStepTestCsv(input: string | Uint8Array, loop?: LoopUnits): 
     if (rows.length >= MAX_ROWS) {
       throw new StepTestFormatError(`Line ${i + 1}: more than ${MAX_ROWS} data rows; split the test or average to a longer period.`, { row: i + 1, column: null, columnName: null });
     }
-    const cells = splitLine(line, sep);
+    const cells = splitQuotedCells(line, sep);
     const needed = Math.max(index.t!, index.mv!, index.pv!, index.sp ?? 0, index.mode ?? 0) + 1;
     if (cells.length < needed) {
       throw new StepTestFormatError(`Line ${i + 1}: ${cells.length} cell${cells.length === 1 ? "" : "s"}, the header has ${header.length}.`, {

@@ -49,27 +49,11 @@ export function fitFopdt(u: Float64Array, y: Float64Array, T: number, maxDeadTim
   const n = y.length;
   const duration = n * T;
   const g = new Float64Array(n);
-  let yMean = 0;
-  for (let k = 0; k < n; k++) yMean += y[k]!;
-  yMean /= n;
-  let syy = 0;
-  for (let k = 0; k < n; k++) syy += (y[k]! - yMean) ** 2;
+  const { yMean, syy } = meanAndSpread(y);
   // For fixed (tau, L): y ~ K g + c by least squares; returns the residual sum of squares.
   const evaluate = (tau: number, L: number): { rss: number; K: number; c: number } => {
     simulateFopdt(u, T, tau, L, g);
-    let gm = 0;
-    for (let k = 0; k < n; k++) gm += g[k]!;
-    gm /= n;
-    let sgg = 0;
-    let sgy = 0;
-    for (let k = 0; k < n; k++) {
-      const d = g[k]! - gm;
-      sgg += d * d;
-      sgy += d * (y[k]! - yMean);
-    }
-    if (!(sgg > 0)) return { rss: Infinity, K: 0, c: 0 };
-    const K = sgy / sgg;
-    return { rss: syy - K * sgy, K, c: yMean - K * gm };
+    return fitGainOffset(g, y, yMean, syy);
   };
   const lo = Math.log(T / 4);
   const hi = Math.log(Math.max(T, duration * 5));
@@ -155,11 +139,7 @@ export interface IpdtFit {
 export function fitIpdt(u: Float64Array, y: Float64Array, T: number, maxDeadTimeS: number): IpdtFit | null {
   const n = y.length;
   const g = new Float64Array(n);
-  let yMean = 0;
-  for (let k = 0; k < n; k++) yMean += y[k]!;
-  yMean /= n;
-  let syy = 0;
-  for (let k = 0; k < n; k++) syy += (y[k]! - yMean) ** 2;
+  const { yMean, syy } = meanAndSpread(y);
   const evaluate = (L: number) => {
     const N = Math.floor(L / T + 1e-9);
     const f = L - N * T;
@@ -168,19 +148,7 @@ export function fitIpdt(u: Float64Array, y: Float64Array, T: number, maxDeadTime
       g[k] = acc;
       acc += (T - f) * (k - N >= 0 ? u[k - N]! : 0) + f * (k - N - 1 >= 0 ? u[k - N - 1]! : 0);
     }
-    let gm = 0;
-    for (let k = 0; k < n; k++) gm += g[k]!;
-    gm /= n;
-    let sgg = 0;
-    let sgy = 0;
-    for (let k = 0; k < n; k++) {
-      const d = g[k]! - gm;
-      sgg += d * d;
-      sgy += d * (y[k]! - yMean);
-    }
-    if (!(sgg > 0)) return { rss: Infinity, k: 0, c: 0 };
-    const k = sgy / sgg;
-    return { rss: syy - k * sgy, k, c: yMean - k * gm };
+    return fitGainOffset(g, y, yMean, syy);
   };
   const Lmax = Math.max(0, Math.min(maxDeadTimeS, (n * T) / 2));
   const dL = Math.max(T / 4, Lmax / 400);
@@ -204,6 +172,35 @@ export function fitIpdt(u: Float64Array, y: Float64Array, T: number, maxDeadTime
   }
   if (!Number.isFinite(best.rss)) return null;
   const r = evaluate(best.L);
-  if (!Number.isFinite(r.k) || r.k === 0) return null;
-  return { rate: r.k, deadTimeS: best.L, offset: r.c, fitPercent: syy > 0 ? 100 * (1 - Math.sqrt(Math.max(0, r.rss)) / Math.sqrt(syy)) : -Infinity };
+  if (!Number.isFinite(r.K) || r.K === 0) return null;
+  return { rate: r.K, deadTimeS: best.L, offset: r.c, fitPercent: syy > 0 ? 100 * (1 - Math.sqrt(Math.max(0, r.rss)) / Math.sqrt(syy)) : -Infinity };
+}
+
+/** The mean of `y` and its sum of squared deviations. */
+function meanAndSpread(y: Float64Array): { yMean: number; syy: number } {
+  const n = y.length;
+  let yMean = 0;
+  for (let k = 0; k < n; k++) yMean += y[k]!;
+  yMean /= n;
+  let syy = 0;
+  for (let k = 0; k < n; k++) syy += (y[k]! - yMean) ** 2;
+  return { yMean, syy };
+}
+
+/** y ~ K g + c by least squares (given y's mean and spread); returns the residual sum of squares with K and c. */
+function fitGainOffset(g: Float64Array, y: Float64Array, yMean: number, syy: number): { rss: number; K: number; c: number } {
+  const n = y.length;
+  let gm = 0;
+  for (let k = 0; k < n; k++) gm += g[k]!;
+  gm /= n;
+  let sgg = 0;
+  let sgy = 0;
+  for (let k = 0; k < n; k++) {
+    const d = g[k]! - gm;
+    sgg += d * d;
+    sgy += d * (y[k]! - yMean);
+  }
+  if (!(sgg > 0)) return { rss: Infinity, K: 0, c: 0 };
+  const K = sgy / sgg;
+  return { rss: syy - K * sgy, K, c: yMean - K * gm };
 }

@@ -26,6 +26,7 @@ export interface RecordInput {
   siteId: number;
   /** Epoch ms. */
   at: number;
+  /** With the site's period group (server/assessment/site-groups.ts): a shared period turns a sticking valve into a shared oscillation. */
   report: LiveAssessmentReport;
   windowSamples: number;
   windowS: number;

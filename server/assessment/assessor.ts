@@ -21,8 +21,8 @@
  * such peers the report is exactly what `assessLoop` gave (live = offline on the same samples).
  */
 import { assessLoop, type AssessMode, type LoopConfig as AssessConfig } from "@/lib/assessment";
-import type { LiveAssessmentReport } from "@/lib/domain/findings";
 import type { SampleDto } from "@/lib/domain/types";
+import type { RecordInput } from "@/lib/work-list/record";
 import { AssessRing } from "./ring";
 import { applySharedOscillation, sharedOscillationOf, type PeriodPeer } from "./site-groups";
 
@@ -45,17 +45,8 @@ export interface LiveLoop {
   config: AssessConfig;
 }
 
-export interface LiveResult {
-  loopId: number;
-  tenantId: number;
-  siteId: number;
-  /** Epoch ms. */
-  at: number;
-  /** With the site's period group (site-groups.ts): a shared period turns a sticking valve into a shared oscillation. */
-  report: LiveAssessmentReport;
-  windowSamples: number;
-  windowS: number;
-}
+/** One assessment of a loop, as the work list records it. */
+export type LiveResult = RecordInput;
 
 interface Entry {
   loop: LiveLoop;

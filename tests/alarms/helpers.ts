@@ -7,6 +7,7 @@ import type { Sequelize } from "sequelize";
 import { afterAll } from "vitest";
 import { getConfig } from "@/lib/config";
 import type { LoopStateDto, PoleDto, Role, TenantContext } from "@/lib/domain/types";
+import { AlarmService } from "@/server/alarms/service";
 import { Bus, type Clock, type ServerContext } from "@/server/context";
 import type { Models } from "@/models";
 
@@ -66,6 +67,13 @@ export function tempJournal(): string {
   const dir = fs.mkdtempSync(path.join(os.tmpdir(), "rg-aj-"));
   journalDirs.push(dir);
   return path.join(dir, "alarm-journal.ndjson");
+}
+
+/** An alarm service on the test database, registered in its context: a 1 MiB journal, a retry every 50 ms. */
+export async function startAlarmService(sequelize: Sequelize, clock: Clock, journalPath: string, ctx = testContext(clock)): Promise<{ svc: AlarmService; ctx: ServerContext }> {
+  const svc = await AlarmService.start(ctx, { sequelize, journalPath, journalMaxBytes: 1 << 20, retryMs: 50, quiet: true });
+  ctx.services.set("alarms", svc);
+  return { svc, ctx };
 }
 
 export interface Fixture {

@@ -9,9 +9,10 @@
 import { QueryTypes } from "sequelize";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import type { AlarmDto, LoopStateDto } from "@/lib/domain/types";
-import { AlarmService } from "@/server/alarms/service";
+import type { AlarmService } from "@/server/alarms/service";
+import type { ServerContext } from "@/server/context";
 import { createTestDatabase, type TestDatabase } from "../setup/db";
-import { createFixture, FakeClock, loopState, pole, polesWithDecay, setTenantPolicy, tempJournal, testContext, type Fixture } from "./helpers";
+import { createFixture, FakeClock, loopState, pole, polesWithDecay, setTenantPolicy, startAlarmService, tempJournal, type Fixture } from "./helpers";
 
 const T0 = Date.UTC(2026, 10, 20, 22, 0, 0);
 const OFF_DELAY_S = 3600;
@@ -27,12 +28,7 @@ afterAll(async () => {
   await db?.drop();
 });
 
-async function start(clock: FakeClock, journalPath: string) {
-  const ctx = testContext(clock);
-  const svc = await AlarmService.start(ctx, { sequelize: db.sequelize, journalPath, journalMaxBytes: 1 << 20, retryMs: 50, quiet: true });
-  ctx.services.set("alarms", svc);
-  return { svc, ctx };
-}
+const start = (clock: FakeClock, journalPath: string, ctx?: ServerContext) => startAlarmService(db.sequelize, clock, journalPath, ctx);
 const byCondition = (svc: AlarmService, c: string): AlarmDto => svc.list(fx.tenantId, { loopId: fx.loopId }).find((a) => a.condition === c)!;
 /** An oscillating pair at decay ratio 0.6 (margin, high) and a slow real pole (sluggish). */
 const inAlarm = (at: number) => loopState(fx.loopId, fx.tenantId, at, [...polesWithDecay(0.6), pole(0.998, 0)]);

@@ -9,10 +9,11 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { ForbiddenError, NotFoundError, ValidationError } from "@/lib/domain/errors";
 import { IllegalTransitionError } from "@/lib/domain/alarms/state-machine";
 import type { AlarmDto } from "@/lib/domain/types";
-import { AlarmService } from "@/server/alarms/service";
+import type { AlarmService } from "@/server/alarms/service";
+import type { ServerContext } from "@/server/context";
 import { startMail, type MailService } from "@/server/mail";
 import { createTestDatabase, type TestDatabase } from "../setup/db";
-import { createFixture, FakeClock, loopState, polesWithDecay, setTenantPolicy, settle, tempJournal, testContext, type Fixture } from "./helpers";
+import { createFixture, FakeClock, loopState, polesWithDecay, setTenantPolicy, startAlarmService, settle, tempJournal, testContext, type Fixture } from "./helpers";
 
 const T0 = Date.UTC(2026, 2, 9, 6, 0, 0);
 
@@ -28,11 +29,7 @@ afterAll(async () => {
   await db?.drop();
 });
 
-async function start(clock: FakeClock, journalPath: string, ctx = testContext(clock)) {
-  const svc = await AlarmService.start(ctx, { sequelize: db.sequelize, journalPath, journalMaxBytes: 1 << 20, retryMs: 50, quiet: true });
-  ctx.services.set("alarms", svc);
-  return { svc, ctx };
-}
+const start = (clock: FakeClock, journalPath: string, ctx?: ServerContext) => startAlarmService(db.sequelize, clock, journalPath, ctx);
 
 function marginPoint(svc: AlarmService): AlarmDto {
   return svc.list(fx.tenantId, { loopId: fx.loopId }).find((a) => a.condition === "margin")!;

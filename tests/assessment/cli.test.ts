@@ -9,7 +9,7 @@ import { mkdtempSync, rmSync, writeFileSync } from "node:fs";
 import { tmpdir } from "node:os";
 import path from "node:path";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import { simulateLoop } from "./loop-sim";
+import { flowLoopJson, simulateLoop } from "./loop-sim";
 
 const root = path.join(import.meta.dirname, "..", "..");
 let dir = "";
@@ -28,19 +28,13 @@ beforeAll(() => {
   loop = path.join(dir, "fic-310.json");
   writeFileSync(
     loop,
-    JSON.stringify({
-      tag: "FIC-310",
-      description: "Feed flow to the second stripper (demo site)",
-      kind: "flow",
-      units: "m3/h",
-      pvLo: 0,
-      pvHi: 100,
-      samplePeriodS: 1,
-      deadTimeS: 2,
-      normalMode: "auto",
-      controller: { kp: 0.5, ti: 15, td: 0, action: "reverse", mvLo: 0, mvHi: 100, form: "ideal", derivativeOn: "pv", derivativeFilterS: 0 },
-      site: "ignored extra field",
-    }),
+    JSON.stringify(
+      flowLoopJson(
+        "FIC-310",
+        { description: "Feed flow to the second stripper (demo site)", site: "ignored extra field" },
+        { form: "ideal", derivativeOn: "pv", derivativeFilterS: 0 },
+      ),
+    ),
   );
 });
 

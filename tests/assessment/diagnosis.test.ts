@@ -9,21 +9,9 @@
 import { describe, expect, it } from "vitest";
 import { assessLoop, parseLoopConfig, type AssessSample } from "@/lib/assessment";
 import { closedLoopPolynomial, discretePid, spectralRadius } from "@/lib/control";
-import { simulateLoop, type SimOptions } from "./loop-sim";
+import { flowLoopJson, simulateLoop, type SimOptions } from "./loop-sim";
 
-const config = (o: Record<string, unknown> = {}) =>
-  parseLoopConfig({
-    tag: "FIC-204",
-    kind: "flow",
-    units: "m3/h",
-    pvLo: 0,
-    pvHi: 100,
-    samplePeriodS: 1,
-    deadTimeS: 2,
-    normalMode: "auto",
-    controller: { kp: 0.5, ti: 15, td: 0, action: "reverse", mvLo: 0, mvHi: 100 },
-    ...o,
-  });
+const config = (o: Record<string, unknown> = {}) => parseLoopConfig(flowLoopJson("FIC-204", o));
 
 function labels(make: (seed: number) => SimOptions, transform: (s: AssessSample[]) => AssessSample[] = (s) => s, cfg = config()): string[] {
   const out: string[] = [];
@@ -55,24 +43,17 @@ describe("diagnosis on simulated loops (10 seeds each)", () => {
 
   // The simulated plant: K = 1, τ = 20 s, dead time 2 s plus the hold's sample (3.5 s effective).
   // SIMC (Skogestad, J. Process Control 13, 2003) with τc = θ: kp = τ/(K(τc + θ)) ≈ 2.9, Ti = τ.
-  it("a loop tuned by SIMC reports no oscillation and reads healthy in at least 8 of 10", () => {
+  it.each([
+    { name: "a loop tuned by SIMC reports no oscillation and reads healthy in at least 8 of 10", kp: 2.9, ti: 20, label: "healthy" },
+    { name: "a gain 20 times below SIMC with a slow integral reads sluggish-tuning in at least 8 of 10, without oscillation", kp: 0.15, ti: 100, label: "sluggish-tuning" },
+  ])("$name", ({ kp, ti, label }) => {
     const got: string[] = [];
     for (let seed = 1; seed <= 10; seed++) {
-      const r = assessLoop(simulateLoop({ seed, n: 6000, kp: 2.9, ti: 20 }), config({ deadTimeS: 3, controller: { kp: 2.9, ti: 20, mvLo: 0, mvHi: 100 } }));
+      const r = assessLoop(simulateLoop({ seed, n: 6000, kp, ti }), config({ deadTimeS: 3, controller: { kp, ti, mvLo: 0, mvHi: 100 } }));
       expect(r.oscillation.detected).toBe(false);
       got.push(r.diagnosis.label);
     }
-    expect(count(got, "healthy"), got.join(",")).toBeGreaterThanOrEqual(8);
-  });
-
-  it("a gain 20 times below SIMC with a slow integral reads sluggish-tuning in at least 8 of 10, without oscillation", () => {
-    const got: string[] = [];
-    for (let seed = 1; seed <= 10; seed++) {
-      const r = assessLoop(simulateLoop({ seed, n: 6000, kp: 0.15, ti: 100 }), config({ deadTimeS: 3, controller: { kp: 0.15, ti: 100, mvLo: 0, mvHi: 100 } }));
-      expect(r.oscillation.detected).toBe(false);
-      got.push(r.diagnosis.label);
-    }
-    expect(count(got, "sluggish-tuning"), got.join(",")).toBeGreaterThanOrEqual(8);
+    expect(count(got, label), got.join(",")).toBeGreaterThanOrEqual(8);
   });
 
   it("a gain twice SIMC's with a short integral time reads aggressive-tuning in at least 9 of 10", () => {

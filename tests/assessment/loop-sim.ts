@@ -96,10 +96,13 @@ export function simulateLoop(o: SimOptions): AssessSample[] {
   return out;
 }
 
-/** LOOP.json of the simulated loop (a flow loop, span 0-100, 1 s, dead time 2 s) with a PI controller. */
-export function simulatedLoopConfig(kp: number, ti: number | null): LoopConfig {
-  return parseLoopConfig({
-    tag: "FIC-311",
+/**
+ * The raw LOOP.json of a simulated flow loop (span 0-100, 1 s, dead time 2 s) with a PI controller
+ * (Kp 0.5, Ti 15 s); `controller` overrides fields of the controller, `o` fields of the loop.
+ */
+export function flowLoopJson(tag: string, o: Record<string, unknown> = {}, controller: Record<string, unknown> = {}): Record<string, unknown> {
+  return {
+    tag,
     kind: "flow",
     units: "m3/h",
     pvLo: 0,
@@ -107,6 +110,27 @@ export function simulatedLoopConfig(kp: number, ti: number | null): LoopConfig {
     samplePeriodS: 1,
     deadTimeS: 2,
     normalMode: "auto",
-    controller: { kp, ti, td: 0, action: "reverse", mvLo: 0, mvHi: 100 },
-  });
+    controller: { kp: 0.5, ti: 15, td: 0, action: "reverse", mvLo: 0, mvHi: 100, ...controller },
+    ...o,
+  };
+}
+
+/** LOOP.json of the simulated loop with a PI controller of the given tuning. */
+export function simulatedLoopConfig(kp: number, ti: number | null): LoopConfig {
+  return parseLoopConfig(flowLoopJson("FIC-311", {}, { kp, ti }));
+}
+
+/**
+ * Noise through a stable AR(2) filter of damping ζ and natural frequency ωn·T (rad per sample):
+ * poles r·e^(±jθ) with r = e^(−ζωnT), θ = ωnT·√(1−ζ²) (Box, Jenkins & Reinsel). The first
+ * `burnIn` samples are dropped so the start-up transient is gone.
+ */
+export function ar2Noise(rng: Prng, n: number, zeta: number, wnT: number, burnIn: number): Float64Array {
+  const r = Math.exp(-zeta * wnT);
+  const th = wnT * Math.sqrt(1 - zeta * zeta);
+  const a1 = -2 * r * Math.cos(th);
+  const a2 = r * r;
+  const x = new Float64Array(n + burnIn);
+  for (let k = 2; k < x.length; k++) x[k] = -a1 * x[k - 1]! - a2 * x[k - 2]! + rng.normal();
+  return x.subarray(burnIn);
 }

@@ -11,17 +11,9 @@
 import { describe, expect, it } from "vitest";
 import { countLoadDisturbances, detectOscillation } from "@/lib/assessment/oscillation";
 import { Prng } from "@/simulators/prng";
+import { ar2Noise } from "./loop-sim";
 
-function ar2(seed: number, n: number, zeta: number, wnT: number): Float64Array {
-  const rng = new Prng(seed);
-  const r = Math.exp(-zeta * wnT);
-  const th = wnT * Math.sqrt(1 - zeta * zeta);
-  const a1 = -2 * r * Math.cos(th);
-  const a2 = r * r;
-  const x = new Float64Array(n + 200);
-  for (let k = 2; k < x.length; k++) x[k] = -a1 * x[k - 1]! - a2 * x[k - 2]! + rng.normal();
-  return x.subarray(200);
-}
+const ar2 = (seed: number, n: number, zeta: number, wnT: number) => ar2Noise(new Prng(seed), n, zeta, wnT, 200);
 
 describe("no oscillation in AR(2) noise with ζ 0.3–0.5 (Box, Jenkins & Reinsel; Thornhill et al. 2003)", () => {
   it("at most 5 % of 200 seeds flagged", () => {

@@ -12,16 +12,9 @@
 import { describe, expect, it } from "vitest";
 import { isLine, strongestLine } from "@/lib/assessment/spectral-line";
 import { Prng } from "@/simulators/prng";
+import { ar2Noise } from "./loop-sim";
 
-function ar2(rng: Prng, n: number, zeta: number, wnT: number): Float64Array {
-  const r = Math.exp(-zeta * wnT);
-  const th = wnT * Math.sqrt(1 - zeta * zeta);
-  const a1 = -2 * r * Math.cos(th);
-  const a2 = r * r;
-  const x = new Float64Array(n + 500);
-  for (let k = 2; k < x.length; k++) x[k] = -a1 * x[k - 1]! - a2 * x[k - 2]! + rng.normal();
-  return x.subarray(500);
-}
+const ar2 = (rng: Prng, n: number, zeta: number, wnT: number) => ar2Noise(rng, n, zeta, wnT, 500);
 
 const all = (n: number) => new Uint8Array(n).fill(1);
 const sd = (x: Float64Array) => Math.sqrt(x.reduce((s, v) => s + v * v, 0) / x.length);

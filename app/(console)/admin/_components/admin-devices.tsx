@@ -11,6 +11,7 @@ import { fetchJson, sendJson } from "@/lib/client/fetcher";
 import { fmtTime } from "@/lib/client/format";
 import { Field, FormAlert, INPUT_CLASS, SUBMIT_CLASS, useServerError } from "@/app/_components/form-field";
 import { ReasonDialog } from "@/app/_components/reason-dialog";
+import { IdOptions } from "@/app/_components/id-options";
 
 const form = z.object({ name: z.string().trim().min(2, "Name the device (at least 2 characters)."), siteId: z.number().int().positive().nullable() });
 
@@ -43,11 +44,7 @@ export function AdminDevices() {
         <Field label="May publish for">
           <select {...register("siteId", { setValueAs: (v) => (v === "" || v == null ? null : Number(v)) })} className={INPUT_CLASS}>
             <option value="">every site of the tenant</option>
-            {sites.data?.sites.map((s) => (
-              <option key={s.id} value={s.id}>
-                {s.name}
-              </option>
-            ))}
+            <IdOptions rows={sites.data?.sites} label="name" />
           </select>
         </Field>
         <button type="submit" disabled={isSubmitting} className={SUBMIT_CLASS}>

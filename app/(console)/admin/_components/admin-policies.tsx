@@ -15,6 +15,7 @@ import { fetchJson, query } from "@/lib/client/fetcher";
 import type { LoopSummary } from "@/lib/domain/types";
 import type { PolicyView } from "@/lib/domain/services";
 import { PolicyEditor } from "./policy-editor";
+import { IdOptions } from "@/app/_components/id-options";
 
 export function AdminPolicies({
   role,
@@ -78,11 +79,7 @@ export function AdminPolicies({
               className={sel}
             >
               <option value="">choose…</option>
-              {sites.data?.sites.map((s) => (
-                <option key={s.id} value={s.id}>
-                  {s.name}
-                </option>
-              ))}
+              <IdOptions rows={sites.data?.sites} label="name" />
             </select>
           </label>
         )}
@@ -95,11 +92,7 @@ export function AdminPolicies({
               className={sel}
             >
               <option value="">choose…</option>
-              {loopList.map((l) => (
-                <option key={l.id} value={l.id}>
-                  {l.tag}
-                </option>
-              ))}
+              <IdOptions rows={loopList} label="tag" />
             </select>
           </label>
         )}

@@ -12,6 +12,7 @@ import { ApiError, fetchJson, sendJson } from "@/lib/client/fetcher";
 import { fmtTime } from "@/lib/client/format";
 import type { LoopSummary } from "@/lib/domain/types";
 import { MODE_DATATYPES, NUMERIC_DATATYPES, datatypeName, type SparkplugOverviewDto, type SparkplugSourceDto } from "@/lib/domain/sparkplug";
+import { IdOptions } from "@/app/_components/id-options";
 
 const sourceKey = (s: Pick<SparkplugSourceDto, "groupId" | "edgeNode" | "device">) => `${s.groupId}/${s.edgeNode}/${s.device}`;
 const CODES: Record<string, number> = Object.fromEntries(Array.from({ length: 14 }, (_, i) => [datatypeName(i + 1), i + 1]));
@@ -132,11 +133,7 @@ export function AdminSparkplug() {
         <Field label="Loop" error={fieldErrors.loopId}>
           <select value={form.loopId} onChange={set("loopId")} className={INPUT_CLASS}>
             <option value="">choose a loop</option>
-            {loops.data?.loops.map((l) => (
-              <option key={l.id} value={l.id}>
-                {l.tag}
-              </option>
-            ))}
+            <IdOptions rows={loops.data?.loops} label="tag" />
           </select>
         </Field>
         <Field label="SP" error={fieldErrors.sp}>{metricSelect("sp", fits.numeric)}</Field>

@@ -14,6 +14,7 @@ import { createLoopSchema, NEW_LOOP_DEFAULTS, type CreateLoopInput, type LoopFie
 import type { SiteDto } from "@/lib/data/admin/sites";
 import { LOOP_KINDS } from "@/lib/domain/types";
 import { fetchJson, sendJson } from "@/lib/client/fetcher";
+import { IdOptions } from "@/app/_components/id-options";
 
 type Form = CreateLoopInput;
 const numOrNull = (v: unknown) => (v === "" || v === null || v === undefined ? null : Number(v));
@@ -102,21 +103,13 @@ function LoopFormInner({ initial, loopId, sites }: LoopFormProps & { sites: Site
         <Field name="siteId" label="Site" {...p}>
           <select id="f-siteId" {...register("siteId", { setValueAs: (v) => Number(v) })} className={sel}>
             <option value={0}>choose…</option>
-            {sites.map((s) => (
-              <option key={s.id} value={s.id}>
-                {s.name}
-              </option>
-            ))}
+            <IdOptions rows={sites} label="name" />
           </select>
         </Field>
         <Field name="areaId" label="Operator area" {...p}>
           <select id="f-areaId" {...register("areaId", { setValueAs: numOrNull })} className={sel}>
             <option value="">none</option>
-            {areas.map((a) => (
-              <option key={a.id} value={a.id}>
-                {a.name}
-              </option>
-            ))}
+            <IdOptions rows={areas} label="name" />
           </select>
         </Field>
         <Field name="tag" label="Tag" {...p} hint="As the plant writes it, e.g. FIC-101" />

@@ -1,4 +1,6 @@
 /** An operator-area choice of one site; the empty value means the whole site (label given by the caller). */
+import { IdOptions } from "@/app/_components/id-options";
+
 export function AreaSelect({
   value,
   onChange,
@@ -17,11 +19,7 @@ export function AreaSelect({
   return (
     <select value={value} onChange={(e) => onChange(e.target.value)} className={className} disabled={disabled}>
       <option value="">{emptyLabel}</option>
-      {areas.map((a) => (
-        <option key={a.id} value={a.id}>
-          {a.name}
-        </option>
-      ))}
+      <IdOptions rows={areas} label="name" />
     </select>
   );
 }

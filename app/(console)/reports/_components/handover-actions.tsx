@@ -3,27 +3,35 @@
 import { useRouter } from "next/navigation";
 import { useState } from "react";
 import { sendJson } from "@/lib/client/fetcher";
+import { FormAlert, useServerError } from "@/app/_components/form-field";
 import { AreaSelect } from "./area-select";
 
-export function ShiftNoteForm({ siteId, areas }: { siteId: number; areas: { id: number; name: string }[] }) {
+/** Send, then refresh the page's server data; busy while it runs, the server's refusal kept as typed. */
+function useRefreshingAction(): { busy: boolean; error: string | null; run: (send: () => Promise<unknown>) => Promise<void> } {
   const router = useRouter();
+  const [busy, setBusy] = useState(false);
+  const { error, attempt } = useServerError();
+  const run = async (send: () => Promise<unknown>) => {
+    setBusy(true);
+    await attempt(async () => {
+      await send();
+      router.refresh();
+    });
+    setBusy(false);
+  };
+  return { busy, error, run };
+}
+
+export function ShiftNoteForm({ siteId, areas }: { siteId: number; areas: { id: number; name: string }[] }) {
   const [text, setText] = useState("");
   const [areaId, setAreaId] = useState<string>("");
-  const [busy, setBusy] = useState(false);
-  const [fail, setFail] = useState<string | null>(null);
+  const { busy, error, run } = useRefreshingAction();
   async function submit(e: React.FormEvent) {
     e.preventDefault();
-    setBusy(true);
-    setFail(null);
-    try {
+    await run(async () => {
       await sendJson("/api/notes", "POST", { kind: "shift", siteId, ...(areaId ? { areaId: Number(areaId) } : {}), text });
       setText("");
-      router.refresh();
-    } catch (err) {
-      setFail((err as Error).message);
-    } finally {
-      setBusy(false);
-    }
+    });
   }
   return (
     <form onSubmit={submit} className="flex flex-col gap-1 rounded-md border border-line bg-surface p-3" aria-label="Shift note">
@@ -39,20 +47,14 @@ export function ShiftNoteForm({ siteId, areas }: { siteId: number; areas: { id: 
         <button type="submit" disabled={busy || !text.trim()} className="rounded border border-line px-3 py-0.5 text-sm disabled:opacity-50">
           Add shift note
         </button>
-        {fail && (
-          <span role="alert" className="text-sm text-urgent">
-            {fail}
-          </span>
-        )}
+        <FormAlert error={error} className="" />
       </div>
     </form>
   );
 }
 
 export function ConfirmHandover({ siteId, shift, confirmed }: { siteId: number; shift: string; confirmed: boolean }) {
-  const router = useRouter();
-  const [busy, setBusy] = useState(false);
-  const [fail, setFail] = useState<string | null>(null);
+  const { busy, error, run } = useRefreshingAction();
   if (confirmed) return <p className="text-sm text-muted">You have confirmed reading this handover.</p>;
   return (
     <div className="flex items-center gap-2">
@@ -60,26 +62,11 @@ export function ConfirmHandover({ siteId, shift, confirmed }: { siteId: number; 
         type="button"
         disabled={busy}
         className="rounded border border-line px-3 py-1 text-sm"
-        onClick={async () => {
-          setBusy(true);
-          setFail(null);
-          try {
-            await sendJson("/api/reports/handover/confirm", "POST", { siteId, shift });
-            router.refresh();
-          } catch (err) {
-            setFail((err as Error).message);
-          } finally {
-            setBusy(false);
-          }
-        }}
+        onClick={() => run(() => sendJson("/api/reports/handover/confirm", "POST", { siteId, shift }))}
       >
         I have read this handover
       </button>
-      {fail && (
-        <span role="alert" className="text-sm text-urgent">
-          {fail}
-        </span>
-      )}
+      <FormAlert error={error} className="" />
     </div>
   );
 }

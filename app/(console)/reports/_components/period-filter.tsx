@@ -1,5 +1,6 @@
 /** GET form for a report's period and filters (no script needed). Server component. */
 import type { SiteDto } from "@/lib/data/admin/sites";
+import { IdOptions } from "@/app/_components/id-options";
 
 const KINDS = ["flow", "level", "temperature", "pressure", "composition", "other"];
 
@@ -19,11 +20,7 @@ export function PeriodFilter({ action, from, to, siteId, areaId, kind, sites }: 
         Site
         <select name="siteId" defaultValue={siteId ?? ""} className={field}>
           <option value="">all sites</option>
-          {sites.map((s) => (
-            <option key={s.id} value={s.id}>
-              {s.name}
-            </option>
-          ))}
+          <IdOptions rows={sites} label="name" />
         </select>
       </label>
       <label className="flex flex-col text-muted">

@@ -8,6 +8,7 @@ import { useState } from "react";
 import { sendJson } from "@/lib/client/fetcher";
 import type { SubscriptionDto } from "@/lib/reports/delivery";
 import { AreaSelect } from "./area-select";
+import { IdOptions } from "@/app/_components/id-options";
 
 const NAMES: Record<string, string> = { handover: "Shift handover", "worst-loops": "Worst loops", "fleet-health": "Fleet health" };
 
@@ -86,11 +87,7 @@ export function SubscriptionsForm({ subscriptions, sites }: { subscriptions: Sub
             className={field}
           >
             {report !== "handover" && <option value="">all your sites</option>}
-            {sites.map((s) => (
-              <option key={s.id} value={s.id}>
-                {s.name}
-              </option>
-            ))}
+            <IdOptions rows={sites} label="name" />
           </select>
         </label>
         <label className="flex flex-col text-muted">

@@ -9,6 +9,7 @@ import { nextShift, shiftAt } from "@/lib/reports/shifts";
 import { roleAtLeast } from "@/lib/domain/types";
 import { ConfirmHandover, ShiftNoteForm } from "../_components/handover-actions";
 import { ReportDocView } from "../_components/report-doc-view";
+import { ReportHeading } from "../_components/report-heading";
 import { ReportTabs } from "../_components/report-tabs";
 
 export const dynamic = "force-dynamic";
@@ -52,13 +53,7 @@ export default async function HandoverPage({ searchParams }: { searchParams: Pro
   return (
     <div className="flex flex-col gap-4">
       <ReportTabs active="/reports/handover" />
-      <div className="flex flex-wrap items-baseline justify-between gap-2">
-        <div>
-          <h1 className="text-xl font-semibold">{doc.title}</h1>
-          <p className="num text-sm text-muted" data-testid="handover-period">
-            {doc.period}
-          </p>
-        </div>
+      <ReportHeading title={doc.title} period={doc.period} periodTestId="handover-period">
         <div className="flex flex-wrap items-center gap-2 text-sm">
           {sites.length > 1 &&
             sites.map((s) => (
@@ -67,7 +62,7 @@ export default async function HandoverPage({ searchParams }: { searchParams: Pro
               </Link>
             ))}
         </div>
-      </div>
+      </ReportHeading>
       {chosen.areas.length > 0 && (
         <nav aria-label="Areas" className="flex flex-wrap items-center gap-3 text-sm">
           <Link href={`/reports/handover?site=${site.siteId}`} aria-current={!area ? "true" : undefined} className={!area ? "font-medium underline" : "text-muted"}>

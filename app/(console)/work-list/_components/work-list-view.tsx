@@ -12,6 +12,7 @@ import { fetchJson, sendJson } from "@/lib/client/fetcher";
 import type { FindingFigures } from "@/lib/domain/findings";
 import type { WorkItemDto, WorkItemEventDto, WorkStatus } from "@/lib/work-list/queries";
 import { FindingRules } from "./finding-rules";
+import { IdOptions } from "@/app/_components/id-options";
 
 type ListBody = { items: WorkItemDto[]; owners: { id: number; name: string }[] };
 const STATUS_WORDS: Record<WorkStatus, string> = { open: "open", "in-work": "in work", closed: "closed" };
@@ -100,9 +101,7 @@ function ItemDetail({ id, canEdit, owners, onChanged }: { id: number; canEdit: b
             owner
             <select className="rounded border border-line bg-raised px-2 py-1" value={item.owner?.id ?? ""} disabled={busy} onChange={(e) => void send({ ownerId: e.target.value ? Number(e.target.value) : null })}>
               <option value="">none</option>
-              {owners.map((o) => (
-                <option key={o.id} value={o.id}>{o.name}</option>
-              ))}
+              <IdOptions rows={owners} label="name" />
             </select>
           </label>
           {(["open", "in-work", "closed"] as const).filter((s) => s !== item.status).map((s) => (

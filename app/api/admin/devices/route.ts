@@ -1,18 +1,14 @@
-import { NextResponse } from "next/server";
 import { createDevice, createDeviceSchema, listDevices } from "@/lib/data/admin/devices";
-import { requireContext } from "@/lib/auth/guard";
-import { handle, parseBody } from "@/lib/http";
+import { createRoute, readRoute } from "@/lib/auth/json-route";
 
 export const dynamic = "force-dynamic";
 
-export const GET = handle(async () => {
-  const ctx = await requireContext("admin");
-  return NextResponse.json({ devices: await listDevices(ctx) });
-});
+export const GET = readRoute("admin", async (ctx) => ({ devices: await listDevices(ctx) }));
 
 /** Create a device credential: `{ name, siteId, reason? }`; the answer carries the secret, once. */
-export const POST = handle(async (req: Request) => {
-  const ctx = await requireContext("admin");
-  const body = await parseBody(req, createDeviceSchema);
-  return NextResponse.json({ device: await createDevice(ctx, body) }, { status: 201, headers: { "cache-control": "no-store" } });
-});
+export const POST = createRoute(
+  "admin",
+  createDeviceSchema,
+  async (ctx, body) => ({ device: await createDevice(ctx, body) }),
+  { "cache-control": "no-store" },
+);

@@ -1,17 +1,8 @@
-import { NextResponse } from "next/server";
 import { createRule, listRules, ruleSchema } from "@/lib/data/admin/notifications";
-import { requireContext } from "@/lib/auth/guard";
-import { handle, parseBody } from "@/lib/http";
+import { createRoute, readRoute } from "@/lib/auth/json-route";
 
 export const dynamic = "force-dynamic";
 
-export const GET = handle(async () => {
-  const ctx = await requireContext("admin");
-  return NextResponse.json({ rules: await listRules(ctx) });
-});
+export const GET = readRoute("admin", async (ctx) => ({ rules: await listRules(ctx) }));
 
-export const POST = handle(async (req: Request) => {
-  const ctx = await requireContext("admin");
-  const body = await parseBody(req, ruleSchema);
-  return NextResponse.json({ rule: await createRule(ctx, body) }, { status: 201 });
-});
+export const POST = createRoute("admin", ruleSchema, async (ctx, body) => ({ rule: await createRule(ctx, body) }));

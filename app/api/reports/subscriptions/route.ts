@@ -4,20 +4,11 @@
  * shift for a site, worst loops or fleet health weekly (viewer). Mail goes only to the subscriber,
  * a member of the tenant, and stops when the membership ends.
  */
-import { NextResponse } from "next/server";
-import { requireContext } from "@/lib/auth/guard";
-import { handle, parseBody } from "@/lib/http";
+import { createRoute, readRoute } from "@/lib/auth/json-route";
 import { listMySubscriptions, subscribe, subscriptionInputSchema } from "@/lib/reports/delivery";
 
 export const dynamic = "force-dynamic";
 
-export const GET = handle(async () => {
-  const ctx = await requireContext("viewer");
-  return NextResponse.json({ subscriptions: await listMySubscriptions(ctx) });
-});
+export const GET = readRoute("viewer", async (ctx) => ({ subscriptions: await listMySubscriptions(ctx) }));
 
-export const POST = handle(async (req: Request) => {
-  const ctx = await requireContext("viewer");
-  const subscription = await subscribe(ctx, await parseBody(req, subscriptionInputSchema));
-  return NextResponse.json({ subscription }, { status: 201 });
-});
+export const POST = createRoute("viewer", subscriptionInputSchema, async (ctx, input) => ({ subscription: await subscribe(ctx, input) }));
