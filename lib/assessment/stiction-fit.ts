@@ -75,7 +75,6 @@ function lagDot4(x: Float64Array, i: number, y: Float64Array, j: number, from: n
  */
 interface ArxFixed {
   pv: Float64Array;
-  ones: Float64Array;
   nb: number;
   p: number;
   start: number;
@@ -98,21 +97,34 @@ function prepareArx(pv: Float64Array, nb: number): ArxFixed {
     b[r] = lagDot(xr, r, pv, 0, start, n);
     for (let c = 0; c <= r; c++) A[r * p + c] = lagDot(xr, r, c === 0 ? ones : pv, c, start, n);
   }
-  return { pv, ones, nb, p, start, A, b, yy: lagDot(pv, 0, pv, 0, start, n) };
+  return { pv, nb, p, start, A, b, yy: lagDot(pv, 0, pv, 0, start, n) };
 }
 
 /** Least squares of PV on the constant, PV lags 1..NA and valve lags 1..nb; returns the residual variance. */
 function arxResidual(f: ArxFixed, v: Float64Array): number {
-  const { pv, ones, nb, p, start } = f;
+  const { pv, nb, p, start } = f;
   const n = pv.length;
   const A = new Float64Array(f.A);
   const b = new Float64Array(f.b);
   const yy = f.yy;
   for (let j = 1; j <= nb; j++) {
     const r = NA + j;
-    b[r] = lagDot(v, j, pv, 0, start, n);
-    A[r * p] = lagDot(v, j, ones, 0, start, n);
-    for (let c = 1; c <= NA; c++) A[r * p + c] = lagDot(v, j, pv, c, start, n);
+    // Σ v, Σ v·PV(t), Σ v·PV(t-1), Σ v·PV(t-2) (NA = 2): b and the constant's and PV lags' columns (a·1 is exactly a).
+    let s1 = 0;
+    let sb = 0;
+    let sp1 = 0;
+    let sp2 = 0;
+    for (let t = start; t < n; t++) {
+      const a = v[t - j]!;
+      s1 += a;
+      sb += a * pv[t]!;
+      sp1 += a * pv[t - 1]!;
+      sp2 += a * pv[t - 2]!;
+    }
+    b[r] = sb;
+    A[r * p] = s1;
+    A[r * p + 1] = sp1;
+    A[r * p + 2] = sp2;
     let c = NA + 1;
     for (; c + 3 <= r; c += 4) lagDot4(v, j, v, c - NA, start, n, A, r * p + c);
     for (; c <= r; c++) A[r * p + c] = lagDot(v, j, v, c - NA, start, n);
