@@ -86,6 +86,8 @@ function stagger(loopId: number): number {
 export class LiveAssessor {
   private readonly loops = new Map<number, Entry>();
   private readonly dueQueue: number[] = [];
+  /** Index of the next id to take from dueQueue. */
+  private dueHead = 0;
   private readonly latest = new Map<number, LiveResult>();
   /** The latest detected oscillation of each loop, per site (for the site period grouping). */
   private readonly periods = new Map<number, Map<number, PeriodPeer>>();
@@ -158,12 +160,17 @@ export class LiveAssessor {
   runDue(maxMs = 20): number {
     const start = performance.now();
     let ran = 0;
-    while (this.dueQueue.length && performance.now() - start < maxMs) {
-      const id = this.dueQueue.shift()!;
+    while (this.dueHead < this.dueQueue.length && performance.now() - start < maxMs) {
+      const id = this.dueQueue[this.dueHead++]!;
       const e = this.loops.get(id);
       if (!e || !e.due) continue;
       this.assess(e);
       ran++;
+    }
+    // Drop the taken ids now and then (shift() would move the whole queue at every run).
+    if (this.dueHead === this.dueQueue.length || this.dueHead > 1_024) {
+      this.dueQueue.splice(0, this.dueHead);
+      this.dueHead = 0;
     }
     return ran;
   }
