@@ -12,6 +12,8 @@ import type { AssessSample, CompressionFigures } from "./types";
 /** More than this share of repeated or collinear PV samples reads as compressed/stale. */
 const REPEAT_LIMIT = 0.3;
 const LINEAR_LIMIT = 0.3;
+/** Fewer distinct PV steps than this read as quantised. */
+const QUANTISED_STEPS = 64;
 
 export function detectCompression(samples: readonly AssessSample[], config: LoopConfig, rawSpacing: number, pvNoisePct: number): CompressionFigures {
   const n = samples.length;
@@ -21,7 +23,7 @@ export function detectCompression(samples: readonly AssessSample[], config: Loop
   let pairs = 0;
   let triples = 0;
   let minStep = Infinity;
-  const stepCounts = new Map<number, number>();
+  const steps = new Set<number>();
   for (let i = 1; i < n; i++) {
     const a = samples[i - 1]!;
     const b = samples[i]!;
@@ -31,10 +33,8 @@ export function detectCompression(samples: readonly AssessSample[], config: Loop
     if (d === 0) repeats++;
     else {
       if (d < minStep) minStep = d;
-      if (stepCounts.size < 4096) {
-        const key = Number(d.toPrecision(6));
-        stepCounts.set(key, (stepCounts.get(key) ?? 0) + 1);
-      }
+      // Only "fewer than QUANTISED_STEPS distinct steps" is used: counting stops there (the set only grows).
+      if (steps.size < QUANTISED_STEPS) steps.add(Number(d.toPrecision(6)));
     }
     if (i >= 2) {
       const z = samples[i - 2]!;
@@ -50,7 +50,7 @@ export function detectCompression(samples: readonly AssessSample[], config: Loop
   const linearShare = triples ? linear / triples : 0;
   // Quantisation: the smallest PV step over the noise sigma, when few distinct steps occur.
   const noise = (pvNoisePct * span) / 100;
-  const quantisationRatio = Number.isFinite(minStep) && noise > 0 && stepCounts.size < 64 ? minStep / noise : null;
+  const quantisationRatio = Number.isFinite(minStep) && noise > 0 && steps.size < QUANTISED_STEPS ? minStep / noise : null;
   const spacingRatio = rawSpacing / config.samplePeriodS;
   const reasons: string[] = [];
   if (repeatShare > REPEAT_LIMIT) reasons.push(`${pct(repeatShare)} of PV samples repeat the previous value (held or stale data)`);

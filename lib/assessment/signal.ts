@@ -148,6 +148,40 @@ export function median(values: ArrayLike<number>): number {
 }
 
 /**
+ * Median by selection (Hoare's FIND, O(n)), reordering `a` in place: the same value as median()
+ * except that a zero's sign may differ, which noiseSigma removes (it takes |d - med|).
+ */
+function selectMedian(a: Float64Array): number {
+  const n = a.length;
+  if (n === 0) return NaN;
+  const h = n >> 1;
+  let lo = 0;
+  let hi = n - 1;
+  while (lo < hi) {
+    const pivot = a[(lo + hi) >> 1]!;
+    let i = lo;
+    let j = hi;
+    while (i <= j) {
+      while (a[i]! < pivot) i++;
+      while (a[j]! > pivot) j--;
+      if (i <= j) {
+        const t = a[i]!;
+        a[i++] = a[j]!;
+        a[j--] = t;
+      }
+    }
+    if (h <= j) hi = j;
+    else if (h >= i) lo = i;
+    else break;
+  }
+  if (n % 2) return a[h]!;
+  // The largest of the lower half is the other middle value.
+  let below = -Infinity;
+  for (let k = 0; k < h; k++) if (a[k]! > below) below = a[k]!;
+  return (below + a[h]!) / 2;
+}
+
+/**
  * Sigma of the fast (sample-to-sample) noise: 1.4826 MAD of first differences / √2, robust to
  * slow moves and steps (a common robust scale estimate; Hampel's MAD constant).
  */
@@ -156,9 +190,10 @@ export function noiseSigma(x: ArrayLike<number>): number {
   if (n < 3) return 0;
   const d = new Float64Array(n - 1);
   for (let i = 1; i < n; i++) d[i - 1] = x[i]! - x[i - 1]!;
-  const med = median(d);
+  const med = selectMedian(Float64Array.from(d));
   for (let i = 0; i < d.length; i++) d[i] = Math.abs(d[i]! - med);
-  const mad = median(d);
+  // On a copy: the fallback below sums d in its order.
+  const mad = selectMedian(Float64Array.from(d));
   if (mad > 0) return (1.4826 * mad) / Math.SQRT2;
   // Most differences are zero (held or quantised data): fall back to the RMS difference.
   let s = 0;

@@ -36,26 +36,98 @@ const NA = 2;
 /** Most decimated samples fitted (the last ones); keeps a day's fit within a few tens of ms. */
 const MAX_FIT = 6000;
 
-/** Least squares of y on the columns of a regressor built row by row; returns the residual variance. */
-function arxResidual(pv: Float64Array, v: Float64Array, nb: number): number {
+/** Σ x[t - i] · y[t - j] over t in [from, to), in ascending t (the order the normal equations are summed in). */
+function lagDot(x: Float64Array, i: number, y: Float64Array, j: number, from: number, to: number): number {
+  let s = 0;
+  for (let t = from; t < to; t++) s += x[t - i]! * y[t - j]!;
+  return s;
+}
+
+/**
+ * lagDot for four consecutive lags j, j+1, j+2, j+3 of y at once, into out[o..o+3]: four
+ * independent sums, each still in ascending t, so each is bit for bit lagDot's (only the CPU's
+ * adds overlap).
+ */
+function lagDot4(x: Float64Array, i: number, y: Float64Array, j: number, from: number, to: number, out: Float64Array, o: number): void {
+  let s0 = 0;
+  let s1 = 0;
+  let s2 = 0;
+  let s3 = 0;
+  for (let t = from; t < to; t++) {
+    const a = x[t - i]!;
+    const k = t - j;
+    s0 += a * y[k]!;
+    s1 += a * y[k - 1]!;
+    s2 += a * y[k - 2]!;
+    s3 += a * y[k - 3]!;
+  }
+  out[o] = s0;
+  out[o + 1] = s1;
+  out[o + 2] = s2;
+  out[o + 3] = s3;
+}
+
+/**
+ * The part of the normal equations that does not depend on the valve: the constant and PV lags
+ * (rows and columns 0..NA), their products with PV, and Σ PV². Shared by the linear fit and every
+ * (S, J) of the grid; each sum runs over t in ascending order, so the result is bit for bit the
+ * one of summing all products row by row.
+ */
+interface ArxFixed {
+  pv: Float64Array;
+  nb: number;
+  p: number;
+  start: number;
+  /** Lower triangle of the (1+NA)² block, row-major in a p×p layout. */
+  A: Float64Array;
+  b: Float64Array;
+  yy: number;
+}
+
+function prepareArx(pv: Float64Array, nb: number): ArxFixed {
   const n = pv.length;
   const p = 1 + NA + nb;
   const start = Math.max(NA, nb);
+  const ones = new Float64Array(n).fill(1);
+  // Column r of the regressor is col(r)[t - lag(r)]: the constant, then PV lagged by 1..NA.
   const A = new Float64Array(p * p);
   const b = new Float64Array(p);
-  const row = new Float64Array(p);
-  let yy = 0;
-  for (let t = start; t < n; t++) {
-    row[0] = 1;
-    for (let i = 1; i <= NA; i++) row[i] = pv[t - i]!;
-    for (let j = 1; j <= nb; j++) row[NA + j] = v[t - j]!;
-    const y = pv[t]!;
-    yy += y * y;
-    for (let r = 0; r < p; r++) {
-      const xr = row[r]!;
-      b[r] = b[r]! + xr * y;
-      for (let c = 0; c <= r; c++) A[r * p + c] = A[r * p + c]! + xr * row[c]!;
+  for (let r = 0; r <= NA; r++) {
+    const xr = r === 0 ? ones : pv;
+    b[r] = lagDot(xr, r, pv, 0, start, n);
+    for (let c = 0; c <= r; c++) A[r * p + c] = lagDot(xr, r, c === 0 ? ones : pv, c, start, n);
+  }
+  return { pv, nb, p, start, A, b, yy: lagDot(pv, 0, pv, 0, start, n) };
+}
+
+/** Least squares of PV on the constant, PV lags 1..NA and valve lags 1..nb; returns the residual variance. */
+function arxResidual(f: ArxFixed, v: Float64Array): number {
+  const { pv, nb, p, start } = f;
+  const n = pv.length;
+  const A = new Float64Array(f.A);
+  const b = new Float64Array(f.b);
+  const yy = f.yy;
+  for (let j = 1; j <= nb; j++) {
+    const r = NA + j;
+    // Σ v, Σ v·PV(t), Σ v·PV(t-1), Σ v·PV(t-2) (NA = 2): b and the constant's and PV lags' columns (a·1 is exactly a).
+    let s1 = 0;
+    let sb = 0;
+    let sp1 = 0;
+    let sp2 = 0;
+    for (let t = start; t < n; t++) {
+      const a = v[t - j]!;
+      s1 += a;
+      sb += a * pv[t]!;
+      sp1 += a * pv[t - 1]!;
+      sp2 += a * pv[t - 2]!;
     }
+    b[r] = sb;
+    A[r * p] = s1;
+    A[r * p + 1] = sp1;
+    A[r * p + 2] = sp2;
+    let c = NA + 1;
+    for (; c + 3 <= r; c += 4) lagDot4(v, j, v, c - NA, start, n, A, r * p + c);
+    for (; c <= r; c++) A[r * p + c] = lagDot(v, j, v, c - NA, start, n);
   }
   const m = n - start;
   if (m <= 2 * p) return NaN;
@@ -119,7 +191,8 @@ export function fitStictionModel(mv: Float64Array, pv: Float64Array, periodSampl
   for (let i = from; i < n; i++) sd += (mv[i]! - mean) ** 2;
   sd = Math.sqrt(sd / (n - from));
   if (!(sd > 0)) return null;
-  const linear = arxResidual(pvd, blockMeans(mv, from, d, count), nb);
+  const fixed = prepareArx(pvd, nb);
+  const linear = arxResidual(fixed, blockMeans(mv, from, d, count));
   if (!(linear > 0)) return null;
   const pos = new Float64Array(n);
   let best = { r: linear, S: 0, J: 0 };
@@ -130,7 +203,7 @@ export function fitStictionModel(mv: Float64Array, pv: Float64Array, periodSampl
       const J = fJ * S;
       const valve = new StictionValve({ S, J }, mv[0]!, [-Infinity, Infinity]);
       for (let i = 0; i < n; i++) pos[i] = valve.update(mv[i]!);
-      const r = arxResidual(pvd, blockMeans(pos, from, d, count), nb);
+      const r = arxResidual(fixed, blockMeans(pos, from, d, count));
       if (r < best.r) best = { r, S, J };
     }
   }

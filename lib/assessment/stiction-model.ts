@@ -44,13 +44,18 @@ export class StictionValve {
   private stuck = true;
   /** Direction of the last travel (+1, -1; 0 before the first move). */
   private dir = 0;
+  /** Travel limits, % (read once here: update runs per sample in the model fit's grid). */
+  private readonly lo: number;
+  private readonly hi: number;
   /** Number of slips (the valve broke free) since construction. */
   slips = 0;
 
-  constructor(params: StictionParams, initialPct: number, private readonly travel: [number, number] = [0, 100]) {
+  constructor(params: StictionParams, initialPct: number, travel: [number, number] = [0, 100]) {
     checkStictionParams(params);
     this.S = params.S;
     this.J = params.J;
+    this.lo = travel[0];
+    this.hi = travel[1];
     this.y = initialPct;
     this.xPrev = initialPct;
     this.xss = initialPct;
@@ -66,7 +71,8 @@ export class StictionValve {
 
   /** Advance one period with controller output `x` (% of travel); returns the valve position. */
   update(x: number): number {
-    const [lo, hi] = this.travel;
+    const lo = this.lo;
+    const hi = this.hi;
     x = x < lo ? lo : x > hi ? hi : x;
     const v = x - this.xPrev;
     const half = (this.S - this.J) / 2;

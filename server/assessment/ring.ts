@@ -76,7 +76,7 @@ export class AssessRing {
     this.pv[i] = pv;
     this.mv[i] = mv;
     this.mode[i] = mode === "auto" ? 0 : mode === "manual" ? 1 : 2;
-    this.head = (i + 1) % this.capacity;
+    this.head = i + 1 === this.capacity ? 0 : i + 1;
     if (this.count < this.capacity) this.count++;
   }
 
