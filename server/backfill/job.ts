@@ -25,6 +25,7 @@ import type { LoopRouteRow } from "../ingest/loop-source";
 import { LoopTracker } from "../tracking/loop-tracker";
 import type { TrackerRegistry } from "../tracking/registry";
 import type { LoopConfig } from "../tracking/types";
+import { HeapGuard } from "./heap-guard";
 import { readSampleCsv, type ByteSource, type SampleRejectReason } from "./sample-csv";
 import type { BackfillProgress } from "@/lib/domain/backfill";
 export type { BackfillProgress };
@@ -218,13 +219,15 @@ export class BackfillJob {
       minute: (r) => d.writer.minute(r),
       snapshot: (r) => d.writer.snapshot(r),
     });
-    const maxPending = d.maxPending ?? 20_000;
+    // small: rows queued for long outlive young-generation collections and pile up in old space
+    const maxPending = d.maxPending ?? 5_000;
     let last = -Infinity;
     let partitionsFrom = { minute: false, second: false };
     let spanIdx = 0;
     let sinceCheck = 0;
     let lastPersist = Date.now();
     let sliceStart = performance.now();
+    const heap = new HeapGuard();
     try {
       blocked = await blockedSpans(d.sequelize, loopId, this.id);
       if (blocked.liveFrom !== null) this.liveCutoff = Math.min(this.liveCutoff, blocked.liveFrom);
@@ -314,6 +317,7 @@ export class BackfillJob {
         }
         if (++sinceCheck >= 1000) {
           sinceCheck = 0;
+          if (heap.check()) sliceStart = performance.now();
           if (d.writer.pending() > maxPending) await d.writer.flush({ now: d.clock.now() });
           if (Date.now() - lastPersist > 5_000) {
             lastPersist = Date.now();
