@@ -117,7 +117,7 @@ describe("realtime tenant isolation", () => {
     expect(got.a.states.length).toBeGreaterThan(0);
     for (const st of got.a.states.flat()) {
       expect(Object.keys(st).sort()).toEqual(
-        ["at", "dataPoles", "dataPolesKind", "dominant", "estimationPeriodS", "gainHeadroom", "juryStable", "loopId", "modelPoles", "receivedAt", "rimDistance", "spectralRadius", "stateReason", "tenantId", "trackerState", "decayRatio", "polesFrom", "oscillation"].sort(),
+        ["at", "dataPoles", "dataPolesKind", "dominant", "estimationPeriodS", "gainHeadroom", "juryStable", "loopId", "modelPoles", "receivedAt", "rimDistance", "spectralRadius", "stateReason", "tenantId", "trackerState", "decayRatio", "polesFrom", "oscillation", "routine"].sort(),
       );
       for (const p of [...st.modelPoles, ...st.dataPoles]) expect(Object.keys(p).sort()).toEqual(["im", "radius", "re"]);
     }
