@@ -13,6 +13,7 @@ import type { DriftSpec } from "@/simulators/scenario";
 import { LoopTracker } from "@/server/tracking/loop-tracker";
 import { FakeClock, arxStructureFor } from "../tracking/helpers";
 import { testLoopConfig } from "@/tests/helpers/loop-config";
+import { loopConfig } from "../simulators/helpers";
 
 /** Sample period of telemetry, controller and estimation, seconds. */
 const T = 5;
@@ -24,7 +25,7 @@ export const DRIFT_S = 36000;
  * true spectral radius about 0.90 at the start, on the branch where it rises with the process gain.
  */
 function baseConfig(seed: number, drift: DriftSpec[]): LoopSimConfig {
-  return {
+  return loopConfig({
     tenantSlug: "sim-lab",
     siteSlug: "bench-1",
     tag: "TIC-410",
@@ -33,14 +34,11 @@ function baseConfig(seed: number, drift: DriftSpec[]): LoopSimConfig {
     plant: { type: "first-order", gain: 1, timeConstantS: 20, deadTimeS: 10 },
     controller: { kp: 1.6, ti: 20, td: 0, tf: 0, action: "reverse", form: "ideal" },
     pvRange: [0, 100],
-    mvRange: [0, 100],
-    mvLimitsPct: [0, 100],
-    spPct: 50,
     mvPct: 50,
     activity: { noiseSdPct: 0.2, loadStepEveryS: 600, loadStepSdPct: 2, loadWalkSdPct: 0.01, setpointEveryS: 300, setpointSdPct: 4, manualEveryS: 0, manualDurationS: 300 },
     drift,
     seed,
-  };
+  });
 }
 
 export function radiusAt(sim: LoopSim, g: number): number {
