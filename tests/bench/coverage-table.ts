@@ -4,6 +4,7 @@
  * Runs: see the "runs" column; everything is seeded, so a rerun prints the same figures.
  */
 import { arxRadiusCoverage, forecastDrift, ivOpenLoop } from "../control/coverage-mc";
+import { forecastThroughTracker } from "../control/forecast-tracker-mc";
 import { COMPLEX_PAIR, REAL_POLE, trackerCoverage } from "../control/tracker-coverage";
 
 interface Row {
@@ -32,6 +33,15 @@ export function printCoverageTable(): void {
   rows.push({ what: "rim forecast interval, drift 0.90 -> 1.0 over 10 h, at half way (synthetic radius series)", runs: f.forecasts, value: f.coverage, lo: 0.9, hi: 0.97 });
   rows.push({ what: "rim forecast within +-15 % at half way", runs: 300, value: f.within15, lo: 0.8, hi: 1 });
   rows.push({ what: "no forecast on a run without drift", runs: 300, value: f.quiet, lo: 0.95, hi: 1 });
+  // the same through the tracker in closed loop (tests/control/forecast-tracker-mc.ts), 5 s samples
+  const signed = (x: number) => (Number.isFinite(x) ? `${x >= 0 ? "+" : ""}${(100 * x).toFixed(1)} %` : "n/a");
+  for (const [kind, label] of [["linear-radius", "radius 0.90 -> 1.0 linear in 10 h"], ["gain-creep", "simulator gain creep to the rim in 10 h"]] as const) {
+    const m = forecastThroughTracker(kind, 40, 9100);
+    rows.push({ what: `tracker rim forecast interval, ${label}, half way (runs: with a forecast)`, runs: m.forecasts, value: m.coverage, lo: 0.9, hi: 0.97 });
+    rows.push({ what: `  same, within +-15 % (error of remaining time: median ${signed(m.medianError)}, sd ${pct(m.errorSd)})`, runs: m.runs, value: m.within15, lo: 0.8, hi: 1 });
+  }
+  const q = forecastThroughTracker("no-drift", 40, 9100);
+  rows.push({ what: "tracker: no rim forecast on a run without drift (true radius 0.90), at 5 h", runs: q.runs, value: q.quiet, lo: 0.95, hi: 1 });
   console.log("");
   console.log("coverage table (seeded Monte Carlo; 95 % intervals unless stated)");
   console.log(`${"quantity".padEnd(100)} ${"runs".padStart(5)}  ${"value".padStart(8)}  target band   verdict`);

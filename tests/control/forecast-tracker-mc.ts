@@ -1,0 +1,180 @@
+/**
+ * Monte Carlo harness for the rim forecast THROUGH THE TRACKER: a simulated loop
+ * (simulators/loop-sim.ts, its own PI in velocity form, noise, load steps and set-point moves)
+ * feeds a LoopTracker (server/tracking/loop-tracker.ts); at half way through a 10 h drift the
+ * tracker's `forecast.radiusOne` is compared with the true time at which the closed loop reaches
+ * the unit circle, found by bisection on the spectral radius of the simulator's own closed-loop
+ * state matrix (`closedLoopStateMatrix` at the drift state of each time). Shared by the coverage
+ * table of `npm run bench`. Units: seconds of simulated time, PV and MV in % of span.
+ */
+import { eigenvalues } from "@/simulators/eigen";
+import { LoopSim, type LoopSimConfig } from "@/simulators/loop-sim";
+import type { DriftSpec } from "@/simulators/scenario";
+import { LoopTracker } from "@/server/tracking/loop-tracker";
+import { FakeClock, arxStructureFor } from "../tracking/helpers";
+import { testLoopConfig } from "@/tests/helpers/loop-config";
+import { loopConfig } from "../simulators/helpers";
+
+/** Sample period of telemetry, controller and estimation, seconds. */
+const T = 5;
+/** Drift length: the radius reaches 1 at this simulated time, seconds (10 h). */
+export const DRIFT_S = 36000;
+
+/**
+ * Invented bench loop: first-order plant, gain 1, 20 s lag, 10 s dead time, PI kp 1.6, ti 20 s;
+ * true spectral radius about 0.90 at the start, on the branch where it rises with the process gain.
+ */
+function baseConfig(seed: number, drift: DriftSpec[]): LoopSimConfig {
+  return loopConfig({
+    tenantSlug: "sim-lab",
+    siteSlug: "bench-1",
+    tag: "TIC-410",
+    telemetryPeriodS: T,
+    controllerPeriodS: T,
+    plant: { type: "first-order", gain: 1, timeConstantS: 20, deadTimeS: 10 },
+    controller: { kp: 1.6, ti: 20, td: 0, tf: 0, action: "reverse", form: "ideal" },
+    pvRange: [0, 100],
+    mvPct: 50,
+    activity: { noiseSdPct: 0.2, loadStepEveryS: 600, loadStepSdPct: 2, loadWalkSdPct: 0.01, setpointEveryS: 300, setpointSdPct: 4, manualEveryS: 0, manualDurationS: 300 },
+    drift,
+    seed,
+  });
+}
+
+export function radiusAt(sim: LoopSim, g: number): number {
+  return Math.max(...eigenvalues(sim.closedLoopStateMatrix(g, 0)).map((z) => Math.hypot(z.re, z.im)));
+}
+
+/**
+ * Gain multiplier at which the closed-loop spectral radius equals r: bisection between the gain of
+ * least radius (a coarse scan; below it the slow integral pole dominates) and the critical gain.
+ */
+function gainForRadius(sim: LoopSim, r: number): number {
+  const gc = sim.criticalGainFactor();
+  let lo = 0.05;
+  for (let g = 0.05; g < gc; g += 0.01) if (radiusAt(sim, g) < radiusAt(sim, lo)) lo = g;
+  let hi = gc;
+  for (let i = 0; i < 60; i++) {
+    const mid = 0.5 * (lo + hi);
+    if (radiusAt(sim, mid) < r) lo = mid;
+    else hi = mid;
+  }
+  return 0.5 * (lo + hi);
+}
+
+/** Gain schedule of LinearRadiusSim (the same loop every run; only the seed differs). */
+let gainTable: number[] | null = null;
+
+/** The loop with a process gain scheduled so that its true spectral radius runs 0.90 -> 1.0 linearly over DRIFT_S. */
+class LinearRadiusSim extends LoopSim {
+  private readonly table: number[];
+  constructor(config: LoopSimConfig) {
+    super(config);
+    if (!gainTable) {
+      const probe = new LoopSim(config);
+      gainTable = [];
+      for (let i = 0; i <= 100; i++) gainTable.push(gainForRadius(probe, 0.9 + (0.1 * i) / 100));
+    }
+    this.table = gainTable;
+  }
+  override gainFactor(t = this.simTimeS): number {
+    const x = Math.min(100, Math.max(0, (100 * t) / DRIFT_S));
+    const i = Math.min(99, Math.floor(x));
+    return this.table[i]! + (x - i) * (this.table[i + 1]! - this.table[i]!);
+  }
+}
+
+export type ForecastScenario = "linear-radius" | "gain-creep" | "no-drift";
+
+export function makeSim(kind: ForecastScenario, seed: number): LoopSim {
+  if (kind === "linear-radius") return new LinearRadiusSim(baseConfig(seed, []));
+  if (kind === "gain-creep") return new LoopSim(baseConfig(seed, [{ kind: "gain-creep", startS: 0, durationS: DRIFT_S, toHeadroom: 1 }]));
+  return new LoopSim(baseConfig(seed, []));
+}
+
+/**
+ * First simulated time at which the true spectral radius reaches 1 (bisection on [0, 2 DRIFT_S]);
+ * null if never. A gain creep to the full headroom ends ON the rim, hence the 1e-9 tolerance.
+ */
+export function trueCrossing(sim: LoopSim): number | null {
+  const r = (t: number) => radiusAt(sim, sim.gainFactor(t)) + 1e-9;
+  let lo = 0;
+  let hi = 2 * DRIFT_S;
+  if (r(hi) < 1) return null;
+  for (let i = 0; i < 50; i++) {
+    const mid = 0.5 * (lo + hi);
+    if (r(mid) < 1) lo = mid;
+    else hi = mid;
+  }
+  return 0.5 * (lo + hi);
+}
+
+export interface ForecastMc {
+  runs: number;
+  /** Runs with a radius-one forecast at half way. */
+  forecasts: number;
+  /** Share of forecasts whose [low, high] holds the true crossing. */
+  coverage: number;
+  /** Share of ALL runs whose forecast lies within +-15 % of the true remaining time. */
+  within15: number;
+  /** Share of runs with no forecast at half way. */
+  quiet: number;
+  /** Median and standard deviation of the relative error of the forecast remaining time (forecasts only). */
+  medianError: number;
+  errorSd: number;
+  /** True radius at the start and at half way (first run). */
+  radiusStart: number;
+  radiusHalf: number;
+}
+
+/** `runs` seeded runs of one scenario, read at half way (DRIFT_S / 2). */
+export function forecastThroughTracker(kind: ForecastScenario, runs: number, seed: number): ForecastMc {
+  const half = DRIFT_S / 2;
+  let forecasts = 0, covered = 0, within = 0;
+  const errors: number[] = [];
+  let radiusStart = NaN, radiusHalf = NaN;
+  for (let r = 0; r < runs; r++) {
+    const sim = makeSim(kind, seed + r);
+    const truth = kind === "no-drift" ? null : trueCrossing(sim);
+    if (r === 0) {
+      radiusStart = radiusAt(sim, sim.gainFactor(0));
+      radiusHalf = radiusAt(sim, sim.gainFactor(half));
+    }
+    const clock = new FakeClock();
+    const t0 = clock.t;
+    const cfg = sim.config;
+    const tracker = new LoopTracker(
+      testLoopConfig({ tag: cfg.tag, telemetryPeriodS: T, controllerPeriodS: T, estimationPeriodS: T, controller: cfg.controller, ...arxStructureFor(cfg.plant, T) }),
+      { clock },
+    );
+    let forecast: { at: number; low: number; high: number } | null = null;
+    while (sim.simTimeS <= half) {
+      const s = sim.step();
+      if (!s) continue;
+      clock.t = t0 + s.simTimeS * 1000;
+      const st = tracker.push([{ t: clock.t, sp: s.sp, pv: s.pv, mv: s.mv, mode: s.mode }], clock.t);
+      if (st) forecast = st.forecast?.radiusOne ?? null;
+    }
+    if (!forecast) continue;
+    forecasts++;
+    if (truth === null) continue;
+    const at = (forecast.at - t0) / 1000;
+    if ((forecast.low - t0) / 1000 <= truth && truth <= (forecast.high - t0) / 1000) covered++;
+    const err = (at - truth) / (truth - half);
+    errors.push(err);
+    if (Math.abs(err) <= 0.15) within++;
+  }
+  errors.sort((a, b) => a - b);
+  const mean = errors.reduce((a, e) => a + e, 0) / errors.length;
+  return {
+    runs,
+    forecasts,
+    coverage: forecasts ? covered / forecasts : NaN,
+    within15: within / runs,
+    quiet: (runs - forecasts) / runs,
+    medianError: errors.length ? errors[Math.floor(errors.length / 2)]! : NaN,
+    errorSd: errors.length > 1 ? Math.sqrt(errors.reduce((a, e) => a + (e - mean) ** 2, 0) / (errors.length - 1)) : NaN,
+    radiusStart,
+    radiusHalf,
+  };
+}
