@@ -11,30 +11,22 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { bindSparkplugGroup, saveSparkplugMapping, sparkplugOverview } from "@/lib/data/sparkplug";
 import type { TenantContext } from "@/lib/domain/types";
 import { startPipeline, type PipelineService } from "@/server/pipeline";
-import { createPipelineFixture, PiLoop, type PipelineTenant } from "../pipeline/fixture";
+import { createPipelineFixture, type PipelineTenant } from "../pipeline/fixture";
 import { ManualClock, testContext } from "../pipeline/helpers";
 import { createTestDatabase, type TestDatabase } from "../setup/db";
 import { DT, encodeWithPython, type PayloadSpec } from "./encode";
+import { base, births, createAdmin, dataByAlias, GROUP, mapping, until } from "./gateway";
 
 let db: TestDatabase;
 let a: PipelineTenant;
 let b: PipelineTenant;
 let adminA: TenantContext;
 let adminB: TenantContext;
-const GROUP = "Acme.North";
-const base = `spBv1.0/${GROUP}`;
-
-async function admin(t: PipelineTenant): Promise<TenantContext> {
-  const u = await db.models.User.create({ email: `admin@${t.slug}.example`, name: `Admin of ${t.slug}`, passwordHash: "x" });
-  await db.models.Membership.create({ userId: u.id, tenantId: t.id, role: "admin" });
-  return { userId: u.id, email: `admin@${t.slug}.example`, name: "Admin", tenantId: t.id, tenantSlug: t.slug, tenantName: t.slug, role: "admin" };
-}
-
 beforeAll(async () => {
   db = await createTestDatabase("spb", { asDefault: true });
   ({ a, b } = await createPipelineFixture(db.models));
-  adminA = await admin(a);
-  adminB = await admin(b);
+  adminA = await createAdmin(db, a);
+  adminB = await createAdmin(db, b);
 });
 afterAll(async () => {
   await db?.drop();
@@ -50,30 +42,10 @@ const connect = (p: PipelineService, t: PipelineTenant, will?: Buffer) =>
     reconnectPeriod: 0,
     ...(will ? { will: { topic: `${base}/NDEATH/edge-1`, payload: will, qos: 1 as const, retain: false } } : {}),
   });
-async function until(cond: () => boolean, ms = 5000): Promise<void> {
-  const end = Date.now() + ms;
-  while (!cond() && Date.now() < end) await new Promise((r) => setTimeout(r, 10));
-}
 const rejected = (p: PipelineService, tenantId: number) => p.ingest.counters.totals(tenantId).rejected;
 const accepted = (p: PipelineService, tenantId: number) => p.ingest.counters.totals(tenantId).acceptedSamples;
 
 const T0 = Math.floor((Date.now() - 2 * 3_600_000) / 60_000) * 60_000;
-const births = (bdSeq: number): PayloadSpec[] => [
-  { timestamp: T0, seq: 0, metrics: [{ name: "bdSeq", datatype: DT.UInt64, value: bdSeq }] },
-  {
-    timestamp: T0,
-    seq: 1,
-    metrics: [
-      { name: "FIC101/SP", alias: 11, datatype: DT.Float, value: 40 },
-      { name: "FIC101/PV", alias: 12, datatype: DT.Double, value: 40 },
-      { name: "FIC101/OUT", alias: 13, datatype: DT.Double, value: 40 },
-      { name: "FIC101/MODE", alias: 14, datatype: DT.String, value: "AUTO" },
-      { name: "FIC101/TAGNAME", alias: 15, datatype: DT.String, value: "feed flow" },
-    ],
-  },
-];
-const mapping = { loopId: 0, groupId: GROUP, edgeNode: "edge-1", device: "plc-1", sp: "FIC101/SP", pv: "FIC101/PV", mv: "FIC101/OUT", mode: "FIC101/MODE" };
-
 describe("Sparkplug B ingest through the broker", () => {
   it("binds a group to one tenant, maps a device after its birth, and takes data by alias into the loop's tracker", async () => {
     const clock = new ManualClock(T0);
@@ -83,7 +55,7 @@ describe("Sparkplug B ingest through the broker", () => {
     try {
       const [willDeath] = encodeWithPython([{ metrics: [{ name: "bdSeq", datatype: DT.UInt64, value: 0 }] }]);
       const gw = await connect(p, a, willDeath);
-      const [nb, db1] = encodeWithPython(births(0));
+      const [nb, db1] = encodeWithPython(births(0, T0));
       await gw.publishAsync(`${base}/NBIRTH/edge-1`, nb!, { qos: 1 });
       await gw.publishAsync(`${base}/DBIRTH/edge-1/plc-1`, db1!, { qos: 1 });
       await until(() => p.sparkplug.nodes.find(GROUP, "edge-1", "plc-1") !== null);
@@ -105,22 +77,7 @@ describe("Sparkplug B ingest through the broker", () => {
       expect(overview.mappings).toEqual([expect.objectContaining({ loopId: a.loopId, loopTag: "FIC-101", pv: "FIC101/PV" })]);
 
       // 120 s of report by exception: PV and MV each second by alias (no name, no datatype), SP only when it moves
-      const plant = new PiLoop();
-      const [firstSp] = [plant.next(T0)];
-      let lastSp = firstSp.sp;
-      const specs: PayloadSpec[] = [];
-      const sent: { t: number; sp: number; pv: number; mv: number }[] = [];
-      for (let i = 1; i <= 120; i++) {
-        const s = plant.next(T0 + i * 1000);
-        const metrics = [
-          { alias: 12, timestamp: s.t, value: s.pv, field: "double_value" },
-          { alias: 13, timestamp: s.t, value: s.mv, field: "double_value" },
-        ];
-        if (s.sp !== lastSp) metrics.push({ alias: 11, timestamp: s.t, value: s.sp, field: "float_value" });
-        lastSp = s.sp;
-        specs.push({ timestamp: s.t, seq: (i + 1) % 256, metrics });
-        sent.push(s);
-      }
+      const { specs, sent } = dataByAlias(T0, 120);
       const bufs = encodeWithPython(specs);
       const before = accepted(p, a.id);
       for (const buf of bufs) {
@@ -195,7 +152,7 @@ describe("Sparkplug B ingest through the broker", () => {
     const t1 = clock.now();
     try {
       const gw = await connect(p, a);
-      const bs = births(1).map((s) => ({ ...s, timestamp: t1 }));
+      const bs = births(1, T0).map((s) => ({ ...s, timestamp: t1 }));
       bs[1]!.metrics![0]!.value = 47.5; // the set point, sent only in the birth
       const [nb, db1] = encodeWithPython(bs);
       await gw.publishAsync(`${base}/NBIRTH/edge-1`, nb!, { qos: 1 });
