@@ -28,17 +28,7 @@ export async function insertBackfill(
 export async function updateBackfill(
   sequelize: Sequelize,
   id: number,
-  r: {
-    status: BackfillStatus;
-    fromT: number | null;
-    toT: number | null;
-    bytes: number;
-    accepted: number;
-    rejected: number;
-    minuteOnly: number;
-    trained: boolean;
-    summary: unknown;
-  },
+  r: Pick<BackfillRow, "status" | "fromT" | "toT" | "bytes" | "accepted" | "rejected" | "minuteOnly" | "trained" | "summary">,
 ): Promise<void> {
   await sequelize.query(
     `UPDATE history_backfills SET status = ?, from_t = ?, to_t = ?, bytes = ?, accepted = ?, rejected = ?, minute_only = ?, trained = ?, summary = ?,

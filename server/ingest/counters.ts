@@ -6,6 +6,7 @@
  * are counted in `acceptedSamples` and again per quality reason. Served to admins at
  * GET /api/diagnostics/ingest.
  */
+import type { IngestDeviceCounters } from "@/lib/domain/services";
 import { QUALITY_REASONS, type QualityReason } from "@/lib/domain/sample-quality";
 import { REJECT_REASONS, type RejectReason } from "@/lib/domain/telemetry";
 
@@ -21,21 +22,8 @@ export interface DeviceIdentity {
 
 export const UNAUTHENTICATED: DeviceIdentity = { key: "(unauthenticated)", tenantId: null, tenantSlug: null, siteSlug: null };
 
-export interface DeviceCounters {
-  device: string;
-  tenantId: number | null;
-  messages: number;
-  acceptedSamples: number;
-  redelivered: number;
-  rejected: Record<RejectReason, number>;
-  lastMessageAt: number | null;
-  lastRejectAt: number | null;
-  lastRejectReason: RejectReason | null;
-  /** Accepted samples that are not good, per reason (bad: fault-value, out-of-range, reported-bad; uncertain: the rest). */
-  quality: Record<QualityReason, number>;
-  lastBadAt: number | null;
-  lastBadReason: QualityReason | null;
-}
+/** A device's counters as the pipeline keeps them: the live DTO with the quality fields always set. */
+export type DeviceCounters = Required<IngestDeviceCounters>;
 
 export function emptyQualityReasons(): Record<QualityReason, number> {
   return Object.fromEntries(QUALITY_REASONS.map((r) => [r, 0])) as Record<QualityReason, number>;
