@@ -10,6 +10,7 @@
  * Internally every signal is in % of its span; samples leave in engineering units.
  */
 import { discretePid } from "@/lib/control/closed-loop";
+import { shiftIn } from "@/lib/control/lag-vector";
 import type { Complex, QTf } from "@/lib/control/types";
 import { slugify } from "@/lib/domain/slug";
 import type { LoopMode } from "@/lib/domain/types";
@@ -233,8 +234,7 @@ export class LoopSim {
     // mode
     const manualNow = man !== null || this.manualUntilK >= this.k;
     const e = this.sp - pvMeas;
-    for (let i = this.eHist.length - 1; i > 0; i--) this.eHist[i] = this.eHist[i - 1]!;
-    this.eHist[0] = e;
+    shiftIn(this.eHist, e);
     const [lo, hi] = cfg.mvLimitsPct;
     if (manualNow) {
       if (this.mode !== "manual") this.manualMv = this.u;
@@ -254,8 +254,7 @@ export class LoopSim {
       let v = 0;
       for (let i = 0; i < N.length; i++) v += N[i]! * this.eHist[i]!;
       for (let i = 1; i < Dp.length; i++) v -= Dp[i]! * this.vHist[i - 1]!;
-      for (let i = this.vHist.length - 1; i > 0; i--) this.vHist[i] = this.vHist[i - 1]!;
-      if (this.vHist.length > 0) this.vHist[0] = v;
+      shiftIn(this.vHist, v);
       // velocity form with the MV clamped: the integral cannot wind up past a limit
       this.u = clamp(this.u + v, lo, hi);
     }

@@ -20,3 +20,4 @@ export * from "./excitation";
 export * from "./confidence";
 export * from "./forecast";
 export * from "./riv";
+export * from "./lag-vector";
