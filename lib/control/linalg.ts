@@ -25,6 +25,36 @@ export function trace(m: Float64Array, n: number): number {
 }
 
 /**
+ * One Jacobi rotation of the cyclic Jacobi method (Golub & Van Loan, *Matrix Computations*, 4th
+ * ed., 2013, algs. 8.5.1-8.5.2): a <- J' a J with J chosen to zero a(p, q) (nonzero), and v <- v J
+ * when the eigenvectors are accumulated. `a` is symmetric n x n, row-major, modified in place.
+ */
+function rotateJacobi(a: Float64Array, n: number, p: number, q: number, v: Float64Array | null): void {
+  const theta = (a[q * n + q]! - a[p * n + p]!) / (2 * a[p * n + q]!);
+  const t = Math.sign(theta || 1) / (Math.abs(theta) + Math.sqrt(theta * theta + 1));
+  const c = 1 / Math.sqrt(t * t + 1);
+  const s = t * c;
+  rotateColumns(a, n, p, q, c, s);
+  for (let k = 0; k < n; k++) {
+    const apk = a[p * n + k]!;
+    const aqk = a[q * n + k]!;
+    a[p * n + k] = c * apk - s * aqk;
+    a[q * n + k] = s * apk + c * aqk;
+  }
+  if (v) rotateColumns(v, n, p, q, c, s);
+}
+
+/** Columns p and q of the row-major n x n `m` times the plane rotation [c s; -s c], in place. */
+function rotateColumns(m: Float64Array, n: number, p: number, q: number, c: number, s: number): void {
+  for (let k = 0; k < n; k++) {
+    const mkp = m[k * n + p]!;
+    const mkq = m[k * n + q]!;
+    m[k * n + p] = c * mkp - s * mkq;
+    m[k * n + q] = s * mkp + c * mkq;
+  }
+}
+
+/**
  * Eigenvalues of a real symmetric n x n matrix by the cyclic Jacobi method (Golub & Van Loan,
  * *Matrix Computations*, 4th ed., 2013, sec. 8.5). Returns them in ascending order. Intended for
  * small matrices (n up to ~20); the input is not modified.
@@ -49,24 +79,7 @@ export function symmetricEigenvalues(m: Float64Array, n: number, maxSweeps = 60)
           a[q * n + p] = 0;
           continue;
         }
-        const app = a[p * n + p]!;
-        const aqq = a[q * n + q]!;
-        const theta = (aqq - app) / (2 * apq);
-        const t = Math.sign(theta || 1) / (Math.abs(theta) + Math.sqrt(theta * theta + 1));
-        const c = 1 / Math.sqrt(t * t + 1);
-        const s = t * c;
-        for (let k = 0; k < n; k++) {
-          const akp = a[k * n + p]!;
-          const akq = a[k * n + q]!;
-          a[k * n + p] = c * akp - s * akq;
-          a[k * n + q] = s * akp + c * akq;
-        }
-        for (let k = 0; k < n; k++) {
-          const apk = a[p * n + k]!;
-          const aqk = a[q * n + k]!;
-          a[p * n + k] = c * apk - s * aqk;
-          a[q * n + k] = s * apk + c * aqk;
-        }
+        rotateJacobi(a, n, p, q, null);
       }
     }
   }
@@ -196,30 +209,8 @@ export function nearestPsd(S: Float64Array, d: number): Float64Array {
     if (off <= 1e-30 * norm) break;
     for (let p = 0; p < d - 1; p++) {
       for (let q = p + 1; q < d; q++) {
-        const apq = a[p * d + q]!;
-        if (apq === 0) continue;
-        const theta = (a[q * d + q]! - a[p * d + p]!) / (2 * apq);
-        const t = Math.sign(theta || 1) / (Math.abs(theta) + Math.sqrt(theta * theta + 1));
-        const c = 1 / Math.sqrt(t * t + 1);
-        const sn = t * c;
-        for (let k = 0; k < d; k++) {
-          const akp = a[k * d + p]!;
-          const akq = a[k * d + q]!;
-          a[k * d + p] = c * akp - sn * akq;
-          a[k * d + q] = sn * akp + c * akq;
-        }
-        for (let k = 0; k < d; k++) {
-          const apk = a[p * d + k]!;
-          const aqk = a[q * d + k]!;
-          a[p * d + k] = c * apk - sn * aqk;
-          a[q * d + k] = sn * apk + c * aqk;
-        }
-        for (let k = 0; k < d; k++) {
-          const vkp = v[k * d + p]!;
-          const vkq = v[k * d + q]!;
-          v[k * d + p] = c * vkp - sn * vkq;
-          v[k * d + q] = sn * vkp + c * vkq;
-        }
+        if (a[p * d + q] === 0) continue;
+        rotateJacobi(a, d, p, q, v);
       }
     }
   }
