@@ -10,7 +10,7 @@
  */
 import { ControlArgumentError, NonFiniteInputError, PeriodMismatchError } from "./errors";
 import { juryStable } from "./jury";
-import { polyAdd, polyEvalComplex, polyMul, qPolyAdd } from "./poly";
+import { polyAdd, polyEvalComplex, polyMul, qPolyAdd, trimProperTf } from "./poly";
 import { polyRoots } from "./roots";
 import type { ArxModel, Complex, DiscreteTf, QTf } from "./types";
 
@@ -179,14 +179,7 @@ export function closedLoopParts(plant: ArxModel | DiscreteTf, controller: QTf): 
   }
   checkFinite(plant.num, "plant.num");
   checkFinite(plant.den, "plant.den");
-  let i = 0;
-  while (i < plant.den.length && plant.den[i] === 0) i++;
-  if (i === plant.den.length) throw new ControlArgumentError("plant.den is zero");
-  const den = plant.den.slice(i);
-  let j = 0;
-  while (j < plant.num.length - 1 && plant.num[j] === 0) j++;
-  const num = plant.num.slice(j);
-  if (num.length > den.length) throw new ControlArgumentError("plant must be proper (deg num <= deg den)");
+  const { num, den } = trimProperTf(plant.num, plant.den, "plant");
   // Controller in z: multiply N(q^-1) and D(q^-1) by z^m, m = max degree.
   const m = Math.max(controller.num.length, controller.den.length) - 1;
   const Nz = controller.num.concat(new Array<number>(m + 1 - controller.num.length).fill(0));

@@ -24,7 +24,7 @@
  */
 import { expm, matrix } from "mathjs";
 import { ControlArgumentError, NonFiniteInputError } from "./errors";
-import { polyAdd, polyMul, polyScale } from "./poly";
+import { polyAdd, polyMul, polyScale, trimProperTf } from "./poly";
 import type { ContinuousTf, DiscreteTf } from "./types";
 
 /** A dead time within this fraction of a whole number of periods is taken as whole. */
@@ -60,19 +60,8 @@ function validate(tf: ContinuousTf, T: number, delaySeconds: number): { num: num
   tf.den.forEach((c, i) => {
     if (!Number.isFinite(c)) throw new NonFiniteInputError(`denominator coefficient ${i}`);
   });
-  let i = 0;
-  while (i < tf.den.length && tf.den[i] === 0) i++;
-  if (i === tf.den.length) throw new ControlArgumentError("c2dZoh: the denominator is zero");
-  const den = tf.den.slice(i);
-  let j = 0;
-  while (j < tf.num.length - 1 && tf.num[j] === 0) j++;
-  const num = tf.num.length === 0 ? [0] : tf.num.slice(j);
-  if (num.length > den.length) {
-    throw new ControlArgumentError(
-      `c2dZoh needs a proper transfer function: numerator degree ${num.length - 1} > denominator degree ${den.length - 1}`,
-    );
-  }
-  return { num, den };
+  const { num, den } = trimProperTf(tf.num, tf.den, "c2dZoh");
+  return { num: num.length === 0 ? [0] : num, den };
 }
 
 function splitDelay(delaySeconds: number, T: number): { samples: number; fraction: number } {

@@ -23,6 +23,23 @@ export function stripLeadingZeros(coeffs: ArrayLike<number>): number[] {
   return Array.from(coeffs).slice(start);
 }
 
+/**
+ * A transfer function's numerator and denominator (descending powers) without leading exact zeros,
+ * checked proper (deg num <= deg den). A zero numerator keeps its last coefficient (an empty one
+ * stays empty); a zero or empty denominator throws. `what` names the caller in the messages.
+ */
+export function trimProperTf(num: readonly number[], den: readonly number[], what: string): { num: number[]; den: number[] } {
+  const d = stripLeadingZeros(den);
+  if (d.length === 0) throw new ControlArgumentError(`${what}: the denominator is zero`);
+  let j = 0;
+  while (j < num.length - 1 && num[j] === 0) j++;
+  const n = num.slice(j);
+  if (n.length > d.length) {
+    throw new ControlArgumentError(`${what} needs a proper transfer function: numerator degree ${n.length - 1} > denominator degree ${d.length - 1}`);
+  }
+  return { num: n, den: d };
+}
+
 /** Product of two polynomials (convolution of the coefficient arrays; either convention). */
 export function polyMul(p: ArrayLike<number>, q: ArrayLike<number>): number[] {
   if (p.length === 0 || q.length === 0) return [];
