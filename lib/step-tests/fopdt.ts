@@ -10,6 +10,7 @@
  * 1997, sec. 2.3): y(k+1) = a y(k) + b0 u(k-N) + b1 u(k-N-1), a = e^{-T/tau},
  * b0 = 1 - e^{-(T-f)/tau}, b1 = e^{-(T-f)/tau} - a (unit gain).
  */
+import { mean } from "@/lib/assessment/signal";
 
 export interface FopdtFit {
   /** PV units per MV unit. */
@@ -93,33 +94,11 @@ export function fitFopdt(u: Float64Array, y: Float64Array, T: number, maxDeadTim
     return { tau: Math.exp(x), rss: Math.min(f1, f2) };
   };
   const Lmax = Math.max(0, Math.min(maxDeadTimeS, duration / 2));
-  const dL = Math.max(T / 2, Lmax / 80);
-  let best = { L: 0, tau: T, rss: Infinity };
-  for (let L = 0; L <= Lmax + 1e-12; L += dL) {
-    const r = bestTau(L);
-    if (r.rss < best.rss) best = { L, tau: r.tau, rss: r.rss };
-  }
-  // Refine L by golden-section within one grid step either side.
-  {
-    let a = Math.max(0, best.L - dL);
-    let b = Math.min(Lmax, best.L + dL);
-    const phi = (Math.sqrt(5) - 1) / 2;
-    for (let it = 0; it < 16 && b - a > 1e-4 * T; it++) {
-      const x1 = b - phi * (b - a);
-      const x2 = a + phi * (b - a);
-      const r1 = bestTau(x1);
-      const r2 = bestTau(x2);
-      if (r1.rss < best.rss) best = { L: x1, tau: r1.tau, rss: r1.rss };
-      if (r2.rss < best.rss) best = { L: x2, tau: r2.tau, rss: r2.rss };
-      if (r1.rss < r2.rss) b = x2;
-      else a = x1;
-    }
-  }
-  if (!Number.isFinite(best.rss)) return null;
-  const { K, c, rss } = evaluate(best.tau, best.L);
+  const best = searchDeadTime(bestTau, Lmax, Math.max(T / 2, Lmax / 80), 16, 1e-4 * T);
+  if (!best) return null;
+  const { K, c, rss } = evaluate(best.fit.tau, best.L);
   if (!Number.isFinite(K) || K === 0) return null;
-  const fitPercent = syy > 0 ? 100 * (1 - Math.sqrt(Math.max(0, rss)) / Math.sqrt(syy)) : -Infinity;
-  return { gain: K, timeConstantS: best.tau, deadTimeS: best.L, offset: c, fitPercent };
+  return { gain: K, timeConstantS: best.fit.tau, deadTimeS: best.L, offset: c, fitPercent: fitPercent(rss, syy) };
 }
 
 export interface IpdtFit {
@@ -151,37 +130,55 @@ export function fitIpdt(u: Float64Array, y: Float64Array, T: number, maxDeadTime
     return fitGainOffset(g, y, yMean, syy);
   };
   const Lmax = Math.max(0, Math.min(maxDeadTimeS, (n * T) / 2));
-  const dL = Math.max(T / 4, Lmax / 400);
-  let best = { L: 0, rss: Infinity };
-  for (let L = 0; L <= Lmax + 1e-12; L += dL) {
-    const r = evaluate(L).rss;
-    if (r < best.rss) best = { L, rss: r };
-  }
+  const best = searchDeadTime(evaluate, Lmax, Math.max(T / 4, Lmax / 400), 30, 1e-6 * T);
+  if (!best) return null;
+  const r = best.fit;
+  if (!Number.isFinite(r.K) || r.K === 0) return null;
+  return { rate: r.K, deadTimeS: best.L, offset: r.c, fitPercent: fitPercent(r.rss, syy) };
+}
+
+/**
+ * The dead time L in [0, Lmax] whose fit has the least residual sum of squares: a grid of step dL,
+ * then golden-section search within one grid step either side of the best grid point, keeping
+ * the best point evaluated. null when no L gives a finite residual.
+ */
+function searchDeadTime<F extends { rss: number }>(
+  fitAt: (L: number) => F,
+  Lmax: number,
+  dL: number,
+  maxIterations: number,
+  tolerance: number,
+): { L: number; fit: F } | null {
+  let best: { L: number; fit: F | null; rss: number } = { L: 0, fit: null, rss: Infinity };
+  const consider = (L: number, fit: F) => {
+    if (fit.rss < best.rss) best = { L, fit, rss: fit.rss };
+  };
+  for (let L = 0; L <= Lmax + 1e-12; L += dL) consider(L, fitAt(L));
   let a = Math.max(0, best.L - dL);
   let b = Math.min(Lmax, best.L + dL);
   const phi = (Math.sqrt(5) - 1) / 2;
-  for (let it = 0; it < 30 && b - a > 1e-6 * T; it++) {
+  for (let it = 0; it < maxIterations && b - a > tolerance; it++) {
     const x1 = b - phi * (b - a);
     const x2 = a + phi * (b - a);
-    const r1 = evaluate(x1).rss;
-    const r2 = evaluate(x2).rss;
-    if (r1 < best.rss) best = { L: x1, rss: r1 };
-    if (r2 < best.rss) best = { L: x2, rss: r2 };
-    if (r1 < r2) b = x2;
+    const r1 = fitAt(x1);
+    const r2 = fitAt(x2);
+    consider(x1, r1);
+    consider(x2, r2);
+    if (r1.rss < r2.rss) b = x2;
     else a = x1;
   }
-  if (!Number.isFinite(best.rss)) return null;
-  const r = evaluate(best.L);
-  if (!Number.isFinite(r.K) || r.K === 0) return null;
-  return { rate: r.K, deadTimeS: best.L, offset: r.c, fitPercent: syy > 0 ? 100 * (1 - Math.sqrt(Math.max(0, r.rss)) / Math.sqrt(syy)) : -Infinity };
+  return best.fit && Number.isFinite(best.rss) ? { L: best.L, fit: best.fit } : null;
+}
+
+/** NRMSE fit in %: 100 (1 - ||y - y_model|| / ||y - mean y||); -Infinity when y does not move. */
+function fitPercent(rss: number, syy: number): number {
+  return syy > 0 ? 100 * (1 - Math.sqrt(Math.max(0, rss)) / Math.sqrt(syy)) : -Infinity;
 }
 
 /** The mean of `y` and its sum of squared deviations. */
 function meanAndSpread(y: Float64Array): { yMean: number; syy: number } {
   const n = y.length;
-  let yMean = 0;
-  for (let k = 0; k < n; k++) yMean += y[k]!;
-  yMean /= n;
+  const yMean = mean(y);
   let syy = 0;
   for (let k = 0; k < n; k++) syy += (y[k]! - yMean) ** 2;
   return { yMean, syy };
@@ -190,9 +187,7 @@ function meanAndSpread(y: Float64Array): { yMean: number; syy: number } {
 /** y ~ K g + c by least squares (given y's mean and spread); returns the residual sum of squares with K and c. */
 function fitGainOffset(g: Float64Array, y: Float64Array, yMean: number, syy: number): { rss: number; K: number; c: number } {
   const n = y.length;
-  let gm = 0;
-  for (let k = 0; k < n; k++) gm += g[k]!;
-  gm /= n;
+  const gm = mean(g);
   let sgg = 0;
   let sgy = 0;
   for (let k = 0; k < n; k++) {

@@ -7,6 +7,7 @@
  * grid points becomes a partial first value instead of a timing error); PV and SP are measured
  * values, taken at kT by linear interpolation between the logged rows.
  */
+import { mean } from "@/lib/assessment/signal";
 import { ValidationError } from "@/lib/domain/errors";
 import type { StepTestMode, StepTestRow } from "./csv";
 
@@ -153,9 +154,7 @@ export function detrend(s: UniformSeries, method: DetrendMethod, spans: { mv: nu
 function lineFit(x: Float64Array): { a: number; b: number } {
   const n = x.length;
   const kMean = (n - 1) / 2;
-  let xm = 0;
-  for (let k = 0; k < n; k++) xm += x[k]!;
-  xm /= n;
+  const xm = mean(x);
   let sxy = 0;
   let sxx = 0;
   for (let k = 0; k < n; k++) {
