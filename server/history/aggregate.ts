@@ -84,31 +84,27 @@ export class HistoryAggregator {
   /** Samples of one loop in time order (ingest guarantees strictly increasing t). */
   addSamples(loopId: number, samples: readonly SampleDto[]): void {
     for (const s of samples) {
-      const sec = Math.floor(s.t / SECOND_MS) * SECOND_MS;
-      let b = this.seconds.get(loopId);
-      if (b && b.t !== sec) {
-        this.emitSecond(loopId, b);
-        b = undefined;
-      }
-      if (!b) {
-        b = new Bucket(sec);
-        this.seconds.set(loopId, b);
-      }
-      b.addSample(s);
-
+      this.openBucket("second", loopId, Math.floor(s.t / SECOND_MS) * SECOND_MS).addSample(s);
       const min = Math.floor(s.t / MINUTE_MS) * MINUTE_MS;
       if (min <= (this.emittedMinute.get(loopId) ?? -Infinity)) continue;
-      let m = this.minutes.get(loopId);
-      if (m && m.t !== min) {
-        this.emitMinute(loopId, m);
-        m = undefined;
-      }
-      if (!m) {
-        m = new Bucket(min);
-        this.minutes.set(loopId, m);
-      }
-      m.addSample(s);
+      this.openBucket("minute", loopId, min).addSample(s);
     }
+  }
+
+  /** The loop's open bucket of the period starting at `t`; a bucket still open for another period is emitted first. */
+  private openBucket(series: "second" | "minute", loopId: number, t: number): Bucket {
+    const open = series === "second" ? this.seconds : this.minutes;
+    let b = open.get(loopId);
+    if (b && b.t !== t) {
+      if (series === "second") this.emitSecond(loopId, b);
+      else this.emitMinute(loopId, b);
+      b = undefined;
+    }
+    if (!b) {
+      b = new Bucket(t);
+      open.set(loopId, b);
+    }
+    return b;
   }
 
   /** A tracker estimate: feeds the minute's radius statistics and the pole snapshots. */
