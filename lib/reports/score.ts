@@ -74,23 +74,8 @@ export interface DaySummary {
   harrisIndex: number | null;
 }
 
-/** A loop's figures over a period, minute-weighted from its days. */
-export interface PeriodFigures {
-  minutes: number;
-  radiusMax: number | null;
-  decayRatioMax: number | null;
-  decayRatioMean: number | null;
-  unstableShare: number | null;
-  alarmShare: number | null;
-  manualShare: number | null;
-  saturationShare: number | null;
-  serviceFactor: number | null;
-  diagnosisLabel: string;
-  diagnosisConfidence: number | null;
-  oscillationIndex: number | null;
-  stictionLikelihood: number | null;
-  harrisIndex: number | null;
-}
+/** A loop's figures over a period, minute-weighted from its days: a day's figures less those of one day only. */
+export type PeriodFigures = Omit<DaySummary, "loopId" | "day" | "radiusMean" | "trackerState">;
 
 function weighted(days: DaySummary[], pick: (d: DaySummary) => number | null): number | null {
   let w = 0;
