@@ -4,7 +4,7 @@
  * partial run) changes nothing that exists; an engineer's later edits to demo loops are kept.
  */
 import bcrypt from "bcryptjs";
-import { QueryTypes, type Sequelize, type Transaction } from "sequelize";
+import { QueryTypes, type Attributes, type CreationAttributes, type Model, type ModelStatic, type Sequelize, type Transaction, type WhereOptions } from "sequelize";
 import { seedSparkplugDemo } from "@/lib/data/sparkplug";
 import { policyOverrideSchema } from "@/lib/domain/alarms/policy";
 import { simulatorSparkplugIds } from "@/lib/domain/sparkplug";
@@ -47,30 +47,25 @@ export async function seedDemo(sequelize: Sequelize, opts: SeedOptions = {}): Pr
 
   await sequelize.transaction(async (transaction: Transaction) => {
     const t = { transaction };
+    /** The row found by its natural key `where`, else created from `defaults` (counted per table). */
+    const ensure = async <M extends Model>(table: string, model: ModelStatic<M>, where: WhereOptions<Attributes<M>>, defaults: CreationAttributes<M>): Promise<M> => {
+      const [row, wasCreated] = await model.findOrCreate({ where, defaults, transaction });
+      count(table, wasCreated);
+      return row;
+    };
     const tenantIds = new Map<string, number>();
     const siteIds = new Map<string, number>();
     const areaIds = new Map<string, number>();
     const userIds = new Map<string, number>();
 
     for (const tenant of DEMO_TENANTS) {
-      const [row, c] = await m.Tenant.findOrCreate({ where: { slug: tenant.slug }, defaults: { slug: tenant.slug, name: tenant.name }, ...t });
-      count("tenants", c);
+      const row = await ensure("tenants", m.Tenant, { slug: tenant.slug }, { slug: tenant.slug, name: tenant.name });
       tenantIds.set(tenant.slug, row.id);
       for (const site of tenant.sites) {
-        const [s, cs] = await m.Site.findOrCreate({
-          where: { tenantId: row.id, slug: site.slug },
-          defaults: { tenantId: row.id, slug: site.slug, name: site.name, timeZone: site.timeZone },
-          ...t,
-        });
-        count("sites", cs);
+        const s = await ensure("sites", m.Site, { tenantId: row.id, slug: site.slug }, { tenantId: row.id, slug: site.slug, name: site.name, timeZone: site.timeZone });
         siteIds.set(`${tenant.slug}/${site.slug}`, s.id);
         for (const area of site.areas) {
-          const [a, ca] = await m.Area.findOrCreate({
-            where: { siteId: s.id, slug: area.slug },
-            defaults: { tenantId: row.id, siteId: s.id, slug: area.slug, name: area.name },
-            ...t,
-          });
-          count("areas", ca);
+          const a = await ensure("areas", m.Area, { siteId: s.id, slug: area.slug }, { tenantId: row.id, siteId: s.id, slug: area.slug, name: area.name });
           areaIds.set(`${tenant.slug}/${site.slug}/${area.slug}`, a.id);
         }
       }
@@ -90,12 +85,7 @@ export async function seedDemo(sequelize: Sequelize, opts: SeedOptions = {}): Pr
         userIds.set(acc.email, userId);
       }
       const tenantId = must(tenantIds.get(acc.tenant), `tenant ${acc.tenant}`);
-      const [, c] = await m.Membership.findOrCreate({
-        where: { userId, tenantId },
-        defaults: { userId, tenantId, role: acc.role },
-        ...t,
-      });
-      count("memberships", c);
+      await ensure("memberships", m.Membership, { userId, tenantId }, { userId, tenantId, role: acc.role });
     }
 
     const loopIds = new Map<string, number>();
@@ -104,53 +94,34 @@ export async function seedDemo(sequelize: Sequelize, opts: SeedOptions = {}): Pr
       const siteId = must(siteIds.get(`${l.tenant}/${l.site}`), `site ${l.site}`);
       const areaId = must(areaIds.get(`${l.tenant}/${l.site}/${l.area}`), `area ${l.area}`);
       const { tenant: _t, site: _s, area: _a, ...fields } = l;
-      const [row, c] = await m.Loop.findOrCreate({
-        where: { tenantId, siteId, slug: l.slug },
-        defaults: { ...fields, tenantId, siteId, areaId, mvLimitLo: null, mvLimitHi: null, tfS: null, cascadeMasterLoopId: null },
-        ...t,
-      });
-      count("loops", c);
+      const row = await ensure("loops", m.Loop, { tenantId, siteId, slug: l.slug }, { ...fields, tenantId, siteId, areaId, mvLimitLo: null, mvLimitHi: null, tfS: null, cascadeMasterLoopId: null });
       loopIds.set(l.tag, row.id);
     }
 
     for (const tenant of DEMO_TENANTS) {
       const tenantId = must(tenantIds.get(tenant.slug), tenant.slug);
-      const [, c] = await m.AlarmPolicy.findOrCreate({
-        where: { tenantId, scope: "tenant", scopeId: tenantId },
-        defaults: { tenantId, scope: "tenant", scopeId: tenantId, settings: policyOverrideSchema.parse(DEMO_TENANT_POLICY), updatedBy: null },
-        ...t,
-      });
-      count("alarm_policies", c);
+      const where = { tenantId, scope: "tenant", scopeId: tenantId } as const;
+      await ensure("alarm_policies", m.AlarmPolicy, where, { ...where, settings: policyOverrideSchema.parse(DEMO_TENANT_POLICY), updatedBy: null });
     }
     for (const o of DEMO_POLICY_OVERRIDES) {
       const tenantId = must(tenantIds.get(o.tenant), o.tenant);
       const scope = o.tag ? "loop" : "site";
       const scopeId = o.tag ? must(loopIds.get(o.tag), o.tag) : must(siteIds.get(`${o.tenant}/${o.site}`), o.site);
-      const [, c] = await m.AlarmPolicy.findOrCreate({
-        where: { tenantId, scope, scopeId },
-        defaults: { tenantId, scope, scopeId, settings: policyOverrideSchema.parse(o.settings), updatedBy: null },
-        ...t,
-      });
-      count("alarm_policies", c);
+      await ensure("alarm_policies", m.AlarmPolicy, { tenantId, scope, scopeId }, { tenantId, scope, scopeId, settings: policyOverrideSchema.parse(o.settings), updatedBy: null });
     }
 
     for (const d of DEMO_DEVICES) {
       const tenantId = must(tenantIds.get(d.tenantSlug), d.tenantSlug);
       const siteId = must(siteIds.get(`${d.tenantSlug}/${d.siteSlug}`), d.siteSlug);
-      const [, c] = await m.DeviceCredential.findOrCreate({
-        where: { keyId: d.keyId },
-        defaults: {
-          tenantId,
-          siteId,
-          name: d.name,
-          clientId: d.clientId,
-          keyId: d.keyId,
-          secretHash: hashDeviceSecret(d.secret, opts.devicePepper),
-          createdBy: null,
-        },
-        ...t,
+      await ensure("device_credentials", m.DeviceCredential, { keyId: d.keyId }, {
+        tenantId,
+        siteId,
+        name: d.name,
+        clientId: d.clientId,
+        keyId: d.keyId,
+        secretHash: hashDeviceSecret(d.secret, opts.devicePepper),
+        createdBy: null,
       });
-      count("device_credentials", c);
     }
 
     // the simulators' Sparkplug mode feeds the same loops (simulators/sparkplug-publisher.ts)
@@ -165,20 +136,15 @@ export async function seedDemo(sequelize: Sequelize, opts: SeedOptions = {}): Pr
       const tenantId = must(tenantIds.get(tenant.slug), tenant.slug);
       const people = DEMO_ACCOUNTS.filter((a) => a.tenant === tenant.slug && (a.role === "operator" || a.role === "engineer"));
       const name = "Shift team: urgent and high alarms";
-      const [, c] = await m.NotificationRule.findOrCreate({
-        where: { tenantId, name },
-        defaults: {
-          tenantId,
-          areaId: null,
-          name,
-          recipients: people.map((p) => p.email),
-          minPriority: "high",
-          escalationMinutes: 15,
-          repeatMinutes: 60,
-        },
-        ...t,
+      await ensure("notification_rules", m.NotificationRule, { tenantId, name }, {
+        tenantId,
+        areaId: null,
+        name,
+        recipients: people.map((p) => p.email),
+        minPriority: "high",
+        escalationMinutes: 15,
+        repeatMinutes: 60,
       });
-      count("notification_rules", c);
     }
 
     // Report e-mails of the demo, so the outbox shows scheduled delivery: the operator gets each
