@@ -8,18 +8,12 @@ import { getDb } from "@/lib/data/db/sequelize";
 import { logConfigChange, type ConfigChangeEntry } from "@/lib/data/admin/config-log";
 import { findOwned, scoped } from "@/lib/data/tenancy";
 import { NotFoundError } from "@/lib/domain/errors";
-import type { TenantContext } from "@/lib/domain/types";
+import type { QualityRange } from "@/lib/domain/sample-quality";
+import type { LoopSummary, TenantContext } from "@/lib/domain/types";
 
-/** What a step test needs of its loop. */
-export interface StepTestLoop {
-  id: number;
-  tag: string;
-  units: string;
+/** What a step test needs of its loop: its tag, PV units, configured PV and MV ranges and periods. */
+export interface StepTestLoop extends Pick<LoopSummary, "id" | "tag" | "units">, QualityRange {
   mvUnits: string;
-  pvLo: number;
-  pvHi: number;
-  mvLo: number;
-  mvHi: number;
   telemetryPeriodS: number;
   estimationPeriodS: number;
   estimationProposedS: number | null;

@@ -11,7 +11,7 @@
  * rules for model reduction and PID controller tuning", J. Process Control 13, 2003) for the
  * plant the simulator runs, then rounded and written in the units each site uses.
  */
-import type { LoopKind, Role } from "@/lib/domain/types";
+import type { LoopKind, LoopSummary, Role } from "@/lib/domain/types";
 import { tuningSeconds, type ControllerAction, type ControllerForm } from "@/lib/domain/tuning";
 import type { GainKind, TdUnits, TiUnits } from "@/models/loop";
 
@@ -246,17 +246,11 @@ function estimationPeriod(def: LoopDef): number {
   return sig(n * def.telemetryPeriodS, 3);
 }
 
-export interface DemoLoop {
+/** A demo loop: named by slugs of its tenant, site and area, with the fields of a loop's summary and its configuration. */
+export interface DemoLoop extends Pick<LoopSummary, "tag" | "slug" | "description" | "kind" | "units" | "pvLo" | "pvHi"> {
   tenant: string;
   site: string;
   area: string;
-  tag: string;
-  slug: string;
-  description: string;
-  kind: LoopKind;
-  units: string;
-  pvLo: number;
-  pvHi: number;
   mvUnits: string;
   telemetryPeriodS: number;
   controllerPeriodS: number;

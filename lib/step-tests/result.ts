@@ -1,17 +1,15 @@
 /** What the offline identification of a step test returns (stored as JSON beside the test). */
 import type { ArxCandidate, ArxModel } from "@/lib/control";
+import type { QualityRange } from "@/lib/domain/sample-quality";
 import type { DetrendMethod } from "./resample";
 
 export const RESULT_VERSION = 1;
 /** Most points kept for the chart of measured vs simulated PV. */
 export const CHART_POINTS = 2000;
 
-export interface LoopForIdentification {
+/** What the identification needs of the loop: its telemetry period and configured PV and MV ranges. */
+export interface LoopForIdentification extends QualityRange {
   telemetryPeriodS: number;
-  pvLo: number;
-  pvHi: number;
-  mvLo: number;
-  mvHi: number;
 }
 
 export interface IdentifyOptions {

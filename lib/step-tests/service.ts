@@ -48,6 +48,9 @@ export interface StepTestDetail extends StepTestSummary {
   loop: { id: number; tag: string; units: string; mvUnits: string; estimationPeriodS: number; telemetryPeriodS: number; na: number; nb: number; nk: number };
 }
 
+/** What a step test's result view shows of its loop (tag, units, PV and MV ranges); for the page that renders it. */
+export type StepTestLoopInfo = Pick<StepTestLoop, "tag" | "units" | "mvUnits" | "pvLo" | "pvHi" | "mvLo" | "mvHi">;
+
 export const uploadOptionsSchema = z.object({
   detrend: z.enum(["initial", "mean", "linear"]).default("initial"),
   maxDeadTimeS: z.coerce.number().positive().max(86_400).optional(),

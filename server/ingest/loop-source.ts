@@ -7,16 +7,10 @@
 import type { Sequelize } from "sequelize";
 import { loopTuningSeconds, mvLimits, readLoops, type RoutedLoop } from "@/lib/data/loop-rows";
 import type { LoopConfig } from "../tracking/types";
+import type { LoopRoute } from "./directory";
 
-export interface LoopRouteRow {
-  loopId: number;
-  tenantId: number;
-  siteId: number;
-  tenantSlug: string;
-  siteSlug: string;
-  loopSlug: string;
-  range: { pvLo: number; pvHi: number; mvLo: number; mvHi: number };
-}
+/** A loop's topic route as read from the database: its configured ranges are always known. */
+export type LoopRouteRow = Required<LoopRoute>;
 
 export interface LoadedLoop {
   route: LoopRouteRow;
