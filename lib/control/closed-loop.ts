@@ -55,6 +55,22 @@ function checkPeriod(T: number): void {
   if (!(T > 0)) throw new ControlArgumentError(`sample period T must be > 0 s (got ${T})`);
 }
 
+/** A PID tuning as loops store it: ti null for no integral action, tf 0 for the default filter (td / 10). */
+export interface PidTuning {
+  kp: number;
+  ti: number | null;
+  td: number;
+  tf: number;
+  action: ControllerAction;
+  form: PidForm;
+}
+
+/** `discretePid` of a stored tuning at the period T, s. */
+export function discretePidOf(tuning: PidTuning, T: number): QTf {
+  const { kp, ti, td, tf, action, form } = tuning;
+  return discretePid({ kp, ti: ti ?? undefined, td, tf: tf > 0 ? tf : undefined, T, action, form });
+}
+
 /**
  * Discrete PID in velocity (incremental) form, u = C(q)(r - y), returned as { num, den, T } in
  * ascending powers of q^-1 with den[0] = 1.
