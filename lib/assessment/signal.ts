@@ -3,6 +3,48 @@
  * radix-2 FFT, the autocorrelation by FFT (Wiener–Khinchin), robust noise sigma, Levinson–Durbin.
  */
 
+/**
+ * Twiddle factors per stage, laid out by half-length h at offset h - 1 (k = 0..h-1), computed by
+ * the same rotation recurrence the butterflies used to run inline, so the FFT's results are the
+ * same to the last bit; shared by every transform size (a stage's factors depend on its length
+ * only). Stages up to TWIDDLE_CACHE_HALF are cached (16 bytes per entry and direction).
+ */
+const TWIDDLE_CACHE_HALF = 1 << 15;
+const twiddles: [{ re: Float64Array; im: Float64Array; half: number }, { re: Float64Array; im: Float64Array; half: number }] = [
+  { re: new Float64Array(0), im: new Float64Array(0), half: 0 },
+  { re: new Float64Array(0), im: new Float64Array(0), half: 0 },
+];
+
+function fillStage(re: Float64Array, im: Float64Array, offset: number, half: number, inverse: boolean): void {
+  const ang = ((inverse ? 2 : -2) * Math.PI) / (2 * half);
+  const wr = Math.cos(ang);
+  const wi = Math.sin(ang);
+  let cr = 1;
+  let ci = 0;
+  for (let k = 0; k < half; k++) {
+    re[offset + k] = cr;
+    im[offset + k] = ci;
+    const ncr = cr * wr - ci * wi;
+    ci = cr * wi + ci * wr;
+    cr = ncr;
+  }
+}
+
+/** Cached twiddles for stages with half-length up to `maxHalf` (a power of two, at most TWIDDLE_CACHE_HALF). */
+function twiddlesUpTo(maxHalf: number, inverse: boolean): { re: Float64Array; im: Float64Array } {
+  const t = twiddles[inverse ? 1 : 0];
+  if (t.half >= maxHalf) return t;
+  const re = new Float64Array(2 * maxHalf - 1);
+  const im = new Float64Array(2 * maxHalf - 1);
+  re.set(t.re);
+  im.set(t.im);
+  for (let half = Math.max(1, 2 * t.half); half <= maxHalf; half <<= 1) fillStage(re, im, half - 1, half, inverse);
+  t.re = re;
+  t.im = im;
+  t.half = maxHalf;
+  return t;
+}
+
 /** In-place iterative radix-2 FFT (Cooley–Tukey); re/im length must be a power of two. */
 export function fftInPlace(re: Float64Array, im: Float64Array, inverse = false): void {
   const n = re.length;
@@ -19,26 +61,35 @@ export function fftInPlace(re: Float64Array, im: Float64Array, inverse = false):
       im[j] = t;
     }
   }
+  const cached = twiddlesUpTo(Math.min(n >> 1, TWIDDLE_CACHE_HALF), inverse);
+  let wre = cached.re;
+  let wim = cached.im;
   for (let len = 2; len <= n; len <<= 1) {
-    const ang = ((inverse ? 2 : -2) * Math.PI) / len;
-    const wr = Math.cos(ang);
-    const wi = Math.sin(ang);
     const half = len >> 1;
+    let off = half - 1;
+    if (half > TWIDDLE_CACHE_HALF) {
+      // A stage too long to keep: its factors for this call only.
+      wre = new Float64Array(half);
+      wim = new Float64Array(half);
+      fillStage(wre, wim, 0, half, inverse);
+      off = 0;
+    }
     for (let i = 0; i < n; i += len) {
-      let cr = 1;
-      let ci = 0;
       for (let k = 0; k < half; k++) {
+        const cr = wre[off + k]!;
+        const ci = wim[off + k]!;
         const a = i + k;
         const b = a + half;
-        const xr = re[b]! * cr - im[b]! * ci;
-        const xi = re[b]! * ci + im[b]! * cr;
-        re[b] = re[a]! - xr;
-        im[b] = im[a]! - xi;
-        re[a] = re[a]! + xr;
-        im[a] = im[a]! + xi;
-        const ncr = cr * wr - ci * wi;
-        ci = cr * wi + ci * wr;
-        cr = ncr;
+        const br = re[b]!;
+        const bi = im[b]!;
+        const xr = br * cr - bi * ci;
+        const xi = br * ci + bi * cr;
+        const ar = re[a]!;
+        const ai = im[a]!;
+        re[b] = ar - xr;
+        im[b] = ai - xi;
+        re[a] = ar + xr;
+        im[a] = ai + xi;
       }
     }
   }
@@ -48,6 +99,20 @@ export function fftInPlace(re: Float64Array, im: Float64Array, inverse = false):
       im[i] = im[i]! / n;
     }
   }
+}
+
+/**
+ * Scratch arrays for the transforms, reused across calls (JS runs one call at a time); each call
+ * zeroes what it reads. Kept up to 2^16 points (2 MB for the four); longer ones are allocated per call.
+ */
+const SCRATCH_MAX = 1 << 16;
+const scratch: Float64Array[] = [];
+
+function scratchOf(slot: number, m: number): Float64Array {
+  if (m > SCRATCH_MAX) return new Float64Array(m);
+  let a = scratch[slot];
+  if (!a || a.length < m) scratch[slot] = a = new Float64Array(Math.max(m, 2 * (a?.length ?? 0)));
+  return a.length === m ? a : a.subarray(0, m);
 }
 
 function nextPow2(n: number): number {
@@ -67,9 +132,10 @@ export function autocovariance(x: ArrayLike<number>, maxLag: number): Float64Arr
   for (let i = 0; i < n; i++) mean += x[i]!;
   mean /= n || 1;
   const m = nextPow2(n + lags + 1);
-  const re = new Float64Array(m);
-  const im = new Float64Array(m);
+  const re = scratchOf(0, m);
+  const im = scratchOf(1, m).fill(0);
   for (let i = 0; i < n; i++) re[i] = x[i]! - mean;
+  re.fill(0, n);
   fftInPlace(re, im);
   for (let i = 0; i < m; i++) {
     re[i] = re[i]! * re[i]! + im[i]! * im[i]!;
@@ -103,14 +169,16 @@ export function crossCovariance(x: ArrayLike<number>, y: ArrayLike<number>, maxL
   mx /= n || 1;
   my /= n || 1;
   const m = nextPow2(n + lags + 1);
-  const ar = new Float64Array(m);
-  const ai = new Float64Array(m);
-  const br = new Float64Array(m);
-  const bi = new Float64Array(m);
+  const ar = scratchOf(0, m);
+  const ai = scratchOf(1, m).fill(0);
+  const br = scratchOf(2, m);
+  const bi = scratchOf(3, m).fill(0);
   for (let i = 0; i < n; i++) {
     ar[i] = x[i]! - mx;
     br[i] = y[i]! - my;
   }
+  ar.fill(0, n);
+  br.fill(0, n);
   fftInPlace(ar, ai);
   fftInPlace(br, bi);
   // conj(X) * Y -> sum x(t) y(t+k)

@@ -5,17 +5,19 @@
  * and publishes the results.
  *
  * CPU budget: at most 2 µs of server CPU per incoming sample on average. `assessLoop` costs about
- * 2–3 µs per window sample (bench:live-assess: a 3,600-sample window in 10–11 ms of CPU on a mix
- * where two loops in three oscillate; bench:assess-speed: one day at 1 s in 0.2–0.3 s), so a
- * window of n stored samples costs ≈ 2.5·n µs; the push itself ≈ 0.2 µs per sample. Re-running it only after
- * RERUN_FACTOR·n new samples (n counted in incoming samples, i.e. times the decimation stride)
- * gives 2.5·n / (1.5·n) ≈ 1.7 µs per sample (2 µs at 3 µs per window sample) once the window is
- * full. While it fills, runs come at n = 60, 150, 375, ... samples (each 2.5 times the last, so
- * the first verdict, or "not judged yet · about N min", comes after a minute of data at 1 s); each
- * covers all data so far, so that first fill costs up to 2.5/1.5 window samples per incoming one
- * (≈ 4 µs per sample for one window's length, ≈ 15 ms per loop in all at 3,600 samples). Loops are
- * staggered: each loop's first run is offset by a share of its own interval taken from its id, and
- * due loops run from a timer in small batches with a time cap per tick.
+ * 2–3 µs per window sample (bench:live-assess: a 3,600-sample window in 6–11 ms of CPU, depending
+ * on the machine's load, on a mix where two loops in three oscillate; bench:assess-speed: one day
+ * at 1 s in 0.2–0.3 s), so a window of n stored samples costs ≈ 2.5·n µs; the push itself
+ * 0.1–0.2 µs per sample. Once the window is full it is re-run only after RERUN_FACTOR·n new
+ * samples (n counted in incoming samples, i.e. times the decimation stride): 2.5·n / (2·n) ≈ 1.25 µs
+ * per sample (1.5 µs at 3 µs per window sample), so half of the data is assessed and a verdict is
+ * at most two windows old. While it fills, runs come after FILL_RERUN_FACTOR·n new samples, at
+ * n = 60, 150, 375, ... (each 2.5 times the last, so the first verdict, or "not judged yet · about
+ * N min", comes after a minute of data at 1 s); each covers all data so far, so that first fill
+ * costs up to 2.5/1.5 window samples per incoming one (≈ 4 µs per sample for one window's length,
+ * ≈ 15 ms per loop in all at 3,600 samples). Loops are staggered: each loop's first run is offset
+ * by a share of its own interval taken from its id, and due loops run from a timer in small
+ * batches with a time cap per tick.
  *
  * Each result is grouped with the site's other loops by oscillation period (site-groups.ts): a
  * sticking valve whose period other loops of the site share becomes a shared oscillation. Without
@@ -29,8 +31,10 @@ import { applySharedOscillation, sharedOscillationOf, type PeriodPeer } from "./
 
 /** Window length in stored samples (memory: 33 bytes per sample, ≈ 120 kB per loop). */
 export const WINDOW_SAMPLES = 3_600;
-/** Re-run after this many times the window's (incoming) length: see the CPU budget above. */
-export const RERUN_FACTOR = 1.5;
+/** Once the window is full, re-run after this many times its (incoming) length: see the CPU budget above. */
+export const RERUN_FACTOR = 2;
+/** While the window fills, re-run after this many times the data so far (the growth of the early runs). */
+export const FILL_RERUN_FACTOR = 1.5;
 /** First assessment after this many samples, or a minute of data when that is fewer samples. */
 export const FIRST_RUN_SAMPLES = 60;
 const FIRST_RUN_S = 60;
@@ -221,8 +225,8 @@ export class LiveAssessor {
     const report = applySharedOscillation(own, shared);
     // Next run: the CPU budget's interval, or later when the verdict says how much data it needs.
     const needs = report.diagnosis.needsS ? report.diagnosis.needsS / e.loop.config.samplePeriodS : 0;
-    const budget = RERUN_FACTOR * n * stride;
-    e.dueAfter = Math.max(e.firstRun, Math.ceil(Math.min(Math.max(budget, needs), RERUN_FACTOR * e.ring.capacity * stride)));
+    const factor = n < e.ring.capacity ? FILL_RERUN_FACTOR : RERUN_FACTOR;
+    e.dueAfter = Math.max(e.firstRun, Math.ceil(Math.min(Math.max(factor * n * stride, needs), factor * e.ring.capacity * stride)));
     const r: LiveResult = { loopId, tenantId: e.loop.tenantId, siteId, at, report, windowSamples: n, windowS };
     this.latest.set(loopId, r);
     this.notePeriod(r);

@@ -9,7 +9,8 @@
  * Printed per incoming sample: the push into the windows, the window runs amortised over the run
  * (including the filling of every window, which costs more than the steady state), and the steady
  * state: the mean CPU of a full-window run spread over the RERUN_FACTOR·window samples between two
- * runs. Beside them, in the same run, the loop tracker (server/tracking/loop-tracker.ts: the
+ * runs (at 10,000 samples a loop's window is full after its run near 5,860 samples, and runs again
+ * once more, so steady runs are about a fifth of all runs). Beside them, in the same run, the loop tracker (server/tracking/loop-tracker.ts: the
  * pipeline's own per-sample estimation) on the same batches of `--tracked` loops, as one part of
  * the pipeline's per-sample cost without the assessment.
  *
@@ -20,7 +21,7 @@
 import { availableParallelism, loadavg } from "node:os";
 import { parseLoopConfig, type AssessSample } from "@/lib/assessment";
 import type { SampleDto } from "@/lib/domain/types";
-import { LiveAssessor, RERUN_FACTOR, WINDOW_SAMPLES } from "@/server/assessment/assessor";
+import { FILL_RERUN_FACTOR, LiveAssessor, RERUN_FACTOR, WINDOW_SAMPLES } from "@/server/assessment/assessor";
 import { LoopTracker } from "@/server/tracking/loop-tracker";
 import { simulateLoop, type SimOptions } from "@/tests/assessment/loop-sim";
 import { piTuning, testLoopConfig } from "@/tests/helpers/loop-config";
@@ -82,7 +83,7 @@ const clock = new FakeClock(T0_MS);
 const trackers = Array.from({ length: TRACKED }, (_, i) => new LoopTracker(testLoopConfig({ id: i + 1, tag: `FIC-${500 + i}`, controller: piTuning(0.5, 15) }), { clock }));
 
 console.log(
-  `live assessment speed: ${LOOPS} loops × ${SAMPLES} samples at 1 s (${LOOPS * SAMPLES} in all), batches of ${BATCH}, window ${WINDOW_SAMPLES}, re-run after ${RERUN_FACTOR}× the window; ${availableParallelism()} CPUs, load ${loadavg()[0]!.toFixed(2)}`,
+  `live assessment speed: ${LOOPS} loops × ${SAMPLES} samples at 1 s (${LOOPS * SAMPLES} in all), batches of ${BATCH}, window ${WINDOW_SAMPLES}, re-run after ${RERUN_FACTOR}× the full window (${FILL_RERUN_FACTOR}× the data so far while it fills); ${availableParallelism()} CPUs, load ${loadavg()[0]!.toFixed(2)}`,
 );
 let pushMs = 0;
 let runMs = 0;

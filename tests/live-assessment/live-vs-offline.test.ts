@@ -10,7 +10,7 @@ import { describe, expect, it } from "vitest";
 import { assessLoop, parseLoopConfig, type AssessSample } from "@/lib/assessment";
 import { findingPhrase } from "@/lib/domain/findings";
 import type { SampleDto } from "@/lib/domain/types";
-import { LiveAssessor, RERUN_FACTOR, strideFor } from "@/server/assessment/assessor";
+import { FILL_RERUN_FACTOR, LiveAssessor, RERUN_FACTOR, strideFor } from "@/server/assessment/assessor";
 import { benchmarkPlan, generateRecording } from "@/simulators/benchmark/generate";
 
 const T0_MS = Date.UTC(2026, 11, 2, 6, 0, 0);
@@ -76,7 +76,16 @@ describe("schedule and memory", () => {
     // While the window fills, each run covers everything so far: at most (1 + R)/R window samples per incoming one.
     const filling = runs.filter((r) => r.n < 500);
     const fillAssessed = filling.reduce((s, r) => s + r.n * stride, 0);
-    expect(fillAssessed / full[0]!.incoming).toBeLessThanOrEqual((1 + RERUN_FACTOR) / RERUN_FACTOR);
+    expect(fillAssessed / full[0]!.incoming).toBeLessThanOrEqual((1 + FILL_RERUN_FACTOR) / FILL_RERUN_FACTOR);
+    // The gaps themselves (each at most one 20-sample batch late): FILL_RERUN_FACTOR times the data so
+    // far while the window fills (when the first verdicts appear), RERUN_FACTOR windows once it is full.
+    const gaps = runs.slice(1).map((r, k) => ({ after: runs[k]!.n, gap: r.incoming - runs[k]!.incoming }));
+    expect(gaps.length).toBeGreaterThan(6);
+    for (const { after, gap } of gaps) {
+      const due = (after < 500 ? FILL_RERUN_FACTOR : RERUN_FACTOR) * after * stride;
+      expect(gap).toBeGreaterThanOrEqual(due);
+      expect(gap).toBeLessThan(due + 20);
+    }
   });
 
   it("decimates a slow loop's window (bounded memory) and assesses the decimated samples with the stored period", () => {
