@@ -25,6 +25,18 @@
  * effective number of points is N (1 - rho) / (1 + rho), and q is the Student-t quantile with
  * the degrees of freedom of the residual variance, N (1 - rho^2) / (1 + rho^2) - 2, instead of
  * the normal one.
+ *
+ * Weights and delay (docs/domain.md §7): a point may carry the standard deviation of its own value
+ * (`sd`, e.g. the delta-method sd of a radius). The line is then fitted by weighted least squares
+ * with w = 1 / max(sd, half the window's median sd)^2 (the floor keeps a point whose delta-method
+ * sd collapses, as it does where two poles meet, from owning the fit); a point without an sd gets
+ * the median. Weighted, every sum above is the weighted one: tbar and the bread use sum w, the
+ * HAC scores are w e x, the AR(1) floor uses the weighted residual variance sum w e^2 / (N - 2),
+ * and the effective N of the degrees of freedom is Kish's (sum w)^2 / sum w^2. With every weight
+ * equal this is the unweighted fit above. `delay` (seconds) says that each value describes the
+ * quantity as it was `delay` seconds before its time stamp (an exponentially forgetting estimator
+ * lags a ramp by about one memory, the mean age of its data lambda / (1 - lambda) samples; common
+ * practice): the points are moved back by it before the fit, so the crossing is in true time.
  */
 import { ControlArgumentError, NonFiniteInputError } from "./errors";
 import { normalQuantile } from "./confidence";
@@ -47,6 +59,15 @@ export interface ForecastOptions {
   maxHorizon?: number;
   /** Newey–West lag in points; default as in the module comment. */
   lag?: number;
+  /** Seconds by which each value lags the quantity it estimates (module doc); default 0. */
+  delay?: number;
+}
+
+/** A point of the series; `sd` (same units as value, > 0) weights it (module doc). */
+export interface TrendPoint {
+  t: number;
+  value: number;
+  sd?: number;
 }
 
 export interface CrossingForecast {
@@ -77,7 +98,7 @@ export interface CrossingForecast {
  * is at or before the last point.
  */
 export function forecastCrossing(
-  points: readonly { t: number; value: number }[],
+  points: readonly TrendPoint[],
   level: number,
   options: ForecastOptions = {},
 ): CrossingForecast | null {
@@ -87,7 +108,13 @@ export function forecastCrossing(
     if (!Number.isFinite(p.t)) throw new NonFiniteInputError(`points[${i}].t`);
     if (!Number.isFinite(p.value)) throw new NonFiniteInputError(`points[${i}].value`);
     if (i > 0 && !(p.t > points[i - 1]!.t)) throw new ControlArgumentError(`points must have strictly increasing t (index ${i})`);
+    if (p.sd !== undefined) {
+      if (!Number.isFinite(p.sd)) throw new NonFiniteInputError(`points[${i}].sd`);
+      if (!(p.sd > 0)) throw new ControlArgumentError(`points[${i}].sd must be > 0 when given, got ${p.sd}`);
+    }
   }
+  const delay = options.delay ?? 0;
+  if (!Number.isFinite(delay) || delay < 0) throw new ControlArgumentError(`delay must be >= 0 seconds, got ${delay}`);
   const conf = options.confidence ?? 0.95;
   if (!(conf > 0 && conf < 1)) throw new ControlArgumentError(`confidence must be in (0, 1), got ${conf}`);
   const memory = options.memory ?? 0;
@@ -105,29 +132,37 @@ export function forecastCrossing(
   if (span < minSpan || span <= 0) return null;
   const maxHorizon = options.maxHorizon ?? 10 * span;
 
+  // weights (module doc), scaled to sum to N so that every unweighted formula keeps its form
+  const w = pointWeights(points, first, N);
   let tbar = 0;
   let vbar = 0;
-  for (let i = first; i < points.length; i++) {
-    tbar += points[i]!.t;
-    vbar += points[i]!.value;
+  for (let i = 0; i < N; i++) {
+    const p = points[first + i]!;
+    tbar += w[i]! * (p.t - delay);
+    vbar += w[i]! * p.value;
   }
   tbar /= N;
   vbar /= N;
   let sxx = 0;
   let sxy = 0;
-  for (let i = first; i < points.length; i++) {
-    const dt = points[i]!.t - tbar;
-    sxx += dt * dt;
-    sxy += dt * (points[i]!.value - vbar);
+  for (let i = 0; i < N; i++) {
+    const p = points[first + i]!;
+    const dt = p.t - delay - tbar;
+    sxx += w[i]! * dt * dt;
+    sxy += w[i]! * dt * (p.value - vbar);
   }
   const beta = sxy / sxx;
   const alpha = vbar;
   const x = new Float64Array(N);
-  const e = new Float64Array(N);
+  // we: the weighted residual w e (the HAC score's factor); z: sqrt(w) e (standardised residual)
+  const we = new Float64Array(N);
+  const z = new Float64Array(N);
   for (let i = 0; i < N; i++) {
     const p = points[first + i]!;
-    x[i] = p.t - tbar;
-    e[i] = p.value - alpha - beta * x[i]!;
+    x[i] = p.t - delay - tbar;
+    const e = p.value - alpha - beta * x[i]!;
+    we[i] = w[i]! * e;
+    z[i] = Math.sqrt(w[i]!) * e;
   }
   let lag = options.lag;
   if (lag === undefined) {
@@ -136,32 +171,32 @@ export function forecastCrossing(
   }
   if (!Number.isInteger(lag) || lag < 0) throw new ControlArgumentError(`lag must be an integer >= 0, got ${lag}`);
   lag = Math.min(lag, N - 1);
-  // Meat S = sum_l w_l sum_t e_t e_{t-l} (x_t x_{t-l}' + x_{t-l} x_t'), x_t = [1, tau_t].
+  // Meat S = sum_l k_l sum_t g_t g_{t-l}' + g_{t-l} g_t', scores g_t = w_t e_t [1, tau_t].
   let s00 = 0;
   let s01 = 0;
   let s11 = 0;
   for (let t = 0; t < N; t++) {
-    const ee = e[t]! * e[t]!;
+    const ee = we[t]! * we[t]!;
     s00 += ee;
     s01 += ee * x[t]!;
     s11 += ee * x[t]! * x[t]!;
   }
   for (let l = 1; l <= lag; l++) {
-    const w = 1 - l / (lag + 1);
+    const k = 1 - l / (lag + 1);
     let a00 = 0;
     let a01 = 0;
     let a11 = 0;
     for (let t = l; t < N; t++) {
-      const ee = e[t]! * e[t - l]!;
+      const ee = we[t]! * we[t - l]!;
       a00 += 2 * ee;
       a01 += ee * (x[t]! + x[t - l]!);
       a11 += 2 * ee * x[t]! * x[t - l]!;
     }
-    s00 += w * a00;
-    s01 += w * a01;
-    s11 += w * a11;
+    s00 += k * a00;
+    s01 += k * a01;
+    s11 += k * a11;
   }
-  // Bread (X'X)^-1 = diag(1/N, 1/sxx) because tau is centred; small-sample factor N/(N-2).
+  // Bread (X'WX)^-1 = diag(1/N, 1/sxx) because tau is centred and sum w = N; small-sample factor N/(N-2).
   const f = N / (N - 2);
   let vAlpha = (f * s00) / (N * N);
   let cov = (f * s01) / (N * sxx);
@@ -170,9 +205,11 @@ export function forecastCrossing(
   const dtMean = span / (N - 1);
   let e0 = 0;
   let e1 = 0;
+  let w2 = 0;
   for (let t = 0; t < N; t++) {
-    e0 += e[t]! * e[t]!;
-    if (t > 0) e1 += e[t]! * e[t - 1]!;
+    e0 += z[t]! * z[t]!;
+    if (t > 0) e1 += z[t]! * z[t - 1]!;
+    w2 += w[t]! * w[t]!;
   }
   const rhoData = e0 > 0 ? e1 / e0 : 0;
   const rho = Math.min(MAX_RHO, Math.max(0, rhoData, memory > 0 ? Math.exp(-dtMean / memory) : 0));
@@ -185,11 +222,13 @@ export function forecastCrossing(
     vBeta = Math.max(vBeta, vBetaAr);
     cov = 0; // tau is centred: the AR(1) form has no alpha-beta covariance
   }
-  const effective = N / inflation;
+  // Kish's effective number of weighted points, (sum w)^2 / sum w^2 (= N with equal weights)
+  const kish = (N * N) / w2;
+  const effective = kish / inflation;
   const slopeStd = Math.sqrt(Math.max(vBeta, 0));
   // degrees of freedom of s2 from correlated residuals: var(s2) ~ 2 s2^2 (1 + rho^2) / (N (1 - rho^2))
   // (Bartlett's formula for the variance of a sample variance under AR(1); from memory)
-  const dof = Math.max(1, (N * (1 - rho * rho)) / (1 + rho * rho) - 2);
+  const dof = Math.max(1, (kish * (1 - rho * rho)) / (1 + rho * rho) - 2);
   const q = studentQuantile(0.5 + conf / 2, dof);
   const tStat = slopeStd > 0 ? beta / slopeStd : beta === 0 ? 0 : Math.sign(beta) * Infinity;
   if (!(Math.abs(tStat) > q)) return null;
@@ -218,6 +257,32 @@ export function forecastCrossing(
     lag,
     effectivePoints: effective,
   };
+}
+
+/**
+ * Weights of points[first .. first + n - 1] (module doc): 1 / max(sd, median / 2)^2, a point
+ * without an sd at the median; all 1 when no point has one. Scaled to sum to n.
+ */
+function pointWeights(points: readonly TrendPoint[], first: number, n: number): Float64Array {
+  const w = new Float64Array(n).fill(1);
+  const sds: number[] = [];
+  for (let i = 0; i < n; i++) {
+    const sd = points[first + i]!.sd;
+    if (sd !== undefined) sds.push(sd);
+  }
+  if (sds.length === 0) return w;
+  sds.sort((a, b) => a - b);
+  const mid = sds.length >> 1;
+  const median = sds.length % 2 ? sds[mid]! : 0.5 * (sds[mid - 1]! + sds[mid]!);
+  let sum = 0;
+  for (let i = 0; i < n; i++) {
+    const sd = points[first + i]!.sd;
+    const s = Math.max(sd ?? median, median / 2);
+    w[i] = 1 / (s * s);
+    sum += w[i]!;
+  }
+  for (let i = 0; i < n; i++) w[i] = (w[i]! * n) / sum;
+  return w;
 }
 
 /**

@@ -52,7 +52,8 @@ export interface TrackerCheckpoint {
   lastPlantUpdate: number;
   lastSpMove: number;
   samplesSeen: number;
-  radiusHistory: { t: number; value: number }[];
+  /** The rim forecast's history; `sd` (the radius's delta-method sd) is absent in older checkpoints. */
+  radiusHistory: { t: number; value: number; sd?: number }[];
   yVariance: number;
   yMean: number;
   /** Prefilter state: last raw signals and the filtered values. */

@@ -6,7 +6,7 @@
 import type { ArxEstimator } from "@/lib/control/arx";
 import { closedLoopCoefficientCovariance, poleConfidence } from "@/lib/control/confidence";
 import { closedLoopPolynomial } from "@/lib/control/closed-loop";
-import { forecastCrossing } from "@/lib/control/forecast";
+import { forecastCrossing, type TrendPoint } from "@/lib/control/forecast";
 import { juryTest } from "@/lib/control/jury";
 import { polyMul, qToZ, stripLeadingZeros } from "@/lib/control/poly";
 import { polyRootsWithBounds } from "@/lib/control/root-bounds";
@@ -14,6 +14,9 @@ import { polyRoots } from "@/lib/control/roots";
 import type { ArxModel, Complex, QTf } from "@/lib/control/types";
 import type { Crossing } from "@/lib/domain/assessment";
 import type { LoopStateDto, PoleDto } from "@/lib/domain/types";
+
+/** Estimator memories by which the rim forecast moves the radius history back (docs/domain.md §7). */
+export const RADIUS_DELAY_MEMORIES = 0.5;
 
 export function finite(x: number | null | undefined): number | null {
   return x !== null && x !== undefined && Number.isFinite(x) ? x : null;
@@ -82,15 +85,25 @@ export function fillModelFigures(st: LoopStateDto, model: ArxModel, cov: number[
   }
 }
 
-/** When the spectral-radius trend reaches the unit circle. */
-export function forecastRadiusOne(history: readonly { t: number; value: number }[], memoryS: number): Crossing | null {
+/**
+ * When the spectral-radius trend reaches the unit circle (docs/domain.md §7): each radius weighted
+ * by its own delta-method sd (when it has one), and moved back by half an estimator memory
+ * (RADIUS_DELAY_MEMORIES, chosen by measurement there: the estimate lags a drifting radius by about
+ * one memory, a gain creep's radius bends the other way).
+ */
+export function forecastRadiusOne(history: readonly TrendPoint[], memoryS: number): Crossing | null {
   try {
-    const f = forecastCrossing(history, 1, { memory: memoryS });
+    const f = forecastCrossing(history, 1, { memory: memoryS, delay: RADIUS_DELAY_MEMORIES * memoryS });
     if (!f || !Number.isFinite(f.at) || !Number.isFinite(f.low) || !Number.isFinite(f.high)) return null;
     return { at: Math.round(f.at * 1000), low: Math.round(f.low * 1000), high: Math.round(f.high * 1000) };
   } catch {
     return null;
   }
+}
+
+/** A radius history point: the radius, and its sd when the delta method gave a usable one. */
+export function radiusPoint(t: number, radius: number, sd: number | null): TrendPoint {
+  return sd !== null && Number.isFinite(sd) && sd > 0 ? { t, value: radius, sd } : { t, value: radius };
 }
 
 /**

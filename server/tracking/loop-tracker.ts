@@ -30,10 +30,11 @@ import { NON_TRACKING } from "@/lib/domain/alarms/conditions";
 import { assessPoles, effectivePoles, effectivePolesSource, type RoutineFindings } from "@/lib/domain/assessment";
 import { FigureTrend } from "@/lib/domain/trend";
 import type { ArxModel, QTf } from "@/lib/control/types";
+import type { TrendPoint } from "@/lib/control/forecast";
 import type { LoopStateDto, SampleDto, TrackerState } from "@/lib/domain/types";
 import type { Clock } from "../context";
 import { checkpointProblem, NEVER, type EstimationInput, type PendingSample, type TrackerCheckpoint } from "./checkpoint";
-import { dataPolesOf, fillModelFigures, finite, forecastRadiusOne, rimDoubt } from "./figures";
+import { dataPolesOf, fillModelFigures, finite, forecastRadiusOne, radiusPoint, rimDoubt } from "./figures";
 import { largeError, predictBad, type OutlierJudge } from "./outliers";
 import { choosePlant, plausibility } from "./plant-choice";
 import { SignalConditioner } from "./conditioning";
@@ -119,7 +120,7 @@ export class LoopTracker {
   private samplesSeen = 0;
   private yMean = 0;
   private yVariance = 0;
-  private radiusHistory: { t: number; value: number }[] = [];
+  private radiusHistory: TrendPoint[] = [];
   private receivedAt: number | null = null;
   private deliveryPeriodMs = 0;
   private state: LoopStateDto;
@@ -512,7 +513,7 @@ export class LoopTracker {
     if (st.spectralRadius !== null && (kind.state === "tracking" || kind.state === "low-excitation")) {
       const last = this.radiusHistory[this.radiusHistory.length - 1];
       if (!last || t >= last.t + this.forecastPointEveryS) {
-        this.radiusHistory.push({ t, value: st.spectralRadius });
+        this.radiusHistory.push(radiusPoint(t, st.spectralRadius, st.radiusSd));
         const cutoff = t - this.forecastWindowS;
         let drop = 0;
         while (drop < this.radiusHistory.length && this.radiusHistory[drop]!.t < cutoff) drop++;
@@ -604,7 +605,7 @@ export class LoopTracker {
       this.lastPlantUpdate = cp.lastPlantUpdate <= NEVER ? -Infinity : cp.lastPlantUpdate;
       this.lastSpMove = cp.lastSpMove <= NEVER ? -Infinity : cp.lastSpMove;
       this.samplesSeen = cp.samplesSeen;
-      this.radiusHistory = cp.radiusHistory.map((p) => ({ t: p.t, value: p.value }));
+      this.radiusHistory = cp.radiusHistory.map((p) => radiusPoint(p.t, p.value, p.sd ?? null));
       this.yVariance = cp.yVariance;
       this.yMean = cp.yMean;
       this.lastStateAt = -Infinity;

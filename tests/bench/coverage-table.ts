@@ -33,7 +33,8 @@ export function printCoverageTable(): void {
   rows.push({ what: "rim forecast interval, drift 0.90 -> 1.0 over 10 h, at half way (synthetic radius series)", runs: f.forecasts, value: f.coverage, lo: 0.9, hi: 0.97 });
   rows.push({ what: "rim forecast within +-15 % at half way", runs: 300, value: f.within15, lo: 0.8, hi: 1 });
   rows.push({ what: "no forecast on a run without drift", runs: 300, value: f.quiet, lo: 0.95, hi: 1 });
-  // the same through the tracker in closed loop (tests/control/forecast-tracker-mc.ts), 5 s samples
+  // the same through the tracker in closed loop (tests/control/forecast-tracker-mc.ts), 5 s samples; the
+  // tracker weights each radius by its sd and moves it back by half a memory (docs/domain.md §7)
   const signed = (x: number) => (Number.isFinite(x) ? `${x >= 0 ? "+" : ""}${(100 * x).toFixed(1)} %` : "n/a");
   for (const [kind, label] of [["linear-radius", "radius 0.90 -> 1.0 linear in 10 h"], ["gain-creep", "simulator gain creep to the rim in 10 h"]] as const) {
     const m = forecastThroughTracker(kind, 40, 9100);

@@ -1,0 +1,66 @@
+/**
+ * The tracker's rim forecast wiring (server/tracking/figures.ts, docs/domain.md §7): the radius
+ * history carries each radius's sd, the forecast moves the points back by half an estimator
+ * memory, and a checkpoint written before the sd was kept still restores. The forecast's accuracy
+ * and interval coverage through the tracker are statistics: `npm run bench` prints them.
+ */
+import path from "node:path";
+import { describe, expect, it } from "vitest";
+import { LoopTracker } from "@/server/tracking/loop-tracker";
+import { forecastRadiusOne, radiusPoint, RADIUS_DELAY_MEMORIES } from "@/server/tracking/figures";
+import { buildFleet } from "@/simulators/fleet";
+import { loadScenario } from "@/simulators/scenario";
+import { FakeClock, trackerConfigFor } from "./helpers";
+
+describe("rim forecast in the tracker", () => {
+  it("puts a noise-free radius ramp's crossing half a memory before the ramp's own (arithmetic)", () => {
+    // radius 0.90 + 1e-5 t (t in s) reaches 1 at 10,000 s; memory 200 s -> delay 100 s -> 9,900 s
+    const history = Array.from({ length: 300 }, (_, i) => radiusPoint(i * 10, 0.9 + 1e-5 * i * 10, 0.002));
+    const f = forecastRadiusOne(history, 200)!;
+    expect(RADIUS_DELAY_MEMORIES).toBe(0.5);
+    expect(f.at).toBe(9_900_000);
+    expect(f.low).toBe(9_900_000);
+    expect(f.high).toBe(9_900_000);
+  });
+
+  it("weights a radius by its sd: a stretch flagged as 10x noisier moves the forecast far less", () => {
+    // a clean ramp to 1 at 10,000 s with a +0.02 excursion over its last tenth: flagged with sd 10x
+    // the rest it barely moves the crossing, unflagged it drags it early (weighted least squares)
+    const mk = (flag: boolean) =>
+      Array.from({ length: 300 }, (_, i) => {
+        const bad = i >= 270;
+        return radiusPoint(i * 10, 0.9 + 1e-5 * i * 10 + (bad ? 0.02 : 0), bad && flag ? 0.02 : 0.002);
+      });
+    const flagged = forecastRadiusOne(mk(true), 200)!;
+    const plain = forecastRadiusOne(mk(false), 200)!;
+    const truth = 9_900_000;
+    expect(Math.abs(flagged.at - truth)).toBeLessThan(0.25 * Math.abs(plain.at - truth));
+  });
+
+  it("keeps only a positive finite sd in a history point", () => {
+    expect(radiusPoint(1, 0.9, 0.01)).toEqual({ t: 1, value: 0.9, sd: 0.01 });
+    for (const sd of [null, 0, -1, NaN, Infinity]) expect(radiusPoint(1, 0.9, sd)).toEqual({ t: 1, value: 0.9 });
+  });
+
+  it("records the radius sd in its checkpoint and restores a checkpoint without it", async () => {
+    const sc = await loadScenario(path.join(import.meta.dirname, "../../simulators/scenarios/gain-creep.json"));
+    const [sim] = buildFleet({ scenario: sc, seed: sc.seed ?? 1 });
+    const clock = new FakeClock();
+    const a = new LoopTracker(trackerConfigFor(sim!), { clock });
+    const dt = sim!.config.telemetryPeriodS * 1000;
+    for (let n = 0; n < 1500; ) {
+      const s = sim!.step();
+      if (!s) continue;
+      n++;
+      clock.advance(dt);
+      a.push([{ t: clock.now(), sp: s.sp, pv: s.pv, mv: s.mv, mode: s.mode }], clock.now());
+    }
+    const cp = JSON.parse(JSON.stringify(a.checkpoint())) as ReturnType<LoopTracker["checkpoint"]>;
+    expect(cp.radiusHistory.length).toBeGreaterThan(10);
+    expect(cp.radiusHistory.filter((p) => typeof p.sd === "number" && p.sd > 0).length).toBeGreaterThan(cp.radiusHistory.length / 2);
+    const old = { ...cp, radiusHistory: cp.radiusHistory.map(({ t, value }) => ({ t, value })) };
+    const b = new LoopTracker(trackerConfigFor(sim!), { clock });
+    expect(b.restore(old)).toEqual({ ok: true });
+    expect(b.checkpoint().radiusHistory).toEqual(old.radiusHistory);
+  }, 60_000);
+});
