@@ -27,7 +27,7 @@ export interface EstimationHooks {
   restarted(reason: string): void;
 }
 
-type CheckpointPart = Pick<TrackerCheckpoint, "plant" | "plantReduced" | "lastGood" | "data" | "estimationSamples" | "lastPlantUpdate" | "lastSpMove" | "yVariance" | "yMean" | "robust">;
+type CheckpointPart = Pick<TrackerCheckpoint, "structure" | "plant" | "plantReduced" | "lastGood" | "data" | "dataBlock" | "estimationSamples" | "lastPlantUpdate" | "lastSpMove" | "yVariance" | "yMean" | "robust">;
 
 export class PlantEstimation {
   /** The plant model as reported: `plantFull` or `plantReduced`, whichever simulates the loop better. */
@@ -74,7 +74,7 @@ export class PlantEstimation {
     this.plantFull = this.makePlantEstimator(config.na);
     this.plantReduced = config.na >= 2 ? this.makePlantEstimator(config.na - 1) : null;
     this.plant = this.plantFull;
-    this.data = new DataOnlyModel({ na: config.na, nb: config.nb, nk: config.nk, controller, forgetting: config.forgetting ?? 0.995, T: estimationPeriodS });
+    this.data = new DataOnlyModel({ na: config.na, nb: config.nb, nk: config.nk, controller, forgetting: config.forgetting ?? 0.995, T: estimationPeriodS, closedLoopTimeS: config.controller.ti });
     this.gate = new SampleGate(config.na, config.nk + config.nb);
   }
 
@@ -174,12 +174,13 @@ export class PlantEstimation {
   }
 
   /** The estimators' part of a tracker checkpoint (JSON-safe). */
-  toJSON(): CheckpointPart {
+  toJSON(): Omit<CheckpointPart, "structure"> {
     return {
       plant: this.plantFull.toJSON(),
       plantReduced: this.plantReduced ? this.plantReduced.toJSON() : null,
       lastGood: this.lastGood ? { model: { ...this.lastGood.model, a: [...this.lastGood.model.a], b: [...this.lastGood.model.b] }, cov: this.lastGood.cov.map((r) => [...r]), at: this.lastGood.at } : null,
       data: this.data.toJSON(),
+      dataBlock: this.data.blockJSON(),
       estimationSamples: this.estimationSamples,
       lastPlantUpdate: Number.isFinite(this.lastPlantUpdate) ? this.lastPlantUpdate : NEVER,
       lastSpMove: Number.isFinite(this.lastSpMove) ? this.lastSpMove : NEVER,
@@ -200,13 +201,17 @@ export class PlantEstimation {
     if (plant.na !== this.config.na || (reduced === null) !== (this.config.na < 2) || (reduced !== null && reduced.na !== this.config.na - 1)) {
       return "checkpoint was made for another model structure or estimation period";
     }
-    const data = ArxEstimator.fromJSON(cp.data);
+    // a data-only model of another order or period (a checkpoint from before its decimation) starts afresh
+    const s = cp.structure;
+    const sameData = s.dataOrder === this.data.order && (s.dataDecimation ?? 1) === this.data.decimation;
+    const data = sameData ? ArxEstimator.fromJSON(cp.data) : null;
     const lg = cp.lastGood;
     this.lastGood = lg ? { model: { ...lg.model, a: [...lg.model.a], b: [...lg.model.b] }, cov: lg.cov.map((r) => [...r]), at: lg.at } : null;
     this.plantFull = plant;
     this.plantReduced = reduced;
     this.plant = choosePlant(this.plantFull, this.plantReduced, (p) => this.plantReady(p), action);
-    this.data.estimator = data;
+    if (data) this.data.adopt(data, cp.dataBlock);
+    else this.data.reset();
     this.estimationSamples = cp.estimationSamples;
     // -1e15 in a checkpoint stands for "never" (JSON has no -Infinity)
     this.lastPlantUpdate = cp.lastPlantUpdate <= NEVER ? -Infinity : cp.lastPlantUpdate;

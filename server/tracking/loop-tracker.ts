@@ -343,7 +343,7 @@ export class LoopTracker {
     return {
       version: 2,
       loopId: this.config.id,
-      structure: { na: this.config.na, nb: this.config.nb, nk: this.config.nk, estimationPeriodS: this.estimationPeriodS, dataOrder: this.dataOrder },
+      structure: { na: this.config.na, nb: this.config.nb, nk: this.config.nk, estimationPeriodS: this.estimationPeriodS, dataOrder: this.dataOrder, dataDecimation: this.est.data.decimation },
       ...this.est.toJSON(),
       samplesSeen: this.samplesSeen,
       radiusHistory: this.trends.radiusHistory.map((p) => ({ ...p })),
@@ -359,7 +359,7 @@ export class LoopTracker {
     try {
       if (!cp || cp.version !== 2) return { ok: false, reason: "unknown checkpoint version (made before the instrumental-variable plant estimator)" };
       if (cp.loopId !== this.config.id) return { ok: false, reason: `checkpoint of loop ${cp.loopId}, not ${this.config.id}` };
-      const bad = checkpointProblem(cp, { na: this.config.na, nb: this.config.nb, nk: this.config.nk, estimationPeriodS: this.estimationPeriodS, dataOrder: this.dataOrder });
+      const bad = checkpointProblem(cp, { na: this.config.na, nb: this.config.nb, nk: this.config.nk, estimationPeriodS: this.estimationPeriodS });
       if (bad !== null) return { ok: false, reason: bad };
       const pf = cp.prefilter;
       const wrong = this.est.restore(cp, this.config.controller.action);
