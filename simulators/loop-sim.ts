@@ -9,9 +9,9 @@
  *
  * Internally every signal is in % of its span; samples leave in engineering units.
  */
-import { discretePid } from "@/lib/control/closed-loop";
 import type { Complex, QTf } from "@/lib/control/types";
 import { slugify } from "@/lib/domain/slug";
+import { discretePidOf } from "@/lib/domain/tuning";
 import type { LoopMode } from "@/lib/domain/types";
 import { velocityForm } from "./controller";
 import { eigenvalues } from "./eigen";
@@ -100,16 +100,7 @@ export class LoopSim {
     this.Tc = config.controllerPeriodS;
     this.stepsPerSample = Math.max(1, Math.round(config.telemetryPeriodS / config.controllerPeriodS));
     this.plant = discretisePlant(config.plant, this.Tc);
-    const c = config.controller;
-    this.controller = discretePid({
-      kp: c.kp,
-      ti: c.ti ?? undefined,
-      td: c.td,
-      tf: c.tf > 0 ? c.tf : undefined,
-      T: this.Tc,
-      action: c.action,
-      form: c.form,
-    });
+    this.controller = discretePidOf(config.controller, this.Tc);
     this.vf = velocityForm(this.controller);
     this.rng = new Prng(config.seed);
     this.x = new Float64Array(this.plant.n);

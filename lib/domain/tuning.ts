@@ -3,6 +3,9 @@
  * gain lib/control and the simulators use. The tracker, the models and the demo seed all use it.
  */
 
+import { discretePid } from "@/lib/control/closed-loop";
+import type { QTf } from "@/lib/control/types";
+
 export type ControllerAction = "direct" | "reverse";
 export type ControllerForm = "ideal" | "parallel" | "series";
 
@@ -61,3 +64,11 @@ export function tuningSeconds(l: Partial<TuningFields> & Pick<TuningFields, "gai
   return { kp, ti, td, tf, action: l.action ?? "reverse", form: l.form ?? "ideal" };
 }
 
+
+/**
+ * A loop's PID discretised at period T (seconds; lib/control/closed-loop.ts `discretePid`): no
+ * integral time means no integral action, a filter time of 0 the default filter td/10.
+ */
+export function discretePidOf(t: Pick<TuningSeconds, "kp" | "ti" | "td" | "tf" | "action" | "form">, T: number): QTf {
+  return discretePid({ kp: t.kp, ti: t.ti ?? undefined, td: t.td, tf: t.tf > 0 ? t.tf : undefined, T, action: t.action, form: t.form });
+}

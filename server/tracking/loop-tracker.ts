@@ -20,9 +20,10 @@
  * A full state is computed at most once per second of telemetry time (and on state changes).
  */
 import { InstrumentalArxEstimator } from "@/lib/control/riv";
-import { discretePid, gainHeadroom } from "@/lib/control/closed-loop";
+import { gainHeadroom } from "@/lib/control/closed-loop";
 import { rimVerdict } from "@/lib/control/root-bounds";
 import { DEFAULT_POLICY } from "@/lib/domain/alarms/policy";
+import { discretePidOf } from "@/lib/domain/tuning";
 import { assessPoles, effectivePoles, effectivePolesSource, type RoutineFindings } from "@/lib/domain/assessment";
 import type { ArxModel, QTf } from "@/lib/control/types";
 import type { LoopStateDto, SampleDto, TrackerState } from "@/lib/domain/types";
@@ -109,16 +110,7 @@ export class LoopTracker {
   }
 
   private makeController(): QTf {
-    const c = this.config.controller;
-    return discretePid({
-      kp: c.kp,
-      ti: c.ti ?? undefined,
-      td: c.td,
-      tf: c.tf > 0 ? c.tf : undefined,
-      T: this.estimationPeriodS,
-      action: c.action,
-      form: c.form,
-    });
+    return discretePidOf(this.config.controller, this.estimationPeriodS);
   }
 
   private makeEstimation(): PlantEstimation {

@@ -22,8 +22,8 @@ import {
   SAMPLES_PER_TIME_CONSTANT,
 } from "@/server/tracking/data-model";
 import { LoopTracker } from "@/server/tracking/loop-tracker";
-import type { LoopConfig } from "@/server/tracking/types";
 import { mulberry32, normal } from "../control/seeded-random";
+import { testLoopConfig, piTuning } from "../helpers/loop-config";
 import { FakeClock } from "./helpers";
 
 const cexp = (s: Complex, T: number): Complex => {
@@ -206,25 +206,7 @@ describe("a fitted data-only model", () => {
 });
 
 describe("the data-only model across checkpoints", () => {
-  const config: LoopConfig = {
-    id: 7,
-    tenantId: 1,
-    siteId: 1,
-    tag: "FIC-0707",
-    pvLo: 0,
-    pvHi: 100,
-    mvLo: 0,
-    mvHi: 100,
-    mvLimitLo: 0,
-    mvLimitHi: 100,
-    telemetryPeriodS: 0.5,
-    controllerPeriodS: 0.5,
-    estimationPeriodS: 0.5,
-    na: 2,
-    nb: 2,
-    nk: 1,
-    controller: { kp: 1, ti: 30, td: 0, tf: 0, action: "reverse", form: "ideal" },
-  };
+  const config = testLoopConfig({ id: 7, tag: "FIC-0707", telemetryPeriodS: 0.5, controllerPeriodS: 0.5, estimationPeriodS: 0.5, controller: piTuning(1, 30) });
   function run(tracker: LoopTracker, clock: FakeClock, from: number, count: number): void {
     const rnd = mulberry32(from + 1);
     for (let k = from; k < from + count; k++) {
