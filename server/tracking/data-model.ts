@@ -20,10 +20,10 @@
 import { ArxEstimator, type ArxEstimatorState } from "@/lib/control/arx";
 import { poleConfidence } from "@/lib/control/confidence";
 import { polyRootsWithBounds } from "@/lib/control/root-bounds";
-import { polyRoots } from "@/lib/control/roots";
 import type { QTf } from "@/lib/control/types";
 import type { PoleDto } from "@/lib/domain/types";
 import { toPoleDto } from "./figures";
+import { rootsOf } from "./pole-roots";
 
 /** Largest order of the data-only closed-loop model. */
 export const MAX_DATA_ORDER = 8;
@@ -248,7 +248,7 @@ export class DataOnlyModel {
  * @throws as `polyRoots` on a non-finite or zero polynomial.
  */
 export function dataPoles(coeffs: number[], cov: number[][] | null, m: number): PoleDto[] {
-  const roots = polyRoots(coeffs);
+  const roots = rootsOf(coeffs);
   let conf: ReturnType<typeof poleConfidence> | null = null;
   try {
     conf = cov ? poleConfidence(coeffs, cov, { roots }) : null;

@@ -4,7 +4,6 @@
  * forecast, and the judgement whether a radius beyond the circle is evidence at all.
  */
 import { closedLoopCoefficientCovariance, poleConfidence } from "@/lib/control/confidence";
-import { closedLoopPolynomial } from "@/lib/control/closed-loop";
 import { forecastCrossing } from "@/lib/control/forecast";
 import { juryTest } from "@/lib/control/jury";
 import { polyMul, qToZ, stripLeadingZeros } from "@/lib/control/poly";
@@ -13,6 +12,7 @@ import { polyRoots } from "@/lib/control/roots";
 import type { ArxModel, Complex, QTf } from "@/lib/control/types";
 import type { Crossing } from "@/lib/domain/assessment";
 import type { LoopStateDto, PoleDto } from "@/lib/domain/types";
+import { closedLoopRoots } from "./pole-roots";
 
 export function finite(x: number | null | undefined): number | null {
   return x !== null && x !== undefined && Number.isFinite(x) ? x : null;
@@ -35,8 +35,7 @@ export function toPoleDto(z: Complex, c: { radiusStd: number; covariance: [[numb
 
 export function fillModelFigures(st: LoopStateDto, model: ArxModel, cov: number[][], controller: QTf, headroom: () => number | null): void {
   try {
-    const char = closedLoopPolynomial(model, controller);
-    const roots = polyRoots(char);
+    const { char, roots } = closedLoopRoots(model, controller);
     if (roots.some((z) => !Number.isFinite(z.re) || !Number.isFinite(z.im))) return;
     let conf: ReturnType<typeof poleConfidence> | null = null;
     try {
