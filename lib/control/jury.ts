@@ -18,7 +18,8 @@
  * first (same roots). Values within rounding of the boundary (a root within ~1e-12 of the circle)
  * are numerically undecidable; the verdict there follows the computed signs.
  */
-import { ControlArgumentError, NonFiniteInputError } from "./errors";
+import { ControlArgumentError } from "./errors";
+import { leadingNonZero } from "./poly";
 
 export interface JuryCondition {
   /** The condition in words, e.g. "P(1) > 0" or "a_0^(2) > 0". */
@@ -38,13 +39,7 @@ export interface JuryResult {
 }
 
 function normalise(coeffs: ArrayLike<number>): number[] {
-  let first = -1;
-  for (let i = 0; i < coeffs.length; i++) {
-    const c = coeffs[i]!;
-    if (!Number.isFinite(c)) throw new NonFiniteInputError(`polynomial coefficient ${i}`);
-    if (first < 0 && c !== 0) first = i;
-  }
-  if (first < 0) throw new ControlArgumentError("juryTest: the zero polynomial has no stability verdict");
+  const first = leadingNonZero(coeffs, coeffs.length, "juryTest: the zero polynomial has no stability verdict");
   const a = Array.from(coeffs).slice(first);
   if (a.length < 2) throw new ControlArgumentError("juryTest: degree must be at least 1 (a constant has no roots)");
   if (a[0]! < 0) for (let i = 0; i < a.length; i++) a[i] = -a[i]!;
@@ -110,13 +105,7 @@ export function juryStable(coeffs: ArrayLike<number>, length: number = coeffs.le
     const c3 = coeffs[3]!;
     if (c0 !== 0 && Number.isFinite(c0 + c1 + c2 + c3)) return cubicStable(c0, c1, c2, c3);
   }
-  let first = -1;
-  for (let i = 0; i < length; i++) {
-    const c = coeffs[i]!;
-    if (!Number.isFinite(c)) throw new NonFiniteInputError(`polynomial coefficient ${i}`);
-    if (first < 0 && c !== 0) first = i;
-  }
-  if (first < 0) throw new ControlArgumentError("juryStable: the zero polynomial has no stability verdict");
+  const first = leadingNonZero(coeffs, length, "juryStable: the zero polynomial has no stability verdict");
   const n = length - 1 - first;
   if (n < 1) throw new ControlArgumentError("juryStable: degree must be at least 1 (a constant has no roots)");
   if (n === 3) return cubicStable(coeffs[first]!, coeffs[first + 1]!, coeffs[first + 2]!, coeffs[first + 3]!);

@@ -139,3 +139,18 @@ export function qToZ(q: ArrayLike<number>, degree = q.length - 1): number[] {
   for (let i = 0; i < q.length; i++) out[i] = q[i]!;
   return out;
 }
+
+/**
+ * Index of the first non-zero entry of coeffs[0..length), after checking that every entry is finite.
+ * @throws NonFiniteInputError on NaN/infinite coefficients; ControlArgumentError(`zeroMessage`) for the zero polynomial.
+ */
+export function leadingNonZero(coeffs: ArrayLike<number>, length: number, zeroMessage: string): number {
+  let first = -1;
+  for (let i = 0; i < length; i++) {
+    const c = coeffs[i]!;
+    if (!Number.isFinite(c)) throw new NonFiniteInputError(`polynomial coefficient ${i}`);
+    if (first < 0 && c !== 0) first = i;
+  }
+  if (first < 0) throw new ControlArgumentError(zeroMessage);
+  return first;
+}

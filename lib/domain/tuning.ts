@@ -3,6 +3,8 @@
  * gain lib/control and the simulators use. The tracker, the models and the demo seed all use it.
  */
 
+import type { QTf } from "@/lib/control/types";
+
 export type ControllerAction = "direct" | "reverse";
 export type ControllerForm = "ideal" | "parallel" | "series";
 
@@ -60,4 +62,3 @@ export function tuningSeconds(l: Partial<TuningFields> & Pick<TuningFields, "gai
   const tf = td > 0 ? (l.tfS != null && l.tfS > 0 ? l.tfS : l.derivativeAlpha != null && l.derivativeAlpha > 0 ? l.derivativeAlpha * td : td / 10) : 0;
   return { kp, ti, td, tf, action: l.action ?? "reverse", form: l.form ?? "ideal" };
 }
-

@@ -8,6 +8,7 @@ import type { ArxEstimatorState } from "@/lib/control/arx";
 import type { InstrumentalArxState } from "@/lib/control/riv";
 import type { ResidualScreenState } from "@/lib/control/robust";
 import type { ArxModel } from "@/lib/control/types";
+import type { DataBlockState } from "./data-model";
 
 /** One estimation sample (block averages, % of span) with its flags. */
 export interface EstimationInput {
@@ -41,13 +42,15 @@ export interface TrackerCheckpoint {
   version: 2;
   loopId: number;
   /** The structure the estimators were built for; a restore into a different one is refused. */
-  structure: { na: number; nb: number; nk: number; estimationPeriodS: number; dataOrder: number };
+  structure: { na: number; nb: number; nk: number; estimationPeriodS: number; dataOrder: number; dataDecimation?: number };
   /** Plant estimator of the configured structure, and the one with a pole fewer (null when na = 1). */
   plant: InstrumentalArxState;
   plantReduced: InstrumentalArxState | null;
   /** Last plausible plant model (held while the current estimate is not physical). */
   lastGood?: { model: ArxModel; cov: number[][]; at: number } | null;
   data: ArxEstimatorState;
+  /** The data-only model's block being averaged (absent in older checkpoints: a new block). */
+  dataBlock?: DataBlockState | null;
   estimationSamples: number;
   lastPlantUpdate: number;
   lastSpMove: number;
@@ -62,19 +65,18 @@ export interface TrackerCheckpoint {
   robust?: { screen: ResidualScreenState; predictor: { y: number[]; u: number[] }; taint: number; collapseInformative: number; pending: PendingSample | null } | null;
 }
 
-/** The structure a checkpoint must have been made for. */
+/** The structure a checkpoint must have been made for (a data-only model of another order or period is not a reason to refuse: it starts afresh). */
 export interface CheckpointStructure {
   na: number;
   nb: number;
   nk: number;
   estimationPeriodS: number;
-  dataOrder: number;
 }
 
 /** Why `cp` cannot be restored into a tracker of `want` (null when its outer shape is sound; the estimators check their own states). */
 export function checkpointProblem(cp: TrackerCheckpoint, want: CheckpointStructure): string | null {
   const s = cp.structure;
-  if (!s || s.na !== want.na || s.nb !== want.nb || s.nk !== want.nk || s.estimationPeriodS !== want.estimationPeriodS || s.dataOrder !== want.dataOrder) {
+  if (!s || s.na !== want.na || s.nb !== want.nb || s.nk !== want.nk || s.estimationPeriodS !== want.estimationPeriodS) {
     return "checkpoint was made for another model structure or estimation period";
   }
   const nums = [cp.estimationSamples, cp.lastPlantUpdate, cp.lastSpMove, cp.samplesSeen, cp.yVariance, cp.yMean];

@@ -1,11 +1,9 @@
 /**
  * A tracker state's figures from its models (docs/domain.md §1-§3): the model-based closed-loop
- * poles with their confidence and conditioning bounds, the data-only poles, the radius-to-1
+ * poles with their confidence and conditioning bounds, the radius-to-1
  * forecast, and the judgement whether a radius beyond the circle is evidence at all.
  */
-import type { ArxEstimator } from "@/lib/control/arx";
 import { closedLoopCoefficientCovariance, poleConfidence } from "@/lib/control/confidence";
-import { closedLoopPolynomial } from "@/lib/control/closed-loop";
 import { forecastCrossing, type TrendPoint } from "@/lib/control/forecast";
 import { juryTest } from "@/lib/control/jury";
 import { polyMul, qToZ, stripLeadingZeros } from "@/lib/control/poly";
@@ -14,6 +12,7 @@ import { polyRoots } from "@/lib/control/roots";
 import type { ArxModel, Complex, QTf } from "@/lib/control/types";
 import type { Crossing } from "@/lib/domain/assessment";
 import type { LoopStateDto, PoleDto } from "@/lib/domain/types";
+import { closedLoopRoots } from "./pole-roots";
 
 /** Estimator memories by which the rim forecast moves the radius history back (docs/domain.md §7). */
 export const RADIUS_DELAY_MEMORIES = 0.5;
@@ -37,29 +36,9 @@ export function toPoleDto(z: Complex, c: { radiusStd: number; covariance: [[numb
   return { re: z.re, im: z.im, radius: modulus(z), sdRadius: sd, cov: cov && cov.every(Number.isFinite) ? cov : null, bound: bound !== undefined && Number.isFinite(bound) ? bound : null };
 }
 
-export function dataPolesOf(data: ArxEstimator): PoleDto[] {
-  try {
-    const m = data.model();
-    const coeffs = [1, ...m.a];
-    const roots = polyRoots(coeffs);
-    const cov = data.parameterCovariance().slice(0, m.a.length).map((row) => row.slice(0, m.a.length));
-    let conf: ReturnType<typeof poleConfidence> | null = null;
-    try {
-      conf = poleConfidence(coeffs, cov, { roots });
-    } catch {
-      conf = null;
-    }
-    const bounded = polyRootsWithBounds(coeffs, { roots });
-    return roots.map((z, i) => toPoleDto(z, conf?.[i], bounded[i]?.bound));
-  } catch {
-    return [];
-  }
-}
-
 export function fillModelFigures(st: LoopStateDto, model: ArxModel, cov: number[][], controller: QTf, headroom: () => number | null): void {
   try {
-    const char = closedLoopPolynomial(model, controller);
-    const roots = polyRoots(char);
+    const { char, roots } = closedLoopRoots(model, controller);
     if (roots.some((z) => !Number.isFinite(z.re) || !Number.isFinite(z.im))) return;
     let conf: ReturnType<typeof poleConfidence> | null = null;
     try {

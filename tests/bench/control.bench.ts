@@ -10,11 +10,13 @@
  * "Full tracker step" = what server/tracking/loop-tracker.ts computes per estimation update from
  * the model: RLS update, closed-loop characteristic polynomial, all its roots, Jury verdict, the
  * radius of every root (each pole the state carries has one), and zeta / wn / tau of the dominant
- * pole plus the decay ratio of the dominant oscillating root; the roots are solved with warm start
- * (the previous step's roots seed the solver, as a tracker re-solving a slowly moving polynomial
- * can). The earlier variant (cold solve, full `poleCharacteristics` for every root) is kept beside
- * it for comparison. Note: server/tracking/loop-tracker.ts itself calls the contract API (last
- * line), once per state period rather than per update.
+ * pole (the decay ratio is the assessment's, lib/domain/assessment.ts, once per state); the roots
+ * are solved with warm start (the previous step's roots seed the solver, as a re-solve of a slowly
+ * moving polynomial can). The earlier variant (cold solve, full `poleCharacteristics` for every
+ * root) is kept beside it for comparison. The tracker itself solves its closed-loop poles once per
+ * state period, cold (a resumed tracker computes the same roots), through
+ * server/tracking/pole-roots.ts: the "tracker state poles" rows give that path beside the contract
+ * API it replaced.
  *
  * After the timings, a coverage table (tests/bench/coverage-table.ts): seeded Monte Carlo interval
  * coverage of pole radii, through the tracker, of the IV estimator in manual and of the rim
@@ -27,7 +29,8 @@ import { ArxEstimator } from "@/lib/control/arx";
 import { closedLoopArxInto, closedLoopPolynomial, discretePid } from "@/lib/control/closed-loop";
 import { polyRoots, polyRootsInto } from "@/lib/control/roots";
 import { juryStable, juryTest } from "@/lib/control/jury";
-import { dominantPoleInto, newDominantPoleFigures, poleCharacteristics } from "@/lib/control/zplane";
+import { poleCharacteristics } from "@/lib/control/zplane";
+import { closedLoopRoots } from "@/server/tracking/pole-roots";
 import type { ArxModel } from "@/lib/control/types";
 import { printCoverageTable } from "./coverage-table";
 import { mulberry32 } from "@/tests/control/seeded-random";
@@ -132,7 +135,7 @@ const T = 1;
 const pi = discretePid({ kp: 0.8, ti: 20, T });
 const plantTrue: ArxModel = { a: [-1.6, 0.65], b: [0.05, 0.03], nk: 1, T };
 
-/** Tracker step, hot path: RLS update + closedLoopArxInto + polyRootsInto (warm start) + juryStable + radius per root + dominantPoleInto. */
+/** Tracker step, hot path: RLS update + closedLoopArxInto + polyRootsInto (warm start) + juryStable + radius per root + poleCharacteristics of the dominant root. */
 function trackerHotLoop(iterations: number): number {
   const rls = new RecursiveLeastSquares({ parameters: 4, forgetting: 0.99, initialTheta: [...plantTrue.a, ...plantTrue.b] });
   const phi = new Float64Array(4);
@@ -140,7 +143,7 @@ function trackerHotLoop(iterations: number): number {
   const re = new Float64Array(8);
   const im = new Float64Array(8);
   const radius = new Float64Array(8);
-  const dom = newDominantPoleFigures();
+  const z = { re: 0, im: 0 };
   let sink = 0;
   for (let it = 0; it < iterations; it++) {
     const row = (it & (ROWS - 1)) * 8;
@@ -151,8 +154,11 @@ function trackerHotLoop(iterations: number): number {
     const count = polyRootsInto(coeffs, re, im, len, true); // warm start: the tracker re-solves a slowly moving polynomial
     sink += juryStable(coeffs, len) ? 1 : 0;
     for (let k = 0; k < count; k++) radius[k] = Math.sqrt(re[k]! * re[k]! + im[k]! * im[k]!);
-    dominantPoleInto(re, im, count, T, dom);
-    sink += dom.zeta + dom.wn + (Number.isNaN(dom.decayRatio) ? 0 : dom.decayRatio) + radius[0]!;
+    // the dominant root comes first (descending modulus)
+    z.re = re[0]!;
+    z.im = im[0]!;
+    const dom = poleCharacteristics(z, T);
+    sink += dom.zeta + dom.wn + radius[0]!;
   }
   return sink;
 }
@@ -202,8 +208,23 @@ function trackerApiLoop(iterations: number): number {
   return sink;
 }
 
+/** The closed-loop poles of a tracker state: before, the contract API (closedLoopPolynomial + polyRoots); now, server/tracking/pole-roots.ts (closedLoopArxInto + polyRootsInto, cold). */
+function statePolesLoop(path: "api" | "tracker", model: ArxModel) {
+  return (iterations: number): number => {
+    const m = { ...model, a: [...model.a] };
+    const a0 = model.a[0]!;
+    let sink = 0;
+    for (let it = 0; it < iterations; it++) {
+      m.a[0] = a0 + 1e-6 * Y[it & (ROWS - 1)]!;
+      sink += path === "api" ? polyRoots(closedLoopPolynomial(m, pi))[0]!.re : closedLoopRoots(m, pi).roots[0]!.re;
+    }
+    return sink;
+  };
+}
+const plantSlow: ArxModel = { a: [-1.6, 0.65, 0.01], b: [0.05, 0.03, 0.01], nk: 4, T };
+
 /** Parts of the hot step alone, to see which dominates. */
-function partLoop(part: "closed-loop" | "roots" | "roots-warm" | "jury" | "characteristics" | "dominant") {
+function partLoop(part: "closed-loop" | "roots" | "roots-warm" | "jury" | "characteristics") {
   return (iterations: number): number => {
     const theta = Float64Array.from([...plantTrue.a, ...plantTrue.b]);
     const coeffs = new Float64Array(8);
@@ -213,8 +234,6 @@ function partLoop(part: "closed-loop" | "roots" | "roots-warm" | "jury" | "chara
     const count = polyRootsInto(coeffs, re, im, len);
     const z = { re: re[0]!, im: im[0]! };
     const c1 = coeffs[1]!;
-    const dom = newDominantPoleFigures();
-    const reP = new Float64Array(8);
     let sink = 0;
     for (let it = 0; it < iterations; it++) {
       theta[0] = -1.6 + 1e-6 * Y[it & (ROWS - 1)]!;
@@ -228,10 +247,6 @@ function partLoop(part: "closed-loop" | "roots" | "roots-warm" | "jury" | "chara
       } else if (part === "jury") {
         coeffs[1] = c1 + 1e-6 * Y[it & (ROWS - 1)]!;
         sink += juryStable(coeffs, len) ? 1 : 0;
-      } else if (part === "dominant") {
-        reP.set(re);
-        reP[0] = re[0]! + 1e-9 * Y[it & (ROWS - 1)]!;
-        sink += dominantPoleInto(reP, im, count, T, dom).zeta;
       } else {
         z.re = re[it % count]! + 1e-9 * Y[it & (ROWS - 1)]!;
         z.im = im[it % count]!;
@@ -261,14 +276,17 @@ const cases: [string, (iterations: number) => number, number][] = [
   ["RecursiveLeastSquares ARX(2,2) (n = 4, directional)", rlsLoop(4), 50_000],
   ["RecursiveLeastSquares ARX(4,4) (n = 8, directional)", rlsLoop(8), 20_000],
   ["ArxEstimator.push ARX(2,2,1) (RLS + history + excitation accumulation)", arxPushLoop, 20_000],
-  ["tracker step, hot path (RLS + closedLoopArxInto + polyRootsInto warm + juryStable + |z| x3 + dominantPoleInto)", trackerHotLoop, 10_000],
-  ["tracker step, earlier hot path (cold polyRootsInto, poleCharacteristics x3 instead of dominantPoleInto)", trackerHotAllRootsLoop, 10_000],
+  ["tracker step, hot path (RLS + closedLoopArxInto + polyRootsInto warm + juryStable + |z| x3 + poleCharacteristics x1)", trackerHotLoop, 10_000],
+  ["tracker step, earlier hot path (cold polyRootsInto, poleCharacteristics x3)", trackerHotAllRootsLoop, 10_000],
   ["  part: closedLoopArxInto", partLoop("closed-loop"), 50_000],
   ["  part: polyRootsInto (cubic)", partLoop("roots"), 20_000],
   ["  part: polyRootsInto (cubic, warm start from the previous roots)", partLoop("roots-warm"), 20_000],
   ["  part: juryStable (cubic)", partLoop("jury"), 50_000],
   ["  part: poleCharacteristics (one root)", partLoop("characteristics"), 50_000],
-  ["  part: dominantPoleInto (three roots)", partLoop("dominant"), 50_000],
+  ["tracker state poles, ARX(2,2,1) + PI (cubic): closedLoopPolynomial + polyRoots (before)", statePolesLoop("api", plantTrue), 20_000],
+  ["tracker state poles, ARX(2,2,1) + PI (cubic): closedLoopRoots (closedLoopArxInto + polyRootsInto)", statePolesLoop("tracker", plantTrue), 20_000],
+  ["tracker state poles, ARX(3,3,4) + PI (degree 7): closedLoopPolynomial + polyRoots (before)", statePolesLoop("api", plantSlow), 5_000],
+  ["tracker state poles, ARX(3,3,4) + PI (degree 7): closedLoopRoots (closedLoopArxInto + polyRootsInto)", statePolesLoop("tracker", plantSlow), 5_000],
   ["tracker step, contract API (ArxEstimator.push + closedLoopPolynomial + polyRoots + juryTest + poleCharacteristics x3)", trackerApiLoop, 2_000],
 ];
 console.log(`load average at start: ${loadavg().map((v) => v.toFixed(2)).join(" ")} (${availableParallelism()} CPUs)`);
