@@ -13,12 +13,18 @@
  * function, and only a real stick-slip makes the fit markedly better. Reported: the residual
  * ratio (best / linear; 1 = no gain) and the S, J of the best fit, in % of the output range.
  *
- * Guards: the data are block-averaged to about 24 samples per cycle (12 found more sticking
- * valves on DEV but none at all on the test loops of tests/assessment, and fewer than 24 on
- * FROZEN's: not kept); the process part has two autoregressive terms (enough for an integrator or a
- * lag) and input lags up to half a cycle (dead time unknown); an offset term takes the load's
- * mean. Loads and noise remain in the
- * residual, so the ratio is judged with a margin (diagnosis.ts, stiction.ts).
+ * Guards (our choices, set on DEV of the benchmark): the data are block-averaged at two sizes,
+ * about 24 and about 12 blocks per cycle, over the same stretch, and the larger gain counts: the
+ * one-step-ahead residual of an ARX fit is dominated by the fast load and noise at fine sampling,
+ * where a stick-slip changes few samples, while at coarse sampling the fast part of a slip is
+ * averaged away; which size shows a slip depends on the process's speed against the cycle, which
+ * routine data do not give. Both sizes on both models: no size is favoured. The process part has
+ * two autoregressive terms (enough for an integrator or a lag), input lags up to half a cycle
+ * (dead time unknown), an offset term for the load's mean, and a sine and cosine at the cycle's
+ * period: a coherent outside oscillation then belongs to the linear model, and a sticking valve
+ * must explain PV beyond it (an outside cycle otherwise lets the piecewise-constant valve fit by
+ * chance). Loads and noise remain in the residual, so the ratio is judged with a margin
+ * (stiction.ts).
  */
 import { StictionValve } from "./stiction-model";
 
@@ -33,7 +39,7 @@ export interface StictionFitResult {
 }
 
 const NA = 2;
-/** Block sizes tried, in blocks per cycle (the finer level first); the best gain counts (ours: see the header). */
+/** Block sizes tried, in blocks per cycle (the finer first); the larger gain counts (ours: see the header). */
 const BLOCKS_PER_CYCLE = [24, 12];
 /** Most decimated samples fitted (the last ones); keeps a day's fit within a few tens of ms. */
 const MAX_FIT = 6000;
