@@ -52,30 +52,6 @@ function lagDot(x: Float64Array, i: number, y: Float64Array, j: number, from: nu
 }
 
 /**
- * lagDot for four consecutive lags j, j+1, j+2, j+3 of y at once, into out[o..o+3]: four
- * independent sums, each still in ascending t, so each is bit for bit lagDot's (only the CPU's
- * adds overlap).
- */
-function lagDot4(x: Float64Array, i: number, y: Float64Array, j: number, from: number, to: number, out: Float64Array, o: number): void {
-  let s0 = 0;
-  let s1 = 0;
-  let s2 = 0;
-  let s3 = 0;
-  for (let t = from; t < to; t++) {
-    const a = x[t - i]!;
-    const k = t - j;
-    s0 += a * y[k]!;
-    s1 += a * y[k - 1]!;
-    s2 += a * y[k - 2]!;
-    s3 += a * y[k - 3]!;
-  }
-  out[o] = s0;
-  out[o + 1] = s1;
-  out[o + 2] = s2;
-  out[o + 3] = s3;
-}
-
-/**
  * The part of the normal equations that does not depend on the valve: the fixed columns (the
  * constant, PV lagged by 1..NA, and a sine and cosine at the cycle's period), their products with
  * PV, and Σ PV². Shared by the linear fit and every (S, J) of the grid; each sum runs over t in
@@ -155,9 +131,13 @@ function arxResidual(f: ArxFixed, v: Float64Array): number {
     A[r * p + 2] = sp2;
     A[r * p + 3] = ss;
     A[r * p + 4] = sc;
-    let c = NF;
-    for (; c + 3 <= r; c += 4) lagDot4(v, j, v, c - NF + 1, start, n, A, r * p + c);
-    for (; c <= r; c++) A[r * p + c] = lagDot(v, j, v, c - NF + 1, start, n);
+    // Valve lags j and k: Σ v(t-j)·v(t-k) over [start, n). Lag 1 directly; for k >= 2 from the
+    // row above, shifting the window by one sample: S(j, k) = S(j-1, k-1) + v(start-j)·v(start-k)
+    // - v(n-j)·v(n-k) (exact; start >= nb keeps every index in range).
+    A[r * p + NF] = lagDot(v, j, v, 1, start, n);
+    for (let k = 2; k <= j; k++) {
+      A[r * p + NF + k - 1] = A[(r - 1) * p + NF + k - 2]! + v[start - j]! * v[start - k]! - v[n - j]! * v[n - k]!;
+    }
   }
   const m = n - start;
   if (m <= 2 * p) return NaN;
