@@ -19,6 +19,7 @@
  */
 import { ControlArgumentError, NonFiniteInputError } from "./errors";
 import { ExcitationMonitor, type ExcitationVerdict } from "./excitation";
+import { shiftIn } from "./lag";
 import { RecursiveLeastSquares, type RlsState, type WindupGuard } from "./rls";
 import type { ArxModel } from "./types";
 
@@ -207,15 +208,8 @@ export class ArxEstimator {
         updated = true;
       }
     }
-    if (na > 0) {
-      this.yHist.copyWithin(1, 0, na - 1);
-      this.yHist[0] = dy;
-    }
-    const nu = this.uHist.length;
-    if (nu > 0) {
-      this.uHist.copyWithin(1, 0, nu - 1);
-      this.uHist[0] = du;
-    }
+    shiftIn(this.yHist, dy);
+    shiftIn(this.uHist, du);
     this.count++;
     return updated;
   }

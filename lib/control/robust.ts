@@ -26,6 +26,7 @@
  * noisy loops (measured on the demo loops), so the watch compares the loop with itself.
  */
 import { ControlArgumentError } from "./errors";
+import { shiftIn } from "./lag";
 
 /** 1 / Phi^-1(3/4): the median of |e| for standard normal e is 0.6745 (common statistical constant). */
 export const MAD_TO_SIGMA = 1.4826;
@@ -262,10 +263,8 @@ export class ArxPredictor {
   }
 
   shift(y: number, u: number): void {
-    this.y.copyWithin(1, 0, this.y.length - 1);
-    this.y[0] = y;
-    this.u.copyWithin(1, 0, this.u.length - 1);
-    this.u[0] = u;
+    shiftIn(this.y, y);
+    shiftIn(this.u, u);
   }
 
   toJSON(): { y: number[]; u: number[] } {
