@@ -257,3 +257,54 @@ export function invert(A: Float64Array, d: number): Float64Array | null {
   for (let i = 0; i < d; i++) for (let j = 0; j < d; j++) out[i * d + j] = M[i * w + d + j]!;
   return out;
 }
+
+/**
+ * Solves A x = b for a small d x d row-major A by Gaussian elimination with partial pivoting, into
+ * `x`, with `work` (length >= d (d + 1)) as scratch: no allocation (per-sample use). Returns the
+ * pivot ratio |min pivot| / |max pivot| in (0, 1] (a conditioning indicator) when x is solved;
+ * 0 when A is zero, not finite or (nearly) singular (a pivot at or below 1e-12 of its largest
+ * entry); NaN when the solution is not finite. x is unspecified unless the result is > 0.
+ */
+export function solveInto(A: Float64Array, b: Float64Array, d: number, work: Float64Array, x: Float64Array): number {
+  const M = work;
+  const w = d + 1;
+  let scale = 0;
+  for (let i = 0; i < d; i++) {
+    for (let j = 0; j < d; j++) {
+      M[i * w + j] = A[i * d + j]!;
+      scale = Math.max(scale, Math.abs(A[i * d + j]!));
+    }
+    M[i * w + d] = b[i]!;
+  }
+  if (!(scale > 0) || !Number.isFinite(scale)) return 0;
+  let minPivot = Infinity;
+  let maxPivot = 0;
+  for (let c = 0; c < d; c++) {
+    let p = c;
+    for (let i = c + 1; i < d; i++) if (Math.abs(M[i * w + c]!) > Math.abs(M[p * w + c]!)) p = i;
+    if (p !== c) {
+      for (let j = c; j < w; j++) {
+        const tmp = M[c * w + j]!;
+        M[c * w + j] = M[p * w + j]!;
+        M[p * w + j] = tmp;
+      }
+    }
+    const piv = M[c * w + c]!;
+    const ap = Math.abs(piv);
+    minPivot = Math.min(minPivot, ap);
+    maxPivot = Math.max(maxPivot, ap);
+    if (ap <= 1e-12 * scale) return 0;
+    for (let i = c + 1; i < d; i++) {
+      const m = M[i * w + c]! / piv;
+      if (m === 0) continue;
+      for (let j = c; j < w; j++) M[i * w + j] = M[i * w + j]! - m * M[c * w + j]!;
+    }
+  }
+  for (let i = d - 1; i >= 0; i--) {
+    let s = M[i * w + d]!;
+    for (let j = i + 1; j < d; j++) s -= M[i * w + j]! * x[j]!;
+    x[i] = s / M[i * w + i]!;
+  }
+  for (let i = 0; i < d; i++) if (!Number.isFinite(x[i]!)) return NaN;
+  return minPivot / maxPivot;
+}

@@ -22,12 +22,9 @@
  * instruments that start at u(k-nk-1) leave sum z phi' singular along b0.
  *
  * Once an estimate exists and the controller C(q) is known (`controller` option), the instruments
- * are the noise-free regressor of an auxiliary model (the bootstrap / "tailor-made" IV:
- * Söderström & Stoica 1989 sec. 8.2 and 10.4; Gilson & Van den Hof 2005): the closed loop of
- * the current plant estimate and C, driven by r alone (or, open loop, the estimate driven by the
- * measured MV), gives y_s, u_s and z(k) = [-y_s(k-1) .. -y_s(k-na), u_s(k-nk) .. ]. These
- * correlate with phi far better than delayed set points (lower variance) and still contain no
- * measurement noise. A simulated loop that diverges (a poor early estimate) is restarted at zero.
+ * are the noise-free regressor of an auxiliary model (./riv-auxiliary.ts: the closed loop of the
+ * current plant estimate with C, driven by r alone; open loop, the estimate driven by the
+ * measured MV), which correlates with phi far better than delayed set points.
  *
  * Weighting: exponential forgetting with factor lambda, applied only on samples whose instrument
  * carries information (|z|_inf above `instrumentThreshold`). With data-independent instruments
@@ -38,24 +35,18 @@
  * sample is reported).
  *
  * The sums are kept as d x d and d arrays and the normal equations are solved by Gaussian
- * elimination with partial pivoting into preallocated buffers: O(d^2) per sample, O(d^3) per
- * solve, no allocation per sample. Covariance: the sandwich R^-1 S R^-T (Söderström & Stoica
- * 1989, sec. 8.2) with S a heteroscedasticity-and-autocorrelation-consistent sum of the scores
- * g(k) = z(k) e(k) (e the a-priori residual): g g' plus the cross products with the previous na
- * scores, truncated kernel (Newey & West, Econometrica 55, 1987, for the form; the lag count is
- * that of the equation error A(q) n of white PV noise n, an MA(na) process), scaled as for
- * weighted least squares (see `ArxEstimator.parameterCovariance`). The white-equation-error form
- * sigma^2 R^-1 Szz R^-T overstates the spread when v = A(q) n (measured open loop, white MV: 95 %
- * intervals covered 100 % with it, sd 2x too large) and serves only until the HAC sum has
- * 10 informative samples per parameter. The truncated kernel's sum need not be positive
- * semi-definite (over half of those open-loop runs): its negative eigenvalues are set to zero.
- * Measured (300 seeded runs, white MV, PV noise 0.3): coverage 96.7 % at 500 samples, 98 % at
- * 2,000 (slightly conservative). In manual (open loop), the auxiliary model starts after
- * 25 informative samples per parameter; earlier, a poor estimate driven by the MV gave
- * instruments that spoiled the sums (pole errors up to 38 on 300 seeded runs).
+ * elimination with partial pivoting into preallocated buffers (`solveInto`): O(d^2) per sample,
+ * O(d^3) per solve, no allocation per sample. Covariance: the IV sandwich with a HAC score sum
+ * (./riv-covariance.ts). Measured (300 seeded runs, white MV, PV noise 0.3): coverage 96.7 % at
+ * 500 samples, 98 % at 2,000 (slightly conservative). In manual (open loop), the auxiliary model
+ * starts after 25 informative samples per parameter; earlier, a poor estimate driven by the MV
+ * gave instruments that spoiled the sums (pole errors up to 38 on 300 seeded runs).
  */
 import { ControlArgumentError, NonFiniteInputError } from "./errors";
-import { invert, nearestPsd } from "./linalg";
+import { shiftIn } from "./lag-vector";
+import { solveInto } from "./linalg";
+import { AuxiliaryModel, type AuxiliaryState } from "./riv-auxiliary";
+import { ivCovariance, ScoreSum, type ScoreSumState } from "./riv-covariance";
 import type { ArxModel } from "./types";
 
 export interface InstrumentalArxOptions {
@@ -93,15 +84,13 @@ export interface InstrumentalArxState {
   solved: boolean;
   conditioning: number;
   /** Auxiliary model: simulated y, u, e histories, run length, simulation-error sums. */
-  aux: { ys: number[]; us: number[]; es: number[]; run: number; error: number; weight: number };
+  aux: AuxiliaryState;
   /** HAC score sum (absent in older states: it then starts empty and the white-noise covariance serves meanwhile). */
-  hac?: { S: number[]; g: number[]; weight: number; count: number; openAuxStarted: boolean };
+  hac?: ScoreSumState & { openAuxStarted: boolean };
 }
 
 /** Open loop: informative samples per parameter before the auxiliary-model instruments take over. */
 const OPEN_AUX_MIN_PER_PARAMETER = 25;
-/** Effective informative samples per parameter before the HAC covariance replaces the white-noise one. */
-const HAC_MIN_PER_PARAMETER = 10;
 
 function checkInt(name: string, v: number, min: number): void {
   if (!Number.isInteger(v) || v < min) throw new ControlArgumentError(`${name} must be an integer >= ${min}, got ${v}`);
@@ -144,25 +133,8 @@ export class InstrumentalArxEstimator {
   private residual = 0;
   private residualWeight = 0;
   private dirty = false;
-  // auxiliary-model simulation (noise-free signals), histories newest first
-  private readonly cNum: Float64Array;
-  private readonly cDen: Float64Array;
-  private readonly ysHist: Float64Array;
-  private readonly usHist: Float64Array;
-  private readonly esHist: Float64Array;
-  /** Samples the auxiliary model has run since its last (re)start. */
-  private auxRun = 0;
-  private simError = 0;
-  private simWeight = 0;
-  private lastSimError = NaN;
-  // HAC (Newey-West) sum of the scores g = z e over informative samples: g g' plus Bartlett-weighted
-  // cross products with the previous `hacLag` scores (ring, newest first), forgetting as R
-  private readonly hacLag: number;
-  private readonly hacS: Float64Array;
-  private readonly hacG: Float64Array;
-  private readonly g: Float64Array;
-  private hacWeight = 0;
-  private hacCount = 0;
+  private readonly aux: AuxiliaryModel;
+  private readonly scores: ScoreSum;
   /** Whether open-loop auxiliary instruments have taken over (the HAC sum restarts then, once). */
   private openAuxStarted = false;
 
@@ -205,91 +177,8 @@ export class InstrumentalArxEstimator {
     // u and r lags up to nk + d (the input instruments reach one sample further than the regressor)
     this.uHist = new Float64Array(this.nk + d + 1);
     this.rHist = new Float64Array(this.nk + d);
-    const c = controller ?? { num: [0], den: [1] };
-    this.cNum = Float64Array.from(c.num, (v) => v / c.den[0]!);
-    this.cDen = Float64Array.from(c.den, (v) => v / c.den[0]!);
-    this.ysHist = new Float64Array(Math.max(1, this.na));
-    this.usHist = new Float64Array(Math.max(this.nk + this.nb, this.cDen.length));
-    this.esHist = new Float64Array(Math.max(1, this.cNum.length));
-    this.hacLag = this.na;
-    this.hacS = new Float64Array(d * d);
-    this.hacG = new Float64Array(this.hacLag * d);
-    this.g = new Float64Array(d);
-  }
-
-  /** Adds the score z e of one informative sample to the HAC sum (see `parameterCovariance`). */
-  private addScore(z: Float64Array, e: number, lam: number): void {
-    const d = this.d;
-    const L = this.hacLag;
-    const g = this.g;
-    const S = this.hacS;
-    const G = this.hacG;
-    for (let i = 0; i < d; i++) g[i] = z[i]! * e;
-    const lags = Math.min(L, this.hacCount);
-    for (let i = 0; i < d; i++) {
-      for (let j = 0; j < d; j++) {
-        let s = g[i]! * g[j]!;
-        for (let t = 0; t < lags; t++) s += g[i]! * G[t * d + j]! + G[t * d + i]! * g[j]!;
-        S[i * d + j] = lam * S[i * d + j]! + s;
-
-      }
-    }
-    G.copyWithin(d, 0, (L - 1) * d);
-    G.set(g, 0);
-    this.hacWeight = lam * this.hacWeight + 1;
-    this.hacCount++;
-  }
-
-  /**
-   * One step of the auxiliary model at time k (histories hold k-1 and older): fills z with the
-   * noise-free regressor and advances. `open`: the MV is external (measured u drives the model).
-   */
-  private auxiliaryStep(u: number, y: number, r: number, open: boolean, z: Float64Array): void {
-    const { na, nb, nk } = this;
-    const th = this.theta;
-    const ys = this.ysHist;
-    const us = this.usHist;
-    const es = this.esHist;
-    for (let i = 0; i < na; i++) z[i] = -ys[i]!;
-    for (let j = 0; j < nb; j++) z[na + j] = us[nk - 1 + j]!;
-    let yS = 0;
-    for (let i = 0; i < na; i++) yS -= th[i]! * ys[i]!;
-    for (let j = 0; j < nb; j++) yS += th[na + j]! * us[nk - 1 + j]!;
-    let uNew: number;
-    const e = r - yS;
-    // closed-loop simulation error of the current estimate (model choice between structures),
-    // counted by `push` on informative samples only: the set-point responses, where structures differ
-    this.lastSimError = !open && this.auxRun > nk + this.d ? (y - yS) ** 2 : NaN;
-    if (open || this.options.controller === null) {
-      uNew = u;
-    } else {
-      const N = this.cNum;
-      const D = this.cDen;
-      uNew = N[0]! * e;
-      for (let i = 1; i < N.length; i++) uNew += N[i]! * es[i - 1]!;
-      for (let i = 1; i < D.length; i++) uNew -= D[i]! * us[i - 1]!;
-    }
-    if (!Number.isFinite(yS) || !Number.isFinite(uNew) || Math.abs(yS) > 1e6 || Math.abs(uNew) > 1e6) {
-      // a diverging simulated loop is itself evidence against the estimate
-      const w = this.options.residualMemory;
-      this.simError = w * this.simError + 1e6;
-      this.simWeight = w * this.simWeight + 1;
-      this.lastSimError = NaN;
-      ys.fill(0);
-      us.fill(0);
-      es.fill(0);
-      this.auxRun = 0;
-      return;
-    }
-    if (na > 0) {
-      ys.copyWithin(1, 0, ys.length - 1);
-      ys[0] = yS;
-    }
-    us.copyWithin(1, 0, us.length - 1);
-    us[0] = uNew;
-    es.copyWithin(1, 0, es.length - 1);
-    es[0] = e;
-    this.auxRun++;
+    this.aux = new AuxiliaryModel(this.na, this.nb, this.nk, controller, rm);
+    this.scores = new ScoreSum(d, this.na);
   }
 
   /** Samples pushed so far. */
@@ -309,147 +198,89 @@ export class InstrumentalArxEstimator {
     if (!Number.isFinite(r)) throw new NonFiniteInputError("r");
     const { na, nb, nk, d } = this;
     const phi = this.phi;
-    const z = this.z;
     for (let i = 0; i < na; i++) phi[i] = -this.yHist[i]!;
     for (let j = 0; j < nb; j++) phi[na + j] = this.uHist[nk - 1 + j]!;
-    const full = this.count >= nk + d + 1;
     let used = false;
-    let prior = NaN; // a-priori residual of the current estimate
-    if (full) {
+    if (this.count >= nk + d + 1) {
       // residual of the current estimate, every sample (noise level for the covariance and the fit)
+      let prior = NaN;
       if (this.solved) {
-        let e = y;
-        for (let i = 0; i < d; i++) e -= phi[i]! * this.theta[i]!;
-        prior = e;
+        prior = y;
+        for (let i = 0; i < d; i++) prior -= phi[i]! * this.theta[i]!;
         const w = this.options.residualMemory;
-        this.residual = w * this.residual + e * e;
+        this.residual = w * this.residual + prior * prior;
         this.residualWeight = w * this.residualWeight + 1;
       }
-      if (mode === "skip") {
-        // the real loop is open or the data are void: the noise-free copy restarts afterwards
-        this.ysHist.fill(0);
-        this.usHist.fill(0);
-        this.esHist.fill(0);
-        this.auxRun = 0;
-      } else {
-        let zmax = 0;
-        this.lastSimError = NaN;
-        // open loop: the auxiliary model only once the estimate rests on enough samples (a poor early
-        // estimate driven by the MV gives instruments that spoil the sums; seen: pole errors of 38)
-        const aux = this.solved && (mode === "closed" ? this.options.controller !== null : this.informative >= OPEN_AUX_MIN_PER_PARAMETER * d);
-        if (aux && mode === "open" && !this.openAuxStarted) {
-          // the scores of the first, poorer estimates would inflate the HAC sum for long (measured:
-          // 99 % coverage of 95 % intervals at 500 samples with them, 95 % without)
-          this.openAuxStarted = true;
-          this.hacS.fill(0);
-          this.hacG.fill(0);
-          this.hacWeight = 0;
-          this.hacCount = 0;
-        }
-        if (aux) this.auxiliaryStep(u, y, r, mode === "open", z);
-        if (aux && this.auxRun > nk + d) {
-          // z holds the auxiliary model's regressor
-        } else if (mode === "closed") for (let i = 0; i < d; i++) z[i] = this.rHist[nk - 1 + i]!;
-        else for (let i = 0; i < d; i++) z[i] = this.uHist[nk - 1 + i]!;
-        for (let i = 0; i < d; i++) zmax = Math.max(zmax, Math.abs(z[i]!));
-        if (zmax > this.options.instrumentThreshold) {
-          const lam = this.options.forgetting;
-          const R = this.R;
-          const S = this.Szz;
-          for (let i = 0; i < d; i++) {
-            const zi = z[i]!;
-            for (let j = 0; j < d; j++) {
-              R[i * d + j] = lam * R[i * d + j]! + zi * phi[j]!;
-              S[i * d + j] = lam * S[i * d + j]! + zi * z[j]!;
-            }
-            this.f[i] = lam * this.f[i]! + zi * y;
-          }
-          this.effective = lam * this.effective + 1;
-          if (Number.isFinite(prior)) this.addScore(z, prior, lam);
-          if (aux && Number.isFinite(this.lastSimError)) {
-            const w = this.options.residualMemory;
-            this.simError = w * this.simError + this.lastSimError;
-            this.simWeight = w * this.simWeight + 1;
-          }
-          this.informative++;
-          this.sinceInformative = 0;
-          this.dirty = true;
-          used = true;
-        }
-      }
+      // skip: the real loop is open or the data are void, the noise-free copy restarts afterwards
+      if (mode === "skip") this.aux.restart();
+      else used = this.accumulate(u, y, r, mode === "open", prior);
     }
     if (!used) this.sinceInformative++;
-    if (na > 0) {
-      this.yHist.copyWithin(1, 0, na - 1);
-      this.yHist[0] = y;
-    }
-    this.uHist.copyWithin(1, 0, this.uHist.length - 1);
-    this.uHist[0] = u;
-    this.rHist.copyWithin(1, 0, this.rHist.length - 1);
-    this.rHist[0] = r;
+    if (na > 0) shiftIn(this.yHist, y);
+    shiftIn(this.uHist, u);
+    shiftIn(this.rHist, r);
     this.count++;
     // solve at most once per informative stretch sample; cheap for the small d of a loop model
     if (used) this.solve();
     return used;
   }
 
+  /** Instruments of this sample and, when informative, its terms in the sums; `prior` the a-priori residual. */
+  private accumulate(u: number, y: number, r: number, open: boolean, prior: number): boolean {
+    const { nk, d } = this;
+    const z = this.z;
+    const phi = this.phi;
+    const aux = this.aux;
+    // open loop: the auxiliary model only once the estimate rests on enough samples (a poor early
+    // estimate driven by the MV gives instruments that spoil the sums; seen: pole errors of 38)
+    const useAux = this.solved && (open ? this.informative >= OPEN_AUX_MIN_PER_PARAMETER * d : this.options.controller !== null);
+    if (useAux && open && !this.openAuxStarted) {
+      // the scores of the first, poorer estimates would inflate the HAC sum for long (measured:
+      // 99 % coverage of 95 % intervals at 500 samples with them, 95 % without)
+      this.openAuxStarted = true;
+      this.scores.reset();
+    }
+    aux.lastSimError = NaN;
+    if (useAux) aux.step(this.theta, u, y, r, open, z);
+    if (!(useAux && aux.run > nk + d)) {
+      const lags = open ? this.uHist : this.rHist;
+      for (let i = 0; i < d; i++) z[i] = lags[nk - 1 + i]!;
+    }
+    let zmax = 0;
+    for (let i = 0; i < d; i++) zmax = Math.max(zmax, Math.abs(z[i]!));
+    if (!(zmax > this.options.instrumentThreshold)) return false;
+    const lam = this.options.forgetting;
+    const R = this.R;
+    const S = this.Szz;
+    for (let i = 0; i < d; i++) {
+      const zi = z[i]!;
+      for (let j = 0; j < d; j++) {
+        R[i * d + j] = lam * R[i * d + j]! + zi * phi[j]!;
+        S[i * d + j] = lam * S[i * d + j]! + zi * z[j]!;
+      }
+      this.f[i] = lam * this.f[i]! + zi * y;
+    }
+    this.effective = lam * this.effective + 1;
+    if (Number.isFinite(prior)) this.scores.add(z, prior, lam);
+    if (useAux) aux.recordSimError();
+    this.informative++;
+    this.sinceInformative = 0;
+    this.dirty = true;
+    return true;
+  }
+
   /**
-   * Solve R theta = f (Gaussian elimination, partial pivoting) into `theta` when the sums
-   * changed. A (nearly) singular R keeps the previous estimate. Returns whether theta is solved.
+   * Solve R theta = f into `theta` when the sums changed (Gaussian elimination, partial
+   * pivoting). A (nearly) singular R keeps the previous estimate. Returns whether theta is solved.
    */
   solve(): boolean {
     if (!this.dirty) return this.solved;
     this.dirty = false;
-    const d = this.d;
-    const M = this.M;
-    const w = d + 1;
-    let scale = 0;
-    for (let i = 0; i < d; i++) {
-      for (let j = 0; j < d; j++) {
-        M[i * w + j] = this.R[i * d + j]!;
-        scale = Math.max(scale, Math.abs(this.R[i * d + j]!));
-      }
-      M[i * w + d] = this.f[i]!;
-    }
-    if (!(scale > 0) || !Number.isFinite(scale)) {
-      this.conditioning = 0;
-      return this.solved;
-    }
-    let minPivot = Infinity;
-    let maxPivot = 0;
-    for (let c = 0; c < d; c++) {
-      let p = c;
-      for (let i = c + 1; i < d; i++) if (Math.abs(M[i * w + c]!) > Math.abs(M[p * w + c]!)) p = i;
-      if (p !== c) {
-        for (let j = c; j < w; j++) {
-          const tmp = M[c * w + j]!;
-          M[c * w + j] = M[p * w + j]!;
-          M[p * w + j] = tmp;
-        }
-      }
-      const piv = M[c * w + c]!;
-      const ap = Math.abs(piv);
-      minPivot = Math.min(minPivot, ap);
-      maxPivot = Math.max(maxPivot, ap);
-      if (ap <= 1e-12 * scale) {
-        this.conditioning = 0;
-        return this.solved;
-      }
-      for (let i = c + 1; i < d; i++) {
-        const m = M[i * w + c]! / piv;
-        if (m === 0) continue;
-        for (let j = c; j < w; j++) M[i * w + j] = M[i * w + j]! - m * M[c * w + j]!;
-      }
-    }
-    const x = this.x;
-    for (let i = d - 1; i >= 0; i--) {
-      let s = M[i * w + d]!;
-      for (let j = i + 1; j < d; j++) s -= M[i * w + j]! * x[j]!;
-      x[i] = s / M[i * w + i]!;
-    }
-    for (let i = 0; i < d; i++) if (!Number.isFinite(x[i]!)) return this.solved;
-    this.conditioning = maxPivot > 0 ? minPivot / maxPivot : 0;
-    this.theta.set(x);
+    const ratio = solveInto(this.R, this.f, this.d, this.M, this.x);
+    if (ratio === 0) this.conditioning = 0;
+    if (!(ratio > 0)) return this.solved;
+    this.conditioning = ratio;
+    this.theta.set(this.x);
     this.solved = true;
     return true;
   }
@@ -466,14 +297,15 @@ export class InstrumentalArxEstimator {
   }
 
   /**
-   * Mean squared closed-loop simulation error: the measured y minus the output of the current
-   * estimate in closed loop with the controller, driven by the set point alone (exponentially
-   * weighted over `residualMemory`, informative samples only). It includes the disturbance response no model predicts, so
-   * it serves to compare structures on the same data, not as an absolute figure. NaN before
-   * 20 samples.
+   * Mean squared closed-loop simulation error: the measured y minus the output of the auxiliary
+   * model (the current estimate, or the held one while the current one's closed loop is unstable)
+   * in closed loop with the controller, driven by the set point alone (exponentially weighted over
+   * `residualMemory`, informative samples only). It includes the disturbance response no model
+   * predicts, so it serves to compare structures on the same data, not as an absolute figure.
+   * NaN before 20 samples.
    */
   simulationError(): number {
-    return this.simWeight > 20 ? this.simError / this.simWeight : NaN;
+    return this.aux.simulationError();
   }
 
   /** Effective number of informative samples in the sums (decayed by the forgetting). */
@@ -492,40 +324,10 @@ export class InstrumentalArxEstimator {
     const s2 = this.residualVariance();
     const nan = () => Array.from({ length: d }, () => new Array<number>(d).fill(NaN));
     if (!Number.isFinite(s2) || !this.solved) return nan();
-    // Rinv by solving R X = I column by column (small d)
-    const Rinv = invert(this.R, d);
-    if (!Rinv) return nan();
     const lam = this.options.forgetting;
     // sum w^2 z z' ~ Szz (sum w^2)/(sum w) = Szz (1 + lambda^n)/(1 + lambda)
     const factor = lam === 1 ? 1 : (1 + lam ** this.informative) / (1 + lam);
-    // the HAC sum of the scores once it has enough samples, else sigma^2 Szz (white equation error)
-    const sandwich = (middle: Float64Array, scale: number): number[][] => {
-      const tmp = new Float64Array(d * d);
-      for (let i = 0; i < d; i++) for (let j = 0; j < d; j++) {
-        let s = 0;
-        for (let k = 0; k < d; k++) s += Rinv[i * d + k]! * middle[k * d + j]!;
-        tmp[i * d + j] = s;
-      }
-      const out: number[][] = [];
-      for (let i = 0; i < d; i++) {
-        const row: number[] = [];
-        for (let j = 0; j < d; j++) {
-          let s = 0;
-          for (let k = 0; k < d; k++) s += tmp[i * d + k]! * Rinv[j * d + k]!;
-          row.push(scale * s);
-        }
-        out.push(row);
-      }
-      return out;
-    };
-    if (this.hacWeight >= HAC_MIN_PER_PARAMETER * d) {
-      // the truncated kernel need not be positive semi-definite (seen in over half of the open-loop
-      // runs): its negative eigenvalues are set to zero (nearest PSD matrix in the Frobenius norm;
-      // Higham, Linear Algebra Appl. 103, 1988)
-      const cov = sandwich(nearestPsd(this.hacS, d), factor);
-      if (cov.every((row, i) => row[i]! > 0)) return cov;
-    }
-    return sandwich(this.Szz, s2 * factor);
+    return ivCovariance(this.R, this.Szz, this.scores, s2, factor, d);
   }
 
   toJSON(): InstrumentalArxState {
@@ -547,8 +349,8 @@ export class InstrumentalArxEstimator {
       sinceInformative: Number.isFinite(this.sinceInformative) ? this.sinceInformative : -1,
       solved: this.solved,
       conditioning: this.conditioning,
-      aux: { ys: Array.from(this.ysHist), us: Array.from(this.usHist), es: Array.from(this.esHist), run: this.auxRun, error: this.simError, weight: this.simWeight },
-      hac: { S: Array.from(this.hacS), g: Array.from(this.hacG), weight: this.hacWeight, count: this.hacCount, openAuxStarted: this.openAuxStarted },
+      aux: this.aux.toJSON(),
+      hac: { ...this.scores.toJSON(), openAuxStarted: this.openAuxStarted },
     };
   }
 
@@ -584,17 +386,9 @@ export class InstrumentalArxEstimator {
     est.solved = s.solved === true;
     est.conditioning = num("conditioning", s.conditioning);
     if (!s.aux || typeof s.aux !== "object") throw new ControlArgumentError("IV estimator state: aux missing");
-    est.ysHist.set(arr("aux.ys", s.aux.ys, est.ysHist.length));
-    est.usHist.set(arr("aux.us", s.aux.us, est.usHist.length));
-    est.esHist.set(arr("aux.es", s.aux.es, est.esHist.length));
-    est.auxRun = num("aux.run", s.aux.run);
-    est.simError = num("aux.error", s.aux.error);
-    est.simWeight = num("aux.weight", s.aux.weight);
+    est.aux.load(s.aux, arr, num);
     if (s.hac) {
-      est.hacS.set(arr("hac.S", s.hac.S, d * d));
-      est.hacG.set(arr("hac.g", s.hac.g, est.hacG.length));
-      est.hacWeight = num("hac.weight", s.hac.weight);
-      est.hacCount = num("hac.count", s.hac.count);
+      est.scores.load(s.hac, arr, num);
       est.openAuxStarted = s.hac.openAuxStarted === true;
     } else {
       est.openAuxStarted = est.informative >= OPEN_AUX_MIN_PER_PARAMETER * d;

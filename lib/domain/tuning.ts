@@ -3,7 +3,6 @@
  * gain lib/control and the simulators use. The tracker, the models and the demo seed all use it.
  */
 
-import type { QTf } from "@/lib/control/types";
 
 export type ControllerAction = "direct" | "reverse";
 export type ControllerForm = "ideal" | "parallel" | "series";
