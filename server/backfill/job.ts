@@ -22,7 +22,7 @@ import type { Bus, Clock } from "../context";
 import { HistoryAggregator } from "../history/aggregate";
 import type { HistoryWriter } from "../history/writer";
 import type { LoopRouteRow } from "../ingest/loop-source";
-import { LoopTracker } from "../tracking/loop-tracker";
+import type { LoopTracker } from "../tracking/loop-tracker";
 import type { TrackerRegistry } from "../tracking/registry";
 import type { LoopConfig } from "../tracking/types";
 import { HeapGuard } from "./heap-guard";
@@ -187,7 +187,7 @@ export class BackfillJob {
     const live = this.deps.registry.get(route.loopId);
     const liveSeen = live ? live.current.samples : 0;
     if (config && enabled && (liveSeen === 0 || replaceModel))
-      this.tracker = new LoopTracker(config, { clock: this.replayClock });
+      this.tracker = this.deps.registry.makeTracker(config, this.replayClock);
     else
       this.message =
         !config || !enabled
