@@ -1,9 +1,8 @@
 /**
  * A tracker state's figures from its models (docs/domain.md §1-§3): the model-based closed-loop
- * poles with their confidence and conditioning bounds, the data-only poles, the radius-to-1
+ * poles with their confidence and conditioning bounds, the radius-to-1
  * forecast, and the judgement whether a radius beyond the circle is evidence at all.
  */
-import type { ArxEstimator } from "@/lib/control/arx";
 import { closedLoopCoefficientCovariance, poleConfidence } from "@/lib/control/confidence";
 import { closedLoopPolynomial } from "@/lib/control/closed-loop";
 import { forecastCrossing } from "@/lib/control/forecast";
@@ -32,25 +31,6 @@ export function toPoleDto(z: Complex, c: { radiusStd: number; covariance: [[numb
   const sd = c ? finite(c.radiusStd) : null;
   const cov = c ? ([c.covariance[0][0], c.covariance[0][1], c.covariance[1][1]] as [number, number, number]) : null;
   return { re: z.re, im: z.im, radius: modulus(z), sdRadius: sd, cov: cov && cov.every(Number.isFinite) ? cov : null, bound: bound !== undefined && Number.isFinite(bound) ? bound : null };
-}
-
-export function dataPolesOf(data: ArxEstimator): PoleDto[] {
-  try {
-    const m = data.model();
-    const coeffs = [1, ...m.a];
-    const roots = polyRoots(coeffs);
-    const cov = data.parameterCovariance().slice(0, m.a.length).map((row) => row.slice(0, m.a.length));
-    let conf: ReturnType<typeof poleConfidence> | null = null;
-    try {
-      conf = poleConfidence(coeffs, cov, { roots });
-    } catch {
-      conf = null;
-    }
-    const bounded = polyRootsWithBounds(coeffs, { roots });
-    return roots.map((z, i) => toPoleDto(z, conf?.[i], bounded[i]?.bound));
-  } catch {
-    return [];
-  }
 }
 
 export function fillModelFigures(st: LoopStateDto, model: ArxModel, cov: number[][], controller: QTf, headroom: () => number | null): void {

@@ -3,47 +3,38 @@
  * - conditioning (./conditioning.ts): scaling to % of span, block averaging to the estimation
  *   period Te, limit / flat-line / bad-run detectors, sample quality and the operating-point
  *   prefilter;
- * - plant choice (./plant-choice.ts): two closed-loop instrumental-variable estimators of the
- *   plant MV -> PV (lib/control/riv.ts: least squares is biased by PV noise in closed loop,
- *   docs/domain.md §3), the configured structure and one with a pole fewer, because an
- *   over-parameterised IV fit is ill-determined along its pole-zero cancellation and shows a
- *   spurious pole; an estimate no sampled plant can have is replaced by the last good one;
+ * - estimation (./estimation.ts): the sample gate (./sample-gate.ts: outliers, taint, fit watch),
+ *   the plant estimators and the plant choice (./plant-choice.ts): two closed-loop
+ *   instrumental-variable estimators of the plant MV -> PV (lib/control/riv.ts: least squares is
+ *   biased by PV noise in closed loop, docs/domain.md §3), the configured structure and one with a
+ *   pole fewer, because an over-parameterised IV fit is ill-determined along its pole-zero
+ *   cancellation and shows a spurious pole; an estimate no sampled plant can have is replaced by
+ *   the last good one; and the data-only closed-loop model (./data-model.ts);
  * - state (./tracker-state.ts and `currentKind`): learning, tracking, low-excitation, poor-fit,
  *   saturated, manual, stale, each with its reason, so that alarms act only on a trusted model;
  * - figures (./figures.ts): closed-loop poles of the plant model under the loop's controller
  *   re-discretised at Te (the plant model exists only at Te; decay ratio, damping and wn are
- *   period-invariant), the data-only poles, and the assessment (lib/domain/assessment.ts);
+ *   period-invariant), and the assessment (lib/domain/assessment.ts); their histories and
+ *   forecasts (./trends.ts);
  * - checkpoint (./checkpoint.ts): the estimator state across restarts.
- * Why learning is gated: the estimators learn only from informative samples (a set-point move, or
- * an operator's MV move in manual), so the estimate is held, not drifted by noise, while nothing
- * excites it; an isolated PV outlier is bounded by a residual test on the a-priori prediction
- * error (lib/control/robust.ts) and a sustained rise of that error makes the loop `poor-fit`.
  * A full state is computed at most once per second of telemetry time (and on state changes).
  */
-import { ArxEstimator } from "@/lib/control/arx";
 import { InstrumentalArxEstimator } from "@/lib/control/riv";
 import { discretePid, gainHeadroom } from "@/lib/control/closed-loop";
-import { ArxPredictor, ResidualScreen } from "@/lib/control/robust";
 import { rimVerdict } from "@/lib/control/root-bounds";
 import { DEFAULT_POLICY } from "@/lib/domain/alarms/policy";
-import { NON_TRACKING } from "@/lib/domain/alarms/conditions";
 import { assessPoles, effectivePoles, effectivePolesSource, type RoutineFindings } from "@/lib/domain/assessment";
-import { FigureTrend } from "@/lib/domain/trend";
 import type { ArxModel, QTf } from "@/lib/control/types";
 import type { LoopStateDto, SampleDto, TrackerState } from "@/lib/domain/types";
 import type { Clock } from "../context";
-import { checkpointProblem, NEVER, type EstimationInput, type PendingSample, type TrackerCheckpoint } from "./checkpoint";
-import { dataPolesOf, fillModelFigures, finite, forecastRadiusOne, rimDoubt } from "./figures";
-import { largeError, predictBad, type OutlierJudge } from "./outliers";
-import { choosePlant, plausibility } from "./plant-choice";
+import { checkpointProblem, type TrackerCheckpoint } from "./checkpoint";
+import { PlantEstimation } from "./estimation";
+import { fillModelFigures, finite, rimDoubt } from "./figures";
+import { FigureTrends } from "./trends";
 import { SignalConditioner } from "./conditioning";
 import { emptyState, validateConfig, type EmptyStateInput } from "./tracker-state";
 import type { LoopConfig } from "./types";
 
-/** Largest order of the data-only closed-loop model. */
-const MAX_DATA_ORDER = 8;
-/** Smallest prefiltered instrument (% of span) that counts as information (a set-point move of 0.05 % decays below it in ~40 samples). */
-const INSTRUMENT_THRESHOLD_PCT = 1e-3;
 /** Seconds without an informative sample (set-point or manual move) before `low-excitation`, at least one estimator memory. */
 const HOLD_S = 900;
 
@@ -67,59 +58,28 @@ export class LoopTracker {
   config: LoopConfig;
   readonly decimation: number;
   readonly estimationPeriodS: number;
-  readonly dataOrder: number;
   private readonly clock: Clock;
-  private readonly forecastWindowS: number;
-  private readonly forecastPointEveryS: number;
-  private cachedForecast: LoopStateDto["forecast"] = null;
-  private readonly decayTrend: FigureTrend;
+  /** The radius and decay-ratio histories and their forecasts (./trends.ts). */
+  private readonly trends: FigureTrends;
   private readonly alarmDecayRatio: (loopId: number) => number;
   private cachedHeadroom: { value: number | null; at: number } = { value: null, at: -Infinity };
   private readonly stateEvery: number;
   /** Scaling, decimation, detectors, sample quality and the prefilter (./conditioning.ts). */
   private readonly cond: SignalConditioner;
   private controller: QTf;
-  /** The plant model as reported: `plantFull` or `plantReduced`, whichever simulates the loop better. */
-  private plant: InstrumentalArxEstimator;
-  /** The configured structure (na, nb, nk). */
-  private plantFull: InstrumentalArxEstimator;
-  /** One pole fewer (na - 1, nb, nk) when na >= 2: an IV estimate of an over-parameterised model
-   * is ill-determined along the pole-zero cancellation direction, so a first-order plant fitted
-   * with na = 2 shows a spurious closed-loop pole anywhere, even outside the unit circle. */
-  private plantReduced: InstrumentalArxEstimator | null;
-  private data: ArxEstimator;
-  /** The last plant model that passed the plausibility check, its covariance and when (estimation samples). */
-  private lastGood: { model: ArxModel; cov: number[][]; at: number } | null = null;
-  /** Why the current estimate is not physical (null when it is), from the last state computation. */
-  private implausible: string | null = null;
+  /** The estimators, the sample gate and the plant choice (./estimation.ts). */
+  private readonly est: PlantEstimation;
   /** The live routine assessment's latest verdict (server/assessment), carried in every state. */
   private routine: RoutineFindings | undefined;
   /** Why the model's radius is not trusted although the estimate is physical (null when it is; see `judgeRim`). */
   private rimDoubt: string | null = null;
-  /** Informative samples the plant estimate needs before it is reported. */
-  private readonly minUpdates: number;
   /** Estimation samples without an informative one before the loop counts as `low-excitation`. */
   private readonly holdSamples: number;
   private readonly memory: number;
-  private lastR: number | null = null;
-  /** Estimation samples still to skip because their regressors hold a stood-in value. */
-  private taint = 0;
-  private screen = new ResidualScreen();
-  private predictor: ArxPredictor;
-  /** Informative plant samples when the current fit collapse began (-1: none). */
-  private collapseInformative = -1;
-  private pending: PendingSample | null = null;
-
 
   // counters (in estimation samples unless said otherwise)
-  private estimationSamples = 0;
-  private lastPlantUpdate = -Infinity;
-  private lastSpMove = -Infinity;
   private lastStateAt = -Infinity;
   private samplesSeen = 0;
-  private yMean = 0;
-  private yVariance = 0;
-  private radiusHistory: { t: number; value: number }[] = [];
   private receivedAt: number | null = null;
   private deliveryPeriodMs = 0;
   private state: LoopStateDto;
@@ -140,24 +100,11 @@ export class LoopTracker {
     this.controller = this.makeController();
     const lambda = config.forgetting ?? 0.995;
     this.memory = 1 / (1 - lambda);
-    this.forecastWindowS = options.forecastWindowS ?? Math.max(3600, 20 * this.memory * this.estimationPeriodS);
-    this.forecastPointEveryS = Math.max(this.estimationPeriodS, this.forecastWindowS / 720);
-    const memoryS = this.memory * this.estimationPeriodS;
-    this.decayTrend = new FigureTrend({ memoryS, windowS: Math.max(7200, 20 * memoryS) });
+    const forecastWindowS = options.forecastWindowS ?? Math.max(3600, 20 * this.memory * this.estimationPeriodS);
+    this.trends = new FigureTrends({ memory: this.memory, estimationPeriodS: this.estimationPeriodS, forecastWindowS });
     this.alarmDecayRatio = options.alarmDecayRatio ?? (() => DEFAULT_POLICY.decayRatio.low);
-    // informative samples before the plant model is reported: about two set-point moves' worth on
-    // a fast loop (a move of a few % gives 60-80; one move alone left closed-loop radii above 1 on
-    // healthy demo loops), capped at 8 minutes of estimation samples on a slow one (a sample
-    // every 10-40 s spans several moves by then), never fewer than 6 per parameter
-    this.minUpdates = Math.max(6 * (config.na + config.nb), Math.min(100, Math.ceil(480 / this.estimationPeriodS)));
     this.holdSamples = Math.max(this.memory, Math.ceil(HOLD_S / this.estimationPeriodS));
-    this.plantFull = this.makePlantEstimator(config.na);
-    this.plantReduced = config.na >= 2 ? this.makePlantEstimator(config.na - 1) : null;
-    this.plant = this.plantFull;
-    const degree = Math.max(config.na + this.controller.den.length - 1, config.nk + config.nb - 1 + this.controller.num.length - 1);
-    this.dataOrder = Math.min(MAX_DATA_ORDER, Math.max(2, degree));
-    this.data = this.makeDataEstimator();
-    this.predictor = new ArxPredictor(config.na, config.nk + config.nb);
+    this.est = this.makeEstimation();
     this.state = emptyState(this.stateInput(), "learning", "waiting for telemetry");
   }
 
@@ -174,21 +121,14 @@ export class LoopTracker {
     });
   }
 
-  private makePlantEstimator(na: number): InstrumentalArxEstimator {
-    const c = this.config;
-    return new InstrumentalArxEstimator({ na, nb: c.nb, nk: c.nk, forgetting: c.forgetting ?? 0.995, T: this.estimationPeriodS, instrumentThreshold: INSTRUMENT_THRESHOLD_PCT, controller: this.controller });
+  private makeEstimation(): PlantEstimation {
+    const hooks = { stateDue: (k: number, t: number) => this.stateDue(k, t), restarted: (reason: string) => this.restarted(reason) };
+    return new PlantEstimation(this.config, this.estimationPeriodS, this.controller, this.memory, this.cond, hooks);
   }
 
-  private makeDataEstimator(): ArxEstimator {
-    return new ArxEstimator({
-      na: this.dataOrder,
-      nb: this.dataOrder,
-      nk: 1,
-      forgetting: this.config.forgetting ?? 0.995,
-      T: this.estimationPeriodS,
-      gating: "none",
-      operatingPoint: "none",
-    });
+  /** Order of the data-only closed-loop model. */
+  get dataOrder(): number {
+    return this.est.data.order;
   }
 
   /** Replace the configuration. Same estimation structure: the estimators are kept (a new
@@ -264,144 +204,20 @@ export class LoopTracker {
   }
 
 
-  /**
-   * One estimation sample. An isolated PV outlier (robust residual test, lib/control/robust.ts)
-   * is told from a real change of the process by the next sample: a sample whose prediction error
-   * is beyond the threshold waits one estimation period; if the next one fits again under the
-   * hypothesis that it was an outlier, it enters bounded (the plant model's prediction plus a
-   * bounded error, in the prefilter state too), else as it is (a load step, a valve slip or a plant
-   * change is data). Bounding every large error instead cut into real responses and biased the
-   * estimate (measured on the demo loops: sticking valve, saturation).
-   */
   private estimate(u: number, y: number, r: number, manual: boolean, saturated: boolean, flat: boolean, t: number, bad = false, whole = false): boolean {
-    const sample: EstimationInput = { u, y, r, manual, saturated, flat, t, bad, whole };
-    const held = this.pending;
-    if (held) {
-      this.pending = null;
-      // a bad sample next cannot confirm anything: the bounded value is the safer one
-      const isolated = bad || !this.largeError(sample, held);
-      const first = this.step(isolated ? { ...held.sample, y: held.yBounded, rawE: held.rawE } : held.sample, isolated);
-      return this.step(this.predictBad(sample), false) || first;
-    }
-    if (bad) return this.step(this.predictBad(sample), false);
-    const judged = this.largeError(sample, null);
-    if (judged) {
-      this.pending = { sample, yBounded: judged.yBounded, rawE: judged.rawE };
-      return false;
-    }
-    return this.step(sample, false);
+    return this.est.estimate({ u, y, r, manual, saturated, flat, t, bad, whole });
   }
 
-  /** What the outlier checks (./outliers.ts) judge with, or null when no trusted model may judge. */
-  private outlierJudge(): OutlierJudge | null {
-    const prev = this.cond.prevSignals;
-    if (!prev || this.taint > 0 || !this.screen.ready() || !this.trusted()) return null;
-    return { plant: this.plant, predictor: this.predictor, screen: this.screen, prev, filtered: this.cond.filtered };
-  }
-
-  private predictBad(x: EstimationInput): EstimationInput {
-    return predictBad(x, this.outlierJudge());
-  }
-
-  private largeError(x: EstimationInput, after: PendingSample | null): { yBounded: number; rawE: number } | null {
-    return largeError(x, after, this.outlierJudge());
-  }
-
-  /** The reported plant model is the current estimate (the residual test and the fit watch judge with it). */
-  private trusted(): boolean {
-    return this.plantReady(this.plant) && this.implausible === null && this.lastGood !== null;
-  }
-
-  private step(x: EstimationInput, outlier: boolean): boolean {
-    const { u, y, r, manual, saturated, flat, t, bad } = x;
-    const k = this.estimationSamples++;
-    if (this.lastR !== null && Math.abs(r - this.lastR) > 0.05) this.lastSpMove = k;
-    this.lastR = r;
-    // a block with a stood-in value, and the samples whose regressors still hold it, update nothing
-    const tainted = bad || this.taint > 0;
-    if (bad) this.taint = this.config.na + this.config.nb + this.config.nk;
-    else if (this.taint > 0) this.taint--;
-    const learn = !saturated && !flat && !tainted;
-    const p = this.plant;
-    const pred = this.predictor.predict(p.theta, p.na, p.nb, p.nk);
-    // operating point removed by a leaky differencer (see the module comment)
-    const f = this.cond.prefilter(u, y, r);
-    if (!f) return false;
-    if (outlier) this.cond.quality.markOutlier();
-    if (!tainted) this.watchFit(x.rawE ?? f.y - pred);
-    this.predictor.shift(f.y, f.u);
-    // running variance of the filtered PV (the signal the model predicts), for the fit figure
-    if (!tainted) {
-      const w = 1 / Math.min(k + 1, this.memory);
-      const d = f.y - this.yMean;
-      this.yMean += w * d;
-      this.yVariance = (1 - w) * (this.yVariance + w * d * d);
-    }
-    try {
-      const mode = !learn ? "skip" : manual ? "open" : "closed";
-      if (this.plantFull.push(f.u, f.y, f.r, mode)) this.lastPlantUpdate = k;
-      this.plantReduced?.push(f.u, f.y, f.r, mode);
-      this.data.push(f.r, f.y, learn && !manual);
-    } catch {
-      this.resetEstimators("estimators restarted after a numerical failure");
-    }
-    if (!this.parametersFinite()) this.resetEstimators("estimators restarted after a numerical overflow");
+  /** After estimation sample k (time t, epoch ms): a full state when one is due. */
+  private stateDue(k: number, t: number): boolean {
     if (k - this.lastStateAt < this.stateEvery) return false;
     this.lastStateAt = k;
     this.computeState(t);
     return true;
   }
 
-  /**
-   * The residual screen's scale and the fit-collapse watch, fed with the model's a-priori
-   * prediction error from the first trusted estimate on (before it, an early estimate would read
-   * its own learning as a collapse).
-   */
-  private watchFit(e: number): void {
-    const p = this.plant;
-    // once a trusted model set the baseline, the current estimate stays under watch: an estimate
-    // that turns implausible because the data no longer fit any such model is a collapse too
-    if (Number.isFinite(e) && (this.trusted() || this.screen.baselineScale() > 0)) this.screen.record(e);
-    if (!this.fitCollapsed()) this.collapseInformative = -1;
-    else if (this.collapseInformative < 0) this.collapseInformative = p.informative;
-    else if (p.informative - this.collapseInformative >= this.memory) {
-      // refitted on a full memory of new set-point responses and still this far off: the new normal
-      this.screen.rebase();
-      this.collapseInformative = -1;
-    }
-  }
-
-  private fitCollapsed(): boolean {
-    return this.screen.collapsed;
-  }
-
-  /** The plant estimate can be reported: enough informative samples and a well-posed solution. */
-  private plantReady(p: InstrumentalArxEstimator = this.plant): boolean {
-    return p.solved && p.informative >= this.minUpdates && p.conditioning > 1e-9;
-  }
-
-  private parametersFinite(): boolean {
-    const a = this.plantFull.theta;
-    const a2 = this.plantReduced?.theta ?? a;
-    for (let i = 0; i < a2.length; i++) if (!Number.isFinite(a2[i]!)) return false;
-    const b = this.data.rls.theta;
-    for (let i = 0; i < a.length; i++) if (!Number.isFinite(a[i]!)) return false;
-    for (let i = 0; i < b.length; i++) if (!Number.isFinite(b[i]!)) return false;
-    return true;
-  }
-
-  private resetEstimators(reason: string): void {
-    this.plantFull = this.makePlantEstimator(this.config.na);
-    this.plantReduced = this.config.na >= 2 ? this.makePlantEstimator(this.config.na - 1) : null;
-    this.plant = this.plantFull;
-    this.lastGood = null;
-    this.implausible = null;
+  private restarted(reason: string): void {
     this.rimDoubt = null;
-    this.data = this.makeDataEstimator();
-    this.screen = new ResidualScreen();
-    this.collapseInformative = -1;
-    this.pending = null;
-    this.lastPlantUpdate = -Infinity;
     this.cachedHeadroom = { value: null, at: -Infinity };
     this.stateReasonOverride = reason;
   }
@@ -412,25 +228,25 @@ export class LoopTracker {
     if (this.receivedAt === null) return { state: "learning", reason: "waiting for telemetry" };
     const signal = this.cond.signalKind(now, this.receivedAt, this.deliveryPeriodMs);
     if (signal) return signal;
-    if (this.stateReasonOverride && !this.plantReady()) return { state: "learning", reason: this.stateReasonOverride };
-    if (!this.plantReady()) {
-      const n = this.plant.informative;
-      if (n >= this.minUpdates) return { state: "learning", reason: `plant model learning: the set-point moves so far do not determine all ${this.plant.d} parameters` };
-      const age = Number.isFinite(this.lastSpMove) ? ` (last set-point move ${Math.round((this.estimationSamples - this.lastSpMove) * this.estimationPeriodS)} s ago)` : " (no set-point move seen yet)";
-      return { state: "learning", reason: `plant model learning: ${n} of ${this.minUpdates} informative samples${age}` };
+    if (this.stateReasonOverride && !this.est.plantReady()) return { state: "learning", reason: this.stateReasonOverride };
+    if (!this.est.plantReady()) {
+      const n = this.est.plant.informative;
+      if (n >= this.est.minUpdates) return { state: "learning", reason: `plant model learning: the set-point moves so far do not determine all ${this.est.plant.d} parameters` };
+      const age = Number.isFinite(this.est.lastSpMove) ? ` (last set-point move ${Math.round((this.est.estimationSamples - this.est.lastSpMove) * this.estimationPeriodS)} s ago)` : " (no set-point move seen yet)";
+      return { state: "learning", reason: `plant model learning: ${n} of ${this.est.minUpdates} informative samples${age}` };
     }
-    if (this.fitCollapsed()) {
-      const ratio = this.screen.collapseRatio;
+    if (this.est.fitCollapsed()) {
+      const ratio = this.est.gate.screen.collapseRatio;
       const what = `prediction error ${Number.isFinite(ratio) ? ratio.toFixed(1) : "several"} x its usual level`;
       return { state: "poor-fit", reason: `the plant model no longer fits the PV (${what}): figures not trusted until it fits again` };
     }
     if (this.rimDoubt !== null) return { state: "poor-fit", reason: this.rimDoubt };
-    if (this.implausible !== null) {
-      if (!this.lastGood) return { state: "learning", reason: `plant model learning: the estimate so far is not physical (${this.implausible})` };
-      const age = Math.round((this.estimationSamples - this.lastGood.at) * this.estimationPeriodS);
-      return { state: "low-excitation", reason: `the current estimate is not physical (${this.implausible}): plant model from ${age} s ago held` };
+    if (this.est.implausible !== null) {
+      if (!this.est.lastGood) return { state: "learning", reason: `plant model learning: the estimate so far is not physical (${this.est.implausible})` };
+      const age = Math.round((this.est.estimationSamples - this.est.lastGood.at) * this.estimationPeriodS);
+      return { state: "low-excitation", reason: `the current estimate is not physical (${this.est.implausible}): plant model from ${age} s ago held` };
     }
-    const idle = this.estimationSamples - this.lastPlantUpdate;
+    const idle = this.est.estimationSamples - this.est.lastPlantUpdate;
     if (idle > this.holdSamples) {
       return {
         state: "low-excitation",
@@ -470,25 +286,20 @@ export class LoopTracker {
   }
 
   private computeState(sampleT: number): void {
-    this.plant = choosePlant(this.plantFull, this.plantReduced, (p) => this.plantReady(p), this.config.controller.action);
-    this.implausible = this.plantReady() ? plausibility(this.plant, this.config.controller.action) : null;
-    if (this.plantReady() && this.implausible === null) {
-      // the current estimate, kept as the last good one (the same objects feed the figures below)
-      this.lastGood = { model: this.plant.model(), cov: this.plant.parameterCovariance(), at: this.estimationSamples };
-    }
+    this.est.choose(this.config.controller.action);
     const now = this.clock.now();
     let kind = this.currentKind(now);
     const st = emptyState(this.stateInput(), kind.state, kind.reason);
     st.at = now;
-    st.excitation = this.plant.solved ? finite(this.plant.conditioning) : null;
-    const s2 = this.plant.residualVariance();
-    if (Number.isFinite(s2) && this.yVariance > 0) st.fitPercent = finite(Math.max(-100, Math.min(100, 100 * (1 - Math.sqrt(s2 / this.yVariance)))));
+    st.excitation = this.est.plant.solved ? finite(this.est.plant.conditioning) : null;
+    const s2 = this.est.plant.residualVariance();
+    if (Number.isFinite(s2) && this.est.yVariance > 0) st.fitPercent = finite(Math.max(-100, Math.min(100, 100 * (1 - Math.sqrt(s2 / this.est.yVariance)))));
     // data-only poles
     const memorySamples = this.memory;
-    st.dataPolesKind = this.estimationSamples - this.lastSpMove <= memorySamples ? "closed-loop" : "disturbance-response";
-    if (this.data.updates >= Math.max(50, 10 * this.dataOrder)) st.dataPoles = dataPolesOf(this.data);
-    if (this.plantReady()) {
-      if (this.lastGood) fillModelFigures(st, this.lastGood.model, this.lastGood.cov, this.controller, () => this.headroom(this.lastGood!.model));
+    st.dataPolesKind = this.est.estimationSamples - this.est.lastSpMove <= memorySamples ? "closed-loop" : "disturbance-response";
+    if (this.est.data.ready) st.dataPoles = this.est.data.poles();
+    if (this.est.plantReady()) {
+      if (this.est.lastGood) fillModelFigures(st, this.est.lastGood.model, this.est.lastGood.cov, this.controller, () => this.headroom(this.est.lastGood!.model));
     }
     const poles = effectivePoles(st);
     // the figures come from the model-based poles only: data-only poles alone (while the plant is
@@ -505,50 +316,26 @@ export class LoopTracker {
       st.stateReason = kind.reason;
     }
     if (st.rimUndecided) st.juryStable = null;
-    const t = sampleT / 1000;
-    // the decay-ratio trend only while the alarms may act on the estimate (they reset it otherwise)
-    if (NON_TRACKING.has(kind.state)) this.decayTrend.reset();
-    else this.decayTrend.push(t, st.decayRatio);
-    if (st.spectralRadius !== null && (kind.state === "tracking" || kind.state === "low-excitation")) {
-      const last = this.radiusHistory[this.radiusHistory.length - 1];
-      if (!last || t >= last.t + this.forecastPointEveryS) {
-        this.radiusHistory.push({ t, value: st.spectralRadius });
-        const cutoff = t - this.forecastWindowS;
-        let drop = 0;
-        while (drop < this.radiusHistory.length && this.radiusHistory[drop]!.t < cutoff) drop++;
-        if (drop > 0) this.radiusHistory.splice(0, drop);
-        this.cachedForecast = { alarmLevel: null, radiusOne: forecastRadiusOne(this.radiusHistory, this.memory * this.estimationPeriodS) };
-      }
-      st.forecast = this.cachedForecast;
-    } else {
-      this.cachedForecast = null;
-    }
-    const level = this.alarmDecayRatio(this.config.id);
-    const toLevel = NON_TRACKING.has(kind.state) ? null : this.decayTrend.crossing(level, t);
-    if (toLevel || st.forecast) {
-      const alarmLevel = toLevel ? { at: Math.round(toLevel.at * 1000), low: Math.round(toLevel.low * 1000), high: Math.round(toLevel.high * 1000), decayRatio: level } : null;
-      st.forecast = { radiusOne: st.forecast?.radiusOne ?? null, alarmLevel };
-      if (!st.forecast.radiusOne && !alarmLevel) st.forecast = null;
-    }
+    this.trends.update(st, kind, sampleT, this.alarmDecayRatio(this.config.id));
     this.state = st;
   }
 
   /** Gain headroom of the reported model; the search costs as much as the rest of a state together, so it is refreshed every 5 states. */
   private headroom(model: ArxModel): number | null {
-    if (this.estimationSamples - this.cachedHeadroom.at >= 5 * this.stateEvery) {
-      this.cachedHeadroom = { value: finite(gainHeadroom(model, this.controller)), at: this.estimationSamples };
+    if (this.est.estimationSamples - this.cachedHeadroom.at >= 5 * this.stateEvery) {
+      this.cachedHeadroom = { value: finite(gainHeadroom(model, this.controller)), at: this.est.estimationSamples };
     }
     return this.cachedHeadroom.value;
   }
 
   /** Plant model (for diagnostics and tests). */
   plantModel(): ReturnType<InstrumentalArxEstimator["model"]> {
-    return this.plant.model();
+    return this.est.plant.model();
   }
 
   /** Informative samples the plant estimator has taken so far. */
   get plantUpdates(): number {
-    return this.plant.informative;
+    return this.est.plant.informative;
   }
 
   /** Serialisable estimator state for checkpoints (JSON-safe). */
@@ -557,19 +344,10 @@ export class LoopTracker {
       version: 2,
       loopId: this.config.id,
       structure: { na: this.config.na, nb: this.config.nb, nk: this.config.nk, estimationPeriodS: this.estimationPeriodS, dataOrder: this.dataOrder },
-      plant: this.plantFull.toJSON(),
-      plantReduced: this.plantReduced ? this.plantReduced.toJSON() : null,
-      lastGood: this.lastGood ? { model: { ...this.lastGood.model, a: [...this.lastGood.model.a], b: [...this.lastGood.model.b] }, cov: this.lastGood.cov.map((r) => [...r]), at: this.lastGood.at } : null,
-      data: this.data.toJSON(),
-      estimationSamples: this.estimationSamples,
-      lastPlantUpdate: Number.isFinite(this.lastPlantUpdate) ? this.lastPlantUpdate : NEVER,
-      lastSpMove: Number.isFinite(this.lastSpMove) ? this.lastSpMove : NEVER,
+      ...this.est.toJSON(),
       samplesSeen: this.samplesSeen,
-      radiusHistory: this.radiusHistory.map((p) => ({ ...p })),
-      yVariance: this.yVariance,
-      yMean: this.yMean,
+      radiusHistory: this.trends.radiusHistory.map((p) => ({ ...p })),
       prefilter: { prev: this.cond.prevSignals ? { ...this.cond.prevSignals } : null, filtered: { ...this.cond.filtered } },
-      robust: { screen: this.screen.toJSON(), predictor: this.predictor.toJSON(), taint: this.taint, collapseInformative: this.collapseInformative, pending: this.pending ? { sample: { ...this.pending.sample }, yBounded: this.pending.yBounded, rawE: this.pending.rawE } : null },
     };
   }
 
@@ -583,45 +361,17 @@ export class LoopTracker {
       if (cp.loopId !== this.config.id) return { ok: false, reason: `checkpoint of loop ${cp.loopId}, not ${this.config.id}` };
       const bad = checkpointProblem(cp, { na: this.config.na, nb: this.config.nb, nk: this.config.nk, estimationPeriodS: this.estimationPeriodS, dataOrder: this.dataOrder });
       if (bad !== null) return { ok: false, reason: bad };
-      const plant = InstrumentalArxEstimator.fromJSON(cp.plant);
-      const reduced = cp.plantReduced ? InstrumentalArxEstimator.fromJSON(cp.plantReduced) : null;
-      if (plant.na !== this.config.na || (reduced === null) !== (this.config.na < 2) || (reduced !== null && reduced.na !== this.config.na - 1)) {
-        return { ok: false, reason: "checkpoint was made for another model structure or estimation period" };
-      }
-      const data = ArxEstimator.fromJSON(cp.data);
       const pf = cp.prefilter;
-      const lg = cp.lastGood;
-      this.lastGood = lg ? { model: { ...lg.model, a: [...lg.model.a], b: [...lg.model.b] }, cov: lg.cov.map((r) => [...r]), at: lg.at } : null;
-      this.plantFull = plant;
-      this.plantReduced = reduced;
-      this.plant = choosePlant(this.plantFull, this.plantReduced, (p) => this.plantReady(p), this.config.controller.action);
+      const wrong = this.est.restore(cp, this.config.controller.action);
+      if (wrong !== null) return { ok: false, reason: wrong };
       this.rimDoubt = null;
-      this.data = data;
       this.cond.prevSignals = pf.prev ? { ...pf.prev } : null;
       this.cond.filtered = { ...pf.filtered };
-      this.estimationSamples = cp.estimationSamples;
-      // -1e15 in a checkpoint stands for "never" (JSON has no -Infinity)
-      this.lastPlantUpdate = cp.lastPlantUpdate <= NEVER ? -Infinity : cp.lastPlantUpdate;
-      this.lastSpMove = cp.lastSpMove <= NEVER ? -Infinity : cp.lastSpMove;
       this.samplesSeen = cp.samplesSeen;
-      this.radiusHistory = cp.radiusHistory.map((p) => ({ t: p.t, value: p.value }));
-      this.yVariance = cp.yVariance;
-      this.yMean = cp.yMean;
+      this.trends.radiusHistory = cp.radiusHistory.map((p) => ({ t: p.t, value: p.value }));
       this.lastStateAt = -Infinity;
       this.cachedHeadroom = { value: null, at: -Infinity };
-      this.cachedForecast = null;
-      // the residual screen resumes too; from an older checkpoint (or a malformed part) it starts afresh
-      const rb = cp.robust;
-      const screen = new ResidualScreen();
-      const predictor = new ArxPredictor(this.config.na, this.config.nk + this.config.nb);
-      const robustOk = !!rb && screen.restore(rb.screen) && predictor.restore(rb.predictor) && Number.isInteger(rb.taint) && Number.isFinite(rb.collapseInformative);
-      this.screen = robustOk ? screen : new ResidualScreen();
-      this.predictor = robustOk ? predictor : new ArxPredictor(this.config.na, this.config.nk + this.config.nb);
-      this.taint = robustOk && rb ? Math.max(0, rb.taint) : 0;
-      this.collapseInformative = robustOk && rb ? rb.collapseInformative : -1;
-      const pend = robustOk && rb ? rb.pending : null;
-      const pendOk = !!pend && [pend.yBounded, pend.rawE, pend.sample?.u, pend.sample?.y, pend.sample?.r, pend.sample?.t].every((v) => typeof v === "number" && Number.isFinite(v));
-      this.pending = pendOk && pend ? { sample: { ...pend.sample }, yBounded: pend.yBounded, rawE: pend.rawE } : null;
+      this.trends.clearForecast();
       return { ok: true };
     } catch (e) {
       return { ok: false, reason: `checkpoint rejected: ${(e as Error).message}` };
