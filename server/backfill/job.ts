@@ -186,9 +186,10 @@ export class BackfillJob {
     });
     const live = this.deps.registry.get(route.loopId);
     const liveSeen = live ? live.current.samples : 0;
-    if (config && enabled && (liveSeen === 0 || replaceModel))
+    if (config && enabled && (liveSeen === 0 || replaceModel)) {
       this.tracker = this.deps.registry.makeTracker(config, this.replayClock);
-    else
+      this.tracker.setReplaying(true);
+    } else
       this.message =
         !config || !enabled
           ? "The loop is disabled or its configuration cannot build a tracker: history only."
@@ -351,6 +352,7 @@ export class BackfillJob {
 
   /** The trained tracker takes the live one's place; the live samples held meanwhile follow it. */
   private install(tracker: LoopTracker): void {
+    tracker.setReplaying(false);
     this.replayClock.goLive();
     this.deps.registry.replaceTracker(tracker);
     const lastT = tracker.current.last?.t ?? -Infinity;
