@@ -17,6 +17,9 @@ export interface TrendOptions {
 
 export class FigureTrend {
   private points: { t: number; value: number }[] = [];
+  /** The last fit, reused while no point was added: a state is computed per estimation sample, a point only per `pointEveryS`. */
+  private fit: { version: number; level: number; f: ReturnType<typeof forecastCrossing> | "failed" } | null = null;
+  private version = 0;
   readonly windowS: number;
   readonly pointEveryS: number;
   readonly memoryS: number;
@@ -37,6 +40,7 @@ export class FigureTrend {
     const last = this.points[this.points.length - 1];
     if (last && tS < last.t + this.pointEveryS) return;
     this.points.push({ t: tS, value });
+    this.version++;
     const cutoff = tS - this.windowS;
     let drop = 0;
     while (drop < this.points.length && this.points[drop]!.t < cutoff) drop++;
@@ -46,6 +50,7 @@ export class FigureTrend {
   /** Forget the history (the tracker stopped tracking, or the loop's configuration changed). */
   reset(): void {
     this.points = [];
+    this.version++;
   }
 
   /**
@@ -55,13 +60,18 @@ export class FigureTrend {
    */
   crossing(level: number, nowS: number): { at: number; low: number; high: number } | null {
     if (this.points.length < 3) return null;
-    try {
-      const span = this.points[this.points.length - 1]!.t - this.points[0]!.t;
-      const f = forecastCrossing(this.points, level, { memory: this.memoryS, maxHorizon: span });
-      if (!f || f.slope <= 0 || f.at < nowS || !Number.isFinite(f.at) || !Number.isFinite(f.low) || !Number.isFinite(f.high)) return null;
-      return { at: f.at, low: f.low, high: f.high };
-    } catch {
-      return null;
+    if (!this.fit || this.fit.version !== this.version || this.fit.level !== level) {
+      let f: ReturnType<typeof forecastCrossing> | "failed";
+      try {
+        const span = this.points[this.points.length - 1]!.t - this.points[0]!.t;
+        f = forecastCrossing(this.points, level, { memory: this.memoryS, maxHorizon: span });
+      } catch {
+        f = "failed";
+      }
+      this.fit = { version: this.version, level, f };
     }
+    const f = this.fit.f;
+    if (f === "failed" || !f || f.slope <= 0 || f.at < nowS || !Number.isFinite(f.at) || !Number.isFinite(f.low) || !Number.isFinite(f.high)) return null;
+    return { at: f.at, low: f.low, high: f.high };
   }
 }

@@ -22,7 +22,7 @@ import type { Bus, Clock } from "../context";
 import { HistoryAggregator } from "../history/aggregate";
 import type { HistoryWriter } from "../history/writer";
 import type { LoopRouteRow } from "../ingest/loop-source";
-import { LoopTracker } from "../tracking/loop-tracker";
+import type { LoopTracker } from "../tracking/loop-tracker";
 import type { TrackerRegistry } from "../tracking/registry";
 import type { LoopConfig } from "../tracking/types";
 import { HeapGuard } from "./heap-guard";
@@ -186,9 +186,10 @@ export class BackfillJob {
     });
     const live = this.deps.registry.get(route.loopId);
     const liveSeen = live ? live.current.samples : 0;
-    if (config && enabled && (liveSeen === 0 || replaceModel))
-      this.tracker = new LoopTracker(config, { clock: this.replayClock });
-    else
+    if (config && enabled && (liveSeen === 0 || replaceModel)) {
+      this.tracker = this.deps.registry.makeTracker(config, this.replayClock);
+      this.tracker.setReplaying(true);
+    } else
       this.message =
         !config || !enabled
           ? "The loop is disabled or its configuration cannot build a tracker: history only."
@@ -351,6 +352,7 @@ export class BackfillJob {
 
   /** The trained tracker takes the live one's place; the live samples held meanwhile follow it. */
   private install(tracker: LoopTracker): void {
+    tracker.setReplaying(false);
     this.replayClock.goLive();
     this.deps.registry.replaceTracker(tracker);
     const lastT = tracker.current.last?.t ?? -Infinity;

@@ -200,6 +200,20 @@ export class LoopTracker {
     return this.est.estimate({ u, y, r, manual, saturated, flat, t, bad, whole });
   }
 
+  /**
+   * A historian backfill replays samples through this tracker before it goes live: while
+   * `replaying`, states carry no forecast (none is published); at the end the forecast of the
+   * state going live is fitted from the same histories live telemetry would have kept.
+   */
+  setReplaying(replaying: boolean): void {
+    if (this.trends.deferred === replaying) return;
+    this.trends.deferred = replaying;
+    if (!replaying) {
+      this.state = { ...this.state };
+      this.trends.settle(this.state);
+    }
+  }
+
   /** After estimation sample k (time t, epoch ms): a full state when one is due. */
   private stateDue(k: number, t: number): boolean {
     if (k - this.lastStateAt < this.stateEvery) return false;

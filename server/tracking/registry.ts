@@ -114,6 +114,14 @@ export class TrackerRegistry {
   }
 
   /**
+   * A tracker of `cfg` with the options every tracker of this registry gets (e.g. the loop's own
+   * alarm level for the forecast), on `clock` (a backfill replays on the sample times).
+   */
+  makeTracker(cfg: LoopConfig, clock: Clock = this.ctx.clock): LoopTracker {
+    return new LoopTracker(cfg, { ...this.options, clock });
+  }
+
+  /**
    * Add a loop or apply a changed configuration: a new tuning keeps the estimators (the plant
    * model does not depend on the controller); a new structure, period or range relearns.
    * A disabled loop is removed. Returns what happened.
@@ -129,7 +137,7 @@ export class TrackerRegistry {
         this.rejected.delete(cfg.id);
         return "kept";
       }
-      const tr = new LoopTracker(cfg, { ...this.options, clock: this.ctx.clock });
+      const tr = this.makeTracker(cfg);
       const routine = this.routines.get(cfg.id);
       if (routine) tr.attachRoutine(routine);
       this.trackers.set(cfg.id, tr);

@@ -38,7 +38,18 @@ export class FigureTrends {
   /** Forget the cached forecast (after a restore; the next point recomputes it). */
   clearForecast(): void {
     this.cachedForecast = null;
+    this.radiusFitDue = false;
   }
+
+  /**
+   * While deferred (a historian backfill replaying samples) the histories are kept as live, but
+   * no forecast is fitted per point: only the state that goes live needs one, and `settle` makes
+   * it from the same histories, so it equals the forecast live telemetry of the same samples
+   * would carry (the fit is about a fifth of a replay's CPU otherwise).
+   */
+  deferred = false;
+  private radiusFitDue = false;
+  private last: { tracking: boolean; hasRadius: boolean; t: number; level: number } | null = null;
 
   /**
    * Push the state's radius and decay ratio at sample time `sampleT` (epoch ms) and set its
@@ -46,26 +57,48 @@ export class FigureTrends {
    */
   update(st: LoopStateDto, kind: { state: TrackerState }, sampleT: number, level: number): void {
     const t = sampleT / 1000;
+    const tracking = !NON_TRACKING.has(kind.state);
     // the decay-ratio trend only while the alarms may act on the estimate (they reset it otherwise)
-    if (NON_TRACKING.has(kind.state)) this.decayTrend.reset();
+    if (!tracking) this.decayTrend.reset();
     else this.decayTrend.push(t, st.decayRatio);
-    if (st.spectralRadius !== null && (kind.state === "tracking" || kind.state === "low-excitation")) {
+    const hasRadius = st.spectralRadius !== null && (kind.state === "tracking" || kind.state === "low-excitation");
+    this.last = { tracking, hasRadius, t, level };
+    if (hasRadius) {
       const last = this.radiusHistory[this.radiusHistory.length - 1];
       if (!last || t >= last.t + this.forecastPointEveryS) {
-        this.radiusHistory.push(radiusPoint(t, st.spectralRadius, st.radiusSd));
+        this.radiusHistory.push(radiusPoint(t, st.spectralRadius!, st.radiusSd));
         const cutoff = t - this.forecastWindowS;
         let drop = 0;
         while (drop < this.radiusHistory.length && this.radiusHistory[drop]!.t < cutoff) drop++;
         if (drop > 0) this.radiusHistory.splice(0, drop);
-        this.cachedForecast = { alarmLevel: null, radiusOne: forecastRadiusOne(this.radiusHistory, this.memory * this.estimationPeriodS) };
+        this.radiusFitDue = true;
+        if (!this.deferred) this.fitRadius();
       }
-      st.forecast = this.cachedForecast;
     } else {
       this.cachedForecast = null;
+      this.radiusFitDue = false;
     }
-    const toLevel = NON_TRACKING.has(kind.state) ? null : this.decayTrend.crossing(level, t);
+    if (!this.deferred) this.compose(st);
+  }
+
+  /** Fit the forecasts a deferred run skipped and set them on `st`, the state going live. */
+  settle(st: LoopStateDto): void {
+    if (this.radiusFitDue) this.fitRadius();
+    this.compose(st);
+  }
+
+  private fitRadius(): void {
+    this.cachedForecast = { alarmLevel: null, radiusOne: forecastRadiusOne(this.radiusHistory, this.memory * this.estimationPeriodS) };
+    this.radiusFitDue = false;
+  }
+
+  private compose(st: LoopStateDto): void {
+    const l = this.last;
+    if (!l) return;
+    st.forecast = l.hasRadius ? this.cachedForecast : null;
+    const toLevel = l.tracking ? this.decayTrend.crossing(l.level, l.t) : null;
     if (toLevel || st.forecast) {
-      const alarmLevel = toLevel ? { at: Math.round(toLevel.at * 1000), low: Math.round(toLevel.low * 1000), high: Math.round(toLevel.high * 1000), decayRatio: level } : null;
+      const alarmLevel = toLevel ? { at: Math.round(toLevel.at * 1000), low: Math.round(toLevel.low * 1000), high: Math.round(toLevel.high * 1000), decayRatio: l.level } : null;
       st.forecast = { radiusOne: st.forecast?.radiusOne ?? null, alarmLevel };
       if (!st.forecast.radiusOne && !alarmLevel) st.forecast = null;
     }

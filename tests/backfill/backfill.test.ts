@@ -7,7 +7,7 @@
  * The plant is the invented first-order PI loop of the pipeline fixture.
  */
 import { QueryTypes } from "sequelize";
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { afterAll, beforeAll, describe, expect, it, vi } from "vitest";
 import { loadLoopConfigs, type LoadedLoop } from "@/server/ingest/loop-source";
 import { HistoryAggregator } from "@/server/history/aggregate";
 import { HistoryWriter } from "@/server/history/writer";
@@ -93,7 +93,9 @@ describe("backfill equals live", () => {
     const { bus: liveBus, writer: liveWriter } = setup(live);
     const liveAgg = new HistoryAggregator({ second: (r) => liveWriter.second(r), minute: (r) => liveWriter.minute(r), snapshot: (r) => liveWriter.snapshot(r) });
     liveBus.on("tracker:update", (st) => liveAgg.addState(st));
-    const liveReg = new TrackerRegistry({ bus: liveBus, clock: live }, [cfgA]);
+    // each loop's own alarm level, as the pipeline supplies it (server/pipeline.ts)
+    const levelOf = vi.fn((_loopId: number) => 0.3);
+    const liveReg = new TrackerRegistry({ bus: liveBus, clock: live }, [cfgA], { alarmDecayRatio: levelOf });
     for (const s of samples) {
       live.t = s.t;
       liveReg.push(fx.a.loopId, [{ ...s }], s.t);
@@ -105,7 +107,7 @@ describe("backfill equals live", () => {
     // Backfill of the same samples as CSV into loop B, whose tracker has seen nothing.
     const clock = new SetClock(NOW);
     const { bus, writer } = setup(clock);
-    const registry = new TrackerRegistry({ bus, clock }, [cfgB.config!]);
+    const registry = new TrackerRegistry({ bus, clock }, [cfgB.config!], { alarmDecayRatio: levelOf });
     const updates: number[] = [];
     bus.on("tracker:update", (st) => updates.push(st.loopId));
     const host = new BackfillHost({ sequelize: db.sequelize, writer, registry, bus, clock, secondRetentionH: 6, minuteRetentionD: 180 });
@@ -125,6 +127,10 @@ describe("backfill equals live", () => {
     expect(cpA.samplesSeen).toBe(2400);
     expect(b.current.modelPoles).toEqual(a.current.modelPoles);
     expect(b.current.spectralRadius).toBe(a.current.spectralRadius);
+    // the replayed tracker asked for loop B's own alarm level, not the default policy's
+    expect(levelOf).toHaveBeenCalledWith(fx.b.loopId);
+    expect(b.current.forecast).toEqual(a.current.forecast);
+    expect(b.current.decayRatio).toBe(a.current.decayRatio);
     expect(a.current.modelPoles.length).toBeGreaterThan(0); // a model was learnt (not two empty states)
 
     for (const [table, cols] of [["samples_1s", SECOND_COLS], ["samples_1m", MINUTE_COLS], ["pole_snapshots", SNAP_COLS]] as const) {
