@@ -28,6 +28,13 @@ import { loadScenario } from "@/simulators/scenario";
 import { demoSimLoops } from "@/simulators/seed-loops";
 
 const minutes = Number(process.argv[2] ?? 10);
+/** `--seed N`: the scenario's random seed (default: the scenario's own); `--evidence TAG`: print that loop's evidence at each checkpoint. */
+const argOf = (name: string) => {
+  const k = process.argv.indexOf(name);
+  return k > 0 ? process.argv[k + 1] : undefined;
+};
+const seedArg = argOf("--seed");
+const evidenceTag = argOf("--evidence");
 const T0 = Date.UTC(2026, 11, 2, 12);
 
 const ACCEPT: Record<string, string[]> = {
@@ -47,12 +54,14 @@ const activeAt = (d: Drift, tS: number) => d.startS <= tS && (d.durationS == nul
 async function main() {
   const scenario = await loadScenario(path.join(import.meta.dirname, "..", "simulators", "scenarios", "demo.json"));
   const inline = demoSimLoops();
-  const sims = buildFleet({ scenario, loops: inline, seed: scenario.seed ?? 1 });
+  const sims = buildFleet({ scenario, loops: inline, seed: seedArg !== undefined ? Number(seedArg) : (scenario.seed ?? 1) });
   const drifts = new Map(scenario.loops.map((l) => [l.tag, (l.drift ?? []) as Drift[]]));
   const results = new Map<number, LiveResult[]>();
   let clock = T0;
   const fakeClock: Clock = { now: () => clock, setTimeout: () => ({ cancel() {} }), setInterval: () => ({ cancel() {} }) };
-  const live = new LiveAssessor({ now: () => clock, onResult: (r) => results.get(r.loopId)!.push(r) });
+  // the tracker registry is made below; the assessor reads each loop's model from it (as the pipeline does)
+  let registryRef: TrackerRegistry | null = null;
+  const live = new LiveAssessor({ now: () => clock, onResult: (r) => results.get(r.loopId)!.push(r), modelOf: (id) => registryRef?.get(id)?.current });
   const siteIds = new Map<string, number>();
   const demo = sims.map((sim) => DEMO_LOOPS.find((l) => l.tag === sim.config.tag)!);
   const tags = demo.map((d) => d.tag);
@@ -89,6 +98,7 @@ async function main() {
       controller: { ...DEMO_PLANTS[l.tag]!.controller }, na: l.na, nb: l.nb, nk: l.nk,
     })),
   );
+  registryRef = registry;
   const policies: EffectivePolicy[] = demo.map((l) => {
     const over = (tag?: string) => DEMO_POLICY_OVERRIDES.find((o) => o.tenant === l.tenant && o.site === l.site && o.tag === tag)?.settings as never;
     return resolvePolicy({ tenant: DEMO_TENANT_POLICY as never, site: over(undefined), loop: over(l.tag) });
@@ -98,6 +108,7 @@ async function main() {
   const falseAlarms: string[] = [];
   bus.on("tracker:update", (s) => {
     const i = s.loopId;
+    live.recheckModel(i);
     const l = demo[i]!;
     const { memory: m, verdicts } = evaluateConditions(memory[i]!, s, policies[i]!, { baselineTimeConstantS: null, forecastMinutes: forecastMinutesOf(s, clock) }, clock);
     memory[i] = m;
@@ -161,6 +172,7 @@ async function main() {
       if (d.label === "undetermined") return `not judged yet · needs ${Math.round((d.needsS ?? 0) / 60)} min`;
       summary[k]!.verdicts++;
       const truth = truthOf(i, r);
+      if (tag === evidenceTag) console.log(`${tag} at ${m} min: ${d.label} ${d.confidence.toFixed(2)}\n  ${d.evidence.join("\n  ")}`);
       const ok = truth.includes(d.label);
       if (ok) summary[k]!.correct++;
       return `${d.label} ${d.confidence.toFixed(2)} ${age} ${ok ? "ok" : `MISS (want ${truth.join("/")})`}`;
