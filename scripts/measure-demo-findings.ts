@@ -12,7 +12,7 @@
  * healthy) and the loop's mode (in manual more than half of the window reads manual, whatever
  * caused it: a drift or the scenario's random manual spells); nothing active reads healthy. Then
  * the first correct work-list finding and the first operator alarm of each tenant.
- * Run: node --import tsx scripts/measure-demo-findings.ts [minutes]
+ * Run: node --import tsx scripts/measure-demo-findings.ts [minutes] [--seed N] [--evidence TAG] [--scenario FILE]
  */
 import path from "node:path";
 import { parseLoopConfig } from "@/lib/assessment";
@@ -28,7 +28,10 @@ import { loadScenario } from "@/simulators/scenario";
 import { demoSimLoops } from "@/simulators/seed-loops";
 
 const minutes = Number(process.argv[2] ?? 10);
-/** `--seed N`: the scenario's random seed (default: the scenario's own); `--evidence TAG`: print that loop's evidence at each checkpoint. */
+/**
+ * `--seed N`: the scenario's random seed (default: the scenario's own); `--evidence TAG`: print that
+ * loop's evidence at each checkpoint; `--scenario FILE`: another scenario file (a variant of the demo's).
+ */
 const argOf = (name: string) => {
   const k = process.argv.indexOf(name);
   return k > 0 ? process.argv[k + 1] : undefined;
@@ -52,7 +55,7 @@ type Drift = { kind: string; startS: number; durationS?: number | null };
 const activeAt = (d: Drift, tS: number) => d.startS <= tS && (d.durationS == null || PERSISTENT.has(d.kind) || tS <= d.startS + d.durationS);
 
 async function main() {
-  const scenario = await loadScenario(path.join(import.meta.dirname, "..", "simulators", "scenarios", "demo.json"));
+  const scenario = await loadScenario(argOf("--scenario") ?? path.join(import.meta.dirname, "..", "simulators", "scenarios", "demo.json"));
   const inline = demoSimLoops();
   const sims = buildFleet({ scenario, loops: inline, seed: seedArg !== undefined ? Number(seedArg) : (scenario.seed ?? 1) });
   const drifts = new Map(scenario.loops.map((l) => [l.tag, (l.drift ?? []) as Drift[]]));
