@@ -112,7 +112,7 @@ async function main() {
   // Loops cycled from outside: an operator alarm there is false (the loop itself is stable); the
   // closest their tracked model came to the rim is printed too.
   const outside = new Set(demo.flatMap((l, i) => ((drifts.get(l.tag) ?? []).some((d) => d.kind === "outside-oscillation") ? [i] : [])));
-  const outsideWorst = new Map<number, { radius: number; undecided: number; tracking: number }>();
+  const outsideWorst = new Map<number, { radius: number; decayRatio: number; undecided: number; tracking: number }>();
   bus.on("tracker:update", (s) => {
     const i = s.loopId;
     live.recheckModel(i);
@@ -120,10 +120,13 @@ async function main() {
     const { memory: m, verdicts } = evaluateConditions(memory[i]!, s, policies[i]!, { baselineTimeConstantS: null, forecastMinutes: forecastMinutesOf(s, clock) }, clock);
     memory[i] = m;
     if (outside.has(i) && s.trackerState === "tracking") {
-      const w = outsideWorst.get(i) ?? { radius: 0, undecided: 0, tracking: 0 };
+      const w = outsideWorst.get(i) ?? { radius: 0, decayRatio: 0, undecided: 0, tracking: 0 };
       w.tracking++;
       if (s.rimUndecided) w.undecided++;
-      else w.radius = Math.max(w.radius, s.spectralRadius ?? 0);
+      else {
+        w.radius = Math.max(w.radius, s.spectralRadius ?? 0);
+        w.decayRatio = Math.max(w.decayRatio, s.decayRatio ?? 0);
+      }
       outsideWorst.set(i, w);
     }
     for (const [condition, v] of Object.entries(verdicts) as [AlarmCondition, (typeof verdicts)[AlarmCondition]][]) {
@@ -212,7 +215,7 @@ async function main() {
     const a = firstAlarm.get(t);
     console.log(`tenant ${t}: first correct work-list finding ${w ? `at ${w.t} s (${w.tag}, ${w.label})` : "none within the run"}; first operator alarm ${a ? `at ${a.t} s (${a.tag}, ${a.condition}${a.fromDrift ? ", from its drift" : ", NOT from a drift"})` : "none within the run"}`);
   }
-  for (const [i, w] of outsideWorst) console.log(`outside disturbance ${tags[i]}: ${w.tracking} tracking states, largest radius ${w.radius.toFixed(4)} (undecided near the rim in ${w.undecided})`);
+  for (const [i, w] of outsideWorst) console.log(`outside disturbance ${tags[i]}: ${w.tracking} tracking states, largest radius ${w.radius.toFixed(4)}, largest decay ratio ${w.decayRatio.toFixed(2)} (undecided near the rim in ${w.undecided})`);
   console.log(`alarms on loops without an active drift (or cycled from outside): ${falseAlarms.length ? falseAlarms.join("; ") : "none"}`);
 }
 
