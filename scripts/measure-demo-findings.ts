@@ -12,7 +12,7 @@
  * healthy) and the loop's mode (in manual more than half of the window reads manual, whatever
  * caused it: a drift or the scenario's random manual spells); nothing active reads healthy. Then
  * the first correct work-list finding and the first operator alarm of each tenant.
- * Run: node --import tsx scripts/measure-demo-findings.ts [minutes]
+ * Run: node --import tsx scripts/measure-demo-findings.ts [minutes] [--seed N] [--evidence TAG] [--scenario FILE]
  */
 import path from "node:path";
 import { parseLoopConfig } from "@/lib/assessment";
@@ -28,6 +28,16 @@ import { loadScenario } from "@/simulators/scenario";
 import { demoSimLoops } from "@/simulators/seed-loops";
 
 const minutes = Number(process.argv[2] ?? 10);
+/**
+ * `--seed N`: the scenario's random seed (default: the scenario's own); `--evidence TAG`: print that
+ * loop's evidence at each checkpoint; `--scenario FILE`: another scenario file (a variant of the demo's).
+ */
+const argOf = (name: string) => {
+  const k = process.argv.indexOf(name);
+  return k > 0 ? process.argv[k + 1] : undefined;
+};
+const seedArg = argOf("--seed");
+const evidenceTag = argOf("--evidence");
 const T0 = Date.UTC(2026, 11, 2, 12);
 
 const ACCEPT: Record<string, string[]> = {
@@ -45,14 +55,16 @@ type Drift = { kind: string; startS: number; durationS?: number | null };
 const activeAt = (d: Drift, tS: number) => d.startS <= tS && (d.durationS == null || PERSISTENT.has(d.kind) || tS <= d.startS + d.durationS);
 
 async function main() {
-  const scenario = await loadScenario(path.join(import.meta.dirname, "..", "simulators", "scenarios", "demo.json"));
+  const scenario = await loadScenario(argOf("--scenario") ?? path.join(import.meta.dirname, "..", "simulators", "scenarios", "demo.json"));
   const inline = demoSimLoops();
-  const sims = buildFleet({ scenario, loops: inline, seed: scenario.seed ?? 1 });
+  const sims = buildFleet({ scenario, loops: inline, seed: seedArg !== undefined ? Number(seedArg) : (scenario.seed ?? 1) });
   const drifts = new Map(scenario.loops.map((l) => [l.tag, (l.drift ?? []) as Drift[]]));
   const results = new Map<number, LiveResult[]>();
   let clock = T0;
   const fakeClock: Clock = { now: () => clock, setTimeout: () => ({ cancel() {} }), setInterval: () => ({ cancel() {} }) };
-  const live = new LiveAssessor({ now: () => clock, onResult: (r) => results.get(r.loopId)!.push(r) });
+  // the tracker registry is made below; the assessor reads each loop's model from it (as the pipeline does)
+  let registryRef: TrackerRegistry | null = null;
+  const live = new LiveAssessor({ now: () => clock, onResult: (r) => results.get(r.loopId)!.push(r), modelOf: (id) => registryRef?.get(id)?.current });
   const siteIds = new Map<string, number>();
   const demo = sims.map((sim) => DEMO_LOOPS.find((l) => l.tag === sim.config.tag)!);
   const tags = demo.map((d) => d.tag);
@@ -89,6 +101,7 @@ async function main() {
       controller: { ...DEMO_PLANTS[l.tag]!.controller }, na: l.na, nb: l.nb, nk: l.nk,
     })),
   );
+  registryRef = registry;
   const policies: EffectivePolicy[] = demo.map((l) => {
     const over = (tag?: string) => DEMO_POLICY_OVERRIDES.find((o) => o.tenant === l.tenant && o.site === l.site && o.tag === tag)?.settings as never;
     return resolvePolicy({ tenant: DEMO_TENANT_POLICY as never, site: over(undefined), loop: over(l.tag) });
@@ -96,15 +109,30 @@ async function main() {
   const memory: ConditionMemory[] = demo.map(() => newConditionMemory());
   const firstAlarm = new Map<string, { t: number; tag: string; condition: AlarmCondition; fromDrift: boolean }>();
   const falseAlarms: string[] = [];
+  // Loops cycled from outside: an operator alarm there is false (the loop itself is stable); the
+  // closest their tracked model came to the rim is printed too.
+  const outside = new Set(demo.flatMap((l, i) => ((drifts.get(l.tag) ?? []).some((d) => d.kind === "outside-oscillation") ? [i] : [])));
+  const outsideWorst = new Map<number, { radius: number; decayRatio: number; undecided: number; tracking: number }>();
   bus.on("tracker:update", (s) => {
     const i = s.loopId;
+    live.recheckModel(i);
     const l = demo[i]!;
     const { memory: m, verdicts } = evaluateConditions(memory[i]!, s, policies[i]!, { baselineTimeConstantS: null, forecastMinutes: forecastMinutesOf(s, clock) }, clock);
     memory[i] = m;
+    if (outside.has(i) && s.trackerState === "tracking") {
+      const w = outsideWorst.get(i) ?? { radius: 0, decayRatio: 0, undecided: 0, tracking: 0 };
+      w.tracking++;
+      if (s.rimUndecided) w.undecided++;
+      else {
+        w.radius = Math.max(w.radius, s.spectralRadius ?? 0);
+        w.decayRatio = Math.max(w.decayRatio, s.decayRatio ?? 0);
+      }
+      outsideWorst.set(i, w);
+    }
     for (const [condition, v] of Object.entries(verdicts) as [AlarmCondition, (typeof verdicts)[AlarmCondition]][]) {
       if (!v.active) continue;
       const t = (clock - T0) / 1000;
-      const fromDrift = (drifts.get(l.tag) ?? []).some((d) => activeAt(d, t) && d.kind !== "manual-switch");
+      const fromDrift = (drifts.get(l.tag) ?? []).some((d) => activeAt(d, t) && d.kind !== "manual-switch" && d.kind !== "outside-oscillation");
       if (!fromDrift && !falseAlarms.includes(`${l.tag} ${condition}`)) falseAlarms.push(`${l.tag} ${condition} at ${t} s`);
       const prev = firstAlarm.get(l.tenant);
       if (!prev || prev.t > t) firstAlarm.set(l.tenant, { t, tag: l.tag, condition, fromDrift });
@@ -161,6 +189,7 @@ async function main() {
       if (d.label === "undetermined") return `not judged yet · needs ${Math.round((d.needsS ?? 0) / 60)} min`;
       summary[k]!.verdicts++;
       const truth = truthOf(i, r);
+      if (tag === evidenceTag) console.log(`${tag} at ${m} min: ${d.label} ${d.confidence.toFixed(2)}\n  ${d.evidence.join("\n  ")}`);
       const ok = truth.includes(d.label);
       if (ok) summary[k]!.correct++;
       return `${d.label} ${d.confidence.toFixed(2)} ${age} ${ok ? "ok" : `MISS (want ${truth.join("/")})`}`;
@@ -186,7 +215,8 @@ async function main() {
     const a = firstAlarm.get(t);
     console.log(`tenant ${t}: first correct work-list finding ${w ? `at ${w.t} s (${w.tag}, ${w.label})` : "none within the run"}; first operator alarm ${a ? `at ${a.t} s (${a.tag}, ${a.condition}${a.fromDrift ? ", from its drift" : ", NOT from a drift"})` : "none within the run"}`);
   }
-  console.log(`alarms on loops without an active drift: ${falseAlarms.length ? falseAlarms.join("; ") : "none"}`);
+  for (const [i, w] of outsideWorst) console.log(`outside disturbance ${tags[i]}: ${w.tracking} tracking states, largest radius ${w.radius.toFixed(4)}, largest decay ratio ${w.decayRatio.toFixed(2)} (undecided near the rim in ${w.undecided})`);
+  console.log(`alarms on loops without an active drift (or cycled from outside): ${falseAlarms.length ? falseAlarms.join("; ") : "none"}`);
 }
 
 main().catch((e: unknown) => {

@@ -139,11 +139,17 @@ export async function startPipeline(
       })
     : () => undefined;
   // each verdict rides in the loop's assessment from its tracker (LoopAssessment.routine)
-  const assessment = await startLiveAssessment(ctx, { sequelize, onRoutine: (loopId, routine) => registry.attachRoutine(loopId, routine) });
+  // and is cross-checked against that tracker's model (lib/assessment/model-check.ts)
+  const assessment = await startLiveAssessment(ctx, {
+    sequelize,
+    onRoutine: (loopId, routine) => registry.attachRoutine(loopId, routine),
+    modelOf: (loopId) => registry.get(loopId)?.current,
+  });
 
   const onUpdate = (state: LoopStateDto) => {
     history.addState(state);
     emitter.state(state);
+    assessment.recheckModel(state.loopId);
   };
   ctx.bus.on("tracker:update", onUpdate);
 

@@ -20,10 +20,14 @@
  * batches with a time cap per tick.
  *
  * Each result is grouped with the site's other loops by oscillation period (site-groups.ts): a
- * sticking valve whose period other loops of the site share becomes a shared oscillation. Without
- * such peers the report is exactly what `assessLoop` gave (live = offline on the same samples).
+ * sticking valve whose period other loops of the site share becomes a shared oscillation. Then
+ * the verdict is cross-checked against the loop's tracked model (lib/assessment/model-check.ts,
+ * `modelOf` reads the tracker's LoopAssessment), and again whenever the tracker's model changes what
+ * the check says (`recheckModel`, at most once per RECHECK_MIN_MS). Without such peers and without
+ * a trusted model the report is exactly what `assessLoop` gave (live = offline on the same samples).
  */
 import { assessLoop, type AssessMode, type LoopConfig as AssessConfig } from "@/lib/assessment";
+import { applyModelCheck, checkAgainstModel, type ModelCheckKind, type ModelView } from "@/lib/assessment/model-check";
 import type { SampleDto } from "@/lib/domain/types";
 import type { RecordInput } from "@/lib/work-list/record";
 import { AssessRing } from "./ring";
@@ -41,6 +45,8 @@ const FIRST_RUN_S = 60;
 /** The window is made to span at least this many integral times (or dead times), capped at 24 h (decimated). */
 const SPAN_TIME_SCALES = 40;
 const MAX_SPAN_S = 24 * 3_600;
+/** A changed model word re-issues a loop's verdict at most this often (ms; ours: no churn from a model near a level). */
+export const RECHECK_MIN_MS = 30_000;
 
 export interface LiveLoop {
   loopId: number;
@@ -63,6 +69,10 @@ interface Entry {
   firstRun: number;
   dueAfter: number;
   due: boolean;
+  /** The latest result before the model check (the site grouping applied), and what the check said then. */
+  unchecked: LiveResult | null;
+  checkKind: ModelCheckKind;
+  checkedAt: number;
 }
 
 /** Decimation stride so the window spans SPAN_TIME_SCALES loop time scales (ours). */
@@ -88,7 +98,15 @@ export class LiveAssessor {
   /** The latest detected oscillation of each loop, per site (for the site period grouping). */
   private readonly periods = new Map<number, Map<number, PeriodPeer>>();
 
-  constructor(private readonly opts: { capacity?: number; now: () => number; onResult?: (r: LiveResult) => void }) {}
+  constructor(
+    private readonly opts: {
+      capacity?: number;
+      now: () => number;
+      onResult?: (r: LiveResult) => void;
+      /** The loop's current assessment from its tracker (the model the verdict is cross-checked against). */
+      modelOf?: (loopId: number) => ModelView | null | undefined;
+    },
+  ) {}
 
   get size(): number {
     return this.loops.size;
@@ -125,6 +143,9 @@ export class LiveAssessor {
       // The first run comes early even for a decimated window (a few stored samples cost nothing): it says how much data is still needed.
       dueAfter: Math.max(1, Math.round(firstRun * (1 + 0.5 * stagger(loop.loopId)))),
       due: false,
+      unchecked: null,
+      checkKind: "none",
+      checkedAt: 0,
     });
   }
 
@@ -183,6 +204,21 @@ export class LiveAssessor {
     return e ? { samples: e.ring.samples(), config: e.windowConfig } : null;
   }
 
+  /**
+   * The loop's tracker has a new state: when its model now says something else about the latest
+   * verdict (agree/disagree/poorly damped/none), the verdict is issued again with the new word
+   * (same window, no re-run of the assessment). Cheap when nothing changed: one comparison.
+   */
+  recheckModel(loopId: number): LiveResult | null {
+    const e = this.loops.get(loopId);
+    if (!e?.unchecked || !this.opts.modelOf) return null;
+    const model = this.opts.modelOf(loopId);
+    const kind = checkAgainstModel(e.unchecked.report, model).kind;
+    const at = this.opts.now();
+    if (kind === e.checkKind || at - e.checkedAt < RECHECK_MIN_MS) return null;
+    return this.issue(e, { ...e.unchecked, at, report: applyModelCheck(e.unchecked.report, model) }, kind);
+  }
+
   latestOf(loopId: number): LiveResult | null {
     return this.latest.get(loopId) ?? null;
   }
@@ -222,13 +258,22 @@ export class LiveAssessor {
     const { loopId, siteId } = e.loop;
     const periodS = own.oscillation.detected ? own.oscillation.periodS : null;
     const shared = sharedOscillationOf({ loopId, siteId, periodS, at, windowS }, this.periods.get(siteId)?.values() ?? []);
-    const report = applySharedOscillation(own, shared);
+    const grouped = applySharedOscillation(own, shared);
+    const model = this.opts.modelOf?.(loopId);
+    const report = applyModelCheck(grouped, model);
     // Next run: the CPU budget's interval, or later when the verdict says how much data it needs.
     const needs = report.diagnosis.needsS ? report.diagnosis.needsS / e.loop.config.samplePeriodS : 0;
     const factor = n < e.ring.capacity ? FILL_RERUN_FACTOR : RERUN_FACTOR;
     e.dueAfter = Math.max(e.firstRun, Math.ceil(Math.min(Math.max(factor * n * stride, needs), factor * e.ring.capacity * stride)));
     const r: LiveResult = { loopId, tenantId: e.loop.tenantId, siteId, at, report, windowSamples: n, windowS };
-    this.latest.set(loopId, r);
+    e.unchecked = { ...r, report: grouped };
+    return this.issue(e, r, checkAgainstModel(grouped, model).kind);
+  }
+
+  private issue(e: Entry, r: LiveResult, kind: ModelCheckKind): LiveResult {
+    e.checkKind = kind;
+    e.checkedAt = r.at;
+    this.latest.set(r.loopId, r);
     this.notePeriod(r);
     this.opts.onResult?.(r);
     return r;

@@ -11,6 +11,7 @@ import { findingPhrase, type LoopFinding } from "@/lib/domain/findings";
 import { tenantRoom } from "@/lib/domain/events";
 import type { SampleDto } from "@/lib/domain/types";
 import type { RoutineFindings } from "@/lib/domain/findings";
+import type { ModelView } from "@/lib/assessment/model-check";
 import { findingOf, routineOf } from "@/lib/work-list/figures";
 import { findingRecipients, loadAssessments, recordFinding, saveAssessment } from "@/lib/work-list/record";
 import type { ServerContext } from "../context";
@@ -21,6 +22,8 @@ import { loadLiveLoops } from "./loop-configs";
 export interface LiveAssessmentService {
   push(loopId: number, samples: readonly SampleDto[]): void;
   reloadLoop(loopId: number): Promise<void>;
+  /** The loop's tracker published a new state: re-issue the verdict if the model check now reads otherwise. */
+  recheckModel(loopId: number): void;
   /** The latest finding of a loop (live, or restored from storage). */
   finding(loopId: number): LoopFinding | null;
   readonly assessor: LiveAssessor;
@@ -42,6 +45,8 @@ export interface LiveAssessmentOptions {
    * (`LoopAssessment.routine`) for the API, the live summary and the pages (the pipeline wires it).
    */
   onRoutine?: (loopId: number, routine: RoutineFindings) => void;
+  /** The loop's current assessment from its tracker: each verdict is cross-checked against its model (lib/assessment/model-check.ts). */
+  modelOf?: (loopId: number) => ModelView | null | undefined;
 }
 
 export async function startLiveAssessment(ctx: ServerContext, opts: LiveAssessmentOptions): Promise<LiveAssessmentService> {
@@ -92,6 +97,7 @@ export async function startLiveAssessment(ctx: ServerContext, opts: LiveAssessme
   const assessor = new LiveAssessor({
     capacity: opts.capacity,
     now: () => ctx.clock.now(),
+    modelOf: opts.modelOf,
     onResult: (r) => {
       runs++;
       opts.onRoutine?.(r.loopId, routineOf(r.report, r.at, r.windowS));
@@ -125,6 +131,7 @@ export async function startLiveAssessment(ctx: ServerContext, opts: LiveAssessme
   return {
     assessor,
     push: (loopId, samples) => assessor.push(loopId, samples),
+    recheckModel: (loopId) => void assessor.recheckModel(loopId),
     async reloadLoop(loopId) {
       const { loops: one } = await loadLiveLoops(sequelize, loopId);
       const l = one[0];

@@ -4,7 +4,7 @@
  * (no broker), on a fake clock that follows simulated time, so an hour of plant time runs in seconds.
  */
 import path from "node:path";
-import type { LoopStateDto } from "@/lib/domain/types";
+import type { LoopStateDto, SampleDto } from "@/lib/domain/types";
 import { DEMO_LOOPS, DEMO_PLANTS } from "@/lib/seed/demo";
 import { Bus } from "@/server/context";
 import { TrackerRegistry } from "@/server/tracking/registry";
@@ -62,6 +62,8 @@ export interface DemoRun {
   sims: Map<string, LoopSim>;
   ids: Map<string, number>;
   registry: TrackerRegistry;
+  /** The bus the registry publishes `tracker:update` on. */
+  bus: Bus;
   clock: FakeClock;
   /** Every published state per loop id. */
   states: Map<number, LoopStateDto[]>;
@@ -69,7 +71,9 @@ export interface DemoRun {
   advanceTo(t: number, each?: (tS: number) => void): void;
 }
 
-export async function startDemoRun(options: { scenario?: string; tags?: string[]; seed?: number } = {}): Promise<DemoRun> {
+export async function startDemoRun(
+  options: { scenario?: string; tags?: string[]; seed?: number; onSamples?: (loopId: number, samples: SampleDto[]) => void } = {},
+): Promise<DemoRun> {
   const scenario = await loadScenario(path.join(scenarioDir, `${options.scenario ?? "demo"}.json`));
   const loops = demoSimLoops().filter((l) => !options.tags || options.tags.includes(l.tag));
   const fleet = buildFleet({ scenario, loops, seed: options.seed ?? scenario.seed ?? 1 });
@@ -85,6 +89,7 @@ export async function startDemoRun(options: { scenario?: string; tags?: string[]
     sims,
     ids,
     registry,
+    bus,
     clock,
     states,
     advanceTo(t: number, each?: (tS: number) => void) {
@@ -95,11 +100,10 @@ export async function startDemoRun(options: { scenario?: string; tags?: string[]
           const id = ids.get(sim.config.tag)!;
           const out = sim.advanceTo(now);
           if (out.length > 0) {
-            registry.push(
-              id,
-              out.map((s) => ({ t: t0 + Math.round(s.simTimeS * 1000), sp: s.sp, pv: s.pv, mv: s.mv, mode: s.mode })),
-              clock.t,
-            );
+            const samples = out.map((s) => ({ t: t0 + Math.round(s.simTimeS * 1000), sp: s.sp, pv: s.pv, mv: s.mv, mode: s.mode }));
+            registry.push(id, samples, clock.t);
+            // then the live routine assessment, in the pipeline's order
+            options.onSamples?.(id, samples);
           }
         }
         each?.(now);
