@@ -7,6 +7,7 @@
 import type { Page } from "playwright-core";
 import { afterAll, beforeAll } from "vitest";
 import { createAuthFixture, type AuthFixture } from "../auth/fixture";
+import { lateBound } from "./late-bound";
 import { launchBrowser, type TestBrowser } from "../setup/browser";
 import { startTestServer, type TestServer } from "../setup/server";
 
@@ -25,11 +26,6 @@ export interface ServerSuite {
   readonly browser: TestBrowser;
 }
 
-function required<T>(value: T | undefined, what: string): T {
-  if (value === undefined) throw new Error(`the server suite has no ${what} (not asked for, or its start-up failed)`);
-  return value;
-}
-
 export function setUpServerSuite(opts: SuiteOptions): ServerSuite {
   let srv: TestServer | undefined;
   let fx: AuthFixture | undefined;
@@ -43,17 +39,7 @@ export function setUpServerSuite(opts: SuiteOptions): ServerSuite {
     await browser?.close();
     await srv?.stop();
   });
-  return {
-    get srv() {
-      return required(srv, "server");
-    },
-    get fx() {
-      return required(fx, "auth fixture");
-    },
-    get browser() {
-      return required(browser, "browser");
-    },
-  };
+  return lateBound<ServerSuite>("server suite", () => ({ srv, fx, browser }));
 }
 
 /** Sign in through the form from `startPath` (cookies cleared first) and wait to leave /signin. */
