@@ -57,7 +57,7 @@ import { toLoopBrief } from "@/server/realtime/summary";
 import { historyColumns } from "@/lib/data/loop-history";
 import { artifactPath, CHROMIUM_ARGS, findChromium, type TestBrowser } from "../setup/browser";
 import { startTestServer } from "../setup/server";
-import { mulberry32 } from "@/tests/control/seeded-random";
+import { mulberry32 } from "@/tests/helpers/seeded-random";
 
 const N_LOOPS = 2000;
 const BASE_ID = 900_000;

@@ -3,7 +3,7 @@ import { decayRatio, dominantPoleInto, newDominantPoleFigures, poleCharacteristi
 import { polyRootsInto } from "@/lib/control/roots";
 import { polyFromRoots } from "@/lib/control/poly";
 import type { Complex } from "@/lib/control/types";
-import { mulberry32 } from "./seeded-random";
+import { mulberry32 } from "../helpers/seeded-random";
 
 /** Rounding-level agreement: relative 1e-12, or absolute 1e-12 near zero. */
 function close(a: number, b: number): boolean {
