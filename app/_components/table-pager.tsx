@@ -5,30 +5,27 @@ import type { ReactNode } from "react";
 
 /** The row under a paged TanStack table: previous, "page n of m" with a count, next. */
 export function TablePager<T>({ table, count }: { table: Table<T>; count: ReactNode }) {
-  const btn = "rounded border border-line px-2 py-0.5 disabled:opacity-50";
   return (
     <div className="flex items-center gap-2 text-sm">
-      <button
-        type="button"
-        className={btn}
-        onClick={() => table.previousPage()}
-        disabled={!table.getCanPreviousPage()}
-      >
+      <PageButton onClick={() => table.previousPage()} disabled={!table.getCanPreviousPage()}>
         Previous
-      </button>
+      </PageButton>
       <span className="num">
         page {table.getState().pagination.pageIndex + 1} of {Math.max(1, table.getPageCount())} ·{" "}
         {count}
       </span>
-      <button
-        type="button"
-        className={btn}
-        onClick={() => table.nextPage()}
-        disabled={!table.getCanNextPage()}
-      >
+      <PageButton onClick={() => table.nextPage()} disabled={!table.getCanNextPage()}>
         Next
-      </button>
+      </PageButton>
     </div>
+  );
+}
+
+function PageButton({ onClick, disabled, children }: { onClick: () => void; disabled: boolean; children: ReactNode }) {
+  return (
+    <button type="button" className="rounded border border-line px-2 py-0.5 disabled:opacity-50" onClick={onClick} disabled={disabled}>
+      {children}
+    </button>
   );
 }
 

@@ -1,8 +1,6 @@
 "use client";
 /** Device credentials: create (the secret is shown once), list, revoke. */
-import { zodResolver } from "@hookform/resolvers/zod";
 import { useState } from "react";
-import { useForm } from "react-hook-form";
 import useSWR from "swr";
 import { z } from "zod";
 import type { DeviceDto } from "@/lib/data/admin/devices";
@@ -12,6 +10,7 @@ import { fmtTime } from "@/lib/client/format";
 import { Field, FormAlert, INPUT_CLASS, SUBMIT_CLASS, useServerError } from "@/app/_components/form-field";
 import { ReasonDialog } from "@/app/_components/reason-dialog";
 import { IdOptions } from "@/app/_components/id-options";
+import { useZodForm } from "@/app/_components/use-zod-form";
 
 const form = z.object({ name: z.string().trim().min(2, "Name the device (at least 2 characters)."), siteId: z.number().int().positive().nullable() });
 
@@ -21,12 +20,7 @@ export function AdminDevices() {
   const [created, setCreated] = useState<(DeviceDto & { secret: string }) | null>(null);
   const { error: err, attempt } = useServerError();
   const [revoking, setRevoking] = useState<DeviceDto | null>(null);
-  const {
-    register,
-    handleSubmit,
-    reset,
-    formState: { errors, isSubmitting },
-  } = useForm<z.infer<typeof form>>({ resolver: zodResolver(form), defaultValues: { name: "", siteId: null } });
+  const { register, handleSubmit, reset, formState: { errors, isSubmitting } } = useZodForm(form, { name: "", siteId: null });
   const create = handleSubmit((v) =>
     attempt(async () => {
       const r = await sendJson<{ device: DeviceDto & { secret: string } }>("/api/admin/devices", "POST", v);

@@ -1,8 +1,6 @@
 "use client";
 /** Administration sections: notification rules, sites and operator areas, the demo's outbox. */
-import { zodResolver } from "@hookform/resolvers/zod";
 import { useState } from "react";
-import { useForm } from "react-hook-form";
 import useSWR from "swr";
 import { z } from "zod";
 import type { RuleDto } from "@/lib/data/admin/notifications";
@@ -12,6 +10,7 @@ import { fetchJson, sendJson } from "@/lib/client/fetcher";
 import { fmtTime } from "@/lib/client/format";
 import { CheckField, Field, FormAlert, INPUT_CLASS, SUBMIT_CLASS, useServerError } from "@/app/_components/form-field";
 import { ReasonDialog } from "@/app/_components/reason-dialog";
+import { useZodForm } from "@/app/_components/use-zod-form";
 
 const nullableInt = (v: unknown) => (v === "" || v === null || v === undefined ? null : Number(v));
 const ruleForm = z.object({
@@ -31,15 +30,7 @@ export function AdminRules() {
   const areas = sites.data?.sites.flatMap((s) => s.areas.map((a) => ({ ...a, site: s.name }))) ?? [];
   const { error: err, attempt } = useServerError();
   const [deleting, setDeleting] = useState<RuleDto | null>(null);
-  const {
-    register,
-    handleSubmit,
-    reset,
-    formState: { errors, isSubmitting },
-  } = useForm<z.infer<typeof ruleForm>>({
-    resolver: zodResolver(ruleForm),
-    defaultValues: { name: "", areaId: null, recipients: "", minPriority: "high", escalationMinutes: 15, repeatMinutes: 60, enabled: true, reason: "" },
-  });
+  const { register, handleSubmit, reset, formState: { errors, isSubmitting } } = useZodForm(ruleForm, { name: "", areaId: null, recipients: "", minPriority: "high", escalationMinutes: 15, repeatMinutes: 60, enabled: true, reason: "" });
   const create = handleSubmit((v) =>
     attempt(async () => {
       await sendJson("/api/admin/notification-rules", "POST", { ...v, recipients: v.recipients.split(/[\s,;]+/).filter(Boolean) });
@@ -135,12 +126,7 @@ export function AdminSites() {
   const { data, error, mutate } = useSWR("/api/admin/sites", (u: string) => fetchJson<{ sites: SiteDto[] }>(u));
   const { error: err, attempt } = useServerError();
   const [areaFor, setAreaFor] = useState<SiteDto | null>(null);
-  const {
-    register,
-    handleSubmit,
-    reset,
-    formState: { errors, isSubmitting },
-  } = useForm<z.infer<typeof siteForm>>({ resolver: zodResolver(siteForm), defaultValues: { name: "", timeZone: "UTC" } });
+  const { register, handleSubmit, reset, formState: { errors, isSubmitting } } = useZodForm(siteForm, { name: "", timeZone: "UTC" });
   const create = handleSubmit((v) =>
     attempt(async () => {
       await sendJson("/api/admin/sites", "POST", v);

@@ -1,8 +1,6 @@
 "use client";
 /** Users and roles of the tenant, with invitation by e-mail (a one-time link to set a password). */
-import { zodResolver } from "@hookform/resolvers/zod";
 import { useState } from "react";
-import { useForm } from "react-hook-form";
 import useSWR from "swr";
 import { z } from "zod";
 import type { SiteDto } from "@/lib/data/admin/sites";
@@ -14,6 +12,7 @@ import { fmtTime } from "@/lib/client/format";
 import { Field, FormAlert, INPUT_CLASS, SUBMIT_CLASS, useServerError } from "@/app/_components/form-field";
 import { ReasonDialog } from "@/app/_components/reason-dialog";
 import { MemberSites } from "./admin-member-sites";
+import { useZodForm } from "@/app/_components/use-zod-form";
 
 const inviteForm = z.object({ email: z.string().trim().email("Enter a valid e-mail address."), role: z.enum(ROLES) });
 
@@ -24,12 +23,7 @@ export function AdminUsers({ selfUserId }: { selfUserId: number }) {
   const [msg, setMsg] = useState<string | null>(null);
   const { error: err, attempt } = useServerError();
   const [pending, setPending] = useState<{ member: MemberDto; role: Role | null } | null>(null);
-  const {
-    register,
-    handleSubmit,
-    reset,
-    formState: { errors, isSubmitting },
-  } = useForm<z.infer<typeof inviteForm>>({ resolver: zodResolver(inviteForm), defaultValues: { email: "", role: "viewer" } });
+  const { register, handleSubmit, reset, formState: { errors, isSubmitting } } = useZodForm(inviteForm, { email: "", role: "viewer" });
   const invite = handleSubmit((v) =>
     attempt(async () => {
       setMsg(null);
