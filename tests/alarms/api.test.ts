@@ -6,13 +6,13 @@
  */
 import { QueryTypes } from "sequelize";
 import { afterAll, beforeAll, describe, expect, it, vi } from "vitest";
-import { publicOrigin } from "@/lib/config";
 import { setServerContext } from "@/lib/data/server-context";
 import type { Role } from "@/lib/domain/types";
 import { AlarmService } from "@/server/alarms/service";
 import { startMail, type MailService } from "@/server/mail";
 import { FakeClock, loopState, polesWithDecay, setUpAlarmDb, tempJournal, testContext } from "./helpers";
 import { signInAs } from "@/tests/helpers/guard-stand-in";
+import { jsonRequest } from "@/tests/helpers/json-request";
 
 vi.mock("@/lib/auth/guard", async () => (await import("@/tests/helpers/guard-stand-in")).guardStandIn());
 
@@ -39,16 +39,8 @@ let mail: MailService;
 
 const url = (p: string) => `http://127.0.0.1${p}`;
 const get = (path: string) => new Request(url(path));
-// Writes carry the console's Origin, as the browser sends it (lib/request-guard.ts).
-const json = () => ({ "content-type": "application/json", origin: publicOrigin() });
-const post = (path: string, body?: unknown) =>
-  new Request(url(path), {
-    method: "POST",
-    headers: json(),
-    body: body === undefined ? undefined : JSON.stringify(body),
-  });
-const put = (path: string, body: unknown) =>
-  new Request(url(path), { method: "PUT", headers: json(), body: JSON.stringify(body) });
+const post = (path: string, body?: unknown) => jsonRequest("POST", path, body);
+const put = (path: string, body: unknown) => jsonRequest("PUT", path, body);
 const policyStatus = async (path: string, body: unknown) => (await policies.PUT(put(path, body))).status;
 const p = (alarmId: number | string) => ({ params: Promise.resolve({ alarmId: String(alarmId) }) });
 const as = (role: Role | "outsider") => {
@@ -289,12 +281,7 @@ describe("alarm API", () => {
   it("a comment or reason that is not well-formed Unicode (a lone surrogate) is 422 before it reaches the journal", async () => {
     as("engineer");
     const alarm = svc.list(suite.fx.tenantId, {})[0]!;
-    const raw = (path: string, json: string) =>
-      new Request(url(path), {
-        method: "POST",
-        headers: { "content-type": "application/json", origin: publicOrigin() },
-        body: json,
-      });
+    const raw = (path: string, json: string) => jsonRequest("POST", path, json);
     const before = svc.get(suite.fx.tenantId, alarm.id);
     expect(before).not.toBeNull();
     for (const [route, json] of [

@@ -6,7 +6,7 @@
  */
 import { encode } from "next-auth/jwt";
 import { describe, expect, it, vi } from "vitest";
-import { getConfig, publicOrigin } from "@/lib/config";
+import { getConfig } from "@/lib/config";
 import { setSharedDb } from "@/lib/data/db/sequelize";
 import { setServerContext } from "@/lib/data/server-context";
 import type { Role, TenantContext } from "@/lib/domain/types";
@@ -15,6 +15,7 @@ import fs from "node:fs";
 import { QueryTypes } from "sequelize";
 import { FakeClock, loopState, polesWithDecay, tempJournal, testContext } from "./helpers";
 import { flushEventually, gateAnswer, retryAfterRestart, setUpOutageDb, startOutageService } from "./outage-db";
+import { jsonRequest } from "@/tests/helpers/json-request";
 
 const T0 = Date.UTC(2026, 5, 2, 22, 0, 0);
 const db = setUpOutageDb("rg_outage_routes");
@@ -60,12 +61,7 @@ describe("MariaDB outage, as routes and pages see it", () => {
       });
     const as = async (u: TenantContext | null) =>
       void (sessionCookie = u ? await cookieFor(u) : null);
-    const post = (body: unknown) =>
-      new Request("http://127.0.0.1/api/x", {
-        method: "POST",
-        headers: { "content-type": "application/json", origin: publicOrigin() },
-        body: JSON.stringify(body),
-      });
+    const post = (body: unknown) => jsonRequest("POST", "/api/x", body);
     const p = (id: number) => ({ params: Promise.resolve({ alarmId: String(id) }) });
     const roleOf = (r: Role) => db.fx.users[r];
     for (const r of ["operator", "engineer", "viewer"] as const)
