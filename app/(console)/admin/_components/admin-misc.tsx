@@ -8,9 +8,10 @@ import type { SiteDto } from "@/lib/data/admin/sites";
 import { ALARM_PRIORITIES } from "@/lib/domain/types";
 import { fetchJson, sendJson } from "@/lib/client/fetcher";
 import { fmtTime } from "@/lib/client/format";
-import { CheckField, Field, FormAlert, INPUT_CLASS, SUBMIT_CLASS, useServerError } from "@/app/_components/form-field";
+import { CheckField, Field, INPUT_CLASS, SUBMIT_CLASS, useServerError } from "@/app/_components/form-field";
 import { ReasonDialog } from "@/app/_components/reason-dialog";
 import { useZodForm } from "@/app/_components/use-zod-form";
+import { AdminCreateForm } from "./admin-create-form";
 
 const nullableInt = (v: unknown) => (v === "" || v === null || v === undefined ? null : Number(v));
 const ruleForm = z.object({
@@ -40,7 +41,7 @@ export function AdminRules() {
   );
   return (
     <section className="flex flex-col gap-3" aria-label="Notification rules" data-testid="admin-rules">
-      <form onSubmit={create} noValidate className="grid gap-3 rounded-md border border-line bg-surface p-3 md:grid-cols-4">
+      <AdminCreateForm onSubmit={create} submitting={isSubmitting} submitLabel="Add rule" error={err} layout="grid gap-3 md:grid-cols-4" submitClassName={`self-end ${SUBMIT_CLASS}`} alertClassName="md:col-span-4">
         <Field label="Rule name" error={errors.name}>
           <input {...register("name")} className={INPUT_CLASS} />
         </Field>
@@ -78,11 +79,7 @@ export function AdminRules() {
         <Field label="Change reason" error={errors.reason} className="md:col-span-3">
           <input {...register("reason")} className={INPUT_CLASS} />
         </Field>
-        <button type="submit" disabled={isSubmitting} className={`self-end ${SUBMIT_CLASS}`}>
-          Add rule
-        </button>
-        <FormAlert error={err} className="md:col-span-4" />
-      </form>
+      </AdminCreateForm>
       {error && <p className="text-sm text-urgent">{(error as Error).message}</p>}
       <ul className="flex flex-col gap-1 text-sm">
         {data?.rules.length === 0 && <li className="text-muted">No rules: nobody is e-mailed about alarms.</li>}
@@ -136,18 +133,14 @@ export function AdminSites() {
   );
   return (
     <section className="flex flex-col gap-3" aria-label="Sites and areas" data-testid="admin-sites">
-      <form onSubmit={create} noValidate className="flex flex-wrap items-end gap-3 rounded-md border border-line bg-surface p-3">
+      <AdminCreateForm onSubmit={create} submitting={isSubmitting} submitLabel="Add site" error={err}>
         <Field label="Site name" error={errors.name}>
           <input {...register("name")} className={INPUT_CLASS} />
         </Field>
         <Field label="Time zone" error={errors.timeZone}>
           <input {...register("timeZone")} className={INPUT_CLASS} />
         </Field>
-        <button type="submit" disabled={isSubmitting} className={SUBMIT_CLASS}>
-          Add site
-        </button>
-        <FormAlert error={err} />
-      </form>
+      </AdminCreateForm>
       {error && <p className="text-sm text-urgent">{(error as Error).message}</p>}
       <ul className="flex flex-col gap-2">
         {data?.sites.map((s) => (
