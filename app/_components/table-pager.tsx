@@ -1,7 +1,33 @@
 "use client";
 
-import type { Table } from "@tanstack/react-table";
-import type { ReactNode } from "react";
+import {
+  getCoreRowModel,
+  getFilteredRowModel,
+  getPaginationRowModel,
+  getSortedRowModel,
+  useReactTable,
+  type ColumnDef,
+  type SortingState,
+  type Table,
+} from "@tanstack/react-table";
+import { useState, type ReactNode } from "react";
+
+/** A client-side sorted, filtered and paged TanStack table, sorted by `initialSort` at first. */
+// eslint-disable-next-line @typescript-eslint/no-explicit-any -- column value types differ per column, as in useReactTable
+export function usePagedTable<T>(data: T[], columns: ColumnDef<T, any>[], pageSize: number, initialSort: SortingState = []): Table<T> {
+  const [sorting, setSorting] = useState<SortingState>(initialSort);
+  return useReactTable({
+    data,
+    columns,
+    state: { sorting },
+    onSortingChange: setSorting,
+    getCoreRowModel: getCoreRowModel(),
+    getSortedRowModel: getSortedRowModel(),
+    getFilteredRowModel: getFilteredRowModel(),
+    getPaginationRowModel: getPaginationRowModel(),
+    initialState: { pagination: { pageSize } },
+  });
+}
 
 /** The row under a paged TanStack table: previous, "page n of m" with a count, next. */
 export function TablePager<T>({ table, count }: { table: Table<T>; count: ReactNode }) {
