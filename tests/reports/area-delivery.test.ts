@@ -12,10 +12,9 @@ import { handoverDocument } from "@/lib/reports/document";
 import { parseShiftStarts, shiftAt } from "@/lib/reports/shifts";
 import type { ServerContext } from "@/server/context";
 import type { MailService } from "@/server/mail";
-import { startReports } from "@/server/reports";
 import { createFixture, FakeClock, type Fixture } from "../alarms/helpers";
 import { createTestDatabase, type TestDatabase } from "../setup/db";
-import { addMemberships, startMailContext } from "./delivery-fixture";
+import { addMemberships, startMailContext, tickSending } from "./delivery-fixture";
 
 let db: TestDatabase;
 let fx: Fixture;
@@ -88,9 +87,7 @@ describe("area-scoped handover delivery", () => {
   });
 
   it("each subscriber gets the handover of the area subscribed to, once", async () => {
-    const s = await startReports(ctx, { intervalMs: null });
-    expect(await s.tick()).toEqual({ sent: 3, skipped: 0, failed: 0 });
-    const box = await mail.waitForMessages(3);
+    const { scheduler: s, box } = await tickSending(ctx, mail, 3);
     const to = (email: string) => box.filter((m) => m.to.includes(email));
     expect(to(fx.users.operator.email).map((m) => m.subject)).toEqual([expect.stringContaining("Shift handover — North Works · Reactors")]);
     expect(to(fx.users.engineer.email).map((m) => m.subject)).toEqual([expect.stringContaining("Shift handover — North Works · Utilities")]);

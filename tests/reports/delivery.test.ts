@@ -13,7 +13,7 @@ import type { MailService } from "@/server/mail";
 import { startReports } from "@/server/reports";
 import { createFixture, FakeClock, type Fixture } from "../alarms/helpers";
 import { createTestDatabase, type TestDatabase } from "../setup/db";
-import { addMemberships, startMailContext } from "./delivery-fixture";
+import { addMemberships, startMailContext, tickSending } from "./delivery-fixture";
 
 let db: TestDatabase;
 let fx: Fixture;
@@ -48,10 +48,7 @@ afterAll(async () => {
 
 describe("scheduled report e-mails", () => {
   it("sends the ended shift's handover and last week's report once each, with the PDF attached, only to members", async () => {
-    const s = await startReports(ctx, { intervalMs: null });
-    const r = await s.tick();
-    expect(r).toEqual({ sent: 2, skipped: 0, failed: 0 });
-    const box = await mail.waitForMessages(2);
+    const { scheduler: s, box } = await tickSending(ctx, mail, 2);
     const handover = box.find((m) => m.headers["x-rimguard-report"] === "handover")!;
     expect(handover.to).toEqual([fx.users.operator.email]);
     expect(handover.subject).toContain("Shift handover");
