@@ -66,33 +66,25 @@ const mmm = <P extends string>(p: P) =>
     ReturnType<typeof num>
   >;
 
+/** The columns of SampleStats: key, SP/PV/MV statistics, the sample counts (their width and n's default per tier). */
+const sampleStatsColumns = (count: typeof DataTypes.SMALLINT.UNSIGNED | typeof DataTypes.INTEGER.UNSIGNED, nDefault: number) => ({
+  ...key(),
+  ...mmm("sp"),
+  ...mmm("pv"),
+  ...mmm("mv"),
+  n: { type: count, allowNull: false, defaultValue: nDefault },
+  badN: { type: count, allowNull: false, defaultValue: 0 },
+  uncertainN: { type: count, allowNull: false, defaultValue: 0 },
+});
+
 export function initHistoryModels(sequelize: Sequelize) {
   const common = { sequelize, underscored: true, timestamps: false } as const;
   Sample1s.init(
-    {
-      ...key(),
-      ...mmm("sp"),
-      ...mmm("pv"),
-      ...mmm("mv"),
-      mode: enumColumn(["auto", "manual", "cascade"], true),
-      n: { type: DataTypes.SMALLINT.UNSIGNED, allowNull: false, defaultValue: 1 },
-      badN: { type: DataTypes.SMALLINT.UNSIGNED, allowNull: false, defaultValue: 0 },
-      uncertainN: { type: DataTypes.SMALLINT.UNSIGNED, allowNull: false, defaultValue: 0 },
-    },
+    { ...sampleStatsColumns(DataTypes.SMALLINT.UNSIGNED, 1), mode: enumColumn(["auto", "manual", "cascade"], true) },
     { ...common, tableName: "samples_1s", modelName: "Sample1s" },
   );
   Sample1m.init(
-    {
-      ...key(),
-      ...mmm("sp"),
-      ...mmm("pv"),
-      ...mmm("mv"),
-      ...mmm("radius"),
-      manualFraction: num(true),
-      n: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false, defaultValue: 0 },
-      badN: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false, defaultValue: 0 },
-      uncertainN: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false, defaultValue: 0 },
-    },
+    { ...sampleStatsColumns(DataTypes.INTEGER.UNSIGNED, 0), ...mmm("radius"), manualFraction: num(true) },
     { ...common, tableName: "samples_1m", modelName: "Sample1m" },
   );
   PoleSnapshot.init(

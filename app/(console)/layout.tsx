@@ -1,6 +1,5 @@
 import { cookies } from "next/headers";
-import { redirect } from "next/navigation";
-import { getContextOrNull } from "@/lib/auth/guard";
+import { requirePageContext } from "@/app/(console)/_shell/page-context";
 import { listMemberships } from "@/lib/data/auth";
 import { DATABASE_UNAVAILABLE, isDatabaseUnavailable } from "@/lib/data/db/unavailable";
 import { parseTheme, THEME_COOKIE } from "@/lib/theme";
@@ -15,8 +14,7 @@ import { UserMenu } from "./_shell/user-menu";
 export const dynamic = "force-dynamic";
 
 export default async function ConsoleLayout({ children }: { children: React.ReactNode }) {
-  const ctx = await getContextOrNull();
-  if (!ctx) redirect("/signin");
+  const ctx = await requirePageContext();
   // During a database outage the guard answers from the last-known membership (ctx.membershipAsOf):
   // the console still opens (the alarm list works from memory), with the outage said at the top.
   const memberships = await listMemberships(ctx.userId).catch((err: unknown) => {

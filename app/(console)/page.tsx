@@ -1,12 +1,10 @@
-import { redirect } from "next/navigation";
 import { ControlRoom } from "@/app/_components/control-room";
-import { getContextOrNull } from "@/lib/auth/guard";
+import { pageMetadata, requirePageContext } from "@/app/(console)/_shell/page-context";
 
 export const dynamic = "force-dynamic";
-export const metadata = { title: "Control room · Rimguard" };
+export const metadata = pageMetadata("Control room");
 
 export default async function ControlRoomPage() {
-  const ctx = await getContextOrNull();
-  if (!ctx) redirect("/signin");
+  const ctx = await requirePageContext();
   return <ControlRoom role={ctx.role} />;
 }

@@ -14,41 +14,26 @@ import { findingPhrase, type RoutineBrief, type RoutineFindings } from "@/lib/do
 /** What a mark shows: the verdict, and where known its reason and evidence (tooltip). */
 export type MarkedFinding = Pick<RoutineBrief, "label" | "confidence" | "needsS"> & Partial<Pick<RoutineFindings, "reason" | "evidence">>;
 
-/** Outlined glyphs, 12×12, stroke only. */
+/**
+ * Outlined glyphs, 12×12, stroke only, one path each: healthy a ring; aggressive tuning a growing
+ * ring-down past the set point; sluggish a slow creep toward the line; stiction stick-slip (flat,
+ * jump, flat); an outside disturbance a wave arriving at a box; saturated pinned against a limit;
+ * a sensor fault a broken reading; manual an open square (the loop opened by hand).
+ */
+const GLYPH_PATHS: Record<DiagnosisLabel, string> = {
+  healthy: "M2 6 A4 4 0 1 0 10 6 A4 4 0 1 0 2 6",
+  "aggressive-tuning": "M1 6 Q2.5 1 4 6 T7 6 T10 6 L11 6",
+  "sluggish-tuning": "M1 10 Q4 10 6 7 T11 3",
+  "valve-stiction": "M1 9 H4 V3 H8 V9 H11",
+  "external-disturbance": "M6.5 2.5 H10.5 V9.5 H6.5 Z M1 6 Q2 3.5 3 6 T5 6",
+  saturated: "M1 10 L6 3 H11 M1 2 H11",
+  "sensor-fault": "M1 6 H4 M8 6 H11 M5 3 L7 9",
+  manual: "M3 3 H9 V9 H3 Z M6 3 V1",
+  undetermined: "M2 6 H3 M5.5 6 H6.5 M9 6 H10",
+};
+
 function Glyph({ label }: { label: DiagnosisLabel }) {
-  const p = { fill: "none", stroke: "currentColor", strokeWidth: 1.4, strokeLinejoin: "round" as const, strokeLinecap: "round" as const };
-  switch (label) {
-    case "healthy":
-      return <circle cx="6" cy="6" r="4" {...p} />;
-    case "aggressive-tuning":
-      // a growing ring-down: overshoot past the set point
-      return <path d="M1 6 Q2.5 1 4 6 T7 6 T10 6 L11 6" {...p} />;
-    case "sluggish-tuning":
-      // a slow creep toward the line
-      return <path d="M1 10 Q4 10 6 7 T11 3" {...p} />;
-    case "valve-stiction":
-      // stick-slip: flat, jump, flat
-      return <path d="M1 9 H4 V3 H8 V9 H11" {...p} />;
-    case "external-disturbance":
-      // a wave arriving from outside a box
-      return (
-        <g {...p}>
-          <rect x="6.5" y="2.5" width="4" height="7" />
-          <path d="M1 6 Q2 3.5 3 6 T5 6" />
-        </g>
-      );
-    case "saturated":
-      // pinned against a limit
-      return <path d="M1 10 L6 3 H11 M1 2 H11" {...p} />;
-    case "sensor-fault":
-      // a broken reading
-      return <path d="M1 6 H4 M8 6 H11 M5 3 L7 9" {...p} />;
-    case "manual":
-      // an open square (the loop is opened by hand)
-      return <path d="M3 3 H9 V9 H3 Z M6 3 V1" {...p} />;
-    case "undetermined":
-      return <path d="M2 6 H3 M5.5 6 H6.5 M9 6 H10" {...p} />;
-  }
+  return <path d={GLYPH_PATHS[label]} fill="none" stroke="currentColor" strokeWidth={1.4} strokeLinejoin="round" strokeLinecap="round" />;
 }
 
 function FindingMarkPlain({ finding, compact = false, big = false }: { finding: MarkedFinding | null | undefined; compact?: boolean; big?: boolean }) {

@@ -156,6 +156,13 @@ function FilterLabel({ label, children }: { label: string; children: ReactNode }
 
 export type FilterOption = string | { value: string; label: string };
 
+/** What every filter control takes: its label and a controlled string value. */
+interface FilterProps {
+  label: string;
+  value: string;
+  onChange: (v: string) => void;
+}
+
 /** A select whose empty value means "no filter" (worded `all` unless told otherwise). */
 export function FilterSelect({
   label,
@@ -163,13 +170,7 @@ export function FilterSelect({
   onChange,
   options,
   all = "all",
-}: {
-  label: string;
-  value: string;
-  onChange: (v: string) => void;
-  options: readonly FilterOption[];
-  all?: string;
-}) {
+}: FilterProps & { options: readonly FilterOption[]; all?: string }) {
   return (
     <FilterLabel label={label}>
       <select value={value} onChange={(e) => onChange(e.target.value)} className={FILTER_CLASS}>
@@ -194,13 +195,7 @@ export function FilterInput({
   onChange,
   placeholder,
   type = "text",
-}: {
-  label: string;
-  value: string;
-  onChange: (v: string) => void;
-  placeholder?: string;
-  type?: "text" | "search" | "datetime-local";
-}) {
+}: FilterProps & { placeholder?: string; type?: "text" | "search" | "datetime-local" }) {
   return (
     <FilterLabel label={label}>
       <input

@@ -6,7 +6,6 @@
  * required change reason (and optionally a name) sent to the server. A refusal from the server
  * is shown in the dialog and the typed words stay.
  */
-import { zodResolver } from "@hookform/resolvers/zod";
 import {
   useEffect,
   useId,
@@ -16,9 +15,9 @@ import {
   type KeyboardEvent,
   type ReactNode,
 } from "react";
-import { useForm } from "react-hook-form";
 import { z } from "zod";
 import { Field, FormAlert, INPUT_CLASS, SUBMIT_CLASS, useServerError } from "./form-field";
+import { useZodForm } from "@/app/_components/use-zod-form";
 
 const FOCUSABLE =
   'a[href], button:not([disabled]), input:not([disabled]), select:not([disabled]), textarea:not([disabled]), [tabindex]:not([tabindex="-1"])';
@@ -195,14 +194,7 @@ export function ReasonDialog({
       : z.string(),
     reason: reasonField,
   });
-  const {
-    register,
-    handleSubmit,
-    formState: { errors, isSubmitting },
-  } = useForm<z.infer<typeof schema>>({
-    resolver: zodResolver(schema),
-    defaultValues: { name: "", reason: "" },
-  });
+  const { register, handleSubmit, formState: { errors, isSubmitting } } = useZodForm(schema, { name: "", reason: "" });
   const submit = handleSubmit((v) =>
     attempt(async () => {
       await onConfirm({ reason: v.reason.trim(), name: v.name.trim() });

@@ -1,34 +1,57 @@
 "use client";
 
-import type { Table } from "@tanstack/react-table";
-import type { ReactNode } from "react";
+import {
+  getCoreRowModel,
+  getFilteredRowModel,
+  getPaginationRowModel,
+  getSortedRowModel,
+  useReactTable,
+  type ColumnDef,
+  type SortingState,
+  type Table,
+} from "@tanstack/react-table";
+import { useState, type ReactNode } from "react";
+
+/** A client-side sorted, filtered and paged TanStack table, sorted by `initialSort` at first. */
+// eslint-disable-next-line @typescript-eslint/no-explicit-any -- column value types differ per column, as in useReactTable
+export function usePagedTable<T>(data: T[], columns: ColumnDef<T, any>[], pageSize: number, initialSort: SortingState = []): Table<T> {
+  const [sorting, setSorting] = useState<SortingState>(initialSort);
+  return useReactTable({
+    data,
+    columns,
+    state: { sorting },
+    onSortingChange: setSorting,
+    getCoreRowModel: getCoreRowModel(),
+    getSortedRowModel: getSortedRowModel(),
+    getFilteredRowModel: getFilteredRowModel(),
+    getPaginationRowModel: getPaginationRowModel(),
+    initialState: { pagination: { pageSize } },
+  });
+}
 
 /** The row under a paged TanStack table: previous, "page n of m" with a count, next. */
 export function TablePager<T>({ table, count }: { table: Table<T>; count: ReactNode }) {
-  const btn = "rounded border border-line px-2 py-0.5 disabled:opacity-50";
   return (
     <div className="flex items-center gap-2 text-sm">
-      <button
-        type="button"
-        className={btn}
-        onClick={() => table.previousPage()}
-        disabled={!table.getCanPreviousPage()}
-      >
+      <PageButton onClick={() => table.previousPage()} disabled={!table.getCanPreviousPage()}>
         Previous
-      </button>
+      </PageButton>
       <span className="num">
         page {table.getState().pagination.pageIndex + 1} of {Math.max(1, table.getPageCount())} ·{" "}
         {count}
       </span>
-      <button
-        type="button"
-        className={btn}
-        onClick={() => table.nextPage()}
-        disabled={!table.getCanNextPage()}
-      >
+      <PageButton onClick={() => table.nextPage()} disabled={!table.getCanNextPage()}>
         Next
-      </button>
+      </PageButton>
     </div>
+  );
+}
+
+function PageButton({ onClick, disabled, children }: { onClick: () => void; disabled: boolean; children: ReactNode }) {
+  return (
+    <button type="button" className="rounded border border-line px-2 py-0.5 disabled:opacity-50" onClick={onClick} disabled={disabled}>
+      {children}
+    </button>
   );
 }
 

@@ -4,13 +4,13 @@
  * physically meaningful. Route handlers run against a real MariaDB with the session guard replaced
  * by a stand-in returning a chosen admin/engineer context (the guard has its own tests).
  */
-import { publicOrigin } from "@/lib/config";
 import { QueryTypes } from "sequelize";
 import { afterAll, beforeAll, describe, expect, it, vi } from "vitest";
 import type { TenantContext } from "@/lib/domain/types";
-import { createAuthFixture, type AuthFixture } from "../auth/fixture";
+import { createAuthFixture, fixtureContext, type AuthFixture } from "../auth/fixture";
 import { createTestDatabase, type TestDatabase } from "../setup/db";
 import { signInAs } from "@/tests/helpers/guard-stand-in";
+import { jsonRequest } from "@/tests/helpers/json-request";
 
 vi.mock("@/lib/auth/guard", async () => (await import("@/tests/helpers/guard-stand-in")).guardStandIn({ checkRole: false }));
 
@@ -32,12 +32,7 @@ let fx: AuthFixture;
 let admin: TenantContext;
 let ruleId: number;
 
-const req = (method: string, body: unknown) =>
-  new Request("http://127.0.0.1/api/x", {
-    method,
-    headers: { "content-type": "application/json", origin: publicOrigin() },
-    body: typeof body === "string" ? body : JSON.stringify(body),
-  });
+const req = (method: string, body: unknown) => jsonRequest(method, "/api/x", body);
 const ruleParams = (id: number) => ({ params: Promise.resolve({ ruleId: String(id) }) });
 const loopParams = (id: number) => ({ params: Promise.resolve({ loopId: String(id) }) });
 
@@ -74,16 +69,7 @@ const baseRule = {
 beforeAll(async () => {
   db = await createTestDatabase("cfgint", { asDefault: true });
   fx = await createAuthFixture(db.models);
-  const u = fx.a.users.admin;
-  admin = {
-    userId: u.id,
-    email: u.email,
-    name: "Admin",
-    tenantId: fx.a.id,
-    tenantSlug: fx.a.slug,
-    tenantName: fx.a.name,
-    role: "admin",
-  };
+  admin = fixtureContext(fx.a, "admin", "Admin");
   signInAs(admin);
   ruleId = (await createRule(admin, { ...baseRule, minPriority: "high", reason: "initial rule" }))
     .id;

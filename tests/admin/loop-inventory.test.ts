@@ -9,11 +9,11 @@
 import { execFileSync } from "node:child_process";
 import { QueryTypes } from "sequelize";
 import { afterAll, beforeAll, describe, expect, it, vi } from "vitest";
-import { publicOrigin } from "@/lib/config";
 import type { TenantContext } from "@/lib/domain/types";
-import { createAuthFixture, type AuthFixture } from "../auth/fixture";
+import { createAuthFixture, fixtureContext, type AuthFixture } from "../auth/fixture";
 import { createTestDatabase, type TestDatabase } from "../setup/db";
 import { signInAs } from "@/tests/helpers/guard-stand-in";
+import { jsonRequest } from "@/tests/helpers/json-request";
 
 vi.mock("@/lib/auth/guard", async () => (await import("@/tests/helpers/guard-stand-in")).guardStandIn({ checkRole: false }));
 
@@ -28,14 +28,7 @@ let fx: AuthFixture;
 let engA: TenantContext;
 let engB: TenantContext;
 
-const post = (body: unknown) =>
-  route.POST(
-    new Request("http://127.0.0.1/api/admin/loop-inventory", {
-      method: "POST",
-      headers: { "content-type": "application/json", origin: publicOrigin() },
-      body: JSON.stringify(body),
-    }),
-  );
+const post = (body: unknown) => route.POST(jsonRequest("POST", "/api/admin/loop-inventory", body));
 const exportCsv = async () => {
   const res = await route.GET();
   expect(res.status).toBe(200);
@@ -58,17 +51,8 @@ const HEADER = INVENTORY_COLUMNS.map((c) => c.name).join(",");
 beforeAll(async () => {
   db = await createTestDatabase("inv", { asDefault: true });
   fx = await createAuthFixture(db.models);
-  const ctx = (t: AuthFixture["a"]): TenantContext => ({
-    userId: t.users.engineer.id,
-    email: t.users.engineer.email,
-    name: "Engineer",
-    tenantId: t.id,
-    tenantSlug: t.slug,
-    tenantName: t.name,
-    role: "engineer",
-  });
-  engA = ctx(fx.a);
-  engB = ctx(fx.b);
+  engA = fixtureContext(fx.a, "engineer", "Engineer");
+  engB = fixtureContext(fx.b, "engineer", "Engineer");
   signInAs(engA);
 });
 afterAll(async () => {

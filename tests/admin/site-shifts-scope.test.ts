@@ -7,12 +7,12 @@
  */
 import { QueryTypes } from "sequelize";
 import { afterAll, beforeAll, describe, expect, it, vi } from "vitest";
-import { publicOrigin } from "@/lib/config";
 import type { TenantContext } from "@/lib/domain/types";
 import { resolveShift, siteShiftInfo } from "@/lib/reports/handover";
 import { shiftStartProblems } from "@/lib/reports/shifts";
 import { createFixture, type Fixture } from "../alarms/helpers";
 import { createTestDatabase, type TestDatabase } from "../setup/db";
+import { jsonRequest } from "@/tests/helpers/json-request";
 
 let current: TenantContext | null = null;
 vi.mock("@/lib/auth/guard", async () => (await import("@/tests/helpers/guard-stand-in")).guardStandIn({ currentUser: () => current }));
@@ -25,7 +25,7 @@ const usersRoute = await import("@/app/api/admin/users/route");
 let db: TestDatabase;
 let fx: Fixture;
 const url = (p: string) => `http://127.0.0.1${p}`;
-const put = (p: string, body: unknown) => new Request(url(p), { method: "PUT", headers: { "content-type": "application/json", origin: publicOrigin() }, body: JSON.stringify(body) });
+const put = (p: string, body: unknown) => jsonRequest("PUT", p, body);
 const params = <K extends string>(k: K, v: number) => ({ params: Promise.resolve({ [k]: String(v) } as Record<K, string>) });
 const putShifts = (siteId: number, body: unknown) => shiftsRoute.PUT(put(`/api/admin/sites/${siteId}/shifts`, body), params("siteId", siteId));
 

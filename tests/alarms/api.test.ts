@@ -6,23 +6,13 @@
  */
 import { QueryTypes } from "sequelize";
 import { afterAll, beforeAll, describe, expect, it, vi } from "vitest";
-import { publicOrigin } from "@/lib/config";
 import { setServerContext } from "@/lib/data/server-context";
 import type { Role } from "@/lib/domain/types";
 import { AlarmService } from "@/server/alarms/service";
 import { startMail, type MailService } from "@/server/mail";
-import { createTestDatabase, type TestDatabase } from "../setup/db";
-import {
-  createFixture,
-  FakeClock,
-  loopState,
-  polesWithDecay,
-  setTenantPolicy,
-  tempJournal,
-  testContext,
-  type Fixture,
-} from "./helpers";
+import { FakeClock, loopState, polesWithDecay, setUpAlarmDb, tempJournal, testContext } from "./helpers";
 import { signInAs } from "@/tests/helpers/guard-stand-in";
+import { jsonRequest } from "@/tests/helpers/json-request";
 
 vi.mock("@/lib/auth/guard", async () => (await import("@/tests/helpers/guard-stand-in")).guardStandIn());
 
@@ -38,41 +28,30 @@ const policies = await import("@/app/api/alarm-policies/route");
 const outbox = await import("@/app/api/outbox/route");
 
 const T0 = Date.UTC(2026, 3, 14, 9, 0, 0);
-let db: TestDatabase;
-let fx: Fixture;
+const suite = setUpAlarmDb("alarmapi", {
+    onDelayS: 0,
+    offDelayS: 0,
+    advisoryOnDelayS: 0,
+  });
 let svc: AlarmService;
 let clock: FakeClock;
 let mail: MailService;
 
 const url = (p: string) => `http://127.0.0.1${p}`;
 const get = (path: string) => new Request(url(path));
-// Writes carry the console's Origin, as the browser sends it (lib/request-guard.ts).
-const json = () => ({ "content-type": "application/json", origin: publicOrigin() });
-const post = (path: string, body?: unknown) =>
-  new Request(url(path), {
-    method: "POST",
-    headers: json(),
-    body: body === undefined ? undefined : JSON.stringify(body),
-  });
-const put = (path: string, body: unknown) =>
-  new Request(url(path), { method: "PUT", headers: json(), body: JSON.stringify(body) });
+const post = (path: string, body?: unknown) => jsonRequest("POST", path, body);
+const put = (path: string, body: unknown) => jsonRequest("PUT", path, body);
+const policyStatus = async (path: string, body: unknown) => (await policies.PUT(put(path, body))).status;
 const p = (alarmId: number | string) => ({ params: Promise.resolve({ alarmId: String(alarmId) }) });
 const as = (role: Role | "outsider") => {
-  signInAs(role === "outsider" ? fx.outsider : fx.users[role]);
+  signInAs(role === "outsider" ? suite.fx.outsider : suite.fx.users[role]);
 };
 
 beforeAll(async () => {
-  db = await createTestDatabase("alarmapi");
-  fx = await createFixture(db.models);
-  await setTenantPolicy(db.sequelize, fx.tenantId, {
-    onDelayS: 0,
-    offDelayS: 0,
-    advisoryOnDelayS: 0,
-  });
   clock = new FakeClock(T0);
   const ctx = testContext(clock);
   svc = await AlarmService.start(ctx, {
-    sequelize: db.sequelize,
+    sequelize: suite.db.sequelize,
     journalPath: tempJournal(),
     quiet: true,
   });
@@ -85,11 +64,10 @@ afterAll(async () => {
   setServerContext(null);
   await svc?.stop();
   await mail?.stop();
-  await db?.drop();
 });
 
 function marginId(): number {
-  return svc.list(fx.tenantId, { loopId: fx.loopId }).find((a) => a.condition === "margin")!.id;
+  return svc.list(suite.fx.tenantId, { loopId: suite.fx.loopId }).find((a) => a.condition === "margin")!.id;
 }
 
 describe("alarm API", () => {
@@ -97,7 +75,7 @@ describe("alarm API", () => {
     signInAs(null);
     expect((await list.GET(get("/api/alarms"))).status).toBe(401);
     as("viewer");
-    svc.onTrackerUpdate(loopState(fx.loopId, fx.tenantId, clock.now(), polesWithDecay(0.42)));
+    svc.onTrackerUpdate(loopState(suite.fx.loopId, suite.fx.tenantId, clock.now(), polesWithDecay(0.42)));
     const r = await list.GET(get("/api/alarms?state=unacknowledged"));
     expect(r.status).toBe(200);
     const body = (await r.json()) as {
@@ -120,7 +98,7 @@ describe("alarm API", () => {
     const other = (await (await list.GET(get("/api/alarms"))).json()) as {
       alarms: { tenantId: number }[];
     };
-    expect(other.alarms.every((a) => a.tenantId === fx.otherTenantId)).toBe(true);
+    expect(other.alarms.every((a) => a.tenantId === suite.fx.otherTenantId)).toBe(true);
   });
 
   it("role matrix: a viewer cannot acknowledge (403), an operator can; another tenant's alarm is 404", async () => {
@@ -205,48 +183,15 @@ describe("alarm API", () => {
   it("policies: an operator cannot change thresholds, an engineer cannot change tenant policy but can set a loop's; logged; effective at once", async () => {
     const settings = { decayRatio: { low: 0.3, high: 0.4 } };
     as("operator");
-    expect(
-      (
-        await policies.PUT(
-          put(`/api/alarm-policies?scope=loop&id=${fx.loopId}`, { settings, reason: "r" }),
-        )
-      ).status,
-    ).toBe(403);
+    expect(await policyStatus(`/api/alarm-policies?scope=loop&id=${suite.fx.loopId}`, { settings, reason: "r" })).toBe(403);
     as("engineer");
-    expect(
-      (await policies.PUT(put("/api/alarm-policies?scope=tenant", { settings, reason: "r" })))
-        .status,
-    ).toBe(403);
-    expect(
-      (
-        await policies.PUT(
-          put(`/api/alarm-policies?scope=site&id=${fx.siteId}`, { settings, reason: "r" }),
-        )
-      ).status,
-    ).toBe(403);
-    expect(
-      (await policies.PUT(put(`/api/alarm-policies?scope=loop&id=${fx.loopId}`, { settings })))
-        .status,
-    ).toBe(422);
-    expect(
-      (
-        await policies.PUT(
-          put(`/api/alarm-policies?scope=loop&id=${fx.loopId}`, {
-            settings: { decayRatio: { low: 0.5, high: 0.4 } },
-            reason: "r",
-          }),
-        )
-      ).status,
-    ).toBe(422);
-    expect(
-      (
-        await policies.PUT(
-          put(`/api/alarm-policies?scope=loop&id=${fx.otherLoopId}`, { settings, reason: "r" }),
-        )
-      ).status,
-    ).toBe(404);
+    expect(await policyStatus("/api/alarm-policies?scope=tenant", { settings, reason: "r" })).toBe(403);
+    expect(await policyStatus(`/api/alarm-policies?scope=site&id=${suite.fx.siteId}`, { settings, reason: "r" })).toBe(403);
+    expect(await policyStatus(`/api/alarm-policies?scope=loop&id=${suite.fx.loopId}`, { settings })).toBe(422);
+    expect(await policyStatus(`/api/alarm-policies?scope=loop&id=${suite.fx.loopId}`, { settings: { decayRatio: { low: 0.5, high: 0.4 } }, reason: "r" })).toBe(422);
+    expect(await policyStatus(`/api/alarm-policies?scope=loop&id=${suite.fx.otherLoopId}`, { settings, reason: "r" })).toBe(404);
     const ok = await policies.PUT(
-      put(`/api/alarm-policies?scope=loop&id=${fx.loopId}`, {
+      put(`/api/alarm-policies?scope=loop&id=${suite.fx.loopId}`, {
         settings: { ...settings, radius: { low: 0.95, high: 0.98 } },
         reason: "tighter after retune",
         mocReference: "MOC-2026-014",
@@ -265,7 +210,7 @@ describe("alarm API", () => {
       (e) => e.source === "radius" && e.priority === "high",
     )!;
     expect(r98.timeConstantS).toBeCloseTo(-1 / Math.log(0.98), 6);
-    const [log] = (await db.sequelize.query(
+    const [log] = (await suite.db.sequelize.query(
       "SELECT entity, reason, moc_reference, user_id FROM config_changes ORDER BY id DESC LIMIT 1",
       { type: QueryTypes.SELECT },
     )) as Record<string, unknown>[];
@@ -273,34 +218,16 @@ describe("alarm API", () => {
       entity: "alarm_policy",
       reason: "tighter after retune",
       moc_reference: "MOC-2026-014",
-      user_id: fx.users.engineer.userId,
+      user_id: suite.fx.users.engineer.userId,
     });
     // Effective without a restart: 0.45 is below the default high level 0.5 but above the new loop level 0.4.
-    svc.onTrackerUpdate(loopState(fx.loopId, fx.tenantId, clock.now(), polesWithDecay(0.45)));
+    svc.onTrackerUpdate(loopState(suite.fx.loopId, suite.fx.tenantId, clock.now(), polesWithDecay(0.45)));
     expect(
-      svc.list(fx.tenantId, { loopId: fx.loopId }).find((a) => a.condition === "margin")!.priority,
+      svc.list(suite.fx.tenantId, { loopId: suite.fx.loopId }).find((a) => a.condition === "margin")!.priority,
     ).toBe("high");
     as("admin");
-    expect(
-      (
-        await policies.PUT(
-          put("/api/alarm-policies?scope=tenant", {
-            settings: { onDelayS: 0, offDelayS: 0, radius: { low: 0.9, high: 0.95 } },
-            reason: "r",
-          }),
-        )
-      ).status,
-    ).toBe(422);
-    expect(
-      (
-        await policies.PUT(
-          put("/api/alarm-policies?scope=tenant", {
-            settings: { onDelayS: 0, offDelayS: 0, shelveMaxMinutes: 240 },
-            reason: "site review",
-          }),
-        )
-      ).status,
-    ).toBe(200);
+    expect(await policyStatus("/api/alarm-policies?scope=tenant", { settings: { onDelayS: 0, offDelayS: 0, radius: { low: 0.9, high: 0.95 } }, reason: "r" })).toBe(422);
+    expect(await policyStatus("/api/alarm-policies?scope=tenant", { settings: { onDelayS: 0, offDelayS: 0, shelveMaxMinutes: 240 }, reason: "site review" })).toBe(200);
     as("viewer");
     const g = (await (await policies.GET(get("/api/alarm-policies?scope=tenant"))).json()) as {
       settings: { shelveMaxMinutes: number };
@@ -316,13 +243,13 @@ describe("alarm API", () => {
       to: ["board@harrowgate.example"],
       subject: "mine",
       text: "x",
-      headers: { "X-Rimguard-Tenant": String(fx.tenantId) },
+      headers: { "X-Rimguard-Tenant": String(suite.fx.tenantId) },
     });
     await mail.send({
       to: ["ops@quillon.example"],
       subject: "theirs",
       text: "y",
-      headers: { "X-Rimguard-Tenant": String(fx.otherTenantId) },
+      headers: { "X-Rimguard-Tenant": String(suite.fx.otherTenantId) },
     });
     await mail.waitForMessages(2);
     as("engineer");
@@ -353,14 +280,9 @@ describe("alarm API", () => {
 
   it("a comment or reason that is not well-formed Unicode (a lone surrogate) is 422 before it reaches the journal", async () => {
     as("engineer");
-    const alarm = svc.list(fx.tenantId, {})[0]!;
-    const raw = (path: string, json: string) =>
-      new Request(url(path), {
-        method: "POST",
-        headers: { "content-type": "application/json", origin: publicOrigin() },
-        body: json,
-      });
-    const before = svc.get(fx.tenantId, alarm.id);
+    const alarm = svc.list(suite.fx.tenantId, {})[0]!;
+    const raw = (path: string, json: string) => jsonRequest("POST", path, json);
+    const before = svc.get(suite.fx.tenantId, alarm.id);
     expect(before).not.toBeNull();
     for (const [route, json] of [
       [ack, '{"comment":"seen \\ud800"}'],
@@ -371,6 +293,6 @@ describe("alarm API", () => {
       expect(res.status).toBe(422);
       expect(((await res.json()) as { error: string }).error).toMatch(/well-formed Unicode/);
     }
-    expect(svc.get(fx.tenantId, alarm.id)).toEqual(before);
+    expect(svc.get(suite.fx.tenantId, alarm.id)).toEqual(before);
   });
 });

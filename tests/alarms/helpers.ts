@@ -4,12 +4,14 @@ import fs from "node:fs";
 import os from "node:os";
 import path from "node:path";
 import type { Sequelize } from "sequelize";
-import { afterAll } from "vitest";
+import { afterAll, beforeAll } from "vitest";
 import { getConfig } from "@/lib/config";
 import type { LoopStateDto, PoleDto, Role, TenantContext } from "@/lib/domain/types";
 import { AlarmService } from "@/server/alarms/service";
 import { Bus, type Clock, type ServerContext } from "@/server/context";
 import type { Models } from "@/models";
+import { lateBound } from "../helpers/late-bound";
+import { createTestDatabase, type TestDatabase } from "../setup/db";
 
 export class FakeClock implements Clock {
   private timers: { id: number; at: number; fn: () => void; every: number | null }[] = [];
@@ -164,4 +166,27 @@ export function loopState(loopId: number, tenantId: number, at: number, poles: P
     polesFrom: poles.length ? "model" : null,
     ...over,
   };
+}
+
+export interface AlarmDb {
+  readonly db: TestDatabase;
+  readonly fx: Fixture;
+}
+
+/**
+ * Registers the hooks that create a test database `name` with the alarm fixture and the tenant
+ * policy `policy` before the file's own hooks, and drop it after them.
+ */
+export function setUpAlarmDb(name: string, policy: object): AlarmDb {
+  let db: TestDatabase | undefined;
+  let fx: Fixture | undefined;
+  beforeAll(async () => {
+    db = await createTestDatabase(name);
+    fx = await createFixture(db.models);
+    await setTenantPolicy(db.sequelize, fx.tenantId, policy);
+  });
+  afterAll(async () => {
+    await db?.drop();
+  });
+  return lateBound<AlarmDb>(`alarm test database ${name}`, () => ({ db, fx }));
 }

@@ -7,34 +7,24 @@
  * a new announcement; normal evidence clears them only after the policy's off-delay.
  */
 import { QueryTypes } from "sequelize";
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { describe, expect, it } from "vitest";
 import type { AlarmDto, LoopStateDto } from "@/lib/domain/types";
 import type { AlarmService } from "@/server/alarms/service";
 import type { ServerContext } from "@/server/context";
-import { createTestDatabase, type TestDatabase } from "../setup/db";
-import { createFixture, FakeClock, loopState, pole, polesWithDecay, setTenantPolicy, startAlarmService, tempJournal, type Fixture } from "./helpers";
+import { FakeClock, loopState, pole, polesWithDecay, startAlarmService, tempJournal, setUpAlarmDb } from "./helpers";
 
 const T0 = Date.UTC(2026, 10, 20, 22, 0, 0);
 const OFF_DELAY_S = 3600;
-let db: TestDatabase;
-let fx: Fixture;
+const suite = setUpAlarmDb("alarmrestart", { onDelayS: 60, offDelayS: OFF_DELAY_S, advisoryOnDelayS: 60, shelveMaxMinutes: 480, enabled: { sluggish: true } }); // `sluggish` is off by default (a work-list finding)
 
-beforeAll(async () => {
-  db = await createTestDatabase("alarmrestart");
-  fx = await createFixture(db.models);
-  await setTenantPolicy(db.sequelize, fx.tenantId, { onDelayS: 60, offDelayS: OFF_DELAY_S, advisoryOnDelayS: 60, shelveMaxMinutes: 480, enabled: { sluggish: true } }); // `sluggish` is off by default (a work-list finding)
-});
-afterAll(async () => {
-  await db?.drop();
-});
 
-const start = (clock: FakeClock, journalPath: string, ctx?: ServerContext) => startAlarmService(db.sequelize, clock, journalPath, ctx);
-const byCondition = (svc: AlarmService, c: string): AlarmDto => svc.list(fx.tenantId, { loopId: fx.loopId }).find((a) => a.condition === c)!;
+const start = (clock: FakeClock, journalPath: string, ctx?: ServerContext) => startAlarmService(suite.db.sequelize, clock, journalPath, ctx);
+const byCondition = (svc: AlarmService, c: string): AlarmDto => svc.list(suite.fx.tenantId, { loopId: suite.fx.loopId }).find((a) => a.condition === c)!;
 /** An oscillating pair at decay ratio 0.6 (margin, high) and a slow real pole (sluggish). */
-const inAlarm = (at: number) => loopState(fx.loopId, fx.tenantId, at, [...polesWithDecay(0.6), pole(0.998, 0)]);
-const normal = (at: number) => loopState(fx.loopId, fx.tenantId, at, polesWithDecay(0.05));
+const inAlarm = (at: number) => loopState(suite.fx.loopId, suite.fx.tenantId, at, [...polesWithDecay(0.6), pole(0.998, 0)]);
+const normal = (at: number) => loopState(suite.fx.loopId, suite.fx.tenantId, at, polesWithDecay(0.05));
 const noEstimate = (at: number, over: Partial<LoopStateDto>): LoopStateDto =>
-  ({ ...loopState(fx.loopId, fx.tenantId, at, [pole(0, 0)]), modelPoles: [], dataPoles: [], spectralRadius: null, rimDistance: null, juryStable: null, ...over });
+  ({ ...loopState(suite.fx.loopId, suite.fx.tenantId, at, [pole(0, 0)]), modelPoles: [], dataPoles: [], spectralRadius: null, rimDistance: null, juryStable: null, ...over });
 
 describe("alarms across a restart", () => {
   it("keep acknowledged and shelved alarms active until trusted evidence has lasted the off-delay", async () => {
@@ -50,10 +40,10 @@ describe("alarms across a restart", () => {
     const sluggish = byCondition(first.svc, "sluggish");
     expect(margin).toMatchObject({ state: "unacknowledged", active: true, priority: "high" });
     expect(sluggish).toMatchObject({ state: "unacknowledged", active: true });
-    first.svc.acknowledge(fx.users.operator, margin.id, null);
+    first.svc.acknowledge(suite.fx.users.operator, margin.id, null);
     await first.svc.flush(); // the acknowledgement reaches MariaDB...
     first.svc.writer.stop(); // ...the shelve only the journal: then the process dies (no stop()).
-    first.svc.shelve(fx.users.operator, sluggish.id, 300, "valve overhaul under permit 41");
+    first.svc.shelve(suite.fx.users.operator, sluggish.id, 300, "valve overhaul under permit 41");
     first.svc.notifier.stop();
 
     // --- after the restart.
@@ -105,8 +95,8 @@ describe("alarms across a restart", () => {
     expect(events.every((e) => e.state !== "unacknowledged")).toBe(true);
 
     await second.svc.flush();
-    const rows = (await db.sequelize.query("SELECT `condition`, state, active FROM alarms WHERE loop_id = ? ORDER BY `condition`", {
-      replacements: [fx.loopId],
+    const rows = (await suite.db.sequelize.query("SELECT `condition`, state, active FROM alarms WHERE loop_id = ? ORDER BY `condition`", {
+      replacements: [suite.fx.loopId],
       type: QueryTypes.SELECT,
     })) as { condition: string; state: string; active: number }[];
     expect(rows.find((r) => r.condition === "margin")).toMatchObject({ state: "normal", active: 0 });

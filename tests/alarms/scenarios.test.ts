@@ -5,7 +5,7 @@
  * which the product never sees.
  */
 import path from "node:path";
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { describe, expect, it } from "vitest";
 import { DEMO_LOOPS, DEMO_PLANTS, DEMO_TENANT_POLICY } from "@/lib/seed/demo";
 import type { AlarmDto } from "@/lib/domain/types";
 import { AlarmService } from "@/server/alarms/service";
@@ -14,30 +14,20 @@ import type { LoopConfig } from "@/server/tracking/types";
 import { buildFleet } from "@/simulators/fleet";
 import { LoopSim, trueClosedLoopPoles } from "@/simulators/loop-sim";
 import { activitySchema, controllerSpecSchema, loadScenario } from "@/simulators/scenario";
-import { createTestDatabase, type TestDatabase } from "../setup/db";
 import { trackerConfigFor } from "../tracking/helpers";
 import { demoTrackerConfig } from "../tracking/demo-harness";
-import { createFixture, FakeClock, setTenantPolicy, tempJournal, testContext, type Fixture } from "./helpers";
+import { FakeClock, tempJournal, testContext, setUpAlarmDb } from "./helpers";
 
 const T0 = Date.UTC(2026, 6, 1, 12, 0, 0);
-let db: TestDatabase;
-let fx: Fixture;
+const suite = setUpAlarmDb("alarmsim", DEMO_TENANT_POLICY);
 
-beforeAll(async () => {
-  db = await createTestDatabase("alarmsim");
-  fx = await createFixture(db.models);
-  await setTenantPolicy(db.sequelize, fx.tenantId, DEMO_TENANT_POLICY);
-});
-afterAll(async () => {
-  await db?.drop();
-});
 
 async function insertLoop(tag: string, estimationPeriodS: number, baselineS: number | null): Promise<number> {
-  const [id] = (await db.sequelize.query(
+  const [id] = (await suite.db.sequelize.query(
     `INSERT INTO loops (tenant_id, site_id, area_id, tag, slug, kind, units, pv_lo, pv_hi, telemetry_period_s, controller_period_s,
       gain_value, ti_value, estimation_period_s, baseline_time_constant_s, created_at, updated_at)
      VALUES (?,?,?,?,?, 'flow', 'u', 0, 100, 1, 1, 1, 10, ?, ?, UTC_TIMESTAMP(3), UTC_TIMESTAMP(3))`,
-    { replacements: [fx.tenantId, fx.siteId, fx.areaId, tag, tag.toLowerCase().replace(/[^a-z0-9]+/g, "-"), estimationPeriodS, baselineS] },
+    { replacements: [suite.fx.tenantId, suite.fx.siteId, suite.fx.areaId, tag, tag.toLowerCase().replace(/[^a-z0-9]+/g, "-"), estimationPeriodS, baselineS] },
   )) as unknown as [number];
   return Number(id);
 }
@@ -69,8 +59,8 @@ describe("alarms on simulated plants", () => {
     const [sim] = buildFleet({ scenario: { ...sc, loops: sc.loops.map((l) => ({ ...l, drift: [creep] })) }, seed: sc.seed ?? 1 });
     const clock = new FakeClock(T0);
     const ctx = testContext(clock);
-    const svc = await AlarmService.start(ctx, { sequelize: db.sequelize, journalPath: tempJournal(), quiet: true });
-    const cfg: LoopConfig = { ...trackerConfigFor(sim!, fx.loopId), tenantId: fx.tenantId, siteId: fx.siteId };
+    const svc = await AlarmService.start(ctx, { sequelize: suite.db.sequelize, journalPath: tempJournal(), quiet: true });
+    const cfg: LoopConfig = { ...trackerConfigFor(sim!, suite.fx.loopId), tenantId: suite.fx.tenantId, siteId: suite.fx.siteId };
     const reg = new TrackerRegistry(ctx, [cfg]);
     const critical = sim!.criticalGainFactor();
     let firstMargin: { t: number; gain: number; trueRadius: number } | null = null;
@@ -82,7 +72,7 @@ describe("alarms on simulated plants", () => {
       if (a.condition === "margin" && a.state === "unacknowledged" && !firstMargin) firstMargin = { t: tS, gain: sim!.gainFactor(), trueRadius };
       if (a.condition === "unstable" && a.state === "unacknowledged" && firstUnstable == null) firstUnstable = tS;
     });
-    run([{ sim: sim!, id: fx.loopId }], reg, clock, 600 + 1800 + 300, (tS) => {
+    run([{ sim: sim!, id: suite.fx.loopId }], reg, clock, 600 + 1800 + 300, (tS) => {
       if (trueUnstableAt == null && sim!.gainFactor() >= critical) trueUnstableAt = tS;
     });
     if (process.env.RG_DEBUG) console.log("gain-creep", JSON.stringify({ firstMargin, firstUnstable, trueUnstableAt, critical }));
@@ -126,11 +116,11 @@ describe("alarms on simulated plants", () => {
         seed: 9100 + i,
       });
       sims.push({ sim, id });
-      configs.push(demoTrackerConfig(l.tag, id, { tenantId: fx.tenantId, siteId: fx.siteId, tag: `H-${l.tag}` }));
+      configs.push(demoTrackerConfig(l.tag, id, { tenantId: suite.fx.tenantId, siteId: suite.fx.siteId, tag: `H-${l.tag}` }));
     }
     const clock = new FakeClock(T0);
     const ctx = testContext(clock);
-    const svc = await AlarmService.start(ctx, { sequelize: db.sequelize, journalPath: tempJournal(), quiet: true });
+    const svc = await AlarmService.start(ctx, { sequelize: suite.db.sequelize, journalPath: tempJournal(), quiet: true });
     const reg = new TrackerRegistry(ctx, configs);
     expect(reg.rejected.size).toBe(0);
     const raised: { condition: string; text: string }[] = [];

@@ -5,7 +5,7 @@
  */
 import bcrypt from "bcryptjs";
 import type { Models } from "@/models";
-import { ROLES, type Role } from "@/lib/domain/types";
+import { ROLES, type Role, type TenantContext } from "@/lib/domain/types";
 import { testLoopRow } from "@/tests/helpers/loop-row";
 
 export const FIXTURE_PASSWORD = "fixture-pass-7319";
@@ -58,4 +58,10 @@ export async function createAuthFixture(m: Models): Promise<AuthFixture> {
   await m.Membership.create({ userId: u.id, tenantId: a.id, role: "engineer" });
   await m.Membership.create({ userId: u.id, tenantId: b.id, role: "viewer" });
   return { a, b, both: { id: u.id, email: "both@shared.example" } };
+}
+
+/** The tenant context of the fixture tenant's user in `role` (what the session guard would return). */
+export function fixtureContext(t: FixtureTenant, role: Role, name: string): TenantContext {
+  const u = t.users[role];
+  return { userId: u.id, email: u.email, name, tenantId: t.id, tenantSlug: t.slug, tenantName: t.name, role };
 }

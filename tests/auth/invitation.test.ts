@@ -9,31 +9,25 @@
 import { createHash } from "node:crypto";
 import net from "node:net";
 import { QueryTypes } from "sequelize";
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { beforeAll, describe, expect, it } from "vitest";
 import { acceptInvitation, acceptInvitationAsUser, describeInvitation, INVITATION_TTL_MS } from "@/lib/data/admin/users";
 import { mailOf } from "@/server/mail";
-import { startTestServer, type TestServer } from "../setup/server";
-import { createAuthFixture, FIXTURE_PASSWORD, type AuthFixture } from "./fixture";
+import { setUpServerSuite } from "../helpers/server-suite";
+import { FIXTURE_PASSWORD } from "./fixture";
 import { authedFetch, sessionOf, signIn, type CookieJar } from "./helpers";
 
-let srv: TestServer;
-let fx: AuthFixture;
+const suite = setUpServerSuite({ seed: false });
 let adminA: CookieJar;
 
 beforeAll(async () => {
-  srv = await startTestServer({ seed: false });
-  fx = await createAuthFixture(srv.db.models);
-  adminA = await sessionOf(srv.url, fx.a.users.admin.email);
-});
-afterAll(async () => {
-  await srv?.stop();
+  adminA = await sessionOf(suite.srv.url, suite.fx.a.users.admin.email);
 });
 
 /** Invite as A's admin through the API; returns the one-time token the sink received. */
 async function invite(email: string, role = "admin"): Promise<string> {
-  const mail = mailOf(srv.server.ctx)!;
+  const mail = mailOf(suite.srv.server.ctx)!;
   const before = mail.outbox().length;
-  const res = await authedFetch(srv.url, adminA, "/api/admin/users", {
+  const res = await authedFetch(suite.srv.url, adminA, "/api/admin/users", {
     method: "POST",
     headers: { "content-type": "application/json" },
     body: JSON.stringify({ email, role }),
@@ -46,7 +40,7 @@ async function invite(email: string, role = "admin"): Promise<string> {
 }
 
 async function passwordHashOf(userId: number): Promise<string> {
-  const [row] = await srv.db.sequelize.query<{ password_hash: string }>("SELECT password_hash FROM users WHERE id = ?", {
+  const [row] = await suite.srv.db.sequelize.query<{ password_hash: string }>("SELECT password_hash FROM users WHERE id = ?", {
     replacements: [userId],
     type: QueryTypes.SELECT,
   });
@@ -54,7 +48,7 @@ async function passwordHashOf(userId: number): Promise<string> {
 }
 
 async function membershipsOf(userId: number): Promise<number[]> {
-  const rows = await srv.db.sequelize.query<{ tenant_id: number }>("SELECT tenant_id FROM memberships WHERE user_id = ? ORDER BY tenant_id", {
+  const rows = await suite.srv.db.sequelize.query<{ tenant_id: number }>("SELECT tenant_id FROM memberships WHERE user_id = ? ORDER BY tenant_id", {
     replacements: [userId],
     type: QueryTypes.SELECT,
   });
@@ -63,12 +57,12 @@ async function membershipsOf(userId: number): Promise<number[]> {
 
 describe("an invitation to an existing account of another tenant", () => {
   it("cannot set the victim's password: the victim keeps it and the inviter gets no access", async () => {
-    const victim = fx.b.users.operator;
+    const victim = suite.fx.b.users.operator;
     const hashBefore = await passwordHashOf(victim.id);
     const token = await invite(victim.email);
 
     // The inviter holds the link and opens it signed out: no password form, only "sign in as".
-    const page = await fetch(`${srv.url}/invite/${token}`);
+    const page = await fetch(`${suite.srv.url}/invite/${token}`);
     expect(page.status).toBe(200);
     const html = await page.text();
     expect(html).toContain("Sign in as");
@@ -78,27 +72,27 @@ describe("an invitation to an existing account of another tenant", () => {
     await expect(acceptInvitation(token, { name: "Mallory", password: "attacker-chosen-password" })).rejects.toMatchObject({ status: 409 });
     // ... so the victim's password is unchanged and still works; the inviter's does not.
     expect(await passwordHashOf(victim.id)).toBe(hashBefore);
-    expect((await signIn(srv.url, victim.email, FIXTURE_PASSWORD)).session).toBeTruthy();
-    expect((await signIn(srv.url, victim.email, "attacker-chosen-password")).session).toBeNull();
+    expect((await signIn(suite.srv.url, victim.email, FIXTURE_PASSWORD)).session).toBeTruthy();
+    expect((await signIn(suite.srv.url, victim.email, "attacker-chosen-password")).session).toBeNull();
     // No membership in A was added, and the token is still unused (its owner may still accept).
-    expect(await membershipsOf(victim.id)).toEqual([fx.b.id]);
+    expect(await membershipsOf(victim.id)).toEqual([suite.fx.b.id]);
     expect(await describeInvitation(token)).toMatchObject({ email: victim.email, existingAccount: true });
 
     // Another signed-in user cannot accept it for the victim.
-    await expect(acceptInvitationAsUser(token, fx.a.users.viewer.id)).rejects.toMatchObject({ status: 403 });
-    expect(await membershipsOf(fx.a.users.viewer.id)).toEqual([fx.a.id]);
+    await expect(acceptInvitationAsUser(token, suite.fx.a.users.viewer.id)).rejects.toMatchObject({ status: 403 });
+    expect(await membershipsOf(suite.fx.a.users.viewer.id)).toEqual([suite.fx.a.id]);
   });
 
   it("the invited user accepts by signing in as that account; the token works once", async () => {
-    const invitee = fx.b.users.engineer;
+    const invitee = suite.fx.b.users.engineer;
     const hashBefore = await passwordHashOf(invitee.id);
     const token = await invite(invitee.email, "viewer");
-    const jar = (await signIn(srv.url, invitee.email, FIXTURE_PASSWORD)).jar;
-    const page = await authedFetch(srv.url, jar, `/invite/${token}`);
+    const jar = (await signIn(suite.srv.url, invitee.email, FIXTURE_PASSWORD)).jar;
+    const page = await authedFetch(suite.srv.url, jar, `/invite/${token}`);
     expect(await page.text()).toContain("Accept invitation");
 
     await acceptInvitationAsUser(token, invitee.id);
-    expect(await membershipsOf(invitee.id)).toEqual([fx.a.id, fx.b.id].sort((x, y) => x - y));
+    expect(await membershipsOf(invitee.id)).toEqual([suite.fx.a.id, suite.fx.b.id].sort((x, y) => x - y));
     expect(await passwordHashOf(invitee.id)).toBe(hashBefore);
     await expect(acceptInvitationAsUser(token, invitee.id)).rejects.toMatchObject({ status: 404 });
     expect(await describeInvitation(token)).toBeNull();
@@ -108,7 +102,7 @@ describe("an invitation to an existing account of another tenant", () => {
 describe("invitation tokens", () => {
   it("are stored as SHA-256 only, and a new address sets its password once", async () => {
     const token = await invite("fresh.hand@brackwater.example", "operator");
-    const rows = await srv.db.sequelize.query<{ token_hash: string }>("SELECT token_hash FROM invitations WHERE email = ?", {
+    const rows = await suite.srv.db.sequelize.query<{ token_hash: string }>("SELECT token_hash FROM invitations WHERE email = ?", {
       replacements: ["fresh.hand@brackwater.example"],
       type: QueryTypes.SELECT,
     });
@@ -116,7 +110,7 @@ describe("invitation tokens", () => {
     expect(JSON.stringify(rows)).not.toContain(token);
 
     await acceptInvitation(token, { name: "Fresh Hand", password: "a long enough password" });
-    expect((await signIn(srv.url, "fresh.hand@brackwater.example", "a long enough password")).session).toBeTruthy();
+    expect((await signIn(suite.srv.url, "fresh.hand@brackwater.example", "a long enough password")).session).toBeTruthy();
     await expect(acceptInvitation(token, { name: "Again", password: "another long password" })).rejects.toMatchObject({ status: 404 });
   });
 
@@ -125,7 +119,7 @@ describe("invitation tokens", () => {
     const later = Date.now() + INVITATION_TTL_MS + 60_000;
     expect(await describeInvitation(token, later)).toBeNull();
     await expect(acceptInvitation(token, { name: "Late", password: "a long enough password" }, later)).rejects.toMatchObject({ status: 404 });
-    const users = await srv.db.models.User.count({ where: { email: "late.comer@brackwater.example" } });
+    const users = await suite.srv.db.models.User.count({ where: { email: "late.comer@brackwater.example" } });
     expect(users).toBe(0);
   });
 });
@@ -150,17 +144,17 @@ function rawSmtp(port: number, lines: string[]): Promise<void> {
 describe("the demo outbox", () => {
   it("shows an admin only the mail their tenant sent, with the one-time link withheld", async () => {
     const token = await invite("outbox.check@quillon.example", "viewer");
-    const mail = mailOf(srv.server.ctx)!;
+    const mail = mailOf(suite.srv.server.ctx)!;
     // A message that claims to be tenant B's but did not come from this process.
-    await rawSmtp(mail.sinkPort!, ["Subject: forged for B", `X-Rimguard-Tenant: ${fx.b.id}`, "", "forged body"]);
+    await rawSmtp(mail.sinkPort!, ["Subject: forged for B", `X-Rimguard-Tenant: ${suite.fx.b.id}`, "", "forged body"]);
 
-    const a = (await (await authedFetch(srv.url, adminA, "/api/outbox")).json()) as { messages: { to: string[]; subject: string; text: string }[] };
+    const a = (await (await authedFetch(suite.srv.url, adminA, "/api/outbox")).json()) as { messages: { to: string[]; subject: string; text: string }[] };
     const mine = a.messages.find((m) => m.to.includes("outbox.check@quillon.example"));
     expect(mine?.text).toContain("link withheld");
     expect(JSON.stringify(a.messages)).not.toContain(token);
 
-    const adminB = (await signIn(srv.url, fx.b.users.admin.email, FIXTURE_PASSWORD)).jar;
-    const b = (await (await authedFetch(srv.url, adminB, "/api/outbox")).json()) as { messages: { subject: string; to: string[] }[] };
+    const adminB = (await signIn(suite.srv.url, suite.fx.b.users.admin.email, FIXTURE_PASSWORD)).jar;
+    const b = (await (await authedFetch(suite.srv.url, adminB, "/api/outbox")).json()) as { messages: { subject: string; to: string[] }[] };
     expect(b.messages.map((m) => m.subject)).not.toContain("forged for B");
     expect(b.messages.some((m) => m.to.includes("outbox.check@quillon.example"))).toBe(false);
     expect(mail.outbox().some((m) => m.subject === "forged for B")).toBe(true);

@@ -8,28 +8,21 @@
  * Sec-Fetch-Site values: W3C Fetch Metadata Request Headers.
  */
 import http from "node:http";
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { beforeAll, describe, expect, it } from "vitest";
 import { configSchema, publicOrigin } from "@/lib/config";
 import { BODY_LIMITS } from "@/lib/request-guard";
-import { startTestServer, type TestServer } from "../setup/server";
-import { createAuthFixture, type AuthFixture } from "./fixture";
+import { setUpServerSuite } from "../helpers/server-suite";
 import { authedFetch, sessionOf, type CookieJar } from "./helpers";
 import { ROUTES, type RouteCase } from "./route-matrix";
 
-let srv: TestServer;
-let fx: AuthFixture;
+const suite = setUpServerSuite({ seed: false });
 let admin: CookieJar;
 
 beforeAll(async () => {
-  srv = await startTestServer({ seed: false });
-  fx = await createAuthFixture(srv.db.models);
-  admin = await sessionOf(srv.url, fx.a.users.admin.email);
-});
-afterAll(async () => {
-  await srv?.stop();
+  admin = await sessionOf(suite.srv.url, suite.fx.a.users.admin.email);
 });
 
-const fill = (p: string) => p.replaceAll(":loopId", String(fx.a.loopId)).replaceAll(":siteId", String(fx.a.siteId)).replaceAll(":none", "999999");
+const fill = (p: string) => p.replaceAll(":loopId", String(suite.fx.a.loopId)).replaceAll(":siteId", String(suite.fx.a.siteId)).replaceAll(":none", "999999");
 
 const WRITES: Pick<RouteCase, "method" | "path" | "body">[] = [
   ...ROUTES.filter((c) => c.method !== "GET"),
@@ -37,7 +30,7 @@ const WRITES: Pick<RouteCase, "method" | "path" | "body">[] = [
 ];
 
 function send(c: Pick<RouteCase, "method" | "path" | "body">, headers: Record<string, string>, contentType = "application/json") {
-  return authedFetch(srv.url, admin, fill(c.path), {
+  return authedFetch(suite.srv.url, admin, fill(c.path), {
     method: c.method,
     headers: { "content-type": contentType, ...headers },
     body: JSON.stringify(c.body ?? {}),
@@ -51,8 +44,8 @@ describe("state-changing routes refuse forged requests", () => {
 
   for (const c of WRITES) {
     it(`${c.method} ${c.path}: 403 for a foreign, missing or cross-site Origin; 415 for text/plain`, async () => {
-      const otherPort = new URL(srv.url);
-      otherPort.port = String(srv.port === 65535 ? 1 : srv.port + 1);
+      const otherPort = new URL(suite.srv.url);
+      otherPort.port = String(suite.srv.port === 65535 ? 1 : suite.srv.port + 1);
       const foreign = await send(c, { origin: otherPort.origin });
       const foreignBody = `${foreign.status} ${await foreign.text()}`;
       expect(foreign.status, foreignBody).toBe(403);
@@ -60,28 +53,28 @@ describe("state-changing routes refuse forged requests", () => {
 
       const missing = await send(c, { origin: "" });
       expect(missing.status).toBe(403);
-      const crossSite = await send(c, { origin: srv.url, "sec-fetch-site": "same-site" });
+      const crossSite = await send(c, { origin: suite.srv.url, "sec-fetch-site": "same-site" });
       expect(crossSite.status).toBe(403);
 
-      const plain = await send(c, { origin: srv.url }, "text/plain;charset=UTF-8");
+      const plain = await send(c, { origin: suite.srv.url }, "text/plain;charset=UTF-8");
       expect(plain.status, await plain.text()).toBe(415);
     });
   }
 
   it("a forged write changes nothing: no site is created, and the session survives a forged sign-out-everywhere", async () => {
-    const before = ((await (await authedFetch(srv.url, admin, "/api/admin/sites")).json()) as { sites: unknown[] }).sites.length;
+    const before = ((await (await authedFetch(suite.srv.url, admin, "/api/admin/sites")).json()) as { sites: unknown[] }).sites.length;
     const body = JSON.stringify({ name: "Forged Site", timeZone: "UTC", reason: "forged" });
-    const forged = await authedFetch(srv.url, admin, "/api/admin/sites", { method: "POST", headers: { "content-type": "application/json", origin: "http://127.0.0.1:1" }, body });
+    const forged = await authedFetch(suite.srv.url, admin, "/api/admin/sites", { method: "POST", headers: { "content-type": "application/json", origin: "http://127.0.0.1:1" }, body });
     expect(forged.status).toBe(403);
-    const plain = await authedFetch(srv.url, admin, "/api/admin/sites", { method: "POST", headers: { "content-type": "text/plain" }, body });
+    const plain = await authedFetch(suite.srv.url, admin, "/api/admin/sites", { method: "POST", headers: { "content-type": "text/plain" }, body });
     expect(plain.status).toBe(415);
-    const after = ((await (await authedFetch(srv.url, admin, "/api/admin/sites")).json()) as { sites: unknown[] }).sites.length;
+    const after = ((await (await authedFetch(suite.srv.url, admin, "/api/admin/sites")).json()) as { sites: unknown[] }).sites.length;
     expect(after).toBe(before);
-    expect((await authedFetch(srv.url, admin, "/api/session")).status).toBe(200);
+    expect((await authedFetch(suite.srv.url, admin, "/api/session")).status).toBe(200);
   });
 
   it("a same-origin JSON write from the console still works", async () => {
-    const res = await authedFetch(srv.url, admin, "/api/admin/sites", {
+    const res = await authedFetch(suite.srv.url, admin, "/api/admin/sites", {
       method: "POST",
       headers: { "content-type": "application/json; charset=utf-8", "sec-fetch-site": "same-origin" },
       body: JSON.stringify({ name: "Guard Check Site", timeZone: "UTC" }),
@@ -111,7 +104,7 @@ function rawPost(
     let done = false;
     const h: Record<string, string> = { ...headers };
     if (body.declared !== undefined) h["content-length"] = String(body.declared);
-    const req = http.request(`${srv.url}${path}`, { method: "POST", headers: h, agent: false });
+    const req = http.request(`${suite.srv.url}${path}`, { method: "POST", headers: h, agent: false });
     req.on("response", (res) => {
       done = true;
       let text = "";
@@ -137,7 +130,7 @@ function rawPost(
 describe("request bodies are capped before they are read", () => {
   it("a 50 MB unauthenticated POST is refused with 413 long before it is all sent", async () => {
     const total = 50 * 1024 * 1024;
-    const r = await rawPost("/api/admin/sites", { "content-type": "application/json", origin: srv.url }, { declared: total, total });
+    const r = await rawPost("/api/admin/sites", { "content-type": "application/json", origin: suite.srv.url }, { declared: total, total });
     expect(r.status).toBe(413);
     expect(r.bytesSent).toBeLessThan(total / 4);
   });
@@ -145,15 +138,15 @@ describe("request bodies are capped before they are read", () => {
   it("a chunked JSON body (no Content-Length) above the JSON limit is cut off with 413", async () => {
     const r = await rawPost(
       "/api/admin/sites",
-      { "content-type": "application/json", origin: srv.url, cookie: admin.header() },
+      { "content-type": "application/json", origin: suite.srv.url, cookie: admin.header() },
       { total: BODY_LIMITS.json * 4 },
     );
     expect(r.status, r.text).toBe(413);
   });
 
   it("the step-test upload has its own, larger limit", async () => {
-    const path = `/api/loops/${fx.a.loopId}/step-tests`;
-    const headers = { "content-type": "multipart/form-data; boundary=x", origin: srv.url, cookie: admin.header() };
+    const path = `/api/loops/${suite.fx.a.loopId}/step-tests`;
+    const headers = { "content-type": "multipart/form-data; boundary=x", origin: suite.srv.url, cookie: admin.header() };
     const over = await rawPost(path, headers, { declared: 7 * 1024 * 1024, total: 7 * 1024 * 1024 });
     expect(over.status).toBe(413);
     // 1 MB is far above the JSON limit but within the upload's: it reaches the route (a bad form is 422).

@@ -6,32 +6,24 @@
  */
 import bcrypt from "bcryptjs";
 import { io as connect, type Socket } from "socket.io-client";
-import { afterAll, afterEach, beforeAll, describe, expect, it } from "vitest";
+import { afterEach, describe, expect, it } from "vitest";
 import { tenantRoom, type ClientToServerEvents, type ServerToClientEvents } from "@/lib/domain/events";
 import { notifyUserChanged } from "@/lib/data/server-context";
-import { startTestServer, type TestServer } from "../setup/server";
-import { createAuthFixture, FIXTURE_PASSWORD, type AuthFixture } from "./fixture";
+import { setUpServerSuite } from "../helpers/server-suite";
+import { FIXTURE_PASSWORD } from "./fixture";
 import { authedFetch, sessionOf, type CookieJar } from "./helpers";
 
 type ClientSocket = Socket<ServerToClientEvents, ClientToServerEvents>;
 
-let srv: TestServer;
-let fx: AuthFixture;
+const suite = setUpServerSuite({ seed: false });
 const open: ClientSocket[] = [];
 
-beforeAll(async () => {
-  srv = await startTestServer({ seed: false });
-  fx = await createAuthFixture(srv.db.models);
-});
 afterEach(() => {
   for (const s of open.splice(0)) s.disconnect();
 });
-afterAll(async () => {
-  await srv?.stop();
-});
 
 function socketFor(headers: Record<string, string>, transport: "websocket" | "polling" = "websocket"): ClientSocket {
-  const s: ClientSocket = connect(srv.url, {
+  const s: ClientSocket = connect(suite.srv.url, {
     transports: [transport],
     extraHeaders: headers,
     reconnection: false,
@@ -50,35 +42,35 @@ function outcome(s: ClientSocket): Promise<{ connected: boolean; error?: string 
 }
 
 async function roomsOf(socketId: string): Promise<string[]> {
-  const sockets = await srv.server.ctx.io!.fetchSockets();
+  const sockets = await suite.srv.server.ctx.io!.fetchSockets();
   return [...(sockets.find((s) => s.id === socketId)?.rooms ?? [])];
 }
 
-const sessionFor = (email: string): Promise<CookieJar> => sessionOf(srv.url, email);
+const sessionFor = (email: string): Promise<CookieJar> => sessionOf(suite.srv.url, email);
 
 describe("Socket.IO handshake", () => {
   it("refuses a connection without a session", async () => {
-    const r = await outcome(socketFor({ origin: srv.url }));
+    const r = await outcome(socketFor({ origin: suite.srv.url }));
     expect(r).toEqual({ connected: false, error: "unauthenticated" });
   });
 
   it("refuses a forged session cookie", async () => {
-    const r = await outcome(socketFor({ origin: srv.url, cookie: "next-auth.session-token=forged.token.value" }));
+    const r = await outcome(socketFor({ origin: suite.srv.url, cookie: "next-auth.session-token=forged.token.value" }));
     expect(r).toEqual({ connected: false, error: "unauthenticated" });
   });
 
   it("refuses a session cookie signed with another secret", async () => {
     const { encode } = await import("next-auth/jwt");
     const token = await encode({
-      token: { uid: fx.a.users.admin.id, tid: fx.a.id, sv: 0, sid: "x" },
+      token: { uid: suite.fx.a.users.admin.id, tid: suite.fx.a.id, sv: 0, sid: "x" },
       secret: "some-other-secret-of-enough-length",
     });
-    const r = await outcome(socketFor({ origin: srv.url, cookie: `next-auth.session-token=${token}` }));
+    const r = await outcome(socketFor({ origin: suite.srv.url, cookie: `next-auth.session-token=${token}` }));
     expect(r.connected).toBe(false);
   });
 
   it("refuses a valid session from a foreign Origin, over WebSocket and over polling", async () => {
-    const jar = await sessionFor(fx.a.users.viewer.email);
+    const jar = await sessionFor(suite.fx.a.users.viewer.email);
     const ws = await outcome(socketFor({ origin: "http://evil.example", cookie: jar.header() }));
     expect(ws.connected).toBe(false);
     const polling = await outcome(socketFor({ origin: "http://evil.example", cookie: jar.header() }, "polling"));
@@ -86,28 +78,28 @@ describe("Socket.IO handshake", () => {
   });
 
   it("accepts a valid session from the console's origin and joins only its tenant's room", async () => {
-    const jar = await sessionFor(fx.a.users.viewer.email);
-    const s = socketFor({ origin: srv.url, cookie: jar.header() });
+    const jar = await sessionFor(suite.fx.a.users.viewer.email);
+    const s = socketFor({ origin: suite.srv.url, cookie: jar.header() });
     expect(await outcome(s)).toEqual({ connected: true });
     const rooms = await roomsOf(s.id!);
-    expect(rooms).toContain(tenantRoom(fx.a.id));
-    expect(rooms).not.toContain(tenantRoom(fx.b.id));
+    expect(rooms).toContain(tenantRoom(suite.fx.a.id));
+    expect(rooms).not.toContain(tenantRoom(suite.fx.b.id));
 
-    const health = (await (await fetch(`${srv.url}/api/health`)).json()) as { realtime: { clients: number } };
+    const health = (await (await fetch(`${suite.srv.url}/api/health`)).json()) as { realtime: { clients: number } };
     expect(health.realtime.clients).toBeGreaterThanOrEqual(1);
   });
 
   it("a tenant's broadcast reaches its sockets and not another tenant's", async () => {
-    const [ja, jb] = [await sessionFor(fx.a.users.operator.email), await sessionFor(fx.b.users.operator.email)];
-    const sa = socketFor({ origin: srv.url, cookie: ja.header() });
-    const sb = socketFor({ origin: srv.url, cookie: jb.header() });
+    const [ja, jb] = [await sessionFor(suite.fx.a.users.operator.email), await sessionFor(suite.fx.b.users.operator.email)];
+    const sa = socketFor({ origin: suite.srv.url, cookie: ja.header() });
+    const sb = socketFor({ origin: suite.srv.url, cookie: jb.header() });
     expect(await Promise.all([outcome(sa), outcome(sb)])).toEqual([{ connected: true }, { connected: true }]);
     const gotA = new Promise<number>((resolve) => sa.once("loop:state", (batch) => resolve(batch.length)));
     let bReceived = false;
     sb.on("loop:state", () => {
       bReceived = true;
     });
-    srv.server.ctx.io!.to(tenantRoom(fx.a.id)).emit("loop:state", []);
+    suite.srv.server.ctx.io!.to(tenantRoom(suite.fx.a.id)).emit("loop:state", []);
     expect(await gotA).toBe(0);
     await new Promise((r) => setTimeout(r, 200));
     expect(bReceived).toBe(false);
@@ -124,12 +116,12 @@ describe("withdrawn sessions close their sockets", () => {
   }
 
   it("a revoked membership: session:ended, then disconnected; the API refuses too", async () => {
-    const m = srv.db.models;
+    const m = suite.srv.db.models;
     const email = "socket-temp@quillon.example";
     const user = await m.User.create({ email, name: "Socket Temp", passwordHash: await bcrypt.hash(FIXTURE_PASSWORD, 4) });
-    const membership = await m.Membership.create({ userId: user.id, tenantId: fx.b.id, role: "operator" });
+    const membership = await m.Membership.create({ userId: user.id, tenantId: suite.fx.b.id, role: "operator" });
     const jar = await sessionFor(email);
-    const s = socketFor({ origin: srv.url, cookie: jar.header() });
+    const s = socketFor({ origin: suite.srv.url, cookie: jar.header() });
     expect((await outcome(s)).connected).toBe(true);
     const done = ended(s);
     await membership.destroy();
@@ -137,17 +129,17 @@ describe("withdrawn sessions close their sockets", () => {
     const r = await done;
     expect(r.disconnected).toBe(true);
     expect(r.reason).toMatch(/withdrawn/);
-    expect([401, 403]).toContain((await authedFetch(srv.url, jar, "/api/session")).status);
+    expect([401, 403]).toContain((await authedFetch(suite.srv.url, jar, "/api/session")).status);
     // And it cannot come back.
-    expect((await outcome(socketFor({ origin: srv.url, cookie: jar.header() }))).connected).toBe(false);
+    expect((await outcome(socketFor({ origin: suite.srv.url, cookie: jar.header() }))).connected).toBe(false);
   });
 
   it("a revoked membership is noticed by the periodic re-check even without an announcement", async () => {
-    const m = srv.db.models;
+    const m = suite.srv.db.models;
     const email = "socket-quiet@quillon.example";
     const user = await m.User.create({ email, name: "Socket Quiet", passwordHash: await bcrypt.hash(FIXTURE_PASSWORD, 4) });
-    const membership = await m.Membership.create({ userId: user.id, tenantId: fx.b.id, role: "viewer" });
-    const s = socketFor({ origin: srv.url, cookie: (await sessionFor(email)).header() });
+    const membership = await m.Membership.create({ userId: user.id, tenantId: suite.fx.b.id, role: "viewer" });
+    const s = socketFor({ origin: suite.srv.url, cookie: (await sessionFor(email)).header() });
     expect((await outcome(s)).connected).toBe(true);
     const done = ended(s);
     await membership.destroy();
@@ -156,12 +148,12 @@ describe("withdrawn sessions close their sockets", () => {
   }, 20_000);
 
   it("signing out closes that session's sockets", async () => {
-    const jar = await sessionFor(fx.a.users.engineer.email);
-    const s = socketFor({ origin: srv.url, cookie: jar.header() });
+    const jar = await sessionFor(suite.fx.a.users.engineer.email);
+    const s = socketFor({ origin: suite.srv.url, cookie: jar.header() });
     expect((await outcome(s)).connected).toBe(true);
     const done = ended(s);
-    const csrf = (await (await authedFetch(srv.url, jar, "/api/auth/csrf")).json()) as { csrfToken: string };
-    await authedFetch(srv.url, jar, "/api/auth/signout", {
+    const csrf = (await (await authedFetch(suite.srv.url, jar, "/api/auth/csrf")).json()) as { csrfToken: string };
+    await authedFetch(suite.srv.url, jar, "/api/auth/signout", {
       method: "POST",
       headers: { "content-type": "application/x-www-form-urlencoded" },
       body: new URLSearchParams({ csrfToken: csrf.csrfToken, json: "true" }),
@@ -170,14 +162,14 @@ describe("withdrawn sessions close their sockets", () => {
   });
 
   it("switching tenant closes the old socket; a new one joins the new tenant's room", async () => {
-    const jar = await sessionFor(fx.both.email);
-    const s = socketFor({ origin: srv.url, cookie: jar.header() });
+    const jar = await sessionFor(suite.fx.both.email);
+    const s = socketFor({ origin: suite.srv.url, cookie: jar.header() });
     expect((await outcome(s)).connected).toBe(true);
     const before = await roomsOf(s.id!);
-    const from = before.includes(tenantRoom(fx.a.id)) ? fx.a : fx.b;
-    const to = from === fx.a ? fx.b : fx.a;
+    const from = before.includes(tenantRoom(suite.fx.a.id)) ? suite.fx.a : suite.fx.b;
+    const to = from === suite.fx.a ? suite.fx.b : suite.fx.a;
     const done = ended(s);
-    const sw = await authedFetch(srv.url, jar, "/api/session/tenant", {
+    const sw = await authedFetch(suite.srv.url, jar, "/api/session/tenant", {
       method: "POST",
       headers: { "content-type": "application/json" },
       body: JSON.stringify({ tenantId: to.id }),
@@ -185,7 +177,7 @@ describe("withdrawn sessions close their sockets", () => {
     expect(sw.status).toBe(200);
     jar.absorb(sw);
     expect((await done).disconnected).toBe(true);
-    const again = socketFor({ origin: srv.url, cookie: jar.header() });
+    const again = socketFor({ origin: suite.srv.url, cookie: jar.header() });
     expect((await outcome(again)).connected).toBe(true);
     const rooms = await roomsOf(again.id!);
     expect(rooms).toContain(tenantRoom(to.id));

@@ -33,7 +33,7 @@ import { poleCharacteristics } from "@/lib/control/zplane";
 import { closedLoopRoots } from "@/server/tracking/pole-roots";
 import type { ArxModel } from "@/lib/control/types";
 import { printCoverageTable } from "./coverage-table";
-import { mulberry32 } from "@/tests/control/seeded-random";
+import { mulberry32 } from "@/tests/helpers/seeded-random";
 
 // ---- data: seeded regressors and outputs (mulberry32), shared by every case -------------------
 const rand = mulberry32(12345);

@@ -7,7 +7,7 @@ import { ArxEstimator } from "@/lib/control/arx";
 import { estimateDelay, fitArx, simulateArx } from "@/lib/control/arx-batch";
 import { excitationLevel, ExcitationMonitor } from "@/lib/control/excitation";
 import { ControlArgumentError, NonFiniteInputError } from "@/lib/control/errors";
-import { mulberry32, normal } from "./seeded-random";
+import { mulberry32, normal } from "../helpers/seeded-random";
 
 interface Candidate {
   na: number;

@@ -4,7 +4,7 @@ import { ArxEstimator } from "@/lib/control/arx";
 import { closedLoopCoefficientCovariance, normalQuantile, poleConfidence } from "@/lib/control/confidence";
 import { ControlArgumentError, PeriodMismatchError } from "@/lib/control/errors";
 import type { ArxModel, QTf } from "@/lib/control/types";
-import { mulberry32, normal } from "./seeded-random";
+import { mulberry32, normal } from "../helpers/seeded-random";
 
 /** Plain convolution of two coefficient lists (test-side, from the definition). */
 function conv(p: number[], q: number[]): number[] {

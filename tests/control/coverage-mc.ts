@@ -8,7 +8,7 @@ import { poleConfidence } from "@/lib/control/confidence";
 import { forecastCrossing } from "@/lib/control/forecast";
 import { InstrumentalArxEstimator } from "@/lib/control/riv";
 import { polyRoots } from "@/lib/control/roots";
-import { mulberry32, normal } from "./seeded-random";
+import { mulberry32, normal } from "../helpers/seeded-random";
 
 /**
  * ArxEstimator with its defaults (lambda 0.995, directional forgetting): share of runs whose 95 %

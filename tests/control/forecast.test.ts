@@ -1,7 +1,7 @@
 import { describe, expect, it } from "vitest";
 import { forecastCrossing, studentQuantile } from "@/lib/control/forecast";
 import { ControlArgumentError, NonFiniteInputError } from "@/lib/control/errors";
-import { mulberry32, normal } from "./seeded-random";
+import { mulberry32, normal } from "../helpers/seeded-random";
 import { forecastDrift } from "./coverage-mc";
 
 /** Points every dt seconds: value = v0 + slope t + AR(1) noise (phi, innovation sd). */

@@ -10,7 +10,7 @@ import { closedLoopPolynomial, discretePid } from "@/lib/control/closed-loop";
 import { polyRoots } from "@/lib/control/roots";
 import { poleConfidence } from "@/lib/control/confidence";
 import type { Complex } from "@/lib/control/types";
-import { mulberry32, normal } from "./seeded-random";
+import { mulberry32, normal } from "../helpers/seeded-random";
 
 const T = 2; // s
 // Plant: an oscillatory second-order process in state space (invented example).

@@ -10,7 +10,7 @@ import { execFileSync } from "node:child_process";
 import { describe, expect, it } from "vitest";
 import { shiftIn } from "@/lib/control/lag-vector";
 import { solveInto } from "@/lib/control/linalg";
-import { mulberry32, normal } from "./seeded-random";
+import { mulberry32, normal } from "../helpers/seeded-random";
 
 describe("solveInto (Gaussian elimination with partial pivoting, allocation-free)", () => {
   it("equals numpy.linalg.solve on 200 seeded random systems (d = 1..8) to 1e-9 relative", () => {

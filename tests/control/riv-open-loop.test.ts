@@ -12,7 +12,7 @@ import { describe, expect, it } from "vitest";
 import { InstrumentalArxEstimator } from "@/lib/control/riv";
 import { poleConfidence } from "@/lib/control/confidence";
 import { polyRoots } from "@/lib/control/roots";
-import { mulberry32, normal } from "./seeded-random";
+import { mulberry32, normal } from "../helpers/seeded-random";
 
 /** Plant A y0 = B u(k-1), a = [-1.5, 0.7], b = [0.5, 0.3] (poles 0.75 +- 0.37i, radius sqrt(0.7)); y = y0 + noise. */
 function openLoop(n: number, noiseSd: number, seed: number): { u: number[]; y: number[] } {

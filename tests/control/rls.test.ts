@@ -2,7 +2,7 @@ import { describe, expect, it } from "vitest";
 import { eigs, inv, matrix, multiply, transpose, add, type Matrix } from "mathjs";
 import { RecursiveLeastSquares, type RlsState, type WindupGuard } from "@/lib/control/rls";
 import { ControlArgumentError, NonFiniteInputError } from "@/lib/control/errors";
-import { mulberry32, normal } from "./seeded-random";
+import { mulberry32, normal } from "../helpers/seeded-random";
 
 /** Regressors and outputs of y = phi' theta + e with Gaussian phi (seeded). */
 function linearData(seed: number, n: number, N: number, theta: number[], noise: number) {

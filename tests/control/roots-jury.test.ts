@@ -5,7 +5,7 @@ import { polyEvalComplex, polyFromRoots } from "@/lib/control/poly";
 import { ControlArgumentError, NonFiniteInputError } from "@/lib/control/errors";
 import type { Complex } from "@/lib/control/types";
 import { maxMatchError } from "./root-match";
-import { mulberry32 } from "./seeded-random";
+import { mulberry32 } from "../helpers/seeded-random";
 
 
 const abs = (z: Complex): number => Math.hypot(z.re, z.im);

@@ -2,7 +2,7 @@ import { describe, expect, it } from "vitest";
 import { polyRootsInto } from "@/lib/control/roots";
 import { polyFromRoots } from "@/lib/control/poly";
 import type { Complex } from "@/lib/control/types";
-import { mulberry32 } from "./seeded-random";
+import { mulberry32 } from "../helpers/seeded-random";
 
 /** Largest distance between two 3-root sets under their best pairing (all 6 permutations). */
 function matchError3(a: Complex[], b: Complex[]): number {

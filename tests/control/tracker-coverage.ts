@@ -12,7 +12,7 @@ import type { LoopStateDto } from "@/lib/domain/types";
 import { LoopTracker } from "@/server/tracking/loop-tracker";
 import type { LoopConfig } from "@/server/tracking/types";
 import { FakeClock } from "../tracking/helpers";
-import { mulberry32, normal } from "./seeded-random";
+import { mulberry32, normal } from "../helpers/seeded-random";
 import { piTuning, testLoopConfig } from "@/tests/helpers/loop-config";
 
 export interface CoveragePlant {

@@ -8,32 +8,16 @@
  * area) ask for it in an in-page dialog, and the reason reaches the change log.
  */
 import type { Page } from "playwright-core";
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { describe, expect, it } from "vitest";
 import { DEMO_PASSWORD } from "@/lib/data/seed";
-import { artifactPath, launchBrowser, type TestBrowser } from "../setup/browser";
+import { artifactPath } from "../setup/browser";
 import { mailOf } from "@/server/mail";
-import { startTestServer, type TestServer } from "../setup/server";
+import { openSignedIn, signInWithForm, setUpServerSuite } from "../helpers/server-suite";
 
-let srv: TestServer;
-let browser: TestBrowser;
+const suite = setUpServerSuite({ seed: true, browser: { width: 1440, height: 1000 } });
 
-beforeAll(async () => {
-  srv = await startTestServer({ seed: true });
-  browser = await launchBrowser({ viewport: { width: 1440, height: 1000 } });
-}, 300_000);
-
-afterAll(async () => {
-  await browser?.close();
-  await srv?.stop();
-});
-
-async function signIn(page: Page, email: string, password = DEMO_PASSWORD): Promise<void> {
-  await browser.context.clearCookies();
-  await page.goto(`${srv.url}/signin`);
-  await page.getByLabel("E-mail").fill(email);
-  await page.getByLabel("Password").fill(password);
-  await page.getByRole("button", { name: "Sign in" }).click();
-  await page.waitForURL((u) => !u.pathname.startsWith("/signin"), { timeout: 30_000 });
+function signIn(page: Page, email: string, password = DEMO_PASSWORD): Promise<void> {
+  return signInWithForm(page, suite.srv.url, email, password);
 }
 
 /** The data-testid of the element that has focus (null when none has one). */
@@ -49,16 +33,14 @@ interface Change {
 }
 
 async function changesOf(page: Page, entity: string): Promise<Change[]> {
-  const r = await page.request.get(`${srv.url}/api/admin/config-changes?entity=${entity}`);
+  const r = await page.request.get(`${suite.srv.url}/api/admin/config-changes?entity=${entity}`);
   expect(r.status()).toBe(200);
   return ((await r.json()) as { changes: Change[] }).changes;
 }
 
 describe("administration in Chromium", () => {
   it("an admin invites by e-mail; the one-time link sets a password once; the new user signs in with the invited role", async () => {
-    const page = await browser.context.newPage();
-    await signIn(page, "admin@vantrell.example");
-    await page.goto(`${srv.url}/admin?section=users`);
+    const page = await openSignedIn(suite, "admin@vantrell.example", DEMO_PASSWORD, "/admin?section=users");
     await page.getByTestId("invite-email").fill("new.operator@vantrell.example");
     await page.getByTestId("invite-role").selectOption("operator");
     await page.getByRole("button", { name: "Invite" }).click();
@@ -66,7 +48,7 @@ describe("administration in Chromium", () => {
 
     // The SMTP sink received it. The admin's outbox lists the message but withholds the one-time
     // link (only the invitee's mailbox may hold it); the test reads the link from the sink itself.
-    const mail = mailOf(srv.server.ctx)!;
+    const mail = mailOf(suite.srv.server.ctx)!;
     let link = "";
     await expect
       .poll(
@@ -78,17 +60,17 @@ describe("administration in Chromium", () => {
         { timeout: 15_000 },
       )
       .not.toBe("");
-    const listed = (await (await page.request.get(`${srv.url}/api/outbox`)).json()) as { messages: { to: string[]; text: string }[] };
+    const listed = (await (await page.request.get(`${suite.srv.url}/api/outbox`)).json()) as { messages: { to: string[]; text: string }[] };
     const shown = listed.messages.find((x) => x.to.includes("new.operator@vantrell.example"));
     expect(shown?.text).toContain("link withheld");
     expect(shown?.text).not.toContain(link);
-    await page.goto(`${srv.url}/admin?section=outbox`);
+    await page.goto(`${suite.srv.url}/admin?section=outbox`);
     await page.getByTestId("admin-outbox").waitFor();
     await page.screenshot({ path: artifactPath("console-admin-outbox-invite.png"), fullPage: true });
 
     const token = link.split("/invite/")[1]!;
-    await browser.context.clearCookies();
-    await page.goto(`${srv.url}/invite/${token}`);
+    await suite.browser.context.clearCookies();
+    await page.goto(`${suite.srv.url}/invite/${token}`);
     await page.getByLabel("Your name").fill("Nell Operator");
     await page.getByLabel("New password (at least 12 characters)").fill("correct horse battery");
     await page.getByLabel("Repeat the password").fill("correct horse battery");
@@ -97,21 +79,19 @@ describe("administration in Chromium", () => {
     await expect.poll(() => page.getByRole("status").textContent(), { timeout: 15_000 }).toContain("Password set");
 
     // One time only.
-    await page.goto(`${srv.url}/invite/${token}`);
+    await page.goto(`${suite.srv.url}/invite/${token}`);
     expect(await page.getByRole("heading", { level: 1 }).textContent()).toContain("This link cannot be used");
 
     await signIn(page, "new.operator@vantrell.example", "correct horse battery");
     expect(await page.locator("header").getByTestId("user-role").textContent()).toBe("operator");
     // An operator has no administration.
     expect(await page.getByRole("navigation", { name: "Console" }).getByRole("link", { name: "Admin" }).count()).toBe(0);
-    expect((await page.request.get(`${srv.url}/api/admin/users`)).status()).toBe(403);
+    expect((await page.request.get(`${suite.srv.url}/api/admin/users`)).status()).toBe(403);
     await page.close();
   }, 120_000);
 
   it("an admin creates a device credential, sees the secret once, and revokes it with a reason", async () => {
-    const page = await browser.context.newPage();
-    await signIn(page, "admin@vantrell.example");
-    await page.goto(`${srv.url}/admin?section=devices`);
+    const page = await openSignedIn(suite, "admin@vantrell.example", DEMO_PASSWORD, "/admin?section=devices");
     await page.getByLabel("Device name").fill("Line 4 gateway");
     await page.getByRole("button", { name: "Create credential" }).click();
     const panel = page.getByTestId("device-secret");
@@ -120,12 +100,12 @@ describe("administration in Chromium", () => {
     expect(secret).toMatch(/^rgs_/);
     await page.screenshot({ path: artifactPath("console-admin-device-secret.png"), fullPage: true });
 
-    const list = (await (await page.request.get(`${srv.url}/api/admin/devices`)).json()) as { devices: { id: number; name: string; revokedAt: string | null }[] };
+    const list = (await (await page.request.get(`${suite.srv.url}/api/admin/devices`)).json()) as { devices: { id: number; name: string; revokedAt: string | null }[] };
     const dev = list.devices.find((d) => d.name === "Line 4 gateway");
     expect(dev).toBeTruthy();
     // The list never carries the secret.
     expect(JSON.stringify(list)).not.toContain(secret);
-    const bad = await page.request.delete(`${srv.url}/api/admin/devices/${dev!.id}`, { data: {}, headers: { origin: srv.url } });
+    const bad = await page.request.delete(`${suite.srv.url}/api/admin/devices/${dev!.id}`, { data: {}, headers: { origin: suite.srv.url } });
     expect(bad.status()).toBe(422);
 
     // Revoke in the page: an in-page dialog (no window.prompt) with the caution, Escape leaves it
@@ -139,7 +119,7 @@ describe("administration in Chromium", () => {
     await page.keyboard.press("Escape");
     await dialog.waitFor({ state: "detached" });
     expect(await page.evaluate(() => document.activeElement?.textContent)).toBe("Revoke");
-    expect((await (await page.request.get(`${srv.url}/api/admin/devices`)).json() as { devices: { id: number; revokedAt: string | null }[] }).devices.find((d) => d.id === dev!.id)?.revokedAt).toBeNull();
+    expect((await (await page.request.get(`${suite.srv.url}/api/admin/devices`)).json() as { devices: { id: number; revokedAt: string | null }[] }).devices.find((d) => d.id === dev!.id)?.revokedAt).toBeNull();
 
     await revokeButton.click();
     await dialog.waitFor();
@@ -155,17 +135,15 @@ describe("administration in Chromium", () => {
     await dialog.getByTestId("action-submit").click();
     await dialog.waitFor({ state: "detached", timeout: 15_000 });
     await expect.poll(() => page.getByTestId("admin-devices").locator("tr", { hasText: "Line 4 gateway" }).textContent(), { timeout: 15_000 }).toContain("revoked");
-    const after = (await (await page.request.get(`${srv.url}/api/admin/devices`)).json()) as { devices: { id: number; revokedAt: string | null }[] };
+    const after = (await (await page.request.get(`${suite.srv.url}/api/admin/devices`)).json()) as { devices: { id: number; revokedAt: string | null }[] };
     expect(after.devices.find((d) => d.id === dev!.id)?.revokedAt).not.toBeNull();
-    const log = (await (await page.request.get(`${srv.url}/api/admin/config-changes?entity=device_credential`)).json()) as { changes: { reason: string | null }[] };
+    const log = (await (await page.request.get(`${suite.srv.url}/api/admin/config-changes?entity=device_credential`)).json()) as { changes: { reason: string | null }[] };
     expect(log.changes.map((c) => c.reason)).toContain("gateway replaced");
     await page.close();
   }, 120_000);
 
   it("an engineer creates a loop and changes its estimation period with a reason; a viewer is refused", async () => {
-    const page = await browser.context.newPage();
-    await signIn(page, "engineer@vantrell.example");
-    await page.goto(`${srv.url}/loops/new`);
+    const page = await openSignedIn(suite, "engineer@vantrell.example", DEMO_PASSWORD, "/loops/new");
     const form = page.getByTestId("loop-form");
     await form.waitFor();
     const site = page.locator("#f-siteId");
@@ -186,33 +164,33 @@ describe("administration in Chromium", () => {
     const id = Number(new URL(page.url()).pathname.split("/").pop());
     expect(id).toBeGreaterThan(0);
 
-    await page.goto(`${srv.url}/loops/${id}/edit`);
+    await page.goto(`${suite.srv.url}/loops/${id}/edit`);
     await page.locator("#f-estimationPeriodS").fill("5");
     await page.locator("#f-reason").fill("poles crowd at z = 1 at 1 s");
     await page.locator("#f-mocReference").fill("MOC-2026-118");
     await page.getByTestId("loop-save").click();
     await page.waitForURL(new RegExp(`/loops/${id}$`), { timeout: 30_000 });
-    const cfg = (await (await page.request.get(`${srv.url}/api/admin/loops/${id}`)).json()) as { loop: { estimationPeriodS: number } };
+    const cfg = (await (await page.request.get(`${suite.srv.url}/api/admin/loops/${id}`)).json()) as { loop: { estimationPeriodS: number } };
     expect(cfg.loop.estimationPeriodS).toBe(5);
-    await page.goto(`${srv.url}/loops/${id}/edit`);
+    await page.goto(`${suite.srv.url}/loops/${id}/edit`);
     const log = page.getByTestId("config-log");
     await expect.poll(() => log.textContent(), { timeout: 15_000 }).toContain("MOC-2026-118");
     expect(await log.textContent()).toContain("estimationPeriodS: 1 → 5");
     await page.screenshot({ path: artifactPath("console-loop-edit.png"), fullPage: true });
 
     // Bad input is a 422 with the field named; nothing changes.
-    const bad = await page.request.patch(`${srv.url}/api/loops/${id}`, { data: { estimationPeriodS: -1, reason: "typo test" }, headers: { origin: srv.url } });
+    const bad = await page.request.patch(`${suite.srv.url}/api/loops/${id}`, { data: { estimationPeriodS: -1, reason: "typo test" }, headers: { origin: suite.srv.url } });
     expect(bad.status()).toBe(422);
     expect(((await bad.json()) as { error: string }).error).toMatch(/estimationPeriodS/);
 
     // The engineer belongs to two tenants: the viewer must be of the tenant the loop was made in.
-    const who = (await (await page.request.get(`${srv.url}/api/session`)).json()) as { context: { tenantSlug: string } };
+    const who = (await (await page.request.get(`${suite.srv.url}/api/session`)).json()) as { context: { tenantSlug: string } };
     const viewer = who.context.tenantSlug === "vantrell" ? "viewer@vantrell.example" : "viewer@orrinvale.example";
     await signIn(page, viewer);
-    const refused = await page.request.patch(`${srv.url}/api/loops/${id}`, { data: { estimationPeriodS: 2, reason: "viewer tries" }, headers: { origin: srv.url } });
+    const refused = await page.request.patch(`${suite.srv.url}/api/loops/${id}`, { data: { estimationPeriodS: 2, reason: "viewer tries" }, headers: { origin: suite.srv.url } });
     expect(refused.status()).toBe(403);
-    expect((await page.request.get(`${srv.url}/api/loops/${id}`)).status()).toBe(200);
-    await page.goto(`${srv.url}/loops/${id}`);
+    expect((await page.request.get(`${suite.srv.url}/api/loops/${id}`)).status()).toBe(200);
+    await page.goto(`${suite.srv.url}/loops/${id}`);
     await page.screenshot({ path: artifactPath("console-loop-new-viewer.png"), fullPage: true });
     await page.getByRole("heading", { name: "FIC-9001" }).waitFor({ timeout: 30_000 });
     expect(await page.getByRole("link", { name: "Edit loop" }).count()).toBe(0);
@@ -220,7 +198,7 @@ describe("administration in Chromium", () => {
   }, 180_000);
 
   it("role changes, rule deletion and a new area ask for their reason in the page; each reason reaches the change log; a refusal keeps the typed reason", async () => {
-    const page = await browser.context.newPage();
+    const page = await suite.browser.context.newPage();
     // None of this may fall back on the browser's own prompt.
     const browserPrompts: string[] = [];
     page.on("dialog", (d) => {
@@ -230,7 +208,7 @@ describe("administration in Chromium", () => {
     await signIn(page, "admin@vantrell.example");
 
     // Role change: operator -> viewer, with the caution that the member can no longer acknowledge.
-    await page.goto(`${srv.url}/admin?section=users`);
+    await page.goto(`${suite.srv.url}/admin?section=users`);
     const roleSelect = page.getByLabel("Role of operator@vantrell.example");
     await roleSelect.waitFor({ timeout: 15_000 });
     await roleSelect.selectOption("viewer");
@@ -252,12 +230,12 @@ describe("administration in Chromium", () => {
 
     // A refusal from the server shows in the dialog and the typed reason stays: the membership is
     // removed behind the dialog's back, so the role change answers 404.
-    const members = (await (await page.request.get(`${srv.url}/api/admin/users`)).json()) as { members: { membershipId: number; email: string }[] };
+    const members = (await (await page.request.get(`${suite.srv.url}/api/admin/users`)).json()) as { members: { membershipId: number; email: string }[] };
     const target = members.members.find((m) => m.email === "operator@vantrell.example")!;
     await roleSelect.selectOption("operator");
     await roleDialog.waitFor();
     await roleDialog.getByTestId("reason-input").fill("back on shift rota");
-    const gone = await page.request.delete(`${srv.url}/api/admin/users/${target.membershipId}`, { data: { reason: "left the site" }, headers: { origin: srv.url } });
+    const gone = await page.request.delete(`${suite.srv.url}/api/admin/users/${target.membershipId}`, { data: { reason: "left the site" }, headers: { origin: suite.srv.url } });
     expect(gone.status()).toBe(204);
     await roleDialog.getByTestId("action-submit").click();
     await expect.poll(() => roleDialog.getByTestId("dialog-error").count(), { timeout: 15_000 }).toBe(1);
@@ -269,7 +247,7 @@ describe("administration in Chromium", () => {
     expect((await changesOf(page, "membership")).map((c) => c.reason)).toContain("left the site");
 
     // Notification rule: made with the shared form fields, deleted through the dialog.
-    await page.goto(`${srv.url}/admin?section=notifications`);
+    await page.goto(`${suite.srv.url}/admin?section=notifications`);
     const rules = page.getByTestId("admin-rules");
     await rules.getByLabel("Rule name").fill("Night shift escalation");
     await rules.getByLabel("Recipients (e-mail addresses, comma separated)").fill("night.lead@vantrell.example");
@@ -295,7 +273,7 @@ describe("administration in Chromium", () => {
     expect(ruleLog.find((c) => c.reason === "replaced by the area rule")?.diff.name).toEqual({ from: "Night shift escalation", to: null });
 
     // New operator area: a name and a reason, both checked in the page.
-    await page.goto(`${srv.url}/admin?section=sites`);
+    await page.goto(`${suite.srv.url}/admin?section=sites`);
     const site = page.getByTestId("admin-sites").locator("li").first();
     await site.getByRole("button", { name: "Add area" }).click();
     const areaDialog = page.getByRole("dialog", { name: "Add operator area" });

@@ -14,8 +14,8 @@ import type { AlarmDto, LoopSummary } from "@/lib/domain/types";
 import type { ServerContext } from "@/server/context";
 import { startSimulators, type SimulatorsService } from "@/server/simulators-process";
 import { demoDeviceCredentials } from "@/simulators/seed-loops";
-import { artifactPath, launchBrowser, type TestBrowser } from "../setup/browser";
-import { startTestServer, type TestServer } from "../setup/server";
+import { artifactPath } from "../setup/browser";
+import { openSignedIn, setUpServerSuite } from "../helpers/server-suite";
 
 const OPERATOR = "operator@vantrell.example";
 const VIEWER = "viewer@vantrell.example";
@@ -23,8 +23,7 @@ const ADMIN = "admin@vantrell.example";
 /** Member of both demo tenants (lib/seed/demo.ts). */
 const BOTH = "engineer@vantrell.example";
 
-let srv: TestServer;
-let browser: TestBrowser;
+const suite = setUpServerSuite({ seed: true, browser: { width: 1600, height: 1000 } });
 let sims: SimulatorsService | null = null;
 
 function brokerPort(ctx: ServerContext): number {
@@ -38,8 +37,7 @@ function brokerPort(ctx: ServerContext): number {
 }
 
 beforeAll(async () => {
-  srv = await startTestServer({ seed: true });
-  const ctx = srv.server.ctx;
+  const ctx = suite.srv.server.ctx;
   sims = await startSimulators(ctx, {
     args: ["--duration", "900"],
     env: {
@@ -50,26 +48,14 @@ beforeAll(async () => {
       SIM_DEVICE_CREDENTIALS: JSON.stringify(demoDeviceCredentials()),
     },
   });
-  browser = await launchBrowser({ viewport: { width: 1600, height: 1000 } });
 }, 300_000);
 
 afterAll(async () => {
-  await browser?.close();
   await sims?.stop();
-  await srv?.stop();
 });
 
-async function signIn(page: Page, email: string): Promise<void> {
-  await browser.context.clearCookies();
-  await page.goto(`${srv.url}/signin`);
-  await page.getByLabel("E-mail").fill(email);
-  await page.getByLabel("Password").fill(DEMO_PASSWORD);
-  await page.getByRole("button", { name: "Sign in" }).click();
-  await page.waitForURL((u) => !u.pathname.startsWith("/signin"), { timeout: 30_000 });
-}
-
 async function apiJson<T>(page: Page, path: string): Promise<T> {
-  const r = await page.request.get(`${srv.url}${path}`);
+  const r = await page.request.get(`${suite.srv.url}${path}`);
   expect(r.status(), path).toBe(200);
   return (await r.json()) as T;
 }
@@ -85,9 +71,7 @@ async function tileText(page: Page): Promise<string> {
 
 describe("the console in Chromium", () => {
   it("an admin lowers the tenant's decay-ratio levels with a reason and alarms follow", async () => {
-    const page = await browser.context.newPage();
-    await signIn(page, ADMIN);
-    await page.goto(`${srv.url}/admin?section=levels`);
+    const page = await openSignedIn(suite, ADMIN, DEMO_PASSWORD, "/admin?section=levels");
     await page.getByTestId("policy-drLow").waitFor();
     // Levels below the demo loops' decay ratios, no on-delay: the oscillating loops alarm. The
     // healthy demo loops are well damped (decay ratios about 0.001-0.003 once tracked, ~20-70 s
@@ -108,14 +92,14 @@ describe("the console in Chromium", () => {
     expect(view.settings?.decayRatio).toEqual({ low: 0.001, high: 0.002 });
     // Took effect: alarms needing a person appear on the control room (the trackers must have
     // an estimate first).
-    await page.goto(`${srv.url}/`);
+    await page.goto(`${suite.srv.url}/`);
     await expect.poll(() => page.getByTestId("alarm-row").count(), { timeout: 240_000, interval: 1000 }).toBeGreaterThan(0);
     // ... and the change is in the log with its reason.
-    await page.goto(`${srv.url}/admin?section=log`);
+    await page.goto(`${suite.srv.url}/admin?section=log`);
     await expect.poll(() => page.getByTestId("config-log").textContent(), { timeout: 15_000 }).toContain("tighten levels");
     await page.screenshot({ path: artifactPath("console-admin-log.png"), fullPage: true });
     for (const section of ["users", "devices", "notifications", "sites", "outbox"]) {
-      await page.goto(`${srv.url}/admin?section=${section}`);
+      await page.goto(`${suite.srv.url}/admin?section=${section}`);
       await page.waitForLoadState("networkidle").catch(() => undefined);
       await page.screenshot({ path: artifactPath(`console-admin-${section}.png`), fullPage: true });
     }
@@ -123,9 +107,7 @@ describe("the console in Chromium", () => {
   }, 360_000);
 
   it("an operator sees the tiles update live and acknowledges an alarm with a comment", async () => {
-    const page = await browser.context.newPage();
-    await signIn(page, OPERATOR);
-    await page.goto(`${srv.url}/`);
+    const page = await openSignedIn(suite, OPERATOR, DEMO_PASSWORD, "/");
     await expect.poll(() => page.getByTestId("loop-tile").count(), { timeout: 30_000 }).toBeGreaterThan(0);
     await expect.poll(() => page.getByTestId("live-status").textContent(), { timeout: 30_000 }).toContain("live");
     const first = await tileText(page);
@@ -157,12 +139,11 @@ describe("the console in Chromium", () => {
   }, 240_000);
 
   it("an operator opens a loop and sees the z-plane with its poles and the Jury table", async () => {
-    const page = await browser.context.newPage();
-    await signIn(page, OPERATOR);
+    const page = await openSignedIn(suite, OPERATOR, DEMO_PASSWORD);
     const loops = listOf<LoopSummary>(await apiJson(page, "/api/loops"), "loops");
     const withPoles = loops.find((l) => (l.state?.modelPoles.length ?? 0) > 0 && l.state?.characteristic);
     expect(withPoles, "a loop with an estimate").toBeTruthy();
-    await page.goto(`${srv.url}/loops/${withPoles!.id}`);
+    await page.goto(`${suite.srv.url}/loops/${withPoles!.id}`);
     const map = page.getByTestId("z-plane").first();
     await map.waitFor({ timeout: 30_000 });
     await expect.poll(() => map.locator('[data-kind="model-pole"]').count(), { timeout: 30_000 }).toBeGreaterThan(0);
@@ -172,16 +153,16 @@ describe("the console in Chromium", () => {
     // the stored history arrived (the page asks the history API for columns) and has points
     await expect.poll(async () => Number(await page.getByTestId("history-status").getAttribute("data-points")), { timeout: 30_000 }).toBeGreaterThan(0);
     await page.screenshot({ path: artifactPath("console-loop-detail.png"), fullPage: true });
-    await page.goto(`${srv.url}/loops`);
+    await page.goto(`${suite.srv.url}/loops`);
     await page.getByTestId("loop-table").waitFor();
     await page.screenshot({ path: artifactPath("console-loops.png"), fullPage: true });
-    await page.goto(`${srv.url}/alarms`);
+    await page.goto(`${suite.srv.url}/alarms`);
     await page.getByTestId("alarm-table").waitFor();
     await page.screenshot({ path: artifactPath("console-alarms.png"), fullPage: true });
-    await page.goto(`${srv.url}/reports`);
+    await page.goto(`${suite.srv.url}/reports`);
     await page.waitForLoadState("networkidle").catch(() => undefined);
     await page.screenshot({ path: artifactPath("console-reports.png"), fullPage: true });
-    await page.goto(`${srv.url}/wall`);
+    await page.goto(`${suite.srv.url}/wall`);
     await page.getByTestId("wall").waitFor();
     await expect.poll(() => page.getByTestId("wall-page").textContent()).toMatch(/page \d+ \/ \d+/);
     await page.screenshot({ path: artifactPath("console-wall.png") });
@@ -189,31 +170,28 @@ describe("the console in Chromium", () => {
   }, 180_000);
 
   it("a viewer sees no acknowledge control and the API refuses the call", async () => {
-    const page = await browser.context.newPage();
-    await signIn(page, VIEWER);
-    await page.goto(`${srv.url}/`);
+    const page = await openSignedIn(suite, VIEWER, DEMO_PASSWORD, "/");
     await expect.poll(() => page.getByTestId("alarm-row").count(), { timeout: 60_000 }).toBeGreaterThan(0);
     expect(await page.getByTestId("ack-button").count()).toBe(0);
-    await page.goto(`${srv.url}/alarms`);
+    await page.goto(`${suite.srv.url}/alarms`);
     await expect.poll(() => page.getByTestId("alarm-table-row").count(), { timeout: 30_000 }).toBeGreaterThan(0);
     expect(await page.getByTestId("ack-button").count()).toBe(0);
     expect(await page.getByRole("button", { name: "Shelve" }).count()).toBe(0);
     const alarms = listOf<AlarmDto>(await apiJson(page, "/api/alarms"), "alarms");
     const target = alarms.find((a) => a.state === "unacknowledged") ?? alarms[0];
     expect(target).toBeTruthy();
-    const r = await page.request.post(`${srv.url}/api/alarms/${target!.id}/acknowledge`, { data: { comment: "viewer tries" }, headers: { origin: srv.url } });
+    const r = await page.request.post(`${suite.srv.url}/api/alarms/${target!.id}/acknowledge`, { data: { comment: "viewer tries" }, headers: { origin: suite.srv.url } });
     expect(r.status()).toBe(403);
     await page.screenshot({ path: artifactPath("console-viewer.png"), fullPage: true });
     await page.close();
   }, 120_000);
 
   it("a member of two tenants switches tenant and sees only the second tenant's loops", async () => {
-    const page = await browser.context.newPage();
-    await signIn(page, BOTH);
+    const page = await openSignedIn(suite, BOTH, DEMO_PASSWORD);
     const before = listOf<LoopSummary>(await apiJson(page, "/api/loops"), "loops");
     expect(before.length).toBeGreaterThan(0);
     const firstTenant = before[0]!.tenantId;
-    await page.goto(`${srv.url}/`);
+    await page.goto(`${suite.srv.url}/`);
     const select = page.locator("header select");
     await select.waitFor();
     const other = await select.locator("option").evaluateAll((os, cur) => os.map((o) => (o as HTMLOptionElement).value).find((v) => v !== String(cur)), firstTenant);

@@ -8,39 +8,16 @@
  */
 import { execFileSync } from "node:child_process";
 import fs from "node:fs";
-import type { Page } from "playwright-core";
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { describe, expect, it } from "vitest";
 import { DEMO_PASSWORD } from "@/lib/data/seed";
-import { artifactPath, launchBrowser, type TestBrowser } from "../setup/browser";
-import { startTestServer, type TestServer } from "../setup/server";
+import { artifactPath } from "../setup/browser";
+import { openSignedIn, setUpServerSuite } from "../helpers/server-suite";
 
-let srv: TestServer;
-let browser: TestBrowser;
-
-beforeAll(async () => {
-  srv = await startTestServer({ seed: true });
-  browser = await launchBrowser({ viewport: { width: 1440, height: 1000 } });
-}, 300_000);
-
-afterAll(async () => {
-  await browser?.close();
-  await srv?.stop();
-});
-
-async function signIn(page: Page, email: string): Promise<void> {
-  await browser.context.clearCookies();
-  await page.goto(`${srv.url}/signin`);
-  await page.getByLabel("E-mail").fill(email);
-  await page.getByLabel("Password").fill(DEMO_PASSWORD);
-  await page.getByRole("button", { name: "Sign in" }).click();
-  await page.waitForURL((u) => !u.pathname.startsWith("/signin"), { timeout: 30_000 });
-}
+const suite = setUpServerSuite({ seed: true, browser: { width: 1440, height: 1000 } });
 
 describe("reports in Chromium", () => {
   it("an operator writes a shift note, the handover shows it, and its PDF downloads and opens", async () => {
-    const page = await browser.context.newPage();
-    await signIn(page, "operator@vantrell.example");
-    await page.goto(`${srv.url}/reports/handover?shift=current`);
+    const page = await openSignedIn(suite, "operator@vantrell.example", DEMO_PASSWORD, "/reports/handover?shift=current");
     await expect.poll(() => page.getByRole("heading", { level: 1 }).textContent()).toContain("Shift in progress");
     await expect.poll(() => page.getByRole("note", { name: "Caution" }).count()).toBeGreaterThan(0);
     const text = `Feed pump B vibrating, fitter called ${Date.now().toString(36)}`;
@@ -69,12 +46,11 @@ describe("reports in Chromium", () => {
   });
 
   it("a note written on a loop's page appears in its timeline", async () => {
-    const page = await browser.context.newPage();
-    await signIn(page, "operator@vantrell.example");
-    const r = await page.request.get(`${srv.url}/api/loops`);
+    const page = await openSignedIn(suite, "operator@vantrell.example", DEMO_PASSWORD);
+    const r = await page.request.get(`${suite.srv.url}/api/loops`);
     const { loops } = (await r.json()) as { loops: { id: number; tag: string }[] };
     const loop = loops[0]!;
-    await page.goto(`${srv.url}/loops/${loop.id}`);
+    await page.goto(`${suite.srv.url}/loops/${loop.id}`);
     const text = `Checked positioner on ${loop.tag}, air supply fine`;
     await page.getByRole("button", { name: "Write a note" }).click();
     await page.getByLabel("Note on this loop").fill(text);
@@ -95,15 +71,13 @@ describe("reports in Chromium", () => {
   });
 
   it("the worst-loops page states its formula; a viewer gets no note form on the handover", async () => {
-    const page = await browser.context.newPage();
-    await signIn(page, "viewer@vantrell.example");
-    await page.goto(`${srv.url}/reports/worst-loops`);
+    const page = await openSignedIn(suite, "viewer@vantrell.example", DEMO_PASSWORD, "/reports/worst-loops");
     await expect.poll(() => page.locator("main").textContent()).toContain("Score = 100 x (criticality / 3)");
     await page.screenshot({ path: artifactPath("worst-loops-page.png"), fullPage: true });
-    await page.goto(`${srv.url}/reports/fleet-health`);
+    await page.goto(`${suite.srv.url}/reports/fleet-health`);
     await expect.poll(() => page.locator("main").textContent()).toContain("Share of loops by diagnosis");
     await page.screenshot({ path: artifactPath("fleet-health-page.png"), fullPage: true });
-    await page.goto(`${srv.url}/reports/handover?shift=current`);
+    await page.goto(`${suite.srv.url}/reports/handover?shift=current`);
     await expect.poll(() => page.getByRole("heading", { level: 1 }).textContent()).toContain("Shift in progress");
     expect(await page.getByRole("button", { name: "Add shift note" }).count()).toBe(0);
     await page.close();

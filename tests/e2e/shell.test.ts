@@ -6,27 +6,15 @@
  * Screenshots go to tests/artifacts/ (git-ignored).
  */
 import type { Page } from "playwright-core";
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { describe, expect, it } from "vitest";
 import { CAUTION_TEXT } from "@/app/(console)/_shell/caution";
 import { mailOf } from "@/server/mail";
-import { createAuthFixture, FIXTURE_PASSWORD, type AuthFixture } from "../auth/fixture";
+import { FIXTURE_PASSWORD } from "../auth/fixture";
 import { authedFetch, signIn } from "../auth/helpers";
-import { artifactPath, launchBrowser, type TestBrowser } from "../setup/browser";
-import { startTestServer, type TestServer } from "../setup/server";
+import { artifactPath } from "../setup/browser";
+import { signInWithForm, setUpServerSuite } from "../helpers/server-suite";
 
-let srv: TestServer;
-let fx: AuthFixture;
-let browser: TestBrowser;
-
-beforeAll(async () => {
-  srv = await startTestServer({ seed: false });
-  fx = await createAuthFixture(srv.db.models);
-  browser = await launchBrowser();
-});
-afterAll(async () => {
-  await browser?.close();
-  await srv?.stop();
-});
+const suite = setUpServerSuite({ seed: false, browser: true });
 
 /**
  * Signing out navigates twice (next-auth's redirect and the session keeper's), so a wait on one
@@ -45,20 +33,16 @@ async function gotoSignedOut(page: Page, url: string): Promise<void> {
   await expectSignInPage(page);
 }
 
-async function signInThroughForm(page: Page, email: string): Promise<void> {
-  await page.goto(`${srv.url}/`);
-  await page.waitForURL(/\/signin/);
-  await page.getByLabel("E-mail").fill(email);
-  await page.getByLabel("Password").fill(FIXTURE_PASSWORD);
-  await page.getByRole("button", { name: "Sign in" }).click();
-  await page.waitForURL((u) => !u.pathname.startsWith("/signin"), { timeout: 30_000 });
+/** Sign in through the form the console redirects to. */
+function signInThroughForm(page: Page, email: string): Promise<void> {
+  return signInWithForm(page, suite.srv.url, email, FIXTURE_PASSWORD, "/");
 }
 
 describe("console shell in Chromium", () => {
   it("a wrong password shows our message and stays on the sign-in page", async () => {
-    const page = await browser.context.newPage();
-    await page.goto(`${srv.url}/signin`);
-    await page.getByLabel("E-mail").fill(fx.a.users.viewer.email);
+    const page = await suite.browser.context.newPage();
+    await page.goto(`${suite.srv.url}/signin`);
+    await page.getByLabel("E-mail").fill(suite.fx.a.users.viewer.email);
     await page.getByLabel("Password").fill("wrong-password");
     await page.getByRole("button", { name: "Sign in" }).click();
     await expect.poll(() => page.locator("#signin-error").textContent()).toContain("The e-mail or password is not right.");
@@ -68,10 +52,10 @@ describe("console shell in Chromium", () => {
   });
 
   it("an admin signs in and sees the shell: tenant, name, role, full navigation, the caution", async () => {
-    const page = await browser.context.newPage();
-    await signInThroughForm(page, fx.a.users.admin.email);
+    const page = await suite.browser.context.newPage();
+    await signInThroughForm(page, suite.fx.a.users.admin.email);
     const header = page.locator("header");
-    await expect.poll(() => header.getByTestId("tenant-name").textContent()).toContain(fx.a.name);
+    await expect.poll(() => header.getByTestId("tenant-name").textContent()).toContain(suite.fx.a.name);
     expect(await header.getByTestId("user-role").textContent()).toBe("admin");
     const nav = page.getByRole("navigation", { name: "Console" });
     for (const label of ["Control room", "Loops", "Alarms", "Reports", "Admin"]) {
@@ -98,13 +82,13 @@ describe("console shell in Chromium", () => {
     // Sign out returns to the sign-in page; the console is closed again.
     await page.getByRole("button", { name: "Sign out" }).click();
     await expectSignInPage(page);
-    await gotoSignedOut(page, `${srv.url}/reports`);
+    await gotoSignedOut(page, `${suite.srv.url}/reports`);
     await page.close();
   });
 
   it("a viewer has no Admin link, and the keyboard reaches the skip link first", async () => {
-    const page = await browser.context.newPage();
-    await signInThroughForm(page, fx.b.users.viewer.email);
+    const page = await suite.browser.context.newPage();
+    await signInThroughForm(page, suite.fx.b.users.viewer.email);
     const nav = page.getByRole("navigation", { name: "Console" });
     await nav.getByRole("link", { name: "Loops" }).waitFor();
     expect(await nav.getByRole("link", { name: "Admin" }).count()).toBe(0);
@@ -116,12 +100,12 @@ describe("console shell in Chromium", () => {
   });
 
   it("a member of two tenants switches tenant from the header", async () => {
-    const page = await browser.context.newPage();
-    await signInThroughForm(page, fx.both.email);
+    const page = await suite.browser.context.newPage();
+    await signInThroughForm(page, suite.fx.both.email);
     const select = page.locator("header select");
     await select.waitFor();
     const before = await select.inputValue();
-    const target = Number(before) === fx.a.id ? fx.b : fx.a;
+    const target = Number(before) === suite.fx.a.id ? suite.fx.b : suite.fx.a;
     await select.selectOption(String(target.id));
     await expect.poll(async () => page.locator("header select").inputValue(), { timeout: 15_000 }).toBe(String(target.id));
     await page.waitForLoadState("networkidle").catch(() => undefined);
@@ -132,11 +116,11 @@ describe("console shell in Chromium", () => {
 
 describe("an invitation to an existing account", () => {
   it("is accepted by signing in as that account; the page never offers to set its password", async () => {
-    const invitee = fx.b.users.operator;
-    const admin = await signIn(srv.url, fx.a.users.admin.email, FIXTURE_PASSWORD);
-    const mail = mailOf(srv.server.ctx)!;
+    const invitee = suite.fx.b.users.operator;
+    const admin = await signIn(suite.srv.url, suite.fx.a.users.admin.email, FIXTURE_PASSWORD);
+    const mail = mailOf(suite.srv.server.ctx)!;
     const before = mail.outbox().length;
-    const res = await authedFetch(srv.url, admin.jar, "/api/admin/users", {
+    const res = await authedFetch(suite.srv.url, admin.jar, "/api/admin/users", {
       method: "POST",
       headers: { "content-type": "application/json" },
       body: JSON.stringify({ email: invitee.email, role: "viewer" }),
@@ -146,9 +130,9 @@ describe("an invitation to an existing account", () => {
     const token = /\/invite\/([A-Za-z0-9_-]+)/.exec(msg?.text ?? "")?.[1];
     expect(token).toBeTruthy();
 
-    await browser.context.clearCookies();
-    const page = await browser.context.newPage();
-    await page.goto(`${srv.url}/invite/${token}`);
+    await suite.browser.context.clearCookies();
+    const page = await suite.browser.context.newPage();
+    await page.goto(`${suite.srv.url}/invite/${token}`);
     expect(await page.getByLabel("New password (at least 12 characters)").count()).toBe(0);
     await page.getByRole("link", { name: `Sign in as ${invitee.email}` }).click();
     await page.waitForURL(/\/signin/);
@@ -158,16 +142,16 @@ describe("an invitation to an existing account", () => {
     await page.waitForURL((u) => u.pathname === `/invite/${token}`, { timeout: 30_000 });
     await page.getByRole("button", { name: "Accept invitation" }).click();
     await expect.poll(() => page.getByRole("status").textContent(), { timeout: 15_000 }).toContain("Invitation accepted");
-    expect(await srv.db.models.Membership.count({ where: { userId: invitee.id, tenantId: fx.a.id } })).toBe(1);
+    expect(await suite.srv.db.models.Membership.count({ where: { userId: invitee.id, tenantId: suite.fx.a.id } })).toBe(1);
     // The account's password still works.
-    expect((await signIn(srv.url, invitee.email, FIXTURE_PASSWORD)).session).toBeTruthy();
+    expect((await signIn(suite.srv.url, invitee.email, FIXTURE_PASSWORD)).session).toBeTruthy();
     await page.close();
   });
 });
 
 describe("security headers in Chromium", () => {
   it("the console runs under its Content-Security-Policy with no violation, and refuses to be framed", async () => {
-    const page = await browser.context.newPage();
+    const page = await suite.browser.context.newPage();
     const messages: string[] = [];
     page.on("console", (m) => messages.push(m.text()));
     await page.addInitScript(() => {
@@ -175,15 +159,15 @@ describe("security headers in Chromium", () => {
       w.__csp = [];
       document.addEventListener("securitypolicyviolation", (e) => w.__csp.push(`${e.violatedDirective} ${e.blockedURI}`));
     });
-    await browser.context.clearCookies();
-    await signInThroughForm(page, fx.a.users.admin.email);
+    await suite.browser.context.clearCookies();
+    await signInThroughForm(page, suite.fx.a.users.admin.email);
     const nav = page.getByRole("navigation", { name: "Console" });
     for (const label of ["Loops", "Alarms", "Admin", "Control room"]) {
       await nav.getByRole("link", { name: label }).click();
       await page.waitForLoadState("networkidle").catch(() => undefined);
       expect(await page.evaluate(() => (window as unknown as { __csp: string[] }).__csp), label).toEqual([]);
     }
-    await page.goto(`${srv.url}/loops/${fx.a.loopId}`);
+    await page.goto(`${suite.srv.url}/loops/${suite.fx.a.loopId}`);
     await page.waitForLoadState("networkidle").catch(() => undefined);
     // Hydrated (scripts ran): the theme toggle works.
     await page.getByRole("button", { name: "Light theme" }).click();
@@ -193,10 +177,10 @@ describe("security headers in Chromium", () => {
     expect(messages.filter((m) => /Content Security Policy/i.test(m))).toEqual([]);
 
     // frame-ancestors 'none': another page cannot frame the console (clickjacking).
-    const framer = await browser.context.newPage();
+    const framer = await suite.browser.context.newPage();
     const framerLog: string[] = [];
     framer.on("console", (m) => framerLog.push(m.text()));
-    await framer.setContent(`<iframe src="${srv.url}/signin"></iframe>`);
+    await framer.setContent(`<iframe src="${suite.srv.url}/signin"></iframe>`);
     await expect.poll(() => framerLog.some((m) => /frame-ancestors/.test(m)), { timeout: 15_000 }).toBe(true);
     await framer.close();
     await page.close();

@@ -11,10 +11,10 @@ import { subscribe, subscriptionInputSchema } from "@/lib/reports/delivery";
 import { handoverDocument } from "@/lib/reports/document";
 import { parseShiftStarts, shiftAt } from "@/lib/reports/shifts";
 import type { ServerContext } from "@/server/context";
-import { startMail, type MailService } from "@/server/mail";
-import { startReports } from "@/server/reports";
-import { createFixture, FakeClock, testContext, type Fixture } from "../alarms/helpers";
+import type { MailService } from "@/server/mail";
+import { createFixture, FakeClock, type Fixture } from "../alarms/helpers";
 import { createTestDatabase, type TestDatabase } from "../setup/db";
+import { addMemberships, startMailContext, tickSending } from "./delivery-fixture";
 
 let db: TestDatabase;
 let fx: Fixture;
@@ -43,10 +43,11 @@ beforeAll(async () => {
   otherSite = Number(s2);
   const [a2] = (await q("INSERT INTO areas (tenant_id, site_id, slug, name, created_at, updated_at) VALUES (?,?, 'jetty', 'Jetty', UTC_TIMESTAMP(3), UTC_TIMESTAMP(3))", [fx.tenantId, otherSite])) as unknown as [number];
   otherSiteArea = Number(a2);
-  for (const role of ["operator", "engineer", "supervisor"] as const) {
-    const userId = role === "supervisor" ? fx.users.admin.userId : fx.users[role].userId;
-    await q("INSERT INTO memberships (user_id, tenant_id, role, created_at, updated_at) VALUES (?,?,?,UTC_TIMESTAMP(3),UTC_TIMESTAMP(3))", [userId, fx.tenantId, role === "supervisor" ? "admin" : role]);
-  }
+  await addMemberships(db, [
+    [fx.users.operator.userId, fx.tenantId, "operator"],
+    [fx.users.engineer.userId, fx.tenantId, "engineer"],
+    [fx.users.admin.userId, fx.tenantId, "admin"],
+  ]);
   const note = (areaId: number | null, text: string) =>
     q("INSERT INTO operator_notes (tenant_id, site_id, area_id, kind, author_id, author_name, text, at) VALUES (?,?,?, 'shift', ?, 'Demo operator', ?, ?)", [
       fx.tenantId,
@@ -60,9 +61,7 @@ beforeAll(async () => {
   await note(areaB, "Utilities: cooling tower fan 2 tripped");
   await note(null, "Whole site: fire drill at 03:00");
 
-  ctx = testContext(new FakeClock(Z("2026-11-25T05:10:00Z"))); // 06:10 CET: the night shift ended at 06:00
-  mail = await startMail(ctx, { sinkPort: 0 });
-  ctx.services.set("mail", mail);
+  ({ ctx, mail } = await startMailContext(new FakeClock(Z("2026-11-25T05:10:00Z")))); // 06:10 CET: the night shift ended at 06:00
   await subscribe(fx.users.operator, { report: "handover", cadence: "shift", siteId: fx.siteId, areaId: fx.areaId });
   await subscribe(fx.users.engineer, { report: "handover", cadence: "shift", siteId: fx.siteId, areaId: areaB });
   await subscribe(fx.users.admin, { report: "handover", cadence: "shift", siteId: fx.siteId });
@@ -88,9 +87,7 @@ describe("area-scoped handover delivery", () => {
   });
 
   it("each subscriber gets the handover of the area subscribed to, once", async () => {
-    const s = await startReports(ctx, { intervalMs: null });
-    expect(await s.tick()).toEqual({ sent: 3, skipped: 0, failed: 0 });
-    const box = await mail.waitForMessages(3);
+    const { scheduler: s, box } = await tickSending(ctx, mail, 3);
     const to = (email: string) => box.filter((m) => m.to.includes(email));
     expect(to(fx.users.operator.email).map((m) => m.subject)).toEqual([expect.stringContaining("Shift handover — North Works · Reactors")]);
     expect(to(fx.users.engineer.email).map((m) => m.subject)).toEqual([expect.stringContaining("Shift handover — North Works · Utilities")]);

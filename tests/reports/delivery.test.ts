@@ -9,10 +9,11 @@ import { QueryTypes } from "sequelize";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { subscribe } from "@/lib/reports/delivery";
 import type { ServerContext } from "@/server/context";
-import { startMail, type MailService } from "@/server/mail";
+import type { MailService } from "@/server/mail";
 import { startReports } from "@/server/reports";
-import { createFixture, FakeClock, testContext, type Fixture } from "../alarms/helpers";
+import { createFixture, FakeClock, type Fixture } from "../alarms/helpers";
 import { createTestDatabase, type TestDatabase } from "../setup/db";
+import { addMemberships, startMailContext, tickSending } from "./delivery-fixture";
 
 let db: TestDatabase;
 let fx: Fixture;
@@ -25,18 +26,13 @@ beforeAll(async () => {
   db = await createTestDatabase("reportsmail", { asDefault: true });
   fx = await createFixture(db.models);
   await db.sequelize.query("UPDATE sites SET time_zone = 'Europe/Berlin' WHERE id = ?", { replacements: [fx.siteId] });
-  for (const role of ["operator", "viewer"] as const) {
-    await db.sequelize.query("INSERT INTO memberships (user_id, tenant_id, role, created_at, updated_at) VALUES (?,?,?,UTC_TIMESTAMP(3),UTC_TIMESTAMP(3))", {
-      replacements: [fx.users[role].userId, fx.tenantId, role],
-    });
-  }
-  await db.sequelize.query("INSERT INTO memberships (user_id, tenant_id, role, created_at, updated_at) VALUES (?,?,'admin',UTC_TIMESTAMP(3),UTC_TIMESTAMP(3))", {
-    replacements: [fx.outsider.userId, fx.otherTenantId],
-  });
+  await addMemberships(db, [
+    [fx.users.operator.userId, fx.tenantId, "operator"],
+    [fx.users.viewer.userId, fx.tenantId, "viewer"],
+    [fx.outsider.userId, fx.otherTenantId, "admin"],
+  ]);
   clock = new FakeClock(Z("2026-11-25T05:10:00Z")); // 06:10 CET: the night shift ended at 06:00
-  ctx = testContext(clock);
-  mail = await startMail(ctx, { sinkPort: 0 });
-  ctx.services.set("mail", mail);
+  ({ ctx, mail } = await startMailContext(clock));
   await subscribe(fx.users.operator, { report: "handover", cadence: "shift", siteId: fx.siteId });
   await subscribe(fx.users.viewer, { report: "worst-loops", cadence: "weekly" });
   // A subscription row naming a user of another tenant (not a member here): must never be served.
@@ -52,10 +48,7 @@ afterAll(async () => {
 
 describe("scheduled report e-mails", () => {
   it("sends the ended shift's handover and last week's report once each, with the PDF attached, only to members", async () => {
-    const s = await startReports(ctx, { intervalMs: null });
-    const r = await s.tick();
-    expect(r).toEqual({ sent: 2, skipped: 0, failed: 0 });
-    const box = await mail.waitForMessages(2);
+    const { scheduler: s, box } = await tickSending(ctx, mail, 2);
     const handover = box.find((m) => m.headers["x-rimguard-report"] === "handover")!;
     expect(handover.to).toEqual([fx.users.operator.email]);
     expect(handover.subject).toContain("Shift handover");

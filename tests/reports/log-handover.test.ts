@@ -11,13 +11,13 @@ import fs from "node:fs";
 import os from "node:os";
 import path from "node:path";
 import { afterAll, beforeAll, describe, expect, it, vi } from "vitest";
-import { publicOrigin } from "@/lib/config";
 import { handoverDocument } from "@/lib/reports/document";
 import type { Handover } from "@/lib/reports/handover";
 import type { Role } from "@/lib/domain/types";
 import { createFixture, type Fixture } from "../alarms/helpers";
 import { createTestDatabase, type TestDatabase } from "../setup/db";
 import { signInAs } from "@/tests/helpers/guard-stand-in";
+import { jsonRequest } from "@/tests/helpers/json-request";
 
 vi.mock("@/lib/auth/guard", async () => (await import("@/tests/helpers/guard-stand-in")).guardStandIn());
 
@@ -28,8 +28,7 @@ const confirmRoute = await import("@/app/api/reports/handover/confirm/route");
 
 const url = (p: string) => `http://127.0.0.1${p}`;
 const get = (p: string) => new Request(url(p));
-const post = (p: string, body: unknown) =>
-  new Request(url(p), { method: "POST", headers: { "content-type": "application/json", origin: publicOrigin() }, body: JSON.stringify(body) });
+const post = (p: string, body: unknown) => jsonRequest("POST", p, body);
 const as = (role: Role | "outsider") => {
   signInAs(role === "outsider" ? fx.outsider : fx.users[role]);
 };

@@ -17,6 +17,7 @@ import { createPipelineFixture, type PipelineTenant } from "../pipeline/fixture"
 import { ManualClock, testContext } from "../pipeline/helpers";
 import { createTestDatabase, type TestDatabase } from "../setup/db";
 import { DT, encodeWithPython, type PayloadSpec } from "./encode";
+import { mulberry32 } from "../helpers/seeded-random";
 
 let db: TestDatabase;
 let a: PipelineTenant;
@@ -24,17 +25,6 @@ let p: PipelineService;
 const clock = new ManualClock(Math.floor((Date.now() - 3_600_000) / 1000) * 1000);
 const GROUP = "hostile.g";
 const base = `spBv1.0/${GROUP}`;
-
-function mulberry32(seed: number): () => number {
-  let s = seed >>> 0;
-  return () => {
-    s = (s + 0x6d2b79f5) >>> 0;
-    let t = s;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
 
 beforeAll(async () => {
   db = await createTestDatabase("sph", { asDefault: true });

@@ -16,6 +16,7 @@ import { createFixture, type Fixture } from "../alarms/helpers";
 import { createTestDatabase, type TestDatabase } from "../setup/db";
 import { stepTestCsv } from "./simulate";
 import { signInAs } from "@/tests/helpers/guard-stand-in";
+import { jsonRequest } from "@/tests/helpers/json-request";
 
 vi.mock("@/lib/auth/guard", async () => (await import("@/tests/helpers/guard-stand-in")).guardStandIn());
 
@@ -63,9 +64,7 @@ function upload(loopId: number, content: string | Uint8Array, filename = "fic101
   for (const [k, v] of Object.entries(extra)) form.set(k, v);
   return new Request(url(`/api/loops/${loopId}/step-tests`), { method: "POST", headers: { origin: publicOrigin() }, body: form });
 }
-// Writes carry the console's Origin, as the browser sends it (lib/request-guard.ts).
-const postJson = (path: string, body: unknown) =>
-  new Request(url(path), { method: "POST", headers: { "content-type": "application/json", origin: publicOrigin() }, body: JSON.stringify(body) });
+const postJson = (path: string, body: unknown) => jsonRequest("POST", path, body);
 
 async function objectKeys(): Promise<string[]> {
   const r = await store.client.send(new ListObjectsV2Command({ Bucket: store.bucket }));

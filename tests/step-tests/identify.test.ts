@@ -13,7 +13,7 @@ import { parseStepTestCsv } from "@/lib/step-tests/csv";
 import { simulateFopdt } from "@/lib/step-tests/fopdt";
 import { identifyStepTest } from "@/lib/step-tests/identify";
 import { ValidationError } from "@/lib/domain/errors";
-import { mulberry32, normal } from "../control/seeded-random";
+import { mulberry32, normal } from "../helpers/seeded-random";
 import { fopdtAt, stepTestCsv, type Fopdt, type MvStep } from "./simulate";
 
 // Invented plant: a steam-heated dryer temperature, PV 80-180 degC, MV 0-100 %, logged every 2 s.

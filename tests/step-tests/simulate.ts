@@ -3,9 +3,9 @@
  * a first-order-plus-dead-time plant K e^{-Ls}/(tau s + 1) driven by MV steps, evaluated in
  * closed form by superposing step responses y(t) = K du (1 - e^{-(t - t_i - L)/tau}) for
  * t > t_i + L (the textbook first-order step response; checked against scipy.signal in
- * identify.test.ts). Noise: seeded Gaussian (tests/control/seeded-random.ts).
+ * identify.test.ts). Noise: seeded Gaussian (tests/helpers/seeded-random.ts).
  */
-import { mulberry32, normal } from "../control/seeded-random";
+import { mulberry32, normal } from "../helpers/seeded-random";
 
 export interface Fopdt {
   K: number;

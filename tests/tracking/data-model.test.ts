@@ -22,7 +22,7 @@ import {
   SAMPLES_PER_TIME_CONSTANT,
 } from "@/server/tracking/data-model";
 import { LoopTracker } from "@/server/tracking/loop-tracker";
-import { mulberry32, normal } from "../control/seeded-random";
+import { mulberry32, normal } from "../helpers/seeded-random";
 import { testLoopConfig, piTuning } from "../helpers/loop-config";
 import { FakeClock } from "./helpers";
 

@@ -7,12 +7,12 @@ import { AdminPolicies } from "@/app/(console)/admin/_components/admin-policies"
 import { AdminShifts } from "@/app/(console)/admin/_components/admin-shifts";
 import { AdminUsers } from "@/app/(console)/admin/_components/admin-users";
 import { ConfigChangeLog } from "@/app/_components/config-change-log";
-import { getContextOrNull } from "@/lib/auth/guard";
+import { pageMetadata, requirePageContext } from "@/app/(console)/_shell/page-context";
 import { POLICY_SCOPES, type PolicyScope } from "@/lib/domain/alarms/policy";
 import { roleAtLeast } from "@/lib/domain/types";
 
 export const dynamic = "force-dynamic";
-export const metadata = { title: "Administration · Rimguard" };
+export const metadata = pageMetadata("Administration");
 
 const SECTIONS = [
   { id: "levels", label: "Alarm levels", min: "engineer" },
@@ -27,8 +27,7 @@ const SECTIONS = [
 ] as const;
 
 export default async function AdminPage({ searchParams }: { searchParams: Promise<Record<string, string | string[] | undefined>> }) {
-  const ctx = await getContextOrNull();
-  if (!ctx) redirect("/signin");
+  const ctx = await requirePageContext();
   if (!roleAtLeast(ctx.role, "engineer")) redirect("/");
   const sp = await searchParams;
   const visible = SECTIONS.filter((s) => roleAtLeast(ctx.role, s.min));

@@ -1,12 +1,10 @@
-import { redirect } from "next/navigation";
 import { LoopInventory } from "@/app/(console)/loops/_components/loop-inventory";
-import { getContextOrNull } from "@/lib/auth/guard";
+import { pageMetadata, requirePageContext } from "@/app/(console)/_shell/page-context";
 
 export const dynamic = "force-dynamic";
-export const metadata = { title: "Loops · Rimguard" };
+export const metadata = pageMetadata("Loops");
 
 export default async function LoopsPage() {
-  const ctx = await getContextOrNull();
-  if (!ctx) redirect("/signin");
+  const ctx = await requirePageContext();
   return <LoopInventory role={ctx.role} />;
 }

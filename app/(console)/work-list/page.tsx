@@ -1,14 +1,12 @@
-import { redirect } from "next/navigation";
-import { getContextOrNull } from "@/lib/auth/guard";
+import { pageMetadata, requirePageContext } from "@/app/(console)/_shell/page-context";
 import { roleAtLeast } from "@/lib/domain/types";
 import { WorkListView } from "./_components/work-list-view";
 
 export const dynamic = "force-dynamic";
-export const metadata = { title: "Work list · Rimguard" };
+export const metadata = pageMetadata("Work list");
 
 export default async function WorkListPage({ searchParams }: { searchParams: Promise<{ item?: string }> }) {
-  const ctx = await getContextOrNull();
-  if (!ctx) redirect("/signin");
+  const ctx = await requirePageContext();
   const { item } = await searchParams;
   const initialItem = item && /^\d+$/.test(item) ? Number(item) : null;
   return (

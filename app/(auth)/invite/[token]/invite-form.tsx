@@ -33,14 +33,7 @@ export function InviteForm({ token, email }: { token: string; email: string }) {
         Repeat the password
         <input name="confirm" type="password" required minLength={12} autoComplete="new-password" className={inp} />
       </label>
-      {state.error && (
-        <p role="alert" className="text-sm text-urgent">
-          {state.error}
-        </p>
-      )}
-      <button type="submit" disabled={pending} className="rounded bg-accent px-3 py-1.5 font-semibold text-accent-ink disabled:opacity-60">
-        {pending ? "Saving…" : "Set password"}
-      </button>
+      <SubmitRow error={state.error} pending={pending} label="Set password" pendingLabel="Saving…" />
     </form>
   );
 }
@@ -63,14 +56,23 @@ export function AcceptAsSignedInForm({ token, email }: { token: string; email: s
       <p className="text-sm text-muted">
         Signed in as <span className="text-ink">{email}</span>.
       </p>
-      {state.error && (
+      <SubmitRow error={state.error} pending={pending} label="Accept invitation" pendingLabel="Accepting…" />
+    </form>
+  );
+}
+
+/** The end of an invitation form: the action's error, then the submit button (worded for the wait). */
+function SubmitRow({ error, pending, label, pendingLabel }: { error: string | null; pending: boolean; label: string; pendingLabel: string }) {
+  return (
+    <>
+      {error && (
         <p role="alert" className="text-sm text-urgent">
-          {state.error}
+          {error}
         </p>
       )}
       <button type="submit" disabled={pending} className="rounded bg-accent px-3 py-1.5 font-semibold text-accent-ink disabled:opacity-60">
-        {pending ? "Accepting…" : "Accept invitation"}
+        {pending ? pendingLabel : label}
       </button>
-    </form>
+    </>
   );
 }

@@ -1,17 +1,18 @@
 "use client";
 /** Device credentials: create (the secret is shown once), list, revoke. */
-import { zodResolver } from "@hookform/resolvers/zod";
 import { useState } from "react";
-import { useForm } from "react-hook-form";
 import useSWR from "swr";
 import { z } from "zod";
 import type { DeviceDto } from "@/lib/data/admin/devices";
 import type { SiteDto } from "@/lib/data/admin/sites";
 import { fetchJson, sendJson } from "@/lib/client/fetcher";
 import { fmtTime } from "@/lib/client/format";
-import { Field, FormAlert, INPUT_CLASS, SUBMIT_CLASS, useServerError } from "@/app/_components/form-field";
+import { Field, INPUT_CLASS, useServerError } from "@/app/_components/form-field";
 import { ReasonDialog } from "@/app/_components/reason-dialog";
 import { IdOptions } from "@/app/_components/id-options";
+import { useZodForm } from "@/app/_components/use-zod-form";
+import { AdminTable } from "./admin-table";
+import { AdminCreateForm } from "./admin-create-form";
 
 const form = z.object({ name: z.string().trim().min(2, "Name the device (at least 2 characters)."), siteId: z.number().int().positive().nullable() });
 
@@ -21,12 +22,7 @@ export function AdminDevices() {
   const [created, setCreated] = useState<(DeviceDto & { secret: string }) | null>(null);
   const { error: err, attempt } = useServerError();
   const [revoking, setRevoking] = useState<DeviceDto | null>(null);
-  const {
-    register,
-    handleSubmit,
-    reset,
-    formState: { errors, isSubmitting },
-  } = useForm<z.infer<typeof form>>({ resolver: zodResolver(form), defaultValues: { name: "", siteId: null } });
+  const { register, handleSubmit, reset, formState: { errors, isSubmitting } } = useZodForm(form, { name: "", siteId: null });
   const create = handleSubmit((v) =>
     attempt(async () => {
       const r = await sendJson<{ device: DeviceDto & { secret: string } }>("/api/admin/devices", "POST", v);
@@ -37,7 +33,7 @@ export function AdminDevices() {
   );
   return (
     <section className="flex flex-col gap-3" aria-label="Device credentials" data-testid="admin-devices">
-      <form onSubmit={create} noValidate className="flex flex-wrap items-end gap-3 rounded-md border border-line bg-surface p-3">
+      <AdminCreateForm onSubmit={create} submitting={isSubmitting} submitLabel="Create credential" error={err}>
         <Field label="Device name" error={errors.name}>
           <input {...register("name")} className={`${INPUT_CLASS} w-64`} />
         </Field>
@@ -47,11 +43,7 @@ export function AdminDevices() {
             <IdOptions rows={sites.data?.sites} label="name" />
           </select>
         </Field>
-        <button type="submit" disabled={isSubmitting} className={SUBMIT_CLASS}>
-          Create credential
-        </button>
-        <FormAlert error={err} />
-      </form>
+      </AdminCreateForm>
       {created && (
         <div role="status" className="rounded-md border-2 border-accent bg-surface p-3 text-sm" data-testid="device-secret">
           <p className="font-semibold">Copy the secret now: it is shown only this once and cannot be recovered.</p>
@@ -68,39 +60,26 @@ export function AdminDevices() {
           </button>
         </div>
       )}
-      {error && <p className="text-sm text-urgent">{(error as Error).message}</p>}
-      <table className="w-full rounded-md border border-line bg-surface text-sm">
-        <thead>
-          <tr className="border-b border-line text-left">
-            <th className="px-2 py-1">Name</th>
-            <th className="px-2 py-1">Key id</th>
-            <th className="px-2 py-1">Client id</th>
-            <th className="px-2 py-1">Created</th>
-            <th className="px-2 py-1">Last seen</th>
-            <th className="px-2 py-1">Status</th>
+      <AdminTable error={error} columns={["Name", "Key id", "Client id", "Created", "Last seen", "Status"]}>
+        {data?.devices.map((d) => (
+          <tr key={d.id} className={`border-b border-line/50 ${d.revokedAt ? "text-muted" : ""}`}>
+            <td className="px-2 py-1">{d.name}</td>
+            <td className="px-2 py-1 font-mono">{d.keyId}</td>
+            <td className="px-2 py-1 font-mono">{d.clientId}</td>
+            <td className="num px-2 py-1">{fmtTime(d.createdAt)}</td>
+            <td className="num px-2 py-1">{d.lastSeenAt ? fmtTime(d.lastSeenAt) : "never"}</td>
+            <td className="px-2 py-1">
+              {d.revokedAt ? (
+                `revoked ${fmtTime(d.revokedAt)}`
+              ) : (
+                <button type="button" onClick={() => setRevoking(d)} className="rounded border border-line px-2 py-0.5 text-xs">
+                  Revoke
+                </button>
+              )}
+            </td>
           </tr>
-        </thead>
-        <tbody>
-          {data?.devices.map((d) => (
-            <tr key={d.id} className={`border-b border-line/50 ${d.revokedAt ? "text-muted" : ""}`}>
-              <td className="px-2 py-1">{d.name}</td>
-              <td className="px-2 py-1 font-mono">{d.keyId}</td>
-              <td className="px-2 py-1 font-mono">{d.clientId}</td>
-              <td className="num px-2 py-1">{fmtTime(d.createdAt)}</td>
-              <td className="num px-2 py-1">{d.lastSeenAt ? fmtTime(d.lastSeenAt) : "never"}</td>
-              <td className="px-2 py-1">
-                {d.revokedAt ? (
-                  `revoked ${fmtTime(d.revokedAt)}`
-                ) : (
-                  <button type="button" onClick={() => setRevoking(d)} className="rounded border border-line px-2 py-0.5 text-xs">
-                    Revoke
-                  </button>
-                )}
-              </td>
-            </tr>
-          ))}
-        </tbody>
-      </table>
+        ))}
+      </AdminTable>
       {revoking && (
         <ReasonDialog
           title="Revoke device credential"

@@ -1,8 +1,6 @@
 "use client";
 /** Administration sections: notification rules, sites and operator areas, the demo's outbox. */
-import { zodResolver } from "@hookform/resolvers/zod";
 import { useState } from "react";
-import { useForm } from "react-hook-form";
 import useSWR from "swr";
 import { z } from "zod";
 import type { RuleDto } from "@/lib/data/admin/notifications";
@@ -10,8 +8,10 @@ import type { SiteDto } from "@/lib/data/admin/sites";
 import { ALARM_PRIORITIES } from "@/lib/domain/types";
 import { fetchJson, sendJson } from "@/lib/client/fetcher";
 import { fmtTime } from "@/lib/client/format";
-import { CheckField, Field, FormAlert, INPUT_CLASS, SUBMIT_CLASS, useServerError } from "@/app/_components/form-field";
+import { CheckField, Field, INPUT_CLASS, SUBMIT_CLASS, useServerError } from "@/app/_components/form-field";
 import { ReasonDialog } from "@/app/_components/reason-dialog";
+import { useZodForm } from "@/app/_components/use-zod-form";
+import { AdminCreateForm } from "./admin-create-form";
 
 const nullableInt = (v: unknown) => (v === "" || v === null || v === undefined ? null : Number(v));
 const ruleForm = z.object({
@@ -31,15 +31,7 @@ export function AdminRules() {
   const areas = sites.data?.sites.flatMap((s) => s.areas.map((a) => ({ ...a, site: s.name }))) ?? [];
   const { error: err, attempt } = useServerError();
   const [deleting, setDeleting] = useState<RuleDto | null>(null);
-  const {
-    register,
-    handleSubmit,
-    reset,
-    formState: { errors, isSubmitting },
-  } = useForm<z.infer<typeof ruleForm>>({
-    resolver: zodResolver(ruleForm),
-    defaultValues: { name: "", areaId: null, recipients: "", minPriority: "high", escalationMinutes: 15, repeatMinutes: 60, enabled: true, reason: "" },
-  });
+  const { register, handleSubmit, reset, formState: { errors, isSubmitting } } = useZodForm(ruleForm, { name: "", areaId: null, recipients: "", minPriority: "high", escalationMinutes: 15, repeatMinutes: 60, enabled: true, reason: "" });
   const create = handleSubmit((v) =>
     attempt(async () => {
       await sendJson("/api/admin/notification-rules", "POST", { ...v, recipients: v.recipients.split(/[\s,;]+/).filter(Boolean) });
@@ -49,7 +41,7 @@ export function AdminRules() {
   );
   return (
     <section className="flex flex-col gap-3" aria-label="Notification rules" data-testid="admin-rules">
-      <form onSubmit={create} noValidate className="grid gap-3 rounded-md border border-line bg-surface p-3 md:grid-cols-4">
+      <AdminCreateForm onSubmit={create} submitting={isSubmitting} submitLabel="Add rule" error={err} layout="grid gap-3 md:grid-cols-4" submitClassName={`self-end ${SUBMIT_CLASS}`} alertClassName="md:col-span-4">
         <Field label="Rule name" error={errors.name}>
           <input {...register("name")} className={INPUT_CLASS} />
         </Field>
@@ -87,11 +79,7 @@ export function AdminRules() {
         <Field label="Change reason" error={errors.reason} className="md:col-span-3">
           <input {...register("reason")} className={INPUT_CLASS} />
         </Field>
-        <button type="submit" disabled={isSubmitting} className={`self-end ${SUBMIT_CLASS}`}>
-          Add rule
-        </button>
-        <FormAlert error={err} className="md:col-span-4" />
-      </form>
+      </AdminCreateForm>
       {error && <p className="text-sm text-urgent">{(error as Error).message}</p>}
       <ul className="flex flex-col gap-1 text-sm">
         {data?.rules.length === 0 && <li className="text-muted">No rules: nobody is e-mailed about alarms.</li>}
@@ -135,12 +123,7 @@ export function AdminSites() {
   const { data, error, mutate } = useSWR("/api/admin/sites", (u: string) => fetchJson<{ sites: SiteDto[] }>(u));
   const { error: err, attempt } = useServerError();
   const [areaFor, setAreaFor] = useState<SiteDto | null>(null);
-  const {
-    register,
-    handleSubmit,
-    reset,
-    formState: { errors, isSubmitting },
-  } = useForm<z.infer<typeof siteForm>>({ resolver: zodResolver(siteForm), defaultValues: { name: "", timeZone: "UTC" } });
+  const { register, handleSubmit, reset, formState: { errors, isSubmitting } } = useZodForm(siteForm, { name: "", timeZone: "UTC" });
   const create = handleSubmit((v) =>
     attempt(async () => {
       await sendJson("/api/admin/sites", "POST", v);
@@ -150,18 +133,14 @@ export function AdminSites() {
   );
   return (
     <section className="flex flex-col gap-3" aria-label="Sites and areas" data-testid="admin-sites">
-      <form onSubmit={create} noValidate className="flex flex-wrap items-end gap-3 rounded-md border border-line bg-surface p-3">
+      <AdminCreateForm onSubmit={create} submitting={isSubmitting} submitLabel="Add site" error={err}>
         <Field label="Site name" error={errors.name}>
           <input {...register("name")} className={INPUT_CLASS} />
         </Field>
         <Field label="Time zone" error={errors.timeZone}>
           <input {...register("timeZone")} className={INPUT_CLASS} />
         </Field>
-        <button type="submit" disabled={isSubmitting} className={SUBMIT_CLASS}>
-          Add site
-        </button>
-        <FormAlert error={err} />
-      </form>
+      </AdminCreateForm>
       {error && <p className="text-sm text-urgent">{(error as Error).message}</p>}
       <ul className="flex flex-col gap-2">
         {data?.sites.map((s) => (

@@ -13,6 +13,8 @@ import { fmtTime } from "@/lib/client/format";
 import type { LoopSummary } from "@/lib/domain/types";
 import { MODE_DATATYPES, NUMERIC_DATATYPES, datatypeName, type SparkplugOverviewDto, type SparkplugSourceDto } from "@/lib/domain/sparkplug";
 import { IdOptions } from "@/app/_components/id-options";
+import { AdminTable } from "./admin-table";
+import { AdminCreateForm } from "./admin-create-form";
 
 const sourceKey = (s: Pick<SparkplugSourceDto, "groupId" | "edgeNode" | "device">) => `${s.groupId}/${s.edgeNode}/${s.device}`;
 const CODES: Record<string, number> = Object.fromEntries(Array.from({ length: 14 }, (_, i) => [datatypeName(i + 1), i + 1]));
@@ -87,38 +89,22 @@ export function AdminSparkplug() {
         Gateways that speak Sparkplug B publish under a group id. A group id belongs to one organisation: its births and data count here whichever broker carries them. Rimguard only listens; it never sends
         commands or rebirth requests, so a source marked as needing a rebirth must be restarted at the gateway.
       </p>
-      <form onSubmit={submitBind} noValidate className="flex flex-wrap items-end gap-3 rounded-md border border-line bg-surface p-3">
+      <AdminCreateForm onSubmit={submitBind} submitLabel="Claim group id" error={bind.error}>
         <Field label="Group id" hint={`Yours: ${data?.groups.join(", ") || "none yet"}`}>
           <input value={groupId} onChange={(e) => setGroupId(e.target.value)} className={`${INPUT_CLASS} w-64`} />
         </Field>
-        <button type="submit" className={SUBMIT_CLASS}>
-          Claim group id
-        </button>
-        <FormAlert error={bind.error} />
-      </form>
-      {error && <p className="text-sm text-urgent">{(error as Error).message}</p>}
-      <table className="w-full rounded-md border border-line bg-surface text-sm">
-        <thead>
-          <tr className="border-b border-line text-left">
-            <th className="px-2 py-1">Group / edge node / device</th>
-            <th className="px-2 py-1">bdSeq</th>
-            <th className="px-2 py-1">Last birth</th>
-            <th className="px-2 py-1">Status</th>
-            <th className="px-2 py-1">Metrics</th>
+      </AdminCreateForm>
+      <AdminTable error={error} columns={["Group / edge node / device", "bdSeq", "Last birth", "Status", "Metrics"]}>
+        {data?.sources.map((s) => (
+          <tr key={sourceKey(s)} className="border-b border-line align-top">
+            <td className="px-2 py-1 font-mono">{`${s.groupId} / ${s.edgeNode}${s.device ? ` / ${s.device}` : ""}`}</td>
+            <td className="px-2 py-1">{s.bdSeq ?? "–"}</td>
+            <td className="px-2 py-1">{fmtTime(s.bornAt)}</td>
+            <td className="px-2 py-1">{s.needsRebirth ? <span className="text-urgent">needs a rebirth: {s.needsRebirth}</span> : s.deadAt ? `offline since ${fmtTime(s.deadAt)}` : "online"}</td>
+            <td className="px-2 py-1">{s.metrics.length}</td>
           </tr>
-        </thead>
-        <tbody>
-          {data?.sources.map((s) => (
-            <tr key={sourceKey(s)} className="border-b border-line align-top">
-              <td className="px-2 py-1 font-mono">{`${s.groupId} / ${s.edgeNode}${s.device ? ` / ${s.device}` : ""}`}</td>
-              <td className="px-2 py-1">{s.bdSeq ?? "–"}</td>
-              <td className="px-2 py-1">{fmtTime(s.bornAt)}</td>
-              <td className="px-2 py-1">{s.needsRebirth ? <span className="text-urgent">needs a rebirth: {s.needsRebirth}</span> : s.deadAt ? `offline since ${fmtTime(s.deadAt)}` : "online"}</td>
-              <td className="px-2 py-1">{s.metrics.length}</td>
-            </tr>
-          ))}
-        </tbody>
-      </table>
+        ))}
+      </AdminTable>
       <form onSubmit={submitMapping} noValidate className="flex flex-wrap items-end gap-3 rounded-md border border-line bg-surface p-3" aria-label="Map metrics to a loop">
         <Field label="Edge node or device" error={fieldErrors.device}>
           <select value={form.source} onChange={set("source")} className={INPUT_CLASS}>
@@ -150,30 +136,20 @@ export function AdminSparkplug() {
         </button>
         <FormAlert error={save.error} />
       </form>
-      <table className="w-full rounded-md border border-line bg-surface text-sm">
-        <thead>
-          <tr className="border-b border-line text-left">
-            <th className="px-2 py-1">Loop</th>
-            <th className="px-2 py-1">Source</th>
-            <th className="px-2 py-1">SP / PV / MV / mode</th>
-            <th className="px-2 py-1" />
+      <AdminTable columns={["Loop", "Source", "SP / PV / MV / mode", null]}>
+        {data?.mappings.map((m) => (
+          <tr key={m.loopId} className="border-b border-line">
+            <td className="px-2 py-1">{m.loopTag}</td>
+            <td className="px-2 py-1 font-mono">{`${m.groupId} / ${m.edgeNode}${m.device ? ` / ${m.device}` : ""}`}</td>
+            <td className="px-2 py-1 font-mono">{[m.sp, m.pv, m.mv, m.mode ?? "(auto)"].join(" · ")}</td>
+            <td className="px-2 py-1">
+              <button type="button" onClick={() => remove(m.loopId)} className="rounded border border-line px-2 py-0.5">
+                Remove
+              </button>
+            </td>
           </tr>
-        </thead>
-        <tbody>
-          {data?.mappings.map((m) => (
-            <tr key={m.loopId} className="border-b border-line">
-              <td className="px-2 py-1">{m.loopTag}</td>
-              <td className="px-2 py-1 font-mono">{`${m.groupId} / ${m.edgeNode}${m.device ? ` / ${m.device}` : ""}`}</td>
-              <td className="px-2 py-1 font-mono">{[m.sp, m.pv, m.mv, m.mode ?? "(auto)"].join(" · ")}</td>
-              <td className="px-2 py-1">
-                <button type="button" onClick={() => remove(m.loopId)} className="rounded border border-line px-2 py-0.5">
-                  Remove
-                </button>
-              </td>
-            </tr>
-          ))}
-        </tbody>
-      </table>
+        ))}
+      </AdminTable>
     </section>
   );
 }

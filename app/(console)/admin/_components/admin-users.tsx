@@ -1,8 +1,6 @@
 "use client";
 /** Users and roles of the tenant, with invitation by e-mail (a one-time link to set a password). */
-import { zodResolver } from "@hookform/resolvers/zod";
 import { useState } from "react";
-import { useForm } from "react-hook-form";
 import useSWR from "swr";
 import { z } from "zod";
 import type { SiteDto } from "@/lib/data/admin/sites";
@@ -11,9 +9,12 @@ import { ROLES, roleAtLeast, type Role } from "@/lib/domain/types";
 import { fetchJson, sendJson } from "@/lib/client/fetcher";
 import { useNow } from "@/lib/client/hooks";
 import { fmtTime } from "@/lib/client/format";
-import { Field, FormAlert, INPUT_CLASS, SUBMIT_CLASS, useServerError } from "@/app/_components/form-field";
+import { Field, INPUT_CLASS, useServerError } from "@/app/_components/form-field";
 import { ReasonDialog } from "@/app/_components/reason-dialog";
 import { MemberSites } from "./admin-member-sites";
+import { useZodForm } from "@/app/_components/use-zod-form";
+import { AdminTable } from "./admin-table";
+import { AdminCreateForm } from "./admin-create-form";
 
 const inviteForm = z.object({ email: z.string().trim().email("Enter a valid e-mail address."), role: z.enum(ROLES) });
 
@@ -24,12 +25,7 @@ export function AdminUsers({ selfUserId }: { selfUserId: number }) {
   const [msg, setMsg] = useState<string | null>(null);
   const { error: err, attempt } = useServerError();
   const [pending, setPending] = useState<{ member: MemberDto; role: Role | null } | null>(null);
-  const {
-    register,
-    handleSubmit,
-    reset,
-    formState: { errors, isSubmitting },
-  } = useForm<z.infer<typeof inviteForm>>({ resolver: zodResolver(inviteForm), defaultValues: { email: "", role: "viewer" } });
+  const { register, handleSubmit, reset, formState: { errors, isSubmitting } } = useZodForm(inviteForm, { email: "", role: "viewer" });
   const invite = handleSubmit((v) =>
     attempt(async () => {
       setMsg(null);
@@ -41,7 +37,7 @@ export function AdminUsers({ selfUserId }: { selfUserId: number }) {
   );
   return (
     <section className="flex flex-col gap-3" aria-label="Users and roles" data-testid="admin-users">
-      <form onSubmit={invite} noValidate className="flex flex-wrap items-end gap-3 rounded-md border border-line bg-surface p-3">
+      <AdminCreateForm onSubmit={invite} submitting={isSubmitting} submitLabel="Invite" error={err} status={msg}>
         <Field label="E-mail" error={errors.email}>
           <input type="email" {...register("email")} className={`${INPUT_CLASS} w-72`} data-testid="invite-email" />
         </Field>
@@ -52,53 +48,33 @@ export function AdminUsers({ selfUserId }: { selfUserId: number }) {
             ))}
           </select>
         </Field>
-        <button type="submit" disabled={isSubmitting} className={SUBMIT_CLASS}>
-          Invite
-        </button>
-        {msg && <p role="status" className="w-full text-sm">{msg}</p>}
-        <FormAlert error={err} />
-      </form>
-      {error && <p className="text-sm text-urgent">{(error as Error).message}</p>}
-      <table className="w-full rounded-md border border-line bg-surface text-sm">
-        <thead>
-          <tr className="border-b border-line text-left">
-            <th className="px-2 py-1">Name</th>
-            <th className="px-2 py-1">E-mail</th>
-            <th className="px-2 py-1">Role</th>
-            <th className="px-2 py-1">Sites</th>
-            <th className="px-2 py-1">Last sign-in</th>
-            <th className="px-2 py-1">
-              <span className="sr-only">Actions</span>
-            </th>
+      </AdminCreateForm>
+      <AdminTable error={error} columns={["Name", "E-mail", "Role", "Sites", "Last sign-in", <span key="actions" className="sr-only">Actions</span>]}>
+        {data?.members.map((m) => (
+          <tr key={m.membershipId} className="border-b border-line/50">
+            <td className="px-2 py-1">{m.name}</td>
+            <td className="px-2 py-1">{m.email}</td>
+            <td className="px-2 py-1">
+              <select aria-label={`Role of ${m.email}`} value={m.role} disabled={m.userId === selfUserId} onChange={(e) => setPending({ member: m, role: e.target.value as Role })} className={INPUT_CLASS}>
+                {ROLES.map((r) => (
+                  <option key={r}>{r}</option>
+                ))}
+              </select>
+            </td>
+            <td className="px-2 py-1">
+              <MemberSites member={m} sites={sites.map((s) => ({ id: s.id, name: s.name }))} self={m.userId === selfUserId} onChanged={() => void mutate()} />
+            </td>
+            <td className="num px-2 py-1">{m.lastSignInAt ? fmtTime(m.lastSignInAt) : "never"}</td>
+            <td className="px-2 py-1">
+              {m.userId !== selfUserId && (
+                <button type="button" onClick={() => setPending({ member: m, role: null })} className="rounded border border-line px-2 py-0.5 text-xs">
+                  Remove
+                </button>
+              )}
+            </td>
           </tr>
-        </thead>
-        <tbody>
-          {data?.members.map((m) => (
-            <tr key={m.membershipId} className="border-b border-line/50">
-              <td className="px-2 py-1">{m.name}</td>
-              <td className="px-2 py-1">{m.email}</td>
-              <td className="px-2 py-1">
-                <select aria-label={`Role of ${m.email}`} value={m.role} disabled={m.userId === selfUserId} onChange={(e) => setPending({ member: m, role: e.target.value as Role })} className={INPUT_CLASS}>
-                  {ROLES.map((r) => (
-                    <option key={r}>{r}</option>
-                  ))}
-                </select>
-              </td>
-              <td className="px-2 py-1">
-                <MemberSites member={m} sites={sites.map((s) => ({ id: s.id, name: s.name }))} self={m.userId === selfUserId} onChanged={() => void mutate()} />
-              </td>
-              <td className="num px-2 py-1">{m.lastSignInAt ? fmtTime(m.lastSignInAt) : "never"}</td>
-              <td className="px-2 py-1">
-                {m.userId !== selfUserId && (
-                  <button type="button" onClick={() => setPending({ member: m, role: null })} className="rounded border border-line px-2 py-0.5 text-xs">
-                    Remove
-                  </button>
-                )}
-              </td>
-            </tr>
-          ))}
-        </tbody>
-      </table>
+        ))}
+      </AdminTable>
       {data && data.invitations.length > 0 && (
         <div>
           <h3 className="mb-1 font-semibold">Invitations</h3>

@@ -6,12 +6,6 @@
 import {
   createColumnHelper,
   flexRender,
-  getCoreRowModel,
-  getFilteredRowModel,
-  getPaginationRowModel,
-  getSortedRowModel,
-  useReactTable,
-  type SortingState,
 } from "@tanstack/react-table";
 import Link from "next/link";
 import { Fragment, useMemo, useState } from "react";
@@ -26,7 +20,7 @@ import { FilterCheck, FilterInput, FilterRow, FilterSelect } from "@/app/_compon
 import { AlarmEvents } from "@/app/_components/loop-alarms";
 import { PriorityMark } from "@/app/_components/priority-mark";
 import { SortableHead } from "@/app/_components/sortable-head";
-import { EmptyRow, TablePager } from "@/app/_components/table-pager";
+import { EmptyRow, TablePager, usePagedTable } from "@/app/_components/table-pager";
 
 const col = createColumnHelper<AlarmDto>();
 const PRIORITY_ORDER = { urgent: 0, high: 1, low: 2 } as const;
@@ -59,7 +53,6 @@ export function AlarmTable({ role }: { role: Role }) {
       .sort((a, b) => rank(a) - rank(b) || (b.changedAt ?? "").localeCompare(a.changedAt ?? ""));
   }, [alarms, view, tag, showSuppressed]);
   const mayAct = roleAtLeast(role, "operator");
-  const [sorting, setSorting] = useState<SortingState>([]);
   const columns = useMemo(
     () => [
       col.accessor("priority", {
@@ -102,17 +95,7 @@ export function AlarmTable({ role }: { role: Role }) {
     ],
     [mayAct, mutate, open],
   );
-  const table = useReactTable({
-    data: rows,
-    columns,
-    state: { sorting },
-    onSortingChange: setSorting,
-    getCoreRowModel: getCoreRowModel(),
-    getSortedRowModel: getSortedRowModel(),
-    getFilteredRowModel: getFilteredRowModel(),
-    getPaginationRowModel: getPaginationRowModel(),
-    initialState: { pagination: { pageSize: 25 } },
-  });
+  const table = usePagedTable(rows, columns, 25);
   const needing = alarms.filter((a) => ATTENTION_STATES.has(a.state)).length;
   return (
     <div className="flex flex-col gap-3">

@@ -1,17 +1,16 @@
-import { notFound, redirect } from "next/navigation";
+import { notFound } from "next/navigation";
 import { LoopDetail } from "@/app/(console)/loops/[loopId]/_components/loop-detail";
 import { FindingEvidencePanel } from "@/app/_components/finding-evidence";
 import { isRangeKey } from "@/lib/client/ranges";
-import { getContextOrNull } from "@/lib/auth/guard";
+import { pageMetadata, requirePageContext } from "@/app/(console)/_shell/page-context";
 import { loopOwner } from "@/lib/data/loops";
 import { siteVisible } from "@/lib/data/tenancy";
 
 export const dynamic = "force-dynamic";
-export const metadata = { title: "Loop · Rimguard" };
+export const metadata = pageMetadata("Loop");
 
 export default async function LoopPage({ params, searchParams }: { params: Promise<{ loopId: string }>; searchParams: Promise<{ range?: string }> }) {
-  const ctx = await getContextOrNull();
-  if (!ctx) redirect("/signin");
+  const ctx = await requirePageContext();
   const { loopId } = await params;
   const id = Number(loopId);
   if (!Number.isInteger(id) || id <= 0 || id > Number.MAX_SAFE_INTEGER) notFound();

@@ -6,11 +6,6 @@
 import {
   createColumnHelper,
   flexRender,
-  getCoreRowModel,
-  getPaginationRowModel,
-  getSortedRowModel,
-  useReactTable,
-  type SortingState,
 } from "@tanstack/react-table";
 import Link from "next/link";
 import { useMemo, useState } from "react";
@@ -24,7 +19,7 @@ import { FindingMark } from "@/app/_components/finding-mark";
 import { FilterCheck, FilterInput, FilterRow, FilterSelect } from "@/app/_components/form-field";
 import { PriorityMark } from "@/app/_components/priority-mark";
 import { SortableHead } from "@/app/_components/sortable-head";
-import { EmptyRow, TablePager } from "@/app/_components/table-pager";
+import { EmptyRow, TablePager, usePagedTable } from "@/app/_components/table-pager";
 import { TrackerStateBadge } from "@/app/_components/tracker-state-badge";
 
 /** A row as the live loop list gives it (its state may be a live summary rather than the full DTO). */
@@ -40,7 +35,6 @@ export function LoopInventory({ role }: { role: Role }) {
   const [tracker, setTracker] = useState("");
   const [alarmOnly, setAlarmOnly] = useState(false);
   const [finding, setFinding] = useState("");
-  const [sorting, setSorting] = useState<SortingState>([{ id: "worst", desc: false }]);
   const sites = useMemo(() => [...new Set(loops.map((l) => l.siteName))].sort(), [loops]);
   const rows = useMemo(() => {
     const f = q.trim().toLowerCase();
@@ -96,16 +90,7 @@ export function LoopInventory({ role }: { role: Role }) {
     ],
     [now, levels.high],
   );
-  const table = useReactTable({
-    data: rows,
-    columns,
-    state: { sorting },
-    onSortingChange: setSorting,
-    getCoreRowModel: getCoreRowModel(),
-    getSortedRowModel: getSortedRowModel(),
-    getPaginationRowModel: getPaginationRowModel(),
-    initialState: { pagination: { pageSize: 50 } },
-  });
+  const table = usePagedTable(rows, columns, 50, [{ id: "worst", desc: false }]);
   return (
     <div className="flex flex-col gap-3">
       <div className="flex flex-wrap items-end justify-between gap-3">

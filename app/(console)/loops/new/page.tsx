@@ -1,14 +1,13 @@
 import { redirect } from "next/navigation";
 import { LoopForm } from "@/app/(console)/loops/_components/loop-form";
-import { getContextOrNull } from "@/lib/auth/guard";
+import { pageMetadata, requirePageContext } from "@/app/(console)/_shell/page-context";
 import { roleAtLeast } from "@/lib/domain/types";
 
 export const dynamic = "force-dynamic";
-export const metadata = { title: "New loop · Rimguard" };
+export const metadata = pageMetadata("New loop");
 
 export default async function NewLoopPage() {
-  const ctx = await getContextOrNull();
-  if (!ctx) redirect("/signin");
+  const ctx = await requirePageContext();
   if (!roleAtLeast(ctx.role, "engineer")) redirect("/loops");
   return (
     <div className="flex flex-col gap-3">

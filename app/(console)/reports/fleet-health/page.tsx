@@ -1,19 +1,18 @@
-import { redirect } from "next/navigation";
-import { getContextOrNull } from "@/lib/auth/guard";
+import { pageMetadata, requirePageContext } from "@/app/(console)/_shell/page-context";
 import { buildFleetHealth } from "@/lib/reports/fleet-health";
 import { fleetHealthDocument } from "@/lib/reports/fleet-health-document";
 import { PeriodFilter } from "../_components/period-filter";
 import { readPeriodPage } from "../_components/period-page";
 import { ReportDocView } from "../_components/report-doc-view";
+import { ReportDownloads } from "../_components/report-downloads";
 import { ReportHeading } from "../_components/report-heading";
 import { ReportTabs } from "../_components/report-tabs";
 
 export const dynamic = "force-dynamic";
-export const metadata = { title: "Fleet health · Rimguard" };
+export const metadata = pageMetadata("Fleet health");
 
 export default async function FleetHealthPage({ searchParams }: { searchParams: Promise<Record<string, string | undefined>> }) {
-  const ctx = await getContextOrNull();
-  if (!ctx) redirect("/signin");
+  const ctx = await requirePageContext();
   const sp = await searchParams;
   const granularity = sp.granularity === "month" ? "month" : "week";
   const { q, now, period, sites, from, to, params } = await readPeriodPage(ctx, sp, 84, { granularity });
@@ -23,15 +22,9 @@ export default async function FleetHealthPage({ searchParams }: { searchParams: 
     <div className="flex flex-col gap-4">
       <ReportTabs active="/reports/fleet-health" />
       <ReportHeading title={doc.title} period={doc.period}>
-        <span className="flex gap-2 text-sm">
+        <ReportDownloads endpoint="/api/reports/fleet-health" params={params}>
           <a href={`/reports/fleet-health?${new URLSearchParams({ ...Object.fromEntries(params), granularity: granularity === "week" ? "month" : "week" })}`}>by {granularity === "week" ? "month" : "week"}</a>
-          <a href={`/api/reports/fleet-health?${params}&format=csv`} download className="rounded border border-line px-2 py-0.5">
-            Download CSV
-          </a>
-          <a href={`/api/reports/fleet-health?${params}&format=pdf`} download className="rounded border border-line px-2 py-0.5">
-            Download PDF
-          </a>
-        </span>
+        </ReportDownloads>
       </ReportHeading>
       <PeriodFilter action="/reports/fleet-health" from={from} to={to} siteId={q.siteId} areaId={q.areaId} kind={q.kind} sites={sites} />
       <ReportDocView doc={doc} />

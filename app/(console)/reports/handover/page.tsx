@@ -1,7 +1,7 @@
 import Link from "next/link";
-import { notFound, redirect } from "next/navigation";
+import { notFound } from "next/navigation";
 import { listSites } from "@/lib/data/admin/sites";
-import { getContextOrNull } from "@/lib/auth/guard";
+import { pageMetadata, requirePageContext } from "@/app/(console)/_shell/page-context";
 import { handoverDocument, formatLocal } from "@/lib/reports/document";
 import { buildHandover, resolveShift, siteShiftInfo } from "@/lib/reports/handover";
 import { readTime } from "@/lib/reports/params";
@@ -13,11 +13,10 @@ import { ReportHeading } from "../_components/report-heading";
 import { ReportTabs } from "../_components/report-tabs";
 
 export const dynamic = "force-dynamic";
-export const metadata = { title: "Shift handover · Rimguard" };
+export const metadata = pageMetadata("Shift handover");
 
 export default async function HandoverPage({ searchParams }: { searchParams: Promise<{ site?: string; area?: string; shift?: string }> }) {
-  const ctx = await getContextOrNull();
-  if (!ctx) redirect("/signin");
+  const ctx = await requirePageContext();
   const sp = await searchParams;
   const sites = await listSites(ctx);
   const chosen = sites.find((s) => String(s.id) === sp.site) ?? sites[0];

@@ -1,16 +1,14 @@
-import { redirect } from "next/navigation";
 import { listSites } from "@/lib/data/admin/sites";
-import { getContextOrNull } from "@/lib/auth/guard";
+import { pageMetadata, requirePageContext } from "@/app/(console)/_shell/page-context";
 import { listMySubscriptions } from "@/lib/reports/delivery";
 import { ReportTabs } from "../_components/report-tabs";
 import { SubscriptionsForm } from "../_components/subscriptions-form";
 
 export const dynamic = "force-dynamic";
-export const metadata = { title: "Report e-mails · Rimguard" };
+export const metadata = pageMetadata("Report e-mails");
 
 export default async function SubscriptionsPage() {
-  const ctx = await getContextOrNull();
-  if (!ctx) redirect("/signin");
+  const ctx = await requirePageContext();
   const [subs, sites] = await Promise.all([listMySubscriptions(ctx), listSites(ctx)]);
   return (
     <div className="flex flex-col gap-4">

@@ -1,16 +1,15 @@
 import { notFound, redirect } from "next/navigation";
 import { LoopBackfill } from "@/app/_components/loop-backfill";
 import { getLoopConfig } from "@/lib/data/admin/loops";
-import { getContextOrNull } from "@/lib/auth/guard";
+import { pageMetadata, requirePageContext } from "@/app/(console)/_shell/page-context";
 import { roleAtLeast } from "@/lib/domain/types";
 import { LoopSubpageTitle } from "../_components/loop-subpage-title";
 
 export const dynamic = "force-dynamic";
-export const metadata = { title: "Historian backfill · Rimguard" };
+export const metadata = pageMetadata("Historian backfill");
 
 export default async function BackfillPage({ params }: { params: Promise<{ loopId: string }> }) {
-  const ctx = await getContextOrNull();
-  if (!ctx) redirect("/signin");
+  const ctx = await requirePageContext();
   if (!roleAtLeast(ctx.role, "engineer")) redirect("/");
   const id = Number((await params).loopId);
   if (!Number.isInteger(id) || id <= 0) notFound();

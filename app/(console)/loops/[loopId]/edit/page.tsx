@@ -2,15 +2,14 @@ import { notFound, redirect } from "next/navigation";
 import { LoopForm } from "@/app/(console)/loops/_components/loop-form";
 import { ConfigChangeLog } from "@/app/_components/config-change-log";
 import { getLoopConfig } from "@/lib/data/admin/loops";
-import { getContextOrNull } from "@/lib/auth/guard";
+import { pageMetadata, requirePageContext } from "@/app/(console)/_shell/page-context";
 import { roleAtLeast } from "@/lib/domain/types";
 
 export const dynamic = "force-dynamic";
-export const metadata = { title: "Edit loop · Rimguard" };
+export const metadata = pageMetadata("Edit loop");
 
 export default async function EditLoopPage({ params }: { params: Promise<{ loopId: string }> }) {
-  const ctx = await getContextOrNull();
-  if (!ctx) redirect("/signin");
+  const ctx = await requirePageContext();
   const id = Number((await params).loopId);
   if (!Number.isInteger(id) || id <= 0) notFound();
   if (!roleAtLeast(ctx.role, "engineer")) redirect(`/loops/${id}`);

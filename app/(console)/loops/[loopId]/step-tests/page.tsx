@@ -1,17 +1,16 @@
-import { notFound, redirect } from "next/navigation";
+import { notFound } from "next/navigation";
 import { getLoopConfig } from "@/lib/data/admin/loops";
-import { getContextOrNull } from "@/lib/auth/guard";
+import { pageMetadata, requirePageContext } from "@/app/(console)/_shell/page-context";
 import { listStepTests } from "@/lib/step-tests/service";
 import { roleAtLeast } from "@/lib/domain/types";
 import { StepTestsView } from "./_components/step-tests-view";
 import { LoopSubpageTitle } from "../_components/loop-subpage-title";
 
 export const dynamic = "force-dynamic";
-export const metadata = { title: "Step tests · Rimguard" };
+export const metadata = pageMetadata("Step tests");
 
 export default async function StepTestsPage({ params, searchParams }: { params: Promise<{ loopId: string }>; searchParams: Promise<{ test?: string }> }) {
-  const ctx = await getContextOrNull();
-  if (!ctx) redirect("/signin");
+  const ctx = await requirePageContext();
   const id = Number((await params).loopId);
   if (!Number.isInteger(id) || id <= 0) notFound();
   const cfg = await getLoopConfig(ctx, id);
