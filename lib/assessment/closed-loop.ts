@@ -230,3 +230,15 @@ export function disturbanceResponse(
     droppedNegativeReal: dropped,
   };
 }
+
+/**
+ * Time constant of the slowest disturbance-response pole, s: τ = −T / ln r for the pole radius r
+ * at period T (the zero-order-hold map z = e^{sT}, common practice). How long the closed loop
+ * takes to remove what disturbs it in routine operation; mixed with the disturbance's own colour
+ * (see `disturbanceResponse`), null without a stable pole.
+ */
+export function disturbanceTimeConstantS(model: DisturbanceModel | null, samplePeriodS: number): number | null {
+  const r = model?.spectralRadius ?? null;
+  if (r === null || !(r > 0) || !(r < 1)) return null;
+  return -samplePeriodS / Math.log(r);
+}

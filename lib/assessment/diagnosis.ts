@@ -33,6 +33,8 @@ export interface DiagnosisInput {
   harrisIndex: number | null;
   idleIndex: number | null;
   disturbanceDecayRatio: number | null;
+  /** Slowest disturbance-response time constant over the configured dead time (closed-loop.ts), null without a dead time. */
+  disturbanceTimeToDeadTime: number | null;
   /** Most negative error ACF within 1.5 periods of its dominant mode (ringing), null without one. */
   ringDepth: number | null;
   /** The ACF dip relative to its lag-1 value (white noise removed): how far the error swings back; null without a dominant mode. */
@@ -48,6 +50,13 @@ const SUSTAINED = 0.93;
 const AGGRESSIVE_RING = -0.35;
 /** Harris index above which a loop without oscillation reads as sluggish (ours). */
 const SLUGGISH_HARRIS = 3;
+/**
+ * Disturbance-response time constant, in dead times, above which a loop without oscillation reads
+ * as sluggish. SIMC (Skogestad, J. Process Control 13, 2003; from memory) sets the closed-loop time
+ * constant τc = θ for tight control and a few θ for smooth, robust control; 15 θ is ours, above
+ * the largest value seen on healthy DEV loops (10) with room for the disturbance's own colour.
+ */
+const SLUGGISH_TAU = 15;
 /** Relative ACF dip below which the error never swings back (ours). */
 const NO_SWING = 0.08;
 
@@ -161,12 +170,14 @@ export function diagnose(x: DiagnosisInput): Diagnosis {
   const idle = x.idleIndex;
   const harris = x.harrisIndex;
   const noSwing = x.overshoot !== null && x.overshoot < NO_SWING;
-  if ((harris !== null && harris > SLUGGISH_HARRIS) || noSwing || (idle !== null && idle > 0.6)) {
+  const slow = x.disturbanceTimeToDeadTime !== null && x.disturbanceTimeToDeadTime > SLUGGISH_TAU;
+  if ((harris !== null && harris > SLUGGISH_HARRIS) || noSwing || slow || (idle !== null && idle > 0.6)) {
     const ev = ["likely sluggish tuning: no oscillation, and the loop removes its disturbances slowly"];
     if (harris !== null) ev.push(`variance ${fmt(harris, 1)}× the minimum the dead time allows (Harris index; a well-tuned PI loop is typically within 1–3, common practice)`);
     if (noSwing) ev.push(`the error hardly swings back past the set point after a disturbance (autocorrelation dip ${fmt(-x.overshoot!)} of its lag-1 value): an overdamped, slow recovery`);
+    if (slow) ev.push(`the slowest disturbance-response pole has a time constant of ${fmt(x.disturbanceTimeToDeadTime!, 0)} dead times; tuning for τc of one to a few dead times (SIMC, Skogestad 2003) removes disturbances far faster`);
     if (idle !== null) ev.push(`idle index ${fmt(idle)} (near +1 sluggish; Hägglund 1999)`);
-    const votes = (harris !== null && harris > SLUGGISH_HARRIS ? 1 : 0) + (noSwing ? 1 : 0) + (idle !== null && idle > 0.6 ? 1 : 0);
+    const votes = (harris !== null && harris > SLUGGISH_HARRIS ? 1 : 0) + (noSwing ? 1 : 0) + (slow ? 1 : 0) + (idle !== null && idle > 0.6 ? 1 : 0);
     return { label: "sluggish-tuning", confidence: clamp(0.45 + 0.2 * votes), evidence: ev };
   }
   const ev = ["likely healthy: no oscillation, no stiction sign, the error does not ring"];
