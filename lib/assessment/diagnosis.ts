@@ -177,7 +177,9 @@ export function diagnose(x: DiagnosisInput): Diagnosis {
     if (noSwing) ev.push(`the error hardly swings back past the set point after a disturbance (autocorrelation dip ${fmt(-x.overshoot!)} of its lag-1 value): an overdamped, slow recovery`);
     if (slow) ev.push(`the slowest disturbance-response pole has a time constant of ${fmt(x.disturbanceTimeToDeadTime!, 0)} dead times; tuning for τc of one to a few dead times (SIMC, Skogestad 2003) removes disturbances far faster`);
     if (idle !== null) ev.push(`idle index ${fmt(idle)} (near +1 sluggish; Hägglund 1999)`);
-    const votes = (harris !== null && harris > SLUGGISH_HARRIS ? 1 : 0) + (noSwing ? 1 : 0) + (slow ? 1 : 0) + (idle !== null && idle > 0.6 ? 1 : 0);
+    // The Harris index and the disturbance time both weigh the loop's slowness against the dead
+    // time, from the same error: one line of evidence, counted once (ours).
+    const votes = ((harris !== null && harris > SLUGGISH_HARRIS) || slow ? 1 : 0) + (noSwing ? 1 : 0) + (idle !== null && idle > 0.6 ? 1 : 0);
     return { label: "sluggish-tuning", confidence: clamp(0.45 + 0.2 * votes), evidence: ev };
   }
   const ev = ["likely healthy: no oscillation, no stiction sign, the error does not ring"];
