@@ -45,9 +45,9 @@ export function trueDominant(p: CoveragePlant): { radius: number; real: boolean 
 
 /**
  * One seeded run of `samples` seconds; returns the tracker's last state (null if it produced none).
- * `checkpoints`: sample counts at which `each` receives the state.
+ * `each` receives every state with its sample count; `done` the tracker after the last sample.
  */
-export function runTracker(p: CoveragePlant, samples: number, seed: number, each?: (k: number, s: LoopStateDto) => void): LoopStateDto | null {
+export function runTracker(p: CoveragePlant, samples: number, seed: number, each?: (k: number, s: LoopStateDto) => void, done?: (tracker: LoopTracker) => void): LoopStateDto | null {
   const g = normal(mulberry32(seed));
   const u01 = mulberry32(seed ^ 0x5bd1e995);
   const clock = new FakeClock();
@@ -82,19 +82,38 @@ export function runTracker(p: CoveragePlant, samples: number, seed: number, each
       each?.(k + 1, st);
     }
   }
+  done?.(tracker);
   return last;
 }
 
-/** Share of runs whose 95 % interval (radius -/+ 1.96 sd of the dominant pole) holds the true radius. */
-export function trackerCoverage(p: CoveragePlant, runs: number, samples: number, seed: number): { coverage: number; counted: number } {
+/** Counted runs and covered ones, for runs whose reported plant has the configured order and for those with a pole fewer. */
+export interface CoverageByOrder {
+  configured: { counted: number; covered: number };
+  reduced: { counted: number; covered: number };
+}
+
+/**
+ * Share of runs whose 95 % interval (radius -/+ 1.96 sd of the dominant pole) holds the true
+ * radius; `byOrder` splits the counted runs by the order of the plant the tracker reported at the
+ * end (the configured one, or one pole fewer: server/tracking/plant-choice.ts), since the two
+ * groups miss for different reasons.
+ */
+export function trackerCoverage(p: CoveragePlant, runs: number, samples: number, seed: number): { coverage: number; counted: number; byOrder: CoverageByOrder } {
   const truth = trueDominant(p).radius;
+  const byOrder: CoverageByOrder = { configured: { counted: 0, covered: 0 }, reduced: { counted: 0, covered: 0 } };
   let covered = 0;
   let counted = 0;
   for (let r = 0; r < runs; r++) {
-    const st = runTracker(p, samples, seed + r);
+    let order = p.plant.a.length;
+    const st = runTracker(p, samples, seed + r, undefined, (t) => (order = t.plantModel().a.length));
     if (!st || st.spectralRadius === null || st.radiusSd === null || st.trackerState !== "tracking") continue;
     counted++;
-    if (Math.abs(st.spectralRadius - truth) <= 1.959964 * st.radiusSd) covered++;
+    const group = order < p.plant.a.length ? byOrder.reduced : byOrder.configured;
+    group.counted++;
+    if (Math.abs(st.spectralRadius - truth) <= 1.959964 * st.radiusSd) {
+      covered++;
+      group.covered++;
+    }
   }
-  return { coverage: counted ? covered / counted : NaN, counted };
+  return { coverage: counted ? covered / counted : NaN, counted, byOrder };
 }
