@@ -50,11 +50,8 @@ export interface StictionResult extends StictionFigures {
 
 /** Residual ratio of the model fit at or below which a sticking valve clearly explains PV better (ours, set on DEV). */
 const MODEL_CLEAR = 0.95;
-/**
- * Above this the sticking valve explains nothing beyond a linear valve: it contradicts a stick-slip
- * shape (ours; 0.99 with one block size, 0.97 since the fit keeps the better of two, set on DEV).
- */
-const MODEL_NONE = 0.97;
+/** Above this the sticking valve explains nothing beyond a linear valve: it contradicts a stick-slip shape (ours). */
+const MODEL_NONE = 0.99;
 /** Share of the stretch with the output at a limit above which the model fit is withheld (ours). */
 const MODEL_LIMIT_SHARE = 0.02;
 
