@@ -196,22 +196,24 @@ async function main(): Promise<void> {
     const b0 = Date.now();
     let jobId = 0;
     const cap = maxS !== null ? setTimeout(() => p.backfill.get(tenantId, jobId)?.cancel(), maxS * 1000) : null;
+    // a line a minute, so that a long run shows where it is
+    const ticker = setInterval(() => {
+      const pr = p.backfill.get(tenantId, jobId)?.progress();
+      if (pr) console.log(`  … ${((Date.now() - b0) / 1000).toFixed(0)} s: ${(pr.bytesRead / 1e6).toFixed(1)} MB read, ${pr.accepted} accepted, ${pr.samplesPerS.toFixed(0)} samples/s, rss ${mib(process.memoryUsage().rss)}`);
+    }, 60_000);
     const res = await p.backfill.start(
       { tenantId, loopId: backfillLoopId, userId: null, fileName: "historian-export.csv", totalBytes: file.bytes, replaceModel: false },
       fs.createReadStream(csv, { highWaterMark: 64 * 1024 }),
       (id) => (jobId = id),
     );
     if (cap) clearTimeout(cap);
+    clearInterval(ticker);
     const elapsedS = (Date.now() - b0) / 1000;
     const cpu = process.cpuUsage(cpu0);
     delay.during.disable();
     phase = "after";
     await sleep(opts.liveS * 1000);
     clearInterval(rssTimer);
-    pub.kill("SIGTERM");
-    await new Promise<void>((r) => pub.once("exit", () => r()));
-    await p.stop();
-
     const sorted = [...rss.before].sort((a, b) => a - b);
     const base = quantile(sorted, 0.5) ?? 0;
     const peak = Math.max(...rss.during);
@@ -227,6 +229,15 @@ async function main(): Promise<void> {
     const p99 = (xs: number[]) => quantile(xs, 0.99) ?? NaN;
     console.log(`  ratio of live p99 latency during / before the backfill: ${(p99(lat.during) / p99(lat.before)).toFixed(2)}`);
     console.log(`load average at end: ${os.loadavg().map((v) => v.toFixed(2)).join(" ")}`);
+    // print first, then stop: a publisher that exited by itself must not hold the figures back
+    if (pub.exitCode === null && pub.signalCode === null) {
+      const exited = new Promise<void>((r) => pub.once("exit", () => r()));
+      pub.kill("SIGTERM");
+      await Promise.race([exited, sleep(10_000)]);
+    } else {
+      console.log(`  (the live publisher had stopped by itself: exit code ${pub.exitCode}, signal ${pub.signalCode})`);
+    }
+    await p.stop();
   } finally {
     await db.stop();
     fs.rmSync(dir, { recursive: true, force: true });
