@@ -1,14 +1,12 @@
 /**
- * The per-sample helpers of the recursive estimators (lib/control/linalg.ts `solveInto`,
- * lib/control/lag.ts `shiftIn`):
+ * The allocation-free solver of the recursive estimators (lib/control/linalg.ts `solveInto`;
+ * `shiftIn` has its own test in ./lag-vector.test.ts):
  * 1. `solveInto` against numpy.linalg.solve (Debian python3-numpy, LAPACK gesv) on 200 seeded
  *    random systems of sizes 1-8, computed from the same matrices at test time;
- * 2. its singular and non-finite cases (a rank-deficient matrix has no solution: result 0);
- * 3. `shiftIn` moves every lag one position older and drops the oldest.
+ * 2. its singular and non-finite cases (a rank-deficient matrix has no solution: result 0).
  */
 import { execFileSync } from "node:child_process";
 import { describe, expect, it } from "vitest";
-import { shiftIn } from "@/lib/control/lag-vector";
 import { solveInto } from "@/lib/control/linalg";
 import { mulberry32, normal } from "../helpers/seeded-random";
 
@@ -47,21 +45,5 @@ describe("solveInto (Gaussian elimination with partial pivoting, allocation-free
     // diag(2, 8, 4): partial pivoting leaves a diagonal in place; pivots 2, 8, 4, ratio 2 / 8
     expect(solveInto(Float64Array.from([2, 0, 0, 0, 8, 0, 0, 0, 4]), Float64Array.from([2, 8, 4]), 3, work, x)).toBeCloseTo(0.25, 15);
     expect(Array.from(x)).toEqual([1, 1, 1]);
-  });
-});
-
-describe("shiftIn", () => {
-  it("puts the new value at lag 0, moves the rest one lag older and drops the oldest", () => {
-    const lags = Float64Array.from([3, 2, 1]);
-    shiftIn(lags, 4);
-    expect(Array.from(lags)).toEqual([4, 3, 2]);
-    shiftIn(lags, 5);
-    expect(Array.from(lags)).toEqual([5, 4, 3]);
-    const one = Float64Array.from([7]);
-    shiftIn(one, 8);
-    expect(Array.from(one)).toEqual([8]);
-    const none = new Float64Array(0);
-    expect(() => shiftIn(none, 1)).not.toThrow();
-    expect(none.length).toBe(0);
   });
 });
