@@ -33,13 +33,20 @@ export function canAcknowledge(state: AlarmState): boolean {
 export function AlarmActions({
   alarm,
   onDone,
+  onOpenChange,
   compact = false,
 }: {
   alarm: Pick<AlarmDto, "id" | "priority" | "state" | "loopTag" | "message">;
   onDone?: () => void;
+  /** Told when a dialog opens or closes (a live list keeps the alarm's row while one is open). */
+  onOpenChange?: (open: boolean) => void;
   compact?: boolean;
 }) {
-  const [open, setOpen] = useState<Kind | null>(null);
+  const [open, setOpenKind] = useState<Kind | null>(null);
+  const setOpen = (kind: Kind | null) => {
+    setOpenKind(kind);
+    onOpenChange?.(kind !== null);
+  };
   const btn = `rounded border border-line bg-raised px-2 ${compact ? "py-0.5 text-xs" : "py-1 text-sm"} hover:border-accent`;
   return (
     <span className="inline-flex flex-wrap gap-1">

@@ -145,17 +145,21 @@ function TileGrid({ loops, store, now, levels }: { loops: LiveLoopSummary[]; sto
  */
 export const AlarmBand = memo(function AlarmBand({ role, big = false }: { role: Role; big?: boolean }) {
   const { alarms, mutate, error } = useAlarms("");
+  // The alarm whose action dialog is open stays in the band (in its latest state) until the dialog
+  // closes: its row, and the dialog with the operator's comment, must not vanish when the alarm
+  // leaves the attention states meanwhile (the server then answers the action with its reason).
+  const [pinnedId, setPinnedId] = useState<number | null>(null);
   const active = useMemo(
     () =>
       alarms
-        .filter((a: AlarmDto) => ATTENTION_STATES.has(a.state))
+        .filter((a: AlarmDto) => ATTENTION_STATES.has(a.state) || a.id === pinnedId)
         .sort(
           (a, b) =>
             ["urgent", "high", "low"].indexOf(a.priority) - ["urgent", "high", "low"].indexOf(b.priority) ||
             (a.state === "acknowledged" ? 1 : 0) - (b.state === "acknowledged" ? 1 : 0) ||
             (b.activatedAt ?? "").localeCompare(a.activatedAt ?? ""),
         ),
-    [alarms],
+    [alarms, pinnedId],
   );
   const mayAct = roleAtLeast(role, "operator");
   return (
@@ -177,7 +181,7 @@ export const AlarmBand = memo(function AlarmBand({ role, big = false }: { role: 
               <span>{CONDITION_WORDS[a.condition] ?? a.condition}</span>
               <span className="min-w-0 flex-1 truncate text-muted">{a.message}</span>
               <span className="num text-muted">since {fmtClock(a.activatedAt)} UTC</span>
-              {mayAct && !big && <AlarmActions alarm={a} onDone={mutate} compact />}
+              {mayAct && !big && <AlarmActions alarm={a} onDone={mutate} onOpenChange={(open) => setPinnedId(open ? a.id : null)} compact />}
             </li>
           ))}
         </ul>
