@@ -42,6 +42,8 @@ export function AlarmTable({ role }: { role: Role }) {
     to: view === "history" && to ? new Date(to).toISOString() : undefined,
   });
   const { alarms, error, isLoading, mutate } = useAlarms(qs);
+  // The alarm whose action dialog is open keeps its row until the dialog closes (see AlarmBand).
+  const [pinnedId, setPinnedId] = useState<number | null>(null);
   const rows = useMemo(() => {
     const f = tag.trim().toLowerCase();
     const inView = (a: AlarmDto) =>
@@ -49,9 +51,9 @@ export function AlarmTable({ role }: { role: Role }) {
     // Those that ask for a person first, then by priority; the table's own sort overrides this.
     const rank = (a: AlarmDto) => (ATTENTION_STATES.has(a.state) ? 0 : 1) * 10 + PRIORITY_ORDER[a.priority];
     return alarms
-      .filter((a) => inView(a) && (!f || a.loopTag.toLowerCase().includes(f) || a.message.toLowerCase().includes(f)))
+      .filter((a) => a.id === pinnedId || (inView(a) && (!f || a.loopTag.toLowerCase().includes(f) || a.message.toLowerCase().includes(f))))
       .sort((a, b) => rank(a) - rank(b) || (b.changedAt ?? "").localeCompare(a.changedAt ?? ""));
-  }, [alarms, view, tag, showSuppressed]);
+  }, [alarms, view, tag, showSuppressed, pinnedId]);
   const mayAct = roleAtLeast(role, "operator");
   const columns = useMemo(
     () => [
@@ -85,7 +87,7 @@ export function AlarmTable({ role }: { role: Role }) {
         header: "Actions",
         cell: (c) => (
           <span className="flex flex-wrap items-center gap-1">
-            {mayAct && <AlarmActions alarm={c.row.original} onDone={mutate} compact />}
+            {mayAct && <AlarmActions alarm={c.row.original} onDone={mutate} onOpenChange={(o) => setPinnedId(o ? c.row.original.id : null)} compact />}
             <button type="button" className="text-xs text-accent hover:underline" aria-expanded={open === c.row.original.id} onClick={() => setOpen(open === c.row.original.id ? null : c.row.original.id)}>
               events
             </button>
