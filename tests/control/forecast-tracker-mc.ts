@@ -118,6 +118,12 @@ export interface ForecastMc {
   coverage: number;
   /** Share of ALL runs whose forecast lies within +-15 % of the true remaining time. */
   within15: number;
+  /**
+   * The same share with every error moved by the median error: what the best shift common to all
+   * runs (a delay, a change of coordinate that moves every run alike) could reach. Below the
+   * target, the misses are the spread of the runs (variance), not a bias of the fit.
+   */
+  within15Centred: number;
   /** Share of runs with no forecast at half way. */
   quiet: number;
   /** Median and standard deviation of the relative error of the forecast remaining time (forecasts only). */
@@ -166,14 +172,16 @@ export function forecastThroughTracker(kind: ForecastScenario, runs: number, see
     if (Math.abs(err) <= 0.15) within++;
   }
   errors.sort((a, b) => a - b);
+  const median = errors.length ? errors[Math.floor(errors.length / 2)]! : NaN;
   const mean = errors.reduce((a, e) => a + e, 0) / errors.length;
   return {
     runs,
     forecasts,
     coverage: forecasts ? covered / forecasts : NaN,
     within15: within / runs,
+    within15Centred: errors.filter((e) => Math.abs(e - median) <= 0.15).length / runs,
     quiet: (runs - forecasts) / runs,
-    medianError: errors.length ? errors[Math.floor(errors.length / 2)]! : NaN,
+    medianError: median,
     errorSd: errors.length > 1 ? Math.sqrt(errors.reduce((a, e) => a + (e - mean) ** 2, 0) / (errors.length - 1)) : NaN,
     radiusStart,
     radiusHalf,
