@@ -2,7 +2,9 @@
  * From figures to one finding with its evidence. Order of the checks (common practice: rule out
  * what invalidates the others first): too little data -> sensor fault -> manual -> saturated ->
  * oscillation (from outside, stiction, tuning, outside again) -> ringing without a sustained
- * oscillation (aggressive) -> sluggish (idle index, Harris) -> healthy. Every threshold is ours
+ * oscillation (aggressive: a deep dip, or one beyond quarter-amplitude damping) -> sluggish
+ * (Harris, no swing-back, disturbance time, idle index; not when disturbances are removed within
+ * a few dead times) -> healthy. Every threshold is ours
  * unless a source is named; all figures are scale-free (shares, ratios, correlations, periods
  * relative to the loop's own time scale), so the rules do not depend on units or tags.
  */
