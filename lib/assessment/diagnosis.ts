@@ -2,7 +2,9 @@
  * From figures to one finding with its evidence. Order of the checks (common practice: rule out
  * what invalidates the others first): too little data -> sensor fault -> manual -> saturated ->
  * oscillation (from outside, stiction, tuning, outside again) -> ringing without a sustained
- * oscillation (aggressive) -> sluggish (idle index, Harris) -> healthy. Every threshold is ours
+ * oscillation (aggressive: a deep dip, or one beyond quarter-amplitude damping) -> sluggish
+ * (Harris, no swing-back, disturbance time, idle index; not when disturbances are removed within
+ * a few dead times) -> healthy. Every threshold is ours
  * unless a source is named; all figures are scale-free (shares, ratios, correlations, periods
  * relative to the loop's own time scale), so the rules do not depend on units or tags.
  */
@@ -59,6 +61,28 @@ const SLUGGISH_HARRIS = 3;
 const SLUGGISH_TAU = 15;
 /** Relative ACF dip below which the error never swings back (ours). */
 const NO_SWING = 0.08;
+/**
+ * Relative ACF dip at or beyond which the error's own swing reads as aggressive tuning. For a
+ * damped oscillation the ACF falls from one extreme to the next, half a cycle on, by the square
+ * root of the decay ratio, so a dip of half the lag-1 value is quarter-amplitude damping (decay
+ * ratio 0.25): the classic target of Ziegler & Nichols (1942; common practice), which today's
+ * tuning rules aim well below. Miao & Seborg (1999, IEEE CCA; from memory) read the decay ratio
+ * from the error's ACF in the same way. The dip must also exceed RELATIVE_RING_MIN in absolute
+ * terms: with a small lag-1 value (an error dominated by white measurement noise) the relative
+ * figure is noise (ours).
+ */
+const QUARTER_SWING = 0.5;
+const RELATIVE_RING_MIN = -0.2;
+/**
+ * Disturbance-response time constant, in dead times, below which the loop is not called sluggish
+ * whatever the Harris index or the swing-back say: it removes what disturbs it within a few dead
+ * times, as fast as SIMC's tight-to-smooth range (τc of one to a few θ; Skogestad 2003, from
+ * memory) asks. A loop that is fast against its dead time yet far from minimum variance is the
+ * known limit of the Harris index for PI control of lag-dominant processes (the minimum-variance
+ * benchmark is not reachable by a PI controller; e.g. Jelali's survey, Control Eng. Practice 14,
+ * 2006, from memory). 5 dead times is ours.
+ */
+const FAST_TAU = 5;
 
 const clamp = (v: number, lo = 0.3, hi = 0.95) => Math.min(hi, Math.max(lo, v));
 
@@ -157,6 +181,16 @@ export function diagnose(x: DiagnosisInput): Diagnosis {
         evidence: [`likely aggressive tuning: the error rings after disturbances (its autocorrelation dips to ${fmt(x.ringDepth)} within a period of about ${fmt(osc.periodS, 1)} s) without a stick-slip shape`, ...x.stiction.evidence],
       };
     }
+    if (x.overshoot !== null && x.overshoot >= QUARTER_SWING && x.ringDepth < RELATIVE_RING_MIN) {
+      return {
+        label: "aggressive-tuning",
+        confidence: 0.5,
+        evidence: [
+          `likely aggressive tuning: the error swings back past the set point by ${fmt(x.overshoot)} of its excursion (autocorrelation dip ${fmt(x.ringDepth)} against ${fmt(x.ringDepth / -x.overshoot)} at lag 1, within a period of about ${fmt(osc.periodS, 1)} s): less damped than quarter amplitude (decay ratio 0.25; Ziegler & Nichols 1942, Miao & Seborg 1999)`,
+          ...x.stiction.evidence,
+        ],
+      };
+    }
   }
   if (stopToStop && x.saturation > 0.2) {
     return {
@@ -170,22 +204,25 @@ export function diagnose(x: DiagnosisInput): Diagnosis {
   const idle = x.idleIndex;
   const harris = x.harrisIndex;
   const noSwing = x.overshoot !== null && x.overshoot < NO_SWING;
-  const slow = x.disturbanceTimeToDeadTime !== null && x.disturbanceTimeToDeadTime > SLUGGISH_TAU;
-  if ((harris !== null && harris > SLUGGISH_HARRIS) || noSwing || slow || (idle !== null && idle > 0.6)) {
+  const tauToDead = x.disturbanceTimeToDeadTime;
+  const slow = tauToDead !== null && tauToDead > SLUGGISH_TAU;
+  const fast = tauToDead !== null && tauToDead < FAST_TAU;
+  if (!fast && ((harris !== null && harris > SLUGGISH_HARRIS) || noSwing || slow || (idle !== null && idle > 0.6))) {
     const ev = ["likely sluggish tuning: no oscillation, and the loop removes its disturbances slowly"];
     if (harris !== null) ev.push(`variance ${fmt(harris, 1)}× the minimum the dead time allows (Harris index; a well-tuned PI loop is typically within 1–3, common practice)`);
     if (noSwing) ev.push(`the error hardly swings back past the set point after a disturbance (autocorrelation dip ${fmt(-x.overshoot!)} of its lag-1 value): an overdamped, slow recovery`);
     if (slow) ev.push(`the slowest disturbance-response pole has a time constant of ${fmt(x.disturbanceTimeToDeadTime!, 0)} dead times; tuning for τc of one to a few dead times (SIMC, Skogestad 2003) removes disturbances far faster`);
-    if (idle !== null) ev.push(`idle index ${fmt(idle)} (near +1 sluggish; Hägglund 1999)`);
+    if (idle !== null) ev.push(`idle index ${fmt(idle)} (${idle > 0.6 ? "near +1: sluggish" : "not a sign by itself: near +1 would be sluggish"}; Hägglund 1999)`);
     // The Harris index and the disturbance time both weigh the loop's slowness against the dead
     // time, from the same error: one line of evidence, counted once (ours).
     const votes = ((harris !== null && harris > SLUGGISH_HARRIS) || slow ? 1 : 0) + (noSwing ? 1 : 0) + (idle !== null && idle > 0.6 ? 1 : 0);
     return { label: "sluggish-tuning", confidence: clamp(0.45 + 0.2 * votes), evidence: ev };
   }
   const ev = ["likely healthy: no oscillation, no stiction sign, the error does not ring"];
+  if (fast) ev.push(`the slowest disturbance-response pole has a time constant of ${fmt(tauToDead!, 1)} dead times: disturbances are removed about as fast as the dead time allows (SIMC τc of one to a few dead times, Skogestad 2003)${harris !== null && harris > SLUGGISH_HARRIS ? "; the Harris index is high, but a PI loop on a process with lags cannot reach minimum variance" : ""}`);
   if (idle !== null) ev.push(`idle index ${fmt(idle)} (not sluggish; Hägglund 1999)`);
   if (harris !== null) ev.push(`variance ${fmt(harris, 1)}× the minimum for the dead time (Harris index)`);
-  return { label: "healthy", confidence: clamp(0.6 + (idle !== null ? 0.1 : 0) + (harris !== null && harris < 3 ? 0.1 : 0)), evidence: ev };
+  return { label: "healthy", confidence: clamp(0.6 + (idle !== null ? 0.1 : 0) + ((harris !== null && harris < 3) || fast ? 0.1 : 0)), evidence: ev };
 }
 
 function lineLine(l: SpectralLine): string {
