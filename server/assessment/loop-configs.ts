@@ -46,7 +46,7 @@ export async function loadLiveLoops(sequelize: Sequelize, loopId?: number): Prom
           derivativeFilterS: tuning.td > 0 ? tuning.tf : null,
         },
       });
-      loops.push({ loopId: l.id, tenantId: l.tenantId, siteId: l.siteId, config });
+      loops.push({ loopId: l.id, tenantId: l.tenantId, siteId: l.siteId, config, baselineTimeConstantS: l.baselineTimeConstantS });
     } catch (e) {
       errors.set(l.id, e instanceof Error ? e.message : String(e));
     }
