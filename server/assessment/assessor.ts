@@ -56,6 +56,8 @@ export interface LiveLoop {
   config: AssessConfig;
   /** The loop's commissioned closed-loop time constant, s: the model check's speed level (null: none). */
   baselineTimeConstantS?: number | null;
+  /** The tenant's sluggish-tuning multiple of that baseline (work-list settings; absent: the default). */
+  sluggishMultiple?: number;
 }
 
 /** One assessment of a loop, as the work list records it. */
@@ -275,7 +277,9 @@ export class LiveAssessor {
   /** The tracker's model of the loop with the loop's baseline time constant (the speed check's level). */
   private modelFor(e: Entry): ModelView | null | undefined {
     const model = this.opts.modelOf?.(e.loop.loopId);
-    return model ? { ...model, baselineTimeConstantS: e.loop.baselineTimeConstantS ?? null } : model;
+    if (!model) return model;
+    const { baselineTimeConstantS = null, sluggishMultiple } = e.loop;
+    return { ...model, baselineTimeConstantS, ...(sluggishMultiple === undefined ? {} : { sluggishMultiple }) };
   }
 
   private issue(e: Entry, r: LiveResult, kind: ModelCheckKind): LiveResult {
