@@ -112,7 +112,7 @@ export const DEFAULT_POLICY: EffectivePolicy = {
 /**
  * Policy fields of the retired `sluggish` alarm condition. A slow set-point response is the loop
  * assessment's sluggish-tuning finding on the engineering work list now (lib/assessment/model-check.ts,
- * level SLUGGISH_MULTIPLE × the loop's baseline time constant), never an operator alarm.
+ * level: the tenant's work-list multiple of the loop's baseline time constant), never an operator alarm.
  */
 export const RETIRED_POLICY_FIELDS = ["sluggishMultiple", "deadband.sluggish", "enabled.sluggish"] as const;
 
@@ -136,7 +136,7 @@ export function parsePolicyOverride(scope: PolicyScope, raw: unknown): PolicyOve
   if (retired.length > 0)
     throw new BadRequestError(
       `Invalid alarm policy: ${retired.join(", ")}: the sluggish alarm condition is no longer an operator alarm; ` +
-        "a slow set-point response is the sluggish-tuning finding on the engineering work list (level 3 × the loop's baseline time constant). Remove the field.",
+        "a slow set-point response is the sluggish-tuning finding on the engineering work list (its level, a multiple of the loop's baseline time constant, is a work-list setting). Remove the field.",
       retired.map((path) => ({ path: path.split("."), message: "moved to the engineering work list (sluggish-tuning finding)" })),
     );
   const parsed = policyOverrideSchema.safeParse(raw);
