@@ -12,6 +12,7 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { migrateDown, migrateUp, migrationStatus } from "@/lib/data/db/migrate";
 import { readAlarmPoints } from "@/lib/data/alarms/store";
 import { normalizeStoredSettings, parsePolicyOverride } from "@/lib/domain/alarms/policy";
+import { loopTimeline } from "@/lib/reports/timeline";
 import { createEmptyDatabase } from "@/tests/setup/db";
 
 type Db = Awaited<ReturnType<typeof createEmptyDatabase>>;
@@ -136,6 +137,16 @@ describe("migration 0104: the sluggish alarm moves to the engineering work list"
     expect(points.map((p) => p.id)).toEqual([ids.margin]);
     const kept = await q<{ id: number }>("SELECT id FROM alarms WHERE `condition` = 'sluggish' ORDER BY id");
     expect(kept.map((r) => r.id)).toEqual([ids.active, ids.suppressed]);
+  });
+
+  it("the loop's timeline (the history view) shows the retired condition as such, with the note", async () => {
+    const items = await loopTimeline({ tenantId: ids.tenant }, ids.loops[0]!, Date.now() - 3 * 3600_000, Date.now() + 60_000, 50, db.sequelize);
+    const alarms = items.filter((i) => i.kind === "alarm");
+    expect(alarms.map((i) => i.title)).toEqual([
+      "sluggish (retired condition) alarm retired (moved to the engineering work list) (normal)",
+      "sluggish (retired condition) alarm raised (unacknowledged)",
+    ]);
+    expect(alarms[0]!.detail).toMatch(/engineering work list/);
   });
 
   it("stored policies lose the sluggish fields and still parse; the tenant's multiple is now its work-list setting", async () => {
