@@ -27,7 +27,7 @@
  * does not overturn a verdict. Pure: reads one LoopAssessment and one report.
  */
 import { averageResidenceTime } from "@/lib/control/residence-time";
-import { effectivePoles, modeWithinConfidence, type LoopAssessment } from "@/lib/domain/assessment";
+import { modeWithinConfidence, type LoopAssessment } from "@/lib/domain/assessment";
 import type { LoopStateDto } from "@/lib/domain/types";
 import { fmt } from "./oscillation";
 import type { Diagnosis, LoopAssessmentReport } from "./types";
@@ -59,7 +59,7 @@ const SLOW_CONFIDENCE = { atLevel: 0.65, atTwice: 0.8 };
  * `LoopStateDto`) and the loop's baseline time constant only for the speed check.
  */
 export type ModelView = Pick<LoopAssessment, "trackerState" | "polesFrom" | "rimUndecided" | "oscillation" | "estimationPeriodS"> &
-  Partial<Pick<LoopStateDto, "modelPoles" | "dataPoles" | "zeros">> & {
+  Partial<Pick<LoopStateDto, "modelPoles" | "zeros">> & {
     /** The loop's commissioned closed-loop time constant, s (null or absent: no speed check). */
     baselineTimeConstantS?: number | null;
     /** The tenant's level, × the baseline (absent: SLUGGISH_MULTIPLE). */
@@ -116,9 +116,8 @@ export function trustedModelMode(model: ModelView | null | undefined): { periodS
 export function slowResponseOf(model: ModelView | null | undefined): SlowResponse | null {
   if (!isTrusted(model)) return null;
   const base = model.baselineTimeConstantS;
-  if (base == null || !(base > 0) || !model.modelPoles) return null;
-  const poles = effectivePoles({ modelPoles: model.modelPoles, dataPoles: model.dataPoles ?? [] });
-  if (poles.length === 0) return null;
+  const poles = model.modelPoles;
+  if (base == null || !(base > 0) || !poles || poles.length === 0) return null;
   const residenceS = averageResidenceTime(poles, model.zeros ?? [], model.estimationPeriodS, MODEL_SIGMAS);
   if (residenceS === null) return null;
   const ratio = residenceS / base;

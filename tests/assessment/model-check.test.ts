@@ -193,7 +193,7 @@ describe("speed: the tracked model's set-point response against the loop's basel
     const poles = trueClosedLoop(kp, ti).map((p) => ({ re: p.re, im: p.im, radius: Math.hypot(p.re, p.im), sdRadius: 0, cov: null }));
     // closed-loop zero: the PI's, where N = kp[(1 + T/ti) - q^-1] vanishes (the plant adds none)
     const zeros = [{ re: 1 / (1 + 1 / ti), im: 0 }];
-    return modelView(poles, 1, { modelPoles: poles, dataPoles: [], zeros, baselineTimeConstantS: BASELINE_S, ...over });
+    return modelView(poles, 1, { modelPoles: poles, zeros, baselineTimeConstantS: BASELINE_S, ...over });
   };
   const healthy = report(2.9, 20);
   const sluggishRoutine = report(0.15, 100);
