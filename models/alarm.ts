@@ -1,5 +1,6 @@
 /**
- * Alarm policies, alarm points (one per loop and condition), occurrences (one row per
+ * Alarm policies, alarm points (one per loop and operator condition; rows of a retired condition
+ * stay for their history), occurrences (one row per
  * activation, for alarm-rate KPIs per operator area) and the append-only alarm event log
  * (UPDATE and DELETE refused by database triggers; `journalId` unique for idempotent replay).
  * States follow ANSI/ISA-18.2 (lib/domain/types ALARM_STATES).
@@ -9,12 +10,12 @@ import { Row, TimedRow } from "./base";
 import { date, flag, int, json, num, serial, string, tableOptions, timestamps } from "./columns";
 import { enumColumn } from "./enum";
 import {
-  ALARM_CONDITIONS,
   ALARM_PRIORITIES,
   ALARM_STATES,
-  type AlarmCondition,
+  STORED_ALARM_CONDITIONS,
   type AlarmPriority,
   type AlarmState,
+  type StoredAlarmCondition,
 } from "@/lib/domain/types";
 import type { Loop } from "./loop";
 import type { Tenant } from "./tenant";
@@ -39,7 +40,8 @@ export class AlarmPolicy extends TimedRow<AlarmPolicy> {
 export class Alarm extends TimedRow<Alarm> {
   declare tenantId: ForeignKey<Tenant["id"]>;
   declare loopId: ForeignKey<Loop["id"]>;
-  declare condition: AlarmCondition;
+  /** An operator alarm condition, or a retired one on a row kept for history (`sluggish`, migration 0104). */
+  declare condition: StoredAlarmCondition;
   declare priority: AlarmPriority;
   declare state: CreationOptional<AlarmState>;
   /** Is the condition true now (independent of acknowledgement)? */
@@ -70,7 +72,7 @@ export class AlarmOccurrence extends Row<AlarmOccurrence> {
   declare tenantId: ForeignKey<Tenant["id"]>;
   declare loopId: number;
   declare areaId: number | null;
-  declare condition: AlarmCondition;
+  declare condition: StoredAlarmCondition;
   declare priority: AlarmPriority;
   declare startedAt: Date;
   declare endedAt: CreationOptional<Date | null>;
@@ -115,7 +117,7 @@ export function initAlarmModels(sequelize: Sequelize) {
       id: serial(),
       tenantId: int(),
       loopId: int(),
-      condition: enumOf(ALARM_CONDITIONS),
+      condition: enumOf(STORED_ALARM_CONDITIONS),
       priority: enumOf(ALARM_PRIORITIES),
       state: enumColumn(ALARM_STATES, false, "normal"),
       active: flag(false),
@@ -145,7 +147,7 @@ export function initAlarmModels(sequelize: Sequelize) {
       tenantId: int(),
       loopId: int(),
       areaId: int(true),
-      condition: enumOf(ALARM_CONDITIONS),
+      condition: enumOf(STORED_ALARM_CONDITIONS),
       priority: enumOf(ALARM_PRIORITIES),
       startedAt: date(),
       endedAt: date(true),

@@ -69,7 +69,7 @@ export class Loop extends TimedRow<Loop> {
   declare nk: CreationOptional<number>;
   declare estimationPeriodS: number;
   declare estimationProposedS: number | null;
-  /** Dominant closed-loop time constant when commissioned (for the sluggish-loop check). */
+  /** Dominant closed-loop time constant when commissioned (the work list's sluggish-tuning level is a multiple of it). */
   declare baselineTimeConstantS: number | null;
   /** Dead time, s, as the engineer configured it (Harris index); null = not configured (migration 0131). */
   declare deadTimeS: CreationOptional<number | null>;

@@ -117,7 +117,7 @@ async function main() {
     const i = s.loopId;
     live.recheckModel(i);
     const l = demo[i]!;
-    const { memory: m, verdicts } = evaluateConditions(memory[i]!, s, policies[i]!, { baselineTimeConstantS: null, forecastMinutes: forecastMinutesOf(s, clock) }, clock);
+    const { memory: m, verdicts } = evaluateConditions(memory[i]!, s, policies[i]!, { forecastMinutes: forecastMinutesOf(s, clock) }, clock);
     memory[i] = m;
     if (outside.has(i) && s.trackerState === "tracking") {
       const w = outsideWorst.get(i) ?? { radius: 0, decayRatio: 0, undecided: 0, tracking: 0 };

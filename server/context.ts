@@ -49,6 +49,8 @@ export interface BusEvents {
   "loop:config-changed": [loopId: number];
   /** Alarm policies changed for a tenant. */
   "policy:changed": [tenantId: number];
+  /** The work list's engineering settings changed for a tenant (lib/work-list/settings.ts). */
+  "work-list:settings-changed": [tenantId: number];
 }
 
 export class Bus extends EventEmitter<BusEvents> {}

@@ -14,13 +14,21 @@
  *   tuning target of Ziegler & Nichols 1942 — common practice) never leaves a confident
  *   "healthy" or "sluggish": quiet routine data only mean nothing excited the mode. Above
  *   POORLY_DAMPED (half amplitude per cycle) the verdict becomes likely aggressive tuning.
+ * - speed: where the loop has a commissioned baseline time constant (`loops.baseline_time_constant_s`),
+ *   a set-point response whose average residence time (lib/control/residence-time.ts) exceeds
+ *   the tenant's multiple (work-list setting, default SLUGGISH_MULTIPLE) times that baseline turns a
+ *   quiet verdict ("healthy", or confirms "sluggish-tuning") into likely sluggish tuning with the
+ *   figures in its evidence: an engineering work-list item, never an operator alarm (it calls for
+ *   retuning, not for an operator's response).
  *
  * The model counts only while the tracker is `tracking` on model-based poles and not undecided
  * near the rim; its decay ratio is taken with the radius moved one standard deviation toward the
  * origin (the alarms' confidence policy, `modeWithinConfidence`), so a poorly determined model
  * does not overturn a verdict. Pure: reads one LoopAssessment and one report.
  */
+import { averageResidenceTime } from "@/lib/control/residence-time";
 import { modeWithinConfidence, type LoopAssessment } from "@/lib/domain/assessment";
+import type { LoopStateDto } from "@/lib/domain/types";
 import { fmt } from "./oscillation";
 import type { Diagnosis, LoopAssessmentReport } from "./types";
 
@@ -37,11 +45,38 @@ const AGREE_GAIN = 0.1;
 const DISAGREE_LOSS = 0.15;
 /** Confidence of a "healthy"/"sluggish" the model contradicts, at most (below a work item's 0.6). */
 const CONTRADICTED = 0.45;
+/**
+ * A set-point response slower than this many times the loop's commissioned baseline time constant
+ * is likely sluggish tuning (ours; it was the `sluggish` alarm's default level). The default of the
+ * tenant's work-list setting (`work_list_settings.sluggish_multiple`).
+ */
+export const SLUGGISH_MULTIPLE = 3;
+/** Confidence of a sluggish-tuning verdict the model's slow response alone gives, at the multiple and at twice it (ours; above a work item's 0.6). */
+const SLOW_CONFIDENCE = { atLevel: 0.65, atTwice: 0.8 };
 
-/** The figures of the tracker's assessment the check reads. */
-export type ModelView = Pick<LoopAssessment, "trackerState" | "polesFrom" | "rimUndecided" | "oscillation" | "estimationPeriodS">;
+/**
+ * The figures of the tracker's assessment the check reads; the poles and zeros (the tracker's
+ * `LoopStateDto`) and the loop's baseline time constant only for the speed check.
+ */
+export type ModelView = Pick<LoopAssessment, "trackerState" | "polesFrom" | "rimUndecided" | "oscillation" | "estimationPeriodS"> &
+  Partial<Pick<LoopStateDto, "modelPoles" | "zeros">> & {
+    /** The loop's commissioned closed-loop time constant, s (null or absent: no speed check). */
+    baselineTimeConstantS?: number | null;
+    /** The tenant's level, × the baseline (absent: SLUGGISH_MULTIPLE). */
+    sluggishMultiple?: number;
+  };
 
-export type ModelCheckKind = "agree" | "disagree" | "poorly-damped" | "under-damped" | "none";
+export type ModelCheckKind = "agree" | "disagree" | "poorly-damped" | "under-damped" | "slow" | "none";
+
+/** The model's set-point response against the loop's baseline. */
+export interface SlowResponse {
+  /** Average residence time of the model's set-point response, s (poles one standard deviation toward the origin). */
+  residenceS: number;
+  baselineS: number;
+  /** residenceS / baselineS. */
+  ratio: number;
+  multiple: number;
+}
 
 export interface ModelCheck {
   kind: ModelCheckKind;
@@ -49,19 +84,45 @@ export interface ModelCheck {
   model: { periodS: number; decayRatio: number } | null;
   /** The routine period compared, s. */
   routinePeriodS: number | null;
+  /** For `slow`: the residence time against the baseline. */
+  slow?: SlowResponse;
 }
 
 const OWN_MODE = new Set(["aggressive-tuning"]);
 const FROM_OUTSIDE = new Set(["external-disturbance", "valve-stiction"]);
 const QUIET = new Set(["healthy", "sluggish-tuning"]);
 
+/** The model counts: tracking on model-based poles, not undecided near the rim. */
+function isTrusted(model: ModelView | null | undefined): model is ModelView {
+  return !!model && model.trackerState === "tracking" && model.polesFrom === "model" && !model.rimUndecided;
+}
+
 /** The trusted model's oscillating pair, or null (not tracking, data poles, undecided near the rim, no complex pair). */
 export function trustedModelMode(model: ModelView | null | undefined): { periodS: number; decayRatio: number; rawDecayRatio: number } | null {
-  if (!model || model.trackerState !== "tracking" || model.polesFrom !== "model" || model.rimUndecided) return null;
+  if (!isTrusted(model)) return null;
   const osc = model.oscillation;
   if (!osc || !(osc.periodS > 0) || !Number.isFinite(osc.decayRatio)) return null;
   const within = modeWithinConfidence(osc, MODEL_SIGMAS);
   return { periodS: osc.periodS, decayRatio: within ? within.decayRatio : 0, rawDecayRatio: osc.decayRatio };
+}
+
+/**
+ * The trusted model's set-point response when it is slower than the tenant's multiple (default
+ * SLUGGISH_MULTIPLE) times the loop's baseline, else null (no trusted model, no baseline, no poles,
+ * a pole on or outside the circle).
+ * Each pole is moved MODEL_SIGMAS standard deviations of its radius toward the origin first, so a
+ * poorly determined slow pole does not make the verdict.
+ */
+export function slowResponseOf(model: ModelView | null | undefined): SlowResponse | null {
+  if (!isTrusted(model)) return null;
+  const base = model.baselineTimeConstantS;
+  const poles = model.modelPoles;
+  if (base == null || !(base > 0) || !poles || poles.length === 0) return null;
+  const residenceS = averageResidenceTime(poles, model.zeros ?? [], model.estimationPeriodS, MODEL_SIGMAS);
+  if (residenceS === null) return null;
+  const ratio = residenceS / base;
+  const multiple = model.sluggishMultiple ?? SLUGGISH_MULTIPLE;
+  return ratio > multiple ? { residenceS, baselineS: base, ratio, multiple } : null;
 }
 
 /** The period the routine data show: a detected oscillation's, or for ringing read as aggressive tuning, the error's dominant mode. */
@@ -76,13 +137,15 @@ export function checkAgainstModel(report: LoopAssessmentReport, model: ModelView
   const mode = trustedModelMode(model);
   const label = report.diagnosis.label;
   const routinePeriodS = routinePeriodOf(report);
-  if (!mode) return { kind: "none", model: null, routinePeriodS };
-  const m = { periodS: mode.periodS, decayRatio: mode.decayRatio };
+  const m = mode ? { periodS: mode.periodS, decayRatio: mode.decayRatio } : null;
   if (QUIET.has(label)) {
-    if (mode.decayRatio > POORLY_DAMPED) return { kind: "poorly-damped", model: m, routinePeriodS };
-    if (mode.decayRatio > QUARTER_AMPLITUDE) return { kind: "under-damped", model: m, routinePeriodS };
+    if (mode && mode.decayRatio > POORLY_DAMPED) return { kind: "poorly-damped", model: m, routinePeriodS };
+    if (mode && mode.decayRatio > QUARTER_AMPLITUDE) return { kind: "under-damped", model: m, routinePeriodS };
+    const slow = slowResponseOf(model);
+    if (slow) return { kind: "slow", model: m, routinePeriodS, slow };
     return { kind: "none", model: m, routinePeriodS };
   }
+  if (!mode || !m) return { kind: "none", model: null, routinePeriodS };
   if (routinePeriodS === null || !(routinePeriodS > 0) || (!OWN_MODE.has(label) && !FROM_OUTSIDE.has(label))) return { kind: "none", model: m, routinePeriodS };
   const ratio = Math.max(routinePeriodS, mode.periodS) / Math.min(routinePeriodS, mode.periodS);
   return { kind: ratio <= 1 + MODEL_PERIOD_TOLERANCE + 1e-12 ? "agree" : "disagree", model: m, routinePeriodS };
@@ -97,6 +160,7 @@ const clamp = (v: number) => Math.min(0.95, Math.max(0.3, v));
  */
 export function applyModelCheck<R extends LoopAssessmentReport>(report: R, model: ModelView | null | undefined): R & { modelCheck?: ModelCheck } {
   const check = checkAgainstModel(report, model);
+  if (check.kind === "slow" && check.slow) return { ...report, diagnosis: slowDiagnosis(report.diagnosis, check.slow), modelCheck: check };
   if (check.kind === "none" || !check.model) return report;
   const d = report.diagnosis;
   const pair = `the tracked model's dominant pair (period ${fmt(check.model.periodS, 1)} s, decay ratio ${fmt(check.model.decayRatio)} per cycle within one standard deviation)`;
@@ -156,6 +220,24 @@ export function applyModelCheck<R extends LoopAssessmentReport>(report: R, model
       return report;
   }
   return { ...report, diagnosis, modelCheck: check };
+}
+
+/** A quiet verdict beside a model whose set-point response is slower than the multiple allows: likely sluggish tuning. */
+function slowDiagnosis(d: Diagnosis, slow: SlowResponse): Diagnosis {
+  const line =
+    `the tracked model's set-point response has an average residence time of ${fmt(slow.residenceS, 1)} s, ` +
+    `${fmt(slow.ratio, 1)}× the loop's baseline time constant ${fmt(slow.baselineS, 1)} s (level ${slow.multiple}×; poles one standard deviation toward the origin)`;
+  if (d.label === "sluggish-tuning") return { ...d, confidence: clamp(d.confidence + AGREE_GAIN), evidence: [...d.evidence, `${line}: the model agrees with the routine data`] };
+  const over = Math.min(1, (slow.ratio - slow.multiple) / slow.multiple);
+  return {
+    label: "sluggish-tuning",
+    confidence: SLOW_CONFIDENCE.atLevel + over * (SLOW_CONFIDENCE.atTwice - SLOW_CONFIDENCE.atLevel),
+    evidence: [
+      `likely sluggish tuning: ${line}`,
+      "the routine data read healthy over the window: they show no cycle or trouble, but the loop answers a set-point move slowly; retuning (or a step test) is engineering work, not an operator alarm",
+      ...d.evidence.map((l) => l.replace(/^likely healthy: /, "routine data alone: ")),
+    ],
+  };
 }
 
 function pctOf(v: number): string {

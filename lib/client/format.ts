@@ -55,6 +55,7 @@ export const ALARM_STATE_WORDS: Record<string, string> = {
 export const CONDITION_WORDS: Record<string, string> = {
   unstable: "unstable",
   margin: "low margin",
-  sluggish: "sluggish",
   "rim-forecast": "rim forecast",
+  // Retired operator alarm condition (history only): a slow response is a work-list finding now.
+  sluggish: "sluggish (retired: now a work-list finding)",
 };

@@ -19,5 +19,6 @@ export * from "./arx-batch";
 export * from "./excitation";
 export * from "./confidence";
 export * from "./forecast";
+export * from "./residence-time";
 export * from "./riv";
 export * from "./lag-vector";

@@ -12,7 +12,7 @@ import type { AlarmApi as AlarmServiceApi, MailApi, ObjectStoreApi, PipelineApi,
 /** What route handlers see of the running server's context (server/context.ts builds the whole). */
 export interface ServerContext {
   services: ReadonlyMap<string, Service>;
-  bus: { emit(event: "loop:config-changed", loopId: number): boolean };
+  bus: { emit(event: "loop:config-changed" | "work-list:settings-changed", id: number): boolean };
 }
 
 /** The typed services a route handler may reach by name. */

@@ -37,6 +37,12 @@ export class NotFoundError extends HttpError {
     super(404, `${what} not found.`);
   }
 }
+/** 400: the request uses a field the API no longer takes (the message names it and where it went). */
+export class BadRequestError extends HttpError {
+  constructor(message: string, details?: unknown) {
+    super(400, message, details);
+  }
+}
 /** 422: the input failed validation; `details` lists the fields. */
 export class ValidationError extends HttpError {
   constructor(message: string, details?: unknown) {

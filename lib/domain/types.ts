@@ -39,8 +39,18 @@ export type SampleQuality = (typeof SAMPLE_QUALITIES)[number];
 export const ALARM_PRIORITIES = ["urgent", "high", "low"] as const;
 export type AlarmPriority = (typeof ALARM_PRIORITIES)[number];
 
-export const ALARM_CONDITIONS = ["unstable", "margin", "sluggish", "rim-forecast"] as const;
+/** Operator alarm conditions: each calls for an operator's response (ISA-18.2). */
+export const ALARM_CONDITIONS = ["unstable", "margin", "rim-forecast"] as const;
 export type AlarmCondition = (typeof ALARM_CONDITIONS)[number];
+/**
+ * Conditions that were operator alarms once and are kept only so alarm history stays readable
+ * (the database enums keep them; no new alarm of them is raised). `sluggish` moved to the
+ * engineering work list as the sluggish-tuning finding (lib/assessment/model-check.ts, migration 0104).
+ */
+export const RETIRED_ALARM_CONDITIONS = ["sluggish"] as const;
+/** Every condition a stored alarm row may carry (history included). */
+export const STORED_ALARM_CONDITIONS = [...ALARM_CONDITIONS, ...RETIRED_ALARM_CONDITIONS] as const;
+export type StoredAlarmCondition = (typeof STORED_ALARM_CONDITIONS)[number];
 
 /** ANSI/ISA-18.2 / IEC 62682 alarm states. */
 export const ALARM_STATES = [

@@ -8,6 +8,7 @@
 import type { Sequelize } from "sequelize";
 import { timelineAlarmEvents, timelineConfigChanges, timelineSnapshots } from "@/lib/data/reports-log";
 import { listNotes } from "./notes";
+import { RETIRED_ALARM_CONDITIONS } from "@/lib/domain/types";
 
 export type TimelineKind = "alarm" | "note" | "config" | "state";
 
@@ -67,6 +68,7 @@ const ACTION_WORDS: Record<string, string> = {
   suppress: "suppressed by design",
   unsuppress: "no longer suppressed",
   "set-priority": "priority set",
+  retire: "retired (moved to the engineering work list)",
 };
 
 function describeDiff(diff: unknown): string {
@@ -91,7 +93,7 @@ export async function loopTimeline(
     items.push({
       kind: "alarm",
       at: new Date(e.at).getTime(),
-      title: `${e.condition} alarm ${ACTION_WORDS[e.kind] ?? e.kind}${e.to_state ? ` (${e.to_state})` : ""}`,
+      title: `${e.condition}${(RETIRED_ALARM_CONDITIONS as readonly string[]).includes(e.condition) ? " (retired condition)" : ""} alarm ${ACTION_WORDS[e.kind] ?? e.kind}${e.to_state ? ` (${e.to_state})` : ""}`,
       detail: e.comment,
       who: e.name,
       refId: Number(e.alarm_id),

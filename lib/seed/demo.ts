@@ -367,11 +367,10 @@ export const DEMO_DEVICES: DemoDevice[] = DEMO_TENANTS.flatMap((t) =>
 export const DEMO_TENANT_POLICY = {
   decayRatio: { low: 0.35, high: 0.5 },
   minDamping: { low: 0.15, high: 0.1 },
-  deadband: { decayRatio: 0.05, damping: 0.02, radius: 0.005, sluggish: 0.1 },
+  deadband: { decayRatio: 0.05, damping: 0.02, radius: 0.005 },
   onDelayS: 30,
   offDelayS: 60,
   shelveMaxMinutes: 480,
-  sluggishMultiple: 3,
   forecastHorizonMinutes: 240,
 };
 

@@ -33,7 +33,7 @@ export function evaluateTrackerUpdate(core: AlarmCore, s: LoopStateDto, refreshL
     core.memory.get(s.loopId) ?? restoredMemory(core, ids),
     s,
     policy,
-    { baselineTimeConstantS: loop.baselineTimeConstantS, forecastMinutes },
+    { forecastMinutes },
     now,
   );
   core.memory.set(s.loopId, memory);

@@ -17,7 +17,7 @@ import type { AlarmDbWriter } from "@/lib/data/alarms/db-writer";
 import type { ConditionMemory } from "@/lib/domain/alarms/conditions";
 import { normalizeStoredSettings, parsePolicyOverride, resolvePolicy, type EffectivePolicy, type PolicyOverride } from "@/lib/domain/alarms/policy";
 import type { AlarmListFilter } from "@/lib/domain/services";
-import type { AlarmCondition, AlarmDto, AlarmPriority, LoopStateDto } from "@/lib/domain/types";
+import { ALARM_CONDITIONS, type AlarmCondition, type AlarmDto, type AlarmPriority, type LoopStateDto } from "@/lib/domain/types";
 import type { PolicyLoopInfo } from "@/lib/data/alarms/queries";
 import type { ServerContext } from "@/server/context";
 import type { AlarmJournal, JournalEntry } from "./journal";
@@ -86,10 +86,18 @@ export async function loadPoints(core: AlarmCore): Promise<void> {
   }
 }
 
-/** Bring memory up to the journal and queue what the database does not have yet. */
+/**
+ * Bring memory up to the journal and queue what the database does not have yet. An entry of a
+ * retired condition (`sluggish`, written before migration 0104 closed those alarms) is dropped:
+ * replaying it would reopen an alarm that is no longer an operator alarm.
+ */
 export function replay(core: AlarmCore, entries: JournalEntry[]): void {
   for (const e of entries) {
     core.seq = Math.max(core.seq, e.seq);
+    if (!(ALARM_CONDITIONS as readonly string[]).includes(e.condition)) {
+      core.log(`[alarms] dropping journal entry ${e.seq} of the retired ${e.condition} condition (alarm ${e.alarmId})`);
+      continue;
+    }
     const rec = core.points.get(e.alarmId);
     if (rec && e.seq > rec.seq) {
       rec.point = e.point;

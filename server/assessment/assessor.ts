@@ -54,6 +54,10 @@ export interface LiveLoop {
   siteId: number;
   /** The loop as the offline command's LOOP.json gives it; samplePeriodS = the telemetry period. */
   config: AssessConfig;
+  /** The loop's commissioned closed-loop time constant, s: the model check's speed level (null: none). */
+  baselineTimeConstantS?: number | null;
+  /** The tenant's sluggish-tuning multiple of that baseline (work-list settings; absent: the default). */
+  sluggishMultiple?: number;
 }
 
 /** One assessment of a loop, as the work list records it. */
@@ -212,7 +216,7 @@ export class LiveAssessor {
   recheckModel(loopId: number): LiveResult | null {
     const e = this.loops.get(loopId);
     if (!e?.unchecked || !this.opts.modelOf) return null;
-    const model = this.opts.modelOf(loopId);
+    const model = this.modelFor(e);
     const kind = checkAgainstModel(e.unchecked.report, model).kind;
     const at = this.opts.now();
     if (kind === e.checkKind || at - e.checkedAt < RECHECK_MIN_MS) return null;
@@ -259,7 +263,7 @@ export class LiveAssessor {
     const periodS = own.oscillation.detected ? own.oscillation.periodS : null;
     const shared = sharedOscillationOf({ loopId, siteId, periodS, at, windowS }, this.periods.get(siteId)?.values() ?? []);
     const grouped = applySharedOscillation(own, shared);
-    const model = this.opts.modelOf?.(loopId);
+    const model = this.modelFor(e);
     const report = applyModelCheck(grouped, model);
     // Next run: the CPU budget's interval, or later when the verdict says how much data it needs.
     const needs = report.diagnosis.needsS ? report.diagnosis.needsS / e.loop.config.samplePeriodS : 0;
@@ -268,6 +272,14 @@ export class LiveAssessor {
     const r: LiveResult = { loopId, tenantId: e.loop.tenantId, siteId, at, report, windowSamples: n, windowS };
     e.unchecked = { ...r, report: grouped };
     return this.issue(e, r, checkAgainstModel(grouped, model).kind);
+  }
+
+  /** The tracker's model of the loop with the loop's baseline time constant (the speed check's level). */
+  private modelFor(e: Entry): ModelView | null | undefined {
+    const model = this.opts.modelOf?.(e.loop.loopId);
+    if (!model) return model;
+    const { baselineTimeConstantS = null, sluggishMultiple } = e.loop;
+    return { ...model, baselineTimeConstantS, ...(sluggishMultiple === undefined ? {} : { sluggishMultiple }) };
   }
 
   private issue(e: Entry, r: LiveResult, kind: ModelCheckKind): LiveResult {

@@ -4,12 +4,14 @@
  * the loop's own derivative filter, MV limits, dead time. The dead time is the engineer's
  * (`loops.dead_time_s`), else that of the loop's latest step test whose proposal was applied
  * (accepted) to the loop, else none: the Harris index is then null with a caution (routine
- * closed-loop data cannot tell the dead time).
+ * closed-loop data cannot tell the dead time). With the loop's baseline time constant comes its
+ * tenant's sluggish-tuning multiple (work-list settings; absent = the default).
  */
 import type { Sequelize } from "sequelize";
 import { parseLoopConfig } from "@/lib/assessment";
 import { loopTuningSeconds, mvLimits, readLoops } from "@/lib/data/loop-rows";
 import { selectStepDeadTimes } from "@/lib/data/work-list";
+import { selectSluggishMultiples } from "@/lib/data/work-list-settings";
 import type { LiveLoop } from "./assessor";
 
 const KINDS = new Set(["flow", "level", "pressure", "temperature"]);
@@ -20,6 +22,7 @@ export async function loadLiveLoops(sequelize: Sequelize, loopId?: number): Prom
   const errors = new Map<number, string>();
   const rows = await readLoops(sequelize, loopId);
   const stepDeadTimes = rows.some((l) => l.enabled && l.deadTimeS === null) ? await selectStepDeadTimes(sequelize, loopId) : new Map<number, number>();
+  const multiples = rows.some((l) => l.enabled && l.baselineTimeConstantS !== null) ? await selectSluggishMultiples(sequelize) : new Map<number, number>();
   for (const l of rows) {
     if (!l.enabled) continue;
     try {
@@ -46,7 +49,7 @@ export async function loadLiveLoops(sequelize: Sequelize, loopId?: number): Prom
           derivativeFilterS: tuning.td > 0 ? tuning.tf : null,
         },
       });
-      loops.push({ loopId: l.id, tenantId: l.tenantId, siteId: l.siteId, config });
+      loops.push({ loopId: l.id, tenantId: l.tenantId, siteId: l.siteId, config, baselineTimeConstantS: l.baselineTimeConstantS, sluggishMultiple: multiples.get(l.tenantId) });
     } catch (e) {
       errors.set(l.id, e instanceof Error ? e.message : String(e));
     }

@@ -119,6 +119,16 @@ export async function startLiveAssessment(ctx: ServerContext, opts: LiveAssessme
     opts.onRoutine?.(s.loopId, routineOf(s.report, s.at, s.windowS));
   }
 
+  // A tenant's work-list settings changed (the sluggish-tuning multiple): its loops take the new level.
+  const onSettings = (tenantId: number) => {
+    loadLiveLoops(sequelize)
+      .then(({ loops: all }) => {
+        for (const l of all) if (l.tenantId === tenantId && assessor.has(l.loopId)) assessor.upsertLoop(l);
+      })
+      .catch((e: unknown) => console.error(`[assessment] reloading the work-list settings of tenant ${tenantId} failed:`, e instanceof Error ? e.message : String(e)));
+  };
+  ctx.bus.on("work-list:settings-changed", onSettings);
+
   const timer = ctx.clock.setInterval(() => {
     try {
       assessor.runDue(opts.tickBudgetMs ?? 15);
@@ -150,6 +160,7 @@ export async function startLiveAssessment(ctx: ServerContext, opts: LiveAssessme
     flush: () => tail,
     stats: () => ({ loops: assessor.size, runs, writeErrors, lastError }),
     async stop() {
+      ctx.bus.off("work-list:settings-changed", onSettings);
       timer.cancel();
       await tail;
     },

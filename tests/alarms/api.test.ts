@@ -180,6 +180,25 @@ describe("alarm API", () => {
     expect((await rts.POST(post(`/api/alarms/${id}/return-to-service`), p(id))).status).toBe(200);
   });
 
+  it("a policy that still sends a sluggish field gets 400 naming the field and where it went; nothing is stored", async () => {
+    as("admin");
+    const before = (await suite.db.sequelize.query("SELECT COUNT(*) AS n FROM config_changes", { type: QueryTypes.SELECT })) as { n: number }[];
+    for (const [field, settings] of [
+      ["sluggishMultiple", { onDelayS: 5, sluggishMultiple: 3 }],
+      ["deadband.sluggish", { deadband: { decayRatio: 0.02, sluggish: 0.1 } }],
+      ["enabled.sluggish", { enabled: { margin: true, sluggish: false } }],
+    ] as const) {
+      const res = await policies.PUT(put("/api/alarm-policies?scope=tenant", { settings, reason: "old client" }));
+      expect(res.status, field).toBe(400);
+      const body = (await res.json()) as { error: string; details: { path: string[]; message: string }[] };
+      expect(body.error).toContain(field);
+      expect(body.error).toMatch(/no longer an operator alarm.*sluggish-tuning finding on the engineering work list/);
+      expect(body.details.map((d) => d.path.join("."))).toEqual([field]);
+    }
+    const after = (await suite.db.sequelize.query("SELECT COUNT(*) AS n FROM config_changes", { type: QueryTypes.SELECT })) as { n: number }[];
+    expect(Number(after[0]!.n)).toBe(Number(before[0]!.n));
+  });
+
   it("policies: an operator cannot change thresholds, an engineer cannot change tenant policy but can set a loop's; logged; effective at once", async () => {
     const settings = { decayRatio: { low: 0.3, high: 0.4 } };
     as("operator");

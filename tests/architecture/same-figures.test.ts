@@ -47,7 +47,7 @@ describe("alarms, API and page show the same figures for one state", () => {
   });
 
   it("the margin alarm judges that figure", () => {
-    const r = evaluateConditions(newConditionMemory(), s, { ...structuredClone(DEFAULT_POLICY), onDelayS: 0, confidenceSigmas: 0 }, { baselineTimeConstantS: null }, s.at);
+    const r = evaluateConditions(newConditionMemory(), s, { ...structuredClone(DEFAULT_POLICY), onDelayS: 0, confidenceSigmas: 0 }, {}, s.at);
     expect(r.verdicts.margin.value).toBe(s.decayRatio);
     expect(r.verdicts.margin.active).toBe(true); // 0.532 is above the default high level 0.5
     expect(r.verdicts.unstable.value).toBe(s.spectralRadius);

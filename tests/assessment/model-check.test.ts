@@ -9,11 +9,15 @@
  */
 import { describe, expect, it } from "vitest";
 import { assessLoop, parseLoopConfig, type LoopAssessmentReport } from "@/lib/assessment";
-import { applyModelCheck, checkAgainstModel, MODEL_PERIOD_TOLERANCE, POORLY_DAMPED, QUARTER_AMPLITUDE, type ModelView } from "@/lib/assessment/model-check";
+import { applyModelCheck, checkAgainstModel, MODEL_PERIOD_TOLERANCE, POORLY_DAMPED, QUARTER_AMPLITUDE, SLUGGISH_MULTIPLE, slowResponseOf, type ModelView } from "@/lib/assessment/model-check";
 import { closedLoopPolynomial, discretePid, polyRoots } from "@/lib/control";
 import type { Complex } from "@/lib/control/types";
 import { assessPoles } from "@/lib/domain/assessment";
+import { evaluateConditions, newConditionMemory } from "@/lib/domain/alarms/conditions";
+import { DEFAULT_POLICY } from "@/lib/domain/alarms/policy";
 import { opensWorkItem } from "@/lib/domain/findings";
+import { LiveAssessor, type LiveResult } from "@/server/assessment/assessor";
+import { loopState } from "../alarms/helpers";
 import { flowLoopJson, simulateLoop } from "./loop-sim";
 
 // The simulated plant of loop-sim.ts: K = 1, τ = 20 s, dead time 2 s, T = 1 s (ZOH: a = e^{-1/20},
@@ -174,5 +178,93 @@ describe("only a trusted model counts", () => {
   it("no model, or a model without an oscillating pair: unchanged", () => {
     expect(applyModelCheck(healthy, null)).toBe(healthy);
     expect(applyModelCheck(healthy, modelView([{ re: 0.98, im: 0, sdRadius: 0.001 }]))).toBe(healthy);
+  });
+});
+
+describe("speed: the tracked model's set-point response against the loop's baseline (sluggish tuning, a work-list finding)", () => {
+  // The loop-sim plant under a sluggish PI (kp 0.15, ti 100 s) and under its SIMC tuning (kp 2.9,
+  // ti 20 s, Skogestad 2003). The average residence time of a unit set-point step, Σ T (1 - y_k),
+  // is the integrated error, Ti/(K·Kp) for any PI loop with a stable plant of gain K (common
+  // practice; Åström & Hägglund, PID Controllers, 2nd ed., 1995 — from memory): 100/0.15 = 666.7 s
+  // and 20/2.9 = 6.9 s. scipy.signal.dstep of the same closed loop (nk = 4, 20,000 steps) summed
+  // gives 666.667 s and 6.897 s (python3-scipy, run once when this test was written).
+  const BASELINE_S = 20;
+  const closedLoopView = (kp: number, ti: number, over: Partial<ModelView> = {}) => {
+    const poles = trueClosedLoop(kp, ti).map((p) => ({ re: p.re, im: p.im, radius: Math.hypot(p.re, p.im), sdRadius: 0, cov: null }));
+    // closed-loop zero: the PI's, where N = kp[(1 + T/ti) - q^-1] vanishes (the plant adds none)
+    const zeros = [{ re: 1 / (1 + 1 / ti), im: 0 }];
+    return modelView(poles, 1, { modelPoles: poles, zeros, baselineTimeConstantS: BASELINE_S, ...over });
+  };
+  const healthy = report(2.9, 20);
+  const sluggishRoutine = report(0.15, 100);
+
+  it("the residence time of the sluggish loop's model is scipy's 666.7 s: 33× the 20 s baseline", () => {
+    const slow = slowResponseOf(closedLoopView(0.15, 100))!;
+    expect(slow.residenceS).toBeCloseTo(666.667, 1);
+    expect(slow.ratio).toBeCloseTo(666.667 / BASELINE_S, 2);
+    expect(slow.multiple).toBe(SLUGGISH_MULTIPLE);
+    // the SIMC loop answers in 6.9 s: no finding
+    expect(slowResponseOf(closedLoopView(2.9, 20))).toBeNull();
+  });
+
+  it("healthy routine data beside a slow model: likely sluggish tuning, a work-list item, with the figures as evidence", () => {
+    expect(healthy.diagnosis.label).toBe("healthy");
+    const out = applyModelCheck(healthy, closedLoopView(0.15, 100));
+    expect(out.modelCheck?.kind).toBe("slow");
+    expect(out.diagnosis.label).toBe("sluggish-tuning");
+    expect(opensWorkItem(out.diagnosis)).toBe(true);
+    expect(out.diagnosis.evidence[0]).toBe(
+      "likely sluggish tuning: the tracked model's set-point response has an average residence time of 666.7 s, 33.3× the loop's baseline time constant 20.0 s (level 3×; poles one standard deviation toward the origin)",
+    );
+    expect(out.diagnosis.evidence.join("\n")).not.toMatch(/likely healthy/);
+    // the routine figures stay as measured
+    expect(out.oscillation).toEqual(healthy.oscillation);
+    expect(out.harrisIndex).toBe(healthy.harrisIndex);
+  });
+
+  it("sluggish routine data and a slow model agree: confidence up by 0.1, the figures appended", () => {
+    expect(sluggishRoutine.diagnosis.label).toBe("sluggish-tuning");
+    const out = applyModelCheck(sluggishRoutine, closedLoopView(0.15, 100));
+    expect(out.diagnosis.label).toBe("sluggish-tuning");
+    expect(out.diagnosis.confidence).toBeCloseTo(Math.min(0.95, sluggishRoutine.diagnosis.confidence + 0.1), 9);
+    expect(lastLine(out)).toMatch(/average residence time of 666\.7 s.*the model agrees with the routine data$/);
+  });
+
+  it("no finding without a baseline, below the tenant's multiple, from an untrusted model, or for a loop that answers in time", () => {
+    expect(applyModelCheck(healthy, closedLoopView(0.15, 100, { baselineTimeConstantS: null }))).toBe(healthy);
+    expect(applyModelCheck(healthy, closedLoopView(0.15, 100, { sluggishMultiple: 40 }))).toBe(healthy); // 33× < 40×
+    expect(applyModelCheck(healthy, closedLoopView(0.15, 100, { sluggishMultiple: 30 })).diagnosis.label).toBe("sluggish-tuning");
+    expect(applyModelCheck(healthy, closedLoopView(0.15, 100, { trackerState: "low-excitation" }))).toBe(healthy);
+    expect(applyModelCheck(healthy, closedLoopView(0.15, 100, { rimUndecided: true }))).toBe(healthy);
+    expect(applyModelCheck(healthy, closedLoopView(2.9, 20))).toBe(healthy);
+  });
+
+  it("a poorly determined slow pole does not make the verdict: judged one standard deviation toward the origin", () => {
+    const vague = closedLoopView(0.15, 100);
+    const shaky = { ...vague, modelPoles: vague.modelPoles!.map((p) => ({ ...p, sdRadius: 0.01 })) };
+    expect(slowResponseOf(shaky)).toBeNull();
+  });
+
+  it("never an operator alarm: the same tracker state raises none of unstable, margin, rim-forecast", () => {
+    const v = closedLoopView(0.15, 100);
+    const s = loopState(7, 1, Date.UTC(2026, 0, 5), v.modelPoles!, { zeros: v.zeros! });
+    const r = evaluateConditions(newConditionMemory(), s, { ...structuredClone(DEFAULT_POLICY), onDelayS: 0, advisoryOnDelayS: 0 }, {}, s.at);
+    expect(Object.keys(r.verdicts).sort()).toEqual(["margin", "rim-forecast", "unstable"]);
+    expect(Object.values(r.verdicts).some((x) => x.active)).toBe(false);
+  });
+
+  it("live: the assessor reads the loop's baseline and issues the finding the work list opens an item for", () => {
+    const model = closedLoopView(0.15, 100, { baselineTimeConstantS: undefined });
+    const results: LiveResult[] = [];
+    const live = new LiveAssessor({ now: () => 0, modelOf: () => model, onResult: (r) => results.push(r) });
+    const config = parseLoopConfig(flowLoopJson("FIC-204", { deadTimeS: 3, controller: { kp: 2.9, ti: 20, mvLo: 0, mvHi: 100 } }));
+    live.upsertLoop({ loopId: 1, tenantId: 1, siteId: 1, config, baselineTimeConstantS: BASELINE_S });
+    live.upsertLoop({ loopId: 2, tenantId: 1, siteId: 1, config, baselineTimeConstantS: null });
+    const samples = simulateLoop({ seed: 1, n: 6000, kp: 2.9, ti: 20 }).map((x) => ({ t: x.t * 1000, sp: x.sp, pv: x.pv, mv: x.mv, mode: "auto" as const }));
+    for (const id of [1, 2]) live.push(id, samples);
+    const [withBaseline, without] = [live.assessNow(1)!, live.assessNow(2)!];
+    expect(withBaseline.report.diagnosis.label).toBe("sluggish-tuning");
+    expect(opensWorkItem(withBaseline.report.diagnosis)).toBe(true);
+    expect(without.report.diagnosis.label).toBe("healthy");
   });
 });

@@ -129,6 +129,8 @@ export const ROUTES: RouteCase[] = [
   { method: "GET", path: "/api/work-list/rules", minRole: "engineer", file: "work-list/rules/route.ts", admitted: [200] },
   { method: "POST", path: "/api/work-list/rules", minRole: "engineer", file: "work-list/rules/route.ts", body: {}, admitted: [422] },
   { method: "DELETE", path: "/api/work-list/rules/:none", minRole: "engineer", file: "work-list/rules/[ruleId]/route.ts", admitted: [404] },
+  { method: "GET", path: "/api/work-list/settings", minRole: "engineer", file: "work-list/settings/route.ts", admitted: [200] },
+  { method: "PUT", path: "/api/work-list/settings", minRole: "admin", file: "work-list/settings/route.ts", body: {}, admitted: [422] },
   { method: "GET", path: "/api/loops/:loopId/finding", minRole: "viewer", file: "loops/[loopId]/finding/route.ts", admitted: [200] },
 ];
 

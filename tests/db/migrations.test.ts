@@ -56,6 +56,7 @@ const EXPECTED_TABLES = [
   "users",
   "work_item_events",
   "work_items",
+  "work_list_settings",
 ];
 
 describe("migrations on an empty database", () => {

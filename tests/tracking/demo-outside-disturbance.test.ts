@@ -66,7 +66,7 @@ describe("demo PIC-4202 under an outside 20 s load", () => {
       run.bus.on("tracker:update", (s) => {
         live.recheckModel(s.loopId);
         if (s.trackerState === "tracking") tracked++;
-        const { memory: m, verdicts: v } = evaluateConditions(memory, s, policy, { baselineTimeConstantS: null, forecastMinutes: forecastMinutesOf(s, clock.now()) }, clock.now());
+        const { memory: m, verdicts: v } = evaluateConditions(memory, s, policy, { forecastMinutes: forecastMinutesOf(s, clock.now()) }, clock.now());
         memory = m;
         for (const [condition, x] of Object.entries(v)) if (x.active) alarms.push(`seed ${seed}: ${condition} (radius ${s.spectralRadius}, decay ratio ${s.decayRatio})`);
       });

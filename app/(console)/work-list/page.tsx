@@ -1,5 +1,6 @@
 import { pageMetadata, requirePageContext } from "@/app/(console)/_shell/page-context";
 import { roleAtLeast } from "@/lib/domain/types";
+import { WorkListSettings } from "./_components/work-list-settings";
 import { WorkListView } from "./_components/work-list-view";
 
 export const dynamic = "force-dynamic";
@@ -17,6 +18,7 @@ export default async function WorkListPage({ searchParams }: { searchParams: Pro
         likely enough and is updated while it persists; the figures at open stand beside the latest, so a tuning or maintenance change shows its effect.
       </p>
       <WorkListView canEdit={roleAtLeast(ctx.role, "engineer")} initialItem={initialItem} />
+      {roleAtLeast(ctx.role, "engineer") && <WorkListSettings mayEdit={roleAtLeast(ctx.role, "admin")} />}
     </div>
   );
 }

@@ -17,7 +17,6 @@ export interface AlarmLoopFacts {
   areaId: number | null;
   tag: string;
   estimationPeriodS: number;
-  baselineTimeConstantS: number | null;
   enabled: boolean;
 }
 
@@ -73,7 +72,6 @@ export async function readAlarmLoops(sequelize: Sequelize): Promise<AlarmLoopFac
     areaId: l.areaId,
     tag: l.tag,
     estimationPeriodS: l.estimationPeriodS,
-    baselineTimeConstantS: l.baselineTimeConstantS,
     enabled: l.enabled,
   }));
 }
@@ -105,9 +103,15 @@ export async function readPolicyRows(sequelize: Sequelize): Promise<StoredPolicy
   return rows.map((r) => ({ tenantId: Number(r.tenant_id), scope: r.scope, scopeId: Number(r.scope_id), settings: r.settings }));
 }
 
-/** Every stored alarm point; `now` stands in for a missing change time. */
+/**
+ * Every stored point of an operator alarm condition; `now` stands in for a missing change time.
+ * Rows of a retired condition (`sluggish`, kept for their history) are not points any more.
+ */
 export async function readAlarmPoints(sequelize: Sequelize, now: number): Promise<StoredAlarmPoint[]> {
-  const rows = (await sequelize.query("SELECT * FROM alarms", { type: QueryTypes.SELECT })) as Record<string, unknown>[];
+  const rows = (await sequelize.query("SELECT * FROM alarms WHERE `condition` IN (?)", {
+    replacements: [[...ALARM_CONDITIONS]],
+    type: QueryTypes.SELECT,
+  })) as Record<string, unknown>[];
   return rows.map((r) => ({
     id: Number(r.id),
     tenantId: Number(r.tenant_id),

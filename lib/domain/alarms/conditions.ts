@@ -1,6 +1,9 @@
 /**
- * Condition evaluation: from one tracker update and the loop's effective policy to the four alarm
- * conditions (unstable, margin, sluggish, rim-forecast), with deadband and on/off delays.
+ * Condition evaluation: from one tracker update and the loop's effective policy to the three
+ * operator alarm conditions (unstable, margin, rim-forecast), with deadband and on/off delays.
+ * A slow set-point response is not among them: it calls for retuning, not for an operator's
+ * response, and is the loop assessment's sluggish-tuning finding on the engineering work list
+ * (lib/assessment/model-check.ts).
  * Pure: no I/O; the caller passes `now` (epoch ms) and keeps the returned `ConditionMemory`.
  */
 import { effectivePoles, modeWithinConfidence } from "@/lib/domain/assessment";
@@ -71,41 +74,7 @@ export function slowestRealTimeConstant(poles: readonly { re: number; im: number
   return slowest == null ? null : -T / Math.log(slowest);
 }
 
-/**
- * Average residence time of the closed-loop set-point response with unit static gain:
- * Tar = T Σ_k (1 - y_k) = -T G'(1)/G(1) = T [Σ_i 1/(1 - p_i) - Σ_j 1/(1 - z_j)] for
- * G(z) = K Π(z - z_j) / Π(z - p_i) (derived here from the step response; the continuous
- * counterpart Tar = Σ τ_poles - Σ τ_zeros + dead time is used by Åström & Hägglund, *PID
- * Controllers: Theory, Design, and Tuning*, 2nd ed., 1995 — from memory). A slow pole that a zero
- * nearly cancels (a PI controller's zero) adds almost nothing, as in the response itself.
- * With `sigmas` > 0 each pole is first moved k·sd of its radius toward the origin. Null when a
- * pole is on or outside the circle (then `unstable` decides) or the result is not finite.
- */
-export function averageResidenceTime(
-  poles: readonly { re: number; im: number; sdRadius?: number | null }[],
-  zeros: readonly { re: number; im: number }[],
-  T: number,
-  sigmas = 0,
-): number | null {
-  let sum = 0;
-  const inv = (re: number, im: number) => {
-    // Re 1/(1 - z) for z = re + j im
-    const a = 1 - re;
-    const d = a * a + im * im;
-    return d === 0 ? Infinity : a / d;
-  };
-  for (const p of poles) {
-    const r = Math.hypot(p.re, p.im);
-    if (r >= 1) return null;
-    const shrink = r > 0 ? Math.max(0, r - sigmas * (p.sdRadius ?? 0)) / r : 1;
-    sum += inv(p.re * shrink, p.im * shrink);
-  }
-  for (const z of zeros) sum -= inv(z.re, z.im);
-  const tar = T * sum;
-  return Number.isFinite(tar) ? Math.max(0, tar) : null;
-}
-
-// ---------------------------------------------------------------- the four conditions
+// ---------------------------------------------------------------- the three conditions
 
 /** Tracker states in which no stability alarm is raised (the estimate is not trustworthy). */
 export const NON_TRACKING: ReadonlySet<TrackerState> = new Set(["manual", "stale", "saturated", "learning", "low-excitation", "poor-fit"]);
@@ -137,7 +106,6 @@ export function memoryForActive(active: readonly { condition: AlarmCondition; pr
   const filters: Record<string, LevelFilter> = {};
   for (const a of active) {
     if (a.condition === "unstable") filters.unstable = on();
-    else if (a.condition === "sluggish") filters.sluggish = on();
     else if (a.condition === "rim-forecast") filters.forecast = on();
     else {
       const levels = a.priority === "high" || a.priority === "urgent" ? ["low", "high"] : ["low"];
@@ -158,8 +126,6 @@ export interface ConditionVerdict {
 }
 
 export interface LoopFacts {
-  /** The loop's baseline closed-loop time constant in seconds (for `sluggish`), null if unknown. */
-  baselineTimeConstantS: number | null;
   /**
    * Minutes until the decay-ratio trend reaches the margin level (the assessment's
    * `forecast.alarmLevel`, `forecastMinutesOf`), null when no significant trend toward it;
@@ -178,14 +144,13 @@ export function forecastMinutesOf(s: Pick<LoopStateDto, "forecast" | "trackerSta
 export const CONDITION_PRIORITY: Record<AlarmCondition, AlarmPriority> = {
   unstable: "urgent",
   margin: "low",
-  sluggish: "low",
   "rim-forecast": "low",
 };
 
 const fmt = (v: number, digits = 3) => (Math.abs(v) >= 100 ? v.toFixed(0) : v.toPrecision(digits));
 
 /**
- * Evaluate the four conditions of one loop for one tracker update. Returns the verdicts and the
+ * Evaluate the three conditions of one loop for one tracker update. Returns the verdicts and the
  * new memory (the input memory is not modified).
  */
 export function evaluateConditions(
@@ -223,7 +188,6 @@ export function evaluateConditions(
       verdicts: {
         unstable: verdict("unstable", { suppressedReason: reason, message: msg }),
         margin: verdict("margin", { suppressedReason: reason, message: msg }),
-        sluggish: verdict("sluggish", { suppressedReason: reason, message: msg }),
         "rim-forecast": verdict("rim-forecast", { suppressedReason: reason, message: msg }),
       },
     };
@@ -323,27 +287,7 @@ export function evaluateConditions(
     suppressedReason: rootCause ?? (policy.enabled.margin ? null : "disabled by policy"),
   });
 
-  // 4. sluggish: the set-point response's average residence time exceeds a multiple of the
-  //    loop's baseline (its design value, e.g. τc + θ). A slow real pole near z = 1 is not an
-  //    instability and never raises `margin` (only oscillating modes do).
-  const tar = poles.length > 0 ? averageResidenceTime(poles, s.zeros, T, k) : null;
-  const base = facts.baselineTimeConstantS;
-  const ratio = tar != null && base != null && base > 0 ? tar / base : null;
-  const sluggishOn = policy.enabled.sluggish && step("sluggish", ratio, policy.sluggishMultiple, policy.sluggishMultiple * pd.sluggish, "above", true);
-  const sluggish = verdict("sluggish", {
-    active: sluggishOn && !rootCause,
-    value: tar,
-    level: base != null ? base * policy.sluggishMultiple : null,
-    message:
-      ratio != null && tar != null && base != null
-        ? `Average residence time ${fmt(tar)} s is ${fmt(ratio, 2)}× the baseline ${fmt(base)} s (level ${policy.sluggishMultiple}×).`
-        : base == null
-          ? "No baseline time constant configured for this loop."
-          : "No estimate of the response time.",
-    suppressedReason: rootCause ?? (policy.enabled.sluggish ? null : "disabled by policy"),
-  });
-
-  // 5. rim-forecast: the margin measure's trend reaches the margin level within the horizon.
+  // 4. rim-forecast: the margin measure's trend reaches the margin level within the horizon.
   const horizonMin = policy.forecastHorizonMinutes;
   const minutesTo = facts.forecastMinutes ?? null;
   const forecastOn =
@@ -359,5 +303,5 @@ export function evaluateConditions(
     suppressedReason: rootCause ?? (policy.enabled["rim-forecast"] ? null : "disabled by policy"),
   });
 
-  return { memory: { filters }, verdicts: { unstable, margin, sluggish, "rim-forecast": rimForecast } };
+  return { memory: { filters }, verdicts: { unstable, margin, "rim-forecast": rimForecast } };
 }

@@ -8,7 +8,7 @@
  * Precedence: loop > site > tenant > built-in defaults, field by field.
  */
 import { z } from "zod";
-import { ValidationError } from "@/lib/domain/errors";
+import { BadRequestError, ValidationError } from "@/lib/domain/errors";
 
 export const POLICY_SCOPES = ["tenant", "site", "loop"] as const;
 export type PolicyScope = (typeof POLICY_SCOPES)[number];
@@ -43,8 +43,6 @@ export const policyOverrideSchema = z
         decayRatio: z.number().min(0).max(0.5),
         damping: z.number().min(0).max(0.5),
         radius: z.number().min(0).max(0.1),
-        /** Relative: 0.1 clears `sluggish` at 90 % of its level. */
-        sluggish: z.number().min(0).max(0.9),
       })
       .strict()
       .partial(),
@@ -53,14 +51,12 @@ export const policyOverrideSchema = z
     /** The condition must stay clear (beyond the deadband) this long before the alarm clears. */
     offDelayS: z.number().min(0).max(3600),
     /**
-     * On-delay of the two low-priority advisories (`sluggish`, `rim-forecast`): they describe
-     * slow, persistent conditions, so they must hold longer before they are announced.
+     * On-delay of the low-priority advisory `rim-forecast`: it describes a slow, persistent
+     * trend, so it must hold longer before it is announced.
      */
     advisoryOnDelayS: z.number().min(0).max(24 * 3600),
     /** The longest an operator may shelve an alarm. */
     shelveMaxMinutes: z.number().int().min(1).max(7 * 24 * 60),
-    /** `sluggish` when the slowest real mode's time constant exceeds this multiple of the loop's baseline. */
-    sluggishMultiple: z.number().gt(1).max(100),
     /** `rim-forecast` when the trend reaches the margin level within this horizon. */
     forecastHorizonMinutes: z.number().min(1).max(7 * 24 * 60),
     /**
@@ -70,7 +66,7 @@ export const policyOverrideSchema = z
      */
     confidenceSigmas: z.number().min(0).max(3),
     enabled: z
-      .object({ unstable: z.boolean(), margin: z.boolean(), sluggish: z.boolean(), "rim-forecast": z.boolean() })
+      .object({ unstable: z.boolean(), margin: z.boolean(), "rim-forecast": z.boolean() })
       .strict()
       .partial(),
   })
@@ -83,15 +79,14 @@ export interface EffectivePolicy {
   decayRatio: { low: number; high: number };
   minDamping: { low: number; high: number } | null;
   radius: { low: number; high: number } | null;
-  deadband: { decayRatio: number; damping: number; radius: number; sluggish: number };
+  deadband: { decayRatio: number; damping: number; radius: number };
   onDelayS: number;
   offDelayS: number;
   advisoryOnDelayS: number;
   shelveMaxMinutes: number;
-  sluggishMultiple: number;
   forecastHorizonMinutes: number;
   confidenceSigmas: number;
-  enabled: { unstable: boolean; margin: boolean; sluggish: boolean; "rim-forecast": boolean };
+  enabled: { unstable: boolean; margin: boolean; "rim-forecast": boolean };
 }
 
 /**
@@ -104,21 +99,46 @@ export const DEFAULT_POLICY: EffectivePolicy = {
   decayRatio: { low: 0.35, high: 0.5 },
   minDamping: null,
   radius: null,
-  deadband: { decayRatio: 0.02, damping: 0.01, radius: 0.002, sluggish: 0.1 },
+  deadband: { decayRatio: 0.02, damping: 0.01, radius: 0.002 },
   onDelayS: 30,
   offDelayS: 30,
   advisoryOnDelayS: 600,
   shelveMaxMinutes: 8 * 60,
-  sluggishMultiple: 3,
   forecastHorizonMinutes: 60,
   confidenceSigmas: 1,
-  // `sluggish` is engineering work (the work list's sluggish-tuning finding, server/assessment),
-  // not an operator alarm: off unless a site's policy turns it back on.
-  enabled: { unstable: true, margin: true, sluggish: false, "rim-forecast": true },
+  enabled: { unstable: true, margin: true, "rim-forecast": true },
 };
 
-/** Validate the settings of one scope; 422 with the field names on bad input. */
+/**
+ * Policy fields of the retired `sluggish` alarm condition. A slow set-point response is the loop
+ * assessment's sluggish-tuning finding on the engineering work list now (lib/assessment/model-check.ts,
+ * level: the tenant's work-list multiple of the loop's baseline time constant), never an operator alarm.
+ */
+export const RETIRED_POLICY_FIELDS = ["sluggishMultiple", "deadband.sluggish", "enabled.sluggish"] as const;
+
+/** The retired fields present in raw settings (paths as in RETIRED_POLICY_FIELDS). */
+export function retiredPolicyFields(raw: unknown): string[] {
+  if (!raw || typeof raw !== "object" || Array.isArray(raw)) return [];
+  const o = raw as Record<string, unknown>;
+  const has = (obj: unknown, k: string) => !!obj && typeof obj === "object" && !Array.isArray(obj) && Object.hasOwn(obj, k);
+  return RETIRED_POLICY_FIELDS.filter((path) => {
+    const [a, b] = path.split(".") as [string, string | undefined];
+    return b === undefined ? has(o, a) : has(o[a], b);
+  });
+}
+
+/**
+ * Validate the settings of one scope: 400 naming the field when it still sends a retired
+ * `sluggish` field (it moved to the engineering work list), 422 with the field names on other bad input.
+ */
 export function parsePolicyOverride(scope: PolicyScope, raw: unknown): PolicyOverride {
+  const retired = retiredPolicyFields(raw);
+  if (retired.length > 0)
+    throw new BadRequestError(
+      `Invalid alarm policy: ${retired.join(", ")}: the sluggish alarm condition is no longer an operator alarm; ` +
+        "a slow set-point response is the sluggish-tuning finding on the engineering work list (its level, a multiple of the loop's baseline time constant, is a work-list setting). Remove the field.",
+      retired.map((path) => ({ path: path.split("."), message: "moved to the engineering work list (sluggish-tuning finding)" })),
+    );
   const parsed = policyOverrideSchema.safeParse(raw);
   if (!parsed.success) {
     const msg = parsed.error.issues.map((i) => `${i.path.join(".") || "settings"}: ${i.message}`).join("; ");
@@ -141,7 +161,7 @@ export function resolvePolicy(layers: { tenant?: PolicyOverride | null; site?: P
     if (layer.radius !== undefined) eff.radius = layer.radius ? { ...layer.radius } : null;
     if (layer.deadband) eff.deadband = { ...eff.deadband, ...stripUndefined(layer.deadband) };
     if (layer.enabled) eff.enabled = { ...eff.enabled, ...stripUndefined(layer.enabled) };
-    for (const k of ["onDelayS", "offDelayS", "advisoryOnDelayS", "shelveMaxMinutes", "sluggishMultiple", "forecastHorizonMinutes", "confidenceSigmas"] as const) {
+    for (const k of ["onDelayS", "offDelayS", "advisoryOnDelayS", "shelveMaxMinutes", "forecastHorizonMinutes", "confidenceSigmas"] as const) {
       const v = layer[k];
       if (v !== undefined) eff[k] = v;
     }
@@ -249,5 +269,12 @@ export function normalizeStoredSettings(raw: unknown): Record<string, unknown> {
   for (const k of ["decayRatioWarn", "decayRatioAlarm", "radiusWarn", "radiusAlarm", "forecastHorizonH", "priorities"]) delete src[k];
   if (typeof src.minDamping === "number") delete src.minDamping;
   if (typeof src.deadband === "number") delete src.deadband;
+  // Fields of the retired `sluggish` condition (migration 0104 removes them; a row restored from an
+  // older backup may still hold them): they no longer mean anything to an operator alarm.
+  delete src.sluggishMultiple;
+  for (const k of ["deadband", "enabled"]) {
+    const v = src[k];
+    if (v && typeof v === "object" && !Array.isArray(v)) src[k] = Object.fromEntries(Object.entries(v).filter(([f]) => f !== "sluggish"));
+  }
   return { ...src, ...out };
 }
