@@ -1,13 +1,15 @@
 /**
- * The model cross-check through the live path: demo loop PIC-1103 (simulators/scenarios/demo.json:
- * an underdamped headbox pressure loop whose gain creeps toward the rim from the first minute,
- * with frequent set-point moves; invented data) feeds its tracker (server/tracking) and the live
- * assessor (server/assessment), the assessor reading the tracker's LoopAssessment as the pipeline
- * wires it (`modelOf`, `recheckModel` on every `tracker:update`). Seen in the demo before the
+ * The model cross-check through the live path: demo loop PIC-1103 (an underdamped headbox pressure
+ * loop) under the demo's earlier settings (./headbox-slow-creep.json: its gain creeps toward the rim
+ * from the first minute over 4 minutes, set-point moves about every 30 s; invented data; the demo
+ * now moves its set point more often, and its routine data read the ringing by themselves) feeds
+ * its tracker (server/tracking) and the live assessor (server/assessment), the assessor reading
+ * the tracker's LoopAssessment as the pipeline wires it (`modelOf`, `recheckModel` on every `tracker:update`). Seen in the demo before the
  * cross-check: the routine verdict read "healthy" while the tracked model showed a decay ratio
  * near 0.57. The same samples through an assessor without the model show what the routine data
  * alone say. Quarter amplitude (0.25) as the classic limit: Ziegler & Nichols 1942, common practice.
  */
+import path from "node:path";
 import { describe, expect, it } from "vitest";
 import { parseLoopConfig } from "@/lib/assessment";
 import { MODEL_SIGMAS, POORLY_DAMPED } from "@/lib/assessment/model-check";
@@ -43,6 +45,7 @@ describe("PIC-1103 in the demo: routine verdict cross-checked against its tracke
     const withModel = new LiveAssessor({ now: () => run!.clock.now(), modelOf, onResult: (r) => checked.push({ r, model: modelOf(r.loopId)! }) });
     const alone = new LiveAssessor({ now: () => run!.clock.now(), onResult: (r) => plain.push(r) });
     run = await startDemoRun({
+      scenario: path.join(import.meta.dirname, "headbox-slow-creep.json"),
       tags: [TAG],
       onSamples: (id, samples) => {
         withModel.push(id, samples);

@@ -1,7 +1,7 @@
 /**
  * Accuracy of the tracker on the demo loops WITH their demo noise (simulators/scenarios/demo.json:
  * PV noise 0.1 % of span, random load steps and walk, set-point moves about every 150 s, spells in
- * manual), in-process and sped up: the simulator core feeds a `TrackerRegistry` on a fake clock
+ * manual; PIC-1103 and PIC-4103 with 0.05 % noise and moves about every 10 s), in-process and sped up: the simulator core feeds a `TrackerRegistry` on a fake clock
  * (tests/tracking/demo-harness.ts), no broker.
  *
  * The truth is the simulator's own: the eigenvalues of each loop's closed-loop state matrix at
@@ -95,12 +95,12 @@ describe("demo loops with demo noise: model-based poles against the simulator's 
     expectAccurate("PIC-3103", tracked("PIC-3103", 2400, 600), 0.06, 4);
   });
 
-  it("underdamped second order with a gain creeping to 95 % of critical, PIC-1103 (true decay ratio 0.94 at the end): within 10 % and 0.06 once the creep has been over for 25 minutes", () => {
+  it("underdamped second order with a gain creeping to 80 % of critical, PIC-1103 (true decay ratio 0.77 at the end): within 10 % and 0.06 once the creep has been over for 25 minutes", () => {
     // while the gain creeps the estimate lags by a few set-point moves (the IV memory); see truth.test.ts
     expectAccurate("PIC-1103", tracked("PIC-1103", 2400, 600), 0.06, 4);
   });
 
-  it("first order with a gain creeping into oscillation, PIC-4103 (true decay ratio 0.75): within 10 % and 0.05 from 1800 s", () => {
+  it("first order with a gain creeping into oscillation, PIC-4103 (to 95 % of critical, true decay ratio 0.87): within 10 % and 0.05 from 1800 s", () => {
     expectAccurate("PIC-4103", tracked("PIC-4103", 1800, 600), 0.05, 6);
   });
 

@@ -72,9 +72,16 @@ export interface DemoRun {
 }
 
 export async function startDemoRun(
-  options: { scenario?: string; tags?: string[]; seed?: number; onSamples?: (loopId: number, samples: SampleDto[]) => void } = {},
+  options: {
+    /** A scenario of simulators/scenarios by name (default "demo"), or a path to a scenario file (a test's fixture). */
+    scenario?: string;
+    tags?: string[];
+    seed?: number;
+    onSamples?: (loopId: number, samples: SampleDto[]) => void;
+  } = {},
 ): Promise<DemoRun> {
-  const scenario = await loadScenario(path.join(scenarioDir, `${options.scenario ?? "demo"}.json`));
+  const name = options.scenario ?? "demo";
+  const scenario = await loadScenario(name.endsWith(".json") ? name : path.join(scenarioDir, `${name}.json`));
   const loops = demoSimLoops().filter((l) => !options.tags || options.tags.includes(l.tag));
   const fleet = buildFleet({ scenario, loops, seed: options.seed ?? scenario.seed ?? 1 });
   const sims = new Map(fleet.map((s) => [s.config.tag, s]));
