@@ -35,6 +35,7 @@ export interface StictionFitResult {
    * lags replace the nb lags of MV, so both models have as many parameters, and what nb regressors
    * remove from noise (a χ²(nb)/m share, whose standard deviation is √(2 nb)/m) differs between
    * the two by chance; three standard deviations, 3√(2 nb)/m, cover the grid's best candidate.
+   * In the nested fit the valve's lags are added to MV's, so the mean nb/m is added.
    */
   chanceGain: number;
   /** True when the best band is the largest searched: no estimate, the valve then barely moves. */
@@ -99,69 +100,88 @@ function cumSum(x: Float64Array): Float64Array {
   return c;
 }
 
-/** Normal-equation sums of PV (series 0) and one input (series 1: MV, or a valve's position). */
+/** Sums of one input series: with PV, with itself, and its running sum. */
+interface InputSums {
+  withPv: LagSums;
+  self: LagSums;
+  cum: Float64Array;
+}
+
+function inputSums(n: number, nb: number): InputSums {
+  return { withPv: new LagSums(n, -nb, nb, nb), self: new LagSums(n, -nb, 0, nb), cum: new Float64Array(n + 1) };
+}
+
+function fillInput(s: InputSums, pv: Float64Array, u: Float64Array): void {
+  s.withPv.fill(u, pv);
+  s.self.fill(u, u);
+  let t = 0;
+  for (let i = 0; i < u.length; i++) s.cum[i + 1] = t += u[i]!;
+}
+
+/** Normal-equation sums of PV, MV and a valve's position. */
 interface ArxSums {
   n: number;
   nb: number;
   /** First fitted sample (the largest lag); the same for every model, so their residuals compare. */
   start: number;
-  /** PV × PV (δ in [-nb, 0]), input × PV (δ in [-nb, nb]), input × input (δ in [-nb, 0]). */
+  /** PV × PV, lag differences δ in [-nb, 0]. */
   pp: LagSums;
-  up: LagSums;
-  uu: LagSums;
   pvCum: Float64Array;
-  uCum: Float64Array;
+  mv: InputSums;
+  valve: InputSums;
+  /** Valve × MV (the nested model only). */
+  valveMv: LagSums | null;
 }
 
-function arxSums(pv: Float64Array, nb: number): ArxSums {
+function arxSums(pv: Float64Array, mv: Float64Array, nb: number, nested: boolean): ArxSums {
   const n = pv.length;
-  const start = nb;
-  return {
+  const f: ArxSums = {
     n,
     nb,
-    start,
-    pp: new LagSums(n, -nb, 0, start).fill(pv, pv),
-    up: new LagSums(n, -nb, nb, start),
-    uu: new LagSums(n, -nb, 0, start),
+    start: nb,
+    pp: new LagSums(n, -nb, 0, nb).fill(pv, pv),
     pvCum: cumSum(pv),
-    uCum: new Float64Array(n + 1),
+    mv: inputSums(n, nb),
+    valve: inputSums(n, nb),
+    valveMv: nested ? new LagSums(n, -nb, nb, nb) : null,
   };
+  fillInput(f.mv, pv, mv);
+  return f;
 }
 
-/** Sets the input series (MV, or a valve's position) of the sums. */
-function setInput(f: ArxSums, pv: Float64Array, u: Float64Array): void {
-  f.up.fill(u, pv);
-  f.uu.fill(u, u);
-  let s = 0;
-  for (let i = 0; i < u.length; i++) f.uCum[i + 1] = s += u[i]!;
-}
+/** Regressors after the constant and PV lags: MV lags (the linear valve), the valve's lags, or both (nested). */
+type ArxInputs = "mv" | "valve" | "nested";
 
 /**
  * Least squares of PV on a constant, PV lags 1..na (na <= nb) and input lags 1..nb (all normal
  * equations from sums of lagged products); returns the residual variance, NaN when the equations
  * are singular.
  */
-function arxResidual(f: ArxSums, na: number): number {
+function arxResidual(f: ArxSums, na: number, inputs: ArxInputs): number {
   const { n, nb, start } = f;
   const m = n - start;
-  // columns: the constant (series -1), PV lags (series 0), input lags (series 1)
+  // columns: the constant (series -1), PV lags (0), MV lags (1), valve lags (2)
   const cols: [number, number][] = [[-1, 0]];
   for (let i = 1; i <= na; i++) cols.push([0, i]);
-  for (let j = 1; j <= nb; j++) cols.push([1, j]);
+  if (inputs !== "valve") for (let j = 1; j <= nb; j++) cols.push([1, j]);
+  if (inputs !== "mv") for (let j = 1; j <= nb; j++) cols.push([2, j]);
   const p = cols.length;
   if (m <= 2 * p) return NaN;
+  const series = [f.mv, f.valve];
+  const sym = (x: LagSums, i: number, j: number) => (i >= j ? x.get(i, j) : x.get(j, i));
   const dot = ([a, i]: [number, number], [b, j]: [number, number]): number => {
     // a >= b (rows below the diagonal come after their columns)
-    if (b < 0) return a < 0 ? m : lagTotal(a === 0 ? f.pvCum : f.uCum, start, i);
-    if (a === 0) return i >= j ? f.pp.get(i, j) : f.pp.get(j, i);
-    if (b === 0) return f.up.get(i, j);
-    return i >= j ? f.uu.get(i, j) : f.uu.get(j, i);
+    if (b < 0) return a < 0 ? m : lagTotal(a === 0 ? f.pvCum : series[a - 1]!.cum, start, i);
+    if (a === 0) return sym(f.pp, i, j);
+    if (b === 0) return series[a - 1]!.withPv.get(i, j);
+    if (a === b) return sym(series[a - 1]!.self, i, j);
+    return f.valveMv!.get(i, j);
   };
   const A = new Float64Array(p * p);
   const b = new Float64Array(p);
   for (let r = 0; r < p; r++) {
     const [a, i] = cols[r]!;
-    b[r] = a < 0 ? lagTotal(f.pvCum, start, 0) : a === 0 ? f.pp.get(i, 0) : f.up.get(i, 0);
+    b[r] = a < 0 ? lagTotal(f.pvCum, start, 0) : a === 0 ? f.pp.get(i, 0) : series[a - 1]!.withPv.get(i, 0);
     for (let c = 0; c <= r; c++) A[r * p + c] = dot(cols[r]!, cols[c]!);
   }
   const yy = f.pp.get(0, 0);
@@ -213,8 +233,14 @@ const BANDS = [0.1, 0.2, 0.3, 0.45, 0.6, 0.8, 1, 1.3, 1.7, 2.2, 2.8, 3.5, 4.5];
 /**
  * Fit of the sticking-valve model to MV (% of output range) and PV (% of span) of one
  * closed-loop stretch with a cycle of `periodSamples`. Null when the stretch is too short.
+ *
+ * `nested`: the valve's lags are added to MV's instead of replacing them. Under integral action
+ * MV is also the controller's running estimate of the load (it moves until the load is
+ * cancelled), so under random loads MV's lags predict PV through the load as well, which a
+ * valve that holds still loses: the replacing fit can then show no gain even with the true valve
+ * (seen in simulation). The nested fit asks whether the valve adds to what MV says.
  */
-export function fitStictionModel(mv: Float64Array, pv: Float64Array, periodSamples: number): StictionFitResult | null {
+export function fitStictionModel(mv: Float64Array, pv: Float64Array, periodSamples: number, nested = false): StictionFitResult | null {
   const n = Math.min(mv.length, pv.length);
   if (periodSamples < 8 || n < 6 * periodSamples) return null;
   const d = Math.max(1, Math.floor(periodSamples / 24));
@@ -234,13 +260,13 @@ export function fitStictionModel(mv: Float64Array, pv: Float64Array, periodSampl
   for (let i = from; i < n; i++) sd += (mv[i]! - mean) ** 2;
   sd = Math.sqrt(sd / (n - from));
   if (!(sd > 0)) return null;
-  const sums = arxSums(pvd, nb);
-  setInput(sums, pvd, blockMeans(mv, from, d, count));
+  const mvd = blockMeans(mv, from, d, count);
+  const sums = arxSums(pvd, mvd, nb, nested);
   // Two orders of the process part: two PV lags (a lag or an integrator) and as many PV lags as
   // input lags (room for coloured loads); each sticking valve is compared with the linear valve
   // of the same order, and the larger gain counts.
   const orders = nb > 2 ? [2, nb] : [2];
-  const linear = orders.map((na) => arxResidual(sums, na));
+  const linear = orders.map((na) => arxResidual(sums, na, "mv"));
   if (!linear.every((r) => r > 0)) return null;
   const pos = new Float64Array(n);
   let best = { ratio: 1, S: 0, J: 0, slips: 0 };
@@ -250,9 +276,11 @@ export function fitStictionModel(mv: Float64Array, pv: Float64Array, periodSampl
       const J = fJ * S;
       const valve = new StictionValve({ S, J }, mv[warm]!, [-Infinity, Infinity]);
       for (let i = warm; i < n; i++) pos[i] = valve.update(mv[i]!);
-      setInput(sums, pvd, blockMeans(pos, from, d, count));
+      const v = blockMeans(pos, from, d, count);
+      fillInput(sums.valve, pvd, v);
+      sums.valveMv?.fill(v, mvd);
       for (let k = 0; k < orders.length; k++) {
-        const ratio = arxResidual(sums, orders[k]!) / linear[k]!;
+        const ratio = arxResidual(sums, orders[k]!, nested ? "nested" : "valve") / linear[k]!;
         if (ratio < best.ratio) best = { ratio, S, J, slips: valve.slips };
       }
     }
@@ -263,7 +291,7 @@ export function fitStictionModel(mv: Float64Array, pv: Float64Array, periodSampl
     bandPct: best.S,
     jumpPct: best.J,
     samples: count,
-    chanceGain: (3 * Math.sqrt(2 * nb)) / m,
+    chanceGain: ((nested ? nb : 0) + 3 * Math.sqrt(2 * nb)) / m,
     atEdge: best.S === BANDS[BANDS.length - 1]! * sd,
     slipsPerCycle: best.slips / ((n - warm) / periodSamples),
   };

@@ -85,6 +85,20 @@ function modelFitTest(mv: Float64Array, pv: Float64Array, P: number, [lo, hi]: [
   };
 }
 
+/**
+ * Under random loads without a detected oscillation (ringing only), a replacing model fit that
+ * shows no gain does not contradict a stick-slip shape: MV's lags also carry the controller's
+ * load estimate. The nested fit (the valve added to MV) decides; only a clear gain counts.
+ */
+function nestedFitClear(mv: Float64Array, pv: Float64Array, P: number, evidence: string[]): boolean {
+  const fit = fitStictionModel(mv, pv, P, true);
+  if (!fit || readStictionFit(fit) !== "clear") return false;
+  evidence.push(
+    `under random loads MV also carries the controller's load estimate; a sticking valve (S ${fmt(fit.bandPct, 2)} % of output) added to MV explains ${(100 * (1 - fit.residualRatio)).toFixed(0)} % of the residual variance MV alone leaves, ${(100 * fit.chanceGain).toFixed(1)} % expected by chance (nested stiction model fit)`,
+  );
+  return true;
+}
+
 /** ∠C of a PI above this (degrees) at the oscillation frequency: integral action dominates. */
 const INTEGRAL_DOMINANT_DEG = 60;
 
@@ -215,6 +229,7 @@ export function assessStiction(input: StictionInput): StictionResult {
   const mr = model.reading;
   if (mr === "clear" && shape !== "sinusoidal") verdict = "likely";
   else if (shape === "triangular" && mr !== "none") verdict = "likely";
+  else if (shape === "triangular" && input.ringingOnly && nestedFitClear(u, input.pv.subarray(s, e), P, evidence)) verdict = "likely";
   else if (shape === "triangular") evidence.push("the two tests disagree: the half-cycles look like stick-slip, but a sticking valve explains PV no better than a linear one (undetermined)");
   else if (shape === "sinusoidal" && mr === "clear") evidence.push("the two tests disagree: the half-cycles are sinusoidal, but a sticking valve explains PV better than a linear one (undetermined)");
   else if (shape === "sinusoidal") verdict = "unlikely";
