@@ -227,7 +227,8 @@ export function assessStiction(input: StictionInput): StictionResult {
   // confirms or tempers, it does not veto.
   let verdict: StictionFigures["verdict"] = "undetermined";
   const mr = model.reading;
-  if (mr === "clear" && shape !== "sinusoidal") verdict = "likely";
+  if (mr === "clear" && shape !== "sinusoidal" && shape !== "withheld") verdict = "likely";
+  else if (mr === "clear" && shape === "withheld") evidence.push("the model fit alone points to stick-slip, but without clean half-cycles the shape test cannot confirm it, and a slow load can also favour a valve that seldom moves (undetermined)");
   else if (shape === "triangular" && mr !== "none") verdict = "likely";
   else if (shape === "triangular" && input.ringingOnly && nestedFitClear(u, input.pv.subarray(s, e), P, evidence)) verdict = "likely";
   else if (shape === "triangular") evidence.push("the two tests disagree: the half-cycles look like stick-slip, but a sticking valve explains PV no better than a linear one (undetermined)");
