@@ -15,10 +15,10 @@
  *
  * Guards: the data are block-averaged to about 24 samples per cycle (12 found more sticking
  * valves on DEV but none at all on the test loops of tests/assessment, and fewer than 24 on
- * FROZEN's: not kept); the process part has two autoregressive terms (enough for an integrator or a
- * lag) and input lags up to half a cycle (dead time unknown); an offset term takes the load's
- * mean. Loads and noise remain in the
- * residual, so the ratio is judged with a margin (diagnosis.ts, stiction.ts).
+ * FROZEN's: not kept); the process part is fitted with two autoregressive terms (enough for an
+ * integrator or a lag) and with as many as input lags (room for coloured loads), input lags up to
+ * half a cycle (dead time unknown); an offset term takes the load's mean. Loads and noise remain
+ * in the residual, so the gain is read against what chance gives (readStictionFit).
  */
 import { StictionValve } from "./stiction-model";
 
