@@ -15,10 +15,10 @@
  *
  * Guards: the data are block-averaged to about 24 samples per cycle (12 found more sticking
  * valves on DEV but none at all on the test loops of tests/assessment, and fewer than 24 on
- * FROZEN's: not kept); the process part has two autoregressive terms (enough for an integrator or a
- * lag) and input lags up to half a cycle (dead time unknown); an offset term takes the load's
- * mean. Loads and noise remain in the
- * residual, so the ratio is judged with a margin (diagnosis.ts, stiction.ts).
+ * FROZEN's: not kept); the process part is fitted with two autoregressive terms (enough for an
+ * integrator or a lag) and with as many as input lags (room for coloured loads), input lags up to
+ * half a cycle (dead time unknown); an offset term takes the load's mean. Loads and noise remain
+ * in the residual, so the gain is read against what chance gives (readStictionFit).
  */
 import { StictionValve } from "./stiction-model";
 
@@ -30,107 +30,161 @@ export interface StictionFitResult {
   jumpPct: number;
   /** Samples (after block averaging) fitted. */
   samples: number;
+  /**
+   * Share of the linear fit's residual a sticking valve may remove by chance alone (ours): its nb
+   * lags replace the nb lags of MV, so both models have as many parameters, and what nb regressors
+   * remove from noise (a χ²(nb)/m share, whose standard deviation is √(2 nb)/m) differs between
+   * the two by chance; three standard deviations, 3√(2 nb)/m, cover the grid's best candidate.
+   * In the nested fit the valve's lags are added to MV's, so the mean nb/m is added.
+   */
+  chanceGain: number;
+  /** True when the best band is the largest searched: no estimate, the valve then barely moves. */
+  atEdge: boolean;
+  /** Slips of the best-fitting valve per cycle of `periodSamples` over the fitted stretch. */
+  slipsPerCycle: number;
 }
 
-const NA = 2;
 /** Most decimated samples fitted (the last ones); keeps a day's fit within a few tens of ms. */
 const MAX_FIT = 6000;
 
-/** Σ x[t - i] · y[t - j] over t in [from, to), in ascending t (the order the normal equations are summed in). */
-function lagDot(x: Float64Array, i: number, y: Float64Array, j: number, from: number, to: number): number {
-  let s = 0;
-  for (let t = from; t < to; t++) s += x[t - i]! * y[t - j]!;
-  return s;
-}
-
 /**
- * lagDot for four consecutive lags j, j+1, j+2, j+3 of y at once, into out[o..o+3]: four
- * independent sums, each still in ascending t, so each is bit for bit lagDot's (only the CPU's
- * adds overlap).
+ * Sums of lagged products Σ_{t=start}^{n-1} x[t-i]·y[t-j] for lag differences δ = j - i in
+ * [dMin, dMax], from one running sum of x[s]·y[s-δ] per δ: the sum is that running sum over
+ * s in [start - i, n - i). One buffer, refilled for every valve of the grid.
  */
-function lagDot4(x: Float64Array, i: number, y: Float64Array, j: number, from: number, to: number, out: Float64Array, o: number): void {
-  let s0 = 0;
-  let s1 = 0;
-  let s2 = 0;
-  let s3 = 0;
-  for (let t = from; t < to; t++) {
-    const a = x[t - i]!;
-    const k = t - j;
-    s0 += a * y[k]!;
-    s1 += a * y[k - 1]!;
-    s2 += a * y[k - 2]!;
-    s3 += a * y[k - 3]!;
+class LagSums {
+  private readonly cum: Float64Array;
+  private readonly n: number;
+  constructor(
+    n: number,
+    private readonly dMin: number,
+    private readonly dMax: number,
+    private readonly start: number,
+  ) {
+    this.n = n;
+    this.cum = new Float64Array((dMax - dMin + 1) * (n + 1));
   }
-  out[o] = s0;
-  out[o + 1] = s1;
-  out[o + 2] = s2;
-  out[o + 3] = s3;
+
+  fill(x: Float64Array, y: Float64Array): this {
+    const n = this.n;
+    for (let d = this.dMin; d <= this.dMax; d++) {
+      const o = (d - this.dMin) * (n + 1);
+      const c = this.cum;
+      let s = 0;
+      c[o] = 0;
+      for (let u = 0; u < n; u++) {
+        const k = u - d;
+        if (k >= 0 && k < n) s += x[u]! * y[k]!;
+        c[o + u + 1] = s;
+      }
+    }
+    return this;
+  }
+
+  get(i: number, j: number): number {
+    const o = (j - i - this.dMin) * (this.n + 1);
+    return this.cum[o + this.n - i]! - this.cum[o + this.start - i]!;
+  }
 }
+
+/** Running sums of x: Σ_{t=start}^{n-1} x[t-i] for lag i. */
+function lagTotal(cum: Float64Array, start: number, i: number): number {
+  const n = cum.length - 1;
+  return cum[n - i]! - cum[start - i]!;
+}
+
+function cumSum(x: Float64Array): Float64Array {
+  const c = new Float64Array(x.length + 1);
+  let s = 0;
+  for (let i = 0; i < x.length; i++) c[i + 1] = s += x[i]!;
+  return c;
+}
+
+/** Sums of one input series: with PV, with itself, and its running sum. */
+interface InputSums {
+  withPv: LagSums;
+  self: LagSums;
+  cum: Float64Array;
+}
+
+function inputSums(n: number, nb: number): InputSums {
+  return { withPv: new LagSums(n, -nb, nb, nb), self: new LagSums(n, -nb, 0, nb), cum: new Float64Array(n + 1) };
+}
+
+function fillInput(s: InputSums, pv: Float64Array, u: Float64Array): void {
+  s.withPv.fill(u, pv);
+  s.self.fill(u, u);
+  let t = 0;
+  for (let i = 0; i < u.length; i++) s.cum[i + 1] = t += u[i]!;
+}
+
+/** Normal-equation sums of PV, MV and a valve's position. */
+interface ArxSums {
+  n: number;
+  nb: number;
+  /** First fitted sample (the largest lag); the same for every model, so their residuals compare. */
+  start: number;
+  /** PV × PV, lag differences δ in [-nb, 0]. */
+  pp: LagSums;
+  pvCum: Float64Array;
+  mv: InputSums;
+  valve: InputSums;
+  /** Valve × MV (the nested model only). */
+  valveMv: LagSums | null;
+}
+
+function arxSums(pv: Float64Array, mv: Float64Array, nb: number, nested: boolean): ArxSums {
+  const n = pv.length;
+  const f: ArxSums = {
+    n,
+    nb,
+    start: nb,
+    pp: new LagSums(n, -nb, 0, nb).fill(pv, pv),
+    pvCum: cumSum(pv),
+    mv: inputSums(n, nb),
+    valve: inputSums(n, nb),
+    valveMv: nested ? new LagSums(n, -nb, nb, nb) : null,
+  };
+  fillInput(f.mv, pv, mv);
+  return f;
+}
+
+/** Regressors after the constant and PV lags: MV lags (the linear valve), the valve's lags, or both (nested). */
+type ArxInputs = "mv" | "valve" | "nested";
 
 /**
- * The part of the normal equations that does not depend on the valve: the constant and PV lags
- * (rows and columns 0..NA), their products with PV, and Σ PV². Shared by the linear fit and every
- * (S, J) of the grid; each sum runs over t in ascending order, so the result is bit for bit the
- * one of summing all products row by row.
+ * Least squares of PV on a constant, PV lags 1..na (na <= nb) and input lags 1..nb (all normal
+ * equations from sums of lagged products); returns the residual variance, NaN when the equations
+ * are singular.
  */
-interface ArxFixed {
-  pv: Float64Array;
-  nb: number;
-  p: number;
-  start: number;
-  /** Lower triangle of the (1+NA)² block, row-major in a p×p layout. */
-  A: Float64Array;
-  b: Float64Array;
-  yy: number;
-}
-
-function prepareArx(pv: Float64Array, nb: number): ArxFixed {
-  const n = pv.length;
-  const p = 1 + NA + nb;
-  const start = Math.max(NA, nb);
-  const ones = new Float64Array(n).fill(1);
-  // Column r of the regressor is col(r)[t - lag(r)]: the constant, then PV lagged by 1..NA.
+function arxResidual(f: ArxSums, na: number, inputs: ArxInputs): number {
+  const { n, nb, start } = f;
+  const m = n - start;
+  // columns: the constant (series -1), PV lags (0), MV lags (1), valve lags (2)
+  const cols: [number, number][] = [[-1, 0]];
+  for (let i = 1; i <= na; i++) cols.push([0, i]);
+  if (inputs !== "valve") for (let j = 1; j <= nb; j++) cols.push([1, j]);
+  if (inputs !== "mv") for (let j = 1; j <= nb; j++) cols.push([2, j]);
+  const p = cols.length;
+  if (m <= 2 * p) return NaN;
+  const series = [f.mv, f.valve];
+  const sym = (x: LagSums, i: number, j: number) => (i >= j ? x.get(i, j) : x.get(j, i));
+  const dot = ([a, i]: [number, number], [b, j]: [number, number]): number => {
+    // a >= b (rows below the diagonal come after their columns)
+    if (b < 0) return a < 0 ? m : lagTotal(a === 0 ? f.pvCum : series[a - 1]!.cum, start, i);
+    if (a === 0) return sym(f.pp, i, j);
+    if (b === 0) return series[a - 1]!.withPv.get(i, j);
+    if (a === b) return sym(series[a - 1]!.self, i, j);
+    return f.valveMv!.get(i, j);
+  };
   const A = new Float64Array(p * p);
   const b = new Float64Array(p);
-  for (let r = 0; r <= NA; r++) {
-    const xr = r === 0 ? ones : pv;
-    b[r] = lagDot(xr, r, pv, 0, start, n);
-    for (let c = 0; c <= r; c++) A[r * p + c] = lagDot(xr, r, c === 0 ? ones : pv, c, start, n);
+  for (let r = 0; r < p; r++) {
+    const [a, i] = cols[r]!;
+    b[r] = a < 0 ? lagTotal(f.pvCum, start, 0) : a === 0 ? f.pp.get(i, 0) : series[a - 1]!.withPv.get(i, 0);
+    for (let c = 0; c <= r; c++) A[r * p + c] = dot(cols[r]!, cols[c]!);
   }
-  return { pv, nb, p, start, A, b, yy: lagDot(pv, 0, pv, 0, start, n) };
-}
-
-/** Least squares of PV on the constant, PV lags 1..NA and valve lags 1..nb; returns the residual variance. */
-function arxResidual(f: ArxFixed, v: Float64Array): number {
-  const { pv, nb, p, start } = f;
-  const n = pv.length;
-  const A = new Float64Array(f.A);
-  const b = new Float64Array(f.b);
-  const yy = f.yy;
-  for (let j = 1; j <= nb; j++) {
-    const r = NA + j;
-    // Σ v, Σ v·PV(t), Σ v·PV(t-1), Σ v·PV(t-2) (NA = 2): b and the constant's and PV lags' columns (a·1 is exactly a).
-    let s1 = 0;
-    let sb = 0;
-    let sp1 = 0;
-    let sp2 = 0;
-    for (let t = start; t < n; t++) {
-      const a = v[t - j]!;
-      s1 += a;
-      sb += a * pv[t]!;
-      sp1 += a * pv[t - 1]!;
-      sp2 += a * pv[t - 2]!;
-    }
-    b[r] = sb;
-    A[r * p] = s1;
-    A[r * p + 1] = sp1;
-    A[r * p + 2] = sp2;
-    let c = NA + 1;
-    for (; c + 3 <= r; c += 4) lagDot4(v, j, v, c - NA, start, n, A, r * p + c);
-    for (; c <= r; c++) A[r * p + c] = lagDot(v, j, v, c - NA, start, n);
-  }
-  const m = n - start;
-  if (m <= 2 * p) return NaN;
+  const yy = f.pp.get(0, 0);
   // Cholesky with a tiny ridge (regressors can be nearly collinear under feedback).
   let trace = 0;
   for (let r = 0; r < p; r++) trace += A[r * p + r]!;
@@ -146,15 +200,15 @@ function arxResidual(f: ArxFixed, v: Float64Array): number {
       } else L[r * p + c] = s / L[c * p + c]!;
     }
   }
-  // theta = A^-1 b; residual = yy - b'theta.
+  // with A = L L', b' A^-1 b = |L^-1 b|²; residual = yy - b' theta
+  let explained = 0;
   const z = new Float64Array(p);
   for (let r = 0; r < p; r++) {
     let s = b[r]!;
     for (let k = 0; k < r; k++) s -= L[r * p + k]! * z[k]!;
     z[r] = s / L[r * p + r]!;
+    explained += z[r]! * z[r]!;
   }
-  let explained = 0;
-  for (let r = 0; r < p; r++) explained += z[r]! * z[r]!;
   return Math.max(0, yy - explained) / m;
 }
 
@@ -170,18 +224,33 @@ function blockMeans(x: ArrayLike<number>, from: number, d: number, count: number
 }
 
 /**
+ * Bands S searched, in standard deviations of MV: up to the full swing of a triangular output
+ * (2√3 sd) and one band beyond it, where a valve would barely move (a best fit there is no
+ * stick-slip estimate).
+ */
+const BANDS = [0.1, 0.2, 0.3, 0.45, 0.6, 0.8, 1, 1.3, 1.7, 2.2, 2.8, 3.5, 4.5];
+
+/**
  * Fit of the sticking-valve model to MV (% of output range) and PV (% of span) of one
  * closed-loop stretch with a cycle of `periodSamples`. Null when the stretch is too short.
+ *
+ * `nested`: the valve's lags are added to MV's instead of replacing them. Under integral action
+ * MV is also the controller's running estimate of the load (it moves until the load is
+ * cancelled), so under random loads MV's lags predict PV through the load as well, which a
+ * valve that holds still loses: the replacing fit can then show no gain even with the true valve
+ * (seen in simulation). The nested fit asks whether the valve adds to what MV says.
  */
-export function fitStictionModel(mv: Float64Array, pv: Float64Array, periodSamples: number): StictionFitResult | null {
+export function fitStictionModel(mv: Float64Array, pv: Float64Array, periodSamples: number, nested = false): StictionFitResult | null {
   const n = Math.min(mv.length, pv.length);
   if (periodSamples < 8 || n < 6 * periodSamples) return null;
   const d = Math.max(1, Math.floor(periodSamples / 24));
   let count = Math.floor(n / d);
   if (count < 200) return null;
   count = Math.min(count, MAX_FIT);
-  // The valve state runs over the whole stretch; the fit uses its last `count` blocks.
+  // The fit uses the last `count` blocks; the valve runs from ten cycles before them (its state
+  // forgets where it started once it has slipped both ways, so running the whole day adds nothing).
   const from = n - count * d;
+  const warm = Math.max(0, from - Math.ceil(10 * periodSamples));
   const nb = Math.max(2, Math.min(16, Math.ceil(periodSamples / d / 2)));
   const pvd = blockMeans(pv, from, d, count);
   let mean = 0;
@@ -191,21 +260,65 @@ export function fitStictionModel(mv: Float64Array, pv: Float64Array, periodSampl
   for (let i = from; i < n; i++) sd += (mv[i]! - mean) ** 2;
   sd = Math.sqrt(sd / (n - from));
   if (!(sd > 0)) return null;
-  const fixed = prepareArx(pvd, nb);
-  const linear = arxResidual(fixed, blockMeans(mv, from, d, count));
-  if (!(linear > 0)) return null;
+  const mvd = blockMeans(mv, from, d, count);
+  const sums = arxSums(pvd, mvd, nb, nested);
+  // Two orders of the process part: two PV lags (a lag or an integrator) and as many PV lags as
+  // input lags (room for coloured loads); each sticking valve is compared with the linear valve
+  // of the same order, and the larger gain counts.
+  const orders = nb > 2 ? [2, nb] : [2];
+  const linear = orders.map((na) => arxResidual(sums, na, "mv"));
+  if (!linear.every((r) => r > 0)) return null;
   const pos = new Float64Array(n);
-  let best = { r: linear, S: 0, J: 0 };
-  // S up to about twice the output's peak-to-peak swing of a sine of the same variance.
-  for (const fS of [0.1, 0.2, 0.3, 0.45, 0.6, 0.8, 1, 1.3, 1.7, 2.2, 3]) {
+  let best = { ratio: 1, S: 0, J: 0, slips: 0 };
+  for (const fS of BANDS) {
     const S = fS * sd;
     for (const fJ of [0, 0.5, 1]) {
       const J = fJ * S;
-      const valve = new StictionValve({ S, J }, mv[0]!, [-Infinity, Infinity]);
-      for (let i = 0; i < n; i++) pos[i] = valve.update(mv[i]!);
-      const r = arxResidual(fixed, blockMeans(pos, from, d, count));
-      if (r < best.r) best = { r, S, J };
+      const valve = new StictionValve({ S, J }, mv[warm]!, [-Infinity, Infinity]);
+      for (let i = warm; i < n; i++) pos[i] = valve.update(mv[i]!);
+      const v = blockMeans(pos, from, d, count);
+      fillInput(sums.valve, pvd, v);
+      sums.valveMv?.fill(v, mvd);
+      for (let k = 0; k < orders.length; k++) {
+        const ratio = arxResidual(sums, orders[k]!, nested ? "nested" : "valve") / linear[k]!;
+        if (ratio < best.ratio) best = { ratio, S, J, slips: valve.slips };
+      }
     }
   }
-  return { residualRatio: best.r / linear, bandPct: best.S, jumpPct: best.J, samples: count };
+  const m = count - nb;
+  return {
+    residualRatio: best.ratio,
+    bandPct: best.S,
+    jumpPct: best.J,
+    samples: count,
+    chanceGain: ((nested ? nb : 0) + 3 * Math.sqrt(2 * nb)) / m,
+    atEdge: best.S === BANDS[BANDS.length - 1]! * sd,
+    slipsPerCycle: best.slips / ((n - warm) / periodSamples),
+  };
+}
+
+/** Gain (1 - residual ratio) at or above which a sticking valve clearly explains PV better (ours, set on DEV). */
+const CLEAR_GAIN = 0.05;
+/** Gain below which the sticking valve explains nothing beyond a linear valve (ours). */
+const NO_GAIN = 0.01;
+/**
+ * Slips per cycle below which the best-fitting valve cannot be what makes the cycles (ours): a
+ * stick-slip cycle slips twice a cycle; a valve that moves less than once in two cycles gains by
+ * following a few load steps, not by stick-slip.
+ */
+const MIN_SLIPS_PER_CYCLE = 0.5;
+
+export type StictionFitReading = "clear" | "slight" | "none" | "implausible";
+
+/**
+ * What a fit says: `none` when the gain is within chance (or below 1 %), `implausible` when the
+ * best valve is no stick-slip valve (its band the largest searched, beyond the output's swing, or
+ * it seldom slips: a wide band then acts as a slow filter of MV that follows slow loads), `clear`
+ * at twice the chance gain and at least 5 %, `slight` between.
+ */
+export function readStictionFit(fit: StictionFitResult): StictionFitReading {
+  const gain = 1 - fit.residualRatio;
+  if (gain < Math.max(NO_GAIN, fit.chanceGain)) return "none";
+  if (fit.atEdge || fit.slipsPerCycle < MIN_SLIPS_PER_CYCLE) return "implausible";
+  return gain >= Math.max(CLEAR_GAIN, 2 * fit.chanceGain) ? "clear" : "slight";
 }
