@@ -36,8 +36,8 @@
  *
  * The sums are kept as d x d and d arrays and the normal equations are solved by Gaussian
  * elimination with partial pivoting into preallocated buffers (`solveInto`): O(d^2) per sample,
- * O(d^3) per solve, no allocation per sample. Covariance: the IV sandwich with a HAC score sum
- * at the reported estimate (./riv-covariance.ts). Measured (300 seeded runs, white MV, PV noise
+ * O(d^3) per solve, no allocation per sample. Covariance: the IV sandwich with the equation
+ * error's autocovariance at the reported estimate (./riv-covariance.ts). Measured (300 seeded runs, white MV, PV noise
  * 0.3): coverage 94.3 % at 500 samples, 98 % at 2,000 (slightly conservative). In manual (open loop), the auxiliary model
  * starts after 25 informative samples per parameter; earlier, a poor estimate driven by the MV
  * gave instruments that spoiled the sums (pole errors up to 38 on 300 seeded runs).
@@ -61,6 +61,12 @@ export interface InstrumentalArxOptions {
   instrumentThreshold?: number;
   /** Weight of the running residual variance (all samples), (0, 1); default 0.995. */
   residualMemory?: number;
+  /**
+   * Lags of the equation error's autocovariance the parameter covariance carries (./riv-covariance.ts);
+   * default na (A(q) n, n white output noise, is MA(na)). Data through a prefilter need more: add
+   * `prefilterNoiseLags` of it.
+   */
+  noiseLags?: number;
   /** The loop's controller u = C(q) (r - y) as num/den in ascending powers of q^-1 (den[0] != 0), for auxiliary-model instruments; default none. */
   controller?: { num: readonly number[]; den: readonly number[] } | null;
 }
@@ -85,7 +91,7 @@ export interface InstrumentalArxState {
   conditioning: number;
   /** Auxiliary model: simulated y, u, e histories, run length, simulation-error sums. */
   aux: AuxiliaryState;
-  /** HAC score sum (absent in older states: it then starts empty and the white-noise covariance serves meanwhile). */
+  /** Noise-autocovariance sums of the covariance (field name kept; absent or from an older version: they start empty and the white-noise covariance serves meanwhile). */
   hac?: ScoreSumState & { openAuxStarted: boolean };
 }
 
@@ -135,7 +141,7 @@ export class InstrumentalArxEstimator {
   private dirty = false;
   private readonly aux: AuxiliaryModel;
   private readonly scores: ScoreSum;
-  /** Whether open-loop auxiliary instruments have taken over (the HAC sum restarts then, once). */
+  /** Whether open-loop auxiliary instruments have taken over (the covariance sums restart then, once). */
   private openAuxStarted = false;
 
   constructor(options: InstrumentalArxOptions) {
@@ -159,7 +165,9 @@ export class InstrumentalArxEstimator {
       }
       controller = { num, den };
     }
-    this.options = { na: options.na, nb: options.nb, nk: options.nk, T, forgetting: lam, instrumentThreshold: thr, residualMemory: rm, controller };
+    const noiseLags = options.noiseLags ?? options.na;
+    checkInt("noiseLags", noiseLags, 0);
+    this.options = { na: options.na, nb: options.nb, nk: options.nk, T, forgetting: lam, instrumentThreshold: thr, residualMemory: rm, noiseLags, controller };
     this.na = options.na;
     this.nb = options.nb;
     this.nk = options.nk;
@@ -178,7 +186,7 @@ export class InstrumentalArxEstimator {
     this.uHist = new Float64Array(this.nk + d + 1);
     this.rHist = new Float64Array(this.nk + d);
     this.aux = new AuxiliaryModel(this.na, this.nb, this.nk, controller, rm);
-    this.scores = new ScoreSum(d, this.na);
+    this.scores = new ScoreSum(d, noiseLags);
   }
 
   /** Samples pushed so far. */
@@ -235,7 +243,7 @@ export class InstrumentalArxEstimator {
     // estimate driven by the MV gives instruments that spoil the sums; seen: pole errors of 38)
     const useAux = this.solved && (open ? this.informative >= OPEN_AUX_MIN_PER_PARAMETER * d : this.options.controller !== null);
     if (useAux && open && !this.openAuxStarted) {
-      // the scores of the first, poorer estimates would inflate the HAC sum for long (measured:
+      // the scores of the first, poorer estimates would inflate the covariance sums for long (measured:
       // 99 % coverage of 95 % intervals at 500 samples with them, 95 % without)
       this.openAuxStarted = true;
       this.scores.reset();
@@ -314,7 +322,7 @@ export class InstrumentalArxEstimator {
   }
 
   /**
-   * Approximate covariance of [a, b] (nested d x d): R^-1 S R^-T with the HAC score sum S (file
+   * Approximate covariance of [a, b] (nested d x d): R^-1 S R^-T with S from the noise autocovariance (file
    * header), or sigma^2 R^-1 Szz R^-T (white equation error) before that has enough samples or
    * when it is not positive on the diagonal; times the weighted-least-squares
    * factor (1 + lambda^n)/(1 + lambda). NaN entries when not available. Allocates (state time only).

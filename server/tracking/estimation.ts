@@ -7,11 +7,12 @@
  * an operator's MV move in manual), so the estimate is held, not drifted by noise, while nothing
  * excites it.
  */
-import { InstrumentalArxEstimator } from "@/lib/control/riv";
+import { InstrumentalArxEstimator, type InstrumentalArxState } from "@/lib/control/riv";
+import { prefilterNoiseLags } from "@/lib/control/riv-covariance";
 import { ArxEstimator } from "@/lib/control/arx";
 import type { ArxModel, QTf } from "@/lib/control/types";
 import { NEVER, type EstimationInput, type TrackerCheckpoint } from "./checkpoint";
-import type { SignalConditioner } from "./conditioning";
+import { PREFILTER_POLE, type SignalConditioner } from "./conditioning";
 import { DataOnlyModel } from "./data-model";
 import { choosePlant, plausibility, reducedOrderMisfit } from "./plant-choice";
 import { SampleGate, type GateContext } from "./sample-gate";
@@ -91,7 +92,7 @@ export class PlantEstimation {
 
   private makePlantEstimator(na: number): InstrumentalArxEstimator {
     const c = this.config;
-    return new InstrumentalArxEstimator({ na, nb: c.nb, nk: c.nk, forgetting: c.forgetting ?? 0.995, T: this.estimationPeriodS, instrumentThreshold: INSTRUMENT_THRESHOLD_PCT, controller: this.controller });
+    return new InstrumentalArxEstimator({ na, nb: c.nb, nk: c.nk, forgetting: c.forgetting ?? 0.995, T: this.estimationPeriodS, instrumentThreshold: INSTRUMENT_THRESHOLD_PCT, noiseLags: na + prefilterNoiseLags(PREFILTER_POLE), controller: this.controller });
   }
 
   /** One estimation sample through the gate; true when a state was computed. */
@@ -208,8 +209,8 @@ export class PlantEstimation {
    * @throws as the estimators' `fromJSON` on a malformed state (nothing touched either).
    */
   restore(cp: CheckpointPart, action: LoopConfig["controller"]["action"]): string | null {
-    const plant = InstrumentalArxEstimator.fromJSON(cp.plant);
-    const reduced = cp.plantReduced ? InstrumentalArxEstimator.fromJSON(cp.plantReduced) : null;
+    const plant = InstrumentalArxEstimator.fromJSON(withNoiseLags(cp.plant));
+    const reduced = cp.plantReduced ? InstrumentalArxEstimator.fromJSON(withNoiseLags(cp.plantReduced)) : null;
     if (plant.na !== this.config.na || (reduced === null) !== (this.config.na < 2) || (reduced !== null && reduced.na !== this.config.na - 1)) {
       return "checkpoint was made for another model structure or estimation period";
     }
@@ -234,6 +235,12 @@ export class PlantEstimation {
     this.gate.restore(cp.robust);
     return null;
   }
+}
+
+/** A state from before the noise lags option gets the tracker's (its covariance sums restart: riv-covariance.ts). */
+function withNoiseLags(s: InstrumentalArxState): InstrumentalArxState {
+  if (!s || typeof s.options !== "object" || s.options === null || s.options.noiseLags !== undefined) return s;
+  return { ...s, options: { ...s.options, noiseLags: s.options.na + prefilterNoiseLags(PREFILTER_POLE) } };
 }
 
 /** A deep copy; a misfit that is neither a finite number nor null (an older checkpoint) is left out. */
