@@ -36,11 +36,11 @@
  *
  * The sums are kept as d x d and d arrays and the normal equations are solved by Gaussian
  * elimination with partial pivoting into preallocated buffers (`solveInto`): O(d^2) per sample,
- * O(d^3) per solve, no allocation per sample. Covariance: the IV sandwich with a HAC score sum
- * (./riv-covariance.ts). Measured (300 seeded runs, white MV, PV noise 0.3): coverage 96.7 % at
- * 500 samples, 98 % at 2,000 (slightly conservative). In manual (open loop), the auxiliary model
- * starts after 25 informative samples per parameter; earlier, a poor estimate driven by the MV
- * gave instruments that spoiled the sums (pole errors up to 38 on 300 seeded runs).
+ * O(d^3) per solve, no allocation per sample. Covariance: the IV sandwich with the equation
+ * error's autocovariance at the reported estimate (./riv-covariance.ts); measured in manual (white
+ * MV, PV noise 0.3, 500 samples, 300 seeded runs, three seed bases): 92.3, 91.3, 94.7 % covered.
+ * In manual the auxiliary model starts after 25 informative samples per parameter; earlier, a poor
+ * estimate driven by the MV gave instruments that spoiled the sums (pole errors of 38 seen).
  */
 import { ControlArgumentError, NonFiniteInputError } from "./errors";
 import { shiftIn } from "./lag-vector";
@@ -61,6 +61,8 @@ export interface InstrumentalArxOptions {
   instrumentThreshold?: number;
   /** Weight of the running residual variance (all samples), (0, 1); default 0.995. */
   residualMemory?: number;
+  /** Lags of the equation error's autocovariance in the covariance; default na (A(q) n is MA(na)); prefiltered data: add `prefilterNoiseLags`. */
+  noiseLags?: number;
   /** The loop's controller u = C(q) (r - y) as num/den in ascending powers of q^-1 (den[0] != 0), for auxiliary-model instruments; default none. */
   controller?: { num: readonly number[]; den: readonly number[] } | null;
 }
@@ -85,7 +87,7 @@ export interface InstrumentalArxState {
   conditioning: number;
   /** Auxiliary model: simulated y, u, e histories, run length, simulation-error sums. */
   aux: AuxiliaryState;
-  /** HAC score sum (absent in older states: it then starts empty and the white-noise covariance serves meanwhile). */
+  /** Noise-autocovariance sums of the covariance (field name kept; absent or from an older version: they start empty and the white-noise covariance serves meanwhile). */
   hac?: ScoreSumState & { openAuxStarted: boolean };
 }
 
@@ -135,13 +137,14 @@ export class InstrumentalArxEstimator {
   private dirty = false;
   private readonly aux: AuxiliaryModel;
   private readonly scores: ScoreSum;
-  /** Whether open-loop auxiliary instruments have taken over (the HAC sum restarts then, once). */
+  /** Whether open-loop auxiliary instruments have taken over (the covariance sums restart then, once). */
   private openAuxStarted = false;
 
   constructor(options: InstrumentalArxOptions) {
     checkInt("na", options.na, 1);
     checkInt("nb", options.nb, 1);
     checkInt("nk", options.nk, 1);
+    checkInt("noiseLags", options.noiseLags ?? options.na, 0);
     const T = options.T ?? 1;
     if (!(T > 0) || !Number.isFinite(T)) throw new ControlArgumentError(`T must be a finite number of seconds > 0, got ${T}`);
     const lam = options.forgetting ?? 0.995;
@@ -159,7 +162,8 @@ export class InstrumentalArxEstimator {
       }
       controller = { num, den };
     }
-    this.options = { na: options.na, nb: options.nb, nk: options.nk, T, forgetting: lam, instrumentThreshold: thr, residualMemory: rm, controller };
+    const noiseLags = options.noiseLags ?? options.na;
+    this.options = { na: options.na, nb: options.nb, nk: options.nk, T, forgetting: lam, instrumentThreshold: thr, residualMemory: rm, noiseLags, controller };
     this.na = options.na;
     this.nb = options.nb;
     this.nk = options.nk;
@@ -178,7 +182,7 @@ export class InstrumentalArxEstimator {
     this.uHist = new Float64Array(this.nk + d + 1);
     this.rHist = new Float64Array(this.nk + d);
     this.aux = new AuxiliaryModel(this.na, this.nb, this.nk, controller, rm);
-    this.scores = new ScoreSum(d, this.na);
+    this.scores = new ScoreSum(d, noiseLags);
   }
 
   /** Samples pushed so far. */
@@ -213,7 +217,7 @@ export class InstrumentalArxEstimator {
       }
       // skip: the real loop is open or the data are void, the noise-free copy restarts afterwards
       if (mode === "skip") this.aux.restart();
-      else used = this.accumulate(u, y, r, mode === "open", prior);
+      else used = this.accumulate(u, y, r, mode === "open");
     }
     if (!used) this.sinceInformative++;
     if (na > 0) shiftIn(this.yHist, y);
@@ -225,8 +229,8 @@ export class InstrumentalArxEstimator {
     return used;
   }
 
-  /** Instruments of this sample and, when informative, its terms in the sums; `prior` the a-priori residual. */
-  private accumulate(u: number, y: number, r: number, open: boolean, prior: number): boolean {
+  /** Instruments of this sample and, when informative, its terms in the sums. */
+  private accumulate(u: number, y: number, r: number, open: boolean): boolean {
     const { nk, d } = this;
     const z = this.z;
     const phi = this.phi;
@@ -235,7 +239,7 @@ export class InstrumentalArxEstimator {
     // estimate driven by the MV gives instruments that spoil the sums; seen: pole errors of 38)
     const useAux = this.solved && (open ? this.informative >= OPEN_AUX_MIN_PER_PARAMETER * d : this.options.controller !== null);
     if (useAux && open && !this.openAuxStarted) {
-      // the scores of the first, poorer estimates would inflate the HAC sum for long (measured:
+      // the scores of the first, poorer estimates would inflate the covariance sums for long (measured:
       // 99 % coverage of 95 % intervals at 500 samples with them, 95 % without)
       this.openAuxStarted = true;
       this.scores.reset();
@@ -261,7 +265,7 @@ export class InstrumentalArxEstimator {
       this.f[i] = lam * this.f[i]! + zi * y;
     }
     this.effective = lam * this.effective + 1;
-    if (Number.isFinite(prior)) this.scores.add(z, prior, lam);
+    this.scores.add(z, phi, y, lam);
     if (useAux) aux.recordSimError();
     this.informative++;
     this.sinceInformative = 0;
@@ -301,9 +305,8 @@ export class InstrumentalArxEstimator {
    * model (the current estimate, or the held one while the current one's closed loop is unstable)
    * in closed loop with the controller, driven by the set point alone (exponentially weighted over
    * `residualMemory`, informative samples only). It includes the disturbance response no model
-   * predicts, so it serves to compare structures on the same data, not as an absolute figure.
-   * NaN before 20 samples.
-   */
+   * predicts, so it serves to compare structures on the same data, not as an absolute figure
+   * (NaN before 20 samples). */
   simulationError(): number {
     return this.aux.simulationError();
   }
@@ -314,10 +317,9 @@ export class InstrumentalArxEstimator {
   }
 
   /**
-   * Approximate covariance of [a, b] (nested d x d): R^-1 S R^-T with the HAC score sum S (file
-   * header), or sigma^2 R^-1 Szz R^-T (white equation error) before that has enough samples or
-   * when it is not positive on the diagonal; times the weighted-least-squares
-   * factor (1 + lambda^n)/(1 + lambda). NaN entries when not available. Allocates (state time only).
+   * Approximate covariance of [a, b] (nested d x d): R^-1 S R^-T (./riv-covariance.ts), or before
+   * that has enough samples or is not positive on the diagonal the white-equation-error form
+   * sigma^2 R^-1 Szz R^-T (1 + lambda^n)/(1 + lambda). NaN when not available. Allocates.
    */
   parameterCovariance(): number[][] {
     const d = this.d;
@@ -327,7 +329,7 @@ export class InstrumentalArxEstimator {
     const lam = this.options.forgetting;
     // sum w^2 z z' ~ Szz (sum w^2)/(sum w) = Szz (1 + lambda^n)/(1 + lambda)
     const factor = lam === 1 ? 1 : (1 + lam ** this.informative) / (1 + lam);
-    return ivCovariance(this.R, this.Szz, this.scores, s2, factor, d);
+    return ivCovariance(this.R, this.Szz, this.scores, this.theta, s2, factor, d);
   }
 
   toJSON(): InstrumentalArxState {

@@ -47,7 +47,7 @@ export interface TrackerCheckpoint {
   plant: InstrumentalArxState;
   plantReduced: InstrumentalArxState | null;
   /** Last plausible plant model (held while the current estimate is not physical). */
-  lastGood?: { model: ArxModel; cov: number[][]; at: number } | null;
+  lastGood?: { model: ArxModel; cov: number[][]; at: number; misfit?: number | null } | null;
   data: ArxEstimatorState;
   /** The data-only model's block being averaged (absent in older checkpoints: a new block). */
   dataBlock?: DataBlockState | null;

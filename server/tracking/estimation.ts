@@ -7,13 +7,14 @@
  * an operator's MV move in manual), so the estimate is held, not drifted by noise, while nothing
  * excites it.
  */
-import { InstrumentalArxEstimator } from "@/lib/control/riv";
+import { InstrumentalArxEstimator, type InstrumentalArxState } from "@/lib/control/riv";
+import { prefilterNoiseLags } from "@/lib/control/riv-covariance";
 import { ArxEstimator } from "@/lib/control/arx";
 import type { ArxModel, QTf } from "@/lib/control/types";
 import { NEVER, type EstimationInput, type TrackerCheckpoint } from "./checkpoint";
-import type { SignalConditioner } from "./conditioning";
+import { PREFILTER_POLE, type SignalConditioner } from "./conditioning";
 import { DataOnlyModel } from "./data-model";
-import { choosePlant, plausibility } from "./plant-choice";
+import { choosePlant, plausibility, reducedOrderMisfit } from "./plant-choice";
 import { SampleGate, type GateContext } from "./sample-gate";
 import type { LoopConfig } from "./types";
 
@@ -25,6 +26,13 @@ export interface EstimationHooks {
   stateDue(k: number, t: number): boolean;
   /** The estimators were restarted after a numerical failure, for `reason`. */
   restarted(reason: string): void;
+}
+
+export interface LastGood {
+  model: ArxModel;
+  cov: number[][];
+  at: number;
+  misfit?: number | null;
 }
 
 type CheckpointPart = Pick<TrackerCheckpoint, "structure" | "plant" | "plantReduced" | "lastGood" | "data" | "dataBlock" | "estimationSamples" | "lastPlantUpdate" | "lastSpMove" | "yVariance" | "yMean" | "robust">;
@@ -40,8 +48,12 @@ export class PlantEstimation {
   plantReduced: InstrumentalArxEstimator | null;
   /** The data-only closed-loop model (./data-model.ts). */
   readonly data: DataOnlyModel;
-  /** The last plant model that passed the plausibility check, its covariance and when (estimation samples). */
-  lastGood: { model: ArxModel; cov: number[][]; at: number } | null = null;
+  /**
+   * The last plant model that passed the plausibility check, its covariance and when (estimation
+   * samples); `misfit` (reduced-order plant only) widens its dominant pole's interval, null: no
+   * interval is claimed for that pole (./plant-choice.ts `reducedOrderMisfit`).
+   */
+  lastGood: LastGood | null = null;
   /** Why the current estimate is not physical (null when it is), from the last state computation. */
   implausible: string | null = null;
   /** Informative samples the plant estimate needs before it is reported. */
@@ -80,7 +92,7 @@ export class PlantEstimation {
 
   private makePlantEstimator(na: number): InstrumentalArxEstimator {
     const c = this.config;
-    return new InstrumentalArxEstimator({ na, nb: c.nb, nk: c.nk, forgetting: c.forgetting ?? 0.995, T: this.estimationPeriodS, instrumentThreshold: INSTRUMENT_THRESHOLD_PCT, controller: this.controller });
+    return new InstrumentalArxEstimator({ na, nb: c.nb, nk: c.nk, forgetting: c.forgetting ?? 0.995, T: this.estimationPeriodS, instrumentThreshold: INSTRUMENT_THRESHOLD_PCT, noiseLags: na + prefilterNoiseLags(PREFILTER_POLE), controller: this.controller });
   }
 
   /** One estimation sample through the gate; true when a state was computed. */
@@ -149,7 +161,8 @@ export class PlantEstimation {
     this.implausible = this.plantReady() ? plausibility(this.plant, action) : null;
     if (this.plantReady() && this.implausible === null) {
       // the current estimate, kept as the last good one (the same objects feed the figures below)
-      this.lastGood = { model: this.plant.model(), cov: this.plant.parameterCovariance(), at: this.estimationSamples };
+      const misfit = this.plant === this.plantReduced ? reducedOrderMisfit(this.plantFull, this.plantReduced, this.controller) : undefined;
+      this.lastGood = { model: this.plant.model(), cov: this.plant.parameterCovariance(), at: this.estimationSamples, ...(misfit === undefined ? {} : { misfit }) };
     }
   }
 
@@ -178,7 +191,7 @@ export class PlantEstimation {
     return {
       plant: this.plantFull.toJSON(),
       plantReduced: this.plantReduced ? this.plantReduced.toJSON() : null,
-      lastGood: this.lastGood ? { model: { ...this.lastGood.model, a: [...this.lastGood.model.a], b: [...this.lastGood.model.b] }, cov: this.lastGood.cov.map((r) => [...r]), at: this.lastGood.at } : null,
+      lastGood: this.lastGood ? copyLastGood(this.lastGood) : null,
       data: this.data.toJSON(),
       dataBlock: this.data.blockJSON(),
       estimationSamples: this.estimationSamples,
@@ -196,8 +209,8 @@ export class PlantEstimation {
    * @throws as the estimators' `fromJSON` on a malformed state (nothing touched either).
    */
   restore(cp: CheckpointPart, action: LoopConfig["controller"]["action"]): string | null {
-    const plant = InstrumentalArxEstimator.fromJSON(cp.plant);
-    const reduced = cp.plantReduced ? InstrumentalArxEstimator.fromJSON(cp.plantReduced) : null;
+    const plant = InstrumentalArxEstimator.fromJSON(withNoiseLags(cp.plant));
+    const reduced = cp.plantReduced ? InstrumentalArxEstimator.fromJSON(withNoiseLags(cp.plantReduced)) : null;
     if (plant.na !== this.config.na || (reduced === null) !== (this.config.na < 2) || (reduced !== null && reduced.na !== this.config.na - 1)) {
       return "checkpoint was made for another model structure or estimation period";
     }
@@ -206,7 +219,7 @@ export class PlantEstimation {
     const sameData = s.dataOrder === this.data.order && (s.dataDecimation ?? 1) === this.data.decimation;
     const data = sameData ? ArxEstimator.fromJSON(cp.data) : null;
     const lg = cp.lastGood;
-    this.lastGood = lg ? { model: { ...lg.model, a: [...lg.model.a], b: [...lg.model.b] }, cov: lg.cov.map((r) => [...r]), at: lg.at } : null;
+    this.lastGood = lg ? copyLastGood(lg) : null;
     this.plantFull = plant;
     this.plantReduced = reduced;
     this.plant = choosePlant(this.plantFull, this.plantReduced, (p) => this.plantReady(p), action);
@@ -222,4 +235,17 @@ export class PlantEstimation {
     this.gate.restore(cp.robust);
     return null;
   }
+}
+
+/** A state from before the noise lags option gets the tracker's (its covariance sums restart: riv-covariance.ts). */
+function withNoiseLags(s: InstrumentalArxState): InstrumentalArxState {
+  if (!s || typeof s.options !== "object" || s.options === null || s.options.noiseLags !== undefined) return s;
+  return { ...s, options: { ...s.options, noiseLags: s.options.na + prefilterNoiseLags(PREFILTER_POLE) } };
+}
+
+/** A deep copy; a misfit that is neither a finite number nor null (an older checkpoint) is left out. */
+function copyLastGood(lg: LastGood): LastGood {
+  const m = lg.misfit;
+  const misfit = m === null || (typeof m === "number" && Number.isFinite(m)) ? { misfit: m } : {};
+  return { model: { ...lg.model, a: [...lg.model.a], b: [...lg.model.b] }, cov: lg.cov.map((r) => [...r]), at: lg.at, ...misfit };
 }

@@ -36,7 +36,12 @@ export function toPoleDto(z: Complex, c: { radiusStd: number; covariance: [[numb
   return { re: z.re, im: z.im, radius: modulus(z), sdRadius: sd, cov: cov && cov.every(Number.isFinite) ? cov : null, bound: bound !== undefined && Number.isFinite(bound) ? bound : null };
 }
 
-export function fillModelFigures(st: LoopStateDto, model: ArxModel, cov: number[][], controller: QTf, headroom: () => number | null): void {
+/**
+ * The model-based figures of a state. `misfit` (radius units; a reduced-order plant only, see
+ * ./plant-choice.ts `reducedOrderMisfit`) widens the dominant pole's sd and ellipse by the radius
+ * bias the missing pole may cause: sd^2 + misfit^2; null claims no interval for that pole.
+ */
+export function fillModelFigures(st: LoopStateDto, model: ArxModel, cov: number[][], controller: QTf, headroom: () => number | null, misfit?: number | null): void {
   try {
     const { char, roots } = closedLoopRoots(model, controller);
     if (roots.some((z) => !Number.isFinite(z.re) || !Number.isFinite(z.im))) return;
@@ -50,6 +55,7 @@ export function fillModelFigures(st: LoopStateDto, model: ArxModel, cov: number[
     st.characteristic = char.every(Number.isFinite) ? char : null;
     const bounded = polyRootsWithBounds(char, { roots });
     st.modelPoles = roots.map((z, i) => toPoleDto(z, conf?.[i], bounded[i]?.bound));
+    if (misfit !== undefined) widenDominant(st.modelPoles, misfit);
     st.juryStable = juryTest(char).stable;
     st.gainHeadroom = headroom();
     const num = stripLeadingZeros(polyMul(qToZ(model.b), qToZ(controller.num)));
@@ -62,6 +68,22 @@ export function fillModelFigures(st: LoopStateDto, model: ArxModel, cov: number[
     st.characteristic = null;
     st.zeros = [];
   }
+}
+
+/** The dominant pole's sd and (Re, Im) covariance widened by `misfit` (null: removed). */
+function widenDominant(poles: PoleDto[], misfit: number | null): void {
+  let k = -1;
+  poles.forEach((p, i) => {
+    if (k < 0 || p.radius > poles[k]!.radius) k = i;
+  });
+  const p = poles[k];
+  if (!p) return;
+  if (misfit === null) {
+    poles[k] = { ...p, sdRadius: null, cov: null };
+    return;
+  }
+  const m2 = misfit * misfit;
+  poles[k] = { ...p, sdRadius: p.sdRadius === null ? null : Math.sqrt(p.sdRadius * p.sdRadius + m2), cov: p.cov ? [p.cov[0] + m2, p.cov[1], p.cov[2] + m2] : null };
 }
 
 /**

@@ -305,7 +305,8 @@ export class LoopTracker {
     st.dataPolesKind = this.est.estimationSamples - this.est.lastSpMove <= memorySamples ? "closed-loop" : "disturbance-response";
     if (this.est.data.ready) st.dataPoles = this.est.data.poles();
     if (this.est.plantReady()) {
-      if (this.est.lastGood) fillModelFigures(st, this.est.lastGood.model, this.est.lastGood.cov, this.controller, () => this.headroom(this.est.lastGood!.model));
+      const lg = this.est.lastGood;
+      if (lg) fillModelFigures(st, lg.model, lg.cov, this.controller, () => this.headroom(lg.model), lg.misfit);
     }
     const poles = effectivePoles(st);
     // the figures come from the model-based poles only: data-only poles alone (while the plant is

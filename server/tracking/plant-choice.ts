@@ -4,8 +4,9 @@
  */
 import type { InstrumentalArxEstimator } from "@/lib/control/riv";
 import { polyRoots } from "@/lib/control/roots";
-import type { Complex } from "@/lib/control/types";
+import type { Complex, QTf } from "@/lib/control/types";
 import { modulus } from "./figures";
+import { closedLoopRoots } from "./pole-roots";
 
 /**
  * Structure choice, at state time: the configured structure while its plant poles are those
@@ -54,4 +55,32 @@ function plausiblePlantPoles(a: ArrayLike<number>): boolean {
     return false;
   }
   return roots.every((z) => modulus(z) <= 1.02 && !(Math.abs(z.im) < 1e-9 && z.re < -0.05));
+}
+
+/**
+ * How far the dominant closed-loop pole of the reduced-order plant may be off for want of the pole
+ * it lacks (radius units), when that plant is the reported one: the radius difference to the
+ * nearest closed-loop pole of the configured-order estimate. That estimate is consistent (its
+ * closed-loop poles include the true ones) though its plant poles are not physical: its
+ * ill-determined extra pole is the one a reduced model drops (not the dominant one it keeps, which
+ * is why the nearest pole is compared, not the largest). The difference also carries the noise of
+ * the configured-order estimate; taking out its delta-method variance (an unbiased bias^2) gave
+ * 71-81 % coverage on that loop, the plain difference 94-99 %. The reduced model is misspecified, so
+ * its nominal covariance does not cover its bias: on the real-pole closed loop of
+ * tests/control/tracker-coverage.ts (2,000 samples) it read 0.9567 against a true 0.9596 with an
+ * sd of 0.0014. Null when the configured-order estimate gives no poles to compare with.
+ */
+export function reducedOrderMisfit(full: InstrumentalArxEstimator, reduced: InstrumentalArxEstimator, controller: QTf): number | null {
+  if (!full.solved) return null;
+  try {
+    const red = closedLoopRoots(reduced.model(), controller).roots;
+    const all = closedLoopRoots(full.model(), controller).roots;
+    if (red.length === 0 || all.length === 0) return null;
+    const dom = red.reduce((x, y) => (modulus(y) > modulus(x) ? y : x));
+    const near = all.reduce((x, y) => (Math.hypot(y.re - dom.re, y.im - dom.im) < Math.hypot(x.re - dom.re, x.im - dom.im) ? y : x));
+    const m = Math.abs(modulus(near) - modulus(dom));
+    return Number.isFinite(m) ? m : null;
+  } catch {
+    return null;
+  }
 }
