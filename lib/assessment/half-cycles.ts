@@ -2,12 +2,12 @@
  * Half-cycles of an oscillating signal and least-squares shape fits on them: the common ground
  * of the shape tests for valve stiction (curve fit of He et al. 2007, relay fit of Rossi & Scali
  * 2005; see stiction.ts). A half-cycle runs between two zero crossings of the lightly smoothed,
- * mean-removed signal (hysteresis of a quarter of its RMS, so noise adds no crossings) and is
- * kept when its length is within 0.4-1.6 of half the period.
+ * signal less its local mean over three periods (hysteresis of a quarter of its RMS, so noise
+ * adds no crossings) and is kept when its length is within 0.4-1.6 of half the period.
  */
 
 export interface HalfCycles {
-  /** Mean-removed signal (not smoothed): what the shapes are fitted to. */
+  /** Signal less its local mean (not smoothed): what the shapes are fitted to. */
   x: Float64Array;
   /** [start, end) of each kept half-cycle. */
   spans: [number, number][];
@@ -26,13 +26,38 @@ export function movingAverage(x: ArrayLike<number>, w: number): Float64Array {
   return s;
 }
 
+/**
+ * The signal minus its mean over P samples centred on each one (shorter at the ends): a
+ * moving mean over exactly one period of a periodic signal is its mean, so the cycle keeps its
+ * shape while slow drifts (set-point moves, slow loads, an integrating PV wandering) no longer
+ * decide where the zero crossings fall.
+ */
+function removeLocalMean(signal: ArrayLike<number>, P: number): Float64Array {
+  const n = signal.length;
+  const cum = new Float64Array(n + 1);
+  for (let i = 0; i < n; i++) cum[i + 1] = cum[i]! + signal[i]!;
+  const lo = Math.floor(P / 2);
+  const hi = P - lo;
+  const x = new Float64Array(n);
+  for (let i = 0; i < n; i++) {
+    const a = Math.max(0, i - lo);
+    const b = Math.min(n, i + hi);
+    x[i] = signal[i]! - (cum[b]! - cum[a]!) / (b - a);
+  }
+  return x;
+}
+
+/**
+ * Periods the local mean is taken over (ours): a whole number of periods leaves a periodic cycle's
+ * shape intact; three rather than one because one period of an irregular cycle (random loads,
+ * a misjudged period) bends noisy half-cycles toward triangles (tried on DEV: one period made a
+ * healthy loop and two outside sinusoids read stiction).
+ */
+const LOCAL_MEAN_PERIODS = 3;
+
 export function findHalfCycles(signal: ArrayLike<number>, periodSamples: number): HalfCycles {
   const n = signal.length;
-  let m = 0;
-  for (let i = 0; i < n; i++) m += signal[i]!;
-  m /= n || 1;
-  const x = new Float64Array(n);
-  for (let i = 0; i < n; i++) x[i] = signal[i]! - m;
+  const x = removeLocalMean(signal, Math.max(1, Math.round(LOCAL_MEAN_PERIODS * periodSamples)));
   // Light smoothing (a twentieth of the period) against noise; centre its delay.
   const w = Math.max(1, Math.round(periodSamples / 20));
   const s = movingAverage(x, w);

@@ -14,7 +14,9 @@
  *    Chem. Res. 46). A sticking valve makes the MV of a self-regulating loop (or the PV of an
  *    integrating one) triangular; a linear oscillation is sinusoidal. Each half-cycle is fitted
  *    by both shapes; SI = MSE_sin / (MSE_sin + MSE_tri); SI <= 0.4 no stiction, >= 0.6
- *    stiction, between undetermined (thresholds as published, from memory).
+ *    stiction, between undetermined (thresholds as published, from memory). Ours: half-cycles
+ *    are found on the signal less its local mean over three periods (drifts no longer decide the
+ *    zero crossings), and triangular needs the per-half-cycle indices above 0.5 by t >= 3.
  *
  * The verdict is "likely" / "unlikely" / "undetermined", never certain: a valve travel test
  * (intrusive, with operations' consent) decides.
@@ -99,6 +101,13 @@ function nestedFitClear(mv: Float64Array, pv: Float64Array, P: number, evidence:
   return true;
 }
 
+/**
+ * The half-cycles read triangular only when their mean per-half-cycle index exceeds 0.5 by this
+ * many standard errors (ours; three, as the model fit's chance gain): a few noisy half-cycles of
+ * a sinusoid can pool to 0.6 by chance.
+ */
+const SHAPE_T = 3;
+
 /** ∠C of a PI above this (degrees) at the oscillation frequency: integral action dominates. */
 const INTEGRAL_DOMINANT_DEG = 60;
 
@@ -115,14 +124,18 @@ export function crossCorrelationOddness(u: Float64Array, y: Float64Array, period
 }
 
 /** He et al. (2007): stiction index from sine and triangle fits of half-cycles of x. */
-export function curveFitIndex(x: Float64Array, periodSamples: number): { index: number; halfCycles: number } | null {
+export function curveFitIndex(x: Float64Array, periodSamples: number): { index: number; halfCycles: number; tStat: number } | null {
   if (periodSamples < 16 || x.length < 2 * periodSamples) return null;
   const hc = findHalfCycles(x, periodSamples);
   let mseSin = 0;
   let mseTri = 0;
+  // per half-cycle index, for the spread of the pooled one
+  let s1 = 0;
+  let s2 = 0;
   for (const [a, b] of hc.spans) {
     const L = b - a;
-    mseSin += fitShape(hc.x, a, b, sineShape(L));
+    const sin = fitShape(hc.x, a, b, sineShape(L));
+    mseSin += sin;
     let bestTri = Infinity;
     const tri = new Float64Array(L);
     for (let q = 0.15; q <= 0.851; q += 0.05) {
@@ -131,10 +144,15 @@ export function curveFitIndex(x: Float64Array, periodSamples: number): { index: 
       bestTri = Math.min(bestTri, fitShape(hc.x, a, b, tri));
     }
     mseTri += bestTri;
+    const k = sin + bestTri > 0 ? sin / (sin + bestTri) - 0.5 : 0;
+    s1 += k;
+    s2 += k * k;
   }
   const count = hc.spans.length;
   if (count < 3 || !(mseSin + mseTri > 0)) return null;
-  return { index: mseSin / (mseSin + mseTri), halfCycles: count };
+  const mean = s1 / count;
+  const sd = Math.sqrt(Math.max(0, (s2 - count * mean * mean) / (count - 1)));
+  return { index: mseSin / (mseSin + mseTri), halfCycles: count, tStat: sd > 0 ? mean / (sd / Math.sqrt(count)) : mean > 0 ? Infinity : mean < 0 ? -Infinity : 0 };
 }
 
 /** Longest run of included samples, as [start, end). */
@@ -208,9 +226,10 @@ export function assessStiction(input: StictionInput): StictionResult {
     // He et al.'s 0.6 on an oscillation; 0.65 on a mere ringing mode, whose noisy half-cycles
     // of a sluggish or aggressive loop reach about 0.6 without any stiction (seen in simulation).
     const triangular = input.ringingOnly ? 0.65 : 0.6;
-    shape = fit.index >= triangular ? "triangular" : fit.index <= 0.4 ? "sinusoidal" : "inconclusive";
+    const beyondChance = fit.tStat >= SHAPE_T;
+    shape = fit.index >= triangular && beyondChance ? "triangular" : fit.index <= 0.4 ? "sinusoidal" : "inconclusive";
     tests.curveFit.note = shape;
-    evidence.push(`${input.integrating ? "PV" : "MV"} half-cycles are ${shape} (stiction index ${fmt(fit.index)} over ${fit.halfCycles} half-cycles; >= 0.6 triangular, <= 0.4 sinusoidal: He et al. 2007)`);
+    evidence.push(`${input.integrating ? "PV" : "MV"} half-cycles are ${shape} (stiction index ${fmt(fit.index)} over ${fit.halfCycles} half-cycles, t ${fmt(fit.tStat)}; >= 0.6 triangular, <= 0.4 sinusoidal: He et al. 2007)`);
   } else {
     tests.curveFit.note = "too few clean half-cycles";
     evidence.push("curve-fit test withheld: too few clean half-cycles");
