@@ -9,7 +9,7 @@ import { publicOrigin } from "@/lib/config";
 import { QueryTypes } from "sequelize";
 import { afterAll, beforeAll, describe, expect, it, vi } from "vitest";
 import { roleAtLeast, type Role, type TenantContext } from "@/lib/domain/types";
-import { createAuthFixture, type AuthFixture } from "../auth/fixture";
+import { createAuthFixture, fixtureContext, type AuthFixture } from "../auth/fixture";
 import { createTestDatabase, type TestDatabase } from "../setup/db";
 
 let current: TenantContext | null = null;
@@ -27,15 +27,7 @@ const { loadLiveLoops } = await import("@/server/assessment/loop-configs");
 
 let db: TestDatabase;
 let fx: AuthFixture;
-const ctxOf = (t: AuthFixture["a"], role: Role): TenantContext => ({
-  userId: t.users[role].id,
-  email: t.users[role].email,
-  name: role,
-  tenantId: t.id,
-  tenantSlug: t.slug,
-  tenantName: t.name,
-  role,
-});
+const ctxOf = (t: AuthFixture["a"], role: Role) => fixtureContext(t, role, role);
 const put = (body: unknown) =>
   new Request("http://127.0.0.1/api/work-list/settings", { method: "PUT", headers: { "content-type": "application/json", origin: publicOrigin() }, body: JSON.stringify(body) });
 type Settings = { settings: { sluggishMultiple: number; isDefault: boolean; updatedBy: string | null } };

@@ -13,7 +13,7 @@ import { opensWorkItem } from "@/lib/domain/findings";
 import { roleAtLeast, type Role, type TenantContext } from "@/lib/domain/types";
 import { Bus, systemClock, type ServerContext } from "@/server/context";
 import { benchmarkPlan, generateRecording } from "@/simulators/benchmark/generate";
-import { createAuthFixture, type AuthFixture } from "../auth/fixture";
+import { createAuthFixture, fixtureContext, type AuthFixture } from "../auth/fixture";
 import { createTestDatabase, type TestDatabase } from "../setup/db";
 
 let current: TenantContext | null = null;
@@ -36,15 +36,7 @@ const { startLiveAssessment } = await import("@/server/assessment/service");
 let db: TestDatabase;
 let fx: AuthFixture;
 
-const ctxOf = (t: AuthFixture["a"], role: Role): TenantContext => ({
-  userId: t.users[role].id,
-  email: t.users[role].email,
-  name: role,
-  tenantId: t.id,
-  tenantSlug: t.slug,
-  tenantName: t.name,
-  role,
-});
+const ctxOf = (t: AuthFixture["a"], role: Role) => fixtureContext(t, role, role);
 const req = (method: string, body?: unknown) =>
   new Request("http://127.0.0.1/api/x", {
     method,
