@@ -20,37 +20,17 @@ import { closedLoopPolynomial, discretePid } from "@/lib/control/closed-loop";
 import { InstrumentalArxEstimator } from "@/lib/control/riv";
 import { prefilterNoiseLags } from "@/lib/control/riv-covariance";
 import { PREFILTER_POLE } from "@/server/tracking/conditioning";
-import { mulberry32, normal } from "../helpers/seeded-random";
-import { COMPLEX_PAIR, REAL_POLE, type CoveragePlant } from "./tracker-coverage";
+import { closedLoopSamples, COMPLEX_PAIR, REAL_POLE, type CoveragePlant } from "./tracker-coverage";
 
 
-/** One seeded closed-loop run (as tests/control/tracker-coverage.ts), prefiltered; the estimator after it. */
+/** One seeded closed-loop run (tests/control/tracker-coverage.ts), prefiltered; the estimator after it. */
 function run(P: CoveragePlant, samples: number, seed: number): InstrumentalArxEstimator {
   const ctrl = discretePid({ kp: P.kp, ti: P.ti, T: 1, action: "reverse" });
-  const g = normal(mulberry32(seed));
-  const u01 = mulberry32(seed ^ 0x5bd1e995);
-  const { a, b } = P.plant;
   // the lags of the prefiltered equation error, as the tracker sets them (server/tracking/estimation.ts)
   const est = new InstrumentalArxEstimator({ na: 2, nb: 2, nk: 1, controller: ctrl, noiseLags: 2 + prefilterNoiseLags(PREFILTER_POLE) });
-  const y0 = [0, 0];
-  const uh = [0, 0];
-  const eh = new Array<number>(ctrl.num.length).fill(0);
-  let sp = 0;
   let prev: number[] | null = null;
   const f = [0, 0, 0];
-  for (let k = 0; k < samples; k++) {
-    if (k % P.stepEvery === 0) sp = 10 * (u01() - 0.5);
-    const y = -a[0]! * y0[0]! - a[1]! * y0[1]! + b[0]! * uh[0]! + b[1]! * uh[1]!;
-    const pv = y + P.noise * g();
-    eh.unshift(sp - pv);
-    eh.pop();
-    let u = 0;
-    for (let i = 0; i < ctrl.num.length; i++) u += ctrl.num[i]! * eh[i]!;
-    for (let i = 1; i < ctrl.den.length; i++) u -= ctrl.den[i]! * uh[i - 1]!;
-    y0.unshift(y);
-    y0.pop();
-    uh.unshift(u);
-    uh.pop();
+  for (const { sp, pv, u } of closedLoopSamples(P, samples, seed)) {
     const now = [u, pv, sp];
     if (prev) {
       for (let i = 0; i < 3; i++) f[i] = PREFILTER_POLE * f[i]! + now[i]! - prev[i]!;

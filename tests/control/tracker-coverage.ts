@@ -2,7 +2,7 @@
  * Monte Carlo harness: a LoopTracker (server/tracking/loop-tracker.ts) in closed loop with a
  * known ARX plant and the loop's own PI (discretePid at the estimation period), so the true
  * closed-loop poles are the roots of closedLoopPolynomial(true plant, controller). Shared by
- * tests/control/tracker-coverage.test.ts and the coverage table of `npm run bench`.
+ * tests/control/riv-closed-loop-coverage.test.ts (its closed-loop samples) and the coverage table of `npm run bench`.
  * Units: PV and MV in % of range (pvLo/pvHi and mvLo/mvHi 0..100), periods 1 s.
  */
 import { closedLoopPolynomial, discretePid } from "@/lib/control/closed-loop";
@@ -44,21 +44,18 @@ export function trueDominant(p: CoveragePlant): { radius: number; real: boolean 
 }
 
 /**
- * One seeded run of `samples` seconds; returns the tracker's last state (null if it produced none).
- * `each` receives every state with its sample count; `done` the tracker after the last sample.
+ * The seeded closed loop of one run: the plant under the loop's own PI with set-point moves every
+ * `stepEvery` samples and white PV noise; yields each sample's SP, PV and MV (deviations, % of range).
  */
-export function runTracker(p: CoveragePlant, samples: number, seed: number, each?: (k: number, s: LoopStateDto) => void, done?: (tracker: LoopTracker) => void): LoopStateDto | null {
+export function* closedLoopSamples(p: CoveragePlant, samples: number, seed: number): Generator<{ sp: number; pv: number; u: number }> {
   const g = normal(mulberry32(seed));
   const u01 = mulberry32(seed ^ 0x5bd1e995);
-  const clock = new FakeClock();
-  const tracker = new LoopTracker(coverageConfig(p), { clock });
   const ctrl = discretePid({ kp: p.kp, ti: p.ti, T: 1, action: "reverse" });
   const { a, b, nk } = p.plant;
   const y0 = new Array<number>(a.length).fill(0);
   const uh = new Array<number>(nk + b.length).fill(0);
   const eh = new Array<number>(ctrl.num.length).fill(0);
   let sp = 0;
-  let last: LoopStateDto | null = null;
   for (let k = 0; k < samples; k++) {
     if (k % p.stepEvery === 0) sp = 10 * (u01() - 0.5);
     let y = 0;
@@ -75,11 +72,26 @@ export function runTracker(p: CoveragePlant, samples: number, seed: number, each
     y0.pop();
     uh.unshift(u);
     uh.pop();
+    yield { sp, pv, u };
+  }
+}
+
+/**
+ * One seeded run of `samples` seconds; returns the tracker's last state (null if it produced none).
+ * `each` receives every state with its sample count; `done` the tracker after the last sample.
+ */
+export function runTracker(p: CoveragePlant, samples: number, seed: number, each?: (k: number, s: LoopStateDto) => void, done?: (tracker: LoopTracker) => void): LoopStateDto | null {
+  const clock = new FakeClock();
+  const tracker = new LoopTracker(coverageConfig(p), { clock });
+  let last: LoopStateDto | null = null;
+  let k = 0;
+  for (const { sp, pv, u } of closedLoopSamples(p, samples, seed)) {
     clock.t += 1000;
     const st = tracker.push([{ t: clock.t, sp: 50 + sp, pv: 50 + pv, mv: 50 + u, mode: "auto" }], clock.t);
+    k++;
     if (st) {
       last = st;
-      each?.(k + 1, st);
+      each?.(k, st);
     }
   }
   done?.(tracker);
