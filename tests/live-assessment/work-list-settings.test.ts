@@ -8,19 +8,12 @@
 import { publicOrigin } from "@/lib/config";
 import { QueryTypes } from "sequelize";
 import { afterAll, beforeAll, describe, expect, it, vi } from "vitest";
-import { roleAtLeast, type Role, type TenantContext } from "@/lib/domain/types";
+import type { Role } from "@/lib/domain/types";
+import { signInAs } from "@/tests/helpers/guard-stand-in";
 import { createAuthFixture, fixtureContext, type AuthFixture } from "../auth/fixture";
 import { createTestDatabase, type TestDatabase } from "../setup/db";
 
-let current: TenantContext | null = null;
-vi.mock("@/lib/auth/guard", () => ({
-  requireContext: async (min: Role = "viewer") => {
-    const errors = await import("@/lib/domain/errors");
-    if (!current) throw new errors.UnauthenticatedError();
-    if (!roleAtLeast(current.role, min)) throw new errors.ForbiddenError();
-    return current;
-  },
-}));
+vi.mock("@/lib/auth/guard", async () => (await import("@/tests/helpers/guard-stand-in")).guardStandIn());
 
 const route = await import("@/app/api/work-list/settings/route");
 const { loadLiveLoops } = await import("@/server/assessment/loop-configs");
@@ -43,18 +36,18 @@ afterAll(async () => {
 
 describe("work-list settings", () => {
   it("engineers read the default (3×); operators may not", async () => {
-    current = ctxOf(fx.a, "operator");
+    signInAs(ctxOf(fx.a, "operator"));
     expect((await route.GET()).status).toBe(403);
-    current = ctxOf(fx.a, "engineer");
+    signInAs(ctxOf(fx.a, "engineer"));
     const res = await route.GET();
     expect(res.status).toBe(200);
     expect(((await res.json()) as Settings).settings).toMatchObject({ sluggishMultiple: 3, isDefault: true });
   });
 
   it("only admins set it; a multiple of 1 or less, or no reason, is a 422 naming the field", async () => {
-    current = ctxOf(fx.a, "engineer");
+    signInAs(ctxOf(fx.a, "engineer"));
     expect((await route.PUT(put({ sluggishMultiple: 4, reason: "slow level loops" }))).status).toBe(403);
-    current = ctxOf(fx.a, "admin");
+    signInAs(ctxOf(fx.a, "admin"));
     const low = await route.PUT(put({ sluggishMultiple: 1, reason: "x" }));
     expect(low.status).toBe(422);
     expect(((await low.json()) as { error: string }).error).toMatch(/sluggishMultiple: must be above 1/);
@@ -64,7 +57,7 @@ describe("work-list settings", () => {
   });
 
   it("an admin's change is stored, logged with its reason and carried by the tenant's live loops only", async () => {
-    current = ctxOf(fx.a, "admin");
+    signInAs(ctxOf(fx.a, "admin"));
     const res = await route.PUT(put({ sluggishMultiple: 4.5, reason: "level loops are slow by design" }));
     expect(res.status).toBe(200);
     expect(((await res.json()) as Settings).settings).toMatchObject({ sluggishMultiple: 4.5, isDefault: false, updatedBy: `Admin of ${fx.a.name}` });

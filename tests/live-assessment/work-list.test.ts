@@ -10,21 +10,14 @@ import { QueryTypes } from "sequelize";
 import { afterAll, beforeAll, describe, expect, it, vi } from "vitest";
 import { assessLoop, parseLoopConfig, type LoopAssessmentReport } from "@/lib/assessment";
 import { opensWorkItem } from "@/lib/domain/findings";
-import { roleAtLeast, type Role, type TenantContext } from "@/lib/domain/types";
+import type { Role } from "@/lib/domain/types";
 import { Bus, systemClock, type ServerContext } from "@/server/context";
 import { benchmarkPlan, generateRecording } from "@/simulators/benchmark/generate";
+import { signInAs } from "@/tests/helpers/guard-stand-in";
 import { createAuthFixture, fixtureContext, type AuthFixture } from "../auth/fixture";
 import { createTestDatabase, type TestDatabase } from "../setup/db";
 
-let current: TenantContext | null = null;
-vi.mock("@/lib/auth/guard", () => ({
-  requireContext: async (min: Role = "viewer") => {
-    const errors = await import("@/lib/domain/errors");
-    if (!current) throw new errors.UnauthenticatedError();
-    if (!roleAtLeast(current.role, min)) throw new errors.ForbiddenError();
-    return current;
-  },
-}));
+vi.mock("@/lib/auth/guard", async () => (await import("@/tests/helpers/guard-stand-in")).guardStandIn());
 
 const itemRoute = await import("@/app/api/work-list/[itemId]/route");
 const listRoute = await import("@/app/api/work-list/route");
@@ -85,7 +78,7 @@ describe("work list rules", () => {
     const healthy = { ...stiction, diagnosis: { label: "healthy" as const, confidence: 0.9, evidence: ["likely healthy"] } };
     expect(await recordFinding(db.sequelize, input(fx.a, healthy, t0 + 180_000))).toEqual({ opened: null, updated: null });
 
-    current = ctxOf(fx.a, "viewer");
+    signInAs(ctxOf(fx.a, "viewer"));
     const list = (await (await listRoute.GET(new Request("http://127.0.0.1/api/work-list"))).json()) as { items: { id: number; label: string; seenCount: number; figuresAtOpen: { label: string }; figuresLatest: { label: string } }[] };
     expect(list.items.map((i) => i.label).sort()).toEqual(["aggressive-tuning", "valve-stiction"]);
     const item = list.items.find((i) => i.label === "valve-stiction")!;
@@ -99,7 +92,7 @@ describe("work list rules", () => {
   it("status changes are kept as an append-only history; closing needs a note; a new finding after closing opens a new item", async () => {
     const [row] = await db.sequelize.query<{ id: number }>("SELECT id FROM work_items WHERE loop_id = ? AND label = 'valve-stiction'", { replacements: [fx.a.loopId], type: QueryTypes.SELECT });
     const id = Number(row!.id);
-    current = ctxOf(fx.a, "engineer");
+    signInAs(ctxOf(fx.a, "engineer"));
     const taken = await itemRoute.PATCH(req("PATCH", { status: "in-work", ownerId: fx.a.users.engineer.id, note: "valve travel test booked" }), params("itemId", id));
     expect(taken.status).toBe(200);
     expect((await itemRoute.PATCH(req("PATCH", { status: "closed" }), params("itemId", id))).status).toBe(422);
@@ -131,23 +124,23 @@ describe("work list rules", () => {
     const [row] = await db.sequelize.query<{ id: number }>("SELECT id FROM work_items WHERE loop_id = ? AND open_key = 'aggressive-tuning'", { replacements: [fx.a.loopId], type: QueryTypes.SELECT });
     const id = Number(row!.id);
     for (const role of ["viewer", "operator"] as const) {
-      current = ctxOf(fx.a, role);
+      signInAs(ctxOf(fx.a, role));
       expect((await itemRoute.GET(req("GET"), params("itemId", id))).status).toBe(200);
       expect((await itemRoute.PATCH(req("PATCH", { status: "in-work" }), params("itemId", id))).status).toBe(403);
       expect((await rulesRoute.POST(req("POST", { name: "x", recipients: ["a@b.example"] }))).status).toBe(403);
     }
     for (const role of ["engineer", "admin"] as const) {
-      current = ctxOf(fx.a, role);
+      signInAs(ctxOf(fx.a, role));
       expect((await itemRoute.PATCH(req("PATCH", { note: `seen by ${role}` }), params("itemId", id))).status).toBe(200);
     }
-    current = ctxOf(fx.a, "engineer");
+    signInAs(ctxOf(fx.a, "engineer"));
     // The owner must be a member of the tenant.
     expect((await itemRoute.PATCH(req("PATCH", { ownerId: fx.b.users.engineer.id }), params("itemId", id))).status).toBe(422);
   });
 
   it("tenant isolation: another tenant's item and loop are 404, its list does not show them", async () => {
     const [row] = await db.sequelize.query<{ id: number }>("SELECT id FROM work_items WHERE loop_id = ? LIMIT 1", { replacements: [fx.a.loopId], type: QueryTypes.SELECT });
-    current = ctxOf(fx.b, "admin");
+    signInAs(ctxOf(fx.b, "admin"));
     expect((await itemRoute.GET(req("GET"), params("itemId", Number(row!.id)))).status).toBe(404);
     expect((await itemRoute.PATCH(req("PATCH", { note: "x" }), params("itemId", Number(row!.id)))).status).toBe(404);
     expect((await findingRoute.GET(req("GET"), params("loopId", fx.a.loopId))).status).toBe(404);
@@ -159,12 +152,12 @@ describe("work list rules", () => {
 describe("latest assessment stored, restored, and mailed to finding rules only", () => {
   it("the loop's finding survives a restart of the service; a new item mails the finding rule, not the alarm rule", async () => {
     await saveAssessment(db.sequelize, input(fx.b, aggressive, Date.UTC(2026, 11, 2, 9)));
-    current = ctxOf(fx.b, "viewer");
+    signInAs(ctxOf(fx.b, "viewer"));
     const r = (await (await findingRoute.GET(req("GET"), params("loopId", fx.b.loopId))).json()) as { finding: { label: string } | null; report: { diagnosis: { label: string } } | null };
     expect(r.finding?.label).toBe("aggressive-tuning");
     expect(r.report?.diagnosis.label).toBe("aggressive-tuning");
 
-    current = ctxOf(fx.b, "engineer");
+    signInAs(ctxOf(fx.b, "engineer"));
     expect((await rulesRoute.POST(req("POST", { name: "Loop engineers", recipients: ["loops@b.example"] }))).status).toBe(201);
     await db.models.NotificationRule.create({ tenantId: fx.b.id, areaId: null, name: "Operators", recipients: ["board@b.example"], escalationMinutes: null, repeatMinutes: null });
     const sent: { to: string[]; subject: string }[] = [];
