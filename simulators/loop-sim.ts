@@ -56,6 +56,12 @@ export interface SimSample {
   mode: LoopMode;
 }
 
+/**
+ * The PV reading's limits in % of span: a 4–20 mA transmitter's measuring range, 3.8–20.5 mA
+ * (NAMUR NE 43, from memory); beyond it the signal means a fault, not a reading.
+ */
+export const TRANSMITTER_RANGE_PCT: readonly [number, number] = [-1.25, 103.125];
+
 function clamp(v: number, lo: number, hi: number): number {
   return v < lo ? lo : v > hi ? hi : v;
 }
@@ -213,7 +219,9 @@ export class LoopSim {
     let yTrue = plant.D * 0;
     for (let i = 0; i < n; i++) yTrue += plant.C[i]! * this.x[i]!;
     const pvTrue = this.spBase + yTrue;
-    let pvMeas = pvTrue + this.rng.normal() * cfg.activity.noiseSdPct;
+    // the transmitter reads only inside its signal range: past it (a loop beyond the rim, a large
+    // load) the reading sits at the range end while the process goes on
+    let pvMeas = clamp(pvTrue + this.rng.normal() * cfg.activity.noiseSdPct, TRANSMITTER_RANGE_PCT[0], TRANSMITTER_RANGE_PCT[1]);
     if (frozen) {
       if (this.frozenPv === null) this.frozenPv = this.lastPvPct;
       pvMeas = this.frozenPv;

@@ -5,7 +5,7 @@ import { c2dZoh } from "@/lib/control/discretize";
 import { polyRoots } from "@/lib/control/roots";
 import type { Complex } from "@/lib/control/types";
 import { eigenvalues } from "@/simulators/eigen";
-import { LoopSim, trueClosedLoopPoles } from "@/simulators/loop-sim";
+import { LoopSim, TRANSMITTER_RANGE_PCT, trueClosedLoopPoles } from "@/simulators/loop-sim";
 import { plantTransferFunction } from "@/simulators/plant";
 import { Prng } from "@/simulators/prng";
 import type { PlantSpec } from "@/simulators/scenario";
@@ -254,5 +254,23 @@ describe("controller and drifts", () => {
     const band = (xs: { pv: number }[]) => Math.max(...xs.map((x) => x.pv)) - Math.min(...xs.map((x) => x.pv));
     expect(band(smooth.slice(-500))).toBeLessThan(1e-6);
     expect(band(st.slice(-500))).toBeGreaterThan(0.5);
+  });
+});
+
+describe("transmitter range", () => {
+  it("keeps the PV reading inside the 4–20 mA measuring range when the loop goes past the rim", () => {
+    // a gain creep to 1.3 times the critical gain: the true PV swings without bound until the MV
+    // clamps it into a limit cycle far beyond the span; the reading stops at 3.8 / 20.5 mA
+    // (−1.25 % / 103.125 % of span, NAMUR NE 43, from memory)
+    const kick = { kind: "manual-switch" as const, startS: 0, durationS: 20, moves: [{ afterS: 0, mvPct: 55 }] };
+    const cfg = loopConfig({ activity: QUIET, drift: [kick, { kind: "gain-creep", startS: 0, durationS: 100, toHeadroom: 1.3 }] });
+    const s = new LoopSim(cfg).samples(3000);
+    const [lo, hi] = cfg.pvRange;
+    const pct = s.map((x) => ((x.pv - lo) / (hi - lo)) * 100);
+    const [rLo, rHi] = TRANSMITTER_RANGE_PCT;
+    expect(Math.min(...pct)).toBeGreaterThanOrEqual(rLo - 1e-9);
+    expect(Math.max(...pct)).toBeLessThanOrEqual(rHi + 1e-9);
+    // and it does reach a range end: the check would fail if the loop stayed inside the span
+    expect(pct.filter((p) => p <= rLo + 1e-9 || p >= rHi - 1e-9).length).toBeGreaterThan(10);
   });
 });
