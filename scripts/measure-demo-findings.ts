@@ -17,12 +17,14 @@
 import path from "node:path";
 import { parseLoopConfig } from "@/lib/assessment";
 import { evaluateConditions, forecastMinutesOf, newConditionMemory, resolvePolicy, type ConditionMemory, type EffectivePolicy } from "@/lib/domain/alarms";
+import { QUARTER_AMPLITUDE } from "@/lib/assessment/model-check";
 import { opensWorkItem } from "@/lib/domain/findings";
 import type { AlarmCondition } from "@/lib/domain/types";
 import { DEMO_LOOPS, DEMO_PLANTS, DEMO_POLICY_OVERRIDES, DEMO_TENANT_POLICY } from "@/lib/seed/demo";
 import { LiveAssessor, type LiveResult } from "@/server/assessment/assessor";
 import { Bus, type Clock } from "@/server/context";
 import { TrackerRegistry } from "@/server/tracking/registry";
+import { eigenvalues } from "@/simulators/eigen";
 import { buildFleet } from "@/simulators/fleet";
 import { loadScenario } from "@/simulators/scenario";
 import { demoSimLoops } from "@/simulators/seed-loops";
@@ -54,6 +56,16 @@ const PERSISTENT = new Set(["sticky-valve", "gain-creep", "dead-time-growth"]);
 type Drift = { kind: string; startS: number; durationS?: number | null };
 const activeAt = (d: Drift, tS: number) => d.startS <= tS && (d.durationS == null || PERSISTENT.has(d.kind) || tS <= d.startS + d.durationS);
 
+/** Decay ratio per period of the least damped oscillatory eigenvalue pair: r^(2π/θ); 0 if none. */
+function commissionedDecayRatio(m: number[][]): number {
+  let dr = 0;
+  for (const z of eigenvalues(m)) {
+    const th = Math.abs(Math.atan2(z.im, z.re));
+    if (th > 1e-6) dr = Math.max(dr, Math.hypot(z.re, z.im) ** ((2 * Math.PI) / th));
+  }
+  return dr;
+}
+
 async function main() {
   const scenario = await loadScenario(argOf("--scenario") ?? path.join(import.meta.dirname, "..", "simulators", "scenarios", "demo.json"));
   const inline = demoSimLoops();
@@ -68,6 +80,9 @@ async function main() {
   const siteIds = new Map<string, number>();
   const demo = sims.map((sim) => DEMO_LOOPS.find((l) => l.tag === sim.config.tag)!);
   const tags = demo.map((d) => d.tag);
+  // a loop commissioned less damped than quarter amplitude (true decay ratio of its least damped
+  // oscillatory pole pair, as configured) may read aggressive tuning with no drift at all
+  const commissionedRinging = sims.map((sim) => commissionedDecayRatio(sim.closedLoopStateMatrix(1, 0)) > QUARTER_AMPLITUDE);
   // Per loop and simulated second: the share of that second's samples in manual.
   const manualBySecond = sims.map(() => new Float64Array(minutes * 60 + 2));
   sims.forEach((sim, i) => {
@@ -168,7 +183,8 @@ async function main() {
     const want = ds.flatMap((d) => ACCEPT[d.kind] ?? []);
     // a drift over less than half the window may not show yet
     const covered = ds.some((d) => ACCEPT[d.kind]?.length && endS - Math.max(startS, d.startS) >= (endS - startS) / 2);
-    return [...new Set(want.length && covered ? want : [...want, "healthy"])];
+    const baseline = commissionedRinging[i] ? ["healthy", "aggressive-tuning"] : ["healthy"];
+    return [...new Set(want.length && covered ? want : [...want, ...baseline])];
   };
 
   console.log(`simulated ${minutes} min of ${sims.length} demo loops; ${samples} samples; ${assessed} assessments; process CPU ${((cpu.user + cpu.system) / 1e3).toFixed(0)} ms (simulators and trackers included)`);
