@@ -182,7 +182,7 @@ export class InstrumentalArxEstimator {
     this.uHist = new Float64Array(this.nk + d + 1);
     this.rHist = new Float64Array(this.nk + d);
     this.aux = new AuxiliaryModel(this.na, this.nb, this.nk, controller, rm);
-    this.scores = new ScoreSum(d, noiseLags);
+    this.scores = new ScoreSum(d, noiseLags, lam);
   }
 
   /** Samples pushed so far. */
@@ -265,7 +265,7 @@ export class InstrumentalArxEstimator {
       this.f[i] = lam * this.f[i]! + zi * y;
     }
     this.effective = lam * this.effective + 1;
-    this.scores.add(z, phi, y, lam);
+    this.scores.add(z, phi, y);
     if (useAux) aux.recordSimError();
     this.informative++;
     this.sinceInformative = 0;
