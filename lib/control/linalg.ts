@@ -190,11 +190,13 @@ export function fromNested(rows: readonly (readonly number[])[], n: number, what
 
 /**
  * V max(L, 0) V' of a symmetric row-major d x d matrix, by the cyclic Jacobi eigenvalue method
- * (Golub & Van Loan, *Matrix Computations*, 4th ed., 2013, sec. 8.5); small d only.
+ * (Golub & Van Loan, *Matrix Computations*, 4th ed., 2013, sec. 8.5); small d only. A matrix with
+ * a Cholesky factor (every pivot > 0, ibid. sec. 4.2) is positive definite and returned as it is.
  */
 export function nearestPsd(S: Float64Array, d: number): Float64Array {
   const a = Float64Array.from(S);
   for (let i = 0; i < d; i++) for (let j = 0; j < i; j++) a[i * d + j] = a[j * d + i] = 0.5 * (a[i * d + j]! + a[j * d + i]!);
+  if (choleskyPivotsPositive(a, d)) return a;
   const v = new Float64Array(d * d);
   for (let i = 0; i < d; i++) v[i * d + i] = 1;
   for (let sweep = 0; sweep < 50; sweep++) {
@@ -221,6 +223,24 @@ export function nearestPsd(S: Float64Array, d: number): Float64Array {
     for (let i = 0; i < d; i++) for (let j = 0; j < d; j++) out[i * d + j] = out[i * d + j]! + lam * v[i * d + k]! * v[j * d + k]!;
   }
   return out;
+}
+
+/** Whether the Cholesky factorisation of the symmetric a (row-major d x d) has every pivot > 0. */
+function choleskyPivotsPositive(a: Float64Array, d: number): boolean {
+  const L = new Float64Array(d * d);
+  for (let j = 0; j < d; j++) {
+    let p = a[j * d + j]!;
+    for (let k = 0; k < j; k++) p -= L[j * d + k]! ** 2;
+    if (!(p > 0)) return false;
+    const ljj = Math.sqrt(p);
+    L[j * d + j] = ljj;
+    for (let i = j + 1; i < d; i++) {
+      let s = a[i * d + j]!;
+      for (let k = 0; k < j; k++) s -= L[i * d + k]! * L[j * d + k]!;
+      L[i * d + j] = s / ljj;
+    }
+  }
+  return true;
 }
 
 /** Inverse of a small d x d row-major matrix by Gauss-Jordan with partial pivoting; null if singular. */

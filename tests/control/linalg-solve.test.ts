@@ -3,11 +3,14 @@
  * `shiftIn` has its own test in ./lag-vector.test.ts):
  * 1. `solveInto` against numpy.linalg.solve (Debian python3-numpy, LAPACK gesv) on 200 seeded
  *    random systems of sizes 1-8, computed from the same matrices at test time;
- * 2. its singular and non-finite cases (a rank-deficient matrix has no solution: result 0).
+ * 2. its singular and non-finite cases (a rank-deficient matrix has no solution: result 0);
+ * 3. `nearestPsd` (the IV covariance's projection) against numpy.linalg.eigh with the negative
+ *    eigenvalues set to zero, on seeded symmetric matrices that are positive definite (returned
+ *    as they are) and indefinite (Jacobi).
  */
 import { execFileSync } from "node:child_process";
 import { describe, expect, it } from "vitest";
-import { solveInto } from "@/lib/control/linalg";
+import { nearestPsd, solveInto } from "@/lib/control/linalg";
 import { mulberry32, normal } from "../helpers/seeded-random";
 
 describe("solveInto (Gaussian elimination with partial pivoting, allocation-free)", () => {
@@ -45,5 +48,41 @@ describe("solveInto (Gaussian elimination with partial pivoting, allocation-free
     // diag(2, 8, 4): partial pivoting leaves a diagonal in place; pivots 2, 8, 4, ratio 2 / 8
     expect(solveInto(Float64Array.from([2, 0, 0, 0, 8, 0, 0, 0, 4]), Float64Array.from([2, 8, 4]), 3, work, x)).toBeCloseTo(0.25, 15);
     expect(Array.from(x)).toEqual([1, 1, 1]);
+  });
+
+  it("nearestPsd equals numpy's eigendecomposition with negative eigenvalues clipped, on 60 seeded 2x2 to 5x5 matrices (half of them positive definite)", () => {
+    const g = normal(mulberry32(77));
+    const cases: { d: number; S: number[] }[] = [];
+    for (let k = 0; k < 60; k++) {
+      const d = 2 + (k % 4);
+      const B = Array.from({ length: d * d }, () => g());
+      // B B' + 0.1 I (positive definite) or (B + B') / 2 (indefinite as a rule)
+      const S = Array.from({ length: d * d }, (_, ij) => {
+        const [i, j] = [Math.floor(ij / d), ij % d];
+        if (k % 2 === 1) return (B[i * d + j]! + B[j * d + i]!) / 2;
+        let s = i === j ? 0.1 : 0;
+        for (let m = 0; m < d; m++) s += B[i * d + m]! * B[j * d + m]!;
+        return s;
+      });
+      cases.push({ d, S });
+    }
+    const py = [
+      "import json, sys, numpy as np",
+      "out = []",
+      "for x in json.load(sys.stdin):",
+      "    w, v = np.linalg.eigh(np.array(x['S']).reshape(x['d'], x['d']))",
+      "    out.append([(v @ np.diag(np.maximum(w, 0)) @ v.T).ravel().tolist(), float(w.min())])",
+      "print(json.dumps(out))",
+    ].join("\n");
+    const ref = JSON.parse(execFileSync("python3", ["-c", py], { input: JSON.stringify(cases) }).toString()) as [number[], number][];
+    let indefinite = 0;
+    cases.forEach((c, k) => {
+      const [want, minEig] = ref[k]!;
+      if (minEig < 0) indefinite++;
+      const got = nearestPsd(Float64Array.from(c.S), c.d);
+      const scale = Math.max(...want.map(Math.abs));
+      want.forEach((v, i) => expect(Math.abs(got[i]! - v), `case ${k}, entry ${i}`).toBeLessThanOrEqual(1e-12 * scale));
+    });
+    expect(indefinite).toBeGreaterThanOrEqual(25);
   });
 });
