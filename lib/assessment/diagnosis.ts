@@ -83,15 +83,6 @@ const RELATIVE_RING_MIN = -0.2;
  * 2006, from memory). 5 dead times is ours.
  */
 const FAST_TAU = 5;
-/**
- * Decay ratio of the disturbance model's slowest oscillating mode above which a swinging error
- * (ACF dip below RELATIVE_RING_MIN) reads as aggressive tuning: quarter amplitude (0.25), the
- * classic target (Ziegler & Nichols 1942; common practice). The AR model of the error gives the
- * closed loop's damping as seen in routine data (the decay ratio from an AR/ARMA fit of the error,
- * as in Miao & Seborg 1999, IEEE CCA; from memory); it mixes in the load's colour, so it counts
- * only beside a visible swing and not when the loop removes disturbances slowly.
- */
-const QUARTER_DECAY = 0.25;
 
 const clamp = (v: number, lo = 0.3, hi = 0.95) => Math.min(hi, Math.max(lo, v));
 
@@ -200,18 +191,6 @@ export function diagnose(x: DiagnosisInput): Diagnosis {
         ],
       };
     }
-  }
-  const swingDecay = x.disturbanceDecayRatio;
-  const slowLoop = x.disturbanceTimeToDeadTime !== null && x.disturbanceTimeToDeadTime > SLUGGISH_TAU;
-  if (x.ringDepth !== null && x.ringDepth < RELATIVE_RING_MIN && swingDecay !== null && swingDecay > QUARTER_DECAY && !slowLoop) {
-    return {
-      label: "aggressive-tuning",
-      confidence: 0.45,
-      evidence: [
-        `likely aggressive tuning: the error swings back past the set point (autocorrelation dip ${fmt(x.ringDepth)} within a period of about ${fmt(osc.periodS, 1)} s) and the disturbance model's slowest oscillating mode decays by ${fmt(swingDecay)} per cycle, less damped than quarter amplitude (decay ratio 0.25; Ziegler & Nichols 1942, Miao & Seborg 1999)`,
-        ...x.stiction.evidence,
-      ],
-    };
   }
   if (stopToStop && x.saturation > 0.2) {
     return {

@@ -10,19 +10,18 @@
  *   from the ACF; from memory).
  * - A loop that removes its disturbances within a few dead times is not sluggish (SIMC τc of one to
  *   a few θ; Skogestad, J. Process Control 13, 2003, from memory), whatever its Harris index.
- * - Closed-loop damping from routine data: the AR model of the error (closed-loop.ts) gives the
- *   decay ratio of its slowest oscillating mode; for an AR(2) error that is the mode's analytic
- *   DR = exp(−2πζ/√(1−ζ²)) (Box, Jenkins & Reinsel). Beside a visible swing (ACF dip below −0.2)
- *   a DR above quarter amplitude reads aggressive; alone it does not, since the load's colour
- *   enters the model too (a SIMC-tuned loop under an AR(1) load reads 0.2–0.4 without any swing).
+ * - The disturbance model's decay ratio (details.disturbanceDecayRatio, closed-loop.ts): for an
+ *   AR(2) error it is the mode's analytic DR = exp(−2πζ/√(1−ζ²)) (Box, Jenkins & Reinsel). It is
+ *   reported, not used in the verdict: it mixes the load's colour in (a SIMC-tuned loop under an
+ *   AR(1) load reads 0.2–0.4), and as a sign of aggressive tuning it called healthy loops
+ *   aggressive on held-out seeds (docs/assessment.md, round of 2026-12-03).
  */
 import { describe, expect, it } from "vitest";
-import { assessLoop, parseLoopConfig } from "@/lib/assessment";
 import { disturbanceResponse } from "@/lib/assessment/closed-loop";
 import { diagnose, type DiagnosisInput } from "@/lib/assessment/diagnosis";
 import { autocorrelation } from "@/lib/assessment/signal";
 import { Prng } from "@/simulators/prng";
-import { ar2Noise, flowLoopJson, simulateLoop } from "./loop-sim";
+import { ar2Noise } from "./loop-sim";
 
 /** AR(2) coefficients for damping ζ and a period of `period` samples. */
 function ar2(zeta: number, period: number): { a1: number; a2: number; wnT: number; dr: number } {
@@ -142,26 +141,6 @@ describe("closed-loop damping from the disturbance model", () => {
         expect(got, `ζ = ${zeta}, seed ${seed}`).not.toBeNull();
         expect(Math.abs(got! - dr), `ζ = ${zeta}, seed ${seed}: ${got} against ${dr}`).toBeLessThan(0.05);
       }
-    }
-  });
-
-  it("beside a visible swing, a mode less damped than quarter amplitude reads aggressive-tuning; without the swing, or when the loop is slow, it does not", () => {
-    const swing = diagnose(input({ ringDepth: -0.25, overshoot: 0.3, disturbanceDecayRatio: 0.4 }));
-    expect(swing.label).toBe("aggressive-tuning");
-    expect(swing.evidence[0]).toMatch(/quarter amplitude/);
-    expect(diagnose(input({ ringDepth: -0.25, overshoot: 0.3, disturbanceDecayRatio: 0.2 })).label).toBe("healthy");
-    expect(diagnose(input({ ringDepth: -0.15, overshoot: 0.3, disturbanceDecayRatio: 0.4 })).label).toBe("healthy");
-    expect(diagnose(input({ ringDepth: -0.25, overshoot: 0.3, disturbanceDecayRatio: 0.4, disturbanceTimeToDeadTime: 20 })).label).toBe("sluggish-tuning");
-  });
-
-  it.each([
-    { name: "SIMC tuning (kp 2.9, Ti 20 s) is never called aggressive", kp: 2.9, ti: 20, aggressive: false },
-    { name: "kp 5, Ti 8 s (far above SIMC) is called aggressive", kp: 5, ti: 8, aggressive: true },
-  ])("simulated first-order loop (K 1, τ 20 s, dead time 3 s): $name (10 seeds)", ({ kp, ti, aggressive }) => {
-    const cfg = parseLoopConfig(flowLoopJson("FIC-204", { deadTimeS: null, controller: { kp, ti, mvLo: 0, mvHi: 100 } }));
-    for (let seed = 1; seed <= 10; seed++) {
-      const r = assessLoop(simulateLoop({ seed, n: 6000, kp, ti }), cfg);
-      expect(r.diagnosis.label === "aggressive-tuning", `seed ${seed}: ${r.diagnosis.label}, DR ${r.details.disturbanceDecayRatio}`).toBe(aggressive);
     }
   });
 });
