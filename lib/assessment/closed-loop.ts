@@ -182,7 +182,13 @@ export function disturbanceResponse(
   d: number,
   maxOrder = 10,
 ): DisturbanceModel | null {
-  // Decimate each stretch by block averages, then pool autocovariances within stretches.
+  // Decimate each stretch by block averages, then pool autocovariances within stretches. The
+  // factor comes from the loop's time scale (its integral time); a sluggish loop's long integral
+  // time would leave too few blocks for a model, so it is lowered until the stretches give at
+  // least 40 blocks per AR coefficient (ours).
+  let stretched = 0;
+  for (const [s, t] of stretches) stretched += t - s;
+  d = Math.max(1, Math.min(d, Math.floor(stretched / (40 * maxOrder))));
   const segs: Float64Array[] = [];
   let total = 0;
   for (const [s, t] of stretches) {

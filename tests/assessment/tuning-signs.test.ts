@@ -10,8 +10,14 @@
  *   from the ACF; from memory).
  * - A loop that removes its disturbances within a few dead times is not sluggish (SIMC τc of one to
  *   a few θ; Skogestad, J. Process Control 13, 2003, from memory), whatever its Harris index.
+ * - The disturbance model's decay ratio (details.disturbanceDecayRatio, closed-loop.ts): for an
+ *   AR(2) error it is the mode's analytic DR = exp(−2πζ/√(1−ζ²)) (Box, Jenkins & Reinsel). It is
+ *   reported, not used in the verdict: it mixes the load's colour in (a SIMC-tuned loop under an
+ *   AR(1) load reads 0.2–0.4), and as a sign of aggressive tuning it called healthy loops
+ *   aggressive on held-out seeds (docs/assessment.md, round of 2026-12-03).
  */
 import { describe, expect, it } from "vitest";
+import { disturbanceResponse } from "@/lib/assessment/closed-loop";
 import { diagnose, type DiagnosisInput } from "@/lib/assessment/diagnosis";
 import { autocorrelation } from "@/lib/assessment/signal";
 import { Prng } from "@/simulators/prng";
@@ -122,5 +128,19 @@ describe("disturbance time within a few dead times", () => {
   it("without a dead time the other signs decide as before", () => {
     expect(diagnose(input({ overshoot: 0.03, ringDepth: -0.03 })).label).toBe("sluggish-tuning");
     expect(diagnose(input({})).label).toBe("healthy");
+  });
+});
+
+describe("closed-loop damping from the disturbance model", () => {
+  it("an AR(2) error gives its mode's analytic decay ratio within 0.05 (ζ 0.15 and 0.3, 20 seeds of 20,000 samples)", () => {
+    for (const zeta of [0.15, 0.3]) {
+      const { wnT, dr } = ar2(zeta, 40);
+      for (let seed = 1; seed <= 20; seed++) {
+        const x = ar2Noise(new Prng(seed), 20_000, zeta, wnT, 500);
+        const got = disturbanceResponse(x, [[0, x.length]], 1, 1, 1)?.decayRatio ?? null;
+        expect(got, `ζ = ${zeta}, seed ${seed}`).not.toBeNull();
+        expect(Math.abs(got! - dr), `ζ = ${zeta}, seed ${seed}: ${got} against ${dr}`).toBeLessThan(0.05);
+      }
+    }
   });
 });
