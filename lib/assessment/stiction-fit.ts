@@ -3,8 +3,9 @@
  * separable least-squares and global search algorithms", J. Process Control 18 (2008) (from
  * memory). The controller output MV passes through the two-parameter sticking valve of
  * Choudhury, Thornhill & Shah (2005; stiction-model.ts) and the valve position drives a linear
- * ARX model of the process; S and J are searched on a grid, the linear part is fitted by least
- * squares for each, and the best fit is compared with the linear fit (S = 0, valve = MV).
+ * ARX model of the process; S and J are searched on a grid and refined around its best (the fit
+ * is sharp in S), the linear part is fitted by least squares for each, and the best fit is
+ * compared with the linear fit (S = 0, valve = MV).
  *
  * Why it is independent of the shape tests: it asks whether a valve that holds still until the
  * output has moved by S explains PV better than a valve that follows the output. In closed loop at
