@@ -83,7 +83,7 @@ function modelFitTest(mv: Float64Array, pv: Float64Array, P: number, [lo, hi]: [
         ? `a sticking valve explains PV no better than a linear valve beyond chance (${(100 * gain).toFixed(1)} % of the residual variance against ${(100 * fit.chanceGain).toFixed(1)} % by chance; ${source})`
         : reading === "implausible"
           ? `the model fit's best valve (S ${fmt(fit.bandPct, 2)} % of output, ${fmt(fit.slipsPerCycle, 2)} slips per cycle) ${fit.atEdge ? "has the largest band searched, beyond the output's swing" : "seldom moves"}: not a stick-slip cycle (${source})`
-          : `a sticking valve (S ${fmt(fit.bandPct, 2)} %, J ${fmt(fit.jumpPct, 2)} % of output) explains ${(100 * gain).toFixed(0)} % of the residual variance a linear valve leaves, ${(100 * fit.chanceGain).toFixed(1)} % expected by chance (${source})`,
+          : `a sticking valve (S ${fmt(fit.bandPct, 2)} %, J ${fmt(fit.jumpPct, 2)} % of output) explains ${(100 * gain).toFixed(0)} % of the residual variance a linear valve leaves, ${(100 * fit.chanceGain).toFixed(1)} % expected by chance${fit.noiseShare >= 0.1 ? `; PV's white measurement noise, which no valve explains, is about ${(100 * fit.noiseShare).toFixed(0)} % of that residual` : ""} (${source})`,
   };
 }
 
