@@ -240,16 +240,11 @@ export function forecastCrossing(
   const tauC = gap / beta;
   const at = tbar + tauC;
   if (at - tLast > maxHorizon) return null;
-  const A2 = beta * beta - q * q * vBeta;
-  const A1 = 2 * (-gap * beta - q * q * cov);
-  const A0 = gap * gap - q * q * vAlpha;
-  const disc = Math.max(0, A1 * A1 - 4 * A2 * A0);
-  const r1 = (-A1 - Math.sqrt(disc)) / (2 * A2);
-  const r2 = (-A1 + Math.sqrt(disc)) / (2 * A2);
+  const [r1, r2] = fiellerRoots(gap, beta, vAlpha, cov, vBeta, q);
   return {
     at,
-    low: tbar + Math.min(r1, r2),
-    high: tbar + Math.max(r1, r2),
+    low: tbar + r1,
+    high: tbar + r2,
     slope: beta,
     slopeStd,
     tStat,
@@ -257,6 +252,21 @@ export function forecastCrossing(
     lag,
     effectivePoints: effective,
   };
+}
+
+/**
+ * The inverse-prediction (Fieller-type) interval of a line alpha + beta tau reaching alpha + gap
+ * (module doc): the roots tau1 <= tau2 of (beta tau - gap)^2 = q^2 (vAlpha + 2 tau cov + tau^2 vBeta).
+ * Finite when |beta| / sqrt(vBeta) > q.
+ */
+export function fiellerRoots(gap: number, beta: number, vAlpha: number, cov: number, vBeta: number, q: number): [number, number] {
+  const A2 = beta * beta - q * q * vBeta;
+  const A1 = 2 * (-gap * beta - q * q * cov);
+  const A0 = gap * gap - q * q * vAlpha;
+  const disc = Math.max(0, A1 * A1 - 4 * A2 * A0);
+  const r1 = (-A1 - Math.sqrt(disc)) / (2 * A2);
+  const r2 = (-A1 + Math.sqrt(disc)) / (2 * A2);
+  return [Math.min(r1, r2), Math.max(r1, r2)];
 }
 
 /**

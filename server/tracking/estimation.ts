@@ -14,6 +14,7 @@ import type { ArxModel, QTf } from "@/lib/control/types";
 import { NEVER, type EstimationInput, type TrackerCheckpoint } from "./checkpoint";
 import { PREFILTER_POLE, type SignalConditioner } from "./conditioning";
 import { DataOnlyModel } from "./data-model";
+import { RadiusDrift } from "./drift-source";
 import { choosePlant, plausibility, reducedOrderMisfit } from "./plant-choice";
 import { SampleGate, type GateContext } from "./sample-gate";
 import type { LoopConfig } from "./types";
@@ -48,6 +49,8 @@ export class PlantEstimation {
   plantReduced: InstrumentalArxEstimator | null;
   /** The data-only closed-loop model (./data-model.ts). */
   readonly data: DataOnlyModel;
+  /** The rim forecast's parameter drift, configured structure (./drift-source.ts). */
+  private readonly drift: RadiusDrift | null;
   /**
    * The last plant model that passed the plausibility check, its covariance and when (estimation
    * samples); `misfit` (reduced-order plant only) widens its dominant pole's interval, null: no
@@ -77,6 +80,8 @@ export class PlantEstimation {
     private readonly memory: number,
     private readonly cond: SignalConditioner,
     private readonly hooks: EstimationHooks,
+    /** The forecast window, seconds; null: no parameter drift (the rim forecast from the radius history alone). */
+    forecastWindowS: number | null,
   ) {
     // informative samples before the plant model is reported: about two set-point moves' worth on
     // a fast loop (a move of a few % gives 60-80; one move alone left closed-loop radii above 1 on
@@ -88,6 +93,13 @@ export class PlantEstimation {
     this.plant = this.plantFull;
     this.data = new DataOnlyModel({ na: config.na, nb: config.nb, nk: config.nk, controller, forgetting: config.forgetting ?? 0.995, T: estimationPeriodS, closedLoopTimeS: config.controller.ti });
     this.gate = new SampleGate(config.na, config.nk + config.nb);
+    const { na, nb, nk } = config;
+    this.drift = forecastWindowS === null ? null : new RadiusDrift({ na, nb, nk, T: estimationPeriodS, memoryS: memory * estimationPeriodS, windowS: forecastWindowS, controller, instrumentThreshold: INSTRUMENT_THRESHOLD_PCT, lags: na + prefilterNoiseLags(PREFILTER_POLE) });
+  }
+
+  /** The drift forecast of radius 1 under `controller` while the configured structure is reported; undefined otherwise (./drift-source.ts). */
+  driftForecast(controller: QTf): ReturnType<RadiusDrift["forecast"]> {
+    return this.plant === this.plantFull ? this.drift?.forecast(controller) : undefined;
   }
 
   private makePlantEstimator(na: number): InstrumentalArxEstimator {
@@ -136,6 +148,7 @@ export class PlantEstimation {
     }
     try {
       const mode = !learn ? "skip" : manual ? "open" : "closed";
+      this.drift?.push(f.u, f.y, f.r, mode, t / 1000, this.plantFull.theta, this.plantFull.solved, this.plantReady(this.plantFull) && this.implausible === null);
       if (this.plantFull.push(f.u, f.y, f.r, mode)) this.lastPlantUpdate = k;
       this.plantReduced?.push(f.u, f.y, f.r, mode);
       this.data.push(f.r, f.y, learn && !manual);
@@ -181,6 +194,7 @@ export class PlantEstimation {
     this.lastGood = null;
     this.implausible = null;
     this.data.reset();
+    this.drift?.reset();
     this.gate.reset();
     this.lastPlantUpdate = -Infinity;
     this.hooks.restarted(reason);

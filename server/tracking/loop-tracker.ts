@@ -49,6 +49,8 @@ export interface LoopTrackerOptions {
    * forecast; default the default policy's.
    */
   alarmDecayRatio?: (loopId: number) => number;
+  /** Rim forecast from the plant parameters' drift (./drift-source.ts), the radius history's trend where that has none; false: the trend alone. Default true. */
+  parameterDrift?: boolean;
   /** Telemetry seconds between full state computations; default 1. */
   stateEveryS?: number;
   /** A PV repeated exactly for this many seconds of samples counts as flat-lined; default 30 (at least 20 samples). */
@@ -102,10 +104,10 @@ export class LoopTracker {
     const lambda = config.forgetting ?? 0.995;
     this.memory = 1 / (1 - lambda);
     const forecastWindowS = options.forecastWindowS ?? Math.max(3600, 20 * this.memory * this.estimationPeriodS);
-    this.trends = new FigureTrends({ memory: this.memory, estimationPeriodS: this.estimationPeriodS, forecastWindowS });
+    this.trends = new FigureTrends({ memory: this.memory, estimationPeriodS: this.estimationPeriodS, forecastWindowS, drift: () => this.est.driftForecast(this.controller) });
     this.alarmDecayRatio = options.alarmDecayRatio ?? (() => DEFAULT_POLICY.decayRatio.low);
     this.holdSamples = Math.max(this.memory, Math.ceil(HOLD_S / this.estimationPeriodS));
-    this.est = this.makeEstimation();
+    this.est = this.makeEstimation(options.parameterDrift ?? true);
     this.state = emptyState(this.stateInput(), "learning", "waiting for telemetry");
   }
 
@@ -113,9 +115,9 @@ export class LoopTracker {
     return discretePidOf(this.config.controller, this.estimationPeriodS);
   }
 
-  private makeEstimation(): PlantEstimation {
+  private makeEstimation(drift: boolean): PlantEstimation {
     const hooks = { stateDue: (k: number, t: number) => this.stateDue(k, t), restarted: (reason: string) => this.restarted(reason) };
-    return new PlantEstimation(this.config, this.estimationPeriodS, this.controller, this.memory, this.cond, hooks);
+    return new PlantEstimation(this.config, this.estimationPeriodS, this.controller, this.memory, this.cond, hooks, drift ? this.trends.forecastWindowS : null);
   }
 
   /** Order of the data-only closed-loop model. */

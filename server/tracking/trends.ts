@@ -7,6 +7,7 @@ import { NON_TRACKING } from "@/lib/domain/alarms/conditions";
 import { FigureTrend } from "@/lib/domain/trend";
 import type { LoopStateDto, TrackerState } from "@/lib/domain/types";
 import type { TrendPoint } from "@/lib/control/forecast";
+import type { Crossing } from "@/lib/domain/assessment";
 import { forecastRadiusOne, radiusPoint } from "./figures";
 
 export interface FigureTrendsOptions {
@@ -15,6 +16,8 @@ export interface FigureTrendsOptions {
   estimationPeriodS: number;
   /** Length of the (t, radius) history, seconds (at most one point per window/720). */
   forecastWindowS: number;
+  /** The radius-one forecast from the parameter drift (./drift-source.ts); undefined: none, the radius history's trend serves. */
+  drift?: () => Crossing | null | undefined;
 }
 
 export class FigureTrends {
@@ -25,8 +28,10 @@ export class FigureTrends {
   private cachedForecast: LoopStateDto["forecast"] = null;
   private readonly decayTrend: FigureTrend;
   radiusHistory: TrendPoint[] = [];
+  private readonly drift: () => Crossing | null | undefined;
 
   constructor(o: FigureTrendsOptions) {
+    this.drift = o.drift ?? (() => undefined);
     this.memory = o.memory;
     this.estimationPeriodS = o.estimationPeriodS;
     this.forecastWindowS = o.forecastWindowS;
@@ -88,7 +93,8 @@ export class FigureTrends {
   }
 
   private fitRadius(): void {
-    this.cachedForecast = { alarmLevel: null, radiusOne: forecastRadiusOne(this.radiusHistory, this.memory * this.estimationPeriodS) };
+    const drift = this.drift();
+    this.cachedForecast = { alarmLevel: null, radiusOne: drift !== undefined ? drift : forecastRadiusOne(this.radiusHistory, this.memory * this.estimationPeriodS) };
     this.radiusFitDue = false;
   }
 

@@ -46,15 +46,19 @@ export function printCoverageTable(): void {
   rows.push({ what: "rim forecast within +-15 % at half way", runs: 300, value: f.within15, lo: 0.8, hi: 1 });
   rows.push({ what: "no forecast on a run without drift", runs: 300, value: f.quiet, lo: 0.95, hi: 1 });
   // the same through the tracker in closed loop (tests/control/forecast-tracker-mc.ts), 5 s samples; the
-  // tracker weights each radius by its sd and moves it back by half a memory (docs/domain.md §7)
+  // tracker forecasts from its plant parameters' drift, and the same runs' radius-history trend
+  // (the forecast before it) is printed beside it (docs/domain.md §7)
   const signed = (x: number) => (Number.isFinite(x) ? `${x >= 0 ? "+" : ""}${(100 * x).toFixed(1)} %` : "n/a");
   for (const [kind, label] of [["linear-radius", "radius 0.90 -> 1.0 linear in 10 h"], ["gain-creep", "simulator gain creep to the rim in 10 h"]] as const) {
     const m = forecastThroughTracker(kind, 80, 9100);
-    rows.push({ what: `tracker rim forecast interval, ${label}, half way (runs: with a forecast)`, runs: m.forecasts, value: m.coverage, lo: 0.9, hi: 0.97 });
-    rows.push({ what: `  same, within +-15 % (error of remaining time: median ${signed(m.medianError)}, sd ${pct(m.errorSd)}; centred on the median ${pct(m.within15Centred)})`, runs: m.runs, value: m.within15, lo: 0.8, hi: 1 });
+    for (const [x, src] of [[m, "parameter drift"], [m.history, "radius history alone (before)"]] as const) {
+      rows.push({ what: `tracker rim forecast interval, ${label}, half way, ${src} (runs: with a forecast)`, runs: x.forecasts, value: x.coverage, lo: 0.9, hi: 0.97 });
+      rows.push({ what: `  same, within +-15 % (error of remaining time: median ${signed(x.medianError)}, sd ${pct(x.errorSd)}; centred on the median ${pct(x.within15Centred)})`, runs: x.runs, value: x.within15, lo: 0.8, hi: 1 });
+    }
   }
   const q = forecastThroughTracker("no-drift", 80, 9100);
   rows.push({ what: "tracker: no rim forecast on a run without drift (true radius 0.90), at 5 h", runs: q.runs, value: q.quiet, lo: 0.95, hi: 1 });
+  rows.push({ what: "  same, radius history alone (before)", runs: q.runs, value: q.history.quiet, lo: 0.95, hi: 1 });
   console.log("");
   console.log("coverage table (seeded Monte Carlo; 95 % intervals unless stated)");
   console.log(`${"quantity".padEnd(100)} ${"runs".padStart(5)}  ${"value".padStart(8)}  ${"Wilson 95 %".padEnd(14)}  target band   verdict`);

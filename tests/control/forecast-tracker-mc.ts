@@ -11,12 +11,15 @@ import { eigenvalues } from "@/simulators/eigen";
 import { LoopSim, type LoopSimConfig } from "@/simulators/loop-sim";
 import type { DriftSpec } from "@/simulators/scenario";
 import { LoopTracker } from "@/server/tracking/loop-tracker";
+import { forecastRadiusOne, radiusPoint } from "@/server/tracking/figures";
 import { FakeClock, arxStructureFor } from "../tracking/helpers";
 import { testLoopConfig } from "@/tests/helpers/loop-config";
 import { loopConfig } from "../simulators/helpers";
 
 /** Sample period of telemetry, controller and estimation, seconds. */
 const T = 5;
+/** The tracker's estimator memory at lambda 0.995, seconds. */
+const MEMORY_S = T / (1 - 0.995);
 /** Drift length of the table's scenarios: the radius reaches 1 at this simulated time, seconds (10 h). */
 export const DRIFT_S = 36000;
 
@@ -132,13 +135,49 @@ export interface ForecastMc {
   /** True radius at the start and at half way (first run). */
   radiusStart: number;
   radiusHalf: number;
+  /**
+   * The same runs' figures from the trend of the tracker's radius history alone (the forecast
+   * before the parameter drift, docs/domain.md §7; forecastRadiusOne on the tracker's own history).
+   */
+  history: Omit<ForecastMc, "history" | "radiusStart" | "radiusHalf">;
+}
+
+type Forecast = { at: number; low: number; high: number } | null;
+
+/** The figures of one forecast source over the runs (`truth` null: no drift). */
+function summarise(list: { forecast: Forecast; truth: number | null }[], half: number): Omit<ForecastMc, "history" | "radiusStart" | "radiusHalf"> {
+  let forecasts = 0, covered = 0, within = 0;
+  const errors: number[] = [];
+  for (const { forecast, truth } of list) {
+    if (!forecast) continue;
+    forecasts++;
+    if (truth === null) continue;
+    if (forecast.low <= truth && truth <= forecast.high) covered++;
+    const err = (forecast.at - truth) / (truth - half);
+    errors.push(err);
+    if (Math.abs(err) <= 0.15) within++;
+  }
+  const runs = list.length;
+  errors.sort((a, b) => a - b);
+  const median = errors.length ? errors[Math.floor(errors.length / 2)]! : NaN;
+  const mean = errors.reduce((a, e) => a + e, 0) / errors.length;
+  return {
+    runs,
+    forecasts,
+    coverage: forecasts ? covered / forecasts : NaN,
+    within15: within / runs,
+    within15Centred: errors.filter((e) => Math.abs(e - median) <= 0.15).length / runs,
+    quiet: (runs - forecasts) / runs,
+    medianError: median,
+    errorSd: errors.length > 1 ? Math.sqrt(errors.reduce((a, e) => a + (e - mean) ** 2, 0) / (errors.length - 1)) : NaN,
+  };
 }
 
 /** `runs` seeded runs of one scenario whose drift lasts `driftS` (default 10 h), read at half way. */
 export function forecastThroughTracker(kind: ForecastScenario, runs: number, seed: number, driftS = DRIFT_S): ForecastMc {
   const half = driftS / 2;
-  let forecasts = 0, covered = 0, within = 0;
-  const errors: number[] = [];
+  const now: { forecast: Forecast; truth: number | null }[] = [];
+  const old: { forecast: Forecast; truth: number | null }[] = [];
   let radiusStart = NaN, radiusHalf = NaN;
   for (let r = 0; r < runs; r++) {
     const sim = makeSim(kind, seed + r, driftS);
@@ -154,36 +193,23 @@ export function forecastThroughTracker(kind: ForecastScenario, runs: number, see
       testLoopConfig({ tag: cfg.tag, telemetryPeriodS: T, controllerPeriodS: T, estimationPeriodS: T, controller: cfg.controller, ...arxStructureFor(cfg.plant, T) }),
       { clock },
     );
-    let forecast: { at: number; low: number; high: number } | null = null;
+    let forecast: Forecast = null;
+    let tracking = false;
     while (sim.simTimeS <= half) {
       const s = sim.step();
       if (!s) continue;
       clock.t = t0 + s.simTimeS * 1000;
-      const st = tracker.push([{ t: clock.t, sp: s.sp, pv: s.pv, mv: s.mv, mode: s.mode }], clock.t);
-      if (st) forecast = st.forecast?.radiusOne ?? null;
+      const st = tracker.push([{ t: clock.t, sp: s.sp, pv: s.pv, mode: s.mode, mv: s.mv }], clock.t);
+      if (st) {
+        forecast = st.forecast?.radiusOne ?? null;
+        tracking = st.spectralRadius !== null && (st.trackerState === "tracking" || st.trackerState === "low-excitation");
+      }
     }
-    if (!forecast) continue;
-    forecasts++;
-    if (truth === null) continue;
-    const at = (forecast.at - t0) / 1000;
-    if ((forecast.low - t0) / 1000 <= truth && truth <= (forecast.high - t0) / 1000) covered++;
-    const err = (at - truth) / (truth - half);
-    errors.push(err);
-    if (Math.abs(err) <= 0.15) within++;
+    // seconds of simulated time
+    const inSim = (f: Forecast): Forecast => (f ? { at: (f.at - t0) / 1000, low: (f.low - t0) / 1000, high: (f.high - t0) / 1000 } : null);
+    now.push({ forecast: inSim(forecast), truth });
+    const history = tracker.checkpoint().radiusHistory.map((p) => radiusPoint(p.t, p.value, p.sd ?? null));
+    old.push({ forecast: tracking ? inSim(forecastRadiusOne(history, MEMORY_S)) : null, truth });
   }
-  errors.sort((a, b) => a - b);
-  const median = errors.length ? errors[Math.floor(errors.length / 2)]! : NaN;
-  const mean = errors.reduce((a, e) => a + e, 0) / errors.length;
-  return {
-    runs,
-    forecasts,
-    coverage: forecasts ? covered / forecasts : NaN,
-    within15: within / runs,
-    within15Centred: errors.filter((e) => Math.abs(e - median) <= 0.15).length / runs,
-    quiet: (runs - forecasts) / runs,
-    medianError: median,
-    errorSd: errors.length > 1 ? Math.sqrt(errors.reduce((a, e) => a + (e - mean) ** 2, 0) / (errors.length - 1)) : NaN,
-    radiusStart,
-    radiusHalf,
-  };
+  return { ...summarise(now, half), radiusStart, radiusHalf, history: summarise(old, half) };
 }

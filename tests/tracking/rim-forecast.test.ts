@@ -1,8 +1,11 @@
 /**
- * The tracker's rim forecast wiring (server/tracking/figures.ts, docs/domain.md §7): the radius
- * history carries each radius's sd, the forecast moves the points back by half an estimator
- * memory, and a checkpoint written before the sd was kept still restores. The forecast's accuracy
- * and interval coverage through the tracker are statistics: `npm run bench` prints them.
+ * The tracker's rim forecast wiring (server/tracking/figures.ts, ./drift-source.ts, docs/domain.md
+ * §7): the forecast comes from the plant parameters' drift where that has an estimate, from the
+ * radius history's trend where it has none (a tracker without it, a tracker just restored from a
+ * checkpoint); the radius history carries each radius's sd, its trend moves the points back by
+ * half an estimator memory, and a checkpoint written before the sd was kept still restores. The
+ * forecast's accuracy and interval coverage through the tracker are statistics: `npm run bench`
+ * prints them.
  */
 import path from "node:path";
 import { describe, expect, it } from "vitest";
@@ -10,7 +13,9 @@ import { LoopTracker } from "@/server/tracking/loop-tracker";
 import { forecastRadiusOne, radiusPoint, RADIUS_DELAY_MEMORIES } from "@/server/tracking/figures";
 import { buildFleet } from "@/simulators/fleet";
 import { loadScenario } from "@/simulators/scenario";
-import { FakeClock, trackerConfigFor } from "./helpers";
+import { FakeClock, arxStructureFor, trackerConfigFor } from "./helpers";
+import { testLoopConfig } from "@/tests/helpers/loop-config";
+import { makeSim, trueCrossing } from "../control/forecast-tracker-mc";
 
 describe("rim forecast in the tracker", () => {
   it("puts a noise-free radius ramp's crossing half a memory before the ramp's own (arithmetic)", () => {
@@ -62,5 +67,43 @@ describe("rim forecast in the tracker", () => {
     const b = new LoopTracker(trackerConfigFor(sim!), { clock });
     expect(b.restore(old)).toEqual({ ok: true });
     expect(b.checkpoint().radiusHistory).toEqual(old.radiusHistory);
+  }, 60_000);
+
+  it("forecasts from the parameter drift, and from the radius history where the drift has no estimate (without it; just restored)", () => {
+    // the rim-forecast harness's gain creep (seed 9100), 5 h of 5 s samples: the true crossing at 10 h
+    const sim = makeSim("gain-creep", 9100);
+    const truth = trueCrossing(sim)!;
+    const clock = new FakeClock();
+    const t0 = clock.t;
+    const cfg = testLoopConfig({ tag: sim.config.tag, telemetryPeriodS: 5, controllerPeriodS: 5, estimationPeriodS: 5, controller: sim.config.controller, ...arxStructureFor(sim.config.plant, 5) });
+    const drift = new LoopTracker(cfg, { clock });
+    const trend = new LoopTracker(cfg, { clock, parameterDrift: false });
+    while (sim.simTimeS <= 18000) {
+      const s = sim.step();
+      if (!s) continue;
+      clock.t = t0 + s.simTimeS * 1000;
+      for (const tr of [drift, trend]) tr.push([{ t: clock.t, sp: s.sp, pv: s.pv, mv: s.mv, mode: s.mode }], clock.t);
+    }
+    const history = (tr: LoopTracker) => tr.checkpoint().radiusHistory.map((p) => radiusPoint(p.t, p.value, p.sd ?? null));
+    const fromTrend = trend.current.forecast!.radiusOne!;
+    expect(fromTrend).toEqual(forecastRadiusOne(history(trend), 1000));
+    const fromDrift = drift.current.forecast!.radiusOne!;
+    expect(fromDrift).not.toEqual(forecastRadiusOne(history(drift), 1000));
+    // both hold the true crossing in their intervals on this run
+    for (const f of [fromTrend, fromDrift]) {
+      expect((f.low - t0) / 1000).toBeLessThan(truth);
+      expect((f.high - t0) / 1000).toBeGreaterThan(truth);
+    }
+    // a tracker restored from the checkpoint has no drift sums yet: the history's trend serves
+    const restored = new LoopTracker(cfg, { clock });
+    expect(restored.restore(drift.checkpoint())).toEqual({ ok: true });
+    let st = null;
+    for (let n = 0; st === null || n < 12; n++) {
+      const s = sim.step();
+      if (!s) continue;
+      clock.t = t0 + s.simTimeS * 1000;
+      st = restored.push([{ t: clock.t, sp: s.sp, pv: s.pv, mv: s.mv, mode: s.mode }], clock.t) ?? st;
+    }
+    expect(st!.forecast!.radiusOne).toEqual(forecastRadiusOne(history(restored), 1000));
   }, 60_000);
 });
