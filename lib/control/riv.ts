@@ -93,7 +93,7 @@ export interface InstrumentalArxState {
 }
 
 /** Open loop: informative samples per parameter before the auxiliary-model instruments take over. */
-const OPEN_AUX_MIN_PER_PARAMETER = 25;
+export const OPEN_AUX_MIN_PER_PARAMETER = 25;
 
 function checkInt(name: string, v: number, min: number): void {
   if (!Number.isInteger(v) || v < min) throw new ControlArgumentError(`${name} must be an integer >= ${min}, got ${v}`);

@@ -12,12 +12,10 @@
 import { driftCrossing } from "@/lib/control/drift-crossing";
 import { shiftIn } from "@/lib/control/lag-vector";
 import { LinearDriftIv } from "@/lib/control/parameter-drift";
+import { OPEN_AUX_MIN_PER_PARAMETER } from "@/lib/control/riv";
 import { AuxiliaryModel } from "@/lib/control/riv-auxiliary";
 import type { QTf } from "@/lib/control/types";
 import type { Crossing } from "@/lib/domain/assessment";
-
-/** Open loop: informative samples per parameter before auxiliary instruments (as lib/control/riv.ts). */
-const OPEN_AUX_MIN_PER_PARAMETER = 25;
 
 export interface RadiusDriftOptions {
   na: number;
