@@ -7,9 +7,14 @@
  * runs per scenario: the sample sd is within about ±6.5 % (1 / sqrt(2 N)) of the true sd, so the
  * 20 % band is about 3 of its sds; the bias check allows 3 standard errors. A noise model that
  * leaves the load out must NOT agree with its (then wrong) bound: that shows the check can fail.
+ * The second oracle (forecast-oracle-arx.ts, the tracker's ARX model with the true noise filter)
+ * must be consistent in closed loop, where ordinary least squares is not (a fact of the trade:
+ * the equation error is coloured and fed back; Söderström & Stoica, 1989, ch. 7, from memory).
  */
 import { describe, expect, it } from "vitest";
-import { normalCdf, oracleMc } from "./forecast-oracle";
+import { mean, normalCdf, oracleMc, sd } from "./forecast-oracle";
+import { arxOracleRun } from "./forecast-oracle-arx";
+import { makeSim } from "./forecast-tracker-mc";
 
 describe("rim-forecast oracle", () => {
   it("normal distribution function at handbook points (Abramowitz & Stegun, table 26.1)", () => {
@@ -34,5 +39,21 @@ describe("rim-forecast oracle", () => {
   it("without the load in its noise model the fit's spread is far outside its bound", () => {
     const o = oracleMc("gain-creep", 40, 50000, undefined, false);
     expect(o.betaSd / o.betaBoundSd).toBeGreaterThan(5);
+  }, 60_000);
+
+  it("fits the tracker's ARX model of the gain creep without bias with the true noise filter, and with bias without it (120 runs)", () => {
+    const N = 120;
+    const sim = makeSim("gain-creep", 1);
+    // first-order plant, gain 1, 20 s lag, T = 5 s: b = g (1 − e^(−T/20)), a1 = −e^(−T/20)
+    const bUnit = 1 - Math.exp(-5 / 20);
+    const truth = [-Math.exp(-5 / 20), bUnit * sim.gainFactor(18000), 0, (bUnit * (sim.gainFactor(36000) - 1)) / 36000];
+    const fits = (whiten: boolean) => Array.from({ length: N }, (_, r) => arxOracleRun("gain-creep", 50000 + r, whiten).est!);
+    const zOf = (list: ReturnType<typeof fits>, i: number) => {
+      const v = list.map((e) => (i < 2 ? e.theta[i]! : e.rate[i - 2]!));
+      return (mean(v) - truth[i]!) / (sd(v) / Math.sqrt(N));
+    };
+    const gls = fits(true);
+    for (let i = 0; i < 4; i++) expect(Math.abs(zOf(gls, i))).toBeLessThan(3);
+    expect(Math.abs(zOf(fits(false), 1))).toBeGreaterThan(10);
   }, 60_000);
 });

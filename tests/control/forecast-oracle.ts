@@ -79,7 +79,7 @@ function crossingOf(h: (t: number) => number, g0: number, beta: number, gRim: nu
  * at each sample (the oracle's noise model). Without `loadModel` the load is left out of the noise
  * model (white PV noise only: output-error least squares, where the load is unexplained).
  */
-function noiseFilter(sim: LoopSim, loadModel: boolean) {
+export function noiseFilter(sim: LoopSim, loadModel: boolean) {
   const { A, B, C, n } = sim.plant;
   const a = sim.config.activity;
   const m = n + 2;
@@ -91,11 +91,26 @@ function noiseFilter(sim: LoopSim, loadModel: boolean) {
   const F = new Float64Array(m * m);
   const FP = new Float64Array(m * m);
   const K = new Float64Array(m);
-  /** One sample at gain g: returns the innovation variance S and leaves the predictor gain K (for the next state). */
+  const next = new Float64Array(m);
   return {
     m,
-    K,
-    F,
+    /**
+     * The innovation of one signal's sample at the current step, s − C x, with x the filter's
+     * predicted state for that signal; x moves to F x + K e + B input (call after `step`).
+     */
+    innovate(x: Float64Array, s: number, input: number): number {
+      let yHat = 0;
+      for (let j = 0; j < n; j++) yHat += C[j]! * x[j]!;
+      const e = s - yHat;
+      for (let i = 0; i < m; i++) {
+        let v = K[i]! * e + (i < n ? B[i]! * input : 0);
+        for (let j = 0; j < m; j++) v += F[i * m + j]! * x[j]!;
+        next[i] = v;
+      }
+      x.set(next);
+      return e;
+    },
+    /** One sample at gain g: returns the innovation variance S and sets the predictor gain K (for the next state). */
     step(g: number): number {
       // F at this sample
       F.fill(0);
@@ -107,7 +122,7 @@ function noiseFilter(sim: LoopSim, loadModel: boolean) {
       F[(n + 1) * m + n + 1] = phi[1]!;
       // S = C P C' + r, PC = P C'
       const PC = new Float64Array(m);
-      for (let i = 0; i < m; i++) for (let j = 0; j < n; j++) PC[i] += P[i * m + j]! * C[j]!;
+      for (let i = 0; i < m; i++) for (let j = 0; j < n; j++) PC[i] = PC[i]! + P[i * m + j]! * C[j]!;
       let S = r;
       for (let j = 0; j < n; j++) S += C[j]! * PC[j]!;
       // predictor gain K = F P C' / S; P <- F P F' + Q − K S K'
@@ -126,54 +141,45 @@ function noiseFilter(sim: LoopSim, loadModel: boolean) {
         for (let l = 0; l < m; l++) s += FP[i * m + l]! * F[j * m + l]!;
         P[i * m + j] = s - K[i]! * S * K[j]!;
       }
-      P[n * m + n] += q[0]!;
-      P[(n + 1) * m + n + 1] += q[1]!;
+      P[n * m + n] = P[n * m + n]! + q[0]!;
+      P[(n + 1) * m + n + 1] = P[(n + 1) * m + n + 1]! + q[1]!;
       return S;
     },
   };
+}
+
+/**
+ * The run's samples up to `untilS`: time t (s), the true gain g of that step, and PV and MV as
+ * deviations from the operating point, % of span (what the oracle knows).
+ */
+export function* deviations(sim: LoopSim, untilS: number): Generator<{ t: number; g: number; y: number; du: number }> {
+  const c = sim.config;
+  while (sim.simTimeS <= untilS) {
+    const t = sim.simTimeS;
+    const g = sim.gainFactor(t);
+    const s = sim.step();
+    if (!s) continue;
+    const y = (100 * (s.pv - c.pvRange[0])) / (c.pvRange[1] - c.pvRange[0]) - c.spPct;
+    const du = (100 * (s.mv - c.mvRange[0])) / (c.mvRange[1] - c.mvRange[0]) - c.mvPct;
+    yield { t, g, y, du };
+  }
 }
 
 /** One seeded run of the harness's scenario, fitted by the oracle at half way. */
 export function oracleRun(kind: Exclude<ForecastScenario, "no-drift">, seed: number, driftS = DRIFT_S, loadModel = true): OracleRun {
   const sim = makeSim(kind, seed, driftS);
   const half = driftS / 2;
-  const { B, C, n } = sim.plant;
-  const u0 = sim.config.mvPct;
-  const y0 = sim.config.spPct;
   const h = shape(sim, driftS);
   const kf = noiseFilter(sim, loadModel);
-  const { m, K, F } = kf;
+  const m = kf.m;
   // predicted states of the three filters: y with no input (x0), and the responses to the inputs
   // of g0 (column 1) and beta (column 2), each through the same innovations filter
   const xs = [new Float64Array(m), new Float64Array(m), new Float64Array(m)];
-  const next = new Float64Array(m);
-  const info = [0, 0, 0];
-  const rhs = [0, 0];
-  const pv = (pct: number) => (100 * (pct - sim.config.pvRange[0])) / (sim.config.pvRange[1] - sim.config.pvRange[0]);
-  const mvPct = (mv: number) => (100 * (mv - sim.config.mvRange[0])) / (sim.config.mvRange[1] - sim.config.mvRange[0]);
-  while (sim.simTimeS <= half) {
-    const t = sim.simTimeS;
-    const gTrue = sim.gainFactor(t);
-    const s = sim.step();
-    if (!s) continue;
-    const S = kf.step(gTrue);
-    const du = mvPct(s.mv) - u0;
-    const eps: number[] = [];
-    for (let f = 0; f < 3; f++) {
-      const x = xs[f]!;
-      let yHat = 0;
-      for (let j = 0; j < n; j++) yHat += C[j]! * x[j]!;
-      const e = f === 0 ? pv(s.pv) - y0 - yHat : -yHat;
-      eps.push(e);
-      // x <- F x + K e + input of this column
-      const input = f === 1 ? du : f === 2 ? h(t) * du : 0;
-      for (let i = 0; i < m; i++) {
-        let v = K[i]! * e + (i < n ? B[i]! * input : 0);
-        for (let j = 0; j < m; j++) v += F[i * m + j]! * x[j]!;
-        next[i] = v;
-      }
-      x.set(next);
-    }
+  const info: [number, number, number] = [0, 0, 0];
+  const rhs: [number, number] = [0, 0];
+  for (const { t, g, y, du } of deviations(sim, half)) {
+    const S = kf.step(g);
+    const eps = [kf.innovate(xs[0]!, y, 0), kf.innovate(xs[1]!, 0, du), kf.innovate(xs[2]!, 0, h(t) * du)];
     // innovation of y at theta: eps0 − theta' psi with psi = −eps_{1,2} (the columns' responses)
     const p1 = -eps[1]!, p2 = -eps[2]!;
     info[0] += (p1 * p1) / S;
@@ -216,8 +222,8 @@ export interface OracleMc {
   betaBoundSd: number;
 }
 
-const mean = (v: number[]) => v.reduce((a, x) => a + x, 0) / v.length;
-const sd = (v: number[]) => Math.sqrt(v.reduce((a, x) => a + (x - mean(v)) ** 2, 0) / (v.length - 1));
+export const mean = (v: number[]) => v.reduce((a, x) => a + x, 0) / v.length;
+export const sd = (v: number[]) => Math.sqrt(v.reduce((a, x) => a + (x - mean(v)) ** 2, 0) / (v.length - 1));
 
 /** `runs` seeded runs from `seed` (the harness's seeds), read at half way. */
 export function oracleMc(kind: Exclude<ForecastScenario, "no-drift">, runs: number, seed: number, driftS = DRIFT_S, loadModel = true): OracleMc {
