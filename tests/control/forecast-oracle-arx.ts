@@ -16,7 +16,8 @@
  * where this regressor holds the noisy past y, so it can only be less efficient than that fit:
  * its spread is measured over the runs, not bounded (on 120 creep runs its rate sds were 1.15 and
  * 1.35 times (L phi)'(L phi)'s inverse; the load's jumps are not Gaussian).
- * With `whiten` false: ordinary least squares on the raw samples (no noise model).
+ * With `whiten` false: ordinary least squares on the raw samples (no noise model); `wrong`: a
+ * noise filter whose load model is off (forecast-oracle.ts, `noiseFilter`).
  */
 import type { DriftEstimate } from "@/lib/control/parameter-drift";
 import { driftCrossing } from "@/lib/control/drift-crossing";
@@ -34,13 +35,13 @@ export interface ArxOracleRun {
 }
 
 /** One seeded run of the harness's scenario, fitted at half way. */
-export function arxOracleRun(kind: Exclude<ForecastScenario, "no-drift">, seed: number, whiten = true, driftS = DRIFT_S): ArxOracleRun {
+export function arxOracleRun(kind: Exclude<ForecastScenario, "no-drift">, seed: number, whiten = true, driftS = DRIFT_S, wrong = { variance: 1, spacing: 1 }): ArxOracleRun {
   const sim = makeSim(kind, seed, driftS);
   const half = driftS / 2;
   const plant = sim.config.plant;
   if (plant.type !== "first-order") throw new Error("the ARX oracle knows the harness's first-order plant only");
   const a1 = -Math.exp(-sim.Tc / plant.timeConstantS);
-  const kf = noiseFilter(sim, true);
+  const kf = noiseFilter(sim, true, wrong);
   const p = 4;
   // per signal (y, then the 4 columns): the A0⁻¹-filtered value and the innovations filter's state
   const aInv = new Float64Array(p + 1);

@@ -78,14 +78,16 @@ function crossingOf(h: (t: number) => number, g0: number, beta: number, gRim: nu
  * x(k+1) = A x + B g_k (u_k − u0 + step_k + walk_k), y_k = C x_k + e_k. `g` is the true gain
  * at each sample (the oracle's noise model). Without `loadModel` the load is left out of the noise
  * model (white PV noise only: output-error least squares, where the load is unexplained).
+ * `wrong` scales the load steps' variance and mean spacing away from the truth (a noise model
+ * that is only roughly right, as one estimated from data would be).
  */
-export function noiseFilter(sim: LoopSim, loadModel: boolean) {
+export function noiseFilter(sim: LoopSim, loadModel: boolean, wrong = { variance: 1, spacing: 1 }) {
   const { A, B, C, n } = sim.plant;
   const a = sim.config.activity;
   const m = n + 2;
-  const pStep = T / a.loadStepEveryS;
+  const pStep = T / (a.loadStepEveryS * wrong.spacing);
   const phi = [1 - pStep, 0.999];
-  const q = loadModel ? [a.loadStepSdPct ** 2 * (1 - (1 - pStep) ** 2), a.loadWalkSdPct ** 2 * T] : [0, 0];
+  const q = loadModel ? [wrong.variance * a.loadStepSdPct ** 2 * (1 - (1 - pStep) ** 2), a.loadWalkSdPct ** 2 * T] : [0, 0];
   const r = a.noiseSdPct ** 2;
   const P = new Float64Array(m * m);
   const F = new Float64Array(m * m);
