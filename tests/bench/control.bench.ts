@@ -33,6 +33,7 @@ import { poleCharacteristics } from "@/lib/control/zplane";
 import { closedLoopRoots } from "@/server/tracking/pole-roots";
 import type { ArxModel } from "@/lib/control/types";
 import { printCoverageTable } from "./coverage-table";
+import { printOracleTable } from "./forecast-oracle-table";
 import { printDriftCost } from "./tracker-drift-cost";
 import { mulberry32 } from "@/tests/helpers/seeded-random";
 
@@ -306,4 +307,7 @@ for (const [name, fn, iterations] of cases) {
 console.log(`load average at end: ${loadavg().map((v) => v.toFixed(2)).join(" ")}`);
 console.log(`target: hot tracker step <= 4x BASELINE -> measured x${hotRatio.toFixed(2)} (ratio of bests; ${hotRatio <= 4 ? "within" : "over"} target), median of paired rounds x${hotMedian.toFixed(2)}`);
 printDriftCost();
-if (process.env.BENCH_COVERAGE !== "0") printCoverageTable();
+if (process.env.BENCH_COVERAGE !== "0") {
+  printCoverageTable();
+  printOracleTable();
+}

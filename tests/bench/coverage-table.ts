@@ -8,7 +8,7 @@ import { forecastThroughTracker } from "../control/forecast-tracker-mc";
 import { COMPLEX_PAIR, REAL_POLE, trackerCoverage } from "../control/tracker-coverage";
 
 /** Wilson score interval of a share p out of n at 95 % (Wilson, J. Amer. Statist. Assoc. 22, 1927). */
-function wilson(p: number, n: number): [number, number] {
+export function wilson(p: number, n: number): [number, number] {
   if (!(n > 0) || !Number.isFinite(p)) return [NaN, NaN];
   const z2 = 1.959964 ** 2;
   const c = (p + z2 / (2 * n)) / (1 + z2 / n);
