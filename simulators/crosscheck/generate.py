@@ -8,7 +8,7 @@ aggressive loop whose load response decays faster than 0.3, a sticking valve wit
 cycle above the noise, a disturbance buried in the noise, a "saturated" loop mostly off its
 limits) is drawn again with the next seed, so every label can be seen in its data.
 
-    /usr/bin/python3 simulators/crosscheck/generate.py OUT_DIR [--seed N]
+    python3 simulators/crosscheck/generate.py OUT_DIR [--seed N]
 
 writes OUT_DIR/<id>.csv, OUT_DIR/<id>.loop.json and OUT_DIR/manifest.json (id, label, plant,
 note). Requires Debian's python3-numpy and python3-scipy.
