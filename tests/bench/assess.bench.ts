@@ -21,22 +21,11 @@ import { assessLoop, parseAssessCsv, parseLoopConfig } from "@/lib/assessment";
 import { BENCH_SETS, benchmarkPlan, generateRecording, isCorrect, LABELS, writeRecordingFiles, type BenchRecording, type BenchSet } from "@/simulators/benchmark/generate";
 import { simulateRecording, type RecordingSpec } from "@/simulators/benchmark/recording-sim";
 import { simcTuning } from "@/simulators/benchmark/tuning";
+import { pct, printAccuracy, printConfusion } from "./label-table";
 
 const { values: opts } = parseArgs({
   options: { set: { type: "string", default: "all" }, "no-cli": { type: "boolean", default: false }, misses: { type: "boolean", default: false } },
 });
-const ALL_LABELS = [...LABELS, "undetermined"] as const;
-const SHORT: Record<string, string> = {
-  healthy: "heal",
-  "aggressive-tuning": "aggr",
-  "sluggish-tuning": "slug",
-  "valve-stiction": "stic",
-  "external-disturbance": "extd",
-  saturated: "satu",
-  "sensor-fault": "sens",
-  manual: "manu",
-  undetermined: "undt",
-};
 
 interface Outcome {
   id: string;
@@ -77,16 +66,9 @@ function runSet(set: BenchSet): Outcome[] {
   return out;
 }
 
-const pct = (a: number, b: number) => (b === 0 ? "   —" : `${((100 * a) / b).toFixed(0).padStart(3)} %`);
-
 function report(set: BenchSet, res: Outcome[]): void {
   console.log(`\n=== ${set.toUpperCase()}: ${res.length} recordings ===`);
-  console.log("label                  n  right  accuracy");
-  for (const l of ALL_LABELS) {
-    const rows = res.filter((r) => r.label === l);
-    const ok = rows.filter((r) => r.correct).length;
-    console.log(`${l.padEnd(21)}${String(rows.length).padStart(3)}  ${String(ok).padStart(5)}  ${pct(ok, rows.length)}`);
-  }
+  printAccuracy(res);
   const eight = res.filter((r) => r.label !== "undetermined");
   const okEight = eight.filter((r) => r.correct).length;
   const okAll = res.filter((r) => r.correct).length;
@@ -97,12 +79,7 @@ function report(set: BenchSet, res: Outcome[]): void {
   }));
   console.log(`lowest label accuracy: ${(100 * worst).toFixed(0)} % (target >= 70 %)`);
 
-  console.log("\nconfusion (rows: truth, columns: verdict)");
-  console.log(`${"".padEnd(21)}${ALL_LABELS.map((l) => SHORT[l]!.padStart(5)).join("")}`);
-  for (const l of ALL_LABELS) {
-    const rows = res.filter((r) => r.label === l);
-    console.log(`${l.padEnd(21)}${ALL_LABELS.map((v) => String(rows.filter((r) => r.verdict === v).length || ".").padStart(5)).join("")}`);
-  }
+  printConfusion(res);
 
   console.log("\naccuracy against stated confidence");
   for (const [lo, hi] of [[0, 0.5], [0.5, 0.8], [0.8, 1.0001]] as const) {
