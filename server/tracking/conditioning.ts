@@ -167,10 +167,17 @@ export class SignalConditioner {
     const c = this.config;
     const silence = now - receivedAt;
     if (silence > 3 * Math.max(c.telemetryPeriodS * 1000, deliveryPeriodMs)) return { state: "stale", reason: `no sample for ${(silence / 1000).toFixed(silence < 10_000 ? 1 : 0)} s` };
-    if (this.flatRun >= this.flatLimit) {
+    // a PV held at or past an end of its range is a transmitter at its signal limit (the process
+    // beyond the range), not a frozen one; an operator's manual loop says so first
+    const flat = this.flatRun >= this.flatLimit;
+    const pegged = flat && this.lastPv !== null && (this.lastPv >= c.pvHi || this.lastPv <= c.pvLo);
+    if (flat && !pegged) {
       return { state: "stale", reason: `PV flat at ${fmt(this.lastPv)} for ${this.flatRun + 1} samples: frozen transmitter?` };
     }
     if (this.lastMode === "manual") return { state: "manual", reason: "loop in manual: the controller is not acting" };
+    if (pegged) {
+      return { state: "stale", reason: `PV held at ${fmt(this.lastPv)}, at or past its range end (${fmt(this.lastPv! >= c.pvHi ? c.pvHi : c.pvLo)}), for ${this.flatRun + 1} samples: the process is beyond the transmitter's range` };
+    }
     // after manual: an operator's loop says so first (a level left in manual may drain beyond its
     // range in a simulator); the quality counts still show the bad samples
     if (this.badRun >= BAD_RUN) {

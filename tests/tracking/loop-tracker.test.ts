@@ -76,6 +76,35 @@ describe("tracker states", () => {
     expect(tr.current.stateReason).toMatch(/flat/);
   });
 
+  it("a PV held at its range end is the process past the transmitter's range, not a frozen transmitter; manual says so first", () => {
+    // an integrating level left in manual runs to the end of its range and the transmitter's
+    // reading stops there (simulators/loop-sim.ts, TRANSMITTER_RANGE_PCT): a flat PV, but no fault
+    const clock = new FakeClock();
+    const cfg = testLoopConfig({ pvLo: 0, pvHi: 100, telemetryPeriodS: 1 });
+    const feed = (tr: LoopTracker, n: number, pv: (k: number) => number, mode: "auto" | "manual") => {
+      for (let k = 0; k < n; k++) {
+        clock.advance(1000);
+        tr.push([{ t: clock.now(), sp: 50, pv: pv(k), mv: 40, mode }], clock.now());
+      }
+    };
+    const noisy = (k: number) => 50 + Math.sin(k * 1.7) * 0.3;
+    const inManual = new LoopTracker(cfg, { clock });
+    feed(inManual, 200, noisy, "auto");
+    feed(inManual, 400, () => 103.125, "manual");
+    expect(inManual.current.trackerState).toBe("manual");
+    const inAuto = new LoopTracker(cfg, { clock });
+    feed(inAuto, 200, noisy, "auto");
+    feed(inAuto, 400, () => 103.125, "auto");
+    expect(inAuto.current.trackerState).toBe("stale");
+    expect(inAuto.current.stateReason).toMatch(/beyond the transmitter's range/);
+    // the same flat run inside the range is still a frozen transmitter, in manual too
+    const frozen = new LoopTracker(cfg, { clock });
+    feed(frozen, 200, noisy, "auto");
+    feed(frozen, 400, () => 61.5, "manual");
+    expect(frozen.current.trackerState).toBe("stale");
+    expect(frozen.current.stateReason).toMatch(/frozen transmitter/);
+  });
+
   it("reports saturated while the MV is pinned at a limit", async () => {
     const sim = await scenarioSim("saturation"); // load step at 300 s drives the MV to 95 %
     const clock = new FakeClock();
