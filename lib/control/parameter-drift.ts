@@ -163,8 +163,13 @@ export class LinearDriftIv {
     this.noise?.gap();
   }
 
-  /** One informative sample at time t (seconds, increasing): regressor phi, instruments z (d each), output y. */
-  add(t: number, phi: ArrayLike<number>, z: ArrayLike<number>, y: number): void {
+  /**
+   * One sample at time t (seconds, increasing): regressor phi, instruments z (d each), output y.
+   * Only `informative` ones enter the sums; with a noise model the others still pass through its
+   * filter and residuals (whitening needs the consecutive series), without one they are ignored.
+   */
+  add(t: number, phi: ArrayLike<number>, z: ArrayLike<number>, y: number, informative = true): void {
+    if (!informative && !this.noise) return;
     const { d, p } = this;
     if (!Number.isFinite(this.origin)) this.origin = t;
     if ((t - this.origin) / this.window > 4) this.rebase(t);
@@ -178,6 +183,10 @@ export class LinearDriftIv {
       rP[i] = phi[i]!;
       rP[d + i] = tau * phi[i]!;
     }
+    if (this.noise) {
+      y = this.noise.filter(t, phi, rP, rZ, y, this.fPhi, this.fZ);
+      if (Number.isNaN(y) || !informative) return;
+    }
     let b = this.blocks[this.blocks.length - 1];
     if (!b || t >= b.start + this.blockS) {
       if (b && this.noise) this.refitNoise();
@@ -189,10 +198,6 @@ export class LinearDriftIv {
     while (this.blocks.length > 1 && this.blocks[0]!.tLast < from) {
       this.blocks.shift();
       this.closedDirty = true;
-    }
-    if (this.noise) {
-      y = this.noise.filter(t, phi, rP, rZ, y, this.fPhi, this.fZ);
-      if (Number.isNaN(y)) return;
     }
     const hP = this.histPhi;
     const hZ = this.histZ;

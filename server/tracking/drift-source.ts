@@ -99,10 +99,10 @@ export class RadiusDrift {
         let zmax = 0;
         for (let i = 0; i < d; i++) zmax = Math.max(zmax, Math.abs(this.z[i]!));
         const warm = ready ? this.readySamples++ : (this.readySamples = 0);
-        if (zmax > this.o.instrumentThreshold) {
-          this.informative++;
-          if (ready && warm >= this.o.memoryS / this.o.T) this.fit.add(t, this.phi, this.z, y);
-        }
+        const informative = zmax > this.o.instrumentThreshold;
+        if (informative) this.informative++;
+        // the others only pass through the fit's noise filter, if it has one (parameter-drift.ts)
+        if (ready && warm >= this.o.memoryS / this.o.T) this.fit.add(t, this.phi, this.z, y, informative);
       }
     }
     if (na > 0) shiftIn(this.hist.y, y);
