@@ -20,7 +20,7 @@ const hasScipy = spawnSync("python3", ["-c", "import scipy.linalg"], { encoding:
  * of the true drifting model (open loop; the tracker's auxiliary-model instruments). Returns the
  * estimated rate of a and its sd.
  */
-function runOnce(seed: number, n: number, rate: number, order: number): { rate: number; sd: number } {
+function runOnce(seed: number, n: number, rate: number, order: number): { rate: number; sd: number; a: Float64Array; updates: number } {
   const rand = normal(mulberry32(seed));
   const f = new LinearDriftIv({ d: 2, window: 10 * n, block: n / 10, lags: 3, ...(order > 0 ? { noise: { order, samples: n / 5 } } : {}) });
   let y1 = 0, x1 = 0, u1 = 0, v1 = 0, v2 = 0;
@@ -38,7 +38,7 @@ function runOnce(seed: number, n: number, rate: number, order: number): { rate: 
     v1 = v;
   }
   const est = f.estimate()!;
-  return { rate: est.rate[0]!, sd: Math.sqrt(est.covariance[2 * 4 + 2]!) };
+  return { rate: est.rate[0]!, sd: Math.sqrt(est.covariance[2 * 4 + 2]!), ...f.noiseModel };
 }
 
 describe("drift noise model", () => {
@@ -54,6 +54,14 @@ describe("drift noise model", () => {
     expect(ar1[0]!).toBeCloseTo(-0.6, 12);
     expect(Math.abs(ar1[1]!) + Math.abs(ar1[2]!)).toBeLessThan(1e-12);
     expect(levinsonDurbin([0, 0, 0], 2)).toBeNull();
+  });
+
+  it("estimates the AR(2) equation noise from the drift fit's residuals, refitted at every block", () => {
+    // the simulated v(k) = 1.5 v(k-1) - 0.7 v(k-2) + w(k): A_n(q) = 1 - 1.5 q^-1 + 0.7 q^-2
+    const { a, updates } = runOnce(4321, 4000, 4e-5, 2);
+    expect(updates).toBe(9);
+    expect(a[0]!).toBeCloseTo(-1.5, 1);
+    expect(a[1]!).toBeCloseTo(0.7, 1);
   });
 
   it("whitened by the estimated AR noise model, the drift rate's sd falls by 40 % or more under AR(2) equation noise, and its interval still covers about 95 %", () => {
