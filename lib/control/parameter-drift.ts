@@ -21,10 +21,12 @@
  * estimate, exact: sum e(k) e(k-l) expands into lagged sums of y, Phi y and Phi Phi' kept per block.
  * Sliding window in blocks: the sums are kept per block of `block` seconds and summed over the
  * blocks inside the window at `estimate`, so a sample costs O(d^2 lags) and nothing is ever
- * subtracted. Time is counted from an origin in units of the window; when it grows past 4
+ * subtracted. Option `noise`: the data enter the sums whitened by an estimated AR noise model
+ * refitted at every new block (./drift-noise.ts, refined IV). Time is counted from an origin in units of the window; when it grows past 4
  * windows, every block's sums move to a new origin exactly (Z' = T Z, T = [[I, 0], [-c I, I]]).
  */
 import { ControlArgumentError } from "./errors";
+import { DriftNoiseModel } from "./drift-noise";
 import { solveInto } from "./linalg";
 
 export interface LinearDriftOptions {
@@ -36,6 +38,12 @@ export interface LinearDriftOptions {
   block?: number;
   /** Newey–West lag of the score covariance, in informative samples; default 0 (white scores). */
   lags?: number;
+  /**
+   * Estimated noise model (./drift-noise.ts): AR `order` of the equation error, refitted at every
+   * new block to the residuals of the last `samples` samples; the data enter the sums whitened by
+   * it. Absent: none (the sums of the raw data).
+   */
+  noise?: { order: number; samples: number };
 }
 
 /** The drift estimate at the last sample: theta there, its rate per second, and their joint covariance. */
@@ -104,6 +112,12 @@ export class LinearDriftIv {
   private readonly histY: Float64Array;
   private histCount = 0;
   private readonly work: Float64Array;
+  private readonly noise: DriftNoiseModel | null;
+  /** This sample's raw Phi, Z (with the time factor) and, whitened, their filtered values. */
+  private readonly rawPhi: Float64Array;
+  private readonly rawZ: Float64Array;
+  private readonly fPhi: Float64Array;
+  private readonly fZ: Float64Array;
 
   constructor(o: LinearDriftOptions) {
     if (!Number.isInteger(o.d) || o.d < 1) throw new ControlArgumentError(`d must be an integer >= 1, got ${o.d}`);
@@ -122,6 +136,16 @@ export class LinearDriftIv {
     this.work = new Float64Array(p * (p + 1));
     this.at = layout(p, lags + 1);
     this.closed = new Float64Array(this.at.size);
+    this.noise = o.noise ? new DriftNoiseModel(o.d, o.noise.order, o.noise.samples) : null;
+    this.rawPhi = new Float64Array(p);
+    this.rawZ = new Float64Array(p);
+    this.fPhi = new Float64Array(p);
+    this.fZ = new Float64Array(p);
+  }
+
+  /** The noise model's AR coefficients a_1..a_order (empty without one) and how often it was refitted. */
+  get noiseModel(): { a: Float64Array; updates: number } {
+    return { a: this.noise ? Float64Array.from(this.noise.a) : new Float64Array(0), updates: this.noise?.updates ?? 0 };
   }
 
   /** Forget everything. */
@@ -130,36 +154,42 @@ export class LinearDriftIv {
     this.closed.fill(0);
     this.origin = NaN;
     this.histCount = 0;
+    this.noise?.reset();
   }
 
   /** A gap in the informative samples (skipped data): the next sample has no lagged partner. */
   gap(): void {
     this.histCount = 0;
+    this.noise?.gap();
   }
 
-  /** One informative sample at time t (seconds, increasing): regressor phi, instruments z (d each), output y. */
-  add(t: number, phi: ArrayLike<number>, z: ArrayLike<number>, y: number): void {
+  /**
+   * One sample at time t (seconds, increasing): regressor phi, instruments z (d each), output y.
+   * Only `informative` ones enter the sums; with a noise model the others still pass through its
+   * filter and residuals (whitening needs the consecutive series), without one they are ignored.
+   */
+  add(t: number, phi: ArrayLike<number>, z: ArrayLike<number>, y: number, informative = true): void {
+    if (!informative && !this.noise) return;
     const { d, p } = this;
     if (!Number.isFinite(this.origin)) this.origin = t;
     if ((t - this.origin) / this.window > 4) this.rebase(t);
     const tau = (t - this.origin) / this.window;
     const L1 = this.lags + 1;
-    const hP = this.histPhi;
-    const hZ = this.histZ;
-    const hY = this.histY;
-    hP.copyWithin(p, 0, this.lags * p);
-    hZ.copyWithin(p, 0, this.lags * p);
-    hY.copyWithin(1, 0, this.lags);
+    const rP = this.rawPhi;
+    const rZ = this.rawZ;
     for (let i = 0; i < d; i++) {
-      hZ[i] = z[i]!;
-      hZ[d + i] = tau * z[i]!;
-      hP[i] = phi[i]!;
-      hP[d + i] = tau * phi[i]!;
+      rZ[i] = z[i]!;
+      rZ[d + i] = tau * z[i]!;
+      rP[i] = phi[i]!;
+      rP[d + i] = tau * phi[i]!;
     }
-    hY[0] = y;
-    this.histCount = Math.min(L1, this.histCount + 1);
+    if (this.noise) {
+      y = this.noise.filter(t, phi, rP, rZ, y, this.fPhi, this.fZ);
+      if (Number.isNaN(y) || !informative) return;
+    }
     let b = this.blocks[this.blocks.length - 1];
     if (!b || t >= b.start + this.blockS) {
+      if (b && this.noise) this.refitNoise();
       b = { start: t, tFirst: t, tLast: t, sums: new Float64Array(this.at.size) };
       this.blocks.push(b);
       this.closedDirty = true;
@@ -169,6 +199,16 @@ export class LinearDriftIv {
       this.blocks.shift();
       this.closedDirty = true;
     }
+    const hP = this.histPhi;
+    const hZ = this.histZ;
+    const hY = this.histY;
+    hP.copyWithin(p, 0, this.lags * p);
+    hZ.copyWithin(p, 0, this.lags * p);
+    hY.copyWithin(1, 0, this.lags);
+    hP.set(this.noise ? this.fPhi : rP);
+    hZ.set(this.noise ? this.fZ : rZ);
+    hY[0] = y;
+    this.histCount = Math.min(L1, this.histCount + 1);
     b.tLast = t;
     const S = b.sums;
     const at = this.at;
@@ -198,6 +238,25 @@ export class LinearDriftIv {
           S[rowZ + j]! += zi * hZ[o + j]!;
         }
       }
+    }
+  }
+
+  /** Refits the noise model at the window's current estimate (./drift-noise.ts). */
+  private refitNoise(): void {
+    const W = this.windowSums();
+    const p = this.p;
+    if (!(W[0]! >= 10 * p)) return;
+    const x = new Float64Array(p);
+    if (!(solveInto(W.subarray(this.at.A, this.at.A + p * p), W.subarray(this.at.f, this.at.f + p), p, this.work, x) > 0)) return;
+    const first = this.noise!.updates === 0;
+    // the raw (unwhitened) blocks' equation error is far larger than the whitened ones': summed
+    // with them it would dominate the estimate and its covariance (a test: no gain at all), so the
+    // first noise model starts the sums afresh; later models differ little and are summed
+    if (this.noise!.update(x, this.origin, this.window) && first) {
+      this.blocks = [];
+      this.closed.fill(0);
+      this.closedDirty = false;
+      this.histCount = 0;
     }
   }
 
@@ -310,6 +369,7 @@ export class LinearDriftIv {
       vec(this.histPhi, l * p);
       vec(this.histZ, l * p);
     }
+    this.noise?.rebase(vec);
     this.origin = t;
   }
 }

@@ -33,6 +33,13 @@ export interface RadiusDriftOptions {
   lags: number;
 }
 
+/**
+ * The drift fit's estimated noise model (lib/control/drift-noise.ts): AR order (0: none) and the
+ * residuals it is fitted to, in estimator memories. Read when a RadiusDrift is made; the
+ * harnesses set it to compare (tests/control/forecast-tracker-mc.ts).
+ */
+export const driftNoiseSetting = { order: 0, memories: 2 };
+
 export class RadiusDrift {
   private readonly fit: LinearDriftIv;
   private readonly aux: AuxiliaryModel;
@@ -47,7 +54,9 @@ export class RadiusDrift {
 
   constructor(private readonly o: RadiusDriftOptions) {
     const d = (this.d = o.na + o.nb);
-    this.fit = new LinearDriftIv({ d, window: o.windowS, block: o.memoryS, lags: o.lags });
+    const { order, memories } = driftNoiseSetting;
+    const noise = order > 0 ? { order, samples: Math.max(10 * order, Math.round((memories * o.memoryS) / o.T)) } : undefined;
+    this.fit = new LinearDriftIv({ d, window: o.windowS, block: o.memoryS, lags: o.lags, ...(noise ? { noise } : {}) });
     this.aux = new AuxiliaryModel(o.na, o.nb, o.nk, o.controller, 0.995);
     this.hist = { y: new Float64Array(o.na), u: new Float64Array(o.nk + d + 1), r: new Float64Array(o.nk + d) };
     this.phi = new Float64Array(d);
@@ -90,10 +99,10 @@ export class RadiusDrift {
         let zmax = 0;
         for (let i = 0; i < d; i++) zmax = Math.max(zmax, Math.abs(this.z[i]!));
         const warm = ready ? this.readySamples++ : (this.readySamples = 0);
-        if (zmax > this.o.instrumentThreshold) {
-          this.informative++;
-          if (ready && warm >= this.o.memoryS / this.o.T) this.fit.add(t, this.phi, this.z, y);
-        }
+        const informative = zmax > this.o.instrumentThreshold;
+        if (informative) this.informative++;
+        // the others only pass through the fit's noise filter, if it has one (parameter-drift.ts)
+        if (ready && warm >= this.o.memoryS / this.o.T) this.fit.add(t, this.phi, this.z, y, informative);
       }
     }
     if (na > 0) shiftIn(this.hist.y, y);

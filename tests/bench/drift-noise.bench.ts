@@ -1,0 +1,31 @@
+/**
+ * The rim forecast through the tracker with and without the drift fit's estimated noise model
+ * (lib/control/drift-noise.ts; issue #10, item 3; docs/domain.md §7), measured in one run:
+ *   node --import tsx tests/bench/drift-noise.bench.ts [order] [memories] [seed base] [runs]
+ * (defaults 12, 8, 9100, 80): for noise order 0 (none, the default) and `order`, fitted to the
+ * residuals of the last `memories` estimator memories, the harness's ramp, gain creep and no-drift
+ * runs (tests/control/forecast-tracker-mc.ts) with Wilson 95 % intervals, then the tracker's cost
+ * per sample with that noise model (tests/bench/tracker-drift-cost.ts). Prints; asserts nothing.
+ */
+import { driftNoiseSetting } from "@/server/tracking/drift-source";
+import { forecastThroughTracker } from "../control/forecast-tracker-mc";
+import { wilson } from "./coverage-table";
+import { printDriftCost } from "./tracker-drift-cost";
+
+const [order = 12, memories = 8, seed = 9100, runs = 80] = process.argv.slice(2).map(Number);
+const pct = (x: number) => (100 * x).toFixed(1);
+const band = (p: number, n: number) => `[${wilson(p, n).map(pct).join("-")}]`;
+for (const o of [0, order]) {
+  driftNoiseSetting.order = o;
+  driftNoiseSetting.memories = memories;
+  for (const kind of ["linear-radius", "gain-creep", "no-drift"] as const) {
+    const m = forecastThroughTracker(kind, runs, seed);
+    const head = `noise order ${o}${o ? `, ${memories} memories` : ""}, seed base ${seed}, ${kind}:`;
+    if (kind === "no-drift") console.log(`${head} no forecast ${pct(m.quiet)} % ${band(m.quiet, m.runs)}`);
+    else console.log(`${head} within +-15 % ${pct(m.within15)} % ${band(m.within15, m.runs)}, interval coverage ${pct(m.coverage)} % ${band(m.coverage, m.forecasts)} of ${m.forecasts}, median ${pct(m.medianError)} %, sd ${pct(m.errorSd)} %`);
+  }
+}
+driftNoiseSetting.order = order;
+driftNoiseSetting.memories = memories;
+printDriftCost();
+driftNoiseSetting.order = 0;
