@@ -31,14 +31,19 @@ export interface RadiusDriftOptions {
   instrumentThreshold: number;
   /** Newey–West lag of the score covariance, samples (the plant estimator's noise lags). */
   lags: number;
+  /** The estimated noise model of the drift fit; absent: none. */
+  noise?: DriftNoiseOption;
 }
 
 /**
- * The drift fit's estimated noise model (lib/control/drift-noise.ts): AR order (0: none) and the
- * residuals it is fitted to, in estimator memories. Read when a RadiusDrift is made; the
- * harnesses set it to compare (tests/control/forecast-tracker-mc.ts).
+ * The drift fit's estimated noise model (lib/control/drift-noise.ts): AR order and the residuals
+ * it is fitted to, in estimator memories. Off by default (docs/domain.md §7: it did not help on
+ * both seed bases); `npm run bench:drift-noise` compares.
  */
-export const driftNoiseSetting = { order: 0, memories: 2 };
+export interface DriftNoiseOption {
+  order: number;
+  memories: number;
+}
 
 export class RadiusDrift {
   private readonly fit: LinearDriftIv;
@@ -54,8 +59,8 @@ export class RadiusDrift {
 
   constructor(private readonly o: RadiusDriftOptions) {
     const d = (this.d = o.na + o.nb);
-    const { order, memories } = driftNoiseSetting;
-    const noise = order > 0 ? { order, samples: Math.max(10 * order, Math.round((memories * o.memoryS) / o.T)) } : undefined;
+    const n = o.noise;
+    const noise = n && n.order > 0 ? { order: n.order, samples: Math.max(10 * n.order, Math.round((n.memories * o.memoryS) / o.T)) } : undefined;
     this.fit = new LinearDriftIv({ d, window: o.windowS, block: o.memoryS, lags: o.lags, ...(noise ? { noise } : {}) });
     this.aux = new AuxiliaryModel(o.na, o.nb, o.nk, o.controller, 0.995);
     this.hist = { y: new Float64Array(o.na), u: new Float64Array(o.nk + d + 1), r: new Float64Array(o.nk + d) };

@@ -14,7 +14,7 @@ import type { ArxModel, QTf } from "@/lib/control/types";
 import { NEVER, type EstimationInput, type TrackerCheckpoint } from "./checkpoint";
 import { PREFILTER_POLE, type SignalConditioner } from "./conditioning";
 import { DataOnlyModel } from "./data-model";
-import { RadiusDrift } from "./drift-source";
+import { RadiusDrift, type DriftNoiseOption } from "./drift-source";
 import { choosePlant, plausibility, reducedOrderMisfit } from "./plant-choice";
 import { SampleGate, type GateContext } from "./sample-gate";
 import type { LoopConfig } from "./types";
@@ -80,8 +80,8 @@ export class PlantEstimation {
     private readonly memory: number,
     private readonly cond: SignalConditioner,
     private readonly hooks: EstimationHooks,
-    /** The forecast window, seconds; null: no parameter drift (the rim forecast from the radius history alone). */
-    forecastWindowS: number | null,
+    /** The parameter drift's forecast window (seconds) and noise model; null: no parameter drift (the rim forecast from the radius history alone). */
+    drift: { windowS: number; noise?: DriftNoiseOption } | null,
   ) {
     // informative samples before the plant model is reported: about two set-point moves' worth on
     // a fast loop (a move of a few % gives 60-80; one move alone left closed-loop radii above 1 on
@@ -94,7 +94,7 @@ export class PlantEstimation {
     this.data = new DataOnlyModel({ na: config.na, nb: config.nb, nk: config.nk, controller, forgetting: config.forgetting ?? 0.995, T: estimationPeriodS, closedLoopTimeS: config.controller.ti });
     this.gate = new SampleGate(config.na, config.nk + config.nb);
     const { na, nb, nk } = config;
-    this.drift = forecastWindowS === null ? null : new RadiusDrift({ na, nb, nk, T: estimationPeriodS, memoryS: memory * estimationPeriodS, windowS: forecastWindowS, controller, instrumentThreshold: INSTRUMENT_THRESHOLD_PCT, lags: na + prefilterNoiseLags(PREFILTER_POLE) });
+    this.drift = drift === null ? null : new RadiusDrift({ na, nb, nk, T: estimationPeriodS, memoryS: memory * estimationPeriodS, windowS: drift.windowS, controller, instrumentThreshold: INSTRUMENT_THRESHOLD_PCT, lags: na + prefilterNoiseLags(PREFILTER_POLE), ...(drift.noise ? { noise: drift.noise } : {}) });
   }
 
   /** The drift forecast of radius 1 under `controller` while the configured structure is reported; undefined otherwise (./drift-source.ts). */

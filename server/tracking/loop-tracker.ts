@@ -32,6 +32,7 @@ import { checkpointProblem, type TrackerCheckpoint } from "./checkpoint";
 import { PlantEstimation } from "./estimation";
 import { fillModelFigures, finite, radiusPoint, rimDoubt } from "./figures";
 import { FigureTrends } from "./trends";
+import type { DriftNoiseOption } from "./drift-source";
 import { SignalConditioner } from "./conditioning";
 import { emptyState, validateConfig, type EmptyStateInput } from "./tracker-state";
 import type { LoopConfig } from "./types";
@@ -51,6 +52,8 @@ export interface LoopTrackerOptions {
   alarmDecayRatio?: (loopId: number) => number;
   /** Rim forecast from the plant parameters' drift (./drift-source.ts), the radius history's trend where that has none; false: the trend alone. Default true. */
   parameterDrift?: boolean;
+  /** The parameter drift's estimated noise model (./drift-source.ts); default none. */
+  driftNoise?: DriftNoiseOption;
   /** Telemetry seconds between full state computations; default 1. */
   stateEveryS?: number;
   /** A PV repeated exactly for this many seconds of samples counts as flat-lined; default 30 (at least 20 samples). */
@@ -107,7 +110,7 @@ export class LoopTracker {
     this.trends = new FigureTrends({ memory: this.memory, estimationPeriodS: this.estimationPeriodS, forecastWindowS, drift: () => this.est.driftForecast(this.controller) });
     this.alarmDecayRatio = options.alarmDecayRatio ?? (() => DEFAULT_POLICY.decayRatio.low);
     this.holdSamples = Math.max(this.memory, Math.ceil(HOLD_S / this.estimationPeriodS));
-    this.est = this.makeEstimation(options.parameterDrift ?? true);
+    this.est = this.makeEstimation(options.parameterDrift ?? true, options.driftNoise);
     this.state = emptyState(this.stateInput(), "learning", "waiting for telemetry");
   }
 
@@ -115,9 +118,9 @@ export class LoopTracker {
     return discretePidOf(this.config.controller, this.estimationPeriodS);
   }
 
-  private makeEstimation(drift: boolean): PlantEstimation {
+  private makeEstimation(drift: boolean, noise?: DriftNoiseOption): PlantEstimation {
     const hooks = { stateDue: (k: number, t: number) => this.stateDue(k, t), restarted: (reason: string) => this.restarted(reason) };
-    return new PlantEstimation(this.config, this.estimationPeriodS, this.controller, this.memory, this.cond, hooks, drift ? this.trends.forecastWindowS : null);
+    return new PlantEstimation(this.config, this.estimationPeriodS, this.controller, this.memory, this.cond, hooks, drift ? { windowS: this.trends.forecastWindowS, ...(noise ? { noise } : {}) } : null);
   }
 
   /** Order of the data-only closed-loop model. */

@@ -7,7 +7,6 @@
  * runs (tests/control/forecast-tracker-mc.ts) with Wilson 95 % intervals, then the tracker's cost
  * per sample with that noise model (tests/bench/tracker-drift-cost.ts). Prints; asserts nothing.
  */
-import { driftNoiseSetting } from "@/server/tracking/drift-source";
 import { forecastThroughTracker } from "../control/forecast-tracker-mc";
 import { wilson } from "./coverage-table";
 import { printDriftCost } from "./tracker-drift-cost";
@@ -16,16 +15,11 @@ const [order = 12, memories = 8, seed = 9100, runs = 80] = process.argv.slice(2)
 const pct = (x: number) => (100 * x).toFixed(1);
 const band = (p: number, n: number) => `[${wilson(p, n).map(pct).join("-")}]`;
 for (const o of [0, order]) {
-  driftNoiseSetting.order = o;
-  driftNoiseSetting.memories = memories;
   for (const kind of ["linear-radius", "gain-creep", "no-drift"] as const) {
-    const m = forecastThroughTracker(kind, runs, seed);
+    const m = forecastThroughTracker(kind, runs, seed, undefined, o > 0 ? { order: o, memories } : undefined);
     const head = `noise order ${o}${o ? `, ${memories} memories` : ""}, seed base ${seed}, ${kind}:`;
     if (kind === "no-drift") console.log(`${head} no forecast ${pct(m.quiet)} % ${band(m.quiet, m.runs)}`);
     else console.log(`${head} within +-15 % ${pct(m.within15)} % ${band(m.within15, m.runs)}, interval coverage ${pct(m.coverage)} % ${band(m.coverage, m.forecasts)} of ${m.forecasts}, median ${pct(m.medianError)} %, sd ${pct(m.errorSd)} %`);
   }
 }
-driftNoiseSetting.order = order;
-driftNoiseSetting.memories = memories;
-printDriftCost();
-driftNoiseSetting.order = 0;
+printDriftCost(order > 0 ? { order, memories } : undefined);

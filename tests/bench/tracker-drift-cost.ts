@@ -6,6 +6,7 @@
  * the forecast from the radius history alone), alternately, best of ROUNDS each and the median of
  * the paired ratios. Target (issue #10, item 3): at most about 1.3x.
  */
+import type { DriftNoiseOption } from "@/server/tracking/drift-source";
 import { LoopTracker } from "@/server/tracking/loop-tracker";
 import type { SampleDto } from "@/lib/domain/types";
 import { FakeClock, arxStructureFor } from "../tracking/helpers";
@@ -26,13 +27,13 @@ function samples(): SampleDto[] {
 }
 
 /** Nanoseconds per sample of one tracker run over `data`; returns whether it ended with a forecast. */
-function run(data: SampleDto[], drift: boolean): { ns: number; forecast: boolean } {
+function run(data: SampleDto[], drift: boolean, driftNoise?: DriftNoiseOption): { ns: number; forecast: boolean } {
   const sim = makeSim("gain-creep", 4242);
   const cfg = sim.config;
   const clock = new FakeClock();
   const tracker = new LoopTracker(
     testLoopConfig({ tag: cfg.tag, telemetryPeriodS: 5, controllerPeriodS: 5, estimationPeriodS: 5, controller: cfg.controller, ...arxStructureFor(cfg.plant, 5) }),
-    { clock, parameterDrift: drift },
+    { clock, parameterDrift: drift, ...(driftNoise ? { driftNoise } : {}) },
   );
   const start = process.hrtime.bigint();
   for (const s of data) {
@@ -43,9 +44,10 @@ function run(data: SampleDto[], drift: boolean): { ns: number; forecast: boolean
   return { ns, forecast: tracker.current.forecast?.radiusOne != null };
 }
 
-export function printDriftCost(): void {
+/** `driftNoise`: the drift fit's estimated noise model in the runs with the drift (default none). */
+export function printDriftCost(driftNoise?: DriftNoiseOption): void {
   const data = samples();
-  run(data, true);
+  run(data, true, driftNoise);
   run(data, false);
   let bestOn = Infinity;
   let bestOff = Infinity;
@@ -53,7 +55,7 @@ export function printDriftCost(): void {
   let forecasts = 0;
   for (let r = 0; r < ROUNDS; r++) {
     const off = run(data, false);
-    const on = run(data, true);
+    const on = run(data, true, driftNoise);
     bestOn = Math.min(bestOn, on.ns);
     bestOff = Math.min(bestOff, off.ns);
     ratios.push(on.ns / off.ns);

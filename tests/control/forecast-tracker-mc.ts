@@ -10,6 +10,7 @@
 import { eigenvalues } from "@/simulators/eigen";
 import { LoopSim, type LoopSimConfig } from "@/simulators/loop-sim";
 import type { DriftSpec } from "@/simulators/scenario";
+import type { DriftNoiseOption } from "@/server/tracking/drift-source";
 import { LoopTracker } from "@/server/tracking/loop-tracker";
 import { forecastRadiusOne, radiusPoint } from "@/server/tracking/figures";
 import { FakeClock, arxStructureFor } from "../tracking/helpers";
@@ -174,7 +175,7 @@ function summarise(list: { forecast: Forecast; truth: number | null }[], half: n
 }
 
 /** `runs` seeded runs of one scenario whose drift lasts `driftS` (default 10 h), read at half way. */
-export function forecastThroughTracker(kind: ForecastScenario, runs: number, seed: number, driftS = DRIFT_S): ForecastMc {
+export function forecastThroughTracker(kind: ForecastScenario, runs: number, seed: number, driftS = DRIFT_S, driftNoise?: DriftNoiseOption): ForecastMc {
   const half = driftS / 2;
   const now: { forecast: Forecast; truth: number | null }[] = [];
   const old: { forecast: Forecast; truth: number | null }[] = [];
@@ -191,7 +192,7 @@ export function forecastThroughTracker(kind: ForecastScenario, runs: number, see
     const cfg = sim.config;
     const tracker = new LoopTracker(
       testLoopConfig({ tag: cfg.tag, telemetryPeriodS: T, controllerPeriodS: T, estimationPeriodS: T, controller: cfg.controller, ...arxStructureFor(cfg.plant, T) }),
-      { clock },
+      { clock, ...(driftNoise ? { driftNoise } : {}) },
     );
     let forecast: Forecast = null;
     let tracking = false;
