@@ -6,10 +6,12 @@
  * regressor and instruments are those of the configured-structure plant estimator
  * (lib/control/riv.ts: the noise-free regressor of an auxiliary closed loop of the current plant
  * estimate, delayed set points until that runs; delayed MVs in manual), and it learns from the
- * same informative samples. `forecast` is undefined (the caller falls back to the trend of the
+ * same informative samples. The forecast takes the drift as one of the plant's gain, the rates of
+ * A(q) held at zero, unless the data reject that (lib/control/drift-restriction.ts). `forecast` is undefined (the caller falls back to the trend of the
  * radius history) while the window spans less than 10 estimator memories, or its sums are singular.
  */
 import { driftCrossing } from "@/lib/control/drift-crossing";
+import { restrictPoleDrift } from "@/lib/control/drift-restriction";
 import { shiftIn } from "@/lib/control/lag-vector";
 import { LinearDriftIv } from "@/lib/control/parameter-drift";
 import { OPEN_AUX_MIN_PER_PARAMETER } from "@/lib/control/riv";
@@ -121,7 +123,8 @@ export class RadiusDrift {
     try {
       const est = this.fit.estimate();
       if (!est || est.t - est.tFirst < 10 * this.o.memoryS) return undefined;
-      const f = driftCrossing(est, this.o, controller);
+      // a drift of the gain (B) unless the rates of A are significant (drift-restriction.ts)
+      const f = driftCrossing(restrictPoleDrift(est, this.o.na).estimate, this.o, controller);
       if (!f) return null;
       if (![f.at, f.low, f.high].every(Number.isFinite)) return undefined;
       return { at: Math.round(f.at * 1000), low: Math.round(f.low * 1000), high: Math.round(f.high * 1000) };
