@@ -6,6 +6,8 @@
  * residuals of the last `memories` estimator memories, the harness's ramp, gain creep and no-drift
  * runs (tests/control/forecast-tracker-mc.ts) with Wilson 95 % intervals, then the tracker's cost
  * per sample with that noise model (tests/bench/tracker-drift-cost.ts). Prints; asserts nothing.
+ * Order 0: the default tracker alone, e.g. `npm run bench:drift-noise -- 0 0 40000 80` for the
+ * coverage table's tracker rows on another seed base.
  */
 import { forecastThroughTracker } from "../control/forecast-tracker-mc";
 import { wilson } from "./coverage-table";
@@ -14,7 +16,7 @@ import { printDriftCost } from "./tracker-drift-cost";
 const [order = 12, memories = 8, seed = 9100, runs = 80] = process.argv.slice(2).map(Number);
 const pct = (x: number) => (100 * x).toFixed(1);
 const band = (p: number, n: number) => `[${wilson(p, n).map(pct).join("-")}]`;
-for (const o of [0, order]) {
+for (const o of order > 0 ? [0, order] : [0]) {
   for (const kind of ["linear-radius", "gain-creep", "no-drift"] as const) {
     const m = forecastThroughTracker(kind, runs, seed, undefined, o > 0 ? { order: o, memories } : undefined);
     const head = `noise order ${o}${o ? `, ${memories} memories` : ""}, seed base ${seed}, ${kind}:`;
