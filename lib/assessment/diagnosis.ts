@@ -146,7 +146,9 @@ export function diagnose(x: DiagnosisInput): Diagnosis {
     const order = x.loadOrValve;
     if (order?.reading === "load") {
       // An abrupt outside load passes the stick-slip tests too; the order of cause and effect decides.
-      return { label: "external-disturbance", confidence: clamp(0.55 + Math.abs(order.asymmetry!)), evidence: [`likely an outside load that switches abruptly: ${order.line}`, oscLine, ...x.stiction.evidence] };
+      const tests = x.stiction.evidence.filter((e) => !e.startsWith("likely "));
+      if (x.stiction.verdict === "likely") tests.unshift("the stiction tests alone point to a stick-slip cycle, whose PV jumps and MV ramps an outside load that switches abruptly also gives");
+      return { label: "external-disturbance", confidence: clamp(0.55 + Math.abs(order.asymmetry!)), evidence: [`likely an outside load that switches abruptly: ${order.line}`, oscLine, ...tests] };
     }
     if (x.stiction.verdict === "likely") {
       return { label: "valve-stiction", confidence: stictionConfidence(x, 0.6), evidence: [...x.stiction.evidence.slice(0, 1), oscLine, ...x.stiction.evidence.slice(1), ...orderLine(x)] };

@@ -169,8 +169,8 @@ export function loadOrValve(input: LoadOrValveInput): LoadOrValveFigures {
   const clock = lengthCv <= CLOCK_CV;
   const reading: LoadOrValveReading =
     clock && t <= -ASYMMETRY_T && mean <= LOAD_ASYMMETRY ? "load" : clock && t <= -ASYMMETRY_T && mean <= LEAN_ASYMMETRY ? "leans-load" : t >= ASYMMETRY_T && mean >= -LOAD_ASYMMETRY ? "valve" : "neutral";
-  const figures = `time asymmetry ${fmt(mean)} over ${n} half-cycles, t ${fmt(t, 1)}; their lengths vary by ${fmt(100 * lengthCv, 0)} %`;
-  const source = "a linear cycle is time-reversible (Weiss 1975); a sticking valve slips only after MV has crossed its band (Choudhury et al. 2005)";
+  const figures = `time asymmetry ${fmt(mean)} over ${n} half-cycles, t ${fmt(t, 1)}; the times between jumps vary by ${fmt(100 * lengthCv, 0)} %`;
+  const source = "a linear cycle is time-reversible, Weiss 1975; a sticking valve slips only after MV has crossed its band, Choudhury et al. 2005";
   const line = {
     load: `the error jumps away from the set point and then decays within each half-cycle, and the half-cycles repeat like a clock (${figures}): a load that switches abruptly on its own schedule and that the loop then removes, not a valve that slips when MV has ramped through its band (${source})`,
     "leans-load": `the error's half-cycles lean toward jump-then-decay and repeat like a clock, marks of an abrupt outside load (${figures}; ${source})`,
