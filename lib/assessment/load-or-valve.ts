@@ -96,8 +96,8 @@ const LEAN_ASYMMETRY = -0.05;
 /** The mean must differ from zero by this many standard errors (as the shape test's t >= 3, ours). */
 const ASYMMETRY_T = 3;
 /**
- * Coefficient of variation of the half-cycle lengths at or below which the cycle repeats like a
- * clock (ours; a half-cycle regularity in the sense of Thornhill et al. 2003 of at least 2.2).
+ * Coefficient of variation of the times between jumps at or below which (with two standard
+ * errors added) the cycle repeats like a clock (ours).
  * Square-wave loads varied by 0-6 % on the cross-check set and 0-3 % in the tests; sticking
  * valves under random loads by 12 % and more (cross-check set, He et al.'s valve model) and 14 %
  * and more (tests, Choudhury et al.'s).
@@ -166,7 +166,9 @@ export function loadOrValve(input: LoadOrValveInput): LoadOrValveFigures {
   const t = se > 0 ? mean / se : mean === 0 ? 0 : mean * Infinity;
   const [meanLength, sdLength] = meanSd(lengths);
   const lengthCv = sdLength / meanLength;
-  const clock = lengthCv <= CLOCK_CV;
+  // Its sampling error, about cv/√(2k) for k intervals (normal data; from memory), counts against
+  // a clock: a few intervals of a stick-slip cycle can vary little by chance (live windows).
+  const clock = lengthCv * (1 + 2 / Math.sqrt(2 * lengths.length)) <= CLOCK_CV;
   const reading: LoadOrValveReading =
     clock && t <= -ASYMMETRY_T && mean <= LOAD_ASYMMETRY ? "load" : clock && t <= -ASYMMETRY_T && mean <= LEAN_ASYMMETRY ? "leans-load" : t >= ASYMMETRY_T && mean >= -LOAD_ASYMMETRY ? "valve" : "neutral";
   const figures = `time asymmetry ${fmt(mean)} over ${n} half-cycles, t ${fmt(t, 1)}; the times between jumps vary by ${fmt(100 * lengthCv, 0)} %`;
