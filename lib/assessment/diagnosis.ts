@@ -8,6 +8,7 @@
  * unless a source is named; all figures are scale-free (shares, ratios, correlations, periods
  * relative to the loop's own time scale), so the rules do not depend on units or tags.
  */
+import type { LoadOrValveFigures } from "./load-or-valve";
 import { fmt } from "./oscillation";
 import type { SensorFigures } from "./sensor";
 import { isLine, type SpectralLine } from "./spectral-line";
@@ -31,6 +32,8 @@ export interface DiagnosisInput {
   oscillationInManual: boolean | null;
   spOscillates: boolean;
   stiction: StictionFigures & { curveFitIndex: number | null; modelFitRatio?: number | null };
+  /** Order of cause and effect within the error's half-cycles (load-or-valve.ts); null when not run. */
+  loadOrValve?: LoadOrValveFigures | null;
   compressed: boolean;
   harrisIndex: number | null;
   idleIndex: number | null;
@@ -140,8 +143,15 @@ export function diagnose(x: DiagnosisInput): Diagnosis {
     if (x.spOscillates) {
       return { label: "external-disturbance", confidence: 0.7, evidence: ["likely an oscillation from outside: the set point itself oscillates (e.g. from a master loop)", oscLine] };
     }
+    const order = x.loadOrValve;
+    if (order?.reading === "load") {
+      // An abrupt outside load passes the stick-slip tests too; the order of cause and effect decides.
+      const tests = x.stiction.evidence.filter((e) => !e.startsWith("likely "));
+      if (x.stiction.verdict === "likely") tests.unshift("the stiction tests alone point to a stick-slip cycle, whose PV jumps and MV ramps an outside load that switches abruptly also gives");
+      return { label: "external-disturbance", confidence: clamp(0.55 + Math.abs(order.asymmetry!)), evidence: [`likely an outside load that switches abruptly: ${order.line}`, oscLine, ...tests] };
+    }
     if (x.stiction.verdict === "likely") {
-      return { label: "valve-stiction", confidence: stictionConfidence(x, 0.6), evidence: [...x.stiction.evidence.slice(0, 1), oscLine, ...x.stiction.evidence.slice(1)] };
+      return { label: "valve-stiction", confidence: stictionConfidence(x, 0.6), evidence: [...x.stiction.evidence.slice(0, 1), oscLine, ...x.stiction.evidence.slice(1), ...orderLine(x)] };
     }
     const sustained = persistence !== null && persistence > SUSTAINED;
     if (isLine(x.spectralLine) && !sustained) {
@@ -166,8 +176,8 @@ export function diagnose(x: DiagnosisInput): Diagnosis {
     };
   }
   if (x.ringDepth !== null && x.ringDepth < -0.15) {
-    if (x.stiction.verdict === "likely") {
-      return { label: "valve-stiction", confidence: stictionConfidence(x, 0.5), evidence: [...x.stiction.evidence.slice(0, 1), `irregular cycles of about ${fmt(osc.periodS, 1)} s`, ...x.stiction.evidence.slice(1)] };
+    if (x.stiction.verdict === "likely" && x.loadOrValve?.reading !== "load") {
+      return { label: "valve-stiction", confidence: stictionConfidence(x, 0.5), evidence: [...x.stiction.evidence.slice(0, 1), `irregular cycles of about ${fmt(osc.periodS, 1)} s`, ...x.stiction.evidence.slice(1), ...orderLine(x)] };
     }
   }
   if (isLine(x.spectralLine)) {
@@ -229,6 +239,10 @@ function lineLine(l: SpectralLine): string {
   return `likely a periodic disturbance from outside: the error carries a spectral line at ${fmt(l.periodS, 1)} s (${fmt(l.ratio, 0)}× its neighbours, ${pct(l.share)} of the variance); a loop's own mode under random disturbances gives a broad peak, not a line (Fisher's periodogram test, 1929)`;
 }
 
+function orderLine(x: DiagnosisInput): string[] {
+  return x.loadOrValve?.line ? [x.loadOrValve.line] : [];
+}
+
 /** Higher with a more triangular shape; lower when the cross-correlation reads even. */
 function stictionConfidence(x: DiagnosisInput, base: number): number {
   const shape = Math.max(-0.1, (x.stiction.curveFitIndex ?? 0.6) - 0.6);
@@ -236,7 +250,9 @@ function stictionConfidence(x: DiagnosisInput, base: number): number {
   const ratio = x.stiction.modelFitRatio ?? 1;
   const model = ratio <= 0.95 ? Math.min(0.25, 0.05 + (0.95 - ratio)) : 0;
   const even = x.stiction.evidence.some((e) => e.includes("reads even"));
-  return clamp(base + shape + model - (even ? 0.1 : 0));
+  // The half-cycles' order (load-or-valve.ts): build-up then release confirms, a lean toward jump-then-decay tempers.
+  const order = x.loadOrValve?.reading;
+  return clamp(base + shape + model - (even ? 0.1 : 0) + (order === "valve" ? 0.05 : order === "leans-load" ? -0.1 : 0));
 }
 
 function pct(v: number): string {

@@ -6,6 +6,7 @@
 import { countExcitation, disturbanceResponse, disturbanceTimeConstantS, estimationFactor, ownClosedLoopPoles } from "./closed-loop";
 import { detectCompression } from "./compression";
 import { integralTime, isIntegrating, type LoopConfig } from "./config";
+import { loadOrValve } from "./load-or-valve";
 import { diagnose } from "./diagnosis";
 import { harrisIndex } from "./harris";
 import { countLoadDisturbances, detectOscillation, oscillatesAt } from "./oscillation";
@@ -103,6 +104,9 @@ export function assessLoop(input: readonly AssessSample[], config: LoopConfig): 
     outsideOscillation: oscillationInManual === true || spOscillates,
     mvLimits: [config.controller.mvLo, config.controller.mvHi],
   });
+
+  // Outside load or sticking valve: the order of cause and effect within the error's half-cycles.
+  const order = (osc.detected || ringing) && osc.periodS && !compression.compressed ? loadOrValve({ e: w.e, sp: w.sp, include, T: w.T, periodS: osc.periodS }) : null;
 
   // Harris index over constant-SP stretches.
   // The loop's time scale: its integral time, but no more than ten dead times when the dead time
@@ -203,6 +207,7 @@ export function assessLoop(input: readonly AssessSample[], config: LoopConfig): 
     oscillationInManual,
     spOscillates,
     stiction: { ...stiction, curveFitIndex: stiction.tests.curveFit.index, modelFitRatio: stiction.tests.modelFit.residualRatio },
+    loadOrValve: order,
     compressed: compression.compressed,
     harrisIndex: harris,
     idleIndex: idle?.index ?? null,
@@ -244,6 +249,7 @@ export function assessLoop(input: readonly AssessSample[], config: LoopConfig): 
       noiseBand: usage.noiseBand,
       compression,
       stictionTests: stiction.tests,
+      loadOrValve: order ? { reading: order.reading, asymmetry: order.asymmetry, tStat: order.tStat, lengthCv: order.lengthCv, halfCycles: order.halfCycles } : null,
       harris: harrisDetail,
       oscillationInManual,
       dominantPeriodS: osc.periodS,

@@ -156,7 +156,7 @@ export function curveFitIndex(x: Float64Array, periodSamples: number): { index: 
 }
 
 /** Longest run of included samples, as [start, end). */
-function longestRun(include: Uint8Array): [number, number] {
+export function longestRun(include: Uint8Array): [number, number] {
   let best: [number, number] = [0, 0];
   let start = -1;
   for (let i = 0; i <= include.length; i++) {

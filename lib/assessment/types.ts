@@ -98,6 +98,8 @@ export interface AssessmentDetails {
   compression: CompressionFigures;
   /** Horch 1999 cross-correlation test and He et al. 2007 curve-fit test. */
   stictionTests: StictionTests;
+  /** Outside load or sticking valve (load-or-valve.ts): mean time asymmetry of the error's half-cycles (negative: jump then decay; positive: build-up then release), its t, the coefficient of variation of their lengths (small: clock-like) and their count; null when not oscillating or ringing. */
+  loadOrValve: { reading: "load" | "leans-load" | "valve" | "neutral" | "withheld"; asymmetry: number | null; tStat: number | null; lengthCv: number | null; halfCycles: number } | null;
   /** Harris index inputs: delay b in samples and the constant-SP samples used. */
   harris: { delaySamples: number; samplesUsed: number; periodS: number } | null;
   /** Oscillation also seen while the loop was in manual (Hägglund's outside-oscillation sign). */

@@ -2,9 +2,10 @@
  * A small closed-loop simulator for the assessment tests: a first-order-plus-dead-time (or
  * integrating) plant, discretised exactly for a zero-order hold (x+ = a x + (1 - a) K u,
  * a = e^{-T/τ}), a velocity-form PI, measurement noise, an AR(1) load disturbance, an optional
- * outside sinusoid, manual stretches and a sticking valve by the two-parameter data-driven model
- * of Choudhury, Thornhill & Shah (Control Eng. Practice 13, 2005; S = dead band + stick band,
- * J = slip jump; simplified from memory). Invented data, for tests only.
+ * outside sinusoid (on PV) or square-wave load (at the plant input), manual stretches and a
+ * sticking valve by the two-parameter data-driven model of Choudhury, Thornhill & Shah (Control
+ * Eng. Practice 13, 2005; S = dead band + stick band, J = slip jump; simplified from memory).
+ * Invented data, for tests only.
  */
 import { Prng } from "@/simulators/prng";
 import { parseLoopConfig, type AssessSample, type LoopConfig } from "@/lib/assessment";
@@ -24,6 +25,8 @@ export interface SimOptions {
   loadPole?: number;
   loadSigma?: number;
   sine?: { amplitude: number; periodS: number };
+  /** Square-wave load at the plant input (MV %), e.g. a feed switched between two rates. */
+  squareLoad?: { amplitude: number; periodS: number };
   stiction?: { S: number; J: number };
   /** [start, end) sample ranges in manual (MV held). */
   manual?: [number, number][];
@@ -89,7 +92,7 @@ export function simulateLoop(o: SimOptions): AssessSample[] {
     } else valve = u;
     prevU = u;
     uHist.push(valve);
-    const ud = uHist.shift()!;
+    const ud = uHist.shift()! + (o.squareLoad ? o.squareLoad.amplitude * Math.sign(Math.sin((2 * Math.PI * (k + 0.5) * T) / o.squareLoad.periodS)) : 0);
     if (o.integrating) x += (T * K * (ud - 50)) / tau;
     else x = a * x + (1 - a) * K * ud;
   }
