@@ -19,7 +19,9 @@
  *    zero crossings), and triangular needs the per-half-cycle indices above 0.5 by t >= 3.
  * 3. Stiction model fit (Jelali 2008; stiction-fit.ts), the second independent test; on integrating
  *    (level) loops also on coarser blocks, where a level's ramps between slips outgrow its
- *    measurement noise (Horch 2000's argument for integrating processes; stiction-integrating.ts).
+ *    measurement noise (Horch 2000's argument for integrating processes; stiction-integrating.ts);
+ *    on a level loop whose error does not ring, that coarse fit alone, over a twelfth of the
+ *    integral time (quietLevelStiction).
  *
  * The verdict is "likely" / "unlikely" / "undetermined", never certain: a valve travel test
  * (intrusive, with operations' consent) decides.
@@ -188,6 +190,31 @@ function longestRun(include: Uint8Array): [number, number] {
   return best;
 }
 
+/**
+ * An integrating (level) loop whose error neither oscillates nor rings: under random loads the
+ * stick-slip cycle of a level loop often has no dominant period (the ramp between two slips lasts
+ * until the integral action has moved the output through the band, which the loads speed up or
+ * slow down). The time scale of that cycle is the integral time, so the coarse model fit
+ * (stiction-integrating.ts) is run with 12 blocks per integral time (ours), and its clear reading
+ * within its guards makes the verdict `likely`; null (the usual "no cycle seen") otherwise.
+ */
+function quietLevelStiction(input: StictionInput, tiS: number, tests: StictionTests): StictionResult | null {
+  const [s, e] = longestRun(input.include);
+  const coarse = coarseLevelFit(input.mv.subarray(s, e), input.pv.subarray(s, e), tiS / input.T);
+  if (!coarse?.clear) return null;
+  const model = coarseFitTest(coarse);
+  tests.modelFit = model.figures;
+  tests.crossCorrelation.note = tests.curveFit.note = "no oscillation";
+  return {
+    verdict: "likely",
+    evidence: [
+      "likely valve stiction: a sticking valve explains the level markedly better than a linear one, though the error has no dominant cycle (a level loop's stick-slip ramps vary in length with the loads)",
+      `${model.line}; blocks of a twelfth of the integral time (${fmt(tiS, 1)} s), the time scale of the ramps between slips`,
+    ],
+    tests,
+  };
+}
+
 export function assessStiction(input: StictionInput): StictionResult {
   const tests: StictionTests = {
     crossCorrelation: { applicable: false, oddness: null, signal: input.integrating ? "pv-increments" : "pv", note: "" },
@@ -195,6 +222,10 @@ export function assessStiction(input: StictionInput): StictionResult {
     modelFit: { applicable: false, residualRatio: null, bandPct: null, jumpPct: null, note: "" },
   };
   const evidence: string[] = [];
+  if (!input.oscillating && input.integrating && input.ti !== null && !input.compressed && !input.outsideOscillation) {
+    const quiet = quietLevelStiction(input, input.ti, tests);
+    if (quiet) return quiet;
+  }
   if (!input.oscillating || input.periodS === null) {
     tests.crossCorrelation.note = tests.curveFit.note = tests.modelFit.note = "no oscillation";
     return { verdict: "unlikely", evidence: ["no limit cycle in the data, so no stick-slip cycle seen (a valve can still stick without cycling; a valve travel test decides)"], tests };
