@@ -183,6 +183,8 @@ export function diagnose(x: DiagnosisInput): Diagnosis {
   if (isLine(x.spectralLine)) {
     return { label: "external-disturbance", confidence: 0.6, evidence: [lineLine(x.spectralLine!), "the oscillation test did not fire: random disturbances of the loop mask the cycle in the time domain"] };
   }
+  // A level loop's stick-slip ramps without a dominant cycle (stiction.ts, quietLevelStiction).
+  if (x.stiction.verdict === "likely" && !(x.ringDepth !== null && x.ringDepth < -0.15)) return { label: "valve-stiction", confidence: stictionConfidence(x, 0.45), evidence: x.stiction.evidence };
   if (x.ringDepth !== null && x.ringDepth < -0.15) {
     if (x.ringDepth < AGGRESSIVE_RING) {
       return {

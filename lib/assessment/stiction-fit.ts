@@ -250,11 +250,14 @@ const BANDS = [0.1, 0.2, 0.3, 0.45, 0.6, 0.8, 1, 1.3, 1.7, 2.2, 2.8, 3.5, 4.5];
  * cancelled), so under random loads MV's lags predict PV through the load as well, which a
  * valve that holds still loses: the replacing fit can then show no gain even with the true valve
  * (seen in simulation). The nested fit asks whether the valve adds to what MV says.
+ *
+ * `blocksPerCycle`: how finely a cycle is block-averaged (24 by default; the coarser fit of
+ * integrating loops, stiction-integrating.ts, uses 12).
  */
-export function fitStictionModel(mv: Float64Array, pv: Float64Array, periodSamples: number, nested = false): StictionFitResult | null {
+export function fitStictionModel(mv: Float64Array, pv: Float64Array, periodSamples: number, nested = false, blocksPerCycle = 24): StictionFitResult | null {
   const n = Math.min(mv.length, pv.length);
   if (periodSamples < 8 || n < 6 * periodSamples) return null;
-  const d = Math.max(1, Math.floor(periodSamples / 24));
+  const d = Math.max(1, Math.floor(periodSamples / blocksPerCycle));
   let count = Math.floor(n / d);
   if (count < 200) return null;
   count = Math.min(count, MAX_FIT);

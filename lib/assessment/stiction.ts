@@ -17,6 +17,11 @@
  *    stiction, between undetermined (thresholds as published, from memory). Ours: half-cycles
  *    are found on the signal less its local mean over three periods (drifts no longer decide the
  *    zero crossings), and triangular needs the per-half-cycle indices above 0.5 by t >= 3.
+ * 3. Stiction model fit (Jelali 2008; stiction-fit.ts), the second independent test; on integrating
+ *    (level) loops also on coarser blocks, where a level's ramps between slips outgrow its
+ *    measurement noise (Horch 2000's argument for integrating processes; stiction-integrating.ts);
+ *    on a level loop whose error does not ring, that coarse fit alone, over a twelfth of the
+ *    integral time (quietLevelStiction).
  *
  * The verdict is "likely" / "unlikely" / "undetermined", never certain: a valve travel test
  * (intrusive, with operations' consent) decides.
@@ -25,6 +30,7 @@ import { fmt } from "./oscillation";
 import { findHalfCycles, fitShape, sineShape } from "./half-cycles";
 import { crossCovariance } from "./signal";
 import { fitStictionModel, readStictionFit, type StictionFitReading } from "./stiction-fit";
+import { COARSE_BLOCKS_PER_CYCLE, coarseLevelFit, type CoarseLevelFit } from "./stiction-integrating";
 import type { StictionFigures, StictionTests } from "./types";
 
 export interface StictionInput {
@@ -53,7 +59,7 @@ export interface StictionResult extends StictionFigures {
 /** Share of the stretch with the output at a limit above which the model fit is withheld (ours). */
 const MODEL_LIMIT_SHARE = 0.02;
 
-function modelFitTest(mv: Float64Array, pv: Float64Array, P: number, [lo, hi]: [number, number]): { figures: StictionTests["modelFit"]; line: string | null; reading: StictionFitReading | "withheld" } {
+function modelFitTest(mv: Float64Array, pv: Float64Array, P: number, [lo, hi]: [number, number], integrating: boolean): { figures: StictionTests["modelFit"]; line: string | null; reading: StictionFitReading | "withheld" } {
   const band = 0.005 * (hi - lo);
   let atLimit = 0;
   for (let i = 0; i < mv.length; i++) if (mv[i]! <= lo + band || mv[i]! >= hi - band) atLimit++;
@@ -66,6 +72,10 @@ function modelFitTest(mv: Float64Array, pv: Float64Array, P: number, [lo, hi]: [
   if (!fit) {
     figures.note = "too few cycles";
     return { figures, line: null, reading: "withheld" };
+  }
+  if (integrating && readStictionFit(fit) !== "clear") {
+    const coarse = coarseLevelFit(mv, pv, P);
+    if (coarse?.clear) return coarseFitTest(coarse);
   }
   figures.applicable = true;
   figures.residualRatio = fit.residualRatio;
@@ -84,6 +94,16 @@ function modelFitTest(mv: Float64Array, pv: Float64Array, P: number, [lo, hi]: [
         : reading === "implausible"
           ? `the model fit's best valve (S ${fmt(fit.bandPct, 2)} % of output, ${fmt(fit.slipsPerCycle, 2)} slips per cycle) ${fit.atEdge ? "has the largest band searched, beyond the output's swing" : "seldom moves"}: not a stick-slip cycle (${source})`
           : `a sticking valve (S ${fmt(fit.bandPct, 2)} %, J ${fmt(fit.jumpPct, 2)} % of output) explains ${(100 * gain).toFixed(0)} % of the residual variance a linear valve leaves, ${(100 * fit.chanceGain).toFixed(1)} % expected by chance${fit.noiseShare >= 0.1 ? `; PV's white measurement noise, which no valve explains, is about ${(100 * fit.noiseShare).toFixed(0)} % of that residual` : ""} (${source})`,
+  };
+}
+
+/** A clear gain of the coarse fit of an integrating loop (stiction-integrating.ts). */
+function coarseFitTest({ fit, cycleAmplitudePct }: CoarseLevelFit): { figures: StictionTests["modelFit"]; line: string; reading: StictionFitReading } {
+  const gain = 1 - fit.residualRatio;
+  return {
+    reading: "clear",
+    figures: { applicable: true, residualRatio: fit.residualRatio, bandPct: fit.bandPct, jumpPct: fit.jumpPct, note: `stick-slip explains PV over ${COARSE_BLOCKS_PER_CYCLE} blocks per cycle (integrating loop)` },
+    line: `on this integrating loop a sticking valve (S ${fmt(fit.bandPct, 2)} %, J ${fmt(fit.jumpPct, 2)} % of output, within the output cycle's amplitude of ${fmt(cycleAmplitudePct, 2)} %) explains ${(100 * gain).toFixed(0)} % of the residual variance a linear valve leaves over ${COARSE_BLOCKS_PER_CYCLE} blocks per cycle, where the level's ramps between slips outgrow its measurement noise; ${(100 * fit.chanceGain).toFixed(1)} % expected by chance (stiction model fit: Jelali 2008, model of Choudhury et al. 2005; coarse blocks for integrating loops after Horch 2000)`,
   };
 }
 
@@ -170,6 +190,31 @@ export function longestRun(include: Uint8Array): [number, number] {
   return best;
 }
 
+/**
+ * An integrating (level) loop whose error neither oscillates nor rings: under random loads the
+ * stick-slip cycle of a level loop often has no dominant period (the ramp between two slips lasts
+ * until the integral action has moved the output through the band, which the loads speed up or
+ * slow down). The time scale of that cycle is the integral time, so the coarse model fit
+ * (stiction-integrating.ts) is run with 12 blocks per integral time (ours), and its clear reading
+ * within its guards makes the verdict `likely`; null (the usual "no cycle seen") otherwise.
+ */
+function quietLevelStiction(input: StictionInput, tiS: number, tests: StictionTests): StictionResult | null {
+  const [s, e] = longestRun(input.include);
+  const coarse = coarseLevelFit(input.mv.subarray(s, e), input.pv.subarray(s, e), tiS / input.T);
+  if (!coarse?.clear) return null;
+  const model = coarseFitTest(coarse);
+  tests.modelFit = model.figures;
+  tests.crossCorrelation.note = tests.curveFit.note = "no oscillation";
+  return {
+    verdict: "likely",
+    evidence: [
+      "likely valve stiction: a sticking valve explains the level markedly better than a linear one, though the error has no dominant cycle (a level loop's stick-slip ramps vary in length with the loads)",
+      `${model.line}; blocks of a twelfth of the integral time (${fmt(tiS, 1)} s), the time scale of the ramps between slips`,
+    ],
+    tests,
+  };
+}
+
 export function assessStiction(input: StictionInput): StictionResult {
   const tests: StictionTests = {
     crossCorrelation: { applicable: false, oddness: null, signal: input.integrating ? "pv-increments" : "pv", note: "" },
@@ -177,6 +222,10 @@ export function assessStiction(input: StictionInput): StictionResult {
     modelFit: { applicable: false, residualRatio: null, bandPct: null, jumpPct: null, note: "" },
   };
   const evidence: string[] = [];
+  if (!input.oscillating && input.integrating && input.ti !== null && !input.compressed && !input.outsideOscillation) {
+    const quiet = quietLevelStiction(input, input.ti, tests);
+    if (quiet) return quiet;
+  }
   if (!input.oscillating || input.periodS === null) {
     tests.crossCorrelation.note = tests.curveFit.note = tests.modelFit.note = "no oscillation";
     return { verdict: "unlikely", evidence: ["no limit cycle in the data, so no stick-slip cycle seen (a valve can still stick without cycling; a valve travel test decides)"], tests };
@@ -237,7 +286,7 @@ export function assessStiction(input: StictionInput): StictionResult {
   // Model fit (Jelali 2008): does a valve that holds still until the output has moved by S
   // explain PV better than one that follows the output? Withheld when the output rests at a limit
   // (another way for the valve to hold still).
-  const model = modelFitTest(u, input.pv.subarray(s, e), P, input.mvLimits);
+  const model = modelFitTest(u, input.pv.subarray(s, e), P, input.mvLimits, input.integrating);
   tests.modelFit = model.figures;
   if (model.line) evidence.push(model.line);
   // The shape and the model fit are the two independent tests; the cross-correlation of MV and
