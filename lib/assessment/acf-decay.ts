@@ -22,8 +22,8 @@
  * increments correlate −0.5 at lag 1 and not beyond) from biasing b. The extrema are taken with a
  * hysteresis of max(2/√N, 0.05) (2/√N: twice the ACF's standard error under no correlation,
  * Bartlett; 0.05 ours, so the wiggles of a fast, well-damped mode, such as the ring of poles a
- * sampled dead time gives, are not read as the loop's swing). The figure is judged on R less one
- * standard deviation (Bartlett's formula), as the alarms judge a pole's radius.
+ * sampled dead time gives, are not read as the loop's swing). The diagnosis judges R less 1.645
+ * standard deviations (Bartlett's formula; about 95 % one-sided), so a short window makes no finding.
  */
 
 import { decimate } from "./closed-loop";

@@ -78,6 +78,12 @@ const NO_SWING = 0.08;
 const QUARTER_SWING = 0.5;
 const RELATIVE_RING_MIN = -0.2;
 /**
+ * The increments' swing must exceed quarter amplitude at about 95 % one-sided confidence: R less
+ * 1.645 standard deviations (normal quantile; common practice). A short live window gives a wide
+ * interval, so one noisy window makes no finding.
+ */
+const SWING_Z = 1.645;
+/**
  * Disturbance-response time constant, in dead times, below which the loop is not called sluggish
  * whatever the Harris index or the swing-back say: it removes what disturbs it within a few dead
  * times, as fast as SIMC's tight-to-smooth range (τc of one to a few θ; Skogestad 2003, from
@@ -202,8 +208,8 @@ export function diagnose(x: DiagnosisInput): Diagnosis {
   // aggressive, whatever its increments' swing (ours).
   const slowLoop = x.disturbanceTimeToDeadTime !== null && x.disturbanceTimeToDeadTime > SLUGGISH_TAU;
   const swing = x.acfDecay ?? null;
-  if (swing && !slowLoop && swing.ratio - swing.ratioSd >= QUARTER_SWING) {
-    const lo = swing.ratio - swing.ratioSd;
+  const lo = swing ? swing.ratio - SWING_Z * swing.ratioSd : 0;
+  if (swing && !slowLoop && lo >= QUARTER_SWING) {
     return {
       label: "aggressive-tuning",
       confidence: clamp(0.45 + (lo - QUARTER_SWING), 0.45, 0.75),
