@@ -74,7 +74,7 @@ export function dominantDecayRatio(poles: readonly Complex[]): number | null {
 }
 
 /** Block averages of x over d samples (anti-alias before decimation), only over fully included blocks. */
-function decimate(x: Float64Array, d: number): Float64Array {
+export function decimate(x: Float64Array, d: number): Float64Array {
   const m = Math.floor(x.length / d);
   const out = new Float64Array(m);
   for (let i = 0; i < m; i++) {

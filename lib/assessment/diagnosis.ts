@@ -2,7 +2,8 @@
  * From figures to one finding with its evidence. Order of the checks (common practice: rule out
  * what invalidates the others first): too little data -> sensor fault -> manual -> saturated ->
  * oscillation (from outside, stiction, tuning, outside again) -> ringing without a sustained
- * oscillation (aggressive: a deep dip, or one beyond quarter-amplitude damping) -> sluggish
+ * oscillation (aggressive: a deep dip, or one beyond quarter-amplitude damping) -> increments of
+ * the error that swing back less damped than quarter amplitude (Miao & Seborg 1999) -> sluggish
  * (Harris, no swing-back, disturbance time, idle index; not when disturbances are removed within
  * a few dead times) -> healthy. Every threshold is ours
  * unless a source is named; all figures are scale-free (shares, ratios, correlations, periods
@@ -12,6 +13,7 @@ import type { LoadOrValveFigures } from "./load-or-valve";
 import { fmt } from "./oscillation";
 import type { SensorFigures } from "./sensor";
 import { isLine, type SpectralLine } from "./spectral-line";
+import type { AcfDecay } from "./acf-decay";
 import type { Diagnosis, StictionFigures } from "./types";
 
 export interface DiagnosisInput {
@@ -47,6 +49,8 @@ export interface DiagnosisInput {
   noisePct: number;
   /** Strongest spectral line of the error (spectral-line.ts). */
   spectralLine: SpectralLine | null;
+  /** Miao–Seborg ACF decay ratio of the differenced error (acf-decay.ts), null without a full swing. */
+  acfDecay?: AcfDecay | null;
 }
 
 /** Per-period ACF ratio above which an oscillation counts as sustained (a damped mode decays). */
@@ -76,6 +80,12 @@ const NO_SWING = 0.08;
  */
 const QUARTER_SWING = 0.5;
 const RELATIVE_RING_MIN = -0.2;
+/**
+ * The increments' swing must exceed quarter amplitude at about 95 % one-sided confidence: R less
+ * 1.645 standard deviations (normal quantile; common practice). A short live window gives a wide
+ * interval, so one noisy window makes no finding.
+ */
+const SWING_Z = 1.645;
 /**
  * Disturbance-response time constant, in dead times, below which the loop is not called sluggish
  * whatever the Harris index or the swing-back say: it removes what disturbs it within a few dead
@@ -203,6 +213,23 @@ export function diagnose(x: DiagnosisInput): Diagnosis {
         ],
       };
     }
+  }
+  // Damping from the differenced error (acf-decay.ts): judged on R less one standard deviation,
+  // so a poorly determined swing makes no finding; the confidence rises with that lower bound.
+  // A loop that takes more than SLUGGISH_TAU dead times to remove its disturbances is not
+  // aggressive, whatever its increments' swing (ours).
+  const slowLoop = x.disturbanceTimeToDeadTime !== null && x.disturbanceTimeToDeadTime > SLUGGISH_TAU;
+  const swing = x.acfDecay ?? null;
+  const lo = swing ? swing.ratio - SWING_Z * swing.ratioSd : 0;
+  if (swing && !slowLoop && lo >= QUARTER_SWING) {
+    return {
+      label: "aggressive-tuning",
+      confidence: clamp(0.45 + (lo - QUARTER_SWING), 0.45, 0.75),
+      evidence: [
+        `likely aggressive tuning: after each disturbance the error swings back with a decay ratio of about ${fmt(swing.decayRatio)} per period of ${fmt(swing.periodS, 0)} s, less damped than quarter amplitude (autocorrelation decay ratio of the error's increments R = ${fmt(swing.ratio)} ± ${fmt(swing.ratioSd)}, 0.5 at quarter amplitude; Miao & Seborg 1999)`,
+        ...x.stiction.evidence,
+      ],
+    };
   }
   if (stopToStop && x.saturation > 0.2) {
     return {

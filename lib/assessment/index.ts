@@ -3,6 +3,7 @@
  * a window of samples into the report of the `assess` command. The methods and their sources are
  * named in each file and in docs/assessment.md.
  */
+import { differencedErrorDecay } from "./acf-decay";
 import { countExcitation, disturbanceResponse, disturbanceTimeConstantS, estimationFactor, ownClosedLoopPoles } from "./closed-loop";
 import { detectCompression } from "./compression";
 import { integralTime, isIntegrating, type LoopConfig } from "./config";
@@ -172,6 +173,7 @@ export function assessLoop(input: readonly AssessSample[], config: LoopConfig): 
   if (!own) cautions.push("The loop's own closed-loop poles need set-point moves (or output moves in manual); routine data at a constant set point do not identify them.");
   const dist = disturbanceResponse(w.e, stretches, w.T, config.samplePeriodS, d);
   const distTau = disturbanceTimeConstantS(dist, config.samplePeriodS);
+  const acfDecay = differencedErrorDecay(w.e, stretches, w.T, d, usage.pvNoisePct);
   const distTauToDead = distTau !== null && dead !== null && dead > 0 ? distTau / dead : null;
   if (dist) cautions.push("disturbanceResponse: poles of an AR model of the control error in routine operation; they mix the loop's response with the disturbance's own dynamics and are not the loop's poles.");
 
@@ -216,6 +218,7 @@ export function assessLoop(input: readonly AssessSample[], config: LoopConfig): 
     ringDepth: periodSamples ? ringDepth : null,
     overshoot,
     spectralLine: line,
+    acfDecay,
     noisePct: usage.pvNoisePct,
   });
 
@@ -259,6 +262,7 @@ export function assessLoop(input: readonly AssessSample[], config: LoopConfig): 
       spectralLine: line ? { periodS: line.periodS, ratio: line.ratio, share: line.share } : null,
       disturbanceDecayRatio: dist?.decayRatio ?? null,
       disturbanceTimeToDeadTime: distTauToDead,
+      acfDecay: acfDecay ? { ratio: acfDecay.ratio, decayRatio: acfDecay.decayRatio, periodS: acfDecay.periodS, depth: acfDecay.depth, ratioSd: acfDecay.ratioSd } : null,
       errorAcf: Array.from(acf.subarray(0, Math.min(acf.length, 400)), (v) => Math.round(v * 1e4) / 1e4),
     },
   };

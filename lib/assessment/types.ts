@@ -116,6 +116,8 @@ export interface AssessmentDetails {
   spectralLine: { periodS: number; ratio: number; share: number } | null;
   /** Decay ratio of the dominant disturbance-response pole (period-invariant), null when real. */
   disturbanceDecayRatio: number | null;
+  /** Miao–Seborg autocorrelation decay ratio of the differenced error (acf-decay.ts): R ≈ √DR, 0.5 = quarter amplitude; null without a full swing. */
+  acfDecay?: { ratio: number; decayRatio: number; periodS: number; depth: number; ratioSd: number } | null;
   /** Time constant of the slowest disturbance-response pole over the configured dead time (null without a dead time): about 1–3 for tuning at τc = θ to a few θ (Skogestad 2003). */
   disturbanceTimeToDeadTime: number | null;
   /** Autocorrelation of the control error (first lags, at analysisPeriodS), for the evidence plot. */
