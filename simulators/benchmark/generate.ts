@@ -91,8 +91,13 @@ export function benchmarkPlan(): PlanEntry[] {
   return out;
 }
 
-export function recordingSeed(set: BenchSet, index: number): number {
-  return deriveSeed(BASE_SEED[set], `recording-${index}`);
+/**
+ * The seed of one recording. `studyBase` replaces the set's base seed: a study set drawn like the
+ * others from a base of one's own (`npm run bench:assess -- --study N`), for looking at many more
+ * cases of one failure mode than DEV holds without touching FROZEN or HOLDOUT.
+ */
+export function recordingSeed(set: BenchSet, index: number, studyBase?: number): number {
+  return deriveSeed(studyBase ?? BASE_SEED[set], `recording-${index}`);
 }
 
 const sig = (v: number, digits = 4) => Number(v.toPrecision(digits));
@@ -132,11 +137,13 @@ const COMPRESSIBLE = new Set<BenchLabel>(["healthy", "sluggish-tuning", "externa
  * definition (`auditRecording`: e.g. a sticking valve that never slipped) is drawn again from a
  * derived seed, up to REDRAWS times; `redraws` says how often, `auditProblems` what is left.
  */
-export function generateRecording(set: BenchSet, index: number): BenchRecording {
+export function generateRecording(set: BenchSet, index: number, studyBase?: number): BenchRecording {
   const plan = benchmarkPlan()[index];
   if (!plan) throw new RangeError(`no recording ${index} in the benchmark (0..${benchmarkPlan().length - 1})`);
-  let rec = drawRecording(set, plan, recordingSeed(set, index), 0);
-  for (let i = 1; i < REDRAWS && rec.auditProblems.length > 0; i++) rec = drawRecording(set, plan, deriveSeed(recordingSeed(set, index), `redraw-${i}`), i);
+  const seed = recordingSeed(set, index, studyBase);
+  let rec = drawRecording(set, plan, seed, 0);
+  for (let i = 1; i < REDRAWS && rec.auditProblems.length > 0; i++) rec = drawRecording(set, plan, deriveSeed(seed, `redraw-${i}`), i);
+  if (studyBase !== undefined) rec.id = rec.id.replace(`${set}-`, `study${studyBase}-`);
   return rec;
 }
 

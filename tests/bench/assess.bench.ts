@@ -7,6 +7,11 @@
  * of a few recordings through the `assess` command's files.
  *
  *   npm run bench:assess [-- --set dev|frozen|holdout|all] [--no-cli] [--misses]
+ *   npm run bench:assess -- --study N[,M...] [--label L] [--no-cli]
+ *
+ * `--study` draws DEV's plan from base seeds of one's own (never FROZEN's or HOLDOUT's), to look
+ * at many more cases of one failure mode than DEV holds; `--label` keeps one label's recordings.
+ * Study sets are for finding how a method fails; their misses are listed like DEV's.
  *
  * Targets (FROZEN and HOLDOUT): >= 85 % correct over the eight labels, no label below 70 %, verdicts with
  * confidence >= 0.8 right >= 80 % of the time, no oscillation on healthy or sluggish loops;
@@ -24,7 +29,7 @@ import { simcTuning } from "@/simulators/benchmark/tuning";
 import { pct, printAccuracy, printConfusion } from "./label-table";
 
 const { values: opts } = parseArgs({
-  options: { set: { type: "string", default: "all" }, "no-cli": { type: "boolean", default: false }, misses: { type: "boolean", default: false } },
+  options: { set: { type: "string", default: "all" }, "no-cli": { type: "boolean", default: false }, misses: { type: "boolean", default: false }, study: { type: "string" }, label: { type: "string" } },
 });
 
 interface Outcome {
@@ -41,10 +46,11 @@ interface Outcome {
   ms: number;
 }
 
-function runSet(set: BenchSet): Outcome[] {
+function runSet(set: BenchSet, studyBase?: number): Outcome[] {
   const out: Outcome[] = [];
   for (const p of benchmarkPlan()) {
-    const rec = generateRecording(set, p.index);
+    if (opts.label && p.label !== opts.label) continue;
+    const rec = generateRecording(set, p.index, studyBase);
     const cfg = parseLoopConfig(rec.config);
     const t0 = performance.now();
     const r = assessLoop(rec.samples, cfg);
@@ -66,8 +72,8 @@ function runSet(set: BenchSet): Outcome[] {
   return out;
 }
 
-function report(set: BenchSet, res: Outcome[]): void {
-  console.log(`\n=== ${set.toUpperCase()}: ${res.length} recordings ===`);
+function report(set: BenchSet, res: Outcome[], title = set.toUpperCase()): void {
+  console.log(`\n=== ${title}: ${res.length} recordings ===`);
   printAccuracy(res);
   const eight = res.filter((r) => r.label !== "undetermined");
   const okEight = eight.filter((r) => r.correct).length;
@@ -75,7 +81,7 @@ function report(set: BenchSet, res: Outcome[]): void {
   console.log(`overall, eight labels: ${okEight}/${eight.length} ${pct(okEight, eight.length)}; with borderline cases: ${okAll}/${res.length} ${pct(okAll, res.length)}`);
   const worst = Math.min(...LABELS.map((l) => {
     const rows = res.filter((r) => r.label === l);
-    return rows.filter((r) => r.correct).length / rows.length;
+    return rows.length ? rows.filter((r) => r.correct).length / rows.length : 1;
   }));
   console.log(`lowest label accuracy: ${(100 * worst).toFixed(0)} % (target >= 70 %)`);
 
@@ -102,13 +108,13 @@ function report(set: BenchSet, res: Outcome[]): void {
     [`confidence >= 0.8 right >= 80 %`, sure.length > 0 && sure.filter((r) => r.correct).length / sure.length >= 0.8],
     [`no oscillation on healthy/sluggish`, osc.length === 0],
   ] as const;
-  console.log(`targets (${set.toUpperCase()}): ${checks.map(([what, ok]) => `${what}: ${ok ? "met" : "NOT met"}`).join("; ")}`);
+  console.log(`targets (${title}): ${checks.map(([what, ok]) => `${what}: ${ok ? "met" : "NOT met"}`).join("; ")}`);
   const samples = res.reduce((s, r) => s + r.samples, 0);
   const ms = res.reduce((s, r) => s + r.ms, 0);
   console.log(`assessment time: ${(ms / 1000).toFixed(1)} s for ${(samples / 1e6).toFixed(2)} M samples (${((1000 * ms) / samples).toFixed(2)} µs per sample)`);
   if (set === "dev" || (opts.misses && set !== "holdout")) {
     const misses = res.filter((r) => !r.correct);
-    if (misses.length) console.log(`\nmisses (${set.toUpperCase()}):`);
+    if (misses.length) console.log(`\nmisses (${title}):`);
     for (const m of misses) console.log(`  ${m.id.padEnd(36)} -> ${m.verdict} (${m.confidence.toFixed(2)})  [${m.note}]`);
   }
 }
@@ -196,13 +202,17 @@ function cliRoundTrip(): void {
 }
 
 const started = performance.now();
-const sets: BenchSet[] = opts.set === "all" ? [...BENCH_SETS] : [opts.set as BenchSet];
+if (opts.label && !opts.study) throw new Error("--label is for study sets only (--study N)");
+const studyBases = opts.study ? opts.study.split(",").map((v) => Number(v)) : [];
+if (studyBases.some((b) => !Number.isInteger(b) || b < 0)) throw new Error(`--study takes non-negative integer base seeds (got ${opts.study})`);
+for (const b of studyBases) report("dev", runSet("dev", b), `STUDY (base ${b}${opts.label ? `, ${opts.label} only` : ""})`);
+const sets: BenchSet[] = studyBases.length ? [] : opts.set === "all" ? [...BENCH_SETS] : [opts.set as BenchSet];
 for (const s of sets) {
   if (!BENCH_SETS.includes(s)) throw new Error(`--set must be dev, frozen, holdout or all (got ${s})`);
   report(s, runSet(s));
 }
-speed();
-if (!opts["no-cli"]) {
+if (!studyBases.length) speed();
+if (!opts["no-cli"] && !studyBases.length) {
   console.log("\nround trip through `npm run -s assess -- FILE.csv --config LOOP.json --json`:");
   cliRoundTrip();
 }
