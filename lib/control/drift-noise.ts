@@ -11,7 +11,12 @@
  * not change the parameters: Phi(k)' x = y(k) - e(k) holds for every k, so
  * A_n(q) y = (A_n(q) Phi)' x + A_n(q) e for any fixed A_n; instruments filtered with any A_n stay
  * uncorrelated with the filtered noise, so blocks filtered with an older noise model may be summed
- * with newer ones (consistent; efficiency that of the models used).
+ * with newer ones (consistent; efficiency that of the models used). The first model waits for
+ * `settle` residual samples (a settled drift estimate: models fitted at estimates from one or two
+ * blocks made the whitened fit's rates noisier than the raw fit's while its covariance shrank, so
+ * the tracker's Wald test of the pole drift rejected in 6 of 80 runs of a gain drift against 0 of
+ * 80 raw; docs/domain.md §7), and the samples it keeps (raw phi, z, y) let the drift fit sum every
+ * sample since the start again through that first model instead of dropping them.
  * Levinson–Durbin: Box & Jenkins, *Time Series Analysis*, 1976, appendix A3.2 (from memory).
  */
 import { ControlArgumentError } from "./errors";
@@ -36,6 +41,12 @@ export function levinsonDurbin(r: ArrayLike<number>, p: number): Float64Array | 
   return a;
 }
 
+/** How the noise model is fitted (module doc). */
+export interface DriftNoiseFit {
+  /** Fewest kept residual samples before the first model (default 10 x order). */
+  settle?: number;
+}
+
 export class DriftNoiseModel {
   /** Current AR coefficients a_1..a_order (zeros: no filter yet). */
   readonly a: Float64Array;
@@ -49,13 +60,18 @@ export class DriftNoiseModel {
   private readonly ringPhi: Float64Array;
   private readonly ringY: Float64Array;
   private readonly ringJoined: Uint8Array;
+  /** Raw instruments (d, no time factor) and whether the sample was informative, per kept sample. */
+  private readonly ringZ: Float64Array;
+  private readonly ringInformative: Uint8Array;
+  /** Samples since the last reset (the ring holds all of them while this is <= `samples`). */
+  private seen = 0;
   private ringNext = 0;
   private ringCount = 0;
   private joined = false;
   /** Noise models fitted so far. */
   updates = 0;
 
-  constructor(private readonly d: number, readonly order: number, private readonly samples: number) {
+  constructor(private readonly d: number, readonly order: number, private readonly samples: number, private readonly how: DriftNoiseFit = {}) {
     if (!Number.isInteger(order) || order < 1) throw new ControlArgumentError(`noise order must be an integer >= 1, got ${order}`);
     if (!Number.isInteger(samples) || samples < 10 * order) throw new ControlArgumentError(`noise samples must be an integer >= 10 x order, got ${samples}`);
     const p = 2 * d;
@@ -67,15 +83,41 @@ export class DriftNoiseModel {
     this.ringPhi = new Float64Array(samples * d);
     this.ringY = new Float64Array(samples);
     this.ringJoined = new Uint8Array(samples);
+    this.ringZ = new Float64Array(samples * d);
+    this.ringInformative = new Uint8Array(samples);
   }
 
   reset(): void {
     this.a.fill(0);
+    this.updates = 0;
+    this.clearSamples();
+  }
+
+  /** Forget the kept samples and the filter's past, keep the model. */
+  clearSamples(): void {
     this.rawCount = 0;
     this.ringCount = 0;
     this.ringNext = 0;
     this.joined = false;
-    this.updates = 0;
+    this.seen = 0;
+  }
+
+  /** Whether the kept samples are every sample since the last reset. */
+  get keepsAll(): boolean {
+    return this.seen <= this.samples;
+  }
+
+  /** The kept raw samples, oldest first: time, phi and z (d each), y, informative, joined to the one before. */
+  kept(): { t: number; phi: Float64Array; z: Float64Array; y: number; informative: boolean; joined: boolean }[] {
+    const { d, samples } = this;
+    const n = this.ringCount;
+    const start = (this.ringNext - n + samples) % samples;
+    const out = [];
+    for (let k = 0; k < n; k++) {
+      const i = (start + k) % samples;
+      out.push({ t: this.ringT[i]!, phi: this.ringPhi.slice(i * d, i * d + d), z: this.ringZ.slice(i * d, i * d + d), y: this.ringY[i]!, informative: this.ringInformative[i] === 1, joined: k > 0 && this.ringJoined[i] === 1 });
+    }
+    return out;
   }
 
   /** A gap: the next sample has no past to filter with. */
@@ -89,12 +131,17 @@ export class DriftNoiseModel {
    * filtered Phi, Z into outPhi, outZ; returns the filtered y, or NaN while the filter has fewer
    * than `order` past samples since a gap (the sample then enters no sums).
    */
-  filter(t: number, phi: ArrayLike<number>, Phi: Float64Array, Z: Float64Array, y: number, outPhi: Float64Array, outZ: Float64Array): number {
+  filter(t: number, phi: ArrayLike<number>, Phi: Float64Array, Z: Float64Array, y: number, outPhi: Float64Array, outZ: Float64Array, informative = true): number {
     const { order, d } = this;
     const p = 2 * d;
     const i = this.ringNext;
     this.ringT[i] = t;
-    for (let j = 0; j < d; j++) this.ringPhi[i * d + j] = phi[j]!;
+    for (let j = 0; j < d; j++) {
+      this.ringPhi[i * d + j] = phi[j]!;
+      this.ringZ[i * d + j] = Z[j]!;
+    }
+    this.ringInformative[i] = informative ? 1 : 0;
+    this.seen++;
     this.ringY[i] = y;
     this.ringJoined[i] = this.joined ? 1 : 0;
     this.joined = true;
@@ -141,7 +188,7 @@ export class DriftNoiseModel {
   update(x: Float64Array, origin: number, window: number): boolean {
     const { d, order, samples } = this;
     const n = this.ringCount;
-    if (n < 10 * order) return false;
+    if (n < Math.max(10 * order, this.how.settle ?? 0)) return false;
     const e = new Float64Array(n);
     const joined = new Uint8Array(n);
     const start = (this.ringNext - n + samples) % samples;

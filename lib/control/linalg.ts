@@ -328,3 +328,24 @@ export function solveInto(A: Float64Array, b: Float64Array, d: number, work: Flo
   for (let i = 0; i < d; i++) if (!Number.isFinite(x[i]!)) return NaN;
   return minPivot / maxPivot;
 }
+
+/** k M S M' for p x p row-major M, S. */
+export function sandwich(M: Float64Array, S: Float64Array, p: number, k: number): Float64Array {
+  const MS = new Float64Array(p * p);
+  for (let i = 0; i < p; i++) {
+    for (let j = 0; j < p; j++) {
+      let v = 0;
+      for (let l = 0; l < p; l++) v += M[i * p + l]! * S[l * p + j]!;
+      MS[i * p + j] = v;
+    }
+  }
+  const out = new Float64Array(p * p);
+  for (let i = 0; i < p; i++) {
+    for (let j = 0; j < p; j++) {
+      let v = 0;
+      for (let l = 0; l < p; l++) v += MS[i * p + l]! * M[j * p + l]!;
+      out[i * p + j] = k * v;
+    }
+  }
+  return out;
+}

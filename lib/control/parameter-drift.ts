@@ -22,12 +22,12 @@
  * Sliding window in blocks: the sums are kept per block of `block` seconds and summed over the
  * blocks inside the window at `estimate`, so a sample costs O(d^2 lags) and nothing is ever
  * subtracted. Option `noise`: the data enter the sums whitened by an estimated AR noise model
- * refitted at every new block (./drift-noise.ts, refined IV). Time is counted from an origin in units of the window; when it grows past 4
+ * refitted at every new block (./drift-noise.ts, refined IV); the first one re-filters the samples kept since the start. Time is counted from an origin in units of the window; when it grows past 4
  * windows, every block's sums move to a new origin exactly (Z' = T Z, T = [[I, 0], [-c I, I]]).
  */
 import { ControlArgumentError } from "./errors";
-import { DriftNoiseModel } from "./drift-noise";
-import { solveInto } from "./linalg";
+import { DriftNoiseModel, type DriftNoiseFit } from "./drift-noise";
+import { sandwich, solveInto } from "./linalg";
 
 export interface LinearDriftOptions {
   /** Parameters of the constant model (na + nb). */
@@ -43,7 +43,7 @@ export interface LinearDriftOptions {
    * new block to the residuals of the last `samples` samples; the data enter the sums whitened by
    * it. Absent: none (the sums of the raw data).
    */
-  noise?: { order: number; samples: number };
+  noise?: { order: number; samples: number } & DriftNoiseFit;
 }
 
 /** The drift estimate at the last sample: theta there, its rate per second, and their joint covariance. */
@@ -118,6 +118,9 @@ export class LinearDriftIv {
   private readonly rawZ: Float64Array;
   private readonly fPhi: Float64Array;
   private readonly fZ: Float64Array;
+  /** The block whose end last refitted the noise model; whether kept samples are being replayed. */
+  private refitFor: Block | null = null;
+  private replaying = false;
 
   constructor(o: LinearDriftOptions) {
     if (!Number.isInteger(o.d) || o.d < 1) throw new ControlArgumentError(`d must be an integer >= 1, got ${o.d}`);
@@ -136,7 +139,7 @@ export class LinearDriftIv {
     this.work = new Float64Array(p * (p + 1));
     this.at = layout(p, lags + 1);
     this.closed = new Float64Array(this.at.size);
-    this.noise = o.noise ? new DriftNoiseModel(o.d, o.noise.order, o.noise.samples) : null;
+    this.noise = o.noise ? new DriftNoiseModel(o.d, o.noise.order, o.noise.samples, o.noise) : null;
     this.rawPhi = new Float64Array(p);
     this.rawZ = new Float64Array(p);
     this.fPhi = new Float64Array(p);
@@ -154,6 +157,7 @@ export class LinearDriftIv {
     this.closed.fill(0);
     this.origin = NaN;
     this.histCount = 0;
+    this.refitFor = null;
     this.noise?.reset();
   }
 
@@ -171,6 +175,11 @@ export class LinearDriftIv {
   add(t: number, phi: ArrayLike<number>, z: ArrayLike<number>, y: number, informative = true): void {
     if (!informative && !this.noise) return;
     const { d, p } = this;
+    const open = this.blocks[this.blocks.length - 1];
+    if (this.noise && !this.replaying && open && t >= open.start + this.blockS && this.refitFor !== open) {
+      this.refitFor = open;
+      this.refitNoise();
+    }
     if (!Number.isFinite(this.origin)) this.origin = t;
     if ((t - this.origin) / this.window > 4) this.rebase(t);
     const tau = (t - this.origin) / this.window;
@@ -184,12 +193,11 @@ export class LinearDriftIv {
       rP[d + i] = tau * phi[i]!;
     }
     if (this.noise) {
-      y = this.noise.filter(t, phi, rP, rZ, y, this.fPhi, this.fZ);
+      y = this.noise.filter(t, phi, rP, rZ, y, this.fPhi, this.fZ, informative);
       if (Number.isNaN(y) || !informative) return;
     }
     let b = this.blocks[this.blocks.length - 1];
     if (!b || t >= b.start + this.blockS) {
-      if (b && this.noise) this.refitNoise();
       b = { start: t, tFirst: t, tLast: t, sums: new Float64Array(this.at.size) };
       this.blocks.push(b);
       this.closedDirty = true;
@@ -251,12 +259,27 @@ export class LinearDriftIv {
     const first = this.noise!.updates === 0;
     // the raw (unwhitened) blocks' equation error is far larger than the whitened ones': summed
     // with them it would dominate the estimate and its covariance (a test: no gain at all), so the
-    // first noise model starts the sums afresh; later models differ little and are summed
-    if (this.noise!.update(x, this.origin, this.window) && first) {
-      this.blocks = [];
-      this.closed.fill(0);
-      this.closedDirty = false;
-      this.histCount = 0;
+    // first noise model restarts the sums; later models differ little and are summed
+    const noise = this.noise!;
+    if (!noise.update(x, this.origin, this.window) || !first) return;
+    this.blocks = [];
+    this.closed.fill(0);
+    this.closedDirty = false;
+    this.histCount = 0;
+    // with every sample since the start still kept, they are summed again through the new filter
+    // (nothing lost to the restart); otherwise the sums start afresh from here
+    if (!noise.keepsAll) return;
+    const kept = noise.kept();
+    noise.clearSamples();
+    this.replaying = true;
+    try {
+      for (const s of kept) {
+        if (!s.joined) this.gap();
+        this.add(s.t, s.phi, s.z, s.y, s.informative);
+      }
+    } finally {
+      this.replaying = false;
+      this.refitFor = this.blocks[this.blocks.length - 1] ?? null;
     }
   }
 
@@ -372,25 +395,4 @@ export class LinearDriftIv {
     this.noise?.rebase(vec);
     this.origin = t;
   }
-}
-
-/** k M S M' for p x p row-major M, S. */
-function sandwich(M: Float64Array, S: Float64Array, p: number, k: number): Float64Array {
-  const MS = new Float64Array(p * p);
-  for (let i = 0; i < p; i++) {
-    for (let j = 0; j < p; j++) {
-      let v = 0;
-      for (let l = 0; l < p; l++) v += M[i * p + l]! * S[l * p + j]!;
-      MS[i * p + j] = v;
-    }
-  }
-  const out = new Float64Array(p * p);
-  for (let i = 0; i < p; i++) {
-    for (let j = 0; j < p; j++) {
-      let v = 0;
-      for (let l = 0; l < p; l++) v += MS[i * p + l]! * M[j * p + l]!;
-      out[i * p + j] = k * v;
-    }
-  }
-  return out;
 }

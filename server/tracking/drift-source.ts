@@ -39,12 +39,16 @@ export interface RadiusDriftOptions {
 
 /**
  * The drift fit's estimated noise model (lib/control/drift-noise.ts): AR order and the residuals
- * it is fitted to, in estimator memories. Off by default (docs/domain.md §7: it did not help on
- * both seed bases); `npm run bench:drift-noise` compares.
+ * it is fitted to, in estimator memories; the first model after `settleMemories` (kept below
+ * `memories`: the kept samples must reach back to the start to be re-filtered). Off by default
+ * (docs/domain.md §7: the ramp stays below 80 % within ±15 % on both seed bases with it);
+ * `npm run bench:drift-noise` compares.
  */
 export interface DriftNoiseOption {
   order: number;
   memories: number;
+  /** Estimator memories of residuals before the first model (default 4: a settled drift estimate). */
+  settleMemories?: number;
 }
 
 export class RadiusDrift {
@@ -62,7 +66,8 @@ export class RadiusDrift {
   constructor(private readonly o: RadiusDriftOptions) {
     const d = (this.d = o.na + o.nb);
     const n = o.noise;
-    const noise = n && n.order > 0 ? { order: n.order, samples: Math.max(10 * n.order, Math.round((n.memories * o.memoryS) / o.T)) } : undefined;
+    const perMemory = o.memoryS / o.T;
+    const noise = n && n.order > 0 ? { order: n.order, samples: Math.max(10 * n.order, Math.round(n.memories * perMemory)), settle: Math.round(Math.max(0, Math.min(n.settleMemories ?? 4, n.memories - 1)) * perMemory) } : undefined;
     this.fit = new LinearDriftIv({ d, window: o.windowS, block: o.memoryS, lags: o.lags, ...(noise ? { noise } : {}) });
     this.aux = new AuxiliaryModel(o.na, o.nb, o.nk, o.controller, 0.995);
     this.hist = { y: new Float64Array(o.na), u: new Float64Array(o.nk + d + 1), r: new Float64Array(o.nk + d) };

@@ -20,9 +20,9 @@ const hasScipy = spawnSync("python3", ["-c", "import scipy.linalg"], { encoding:
  * of the true drifting model (open loop; the tracker's auxiliary-model instruments). Returns the
  * estimated rate of a and its sd.
  */
-function runOnce(seed: number, n: number, rate: number, order: number): { rate: number; sd: number; a: Float64Array; updates: number } {
+function runOnce(seed: number, n: number, rate: number, order: number, settle = 0): { rate: number; sd: number; a: Float64Array; updates: number; samples: number } {
   const rand = normal(mulberry32(seed));
-  const f = new LinearDriftIv({ d: 2, window: 10 * n, block: n / 10, lags: 3, ...(order > 0 ? { noise: { order, samples: n / 5 } } : {}) });
+  const f = new LinearDriftIv({ d: 2, window: 10 * n, block: n / 10, lags: 3, ...(order > 0 ? { noise: { order, samples: n / 5, settle } } : {}) });
   let y1 = 0, x1 = 0, u1 = 0, v1 = 0, v2 = 0;
   for (let k = 0; k < n; k++) {
     const v = 1.5 * v1 - 0.7 * v2 + 0.1 * rand();
@@ -38,7 +38,7 @@ function runOnce(seed: number, n: number, rate: number, order: number): { rate: 
     v1 = v;
   }
   const est = f.estimate()!;
-  return { rate: est.rate[0]!, sd: Math.sqrt(est.covariance[2 * 4 + 2]!), ...f.noiseModel };
+  return { rate: est.rate[0]!, sd: Math.sqrt(est.covariance[2 * 4 + 2]!), samples: est.samples, ...f.noiseModel };
 }
 
 describe("drift noise model", () => {
@@ -67,11 +67,11 @@ describe("drift noise model", () => {
   it("whitened by the estimated AR noise model, the drift rate's sd falls by 40 % or more under AR(2) equation noise, and its interval still covers about 95 %", () => {
     // 200 seeded runs of 4,000 samples each; binomial sd of a 95 % share over 200 runs is 1.5 points
     const runs = 200, n = 4000, truth = 4e-5;
-    const stats = (order: number) => {
+    const stats = (order: number, settle = 0) => {
       const errs: number[] = [];
       let covered = 0;
       for (let r = 0; r < runs; r++) {
-        const e = runOnce(7000 + r, n, truth, order);
+        const e = runOnce(7000 + r, n, truth, order, settle);
         errs.push(e.rate - truth);
         if (Math.abs(e.rate - truth) <= 1.959964 * e.sd) covered++;
       }
@@ -87,5 +87,28 @@ describe("drift noise model", () => {
     expect(white.coverage).toBeLessThan(0.985);
     // no bias: the mean error within 3 standard errors of zero
     expect(Math.abs(white.mean)).toBeLessThan((3 * white.sd) / Math.sqrt(runs));
+    // the first model only after 600 residual samples (a settled drift estimate, as the tracker's
+    // default, docs/domain.md §7; every sample since the start re-filtered): the same gain and an
+    // interval as well calibrated
+    const settled = stats(4, 600);
+    expect(settled.sd).toBeLessThan(0.6 * raw.sd);
+    expect(settled.coverage).toBeGreaterThan(0.91);
+    expect(settled.coverage).toBeLessThan(0.985);
+    expect(Math.abs(settled.mean)).toBeLessThan((3 * settled.sd) / Math.sqrt(runs));
+  });
+
+  it("the first model re-filters every sample kept since the start, so its restart of the sums loses none of them", () => {
+    // all 4,000 samples informative and joined: the window holds all but the filter's first `order`
+    // (arithmetic: the filter needs `order` past samples, so blocks of 400 start at samples 2, 402,
+    // ...); the first model at the first block boundary with 300 residuals kept (sample 402), then
+    // one at every later boundary: 9 models
+    const e = runOnce(4321, 4000, 4e-5, 2, 300);
+    expect(e.samples).toBe(4000 - 2);
+    expect(e.updates).toBe(9);
+    // the ring keeps 800 (n / 5): a first model at 802 samples, later than it reaches back, starts
+    // the sums afresh there (the filter keeps its past, so from that sample on): 4000 - 802
+    const late = runOnce(4321, 4000, 4e-5, 2, 700);
+    expect(late.updates).toBe(8);
+    expect(late.samples).toBe(4000 - 802);
   });
 });
