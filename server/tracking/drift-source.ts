@@ -51,6 +51,14 @@ export interface DriftNoiseOption {
   settleMemories?: number;
 }
 
+/**
+ * The tracker's default noise model for the drift fit: AR(12) on the last 8 memories' residuals,
+ * first fitted after 4 settled memories (docs/domain.md §7: within ±15 % and coverage through the
+ * tracker with and without it). Order 0 (`NO_DRIFT_NOISE`): none, the plain prefiltered fit.
+ */
+export const DEFAULT_DRIFT_NOISE: DriftNoiseOption = { order: 12, memories: 8 };
+export const NO_DRIFT_NOISE: DriftNoiseOption = { order: 0, memories: 0 };
+
 export class RadiusDrift {
   private readonly fit: LinearDriftIv;
   private readonly aux: AuxiliaryModel;

@@ -32,7 +32,7 @@ import { checkpointProblem, type TrackerCheckpoint } from "./checkpoint";
 import { PlantEstimation } from "./estimation";
 import { fillModelFigures, finite, radiusPoint, rimDoubt } from "./figures";
 import { FigureTrends } from "./trends";
-import type { DriftNoiseOption } from "./drift-source";
+import { DEFAULT_DRIFT_NOISE, type DriftNoiseOption } from "./drift-source";
 import { SignalConditioner } from "./conditioning";
 import { emptyState, validateConfig, type EmptyStateInput } from "./tracker-state";
 import type { LoopConfig } from "./types";
@@ -52,7 +52,7 @@ export interface LoopTrackerOptions {
   alarmDecayRatio?: (loopId: number) => number;
   /** Rim forecast from the plant parameters' drift (./drift-source.ts), the radius history's trend where that has none; false: the trend alone. Default true. */
   parameterDrift?: boolean;
-  /** The parameter drift's estimated noise model (./drift-source.ts); default none. */
+  /** The parameter drift's estimated noise model (./drift-source.ts); default DEFAULT_DRIFT_NOISE, NO_DRIFT_NOISE for none. */
   driftNoise?: DriftNoiseOption;
   /** Telemetry seconds between full state computations; default 1. */
   stateEveryS?: number;
@@ -110,7 +110,7 @@ export class LoopTracker {
     this.trends = new FigureTrends({ memory: this.memory, estimationPeriodS: this.estimationPeriodS, forecastWindowS, drift: () => this.est.driftForecast(this.controller) });
     this.alarmDecayRatio = options.alarmDecayRatio ?? (() => DEFAULT_POLICY.decayRatio.low);
     this.holdSamples = Math.max(this.memory, Math.ceil(HOLD_S / this.estimationPeriodS));
-    this.est = this.makeEstimation(options.parameterDrift ?? true, options.driftNoise);
+    this.est = this.makeEstimation(options.parameterDrift ?? true, options.driftNoise ?? DEFAULT_DRIFT_NOISE);
     this.state = emptyState(this.stateInput(), "learning", "waiting for telemetry");
   }
 

@@ -44,7 +44,7 @@ function run(data: SampleDto[], drift: boolean, driftNoise?: DriftNoiseOption): 
   return { ns, forecast: tracker.current.forecast?.radiusOne != null };
 }
 
-/** `driftNoise`: the drift fit's estimated noise model in the runs with the drift (default none). */
+/** `driftNoise`: the drift fit's estimated noise model in the runs with the drift (default the tracker's, DEFAULT_DRIFT_NOISE). */
 export function printDriftCost(driftNoise?: DriftNoiseOption): void {
   const data = samples();
   run(data, true, driftNoise);
