@@ -115,14 +115,20 @@ export function assessLoop(input: readonly AssessSample[], config: LoopConfig): 
   const dead = config.deadTimeS ?? null;
   const timeScale = (dead !== null && dead > 0 ? Math.max(dead, Math.min(ti ?? Infinity, 10 * dead)) : ti) ?? 10 * config.samplePeriodS;
   const minStretch = Math.max(50, Math.ceil((2 * timeScale) / w.T));
-  const stretches = constantSpStretches(w, Math.min(minStretch, Math.max(50, Math.floor(w.n / 4))));
+  const stretchLength = Math.min(minStretch, Math.max(50, Math.floor(w.n / 4)));
+  const stretches = constantSpStretches(w, stretchLength);
+  // The error's figures (Harris index, disturbance response, the increments' swing) on the
+  // constant-set-point stretches, or on all closed-loop stretches when the set point hardly ever
+  // stays put (a cascade slave's set point from its master).
+  const errorStretches = setPointWanders(w, stretches, closedCount) ? constantSpStretches(w, stretchLength, true) : stretches;
+  if (errorStretches !== stretches) cautions.push(SP_WANDER_CAUTION);
   let harris: LoopAssessmentReport["harrisIndex"] = null;
   let harrisDetail: LoopAssessmentReport["details"]["harris"] = null;
   if (config.deadTimeS === null || config.deadTimeS === undefined) cautions.push("No dead time configured: the Harris index needs it (dead time cannot be told from routine closed-loop data; take it from a step test).");
   else if (compression.compressed) cautions.push("Harris index withheld: compressed data bias variances.");
   else {
     const b = Math.floor(config.deadTimeS / w.T) + 1;
-    const h = harrisIndex(w.e, stretches, b);
+    const h = harrisIndex(w.e, errorStretches, b);
     if (h) {
       harris = h.index;
       harrisDetail = { delaySamples: h.delaySamples, samplesUsed: h.samplesUsed, periodS: w.T };
@@ -171,9 +177,9 @@ export function assessLoop(input: readonly AssessSample[], config: LoopConfig): 
     }
   }
   if (!own) cautions.push("The loop's own closed-loop poles need set-point moves (or output moves in manual); routine data at a constant set point do not identify them.");
-  const dist = disturbanceResponse(w.e, stretches, w.T, config.samplePeriodS, d);
+  const dist = disturbanceResponse(w.e, errorStretches, w.T, config.samplePeriodS, d);
   const distTau = disturbanceTimeConstantS(dist, config.samplePeriodS);
-  const acfDecay = differencedErrorDecay(w.e, stretches, w.T, d, usage.pvNoisePct);
+  const acfDecay = differencedErrorDecay(w.e, errorStretches, w.T, d, usage.pvNoisePct);
   const distTauToDead = distTau !== null && dead !== null && dead > 0 ? distTau / dead : null;
   if (dist) cautions.push("disturbanceResponse: poles of an AR model of the control error in routine operation; they mix the loop's response with the disturbance's own dynamics and are not the loop's poles.");
 
@@ -273,3 +279,24 @@ function stretchMask(n: number, stretches: readonly [number, number][]): Uint8Ar
   for (const [s, e] of stretches) m.fill(1, s, e);
   return m;
 }
+
+/**
+ * A set point that moves all the time (constant-set-point stretches cover less than a quarter of
+ * the closed-loop time; ours) leaves no stretch to judge the error on. The error's figures are
+ * then taken over the closed-loop stretches with the set point's moves counted as one more
+ * disturbance: e = S(q)(r − d) for set point r and disturbance d, and the first b terms of the
+ * error's impulse response are fixed by the delay whatever the controller, so the minimum-variance
+ * benchmark holds for the error as it does under constant set point (Harris 1989; Desborough &
+ * Harris 1992 assess the control error, set point included). The idle index stays on
+ * constant-set-point stretches: after a set-point move MV and PV move the same way under any
+ * tuning, which is what the index reads as sluggish (Hägglund 1999 evaluates it after load
+ * disturbances only).
+ */
+function setPointWanders(w: { n: number }, stretches: readonly [number, number][], closedCount: number): boolean {
+  let covered = 0;
+  for (const [s, e] of stretches) covered += e - s;
+  return closedCount > 0 && covered < 0.25 * closedCount && closedCount >= 0.25 * w.n;
+}
+
+const SP_WANDER_CAUTION =
+  "The set point moves nearly all the time (e.g. a cascade slave): the Harris index and the disturbance figures are taken on the control error with the set point's moves counted as one more disturbance; the idle index needs constant-set-point stretches.";

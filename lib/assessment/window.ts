@@ -128,11 +128,12 @@ export function isClosed(w: AssessWindow, i: number): boolean {
 
 /**
  * Stretches [start, end) of good, closed-loop samples with a constant set point (a move smaller
- * than 0.01 % of span is read as constant), at least `minLength` samples long.
+ * than 0.01 % of span is read as constant), at least `minLength` samples long. With
+ * `anySetPoint` the set point may move: stretches of good closed-loop samples only.
  */
-export function constantSpStretches(w: AssessWindow, minLength: number): [number, number][] {
+export function constantSpStretches(w: AssessWindow, minLength: number, anySetPoint = false): [number, number][] {
   const out: [number, number][] = [];
-  const tol = 1e-4 * w.pvSpan;
+  const tol = anySetPoint ? Infinity : 1e-4 * w.pvSpan;
   let start = -1;
   for (let i = 0; i <= w.n; i++) {
     const ok = i < w.n && w.good[i] === 1 && isClosed(w, i) && (start < 0 || Math.abs(w.sp[i]! - w.sp[start]!) <= tol);
