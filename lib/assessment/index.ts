@@ -104,6 +104,7 @@ export function assessLoop(input: readonly AssessSample[], config: LoopConfig): 
     compressed: compression.compressed,
     outsideOscillation: oscillationInManual === true || spOscillates,
     mvLimits: [config.controller.mvLo, config.controller.mvHi],
+    setPoint: { e: w.e, sp: w.sp, tol: 1e-4 * w.pvSpan },
   });
 
   // Outside load or sticking valve: the order of cause and effect within the error's half-cycles.

@@ -22,6 +22,10 @@
  *    measurement noise (Horch 2000's argument for integrating processes; stiction-integrating.ts);
  *    on a level loop whose error does not ring, that coarse fit alone, over a twelfth of the
  *    integral time (quietLevelStiction).
+ * 4. When the whole record's error neither oscillates nor rings but the set point moves, the
+ *    error's autocorrelation pooled over the constant-set-point stretches (stiction-setpoint.ts):
+ *    set-point steps' transients can hide a stick-slip cycle; when it rings there, the tests
+ *    above are asked at that period (ringsBetweenMoves).
  *
  * The verdict is "likely" / "unlikely" / "undetermined", never certain: a valve travel test
  * (intrusive, with operations' consent) decides.
@@ -31,6 +35,7 @@ import { findHalfCycles, fitShape, sineShape } from "./half-cycles";
 import { crossCovariance } from "./signal";
 import { fitStictionModel, readStictionFit, type StictionFitReading } from "./stiction-fit";
 import { COARSE_BLOCKS_PER_CYCLE, coarseLevelFit, type CoarseLevelFit } from "./stiction-integrating";
+import { setPointRinging } from "./stiction-setpoint";
 import type { StictionFigures, StictionTests } from "./types";
 
 export interface StictionInput {
@@ -50,6 +55,8 @@ export interface StictionInput {
   outsideOscillation: boolean;
   /** Output limits, % (the model fit is withheld when the output rests at one). */
   mvLimits: [number, number];
+  /** Control error and set point (engineering units) and the set point's tolerance: ringing between set-point moves (stiction-setpoint.ts). */
+  setPoint?: { e: Float64Array; sp: Float64Array; tol: number };
 }
 
 export interface StictionResult extends StictionFigures {
@@ -215,6 +222,29 @@ function quietLevelStiction(input: StictionInput, tiS: number, tests: StictionTe
   };
 }
 
+/** ACF depth below which the error counts as ringing (as in the assessment's own ringing test). */
+const RING_DEPTH = -0.15;
+
+/**
+ * The whole record's error neither oscillates nor rings, but the set point moves: set-point
+ * steps can hide a stick-slip cycle from that autocorrelation (stiction-setpoint.ts). When the
+ * error rings within the constant-set-point stretches, the usual tests are asked at that period,
+ * as on a ringing loop; only their `likely` counts (null otherwise: no cycle seen).
+ */
+function ringsBetweenMoves(input: StictionInput, sp: NonNullable<StictionInput["setPoint"]>): StictionResult | null {
+  const skip = input.ti !== null ? Math.ceil(input.ti / input.T) : 0;
+  const ring = setPointRinging(sp.e, sp.sp, input.include, sp.tol, skip);
+  if (!ring || ring.depth >= RING_DEPTH) return null;
+  const res = assessStiction({ ...input, setPoint: undefined, oscillating: true, ringingOnly: true, periodS: ring.periodSamples * input.T });
+  if (res.verdict !== "likely") return null;
+  res.evidence.splice(
+    1,
+    0,
+    `between set-point moves the error rings (autocorrelation dips to ${fmt(ring.depth)} at ${fmt((ring.periodSamples / 2) * input.T, 1)} s over ${ring.stretches} constant-set-point stretches, each less its first integral time of settling), which the set-point steps hide in the whole record; the tests were asked at a period of ${fmt(ring.periodSamples * input.T, 1)} s`,
+  );
+  return res;
+}
+
 export function assessStiction(input: StictionInput): StictionResult {
   const tests: StictionTests = {
     crossCorrelation: { applicable: false, oddness: null, signal: input.integrating ? "pv-increments" : "pv", note: "" },
@@ -225,6 +255,10 @@ export function assessStiction(input: StictionInput): StictionResult {
   if (!input.oscillating && input.integrating && input.ti !== null && !input.compressed && !input.outsideOscillation) {
     const quiet = quietLevelStiction(input, input.ti, tests);
     if (quiet) return quiet;
+  }
+  if (!input.oscillating && input.setPoint && !input.compressed && !input.outsideOscillation) {
+    const between = ringsBetweenMoves(input, input.setPoint);
+    if (between) return between;
   }
   if (!input.oscillating || input.periodS === null) {
     tests.crossCorrelation.note = tests.curveFit.note = tests.modelFit.note = "no oscillation";
