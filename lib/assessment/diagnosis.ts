@@ -193,7 +193,8 @@ export function diagnose(x: DiagnosisInput): Diagnosis {
   if (isLine(x.spectralLine)) {
     return { label: "external-disturbance", confidence: 0.6, evidence: [lineLine(x.spectralLine!), "the oscillation test did not fire: random disturbances of the loop mask the cycle in the time domain"] };
   }
-  // A level loop's stick-slip ramps without a dominant cycle (stiction.ts, quietLevelStiction).
+  // Stiction likely without a cycle in the whole record: a level loop's stick-slip ramps
+  // (stiction.ts, quietLevelStiction) or a cycle between set-point moves (ringsBetweenMoves).
   if (x.stiction.verdict === "likely" && !(x.ringDepth !== null && x.ringDepth < -0.15)) return { label: "valve-stiction", confidence: stictionConfidence(x, 0.45), evidence: x.stiction.evidence };
   if (x.ringDepth !== null && x.ringDepth < -0.15) {
     if (x.ringDepth < AGGRESSIVE_RING) {
@@ -214,7 +215,7 @@ export function diagnose(x: DiagnosisInput): Diagnosis {
       };
     }
   }
-  // Damping from the differenced error (acf-decay.ts): judged on R less one standard deviation,
+  // Damping from the differenced error (acf-decay.ts): judged on R less SWING_Z standard deviations,
   // so a poorly determined swing makes no finding; the confidence rises with that lower bound.
   // A loop that takes more than SLUGGISH_TAU dead times to remove its disturbances is not
   // aggressive, whatever its increments' swing (ours).

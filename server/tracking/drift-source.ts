@@ -40,9 +40,9 @@ export interface RadiusDriftOptions {
 /**
  * The drift fit's estimated noise model (lib/control/drift-noise.ts): AR order and the residuals
  * it is fitted to, in estimator memories; the first model after `settleMemories` (kept below
- * `memories`: the kept samples must reach back to the start to be re-filtered). Off by default
- * (docs/domain.md §7: the ramp stays below 80 % within ±15 % on both seed bases with it);
- * `npm run bench:drift-noise` compares.
+ * `memories`: the kept samples must reach back to the start to be re-filtered). The tracker's
+ * default is DEFAULT_DRIFT_NOISE below (docs/domain.md §7: better within ±15 % on all four rows
+ * than without it, though the ramp stays below 80 %); `npm run bench:drift-noise` compares.
  */
 export interface DriftNoiseOption {
   order: number;
