@@ -203,6 +203,7 @@ function cliRoundTrip(): void {
 
 const started = performance.now();
 if (opts.label && !opts.study) throw new Error("--label is for study sets only (--study N)");
+if (opts.label && !(LABELS as readonly string[]).includes(opts.label)) throw new Error(`--label must be one of ${LABELS.join(", ")} (got ${opts.label})`);
 const studyBases = opts.study ? opts.study.split(",").map((v) => Number(v)) : [];
 if (studyBases.some((b) => !Number.isInteger(b) || b < 0)) throw new Error(`--study takes non-negative integer base seeds (got ${opts.study})`);
 for (const b of studyBases) report("dev", runSet("dev", b), `STUDY (base ${b}${opts.label ? `, ${opts.label} only` : ""})`);
