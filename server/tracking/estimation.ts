@@ -14,7 +14,8 @@ import type { ArxModel, QTf } from "@/lib/control/types";
 import { NEVER, type EstimationInput, type TrackerCheckpoint } from "./checkpoint";
 import { PREFILTER_POLE, type SignalConditioner } from "./conditioning";
 import { DataOnlyModel } from "./data-model";
-import { RadiusDrift, type DriftNoiseOption } from "./drift-source";
+import type { RadiusDrift, DriftNoiseOption } from "./drift-source";
+import { RecordedDrift } from "./drift-checkpoint";
 import { choosePlant, plausibility, reducedOrderMisfit } from "./plant-choice";
 import { SampleGate, type GateContext } from "./sample-gate";
 import type { LoopConfig } from "./types";
@@ -49,8 +50,8 @@ export class PlantEstimation {
   plantReduced: InstrumentalArxEstimator | null;
   /** The data-only closed-loop model (./data-model.ts). */
   readonly data: DataOnlyModel;
-  /** The rim forecast's parameter drift, configured structure (./drift-source.ts). */
-  private readonly drift: RadiusDrift | null;
+  /** The rim forecast's parameter drift, configured structure (./drift-source.ts), with its checkpoint part (./drift-checkpoint.ts, stamped with `estimationSamples`). */
+  readonly drift: RecordedDrift | null;
   /**
    * The last plant model that passed the plausibility check, its covariance and when (estimation
    * samples); `misfit` (reduced-order plant only) widens its dominant pole's interval, null: no
@@ -94,7 +95,7 @@ export class PlantEstimation {
     this.data = new DataOnlyModel({ na: config.na, nb: config.nb, nk: config.nk, controller, forgetting: config.forgetting ?? 0.995, T: estimationPeriodS, closedLoopTimeS: config.controller.ti });
     this.gate = new SampleGate(config.na, config.nk + config.nb);
     const { na, nb, nk } = config;
-    this.drift = drift === null ? null : new RadiusDrift({ na, nb, nk, T: estimationPeriodS, memoryS: memory * estimationPeriodS, windowS: drift.windowS, controller, instrumentThreshold: INSTRUMENT_THRESHOLD_PCT, lags: na + prefilterNoiseLags(PREFILTER_POLE), ...(drift.noise ? { noise: drift.noise } : {}) });
+    this.drift = drift === null ? null : new RecordedDrift({ na, nb, nk, T: estimationPeriodS, memoryS: memory * estimationPeriodS, windowS: drift.windowS, controller, instrumentThreshold: INSTRUMENT_THRESHOLD_PCT, lags: na + prefilterNoiseLags(PREFILTER_POLE), ...(drift.noise ? { noise: drift.noise } : {}) }, () => this.estimationSamples);
   }
 
   /** The drift forecast of radius 1 under `controller` while the configured structure is reported; undefined otherwise (./drift-source.ts). */

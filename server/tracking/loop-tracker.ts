@@ -16,7 +16,7 @@
  *   re-discretised at Te (the plant model exists only at Te; decay ratio, damping and wn are
  *   period-invariant), and the assessment (lib/domain/assessment.ts); their histories and
  *   forecasts (./trends.ts);
- * - checkpoint (./checkpoint.ts): the estimator state across restarts.
+ * - checkpoint (./checkpoint.ts): the estimator state across restarts; the drift's (./drift-checkpoint.ts).
  * A full state is computed at most once per second of telemetry time (and on state changes).
  */
 import { InstrumentalArxEstimator } from "@/lib/control/riv";
@@ -29,6 +29,7 @@ import type { ArxModel, QTf } from "@/lib/control/types";
 import type { LoopStateDto, SampleDto, TrackerState } from "@/lib/domain/types";
 import type { Clock } from "../context";
 import { checkpointProblem, type TrackerCheckpoint } from "./checkpoint";
+import type { RecordedDrift } from "./drift-checkpoint";
 import { PlantEstimation } from "./estimation";
 import { fillModelFigures, finite, radiusPoint, rimDoubt } from "./figures";
 import { FigureTrends } from "./trends";
@@ -361,6 +362,11 @@ export class LoopTracker {
       radiusHistory: this.trends.radiusHistory.map((p) => ({ ...p })),
       prefilter: { prev: this.cond.prevSignals ? { ...this.cond.prevSignals } : null, filtered: { ...this.cond.filtered } },
     };
+  }
+
+  /** The rim forecast's drift and its part of a checkpoint (./drift-checkpoint.ts), null without one: taken right after `checkpoint()`, restored right after `restore`. */
+  get drift(): RecordedDrift | null {
+    return this.est.drift;
   }
 
   /**
