@@ -31,6 +31,7 @@ import {
 } from "./realtime/emitter";
 import { installWatch } from "./realtime/watch";
 import { TrackerRegistry } from "./tracking/registry";
+import { DriftCheckpointStore } from "./tracking/drift-store";
 import { BackfillHost } from "./backfill/host";
 import { startLiveAssessment, type LiveAssessmentService } from "./assessment/service";
 import { databaseStore, SparkplugHost } from "./sparkplug/host";
@@ -124,6 +125,9 @@ export async function startPipeline(
   // Resume: estimators from their checkpoints, sample order from the last stored states.
   const { entries, corrupt } = await loadCheckpoints(sequelize);
   const restore = registry.restore(entries.filter((e) => registry.get(e.loopId)));
+  // the rim forecast's drift, from its own part of the checkpoint (./tracking/drift-store.ts)
+  const driftStore = new DriftCheckpointStore(sequelize);
+  await driftStore.restore(registry, restore.restored);
   const lastStates = await loadLoopStates(sequelize);
   const lastStateByLoop = new Map(lastStates.map((s) => [s.loopId, s]));
 
@@ -231,9 +235,14 @@ export async function startPipeline(
   };
   const writeCheckpoint = async (): Promise<number> => {
     try {
-      const n = await saveCheckpoints(sequelize, registry.checkpoint(), ctx.clock.now());
+      // the drift parts are taken at the same moment as the checkpoints (a restore checks it)
+      const now = ctx.clock.now();
+      const states = registry.checkpoint();
+      const drift = driftStore.take(registry);
+      const n = await saveCheckpoints(sequelize, states, now);
       lastCheckpoint = { at: ctx.clock.now(), loops: n };
       checkpointError = null;
+      await driftStore.save(drift, now);
       return n;
     } catch (err) {
       checkpointError = err instanceof Error ? err.message : String(err);
@@ -327,7 +336,7 @@ export async function startPipeline(
             refusedAtStart: restore.refused,
             corruptCheckpoints: corrupt,
           },
-          checkpoint: { last: lastCheckpoint, error: checkpointError },
+          checkpoint: { last: lastCheckpoint, error: checkpointError, drift: driftStore.snapshot() },
         },
       };
     },

@@ -91,6 +91,11 @@ export class TrackerRegistry {
     return [...this.trackers.values()].map((t) => t.current);
   }
 
+  /** Every tracker with its loop and tenant. */
+  entries(): { loopId: number; tenantId: number; tracker: LoopTracker }[] {
+    return [...this.trackers.values()].map((t) => ({ loopId: t.config.id, tenantId: t.config.tenantId, tracker: t }));
+  }
+
   /** Serialisable estimator state of every loop. */
   checkpoint(): CheckpointEntry[] {
     return [...this.trackers.values()].map((t) => ({ loopId: t.config.id, tenantId: t.config.tenantId, state: t.checkpoint() }));

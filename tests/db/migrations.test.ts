@@ -28,6 +28,8 @@ const EXPECTED_TABLES = [
   "areas",
   "config_changes",
   "device_credentials",
+  "drift_checkpoint_chunks",
+  "drift_checkpoints",
   "estimator_checkpoints",
   "handover_confirmations",
   "history_backfills",

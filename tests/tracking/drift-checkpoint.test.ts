@@ -11,47 +11,13 @@
 import { describe, expect, it } from "vitest";
 import { LoopTracker } from "@/server/tracking/loop-tracker";
 import { forecastRadiusOne, radiusPoint } from "@/server/tracking/figures";
-import type { SampleDto } from "@/lib/domain/types";
-import { FakeClock, arxStructureFor } from "./helpers";
-import { testLoopConfig } from "@/tests/helpers/loop-config";
-import { makeSim } from "../control/forecast-tracker-mc";
-import { MemoryDriftStore } from "./drift-store-memory";
+import { FakeClock } from "./helpers";
+import { MemoryDriftStore, driftRun, driftState, feed as feedAll } from "./drift-checkpoint-helpers";
 
 const HALF_S = 4 * 3600;
-const END_S = 5.5 * 3600;
-
-function scenario() {
-  // the rim-forecast harness's drift, radius 0.90 -> 1.0 over 10 h, 5 s samples, seed 9100
-  const sim = makeSim("linear-radius", 9100);
-  const t0 = new FakeClock().t;
-  const samples: SampleDto[] = [];
-  while (sim.simTimeS <= END_S) {
-    const s = sim.step();
-    if (s) samples.push({ t: t0 + s.simTimeS * 1000, sp: s.sp, pv: s.pv, mv: s.mv, mode: s.mode });
-  }
-  const c = sim.config;
-  const cfg = testLoopConfig({ id: 1, tag: c.tag, telemetryPeriodS: 5, controllerPeriodS: 5, estimationPeriodS: 5, controller: c.controller, ...arxStructureFor(c.plant, 5) });
-  return { samples, cfg, t0 };
-}
-
-const { samples, cfg, t0 } = scenario();
+const { samples, cfg, t0 } = driftRun(5.5 * 3600);
 const half = samples.findIndex((s) => s.t > t0 + HALF_S * 1000);
-
-function feed(tr: LoopTracker, clock: FakeClock, from: number, to: number, everyMinute?: () => void): void {
-  let next = Math.ceil(samples[from]!.t / 60_000) * 60_000;
-  for (let i = from; i < to; i++) {
-    const s = samples[i]!;
-    clock.t = s.t;
-    tr.push([s], s.t);
-    if (everyMinute && s.t >= next) {
-      everyMinute();
-      next += 60_000;
-    }
-  }
-}
-
-/** The tracker's drift state as an image (a new base: no change to the drift itself). */
-const driftImage = (tr: LoopTracker) => tr.drift!.checkpoint(null).base;
+const feed = (tr: LoopTracker, clock: FakeClock, from: number, to: number, everyMinute?: () => void) => feedAll(tr, clock, samples, from, to, everyMinute);
 const historyForecast = (tr: LoopTracker) => forecastRadiusOne(tr.checkpoint().radiusHistory.map((p) => radiusPoint(p.t, p.value, p.sd ?? null)), 1000);
 
 /** The uninterrupted tracker at HALF_S with its checkpoint and drift part stored every minute from 3 h. */
@@ -79,12 +45,7 @@ describe("the drift part of a checkpoint", () => {
     const b = new LoopTracker(cfg, { clock: new FakeClock(clock.t) });
     expect(b.restore(main)).toEqual({ ok: true });
     expect(b.drift!.restore(store.load())).toBeNull();
-    // the same state, but the solver's scratch (`work`, written by each forecast: a's last one is not b's)
-    const noScratch = (tr: LoopTracker) => {
-      const im = driftImage(tr)!;
-      return { ...im, fit: { ...(im.fit as object), work: null } };
-    };
-    expect(noScratch(b)).toEqual(noScratch(a));
+    expect(driftState(b)).toEqual(driftState(a));
     const bClock = new FakeClock(clock.t);
     feed(a, clock, half, samples.length);
     feed(b, bClock, half, samples.length);
@@ -95,7 +56,7 @@ describe("the drift part of a checkpoint", () => {
     expect(fa).not.toEqual(historyForecast(a));
     for (const k of ["at", "low", "high"] as const) expect(Math.abs(fb[k] - fa[k])).toBeLessThanOrEqual(1e-9 * Math.abs(fa[k] - clock.t));
     expect(fb).toEqual(fa);
-    expect(driftImage(b)).toEqual(driftImage(a));
+    expect(driftState(b)).toEqual(driftState(a));
   }, 120_000);
 
   it("drops a corrupt, version-mismatched or misshapen drift part with a reason and keeps the rest of the checkpoint", () => {

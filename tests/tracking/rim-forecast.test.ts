@@ -2,7 +2,7 @@
  * The tracker's rim forecast wiring (server/tracking/figures.ts, ./drift-source.ts, docs/domain.md
  * §7): the forecast comes from the plant parameters' drift where that has an estimate, from the
  * radius history's trend where it has none (a tracker without it, a tracker just restored from a
- * checkpoint); the radius history carries each radius's sd, its trend moves the points back by
+ * checkpoint without its drift part); the radius history carries each radius's sd, its trend moves the points back by
  * half an estimator memory, and a checkpoint written before the sd was kept still restores. The
  * forecast's accuracy and interval coverage through the tracker are statistics: `npm run bench`
  * prints them.
@@ -98,7 +98,7 @@ describe("rim forecast in the tracker", () => {
     expect(fromDrift.low).toBeLessThan(fromDrift.at);
     expect(fromDrift.at).toBeLessThan(fromDrift.high);
     expect(Math.abs((fromDrift.at - t0) / 1000 - truth) / (truth - 18000)).toBeLessThan(0.25);
-    // a tracker restored from the checkpoint has no drift sums yet: the history's trend serves
+    // a tracker restored from its checkpoint without the drift part (./drift-checkpoint.test.ts has it) has no drift sums: the history's trend serves
     const restored = new LoopTracker(cfg, { clock });
     expect(restored.restore(drift.checkpoint())).toEqual({ ok: true });
     let st = null;

@@ -1,0 +1,87 @@
+/**
+ * The drift part of the estimator checkpoints in MariaDB (docs/architecture.md, "Checkpoints"):
+ * taken from every tracker right after its main checkpoint (the same moment: the restore checks
+ * the stamp), planned by the chunk ledger (./drift-chunks.ts: only new chunks are written) and
+ * written by lib/data/drift-checkpoints.ts; at start, resumed into each tracker whose main
+ * checkpoint was restored. A drift part that cannot be taken, written or read is logged with its
+ * reason and left out; the rest of the checkpoint and the tracker go on (the rim forecast then
+ * falls back to the radius history, docs/domain.md §7).
+ */
+import type { Sequelize } from "sequelize";
+import { loadDriftCheckpoint, loadDriftChunkHashes, saveDriftCheckpoints } from "@/lib/data/drift-checkpoints";
+import { decodeDrift, DriftChunkLedger, writeBytes, type DriftWrite } from "./drift-chunks";
+import type { TrackerRegistry } from "./registry";
+
+export interface DriftStoreStats {
+  restoredAtStart: number;
+  droppedAtStart: { loopId: number; reason: string }[];
+  /** Drift parts written since start, their bytes (headers and new chunks), the last failure. */
+  written: number;
+  bytesWritten: number;
+  error: string | null;
+}
+
+export class DriftCheckpointStore {
+  private readonly ledger = new DriftChunkLedger();
+  private readonly stats: DriftStoreStats = { restoredAtStart: 0, droppedAtStart: [], written: 0, bytesWritten: 0, error: null };
+
+  constructor(private readonly sequelize: Sequelize) {}
+
+  /** Resume the drift of each of `loopIds` (their trackers just restored from their checkpoints); learns what is stored. */
+  async restore(registry: TrackerRegistry, loopIds: readonly number[]): Promise<void> {
+    for (const [loopId, hashes] of await loadDriftChunkHashes(this.sequelize)) this.ledger.know(loopId, hashes);
+    for (const loopId of loopIds) {
+      const drift = registry.get(loopId)?.drift;
+      if (!drift) continue;
+      let reason: string | null;
+      try {
+        const stored = await loadDriftCheckpoint(this.sequelize, loopId);
+        if (!stored) continue;
+        reason = drift.restore(decodeDrift(stored.header, stored.chunks));
+      } catch (e) {
+        reason = e instanceof Error ? e.message : String(e);
+      }
+      if (reason === null) {
+        this.stats.restoredAtStart++;
+        continue;
+      }
+      this.stats.droppedAtStart.push({ loopId, reason });
+      console.warn(`[pipeline] loop ${loopId}: the drift part of its checkpoint was dropped (the rim forecast falls back to the radius history): ${reason}`);
+    }
+  }
+
+  /** Every tracker's drift part now (call right after `registry.checkpoint()`, before any await). */
+  take(registry: TrackerRegistry): DriftWrite[] {
+    const out: DriftWrite[] = [];
+    for (const { loopId, tenantId, tracker } of registry.entries()) {
+      try {
+        const cp = tracker.drift?.checkpoint(this.ledger.generation(loopId));
+        if (cp) out.push(this.ledger.plan(loopId, tenantId, cp));
+      } catch (e) {
+        this.stats.error = `loop ${loopId}: ${(e as Error).message}`;
+        console.error(`[pipeline] drift checkpoint of loop ${loopId} left out:`, this.stats.error);
+      }
+    }
+    return out;
+  }
+
+  async save(writes: DriftWrite[], now: number): Promise<void> {
+    try {
+      await saveDriftCheckpoints(this.sequelize, writes, now);
+    } catch (err) {
+      for (const w of writes) this.ledger.failed(w);
+      this.stats.error = err instanceof Error ? err.message : String(err);
+      console.error("[pipeline] drift checkpoint failed:", this.stats.error);
+      return;
+    }
+    for (const w of writes) {
+      this.ledger.committed(w);
+      this.stats.bytesWritten += writeBytes(w);
+    }
+    this.stats.written += writes.length;
+  }
+
+  snapshot(): DriftStoreStats {
+    return { ...this.stats, droppedAtStart: [...this.stats.droppedAtStart] };
+  }
+}
