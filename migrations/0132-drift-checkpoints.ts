@@ -1,6 +1,6 @@
 /**
  * The rim forecast's drift part of a loop's checkpoint (server/tracking/drift-checkpoint.ts,
- * docs/architecture.md "Checkpoints"), apart from `estimator_checkpoints` so that a drift part
+ * docs/architecture.md §6, "Checkpoints"), apart from `estimator_checkpoints` so that a drift part
  * that cannot be read never costs the rest: a header per loop (the base image's chunk, the
  * journal's chunks, format, stamp) and the loop's content-addressed chunks (hash of the bytes,
  * base64url, case-sensitive), written only when new and deleted once no header names them.

@@ -1,7 +1,7 @@
 /**
  * The rim forecast's drift part of the estimator checkpoints (drift_checkpoints and its
  * content-addressed drift_checkpoint_chunks; the form is server/tracking/drift-chunks.ts and
- * docs/architecture.md, "Checkpoints"). A write adds the new chunks, then replaces the header,
+ * docs/architecture.md §6, "Checkpoints"). A write adds the new chunks, then replaces the header,
  * then deletes the chunks it no longer names, so a header always finds its chunks, whatever step
  * a failure stops at.
  */

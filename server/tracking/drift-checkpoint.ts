@@ -1,6 +1,6 @@
 /**
  * The rim forecast's parameter drift (./drift-source.ts) with what a checkpoint needs to resume
- * it exactly (docs/architecture.md, "Checkpoints"): a base, the drift's whole state as an image
+ * it exactly (docs/architecture.md §6, "Checkpoints"): a base, the drift's whole state as an image
  * (./state-image.ts: every number and typed array it holds, so a change to the drift fit's sums
  * or blocks needs no change here), and a journal of the samples pushed since, replayed on
  * restore. A base is large (the per-block sums of the forecast window) and changes little between

@@ -1,6 +1,6 @@
 /**
  * The stored form of a loop's drift checkpoint (./drift-checkpoint.ts;
- * docs/architecture.md, "Checkpoints"): content-addressed chunks. Every typed array of the drift's
+ * docs/architecture.md §6, "Checkpoints"): content-addressed chunks. Every typed array of the drift's
  * image and of the journal is cut into chunks of CHUNK_BYTES, each stored under the hash of its
  * bytes (SHA-256, first 128 bits, base64url); the image's JSON, its arrays replaced by their
  * chunks' hashes, is a chunk too; a small header names the base image's chunk and the journal's.

@@ -1,5 +1,5 @@
 /**
- * The drift part of the estimator checkpoints in MariaDB (docs/architecture.md, "Checkpoints"):
+ * The drift part of the estimator checkpoints in MariaDB (docs/architecture.md §6, "Checkpoints"):
  * taken from every tracker right after its main checkpoint (the same moment: the restore checks
  * the stamp), planned by the chunk ledger (./drift-chunks.ts: only new chunks are written) and
  * written by lib/data/drift-checkpoints.ts; at start, resumed into each tracker whose main

@@ -2,7 +2,7 @@
  * A copy of an object graph's state (an "image") and its restore into a freshly built object of
  * the same class, generic over the fields: whatever numbers, booleans, typed arrays, arrays and
  * nested objects the object holds are copied, without a list of fields to keep current when a
- * class changes shape (docs/architecture.md, "Checkpoints"). An object met a second time (a field
+ * class changes shape (docs/architecture.md §6, "Checkpoints"). An object met a second time (a field
  * that points into an array of blocks) becomes a reference to the path of its first occurrence.
  * A restore walks the fresh object's own fields: a field missing from the image, one the fresh
  * object does not have, a typed array of another type or length, or a value of another kind is

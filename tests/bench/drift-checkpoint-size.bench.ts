@@ -1,6 +1,6 @@
 /**
  * Size of the rim forecast's drift in the checkpoints (`npm run bench:drift-checkpoint`; prints,
- * asserts nothing; docs/architecture.md, "Checkpoints"): the rim-forecast harness's drift (radius
+ * asserts nothing; docs/architecture.md §6, "Checkpoints"): the rim-forecast harness's drift (radius
  * 0.90 -> 1.0 over 10 h, seed 9100, 5 s samples) through one tracker for 5 h, checkpointed every
  * minute of telemetry as the pipeline does. At 1 h and 5 h: the tracker checkpoint's JSON, the
  * drift state as JSON (what adding it to that checkpoint would have cost, every minute), the

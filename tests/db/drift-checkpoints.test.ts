@@ -1,6 +1,6 @@
 /**
  * The drift part of the checkpoints in MariaDB (lib/data/drift-checkpoints.ts through
- * server/tracking/drift-store.ts; docs/architecture.md, "Checkpoints"): written each minute with
+ * server/tracking/drift-store.ts; docs/architecture.md §6, "Checkpoints"): written each minute with
  * the tracker checkpoints, it resumes a new registry's tracker to the very drift state of the one
  * that wrote it; chunks no header names are deleted; a corrupt chunk or a header of another
  * format drops the drift part with a reason while the tracker checkpoint is restored. The

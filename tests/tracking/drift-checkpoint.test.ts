@@ -1,6 +1,6 @@
 /**
  * The rim forecast's drift across a restart (server/tracking/drift-checkpoint.ts, its stored form
- * server/tracking/drift-chunks.ts; docs/architecture.md, "Checkpoints"): a tracker restored half
+ * server/tracking/drift-chunks.ts; docs/architecture.md §6, "Checkpoints"): a tracker restored half
  * way through a seeded drift run from its checkpoint and the drift part (stored through the
  * chunk ledger, a minute apart, a new base each memory) gives the uninterrupted tracker's forecast
  * and holds the very same drift state; a corrupt, version-mismatched or misshapen drift part is
