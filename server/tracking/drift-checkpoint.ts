@@ -111,14 +111,19 @@ export class RecordedDrift {
   /**
    * The drift part of a checkpoint, now: with a new base when the caller's stored base is
    * not this journal's (`stored`: the generation it last stored, null: none) or a memory's worth
-   * of samples is journalled; otherwise the journal since the base of `stored`.
+   * of samples is journalled; otherwise the journal since the base of `stored` (which the cap
+   * keeps to 4 memories of samples: beyond it the journal is lost and a base is needed).
    * @throws ImageShapeError when the drift holds a value an image cannot copy.
    */
-  checkpoint(stored: number | null): DriftCheckpoint {
+  checkpoint(stored: number | null): DriftCheckpoint;
+  /** With `mayBase` false (the caller is out of time for a base): the journal even when a base is due, or null when a base is needed. */
+  checkpoint(stored: number | null, mayBase: false): DriftCheckpoint | null;
+  checkpoint(stored: number | null, mayBase = true): DriftCheckpoint | null {
     const head = { format: DRIFT_CHECKPOINT_FORMAT, options: this.optionsKey, stamp: this.stamp(), width: this.width };
-    if (stored === this.generation && this.entries < this.baseEvery) {
+    if (stored === this.generation && (this.entries < this.baseEvery || !mayBase)) {
       return { ...head, generation: this.generation, journal: this.journal.slice(0, this.entries * this.width) };
     }
+    if (!mayBase) return null;
     const base = takeImage(this.inner, CONFIG_FIELDS);
     this.lose();
     return { ...head, generation: this.generation, base, journal: new Float64Array(0) };

@@ -12,6 +12,9 @@ import { loadDriftCheckpoint, loadDriftChunkHashes, saveDriftCheckpoints } from 
 import { decodeDrift, DriftChunkLedger, writeBytes, type DriftWrite } from "./drift-chunks";
 import type { TrackerRegistry } from "./registry";
 
+/** Time a checkpoint may spend taking new bases of the drift (ms; the server's event loop waits meanwhile). */
+const BASE_BUDGET_MS = 250;
+
 export interface DriftStoreStats {
   restoredAtStart: number;
   droppedAtStart: { loopId: number; reason: string }[];
@@ -23,6 +26,7 @@ export interface DriftStoreStats {
 
 export class DriftCheckpointStore {
   private readonly ledger = new DriftChunkLedger();
+  private rotation = 0;
   private readonly stats: DriftStoreStats = { restoredAtStart: 0, droppedAtStart: [], written: 0, bytesWritten: 0, error: null };
 
   constructor(private readonly sequelize: Sequelize) {}
@@ -50,12 +54,24 @@ export class DriftCheckpointStore {
     }
   }
 
-  /** Every tracker's drift part now (call right after `registry.checkpoint()`, before any await). */
-  take(registry: TrackerRegistry): DriftWrite[] {
+  /**
+   * Every tracker's drift part now (call right after `registry.checkpoint()`, before any await).
+   * New bases (an image of the whole drift, about 10 ms each at 5 h) are taken only while this
+   * checkpoint has spent less than `baseBudgetMs`, starting each time where the last one stopped:
+   * a loop past the budget writes its journal on the base it has, or nothing this time (no base
+   * stored yet: its previous drift part then no longer matches and a restore drops it).
+   */
+  take(registry: TrackerRegistry, baseBudgetMs = BASE_BUDGET_MS): DriftWrite[] {
     const out: DriftWrite[] = [];
-    for (const { loopId, tenantId, tracker } of registry.entries()) {
+    const started = performance.now();
+    const all = registry.entries();
+    const first = this.rotation % Math.max(1, all.length);
+    this.rotation = first + 1;
+    for (let k = 0; k < all.length; k++) {
+      const { loopId, tenantId, tracker } = all[(first + k) % all.length]!;
       try {
-        const cp = tracker.drift?.checkpoint(this.ledger.generation(loopId));
+        const stored = this.ledger.generation(loopId);
+        const cp = performance.now() - started < baseBudgetMs ? tracker.drift?.checkpoint(stored) : tracker.drift?.checkpoint(stored, false);
         if (cp) out.push(this.ledger.plan(loopId, tenantId, cp));
       } catch (e) {
         this.stats.error = `loop ${loopId}: ${(e as Error).message}`;

@@ -121,12 +121,16 @@ describe("live pipeline with MariaDB", () => {
     expect(latest.last?.t).toBe(sent.at(-1)!.t);
     const cps = await rows<{ n: number }>("SELECT COUNT(*) AS n FROM estimator_checkpoints WHERE loop_id = ?", [a.loopId]);
     expect(Number(cps[0]!.n)).toBe(1);
+    // the rim forecast's drift part beside it (server/tracking/drift-store.ts), in its own tables
+    const drift = await rows<{ n: number }>("SELECT COUNT(*) AS n FROM drift_checkpoints d JOIN drift_checkpoint_chunks c USING (loop_id) WHERE loop_id = ?", [a.loopId]);
+    expect(Number(drift[0]!.n)).toBeGreaterThan(0);
 
     // Restart: same estimator, no re-learning; replayed samples are duplicates.
     p = await start(clock);
     try {
       const h = await p.health();
       expect((h.detail as { trackers: { restoredAtStart: number } }).trackers.restoredAtStart).toBe(2);
+      expect((h.detail as { checkpoint: { drift: { restoredAtStart: number; droppedAtStart: unknown[] } } }).checkpoint.drift).toMatchObject({ restoredAtStart: 2, droppedAtStart: [] });
       expect(JSON.stringify(p.registry.get(a.loopId)!.plantModel())).toBe(modelBefore);
       const replay = p.ingest.handle({ topic: topic(a), payload: JSON.stringify(sent.slice(-10)), device: identity(a) });
       expect(replay).toMatchObject({ accepted: 0, rejected: { duplicate: 1, "out-of-order": 9 } });

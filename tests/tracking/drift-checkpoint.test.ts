@@ -99,4 +99,27 @@ describe("the drift part of a checkpoint", () => {
       expect(b.current.forecast!.radiusOne, what).toEqual(historyForecast(b));
     }
   }, 120_000);
+
+  it("takes a new base once a memory of samples is journalled, and none when the caller has no time for one", () => {
+    const clock = new FakeClock();
+    const tr = new LoopTracker(cfg, { clock });
+    feed(tr, clock, 0, 2000);
+    const drift = tr.drift!;
+    expect(drift.checkpoint(null, false)).toBeNull();
+    const first = drift.checkpoint(null);
+    expect(first.base).toBeDefined();
+    expect(first.journal).toHaveLength(0);
+    // a memory is 200 samples at 5 s (lambda 0.995): 150 later, the journal on that base
+    feed(tr, clock, 2000, 2150);
+    const mid = drift.checkpoint(first.generation);
+    expect([mid.base, mid.generation, mid.journal.length]).toEqual([undefined, first.generation, 150 * first.width]);
+    feed(tr, clock, 2150, 2250);
+    // due: a new base, unless the caller is out of time (then the journal goes on)
+    expect(drift.checkpoint(first.generation, false)!.journal).toHaveLength(250 * first.width);
+    const next = drift.checkpoint(first.generation);
+    expect(next.base).toBeDefined();
+    expect(next.generation).not.toBe(first.generation);
+    // a base the caller has not stored: nothing without time for a new one
+    expect(drift.checkpoint(first.generation, false)).toBeNull();
+  });
 });
