@@ -27,6 +27,7 @@ export interface DriftStoreStats {
 export class DriftCheckpointStore {
   private readonly ledger = new DriftChunkLedger();
   private rotation = 0;
+  private readonly logged = new Map<number, string>();
   private readonly stats: DriftStoreStats = { restoredAtStart: 0, droppedAtStart: [], written: 0, bytesWritten: 0, error: null };
 
   constructor(private readonly sequelize: Sequelize) {}
@@ -74,8 +75,11 @@ export class DriftCheckpointStore {
         const cp = performance.now() - started < baseBudgetMs ? tracker.drift?.checkpoint(stored) : tracker.drift?.checkpoint(stored, false);
         if (cp) out.push(this.ledger.plan(loopId, tenantId, cp));
       } catch (e) {
-        this.stats.error = `loop ${loopId}: ${(e as Error).message}`;
-        console.error(`[pipeline] drift checkpoint of loop ${loopId} left out:`, this.stats.error);
+        const why = (e as Error).message;
+        this.stats.error = `loop ${loopId}: ${why}`;
+        // once per loop and reason: the same state fails the same way every minute
+        if (this.logged.get(loopId) !== why) console.error(`[pipeline] drift checkpoint of loop ${loopId} left out:`, why);
+        this.logged.set(loopId, why);
       }
     }
     return out;
