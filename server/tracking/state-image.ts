@@ -7,7 +7,9 @@
  * A restore walks the fresh object's own fields: a field missing from the image, one the fresh
  * object does not have, a typed array of another type or length, or a value of another kind is
  * an `ImageShapeError` (the image was made by another shape of the class), so a changed class
- * refuses an old image instead of resuming from half of it.
+ * refuses an old image instead of resuming from half of it. It sees own enumerable properties
+ * only (TypeScript `private` fields are; ECMAScript `#private` fields and closures are not, and a
+ * class that keeps state there cannot be imaged).
  */
 
 /** A typed array (the numeric state an image copies). */
