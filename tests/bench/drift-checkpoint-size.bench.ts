@@ -6,7 +6,8 @@
  * drift state as JSON (what adding it to that checkpoint would have cost, every minute), the
  * drift state's bytes as one binary image, and the drift part as stored (server/tracking/
  * drift-chunks.ts: header and chunks); bytes written per minute over the hour before, and the
- * time a drift part takes (image, hashing).
+ * time a drift part takes (image, hashing). Twice: the harness plant's structure (na = nb = 1) and
+ * na = nb = 2 (the same data, a larger drift state).
  */
 import { LoopTracker } from "@/server/tracking/loop-tracker";
 import { isNumeric } from "@/server/tracking/state-image";
@@ -32,12 +33,13 @@ function driftSizes(tr: LoopTracker): { json: number; binary: number } {
   return { json, binary };
 }
 
-function main(): void {
+/** `orders`: the tracker's na, nb (default the harness plant's own structure). */
+function measure(orders?: { na: number; nb: number }): void {
   const sim = makeSim("linear-radius", 9100);
   const c = sim.config;
   const clock = new FakeClock();
   const t0 = clock.t;
-  const structure = arxStructureFor(c.plant, 5);
+  const structure = { ...arxStructureFor(c.plant, 5), ...orders };
   const tr = new LoopTracker(testLoopConfig({ id: 1, tag: c.tag, telemetryPeriodS: 5, controllerPeriodS: 5, estimationPeriodS: 5, controller: c.controller, ...structure }), { clock });
   const store = new MemoryDriftStore();
   let nextMinute = t0 + 60_000;
@@ -75,4 +77,5 @@ function main(): void {
   console.log(`  over ${(END_S / 3600).toFixed(0)} h: ${store.saves} drift parts, ${kB(store.bytesWritten)} written, ${kB(store.bytesWritten / store.saves)} per minute`);
 }
 
-main();
+measure();
+measure({ na: 2, nb: 2 });
