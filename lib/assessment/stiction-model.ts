@@ -88,28 +88,31 @@ export class StictionValve {
     const { lo, hi, S, J } = this;
     const half = (S - J) / 2;
     let { y, xPrev, xss, stuck, dir, slips } = this;
+    // How far the output must move up / down from the sticking point to break the valve free:
+    // in the direction of the last travel only the stick band J holds it, reversed S; at the
+    // start (no travel yet) the valve rests mid dead band, so (S + J)/2 gives a jump of J.
+    let up = dir === 0 ? (S + J) / 2 : dir > 0 ? J : S;
+    let down = dir === 0 ? (S + J) / 2 : dir < 0 ? J : S;
     for (let i = from; i < to; i++) {
       let x = xs[i]!;
       x = x < lo ? lo : x > hi ? hi : x;
-      const v = x - xPrev;
+      // Moving on while the output keeps its direction; it stopped or reversed: the valve sticks
+      // where it is.
       if (!stuck) {
-        if (v !== 0 && Math.sign(v) === dir) {
-          y = x - dir * half;
-        } else {
-          // the output stopped or reversed: the valve sticks where it is
+        if (dir > 0 ? x > xPrev : x < xPrev) y = x - dir * half;
+        else {
           stuck = true;
           xss = xPrev;
         }
       }
       if (stuck) {
         const d = x - xss;
-        const s = Math.sign(d);
-        // same direction as the last travel: only the stick band J holds it; reversed: S; at the
-        // start (no travel yet) the valve rests mid dead band, so (S + J)/2 gives a jump of J
-        const limit = dir === 0 ? (S + J) / 2 : s === dir ? J : S;
-        if (s !== 0 && Math.abs(d) > limit) {
+        const s = d > up ? 1 : -d > down ? -1 : 0;
+        if (s !== 0) {
           stuck = false;
           dir = s;
+          up = s > 0 ? J : S;
+          down = s < 0 ? J : S;
           y = x - s * half;
           slips++;
         }
