@@ -1,129 +1,35 @@
 /**
- * Signal helpers for the assessment (typed arrays, no allocation in inner loops): an in-place
- * radix-2 FFT, the autocorrelation by FFT (Wiener–Khinchin), robust noise sigma, Levinson–Durbin.
+ * Signal helpers for the assessment (typed arrays, no allocation in inner loops): the
+ * autocovariance and cross-covariance by FFT of real sequences (Wiener–Khinchin; fft.ts), robust
+ * noise sigma, Levinson–Durbin.
  */
+import { nextPow2, realForward, realInverse, scratchOf } from "./fft";
+
+export { fftInPlace } from "./fft";
 
 /**
- * Twiddle factors per stage, laid out by half-length h at offset h - 1 (k = 0..h-1), computed by
- * the same rotation recurrence the butterflies used to run inline, so the FFT's results are the
- * same to the last bit; shared by every transform size (a stage's factors depend on its length
- * only). Stages up to TWIDDLE_CACHE_HALF are cached (16 bytes per entry and direction).
+ * Writes x(i) - mean for i < n, zero-padded to length 2H, packed for realForward:
+ * zr[j] = x(2j), zi[j] = x(2j+1).
  */
-const TWIDDLE_CACHE_HALF = 1 << 15;
-const twiddles: [{ re: Float64Array; im: Float64Array; half: number }, { re: Float64Array; im: Float64Array; half: number }] = [
-  { re: new Float64Array(0), im: new Float64Array(0), half: 0 },
-  { re: new Float64Array(0), im: new Float64Array(0), half: 0 },
-];
-
-function fillStage(re: Float64Array, im: Float64Array, offset: number, half: number, inverse: boolean): void {
-  const ang = ((inverse ? 2 : -2) * Math.PI) / (2 * half);
-  const wr = Math.cos(ang);
-  const wi = Math.sin(ang);
-  let cr = 1;
-  let ci = 0;
-  for (let k = 0; k < half; k++) {
-    re[offset + k] = cr;
-    im[offset + k] = ci;
-    const ncr = cr * wr - ci * wi;
-    ci = cr * wi + ci * wr;
-    cr = ncr;
+function packReal(x: ArrayLike<number>, n: number, mean: number, zr: Float64Array, zi: Float64Array): void {
+  zr.fill(0);
+  zi.fill(0);
+  for (let i = 0; i + 1 < n; i += 2) {
+    zr[i >> 1] = x[i]! - mean;
+    zi[i >> 1] = x[i + 1]! - mean;
   }
+  if (n % 2) zr[(n - 1) >> 1] = x[n - 1]! - mean;
 }
 
-/** Cached twiddles for stages with half-length up to `maxHalf` (a power of two, at most TWIDDLE_CACHE_HALF). */
-function twiddlesUpTo(maxHalf: number, inverse: boolean): { re: Float64Array; im: Float64Array } {
-  const t = twiddles[inverse ? 1 : 0];
-  if (t.half >= maxHalf) return t;
-  const re = new Float64Array(2 * maxHalf - 1);
-  const im = new Float64Array(2 * maxHalf - 1);
-  re.set(t.re);
-  im.set(t.im);
-  for (let half = Math.max(1, 2 * t.half); half <= maxHalf; half <<= 1) fillStage(re, im, half - 1, half, inverse);
-  t.re = re;
-  t.im = im;
-  t.half = maxHalf;
-  return t;
-}
-
-/** In-place iterative radix-2 FFT (Cooley–Tukey); re/im length must be a power of two. */
-export function fftInPlace(re: Float64Array, im: Float64Array, inverse = false): void {
-  const n = re.length;
-  for (let i = 1, j = 0; i < n; i++) {
-    let bit = n >> 1;
-    for (; j & bit; bit >>= 1) j ^= bit;
-    j ^= bit;
-    if (i < j) {
-      let t = re[i]!;
-      re[i] = re[j]!;
-      re[j] = t;
-      t = im[i]!;
-      im[i] = im[j]!;
-      im[j] = t;
-    }
-  }
-  const cached = twiddlesUpTo(Math.min(n >> 1, TWIDDLE_CACHE_HALF), inverse);
-  let wre = cached.re;
-  let wim = cached.im;
-  for (let len = 2; len <= n; len <<= 1) {
-    const half = len >> 1;
-    let off = half - 1;
-    if (half > TWIDDLE_CACHE_HALF) {
-      // A stage too long to keep: its factors for this call only.
-      wre = new Float64Array(half);
-      wim = new Float64Array(half);
-      fillStage(wre, wim, 0, half, inverse);
-      off = 0;
-    }
-    for (let i = 0; i < n; i += len) {
-      for (let k = 0; k < half; k++) {
-        const cr = wre[off + k]!;
-        const ci = wim[off + k]!;
-        const a = i + k;
-        const b = a + half;
-        const br = re[b]!;
-        const bi = im[b]!;
-        const xr = br * cr - bi * ci;
-        const xi = br * ci + bi * cr;
-        const ar = re[a]!;
-        const ai = im[a]!;
-        re[b] = ar - xr;
-        im[b] = ai - xi;
-        re[a] = ar + xr;
-        im[a] = ai + xi;
-      }
-    }
-  }
-  if (inverse) {
-    for (let i = 0; i < n; i++) {
-      re[i] = re[i]! / n;
-      im[i] = im[i]! / n;
-    }
-  }
-}
-
-/**
- * Scratch arrays for the transforms, reused across calls (JS runs one call at a time); each call
- * zeroes what it reads. Kept up to 2^16 points (2 MB for the four); longer ones are allocated per call.
- */
-const SCRATCH_MAX = 1 << 16;
-const scratch: Float64Array[] = [];
-
-function scratchOf(slot: number, m: number): Float64Array {
-  if (m > SCRATCH_MAX) return new Float64Array(m);
-  let a = scratch[slot];
-  if (!a || a.length < m) scratch[slot] = a = new Float64Array(Math.max(m, 2 * (a?.length ?? 0)));
-  return a.length === m ? a : a.subarray(0, m);
-}
-
-function nextPow2(n: number): number {
-  let p = 1;
-  while (p < n) p <<= 1;
-  return p;
+/** Transform length for products up to lag `lags` of n samples without circular wrap (a power of two, at least 2). */
+function paddedLength(n: number, lags: number): number {
+  return Math.max(2, nextPow2(n + lags + 1));
 }
 
 /**
  * Biased autocovariance c(k) = (1/N) Σ x(t) x(t+k), k = 0..maxLag, of the mean-removed signal,
- * by FFT with zero padding (no circular wrap).
+ * by FFT with zero padding (no circular wrap): the inverse transform of |X|², the transforms of a
+ * real sequence (fft.ts). Equal to the direct sum to rounding (tests/assessment/signal.test.ts).
  */
 export function autocovariance(x: ArrayLike<number>, maxLag: number): Float64Array {
   const n = x.length;
@@ -131,19 +37,17 @@ export function autocovariance(x: ArrayLike<number>, maxLag: number): Float64Arr
   let mean = 0;
   for (let i = 0; i < n; i++) mean += x[i]!;
   mean /= n || 1;
-  const m = nextPow2(n + lags + 1);
-  const re = scratchOf(0, m);
-  const im = scratchOf(1, m).fill(0);
-  for (let i = 0; i < n; i++) re[i] = x[i]! - mean;
-  re.fill(0, n);
-  fftInPlace(re, im);
-  for (let i = 0; i < m; i++) {
-    re[i] = re[i]! * re[i]! + im[i]! * im[i]!;
-    im[i] = 0;
-  }
-  fftInPlace(re, im, true);
+  const H = paddedLength(n, lags) >> 1;
+  const zr = scratchOf(0, H);
+  const zi = scratchOf(1, H);
+  const pr = scratchOf(2, H + 1);
+  const pi = scratchOf(3, H + 1);
+  packReal(x, n, mean, zr, zi);
+  realForward(zr, zi, pr, pi);
+  for (let k = 0; k <= H; k++) pr[k] = pr[k]! * pr[k]! + pi[k]! * pi[k]!;
+  realInverse(pr, null, zr, zi);
   const out = new Float64Array(lags + 1);
-  for (let k = 0; k <= lags; k++) out[k] = re[k]! / n;
+  for (let k = 0; k <= lags; k++) out[k] = (k % 2 ? zi : zr)[k >> 1]! / n;
   return out;
 }
 
@@ -168,29 +72,31 @@ export function crossCovariance(x: ArrayLike<number>, y: ArrayLike<number>, maxL
   }
   mx /= n || 1;
   my /= n || 1;
-  const m = nextPow2(n + lags + 1);
-  const ar = scratchOf(0, m);
-  const ai = scratchOf(1, m).fill(0);
-  const br = scratchOf(2, m);
-  const bi = scratchOf(3, m).fill(0);
-  for (let i = 0; i < n; i++) {
-    ar[i] = x[i]! - mx;
-    br[i] = y[i]! - my;
-  }
-  ar.fill(0, n);
-  br.fill(0, n);
-  fftInPlace(ar, ai);
-  fftInPlace(br, bi);
+  const m = paddedLength(n, lags);
+  const H = m >> 1;
+  const zr = scratchOf(0, H);
+  const zi = scratchOf(1, H);
+  const xr = scratchOf(2, H + 1);
+  const xi = scratchOf(3, H + 1);
+  const yr = scratchOf(4, H + 1);
+  const yi = scratchOf(5, H + 1);
+  packReal(x, n, mx, zr, zi);
+  realForward(zr, zi, xr, xi);
+  packReal(y, n, my, zr, zi);
+  realForward(zr, zi, yr, yi);
   // conj(X) * Y -> sum x(t) y(t+k)
-  for (let i = 0; i < m; i++) {
-    const r = ar[i]! * br[i]! + ai[i]! * bi[i]!;
-    const im = ar[i]! * bi[i]! - ai[i]! * br[i]!;
-    ar[i] = r;
-    ai[i] = im;
+  for (let k = 0; k <= H; k++) {
+    const r = xr[k]! * yr[k]! + xi[k]! * yi[k]!;
+    const im = xr[k]! * yi[k]! - xi[k]! * yr[k]!;
+    xr[k] = r;
+    xi[k] = im;
   }
-  fftInPlace(ar, ai, true);
+  realInverse(xr, xi, zr, zi);
   const out = new Float64Array(2 * lags + 1);
-  for (let k = -lags; k <= lags; k++) out[k + lags] = ar[(k + m) % m]! / n;
+  for (let k = -lags; k <= lags; k++) {
+    const t = (k + m) % m;
+    out[k + lags] = (t % 2 ? zi : zr)[t >> 1]! / n;
+  }
   return out;
 }
 

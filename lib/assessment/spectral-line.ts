@@ -22,7 +22,7 @@
  * cycle of a sticking valve without loads is a line too (the stiction tests are therefore asked
  * first); periodic set-point changes are lines (constant-set-point data are used where possible).
  */
-import { fftInPlace } from "./signal";
+import { realForward } from "./fft";
 
 export interface SpectralLine {
   /** Period of the strongest line, s. */
@@ -58,11 +58,15 @@ export function strongestLine(x: Float64Array, include: Uint8Array, T: number): 
   }
   if (c < 256) return null;
   m /= c;
-  const re = new Float64Array(N);
-  const im = new Float64Array(N);
-  for (let i = 0; i < n; i++) re[i] = include[i] ? (x[i]! - m) * (0.5 - 0.5 * Math.cos((2 * Math.PI * i) / (n - 1))) : 0;
-  fftInPlace(re, im);
+  // The windowed record, zero-padded to N and packed for the transform of a real sequence:
+  // sample 2j in zr[j], 2j + 1 in zi[j].
   const H = N / 2;
+  const zr = new Float64Array(H);
+  const zi = new Float64Array(H);
+  for (let i = 0; i < n; i++) (i % 2 ? zi : zr)[i >> 1] = include[i] ? (x[i]! - m) * (0.5 - 0.5 * Math.cos((2 * Math.PI * i) / (n - 1))) : 0;
+  const re = new Float64Array(H + 1);
+  const im = new Float64Array(H + 1);
+  realForward(zr, zi, re, im);
   const P = new Float64Array(H);
   let total = 0;
   for (let f = 1; f < H; f++) {

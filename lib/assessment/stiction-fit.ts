@@ -21,6 +21,7 @@
  * half a cycle (dead time unknown); an offset term takes the load's mean. Loads and noise remain
  * in the residual, so the gain is read against what chance gives (readStictionFit).
  */
+import { cumSum, LagSums, lagTotal } from "./lag-sums";
 import { noiseSigma } from "./signal";
 import { StictionValve } from "./stiction-model";
 
@@ -58,59 +59,6 @@ const MAX_NOISE_SHARE = 0.5;
 /** Most decimated samples fitted (the last ones); keeps a day's fit within a few tens of ms. */
 const MAX_FIT = 6000;
 
-/**
- * Sums of lagged products Σ_{t=start}^{n-1} x[t-i]·y[t-j] for lag differences δ = j - i in
- * [dMin, dMax], from one running sum of x[s]·y[s-δ] per δ: the sum is that running sum over
- * s in [start - i, n - i). One buffer, refilled for every valve of the grid.
- */
-class LagSums {
-  private readonly cum: Float64Array;
-  private readonly n: number;
-  constructor(
-    n: number,
-    private readonly dMin: number,
-    private readonly dMax: number,
-    private readonly start: number,
-  ) {
-    this.n = n;
-    this.cum = new Float64Array((dMax - dMin + 1) * (n + 1));
-  }
-
-  fill(x: Float64Array, y: Float64Array): this {
-    const n = this.n;
-    for (let d = this.dMin; d <= this.dMax; d++) {
-      const o = (d - this.dMin) * (n + 1);
-      const c = this.cum;
-      let s = 0;
-      c[o] = 0;
-      for (let u = 0; u < n; u++) {
-        const k = u - d;
-        if (k >= 0 && k < n) s += x[u]! * y[k]!;
-        c[o + u + 1] = s;
-      }
-    }
-    return this;
-  }
-
-  get(i: number, j: number): number {
-    const o = (j - i - this.dMin) * (this.n + 1);
-    return this.cum[o + this.n - i]! - this.cum[o + this.start - i]!;
-  }
-}
-
-/** Running sums of x: Σ_{t=start}^{n-1} x[t-i] for lag i. */
-function lagTotal(cum: Float64Array, start: number, i: number): number {
-  const n = cum.length - 1;
-  return cum[n - i]! - cum[start - i]!;
-}
-
-function cumSum(x: Float64Array): Float64Array {
-  const c = new Float64Array(x.length + 1);
-  let s = 0;
-  for (let i = 0; i < x.length; i++) c[i + 1] = s += x[i]!;
-  return c;
-}
-
 /** Sums of one input series: with PV, with itself, and its running sum. */
 interface InputSums {
   withPv: LagSums;
@@ -118,8 +66,12 @@ interface InputSums {
   cum: Float64Array;
 }
 
+/**
+ * Lag differences read (arxResidual): input lag i in 1..nb with PV lag j in 0..na (na <= nb), so
+ * δ = j - i in [-nb, nb - 1]; an input lag with another, |δ| <= nb - 1.
+ */
 function inputSums(n: number, nb: number): InputSums {
-  return { withPv: new LagSums(n, -nb, nb, nb), self: new LagSums(n, -nb, 0, nb), cum: new Float64Array(n + 1) };
+  return { withPv: new LagSums(n, -nb, nb - 1, nb), self: new LagSums(n, 1 - nb, 0, nb), cum: new Float64Array(n + 1) };
 }
 
 function fillInput(s: InputSums, pv: Float64Array, u: Float64Array): void {
@@ -154,7 +106,7 @@ function arxSums(pv: Float64Array, mv: Float64Array, nb: number, nested: boolean
     pvCum: cumSum(pv),
     mv: inputSums(n, nb),
     valve: inputSums(n, nb),
-    valveMv: nested ? new LagSums(n, -nb, nb, nb) : null,
+    valveMv: nested ? new LagSums(n, 1 - nb, nb - 1, nb) : null,
   };
   fillInput(f.mv, pv, mv);
   return f;
@@ -162,6 +114,25 @@ function arxSums(pv: Float64Array, mv: Float64Array, nb: number, nested: boolean
 
 /** Regressors after the constant and PV lags: MV lags (the linear valve), the valve's lags, or both (nested). */
 type ArxInputs = "mv" | "valve" | "nested";
+
+/** Normal-equation entry of regressors (series a, lag i) and (series b, lag j), a >= b; series -1 the constant, 0 PV, 1 MV, 2 the valve. */
+function normalEntry(f: ArxSums, m: number, a: number, i: number, b: number, j: number): number {
+  if (b < 0) return a < 0 ? m : lagTotal(a === 0 ? f.pvCum : a === 1 ? f.mv.cum : f.valve.cum, f.start, i);
+  if (a === 0) return i >= j ? f.pp.get(i, j) : f.pp.get(j, i);
+  const s = a === 1 ? f.mv : f.valve;
+  if (b === 0) return s.withPv.get(i, j);
+  if (a === b) return i >= j ? s.self.get(i, j) : s.self.get(j, i);
+  return f.valveMv!.get(i, j);
+}
+
+/** Scratch for arxResidual (at most 1 + 3·16 regressors; JS runs one call at a time). */
+const MAX_P = 49;
+const colSeries = new Int8Array(MAX_P);
+const colLag = new Int8Array(MAX_P);
+const normalA = new Float64Array(MAX_P * MAX_P);
+const normalB = new Float64Array(MAX_P);
+const cholL = new Float64Array(MAX_P * MAX_P);
+const cholZ = new Float64Array(MAX_P);
 
 /**
  * Least squares of PV on a constant, PV lags 1..na (na <= nb) and input lags 1..nb (all normal
@@ -172,35 +143,31 @@ function arxResidual(f: ArxSums, na: number, inputs: ArxInputs): number {
   const { n, nb, start } = f;
   const m = n - start;
   // columns: the constant (series -1), PV lags (0), MV lags (1), valve lags (2)
-  const cols: [number, number][] = [[-1, 0]];
-  for (let i = 1; i <= na; i++) cols.push([0, i]);
-  if (inputs !== "valve") for (let j = 1; j <= nb; j++) cols.push([1, j]);
-  if (inputs !== "mv") for (let j = 1; j <= nb; j++) cols.push([2, j]);
-  const p = cols.length;
-  if (m <= 2 * p) return NaN;
-  const series = [f.mv, f.valve];
-  const sym = (x: LagSums, i: number, j: number) => (i >= j ? x.get(i, j) : x.get(j, i));
-  const dot = ([a, i]: [number, number], [b, j]: [number, number]): number => {
-    // a >= b (rows below the diagonal come after their columns)
-    if (b < 0) return a < 0 ? m : lagTotal(a === 0 ? f.pvCum : series[a - 1]!.cum, start, i);
-    if (a === 0) return sym(f.pp, i, j);
-    if (b === 0) return series[a - 1]!.withPv.get(i, j);
-    if (a === b) return sym(series[a - 1]!.self, i, j);
-    return f.valveMv!.get(i, j);
+  let p = 0;
+  const col = (a: number, i: number) => {
+    colSeries[p] = a;
+    colLag[p++] = i;
   };
-  const A = new Float64Array(p * p);
-  const b = new Float64Array(p);
+  col(-1, 0);
+  for (let i = 1; i <= na; i++) col(0, i);
+  if (inputs !== "valve") for (let j = 1; j <= nb; j++) col(1, j);
+  if (inputs !== "mv") for (let j = 1; j <= nb; j++) col(2, j);
+  if (m <= 2 * p) return NaN;
+  const A = normalA;
+  const b = normalB;
   for (let r = 0; r < p; r++) {
-    const [a, i] = cols[r]!;
-    b[r] = a < 0 ? lagTotal(f.pvCum, start, 0) : a === 0 ? f.pp.get(i, 0) : series[a - 1]!.withPv.get(i, 0);
-    for (let c = 0; c <= r; c++) A[r * p + c] = dot(cols[r]!, cols[c]!);
+    const a = colSeries[r]!;
+    const i = colLag[r]!;
+    b[r] = a < 0 ? lagTotal(f.pvCum, start, 0) : a === 0 ? f.pp.get(i, 0) : (a === 1 ? f.mv : f.valve).withPv.get(i, 0);
+    // rows below the diagonal come after their columns (a >= b)
+    for (let c = 0; c <= r; c++) A[r * p + c] = normalEntry(f, m, a, i, colSeries[c]!, colLag[c]!);
   }
   const yy = f.pp.get(0, 0);
   // Cholesky with a tiny ridge (regressors can be nearly collinear under feedback).
   let trace = 0;
   for (let r = 0; r < p; r++) trace += A[r * p + r]!;
   const ridge = 1e-9 * (trace / p) + 1e-300;
-  const L = new Float64Array(p * p);
+  const L = cholL;
   for (let r = 0; r < p; r++) {
     for (let c = 0; c <= r; c++) {
       let s = A[r * p + c]! + (r === c ? ridge : 0);
@@ -213,7 +180,7 @@ function arxResidual(f: ArxSums, na: number, inputs: ArxInputs): number {
   }
   // with A = L L', b' A^-1 b = |L^-1 b|²; residual = yy - b' theta
   let explained = 0;
-  const z = new Float64Array(p);
+  const z = cholZ;
   for (let r = 0; r < p; r++) {
     let s = b[r]!;
     for (let k = 0; k < r; k++) s -= L[r * p + k]! * z[k]!;
@@ -223,8 +190,7 @@ function arxResidual(f: ArxSums, na: number, inputs: ArxInputs): number {
   return Math.max(0, yy - explained) / m;
 }
 
-function blockMeans(x: ArrayLike<number>, from: number, d: number, count: number): Float64Array {
-  const out = new Float64Array(count);
+function blockMeans(x: ArrayLike<number>, from: number, d: number, count: number, out = new Float64Array(count)): Float64Array {
   for (let k = 0; k < count; k++) {
     let s = 0;
     const o = from + k * d;
@@ -283,11 +249,12 @@ export function fitStictionModel(mv: Float64Array, pv: Float64Array, periodSampl
   const linear = orders.map((na) => arxResidual(sums, na, "mv"));
   if (!linear.every((r) => r > 0)) return null;
   const pos = new Float64Array(n);
+  const valveBlocks = new Float64Array(count);
   let best = { ratio: 1, S: 0, J: 0, slips: 0, order: 0 };
   const evaluate = (S: number, J: number): void => {
     const valve = new StictionValve({ S, J }, mv[warm]!, [-Infinity, Infinity]);
-    for (let i = warm; i < n; i++) pos[i] = valve.update(mv[i]!);
-    const v = blockMeans(pos, from, d, count);
+    valve.run(mv, warm, n, pos);
+    const v = blockMeans(pos, from, d, count, valveBlocks);
     fillInput(sums.valve, pvd, v);
     sums.valveMv?.fill(v, mvd);
     for (let k = 0; k < orders.length; k++) {

@@ -31,6 +31,9 @@ export function checkStictionParams({ S, J }: StictionParams): void {
   if (J > S) throw new RangeError(`slip jump J (${J}) must not exceed the stiction band S (${S})`);
 }
 
+/** One controller output for `update` (JS runs one call at a time). */
+const one = new Float64Array(1);
+
 /** One sticking valve: feed it the controller output (% of travel) each controller period. */
 export class StictionValve {
   readonly S: number;
@@ -71,35 +74,58 @@ export class StictionValve {
 
   /** Advance one period with controller output `x` (% of travel); returns the valve position. */
   update(x: number): number {
-    const lo = this.lo;
-    const hi = this.hi;
-    x = x < lo ? lo : x > hi ? hi : x;
-    const v = x - this.xPrev;
-    const half = (this.S - this.J) / 2;
-    if (!this.stuck) {
-      if (v !== 0 && Math.sign(v) === this.dir) {
-        this.y = x - this.dir * half;
-      } else {
-        // the output stopped or reversed: the valve sticks where it is
-        this.stuck = true;
-        this.xss = this.xPrev;
+    one[0] = x;
+    this.run(one, 0, 1, one);
+    return one[0]!;
+  }
+
+  /**
+   * Advance over the controller outputs xs[from..to), writing each position to out[i] (out may be
+   * xs). The same steps as `update` per sample, with the valve's state in locals for the loop (the
+   * model fit runs the valve over thousands of samples per candidate).
+   */
+  run(xs: ArrayLike<number>, from: number, to: number, out: { [i: number]: number }): void {
+    const { lo, hi, S, J } = this;
+    const half = (S - J) / 2;
+    let { y, xPrev, xss, stuck, dir, slips } = this;
+    // How far the output must move up / down from the sticking point to break the valve free:
+    // in the direction of the last travel only the stick band J holds it, reversed S; at the
+    // start (no travel yet) the valve rests mid dead band, so (S + J)/2 gives a jump of J.
+    let up = dir === 0 ? (S + J) / 2 : dir > 0 ? J : S;
+    let down = dir === 0 ? (S + J) / 2 : dir < 0 ? J : S;
+    for (let i = from; i < to; i++) {
+      let x = xs[i]!;
+      x = x < lo ? lo : x > hi ? hi : x;
+      // Moving on while the output keeps its direction; it stopped or reversed: the valve sticks
+      // where it is.
+      if (!stuck) {
+        if (dir > 0 ? x > xPrev : x < xPrev) y = x - dir * half;
+        else {
+          stuck = true;
+          xss = xPrev;
+        }
       }
-    }
-    if (this.stuck) {
-      const d = x - this.xss;
-      const s = Math.sign(d);
-      // same direction as the last travel: only the stick band J holds it; reversed: S; at the
-      // start (no travel yet) the valve rests mid dead band, so (S + J)/2 gives a jump of J
-      const limit = this.dir === 0 ? (this.S + this.J) / 2 : s === this.dir ? this.J : this.S;
-      if (s !== 0 && Math.abs(d) > limit) {
-        this.stuck = false;
-        this.dir = s;
-        this.y = x - s * half;
-        this.slips++;
+      if (stuck) {
+        const d = x - xss;
+        const s = d > up ? 1 : -d > down ? -1 : 0;
+        if (s !== 0) {
+          stuck = false;
+          dir = s;
+          up = s > 0 ? J : S;
+          down = s < 0 ? J : S;
+          y = x - s * half;
+          slips++;
+        }
       }
+      y = y < lo ? lo : y > hi ? hi : y;
+      xPrev = x;
+      out[i] = y;
     }
-    this.y = this.y < lo ? lo : this.y > hi ? hi : this.y;
-    this.xPrev = x;
-    return this.y;
+    this.y = y;
+    this.xPrev = xPrev;
+    this.xss = xss;
+    this.stuck = stuck;
+    this.dir = dir;
+    this.slips = slips;
   }
 }

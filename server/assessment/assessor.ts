@@ -5,9 +5,10 @@
  * and publishes the results.
  *
  * CPU budget: at most 2 µs of server CPU per incoming sample on average. `assessLoop` costs about
- * 2–3 µs per window sample (bench:live-assess: a 3,600-sample window in 6–11 ms of CPU, depending
- * on the machine's load, on a mix where two loops in three oscillate; bench:assess-speed: one day
- * at 1 s in 0.2–0.3 s), so a window of n stored samples costs ≈ 2.5·n µs; the push itself
+ * 1.5–2 µs per window sample (bench:live-assess: a 3,600-sample window in 6–7.5 ms of CPU on a
+ * busy machine, on a mix where two loops in three oscillate; it was 2–3 µs before the stiction
+ * fit's and the FFTs' speed-up; bench:assess-speed: one day at 1 s in 0.2–0.4 s of CPU), so a
+ * window of n stored samples costs at most ≈ 2.5·n µs; the push itself
  * 0.1–0.2 µs per sample. Once the window is full it is re-run only after RERUN_FACTOR·n new
  * samples (n counted in incoming samples, i.e. times the decimation stride): 2.5·n / (2·n) ≈ 1.25 µs
  * per sample (1.5 µs at 3 µs per window sample), so half of the data is assessed and a verdict is

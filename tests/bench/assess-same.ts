@@ -7,8 +7,13 @@
  * the live runs while windows fill must be identical; full-window runs are tallied apart, since a
  * change of the steady re-run interval moves them in time (with the same schedule they match too).
  *
+ * With `--rel TOL` a report that is not identical still passes when every number is within TOL
+ * relative (|a - b| <= TOL·max(|a|, |b|)) and everything else (strings, verdicts, array lengths)
+ * is identical: for a change of the arithmetic's order, such as another FFT, that moves the last
+ * bits only. Such reports are tallied apart.
+ *
  *   node --import tsx tests/bench/assess-same.ts --save FILE     (on the code before the change)
- *   node --import tsx tests/bench/assess-same.ts --check FILE    (after it; exit code 1 on a difference)
+ *   node --import tsx tests/bench/assess-same.ts --check FILE [--rel 1e-12]   (after it; exit code 1 on a difference)
  */
 import { readFileSync, writeFileSync } from "node:fs";
 import { isDeepStrictEqual } from "node:util";
@@ -21,7 +26,26 @@ import { benchmarkPlan, generateRecording } from "@/simulators/benchmark/generat
 const save = process.argv.indexOf("--save");
 const check = process.argv.indexOf("--check");
 const file = process.argv[Math.max(save, check) + 1];
-if ((save < 0) === (check < 0) || !file) throw new Error("usage: assess-same.ts --save FILE | --check FILE");
+if ((save < 0) === (check < 0) || !file) throw new Error("usage: assess-same.ts --save FILE | --check FILE [--rel TOL]");
+const relAt = process.argv.indexOf("--rel");
+const rel = relAt >= 0 ? Number(process.argv[relAt + 1]) : 0;
+if (!(rel >= 0 && rel < 1)) throw new Error("--rel needs a relative tolerance in [0, 1)");
+
+/** Equal but for numbers within `rel` relative (NaN equals NaN); the worst relative difference goes to `worst`. */
+function close(a: unknown, b: unknown, worst: { rel: number }): boolean {
+  if (typeof a === "number" && typeof b === "number") {
+    if (Object.is(a, b) || (a === b)) return true;
+    const d = Math.abs(a - b) / Math.max(Math.abs(a), Math.abs(b));
+    worst.rel = Math.max(worst.rel, d);
+    return d <= rel;
+  }
+  if (typeof a !== "object" || typeof b !== "object" || a === null || b === null) return isDeepStrictEqual(a, b);
+  if (Array.isArray(a) !== Array.isArray(b) || ArrayBuffer.isView(a) !== ArrayBuffer.isView(b)) return false;
+  const ka = Object.keys(a);
+  const kb = Object.keys(b);
+  if (!isDeepStrictEqual(ka, kb)) return false;
+  return ka.every((k) => close((a as Record<string, unknown>)[k], (b as Record<string, unknown>)[k], worst));
+}
 
 const T0_MS = Date.UTC(2026, 11, 2, 6, 0, 0);
 const results: [string, unknown][] = [];
@@ -55,16 +79,18 @@ if (save >= 0) {
   const old = new Map<string, unknown[]>();
   for (const [k, r] of before) old.set(k, [...(old.get(k) ?? []), r]);
   const seen = new Map<string, number>();
-  const tally = new Map<string, { same: number; differ: number; onlyNow: number }>();
+  const tally = new Map<string, { same: number; close: number; differ: number; onlyNow: number }>();
+  const worst = { rel: 0 };
   let shown = 0;
   for (const [k, r] of results) {
     const i = seen.get(k) ?? 0;
     seen.set(k, i + 1);
-    const t = tally.get(kind(k)) ?? { same: 0, differ: 0, onlyNow: 0 };
+    const t = tally.get(kind(k)) ?? { same: 0, close: 0, differ: 0, onlyNow: 0 };
     tally.set(kind(k), t);
     const prev = old.get(k)?.[i];
     if (prev === undefined) t.onlyNow++;
     else if (isDeepStrictEqual(prev, r)) t.same++;
+    else if (rel > 0 && close(prev, r, worst)) t.close++;
     else {
       t.differ++;
       if (shown++ < 5) console.log(`differs: ${k} (#${i + 1})`);
@@ -74,9 +100,10 @@ if (save >= 0) {
   for (const [k, rs] of old) onlyBefore.set(kind(k), (onlyBefore.get(kind(k)) ?? 0) + Math.max(0, rs.length - (seen.get(k) ?? 0)));
   let bad = false;
   for (const [k, t] of tally) {
-    console.log(`${k}: ${t.same} identical, ${t.differ} differ, ${t.onlyNow} only now, ${onlyBefore.get(k) ?? 0} only before`);
+    console.log(`${k}: ${t.same} identical,${rel > 0 ? ` ${t.close} within ${rel} relative,` : ""} ${t.differ} differ, ${t.onlyNow} only now, ${onlyBefore.get(k) ?? 0} only before`);
     if (k !== "live, full window" && (t.differ || t.onlyNow || onlyBefore.get(k))) bad = true;
   }
-  console.log(bad ? "results changed" : "offline reports and filling runs identical");
+  if (rel > 0) console.log(`largest relative difference of a number: ${worst.rel.toExponential(2)}`);
+  console.log(bad ? "results changed" : rel > 0 ? `offline reports and filling runs identical or within ${rel} relative` : "offline reports and filling runs identical");
   process.exitCode = bad ? 1 : 0;
 }
