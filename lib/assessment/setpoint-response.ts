@@ -221,6 +221,9 @@ export interface SetPointResponseInput {
 export function setPointResponse(x: SetPointResponseInput): SetPointResponse | null {
   const { T } = x;
   const sp = x.sp;
+  let moves = false;
+  for (const [s, e] of x.stretches) for (let i = s + 1; i < e && !moves; i++) moves = Math.abs(sp[i]! - sp[i - 1]!) > 1e-9;
+  if (!moves) return null;
   // Block lengths 1, 2, 4, ... samples: the apparent dead time from the finest at which the
   // response is significant, t63 from the first at which the fitted horizon reaches it.
   let deadTimeS: number | null = null;
