@@ -12,9 +12,11 @@
  * block of the fit and one sample) and the 20 % time, t63 within a fifth of scipy's (plus the
  * fit's block length), the SIMC loop reads fast (t63 under 4 apparent dead times; scipy's ratio
  * is 8 / 4 = 2 at the first move) and the slow one sluggish (655 / 4), also as the verdict of
- * `assessLoop` without a configured dead time. Swanda & Seborg (Proc. ACC 1999; from memory) judge
+ * `assessLoop` without a configured dead time (the code before this figure read that loop healthy in
+ * 10 of 10 seeds). Swanda & Seborg (Proc. ACC 1999; from memory) judge
  * a PI loop by its set-point response time against its dead time in the same way.
  */
+import { spawnSync } from "node:child_process";
 import { readFileSync } from "node:fs";
 import { dirname, join } from "node:path";
 import { fileURLToPath } from "node:url";
@@ -32,7 +34,10 @@ interface RefCase {
   t20S: number;
   t63S: number;
 }
-const fixture = JSON.parse(readFileSync(join(dirname(fileURLToPath(import.meta.url)), "../reference/fixtures/setpoint-response.json"), "utf8")) as { cases: RefCase[] };
+const here = dirname(fileURLToPath(import.meta.url));
+const fixtureText = readFileSync(join(here, "../reference/fixtures/setpoint-response.json"), "utf8");
+const fixture = JSON.parse(fixtureText) as { cases: RefCase[] };
+const hasScipy = spawnSync("python3", ["-c", "import numpy, scipy"], { encoding: "utf8" }).status === 0;
 const ref = (name: string) => fixture.cases.find((c) => c.name === name)!;
 
 /** Set-point steps of about 5 % at irregular intervals of 0.7–1.3 × `every` samples (a regular square wave would read as an outside cycle). */
@@ -50,6 +55,12 @@ function responseOf(samples: ReturnType<typeof simulateLoop>, ti: number) {
 }
 
 describe("set-point response from routine data", () => {
+  it.skipIf(!hasScipy)("the fixture is up to date with its scipy generator", () => {
+    const run = spawnSync("python3", [join(here, "../reference/generate_setpoint_response.py"), "--stdout"], { encoding: "utf8" });
+    expect(run.status, run.stderr).toBe(0);
+    expect(run.stdout).toBe(fixtureText);
+  });
+
   it.each([
     { name: "simc", n: 8000, every: 400, fast: true },
     { name: "sluggish", n: 24_000, every: 2000, fast: false },
