@@ -14,6 +14,7 @@ import { fmt } from "./oscillation";
 import type { SensorFigures } from "./sensor";
 import { isLine, type SpectralLine } from "./spectral-line";
 import type { AcfDecay } from "./acf-decay";
+import type { SetPointSigns } from "./setpoint-response";
 import type { Diagnosis, StictionFigures } from "./types";
 
 export interface DiagnosisInput {
@@ -51,6 +52,8 @@ export interface DiagnosisInput {
   spectralLine: SpectralLine | null;
   /** Miao–Seborg ACF decay ratio of the differenced error (acf-decay.ts), null without a full swing. */
   acfDecay?: AcfDecay | null;
+  /** The loop's response to its own set-point moves against its apparent dead time (setpoint-response.ts). */
+  setPoint?: SetPointSigns | null;
 }
 
 /** Per-period ACF ratio above which an oscillation counts as sustained (a damped mode decays). */
@@ -246,20 +249,23 @@ export function diagnose(x: DiagnosisInput): Diagnosis {
   const noSwing = x.overshoot !== null && x.overshoot < NO_SWING;
   const tauToDead = x.disturbanceTimeToDeadTime;
   const slow = tauToDead !== null && tauToDead > SLUGGISH_TAU;
-  const fast = tauToDead !== null && tauToDead < FAST_TAU;
-  if (!fast && ((harris !== null && harris > SLUGGISH_HARRIS) || noSwing || slow || (idle !== null && idle > 0.6))) {
+  const fast = (tauToDead !== null && tauToDead < FAST_TAU) || x.setPoint?.fast === true;
+  const spSlow = x.setPoint?.slow === true;
+  if (!fast && ((harris !== null && harris > SLUGGISH_HARRIS) || noSwing || slow || spSlow || (idle !== null && idle > 0.6))) {
     const ev = ["likely sluggish tuning: no oscillation, and the loop removes its disturbances slowly"];
     if (harris !== null) ev.push(`variance ${fmt(harris, 1)}× the minimum the dead time allows (Harris index; a well-tuned PI loop is typically within 1–3, common practice)`);
     if (noSwing) ev.push(`the error hardly swings back past the set point after a disturbance (autocorrelation dip ${fmt(-x.overshoot!)} of its lag-1 value): an overdamped, slow recovery`);
     if (slow) ev.push(`the slowest disturbance-response pole has a time constant of ${fmt(x.disturbanceTimeToDeadTime!, 0)} dead times; tuning for τc of one to a few dead times (SIMC, Skogestad 2003) removes disturbances far faster`);
+    if (spSlow) ev.push(x.setPoint!.line!);
     if (idle !== null) ev.push(`idle index ${fmt(idle)} (${idle > 0.6 ? "near +1: sluggish" : "not a sign by itself: near +1 would be sluggish"}; Hägglund 1999)`);
     // The Harris index and the disturbance time both weigh the loop's slowness against the dead
     // time, from the same error: one line of evidence, counted once (ours).
-    const votes = ((harris !== null && harris > SLUGGISH_HARRIS) || slow ? 1 : 0) + (noSwing ? 1 : 0) + (idle !== null && idle > 0.6 ? 1 : 0);
+    const votes = ((harris !== null && harris > SLUGGISH_HARRIS) || slow ? 1 : 0) + (noSwing ? 1 : 0) + (idle !== null && idle > 0.6 ? 1 : 0) + (spSlow ? 1 : 0);
     return { label: "sluggish-tuning", confidence: clamp(0.45 + 0.2 * votes), evidence: ev };
   }
   const ev = ["likely healthy: no oscillation, no stiction sign, the error does not ring"];
-  if (fast) ev.push(`the slowest disturbance-response pole has a time constant of ${fmt(tauToDead!, 1)} dead times: disturbances are removed about as fast as the dead time allows (SIMC τc of one to a few dead times, Skogestad 2003)${harris !== null && harris > SLUGGISH_HARRIS ? "; the Harris index is high, but a PI loop on a process with lags cannot reach minimum variance" : ""}`);
+  if (x.setPoint?.line) ev.push(x.setPoint.line);
+  if (tauToDead !== null && tauToDead < FAST_TAU) ev.push(`the slowest disturbance-response pole has a time constant of ${fmt(tauToDead!, 1)} dead times: disturbances are removed about as fast as the dead time allows (SIMC τc of one to a few dead times, Skogestad 2003)${harris !== null && harris > SLUGGISH_HARRIS ? "; the Harris index is high, but a PI loop on a process with lags cannot reach minimum variance" : ""}`);
   if (idle !== null) ev.push(`idle index ${fmt(idle)} (not sluggish; Hägglund 1999)`);
   if (harris !== null) ev.push(`variance ${fmt(harris, 1)}× the minimum for the dead time (Harris index)`);
   return { label: "healthy", confidence: clamp(0.6 + (idle !== null ? 0.1 : 0) + ((harris !== null && harris < 3) || fast ? 0.1 : 0)), evidence: ev };

@@ -14,6 +14,7 @@ import { countLoadDisturbances, detectOscillation, oscillatesAt } from "./oscill
 import { autocorrelation, variance } from "./signal";
 import { sensorFigures } from "./sensor";
 import { idleIndex } from "./sluggishness";
+import { setPointResponse, setPointSigns, spanTimeScale } from "./setpoint-response";
 import { strongestLine } from "./spectral-line";
 import { assessStiction } from "./stiction";
 import type { AssessSample, LoopAssessmentReport } from "./types";
@@ -199,12 +200,18 @@ export function assessLoop(input: readonly AssessSample[], config: LoopConfig): 
     break;
   }
   const decorrelationS = decorrelation * w.T;
-  const neededS = Math.max(Math.min(SPAN_FACTOR * timeScale, DECORRELATIONS * decorrelationS), 200 * config.samplePeriodS, 4 * decorrelationS);
+  // The loop's response to its own set-point moves (setpoint-response.ts): a sluggishness sign,
+  // and an apparent dead time that caps the time scale the data span is judged against.
+  const spPct = w.sp.map((v) => (100 * (v - config.pvLo)) / w.pvSpan);
+  const spResp = setPointResponse({ pv: w.pvPct, sp: spPct, stretches: constantSpStretches(w, 100, true), T: w.T, horizonS: 20 * (ti ?? timeScale) });
+  const spSigns = setPointSigns(spResp, integrating);
+  const spanScale = spanTimeScale(timeScale, dead, spSigns.line !== null ? spResp : null, cautions);
+  const neededS = Math.max(Math.min(SPAN_FACTOR * spanScale, DECORRELATIONS * decorrelationS), 200 * config.samplePeriodS, 4 * decorrelationS);
 
   const diagnosis = diagnose({
     spanS: w.spanS,
     neededS,
-    timeScaleS: timeScale,
+    timeScaleS: spanScale,
     sensor,
     manual: usage.manual,
     hasMode: w.hasMode,
@@ -227,6 +234,7 @@ export function assessLoop(input: readonly AssessSample[], config: LoopConfig): 
     spectralLine: line,
     acfDecay,
     noisePct: usage.pvNoisePct,
+    setPoint: spSigns,
   });
 
   return {
@@ -270,6 +278,7 @@ export function assessLoop(input: readonly AssessSample[], config: LoopConfig): 
       disturbanceDecayRatio: dist?.decayRatio ?? null,
       disturbanceTimeToDeadTime: distTauToDead,
       acfDecay: acfDecay ? { ratio: acfDecay.ratio, decayRatio: acfDecay.decayRatio, periodS: acfDecay.periodS, depth: acfDecay.depth, ratioSd: acfDecay.ratioSd } : null,
+      setPointResponse: spResp ? { deadTimeS: spResp.deadTimeS, t63S: spResp.t63S, horizonS: spResp.horizonS, ratio: spResp.ratio, lowerBound: spResp.lowerBound, strength: spResp.strength } : null,
       errorAcf: Array.from(acf.subarray(0, Math.min(acf.length, 400)), (v) => Math.round(v * 1e4) / 1e4),
     },
   };

@@ -1,0 +1,102 @@
+/**
+ * The loop's response to its own set-point moves (setpoint-response.ts), checked against the
+ * closed-loop step responses computed with scipy.signal.lfilter by
+ * tests/reference/generate_setpoint_response.py (fixture tests/reference/fixtures/setpoint-response.json)
+ * for the loop of loop-sim.ts (K = 1, τ = 20 s, two samples of transport delay, T = 1 s):
+ * - SIMC tuning (Skogestad, J. Process Control 13, 2003; from memory: kp 2.9, Ti 20 s) moves PV
+ *   4 s after a set-point step, reaches 20 % after 5 s and 63 % after 8 s;
+ * - a twentieth of that gain with Ti = 100 s moves after 4 s too, reaches 20 % after 81 s and 63 %
+ *   after 655 s.
+ * Simulated with measurement noise and an AR(1) load, set-point steps of about 5 % at irregular
+ * intervals, over 10 seeds each: the apparent dead time lies between the first move (less one
+ * block of the fit and one sample) and the 20 % time, t63 within a fifth of scipy's (plus the
+ * fit's block length), the SIMC loop reads fast (t63 under 4 apparent dead times; scipy's ratio
+ * is 8 / 4 = 2 at the first move) and the slow one sluggish (655 / 4), also as the verdict of
+ * `assessLoop` without a configured dead time (the code before this figure read that loop healthy in
+ * 10 of 10 seeds). Swanda & Seborg (Proc. ACC 1999; from memory) judge
+ * a PI loop by its set-point response time against its dead time in the same way.
+ */
+import { spawnSync } from "node:child_process";
+import { readFileSync } from "node:fs";
+import { dirname, join } from "node:path";
+import { fileURLToPath } from "node:url";
+import { describe, expect, it } from "vitest";
+import { assessLoop, parseLoopConfig } from "@/lib/assessment";
+import { setPointResponse, setPointSigns } from "@/lib/assessment/setpoint-response";
+import { flowLoopJson, simulateLoop } from "./loop-sim";
+
+interface RefCase {
+  name: string;
+  kp: number;
+  ti: number;
+  d: number;
+  delayS: number;
+  t20S: number;
+  t63S: number;
+}
+const here = dirname(fileURLToPath(import.meta.url));
+const fixtureText = readFileSync(join(here, "../reference/fixtures/setpoint-response.json"), "utf8");
+const fixture = JSON.parse(fixtureText) as { cases: RefCase[] };
+const hasScipy = spawnSync("python3", ["-c", "import numpy, scipy"], { encoding: "utf8" }).status === 0;
+const ref = (name: string) => fixture.cases.find((c) => c.name === name)!;
+
+/** Set-point steps of about 5 % at irregular intervals of 0.7–1.3 × `every` samples (a regular square wave would read as an outside cycle). */
+function steps(n: number, every: number): { at: number; sp: number }[] {
+  const out: { at: number; sp: number }[] = [];
+  for (let k = every, i = 0; k < n; i++, k += Math.round(every * (0.7 + 0.6 * ((i * 0.618) % 1)))) out.push({ at: k, sp: i % 2 === 0 ? 55 : 50 - (i % 3) });
+  return out;
+}
+
+function responseOf(samples: ReturnType<typeof simulateLoop>, ti: number) {
+  const n = samples.length;
+  const pv = Float64Array.from(samples, (s) => s.pv);
+  const sp = Float64Array.from(samples, (s) => s.sp);
+  return setPointResponse({ pv, sp, stretches: [[0, n]], T: 1, horizonS: 20 * ti });
+}
+
+describe("set-point response from routine data", () => {
+  it.skipIf(!hasScipy)("the fixture is up to date with its scipy generator", () => {
+    const run = spawnSync("python3", [join(here, "../reference/generate_setpoint_response.py"), "--stdout"], { encoding: "utf8" });
+    expect(run.status, run.stderr).toBe(0);
+    expect(run.stdout).toBe(fixtureText);
+  });
+
+  it.each([
+    { name: "simc", n: 8000, every: 400, fast: true },
+    { name: "sluggish", n: 24_000, every: 2000, fast: false },
+  ])("$name: dead time, t63 and the sign against scipy's step response (10 seeds)", ({ name, n, every, fast }) => {
+    const c = ref(name);
+    for (let seed = 1; seed <= 10; seed++) {
+      const samples = simulateLoop({ seed, n, kp: c.kp, ti: c.ti, deadS: c.d, noise: 0.1, loadPole: 0.99, loadSigma: 0.05, spSteps: steps(n, every) });
+      const r = responseOf(samples, c.ti);
+      expect(r, `seed ${seed}`).not.toBeNull();
+      // the tangent may fall up to a block before the first move, plus a sample of the hold
+      expect(r!.deadTimeS, `seed ${seed}`).toBeGreaterThanOrEqual(c.delayS - 1 - r!.resolutionS);
+      expect(r!.deadTimeS, `seed ${seed}`).toBeLessThanOrEqual(c.t20S + r!.resolutionS);
+      expect(r!.t63S, `seed ${seed}`).not.toBeNull();
+      expect(Math.abs(r!.t63S! - c.t63S), `seed ${seed}: t63 ${r!.t63S}`).toBeLessThanOrEqual(0.2 * c.t63S + r!.resolutionS);
+      const signs = setPointSigns(r, false);
+      expect(signs.fast, `seed ${seed}: ratio ${r!.ratio}`).toBe(fast);
+      expect(signs.slow, `seed ${seed}: ratio ${r!.ratio}`).toBe(!fast);
+    }
+  });
+
+  it("reads the slow loop as sluggish without a configured dead time, with the set-point evidence (10 seeds)", () => {
+    const c = ref("sluggish");
+    const cfg = parseLoopConfig(flowLoopJson("FIC-207", { deadTimeS: null }, { kp: c.kp, ti: c.ti }));
+    for (let seed = 1; seed <= 10; seed++) {
+      const n = 24_000;
+      const r = assessLoop(simulateLoop({ seed, n, kp: c.kp, ti: c.ti, deadS: c.d, spSteps: steps(n, 2000) }), cfg);
+      expect(r.diagnosis.label, `seed ${seed}`).toBe("sluggish-tuning");
+      expect(r.diagnosis.evidence.some((l) => l.includes("set point's moves are followed slowly")), `seed ${seed}`).toBe(true);
+      expect(r.harrisIndex, "the Harris index stays null without a configured dead time").toBeNull();
+      expect(r.cautions.some((l) => l.startsWith("Apparent dead time")), `seed ${seed}`).toBe(true);
+    }
+  });
+
+  it("is null when the set point never moves", () => {
+    const samples = simulateLoop({ seed: 3, n: 6000, kp: 2.9, ti: 20 });
+    expect(responseOf(samples, 20)).toBeNull();
+    expect(setPointSigns(null, false)).toEqual({ slow: false, fast: false, line: null });
+  });
+});
