@@ -34,7 +34,7 @@ export interface DiagnosisInput {
   oscillation: { detected: boolean; periodS: number | null; regularity: number | null; persistence: number | null; amplitudePct: number | null };
   oscillationInManual: boolean | null;
   spOscillates: boolean;
-  stiction: StictionFigures & { curveFitIndex: number | null; modelFitRatio?: number | null };
+  stiction: StictionFigures & { curveFitIndex: number | null; modelFitRatio?: number | null; needsS?: number };
   /** Order of cause and effect within the error's half-cycles (load-or-valve.ts); null when not run. */
   loadOrValve?: LoadOrValveFigures | null;
   compressed: boolean;
@@ -199,6 +199,8 @@ export function diagnose(x: DiagnosisInput): Diagnosis {
   // Stiction likely without a cycle in the whole record: a level loop's stick-slip ramps
   // (stiction.ts, quietLevelStiction) or a cycle between set-point moves (ringsBetweenMoves).
   if (x.stiction.verdict === "likely" && !(x.ringDepth !== null && x.ringDepth < -0.15)) return { label: "valve-stiction", confidence: stictionConfidence(x, 0.45), evidence: x.stiction.evidence };
+  // A stick-slip shape too few cycles can confirm (stiction-few-cycles.ts): the time still needed, not a guess.
+  if (x.stiction.needsS) return { label: "undetermined", confidence: 0, evidence: x.stiction.evidence, reason: "too few cycles to tell a sticking valve from the loop's own mode", needsS: x.stiction.needsS };
   if (x.ringDepth !== null && x.ringDepth < -0.15) {
     if (x.ringDepth < AGGRESSIVE_RING) {
       return {

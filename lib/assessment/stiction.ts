@@ -35,6 +35,7 @@ import { findHalfCycles, fitShape, sineShape } from "./half-cycles";
 import { crossCovariance } from "./signal";
 import { fitStictionModel, readStictionFit, type StictionFitReading } from "./stiction-fit";
 import { COARSE_BLOCKS_PER_CYCLE, coarseLevelFit, type CoarseLevelFit } from "./stiction-integrating";
+import { fewCyclesWait } from "./stiction-few-cycles";
 import { setPointRinging } from "./stiction-setpoint";
 import type { StictionFigures, StictionTests } from "./types";
 
@@ -61,6 +62,11 @@ export interface StictionInput {
 
 export interface StictionResult extends StictionFigures {
   tests: StictionTests;
+  /**
+   * Data time still needed, s, when the half-cycles lean to a stick-slip shape that too few
+   * cycles can confirm and the record is too short for the model fit (stiction-few-cycles.ts).
+   */
+  needsS?: number;
 }
 
 /** Share of the stretch with the output at a limit above which the model fit is withheld (ours). */
@@ -337,7 +343,14 @@ export function assessStiction(input: StictionInput): StictionResult {
   else if (shape === "sinusoidal" && mr === "clear") evidence.push("the two tests disagree: the half-cycles are sinusoidal, but a sticking valve explains PV better than a linear one (undetermined)");
   else if (shape === "sinusoidal") verdict = "unlikely";
   else if (mr === "none") verdict = "unlikely";
-  else if (horch === "even") verdict = "unlikely";
+  else if (fit && model.figures.note === "too few cycles" && shape === "inconclusive" && fit.index >= (input.ringingOnly ? 0.65 : 0.6)) {
+    // too few cycles for either test to decide: say how long to wait rather than guess (stiction-few-cycles.ts)
+    const wait = fewCyclesWait(u.length, P, input.T, fit.halfCycles);
+    if (wait) {
+      evidence.push(wait.line);
+      return { verdict, evidence, tests, needsS: wait.needsS };
+    }
+  } else if (horch === "even") verdict = "unlikely";
   if (verdict === "likely") {
     evidence.unshift(`likely valve stiction: ${mr === "clear" ? "a sticking valve explains PV markedly better than a linear one" : "the cycles have the shape of a stick-slip cycle"}`);
     if (horch === "even") evidence.push("the cross-correlation test reads even, as it does whenever proportional action dominates at the cycle's period; the shape test is the stronger sign here");

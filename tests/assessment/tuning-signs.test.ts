@@ -18,9 +18,10 @@
  */
 import { describe, expect, it } from "vitest";
 import { disturbanceResponse } from "@/lib/assessment/closed-loop";
-import { diagnose, type DiagnosisInput } from "@/lib/assessment/diagnosis";
+import { diagnose } from "@/lib/assessment/diagnosis";
 import { autocorrelation } from "@/lib/assessment/signal";
 import { Prng } from "@/simulators/prng";
+import { diagnosisInput as input } from "./diagnosis-input";
 import { ar2Noise } from "./loop-sim";
 
 /** AR(2) coefficients for damping ζ and a period of `period` samples. */
@@ -39,34 +40,6 @@ function exactAcf(a1: number, a2: number, lags: number): number[] {
 }
 
 /** A quiet loop without oscillation, stiction sign or spectral line: only the tuning signs vary. */
-function input(o: Partial<DiagnosisInput>): DiagnosisInput {
-  return {
-    spanS: 20_000,
-    neededS: 2_000,
-    timeScaleS: 100,
-    sensor: { badQuality: 0, flatShare: 0, longestFlatS: 0, outOfRange: 0, failureSignal: 0 },
-    manual: 0,
-    hasMode: true,
-    heldOutput: 0,
-    saturation: 0,
-    limitAlternations: 0,
-    saturationMinor: 0,
-    oscillation: { detected: false, periodS: 120, regularity: 0.5, persistence: null, amplitudePct: null },
-    oscillationInManual: null,
-    spOscillates: false,
-    stiction: { verdict: "unlikely", evidence: [], curveFitIndex: null, modelFitRatio: null },
-    compressed: false,
-    harrisIndex: null,
-    idleIndex: null,
-    disturbanceDecayRatio: null,
-    disturbanceTimeToDeadTime: null,
-    ringDepth: -0.05,
-    overshoot: 0.2,
-    noisePct: 0.1,
-    spectralLine: null,
-    ...o,
-  };
-}
 
 describe("quarter-amplitude swing of the error", () => {
   it("the exact AR(2) autocorrelation dips to −√DR, a half at quarter-amplitude damping (Yule–Walker)", () => {
