@@ -14,6 +14,7 @@ import { fmt } from "./oscillation";
 import type { SensorFigures } from "./sensor";
 import { isLine, type SpectralLine } from "./spectral-line";
 import type { AcfDecay } from "./acf-decay";
+import { sluggishConfidence, temperForCompression, temperForWeakCycle } from "./tuning-confidence";
 import type { Diagnosis, StictionFigures } from "./types";
 
 export interface DiagnosisInput {
@@ -100,6 +101,11 @@ const FAST_TAU = 5;
 const clamp = (v: number, lo = 0.3, hi = 0.95) => Math.min(hi, Math.max(lo, v));
 
 export function diagnose(x: DiagnosisInput): Diagnosis {
+  const d = temperForCompression(diagnoseFigures(x), { compressed: x.compressed, oscillationDetected: x.oscillation.detected, saturation: x.saturation });
+  return temperForWeakCycle(d, { regularity: x.oscillation.regularity, periodS: x.oscillation.periodS, spectralLine: x.spectralLine });
+}
+
+function diagnoseFigures(x: DiagnosisInput): Diagnosis {
   const sf = x.sensor;
   if (sf.badQuality > 0.05) return { label: "sensor-fault", confidence: clamp(0.6 + sf.badQuality), evidence: [`likely a measurement fault: ${pct(sf.badQuality)} of samples have bad quality`] };
   if (x.manual > 0.5) return { label: "manual", confidence: clamp(x.manual), evidence: [`likely not in service: in manual ${pct(x.manual)} of the time`] };
@@ -253,10 +259,9 @@ export function diagnose(x: DiagnosisInput): Diagnosis {
     if (noSwing) ev.push(`the error hardly swings back past the set point after a disturbance (autocorrelation dip ${fmt(-x.overshoot!)} of its lag-1 value): an overdamped, slow recovery`);
     if (slow) ev.push(`the slowest disturbance-response pole has a time constant of ${fmt(x.disturbanceTimeToDeadTime!, 0)} dead times; tuning for τc of one to a few dead times (SIMC, Skogestad 2003) removes disturbances far faster`);
     if (idle !== null) ev.push(`idle index ${fmt(idle)} (${idle > 0.6 ? "near +1: sluggish" : "not a sign by itself: near +1 would be sluggish"}; Hägglund 1999)`);
-    // The Harris index and the disturbance time both weigh the loop's slowness against the dead
-    // time, from the same error: one line of evidence, counted once (ours).
-    const votes = ((harris !== null && harris > SLUGGISH_HARRIS) || slow ? 1 : 0) + (noSwing ? 1 : 0) + (idle !== null && idle > 0.6 ? 1 : 0);
-    return { label: "sluggish-tuning", confidence: clamp(0.45 + 0.2 * votes), evidence: ev };
+    // A work item only when the Harris index and the disturbance time agree (tuning-confidence.ts).
+    const c = sluggishConfidence({ harris: harris !== null && harris > SLUGGISH_HARRIS, slow, noSwing, idle: idle !== null && idle > 0.6, hasEstimators: x.disturbanceTimeToDeadTime !== null || harris !== null });
+    return { label: "sluggish-tuning", confidence: c.confidence, evidence: [...ev, ...c.notes] };
   }
   const ev = ["likely healthy: no oscillation, no stiction sign, the error does not ring"];
   if (fast) ev.push(`the slowest disturbance-response pole has a time constant of ${fmt(tauToDead!, 1)} dead times: disturbances are removed about as fast as the dead time allows (SIMC τc of one to a few dead times, Skogestad 2003)${harris !== null && harris > SLUGGISH_HARRIS ? "; the Harris index is high, but a PI loop on a process with lags cannot reach minimum variance" : ""}`);
