@@ -52,6 +52,8 @@ export interface DiagnosisInput {
   spectralLine: SpectralLine | null;
   /** Miao–Seborg ACF decay ratio of the differenced error (acf-decay.ts), null without a full swing. */
   acfDecay?: AcfDecay | null;
+  /** The error's spectral peak (no oscillation found) also cycles PV in a manual stretch (manual-cycle.ts). */
+  lineInManual?: boolean;
 }
 
 /** Per-period ACF ratio above which an oscillation counts as sustained (a damped mode decays). */
@@ -190,6 +192,9 @@ function diagnoseFigures(x: DiagnosisInput): Diagnosis {
       confidence: clamp(0.5 + 0.5 * (1 - (persistence ?? 0.5))),
       evidence: ["likely aggressive tuning: a regular, decaying (linear) oscillation of the loop's own mode", oscLine, ...x.stiction.evidence],
     };
+  }
+  if (x.lineInManual && x.spectralLine) {
+    return { label: "external-disturbance", confidence: 0.7, evidence: [`likely an oscillation from outside: a cycle of about ${fmt(x.spectralLine.periodS, 0)} s in the error (a spectral peak ${fmt(x.spectralLine.ratio, 0)}× its neighbours) persists while the loop is in manual, where neither tuning nor a valve can drive it (Hägglund 1995)`] };
   }
   if (x.ringDepth !== null && x.ringDepth < -0.15) {
     if (x.stiction.verdict === "likely" && x.loadOrValve?.reading !== "load") {
