@@ -15,6 +15,7 @@ import type { SensorFigures } from "./sensor";
 import { isLine, type SpectralLine } from "./spectral-line";
 import type { AcfDecay } from "./acf-decay";
 import type { SetPointSigns } from "./setpoint-response";
+import { sluggishConfidence, temperForCompression, temperForWeakCycle } from "./tuning-confidence";
 import type { Diagnosis, StictionFigures } from "./types";
 
 export interface DiagnosisInput {
@@ -54,6 +55,8 @@ export interface DiagnosisInput {
   acfDecay?: AcfDecay | null;
   /** The loop's response to its own set-point moves against its apparent dead time (setpoint-response.ts). */
   setPoint?: SetPointSigns | null;
+  /** The error's spectral peak (no oscillation found) also cycles PV in a manual stretch (manual-cycle.ts). */
+  lineInManual?: boolean;
 }
 
 /** Per-period ACF ratio above which an oscillation counts as sustained (a damped mode decays). */
@@ -103,6 +106,11 @@ const FAST_TAU = 5;
 const clamp = (v: number, lo = 0.3, hi = 0.95) => Math.min(hi, Math.max(lo, v));
 
 export function diagnose(x: DiagnosisInput): Diagnosis {
+  const d = temperForCompression(diagnoseFigures(x), { compressed: x.compressed, oscillationDetected: x.oscillation.detected, saturation: x.saturation });
+  return temperForWeakCycle(d, { regularity: x.oscillation.regularity, periodS: x.oscillation.periodS, spectralLine: x.spectralLine });
+}
+
+function diagnoseFigures(x: DiagnosisInput): Diagnosis {
   const sf = x.sensor;
   if (sf.badQuality > 0.05) return { label: "sensor-fault", confidence: clamp(0.6 + sf.badQuality), evidence: [`likely a measurement fault: ${pct(sf.badQuality)} of samples have bad quality`] };
   if (x.manual > 0.5) return { label: "manual", confidence: clamp(x.manual), evidence: [`likely not in service: in manual ${pct(x.manual)} of the time`] };
@@ -188,6 +196,9 @@ export function diagnose(x: DiagnosisInput): Diagnosis {
       evidence: ["likely aggressive tuning: a regular, decaying (linear) oscillation of the loop's own mode", oscLine, ...x.stiction.evidence],
     };
   }
+  if (x.lineInManual && x.spectralLine) {
+    return { label: "external-disturbance", confidence: 0.7, evidence: [`likely an oscillation from outside: a cycle of about ${fmt(x.spectralLine.periodS, 0)} s in the error (a spectral peak ${fmt(x.spectralLine.ratio, 0)}× its neighbours) persists while the loop is in manual, where neither tuning nor a valve can drive it (Hägglund 1995)`] };
+  }
   if (x.ringDepth !== null && x.ringDepth < -0.15) {
     if (x.stiction.verdict === "likely" && x.loadOrValve?.reading !== "load") {
       return { label: "valve-stiction", confidence: stictionConfidence(x, 0.5), evidence: [...x.stiction.evidence.slice(0, 1), `irregular cycles of about ${fmt(osc.periodS, 1)} s`, ...x.stiction.evidence.slice(1), ...orderLine(x)] };
@@ -260,10 +271,10 @@ export function diagnose(x: DiagnosisInput): Diagnosis {
     if (slow) ev.push(`the slowest disturbance-response pole has a time constant of ${fmt(x.disturbanceTimeToDeadTime!, 0)} dead times; tuning for τc of one to a few dead times (SIMC, Skogestad 2003) removes disturbances far faster`);
     if (spSlow) ev.push(x.setPoint!.line!);
     if (idle !== null) ev.push(`idle index ${fmt(idle)} (${idle > 0.6 ? "near +1: sluggish" : "not a sign by itself: near +1 would be sluggish"}; Hägglund 1999)`);
-    // The Harris index and the disturbance time both weigh the loop's slowness against the dead
-    // time, from the same error: one line of evidence, counted once (ours).
-    const votes = ((harris !== null && harris > SLUGGISH_HARRIS) || slow ? 1 : 0) + (noSwing ? 1 : 0) + (idle !== null && idle > 0.6 ? 1 : 0) + (spSlow ? 1 : 0);
-    return { label: "sluggish-tuning", confidence: clamp(0.45 + 0.2 * votes), evidence: ev };
+    // A work item only when the Harris index and the disturbance time agree, or the loop's own
+    // set-point response is slow (tuning-confidence.ts).
+    const c = sluggishConfidence({ harris: harris !== null && harris > SLUGGISH_HARRIS, slow, noSwing, idle: idle !== null && idle > 0.6, setPoint: spSlow, hasEstimators: x.disturbanceTimeToDeadTime !== null || harris !== null });
+    return { label: "sluggish-tuning", confidence: c.confidence, evidence: [...ev, ...c.notes] };
   }
   const ev = ["likely healthy: no oscillation, no stiction sign, the error does not ring"];
   if (x.setPoint?.line) ev.push(x.setPoint.line);

@@ -10,6 +10,7 @@ import { integralTime, isIntegrating, type LoopConfig } from "./config";
 import { loadOrValve } from "./load-or-valve";
 import { diagnose } from "./diagnosis";
 import { harrisIndex } from "./harris";
+import { persistsInManual } from "./manual-cycle";
 import { countLoadDisturbances, detectOscillation, oscillatesAt } from "./oscillation";
 import { autocorrelation, variance } from "./signal";
 import { sensorFigures } from "./sensor";
@@ -18,6 +19,7 @@ import { setPointResponse, setPointSigns, spanTimeScale } from "./setpoint-respo
 import { strongestLine } from "./spectral-line";
 import { assessStiction } from "./stiction";
 import type { AssessSample, LoopAssessmentReport } from "./types";
+import { WEAK_LINE } from "./tuning-confidence";
 import { computeUsage } from "./usage";
 import { buildWindow, constantSpStretches, isClosed } from "./window";
 
@@ -68,18 +70,7 @@ export function assessLoop(input: readonly AssessSample[], config: LoopConfig): 
   const osc = detectOscillation(eClosed, w.T, { acf: acfFull });
   const periodSamples = osc.periodS ? osc.periodS / w.T : null;
   // Oscillation while in manual (outside cause): PV of the manual stretches, at the same period.
-  let oscillationInManual: boolean | null = null;
-  if (osc.detected && periodSamples && w.hasMode) {
-    let s = -1;
-    for (let i = 0; i <= w.n; i++) {
-      const man = i < w.n && w.good[i] && !isClosed(w, i);
-      if (man && s < 0) s = i;
-      else if (!man && s >= 0) {
-        if (i - s >= 3 * periodSamples) oscillationInManual = (oscillationInManual ?? false) || oscillatesAt(w.pvPct, s, i, periodSamples);
-        s = -1;
-      }
-    }
-  }
+  const oscillationInManual = osc.detected && periodSamples && w.hasMode ? persistsInManual(w, periodSamples) : null;
   const spVar = variance(w.sp);
   const spOscillates = osc.detected && periodSamples !== null && spVar > 0 && oscillatesAt(w.sp, 0, w.n, periodSamples);
 
@@ -185,8 +176,10 @@ export function assessLoop(input: readonly AssessSample[], config: LoopConfig): 
   const distTauToDead = distTau !== null && dead !== null && dead > 0 ? distTau / dead : null;
   if (dist) cautions.push("disturbanceResponse: poles of an AR model of the control error in routine operation; they mix the loop's response with the disturbance's own dynamics and are not the loop's poles.");
 
-  // A periodic component from outside shows as a spectral line in the error.
+  // A periodic component from outside shows as a spectral line in the error; a weaker peak that
+  // persists in PV while the loop is in manual is outside too (manual-cycle.ts).
   const line = strongestLine(w.e, include, w.T);
+  const lineInManual = !osc.detected && line && line.ratio >= WEAK_LINE && w.hasMode ? persistsInManual(w, line.periodS / w.T) === true : false;
 
   const acf = acfFull.subarray(0, Math.min(acfFull.length, Math.max(20, Math.round((osc.periodS ?? timeScale * 2) / w.T) * 2)));
 
@@ -232,6 +225,7 @@ export function assessLoop(input: readonly AssessSample[], config: LoopConfig): 
     ringDepth: periodSamples ? ringDepth : null,
     overshoot,
     spectralLine: line,
+    lineInManual,
     acfDecay,
     noisePct: usage.pvNoisePct,
     setPoint: spSigns,

@@ -7,11 +7,13 @@
  * of a few recordings through the `assess` command's files.
  *
  *   npm run bench:assess [-- --set dev|frozen|holdout|all] [--no-cli] [--misses]
- *   npm run bench:assess -- --study N[,M...] [--label L] [--no-cli]
+ *   npm run bench:assess -- --study N[,M...] [--label L] [--no-cli] [--evidence] [--dump FILE]
  *
  * `--study` draws DEV's plan from base seeds of one's own (never FROZEN's or HOLDOUT's), to look
  * at many more cases of one failure mode than DEV holds; `--label` keeps one label's recordings.
  * Study sets are for finding how a method fails; their misses are listed like DEV's.
+ * `--evidence` adds each listed miss's evidence lines and key figures; `--dump FILE` appends one
+ * JSON line per DEV or study recording (label, verdict, figures, evidence), never FROZEN's or HOLDOUT's.
  *
  * Targets (FROZEN and HOLDOUT): >= 85 % correct over the eight labels, no label below 70 %, verdicts with
  * confidence >= 0.8 right >= 80 % of the time, no oscillation on healthy or sluggish loops;
@@ -26,10 +28,11 @@ import { assessLoop, parseAssessCsv, parseLoopConfig } from "@/lib/assessment";
 import { BENCH_SETS, benchmarkPlan, generateRecording, isCorrect, LABELS, writeRecordingFiles, type BenchRecording, type BenchSet } from "@/simulators/benchmark/generate";
 import { simulateRecording, type RecordingSpec } from "@/simulators/benchmark/recording-sim";
 import { simcTuning } from "@/simulators/benchmark/tuning";
+import { dumpLine, keyFigures, printMissEvidence } from "./assess-dump";
 import { pct, printAccuracy, printConfusion } from "./label-table";
 
 const { values: opts } = parseArgs({
-  options: { set: { type: "string", default: "all" }, "no-cli": { type: "boolean", default: false }, misses: { type: "boolean", default: false }, study: { type: "string" }, label: { type: "string" } },
+  options: { set: { type: "string", default: "all" }, "no-cli": { type: "boolean", default: false }, misses: { type: "boolean", default: false }, study: { type: "string" }, label: { type: "string" }, evidence: { type: "boolean", default: false }, dump: { type: "string" } },
 });
 
 interface Outcome {
@@ -44,6 +47,8 @@ interface Outcome {
   oscillation: boolean;
   samples: number;
   ms: number;
+  figures: Record<string, unknown>;
+  evidence: string[];
 }
 
 function runSet(set: BenchSet, studyBase?: number): Outcome[] {
@@ -55,6 +60,9 @@ function runSet(set: BenchSet, studyBase?: number): Outcome[] {
     const t0 = performance.now();
     const r = assessLoop(rec.samples, cfg);
     const ms = performance.now() - t0;
+    const figures = keyFigures(r, cfg);
+    const correct = isCorrect(rec, r.diagnosis.label);
+    if (opts.dump && set === "dev") dumpLine(opts.dump, { id: rec.id, plantType: rec.plantType, label: rec.label, alsoAccept: rec.alsoAccept, note: rec.note, verdict: r.diagnosis.label, confidence: r.diagnosis.confidence, correct, figures, evidence: r.diagnosis.evidence });
     out.push({
       id: rec.id,
       plantType: rec.plantType,
@@ -63,10 +71,12 @@ function runSet(set: BenchSet, studyBase?: number): Outcome[] {
       note: rec.note,
       verdict: r.diagnosis.label,
       confidence: r.diagnosis.confidence,
-      correct: isCorrect(rec, r.diagnosis.label),
+      correct,
       oscillation: r.oscillation.detected,
       samples: rec.samples.length,
       ms,
+      figures,
+      evidence: r.diagnosis.evidence,
     });
   }
   return out;
@@ -115,7 +125,10 @@ function report(set: BenchSet, res: Outcome[], title = set.toUpperCase()): void 
   if (set === "dev" || (opts.misses && set !== "holdout")) {
     const misses = res.filter((r) => !r.correct);
     if (misses.length) console.log(`\nmisses (${title}):`);
-    for (const m of misses) console.log(`  ${m.id.padEnd(36)} -> ${m.verdict} (${m.confidence.toFixed(2)})  [${m.note}]`);
+    for (const m of misses) {
+      console.log(`  ${m.id.padEnd(36)} -> ${m.verdict} (${m.confidence.toFixed(2)})  [${m.note}]`);
+      if (opts.evidence) printMissEvidence(m.id, m.evidence, m.figures);
+    }
   }
 }
 

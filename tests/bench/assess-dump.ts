@@ -1,0 +1,42 @@
+/**
+ * Per-recording figures of `bench:assess` for studying misses: `--evidence` prints the misses'
+ * evidence lines and the figures the diagnosis weighed; `--dump FILE` writes one JSON line per
+ * recording (study and DEV sets only: FROZEN's and HOLDOUT's recordings are never written out).
+ */
+import { appendFileSync } from "node:fs";
+import type { LoopAssessmentReport } from "@/lib/assessment";
+
+/** The figures the diagnosis weighs, rounded for reading. */
+export function keyFigures(r: LoopAssessmentReport, config: { deadTimeS?: number | null }): Record<string, unknown> {
+  const d = r.details;
+  const n = (v: number | null | undefined, digits = 3) => (v === null || v === undefined || !Number.isFinite(v) ? null : Number(v.toPrecision(digits)));
+  return {
+    dead: config.deadTimeS ?? null,
+    osc: r.oscillation.detected,
+    period: n(d.dominantPeriodS),
+    reg: n(r.oscillation.regularity),
+    ring: n(d.ringDepth),
+    overshoot: d.ringDepth !== null ? n(Math.max(0, -d.ringDepth / Math.max(d.errorAcf[1] ?? 0, 0.05))) : null,
+    compressed: d.compression.compressed,
+    spWander: r.cautions.some((c) => c.startsWith("The set point moves nearly all the time")),
+    harris: n(r.harrisIndex),
+    tauDead: n(d.disturbanceTimeToDeadTime),
+    idle: n(d.idleIndex),
+    acfR: d.acfDecay ? n(d.acfDecay.ratio) : null,
+    acfSd: d.acfDecay ? n(d.acfDecay.ratioSd) : null,
+    line: d.spectralLine ? { period: n(d.spectralLine.periodS), ratio: n(d.spectralLine.ratio), share: n(d.spectralLine.share) } : null,
+    stiction: r.stiction.verdict,
+    order: d.loadOrValve?.reading ?? null,
+    sat: n(r.saturation),
+    manual: n(r.manual),
+  };
+}
+
+export function printMissEvidence(id: string, evidence: readonly string[], figures: Record<string, unknown>): void {
+  console.log(`    ${id} figures ${JSON.stringify(figures)}`);
+  for (const e of evidence) console.log(`      - ${e}`);
+}
+
+export function dumpLine(file: string, row: Record<string, unknown>): void {
+  appendFileSync(file, `${JSON.stringify(row)}\n`);
+}
