@@ -9,7 +9,7 @@
 import { describe, expect, it } from "vitest";
 import { assessLoop, parseLoopConfig, type AssessSample } from "@/lib/assessment";
 import { closedLoopPolynomial, discretePid, spectralRadius } from "@/lib/control";
-import { flowLoopJson, simulateLoop, type SimOptions } from "./loop-sim";
+import { compressEvery, flowLoopJson, simulateLoop, type SimOptions } from "./loop-sim";
 
 const config = (o: Record<string, unknown> = {}) => parseLoopConfig(flowLoopJson("FIC-204", o));
 
@@ -150,15 +150,7 @@ describe("diagnosis on simulated loops (10 seeds each)", () => {
   it("compressed data (stored points joined by straight lines) withhold stiction and Harris figures", () => {
     // Keep every 15th point (a historian's dead-band storage, roughly) and replay by linear
     // interpolation at 1 s, as an export of compressed data does.
-    const compress = (s: AssessSample[]) => {
-      const out: AssessSample[] = [];
-      for (let i = 0; i + 15 < s.length; i += 15) {
-        const a = s[i]!;
-        const b = s[i + 15]!;
-        for (let k = 0; k < 15; k++) out.push({ ...a, t: a.t + k, pv: a.pv + ((b.pv - a.pv) * k) / 15, mv: a.mv + ((b.mv - a.mv) * k) / 15 });
-      }
-      return out;
-    };
+    const compress = (s: AssessSample[]) => compressEvery(s, 15);
     const r = assessLoop(compress(simulateLoop({ seed: 1, n: 6000, kp: 0.5, ti: 15, stiction: { S: 4, J: 1 }, sp0: 52 })), config());
     expect(r.details.compression.compressed).toBe(true);
     expect(r.harrisIndex).toBeNull();

@@ -137,3 +137,17 @@ export function ar2Noise(rng: Prng, n: number, zeta: number, wnT: number, burnIn
   for (let k = 2; k < x.length; k++) x[k] = -a1 * x[k - 1]! - a2 * x[k - 2]! + rng.normal();
   return x.subarray(burnIn);
 }
+
+/**
+ * Keeps every `every`-th point and replays the record by linear interpolation at the sample
+ * period, as an export of a historian's dead-band storage roughly does (common practice).
+ */
+export function compressEvery(s: readonly AssessSample[], every: number): AssessSample[] {
+  const out: AssessSample[] = [];
+  for (let i = 0; i + every < s.length; i += every) {
+    const a = s[i]!;
+    const b = s[i + every]!;
+    for (let k = 0; k < every; k++) out.push({ ...a, t: a.t + k, pv: a.pv + ((b.pv - a.pv) * k) / every, mv: a.mv + ((b.mv - a.mv) * k) / every });
+  }
+  return out;
+}

@@ -11,7 +11,7 @@ import { describe, expect, it } from "vitest";
 import { assessLoop, parseLoopConfig, type AssessSample } from "@/lib/assessment";
 import { ONE_SIGN, sluggishConfidence, temperForCompression, temperForWeakCycle, WEAK_LINE } from "@/lib/assessment/tuning-confidence";
 import { opensWorkItem } from "@/lib/domain/findings";
-import { flowLoopJson, simulateLoop } from "./loop-sim";
+import { compressEvery, flowLoopJson, simulateLoop } from "./loop-sim";
 
 const none = { harris: false, slow: false, noSwing: false, idle: false, hasEstimators: true };
 
@@ -133,15 +133,7 @@ describe("sluggish loops on the simulated plant (10 seeds)", () => {
   it("an export compressed to every 15th point gives no sluggish work item", () => {
     // Every 15th point kept and replayed by linear interpolation at 1 s (a historian's dead-band
     // storage, roughly), as in tests/assessment/diagnosis.test.ts.
-    const compress = (s: AssessSample[]) => {
-      const out: AssessSample[] = [];
-      for (let i = 0; i + 15 < s.length; i += 15) {
-        const a = s[i]!;
-        const b = s[i + 15]!;
-        for (let k = 0; k < 15; k++) out.push({ ...a, t: a.t + k, pv: a.pv + ((b.pv - a.pv) * k) / 15, mv: a.mv + ((b.mv - a.mv) * k) / 15 });
-      }
-      return out;
-    };
+    const compress = (s: AssessSample[]) => compressEvery(s, 15);
     for (let seed = 1; seed <= 10; seed++) {
       const r = assessLoop(compress(simulateLoop({ seed, n: 6000, kp, ti })), withDead);
       expect(r.details.compression.compressed).toBe(true);
