@@ -41,6 +41,12 @@ export interface SetPointResponse {
   ratio: number;
   /** True when `ratio` is only a lower bound. */
   lowerBound: boolean;
+  /**
+   * With a lower bound: the step response at the horizon's end is significantly short of 63 % of
+   * the move (its upper bound at Z_ONSET standard errors below 0.63), so the move was shown to be
+   * slow, not merely too noisy to read; true when t63 was reached.
+   */
+  shortOfMove: boolean;
   /** Block length of the fine fit, s (the resolution of θ̂). */
   resolutionS: number;
   /** Largest |s| / standard error over the response: how clearly the data show it. */
@@ -231,9 +237,11 @@ export function setPointResponse(x: SetPointResponseInput): SetPointResponse | n
   let t63S: number | null = null;
   let horizon = 0;
   let strength = 0;
+  let last: Fir | null = null;
   for (let g = 1; ; g *= 2) {
     const fir = fitFir(sp, x.pv, x.stretches, g);
     if (!fir) break;
+    last = fir;
     horizon = LAGS * g * T;
     for (let k = 0; k < LAGS; k++) if (fir.se[k]! > 0) strength = Math.max(strength, Math.abs(fir.step[k]!) / fir.se[k]!);
     if (deadTimeS === null) {
@@ -255,13 +263,16 @@ export function setPointResponse(x: SetPointResponseInput): SetPointResponse | n
     }
     if (horizon >= x.horizonS) break;
   }
-  if (deadTimeS === null || horizon === 0) return null;
+  if (deadTimeS === null || horizon === 0 || last === null) return null;
+  const end = last.step.length - 1;
+  const shortOfMove = t63S !== null || last.step[end]! + Z_ONSET * last.se[end]! < 0.63;
   return {
     deadTimeS,
     t63S,
     horizonS: horizon,
     ratio: (t63S ?? horizon) / deadTimeS,
     lowerBound: t63S === null,
+    shortOfMove,
     resolutionS,
     strength,
   };
@@ -294,10 +305,12 @@ const f0 = (v: number) => (v >= 10 ? v.toFixed(0) : v.toPrecision(2));
 /** The sluggish and fast signs of a set-point response (null or too weak: neither). */
 export function setPointSigns(r: SetPointResponse | null, integrating: boolean): SetPointSigns {
   if (!r || r.strength < MIN_STRENGTH) return { slow: false, fast: false, line: null };
-  const slow = r.ratio >= (integrating ? SLOW_RATIO_LEVEL : SLOW_RATIO);
+  // A move not completed within the horizon counts only when the data show it short of 63 %
+  // (a response too noisy to read is no evidence of slowness).
+  const slow = r.ratio >= (integrating ? SLOW_RATIO_LEVEL : SLOW_RATIO) && r.shortOfMove;
   const fast = !r.lowerBound && r.ratio < (integrating ? FAST_RATIO_LEVEL : FAST_RATIO);
   const reached = r.t63S !== null ? `63 % of a move after ${f0(r.t63S)} s` : `less than 63 % of a move within ${f0(r.horizonS)} s`;
-  const what = slow ? "followed slowly" : fast ? "followed about as fast as a good tuning does" : "followed";
+  const what = slow ? "followed slowly" : fast ? "followed about as fast as a good tuning does" : r.shortOfMove ? "followed" : "not read as slow (the response at the end of the fitted horizon is too uncertain to say the move was unfinished)";
   const line = `the set point's moves are ${what}: ${reached}, ${r.lowerBound ? "more than " : ""}${f0(r.ratio)}× the apparent dead time of about ${f0(r.deadTimeS)} s (step response from the set-point moves in the data; response time against dead time as in Swanda & Seborg 1999)`;
   return { slow, fast, line };
 }
