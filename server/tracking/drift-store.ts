@@ -82,6 +82,7 @@ export class DriftCheckpointStore {
         const stored = this.ledger.generation(loopId);
         const cp = performance.now() - started < baseBudgetMs ? tracker.drift?.checkpoint(stored) : tracker.drift?.checkpoint(stored, false);
         if (cp) out.push(this.ledger.plan(loopId, tenantId, cp));
+        this.logged.delete(loopId);
       } catch (e) {
         const why = (e as Error).message;
         this.stats.error = `loop ${loopId}: ${why}`;

@@ -43,6 +43,31 @@ describe("the drift store when the database fails", () => {
     expect(JSON.stringify(registry.get(cfg.id)!.checkpoint())).toBe(checkpoint);
   });
 
+  it("logs a drift part that cannot be taken once per reason, and again when it fails anew after a success", () => {
+    const { samples, cfg } = driftRun(900);
+    const clock = new FakeClock();
+    const registry = new TrackerRegistry({ bus: new Bus(), clock }, [cfg]);
+    const tracker = registry.get(cfg.id)!;
+    feed(tracker, clock, samples, 0, samples.length);
+    const drift = tracker.drift!;
+    const real = drift.checkpoint.bind(drift);
+    const fails = [true, true, false, true];
+    const take = vi.spyOn(drift, "checkpoint").mockImplementation(((stored: number | null, mayBase?: false) => {
+      if (fails.shift()) throw new Error("cannot image a Map");
+      return mayBase === false ? real(stored, false) : real(stored);
+    }) as typeof drift.checkpoint);
+    const err = vi.spyOn(console, "error").mockImplementation(() => {});
+    try {
+      const store = new DriftCheckpointStore({} as Sequelize);
+      const written = [store.take(registry), store.take(registry), store.take(registry), store.take(registry)].map((w) => w.length);
+      expect(written).toEqual([0, 0, 1, 0]);
+      expect(err).toHaveBeenCalledTimes(2);
+    } finally {
+      err.mockRestore();
+      take.mockRestore();
+    }
+  });
+
   it("writes a chunk again after a failed write that was to delete it, and still deletes it when unnamed", () => {
     const b = new DriftChunkLedger().plan(1, 1, part(1, 2));
     const bChunks = b.put.map((p) => p.hash);
