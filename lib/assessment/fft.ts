@@ -113,7 +113,7 @@ const scratch: Float64Array[] = [];
 export function scratchOf(slot: number, m: number): Float64Array {
   if (m > SCRATCH_MAX) return new Float64Array(m);
   let a = scratch[slot];
-  if (!a || a.length < m) scratch[slot] = a = new Float64Array(Math.max(m, 2 * (a?.length ?? 0)));
+  if (!a || a.length < m) scratch[slot] = a = new Float64Array(Math.min(SCRATCH_MAX, Math.max(m, 2 * (a?.length ?? 0))));
   return a.length === m ? a : a.subarray(0, m);
 }
 

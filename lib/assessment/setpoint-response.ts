@@ -170,7 +170,8 @@ function fitFir(r: Float64Array, y: Float64Array, stretches: readonly [number, n
   }
   const s2 = acc[0]! / Math.max(1, rows - n);
   let inflate = 1;
-  for (let k = 1; k <= maxLag; k++) inflate += 2 * (acc[k]! / acc[0]!);
+  // residuals all zero (a response the FIR holds exactly): no autocorrelation to inflate by
+  if (acc[0]! > 0) for (let k = 1; k <= maxLag; k++) inflate += 2 * (acc[k]! / acc[0]!);
   inflate = Math.max(1, inflate);
   const step = new Float64Array(n);
   const se = new Float64Array(n);

@@ -10,13 +10,8 @@
  * `undetermined` with the data time the model fit needs (`needsS`).
  */
 import { fmt } from "./oscillation";
-
-/** The model fit's needs, as in stiction-fit.ts (fitStictionModel's guards): cycles, blocks, blocks per cycle. */
-const FIT_MIN_CYCLES = 6;
-const FIT_MIN_BLOCKS = 200;
-const FIT_BLOCKS_PER_CYCLE = 24;
-/** Shortest cycle, in samples, the model fit takes. */
-const FIT_MIN_PERIOD = 8;
+// The model fit's needs (fitStictionModel's guards): cycles, blocks, blocks per cycle, shortest cycle in samples.
+import { FIT_BLOCKS_PER_CYCLE, FIT_MIN_BLOCKS, FIT_MIN_CYCLES, FIT_MIN_PERIOD } from "./stiction-fit";
 
 /** Samples the model fit needs for a cycle of `periodSamples` (null: it never runs at that period). */
 export function fitSamplesNeeded(periodSamples: number): number | null {

@@ -58,6 +58,11 @@ const MAX_NOISE_SHARE = 0.5;
 
 /** Most decimated samples fitted (the last ones); keeps a day's fit within a few tens of ms. */
 const MAX_FIT = 6000;
+/** What fitStictionModel needs (also what stiction-few-cycles.ts waits for): cycles of the stretch, blocks, blocks per cycle, samples per cycle. */
+export const FIT_MIN_CYCLES = 6;
+export const FIT_MIN_BLOCKS = 200;
+export const FIT_BLOCKS_PER_CYCLE = 24;
+export const FIT_MIN_PERIOD = 8;
 
 /** Sums of one input series: with PV, with itself, and its running sum. */
 interface InputSums {
@@ -220,12 +225,12 @@ const BANDS = [0.1, 0.2, 0.3, 0.45, 0.6, 0.8, 1, 1.3, 1.7, 2.2, 2.8, 3.5, 4.5];
  * `blocksPerCycle`: how finely a cycle is block-averaged (24 by default; the coarser fit of
  * integrating loops, stiction-integrating.ts, uses 12).
  */
-export function fitStictionModel(mv: Float64Array, pv: Float64Array, periodSamples: number, nested = false, blocksPerCycle = 24): StictionFitResult | null {
+export function fitStictionModel(mv: Float64Array, pv: Float64Array, periodSamples: number, nested = false, blocksPerCycle = FIT_BLOCKS_PER_CYCLE): StictionFitResult | null {
   const n = Math.min(mv.length, pv.length);
-  if (periodSamples < 8 || n < 6 * periodSamples) return null;
+  if (periodSamples < FIT_MIN_PERIOD || n < FIT_MIN_CYCLES * periodSamples) return null;
   const d = Math.max(1, Math.floor(periodSamples / blocksPerCycle));
   let count = Math.floor(n / d);
-  if (count < 200) return null;
+  if (count < FIT_MIN_BLOCKS) return null;
   count = Math.min(count, MAX_FIT);
   // The fit uses the last `count` blocks; the valve runs from ten cycles before them (its state
   // forgets where it started once it has slipped both ways, so running the whole day adds nothing).

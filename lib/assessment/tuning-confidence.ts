@@ -1,9 +1,10 @@
 /**
- * How sure a tuning finding read from routine data can be. Two rules, both about not stating a
+ * How sure a tuning finding read from routine data can be. Three rules, all about not stating a
  * guess as a finding that opens a work-list item (confidence above 0.6, lib/domain/findings.ts):
  *
  * 1. Sluggish tuning: a finding is a work item only when the loop's slowness is measured against
- *    the configured dead time by both estimators and both agree: the Harris index (the
+ *    the configured dead time by both estimators and both agree, or when the loop's own set-point
+ *    response is slow (below, SET_POINT): the Harris index (the
  *    minimum-variance benchmark; Harris 1989) and the disturbance time (the slowest pole of the
  *    error's AR model against SIMC's τc of one to a few dead times; Skogestad 2003, from memory).
  *    They fail in different ways: the Harris index is out of a PI controller's reach on processes

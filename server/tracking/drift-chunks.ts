@@ -2,7 +2,7 @@
  * The stored form of a loop's drift checkpoint (./drift-checkpoint.ts;
  * docs/architecture.md §6, "Checkpoints"): content-addressed chunks. Every typed array of the drift's
  * image and of the journal is cut into chunks of CHUNK_BYTES, each stored under the hash of its
- * bytes (SHA-256, first 128 bits, base64url); the image's JSON, its arrays replaced by their
+ * bytes (SHA-256, its first 22 base64url characters: 132 bits); the image's JSON, its arrays replaced by their
  * chunks' hashes, is a chunk too; a small header names the base image's chunk and the journal's.
  * A chunk already stored for the loop is not written again: a closed block of sums, the far past
  * of a ring of kept samples, never change, so a new base writes what changed since the last one,
@@ -166,6 +166,9 @@ export class DriftChunkLedger {
   failed(w: DriftWrite): void {
     const l = this.loop(w.loopId);
     for (const p of w.put) if (!l.stored.has(p.hash)) l.maybe.add(p.hash);
+    // The deletions may have run in part: such a chunk is no longer counted on as stored (a later
+    // header that names it writes it again), and is still deleted once unnamed.
+    for (const h of w.drop) if (l.stored.delete(h)) l.maybe.add(h);
   }
 
   forget(loopId: number): void {

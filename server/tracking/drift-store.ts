@@ -34,7 +34,15 @@ export class DriftCheckpointStore {
 
   /** Resume the drift of each of `loopIds` (their trackers just restored from their checkpoints); learns what is stored. */
   async restore(registry: TrackerRegistry, loopIds: readonly number[]): Promise<void> {
-    for (const [loopId, hashes] of await loadDriftChunkHashes(this.sequelize)) this.ledger.know(loopId, hashes);
+    try {
+      for (const [loopId, hashes] of await loadDriftChunkHashes(this.sequelize)) this.ledger.know(loopId, hashes);
+    } catch (e) {
+      // Without the list of stored chunks a restore cannot tell what it may delete later: no drift
+      // is resumed (the trackers go on from their own checkpoints), the next start tries again.
+      this.stats.error = `stored drift chunks could not be listed: ${e instanceof Error ? e.message : String(e)}`;
+      console.error(`[pipeline] ${this.stats.error}; no drift part resumed (the rim forecast falls back to the radius history)`);
+      return;
+    }
     for (const loopId of loopIds) {
       const drift = registry.get(loopId)?.drift;
       if (!drift) continue;
@@ -74,6 +82,7 @@ export class DriftCheckpointStore {
         const stored = this.ledger.generation(loopId);
         const cp = performance.now() - started < baseBudgetMs ? tracker.drift?.checkpoint(stored) : tracker.drift?.checkpoint(stored, false);
         if (cp) out.push(this.ledger.plan(loopId, tenantId, cp));
+        this.logged.delete(loopId);
       } catch (e) {
         const why = (e as Error).message;
         this.stats.error = `loop ${loopId}: ${why}`;

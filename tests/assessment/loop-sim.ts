@@ -139,8 +139,9 @@ export function ar2Noise(rng: Prng, n: number, zeta: number, wnT: number, burnIn
 }
 
 /**
- * Keeps every `every`-th point and replays the record by linear interpolation at the sample
- * period, as an export of a historian's dead-band storage roughly does (common practice).
+ * Keeps every `every`-th point and replays the record by linear interpolation at 1 s (the
+ * simulator's sample period: the replayed times are the kept point's plus 0, 1, … s), as an
+ * export of a historian's dead-band storage roughly does (common practice).
  */
 export function compressEvery(s: readonly AssessSample[], every: number): AssessSample[] {
   const out: AssessSample[] = [];

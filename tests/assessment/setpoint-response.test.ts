@@ -99,4 +99,11 @@ describe("set-point response from routine data", () => {
     expect(responseOf(samples, 20)).toBeNull();
     expect(setPointSigns(null, false)).toEqual({ slow: false, fast: false, line: null });
   });
+
+  it("is null when PV never answers the set point's moves (residuals all zero: no standard error divides by zero)", () => {
+    // a PV held still under 5 % set-point steps: no response at any lag, whatever the block length
+    const n = 6000;
+    const sp = Float64Array.from({ length: n }, (_, i) => 50 + 5 * (Math.floor(i / 700) % 2));
+    expect(setPointResponse({ pv: new Float64Array(n).fill(50), sp, stretches: [[0, n]], T: 1, horizonS: 2000 })).toBeNull();
+  });
 });

@@ -2,7 +2,8 @@
  * How sure a tuning finding may be (lib/assessment/tuning-confidence.ts). A sluggish finding opens
  * a work-list item only when the Harris index (Harris 1989) and the disturbance time against the
  * dead time (SIMC's τc of one to a few dead times; Skogestad 2003, from memory) both point to
- * slowness; one sign alone is stated as a possible finding below the work-item line. Tuning
+ * slowness, or the loop's response to its own set-point moves is slow (setpoint-response.ts, a sign
+ * of its own at 0.65); one other sign alone is stated as a possible finding below the work-item line. Tuning
  * findings read from a compressed export's error correlation are capped the same way (Thornhill,
  * Choudhury & Shah 2004, from memory). Simulated loops: tests/assessment/loop-sim.ts (invented
  * data), ten seeds each.

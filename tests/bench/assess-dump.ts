@@ -24,6 +24,10 @@ export function keyFigures(r: LoopAssessmentReport, config: { deadTimeS?: number
     idle: n(d.idleIndex),
     acfR: d.acfDecay ? n(d.acfDecay.ratio) : null,
     acfSd: d.acfDecay ? n(d.acfDecay.ratioSd) : null,
+    // the set-point response (a sluggishness sign of its own since the set-point round)
+    spRatio: d.setPointResponse ? n(d.setPointResponse.ratio) : null,
+    spLower: d.setPointResponse?.lowerBound ?? null,
+    spStrength: d.setPointResponse ? n(d.setPointResponse.strength) : null,
     line: d.spectralLine ? { period: n(d.spectralLine.periodS), ratio: n(d.spectralLine.ratio), share: n(d.spectralLine.share) } : null,
     stiction: r.stiction.verdict,
     order: d.loadOrValve?.reading ?? null,

@@ -14,6 +14,9 @@ import { DRIFT_S } from "../control/forecast-tracker-mc";
 import { wilson } from "./coverage-table";
 
 const [seed = 9100, runs = 40] = process.argv.slice(2).map(Number);
+if (!Number.isInteger(seed) || seed < 0 || !Number.isInteger(runs) || runs < 1) {
+  throw new Error(`usage: npm run bench:drift-shape -- [seed base: an integer >= 0] [runs: an integer >= 1] (got ${process.argv.slice(2).join(" ") || "nothing"})`);
+}
 const half = DRIFT_S / 2;
 const pct = (x: number) => (100 * x).toFixed(1);
 
