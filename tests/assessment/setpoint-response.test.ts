@@ -94,6 +94,17 @@ describe("set-point response from routine data", () => {
     }
   });
 
+  it("an unfinished move reads slow only when the response is shown short of 63 %, not when it is merely noisy", () => {
+    // The rule is ours (docs/assessment.md, "Sluggishness from the set point's own moves"): a
+    // lower bound on t63 is evidence of slowness only if the step response's upper bound at the
+    // horizon stays below 0.63.
+    const base = { deadTimeS: 0.7, t63S: null, horizonS: 29, ratio: 41, lowerBound: true, resolutionS: 0.3, strength: 6 };
+    expect(setPointSigns({ ...base, shortOfMove: true }, false).slow).toBe(true);
+    const noisy = setPointSigns({ ...base, shortOfMove: false }, false);
+    expect(noisy.slow).toBe(false);
+    expect(noisy.line).toMatch(/not read as slow/);
+  });
+
   it("is null when the set point never moves", () => {
     const samples = simulateLoop({ seed: 3, n: 6000, kp: 2.9, ti: 20 });
     expect(responseOf(samples, 20)).toBeNull();
