@@ -343,14 +343,15 @@ export function assessStiction(input: StictionInput): StictionResult {
   else if (shape === "sinusoidal" && mr === "clear") evidence.push("the two tests disagree: the half-cycles are sinusoidal, but a sticking valve explains PV better than a linear one (undetermined)");
   else if (shape === "sinusoidal") verdict = "unlikely";
   else if (mr === "none") verdict = "unlikely";
-  else if (fit && model.figures.note === "too few cycles" && shape === "inconclusive" && fit.index >= (input.ringingOnly ? 0.65 : 0.6)) {
+  else {
     // too few cycles for either test to decide: say how long to wait rather than guess (stiction-few-cycles.ts)
-    const wait = fewCyclesWait(u.length, P, input.T, fit.halfCycles);
+    const wait = fit && model.figures.note === "too few cycles" && shape === "inconclusive" && fit.index >= (input.ringingOnly ? 0.65 : 0.6) ? fewCyclesWait(u.length, P, input.T, fit.halfCycles) : null;
     if (wait) {
       evidence.push(wait.line);
       return { verdict, evidence, tests, needsS: wait.needsS };
     }
-  } else if (horch === "even") verdict = "unlikely";
+    if (horch === "even") verdict = "unlikely";
+  }
   if (verdict === "likely") {
     evidence.unshift(`likely valve stiction: ${mr === "clear" ? "a sticking valve explains PV markedly better than a linear one" : "the cycles have the shape of a stick-slip cycle"}`);
     if (horch === "even") evidence.push("the cross-correlation test reads even, as it does whenever proportional action dominates at the cycle's period; the shape test is the stronger sign here");
