@@ -25,6 +25,9 @@
  * effective-sample-size factor 1 + 2 Σ ρ_k, Bartlett; common practice).
  */
 
+import { invert } from "@/lib/control/linalg";
+import { decimate } from "./closed-loop";
+
 /** FIR length, coefficients (ours: spans the response in 48 blocks). */
 const LAGS = 48;
 /** Standard errors a response value must exceed to count (ours). */
@@ -61,50 +64,6 @@ interface Fir {
   se: Float64Array;
 }
 
-function blockMeans(x: Float64Array, s: number, e: number, g: number): Float64Array {
-  const m = Math.floor((e - s) / g);
-  const out = new Float64Array(m);
-  for (let i = 0; i < m; i++) {
-    let acc = 0;
-    for (let j = 0; j < g; j++) acc += x[s + i * g + j]!;
-    out[i] = acc / g;
-  }
-  return out;
-}
-
-/** Inverse of the symmetric positive definite A (n×n, row-major) by Cholesky factors; null when not positive definite. */
-function choleskyInverse(A: Float64Array, n: number): Float64Array | null {
-  const L = new Float64Array(n * n);
-  for (let i = 0; i < n; i++) {
-    for (let j = 0; j <= i; j++) {
-      let s = A[i * n + j]!;
-      for (let k = 0; k < j; k++) s -= L[i * n + k]! * L[j * n + k]!;
-      if (i === j) {
-        if (!(s > 0)) return null;
-        L[i * n + i] = Math.sqrt(s);
-      } else L[i * n + j] = s / L[j * n + j]!;
-    }
-  }
-  const inv = new Float64Array(n * n);
-  const col = new Float64Array(n);
-  for (let c = 0; c < n; c++) {
-    col.fill(0);
-    col[c] = 1;
-    for (let i = 0; i < n; i++) {
-      let s = col[i]!;
-      for (let k = 0; k < i; k++) s -= L[i * n + k]! * col[k]!;
-      col[i] = s / L[i * n + i]!;
-    }
-    for (let i = n - 1; i >= 0; i--) {
-      let s = col[i]!;
-      for (let k = i + 1; k < n; k++) s -= L[k * n + i]! * col[k]!;
-      col[i] = s / L[i * n + i]!;
-    }
-    for (let i = 0; i < n; i++) inv[i * n + c] = col[i]!;
-  }
-  return inv;
-}
-
 /** FIR of Δr -> Δy over the stretches at block length g; the running sum and its standard errors. */
 function fitFir(r: Float64Array, y: Float64Array, stretches: readonly [number, number][], g: number): Fir | null {
   const n = LAGS;
@@ -116,8 +75,8 @@ function fitFir(r: Float64Array, y: Float64Array, stretches: readonly [number, n
   // covariance Δr -> Δy, pooled over the stretches: O(rows · lags) (common practice).
   const rr = new Float64Array(n);
   for (const [s, e] of stretches) {
-    const rb = blockMeans(r, s, e, g);
-    const yb = blockMeans(y, s, e, g);
+    const rb = decimate(r.subarray(s, e), g);
+    const yb = decimate(y.subarray(s, e), g);
     if (rb.length < n + 10) continue;
     const dr = new Float64Array(rb.length - 1);
     const dy = new Float64Array(rb.length - 1);
@@ -146,7 +105,7 @@ function fitFir(r: Float64Array, y: Float64Array, stretches: readonly [number, n
   for (let i = 0; i < n; i++) {
     XtX[i * n + i] = XtX[i * n + i]! + 1e-6 * (trace / n);
   }
-  const inv = choleskyInverse(XtX, n);
+  const inv = invert(XtX, n);
   if (!inv) return null;
   const h = new Float64Array(n);
   for (let i = 0; i < n; i++) {
