@@ -195,8 +195,8 @@ export function assessLoop(input: readonly AssessSample[], config: LoopConfig): 
   const decorrelationS = decorrelation * w.T;
   // The loop's response to its own set-point moves (setpoint-response.ts): a sluggishness sign,
   // and an apparent dead time that caps the time scale the data span is judged against.
-  const spPct = w.sp.map((v) => (100 * (v - config.pvLo)) / w.pvSpan);
-  const spResp = setPointResponse({ pv: w.pvPct, sp: spPct, stretches: constantSpStretches(w, 100, true), T: w.T, horizonS: 20 * (ti ?? timeScale) });
+  // (Most loops hold their set point: nothing to read, and no copy of it in % to make.)
+  const spResp = spVar > 0 ? setPointResponse({ pv: w.pvPct, sp: w.sp.map((v) => (100 * (v - config.pvLo)) / w.pvSpan), stretches: constantSpStretches(w, 100, true), T: w.T, horizonS: 20 * (ti ?? timeScale) }) : null;
   const spSigns = setPointSigns(spResp, integrating);
   const spanScale = spanTimeScale(timeScale, dead, spSigns.line !== null ? spResp : null, cautions);
   const neededS = Math.max(Math.min(SPAN_FACTOR * spanScale, DECORRELATIONS * decorrelationS), 200 * config.samplePeriodS, 4 * decorrelationS);
