@@ -123,29 +123,52 @@ function kindXY(x: number, y: number, r: number): PoleKind {
  * See `PoleCharacteristics` for the conventions at the origin, at z = 1 and on the negative real axis.
  */
 export function poleCharacteristics(z: Complex, T: number): PoleCharacteristics {
+  return poleCharacteristicsInto(z, T, { radius: 0, angle: 0, zeta: 0, wn: 0, timeConstant: null, decayRatio: null, kind: "origin", stable: true, continuousEquivalent: false });
+}
+
+/**
+ * `poleCharacteristics` written into a caller-owned object `out` (every field overwritten, the
+ * same values bit for bit) and returned: no allocation per call, for a hot path that reuses one
+ * object (the tracker's state, lib/domain/assessment.ts; the control bench).
+ */
+export function poleCharacteristicsInto(z: Complex, T: number, out: PoleCharacteristics): PoleCharacteristics {
   assertFiniteComplex(z, "pole");
   assertPeriod(T);
   const radius = Math.sqrt(z.re * z.re + z.im * z.im);
   // atan2 only off the real axis (the hot path mostly sees real poles too); pi for the negative axis
   const angle = z.im === 0 ? (z.re < 0 ? Math.PI : 0) : Math.atan2(z.im, z.re);
   const kind = kindOf(z, radius);
-  const stable = radius < 1;
+  out.radius = radius;
+  out.angle = angle;
+  out.kind = kind;
+  out.stable = radius < 1;
   if (kind === "origin") {
-    return { radius, angle, zeta: 1, wn: Infinity, timeConstant: 0, decayRatio: null, kind, stable, continuousEquivalent: false };
+    out.zeta = 1;
+    out.wn = Infinity;
+    out.timeConstant = 0;
+    out.decayRatio = null;
+    out.continuousEquivalent = false;
+    return out;
   }
   if (kind === "integrator") {
-    return { radius, angle, zeta: 0, wn: 0, timeConstant: null, decayRatio: null, kind, stable, continuousEquivalent: true };
+    out.zeta = 0;
+    out.wn = 0;
+    out.timeConstant = null;
+    out.decayRatio = null;
+    out.continuousEquivalent = true;
+    return out;
   }
   const lnr = Math.log(radius);
   const theta = kind === "positive-real" ? 0 : kind === "negative-real" ? Math.PI : angle;
   const mag = Math.sqrt(lnr * lnr + theta * theta);
-  const wn = mag / T;
-  const zeta = mag === 0 ? 0 : -lnr / mag;
-  let timeConstant: number | null = null;
-  if (kind === "positive-real" && radius < 1) timeConstant = -T / lnr; // -T / ln z (z real: ln z = ln r)
+  out.wn = mag / T;
+  out.zeta = mag === 0 ? 0 : -lnr / mag;
+  // -T / ln z (z real: ln z = ln r)
+  out.timeConstant = kind === "positive-real" && radius < 1 ? -T / lnr : null;
   // r^(2 pi/|theta|) = exp(2 pi ln r / |theta|), reusing ln r
-  const dr = kind === "complex" || kind === "negative-real" ? Math.exp((2 * Math.PI * lnr) / Math.abs(theta)) : null;
-  return { radius, angle, zeta, wn, timeConstant, decayRatio: dr, kind, stable, continuousEquivalent: kind !== "negative-real" };
+  out.decayRatio = kind === "complex" || kind === "negative-real" ? Math.exp((2 * Math.PI * lnr) / Math.abs(theta)) : null;
+  out.continuousEquivalent = kind !== "negative-real";
+  return out;
 }
 
 function assertPoints(points: number): void {

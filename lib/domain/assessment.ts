@@ -7,7 +7,7 @@
  * Browser-safe: imports only lib/control and types.
  */
 import type { Complex } from "@/lib/control/types";
-import { decayRatio as poleDecayRatio, poleCharacteristics } from "@/lib/control/zplane";
+import { decayRatio as poleDecayRatio, poleCharacteristics, poleCharacteristicsInto } from "@/lib/control/zplane";
 import type { PoleDto, SampleQualityDto, TrackerState } from "@/lib/domain/types";
 import type { RoutineFindings } from "./findings";
 
@@ -161,6 +161,9 @@ export function modeWithinConfidence(mode: OscillatingMode, sigmas: number): Osc
 
 const finite = (x: number | null | undefined): number | null => (x === null || x === undefined || !Number.isFinite(x) ? null : x);
 
+/** Reused by `assessPoles` (read before it returns): a state's dominant pole allocates no characteristics object. */
+const DOMINANT = poleCharacteristics({ re: 0.5, im: 0 }, 1);
+
 /** The pole figures of an assessment, from the effective poles at period T (s). */
 export function assessPoles(
   poles: readonly (PoleLike & Partial<Pick<PoleDto, "sdRadius">>)[],
@@ -172,7 +175,7 @@ export function assessPoles(
   }
   const rho = radiusOf(dom);
   const osc = slowestOscillatingMode(poles, T);
-  const pc = poleCharacteristics(dom, T);
+  const pc = poleCharacteristicsInto(dom, T, DOMINANT);
   return {
     spectralRadius: finite(rho),
     rimDistance: finite(1 - rho),

@@ -32,7 +32,7 @@ const RULES: { figure: string; pattern: RegExp; allowed: readonly string[] }[] =
   { figure: "per-cycle decay ratio r^(2π/θ)", pattern: /Math\.pow\([^;]*,\s*\(?\s*2\s*\*\s*Math\.PI\s*\)?\s*\/\s*\w+/, allowed: [] },
   { figure: "decay ratio of a pole", pattern: /\bdecayRatio\s*\(\s*\{?\s*\w+/, allowed: [HOME] },
   { figure: "dominant pole selection", pattern: /function\s+(dominantPole|dominantOscillatingMode|slowestOscillatingMode)\b/, allowed: [HOME] },
-  { figure: "pole characteristics of the dominant pole", pattern: /\bpoleCharacteristics\s*\(/, allowed: [HOME, "lib/step-tests/identify.ts"] },
+  { figure: "pole characteristics of the dominant pole", pattern: /\bpoleCharacteristics(Into)?\s*\(/, allowed: [HOME, "lib/step-tests/identify.ts"] },
   { figure: "Jury verdict", pattern: /\bjuryTest\s*\([^)]*\)\s*\.stable/, allowed: ["server/tracking/figures.ts"] },
 ];
 
@@ -52,5 +52,6 @@ describe("one home per figure", () => {
     expect(RULES[1]!.pattern.test("const d = Math.pow(radius, (2 * Math.PI) / angle);")).toBe(true);
     expect(RULES[3]!.pattern.test("export function dominantPole(poles) {")).toBe(true);
     expect(RULES[5]!.pattern.test("const ok = juryTest(c).stable;")).toBe(true);
+    expect(RULES[4]!.pattern.test("const pc = poleCharacteristicsInto(z, T, out);")).toBe(true);
   });
 });

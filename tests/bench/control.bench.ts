@@ -10,10 +10,12 @@
  * "Full tracker step" = what server/tracking/loop-tracker.ts computes per estimation update from
  * the model: RLS update, closed-loop characteristic polynomial, all its roots, Jury verdict, the
  * radius of every root (each pole the state carries has one), and zeta / wn / tau of the dominant
- * pole (the decay ratio is the assessment's, lib/domain/assessment.ts, once per state); the roots
- * are solved with warm start (the previous step's roots seed the solver, as a re-solve of a slowly
- * moving polynomial can). The earlier variant (cold solve, full `poleCharacteristics` for every
- * root) is kept beside it for comparison. The tracker itself solves its closed-loop poles once per
+ * pole (the decay ratio is the assessment's, lib/domain/assessment.ts, once per state), written by
+ * `poleCharacteristicsInto` into one reused object as `assessPoles` does; the roots are solved with
+ * warm start (the previous step's roots seed the solver, as a re-solve of a slowly moving
+ * polynomial can). The same step with a cold solve, as the tracker solves a state's poles, is the
+ * row after it (no target). The earlier variant (cold solve, allocating `poleCharacteristics` for
+ * every root) is kept beside them for comparison. The tracker itself solves its closed-loop poles once per
  * state period, cold (a resumed tracker computes the same roots), through
  * server/tracking/pole-roots.ts: the "tracker state poles" rows give that path beside the contract
  * API it replaced.
@@ -29,7 +31,7 @@ import { ArxEstimator } from "@/lib/control/arx";
 import { closedLoopArxInto, closedLoopPolynomial, discretePid } from "@/lib/control/closed-loop";
 import { polyRoots, polyRootsInto } from "@/lib/control/roots";
 import { juryStable, juryTest } from "@/lib/control/jury";
-import { poleCharacteristics } from "@/lib/control/zplane";
+import { poleCharacteristics, poleCharacteristicsInto } from "@/lib/control/zplane";
 import { closedLoopRoots } from "@/server/tracking/pole-roots";
 import type { ArxModel } from "@/lib/control/types";
 import { printCoverageTable } from "./coverage-table";
@@ -137,8 +139,19 @@ const T = 1;
 const pi = discretePid({ kp: 0.8, ti: 20, T });
 const plantTrue: ArxModel = { a: [-1.6, 0.65], b: [0.05, 0.03], nk: 1, T };
 
-/** Tracker step, hot path: RLS update + closedLoopArxInto + polyRootsInto (warm start) + juryStable + radius per root + poleCharacteristics of the dominant root. */
+/**
+ * Tracker step, hot path: RLS update + closedLoopArxInto + polyRootsInto (warm start, or cold as
+ * server/tracking/pole-roots.ts solves a state's poles) + juryStable + radius per root +
+ * poleCharacteristicsInto of the dominant root into one reused object (as lib/domain/assessment.ts
+ * `assessPoles` does for a state).
+ */
 function trackerHotLoop(iterations: number): number {
+  return trackerStep(iterations, true);
+}
+function trackerHotColdLoop(iterations: number): number {
+  return trackerStep(iterations, false);
+}
+function trackerStep(iterations: number, warm: boolean): number {
   const rls = new RecursiveLeastSquares({ parameters: 4, forgetting: 0.99, initialTheta: [...plantTrue.a, ...plantTrue.b] });
   const phi = new Float64Array(4);
   const coeffs = new Float64Array(8);
@@ -146,6 +159,7 @@ function trackerHotLoop(iterations: number): number {
   const im = new Float64Array(8);
   const radius = new Float64Array(8);
   const z = { re: 0, im: 0 };
+  const dom = poleCharacteristics(z, T);
   let sink = 0;
   for (let it = 0; it < iterations; it++) {
     const row = (it & (ROWS - 1)) * 8;
@@ -153,13 +167,13 @@ function trackerHotLoop(iterations: number): number {
     const y = phi[0]! * 1.6 - phi[1]! * 0.65 + 0.05 * phi[2]! + 0.03 * phi[3]! + 1e-4 * Y[it & (ROWS - 1)]!;
     sink += rls.update(phi, y);
     const len = closedLoopArxInto(rls.theta, 2, 2, 1, pi.num, pi.den, coeffs);
-    const count = polyRootsInto(coeffs, re, im, len, true); // warm start: the tracker re-solves a slowly moving polynomial
+    const count = polyRootsInto(coeffs, re, im, len, warm); // warm start: a re-solve of a slowly moving polynomial
     sink += juryStable(coeffs, len) ? 1 : 0;
     for (let k = 0; k < count; k++) radius[k] = Math.sqrt(re[k]! * re[k]! + im[k]! * im[k]!);
     // the dominant root comes first (descending modulus)
     z.re = re[0]!;
     z.im = im[0]!;
-    const dom = poleCharacteristics(z, T);
+    poleCharacteristicsInto(z, T, dom);
     sink += dom.zeta + dom.wn + radius[0]!;
   }
   return sink;
@@ -226,7 +240,7 @@ function statePolesLoop(path: "api" | "tracker", model: ArxModel) {
 const plantSlow: ArxModel = { a: [-1.6, 0.65, 0.01], b: [0.05, 0.03, 0.01], nk: 4, T };
 
 /** Parts of the hot step alone, to see which dominates. */
-function partLoop(part: "closed-loop" | "roots" | "roots-warm" | "jury" | "characteristics") {
+function partLoop(part: "closed-loop" | "roots" | "roots-warm" | "jury" | "characteristics" | "characteristics-into") {
   return (iterations: number): number => {
     const theta = Float64Array.from([...plantTrue.a, ...plantTrue.b]);
     const coeffs = new Float64Array(8);
@@ -236,6 +250,7 @@ function partLoop(part: "closed-loop" | "roots" | "roots-warm" | "jury" | "chara
     const count = polyRootsInto(coeffs, re, im, len);
     const z = { re: re[0]!, im: im[0]! };
     const c1 = coeffs[1]!;
+    const into = poleCharacteristics(z, T);
     let sink = 0;
     for (let it = 0; it < iterations; it++) {
       theta[0] = -1.6 + 1e-6 * Y[it & (ROWS - 1)]!;
@@ -252,7 +267,7 @@ function partLoop(part: "closed-loop" | "roots" | "roots-warm" | "jury" | "chara
       } else {
         z.re = re[it % count]! + 1e-9 * Y[it & (ROWS - 1)]!;
         z.im = im[it % count]!;
-        sink += poleCharacteristics(z, T).radius;
+        sink += part === "characteristics" ? poleCharacteristics(z, T).radius : poleCharacteristicsInto(z, T, into).radius;
       }
     }
     return sink;
@@ -278,13 +293,15 @@ const cases: [string, (iterations: number) => number, number][] = [
   ["RecursiveLeastSquares ARX(2,2) (n = 4, directional)", rlsLoop(4), 50_000],
   ["RecursiveLeastSquares ARX(4,4) (n = 8, directional)", rlsLoop(8), 20_000],
   ["ArxEstimator.push ARX(2,2,1) (RLS + history + excitation accumulation)", arxPushLoop, 20_000],
-  ["tracker step, hot path (RLS + closedLoopArxInto + polyRootsInto warm + juryStable + |z| x3 + poleCharacteristics x1)", trackerHotLoop, 10_000],
+  ["tracker step, hot path (RLS + closedLoopArxInto + polyRootsInto warm + juryStable + |z| x3 + poleCharacteristicsInto x1)", trackerHotLoop, 10_000],
+  ["tracker step, hot path with a cold solve (as a tracker state's poles, server/tracking/pole-roots.ts)", trackerHotColdLoop, 10_000],
   ["tracker step, earlier hot path (cold polyRootsInto, poleCharacteristics x3)", trackerHotAllRootsLoop, 10_000],
   ["  part: closedLoopArxInto", partLoop("closed-loop"), 50_000],
   ["  part: polyRootsInto (cubic)", partLoop("roots"), 20_000],
   ["  part: polyRootsInto (cubic, warm start from the previous roots)", partLoop("roots-warm"), 20_000],
   ["  part: juryStable (cubic)", partLoop("jury"), 50_000],
   ["  part: poleCharacteristics (one root)", partLoop("characteristics"), 50_000],
+  ["  part: poleCharacteristicsInto (one root, one reused object)", partLoop("characteristics-into"), 50_000],
   ["tracker state poles, ARX(2,2,1) + PI (cubic): closedLoopPolynomial + polyRoots (before)", statePolesLoop("api", plantTrue), 20_000],
   ["tracker state poles, ARX(2,2,1) + PI (cubic): closedLoopRoots (closedLoopArxInto + polyRootsInto)", statePolesLoop("tracker", plantTrue), 20_000],
   ["tracker state poles, ARX(3,3,4) + PI (degree 7): closedLoopPolynomial + polyRoots (before)", statePolesLoop("api", plantSlow), 5_000],

@@ -10,31 +10,12 @@
  */
 import { recordDriftStreams, type Forecast } from "../control/drift-shape";
 import { shapeForecasts } from "../control/drift-shape-rules";
-import { DRIFT_S } from "../control/forecast-tracker-mc";
-import { wilson } from "./coverage-table";
+import { half, pct, summary } from "./drift-summary";
 
 const [seed = 9100, runs = 40] = process.argv.slice(2).map(Number);
 if (!Number.isInteger(seed) || seed < 0 || !Number.isInteger(runs) || runs < 1) {
   throw new Error(`usage: npm run bench:drift-shape -- [seed base: an integer >= 0] [runs: an integer >= 1] (got ${process.argv.slice(2).join(" ") || "nothing"})`);
 }
-const half = DRIFT_S / 2;
-const pct = (x: number) => (100 * x).toFixed(1);
-
-function summary(list: { f: Forecast; truth: number | null }[]): string {
-  const n = list.length;
-  const fc = list.filter((r) => r.f);
-  if (list[0]?.truth === null) {
-    const quiet = (n - fc.length) / n;
-    return `no forecast ${pct(quiet)} % [${wilson(quiet, n).map(pct).join("-")}]`;
-  }
-  const err = fc.map((r) => (r.f!.at - r.truth!) / (r.truth! - half)).sort((a, b) => a - b);
-  const within = err.filter((e) => Math.abs(e) <= 0.15).length / n;
-  const withIv = fc.filter((r) => Number.isFinite(r.f!.low));
-  const cov = withIv.filter((r) => r.f!.low <= r.truth! && r.truth! <= r.f!.high).length / withIv.length;
-  const q = (p: number) => err[Math.floor(p * (err.length - 1))]!;
-  return `within +-15 % ${pct(within)} % [${wilson(within, n).map(pct).join("-")}], coverage ${withIv.length ? pct(cov) + " %" : "-"}, median ${pct(q(0.5))} %, robust sd ${pct((q(0.75) - q(0.25)) / 1.349)} %, forecasts ${fc.length}/${n}`;
-}
-
 for (const kind of ["linear-radius", "gain-creep", "no-drift"] as const) {
   const streams = recordDriftStreams(kind, runs, seed);
   const by: Record<string, { f: Forecast; truth: number | null }[]> = {};

@@ -35,14 +35,15 @@ export interface ShapeForecasts {
 const Q = normalQuantile(0.975);
 
 /** The fit with the drift of A (rate and curvature) restricted to zero unless the Wald test rejects at 1 % (as the tracker). */
-function gainDrift(f: PolyDriftFit, na: number): PolyDriftFit {
+export function gainDrift(f: PolyDriftFit, na: number): PolyDriftFit {
   const idx: number[] = [];
   for (let k = 1; k <= f.degree; k++) for (let i = 0; i < na; i++) idx.push(k * f.d + i);
   const r = restrictZero(f, idx);
   return r.wald <= chiSquareQuantile(0.99, idx.length) ? r.fit : f;
 }
 
-function tangent(f: PolyDriftFit | null, s: DriftStream): Forecast {
+/** The tangent rule (the tracker's) on a batch fit, seconds of simulated time. */
+export function tangent(f: PolyDriftFit | null, s: DriftStream): Forecast {
   if (!f) return null;
   const c = driftCrossing(tangentEstimate(f), s.o, s.o.controller);
   return c ? { at: c.at - T0, low: c.low - T0, high: c.high - T0 } : null;

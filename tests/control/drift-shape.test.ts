@@ -15,33 +15,13 @@ import { describe, expect, it } from "vitest";
 import { LinearDriftIv } from "@/lib/control/parameter-drift";
 import { polyDriftFit, recordDriftStreams, restrictZero, tangentEstimate, type DriftStream } from "./drift-shape";
 import { average, shapeForecasts } from "./drift-shape-rules";
-import { mulberry32, normal } from "../helpers/seeded-random";
+import { simulatedStream } from "./drift-stream-sim";
 
 const hasNumpy = spawnSync("python3", ["-c", "import numpy"], { encoding: "utf8" }).status === 0;
 
-/**
- * y(k) = -a y(k-1) + b(t) u(k-1) + v(k), a = -0.8, b(t) = 0.5 + b1 s + b2 s^2 with s = t / n
- * (t = k seconds), white u (open loop), v = e(k) + 0.8 e(k-1); instruments the delayed inputs
- * [u(k-1), u(k-2)], uncorrelated with v. As a stream of the tool (one informative run, no gaps).
- */
+/** The tool's synthetic stream with the equation error e(k) + 0.8 e(k-1), sd 0.2 (./drift-stream-sim.ts). */
 function simulate(seed: number, n: number, b1: number, b2: number): DriftStream {
-  const rand = normal(mulberry32(seed));
-  const t: number[] = [], v: number[] = [];
-  let y1 = 0, u1 = 0, u2 = 0, e1 = 0;
-  for (let k = 0; k < n; k++) {
-    const e = 0.2 * rand();
-    const s = k / n;
-    const y = 0.8 * y1 + (0.5 + b1 * s + b2 * s * s) * u1 + e + 0.8 * e1;
-    t.push(k);
-    v.push(-y1, u1, u1, u2, y, 1);
-    const u = rand();
-    u2 = u1;
-    u1 = u;
-    y1 = y;
-    e1 = e;
-  }
-  const o = { na: 1, nb: 1, nk: 1, T: 1, memoryS: 50, windowS: n, controller: { num: [0.5], den: [1], T: 1 }, instrumentThreshold: 0, lags: 3 };
-  return { seed, truth: null, o, t, v, events: new Map(), tracker: null };
+  return simulatedStream(seed, n, { b1, b2, sd: 0.2, noise: "equation" });
 }
 
 describe("polyDriftFit (the drift-shape tool's batch fit)", () => {

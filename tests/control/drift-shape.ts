@@ -104,7 +104,7 @@ export function recordDriftStreams(kind: ForecastScenario, runs: number, seed: n
 }
 
 /** Visits the stream's samples in order with its gaps and resets. */
-function visit(s: DriftStream, on: { add: (t: number, phi: number[], z: number[], y: number, inf: boolean) => void; gap: () => void; reset: () => void }): void {
+export function visit(s: DriftStream, on: { add: (t: number, phi: number[], z: number[], y: number, inf: boolean) => void; gap: () => void; reset: () => void }): void {
   const d = s.o.na + s.o.nb;
   const w = 2 * d + 2;
   for (let i = 0; i < s.t.length; i++) {
