@@ -14,6 +14,7 @@ import { createAuthFixture, fixtureContext, type AuthFixture } from "../auth/fix
 import { createTestDatabase, type TestDatabase } from "../setup/db";
 import { signInAs } from "@/tests/helpers/guard-stand-in";
 import { jsonRequest } from "@/tests/helpers/json-request";
+import { PYTHON } from "../helpers/python";
 
 vi.mock("@/lib/auth/guard", async () => (await import("@/tests/helpers/guard-stand-in")).guardStandIn({ checkRole: false }));
 
@@ -139,7 +140,7 @@ describe("preview", () => {
   it("reads cells as Python's csv module does (quotes, commas, newlines, BOM-free UTF-8)", () => {
     // Reference: Python's standard csv reader (excel dialect), an implementation independent of csv-parse.
     const csv = `tag,site,kind,description\r\nA-1,${SITE_A},flow,"a, ""quoted"" note"\r\nA-2,${SITE_A},flow,"two\nlines"\r\nA-3,${SITE_A},flow,Ωmega café\r\nA-4,${SITE_A},flow,"crlf\r\ninside"\r\n`;
-    const py = execFileSync("python3", ["-c", "import csv,io,sys,json; print(json.dumps(list(csv.reader(io.StringIO(sys.stdin.read(), newline='')))))"], { input: csv }).toString();
+    const py = execFileSync(PYTHON, ["-c", "import csv,io,sys,json; print(json.dumps(list(csv.reader(io.StringIO(sys.stdin.read(), newline='')))))"], { input: csv }).toString();
     const reference = JSON.parse(py) as string[][];
     const { rows, issues } = parseInventoryCsv(csv);
     expect(issues).toEqual([]);

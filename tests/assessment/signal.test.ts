@@ -17,8 +17,9 @@ import { describe, expect, it } from "vitest";
 import { realForward, realInverse } from "@/lib/assessment/fft";
 import { autocovariance, crossCovariance } from "@/lib/assessment/signal";
 import { mulberry32, normal } from "../helpers/seeded-random";
+import { PYTHON, pythonHas } from "../helpers/python";
 
-const hasNumpy = spawnSync("python3", ["-c", "import numpy"], { encoding: "utf8" }).status === 0;
+const hasNumpy = pythonHas("numpy");
 
 /** Seeded test signal: a slow sine, an offset and white noise (invented for the test). */
 function signal(n: number, seed: number): Float64Array {
@@ -136,7 +137,7 @@ describe("transform of a real sequence by one complex FFT of half the length", (
       "y = np.fft.irfft(np.array(d['sr']) + 1j * np.array(d['si']), n=len(d['x']))",
       "print(json.dumps({'re': X.real.tolist(), 'im': X.imag.tolist(), 'y': y.tolist()}))",
     ].join("\n");
-    const run = spawnSync("python3", ["-c", script], { input: JSON.stringify({ x: Array.from(x), sr: Array.from(sr), si: Array.from(si) }), encoding: "utf8", maxBuffer: 64 << 20 });
+    const run = spawnSync(PYTHON, ["-c", script], { input: JSON.stringify({ x: Array.from(x), sr: Array.from(sr), si: Array.from(si) }), encoding: "utf8", maxBuffer: 64 << 20 });
     expect(run.status, run.stderr).toBe(0);
     const ref = JSON.parse(run.stdout) as { re: number[]; im: number[]; y: number[] };
     let scale = 0;

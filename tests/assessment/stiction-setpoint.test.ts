@@ -17,8 +17,9 @@ import { assessLoop, parseLoopConfig } from "@/lib/assessment";
 import { setPointRinging, setPointStretches } from "@/lib/assessment/stiction-setpoint";
 import { Prng } from "@/simulators/prng";
 import { ar2Noise, flowLoopJson, simulateLoop } from "./loop-sim";
+import { PYTHON, pythonHas } from "../helpers/python";
 
-const hasNumpy = spawnSync("python3", ["-c", "import numpy"], { encoding: "utf8" }).status === 0;
+const hasNumpy = pythonHas("numpy");
 
 const NUMPY_POOLED = `
 import json, sys
@@ -51,7 +52,7 @@ describe("stiction tests between set-point moves", () => {
     const stretches = setPointStretches(sp, include, 1e-6, skip)!;
     expect(stretches.length).toBe(6);
     const maxLag = Math.floor(Math.max(...stretches.map(([a, b]) => b - a)) / 3);
-    const run = spawnSync("python3", ["-c", NUMPY_POOLED], { input: JSON.stringify({ x: Array.from(e), stretches, maxLag }), encoding: "utf8" });
+    const run = spawnSync(PYTHON, ["-c", NUMPY_POOLED], { input: JSON.stringify({ x: Array.from(e), stretches, maxLag }), encoding: "utf8" });
     expect(run.status, run.stderr).toBe(0);
     const ref = JSON.parse(run.stdout) as { depth: number; period: number };
     expect(got).not.toBeNull();

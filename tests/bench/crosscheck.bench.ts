@@ -8,7 +8,7 @@
  *
  *   npm run bench:crosscheck [-- --seed N] [--dir DIR]
  *
- * PYTHON names the interpreter (default python3, which must have numpy and scipy).
+ * RG_PYTHON or PYTHON names the interpreter (default Debian's python3, tests/helpers/python.ts; it must have numpy and scipy).
  * --dir keeps the generated files in DIR (and reuses them when DIR already has a manifest).
  */
 import { execFileSync } from "node:child_process";
@@ -18,6 +18,7 @@ import { join } from "node:path";
 import { parseArgs } from "node:util";
 import { assessLoop, parseAssessCsv, parseLoopConfig } from "@/lib/assessment";
 import { pct, printAccuracy, printConfusion } from "./label-table";
+import { PYTHON } from "../helpers/python";
 
 const { values: opts } = parseArgs({ options: { seed: { type: "string", default: "20071" }, dir: { type: "string" } } });
 
@@ -32,7 +33,7 @@ const started = performance.now();
 const dir = opts.dir ?? mkdtempSync(join(tmpdir(), "rg-crosscheck-"));
 try {
   if (!existsSync(join(dir, "manifest.json"))) {
-    execFileSync(process.env.PYTHON ?? "python3", ["simulators/crosscheck/generate.py", dir, "--seed", opts.seed], { stdio: ["ignore", "inherit", "inherit"], env: { ...process.env, PYTHONDONTWRITEBYTECODE: "1" } });
+    execFileSync(PYTHON, ["simulators/crosscheck/generate.py", dir, "--seed", opts.seed], { stdio: ["ignore", "inherit", "inherit"], env: { ...process.env, PYTHONDONTWRITEBYTECODE: "1" } });
   }
   const manifest = JSON.parse(readFileSync(join(dir, "manifest.json"), "utf8")) as ManifestRow[];
   const res = manifest.map((m) => {

@@ -8,6 +8,7 @@ import { estimateDelay, fitArx, simulateArx } from "@/lib/control/arx-batch";
 import { excitationLevel, ExcitationMonitor } from "@/lib/control/excitation";
 import { ControlArgumentError, NonFiniteInputError } from "@/lib/control/errors";
 import { mulberry32, normal } from "../helpers/seeded-random";
+import { PYTHON, pythonHas, sameData } from "../helpers/python";
 
 interface Candidate {
   na: number;
@@ -36,7 +37,7 @@ const fixtureText = readFileSync(fixturePath, "utf8");
 const fixture = JSON.parse(fixtureText) as { cases: Case[] };
 const [single, grid] = fixture.cases as [Case, Case];
 
-const hasScipy = spawnSync("python3", ["-c", "import numpy, scipy"], { encoding: "utf8" }).status === 0;
+const hasScipy = pythonHas("numpy, scipy");
 
 function rel(a: number, b: number): number {
   return Math.abs(a - b) / Math.max(Math.abs(b), 1e-300);
@@ -44,9 +45,13 @@ function rel(a: number, b: number): number {
 
 describe("reference fixture (numpy.linalg.lstsq + scipy.signal.lfilter)", () => {
   it.skipIf(!hasScipy)("is up to date with its generator", () => {
-    const run = spawnSync("python3", [generator, "--stdout"], { encoding: "utf8", maxBuffer: 16 * 1024 * 1024 });
+    const run = spawnSync(PYTHON, [generator, "--stdout"], { encoding: "utf8", maxBuffer: 16 * 1024 * 1024 });
     expect(run.status, run.stderr).toBe(0);
-    expect(JSON.parse(run.stdout)).toEqual(JSON.parse(fixtureText));
+    // The NumPy major version is the fixture's provenance, not a value: Debian's 1.x and a 2.x
+    // draw the same seeded stream, and the figures agree to the last digits (1e-9 relative here).
+    const { numpy: _fresh, ...fresh } = JSON.parse(run.stdout) as Record<string, unknown>;
+    const { numpy: _committed, ...committed } = JSON.parse(fixtureText) as Record<string, unknown>;
+    expect(sameData(fresh, committed)).toBeNull();
   });
 });
 

@@ -11,8 +11,9 @@ import { describe, expect, it } from "vitest";
 import { levinsonDurbin } from "@/lib/control/drift-noise";
 import { LinearDriftIv } from "@/lib/control/parameter-drift";
 import { mulberry32, normal } from "../helpers/seeded-random";
+import { PYTHON, pythonHas } from "../helpers/python";
 
-const hasScipy = spawnSync("python3", ["-c", "import scipy.linalg"], { encoding: "utf8" }).status === 0;
+const hasScipy = pythonHas("scipy.linalg");
 
 /**
  * y(k) = -a(t) y(k-1) + 0.5 u(k-1) + v(k), a(t) = -0.8 + rate k, white u, equation noise AR(2):
@@ -45,7 +46,7 @@ describe("drift noise model", () => {
   it.skipIf(!hasScipy)("Levinson–Durbin solves the Yule–Walker equations as scipy.linalg.solve_toeplitz does", () => {
     const r = [2.0, 1.4, 0.7, 0.15, -0.2];
     const a = levinsonDurbin(r, 4)!;
-    const run = spawnSync("python3", ["-c", "import json, sys, scipy.linalg as L; r = json.load(sys.stdin); print(json.dumps((-L.solve_toeplitz(r[:4], r[1:])).tolist()))"], { input: JSON.stringify(r), encoding: "utf8" });
+    const run = spawnSync(PYTHON, ["-c", "import json, sys, scipy.linalg as L; r = json.load(sys.stdin); print(json.dumps((-L.solve_toeplitz(r[:4], r[1:])).tolist()))"], { input: JSON.stringify(r), encoding: "utf8" });
     expect(run.status, run.stderr).toBe(0);
     const ref = JSON.parse(run.stdout) as number[];
     for (let i = 0; i < 4; i++) expect(a[i]!).toBeCloseTo(ref[i]!, 10);

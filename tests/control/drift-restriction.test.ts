@@ -11,11 +11,12 @@ import { describe, expect, it } from "vitest";
 import { chiSquareQuantile, restrictPoleDrift } from "@/lib/control/drift-restriction";
 import { LinearDriftIv, type DriftEstimate } from "@/lib/control/parameter-drift";
 import { mulberry32, normal } from "../helpers/seeded-random";
+import { PYTHON, pythonHas } from "../helpers/python";
 
-const hasScipy = spawnSync("python3", ["-c", "import scipy, numpy"], { encoding: "utf8" }).status === 0;
+const hasScipy = pythonHas("scipy, numpy");
 
 function python(script: string, input: unknown): unknown {
-  const run = spawnSync("python3", ["-c", script], { input: JSON.stringify(input), encoding: "utf8" });
+  const run = spawnSync(PYTHON, ["-c", script], { input: JSON.stringify(input), encoding: "utf8" });
   if (run.status !== 0) throw new Error(run.stderr);
   return JSON.parse(run.stdout);
 }

@@ -16,8 +16,9 @@ import { LinearDriftIv } from "@/lib/control/parameter-drift";
 import { polyDriftFit, recordDriftStreams, restrictZero, tangentEstimate, type DriftStream } from "./drift-shape";
 import { average, shapeForecasts } from "./drift-shape-rules";
 import { simulatedStream } from "./drift-stream-sim";
+import { PYTHON, pythonHas } from "../helpers/python";
 
-const hasNumpy = spawnSync("python3", ["-c", "import numpy"], { encoding: "utf8" }).status === 0;
+const hasNumpy = pythonHas("numpy");
 
 /** The tool's synthetic stream with the equation error e(k) + 0.8 e(k-1), sd 0.2 (./drift-stream-sim.ts). */
 function simulate(seed: number, n: number, b1: number, b2: number): DriftStream {
@@ -49,7 +50,7 @@ describe("polyDriftFit (the drift-shape tool's batch fit)", () => {
       "PP = np.hstack([P, tau[:, None] * P, tau[:, None] ** 2 * P]); ZZ = np.hstack([Z, tau[:, None] * Z, tau[:, None] ** 2 * Z])",
       "print(json.dumps(np.linalg.solve(ZZ.T @ PP, ZZ.T @ y).tolist()))",
     ].join("\n");
-    const run = spawnSync("python3", ["-c", script], { input: JSON.stringify({ t: s.t, v: s.v, w: s.o.windowS }), encoding: "utf8", maxBuffer: 16 * 1024 * 1024 });
+    const run = spawnSync(PYTHON, ["-c", script], { input: JSON.stringify({ t: s.t, v: s.v, w: s.o.windowS }), encoding: "utf8", maxBuffer: 16 * 1024 * 1024 });
     expect(run.status, run.stderr).toBe(0);
     const ref = JSON.parse(run.stdout) as number[];
     for (let i = 0; i < 6; i++) expect(Math.abs(f.x[i]! - ref[i]!)).toBeLessThan(1e-9 * Math.max(1, Math.abs(ref[i]!)));

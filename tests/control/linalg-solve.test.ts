@@ -12,6 +12,7 @@ import { execFileSync } from "node:child_process";
 import { describe, expect, it } from "vitest";
 import { nearestPsd, solveInto } from "@/lib/control/linalg";
 import { mulberry32, normal } from "../helpers/seeded-random";
+import { PYTHON } from "../helpers/python";
 
 describe("solveInto (Gaussian elimination with partial pivoting, allocation-free)", () => {
   it("equals numpy.linalg.solve on 200 seeded random systems (d = 1..8) to 1e-9 relative", () => {
@@ -26,7 +27,7 @@ describe("solveInto (Gaussian elimination with partial pivoting, allocation-free
       "s = json.load(sys.stdin)",
       "print(json.dumps([np.linalg.solve(np.array(x['A']).reshape(x['d'], x['d']), np.array(x['b'])).tolist() for x in s]))",
     ].join("\n");
-    const ref = JSON.parse(execFileSync("python3", ["-c", py], { input: JSON.stringify(systems) }).toString()) as number[][];
+    const ref = JSON.parse(execFileSync(PYTHON, ["-c", py], { input: JSON.stringify(systems) }).toString()) as number[][];
     const work = new Float64Array(8 * 9);
     const x = new Float64Array(8);
     systems.forEach((s, k) => {
@@ -74,7 +75,7 @@ describe("solveInto (Gaussian elimination with partial pivoting, allocation-free
       "    out.append([(v @ np.diag(np.maximum(w, 0)) @ v.T).ravel().tolist(), float(w.min())])",
       "print(json.dumps(out))",
     ].join("\n");
-    const ref = JSON.parse(execFileSync("python3", ["-c", py], { input: JSON.stringify(cases) }).toString()) as [number[], number][];
+    const ref = JSON.parse(execFileSync(PYTHON, ["-c", py], { input: JSON.stringify(cases) }).toString()) as [number[], number][];
     let indefinite = 0;
     cases.forEach((c, k) => {
       const [want, minEig] = ref[k]!;

@@ -13,8 +13,9 @@ import { describe, expect, it } from "vitest";
 import { LinearDriftIv, type DriftEstimate } from "@/lib/control/parameter-drift";
 import { driftCrossing } from "@/lib/control/drift-crossing";
 import { mulberry32, normal } from "../helpers/seeded-random";
+import { PYTHON, pythonHas } from "../helpers/python";
 
-const hasNumpy = spawnSync("python3", ["-c", "import numpy"], { encoding: "utf8" }).status === 0;
+const hasNumpy = pythonHas("numpy");
 
 interface Sample { t: number; phi: number[]; z: number[]; y: number }
 
@@ -65,7 +66,7 @@ describe("LinearDriftIv", () => {
       "print(json.dumps({'x': x.tolist(), 'C': C.tolist()}))",
     ].join("\n");
     const input = JSON.stringify({ t: used.map((s) => s.t), tl: est.t, phi: used.map((s) => s.phi), z: used.map((s) => s.z), y: used.map((s) => s.y) });
-    const run = spawnSync("python3", ["-c", script], { input, encoding: "utf8", maxBuffer: 16 * 1024 * 1024 });
+    const run = spawnSync(PYTHON, ["-c", script], { input, encoding: "utf8", maxBuffer: 16 * 1024 * 1024 });
     expect(run.status, run.stderr).toBe(0);
     const ref = JSON.parse(run.stdout) as { x: number[]; C: number[][] };
     for (let i = 0; i < 2; i++) {

@@ -12,6 +12,7 @@ import { c2dZoh, c2dZohStateSpace } from "@/lib/control/discretize";
 import { polyRoots } from "@/lib/control/roots";
 import { closedLoopPolynomial, discretePid, gainHeadroom } from "@/lib/control/closed-loop";
 import { maxMatchError } from "./root-match";
+import { PYTHON, pythonHas, sameData } from "../helpers/python";
 
 const here = import.meta.dirname;
 const fixturePath = path.join(here, "..", "reference", "fixtures", "control-a.json");
@@ -124,34 +125,7 @@ describe("step response overshoot against scipy.signal.lfilter", () => {
 });
 
 function hasScipy(): boolean {
-  const r = spawnSync("python3", ["-c", "import numpy, scipy"], { encoding: "utf8" });
-  return r.status === 0;
-}
-
-/** Deep comparison: same structure and strings, numbers within 1e-9 relative (platform rounding). */
-function sameData(a: unknown, b: unknown, where = "$"): string | null {
-  if (typeof a === "number" && typeof b === "number") {
-    return Math.abs(a - b) <= 1e-9 * Math.max(1, Math.abs(a), Math.abs(b)) ? null : `${where}: ${a} != ${b}`;
-  }
-  if (Array.isArray(a) && Array.isArray(b)) {
-    if (a.length !== b.length) return `${where}: length ${a.length} != ${b.length}`;
-    for (let i = 0; i < a.length; i++) {
-      const d = sameData(a[i], b[i], `${where}[${i}]`);
-      if (d) return d;
-    }
-    return null;
-  }
-  if (a && b && typeof a === "object" && typeof b === "object") {
-    const ka = Object.keys(a).sort();
-    const kb = Object.keys(b).sort();
-    if (ka.join() !== kb.join()) return `${where}: keys differ`;
-    for (const k of ka) {
-      const d = sameData((a as Record<string, unknown>)[k], (b as Record<string, unknown>)[k], `${where}.${k}`);
-      if (d) return d;
-    }
-    return null;
-  }
-  return a === b ? null : `${where}: ${String(a)} != ${String(b)}`;
+  return pythonHas("numpy, scipy");
 }
 
 describe.runIf(hasScipy())("fixture freshness", () => {
@@ -159,7 +133,7 @@ describe.runIf(hasScipy())("fixture freshness", () => {
     const dir = mkdtempSync(path.join(tmpdir(), "rg-control-a-"));
     try {
       const out = path.join(dir, "control-a.json");
-      const r = spawnSync("python3", [generator, "--out", out], { encoding: "utf8", timeout: 120_000 });
+      const r = spawnSync(PYTHON, [generator, "--out", out], { encoding: "utf8", timeout: 120_000 });
       expect(r.status, r.stderr).toBe(0);
       const fresh = JSON.parse(readFileSync(out, "utf8")) as unknown;
       expect(sameData(fixture, fresh)).toBeNull();

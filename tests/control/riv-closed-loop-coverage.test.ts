@@ -21,6 +21,7 @@ import { InstrumentalArxEstimator } from "@/lib/control/riv";
 import { prefilterNoiseLags } from "@/lib/control/riv-covariance";
 import { PREFILTER_POLE } from "@/server/tracking/conditioning";
 import { closedLoopSamples, COMPLEX_PAIR, REAL_POLE, type CoveragePlant } from "./tracker-coverage";
+import { PYTHON } from "../helpers/python";
 
 
 /** One seeded closed-loop run (tests/control/tracker-coverage.ts), prefiltered; the estimator after it. */
@@ -45,7 +46,7 @@ describe("InstrumentalArxEstimator in closed loop: the 95 % interval of the clos
   it.each([REAL_POLE, COMPLEX_PAIR])("$name: covers the true radius near the nominal 95 % over 80 seeded runs of 2,000 samples, its median sd within 2x of the estimates' spread", (P) => {
     const ctrl = discretePid({ kp: P.kp, ti: P.ti, T: 1, action: "reverse" });
     const char = closedLoopPolynomial(P.plant, ctrl);
-    const out = execFileSync("python3", ["-c", `import numpy, sys; print(max(abs(numpy.roots([${char.join(",")}]))))`]).toString();
+    const out = execFileSync(PYTHON, ["-c", `import numpy, sys; print(max(abs(numpy.roots([${char.join(",")}]))))`]).toString();
     const truth = Number(out);
     expect(truth).toBeGreaterThan(0.9);
     expect(truth).toBeLessThan(1);

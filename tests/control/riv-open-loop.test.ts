@@ -13,6 +13,7 @@ import { InstrumentalArxEstimator } from "@/lib/control/riv";
 import { poleConfidence } from "@/lib/control/confidence";
 import { polyRoots } from "@/lib/control/roots";
 import { mulberry32, normal } from "../helpers/seeded-random";
+import { PYTHON } from "../helpers/python";
 
 /** Plant A y0 = B u(k-1), a = [-1.5, 0.7], b = [0.5, 0.3] (poles 0.75 +- 0.37i, radius sqrt(0.7)); y = y0 + noise. */
 function openLoop(n: number, noiseSd: number, seed: number): { u: number[]; y: number[] } {
@@ -49,7 +50,7 @@ for k in range(6, len(u)):
     phi = np.array([-y[k-1], -y[k-2], u[k-1], u[k-2]]); z = np.array([u[k-1], u[k-2], u[k-3], u[k-4]])
     M += np.outer(z, phi); f += z * y[k]
 print(json.dumps(np.linalg.solve(M, f).tolist()))`;
-    const ref = JSON.parse(execFileSync("python3", ["-c", py], { input: JSON.stringify({ u, y }) }).toString()) as number[];
+    const ref = JSON.parse(execFileSync(PYTHON, ["-c", py], { input: JSON.stringify({ u, y }) }).toString()) as number[];
     const th = Array.from(est.theta);
     ref.forEach((v, i) => expect(th[i]).toBeCloseTo(v, 9));
   });

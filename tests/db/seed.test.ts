@@ -18,6 +18,7 @@ import { isSlug } from "@/lib/domain/slug";
 import { ROLES } from "@/lib/domain/types";
 import { tuningSeconds } from "@/models";
 import { createTestDatabase, type TestDatabase } from "@/tests/setup/db";
+import { PYTHON } from "../helpers/python";
 
 const PEPPER = "seed-test-pepper-0123456789";
 let db: TestDatabase;
@@ -161,7 +162,7 @@ describe("demo data for the simulator", () => {
     }
     // numpy (Debian python3-numpy) computes the same spectral radii from the same polynomials.
     const script = "import json,sys,numpy as np\nprint(json.dumps([float(max(abs(np.roots(p)))) for p in json.load(sys.stdin)]))";
-    const ref = JSON.parse(execFileSync("python3", ["-c", script], { input: JSON.stringify(polys) }).toString()) as number[];
+    const ref = JSON.parse(execFileSync(PYTHON, ["-c", script], { input: JSON.stringify(polys) }).toString()) as number[];
     ref.forEach((r, i) => expect(radii[i]!, DEMO_LOOPS[i]!.tag).toBeCloseTo(r, 6));
   });
 });

@@ -7,6 +7,7 @@ import type { LoopStateDto, TenantContext } from "@/lib/domain/types";
 import { HistoryAggregator, HistoryWriter } from "@/server/history";
 import { createTestDatabase, type TestDatabase } from "../setup/db";
 import { createPipelineFixture, type PipelineTenant } from "./fixture";
+import { PYTHON } from "../helpers/python";
 
 // Down-sampling of GET /api/loops/[loopId]/history. The bucket statistics are checked against
 // NumPy (Debian python3-numpy: reshape into equal buckets, then min/mean/max per row), the
@@ -65,7 +66,7 @@ d = json.load(sys.stdin)
 v = np.array(d["v"], dtype=float).reshape(-1, d["w"])
 print(json.dumps({"min": v.min(axis=1).tolist(), "mean": v.mean(axis=1).tolist(), "max": v.max(axis=1).tolist()}))
 `;
-  const r = spawnSync("python3", ["-c", py], { input: JSON.stringify({ v: values, w: width }), encoding: "utf8" });
+  const r = spawnSync(PYTHON, ["-c", py], { input: JSON.stringify({ v: values, w: width }), encoding: "utf8" });
   if (r.status !== 0) throw new Error(`python3/numpy failed: ${r.stderr}`);
   return JSON.parse(r.stdout) as { min: number[]; mean: number[]; max: number[] };
 }

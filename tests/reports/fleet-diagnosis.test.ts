@@ -25,6 +25,7 @@ import type { ServerContext } from "@/server/context";
 import { startReports } from "@/server/reports";
 import { createFixture, FakeClock, testContext, type Fixture } from "../alarms/helpers";
 import { createTestDatabase, type TestDatabase } from "../setup/db";
+import { PYTHON } from "../helpers/python";
 
 let current: TenantContext | null = null;
 vi.mock("@/lib/auth/guard", async () => (await import("@/tests/helpers/guard-stand-in")).guardStandIn({ currentUser: () => current }));
@@ -182,7 +183,7 @@ describe("fleet health filters by site, area and kind", () => {
     const dir = fs.mkdtempSync(path.join(os.tmpdir(), "rg-fleet-"));
     fs.writeFileSync(path.join(dir, "f.csv"), Buffer.from(await (await get("csv")).arrayBuffer()));
     const reader = "import csv, json, sys\nprint(json.dumps(list(csv.reader(open(sys.argv[1], encoding='utf-8-sig', newline='')))))";
-    const records = JSON.parse(execFileSync("python3", ["-c", reader, path.join(dir, "f.csv")], { encoding: "utf8" })) as string[][];
+    const records = JSON.parse(execFileSync(PYTHON, ["-c", reader, path.join(dir, "f.csv")], { encoding: "utf8" })) as string[][];
     fs.writeFileSync(path.join(dir, "f.pdf"), Buffer.from(await (await get("pdf")).arrayBuffer()));
     const dense = execFileSync("pdftotext", [path.join(dir, "f.pdf"), "-"], { encoding: "utf8" }).replace(/\s+/g, "");
     let checked = 0;

@@ -18,6 +18,7 @@ import { createFixture, type Fixture } from "../alarms/helpers";
 import { createTestDatabase, type TestDatabase } from "../setup/db";
 import { signInAs } from "@/tests/helpers/guard-stand-in";
 import { jsonRequest } from "@/tests/helpers/json-request";
+import { PYTHON } from "../helpers/python";
 
 vi.mock("@/lib/auth/guard", async () => (await import("@/tests/helpers/guard-stand-in")).guardStandIn());
 
@@ -193,7 +194,7 @@ describe("shift handover across the autumn daylight-saving change (Europe/Berlin
     const csvFile = path.join(dir, "h.csv");
     fs.writeFileSync(csvFile, bytes);
     const reader = "import csv, json, sys\nprint(json.dumps(list(csv.reader(open(sys.argv[1], encoding='utf-8-sig', newline='')))))";
-    const records = JSON.parse(execFileSync("python3", ["-c", reader, csvFile], { encoding: "utf8" })) as string[][];
+    const records = JSON.parse(execFileSync(PYTHON, ["-c", reader, csvFile], { encoding: "utf8" })) as string[][];
     const pdfRes = await handoverRoute.GET(get(`/api/reports/handover?siteId=${fx.siteId}&shift=${NIGHT}&format=pdf`));
     expect(pdfRes.headers.get("content-type")).toBe("application/pdf");
     const file = path.join(dir, "h.pdf");

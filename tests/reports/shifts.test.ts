@@ -8,6 +8,7 @@
 import { execFileSync } from "node:child_process";
 import { describe, expect, it } from "vitest";
 import { lastEndedShift, parseShiftStarts, shiftAt, shiftsOfDay, zonedTimeToUtc, zoneOffsetMs } from "@/lib/reports/shifts";
+import { PYTHON } from "../helpers/python";
 
 const H = 3600_000;
 const Z = (s: string) => Date.parse(s);
@@ -22,7 +23,7 @@ for s in sys.argv[2:]:
     d = datetime.datetime.fromisoformat(s).replace(tzinfo=z, fold=0)
     print(int(d.timestamp() * 1000))`;
   try {
-    return execFileSync("python3", ["-c", code, tz, ...local], { encoding: "utf8" }).trim().split("\n").map(Number);
+    return execFileSync(PYTHON, ["-c", code, tz, ...local], { encoding: "utf8" }).trim().split("\n").map(Number);
   } catch {
     return null;
   }

@@ -35,6 +35,7 @@ import { demoSimLoops } from "@/simulators/seed-loops";
 import { createTestDatabase, type TestDatabase } from "../setup/db";
 import { demoTrackerConfig, scenarioDir } from "../tracking/demo-harness";
 import { FakeClock } from "../tracking/helpers";
+import { PYTHON } from "../helpers/python";
 
 const T0 = Date.UTC(2026, 10, 23, 8, 0, 0); // Monday 2026-11-23 08:00 UTC
 const RUN_S = 3600;
@@ -162,7 +163,7 @@ describe("worst-loops ranking on the demo scenario", () => {
     const dir = fs.mkdtempSync(path.join(os.tmpdir(), "rg-worst-"));
     fs.writeFileSync(path.join(dir, "w.csv"), csv);
     const reader = "import csv, json, sys\nprint(json.dumps(list(csv.reader(open(sys.argv[1], encoding='utf-8-sig', newline='')))))";
-    const records = JSON.parse(execFileSync("python3", ["-c", reader, path.join(dir, "w.csv")], { encoding: "utf8" })) as string[][];
+    const records = JSON.parse(execFileSync(PYTHON, ["-c", reader, path.join(dir, "w.csv")], { encoding: "utf8" })) as string[][];
     for (const row of screen.sections[0]!.rows) expect(records).toContainEqual(row);
     const pdfDoc = worstLoopsDocument(report, { limit: 50 });
     fs.writeFileSync(path.join(dir, "w.pdf"), await reportPdf(pdfDoc));

@@ -10,6 +10,7 @@ import { plantTransferFunction } from "@/simulators/plant";
 import { Prng } from "@/simulators/prng";
 import type { PlantSpec } from "@/simulators/scenario";
 import { loopConfig, QUIET } from "./helpers";
+import { PYTHON } from "../helpers/python";
 
 const radius = (z: Complex) => Math.hypot(z.re, z.im);
 
@@ -137,7 +138,7 @@ describe("true closed-loop poles from the state matrix", () => {
 
   it("are the eigenvalues numpy.linalg.eigvals finds for the same matrix (reference library)", () => {
     const mats = plants.map((plant) => new LoopSim(loopConfig({ plant, controller: { kp: 1, ti: 30, td: 2, tf: 0, action: "reverse", form: "ideal" } })).closedLoopStateMatrix());
-    const out = execFileSync("python3", ["-c", "import json,sys,numpy as np\nms=json.load(sys.stdin)\nprint(json.dumps([[[float(v.real),float(v.imag)] for v in np.linalg.eigvals(np.array(m))] for m in ms]))"], {
+    const out = execFileSync(PYTHON, ["-c", "import json,sys,numpy as np\nms=json.load(sys.stdin)\nprint(json.dumps([[[float(v.real),float(v.imag)] for v in np.linalg.eigvals(np.array(m))] for m in ms]))"], {
       input: JSON.stringify(mats),
     }).toString();
     const ref = JSON.parse(out) as [number, number][][];

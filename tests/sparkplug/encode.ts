@@ -4,6 +4,7 @@
  */
 import { execFileSync } from "node:child_process";
 import path from "node:path";
+import { PYTHON } from "../helpers/python";
 
 export interface MetricSpec {
   name?: string;
@@ -23,8 +24,6 @@ export interface PayloadSpec {
   metrics?: MetricSpec[];
 }
 
-/** Debian's interpreter (python3-protobuf is a Debian package; a pyenv shim may not see it). */
-const PYTHON = process.env.RG_PYTHON ?? "/usr/bin/python3";
 
 export function encodeWithPython(specs: PayloadSpec[]): Buffer[] {
   const out = execFileSync(PYTHON, [path.join(__dirname, "encode.py")], { input: JSON.stringify(specs), encoding: "utf8", maxBuffer: 256 * 1024 * 1024 });

@@ -15,6 +15,7 @@ import { identifyStepTest } from "@/lib/step-tests/identify";
 import { ValidationError } from "@/lib/domain/errors";
 import { mulberry32, normal } from "../helpers/seeded-random";
 import { fopdtAt, stepTestCsv, type Fopdt, type MvStep } from "./simulate";
+import { PYTHON, pythonHas } from "../helpers/python";
 
 // Invented plant: a steam-heated dryer temperature, PV 80-180 degC, MV 0-100 %, logged every 2 s.
 const PLANT: Fopdt = { K: 0.8, tau: 150, L: 20 };
@@ -29,8 +30,7 @@ const csv = (noiseStd: number, seed = 7) =>
   stepTestCsv({ plant: PLANT, steps: STEPS, mv0: 40, pv0: 130, T: 2, duration: 1900, noiseStd, seed, mode: "manual" });
 
 function scipyAvailable(): boolean {
-  const r = spawnSync("python3", ["-c", "import scipy.signal, numpy"], { encoding: "utf8" });
-  return r.status === 0;
+  return pythonHas("scipy.signal, numpy");
 }
 
 describe("the test plant's simulation (checked against scipy.signal)", () => {
@@ -51,7 +51,7 @@ ud = np.concatenate([np.zeros(N), u[:n - N]])
 _, y = signal.dlsim((num, den, T), ud)
 print(json.dumps(np.ravel(y).tolist()))
 `;
-    const r = spawnSync("python3", ["-c", script], { encoding: "utf8" });
+    const r = spawnSync(PYTHON, ["-c", script], { encoding: "utf8" });
     expect(r.status, r.stderr).toBe(0);
     const ref = JSON.parse(r.stdout) as number[];
     expect(ref).toHaveLength(951);

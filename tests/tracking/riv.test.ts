@@ -12,6 +12,7 @@ import { execFileSync } from "node:child_process";
 import { describe, expect, it } from "vitest";
 import { fitArx } from "@/lib/control/arx-batch";
 import { InstrumentalArxEstimator } from "@/lib/control/riv";
+import { PYTHON } from "../helpers/python";
 
 /** Deterministic normal deviates (xorshift + Box-Muller), for reproducible data. */
 function rng(seed: number): () => number {
@@ -79,7 +80,7 @@ for k in range(6, len(u)):
     phi = np.array([-y[k-1], -y[k-2], u[k-1], u[k-2]]); z = np.array([r[k-1], r[k-2], r[k-3], r[k-4]])
     M += np.outer(z, phi); f += z * y[k]
 print(json.dumps(np.linalg.solve(M, f).tolist()))`;
-    const ref = JSON.parse(execFileSync("python3", ["-c", py], { input: JSON.stringify({ u, y, r }) }).toString()) as number[];
+    const ref = JSON.parse(execFileSync(PYTHON, ["-c", py], { input: JSON.stringify({ u, y, r }) }).toString()) as number[];
     const th = Array.from(est.theta);
     ref.forEach((v, i) => expect(th[i]).toBeCloseTo(v, 9));
   });
