@@ -16,7 +16,7 @@ import { autocorrelation, variance } from "./signal";
 import { sensorFigures } from "./sensor";
 import { idleIndex } from "./sluggishness";
 import { setPointResponse, setPointSigns, spanTimeScale } from "./setpoint-response";
-import { strongestLine } from "./spectral-line";
+import { settledMask, strongestLine } from "./spectral-line";
 import { assessStiction } from "./stiction";
 import type { AssessSample, LoopAssessmentReport } from "./types";
 import { WEAK_LINE } from "./tuning-confidence";
@@ -178,7 +178,7 @@ export function assessLoop(input: readonly AssessSample[], config: LoopConfig): 
 
   // A periodic component from outside shows as a spectral line in the error; a weaker peak that
   // persists in PV while the loop is in manual is outside too (manual-cycle.ts).
-  const line = strongestLine(w.e, include, w.T);
+  const line = strongestLine(w.e, settledMask(w.e, w.sp, include, w.pvSpan), w.T);
   const lineInManual = !osc.detected && line && line.ratio >= WEAK_LINE && w.hasMode ? persistsInManual(w, line.periodS / w.T) === true : false;
 
   const acf = acfFull.subarray(0, Math.min(acfFull.length, Math.max(20, Math.round((osc.periodS ?? timeScale * 2) / w.T) * 2)));
@@ -268,7 +268,7 @@ export function assessLoop(input: readonly AssessSample[], config: LoopConfig): 
       ownModePeriodS: ownPeriodS,
       errorDecorrelationS: decorrelation < acfFull.length ? decorrelationS : null,
       ringDepth: periodSamples ? ringDepth : null,
-      spectralLine: line ? { periodS: line.periodS, ratio: line.ratio, share: line.share } : null,
+      spectralLine: line ? { periodS: line.periodS, ratio: line.ratio, share: line.share, near: line.near } : null,
       disturbanceDecayRatio: dist?.decayRatio ?? null,
       disturbanceTimeToDeadTime: distTauToDead,
       acfDecay: acfDecay ? { ratio: acfDecay.ratio, decayRatio: acfDecay.decayRatio, periodS: acfDecay.periodS, depth: acfDecay.depth, ratioSd: acfDecay.ratioSd } : null,

@@ -112,8 +112,8 @@ export interface AssessmentDetails {
   errorDecorrelationS: number | null;
   /** Lowest error ACF within 1.5 dominant periods (below about -0.2: the error rings). */
   ringDepth: number | null;
-  /** Strongest spectral line of the error: period, s; ordinate over its neighbours' median; share of the error variance (spectral-line.ts). */
-  spectralLine: { periodS: number; ratio: number; share: number } | null;
+  /** Strongest spectral line of the error: period, s; ordinate over its neighbours' median; share of the error variance; ordinate over its immediate neighbours' mean (spectral-line.ts). */
+  spectralLine: { periodS: number; ratio: number; share: number; near: number } | null;
   /** Decay ratio of the dominant disturbance-response pole (period-invariant), null when real. */
   disturbanceDecayRatio: number | null;
   /** Miao–Seborg autocorrelation decay ratio of the differenced error (acf-decay.ts): R ≈ √DR, 0.5 = quarter amplitude; null without a full swing. */

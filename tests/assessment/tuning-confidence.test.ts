@@ -64,7 +64,7 @@ describe("sluggish finding: confidence by agreement of the two estimators", () =
 
 describe("a healthy verdict beside a weak regular cycle", () => {
   const healthy = { label: "healthy" as const, confidence: 0.8, evidence: ["likely healthy"] };
-  const line = (periodS: number, ratio: number) => ({ periodS, ratio, share: 0.1 });
+  const line = (periodS: number, ratio: number) => ({ periodS, ratio, share: 0.1, near: ratio });
 
   it("is kept at the one-sign level with the cycle named when the ACF's regular period and a spectral peak agree", () => {
     const d = temperForWeakCycle(healthy, { regularity: 2.5, periodS: 900, spectralLine: line(860, WEAK_LINE + 1) });
