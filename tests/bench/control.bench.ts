@@ -315,14 +315,15 @@ let hotMedian = NaN;
 for (const [name, fn, iterations] of cases) {
   const { ns, base, medianRatio } = measure(fn, iterations);
   const ratio = ns / base;
-  if (fn === trackerHotLoop) {
+  // the target is read on the step the tracker really runs: its state's poles are a cold solve
+  if (fn === trackerHotColdLoop) {
     hotRatio = ratio;
     hotMedian = medianRatio;
   }
   console.log(`${name.padEnd(112)} ${ns.toFixed(1).padStart(8)} ns  ${(1e3 / ns).toFixed(2).padStart(7)} M/s  x${ratio.toFixed(2)}  median x${medianRatio.toFixed(2)}  (baseline ${base.toFixed(1)} ns)`);
 }
 console.log(`load average at end: ${loadavg().map((v) => v.toFixed(2)).join(" ")}`);
-console.log(`target: hot tracker step <= 4x BASELINE -> measured x${hotRatio.toFixed(2)} (ratio of bests; ${hotRatio <= 4 ? "within" : "over"} target), median of paired rounds x${hotMedian.toFixed(2)}`);
+console.log(`target: hot tracker step (cold solve, as the tracker) <= 4x BASELINE -> measured x${hotRatio.toFixed(2)} (ratio of bests; ${hotRatio <= 4 ? "within" : "over"} target), median of paired rounds x${hotMedian.toFixed(2)}`);
 printDriftCost();
 if (process.env.BENCH_COVERAGE !== "0") {
   printCoverageTable();
