@@ -160,7 +160,8 @@ export function parseAssessCsv(text: string): ParsedAssessCsv {
   const imv = index.mv!;
   const imode = index.mode;
   const iq = index.quality;
-  const needed = Math.max(it, isp, ipv, imv, imode ?? 0, iq ?? 0) + 1;
+  const requiredLast = Math.max(it, isp, ipv, imv);
+  const needed = Math.max(requiredLast, imode ?? 0, iq ?? 0) + 1;
 
   const samples: AssessSample[] = [];
   const cautions: string[] = [];
@@ -188,6 +189,10 @@ export function parseAssessCsv(text: string): ParsedAssessCsv {
     if (c0 === 35 /* # */ || (c0 <= 32 && line.trim() === "")) continue;
     if (samples.length >= MAX_ASSESS_ROWS) throw new AssessCsvError(`Line ${lineNo}: more than ${MAX_ASSESS_ROWS} data rows; export a shorter span or a longer period.`, lineNo);
     const cells = splitCells(line, sep);
+    // A row of separators only (a spreadsheet's formatted but empty rows) holds nothing.
+    if (cells.every((c) => c === "")) continue;
+    // Tools that drop trailing empty cells: the optional mode and quality are then empty.
+    if (cells.length < needed && cells.length > requiredLast) while (cells.length < needed) cells.push("");
     if (cells.length < needed) {
       const other = [",", ";", "\t"].find((c) => c !== sep && line!.includes(c));
       const hint = other ? ` The header is separated by "${sep === "\t" ? "tab" : sep}", this line has "${other === "\t" ? "tab" : other}".` : "";

@@ -160,6 +160,12 @@ describe("parseAssessCsv on hostile exports", () => {
     expect(r.cautions.join(" ")).toMatch(/1 row had no mode/);
   });
 
+  it("skips rows of separators only and reads a row without its trailing optional cells as unknown mode", () => {
+    const r = parseAssessCsv("t,sp,pv,mv,mode\n0,1,2,3,auto\n1,1,2.5,3\n,,,,\n2,1,2,3,man\n,,,,\n");
+    expect(r.samples).toEqual([{ t: 0, sp: 1, pv: 2, mv: 3, mode: "auto" }, { t: 1, sp: 1, pv: 2.5, mv: 3 }, { t: 2, sp: 1, pv: 2, mv: 3, mode: "manual" }]);
+    expect(r.cautions.join(" ")).toMatch(/1 row had no mode/);
+  });
+
   it("drops a repeated row and keeps the later of two rows at one instant, with cautions", () => {
     const r = parseAssessCsv("t,sp,pv,mv\n0,1,2,3\n1,1,2,3\n1,1,2,3\n2,1,2,3\n2,1,2.5,3\n3,1,2,3\n");
     expect(r.samples.map((s) => [s.t, s.pv])).toEqual([[0, 2], [1, 2], [2, 2.5], [3, 2]]);
