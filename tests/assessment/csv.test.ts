@@ -45,6 +45,8 @@ describe("parseAssessCsv", () => {
     expect(r.samples.map((s) => s.quality)).toEqual(["good", "bad", "good", "uncertain", "bad"]);
     expect(Number.isNaN(r.samples[1]!.pv)).toBe(true);
     expect(r.cautions).toEqual([]);
+    // An empty quality cell is no quality given: the values decide.
+    expect(parseAssessCsv("t,sp,pv,mv,quality\n0,5,5,5,\n1,5,5.5,5,good\n").samples).toEqual([{ t: 0, sp: 5, pv: 5, mv: 5 }, { t: 1, sp: 5, pv: 5.5, mv: 5, quality: "good" }]);
     // An empty value on a row called good is missing, with a caution naming the line.
     const g = parseAssessCsv("t,sp,pv,mv,quality\n0,5,5,5,good\n1,5,,5,good\n");
     expect(Number.isNaN(g.samples[1]!.pv)).toBe(true);
