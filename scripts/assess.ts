@@ -10,6 +10,7 @@
 import { readFileSync } from "node:fs";
 import path from "node:path";
 import { AssessCsvError, assessLoop, LoopConfigError, parseAssessCsv, parseLoopConfig, type LoopAssessmentReport } from "@/lib/assessment";
+import { dataCautions, loopJsonCautions } from "@/lib/assessment/input-checks";
 
 const USAGE = "usage: npm run -s assess -- FILE.csv --config LOOP.json [--json]";
 
@@ -61,6 +62,22 @@ function summary(r: LoopAssessmentReport, tag: string): string {
   return lines.join("\n");
 }
 
+/**
+ * Text of an export: UTF-8 (a byte order mark is dropped by the parsers) or UTF-16, as spreadsheet
+ * programs save "Unicode text" (with a byte order mark, or little-endian ASCII without one).
+ */
+function decodeText(buf: Buffer): string {
+  if (buf[0] === 0xff && buf[1] === 0xfe) return buf.subarray(2).toString("utf16le");
+  if (buf[0] === 0xfe && buf[1] === 0xff) {
+    const be = Buffer.from(buf.subarray(2, 2 + ((buf.length - 2) & ~1)));
+    return be.swap16().toString("utf16le");
+  }
+  if (buf.length >= 4 && buf[0] !== 0 && buf[1] === 0 && buf[2] !== 0 && buf[3] === 0) return buf.toString("utf16le");
+  return buf.toString("utf8");
+}
+
+const withoutBom = (s: string) => (s.charCodeAt(0) === 0xfeff ? s.slice(1) : s);
+
 /** npm runs scripts in the package root; relative paths are the caller's (INIT_CWD). */
 function resolvePath(p: string): string {
   return path.resolve(process.env.INIT_CWD ?? process.cwd(), p);
@@ -74,14 +91,14 @@ function main(): number {
   }
   let configJson: unknown;
   try {
-    configJson = JSON.parse(readFileSync(resolvePath(args.config), "utf8"));
+    configJson = JSON.parse(withoutBom(decodeText(readFileSync(resolvePath(args.config)))));
   } catch (e) {
     process.stderr.write(`${args.config}: ${e instanceof Error ? e.message : String(e)}\n`);
     return 1;
   }
   let text: string;
   try {
-    text = readFileSync(resolvePath(args.file), "utf8");
+    text = decodeText(readFileSync(resolvePath(args.file)));
   } catch (e) {
     process.stderr.write(`${args.file}: ${e instanceof Error ? e.message : String(e)}\n`);
     return 1;
@@ -90,6 +107,8 @@ function main(): number {
     const config = parseLoopConfig(configJson);
     const parsed = parseAssessCsv(text);
     const report = assessLoop(parsed.samples, config);
+    // How the inputs were read comes first among the cautions (the report's shape is unchanged).
+    report.cautions = [...parsed.cautions, ...loopJsonCautions(configJson), ...dataCautions(parsed.samples, config), ...report.cautions];
     process.stdout.write(args.json ? `${JSON.stringify(report)}\n` : `${summary(report, config.tag)}\n`);
     return 0;
   } catch (e) {

@@ -4,6 +4,7 @@
  * ignored so a fuller loop record can be passed as it is.
  */
 import { z } from "zod";
+import { normaliseLoopJson } from "./input-checks";
 
 const finite = z.number().refine(Number.isFinite, "must be a finite number");
 
@@ -47,9 +48,12 @@ export class LoopConfigError extends Error {
   }
 }
 
-/** Checks a parsed JSON value; throws LoopConfigError naming each field at fault. */
+/**
+ * Checks a parsed JSON value; throws LoopConfigError naming each field at fault. Numbers written
+ * as strings of a plain decimal number and enum words in other letter cases are read first.
+ */
 export function parseLoopConfig(value: unknown): LoopConfig {
-  const r = loopConfigSchema.safeParse(value);
+  const r = loopConfigSchema.safeParse(normaliseLoopJson(value));
   if (r.success) return r.data;
   throw new LoopConfigError(r.error.issues.map((i) => `${i.path.length ? i.path.join(".") : "(root)"}: ${i.message}`));
 }

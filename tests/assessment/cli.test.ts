@@ -5,10 +5,11 @@
  * a message naming the line.
  */
 import { spawnSync } from "node:child_process";
-import { mkdtempSync, rmSync, writeFileSync } from "node:fs";
+import { mkdtempSync, readFileSync, rmSync, writeFileSync } from "node:fs";
 import { tmpdir } from "node:os";
 import path from "node:path";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { assessLoop, parseAssessCsv, parseLoopConfig } from "@/lib/assessment";
 import { flowLoopJson, simulateLoop } from "./loop-sim";
 
 const root = path.join(import.meta.dirname, "..", "..");
@@ -18,6 +19,16 @@ let loop = "";
 
 function run(args: string[]) {
   return spawnSync("npm", ["run", "-s", "assess", "--", ...args], { cwd: root, encoding: "utf8", timeout: 60_000 });
+}
+
+/** A file the command must refuse: exit 1, nothing on stdout, the message on stderr. */
+function expectRefused(name: string, text: string, message: RegExp): void {
+  const file = path.join(dir, name);
+  writeFileSync(file, text);
+  const r = run([file, "--config", loop, "--json"]);
+  expect(r.status).toBe(1);
+  expect(r.stdout).toBe("");
+  expect(r.stderr).toMatch(message);
 }
 
 beforeAll(() => {
@@ -73,12 +84,7 @@ describe("npm run -s assess", () => {
   });
 
   it("a bad file exits non-zero naming the line; a bad config names the field; bad arguments exit 2", () => {
-    const bad = path.join(dir, "bad.csv");
-    writeFileSync(bad, "t,sp,pv,mv\n0,50,50,40\n1,50,fifty,40\n");
-    const r = run([bad, "--config", loop, "--json"]);
-    expect(r.status).toBe(1);
-    expect(r.stdout).toBe("");
-    expect(r.stderr).toMatch(/Line 3, column 3 \(pv\)/);
+    expectRefused("bad.csv", "t,sp,pv,mv\n0,50,50,40\n1,50,49.9.1,40\n", /Line 3, column 3 \(pv\)/);
 
     const badLoop = path.join(dir, "bad.json");
     writeFileSync(badLoop, JSON.stringify({ pvLo: 0, pvHi: -1, samplePeriodS: 1, controller: { kp: 1 } }));
@@ -87,5 +93,38 @@ describe("npm run -s assess", () => {
     expect(c.stderr).toMatch(/pvHi/);
 
     expect(run([csv]).status).toBe(2);
+  });
+
+  describe("exports from other tools read like the plain file (same oscillation and finding as the plain file assessed in process)", () => {
+    const samples = simulateLoop({ seed: 11, n: 1500, kp: 0.5, ti: 15, sine: { amplitude: 2, periodS: 60 } });
+    const t0 = Date.UTC(2026, 2, 1);
+    const comma = (v: number | string) => String(v).replace(".", ",");
+    const j = flowLoopJson("FIC-310") as { controller: Record<string, unknown> };
+    const variants: [string, string, () => Buffer | string, string | null, RegExp | null][] = [
+      ["a spreadsheet's UTF-16 tab-separated text", "unicode-text.csv", () => Buffer.concat([Buffer.from([0xff, 0xfe]), Buffer.from("t\tsp\tpv\tmv\tmode\r\n" + samples.map((s) => `${s.t}\t${s.sp}\t${s.pv.toFixed(4)}\t${s.mv.toFixed(4)}\t${s.mode}`).join("\r\n") + "\r\n", "utf16le")]), null, null],
+      ["a European export (sep=; line, decimal commas, ISO times with +00:00, modes in capitals)", "european.csv", () => "sep=;\r\nt;SP [m3/h];PV [m3/h];MV [%];Mode\r\n" + samples.map((s) => `${new Date(t0 + s.t * 1000).toISOString().replace("T", " ").replace("Z", "+00:00")};${comma(s.sp)};${comma(s.pv.toFixed(4))};${comma(s.mv.toFixed(4))};${(s.mode ?? "").toUpperCase()}`).join("\r\n"), null, null],
+      ["milliseconds since 1970 without a unit (with a caution)", "epoch-ms.csv", () => "t,sp,pv,mv,mode\n" + samples.map((s) => `${t0 + s.t * 1000},${s.sp},${s.pv.toFixed(4)},${s.mv.toFixed(4)},${s.mode}`).join("\n"), null, /read as milliseconds since 1970/],
+      ["a loop file with a BOM, numbers as strings and capitalised words", "", () => "", "\ufeff" + JSON.stringify({ ...j, pvLo: "0", pvHi: "100", samplePeriodS: "1", kind: "Flow", controller: { ...j.controller, kp: "0.5", ti: "15", action: "Reverse" } }), null],
+    ];
+    for (const [name, file, content, loopText, caution] of variants) {
+      it(name, () => {
+        const reference = assessLoop(parseAssessCsv(readFileSync(csv, "utf8")).samples, parseLoopConfig(JSON.parse(readFileSync(loop, "utf8"))));
+        const csvFile = file ? path.join(dir, file) : csv;
+        if (file) writeFileSync(csvFile, content());
+        const loopFile = loopText ? path.join(dir, "loop-text.json") : loop;
+        if (loopText) writeFileSync(loopFile, loopText);
+        const r = run([csvFile, "--config", loopFile, "--json"]);
+        expect(r.status, r.stderr).toBe(0);
+        const o = JSON.parse(r.stdout.trim().split("\n").pop()!) as typeof reference;
+        expect(o.samples).toBe(1500);
+        expect(o.oscillation).toEqual(JSON.parse(JSON.stringify(reference.oscillation)));
+        expect(o.diagnosis.label).toBe(reference.diagnosis.label);
+        if (caution) expect(o.cautions.join(" ")).toMatch(caution);
+      });
+    }
+  });
+
+  it("a file with only a header exits 1 naming line 1", () => {
+    expectRefused("header-only.csv", "t,sp,pv,mv\r\n", /Line 1: only 0 data rows/);
   });
 });
