@@ -14,6 +14,7 @@ import { fmt } from "./oscillation";
 import type { SensorFigures } from "./sensor";
 import { isLine, type SpectralLine } from "./spectral-line";
 import type { AcfDecay } from "./acf-decay";
+import { errorWanderLine, type ErrorWander } from "./error-wander";
 import type { SetPointSigns } from "./setpoint-response";
 import { sluggishConfidence, temperForCompression, temperForWeakCycle } from "./tuning-confidence";
 import type { Diagnosis, StictionFigures } from "./types";
@@ -57,6 +58,8 @@ export interface DiagnosisInput {
   setPoint?: SetPointSigns | null;
   /** The error's spectral peak (no oscillation found) also cycles PV in a manual stretch (manual-cycle.ts). */
   lineInManual?: boolean;
+  /** No dominant period at all while the set point holds: the error never swings back within the record (error-wander.ts). */
+  errorWander?: ErrorWander | null;
 }
 
 /** Per-period ACF ratio above which an oscillation counts as sustained (a damped mode decays). */
@@ -260,20 +263,22 @@ function diagnoseFigures(x: DiagnosisInput): Diagnosis {
   const idle = x.idleIndex;
   const harris = x.harrisIndex;
   const noSwing = x.overshoot !== null && x.overshoot < NO_SWING;
+  const wander = x.errorWander ?? null;
   const tauToDead = x.disturbanceTimeToDeadTime;
   const slow = tauToDead !== null && tauToDead > SLUGGISH_TAU;
   const fast = (tauToDead !== null && tauToDead < FAST_TAU) || x.setPoint?.fast === true;
   const spSlow = x.setPoint?.slow === true;
-  if (!fast && ((harris !== null && harris > SLUGGISH_HARRIS) || noSwing || slow || spSlow || (idle !== null && idle > 0.6))) {
+  if (!fast && ((harris !== null && harris > SLUGGISH_HARRIS) || noSwing || wander !== null || slow || spSlow || (idle !== null && idle > 0.6))) {
     const ev = ["likely sluggish tuning: no oscillation, and the loop removes its disturbances slowly"];
     if (harris !== null) ev.push(`variance ${fmt(harris, 1)}× the minimum the dead time allows (Harris index; a well-tuned PI loop is typically within 1–3, common practice)`);
     if (noSwing) ev.push(`the error hardly swings back past the set point after a disturbance (autocorrelation dip ${fmt(-x.overshoot!)} of its lag-1 value): an overdamped, slow recovery`);
+    if (wander) ev.push(errorWanderLine(wander, fmt));
     if (slow) ev.push(`the slowest disturbance-response pole has a time constant of ${fmt(x.disturbanceTimeToDeadTime!, 0)} dead times; tuning for τc of one to a few dead times (SIMC, Skogestad 2003) removes disturbances far faster`);
     if (spSlow) ev.push(x.setPoint!.line!);
     if (idle !== null) ev.push(`idle index ${fmt(idle)} (${idle > 0.6 ? "near +1: sluggish" : "not a sign by itself: near +1 would be sluggish"}; Hägglund 1999)`);
     // A work item only when the Harris index and the disturbance time agree, or the loop's own
     // set-point response is slow (tuning-confidence.ts).
-    const c = sluggishConfidence({ harris: harris !== null && harris > SLUGGISH_HARRIS, slow, noSwing, idle: idle !== null && idle > 0.6, setPoint: spSlow, hasEstimators: x.disturbanceTimeToDeadTime !== null || harris !== null });
+    const c = sluggishConfidence({ harris: harris !== null && harris > SLUGGISH_HARRIS, slow, noSwing: noSwing || wander !== null, idle: idle !== null && idle > 0.6, setPoint: spSlow, hasEstimators: x.disturbanceTimeToDeadTime !== null || harris !== null });
     return { label: "sluggish-tuning", confidence: c.confidence, evidence: [...ev, ...c.notes] };
   }
   const ev = ["likely healthy: no oscillation, no stiction sign, the error does not ring"];
