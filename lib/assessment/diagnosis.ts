@@ -16,7 +16,7 @@ import { isLine, type SpectralLine } from "./spectral-line";
 import type { AcfDecay } from "./acf-decay";
 import { errorWanderLine, type ErrorWander } from "./error-wander";
 import type { SetPointSigns } from "./setpoint-response";
-import { sluggishConfidence, temperForCompression, temperForWeakCycle } from "./tuning-confidence";
+import { FURTHER_SIGN, HEALTHY, sluggishConfidence, temperForCompression, temperForWeakCycle } from "./tuning-confidence";
 import type { Diagnosis, StictionFigures } from "./types";
 
 export interface DiagnosisInput {
@@ -284,9 +284,12 @@ function diagnoseFigures(x: DiagnosisInput): Diagnosis {
   const ev = ["likely healthy: no oscillation, no stiction sign, the error does not ring"];
   if (x.setPoint?.line) ev.push(x.setPoint.line);
   if (tauToDead !== null && tauToDead < FAST_TAU) ev.push(`the slowest disturbance-response pole has a time constant of ${fmt(tauToDead!, 1)} dead times: disturbances are removed about as fast as the dead time allows (SIMC τc of one to a few dead times, Skogestad 2003)${harris !== null && harris > SLUGGISH_HARRIS ? "; the Harris index is high, but a PI loop on a process with lags cannot reach minimum variance" : ""}`);
-  if (idle !== null) ev.push(`idle index ${fmt(idle)} (not sluggish; Hägglund 1999)`);
+  if (idle !== null) ev.push(`idle index ${fmt(idle)} (near +1 would read sluggish; under continuously varying loads it stays negative whatever the tuning, so it does not show the loop well tuned; Hägglund 1999)`);
   if (harris !== null) ev.push(`variance ${fmt(harris, 1)}× the minimum for the dead time (Harris index)`);
-  return { label: "healthy", confidence: clamp(0.6 + (idle !== null ? 0.1 : 0) + ((harris !== null && harris < 3) || fast ? 0.1 : 0)), evidence: ev };
+  // Only a figure that weighs the loop's speed against the process (the Harris index, the
+  // disturbance time against the dead time, the set point's own moves) adds to "no fault sign
+  // found"; the idle index does not (it reads only load steps; tuning-confidence.ts, rule 4).
+  return { label: "healthy", confidence: clamp(HEALTHY + ((harris !== null && harris < 3) || fast ? FURTHER_SIGN : 0)), evidence: ev };
 }
 
 function lineLine(l: SpectralLine): string {
