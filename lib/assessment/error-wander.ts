@@ -14,7 +14,10 @@
  * within more than half the record: the closed loop takes a sizable share of the record to bring
  * its error back, an overdamped, slow recovery, which is what Hägglund (1999) calls sluggish.
  * Crossings spaced further apart than a sixth of the record (the period estimate's other limit)
- * are a period too long to measure, not a missing swing, and are not counted. Read only while the
+ * are a period too long to measure, not a missing swing, and are not counted; nor is an ACF that
+ * never goes below the hysteresis band at all (no crossing): the error then shows no recovery in
+ * its ACF, only a quick decorrelation (a fast loop's error in a short window, seen in a live
+ * window of 21 s) or a trend. Read only while the
  * set point holds (with set-point moves the loop's response to them is the better evidence,
  * setpoint-response.ts, and the error then carries the steps' own long tails), and not on
  * integrating (level) loops, where a level that wanders slowly within its band is often intended
@@ -56,7 +59,7 @@ const ONE_SWING = 3;
 const MIN_SAMPLES = 200;
 
 export function errorWander(x: ErrorWanderInput): ErrorWander | null {
-  if (x.periodFound || x.crossings >= ONE_SWING || !x.setPointHeld || x.integrating || x.n < MIN_SAMPLES || !(x.acf[0]! > 0)) return null;
+  if (x.periodFound || x.crossings < 1 || x.crossings >= ONE_SWING || !x.setPointHeld || x.integrating || x.n < MIN_SAMPLES || !(x.acf[0]! > 0)) return null;
   let first = -1;
   for (let k = 1; k < x.acf.length; k++) if (x.acf[k]! <= 0) {
     first = k;
