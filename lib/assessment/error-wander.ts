@@ -31,10 +31,10 @@
 export interface ErrorWander {
   /** Zero crossings of the error's ACF within the lags examined (with the oscillation test's hysteresis). */
   crossings: number;
-  /** First lag at which the error's ACF reaches zero, s (null: not within the lags examined). */
-  firstZeroS: number | null;
-  /** That lag as a share of the record. */
-  firstZeroShare: number | null;
+  /** First lag at which the error's ACF reaches zero, s. */
+  firstZeroS: number;
+  /** That lag as a share of the record (at least MIN_FIRST_ZERO). */
+  firstZeroShare: number;
 }
 
 export interface ErrorWanderInput {
@@ -55,6 +55,14 @@ export interface ErrorWanderInput {
 
 /** Thornhill's period estimate needs this many ACF zero crossings (oscillation.ts). */
 const ONE_SWING = 3;
+/**
+ * Earliest first zero of the ACF, as a share of the record, for a swing too slow to count: the ACF
+ * of a cycle of period P crosses zero at P/4, 3P/4, 5P/4, so the third crossing lies beyond the
+ * 60 % of the record examined when P > 0.48 of it, i.e. when the first lies beyond 0.6 / 5 = 0.12.
+ * An ACF that reaches zero earlier and then stays within the band is an error that decorrelated
+ * quickly (its long lags are noise), not one that is slow to come back.
+ */
+const MIN_FIRST_ZERO = 0.6 / 5;
 /** Fewest samples for which the long-lag ACF means anything (ours; the oscillation test needs 20). */
 const MIN_SAMPLES = 200;
 
@@ -65,15 +73,16 @@ export function errorWander(x: ErrorWanderInput): ErrorWander | null {
     first = k;
     break;
   }
+  if (first < 0 || first / x.n < MIN_FIRST_ZERO) return null;
   return {
     crossings: x.crossings,
-    firstZeroS: first > 0 ? first * x.T : null,
-    firstZeroShare: first > 0 ? first / x.n : null,
+    firstZeroS: first * x.T,
+    firstZeroShare: first / x.n,
   };
 }
 
 /** The evidence line of the sign. */
 export function errorWanderLine(w: ErrorWander, fmt: (v: number, digits?: number) => string): string {
-  const first = w.firstZeroS !== null && w.firstZeroShare !== null ? `, first after ${fmt(w.firstZeroS, 0)} s, ${fmt(100 * w.firstZeroShare, 0)} % of the record` : "";
+  const first = `, first after ${fmt(w.firstZeroS, 0)} s, ${fmt(100 * w.firstZeroShare, 0)} % of the record`;
   return `the error never settles into swinging back past the set point: its autocorrelation crosses zero only ${w.crossings} ${w.crossings === 1 ? "time" : "times"} in the lags examined${first}, not one full swing (Thornhill et al. 2003 need three crossings for a period), so with the set point held and integral action the loop takes a sizable share of the record to remove a disturbance: an overdamped, slow recovery`;
 }

@@ -53,6 +53,9 @@ describe("the error never swings back within the record", () => {
     expect(errorWander({ acf, T: 1, n: 1000, periodFound: false, crossings: 1, setPointHeld: false, integrating: false })).toBeNull();
     expect(errorWander({ acf, T: 1, n: 1000, periodFound: false, crossings: 1, setPointHeld: true, integrating: true })).toBeNull();
     expect(errorWander({ acf, T: 1, n: 1000, periodFound: false, crossings: 3, setPointHeld: true, integrating: false })).toBeNull();
+    // an ACF that reaches zero early (5 % of the record) has decorrelated, not wandered
+    const early = Float64Array.from({ length: 600 }, (_, k) => Math.max(1 - k / 50, 0) - (k > 50 ? 0.2 : 0));
+    expect(errorWander({ acf: early, T: 1, n: 1000, periodFound: false, crossings: 1, setPointHeld: true, integrating: false })).toBeNull();
     // an ACF that never swings below the band shows no recovery at all (a decorrelated error, a trend)
     expect(errorWander({ acf, T: 1, n: 1000, periodFound: false, crossings: 0, setPointHeld: true, integrating: false })).toBeNull();
     // first zero of a linearly falling ACF at lag 300: 300 s, 30 % of the record
