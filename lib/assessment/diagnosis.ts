@@ -14,8 +14,9 @@ import { fmt } from "./oscillation";
 import type { SensorFigures } from "./sensor";
 import { isLine, type SpectralLine } from "./spectral-line";
 import type { AcfDecay } from "./acf-decay";
+import { errorWanderLine, type ErrorWander } from "./error-wander";
 import type { SetPointSigns } from "./setpoint-response";
-import { sluggishConfidence, temperForCompression, temperForWeakCycle } from "./tuning-confidence";
+import { FURTHER_SIGN, HEALTHY, sluggishConfidence, temperForCompression, temperForWeakCycle } from "./tuning-confidence";
 import type { Diagnosis, StictionFigures } from "./types";
 
 export interface DiagnosisInput {
@@ -57,6 +58,8 @@ export interface DiagnosisInput {
   setPoint?: SetPointSigns | null;
   /** The error's spectral peak (no oscillation found) also cycles PV in a manual stretch (manual-cycle.ts). */
   lineInManual?: boolean;
+  /** No dominant period at all while the set point holds: the error never swings back within the record (error-wander.ts). */
+  errorWander?: ErrorWander | null;
 }
 
 /** Per-period ACF ratio above which an oscillation counts as sustained (a damped mode decays). */
@@ -260,28 +263,33 @@ function diagnoseFigures(x: DiagnosisInput): Diagnosis {
   const idle = x.idleIndex;
   const harris = x.harrisIndex;
   const noSwing = x.overshoot !== null && x.overshoot < NO_SWING;
+  const wander = x.errorWander ?? null;
   const tauToDead = x.disturbanceTimeToDeadTime;
   const slow = tauToDead !== null && tauToDead > SLUGGISH_TAU;
   const fast = (tauToDead !== null && tauToDead < FAST_TAU) || x.setPoint?.fast === true;
   const spSlow = x.setPoint?.slow === true;
-  if (!fast && ((harris !== null && harris > SLUGGISH_HARRIS) || noSwing || slow || spSlow || (idle !== null && idle > 0.6))) {
+  if (!fast && ((harris !== null && harris > SLUGGISH_HARRIS) || noSwing || wander !== null || slow || spSlow || (idle !== null && idle > 0.6))) {
     const ev = ["likely sluggish tuning: no oscillation, and the loop removes its disturbances slowly"];
     if (harris !== null) ev.push(`variance ${fmt(harris, 1)}× the minimum the dead time allows (Harris index; a well-tuned PI loop is typically within 1–3, common practice)`);
     if (noSwing) ev.push(`the error hardly swings back past the set point after a disturbance (autocorrelation dip ${fmt(-x.overshoot!)} of its lag-1 value): an overdamped, slow recovery`);
+    if (wander) ev.push(errorWanderLine(wander, fmt));
     if (slow) ev.push(`the slowest disturbance-response pole has a time constant of ${fmt(x.disturbanceTimeToDeadTime!, 0)} dead times; tuning for τc of one to a few dead times (SIMC, Skogestad 2003) removes disturbances far faster`);
     if (spSlow) ev.push(x.setPoint!.line!);
     if (idle !== null) ev.push(`idle index ${fmt(idle)} (${idle > 0.6 ? "near +1: sluggish" : "not a sign by itself: near +1 would be sluggish"}; Hägglund 1999)`);
     // A work item only when the Harris index and the disturbance time agree, or the loop's own
     // set-point response is slow (tuning-confidence.ts).
-    const c = sluggishConfidence({ harris: harris !== null && harris > SLUGGISH_HARRIS, slow, noSwing, idle: idle !== null && idle > 0.6, setPoint: spSlow, hasEstimators: x.disturbanceTimeToDeadTime !== null || harris !== null });
+    const c = sluggishConfidence({ harris: harris !== null && harris > SLUGGISH_HARRIS, slow, noSwing: noSwing || wander !== null, idle: idle !== null && idle > 0.6, setPoint: spSlow, hasEstimators: x.disturbanceTimeToDeadTime !== null || harris !== null });
     return { label: "sluggish-tuning", confidence: c.confidence, evidence: [...ev, ...c.notes] };
   }
   const ev = ["likely healthy: no oscillation, no stiction sign, the error does not ring"];
   if (x.setPoint?.line) ev.push(x.setPoint.line);
   if (tauToDead !== null && tauToDead < FAST_TAU) ev.push(`the slowest disturbance-response pole has a time constant of ${fmt(tauToDead!, 1)} dead times: disturbances are removed about as fast as the dead time allows (SIMC τc of one to a few dead times, Skogestad 2003)${harris !== null && harris > SLUGGISH_HARRIS ? "; the Harris index is high, but a PI loop on a process with lags cannot reach minimum variance" : ""}`);
-  if (idle !== null) ev.push(`idle index ${fmt(idle)} (not sluggish; Hägglund 1999)`);
+  if (idle !== null) ev.push(`idle index ${fmt(idle)} (near +1 would read sluggish; under continuously varying loads it stays negative whatever the tuning, so it does not show the loop well tuned; Hägglund 1999)`);
   if (harris !== null) ev.push(`variance ${fmt(harris, 1)}× the minimum for the dead time (Harris index)`);
-  return { label: "healthy", confidence: clamp(0.6 + (idle !== null ? 0.1 : 0) + ((harris !== null && harris < 3) || fast ? 0.1 : 0)), evidence: ev };
+  // Only a figure that weighs the loop's speed against the process (the Harris index, the
+  // disturbance time against the dead time, the set point's own moves) adds to "no fault sign
+  // found"; the idle index does not (it reads only load steps; tuning-confidence.ts, rule 4).
+  return { label: "healthy", confidence: clamp(HEALTHY + ((harris !== null && harris < 3) || fast ? FURTHER_SIGN : 0)), evidence: ev };
 }
 
 function lineLine(l: SpectralLine): string {

@@ -6,6 +6,7 @@
 import { differencedErrorDecay } from "./acf-decay";
 import { countExcitation, disturbanceResponse, disturbanceTimeConstantS, estimationFactor, ownClosedLoopPoles } from "./closed-loop";
 import { detectCompression } from "./compression";
+import { errorWander } from "./error-wander";
 import { integralTime, isIntegrating, type LoopConfig } from "./config";
 import { loadOrValve } from "./load-or-valve";
 import { diagnose } from "./diagnosis";
@@ -198,6 +199,8 @@ export function assessLoop(input: readonly AssessSample[], config: LoopConfig): 
   // (Most loops hold their set point: nothing to read, and no copy of it in % to make.)
   const spResp = spVar > 0 ? setPointResponse({ pv: w.pvPct, sp: w.sp.map((v) => (100 * (v - config.pvLo)) / w.pvSpan), stretches: constantSpStretches(w, 100, true), T: w.T, horizonS: 20 * (ti ?? timeScale) }) : null;
   const spSigns = setPointSigns(spResp, integrating);
+  // No swing-back at all within the record while the set point holds (error-wander.ts).
+  const wander = errorWander({ acf: acfFull, T: w.T, n: w.n, periodFound: osc.periodS !== null, crossings: osc.crossings, setPointHeld: spResp === null && errorStretches === stretches, integrating });
   const spanScale = spanTimeScale(timeScale, dead, spSigns.line !== null ? spResp : null, cautions);
   const neededS = Math.max(Math.min(SPAN_FACTOR * spanScale, DECORRELATIONS * decorrelationS), 200 * config.samplePeriodS, 4 * decorrelationS);
 
@@ -229,6 +232,7 @@ export function assessLoop(input: readonly AssessSample[], config: LoopConfig): 
     acfDecay,
     noisePct: usage.pvNoisePct,
     setPoint: spSigns,
+    errorWander: wander,
   });
 
   return {
@@ -273,6 +277,7 @@ export function assessLoop(input: readonly AssessSample[], config: LoopConfig): 
       disturbanceTimeToDeadTime: distTauToDead,
       acfDecay: acfDecay ? { ratio: acfDecay.ratio, decayRatio: acfDecay.decayRatio, periodS: acfDecay.periodS, depth: acfDecay.depth, ratioSd: acfDecay.ratioSd } : null,
       setPointResponse: spResp ? { deadTimeS: spResp.deadTimeS, t63S: spResp.t63S, horizonS: spResp.horizonS, ratio: spResp.ratio, lowerBound: spResp.lowerBound, shortOfMove: spResp.shortOfMove, strength: spResp.strength } : null,
+      errorWander: wander,
       errorAcf: Array.from(acf.subarray(0, Math.min(acf.length, 400)), (v) => Math.round(v * 1e4) / 1e4),
     },
   };

@@ -39,6 +39,17 @@
  *    loop's own mode, that cannot be told from a quiet loop with confidence: the healthy verdict
  *    is kept at 0.5 with a line naming the cycle (on study sets about half such verdicts were
  *    right; the others were weak outside sinusoids, sticking valves and one aggressive loop).
+ * 4. A healthy verdict says that no fault sign was found. It is stated at HEALTHY, one step more
+ *    (FURTHER_SIGN) only when a figure weighs the loop's speed against the process and finds it
+ *    fast enough (Harris index below 3, the disturbance time under 5 dead times, the set point's
+ *    moves followed within a few apparent dead times). Hägglund's idle index no longer adds: it
+ *    reads slowness only in the recovery after a load step (Hägglund 1999), and under continuously
+ *    varying loads it stays negative whatever the tuning (its increments follow the load's pace,
+ *    not the controller's; docs/assessment.md), so a value short of +1 does not show a loop well
+ *    tuned. On a compressed export the missing ringing a healthy verdict rests on is itself
+ *    doubtful (compression fills the error's dips, rule 2), so a healthy verdict is capped at
+ *    ONE_SIGN there too. On study sets healthy verdicts stated at 0.7–0.8 were right 52–55 % of the
+ *    time, whatever the evidence beside them (docs/assessment.md, "Healthy verdicts").
  */
 import { fmt } from "./oscillation";
 import type { SpectralLine } from "./spectral-line";
@@ -61,8 +72,10 @@ export interface SluggishSigns {
 export const ONE_SIGN = 0.5;
 /** The Harris index and the disturbance time agree. */
 const BOTH_ESTIMATORS = 0.75;
-/** Each further sign beside the two estimators. */
-const FURTHER_SIGN = 0.1;
+/** Each further sign beside the two estimators (and a speed figure beside a healthy verdict, rule 4). */
+export const FURTHER_SIGN = 0.1;
+/** A healthy verdict: no fault sign found (rule 4). */
+export const HEALTHY = 0.6;
 /**
  * A slow set-point response alone: a work item (ours; on the study sets no healthy loop's response
  * reached the limits of setpoint-response.ts, docs/assessment.md "Sluggishness from the set point's own moves").
@@ -89,12 +102,20 @@ export function sluggishConfidence(s: SluggishSigns): { confidence: number; note
 const TUNING = new Set(["aggressive-tuning", "sluggish-tuning"]);
 
 /**
- * Caps a tuning finding read from a compressed export's error correlation (rule 2 above). A
+ * Caps a tuning finding read from a compressed export's error correlation (rule 2 above), and a healthy verdict (rule 4). A
  * sustained oscillation, or an output driven from limit to limit (saturation above a fifth of the
  * time), is read from the cycle itself and is left as it is.
  */
 export function temperForCompression(d: Diagnosis, x: { compressed: boolean; oscillationDetected: boolean; saturation: number }): Diagnosis {
-  if (!x.compressed || !TUNING.has(d.label) || x.oscillationDetected || x.saturation > 0.2 || d.confidence <= ONE_SIGN) return d;
+  if (!x.compressed || x.oscillationDetected || x.saturation > 0.2 || d.confidence <= ONE_SIGN) return d;
+  if (d.label === "healthy") {
+    return {
+      ...d,
+      confidence: ONE_SIGN,
+      evidence: [...d.evidence, "stated with less confidence: the export looks compressed, and compression fills the error's dips and lengthens its autocorrelation (Thornhill, Choudhury & Shah 2004), so an error that does not ring is weaker evidence of good tuning; an uncompressed export would decide"],
+    };
+  }
+  if (!TUNING.has(d.label)) return d;
   return {
     ...d,
     confidence: ONE_SIGN,

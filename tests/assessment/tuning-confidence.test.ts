@@ -10,7 +10,7 @@
  */
 import { describe, expect, it } from "vitest";
 import { assessLoop, parseLoopConfig, type AssessSample } from "@/lib/assessment";
-import { ONE_SIGN, sluggishConfidence, temperForCompression, temperForWeakCycle, WEAK_LINE } from "@/lib/assessment/tuning-confidence";
+import { FURTHER_SIGN, HEALTHY, ONE_SIGN, sluggishConfidence, temperForCompression, temperForWeakCycle, WEAK_LINE } from "@/lib/assessment/tuning-confidence";
 import { opensWorkItem } from "@/lib/domain/findings";
 import { compressEvery, flowLoopJson, simulateLoop } from "./loop-sim";
 
@@ -91,6 +91,37 @@ describe("a healthy verdict beside a weak regular cycle", () => {
       if (r.diagnosis.confidence > ONE_SIGN) sure++;
     }
     expect(sure).toBeGreaterThanOrEqual(8);
+  });
+});
+
+describe("a healthy verdict: no fault sign found, more only with a speed figure (rule 4)", () => {
+  it("the idle index does not raise it: a SIMC-tuned loop without a dead time says healthy at HEALTHY, with one at HEALTHY + a step", () => {
+    // SIMC (Skogestad 2003, from memory): kp ≈ 2.9, Ti = τ = 20 s on the simulated plant. Without a
+    // dead time nothing weighs the loop's speed (the idle index is there but is no sign of health
+    // under random loads: Hägglund 1999 reads it after load steps); with one, the Harris index is
+    // below 3 or the disturbance time under 5 dead times. Before rule 4: 0.7 and 0.8.
+    const noDead = parseLoopConfig(flowLoopJson("FIC-311", { deadTimeS: null, controller: { kp: 2.9, ti: 20, mvLo: 0, mvHi: 100 } }));
+    const dead = parseLoopConfig(flowLoopJson("FIC-311", { deadTimeS: 3, controller: { kp: 2.9, ti: 20, mvLo: 0, mvHi: 100 } }));
+    for (let seed = 1; seed <= 5; seed++) {
+      const samples = simulateLoop({ seed, n: 6000, kp: 2.9, ti: 20 });
+      const a = assessLoop(samples, noDead);
+      expect(a.diagnosis.label).toBe("healthy");
+      expect(a.details.idleIndex).not.toBeNull();
+      expect(a.diagnosis.confidence).toBeCloseTo(HEALTHY, 9);
+      expect(a.diagnosis.evidence.join(" ")).toMatch(/does not show the loop well tuned/);
+      const b = assessLoop(samples, dead);
+      expect(b.diagnosis.label).toBe("healthy");
+      expect(b.diagnosis.confidence).toBeCloseTo(HEALTHY + FURTHER_SIGN, 9);
+    }
+  });
+
+  it("on a compressed export a healthy verdict is capped at one sign, with the reason", () => {
+    const d = { label: "healthy" as const, confidence: 0.7, evidence: ["likely healthy"] };
+    const capped = temperForCompression(d, { compressed: true, oscillationDetected: false, saturation: 0 });
+    expect(capped.label).toBe("healthy");
+    expect(capped.confidence).toBe(ONE_SIGN);
+    expect(capped.evidence.join(" ")).toMatch(/compressed/);
+    expect(temperForCompression(d, { compressed: false, oscillationDetected: false, saturation: 0 })).toBe(d);
   });
 });
 
