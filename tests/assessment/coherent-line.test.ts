@@ -82,20 +82,23 @@ describe("the coherence bar against SciPy (200 seeds per record length)", () => 
   });
 });
 
-/** A cycle of mean period P samples over N cycles; `accumulate`: each length varies by c and the next starts where it ended; else fixed period with crossing jitter c. Plus white noise. */
+/**
+ * A cycle of mean period P samples over N cycles, with white noise. `accumulate`: each cycle's
+ * length varies by c and the next starts where it ended (0.3 noise); else a fixed period under
+ * white noise of 2πc, which shifts its zero crossings by the same c·P (noise over the slope
+ * 2π/P of a unit sine) without the shift carrying over.
+ */
 function cycle(seed: number, P: number, N: number, c: number, accumulate: boolean): Float64Array {
   const rng = new Prng(seed);
   const x = new Float64Array(P * N);
   let start = 0;
-  let k = 0;
   while (start < x.length) {
     const L = accumulate ? P * (1 + c * rng.normal()) : P;
-    const shift = accumulate ? 0 : c * P * rng.normal() * 0.25;
-    for (let t = Math.max(0, Math.floor(start)); t < Math.min(x.length, start + L); t++) x[t] = Math.sin((2 * Math.PI * (t - start - shift)) / L);
+    for (let t = Math.max(0, Math.ceil(start)); t < Math.min(x.length, start + L); t++) x[t] = Math.sin((2 * Math.PI * (t - start)) / L);
     start += L;
-    k++;
   }
-  for (let t = 0; t < x.length; t++) x[t]! += 0.3 * rng.normal();
+  const noise = accumulate ? 0.3 : 2 * Math.PI * c;
+  for (let t = 0; t < x.length; t++) x[t]! += noise * rng.normal();
   return x;
 }
 
