@@ -9,6 +9,7 @@
  * unless a source is named; all figures are scale-free (shares, ratios, correlations, periods
  * relative to the loop's own time scale), so the rules do not depend on units or tags.
  */
+import { coherentOutsideCycle } from "./coherent-line";
 import type { LoadOrValveFigures } from "./load-or-valve";
 import { fmt } from "./oscillation";
 import type { SensorFigures } from "./sensor";
@@ -174,6 +175,9 @@ function diagnoseFigures(x: DiagnosisInput): Diagnosis {
       if (x.stiction.verdict === "likely") tests.unshift("the stiction tests alone point to a stick-slip cycle, whose PV jumps and MV ramps an outside load that switches abruptly also gives");
       return { label: "external-disturbance", confidence: clamp(0.55 + Math.abs(order.asymmetry!)), evidence: [`likely an outside load that switches abruptly: ${order.line}`, oscLine, ...tests] };
     }
+    // A stick-slip-like cycle that keeps its phase like an outside source's (coherent-line.ts).
+    const coherent = x.stiction.verdict === "likely" ? coherentOutsideCycle(x.spectralLine, osc.periodS, x.spanS) : null;
+    if (coherent) return outsideNotValve(x, coherent, oscLine);
     if (x.stiction.verdict === "likely") {
       return { label: "valve-stiction", confidence: stictionConfidence(x, 0.6), evidence: [...x.stiction.evidence.slice(0, 1), oscLine, ...x.stiction.evidence.slice(1), ...orderLine(x)] };
     }
@@ -203,6 +207,8 @@ function diagnoseFigures(x: DiagnosisInput): Diagnosis {
     return { label: "external-disturbance", confidence: 0.7, evidence: [`likely an oscillation from outside: a cycle of about ${fmt(x.spectralLine.periodS, 0)} s in the error (a spectral peak ${fmt(x.spectralLine.ratio, 0)}× its neighbours) persists while the loop is in manual, where neither tuning nor a valve can drive it (Hägglund 1995)`] };
   }
   if (x.ringDepth !== null && x.ringDepth < -0.15) {
+    const coherent = x.stiction.verdict === "likely" ? coherentOutsideCycle(x.spectralLine, osc.periodS, x.spanS) : null;
+    if (coherent) return outsideNotValve(x, coherent, `irregular cycles of about ${fmt(osc.periodS, 1)} s`);
     if (x.stiction.verdict === "likely" && x.loadOrValve?.reading !== "load") {
       return { label: "valve-stiction", confidence: stictionConfidence(x, 0.5), evidence: [...x.stiction.evidence.slice(0, 1), `irregular cycles of about ${fmt(osc.periodS, 1)} s`, ...x.stiction.evidence.slice(1), ...orderLine(x)] };
     }
@@ -294,6 +300,12 @@ function diagnoseFigures(x: DiagnosisInput): Diagnosis {
 
 function lineLine(l: SpectralLine): string {
   return `likely a periodic disturbance from outside: the error carries a spectral line at ${fmt(l.periodS, 1)} s (${fmt(l.ratio, 0)}× its neighbours, ${pct(l.share)} of the variance); a loop's own mode under random disturbances gives a broad peak, not a line (Fisher's periodogram test, 1929)`;
+}
+
+/** An outside cycle that the stiction tests alone would have blamed on the valve: their readings stay in the evidence. */
+function outsideNotValve(x: DiagnosisInput, coherent: string, cycleLine: string): Diagnosis {
+  const tests = x.stiction.evidence.filter((e) => !e.startsWith("likely "));
+  return { label: "external-disturbance", confidence: 0.6, evidence: [coherent, cycleLine, "the stiction tests alone point to a stick-slip cycle: they read the cycle's shape, which an outside load can give too, not where its period comes from", ...tests] };
 }
 
 function orderLine(x: DiagnosisInput): string[] {
