@@ -103,7 +103,7 @@ describe("set-point overshoot as a sign of aggressive tuning", () => {
     const alone = withSetPointOvershoot(healthy, { overshoot: line, ringDepth: null, acfDecay: null });
     expect(alone.label).toBe("aggressive-tuning");
     expect(alone.confidence).toBeLessThan(0.6);
-    const agreeing = withSetPointOvershoot(healthy, { overshoot: line, ringDepth: -0.25, acfDecay: { ratio: 0.55, ratioSd: 0.1, decayRatio: 0.3, periodS: 60, depth: -0.3 } as never });
+    const agreeing = withSetPointOvershoot(healthy, { overshoot: line, ringDepth: -0.25, acfDecay: { ratio: 0.55, decayRatio: 0.3, troughS: 30, periodS: 60, depth: 0.3, standardError: 0.05, ratioSd: 0.1 } });
     expect(agreeing.confidence).toBeGreaterThan(alone.confidence + 0.15);
     expect(withSetPointOvershoot(healthy, { overshoot: line, slow: true, ringDepth: null, acfDecay: null })).toBe(healthy);
     const stiction = { label: "valve-stiction" as const, confidence: 0.7, evidence: [] };
