@@ -18,6 +18,7 @@ import type { AcfDecay } from "./acf-decay";
 import { errorWanderLine, type ErrorWander } from "./error-wander";
 import type { SetPointSigns } from "./setpoint-response";
 import { FURTHER_SIGN, HEALTHY, sluggishConfidence, temperForCompression, temperForWeakCycle } from "./tuning-confidence";
+import { withSetPointOvershoot } from "./setpoint-overshoot";
 import type { Diagnosis, StictionFigures } from "./types";
 
 export interface DiagnosisInput {
@@ -110,7 +111,9 @@ const FAST_TAU = 5;
 const clamp = (v: number, lo = 0.3, hi = 0.95) => Math.min(hi, Math.max(lo, v));
 
 export function diagnose(x: DiagnosisInput): Diagnosis {
-  const d = temperForCompression(diagnoseFigures(x), { compressed: x.compressed, oscillationDetected: x.oscillation.detected, saturation: x.saturation });
+  const figures = temperForCompression(diagnoseFigures(x), { compressed: x.compressed, oscillationDetected: x.oscillation.detected, saturation: x.saturation });
+  // the set-point response's overshoot (setpoint-overshoot.ts): not read from the error's correlation, so after the compression cap
+  const d = withSetPointOvershoot(figures, { overshoot: x.setPoint?.overshoot, slow: x.setPoint?.slow, ringDepth: x.ringDepth, acfDecay: x.acfDecay });
   return temperForWeakCycle(d, { regularity: x.oscillation.regularity, periodS: x.oscillation.periodS, spectralLine: x.spectralLine });
 }
 

@@ -276,7 +276,7 @@ export function assessLoop(input: readonly AssessSample[], config: LoopConfig): 
       disturbanceDecayRatio: dist?.decayRatio ?? null,
       disturbanceTimeToDeadTime: distTauToDead,
       acfDecay: acfDecay ? { ratio: acfDecay.ratio, decayRatio: acfDecay.decayRatio, periodS: acfDecay.periodS, depth: acfDecay.depth, ratioSd: acfDecay.ratioSd } : null,
-      setPointResponse: spResp ? { deadTimeS: spResp.deadTimeS, t63S: spResp.t63S, horizonS: spResp.horizonS, ratio: spResp.ratio, lowerBound: spResp.lowerBound, shortOfMove: spResp.shortOfMove, strength: spResp.strength } : null,
+      setPointResponse: spResp ? { deadTimeS: spResp.deadTimeS, t63S: spResp.t63S, horizonS: spResp.horizonS, ratio: spResp.ratio, lowerBound: spResp.lowerBound, shortOfMove: spResp.shortOfMove, strength: spResp.strength, overshoot: spResp.overshoot, overshootSe: spResp.overshootSe } : null,
       errorWander: wander,
       errorAcf: Array.from(acf.subarray(0, Math.min(acf.length, 400)), (v) => Math.round(v * 1e4) / 1e4),
     },

@@ -27,6 +27,7 @@
 
 import { invert } from "@/lib/control/linalg";
 import { decimate } from "./closed-loop";
+import { overshootLine } from "./setpoint-overshoot";
 
 /** FIR length, coefficients (ours: spans the response in 48 blocks). */
 const LAGS = 48;
@@ -54,6 +55,13 @@ export interface SetPointResponse {
   resolutionS: number;
   /** Largest |s| / standard error over the response: how clearly the data show it. */
   strength: number;
+  /**
+   * Overshoot of the step response after t63: its peak above 1 (the completed move), as a share of
+   * the move, with the standard error of the step response at the peak; null when t63 was not
+   * reached within the horizon or the peak is the horizon's last value (still rising).
+   */
+  overshoot: number | null;
+  overshootSe: number | null;
 }
 
 interface Fir {
@@ -198,6 +206,7 @@ export function setPointResponse(x: SetPointResponseInput): SetPointResponse | n
   let horizon = 0;
   let strength = 0;
   let last: Fir | null = null;
+  let peak: { overshoot: number; se: number } | null = null;
   for (let g = 1; ; g *= 2) {
     const fir = fitFir(sp, x.pv, x.stretches, g);
     if (!fir) break;
@@ -219,6 +228,7 @@ export function setPointResponse(x: SetPointResponseInput): SetPointResponse | n
     const k63 = deadTimeS !== null ? t63Index(fir) : null;
     if (k63 !== null) {
       t63S = (k63 + 0.5) * g * T;
+      peak = peakAfter(fir, k63);
       break;
     }
     if (horizon >= x.horizonS) break;
@@ -235,7 +245,16 @@ export function setPointResponse(x: SetPointResponseInput): SetPointResponse | n
     shortOfMove,
     resolutionS,
     strength,
+    overshoot: peak?.overshoot ?? null,
+    overshootSe: peak?.se ?? null,
   };
+}
+
+/** The step response's peak at or after lag k63, less 1, and its standard error; null when the peak is the last lag. */
+function peakAfter(f: Fir, k63: number): { overshoot: number; se: number } | null {
+  let k = k63;
+  for (let i = k63 + 1; i < f.step.length; i++) if (f.step[i]! > f.step[k]!) k = i;
+  return k === f.step.length - 1 ? null : { overshoot: f.step[k]! - 1, se: f.se[k]! };
 }
 
 /** Strength (largest |s| / standard error) the response needs before it is read at all (ours). */
@@ -258,6 +277,8 @@ export interface SetPointSigns {
   fast: boolean;
   /** An evidence line for the finding, or null when the response is not read. */
   line: string | null;
+  /** The evidence line of an aggressive overshoot (setpoint-overshoot.ts), null without one. */
+  overshoot?: string | null;
 }
 
 const f0 = (v: number) => (v >= 10 ? v.toFixed(0) : v.toPrecision(2));
@@ -272,7 +293,7 @@ export function setPointSigns(r: SetPointResponse | null, integrating: boolean):
   const reached = r.t63S !== null ? `63 % of a move after ${f0(r.t63S)} s` : `less than 63 % of a move within ${f0(r.horizonS)} s`;
   const what = slow ? "followed slowly" : fast ? "followed about as fast as a good tuning does" : r.shortOfMove ? "followed" : "not read as slow (the response at the end of the fitted horizon is too uncertain to say the move was unfinished)";
   const line = `the set point's moves are ${what}: ${reached}, ${r.lowerBound ? "more than " : ""}${f0(r.ratio)}× the apparent dead time of about ${f0(r.deadTimeS)} s (step response from the set-point moves in the data; response time against dead time as in Swanda & Seborg 1999)`;
-  return { slow, fast, line };
+  return { slow, fast, line, overshoot: slow ? null : overshootLine(r, Z_ONSET) };
 }
 
 /**

@@ -119,7 +119,7 @@ export interface AssessmentDetails {
   /** Miao–Seborg autocorrelation decay ratio of the differenced error (acf-decay.ts): R ≈ √DR, 0.5 = quarter amplitude; null without a full swing. */
   acfDecay?: { ratio: number; decayRatio: number; periodS: number; depth: number; ratioSd: number } | null;
   /** Step response from the set point's own moves (setpoint-response.ts): apparent dead time, t63 (null: not within the horizon), t63 over the dead time; null when the set point does not move enough. */
-  setPointResponse?: { deadTimeS: number; t63S: number | null; horizonS: number; ratio: number; lowerBound: boolean; shortOfMove: boolean; strength: number } | null;
+  setPointResponse?: { deadTimeS: number; t63S: number | null; horizonS: number; ratio: number; lowerBound: boolean; shortOfMove: boolean; strength: number; overshoot?: number | null; overshootSe?: number | null } | null;
   /** The error's ACF never swings back within the record while the set point holds (error-wander.ts); null otherwise. */
   errorWander?: { crossings: number; firstZeroS: number; firstZeroShare: number } | null;
   /** Time constant of the slowest disturbance-response pole over the configured dead time (null without a dead time): about 1–3 for tuning at τc = θ to a few θ (Skogestad 2003). */

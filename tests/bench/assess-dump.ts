@@ -28,6 +28,8 @@ export function keyFigures(r: LoopAssessmentReport, config: { deadTimeS?: number
     spRatio: d.setPointResponse ? n(d.setPointResponse.ratio) : null,
     spLower: d.setPointResponse?.lowerBound ?? null,
     spStrength: d.setPointResponse ? n(d.setPointResponse.strength) : null,
+    spOvershoot: d.setPointResponse?.overshoot != null ? n(d.setPointResponse.overshoot) : null,
+    spOvershootSe: d.setPointResponse?.overshootSe != null ? n(d.setPointResponse.overshootSe) : null,
     line: d.spectralLine ? { period: n(d.spectralLine.periodS), ratio: n(d.spectralLine.ratio), share: n(d.spectralLine.share), near: n(d.spectralLine.near) } : null,
     stiction: r.stiction.verdict,
     order: d.loadOrValve?.reading ?? null,
