@@ -152,3 +152,10 @@ export function compressEvery(s: readonly AssessSample[], every: number): Assess
   }
   return out;
 }
+
+/** Set-point steps of about 5 % at irregular intervals of 0.7–1.3 × `every` samples (a regular square wave would read as an outside cycle). */
+export function irregularSetPointSteps(n: number, every: number): { at: number; sp: number }[] {
+  const out: { at: number; sp: number }[] = [];
+  for (let k = every, i = 0; k < n; i++, k += Math.round(every * (0.7 + 0.6 * ((i * 0.618) % 1)))) out.push({ at: k, sp: i % 2 === 0 ? 55 : 50 - (i % 3) });
+  return out;
+}

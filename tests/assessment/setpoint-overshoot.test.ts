@@ -13,7 +13,6 @@
  * - the verdict: an aggressive loop whose error ringing is buried by a slow load reads healthy or
  *   sluggish from the error alone and aggressive with the set-point overshoot.
  */
-import { spawnSync } from "node:child_process";
 import { readFileSync } from "node:fs";
 import { dirname, join } from "node:path";
 import { fileURLToPath } from "node:url";
@@ -21,8 +20,8 @@ import { describe, expect, it } from "vitest";
 import { assessLoop, parseLoopConfig } from "@/lib/assessment";
 import { GOOD_OVERSHOOT, OVERSHOOT_LIMIT, withSetPointOvershoot } from "@/lib/assessment/setpoint-overshoot";
 import { setPointResponse, setPointSigns } from "@/lib/assessment/setpoint-response";
-import { flowLoopJson, simulateLoop } from "./loop-sim";
-import { PYTHON, pythonHas, sameData } from "../helpers/python";
+import { flowLoopJson, irregularSetPointSteps, simulateLoop } from "./loop-sim";
+import { pythonHas, staleFixture } from "../helpers/python";
 
 interface LoopCase {
   name: string;
@@ -38,18 +37,9 @@ const fixture = JSON.parse(fixtureText) as { loops: LoopCase[]; survey: { plant:
 const hasScipy = pythonHas("numpy, scipy");
 const loop = (name: string) => fixture.loops.find((c) => c.name === name)!;
 
-/** Set-point steps of about 5 % at irregular intervals of 0.7–1.3 × `every` samples (as setpoint-response.test.ts). */
-function steps(n: number, every: number): { at: number; sp: number }[] {
-  const out: { at: number; sp: number }[] = [];
-  for (let k = every, i = 0; k < n; i++, k += Math.round(every * (0.7 + 0.6 * ((i * 0.618) % 1)))) out.push({ at: k, sp: i % 2 === 0 ? 55 : 50 - (i % 3) });
-  return out;
-}
-
 describe("set-point overshoot as a sign of aggressive tuning", () => {
   it.skipIf(!hasScipy)("the fixture is up to date with its scipy generator", () => {
-    const run = spawnSync(PYTHON, [join(here, "../reference/generate_setpoint_overshoot.py"), "--stdout"], { encoding: "utf8" });
-    expect(run.status, run.stderr).toBe(0);
-    expect(sameData(JSON.parse(run.stdout), JSON.parse(fixtureText))).toBeNull();
+    expect(staleFixture(join(here, "../reference/generate_setpoint_overshoot.py"), join(here, "../reference/fixtures/setpoint-overshoot.json"))).toBeNull();
   });
 
   it("the limits lie above every SIMC loop of the scipy survey and below every aggressive one", () => {
@@ -73,7 +63,7 @@ describe("set-point overshoot as a sign of aggressive tuning", () => {
     const c = loop(name);
     const n = 8000;
     for (let seed = 1; seed <= 10; seed++) {
-      const samples = simulateLoop({ seed, n, integrating: c.integrating, kp: c.kp, ti: c.ti, deadS: c.d, noise: 0.1, loadPole: 0.99, loadSigma: 0.05, spSteps: steps(n, 400) });
+      const samples = simulateLoop({ seed, n, integrating: c.integrating, kp: c.kp, ti: c.ti, deadS: c.d, noise: 0.1, loadPole: 0.99, loadSigma: 0.05, spSteps: irregularSetPointSteps(n, 400) });
       const pv = Float64Array.from(samples, (s) => s.pv);
       const sp = Float64Array.from(samples, (s) => s.sp);
       const r = setPointResponse({ pv, sp, stretches: [[0, n]], T: 1, horizonS: 20 * c.ti });
@@ -91,7 +81,7 @@ describe("set-point overshoot as a sign of aggressive tuning", () => {
     for (let seed = 1; seed <= 10; seed++) {
       const n = 20_000;
       // a slow, strong load (pole 0.999) and measurement noise: the error's correlation shows no ringing
-      const r = assessLoop(simulateLoop({ seed, n, kp: c.kp, ti: c.ti, deadS: c.d, noise: 0.3, loadPole: 0.999, loadSigma: 0.15, spSteps: steps(n, 1500) }), cfg);
+      const r = assessLoop(simulateLoop({ seed, n, kp: c.kp, ti: c.ti, deadS: c.d, noise: 0.3, loadPole: 0.999, loadSigma: 0.15, spSteps: irregularSetPointSteps(n, 1500) }), cfg);
       if (r.diagnosis.label === "aggressive-tuning" && r.diagnosis.evidence.some((l) => l.includes("set point's moves overshoot"))) found++;
     }
     expect(found).toBeGreaterThanOrEqual(8);

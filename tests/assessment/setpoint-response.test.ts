@@ -16,15 +16,14 @@
  * 10 of 10 seeds). Swanda & Seborg (Proc. ACC 1999; from memory) judge
  * a PI loop by its set-point response time against its dead time in the same way.
  */
-import { spawnSync } from "node:child_process";
 import { readFileSync } from "node:fs";
 import { dirname, join } from "node:path";
 import { fileURLToPath } from "node:url";
 import { describe, expect, it } from "vitest";
 import { assessLoop, parseLoopConfig } from "@/lib/assessment";
 import { setPointResponse, setPointSigns } from "@/lib/assessment/setpoint-response";
-import { flowLoopJson, simulateLoop } from "./loop-sim";
-import { PYTHON, pythonHas, sameData } from "../helpers/python";
+import { flowLoopJson, irregularSetPointSteps, simulateLoop } from "./loop-sim";
+import { pythonHas, staleFixture } from "../helpers/python";
 
 interface RefCase {
   name: string;
@@ -41,13 +40,6 @@ const fixture = JSON.parse(fixtureText) as { cases: RefCase[] };
 const hasScipy = pythonHas("numpy, scipy");
 const ref = (name: string) => fixture.cases.find((c) => c.name === name)!;
 
-/** Set-point steps of about 5 % at irregular intervals of 0.7–1.3 × `every` samples (a regular square wave would read as an outside cycle). */
-function steps(n: number, every: number): { at: number; sp: number }[] {
-  const out: { at: number; sp: number }[] = [];
-  for (let k = every, i = 0; k < n; i++, k += Math.round(every * (0.7 + 0.6 * ((i * 0.618) % 1)))) out.push({ at: k, sp: i % 2 === 0 ? 55 : 50 - (i % 3) });
-  return out;
-}
-
 function responseOf(samples: ReturnType<typeof simulateLoop>, ti: number) {
   const n = samples.length;
   const pv = Float64Array.from(samples, (s) => s.pv);
@@ -57,9 +49,7 @@ function responseOf(samples: ReturnType<typeof simulateLoop>, ti: number) {
 
 describe("set-point response from routine data", () => {
   it.skipIf(!hasScipy)("the fixture is up to date with its scipy generator", () => {
-    const run = spawnSync(PYTHON, [join(here, "../reference/generate_setpoint_response.py"), "--stdout"], { encoding: "utf8" });
-    expect(run.status, run.stderr).toBe(0);
-    expect(sameData(JSON.parse(run.stdout), JSON.parse(fixtureText))).toBeNull();
+    expect(staleFixture(join(here, "../reference/generate_setpoint_response.py"), join(here, "../reference/fixtures/setpoint-response.json"))).toBeNull();
   });
 
   it.each([
@@ -68,7 +58,7 @@ describe("set-point response from routine data", () => {
   ])("$name: dead time, t63 and the sign against scipy's step response (10 seeds)", ({ name, n, every, fast }) => {
     const c = ref(name);
     for (let seed = 1; seed <= 10; seed++) {
-      const samples = simulateLoop({ seed, n, kp: c.kp, ti: c.ti, deadS: c.d, noise: 0.1, loadPole: 0.99, loadSigma: 0.05, spSteps: steps(n, every) });
+      const samples = simulateLoop({ seed, n, kp: c.kp, ti: c.ti, deadS: c.d, noise: 0.1, loadPole: 0.99, loadSigma: 0.05, spSteps: irregularSetPointSteps(n, every) });
       const r = responseOf(samples, c.ti);
       expect(r, `seed ${seed}`).not.toBeNull();
       // the tangent may fall up to a block before the first move, plus a sample of the hold
@@ -87,7 +77,7 @@ describe("set-point response from routine data", () => {
     const cfg = parseLoopConfig(flowLoopJson("FIC-207", { deadTimeS: null }, { kp: c.kp, ti: c.ti }));
     for (let seed = 1; seed <= 10; seed++) {
       const n = 24_000;
-      const r = assessLoop(simulateLoop({ seed, n, kp: c.kp, ti: c.ti, deadS: c.d, spSteps: steps(n, 2000) }), cfg);
+      const r = assessLoop(simulateLoop({ seed, n, kp: c.kp, ti: c.ti, deadS: c.d, spSteps: irregularSetPointSteps(n, 2000) }), cfg);
       expect(r.diagnosis.label, `seed ${seed}`).toBe("sluggish-tuning");
       expect(r.diagnosis.evidence.some((l) => l.includes("set point's moves are followed slowly")), `seed ${seed}`).toBe(true);
       expect(r.harrisIndex, "the Harris index stays null without a configured dead time").toBeNull();

@@ -1,4 +1,5 @@
 import { spawnSync } from "node:child_process";
+import { readFileSync } from "node:fs";
 import { existsSync } from "node:fs";
 
 /**
@@ -46,4 +47,14 @@ export function sameData(a: unknown, b: unknown, where = "$"): string | null {
     return null;
   }
   return a === b ? null : `${where}: ${String(a)} != ${String(b)}`;
+}
+
+/**
+ * A committed fixture is stale when its generator (run with `--stdout`) no longer prints the same
+ * data, numbers to 1e-9 relative: null when fresh, else what differs or the generator's error.
+ */
+export function staleFixture(generator: string, fixturePath: string): string | null {
+  const run = spawnSync(PYTHON, [generator, "--stdout"], { encoding: "utf8", maxBuffer: 64 << 20, env: { ...process.env, PYTHONDONTWRITEBYTECODE: "1" } });
+  if (run.status !== 0) return `${generator} exited ${String(run.status)}: ${run.stderr}`;
+  return sameData(JSON.parse(run.stdout), JSON.parse(readFileSync(fixturePath, "utf8")));
 }

@@ -15,12 +15,11 @@ Usage: python3 tests/reference/generate_setpoint_overshoot.py            (writes
        python3 tests/reference/generate_setpoint_overshoot.py --stdout   (prints it)
 """
 import json
-import math
-import os
-import sys
 
 import numpy as np
 from scipy import signal
+from fixture_io import emit
+from generate_setpoint_response import step_response  # the same loop, with an integrating plant too
 
 LOOPS = [
     # SIMC at tauC = theta for K = 1, tau = 20 s, theta about 3.5 s (as generate_setpoint_response.py)
@@ -34,23 +33,7 @@ LOOPS = [
 
 
 def loop_step(c, n=3000):
-    T = 1.0
-    d = c["d"]
-    g_num = np.zeros(d + 3)
-    if c["integrating"]:
-        g_num[d + 2] = T * c["K"] / c["tau"]
-        g_den = np.array([1.0, -1.0])
-    else:
-        a = math.exp(-T / c["tau"])
-        g_num[d + 2] = (1 - a) * c["K"]
-        g_den = np.array([1.0, -a])
-    c_num = c["kp"] * np.array([1 + T / c["ti"], -1.0])
-    c_den = np.array([1.0, -1.0])
-    ol_num = np.convolve(c_num, g_num)
-    ol_den = np.convolve(c_den, g_den)
-    m = max(len(ol_num), len(ol_den))
-    cl_den = np.pad(ol_den, (0, m - len(ol_den))) + np.pad(ol_num, (0, m - len(ol_num)))
-    return signal.lfilter(ol_num, cl_den, np.ones(n))
+    return step_response(c, n)
 
 
 def continuous_step(num, den, theta, kc, ti, td=0.0, span=200.0):
@@ -114,12 +97,7 @@ def main():
         y = loop_step(c)
         loops.append({**c, "overshoot": r6(y.max() - 1), "t63S": int(np.argmax(y >= 0.63)), "final": r6(y[-1])})
     text = json.dumps({"source": "tests/reference/generate_setpoint_overshoot.py (scipy.signal.lfilter, cont2discrete)", "loops": loops, "survey": survey()}, indent=2) + "\n"
-    if "--stdout" in sys.argv:
-        sys.stdout.write(text)
-        return
-    path = os.path.join(os.path.dirname(__file__), "fixtures", "setpoint-overshoot.json")
-    with open(path, "w") as f:
-        f.write(text)
+    emit(text, "setpoint-overshoot.json")
 
 
 if __name__ == "__main__":

@@ -14,11 +14,10 @@ Usage: python3 tests/reference/generate_setpoint_response.py            (writes 
 """
 import json
 import math
-import os
-import sys
 
 import numpy as np
 from scipy import signal
+from fixture_io import emit
 
 CASES = [
     # SIMC at tauC = theta (Skogestad 2003, from memory) for K = 1, tau = 20 s, theta about 3.5 s
@@ -29,12 +28,18 @@ CASES = [
 
 
 def step_response(c, n=4000):
+    """Set-point step response of the PI loop (velocity form, T = 1 s) around a ZOH first-order
+    plant, or an integrator when c["integrating"]; dead time c["d"] + 1 samples."""
     T = 1.0
-    a = math.exp(-T / c["tau"])
     d = c["d"]
     g_num = np.zeros(d + 3)
-    g_num[d + 2] = (1 - a) * c["K"]
-    g_den = np.array([1.0, -a])
+    if c.get("integrating", False):
+        g_num[d + 2] = T * c["K"] / c["tau"]
+        g_den = np.array([1.0, -1.0])
+    else:
+        a = math.exp(-T / c["tau"])
+        g_num[d + 2] = (1 - a) * c["K"]
+        g_den = np.array([1.0, -a])
     c_num = c["kp"] * np.array([1 + T / c["ti"], -1.0])
     c_den = np.array([1.0, -1.0])
     ol_num = np.convolve(c_num, g_num)
@@ -54,12 +59,7 @@ def main():
         t63 = int(np.argmax(y >= 0.63))
         out.append({**c, "delayS": moved, "t20S": t20, "t63S": t63, "final": float(f"{y[-1]:.12g}")})
     text = json.dumps({"source": "tests/reference/generate_setpoint_response.py (scipy.signal.lfilter)", "cases": out}, indent=2) + "\n"
-    if "--stdout" in sys.argv:
-        sys.stdout.write(text)
-        return
-    path = os.path.join(os.path.dirname(__file__), "fixtures", "setpoint-response.json")
-    with open(path, "w") as f:
-        f.write(text)
+    emit(text, "setpoint-response.json")
 
 
 if __name__ == "__main__":

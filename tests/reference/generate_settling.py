@@ -22,6 +22,7 @@ import numpy as np
 sys.dont_write_bytecode = True
 sys.path.insert(0, os.path.dirname(os.path.abspath(__file__)))
 from generate_setpoint_response import step_response  # noqa: E402  (the same loop, scipy.signal.lfilter)
+from fixture_io import emit  # noqa: E402
 
 MOVE = 10.0
 CASES = [
@@ -49,12 +50,7 @@ def main():
         n = min(len(e), 3 * settle + 50)
         out.append({**c, "move": MOVE, "settle2pct": settle, "e": [float(f"{v:.10g}") for v in e[:n]]})
     text = json.dumps({"source": "tests/reference/generate_settling.py (scipy.signal.lfilter)", "cases": out}) + "\n"
-    if "--stdout" in sys.argv:
-        sys.stdout.write(text)
-        return
-    path = os.path.join(os.path.dirname(__file__), "fixtures", "settling.json")
-    with open(path, "w") as f:
-        f.write(text)
+    emit(text, "settling.json")
 
 
 if __name__ == "__main__":
