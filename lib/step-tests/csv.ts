@@ -11,6 +11,7 @@
  */
 import { splitQuotedCells } from "@/lib/domain/csv-cells";
 import { HttpError, ValidationError } from "@/lib/domain/errors";
+import { parseIsoSeconds } from "@/lib/assessment/csv-time";
 
 /** Largest accepted upload, bytes (5 MiB). */
 export const MAX_CSV_BYTES = 5 * 1024 * 1024;
@@ -79,7 +80,6 @@ export interface LoopUnits {
 const TIME_UNITS: Record<string, number> = { s: 1, sec: 1, ms: 0.001, min: 60, h: 3600 };
 const KNOWN = ["t", "mv", "pv", "sp", "mode"] as const;
 type Known = (typeof KNOWN)[number];
-const ISO = /^\d{4}-\d{2}-\d{2}[T ]\d{2}:\d{2}(:\d{2}(\.\d+)?)?(Z|[+-]\d{2}:?\d{2})$/i;
 const NUMBER = /^[+-]?(\d+\.?\d*|\.\d+)([eE][+-]?\d+)?$/;
 
 /** Units compare without case, spaces and the degree sign (°C = degC = C). */
@@ -202,14 +202,15 @@ export function parseStepTestCsv(input: string | Uint8Array, loop?: LoopUnits): 
     let tAbs: number;
     const kind: "seconds" | "iso" = NUMBER.test(rawT) ? "seconds" : "iso";
     if (kind === "iso") {
-      const ms = ISO.test(rawT) ? Date.parse(rawT.replace(" ", "T")) : NaN;
-      if (!Number.isFinite(ms)) {
+      // the offline command's field-checked reader: 30 February is refused, not rolled into March
+      const sec = parseIsoSeconds(rawT);
+      if (typeof sec === "string") {
         throw new StepTestFormatError(
-          `Line ${i + 1}, column ${index.t! + 1} (t): "${rawT.slice(0, 40)}" is neither a number of seconds nor an ISO 8601 date-time with a time zone.`,
+          `Line ${i + 1}, column ${index.t! + 1} (t): "${rawT.slice(0, 40)}" ${sec === "is neither seconds nor an ISO 8601 date-time with a zone" ? "is neither a number of seconds nor an ISO 8601 date-time with a time zone" : sec}.`,
           where(i, "t"),
         );
       }
-      tAbs = ms / 1000;
+      tAbs = sec;
     } else tAbs = Number(rawT) * tScale;
     if (timeKind === null) {
       timeKind = kind;

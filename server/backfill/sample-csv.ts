@@ -9,6 +9,7 @@
  */
 import { Readable } from "node:stream";
 import { parse } from "csv-parse";
+import { isPlainNumber, parseIsoSeconds } from "@/lib/assessment/csv-time";
 import { validateSample } from "@/lib/domain/telemetry";
 import type { SampleDto } from "@/lib/domain/types";
 
@@ -23,19 +24,21 @@ export type SampleRecord =
   | { line: number; sample: SampleDto }
   | { line: number; reject: SampleRejectReason; detail: string };
 
-const ISO_WITH_ZONE = /^\d{4}-\d{2}-\d{2}[T ]\d{2}:\d{2}(:\d{2}(\.\d+)?)?(Z|[+-]\d{2}:?\d{2})$/i;
 const DECIMAL = /^[+-]?(\d+\.?\d*|\.\d+)([eE][+-]?\d+)?$/;
 
-/** Epoch ms of a time cell, or null. */
-export function parseSampleTime(cell: string): number | null {
+/**
+ * Epoch ms of a time cell, or what is wrong with it. ISO 8601 is read by the offline command's
+ * own field-checked reader (lib/assessment/csv-time.ts), so an export reads the same in both and
+ * 30 February is refused rather than rolled over into March by Date.parse.
+ */
+export function parseSampleTime(cell: string): number | string {
   const s = cell.trim();
-  if (DECIMAL.test(s)) {
+  if (isPlainNumber(s)) {
     const sec = Number(s);
-    return Number.isFinite(sec) && sec >= 0 ? Math.round(sec * 1000) : null;
+    return Number.isFinite(sec) && sec >= 0 ? Math.round(sec * 1000) : "is not a time: epoch seconds are 0 or more";
   }
-  if (!ISO_WITH_ZONE.test(s)) return null;
-  const ms = Date.parse(s.replace(" ", "T"));
-  return Number.isFinite(ms) ? ms : null;
+  const v = parseIsoSeconds(s);
+  return typeof v === "number" ? Math.round(v * 1000) : v;
 }
 
 function numberCell(cell: string): number | string | null {
@@ -131,11 +134,11 @@ export async function* readSampleCsv(
         continue;
       }
       const t = parseSampleTime(record[index.t] ?? "");
-      if (t === null) {
+      if (typeof t === "string") {
         yield {
           line,
           reject: "bad-time",
-          detail: `"${(record[index.t] ?? "").slice(0, 40)}" is neither ISO 8601 with a zone nor epoch seconds.`,
+          detail: `"${(record[index.t] ?? "").slice(0, 40)}" ${t}.`,
         };
         continue;
       }

@@ -56,4 +56,29 @@ describe("readSampleCsv", () => {
       expect(n).toBe(5_000);
     }
   });
+
+  it("reads times as the offline command does: 30 February and a zone-less time are refused with the reason, not rolled over", async () => {
+    // The expected instants are written out by hand from the cells (the file is the reference).
+    const text = [
+      "t,sp,pv,mv",
+      "2026-03-01T00:00:00Z,50,49.5,40",
+      "2026-02-30T00:00:00Z,50,49.5,40",
+      "2026-03-01 01:00:00.5+01:00,50,49.5,40",
+      "2026-03-01T00:00:02,50,49.5,40",
+      "1772323203,50,49.5,40",
+    ].join("\n") + "\n";
+    async function* one(): AsyncGenerator<Buffer> {
+      yield Buffer.from(text);
+    }
+    const got: (number | string)[] = [];
+    for await (const rec of readSampleCsv(one(), () => {})) got.push("sample" in rec ? rec.sample.t : `${rec.line} ${rec.reject}: ${rec.detail}`);
+    expect(got).toEqual([
+      Date.UTC(2026, 2, 1, 0, 0, 0),
+      '3 bad-time: "2026-02-30T00:00:00Z" has no such date.',
+      Date.UTC(2026, 2, 1, 0, 0, 0) + 500,
+      expect.stringMatching(/^5 bad-time: .*without a zone/),
+      1_772_323_203_000,
+    ]);
+  });
 });
+
