@@ -263,7 +263,7 @@ const MIN_STRENGTH = 4;
  * t63 / θ̂ at or above which the set point is followed sluggishly, and below which it is followed
  * as fast as a good tuning does. SIMC (Skogestad, J. Process Control 13, 2003; from memory) aims
  * at a closed-loop time constant τc of one to a few dead times, so a set-point move is 63 % done
- * after about θ + τc = 2–4 θ. The limits are ours, from the study in docs/assessment.md (study
+ * after about θ + τc = 2–4 θ. The limits are ours, from the study in docs/assessment-rounds.md (study
  * bases 101–110, t63/θ̂ with the tangent's dead time: healthy loops 1.0–8.8 and level loops
  * 1.8–13; sluggish ones 7.4 and then 10.4 and up, level loops 4.3 and up).
  */

@@ -18,7 +18,7 @@
  *    The levels follow the share of such findings that were right on study sets of the labelled
  *    benchmark (a stated confidence should match how often it is right: calibration, common
  *    practice): one sign 40–45 % right, both estimators 80 %, both with no swing-back 92 %
- *    (docs/assessment.md, "Healthy loops read as faults").
+ *    (docs/assessment-rounds.md, "Healthy loops read as faults").
  *    The loop's own set-point response (setpoint-response.ts) is a different kind of evidence: a
  *    set-point move is an outside signal, so the closed loop's response to it is identifiable from
  *    the record (Ljung 1999, sec. 13.4, from memory) and is judged against the apparent dead time
@@ -49,7 +49,7 @@
  *    tuned. On a compressed export the missing ringing a healthy verdict rests on is itself
  *    doubtful (compression fills the error's dips, rule 2), so a healthy verdict is capped at
  *    ONE_SIGN there too. On study sets healthy verdicts stated at 0.7–0.8 were right 52–55 % of the
- *    time, whatever the evidence beside them (docs/assessment.md, "Healthy verdicts").
+ *    time, whatever the evidence beside them (docs/assessment-rounds.md, "Healthy verdicts").
  */
 import { fmt } from "./oscillation";
 import type { SpectralLine } from "./spectral-line";
@@ -78,7 +78,7 @@ export const FURTHER_SIGN = 0.1;
 export const HEALTHY = 0.6;
 /**
  * A slow set-point response alone: a work item (ours; on the study sets no healthy loop's response
- * reached the limits of setpoint-response.ts, docs/assessment.md "Sluggishness from the set point's own moves").
+ * reached the limits of setpoint-response.ts, docs/assessment-rounds.md "Sluggishness from the set point's own moves").
  */
 const SET_POINT = 0.65;
 /** One estimator with a further sign, or the two signs that need no dead time together. */

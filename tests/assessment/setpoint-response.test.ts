@@ -86,7 +86,7 @@ describe("set-point response from routine data", () => {
   });
 
   it("an unfinished move reads slow only when the response is shown short of 63 %, not when it is merely noisy", () => {
-    // The rule is ours (docs/assessment.md, "Sluggishness from the set point's own moves"): a
+    // The rule is ours (docs/assessment-rounds.md, "Sluggishness from the set point's own moves"): a
     // lower bound on t63 is evidence of slowness only if the step response's upper bound at the
     // horizon stays below 0.63.
     const base = { deadTimeS: 0.7, t63S: null, horizonS: 29, ratio: 41, lowerBound: true, resolutionS: 0.3, strength: 6, overshoot: null, overshootSe: null };

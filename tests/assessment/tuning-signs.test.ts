@@ -14,7 +14,7 @@
  *   AR(2) error it is the mode's analytic DR = exp(−2πζ/√(1−ζ²)) (Box, Jenkins & Reinsel). It is
  *   reported, not used in the verdict: it mixes the load's colour in (a SIMC-tuned loop under an
  *   AR(1) load reads 0.2–0.4), and as a sign of aggressive tuning it called healthy loops
- *   aggressive on held-out seeds (docs/assessment.md, round of 2026-12-03).
+ *   aggressive on held-out seeds (docs/assessment-rounds.md, tuning-sign rounds of 2026-12-03).
  */
 import { describe, expect, it } from "vitest";
 import { disturbanceResponse } from "@/lib/assessment/closed-loop";
