@@ -1,7 +1,7 @@
 /**
  * Half-cycles of an oscillating signal and least-squares shape fits on them: the common ground
- * of the shape tests for valve stiction (curve fit of He et al. 2007, relay fit of Rossi & Scali
- * 2005; see stiction.ts). A half-cycle runs between two zero crossings of the lightly smoothed,
+ * of the shape tests for valve stiction (curve fit of He et al. 2007, see stiction.ts; the time
+ * asymmetry of load-or-valve.ts). A half-cycle runs between two zero crossings of the lightly smoothed,
  * signal less its local mean over three periods (hysteresis of a quarter of its RMS, so noise
  * adds no crossings) and is kept when its length is within 0.4-1.6 of half the period.
  */
