@@ -74,7 +74,7 @@ describe("readSampleCsv", () => {
     for await (const rec of readSampleCsv(one(), () => {})) got.push("sample" in rec ? rec.sample.t : `${rec.line} ${rec.reject}: ${rec.detail}`);
     expect(got).toEqual([
       Date.UTC(2026, 2, 1, 0, 0, 0),
-      '3 bad-time: "2026-02-30T00:00:00Z" has no such date.',
+      '3 bad-time: column 1 (t): "2026-02-30T00:00:00Z" has no such date.',
       Date.UTC(2026, 2, 1, 0, 0, 0) + 500,
       expect.stringMatching(/^5 bad-time: .*without a zone/),
       1_772_323_203_000,

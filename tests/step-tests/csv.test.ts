@@ -72,7 +72,7 @@ describe("parseStepTestCsv: refusals name the line and column", () => {
   it("bad header: a missing required column", () => {
     const loc = locationOf(() => parseStepTestCsv(file("t,mv,temperature", rows(40)), LOOP));
     expect(loc).toMatchObject({ row: 1, column: null, columnName: "pv" });
-    expect(loc.message).toMatch(/missing column pv/);
+    expect(loc.message).toMatch(/lacks pv/);
     expect(loc.message).toMatch(/"temperature"/);
   });
 
@@ -96,10 +96,10 @@ describe("parseStepTestCsv: refusals name the line and column", () => {
     expect(loc.message).toBe('Line 8, column 3 (pv): "hot" is not a number.');
   });
 
-  it("a decimal comma gets a hint", () => {
+  it("a decimal comma in a comma-separated file gets a hint", () => {
     const body = rows(40);
-    body[2] = '2;"40,5";130';
-    const loc = locationOf(() => parseStepTestCsv(file("t;mv;pv", body.map((l, i) => (i === 2 ? l : l.replace(/,/g, ";")))), LOOP));
+    body[2] = '2,"40,5",130';
+    const loc = locationOf(() => parseStepTestCsv(file("t,mv,pv", body), LOOP));
     expect(loc).toMatchObject({ row: 4, column: 2, columnName: "mv" });
     expect(loc.message).toMatch(/decimal separator/);
   });
