@@ -145,7 +145,8 @@ export async function* readSampleCsv(
   let bytes = 0;
   const refused = (e: unknown, header: boolean): SampleRecord => {
     if (!(e instanceof CsvError)) throw e;
-    return { line: e.line, reject: header ? "bad-header" : "bad-row", detail: e.message.replace(/^Line \d+: /, "") };
+    // a bad header becomes the job's message: it keeps its "Line N: "
+    return header ? { line: e.line, reject: "bad-header", detail: e.message } : { line: e.line, reject: "bad-row", detail: e.message.replace(/^Line \d+: /, "") };
   };
   /** The record of one line, null for a line without data. */
   const read = (line: string | typeof TOO_LONG): SampleRecord | null => {
