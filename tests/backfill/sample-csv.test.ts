@@ -81,5 +81,20 @@ describe("readSampleCsv", () => {
       "6 bad-time: column 1 (t): mixes seconds with the date-times above.",
     ]);
   });
-});
 
+  it("reads what the shared CSV layer reads (lib/csv): units in the header and decimal commas with semicolons; a line too long is one rejected row and the lines after it are read", async () => {
+    // Before lib/csv: the header "t [s];..." was refused (bad-header), and a line over 4,096
+    // characters stopped csv-parse for the rest of the file.
+    const text = ["t [s];sp [kPa];pv [kPa];mv [%]", "1790000000,5;325,5;325,75;41,25", `1790000001;${"9".repeat(5000)};1;1`, "1790000002;325,5;326;41", ""].join("\n");
+    async function* one(): AsyncGenerator<Buffer> {
+      yield Buffer.from(text);
+    }
+    const got: unknown[] = [];
+    for await (const rec of readSampleCsv(one())) got.push("sample" in rec ? [rec.line, rec.sample.t, rec.sample.sp, rec.sample.pv, rec.sample.mv] : [rec.line, rec.reject, rec.detail]);
+    expect(got).toEqual([
+      [2, 1_790_000_000_500, 325.5, 325.75, 41.25],
+      [3, "bad-row", "the line is longer than 4096 characters."],
+      [4, 1_790_000_002_000, 325.5, 326, 41],
+    ]);
+  });
+});

@@ -63,6 +63,15 @@ describe("parseStepTestCsv: accepted files", () => {
     }
   });
 
+  it("reads what the shared CSV layer reads (lib/csv; refused or misread before): decimal commas with semicolons, epoch milliseconds as milliseconds", () => {
+    const semi = parseStepTestCsv(file("t;mv;pv", rows(40, (k) => `${k},5;${k > 10 ? "45,5" : "40"};130,25`)), LOOP);
+    expect(semi.rows[11]).toMatchObject({ t: 11, mv: 45.5, pv: 130.25 });
+    // 1,790,000,000,000 ms + 500 ms per row: 0.5 s apart (read as seconds it was 500 s), with a warning
+    const ms = parseStepTestCsv(file("t,mv,pv", rows(40, (k) => `${1_790_000_000_000 + 500 * k},40,130`)), LOOP);
+    expect(ms.rows[3]!.t).toBe(1.5);
+    expect(ms.warnings.join(" ")).toMatch(/read as milliseconds since 1970/);
+  });
+
   it(`accepts exactly ${MIN_ROWS} rows`, () => {
     expect(parseStepTestCsv(file("t,mv,pv", rows(MIN_ROWS)), LOOP).rows).toHaveLength(MIN_ROWS);
   });
