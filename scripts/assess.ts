@@ -11,6 +11,8 @@ import { readFileSync } from "node:fs";
 import path from "node:path";
 import { AssessCsvError, assessLoop, LoopConfigError, parseAssessCsv, parseLoopConfig, type LoopAssessmentReport } from "@/lib/assessment";
 import { dataCautions, loopJsonCautions } from "@/lib/assessment/input-checks";
+// Text of an export or a loop file: UTF-8 or UTF-16 as spreadsheet programs save "Unicode text" (lib/csv).
+import { decodeText, withoutBom } from "@/lib/csv";
 
 const USAGE = "usage: npm run -s assess -- FILE.csv --config LOOP.json [--json]";
 
@@ -61,22 +63,6 @@ function summary(r: LoopAssessmentReport, tag: string): string {
   ];
   return lines.join("\n");
 }
-
-/**
- * Text of an export: UTF-8 (a byte order mark is dropped by the parsers) or UTF-16, as spreadsheet
- * programs save "Unicode text" (with a byte order mark, or little-endian ASCII without one).
- */
-function decodeText(buf: Buffer): string {
-  if (buf[0] === 0xff && buf[1] === 0xfe) return buf.subarray(2).toString("utf16le");
-  if (buf[0] === 0xfe && buf[1] === 0xff) {
-    const be = Buffer.from(buf.subarray(2, 2 + ((buf.length - 2) & ~1)));
-    return be.swap16().toString("utf16le");
-  }
-  if (buf.length >= 4 && buf[0] !== 0 && buf[1] === 0 && buf[2] !== 0 && buf[3] === 0) return buf.toString("utf16le");
-  return buf.toString("utf8");
-}
-
-const withoutBom = (s: string) => (s.charCodeAt(0) === 0xfeff ? s.slice(1) : s);
 
 /** npm runs scripts in the package root; relative paths are the caller's (INIT_CWD). */
 function resolvePath(p: string): string {

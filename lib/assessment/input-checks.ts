@@ -5,7 +5,7 @@
  * loop's sample period (a time column in another unit). The findings are cautions shown with
  * the report; nothing is changed in the data.
  */
-import { isPlainNumber } from "./csv-time";
+import { isPlainNumber } from "@/lib/csv";
 import type { LoopConfig } from "./config";
 import { median } from "./signal";
 import type { AssessSample } from "./types";

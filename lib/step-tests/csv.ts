@@ -1,17 +1,18 @@
 /**
- * Reading an uploaded step-test log (CSV). The first non-comment line is the header; columns
- * `t`, `mv`, `pv` are required, `sp` and `mode` optional, in any order and any letter case; other
- * columns are ignored. A header may carry a unit in brackets, e.g. `pv [degC]`, `t [min]`:
- * time units s, ms, min and h are converted to seconds, and PV/MV units are checked against the
- * loop's. `t` is either seconds (a number, any origin) or an ISO 8601 date-time with a zone;
- * all rows use the same kind and time strictly increases. Lines starting with `#` are comments.
+ * Reading an uploaded step-test log (CSV). Columns `t`, `mv`, `pv` are required, `sp` and `mode`
+ * optional; the file's layout (header after comments or a `sep=;` line, separator, quotes, units
+ * in brackets, line ends, UTF-8 or UTF-16), its time cells (seconds in a header unit, epoch
+ * milliseconds, ISO 8601 with a zone) and number cells (a decimal comma with semicolons) are read
+ * by the shared CSV layer (lib/csv) as in the offline assessment. What is this reader's own: all
+ * rows use one time kind and time strictly increases; every value cell must hold a number (a
+ * step test needs each one) and every mode cell a mode; the PV/MV units and ranges are checked
+ * against the loop's; the size limits.
  *
  * Every problem is reported with its line number in the file (the header is line 1 unless
  * comments precede it) and its 1-based column number and name, so the engineer can find it.
  */
-import { splitQuotedCells } from "@/lib/domain/csv-cells";
+import { CsvError, CsvTable, decodeText, lineReader, modeFault, NumberReader, parseMode, TimeColumn, withoutBom } from "@/lib/csv";
 import { HttpError, ValidationError } from "@/lib/domain/errors";
-import { parseIsoSeconds } from "@/lib/assessment/csv-time";
 
 /** Largest accepted upload, bytes (5 MiB). */
 export const MAX_CSV_BYTES = 5 * 1024 * 1024;
@@ -77,23 +78,15 @@ export interface LoopUnits {
   mvHi: number;
 }
 
-const TIME_UNITS: Record<string, number> = { s: 1, sec: 1, ms: 0.001, min: 60, h: 3600 };
-const KNOWN = ["t", "mv", "pv", "sp", "mode"] as const;
-type Known = (typeof KNOWN)[number];
-const NUMBER = /^[+-]?(\d+\.?\d*|\.\d+)([eE][+-]?\d+)?$/;
+type Known = "t" | "mv" | "pv" | "sp" | "mode";
+
+const formatError = (e: CsvError) => new StepTestFormatError(e.message, { row: e.line, column: e.columnNo, columnName: e.column });
 
 /** Units compare without case, spaces and the degree sign (°C = degC = C). */
 function normaliseUnit(u: string): string {
   return u.toLowerCase().replace(/\s+/g, "").replace(/°/g, "deg").replace(/^deg(?=[a-z])/, "");
 }
 
-
-function parseHeaderCell(cell: string): { name: string; unit: string | null } {
-  const m = /^([^[(]*?)\s*(?:[[(]\s*([^\])]*?)\s*[\])])?$/.exec(cell);
-  const name = (m?.[1] ?? cell).trim().toLowerCase();
-  const unit = m?.[2] ? m[2] : null;
-  return { name, unit };
-}
 
 /**
  * Parse a step-test CSV. `loop` enables the unit and range checks.
@@ -103,155 +96,86 @@ function parseHeaderCell(cell: string): { name: string; unit: string | null } {
 export function parseStepTestCsv(input: string | Uint8Array, loop?: LoopUnits): ParsedStepTest {
   const bytes = typeof input === "string" ? Buffer.byteLength(input, "utf8") : input.byteLength;
   if (bytes > MAX_CSV_BYTES) throw new StepTestTooLargeError(bytes);
-  let text = typeof input === "string" ? input : new TextDecoder("utf-8", { fatal: false }).decode(input);
-  if (text.charCodeAt(0) === 0xfeff) text = text.slice(1);
-  const lines = text.split(/\r\n|\n|\r/);
-  const warnings: string[] = [];
+  try {
+    return readRows(withoutBom(typeof input === "string" ? input : decodeText(input)), loop);
+  } catch (e) {
+    throw e instanceof CsvError ? formatError(e) : e;
+  }
+}
 
-  let headerIdx = -1;
-  for (let i = 0; i < lines.length; i++) {
-    const l = lines[i]!.trim();
-    if (l === "" || l.startsWith("#")) continue;
-    headerIdx = i;
-    break;
-  }
-  if (headerIdx < 0) throw new StepTestFormatError("The file is empty: expected a header line with the columns t, mv, pv.", { row: 1, column: null, columnName: null });
-  const headerLine = lines[headerIdx]!;
-  const sep = headerLine.includes(",") ? "," : headerLine.includes(";") ? ";" : headerLine.includes("\t") ? "\t" : ",";
-  const header = splitQuotedCells(headerLine, sep).map(parseHeaderCell);
-  const index: Partial<Record<Known, number>> = {};
-  const units: Partial<Record<Known, string | null>> = {};
-  header.forEach((h, i) => {
-    const known = (KNOWN as readonly string[]).includes(h.name) ? (h.name as Known) : null;
-    if (!known) return;
-    if (index[known] !== undefined) {
-      throw new StepTestFormatError(`Header: the column "${known}" appears twice (columns ${index[known]! + 1} and ${i + 1}).`, {
-        row: headerIdx + 1,
-        column: i + 1,
-        columnName: known,
-      });
-    }
-    index[known] = i;
-    units[known] = h.unit;
-  });
-  const missing = (["t", "mv", "pv"] as const).filter((k) => index[k] === undefined);
-  if (missing.length > 0) {
-    throw new StepTestFormatError(
-      `Header: missing column${missing.length > 1 ? "s" : ""} ${missing.join(", ")}. Expected t, mv, pv (and optionally sp, mode); found ${header.map((h) => `"${h.name}"`).join(", ") || "nothing"}.`,
-      { row: headerIdx + 1, column: null, columnName: missing[0]! },
-    );
-  }
-
-  const tUnit = units.t ? units.t.toLowerCase() : "s";
-  const tScale = TIME_UNITS[tUnit];
-  if (tScale === undefined) {
-    throw new StepTestFormatError(`Header: time unit "${units.t}" is not one of s, ms, min, h.`, { row: headerIdx + 1, column: index.t! + 1, columnName: "t" });
-  }
+function readRows(text: string, loop: LoopUnits | undefined): ParsedStepTest {
+  const lines = lineReader(text);
+  const table = new CsvTable<Known>({ required: ["t", "mv", "pv"], optional: ["sp", "mode"], expected: "t, mv, pv (sp and mode optional)" });
+  let lineNo = 0;
+  let line = lines.next();
+  for (; line !== null && table.header === null; line = lines.next()) table.row(line, (lineNo = lines.lineNo()));
+  const header = table.end(lineNo);
+  const { index } = header;
+  const numbers = new NumberReader(header.sep === ";");
+  const time = new TimeColumn(header.unit("t"), { line: header.line, column: index.t! }, numbers);
   if (loop) {
     for (const k of ["pv", "mv", "sp"] as const) {
-      const u = units[k];
-      if (!u || index[k] === undefined) continue;
+      const u = header.unit(k);
+      if (!u) continue;
       const expected = k === "mv" ? loop.mvUnits : loop.pvUnits;
       if (normaliseUnit(u) !== normaliseUnit(expected)) {
-        throw new StepTestFormatError(`Header: column ${k} is in "${u}" but this loop's ${k === "mv" ? "MV" : "PV"} is in "${expected}". Convert the column or check that the file belongs to this loop.`, {
-          row: headerIdx + 1,
-          column: index[k]! + 1,
-          columnName: k,
-        });
+        throw new CsvError(`Line ${header.line}: column ${k} is in "${u}" but this loop's ${k === "mv" ? "MV" : "PV"} is in "${expected}". Convert the column or check that the file belongs to this loop.`, header.line, k, index[k]! + 1);
       }
     }
   }
 
   const rows: StepTestRow[] = [];
-  let timeKind: "seconds" | "iso" | null = null;
   let t0 = 0;
-  let startTime: string | null = null;
   let prevT = -Infinity;
-  const where = (line: number, k: Known): CsvLocation => ({ row: line + 1, column: index[k]! + 1, columnName: k });
-  const cellOf = (cells: string[], k: Known): string | undefined => (index[k] === undefined ? undefined : cells[index[k]!]);
-  const number = (cells: string[], line: number, k: Known): number => {
-    const raw = cellOf(cells, k) ?? "";
-    if (raw === "") throw new StepTestFormatError(`Line ${line + 1}, column ${index[k]! + 1} (${k}): the cell is empty.`, where(line, k));
-    if (!NUMBER.test(raw)) {
-      const hint = /^[+-]?\d+,\d+$/.test(raw) ? " Use a point as the decimal separator." : "";
-      throw new StepTestFormatError(`Line ${line + 1}, column ${index[k]! + 1} (${k}): "${raw.slice(0, 40)}" is not a number.${hint}`, where(line, k));
-    }
-    const v = Number(raw);
-    if (!Number.isFinite(v)) throw new StepTestFormatError(`Line ${line + 1}, column ${index[k]! + 1} (${k}): the value is not finite.`, where(line, k));
+  const fault = (k: Known, what: string) => new CsvError(`Line ${lineNo}, column ${index[k]! + 1} (${k}): ${what}`, lineNo, k, index[k]! + 1);
+  const number = (cells: string[], k: Known): number => {
+    const raw = cells[index[k]!]!;
+    const v = numbers.read(raw, `line ${lineNo}, column ${index[k]! + 1}`);
+    if (typeof v === "string") throw fault(k, v);
+    if (Number.isNaN(v)) throw fault(k, raw === "" ? "the cell is empty." : `"${raw.slice(0, 40)}" is not a number.`);
     return v;
   };
 
-  for (let i = headerIdx + 1; i < lines.length; i++) {
-    const line = lines[i]!;
-    const trimmed = line.trim();
-    if (trimmed === "" || trimmed.startsWith("#")) continue;
-    if (rows.length >= MAX_ROWS) {
-      throw new StepTestFormatError(`Line ${i + 1}: more than ${MAX_ROWS} data rows; split the test or average to a longer period.`, { row: i + 1, column: null, columnName: null });
-    }
-    const cells = splitQuotedCells(line, sep);
-    const needed = Math.max(index.t!, index.mv!, index.pv!, index.sp ?? 0, index.mode ?? 0) + 1;
-    if (cells.length < needed) {
-      throw new StepTestFormatError(`Line ${i + 1}: ${cells.length} cell${cells.length === 1 ? "" : "s"}, the header has ${header.length}.`, {
-        row: i + 1,
-        column: cells.length + 1,
-        columnName: header[cells.length]?.name ?? null,
-      });
-    }
-    // Time: seconds or ISO 8601, the same kind on every row.
-    const rawT = cellOf(cells, "t")!;
-    let tAbs: number;
-    const kind: "seconds" | "iso" = NUMBER.test(rawT) ? "seconds" : "iso";
-    if (kind === "iso") {
-      // the offline command's field-checked reader: 30 February is refused, not rolled into March
-      const sec = parseIsoSeconds(rawT);
-      if (typeof sec === "string") {
-        throw new StepTestFormatError(
-          `Line ${i + 1}, column ${index.t! + 1} (t): "${rawT.slice(0, 40)}" ${sec === "is neither seconds nor an ISO 8601 date-time with a zone" ? "is neither a number of seconds nor an ISO 8601 date-time with a time zone" : sec}.`,
-          where(i, "t"),
-        );
-      }
-      tAbs = sec;
-    } else tAbs = Number(rawT) * tScale;
-    if (timeKind === null) {
-      timeKind = kind;
-      t0 = tAbs;
-      if (kind === "iso") startTime = new Date(tAbs * 1000).toISOString();
-    } else if (kind !== timeKind) {
-      throw new StepTestFormatError(`Line ${i + 1}, column ${index.t! + 1} (t): mixes ${kind === "iso" ? "a date-time" : "seconds"} with the ${timeKind === "iso" ? "date-times" : "seconds"} of the rows above.`, where(i, "t"));
-    }
-    if (!(tAbs > prevT)) {
-      throw new StepTestFormatError(`Line ${i + 1}, column ${index.t! + 1} (t): time does not increase (${rawT} after the previous row's). Sort the rows by time and remove duplicates.`, where(i, "t"));
-    }
+  for (; line !== null; line = lines.next()) {
+    lineNo = lines.lineNo();
+    const cells = table.row(line, lineNo);
+    if (cells === null) continue;
+    if (rows.length >= MAX_ROWS) throw new CsvError(`Line ${lineNo}: more than ${MAX_ROWS} data rows; split the test or average to a longer period.`, lineNo);
+    const rawT = cells[index.t!]!;
+    const tAbs = time.read(rawT, `line ${lineNo}, column ${index.t! + 1}`);
+    if (typeof tAbs === "string") throw fault("t", tAbs);
+    if (rows.length === 0) t0 = tAbs;
+    if (!(tAbs > prevT)) throw fault("t", `time does not increase (${rawT} after the previous row's). Sort the rows by time and remove duplicates.`);
     prevT = tAbs;
-    const mv = number(cells, i, "mv");
-    const pv = number(cells, i, "pv");
-    const sp = index.sp === undefined ? null : number(cells, i, "sp");
+    const mv = number(cells, "mv");
+    const pv = number(cells, "pv");
+    const sp = index.sp === undefined ? null : number(cells, "sp");
     let mode: StepTestMode | null = null;
     if (index.mode !== undefined) {
-      const raw = (cellOf(cells, "mode") ?? "").toLowerCase();
-      const m = raw === "man" ? "manual" : raw === "cas" ? "cascade" : raw;
-      if (m !== "auto" && m !== "manual" && m !== "cascade") {
-        throw new StepTestFormatError(`Line ${i + 1}, column ${index.mode + 1} (mode): "${raw.slice(0, 20)}" is not auto, manual or cascade.`, where(i, "mode"));
-      }
+      const raw = cells[index.mode]!;
+      const m = parseMode(raw);
+      if (m === null) throw fault("mode", modeFault(raw));
+      if (m === undefined) throw fault("mode", `"${raw.slice(0, 20)}" holds no mode; write auto, manual or cascade on every row.`);
       mode = m;
     }
-    if (loop) checkRange(loop, i, index, { pv, mv, sp });
-    rows.push({ line: i + 1, t: tAbs - t0, mv, pv, sp, mode });
+    if (loop) checkRange(loop, lineNo, index, { pv, mv, sp });
+    rows.push({ line: lineNo, t: tAbs - t0, mv, pv, sp, mode });
   }
   if (rows.length < MIN_ROWS) {
-    throw new StepTestFormatError(`Only ${rows.length} data row${rows.length === 1 ? "" : "s"}; a step test needs at least ${MIN_ROWS}.`, { row: lines.length, column: null, columnName: null });
+    throw new CsvError(`Only ${rows.length} data row${rows.length === 1 ? "" : "s"}; a step test needs at least ${MIN_ROWS}.`, Math.max(1, lineNo));
   }
+  const warnings = [...time.cautions];
   if (loop) {
     const outside = rows.filter((r) => r.pv < loop.pvLo || r.pv > loop.pvHi).length;
     if (outside > 0) warnings.push(`${outside} PV value${outside === 1 ? " lies" : "s lie"} outside the loop's range ${loop.pvLo}–${loop.pvHi} ${loop.pvUnits}.`);
   }
   return {
     rows,
-    startTime,
-    timeKind: timeKind ?? "seconds",
+    startTime: time.kind === "iso" ? time.startTime : null,
+    timeKind: time.kind ?? "seconds",
     hasSp: index.sp !== undefined,
     hasMode: index.mode !== undefined,
-    units: { t: "s", pv: units.pv ?? null, mv: units.mv ?? null },
+    units: { t: "s", pv: header.unit("pv"), mv: header.unit("mv") },
     warnings,
   };
 }
@@ -266,8 +190,8 @@ function checkRange(loop: LoopUnits, line: number, index: Partial<Record<Known, 
   const bad = (x: number, lo: number, hi: number, span: number) => x < lo - span || x > hi + span;
   const fail = (k: "pv" | "mv" | "sp", x: number, lo: number, hi: number, u: string) => {
     throw new StepTestFormatError(
-      `Line ${line + 1}, column ${index[k]! + 1} (${k}): ${x} is far outside the loop's ${k === "mv" ? "MV" : "PV"} range ${lo}–${hi} ${u}; check the units.`,
-      { row: line + 1, column: index[k]! + 1, columnName: k },
+      `Line ${line}, column ${index[k]! + 1} (${k}): ${x} is far outside the loop's ${k === "mv" ? "MV" : "PV"} range ${lo}–${hi} ${u}; check the units.`,
+      { row: line, column: index[k]! + 1, columnName: k },
     );
   };
   if (bad(v.pv, loop.pvLo, loop.pvHi, pvSpan)) fail("pv", v.pv, loop.pvLo, loop.pvHi, loop.pvUnits);

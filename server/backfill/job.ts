@@ -241,7 +241,8 @@ export class BackfillJob {
             mvHi: this.params.config.mvHi,
           }
         : this.params.route.range;
-      for await (const rec of readSampleCsv(source, (n) => (this.bytesRead = n))) {
+      const caution = (line: number, text: string) => (this.message = `${this.message ? `${this.message} ` : ""}Line ${line}: ${text}`);
+      for await (const rec of readSampleCsv(source, (n) => (this.bytesRead = n), caution)) {
         if (this.cancelled) break;
         if ("reject" in rec) {
           this.reject(rec.line, rec.reject, rec.detail);

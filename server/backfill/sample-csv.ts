@@ -1,15 +1,17 @@
 /**
  * A historian export of one loop, read as a stream: header `t,sp,pv,mv` with optional `mode` and
- * `quality` columns (any order, any case), one sample per line. `t` is ISO 8601 with a zone
- * (2026-11-02T08:00:00Z, +01:00) or epoch seconds (fractions allowed), as in the offline
- * assessment's files; SP and PV in engineering units, MV in its own units. A missing `mode`
- * column means auto. Each record is judged alone with the same rules as live telemetry
- * (lib/telemetry.ts `validateSample`); what cannot be a sample is returned as a rejection with
- * its line, never thrown. The file is never held whole: records come one by one from csv-parse.
+ * `quality` columns, one sample per line. The file's layout (separator, quotes, units in
+ * brackets, comments, `sep=;`, line ends, UTF-8 or UTF-16), its time cells (epoch seconds in a
+ * header unit, epoch milliseconds, ISO 8601 with a zone), number cells (a decimal comma with
+ * semicolons) and mode and quality words are read by the shared CSV layer (lib/csv), as in the
+ * offline assessment. What is this reader's own: a missing `mode` column means auto; times are
+ * since 1970 and not negative; each record is judged alone with the same rules as live telemetry
+ * (lib/domain/telemetry.ts `validateSample`), so a cell without a number is a rejection, not a
+ * gap; what cannot be a sample is returned as a rejection with its line, never thrown; a line is
+ * at most MAX_LINE_CHARS long. The file is never held whole.
  */
 import { Readable } from "node:stream";
-import { parse } from "csv-parse";
-import { isPlainNumber, parseIsoSeconds } from "@/lib/assessment/csv-time";
+import { CsvError, CsvTable, LineSplitter, modeFault, NumberReader, parseMode, parseQuality, TextSniffer, TimeColumn, TOO_LONG, type TableHeader } from "@/lib/csv";
 import { validateSample } from "@/lib/domain/telemetry";
 import type { SampleDto } from "@/lib/domain/types";
 
@@ -24,36 +26,18 @@ export type SampleRecord =
   | { line: number; sample: SampleDto }
   | { line: number; reject: SampleRejectReason; detail: string };
 
-const DECIMAL = /^[+-]?(\d+\.?\d*|\.\d+)([eE][+-]?\d+)?$/;
+/** Longest line read (characters); a longer one is rejected and the lines after it are read. */
+export const MAX_LINE_CHARS = 4096;
+
+type Column = "t" | "sp" | "pv" | "mv" | "mode" | "quality";
+const SPEC = { required: ["t", "sp", "pv", "mv"], optional: ["mode", "quality"], expected: "t, sp, pv, mv (mode, quality optional)" } as const;
 
 /**
- * Epoch ms of a time cell, or what is wrong with it. ISO 8601 is read by the offline command's
- * own field-checked reader (lib/assessment/csv-time.ts), so an export reads the same in both and
- * 30 February is refused rather than rolled over into March by Date.parse.
- */
-export function parseSampleTime(cell: string): number | string {
-  const s = cell.trim();
-  if (isPlainNumber(s)) {
-    const sec = Number(s);
-    return Number.isFinite(sec) && sec >= 0 ? Math.round(sec * 1000) : "is not a time: epoch seconds are 0 or more";
-  }
-  const v = parseIsoSeconds(s);
-  return typeof v === "number" ? Math.round(v * 1000) : v;
-}
-
-function numberCell(cell: string): number | string | null {
-  const s = cell.trim();
-  if (s === "") return null;
-  if (DECIMAL.test(s)) return Number(s);
-  return s; // NaN, inf, text: validateSample tells non-finite from bad shape
-}
-
-/**
- * Bytes handed to the parser at a time. csv-parse turns a whole chunk into records at once, and
- * the replay takes about 0.1 ms per record: the ~2,000 records of a 64 KiB chunk stayed alive
- * across several young-generation collections, were promoted, and old space filled with them as
- * garbage (heap flat after a full collection, RSS +180 MiB on an 8 MB file in bench:backfill).
- * With 4 KiB slices the stream's backpressure keeps about a hundred records in flight.
+ * Bytes read at a time. The replay takes about 0.1 ms per record: records made from a whole
+ * 64 KiB chunk at once (as csv-parse did) stayed alive across several young-generation
+ * collections, were promoted, and old space filled with them as garbage (heap flat after a full
+ * collection, RSS +180 MiB on an 8 MB file in bench:backfill). Slices of 4 KiB, read only when
+ * the records of the slice before have been taken, keep about a hundred records in flight.
  */
 const SLICE_BYTES = 4096;
 
@@ -69,126 +53,139 @@ async function* sliceBytes(source: ByteSource): AsyncGenerator<Buffer> {
   }
 }
 
+/** Reads the data lines of one file against its header: a record per line. */
+class SampleRows {
+  private readonly numbers: NumberReader;
+  private readonly time: TimeColumn;
+  private cautioned = 0;
+
+  constructor(private readonly header: TableHeader<Column>) {
+    this.numbers = new NumberReader(header.sep === ";");
+    this.time = new TimeColumn(header.unit("t"), { line: header.line, column: header.index.t! }, this.numbers);
+  }
+
+  /** Epoch ms of the time cell, or a rejection. */
+  private t(raw: string, line: number): number | SampleRecord {
+    const i = this.header.index.t!;
+    const sec = this.time.read(raw, `line ${line}, column ${i + 1}`);
+    if (typeof sec === "string") return { line, reject: "bad-time", detail: `column ${i + 1} (t): ${sec}` };
+    if (sec < 0) return { line, reject: "bad-time", detail: `column ${i + 1} (t): "${raw.slice(0, 40)}" is before 1970; times are since 1970.` };
+    return Math.round(sec * 1000);
+  }
+
+  /** A value cell: its number, or a rejection naming the cell. */
+  private value(cells: string[], c: "sp" | "pv" | "mv", line: number): number | SampleRecord {
+    const i = this.header.index[c]!;
+    const raw = cells[i]!;
+    const v = this.numbers.read(raw, `line ${line}, column ${i + 1}`);
+    const at = `column ${i + 1} (${c})`;
+    if (typeof v === "string") return { line, reject: / out of range\.$/.test(v) ? "non-finite" : "bad-shape", detail: `${at}: ${v}` };
+    if (Number.isNaN(v)) return raw === "" ? { line, reject: "missing-value", detail: `${at}: the cell is empty.` } : { line, reject: "non-finite", detail: `${at}: "${raw.slice(0, 40)}" holds no number.` };
+    return v;
+  }
+
+  record(cells: string[], written: number, line: number): SampleRecord {
+    const { index, cells: names } = this.header;
+    const t = this.t(cells[index.t!]!, line);
+    if (typeof t !== "number") return t;
+    const values: number[] = [];
+    for (const c of ["sp", "pv", "mv"] as const) {
+      const v = this.value(cells, c, line);
+      if (typeof v !== "number") return v;
+      values.push(v);
+    }
+    let mode: SampleDto["mode"] = "auto";
+    if (index.mode !== undefined) {
+      const raw = cells[index.mode]!;
+      const m = parseMode(raw);
+      const at = `column ${index.mode + 1} (mode)`;
+      if (m === null) return { line, reject: "bad-shape", detail: `${at}: ${modeFault(raw)}` };
+      if (m === undefined) {
+        return index.mode >= written
+          ? { line, reject: "bad-row", detail: `${written} cells, the header has ${names.length}: no mode.` }
+          : { line, reject: "bad-shape", detail: `${at}: "${raw.slice(0, 20)}" holds no mode; the history needs auto, manual or cascade.` };
+      }
+      mode = m;
+    }
+    let quality: string | undefined;
+    if (index.quality !== undefined) {
+      const q = parseQuality(cells[index.quality]!);
+      if (q === null) return { line, reject: "bad-shape", detail: `column ${index.quality + 1} (quality): "${cells[index.quality]!.slice(0, 20)}" is not good, bad, uncertain or an OPC quality code.` };
+      quality = q;
+    }
+    const v = validateSample({ t, sp: values[0], pv: values[1], mv: values[2], mode, ...(quality === undefined ? {} : { quality }) });
+    if (!v.ok) return { line, reject: v.reason, detail: "a value, the mode or the quality is not valid." };
+    return { line, sample: v.sample };
+  }
+
+  /** Cautions of the time column not yet handed out. */
+  newCautions(): string[] {
+    const out = this.time.cautions.slice(this.cautioned);
+    this.cautioned = this.time.cautions.length;
+    return out;
+  }
+}
+
 /**
  * Records of the file in order. `onBytes` is called with the count of bytes consumed so far
- * (for progress). The first yielded value is a `bad-header` rejection when the header lacks a
+ * (for progress), `onCaution` with what was read with an assumption (the unit of large times).
+ * The first yielded value is a `bad-header` rejection when the header is missing or lacks a
  * required column; nothing follows it then.
  */
 export async function* readSampleCsv(
   source: ByteSource,
   onBytes?: (n: number) => void,
+  onCaution?: (line: number, text: string) => void,
 ): AsyncGenerator<SampleRecord> {
-  const input = Readable.from(sliceBytes(source), { objectMode: false, highWaterMark: SLICE_BYTES });
+  const text = new TextSniffer();
+  const lines = new LineSplitter(MAX_LINE_CHARS);
+  const table = new CsvTable<Column>(SPEC);
+  let rows: SampleRows | null = null;
+  let lineNo = 0;
   let bytes = 0;
-  input.on("data", (c: Buffer | string) => {
-    bytes += typeof c === "string" ? Buffer.byteLength(c) : c.byteLength;
-    onBytes?.(bytes);
-  });
-  const parser = input.pipe(
-    parse({
-      info: true,
-      relax_column_count: true,
-      skip_empty_lines: true,
-      trim: true,
-      bom: true,
-      max_record_size: 4096,
-    }),
-  );
-  let index: Record<"t" | "sp" | "pv" | "mv" | "mode" | "quality", number> | null = null;
-  let width = 0;
-  try {
-    for await (const { record, info } of parser as AsyncIterable<{
-      record: string[];
-      info: { lines: number };
-    }>) {
-      const line = info.lines;
-      if (!index) {
-        const names = record.map((h) => h.trim().toLowerCase());
-        const at = (n: string) => names.indexOf(n);
-        const missing = ["t", "sp", "pv", "mv"].filter((n) => at(n) < 0);
-        if (missing.length) {
-          yield {
-            line,
-            reject: "bad-header",
-            detail: `The first line must name the columns t, sp, pv, mv (mode, quality optional); missing: ${missing.join(", ")}.`,
-          };
-          return;
-        }
-        index = {
-          t: at("t"),
-          sp: at("sp"),
-          pv: at("pv"),
-          mv: at("mv"),
-          mode: at("mode"),
-          quality: at("quality"),
-        };
-        width = names.length;
-        continue;
-      }
-      if (record.length !== width) {
-        yield {
-          line,
-          reject: "bad-row",
-          detail: `${record.length} cells, the header has ${width}.`,
-        };
-        continue;
-      }
-      const t = parseSampleTime(record[index.t] ?? "");
-      if (typeof t === "string") {
-        yield {
-          line,
-          reject: "bad-time",
-          detail: `"${(record[index.t] ?? "").slice(0, 40)}" ${t}.`,
-        };
-        continue;
-      }
-      const sp = numberCell(record[index.sp] ?? "");
-      const pv = numberCell(record[index.pv] ?? "");
-      const mv = numberCell(record[index.mv] ?? "");
-      if (sp === null || pv === null || mv === null) {
-        yield { line, reject: "missing-value", detail: "an empty SP, PV or MV cell." };
-        continue;
-      }
-      const mode = index.mode >= 0 ? (record[index.mode] ?? "").toLowerCase() : "auto";
-      const quality =
-        index.quality >= 0 && record[index.quality] !== ""
-          ? (record[index.quality] ?? "").toLowerCase()
-          : undefined;
-      const v = validateSample({
-        t,
-        sp,
-        pv,
-        mv,
-        mode,
-        ...(quality === undefined ? {} : { quality }),
-      });
-      if (!v.ok) {
-        yield {
-          line,
-          reject: v.reason,
-          detail:
-            v.reason === "non-finite"
-              ? "SP, PV or MV is not a finite number."
-              : "a value, the mode or the quality is not valid.",
-        };
-        continue;
-      }
-      yield { line, sample: v.sample };
+  const refused = (e: unknown, header: boolean): SampleRecord => {
+    if (!(e instanceof CsvError)) throw e;
+    // a bad header becomes the job's message: it keeps its "Line N: "
+    return header ? { line: e.line, reject: "bad-header", detail: e.message } : { line: e.line, reject: "bad-row", detail: e.message.replace(/^Line \d+: /, "") };
+  };
+  /** The record of one line, null for a line without data. */
+  const read = (line: string | typeof TOO_LONG): SampleRecord | null => {
+    lineNo++;
+    if (line === TOO_LONG) return { line: lineNo, reject: rows ? "bad-row" : "bad-header", detail: `the line is longer than ${MAX_LINE_CHARS} characters.` };
+    let cells: string[] | null;
+    try {
+      cells = table.row(line, lineNo);
+      if (!rows && table.header) rows = new SampleRows(table.header);
+    } catch (e) {
+      return refused(e, !rows);
     }
-    if (!index)
-      yield {
-        line: 1,
-        reject: "bad-header",
-        detail:
-          "The file is empty: its first line must name the columns t, sp, pv, mv (mode, quality optional).",
-      };
-  } catch (e) {
-    yield {
-      line: Number((e as { lines?: number }).lines ?? 0),
-      reject: "bad-row",
-      detail: `The file is not readable CSV from here on: ${(e as Error).message}`,
-    };
-  } finally {
-    input.destroy();
+    if (cells === null || !rows) return null;
+    const rec = rows.record(cells, table.written, lineNo);
+    for (const c of rows.newCautions()) onCaution?.(lineNo, c);
+    return rec;
+  };
+  const ends = (rec: SampleRecord) => "reject" in rec && rec.reject === "bad-header";
+  for await (const slice of sliceBytes(source)) {
+    bytes += slice.byteLength;
+    onBytes?.(bytes);
+    for (const line of lines.push(text.push(slice))) {
+      const rec = read(line);
+      if (rec === null) continue;
+      yield rec;
+      if (ends(rec)) return;
+    }
+  }
+  for (const line of [...lines.push(text.end()), ...lines.end()]) {
+    const rec = read(line);
+    if (rec === null) continue;
+    yield rec;
+    if (ends(rec)) return;
+  }
+  if (!rows) {
+    try {
+      table.end(lineNo);
+    } catch (e) {
+      yield refused(e, true);
+    }
   }
 }

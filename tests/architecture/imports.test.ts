@@ -2,7 +2,8 @@
  * The folder arrows (DEVELOPERS.md, Folders): a scan of every import in the product's sources
  * fails on a forbidden one. lib/control imports only lib/control and mathjs; lib/domain only
  * itself, lib/control and zod; models only lib/domain (and Sequelize); app never server; lib
- * never server (not even a type); lib/client never the data layer (models, lib/data, server).
+ * never server (not even a type); lib/client never the data layer (models, lib/data, server);
+ * lib/csv only itself (its readers import it, never the reverse).
  * Common practice (layering); no external source.
  */
 import fs from "node:fs";
@@ -66,9 +67,18 @@ const RULES: Rule[] = [
   {
     from: "lib/assessment",
     check: (t) =>
-      under(t, "lib/assessment") || under(t, "lib/domain") || under(t, "lib/control") || t === "zod"
+      under(t, "lib/assessment") ||
+      under(t, "lib/domain") ||
+      under(t, "lib/control") ||
+      under(t, "lib/csv") ||
+      t === "zod"
         ? null
-        : "lib/assessment imports only lib/assessment, lib/domain, lib/control and zod",
+        : "lib/assessment imports only lib/assessment, lib/domain, lib/control, lib/csv and zod",
+  },
+  // the one CSV layer: its readers (assessment, step tests, backfill) import it, never the reverse
+  {
+    from: "lib/csv",
+    check: (t) => (under(t, "lib/csv") ? null : "lib/csv imports only lib/csv"),
   },
   {
     from: "models",
@@ -123,6 +133,7 @@ describe("import arrows", () => {
       "app/x.tsx": 'import type { AlarmService } from "@/server/alarms/service";',
       "lib/x.ts": 'import type { ServerContext } from "../server/context";',
       "lib/client/x.ts": 'const m = await import("@/lib/data/db/connection");',
+      "lib/csv/x.ts": 'import { parseAssessCsv } from "@/lib/assessment";',
     };
     const v = violations(Object.keys(fake), (f) => fake[f]!);
     expect([...new Set(v.map((s) => s.split(" -> ")[0]))].sort()).toEqual(Object.keys(fake).sort());

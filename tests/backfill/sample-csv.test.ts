@@ -74,11 +74,27 @@ describe("readSampleCsv", () => {
     for await (const rec of readSampleCsv(one(), () => {})) got.push("sample" in rec ? rec.sample.t : `${rec.line} ${rec.reject}: ${rec.detail}`);
     expect(got).toEqual([
       Date.UTC(2026, 2, 1, 0, 0, 0),
-      '3 bad-time: "2026-02-30T00:00:00Z" has no such date.',
+      '3 bad-time: column 1 (t): "2026-02-30T00:00:00Z" has no such date.',
       Date.UTC(2026, 2, 1, 0, 0, 0) + 500,
       expect.stringMatching(/^5 bad-time: .*without a zone/),
-      1_772_323_203_000,
+      // one kind of time per file, as in the offline command
+      "6 bad-time: column 1 (t): mixes seconds with the date-times above.",
+    ]);
+  });
+
+  it("reads what the shared CSV layer reads (lib/csv): units in the header and decimal commas with semicolons; a line too long is one rejected row and the lines after it are read", async () => {
+    // Before lib/csv: the header "t [s];..." was refused (bad-header), and a line over 4,096
+    // characters stopped csv-parse for the rest of the file.
+    const text = ["t [s];sp [kPa];pv [kPa];mv [%]", "1790000000,5;325,5;325,75;41,25", `1790000001;${"9".repeat(5000)};1;1`, "1790000002;325,5;326;41", ""].join("\n");
+    async function* one(): AsyncGenerator<Buffer> {
+      yield Buffer.from(text);
+    }
+    const got: unknown[] = [];
+    for await (const rec of readSampleCsv(one())) got.push("sample" in rec ? [rec.line, rec.sample.t, rec.sample.sp, rec.sample.pv, rec.sample.mv] : [rec.line, rec.reject, rec.detail]);
+    expect(got).toEqual([
+      [2, 1_790_000_000_500, 325.5, 325.75, 41.25],
+      [3, "bad-row", "the line is longer than 4096 characters."],
+      [4, 1_790_000_002_000, 325.5, 326, 41],
     ]);
   });
 });
-

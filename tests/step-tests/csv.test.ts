@@ -63,6 +63,15 @@ describe("parseStepTestCsv: accepted files", () => {
     }
   });
 
+  it("reads what the shared CSV layer reads (lib/csv; refused or misread before): decimal commas with semicolons, epoch milliseconds as milliseconds", () => {
+    const semi = parseStepTestCsv(file("t;mv;pv", rows(40, (k) => `${k},5;${k > 10 ? "45,5" : "40"};130,25`)), LOOP);
+    expect(semi.rows[11]).toMatchObject({ t: 11, mv: 45.5, pv: 130.25 });
+    // 1,790,000,000,000 ms + 500 ms per row: 0.5 s apart (read as seconds it was 500 s), with a warning
+    const ms = parseStepTestCsv(file("t,mv,pv", rows(40, (k) => `${1_790_000_000_000 + 500 * k},40,130`)), LOOP);
+    expect(ms.rows[3]!.t).toBe(1.5);
+    expect(ms.warnings.join(" ")).toMatch(/read as milliseconds since 1970/);
+  });
+
   it(`accepts exactly ${MIN_ROWS} rows`, () => {
     expect(parseStepTestCsv(file("t,mv,pv", rows(MIN_ROWS)), LOOP).rows).toHaveLength(MIN_ROWS);
   });
@@ -72,7 +81,7 @@ describe("parseStepTestCsv: refusals name the line and column", () => {
   it("bad header: a missing required column", () => {
     const loc = locationOf(() => parseStepTestCsv(file("t,mv,temperature", rows(40)), LOOP));
     expect(loc).toMatchObject({ row: 1, column: null, columnName: "pv" });
-    expect(loc.message).toMatch(/missing column pv/);
+    expect(loc.message).toMatch(/lacks pv/);
     expect(loc.message).toMatch(/"temperature"/);
   });
 
@@ -96,10 +105,10 @@ describe("parseStepTestCsv: refusals name the line and column", () => {
     expect(loc.message).toBe('Line 8, column 3 (pv): "hot" is not a number.');
   });
 
-  it("a decimal comma gets a hint", () => {
+  it("a decimal comma in a comma-separated file gets a hint", () => {
     const body = rows(40);
-    body[2] = '2;"40,5";130';
-    const loc = locationOf(() => parseStepTestCsv(file("t;mv;pv", body.map((l, i) => (i === 2 ? l : l.replace(/,/g, ";")))), LOOP));
+    body[2] = '2,"40,5",130';
+    const loc = locationOf(() => parseStepTestCsv(file("t,mv,pv", body), LOOP));
     expect(loc).toMatchObject({ row: 4, column: 2, columnName: "mv" });
     expect(loc.message).toMatch(/decimal separator/);
   });

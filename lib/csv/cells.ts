@@ -23,3 +23,20 @@ export function splitQuotedCells(line: string, sep: string): string[] {
   out.push(cur.trim());
   return out;
 }
+
+function trimIfNeeded(c: string): string {
+  return c.length > 0 && (c.charCodeAt(0) <= 32 || c.charCodeAt(c.length - 1) <= 32) ? c.trim() : c;
+}
+
+/** The cells of a line, trimmed; lines without a quote take a fast path. */
+export function splitCells(line: string, sep: string): string[] {
+  if (!line.includes('"')) {
+    const cells = line.split(sep);
+    for (let i = 0; i < cells.length; i++) cells[i] = trimIfNeeded(cells[i]!);
+    return cells;
+  }
+  return splitQuotedCells(line, sep);
+}
+
+/** A separator's name in a message. */
+export const sepName = (sep: string): string => (sep === "\t" ? "tab" : sep);

@@ -1,10 +1,10 @@
 /**
- * Value cells of a historian export: numbers (a decimal comma only in files separated by
- * semicolons, the European spreadsheet convention, and never mixed with decimal points in one
- * file), status text in place of a value (missing), mode and quality words.
+ * Number cells of a CSV export: plain decimal numbers, a decimal comma only in files separated by
+ * semicolons (the European spreadsheet convention) and never mixed with decimal points in one
+ * file, status text in place of a value (a cell without a digit: missing). Digit grouping, hex
+ * and a number with a letter in it are refused with a hint.
  */
-import { isPlainNumber } from "./csv-time";
-import type { AssessMode, AssessQuality } from "./types";
+import { isPlainNumber } from "./time";
 
 /** A number with one decimal comma and no point: "12,5", "-0,25", "1,5e3". */
 const DECIMAL_COMMA = /^[+-]?\d*,\d+([eE][+-]?\d+)?$/;
@@ -63,33 +63,4 @@ export class NumberReader {
     if (this.mark === mark) return null;
     return `a decimal ${mark === "." ? "point" : "comma"} here, a decimal ${mark === "." ? "comma" : "point"} at ${this.markAt}; one of them is a digit grouping mark, so the numbers cannot be read safely. Export with one decimal mark and no digit grouping.`;
   }
-}
-
-/** Mode cells read as unknown (not a fault): empty or a status word. */
-const MODE_MISSING = new Set(["", "nan", "n/a", "#n/a", "na", "null", "bad", "-", "?"]);
-
-/** auto / manual / cascade, undefined for an unknown mode (empty or a status word), null when unreadable. */
-export function parseMode(raw: string): AssessMode | undefined | null {
-  const m = raw.toLowerCase();
-  if (m === "auto" || m === "aut" || m === "automatic") return "auto";
-  if (m === "manual" || m === "man") return "manual";
-  if (m === "cascade" || m === "cas" || m === "casc") return "cascade";
-  return MODE_MISSING.has(m) ? undefined : null;
-}
-
-export function modeFault(raw: string): string {
-  const numeric = isPlainNumber(raw) ? " Numeric mode codes differ between control systems; write the words." : "";
-  return `"${raw.slice(0, 20)}" is not auto, manual or cascade.${numeric}`;
-}
-
-/** good / bad / uncertain (words or OPC quality codes), undefined when empty, null when unreadable. */
-export function parseQuality(raw: string): AssessQuality | undefined | null {
-  const q = raw.toLowerCase();
-  if (q === "good" || q === "bad" || q === "uncertain") return q;
-  if (q === "") return undefined;
-  if (isPlainNumber(q)) {
-    const code = Number(q);
-    return code >= 192 ? "good" : code >= 64 ? "uncertain" : "bad";
-  }
-  return null;
 }

@@ -1,6 +1,5 @@
 /**
- * The time column of a historian export: plain decimal numbers and ISO 8601 date-times with a
- * zone, checked field by field (the platform's Date.parse rolls 30 February over into March and
+ * Time cells of a CSV export: plain decimal numbers and ISO 8601 date-times with a zone, checked field by field (the platform's Date.parse rolls 30 February over into March and
  * reads a date-time without a zone as local time; neither may pass unnoticed).
  */
 
