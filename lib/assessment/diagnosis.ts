@@ -5,7 +5,9 @@
  * oscillation (aggressive: a deep dip, or one beyond quarter-amplitude damping) -> increments of
  * the error that swing back less damped than quarter amplitude (Miao & Seborg 1999) -> sluggish
  * (Harris, no swing-back, disturbance time, idle index; not when disturbances are removed within
- * a few dead times) -> healthy. Every threshold is ours
+ * a few dead times) -> healthy; then the set-point overshoot and, on a level loop under PI with an
+ * entered dead time, the phase-margin ceiling of its integral time (level-phase-ceiling.ts) may
+ * turn a healthy or sluggish verdict into an aggressive one. Every threshold is ours
  * unless a source is named; all figures are scale-free (shares, ratios, correlations, periods
  * relative to the loop's own time scale), so the rules do not depend on units or tags.
  */
@@ -19,6 +21,7 @@ import { errorWanderLine, type ErrorWander } from "./error-wander";
 import type { SetPointSigns } from "./setpoint-response";
 import { FURTHER_SIGN, HEALTHY, sluggishConfidence, temperForCompression, temperForWeakCycle } from "./tuning-confidence";
 import { withSetPointOvershoot } from "./setpoint-overshoot";
+import { withPhaseCeiling, type PhaseCeiling } from "./level-phase-ceiling";
 import type { Diagnosis, StictionFigures } from "./types";
 
 export interface DiagnosisInput {
@@ -62,6 +65,8 @@ export interface DiagnosisInput {
   lineInManual?: boolean;
   /** No dominant period at all while the set point holds: the error never swings back within the record (error-wander.ts). */
   errorWander?: ErrorWander | null;
+  /** The best phase margin a PI can reach on this integrating loop with its entered dead time (level-phase-ceiling.ts). */
+  phaseCeiling?: PhaseCeiling | null;
 }
 
 /** Per-period ACF ratio above which an oscillation counts as sustained (a damped mode decays). */
@@ -113,7 +118,9 @@ const clamp = (v: number, lo = 0.3, hi = 0.95) => Math.min(hi, Math.max(lo, v));
 export function diagnose(x: DiagnosisInput): Diagnosis {
   const figures = temperForCompression(diagnoseFigures(x), { compressed: x.compressed, oscillationDetected: x.oscillation.detected, saturation: x.saturation });
   // the set-point response's overshoot (setpoint-overshoot.ts): not read from the error's correlation, so after the compression cap
-  const d = withSetPointOvershoot(figures, { overshoot: x.setPoint?.overshoot, slow: x.setPoint?.slow, ringDepth: x.ringDepth, acfDecay: x.acfDecay });
+  const o = withSetPointOvershoot(figures, { overshoot: x.setPoint?.overshoot, slow: x.setPoint?.slow, ringDepth: x.ringDepth, acfDecay: x.acfDecay });
+  // the settings against the entered dead time (level-phase-ceiling.ts): not read from the data, so after the compression cap too
+  const d = withPhaseCeiling(o, x.phaseCeiling ?? null, { ringDepth: x.ringDepth, acfDecay: x.acfDecay });
   return temperForWeakCycle(d, { regularity: x.oscillation.regularity, periodS: x.oscillation.periodS, spectralLine: x.spectralLine });
 }
 

@@ -16,6 +16,7 @@ import { countLoadDisturbances, detectOscillation, oscillatesAt } from "./oscill
 import { autocorrelation, variance } from "./signal";
 import { sensorFigures } from "./sensor";
 import { idleIndex } from "./sluggishness";
+import { levelPhaseCeiling } from "./level-phase-ceiling";
 import { setPointResponse, setPointSigns, spanTimeScale } from "./setpoint-response";
 import { settledMask, strongestLine } from "./spectral-line";
 import { assessStiction } from "./stiction";
@@ -233,6 +234,7 @@ export function assessLoop(input: readonly AssessSample[], config: LoopConfig): 
     noisePct: usage.pvNoisePct,
     setPoint: spSigns,
     errorWander: wander,
+    phaseCeiling: levelPhaseCeiling({ integrating, tiS: ti, tdS: config.controller.td, deadTimeS: config.deadTimeS }),
   });
 
   return {

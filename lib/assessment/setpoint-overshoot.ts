@@ -69,16 +69,19 @@ export function withSetPointOvershoot(d: Diagnosis, x: OvershootContext): Diagno
   if (line === null || x.slow) return d;
   if (d.label === "aggressive-tuning") return { ...d, confidence: Math.min(0.95, d.confidence + AGREEING), evidence: [...d.evidence, line] };
   if (d.label !== "healthy" && d.label !== "sluggish-tuning") return d;
-  const ev = [`likely aggressive tuning: ${line}`];
-  let c = ALONE;
-  if (x.ringDepth !== null && x.ringDepth < WEAK_RING) {
-    c += AGREEING;
-    ev.push(`the error rings a little after disturbances too (its autocorrelation dips to ${fmt(x.ringDepth)}), short of a finding of its own`);
-  }
-  if (x.acfDecay && x.acfDecay.ratio >= QUARTER_SWING) {
-    c += AGREEING;
-    ev.push(`the error's increments swing back beyond quarter amplitude too (R = ${fmt(x.acfDecay.ratio)} ± ${fmt(x.acfDecay.ratioSd)}, 0.5 at quarter amplitude; Miao & Seborg 1999), short of a finding of its own`);
-  }
-  if (c === ALONE) ev.push("a possible finding, not a certain one: one sign only; a closed-loop set-point step test would decide");
-  return { label: "aggressive-tuning", confidence: c, evidence: ev };
+  const agree = agreeingSigns(x);
+  const ev = [`likely aggressive tuning: ${line}`, ...agree];
+  if (agree.length === 0) ev.push("a possible finding, not a certain one: one sign only; a closed-loop set-point step test would decide");
+  return { label: "aggressive-tuning", confidence: ALONE + AGREEING * agree.length, evidence: ev };
+}
+
+/**
+ * The error's own ringing signs that fell short of a finding but agree with an aggressive sign
+ * read elsewhere (a weak ring, an increments' swing beyond quarter amplitude): one line each.
+ */
+export function agreeingSigns(x: { ringDepth: number | null; acfDecay: AcfDecay | null | undefined }): string[] {
+  const out: string[] = [];
+  if (x.ringDepth !== null && x.ringDepth < WEAK_RING) out.push(`the error rings a little after disturbances too (its autocorrelation dips to ${fmt(x.ringDepth)}), short of a finding of its own`);
+  if (x.acfDecay && x.acfDecay.ratio >= QUARTER_SWING) out.push(`the error's increments swing back beyond quarter amplitude too (R = ${fmt(x.acfDecay.ratio)} ± ${fmt(x.acfDecay.ratioSd)}, 0.5 at quarter amplitude; Miao & Seborg 1999), short of a finding of its own`);
+  return out;
 }
