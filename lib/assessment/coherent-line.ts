@@ -35,6 +35,19 @@
  * loop with weak loads reached 11–20×, over 60–70 cycles, against 135 and more for the benchmark's
  * outside sinusoids that the stiction tests had blamed on a valve).
  *
+ * The loop's own decaying mode (mayBeOwnMode, ownModeLine): a stable linear loop under random
+ * loads has a mode of damping ratio ζ whose spectral peak is a Lorentzian of half-power
+ * half-width ζ f0 (the resonance of a second-order system; common practice), ζN bins over N
+ * cycles: the same shape as a diffusing phase's, so the same bar applies. A peak under 100× its
+ * immediate neighbours is not narrower than a half-width of one bin, which a mode with ζ ≥ 1/N
+ * gives (over 44–100 cycles a decay ratio e^{−2πζ/√(1−ζ²)} of 0.86–0.94 and below; a half-width
+ * of a few bins still passes the line test's 10×: tests/assessment/own-mode-line.test.ts, AR(2)
+ * modes of decay ratio 0.88 and 0.94 over 60 cycles are lines in 22 and 38 of 60 seeds and none
+ * reaches 100×). So when the oscillation test also sees the cycle decay from one period to the
+ * next (diagnosis.ts), a line under that bar is read as the loop's own mode, not as an outside
+ * line. A peak of 100× or more needs ζ < 1/N and stays outside; over few cycles that admits
+ * modes of the aggressive range too (20 cycles: decay ratios above 0.73), which is a limit.
+ *
  * Fails on: a sticking valve with neither loads nor measurement noise (a deterministic limit cycle
  * is a line; no plant runs so); a sticking valve whose cycle is locked to an outside periodic load
  * (entrained: then the load sets the period and the valve only adds to it); records of fewer than
@@ -65,5 +78,21 @@ export function coherentOutsideCycle(line: SpectralLine | null, periodS: number 
     `likely an oscillation from outside: the cycle of ${fmt(line!.periodS, 1)} s keeps its phase over ${fmt(cycles, 0)} cycles ` +
     `(a spectral line ${fmt(line!.ratio, 0)}× the local median and ${fmt(line!.near, 0)}× its immediate neighbours, ${(100 * line!.share).toFixed(0)} % of the variance), ` +
     `as an outside source's fixed period does; a sticking valve's stick-slip cycle varies in length with the loads and loses its phase over so many cycles (a wider peak)`
+  );
+}
+
+/** A line no narrower than a damped mode's peak of half-width one bin (see the header): possibly the loop's own mode. */
+export function mayBeOwnMode(line: SpectralLine): boolean {
+  return line.near < COHERENT_NEAR;
+}
+
+/**
+ * The evidence line when a decaying cycle's spectral line is not narrower than the loop's own
+ * damped mode could make it (see the header): the line test alone does not show an outside source.
+ */
+export function ownModeLine(line: SpectralLine): string {
+  return (
+    `the error's spectral peak at ${fmt(line.periodS, 1)} s (${fmt(line.ratio, 0)}× the local median) stands ${fmt(line.near, 0)}× its immediate neighbours, ` +
+    `under the ${COHERENT_NEAR}× that tells an outside line from the loop's own lightly damped mode (a peak of half-width ζ f0, ζ the damping ratio), and the cycle decays as that mode does`
   );
 }

@@ -11,7 +11,7 @@
  * unless a source is named; all figures are scale-free (shares, ratios, correlations, periods
  * relative to the loop's own time scale), so the rules do not depend on units or tags.
  */
-import { coherentOutsideCycle } from "./coherent-line";
+import { coherentOutsideCycle, mayBeOwnMode, ownModeLine } from "./coherent-line";
 import type { LoadOrValveFigures } from "./load-or-valve";
 import { fmt } from "./oscillation";
 import type { SensorFigures } from "./sensor";
@@ -192,7 +192,9 @@ function diagnoseFigures(x: DiagnosisInput): Diagnosis {
       return { label: "valve-stiction", confidence: stictionConfidence(x, 0.6), evidence: [...x.stiction.evidence.slice(0, 1), oscLine, ...x.stiction.evidence.slice(1), ...orderLine(x)] };
     }
     const sustained = persistence !== null && persistence > SUSTAINED;
-    if (isLine(x.spectralLine) && !sustained) {
+    // A decaying cycle's line is outside only when it is narrower than the loop's own damped mode
+    // could make it (coherent-line.ts, ownModeLine); otherwise the decay is the loop's own.
+    if (isLine(x.spectralLine) && !sustained && !mayBeOwnMode(x.spectralLine!)) {
       return { label: "external-disturbance", confidence: 0.7, evidence: [lineLine(x.spectralLine!), oscLine, ...x.stiction.evidence] };
     }
     if (sustained) {
@@ -210,7 +212,7 @@ function diagnoseFigures(x: DiagnosisInput): Diagnosis {
     return {
       label: "aggressive-tuning",
       confidence: clamp(0.5 + 0.5 * (1 - (persistence ?? 0.5))),
-      evidence: ["likely aggressive tuning: a regular, decaying (linear) oscillation of the loop's own mode", oscLine, ...x.stiction.evidence],
+      evidence: ["likely aggressive tuning: a regular, decaying (linear) oscillation of the loop's own mode", oscLine, ...(isLine(x.spectralLine) ? [ownModeLine(x.spectralLine!)] : []), ...x.stiction.evidence],
     };
   }
   if (x.lineInManual && x.spectralLine) {

@@ -11,7 +11,7 @@ limits) is drawn again with the next seed, so every label can be seen in its dat
     python3 simulators/crosscheck/generate.py OUT_DIR [--seed N]
 
 writes OUT_DIR/<id>.csv, OUT_DIR/<id>.loop.json and OUT_DIR/manifest.json (id, label, plant,
-note). Requires Debian's python3-numpy and python3-scipy.
+note, the plant's parameters). Requires Debian's python3-numpy and python3-scipy.
 """
 import json
 import os
@@ -219,7 +219,11 @@ def main():
                     continue
                 cid = f"xc-{label[:4]}-{plant[:4]}-{rep}"
                 write_case(out, cid, label, plant, c, np.random.default_rng(seed + 7))
-                manifest.append({"id": cid, "label": label, "plant": plant, "note": c["note"], "draws": tries})
+                # the plant's parameters (s, and % PV per % MV), for studies of what the configured
+                # dead time means (tests/bench/crosscheck.bench.ts --dead-time step-test); the files
+                # do not depend on them being written
+                params = {k: (round(float(v), 6) if k != "kind" else v) for k, v in c["p"].items()}
+                manifest.append({"id": cid, "label": label, "plant": plant, "note": c["note"], "draws": tries, "plantParams": params})
     with open(os.path.join(out, "manifest.json"), "w") as f:
         json.dump(manifest, f, indent=1)
     print(f"{len(manifest)} recordings in {out}", file=sys.stderr)
