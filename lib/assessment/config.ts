@@ -30,7 +30,11 @@ export const loopConfigSchema = z
     pvLo: finite,
     pvHi: finite,
     samplePeriodS: finite.refine((v) => v > 0, "must be > 0"),
-    /** Known transport delay, s (from the process or a step test). */
+    /**
+     * Apparent dead time, s: the delay a step test shows (the transport delay plus about half the
+     * process's second lag, Skogestad's half rule), which the tuning yardsticks are stated against;
+     * docs/assessment.md, "Harris index", "Which dead time".
+     */
     deadTimeS: finite.refine((v) => v >= 0, "must be >= 0").nullable().optional().default(null),
     normalMode: z.enum(["auto", "cascade"]).default("auto"),
     controller: controllerConfigSchema,

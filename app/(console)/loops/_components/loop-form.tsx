@@ -198,11 +198,11 @@ function LoopFormInner({ initial, loopId, sites }: LoopFormProps & { sites: Site
         <Field name="baselineTimeConstantS" label="Baseline closed-loop time constant, s (blank = none)" type="number" nullable {...p} />
         <Field
           name="deadTimeS"
-          label="Dead time, s (blank = from the latest applied step test)"
+          label="Apparent dead time, s (blank = from the latest applied step test)"
           type="number"
           nullable
           {...p}
-          hint="For the Harris index of the routine-data finding; routine closed-loop data cannot tell it. Without it (and without an applied step test) the index stays empty."
+          hint="The delay a step test shows (the transport delay plus about half of a second lag), not the transport delay alone: the routine-data finding judges tuning against it, and a transport delay alone makes a well-tuned loop on a lagged process read sluggish. Routine closed-loop data cannot tell it; without it (and without an applied step test) the Harris index stays empty."
         />
       </fieldset>
 
