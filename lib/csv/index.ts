@@ -1,6 +1,7 @@
 /**
  * The one CSV layer of the product (browser-safe, no Node APIs; imports nothing outside lib/csv):
- * bytes to text, lines, cells, the header and its columns, time, number, mode and quality cells,
+ * bytes to text, lines, records spanning lines, cells, the header and its columns (lax for exports,
+ * strict for a hand-kept sheet), time, number, mode and quality cells,
  * and the error that names the line. The readers (offline assessment, step-test uploads, the
  * historian backfill, the loop inventory import) keep only their own columns, limits and what they
  * do with the rows.
