@@ -7,6 +7,7 @@
 import { useState } from "react";
 import type { ImportResult } from "@/lib/data/admin/loop-import";
 import { INVENTORY_COLUMNS } from "@/lib/admin/inventory-csv-columns";
+import { inventoryFileText } from "@/lib/admin/inventory-file";
 import { MAX_INVENTORY_BYTES } from "@/lib/admin/inventory-limits";
 import { ApiError, sendJson } from "@/lib/client/fetcher";
 import { TableHead } from "@/app/_components/table-head";
@@ -29,7 +30,7 @@ export function AdminLoopImport() {
       return setMessage({ tone: "error", text: `The file is larger than ${MAX_INVENTORY_BYTES / 1024 / 1024} MiB.` });
     }
     setFileName(file.name);
-    setCsv(await file.text());
+    setCsv(await inventoryFileText(file));
   }
 
   async function run(commit: boolean) {

@@ -3,21 +3,30 @@
  * format so an export imports again unchanged. This file is pure (no I/O): it turns CSV text into
  * rows of typed cells with every error tied to its line and column, and loops back into CSV.
  *
- * Cells: numbers in plain decimal or exponent notation; a blank cell takes the kind's default
+ * The file's layout is read by the product's CSV layer (lib/csv, strictly: see its table.ts):
+ * comma, semicolon or tab separated (or as a `sep=;` line says), quoted cells that may span lines,
+ * a header naming the columns in any order and letter case; an unknown column, a column named
+ * twice, a row with fewer cells than the header or with a filled cell beyond it, and a stray quote
+ * are refused. What stays here: the columns, the cells' meaning and what is done with a bad row
+ * (it is reported with its line and column and left out; the caller refuses the whole sheet).
+ *
+ * Cells: numbers in plain decimal or exponent notation (a decimal comma only in a file separated
+ * by semicolons, never mixed with points); a blank cell takes the kind's default
  * (inventory-defaults.ts); `none` means "no value" for the integral, derivative filter and
  * baseline time constant; `enabled` is yes/no (true/false, 1/0). Text cells that a spreadsheet
  * would run as a formula (starting with = + - @ or a tab/CR) are written with a leading `'`, which
  * the import removes again.
  */
-import { parse } from "csv-parse/sync";
 import { stringify } from "csv-stringify/sync";
+import { CsvError, CsvTable, NumberReader, recordReader, withoutBom } from "@/lib/csv";
 import type { LoopKind } from "@/lib/domain/types";
 import { INVENTORY_COLUMNS, type Column } from "./inventory-csv-columns";
 import type { DefaultableField } from "./inventory-defaults";
 import { MAX_INVENTORY_ROWS } from "./inventory-limits";
 import type { LoopFields } from "./loop-schema";
 
-const REQUIRED = new Set(["tag", "site", "kind"]);
+const REQUIRED = ["tag", "site", "kind"] as const;
+const OPTIONAL = INVENTORY_COLUMNS.map((c) => c.name).filter((n) => !(REQUIRED as readonly string[]).includes(n));
 
 export interface InventoryIssue {
   /** 1-based line of the file (the header is line 1). */
@@ -46,11 +55,10 @@ export function guardCell(s: string): string {
   return FORMULA_START.test(s) || (s.startsWith("'") && unguardCell(s) !== s) ? `'${s}` : s;
 }
 
-function readCell(col: Column, raw: string): { value?: unknown; error?: string } {
-  const s = raw.trim();
+function readCell(col: Column, s: string, numbers: NumberReader, where: string): { value?: unknown; error?: string } {
   switch (col.cell) {
     case "text":
-      return { value: unguardCell(raw.trim()) };
+      return { value: unguardCell(s) };
     case "enum": {
       const v = s.toLowerCase();
       return col.values!.includes(v) ? { value: v } : { error: `must be one of ${col.values!.join(", ")} (got "${s.slice(0, 40)}").` };
@@ -66,96 +74,80 @@ function readCell(col: Column, raw: string): { value?: unknown; error?: string }
     // falls through
     case "number":
     case "int": {
-      // Number("") is 0 and Number("0x10") is 16: accept only decimal notation.
-      if (!/^[+-]?(\d+\.?\d*|\.\d+)([eE][+-]?\d+)?$/.test(s)) return { error: `must be a number (got "${s.slice(0, 40)}").` };
-      const n = Number(s);
-      if (!Number.isFinite(n)) return { error: "must be a finite number." };
+      const n = numbers.read(s, where);
+      if (typeof n === "string") return { error: `must be a number: ${n}` };
+      // The layer reads a cell without a digit as "no number" (status text); here it is a mistake.
+      if (Number.isNaN(n)) return { error: `must be a number (got "${s.slice(0, 40)}").` };
       if (col.cell === "int" && !Number.isInteger(n)) return { error: "must be a whole number." };
       return { value: n };
     }
   }
 }
 
-/**
- * The line on which each record starts, from the byte offsets where the records end (csv-parse's
- * own line count counts a CRLF inside a quoted cell twice). Empty lines between records are skipped
- * the way the parser skips them.
- */
-function recordStartLines(buf: Buffer, ends: number[]): number[] {
-  const out: number[] = [];
-  let line = 1;
-  let pos = 0;
-  const advance = (to: number) => {
-    for (; pos < to && pos < buf.length; pos++) {
-      const c = buf[pos];
-      if (c === 0x0a || (c === 0x0d && buf[pos + 1] !== 0x0a)) line++;
-    }
-  };
-  for (const end of ends) {
-    while (pos < buf.length && (buf[pos] === 0x0a || buf[pos] === 0x0d)) advance(pos + 1);
-    out.push(line);
-    advance(end);
-  }
-  return out;
-}
+/** The layer's error as issues (its "Line N: " lead-in is the issue's line). */
+const issuesOf = (e: CsvError): InventoryIssue[] =>
+  (e.parts.length > 0 ? e.parts : [e]).map((p) => ({ line: p.line, column: p.column, message: p.message.replace(/^Line \d+: /, "") }));
 
 /**
  * Read the sheet. Returns the rows that could be read and every issue found (a row with an issue
- * is left out of `rows`); the caller refuses the whole import while `issues` is non-empty.
+ * is left out of `rows`); the caller refuses the whole import while `issues` is non-empty. A fault
+ * of the header, or a quote left open to the end of the file, stops the reading there.
  */
 export function parseInventoryCsv(text: string): { rows: InventoryRow[]; issues: InventoryIssue[] } {
   const issues: InventoryIssue[] = [];
-  let records: { record: string[]; info: { bytes: number } }[];
-  const clean = text.replace(/^\uFEFF/, "");
-  try {
-    records = parse(clean, { info: true, relax_column_count: true, skip_empty_lines: true, max_record_size: 64 * 1024 }) as unknown as typeof records;
-  } catch (e) {
-    const line = Number((e as { lines?: number }).lines ?? 1);
-    return { rows: [], issues: [{ line, column: null, message: `The file is not readable CSV: ${(e as Error).message}` }] };
-  }
-  const header = records[0];
-  if (!header) return { rows: [], issues: [{ line: 1, column: null, message: "The file is empty: the first line must name the columns." }] };
-  const names = header.record.map((h) => h.trim().toLowerCase());
-  const index = new Map<string, number>();
-  names.forEach((n, i) => {
-    if (!INVENTORY_COLUMNS.some((c) => c.name === n)) issues.push({ line: 1, column: n || `#${i + 1}`, message: "unknown column." });
-    else if (index.has(n)) issues.push({ line: 1, column: n, message: "column named twice." });
-    else index.set(n, i);
-  });
-  for (const r of REQUIRED) if (!index.has(r)) issues.push({ line: 1, column: r, message: "required column is missing." });
-  if (issues.length) return { rows: [], issues };
-  if (records.length - 1 > MAX_INVENTORY_ROWS) return { rows: [], issues: [{ line: 1, column: null, message: `At most ${MAX_INVENTORY_ROWS} loops per file.` }] };
-
   const rows: InventoryRow[] = [];
-  const lineOf = recordStartLines(Buffer.from(clean, "utf8"), records.map((r) => r.info.bytes));
-  for (const [n, { record }] of records.entries()) {
-    if (n === 0) continue;
-    const line = lineOf[n]!;
-    if (record.length !== names.length) {
-      issues.push({ line, column: null, message: `has ${record.length} cells, the header has ${names.length}.` });
-      continue;
-    }
-    const out: Record<string, unknown> = {};
-    let bad = false;
-    for (const col of INVENTORY_COLUMNS) {
-      const i = index.get(col.name);
-      const raw = i === undefined ? "" : (record[i] ?? "");
-      if (raw.trim() === "") {
-        if (REQUIRED.has(col.name)) {
-          issues.push({ line, column: col.name, message: "is required." });
-          bad = true;
-        }
+  const table = new CsvTable<string>({ required: REQUIRED, optional: OPTIONAL, expected: "tag, site, kind and the other columns of an inventory export", strict: true });
+  const records = recordReader(withoutBom(text));
+  let numbers: NumberReader | null = null;
+  let count = 0;
+  try {
+    for (let record = records.next(); record !== null; record = records.next()) {
+      const line = records.lineNo();
+      let cells: string[] | null;
+      try {
+        cells = table.row(record, line);
+      } catch (e) {
+        if (!(e instanceof CsvError) || table.header === null) throw e;
+        issues.push(...issuesOf(e)); // a bad row: reported, left out, the next rows read
         continue;
       }
-      const { value, error } = readCell(col, raw);
-      if (error) {
-        issues.push({ line, column: col.name, message: error });
-        bad = true;
-      } else out[col.field] = value;
+      const header = table.header;
+      if (header !== null && numbers === null) {
+        numbers = new NumberReader(header.sep === ";");
+        // Units belong in their own columns; a unit after a column's name would be ignored.
+        for (const [i, h] of header.cells.entries()) {
+          if (h.unit !== null) issues.push({ line: header.line, column: h.name, message: `has a unit ("${h.unit}") in its name; the sheet gives units in its own columns (units, mv_units, ti_units, td_units), and the names ending in _s are in seconds. Remove it (column ${i + 1}).` });
+        }
+        if (issues.length) return { rows: [], issues };
+      }
+      if (cells === null || header === null) continue;
+      if (++count > MAX_INVENTORY_ROWS) return { rows: [], issues: [{ line, column: null, message: `At most ${MAX_INVENTORY_ROWS} loops per file.` }] };
+      const out: Record<string, unknown> = {};
+      let bad = false;
+      for (const col of INVENTORY_COLUMNS) {
+        const i = header.index[col.name];
+        const raw = i === undefined ? "" : cells[i]!;
+        if (raw === "") {
+          if ((REQUIRED as readonly string[]).includes(col.name)) {
+            issues.push({ line, column: col.name, message: "is required." });
+            bad = true;
+          }
+          continue;
+        }
+        const { value, error } = readCell(col, raw, numbers!, `line ${line}, ${col.name}`);
+        if (error) {
+          issues.push({ line, column: col.name, message: error });
+          bad = true;
+        } else out[col.field] = value;
+      }
+      if (bad) continue;
+      const { site, area, kind, tag, ...given } = out as { site: string; area?: string; kind: LoopKind; tag: string } & InventoryRow["given"];
+      rows.push({ line, site, area: area ?? null, kind, tag, given });
     }
-    if (bad) continue;
-    const { site, area, kind, tag, ...given } = out as { site: string; area?: string; kind: LoopKind; tag: string } & InventoryRow["given"];
-    rows.push({ line, site, area: area ?? null, kind, tag, given });
+    table.end(records.lineNo());
+  } catch (e) {
+    if (!(e instanceof CsvError)) throw e;
+    return { rows: [], issues: [...issues, ...issuesOf(e)] };
   }
   return { rows, issues };
 }

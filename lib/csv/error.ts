@@ -7,6 +7,8 @@ export class CsvError extends Error {
     readonly column: string | null = null,
     /** The column's number (1-based), null when the fault is not in one cell. */
     readonly columnNo: number | null = null,
+    /** Every fault when one line has several (a header with an unknown and a missing column); empty when this is the only one. */
+    readonly parts: readonly CsvError[] = [],
   ) {
     super(message);
     this.name = "CsvError";

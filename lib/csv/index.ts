@@ -1,13 +1,16 @@
 /**
  * The one CSV layer of the product (browser-safe, no Node APIs; imports nothing outside lib/csv):
- * bytes to text, lines, cells, the header and its columns, time, number, mode and quality cells,
+ * bytes to text, lines, records spanning lines, cells, the header and its columns (lax for exports,
+ * strict for a hand-kept sheet), time, number, mode and quality cells,
  * and the error that names the line. The readers (offline assessment, step-test uploads, the
- * historian backfill) keep only their own columns, limits and what they do with the rows.
+ * historian backfill, the loop inventory import) keep only their own columns, limits and what they
+ * do with the rows.
  */
-export { splitCells, splitQuotedCells } from "./cells";
+export { splitCells, splitQuotedCells, splitStrictCells } from "./cells";
 export { decodeText, TextSniffer, withoutBom } from "./encoding";
 export { CsvError } from "./error";
 export { lineReader, LineSplitter, TOO_LONG } from "./lines";
+export { recordReader } from "./records";
 export { NumberReader, type CellValue } from "./numbers";
 export { modeFault, parseMode, parseQuality, type CsvMode, type CsvQuality } from "./status";
 export { CsvTable, headerCell, type TableHeader, type TableSpec } from "./table";

@@ -9,8 +9,14 @@
  * unquoted cell would shift the columns) is refused naming the line.
  *
  * Fed one line at a time, so a whole text (lineReader) and a stream (LineSplitter) read alike.
+ *
+ * `strict` is for a sheet kept by hand and imported as configuration (the loop inventory), where a
+ * silently skipped or shifted cell would change what is saved: a column the reader does not know
+ * is refused, a data line must have every column (only empty cells may follow the last), quotes
+ * follow RFC 4180 to the letter (splitStrictCells), `#` starts a data line like any other text,
+ * and a record may span lines (feed it records.ts's records).
  */
-import { sepName, splitCells } from "./cells";
+import { sepName, splitCells, splitStrictCells } from "./cells";
 import { CsvError } from "./error";
 
 export interface TableSpec<C extends string> {
@@ -18,6 +24,8 @@ export interface TableSpec<C extends string> {
   optional: readonly C[];
   /** The columns a file must have, for messages: "t,sp,pv,mv (mode and quality optional)". */
   expected: string;
+  /** See above; false when not given. */
+  strict?: boolean;
 }
 
 export interface HeaderCell {
@@ -91,15 +99,16 @@ export class CsvTable<C extends string> {
     }
     if (line.length === 0) return null;
     const c0 = line.charCodeAt(0);
-    if (c0 === 35 /* # */ || (c0 <= 32 && line.trim() === "")) return null;
+    const strict = this.spec.strict === true;
+    if ((c0 === 35 /* # */ && !strict) || (c0 <= 32 && line.trim() === "")) return null;
     const { sep, cells: names } = this.header;
-    const cells = splitCells(line, sep);
+    const cells = strict ? splitStrictCells(line, sep, lineNo) : splitCells(line, sep);
     // A row of separators only (a spreadsheet's formatted but empty rows) holds nothing.
     if (cells.every((c) => c === "")) return null;
     this.written = cells.length;
     // Tools that drop trailing empty cells: the optional columns are then empty.
-    if (cells.length < this.needed && cells.length > this.requiredLast) while (cells.length < this.needed) cells.push("");
-    if (cells.length < this.needed) {
+    if (!strict && cells.length < this.needed && cells.length > this.requiredLast) while (cells.length < this.needed) cells.push("");
+    if (cells.length < (strict ? names.length : this.needed)) {
       const other = SEPARATORS.find((c) => c !== sep && line.includes(c));
       const hint = other ? ` The header is separated by "${sepName(sep)}", this line has "${sepName(other)}".` : "";
       throw new CsvError(`Line ${lineNo}: ${cells.length} cell${cells.length === 1 ? "" : "s"}, the header has ${names.length}.${hint}`, lineNo, names[cells.length]?.name ?? null, cells.length + 1);
@@ -124,20 +133,29 @@ export class CsvTable<C extends string> {
   }
 
   private readHeader(line: string, lineNo: number): void {
-    const { required, optional, expected } = this.spec;
+    const { required, optional, expected, strict } = this.spec;
     const sep = this.sepGiven ?? chooseSeparator(line, required);
-    const cells = splitCells(line, sep).map(headerCell);
+    const cells = (strict ? splitStrictCells(line, sep, lineNo) : splitCells(line, sep)).map(headerCell);
     const index: Partial<Record<C, number>> = {};
     const known = [...required, ...optional] as readonly string[];
+    const faults: CsvError[] = [];
     cells.forEach((h, i) => {
-      if (!known.includes(h.name)) return;
+      if (!known.includes(h.name)) {
+        if (strict) faults.push(new CsvError(`Line ${lineNo}: ${h.name ? `the column "${h.name}" is not one this file takes` : `column ${i + 1} has no name`}; expected ${expected}.`, lineNo, h.name || null, i + 1));
+        return;
+      }
       const c = h.name as C;
-      if (index[c] !== undefined) throw new CsvError(`Line ${lineNo}: the column "${c}" appears twice (columns ${index[c]! + 1} and ${i + 1}).`, lineNo, c, i + 1);
-      index[c] = i;
+      if (index[c] === undefined) index[c] = i;
+      else faults.push(new CsvError(`Line ${lineNo}: the column "${c}" appears twice (columns ${index[c]! + 1} and ${i + 1}).`, lineNo, c, i + 1));
     });
     const missing = required.filter((c) => index[c] === undefined);
     if (missing.length > 0) {
-      throw new CsvError(`Line ${lineNo}: the header lacks ${missing.join(", ")}; expected ${expected}, found ${cells.map((h) => `"${h.name}"`).join(", ")}.`, lineNo, missing[0]!);
+      faults.push(new CsvError(`Line ${lineNo}: the header lacks ${missing.join(", ")}; expected ${expected}, found ${cells.map((h) => `"${h.name}"`).join(", ")}.`, lineNo, missing[0]!));
+    }
+    if (faults.length === 1) throw faults[0]!;
+    if (faults.length > 1) {
+      const [first] = faults;
+      throw new CsvError(faults.map((f, k) => (k === 0 ? f.message : f.message.replace(/^Line \d+: /, ""))).join(" "), lineNo, first!.column, first!.columnNo, faults);
     }
     this.requiredLast = Math.max(...required.map((c) => index[c]!));
     this.needed = Math.max(this.requiredLast, ...optional.map((c) => index[c] ?? 0)) + 1;
