@@ -22,6 +22,7 @@ import { describe, expect, it } from "vitest";
 import { findHalfCycles } from "@/lib/assessment/half-cycles";
 import { halfCycleAsymmetry } from "@/lib/assessment/load-or-valve";
 import { curveFitIndex } from "@/lib/assessment/stiction";
+import { logAreaRatio } from "../helpers/area-ratio";
 import { mulberry32, normal } from "../helpers/seeded-random";
 
 /** AR(2) series of n samples (after 2,000 samples of burn-in), plus white noise of `noise` times its sd. */
@@ -53,30 +54,10 @@ function meanSe(v: number[]): { m: number; se: number } {
   return { m, se: sd / Math.sqrt(v.length) };
 }
 
-/** Singhal & Salsbury's area ratio, log(A1/A2) about the half-cycle's peak (read on the finder's smoothing), per half-cycle of the shared finder. */
+/** Singhal & Salsbury's area ratio per half-cycle of the shared finder, the peak read on the finder's smoothing. */
 function logAreaRatios(x: Float64Array, P: number): number[] {
   const hc = findHalfCycles(x, P);
-  const out: number[] = [];
-  for (const [a, b] of hc.spans) {
-    let sum = 0;
-    for (let i = a; i < b; i++) sum += hc.x[i]!;
-    const sg = sum >= 0 ? 1 : -1;
-    let pk = a;
-    for (let i = a; i < b; i++) if (sg * hc.s[i]! > sg * hc.s[pk]!) pk = i;
-    let A1 = 0;
-    let A2 = 0;
-    for (let i = a; i < b; i++) {
-      const v = sg * hc.x[i]!;
-      if (i < pk) A1 += v;
-      else if (i > pk) A2 += v;
-      else {
-        A1 += v / 2;
-        A2 += v / 2;
-      }
-    }
-    if (A1 > 0 && A2 > 0) out.push(Math.log(A1 / A2));
-  }
-  return out;
+  return hc.spans.map(([a, b]) => logAreaRatio(hc.x, hc.s, a, b)).filter((v): v is number => v !== null);
 }
 
 const SEEDS = Array.from({ length: 24 }, (_, i) => 9001 + i);
