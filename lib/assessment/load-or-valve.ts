@@ -54,7 +54,7 @@
  * Eng. Practice 15, 2007, from memory), point outside too; they are checked elsewhere
  * (diagnosis.ts, the live site grouping).
  */
-import { findHalfCycles, movingAverage } from "./half-cycles";
+import { findHalfCycles } from "./half-cycles";
 import { fmt } from "./oscillation";
 import { longestRun } from "./stiction";
 
@@ -109,11 +109,8 @@ const MIN_HALF_CYCLES = 6;
 /** Time asymmetry q of each half-cycle of x and the times between consecutive jumps (see the header); half-cycles with a set-point move are left out. */
 export function halfCycleAsymmetry(x: Float64Array, sp: Float64Array | null, periodSamples: number): { q: number[]; lengths: number[] } {
   const hc = findHalfCycles(x, periodSamples);
-  // Centred light smoothing (a twentieth of the period) against measurement noise.
-  const w = Math.max(1, Math.round(periodSamples / 20));
-  const causal = movingAverage(hc.x, w);
-  const shift = Math.floor((w - 1) / 2);
-  const s = (i: number) => causal[Math.min(causal.length - 1, i + shift)]!;
+  // The finder's centred light smoothing (a twentieth of the period) against measurement noise.
+  const s = (i: number) => hc.s[i]!;
   const q: number[] = [];
   const lengths: number[] = [];
   let prevEnd = -1;

@@ -16,8 +16,11 @@
  * between the first and last sign change between two excursions beyond a quarter of the RMS,
  * the samples strictly inside two boundaries): a stationary Gaussian linear process is
  * time-reversible (Weiss, J. Appl. Probab. 12, 1975; from memory), so a direction-free finder
- * gives it a mean log R of zero. `--reversible` checks that on Gaussian AR(2) series, beside
- * the shared finder's readings (half-cycles.ts; load-or-valve.ts's time asymmetry).
+ * gives it a mean log R of zero. The study first had a finder of its own for this; since issue
+ * #12's fix the shared one (half-cycles.ts) works this way and is used (the seventh round's
+ * figures in docs/assessment-rounds.md came from the study's own finder, whose length limits
+ * were on the fractional boundaries). `--reversible` checks log R and load-or-valve.ts's time
+ * asymmetry on Gaussian AR(2) series.
  *
  *   node --import tsx tests/bench/pv-shape-study.ts [--study 101,...,110] [--labels a,b] [--out FILE]
  *   node --import tsx tests/bench/pv-shape-study.ts --reversible
@@ -25,12 +28,13 @@
 import { appendFileSync, writeFileSync } from "node:fs";
 import { parseArgs } from "node:util";
 import { assessLoop, buildWindow, parseLoopConfig } from "@/lib/assessment";
-import { fitShape, sineShape } from "@/lib/assessment/half-cycles";
+import { findHalfCycles, fitShape, sineShape, type HalfCycles } from "@/lib/assessment/half-cycles";
 import { halfCycleAsymmetry } from "@/lib/assessment/load-or-valve";
 import { longestRun } from "@/lib/assessment/stiction";
 import { isClosed } from "@/lib/assessment/window";
 import { benchmarkPlan, generateRecording } from "@/simulators/benchmark/generate";
 import { Prng } from "@/simulators/prng";
+import { logAreaRatio } from "../helpers/area-ratio";
 
 const { values: opts } = parseArgs({
   options: {
@@ -41,65 +45,10 @@ const { values: opts } = parseArgs({
   },
 });
 
-/** Mean of x over the `width` samples centred on each one (odd width; shorter at the ends). */
-function centredMean(x: ArrayLike<number>, width: number): Float64Array {
-  const n = x.length;
-  const cum = new Float64Array(n + 1);
-  for (let i = 0; i < n; i++) cum[i + 1] = cum[i]! + x[i]!;
-  const h = Math.floor(width / 2);
-  const out = new Float64Array(n);
-  for (let i = 0; i < n; i++) {
-    const a = Math.max(0, i - h);
-    const b = Math.min(n, i + h + 1);
-    out[i] = (cum[b]! - cum[a]!) / (b - a);
-  }
-  return out;
-}
-
-const odd = (v: number) => 2 * Math.floor(v / 2) + 1;
-
-/** Half-cycles found the same way forward and backward in time (see the header). */
-function symmetricHalfCycles(e: ArrayLike<number>, P: number): { x: Float64Array; s: Float64Array; spans: [number, number][] } | null {
-  const n = e.length;
-  if (!(P >= 8) || n < 2 * P) return null;
-  const mean = centredMean(e, odd(3 * P));
-  const x = new Float64Array(n);
-  for (let i = 0; i < n; i++) x[i] = e[i]! - mean[i]!;
-  const s = centredMean(x, odd(P / 20));
-  let rms = 0;
-  for (let i = 0; i < n; i++) rms += s[i]! * s[i]!;
-  const hyst = 0.25 * Math.sqrt(rms / n);
-  if (!(hyst > 0)) return null;
-  const bounds: number[] = [];
-  let state = 0;
-  let lastExceed = -1;
-  for (let i = 0; i < n; i++) {
-    const sign = s[i]! > hyst ? 1 : s[i]! < -hyst ? -1 : 0;
-    if (sign === 0) continue;
-    if (sign !== state && state !== 0) {
-      let first = -1;
-      let last = -1;
-      for (let k = lastExceed; k < i; k++) {
-        const a = s[k]!;
-        const b = s[k + 1]!;
-        if ((a > 0 && b <= 0) || (a < 0 && b >= 0)) {
-          last = k + a / (a - b);
-          if (first < 0) first = last;
-        }
-      }
-      if (first >= 0) bounds.push((first + last) / 2);
-    }
-    state = sign;
-    lastExceed = i;
-  }
-  const spans: [number, number][] = [];
-  for (let c = 0; c + 1 < bounds.length; c++) {
-    const L = bounds[c + 1]! - bounds[c]!;
-    const a = Math.floor(bounds[c]!) + 1;
-    const b = Math.ceil(bounds[c + 1]!);
-    if (L >= 0.2 * P && L <= 0.8 * P && b - a >= 4) spans.push([a, b]);
-  }
-  return { x, s, spans };
+/** Half-cycles found the same way forward and backward in time (the shared finder, half-cycles.ts, since issue #12's fix). */
+function symmetricHalfCycles(e: ArrayLike<number>, P: number): HalfCycles | null {
+  if (!(P >= 8) || e.length < 2 * P) return null;
+  return findHalfCycles(e, P);
 }
 
 /** A first-order lag (time constant r·L) under a square wave of half-period L, from one zero crossing of its output to the next. */
@@ -131,28 +80,11 @@ function shapeIndices(e: ArrayLike<number>, sp: ArrayLike<number> | null, P: num
   const logR: number[] = [];
   const relay: number[] = [];
   for (const [a, b] of hc.spans) {
-    let sum = 0;
     let moved = false;
-    for (let i = a; i < b; i++) {
-      sum += hc.x[i]!;
-      if (sp && i > a && sp[i] !== sp[i - 1]) moved = true;
-    }
+    for (let i = a + 1; i < b; i++) if (sp && sp[i] !== sp[i - 1]) moved = true;
     if (moved) continue;
-    const sg = sum >= 0 ? 1 : -1;
-    let pk = a;
-    for (let i = a; i < b; i++) if (sg * hc.s[i]! > sg * hc.s[pk]!) pk = i;
-    let A1 = 0;
-    let A2 = 0;
-    for (let i = a; i < b; i++) {
-      const v = sg * hc.x[i]!;
-      if (i < pk) A1 += v;
-      else if (i > pk) A2 += v;
-      else {
-        A1 += v / 2;
-        A2 += v / 2;
-      }
-    }
-    if (A1 > 0 && A2 > 0) logR.push(Math.log(A1 / A2));
+    const r = logAreaRatio(hc.x, hc.s, a, b);
+    if (r !== null) logR.push(r);
     const L = b - a;
     const eSin = fitShape(hc.x, a, b, sineShape(L));
     const eRelay = Math.min(...RELAY_R.map((r) => fitShape(hc.x, a, b, relayShape(L, r))));
