@@ -115,6 +115,15 @@ const FAST_TAU = 5;
 
 const clamp = (v: number, lo = 0.3, hi = 0.95) => Math.min(hi, Math.max(lo, v));
 
+/**
+ * Both dead-time yardsticks (Harris index above 3, disturbance time above 15 dead times) are stated
+ * against the apparent dead time a step test shows; against the transport delay alone, a well-tuned
+ * loop on a process with a second lag reads sluggish (cross-check set: docs/assessment.md, "Harris
+ * index", "Which dead time").
+ */
+export const DEAD_TIME_NOTE =
+  "measured against the configured dead time: it should be the apparent one a step test shows (the transport delay plus about half of a second lag); against the transport delay alone a well-tuned loop on a lagged process reads this way";
+
 export function diagnose(x: DiagnosisInput): Diagnosis {
   const figures = temperForCompression(diagnoseFigures(x), { compressed: x.compressed, oscillationDetected: x.oscillation.detected, saturation: x.saturation });
   // the set-point response's overshoot (setpoint-overshoot.ts): not read from the error's correlation, so after the compression cap
@@ -294,6 +303,7 @@ function diagnoseFigures(x: DiagnosisInput): Diagnosis {
     if (slow) ev.push(`the slowest disturbance-response pole has a time constant of ${fmt(x.disturbanceTimeToDeadTime!, 0)} dead times; tuning for τc of one to a few dead times (SIMC, Skogestad 2003) removes disturbances far faster`);
     if (spSlow) ev.push(x.setPoint!.line!);
     if (idle !== null) ev.push(`idle index ${fmt(idle)} (${idle > 0.6 ? "near +1: sluggish" : "not a sign by itself: near +1 would be sluggish"}; Hägglund 1999)`);
+    if (((harris !== null && harris > SLUGGISH_HARRIS) || slow) && !spSlow) ev.push(DEAD_TIME_NOTE);
     // A work item only when the Harris index and the disturbance time agree, or the loop's own
     // set-point response is slow (tuning-confidence.ts).
     const c = sluggishConfidence({ harris: harris !== null && harris > SLUGGISH_HARRIS, slow, noSwing: noSwing || wander !== null, idle: idle !== null && idle > 0.6, setPoint: spSlow, hasEstimators: x.disturbanceTimeToDeadTime !== null || harris !== null });
