@@ -69,6 +69,16 @@ function resolvePath(p: string): string {
   return path.resolve(process.env.INIT_CWD ?? process.cwd(), p);
 }
 
+/** A file that cannot be read, in words (the system's code stays at the end for searching). */
+function readProblem(e: unknown): string {
+  const code = (e as NodeJS.ErrnoException | null)?.code;
+  if (code === "ENOENT") return "no such file (ENOENT)";
+  if (code === "EACCES" || code === "EPERM") return `not readable: permission denied (${code})`;
+  if (code === "EISDIR") return "is a folder, not a file (EISDIR)";
+  if (e instanceof SyntaxError) return `not valid JSON: ${e.message}`;
+  return e instanceof Error ? e.message : String(e);
+}
+
 function main(): number {
   const args = parseArgs(process.argv.slice(2));
   if (typeof args === "string") {
@@ -79,14 +89,14 @@ function main(): number {
   try {
     configJson = JSON.parse(withoutBom(decodeText(readFileSync(resolvePath(args.config)))));
   } catch (e) {
-    process.stderr.write(`${args.config}: ${e instanceof Error ? e.message : String(e)}\n`);
+    process.stderr.write(`${args.config}: ${readProblem(e)}\n`);
     return 1;
   }
   let text: string;
   try {
     text = decodeText(readFileSync(resolvePath(args.file)));
   } catch (e) {
-    process.stderr.write(`${args.file}: ${e instanceof Error ? e.message : String(e)}\n`);
+    process.stderr.write(`${args.file}: ${readProblem(e)}\n`);
     return 1;
   }
   try {

@@ -124,6 +124,22 @@ describe("npm run -s assess", () => {
     }
   });
 
+  it("a file or loop file that cannot be read exits 1 saying why in words, naming the file", () => {
+    const missing = path.join(dir, "no-such-export.csv");
+    const r = run([missing, "--config", loop, "--json"]);
+    expect(r.status).toBe(1);
+    expect(r.stdout).toBe("");
+    expect(r.stderr).toContain(`${missing}: no such file`);
+    const folder = run([dir, "--config", loop, "--json"]);
+    expect(folder.status).toBe(1);
+    expect(folder.stderr).toContain(`${dir}: is a folder, not a file`);
+    const notJson = path.join(dir, "not-json.json");
+    writeFileSync(notJson, "{ tag: FIC-310 }");
+    const c = run([csv, "--config", notJson, "--json"]);
+    expect(c.status).toBe(1);
+    expect(c.stderr).toContain(`${notJson}: not valid JSON`);
+  });
+
   it("a file with only a header exits 1 naming line 1", () => {
     expectRefused("header-only.csv", "t,sp,pv,mv\r\n", /Line 1: only 0 data rows/);
   });
