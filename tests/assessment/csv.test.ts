@@ -5,16 +5,9 @@
  */
 import { describe, expect, it } from "vitest";
 import { AssessCsvError, parseAssessCsv } from "@/lib/assessment";
+import { itRefuses, thrown } from "../helpers/thrown";
 
-function errorOf(text: string): AssessCsvError {
-  try {
-    parseAssessCsv(text);
-  } catch (e) {
-    if (e instanceof AssessCsvError) return e;
-    throw e;
-  }
-  throw new Error("expected an AssessCsvError");
-}
+const errorOf = (text: string): AssessCsvError => thrown(() => parseAssessCsv(text), AssessCsvError);
 
 describe("parseAssessCsv", () => {
   it("reads t,sp,pv,mv,mode in seconds", () => {
@@ -124,12 +117,5 @@ describe("parseAssessCsv on hostile exports", () => {
     ["numeric mode codes", "t,sp,pv,mv,mode\n0,1,2,3,1\n1,1,2,3,0\n", 2, "mode", /Numeric mode codes differ/],
     ["a header only", "t,sp,pv,mv\r\n", 1, "", /only 0 data rows/],
   ];
-  for (const [name, text, line, column, message] of refused) {
-    it(`refuses ${name}, naming line ${line}${column ? ` and column ${column}` : ""}`, () => {
-      const e = errorOf(text);
-      expect(e.line).toBe(line);
-      if (column) expect(e.column).toBe(column);
-      expect(e.message).toMatch(message);
-    });
-  }
+  itRefuses(refused, errorOf);
 });

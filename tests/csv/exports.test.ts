@@ -8,6 +8,7 @@
  */
 import { describe, expect, it } from "vitest";
 import { CsvError, CsvTable, decodeText, lineReader, LineSplitter, NumberReader, TextSniffer, TimeColumn, TOO_LONG, withoutBom } from "@/lib/csv";
+import { itRefuses, thrown } from "../helpers/thrown";
 
 /** A file read with the layer alone: [t, sp, pv, mv] per row (t in seconds), or a CsvError. */
 function read(text: string): { rows: number[][]; cautions: string[]; startTime: string | null } {
@@ -37,15 +38,7 @@ function read(text: string): { rows: number[][]; cautions: string[]; startTime: 
   return { rows, cautions: cells?.time.cautions ?? [], startTime: cells?.time.startTime ?? null };
 }
 
-function errorOf(text: string): CsvError {
-  try {
-    read(text);
-  } catch (e) {
-    if (e instanceof CsvError) return e;
-    throw e;
-  }
-  throw new Error("expected a CsvError");
-}
+const errorOf = (text: string): CsvError => thrown(() => read(text), CsvError);
 
 const utc = (...a: [number, number, number, number, number, number]) => Date.UTC(a[0], a[1] - 1, a[2], a[3], a[4], a[5]) / 1000;
 const rows = (text: string) => read(text).rows;
@@ -129,14 +122,7 @@ describe("the CSV layer on hostile exports", () => {
     ["a column named twice", "t,sp,pv,mv,SP\n0,1,2,3,1\n", 1, "sp", /the column "sp" appears twice \(columns 2 and 5\)/],
     ["an empty file", "", 1, "", /The file is empty/],
   ];
-  for (const [name, text, line, column, message] of refused) {
-    it(`refuses ${name}, naming line ${line}${column ? ` and column ${column}` : ""}`, () => {
-      const e = errorOf(text);
-      expect(e.line).toBe(line);
-      if (column) expect(e.column).toBe(column);
-      expect(e.message).toMatch(message);
-    });
-  }
+  itRefuses(refused, errorOf);
 });
 
 describe("lines and text of a stream", () => {
