@@ -27,14 +27,13 @@
  */
 import { fmt } from "./oscillation";
 import type { AcfDecay } from "./acf-decay";
-import { agreeingSigns } from "./setpoint-overshoot";
+import { withAggressiveSign } from "./setpoint-overshoot";
 import type { Diagnosis } from "./types";
 
 /** Least phase margin of the usual design ranges, degrees (common practice; see above). */
 export const MIN_PHASE_MARGIN_DEG = 30;
-/** Confidence of the ceiling alone, and the step per sign in the data that agrees (ours). */
+/** Confidence of the ceiling alone (ours); each agreeing sign in the data adds 0.1 (setpoint-overshoot.ts). */
 const ALONE = 0.65;
-const AGREEING = 0.1;
 
 /** Best phase margin (degrees) of a PI loop on an integrating process with dead time θ, for r = Ti/θ. */
 export function phaseMarginCeilingDeg(tiOverDead: number): number {
@@ -65,15 +64,13 @@ export interface CeilingContext {
 /**
  * A ceiling below MIN_PHASE_MARGIN_DEG turns a healthy or sluggish verdict into an aggressive
  * finding (the loop rings at every gain), stronger with the error's weak ringing signs
- * (setpoint-overshoot.ts, agreeingSigns); an aggressive verdict gains the line.
+ * (setpoint-overshoot.ts, withAggressiveSign); an aggressive verdict gains the line.
  */
 export function withPhaseCeiling(d: Diagnosis, p: PhaseCeiling | null, x: CeilingContext): Diagnosis {
   if (p === null || p.ceilingDeg >= MIN_PHASE_MARGIN_DEG) return d;
   const line = `with an integral time of ${fmt(p.tiS, 1)} s against the entered dead time of ${fmt(p.deadTimeS, 1)} s (${fmt(p.tiS / p.deadTimeS, 1)} dead times), a PI controller on an integrating process has a phase margin of at most ${fmt(p.ceilingDeg, 0)}° whatever its gain, below the ${MIN_PHASE_MARGIN_DEG}° of the usual design ranges (common practice): an integral time of at least 3.3 dead times is needed for that, SIMC asks for 8 or more (Skogestad 2003)`;
-  if (d.label === "aggressive-tuning") return { ...d, confidence: Math.min(0.95, d.confidence + AGREEING), evidence: [...d.evidence, line] };
-  if (d.label !== "healthy" && d.label !== "sluggish-tuning") return d;
-  const agree = agreeingSigns(x);
-  const ev = [`likely aggressive tuning: ${line}`, ...agree];
-  if (agree.length === 0) ev.push("the data do not show the ringing clearly (slow loads through the level can hide it); the ceiling rests on the entered dead time, so check that value first");
-  return { label: "aggressive-tuning", confidence: ALONE + AGREEING * agree.length, evidence: ev };
+  return withAggressiveSign(d, line, x, {
+    alone: ALONE,
+    loneNote: "the data do not show the ringing clearly (slow loads through the level can hide it); the ceiling rests on the entered dead time, so check that value first",
+  });
 }

@@ -67,12 +67,27 @@ const QUARTER_SWING = 0.5;
 export function withSetPointOvershoot(d: Diagnosis, x: OvershootContext): Diagnosis {
   const line = x.overshoot ?? null;
   if (line === null || x.slow) return d;
+  return withAggressiveSign(d, line, x, { alone: ALONE, loneNote: "a possible finding, not a certain one: one sign only; a closed-loop set-point step test would decide" });
+}
+
+/**
+ * One sign of aggressive tuning read outside the error's own figures (the set-point overshoot, the
+ * phase-margin ceiling of level-phase-ceiling.ts) added to a diagnosis: an aggressive verdict gains
+ * AGREEING and the line; a healthy or sluggish one becomes aggressive at `alone`, plus AGREEING per
+ * agreeing ringing sign (with `loneNote` when there is none); any other verdict stands.
+ */
+export function withAggressiveSign(
+  d: Diagnosis,
+  line: string,
+  x: { ringDepth: number | null; acfDecay: AcfDecay | null | undefined },
+  o: { alone: number; loneNote: string },
+): Diagnosis {
   if (d.label === "aggressive-tuning") return { ...d, confidence: Math.min(0.95, d.confidence + AGREEING), evidence: [...d.evidence, line] };
   if (d.label !== "healthy" && d.label !== "sluggish-tuning") return d;
   const agree = agreeingSigns(x);
   const ev = [`likely aggressive tuning: ${line}`, ...agree];
-  if (agree.length === 0) ev.push("a possible finding, not a certain one: one sign only; a closed-loop set-point step test would decide");
-  return { label: "aggressive-tuning", confidence: ALONE + AGREEING * agree.length, evidence: ev };
+  if (agree.length === 0) ev.push(o.loneNote);
+  return { label: "aggressive-tuning", confidence: o.alone + AGREEING * agree.length, evidence: ev };
 }
 
 /**
