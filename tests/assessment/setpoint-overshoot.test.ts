@@ -13,15 +13,12 @@
  * - the verdict: an aggressive loop whose error ringing is buried by a slow load reads healthy or
  *   sluggish from the error alone and aggressive with the set-point overshoot.
  */
-import { readFileSync } from "node:fs";
-import { dirname, join } from "node:path";
-import { fileURLToPath } from "node:url";
 import { describe, expect, it } from "vitest";
 import { assessLoop, parseLoopConfig } from "@/lib/assessment";
 import { GOOD_OVERSHOOT, OVERSHOOT_LIMIT, withSetPointOvershoot } from "@/lib/assessment/setpoint-overshoot";
 import { setPointResponse, setPointSigns } from "@/lib/assessment/setpoint-response";
 import { flowLoopJson, irregularSetPointSteps, simulateLoop } from "./loop-sim";
-import { pythonHas, staleFixture } from "../helpers/python";
+import { pythonHas, referenceFixture, staleReference } from "../helpers/python";
 
 interface LoopCase {
   name: string;
@@ -31,15 +28,13 @@ interface LoopCase {
   d: number;
   overshoot: number;
 }
-const here = dirname(fileURLToPath(import.meta.url));
-const fixtureText = readFileSync(join(here, "../reference/fixtures/setpoint-overshoot.json"), "utf8");
-const fixture = JSON.parse(fixtureText) as { loops: LoopCase[]; survey: { plant: string; ratioOrLag: number; tuning: string; overshoot: number }[] };
+const fixture = referenceFixture<{ loops: LoopCase[]; survey: { plant: string; ratioOrLag: number; tuning: string; overshoot: number }[] }>("setpoint-overshoot.json");
 const hasScipy = pythonHas("numpy, scipy");
 const loop = (name: string) => fixture.loops.find((c) => c.name === name)!;
 
 describe("set-point overshoot as a sign of aggressive tuning", () => {
   it.skipIf(!hasScipy)("the fixture is up to date with its scipy generator", () => {
-    expect(staleFixture(join(here, "../reference/generate_setpoint_overshoot.py"), join(here, "../reference/fixtures/setpoint-overshoot.json"))).toBeNull();
+    expect(staleReference("generate_setpoint_overshoot.py", "setpoint-overshoot.json")).toBeNull();
   });
 
   it("the limits lie above every SIMC loop of the scipy survey and below every aggressive one", () => {

@@ -16,14 +16,11 @@
  * 10 of 10 seeds). Swanda & Seborg (Proc. ACC 1999; from memory) judge
  * a PI loop by its set-point response time against its dead time in the same way.
  */
-import { readFileSync } from "node:fs";
-import { dirname, join } from "node:path";
-import { fileURLToPath } from "node:url";
 import { describe, expect, it } from "vitest";
 import { assessLoop, parseLoopConfig } from "@/lib/assessment";
 import { setPointResponse, setPointSigns } from "@/lib/assessment/setpoint-response";
 import { flowLoopJson, irregularSetPointSteps, simulateLoop } from "./loop-sim";
-import { pythonHas, staleFixture } from "../helpers/python";
+import { pythonHas, referenceFixture, staleReference } from "../helpers/python";
 
 interface RefCase {
   name: string;
@@ -34,9 +31,7 @@ interface RefCase {
   t20S: number;
   t63S: number;
 }
-const here = dirname(fileURLToPath(import.meta.url));
-const fixtureText = readFileSync(join(here, "../reference/fixtures/setpoint-response.json"), "utf8");
-const fixture = JSON.parse(fixtureText) as { cases: RefCase[] };
+const fixture = referenceFixture<{ cases: RefCase[] }>("setpoint-response.json");
 const hasScipy = pythonHas("numpy, scipy");
 const ref = (name: string) => fixture.cases.find((c) => c.name === name)!;
 
@@ -49,7 +44,7 @@ function responseOf(samples: ReturnType<typeof simulateLoop>, ti: number) {
 
 describe("set-point response from routine data", () => {
   it.skipIf(!hasScipy)("the fixture is up to date with its scipy generator", () => {
-    expect(staleFixture(join(here, "../reference/generate_setpoint_response.py"), join(here, "../reference/fixtures/setpoint-response.json"))).toBeNull();
+    expect(staleReference("generate_setpoint_response.py", "setpoint-response.json")).toBeNull();
   });
 
   it.each([

@@ -16,9 +16,6 @@
  *   rise with it (a lightly damped mode's hump) is no outside cycle; the same peak standing 30×
  *   above them is.
  */
-import { readFileSync } from "node:fs";
-import { dirname, join } from "node:path";
-import { fileURLToPath } from "node:url";
 import { describe, expect, it } from "vitest";
 import { assessLoop, parseLoopConfig } from "@/lib/assessment";
 import { diagnose } from "@/lib/assessment/diagnosis";
@@ -26,7 +23,7 @@ import { isLine, settledMask, strongestLine } from "@/lib/assessment/spectral-li
 import { Prng } from "@/simulators/prng";
 import { diagnosisInput } from "./diagnosis-input";
 import { flowLoopJson, simulateLoop } from "./loop-sim";
-import { pythonHas, staleFixture } from "../helpers/python";
+import { pythonHas, referenceFixture, staleReference } from "../helpers/python";
 
 interface RefCase {
   name: string;
@@ -34,9 +31,7 @@ interface RefCase {
   settle2pct: number;
   e: number[];
 }
-const here = dirname(fileURLToPath(import.meta.url));
-const fixtureText = readFileSync(join(here, "../reference/fixtures/settling.json"), "utf8");
-const fixture = JSON.parse(fixtureText) as { cases: RefCase[] };
+const fixture = referenceFixture<{ cases: RefCase[] }>("settling.json");
 const hasScipy = pythonHas("numpy, scipy");
 
 /** The error trace of a case after 100 samples at rest, with its set point (span 100). */
@@ -53,7 +48,7 @@ function traceOf(c: RefCase): { e: Float64Array; sp: Float64Array } {
 
 describe("set-point moves left out of the line test", () => {
   it.skipIf(!hasScipy)("the fixture is up to date with its scipy generator", () => {
-    expect(staleFixture(join(here, "../reference/generate_settling.py"), join(here, "../reference/fixtures/settling.json"))).toBeNull();
+    expect(staleReference("generate_settling.py", "settling.json")).toBeNull();
   });
 
   it.each([

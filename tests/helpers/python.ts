@@ -1,6 +1,7 @@
 import { spawnSync } from "node:child_process";
 import { readFileSync } from "node:fs";
 import { existsSync } from "node:fs";
+import { join } from "node:path";
 
 /**
  * The interpreter every reference check runs: $RG_PYTHON or $PYTHON, else Debian's python3 (where `.ci/run`
@@ -57,4 +58,16 @@ export function staleFixture(generator: string, fixturePath: string): string | n
   const run = spawnSync(PYTHON, [generator, "--stdout"], { encoding: "utf8", maxBuffer: 64 << 20, env: { ...process.env, PYTHONDONTWRITEBYTECODE: "1" } });
   if (run.status !== 0) return `${generator} exited ${String(run.status)}: ${run.stderr}`;
   return sameData(JSON.parse(run.stdout), JSON.parse(readFileSync(fixturePath, "utf8")));
+}
+
+const referenceDir = join(import.meta.dirname, "..", "reference");
+
+/** A committed reference fixture, tests/reference/fixtures/NAME, parsed. */
+export function referenceFixture<T>(name: string): T {
+  return JSON.parse(readFileSync(join(referenceDir, "fixtures", name), "utf8")) as T;
+}
+
+/** `staleFixture` for a generator in tests/reference and its fixture in tests/reference/fixtures. */
+export function staleReference(generator: string, fixture: string): string | null {
+  return staleFixture(join(referenceDir, generator), join(referenceDir, "fixtures", fixture));
 }
