@@ -15,7 +15,14 @@ const LINEAR_LIMIT = 0.3;
 /** Fewer distinct PV steps than this read as quantised. */
 const QUANTISED_STEPS = 64;
 
-export function detectCompression(samples: readonly AssessSample[], config: LoopConfig, rawSpacing: number, pvNoisePct: number): CompressionFigures {
+/**
+ * `interpolatedShare`: the window's share of grid points that lie between stored points (window.ts).
+ * An export of the points a historian stored by exception, with their own times, shows no
+ * straight lines itself: they appear when it is replayed on the grid, so the share of made-up
+ * grid points is the same sign as `linearShare` on an export the historian already interpolated,
+ * read against the same limit.
+ */
+export function detectCompression(samples: readonly AssessSample[], config: LoopConfig, rawSpacing: number, pvNoisePct: number, interpolatedShare = 0): CompressionFigures {
   const n = samples.length;
   const span = config.pvHi - config.pvLo;
   let repeats = 0;
@@ -55,9 +62,10 @@ export function detectCompression(samples: readonly AssessSample[], config: Loop
   const reasons: string[] = [];
   if (repeatShare > REPEAT_LIMIT) reasons.push(`${pct(repeatShare)} of PV samples repeat the previous value (held or stale data)`);
   if (linearShare > LINEAR_LIMIT) reasons.push(`${pct(linearShare)} of PV samples lie on straight lines between stored points (interpolated compressed data)`);
+  else if (interpolatedShare > LINEAR_LIMIT) reasons.push(`${pct(interpolatedShare)} of the loop's sample times fall between stored points and are interpolated (points stored by exception)`);
   if (quantisationRatio !== null && quantisationRatio > 2) reasons.push(`the PV moves in steps of ${minStep.toPrecision(3)} ${config.units}, ${quantisationRatio.toFixed(1)}× its noise (coarse quantisation)`);
   if (spacingRatio > 3) reasons.push(`stored points are ${spacingRatio.toFixed(1)}× the loop's sample period apart`);
-  return { compressed: reasons.length > 0, repeatShare, linearShare, quantisationRatio, spacingRatio, reasons };
+  return { compressed: reasons.length > 0, repeatShare, linearShare, interpolatedShare, quantisationRatio, spacingRatio, reasons };
 }
 
 function pct(v: number): string {

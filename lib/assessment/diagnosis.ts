@@ -19,7 +19,7 @@ import { isLine, type SpectralLine } from "./spectral-line";
 import type { AcfDecay } from "./acf-decay";
 import { errorWanderLine, type ErrorWander } from "./error-wander";
 import type { SetPointSigns } from "./setpoint-response";
-import { FURTHER_SIGN, HEALTHY, sluggishConfidence, temperForCompression, temperForWeakCycle } from "./tuning-confidence";
+import { FURTHER_SIGN, HEALTHY, ONE_SIGN, sluggishConfidence, temperForCompression, temperForWeakCycle } from "./tuning-confidence";
 import { withSetPointOvershoot } from "./setpoint-overshoot";
 import { withPhaseCeiling, type PhaseCeiling } from "./level-phase-ceiling";
 import type { Diagnosis, StictionFigures } from "./types";
@@ -205,6 +205,20 @@ function diagnoseFigures(x: DiagnosisInput): Diagnosis {
     // could make it (coherent-line.ts, ownModeLine); otherwise the decay is the loop's own.
     if (isLine(x.spectralLine) && !sustained && !mayBeOwnMode(x.spectralLine!)) {
       return { label: "external-disturbance", confidence: 0.7, evidence: [lineLine(x.spectralLine!), oscLine, ...x.stiction.evidence] };
+    }
+    if (sustained && x.compressed) {
+      // The shape tests were withheld (compression fakes stick-slip shapes), so the cycle's not
+      // decaying is the only sign: it rules out the loop's own mode, not a sticking valve.
+      return {
+        label: "external-disturbance",
+        confidence: ONE_SIGN,
+        evidence: [
+          "possibly an oscillation from outside: the cycle does not decay (a stable loop's own mode would); a sticking valve's cycle does not decay either, and the export looks compressed, which hides the stick-slip shape that would tell the two apart (Thornhill, Choudhury & Shah 2004); an export of the raw values, or the cycle seen with the loop in manual, would decide",
+          oscLine,
+          `autocorrelation kept ${fmt(persistence)} of its height from one period to the next`,
+          ...x.stiction.evidence,
+        ],
+      };
     }
     if (sustained) {
       return {

@@ -47,7 +47,7 @@ export function assessLoop(input: readonly AssessSample[], config: LoopConfig): 
   const w = buildWindow(samples, config);
   const cautions: string[] = [];
   const usage = computeUsage(w, config);
-  const compression = detectCompression(samples, config, w.rawSpacing, usage.pvNoisePct);
+  const compression = detectCompression(samples, config, w.rawSpacing, usage.pvNoisePct, w.interpolatedShare);
   if (compression.compressed) cautions.push(`The export looks compressed or quantised (${compression.reasons.join("; ")}): stiction and Harris figures are withheld, variances may be low.`);
   if (w.rawSpacing > 1.5 * config.samplePeriodS && !compression.compressed) cautions.push(`Stored points are ${(w.rawSpacing / config.samplePeriodS).toFixed(1)}× the loop's sample period apart; fast dynamics are not seen.`);
   if (w.gapShare > 0.01) cautions.push(`The export has gaps (${(100 * w.gapShare).toFixed(0)} % of the span without data); figures use the data on either side only.`);

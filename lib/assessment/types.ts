@@ -134,6 +134,8 @@ export interface CompressionFigures {
   repeatShare: number;
   /** Share of PV samples on a straight line through their neighbours (interpolated between stored points). */
   linearShare: number;
+  /** Share of the grid's sample times that fall between stored points and are interpolated (points stored by exception, with their own times). */
+  interpolatedShare: number;
   /** Quantisation step over the noise sigma (large: coarse levels). */
   quantisationRatio: number | null;
   /** Median sample spacing over the loop's sample period. */

@@ -41,6 +41,12 @@ export interface AssessWindow {
   badQualityShare: number;
   /** Share of grid points inside gaps of the export (no data; not a quality problem). */
   gapShare: number;
+  /**
+   * Share of the bridged grid points (outside gaps) that lie more than half a grid period from
+   * every stored point: values interpolated between stored points, as an export of points stored
+   * by exception (a dead band or swinging door) reads when replayed; compression.ts.
+   */
+  interpolatedShare: number;
 }
 
 /** A gap in the export longer than this many grid periods (and 60 s) is not bridged. */
@@ -66,6 +72,7 @@ export function buildWindow(samples: readonly AssessSample[], config: LoopConfig
   const good = new Uint8Array(n);
   let hasMode = false;
   let gaps = 0;
+  let interpolated = 0;
   const gapS = Math.max(GAP_PERIODS * T, 60);
   // Last good values, to hold across bad samples.
   let lastSp = NaN;
@@ -95,6 +102,7 @@ export function buildWindow(samples: readonly AssessSample[], config: LoopConfig
       good[i] = 0;
     }
     if (inGap) gaps++;
+    else if (b !== a && Math.min(t - a.t, b.t - t) > 0.5 * T * (1 + 1e-9)) interpolated++;
     sp[i] = lastSp;
     pv[i] = lastPv;
     mv[i] = lastMv;
@@ -117,7 +125,7 @@ export function buildWindow(samples: readonly AssessSample[], config: LoopConfig
   }
   let rawBad = 0;
   for (const s of samples) if (s.quality === "bad" || !Number.isFinite(s.pv)) rawBad++;
-  return { T, n, sp, pv, mv, e, pvPct, mode, good, hasMode, pvSpan, rawSpacing, samples: nRaw, spanS, badQualityShare: nRaw ? rawBad / nRaw : 0, gapShare: n ? gaps / n : 0 };
+  return { T, n, sp, pv, mv, e, pvPct, mode, good, hasMode, pvSpan, rawSpacing, samples: nRaw, spanS, badQualityShare: nRaw ? rawBad / nRaw : 0, gapShare: n ? gaps / n : 0, interpolatedShare: n > gaps ? interpolated / (n - gaps) : 0 };
 }
 
 /** True where the loop runs in its designed closed-loop mode (auto or cascade), or mode unknown. */

@@ -153,6 +153,21 @@ export function compressEvery(s: readonly AssessSample[], every: number): Assess
   return out;
 }
 
+/**
+ * The points a dead-band (exception) historian stores, each with its own time, as a "raw values"
+ * export gives them: the first, every sample whose PV or MV has moved more than its band since the
+ * last stored one, and the last (common practice in historians).
+ */
+export function storeByException(s: readonly AssessSample[], pvBand: number, mvBand: number): AssessSample[] {
+  const out: AssessSample[] = [s[0]!];
+  for (let i = 1; i < s.length - 1; i++) {
+    const last = out[out.length - 1]!;
+    if (Math.abs(s[i]!.pv - last.pv) > pvBand || Math.abs(s[i]!.mv - last.mv) > mvBand) out.push(s[i]!);
+  }
+  if (s.length > 1) out.push(s[s.length - 1]!);
+  return out;
+}
+
 /** Set-point steps of about 5 % at irregular intervals of 0.7–1.3 × `every` samples (a regular square wave would read as an outside cycle). */
 export function irregularSetPointSteps(n: number, every: number): { at: number; sp: number }[] {
   const out: { at: number; sp: number }[] = [];
