@@ -12,6 +12,8 @@ import type { AssessSample, CompressionFigures } from "./types";
 /** More than this share of repeated or collinear PV samples reads as compressed/stale. */
 const REPEAT_LIMIT = 0.3;
 const LINEAR_LIMIT = 0.3;
+/** At least this share of spacings within 10 % of the median makes a fixed-interval export. */
+const REGULAR_SHARE = 0.9;
 /** Fewer distinct PV steps than this read as quantised. */
 const QUANTISED_STEPS = 64;
 
@@ -59,12 +61,19 @@ export function detectCompression(samples: readonly AssessSample[], config: Loop
   const noise = (pvNoisePct * span) / 100;
   const quantisationRatio = Number.isFinite(minStep) && noise > 0 && steps.size < QUANTISED_STEPS ? minStep / noise : null;
   const spacingRatio = rawSpacing / config.samplePeriodS;
+  // A fixed-interval export (nearly every spacing within 10 % of the median) is a sampled signal,
+  // snapshots at a coarser period than the loop's, not compression: what a historian's storage
+  // does to a fixed-interval export shows as repeats or straight lines (the rules above), so wide
+  // spacing counts as compression only when the stored points are irregular (ours).
+  let onStep = 0;
+  for (let i = 1; i < n; i++) if (Math.abs(samples[i]!.t - samples[i - 1]!.t - rawSpacing) <= 0.1 * rawSpacing) onStep++;
+  const fixedInterval = n > 1 && onStep >= REGULAR_SHARE * (n - 1);
   const reasons: string[] = [];
   if (repeatShare > REPEAT_LIMIT) reasons.push(`${pct(repeatShare)} of PV samples repeat the previous value (held or stale data)`);
   if (linearShare > LINEAR_LIMIT) reasons.push(`${pct(linearShare)} of PV samples lie on straight lines between stored points (interpolated compressed data)`);
   else if (interpolatedShare > LINEAR_LIMIT) reasons.push(`${pct(interpolatedShare)} of the loop's sample times fall between stored points and are interpolated (points stored by exception)`);
   if (quantisationRatio !== null && quantisationRatio > 2) reasons.push(`the PV moves in steps of ${minStep.toPrecision(3)} ${config.units}, ${quantisationRatio.toFixed(1)}× its noise (coarse quantisation)`);
-  if (spacingRatio > 3) reasons.push(`stored points are ${spacingRatio.toFixed(1)}× the loop's sample period apart`);
+  if (spacingRatio > 3 && !fixedInterval) reasons.push(`stored points are ${spacingRatio.toFixed(1)}× the loop's sample period apart, at irregular times`);
   return { compressed: reasons.length > 0, repeatShare, linearShare, interpolatedShare, quantisationRatio, spacingRatio, reasons };
 }
 

@@ -86,4 +86,27 @@ describe("exports of points stored by exception (own times)", () => {
     }
     expect(sustained).toBeGreaterThan(0);
   });
+
+  it("a fixed-interval export at a coarser period than the loop's is sampled, not compressed; the same spacing at irregular times is (10 seeds)", () => {
+    const rng = new Prng(11);
+    let stiction = 0;
+    for (let seed = 1; seed <= 10; seed++) {
+      const raw = stickingValve(seed);
+      const snapshots = raw.filter((_, i) => i % 4 === 0);
+      const r = assessLoop(snapshots, config());
+      expect(r.details.compression.compressed, `seed ${seed}`).toBe(false);
+      expect(r.details.compression.spacingRatio).toBeCloseTo(4, 9);
+      expect(r.cautions.join(" ")).toMatch(/4\.0× the loop's sample period apart; fast dynamics are not seen/);
+      expect(r.harrisIndex).not.toBeNull();
+      if (r.diagnosis.label === "valve-stiction") stiction++;
+      // the same mean spacing, drawn from 1 to 7 samples: stored at irregular times
+      const irregular: AssessSample[] = [];
+      for (let i = 0; i < raw.length; i += 1 + Math.floor(rng.uniform(0, 7))) irregular.push(raw[i]!);
+      const q = assessLoop(irregular, config());
+      expect(q.details.compression.compressed, `seed ${seed}`).toBe(true);
+      expect(q.harrisIndex).toBeNull();
+    }
+    expect(stiction).toBeGreaterThanOrEqual(6);
+  });
 });
+
