@@ -93,7 +93,10 @@ export function dataCautions(samples: readonly AssessSample[], config: LoopConfi
     for (let i = 1; i < samples.length; i++) d[i - 1] = samples[i]!.t - samples[i - 1]!.t;
     const spacing = median(d);
     if (spacing < DENSE * config.samplePeriodS) {
-      out.push(`Stored points are ${fmt(spacing)} s apart, under 1/100 of the loop's ${fmt(config.samplePeriodS)} s sample period: check the unit of the time column.`);
+      // a spreadsheet's serial date-time counts days (since 1899-12-30: about 20,000 to 80,000 for the years 1955 to 2119)
+      const t0 = samples[0]!.t;
+      const days = t0 > 20_000 && t0 < 80_000 && spacing * 86_400 > 0.2 * config.samplePeriodS && spacing * 86_400 < 5 * config.samplePeriodS;
+      out.push(`Stored points are ${fmt(spacing)} s apart, under 1/100 of the loop's ${fmt(config.samplePeriodS)} s sample period: check the unit of the time column${days ? ` (the times look like a spreadsheet's serial days, ${fmt(spacing * 86_400)} s apart if read so: write "t [d]" in the header, or export seconds or date-times with a zone)` : ""}.`);
     }
   }
   return out;

@@ -29,7 +29,7 @@ export class TimeColumn {
     private readonly numbers: NumberReader,
   ) {
     const scale = unit === null ? 1 : TIME_UNITS[unit.toLowerCase()];
-    if (scale === undefined) throw new CsvError(`Line ${where.line}: time unit "${unit}" is not one of s, ms, min, h.`, where.line, "t", where.column + 1);
+    if (scale === undefined) throw new CsvError(`Line ${where.line}: time unit "${unit}" is not one of s, ms, min, h, d.`, where.line, "t", where.column + 1);
     this.scale = scale;
     this.unitGiven = unit !== null;
   }

@@ -37,6 +37,7 @@ export const TIME_UNITS: Record<string, number> = {
   ms: 0.001, msec: 0.001, millisecond: 0.001, milliseconds: 0.001,
   min: 60, minute: 60, minutes: 60,
   h: 3600, hr: 3600, hour: 3600, hours: 3600,
+  d: 86400, day: 86400, days: 86400,
 };
 
 /**

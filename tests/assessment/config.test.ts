@@ -84,4 +84,12 @@ describe("dataCautions", () => {
     const day = 1 / 86_400;
     expect(dataCautions([at(46_000, 50, 50), at(46_000 + day, 50, 50), at(46_000 + 2 * day, 50, 50)], config).join(" ")).toMatch(/check the unit of the time column/);
   });
+
+  it("says when such times look like a spreadsheet's serial days (days since 1899-12-30; 46,000 is in 2025), and only then", () => {
+    const day = 1 / 86_400;
+    const serial = dataCautions([at(46_000, 50, 50), at(46_000 + day, 50, 50), at(46_000 + 2 * day, 50, 50)], config).join(" ");
+    expect(serial).toMatch(/look like a spreadsheet's serial days, 1 s apart if read so: write "t \[d\]" in the header/);
+    const ms = 0.001;
+    expect(dataCautions([at(0, 50, 50), at(ms, 50, 50), at(2 * ms, 50, 50)], config).join(" ")).not.toMatch(/serial days/);
+  });
 });

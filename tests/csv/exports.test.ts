@@ -69,6 +69,13 @@ describe("the CSV layer on hostile exports", () => {
     });
   }
 
+  it("reads a time column in days (a spreadsheet's serial date-time, header t [d]) as seconds", () => {
+    // 46,000.5 days and one second later (0.5 + 1/86,400 day): 43,200 s and 43,201 s past day 46,000
+    const out = rows("t [d],sp,pv,mv\n46000.5,50.5,49.25,30\n46000.50001157407,50.5,49.5,31\n");
+    expect(out[0]![0]).toBe(46_000.5 * 86_400);
+    expect(out[1]![0]! - out[0]![0]!).toBeCloseTo(1, 3);
+  });
+
   it("reads ISO 8601 variants: fraction (point or comma), Z or UTC, a space for T, offsets +0530, +05:30, -03", () => {
     const t0 = utc(2026, 3, 1, 0, 0, 0);
     const text = [
