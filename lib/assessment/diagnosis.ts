@@ -18,6 +18,7 @@ import type { SensorFigures } from "./sensor";
 import { isLine, type SpectralLine } from "./spectral-line";
 import type { AcfDecay } from "./acf-decay";
 import { errorWanderLine, type ErrorWander } from "./error-wander";
+import { extendedLine, harrisSlow, SLUGGISH_INDEX } from "./extended-horizon";
 import type { SetPointSigns } from "./setpoint-response";
 import { FURTHER_SIGN, HEALTHY, ONE_SIGN, sluggishConfidence, temperForCompression, temperForWeakCycle } from "./tuning-confidence";
 import { withSetPointOvershoot } from "./setpoint-overshoot";
@@ -46,6 +47,8 @@ export interface DiagnosisInput {
   loadOrValve?: LoadOrValveFigures | null;
   compressed: boolean;
   harrisIndex: number | null;
+  /** The index at the extended horizon θ + τc, SIMC's tight τc = θ (extended-horizon.ts); null or absent: the Harris index alone decides. */
+  extendedHorizonIndex?: number | null;
   idleIndex: number | null;
   disturbanceDecayRatio: number | null;
   /** Slowest disturbance-response time constant over the configured dead time (closed-loop.ts), null without a dead time. */
@@ -73,8 +76,6 @@ export interface DiagnosisInput {
 const SUSTAINED = 0.93;
 /** ACF dip below which a decaying mode reads as aggressive tuning (ours). */
 const AGGRESSIVE_RING = -0.35;
-/** Harris index above which a loop without oscillation reads as sluggish (ours). */
-const SLUGGISH_HARRIS = 3;
 /**
  * Disturbance-response time constant, in dead times, above which a loop without oscillation reads
  * as sluggish. SIMC (Skogestad, J. Process Control 13, 2003; from memory) sets the closed-loop time
@@ -309,25 +310,30 @@ function diagnoseFigures(x: DiagnosisInput): Diagnosis {
   const slow = tauToDead !== null && tauToDead > SLUGGISH_TAU;
   const fast = (tauToDead !== null && tauToDead < FAST_TAU) || x.setPoint?.fast === true;
   const spSlow = x.setPoint?.slow === true;
-  if (!fast && ((harris !== null && harris > SLUGGISH_HARRIS) || noSwing || wander !== null || slow || spSlow || (idle !== null && idle > 0.6))) {
+  // The Harris sign holds only when the index stays high at SIMC's tight closed-loop time too (extended-horizon.ts).
+  const harrisHigh = harrisSlow(harris, x.extendedHorizonIndex);
+  const extLine = extendedLine(harris, x.extendedHorizonIndex, fmt);
+  if (!fast && (harrisHigh || noSwing || wander !== null || slow || spSlow || (idle !== null && idle > 0.6))) {
     const ev = ["likely sluggish tuning: no oscillation, and the loop removes its disturbances slowly"];
     if (harris !== null) ev.push(`variance ${fmt(harris, 1)}× the minimum the dead time allows (Harris index; a well-tuned PI loop is typically within 1–3, common practice)`);
+    if (extLine) ev.push(extLine);
     if (noSwing) ev.push(`the error hardly swings back past the set point after a disturbance (autocorrelation dip ${fmt(-x.overshoot!)} of its lag-1 value): an overdamped, slow recovery`);
     if (wander) ev.push(errorWanderLine(wander, fmt));
     if (slow) ev.push(`the slowest disturbance-response pole has a time constant of ${fmt(x.disturbanceTimeToDeadTime!, 0)} dead times; tuning for τc of one to a few dead times (SIMC, Skogestad 2003) removes disturbances far faster`);
     if (spSlow) ev.push(x.setPoint!.line!);
     if (idle !== null) ev.push(`idle index ${fmt(idle)} (${idle > 0.6 ? "near +1: sluggish" : "not a sign by itself: near +1 would be sluggish"}; Hägglund 1999)`);
-    if (((harris !== null && harris > SLUGGISH_HARRIS) || slow) && !spSlow) ev.push(DEAD_TIME_NOTE);
+    if ((harrisHigh || slow) && !spSlow) ev.push(DEAD_TIME_NOTE);
     // A work item only when the Harris index and the disturbance time agree, or the loop's own
     // set-point response is slow (tuning-confidence.ts).
-    const c = sluggishConfidence({ harris: harris !== null && harris > SLUGGISH_HARRIS, slow, noSwing: noSwing || wander !== null, idle: idle !== null && idle > 0.6, setPoint: spSlow, hasEstimators: x.disturbanceTimeToDeadTime !== null || harris !== null });
+    const c = sluggishConfidence({ harris: harrisHigh, slow, noSwing: noSwing || wander !== null, idle: idle !== null && idle > 0.6, setPoint: spSlow, hasEstimators: x.disturbanceTimeToDeadTime !== null || harris !== null });
     return { label: "sluggish-tuning", confidence: c.confidence, evidence: [...ev, ...c.notes] };
   }
   const ev = ["likely healthy: no oscillation, no stiction sign, the error does not ring"];
   if (x.setPoint?.line) ev.push(x.setPoint.line);
-  if (tauToDead !== null && tauToDead < FAST_TAU) ev.push(`the slowest disturbance-response pole has a time constant of ${fmt(tauToDead!, 1)} dead times: disturbances are removed about as fast as the dead time allows (SIMC τc of one to a few dead times, Skogestad 2003)${harris !== null && harris > SLUGGISH_HARRIS ? "; the Harris index is high, but a PI loop on a process with lags cannot reach minimum variance" : ""}`);
+  if (tauToDead !== null && tauToDead < FAST_TAU) ev.push(`the slowest disturbance-response pole has a time constant of ${fmt(tauToDead!, 1)} dead times: disturbances are removed about as fast as the dead time allows (SIMC τc of one to a few dead times, Skogestad 2003)${harris !== null && harris > SLUGGISH_INDEX ? "; the Harris index is high, but a PI loop on a process with lags cannot reach minimum variance" : ""}`);
   if (idle !== null) ev.push(`idle index ${fmt(idle)} (near +1 would read sluggish; under continuously varying loads it stays negative whatever the tuning, so it does not show the loop well tuned; Hägglund 1999)`);
   if (harris !== null) ev.push(`variance ${fmt(harris, 1)}× the minimum for the dead time (Harris index)`);
+  if (extLine) ev.push(extLine);
   // Only a figure that weighs the loop's speed against the process (the Harris index, the
   // disturbance time against the dead time, the set point's own moves) adds to "no fault sign
   // found"; the idle index does not (it reads only load steps; tuning-confidence.ts, rule 4).

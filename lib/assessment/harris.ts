@@ -12,6 +12,11 @@
  * y is the control error over constant-SP stretches in closed loop (each stretch mean-removed).
  * The delay b is the loop's dead time in samples plus one for the zero-order hold (b = θ/T + 1).
  * Dead time is not identifiable from routine closed-loop data, so without it there is no index.
+ *
+ * The same sums read at a longer horizon h > b give the extended-horizon index of Thornhill,
+ * Oettinger & Fedenczuk (J. Process Control 9, 1999): σ²_y / σ²_h with σ²_h = σ²_a Σ_{k<h} f_k²,
+ * the variance a controller could leave that removes disturbances only after h samples
+ * (extended-horizon.ts says which h the assessment reads).
  */
 import { levinson } from "./signal";
 
@@ -22,14 +27,17 @@ export interface HarrisResult {
   delaySamples: number;
   samplesUsed: number;
   arOrder: number;
+  /** The index at the extended horizon asked for (Thornhill et al. 1999), null when not asked. */
+  extended: { delaySamples: number; index: number } | null;
 }
 
 /**
  * FCOR over the stretches [start, end) of y (already the signal to judge; means removed here).
  * `arOrder` defaults to max(b + 10, 30), capped at a twentieth of the samples.
  */
-export function harrisIndex(y: Float64Array, stretches: readonly [number, number][], delaySamples: number, arOrder?: number): HarrisResult | null {
+export function harrisIndex(y: Float64Array, stretches: readonly [number, number][], delaySamples: number, arOrder?: number, extendedDelaySamples?: number): HarrisResult | null {
   const b = Math.max(1, Math.round(delaySamples));
+  const h = extendedDelaySamples === undefined ? b : Math.max(b, Math.round(extendedDelaySamples));
   let total = 0;
   for (const [s, e] of stretches) total += e - s;
   const p = Math.min(arOrder ?? Math.max(b + 10, 30), Math.floor(total / 20));
@@ -80,7 +88,8 @@ export function harrisIndex(y: Float64Array, stretches: readonly [number, number
   const varY = sy / ny;
   const varA = sa / na;
   let eta = 0;
-  for (let k = 0; k < b; k++) {
+  let etaH = 0;
+  for (let k = 0; k < h; k++) {
     let acc = 0;
     let cnt = 0;
     for (const [s, e] of stretches) for (let i = s + p + k; i < e; i++) {
@@ -90,9 +99,11 @@ export function harrisIndex(y: Float64Array, stretches: readonly [number, number
     }
     if (cnt === 0) continue;
     const g = acc / cnt;
-    eta += (g * g) / (varY * varA);
+    if (k < b) eta += (g * g) / (varY * varA);
+    etaH += (g * g) / (varY * varA);
   }
   eta = Math.min(1, eta);
   if (!(eta > 0)) return null;
-  return { index: 1 / eta, eta, delaySamples: b, samplesUsed: total, arOrder: p };
+  const extended = extendedDelaySamples === undefined ? null : { delaySamples: h, index: 1 / Math.min(1, Math.max(eta, etaH)) };
+  return { index: 1 / eta, eta, delaySamples: b, samplesUsed: total, arOrder: p, extended };
 }

@@ -10,6 +10,7 @@ import { errorWander } from "./error-wander";
 import { integralTime, isIntegrating, type LoopConfig } from "./config";
 import { loadOrValve } from "./load-or-valve";
 import { diagnose } from "./diagnosis";
+import { extendedHorizonSamples } from "./extended-horizon";
 import { harrisIndex } from "./harris";
 import { persistsInManual } from "./manual-cycle";
 import { countLoadDisturbances, detectOscillation, oscillatesAt } from "./oscillation";
@@ -123,10 +124,10 @@ export function assessLoop(input: readonly AssessSample[], config: LoopConfig): 
   else if (compression.compressed) cautions.push("Harris index withheld: compressed data bias variances.");
   else {
     const b = Math.floor(config.deadTimeS / w.T) + 1;
-    const h = harrisIndex(w.e, errorStretches, b);
+    const h = harrisIndex(w.e, errorStretches, b, undefined, extendedHorizonSamples(config.deadTimeS, w.T));
     if (h) {
       harris = h.index;
-      harrisDetail = { delaySamples: h.delaySamples, samplesUsed: h.samplesUsed, periodS: w.T };
+      harrisDetail = { delaySamples: h.delaySamples, samplesUsed: h.samplesUsed, periodS: w.T, extendedIndex: h.extended?.index ?? null, extendedDelaySamples: h.extended?.delaySamples ?? null };
       if (w.T > config.samplePeriodS * 1.01) cautions.push(`Harris index computed at the export's ${w.T} s spacing, coarser than the loop's ${config.samplePeriodS} s.`);
     } else cautions.push("Harris index: too few constant-set-point samples in closed loop.");
   }
@@ -223,6 +224,7 @@ export function assessLoop(input: readonly AssessSample[], config: LoopConfig): 
     loadOrValve: order,
     compressed: compression.compressed,
     harrisIndex: harris,
+    extendedHorizonIndex: harrisDetail?.extendedIndex ?? null,
     idleIndex: idle?.index ?? null,
     disturbanceDecayRatio: dist?.decayRatio ?? null,
     disturbanceTimeToDeadTime: distTauToDead,

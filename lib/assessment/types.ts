@@ -101,7 +101,8 @@ export interface AssessmentDetails {
   /** Outside load or sticking valve (load-or-valve.ts): mean time asymmetry of the error's half-cycles (negative: jump then decay; positive: build-up then release), its t, the coefficient of variation of their lengths (small: clock-like) and their count; null when not oscillating or ringing. */
   loadOrValve: { reading: "load" | "leans-load" | "valve" | "neutral" | "withheld"; asymmetry: number | null; tStat: number | null; lengthCv: number | null; halfCycles: number } | null;
   /** Harris index inputs: delay b in samples and the constant-SP samples used. */
-  harris: { delaySamples: number; samplesUsed: number; periodS: number } | null;
+  /** extendedIndex: the index at θ + τc with SIMC's tight τc = θ (extended-horizon.ts). */
+  harris: { delaySamples: number; samplesUsed: number; periodS: number; extendedIndex: number | null; extendedDelaySamples: number | null } | null;
   /** Oscillation also seen while the loop was in manual (Hägglund's outside-oscillation sign). */
   oscillationInManual: boolean | null;
   /** Period of the error's dominant mode from its ACF zero crossings, s (also when not an oscillation). */

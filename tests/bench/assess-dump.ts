@@ -20,6 +20,7 @@ export function keyFigures(r: LoopAssessmentReport, config: { deadTimeS?: number
     compressed: d.compression.compressed,
     spWander: r.cautions.some((c) => c.startsWith("The set point moves nearly all the time")),
     harris: n(r.harrisIndex),
+    harrisExt: n(d.harris?.extendedIndex),
     tauDead: n(d.disturbanceTimeToDeadTime),
     idle: n(d.idleIndex),
     acfR: d.acfDecay ? n(d.acfDecay.ratio) : null,

@@ -1,5 +1,6 @@
 #!/usr/bin/env python3
-"""Reference values for the Harris (minimum-variance) index of lib/assessment/harris.ts.
+"""Reference values for the Harris (minimum-variance) index of lib/assessment/harris.ts, and for
+its extended-horizon reading (lib/assessment/extended-horizon.ts).
 
 For a sampled loop with plant y = q^-b B/A u + C/D a (a white, variance 1) under the linear
 controller u = -(Cn/Cd) y (regulation, r = 0), the output is y = psi(q) a with
@@ -10,7 +11,9 @@ and the Harris index (Harris, Can. J. Chem. Eng. 67, 1989) is
 
     index = var(y) / var_mv = sum_k psi_k^2 / sum_{k<b} psi_k^2,
 
-the first b impulse-response terms being those no controller can change. psi is computed by
+the first b impulse-response terms being those no controller can change; the extended-horizon
+index (Thornhill, Oettinger & Fedenczuk, J. Process Control 9, 1999) is sum_k psi_k^2 /
+sum_{k<h} psi_k^2 at h = 2b - 1 terms, the dead time b - 1 doubled (SIMC's tight tau_c = theta). psi is computed by
 scipy.signal.lfilter on a unit impulse (long enough for the tail to vanish below 1e-15), and
 sum psi^2 cross-checked against scipy.signal.freqz (Parseval: var = mean |psi(e^jw)|^2 over a
 dense grid). The TypeScript test simulates each loop with its own random numbers and compares
@@ -88,6 +91,10 @@ def case(name, A, B, b, C, D, Cn, Cd):
     var_parseval = float(np.mean(np.abs(h) ** 2))
     assert abs(var - var_parseval) < 1e-8 * var, f"{name}: Parseval check failed"
     mv = float(np.sum(psi[:b] ** 2))
+    # Extended horizon (Thornhill, Oettinger & Fedenczuk 1999) at theta + tau_c with SIMC's tight
+    # tau_c = theta: a dead time of b - 1 samples gives 2 (b - 1) + 1 = 2b - 1 terms.
+    h = 2 * b - 1
+    ext = float(np.sum(psi[:h] ** 2))
     return {
         "name": name,
         "A": A, "B": B, "delay": b, "C": C, "D": D, "Cn": Cn, "Cd": Cd,
@@ -95,6 +102,8 @@ def case(name, A, B, b, C, D, Cn, Cd):
         "variance": f15(var),
         "minimumVariance": f15(mv),
         "harrisIndex": f15(var / mv),
+        "extendedDelay": h,
+        "extendedIndex": f15(var / ext),
     }
 
 
@@ -122,6 +131,21 @@ def main():
     #    allows for that known truncation bias on this case only.
     Cn, Cd = pi_q(0.6, 8.0, 1.0)
     cases.append(case("first-order-pi-stationary-disturbance", [1.0, -0.9], [0.1], 3, [1.0], [1.0, -0.95], Cn, Cd))
+    # 6. Two lags (30 s and 8 s, K = 1, T = 1 s, zero-order hold by scipy.signal.cont2discrete)
+    #    behind a transport delay of 2 s (b = 3), a drifting disturbance (random walk), and a PI
+    #    tuned by SIMC (Skogestad 2003, from memory) on the half rule's effective delay
+    #    theta + tau2/2 + T/2 = 6.5 s with tau_c = theta_eff: well tuned, yet above 3x minimum
+    #    variance at the transport delay, within 3x at the extended horizon.
+    Bd, Ad, _ = signal.cont2discrete(([1.0], np.polymul([30.0, 1.0], [8.0, 1.0])), 1.0, method="zoh")
+    A2 = [f15(v) for v in Ad]
+    B2 = [f15(v) for v in np.trim_zeros(Bd.flatten(), "f")]
+    kc, ti = 34.0 / (2 * 6.5), min(34.0, 8 * 6.5)
+    Cn, Cd = pi_q(kc, ti, 1.0)
+    cases.append(case("second-order-lag-simc-pi-transport-delay", A2, B2, 3, [1.0], [1.0, -1.0], Cn, Cd))
+    # 7. The same loop with a fifth of the gain and four times the integral time: sluggish, and
+    #    far above 3x at the extended horizon too.
+    Cn, Cd = pi_q(kc * 0.2, ti * 4, 1.0)
+    cases.append(case("second-order-lag-sluggish-pi", A2, B2, 3, [1.0], [1.0, -1.0], Cn, Cd))
     data = {
         "generator": "tests/reference/generate_assessment.py",
         "libraries": "numpy, scipy.signal (lfilter, freqz); values rounded to 15 significant digits",
