@@ -10,7 +10,7 @@
 import { readFileSync } from "node:fs";
 import path from "node:path";
 import { AssessCsvError, assessLoop, LoopConfigError, parseAssessCsv, parseLoopConfig, type LoopAssessmentReport } from "@/lib/assessment";
-import { dataCautions, loopJsonCautions } from "@/lib/assessment/input-checks";
+import { dataCautions, loopJsonCautions, withSamplePeriod } from "@/lib/assessment/input-checks";
 // Text of an export or a loop file: UTF-8 or UTF-16 as spreadsheet programs save "Unicode text" (lib/csv).
 import { decodeText, withoutBom } from "@/lib/csv";
 
@@ -100,11 +100,12 @@ function main(): number {
     return 1;
   }
   try {
-    const config = parseLoopConfig(configJson);
     const parsed = parseAssessCsv(text);
+    const period = withSamplePeriod(configJson, parsed.samples);
+    const config = parseLoopConfig(period.value);
     const report = assessLoop(parsed.samples, config);
     // How the inputs were read comes first among the cautions (the report's shape is unchanged).
-    report.cautions = [...parsed.cautions, ...loopJsonCautions(configJson), ...dataCautions(parsed.samples, config), ...report.cautions];
+    report.cautions = [...parsed.cautions, ...(period.caution ? [period.caution] : []), ...loopJsonCautions(configJson), ...dataCautions(parsed.samples, config), ...report.cautions];
     process.stdout.write(args.json ? `${JSON.stringify(report)}\n` : `${summary(report, config.tag)}\n`);
     return 0;
   } catch (e) {

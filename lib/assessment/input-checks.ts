@@ -52,6 +52,20 @@ export function loopJsonCautions(value: unknown): string[] {
   return out;
 }
 
+/**
+ * A loop file without `samplePeriodS` (the figures need the export's own spacing): the export's
+ * median spacing, with a caution saying so. The offline command's reading; a loop in the console
+ * always has its period.
+ */
+export function withSamplePeriod(value: unknown, samples: readonly AssessSample[]): { value: unknown; caution: string | null } {
+  if (!isRecord(value) || value.samplePeriodS !== undefined || samples.length < 2) return { value, caution: null };
+  const d = new Float64Array(samples.length - 1);
+  for (let i = 1; i < samples.length; i++) d[i - 1] = samples[i]!.t - samples[i - 1]!.t;
+  const spacing = median(d);
+  if (!(spacing > 0)) return { value, caution: null };
+  return { value: { ...value, samplePeriodS: spacing }, caution: `samplePeriodS not given: read as the export's median spacing, ${fmt(spacing)} s.` };
+}
+
 /** A value this far outside its configured range (share of the range) is worth a caution. */
 const OUTSIDE = 0.1;
 /** Stored points closer than this share of the loop's sample period suggest a time column in another unit. */

@@ -105,6 +105,7 @@ describe("npm run -s assess", () => {
       ["a European export (sep=; line, decimal commas, ISO times with +00:00, modes in capitals)", "european.csv", () => "sep=;\r\nt;SP [m3/h];PV [m3/h];MV [%];Mode\r\n" + samples.map((s) => `${new Date(t0 + s.t * 1000).toISOString().replace("T", " ").replace("Z", "+00:00")};${comma(s.sp)};${comma(s.pv.toFixed(4))};${comma(s.mv.toFixed(4))};${(s.mode ?? "").toUpperCase()}`).join("\r\n"), null, null],
       ["milliseconds since 1970 without a unit (with a caution)", "epoch-ms.csv", () => "t,sp,pv,mv,mode\n" + samples.map((s) => `${t0 + s.t * 1000},${s.sp},${s.pv.toFixed(4)},${s.mv.toFixed(4)},${s.mode}`).join("\n"), null, /read as milliseconds since 1970/],
       ["a loop file with a BOM, numbers as strings and capitalised words", "", () => "", "\ufeff" + JSON.stringify({ ...j, pvLo: "0", pvHi: "100", samplePeriodS: "1", kind: "Flow", controller: { ...j.controller, kp: "0.5", ti: "15", action: "Reverse" } }), null],
+      ["a loop file without samplePeriodS (the export's median spacing, with a caution)", "", () => "", JSON.stringify({ ...j, samplePeriodS: undefined }), /samplePeriodS not given: read as the export's median spacing, 1 s/],
     ];
     for (const [name, file, content, loopText, caution] of variants) {
       it(name, () => {
