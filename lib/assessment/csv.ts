@@ -18,7 +18,7 @@
  * array of lines, so a day at 1 s (86,400 rows) parses in tens of milliseconds. Every error names
  * its line (CsvError, exported here as AssessCsvError).
  */
-import { CsvError, CsvTable, lineReader, modeFault, NumberReader, parseMode, parseQuality, TimeColumn, withoutBom } from "@/lib/csv";
+import { CsvError, CsvTable, lineReader, SAMPLE_ALIASES, modeFault, NumberReader, parseMode, parseQuality, TimeColumn, withoutBom } from "@/lib/csv";
 import type { AssessQuality, AssessSample } from "./types";
 
 export { CsvError as AssessCsvError };
@@ -48,7 +48,7 @@ const sameSample = (a: AssessSample, b: AssessSample) =>
  */
 export function parseAssessCsv(text: string): ParsedAssessCsv {
   const lines = lineReader(withoutBom(text));
-  const table = new CsvTable<Column>({ required: ["t", "sp", "pv", "mv"], optional: ["mode", "quality"], expected: "t,sp,pv,mv (mode and quality optional)" });
+  const table = new CsvTable<Column>({ required: ["t", "sp", "pv", "mv"], optional: ["mode", "quality"], expected: "t,sp,pv,mv (mode and quality optional; also read: time or timestamp for t, setpoint for sp, op, out or co for mv)", aliases: SAMPLE_ALIASES });
   let lineNo = 0;
   let line = lines.next();
   for (; line !== null && table.header === null; line = lines.next()) table.row(line, (lineNo = lines.lineNo()));

@@ -13,6 +13,6 @@ export { lineReader, LineSplitter, TOO_LONG } from "./lines";
 export { recordReader } from "./records";
 export { NumberReader, type CellValue } from "./numbers";
 export { modeFault, parseMode, parseQuality, type CsvMode, type CsvQuality } from "./status";
-export { CsvTable, headerCell, type TableHeader, type TableSpec } from "./table";
+export { CsvTable, headerCell, SAMPLE_ALIASES, type TableHeader, type TableSpec } from "./table";
 export { TimeColumn } from "./time-column";
 export { EPOCH_MS_FROM, EPOCH_MS_TO, isPlainNumber, parseIsoSeconds, TIME_UNITS } from "./time";

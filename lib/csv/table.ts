@@ -26,7 +26,22 @@ export interface TableSpec<C extends string> {
   expected: string;
   /** See above; false when not given. */
   strict?: boolean;
+  /**
+   * Other names a column may carry (lower case), read only when no cell has the column's own
+   * name: `time` for `t`, `op` for `mv`. A column found under two of them is refused as twice.
+   */
+  aliases?: Partial<Record<C, readonly string[]>>;
 }
+
+/**
+ * The names historians and control systems commonly write for the sample columns (common practice
+ * of the trade: OP, OUT and CO for the controller output, a written-out set point or time).
+ */
+export const SAMPLE_ALIASES = {
+  t: ["time", "timestamp", "datetime", "date time"],
+  sp: ["setpoint", "set point"],
+  mv: ["op", "out", "output", "co"],
+} as const;
 
 export interface HeaderCell {
   /** Name without its unit, trimmed, lower case. */
@@ -134,7 +149,8 @@ export class CsvTable<C extends string> {
 
   private readHeader(line: string, lineNo: number): void {
     const { required, optional, expected, strict } = this.spec;
-    const sep = this.sepGiven ?? chooseSeparator(line, required);
+    const aliases = this.spec.aliases ?? {};
+    const sep = this.sepGiven ?? chooseSeparator(line, [...required, ...required.flatMap((c) => (aliases as Record<string, readonly string[]>)[c] ?? [])]);
     const cells = (strict ? splitStrictCells(line, sep, lineNo) : splitCells(line, sep)).map(headerCell);
     const index: Partial<Record<C, number>> = {};
     const known = [...required, ...optional] as readonly string[];
@@ -148,6 +164,17 @@ export class CsvTable<C extends string> {
       if (index[c] === undefined) index[c] = i;
       else faults.push(new CsvError(`Line ${lineNo}: the column "${c}" appears twice (columns ${index[c]! + 1} and ${i + 1}).`, lineNo, c, i + 1));
     });
+    // Other names, only for a column its own name did not find (a cell already taken stays its own).
+    const taken = new Set(Object.values(index) as number[]);
+    for (const c of [...required, ...optional]) {
+      const names = (aliases as Partial<Record<string, readonly string[]>>)[c];
+      if (index[c] !== undefined || !names) continue;
+      cells.forEach((h, i) => {
+        if (taken.has(i) || !names.includes(h.name)) return;
+        if (index[c] === undefined) index[c] = i;
+        else faults.push(new CsvError(`Line ${lineNo}: the column "${c}" appears twice ("${cells[index[c]!]!.name}" in column ${index[c]! + 1} and "${h.name}" in column ${i + 1}).`, lineNo, c, i + 1));
+      });
+    }
     const missing = required.filter((c) => index[c] === undefined);
     if (missing.length > 0) {
       faults.push(new CsvError(`Line ${lineNo}: the header lacks ${missing.join(", ")}; expected ${expected}, found ${cells.map((h) => `"${h.name}"`).join(", ")}.`, lineNo, missing[0]!));

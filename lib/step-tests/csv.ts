@@ -11,7 +11,7 @@
  * Every problem is reported with its line number in the file (the header is line 1 unless
  * comments precede it) and its 1-based column number and name, so the engineer can find it.
  */
-import { CsvError, CsvTable, decodeText, lineReader, modeFault, NumberReader, parseMode, TimeColumn, withoutBom } from "@/lib/csv";
+import { CsvError, CsvTable, SAMPLE_ALIASES, decodeText, lineReader, modeFault, NumberReader, parseMode, TimeColumn, withoutBom } from "@/lib/csv";
 import { HttpError, ValidationError } from "@/lib/domain/errors";
 
 /** Largest accepted upload, bytes (5 MiB). */
@@ -105,7 +105,7 @@ export function parseStepTestCsv(input: string | Uint8Array, loop?: LoopUnits): 
 
 function readRows(text: string, loop: LoopUnits | undefined): ParsedStepTest {
   const lines = lineReader(text);
-  const table = new CsvTable<Known>({ required: ["t", "mv", "pv"], optional: ["sp", "mode"], expected: "t, mv, pv (sp and mode optional)" });
+  const table = new CsvTable<Known>({ required: ["t", "mv", "pv"], optional: ["sp", "mode"], expected: "t, mv, pv (sp and mode optional; also read: time or timestamp for t, setpoint for sp, op, out or co for mv)", aliases: SAMPLE_ALIASES });
   let lineNo = 0;
   let line = lines.next();
   for (; line !== null && table.header === null; line = lines.next()) table.row(line, (lineNo = lines.lineNo()));

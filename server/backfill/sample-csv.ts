@@ -11,7 +11,7 @@
  * at most MAX_LINE_CHARS long. The file is never held whole.
  */
 import { Readable } from "node:stream";
-import { CsvError, CsvTable, LineSplitter, modeFault, NumberReader, parseMode, parseQuality, TextSniffer, TimeColumn, TOO_LONG, type TableHeader } from "@/lib/csv";
+import { CsvError, CsvTable, LineSplitter, SAMPLE_ALIASES, modeFault, NumberReader, parseMode, parseQuality, TextSniffer, TimeColumn, TOO_LONG, type TableHeader } from "@/lib/csv";
 import { validateSample } from "@/lib/domain/telemetry";
 import type { SampleDto } from "@/lib/domain/types";
 
@@ -30,7 +30,7 @@ export type SampleRecord =
 export const MAX_LINE_CHARS = 4096;
 
 type Column = "t" | "sp" | "pv" | "mv" | "mode" | "quality";
-const SPEC = { required: ["t", "sp", "pv", "mv"], optional: ["mode", "quality"], expected: "t, sp, pv, mv (mode, quality optional)" } as const;
+const SPEC = { required: ["t", "sp", "pv", "mv"], optional: ["mode", "quality"], expected: "t, sp, pv, mv (mode, quality optional; also read: time or timestamp for t, setpoint for sp, op, out or co for mv)", aliases: SAMPLE_ALIASES } as const;
 
 /**
  * Bytes read at a time. The replay takes about 0.1 ms per record: records made from a whole

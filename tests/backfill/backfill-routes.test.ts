@@ -95,7 +95,7 @@ describe("backfill routes", () => {
     expect(res.status).toBe(422);
     const { backfill } = (await res.json()) as { backfill: { status: string; message: string; accepted: number } };
     expect(backfill).toMatchObject({ status: "failed", accepted: 0 });
-    expect(backfill.message).toMatch(/Line 1: the header lacks t, sp, pv, mv/);
+    expect(backfill.message).toMatch(/Line 1: the header lacks sp, pv, mv/);
     // an empty body is refused before any job starts; an empty stream (no declared length) fails the job
     expect((await upload(fx.a.loopId, "")).status).toBe(422);
     const host = (ctx.services.get("pipeline") as unknown as { backfill: BackfillHost }).backfill;

@@ -85,6 +85,8 @@ const accepted: [string, string | Uint8Array][] = [
   ["lone CR line ends", table("t,sp,pv,mv", ",", String, "\r")],
   ["quoted header names in a semicolon file", table('"t";"sp";"pv";"mv"', ";")],
   ["units in the header (time in minutes)", table("t [min],sp [degC],pv (degC),mv [%]", ",", String, "\n", (s) => String(s / 60))],
+  ["the names historians also write (Time, Setpoint, OP; common practice)", table("Time,Setpoint,PV,OP", ",")],
+  ["a timestamp column, a set point written out and the controller output as OUT, semicolon-separated", table("timestamp;set point;pv;out", ";")],
   ["comment lines before the header", `# exported by the Quarry Lane historian\n# one loop\n${table("T, SP, PV, MV", ",")}`],
   ["UTF-16 little-endian with a byte order mark (spreadsheet Unicode text)", new Uint8Array([0xff, 0xfe, ...Buffer.from(table("t\tsp\tpv\tmv", "\t", String, "\r\n"), "utf16le")])],
 ];
@@ -133,6 +135,7 @@ const refused: [string, string, number, RegExp, boolean][] = [
   ["seconds mixed with date-times", withLine("t,sp,pv,mv", ",", 4, "2026-11-03T08:00:04Z,50.5,49.75,30"), 4, /mixes a date-time with the seconds above/, true],
   ["numeric mode codes", ["t,sp,pv,mv,mode", ...written.map(([s, ...v], k) => [T0 + s!, ...v, k === 6 ? "2" : "auto"].join(","))].join("\n"), 8, /Numeric mode codes differ/, true],
   ["a column named twice", table("t,sp,pv,mv,PV", ","), 1, /the column "pv" appears twice \(columns 3 and 5\)/, false],
+  ["the output under two other names", table("t,sp,pv,op,co", ","), 1, /the column "mv" appears twice \("op" in column 4 and "co" in column 5\)/, false],
 ];
 
 describe("one CSV layer: what one reader refuses, all three refuse naming the line", () => {
