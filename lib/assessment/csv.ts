@@ -63,7 +63,7 @@ export function parseAssessCsv(text: string): ParsedAssessCsv {
 
   const samples: AssessSample[] = [];
   const numbers = new NumberReader(header.sep === ";");
-  const time = new TimeColumn(header.unit("t"), { line: header.line, column: it }, numbers);
+  const time = new TimeColumn(header.unit("t"), { line: header.line, column: it }, numbers, true);
   let prevT = -Infinity;
   let prevLine = 0;
   let modeUnknown = 0;

@@ -6,7 +6,7 @@
  */
 import { CsvError } from "./error";
 import type { NumberReader } from "./numbers";
-import { EPOCH_MS_FROM, EPOCH_MS_TO, isPlainNumber, parseIsoSeconds, TIME_UNITS } from "./time";
+import { EPOCH_MS_FROM, EPOCH_MS_TO, isPlainNumber, parseClockSeconds, parseIsoSeconds, TIME_UNITS } from "./time";
 
 const SEMICOLON_DECIMAL = /^[+-]?\d*,\d+$/;
 
@@ -18,15 +18,21 @@ export class TimeColumn {
   readonly cautions: string[] = [];
   private scale: number;
   private readonly unitGiven: boolean;
+  private clockCautioned = false;
 
   /**
    * `unit` as the header writes it (null when none); throws CsvError naming the header line and
    * the column for a unit that is not a time unit. `numbers` reads the file's numbers (its decimal mark).
    */
+  /**
+   * `clockTimes`: date-times without a zone are read as clock times (spacing only) with a caution,
+   * for a reader that needs only the spacing (the offline assessment); otherwise they are refused.
+   */
   constructor(
     unit: string | null,
     where: { line: number; column: number },
     private readonly numbers: NumberReader,
+    private readonly clockTimes = false,
   ) {
     const scale = unit === null ? 1 : TIME_UNITS[unit.toLowerCase()];
     if (scale === undefined) throw new CsvError(`Line ${where.line}: time unit "${unit}" is not one of s, ms, min, h, d.`, where.line, "t", where.column + 1);
@@ -51,7 +57,15 @@ export class TimeColumn {
       t = tn * this.scale;
     } else {
       kind = "iso";
-      const s = parseIsoSeconds(raw);
+      let s = parseIsoSeconds(raw);
+      if (typeof s === "string" && this.clockTimes) {
+        const c = parseClockSeconds(raw);
+        if (c !== null) {
+          if (!this.clockCautioned) this.cautions.push(`The date-times have no zone ("${raw.slice(0, 40)}"): read as clock times, so only their spacing counts; a clock change inside the file shows as a gap of an hour, or as time going back (refused, naming the line).`);
+          this.clockCautioned = true;
+          s = c;
+        }
+      }
       if (typeof s === "string") return `"${raw.slice(0, 40)}" ${s}.`;
       t = s;
     }

@@ -50,6 +50,14 @@ export const EPOCH_MS_TO = 1e14;
 const ISO_FULL = /^(\d{4})-(\d{2})-(\d{2})[Tt ](\d{2}):(\d{2})(?::(\d{2})(?:[.,](\d{1,9}))?)?\s*(Z|UTC|GMT|[+-]\d{2}(?::?\d{2})?)$/i;
 const ISO_NO_ZONE = /^\d{4}-\d{2}-\d{2}[Tt ]\d{2}:\d{2}(:\d{2}([.,]\d+)?)?$/;
 
+/**
+ * Seconds of an ISO 8601 date-time without a zone read as a clock time (as if it were UTC: right
+ * spacing, the absolute time off by the zone's offset), null when `raw` is not one.
+ */
+export function parseClockSeconds(raw: string): number | string | null {
+  return ISO_NO_ZONE.test(raw.trim()) ? parseIsoSeconds(`${raw.trim()}Z`) : null;
+}
+
 const daysIn = (y: number, m: number) => (m === 2 ? (y % 4 === 0 && (y % 100 !== 0 || y % 400 === 0) ? 29 : 28) : [4, 6, 9, 11].includes(m) ? 30 : 31);
 
 /**

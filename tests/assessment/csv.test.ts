@@ -46,6 +46,12 @@ describe("parseAssessCsv", () => {
     expect(g.cautions.join(" ")).toMatch(/1 value cell held no number \(first at line 3, column 3/);
   });
 
+  it("reads date-times without a zone as clock times (their spacing), with a caution; a clock going back is refused above", () => {
+    const g = parseAssessCsv("t,sp,pv,mv\n2026-12-01 08:00:00,1,1,1\n2026-12-01 08:00:01.5,1,1,1\n2026-12-01T08:00:03,1,1,1\n");
+    expect(g.samples.map((x) => x.t - g.samples[0]!.t)).toEqual([0, 1.5, 3]);
+    expect(g.cautions.join(" ")).toMatch(/have no zone \("2026-12-01 08:00:00"\): read as clock times, so only their spacing counts/);
+  });
+
   it("names the line of each kind of fault", () => {
     const cases: [string, number, RegExp][] = [
       ["", 1, /empty/],
@@ -55,7 +61,7 @@ describe("parseAssessCsv", () => {
       ["t,sp,pv,mv\n0,1,1,1\n1,1,1\n", 3, /3 cells, the header has 4/],
       ["t,sp,pv,mv,mode\n0,1,1,1,auto\n1,1,1,1,remote\n", 3, /mode.*not auto, manual or cascade/],
       ["t,sp,pv,mv\n0,1,1,1\nyesterday,1,1,1\n", 3, /neither seconds nor an ISO 8601/],
-      ["t,sp,pv,mv\n2026-12-01T00:00:00,1,1,1\n", 2, /date-time without a zone/],
+      ["t,sp,pv,mv\n2026-10-25 02:59:59,1,1,1\n2026-10-25 02:00:00,1,1,1\n", 3, /Line 3, column 1 \(t\): time goes back from line 2/],
       ["t,sp,pv,mv\n0,1,\"1,5\",1\n1,1,1,1\n", 2, /decimal separator/],
       ["t,sp,pv,mv\n0,1,1,1\n2026-12-01T00:00:01Z,1,1,1\n", 3, /mixes/],
       ["t,sp,pv,mv,t\n0,1,1,1,0\n", 1, /appears twice/],
