@@ -101,6 +101,9 @@ export function dataCautions(samples: readonly AssessSample[], config: LoopConfi
   const mvSpan = mvHi - mvLo;
   if (uLo < mvLo - OUTSIDE * mvSpan || uHi > mvHi + OUTSIDE * mvSpan) {
     out.push(`MV runs from ${fmt(uLo)} to ${fmt(uHi)}, well outside mvLo..mvHi (${fmt(mvLo)}..${fmt(mvHi)}): output-limit and valve figures read MV in those units; check them.`);
+  } else if (mvLo === 0 && mvHi >= 50 && uLo >= 0 && uHi <= 1 && uHi > uLo) {
+    // an output written as a fraction (0-1) instead of % keeps to 1 % of a 0-100 % range
+    out.push(`MV stays between ${fmt(uLo)} and ${fmt(uHi)} of a ${fmt(mvLo)}..${fmt(mvHi)} range: if it is written as a fraction of the output, give mvHi 1 (or MV in %), or output limits are never seen.`);
   }
   if (samples.length > 1) {
     const d = new Float64Array(samples.length - 1);

@@ -76,6 +76,11 @@ describe("dataCautions", () => {
     expect(dataCautions([at(0, 50, 0), at(1, 50, 4095)], config).join(" ")).toMatch(/MV runs from 0 to 4095, well outside mvLo..mvHi \(0..100\)/);
   });
 
+  it("names an MV that stays within 0..1 of a 0..100 % range (an output written as a fraction), and not an MV in %", () => {
+    expect(dataCautions([at(0, 50, 0.31), at(1, 50, 0.62)], config).join(" ")).toMatch(/MV stays between 0.31 and 0.62 of a 0..100 range: if it is written as a fraction/);
+    expect(dataCautions([at(0, 50, 31), at(1, 50, 62)], config)).toEqual([]);
+  });
+
   it("names PV well outside pvLo..pvHi", () => {
     expect(dataCautions([at(0, 350, 50), at(1, 351, 50)], config).join(" ")).toMatch(/PV\/SP run from 50 to 351, well outside pvLo..pvHi \(0..100\)/);
   });
