@@ -8,7 +8,7 @@
  *
  * When the 95 % lower bound of Ms lies above 2 (Åström & Hägglund 2006, from memory: Ms 1.4–2 is the
  * design range, above 2 poor robustness) the verdict becomes `aggressive-tuning`, stated as a
- * possible finding (ONE_STEP_BELOW_WORK_ITEM, not a work item): the figure rests on the configured
+ * possible finding (CONFIDENCE, below a work item): the figure rests on the configured
  * dead time and on a process model of low order, and a sluggish finding that two estimators agree on
  * (a work item) is left as it is, with the figure beside it.
  */
