@@ -4,6 +4,8 @@
  * named in each file and in docs/assessment.md.
  */
 import { differencedErrorDecay } from "./acf-decay";
+import { loopMargin } from "./loop-margin";
+import { marginMayDecide, withLoopMargin } from "./loop-margin-sign";
 import { countExcitation, disturbanceResponse, disturbanceTimeConstantS, estimationFactor, ownClosedLoopPoles } from "./closed-loop";
 import { detectCompression } from "./compression";
 import { errorWander } from "./error-wander";
@@ -206,7 +208,7 @@ export function assessLoop(input: readonly AssessSample[], config: LoopConfig): 
   const spanScale = spanTimeScale(timeScale, dead, spSigns.line !== null ? spResp : null, cautions);
   const neededS = Math.max(Math.min(SPAN_FACTOR * spanScale, DECORRELATIONS * decorrelationS), 200 * config.samplePeriodS, 4 * decorrelationS);
 
-  const diagnosis = diagnose({
+  const firstDiagnosis = diagnose({
     spanS: w.spanS,
     neededS,
     timeScaleS: spanScale,
@@ -238,6 +240,14 @@ export function assessLoop(input: readonly AssessSample[], config: LoopConfig): 
     errorWander: wander,
     phaseCeiling: levelPhaseCeiling({ integrating, tiS: ti, tdS: config.controller.td, deadTimeS: config.deadTimeS }),
   });
+  // The loop's robustness from the process identified in closed loop (loop-margin.ts): computed
+  // only where it may decide (a healthy or possible-sluggish verdict, a dead time, no compression).
+  const c = config.controller;
+  const margin =
+    dead !== null && dead > 0 && !compression.compressed && marginMayDecide(firstDiagnosis)
+      ? loopMargin({ pv: w.pvPct, mv: w.mv, stretches: errorStretches, T: w.T, deadTimeS: dead, controller: { kp: c.kp, ti, td: c.td ?? 0, tf: c.derivativeFilterS ?? undefined, action: c.action, form: c.form } })
+      : null;
+  const diagnosis = withLoopMargin(firstDiagnosis, margin);
 
   return {
     samples: w.samples,
@@ -282,6 +292,7 @@ export function assessLoop(input: readonly AssessSample[], config: LoopConfig): 
       acfDecay: acfDecay ? { ratio: acfDecay.ratio, decayRatio: acfDecay.decayRatio, periodS: acfDecay.periodS, depth: acfDecay.depth, ratioSd: acfDecay.ratioSd } : null,
       setPointResponse: spResp ? { deadTimeS: spResp.deadTimeS, t63S: spResp.t63S, horizonS: spResp.horizonS, ratio: spResp.ratio, lowerBound: spResp.lowerBound, shortOfMove: spResp.shortOfMove, strength: spResp.strength, overshoot: spResp.overshoot, overshootSe: spResp.overshootSe } : null,
       errorWander: wander,
+      loopMargin: margin ? { ms: margin.ms, msLower: margin.msLower, gainMargin: margin.gainMargin, delay: margin.delay, periodS: margin.periodS } : null,
       errorAcf: Array.from(acf.subarray(0, Math.min(acf.length, 400)), (v) => Math.round(v * 1e4) / 1e4),
     },
   };

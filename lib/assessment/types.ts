@@ -123,6 +123,8 @@ export interface AssessmentDetails {
   setPointResponse?: { deadTimeS: number; t63S: number | null; horizonS: number; ratio: number; lowerBound: boolean; shortOfMove: boolean; strength: number; overshoot?: number | null; overshootSe?: number | null } | null;
   /** The error's ACF never swings back within the record while the set point holds (error-wander.ts); null otherwise. */
   errorWander?: { crossings: number; firstZeroS: number; firstZeroShare: number } | null;
+  /** Sensitivity peak of the process identified in closed loop with the configured controller (loop-margin.ts); null when not computed. */
+  loopMargin?: { ms: number; msLower: number; gainMargin: number | null; delay: number; periodS: number } | null;
   /** Time constant of the slowest disturbance-response pole over the configured dead time (null without a dead time): about 1–3 for tuning at τc = θ to a few θ (Skogestad 2003). */
   disturbanceTimeToDeadTime: number | null;
   /** Autocorrelation of the control error (first lags, at analysisPeriodS), for the evidence plot. */

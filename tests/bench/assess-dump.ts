@@ -36,6 +36,7 @@ export function keyFigures(r: LoopAssessmentReport, config: { deadTimeS?: number
     order: d.loadOrValve?.reading ?? null,
     sat: n(r.saturation),
     manual: n(r.manual),
+    lm: d.loopMargin ? { ms: n(d.loopMargin.ms), lo: n(d.loopMargin.msLower), gm: n(d.loopMargin.gainMargin) } : null,
   };
 }
 
