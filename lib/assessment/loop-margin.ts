@@ -159,47 +159,67 @@ function normalEquations(p: Float64Array, segs: readonly Segment[], nk: number, 
     // every signal padded with O zeros in front, so lagged reads need no bounds checks
     const O = nk + 4;
     const L = n + O;
-    const u = new Float64Array(L), gs = new Float64Array(L), vs = new Float64Array(L), ws = new Float64Array(L);
-    const wC = new Float64Array(L), vC = new Float64Array(L), uF = new Float64Array(L), gF = new Float64Array(L), uFd = new Float64Array(L), gFd = new Float64Array(L);
+    const [u, uFd] = scratch(L, O);
     u.set(du, O);
+    // the filters' recent values as locals (x1 = x at k − 1, ...); only Δu and its D/(C F) filter
+    // are read nk samples back and kept whole (the arithmetic is the same, term by term)
+    let g1 = 0, g2 = 0, v1 = 0, v2 = 0, v3 = 0, w1 = 0, w2 = 0, w3 = 0;
+    let wC1 = 0, wC2 = 0, wC3 = 0, vC1 = 0, vC2 = 0, vC3 = 0;
+    let uF1 = 0, uF2 = 0, uF3 = 0, gF1 = 0, gF2 = 0, gF3 = 0, gFd1 = 0, gFd2 = 0, gFd3 = 0;
     for (let k = O; k < L; k++) {
-      const g = b0 * u[k - nk]! + b1 * u[k - nk - 1]! - f1 * gs[k - 1]! - f2 * gs[k - 2]!;
-      gs[k] = g;
+      const g = b0 * u[k - nk]! + b1 * u[k - nk - 1]! - f1 * g1 - f2 * g2;
       const v = dy[k - O]! - g;
-      vs[k] = v;
-      const w = v + d1 * vs[k - 1]! + d2 * vs[k - 2]! + d3 * vs[k - 3]! - c1 * ws[k - 1]! - c2 * ws[k - 2]! - c3 * ws[k - 3]!;
-      ws[k] = w;
+      const w = v + d1 * v1 + d2 * v2 + d3 * v3 - c1 * w1 - c2 * w2 - c3 * w3;
       // 1/C on w and v, 1/F on Δu and g, then D/C on the latter two
-      wC[k] = w - c1 * wC[k - 1]! - c2 * wC[k - 2]! - c3 * wC[k - 3]!;
-      vC[k] = v - c1 * vC[k - 1]! - c2 * vC[k - 2]! - c3 * vC[k - 3]!;
-      const uf = u[k]! - f1 * uF[k - 1]! - f2 * uF[k - 2]!;
-      uF[k] = uf;
-      const gf = g - f1 * gF[k - 1]! - f2 * gF[k - 2]!;
-      gF[k] = gf;
-      uFd[k] = uf + d1 * uF[k - 1]! + d2 * uF[k - 2]! + d3 * uF[k - 3]! - c1 * uFd[k - 1]! - c2 * uFd[k - 2]! - c3 * uFd[k - 3]!;
-      gFd[k] = gf + d1 * gF[k - 1]! + d2 * gF[k - 2]! + d3 * gF[k - 3]! - c1 * gFd[k - 1]! - c2 * gFd[k - 2]! - c3 * gFd[k - 3]!;
-      if (k - O < WARMUP) continue;
-      row[0] = -uFd[k - nk]!;
-      row[1] = -uFd[k - nk - 1]!;
-      row[2] = gFd[k - 1]!;
-      row[3] = gFd[k - 2]!;
-      row[4] = -wC[k - 1]!;
-      row[5] = -wC[k - 2]!;
-      row[6] = vC[k - 1]!;
-      row[7] = vC[k - 2]!;
-      row[8] = -wC[k - 3]!;
-      row[9] = vC[k - 3]!;
-      const rk = r[at++]!;
-      for (let i = 0; i < NP; i++) {
-        const ji = row[i]!;
-        grad[i] = grad[i]! + ji * rk;
-        for (let j = i; j < NP; j++) A[i * NP + j] = A[i * NP + j]! + ji * row[j]!;
+      const wc = w - c1 * wC1 - c2 * wC2 - c3 * wC3;
+      const vc = v - c1 * vC1 - c2 * vC2 - c3 * vC3;
+      const uf = u[k]! - f1 * uF1 - f2 * uF2;
+      const gf = g - f1 * gF1 - f2 * gF2;
+      uFd[k] = uf + d1 * uF1 + d2 * uF2 + d3 * uF3 - c1 * uFd[k - 1]! - c2 * uFd[k - 2]! - c3 * uFd[k - 3]!;
+      const gfd = gf + d1 * gF1 + d2 * gF2 + d3 * gF3 - c1 * gFd1 - c2 * gFd2 - c3 * gFd3;
+      if (k - O >= WARMUP) {
+        row[0] = -uFd[k - nk]!;
+        row[1] = -uFd[k - nk - 1]!;
+        row[2] = gFd1;
+        row[3] = gFd2;
+        row[4] = -wC1;
+        row[5] = -wC2;
+        row[6] = vC1;
+        row[7] = vC2;
+        row[8] = -wC3;
+        row[9] = vC3;
+        const rk = r[at++]!;
+        for (let i = 0; i < NP; i++) {
+          const ji = row[i]!;
+          grad[i] = grad[i]! + ji * rk;
+          for (let j = i; j < NP; j++) A[i * NP + j] = A[i * NP + j]! + ji * row[j]!;
+        }
       }
+      g2 = g1; g1 = g; v3 = v2; v2 = v1; v1 = v; w3 = w2; w2 = w1; w1 = w;
+      wC3 = wC2; wC2 = wC1; wC1 = wc; vC3 = vC2; vC2 = vC1; vC1 = vc;
+      uF3 = uF2; uF2 = uF1; uF1 = uf; gF3 = gF2; gF2 = gF1; gF1 = gf; gFd3 = gFd2; gFd2 = gFd1; gFd1 = gfd;
     }
   }
   if (at !== m) throw new Error("prediction errors and sensitivities out of step");
   for (let i = 0; i < NP; i++) for (let j = 0; j < i; j++) A[i * NP + j] = A[j * NP + i]!;
   return { A, g: grad };
+}
+
+/**
+ * The two signal buffers of at least L samples normalEquations keeps whole (Δu and its filtered
+ * copy, read nk samples back), reused between calls (a fit calls it up to about a hundred times;
+ * fresh arrays each time were most of its garbage), their first O samples zero (the padding);
+ * every later sample is written before it is read.
+ */
+type Buffers = [Float64Array, Float64Array];
+let buffers: Buffers = [new Float64Array(0), new Float64Array(0)];
+function scratch(L: number, O: number): Buffers {
+  if (buffers[0].length < L) {
+    const size = Math.max(L, 2 * buffers[0].length);
+    buffers = buffers.map(() => new Float64Array(size)) as Buffers;
+  }
+  for (const b of buffers) b.fill(0, 0, O);
+  return buffers;
 }
 
 /** Levenberg–Marquardt from p0; the fitted parameters, their residual sum and JᵀJ there. */

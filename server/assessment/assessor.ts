@@ -12,7 +12,8 @@
  * 0.1–0.2 µs per sample. Once the window is full it is re-run only after RERUN_FACTOR·n new
  * samples (n counted in incoming samples, i.e. times the decimation stride): 2.5·n / (2·n) ≈ 1.25 µs
  * per sample (1.5 µs at 3 µs per window sample), so half of the data is assessed and a verdict is
- * at most two windows old. While it fills, runs come after FILL_RERUN_FACTOR·n new samples, at
+ * at most two windows old; after FIT_RERUN_FACTOR·n when the run fitted the sensitivity peak (a
+ * dead time configured; the fit about doubles a run's CPU). While it fills, runs come after FILL_RERUN_FACTOR·n new samples, at
  * n = 60, 150, 375, ... (each 2.5 times the last, so the first verdict, or "not judged yet · about
  * N min", comes after a minute of data at 1 s); each covers all data so far, so that first fill
  * costs up to 2.5/1.5 window samples per incoming one (≈ 4 µs per sample for one window's length,
@@ -38,6 +39,13 @@ import { applySharedOscillation, sharedOscillationOf, type PeriodPeer } from "./
 export const WINDOW_SAMPLES = 3_600;
 /** Once the window is full, re-run after this many times its (incoming) length: see the CPU budget above. */
 export const RERUN_FACTOR = 2;
+/**
+ * Once the window is full, re-run after this many times its length when the last run fitted the
+ * loop's sensitivity peak (lib/assessment/loop-margin.ts: a healthy or possibly sluggish loop with
+ * a dead time, about twice the CPU of a run without it; bench:live-assess --dead-time), so that
+ * such loops stay inside the same budget; their verdict is then at most four windows old.
+ */
+export const FIT_RERUN_FACTOR = 4;
 /** While the window fills, re-run after this many times the data so far (the growth of the early runs). */
 export const FILL_RERUN_FACTOR = 1.5;
 /** First assessment after this many samples, or a minute of data when that is fewer samples. */
@@ -48,6 +56,16 @@ const SPAN_TIME_SCALES = 40;
 const MAX_SPAN_S = 24 * 3_600;
 /** A changed model word re-issues a loop's verdict at most this often (ms; ours: no churn from a model near a level). */
 export const RECHECK_MIN_MS = 30_000;
+
+/**
+ * The full window's re-run factor after a run of `assessLoop` on it: FIT_RERUN_FACTOR when the run
+ * fitted the sensitivity peak (a figure came out, or a dead time is configured and the verdict is
+ * one the fit is asked on: healthy or sluggish, uncompressed), else RERUN_FACTOR.
+ */
+export function rerunFactor(own: ReturnType<typeof assessLoop>, config: AssessConfig): number {
+  const fitted = own.details.loopMargin !== null || (!!config.deadTimeS && !own.details.compression.compressed && (own.diagnosis.label === "healthy" || own.diagnosis.label === "sluggish-tuning"));
+  return fitted ? FIT_RERUN_FACTOR : RERUN_FACTOR;
+}
 
 export interface LiveLoop {
   loopId: number;
@@ -268,7 +286,7 @@ export class LiveAssessor {
     const report = applyModelCheck(grouped, model);
     // Next run: the CPU budget's interval, or later when the verdict says how much data it needs.
     const needs = report.diagnosis.needsS ? report.diagnosis.needsS / e.loop.config.samplePeriodS : 0;
-    const factor = n < e.ring.capacity ? FILL_RERUN_FACTOR : RERUN_FACTOR;
+    const factor = n < e.ring.capacity ? FILL_RERUN_FACTOR : rerunFactor(own, e.windowConfig);
     e.dueAfter = Math.max(e.firstRun, Math.ceil(Math.min(Math.max(factor * n * stride, needs), factor * e.ring.capacity * stride)));
     const r: LiveResult = { loopId, tenantId: e.loop.tenantId, siteId, at, report, windowSamples: n, windowS };
     e.unchecked = { ...r, report: grouped };

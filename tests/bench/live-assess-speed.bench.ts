@@ -21,7 +21,7 @@
 import { availableParallelism, loadavg } from "node:os";
 import { parseLoopConfig, type AssessSample } from "@/lib/assessment";
 import type { SampleDto } from "@/lib/domain/types";
-import { FILL_RERUN_FACTOR, LiveAssessor, RERUN_FACTOR, WINDOW_SAMPLES } from "@/server/assessment/assessor";
+import { FILL_RERUN_FACTOR, FIT_RERUN_FACTOR, LiveAssessor, RERUN_FACTOR, rerunFactor, WINDOW_SAMPLES } from "@/server/assessment/assessor";
 import { LoopTracker } from "@/server/tracking/loop-tracker";
 import { simulateLoop, type SimOptions } from "@/tests/assessment/loop-sim";
 import { piTuning, testLoopConfig } from "@/tests/helpers/loop-config";
@@ -80,7 +80,16 @@ const config = parseLoopConfig({
 let fullRuns = 0;
 let fillRuns = 0;
 let roundResults: number[] = [];
-const assessor = new LiveAssessor({ now: () => 0, onResult: (r) => roundResults.push(r.windowSamples) });
+/** Incoming samples each round's full-window runs stand for (the assessor's re-run factor × the window). */
+let roundSpan = 0;
+let fullSpan = 0;
+const assessor = new LiveAssessor({
+  now: () => 0,
+  onResult: (r) => {
+    roundResults.push(r.windowSamples);
+    roundSpan += rerunFactor(r.report, config) * WINDOW_SAMPLES;
+  },
+});
 for (let id = 1; id <= LOOPS; id++) assessor.upsertLoop({ loopId: id, tenantId: 1, siteId: 1 + (id % 4), config });
 const recordingOf = (id: number) => recordings[(id - 1) % recordings.length]!;
 
@@ -108,6 +117,7 @@ for (let r = 0; r < rounds; r++) {
   }
   pushMs += cpuMs(c0);
   roundResults = [];
+  roundSpan = 0;
   c0 = process.cpuUsage();
   assessor.runDue(Infinity);
   const ms = cpuMs(c0);
@@ -116,6 +126,7 @@ for (let r = 0; r < rounds; r++) {
   if (roundResults.length && roundResults.every((n) => n === WINDOW_SAMPLES)) {
     fullRuns += roundResults.length;
     fullRunMs += ms;
+    fullSpan += roundSpan;
   } else fillRuns += roundResults.length;
   clock.t = T0_MS + (r + 1) * BATCH * 1000;
   c0 = process.cpuUsage();
@@ -133,13 +144,14 @@ const us = (ms: number, n: number) => (1e3 * ms) / n;
 const pushUs = us(pushMs, pushed);
 const runUs = us(runMs, pushed);
 const fullRunAvgMs = fullRuns ? fullRunMs / fullRuns : null;
-const steadyRunUs = fullRunAvgMs === null ? null : us(fullRunAvgMs, RERUN_FACTOR * WINDOW_SAMPLES);
+// each full-window run's CPU spread over the incoming samples until its next run (its re-run factor × the window)
+const steadyRunUs = fullRuns ? us(fullRunMs, fullSpan) : null;
 const trackerUs = us(trackerMs, tracked);
 const f = (x: number | null, d = 3) => (x === null ? "n/a" : x.toFixed(d));
 console.log(`  push into the windows          ${f(pushUs)} µs/sample (${pushed} samples, ${f(pushMs / 1e3, 2)} s CPU)`);
 console.log(`  window runs, whole run         ${f(runUs)} µs/sample (${fullRuns + fillRuns} runs, ${fillRuns} of them while windows filled)`);
 console.log(`  full-window run                ${f(fullRunAvgMs, 2)} ms CPU on average (${fullRuns} runs of ${WINDOW_SAMPLES} samples)`);
-console.log(`  window runs, steady state      ${f(steadyRunUs)} µs/sample (one full-window run per ${RERUN_FACTOR * WINDOW_SAMPLES} samples)`);
+console.log(`  window runs, steady state      ${f(steadyRunUs)} µs/sample (one full-window run per ${f(fullRuns ? fullSpan / fullRuns : null, 0)} samples on average: ${RERUN_FACTOR} or ${FIT_RERUN_FACTOR} windows)`);
 console.log(`  live assessment, whole run     ${f(pushUs + runUs)} µs/sample`);
 console.log(`  live assessment, steady state  ${f(steadyRunUs === null ? null : pushUs + steadyRunUs)} µs/sample (target <= 2)`);
 console.log(`  loop tracker alone (${TRACKED} loops, same batches) ${f(trackerUs)} µs/sample; ratio assessment (steady) / tracker ${f(steadyRunUs === null ? null : (pushUs + steadyRunUs) / trackerUs)}`);

@@ -10,8 +10,9 @@ import { describe, expect, it } from "vitest";
 import { assessLoop, parseLoopConfig, type AssessSample } from "@/lib/assessment";
 import { findingPhrase } from "@/lib/domain/findings";
 import type { SampleDto } from "@/lib/domain/types";
-import { FILL_RERUN_FACTOR, LiveAssessor, RERUN_FACTOR, strideFor } from "@/server/assessment/assessor";
+import { FILL_RERUN_FACTOR, FIT_RERUN_FACTOR, LiveAssessor, RERUN_FACTOR, rerunFactor, strideFor } from "@/server/assessment/assessor";
 import { benchmarkPlan, generateRecording } from "@/simulators/benchmark/generate";
+import { flowLoopJson, simulateLoop } from "@/tests/assessment/loop-sim";
 
 const T0_MS = Date.UTC(2026, 11, 2, 6, 0, 0);
 const WINDOW = 6_000;
@@ -85,6 +86,34 @@ describe("schedule and memory", () => {
       const due = (after < 500 ? FILL_RERUN_FACTOR : RERUN_FACTOR) * after * stride;
       expect(gap).toBeGreaterThanOrEqual(due);
       expect(gap).toBeLessThan(due + 20);
+    }
+  });
+
+  it("waits FIT_RERUN_FACTOR windows after a full-window run that fitted the sensitivity peak (a dead time configured), RERUN_FACTOR otherwise", () => {
+    // A healthy flow loop (tests/assessment/loop-sim.ts, invented data) with its 4 s dead time configured, and without.
+    const tele = telemetryOf(simulateLoop({ seed: 5, n: 40_000, kp: 0.5, ti: 15, deadS: 4 }));
+    for (const deadTimeS of [4, null]) {
+      const config = parseLoopConfig(flowLoopJson("FIC-220", { deadTimeS }));
+      const runs: { n: number; incoming: number; factor: number; margin: boolean }[] = [];
+      let incoming = 0;
+      const live = new LiveAssessor({ capacity: 3_000, now: () => 0, onResult: (r) => runs.push({ n: r.windowSamples, incoming, factor: rerunFactor(r.report, config), margin: r.report.details.loopMargin !== null }) });
+      live.upsertLoop({ loopId: 4, tenantId: 1, siteId: 1, config });
+      expect(strideFor(config, 3_000)).toBe(1);
+      for (let i = 0; i < tele.length; i += 20) {
+        const batch = tele.slice(i, i + 20);
+        live.push(4, batch);
+        incoming += batch.length;
+        live.runDue(1e9);
+      }
+      const gaps = runs.slice(1).map((r, k) => ({ before: runs[k]!, gap: r.incoming - runs[k]!.incoming })).filter((g) => g.before.n === 3_000);
+      expect(gaps.length).toBeGreaterThan(1);
+      const want = deadTimeS === null ? RERUN_FACTOR : FIT_RERUN_FACTOR;
+      for (const { before, gap } of gaps) {
+        expect(before.factor).toBe(want);
+        if (deadTimeS !== null) expect(before.margin).toBe(true);
+        expect(gap).toBeGreaterThanOrEqual(want * 3_000);
+        expect(gap).toBeLessThan(want * 3_000 + 20);
+      }
     }
   });
 
