@@ -36,6 +36,12 @@ export const loopConfigSchema = z
      * docs/assessment.md, "Harris index", "Which dead time".
      */
     deadTimeS: finite.refine((v) => v >= 0, "must be >= 0").nullable().optional().default(null),
+    /**
+     * The apparent dead time of the loop's latest applied step test, s, when it has one and the
+     * engineer's `deadTimeS` is set as well (the live loader fills it). Only compared with
+     * `deadTimeS` for a caution (deadTimeCaution); the figures use `deadTimeS`.
+     */
+    stepTestDeadTimeS: finite.refine((v) => v >= 0, "must be >= 0").nullable().optional().default(null),
     normalMode: z.enum(["auto", "cascade"]).default("auto"),
     controller: controllerConfigSchema,
   })
@@ -66,6 +72,27 @@ export function parseLoopConfig(value: unknown): LoopConfig {
 export function integralTime(c: LoopConfig): number | null {
   const ti = c.controller.ti;
   return ti !== null && ti !== undefined && ti > 0 && Number.isFinite(ti) ? ti : null;
+}
+
+/** Outside this ratio of the configured to the step test's dead time a caution names both (ours). */
+export const DEAD_TIME_DISAGREEMENT = 1.5;
+
+/**
+ * A caution when the configured dead time and the latest applied step test's disagree by more than
+ * DEAD_TIME_DISAGREEMENT either way; null otherwise. The figures keep the configured one (the
+ * engineer's entry wins); the caution says which way each disagreement pushes the tuning findings
+ * (docs/assessment.md, "Harris index", "Which dead time").
+ */
+export function deadTimeCaution(c: Pick<LoopConfig, "deadTimeS" | "stepTestDeadTimeS">): string | null {
+  const a = c.deadTimeS;
+  const b = c.stepTestDeadTimeS;
+  if (a === null || a === undefined || b === null || b === undefined || !(a > 0) || !(b > 0)) return null;
+  const s = (v: number) => Number(v.toPrecision(3)).toString();
+  if (a * DEAD_TIME_DISAGREEMENT < b)
+    return `The configured dead time (${s(a)} s) is well under the apparent dead time of the loop's latest applied step test (${s(b)} s). The Harris index and the sluggish-tuning yardsticks are read against the configured one; if it is the transport delay alone, a well-tuned loop on a process with a second lag reads sluggish. Enter the apparent dead time if the step test still holds.`;
+  if (a > DEAD_TIME_DISAGREEMENT * b)
+    return `The configured dead time (${s(a)} s) is well over the apparent dead time of the loop's latest applied step test (${s(b)} s). The Harris index and the sluggish-tuning yardsticks are read against the configured one, and a dead time too long makes them lenient: a sluggish loop may read healthy. Check which one still holds.`;
+  return null;
 }
 
 /** True for loops whose process integrates (level), where PV increments replace PV (Horch). */

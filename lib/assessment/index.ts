@@ -9,7 +9,7 @@ import { marginMayDecide, withLoopMargin } from "./loop-margin-sign";
 import { countExcitation, disturbanceResponse, disturbanceTimeConstantS, estimationFactor, ownClosedLoopPoles } from "./closed-loop";
 import { detectCompression } from "./compression";
 import { errorWander } from "./error-wander";
-import { integralTime, isIntegrating, type LoopConfig } from "./config";
+import { deadTimeCaution, integralTime, isIntegrating, type LoopConfig } from "./config";
 import { loadOrValve } from "./load-or-valve";
 import { diagnose } from "./diagnosis";
 import { extendedHorizonSamples } from "./extended-horizon";
@@ -29,7 +29,7 @@ import { computeUsage } from "./usage";
 import { buildWindow, constantSpStretches, isClosed } from "./window";
 
 export * from "./types";
-export { parseLoopConfig, loopConfigSchema, LoopConfigError, type LoopConfig, type LoopConfigInput } from "./config";
+export { parseLoopConfig, loopConfigSchema, LoopConfigError, deadTimeCaution, DEAD_TIME_DISAGREEMENT, type LoopConfig, type LoopConfigInput } from "./config";
 export { parseAssessCsv, AssessCsvError, type ParsedAssessCsv } from "./csv";
 export { buildWindow, type AssessWindow } from "./window";
 
@@ -122,6 +122,8 @@ export function assessLoop(input: readonly AssessSample[], config: LoopConfig): 
   if (errorStretches !== stretches) cautions.push(SP_WANDER_CAUTION);
   let harris: LoopAssessmentReport["harrisIndex"] = null;
   let harrisDetail: LoopAssessmentReport["details"]["harris"] = null;
+  const deadTimeDisagreement = deadTimeCaution(config);
+  if (deadTimeDisagreement) cautions.push(deadTimeDisagreement);
   if (config.deadTimeS === null || config.deadTimeS === undefined) cautions.push("No dead time configured: the Harris index needs it (dead time cannot be told from routine closed-loop data; take it from a step test).");
   else if (compression.compressed) cautions.push("Harris index withheld: compressed data bias variances.");
   else {

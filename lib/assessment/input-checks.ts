@@ -10,7 +10,7 @@ import type { LoopConfig } from "./config";
 import { median } from "./signal";
 import type { AssessSample } from "./types";
 
-const NUMBER_FIELDS = ["pvLo", "pvHi", "samplePeriodS", "deadTimeS"];
+const NUMBER_FIELDS = ["pvLo", "pvHi", "samplePeriodS", "deadTimeS", "stepTestDeadTimeS"];
 const CONTROLLER_NUMBER_FIELDS = ["kp", "ti", "td", "mvLo", "mvHi", "derivativeFilterS"];
 const ENUM_FIELDS = ["kind", "normalMode"];
 const CONTROLLER_ENUM_FIELDS = ["action", "form", "derivativeOn"];

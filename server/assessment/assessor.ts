@@ -149,8 +149,8 @@ export class LiveAssessor {
       old.loop = loop;
       return;
     }
-    // A new dead time changes no sample: the window stays, and the next run (soon) uses it.
-    if (old && old.ring.stride === stride && JSON.stringify({ ...old.loop.config, deadTimeS: null }) === JSON.stringify({ ...loop.config, deadTimeS: null })) {
+    // A new dead time (the engineer's or a step test's) changes no sample: the window stays, and the next run (soon) uses it.
+    if (old && old.ring.stride === stride && JSON.stringify({ ...old.loop.config, deadTimeS: null, stepTestDeadTimeS: null }) === JSON.stringify({ ...loop.config, deadTimeS: null, stepTestDeadTimeS: null })) {
       old.loop = loop;
       old.windowConfig = windowConfig;
       old.dueAfter = Math.min(old.dueAfter, old.firstRun);

@@ -4,7 +4,9 @@
  * the loop's own derivative filter, MV limits, dead time. The dead time is the engineer's
  * (`loops.dead_time_s`), else that of the loop's latest step test whose proposal was applied
  * (accepted) to the loop, else none: the Harris index is then null with a caution (routine
- * closed-loop data cannot tell the dead time). With the loop's baseline time constant comes its
+ * closed-loop data cannot tell the dead time). Where the engineer's value is set and an applied step
+ * test has one too, the step test's rides along as `stepTestDeadTimeS` for a caution when the two
+ * disagree (lib/assessment/config.ts, deadTimeCaution). With the loop's baseline time constant comes its
  * tenant's sluggish-tuning multiple (work-list settings; absent = the default).
  */
 import type { Sequelize } from "sequelize";
@@ -21,7 +23,7 @@ export async function loadLiveLoops(sequelize: Sequelize, loopId?: number): Prom
   const loops: LiveLoop[] = [];
   const errors = new Map<number, string>();
   const rows = await readLoops(sequelize, loopId);
-  const stepDeadTimes = rows.some((l) => l.enabled && l.deadTimeS === null) ? await selectStepDeadTimes(sequelize, loopId) : new Map<number, number>();
+  const stepDeadTimes = rows.some((l) => l.enabled) ? await selectStepDeadTimes(sequelize, loopId) : new Map<number, number>();
   const multiples = rows.some((l) => l.enabled && l.baselineTimeConstantS !== null) ? await selectSluggishMultiples(sequelize) : new Map<number, number>();
   for (const l of rows) {
     if (!l.enabled) continue;
@@ -37,6 +39,8 @@ export async function loadLiveLoops(sequelize: Sequelize, loopId?: number): Prom
         pvHi: l.pvHi,
         samplePeriodS: l.telemetryPeriodS,
         deadTimeS: deadTimeOf(l.deadTimeS, stepDeadTimes.get(l.id)),
+        // beside the engineer's value, the step test's for a caution when the two disagree (deadTimeCaution)
+        stepTestDeadTimeS: deadTimeOf(l.deadTimeS, undefined) !== null ? deadTimeOf(null, stepDeadTimes.get(l.id)) : null,
         normalMode: "auto",
         controller: {
           kp: tuning.kp,

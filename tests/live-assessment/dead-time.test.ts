@@ -8,7 +8,7 @@
  * recordings of the benchmark generator (simulators/benchmark) with a known dead time.
  */
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import { parseLoopConfig } from "@/lib/assessment";
+import { deadTimeCaution, parseLoopConfig } from "@/lib/assessment";
 import type { TenantContext } from "@/lib/domain/types";
 import { LiveAssessor } from "@/server/assessment/assessor";
 import { loadLiveLoops } from "@/server/assessment/loop-configs";
@@ -60,6 +60,19 @@ describe("the loop's dead time for the live assessment", () => {
     await expect(updateLoop(ctx, fx.a.loopId, { deadTimeS: -1, reason: "typo" })).rejects.toThrow(/Dead time/);
     await updateLoop(ctx, fx.a.loopId, { deadTimeS: null, reason: "unknown after the rebuild" });
     expect(await deadTime()).toBe(3.5);
+  });
+
+  it("beside the engineer's value the applied step test's rides along for the disagreement caution; without it, none", async () => {
+    const { updateLoop } = await import("@/lib/data/admin/loops");
+    const ctx: TenantContext = { userId: fx.a.users.engineer.id, email: fx.a.users.engineer.email, name: "engineer", tenantId: fx.a.id, tenantSlug: fx.a.slug, tenantName: fx.a.name, role: "engineer" };
+    const config = async () => (await loadLiveLoops(db.sequelize, fx.a.loopId)).loops[0]!.config;
+    // no engineer's value: the step test's is the dead time, and nothing rides along
+    expect(await config()).toMatchObject({ deadTimeS: 3.5, stepTestDeadTimeS: null });
+    await updateLoop(ctx, fx.a.loopId, { deadTimeS: 1.5, reason: "transport delay from the drawing" });
+    const c = await config();
+    expect(c).toMatchObject({ deadTimeS: 1.5, stepTestDeadTimeS: 3.5 });
+    expect(deadTimeCaution(c)).toMatch(/\(1\.5 s\) is well under .*\(3\.5 s\)/);
+    await updateLoop(ctx, fx.a.loopId, { deadTimeS: null, reason: "back to the step test" });
   });
 });
 
