@@ -200,6 +200,34 @@ export async function reportLoops(tenantId: number, f: ReportLoopFilter, db: Seq
   return rows.map((r) => ({ ...r, id: Number(r.id), criticality: Number(r.criticality) }));
 }
 
+/** A work-list item still open or in work, as a period report shows it beside its loop. */
+export interface OpenWorkItem {
+  loopId: number;
+  label: string;
+  status: string;
+  owner: string | null;
+  openedAt: Date;
+}
+
+/** The tenant's work-list items not closed on the given loops, oldest first per loop. */
+export async function openWorkItemsByLoop(tenantId: number, loopIds: number[], db: Sequelize = getSequelize()): Promise<Map<number, OpenWorkItem[]>> {
+  const out = new Map<number, OpenWorkItem[]>();
+  if (!loopIds.length) return out;
+  const rows = await db.query<{ loop_id: number; label: string; status: string; owner: string | null; opened_at: Date | string }>(
+    `SELECT w.loop_id, w.label, w.status, u.name AS owner, w.opened_at
+       FROM work_items w LEFT JOIN users u ON u.id = w.owner_id
+      WHERE w.tenant_id = ? AND w.status <> 'closed' AND w.loop_id IN (?)
+      ORDER BY w.opened_at, w.id`,
+    { replacements: [tenantId, loopIds], type: QueryTypes.SELECT },
+  );
+  for (const r of rows) {
+    const id = Number(r.loop_id);
+    const item: OpenWorkItem = { loopId: id, label: r.label, status: r.status, owner: r.owner, openedAt: new Date(r.opened_at) };
+    (out.get(id) ?? out.set(id, []).get(id)!).push(item);
+  }
+  return out;
+}
+
 /** Names of a site and an area of the tenant (for a report's title when no loop matches). */
 export async function siteAndAreaNames(tenantId: number, siteId: number | undefined, areaId: number | undefined, db: Sequelize = getSequelize()): Promise<{ site: string | null; area: string | null }> {
   const [s] = siteId === undefined ? [] : await db.query<{ name: string }>("SELECT name FROM sites WHERE id = ? AND tenant_id = ?", { replacements: [siteId, tenantId], type: QueryTypes.SELECT });

@@ -9,14 +9,19 @@
  *                     common practice), u the share of estimates with the spectral radius ≥ 1
  *   oscillation 0.15  oscillation index of the assessment (0..1)
  *   stiction    0.15  likelihood of a sticking valve from the assessment (0..1)
- *   harris      0.10  max(0, 1 − η / η_kind): Harris index η (Desborough & Harris 1992, 0..1,
- *                     1 = minimum variance) against a benchmark per loop kind
+ *   harris      0.10  max(0, 1 − η / η_kind): η = 1 / Harris index, the share of the error's
+ *                     variance that the dead time makes unavoidable (Desborough & Harris 1992's
+ *                     performance index, 0..1, 1 = minimum variance), against a benchmark per
+ *                     loop kind. The assessment and the daily summaries keep the Harris index
+ *                     itself (σ² / σ²_mv ≥ 1, "variance 4× the minimum"; lib/assessment/harris.ts):
+ *                     one definition, turned into η here only.
  *   service     0.15  (1 − service factor) / 0.2: 20 % of the time out of the designed mode counts full
  *   alarm       0.10  (share of time with an operator alarm of the loop active) / 0.1
  *   saturation  0.10  (share of time with the output at a limit) / 0.2
  *
  * The weights are our choice, stated so the ranking is reproducible; a term whose figure is not
- * available yet (the routine-data assessment is not wired in) counts 0 and the report says so.
+ * available (a loop the routine-data assessment has not judged yet, or a Harris index without a
+ * configured dead time) counts 0 and the report says so.
  * Criticality 1..5 is set by the engineer per loop (3 = normal, weight 1).
  */
 
@@ -122,6 +127,16 @@ export function combineDays(days: DaySummary[]): PeriodFigures {
 
 const clamp01 = (v: number) => Math.min(1, Math.max(0, v));
 
+/**
+ * η of a Harris index (σ²_mv / σ², Desborough & Harris 1992): 1 at minimum variance, towards 0 as
+ * the variance grows. Null when there is no index; an index below 1 (sampling error of a loop at
+ * minimum variance) reads 1.
+ */
+export function harrisEta(harrisIndex: number | null): number | null {
+  if (harrisIndex == null || !Number.isFinite(harrisIndex) || harrisIndex <= 0) return null;
+  return Math.min(1, 1 / harrisIndex);
+}
+
 export interface LoopScore {
   score: number;
   terms: Record<ScoreTerm, number>;
@@ -143,11 +158,12 @@ export function scoreLoop(f: PeriodFigures, kind: string, criticality: number): 
   };
   const rimRaw = f.decayRatioMean == null && f.unstableShare == null ? null : Math.max(((f.decayRatioMean ?? 0.25) - 0.25) / 0.75, (f.unstableShare ?? 0) / 0.25);
   const bench = HARRIS_BENCHMARK[kind] ?? HARRIS_BENCHMARK.other!;
+  const eta = harrisEta(f.harrisIndex);
   const terms: Record<ScoreTerm, number> = {
     rim: term("rim", rimRaw),
     oscillation: term("oscillation", f.oscillationIndex),
     stiction: term("stiction", f.stictionLikelihood),
-    harris: term("harris", f.harrisIndex == null ? null : 1 - f.harrisIndex / bench),
+    harris: term("harris", eta == null ? null : 1 - eta / bench),
     service: term("service", f.serviceFactor == null ? null : (1 - f.serviceFactor) / 0.2),
     alarm: term("alarm", f.alarmShare == null ? null : f.alarmShare / 0.1),
     saturation: term("saturation", f.saturationShare == null ? null : f.saturationShare / 0.2),
@@ -167,7 +183,7 @@ export function scoreLoop(f: PeriodFigures, kind: string, criticality: number): 
     [SCORE_WEIGHTS.alarm * terms.alarm, `an operator alarm active ${pct(f.alarmShare)} of the time`],
     [SCORE_WEIGHTS.oscillation * terms.oscillation, `likely oscillating (index ${f.oscillationIndex?.toFixed(2)})`],
     [SCORE_WEIGHTS.stiction * terms.stiction, `likely sticking valve (${f.stictionLikelihood?.toFixed(2)})`],
-    [SCORE_WEIGHTS.harris * terms.harris, `Harris index ${f.harrisIndex?.toFixed(2)} against ${bench} for a ${kind} loop`],
+    [SCORE_WEIGHTS.harris * terms.harris, `variance ${f.harrisIndex?.toFixed(1)}× the minimum the dead time allows (Harris index; eta ${eta?.toFixed(2)} against ${bench} for a ${kind} loop)`],
   ];
   const evidence = lines
     .filter(([c]) => c > 0.005)
@@ -180,6 +196,6 @@ export function scoreLoop(f: PeriodFigures, kind: string, criticality: number): 
 export const SCORE_FORMULA_LINES = [
   "Score = 100 x (criticality / 3) x (0.25*rim + 0.15*oscillation + 0.15*stiction + 0.10*Harris + 0.15*service + 0.10*alarm + 0.10*saturation); every term clipped to 0..1.",
   "rim = max((mean decay ratio while tracking - 0.25) / 0.75, share of estimates with spectral radius >= 1 / 0.25); service = (1 - service factor) / 0.2; alarm = share of time in alarm / 0.1; saturation = share of time at an output limit / 0.2.",
-  "Harris = max(0, 1 - eta/eta_kind) with eta_kind: flow 0.5, pressure 0.5, temperature 0.4, composition 0.3, level 0.1 (averaging level loops run slow by design).",
-  "Oscillation, stiction and Harris index come from the routine-data assessment; until it is wired in they are not available, count 0, and the diagnosis reads 'undetermined'.",
+  "Harris = max(0, 1 - eta/eta_kind), eta = 1 / Harris index (1 = minimum variance), with eta_kind: flow 0.5, pressure 0.5, temperature 0.4, composition 0.3, level 0.1 (averaging level loops run slow by design).",
+  "Oscillation, stiction, the Harris index and the diagnosis come from the loop's routine-data assessment (the latest of each day); a loop not judged yet counts 0 for them and reads 'not judged yet', and the Harris index needs the loop's dead time.",
 ];

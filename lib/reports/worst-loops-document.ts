@@ -1,6 +1,7 @@
 /** The worst-loops report as a document (screen, CSV, PDF). Pure and browser-safe. */
 import { fileSlug, formatNumber, REPORT_CAUTION, type ReportDoc } from "./document";
-import { SCORE_FORMULA_LINES } from "./score";
+import { FINDING_WORDS, findingPhrase } from "@/lib/domain/findings";
+import { SCORE_FORMULA_LINES, type DiagnosisLabel } from "./score";
 import type { WorstLoopsReport } from "./worst-loops";
 
 const pct = (v: number | null) => formatNumber(v == null ? null : 100 * v, 1);
@@ -32,7 +33,7 @@ export function worstLoopsDocument(r: WorstLoopsReport, opts: { limit?: number }
         title: opts.limit && r.rows.length > opts.limit ? `Ranking (top ${opts.limit} of ${r.rows.length}; the CSV holds all)` : `Ranking (${r.rows.length} loops)`,
         lines: [
           ...SCORE_FORMULA_LINES,
-          `Trend: against the previous period of the same length. ${r.withoutData} loop(s) of the filter had no data in the period. ${undetermined} of ${r.rows.length} loop(s) have no diagnosis yet (undetermined). Open work-list items: the engineering work list is not part of this build yet.`,
+          `Trend: against the previous period of the same length. ${r.withoutData} loop(s) of the filter had no data in the period. ${undetermined} of ${r.rows.length} loop(s) not judged yet. Diagnosis: that of the latest judged day, with its confidence. Work item: the loop's work-list items still open or in work now, with their owner.`,
         ],
         columns: [
           { label: "Rank", width: 0.45 },
@@ -49,6 +50,7 @@ export function worstLoopsDocument(r: WorstLoopsReport, opts: { limit?: number }
           { label: "In alarm", unit: "%", width: 0.7 },
           { label: "Diagnosis", width: 2.0 },
           { label: "Evidence", width: 2.4 },
+          { label: "Work item", width: 1.4 },
         ],
         rows: rows.map((x) => [
           String(x.rank),
@@ -63,11 +65,27 @@ export function worstLoopsDocument(r: WorstLoopsReport, opts: { limit?: number }
           pct(x.figures.serviceFactor),
           pct(x.figures.saturationShare),
           pct(x.figures.alarmShare),
-          x.figures.diagnosisLabel === "undetermined" ? "undetermined" : `likely ${x.figures.diagnosisLabel} (${formatNumber(x.figures.diagnosisConfidence, 2)})`,
+          diagnosisCell(x.figures.diagnosisLabel, x.figures.diagnosisConfidence),
           x.evidence.join("; ") || "no figure above its threshold",
+          x.workItems.map(workItemCell).join("; ") || "–",
         ]),
         empty: "No loop of this filter has a daily summary in the period.",
       },
     ],
   };
+}
+
+/** "likely sticking valve (0.90)", as the console words a finding; "not judged yet" without one. */
+export function diagnosisCell(label: string, confidence: number | null): string {
+  if (!(label in FINDING_WORDS)) return label;
+  const l = label as DiagnosisLabel;
+  if (l === "undetermined") return FINDING_WORDS.undetermined;
+  const phrase = findingPhrase({ label: l, confidence: confidence ?? 0, needsS: null });
+  return confidence === null ? phrase : `${phrase} (${formatNumber(confidence, 2)})`;
+}
+
+/** "sticking valve, in work (Dana Keswick)". */
+function workItemCell(w: { label: string; status: string; owner: string | null }): string {
+  const word = w.label in FINDING_WORDS ? FINDING_WORDS[w.label as DiagnosisLabel] : w.label;
+  return `${word}, ${w.status === "in-work" ? "in work" : w.status}${w.owner ? ` (${w.owner})` : ""}`;
 }

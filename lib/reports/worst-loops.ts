@@ -4,7 +4,7 @@
  * period of the same length. Filters: site, area, kind. Its SQL is in lib/data/reports.ts.
  */
 import type { Sequelize } from "sequelize";
-import { loadDaySummaries, reportLoops } from "@/lib/data/reports";
+import { loadDaySummaries, openWorkItemsByLoop, reportLoops, type OpenWorkItem } from "@/lib/data/reports";
 import { ValidationError } from "@/lib/domain/errors";
 import { combineDays, scoreLoop, type DaySummary, type PeriodFigures, type ScoreTerm } from "./score";
 import { utcDay } from "./summaries";
@@ -37,6 +37,8 @@ export interface WorstLoopRow {
   figures: PeriodFigures;
   evidence: string[];
   missing: ScoreTerm[];
+  /** Work-list items of the loop still open or in work (now, not over the period). */
+  workItems: Pick<OpenWorkItem, "label" | "status" | "owner">[];
 }
 
 export interface WorstLoopsReport {
@@ -70,6 +72,7 @@ export async function buildWorstLoops(
   };
   const curBy = group(cur);
   const prevBy = group(prev);
+  const items = await openWorkItemsByLoop(ctx.tenantId, ids, db);
   let withoutData = 0;
   const rows: WorstLoopRow[] = [];
   for (const l of loops) {
@@ -97,6 +100,7 @@ export async function buildWorstLoops(
       figures,
       evidence: s.evidence,
       missing: s.missing,
+      workItems: (items.get(id) ?? []).map((w) => ({ label: w.label, status: w.status, owner: w.owner })),
     });
   }
   rows.sort((a, b) => b.score - a.score || a.tag.localeCompare(b.tag) || a.loopId - b.loopId);

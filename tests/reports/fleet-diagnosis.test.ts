@@ -96,8 +96,8 @@ beforeAll(async () => {
   await q(`INSERT INTO samples_1m (loop_id, t, sp_min, sp_mean, sp_max, pv_min, pv_mean, pv_max, mv_min, mv_mean, mv_max, radius_min, radius_mean, radius_max, manual_fraction, n) VALUES ${rows.join(",")}`, []);
 
   const sources = new Map<number, LiveFindingSource>([
-    [ids.flow, { finding: finding(ids.flow, `${DAY}T11:00:00Z`, "valve-stiction", 0.8), report: { oscillation: { detected: true, periodS: 90, regularity: 2, amplitude: 1 }, stiction: { verdict: "likely", evidence: [] }, harrisIndex: 0.3 } }],
-    [ids.level, { finding: finding(ids.level, `${DAY}T10:00:00Z`, "healthy", 0.95), report: { oscillation: { detected: false, periodS: null, regularity: null, amplitude: null }, stiction: { verdict: "unlikely", evidence: [] }, harrisIndex: 0.05 } }],
+    [ids.flow, { finding: finding(ids.flow, `${DAY}T11:00:00Z`, "valve-stiction", 0.8), report: { oscillation: { detected: true, periodS: 90, regularity: 2, amplitude: 1 }, stiction: { verdict: "likely", evidence: [] }, harrisIndex: 3.3 } }],
+    [ids.level, { finding: finding(ids.level, `${DAY}T10:00:00Z`, "healthy", 0.95), report: { oscillation: { detected: false, periodS: null, regularity: null, amplitude: null }, stiction: { verdict: "unlikely", evidence: [] }, harrisIndex: 1.2 } }],
     // Judged the day before: says nothing about this day.
     [ids.temperature, { finding: finding(ids.temperature, "2026-11-23T22:00:00Z", "aggressive-tuning", 0.9), report: null }],
   ]);
@@ -119,7 +119,7 @@ describe("daily summaries take the live assessment's diagnosis", () => {
       { replacements: [DAY], type: QueryTypes.SELECT },
     );
     const by = new Map(rows.map((r) => [Number(r.loop_id), r]));
-    expect(by.get(ids.flow)).toMatchObject({ diagnosis_label: "valve-stiction", diagnosis_confidence: 0.8, oscillation_index: 1, stiction_likelihood: 1, harris_index: 0.3 });
+    expect(by.get(ids.flow)).toMatchObject({ diagnosis_label: "valve-stiction", diagnosis_confidence: 0.8, oscillation_index: 1, stiction_likelihood: 1, harris_index: 3.3 });
     expect(by.get(ids.level)).toMatchObject({ diagnosis_label: "healthy", diagnosis_confidence: 0.95, oscillation_index: 0, stiction_likelihood: 0 });
     expect(by.get(ids.temperature)).toMatchObject({ diagnosis_label: "undetermined", diagnosis_confidence: null });
   });

@@ -9,7 +9,8 @@
  * the complex pole of largest modulus, as the tracker accuracy tests take it) reached 0.5 by the end of the hour, on a loop the tracker has judged
  * (slow loops may still be learning after one hour); a manual spell or saturation episode of
  * the scenario inside the hour. Slower drifts still healthy at the hour, sticking valves and frozen
- * transmitters (these need the routine-data assessment, not wired in yet) are printed, not asserted.
+ * transmitters (read by the routine-data assessment, which this harness does not run: its daily
+ * summaries carry no finding) are printed, not asserted.
  * Also: screen document, CSV and PDF of the report carry the same cells; the PDF holds the top 50.
  */
 import { execFileSync } from "node:child_process";
@@ -149,7 +150,7 @@ describe("worst-loops ranking on the demo scenario", () => {
     for (const t of visible) expect({ tag: t, aboveHealthyMedian: rankOf.get(t)! < median }).toEqual({ tag: t, aboveHealthyMedian: true });
   });
 
-  it("no loop gets a diagnosis the product cannot make yet: all undetermined, and the missing terms are named", () => {
+  it("without the routine-data assessment in the harness no loop has a diagnosis: all 'not judged yet', and the missing terms are named", () => {
     for (const r of report.rows) {
       expect(r.figures.diagnosisLabel).toBe("undetermined");
       expect(r.missing).toEqual(expect.arrayContaining(["oscillation", "stiction", "harris"]));
@@ -173,5 +174,37 @@ describe("worst-loops ranking on the demo scenario", () => {
       for (const cell of row.slice(0, 13)) expect(dense).toContain(cell.replace(/\s+/g, ""));
     }
     fs.rmSync(dir, { recursive: true, force: true });
+  });
+});
+
+describe("work-list items beside the ranking", () => {
+  it("each row names the loop's items still open or in work, with their owner; closed items are not shown", async () => {
+    const q = (sql: string, r: unknown[]) => db.sequelize.query(sql, { replacements: r });
+    const [uid] = (await q("INSERT INTO users (email, name, created_at, updated_at) VALUES ('eng@fenwick.example', 'Ada Quarry', UTC_TIMESTAMP(3), UTC_TIMESTAMP(3))", [])) as unknown as [number];
+    const [a, b] = report.rows;
+    const [site] = (await db.sequelize.query("SELECT site_id FROM loops WHERE id = ?", { replacements: [a!.loopId], type: "SELECT" })) as { site_id: number }[];
+    const item = (loopId: number, label: string, status: string, owner: number | null) =>
+      q(
+        `INSERT INTO work_items (tenant_id, site_id, loop_id, label, status, owner_id, confidence, opened_at, last_seen_at, closed_at, figures_at_open, figures_latest, evidence, created_at, updated_at)
+         VALUES (?,?,?,?,?,?,0.8,UTC_TIMESTAMP(3),UTC_TIMESTAMP(3),?,'{}','{}','[]',UTC_TIMESTAMP(3),UTC_TIMESTAMP(3))`,
+        [tenantId, site!.site_id, loopId, label, status, owner, status === "closed" ? new Date() : null],
+      );
+    await item(a!.loopId, "valve-stiction", "in-work", Number(uid));
+    await item(a!.loopId, "sluggish-tuning", "open", null);
+    await item(b!.loopId, "aggressive-tuning", "closed", Number(uid));
+    const r = await buildWorstLoops({ tenantId, tenantName: "Fenwick Mills" }, { from: Date.UTC(2026, 10, 23), to: Date.UTC(2026, 10, 30) });
+    const rowA = r.rows.find((x) => x.loopId === a!.loopId)!;
+    const rowB = r.rows.find((x) => x.loopId === b!.loopId)!;
+    expect(rowA.workItems).toEqual([
+      { label: "valve-stiction", status: "in-work", owner: "Ada Quarry" },
+      { label: "sluggish-tuning", status: "open", owner: null },
+    ]);
+    expect(rowB.workItems).toEqual([]);
+    const doc = worstLoopsDocument(r);
+    const col = doc.sections[0]!.columns.findIndex((c) => c.label === "Work item");
+    expect(col).toBeGreaterThan(0);
+    const cells = new Map(doc.sections[0]!.rows.map((row) => [row[1], row[col]]));
+    expect(cells.get(rowA.tag)).toBe("sticking valve, in work (Ada Quarry); sluggish tuning, open");
+    expect(cells.get(rowB.tag)).toBe("–");
   });
 });

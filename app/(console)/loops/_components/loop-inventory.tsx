@@ -61,7 +61,7 @@ export function LoopInventory({ role }: { role: Role }) {
           return p && a ? <PriorityMark priority={p} state={a.state} size={16} /> : <span className="text-muted">—</span>;
         },
       }),
-      col.accessor("tag", { header: "Tag", cell: (c) => <Link className="font-mono font-semibold hover:underline" href={`/loops/${c.row.original.id}`}>{c.getValue()}</Link> }),
+      col.accessor("tag", { header: "Tag", cell: (c) => <Link className="whitespace-nowrap font-mono font-semibold hover:underline" href={`/loops/${c.row.original.id}`}>{c.getValue()}</Link> }),
       col.accessor("description", { header: "Description", enableSorting: false }),
       col.accessor((l) => `${l.siteName}${l.area ? ` · ${l.area}` : ""}`, { id: "where", header: "Site · area" }),
       col.accessor("kind", { header: "Kind" }),

@@ -18,18 +18,19 @@ export function ReportDocView({ doc }: { doc: ReportDoc }) {
           {s.chart && (
             <figure className="mb-2" aria-label={s.chart.title}>
               <figcaption className="text-xs text-muted">{s.chart.title}</figcaption>
-              <svg width="400" height={s.chart.bars.length * 20} viewBox={`0 0 400 ${s.chart.bars.length * 20}`} role="img" className="max-w-full">
+              <svg width={chartWidth(s.chart)} height={s.chart.bars.length * 20} viewBox={`0 0 ${chartWidth(s.chart)} ${s.chart.bars.length * 20}`} role="img" className="max-w-full">
                 {s.chart.bars.map((b, i) => {
                   const max = Math.max(1, ...s.chart!.bars.map((x) => Math.max(x.value, x.target ?? 0)));
+                  const x0 = labelWidth(s.chart!);
                   return (
                     <g key={b.label} transform={`translate(0 ${i * 20})`}>
                       <text x="0" y="13" fontSize="11" fill="currentColor">
                         {b.label}
                       </text>
-                      <rect x="70" y="3" width={(250 * b.value) / max} height="12" fill="var(--rg-accent)" opacity="0.55" />
-                      <rect x="70" y="3" width="250" height="12" fill="none" stroke="var(--rg-line)" />
-                      {b.target !== undefined && <line x1={70 + (250 * b.target) / max} x2={70 + (250 * b.target) / max} y1="0" y2="18" stroke="currentColor" strokeWidth="1.5" />}
-                      <text x="328" y="13" fontSize="11" fill="currentColor">
+                      <rect x={x0} y="3" width={(250 * b.value) / max} height="12" fill="var(--rg-accent)" opacity="0.55" />
+                      <rect x={x0} y="3" width="250" height="12" fill="none" stroke="var(--rg-line)" />
+                      {b.target !== undefined && <line x1={x0 + (250 * b.target) / max} x2={x0 + (250 * b.target) / max} y1="0" y2="18" stroke="currentColor" strokeWidth="1.5" />}
+                      <text x={x0 + 258} y="13" fontSize="11" fill="currentColor">
                         {b.value.toFixed(1)} {s.chart!.unit}
                       </text>
                     </g>
@@ -57,7 +58,7 @@ export function ReportDocView({ doc }: { doc: ReportDoc }) {
                   {s.rows.map((r, i) => (
                     <tr key={i} className="border-b border-line/60 align-top">
                       {r.map((cell, j) => (
-                        <td key={j} className="whitespace-pre-wrap px-2 py-1">
+                        <td key={j} className={`${unbroken(cell) ? "whitespace-nowrap" : "whitespace-pre-wrap"} px-2 py-1`}>
                           {cell}
                         </td>
                       ))}
@@ -71,4 +72,18 @@ export function ReportDocView({ doc }: { doc: ReportDoc }) {
       ))}
     </div>
   );
+}
+
+/** Room for the bars' labels: about 6.5 px per character at 11 px, at least 70 px (the former fixed offset). */
+function labelWidth(c: { bars: { label: string }[] }): number {
+  return Math.max(70, Math.ceil(6.5 * Math.max(0, ...c.bars.map((b) => b.label.length))) + 10);
+}
+
+function chartWidth(c: { bars: { label: string }[] }): number {
+  return labelWidth(c) + 330;
+}
+
+/** A short cell without spaces (a tag such as FIC-4203, a time, a figure) is kept on one line: a browser would break it at its hyphen. */
+function unbroken(cell: string): boolean {
+  return cell.length <= 24 && !/\s/.test(cell);
 }
