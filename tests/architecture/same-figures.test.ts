@@ -66,5 +66,14 @@ describe("alarms, API and page show the same figures for one state", () => {
     const cell = (label: string) => new RegExp(`${label}</dt><dd[^>]*>([^<]*)<`).exec(html)?.[1];
     expect(cell("decay ratio")).toBe(s.decayRatio!.toFixed(3));
     expect(cell("rim distance")).toBe(s.rimDistance!.toFixed(4));
+    // the decay ratio is the slowest-decaying oscillating mode's, printed with that mode (the
+    // dominant pole above it may be real); without a complex pole the panel says there is none
+    expect(s.oscillation).toBeTruthy();
+    const mode = /data-testid="oscillating-mode">(.*?)<\/dl>/.exec(html)?.[1] ?? "";
+    expect(mode).toContain(s.decayRatio!.toFixed(3));
+    expect(mode).toContain(s.oscillation!.radius.toFixed(4));
+    const none = renderToStaticMarkup(createElement(AnalysisPanel, { state: { ...s, oscillation: null, decayRatio: null }, now: s.at }));
+    expect(none).toContain("None: no complex closed-loop pole");
+    expect(none).not.toContain('data-testid="oscillating-mode"');
   });
 });

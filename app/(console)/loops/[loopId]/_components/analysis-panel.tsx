@@ -1,6 +1,7 @@
 /**
  * What the tracker knows about the loop, in numbers: dominant pole and its continuous
- * equivalents, gain headroom, delay, estimation period with a sampling-adequacy note, estimator
+ * equivalents, the slowest-decaying oscillating mode (whose decay ratio the margin alarm reads;
+ * often not the dominant pole, which may be real), gain headroom, delay, estimation period with a sampling-adequacy note, estimator
  * health, and the Jury test of the characteristic polynomial.
  */
 import { zToS } from "@/lib/control/zplane";
@@ -42,6 +43,7 @@ export function AnalysisPanel({ state, now }: { state: LoopStateDto | null; now:
   const T = state.estimationPeriodS;
   const dom = dominantPole(effectivePoles(state));
   const pc = state.dominant;
+  const osc = state.oscillation ?? null;
   const s = dom && dom.radius > 0 ? zToS(dom, T) : null;
   const settling = pc && pc.zeta != null && pc.wn != null && pc.zeta > 0 && pc.zeta < 1 && pc.wn > 0 ? 4 / (pc.zeta * pc.wn) : pc?.timeConstant != null ? 4 * pc.timeConstant : null;
   const wnT = pc?.wn != null ? pc.wn * T : null;
@@ -57,7 +59,6 @@ export function AnalysisPanel({ state, now }: { state: LoopStateDto | null; now:
           <Row k="z" v={dom ? `${fmt(dom.re, 4)} ${dom.im < 0 ? "−" : "+"} ${fmt(Math.abs(dom.im), 4)} j` : "—"} />
           <Row k="radius |z|" v={`${fmt(state.spectralRadius, 4)}${state.radiusSd != null ? ` ± ${fmt(state.radiusSd, 4)} (1σ)` : ""}`} />
           <Row k="rim distance" v={fmt(state.rimDistance, 4)} />
-          <Row k="decay ratio" v={fmt(state.decayRatio, 3)} hint="amplitude ratio of successive peaks; 1 on the unit circle" />
           <Row k="damping ratio ζ" v={pc?.zeta != null ? fmt(pc.zeta, 3) : "—"} />
           <Row k="natural frequency ωn" v={pc?.wn != null ? `${fmt(pc.wn, 4)} rad/s` : "—"} />
           <Row k="time constant τ" v={fmtSeconds(pc?.timeConstant ?? null)} />
@@ -69,6 +70,21 @@ export function AnalysisPanel({ state, now }: { state: LoopStateDto | null; now:
           <Row k={`decay ratio reaches ${state.forecast?.alarmLevel ? fmt(state.forecast.alarmLevel.decayRatio, 2) : "the alarm level"} (forecast)`} v={crossing(state.forecast?.alarmLevel)} />
           <Row k="radius reaches 1 (forecast)" v={crossing(state.forecast?.radiusOne)} />
         </dl>
+        <h3 className="mb-1 mt-3 font-semibold">Slowest-decaying oscillating mode</h3>
+        {osc ? (
+          <dl data-testid="oscillating-mode">
+            <Row k="z" v={`${fmt(osc.re, 4)} ± ${fmt(Math.abs(osc.im), 4)} j`} />
+            <Row k="radius |z|" v={`${fmt(osc.radius, 4)}${osc.sdRadius != null ? ` ± ${fmt(osc.sdRadius, 4)} (1σ)` : ""}`} />
+            <Row k="decay ratio" v={fmt(state.decayRatio ?? osc.decayRatio, 3)} hint="amplitude ratio of successive peaks of this mode; 1 on the unit circle" />
+            <Row k="damping ratio ζ" v={fmt(osc.zeta, 3)} />
+            <Row k="period" v={fmtSeconds(osc.periodS)} />
+          </dl>
+        ) : (
+          <p className="text-sm text-muted">None: no complex closed-loop pole, so no decay ratio.</p>
+        )}
+        <p className="mt-1 text-xs text-muted">
+          The margin alarm reads this mode with its radius moved toward the centre by the policy&apos;s confidence (a number of standard deviations), so its value stays lower while the pole is poorly determined.
+        </p>
         <h3 className="mb-1 mt-3 font-semibold">Estimation</h3>
         <dl>
           <Row k="tracker state" v={`${state.trackerState}${state.stateReason ? ` — ${state.stateReason}` : ""}`} />
