@@ -12,7 +12,7 @@
 import { useMemo } from "react";
 import { useLoop, useLoopSamples } from "@/lib/client/hooks";
 import { useLoopFinding } from "@/lib/client/findings";
-import { fmt } from "@/lib/client/format";
+import { fmt, fmtSeconds } from "@/lib/client/format";
 import { FindingMark } from "./finding-mark";
 
 const W = 260;
@@ -87,7 +87,7 @@ export function FindingEvidencePanel({ loopId }: { loopId: number }) {
       <header className="flex flex-wrap items-baseline gap-3">
         <h2 className="text-base font-semibold">Finding from routine data</h2>
         <FindingMark finding={finding} />
-        {finding && <span className="text-xs text-muted">confidence {finding.confidence.toFixed(2)} · window {fmt(finding.windowS / 60)} min · {new Date(finding.at).toISOString().slice(11, 19)} UTC</span>}
+        {finding && <span className="text-xs text-muted">confidence {finding.confidence.toFixed(2)} · window {fmtSeconds(finding.windowS)} · {new Date(finding.at).toISOString().slice(11, 19)} UTC</span>}
       </header>
       <div className="flex flex-wrap gap-4">
         <PvMvPlot pts={pts} />
