@@ -1,6 +1,12 @@
-/** Per operator-area summary of the live loop list: loops, alarms by priority, stale count, worst radius. */
+/**
+ * Per operator-area summary of the live loop list: loops, alarms by priority, stale count, and the
+ * worst radius among loops whose estimate is trusted (tracking, data not stale): a learning or
+ * poor-fit estimate may put a pole far outside the circle, and the tiles show it muted for that
+ * reason; an area's headline figure must not carry it.
+ */
 import "client-only";
 import type { AlarmPriority, LiveLoopSummary } from "@/lib/domain/types";
+import { NON_TRACKING } from "@/lib/domain/alarms/conditions";
 import { ATTENTION_STATES, dataAge } from "./order";
 
 export interface AreaStats {
@@ -23,13 +29,14 @@ export function summariseAreas(loops: readonly LiveLoopSummary[], now: number): 
       m.set(name, a);
     }
     a.loops++;
-    if (dataAge(l.state, now).stale) a.stale++;
+    const stale = dataAge(l.state, now).stale;
+    if (stale) a.stale++;
     for (const al of l.alarms) {
       if (!ATTENTION_STATES.has(al.state)) continue;
       a.byPriority[al.priority]++;
       if (al.state !== "acknowledged") a.unacked++;
     }
-    const r = l.state?.spectralRadius;
+    const r = l.state && !stale && !NON_TRACKING.has(l.state.trackerState) ? l.state.spectralRadius : null;
     if (r != null && (a.worstRadius === null || r > a.worstRadius)) a.worstRadius = r;
   }
   return [...m.values()].sort((x, y) => y.byPriority.urgent - x.byPriority.urgent || y.byPriority.high - x.byPriority.high || x.name.localeCompare(y.name));
