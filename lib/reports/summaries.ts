@@ -13,6 +13,9 @@ import type { LoopAssessmentReport } from "@/lib/assessment/types";
 import type { LoopFinding } from "@/lib/domain/findings";
 import { DIAGNOSIS_LABELS } from "./score";
 
+/** Today's summaries are rebuilt this often (server/reports/index.ts), so the reports' "today so far" lags by up to this much. */
+export const TODAY_REBUILD_MINUTES = 10;
+
 const DAY_MS = 86_400_000;
 
 /** "2026-11-30" -> [start, end) epoch ms. */

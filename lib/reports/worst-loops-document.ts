@@ -2,6 +2,7 @@
 import { fileSlug, formatNumber, REPORT_CAUTION, type ReportDoc } from "./document";
 import { FINDING_WORDS, findingPhrase } from "@/lib/domain/findings";
 import { SCORE_FORMULA_LINES, type DiagnosisLabel } from "./score";
+import { TODAY_REBUILD_MINUTES } from "./summaries";
 import type { WorstLoopsReport } from "./worst-loops";
 
 const pct = (v: number | null) => formatNumber(v == null ? null : 100 * v, 1);
@@ -33,7 +34,7 @@ export function worstLoopsDocument(r: WorstLoopsReport, opts: { limit?: number }
         title: opts.limit && r.rows.length > opts.limit ? `Ranking (top ${opts.limit} of ${r.rows.length}; the CSV holds all)` : `Ranking (${r.rows.length} loops)`,
         lines: [
           ...SCORE_FORMULA_LINES,
-          `Trend: against the previous period of the same length. ${r.withoutData} loop(s) of the filter had no data in the period. ${undetermined} of ${r.rows.length} loop(s) not judged yet. Diagnosis: that of the latest judged day, with its confidence. Work item: the loop's work-list items still open or in work now, with their owner.`,
+          `Trend: against the previous period of the same length. ${r.withoutData} loop(s) of the filter had no data in the period. ${undetermined} of ${r.rows.length} loop(s) not judged yet. Diagnosis: that of the latest judged day, with its confidence. Work item: the loop's work-list items still open or in work now, with their owner. Today's figures are rebuilt every ${TODAY_REBUILD_MINUTES} minutes, so today's diagnosis can lag the loop's live finding by that much.`,
         ],
         columns: [
           { label: "Rank", width: 0.45 },

@@ -2,7 +2,7 @@
  * The report scheduler: keeps the per-loop daily summaries current and delivers reports by e-mail
  * through the mail service, with the PDF attached.
  *
- * - Daily summaries: today's are rebuilt every TODAY_EVERY_MS (the reports include today so far),
+ * - Daily summaries: today's are rebuilt every TODAY_REBUILD_MINUTES (the reports include today so far),
  *   yesterday's once after midnight (idempotent set-based statements, lib/data/reports.ts;
  *   `npm run bench:reports` measures one full day of 2,000 loops), each with the diagnosis of the
  *   live assessment's finding of that day (findings.ts).
@@ -22,7 +22,7 @@ import { fleetHealthDocument } from "@/lib/reports/fleet-health-document";
 import { buildHandover, siteShiftInfo } from "@/lib/reports/handover";
 import { reportPdf } from "@/lib/reports/pdf";
 import { lastEndedShift, parseShiftStarts } from "@/lib/reports/shifts";
-import { utcDay } from "@/lib/reports/summaries";
+import { TODAY_REBUILD_MINUTES, utcDay } from "@/lib/reports/summaries";
 import { buildWorstLoops } from "@/lib/reports/worst-loops";
 import { worstLoopsDocument } from "@/lib/reports/worst-loops-document";
 import { isoWeek } from "@/lib/reports/fleet-health";
@@ -31,7 +31,7 @@ import { liveFindingsOf, summarizeDayWithFindings, type FindingLookup } from "./
 const DAY_MS = 86_400_000;
 export const HANDOVER_CATCH_UP_MS = 6 * 3600_000;
 const TICK_MS = 60_000;
-const TODAY_EVERY_MS = 10 * 60_000;
+const TODAY_EVERY_MS = TODAY_REBUILD_MINUTES * 60_000;
 
 export interface ReportScheduler extends Service {
   tick(): Promise<{ sent: number; skipped: number; failed: number }>;
