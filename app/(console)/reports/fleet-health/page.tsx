@@ -23,7 +23,18 @@ export default async function FleetHealthPage({ searchParams }: { searchParams: 
       <ReportTabs active="/reports/fleet-health" />
       <ReportHeading title={doc.title} period={doc.period}>
         <ReportDownloads endpoint="/api/reports/fleet-health" params={params}>
-          <a href={`/reports/fleet-health?${new URLSearchParams({ ...Object.fromEntries(params), granularity: granularity === "week" ? "month" : "week" })}`}>by {granularity === "week" ? "month" : "week"}</a>
+          <span className="flex" role="group" aria-label="Period of each bucket">
+            {(["week", "month"] as const).map((g) => (
+              <a
+                key={g}
+                href={`/reports/fleet-health?${new URLSearchParams({ ...Object.fromEntries(params), granularity: g })}`}
+                aria-current={g === granularity ? "true" : undefined}
+                className={`border border-line px-2 py-0.5 first:rounded-l last:rounded-r ${g === granularity ? "bg-raised font-semibold" : "text-muted"}`}
+              >
+                by {g}
+              </a>
+            ))}
+          </span>
         </ReportDownloads>
       </ReportHeading>
       <PeriodFilter action="/reports/fleet-health" from={from} to={to} siteId={q.siteId} areaId={q.areaId} kind={q.kind} sites={sites} />
