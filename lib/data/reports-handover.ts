@@ -54,6 +54,16 @@ export async function handoverOccurrences(tenantId: number, loopIds: number[], s
   );
 }
 
+/** Work-list items of the loops opened in [start, end), oldest first (the engineering findings of a shift). */
+export async function workItemsOpened(tenantId: number, loopIds: number[], start: number, end: number, db: Sequelize = getSequelize()) {
+  return select<{ id: number; loop_id: number; label: string; confidence: number; opened_at: Date; evidence: unknown }>(
+    db,
+    `SELECT id, loop_id, label, confidence, opened_at, evidence FROM work_items
+      WHERE tenant_id = ? AND loop_id IN (?) AND opened_at >= ? AND opened_at < ? ORDER BY opened_at, id`,
+    [tenantId, loopIds.length ? loopIds : [0], new Date(start), new Date(end)],
+  );
+}
+
 /** Alarms of the loops whose last state change before `end` shelved them or took them out of service. */
 export async function outOfNormalAt(tenantId: number, loopIds: number[], end: number, db: Sequelize = getSequelize()) {
   return select<{ alarm_id: number; loop_id: number; to_state: string; comment: string | null; at: Date; name: string | null; condition: string }>(

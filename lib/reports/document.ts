@@ -4,7 +4,12 @@
  * Pure and browser-safe.
  */
 import { CAUTION_NEVER_WRITES, CAUTION_TEXT } from "@/lib/caution";
+import { FINDING_WORDS } from "@/lib/domain/findings";
 import type { Handover } from "./handover";
+import type { DiagnosisLabel } from "./score";
+
+/** A diagnosis label as the console words it ("sticking valve"); an unknown label as it is. */
+export const findingWord = (label: string): string => (label in FINDING_WORDS ? FINDING_WORDS[label as DiagnosisLabel] : label);
 import { localParts } from "./shifts";
 
 export interface ReportColumn {
@@ -108,6 +113,14 @@ export function handoverDocument(h: Handover): ReportDoc {
         columns: [{ label: "Loop" }, { label: "State" }, { label: "Since", width: 1.4 }],
         rows: h.manualOrSaturated.map((m) => [m.loopTag, m.state, at(m.since)]),
         empty: `No loop is in manual or saturated ${atEnd}.`,
+      },
+      {
+        id: "work-items",
+        title: "Work-list items opened during the shift",
+        lines: ["Findings from routine data for the loops' engineers (likely causes, not alarms); their owner and status are on the work list."],
+        columns: [{ label: "Opened", width: 1.4 }, { label: "Loop" }, { label: "Finding", width: 1.4 }, { label: "Confidence" }, { label: "Evidence", width: 3.2 }],
+        rows: h.workItems.map((w) => [at(w.openedAt), w.loopTag, findingWord(w.label), w.confidence.toFixed(2), w.evidence ?? "–"]),
+        empty: "No work-list item was opened during the shift.",
       },
       {
         id: "notes",

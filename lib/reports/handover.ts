@@ -16,6 +16,7 @@ import {
   siteShiftRow,
   snapshotsBefore,
   snapshotsDuring,
+  workItemsOpened,
 } from "@/lib/data/reports-handover";
 import { computeAlarmKpis, type AlarmKpis, type OccurrenceRecord } from "@/lib/domain/alarms/kpis";
 import { NotFoundError, ValidationError } from "@/lib/domain/errors";
@@ -75,6 +76,17 @@ export interface HandoverManual {
   since: number;
 }
 
+/** A work-list item a routine-data finding opened during the shift (engineering work, not an alarm). */
+export interface HandoverWorkItem {
+  itemId: number;
+  loopTag: string;
+  label: string;
+  confidence: number;
+  openedAt: number;
+  /** The finding's first evidence line ("likely sticking valve: ..."). */
+  evidence: string | null;
+}
+
 export interface Handover {
   tenantName: string;
   site: SiteShiftInfo;
@@ -89,6 +101,7 @@ export interface Handover {
   outOfNormal: HandoverOutOfNormal[];
   stateChanges: HandoverStateChange[];
   manualOrSaturated: HandoverManual[];
+  workItems: HandoverWorkItem[];
   notes: NoteDto[];
   kpis: AlarmKpis;
   confirmations: { userId: number; userName: string; at: number }[];
@@ -214,6 +227,12 @@ export async function buildHandover(
   stateChanges.sort((a, b) => a.loopTag.localeCompare(b.loopTag));
   manualOrSaturated.sort((a, b) => a.loopTag.localeCompare(b.loopTag));
 
+  const workItems: HandoverWorkItem[] = (await workItemsOpened(ctx.tenantId, ids, start, end, db)).map((w) => {
+    const ev = typeof w.evidence === "string" ? (JSON.parse(w.evidence) as unknown) : w.evidence;
+    const first = Array.isArray(ev) && typeof ev[0] === "string" ? ev[0] : null;
+    return { itemId: Number(w.id), loopTag: tagOf.get(Number(w.loop_id)) ?? `#${w.loop_id}`, label: w.label, confidence: Number(w.confidence), openedAt: ms(w.opened_at), evidence: first };
+  });
+
   const noteFilter = areaId === null ? {} : { areaOrSiteWide: areaId };
   const notes = (await listNotes(ctx, { siteId: site.siteId, ...noteFilter, from: start, to: end, limit: 2000 }, db)).reverse();
   const confirmations = await listConfirmations(ctx, site.siteId, start, db);
@@ -228,6 +247,7 @@ export async function buildHandover(
     outOfNormal,
     stateChanges,
     manualOrSaturated,
+    workItems,
     notes,
     kpis: computeAlarmKpis(occ, start, end),
     confirmations,

@@ -1,5 +1,5 @@
 /** The worst-loops report as a document (screen, CSV, PDF). Pure and browser-safe. */
-import { fileSlug, formatNumber, REPORT_CAUTION, type ReportDoc } from "./document";
+import { fileSlug, findingWord, formatNumber, REPORT_CAUTION, type ReportDoc } from "./document";
 import { FINDING_WORDS, findingPhrase } from "@/lib/domain/findings";
 import { SCORE_FORMULA_LINES, type DiagnosisLabel } from "./score";
 import { TODAY_REBUILD_MINUTES } from "./summaries";
@@ -87,6 +87,5 @@ export function diagnosisCell(label: string, confidence: number | null): string 
 
 /** "sticking valve, in work (Dana Keswick)". */
 function workItemCell(w: { label: string; status: string; owner: string | null }): string {
-  const word = w.label in FINDING_WORDS ? FINDING_WORDS[w.label as DiagnosisLabel] : w.label;
-  return `${word}, ${w.status === "in-work" ? "in work" : w.status}${w.owner ? ` (${w.owner})` : ""}`;
+  return `${findingWord(w.label)}, ${w.status === "in-work" ? "in work" : w.status}${w.owner ? ` (${w.owner})` : ""}`;
 }

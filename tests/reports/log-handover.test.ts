@@ -146,6 +146,15 @@ describe("shift handover across the autumn daylight-saving change (Europe/Berlin
     await sql("INSERT INTO alarm_occurrences (alarm_id, tenant_id, loop_id, area_id, `condition`, priority, started_at, ended_at, acknowledged_at) VALUES (?,?,?,?,?,?,?,?,?)", [
       alarmId, fx.tenantId, fx.loopId, fx.areaId, "unstable", "urgent", new Date(Z("2026-10-25T04:40:00Z")), null, new Date(Z("2026-10-25T05:20:00Z")),
     ]);
+    // Work-list items: one opened at 05:10 CET (inside the ninth hour), one the evening before (not in it).
+    const item = (at: string, label: string, status: string) =>
+      sql(
+        `INSERT INTO work_items (tenant_id, site_id, loop_id, label, status, confidence, opened_at, last_seen_at, figures_at_open, figures_latest, evidence, created_at, updated_at)
+         VALUES (?,?,?,?,?,0.85,?,?,'{}','{}',?,UTC_TIMESTAMP(3),UTC_TIMESTAMP(3))`,
+        [fx.tenantId, fx.siteId, fx.loopId, label, status, new Date(Z(at)), new Date(Z(at)), JSON.stringify([`likely ${label} (test finding)`, "second line"])],
+      );
+    await item("2026-10-24T18:00:00Z", "aggressive-tuning", "in-work");
+    await item("2026-10-25T04:10:00Z", "valve-stiction", "open");
     await sql("INSERT INTO pole_snapshots (loop_id, t, radius, decay_ratio, poles, tracker_state) VALUES (?,?,?,?,?,?),(?,?,?,?,?,?)", [
       fx.loopId, Z("2026-10-24T12:00:00Z"), 0.8, 0.1, null, "tracking", fx.loopId, Z("2026-10-25T04:35:00Z"), 1.02, null, null, "tracking",
     ]);
@@ -161,6 +170,10 @@ describe("shift handover across the autumn daylight-saving change (Europe/Berlin
     expect(handover.activeAlarms).toMatchObject([{ priority: "urgent", condition: "unstable", acknowledged: false, loopTag: "FIC-101" }]);
     expect(handover.stateChanges).toMatchObject([{ loopTag: "FIC-101", verdictAtStart: "stable", verdictAtEnd: "unstable", changes: 0 }]);
     expect(handover.kpis.totalAlarms).toBe(1);
+    // the engineering findings of the shift: only the item opened inside it, worded as the console words it
+    expect(handover.workItems).toMatchObject([{ loopTag: "FIC-101", label: "valve-stiction", confidence: 0.85, openedAt: Z("2026-10-25T04:10:00Z"), evidence: "likely valve-stiction (test finding)" }]);
+    const section = handoverDocument(handover).sections.find((x) => x.id === "work-items")!;
+    expect(section.rows).toEqual([[expect.stringContaining("05:10"), "FIC-101", "sticking valve", "0.85", "likely valve-stiction (test finding)"]]);
   });
 
   it("refuses a time that is not a shift start and a shift that has not ended; another tenant's site is 404", async () => {
