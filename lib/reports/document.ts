@@ -4,12 +4,10 @@
  * Pure and browser-safe.
  */
 import { CAUTION_NEVER_WRITES, CAUTION_TEXT } from "@/lib/caution";
-import { FINDING_WORDS } from "@/lib/domain/findings";
 import type { Handover } from "./handover";
-import type { DiagnosisLabel } from "./score";
+import { findingWord } from "./score";
 
-/** A diagnosis label as the console words it ("sticking valve"); an unknown label as it is. */
-export const findingWord = (label: string): string => (label in FINDING_WORDS ? FINDING_WORDS[label as DiagnosisLabel] : label);
+export { findingWord };
 import { localParts } from "./shifts";
 
 export interface ReportColumn {

@@ -7,15 +7,18 @@
  *   rim         0.25  max((DR − 0.25) / 0.75, u / 0.25): DR the period's mean decay ratio while
  *                     tracking (quarter-amplitude damping, DR 0.25, is the classical tuning target:
  *                     common practice), u the share of estimates with the spectral radius ≥ 1
- *   oscillation 0.15  oscillation index of the assessment (0..1)
- *   stiction    0.15  likelihood of a sticking valve from the assessment (0..1)
+ *   finding     0.15  confidence of the routine-data finding when it is engineering work (a label
+ *                     other than healthy or not judged yet, confidence above 0.6: what opens a
+ *                     work-list item, lib/domain/findings.ts), else 0
+ *   oscillation 0.10  oscillation index of the assessment (0..1)
+ *   stiction    0.10  likelihood of a sticking valve from the assessment (0..1)
  *   harris      0.10  max(0, 1 − η / η_kind): η = 1 / Harris index, the share of the error's
  *                     variance that the dead time makes unavoidable (Desborough & Harris 1992's
  *                     performance index, 0..1, 1 = minimum variance), against a benchmark per
  *                     loop kind. The assessment and the daily summaries keep the Harris index
  *                     itself (σ² / σ²_mv ≥ 1, "variance 4× the minimum"; lib/assessment/harris.ts):
  *                     one definition, turned into η here only.
- *   service     0.15  (1 − service factor) / 0.2: 20 % of the time out of the designed mode counts full
+ *   service     0.10  (1 − service factor) / 0.2: 20 % of the time out of the designed mode counts full
  *   alarm       0.10  (share of time with an operator alarm of the loop active) / 0.1
  *   saturation  0.10  (share of time with the output at a limit) / 0.2
  *
@@ -24,8 +27,9 @@
  * configured dead time) counts 0 and the report says so.
  * Criticality 1..5 is set by the engineer per loop (3 = normal, weight 1).
  */
+import { FINDING_WORDS, opensWorkItem } from "@/lib/domain/findings";
 
-export const SCORE_WEIGHTS = { rim: 0.25, oscillation: 0.15, stiction: 0.15, harris: 0.1, service: 0.15, alarm: 0.1, saturation: 0.1 } as const;
+export const SCORE_WEIGHTS = { rim: 0.25, finding: 0.15, oscillation: 0.1, stiction: 0.1, harris: 0.1, service: 0.1, alarm: 0.1, saturation: 0.1 } as const;
 export type ScoreTerm = keyof typeof SCORE_WEIGHTS;
 
 /**
@@ -128,6 +132,20 @@ export function combineDays(days: DaySummary[]): PeriodFigures {
 const clamp01 = (v: number) => Math.min(1, Math.max(0, v));
 
 /**
+ * The finding term: the confidence of a finding that is engineering work (it opens a work-list
+ * item: `opensWorkItem`), 0 for a healthy loop or a finding too unsure for a work item, null for a
+ * loop not judged yet (counted as missing).
+ */
+function findingTerm(label: string, confidence: number | null): number | null {
+  if (label === "undetermined" || confidence == null) return null;
+  if (!(DIAGNOSIS_LABELS as readonly string[]).includes(label)) return null;
+  return opensWorkItem({ label: label as DiagnosisLabel, confidence }) ? confidence : 0;
+}
+
+/** A diagnosis label as the console words it ("sticking valve"); an unknown label as it is. */
+export const findingWord = (label: string): string => (label in FINDING_WORDS ? FINDING_WORDS[label as DiagnosisLabel] : label);
+
+/**
  * η of a Harris index (σ²_mv / σ², Desborough & Harris 1992): 1 at minimum variance, towards 0 as
  * the variance grows. Null when there is no index; an index below 1 (sampling error of a loop at
  * minimum variance) reads 1.
@@ -161,6 +179,7 @@ export function scoreLoop(f: PeriodFigures, kind: string, criticality: number): 
   const eta = harrisEta(f.harrisIndex);
   const terms: Record<ScoreTerm, number> = {
     rim: term("rim", rimRaw),
+    finding: term("finding", findingTerm(f.diagnosisLabel, f.diagnosisConfidence)),
     oscillation: term("oscillation", f.oscillationIndex),
     stiction: term("stiction", f.stictionLikelihood),
     harris: term("harris", eta == null ? null : 1 - eta / bench),
@@ -181,6 +200,7 @@ export function scoreLoop(f: PeriodFigures, kind: string, criticality: number): 
     [SCORE_WEIGHTS.service * terms.service, `out of the designed mode ${pct(f.serviceFactor == null ? null : 1 - f.serviceFactor)} of the time`],
     [SCORE_WEIGHTS.saturation * terms.saturation, `output at a limit ${pct(f.saturationShare)} of the time`],
     [SCORE_WEIGHTS.alarm * terms.alarm, `an operator alarm active ${pct(f.alarmShare)} of the time`],
+    [SCORE_WEIGHTS.finding * terms.finding, `finding: likely ${findingWord(f.diagnosisLabel)} (confidence ${f.diagnosisConfidence?.toFixed(2)})`],
     [SCORE_WEIGHTS.oscillation * terms.oscillation, `likely oscillating (index ${f.oscillationIndex?.toFixed(2)})`],
     [SCORE_WEIGHTS.stiction * terms.stiction, `likely sticking valve (${f.stictionLikelihood?.toFixed(2)})`],
     [SCORE_WEIGHTS.harris * terms.harris, `variance ${f.harrisIndex?.toFixed(1)}× the minimum the dead time allows (Harris index; eta ${eta?.toFixed(2)} against ${bench} for a ${kind} loop)`],
@@ -194,8 +214,9 @@ export function scoreLoop(f: PeriodFigures, kind: string, criticality: number): 
 
 /** The formula as printed on the report (screen, CSV and PDF). */
 export const SCORE_FORMULA_LINES = [
-  "Score = 100 x (criticality / 3) x (0.25*rim + 0.15*oscillation + 0.15*stiction + 0.10*Harris + 0.15*service + 0.10*alarm + 0.10*saturation); every term clipped to 0..1.",
+  "Score = 100 x (criticality / 3) x (0.25*rim + 0.15*finding + 0.10*oscillation + 0.10*stiction + 0.10*Harris + 0.10*service + 0.10*alarm + 0.10*saturation); every term clipped to 0..1.",
+  "finding = the confidence of the routine-data finding when it is engineering work (a cause other than healthy, confidence above 0.6: what opens a work-list item), else 0.",
   "rim = max((mean decay ratio while tracking - 0.25) / 0.75, share of estimates with spectral radius >= 1 / 0.25); service = (1 - service factor) / 0.2; alarm = share of time in alarm / 0.1; saturation = share of time at an output limit / 0.2.",
   "Harris = max(0, 1 - eta/eta_kind), eta = 1 / Harris index (1 = minimum variance), with eta_kind: flow 0.5, pressure 0.5, temperature 0.4, composition 0.3, level 0.1 (averaging level loops run slow by design).",
-  "Oscillation, stiction, the Harris index and the diagnosis come from the loop's routine-data assessment (the latest of each day); a loop not judged yet counts 0 for them and reads 'not judged yet', and the Harris index needs the loop's dead time.",
+  "The finding, oscillation, stiction, the Harris index and the diagnosis come from the loop's routine-data assessment (the latest of each day); a loop not judged yet counts 0 for them and reads 'not judged yet', and the Harris index needs the loop's dead time.",
 ];

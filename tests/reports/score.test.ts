@@ -68,6 +68,23 @@ describe("the Harris term of the worst-loops score", () => {
   });
 });
 
+describe("the finding term: the ranking follows the routine-data findings", () => {
+  it("a finding that opens a work item counts its confidence at weight 0.15; one too unsure for a work item counts 0; a loop not judged yet is missing", () => {
+    // 100 * (3/3) * 0.15 * 0.9 = 13.5 (worked by hand)
+    const stuck = scoreLoop({ ...quiet, diagnosisLabel: "valve-stiction", diagnosisConfidence: 0.9 }, "flow", 3);
+    expect(stuck.terms.finding).toBeCloseTo(0.9, 12);
+    expect(stuck.score).toBe(13.5);
+    expect(stuck.evidence[0]).toBe("finding: likely sticking valve (confidence 0.90)");
+    const unsure = scoreLoop({ ...quiet, diagnosisLabel: "aggressive-tuning", diagnosisConfidence: 0.55 }, "flow", 3);
+    expect(unsure.terms.finding).toBe(0);
+    expect(unsure.missing).not.toContain("finding");
+    expect(scoreLoop(quiet, "flow", 3).terms.finding).toBe(0); // healthy
+    const notYet = scoreLoop({ ...quiet, diagnosisLabel: "undetermined", diagnosisConfidence: null }, "flow", 3);
+    expect(notYet.missing).toContain("finding");
+    expect(stuck.score).toBeGreaterThan(unsure.score);
+  });
+});
+
 describe("the report's diagnosis cell", () => {
   it("words a finding as the console does, with its confidence", () => {
     expect(diagnosisCell("valve-stiction", 0.9)).toBe("likely sticking valve (0.90)");
