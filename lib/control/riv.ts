@@ -83,6 +83,10 @@ export interface InstrumentalArxState {
   samples: number;
   residual: number;
   residualWeight: number;
+  /** Weighted sums of 1, y and y² over the samples and weights of `residual` (absent in older states: they start afresh). */
+  ySum?: number;
+  ySquares?: number;
+  yWeight?: number;
   sinceInformative: number;
   solved: boolean;
   conditioning: number;
@@ -135,6 +139,10 @@ export class InstrumentalArxEstimator {
   private count = 0;
   private residual = 0;
   private residualWeight = 0;
+  /** y's weighted sum and sum of squares over the same samples and weights as `residual` (outputVariance). */
+  private ySum = 0;
+  private ySquares = 0;
+  private yWeight = 0;
   private dirty = false;
   private readonly aux: AuxiliaryModel;
   private readonly scores: ScoreSum;
@@ -213,6 +221,9 @@ export class InstrumentalArxEstimator {
         const w = this.options.residualMemory;
         this.residual = w * this.residual + prior * prior;
         this.residualWeight = w * this.residualWeight + 1;
+        this.ySum = w * this.ySum + y;
+        this.ySquares = w * this.ySquares + y * y;
+        this.yWeight = w * this.yWeight + 1;
       }
       // skip: the real loop is open or the data are void, the noise-free copy restarts afterwards
       if (mode === "skip") this.aux.restart();
@@ -296,6 +307,17 @@ export class InstrumentalArxEstimator {
   }
 
   /**
+   * Weighted variance of y over exactly the samples and weights of residualVariance(), so that
+   * 1 − √(residualVariance / outputVariance) is the usual fit figure of a one-step predictor
+   * against y's own mean on the same data (NaN until as many samples as residualVariance needs).
+   */
+  outputVariance(): number {
+    if (!(this.yWeight > this.d)) return NaN;
+    const m = this.ySum / this.yWeight;
+    return Math.max(0, this.ySquares / this.yWeight - m * m);
+  }
+
+  /**
    * Mean squared closed-loop simulation error: the measured y minus the output of the auxiliary
    * model (the current estimate, or the held one while the current one's closed loop is unstable)
    * in closed loop with the controller, driven by the set point alone (exponentially weighted over
@@ -343,6 +365,9 @@ export class InstrumentalArxEstimator {
       samples: this.count,
       residual: this.residual,
       residualWeight: this.residualWeight,
+      ySum: this.ySum,
+      ySquares: this.ySquares,
+      yWeight: this.yWeight,
       sinceInformative: Number.isFinite(this.sinceInformative) ? this.sinceInformative : -1,
       solved: this.solved,
       conditioning: this.conditioning,
@@ -378,6 +403,12 @@ export class InstrumentalArxEstimator {
     est.count = num("samples", s.samples);
     est.residual = num("residual", s.residual);
     est.residualWeight = num("residualWeight", s.residualWeight);
+    // a state from before the output sums starts them afresh (the fit reads them after a memory of samples)
+    if (s.ySum !== undefined && s.ySquares !== undefined && s.yWeight !== undefined) {
+      est.ySum = num("ySum", s.ySum);
+      est.ySquares = num("ySquares", s.ySquares);
+      est.yWeight = num("yWeight", s.yWeight);
+    }
     const since = num("sinceInformative", s.sinceInformative);
     est.sinceInformative = since < 0 ? Infinity : since;
     est.solved = s.solved === true;

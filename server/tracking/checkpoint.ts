@@ -57,8 +57,9 @@ export interface TrackerCheckpoint {
   samplesSeen: number;
   /** The rim forecast's history; `sd` (the radius's delta-method sd) is absent in older checkpoints. */
   radiusHistory: { t: number; value: number; sd?: number }[];
-  yVariance: number;
-  yMean: number;
+  /** Written before 2026-12-04 for the fit figure (now the plant estimator's own sums); ignored. */
+  yVariance?: number;
+  yMean?: number;
   /** Prefilter state: last raw signals and the filtered values. */
   prefilter: { prev: { u: number; y: number; r: number } | null; filtered: { u: number; y: number; r: number } };
   /** Residual screen and its predictor history (absent in older checkpoints: they start afresh). */
@@ -79,7 +80,7 @@ export function checkpointProblem(cp: TrackerCheckpoint, want: CheckpointStructu
   if (!s || s.na !== want.na || s.nb !== want.nb || s.nk !== want.nk || s.estimationPeriodS !== want.estimationPeriodS) {
     return "checkpoint was made for another model structure or estimation period";
   }
-  const nums = [cp.estimationSamples, cp.lastPlantUpdate, cp.lastSpMove, cp.samplesSeen, cp.yVariance, cp.yMean];
+  const nums = [cp.estimationSamples, cp.lastPlantUpdate, cp.lastSpMove, cp.samplesSeen];
   if (!nums.every((v) => typeof v === "number" && Number.isFinite(v))) return "checkpoint counters are not finite numbers";
   if (!Array.isArray(cp.radiusHistory) || !cp.radiusHistory.every((p) => Number.isFinite(p?.t) && Number.isFinite(p?.value))) {
     return "checkpoint radius history is malformed";

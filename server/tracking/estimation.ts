@@ -37,7 +37,7 @@ export interface LastGood {
   misfit?: number | null;
 }
 
-type CheckpointPart = Pick<TrackerCheckpoint, "structure" | "plant" | "plantReduced" | "lastGood" | "data" | "dataBlock" | "estimationSamples" | "lastPlantUpdate" | "lastSpMove" | "yVariance" | "yMean" | "robust">;
+type CheckpointPart = Pick<TrackerCheckpoint, "structure" | "plant" | "plantReduced" | "lastGood" | "data" | "dataBlock" | "estimationSamples" | "lastPlantUpdate" | "lastSpMove" | "robust">;
 
 export class PlantEstimation {
   /** The plant model as reported: `plantFull` or `plantReduced`, whichever simulates the loop better. */
@@ -71,8 +71,6 @@ export class PlantEstimation {
   lastPlantUpdate = -Infinity;
   lastSpMove = -Infinity;
   /** Running mean and variance of the filtered PV, for the fit figure. */
-  yMean = 0;
-  yVariance = 0;
 
   constructor(
     private readonly config: LoopConfig,
@@ -140,13 +138,6 @@ export class PlantEstimation {
     if (outlier) this.cond.quality.markOutlier();
     if (!tainted) this.gate.watchFit(x.rawE ?? f.y - pred, this.trusted(), p.informative, this.memory);
     this.gate.predictor.shift(f.y, f.u);
-    // running variance of the filtered PV (the signal the model predicts), for the fit figure
-    if (!tainted) {
-      const w = 1 / Math.min(k + 1, this.memory);
-      const d = f.y - this.yMean;
-      this.yMean += w * d;
-      this.yVariance = (1 - w) * (this.yVariance + w * d * d);
-    }
     try {
       const mode = !learn ? "skip" : manual ? "open" : "closed";
       this.drift?.push(f.u, f.y, f.r, mode, t / 1000, this.plantFull.theta, this.plantFull.solved, this.plantReady(this.plantFull) && this.implausible === null);
@@ -212,8 +203,6 @@ export class PlantEstimation {
       estimationSamples: this.estimationSamples,
       lastPlantUpdate: Number.isFinite(this.lastPlantUpdate) ? this.lastPlantUpdate : NEVER,
       lastSpMove: Number.isFinite(this.lastSpMove) ? this.lastSpMove : NEVER,
-      yVariance: this.yVariance,
-      yMean: this.yMean,
       robust: this.gate.toJSON(),
     };
   }
@@ -244,8 +233,6 @@ export class PlantEstimation {
     // -1e15 in a checkpoint stands for "never" (JSON has no -Infinity)
     this.lastPlantUpdate = cp.lastPlantUpdate <= NEVER ? -Infinity : cp.lastPlantUpdate;
     this.lastSpMove = cp.lastSpMove <= NEVER ? -Infinity : cp.lastSpMove;
-    this.yVariance = cp.yVariance;
-    this.yMean = cp.yMean;
     // the residual screen resumes too; from an older checkpoint (or a malformed part) it starts afresh
     this.gate.restore(cp.robust);
     return null;

@@ -305,7 +305,9 @@ export class LoopTracker {
     st.at = now;
     st.excitation = this.est.plant.solved ? finite(this.est.plant.conditioning) : null;
     const s2 = this.est.plant.residualVariance();
-    if (Number.isFinite(s2) && this.est.yVariance > 0) st.fitPercent = finite(Math.max(-100, Math.min(100, 100 * (1 - Math.sqrt(s2 / this.est.yVariance)))));
+    // one-step prediction against PV's own mean over the same samples and weights (InstrumentalArxEstimator.outputVariance)
+    const v = this.est.plant.outputVariance();
+    if (Number.isFinite(s2) && v > 0) st.fitPercent = finite(Math.max(-100, Math.min(100, 100 * (1 - Math.sqrt(s2 / v)))));
     // data-only poles
     const memorySamples = this.memory;
     st.dataPolesKind = this.est.estimationSamples - this.est.lastSpMove <= memorySamples ? "closed-loop" : "disturbance-response";
