@@ -91,7 +91,11 @@ export function AnalysisPanel({ state, now }: { state: LoopStateDto | null; now:
           <Row k="estimation period" v={fmtSeconds(T)} />
           <Row k="samples seen" v={state.samples.toLocaleString("en-GB")} />
           <Row k="excitation" v={fmt(state.excitation, 4)} hint="conditioning of the identification equations (pivot ratio, 0 to 1): near 0, the data do not excite the plant" />
-          <Row k="fit" v={state.fitPercent == null ? "—" : `${fmt(state.fitPercent, 1)} %`} />
+          <Row
+            k="one-step fit"
+            v={state.fitPercent == null ? "—" : state.fitPercent <= -100 ? "≤ −100 %" : `${fmt(state.fitPercent, 1)} %`}
+            hint="1 − (one-step prediction error sd) / (PV sd), over the same recent samples. Where white measurement noise dominates PV, a model of slow dynamics amplifies it in its prediction and this reads low or negative; it does not by itself make the poles doubtful (the tracker state says when the model no longer fits)."
+          />
           <Row k="data age" v={fmtAge(age)} />
           <Row k="data-only poles" v={state.dataPolesKind === "closed-loop" ? "closed loop (SP moves seen)" : "disturbance response (constant SP)"} />
         </dl>
