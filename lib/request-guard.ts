@@ -16,6 +16,7 @@ import { publicOrigin } from "@/lib/config";
 import { HttpError } from "@/lib/domain/errors";
 import { INVENTORY_IMPORT_BODY } from "@/lib/admin/inventory-limits";
 import { MAX_CSV_BYTES } from "@/lib/step-tests/csv";
+import { MAX_EXPORT_BYTES } from "@/lib/export-assessments/limits";
 
 /** Body limits per kind of route (bytes). JSON bodies of the API are small forms. */
 export const BODY_LIMITS = {
@@ -35,6 +36,8 @@ export interface BodyRule {
 export const JSON_BODY: BodyRule = { kind: "json", maxBytes: BODY_LIMITS.json };
 /** The step-test CSV upload: the file plus room for the multipart envelope. */
 export const STEP_TEST_UPLOAD_BODY: BodyRule = { kind: "multipart", maxBytes: MAX_CSV_BYTES + 64 * 1024 };
+/** A historian export assessed in the console: the file plus room for the multipart envelope. */
+export const EXPORT_UPLOAD_BODY: BodyRule = { kind: "multipart", maxBytes: MAX_EXPORT_BYTES + 64 * 1024 };
 /** A historian backfill: a CSV streamed as the body (text/csv), read as it arrives, never held whole. */
 export const BACKFILL_UPLOAD_BODY: BodyRule = { kind: "csv", maxBytes: 2 * 1024 * 1024 * 1024 };
 
@@ -45,6 +48,7 @@ export const BACKFILL_UPLOAD_BODY: BodyRule = { kind: "csv", maxBytes: 2 * 1024 
  */
 export function bodyLimitForPath(pathname: string): number {
   if (/^\/api\/loops\/[^/]+\/step-tests\/?$/.test(pathname)) return STEP_TEST_UPLOAD_BODY.maxBytes;
+  if (/^\/api\/loops\/[^/]+\/exports\/?$/.test(pathname)) return EXPORT_UPLOAD_BODY.maxBytes;
   if (/^\/api\/admin\/loop-inventory\/?$/.test(pathname)) return INVENTORY_IMPORT_BODY.maxBytes;
   if (/^\/api\/loops\/[^/]+\/backfills\/?$/.test(pathname)) return BACKFILL_UPLOAD_BODY.maxBytes;
   if (pathname.startsWith("/api/")) return BODY_LIMITS.json;

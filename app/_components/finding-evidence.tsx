@@ -13,6 +13,8 @@ import { useMemo } from "react";
 import { useLoop, useLoopSamples } from "@/lib/client/hooks";
 import { useLoopFinding } from "@/lib/client/findings";
 import { fmt, fmtSeconds } from "@/lib/client/format";
+import type { LoopAssessmentReport } from "@/lib/assessment/types";
+import type { RoutineFindings } from "@/lib/domain/findings";
 import { FindingMark } from "./finding-mark";
 
 const W = 260;
@@ -79,15 +81,46 @@ export function FindingEvidencePanel({ loopId }: { loopId: number }) {
   const { samples } = useLoopSamples(loopId, 1800);
   const pts = useMemo(() => samples.filter((s) => s.quality === undefined || s.quality === "good").map((s) => ({ pv: s.pv, mv: s.mv })), [samples]);
   if (error) return <p className="text-sm text-muted">The finding could not be loaded: {error.message}</p>;
+  return (
+    <ReportEvidence
+      title="Finding from routine data"
+      finding={finding}
+      meta={finding ? `confidence ${finding.confidence.toFixed(2)} · window ${fmtSeconds(finding.windowS)} · ${new Date(finding.at).toISOString().slice(11, 19)} UTC` : null}
+      report={report}
+      pts={pts}
+      shared={finding?.sharedOscillation ?? null}
+    />
+  );
+}
+
+/**
+ * The plots, figures, evidence lines and cautions of one assessment report: the live finding's
+ * (above) or a stored one's (an assessed historian export, app/(console)/loops/[loopId]/exports).
+ */
+export function ReportEvidence({
+  title,
+  finding,
+  meta,
+  report,
+  pts,
+  shared,
+}: {
+  title: string;
+  finding: (Pick<RoutineFindings, "label" | "confidence" | "needsS" | "reason" | "evidence">) | null;
+  meta: string | null;
+  report: LoopAssessmentReport | null;
+  pts: { pv: number; mv: number }[];
+  shared: RoutineFindings["sharedOscillation"];
+}) {
   const T = report?.details.analysisPeriodS ?? null;
   const oscP = report?.oscillation.detected ? report.oscillation.periodS : null;
   const ownP = report?.details.ownModePeriodS ?? null;
   return (
-    <section className="flex flex-col gap-3 rounded-md border border-line bg-surface p-3" aria-label="Routine-data finding" data-testid="finding-evidence">
+    <section className="flex flex-col gap-3 rounded-md border border-line bg-surface p-3" aria-label={title} data-testid="finding-evidence">
       <header className="flex flex-wrap items-baseline gap-3">
-        <h2 className="text-base font-semibold">Finding from routine data</h2>
+        <h2 className="text-base font-semibold">{title}</h2>
         <FindingMark finding={finding} />
-        {finding && <span className="text-xs text-muted">confidence {finding.confidence.toFixed(2)} · window {fmtSeconds(finding.windowS)} · {new Date(finding.at).toISOString().slice(11, 19)} UTC</span>}
+        {meta && <span className="text-xs text-muted">{meta}</span>}
       </header>
       <div className="flex flex-wrap gap-4">
         <PvMvPlot pts={pts} />
@@ -112,10 +145,10 @@ export function FindingEvidencePanel({ loopId }: { loopId: number }) {
                 <dd className="num font-mono">{deg((2 * Math.PI * T) / ownP)}</dd>
               </>
             )}
-            {finding?.sharedOscillation && (
+            {shared && (
               <>
                 <dt className="text-muted">same period (±5 %) on this site</dt>
-                <dd data-testid="shared-oscillation">{finding.sharedOscillation.loops.map((l) => `${l.tag} ${fmt(l.periodS)} s`).join(", ")}</dd>
+                <dd data-testid="shared-oscillation">{shared.loops.map((l) => `${l.tag} ${fmt(l.periodS)} s`).join(", ")}</dd>
               </>
             )}
             <dt className="text-muted">valve stiction</dt>

@@ -54,6 +54,9 @@ export const ROUTES: RouteCase[] = [
   { method: "GET", path: "/api/loops/:loopId/step-tests/:none/data", minRole: "viewer", file: "loops/[loopId]/step-tests/[stepTestId]/data/route.ts", admitted: [404] },
   { method: "POST", path: "/api/loops/:loopId/step-tests/:none/apply", minRole: "engineer", file: "loops/[loopId]/step-tests/[stepTestId]/apply/route.ts", body: {} },
   // The backfill upload takes text/csv only (a JSON body is 415 before the role check): sent without a body (422).
+  { method: "GET", path: "/api/loops/:loopId/exports", minRole: "viewer", file: "loops/[loopId]/exports/route.ts", admitted: [200] },
+  { method: "POST", path: "/api/loops/:loopId/exports", minRole: "engineer", file: "loops/[loopId]/exports/route.ts", admitted: [422] },
+  { method: "GET", path: "/api/loops/:loopId/exports/:none", minRole: "viewer", file: "loops/[loopId]/exports/[exportId]/route.ts", admitted: [404] },
   { method: "GET", path: "/api/loops/:loopId/backfills", minRole: "engineer", file: "loops/[loopId]/backfills/route.ts", admitted: [200] },
   { method: "POST", path: "/api/loops/:loopId/backfills", minRole: "engineer", file: "loops/[loopId]/backfills/route.ts", admitted: [422] },
   { method: "GET", path: "/api/loops/:loopId/backfills/:none", minRole: "engineer", file: "loops/[loopId]/backfills/[jobId]/route.ts", admitted: [404] },

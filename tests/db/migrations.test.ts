@@ -30,6 +30,7 @@ const EXPECTED_TABLES = [
   "device_credentials",
   "drift_checkpoint_chunks",
   "drift_checkpoints",
+  "export_assessments",
   "estimator_checkpoints",
   "handover_confirmations",
   "history_backfills",

@@ -175,6 +175,9 @@ export function LoopDetail({ loopId, role, initialRange = "1h" }: { loopId: numb
           <Link href={`/loops/${loop.id}/step-tests`} className="rounded border border-line px-2 py-1 text-sm hover:border-accent">
             Step tests
           </Link>
+          <Link href={`/loops/${loop.id}/exports`} className="rounded border border-line px-2 py-1 text-sm hover:border-accent">
+            Assess an export
+          </Link>
           {roleAtLeast(role, "engineer") && (
             <Link href={`/loops/${loop.id}/edit`} className="rounded border border-line px-2 py-1 text-sm hover:border-accent">
               Edit loop
