@@ -7,13 +7,18 @@
  * tenants switches tenant and sees only the second tenant's loops. Screenshots of every page go
  * to tests/artifacts/ (git-ignored).
  */
+import fs from "node:fs";
+import os from "node:os";
+import path from "node:path";
 import type { Page } from "playwright-core";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { DEMO_PASSWORD } from "@/lib/data/seed";
 import type { AlarmDto, LoopSummary } from "@/lib/domain/types";
 import type { ServerContext } from "@/server/context";
 import { startSimulators, type SimulatorsService } from "@/server/simulators-process";
-import { demoDeviceCredentials } from "@/simulators/seed-loops";
+import { demoDeviceCredentials, demoSimLoops } from "@/simulators/seed-loops";
+import { buildFleet } from "@/simulators/fleet";
+import { loadScenario } from "@/simulators/scenario";
 import { artifactPath } from "../setup/browser";
 import { openSignedIn, setUpServerSuite } from "../helpers/server-suite";
 
@@ -241,4 +246,31 @@ describe("the console in Chromium", () => {
     await page.screenshot({ path: artifactPath("console-tenant-switched.png"), fullPage: true });
     await page.close();
   }, 120_000);
+  it("an engineer assesses a historian export on the loop's page: the finding, its plots and evidence, kept in the list", async () => {
+    // An hour of the demo's FIC-4203 (the two-parameter sticking valve of simulators/scenarios/demo.json,
+    // seed 5) as a historian writes it: ISO times, historian column names (time, setpoint, op).
+    const scenario = await loadScenario(path.resolve(import.meta.dirname, "..", "..", "simulators", "scenarios", "demo.json"));
+    const sim = buildFleet({ scenario, loops: demoSimLoops(), seed: 5 }).find((x) => x.config.tag === "FIC-4203")!;
+    const t0 = Date.UTC(2026, 11, 3, 6, 0, 0);
+    const lines = ["time,setpoint,pv,op,mode"];
+    for (let now = 1; now <= 3600; now++) for (const x of sim.advanceTo(now)) lines.push(`${new Date(t0 + Math.round(x.simTimeS * 1000)).toISOString()},${x.sp},${x.pv},${x.mv},${x.mode}`);
+    const dir = fs.mkdtempSync(path.join(os.tmpdir(), "rg-export-e2e-"));
+    const file = path.join(dir, "fic4203-hour.csv");
+    fs.writeFileSync(file, lines.join("\n") + "\n");
+    const page = await openSignedIn(suite, "engineer@orrinvale.example", DEMO_PASSWORD, "/loops");
+    await page.getByRole("link", { name: "FIC-4203", exact: true }).first().click();
+    await page.getByRole("link", { name: "Assess an export" }).click();
+    await page.waitForURL(/\/exports$/);
+    await page.setInputFiles("input[name=file]", file);
+    await page.getByRole("button", { name: "Upload and assess" }).click();
+    const panel = page.getByTestId("finding-evidence");
+    await panel.waitFor({ timeout: 60_000 });
+    expect(await panel.getByTestId("finding-mark").textContent()).toMatch(/likely sticking valve/);
+    expect(await panel.locator("li").count()).toBeGreaterThan(3);
+    expect(await page.getByTestId("export-list").locator("tbody tr").count()).toBe(1);
+    expect(await page.getByTestId("export-list").textContent()).toContain("2026-12-03 06:00");
+    await page.screenshot({ path: artifactPath("console-export-assessment.png"), fullPage: true });
+    fs.rmSync(dir, { recursive: true, force: true });
+    await page.close();
+  }, 180_000);
 });
