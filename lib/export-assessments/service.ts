@@ -163,3 +163,22 @@ export async function getExportAssessment(ctx: TenantContext, loopId: number, id
   const json = <T,>(v: unknown, empty: T): T => (v == null ? empty : ((typeof v === "string" ? JSON.parse(v) : v) as T));
   return { ...summaryOf(row), report: json<LoopAssessmentReport>(row.report, null as never), pvMv: json<{ pv: number; mv: number }[]>(row.pv_mv, []) };
 }
+
+/** The uploaded export as stored, byte for byte (404 when the loop, the row or the object is missing). */
+export async function getExportData(ctx: TenantContext, loopId: number, id: number, storeOverride?: ObjectStore): Promise<{ filename: string; bytes: Buffer }> {
+  const loop = await readStepTestLoop(ctx, loopId);
+  const row = await selectExportAssessment(ctx, loop.id, id);
+  if (!row) throw new NotFoundError("Assessed export");
+  const store = storeOverride ?? objectStore();
+  let bytes: Buffer | null;
+  try {
+    bytes = await store.get(row.object_key);
+  } catch (e) {
+    const name = (e as { name?: string }).name;
+    if (name === "NoSuchKey" || name === "NotFound") throw new NotFoundError("Export file");
+    console.error("[exports] object store get failed", e);
+    throw new HttpError(503, "The file could not be read from the object store. Try again later.");
+  }
+  if (!bytes) throw new NotFoundError("Export file");
+  return { filename: row.filename, bytes };
+}

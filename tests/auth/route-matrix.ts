@@ -57,6 +57,7 @@ export const ROUTES: RouteCase[] = [
   { method: "GET", path: "/api/loops/:loopId/exports", minRole: "viewer", file: "loops/[loopId]/exports/route.ts", admitted: [200] },
   { method: "POST", path: "/api/loops/:loopId/exports", minRole: "engineer", file: "loops/[loopId]/exports/route.ts", admitted: [422] },
   { method: "GET", path: "/api/loops/:loopId/exports/:none", minRole: "viewer", file: "loops/[loopId]/exports/[exportId]/route.ts", admitted: [404] },
+  { method: "GET", path: "/api/loops/:loopId/exports/:none/data", minRole: "viewer", file: "loops/[loopId]/exports/[exportId]/data/route.ts", admitted: [404] },
   { method: "GET", path: "/api/loops/:loopId/backfills", minRole: "engineer", file: "loops/[loopId]/backfills/route.ts", admitted: [200] },
   { method: "POST", path: "/api/loops/:loopId/backfills", minRole: "engineer", file: "loops/[loopId]/backfills/route.ts", admitted: [422] },
   { method: "GET", path: "/api/loops/:loopId/backfills/:none", minRole: "engineer", file: "loops/[loopId]/backfills/[jobId]/route.ts", admitted: [404] },

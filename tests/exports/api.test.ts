@@ -29,6 +29,7 @@ vi.mock("@/lib/auth/guard", async () => (await import("@/tests/helpers/guard-sta
 
 const listRoute = await import("@/app/api/loops/[loopId]/exports/route");
 const oneRoute = await import("@/app/api/loops/[loopId]/exports/[exportId]/route");
+const dataRoute = await import("@/app/api/loops/[loopId]/exports/[exportId]/data/route");
 
 let db: TestDatabase;
 let fx: Fixture;
@@ -108,6 +109,11 @@ describe("assessing a historian export in the console", () => {
     const one = await oneRoute.GET(new Request(url(`/api/loops/${fx.loopId}/exports/${id}`)), ep(fx.loopId, id));
     expect(one.status).toBe(200);
     expect(((await one.json()) as { export: { report: { diagnosis: { label: string } } } }).export.report.diagnosis.label).toBe("valve-stiction");
+    // the original file, byte for byte
+    const file = await dataRoute.GET(new Request(url(`/api/loops/${fx.loopId}/exports/${id}/data`)), ep(fx.loopId, id));
+    expect(file.status).toBe(200);
+    expect(file.headers.get("content-disposition")).toContain("fic101-week48.csv");
+    expect(Buffer.from(await file.arrayBuffer()).equals(Buffer.from(CSV))).toBe(true);
     for (const role of ["viewer", "operator"] as const) {
       as(role);
       expect((await listRoute.POST(upload(fx.loopId, CSV), lp(fx.loopId))).status).toBe(403);
@@ -131,6 +137,7 @@ describe("assessing a historian export in the console", () => {
     as("outsider");
     expect((await listRoute.GET(new Request(url(`/api/loops/${fx.loopId}/exports`)), lp(fx.loopId))).status).toBe(404);
     expect((await oneRoute.GET(new Request(url(`/api/loops/${fx.loopId}/exports/${id}`)), ep(fx.loopId, id))).status).toBe(404);
+    expect((await dataRoute.GET(new Request(url(`/api/loops/${fx.loopId}/exports/${id}/data`)), ep(fx.loopId, id))).status).toBe(404);
     as("engineer");
     expect((await oneRoute.GET(new Request(url(`/api/loops/${fx.otherLoopId}/exports/${id}`)), ep(fx.otherLoopId, id))).status).toBe(404);
   });

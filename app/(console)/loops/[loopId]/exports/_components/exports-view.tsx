@@ -53,7 +53,11 @@ export function ExportsView({ loopId, canUpload, initial, initialSelected }: { l
                       {fmtTime(t.createdAt)}
                     </button>
                   </td>
-                  <td className="pr-3 font-mono">{t.filename}</td>
+                  <td className="pr-3 font-mono">
+                    <a href={`${base}/${t.id}/data`} download className="hover:underline" title="The uploaded file, as it was">
+                      {t.filename}
+                    </a>
+                  </td>
                   <td className="pr-3">{t.startsAt && t.endsAt ? `${t.startsAt.slice(0, 16).replace("T", " ")} – ${t.endsAt.slice(0, 16).replace("T", " ")}` : "times relative"}</td>
                   <td className="num pr-3 text-right">{t.rowCount}</td>
                   <td className="num pr-3 text-right">{fmtSeconds(t.spanS)}</td>
