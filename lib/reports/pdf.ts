@@ -9,9 +9,13 @@ import PDFDocument from "pdfkit";
 import type { BarChart, ReportDoc, ReportSection } from "./document";
 
 const A4 = { w: 595.28, h: 841.89 };
+/** Columns beyond which a document is printed in landscape (the worst-loops ranking has 15). */
+export const LANDSCAPE_COLUMNS = 10;
+/** The page of the document being drawn (reportPdf draws synchronously, one document at a time). */
+let PAGE = A4;
 const M = 40;
 const BODY_TOP = 78;
-const BODY_BOTTOM = A4.h - 62;
+let BODY_BOTTOM = A4.h - 62;
 const INK = "#1f2328";
 const MUTED = "#5b636d";
 const LINE = "#c9ced4";
@@ -33,18 +37,18 @@ export function printable(s: string): string {
 }
 
 function header(doc: PDFKit.PDFDocument, r: ReportDoc): void {
-  doc.font("Helvetica-Bold").fontSize(13).fillColor(INK).text(printable(r.title), M, 30, { width: A4.w - 2 * M, lineBreak: false });
-  doc.font("Helvetica").fontSize(8.5).fillColor(MUTED).text(printable(`${r.tenant} · ${r.period}`), M, 50, { width: A4.w - 2 * M, lineBreak: false });
-  doc.moveTo(M, 66).lineTo(A4.w - M, 66).lineWidth(0.5).strokeColor(LINE).stroke();
+  doc.font("Helvetica-Bold").fontSize(13).fillColor(INK).text(printable(r.title), M, 30, { width: PAGE.w - 2 * M, lineBreak: false });
+  doc.font("Helvetica").fontSize(8.5).fillColor(MUTED).text(printable(`${r.tenant} · ${r.period}`), M, 50, { width: PAGE.w - 2 * M, lineBreak: false });
+  doc.moveTo(M, 66).lineTo(PAGE.w - M, 66).lineWidth(0.5).strokeColor(LINE).stroke();
 }
 
 function footer(doc: PDFKit.PDFDocument, r: ReportDoc, page: number, pages: number): void {
   // Below the body's margin: without this pdfkit would start a new page for the footer text.
   doc.page.margins.bottom = 0;
-  doc.moveTo(M, A4.h - 54).lineTo(A4.w - M, A4.h - 54).lineWidth(0.5).strokeColor(LINE).stroke();
+  doc.moveTo(M, PAGE.h - 54).lineTo(PAGE.w - M, PAGE.h - 54).lineWidth(0.5).strokeColor(LINE).stroke();
   doc.font("Helvetica").fontSize(7).fillColor(MUTED);
-  doc.text(printable(r.caution), M, A4.h - 48, { width: A4.w - 2 * M - 70, lineBreak: true, height: 24 });
-  doc.text(`page ${page} of ${pages}`, A4.w - M - 65, A4.h - 48, { width: 65, align: "right", lineBreak: false });
+  doc.text(printable(r.caution), M, PAGE.h - 48, { width: PAGE.w - 2 * M - 70, lineBreak: true, height: 24 });
+  doc.text(`page ${page} of ${pages}`, PAGE.w - M - 65, PAGE.h - 48, { width: 65, align: "right", lineBreak: false });
 }
 
 function ensure(doc: PDFKit.PDFDocument, r: ReportDoc, height: number): void {
@@ -59,7 +63,7 @@ function drawChart(doc: PDFKit.PDFDocument, r: ReportDoc, c: BarChart): void {
   const h = 18 * c.bars.length + 26;
   ensure(doc, r, h);
   const x0 = M + 110;
-  const width = A4.w - 2 * M - 170;
+  const width = PAGE.w - 2 * M - 170;
   const max = Math.max(1, ...c.bars.map((b) => Math.max(b.value, b.target ?? 0)));
   let y = doc.y;
   doc.font("Helvetica-Bold").fontSize(8.5).fillColor(INK).text(printable(c.title), M, y, { lineBreak: false });
@@ -80,20 +84,20 @@ function drawChart(doc: PDFKit.PDFDocument, r: ReportDoc, c: BarChart): void {
 
 function drawSection(doc: PDFKit.PDFDocument, r: ReportDoc, s: ReportSection): void {
   ensure(doc, r, 60);
-  doc.font("Helvetica-Bold").fontSize(10.5).fillColor(INK).text(printable(s.title), M, doc.y, { width: A4.w - 2 * M });
+  doc.font("Helvetica-Bold").fontSize(10.5).fillColor(INK).text(printable(s.title), M, doc.y, { width: PAGE.w - 2 * M });
   doc.moveDown(0.3);
   for (const line of s.lines ?? []) {
-    doc.font("Helvetica").fontSize(8).fillColor(MUTED).text(printable(line), M, doc.y, { width: A4.w - 2 * M });
+    doc.font("Helvetica").fontSize(8).fillColor(MUTED).text(printable(line), M, doc.y, { width: PAGE.w - 2 * M });
     doc.moveDown(0.2);
   }
   if (s.chart) drawChart(doc, r, s.chart);
   if (!s.rows.length) {
-    doc.font("Helvetica-Oblique").fontSize(8.5).fillColor(MUTED).text(printable(s.empty ?? "None."), M, doc.y, { width: A4.w - 2 * M });
+    doc.font("Helvetica-Oblique").fontSize(8.5).fillColor(MUTED).text(printable(s.empty ?? "None."), M, doc.y, { width: PAGE.w - 2 * M });
     doc.moveDown(0.8);
     return;
   }
   const total = s.columns.reduce((a, c) => a + (c.width ?? 1), 0);
-  const widths = s.columns.map((c) => ((A4.w - 2 * M) * (c.width ?? 1)) / total);
+  const widths = s.columns.map((c) => ((PAGE.w - 2 * M) * (c.width ?? 1)) / total);
   const drawRow = (cells: string[], bold: boolean) => {
     doc.font(bold ? "Helvetica-Bold" : "Helvetica").fontSize(7.8);
     const texts = cells.map((c) => printable(c));
@@ -105,7 +109,7 @@ function drawSection(doc: PDFKit.PDFDocument, r: ReportDoc, s: ReportSection): v
       doc.fillColor(INK).text(t, x + 2, y + 1.5, { width: widths[i]! - 4 });
       x += widths[i]!;
     });
-    doc.moveTo(M, y + hgt).lineTo(A4.w - M, y + hgt).lineWidth(0.3).strokeColor(LINE).stroke();
+    doc.moveTo(M, y + hgt).lineTo(PAGE.w - M, y + hgt).lineWidth(0.3).strokeColor(LINE).stroke();
     doc.x = M;
     doc.y = y + hgt;
   };
@@ -123,7 +127,10 @@ function drawSection(doc: PDFKit.PDFDocument, r: ReportDoc, s: ReportSection): v
 
 /** Render a report document to PDF bytes. */
 export function reportPdf(r: ReportDoc): Promise<Buffer> {
-  const doc = new PDFDocument({ size: "A4", margins: { top: BODY_TOP, bottom: 40, left: M, right: M }, bufferPages: true, info: { Title: printable(r.title), Author: "Rimguard", Subject: printable(`${r.tenant} · ${r.period}`) } });
+  const landscape = r.sections.some((s) => s.columns.length > LANDSCAPE_COLUMNS);
+  PAGE = landscape ? { w: A4.h, h: A4.w } : A4;
+  BODY_BOTTOM = PAGE.h - 62;
+  const doc = new PDFDocument({ size: "A4", layout: landscape ? "landscape" : "portrait", margins: { top: BODY_TOP, bottom: 40, left: M, right: M }, bufferPages: true, info: { Title: printable(r.title), Author: "Rimguard", Subject: printable(`${r.tenant} · ${r.period}`) } });
   const chunks: Buffer[] = [];
   doc.on("data", (c: Buffer) => chunks.push(c));
   const done = new Promise<Buffer>((resolve, reject) => {

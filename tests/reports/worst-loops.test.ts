@@ -169,6 +169,8 @@ describe("worst-loops ranking on the demo scenario", () => {
     const pdfDoc = worstLoopsDocument(report, { limit: 50 });
     fs.writeFileSync(path.join(dir, "w.pdf"), await reportPdf(pdfDoc));
     const dense = execFileSync("pdftotext", [path.join(dir, "w.pdf"), "-"], { encoding: "utf8" }).replace(/\s+/g, "");
+    // 15 columns: printed on A4 in landscape (poppler's pdfinfo reads the page size in points)
+    expect(execFileSync("pdfinfo", [path.join(dir, "w.pdf")], { encoding: "utf8" })).toMatch(/Page size:\s+841\.89 x 595\.28 pts/);
     expect(dense).toContain(SCORE_FORMULA_LINES[0]!.replace(/\s+/g, ""));
     for (const row of pdfDoc.sections[0]!.rows) {
       for (const cell of row.slice(0, 13)) expect(dense).toContain(cell.replace(/\s+/g, ""));
