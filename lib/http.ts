@@ -92,3 +92,40 @@ export async function parseOptionalBody<T extends z.ZodType>(req: Request, schem
   }
   return schema.parse(raw);
 }
+
+/**
+ * The file of a multipart upload (field `file`) as bytes, with the form's other text fields:
+ * 422 when the body is not multipart or has no file; `tooLarge` answers a file over `maxBytes`.
+ */
+export async function uploadedFile(req: Request, maxBytes: number, tooLarge: (bytes: number) => Error): Promise<{ name: string; bytes: Uint8Array; field: (k: string) => string | undefined }> {
+  if (!(req.headers.get("content-type") ?? "").toLowerCase().startsWith("multipart/form-data")) {
+    throw new ValidationError("Send the file as multipart/form-data with the field \"file\".");
+  }
+  let form: FormData;
+  try {
+    form = await req.formData();
+  } catch {
+    throw new ValidationError("The upload could not be read as multipart/form-data.");
+  }
+  const file = form.get("file");
+  if (!file || typeof file === "string") throw new ValidationError("The field \"file\" must hold the CSV file.");
+  if (file.size > maxBytes) throw tooLarge(file.size);
+  const field = (k: string) => {
+    const v = form.get(k);
+    return typeof v === "string" && v.trim() !== "" ? v.trim() : undefined;
+  };
+  return { name: file.name, bytes: new Uint8Array(await file.arrayBuffer()), field };
+}
+
+/** A stored CSV sent back as a download, byte for byte. */
+export function csvAttachment(filename: string, bytes: Buffer | Uint8Array): Response {
+  return new Response(new Uint8Array(bytes), {
+    status: 200,
+    headers: {
+      "content-type": "text/csv; charset=utf-8",
+      "content-length": String(bytes.byteLength),
+      "content-disposition": `attachment; filename="${filename.replace(/"/g, "")}"`,
+      "cache-control": "private, no-store",
+    },
+  });
+}

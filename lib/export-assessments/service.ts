@@ -19,7 +19,7 @@ import { readStepTestLoop } from "@/lib/data/step-tests";
 import { HttpError, NotFoundError, ValidationError } from "@/lib/domain/errors";
 import type { TenantContext } from "@/lib/domain/types";
 import { cleanFilename } from "@/lib/step-tests/service";
-import { objectStore, type ObjectStore } from "@/lib/step-tests/store";
+import { objectStore, readStoredFile, type ObjectStore } from "@/lib/step-tests/store";
 import { MAX_EXPORT_BYTES, MAX_EXPORT_ROWS } from "./limits";
 
 export { MAX_EXPORT_BYTES, MAX_EXPORT_ROWS };
@@ -169,16 +169,6 @@ export async function getExportData(ctx: TenantContext, loopId: number, id: numb
   const loop = await readStepTestLoop(ctx, loopId);
   const row = await selectExportAssessment(ctx, loop.id, id);
   if (!row) throw new NotFoundError("Assessed export");
-  const store = storeOverride ?? objectStore();
-  let bytes: Buffer | null;
-  try {
-    bytes = await store.get(row.object_key);
-  } catch (e) {
-    const name = (e as { name?: string }).name;
-    if (name === "NoSuchKey" || name === "NotFound") throw new NotFoundError("Export file");
-    console.error("[exports] object store get failed", e);
-    throw new HttpError(503, "The file could not be read from the object store. Try again later.");
-  }
-  if (!bytes) throw new NotFoundError("Export file");
+  const bytes = await readStoredFile(storeOverride ?? objectStore(), row.object_key, "Export file");
   return { filename: row.filename, bytes };
 }

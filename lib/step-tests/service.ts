@@ -24,7 +24,7 @@ import type { TenantContext } from "@/lib/domain/types";
 import { parseStepTestCsv } from "./csv";
 import { identifyStepTest, type StepTestResult } from "./identify";
 import type { DetrendMethod } from "./resample";
-import { objectStore, type ObjectStore } from "./store";
+import { objectStore, readStoredFile, type ObjectStore } from "./store";
 
 export interface StepTestSummary {
   id: number;
@@ -188,17 +188,7 @@ export async function getStepTestData(
   storeOverride?: ObjectStore,
 ): Promise<{ filename: string; bytes: Buffer }> {
   const { row } = await loadStepTest(ctx, loopId, stepTestId);
-  const store = storeOverride ?? objectStore();
-  let bytes: Buffer | null;
-  try {
-    bytes = await store.get(row.objectKey);
-  } catch (e) {
-    const name = (e as { name?: string }).name;
-    if (name === "NoSuchKey" || name === "NotFound") throw new NotFoundError("Step-test file");
-    console.error("[step-tests] object store get failed", e);
-    throw new HttpError(503, "The file could not be read from the object store. Try again later.");
-  }
-  if (!bytes) throw new NotFoundError("Step-test file");
+  const bytes = await readStoredFile(storeOverride ?? objectStore(), row.objectKey, "Step-test file");
   return { filename: row.filename, bytes };
 }
 

@@ -3,7 +3,7 @@
  * (lib/data/server-context.ts), never by importing server/ code. server/objectstore implements
  * `ObjectStoreApi` (lib/domain/services.ts).
  */
-import { HttpError } from "@/lib/domain/errors";
+import { HttpError, NotFoundError } from "@/lib/domain/errors";
 import type { ObjectStoreApi } from "@/lib/domain/services";
 import { runningService } from "@/lib/data/server-context";
 
@@ -15,4 +15,22 @@ export function objectStore(): ObjectStoreApi {
   const svc = runningService("objectstore");
   if (!svc || typeof svc.put !== "function") throw new HttpError(503, "The object store is not running.");
   return svc;
+}
+
+/**
+ * An uploaded file back from the object store, byte for byte: 404 (naming `what`) when the object
+ * is gone, 503 when the store cannot be read. Step tests and assessed exports read their files so.
+ */
+export async function readStoredFile(store: ObjectStoreApi, key: string, what: string): Promise<Buffer> {
+  let bytes: Buffer | null;
+  try {
+    bytes = await store.get(key);
+  } catch (e) {
+    const name = (e as { name?: string }).name;
+    if (name === "NoSuchKey" || name === "NotFound") throw new NotFoundError(what);
+    console.error(`[objectstore] reading ${what} failed`, e);
+    throw new HttpError(503, "The file could not be read from the object store. Try again later.");
+  }
+  if (!bytes) throw new NotFoundError(what);
+  return bytes;
 }

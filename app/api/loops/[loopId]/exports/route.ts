@@ -6,9 +6,8 @@
  *   in the file; 413 when too large. Nothing is stored when it fails.
  */
 import { NextResponse } from "next/server";
-import { parseId, handle } from "@/lib/http";
+import { parseId, handle, uploadedFile } from "@/lib/http";
 import { requireContext } from "@/lib/auth/guard";
-import { ValidationError } from "@/lib/domain/errors";
 import { EXPORT_UPLOAD_BODY } from "@/lib/request-guard";
 import { assessExport, ExportTooLargeError, listExportAssessments, MAX_EXPORT_BYTES } from "@/lib/export-assessments/service";
 
@@ -25,19 +24,7 @@ export const GET = handle(async (_req: Request, { params }: Params) => {
 export const POST = handle(async (req: Request, { params }: Params) => {
   const ctx = await requireContext("engineer");
   const loopId = parseId((await params).loopId, "loop id");
-  if (!(req.headers.get("content-type") ?? "").toLowerCase().startsWith("multipart/form-data")) {
-    throw new ValidationError("Send the file as multipart/form-data with the field \"file\".");
-  }
-  let form: FormData;
-  try {
-    form = await req.formData();
-  } catch {
-    throw new ValidationError("The upload could not be read as multipart/form-data.");
-  }
-  const file = form.get("file");
-  if (!file || typeof file === "string") throw new ValidationError("The field \"file\" must hold the CSV file.");
-  if (file.size > MAX_EXPORT_BYTES) throw new ExportTooLargeError(file.size);
-  const bytes = new Uint8Array(await file.arrayBuffer());
-  const assessed = await assessExport(ctx, loopId, { name: file.name || "export.csv", bytes });
+  const file = await uploadedFile(req, MAX_EXPORT_BYTES, (n) => new ExportTooLargeError(n));
+  const assessed = await assessExport(ctx, loopId, { name: file.name || "export.csv", bytes: file.bytes });
   return NextResponse.json({ export: assessed }, { status: 201 });
 }, EXPORT_UPLOAD_BODY);

@@ -7,9 +7,8 @@
  *   Nothing is stored when it fails.
  */
 import { NextResponse } from "next/server";
-import { parseId, handle } from "@/lib/http";
+import { parseId, handle, uploadedFile } from "@/lib/http";
 import { requireContext } from "@/lib/auth/guard";
-import { ValidationError } from "@/lib/domain/errors";
 import { STEP_TEST_UPLOAD_BODY } from "@/lib/request-guard";
 import { MAX_CSV_BYTES, StepTestTooLargeError } from "@/lib/step-tests/csv";
 import { listStepTests, uploadStepTest } from "@/lib/step-tests/service";
@@ -24,27 +23,10 @@ export const GET = handle(async (_req: Request, { params }: Params) => {
   return NextResponse.json({ stepTests: await listStepTests(ctx, loopId) });
 });
 
-
 export const POST = handle(async (req: Request, { params }: Params) => {
   const ctx = await requireContext("engineer");
   const loopId = parseId((await params).loopId, "loop id");
-  if (!(req.headers.get("content-type") ?? "").toLowerCase().startsWith("multipart/form-data")) {
-    throw new ValidationError("Send the file as multipart/form-data with the field \"file\".");
-  }
-  let form: FormData;
-  try {
-    form = await req.formData();
-  } catch {
-    throw new ValidationError("The upload could not be read as multipart/form-data.");
-  }
-  const file = form.get("file");
-  if (!file || typeof file === "string") throw new ValidationError("The field \"file\" must hold the CSV file.");
-  if (file.size > MAX_CSV_BYTES) throw new StepTestTooLargeError(file.size);
-  const bytes = new Uint8Array(await file.arrayBuffer());
-  const opt = (k: string) => {
-    const v = form.get(k);
-    return typeof v === "string" && v.trim() !== "" ? v.trim() : undefined;
-  };
-  const detail = await uploadStepTest(ctx, loopId, { name: file.name || "step-test.csv", bytes }, { detrend: opt("detrend") as never, maxDeadTimeS: opt("maxDeadTimeS") as never });
+  const file = await uploadedFile(req, MAX_CSV_BYTES, (n) => new StepTestTooLargeError(n));
+  const detail = await uploadStepTest(ctx, loopId, { name: file.name || "step-test.csv", bytes: file.bytes }, { detrend: file.field("detrend") as never, maxDeadTimeS: file.field("maxDeadTimeS") as never });
   return NextResponse.json({ stepTest: detail }, { status: 201 });
 }, STEP_TEST_UPLOAD_BODY);

@@ -1,10 +1,11 @@
 "use client";
 /** Upload form, list of the loop's assessed historian exports, and the selected assessment. */
-import { useState, useSyncExternalStore } from "react";
+import { useState } from "react";
 import useSWR from "swr";
 import { ReportEvidence } from "@/app/_components/finding-evidence";
 import { FindingMark } from "@/app/_components/finding-mark";
-import { ApiError, fetchJson } from "@/lib/client/fetcher";
+import { CsvUploadForm } from "@/app/_components/csv-upload-form";
+import { fetchJson } from "@/lib/client/fetcher";
 import { fmtSeconds, fmtTime } from "@/lib/client/format";
 import type { ExportAssessmentDetail, ExportAssessmentSummary } from "@/lib/export-assessments/service";
 
@@ -18,8 +19,20 @@ export function ExportsView({ loopId, canUpload, initial, initialSelected }: { l
   return (
     <div className="flex flex-col gap-4">
       {canUpload && (
-        <UploadForm
+        <CsvUploadForm
           action={base}
+          title="Upload an export"
+          testId="export-upload"
+          resultKey="export"
+          submitLabel="Upload and assess"
+          busyLabel="Assessing…"
+          note={
+            <>
+              CSV with a header line: <span className="font-mono">t, sp, pv, mv</span> and optionally <span className="font-mono">mode</span> (also read:{" "}
+              <span className="font-mono">time</span>, <span className="font-mono">setpoint</span>, <span className="font-mono">op</span>/<span className="font-mono">out</span>). Time in seconds, days (
+              <span className="font-mono">t [d]</span>) or ISO 8601; comma or semicolon separated.
+            </>
+          }
           onDone={async (id) => {
             await list.mutate();
             setSelected(id);
@@ -86,58 +99,3 @@ export function ExportsView({ loopId, canUpload, initial, initialSelected }: { l
     </div>
   );
 }
-
-function UploadForm({ action, onDone }: { action: string; onDone: (id: number) => Promise<void> }) {
-  const [busy, setBusy] = useState(false);
-  const ready = useSyncExternalStore(noSubscribe, () => true, () => false);
-  const [error, setError] = useState<string | null>(null);
-  async function submit(e: React.FormEvent<HTMLFormElement>) {
-    e.preventDefault();
-    const form = e.currentTarget;
-    const data = new FormData(form);
-    const file = data.get("file");
-    if (!(file instanceof File) || file.size === 0) {
-      setError("Choose a CSV file first.");
-      return;
-    }
-    setBusy(true);
-    setError(null);
-    try {
-      const res = await fetch(action, { method: "POST", body: data, credentials: "same-origin" });
-      const body = (await res.json().catch(() => ({}))) as { error?: string; export?: { id: number } };
-      if (!res.ok) throw new ApiError(res.status, body.error ?? `Upload failed (${res.status}).`, null);
-      form.reset();
-      await onDone(body.export!.id);
-    } catch (err) {
-      setError(err instanceof Error ? err.message : String(err));
-    } finally {
-      setBusy(false);
-    }
-  }
-  return (
-    <form onSubmit={submit} className="flex flex-col gap-2 rounded-md border border-line bg-surface p-3" data-testid="export-upload">
-      <h2 className="font-semibold">Upload an export</h2>
-      <p className="text-xs text-muted">
-        CSV with a header line: <span className="font-mono">t, sp, pv, mv</span> and optionally <span className="font-mono">mode</span> (also read:{" "}
-        <span className="font-mono">time</span>, <span className="font-mono">setpoint</span>, <span className="font-mono">op</span>/<span className="font-mono">out</span>). Time in seconds, days (
-        <span className="font-mono">t [d]</span>) or ISO 8601; comma or semicolon separated.
-      </p>
-      <div className="flex flex-wrap items-end gap-3">
-        <label className="flex flex-col gap-0.5 text-sm">
-          File
-          <input name="file" type="file" accept=".csv,text/csv" required className="text-sm" />
-        </label>
-        <button type="submit" disabled={busy || !ready} className="rounded bg-accent px-4 py-1.5 font-semibold text-accent-ink disabled:opacity-60">
-          {busy ? "Assessing…" : "Upload and assess"}
-        </button>
-      </div>
-      {error && (
-        <p role="alert" className="text-sm text-urgent" data-testid="export-upload-error">
-          {error} Nothing was stored.
-        </p>
-      )}
-    </form>
-  );
-}
-
-const noSubscribe = () => () => {};

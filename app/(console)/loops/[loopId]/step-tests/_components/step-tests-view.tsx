@@ -1,9 +1,10 @@
 "use client";
 /** Upload form, list of the loop's step tests, and the selected result. */
 import { useRouter } from "next/navigation";
-import { useState, useSyncExternalStore } from "react";
+import { useState } from "react";
 import useSWR from "swr";
-import { ApiError, fetchJson } from "@/lib/client/fetcher";
+import { CsvUploadForm } from "@/app/_components/csv-upload-form";
+import { fetchJson } from "@/lib/client/fetcher";
 import { fmt, fmtSeconds, fmtTime } from "@/lib/client/format";
 import type { StepTestDetail, StepTestSummary } from "@/lib/step-tests/service";
 import { StepTestResultView, type LoopInfo } from "./step-test-result";
@@ -21,6 +22,7 @@ export function StepTestsView({
   initialSelected: number | null;
   loop: LoopInfo;
 }) {
+  const router = useRouter();
   const base = `/api/loops/${loopId}/step-tests`;
   const list = useSWR(base, (u: string) => fetchJson<{ stepTests: StepTestSummary[] }>(u), { fallbackData: { stepTests: initial } });
   const [selected, setSelected] = useState<number | null>(initialSelected);
@@ -30,11 +32,39 @@ export function StepTestsView({
   return (
     <div className="flex flex-col gap-4">
       {canUpload && (
-        <UploadForm
+        <CsvUploadForm
           action={base}
+          title="Upload a step test"
+          testId="step-test-upload"
+          resultKey="stepTest"
+          submitLabel="Upload and analyse"
+          busyLabel="Analysing…"
+          note={
+            <>
+              CSV with a header line: <span className="font-mono">t, mv, pv</span> and optionally <span className="font-mono">sp, mode</span>. Time in
+              seconds or ISO 8601 with a zone; a unit in brackets is checked against the loop (e.g. <span className="font-mono">pv [degC]</span>). At most 5 MB.
+            </>
+          }
+          fields={
+            <>
+              <label className="flex flex-col gap-0.5 text-sm">
+                Operating point
+                <select name="detrend" defaultValue="initial" className="rounded border border-line bg-ground px-2 py-1">
+                  <option value="initial">settled before the first move</option>
+                  <option value="mean">record mean</option>
+                  <option value="linear">remove a straight-line drift</option>
+                </select>
+              </label>
+              <label className="flex flex-col gap-0.5 text-sm">
+                Longest dead time to search (s, optional)
+                <input name="maxDeadTimeS" type="number" min="0" step="any" className="num w-40 rounded border border-line bg-ground px-2 py-1" />
+              </label>
+            </>
+          }
           onDone={async (id) => {
             await list.mutate();
             setSelected(id);
+            router.refresh();
           }}
         />
       )}
@@ -92,81 +122,4 @@ export function StepTestsView({
       )}
     </div>
   );
-}
-
-function UploadForm({ action, onDone }: { action: string; onDone: (id: number) => Promise<void> }) {
-  const router = useRouter();
-  const [busy, setBusy] = useState(false);
-  const ready = useHydrated();
-  const [error, setError] = useState<{ message: string; where: string | null } | null>(null);
-  async function submit(e: React.FormEvent<HTMLFormElement>) {
-    e.preventDefault();
-    const form = e.currentTarget;
-    const data = new FormData(form);
-    const file = data.get("file");
-    if (!(file instanceof File) || file.size === 0) {
-      setError({ message: "Choose a CSV file first.", where: null });
-      return;
-    }
-    setBusy(true);
-    setError(null);
-    try {
-      const res = await fetch(action, { method: "POST", body: data, credentials: "same-origin" });
-      const body = (await res.json().catch(() => ({}))) as { error?: string; details?: { row?: number; column?: number | null; columnName?: string | null }; stepTest?: { id: number } };
-      if (!res.ok) {
-        const d = body.details;
-        const where = d?.row ? `line ${d.row}${d.column ? `, column ${d.column}` : ""}${d.columnName ? ` (${d.columnName})` : ""}` : null;
-        throw new ApiError(res.status, body.error ?? `Upload failed (${res.status}).`, where);
-      }
-      form.reset();
-      await onDone(body.stepTest!.id);
-      router.refresh();
-    } catch (err) {
-      setError({ message: err instanceof Error ? err.message : String(err), where: err instanceof ApiError ? (err.details as string | null) : null });
-    } finally {
-      setBusy(false);
-    }
-  }
-  return (
-    <form onSubmit={submit} className="flex flex-col gap-2 rounded-md border border-line bg-surface p-3" data-testid="step-test-upload">
-      <h2 className="font-semibold">Upload a step test</h2>
-      <p className="text-xs text-muted">
-        CSV with a header line: <span className="font-mono">t, mv, pv</span> and optionally <span className="font-mono">sp, mode</span>. Time in
-        seconds or ISO 8601 with a zone; a unit in brackets is checked against the loop (e.g. <span className="font-mono">pv [degC]</span>). At most 5 MB.
-      </p>
-      <div className="flex flex-wrap items-end gap-3">
-        <label className="flex flex-col gap-0.5 text-sm">
-          File
-          <input name="file" type="file" accept=".csv,text/csv" required className="text-sm" />
-        </label>
-        <label className="flex flex-col gap-0.5 text-sm">
-          Operating point
-          <select name="detrend" defaultValue="initial" className="rounded border border-line bg-ground px-2 py-1">
-            <option value="initial">settled before the first move</option>
-            <option value="mean">record mean</option>
-            <option value="linear">remove a straight-line drift</option>
-          </select>
-        </label>
-        <label className="flex flex-col gap-0.5 text-sm">
-          Longest dead time to search (s, optional)
-          <input name="maxDeadTimeS" type="number" min="0" step="any" className="num w-40 rounded border border-line bg-ground px-2 py-1" />
-        </label>
-        <button type="submit" disabled={busy || !ready} className="rounded bg-accent px-4 py-1.5 font-semibold text-accent-ink disabled:opacity-60">
-          {busy ? "Analysing…" : "Upload and analyse"}
-        </button>
-      </div>
-      {error && (
-        <p role="alert" className="text-sm text-urgent" data-testid="step-test-upload-error">
-          {error.where && !/^Lines? \d/.test(error.message) && <strong className="mr-1">At {error.where}:</strong>}
-          {error.message} Nothing was stored.
-        </p>
-      )}
-    </form>
-  );
-}
-
-const noSubscribe = () => () => {};
-/** False during server rendering and hydration: until then a click would submit a form natively. */
-function useHydrated(): boolean {
-  return useSyncExternalStore(noSubscribe, () => true, () => false);
 }

@@ -1,5 +1,5 @@
 /** GET /api/loops/:loopId/step-tests/:stepTestId/data — viewer: the uploaded CSV, byte for byte. */
-import { parseId, handle } from "@/lib/http";
+import { csvAttachment, parseId, handle } from "@/lib/http";
 import { requireContext } from "@/lib/auth/guard";
 import { getStepTestData } from "@/lib/step-tests/service";
 
@@ -11,13 +11,5 @@ export const GET = handle(async (_req: Request, { params }: Params) => {
   const ctx = await requireContext("viewer");
   const p = await params;
   const { filename, bytes } = await getStepTestData(ctx, parseId(p.loopId, "loop id"), parseId(p.stepTestId, "step test id"));
-  return new Response(new Uint8Array(bytes), {
-    status: 200,
-    headers: {
-      "content-type": "text/csv; charset=utf-8",
-      "content-length": String(bytes.byteLength),
-      "content-disposition": `attachment; filename="${filename.replace(/"/g, "")}"`,
-      "cache-control": "private, no-store",
-    },
-  });
+  return csvAttachment(filename, bytes);
 });
