@@ -6,8 +6,6 @@
 import { CAUTION_NEVER_WRITES, CAUTION_TEXT } from "@/lib/caution";
 import type { Handover } from "./handover";
 import { findingWord } from "./score";
-
-export { findingWord };
 import { localParts } from "./shifts";
 
 export interface ReportColumn {

@@ -27,7 +27,7 @@
  * configured dead time) counts 0 and the report says so.
  * Criticality 1..5 is set by the engineer per loop (3 = normal, weight 1).
  */
-import { FINDING_WORDS, opensWorkItem } from "@/lib/domain/findings";
+import { FINDING_WORDS, findingPhrase, opensWorkItem } from "@/lib/domain/findings";
 
 export const SCORE_WEIGHTS = { rim: 0.25, finding: 0.15, oscillation: 0.1, stiction: 0.1, harris: 0.1, service: 0.1, alarm: 0.1, saturation: 0.1 } as const;
 export type ScoreTerm = keyof typeof SCORE_WEIGHTS;
@@ -200,7 +200,7 @@ export function scoreLoop(f: PeriodFigures, kind: string, criticality: number): 
     [SCORE_WEIGHTS.service * terms.service, `out of the designed mode ${pct(f.serviceFactor == null ? null : 1 - f.serviceFactor)} of the time`],
     [SCORE_WEIGHTS.saturation * terms.saturation, `output at a limit ${pct(f.saturationShare)} of the time`],
     [SCORE_WEIGHTS.alarm * terms.alarm, `an operator alarm active ${pct(f.alarmShare)} of the time`],
-    [SCORE_WEIGHTS.finding * terms.finding, `finding: likely ${findingWord(f.diagnosisLabel)} (confidence ${f.diagnosisConfidence?.toFixed(2)})`],
+    [SCORE_WEIGHTS.finding * terms.finding, `finding: ${findingPhrase({ label: f.diagnosisLabel as DiagnosisLabel, confidence: f.diagnosisConfidence ?? 0, needsS: null })} (confidence ${f.diagnosisConfidence?.toFixed(2)})`],
     [SCORE_WEIGHTS.oscillation * terms.oscillation, `likely oscillating (index ${f.oscillationIndex?.toFixed(2)})`],
     [SCORE_WEIGHTS.stiction * terms.stiction, `likely sticking valve (${f.stictionLikelihood?.toFixed(2)})`],
     [SCORE_WEIGHTS.harris * terms.harris, `variance ${f.harrisIndex?.toFixed(1)}× the minimum the dead time allows (Harris index; eta ${eta?.toFixed(2)} against ${bench} for a ${kind} loop)`],

@@ -1,7 +1,7 @@
 /** The worst-loops report as a document (screen, CSV, PDF). Pure and browser-safe. */
-import { fileSlug, findingWord, formatNumber, REPORT_CAUTION, type ReportDoc } from "./document";
+import { fileSlug, formatNumber, REPORT_CAUTION, type ReportDoc } from "./document";
 import { FINDING_WORDS, findingPhrase } from "@/lib/domain/findings";
-import { SCORE_FORMULA_LINES, type DiagnosisLabel } from "./score";
+import { findingWord, SCORE_FORMULA_LINES, type DiagnosisLabel } from "./score";
 import { TODAY_REBUILD_MINUTES } from "./summaries";
 import type { WorstLoopsReport } from "./worst-loops";
 
